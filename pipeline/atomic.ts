@@ -1,0 +1,22 @@
+// Files appear whole or not at all: written under a hidden temporary name, flushed, then renamed into place.
+import { randomBytes } from 'node:crypto';
+import { open, rename, rm } from 'node:fs/promises';
+import { basename, dirname, join } from 'node:path';
+
+export async function writeFileAtomic(path: string, data: Uint8Array | string): Promise<void> {
+  const tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
+  const fh = await open(tmp, 'w');
+  try {
+    await fh.writeFile(data);
+    await fh.sync();
+    await fh.close();
+    await rename(tmp, path);
+  } catch (e) {
+    await fh.close().catch(() => {});
+    await rm(tmp, { force: true });
+    throw e;
+  }
+  // Make the rename itself durable (a power cut after a rename must not bring the old file back).
+  const dir = await open(dirname(path), 'r');
+  try { await dir.sync(); } catch { /* some file systems refuse fsync on folders */ } finally { await dir.close(); }
+}

@@ -1,0 +1,103 @@
+#!/usr/bin/env node
+// quern's command line: reduce, check and peek, with documented exit codes.
+import { availableParallelism } from 'node:os';
+import yargs, { type Argv } from 'yargs';
+import { hideBin } from 'yargs/helpers';
+import { runCheck } from './check.js';
+import { toolVersion } from './package-files.js';
+import { runPeek } from './peek.js';
+import { progressFor } from './progress.js';
+import { summaryText } from './report.js';
+import { runReduce } from './run.js';
+import { UsageError } from './yaml-file.js';
+
+/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input. */
+export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
+
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec).`;
+
+const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
+
+async function main(argv: string[]): Promise<number> {
+  let code: number = EXIT.ok;
+  const cli = yargs(argv)
+    .scriptName('quern')
+    .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
+    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet and run.json', (y: Argv) => y
+      .positional('archive', { type: 'string', demandOption: true, describe: 'Archive folder with archive.yaml at its root' })
+      .option('out', { type: 'string', describe: 'Output folder', defaultDescription: '<archive>.reduced beside the archive' })
+      .option('spec', { type: 'string', describe: 'Reduction spec (YAML)', defaultDescription: '<archive>/reduction.yaml, else the built-in default' })
+      .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
+      .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' }),
+    async (a) => {
+      const record = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress: progressFor(process.stderr, { quiet: a.quiet }) });
+      process.stdout.write(summaryText(record) + '\n');
+      code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+    })
+    .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y
+      .positional('archive', { type: 'string', demandOption: true })
+      .option('spec', { type: 'string', describe: 'Reduction spec (YAML) to validate' }),
+    async (a) => {
+      const r = await runCheck(a.archive as string, { spec: a.spec ?? null });
+      for (const x of r.recordings) process.stdout.write(`${x.ok ? 'ok    ' : 'FAILED'}  ${x.recording}  [${x.group}]  ${x.detail}\n`);
+      for (const u of r.unmatched) process.stdout.write(`UNMATCHED  ${u}: no group in archive.yaml matches it\n`);
+      const bad = r.recordings.filter((x) => !x.ok).length;
+      process.stdout.write(`${r.recordings.length - bad} of ${r.recordings.length} recordings would be reduced; ${bad} failed, ${r.unmatched.length} unmatched; spec: ${r.spec}\n`);
+      code = bad > 0 ? EXIT.someFailed : EXIT.ok;
+    })
+    .command('peek <recording>', 'Show one recording: header, channels, duration and statistics', (y: Argv) => y
+      .positional('recording', { type: 'string', demandOption: true })
+      .option('format', { choices: ['wav', 'csv', 'raw'] as const, describe: 'Override the format inferred from the extension' })
+      .option('sample-rate', { type: 'number', describe: 'Sample rate in Hz (raw files, CSV without a time column)' })
+      .option('sample-type', { choices: ['uint8', 'int16', 'int24', 'int32', 'float32', 'float64'] as const, describe: 'Raw files: sample type' })
+      .option('channels', { type: 'number', describe: 'Raw files: channel count' })
+      .option('byte-order', { choices: ['little', 'big'] as const, default: 'little' as const, describe: 'Raw files: byte order' })
+      .option('header-bytes', { type: 'number', default: 0, describe: 'Raw files: bytes to skip before the first frame' }),
+    async (a) => {
+      const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
+      const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout });
+      if (r.status === 'failed') {
+        process.stderr.write(`quern: ${a.recording}: ${r.reason}\n`);
+        code = EXIT.someFailed;
+        return;
+      }
+      const h = r.header!;
+      const out = [
+        `${a.recording}`,
+        `  format      ${h.format} ${h.encoding}${h.bits ? `, ${h.bits}-bit` : ''}`,
+        `  sample rate ${r.sampleRate} Hz`,
+        `  duration    ${(r.frames / r.sampleRate!).toFixed(3)} s (${r.frames} frames)`,
+        `  start       ${h.start_time ?? 'unknown'}`,
+        `  declared by ${declaredBy ?? 'no archive.yaml (stored units)'}`,
+        ...r.messages.map((m) => `  note        ${m}`),
+        '',
+      ];
+      const cols = ['channel', 'unit', 'mean', 'std', 'rms', 'min', 'max', 'peak', 'crest_factor', 'skewness', 'kurtosis'];
+      const table = [cols, ...r.rows.map((row) => cols.map((c) => fmt(row[c])))];
+      const widths = cols.map((_, i) => Math.max(...table.map((t) => String(t[i]).length)));
+      for (const t of table) out.push('  ' + t.map((v, i) => String(v).padStart(widths[i])).join('  '));
+      process.stdout.write(out.join('\n') + '\n');
+    })
+    .demandCommand(1, 'Name a command: reduce, check or peek.')
+    .strict()
+    .epilogue(EPILOGUE)
+    .version(toolVersion)
+    .help()
+    .fail((msg, err) => {
+      if (err) throw err;
+      process.stderr.write(`quern: ${msg}\nRun "quern --help" for usage.\n`);
+      process.exit(EXIT.unusable);
+    });
+  try {
+    await cli.parseAsync();
+  } catch (e) {
+    if (e instanceof UsageError) {
+      process.stderr.write(`quern: ${e.message}\n`);
+      return EXIT.unusable;
+    }
+    throw e;
+  }
+  return code;
+}
+
+process.exitCode = await main(hideBin(process.argv));

@@ -1,0 +1,109 @@
+// Loads and checks archive.yaml (what the recordings are) and reduction.yaml (what to compute).
+import { createHash } from 'node:crypto';
+import { existsSync } from 'node:fs';
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import type { RawLayout } from '../stages/read/raw.js';
+import type { Format } from '../stages/read/recording.js';
+import { packageRoot } from './package-files.js';
+import { formatProblems, loadYaml, parseYaml, UsageError, type Problem } from './yaml-file.js';
+
+export interface ChannelDeclaration {
+  name: string;
+  quantity: string;
+  unit: string;
+  scale: number;
+  offset: number;
+  range: [number, number] | null;
+  bits: number | null;
+  max_frequency_hz: number | null;
+}
+
+export interface GroupDeclaration {
+  name: string;
+  match: string[];
+  format: Format | null;
+  sample_rate: number | null;
+  labels: Record<string, string>;
+  layout: RawLayout | null;
+  channels: ChannelDeclaration[] | null;
+}
+
+export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }
+
+/** Column names that labels may not take, since the table already has them. */
+export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit', 'sample_rate', 'n', 'duration_s', 'start_time'];
+
+export const ARCHIVE_FILE = 'archive.yaml';
+export const SPEC_FILE = 'reduction.yaml';
+
+type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout'> & { name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout> };
+
+export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
+  const file = join(archive, ARCHIVE_FILE);
+  if (!existsSync(archive)) throw new UsageError(`${archive}: no such archive folder; give the folder that holds ${ARCHIVE_FILE}`);
+  if (!existsSync(file)) throw new UsageError(`${file}: missing; every archive declares its recordings in ${ARCHIVE_FILE} at its root (see schemas/archive.schema.json and the README)`);
+  const { value, source } = await loadYaml(file, 'archive.schema.json');
+  const raw = value as { groups: RawGroup[] };
+  const problems: Problem[] = [];
+  const names = new Set<string>();
+  const groups = raw.groups.map((g, gi): GroupDeclaration => {
+    const at = (...p: (string | number)[]) => ['groups', gi, ...p];
+    if (names.has(g.name)) problems.push(source.problem(at('name'), `group name "${g.name}" is used twice; give each group its own name`));
+    names.add(g.name);
+    for (const label of Object.keys(g.labels ?? {})) {
+      if (FIXED_COLUMNS.includes(label)) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the column of that name; rename the label`, true));
+    }
+    const channelNames = new Set<string>();
+    const channels = g.channels?.map((c, ci): ChannelDeclaration => {
+      if (channelNames.has(c.name!)) problems.push(source.problem(at('channels', ci, 'name'), `channel name "${c.name}" appears twice in this group`));
+      channelNames.add(c.name!);
+      if (c.range && !(c.range[0] < c.range[1])) problems.push(source.problem(at('channels', ci, 'range'), `range must be [lower, upper] with lower < upper, got [${c.range.join(', ')}]`));
+      if (c.scale === 0) problems.push(source.problem(at('channels', ci, 'scale'), 'scale 0 would turn every sample into the offset; give the sensitivity in engineering units per stored unit'));
+      return {
+        name: c.name!, quantity: c.quantity ?? 'unknown', unit: c.unit ?? 'FS', scale: c.scale ?? 1, offset: c.offset ?? 0,
+        range: (c.range as [number, number] | undefined) ?? null, bits: c.bits ?? null, max_frequency_hz: c.max_frequency_hz ?? null,
+      };
+    }) ?? null;
+    const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;
+    if (g.format === 'raw' && !layout) problems.push(source.problem(at(), 'format raw needs a layout: { sample_type, byte_order, channels, header_bytes }'));
+    if (g.format === 'raw' && g.sample_rate == null) problems.push(source.problem(at(), 'format raw needs sample_rate (Hz): raw files carry no header'));
+    if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
+    return {
+      name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, channels,
+    };
+  });
+  if (problems.length) throw new UsageError(formatProblems(problems));
+  return { file, groups };
+}
+
+// ---- reduction spec ----
+
+export interface ChannelSelector { names?: string[]; quantities?: string[] }
+export interface ReductionSpec { statistics?: { only?: ChannelSelector } }
+
+export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
+
+/** Stable JSON: keys sorted, so the hash depends on content, not on layout or key order. */
+export function canonicalJson(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
+  if (value && typeof value === 'object') return `{${Object.keys(value).sort().map((k) => `${JSON.stringify(k)}:${canonicalJson((value as Record<string, unknown>)[k])}`).join(',')}}`;
+  return JSON.stringify(value);
+}
+
+/** The spec from --spec, else reduction.yaml at the archive root, else the embedded default. */
+export async function loadSpec(archive: string, specPath?: string | null): Promise<LoadedSpec> {
+  const candidate = specPath ?? join(archive, SPEC_FILE);
+  const given = specPath != null || existsSync(candidate);
+  const file = given ? candidate : join(packageRoot, 'schemas', 'reduction.default.yaml');
+  let text: string;
+  try {
+    text = await readFile(file, 'utf8');
+  } catch (e) {
+    throw new UsageError(`${file}: cannot be read (${(e as NodeJS.ErrnoException).code ?? e}); check the --spec path`);
+  }
+  const { value } = await parseYaml(text, 'reduction.schema.json', given ? candidate : '(default spec)');
+  const spec = value as ReductionSpec;
+  return { spec, source: given ? candidate : '(default)', text, hash: createHash('sha256').update(canonicalJson(spec)).digest('hex') };
+}

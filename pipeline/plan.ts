@@ -1,0 +1,30 @@
+// Turns scanned recordings into self-contained jobs: everything a worker needs, as plain data.
+import type { ChannelDeclaration, GroupDeclaration, ReductionSpec } from './declare.js';
+import type { RawLayout } from '../stages/read/raw.js';
+import type { Format } from '../stages/read/recording.js';
+import type { ScannedRecording } from './scan.js';
+
+export interface RecordingJob {
+  recording: string;
+  path: string;
+  group: string;
+  format: Format | null;
+  sampleRate: number | null;
+  layout: RawLayout | null;
+  channels: ChannelDeclaration[] | null;
+  labels: Record<string, string>;
+  spec: ReductionSpec;
+  chunkFrames: number;
+}
+
+export interface PlanOptions { chunkFrames?: number }
+
+export function plan(recordings: ScannedRecording[], groups: GroupDeclaration[], spec: ReductionSpec, { chunkFrames = 65536 }: PlanOptions = {}): RecordingJob[] {
+  return recordings.map((r) => {
+    const g = groups[r.group];
+    return {
+      recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
+      layout: g.layout, channels: g.channels, labels: g.labels, spec, chunkFrames,
+    };
+  });
+}

@@ -1,0 +1,57 @@
+// What a run did, for run.json and for the terminal.
+import type { LoadedSpec } from './declare.js';
+import { toolVersion } from './package-files.js';
+import type { RecordingResult } from './reduce.js';
+
+export interface RunRecord {
+  tool: 'quern';
+  version: string;
+  run_id: string;
+  started: string;
+  finished: string;
+  archive: string;
+  out: string;
+  spec: { source: string; hash: string; value: unknown };
+  counts: { scanned: number; reduced: number; failed: number; unmatched: number; rows: number };
+  recordings: { recording: string; group: string; status: string; reason?: string; messages: string[]; rows: number; frames: number; sample_rate: number | null; seconds: number }[];
+  unmatched: { path: string; reason: string }[];
+  timings: { scan_s: number; reduce_s: number; write_s: number; total_s: number };
+}
+
+export interface RunFacts {
+  runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
+  results: RecordingResult[]; timings: { scan_s: number; reduce_s: number; write_s: number };
+}
+
+export function runRecord(f: RunFacts): RunRecord {
+  const finished = new Date();
+  return {
+    tool: 'quern', version: toolVersion, run_id: f.runId, started: f.started.toISOString(), finished: finished.toISOString(),
+    archive: f.archive, out: f.out, spec: { source: f.spec.source, hash: f.spec.hash, value: f.spec.spec },
+    counts: {
+      scanned: f.scanned, reduced: f.results.filter((r) => r.status === 'reduced').length, failed: f.results.filter((r) => r.status === 'failed').length,
+      unmatched: f.unmatched.length, rows: f.results.reduce((s, r) => s + r.rows.length, 0),
+    },
+    recordings: f.results.map((r) => ({
+      recording: r.recording, group: r.group, status: r.status, ...(r.reason ? { reason: r.reason } : {}), messages: r.messages,
+      rows: r.rows.length, frames: r.frames, sample_rate: r.sampleRate, seconds: round(r.seconds),
+    })),
+    unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
+    timings: { ...mapValues(f.timings, round), total_s: round((finished.getTime() - f.started.getTime()) / 1000) },
+  };
+}
+
+const round = (s: number) => Math.round(s * 1000) / 1000;
+const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => number) => Object.fromEntries(Object.entries(o).map(([k, v]) => [k, fn(v)])) as T;
+
+/** The end-of-run summary a person reads on the terminal. */
+export function summaryText(r: RunRecord): string {
+  const lines = [
+    `quern ${r.version}: ${r.counts.reduced} of ${r.counts.scanned} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched.`,
+  ];
+  for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
+  for (const m of r.recordings.filter((x) => x.messages.length)) for (const msg of m.messages) lines.push(`  note    ${m.recording}: ${msg}`);
+  for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
+  lines.push(`  table:  ${r.out}/features.parquet`, `  run:    ${r.out}/run.json`);
+  return lines.join('\n');
+}

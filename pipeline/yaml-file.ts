@@ -1,0 +1,87 @@
+// Loads a YAML file validated against a JSON Schema; every error names the file, the line and the key path.
+import { readFile } from 'node:fs/promises';
+import { Ajv, type ErrorObject } from 'ajv';
+import { isMap, isPair, isScalar, LineCounter, parseDocument, type Document } from 'yaml';
+import { readSchema } from './package-files.js';
+
+/** Input that makes the whole run impossible (exit code 2). */
+export class UsageError extends Error {
+  override name = 'UsageError';
+}
+
+export interface Problem { file: string; line: number; path: string; message: string }
+
+export const formatProblems = (problems: Problem[]) => problems.map((p) => `${p.file}:${p.line}: ${p.path || '(top)'}: ${p.message}`).join('\n');
+
+/** "groups[0].channels[2].range" from ["groups", 0, "channels", 2, "range"]. */
+export const keyPath = (path: (string | number)[]) => path.map((k, i) => (typeof k === 'number' ? `[${k}]` : (i ? '.' : '') + k)).join('');
+
+export class YamlSource {
+  constructor(readonly file: string, readonly doc: Document, private readonly lines: LineCounter) {}
+
+  /** 1-based line of the node at path, or of its nearest existing parent. */
+  lineOf(path: (string | number)[], key = false): number {
+    for (let p = path; ; p = p.slice(0, -1)) {
+      let node: unknown = p.length ? this.doc.getIn(p, true) : this.doc.contents;
+      if (key && p === path && p.length) {
+        const parent = this.doc.getIn(p.slice(0, -1), true);
+        if (isMap(parent)) node = parent.items.find((it) => isPair(it) && isScalar(it.key) && it.key.value === p[p.length - 1])?.key ?? node;
+      }
+      const range = (node as { range?: [number, number, number] } | undefined)?.range;
+      if (range) return this.lines.linePos(range[0]).line;
+      if (!p.length) return 1;
+    }
+  }
+
+  problem(path: (string | number)[], message: string, key = false): Problem {
+    return { file: this.file, line: this.lineOf(path, key), path: keyPath(path), message };
+  }
+}
+
+function describeAjv(e: ErrorObject): { path: (string | number)[]; message: string; key: boolean } {
+  const path = e.instancePath.split('/').slice(1).map((s) => (/^\d+$/.test(s) ? Number(s) : s.replace(/~1/g, '/').replace(/~0/g, '~')));
+  switch (e.keyword) {
+    case 'additionalProperties':
+      return { path: [...path, e.params.additionalProperty], key: true, message: `unknown key "${e.params.additionalProperty}"; check its spelling against the schema` };
+    case 'required':
+      return { path, key: false, message: `missing required key "${e.params.missingProperty}"` };
+    case 'enum':
+      return { path, key: false, message: `must be one of ${e.params.allowedValues.map((v: unknown) => JSON.stringify(v)).join(', ')}` };
+    default:
+      return { path, key: false, message: e.message ?? 'invalid value' };
+  }
+}
+
+/** Parses and validates; throws UsageError listing every problem. */
+export async function loadYaml(file: string, schemaName: string, displayName = file): Promise<{ value: unknown; source: YamlSource }> {
+  let text: string;
+  try {
+    text = await readFile(file, 'utf8');
+  } catch (e) {
+    throw new UsageError(`${displayName}: cannot be read (${(e as NodeJS.ErrnoException).code ?? e}); check the path`);
+  }
+  return parseYaml(text, schemaName, displayName);
+}
+
+export async function parseYaml(text: string, schemaName: string, displayName: string): Promise<{ value: unknown; source: YamlSource }> {
+  const lines = new LineCounter();
+  const doc = parseDocument(text, { lineCounter: lines, prettyErrors: false });
+  if (doc.errors.length) {
+    throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? 1}: YAML syntax: ${e.message.split('\n')[0]}`).join('\n'));
+  }
+  const value = doc.toJS() ?? {};
+  const source = new YamlSource(displayName, doc, lines);
+  const ajv = new Ajv({ allErrors: true, strict: false });
+  const validate = ajv.compile(await readSchema(schemaName));
+  if (!validate(value)) {
+    // oneOf/anyOf repeat their branches' errors; the branch errors are the useful ones.
+    const errors = (validate.errors ?? []).filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'anyOf');
+    const seen = new Set<string>();
+    const problems = errors.map(describeAjv).map((d) => source.problem(d.path, d.message, d.key)).filter((p) => {
+      const k = `${p.line}|${p.path}|${p.message}`;
+      return seen.has(k) ? false : (seen.add(k), true);
+    });
+    throw new UsageError(formatProblems(problems));
+  }
+  return { value, source };
+}

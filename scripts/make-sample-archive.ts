@@ -1,0 +1,173 @@
+// Generates sample-archive/: an invented pump endurance rig, a week of nightly captures, with planted defects.
+// Deterministic: the same script always writes the same bytes. Usage: node dist/scripts/make-sample-archive.js [folder]
+import { mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { encodeWav } from './wav-file.js';
+
+/** mulberry32: a small seeded generator, so the demo is the same on every machine. */
+function random(seed: number) {
+  let a = seed >>> 0;
+  const uniform = () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+  const gauss = () => Math.sqrt(-2 * Math.log(1 - uniform())) * Math.cos(2 * Math.PI * uniform());
+  return { uniform, gauss };
+}
+
+const SHAFT_HZ = 2970 / 60; // 49.5 Hz
+const VANES = 6;
+const BPFO = 3.58 * SHAFT_HZ; // outer-race defect rate of the drive-end bearing
+const RESONANCE_HZ = 3500; // structural resonance the bearing impacts ring
+
+/** Bearing-housing acceleration in m/s²: shaft and vane-pass tones, noise, and (when damaged) impacts ringing a resonance. */
+function acceleration(fs: number, seconds: number, seed: number, damage: number, burst = 0): Float64Array {
+  const r = random(seed);
+  const n = Math.round(fs * seconds);
+  const x = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const t = i / fs;
+    x[i] = 2.0 * Math.sin(2 * Math.PI * SHAFT_HZ * t + 0.3) + 3.0 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * t) + 0.8 * r.gauss();
+  }
+  if (damage > 0) {
+    for (let k = 0, t0 = 0.002; t0 < seconds; k++, t0 = 0.002 + k / BPFO) {
+      const amp = damage * (0.7 + 0.3 * r.uniform()) + (burst > 0 && k % 7 === 0 ? burst : 0);
+      for (let i = Math.ceil(t0 * fs); i < n && i / fs < t0 + 0.01; i++) {
+        const tau = i / fs - t0;
+        x[i] += amp * Math.exp(-tau / 0.0015) * Math.sin(2 * Math.PI * RESONANCE_HZ * tau);
+      }
+    }
+  }
+  return x;
+}
+
+const clip = (x: Float64Array, lo: number, hi: number) => x.map((v) => Math.min(hi, Math.max(lo, v)));
+const toFullScale = (x: Float64Array, scale: number, offset = 0) => x.map((v) => (v - offset) / scale);
+
+export function makeSampleArchive(root: string): void {
+  rmSync(root, { recursive: true, force: true });
+  const put = (rel: string, data: Buffer | string) => {
+    mkdirSync(dirname(join(root, rel)), { recursive: true });
+    writeFileSync(join(root, rel), data);
+  };
+  const FS = 12800, SECONDS = 4;
+  const n = FS * SECONDS;
+  for (let night = 0; night < 7; night++) {
+    const day = 16 + night;
+    const date = `2026-11-${day}`;
+    const r = random(1000 + night);
+    // The drive-end bearing degrades over the week; on the 19th a loose mount rattles hard enough to clip.
+    const damage = night < 2 ? 0 : 4 * (night - 1);
+    const accDe = acceleration(FS, SECONDS, 10 + night, damage, night === 3 ? 900 : 0);
+    const accNde = acceleration(FS, SECONDS, 20 + night, damage / 4);
+    const mic = new Float64Array(n).map((_, i) => 0.6 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.2 * r.gauss());
+    // Discharge pressure, bar; on the 21st the transducer cable is off and the channel sits at a constant code.
+    const pressure = night === 5 ? new Float64Array(n).fill(8.0) : new Float64Array(n).map((_, i) => 6.2 + 0.05 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.01 * r.gauss());
+    // Tachometer: one 5 V pulse per revolution, 10 % duty.
+    const tacho = new Float64Array(n).map((_, i) => ((i / FS) * SHAFT_HZ) % 1 < 0.1 ? 5 : 0);
+    const wav = encodeWav({
+      sampleRate: FS,
+      origination: new Date(Date.UTC(2026, 10, day, 2, 0, 0)),
+      channels: [toFullScale(clip(accDe, -500, 500), 500), toFullScale(accNde, 500), toFullScale(mic, 200), toFullScale(pressure, 8, 8), toFullScale(tacho, 10)],
+    });
+    // The last night's copy was interrupted: the header promises more data than the file holds.
+    put(`nightly/${date}/pump-endurance.wav`, night === 6 ? wav.subarray(0, Math.floor(wav.length * 0.6)) : wav);
+  }
+  // A retake saved under a name no group expects: quern must report it, not skip it silently.
+  put('nightly/2026-11-19/pump-endurance-retake.wav', encodeWav({ sampleRate: FS, channels: [toFullScale(acceleration(FS, 0.5, 99, 8), 500)] }));
+  // A quick-look capture at 2 kHz of a signal with content up to 5 kHz: the 3.5 kHz ringing folds to 500 Hz.
+  put('quicklook/2026-11-18_quicklook.wav', encodeWav({ sampleRate: 2000, origination: new Date(Date.UTC(2026, 10, 18, 14, 30, 0)), channels: [toFullScale(acceleration(2000, 4, 77, 8), 500)] }));
+  // A handheld logger's export: comment lines, semicolons, decimal commas, a time column in seconds.
+  {
+    const fs = 2560, rows = fs * 2, rx = random(5), lines = ['# handheld vibration logger export (demo)', '# point: pump P3 drive-end housing', 'time;acc_x;acc_y'];
+    for (let i = 0; i < rows; i++) {
+      const t = i / fs;
+      const ax = 1.8 * Math.sin(2 * Math.PI * SHAFT_HZ * t) + 2.5 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * t) + 0.5 * rx.gauss();
+      const ay = 1.2 * Math.sin(2 * Math.PI * SHAFT_HZ * t + 1) + 0.5 * rx.gauss();
+      lines.push([t.toFixed(6), ax.toFixed(4), ay.toFixed(4)].map((s) => s.replace('.', ',')).join(';'));
+    }
+    put('handheld/2026-11-20_spot-check.csv', lines.join('\r\n') + '\r\n');
+  }
+  // Frame strain from a separate data logger: raw big-endian int16, 2 channels, a 32-byte header of its own.
+  {
+    const fs = 500, frames = fs * 20, rs = random(7);
+    const b = Buffer.alloc(32 + frames * 4);
+    b.write('STRAIN-LOG demo 2ch int16 BE', 0, 'latin1');
+    for (let i = 0; i < frames; i++) {
+      const t = i / fs;
+      const a = 120 + 40 * Math.sin(2 * Math.PI * 0.5 * t) + 15 * Math.sin(2 * Math.PI * SHAFT_HZ * t) + 2 * rs.gauss();
+      const c = -60 + 25 * Math.sin(2 * Math.PI * 0.5 * t + 0.4) + 2 * rs.gauss();
+      b.writeInt16BE(Math.round((a / 2000) * 32768), 32 + i * 4);
+      b.writeInt16BE(Math.round((c / 2000) * 32768), 34 + i * 4);
+    }
+    put('strain/2026-11-17_frame-strain.bin', b);
+  }
+  put('archive.yaml', ARCHIVE_YAML);
+  put('README.md', README);
+}
+
+const ACC = (name: string) => `      - { name: ${name}, quantity: acceleration, unit: m/s^2, scale: 500, range: [-500, 500], bits: 16, max_frequency_hz: 5000 }`;
+
+const ARCHIVE_YAML = `# Pump endurance rig P3: an invented demo scenario (see README.md).
+description: Pump endurance rig P3, nightly captures 2026-11-16 to 2026-11-22.
+groups:
+  - name: nightly
+    match: "nightly/*/pump-endurance.wav"
+    sample_rate: 12800
+    labels: { rig: P3, test_id: endurance-07 }
+    channels:
+${ACC('acc_de')}
+${ACC('acc_nde')}
+      - { name: mic, quantity: sound_pressure, unit: Pa, scale: 200, range: [-200, 200], bits: 16, max_frequency_hz: 5000 }
+      - { name: pressure, quantity: pressure, unit: bar, scale: 8, offset: 8, range: [0, 16], bits: 16, max_frequency_hz: 1000 }
+      - { name: tacho, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 2500 }
+  - name: quick-look
+    match: "quicklook/*.wav"
+    sample_rate: 2000
+    labels: { rig: P3, test_id: endurance-07 }
+    channels:
+${ACC('acc_de')}
+  - name: handheld
+    match: "handheld/*.csv"
+    labels: { rig: P3, test_id: spot-check }
+    channels:
+      - { name: acc_x, quantity: acceleration, unit: m/s^2, range: [-160, 160], max_frequency_hz: 1000 }
+      - { name: acc_y, quantity: acceleration, unit: m/s^2, range: [-160, 160], max_frequency_hz: 1000 }
+  - name: frame-strain
+    match: "strain/*.bin"
+    format: raw
+    sample_rate: 500
+    layout: { sample_type: int16, byte_order: big, channels: 2, header_bytes: 32 }
+    labels: { rig: P3, test_id: endurance-07 }
+    channels:
+      - { name: strain_a, quantity: strain, unit: µm/m, scale: 2000, range: [-2000, 2000], bits: 16, max_frequency_hz: 100 }
+      - { name: strain_b, quantity: strain, unit: µm/m, scale: 2000, range: [-2000, 2000], bits: 16, max_frequency_hz: 100 }
+`;
+
+const README = `# Sample archive: pump endurance rig P3 (invented)
+
+A demo archive made by \`scripts/make-sample-archive.ts\` (run \`npm run make-sample\`); every value is synthetic.
+A centrifugal pump runs at 2970 rpm (49.5 Hz, six vanes) on an endurance rig; each night at 02:00 the rig
+captures 4 s of five channels at 12.8 kHz: drive-end and non-drive-end bearing-housing accelerometers, a microphone,
+the discharge pressure and a once-per-revolution tachometer pulse. The drive-end bearing's outer race degrades
+over the week, ringing a 3.5 kHz resonance at the outer-race defect rate (about 177 Hz).
+
+Planted defects, for quern to catch:
+- \`nightly/2026-11-19\`: acc_de clips at its instrument range (±500 m/s²) under a loose-mount rattle.
+- \`nightly/2026-11-21\`: the pressure transducer is disconnected; the channel is flat.
+- \`nightly/2026-11-22\`: the file was cut short while being copied; the header promises more data.
+- \`nightly/2026-11-19/pump-endurance-retake.wav\`: a retake under a name no group matches.
+- \`quicklook/2026-11-18_quicklook.wav\`: sampled at 2 kHz although the signal holds content to 5 kHz, so the
+  3.5 kHz ringing aliases to 500 Hz.
+- \`handheld/2026-11-20_spot-check.csv\`: a handheld logger's export (semicolons, decimal commas, time column).
+- \`strain/2026-11-17_frame-strain.bin\`: raw big-endian 16-bit frames with a 32-byte header.
+`;
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  const target = resolve(process.argv[2] ?? 'sample-archive');
+  makeSampleArchive(target);
+  process.stdout.write(`wrote ${target}\n`);
+}

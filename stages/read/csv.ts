@@ -1,0 +1,143 @@
+// Delimited text reader: a header row of channel names, an optional time column, comma, semicolon or tab.
+import { createReadStream } from 'node:fs';
+import { open } from 'node:fs/promises';
+import { createInterface } from 'node:readline';
+import { DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+
+const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
+const PROBE_BYTES = 1 << 20;
+const PROBE_ROWS = 4096;
+
+/** Splits one line on a delimiter, honouring RFC 4180 double quotes. */
+export function splitFields(line: string, delimiter: string): string[] {
+  if (!line.includes('"')) return line.split(delimiter);
+  const out: string[] = [];
+  let field = '', quoted = false;
+  for (let i = 0; i < line.length; i++) {
+    const c = line[i];
+    if (quoted) {
+      if (c === '"' && line[i + 1] === '"') { field += '"'; i++; }
+      else if (c === '"') quoted = false;
+      else field += c;
+    } else if (c === '"') quoted = true;
+    else if (c === delimiter) { out.push(field); field = ''; }
+    else field += c;
+  }
+  out.push(field);
+  return out;
+}
+
+/** The delimiter that splits the header into the most fields. */
+export function detectDelimiter(header: string): string {
+  let best = ',', most = 0;
+  for (const d of [',', ';', '\t']) {
+    const n = splitFields(header, d).length;
+    if (n > most) { best = d; most = n; }
+  }
+  return best;
+}
+
+const isData = (line: string) => line.trim() !== '' && !line.startsWith('#');
+
+/** A time cell as seconds: plain numbers are seconds, ISO dates become seconds since the epoch. */
+function timeValue(text: string, decimalComma: boolean): number {
+  const t = text.trim();
+  const n = Number(decimalComma ? t.replace(',', '.') : t);
+  if (t !== '' && Number.isFinite(n)) return n;
+  const ms = Date.parse(t);
+  return Number.isFinite(ms) ? ms / 1000 : NaN;
+}
+
+const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$)/); return m ? m[1].length : 0; };
+
+export interface CsvOptions { chunkFrames?: number; declaredSampleRate?: number | null }
+
+export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, declaredSampleRate = null }: CsvOptions = {}): Promise<Recording> {
+  // Probe the first megabyte for the header, the delimiter and the time step, without reading the whole file.
+  const fh = await open(path, 'r');
+  const probe = Buffer.alloc(PROBE_BYTES);
+  const { bytesRead } = await fh.read(probe, 0, PROBE_BYTES, 0);
+  await fh.close();
+  const text = probe.toString('utf8', 0, bytesRead).replace(/^\uFEFF/, '');
+  const lines = text.split(/\r?\n/);
+  if (bytesRead === PROBE_BYTES) lines.pop(); // the last line may be cut by the probe
+  const headerIndex = lines.findIndex(isData);
+  if (headerIndex < 0) throw new RecordingError('line 1: no header row found; the first non-comment line must name the columns');
+  const headerLine = headerIndex + 1;
+  const delimiter = detectDelimiter(lines[headerIndex]);
+  const names = splitFields(lines[headerIndex], delimiter).map((s) => s.trim());
+  const timeColumn = TIME_HEADER.test(names[0]) ? 0 : -1;
+  const channelNames = names.filter((_, i) => i !== timeColumn);
+  if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
+  const probeRows = lines.slice(headerIndex + 1).filter(isData).slice(0, PROBE_ROWS).map((l) => splitFields(l, delimiter));
+  // A semicolon or tab file whose cells hold commas writes decimals with a comma.
+  const decimalComma = delimiter !== ',' && probeRows.some((r) => r.some((c) => /^\s*-?\d+,\d+/.test(c)));
+
+  let sampleRate = declaredSampleRate ?? NaN;
+  let startTime: Date | null = null;
+  let timeStep = NaN, timeTolerance = NaN;
+  if (timeColumn === 0) {
+    const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma));
+    if (times.length < 2 || !Number.isFinite(times[0]) || !Number.isFinite(times[times.length - 1])) {
+      throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are not numbers or dates; fix the file or rename the column`);
+    }
+    // The mean step over the probe rows; rounding of printed times averages out over many steps.
+    timeStep = (times[times.length - 1] - times[0]) / (times.length - 1);
+    if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
+    const derived = 1 / timeStep;
+    timeTolerance = Math.max(0.01 * timeStep, 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? ''))));
+    if (!/^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim())) startTime = new Date(times[0] * 1000);
+    if (declaredSampleRate != null && Math.abs(derived - declaredSampleRate) > 0.005 * declaredSampleRate) {
+      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct sample_rate in archive.yaml or check the export`);
+    }
+    sampleRate = declaredSampleRate ?? Number(derived.toPrecision(6));
+  } else if (declaredSampleRate == null) {
+    throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample_rate declared; add sample_rate to the group in archive.yaml or export the time column`);
+  }
+
+  const notes: string[] = [];
+  const width = names.length;
+  async function* chunks(): AsyncGenerator<Float64Array[]> {
+    const out = channelNames.map(() => new Float64Array(chunkFrames));
+    const lineReader = createInterface({ input: createReadStream(path, { encoding: 'utf8' }), crlfDelay: Infinity });
+    let lineNo = 0, row = 0, k = 0, previousTime = NaN;
+    let irregular = 0, widest = 0, widestAt = NaN, shortRows = 0, firstShort = 0;
+    try {
+      for await (const raw of lineReader) {
+        lineNo++;
+        if (lineNo <= headerLine || !isData(raw)) continue;
+        const cells = splitFields(raw.replace(/^\uFEFF/, ''), delimiter);
+        if (cells.length !== width && shortRows++ === 0) firstShort = lineNo;
+        if (timeColumn === 0) {
+          const t = timeValue(cells[0] ?? '', decimalComma);
+          if (Number.isFinite(previousTime)) {
+            const dt = t - previousTime;
+            if (!(Math.abs(dt - timeStep) <= timeTolerance)) {
+              irregular++;
+              if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
+            }
+          }
+          previousTime = t;
+        }
+        for (let c = 0, j = 0; c < width; c++) {
+          if (c === timeColumn) continue;
+          const cell = (cells[c] ?? '').trim();
+          out[j++][k] = cell === '' ? NaN : Number(decimalComma ? cell.replace(',', '.') : cell);
+        }
+        row++;
+        if (++k === chunkFrames) { yield out; k = 0; }
+      }
+      if (k > 0) yield out.map((a) => a.subarray(0, k));
+    } finally {
+      lineReader.close();
+    }
+    if (irregular > 0) {
+      notes.push(`time steps irregular: ${irregular} of ${row - 1} steps differ from the nominal ${(timeStep * 1e3).toPrecision(4)} ms; the widest is ${(widest * 1e3).toPrecision(4)} ms, ending at t = ${widestAt} s; samples were taken as evenly spaced`);
+    }
+    if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
+  }
+  return {
+    format: 'csv', channelCount: channelNames.length, sampleRate, frames: null, encoding: decimalComma ? 'text (decimal comma)' : 'text',
+    bits: null, normalised: false, startTime, channelNames, notes, chunks, close: async () => {},
+  };
+}

@@ -1,0 +1,60 @@
+// Interleaved binary frames (WAV data chunks, raw acquisition files) → per-channel chunks.
+import type { FileHandle } from 'node:fs/promises';
+import { RecordingError } from './recording.js';
+
+export type SampleType = 'uint8' | 'int16' | 'int24' | 'int32' | 'float32' | 'float64';
+export type ByteOrder = 'little' | 'big';
+
+export const BYTES: Record<SampleType, number> = { uint8: 1, int16: 2, int24: 3, int32: 4, float32: 4, float64: 8 };
+
+export interface InterleavedLayout {
+  sampleType: SampleType;
+  byteOrder: ByteOrder;
+  channels: number;
+  /** Byte offset of the first frame. */
+  offset: number;
+  frames: number;
+}
+
+/** Full-scale divisor that maps an integer code to ±1 (offset binary for 8-bit unsigned). */
+function decoder(type: SampleType, little: boolean): (v: DataView, at: number) => number {
+  switch (type) {
+    case 'uint8': return (v, at) => (v.getUint8(at) - 128) / 128;
+    case 'int16': return (v, at) => v.getInt16(at, little) / 32768;
+    case 'int24': return little
+      ? (v, at) => ((v.getUint8(at) | (v.getUint8(at + 1) << 8) | (v.getInt8(at + 2) << 16))) / 8388608
+      : (v, at) => ((v.getUint8(at + 2) | (v.getUint8(at + 1) << 8) | (v.getInt8(at) << 16))) / 8388608;
+    case 'int32': return (v, at) => v.getInt32(at, little) / 2147483648;
+    case 'float32': return (v, at) => v.getFloat32(at, little);
+    case 'float64': return (v, at) => v.getFloat64(at, little);
+  }
+}
+
+/** Streams the frames of an open file in chunks of at most chunkFrames, reusing its buffers. */
+export async function* readInterleaved(file: FileHandle, layout: InterleavedLayout, chunkFrames: number, where: string): AsyncGenerator<Float64Array[]> {
+  const width = BYTES[layout.sampleType];
+  const frameBytes = width * layout.channels;
+  const buffer = Buffer.alloc(chunkFrames * frameBytes);
+  const view = new DataView(buffer.buffer, buffer.byteOffset, buffer.byteLength);
+  const out = Array.from({ length: layout.channels }, () => new Float64Array(chunkFrames));
+  const decode = decoder(layout.sampleType, layout.byteOrder === 'little');
+  let done = 0;
+  while (done < layout.frames) {
+    const want = Math.min(chunkFrames, layout.frames - done);
+    const position = layout.offset + done * frameBytes;
+    let got = 0;
+    while (got < want * frameBytes) {
+      const { bytesRead } = await file.read(buffer, got, want * frameBytes - got, position + got);
+      if (bytesRead === 0) {
+        throw new RecordingError(`${where}: the file ends at byte ${position + got}, inside frame ${done + Math.floor(got / frameBytes)} of ${layout.frames}; it was cut short (interrupted copy or capture): recapture or re-export it`);
+      }
+      got += bytesRead;
+    }
+    for (let c = 0; c < layout.channels; c++) {
+      const ch = out[c];
+      for (let i = 0, at = c * width; i < want; i++, at += frameBytes) ch[i] = decode(view, at);
+    }
+    done += want;
+    yield want === chunkFrames ? out : out.map((ch) => ch.subarray(0, want));
+  }
+}

@@ -1,0 +1,41 @@
+// The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
+
+/** What a stage knows about the channel it reduces, in engineering units. */
+export interface ChannelContext {
+  name: string;
+  quantity: string;
+  unit: string;
+  sampleRate: number;
+  /** Saturation limits of the instrument in engineering units, when declared. */
+  range: [number, number] | null;
+  /** Converter resolution in bits, when declared or known from the file. */
+  bits: number | null;
+  /** Highest frequency the signal is declared to contain, Hz. */
+  maxFrequencyHz: number | null;
+  /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
+  stepSize: number | null;
+}
+
+/** A column a stage contributes to features.parquet. */
+export interface ColumnSpec {
+  name: string;
+  /** Unit of the values; "[unit]" means the channel's own unit (the row's `unit` column). */
+  unit: string;
+  description: string;
+}
+
+export type ColumnValues = Record<string, number | null>;
+
+/** A running reduction over one channel. push() sees every sample exactly once, in order. */
+export interface Stage {
+  push(samples: Float64Array): void;
+  finish(): ColumnValues;
+}
+
+/** A feature group: the columns it adds and how to start one for a channel. */
+export interface StageDefinition<Options = unknown> {
+  /** Feature group name, as used in the spec and in caching. */
+  group: string;
+  columns(options: Options): ColumnSpec[];
+  create(channel: ChannelContext, options: Options): Stage;
+}
