@@ -1,6 +1,10 @@
 // Runs recordings through a pool of worker threads, reporting each as it finishes.
 import { availableParallelism } from 'node:os';
+import { existsSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Tinypool } from 'tinypool';
+import { packageRoot } from './package-files.js';
 import type { RecordingJob } from './plan.js';
 import type { RecordingResult } from './reduce.js';
 
@@ -9,15 +13,19 @@ export interface PoolOptions {
   onResult?: (r: RecordingResult) => void;
 }
 
+/** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
+function workerFile(): string {
+  const here = fileURLToPath(import.meta.url);
+  const built = here.endsWith('.ts') ? join(packageRoot, 'dist', 'pipeline', 'worker.js') : join(dirname(here), 'worker.js');
+  if (!existsSync(built)) throw new Error(`quern: worker code ${built} is missing; run "npm run build" first`);
+  return pathToFileURL(built).href;
+}
+
 export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availableParallelism(), onResult = () => {} }: PoolOptions = {}): Promise<RecordingResult[]> {
-  const here = import.meta.url;
-  const fromSource = here.endsWith('.ts');
   const pool = new Tinypool({
-    filename: new URL(fromSource ? './worker.ts' : './worker.js', here).href,
+    filename: workerFile(),
     minThreads: 1,
     maxThreads: Math.max(1, Math.min(threads, jobs.length || 1)),
-    // Run from source (tests), the workers load TypeScript the same way the caller does.
-    execArgv: fromSource ? ['--import', 'tsx'] : [],
   });
   try {
     return await Promise.all(jobs.map(async (job) => {

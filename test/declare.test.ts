@@ -1,0 +1,75 @@
+// archive.yaml and reduction.yaml: every error names the file, the line and the key path.
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare.js';
+import { UsageError } from '../pipeline/yaml-file.js';
+import { tempDir } from './helpers.js';
+
+function archiveWith(yaml: string): string {
+  const dir = join(tempDir(), 'arc');
+  mkdirSync(dir);
+  writeFileSync(join(dir, 'archive.yaml'), yaml);
+  return dir;
+}
+
+const errorOf = (p: Promise<unknown>) => p.then(() => { throw new Error('expected a UsageError'); }, (e) => { expect(e).toBeInstanceOf(UsageError); return (e as Error).message; });
+
+describe('archive declaration', () => {
+  it('reads groups with defaults filled in', async () => {
+    const d = await loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    labels: { rig: 7 }\n    channels:\n      - { name: a, range: [-5, 5] }\n'));
+    expect(d.groups[0].match).toEqual(['*.wav']);
+    expect(d.groups[0].labels).toEqual({ rig: '7' });
+    expect(d.groups[0].channels![0]).toMatchObject({ name: 'a', quantity: 'unknown', unit: 'FS', scale: 1, offset: 0, range: [-5, 5], bits: null });
+  });
+
+  it('points at the line of a bad range, an unknown key and a wrong enum', async () => {
+    const yaml = [
+      'groups:', //                      1
+      '  - name: g', //                  2
+      '    match: "*.wav"', //           3
+      '    format: flac', //             4
+      '    channels:', //                5
+      '      - name: a', //              6
+      '        range: [5]', //           7
+      '        sensitivity: 3', //       8
+    ].join('\n');
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+    expect(message).toMatch(/archive\.yaml:4: groups\[0\]\.format: must be one of "wav", "csv", "raw"/);
+    expect(message).toMatch(/archive\.yaml:7: groups\[0\]\.channels\[0\]\.range: must NOT have fewer than 2 items/);
+    expect(message).toMatch(/archive\.yaml:8: groups\[0\]\.channels\[0\]\.sensitivity: unknown key "sensitivity"/);
+  });
+
+  it('catches what the schema cannot: reversed ranges, duplicate names, raw files without layout', async () => {
+    const yaml = 'groups:\n  - name: g\n    match: "*.bin"\n    format: raw\n    channels:\n      - { name: a, range: [5, -5] }\n      - { name: a }\n';
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+    expect(message).toMatch(/:6: groups\[0\]\.channels\[0\]\.range: range must be \[lower, upper\]/);
+    expect(message).toMatch(/:7: groups\[0\]\.channels\[1\]\.name: channel name "a" appears twice/);
+    expect(message).toMatch(/:2: groups\[0\]: format raw needs a layout/);
+    expect(message).toMatch(/format raw needs sample_rate/);
+  });
+
+  it('reports YAML syntax errors with their line, and a missing declaration with what to do', async () => {
+    expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: [unclosed\n')))).toMatch(/archive\.yaml:\d+: YAML syntax/);
+    expect(await errorOf(loadArchiveDeclaration(tempDir()))).toMatch(/missing; every archive declares its recordings in archive\.yaml/);
+  });
+});
+
+describe('reduction spec', () => {
+  it('falls back to the embedded default and hashes content, not layout', async () => {
+    const dir = archiveWith('groups: []');
+    const d = await loadSpec(dir);
+    expect(d.source).toBe('(default)');
+    const a = join(dir, 'a.yaml'), b = join(dir, 'b.yaml');
+    writeFileSync(a, 'statistics: { only: { names: ["acc*"], quantities: [strain] } }\n');
+    writeFileSync(b, '# same, laid out differently\nstatistics:\n  only:\n    quantities: [strain]\n    names: ["acc*"]\n');
+    expect((await loadSpec(dir, a)).hash).toBe((await loadSpec(dir, b)).hash);
+    expect((await loadSpec(dir, a)).hash).not.toBe(d.hash);
+  });
+
+  it('names the line of an unknown section', async () => {
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectra: {}\n');
+    expect(await errorOf(loadSpec(dir))).toMatch(/reduction\.yaml:2: spectra: unknown key "spectra"/);
+  });
+});

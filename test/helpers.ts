@@ -1,0 +1,34 @@
+// Shared test helpers: temporary folders, the built command line, reading whole recordings.
+import { spawnSync } from 'node:child_process';
+import { cpSync, mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { openRecording, type OpenOptions } from '../stages/read/open.js';
+
+export const repo = join(dirname(fileURLToPath(import.meta.url)), '..');
+export const fixture = (...p: string[]) => join(repo, 'test', 'fixtures', ...p);
+export const tempDir = (prefix = 'quern-test-') => mkdtempSync(join(tmpdir(), prefix));
+export const readJson = <T = any>(path: string): T => JSON.parse(readFileSync(path, 'utf8'));
+
+/** A private copy of the sample archive, so tests can add and break files. */
+export function sampleArchiveCopy(): string {
+  const dir = join(tempDir(), 'archive');
+  cpSync(join(repo, 'sample-archive'), dir, { recursive: true });
+  return dir;
+}
+
+/** Runs the built command line (npm test builds it first) as a user would. */
+export function quern(...args: string[]) {
+  const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+}
+
+/** Every sample of a recording, per channel, gathered from the streaming reader (small files only). */
+export async function readAll(path: string, options: OpenOptions = {}) {
+  const rec = await openRecording(path, { chunkFrames: 97, ...options }); // an odd chunk size exercises chunk edges
+  const channels: number[][] = Array.from({ length: rec.channelCount }, () => []);
+  for await (const chunk of rec.chunks()) chunk.forEach((c, i) => channels[i].push(...c));
+  await rec.close();
+  return { rec, channels };
+}

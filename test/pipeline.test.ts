@@ -1,0 +1,169 @@
+// The whole job end to end: the built command line on the sample archive, read back by DuckDB and hyparquet.
+import { existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { parquetMetadataAsync, parquetReadObjects } from 'hyparquet';
+import { compressors } from 'hyparquet-compressors';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { fixture, quern, readJson, sampleArchiveCopy } from './helpers.js';
+
+async function duck(sql: string) {
+  const db = await (await DuckDBInstance.create()).connect();
+  return (await db.runAndReadAll(sql)).getRowObjectsJS();
+}
+
+describe('quern reduce on the sample archive', () => {
+  let archive = '', out = '', run: any, result: ReturnType<typeof quern>;
+  beforeAll(() => {
+    archive = sampleArchiveCopy();
+    out = `${archive}.reduced`;
+    result = quern('reduce', archive, '--jobs', '2');
+    run = readJson(join(out, 'run.json'));
+  });
+
+  it('exits 1 because one planted recording is truncated, and says so on the terminal', () => {
+    expect(result.code).toBe(1);
+    expect(result.stdout).toMatch(/9 of 10 recordings reduced \(35 channel rows\)/);
+    expect(result.stdout).toMatch(/FAILED\s+nightly\/2026-11-22\/pump-endurance\.wav: .*cut short/);
+    expect(result.stdout).toMatch(/UNMATCHED\s+nightly\/2026-11-19\/pump-endurance-retake\.wav/);
+  });
+
+  it('writes run.json with what was scanned, reduced, failed and unmatched', () => {
+    expect(run.counts).toMatchObject({ scanned: 10, reduced: 9, failed: 1, unmatched: 1, rows: 35 });
+    const failed = run.recordings.filter((r: any) => r.status === 'failed');
+    expect(failed.map((r: any) => r.recording)).toEqual(['nightly/2026-11-22/pump-endurance.wav']);
+    expect(failed[0].rows).toBe(0);
+    expect(run.spec.source).toBe('(default)');
+    expect(run.timings.total_s).toBeGreaterThan(0);
+  });
+
+  it('DuckDB reads features.parquet with the statistics scipy/numpy compute for the same files', async () => {
+    const ref = readJson(fixture('sample-archive-stats.json'));
+    const rows = await duck(`select * from '${join(out, 'features.parquet')}' order by recording, channel`);
+    expect(rows.length).toBe(35);
+    const channelsOf: Record<string, string[]> = { nightly: ['acc_de', 'acc_nde', 'mic', 'pressure', 'tacho'], quicklook: ['acc_de'] };
+    for (const r of ref.rows) {
+      const name = channelsOf[r.recording.split('/')[0]][r.channel_index];
+      const row = rows.find((x: any) => x.recording === r.recording && x.channel === name)!;
+      expect(row, `${r.recording} ${name}`).toBeDefined();
+      expect(Number(row.n)).toBe(r.n);
+      expect(row.sample_rate).toBe(r.sample_rate);
+      for (const k of ['mean', 'std', 'rms', 'min', 'max']) expect(row[k] as number).toBeCloseTo(r[k], 9);
+      if (r.kurtosis === null) expect(row.kurtosis).toBeNull();
+      else {
+        expect(Math.abs((row.kurtosis as number) - r.kurtosis) / r.kurtosis).toBeLessThan(1e-9);
+        expect(row.skewness as number).toBeCloseTo(r.skewness, 8);
+      }
+    }
+  });
+
+  it('carries labels, start times and derived columns', async () => {
+    const [row] = await duck(`select * from '${join(out, 'features.parquet')}' where recording = 'nightly/2026-11-19/pump-endurance.wav' and channel = 'acc_de'`);
+    expect(row).toMatchObject({ group: 'nightly', quantity: 'acceleration', unit: 'm/s^2', rig: 'P3', test_id: 'endurance-07', duration_s: 4 });
+    expect((row.start_time as Date).toISOString()).toBe('2026-11-19T02:00:00.000Z');
+    expect(row.peak).toBe(500); // clipped at the instrument range
+    expect(row.crest_factor as number).toBeCloseTo((row.peak as number) / (row.rms as number), 12);
+    const [csv] = await duck(`select sample_rate, n, start_time from '${join(out, 'features.parquet')}' where recording like 'handheld/%' limit 1`);
+    expect(csv).toMatchObject({ sample_rate: 2560, start_time: null });
+  });
+
+  it('stores tool version, spec hash, run id and units in the file metadata', async () => {
+    const kv = Object.fromEntries((await duck(`select decode(key) k, decode(value) v from parquet_kv_metadata('${join(out, 'features.parquet')}')`)).map((r: any) => [r.k, r.v]));
+    expect(kv['quern.version']).toBe(JSON.parse(readFileSync(join(__dirname, '..', 'package.json'), 'utf8')).version);
+    expect(kv['quern.spec_hash']).toBe(run.spec.hash);
+    expect(kv['quern.run_id']).toBe(run.run_id);
+    expect(JSON.parse(kv['quern.units'])).toMatchObject({ sample_rate: 'Hz', duration_s: 's', rms: '[unit]', kurtosis: '1' });
+  });
+
+  it('a second, independent reader (hyparquet) finds the same rows, and the Arrow field metadata with units', async () => {
+    const bytes = readFileSync(join(out, 'features.parquet'));
+    const file = bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength);
+    const objs = await parquetReadObjects({ file, compressors });
+    const rows = await duck(`select recording, channel, rms from '${join(out, 'features.parquet')}'`);
+    expect(objs.length).toBe(rows.length);
+    for (const r of rows) expect(objs.find((o: any) => o.recording === r.recording && o.channel === r.channel)!.rms).toBe(r.rms);
+    const meta = await parquetMetadataAsync(file);
+    const arrowSchema = meta.key_value_metadata?.find((k) => k.key === 'ARROW:schema');
+    expect(arrowSchema).toBeDefined();
+    expect(Buffer.from(arrowSchema!.value!, 'base64').toString('latin1')).toContain('[unit]');
+  });
+
+  it('leaves no temporary files behind', () => {
+    expect(readdirSync(out).sort()).toEqual(['features.parquet', 'run.json']);
+  });
+});
+
+describe('bad input never sinks the run', () => {
+  it('a corrupt recording fails alone, with a reason, and has no rows', async () => {
+    const archive = sampleArchiveCopy();
+    writeFileSync(join(archive, 'nightly', '2026-11-17', 'pump-endurance.wav'), Buffer.from('RIFF\x10\x00\x00\x00WAVEjunkjunkjunk', 'latin1'));
+    const r = quern('reduce', archive, '--out', join(archive, '..', 'out'), '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(archive, '..', 'out', 'run.json'));
+    expect(run.counts.failed).toBe(2);
+    const bad = run.recordings.find((x: any) => x.recording === 'nightly/2026-11-17/pump-endurance.wav');
+    expect(bad.reason).toMatch(/no fmt chunk/);
+    const rows = await duck(`select count(*)::int c from '${join(archive, '..', 'out', 'features.parquet')}' where recording = 'nightly/2026-11-17/pump-endurance.wav'`);
+    expect(rows[0].c).toBe(0);
+  });
+
+  it('a header that disagrees with the declaration fails that recording and says which to fix', () => {
+    const archive = sampleArchiveCopy();
+    const yaml = readFileSync(join(archive, 'archive.yaml'), 'utf8').replace('sample_rate: 2000', 'sample_rate: 2048');
+    writeFileSync(join(archive, 'archive.yaml'), yaml);
+    const r = quern('reduce', archive, '--quiet');
+    expect(r.stdout).toMatch(/quicklook\/2026-11-18_quicklook\.wav: header: the file says 2000 Hz but group "quick-look" declares 2048 Hz/);
+  });
+
+  it('an invalid declaration is unusable input: exit 2, file and line named, nothing written', () => {
+    const archive = sampleArchiveCopy();
+    writeFileSync(join(archive, 'archive.yaml'), readFileSync(join(archive, 'archive.yaml'), 'utf8').replace('sample_rate: 12800', 'sample_rate: fast'));
+    const r = quern('reduce', archive);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
+    expect(existsSync(`${archive}.reduced`)).toBe(false);
+  });
+
+  it('a missing archive is unusable input: exit 2', () => {
+    const r = quern('reduce', '/nonexistent/archive');
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/no such archive folder/);
+  });
+});
+
+describe('quern check and quern peek', () => {
+  it('check lists what would be reduced and computes nothing', () => {
+    const archive = sampleArchiveCopy();
+    const r = quern('check', archive);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/ok\s+nightly\/2026-11-16\/pump-endurance\.wav\s+\[nightly\]\s+wav pcm16, 5 channels \(acc_de, acc_nde, mic, pressure, tacho\), 12800 Hz, 4\.000 s/);
+    expect(r.stdout).toMatch(/FAILED\s+nightly\/2026-11-22/);
+    expect(r.stdout).toMatch(/9 of 10 recordings would be reduced; 1 failed, 1 unmatched/);
+    expect(existsSync(`${archive}.reduced`)).toBe(false);
+  });
+
+  it('peek shows the header and statistics, using the archive declaration', () => {
+    const archive = sampleArchiveCopy();
+    const r = quern('peek', join(archive, 'strain', '2026-11-17_frame-strain.bin'));
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/format\s+raw int16, 16-bit/);
+    expect(r.stdout).toMatch(/duration\s+20\.000 s \(10000 frames\)/);
+    expect(r.stdout).toMatch(/declared by .*group "frame-strain"/);
+    expect(r.stdout).toMatch(/strain_a\s+µm\/m/);
+  });
+
+  it('peek works on a bare file in stored units', () => {
+    const r = quern('peek', fixture('wav', 'pcm16-2ch.wav'));
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/ch1\s+FS/);
+    expect(r.stdout).toMatch(/no archive\.yaml/);
+  });
+
+  it('--help documents the commands and exit codes', () => {
+    const r = quern('--help');
+    expect(r.stdout).toMatch(/reduce <archive>/);
+    expect(r.stdout).toMatch(/check <archive>/);
+    expect(r.stdout).toMatch(/peek <recording>/);
+    expect(r.stdout).toMatch(/Exit codes: 0 every recording reduced; 1 some recordings failed/);
+  });
+});
