@@ -3,6 +3,8 @@ import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
+import type { FilterSpec } from '../stages/dsp/butterworth.js';
+import type { WelchOptions } from '../stages/dsp/welch.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 import { packageRoot } from './package-files.js';
@@ -81,7 +83,21 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
 // ---- reduction spec ----
 
 export interface ChannelSelector { names?: string[]; quantities?: string[] }
-export interface ReductionSpec { statistics?: { only?: ChannelSelector } }
+type Only = { only?: ChannelSelector };
+type Ranges = [number, number][];
+/** reduction.yaml, as schemas/reduction.schema.json describes it. */
+export interface ReductionSpec {
+  statistics?: Only;
+  spectrum?: Partial<WelchOptions> & Only;
+  bands?: Ranges | ({ ranges: Ranges } & Only);
+  octave_bands?: OctaveSet | OctaveSet[];
+  velocity_bands?: Ranges | ({ ranges: Ranges } & Only);
+  windows?: { length_s?: number; hop_s?: number } & Only;
+  time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
+  mtvv?: { integration_s?: number } & Only;
+  envelope?: { filter: FilterSpec } & Only;
+}
+type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
 
 export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
 

@@ -1,6 +1,6 @@
 // Reduces one recording: read it once, feed every stage of every channel, collect one row per channel.
 import picomatch from 'picomatch';
-import { activeStages } from '../stages/index.js';
+import { activeStages, featureColumns } from '../stages/index.js';
 import { openRecording } from '../stages/read/open.js';
 import { RecordingError, type Recording } from '../stages/read/recording.js';
 import type { ChannelContext, ColumnValues, Stage } from '../stages/stage.js';
@@ -18,6 +18,8 @@ export interface RecordingResult {
   /** Findings that did not stop the reduction. */
   messages: string[];
   rows: FeatureRow[];
+  /** Rows of secondary tables (windows.parquet…), by table name. */
+  tables: Record<string, FeatureRow[]>;
   frames: number;
   sampleRate: number | null;
   /** How the file stores its samples, once its header was read. */
@@ -66,7 +68,7 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
 
 export async function reduceRecording(job: RecordingJob): Promise<RecordingResult> {
   const t0 = performance.now();
-  const result: RecordingResult = { recording: job.recording, group: job.group, status: 'failed', messages: [], rows: [], frames: 0, sampleRate: null, seconds: 0 };
+  const result: RecordingResult = { recording: job.recording, group: job.group, status: 'failed', messages: [], rows: [], tables: {}, frames: 0, sampleRate: null, seconds: 0 };
   let rec: Recording | null = null;
   try {
     const opened = await openForJob(job);
@@ -75,15 +77,21 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
     result.sampleRate = rec.sampleRate;
     result.header = { format: rec.format, encoding: rec.encoding, bits: rec.bits, start_time: rec.startTime?.toISOString() ?? null };
     const stages = activeStages(job.spec);
-    const perChannel: Stage[][] = channels.map(({ decl }) => {
+    const perChannel = channels.map(({ decl }) => {
+      const shared = new Map<string, Stage>();
       const bits = decl.bits ?? rec!.bits;
       const ctx: ChannelContext = {
         name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: rec!.sampleRate, range: decl.range, bits,
         maxFrequencyHz: decl.max_frequency_hz,
         // One converter step in engineering units: full scale ±1 spans 2^bits codes.
         stepSize: rec!.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
+        shared: <T extends Stage>(key: string, make: () => T) => (shared.get(key) ?? shared.set(key, make()).get(key)) as T,
+        note: (m) => { if (!result.messages.includes(m)) result.messages.push(m); },
+        addRow: (table, row) => (result.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
       };
-      return stages.filter((s) => selected(s.only, decl)).map((s) => s.definition.create(ctx, s.options));
+      const own = stages.filter((s) => selected(s.only, decl)).map((s) => s.definition.create(ctx, s.options));
+      // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
+      return [...shared.values(), ...own];
     });
     let scratch = new Float64Array(0);
     for await (const chunk of rec.chunks()) {
@@ -101,8 +109,10 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
     result.messages.push(...rec.notes);
     const durationS = result.frames / rec.sampleRate;
     const startTime = rec.startTime ? rec.startTime.getTime() : null;
+    // Every feature column appears in every row: null where a stage did not apply to the channel.
+    const blank: ColumnValues = Object.fromEntries(featureColumns(job.spec).map((col) => [col.name, null]));
     result.rows = channels.map(({ decl }, c) => {
-      const values: ColumnValues = Object.assign({}, ...perChannel[c].map((s) => s.finish()));
+      const values: ColumnValues = Object.assign({ ...blank }, ...perChannel[c].map((s) => s.finish()));
       return {
         recording: job.recording, group: job.group, channel: decl.name, quantity: decl.quantity, unit: decl.unit,
         sample_rate: rec!.sampleRate, n: result.frames, duration_s: durationS, start_time: startTime, ...job.labels, ...values,
@@ -111,6 +121,7 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
     result.status = 'reduced';
   } catch (e) {
     result.rows = [];
+    result.tables = {};
     result.reason = e instanceof RecordingError ? e.message : `unexpected error: ${(e as Error).stack ?? e}; please report it with the file`;
     if (!(e instanceof RecordingError) && (e as NodeJS.ErrnoException).code) result.reason = `${(e as Error).message}; check that the file exists and is readable`;
   } finally {

@@ -50,7 +50,8 @@ export function summaryText(r: RunRecord): string {
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.scanned} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched.`,
   ];
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
-  for (const m of r.recordings.filter((x) => x.messages.length)) for (const msg of m.messages) lines.push(`  note    ${m.recording}: ${msg}`);
+  const noted = r.recordings.filter((x) => x.messages.length);
+  if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   lines.push(`  table:  ${r.out}/features.parquet`, `  run:    ${r.out}/run.json`);
   return lines.join('\n');

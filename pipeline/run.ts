@@ -12,7 +12,7 @@ import type { Progress } from './progress.js';
 import type { RecordingResult } from './reduce.js';
 import { runRecord, type RunRecord } from './report.js';
 import { scan } from './scan.js';
-import { IDENTITY_COLUMNS, writeParquetTable, type TableColumn } from './write.js';
+import { IDENTITY_COLUMNS, WINDOW_TABLE, writeParquetTable, type TableColumn } from './write.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -55,6 +55,7 @@ export async function runReduce({ archive, out = null, spec: specPath = null, jo
   const rows = byRecording(results).flatMap((r) => r.rows);
   const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
   await writeParquetTable(join(outDir, 'features.parquet'), columns, rows, metadata);
+  await writeParquetTable(join(outDir, 'windows.parquet'), WINDOW_TABLE, byRecording(results).flatMap((r) => r.tables.windows ?? []), metadata);
   const writeS = clock(t);
 
   const record = runRecord({

@@ -22,6 +22,18 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
   { name: 'start_time', type: 'timestamp_ms', nullable: true, unit: 'UTC', description: 'Start of the capture (Broadcast Wave bext origination, or CSV date-time); null when unknown.' },
 ];
 
+/** windows.parquet: one row per recording × channel × window. */
+export const WINDOW_TABLE: TableColumn[] = [
+  { name: 'recording', type: 'string', nullable: false, unit: '', description: 'Path of the recording relative to the archive root.' },
+  { name: 'channel', type: 'string', nullable: false, unit: '', description: 'Channel name.' },
+  { name: 'unit', type: 'string', nullable: false, unit: '', description: 'Engineering unit of the channel.' },
+  { name: 'window_start_s', type: 'float64', nullable: false, unit: 's', description: 'Start of the window from the start of the recording.' },
+  { name: 'window_s', type: 'float64', nullable: false, unit: 's', description: 'Window length.' },
+  { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Mean over the window.' },
+  { name: 'rms', type: 'float64', nullable: false, unit: '[unit]', description: 'RMS over the window.' },
+  { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
+];
+
 const ARROW_TYPES = {
   string: () => new arrow.Utf8(),
   float64: () => new arrow.Float64(),

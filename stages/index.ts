@@ -1,15 +1,47 @@
-// The feature groups quern computes, in column order. Adding a stage means adding it here.
-import type { ReductionSpec } from '../pipeline/declare.js';
+// The feature groups quern computes, in column order, and how the spec's sections turn them on. Adding a stage means adding it here.
+import type { ReductionSpec, ChannelSelector } from '../pipeline/declare.js';
+import { bands } from './bands.js';
+import type { FilterSpec } from './dsp/butterworth.js';
+import type { WelchOptions } from './dsp/welch.js';
+import { envelope } from './envelope.js';
+import { mtvv } from './mtvv.js';
+import { octaveBands } from './octave.js';
+import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
+import { timeWeighting } from './time-weighting.js';
+import { velocity } from './velocity.js';
+import { windows } from './windows.js';
 
-export interface ActiveStage { definition: StageDefinition<any>; options: any; only: { names?: string[]; quantities?: string[] } | undefined }
+export interface ActiveStage { definition: StageDefinition<any>; options: any; only: ChannelSelector | undefined }
 
-/** The stages a spec asks for; statistics always run, since every other figure leans on them. */
+type Ranges = [number, number][];
+const rangesOf = (v: Ranges | { ranges: Ranges } | undefined): Ranges => (Array.isArray(v) ? v : v?.ranges ?? []);
+const onlyOf = (v: unknown): ChannelSelector | undefined => (v && !Array.isArray(v) && typeof v === 'object' ? (v as { only?: ChannelSelector }).only : undefined);
+
+/** The stages a spec asks for: a section present turns its group on; statistics always run. */
 export function activeStages(spec: ReductionSpec): ActiveStage[] {
-  return [
-    { definition: statistics, options: {}, only: spec.statistics?.only },
-  ];
+  const welch: WelchOptions = { ...DEFAULT_SPECTRUM, ...(spec.spectrum ?? {}) };
+  delete (welch as { only?: unknown }).only;
+  const out: ActiveStage[] = [{ definition: statistics, options: {}, only: spec.statistics?.only }];
+  if (spec.spectrum) out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
+  if (spec.bands) out.push({ definition: bands, options: { ranges: rangesOf(spec.bands), spectrum: welch }, only: onlyOf(spec.bands) });
+  if (spec.octave_bands) {
+    const sets = (Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands]).map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000 }));
+    out.push({ definition: octaveBands, options: { sets, spectrum: welch }, only: Array.isArray(spec.octave_bands) ? spec.octave_bands[0]?.only : spec.octave_bands.only });
+  }
+  if (spec.velocity_bands) out.push({ definition: velocity, options: { ranges: rangesOf(spec.velocity_bands), spectrum: welch }, only: onlyOf(spec.velocity_bands) ?? { quantities: ['acceleration'] } });
+  if (spec.windows) out.push({ definition: windows, options: { length_s: spec.windows.length_s ?? 1, hop_s: spec.windows.hop_s ?? spec.windows.length_s ?? 1 }, only: spec.windows.only });
+  if (spec.time_weighting_s) {
+    const v = spec.time_weighting_s;
+    out.push({ definition: timeWeighting, options: { constants_s: Array.isArray(v) ? v : v.constants_s }, only: onlyOf(v) });
+  }
+  if (spec.mtvv) out.push({ definition: mtvv, options: { integration_s: spec.mtvv.integration_s ?? 1 }, only: spec.mtvv.only });
+  if (spec.envelope) {
+    const filter: FilterSpec = { zero_phase: false, ...spec.envelope.filter };
+    out.push({ definition: envelope, options: { filter, spectrum: welch }, only: spec.envelope.only });
+  }
+  return out;
 }
 
 export function featureColumns(spec: ReductionSpec): ColumnSpec[] {

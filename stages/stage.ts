@@ -14,6 +14,12 @@ export interface ChannelContext {
   maxFrequencyHz: number | null;
   /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
   stepSize: number | null;
+  /** A product several stages of this channel read (the Welch spectrum…): made once, fed each chunk once, before the stages. */
+  shared<T extends Stage>(key: string, make: () => T): T;
+  /** Records a finding about this channel; it goes to run.json with the recording. */
+  note(message: string): void;
+  /** Adds a row to a secondary table of the run (windows.parquet…). */
+  addRow(table: string, row: Record<string, number | null>): void;
 }
 
 /** A column a stage contributes to features.parquet. */

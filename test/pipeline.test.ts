@@ -88,8 +88,25 @@ describe('quern reduce on the sample archive', () => {
     expect(Buffer.from(arrowSchema!.value!, 'base64').toString('latin1')).toContain('[unit]');
   });
 
+  it('writes the default feature groups, and windows.parquet, with units (bearing defect rate seen in the envelope)', async () => {
+    const f = join(out, 'features.parquet');
+    const [row] = await duck(`select * from '${f}' where recording = 'nightly/2026-11-21/pump-endurance.wav' and channel = 'acc_de'`);
+    for (const c of ['band_20_200_rms', 'oct3_31p5_rms', 'oct1_1000_rms', 'velocity_10_1000_rms', 'dominant_frequency', 'spectral_centroid', 'max_twrms_125ms', 'max_twrms_1000ms', 'mtvv', 'filtered_rms', 'env_mean', 'env_rms', 'env_peak', 'env_dominant_frequency']) {
+      expect(typeof row[c], c).toBe('number');
+    }
+    // The demo's outer-race defect rings at 3.58 × 49.5 Hz ≈ 177.2 Hz; the envelope spectrum resolves 12800/4096 Hz.
+    expect(Math.abs((row.env_dominant_frequency as number) - 177.21)).toBeLessThanOrEqual(12800 / 4096);
+    // Above Nyquist (6.4 kHz): empty, and said in run.json.
+    expect(row.oct3_8000_rms).toBeNull();
+    expect(run.recordings.find((r: any) => r.recording === 'nightly/2026-11-21/pump-endurance.wav').messages.join()).toMatch(/reach above the Nyquist frequency 6400 Hz/);
+    const units = JSON.parse((await duck(`select decode(value) v from parquet_kv_metadata('${f}') where decode(key) = 'quern.units'`))[0].v as string);
+    expect(units).toMatchObject({ velocity_10_1000_rms: 'mm/s', dominant_frequency: 'Hz', band_20_200_ms: '[unit]^2', env_rms: '[unit]' });
+    const w = await duck(`select recording, channel, count(*)::int n, min(window_s) ws from '${join(out, 'windows.parquet')}' group by all order by all`);
+    expect(w.find((r: any) => r.recording === 'nightly/2026-11-16/pump-endurance.wav' && r.channel === 'mic')).toMatchObject({ n: 4, ws: 1 });
+  });
+
   it('leaves no temporary files behind', () => {
-    expect(readdirSync(out).sort()).toEqual(['features.parquet', 'run.json']);
+    expect(readdirSync(out).sort()).toEqual(['features.parquet', 'run.json', 'windows.parquet']);
   });
 });
 

@@ -1,0 +1,103 @@
+// Welch's method: averaged modified periodograms (Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967), streaming.
+import FFT from 'fft.js';
+import { makeWindow, type WindowName } from './window.js';
+
+export interface WelchOptions { segment: number; overlap: number; window: WindowName }
+
+export interface Psd {
+  /** One-sided power spectral density, unit²/Hz, bins k·df for k = 0 … segment/2. */
+  density: Float64Array;
+  df: number;
+  segments: number;
+  /** Segment length actually used (shorter than asked for when the recording is). */
+  segment: number;
+}
+
+const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
+
+/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples. */
+export class Welch {
+  private readonly buf: Float64Array;
+  private fill = 0;
+  private readonly hop: number;
+  private readonly sum: Float64Array;
+  private count = 0;
+  private readonly fft: FFT;
+  private readonly win: Float64Array;
+  private readonly work: Float64Array;
+  private readonly out: Float64Array;
+
+  constructor(private readonly fs: number, private readonly o: WelchOptions) {
+    if (!isPowerOfTwo(o.segment)) throw new Error(`spectrum.segment must be a power of two, got ${o.segment}`);
+    this.buf = new Float64Array(o.segment);
+    this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
+    this.sum = new Float64Array(o.segment / 2 + 1);
+    this.fft = new FFT(o.segment);
+    this.win = makeWindow(o.window, o.segment);
+    this.work = new Float64Array(o.segment);
+    this.out = new Float64Array(2 * o.segment);
+  }
+
+  push(x: Float64Array): void {
+    let i = 0;
+    while (i < x.length) {
+      const take = Math.min(x.length - i, this.buf.length - this.fill);
+      this.buf.set(x.subarray(i, i + take), this.fill);
+      this.fill += take;
+      i += take;
+      if (this.fill === this.buf.length) {
+        addPeriodogram(this.buf, this.win, this.fft, this.work, this.out, this.sum);
+        this.count++;
+        this.buf.copyWithin(0, this.hop);
+        this.fill -= this.hop;
+      }
+    }
+  }
+
+  /** The density so far; a recording shorter than one segment is analysed as one segment of the largest power of two it fills. */
+  result(): Psd | null {
+    if (this.count > 0) return scaleDensity(this.sum, this.count, this.win, this.fs);
+    let n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
+    if (n < 8) return null;
+    const win = makeWindow(this.o.window, n);
+    const fft = new FFT(n);
+    const sum = new Float64Array(n / 2 + 1);
+    addPeriodogram(this.buf.subarray(0, n), win, fft, new Float64Array(n), new Float64Array(2 * n), sum);
+    return scaleDensity(sum, 1, win, this.fs);
+  }
+}
+
+// One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added to sum.
+function addPeriodogram(seg: Float64Array, win: Float64Array, fft: FFT, work: Float64Array, out: Float64Array, sum: Float64Array): void {
+  const n = seg.length;
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += seg[i];
+  mean /= n;
+  for (let i = 0; i < n; i++) work[i] = (seg[i] - mean) * win[i];
+  fft.realTransform(out, work);
+  for (let k = 0; k <= n / 2; k++) sum[k] += out[2 * k] * out[2 * k] + out[2 * k + 1] * out[2 * k + 1];
+}
+
+// Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).
+function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: number): Psd {
+  const n = win.length;
+  let s2 = 0;
+  for (let i = 0; i < n; i++) s2 += win[i] * win[i];
+  const scale = 1 / (fs * s2 * count);
+  const density = sum.map((v, k) => v * scale * (k === 0 || k === n / 2 ? 1 : 2));
+  return { density, df: fs / n, segments: count, segment: n };
+}
+
+/** Mean square in [low, high) Hz: bin k holds power density[k]·df spread over [f − df/2, f + df/2), and counts by the fraction inside the band. */
+export function bandMeanSquare(psd: Psd, low: number, high: number): number {
+  const { density, df } = psd;
+  let ms = 0;
+  const kFrom = Math.max(0, Math.floor(low / df - 0.5)), kTo = Math.min(density.length - 1, Math.ceil(high / df + 0.5));
+  for (let k = kFrom; k <= kTo; k++) {
+    // DC and Nyquist bins are folded halves: DC's power lies in [0, df/2), Nyquist's in [fN − df/2, fN].
+    const a = Math.max(0, (k - 0.5) * df), b = Math.min((density.length - 1) * df, (k + 0.5) * df);
+    const overlap = Math.min(b, high) - Math.max(a, low);
+    if (overlap > 0) ms += (density[k] * df * overlap) / (b - a);
+  }
+  return ms;
+}

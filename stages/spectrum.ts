@@ -1,0 +1,44 @@
+// The Welch spectrum of a channel, shared by the spectral stages, and the descriptors read from it: dominant frequency, centroid.
+import { Welch, type Psd, type WelchOptions } from './dsp/welch.js';
+import type { ChannelContext, Stage, StageDefinition } from './stage.js';
+
+export const DEFAULT_SPECTRUM: WelchOptions = { segment: 4096, overlap: 0.5, window: 'hann' };
+
+export interface SpectrumProduct extends Stage { psd(): Psd | null }
+
+/** The channel's one Welch accumulator for these options, made on first request. */
+export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduct {
+  return ctx.shared(`welch:${o.segment}:${o.overlap}:${o.window}`, () => {
+    const welch = new Welch(ctx.sampleRate, o);
+    let cached: Psd | null | undefined;
+    return { push: (x) => welch.push(x), finish: () => ({}), psd: () => (cached === undefined ? (cached = welch.result()) : cached) };
+  });
+}
+
+/** Index of the largest density above DC. */
+export function peakBin(density: Float64Array): number {
+  let k = 1;
+  for (let i = 2; i < density.length; i++) if (density[i] > density[k]) k = i;
+  return k;
+}
+
+export const spectrum: StageDefinition<WelchOptions> = {
+  group: 'spectrum',
+  columns: () => [
+    { name: 'dominant_frequency', unit: 'Hz', description: 'Frequency of the largest Welch PSD bin above DC (resolution fs/segment).' },
+    { name: 'spectral_centroid', unit: 'Hz', description: 'Power-weighted mean frequency of the Welch PSD above DC: Σ f·P / Σ P.' },
+  ],
+  create(ctx, o) {
+    const s = spectrumOf(ctx, o);
+    return {
+      push() {},
+      finish() {
+        const psd = s.psd();
+        if (!psd || psd.density.length < 3) return { dominant_frequency: null, spectral_centroid: null };
+        let num = 0, den = 0;
+        for (let k = 1; k < psd.density.length; k++) { num += k * psd.df * psd.density[k]; den += psd.density[k]; }
+        return { dominant_frequency: peakBin(psd.density) * psd.df, spectral_centroid: den > 0 ? num / den : null };
+      },
+    };
+  },
+};

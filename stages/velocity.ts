@@ -1,0 +1,49 @@
+// Velocity RMS of acceleration channels by integration in the frequency domain: velocity PSD = acceleration PSD / (2πf)².
+// Broadband velocity in a 10–1000 Hz band is the figure machine-vibration evaluation uses (ISO 20816-1, from memory).
+import { type WelchOptions } from './dsp/welch.js';
+import { hzName } from './names.js';
+import { spectrumOf } from './spectrum.js';
+import type { StageDefinition } from './stage.js';
+
+export interface VelocityOptions { ranges: [number, number][]; spectrum: WelchOptions }
+
+/** m/s² per declared acceleration unit; g is standard gravity, 9.80665 m/s² (ISO 80000-3). */
+const TO_M_PER_S2: Record<string, number> = { 'm/s^2': 1, 'm/s²': 1, 'm/s2': 1, 'mm/s^2': 1e-3, 'mm/s²': 1e-3, g: 9.80665, gn: 9.80665, 'g_n': 9.80665 };
+
+const col = (lo: number, hi: number) => `velocity_${hzName(lo)}_${hzName(hi)}_rms`;
+
+export const velocity: StageDefinition<VelocityOptions> = {
+  group: 'velocity_bands',
+  columns: (o) => o.ranges.map(([lo, hi]) => ({ name: col(lo, hi), unit: 'mm/s', description: `Velocity RMS in [${lo}, ${hi}) Hz of an acceleration channel, integrated in the frequency domain from the Welch PSD.` })),
+  create(ctx, o) {
+    const s = spectrumOf(ctx, o.spectrum);
+    const factor = TO_M_PER_S2[ctx.unit.trim()];
+    return {
+      push() {},
+      finish() {
+        const out: Record<string, number | null> = Object.fromEntries(o.ranges.map(([lo, hi]) => [col(lo, hi), null]));
+        if (ctx.quantity !== 'acceleration') return out;
+        if (factor === undefined) {
+          ctx.note(`${ctx.name}: unit "${ctx.unit}" is not an acceleration unit quern converts (m/s^2, mm/s^2, g); velocity left empty`);
+          return out;
+        }
+        const psd = s.psd();
+        if (!psd) return out;
+        const { density, df } = psd;
+        for (const [lo, hi] of o.ranges) {
+          if (hi > ctx.sampleRate / 2) { ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz reaches above the Nyquist frequency; left empty`); continue; }
+          let ms = 0;
+          for (let k = 1; k < density.length; k++) {
+            const a = (k - 0.5) * df, b = Math.min((density.length - 1) * df, (k + 0.5) * df);
+            const inside = Math.min(b, hi) - Math.max(a, lo);
+            if (inside <= 0) continue;
+            const w = 2 * Math.PI * k * df;
+            ms += ((density[k] * df * inside) / (b - a)) / (w * w);
+          }
+          out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
+        }
+        return out;
+      },
+    };
+  },
+};

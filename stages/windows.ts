@@ -1,0 +1,35 @@
+// Fixed time windows: mean, RMS and peak per window, into windows.parquet.
+import type { StageDefinition } from './stage.js';
+
+export interface WindowOptions { length_s: number; hop_s: number }
+
+export const WINDOW_COLUMNS = ['window_start_s', 'window_s', 'mean', 'rms', 'peak'] as const;
+
+export const windows: StageDefinition<WindowOptions> = {
+  group: 'windows',
+  columns: () => [],
+  create(ctx, o) {
+    const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));
+    const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
+    const ring = new Float64Array(length);
+    let seen = 0, nextEnd = length;
+    return {
+      push(x) {
+        for (let i = 0; i < x.length; i++) {
+          ring[seen % length] = x[i];
+          seen++;
+          if (seen === nextEnd) {
+            let sum = 0, sq = 0, peak = 0;
+            for (let j = 0; j < length; j++) { const v = ring[j]; sum += v; sq += v * v; if (Math.abs(v) > peak) peak = Math.abs(v); }
+            ctx.addRow('windows', { window_start_s: (seen - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: sum / length, rms: Math.sqrt(sq / length), peak });
+            nextEnd += hop;
+          }
+        }
+      },
+      finish() {
+        if (seen < length) ctx.note(`${ctx.name}: shorter (${(seen / ctx.sampleRate).toFixed(3)} s) than one ${o.length_s} s window; no window rows`);
+        return {};
+      },
+    };
+  },
+};

@@ -1,0 +1,32 @@
+// The test signals of test/fixtures/make-dsp-vectors.py, rebuilt sample for sample.
+
+export function testSignal(n: number, fs: number): Float64Array {
+  return Float64Array.from({ length: n }, (_, i) => {
+    const t = i / fs;
+    return Math.sin(2 * Math.PI * 137.3 * t) + 0.5 * Math.sin(2 * Math.PI * 3100.0 * t + 0.3)
+      + 0.3 * Math.sin(2 * Math.PI * (20.0 * t + 0.5 * 2000.0 * t * t))
+      + 0.2 * (Math.floor(i / 50) % 2 === 0 ? 1 : -1) + 0.7;
+  });
+}
+
+export function amSignal(n: number, fs: number): Float64Array {
+  return Float64Array.from({ length: n }, (_, i) => {
+    const t = i / fs;
+    return (1 + 0.5 * Math.cos(2 * Math.PI * 37.0 * t)) * Math.cos(2 * Math.PI * 2000.0 * t);
+  });
+}
+
+/** Feeds x to push() in chunks of uneven size, as a reader would. */
+export function inChunks(x: Float64Array, push: (c: Float64Array) => void, sizes = [1000, 37, 4096, 1]): void {
+  for (let i = 0, k = 0; i < x.length; k++) {
+    const n = sizes[k % sizes.length];
+    push(x.subarray(i, Math.min(x.length, i + n)));
+    i += n;
+  }
+}
+
+export const maxAbsDiff = (a: ArrayLike<number>, b: ArrayLike<number>) => {
+  let m = 0;
+  for (let i = 0; i < a.length; i++) m = Math.max(m, Math.abs(a[i] - b[i]));
+  return m;
+};
