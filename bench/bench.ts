@@ -1,34 +1,60 @@
-// npm run bench: throughput and peak memory of the reduction on generated archives (a benchmark, not a test).
-import { execFileSync } from 'node:child_process';
+// npm run bench: throughput and peak memory on generated archives, beside a numpy/scipy peer (a benchmark, not a test).
+import { execFileSync, spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { cpus, tmpdir, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { makeBenchArchive } from './generate.js';
+import { BENCH_SCALE, makeBenchArchive } from './generate.js';
+
+interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
 
 const here = dirname(fileURLToPath(import.meta.url));
+const repo = join(here, '..', '..');
 const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
+const say = (s: string) => process.stdout.write(s + '\n');
 
-function measure(archive: string, jobs: number) {
-  const out = execFileSync(process.execPath, [join(here, 'measure.js'), archive, join(work, `out-${jobs}-${Math.random()}`), String(jobs)], { encoding: 'utf8' });
-  return JSON.parse(out.trim().split('\n').pop()!) as { seconds: number; samples: number; peakRssMB: number; failed: number };
+/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone. */
+function quern(archive: string, jobs: number): Measurement {
+  const out = execFileSync(process.execPath, [join(here, 'measure.js'), archive, join(work, `out-${Math.random()}`), String(jobs)], { encoding: 'utf8' });
+  return JSON.parse(out.trim().split('\n').pop()!);
 }
 
-const row = (label: string, m: ReturnType<typeof measure>) =>
-  `${label.padEnd(44)} ${(m.samples / 1e6).toFixed(0).padStart(6)} M samples ${m.seconds.toFixed(2).padStart(8)} s ${(m.samples / m.seconds / 1e6).toFixed(1).padStart(7)} M samples/s ${m.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`;
+/** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
+function peer(archive: string): Measurement | null {
+  const python = ['/usr/bin/python3', 'python3'].find((p) => spawnSync(p, ['-c', 'import scipy'], { stdio: 'ignore' }).status === 0);
+  if (!python) return null;
+  const r = spawnSync(python, [join(repo, 'bench', 'peer.py'), archive, String(BENCH_SCALE)], { encoding: 'utf8' });
+  if (r.status !== 0) { say(`peer failed: ${r.stderr.trim().split('\n').pop()}`); return null; }
+  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+}
+
+const row = (label: string, m: Measurement) =>
+  `  ${label.padEnd(46)} ${(m.samples / 1e6).toFixed(0).padStart(5)} M samples ${m.seconds.toFixed(2).padStart(7)} s ${(m.samples / m.seconds / 1e6).toFixed(2).padStart(7)} M samples/s ${m.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`;
 
 try {
-  process.stdout.write(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}\n`);
-  process.stdout.write('generating archives (16-bit PCM WAV, 4 channels, 25.6 kHz)…\n');
-  const short = join(work, 'short'), long = join(work, 'long'), many = join(work, 'many');
-  makeBenchArchive(short, [{ name: 'short.wav', frames: 2_500_000 }]); //   10 M samples in one recording
-  makeBenchArchive(long, [{ name: 'long.wav', frames: 15_000_000 }]); //    60 M samples in one recording
-  makeBenchArchive(many, Array.from({ length: 8 }, (_, i) => ({ name: `r${i}.wav`, frames: 1_875_000 }))); // 60 M samples in 8 recordings
-  process.stdout.write('statistics pass (default spec)\n');
-  process.stdout.write(row('one recording, 10 M samples, --jobs 1', measure(short, 1)) + '\n');
-  process.stdout.write(row('one recording, 60 M samples, --jobs 1', measure(long, 1)) + '\n');
-  process.stdout.write(row('8 recordings, 60 M samples, --jobs 1', measure(many, 1)) + '\n');
-  process.stdout.write(row(`8 recordings, 60 M samples, --jobs ${cpus().length}`, measure(many, cpus().length)) + '\n');
+  say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
+  say('generating archives (16-bit PCM WAV, 4 channels at 25.6 kHz, declared as accelerometers)…');
+  const statsOnly = 'statistics: {}\n';
+  const short = join(work, 'short'), long = join(work, 'long'), full = join(work, 'full');
+  makeBenchArchive(short, [{ name: 'short.wav', frames: 2_500_000 }], statsOnly); // 10 M samples in one recording
+  makeBenchArchive(long, [{ name: 'long.wav', frames: 15_000_000 }], statsOnly); //  60 M samples in one recording
+  makeBenchArchive(full, Array.from({ length: 8 }, (_, i) => ({ name: `r${i}.wav`, frames: 3_125_000 }))); // 100 M samples, 8 recordings
+
+  say('\nstatistics only: memory does not grow with recording length');
+  say(row('one recording, 10 M samples, --jobs 1', quern(short, 1)));
+  say(row('one recording, 60 M samples, --jobs 1', quern(long, 1)));
+
+  say('\nfull default feature set (schemas/reduction.default.yaml), envelope on every channel');
+  const one = quern(full, 1);
+  say(row('quern, --jobs 1', one));
+  say(row(`quern, --jobs ${cpus().length}`, quern(full, cpus().length)));
+  const p = peer(full);
+  if (p) {
+    say(row(`numpy/scipy peer (scipy ${p.scipy}, whole files)`, p));
+    say(`  quern --jobs 1 runs ${((one.samples / one.seconds) / (p.samples / p.seconds)).toFixed(2)}× the peer's throughput`);
+  } else {
+    say('  (peer skipped: no python3 with scipy; apt-get install python3-scipy)');
+  }
 } finally {
   rmSync(work, { recursive: true, force: true });
 }

@@ -30,9 +30,14 @@ export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 
   closeSync(fd);
 }
 
-/** An archive folder holding the given recordings and a declaration for them. */
-export function makeBenchArchive(dir: string, recordings: { name: string; frames: number; channels?: number }[]): void {
+/** An archive folder holding 4-channel recordings declared as accelerometers (so every feature group applies) and, optionally, a spec. */
+export function makeBenchArchive(dir: string, recordings: { name: string; frames: number }[], spec?: string): void {
   mkdirSync(dir, { recursive: true });
-  for (const r of recordings) writeLongWav(join(dir, r.name), { frames: r.frames, channels: r.channels ?? 4 });
-  writeFileSync(join(dir, 'archive.yaml'), 'groups:\n  - name: bench\n    match: "*.wav"\n    sample_rate: 25600\n');
+  for (const r of recordings) writeLongWav(join(dir, r.name), { frames: r.frames, channels: 4 });
+  const channels = [1, 2, 3, 4].map((i) => `      - { name: acc${i}, quantity: acceleration, unit: m/s^2, scale: ${BENCH_SCALE} }`).join('\n');
+  writeFileSync(join(dir, 'archive.yaml'), `groups:\n  - name: bench\n    match: "*.wav"\n    sample_rate: 25600\n    channels:\n${channels}\n`);
+  if (spec) writeFileSync(join(dir, 'reduction.yaml'), spec);
 }
+
+/** Engineering value of full scale in the bench archives, m/s². */
+export const BENCH_SCALE = 50;

@@ -9,16 +9,20 @@ export const mtvv: StageDefinition<MtvvOptions> = {
   create(ctx, o) {
     const length = Math.max(1, Math.round(o.integration_s * ctx.sampleRate));
     const ring = new Float64Array(length);
-    let seen = 0, sum = 0, max = -1;
+    let seen = 0, at = 0, sum = 0, max = -1;
     return {
       push(x) {
         for (let i = 0; i < x.length; i++) {
-          const at = seen % length, sq = x[i] * x[i];
+          const sq = x[i] * x[i];
           sum += sq - ring[at];
           ring[at] = sq;
           seen++;
-          // Re-add the window exactly once per turn so rounding cannot accumulate.
-          if (at === length - 1) { sum = 0; for (let j = 0; j < length; j++) sum += ring[j]; }
+          if (++at === length) {
+            at = 0;
+            // Re-add the window exactly once per turn so rounding cannot accumulate.
+            sum = 0;
+            for (let j = 0; j < length; j++) sum += ring[j];
+          }
           if (seen >= length && sum > max) max = sum;
         }
       },

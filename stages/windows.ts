@@ -12,15 +12,15 @@ export const windows: StageDefinition<WindowOptions> = {
     const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));
     const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
     const ring = new Float64Array(length);
-    let seen = 0, nextEnd = length;
+    let seen = 0, at = 0, nextEnd = length;
     return {
       push(x) {
         for (let i = 0; i < x.length; i++) {
-          ring[seen % length] = x[i];
-          seen++;
-          if (seen === nextEnd) {
+          ring[at] = x[i];
+          if (++at === length) at = 0;
+          if (++seen === nextEnd) {
             let sum = 0, sq = 0, peak = 0;
-            for (let j = 0; j < length; j++) { const v = ring[j]; sum += v; sq += v * v; if (Math.abs(v) > peak) peak = Math.abs(v); }
+            for (let j = 0; j < length; j++) { const v = ring[j]; sum += v; sq += v * v; const a = v < 0 ? -v : v; if (a > peak) peak = a; }
             ctx.addRow('windows', { window_start_s: (seen - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: sum / length, rms: Math.sqrt(sq / length), peak });
             nextEnd += hop;
           }

@@ -70,7 +70,7 @@ export class StreamingEnvelope {
     this.spec.fill(0, N + 2);
     this.fft.inverseTransform(this.time, this.spec);
     const out = new Float64Array(to - from);
-    for (let i = from; i < to; i++) out[i - from] = Math.hypot(this.time[2 * i], this.time[2 * i + 1]);
+    for (let i = from; i < to; i++) { const re = this.time[2 * i], im = this.time[2 * i + 1]; out[i - from] = Math.sqrt(re * re + im * im); }
     if (n < N) this.buf.fill(0);
     this.emit(out);
   }
