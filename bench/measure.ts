@@ -3,7 +3,7 @@ import { runReduce } from '../pipeline/run.js';
 
 const [archive, out, jobs] = process.argv.slice(2);
 const t0 = performance.now();
-const record = await runReduce({ archive, out, jobs: Number(jobs ?? 1) });
+const { record } = await runReduce({ archive, out, jobs: Number(jobs ?? 1) });
 const seconds = (performance.now() - t0) / 1000;
 const samples = record.recordings.reduce((s, r) => s + r.frames * r.rows, 0);
 // maxRSS covers the whole process, worker threads included (they share it).

@@ -30,8 +30,8 @@ async function main(argv: string[]): Promise<number> {
       .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' }),
     async (a) => {
-      const record = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress: progressFor(process.stderr, { quiet: a.quiet }) });
-      process.stdout.write(summaryText(record) + '\n');
+      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress: progressFor(process.stderr, { quiet: a.quiet }) });
+      process.stdout.write(summaryText(record, quality) + '\n');
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
     })
     .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y

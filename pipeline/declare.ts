@@ -5,6 +5,7 @@ import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { FilterSpec } from '../stages/dsp/butterworth.js';
 import type { WelchOptions } from '../stages/dsp/welch.js';
+import type { QualitySpec } from '../stages/quality/flag.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 import { packageRoot } from './package-files.js';
@@ -29,6 +30,8 @@ export interface GroupDeclaration {
   labels: Record<string, string>;
   layout: RawLayout | null;
   channels: ChannelDeclaration[] | null;
+  /** Expected length of each recording, s, when declared. */
+  duration_s: number | null;
 }
 
 export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }
@@ -73,7 +76,7 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
     return {
       name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
-      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, channels,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, channels, duration_s: g.duration_s ?? null,
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));
@@ -96,6 +99,7 @@ export interface ReductionSpec {
   time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
   mtvv?: { integration_s?: number } & Only;
   envelope?: { filter: FilterSpec } & Only;
+  quality?: QualitySpec;
 }
 type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
 

@@ -20,7 +20,7 @@ function archiveOf(path: string): string | null {
 
 export async function runPeek(file: string, { format = null, sampleRate = null, layout = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
   const path = resolve(file);
-  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, channels: null, labels: {}, spec: {}, chunkFrames: 65536 };
+  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
   let declaredBy: string | null = null;
   const root = archiveOf(path);
   if (root) {
@@ -29,7 +29,7 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     const g = declaration.groups.find((group) => picomatch(group.match)(rel));
     if (g) {
       declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
-      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, channels: g.channels, labels: g.labels };
+      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
   return { result: await reduceRecording(job), declaredBy };

@@ -13,6 +13,7 @@ export interface RecordingJob {
   layout: RawLayout | null;
   channels: ChannelDeclaration[] | null;
   labels: Record<string, string>;
+  durationS: number | null;
   spec: ReductionSpec;
   chunkFrames: number;
 }
@@ -24,7 +25,7 @@ export function plan(recordings: ScannedRecording[], groups: GroupDeclaration[],
     const g = groups[r.group];
     return {
       recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
-      layout: g.layout, channels: g.channels, labels: g.labels, spec, chunkFrames,
+      layout: g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames,
     };
   });
 }

@@ -34,7 +34,7 @@ export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availabl
         r = await pool.run(job);
       } catch (e) {
         // A worker that dies (out of memory, native crash) fails only its own recording.
-        r = { recording: job.recording, group: job.group, status: 'failed', reason: `worker stopped: ${(e as Error).message}`, messages: [], rows: [], tables: {}, frames: 0, sampleRate: null, seconds: 0 };
+        r = { recording: job.recording, group: job.group, status: 'failed', reason: `worker stopped: ${(e as Error).message}`, messages: [], rows: [], tables: {}, quality: [], frames: 0, sampleRate: null, seconds: 0 };
       }
       onResult(r);
       return r;

@@ -5,9 +5,12 @@ import { openRecording } from '../stages/read/open.js';
 import { RecordingError, type Recording } from '../stages/read/recording.js';
 import type { ChannelContext, ColumnValues, Stage } from '../stages/stage.js';
 import type { ChannelDeclaration } from './declare.js';
+import { worst, type Flag, type Severity } from '../stages/quality/flag.js';
 import type { RecordingJob } from './plan.js';
 
 export type FeatureRow = Record<string, string | number | null>;
+
+export interface ChannelQuality { channel: string; unit: string; severity: Severity; flags: Flag[]; evidence?: Record<string, unknown> }
 
 export interface RecordingResult {
   recording: string;
@@ -20,6 +23,8 @@ export interface RecordingResult {
   rows: FeatureRow[];
   /** Rows of secondary tables (windows.parquet…), by table name. */
   tables: Record<string, FeatureRow[]>;
+  /** Quality flags per channel, with the pictures' data for channels that are not ok. */
+  quality: ChannelQuality[];
   frames: number;
   sampleRate: number | null;
   /** How the file stores its samples, once its header was read. */
@@ -68,7 +73,7 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
 
 export async function reduceRecording(job: RecordingJob): Promise<RecordingResult> {
   const t0 = performance.now();
-  const result: RecordingResult = { recording: job.recording, group: job.group, status: 'failed', messages: [], rows: [], tables: {}, frames: 0, sampleRate: null, seconds: 0 };
+  const result: RecordingResult = { recording: job.recording, group: job.group, status: 'failed', messages: [], rows: [], tables: {}, quality: [], frames: 0, sampleRate: null, seconds: 0 };
   let rec: Recording | null = null;
   try {
     const opened = await openForJob(job);
@@ -77,17 +82,26 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
     result.sampleRate = rec.sampleRate;
     result.header = { format: rec.format, encoding: rec.encoding, bits: rec.bits, start_time: rec.startTime?.toISOString() ?? null };
     const stages = activeStages(job.spec);
-    const perChannel = channels.map(({ decl }) => {
+    const quality = channels.map(({ decl }): ChannelQuality & { offers: Map<string, () => unknown> } => ({ channel: decl.name, unit: decl.unit, severity: 'ok', flags: [], offers: new Map() }));
+    const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? rec!.bits;
+      const r = rec!;
       const ctx: ChannelContext = {
-        name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: rec!.sampleRate, range: decl.range, bits,
+        name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
         maxFrequencyHz: decl.max_frequency_hz,
         // One converter step in engineering units: full scale ±1 spans 2^bits codes.
-        stepSize: rec!.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
+        stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
+        // The most negative code is −1 of full scale, the most positive one step short of +1.
+        fullScale: r.normalised && r.bits ? [-1, 1 - 2 ** (1 - r.bits)].map((v) => v * decl.scale + decl.offset).sort((a, b) => a - b) as [number, number] : null,
+        declared: job.channels != null,
+        declaredDurationS: job.durationS,
+        timeSteps: () => r.timeSteps ?? null,
         shared: <T extends Stage>(key: string, make: () => T) => (shared.get(key) ?? shared.set(key, make()).get(key)) as T,
         note: (m) => { if (!result.messages.includes(m)) result.messages.push(m); },
         addRow: (table, row) => (result.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
+        flag: (f) => quality[c].flags.push(f),
+        evidence: (name, make) => quality[c].offers.set(name, make),
       };
       const own = stages.filter((s) => selected(s.only, decl)).map((s) => s.definition.create(ctx, s.options));
       // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
@@ -113,15 +127,21 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
     const blank: ColumnValues = Object.fromEntries(featureColumns(job.spec).map((col) => [col.name, null]));
     result.rows = channels.map(({ decl }, c) => {
       const values: ColumnValues = Object.assign({ ...blank }, ...perChannel[c].map((s) => s.finish()));
+      const q = quality[c];
+      q.severity = worst(q.flags.map((f) => f.severity));
       return {
         recording: job.recording, group: job.group, channel: decl.name, quantity: decl.quantity, unit: decl.unit,
-        sample_rate: rec!.sampleRate, n: result.frames, duration_s: durationS, start_time: startTime, ...job.labels, ...values,
+        sample_rate: rec!.sampleRate, n: result.frames, duration_s: durationS, start_time: startTime, ...job.labels,
+        quality: q.severity, flags: q.flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
       };
     });
+    // Pictures are drawn only for channels that need a second look.
+    result.quality = quality.map(({ offers, ...q }) => (q.severity === 'ok' ? q : { ...q, evidence: Object.fromEntries([...offers].map(([k, make]) => [k, make()])) }));
     result.status = 'reduced';
   } catch (e) {
     result.rows = [];
     result.tables = {};
+    result.quality = [];
     result.reason = e instanceof RecordingError ? e.message : `unexpected error: ${(e as Error).stack ?? e}; please report it with the file`;
     if (!(e instanceof RecordingError) && (e as NodeJS.ErrnoException).code) result.reason = `${(e as Error).message}; check that the file exists and is readable`;
   } finally {

@@ -2,6 +2,7 @@
 import type { LoadedSpec } from './declare.js';
 import { toolVersion } from './package-files.js';
 import type { RecordingResult } from './reduce.js';
+import { qualitySummary, type QualityReport } from './quality.js';
 
 export interface RunRecord {
   tool: 'quern';
@@ -45,7 +46,7 @@ const round = (s: number) => Math.round(s * 1000) / 1000;
 const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => number) => Object.fromEntries(Object.entries(o).map(([k, v]) => [k, fn(v)])) as T;
 
 /** The end-of-run summary a person reads on the terminal. */
-export function summaryText(r: RunRecord): string {
+export function summaryText(r: RunRecord, q: QualityReport): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.scanned} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched.`,
   ];
@@ -53,6 +54,7 @@ export function summaryText(r: RunRecord): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  lines.push(`  table:  ${r.out}/features.parquet`, `  run:    ${r.out}/run.json`);
+  lines.push(...qualitySummary(q));
+  lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet)`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }

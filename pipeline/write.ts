@@ -22,6 +22,12 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
   { name: 'start_time', type: 'timestamp_ms', nullable: true, unit: 'UTC', description: 'Start of the capture (Broadcast Wave bext origination, or CSV date-time); null when unknown.' },
 ];
 
+/** The verdict columns that follow the identity and label columns. */
+export const QUALITY_COLUMNS: TableColumn[] = [
+  { name: 'quality', type: 'string', nullable: false, unit: '', description: 'Worst severity of the channel\'s flags: ok, warn or fail.' },
+  { name: 'flags', type: 'string', nullable: false, unit: '', description: 'Comma-separated names of the flags that are not ok.' },
+];
+
 /** windows.parquet: one row per recording × channel × window. */
 export const WINDOW_TABLE: TableColumn[] = [
   { name: 'recording', type: 'string', nullable: false, unit: '', description: 'Path of the recording relative to the archive root.' },

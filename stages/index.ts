@@ -12,6 +12,17 @@ import { statistics } from './stats.js';
 import { timeWeighting } from './time-weighting.js';
 import { velocity } from './velocity.js';
 import { windows } from './windows.js';
+import { aliasing } from './quality/aliasing.js';
+import { declaration } from './quality/declaration.js';
+import { dropout } from './quality/dropout.js';
+import { evidence } from './quality/evidence.js';
+import { flatline } from './quality/flatline.js';
+import { thresholdsOf } from './quality/flag.js';
+import { offset } from './quality/offset.js';
+import { peakCapture } from './quality/peak-capture.js';
+import { resolution } from './quality/resolution.js';
+import { saturation } from './quality/saturation.js';
+import { spikes } from './quality/spikes.js';
 
 export interface ActiveStage { definition: StageDefinition<any>; options: any; only: ChannelSelector | undefined }
 
@@ -19,7 +30,7 @@ type Ranges = [number, number][];
 const rangesOf = (v: Ranges | { ranges: Ranges } | undefined): Ranges => (Array.isArray(v) ? v : v?.ranges ?? []);
 const onlyOf = (v: unknown): ChannelSelector | undefined => (v && !Array.isArray(v) && typeof v === 'object' ? (v as { only?: ChannelSelector }).only : undefined);
 
-/** The stages a spec asks for: a section present turns its group on; statistics always run. */
+/** The stages a spec asks for: a section present turns its group on; statistics and quality flags always run. */
 export function activeStages(spec: ReductionSpec): ActiveStage[] {
   const welch: WelchOptions = { ...DEFAULT_SPECTRUM, ...(spec.spectrum ?? {}) };
   delete (welch as { only?: unknown }).only;
@@ -41,8 +52,16 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
     const filter: FilterSpec = { zero_phase: false, ...spec.envelope.filter };
     out.push({ definition: envelope, options: { filter, spectrum: welch }, only: spec.envelope.only });
   }
+  // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
+  const q = { ...thresholdsOf(spec.quality), spectrum: welch };
+  for (const definition of [saturation, aliasing, resolution, peakCapture, flatline, dropout, offset, spikes, declaration, evidence]) {
+    out.push({ definition, options: q, only: undefined });
+  }
   return out;
 }
+
+/** Flag names in report order. */
+export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'dropout', 'offset', 'spikes', 'declaration'] as const;
 
 export function featureColumns(spec: ReductionSpec): ColumnSpec[] {
   return activeStages(spec).flatMap((s) => s.definition.columns(s.options));

@@ -1,4 +1,5 @@
 // The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
+import type { Flag } from './quality/flag.js';
 
 /** What a stage knows about the channel it reduces, in engineering units. */
 export interface ChannelContext {
@@ -14,6 +15,18 @@ export interface ChannelContext {
   maxFrequencyHz: number | null;
   /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
   stepSize: number | null;
+  /** Engineering values of the converter's most negative and most positive codes (integer formats), else null. */
+  fullScale: [number, number] | null;
+  /** Whether the channel was declared in archive.yaml (else it is in stored units). */
+  declared: boolean;
+  /** Declared duration of the recording, s, if any. */
+  declaredDurationS: number | null;
+  /** Irregular steps of a time column, known once the recording has been read; null for files without one. */
+  timeSteps(): { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number } | null;
+  /** Raises a quality flag for this channel. */
+  flag(f: Flag): void;
+  /** Offers pictures' data for the quality report; asked for only when the channel is not ok. */
+  evidence(name: string, make: () => unknown): void;
   /** A product several stages of this channel read (the Welch spectrum…): made once, fed each chunk once, before the stages. */
   shared<T extends Stage>(key: string, make: () => T): T;
   /** Records a finding about this channel; it goes to run.json with the recording. */

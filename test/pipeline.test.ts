@@ -106,7 +106,7 @@ describe('quern reduce on the sample archive', () => {
   });
 
   it('leaves no temporary files behind', () => {
-    expect(readdirSync(out).sort()).toEqual(['features.parquet', 'run.json', 'windows.parquet']);
+    expect(readdirSync(out).sort()).toEqual(['features.parquet', 'quality.html', 'quality.json', 'run.json', 'windows.parquet']);
   });
 });
 

@@ -9,8 +9,8 @@ import { repo, sampleArchiveCopy, tempDir } from './helpers.js';
 describe('runReduce', () => {
   it('gives identical tables with one worker and with two', async () => {
     const archive = sampleArchiveCopy();
-    const one = await runReduce({ archive, out: join(archive, '..', 'one'), jobs: 1 });
-    const two = await runReduce({ archive, out: join(archive, '..', 'two'), jobs: 2 });
+    const { record: one } = await runReduce({ archive, out: join(archive, '..', 'one'), jobs: 1 });
+    const { record: two } = await runReduce({ archive, out: join(archive, '..', 'two'), jobs: 2 });
     expect(one.counts).toEqual(two.counts);
     const strip = (r: typeof one) => r.recordings.map(({ seconds, ...rest }) => rest);
     expect(strip(one)).toEqual(strip(two));

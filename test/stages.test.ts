@@ -14,7 +14,7 @@ const channel = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration => 
 async function reduce(signal: Float64Array, fs: number, spec: ReductionSpec, decl = channel()) {
   const path = join(tempDir(), 'x.wav');
   writeFileSync(path, encodeWav({ sampleRate: fs, channels: [signal.map((v) => v / decl.scale)], encoding: 'float32' }));
-  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, spec, chunkFrames: 8191 });
+  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec, chunkFrames: 8191 });
   expect(r.reason).toBeUndefined();
   return { row: r.rows[0] as Record<string, number>, result: r };
 }

@@ -4,7 +4,7 @@ import { chunkMoments, combineMoments, describe as describeMoments, emptyMoments
 import { statistics } from '../stages/stats.js';
 import type { ChannelContext } from '../stages/stage.js';
 
-const ctx: ChannelContext = { name: 'x', quantity: 'q', unit: 'u', sampleRate: 1000, range: null, bits: null, maxFrequencyHz: null, stepSize: null, shared: (_k, make) => make(), note: () => {}, addRow: () => {} };
+const ctx: ChannelContext = { name: 'x', quantity: 'q', unit: 'u', sampleRate: 1000, range: null, bits: null, maxFrequencyHz: null, stepSize: null, shared: (_k, make) => make(), note: () => {}, addRow: () => {}, fullScale: null, declared: true, declaredDurationS: null, timeSteps: () => null, flag: () => {}, evidence: () => {} };
 
 /** Feeds a signal through the statistics stage in uneven chunks, as the pipeline would. */
 function stats(x: Float64Array, chunk = 1000) {

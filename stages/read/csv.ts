@@ -131,13 +131,15 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     } finally {
       lineReader.close();
     }
+    if (timeColumn === 0) Object.assign(recording, { timeSteps: { irregular, widest_s: widest, widest_at_s: widestAt, nominal_s: timeStep } });
     if (irregular > 0) {
       notes.push(`time steps irregular: ${irregular} of ${row - 1} steps differ from the nominal ${(timeStep * 1e3).toPrecision(4)} ms; the widest is ${(widest * 1e3).toPrecision(4)} ms, ending at t = ${widestAt} s; samples were taken as evenly spaced`);
     }
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
   }
-  return {
+  const recording: Recording = {
     format: 'csv', channelCount: channelNames.length, sampleRate, frames: null, encoding: decimalComma ? 'text (decimal comma)' : 'text',
     bits: null, normalised: false, startTime, channelNames, notes, chunks, close: async () => {},
   };
+  return recording;
 }

@@ -22,6 +22,8 @@ export interface Recording {
   chunks(): AsyncGenerator<Float64Array[]>;
   /** Findings made while reading (irregular time steps…), complete once chunks() has ended. */
   notes: string[];
+  /** For files with a time column: its irregular steps, complete once chunks() has ended. */
+  timeSteps?: { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number };
   close(): Promise<void>;
 }
 

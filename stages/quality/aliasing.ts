@@ -1,0 +1,51 @@
+// Aliasing: the declared highest frequency against the sample rate (sampling theorem), and power crowding the top of the band.
+import { spectrumOf } from '../spectrum.js';
+import { bandMeanSquare, type WelchOptions } from '../dsp/welch.js';
+import type { StageDefinition } from '../stage.js';
+import { pct, type QualityThresholds, type Severity } from './flag.js';
+
+/** Where a tone at f lands when sampled at fs: |f − k·fs| for the nearest whole k (sampling theorem). */
+export const aliasOf = (f: number, fs: number) => Math.abs(f - Math.round(f / fs) * fs);
+
+export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOptions }> = {
+  group: 'quality',
+  columns: () => [
+    { name: 'alias_margin', unit: '1', description: 'Sample rate / declared highest frequency (2 is the sampling-theorem limit, 2.56 common practice).' },
+    { name: 'alias_frequency_hz', unit: 'Hz', description: 'Where the declared highest frequency lands when sampled: |f − k·fs|.' },
+    { name: 'top_band_power_fraction', unit: '1', description: 'Share of the signal power in the top of the band below Nyquist (top 10 % by default).' },
+  ],
+  create(ctx, q) {
+    const s = spectrumOf(ctx, q.spectrum);
+    return {
+      push() {},
+      finish() {
+        const fs = ctx.sampleRate, f = ctx.maxFrequencyHz, a = q.aliasing;
+        const psd = s.psd();
+        const total = psd ? bandMeanSquare(psd, 0, fs / 2) : 0;
+        const top = psd && total > 0 ? bandMeanSquare(psd, (1 - a.top_band) * fs / 2, fs / 2) / total : null;
+        let severity: Severity = 'ok', message: string;
+        const margin = f ? fs / f : null;
+        const alias = f ? aliasOf(f, fs) : null;
+        if (f && f >= fs / 2) {
+          severity = 'fail';
+          message = `declared content up to ${f} Hz but sampled at ${fs} Hz (Nyquist ${fs / 2} Hz): a ${f} Hz component appears at ${Number(alias!.toPrecision(6))} Hz; the capture cannot represent its content: resample at ${a.recommended_ratio} × ${f} = ${a.recommended_ratio * f} Hz or more`;
+        } else if (f && fs < a.recommended_ratio * f) {
+          severity = 'warn';
+          message = `sampled at ${(fs / f).toFixed(2)} × the declared ${f} Hz, less than the ${a.recommended_ratio} × common practice leaves for the anti-alias filter: content near ${f} Hz may be attenuated or folded`;
+        } else if (top != null && top > a.top_band_warn_fraction) {
+          severity = 'warn';
+          message = `${pct(top)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz): content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
+        } else {
+          message = f ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz` : 'no highest frequency declared; top of the band is quiet';
+        }
+        ctx.flag({
+          name: 'aliasing', severity, value: margin,
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: fs < ${a.recommended_ratio} × it, or > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band`,
+          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top },
+          message,
+        });
+        return { alias_margin: margin, alias_frequency_hz: alias, top_band_power_fraction: top };
+      },
+    };
+  },
+};

@@ -1,0 +1,50 @@
+// Dropout: missing values, stretches of exact zeros, gaps in a time column.
+import type { StageDefinition } from '../stage.js';
+import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+
+export const dropout: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [
+    { name: 'missing_fraction', unit: '1', description: 'Fraction of samples missing or not finite.' },
+    { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros.' },
+  ],
+  create(ctx, q) {
+    let n = 0, missing = 0, firstMissing = -1, run = 0, longest = 0, longestEnd = 0;
+    return {
+      push(x) {
+        for (let i = 0; i < x.length; i++, n++) {
+          const v = x[i];
+          if (!Number.isFinite(v)) { if (missing++ === 0) firstMissing = n; }
+          if (v === 0) { if (++run > longest) { longest = run; longestEnd = n; } } else run = 0;
+        }
+      },
+      finish() {
+        const fs = ctx.sampleRate, d = q.dropout;
+        const fraction = n ? missing / n : 0;
+        const zeroS = longest / fs;
+        const steps = ctx.timeSteps();
+        const problems: string[] = [];
+        let severity: Severity = 'ok';
+        if (missing > 0) {
+          problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}`);
+          severity = fraction >= d.fail_missing_fraction ? 'fail' : 'warn';
+        }
+        if (zeroS >= d.warn_zero_run_s) {
+          problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
+          if (severity === 'ok') severity = 'warn';
+        }
+        if (steps && steps.irregular > 0) {
+          problems.push(`${steps.irregular} irregular time steps, the widest ${secs(steps.widest_s)} (nominal ${secs(steps.nominal_s)}) ending at t = ${secs(steps.widest_at_s)}`);
+          if (severity === 'ok') severity = 'warn';
+        }
+        ctx.flag({
+          name: 'dropout', severity, value: fraction,
+          threshold: `warn: any missing sample, zeros for ≥ ${secs(d.warn_zero_run_s)}, or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
+          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
+          message: problems.length ? `${problems.join('; ')}: the logger lost data; figures cover what is left` : 'no missing samples, zero stretches or time gaps',
+        });
+        return { missing_fraction: fraction, zero_run_s: zeroS };
+      },
+    };
+  },
+};

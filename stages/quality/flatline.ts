@@ -1,0 +1,43 @@
+// Flatline: a dead or disconnected sensor: a spread of a few converter steps at most, or long constant stretches.
+import type { StageDefinition } from '../stage.js';
+import { secs, type QualityThresholds, type Severity } from './flag.js';
+
+export const flatline: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [{ name: 'flatline_run_s', unit: 's', description: 'Longest stretch of exactly repeated values.' }],
+  create(ctx, q) {
+    let n = 0, min = Infinity, max = -Infinity, prev = NaN, run = 0, longest = 0, longestEnd = 0;
+    return {
+      push(x) {
+        for (let i = 0; i < x.length; i++, n++) {
+          const v = x[i];
+          if (v < min) min = v;
+          if (v > max) max = v;
+          if (v === prev) { if (++run > longest) { longest = run; longestEnd = n; } } else run = 0;
+          prev = v;
+        }
+      },
+      finish() {
+        const fs = ctx.sampleRate, step = ctx.stepSize;
+        const spread = n ? max - min : 0;
+        const runS = (longest + (longest ? 1 : 0)) / fs;
+        const deadLimit = step != null ? q.flatline.fail_steps * step : 0;
+        let severity: Severity = 'ok', message = `spread ${spread.toPrecision(4)} ${ctx.unit}; longest constant stretch ${secs(runS)}`;
+        if (n > 0 && spread <= deadLimit) {
+          severity = 'fail';
+          message = `the channel hardly moves (spread ${spread.toPrecision(3)} ${ctx.unit}${step != null ? `, ${Math.round(spread / step)} converter steps` : ''}): a dead or disconnected sensor; check the sensor, cable and supply before trusting any figure`;
+        } else if (runS >= q.flatline.warn_run_s) {
+          severity = 'warn';
+          message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter?`;
+        }
+        ctx.flag({
+          name: 'flatline', severity, value: runS,
+          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn: constant for ≥ ${secs(q.flatline.warn_run_s)}`,
+          evidence: { spread, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
+          message,
+        });
+        return { flatline_run_s: runS };
+      },
+    };
+  },
+};

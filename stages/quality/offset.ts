@@ -1,0 +1,47 @@
+// Offset: a mean far from zero, in units of the spread, for quantities that should have none, and drift of 1 s window means.
+import type { StageDefinition } from '../stage.js';
+import type { QualityThresholds, Severity } from './flag.js';
+
+export const offset: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [
+    { name: 'offset_ratio', unit: '1', description: '|mean| / std, for quantities that carry no DC.' },
+    { name: 'drift_ratio', unit: '1', description: '(largest − smallest 1 s window mean) / std.' },
+  ],
+  create(ctx, q) {
+    const applies = q.offset.quantities.includes(ctx.quantity);
+    const win = Math.max(1, Math.round(ctx.sampleRate));
+    let n = 0, sum = 0, sq = 0, wsum = 0, wn = 0, wmin = Infinity, wmax = -Infinity;
+    return {
+      push(x) {
+        if (!applies) return;
+        for (let i = 0; i < x.length; i++) {
+          const v = x[i];
+          if (!Number.isFinite(v)) continue;
+          n++; sum += v; sq += v * v; wsum += v;
+          if (++wn === win) { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; wsum = 0; wn = 0; }
+        }
+      },
+      finish() {
+        const threshold = `warn: |mean| > ${q.offset.warn_ratio}·std or window means drifting > ${q.offset.warn_drift_ratio}·std (quantities ${q.offset.quantities.join(', ')})`;
+        if (!applies || n === 0) {
+          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"` });
+          return { offset_ratio: null, drift_ratio: null };
+        }
+        const mean = sum / n, std = Math.sqrt(Math.max(0, sq / n - mean * mean));
+        const ratio = std > 0 ? Math.abs(mean) / std : null;
+        const drift = std > 0 && wmax >= wmin ? (wmax - wmin) / std : null;
+        const issues: string[] = [];
+        if (ratio != null && ratio > q.offset.warn_ratio) issues.push(`mean ${mean.toPrecision(3)} ${ctx.unit} is ${ratio.toFixed(2)} standard deviations from zero`);
+        if (drift != null && drift > q.offset.warn_drift_ratio) issues.push(`1 s means drift over ${(wmax - wmin).toPrecision(3)} ${ctx.unit} (${drift.toFixed(2)} standard deviations)`);
+        const severity: Severity = issues.length ? 'warn' : 'ok';
+        ctx.flag({
+          name: 'offset', severity, value: ratio, threshold,
+          evidence: { mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null },
+          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none; check the sensor's bias, the coupling (AC/DC) and thermal drift` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
+        });
+        return { offset_ratio: ratio, drift_ratio: drift };
+      },
+    };
+  },
+};

@@ -1,0 +1,40 @@
+// Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
+import { chunkMoments, combineMoments, emptyMoments } from '../dsp/moments.js';
+import type { StageDefinition } from '../stage.js';
+import type { QualityThresholds, Severity } from './flag.js';
+
+/** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
+export const quantisationNoise = (step: number) => step / Math.sqrt(12);
+
+export const resolution: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [
+    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one converter step.' },
+    { name: 'resolution_bits', unit: 'bit', description: 'log2 of the steps the signal spans (peak to peak / step).' },
+    { name: 'quantisation_snr_db', unit: 'dB', description: '20·log10(std / (step/√12)): signal against ideal quantisation noise.' },
+  ],
+  create(ctx, q) {
+    let m = emptyMoments();
+    return {
+      push(x) { m = combineMoments(m, chunkMoments(x)); },
+      finish() {
+        const step = ctx.stepSize;
+        const threshold = `warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
+        const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
+        if (step == null || m.n === 0 || std === 0) {
+          ctx.flag({ name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: step == null ? 'not assessed: converter step unknown (declare bits for the channel)' : 'not assessed: the signal does not vary (see flatline)' });
+          return { step_size: step, resolution_bits: null, quantisation_snr_db: null };
+        }
+        const bits = Math.log2(Math.max(1, (m.max - m.min) / step));
+        const snr = 20 * Math.log10(std / quantisationNoise(step));
+        const severity: Severity = snr < q.resolution.fail_snr_db ? 'fail' : snr < q.resolution.warn_snr_db ? 'warn' : 'ok';
+        ctx.flag({
+          name: 'resolution', severity, value: snr, threshold,
+          evidence: { step_size: step, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
+          message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits), ${snr.toFixed(1)} dB above ideal quantisation noise${severity === 'ok' ? '' : ': too coarse; use a smaller range or a finer converter'}`,
+        });
+        return { step_size: step, resolution_bits: bits, quantisation_snr_db: snr };
+      },
+    };
+  },
+};

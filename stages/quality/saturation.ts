@@ -1,0 +1,45 @@
+// Saturation: samples at or beyond the instrument range, or piled on the converter's extreme codes when no range is declared.
+import type { StageDefinition } from '../stage.js';
+import { pct, secs, type QualityThresholds } from './flag.js';
+
+export const saturation: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [{ name: 'saturation_fraction', unit: '1', description: 'Fraction of samples at or beyond the instrument range (or on the extreme converter codes when no range is declared).' }],
+  create(ctx, q) {
+    // Half a converter step of tolerance: a clipped 16-bit channel tops out one step below its nominal full scale.
+    const tol = ctx.stepSize != null ? ctx.stepSize / 2 : 0;
+    const limits = ctx.range ?? ctx.fullScale;
+    const [lo, hi] = limits ? [limits[0] + tol, limits[1] - tol] : [-Infinity, Infinity];
+    let n = 0, count = 0, run = 0, longest = 0, longestEnd = 0, first = -1;
+    return {
+      push(x) {
+        for (let i = 0; i < x.length; i++, n++) {
+          const v = x[i];
+          if (v >= hi || v <= lo) {
+            count++;
+            if (first < 0) first = n;
+            if (++run > longest) { longest = run; longestEnd = n; }
+          } else run = 0;
+        }
+      },
+      finish() {
+        const source = ctx.range ? `instrument range [${ctx.range.join(', ')}] ${ctx.unit}` : 'extreme converter codes';
+        const threshold = `warn: any sample; fail: ≥ ${pct(q.saturation.fail_fraction)} of samples or ${q.saturation.fail_run} in a row`;
+        if (!limits) {
+          ctx.flag({ name: 'saturation', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: no instrument range declared and no converter full scale known; declare range in archive.yaml' });
+          return { saturation_fraction: null };
+        }
+        const fraction = n ? count / n : 0;
+        const severity = count === 0 ? 'ok' : fraction >= q.saturation.fail_fraction || longest >= q.saturation.fail_run ? 'fail' : 'warn';
+        const rate = ctx.sampleRate;
+        ctx.flag({
+          name: 'saturation', severity, value: fraction, threshold,
+          evidence: { samples: count, first_s: first >= 0 ? first / rate : null, longest_run: longest, longest_run_at_s: longest ? (longestEnd - longest + 1) / rate : null },
+          message: count === 0 ? `no sample at the ${source}`
+            : `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}: clipped data says nothing about the input beyond the range; retake the measurement with a larger range`,
+        });
+        return { saturation_fraction: fraction };
+      },
+    };
+  },
+};

@@ -1,0 +1,163 @@
+// Data-quality flags against textbook facts and standards, and the planted defects of the sample archive.
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import type { ChannelDeclaration, ReductionSpec } from '../pipeline/declare.js';
+import { reduceRecording } from '../pipeline/reduce.js';
+import { encodeWav } from '../scripts/wav-file.js';
+import { aliasOf } from '../stages/quality/aliasing.js';
+import type { Flag } from '../stages/quality/flag.js';
+import { peakUnderestimate } from '../stages/quality/peak-capture.js';
+import { quantisationNoise } from '../stages/quality/resolution.js';
+import { tempDir } from './helpers.js';
+
+const channel = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration => ({ name: 'x', quantity: 'voltage', unit: 'V', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null, ...over });
+
+/** Reduces one signal through the real path; `pcm16` stores it as 16-bit codes (values in ±1 of full scale × scale). */
+async function flagsOf(signal: Float64Array, fs: number, decl = channel(), { pcm16 = false, spec = {} as ReductionSpec, csv = null as string | null } = {}) {
+  const path = join(tempDir(), csv ? 'x.csv' : 'x.wav');
+  if (csv) writeFileSync(path, csv);
+  else writeFileSync(path, encodeWav({ sampleRate: fs, channels: [signal.map((v) => (v - decl.offset) / decl.scale)], encoding: pcm16 ? 'pcm16' : 'float32' }));
+  const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: csv ? null : null, layout: null, channels: [decl], labels: {}, durationS: null, spec, chunkFrames: 4096 });
+  expect(r.reason).toBeUndefined();
+  const q = r.quality[0];
+  const flag = (name: string) => q.flags.find((f) => f.name === name) as Flag;
+  return { row: r.rows[0] as Record<string, any>, flag, severity: q.severity, result: r };
+}
+
+describe('saturation', () => {
+  it('a 0–3 V quantiser with integer steps reads 3 for 3.5, 4.5 and 5.5 V: those samples are saturated (common practice)', async () => {
+    const quantise = (v: number) => Math.min(3, Math.max(0, Math.round(v)));
+    const inputs = [0.6, 1.1, 2.4, 3.5, 4.5, 5.5, 2.0, 0.9, 1.6, 2.2];
+    const { flag, row } = await flagsOf(Float64Array.from(inputs.map(quantise)), 10, channel({ range: [0, 3] }));
+    expect(flag('saturation').evidence.samples).toBe(3);
+    expect(flag('saturation').severity).toBe('fail'); // three in a row is a flat top
+    expect(flag('saturation').message).toMatch(/retake the measurement with a larger range/);
+    expect(row.saturation_fraction).toBeCloseTo(0.3, 12);
+  });
+
+  it('without a declared range, samples piled on the extreme 16-bit codes count; one stray touch only warns', async () => {
+    const x = Float64Array.from({ length: 20000 }, (_, i) => 5 * Math.sin(i / 10));
+    x[5000] = 10; // one sample at the most positive code (clipped to 32767/32768 of full scale)
+    const { flag } = await flagsOf(x, 1000, channel(), { pcm16: true });
+    expect(flag('saturation').evidence.samples).toBe(1);
+    expect(flag('saturation').severity).toBe('warn');
+  });
+});
+
+describe('aliasing (sampling theorem)', () => {
+  it('a 10 Hz tone sampled at 12 Hz appears at |10 − 12| = 2 Hz: declared 10 Hz content at 12 Hz sampling fails, reporting 2 Hz', async () => {
+    expect(aliasOf(10, 12)).toBe(2);
+    const x = Float64Array.from({ length: 120 }, (_, i) => Math.sin(2 * Math.PI * 10 * i / 12));
+    const { flag, row } = await flagsOf(x, 12, channel({ max_frequency_hz: 10 }));
+    expect(flag('aliasing').severity).toBe('fail');
+    expect(row.alias_frequency_hz).toBe(2);
+    expect(flag('aliasing').message).toMatch(/appears at 2 Hz/);
+    // The samples really are those of a 2 Hz tone (with inverted phase): sin(2π·10·n/12) = −sin(2π·2·n/12).
+    x.forEach((v, n) => expect(v).toBeCloseTo(-Math.sin(2 * Math.PI * 2 * n / 12), 9));
+  });
+
+  it('warns below 2.56 × the declared highest frequency (common practice), passes at or above it', async () => {
+    const x = Float64Array.from({ length: 4096 }, (_, i) => Math.sin(i / 7));
+    expect((await flagsOf(x, 2000, channel({ max_frequency_hz: 900 }))).flag('aliasing').severity).toBe('warn');
+    expect((await flagsOf(x, 2560, channel({ max_frequency_hz: 1000 }))).flag('aliasing').severity).toBe('ok');
+  });
+
+  it('warns when power crowds the top of the band below Nyquist', async () => {
+    const fs = 1000;
+    const x = Float64Array.from({ length: 40000 }, (_, i) => Math.sin(2 * Math.PI * 480 * i / fs) + 0.5 * Math.sin(2 * Math.PI * 50 * i / fs));
+    const { flag } = await flagsOf(x, fs);
+    expect(flag('aliasing').severity).toBe('warn');
+    expect(flag('aliasing').message).toMatch(/may have folded/);
+  });
+});
+
+describe('peak capture', () => {
+  it('at 10 samples per cycle a sampled sine can miss its peak by 1 − cos(π/10) ≈ 4.9 % (derived from the sampling)', () => {
+    expect(peakUnderestimate(10)).toBeCloseTo(1 - Math.cos(Math.PI / 10), 15);
+    expect(peakUnderestimate(10)).toBeCloseTo(0.0489, 4);
+    // Worst phase: the peak falls midway between two samples.
+    const samples = Array.from({ length: 10 }, (_, n) => Math.cos(2 * Math.PI * (n + 0.5) / 10));
+    expect(1 - Math.max(...samples)).toBeCloseTo(peakUnderestimate(10), 12);
+  });
+
+  it('warns below ten samples per cycle at the declared highest frequency, reporting the worst-case underestimate', async () => {
+    const x = Float64Array.from({ length: 1000 }, (_, i) => Math.sin(i / 3));
+    const low = await flagsOf(x, 1000, channel({ max_frequency_hz: 200 }));
+    expect(low.flag('peak_capture').severity).toBe('warn');
+    expect(low.row.samples_per_cycle).toBe(5);
+    expect(low.row.peak_underestimate).toBeCloseTo(1 - Math.cos(Math.PI / 5), 12);
+    expect((await flagsOf(x, 1000, channel({ max_frequency_hz: 100 }))).flag('peak_capture').severity).toBe('ok');
+  });
+});
+
+describe('resolution (IEEE Std 1241)', () => {
+  it('ideal quantisation noise is LSB/√12: rounding a slow ramp leaves an error of that RMS', () => {
+    const q = 0.01;
+    const x = Array.from({ length: 200_000 }, (_, i) => i * 1.2345e-5);
+    const err = x.map((v) => Math.round(v / q) * q - v);
+    const rms = Math.sqrt(err.reduce((a, b) => a + b * b, 0) / err.length);
+    expect(rms / quantisationNoise(q)).toBeCloseTo(1, 2);
+  });
+
+  it.each([[16], [12], [8]])('a full-scale sine on an ideal %i-bit converter has SNR 6.02·N + 1.76 dB', async (bits) => {
+    const N = bits, fs = 10000, full = 2 ** (N - 1);
+    // A full-scale sine, quantised to N bits, stored as 16-bit codes (the declared converter has N bits).
+    const x = Float64Array.from({ length: fs * 4 }, (_, i) => (Math.round((full - 1) * Math.sin(2 * Math.PI * 97.3 * i / fs)) / full));
+    const { row, flag } = await flagsOf(x.map((v) => v * 10), fs, channel({ bits: N }), { pcm16: true });
+    // Our figure uses the ideal step noise, so it equals the textbook value for the signal's RMS: 20·log10((A/√2)/(q/√12)).
+    expect(row.quantisation_snr_db).toBeCloseTo(6.0206 * N + 1.7609 + 20 * Math.log10((full - 1) / full), 1);
+    expect(flag('resolution').severity).toBe('ok');
+    expect(row.step_size).toBeCloseTo(10 / full, 12);
+  });
+
+  it('a signal spanning a few steps is too coarse', async () => {
+    const x = Float64Array.from({ length: 8000 }, (_, i) => Math.round(3 * Math.sin(i / 5)) / 32768 * 10);
+    const { flag, row } = await flagsOf(x, 1000, channel({ bits: 16 }), { pcm16: true });
+    expect(row.resolution_bits).toBeCloseTo(Math.log2(6), 9);
+    expect(flag('resolution').severity).toBe('fail');
+  });
+});
+
+describe('flatline, dropout, offset, spikes, declaration', () => {
+  it('a channel sitting on one code is a dead sensor (fail)', async () => {
+    const { flag } = await flagsOf(new Float64Array(5000).fill(2.5), 1000, channel({ bits: 16 }), { pcm16: true });
+    expect(flag('flatline').severity).toBe('fail');
+    expect(flag('flatline').message).toMatch(/dead or disconnected sensor/);
+  });
+
+  it('missing CSV cells and a time gap are dropouts', async () => {
+    const rows = Array.from({ length: 400 }, (_, i) => `${(i < 200 ? i : i + 50) / 100},${i % 150 === 5 ? '' : Math.sin(i)}`);
+    const { flag, row } = await flagsOf(new Float64Array(0), 100, channel({ scale: 1 }), { csv: ['time,x', ...rows].join('\n') });
+    expect(flag('dropout').severity).toBe('warn');
+    expect(row.missing_fraction).toBeCloseTo(3 / 400, 12);
+    expect(flag('dropout').message).toMatch(/1 irregular time steps, the widest 0\.51 s/);
+  });
+
+  it('an accelerometer whose mean sits several standard deviations from zero warns; a voltage does not', async () => {
+    const x = Float64Array.from({ length: 10000 }, (_, i) => 3 + Math.sin(i / 3));
+    expect((await flagsOf(x, 1000, channel({ quantity: 'acceleration', unit: 'm/s^2' }))).flag('offset').severity).toBe('warn');
+    expect((await flagsOf(x, 1000, channel())).flag('offset').severity).toBe('ok');
+  });
+
+  it('counts isolated spikes in noise, but not a ringing impact (Hampel: 1.4826 × MAD)', async () => {
+    let seed = 1;
+    const rnd = () => ((seed = (seed * 16807) % 2147483647) / 2147483647) - 0.5;
+    const x = Float64Array.from({ length: 50000 }, () => rnd());
+    for (const at of [1000, 20000, 33333]) x[at] = 8;
+    for (let i = 0; i < 60; i++) x[40000 + i] += 9 * Math.exp(-i / 15) * Math.sin(2 * Math.PI * i / 3.7); // a ringing impact
+    const { row, flag } = await flagsOf(x, 10000, channel());
+    expect(row.spike_count).toBe(3);
+    expect(flag('spikes').evidence.first_s).toBeCloseTo(0.1, 12);
+  });
+
+  it('an undeclared channel and a duration off its declaration are noted', async () => {
+    const path = join(tempDir(), 'y.wav');
+    writeFileSync(path, encodeWav({ sampleRate: 100, channels: [new Float64Array(500).map((_, i) => Math.sin(i))] }));
+    const r = await reduceRecording({ recording: 'y', path, group: 'g', format: null, sampleRate: null, layout: null, channels: null, labels: {}, durationS: 10, spec: {}, chunkFrames: 64 });
+    const f = r.quality[0].flags.find((x) => x.name === 'declaration')!;
+    expect(f.severity).toBe('warn');
+    expect(f.message).toMatch(/not declared/);
+    expect(f.message).toMatch(/lasts 5 s but 10 s is declared/);
+  });
+});

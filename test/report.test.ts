@@ -1,0 +1,81 @@
+// The quality report: planted defects flagged right, quality.json valid against its schema, quality.html rendered by a real browser.
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { Ajv } from 'ajv';
+import formats from 'ajv-formats';
+
+const addFormats = formats as unknown as (ajv: Ajv) => Ajv;
+import { chromium } from 'playwright-core';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
+
+const CHROMIUM = '/usr/bin/chromium';
+
+describe('quality report of the sample archive', () => {
+  let out = '', quality: any, stdout = '';
+  beforeAll(() => {
+    const archive = sampleArchiveCopy();
+    out = join(archive, '..', 'out');
+    stdout = quern('reduce', archive, '--out', out, '--quiet').stdout;
+    quality = readJson(join(out, 'quality.json'));
+  });
+
+  it('flags every planted defect with the right flag and severity, and fails no clean channel', () => {
+    const failing = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'fail').map((c: any) => ({
+      at: `${r.recording} ${c.channel}`, flags: c.flags.filter((f: any) => f.severity === 'fail').map((f: any) => f.name),
+    })));
+    expect(failing).toEqual([
+      { at: 'nightly/2026-11-19/pump-endurance.wav acc_de', flags: ['saturation'] }, // clipped at the instrument range
+      { at: 'nightly/2026-11-21/pump-endurance.wav pressure', flags: ['flatline'] }, // disconnected transducer
+      { at: 'quicklook/2026-11-18_quicklook.wav acc_de', flags: ['aliasing'] }, // 2 kHz sampling of 5 kHz content
+    ]);
+    const truncated = quality.recordings.find((r: any) => r.recording === 'nightly/2026-11-22/pump-endurance.wav');
+    expect(truncated).toMatchObject({ status: 'failed', severity: 'fail' });
+    expect(truncated.reason).toMatch(/cut short/);
+    expect(quality.unmatched).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']);
+    expect(quality.totals.channels.fail).toBe(3);
+    expect(quality.totals.recordings.unreadable).toBe(1);
+  });
+
+  it('gives every flag a value, threshold, severity, evidence and message, and validates against schemas/quality.schema.json', () => {
+    const ajv = new Ajv({ allErrors: true, strict: false });
+    addFormats(ajv);
+    const validate = ajv.compile(JSON.parse(readFileSync(join(repo, 'schemas', 'quality.schema.json'), 'utf8')));
+    expect(validate(quality), JSON.stringify(validate.errors?.slice(0, 3))).toBe(true);
+    const sat = quality.recordings.find((r: any) => r.recording === 'nightly/2026-11-19/pump-endurance.wav').channels.find((c: any) => c.channel === 'acc_de').flags.find((f: any) => f.name === 'saturation');
+    expect(sat.evidence.samples).toBeGreaterThan(0);
+    expect(sat.evidence.first_s).toBeGreaterThanOrEqual(0);
+    expect(sat.threshold).toMatch(/fail/);
+  });
+
+  it('ends the terminal output with counts by severity and every failed channel with its message', () => {
+    expect(stdout).toMatch(/quality: 3 channels fail, \d+ warn, \d+ ok/);
+    expect(stdout).toMatch(/FAIL\s+nightly\/2026-11-21\/pump-endurance\.wav pressure: flatline: .*disconnected sensor/);
+    expect(stdout).toMatch(/FAIL\s+quicklook\/2026-11-18_quicklook\.wav acc_de: aliasing: .*appears at 1000 Hz/);
+  });
+
+  it('renders in headless Chromium with no console errors and shows every channel that is not ok, with its pictures', async () => {
+    expect(existsSync(CHROMIUM), `${CHROMIUM} is missing: apt-get install chromium (.ci/run does)`).toBe(true);
+    const browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'] });
+    try {
+      const page = await browser.newPage({ viewport: { width: 1300, height: 900 } });
+      const errors: string[] = [];
+      page.on('console', (m) => { if (m.type() === 'error') errors.push(m.text()); });
+      page.on('pageerror', (e) => errors.push(String(e)));
+      page.on('request', (r) => { if (!r.url().startsWith('file:')) errors.push(`network request: ${r.url()}`); });
+      await page.goto(`file://${join(out, 'quality.html')}`);
+      const shown = await page.locator('section.channel').evaluateAll((els) => els.map((e) => `${e.getAttribute('data-recording')} ${e.getAttribute('data-channel')} ${e.getAttribute('data-severity')}`));
+      const notOk = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity !== 'ok').map((c: any) => `${r.recording} ${c.channel} ${c.severity}`));
+      expect(shown.sort()).toEqual(notOk.sort());
+      // Three pictures (histogram, spectrum, trend) drawn as SVG for each.
+      expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length);
+      expect(await page.locator('text=not readable').count()).toBe(1);
+      mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
+      await page.screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report.png'), fullPage: false });
+      await page.locator('section.channel[data-severity=fail]').first().screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report-channel.png') });
+      expect(errors).toEqual([]);
+    } finally {
+      await browser.close();
+    }
+  });
+});
