@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-// quern's command line: reduce, check and peek, with documented exit codes.
+// quern's command line: reduce, merge, check and peek, with documented exit codes.
 import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
@@ -8,7 +8,9 @@ import { toolVersion } from './package-files.js';
 import { runPeek } from './peek.js';
 import { progressFor } from './progress.js';
 import { summaryText } from './report.js';
+import { runMerge } from './merge.js';
 import { runReduce } from './run.js';
+import { parseShard, parseWhen } from './select.js';
 import { UsageError } from './yaml-file.js';
 
 /** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input. */
@@ -23,14 +25,37 @@ async function main(argv: string[]): Promise<number> {
   const cli = yargs(argv)
     .scriptName('quern')
     .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
-    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet and run.json', (y: Argv) => y
+    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet, windows.parquet, quality.json/.html and run.json', (y: Argv) => y
       .positional('archive', { type: 'string', demandOption: true, describe: 'Archive folder with archive.yaml at its root' })
-      .option('out', { type: 'string', describe: 'Output folder', defaultDescription: '<archive>.reduced beside the archive' })
+      .option('out', { type: 'string', describe: 'Output folder (also keeps the per-recording results a re-run reuses)', defaultDescription: '<archive>.reduced beside the archive' })
       .option('spec', { type: 'string', describe: 'Reduction spec (YAML)', defaultDescription: '<archive>/reduction.yaml, else the built-in default' })
       .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
+      .option('force', { type: 'boolean', default: false, describe: 'Recompute everything; reuse nothing from earlier runs' })
+      .option('hash', { type: 'boolean', default: false, describe: 'Identify unchanged recordings by a content hash, not only size and modification time' })
+      .option('shard', { type: 'string', describe: 'Reduce one stable share, K/N (1 ≤ K ≤ N), or auto (Slurm array / Kubernetes indexed job); writes part files for quern merge' })
+      .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time or span back from now (7d, 12h)' })
+      .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
+      .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' }),
     async (a) => {
-      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress: progressFor(process.stderr, { quiet: a.quiet }) });
+      let shard = null, since = null, until = null;
+      try {
+        shard = a.shard ? parseShard(a.shard) : null;
+        since = a.since ? parseWhen(a.since) : null;
+        until = a.until ? parseWhen(a.until) : null;
+      } catch (e) {
+        throw new UsageError((e as Error).message);
+      }
+      const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
+      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until });
+      if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
+      process.stdout.write(summaryText(record, quality) + '\n');
+      code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+    })
+    .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
+      .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' }),
+    async (a) => {
+      const { record, quality } = await runMerge(a.out as string);
       process.stdout.write(summaryText(record, quality) + '\n');
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
     })
@@ -78,7 +103,7 @@ async function main(argv: string[]): Promise<number> {
       for (const t of table) out.push('  ' + t.map((v, i) => String(v).padStart(widths[i])).join('  '));
       process.stdout.write(out.join('\n') + '\n');
     })
-    .demandCommand(1, 'Name a command: reduce, check or peek.')
+    .demandCommand(1, 'Name a command: reduce, merge, check or peek.')
     .strict()
     .epilogue(EPILOGUE)
     .version(toolVersion)

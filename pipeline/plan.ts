@@ -15,6 +15,8 @@ export interface RecordingJob {
   labels: Record<string, string>;
   durationS: number | null;
   spec: ReductionSpec;
+  /** Feature groups to compute; null for all of them. */
+  groups?: string[] | null;
   chunkFrames: number;
 }
 

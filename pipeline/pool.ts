@@ -6,11 +6,11 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from './package-files.js';
 import type { RecordingJob } from './plan.js';
-import type { RecordingResult } from './reduce.js';
+import type { RecordingOutput } from './reduce.js';
 
 export interface PoolOptions {
   jobs?: number;
-  onResult?: (r: RecordingResult) => void;
+  onResult?: (r: RecordingOutput) => void | Promise<void>;
 }
 
 /** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
@@ -21,7 +21,8 @@ function workerFile(): string {
   return pathToFileURL(built).href;
 }
 
-export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availableParallelism(), onResult = () => {} }: PoolOptions = {}): Promise<RecordingResult[]> {
+export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availableParallelism(), onResult = () => {} }: PoolOptions = {}): Promise<RecordingOutput[]> {
+  if (jobs.length === 0) return [];
   const pool = new Tinypool({
     filename: workerFile(),
     minThreads: 1,
@@ -29,14 +30,14 @@ export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availabl
   });
   try {
     return await Promise.all(jobs.map(async (job) => {
-      let r: RecordingResult;
+      let r: RecordingOutput;
       try {
         r = await pool.run(job);
       } catch (e) {
         // A worker that dies (out of memory, native crash) fails only its own recording.
-        r = { recording: job.recording, group: job.group, status: 'failed', reason: `worker stopped: ${(e as Error).message}`, messages: [], rows: [], tables: {}, quality: [], frames: 0, sampleRate: null, seconds: 0 };
+        r = { recording: job.recording, group: job.group, status: 'failed', reason: `worker stopped: ${(e as Error).message}`, base: null, groups: {}, seconds: 0 };
       }
-      onResult(r);
+      await onResult(r);
       return r;
     }));
   } finally {

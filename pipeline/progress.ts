@@ -1,12 +1,24 @@
-// Shows progress: a bar on a terminal, one plain line per recording otherwise (nightly logs).
+// Progress of a run: a bar on a terminal; plain lines, or JSON lines (--log json), when nightly jobs write to a log.
 import { SingleBar } from 'cli-progress';
-import type { RecordingResult } from './reduce.js';
+import type { RecordingOutput } from './reduce.js';
 
-export interface Progress { start(total: number): void; done(r: RecordingResult): void; stop(): void }
+type Done = Pick<RecordingOutput, 'recording' | 'status' | 'seconds' | 'reason'>;
+export interface Progress { start(total: number, reused: number): void; done(r: Done, detail?: string): void; stop(): void; event?(name: string, data: object): void }
 
-export function progressFor(stream: NodeJS.WriteStream = process.stderr, { quiet = false } = {}): Progress {
-  if (quiet) return { start() {}, done() {}, stop() {} };
-  if (stream.isTTY) {
+export type LogMode = 'auto' | 'plain' | 'json' | 'quiet';
+
+export function progressFor(stream: NodeJS.WriteStream = process.stderr, { mode = 'auto' as LogMode } = {}): Progress {
+  if (mode === 'quiet') return { start() {}, done() {}, stop() {} };
+  if (mode === 'json') {
+    const line = (o: object) => stream.write(JSON.stringify({ time: new Date().toISOString(), ...o }) + '\n');
+    return {
+      start: (total, reused) => line({ event: 'start', to_reduce: total, reused }),
+      done: (r, detail) => line({ event: 'recording', recording: r.recording, status: r.status, seconds: Number(r.seconds.toFixed(3)), ...(r.reason ? { reason: r.reason } : {}), ...(detail ? { detail } : {}) }),
+      stop: () => {},
+      event: (name, data) => line({ event: name, ...data }),
+    };
+  }
+  if (mode === 'auto' && stream.isTTY) {
     const bar = new SingleBar({ stream, format: 'reducing [{bar}] {value}/{total} recordings  {failed} failed  {last}', hideCursor: true, clearOnComplete: true });
     let failed = 0;
     return {
@@ -17,8 +29,8 @@ export function progressFor(stream: NodeJS.WriteStream = process.stderr, { quiet
   }
   let total = 0, count = 0;
   return {
-    start: (t) => { total = t; },
-    done: (r) => { count++; stream.write(`[${count}/${total}] ${r.recording}: ${r.status} (${r.seconds.toFixed(2)} s)${r.reason ? ` — ${r.reason}` : ''}\n`); },
+    start: (t, reused) => { total = t; stream.write(`reducing ${t} recordings${reused ? `, reusing ${reused}` : ''}\n`); },
+    done: (r, detail) => { count++; stream.write(`[${count}/${total}] ${r.recording}: ${r.status} (${r.seconds.toFixed(2)} s)${detail ? ` ${detail}` : ''}${r.reason ? ` — ${r.reason}` : ''}\n`); },
     stop: () => {},
   };
 }

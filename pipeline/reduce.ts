@@ -1,4 +1,5 @@
-// Reduces one recording: read it once, feed every stage of every channel, collect one row per channel.
+// Reduces one recording: read it once, feed every stage of every channel, keep each feature group's output apart
+// (so a re-run can reuse some groups and recompute others), then assemble one row per channel.
 import picomatch from 'picomatch';
 import { activeStages, featureColumns } from '../stages/index.js';
 import { openRecording } from '../stages/read/open.js';
@@ -12,6 +13,35 @@ export type FeatureRow = Record<string, string | number | null>;
 
 export interface ChannelQuality { channel: string; unit: string; severity: Severity; flags: Flag[]; evidence?: Record<string, unknown> }
 
+/** What one feature group made for one recording: per channel (in channel order) its columns, flags and pictures' data. */
+export interface GroupOutput {
+  columns: ColumnValues[];
+  flags: Flag[][];
+  evidence: (Record<string, unknown> | null)[];
+  /** Rows of secondary tables (windows.parquet…), by table name. */
+  tables: Record<string, FeatureRow[]>;
+  notes: string[];
+}
+
+/** Everything a reduction learnt about a recording, by feature group: the unit of caching and of sharding. */
+export interface RecordingOutput {
+  recording: string;
+  group: string;
+  status: 'reduced' | 'failed';
+  reason?: string;
+  base: {
+    frames: number;
+    sampleRate: number;
+    header: { format: string; encoding: string; bits: number | null; start_time: string | null };
+    channels: { name: string; quantity: string; unit: string }[];
+    /** Findings of the reader (irregular time steps…). */
+    notes: string[];
+  } | null;
+  groups: Record<string, GroupOutput>;
+  seconds: number;
+}
+
+/** A recording's assembled result: the rows and tables it contributes and its quality verdict. */
 export interface RecordingResult {
   recording: string;
   group: string;
@@ -71,43 +101,50 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
   }
 }
 
-export async function reduceRecording(job: RecordingJob): Promise<RecordingResult> {
+/** Reduces the feature groups the job names (all when it names none), reading the recording once. */
+export async function computeRecording(job: RecordingJob): Promise<RecordingOutput> {
   const t0 = performance.now();
-  const result: RecordingResult = { recording: job.recording, group: job.group, status: 'failed', messages: [], rows: [], tables: {}, quality: [], frames: 0, sampleRate: null, seconds: 0 };
+  const out: RecordingOutput = { recording: job.recording, group: job.group, status: 'failed', base: null, groups: {}, seconds: 0 };
   let rec: Recording | null = null;
   try {
     const opened = await openForJob(job);
     rec = opened.rec;
+    const r = rec;
     const channels = opened.channels;
-    result.sampleRate = rec.sampleRate;
-    result.header = { format: rec.format, encoding: rec.encoding, bits: rec.bits, start_time: rec.startTime?.toISOString() ?? null };
-    const stages = activeStages(job.spec);
-    const quality = channels.map(({ decl }): ChannelQuality & { offers: Map<string, () => unknown> } => ({ channel: decl.name, unit: decl.unit, severity: 'ok', flags: [], offers: new Map() }));
+    const stages = activeStages(job.spec).filter((s) => !job.groups || job.groups.includes(s.definition.group));
+    const outputOf = (group: string) => (out.groups[group] ??= {
+      columns: channels.map(() => ({})), flags: channels.map(() => []), evidence: channels.map(() => null), tables: {}, notes: [],
+    });
+    const offers = channels.map(() => new Map<string, () => unknown>());
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
-      const bits = decl.bits ?? rec!.bits;
-      const r = rec!;
-      const ctx: ChannelContext = {
-        name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
-        maxFrequencyHz: decl.max_frequency_hz,
-        // One converter step in engineering units: full scale ±1 spans 2^bits codes.
-        stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
-        // The most negative code is −1 of full scale, the most positive one step short of +1.
-        fullScale: r.normalised && r.bits ? [-1, 1 - 2 ** (1 - r.bits)].map((v) => v * decl.scale + decl.offset).sort((a, b) => a - b) as [number, number] : null,
-        declared: job.channels != null,
-        declaredDurationS: job.durationS,
-        timeSteps: () => r.timeSteps ?? null,
-        shared: <T extends Stage>(key: string, make: () => T) => (shared.get(key) ?? shared.set(key, make()).get(key)) as T,
-        note: (m) => { if (!result.messages.includes(m)) result.messages.push(m); },
-        addRow: (table, row) => (result.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
-        flag: (f) => quality[c].flags.push(f),
-        evidence: (name, make) => quality[c].offers.set(name, make),
-      };
-      const own = stages.filter((s) => selected(s.only, decl)).map((s) => s.definition.create(ctx, s.options));
+      const bits = decl.bits ?? r.bits;
+      const own = stages.filter((s) => selected(s.only, decl)).map((s) => {
+        const g = outputOf(s.definition.group);
+        // Each stage's notes, rows and flags are filed under its own feature group.
+        const ctx: ChannelContext = {
+          name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
+          maxFrequencyHz: decl.max_frequency_hz,
+          // One converter step in engineering units: full scale ±1 spans 2^bits codes.
+          stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
+          // The most negative code is −1 of full scale, the most positive one step short of +1.
+          fullScale: r.normalised && r.bits ? [-1, 1 - 2 ** (1 - r.bits)].map((v) => v * decl.scale + decl.offset).sort((a, b) => a - b) as [number, number] : null,
+          declared: job.channels != null,
+          declaredDurationS: job.durationS,
+          timeSteps: () => r.timeSteps ?? null,
+          shared: <T extends Stage>(key: string, make: () => T) => (shared.get(key) ?? shared.set(key, make()).get(key)) as T,
+          note: (m) => { if (!g.notes.includes(m)) g.notes.push(m); },
+          addRow: (table, row) => (g.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
+          flag: (f) => g.flags[c].push(f),
+          evidence: (name, make) => offers[c].set(name, make),
+        };
+        return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
+      });
       // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
-      return [...shared.values(), ...own];
+      return { shared: [...shared.values()], own };
     });
     let scratch = new Float64Array(0);
+    let frames = 0;
     for await (const chunk of rec.chunks()) {
       const n = chunk[0].length;
       if (scratch.length < n) scratch = new Float64Array(n);
@@ -116,37 +153,65 @@ export async function reduceRecording(job: RecordingJob): Promise<RecordingResul
         const src = chunk[index];
         // Engineering units: stored value × scale + offset.
         for (let i = 0; i < n; i++) eng[i] = src[i] * decl.scale + decl.offset;
-        for (const stage of perChannel[c]) stage.push(eng);
+        for (const stage of perChannel[c].shared) stage.push(eng);
+        for (const { stage } of perChannel[c].own) stage.push(eng);
       });
-      result.frames += n;
+      frames += n;
     }
-    result.messages.push(...rec.notes);
-    const durationS = result.frames / rec.sampleRate;
-    const startTime = rec.startTime ? rec.startTime.getTime() : null;
-    // Every feature column appears in every row: null where a stage did not apply to the channel.
-    const blank: ColumnValues = Object.fromEntries(featureColumns(job.spec).map((col) => [col.name, null]));
-    result.rows = channels.map(({ decl }, c) => {
-      const values: ColumnValues = Object.assign({ ...blank }, ...perChannel[c].map((s) => s.finish()));
-      const q = quality[c];
-      q.severity = worst(q.flags.map((f) => f.severity));
-      return {
-        recording: job.recording, group: job.group, channel: decl.name, quantity: decl.quantity, unit: decl.unit,
-        sample_rate: rec!.sampleRate, n: result.frames, duration_s: durationS, start_time: startTime, ...job.labels,
-        quality: q.severity, flags: q.flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
-      };
+    perChannel.forEach(({ own }, c) => {
+      for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });
-    // Pictures are drawn only for channels that need a second look.
-    result.quality = quality.map(({ offers, ...q }) => (q.severity === 'ok' ? q : { ...q, evidence: Object.fromEntries([...offers].map(([k, make]) => [k, make()])) }));
-    result.status = 'reduced';
+    // Pictures are made only for channels whose flags ask for a second look.
+    const quality = out.groups.quality;
+    if (quality) quality.evidence = quality.flags.map((flags, c) => (worst(flags.map((f) => f.severity)) === 'ok' ? null : Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()]))));
+    out.base = {
+      frames, sampleRate: r.sampleRate,
+      header: { format: r.format, encoding: r.encoding, bits: r.bits, start_time: r.startTime?.toISOString() ?? null },
+      channels: channels.map(({ decl }) => ({ name: decl.name, quantity: decl.quantity, unit: decl.unit })),
+      notes: [...r.notes],
+    };
+    out.status = 'reduced';
   } catch (e) {
-    result.rows = [];
-    result.tables = {};
-    result.quality = [];
-    result.reason = e instanceof RecordingError ? e.message : `unexpected error: ${(e as Error).stack ?? e}; please report it with the file`;
-    if (!(e instanceof RecordingError) && (e as NodeJS.ErrnoException).code) result.reason = `${(e as Error).message}; check that the file exists and is readable`;
+    out.groups = {};
+    out.reason = e instanceof RecordingError ? e.message : `unexpected error: ${(e as Error).stack ?? e}; please report it with the file`;
+    if (!(e instanceof RecordingError) && (e as NodeJS.ErrnoException).code) out.reason = `${(e as Error).message}; check that the file exists and is readable`;
   } finally {
     await rec?.close();
-    result.seconds = (performance.now() - t0) / 1000;
+    out.seconds = (performance.now() - t0) / 1000;
   }
+  return out;
+}
+
+/** One row per channel, secondary tables and the quality verdict, from a recording's group outputs. */
+export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec']): RecordingResult {
+  const result: RecordingResult = {
+    recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [], tables: {}, quality: [],
+    frames: o.base?.frames ?? 0, sampleRate: o.base?.sampleRate ?? null, header: o.base?.header, seconds: o.seconds,
+  };
+  if (o.status === 'failed' || !o.base) return result;
+  const base = o.base;
+  const groups = Object.keys(o.groups).sort();
+  result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
+  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
+  // Every feature column appears in every row: null where a stage did not apply to the channel.
+  const blank: ColumnValues = Object.fromEntries(featureColumns(spec).map((col) => [col.name, null]));
+  const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
+  result.rows = base.channels.map((ch, c) => {
+    const flags = o.groups.quality?.flags[c] ?? [];
+    const severity = worst(flags.map((f) => f.severity));
+    const evidence = o.groups.quality?.evidence[c];
+    result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags, ...(evidence ? { evidence } : {}) });
+    const values: ColumnValues = Object.assign({ ...blank }, ...groups.map((g) => o.groups[g].columns[c]));
+    return {
+      recording: o.recording, group: o.group, channel: ch.name, quantity: ch.quantity, unit: ch.unit,
+      sample_rate: base.sampleRate, n: base.frames, duration_s: base.frames / base.sampleRate, start_time: startTime, ...labels,
+      quality: severity, flags: flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
+    };
+  });
   return result;
+}
+
+/** Reduces and assembles in one step (every group, nothing reused). */
+export async function reduceRecording(job: RecordingJob): Promise<RecordingResult> {
+  return assembleRecording(await computeRecording(job), job.labels, job.spec);
 }

@@ -1,5 +1,5 @@
 // Worker-thread entry: reduces one recording per task.
 import type { RecordingJob } from './plan.js';
-import { reduceRecording } from './reduce.js';
+import { computeRecording } from './reduce.js';
 
-export default (job: RecordingJob) => reduceRecording(job);
+export default (job: RecordingJob) => computeRecording(job);

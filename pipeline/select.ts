@@ -1,0 +1,101 @@
+// Which recordings a run takes: a stable share of them for one shard, and those whose start falls in a period.
+import { mkdir, readdir, readFile } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import pLimit from 'p-limit';
+import { openRecording } from '../stages/read/open.js';
+import { writeFileAtomic } from './atomic.js';
+import type { GroupDeclaration } from './declare.js';
+import type { ScannedRecording } from './scan.js';
+
+/** Stable shard of a recording, 1…n, from a hash of its path (FNV-1a, 32 bits): the same on every machine and run. */
+export function shardOf(recording: string, n: number): number {
+  let h = 0x811c9dc5;
+  for (const ch of Buffer.from(recording, 'utf8')) { h ^= ch; h = Math.imul(h, 0x01000193) >>> 0; }
+  return (h % n) + 1;
+}
+
+export interface Shard { k: number; n: number }
+
+/** "K/N" (1 ≤ K ≤ N), or "auto": Slurm job arrays (SLURM_ARRAY_TASK_ID, _MIN, _COUNT) or Kubernetes indexed jobs (JOB_COMPLETION_INDEX with QUERN_SHARD_COUNT). */
+export function parseShard(text: string, env: NodeJS.ProcessEnv = process.env): Shard {
+  if (text === 'auto') {
+    if (env.SLURM_ARRAY_TASK_ID != null && env.SLURM_ARRAY_TASK_COUNT != null) {
+      return check(Number(env.SLURM_ARRAY_TASK_ID) - Number(env.SLURM_ARRAY_TASK_MIN ?? 0) + 1, Number(env.SLURM_ARRAY_TASK_COUNT), 'Slurm array variables');
+    }
+    if (env.JOB_COMPLETION_INDEX != null) {
+      if (env.QUERN_SHARD_COUNT == null) throw new Error('--shard auto in a Kubernetes indexed job needs QUERN_SHARD_COUNT set to the job\'s completions');
+      return check(Number(env.JOB_COMPLETION_INDEX) + 1, Number(env.QUERN_SHARD_COUNT), 'JOB_COMPLETION_INDEX and QUERN_SHARD_COUNT');
+    }
+    throw new Error('--shard auto found no scheduler variables (SLURM_ARRAY_TASK_ID with SLURM_ARRAY_TASK_COUNT, or JOB_COMPLETION_INDEX with QUERN_SHARD_COUNT); give --shard K/N');
+  }
+  const m = text.match(/^(\d+)\/(\d+)$/);
+  if (!m) throw new Error(`--shard takes K/N (e.g. 2/8) or auto, got "${text}"`);
+  return check(Number(m[1]), Number(m[2]), `--shard ${text}`);
+}
+
+function check(k: number, n: number, from: string): Shard {
+  if (!(Number.isInteger(k) && Number.isInteger(n) && n >= 1 && k >= 1 && k <= n)) throw new Error(`${from} give shard ${k} of ${n}; shards run from 1 to N`);
+  return { k, n };
+}
+
+const SPAN = /^(\d+(?:\.\d+)?)\s*(m|h|d|w)$/;
+const UNIT_MS = { m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_000 } as const;
+
+/** A date or date-time (ISO 8601; a bare date is midnight UTC), or a span back from now such as 7d, 12h, 30m, 2w. */
+export function parseWhen(text: string, now = Date.now()): number {
+  const span = text.trim().match(SPAN);
+  if (span) return now - Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
+  const t = Date.parse(text);
+  if (!Number.isFinite(t)) throw new Error(`"${text}" is neither a date (2026-11-16, 2026-11-16T02:00Z) nor a span (7d, 12h, 30m, 2w)`);
+  return t;
+}
+
+// ---- selecting a period ----
+
+/** The start of a recording as the index remembers it, keyed by path; valid while size and modification time match. */
+export interface IndexEntry { size: number; mtimeMs: number; start_ms: number }
+
+export const indexPath = (out: string, shard: Shard | null) => join(out, 'cache', shard ? `index-${shard.k}-of-${shard.n}.json` : 'index.json');
+
+/** Every index in the output folder (one per shard, or one for whole runs), merged. */
+export async function readIndex(out: string): Promise<Map<string, IndexEntry>> {
+  const map = new Map<string, IndexEntry>();
+  const dir = join(out, 'cache');
+  const files = (await readdir(dir).catch(() => [] as string[])).filter((f) => /^index(-\d+-of-\d+)?\.json$/.test(f)).sort();
+  for (const f of files) {
+    try {
+      for (const [k, v] of Object.entries(JSON.parse(await readFile(join(dir, f), 'utf8')) as Record<string, IndexEntry>)) map.set(k, v);
+    } catch { /* a damaged index only costs header reads */ }
+  }
+  return map;
+}
+
+/** A recording's start: from the index while the file is unchanged, else its header (bext, CSV date-time), else its modification time. */
+export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, index: Map<string, IndexEntry>): Promise<number> {
+  const known = index.get(r.recording);
+  if (known && known.size === r.size && known.mtimeMs === r.mtimeMs) return known.start_ms;
+  try {
+    const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout });
+    await rec.close();
+    if (rec.startTime) return rec.startTime.getTime();
+  } catch { /* an unreadable file is reported by the reduction; its modification time stands in */ }
+  return r.mtimeMs;
+}
+
+/** The recordings whose start falls in [since, until). */
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], out: string, since: number, until: number): Promise<ScannedRecording[]> {
+  const index = await readIndex(out);
+  const limit = pLimit(16);
+  const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], index))));
+  return recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
+}
+
+/** Remembers the start of every recording this run knows, beside what earlier runs knew. */
+export async function updateIndex(out: string, shard: Shard | null, known: { recording: string; size: number; mtimeMs: number; start_ms: number }[]): Promise<void> {
+  const path = indexPath(out, shard);
+  let current: Record<string, IndexEntry> = {};
+  try { current = JSON.parse(await readFile(path, 'utf8')); } catch { /* first run */ }
+  for (const k of known) current[k.recording] = { size: k.size, mtimeMs: k.mtimeMs, start_ms: k.start_ms };
+  await mkdir(dirname(path), { recursive: true });
+  await writeFileAtomic(path, JSON.stringify(current));
+}
