@@ -23,7 +23,7 @@ export async function runMerge(out: string): Promise<{ record: RunRecord; qualit
   const problems: string[] = [];
   if (parts.some((p) => p.shard?.n !== n)) problems.push(`the parts come from different shard counts (${[...new Set(parts.map((p) => p.shard?.n))].join(', ')}); delete the stale ones`);
   const missing = Array.from({ length: n }, (_, i) => i + 1).filter((k) => !parts.some((p) => p.shard?.k === k));
-  if (missing.length) problems.push(`shard${missing.length > 1 ? 's' : ''} ${missing.join(', ')} of ${n} ${missing.length > 1 ? 'have' : 'has'} not written its part yet; run it, then merge again`);
+  if (missing.length) problems.push(missing.length > 1 ? `shards ${missing.join(', ')} of ${n} have not written their part yet; run them, then merge again` : `shard ${missing[0]} of ${n} has not written its part yet; run it, then merge again`);
   if (new Set(parts.map((p) => p.spec.hash)).size > 1) problems.push('the parts were reduced with different specs; run every shard with the same spec');
   if (new Set(parts.map((p) => p.archive)).size > 1) problems.push('the parts come from different archives');
   if (problems.length) throw new UsageError(`${partsDir}: cannot merge: ${problems.join('; ')}`);

@@ -36,6 +36,6 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: {
   await writeParquetTable(join(outDir, names.windows), WINDOW_TABLE, results.flatMap((r) => r.tables.windows ?? []), o.metadata);
   const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched });
   await writeFileAtomic(join(outDir, names.qualityJson), JSON.stringify(quality, null, 2) + '\n');
-  if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), await qualityHtml(quality, results));
+  if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));
   return quality;
 }

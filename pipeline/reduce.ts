@@ -8,6 +8,8 @@ import type { ChannelContext, ColumnValues, Stage } from '../stages/stage.js';
 import type { ChannelDeclaration } from './declare.js';
 import { worst, type Flag, type Severity } from '../stages/quality/flag.js';
 import type { RecordingJob } from './plan.js';
+import { evidenceCharts } from './charts.js';
+import type { Evidence } from '../stages/quality/evidence.js';
 
 export type FeatureRow = Record<string, string | number | null>;
 
@@ -161,9 +163,15 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });
-    // Pictures are made only for channels whose flags ask for a second look.
+    // Pictures are drawn only for channels whose flags ask for a second look, here in the worker, and kept with the result.
     const quality = out.groups.quality;
-    if (quality) quality.evidence = quality.flags.map((flags, c) => (worst(flags.map((f) => f.severity)) === 'ok' ? null : Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()]))));
+    if (quality) {
+      quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
+        if (worst(flags.map((f) => f.severity)) === 'ok') return null;
+        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
+        return { charts: await evidenceCharts(data, channels[c].decl.unit) };
+      }));
+    }
     out.base = {
       frames, sampleRate: r.sampleRate,
       header: { format: r.format, encoding: r.encoding, bits: r.bits, start_time: r.startTime?.toISOString() ?? null },

@@ -1,69 +1,20 @@
 // quality.html: one self-contained page (inline CSS and SVG, no scripts, opens offline) for the morning read.
-// Charts are Vega-Lite specifications rendered to SVG here, at report time, by Vega's headless renderer.
-import * as vega from 'vega';
-import { compile, type TopLevelSpec } from 'vega-lite';
-import type { Evidence } from '../stages/quality/evidence.js';
+// The charts arrive as SVG, drawn where the channel was reduced (pipeline/charts.ts).
+import { COLOURS } from './charts.js';
 import type { Severity } from '../stages/quality/flag.js';
 import type { QualityReport } from './quality.js';
 import type { RecordingResult } from './reduce.js';
 
-// Our own palette: deep teal for trustworthy, ochre for a second look, brick red for do-not-use.
-const COLOURS: Record<Severity, string> = { ok: '#2c6e63', warn: '#b7791f', fail: '#a23b2a' };
 const LABEL: Record<Severity, string> = { ok: 'ok', warn: 'check', fail: 'unusable' };
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const num = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(4)) : v == null ? '—' : String(v));
 export const channelId = (recording: string, channel: string) => `ch-${Buffer.from(`${recording}\u0000${channel}`).toString('base64url')}`;
 
-async function svg(spec: TopLevelSpec): Promise<string> {
-  const view = new vega.View(vega.parse(compile(spec).spec), { renderer: 'none' });
-  try {
-    return await view.toSVG();
-  } finally {
-    view.finalize();
-  }
-}
-
-const base = { width: 300, height: 150, config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, view: { stroke: '#ccc' } } } as const;
-
-function histogramSpec(h: Evidence['histogram'], unit: string): TopLevelSpec {
-  const bars = h.counts.map((count, i) => ({ from: h.edges[i], to: h.edges[i + 1], count }));
-  const limits = (h.range ?? h.fullScale ?? []).map((v) => ({ v, what: h.range ? 'instrument range' : 'converter full scale' }));
-  return {
-    ...base, title: { text: 'Amplitude histogram', fontSize: 12 },
-    layer: [
-      { data: { values: bars }, mark: { type: 'rect', color: '#4a5d7a' }, encoding: { x: { field: 'from', type: 'quantitative', title: unit }, x2: { field: 'to' }, y: { field: 'count', type: 'quantitative', title: 'samples', scale: { type: 'symlog' } } } },
-      ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, color: COLOURS.fail, strokeDash: [4, 3], strokeWidth: 1.5 }, encoding: { x: { field: 'v', type: 'quantitative' as const } } }] : []),
-    ],
-  };
-}
-
-function spectrumSpec(s: NonNullable<Evidence['spectrum']>, unit: string): TopLevelSpec {
-  const floor = Math.max(1e-30, Math.min(...s.density.filter((d) => d > 0)));
-  const points = s.density.map((d, k) => ({ f: k * s.df, d: Math.max(d, floor) })).filter((p) => p.f > 0);
-  const rules = [{ f: s.nyquist, what: 'Nyquist' }, ...(s.maxFrequencyHz ? [{ f: s.maxFrequencyHz, what: 'declared highest' }] : [])];
-  return {
-    ...base, title: { text: 'Power spectral density', fontSize: 12 },
-    layer: [
-      { data: { values: points }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' } } } },
-      { data: { values: rules }, mark: { type: 'rule', strokeDash: [4, 3], strokeWidth: 1.5 }, encoding: { x: { field: 'f', type: 'quantitative' }, color: { field: 'what', type: 'nominal', scale: { domain: ['Nyquist', 'declared highest'], range: [COLOURS.fail, COLOURS.warn] }, legend: { orient: 'bottom', title: null } } } },
-    ],
-  };
-}
-
-function trendSpec(t: Evidence['trend'], unit: string): TopLevelSpec {
-  return {
-    ...base, title: { text: `RMS per ${Number(t.window_s.toPrecision(3))} s window`, fontSize: 12 },
-    data: { values: t.rms.map((rms, i) => ({ t: i * t.window_s, rms })) },
-    mark: { type: 'line', color: '#4a5d7a', point: t.rms.length < 40 },
-    encoding: { x: { field: 't', type: 'quantitative', title: 's' }, y: { field: 'rms', type: 'quantitative', title: unit } },
-  };
-}
-
 const badge = (s: Severity) => `<span class="sev sev-${s}">${LABEL[s]}</span>`;
 
-export async function qualityHtml(q: QualityReport, results: RecordingResult[]): Promise<string> {
-  const evidenceOf = new Map(results.flatMap((r) => r.quality.map((c) => [`${r.recording}\u0000${c.channel}`, c.evidence as Evidence | undefined] as const)));
+export function qualityHtml(q: QualityReport, results: RecordingResult[]): string {
+  const chartsOf = new Map(results.flatMap((r) => r.quality.map((c) => [`${r.recording}\u0000${c.channel}`, c.evidence?.charts as string[] | undefined] as const)));
   const channelNames = [...new Set(q.recordings.flatMap((r) => r.channels.map((c) => c.channel)))];
   const t = q.totals;
   const out: string[] = [];
@@ -112,16 +63,13 @@ section.channel h3 { margin: 0 0 8px; font-size: 15px; }
   out.push('<h2>Channels that need a second look</h2>');
   for (const r of q.recordings) {
     for (const c of r.channels.filter((x) => x.severity !== 'ok')) {
-      const ev = evidenceOf.get(`${r.recording}\u0000${c.channel}`);
+      const charts = chartsOf.get(`${r.recording}\u0000${c.channel}`);
       out.push(`<section class="channel" id="${channelId(r.recording, c.channel)}" data-recording="${esc(r.recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}" style="border-color:${COLOURS[c.severity]}">
 <h3>${badge(c.severity)} ${esc(r.recording)} · ${esc(c.channel)} <span class="note">(${esc(c.unit)})</span></h3>
 <table><tr><th>flag</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>
 ${c.flags.filter((f) => f.severity !== 'ok').map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(num(f.value))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
 </table>`);
-      if (ev) {
-        const charts = [histogramSpec(ev.histogram, c.unit), ...(ev.spectrum ? [spectrumSpec(ev.spectrum, c.unit)] : []), trendSpec(ev.trend, c.unit)];
-        out.push(`<div class="charts">${(await Promise.all(charts.map(svg))).join('')}</div>`);
-      }
+      if (charts) out.push(`<div class="charts">${charts.join('')}</div>`);
       out.push('</section>');
     }
   }

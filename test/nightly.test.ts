@@ -1,0 +1,185 @@
+// Nightly life: incremental re-runs, a run killed part-way and resumed, shards merged, a period selected, logs for machines.
+import { spawn } from 'node:child_process';
+import { appendFileSync, cpSync, existsSync, readdirSync, readFileSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { describe, expect, it } from 'vitest';
+import { parseShard, parseWhen, shardOf } from '../pipeline/select.js';
+import { makeSampleArchive } from '../scripts/make-sample-archive.js';
+import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+
+async function table(path: string): Promise<Record<string, unknown>[]> {
+  const db = await (await DuckDBInstance.create()).connect();
+  return (await db.runAndReadAll(`select * from '${path}' order by all`)).getRowObjectsJson() as Record<string, unknown>[];
+}
+const ENVELOPE_COLUMNS = ['filtered_rms', 'env_mean', 'env_rms', 'env_peak', 'env_dominant_frequency'];
+const without = (rows: Record<string, unknown>[], cols: string[]) => rows.map((r) => Object.fromEntries(Object.entries(r).filter(([k]) => !cols.includes(k))));
+
+describe('incremental re-runs', () => {
+  it('recomputes nothing when nothing changed, and writes identical tables', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const before = await table(join(out, 'features.parquet')), windowsBefore = await table(join(out, 'windows.parquet'));
+    quern('reduce', archive, '--out', out, '--quiet');
+    const run = readJson(join(out, 'run.json'));
+    expect(run.counts.recomputed).toBe(0);
+    expect(run.recordings.every((r: any) => r.recomputed.length === 0)).toBe(true);
+    expect(run.recordings.find((r: any) => r.recording === 'nightly/2026-11-16/pump-endurance.wav').why).toBe('unchanged');
+    expect(await table(join(out, 'features.parquet'))).toEqual(before);
+    expect(await table(join(out, 'windows.parquet'))).toEqual(windowsBefore);
+  });
+
+  it('changing the envelope filter recomputes only the envelope group; every other column is reused bit for bit', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const spec = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
+    writeFileSync(join(archive, 'reduction.yaml'), spec);
+    quern('reduce', archive, '--out', out, '--quiet');
+    const before = await table(join(out, 'features.parquet'));
+    writeFileSync(join(archive, 'reduction.yaml'), spec.replace('low_hz: 2500, high_hz: 4500', 'low_hz: 3000, high_hz: 4000'));
+    quern('reduce', archive, '--out', out, '--quiet');
+    const run = readJson(join(out, 'run.json'));
+    for (const r of run.recordings.filter((x: any) => x.status === 'reduced')) {
+      expect(r.recomputed).toEqual(['envelope']);
+      expect(r.why).toBe('spec changed for envelope');
+    }
+    const after = await table(join(out, 'features.parquet'));
+    // DuckDB's JSON rendering keeps every digit of a double, so equal text is equal bits.
+    expect(without(after, ENVELOPE_COLUMNS)).toEqual(without(before, ENVELOPE_COLUMNS));
+    const changed = after.filter((r, i) => r.env_rms !== before[i].env_rms && r.env_rms !== null);
+    expect(changed.length).toBeGreaterThan(0);
+  });
+
+  it('reduces new recordings, drops deleted ones, redoes edited ones; --force redoes everything', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', '2026-11-23'), { recursive: true });
+    rmSync(join(archive, 'strain'), { recursive: true });
+    const edited = join(archive, 'handheld', '2026-11-20_spot-check.csv');
+    appendFileSync(edited, '2,000000;1,0000;1,0000\r\n');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const run = readJson(join(out, 'run.json'));
+    const why = Object.fromEntries(run.recordings.map((r: any) => [r.recording, r.why]));
+    expect(why['nightly/2026-11-23/pump-endurance.wav']).toBe('new recording');
+    expect(why['handheld/2026-11-20_spot-check.csv']).toMatch(/content changed/);
+    expect(why['nightly/2026-11-16/pump-endurance.wav']).toBe('unchanged');
+    expect(Object.keys(why).some((k) => k.startsWith('strain/'))).toBe(false);
+    const rows = await table(join(out, 'features.parquet'));
+    expect(rows.some((r) => String(r.recording).startsWith('strain/'))).toBe(false);
+    expect(rows.filter((r) => r.recording === 'handheld/2026-11-20_spot-check.csv')[0].n).toBe('5121');
+    quern('reduce', archive, '--out', out, '--quiet', '--force');
+    expect(readJson(join(out, 'run.json')).recordings.every((r: any) => r.why === 'forced (--force)')).toBe(true);
+  });
+
+  it('notices an edit that keeps size and modification time when asked for content hashes (--hash)', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const file = join(archive, 'nightly', '2026-11-17', 'pump-endurance.wav');
+    const old = new Date(Date.now() - 3_600_000);
+    utimesSync(file, old, old);
+    quern('reduce', archive, '--out', out, '--quiet', '--hash');
+    const bytes = readFileSync(file);
+    bytes[bytes.length - 2] ^= 0xff; // same size
+    writeFileSync(file, bytes);
+    utimesSync(file, old, old); // same modification time
+    const whyNow = () => readJson(join(out, 'run.json')).recordings.find((r: any) => r.recording === 'nightly/2026-11-17/pump-endurance.wav').why;
+    // The fast path trusts size and modification time: this edit is invisible to it, as documented.
+    quern('reduce', archive, '--out', out, '--quiet');
+    expect(whyNow()).toBe('unchanged');
+    quern('reduce', archive, '--out', out, '--quiet', '--hash');
+    expect(whyNow()).toMatch(/content changed/);
+  });
+});
+
+describe('crash safety', () => {
+  it('a run killed with SIGKILL part-way, then started again, completes with the same tables as an uninterrupted run', async () => {
+    const base = tempDir();
+    const archive = join(base, 'archive');
+    makeSampleArchive(archive);
+    // More recordings, so the kill lands mid-run.
+    for (let d = 0; d < 24; d++) cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', `2026-12-${String(d + 1).padStart(2, '0')}`), { recursive: true });
+    const killed = join(base, 'killed'), clean = join(base, 'clean');
+    const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', killed, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
+    const entries = () => (existsSync(join(killed, 'cache')) ? (readdirSync(join(killed, 'cache'), { recursive: true }) as string[]).filter((f) => f.endsWith('.json')).length : 0);
+    const deadline = Date.now() + 60_000;
+    while (entries() < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    child.kill('SIGKILL');
+    await new Promise((r) => child.on('exit', r));
+    const stored = entries();
+    expect(stored).toBeGreaterThanOrEqual(5);
+    expect(stored).toBeLessThan(34); // killed before the end
+    expect(existsSync(join(killed, 'features.parquet'))).toBe(false); // never half-written: absent until the end
+    const resumed = quern('reduce', archive, '--out', killed, '--quiet');
+    expect(resumed.code).toBe(1); // the planted truncated file
+    const run = readJson(join(killed, 'run.json'));
+    expect(run.counts.reused).toBeGreaterThanOrEqual(4);
+    quern('reduce', archive, '--out', clean, '--quiet');
+    expect(await table(join(killed, 'features.parquet'))).toEqual(await table(join(clean, 'features.parquet')));
+    expect(await table(join(killed, 'windows.parquet'))).toEqual(await table(join(clean, 'windows.parquet')));
+  });
+});
+
+describe('sharding', () => {
+  it('N shard processes writing into one folder, then quern merge, equal the single-process result row for row', async () => {
+    const archive = sampleArchiveCopy(), shared = join(archive, '..', 'shared'), single = join(archive, '..', 'single');
+    const N = 3;
+    const runs = Array.from({ length: N }, (_, i) => new Promise<number>((resolve) => {
+      const c = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', shared, '--shard', `${i + 1}/${N}`, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
+      c.on('exit', (code) => resolve(code ?? -1));
+    }));
+    expect((await Promise.all(runs)).every((c) => c === 0 || c === 1)).toBe(true);
+    expect(readdirSync(join(shared, 'parts')).filter((f) => f.startsWith('features-')).sort()).toEqual(['features-1-of-3.parquet', 'features-2-of-3.parquet', 'features-3-of-3.parquet']);
+    // The parts read as one dataset.
+    const parts = await table(join(shared, 'parts', 'features-*.parquet'));
+    const merged = quern('merge', shared);
+    expect(merged.code).toBe(1);
+    quern('reduce', archive, '--out', single, '--quiet');
+    const one = await table(join(single, 'features.parquet'));
+    expect(await table(join(shared, 'features.parquet'))).toEqual(one);
+    expect(parts).toEqual(one);
+    expect(await table(join(shared, 'windows.parquet'))).toEqual(await table(join(single, 'windows.parquet')));
+    const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched }; };
+    expect(q(join(shared, 'quality.json'))).toEqual(q(join(single, 'quality.json')));
+    expect(existsSync(join(shared, 'quality.html'))).toBe(true);
+  });
+
+  it('merge refuses while a shard is missing, naming it', () => {
+    const archive = sampleArchiveCopy(), shared = join(archive, '..', 'shared');
+    quern('reduce', archive, '--out', shared, '--shard', '2/3', '--quiet');
+    const r = quern('merge', shared);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/shards 1, 3 of 3 have not written their part yet/);
+  });
+
+  it('shares are stable and cover every recording once; auto reads Slurm and Kubernetes variables', () => {
+    const names = Array.from({ length: 1000 }, (_, i) => `night-${i}/capture.wav`);
+    const counts = [1, 2, 3, 4].map((k) => names.filter((n) => shardOf(n, 4) === k).length);
+    expect(counts.reduce((a, b) => a + b)).toBe(1000);
+    expect(Math.min(...counts)).toBeGreaterThan(200);
+    expect(shardOf('night-7/capture.wav', 4)).toBe(shardOf('night-7/capture.wav', 4));
+    expect(parseShard('auto', { SLURM_ARRAY_TASK_ID: '3', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '8' })).toEqual({ k: 4, n: 8 });
+    expect(parseShard('auto', { JOB_COMPLETION_INDEX: '0', QUERN_SHARD_COUNT: '5' })).toEqual({ k: 1, n: 5 });
+    expect(() => parseShard('auto', {})).toThrow(/found no scheduler variables/);
+    expect(() => parseShard('5/4')).toThrow(/shards run from 1 to N/);
+  });
+});
+
+describe('selecting a period and logging', () => {
+  it('--since/--until keep the recordings whose start (bext origination, else modification time) falls inside', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const r = quern('reduce', archive, '--out', out, '--since', '2026-11-19', '--until', '2026-11-21', '--quiet');
+    expect(r.code).toBe(0);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.recordings.map((x: any) => x.recording)).toEqual(['nightly/2026-11-19/pump-endurance.wav', 'nightly/2026-11-20/pump-endurance.wav']);
+    expect(run.period.selected).toBe(2);
+    expect(parseWhen('7d', Date.UTC(2026, 10, 23))).toBe(Date.UTC(2026, 10, 16));
+    expect(() => parseWhen('last week')).toThrow(/neither a date .* nor a span/);
+  });
+
+  it('--log json writes one JSON object a line, ending with a summary', () => {
+    const archive = sampleArchiveCopy();
+    const r = quern('reduce', archive, '--log', 'json');
+    const lines = r.stderr.trim().split('\n').map((l) => JSON.parse(l));
+    expect(lines[0].event).toBe('start');
+    expect(lines.filter((l) => l.event === 'recording').length).toBe(10);
+    expect(lines.at(-1)).toMatchObject({ event: 'summary', reduced: 9, failed: 1 });
+  });
+});
