@@ -1,10 +1,10 @@
 // npm run bench: throughput and peak memory on generated archives, beside a numpy/scipy peer (a benchmark, not a test).
 import { execFileSync, spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, tmpdir, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { BENCH_SCALE, makeBenchArchive } from './generate.js';
+import { BENCH_SCALE, makeBenchArchive, makeManyTinyRecordings } from './generate.js';
 
 interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
 
@@ -13,10 +13,10 @@ const repo = join(here, '..', '..');
 const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
 const say = (s: string) => process.stdout.write(s + '\n');
 
-/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone. */
-function quern(archive: string, jobs: number): Measurement {
-  const out = execFileSync(process.execPath, [join(here, 'measure.js'), archive, join(work, `out-${Math.random()}`), String(jobs)], { encoding: 'utf8' });
-  return JSON.parse(out.trim().split('\n').pop()!);
+/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
+function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string): Measurement & { recomputed: number; reused: number; recordings: number } {
+  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
+  return JSON.parse(text.trim().split('\n').pop()!);
 }
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
@@ -47,7 +47,10 @@ try {
   say('\nfull default feature set (schemas/reduction.default.yaml), envelope on every channel');
   const one = quern(full, 1);
   say(row('quern, --jobs 1', one));
-  say(row(`quern, --jobs ${cpus().length}`, quern(full, cpus().length)));
+  const cores = cpus().length, kept = join(work, 'kept');
+  const all = quern(full, cores, kept);
+  say(row(`quern, --jobs ${cores}`, all));
+  say(`  --jobs ${cores} runs ${(one.seconds / all.seconds).toFixed(2)}× as fast as --jobs 1`);
   const p = peer(full);
   if (p) {
     say(row(`numpy/scipy peer (scipy ${p.scipy}, whole files)`, p));
@@ -55,6 +58,25 @@ try {
   } else {
     say('  (peer skipped: no python3 with scipy; apt-get install python3-scipy)');
   }
+
+  say('\nre-runs into the same output folder (--jobs ' + cores + ')');
+  const again = quern(full, cores, kept);
+  say(row(`nothing changed (${again.recomputed} recomputed, ${again.reused} reused)`, again) + `  ${((again.seconds / all.seconds) * 100).toFixed(1)} % of the first run`);
+  const spec = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
+  writeFileSync(join(full, 'reduction.yaml'), spec.replace('low_hz: 2500, high_hz: 4500', 'low_hz: 3000, high_hz: 5000'));
+  const envelopeOnly = quern(full, cores, kept);
+  say(row('envelope filter changed (envelope recomputed)', envelopeOnly) + `  ${((envelopeOnly.seconds / all.seconds) * 100).toFixed(1)} % of the first run`);
+
+  const tinyCount = Number(process.env.QUERN_BENCH_TINY ?? 100_000);
+  say(`\nan archive of ${tinyCount.toLocaleString('en')} small recordings over three years (statistics only, --jobs ${cores})`);
+  const tiny = join(work, 'tiny'), tinyOut = join(work, 'tiny-out');
+  makeManyTinyRecordings(tiny, tinyCount);
+  const first = quern(tiny, cores, tinyOut);
+  say(`  first reduction of all                         ${first.recordings} recordings ${first.seconds.toFixed(2).padStart(7)} s ${first.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
+  const nightly = quern(tiny, cores, tinyOut, '7d');
+  say(`  nightly run, --since 7d (scan all, reduce none) ${nightly.recordings} recordings ${nightly.seconds.toFixed(2).padStart(7)} s ${nightly.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
+  const rescan = quern(tiny, cores, tinyOut);
+  say(`  whole archive again, nothing changed           ${rescan.recordings} recordings ${rescan.seconds.toFixed(2).padStart(7)} s ${rescan.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
 } finally {
   rmSync(work, { recursive: true, force: true });
 }

@@ -1,5 +1,5 @@
 // Writes long generated WAV recordings block by block, so the benchmark archive never sits in memory.
-import { closeSync, mkdirSync, openSync, writeSync, writeFileSync } from 'node:fs';
+import { closeSync, mkdirSync, openSync, utimesSync, writeSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 
 /** A 16-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. */
@@ -41,3 +41,18 @@ export function makeBenchArchive(dir: string, recordings: { name: string; frames
 
 /** Engineering value of full scale in the bench archives, m/s². */
 export const BENCH_SCALE = 50;
+
+/** Many tiny recordings in nested night folders (an archive of years), for timing the scan of already reduced archives. */
+export function makeManyTinyRecordings(dir: string, count: number): void {
+  const perFolder = 500;
+  for (let i = 0; i < count; i++) {
+    const folder = join(dir, `y${Math.floor(i / 50000)}`, `n${Math.floor(i / perFolder) % 100}`);
+    if (i % perFolder === 0) mkdirSync(folder, { recursive: true });
+    writeLongWav(join(folder, `c${i}.wav`), { frames: 64, channels: 1, sampleRate: 1000 });
+    // Captures spread evenly over the last three years, one every few minutes… the newest today.
+    const when = new Date(Date.now() - ((count - 1 - i) / count) * 3 * 365 * 86_400_000);
+    utimesSync(join(folder, `c${i}.wav`), when, when);
+  }
+  writeFileSync(join(dir, 'archive.yaml'), 'groups:\n  - name: tiny\n    match: "**/*.wav"\n');
+  writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\n');
+}

@@ -1,10 +1,12 @@
 // One measured run in a fresh process: reduces an archive and prints wall time and the process's peak memory as JSON.
+// Usage: node dist/bench/measure.js ARCHIVE OUT JOBS [SINCE]
 import { runReduce } from '../pipeline/run.js';
+import { parseWhen } from '../pipeline/select.js';
 
-const [archive, out, jobs] = process.argv.slice(2);
+const [archive, out, jobs, since] = process.argv.slice(2);
 const t0 = performance.now();
-const { record } = await runReduce({ archive, out, jobs: Number(jobs ?? 1) });
+const { record } = await runReduce({ archive, out, jobs: Number(jobs ?? 1), since: since ? parseWhen(since) : null });
 const seconds = (performance.now() - t0) / 1000;
 const samples = record.recordings.reduce((s, r) => s + r.frames * r.rows, 0);
 // maxRSS covers the whole process, worker threads included (they share it).
-process.stdout.write(JSON.stringify({ seconds, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, failed: record.counts.failed }) + '\n');
+process.stdout.write(JSON.stringify({ seconds, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, failed: record.counts.failed, recomputed: record.counts.recomputed, reused: record.counts.reused, recordings: record.counts.selected }) + '\n');

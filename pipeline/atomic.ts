@@ -3,12 +3,16 @@ import { randomBytes } from 'node:crypto';
 import { open, rename, rm } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 
-export async function writeFileAtomic(path: string, data: Uint8Array | string): Promise<void> {
+/**
+ * Whole or nothing under a crash of the process. `durable` also flushes to the disk, so the file survives a power cut;
+ * cache entries skip that (a torn entry reads as absent and is recomputed), which saves two disk flushes a recording.
+ */
+export async function writeFileAtomic(path: string, data: Uint8Array | string, { durable = true } = {}): Promise<void> {
   const tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   const fh = await open(tmp, 'w');
   try {
     await fh.writeFile(data);
-    await fh.sync();
+    if (durable) await fh.sync();
     await fh.close();
     await rename(tmp, path);
   } catch (e) {
@@ -16,6 +20,7 @@ export async function writeFileAtomic(path: string, data: Uint8Array | string): 
     await rm(tmp, { force: true });
     throw e;
   }
+  if (!durable) return;
   // Make the rename itself durable (a power cut after a rename must not bring the old file back).
   const dir = await open(dirname(path), 'r');
   try { await dir.sync(); } catch { /* some file systems refuse fsync on folders */ } finally { await dir.close(); }

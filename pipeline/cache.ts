@@ -40,10 +40,13 @@ export async function readEntry(out: string, recording: string): Promise<CacheEn
   }
 }
 
+/** Folders known to exist, so that storing thousands of small entries does not ask the file system each time. */
+const made = new Set<string>();
+
 export async function writeEntry(out: string, entry: CacheEntry): Promise<void> {
   const path = entryPath(out, entry.recording);
-  await mkdir(dirname(path), { recursive: true });
-  await writeFileAtomic(path, JSON.stringify(entry));
+  if (!made.has(dirname(path))) { await mkdir(dirname(path), { recursive: true }); made.add(dirname(path)); }
+  await writeFileAtomic(path, JSON.stringify(entry), { durable: false });
 }
 
 /** SHA-256 of a file's bytes, streamed. */

@@ -11,6 +11,8 @@ const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '
 const num = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(4)) : v == null ? '—' : String(v));
 export const channelId = (recording: string, channel: string) => `ch-${Buffer.from(`${recording}\u0000${channel}`).toString('base64url')}`;
 
+const MAX_PICTURED = 300;
+
 const badge = (s: Severity) => `<span class="sev sev-${s}">${LABEL[s]}</span>`;
 
 export function qualityHtml(q: QualityReport, results: RecordingResult[]): string {
@@ -61,15 +63,19 @@ section.channel h3 { margin: 0 0 8px; font-size: 15px; }
   }
   out.push('</table>');
   out.push('<h2>Channels that need a second look</h2>');
-  for (const r of q.recordings) {
-    for (const c of r.channels.filter((x) => x.severity !== 'ok')) {
+  // Unusable channels first, then those to check; beyond MAX_PICTURED the pictures are left out to keep the page light.
+  const notOk = q.recordings.flatMap((r) => r.channels.filter((x) => x.severity !== 'ok').map((c) => ({ r, c })));
+  notOk.sort((a, b) => (a.c.severity === b.c.severity ? 0 : a.c.severity === 'fail' ? -1 : 1));
+  if (notOk.length > MAX_PICTURED) out.push(`<p class="note">${notOk.length} channels need a second look; pictures are shown for the first ${MAX_PICTURED} (unusable ones first). Every flag of every channel is in quality.json.</p>`);
+  for (const [i, { r, c }] of notOk.entries()) {
+    {
       const charts = chartsOf.get(`${r.recording}\u0000${c.channel}`);
       out.push(`<section class="channel" id="${channelId(r.recording, c.channel)}" data-recording="${esc(r.recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}" style="border-color:${COLOURS[c.severity]}">
 <h3>${badge(c.severity)} ${esc(r.recording)} · ${esc(c.channel)} <span class="note">(${esc(c.unit)})</span></h3>
 <table><tr><th>flag</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>
 ${c.flags.filter((f) => f.severity !== 'ok').map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(num(f.value))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
 </table>`);
-      if (charts) out.push(`<div class="charts">${charts.join('')}</div>`);
+      if (charts && i < MAX_PICTURED) out.push(`<div class="charts">${charts.join('')}</div>`);
       out.push('</section>');
     }
   }

@@ -1,6 +1,14 @@
 // Statistics of the signal: moments, extremes, RMS and crest factor in one streaming pass.
-import type { StageDefinition } from './stage.js';
-import { chunkMoments, combineMoments, describe, emptyMoments } from './dsp/moments.js';
+import type { ChannelContext, Stage, StageDefinition } from './stage.js';
+import { chunkMoments, combineMoments, describe, emptyMoments, type Moments } from './dsp/moments.js';
+
+/** The channel's moments, accumulated once and read by every stage that needs them. */
+export function momentsOf(ctx: ChannelContext): Stage & { moments(): Moments } {
+  return ctx.shared('moments', () => {
+    let acc = emptyMoments();
+    return { push: (x) => { acc = combineMoments(acc, chunkMoments(x)); }, finish: () => ({}), moments: () => acc };
+  });
+}
 
 export const statistics: StageDefinition<Record<string, never>> = {
   group: 'statistics',
@@ -17,11 +25,11 @@ export const statistics: StageDefinition<Record<string, never>> = {
     { name: 'kurtosis', unit: '1', description: "Pearson's kurtosis, fourth standardised moment: 3 for a Gaussian." },
     { name: 'n_nonfinite', unit: '1', description: 'Samples that were missing or not finite, left out of the statistics.' },
   ],
-  create() {
-    let acc = emptyMoments();
+  create(ctx) {
+    const m = momentsOf(ctx);
     return {
-      push(samples) { acc = combineMoments(acc, chunkMoments(samples)); },
-      finish() { return { ...describe(acc), n_nonfinite: acc.nonFinite }; },
+      push() {},
+      finish() { const acc = m.moments(); return { ...describe(acc), n_nonfinite: acc.nonFinite }; },
     };
   },
 };

@@ -2,14 +2,22 @@
 import { describe, expect, it } from 'vitest';
 import { chunkMoments, combineMoments, describe as describeMoments, emptyMoments } from '../stages/dsp/moments.js';
 import { statistics } from '../stages/stats.js';
-import type { ChannelContext } from '../stages/stage.js';
+import type { ChannelContext, Stage } from '../stages/stage.js';
 
-const ctx: ChannelContext = { name: 'x', quantity: 'q', unit: 'u', sampleRate: 1000, range: null, bits: null, maxFrequencyHz: null, stepSize: null, shared: (_k, make) => make(), note: () => {}, addRow: () => {}, fullScale: null, declared: true, declaredDurationS: null, timeSteps: () => null, flag: () => {}, evidence: () => {} };
-
-/** Feeds a signal through the statistics stage in uneven chunks, as the pipeline would. */
+/** Feeds a signal through the statistics stage in uneven chunks, as the pipeline would: shared products first, then the stage. */
 function stats(x: Float64Array, chunk = 1000) {
+  const shared = new Map<string, Stage>();
+  const ctx: ChannelContext = {
+    name: 'x', quantity: 'q', unit: 'u', sampleRate: 1000, range: null, bits: null, maxFrequencyHz: null, stepSize: null, fullScale: null,
+    declared: true, declaredDurationS: null, timeSteps: () => null, note: () => {}, addRow: () => {}, flag: () => {}, evidence: () => {},
+    shared: <T extends Stage>(k: string, make: () => T) => (shared.get(k) ?? shared.set(k, make()).get(k)) as T,
+  };
   const s = statistics.create(ctx, {});
-  for (let i = 0; i < x.length; i += chunk) s.push(x.subarray(i, Math.min(x.length, i + chunk)));
+  for (let i = 0; i < x.length; i += chunk) {
+    const part = x.subarray(i, Math.min(x.length, i + chunk));
+    for (const p of shared.values()) p.push(part);
+    s.push(part);
+  }
   return s.finish() as Record<string, number>;
 }
 

@@ -1,7 +1,8 @@
 // Envelope as the magnitude of the analytic signal, by FFT (Marple, IEEE Trans. SP 47(9), 1999), computed block-wise:
 // each block is transformed with `context` samples of signal on either side, tapered by half-Hann ramps, and only its
 // middle is kept. For band-limited signals the Hilbert transform acts locally (Bedrosian 1963), so the ramps leave no trace.
-import FFT from 'fft.js';
+import type FFT from 'fft.js';
+import { fftOf } from './welch.js';
 
 export class StreamingEnvelope {
   private readonly fft: FFT;
@@ -18,7 +19,7 @@ export class StreamingEnvelope {
   private readonly ramp: Float64Array;
 
   constructor(private readonly emit: (env: Float64Array) => void, private readonly size = 16384, private readonly context = 2048) {
-    this.fft = new FFT(size);
+    this.fft = fftOf(size);
     this.bufStart = -size / 2;
     this.bufLen = size / 2;
     this.buf = new Float64Array(size);

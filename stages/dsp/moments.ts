@@ -30,11 +30,18 @@ export function chunkMoments(x: Float64Array): Moments {
   if (n === 0) return { ...emptyMoments(), nonFinite };
   const m0 = sum / n;
   let s1 = 0, s2 = 0, s3 = 0, s4 = 0;
-  for (let i = 0; i < x.length; i++) {
-    const v = x[i];
-    if (!Number.isFinite(v)) continue;
-    const d = v - m0, d2 = d * d;
-    s1 += d; s2 += d2; s3 += d2 * d; s4 += d2 * d2;
+  if (nonFinite === 0) {
+    for (let i = 0; i < x.length; i++) {
+      const d = x[i] - m0, d2 = d * d;
+      s1 += d; s2 += d2; s3 += d2 * d; s4 += d2 * d2;
+    }
+  } else {
+    for (let i = 0; i < x.length; i++) {
+      const v = x[i];
+      if (!Number.isFinite(v)) continue;
+      const d = v - m0, d2 = d * d;
+      s1 += d; s2 += d2; s3 += d2 * d; s4 += d2 * d2;
+    }
   }
   const c = s1 / n;
   const m2 = Math.max(0, s2 - s1 * c);

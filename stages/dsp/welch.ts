@@ -13,6 +13,10 @@ export interface Psd {
   segment: number;
 }
 
+// FFT plans (twiddle tables) depend only on the size: made once per thread and shared.
+const plans = new Map<number, FFT>();
+export const fftOf = (n: number) => plans.get(n) ?? plans.set(n, new FFT(n)).get(n)!;
+
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
 /** Accumulates Welch's estimate chunk by chunk, holding one segment of samples. */
@@ -32,7 +36,7 @@ export class Welch {
     this.buf = new Float64Array(o.segment);
     this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
     this.sum = new Float64Array(o.segment / 2 + 1);
-    this.fft = new FFT(o.segment);
+    this.fft = fftOf(o.segment);
     this.win = makeWindow(o.window, o.segment);
     this.work = new Float64Array(o.segment);
     this.out = new Float64Array(2 * o.segment);
@@ -60,7 +64,7 @@ export class Welch {
     let n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
     if (n < 8) return null;
     const win = makeWindow(this.o.window, n);
-    const fft = new FFT(n);
+    const fft = fftOf(n);
     const sum = new Float64Array(n / 2 + 1);
     addPeriodogram(this.buf.subarray(0, n), win, fft, new Float64Array(n), new Float64Array(2 * n), sum);
     return scaleDensity(sum, 1, win, this.fs);

@@ -1,4 +1,5 @@
-// Declaration: the channel against what archive.yaml says of it (declared at all, expected duration).
+// Declaration: the recording against what archive.yaml says of it (expected duration); sample rate and channel count
+// mismatches fail the whole recording before any stage runs (pipeline/reduce.ts).
 import type { StageDefinition } from '../stage.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
@@ -13,14 +14,15 @@ export const declaration: StageDefinition<QualityThresholds> = {
         const issues: string[] = [];
         const duration = n / ctx.sampleRate;
         const want = ctx.declaredDurationS;
-        if (!ctx.declared) issues.push('the channel is not declared in archive.yaml, so its values are in stored units (no scale, range or unit)');
         if (want != null && Math.abs(duration - want) > q.declaration.duration_tolerance * want) issues.push(`the recording lasts ${secs(duration)} but ${secs(want)} is declared`);
         const severity: Severity = issues.length ? 'warn' : 'ok';
+        // A group may leave its channels undeclared on purpose; that is said, not flagged.
+        const undeclared = ctx.declared ? '' : '; channel not declared in archive.yaml, so its values are in stored units (no scale, range or unit)';
         ctx.flag({
           name: 'declaration', severity, value: duration,
           threshold: `warn: channel undeclared, or duration off the declared one by more than ${pct(q.declaration.duration_tolerance)}`,
           evidence: { duration_s: duration, declared_duration_s: want },
-          message: issues.length ? `${issues.join('; ')}: correct archive.yaml or the capture` : 'as declared',
+          message: (issues.length ? `${issues.join('; ')}: correct archive.yaml or the capture` : 'as declared') + undeclared,
         });
         return {};
       },

@@ -1,5 +1,5 @@
 // Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
-import { chunkMoments, combineMoments, emptyMoments } from '../dsp/moments.js';
+import { momentsOf } from '../stats.js';
 import type { StageDefinition } from '../stage.js';
 import type { QualityThresholds, Severity } from './flag.js';
 
@@ -14,10 +14,11 @@ export const resolution: StageDefinition<QualityThresholds> = {
     { name: 'quantisation_snr_db', unit: 'dB', description: '20·log10(std / (step/√12)): signal against ideal quantisation noise.' },
   ],
   create(ctx, q) {
-    let m = emptyMoments();
+    const shared = momentsOf(ctx);
     return {
-      push(x) { m = combineMoments(m, chunkMoments(x)); },
+      push() {},
       finish() {
+        const m = shared.moments();
         const step = ctx.stepSize;
         const threshold = `warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;

@@ -56,23 +56,30 @@ export async function openWav(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   try {
     const size = (await file.stat()).size;
     const head = Buffer.alloc(12);
-    await file.read(head, 0, 12, 0);
+    await file.read(head, 0, Math.min(12, size), 0);
     const riff = head.toString('latin1', 0, 4);
     if (riff === 'RF64' || riff === 'BW64') throw new RecordingError(`byte 0: ${riff} (64-bit RIFF) files are not supported; split the capture into WAV files under 4 GiB`);
     if (riff !== 'RIFF' || head.toString('latin1', 8, 12) !== 'WAVE') throw new RecordingError(`byte 0: not a RIFF/WAVE file (starts with "${head.toString('latin1', 0, 4).replace(/[^\x20-\x7e]/g, '?')}"); check the group's format or the file`);
     let fmt: FmtChunk | null = null;
     let start: Date | null = null;
     let data: { offset: number; size: number } | null = null;
+    // One read of the first 64 KiB holds the header chunks of nearly every file; later chunk headers are read where they lie.
+    const head64 = Buffer.alloc(Math.min(size, 65536));
+    await file.read(head64, 0, head64.length, 0);
+    const bytesAt = async (at: number, length: number): Promise<Buffer> => {
+      if (at + length <= head64.length) return head64.subarray(at, at + length);
+      const b = Buffer.alloc(Math.max(0, Math.min(length, size - at)));
+      await file.read(b, 0, b.length, at);
+      return b;
+    };
     let pos = 12;
-    const ch = Buffer.alloc(8);
     while (pos + 8 <= size) {
-      await file.read(ch, 0, 8, pos);
+      const ch = await bytesAt(pos, 8);
       const id = ch.toString('latin1', 0, 4);
       const len = ch.readUInt32LE(4);
       const body = pos + 8;
       if (id === 'fmt ' || id === 'bext') {
-        const b = Buffer.alloc(Math.min(len, 4096));
-        await file.read(b, 0, b.length, body);
+        const b = await bytesAt(body, Math.min(len, 4096));
         if (id === 'fmt ') fmt = parseFmt(b, `byte ${body}`);
         else start = bextStartTime(b);
       } else if (id === 'data') {
