@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-// quern's command line: reduce, merge, check and peek, with documented exit codes.
+// quern's command line: reduce, merge, export, check and peek, with documented exit codes.
 import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
@@ -8,6 +8,7 @@ import { toolVersion } from './package-files.js';
 import { runPeek } from './peek.js';
 import { progressFor } from './progress.js';
 import { summaryText } from './report.js';
+import { parseFormats, runExport } from './export.js';
 import { runMerge } from './merge.js';
 import { runReduce } from './run.js';
 import { parseShard, parseWhen } from './select.js';
@@ -15,6 +16,13 @@ import { UsageError } from './yaml-file.js';
 
 /** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input. */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
+
+const EXPORT_FORMAT_OPTIONS = {
+  bom: { type: 'boolean', default: false, describe: 'CSV: start with a UTF-8 byte-order mark' },
+  'decimal-comma': { type: 'boolean', default: false, describe: 'CSV: semicolon-separated with decimal commas' },
+  digits: { type: 'number', describe: 'Round numbers to this many significant digits (default: full double precision)' },
+  wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
+} as const;
 
 const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec).`;
 
@@ -36,8 +44,11 @@ async function main(argv: string[]): Promise<number> {
       .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time or span back from now (7d, 12h)' })
       .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
       .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
-      .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' }),
+      .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
+      .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
+      .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      const exportTo = a.export ? parseFormats(a.export) : null;
       let shard = null, since = null, until = null;
       try {
         shard = a.shard ? parseShard(a.shard) : null;
@@ -50,7 +61,15 @@ async function main(argv: string[]): Promise<number> {
       const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
+      if (exportTo && !shard) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+    })
+    .command('export <reduced>', 'Write spreadsheet-ready copies of a reduced folder\'s tables beside them: CSV per table, one XLSX workbook', (y: Argv) => y
+      .positional('reduced', { type: 'string', demandOption: true, describe: 'A folder quern reduce or quern merge wrote' })
+      .option('to', { type: 'string', demandOption: true, describe: 'csv, xlsx or csv,xlsx' })
+      .options(EXPORT_FORMAT_OPTIONS),
+    async (a) => {
+      for (const f of await runExport(a.reduced as string, { to: parseFormats(a.to), bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`${f}\n`);
     })
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
       .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' }),
@@ -103,7 +122,7 @@ async function main(argv: string[]): Promise<number> {
       for (const t of table) out.push('  ' + t.map((v, i) => String(v).padStart(widths[i])).join('  '));
       process.stdout.write(out.join('\n') + '\n');
     })
-    .demandCommand(1, 'Name a command: reduce, merge, check or peek.')
+    .demandCommand(1, 'Name a command: reduce, merge, export, check or peek.')
     .strict()
     .epilogue(EPILOGUE)
     .version(toolVersion)

@@ -1,0 +1,39 @@
+// CSV per table (RFC 4180: quoted text, CRLF line ends, UTF-8), safe to open in a spreadsheet.
+import type { Cell, ExportColumn, ExportTable } from './export-tables.js';
+
+export interface CsvOptions {
+  /** Start with a UTF-8 byte-order mark, which some spreadsheets need to take the file as UTF-8. */
+  bom?: boolean;
+  /** Semicolon-separated with decimal commas, as spreadsheets in many locales expect. */
+  decimalComma?: boolean;
+  /** Round numbers to this many significant digits; full double precision when omitted. */
+  digits?: number | null;
+}
+
+// Cells a spreadsheet would run as a formula start with one of these (OWASP, "CSV Injection"): a leading apostrophe makes them text.
+const FORMULA_START = /^[=+\-@\t\r]/;
+export const neutralise = (s: string) => (FORMULA_START.test(s) ? `'${s}` : s);
+
+/** A number as text that reads back as the same double (shortest round-trip form), or rounded to `digits`. */
+export const numberText = (v: number, digits: number | null | undefined) => String(digits ? Number(v.toPrecision(digits)) : v);
+
+/** The header cell: name and unit; "[unit]" stands for the channel's own unit, given in the row's `unit` column. */
+export function headerText(c: ExportColumn): string {
+  if (!c.unit || c.unit === '1') return c.name;
+  return `${c.name} [${c.unit.replace('[unit]^2', 'channel unit²').replace('[unit]', 'channel unit')}]`;
+}
+
+function cellText(v: Cell, c: ExportColumn, o: CsvOptions): string {
+  if (v == null) return '';
+  if (c.kind === 'number') { const t = numberText(v as number, o.digits); return o.decimalComma ? t.replace('.', ',') : t; }
+  if (c.kind === 'integer') return String(v);
+  const text = c.kind === 'time' ? new Date(v as number).toISOString() : neutralise(String(v));
+  return `"${text.replace(/"/g, '""')}"`;
+}
+
+export function toCsv(t: ExportTable, o: CsvOptions = {}): string {
+  const d = o.decimalComma ? ';' : ',';
+  const lines = [t.columns.map((c) => `"${neutralise(headerText(c)).replace(/"/g, '""')}"`).join(d)];
+  for (const row of t.rows) lines.push(row.map((v, i) => cellText(v, t.columns[i], o)).join(d));
+  return (o.bom ? '\uFEFF' : '') + lines.join('\r\n') + '\r\n';
+}

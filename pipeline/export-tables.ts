@@ -1,0 +1,83 @@
+// The reduced tables as plain rows for export: read back from the Parquet files and reports a run wrote.
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import * as arrow from 'apache-arrow';
+import { readParquet } from 'parquet-wasm/node';
+import { UsageError } from './yaml-file.js';
+
+export type CellKind = 'text' | 'number' | 'integer' | 'time';
+export interface ExportColumn { name: string; unit: string; kind: CellKind }
+export type Cell = string | number | bigint | null;
+export interface ExportTable { name: string; columns: ExportColumn[]; rows: Cell[][] }
+
+export async function readParquetTable(path: string, name: string): Promise<ExportTable> {
+  let bytes: Buffer;
+  try {
+    bytes = await readFile(path);
+  } catch {
+    throw new UsageError(`${path}: missing; export reads a folder that quern reduce (or quern merge) wrote`);
+  }
+  const table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());
+  const columns: ExportColumn[] = table.schema.fields.map((f) => ({
+    name: f.name,
+    unit: f.metadata.get('unit') ?? '',
+    kind: arrow.DataType.isTimestamp(f.type) ? 'time' : arrow.DataType.isInt(f.type) ? 'integer' : arrow.DataType.isFloat(f.type) ? 'number' : 'text',
+  }));
+  const vectors = columns.map((c) => table.getChild(c.name)!);
+  const rows: Cell[][] = [];
+  for (let i = 0; i < table.numRows; i++) {
+    rows.push(vectors.map((v, j) => {
+      const x = v.get(i);
+      if (x == null) return null;
+      if (columns[j].kind === 'time') return Number(x instanceof Date ? x.getTime() : x);
+      if (columns[j].kind === 'integer') return typeof x === 'bigint' ? x : BigInt(x);
+      return x as Cell;
+    }));
+  }
+  return { name, columns, rows };
+}
+
+/** One row per channel × flag (and per unreadable recording), from quality.json. */
+export async function readQualityFlags(dir: string): Promise<ExportTable> {
+  const q = JSON.parse(await readFile(join(dir, 'quality.json'), 'utf8'));
+  const columns: ExportColumn[] = [
+    { name: 'recording', unit: '', kind: 'text' }, { name: 'channel', unit: '', kind: 'text' }, { name: 'flag', unit: '', kind: 'text' },
+    { name: 'severity', unit: '', kind: 'text' }, { name: 'value', unit: '', kind: 'number' }, { name: 'threshold', unit: '', kind: 'text' },
+    { name: 'message', unit: '', kind: 'text' }, { name: 'evidence', unit: '', kind: 'text' },
+  ];
+  const rows: Cell[][] = [];
+  for (const r of q.recordings) {
+    if (r.status === 'failed') rows.push([r.recording, null, 'readable', 'fail', null, 'the recording must be readable and agree with its declaration', r.reason ?? '', '{}']);
+    for (const c of r.channels) for (const f of c.flags) rows.push([r.recording, c.channel, f.name, f.severity, f.value, f.threshold, f.message, JSON.stringify(f.evidence)]);
+  }
+  return { name: 'quality flags', columns, rows };
+}
+
+/** The identity columns that stay unprefixed in the wide layout (one value per recording). */
+const PER_RECORDING = new Set(['recording', 'group', 'sample_rate', 'n', 'duration_s', 'start_time']);
+
+/** One row per recording, channel-prefixed columns ("acc_de.rms"), for comparing recordings side by side. */
+export function widen(features: ExportTable, labels: string[]): ExportTable {
+  const col = new Map(features.columns.map((c, i) => [c.name, i]));
+  const keep = features.columns.filter((c) => PER_RECORDING.has(c.name) || labels.includes(c.name));
+  const perChannel = features.columns.filter((c) => !PER_RECORDING.has(c.name) && !labels.includes(c.name) && c.name !== 'channel');
+  const channels: string[] = [];
+  const unitOf = new Map<string, Set<string>>();
+  const byRecording = new Map<string, Cell[][]>();
+  for (const row of features.rows) {
+    const ch = String(row[col.get('channel')!]);
+    if (!channels.includes(ch)) channels.push(ch);
+    (unitOf.get(ch) ?? unitOf.set(ch, new Set()).get(ch)!).add(String(row[col.get('unit')!]));
+    const rec = String(row[col.get('recording')!]);
+    (byRecording.get(rec) ?? byRecording.set(rec, []).get(rec)!).push(row);
+  }
+  // The channel's unit replaces "[unit]" where every recording agrees on it.
+  const resolve = (unit: string, ch: string) => (unitOf.get(ch)!.size === 1 ? unit.replace('[unit]', [...unitOf.get(ch)!][0]) : unit);
+  const columns: ExportColumn[] = [...keep, ...channels.flatMap((ch) => perChannel.map((c) => ({ ...c, name: `${ch}.${c.name}`, unit: resolve(c.unit, ch) })))];
+  const rows = [...byRecording.values()].map((rows) => {
+    const first = rows[0];
+    const byChannel = new Map(rows.map((r) => [String(r[col.get('channel')!]), r]));
+    return [...keep.map((c) => first[col.get(c.name)!]), ...channels.flatMap((ch) => perChannel.map((c) => byChannel.get(ch)?.[col.get(c.name)!] ?? null))];
+  });
+  return { name: 'features wide', columns, rows };
+}

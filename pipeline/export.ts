@@ -1,0 +1,59 @@
+// quern export: spreadsheet-ready copies of a reduced folder's tables, beside them: CSV per table and one XLSX workbook.
+import { readFile } from 'node:fs/promises';
+import { join, resolve } from 'node:path';
+import { writeFileAtomic } from './atomic.js';
+import { toCsv, type CsvOptions } from './export-csv.js';
+import { readParquetTable, readQualityFlags, widen, type ExportTable } from './export-tables.js';
+import { toXlsx } from './export-xlsx.js';
+import { UsageError } from './yaml-file.js';
+
+export type ExportFormat = 'csv' | 'xlsx';
+export interface ExportOptions extends CsvOptions { to: ExportFormat[]; wide?: boolean }
+
+/** File names of the exports, beside the Parquet tables. */
+export const CSV_FILES: Record<string, string> = { features: 'features.csv', windows: 'windows.csv', 'quality flags': 'quality-flags.csv', 'features wide': 'features-wide.csv' };
+export const XLSX_FILE = 'tables.xlsx';
+
+export async function runExport(dir: string, o: ExportOptions): Promise<string[]> {
+  const root = resolve(dir);
+  let run: any;
+  try {
+    run = JSON.parse(await readFile(join(root, 'run.json'), 'utf8'));
+  } catch {
+    throw new UsageError(`${join(root, 'run.json')}: missing or unreadable; give a folder that quern reduce (or quern merge) wrote`);
+  }
+  if (o.digits != null && !(Number.isInteger(o.digits) && o.digits >= 1 && o.digits <= 17)) throw new UsageError(`--digits takes a whole number from 1 to 17, got ${o.digits}`);
+  const features = await readParquetTable(join(root, 'features.parquet'), 'features');
+  const tables: ExportTable[] = [features];
+  if (o.wide) tables.push(widen(features, run.label_columns ?? []));
+  tables.push(await readParquetTable(join(root, 'windows.parquet'), 'windows'), await readQualityFlags(root));
+  const written: string[] = [];
+  if (o.to.includes('csv')) {
+    for (const t of tables) {
+      const path = join(root, CSV_FILES[t.name]);
+      await writeFileAtomic(path, toCsv(t, o));
+      written.push(path);
+    }
+  }
+  if (o.to.includes('xlsx')) {
+    const facts: [string, string][] = [
+      ['tool', `quern ${run.version}`], ['run id', run.run_id], ['archive', run.archive], ['started', run.started], ['finished', run.finished],
+      ['recordings', `${run.counts.reduced} reduced, ${run.counts.failed} failed, ${run.counts.unmatched} unmatched`],
+      ['spec source', run.spec.source], ['spec hash (SHA-256)', run.spec.hash], ['spec', JSON.stringify(run.spec.value, null, 1)],
+      ['units', '"[channel unit]" in a header means the unit given in the row\'s unit column'],
+      ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],
+    ];
+    const path = join(root, XLSX_FILE);
+    await writeFileAtomic(path, await toXlsx(tables, { rows: facts }, { digits: o.digits ?? null }));
+    written.push(path);
+  }
+  return written;
+}
+
+/** "csv,xlsx" → ['csv', 'xlsx']. */
+export function parseFormats(text: string | string[]): ExportFormat[] {
+  const list = (Array.isArray(text) ? text : [text]).flatMap((t) => t.split(',')).map((t) => t.trim().toLowerCase()).filter(Boolean);
+  const bad = list.filter((t) => t !== 'csv' && t !== 'xlsx');
+  if (bad.length || !list.length) throw new UsageError(`export formats are csv and xlsx (e.g. csv,xlsx), got "${[text].flat().join(',')}"`);
+  return [...new Set(list)] as ExportFormat[];
+}

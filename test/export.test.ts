@@ -1,0 +1,164 @@
+// Spreadsheet exports: RFC 4180 CSV read back by a strict parser, XLSX read back by a second, independent reader (SheetJS)
+// and by LibreOffice, numbers equal to the Parquet values (read by DuckDB), and formula injection neutralised.
+import { execFileSync } from 'node:child_process';
+import { existsSync, mkdirSync, readFileSync, readdirSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { parse } from 'csv-parse/sync';
+import ExcelJS from 'exceljs';
+import { beforeAll, describe, expect, it } from 'vitest';
+import * as XLSX from 'xlsx';
+import { encodeWav } from '../scripts/wav-file.js';
+import { quern, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+
+const SOFFICE = '/usr/bin/soffice';
+const INJECTION = '=HYPERLINK("http://example.invalid","x")';
+
+async function parquetRows(path: string) {
+  const db = await (await DuckDBInstance.create()).connect();
+  return (await db.runAndReadAll(`select * from '${path}'`)).getRowObjectsJS() as Record<string, unknown>[];
+}
+const key = (r: Record<string, unknown>) => `${r.recording}|${r.channel}`;
+/** The CSV/XLSX header cell for a column: "name" or "name [unit]". */
+const base = (header: string) => header.replace(/ \[.*\]$/, '');
+
+describe('exports of the sample archive', () => {
+  let out = '';
+  let parquet: Record<string, unknown>[] = [];
+  beforeAll(async () => {
+    const archive = sampleArchiveCopy();
+    out = join(archive, '..', 'out');
+    const r = quern('reduce', archive, '--out', out, '--quiet', '--export', 'csv,xlsx', '--wide');
+    expect(r.stdout).toMatch(/export:\s+.*tables\.xlsx/);
+    parquet = await parquetRows(join(out, 'features.parquet'));
+  });
+
+  it('writes RFC 4180 CSV (CRLF, quoted text, UTF-8) that a strict parser reads back to the Parquet values at full double precision', () => {
+    const text = readFileSync(join(out, 'features.csv'), 'utf8');
+    expect(text.includes('\r\n')).toBe(true);
+    expect(text.replace(/\r\n/g, '').includes('\n')).toBe(false);
+    const rows: string[][] = parse(text, { relax_quotes: false, relax_column_count: false, record_delimiter: '\r\n' });
+    const header = rows[0].map(base);
+    expect(rows[0]).toContain('rms [channel unit]');
+    expect(rows[0]).toContain('velocity_10_1000_rms [mm/s]');
+    expect(rows.length - 1).toBe(parquet.length);
+    const byKey = new Map(parquet.map((r) => [key(r), r]));
+    let compared = 0;
+    for (const row of rows.slice(1)) {
+      const obj = Object.fromEntries(header.map((h, i) => [h, row[i]]));
+      const p = byKey.get(`${obj.recording}|${obj.channel}`)!;
+      for (const [h, v] of Object.entries(obj)) {
+        const pv = p[h];
+        if (typeof pv === 'number') { expect(Number(v), h).toBe(pv); compared++; }
+        if (pv === null) expect(v, h).toBe('');
+      }
+    }
+    expect(compared).toBeGreaterThan(1000);
+    // Column order is the table's own, and stable.
+    expect(header.slice(0, 5)).toEqual(['recording', 'group', 'channel', 'quantity', 'unit']);
+  });
+
+  it('writes a wide layout: one row per recording, channel-prefixed columns with the channel unit resolved', () => {
+    const rows: string[][] = parse(readFileSync(join(out, 'features-wide.csv'), 'utf8'), { record_delimiter: '\r\n' });
+    expect(rows.length - 1).toBe(new Set(parquet.map((r) => r.recording)).size);
+    expect(rows[0]).toContain('acc_de.rms [m/s^2]');
+    expect(rows[0]).toContain('pressure.mean [bar]');
+    const h = rows[0];
+    const night = rows.find((r) => r[0] === 'nightly/2026-11-16/pump-endurance.wav')!;
+    const p = parquet.find((r) => r.recording === 'nightly/2026-11-16/pump-endurance.wav' && r.channel === 'mic')!;
+    expect(Number(night[h.indexOf('mic.rms [Pa]')])).toBe(p.rms);
+  });
+
+  it('writes an XLSX workbook that SheetJS reads back to the same numbers, with sheets for every table and the run', async () => {
+    const wb = XLSX.read(readFileSync(join(out, 'tables.xlsx')));
+    expect(wb.SheetNames).toEqual(['features', 'features wide', 'windows', 'quality flags', 'run']);
+    const rows = XLSX.utils.sheet_to_json<unknown[]>(wb.Sheets.features, { header: 1, raw: true });
+    const header = (rows[0] as string[]).map(base);
+    const byKey = new Map(parquet.map((r) => [key(r), r]));
+    let compared = 0;
+    for (const row of rows.slice(1)) {
+      const obj = Object.fromEntries(header.map((h, i) => [h, row[i]]));
+      const p = byKey.get(`${obj.recording}|${obj.channel}`)!;
+      for (const h of header) if (typeof p[h] === 'number') { expect(obj[h], h).toBe(p[h]); compared++; }
+    }
+    expect(compared).toBeGreaterThan(1000);
+    expect(wb.Sheets.features['!autofilter']).toBeDefined();
+    const run = XLSX.utils.sheet_to_json<string[]>(wb.Sheets.run, { header: 1 });
+    expect(run.map((r) => r[0])).toEqual(expect.arrayContaining(['tool', 'run id', 'archive', 'spec', 'spec hash (SHA-256)']));
+    // Layout, read with exceljs: frozen header row, severities filled with colour.
+    const xl = new ExcelJS.Workbook();
+    await xl.xlsx.readFile(join(out, 'tables.xlsx'));
+    const ws = xl.getWorksheet('features')!;
+    expect(ws.views[0]).toMatchObject({ state: 'frozen', ySplit: 1 });
+    const qcol = (ws.getRow(1).values as string[]).indexOf('quality');
+    const failRow = ws.getRows(2, ws.rowCount - 1)!.find((r) => r.getCell(qcol).value === 'fail')!;
+    expect((failRow.getCell(qcol).fill as ExcelJS.FillPattern).fgColor?.argb).toBe('FFF1D3CD');
+  });
+
+  it('rounds to the number of significant digits asked for, and writes semicolons with decimal commas and a byte-order mark on request', async () => {
+    quern('export', out, '--to', 'csv', '--digits', '6', '--decimal-comma', '--bom');
+    const text = readFileSync(join(out, 'features.csv'), 'utf8');
+    expect(text.charCodeAt(0)).toBe(0xfeff);
+    const rows: string[][] = parse(text, { delimiter: ';', bom: true, record_delimiter: '\r\n' });
+    const header = rows[0].map(base);
+    const i = header.indexOf('rms');
+    for (const row of rows.slice(1)) {
+      const p = parquet.find((r) => r.recording === row[0] && r.channel === row[2])!;
+      expect(Number(row[i].replace(',', '.'))).toBe(Number((p.rms as number).toPrecision(6)));
+    }
+  });
+});
+
+describe('formula injection (OWASP, "CSV Injection")', () => {
+  let out = '';
+  beforeAll(() => {
+    const archive = join(tempDir(), 'archive');
+    mkdirSync(archive);
+    writeFileSync(join(archive, 'archive.yaml'), `groups:\n  - name: g\n    match: "*.wav"\n    labels: { rig: "@SUM(1+1)" }\n    channels:\n      - { name: '${INJECTION}', quantity: voltage, unit: "-V" }\n`);
+    writeFileSync(join(archive, '+cmd.wav'), encodeWav({ sampleRate: 1000, channels: [Float64Array.from({ length: 2000 }, (_, i) => 0.3 * Math.sin(i / 7))] }));
+    out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet', '--export', 'csv,xlsx');
+  });
+
+  it('CSV: a channel, a file and a label that a spreadsheet would run as formulas arrive as inert text', () => {
+    const rows: string[][] = parse(readFileSync(join(out, 'features.csv'), 'utf8'), { record_delimiter: '\r\n' });
+    const h = rows[0].map(base);
+    const row = rows[1];
+    expect(row[h.indexOf('channel')]).toBe(`'${INJECTION}`);
+    expect(row[h.indexOf('recording')]).toBe("'+cmd.wav");
+    expect(row[h.indexOf('rig')]).toBe("'@SUM(1+1)");
+    expect(row[h.indexOf('unit')]).toBe("'-V");
+    // Numbers are not text: a negative mean stays a number.
+    expect(Number.isFinite(Number(row[h.indexOf('min')]))).toBe(true);
+    expect(row[h.indexOf('min')].startsWith('-')).toBe(true);
+  });
+
+  it('XLSX: the same cells are strings, not formulas, for SheetJS and for LibreOffice', () => {
+    const wb = XLSX.read(readFileSync(join(out, 'tables.xlsx')));
+    const ws = wb.Sheets.features;
+    const cells = Object.entries(ws).filter(([k]) => !k.startsWith('!')).map(([, c]) => c as XLSX.CellObject);
+    expect(cells.some((c) => c.f)).toBe(false);
+    expect(cells.find((c) => String(c.v).includes('HYPERLINK'))).toMatchObject({ t: 's', v: `'${INJECTION}` });
+    expect(existsSync(SOFFICE), `${SOFFICE} is missing: apt-get install libreoffice-calc-nogui (.ci/run does)`).toBe(true);
+    const dir = tempDir();
+    execFileSync(SOFFICE, ['--headless', `-env:UserInstallation=file://${dir}/profile`, '--convert-to', 'csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false', '--outdir', dir, join(out, 'tables.xlsx')], { stdio: 'ignore', timeout: 120_000 });
+    const lo: string[][] = parse(readFileSync(join(dir, 'tables.csv'), 'utf8'), { relax_column_count: true });
+    const h = lo[0].map(base);
+    expect(lo[1][h.indexOf('channel')]).toBe(`'${INJECTION}`);
+    expect(lo[1][h.indexOf('recording')]).toBe("'+cmd.wav");
+  });
+});
+
+describe('what the workbook looks like', () => {
+  it('LibreOffice renders the sample archive\'s features sheet; the picture is kept in test/artifacts', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet', '--export', 'xlsx');
+    const dir = tempDir();
+    execFileSync(SOFFICE, ['--headless', `-env:UserInstallation=file://${dir}/profile`, '--convert-to', 'pdf', '--outdir', dir, join(out, 'tables.xlsx')], { stdio: 'ignore', timeout: 180_000 });
+    execFileSync('pdftoppm', ['-png', '-r', '70', '-f', '1', '-l', '1', join(dir, 'tables.pdf'), join(dir, 'page')]);
+    const png = readdirSync(dir).find((f) => f.startsWith('page') && f.endsWith('.png'))!;
+    mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
+    renameSync(join(dir, png), join(repo, 'test', 'artifacts', 'tables-xlsx.png'));
+    expect(statSync(join(repo, 'test', 'artifacts', 'tables-xlsx.png')).size).toBeGreaterThan(10_000);
+  });
+});
