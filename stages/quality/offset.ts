@@ -1,5 +1,6 @@
 // Offset: a mean far from zero, in units of the spread, for quantities that should have none, and drift of 1 s window means.
 import type { StageDefinition } from '../stage.js';
+import { momentsOf } from '../stats.js';
 import type { QualityThresholds, Severity } from './flag.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
@@ -11,24 +12,26 @@ export const offset: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     const applies = q.offset.quantities.includes(ctx.quantity);
     const win = Math.max(1, Math.round(ctx.sampleRate));
-    let n = 0, sum = 0, sq = 0, wsum = 0, wn = 0, wmin = Infinity, wmax = -Infinity;
+    const shared = momentsOf(ctx);
+    let wsum = 0, wn = 0, wmin = Infinity, wmax = -Infinity;
     return {
       push(x) {
         if (!applies) return;
         for (let i = 0; i < x.length; i++) {
           const v = x[i];
           if (!Number.isFinite(v)) continue;
-          n++; sum += v; sq += v * v; wsum += v;
+          wsum += v;
           if (++wn === win) { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; wsum = 0; wn = 0; }
         }
       },
       finish() {
         const threshold = `warn: |mean| > ${q.offset.warn_ratio}·std or window means drifting > ${q.offset.warn_drift_ratio}·std (quantities ${q.offset.quantities.join(', ')})`;
-        if (!applies || n === 0) {
+        const m = shared.moments();
+        if (!applies || m.n === 0) {
           ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"` });
           return { offset_ratio: null, drift_ratio: null };
         }
-        const mean = sum / n, std = Math.sqrt(Math.max(0, sq / n - mean * mean));
+        const mean = m.mean, std = Math.sqrt(m.m2 / m.n);
         const ratio = std > 0 ? Math.abs(mean) / std : null;
         const drift = std > 0 && wmax >= wmin ? (wmax - wmin) / std : null;
         const issues: string[] = [];
