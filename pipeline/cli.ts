@@ -72,10 +72,14 @@ async function main(argv: string[]): Promise<number> {
       for (const f of await runExport(a.reduced as string, { to: parseFormats(a.to), bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`${f}\n`);
     })
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
-      .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' }),
+      .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' })
+      .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
+      .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      const exportTo = a.export ? parseFormats(a.export) : null;
       const { record, quality } = await runMerge(a.out as string);
       process.stdout.write(summaryText(record, quality) + '\n');
+      if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
     })
     .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y

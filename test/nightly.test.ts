@@ -129,8 +129,9 @@ describe('sharding', () => {
     expect(readdirSync(join(shared, 'parts')).filter((f) => f.startsWith('features-')).sort()).toEqual(['features-1-of-3.parquet', 'features-2-of-3.parquet', 'features-3-of-3.parquet']);
     // The parts read as one dataset.
     const parts = await table(join(shared, 'parts', 'features-*.parquet'));
-    const merged = quern('merge', shared);
+    const merged = quern('merge', shared, '--export', 'csv');
     expect(merged.code).toBe(1);
+    expect(existsSync(join(shared, 'features.csv'))).toBe(true);
     quern('reduce', archive, '--out', single, '--quiet');
     const one = await table(join(single, 'features.parquet'));
     expect(await table(join(shared, 'features.parquet'))).toEqual(one);
