@@ -198,7 +198,9 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   };
   if (o.status === 'failed' || !o.base) return result;
   const base = o.base;
-  const groups = Object.keys(o.groups).sort();
+  // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
+  const active = new Set(activeStages(spec).map((s) => s.definition.group));
+  const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
   result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
   for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
   // Every feature column appears in every row: null where a stage did not apply to the channel.

@@ -49,6 +49,19 @@ describe('incremental re-runs', () => {
     expect(changed.length).toBeGreaterThan(0);
   });
 
+  it('a spec section removed since the last run leaves no columns or rows behind', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    expect((await table(join(out, 'windows.parquet'))).length).toBeGreaterThan(0);
+    writeFileSync(join(archive, 'reduction.yaml'), 'statistics: {}\n');
+    quern('reduce', archive, '--out', out, '--quiet');
+    expect(await table(join(out, 'windows.parquet'))).toEqual([]);
+    const row = (await table(join(out, 'features.parquet')))[0];
+    expect('band_20_200_rms' in row).toBe(false);
+    // Statistics and quality were reused (only the unreadable file is tried again, as the spec changed).
+    expect(readJson(join(out, 'run.json')).recordings.filter((r: any) => r.status === 'reduced' && r.recomputed.length > 0)).toEqual([]);
+  });
+
   it('reduces new recordings, drops deleted ones, redoes edited ones; --force redoes everything', async () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
