@@ -34,7 +34,7 @@ export function parseShard(text: string, env: NodeJS.ProcessEnv = process.env): 
 }
 
 function check(k: number, n: number, from: string): Shard {
-  if (!(Number.isInteger(k) && Number.isInteger(n) && n >= 1 && k >= 1 && k <= n)) throw new Error(`${from} give shard ${k} of ${n}; shards run from 1 to N`);
+  if (!(Number.isInteger(k) && Number.isInteger(n) && n >= 1 && k >= 1 && k <= n)) throw new Error(`${from}: shard ${k} of ${n} does not exist; shards run from 1 to N`);
   return { k, n };
 }
 
