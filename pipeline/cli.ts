@@ -120,7 +120,7 @@ async function main(argv: string[]): Promise<number> {
         ...r.messages.map((m) => `  note        ${m}`),
         '',
       ];
-      const cols = ['channel', 'unit', 'mean', 'std', 'rms', 'min', 'max', 'peak', 'crest_factor', 'skewness', 'kurtosis'];
+      const cols = ['channel', 'unit', 'mean', 'std', 'rms', 'min', 'max', 'peak', 'crest_factor', 'skewness', 'kurtosis', 'quality', 'flags'];
       const table = [cols, ...r.rows.map((row) => cols.map((c) => fmt(row[c])))];
       const widths = cols.map((_, i) => Math.max(...table.map((t) => String(t[i]).length)));
       for (const t of table) out.push('  ' + t.map((v, i) => String(v).padStart(widths[i])).join('  '));
