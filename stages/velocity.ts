@@ -1,6 +1,6 @@
 // Velocity RMS of acceleration channels by integration in the frequency domain: velocity PSD = acceleration PSD / (2πf)².
 // Broadband velocity in a 10–1000 Hz band is the figure machine-vibration evaluation uses (ISO 20816-1, from memory).
-import { type WelchOptions } from './dsp/welch.js';
+import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
@@ -29,17 +29,10 @@ export const velocity: StageDefinition<VelocityOptions> = {
         }
         const psd = s.psd();
         if (!psd) return out;
-        const { density, df } = psd;
         for (const [lo, hi] of o.ranges) {
           if (hi > ctx.sampleRate / 2) { ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz reaches above the Nyquist frequency; left empty`); continue; }
-          let ms = 0;
-          for (let k = 1; k < density.length; k++) {
-            const a = (k - 0.5) * df, b = Math.min((density.length - 1) * df, (k + 0.5) * df);
-            const inside = Math.min(b, hi) - Math.max(a, lo);
-            if (inside <= 0) continue;
-            const w = 2 * Math.PI * k * df;
-            ms += ((density[k] * df * inside) / (b - a)) / (w * w);
-          }
+          // DC carries no velocity; every other bin is divided by (2πf)².
+          const ms = bandMeanSquare(psd, lo, hi, (f) => (f > 0 ? 1 / (2 * Math.PI * f) ** 2 : 0));
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
         }
         return out;

@@ -3,8 +3,6 @@ import type { StageDefinition } from './stage.js';
 
 export interface WindowOptions { length_s: number; hop_s: number }
 
-export const WINDOW_COLUMNS = ['window_start_s', 'window_s', 'mean', 'rms', 'peak'] as const;
-
 export const windows: StageDefinition<WindowOptions> = {
   group: 'windows',
   columns: () => [],

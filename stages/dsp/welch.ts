@@ -92,8 +92,8 @@ function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: n
   return { density, df: fs / n, segments: count, segment: n };
 }
 
-/** Mean square in [low, high) Hz: bin k holds power density[k]·df spread over [f − df/2, f + df/2), and counts by the fraction inside the band. */
-export function bandMeanSquare(psd: Psd, low: number, high: number): number {
+/** Mean square in [low, high) Hz: bin k holds power density[k]·df spread over [f − df/2, f + df/2), and counts by the fraction inside the band; `weight(f)` scales each bin (1/(2πf)² integrates acceleration to velocity). */
+export function bandMeanSquare(psd: Psd, low: number, high: number, weight: (f: number) => number = () => 1): number {
   const { density, df } = psd;
   let ms = 0;
   const kFrom = Math.max(0, Math.floor(low / df - 0.5)), kTo = Math.min(density.length - 1, Math.ceil(high / df + 0.5));
@@ -101,7 +101,7 @@ export function bandMeanSquare(psd: Psd, low: number, high: number): number {
     // DC and Nyquist bins are folded halves: DC's power lies in [0, df/2), Nyquist's in [fN − df/2, fN].
     const a = Math.max(0, (k - 0.5) * df), b = Math.min((density.length - 1) * df, (k + 0.5) * df);
     const overlap = Math.min(b, high) - Math.max(a, low);
-    if (overlap > 0) ms += (density[k] * df * overlap) / (b - a);
+    if (overlap > 0) ms += (weight(k * df) * density[k] * df * overlap) / (b - a);
   }
   return ms;
 }

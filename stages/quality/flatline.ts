@@ -1,25 +1,27 @@
 // Flatline: a dead or disconnected sensor: a spread of a few converter steps at most, or long constant stretches.
 import type { StageDefinition } from '../stage.js';
+import { momentsOf } from '../stats.js';
 import { secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const flatline: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'flatline_run_s', unit: 's', description: 'Longest stretch of exactly repeated values.' }],
   create(ctx, q) {
-    let n = 0, min = Infinity, max = -Infinity, prev = NaN, run = 0, longest = 0, longestEnd = 0;
+    // The spread comes from the channel's shared moments; this stage only looks for constant stretches.
+    const shared = momentsOf(ctx);
+    let n = 0, prev = NaN, run = 0, longest = 0, longestEnd = 0;
     return {
       push(x) {
         for (let i = 0; i < x.length; i++, n++) {
           const v = x[i];
-          if (v < min) min = v;
-          if (v > max) max = v;
           if (v === prev) { if (++run > longest) { longest = run; longestEnd = n; } } else run = 0;
           prev = v;
         }
       },
       finish() {
         const fs = ctx.sampleRate, step = ctx.stepSize;
-        const spread = n ? max - min : 0;
+        const m = shared.moments();
+        const spread = m.n ? m.max - m.min : 0;
         const runS = (longest + (longest ? 1 : 0)) / fs;
         const deadLimit = step != null ? q.flatline.fail_steps * step : 0;
         let severity: Severity = 'ok', message = `spread ${spread.toPrecision(4)} ${ctx.unit}; longest constant stretch ${secs(runS)}`;
