@@ -1,7 +1,7 @@
 // One measured run in a fresh process: reduces an archive and prints wall time and the process's peak memory as JSON.
 // Usage: node dist/bench/measure.js ARCHIVE OUT JOBS [SINCE]
 import { runReduce } from '../pipeline/run.js';
-import { parseWhen } from '../pipeline/select.js';
+import { parseWhen } from '../pipeline/select/select.js';
 
 const [archive, out, jobs, since] = process.argv.slice(2);
 const t0 = performance.now();

@@ -3,16 +3,16 @@
 import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
-import { runCheck } from './check.js';
-import { toolVersion } from './package-files.js';
-import { runPeek } from './peek.js';
-import { progressFor } from './progress.js';
-import { summaryText } from './report.js';
-import { parseFormats, runExport } from './export.js';
-import { runMerge } from './merge.js';
+import { runCheck } from './commands/check.js';
+import { toolVersion } from './declare/package-files.js';
+import { runPeek } from './commands/peek.js';
+import { progressFor } from './outputs/progress.js';
+import { summaryText } from './outputs/report.js';
+import { parseFormats, runExport } from './exports/export.js';
+import { runMerge } from './commands/merge.js';
 import { runReduce } from './run.js';
-import { parseShard, parseWhen } from './select.js';
-import { UsageError } from './yaml-file.js';
+import { parseShard, parseWhen } from './select/select.js';
+import { UsageError } from './declare/yaml-file.js';
 
 /** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input. */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;

@@ -2,20 +2,20 @@
 import { randomUUID } from 'node:crypto';
 import { mkdir } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from './atomic.js';
-import { groupKeys, writeEntry, type CacheEntry } from './cache.js';
-import { loadArchiveDeclaration, loadSpec } from './declare.js';
-import { FINAL_NAMES, partNames, writeOutputs } from './outputs.js';
-import { toolVersion } from './package-files.js';
-import { plan } from './plan.js';
-import { reduceAll } from './pool.js';
-import type { Progress } from './progress.js';
-import type { QualityReport } from './quality.js';
-import { assembleRecording } from './reduce.js';
-import { runRecord, type RunRecord } from './report.js';
-import { decide, mergeEntry } from './reuse.js';
-import { scan } from './scan.js';
-import { byStartTime, shardOf, updateIndex, type Shard } from './select.js';
+import { writeFileAtomic } from './outputs/atomic.js';
+import { groupKeys, writeEntry, type CacheEntry } from './plan/cache.js';
+import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
+import { FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
+import { toolVersion } from './declare/package-files.js';
+import { plan } from './plan/plan.js';
+import { reduceAll } from './reduce/pool.js';
+import type { Progress } from './outputs/progress.js';
+import type { QualityReport } from './outputs/quality.js';
+import { assembleRecording } from './reduce/assemble.js';
+import { runRecord, type RunRecord } from './outputs/report.js';
+import { decide, mergeEntry } from './plan/reuse.js';
+import { scan } from './select/scan.js';
+import { byStartTime, shardOf, updateIndex, type Shard } from './select/select.js';
 
 export interface ReduceOptions {
   archive: string;

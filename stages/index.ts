@@ -1,5 +1,5 @@
 // The feature groups quern computes, in column order, and how the spec's sections turn them on. Adding a stage means adding it here.
-import type { ReductionSpec, ChannelSelector } from '../pipeline/declare.js';
+import type { ChannelSelector, ReductionSpec } from '../spec/reduction.js';
 import { bands } from './bands.js';
 import type { FilterSpec } from './dsp/butterworth.js';
 import type { WelchOptions } from './dsp/welch.js';

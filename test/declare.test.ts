@@ -2,8 +2,8 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare.js';
-import { UsageError } from '../pipeline/yaml-file.js';
+import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare/declare.js';
+import { UsageError } from '../pipeline/declare/yaml-file.js';
 import { tempDir } from './helpers.js';
 
 function archiveWith(yaml: string): string {

@@ -4,7 +4,7 @@ import { appendFileSync, cpSync, existsSync, readdirSync, readFileSync, rmSync, 
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
-import { parseShard, parseWhen, shardOf } from '../pipeline/select.js';
+import { parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
 import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 

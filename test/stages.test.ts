@@ -2,8 +2,9 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { ChannelDeclaration, ReductionSpec } from '../pipeline/declare.js';
-import { reduceRecording } from '../pipeline/reduce.js';
+import type { ChannelDeclaration } from '../spec/archive.js';
+import type { ReductionSpec } from '../spec/reduction.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { bandsOf, exactBand, nominalFrequency } from '../stages/octave.js';
 import { tempDir } from './helpers.js';

@@ -1,6 +1,6 @@
 // Progress of a run: a bar on a terminal; plain lines, or JSON lines (--log json), when nightly jobs write to a log.
 import { SingleBar } from 'cli-progress';
-import type { RecordingOutput } from './reduce.js';
+import type { RecordingOutput } from '../reduce/result.js';
 
 type Done = Pick<RecordingOutput, 'recording' | 'status' | 'seconds' | 'reason'>;
 export interface Progress { start(total: number, reused: number): void; done(r: Done, detail?: string): void; stop(): void; event?(name: string, data: object): void }

@@ -2,11 +2,12 @@
 import { existsSync } from 'node:fs';
 import { dirname, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
-import { ARCHIVE_FILE, loadArchiveDeclaration } from './declare.js';
-import type { RecordingJob } from './plan.js';
-import { reduceRecording, type RecordingResult } from './reduce.js';
-import type { RawLayout } from '../stages/read/raw.js';
-import type { Format } from '../stages/read/recording.js';
+import { ARCHIVE_FILE, loadArchiveDeclaration } from '../declare/declare.js';
+import type { RecordingJob } from '../plan/plan.js';
+import { reduceRecording } from '../reduce/compute.js';
+import type { RecordingResult } from '../reduce/result.js';
+import type { RawLayout } from '../../stages/read/raw.js';
+import type { Format } from '../../stages/read/recording.js';
 
 export interface PeekOptions { format?: Format | null; sampleRate?: number | null; layout?: RawLayout | null }
 

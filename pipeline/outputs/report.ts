@@ -1,9 +1,9 @@
 // What a run did, for run.json and for the terminal.
-import type { LoadedSpec } from './declare.js';
-import { toolVersion } from './package-files.js';
-import type { RecordingResult } from './reduce.js';
-import type { Decision } from './reuse.js';
-import type { Shard } from './select.js';
+import type { LoadedSpec } from '../declare/declare.js';
+import { toolVersion } from '../declare/package-files.js';
+import type { RecordingResult } from '../reduce/result.js';
+import type { Decision } from '../plan/reuse.js';
+import type { Shard } from '../select/select.js';
 import { qualitySummary, type QualityReport } from './quality.js';
 
 export interface RunRecord {

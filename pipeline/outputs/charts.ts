@@ -1,8 +1,8 @@
 // The quality report's pictures: Vega-Lite specifications rendered to SVG by Vega's headless renderer, where the channel is reduced.
 import * as vega from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
-import type { Evidence } from '../stages/quality/evidence.js';
-import type { Severity } from '../stages/quality/flag.js';
+import type { Evidence } from '../../stages/quality/evidence.js';
+import type { Severity } from '../../stages/quality/flag.js';
 
 // Our own palette: deep teal for trustworthy, ochre for a second look, brick red for do-not-use.
 export const COLOURS: Record<Severity, string> = { ok: '#2c6e63', warn: '#b7791f', fail: '#a23b2a' };

@@ -1,68 +1,17 @@
 // Reduces one recording: read it once, feed every stage of every channel, keep each feature group's output apart
-// (so a re-run can reuse some groups and recompute others), then assemble one row per channel.
+// (so a re-run can reuse some groups and recompute others).
 import picomatch from 'picomatch';
-import { activeStages, featureColumns } from '../stages/index.js';
-import { openRecording } from '../stages/read/open.js';
-import { RecordingError, type Recording } from '../stages/read/recording.js';
-import type { ChannelContext, ColumnValues, Stage } from '../stages/stage.js';
-import type { ChannelDeclaration } from './declare.js';
-import { worst, type Flag, type Severity } from '../stages/quality/flag.js';
-import type { RecordingJob } from './plan.js';
-import { evidenceCharts } from './charts.js';
-import type { Evidence } from '../stages/quality/evidence.js';
-
-export type FeatureRow = Record<string, string | number | null>;
-
-export interface ChannelQuality { channel: string; unit: string; severity: Severity; flags: Flag[]; evidence?: Record<string, unknown> }
-
-/** What one feature group made for one recording: per channel (in channel order) its columns, flags and pictures' data. */
-export interface GroupOutput {
-  columns: ColumnValues[];
-  flags: Flag[][];
-  evidence: (Record<string, unknown> | null)[];
-  /** Rows of secondary tables (windows.parquet…), by table name. */
-  tables: Record<string, FeatureRow[]>;
-  notes: string[];
-}
-
-/** Everything a reduction learnt about a recording, by feature group: the unit of caching and of sharding. */
-export interface RecordingOutput {
-  recording: string;
-  group: string;
-  status: 'reduced' | 'failed';
-  reason?: string;
-  base: {
-    frames: number;
-    sampleRate: number;
-    header: { format: string; encoding: string; bits: number | null; start_time: string | null };
-    channels: { name: string; quantity: string; unit: string }[];
-    /** Findings of the reader (irregular time steps…). */
-    notes: string[];
-  } | null;
-  groups: Record<string, GroupOutput>;
-  seconds: number;
-}
-
-/** A recording's assembled result: the rows and tables it contributes and its quality verdict. */
-export interface RecordingResult {
-  recording: string;
-  group: string;
-  status: 'reduced' | 'failed';
-  /** Why the recording failed: what, where, and what to do. */
-  reason?: string;
-  /** Findings that did not stop the reduction. */
-  messages: string[];
-  rows: FeatureRow[];
-  /** Rows of secondary tables (windows.parquet…), by table name. */
-  tables: Record<string, FeatureRow[]>;
-  /** Quality flags per channel, with the pictures' data for channels that are not ok. */
-  quality: ChannelQuality[];
-  frames: number;
-  sampleRate: number | null;
-  /** How the file stores its samples, once its header was read. */
-  header?: { format: string; encoding: string; bits: number | null; start_time: string | null };
-  seconds: number;
-}
+import { activeStages } from '../../stages/index.js';
+import { openRecording } from '../../stages/read/open.js';
+import { RecordingError, type Recording } from '../../stages/read/recording.js';
+import type { ChannelContext, Stage } from '../../stages/stage.js';
+import type { ChannelDeclaration } from '../../spec/archive.js';
+import { worst } from '../../stages/quality/flag.js';
+import type { RecordingJob } from '../plan/plan.js';
+import { evidenceCharts } from '../outputs/charts.js';
+import type { Evidence } from '../../stages/quality/evidence.js';
+import { assembleRecording } from './assemble.js';
+import type { RecordingOutput, RecordingResult } from './result.js';
 
 const selected = (only: { names?: string[]; quantities?: string[] } | undefined, c: ChannelDeclaration) =>
   !only || (only.names ?? []).some((p) => picomatch.isMatch(c.name, p)) || (only.quantities ?? []).includes(c.quantity);
@@ -188,37 +137,6 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     out.seconds = (performance.now() - t0) / 1000;
   }
   return out;
-}
-
-/** One row per channel, secondary tables and the quality verdict, from a recording's group outputs. */
-export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec']): RecordingResult {
-  const result: RecordingResult = {
-    recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [], tables: {}, quality: [],
-    frames: o.base?.frames ?? 0, sampleRate: o.base?.sampleRate ?? null, header: o.base?.header, seconds: o.seconds,
-  };
-  if (o.status === 'failed' || !o.base) return result;
-  const base = o.base;
-  // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
-  const active = new Set(activeStages(spec).map((s) => s.definition.group));
-  const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
-  result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
-  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
-  // Every feature column appears in every row: null where a stage did not apply to the channel.
-  const blank: ColumnValues = Object.fromEntries(featureColumns(spec).map((col) => [col.name, null]));
-  const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
-  result.rows = base.channels.map((ch, c) => {
-    const flags = o.groups.quality?.flags[c] ?? [];
-    const severity = worst(flags.map((f) => f.severity));
-    const evidence = o.groups.quality?.evidence[c];
-    result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags, ...(evidence ? { evidence } : {}) });
-    const values: ColumnValues = Object.assign({ ...blank }, ...groups.map((g) => o.groups[g].columns[c]));
-    return {
-      recording: o.recording, group: o.group, channel: ch.name, quantity: ch.quantity, unit: ch.unit,
-      sample_rate: base.sampleRate, n: base.frames, duration_s: base.frames / base.sampleRate, start_time: startTime, ...labels,
-      quality: severity, flags: flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
-    };
-  });
-  return result;
 }
 
 /** Reduces and assembles in one step (every group, nothing reused). */

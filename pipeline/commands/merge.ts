@@ -2,15 +2,16 @@
 import { randomUUID } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from './atomic.js';
-import { readEntry } from './cache.js';
-import { canonicalJson, type LoadedSpec, type ReductionSpec } from './declare.js';
-import { FINAL_NAMES, writeOutputs } from './outputs.js';
-import { toolVersion } from './package-files.js';
-import type { QualityReport } from './quality.js';
-import { assembleRecording } from './reduce.js';
-import { runRecord, type RunRecord } from './report.js';
-import { UsageError } from './yaml-file.js';
+import { writeFileAtomic } from '../outputs/atomic.js';
+import { readEntry } from '../plan/cache.js';
+import { canonicalJson, type LoadedSpec } from '../declare/declare.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
+import { FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
+import { toolVersion } from '../declare/package-files.js';
+import type { QualityReport } from '../outputs/quality.js';
+import { assembleRecording } from '../reduce/assemble.js';
+import { runRecord, type RunRecord } from '../outputs/report.js';
+import { UsageError } from '../declare/yaml-file.js';
 
 export async function runMerge(out: string): Promise<{ record: RunRecord; quality: QualityReport }> {
   const started = new Date();

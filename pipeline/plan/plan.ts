@@ -1,8 +1,9 @@
 // Turns scanned recordings into self-contained jobs: everything a worker needs, as plain data.
-import type { ChannelDeclaration, GroupDeclaration, ReductionSpec } from './declare.js';
-import type { RawLayout } from '../stages/read/raw.js';
-import type { Format } from '../stages/read/recording.js';
-import type { ScannedRecording } from './scan.js';
+import type { ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
+import type { RawLayout } from '../../stages/read/raw.js';
+import type { Format } from '../../stages/read/recording.js';
+import type { ScannedRecording } from '../select/scan.js';
 
 export interface RecordingJob {
   recording: string;

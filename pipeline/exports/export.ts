@@ -1,17 +1,20 @@
 // quern export: spreadsheet-ready copies of a reduced folder's tables, beside them: CSV per table and one XLSX workbook.
 import { readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from './atomic.js';
-import { toCsv, type CsvOptions } from './export-csv.js';
-import { readParquetTable, readQualityFlags, widen, type ExportTable } from './export-tables.js';
-import { toXlsx } from './export-xlsx.js';
-import { UsageError } from './yaml-file.js';
+import { writeFileAtomic } from '../outputs/atomic.js';
+import { toCsv, type CsvOptions } from './csv.js';
+import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
+import { toXlsx } from './xlsx.js';
+import { SECONDARY_TABLES } from '../outputs/tables.js';
+import { UsageError } from '../declare/yaml-file.js';
 
 export type ExportFormat = 'csv' | 'xlsx';
 export interface ExportOptions extends CsvOptions { to: ExportFormat[]; wide?: boolean }
 
 /** File names of the exports, beside the Parquet tables. */
-export const CSV_FILES: Record<string, string> = { features: 'features.csv', windows: 'windows.csv', 'quality flags': 'quality-flags.csv', 'features wide': 'features-wide.csv' };
+export const CSV_FILES: Record<string, string> = {
+  features: 'features.csv', ...Object.fromEntries(Object.keys(SECONDARY_TABLES).map((name) => [name, `${name}.csv`])), 'quality flags': 'quality-flags.csv', 'features wide': 'features-wide.csv',
+};
 export const XLSX_FILE = 'tables.xlsx';
 
 export async function runExport(dir: string, o: ExportOptions): Promise<string[]> {
@@ -26,7 +29,8 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
   const features = await readParquetTable(join(root, 'features.parquet'), 'features');
   const tables: ExportTable[] = [features];
   if (o.wide) tables.push(widen(features, run.label_columns ?? []));
-  tables.push(await readParquetTable(join(root, 'windows.parquet'), 'windows'), await readQualityFlags(root));
+  for (const name of Object.keys(SECONDARY_TABLES)) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
+  tables.push(await readQualityFlags(root));
   const written: string[] = [];
   if (o.to.includes('csv')) {
     for (const t of tables) {

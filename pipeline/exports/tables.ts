@@ -3,7 +3,7 @@ import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import * as arrow from 'apache-arrow';
 import { readParquet } from 'parquet-wasm/node';
-import { UsageError } from './yaml-file.js';
+import { UsageError } from '../declare/yaml-file.js';
 
 export type CellKind = 'text' | 'number' | 'integer' | 'time';
 export interface ExportColumn { name: string; unit: string; kind: CellKind }

@@ -3,7 +3,7 @@ import { stat } from 'node:fs/promises';
 import pLimit from 'p-limit';
 import { declarationKey, hashFile, readEntry, type CacheEntry, type Identity } from './cache.js';
 import type { RecordingJob } from './plan.js';
-import type { RecordingOutput } from './reduce.js';
+import type { RecordingOutput } from '../reduce/result.js';
 
 export interface Decision {
   job: RecordingJob;

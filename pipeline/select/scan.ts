@@ -2,8 +2,9 @@
 import { readdir, stat } from 'node:fs/promises';
 import { join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
-import { formatOf } from '../stages/read/open.js';
-import { ARCHIVE_FILE, SPEC_FILE, type ArchiveDeclaration } from './declare.js';
+import { formatOf } from '../../stages/read/open.js';
+import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
+import type { ArchiveDeclaration } from '../../spec/archive.js';
 
 export interface ScannedRecording {
   /** Path relative to the archive root, with / separators. */

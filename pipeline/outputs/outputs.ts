@@ -1,19 +1,21 @@
 // Writes a run's tables and reports from assembled recordings; shared by reduce (whole or one shard) and merge.
 import { mkdir } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
-import { featureColumns } from '../stages/index.js';
+import { featureColumns } from '../../stages/index.js';
 import { writeFileAtomic } from './atomic.js';
-import type { ReductionSpec } from './declare.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
 import { qualityReport, type QualityReport } from './quality.js';
-import type { RecordingResult } from './reduce.js';
+import type { RecordingResult } from '../reduce/result.js';
 import { qualityHtml } from './report-html.js';
-import { IDENTITY_COLUMNS, QUALITY_COLUMNS, WINDOW_TABLE, writeParquetTable, type TableColumn } from './write.js';
+import { IDENTITY_COLUMNS, QUALITY_COLUMNS, writeParquetTable, type TableColumn } from './parquet.js';
+import { SECONDARY_TABLES } from './tables.js';
 
-export interface OutputNames { features: string; windows: string; qualityJson: string; qualityHtml: string | null }
+/** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
+export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null }
 
-export const FINAL_NAMES: OutputNames = { features: 'features.parquet', windows: 'windows.parquet', qualityJson: 'quality.json', qualityHtml: 'quality.html' };
+export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html' };
 export const partNames = (k: number, n: number): OutputNames => ({
-  features: `parts/features-${k}-of-${n}.parquet`, windows: `parts/windows-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null,
+  table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null,
 });
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
@@ -31,9 +33,11 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: {
   results: RecordingResult[]; spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
 }): Promise<QualityReport> {
   const results = byRecording(o.results);
-  await mkdir(dirname(join(outDir, names.features)), { recursive: true });
-  await writeParquetTable(join(outDir, names.features), tableColumns(o.spec, o.labels), results.flatMap((r) => r.rows), o.metadata);
-  await writeParquetTable(join(outDir, names.windows), WINDOW_TABLE, results.flatMap((r) => r.tables.windows ?? []), o.metadata);
+  await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
+  await writeParquetTable(join(outDir, names.table('features')), tableColumns(o.spec, o.labels), results.flatMap((r) => r.rows), o.metadata);
+  for (const [name, columns] of Object.entries(SECONDARY_TABLES)) {
+    await writeParquetTable(join(outDir, names.table(name)), columns, results.flatMap((r) => r.tables[name] ?? []), o.metadata);
+  }
   const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched });
   await writeFileAtomic(join(outDir, names.qualityJson), JSON.stringify(quality, null, 2) + '\n');
   if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));

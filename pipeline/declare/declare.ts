@@ -3,38 +3,11 @@ import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { FilterSpec } from '../stages/dsp/butterworth.js';
-import type { WelchOptions } from '../stages/dsp/welch.js';
-import type { QualitySpec } from '../stages/quality/flag.js';
-import type { RawLayout } from '../stages/read/raw.js';
-import type { Format } from '../stages/read/recording.js';
+import type { RawLayout } from '../../stages/read/raw.js';
+import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
 import { packageRoot } from './package-files.js';
 import { formatProblems, loadYaml, parseYaml, UsageError, type Problem } from './yaml-file.js';
-
-export interface ChannelDeclaration {
-  name: string;
-  quantity: string;
-  unit: string;
-  scale: number;
-  offset: number;
-  range: [number, number] | null;
-  bits: number | null;
-  max_frequency_hz: number | null;
-}
-
-export interface GroupDeclaration {
-  name: string;
-  match: string[];
-  format: Format | null;
-  sample_rate: number | null;
-  labels: Record<string, string>;
-  layout: RawLayout | null;
-  channels: ChannelDeclaration[] | null;
-  /** Expected length of each recording, s, when declared. */
-  duration_s: number | null;
-}
-
-export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }
 
 /** Column names that labels may not take, since the table already has them. */
 export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit', 'sample_rate', 'n', 'duration_s', 'start_time'];
@@ -82,26 +55,6 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
   if (problems.length) throw new UsageError(formatProblems(problems));
   return { file, groups };
 }
-
-// ---- reduction spec ----
-
-export interface ChannelSelector { names?: string[]; quantities?: string[] }
-type Only = { only?: ChannelSelector };
-type Ranges = [number, number][];
-/** reduction.yaml, as schemas/reduction.schema.json describes it. */
-export interface ReductionSpec {
-  statistics?: Only;
-  spectrum?: Partial<WelchOptions> & Only;
-  bands?: Ranges | ({ ranges: Ranges } & Only);
-  octave_bands?: OctaveSet | OctaveSet[];
-  velocity_bands?: Ranges | ({ ranges: Ranges } & Only);
-  windows?: { length_s?: number; hop_s?: number } & Only;
-  time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
-  mtvv?: { integration_s?: number } & Only;
-  envelope?: { filter: FilterSpec } & Only;
-  quality?: QualitySpec;
-}
-type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
 
 export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
 

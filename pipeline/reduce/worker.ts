@@ -1,5 +1,5 @@
 // Worker-thread entry: reduces one recording per task.
-import type { RecordingJob } from './plan.js';
-import { computeRecording } from './reduce.js';
+import type { RecordingJob } from '../plan/plan.js';
+import { computeRecording } from './compute.js';
 
 export default (job: RecordingJob) => computeRecording(job);

@@ -1,7 +1,7 @@
 // quality.json: per run, per recording, per channel, every flag with value, threshold, severity, evidence and message.
-import { FLAG_NAMES } from '../stages/index.js';
-import { worst, type Flag, type Severity } from '../stages/quality/flag.js';
-import type { RecordingResult } from './reduce.js';
+import { FLAG_NAMES } from '../../stages/index.js';
+import { worst, type Flag, type Severity } from '../../stages/quality/flag.js';
+import type { RecordingResult } from '../reduce/result.js';
 
 export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: Flag[] }
 export interface QualityRecording { recording: string; group: string; status: 'reduced' | 'failed'; severity: Severity; reason?: string; channels: QualityChannel[] }

@@ -4,12 +4,12 @@ import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
 import { mkdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
-import { canonicalJson } from './declare.js';
-import { activeStages } from '../stages/index.js';
-import { writeFileAtomic } from './atomic.js';
-import type { ReductionSpec } from './declare.js';
+import { canonicalJson } from '../declare/declare.js';
+import { activeStages } from '../../stages/index.js';
+import { writeFileAtomic } from '../outputs/atomic.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';
-import type { RecordingOutput } from './reduce.js';
+import type { RecordingOutput } from '../reduce/result.js';
 
 /** What identifies a recording's content: size and modification time, and a content hash when those cannot be trusted. */
 export interface Identity { size: number; mtimeMs: number; hash: string | null }

@@ -1,5 +1,5 @@
 // CSV per table (RFC 4180: quoted text, CRLF line ends, UTF-8), safe to open in a spreadsheet.
-import type { Cell, ExportColumn, ExportTable } from './export-tables.js';
+import type { Cell, ExportColumn, ExportTable } from './tables.js';
 
 export interface CsvOptions {
   /** Start with a UTF-8 byte-order mark, which some spreadsheets need to take the file as UTF-8. */

@@ -4,9 +4,9 @@ import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Tinypool } from 'tinypool';
-import { packageRoot } from './package-files.js';
-import type { RecordingJob } from './plan.js';
-import type { RecordingOutput } from './reduce.js';
+import { packageRoot } from '../declare/package-files.js';
+import type { RecordingJob } from '../plan/plan.js';
+import type { RecordingOutput } from './result.js';
 
 export interface PoolOptions {
   jobs?: number;
@@ -16,7 +16,7 @@ export interface PoolOptions {
 /** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
 function workerFile(): string {
   const here = fileURLToPath(import.meta.url);
-  const built = here.endsWith('.ts') ? join(packageRoot, 'dist', 'pipeline', 'worker.js') : join(dirname(here), 'worker.js');
+  const built = here.endsWith('.ts') ? join(packageRoot, 'dist', 'pipeline', 'reduce', 'worker.js') : join(dirname(here), 'worker.js');
   if (!existsSync(built)) throw new Error(`quern: worker code ${built} is missing; run "npm run build" first`);
   return pathToFileURL(built).href;
 }

@@ -1,9 +1,9 @@
 // Feature rows → an Arrow table → Parquet (Apache Arrow's Rust writer, compiled to WebAssembly), written atomically.
 import * as arrow from 'apache-arrow';
 import { Compression, Table as WasmTable, writeParquet, WriterPropertiesBuilder } from 'parquet-wasm/node';
-import type { ColumnSpec } from '../stages/stage.js';
+import type { ColumnSpec } from '../../stages/stage.js';
 import { writeFileAtomic } from './atomic.js';
-import type { FeatureRow } from './reduce.js';
+import type { FeatureRow } from '../reduce/result.js';
 
 export type ColumnType = 'string' | 'float64' | 'int64' | 'timestamp_ms';
 
@@ -26,18 +26,6 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
 export const QUALITY_COLUMNS: TableColumn[] = [
   { name: 'quality', type: 'string', nullable: false, unit: '', description: 'Worst severity of the channel\'s flags: ok, warn or fail.' },
   { name: 'flags', type: 'string', nullable: false, unit: '', description: 'Comma-separated names of the flags that are not ok.' },
-];
-
-/** windows.parquet: one row per recording × channel × window. */
-export const WINDOW_TABLE: TableColumn[] = [
-  { name: 'recording', type: 'string', nullable: false, unit: '', description: 'Path of the recording relative to the archive root.' },
-  { name: 'channel', type: 'string', nullable: false, unit: '', description: 'Channel name.' },
-  { name: 'unit', type: 'string', nullable: false, unit: '', description: 'Engineering unit of the channel.' },
-  { name: 'window_start_s', type: 'float64', nullable: false, unit: 's', description: 'Start of the window from the start of the recording.' },
-  { name: 'window_s', type: 'float64', nullable: false, unit: 's', description: 'Window length.' },
-  { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Mean over the window.' },
-  { name: 'rms', type: 'float64', nullable: false, unit: '[unit]', description: 'RMS over the window.' },
-  { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
 ];
 
 const ARROW_TYPES = {

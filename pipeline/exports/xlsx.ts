@@ -1,8 +1,8 @@
 // One XLSX workbook: a sheet per table and one that states the run; frozen headers, filters, units, severities in colour.
 import ExcelJS from 'exceljs';
-import { COLOURS } from './charts.js';
-import { headerText, neutralise, numberText } from './export-csv.js';
-import type { ExportTable } from './export-tables.js';
+import { COLOURS } from '../outputs/charts.js';
+import { headerText, neutralise, numberText } from './csv.js';
+import type { ExportTable } from './tables.js';
 
 // Light tints of the report's own palette, so dark text stays readable on them.
 const FILLS: Record<string, string> = { ok: 'FFD9ECE8', warn: 'FFF5E6C4', fail: 'FFF1D3CD' };

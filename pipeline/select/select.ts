@@ -2,9 +2,9 @@
 import { mkdir, readdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import pLimit from 'p-limit';
-import { openRecording } from '../stages/read/open.js';
-import { writeFileAtomic } from './atomic.js';
-import type { GroupDeclaration } from './declare.js';
+import { openRecording } from '../../stages/read/open.js';
+import { writeFileAtomic } from '../outputs/atomic.js';
+import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
 
 /** Stable shard of a recording, 1…n, from a hash of its path (FNV-1a, 32 bits): the same on every machine and run. */

@@ -1,11 +1,11 @@
 // Validates the declaration and every recording's header against it; computes nothing.
 import { resolve } from 'node:path';
-import { loadArchiveDeclaration, loadSpec } from './declare.js';
-import { plan } from './plan.js';
-import { openForJob } from './reduce.js';
-import { scan } from './scan.js';
-import { RecordingError } from '../stages/read/recording.js';
-import { defaultOut } from './run.js';
+import { loadArchiveDeclaration, loadSpec } from '../declare/declare.js';
+import { plan } from '../plan/plan.js';
+import { openForJob } from '../reduce/compute.js';
+import { scan } from '../select/scan.js';
+import { RecordingError } from '../../stages/read/recording.js';
+import { defaultOut } from '../run.js';
 
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
 export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string }

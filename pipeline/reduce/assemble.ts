@@ -1,0 +1,37 @@
+// A recording's group outputs → one row per channel, its secondary tables and its quality verdict.
+import { activeStages, featureColumns } from '../../stages/index.js';
+import type { ColumnValues } from '../../stages/stage.js';
+import { worst } from '../../stages/quality/flag.js';
+import type { RecordingJob } from '../plan/plan.js';
+import type { RecordingOutput, RecordingResult } from './result.js';
+
+/** One row per channel, secondary tables and the quality verdict, from a recording's group outputs. */
+export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec']): RecordingResult {
+  const result: RecordingResult = {
+    recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [], tables: {}, quality: [],
+    frames: o.base?.frames ?? 0, sampleRate: o.base?.sampleRate ?? null, header: o.base?.header, seconds: o.seconds,
+  };
+  if (o.status === 'failed' || !o.base) return result;
+  const base = o.base;
+  // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
+  const active = new Set(activeStages(spec).map((s) => s.definition.group));
+  const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
+  result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
+  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
+  // Every feature column appears in every row: null where a stage did not apply to the channel.
+  const blank: ColumnValues = Object.fromEntries(featureColumns(spec).map((col) => [col.name, null]));
+  const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
+  result.rows = base.channels.map((ch, c) => {
+    const flags = o.groups.quality?.flags[c] ?? [];
+    const severity = worst(flags.map((f) => f.severity));
+    const evidence = o.groups.quality?.evidence[c];
+    result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags, ...(evidence ? { evidence } : {}) });
+    const values: ColumnValues = Object.assign({ ...blank }, ...groups.map((g) => o.groups[g].columns[c]));
+    return {
+      recording: o.recording, group: o.group, channel: ch.name, quantity: ch.quantity, unit: ch.unit,
+      sample_rate: base.sampleRate, n: base.frames, duration_s: base.frames / base.sampleRate, start_time: startTime, ...labels,
+      quality: severity, flags: flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
+    };
+  });
+  return result;
+}

@@ -1,0 +1,28 @@
+// archive.yaml as quern reads it: what the recordings are. Types only, read by the run and by the stages alike.
+import type { RawLayout } from '../stages/read/raw.js';
+import type { Format } from '../stages/read/recording.js';
+
+export interface ChannelDeclaration {
+  name: string;
+  quantity: string;
+  unit: string;
+  scale: number;
+  offset: number;
+  range: [number, number] | null;
+  bits: number | null;
+  max_frequency_hz: number | null;
+}
+
+export interface GroupDeclaration {
+  name: string;
+  match: string[];
+  format: Format | null;
+  sample_rate: number | null;
+  labels: Record<string, string>;
+  layout: RawLayout | null;
+  channels: ChannelDeclaration[] | null;
+  /** Expected length of each recording, s, when declared. */
+  duration_s: number | null;
+}
+
+export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }

@@ -1,0 +1,22 @@
+// reduction.yaml as quern reads it: what to compute. Types only, read by the run and by the stages alike.
+import type { FilterSpec } from '../stages/dsp/butterworth.js';
+import type { WelchOptions } from '../stages/dsp/welch.js';
+import type { QualitySpec } from '../stages/quality/flag.js';
+
+export interface ChannelSelector { names?: string[]; quantities?: string[] }
+type Only = { only?: ChannelSelector };
+type Ranges = [number, number][];
+/** reduction.yaml, as schemas/reduction.schema.json describes it. */
+export interface ReductionSpec {
+  statistics?: Only;
+  spectrum?: Partial<WelchOptions> & Only;
+  bands?: Ranges | ({ ranges: Ranges } & Only);
+  octave_bands?: OctaveSet | OctaveSet[];
+  velocity_bands?: Ranges | ({ ranges: Ranges } & Only);
+  windows?: { length_s?: number; hop_s?: number } & Only;
+  time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
+  mtvv?: { integration_s?: number } & Only;
+  envelope?: { filter: FilterSpec } & Only;
+  quality?: QualitySpec;
+}
+type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
