@@ -1,0 +1,32 @@
+// What every bench section shares: a scratch folder, quern and the numpy/scipy peer run in fresh processes, and the table rows.
+import { execFileSync, spawnSync } from 'node:child_process';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
+export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number };
+
+export const here = dirname(fileURLToPath(import.meta.url));
+export const repo = join(here, '..', '..');
+export const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
+export const say = (s: string) => process.stdout.write(s + '\n');
+
+/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
+export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string): QuernMeasurement {
+  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
+  return JSON.parse(text.trim().split('\n').pop()!);
+}
+
+/** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
+export function peer(archive: string, scale: number): Measurement | null {
+  const python = ['/usr/bin/python3', 'python3'].find((p) => spawnSync(p, ['-c', 'import scipy'], { stdio: 'ignore' }).status === 0);
+  if (!python) return null;
+  const r = spawnSync(python, [join(repo, 'bench', 'peer.py'), archive, String(scale)], { encoding: 'utf8' });
+  if (r.status !== 0) { say(`peer failed: ${r.stderr.trim().split('\n').pop()}`); return null; }
+  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+}
+
+export const row = (label: string, m: Measurement) =>
+  `  ${label.padEnd(46)} ${(m.samples / 1e6).toFixed(0).padStart(5)} M samples ${m.seconds.toFixed(2).padStart(7)} s ${(m.samples / m.seconds / 1e6).toFixed(2).padStart(7)} M samples/s ${m.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`;
