@@ -2,7 +2,7 @@
 // written atomically as soon as the recording is done: a run killed at any moment keeps every finished recording.
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
-import { mkdir, readFile } from 'node:fs/promises';
+import { mkdir, readdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { canonicalJson } from '../declare/declare.js';
 import { activeStages } from '../../stages/index.js';
@@ -37,6 +37,20 @@ export async function readEntry(out: string, recording: string): Promise<CacheEn
     return e.recording === recording ? e : null;
   } catch {
     return null; // absent or unreadable: compute afresh
+  }
+}
+
+/** Every entry the output folder holds, whatever this run selected (the history that trends read); unreadable ones are passed over. */
+export async function* storedEntries(out: string): AsyncGenerator<CacheEntry> {
+  const dirs = (await readdir(cacheDir(out), { withFileTypes: true }).catch(() => [])).filter((d) => d.isDirectory() && /^[0-9a-f]{2}$/.test(d.name));
+  for (const d of dirs.sort((a, b) => (a.name < b.name ? -1 : 1))) {
+    for (const f of (await readdir(join(cacheDir(out), d.name))).filter((n) => n.endsWith('.json')).sort()) {
+      try {
+        yield JSON.parse(await readFile(join(cacheDir(out), d.name, f), 'utf8')) as CacheEntry;
+      } catch {
+        // a damaged or half-written entry is no history
+      }
+    }
   }
 }
 
