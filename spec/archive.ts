@@ -1,4 +1,6 @@
 // archive.yaml as quern reads it: what the recordings are. Types only, read by the run and by the stages alike.
+import type { FlacOptions } from '../stages/read/flac.js';
+import type { Hdf5Layout } from '../stages/read/hdf5.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 
@@ -20,6 +22,10 @@ export interface GroupDeclaration {
   sample_rate: number | null;
   labels: Record<string, string>;
   layout: RawLayout | null;
+  /** Where HDF5 files hold their samples, rate and start time. */
+  hdf5: Hdf5Layout | null;
+  /** How FLAC files are read (the Vorbis comment tag holding the start time). */
+  flac: FlacOptions | null;
   channels: ChannelDeclaration[] | null;
   /** Expected length of each recording, s, when declared. */
   duration_s: number | null;

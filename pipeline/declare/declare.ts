@@ -3,6 +3,7 @@ import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
+import type { Hdf5Layout } from '../../stages/read/hdf5.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -15,7 +16,16 @@ export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit
 export const ARCHIVE_FILE = 'archive.yaml';
 export const SPEC_FILE = 'reduction.yaml';
 
-type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout'> & { name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout> };
+type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout' | 'hdf5' | 'flac'> & {
+  name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout>;
+  hdf5?: Omit<Partial<Hdf5Layout>, 'datasets'> & { datasets: string | string[] }; flac?: { start_time_tag?: string };
+};
+
+/** The HDF5 section with its defaults, dataset paths made absolute. */
+function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
+  const datasets = (Array.isArray(h.datasets) ? h.datasets : [h.datasets]).map((d) => (d.startsWith('/') ? d : `/${d}`));
+  return { datasets, channel_axis: h.channel_axis ?? null, sample_rate_attribute: h.sample_rate_attribute ?? null, start_time_attribute: h.start_time_attribute ?? null };
+}
 
 export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
   const file = join(archive, ARCHIVE_FILE);
@@ -47,9 +57,15 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (g.format === 'raw' && !layout) problems.push(source.problem(at(), 'format raw needs a layout: { sample_type, byte_order, channels, header_bytes }'));
     if (g.format === 'raw' && g.sample_rate == null) problems.push(source.problem(at(), 'format raw needs sample_rate (Hz): raw files carry no header'));
     if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
+    const hdf5 = g.hdf5 ? hdf5Layout(g.hdf5) : null;
+    if (g.format === 'hdf5' && !hdf5) problems.push(source.problem(at(), 'format hdf5 needs an hdf5 section: { datasets, channel_axis, sample_rate_attribute, start_time_attribute }'));
+    if (hdf5 && hdf5.sample_rate_attribute == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group or hdf5.sample_rate_attribute'));
+    if (hdf5 && hdf5.datasets.length > 1 && hdf5.channel_axis != null) problems.push(source.problem(at('hdf5', 'channel_axis'), 'channel_axis applies to one two-dimensional dataset; with one dataset per channel leave it out'));
+    if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
+    const flac = g.flac ? { start_time_tag: g.flac.start_time_tag ?? null } : null;
     return {
       name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
-      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, channels, duration_s: g.duration_s ?? null,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, flac, channels, duration_s: g.duration_s ?? null,
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));

@@ -73,7 +73,11 @@ export function hashFile(path: string): Promise<string> {
 
 /** The declaration facts a recording's numbers depend on (labels are not among them: they are applied when rows are assembled). */
 export const declarationKey = (job: RecordingJob) =>
-  sha(canonicalJson({ format: job.format, sampleRate: job.sampleRate, layout: job.layout, channels: job.channels, durationS: job.durationS }));
+  sha(canonicalJson({
+    format: job.format, sampleRate: job.sampleRate, layout: job.layout, channels: job.channels, durationS: job.durationS,
+    // Only declared reader options enter the key, so the keys of groups without them stay as they were.
+    ...(job.reader?.hdf5 || job.reader?.flac ? { reader: job.reader } : {}),
+  }));
 
 /** Per feature group, a key of the tool version and the resolved options of the group's stages. */
 export function groupKeys(spec: ReductionSpec, version: string): Record<string, string> {

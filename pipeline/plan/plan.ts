@@ -2,6 +2,7 @@
 import type { ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RawLayout } from '../../stages/read/raw.js';
+import type { ReaderOptions } from '../../stages/read/open.js';
 import type { Format } from '../../stages/read/recording.js';
 import type { ScannedRecording } from '../select/scan.js';
 
@@ -12,6 +13,8 @@ export interface RecordingJob {
   format: Format | null;
   sampleRate: number | null;
   layout: RawLayout | null;
+  /** Per-format reading options (HDF5 datasets and attributes, FLAC start-time tag), when the group declares them. */
+  reader?: ReaderOptions;
   channels: ChannelDeclaration[] | null;
   labels: Record<string, string>;
   durationS: number | null;
@@ -28,7 +31,7 @@ export function plan(recordings: ScannedRecording[], groups: GroupDeclaration[],
     const g = groups[r.group];
     return {
       recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
-      layout: g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames,
+      layout: g.layout, reader: { hdf5: g.hdf5, flac: g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames,
     };
   });
 }

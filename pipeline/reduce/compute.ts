@@ -40,7 +40,7 @@ function resolveChannels(job: RecordingJob, rec: Recording): { decl: ChannelDecl
 
 /** Opens a recording and holds its header against the declaration; closes it again if they disagree. */
 export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[] }> {
-  const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, chunkFrames: job.chunkFrames });
+  const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
   try {
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {
       throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct sample_rate in archive.yaml or move the file to the right group`);

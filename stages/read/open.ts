@@ -13,14 +13,14 @@ export function formatOf(path: string): Format | null {
   return BY_EXTENSION[extname(path).toLowerCase()] ?? null;
 }
 
-export interface OpenOptions {
+/** Reading options that only some formats take. */
+export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null }
+
+export interface OpenOptions extends ReaderOptions {
   format?: Format | null;
   sampleRate?: number | null;
   layout?: RawLayout | null;
   chunkFrames?: number;
-  /** Per-format reading options declared for the group. */
-  hdf5?: Hdf5Layout | null;
-  flac?: FlacOptions | null;
 }
 
 export async function openRecording(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null }: OpenOptions = {}): Promise<Recording> {
