@@ -51,8 +51,12 @@ async function hasSignature(path: string): Promise<boolean> {
   }
 }
 
-/** HDF5's error stack, cut to its first line: the library's message names the object and the failure. */
-const firstLine = (e: unknown) => String((e as Error)?.message ?? e).split('\n').map((l) => l.trim()).filter(Boolean).slice(0, 2).join(' ').slice(0, 300);
+/** The root cause from HDF5's error stack: its deepest entry's message ("truncated file: eof = …"), without source paths. */
+function firstLine(e: unknown): string {
+  const text = String((e as Error)?.message ?? e);
+  const causes = [...text.matchAll(/#\d+: .*? in (\w+)\(\): (.*)$/gm)].map((m) => m[2].trim());
+  return (causes.at(-1) ?? text.split('\n').map((l) => l.trim()).find(Boolean) ?? 'unknown error').slice(0, 300);
+}
 
 /** Finds an attribute: "/path@name" exactly, or "name" on the object and then each enclosing group up to the root. */
 function findAttribute(file: HdfFile, from: string, spec: string, what: string): unknown {

@@ -35,11 +35,12 @@ const printable = (s: string) => s.replace(/[^\x20-\x7e]/g, '?');
 
 // RF64/BW64 ds64 chunk (EBU Tech 3306 §3; ITU-R BS.2088 §4): 64-bit RIFF size, data size and sample count, then a table
 // of {chunk id, 64-bit size} for other chunks whose 32-bit size field holds 0xFFFFFFFF.
-function parseDs64(b: Buffer, at: number, fileSize: number): { dataSize: number; table: Map<string, number> } {
+function parseDs64(b: Buffer, at: number): { dataSize: number; table: Map<string, number> } {
   if (b.length < 28) throw new RecordingError(`byte ${at}: ds64 chunk is ${b.length} bytes, shorter than the 28 it needs; the header is damaged`);
   const u64 = (o: number) => {
     const v = b.readUInt32LE(o) + b.readUInt32LE(o + 4) * 2 ** 32;
-    if (v > fileSize) throw new RecordingError(`byte ${at + o}: ds64 gives a size of ${v} bytes, more than the whole file (${fileSize}); the header is damaged or the file was cut short`);
+    // Sizes past the file are cut files, reported where the data is checked; past 2^53 bytes no file is.
+    if (!Number.isSafeInteger(v)) throw new RecordingError(`byte ${at + o}: ds64 gives a size of ${v} bytes, more than any file holds; the header is damaged`);
     return v;
   };
   const dataSize = u64(8);
@@ -80,7 +81,7 @@ export async function readWavHeader(file: FileHandle, size: number): Promise<Wav
     if (sixtyFour && len === 0xffffffff && ds64) len = id === 'data' ? ds64.dataSize : (ds64.table.get(id) ?? len);
     if (id === 'ds64') {
       if (!sixtyFour) throw new RecordingError(`byte ${pos}: a ds64 chunk in a ${kind} file; the header is damaged`);
-      ds64 = parseDs64(await bytesAt(body, Math.min(len, 28 + 12 * 1024)), body, size);
+      ds64 = parseDs64(await bytesAt(body, Math.min(len, 28 + 12 * 1024)), body);
     } else if (sixtyFour && !ds64) {
       throw new RecordingError(`byte ${pos}: ${kind} file whose first chunk is "${printable(id)}", not ds64 (EBU Tech 3306); the header is damaged`);
     } else if (id === 'fmt ') {
