@@ -136,6 +136,15 @@ describe('sound levels of tones (IEC 61672-1: L = 10·lg(p²/p0²), p0 = 20 µPa
     expect(volts.result.messages.join()).toMatch(/mic: unit "V" is not a pressure unit/);
   });
 
+  it('missing samples enter the weighting filters as 0 Pa instead of stopping them, and the run says how many', async () => {
+    const fs = 12800;
+    const x = sine(fs * 2, fs, 1000, Math.SQRT2);
+    for (const i of [100, 101, 20000]) x[i] = NaN;
+    const { row, result } = await reduce(x, fs, { sound_level: {} }, mic);
+    expect(Math.abs(row.lafmax - 20 * Math.log10(1 / 20e-6))).toBeLessThan(0.05);
+    expect(result.messages.join()).toMatch(/mic: 3 missing samples entered the weighting filters as 0 Pa/);
+  });
+
   it('a sample rate too low for the filters leaves the filtered figures empty and says why; the spectrum figures remain', async () => {
     const fs = 2000;
     const { row, result } = await reduce(sine(fs * 4, fs, 250, 1), fs, { spectrum: { segment: 1024 }, sound_level: {} }, mic);
