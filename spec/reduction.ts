@@ -17,6 +17,8 @@ export interface ReductionSpec {
   time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
   mtvv?: { integration_s?: number } & Only;
   envelope?: { filter: FilterSpec } & Only;
+  sound_level?: Only;
+  rainflow?: { slope?: number; gate?: number; bins?: { range_width?: number; mean_width?: number } } & Only;
   quality?: QualitySpec;
 }
-type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
+type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number; levels_db?: boolean } & Only;

@@ -14,5 +14,13 @@ export const WINDOW_TABLE: TableColumn[] = [
   { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
 ];
 
+/** cycles.parquet: rainflow cycles per recording × channel, binned or one row per distinct range and mean. */
+export const CYCLE_TABLE: TableColumn[] = [
+  ...WINDOW_TABLE.slice(0, 3),
+  { name: 'range', type: 'float64', nullable: false, unit: '[unit]', description: 'Cycle range (a bin\'s centre when binned).' },
+  { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Cycle mean (a bin\'s centre when binned).' },
+  { name: 'count', type: 'float64', nullable: false, unit: '1', description: 'Cycles counted: full cycles 1, residue half cycles 0.5.' },
+];
+
 /** Every secondary table by name, in the order they are written and exported. */
-export const SECONDARY_TABLES: Record<string, TableColumn[]> = { windows: WINDOW_TABLE };
+export const SECONDARY_TABLES: Record<string, TableColumn[]> = { windows: WINDOW_TABLE, cycles: CYCLE_TABLE };
