@@ -17,6 +17,7 @@ export interface ReductionSpec {
   time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
   mtvv?: { integration_s?: number } & Only;
   envelope?: { filter: FilterSpec } & Only;
+  orders?: { orders?: number[]; width?: number } & Only;
   quality?: QualitySpec;
 }
 type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;

@@ -6,7 +6,9 @@ import type { WelchOptions } from './dsp/welch.js';
 import { envelope } from './envelope.js';
 import { mtvv } from './mtvv.js';
 import { octaveBands } from './octave.js';
+import { orders, orderTacho } from './orders.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
+import { speed } from './speed.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
 import { timeWeighting } from './time-weighting.js';
@@ -51,6 +53,12 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   if (spec.envelope) {
     const filter: FilterSpec = { zero_phase: false, ...spec.envelope.filter };
     out.push({ definition: envelope, options: { filter, spectrum: welch }, only: spec.envelope.only });
+  }
+  // A channel declared with pulses_per_rev gets its shaft speed whatever the spec: the declaration asks for it.
+  out.push({ definition: speed, options: {}, only: undefined });
+  if (spec.orders) {
+    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch };
+    out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: {}, only: undefined });
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };
