@@ -44,6 +44,15 @@ function acceleration(fs: number, seconds: number, seed: number, damage: number,
   return x;
 }
 
+/** A 5 V once-per-revolution pulse at τ seconds into the revolution: high for 10 % of it, raised-cosine edges of 0.4 ms. */
+function tachoPulse(tau: number, edgeS = 0.0004): number {
+  const fall = 0.1 / SHAFT_HZ;
+  if (tau < edgeS) return 2.5 * (1 - Math.cos((Math.PI * tau) / edgeS));
+  if (tau < fall) return 5;
+  if (tau < fall + edgeS) return 2.5 * (1 + Math.cos((Math.PI * (tau - fall)) / edgeS));
+  return 0;
+}
+
 const clip = (x: Float64Array, lo: number, hi: number) => x.map((v) => Math.min(hi, Math.max(lo, v)));
 const toFullScale = (x: Float64Array, scale: number, offset = 0) => x.map((v) => (v - offset) / scale);
 
@@ -66,8 +75,8 @@ export function makeSampleArchive(root: string): void {
     const mic = new Float64Array(n).map((_, i) => 0.6 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.2 * r.gauss());
     // Discharge pressure, bar; on the 21st the transducer cable is off and the channel sits at a constant code.
     const pressure = night === 5 ? new Float64Array(n).fill(8.0) : new Float64Array(n).map((_, i) => 6.2 + 0.05 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.01 * r.gauss());
-    // Tachometer: one 5 V pulse per revolution, 10 % duty.
-    const tacho = new Float64Array(n).map((_, i) => ((i / FS) * SHAFT_HZ) % 1 < 0.1 ? 5 : 0);
+    // Tachometer: one 5 V pulse per revolution, 10 % duty, its edges rounded by the sensor and the anti-alias filter.
+    const tacho = new Float64Array(n).map((_, i) => tachoPulse((((i / FS) * SHAFT_HZ) % 1) / SHAFT_HZ));
     const wav = encodeWav({
       sampleRate: FS,
       origination: new Date(Date.UTC(2026, 10, day, 2, 0, 0)),
@@ -123,7 +132,7 @@ ${ACC('acc_de')}
 ${ACC('acc_nde')}
       - { name: mic, quantity: sound_pressure, unit: Pa, scale: 200, range: [-200, 200], bits: 16, max_frequency_hz: 5000 }
       - { name: pressure, quantity: pressure, unit: bar, scale: 8, offset: 8, range: [0, 16], bits: 16, max_frequency_hz: 1000 }
-      - { name: tacho, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 2500 }
+      - { name: tacho, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 2500, pulses_per_rev: 1 }
   - name: quick-look
     match: "quicklook/*.wav"
     sample_rate: 2000

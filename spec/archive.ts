@@ -13,6 +13,10 @@ export interface ChannelDeclaration {
   range: [number, number] | null;
   bits: number | null;
   max_frequency_hz: number | null;
+  /** Shaft pulses per revolution of a tacho channel; its trigger level and hysteresis (engineering units) when declared, else found from the signal. */
+  pulses_per_rev?: number;
+  trigger_level?: number | null;
+  trigger_hysteresis?: number | null;
 }
 
 export interface GroupDeclaration {

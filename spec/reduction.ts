@@ -19,6 +19,7 @@ export interface ReductionSpec {
   envelope?: { filter: FilterSpec } & Only;
   sound_level?: Only;
   rainflow?: { slope?: number; gate?: number; bins?: { range_width?: number; mean_width?: number } } & Only;
+  orders?: { orders?: number[]; width?: number } & Only;
   quality?: QualitySpec;
 }
 type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number; levels_db?: boolean } & Only;

@@ -9,7 +9,9 @@ import { octaveBands } from './octave.js';
 import { rainflow } from './rainflow.js';
 import { soundEnergy } from './sound-energy.js';
 import { soundMaxima } from './sound-maxima.js';
+import { orders, orderTacho } from './orders.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
+import { speed } from './speed.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
 import { timeWeighting } from './time-weighting.js';
@@ -62,6 +64,12 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   if (spec.rainflow) {
     const r = spec.rainflow;
     out.push({ definition: rainflow, options: { slope: r.slope ?? 5, gate: r.gate ?? 0, bins: r.bins ?? null }, only: r.only ?? { quantities: ['strain', 'stress'] } });
+  }
+  // A channel declared with pulses_per_rev gets its shaft speed whatever the spec: the declaration asks for it.
+  out.push({ definition: speed, options: {}, only: undefined });
+  if (spec.orders) {
+    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch };
+    out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: {}, only: undefined });
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };

@@ -61,6 +61,16 @@ describe('archive declaration', () => {
     expect(message).toMatch(/format raw needs sample_rate/);
   });
 
+  it('reads a tacho channel, and refuses a trigger on a channel without pulses_per_rev', async () => {
+    const d = await loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: t, unit: V, pulses_per_rev: 2, trigger_level: 2.5 }\n      - { name: a }\n'));
+    expect(d.groups[0].channels![0]).toMatchObject({ name: 't', pulses_per_rev: 2, trigger_level: 2.5, trigger_hysteresis: null });
+    expect(d.groups[0].channels![1]).not.toHaveProperty('pulses_per_rev');
+    const trigger = await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: a, trigger_level: 1 }\n')));
+    expect(trigger).toMatch(/:5: groups\[0\]\.channels\[0\]\.trigger_level: trigger_level applies to a tacho channel only; declare pulses_per_rev/);
+    const zero = await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: b, pulses_per_rev: 0 }\n')));
+    expect(zero).toMatch(/:5: groups\[0\]\.channels\[0\]\.pulses_per_rev: must be >= 1/);
+  });
+
   it('reports YAML syntax errors with their line, and a missing declaration with what to do', async () => {
     expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: [unclosed\n')))).toMatch(/archive\.yaml:\d+: YAML syntax/);
     expect(await errorOf(loadArchiveDeclaration(tempDir()))).toMatch(/missing; every archive declares its recordings in archive\.yaml/);

@@ -48,9 +48,14 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
       channelNames.add(c.name!);
       if (c.range && !(c.range[0] < c.range[1])) problems.push(source.problem(at('channels', ci, 'range'), `range must be [lower, upper] with lower < upper, got [${c.range.join(', ')}]`));
       if (c.scale === 0) problems.push(source.problem(at('channels', ci, 'scale'), 'scale 0 would turn every sample into the offset; give the sensitivity in engineering units per stored unit'));
+      for (const key of ['trigger_level', 'trigger_hysteresis'] as const) {
+        if (c[key] != null && c.pulses_per_rev == null) problems.push(source.problem(at('channels', ci, key), `${key} applies to a tacho channel only; declare pulses_per_rev for it, or remove ${key}`));
+      }
       return {
         name: c.name!, quantity: c.quantity ?? 'unknown', unit: c.unit ?? 'FS', scale: c.scale ?? 1, offset: c.offset ?? 0,
         range: (c.range as [number, number] | undefined) ?? null, bits: c.bits ?? null, max_frequency_hz: c.max_frequency_hz ?? null,
+        // Only tacho channels carry the pulse fields, so other declarations (and their cache keys) stay as they were.
+        ...(c.pulses_per_rev != null ? { pulses_per_rev: c.pulses_per_rev, trigger_level: c.trigger_level ?? null, trigger_hysteresis: c.trigger_hysteresis ?? null } : {}),
       };
     }) ?? null;
     const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;

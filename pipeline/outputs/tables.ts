@@ -12,6 +12,7 @@ export const WINDOW_TABLE: TableColumn[] = [
   { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Mean over the window.' },
   { name: 'rms', type: 'float64', nullable: false, unit: '[unit]', description: 'RMS over the window.' },
   { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
+  { name: 'speed_rpm', type: 'float64', nullable: true, unit: 'rpm', description: 'Tacho channels: shaft speed over the window, from the good pulse intervals inside it (each counted by the share of it inside); null on other channels.' },
 ];
 
 /** cycles.parquet: rainflow cycles per recording × channel, binned or one row per distinct range and mean. */

@@ -67,6 +67,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
       columns: channels.map(() => ({})), flags: channels.map(() => []), evidence: channels.map(() => null), tables: {}, notes: [],
     });
     const offers = channels.map(() => new Map<string, () => unknown>());
+    const recordingShared = new Map<string, unknown>();
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? r.bits;
@@ -88,6 +89,8 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
           addRow: (table, row) => (g.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
+          tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
+          recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
         };
         return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
       });
