@@ -33,7 +33,12 @@ export interface ChannelContext {
   note(message: string): void;
   /** Adds a row to a secondary table of the run (windows.parquet…). */
   addRow(table: string, row: Record<string, number | null>): void;
+  /** Keeps a compact value with the recording's stored result (not a table row): read later from the cache, e.g. spectra for trends. */
+  keep?(name: string, value: KeptValue): void;
 }
+
+/** A compact value kept per channel with a recording's result: numbers and packed arrays (base64 text). */
+export type KeptValue = Record<string, number | string>;
 
 /** A column a stage contributes to features.parquet. */
 export interface ColumnSpec {

@@ -6,7 +6,7 @@ import { openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
-import { worst } from '../../stages/quality/flag.js';
+import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { evidenceCharts } from '../outputs/charts.js';
 import type { Evidence } from '../../stages/quality/evidence.js';
@@ -88,6 +88,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
           addRow: (table, row) => (g.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
+          keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
         };
         return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
       });
@@ -116,7 +117,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     const quality = out.groups.quality;
     if (quality) {
       quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
-        if (worst(flags.map((f) => f.severity)) === 'ok') return null;
+        if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
         const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
         return { charts: await evidenceCharts(data, channels[c].decl.unit) };
       }));
