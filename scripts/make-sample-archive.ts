@@ -158,8 +158,9 @@ const README = `# Sample archive: pump endurance rig P3 (invented)
 A demo archive made by \`scripts/make-sample-archive.ts\` (run \`npm run make-sample\`); every value is synthetic.
 A centrifugal pump runs at 2970 rpm (49.5 Hz, six vanes) on an endurance rig; each night at 02:00 the rig
 captures 4 s of five channels at 12.8 kHz: drive-end and non-drive-end bearing-housing accelerometers, a microphone,
-the discharge pressure and a once-per-revolution tachometer pulse. The drive-end bearing's outer race degrades
-over the week, ringing a 3.5 kHz resonance at the outer-race defect rate (about 177 Hz).
+the discharge pressure and a once-per-revolution tachometer pulse. The drive-end bearing is sound for the first three
+nights, then its outer race degrades: tones at the outer-race defect rate (about 177 Hz) and its harmonics grow, and the
+impacts ring a 3.5 kHz resonance, so the drive-end envelope and band figures climb night after night.
 
 Planted defects, for quern to catch:
 - \`nightly/2026-11-19\`: acc_de clips at its instrument range (±500 m/s²) under a loose-mount rattle.

@@ -30,7 +30,8 @@ function timeAxis(points: { t: number }[]) {
 
 function trendSpec(t: TrendPicture): TopLevelSpec {
   // The scale follows the usable recordings, the band and the limits; a recording whose data fail the checks sits at its edge.
-  const span = [...t.points.filter((p) => p.usable).map((p) => p.value), ...(t.band ?? []), ...Object.values(t.limits ?? {}) as number[]];
+  const usableValues = t.points.filter((p) => p.usable).map((p) => p.value);
+  const span = [...(usableValues.length ? usableValues : t.points.map((p) => p.value)), ...(t.band ?? []), ...Object.values(t.limits ?? {}) as number[]];
   const lo = Math.min(...span), hi = Math.max(...span), pad = 0.08 * (hi - lo || Math.abs(hi) || 1);
   const domain = [lo - pad, hi + pad];
   const clamp = (v: number) => Math.min(domain[1], Math.max(domain[0], v));
@@ -71,7 +72,7 @@ function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string,
     data: { values },
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
-      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' }, axis: { format: '.0e', labelOverlap: 'greedy' } },
+      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
       color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
     },
   };

@@ -12,7 +12,7 @@ import { spreadOf } from './score.js';
 import type { Verdict } from './verdict.js';
 
 /** Channels pictured at the top of the report, spectra per spectrogram, bins per pictured spectrum. */
-export const MAX_CHANNELS = 6, MAX_RECORDINGS = 60, MAX_BINS = 256;
+export const MAX_CHANNELS = 6, MAX_RECORDINGS = 40, MAX_BINS = 256;
 
 export interface TrendPicture {
   feature: string;
