@@ -71,6 +71,8 @@ describe('quality report of the sample archive', () => {
       expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length);
       expect(await page.locator('text=not readable').count()).toBe(1);
       mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
+      // The data-quality part follows what changed: pictured from its first heading.
+      await page.locator('h2', { hasText: 'Data quality' }).evaluate((h) => h.scrollIntoView({ block: 'start' }));
       await page.screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report.png'), fullPage: false });
       await page.locator('section.channel[data-severity=fail]').first().screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report-channel.png') });
       expect(errors).toEqual([]);

@@ -78,6 +78,6 @@ export function summaryText(r: RunRecord, q: QualityReport): string {
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
-  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}, spectra.parquet)`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
+  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }

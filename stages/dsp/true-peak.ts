@@ -44,16 +44,21 @@ export function interpolateAt(x: Float64Array, n: number, p: number): number {
 /** |y|, with a non-finite value (from NaN or ±Infinity in the support) counting as 0. */
 const magnitude = (y: number) => (y < Infinity && y > -Infinity ? Math.abs(y) : 0);
 
-// The largest |y| at the 4× points within half a sample of x[i] (i − 1/2, i − 1/4, i + 1/4, i + 1/2), in one pass over the taps.
+// |y| at the two half-sample points beside x[i] (i − 1/2, i + 1/2), in one pass over the taps.
 const [P1, P2, P3] = PHASES;
-function aroundCandidate(x: Float64Array, i: number): number {
-  let a = 0, b = 0, c = 0, d = 0;
+function halfPoints(x: Float64Array, i: number): number {
+  let a = 0, d = 0;
   const from = i - HALF;
-  for (let j = 0; j < 2 * HALF; j++) {
-    const before = x[from + j], after = x[from + j + 1];
-    a += P2[j] * before; b += P3[j] * before; c += P1[j] * after; d += P2[j] * after;
-  }
-  return Math.max(magnitude(a), magnitude(b), magnitude(c), magnitude(d));
+  for (let j = 0; j < 2 * HALF; j++) { const h = P2[j]; a += h * x[from + j]; d += h * x[from + j + 1]; }
+  return Math.max(magnitude(a), magnitude(d));
+}
+
+// |y| at the two quarter-sample points beside x[i] (i − 1/4, i + 1/4).
+function quarterPoints(x: Float64Array, i: number): number {
+  let b = 0, c = 0;
+  const from = i - HALF;
+  for (let j = 0; j < 2 * HALF; j++) { b += P3[j] * x[from + j]; c += P1[j] * x[from + j + 1]; }
+  return Math.max(magnitude(b), magnitude(c));
 }
 
 /** Samples an interpolated point needs on either side. */
@@ -64,7 +69,8 @@ export const SUPPORT = HALF;
  * Candidates: samples that are a local maximum of |x| and at least `guard` × the running true peak. With guard = cos(π·f/fs)
  * for the highest frequency f the signal holds, the sample nearest the true peak qualifies by magnitude: a signal band-limited
  * to f and bounded by M falls from a peak M no lower than M·cos(2πf·τ) within τ of it (from Szegő's inequality
- * s'² + (2πf)²s² ≤ (2πf)²M²; Duffin and Schaeffer 1937). Around each candidate the 4× points within half a sample are interpolated.
+ * s'² + (2πf)²s² ≤ (2πf)²M²; Duffin and Schaeffer 1937). Around each candidate the half-sample points are interpolated, and
+ * the quarter-sample points where those could lie beside the true peak.
  * The first and last SUPPORT samples count with their sample values only (no interpolation across the recording's ends), and so
  * do flat tops of three or more equal samples.
  */
@@ -116,8 +122,12 @@ export class TruePeak {
       // A flat top of three equal samples (clipping, a digital level such as a tacho pulse) is its own peak: interpolating
       // across its edges would measure their ringing (Gibbs), not the signal.
       if ((v === left && (v === right || v === buf[i - 2])) || (v === right && v === buf[i + 2])) continue;
-      const y = aroundCandidate(buf, i);
-      if (y > top) top = y;
+      // Near the true peak the sample and the half-sample point on the peak's side are both within half a sample of it, so by
+      // the same inequality they add up to at least (1 + guard) × the peak (2·cos²(π·f/(2fs)), derived); the quarter points are
+      // worth interpolating only then.
+      const half = halfPoints(buf, i);
+      if (half > top) top = half;
+      if (a + half >= (1 + guard) * top * (1 - 1e-3)) { const quarter = quarterPoints(buf, i); if (quarter > top) top = quarter; }
       threshold = guard * top;
     }
     this.samplePeak = peak;
