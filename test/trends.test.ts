@@ -77,6 +77,16 @@ describe('robust statistics of the baseline', () => {
   });
 });
 
+describe('the trends section', () => {
+  it('watches the default features the spec computes, and names what cannot work', () => {
+    const o = trendOptions({ statistics: {}, velocity_bands: [[10, 1000]], trends: {} })!;
+    expect(o.features.map((f) => `${f.name}:${f.level}`)).toEqual(['rms:amplitude', 'peak:amplitude', 'crest_factor:amplitude', 'kurtosis:null', 'velocity_10_1000_rms:amplitude']);
+    expect(trendOptions({ statistics: {} })).toBeNull();
+    expect(() => trendOptions({ statistics: {}, trends: { limits: { env_rms: { alarm: 1 } } } })).toThrow(/trends\.limits: env_rms: no such feature column/);
+    expect(() => trendOptions({ statistics: {}, trends: { baseline: { from: 'last week', until: '2026-01-01' } } })).toThrow(/trends\.baseline\.from: "last week" is not a date/);
+  });
+});
+
 describe('verdicts on planted histories, at the default thresholds (±6 dB or |score| > 6 against the first 3 recordings)', () => {
   it('a stationary history whose level varies only by Gaussian noise of 0.5 dB raises no change in 30 nights (50 histories)', async () => {
     for (let seed = 1; seed <= 50; seed++) {
