@@ -4,12 +4,14 @@ import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
 import { manySmall, reruns } from './sections/scale.js';
 import { throughput } from './sections/throughput.js';
+import { trendsOverHistory } from './sections/trends.js';
 
 try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
   const { full, kept, first } = throughput();
   reruns(full, kept, first);
   manySmall();
+  trendsOverHistory();
 } finally {
   rmSync(work, { recursive: true, force: true });
 }

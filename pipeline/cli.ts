@@ -33,7 +33,7 @@ async function main(argv: string[]): Promise<number> {
   const cli = yargs(argv)
     .scriptName('quern')
     .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
-    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet, windows.parquet, quality.json/.html and run.json', (y: Argv) => y
+    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet, windows.parquet, trends.parquet, spectra.parquet, quality.json/.html and run.json', (y: Argv) => y
       .positional('archive', { type: 'string', demandOption: true, describe: 'Archive folder with archive.yaml at its root' })
       .option('out', { type: 'string', describe: 'Output folder (also keeps the per-recording results a re-run reuses)', defaultDescription: '<archive>.reduced beside the archive' })
       .option('spec', { type: 'string', describe: 'Reduction spec (YAML)', defaultDescription: '<archive>/reduction.yaml, else the built-in default' })

@@ -5,7 +5,7 @@ import { join, resolve } from 'node:path';
 import { writeFileAtomic } from './outputs/atomic.js';
 import { groupKeys, writeEntry, type CacheEntry } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
-import { FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
+import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
 import { toolVersion } from './declare/package-files.js';
 import { plan } from './plan/plan.js';
 import { reduceAll } from './reduce/pool.js';
@@ -16,6 +16,8 @@ import { runRecord, type RunRecord } from './outputs/report.js';
 import { decide, mergeEntry } from './plan/reuse.js';
 import { scan } from './select/scan.js';
 import { byStartTime, shardOf, updateIndex, type Shard } from './select/select.js';
+import { trendOptions } from './trends/options.js';
+import { writeTrendsAndSpectra } from './trends/trends.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -46,6 +48,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   let t = performance.now();
   const declaration = await loadArchiveDeclaration(root);
   const spec = await loadSpec(root, o.spec);
+  const trends = trendOptions(spec.spec); // checked now, before any work
   const scanned = await scan(root, declaration, { exclude: [outDir] });
   let chosen = o.shard ? scanned.recordings.filter((r) => shardOf(r.recording, o.shard!.n) === o.shard!.k) : scanned.recordings;
   if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, outDir, o.since ?? -Infinity, o.until ?? Infinity);
@@ -80,7 +83,11 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
   const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
   const names = o.shard ? partNames(o.shard.k, o.shard.n) : FINAL_NAMES;
-  const quality = await writeOutputs(outDir, names, { results, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched });
+  // Trends and spectra need every shard's results: a shard leaves them to quern merge.
+  const changes = o.shard ? null : await writeTrendsAndSpectra(outDir, spec.spec, {
+    trends, entries: byRecording([...entries.values()]), recordings: results.filter((r) => r.status === 'reduced').map((r) => r.recording), metadata,
+  });
+  const quality = await writeOutputs(outDir, names, { results, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, changes });
   const scannedByName = new Map(chosen.map((r) => [r.recording, r]));
   await updateIndex(outDir, o.shard ?? null, decisions.map((d) => {
     const s = scannedByName.get(d.job.recording)!, start = entries.get(d.job.recording)?.base?.header.start_time;

@@ -10,6 +10,7 @@ import { rainflow } from './rainflow.js';
 import { soundEnergy } from './sound-energy.js';
 import { soundMaxima } from './sound-maxima.js';
 import { orders, orderTacho } from './orders.js';
+import { keptSpectrum } from './spectra.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
 import { speed } from './speed.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
@@ -40,7 +41,10 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   const welch: WelchOptions = { ...DEFAULT_SPECTRUM, ...(spec.spectrum ?? {}) };
   delete (welch as { only?: unknown }).only;
   const out: ActiveStage[] = [{ definition: statistics, options: {}, only: spec.statistics?.only }];
-  if (spec.spectrum) out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
+  if (spec.spectrum) {
+    out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
+    out.push({ definition: keptSpectrum, options: welch, only: spec.spectrum.only });
+  }
   if (spec.bands) out.push({ definition: bands, options: { ranges: rangesOf(spec.bands), spectrum: welch }, only: onlyOf(spec.bands) });
   if (spec.octave_bands) {
     const sets = (Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands]).map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000, ...(s.levels_db ? { levels_db: true } : {}) }));

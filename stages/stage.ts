@@ -40,6 +40,8 @@ export interface ChannelContext {
    * Publish into it when a stage is created; read it in finish(), when every channel has seen every chunk. Absent outside a recording.
    */
   recordingShared?<T>(key: string, make: () => T): T;
+  /** Keeps a compact value with the recording's stored result (not a table row): read later from the cache, e.g. spectra for trends. */
+  keep?(name: string, value: KeptValue): void;
 }
 
 /** What archive.yaml says about a tacho channel's pulses. */
@@ -49,6 +51,9 @@ export interface TachoDeclaration {
   triggerLevel: number | null;
   triggerHysteresis: number | null;
 }
+
+/** A compact value kept per channel with a recording's result: numbers and packed arrays (base64 text). */
+export type KeptValue = Record<string, number | string>;
 
 /** A column a stage contributes to features.parquet. */
 export interface ColumnSpec {

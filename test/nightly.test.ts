@@ -19,7 +19,7 @@ describe('incremental re-runs', () => {
   it('recomputes nothing when nothing changed, and writes identical tables', async () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
-    const before = await table(join(out, 'features.parquet')), windowsBefore = await table(join(out, 'windows.parquet'));
+    const before = await table(join(out, 'features.parquet')), windowsBefore = await table(join(out, 'windows.parquet')), trendsBefore = await table(join(out, 'trends.parquet'));
     quern('reduce', archive, '--out', out, '--quiet');
     const run = readJson(join(out, 'run.json'));
     expect(run.counts.recomputed).toBe(0);
@@ -27,6 +27,7 @@ describe('incremental re-runs', () => {
     expect(run.recordings.find((r: any) => r.recording === 'nightly/2026-11-16/pump-endurance.wav').why).toBe('unchanged');
     expect(await table(join(out, 'features.parquet'))).toEqual(before);
     expect(await table(join(out, 'windows.parquet'))).toEqual(windowsBefore);
+    expect(await table(join(out, 'trends.parquet'))).toEqual(trendsBefore);
   });
 
   it('changing the envelope filter recomputes only the envelope group; every other column is reused bit for bit', async () => {
@@ -150,7 +151,8 @@ describe('sharding', () => {
     expect(await table(join(shared, 'features.parquet'))).toEqual(one);
     expect(parts).toEqual(one);
     expect(await table(join(shared, 'windows.parquet'))).toEqual(await table(join(single, 'windows.parquet')));
-    const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched }; };
+    for (const name of ['trends', 'spectra']) expect(await table(join(shared, `${name}.parquet`)), name).toEqual(await table(join(single, `${name}.parquet`)));
+    const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched, changes: j.changes }; };
     expect(q(join(shared, 'quality.json'))).toEqual(q(join(single, 'quality.json')));
     expect(existsSync(join(shared, 'quality.html'))).toBe(true);
   });

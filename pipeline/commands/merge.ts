@@ -12,6 +12,8 @@ import type { QualityReport } from '../outputs/quality.js';
 import { assembleRecording } from '../reduce/assemble.js';
 import { runRecord, type RunRecord } from '../outputs/report.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { trendOptions } from '../trends/options.js';
+import { entriesNamed, writeTrendsAndSpectra } from '../trends/trends.js';
 
 export async function runMerge(out: string): Promise<{ record: RunRecord; quality: QualityReport }> {
   const started = new Date();
@@ -40,7 +42,9 @@ export async function runMerge(out: string): Promise<{ record: RunRecord; qualit
   }));
   const runId = randomUUID();
   const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
-  const quality = await writeOutputs(outDir, FINAL_NAMES, { results, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched: first.unmatched.map((u) => u.path) });
+  const reduced = results.filter((r) => r.status === 'reduced').map((r) => r.recording);
+  const changes = await writeTrendsAndSpectra(outDir, spec, { trends: trendOptions(spec), entries: entriesNamed(outDir, reduced), recordings: reduced, metadata });
+  const quality = await writeOutputs(outDir, FINAL_NAMES, { results, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched: first.unmatched.map((u) => u.path), changes });
   const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
   const record = runRecord({
     runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched: first.unmatched.map((u) => u.path), results,

@@ -9,6 +9,7 @@ import type { RecordingResult } from '../reduce/result.js';
 import { qualityHtml } from './report-html.js';
 import { IDENTITY_COLUMNS, QUALITY_COLUMNS, writeParquetTable, type TableColumn } from './parquet.js';
 import { SECONDARY_TABLES } from './tables.js';
+import type { TrendsOutcome } from '../trends/trends.js';
 
 /** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
 export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null }
@@ -31,6 +32,8 @@ export function tableColumns(spec: ReductionSpec, labels: string[]): TableColumn
 
 export async function writeOutputs(outDir: string, names: OutputNames, o: {
   results: RecordingResult[]; spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
+  /** What changed against the baselines (trends on, whole runs and merges): into quality.json and at the top of quality.html. */
+  changes?: TrendsOutcome | null;
 }): Promise<QualityReport> {
   const results = byRecording(o.results);
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
@@ -38,8 +41,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: {
   for (const [name, columns] of Object.entries(SECONDARY_TABLES)) {
     await writeParquetTable(join(outDir, names.table(name)), columns, results.flatMap((r) => r.tables[name] ?? []), o.metadata);
   }
-  const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched });
+  const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched, changes: o.changes?.report });
   await writeFileAtomic(join(outDir, names.qualityJson), JSON.stringify(quality, null, 2) + '\n');
-  if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));
+  if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results, o.changes?.html));
   return quality;
 }

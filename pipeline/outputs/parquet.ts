@@ -1,6 +1,6 @@
 // Feature rows → an Arrow table → Parquet (Apache Arrow's Rust writer, compiled to WebAssembly), written atomically.
 import * as arrow from 'apache-arrow';
-import { Compression, Table as WasmTable, writeParquet, WriterPropertiesBuilder } from 'parquet-wasm/node';
+import { Compression, Table as WasmTable, writeParquet, WriterPropertiesBuilder, type WriterProperties } from 'parquet-wasm/node';
 import type { ColumnSpec } from '../../stages/stage.js';
 import { writeFileAtomic } from './atomic.js';
 import type { FeatureRow } from '../reduce/result.js';
@@ -53,9 +53,13 @@ export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadat
 /** Writes the rows as Parquet, zstd-compressed, with column statistics; metadata goes in the footer's key-value pairs. */
 export async function writeParquetTable(path: string, columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): Promise<void> {
   const table = toArrowTable(columns, rows, metadata);
+  const bytes = writeParquet(WasmTable.fromIPCStream(arrow.tableToIPC(table, 'stream')), writerProperties(columns, metadata));
+  await writeFileAtomic(path, bytes);
+}
+
+/** Zstandard, the metadata in the footer's key-value pairs with the columns' units as `quern.units`. */
+export function writerProperties(columns: TableColumn[], metadata: Record<string, string>): WriterProperties {
   const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
   const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
-  const props = new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv).setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
-  const bytes = writeParquet(WasmTable.fromIPCStream(arrow.tableToIPC(table, 'stream')), props);
-  await writeFileAtomic(path, bytes);
+  return new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv).setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
 }

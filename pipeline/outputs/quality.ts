@@ -1,7 +1,8 @@
 // quality.json: per run, per recording, per channel, every flag with value, threshold, severity, evidence and message.
 import { FLAG_NAMES } from '../../stages/index.js';
-import { worst, type Flag, type Severity } from '../../stages/quality/flag.js';
+import { SEVERITIES, worst, type Flag, type Severity } from '../../stages/quality/flag.js';
 import type { RecordingResult } from '../reduce/result.js';
+import type { ChangesReport } from '../trends/changes.js';
 
 export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: Flag[] }
 export interface QualityRecording { recording: string; group: string; status: 'reduced' | 'failed'; severity: Severity; reason?: string; channels: QualityChannel[] }
@@ -14,13 +15,15 @@ export interface QualityReport {
   totals: { channels: Record<Severity, number>; recordings: Record<Severity, number> & { unreadable: number; unmatched: number }; flags: Record<string, Record<Severity, number>> };
   recordings: QualityRecording[];
   unmatched: string[];
+  /** What changed against each channel's baseline (spec section trends), when trends are on. */
+  changes?: ChangesReport;
 }
 
-export function qualityReport(o: { version: string; runId: string; archive: string; results: RecordingResult[]; unmatched: string[] }): QualityReport {
+export function qualityReport(o: { version: string; runId: string; archive: string; results: RecordingResult[]; unmatched: string[]; changes?: ChangesReport | null }): QualityReport {
   const recordings: QualityRecording[] = o.results.map((r) => r.status === 'failed'
     ? { recording: r.recording, group: r.group, status: 'failed', severity: 'fail', reason: r.reason, channels: [] }
     : { recording: r.recording, group: r.group, status: 'reduced', severity: worst(r.quality.map((q) => q.severity)), channels: r.quality.map(({ channel, unit, severity, flags }) => ({ channel, unit, severity, flags })) });
-  const count = (xs: Severity[]) => ({ ok: xs.filter((s) => s === 'ok').length, warn: xs.filter((s) => s === 'warn').length, fail: xs.filter((s) => s === 'fail').length });
+  const count = (xs: Severity[]) => Object.fromEntries(SEVERITIES.map((v) => [v, xs.filter((s) => s === v).length])) as Record<Severity, number>;
   const channels = recordings.flatMap((r) => r.channels);
   return {
     tool: 'quern', version: o.version, run_id: o.runId, generated: new Date().toISOString(), archive: o.archive,
@@ -31,13 +34,14 @@ export function qualityReport(o: { version: string; runId: string; archive: stri
     },
     recordings,
     unmatched: o.unmatched,
+    ...(o.changes ? { changes: o.changes } : {}),
   };
 }
 
 /** The terminal's quality lines: counts by severity, then every failed channel with its message. */
 export function qualitySummary(q: QualityReport): string[] {
   const t = q.totals.channels;
-  const lines = [`  quality: ${t.fail} channels fail, ${t.warn} warn, ${t.ok} ok`];
+  const lines = [`  quality: ${t.fail} channels fail, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`];
   for (const r of q.recordings) {
     for (const c of r.channels.filter((x) => x.severity === 'fail')) {
       for (const f of c.flags.filter((x) => x.severity === 'fail')) lines.push(`  FAIL    ${r.recording} ${c.channel}: ${f.name}: ${f.message}`);

@@ -5,6 +5,7 @@ import type { RecordingResult } from '../reduce/result.js';
 import type { Decision } from '../plan/reuse.js';
 import type { Shard } from '../select/select.js';
 import { qualitySummary, type QualityReport } from './quality.js';
+import { changesSummary } from '../trends/summary.js';
 
 export interface RunRecord {
   tool: 'quern';
@@ -69,12 +70,14 @@ export function summaryText(r: RunRecord, q: QualityReport): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
+  // What changed leads: it is the machine's story; the data-quality lines follow.
+  if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
-  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet)`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
+  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }

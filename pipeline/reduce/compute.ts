@@ -6,7 +6,7 @@ import { openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
-import { worst } from '../../stages/quality/flag.js';
+import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { evidenceCharts } from '../outputs/charts.js';
 import type { Evidence } from '../../stages/quality/evidence.js';
@@ -91,6 +91,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
           evidence: (name, make) => offers[c].set(name, make),
           tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
           recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
+          keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
         };
         return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
       });
@@ -119,7 +120,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     const quality = out.groups.quality;
     if (quality) {
       quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
-        if (worst(flags.map((f) => f.severity)) === 'ok') return null;
+        if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
         const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
         return { charts: await evidenceCharts(data, channels[c].decl.unit) };
       }));
