@@ -1,17 +1,12 @@
-// Runs recordings through a pool of worker threads, reporting each as it finishes.
+// The run's worker threads: batches of recordings to reduce, then slices of the tables to assemble, on one pool.
 import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
-import type { RecordingJob } from '../plan/plan.js';
-import type { RecordingOutput } from './result.js';
-
-export interface PoolOptions {
-  jobs?: number;
-  onResult?: (r: RecordingOutput) => void | Promise<void>;
-}
+import { encodeRecord } from '../store/record.js';
+import { formBatches, type BatchItem, type BatchResult } from './batch.js';
 
 /** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
 function workerFile(): string {
@@ -21,26 +16,51 @@ function workerFile(): string {
   return pathToFileURL(built).href;
 }
 
-export async function reduceAll(jobs: RecordingJob[], { jobs: threads = availableParallelism(), onResult = () => {} }: PoolOptions = {}): Promise<RecordingOutput[]> {
-  if (jobs.length === 0) return [];
-  const pool = new Tinypool({
-    filename: workerFile(),
-    minThreads: 1,
-    maxThreads: Math.max(1, Math.min(threads, jobs.length || 1)),
-  });
-  try {
-    return await Promise.all(jobs.map(async (job) => {
-      let r: RecordingOutput;
-      try {
-        r = await pool.run(job);
-      } catch (e) {
-        // A worker that dies (out of memory, native crash) fails only its own recording.
-        r = { recording: job.recording, group: job.group, status: 'failed', reason: `worker stopped: ${(e as Error).message}`, base: null, groups: {}, seconds: 0 };
+export interface Pool { threads: number; run<T>(task: string, input: unknown): Promise<T>; destroy(): Promise<void> }
+
+export function openPool(threads = availableParallelism()): Pool {
+  const n = Math.max(1, threads);
+  let pool: Tinypool | null = null;
+  // Threads start on the first task: a run with nothing to compute or write starts none.
+  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: n, maxThreads: n }));
+  return {
+    threads: n,
+    run: (name, input) => get().run(input, { name }),
+    destroy: async () => { await pool?.destroy(); },
+  };
+}
+
+export interface ReduceOptions {
+  /** Called with each finished batch, in the order they finish (store them, report progress). */
+  onBatch: (results: BatchResult[], items: BatchItem[]) => Promise<void>;
+}
+
+/** Reduces every item in batches; a worker that dies fails only the recordings of its batch. */
+export async function reduceAll(pool: Pool, items: BatchItem[], { onBatch }: ReduceOptions): Promise<void> {
+  let failure: unknown = null;
+  await Promise.all(formBatches(items, { threads: pool.threads }).map(async (batch) => {
+    let results: BatchResult[];
+    try {
+      results = await pool.run<BatchResult[]>('reduceBatch', batch);
+    } catch (e) {
+      // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
+      results = [];
+      for (const item of batch) {
+        try { results.push(...await pool.run<BatchResult[]>('reduceBatch', [item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
-      await onResult(r);
-      return r;
-    }));
-  } finally {
-    await pool.destroy();
-  }
+    }
+    if (failure) return;
+    try { await onBatch(results, batch); } catch (e) { failure ??= e; }
+  }));
+  if (failure) throw failure;
+}
+
+/** The record of a recording whose worker stopped. */
+function workerStopped(item: BatchItem, e: Error): BatchResult {
+  const s = item.store;
+  const facts = {
+    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: `worker stopped: ${e.message}`, version: s.version, identity: s.identity,
+    readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
+  };
+  return { facts, bytes: encodeRecord(facts, { recording: facts.recording, group: facts.group, status: 'failed', reason: facts.reason, base: null, groups: {} }) };
 }

@@ -50,6 +50,13 @@ export function parseWhen(text: string, now = Date.now()): number {
   return t;
 }
 
+/** A span such as 30m, 12h, 2d or 1w, in ms. */
+export function parseSpan(text: string): number {
+  const span = text.trim().match(SPAN);
+  if (!span) throw new Error(`"${text}" is not a span (30m, 12h, 2d, 1w)`);
+  return Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
+}
+
 // ---- selecting a period ----
 
 /** The start of a recording as the index remembers it, keyed by path; valid while size and modification time match. */
@@ -95,7 +102,14 @@ export async function updateIndex(out: string, shard: Shard | null, known: { rec
   const path = indexPath(out, shard);
   let current: Record<string, IndexEntry> = {};
   try { current = JSON.parse(await readFile(path, 'utf8')); } catch { /* first run */ }
-  for (const k of known) current[k.recording] = { size: k.size, mtimeMs: k.mtimeMs, start_ms: k.start_ms };
+  let changed = false;
+  for (const k of known) {
+    const was = current[k.recording];
+    if (was && was.size === k.size && was.mtimeMs === k.mtimeMs && was.start_ms === k.start_ms) continue;
+    current[k.recording] = { size: k.size, mtimeMs: k.mtimeMs, start_ms: k.start_ms };
+    changed = true;
+  }
+  if (!changed) return; // an unchanged index is not written again
   await mkdir(dirname(path), { recursive: true });
   await writeFileAtomic(path, JSON.stringify(current));
 }
