@@ -61,14 +61,14 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     store = await Store.open(outDir, shard);
     const s = store;
     const keys = groupKeys(spec.spec, toolVersion);
-    const decisions = await decide(plan(chosen, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const decisions = await decide(plan(chosen, declaration.groups, spec.spec), chosen, s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);
 
     t = performance.now();
-    const todo = decisions.filter((d) => d.compute.length > 0 || d.restamp);
+    const todo = decisions.filter((d) => d.store);
     const byName = new Map(todo.map((d) => [d.job.recording, d]));
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
-    await reduceAll(pool, todo.map((d) => ({ job: d.job, store: d.store })), {
+    await reduceAll(pool, todo.map((d) => ({ job: d.job, store: d.store! })), {
       onBatch: async (results) => {
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
@@ -88,10 +88,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const items = byRecording(decisions.map((d) => ({ recording: d.job.recording, loc: s.get(d.job.recording)!, labels: labelsOf.get(d.job.group) ?? {} })));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool });
     const compacted = await writing(s.own!, () => s.compact());
-    const scannedByName = new Map(chosen.map((r) => [r.recording, r]));
-    await updateIndex(outDir, shard, decisions.map((d) => {
-      const r = scannedByName.get(d.job.recording)!, start = s.get(d.job.recording)?.facts.startTime;
-      return { recording: d.job.recording, size: r.size, mtimeMs: r.mtimeMs, start_ms: start ? Date.parse(start) : r.mtimeMs };
+    await updateIndex(outDir, shard, chosen.map((r) => {
+      const start = s.get(r.recording)?.facts.startTime;
+      return { recording: r.recording, size: r.size, mtimeMs: r.mtimeMs, start_ms: start ? Date.parse(start) : r.mtimeMs };
     }));
     const writeS = clock(t);
 

@@ -14,7 +14,7 @@ import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './parquet.j
 import { ParquetStream } from './parquet-stream.js';
 import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
 import { MAX_PICTURED, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
-import type { SliceItem, SliceOutput, SliceTask } from './slice.js';
+import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 
@@ -48,7 +48,7 @@ export interface OutputsInput {
 export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
 
 /** Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small. */
-function slices(items: SliceItem[], { maxItems = 1000, maxBytes = 1 << 20 } = {}): SliceItem[][] {
+function slices(items: SliceItem[], { maxItems = 250, maxBytes = 256 << 10 } = {}): SliceItem[][] {
   const out: SliceItem[][] = [];
   let current: SliceItem[] = [], bytes = 0;
   for (const it of items) {
@@ -86,19 +86,23 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const totals = emptyTotals(o.unmatched.length);
     const summary: QualitySummary = { totals, failLines: [], failCount: 0 };
     const channelNames = new Set<string>();
-    const candidates = { fail: [] as SliceOutput['sections'], warn: [] as SliceOutput['sections'] };
+    const candidates = { fail: [] as Candidate[], warn: [] as Candidate[] };
     const counted = { fail: 0, warn: 0, recordings: 0 };
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
-      for (const text of s.quality) await spools.quality.write(jsonPieces.item(text, counted.recordings++));
+      // Each part comes after a separator; the very first one's is dropped.
+      if (s.recordings) await spools.quality.write(counted.recordings ? s.quality : s.quality.replace(/^,/, ''));
+      counted.recordings += s.recordings;
       addTotals(totals, s.totals);
-      summary.failCount += s.failLines.length;
+      summary.failCount += s.failCount;
       summary.failLines.push(...s.failLines.slice(0, MAX_FAIL_LINES - summary.failLines.length));
       if (!qualityHtml) return;
-      for (const row of s.overview) { for (const [c] of row.cells) channelNames.add(c); await spools.overview.write(JSON.stringify(row) + '\n'); }
-      for (const section of s.sections) {
-        await spools[section.severity].write(JSON.stringify(section.html) + '\n');
-        if (counted[section.severity]++ < MAX_PICTURED) candidates[section.severity].push({ ...section, html: '' });
+      for (const c of s.channels) channelNames.add(c);
+      await spools.overview.write(s.overview);
+      for (const sev of ['fail', 'warn'] as const) {
+        await spools[sev].write(s.sections[sev]);
+        candidates[sev].push(...s.candidates[sev].slice(0, MAX_PICTURED - candidates[sev].length));
+        counted[sev] += s.counts[sev];
       }
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.

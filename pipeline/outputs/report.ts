@@ -45,8 +45,11 @@ export interface RunRecord {
 export type RunLine = RunRecord['recordings'][number];
 
 /** A recording's line of run.json, from its stored facts (notes of the groups the spec asks for now) and what this run did. */
+const NO_MESSAGES: string[] = [];
+
 export function runLine(f: EntryFacts, d: Pick<Decision, 'compute' | 'reused' | 'why'>, activeGroups: string[]): RunLine {
-  const messages = [...(f.notes[''] ?? []), ...activeGroups.filter((g) => g in f.groupKeys).sort().flatMap((g) => f.notes[g] ?? [])];
+  let messages = [...(f.notes[''] ?? []), ...activeGroups.filter((g) => g in f.groupKeys).sort().flatMap((g) => f.notes[g] ?? [])];
+  if (!messages.length) messages = NO_MESSAGES;
   return {
     recording: f.recording, group: f.group, status: f.status, ...(f.reason ? { reason: f.reason } : {}), messages,
     rows: f.status === 'reduced' ? f.channels : 0, frames: f.frames, sample_rate: f.sampleRate, seconds: round(f.seconds),

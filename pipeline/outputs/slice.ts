@@ -8,24 +8,34 @@ import type { FeatureRow } from '../reduce/result.js';
 import { readRecord, type Located } from '../store/pack.js';
 import { decodeResults, joinEntry, recordBody } from '../store/record.js';
 import { toArrowTable, type TableColumn } from './parquet.js';
-import { countRecording, emptyTotals, failLines, qualityRecording, type QualityTotals } from './quality.js';
-import { channelSection, overviewRow, type OverviewRow } from './report-html.js';
+import { countRecording, emptyTotals, failLines, MAX_FAIL_LINES, qualityRecording, type QualityTotals } from './quality.js';
+import { channelSection, MAX_PICTURED, overviewRow } from './report-html.js';
+import { jsonPieces } from './staged.js';
 
 export interface SliceItem { loc: Located; labels: Record<string, string> }
 export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; tables: Record<string, TableColumn[]>; metadata: Record<string, string> }
 
-/** A channel that is not ok: its section of quality.html (pictures are added for the first few of the whole run). */
-export interface Section { recording: string; channel: string; severity: 'warn' | 'fail'; html: string; loc: Located }
+/** A channel that may be pictured: the first few not ok of the whole run, unusable ones first, are. */
+export interface Candidate { loc: Located; channel: string }
 
 export interface SliceOutput {
   /** Arrow IPC stream of each table's rows (features and every secondary table); null where the slice has none. */
   tables: Record<string, Uint8Array | null>;
-  /** Each recording's part of quality.json, as JSON text. */
-  quality: string[];
-  overview: OverviewRow[];
-  sections: Section[];
+  /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as one text. */
+  quality: string;
+  recordings: number;
+  /** quality.html pieces as JSON lines: overview rows, and the sections of channels that fail and that warn. */
+  overview: string;
+  sections: { fail: string; warn: string };
+  /** Per severity, the slice's first channels that may be pictured, and how many sections there are. */
+  candidates: { fail: Candidate[]; warn: Candidate[] };
+  counts: { fail: number; warn: number };
   totals: QualityTotals;
+  /** The first failed flags as terminal lines, and how many there are. */
   failLines: string[];
+  failCount: number;
+  /** Channel names in order of first appearance (the overview's columns). */
+  channels: string[];
 }
 
 async function withHandles<T>(fn: (read: (loc: Located) => Promise<Buffer>) => Promise<T>): Promise<T> {
@@ -39,7 +49,9 @@ async function withHandles<T>(fn: (read: (loc: Located) => Promise<Buffer>) => P
 
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const rows: Record<string, FeatureRow[]> = Object.fromEntries(Object.keys(task.tables).map((t) => [t, []]));
-  const out: SliceOutput = { tables: {}, quality: [], overview: [], sections: [], totals: emptyTotals(), failLines: [] };
+  const out: SliceOutput = { tables: {}, quality: '', recordings: 0, overview: '', sections: { fail: '', warn: '' }, candidates: { fail: [], warn: [] }, counts: { fail: 0, warn: 0 }, totals: emptyTotals(), failLines: [], failCount: 0, channels: [] };
+  const names = new Set<string>();
+  const quality: string[] = [], overview: string[] = [], sections = { fail: [] as string[], warn: [] as string[] };
   await withHandles(async (read) => {
     for (const { loc, labels } of task.items) {
       const entry = joinEntry(loc.facts, decodeResults(recordBody(await read(loc))));
@@ -47,13 +59,25 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
       rows.features.push(...r.rows);
       for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].push(row);
       const q = qualityRecording(r);
-      out.quality.push(JSON.stringify(q, null, 2));
+      quality.push(jsonPieces.item(JSON.stringify(q, null, 2), 1));
       countRecording(out.totals, q);
-      out.overview.push(overviewRow(q));
-      out.failLines.push(...failLines(q));
-      for (const c of q.channels) if (c.severity !== 'ok') out.sections.push({ recording: q.recording, channel: c.channel, severity: c.severity, html: channelSection(q.recording, c), loc });
+      overview.push(JSON.stringify(overviewRow(q)));
+      const lines = failLines(q);
+      out.failCount += lines.length;
+      out.failLines.push(...lines.slice(0, MAX_FAIL_LINES - out.failLines.length));
+      for (const c of q.channels) names.add(c.channel);
+      for (const c of q.channels) {
+        if (c.severity === 'ok') continue;
+        sections[c.severity].push(JSON.stringify(channelSection(q.recording, c)));
+        if (out.counts[c.severity]++ < MAX_PICTURED) out.candidates[c.severity].push({ loc, channel: c.channel });
+      }
     }
   });
+  out.recordings = quality.length;
+  out.channels = [...names];
+  out.quality = quality.join('');
+  out.overview = overview.map((l) => l + '\n').join('');
+  out.sections = { fail: sections.fail.map((l) => l + '\n').join(''), warn: sections.warn.map((l) => l + '\n').join('') };
   for (const [name, columns] of Object.entries(task.tables)) {
     out.tables[name] = rows[name].length ? arrow.tableToIPC(toArrowTable(columns, rows[name], task.metadata), 'stream') : null;
   }

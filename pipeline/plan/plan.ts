@@ -28,7 +28,8 @@ export function plan(recordings: ScannedRecording[], groups: GroupDeclaration[],
     const g = groups[r.group];
     return {
       recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
-      layout: g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames,
+      // A frame takes at least a byte, so a small file fits one chunk of its size in bytes: no large buffers for small files.
+      layout: g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
     };
   });
 }

@@ -1,5 +1,4 @@
 // Decides, per recording, what a run may reuse from earlier runs and what it must compute, and says why.
-import { stat } from 'node:fs/promises';
 import pLimit from 'p-limit';
 import { declarationKey, hashFile, type Identity } from './cache.js';
 import type { RecordingJob } from './plan.js';
@@ -7,9 +6,11 @@ import type { StoreFacts } from '../reduce/batch.js';
 import type { Store } from '../store/store.js';
 
 export interface Decision {
+  /** The job, with the groups to compute. */
   job: RecordingJob;
-  /** What the worker needs to store the entry; `compute` lists the groups to compute (none: reuse whole). */
-  store: StoreFacts;
+  /** What the worker needs to store the entry (null when the entry is reused whole as it is). */
+  store: StoreFacts | null;
+  /** Groups to compute (none: reuse whole). */
   compute: string[];
   reused: string[];
   why: string;
@@ -22,13 +23,15 @@ export interface DecideOptions { version: string; keys: Record<string, string>; 
 /** Modification times within this of the read are not trusted alone (file systems keep mtimes as coarse as 2 s). */
 const AMBIGUOUS_MS = 2000;
 
-export async function decide(jobs: RecordingJob[], store: Store, o: DecideOptions): Promise<Decision[]> {
+const NONE: string[] = [];
+
+/** `seen` gives each job's size, modification time and when they were read (the scan's stat). */
+export async function decide(jobs: RecordingJob[], seen: { size: number; mtimeMs: number; readAtMs: number }[], store: Store, o: DecideOptions): Promise<Decision[]> {
   const groups = Object.keys(o.keys);
-  const limit = pLimit(16); // bounded concurrent file reads: stats and hashes
-  return Promise.all(jobs.map((job) => limit(async (): Promise<Decision> => {
-    const s = await stat(job.path);
-    const readAtMs = Date.now();
-    const identity: Identity = { size: s.size, mtimeMs: s.mtimeMs, hash: null };
+  const limit = pLimit(16); // bounded concurrent hashes
+  return Promise.all(jobs.map((job, i) => limit(async (): Promise<Decision> => {
+    const { readAtMs } = seen[i];
+    const identity: Identity = { size: seen[i].size, mtimeMs: seen[i].mtimeMs, hash: null };
     const previous = o.force ? null : store.get(job.recording) ?? null;
     const entry = previous?.facts;
     const fresh = identity.mtimeMs >= readAtMs - AMBIGUOUS_MS;
@@ -48,13 +51,13 @@ export async function decide(jobs: RecordingJob[], store: Store, o: DecideOption
     if (entry.declKey !== facts.declKey) return all('declaration changed');
     // Confirmed by content now that the modification time can be trusted: store the entry again so later runs need not hash.
     const restamp = wasAmbiguous && !fresh;
-    const keep = (compute: string[], reused: string[], why: string): Decision => ({
-      job: { ...job, groups: compute }, store: { ...facts, compute, reused, previous }, compute, reused, why, restamp: restamp && compute.length === 0,
-    });
+    const keep = (compute: string[], reused: string[], why: string): Decision => (compute.length || restamp
+      ? { job: { ...job, groups: compute }, store: { ...facts, compute, reused, previous }, compute, reused, why, restamp: compute.length === 0 }
+      : { job, store: null, compute: NONE, reused, why, restamp: false });
     if (entry.status === 'failed') {
-      return entry.failureKey === o.specHash ? keep([], [], 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
+      return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }
     const stale = groups.filter((g) => entry.groupKeys[g] !== o.keys[g]);
-    return keep(stale, groups.filter((g) => !stale.includes(g)), stale.length ? `spec changed for ${stale.join(', ')}` : 'unchanged');
+    return stale.length ? keep(stale, groups.filter((g) => !stale.includes(g)), `spec changed for ${stale.join(', ')}`) : keep(NONE, groups, 'unchanged');
   })));
 }

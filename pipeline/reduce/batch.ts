@@ -59,38 +59,45 @@ export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: Cach
   return { ...fresh, ...common, groups, groupKeys: Object.fromEntries(Object.keys(groups).map((g) => [g, s.keys[g]]).filter(([, k]) => k)) } as CacheEntry;
 }
 
+/** Recordings of a batch reduced at once in a worker (batches hold small recordings; a large one travels alone). */
+const IN_FLIGHT = 8;
+
 /** Reduces a batch (in a worker): each recording read once, its entry encoded with its checksums. */
 export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
-  const handles = new Map<string, FileHandle>();
-  const previousRecord = async (loc: Located) => readRecord(handles.get(loc.file) ?? handles.set(loc.file, await open(loc.file, 'r')).get(loc.file)!, loc);
-  try {
-    const out: BatchResult[] = [];
-    for (const { job, store: s } of items) {
-      const identity = { ...s.identity };
-      if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
-      const storedAt = Date.now();
-      if (s.compute.length === 0 && s.previous) {
-        // Nothing to compute: the same results, stored again under the identity just confirmed.
-        const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
-        out.push({ facts, bytes: encodeRecord(facts, recordBody(await previousRecord(s.previous))) });
-        continue;
-      }
-      const fresh = await computeRecording(job);
-      let previous: CacheEntry | null = null;
-      if (s.previous && s.reused.length && fresh.status === 'reduced') {
-        try { previous = { ...s.previous.facts, ...decodeResults(recordBody(await previousRecord(s.previous))) }; } catch { previous = null; }
-      }
-      if (s.reused.length && !previous && fresh.status === 'reduced') {
-        // The stored groups could not be read back: compute every group.
-        const whole = await computeRecording({ ...job, groups: null });
-        out.push(encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt));
-        continue;
-      }
-      out.push(encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt));
+  // One handle a pack for the whole batch.
+  const handles = new Map<string, Promise<FileHandle>>();
+  const previousRecord = async (loc: Located) => readRecord(await (handles.get(loc.file) ?? handles.set(loc.file, open(loc.file, 'r')).get(loc.file)!), loc);
+  const one = async ({ job, store: s }: BatchItem): Promise<BatchResult> => {
+    const identity = { ...s.identity };
+    if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
+    const storedAt = Date.now();
+    if (s.compute.length === 0 && s.previous) {
+      // Nothing to compute: the same results, stored again under the identity just confirmed.
+      const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
+      return { facts, bytes: encodeRecord(facts, recordBody(await previousRecord(s.previous))) };
     }
+    const fresh = await computeRecording(job);
+    let previous: CacheEntry | null = null;
+    if (s.previous && s.reused.length && fresh.status === 'reduced') {
+      try { previous = { ...s.previous.facts, ...decodeResults(recordBody(await previousRecord(s.previous))) }; } catch { previous = null; }
+    }
+    if (s.reused.length && !previous && fresh.status === 'reduced') {
+      // The stored groups could not be read back: compute every group.
+      const whole = await computeRecording({ ...job, groups: null });
+      return encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt);
+    }
+    return encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt);
+  };
+  try {
+    // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
+    const out: BatchResult[] = new Array(items.length);
+    let next = 0;
+    await Promise.all(Array.from({ length: Math.min(IN_FLIGHT, items.length) }, async () => {
+      while (next < items.length) { const i = next++; out[i] = await one(items[i]); }
+    }));
     return out;
   } finally {
-    for (const fh of handles.values()) await fh.close();
+    for (const fh of handles.values()) await (await fh.catch(() => null))?.close();
   }
 }
 

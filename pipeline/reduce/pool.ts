@@ -16,13 +16,16 @@ function workerFile(): string {
   return pathToFileURL(built).href;
 }
 
+const YOUNG_GENERATION_MB = 16;
+
 export interface Pool { threads: number; run<T>(task: string, input: unknown): Promise<T>; destroy(): Promise<void> }
 
 export function openPool(threads = availableParallelism()): Pool {
   const n = Math.max(1, threads);
   let pool: Tinypool | null = null;
   // Threads start on the first task: a run with nothing to compute or write starts none.
-  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: n, maxThreads: n }));
+  // A modest young generation: workers make short-lived garbage per recording, and collecting it often keeps memory flat.
+  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: n, maxThreads: n, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
   return {
     threads: n,
     run: (name, input) => get().run(input, { name }),

@@ -12,6 +12,19 @@ const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
 
+/**
+ * Shares the facts most entries have in common (group, version, keys, empty notes), so that the entries of a long
+ * history cost memory for what differs only.
+ */
+function interner(): (f: EntryFacts) => void {
+  const seen = new Map<string, unknown>();
+  const one = <T>(v: T): T => { const k = typeof v === 'string' ? v : JSON.stringify(v); return (seen.get(k) ?? seen.set(k, v).get(k)) as T; };
+  return (f) => {
+    f.group = one(f.group); f.version = one(f.version); f.declKey = one(f.declKey); f.groupKeys = one(f.groupKeys); f.notes = one(f.notes);
+    if (f.failureKey) f.failureKey = one(f.failureKey);
+  };
+}
+
 export class Store {
   private fh: FileHandle | null = null;
   private end = 0;
@@ -32,8 +45,10 @@ export class Store {
     const entries = new Map<string, Located>();
     const damage: Damage[] = [];
     const sizes = new Map<string, number>();
+    const intern = interner();
     for (const file of files) {
       const r = await scanPack(file, (loc) => {
+        intern(loc.facts);
         const known = entries.get(loc.facts.recording);
         if (!known || loc.facts.storedAt >= known.facts.storedAt) entries.set(loc.facts.recording, loc);
       });
