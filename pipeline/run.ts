@@ -8,7 +8,7 @@ import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
 import { toolVersion } from './declare/package-files.js';
-import { plan } from './plan/plan.js';
+import { planJob } from './plan/plan.js';
 import { openPool, reduceAll } from './reduce/pool.js';
 import type { Progress } from './outputs/progress.js';
 import type { QualitySummary } from './outputs/quality.js';
@@ -16,7 +16,7 @@ import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/re
 import { writing } from './outputs/staged.js';
 import { decide } from './plan/reuse.js';
 import { scan } from './select/scan.js';
-import { byStartTime, shardOf, updateIndex, type Shard } from './select/select.js';
+import { byStartTime, shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 
 export interface ReduceOptions {
@@ -56,19 +56,19 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   let store: Store | null = null;
   try {
     const scanned = await scan(root, declaration, { exclude: [outDir] });
-    let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
-    if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, outDir, o.since ?? -Infinity, o.until ?? Infinity);
     store = await Store.open(outDir, shard);
     const s = store;
+    let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
+    if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decisions = await decide(plan(chosen, declaration.groups, spec.spec), chosen, s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const decisions = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);
 
     t = performance.now();
     const todo = decisions.filter((d) => d.store);
-    const byName = new Map(todo.map((d) => [d.job.recording, d]));
+    const byName = new Map(todo.map((d) => [d.recording, d]));
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
-    await reduceAll(pool, todo.map((d) => ({ job: d.job, store: d.store! })), {
+    await reduceAll(pool, todo.map((d) => ({ job: d.job!, store: d.store! })), {
       onBatch: async (results) => {
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
@@ -83,21 +83,18 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
 
     t = performance.now();
     const labelsOf = new Map(declaration.groups.map((g) => [g.name, g.labels]));
+    const labelsAt = declaration.groups.map((g) => g.labels);
     const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
-    const items = byRecording(decisions.map((d) => ({ recording: d.job.recording, loc: s.get(d.job.recording)!, labels: labelsOf.get(d.job.group) ?? {} })));
+    const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool });
     const compacted = await writing(s.own!, () => s.compact());
-    await updateIndex(outDir, shard, chosen.map((r) => {
-      const start = s.get(r.recording)?.facts.startTime;
-      return { recording: r.recording, size: r.size, mtimeMs: r.mtimeMs, start_ms: start ? Date.parse(start) : r.mtimeMs };
-    }));
     const writeS = clock(t);
 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
-      lines: decisions.map((d) => runLine(s.get(d.job.recording)!.facts, d, active)),
+      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
       period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,

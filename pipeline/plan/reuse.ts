@@ -2,12 +2,16 @@
 import pLimit from 'p-limit';
 import { declarationKey, hashFile, type Identity } from './cache.js';
 import type { RecordingJob } from './plan.js';
+import type { ScannedRecording } from '../select/scan.js';
 import type { StoreFacts } from '../reduce/batch.js';
 import type { Store } from '../store/store.js';
 
 export interface Decision {
-  /** The job, with the groups to compute. */
-  job: RecordingJob;
+  recording: string;
+  /** The recording's group, as its index in the declaration. */
+  group: number;
+  /** The job, with the groups to compute (null when the entry is reused whole as it is). */
+  job: RecordingJob | null;
   /** What the worker needs to store the entry (null when the entry is reused whole as it is). */
   store: StoreFacts | null;
   /** Groups to compute (none: reuse whole). */
@@ -25,24 +29,26 @@ const AMBIGUOUS_MS = 2000;
 
 const NONE: string[] = [];
 
-/** `seen` gives each job's size, modification time and when they were read (the scan's stat). */
-export async function decide(jobs: RecordingJob[], seen: { size: number; mtimeMs: number; readAtMs: number }[], store: Store, o: DecideOptions): Promise<Decision[]> {
+/** Jobs are made (by `jobOf`) only for the recordings that need a worker; the others cost a small decision each. */
+export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedRecording) => RecordingJob, store: Store, o: DecideOptions): Promise<Decision[]> {
   const groups = Object.keys(o.keys);
+  const declKeys = new Map<number, string>();
   const limit = pLimit(16); // bounded concurrent hashes
-  return Promise.all(jobs.map((job, i) => limit(async (): Promise<Decision> => {
-    const { readAtMs } = seen[i];
-    const identity: Identity = { size: seen[i].size, mtimeMs: seen[i].mtimeMs, hash: null };
-    const previous = o.force ? null : store.get(job.recording) ?? null;
+  return Promise.all(recordings.map((r) => limit(async (): Promise<Decision> => {
+    const { readAtMs } = r;
+    const identity: Identity = { size: r.size, mtimeMs: r.mtimeMs, hash: null };
+    const declKey = declKeys.get(r.group) ?? declKeys.set(r.group, declarationKey(jobOf(r))).get(r.group)!;
+    const previous = o.force ? null : store.get(r.recording) ?? null;
     const entry = previous?.facts;
     const fresh = identity.mtimeMs >= readAtMs - AMBIGUOUS_MS;
     const wasAmbiguous = !!entry && entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS;
     // Hashes needed only to compare with a stored entry are taken here; a new recording's is taken in its worker.
-    if (entry && (fresh || o.hash || wasAmbiguous)) identity.hash = await hashFile(job.path);
-    const facts = { identity, hashContent: !entry && (fresh || !!o.hash), readAtMs, declKey: declarationKey(job), version: o.version, keys: o.keys, specHash: o.specHash };
-    const all = (why: string): Decision => ({ job: { ...job, groups: null }, store: { ...facts, compute: groups, reused: [], previous: null }, compute: groups, reused: [], why, restamp: false });
+    if (entry && (fresh || o.hash || wasAmbiguous)) identity.hash = await hashFile(r.path);
+    const facts = { identity, hashContent: !entry && (fresh || !!o.hash), readAtMs, declKey, version: o.version, keys: o.keys, specHash: o.specHash };
+    const all = (why: string): Decision => ({ recording: r.recording, group: r.group, job: { ...jobOf(r), groups: null }, store: { ...facts, compute: groups, reused: NONE, previous: null }, compute: groups, reused: NONE, why, restamp: false });
     if (o.force) return all('forced (--force)');
     if (!entry) {
-      const damage = store.damageOf(job.recording);
+      const damage = store.damageOf(r.recording);
       return all(damage ? `stored entry damaged (${damage.problem}); recomputed` : 'new recording');
     }
     if (entry.version !== o.version) return all(`tool version changed (${entry.version} → ${o.version})`);
@@ -52,8 +58,8 @@ export async function decide(jobs: RecordingJob[], seen: { size: number; mtimeMs
     // Confirmed by content now that the modification time can be trusted: store the entry again so later runs need not hash.
     const restamp = wasAmbiguous && !fresh;
     const keep = (compute: string[], reused: string[], why: string): Decision => (compute.length || restamp
-      ? { job: { ...job, groups: compute }, store: { ...facts, compute, reused, previous }, compute, reused, why, restamp: compute.length === 0 }
-      : { job, store: null, compute: NONE, reused, why, restamp: false });
+      ? { recording: r.recording, group: r.group, job: { ...jobOf(r), groups: compute }, store: { ...facts, compute, reused, previous }, compute, reused, why, restamp: compute.length === 0 }
+      : { recording: r.recording, group: r.group, job: null, store: null, compute: NONE, reused, why, restamp: false });
     if (entry.status === 'failed') {
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }

@@ -36,6 +36,7 @@ export class Store {
     /** Damaged stretches found while reading. */
     readonly damage: Damage[],
     private sizes: Map<string, number>,
+    private intern: (f: EntryFacts) => void,
   ) {}
 
   /** Reads every pack of the folder; `shard` names the pack this run writes (undefined: none, read only). */
@@ -55,13 +56,23 @@ export class Store {
       damage.push(...r.damage);
       sizes.set(file, r.size);
     }
-    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), entries, damage, sizes);
+    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), entries, damage, sizes, intern);
   }
 
   get(recording: string): Located | undefined { return this.entries.get(recording); }
 
+  /** A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period. */
+  knownStart(recording: string): { size: number; mtimeMs: number; start_ms: number } | undefined {
+    const f = this.entries.get(recording)?.facts;
+    return f && { size: f.identity.size, mtimeMs: f.identity.mtimeMs, start_ms: f.startTime ? Date.parse(f.startTime) : f.identity.mtimeMs };
+  }
+
   /** The damage found for a recording whose newest record is unusable, if any. */
-  damageOf(recording: string): Damage | undefined { return this.damage.find((d) => d.recording === recording); }
+  damageOf(recording: string): Damage | undefined {
+    this.damageByRecording ??= new Map(this.damage.filter((d) => d.recording).map((d) => [d.recording!, d]));
+    return this.damageByRecording.get(recording);
+  }
+  private damageByRecording: Map<string, Damage> | null = null;
 
   private appending: Promise<void> = Promise.resolve();
 
@@ -86,6 +97,7 @@ export class Store {
     this.end += data.length;
     for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
     for (const r of records) {
+      this.intern(r.facts);
       const bodySha = Buffer.from(r.bytes.buffer, r.bytes.byteOffset + 44, 32).toString('hex');
       this.entries.set(r.facts.recording, { file: this.own, offset, length: r.bytes.length, bodySha, facts: r.facts });
       offset += r.bytes.length;
