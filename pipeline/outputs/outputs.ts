@@ -76,7 +76,6 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   if (current) return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
 
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
-  await forgetDigest(digestPath);
   const staged = (name: string) => new StagedFile(join(outDir, name));
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
@@ -144,6 +143,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await qualityHtml.write(pageEnd(o.unmatched));
       await qualityHtml.close();
     }
+    // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
+    await forgetDigest(digestPath);
     await commitAll(outputs);
     const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
     await keepDigest(digestPath, { digest, run_id: o.runId, written: generated, files, quality: summary });
