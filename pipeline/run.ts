@@ -65,7 +65,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const scanS = clock(t);
 
     t = performance.now();
-    const todo = decisions.filter((d) => d.store);
+    // Entries confirmed by content now are stored again as they are; the rest of the work goes to the pool in batches.
+    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.store!.previous!, identity: d.store!.identity, readAtMs: d.store!.readAtMs }))));
+    const todo = decisions.filter((d) => d.store && !d.restamp);
     const byName = new Map(todo.map((d) => [d.recording, d]));
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
     await reduceAll(pool, todo.map((d) => ({ job: d.job!, store: d.store! })), {

@@ -10,8 +10,7 @@ import { featureColumns } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { Pool } from '../reduce/pool.js';
 import { forgetDigest, keepDigest, outputsDigest, stillCurrent } from './digest.js';
-import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './parquet.js';
-import { ParquetStream } from './parquet-stream.js';
+import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './columns.js';
 import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
 import { MAX_PICTURED, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
@@ -76,6 +75,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   if (current) return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
 
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
+  // The Parquet writer (WebAssembly) is loaded only by runs that write.
+  const { ParquetStream } = await import('./parquet-stream.js');
   const staged = (name: string) => new StagedFile(join(outDir, name));
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;

@@ -28,26 +28,6 @@ export interface StoreFacts {
 export interface BatchItem { job: RecordingJob; store: StoreFacts }
 export interface BatchResult { facts: EntryFacts; bytes: Uint8Array }
 
-/**
- * Up to `maxFiles` recordings or `maxBytes` of them a batch, largest first, so the pool ends evenly; never fewer than
- * `perThread` batches a thread while there are recordings enough, so small archives still use every thread.
- */
-export function formBatches<T extends { store: { identity: { size: number } } }>(items: T[], { threads = 1, perThread = 4, maxFiles = 64, maxBytes = 4 << 20 } = {}): T[][] {
-  const total = items.reduce((s, it) => s + it.store.identity.size, 0);
-  maxFiles = Math.max(1, Math.min(maxFiles, Math.ceil(items.length / (threads * perThread))));
-  maxBytes = Math.max(1, Math.min(maxBytes, Math.ceil(total / (threads * perThread))));
-  const sorted = [...items].sort((a, b) => b.store.identity.size - a.store.identity.size);
-  const out: T[][] = [];
-  let current: T[] = [], bytes = 0;
-  for (const it of sorted) {
-    if (current.length && (current.length >= maxFiles || bytes + it.store.identity.size > maxBytes)) { out.push(current); current = []; bytes = 0; }
-    current.push(it);
-    bytes += it.store.identity.size;
-  }
-  if (current.length) out.push(current);
-  return out;
-}
-
 /** The entry to store: fresh groups over reused ones. */
 export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: CacheEntry | null): CacheEntry {
   const common = { version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey };

@@ -3,7 +3,7 @@
 import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import { readRecord, scanPack, type Damage, type Located } from './pack.js';
-import type { EntryFacts } from './record.js';
+import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
@@ -101,6 +101,25 @@ export class Store {
       const bodySha = Buffer.from(r.bytes.buffer, r.bytes.byteOffset + 44, 32).toString('hex');
       this.entries.set(r.facts.recording, { file: this.own, offset, length: r.bytes.length, bodySha, facts: r.facts });
       offset += r.bytes.length;
+    }
+  }
+
+  /**
+   * Stores entries again under identity facts confirmed now (same results, copied as they are), so later runs trust the
+   * modification time instead of hashing the file. Plain file work: no worker needed.
+   */
+  async restamp(list: { previous: Located; identity: Identity; readAtMs: number }[]): Promise<void> {
+    const handles = new Map<string, FileHandle>();
+    try {
+      const records = [];
+      for (const { previous, identity, readAtMs } of list) {
+        const fh = handles.get(previous.file) ?? handles.set(previous.file, await open(previous.file, 'r')).get(previous.file)!;
+        const facts: EntryFacts = { ...previous.facts, identity, readAtMs, storedAt: Date.now() };
+        records.push({ facts, bytes: encodeRecord(facts, recordBody(await readRecord(fh, previous))) });
+      }
+      await this.append(records);
+    } finally {
+      for (const fh of handles.values()) await fh.close();
     }
   }
 
