@@ -2,7 +2,7 @@
 import { rmSync } from 'node:fs';
 import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
-import { manySmall, reruns } from './sections/scale.js';
+import { manySmall, reruns, shortRecordings } from './sections/scale.js';
 import { throughput } from './sections/throughput.js';
 import { trendsOverHistory } from './sections/trends.js';
 
@@ -10,6 +10,7 @@ try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
   const { full, kept, first } = throughput();
   reruns(full, kept, first);
+  shortRecordings();
   manySmall();
   trendsOverHistory();
 } finally {

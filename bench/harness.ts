@@ -6,7 +6,8 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
-export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number };
+/** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included). */
+export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number; wallSeconds: number };
 
 export const here = dirname(fileURLToPath(import.meta.url));
 export const repo = join(here, '..', '..');
@@ -15,8 +16,10 @@ export const say = (s: string) => process.stdout.write(s + '\n');
 
 /** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
 export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string): QuernMeasurement {
-  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
-  return JSON.parse(text.trim().split('\n').pop()!);
+  const t0 = performance.now();
+  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 });
+  const wallSeconds = (performance.now() - t0) / 1000;
+  return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
 }
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */

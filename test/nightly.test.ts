@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
+import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
 import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 
@@ -40,7 +41,7 @@ describe('incremental re-runs', () => {
     quern('reduce', archive, '--out', out, '--quiet');
     const run = readJson(join(out, 'run.json'));
     for (const r of run.recordings.filter((x: any) => x.status === 'reduced')) {
-      expect(r.recomputed).toEqual(['envelope']);
+      expect([r.why, r.recomputed]).toEqual(["spec changed for envelope", ["envelope"]]);
       expect(r.why).toBe('spec changed for envelope');
     }
     const after = await table(join(out, 'features.parquet'));
@@ -112,12 +113,12 @@ describe('crash safety', () => {
     for (let d = 0; d < 24; d++) cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', `2026-12-${String(d + 1).padStart(2, '0')}`), { recursive: true });
     const killed = join(base, 'killed'), clean = join(base, 'clean');
     const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', killed, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
-    const entries = () => (existsSync(join(killed, 'cache')) ? (readdirSync(join(killed, 'cache'), { recursive: true }) as string[]).filter((f) => f.endsWith('.json')).length : 0);
+    const entries = async () => { let n = 0; await scanPack(join(killed, 'cache', 'entries.pack'), () => n++); return n; };
     const deadline = Date.now() + 60_000;
-    while (entries() < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    while ((await entries()) < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
     child.kill('SIGKILL');
     await new Promise((r) => child.on('exit', r));
-    const stored = entries();
+    const stored = await entries();
     expect(stored).toBeGreaterThanOrEqual(5);
     expect(stored).toBeLessThan(34); // killed before the end
     expect(existsSync(join(killed, 'features.parquet'))).toBe(false); // never half-written: absent until the end

@@ -132,7 +132,7 @@ describe('quern reduce on the sample archive', () => {
   });
 
   it('leaves no temporary files behind', () => {
-    expect(readdirSync(out).sort()).toEqual(['cache', 'cycles.parquet', 'features.parquet', 'quality.html', 'quality.json', 'run.json', 'spectra.parquet', 'trends.parquet', 'windows.parquet']);
+    expect(readdirSync(out).sort()).toEqual(['cache', 'cycles.parquet', 'features.parquet', 'outputs.json', 'quality.html', 'quality.json', 'run.json', 'spectra.parquet', 'trends.parquet', 'windows.parquet']);
     const all = readdirSync(out, { recursive: true }) as string[];
     expect(all.filter((f) => f.endsWith('.tmp'))).toEqual([]);
   });

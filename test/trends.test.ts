@@ -17,11 +17,13 @@ const VERSION = '0.1.0';
 function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity = 'ok', channel = 'acc_de'): CacheEntry {
   const flag = { name: 'saturation', severity: quality, value: null, threshold: '', evidence: {}, message: '' };
   const out = (columns: Record<string, number>) => ({ columns: [columns], flags: [[]], evidence: [null], tables: {}, notes: [] });
+  const start = new Date(Date.UTC(2026, 0, 1 + night, 2)).toISOString();
   return {
     recording: `nightly/night-${String(night + 1).padStart(3, '0')}.wav`, group: 'nightly', status: 'reduced', seconds: 0,
+    frames: 1, sampleRate: 1, startTime: start, channels: 1, notes: {}, storedAt: 0,
     base: {
       frames: 1, sampleRate: 1, notes: [], channels: [{ name: channel, quantity: 'acceleration', unit: 'm/s^2' }],
-      header: { format: 'wav', encoding: 'pcm16', bits: 16, start_time: new Date(Date.UTC(2026, 0, 1 + night, 2)).toISOString() },
+      header: { format: 'wav', encoding: 'pcm16', bits: 16, start_time: start },
     },
     groups: { statistics: out({ rms }), quality: { ...out({}), flags: [[flag]] } },
     version: VERSION, identity: { size: 1, mtimeMs: 0, hash: null }, readAtMs: 0, declKey: '', groupKeys: groupKeys(spec, VERSION),

@@ -2,10 +2,10 @@
 import * as vega from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
 import type { Evidence } from '../../stages/quality/evidence.js';
-import type { Severity } from '../../stages/quality/flag.js';
 
-// Our own palette: deep teal for trustworthy, slate for a note, ochre for a second look, brick red for do-not-use.
-export const COLOURS: Record<Severity, string> = { ok: '#2c6e63', note: '#5b7083', warn: '#b7791f', fail: '#a23b2a' };
+import { COLOURS } from './colours.js';
+
+export { COLOURS };
 
 /** A Vega-Lite specification rendered to SVG by Vega's headless renderer. */
 export async function svg(spec: TopLevelSpec): Promise<string> {

@@ -1,6 +1,6 @@
 // The secondary tables of a run: rows that stages add with ctx.addRow(name, …), each written as <name>.parquet.
 // A new table is one entry here (and its description in schemas/); writing, shards, merge and exports follow from the list.
-import type { TableColumn } from './parquet.js';
+import type { TableColumn } from './columns.js';
 
 /** windows.parquet: one row per recording × channel × window. */
 export const WINDOW_TABLE: TableColumn[] = [
