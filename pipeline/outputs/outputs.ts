@@ -13,7 +13,7 @@ import { forgetDigest, keepDigest, outputsDigest, stillCurrent } from './digest.
 import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './columns.js';
 import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
-import type { TrendsOutcome } from '../trends/trends.js';
+import type { TrendsWrite } from '../trends/trends.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
@@ -43,7 +43,7 @@ export interface OutputsInput {
   spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
   pool: Pool;
   /** What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. */
-  changes?: TrendsOutcome | null;
+  changes?: TrendsWrite | null;
 }
 
 /** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
@@ -74,10 +74,16 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched,
     items: o.items.map((it) => ({ recording: it.loc.facts.recording, group: it.loc.facts.group, bodySha: it.loc.bodySha, labels: it.labels })),
     // The changes rest on the whole history, not only on these items.
-    changes: o.changes ?? null,
+    changes: o.changes?.outcome ?? null,
   });
   const current = await stillCurrent(digestPath, digest);
-  if (current) return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
+  const trends = o.changes?.files ?? [];
+  if (current) {
+    // Trends tables staged afresh (a history that changed elsewhere) still go in place; the rest is left as it is.
+    await commitAll(trends);
+    await o.changes?.done();
+    return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
+  }
 
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
   // The Parquet writer (WebAssembly) is loaded only by runs that write.
@@ -89,7 +95,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
   try {
     const totals = emptyTotals(o.unmatched.length);
-    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: o.changes?.report ?? null };
+    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: o.changes?.outcome?.report ?? null };
     const channelNames = new Set<string>();
     const candidates = { fail: [] as Candidate[], warn: [] as Candidate[] };
     const counted = { fail: 0, warn: 0, recordings: 0 };
@@ -129,7 +135,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     await spools.quality.close({ durable: false });
     await qualityJson.write(jsonPieces.head({ tool: 'quern', version: o.version, run_id: o.runId, generated, archive: o.archive, totals }, 'recordings'));
     for await (const chunk of createReadStream(spools.quality.tmp)) await qualityJson.write(chunk as Buffer);
-    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.changes ? { changes: o.changes.report } : {}) }));
+    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.changes?.outcome ? { changes: o.changes.outcome.report } : {}) }));
     await qualityJson.close();
 
     if (qualityHtml) {
@@ -138,7 +144,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
       const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured.map((p) => ({ loc: p.loc, channel: p.channel }))) : [];
       const names = [...channelNames];
-      await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, o.changes?.html) + '\n');
+      await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, o.changes?.outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');
       for await (const line of lines(spools.overview)) await qualityHtml.write(overviewLine(JSON.parse(line) as OverviewRow, names) + '\n');
       await qualityHtml.write(sectionsHead(counted.fail + counted.warn) + '\n');
@@ -155,11 +161,12 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     }
     // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
     await forgetDigest(digestPath);
-    await commitAll(outputs);
+    await commitAll([...outputs, ...trends]);
+    await o.changes?.done();
     const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
     await keepDigest(digestPath, { digest, run_id: o.runId, written: generated, files, quality: summary });
     return { quality: summary, rewritten: true, digest, writtenBy: o.runId };
   } finally {
-    for (const f of [...outputs, ...Object.values(spools)]) await f.discard();
+    for (const f of [...outputs, ...trends, ...Object.values(spools)]) await f.discard();
   }
 }

@@ -109,6 +109,8 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
+  // What changed leads: it is the machine's story; the data-quality lines follow.
+  if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
@@ -116,8 +118,6 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (r.lock.took_over) lines.push(`  lock:    took over the lock of a run that is gone (${r.lock.took_over.holder.host}, pid ${r.lock.took_over.holder.pid}, started ${r.lock.took_over.holder.started}): ${r.lock.took_over.why}`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
-  // What changed leads: it is the machine's story; the data-quality lines follow.
-  if (q.changes) lines.push(...changesSummary(q.changes));
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
   else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);

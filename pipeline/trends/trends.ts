@@ -9,6 +9,7 @@ import { canonicalJson } from '../declare/declare.js';
 import { entriesOf, everyEntry, type CacheEntry } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
+import { StagedFile } from '../outputs/staged.js';
 import { changesHtml } from '../outputs/report-changes.js';
 import type { FeatureRow } from '../reduce/result.js';
 import { changesReport, scoreHistory, trendRows, type ChangesReport } from './changes.js';
@@ -54,36 +55,57 @@ async function stillCurrent(out: string, digest: string): Promise<KeptTrends | n
   }
 }
 
+/** What the trends step leaves to be put in place with the run's other outputs: staged tables, and what to do after. */
+export interface TrendsWrite {
+  outcome: TrendsOutcome | null;
+  /** Staged tables (closed), to be renamed into place together with the other outputs; empty when nothing changed. */
+  files: StagedFile[];
+  /** After the outputs are in place: remove the tables whose section is off, and keep the digest. */
+  done(): Promise<void>;
+}
+
 /**
- * Writes spectra.parquet (when the spec has a spectrum section) from the entries of the run's recordings, in the order given,
+ * Stages spectra.parquet (when the spec has a spectrum section) from the entries of the run's recordings, in the order given,
  * and with trends on, trends.parquet from the history the store keeps. A table whose section is off is removed, so none is
- * left stale. When nothing they are made from has changed since they were written, they are left as they are.
+ * left stale. When nothing they are made from has changed since they were written, nothing is staged.
  */
-export async function writeTrendsAndSpectra(out: string, spec: ReductionSpec, o: {
+export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
   trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
-}): Promise<TrendsOutcome | null> {
+}): Promise<TrendsWrite> {
   const inRun = new Set(o.recordings);
   const digest = trendsDigest(spec, o.store, inRun, o.metadata);
   const kept = await stillCurrent(out, digest);
-  if (kept) return kept.outcome;
-  await rm(keptPath(out), { force: true });
-  const files: Record<string, number> = {};
-  const spectra = join(out, 'spectra.parquet'), trendsFile = join(out, 'trends.parquet');
-  if (spec.spectrum) {
-    await writeStreamedTable(spectra, SPECTRA_TABLE, batched(spectrumRows(entriesOf(o.store, o.recordings))), o.metadata);
-    files[spectra] = (await stat(spectra)).size;
-  } else await rm(spectra, { force: true });
-  let outcome: TrendsOutcome | null = null;
-  if (!o.trends) await rm(trendsFile, { force: true });
-  else {
-    const history = await readHistory(out, spec, o.trends, inRun, everyEntry(o.store));
-    const scored = scoreHistory(history, o.trends);
-    const report = changesReport(history, scored, o.trends);
-    await writeStreamedTable(trendsFile, TRENDS_TABLE, batched(trendRows(history, scored)), o.metadata);
-    files[trendsFile] = (await stat(trendsFile)).size;
-    const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntry(o.store)) : [];
-    outcome = { report, html: await changesHtml(report, pictures) };
+  if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
+  const spectra = new StagedFile(join(out, 'spectra.parquet')), trendsFile = new StagedFile(join(out, 'trends.parquet'));
+  const files: StagedFile[] = [];
+  try {
+    if (spec.spectrum) {
+      await writeStreamedTable(spectra, SPECTRA_TABLE, batched(spectrumRows(entriesOf(o.store, o.recordings))), o.metadata);
+      files.push(spectra);
+    }
+    let outcome: TrendsOutcome | null = null;
+    if (o.trends) {
+      const history = await readHistory(out, spec, o.trends, inRun, everyEntry(o.store));
+      const scored = scoreHistory(history, o.trends);
+      const report = changesReport(history, scored, o.trends);
+      await writeStreamedTable(trendsFile, TRENDS_TABLE, batched(trendRows(history, scored)), o.metadata);
+      files.push(trendsFile);
+      const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntry(o.store)) : [];
+      outcome = { report, html: await changesHtml(report, pictures) };
+    }
+    // Forgotten first: a run stopped half-way must not leave a digest that vouches for tables not in place.
+    await rm(keptPath(out), { force: true });
+    return {
+      outcome, files,
+      done: async () => {
+        if (!spec.spectrum) await rm(spectra.path, { force: true });
+        if (!o.trends) await rm(trendsFile.path, { force: true });
+        const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
+        await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome } satisfies KeptTrends));
+      },
+    };
+  } catch (e) {
+    for (const f of [spectra, trendsFile]) await f.discard();
+    throw e;
   }
-  await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files, outcome } satisfies KeptTrends));
-  return outcome;
 }
