@@ -64,23 +64,25 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decisions = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const { decisions, itemOf, identityOf } = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);
 
     t = performance.now();
     // Entries confirmed by content now are stored again as they are; the rest of the work goes to the pool in batches.
-    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.store!.previous!, identity: d.store!.identity, readAtMs: d.store!.readAtMs }))));
-    const todo = decisions.filter((d) => d.store && !d.restamp);
-    const byName = new Map(todo.map((d) => [d.recording, d]));
+    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.previous!, identity: identityOf(d), readAtMs: d.file.readAtMs }))));
+    const todo = decisions.filter((d) => d.stores && !d.restamp);
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
-    await reduceAll(pool, todo.map((d) => ({ job: d.job!, store: d.store! })), {
-      onBatch: async (results) => {
+    await reduceAll(pool, todo, {
+      sizeOf: (d) => d.file.size,
+      itemOf,
+      onBatch: async (results, batch) => {
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
-        for (const { facts } of results) {
-          const d = byName.get(facts.recording)!;
+        // Results come back in the batch's order.
+        results.forEach(({ facts }, i) => {
+          const d = batch[i];
           if (d.compute.length) o.progress?.done(facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
-        }
+        });
       },
     });
     o.progress?.stop();
