@@ -8,7 +8,6 @@ import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
 import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
-import { evidenceCharts } from '../outputs/charts.js';
 import type { Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
@@ -122,6 +121,8 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
       quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
         if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
         const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
+        // The chart code (Vega) is loaded by the first channel drawn: a worker that draws none never holds it.
+        const { evidenceCharts } = await import('../outputs/charts.js');
         return { charts: await evidenceCharts(data, channels[c].decl.unit) };
       }));
     }
