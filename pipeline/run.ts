@@ -19,7 +19,7 @@ import { scan } from './select/scan.js';
 import { byStartTime, shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
-import { trendsAndSpectra } from './trends/trends.js';
+import type { TrendsWrite } from './trends/trends.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -96,7 +96,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
     // Trends and spectra need every shard's results: a shard leaves them to quern merge.
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
-    const changes = shard ? null : await trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
+    // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them.
+    const changes: TrendsWrite | null = shard ? null : await (await import('./trends/trends.js')).trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
     const compacted = await writing(s.own!, () => s.compact());
     const writeS = clock(t);
