@@ -42,6 +42,9 @@ export interface ReduceOptions {
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
 
+/** Loads the code that writes tables, trends and charts (Arrow, Parquet, Vega), which runs that write nothing never load. */
+const loadWriters = () => Promise.all([import('./trends/trends.js'), import('./outputs/parquet-stream.js'), import('./outputs/report-changes.js')]);
+
 export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const clock = (t0: number) => (performance.now() - t0) / 1000;
@@ -72,6 +75,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.previous!, identity: identityOf(d), readAtMs: d.file.readAtMs }))));
     const todo = decisions.filter((d) => d.stores && !d.restamp);
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
+    // New results mean new outputs: their writers' code loads while the workers reduce, not after.
+    if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
     await reduceAll(pool, todo, {
       sizeOf: (d) => d.file.size,
       itemOf,
