@@ -1,4 +1,5 @@
 // Exponential time weighting of the squared signal (IEC 61672-1: F = 0.125 s, S = 1 s), maximum over the recording.
+import { expAverageOf } from './fused/exp-average.js';
 import type { StageDefinition } from './stage.js';
 
 export interface TimeWeightingOptions { constants_s: number[] }
@@ -9,20 +10,11 @@ export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
   group: 'time_weighting',
   columns: (o) => o.constants_s.map((tau) => ({ name: col(tau), unit: '[unit]', description: `Maximum exponentially time-weighted RMS, time constant ${tau} s, of the signal as declared (starting from zero).` })),
   create(ctx, o) {
-    // y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)): the exact sampled response of the first-order averager.
-    const alpha = o.constants_s.map((tau) => 1 - Math.exp(-1 / (tau * ctx.sampleRate)));
-    const y = new Float64Array(o.constants_s.length);
-    const max = new Float64Array(o.constants_s.length);
+    // y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)): the exact sampled response of the first-order averager, in the fused pass.
+    const averages = o.constants_s.map((tau) => expAverageOf(ctx, 1 - Math.exp(-1 / (tau * ctx.sampleRate))));
     return {
-      push(x) {
-        for (let c = 0; c < alpha.length; c++) {
-          let v = y[c], m = max[c];
-          const a = alpha[c];
-          for (let i = 0; i < x.length; i++) { v += a * (x[i] * x[i] - v); if (v > m) m = v; }
-          y[c] = v; max[c] = m;
-        }
-      },
-      finish: () => Object.fromEntries(o.constants_s.map((tau, c) => [col(tau), Math.sqrt(max[c])])),
+      push() {},
+      finish: () => Object.fromEntries(o.constants_s.map((tau, c) => [col(tau), Math.sqrt(averages[c].max)])),
     };
   },
 };

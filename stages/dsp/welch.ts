@@ -1,5 +1,5 @@
 // Welch's method: averaged modified periodograms (Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967), streaming.
-import FFT from 'fft.js';
+import { periodogramAdd } from './fft-simd.js';
 import { makeWindow, type WindowName } from './window.js';
 
 export interface WelchOptions { segment: number; overlap: number; window: WindowName }
@@ -13,10 +13,6 @@ export interface Psd {
   segment: number;
 }
 
-// FFT plans (twiddle tables) depend only on the size: made once per thread and shared.
-const plans = new Map<number, FFT>();
-export const fftOf = (n: number) => plans.get(n) ?? plans.set(n, new FFT(n)).get(n)!;
-
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
 /** Accumulates Welch's estimate chunk by chunk, holding one segment of samples. */
@@ -26,20 +22,14 @@ export class Welch {
   private readonly hop: number;
   private readonly sum: Float64Array;
   private count = 0;
-  private readonly fft: FFT;
   private readonly win: Float64Array;
-  private readonly work: Float64Array;
-  private readonly out: Float64Array;
 
   constructor(private readonly fs: number, private readonly o: WelchOptions) {
     if (!isPowerOfTwo(o.segment)) throw new Error(`spectrum.segment must be a power of two, got ${o.segment}`);
     this.buf = new Float64Array(o.segment);
     this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
     this.sum = new Float64Array(o.segment / 2 + 1);
-    this.fft = fftOf(o.segment);
     this.win = makeWindow(o.window, o.segment);
-    this.work = new Float64Array(o.segment);
-    this.out = new Float64Array(2 * o.segment);
   }
 
   push(x: Float64Array): void {
@@ -50,7 +40,7 @@ export class Welch {
       this.fill += take;
       i += take;
       if (this.fill === this.buf.length) {
-        addPeriodogram(this.buf, this.win, this.fft, this.work, this.out, this.sum);
+        addPeriodogram(this.buf, this.win, this.o.window, this.sum);
         this.count++;
         this.buf.copyWithin(0, this.hop);
         this.fill -= this.hop;
@@ -64,22 +54,19 @@ export class Welch {
     let n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
     if (n < 8) return null;
     const win = makeWindow(this.o.window, n);
-    const fft = fftOf(n);
     const sum = new Float64Array(n / 2 + 1);
-    addPeriodogram(this.buf.subarray(0, n), win, fft, new Float64Array(n), new Float64Array(2 * n), sum);
+    addPeriodogram(this.buf.subarray(0, n), win, this.o.window, sum);
     return scaleDensity(sum, 1, win, this.fs);
   }
 }
 
-// One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added to sum.
-function addPeriodogram(seg: Float64Array, win: Float64Array, fft: FFT, work: Float64Array, out: Float64Array, sum: Float64Array): void {
+// One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added to sum (the transform in stages/dsp/fft-simd.c).
+function addPeriodogram(seg: Float64Array, win: Float64Array, windowName: WindowName, sum: Float64Array): void {
   const n = seg.length;
   let mean = 0;
   for (let i = 0; i < n; i++) mean += seg[i];
   mean /= n;
-  for (let i = 0; i < n; i++) work[i] = (seg[i] - mean) * win[i];
-  fft.realTransform(out, work);
-  for (let k = 0; k <= n / 2; k++) sum[k] += out[2 * k] * out[2 * k] + out[2 * k + 1] * out[2 * k + 1];
+  periodogramAdd(seg, win, windowName, mean, sum);
 }
 
 // Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).

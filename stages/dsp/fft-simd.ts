@@ -1,0 +1,157 @@
+// The WebAssembly SIMD FFT kernels (stages/dsp/fft-simd.c) bound for TypeScript: one instance per thread, plans and
+// scratch in its memory made once per size, inputs copied in and results copied out (memcpy, cheap beside a transform).
+import { FFT_SIMD_WASM } from './fft-simd.wasm.js';
+
+interface Exports {
+  memory: WebAssembly.Memory;
+  __heap_base: WebAssembly.Global;
+  cfft(plan: number, re: number, im: number): void;
+  rfft(plan: number, x: number, re: number, im: number): void;
+  periodogram_add(plan: number, x: number, w: number, mean: number, re: number, im: number, acc: number): void;
+  analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
+}
+
+/** Bit reversal of every index below n (n a power of two). */
+export function bitReversal(n: number): Uint32Array {
+  const bits = Math.log2(n), rev = new Uint32Array(n);
+  for (let i = 0; i < n; i++) {
+    let r = 0;
+    for (let b = 0, v = i; b < bits; b++, v >>= 1) r = (r << 1) | (v & 1);
+    rev[i] = r;
+  }
+  return rev;
+}
+
+/** Twiddles of every radix-4 stage of a length-n transform, per stage of span h: cos and −sin of 2π·r·j/(4h), r = 1, 2, 3, as six rows of h. */
+export function stageTwiddles(n: number): Float64Array {
+  const rows: number[] = [];
+  for (let h = Math.log2(n) % 2 ? 2 : 4; h < n; h *= 4) {
+    for (let r = 1; r <= 3; r++) {
+      for (let j = 0; j < h; j++) rows.push(Math.cos((2 * Math.PI * r * j) / (4 * h)));
+      for (let j = 0; j < h; j++) rows.push(-Math.sin((2 * Math.PI * r * j) / (4 * h)));
+    }
+  }
+  return Float64Array.from(rows);
+}
+
+class Kernels {
+  private readonly x: Exports;
+  private top: number;
+  private readonly cplans = new Map<number, number>();
+  private readonly rplans = new Map<number, number>();
+  private readonly regions = new Map<string, number>();
+
+  constructor() {
+    const bytes = Buffer.from(FFT_SIMD_WASM, 'base64');
+    this.x = new WebAssembly.Instance(new WebAssembly.Module(bytes)).exports as unknown as Exports;
+    this.top = this.x.__heap_base.value as number;
+  }
+
+  get exports(): Exports { return this.x; }
+
+  /** 16-byte aligned bytes of the instance's memory, grown when needed; never given back (plans and scratch live as long as the thread). */
+  private alloc(bytes: number): number {
+    const at = (this.top + 15) & ~15;
+    this.top = at + bytes;
+    const need = this.top - this.x.memory.buffer.byteLength;
+    if (need > 0) this.x.memory.grow(Math.ceil(need / 65536));
+    return at;
+  }
+
+  f64(at: number, length: number): Float64Array { return new Float64Array(this.x.memory.buffer, at, length); }
+
+  /** A region kept under a name (scratch of a size, a window, a filter's gains), filled by `fill` the first time. */
+  region(key: string, length: number, fill?: (v: Float64Array) => void): number {
+    let at = this.regions.get(key);
+    if (at === undefined) {
+      at = this.alloc(8 * length);
+      this.regions.set(key, at);
+      fill?.(this.f64(at, length));
+    }
+    return at;
+  }
+
+  complexPlan(n: number): number {
+    let at = this.cplans.get(n);
+    if (at !== undefined) return at;
+    const rev = this.alloc(4 * n);
+    new Uint32Array(this.x.memory.buffer, rev, n).set(bitReversal(n));
+    const tw = stageTwiddles(n);
+    const twAt = this.alloc(8 * Math.max(1, tw.length));
+    this.f64(twAt, tw.length).set(tw);
+    at = this.alloc(16);
+    new Int32Array(this.x.memory.buffer, at, 4).set([n, Math.log2(n) % 2, rev, twAt]);
+    this.cplans.set(n, at);
+    return at;
+  }
+
+  realPlan(n: number): number {
+    let at = this.rplans.get(n);
+    if (at !== undefined) return at;
+    const half = this.complexPlan(n / 2);
+    const split = this.alloc(16 * (n / 4 + 1));
+    const s = this.f64(split, 2 * (n / 4 + 1));
+    for (let k = 0; k <= n / 4; k++) { s[2 * k] = Math.cos((2 * Math.PI * k) / n); s[2 * k + 1] = -Math.sin((2 * Math.PI * k) / n); }
+    const zr = this.alloc(4 * n), zi = this.alloc(4 * n);
+    at = this.alloc(32);
+    const halfFields = new Int32Array(this.x.memory.buffer, half, 4);
+    new Int32Array(this.x.memory.buffer, at, 8).set([n, ...halfFields, split, zr, zi]);
+    this.rplans.set(n, at);
+    return at;
+  }
+}
+
+let instance: Kernels | null = null;
+const kernels = () => (instance ??= new Kernels());
+
+/** acc[k] += |X[k]|², k = 0 … n/2, X the DFT of w·(x − mean) (Welch's modified periodogram); n = x.length, a power of two. */
+export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: string, mean: number, acc: Float64Array): void {
+  const k = kernels(), n = x.length;
+  const plan = k.realPlan(n);
+  const xa = k.region(`x:${n}`, n), wa = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
+  const re = k.region(`re:${n}`, n / 2 + 1), im = k.region(`im:${n}`, n / 2 + 1), aa = k.region(`acc:${n}`, n / 2 + 1);
+  k.f64(xa, n).set(x);
+  const accView = k.f64(aa, n / 2 + 1);
+  accView.set(acc);
+  k.exports.periodogram_add(plan, xa, wa, mean, re, im, aa);
+  acc.set(k.f64(aa, n / 2 + 1));
+}
+
+/** Real-input DFT X[k], k = 0 … n/2, into re and im (length n/2 + 1). */
+export function realDft(x: Float64Array, re: Float64Array, im: Float64Array): void {
+  const k = kernels(), n = x.length;
+  const plan = k.realPlan(n);
+  const xa = k.region(`x:${n}`, n), ra = k.region(`re:${n}`, n / 2 + 1), ia = k.region(`im:${n}`, n / 2 + 1);
+  k.f64(xa, n).set(x);
+  k.exports.rfft(plan, xa, ra, ia);
+  re.set(k.f64(ra, n / 2 + 1));
+  im.set(k.f64(ia, n / 2 + 1));
+}
+
+/** Complex DFT of (re, im) in place, natural order in and out. */
+export function complexDft(re: Float64Array, im: Float64Array): void {
+  const k = kernels(), n = re.length;
+  const plan = k.complexPlan(n);
+  const ra = k.region(`cr:${n}`, n), ia = k.region(`ci:${n}`, n);
+  const rev = bitReversal(n), vr = k.f64(ra, n), vi = k.f64(ia, n);
+  for (let i = 0; i < n; i++) { vr[rev[i]] = re[i]; vi[rev[i]] = im[i]; }
+  k.exports.cfft(plan, ra, ia);
+  re.set(k.f64(ra, n));
+  im.set(k.f64(ia, n));
+}
+
+/** Filtered analytic signal of a block x (length n): z = IDFT(g·DFT(x)), complex gains g (re, im interleaved) for
+ *  k = 0 … n/2 (negative frequencies get none; g carries the transform's 1/n). Writes Re z and |z| of samples
+ *  [from, to) into outRe and outAbs. */
+export function analyticBlock(x: Float64Array, g: Float64Array, gainKey: string, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
+  const k = kernels(), n = x.length;
+  const rp = k.realPlan(n), cp = k.complexPlan(n);
+  const xa = k.region(`x:${n}`, n), ga = k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(g));
+  const re = k.region(`re:${n}`, n / 2 + 1), im = k.region(`im:${n}`, n / 2 + 1);
+  const sr = k.region(`cr:${n}`, n), si = k.region(`ci:${n}`, n);
+  const or = k.region(`or:${n}`, n), oa = k.region(`oa:${n}`, n);
+  k.f64(xa, n).set(x);
+  k.exports.analytic(rp, cp, xa, ga, re, im, sr, si, from, to, or, oa);
+  outRe.set(k.f64(or, to - from));
+  outAbs.set(k.f64(oa, to - from));
+}

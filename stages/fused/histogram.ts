@@ -1,0 +1,34 @@
+// Amplitude histogram of the finite samples over fixed limits; without limits, an even sample of the stream kept by
+// reservoir sampling (Vitter 1985, algorithm R) for binning at the end.
+import type { ChannelContext } from '../stage.js';
+import { State, type Accumulator } from './accumulator.js';
+import { fusedOf } from './pass.js';
+
+export const RESERVOIR = 8192;
+
+export class Histogram implements Accumulator {
+  readonly key: string;
+  private readonly s: State<'lo' | 'hi' | 'bins' | 'seen' | 'kept' | 'seed'>;
+  readonly names: readonly string[];
+  readonly state: Float64Array;
+  readonly arrays: { counts: Float64Array; reservoir: Float64Array };
+  readonly finite: string;
+
+  constructor(readonly limits: [number, number] | null, bins: number) {
+    this.key = `histogram:${limits?.join(':') ?? 'reservoir'}:${bins}`;
+    this.s = new State({ lo: limits?.[0] ?? 0, hi: limits?.[1] ?? 0, bins, seen: 0, kept: 0, seed: 0x9e3779b9 });
+    this.names = this.s.names;
+    this.state = this.s.values;
+    this.arrays = { counts: new Float64Array(bins), reservoir: new Float64Array(limits ? 0 : RESERVOIR) };
+    this.finite = limits
+      ? 'const b = Math.floor(((v - $lo) / ($hi - $lo)) * $bins); $counts[b < 0 ? 0 : b > $bins - 1 ? $bins - 1 : b]++;'
+      : `$seen++; if ($kept < ${RESERVOIR}) $reservoir[$kept++] = v; else { $seed = (Math.imul($seed, 1664525) + 1013904223) >>> 0; const j = $seed % $seen; if (j < ${RESERVOIR}) $reservoir[j] = v; }`;
+  }
+
+  get counts(): Float64Array { return this.arrays.counts; }
+  /** The kept sample (without limits). */
+  get sample(): Float64Array { return this.arrays.reservoir.subarray(0, this.s.get('kept')); }
+}
+
+export const histogramOf = (ctx: ChannelContext, limits: [number, number] | null, bins: number) =>
+  fusedOf(ctx, `histogram:${limits?.join(':') ?? 'reservoir'}:${bins}`, () => new Histogram(limits, bins));
