@@ -2,7 +2,9 @@
 // envelope's own spectrum, whose peak is the repetition rate bearing diagnostics look for.
 import { analyticGains, AnalyticFilter } from './dsp/analytic.js';
 import { butterworthSos, edgesOf, slowestPoleRadius, type FilterSpec } from './dsp/butterworth.js';
-import { chunkMoments, combineMoments, describe, emptyMoments } from './dsp/moments.js';
+import { describe } from './dsp/moments.js';
+import { MomentsAccumulator } from './fused/moments.js';
+import { FusedPass } from './fused/pass.js';
 import { EdgeTrim } from './dsp/trim.js';
 import { Welch, type WelchOptions } from './dsp/welch.js';
 import { peakBin } from './spectrum.js';
@@ -37,13 +39,16 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
       ctx.note(`${ctx.name}: envelope filter not applied: ${(e as Error).message}`);
       return { push() {}, finish: () => ({ ...EMPTY }) };
     }
-    let filtered = emptyMoments(), env = emptyMoments();
+    // The filtered signal's and the envelope's moments, each in a fused pass of its own.
+    const filteredPass = new FusedPass(), envPass = new FusedPass();
+    const filtered = filteredPass.joinOrMake('moments', () => new MomentsAccumulator());
+    const env = envPass.joinOrMake('moments', () => new MomentsAccumulator());
     const envSpectrum = new Welch(ctx.sampleRate, o.spectrum);
     const r = Math.min(slowestPoleRadius(sos), 1 - 1e-9);
     // Figures leave out the ends where the filter and the transform settle: the filter's impulse response down to 1e-3, and at least 2048 samples.
     const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(r)));
-    const envTrim = new EdgeTrim(edge, (e) => { env = combineMoments(env, chunkMoments(e)); envSpectrum.push(e); });
-    const filteredTrim = new EdgeTrim(edge, (y) => { filtered = combineMoments(filtered, chunkMoments(y)); });
+    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e); });
+    const filteredTrim = new EdgeTrim(edge, (y) => filteredPass.push(y));
     // One pair of transforms a block filters and makes analytic: the kernel dies below 1e-14 within `reach` samples,
     // kept clear of the tapered ramps (sizes chosen by measurement against scipy, DEVELOPERS.md).
     const zeroPhase = o.filter.zero_phase === true;
@@ -51,7 +56,7 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const context = ENVELOPE_RAMP + reach;
     const size = Math.max(ENVELOPE_BLOCK, 2 ** Math.ceil(Math.log2(4 * context)));
     const gainKey = `${JSON.stringify(o.filter)}@${ctx.sampleRate}`;
-    const analytic = new AnalyticFilter(analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero' },
+    const analytic = new AnalyticFilter(() => analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero' },
       (y, e) => { filteredTrim.push(y); envTrim.push(e); });
     // As scipy.signal.sosfiltfilt, zero-phase filtering needs more samples than its odd extension at each end.
     const firstOrder = Math.min(sos.filter((s) => s[2] === 0).length, sos.filter((s) => s[5] === 0).length);
@@ -65,11 +70,11 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
           return { ...EMPTY };
         }
         analytic.finish();
-        if (env.n === 0) {
+        if (env.moments().n === 0) {
           ctx.note(`${ctx.name}: too short for the envelope once ${edge} settling samples are left out at each end; envelope left empty`);
           return { ...EMPTY };
         }
-        const f = describe(filtered), e = describe(env);
+        const f = describe(filtered.moments()), e = describe(env.moments());
         const psd = envSpectrum.result();
         return {
           filtered_rms: f.rms, env_mean: e.mean, env_rms: e.rms, env_peak: e.max,

@@ -4,7 +4,6 @@ import { join, resolve } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import { toCsv, type CsvOptions } from './csv.js';
 import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
-import { toXlsx } from './xlsx.js';
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
 
@@ -48,6 +47,8 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
       ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],
     ];
     const path = join(root, XLSX_FILE);
+    // The workbook writer (exceljs) loads only when a workbook is asked for.
+    const { toXlsx } = await import('./xlsx.js');
     await writeFileAtomic(path, await toXlsx(tables, { rows: facts }, { digits: o.digits ?? null }));
     written.push(path);
   }

@@ -1,6 +1,6 @@
 // One XLSX workbook: a sheet per table and one that states the run; frozen headers, filters, units, severities in colour.
 import ExcelJS from 'exceljs';
-import { COLOURS } from '../outputs/charts.js';
+import { COLOURS } from '../outputs/colours.js';
 import { headerText, neutralise, numberText } from './csv.js';
 import type { ExportTable } from './tables.js';
 

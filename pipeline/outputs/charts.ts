@@ -2,10 +2,8 @@
 import * as vega from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
 import type { Evidence } from '../../stages/quality/evidence.js';
-import type { Severity } from '../../stages/quality/flag.js';
 
-// Our own palette: deep teal for trustworthy, ochre for a second look, brick red for do-not-use.
-export const COLOURS: Record<Severity, string> = { ok: '#2c6e63', warn: '#b7791f', fail: '#a23b2a' };
+import { COLOURS } from './colours.js';
 
 async function svg(spec: TopLevelSpec): Promise<string> {
   const view = new vega.View(vega.parse(compile(spec).spec), { renderer: 'none' });

@@ -1,6 +1,6 @@
 // quality.html: one self-contained page (inline CSS and SVG, no scripts, opens offline) for the morning read.
 // The charts arrive as SVG, drawn where the channel was reduced (pipeline/charts.ts).
-import { COLOURS } from './charts.js';
+import { COLOURS } from './colours.js';
 import type { Severity } from '../../stages/quality/flag.js';
 import type { QualityReport } from './quality.js';
 import type { RecordingResult } from '../reduce/result.js';

@@ -62,7 +62,8 @@ export class AnalyticFilter {
   private first = 0;
 
   constructor(
-    private readonly gains: Float64Array, private readonly gainKey: string, o: AnalyticOptions,
+    /** The gains (analyticGains), made only the first time a thread meets `gainKey`. */
+    private readonly gains: () => Float64Array, private readonly gainKey: string, o: AnalyticOptions,
     private readonly emit: (re: Float64Array, abs: Float64Array) => void,
     private readonly extension: Extension = o.extension,
   ) {

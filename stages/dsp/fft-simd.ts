@@ -58,7 +58,18 @@ class Kernels {
     return at;
   }
 
-  f64(at: number, length: number): Float64Array { return new Float64Array(this.x.memory.buffer, at, length); }
+  private views = new Map<number, Float64Array>();
+  private viewsOf: ArrayBuffer | null = null;
+
+  /** A view of doubles in the instance's memory, kept until the memory grows (which detaches every view). */
+  f64(at: number, length: number): Float64Array {
+    const buffer = this.x.memory.buffer;
+    if (buffer !== this.viewsOf) { this.views.clear(); this.viewsOf = buffer; }
+    const key = length * 2 ** 32 + at;
+    let v = this.views.get(key);
+    if (!v) this.views.set(key, (v = new Float64Array(buffer, at, length)));
+    return v;
+  }
 
   /** A region kept under a name (scratch of a size, a window, a filter's gains), filled by `fill` the first time. */
   region(key: string, length: number, fill?: (v: Float64Array) => void): number {
@@ -143,10 +154,10 @@ export function complexDft(re: Float64Array, im: Float64Array): void {
 /** Filtered analytic signal of a block x (length n): z = IDFT(g·DFT(x)), complex gains g (re, im interleaved) for
  *  k = 0 … n/2 (negative frequencies get none; g carries the transform's 1/n). Writes Re z and |z| of samples
  *  [from, to) into outRe and outAbs. */
-export function analyticBlock(x: Float64Array, g: Float64Array, gainKey: string, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
+export function analyticBlock(x: Float64Array, g: () => Float64Array, gainKey: string, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
   const k = kernels(), n = x.length;
   const rp = k.realPlan(n), cp = k.complexPlan(n);
-  const xa = k.region(`x:${n}`, n), ga = k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(g));
+  const xa = k.region(`x:${n}`, n), ga = k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(g()));
   const re = k.region(`re:${n}`, n / 2 + 1), im = k.region(`im:${n}`, n / 2 + 1);
   const sr = k.region(`cr:${n}`, n), si = k.region(`ci:${n}`, n);
   const or = k.region(`or:${n}`, n), oa = k.region(`oa:${n}`, n);

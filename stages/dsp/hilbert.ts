@@ -9,7 +9,7 @@ export class StreamingEnvelope {
 
   constructor(emit: (env: Float64Array) => void, size = 16384, context = 2048) {
     // No filter: the analytic signal of the samples themselves.
-    this.filter = new AnalyticFilter(analyticGains(size, 1, null, false), 'unfiltered', { size, context, ramp: context, extension: 'zero' }, (_, abs) => emit(abs));
+    this.filter = new AnalyticFilter(() => analyticGains(size, 1, null, false), 'unfiltered', { size, context, ramp: context, extension: 'zero' }, (_, abs) => emit(abs));
   }
 
   push(x: Float64Array): void { this.filter.push(x); }
