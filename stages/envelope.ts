@@ -13,8 +13,8 @@ import type { StageDefinition } from './stage.js';
 export interface EnvelopeOptions { filter: FilterSpec; spectrum: WelchOptions }
 
 /** Transform length and tapered ramp of the envelope's blocks (at least; longer filters get longer blocks). */
-export const ENVELOPE_BLOCK = 8192;
-export const ENVELOPE_RAMP = 512;
+export const ENVELOPE_BLOCK = 4096;
+export const ENVELOPE_RAMP = 256;
 
 const EMPTY = { filtered_rms: null, env_mean: null, env_rms: null, env_peak: null, env_dominant_frequency: null };
 

@@ -1,5 +1,6 @@
 // The WebAssembly SIMD FFT kernels (stages/dsp/fft-simd.c) bound for TypeScript: one instance per thread, plans and
 // scratch in its memory made once per size, inputs copied in and results copied out (memcpy, cheap beside a transform).
+import { bitReversal, stageTwiddles } from './fft.js';
 import { FFT_SIMD_WASM } from './fft-simd.wasm.js';
 
 interface Exports {
@@ -9,29 +10,6 @@ interface Exports {
   rfft(plan: number, x: number, re: number, im: number): void;
   periodogram_add(plan: number, x: number, w: number, mean: number, re: number, im: number, acc: number): void;
   analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
-}
-
-/** Bit reversal of every index below n (n a power of two). */
-export function bitReversal(n: number): Uint32Array {
-  const bits = Math.log2(n), rev = new Uint32Array(n);
-  for (let i = 0; i < n; i++) {
-    let r = 0;
-    for (let b = 0, v = i; b < bits; b++, v >>= 1) r = (r << 1) | (v & 1);
-    rev[i] = r;
-  }
-  return rev;
-}
-
-/** Twiddles of every radix-4 stage of a length-n transform, per stage of span h: cos and −sin of 2π·r·j/(4h), r = 1, 2, 3, as six rows of h. */
-export function stageTwiddles(n: number): Float64Array {
-  const rows: number[] = [];
-  for (let h = Math.log2(n) % 2 ? 2 : 4; h < n; h *= 4) {
-    for (let r = 1; r <= 3; r++) {
-      for (let j = 0; j < h; j++) rows.push(Math.cos((2 * Math.PI * r * j) / (4 * h)));
-      for (let j = 0; j < h; j++) rows.push(-Math.sin((2 * Math.PI * r * j) / (4 * h)));
-    }
-  }
-  return Float64Array.from(rows);
 }
 
 class Kernels {
@@ -82,11 +60,17 @@ class Kernels {
     return at;
   }
 
+  private readonly reversals = new Map<number, Uint32Array>();
+  /** Bit reversal of length n, kept per length. */
+  reversal(n: number): Uint32Array {
+    return this.reversals.get(n) ?? this.reversals.set(n, bitReversal(n)).get(n)!;
+  }
+
   complexPlan(n: number): number {
     let at = this.cplans.get(n);
     if (at !== undefined) return at;
     const rev = this.alloc(4 * n);
-    new Uint32Array(this.x.memory.buffer, rev, n).set(bitReversal(n));
+    new Uint32Array(this.x.memory.buffer, rev, n).set(this.reversal(n));
     const tw = stageTwiddles(n);
     const twAt = this.alloc(8 * Math.max(1, tw.length));
     this.f64(twAt, tw.length).set(tw);
@@ -144,7 +128,7 @@ export function complexDft(re: Float64Array, im: Float64Array): void {
   const k = kernels(), n = re.length;
   const plan = k.complexPlan(n);
   const ra = k.region(`cr:${n}`, n), ia = k.region(`ci:${n}`, n);
-  const rev = bitReversal(n), vr = k.f64(ra, n), vi = k.f64(ia, n);
+  const rev = k.reversal(n), vr = k.f64(ra, n), vi = k.f64(ia, n);
   for (let i = 0; i < n; i++) { vr[rev[i]] = re[i]; vi[rev[i]] = im[i]; }
   k.exports.cfft(plan, ra, ia);
   re.set(k.f64(ra, n));

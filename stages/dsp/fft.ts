@@ -1,10 +1,11 @@
-// Fast Fourier transforms of power-of-two length in double precision, on split real and imaginary arrays.
+// Fast Fourier transforms of power-of-two length in double precision, on split real and imaginary arrays, in JavaScript:
+// the readable form of stages/dsp/fft-simd.c (which runs them), the source of its plans, and a candidate in bench/fft.ts.
 // Complex: iterative radix-4 decimation in time over bit-reversed input (Cooley & Tukey, Math. Comp. 19, 1965), with a
 // radix-2 first stage when log2 n is odd. Real input: one complex transform of half the length and a split step
 // (Sorensen, Jones, Heideman & Burrus, IEEE Trans. ASSP 35(6), 1987). Twiddles come from Math.cos/sin, never by recursion.
 
 /** Bit reversal of every index below n (n a power of two). */
-function bitReversal(n: number): Uint32Array {
+export function bitReversal(n: number): Uint32Array {
   const bits = Math.log2(n), rev = new Uint32Array(n);
   for (let i = 0; i < n; i++) {
     let r = 0;
@@ -136,6 +137,18 @@ export class RealFft {
       re[j] = er - wr; im[j] = -ei + wi;
     }
   }
+}
+
+/** Twiddles of every radix-4 stage of a length-n transform, per stage of span h: cos and −sin of 2π·r·j/(4h), r = 1, 2, 3, as six rows of h (the layout stages/dsp/fft-simd.c reads two at a time). */
+export function stageTwiddles(n: number): Float64Array {
+  const rows: number[] = [];
+  for (let h = Math.log2(n) % 2 ? 2 : 4; h < n; h *= 4) {
+    for (let r = 1; r <= 3; r++) {
+      for (let j = 0; j < h; j++) rows.push(Math.cos((2 * Math.PI * r * j) / (4 * h)));
+      for (let j = 0; j < h; j++) rows.push(-Math.sin((2 * Math.PI * r * j) / (4 * h)));
+    }
+  }
+  return Float64Array.from(rows);
 }
 
 // Plans depend only on the length: made once per thread and shared read-only.
