@@ -13,19 +13,24 @@ export const repo = join(here, '..', '..');
 export const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
 export const say = (s: string) => process.stdout.write(s + '\n');
 
-/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
-export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string): QuernMeasurement {
-  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
-  return JSON.parse(text.trim().split('\n').pop()!);
+/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless
+ *  one is given. `seconds` is the whole process, start to exit, as a user would time it (the peer is timed the same way). */
+export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string, nodeOptions: string[] = []): QuernMeasurement {
+  const t0 = performance.now();
+  const text = execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
+  const seconds = (performance.now() - t0) / 1000;
+  return { ...JSON.parse(text.trim().split('\n').pop()!), seconds };
 }
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
 export function peer(archive: string, scale: number): Measurement | null {
   const python = ['/usr/bin/python3', 'python3'].find((p) => spawnSync(p, ['-c', 'import scipy'], { stdio: 'ignore' }).status === 0);
   if (!python) return null;
+  const t0 = performance.now();
   const r = spawnSync(python, [join(repo, 'bench', 'peer.py'), archive, String(scale)], { encoding: 'utf8' });
+  const seconds = (performance.now() - t0) / 1000;
   if (r.status !== 0) { say(`peer failed: ${r.stderr.trim().split('\n').pop()}`); return null; }
-  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+  return { ...JSON.parse(r.stdout.trim().split('\n').pop()!), seconds };
 }
 
 export const row = (label: string, m: Measurement) =>

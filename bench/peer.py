@@ -2,7 +2,7 @@
 """The benchmark's peer: the default feature set computed with numpy and scipy, the way a script would (whole files in memory).
 
 Usage: python3 bench/peer.py ARCHIVE SCALE   (every *.wav in ARCHIVE, 16- or 24-bit PCM, all channels taken as acceleration in m/s²)
-Prints one JSON line: seconds, samples, peak RSS (MB), scipy version.
+Prints one JSON line: seconds (after imports; the bench times the whole process itself), samples, peak RSS (MB), scipy version.
 """
 import glob, json, os, resource, sys, time
 import numpy as np

@@ -208,7 +208,7 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
     const { ctx, shared } = context();
     momentsOf(ctx); limitRunsOf(ctx, LO, HI); zeroRunsOf(ctx);
     const pass = shared.get('fused-pass') as unknown as { accs: unknown[] };
-    const { body } = kernelSource(pass.accs as never);
+    const body = kernelSource(pass.accs as never);
     expect(body.match(/for \(/g)?.length).toBe(1);
     expect(() => kernelSource([{ key: 'bad', names: [], state: new Float64Array(0), each: '$nope++;' }])).toThrow(/\$nope is not declared/);
   });

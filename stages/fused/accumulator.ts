@@ -1,14 +1,15 @@
 // What an element-wise figure of a chunk declares to join the channel's fused pass (stages/fused/pass.ts).
 
-/** Buffers and callbacks an accumulator's statements refer to as `$name`. */
+/** Buffers an accumulator's statements refer to as `$name`. */
 export type AccumulatorArrays = Record<string, Float64Array | Int32Array>;
-export type AccumulatorCalls = Record<string, (a: number, b: number, c: number, d: number) => void>;
 
 /**
  * One running figure over a channel's samples. Its per-sample work is a few JavaScript statements, so the pass can
  * run the statements of every accumulator of the channel in one loop; everything else is ordinary code around it.
  * In the statements, `v` is the sample and `n` its index in the recording; `$name` is this accumulator's own state
- * value, buffer or callback of that name (state values live in locals during a chunk and in `state` between chunks).
+ * value or buffer of that name (state values live in locals during a chunk and in `state` between chunks). The
+ * statements call nothing: what happens at a window's end is written to a buffer and handed on in afterChunk, so
+ * one compiled loop serves every channel.
  */
 export interface Accumulator {
   /** Identity within a channel: stages asking for the same key share one accumulator, computed once. */
@@ -17,7 +18,6 @@ export interface Accumulator {
   readonly names: readonly string[];
   readonly state: Float64Array;
   readonly arrays?: AccumulatorArrays;
-  readonly calls?: AccumulatorCalls;
   /** Statements for every sample, finite or not. */
   readonly each?: string;
   /** Statements for finite samples only. */

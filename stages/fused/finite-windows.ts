@@ -8,22 +8,34 @@ export type WindowListener = (sum: number, sumSquares: number, length: number) =
 
 export class FiniteWindows implements Accumulator {
   readonly key: string;
-  private readonly s: State<'length' | 'k' | 'sum' | 'sq'>;
+  private readonly s: State<'length' | 'k' | 'sum' | 'sq' | 'ended'>;
   readonly names: readonly string[];
   readonly state: Float64Array;
+  /** The windows ended in the current chunk: sums and sums of squares, handed to the listeners after it. */
+  readonly arrays = { sums: new Float64Array(0), squares: new Float64Array(0) };
+  readonly finite = '$sum += v; $sq += v * v; if (++$k === $length) { $sums[$ended] = $sum; $squares[$ended] = $sq; $ended++; $sum = 0; $sq = 0; $k = 0; }';
   private readonly listeners: WindowListener[] = [];
-  readonly calls = { end: (sum: number, sq: number, length: number) => { for (const l of this.listeners) l(sum, sq, length); } };
-  readonly finite = '$sum += v; $sq += v * v; if (++$k === $length) { $end($sum, $sq, $length, 0); $sum = 0; $sq = 0; $k = 0; }';
 
-  constructor(length: number) {
+  constructor(private readonly length: number) {
     this.key = `finite-windows:${length}`;
-    this.s = new State({ length, k: 0, sum: 0, sq: 0 });
+    this.s = new State({ length, k: 0, sum: 0, sq: 0, ended: 0 });
     this.names = this.s.names;
     this.state = this.s.values;
   }
 
   /** Calls `l` at the end of every window with its sum, sum of squares and length. */
   listen(l: WindowListener): this { this.listeners.push(l); return this; }
+
+  beforeChunk(x: Float64Array): void {
+    const most = Math.floor(x.length / this.length) + 1;
+    if (this.arrays.sums.length < most) { this.arrays.sums = new Float64Array(most); this.arrays.squares = new Float64Array(most); }
+  }
+
+  afterChunk(): void {
+    const ended = this.s.get('ended'), { sums, squares } = this.arrays;
+    for (let w = 0; w < ended; w++) for (const l of this.listeners) l(sums[w], squares[w], this.length);
+    this.s.set('ended', 0);
+  }
 }
 
 export const finiteWindowsOf = (ctx: ChannelContext, length: number) => fusedOf(ctx, `finite-windows:${length}`, () => new FiniteWindows(length));

@@ -8,22 +8,34 @@ export type FixedWindowListener = (sum: number, sumSquares: number, peak: number
 
 export class FixedWindows implements Accumulator {
   readonly key: string;
-  private readonly s: State<'length' | 'k' | 'sum' | 'sq' | 'peak'>;
+  private readonly s: State<'length' | 'k' | 'sum' | 'sq' | 'peak' | 'ended'>;
   readonly names: readonly string[];
   readonly state: Float64Array;
+  /** The windows ended in the current chunk (sum, sum of squares, peak, index past the end), handed on after it. */
+  readonly arrays = { ends: new Float64Array(0) };
+  readonly each = '$sum += v; $sq += v * v; const a = v < 0 ? -v : v; if (a > $peak) $peak = a; if (++$k === $length) { const e = 4 * $ended++; $ends[e] = $sum; $ends[e + 1] = $sq; $ends[e + 2] = $peak; $ends[e + 3] = n + 1; $sum = 0; $sq = 0; $peak = 0; $k = 0; }';
   private readonly listeners: FixedWindowListener[] = [];
-  readonly calls = { end: (sum: number, sq: number, peak: number, end: number) => { for (const l of this.listeners) l(sum, sq, peak, end); } };
-  readonly each = '$sum += v; $sq += v * v; const a = v < 0 ? -v : v; if (a > $peak) $peak = a; if (++$k === $length) { $end($sum, $sq, $peak, n + 1); $sum = 0; $sq = 0; $peak = 0; $k = 0; }';
 
-  constructor(length: number) {
+  constructor(private readonly length: number) {
     this.key = `fixed-windows:${length}`;
-    this.s = new State({ length, k: 0, sum: 0, sq: 0, peak: 0 });
+    this.s = new State({ length, k: 0, sum: 0, sq: 0, peak: 0, ended: 0 });
     this.names = this.s.names;
     this.state = this.s.values;
   }
 
   /** Calls `l` at the end of every window with its sum, sum of squares, largest magnitude and the index just past it. */
   listen(l: FixedWindowListener): this { this.listeners.push(l); return this; }
+
+  beforeChunk(x: Float64Array): void {
+    const most = 4 * (Math.floor(x.length / this.length) + 1);
+    if (this.arrays.ends.length < most) this.arrays.ends = new Float64Array(most);
+  }
+
+  afterChunk(): void {
+    const ended = this.s.get('ended'), e = this.arrays.ends;
+    for (let w = 0; w < ended; w++) for (const l of this.listeners) l(e[4 * w], e[4 * w + 1], e[4 * w + 2], e[4 * w + 3]);
+    this.s.set('ended', 0);
+  }
 }
 
 export const fixedWindowsOf = (ctx: ChannelContext, length: number) => fusedOf(ctx, `fixed-windows:${length}`, () => new FixedWindows(length));

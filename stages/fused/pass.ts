@@ -2,47 +2,45 @@
 // Stages declare the accumulators they read (fusedOf); the pass, a shared product of the channel, joins their
 // per-sample statements into one kernel, compiled once per thread for each set of accumulator kinds.
 import type { ChannelContext, Stage } from '../stage.js';
-import type { Accumulator } from './accumulator.js';
+import type { Accumulator, AccumulatorArrays } from './accumulator.js';
 
-type Kernel = (x: Float64Array, n0: number) => void;
-type KernelFactory = (...bindings: unknown[]) => Kernel;
+type Kernel = (x: Float64Array, n0: number, states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]) => void;
 
-// Kernels depend only on the statements joined, not on a channel's values: made once per thread and shared.
-const factories = new Map<string, KernelFactory>();
+// Kernels depend only on the statements joined, not on a channel's values (those come in as arguments, so one kernel
+// serves every channel with the same feedback): made once per thread and shared.
+const kernels = new Map<string, Kernel>();
 
-/** The JavaScript source of one loop running every accumulator's statements, and the names it binds. */
-export function kernelSource(accs: readonly Accumulator[]): { params: string[]; body: string } {
-  const params: string[] = [];
+/** The JavaScript source of one loop running every accumulator's statements, over (x, n0, states, arrays). */
+export function kernelSource(accs: readonly Accumulator[]): string {
   const load: string[] = [], store: string[] = [], each: string[] = [], finite: string[] = [];
+  let arrayIndex = 0;
   accs.forEach((a, i) => {
     const local = (name: string) => `a${i}_${name}`;
     const rename = (code: string) => code.replace(/\$(\w+)/g, (_, name: string) => {
-      if (!a.names.includes(name) && !(a.arrays && name in a.arrays) && !(a.calls && name in a.calls)) throw new Error(`accumulator ${a.key}: $${name} is not declared`);
+      if (!a.names.includes(name) && !(a.arrays && name in a.arrays)) throw new Error(`accumulator ${a.key}: $${name} is not declared`);
       return local(name);
     });
-    params.push(`s${i}`);
+    load.push(`const s${i} = states[${i}];`);
     a.names.forEach((name, k) => { load.push(`let ${local(name)} = s${i}[${k}];`); store.push(`s${i}[${k}] = ${local(name)};`); });
-    for (const name of Object.keys(a.arrays ?? {})) params.push(local(name));
-    for (const name of Object.keys(a.calls ?? {})) params.push(local(name));
+    for (const name of Object.keys(a.arrays ?? {})) load.push(`const ${local(name)} = arrays[${arrayIndex++}];`);
     if (a.each) each.push(`{ ${rename(a.each)} }`);
     if (a.finite) finite.push(`{ ${rename(a.finite)} }`);
   });
-  const body = `return function fusedKernel(x, n0) {
-  ${load.join('\n  ')}
-  for (let i = 0, len = x.length; i < len; i++) {
-    const v = x[i], n = n0 + i;
-    ${each.join('\n    ')}
-    ${finite.length ? `if (v - v === 0) {\n      ${finite.join('\n      ')}\n    }` : ''}
-  }
-  ${store.join('\n  ')}
-};`;
-  return { params, body };
+  return `${load.join('\n')}
+for (let i = 0, len = x.length; i < len; i++) {
+  const v = x[i], n = n0 + i;
+  ${each.join('\n  ')}
+  ${finite.length ? `if (v - v === 0) {\n    ${finite.join('\n    ')}\n  }` : ''}
+}
+${store.join('\n')}`;
 }
 
 /** Runs a channel's accumulators over each chunk in one loop; a shared product, fed before the stages. */
 export class FusedPass implements Stage {
   private readonly accs: Accumulator[] = [];
   private kernel: Kernel | null = null;
+  private states: Float64Array[] = [];
+  private readonly arrays: AccumulatorArrays[keyof AccumulatorArrays][] = [];
   private n0 = 0;
 
   /** The accumulator under that key, made and joining the pass the first time; every request comes before the first chunk. */
@@ -57,21 +55,27 @@ export class FusedPass implements Stage {
   }
 
   private compile(): Kernel {
-    const { params, body } = kernelSource(this.accs);
-    let factory = factories.get(body);
-    if (!factory) {
-      factory = new Function(...params, body) as KernelFactory;
-      factories.set(body, factory);
+    const body = kernelSource(this.accs);
+    let kernel = kernels.get(body);
+    if (!kernel) {
+      kernel = new Function('x', 'n0', 'states', 'arrays', body) as Kernel;
+      kernels.set(body, kernel);
     }
-    const bindings = this.accs.flatMap((a) => [a.state, ...Object.values(a.arrays ?? {}), ...Object.values(a.calls ?? {})]);
-    return factory(...bindings);
+    this.states = this.accs.map((a) => a.state);
+    return kernel;
   }
 
   push(x: Float64Array): void {
     const kernel = (this.kernel ??= this.compile());
-    const accs = this.accs, n0 = this.n0;
+    const accs = this.accs, n0 = this.n0, arrays = this.arrays;
     for (let i = 0; i < accs.length; i++) accs[i].beforeChunk?.(x, n0);
-    kernel(x, n0);
+    // Buffers are passed each chunk, so an accumulator may replace one (grown) before it.
+    let k = 0;
+    for (let i = 0; i < accs.length; i++) {
+      const own = accs[i].arrays;
+      if (own) for (const name in own) arrays[k++] = own[name];
+    }
+    kernel(x, n0, this.states, arrays);
     for (let i = 0; i < accs.length; i++) accs[i].afterChunk?.(x, n0);
     this.n0 += x.length;
   }

@@ -10,20 +10,27 @@ const STRIDE = 8;
 
 export class RobustOutliers implements Accumulator {
   readonly key: string;
-  private readonly s = new State({ med: 0, limit: Infinity });
+  private readonly s = new State({ med: 0, limit: Infinity, found: 0 });
   readonly names = this.s.names;
   readonly state = this.s.values;
-  readonly calls: { out: (n: number) => void };
+  /** Indices of the current chunk's outliers, handed to the listener after it. */
+  readonly arrays = { hits: new Float64Array(0) };
   // NaN is never beyond the limit; a chunk with too small a sample has an infinite limit.
-  readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) $out(n, 0, 0, 0);';
+  readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) $hits[$found++] = n;';
   private sub = new Float64Array(0);
 
-  constructor(private readonly sigmas: number, private readonly floor: number, out: (n: number) => void) {
+  constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void) {
     this.key = `robust-outliers:${sigmas}:${floor}`;
-    this.calls = { out };
+  }
+
+  afterChunk(): void {
+    const found = this.s.get('found'), hits = this.arrays.hits;
+    for (let i = 0; i < found; i++) this.out(hits[i]);
+    this.s.set('found', 0);
   }
 
   beforeChunk(x: Float64Array): void {
+    if (this.arrays.hits.length < x.length) this.arrays.hits = new Float64Array(x.length);
     if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = new Float64Array(Math.ceil(x.length / STRIDE));
     // Every STRIDE-th finite sample is plenty for the median and MAD of a chunk, at a fraction of the sorting.
     let m = 0;
