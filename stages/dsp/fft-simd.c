@@ -108,9 +108,13 @@ void rfft(const rplan *p, const double *x, double *re, double *im) {
   split_step(p, re, im);
 }
 
-/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), k = 0 … n/2. */
-void periodogram_add(const rplan *p, const double *x, const double *w, double mean, double *re, double *im, double *acc) {
+/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
+ *  (detrend 'constant'), k = 0 … n/2. */
+void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
   int m = p->n / 2;
+  double mean = 0;
+  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
+  mean /= p->n;
   const unsigned *rev = p->half.rev;
   for (int i = 0; i < m; i++) {
     unsigned r = rev[i];

@@ -8,7 +8,7 @@ interface Exports {
   __heap_base: WebAssembly.Global;
   cfft(plan: number, re: number, im: number): void;
   rfft(plan: number, x: number, re: number, im: number): void;
-  periodogram_add(plan: number, x: number, w: number, mean: number, re: number, im: number, acc: number): void;
+  periodogram_add(plan: number, x: number, w: number, re: number, im: number, acc: number): void;
   analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
 }
 
@@ -99,8 +99,8 @@ class Kernels {
 let instance: Kernels | null = null;
 const kernels = () => (instance ??= new Kernels());
 
-/** acc[k] += |X[k]|², k = 0 … n/2, X the DFT of w·(x − mean) (Welch's modified periodogram); n = x.length, a power of two. */
-export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: string, mean: number, acc: Float64Array): void {
+/** acc[k] += |X[k]|², k = 0 … n/2, X the DFT of w·(x − mean(x)) (Welch's modified periodogram); n = x.length, a power of two. */
+export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: string, acc: Float64Array): void {
   const k = kernels(), n = x.length;
   const plan = k.realPlan(n);
   const xa = k.region(`x:${n}`, n), wa = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
@@ -108,7 +108,7 @@ export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: stri
   k.f64(xa, n).set(x);
   const accView = k.f64(aa, n / 2 + 1);
   accView.set(acc);
-  k.exports.periodogram_add(plan, xa, wa, mean, re, im, aa);
+  k.exports.periodogram_add(plan, xa, wa, re, im, aa);
   acc.set(k.f64(aa, n / 2 + 1));
 }
 

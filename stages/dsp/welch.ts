@@ -40,7 +40,8 @@ export class Welch {
       this.fill += take;
       i += take;
       if (this.fill === this.buf.length) {
-        addPeriodogram(this.buf, this.win, this.o.window, this.sum);
+        // One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added (stages/dsp/fft-simd.c).
+        periodogramAdd(this.buf, this.win, this.o.window, this.sum);
         this.count++;
         this.buf.copyWithin(0, this.hop);
         this.fill -= this.hop;
@@ -55,19 +56,11 @@ export class Welch {
     if (n < 8) return null;
     const win = makeWindow(this.o.window, n);
     const sum = new Float64Array(n / 2 + 1);
-    addPeriodogram(this.buf.subarray(0, n), win, this.o.window, sum);
+    periodogramAdd(this.buf.subarray(0, n), win, this.o.window, sum);
     return scaleDensity(sum, 1, win, this.fs);
   }
 }
 
-// One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added to sum (the transform in stages/dsp/fft-simd.c).
-function addPeriodogram(seg: Float64Array, win: Float64Array, windowName: WindowName, sum: Float64Array): void {
-  const n = seg.length;
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += seg[i];
-  mean /= n;
-  periodogramAdd(seg, win, windowName, mean, sum);
-}
 
 // Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).
 function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: number): Psd {

@@ -4,13 +4,15 @@
 import type { ChannelContext, Stage } from '../stage.js';
 import type { Accumulator, AccumulatorArrays } from './accumulator.js';
 
-type Kernel = (x: Float64Array, n0: number, states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]) => void;
+type Kernel = (x: Float64Array, from: number, to: number, n0: number, states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]) => void;
+
+const BLOCK = 4096;
 
 // Kernels depend only on the statements joined, not on a channel's values (those come in as arguments, so one kernel
 // serves every channel with the same feedback): made once per thread and shared.
 const kernels = new Map<string, Kernel>();
 
-/** The JavaScript source of one loop running every accumulator's statements, over (x, n0, states, arrays). */
+/** The JavaScript source of one loop running every accumulator's statements over x[from … to), the sample at i being number n0 + i of the recording. */
 export function kernelSource(accs: readonly Accumulator[]): string {
   const load: string[] = [], store: string[] = [], each: string[] = [], finite: string[] = [];
   let arrayIndex = 0;
@@ -27,7 +29,7 @@ export function kernelSource(accs: readonly Accumulator[]): string {
     if (a.finite) finite.push(`{ ${rename(a.finite)} }`);
   });
   return `${load.join('\n')}
-for (let i = 0, len = x.length; i < len; i++) {
+for (let i = from; i < to; i++) {
   const v = x[i], n = n0 + i;
   ${each.join('\n  ')}
   ${finite.length ? `if (v - v === 0) {\n    ${finite.join('\n    ')}\n  }` : ''}
@@ -58,7 +60,7 @@ export class FusedPass implements Stage {
     const body = kernelSource(this.accs);
     let kernel = kernels.get(body);
     if (!kernel) {
-      kernel = new Function('x', 'n0', 'states', 'arrays', body) as Kernel;
+      kernel = new Function('x', 'from', 'to', 'n0', 'states', 'arrays', body) as Kernel;
       kernels.set(body, kernel);
     }
     this.states = this.accs.map((a) => a.state);
@@ -75,7 +77,9 @@ export class FusedPass implements Stage {
       const own = accs[i].arrays;
       if (own) for (const name in own) arrays[k++] = own[name];
     }
-    kernel(x, n0, this.states, arrays);
+    // In blocks: a branch first taken late (a window's end, an outlier) sends V8 back to its interpreter for the rest
+    // of one block only, while it re-optimises the loop.
+    for (let from = 0; from < x.length; from += BLOCK) kernel(x, from, Math.min(x.length, from + BLOCK), n0, this.states, arrays);
     for (let i = 0; i < accs.length; i++) accs[i].afterChunk?.(x, n0);
     this.n0 += x.length;
   }
