@@ -6,6 +6,7 @@ import { writeFileAtomic } from './outputs/atomic.js';
 import { groupKeys, writeEntry, type CacheEntry } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
 import { FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
+import { loadParquetWriter } from './outputs/parquet.js';
 import { toolVersion } from './declare/package-files.js';
 import { plan } from './plan/plan.js';
 import { reduceAll } from './reduce/pool.js';
@@ -59,6 +60,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   const todo = decisions.filter((d) => d.compute.length > 0);
   const entries = new Map<string, CacheEntry>(decisions.filter((d) => d.compute.length === 0).map((d) => [d.job.recording, mergeEntry(d, null, reuse)]));
   o.progress?.start(todo.length, entries.size);
+  void loadParquetWriter(); // loads while the workers reduce
   const byName = new Map(todo.map((d) => [d.job.recording, d]));
   await reduceAll(todo.map((d) => d.job), {
     jobs: o.jobs,

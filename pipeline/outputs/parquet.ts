@@ -1,6 +1,6 @@
 // Feature rows → an Arrow table → Parquet (Apache Arrow's Rust writer, compiled to WebAssembly), written atomically.
-import * as arrow from 'apache-arrow';
-import { Compression, Table as WasmTable, writeParquet, WriterPropertiesBuilder } from 'parquet-wasm/node';
+import type * as Arrow from 'apache-arrow';
+import type * as ParquetWasm from 'parquet-wasm/node';
 import type { ColumnSpec } from '../../stages/stage.js';
 import { writeFileAtomic } from './atomic.js';
 import type { FeatureRow } from '../reduce/result.js';
@@ -28,6 +28,15 @@ export const QUALITY_COLUMNS: TableColumn[] = [
   { name: 'flags', type: 'string', nullable: false, unit: '', description: 'Comma-separated names of the flags that are not ok.' },
 ];
 
+// Apache Arrow and parquet-wasm take about a fifth of a second to load: loaded on first use, or early by a run
+// (loadParquetWriter) so that they load while the recordings are reduced.
+let arrow: typeof Arrow;
+let parquet: typeof ParquetWasm;
+let loading: Promise<void> | null = null;
+export function loadParquetWriter(): Promise<void> {
+  return (loading ??= Promise.all([import('apache-arrow'), import('parquet-wasm/node')]).then(([a, p]) => { arrow = a; parquet = p; }));
+}
+
 const ARROW_TYPES = {
   string: () => new arrow.Utf8(),
   float64: () => new arrow.Float64(),
@@ -35,14 +44,15 @@ const ARROW_TYPES = {
   timestamp_ms: () => new arrow.TimestampMillisecond(),
 } as const;
 
-function vectorOf(col: TableColumn, rows: FeatureRow[]): arrow.Vector {
+function vectorOf(col: TableColumn, rows: FeatureRow[]): Arrow.Vector {
   const values = rows.map((r) => r[col.name] ?? null);
   if (col.type === 'int64') return arrow.vectorFromArray(values.map((v) => (v == null ? null : BigInt(v as number))), new arrow.Int64());
   if (col.type === 'float64' && !col.nullable) return arrow.makeVector(Float64Array.from(values as number[]));
   return arrow.vectorFromArray(values as never[], ARROW_TYPES[col.type]());
 }
 
-export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): arrow.Table {
+/** The rows as an Arrow table (after loadParquetWriter). */
+export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): Arrow.Table {
   const fields = columns.map((c) => new arrow.Field(c.name, ARROW_TYPES[c.type](), c.nullable, new Map([['unit', c.unit], ['description', c.description]])));
   const schema = new arrow.Schema(fields, new Map(Object.entries(metadata)));
   const data = Object.fromEntries(columns.map((c) => [c.name, vectorOf(c, rows).data[0] ?? arrow.makeData({ type: ARROW_TYPES[c.type](), length: 0, nullCount: 0 })]));
@@ -52,6 +62,8 @@ export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadat
 
 /** Writes the rows as Parquet, zstd-compressed, with column statistics; metadata goes in the footer's key-value pairs. */
 export async function writeParquetTable(path: string, columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): Promise<void> {
+  await loadParquetWriter();
+  const { Compression, Table: WasmTable, writeParquet, WriterPropertiesBuilder } = parquet;
   const table = toArrowTable(columns, rows, metadata);
   const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
   const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
