@@ -5,12 +5,12 @@
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { dirname, join } from 'node:path';
+import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { packageRoot } from '../pipeline/declare/package-files.js';
 
-const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
-const source = join(root, 'stages', 'dsp', 'fft-simd.c');
-const target = join(root, 'stages', 'dsp', 'fft-simd.wasm.ts');
+const source = join(packageRoot, 'stages', 'dsp', 'fft-simd.c');
+const target = join(packageRoot, 'stages', 'dsp', 'fft-simd.wasm.ts');
 export const EXPORTS = ['cfft', 'rfft', 'periodogram_add', 'analytic', '__heap_base'];
 
 /** The module's bytes as clang builds them from the source, and the compiler's version line. */

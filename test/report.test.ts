@@ -1,15 +1,13 @@
 // The quality report: planted defects flagged right, quality.json valid against its schema, quality.html rendered by a real browser.
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Ajv } from 'ajv';
 import formats from 'ajv-formats';
 
 const addFormats = formats as unknown as (ajv: Ajv) => Ajv;
-import { chromium } from 'playwright-core';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { launchBrowser } from './browser.js';
 import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
-
-const CHROMIUM = '/usr/bin/chromium';
 
 describe('quality report of the sample archive', () => {
   let out = '', quality: any, stdout = '';
@@ -55,8 +53,7 @@ describe('quality report of the sample archive', () => {
   });
 
   it('renders in headless Chromium with no console errors and shows every channel that is not ok, with its pictures', async () => {
-    expect(existsSync(CHROMIUM), `${CHROMIUM} is missing: apt-get install chromium (.ci/run does)`).toBe(true);
-    const browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'] });
+    const browser = await launchBrowser();
     try {
       const page = await browser.newPage({ viewport: { width: 1300, height: 900 } });
       const errors: string[] = [];
