@@ -6,7 +6,7 @@ import { writeFileAtomic } from './atomic.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { qualityReport, type QualityReport } from './quality.js';
 import type { RecordingResult } from '../reduce/result.js';
-import { qualityHtml } from './report-html.js';
+import { drawPictures, qualityHtml } from './report-html.js';
 import { IDENTITY_COLUMNS, QUALITY_COLUMNS, writeParquetTable, type TableColumn } from './parquet.js';
 import { SECONDARY_TABLES } from './tables.js';
 
@@ -40,6 +40,9 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: {
   }
   const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched });
   await writeFileAtomic(join(outDir, names.qualityJson), JSON.stringify(quality, null, 2) + '\n');
-  if (names.qualityHtml) await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));
+  if (names.qualityHtml) {
+    await drawPictures(quality, results);
+    await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));
+  }
   return quality;
 }

@@ -1,9 +1,10 @@
 // quality.html: one self-contained page (inline CSS and SVG, no scripts, opens offline) for the morning read.
-// The charts arrive as SVG, drawn where the channel was reduced (pipeline/charts.ts).
+// The charts (SVG, pipeline/outputs/charts.ts) are drawn here for the channels the page pictures, from the data kept with each result.
 import { COLOURS } from './colours.js';
 import type { Severity } from '../../stages/quality/flag.js';
 import type { QualityReport } from './quality.js';
 import type { RecordingResult } from '../reduce/result.js';
+import type { Evidence } from '../../stages/quality/evidence.js';
 
 const LABEL: Record<Severity, string> = { ok: 'ok', warn: 'check', fail: 'unusable' };
 
@@ -14,6 +15,26 @@ export const channelId = (recording: string, channel: string) => `ch-${Buffer.fr
 const MAX_PICTURED = 300;
 
 const badge = (s: Severity) => `<span class="sev sev-${s}">${LABEL[s]}</span>`;
+
+/** The channels that need a second look, unusable ones first, and whether each gets pictures (the first MAX_PICTURED). */
+function secondLooks(q: QualityReport) {
+  const notOk = q.recordings.flatMap((r) => r.channels.filter((x) => x.severity !== 'ok').map((c) => ({ r, c })));
+  notOk.sort((a, b) => (a.c.severity === b.c.severity ? 0 : a.c.severity === 'fail' ? -1 : 1));
+  return notOk.map((x, i) => ({ ...x, pictured: i < MAX_PICTURED }));
+}
+
+/** Draws the pictures of the channels the report shows with pictures, from the data kept with their results (only
+ *  those: drawing takes tens of milliseconds a chart, and the charting modules load only if there is one to draw). */
+export async function drawPictures(q: QualityReport, results: RecordingResult[]): Promise<void> {
+  const byKey = new Map(results.flatMap((r) => r.quality.map((c) => [`${r.recording}\u0000${c.channel}`, c] as const)));
+  for (const { r, c, pictured } of secondLooks(q)) {
+    const channel = byKey.get(`${r.recording}\u0000${c.channel}`);
+    const data = channel?.evidence?.pictures as Evidence | undefined;
+    if (!pictured || !data || channel!.evidence!.charts) continue;
+    const { evidenceCharts } = await import('./charts.js');
+    channel!.evidence!.charts = await evidenceCharts(data, c.unit);
+  }
+}
 
 export function qualityHtml(q: QualityReport, results: RecordingResult[]): string {
   const chartsOf = new Map(results.flatMap((r) => r.quality.map((c) => [`${r.recording}\u0000${c.channel}`, c.evidence?.charts as string[] | undefined] as const)));
@@ -64,10 +85,9 @@ section.channel h3 { margin: 0 0 8px; font-size: 15px; }
   out.push('</table>');
   out.push('<h2>Channels that need a second look</h2>');
   // Unusable channels first, then those to check; beyond MAX_PICTURED the pictures are left out to keep the page light.
-  const notOk = q.recordings.flatMap((r) => r.channels.filter((x) => x.severity !== 'ok').map((c) => ({ r, c })));
-  notOk.sort((a, b) => (a.c.severity === b.c.severity ? 0 : a.c.severity === 'fail' ? -1 : 1));
+  const notOk = secondLooks(q);
   if (notOk.length > MAX_PICTURED) out.push(`<p class="note">${notOk.length} channels need a second look; pictures are shown for the first ${MAX_PICTURED} (unusable ones first). Every flag of every channel is in quality.json.</p>`);
-  for (const [i, { r, c }] of notOk.entries()) {
+  for (const { r, c, pictured } of notOk) {
     {
       const charts = chartsOf.get(`${r.recording}\u0000${c.channel}`);
       out.push(`<section class="channel" id="${channelId(r.recording, c.channel)}" data-recording="${esc(r.recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}" style="border-color:${COLOURS[c.severity]}">
@@ -75,7 +95,7 @@ section.channel h3 { margin: 0 0 8px; font-size: 15px; }
 <table><tr><th>flag</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>
 ${c.flags.filter((f) => f.severity !== 'ok').map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(num(f.value))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
 </table>`);
-      if (charts && i < MAX_PICTURED) out.push(`<div class="charts">${charts.join('')}</div>`);
+      if (charts && pictured) out.push(`<div class="charts">${charts.join('')}</div>`);
       out.push('</section>');
     }
   }

@@ -8,7 +8,6 @@ import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
 import { worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
-import type { Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
@@ -117,16 +116,13 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });
-    // Pictures are drawn only for channels whose flags ask for a second look, here in the worker, and kept with the result.
+    // The pictures' data is kept for channels whose flags ask for a second look; the report draws those it shows.
     const quality = out.groups.quality;
     if (quality) {
-      quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
+      quality.evidence = quality.flags.map((flags, c) => {
         if (worst(flags.map((f) => f.severity)) === 'ok') return null;
-        // The charting modules load only when a channel needs pictures.
-        const { evidenceCharts } = await import('../outputs/charts.js');
-        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
-        return { charts: await evidenceCharts(data, channels[c].decl.unit) };
-      }));
+        return { pictures: Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) };
+      });
     }
     out.base = {
       frames, sampleRate: r.sampleRate,
