@@ -18,17 +18,7 @@ import { robustOutliersOf } from '../stages/fused/robust-outliers.js';
 import { runningMeanSquareOf } from '../stages/fused/running-mean-square.js';
 import { zeroRunsOf } from '../stages/fused/zero-runs.js';
 import type { ChannelContext, Stage } from '../stages/stage.js';
-
-/** Seeded uniform generator (mulberry32) so the checks are repeatable. */
-function uniform(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { uniform } from './dsp-signals.js';
 
 const FS = 1000, LO = -2, HI = 2;
 

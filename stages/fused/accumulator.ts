@@ -28,16 +28,16 @@ export interface Accumulator {
   afterChunk?(x: Float64Array, n0: number): void;
 }
 
-/** Named state values with start values, and index lookup for reading them back. */
-export class State<K extends string> {
+/** The common part of an accumulator: its key and named state values (with their start values), read back by name. */
+export abstract class Accumulating<K extends string> {
   readonly names: readonly K[];
-  readonly values: Float64Array;
+  readonly state: Float64Array;
   private readonly index: Record<K, number>;
-  constructor(start: Record<K, number>) {
+  constructor(readonly key: string, start: Record<K, number>) {
     this.names = Object.keys(start) as K[];
-    this.values = Float64Array.from(this.names.map((k) => start[k]));
+    this.state = Float64Array.from(this.names.map((k) => start[k]));
     this.index = Object.fromEntries(this.names.map((k, i) => [k, i])) as Record<K, number>;
   }
-  get(k: K): number { return this.values[this.index[k]]; }
-  set(k: K, v: number): void { this.values[this.index[k]] = v; }
+  protected get(k: K): number { return this.state[this.index[k]]; }
+  protected set(k: K, v: number): void { this.state[this.index[k]] = v; }
 }

@@ -1,27 +1,18 @@
 // Sums and sums of squares over consecutive windows of `length` finite samples (missing samples are skipped, not
 // counted): the offset's 1 s window means and the report's RMS trend.
 import type { ChannelContext } from '../stage.js';
-import { State, type Accumulator } from './accumulator.js';
+import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
 
 export type WindowListener = (sum: number, sumSquares: number, length: number) => void;
 
-export class FiniteWindows implements Accumulator {
-  readonly key: string;
-  private readonly s: State<'length' | 'k' | 'sum' | 'sq' | 'ended'>;
-  readonly names: readonly string[];
-  readonly state: Float64Array;
+export class FiniteWindows extends Accumulating<'length' | 'k' | 'sum' | 'sq' | 'ended'> implements Accumulator {
   /** The windows ended in the current chunk: sums and sums of squares, handed to the listeners after it. */
   readonly arrays = { sums: new Float64Array(0), squares: new Float64Array(0) };
   readonly finite = '$sum += v; $sq += v * v; if (++$k === $length) { $sums[$ended] = $sum; $squares[$ended] = $sq; $ended++; $sum = 0; $sq = 0; $k = 0; }';
   private readonly listeners: WindowListener[] = [];
 
-  constructor(private readonly length: number) {
-    this.key = `finite-windows:${length}`;
-    this.s = new State({ length, k: 0, sum: 0, sq: 0, ended: 0 });
-    this.names = this.s.names;
-    this.state = this.s.values;
-  }
+  constructor(private readonly length: number) { super(`finite-windows:${length}`, { length, k: 0, sum: 0, sq: 0, ended: 0 }); }
 
   /** Calls `l` at the end of every window with its sum, sum of squares and length. */
   listen(l: WindowListener): this { this.listeners.push(l); return this; }
@@ -32,9 +23,9 @@ export class FiniteWindows implements Accumulator {
   }
 
   afterChunk(): void {
-    const ended = this.s.get('ended'), { sums, squares } = this.arrays;
+    const ended = this.get('ended'), { sums, squares } = this.arrays;
     for (let w = 0; w < ended; w++) for (const l of this.listeners) l(sums[w], squares[w], this.length);
-    this.s.set('ended', 0);
+    this.set('ended', 0);
   }
 }
 

@@ -1,24 +1,17 @@
 // Amplitude histogram of the finite samples over fixed limits; without limits, an even sample of the stream kept by
 // reservoir sampling (Vitter 1985, algorithm R) for binning at the end.
 import type { ChannelContext } from '../stage.js';
-import { State, type Accumulator } from './accumulator.js';
+import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
 
 export const RESERVOIR = 8192;
 
-export class Histogram implements Accumulator {
-  readonly key: string;
-  private readonly s: State<'lo' | 'hi' | 'bins' | 'seen' | 'kept' | 'seed'>;
-  readonly names: readonly string[];
-  readonly state: Float64Array;
+export class Histogram extends Accumulating<'lo' | 'hi' | 'bins' | 'seen' | 'kept' | 'seed'> implements Accumulator {
   readonly arrays: { counts: Float64Array; reservoir: Float64Array };
   readonly finite: string;
 
   constructor(readonly limits: [number, number] | null, bins: number) {
-    this.key = `histogram:${limits?.join(':') ?? 'reservoir'}:${bins}`;
-    this.s = new State({ lo: limits?.[0] ?? 0, hi: limits?.[1] ?? 0, bins, seen: 0, kept: 0, seed: 0x9e3779b9 });
-    this.names = this.s.names;
-    this.state = this.s.values;
+    super(`histogram:${limits?.join(':') ?? 'reservoir'}:${bins}`, { lo: limits?.[0] ?? 0, hi: limits?.[1] ?? 0, bins, seen: 0, kept: 0, seed: 0x9e3779b9 });
     this.arrays = { counts: new Float64Array(bins), reservoir: new Float64Array(limits ? 0 : RESERVOIR) };
     this.finite = limits
       ? 'const b = Math.floor(((v - $lo) / ($hi - $lo)) * $bins); $counts[b < 0 ? 0 : b > $bins - 1 ? $bins - 1 : b]++;'
@@ -27,7 +20,7 @@ export class Histogram implements Accumulator {
 
   get counts(): Float64Array { return this.arrays.counts; }
   /** The kept sample (without limits). */
-  get sample(): Float64Array { return this.arrays.reservoir.subarray(0, this.s.get('kept')); }
+  get sample(): Float64Array { return this.arrays.reservoir.subarray(0, this.get('kept')); }
 }
 
 export const histogramOf = (ctx: ChannelContext, limits: [number, number] | null, bins: number) =>
