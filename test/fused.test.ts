@@ -133,7 +133,7 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
 
       // Histogram over fixed limits; without limits, an even sample by reservoir sampling (Vitter's algorithm R, same generator).
       const counts = new Float64Array(120);
-      for (const v of finite) counts[Math.min(119, Math.max(0, Math.floor(((v + 3) / 6) * 120)))]++;
+      for (const v of finite) counts[Math.min(119, Math.max(0, Math.floor((v + 3) * (120 / 6))))]++;
       expect(Array.from(hist.counts)).toEqual(Array.from(counts));
       const kept: number[] = [];
       let seed2 = 0x9e3779b9;
@@ -193,6 +193,23 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
       }
     });
   }
+
+  it('finds every outlier of a chunk that holds more of them than the pass keeps', () => {
+    const u = uniform(9);
+    const x = Float64Array.from({ length: 70_000 }, (_, i) => u() - 0.5 + (i % 20 === 7 ? 100 : 0));
+    const { ctx, shared } = context();
+    const outliers: number[] = [];
+    robustOutliersOf(ctx, 10, 0, (n) => outliers.push(n));
+    for (const p of shared.values()) { p.push(x.subarray(0, 65536)); p.push(x.subarray(65536)); }
+    const plainOut: number[] = [];
+    for (const [at, c] of [[0, x.subarray(0, 65536)], [65536, x.subarray(65536)]] as const) {
+      const sub = Float64Array.from(Array.from({ length: Math.ceil(c.length / 8) }, (_, j) => c[8 * j]));
+      const med = median(sub.slice()), limit = 10 * Math.max(1.4826 * median(sub.map((v) => Math.abs(v - med))), 1e-300);
+      c.forEach((v, i) => { if (Math.abs(v - med) > limit) plainOut.push(at + i); });
+    }
+    expect(plainOut.length).toBeGreaterThan(3000);
+    expect(outliers).toEqual(plainOut);
+  });
 
   it('compiles every accumulator of a channel into one loop, and refuses an undeclared name', () => {
     const { ctx, shared } = context();

@@ -49,6 +49,11 @@ class Kernels {
     return v;
   }
 
+  private readonly spare = new Map<number, number[]>();
+  /** Bytes for one user (a Welch accumulator's segment and sum), from those given back when there are. */
+  take(bytes: number): number { return this.spare.get(bytes)?.pop() ?? this.alloc(bytes); }
+  give(at: number, bytes: number): void { (this.spare.get(bytes) ?? this.spare.set(bytes, []).get(bytes)!).push(at); }
+
   /** A region kept under a name (scratch of a size, a window, a filter's gains), filled by `fill` the first time. */
   region(key: string, length: number, fill?: (v: Float64Array) => void): number {
     let at = this.regions.get(key);
@@ -98,6 +103,50 @@ class Kernels {
 
 let instance: Kernels | null = null;
 const kernels = () => (instance ??= new Kernels());
+
+// Memory of a PeriodogramSum never ended (its recording failed) goes back when it is collected.
+const unreturned = new FinalizationRegistry<[number, number]>(([at, bytes]) => kernels().give(at, bytes));
+
+/** A running sum of Welch's modified periodograms whose segment and sum live in the kernels' memory, so that adding a
+ *  segment copies nothing: fill segment(), call add(); end() returns the sum and gives the memory back. */
+export class PeriodogramSum {
+  private readonly at: number;
+  private readonly bytes: number;
+  private readonly plan: number;
+  private readonly window: number;
+  private ended: Float64Array | null = null;
+
+  constructor(readonly n: number, w: Float64Array, windowKey: string) {
+    const k = kernels();
+    this.plan = k.realPlan(n);
+    this.window = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
+    k.region(`re:${n}`, n / 2 + 1);
+    k.region(`im:${n}`, n / 2 + 1);
+    this.bytes = 8 * (n + n / 2 + 1);
+    this.at = k.take(this.bytes);
+    k.f64(this.at + 8 * n, n / 2 + 1).fill(0);
+    unreturned.register(this, [this.at, this.bytes], this);
+  }
+
+  /** The segment to fill, as a view of the kernels' memory (ask again after making other plans: memory may grow). */
+  segment(): Float64Array { return kernels().f64(this.at, this.n); }
+
+  /** Adds the periodogram of the segment: mean removed, windowed, |DFT|². */
+  add(): void {
+    const k = kernels(), n = this.n;
+    k.exports.periodogram_add(this.plan, this.at, this.window, k.region(`re:${n}`, n / 2 + 1), k.region(`im:${n}`, n / 2 + 1), this.at + 8 * n);
+  }
+
+  /** The sum of the periodograms added; the memory goes back (later calls return the same sum). */
+  end(): Float64Array {
+    if (!this.ended) {
+      this.ended = kernels().f64(this.at + 8 * this.n, this.n / 2 + 1).slice();
+      unreturned.unregister(this);
+      kernels().give(this.at, this.bytes);
+    }
+    return this.ended;
+  }
+}
 
 /** acc[k] += |X[k]|², k = 0 … n/2, X the DFT of w·(x − mean(x)) (Welch's modified periodogram); n = x.length, a power of two. */
 export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: string, acc: Float64Array): void {

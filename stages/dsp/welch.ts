@@ -1,5 +1,5 @@
 // Welch's method: averaged modified periodograms (Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967), streaming.
-import { periodogramAdd } from './fft-simd.js';
+import { PeriodogramSum, periodogramAdd } from './fft-simd.js';
 import { makeWindow, type WindowName } from './window.js';
 
 export interface WelchOptions { segment: number; overlap: number; window: WindowName }
@@ -15,52 +15,55 @@ export interface Psd {
 
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
-/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples. */
+/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples (in the FFT kernels' memory). */
 export class Welch {
-  private readonly buf: Float64Array;
   private fill = 0;
   private readonly hop: number;
-  private readonly sum: Float64Array;
   private count = 0;
   private readonly win: Float64Array;
+  private readonly sums: PeriodogramSum;
+  private density: Psd | null | undefined;
 
   constructor(private readonly fs: number, private readonly o: WelchOptions) {
     if (!isPowerOfTwo(o.segment)) throw new Error(`spectrum.segment must be a power of two, got ${o.segment}`);
-    this.buf = new Float64Array(o.segment);
     this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
-    this.sum = new Float64Array(o.segment / 2 + 1);
     this.win = makeWindow(o.window, o.segment);
+    this.sums = new PeriodogramSum(o.segment, this.win, o.window);
   }
 
   push(x: Float64Array): void {
+    const buf = this.sums.segment();
     let i = 0;
     while (i < x.length) {
-      const take = Math.min(x.length - i, this.buf.length - this.fill);
-      this.buf.set(x.subarray(i, i + take), this.fill);
+      const take = Math.min(x.length - i, buf.length - this.fill);
+      buf.set(x.subarray(i, i + take), this.fill);
       this.fill += take;
       i += take;
-      if (this.fill === this.buf.length) {
+      if (this.fill === buf.length) {
         // One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added (stages/dsp/fft-simd.c).
-        periodogramAdd(this.buf, this.win, this.o.window, this.sum);
+        this.sums.add();
         this.count++;
-        this.buf.copyWithin(0, this.hop);
+        buf.copyWithin(0, this.hop);
         this.fill -= this.hop;
       }
     }
   }
 
-  /** The density so far; a recording shorter than one segment is analysed as one segment of the largest power of two it fills. */
+  /** The density, once the signal has ended (later pushes are not counted); a recording shorter than one segment is
+   *  analysed as one segment of the largest power of two it fills. */
   result(): Psd | null {
-    if (this.count > 0) return scaleDensity(this.sum, this.count, this.win, this.fs);
-    let n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
-    if (n < 8) return null;
+    if (this.density !== undefined) return this.density;
+    if (this.count > 0) return (this.density = scaleDensity(this.sums.end(), this.count, this.win, this.fs));
+    const n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
+    const head = this.sums.segment().slice(0, n);
+    this.sums.end();
+    if (n < 8) return (this.density = null);
     const win = makeWindow(this.o.window, n);
     const sum = new Float64Array(n / 2 + 1);
-    periodogramAdd(this.buf.subarray(0, n), win, this.o.window, sum);
-    return scaleDensity(sum, 1, win, this.fs);
+    periodogramAdd(head, win, this.o.window, sum);
+    return (this.density = scaleDensity(sum, 1, win, this.fs));
   }
 }
-
 
 // Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).
 function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: number): Psd {

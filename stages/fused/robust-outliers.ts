@@ -8,25 +8,31 @@ import { median } from '../dsp/median.js';
 
 const STRIDE = 8;
 
-export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found'> implements Accumulator {
-  /** Indices of the current chunk's outliers, handed to the listener after it. */
-  readonly arrays = { hits: new Float64Array(0) };
+const KEPT = 1024;
+
+export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'room'> implements Accumulator {
+  /** Indices of the current chunk's outliers (the first KEPT of them), handed to the listener after it. */
+  readonly arrays = { hits: new Float64Array(KEPT) };
   // NaN is never beyond the limit; a chunk with too small a sample has an infinite limit.
-  readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) $hits[$found++] = n;';
+  readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) { if ($found < $room) $hits[$found] = n; $found++; }';
   private sub = new Float64Array(0);
 
   constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void) {
-    super(`robust-outliers:${sigmas}:${floor}`, { med: 0, limit: Infinity, found: 0 });
+    super(`robust-outliers:${sigmas}:${floor}`, { med: 0, limit: Infinity, found: 0, room: KEPT });
   }
 
-  afterChunk(): void {
+  afterChunk(x: Float64Array, n0: number): void {
     const found = this.get('found'), hits = this.arrays.hits;
-    for (let i = 0; i < found; i++) this.out(hits[i]);
+    if (found <= KEPT) for (let i = 0; i < found; i++) this.out(hits[i]);
+    else {
+      // A chunk with more outliers than the buffer holds (rare): find them again, in order.
+      const med = this.get('med'), limit = this.get('limit');
+      for (let i = 0; i < x.length; i++) { const d = x[i] - med; if (d > limit || d < -limit) this.out(n0 + i); }
+    }
     this.set('found', 0);
   }
 
   beforeChunk(x: Float64Array): void {
-    if (this.arrays.hits.length < x.length) this.arrays.hits = new Float64Array(x.length);
     if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = new Float64Array(Math.ceil(x.length / STRIDE));
     // Every STRIDE-th finite sample is plenty for the median and MAD of a chunk, at a fraction of the sorting.
     let m = 0;
