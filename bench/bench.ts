@@ -11,10 +11,10 @@ try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
   if (process.argv.includes('--profile')) profile();
   else {
-    const { full, kept, first, shapes, statsRate } = throughput();
+    const { full, kept, first, shapes, statsRate, statsReduceRate } = throughput();
     reruns(full, kept, first);
     manySmall();
-    summary(shapes, statsRate);
+    summary(shapes, statsRate, statsReduceRate);
   }
 } finally {
   rmSync(work, { recursive: true, force: true });

@@ -70,15 +70,20 @@ static void stage4(int n, int h, const double *tw, double *re, double *im) {
   }
 }
 
-/** Forward complex transform in place: bit-reversed input, natural-order output. */
-void cfft(const cplan *p, double *re, double *im) {
+// Every stage after the first.
+static void later_stages(const cplan *p, double *re, double *im) {
   int n = p->n;
-  first_stage(n, p->radix2_first, re, im);
   const double *tw = p->tw;
   for (int h = p->radix2_first ? 2 : 4; h < n; h *= 4) {
     stage4(n, h, tw, re, im);
     tw += 6 * h;
   }
+}
+
+/** Forward complex transform in place: bit-reversed input, natural-order output. */
+void cfft(const cplan *p, double *re, double *im) {
+  first_stage(p->n, p->radix2_first, re, im);
+  later_stages(p, re, im);
 }
 
 // X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2).
@@ -134,14 +139,33 @@ void analytic(const rplan *rp, const cplan *cp, const double *x, const double *g
   int n = cp->n, half = n / 2;
   rfft(rp, x, re, im);
   const unsigned *rev = cp->rev;
-  for (int k = 0; k <= half; k++) {
-    unsigned r = rev[k];
-    double gr = g[2 * k], gi = g[2 * k + 1];
-    sr[r] = gr * re[k] - gi * im[k];
-    si[r] = -(gr * im[k] + gi * re[k]);
+  // The inverse's input is conj(g·X) for k ≤ n/2 and zero above. In bit-reversed order the zeros are the odd places
+  // but place 1 (k = n/2), so the first stage is written straight from the even places, with no zeros stored.
+#define S(k, r_, i_) do { double gr = g[2 * (k)], gi = g[2 * (k) + 1]; r_ = gr * re[k] - gi * im[k]; i_ = -(gr * im[k] + gi * re[k]); } while (0)
+  double nr, ni;
+  S(half, nr, ni);
+  if (cp->radix2_first) {
+    for (int i = 0; i < n; i += 2) {
+      double ar, ai;
+      S(rev[i], ar, ai);
+      double br = i == 0 ? nr : 0, bi = i == 0 ? ni : 0;
+      sr[i] = ar + br; si[i] = ai + bi; sr[i + 1] = ar - br; si[i + 1] = ai - bi;
+    }
+  } else {
+    for (int g4 = 0; g4 < n; g4 += 4) {
+      double t0r, t0i, t1r, t1i;
+      S(rev[g4], t0r, t0i);
+      S(rev[g4 + 2], t1r, t1i);
+      double t2r = g4 == 0 ? nr : 0, t2i = g4 == 0 ? ni : 0; // D2 of the first group is place 1
+      double ar = t0r + t2r, ai = t0i + t2i, br = t0r - t2r, bi = t0i - t2i;
+      sr[g4] = ar + t1r; si[g4] = ai + t1i;
+      sr[g4 + 1] = br + t1i; si[g4 + 1] = bi - t1r;
+      sr[g4 + 2] = ar - t1r; si[g4 + 2] = ai - t1i;
+      sr[g4 + 3] = br - t1i; si[g4 + 3] = bi + t1r;
+    }
   }
-  for (int k = half + 1; k < n; k++) { unsigned r = rev[k]; sr[r] = 0; si[r] = 0; }
-  cfft(cp, sr, si);
+#undef S
+  later_stages(cp, sr, si);
   // z = conj of the result: Re z = sr, |z| = |result|.
   int i = from;
   for (; i + 1 < to; i += 2) {
