@@ -8,7 +8,7 @@
 // Before the start and after the end the signal is extended oddly (2·x₀ − x[k], as sosfiltfilt pads) or by zeros
 // (causal filtering from rest). Bounded memory: one block.
 import type { Section } from './butterworth.js';
-import { analyticBlock } from './fft-simd.js';
+import { AnalyticBlocks } from './fft-simd.js';
 
 export type Extension = 'odd' | 'zero';
 
@@ -58,12 +58,13 @@ export class AnalyticFilter {
   private readonly work: Float64Array;
   private readonly outRe: Float64Array;
   private readonly outAbs: Float64Array;
+  private readonly blocks: AnalyticBlocks;
   private seen = 0;
   private first = 0;
 
   constructor(
     /** The gains (analyticGains), made only the first time a thread meets `gainKey`. */
-    private readonly gains: () => Float64Array, private readonly gainKey: string, o: AnalyticOptions,
+    gains: () => Float64Array, gainKey: string, o: AnalyticOptions,
     private readonly emit: (re: Float64Array, abs: Float64Array) => void,
     private readonly extension: Extension = o.extension,
   ) {
@@ -79,6 +80,7 @@ export class AnalyticFilter {
     this.work = new Float64Array(o.size);
     this.outRe = new Float64Array(this.hop);
     this.outAbs = new Float64Array(this.hop);
+    this.blocks = new AnalyticBlocks(o.size, gains, gainKey);
   }
 
   push(x: Float64Array): void {
@@ -128,7 +130,7 @@ export class AnalyticFilter {
     w.set(this.buf);
     for (let i = 0; i < r; i++) { w[i] *= taper[i]; w[n - 1 - i] *= taper[i]; }
     const from = ctx, to = Math.min(n - ctx, end - this.bufStart);
-    analyticBlock(w, this.gains, this.gainKey, from, to, this.outRe, this.outAbs);
+    this.blocks.run(w, from, to, this.outRe, this.outAbs);
     this.emit(this.outRe.subarray(0, to - from), this.outAbs.subarray(0, to - from));
     this.buf.copyWithin(0, this.hop, n);
     this.bufStart += this.hop;

@@ -114,14 +114,16 @@ export class PeriodogramSum {
   private readonly bytes: number;
   private readonly plan: number;
   private readonly window: number;
+  private readonly re: number;
+  private readonly im: number;
   private ended: Float64Array | null = null;
 
   constructor(readonly n: number, w: Float64Array, windowKey: string) {
     const k = kernels();
     this.plan = k.realPlan(n);
     this.window = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
-    k.region(`re:${n}`, n / 2 + 1);
-    k.region(`im:${n}`, n / 2 + 1);
+    this.re = k.region(`re:${n}`, n / 2 + 1);
+    this.im = k.region(`im:${n}`, n / 2 + 1);
     this.bytes = 8 * (n + n / 2 + 1);
     this.at = k.take(this.bytes);
     k.f64(this.at + 8 * n, n / 2 + 1).fill(0);
@@ -133,8 +135,7 @@ export class PeriodogramSum {
 
   /** Adds the periodogram of the segment: mean removed, windowed, |DFT|². */
   add(): void {
-    const k = kernels(), n = this.n;
-    k.exports.periodogram_add(this.plan, this.at, this.window, k.region(`re:${n}`, n / 2 + 1), k.region(`im:${n}`, n / 2 + 1), this.at + 8 * n);
+    kernels().exports.periodogram_add(this.plan, this.at, this.window, this.re, this.im, this.at + 8 * this.n);
   }
 
   /** The sum of the periodograms added; the memory goes back (later calls return the same sum). */
@@ -184,18 +185,26 @@ export function complexDft(re: Float64Array, im: Float64Array): void {
   im.set(k.f64(ia, n));
 }
 
-/** Filtered analytic signal of a block x (length n): z = IDFT(g·DFT(x)), complex gains g (re, im interleaved) for
- *  k = 0 … n/2 (negative frequencies get none; g carries the transform's 1/n). Writes Re z and |z| of samples
- *  [from, to) into outRe and outAbs. */
-export function analyticBlock(x: Float64Array, g: () => Float64Array, gainKey: string, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
-  const k = kernels(), n = x.length;
-  const rp = k.realPlan(n), cp = k.complexPlan(n);
-  const xa = k.region(`x:${n}`, n), ga = k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(g()));
-  const re = k.region(`re:${n}`, n / 2 + 1), im = k.region(`im:${n}`, n / 2 + 1);
-  const sr = k.region(`cr:${n}`, n), si = k.region(`ci:${n}`, n);
-  const or = k.region(`or:${n}`, n), oa = k.region(`oa:${n}`, n);
-  k.f64(xa, n).set(x);
-  k.exports.analytic(rp, cp, xa, ga, re, im, sr, si, from, to, or, oa);
-  outRe.set(k.f64(or, to - from));
-  outAbs.set(k.f64(oa, to - from));
+/** The plans and memory of filtered analytic blocks of length n with one set of gains, looked up once. */
+export class AnalyticBlocks {
+  private readonly at: { rp: number; cp: number; x: number; g: number; re: number; im: number; sr: number; si: number; or: number; oa: number };
+
+  /** `gains` (re, im interleaved for k = 0 … n/2, with the inverse's 1/n) is made only the first time a thread meets `gainKey`. */
+  constructor(readonly n: number, gains: () => Float64Array, gainKey: string) {
+    const k = kernels();
+    this.at = {
+      rp: k.realPlan(n), cp: k.complexPlan(n), x: k.region(`x:${n}`, n), g: k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(gains())),
+      re: k.region(`re:${n}`, n / 2 + 1), im: k.region(`im:${n}`, n / 2 + 1), sr: k.region(`cr:${n}`, n), si: k.region(`ci:${n}`, n),
+      or: k.region(`or:${n}`, n), oa: k.region(`oa:${n}`, n),
+    };
+  }
+
+  /** z = IDFT(g·DFT(x)) for the block x (negative frequencies get none); Re z and |z| of samples [from, to) into outRe and outAbs. */
+  run(x: Float64Array, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
+    const k = kernels(), a = this.at, n = this.n;
+    k.f64(a.x, n).set(x);
+    k.exports.analytic(a.rp, a.cp, a.x, a.g, a.re, a.im, a.sr, a.si, from, to, a.or, a.oa);
+    outRe.set(k.f64(a.or, n).subarray(0, to - from));
+    outAbs.set(k.f64(a.oa, n).subarray(0, to - from));
+  }
 }

@@ -60,7 +60,7 @@ export class FusedPass implements Stage {
     const body = kernelSource(this.accs);
     let kernel = kernels.get(body);
     if (!kernel) {
-      kernel = new Function('x', 'from', 'to', 'n0', 'states', 'arrays', body) as Kernel;
+      kernel = new Function(`return function fusedKernel(x, from, to, n0, states, arrays) {\n${body}\n};`)() as Kernel;
       kernels.set(body, kernel);
     }
     this.states = this.accs.map((a) => a.state);
