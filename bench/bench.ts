@@ -4,8 +4,9 @@ import { rmSync } from 'node:fs';
 import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
 import { profile } from './profile.js';
-import { manySmall, reruns } from './sections/scale.js';
+import { manySmall, reruns, shortRecordings } from './sections/scale.js';
 import { summary, throughput } from './sections/throughput.js';
+import { trendsOverHistory } from './sections/trends.js';
 
 try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
@@ -13,7 +14,9 @@ try {
   else {
     const { full, kept, first, shapes, statsRate, statsReduceRate } = throughput();
     reruns(full, kept, first);
+    shortRecordings();
     manySmall();
+    trendsOverHistory();
     summary(shapes, statsRate, statsReduceRate);
   }
 } finally {

@@ -6,21 +6,21 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
-/** quern's runs also say how long the reduce phase took (workers started, recordings read and reduced; no start-up, declaration or writing). */
-export type QuernMeasurement = Measurement & { reduceSeconds: number; recomputed: number; reused: number; recordings: number };
+/** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included);
+ *  `reduceSeconds` the reduce phase alone (workers started, recordings read and reduced; no start-up, declaration or writing). */
+export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number; wallSeconds: number; reduceSeconds: number };
 
 export const here = dirname(fileURLToPath(import.meta.url));
 export const repo = join(here, '..', '..');
 export const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
 export const say = (s: string) => process.stdout.write(s + '\n');
 
-/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless
- *  one is given. `seconds` is the whole process, start to exit, as a user would time it (the peer is timed the same way). */
+/** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
 export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string, nodeOptions: string[] = []): QuernMeasurement {
   const t0 = performance.now();
-  const text = execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8' });
-  const seconds = (performance.now() - t0) / 1000;
-  return { ...JSON.parse(text.trim().split('\n').pop()!), seconds };
+  const text = execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 });
+  const wallSeconds = (performance.now() - t0) / 1000;
+  return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
 }
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */

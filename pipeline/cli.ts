@@ -11,10 +11,11 @@ import { summaryText } from './outputs/report.js';
 import { parseFormats, runExport } from './exports/export.js';
 import { runMerge } from './commands/merge.js';
 import { runReduce } from './run.js';
-import { parseShard, parseWhen } from './select/select.js';
+import { parseShard, parseSpan, parseWhen } from './select/select.js';
+import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 
-/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input. */
+/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, or a failed write. */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
 
 const EXPORT_FORMAT_OPTIONS = {
@@ -24,7 +25,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec).`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, or outputs that could not be written (the previous ones are kept).`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -33,7 +34,7 @@ async function main(argv: string[]): Promise<number> {
   const cli = yargs(argv)
     .scriptName('quern')
     .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
-    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet, windows.parquet, quality.json/.html and run.json', (y: Argv) => y
+    .command('reduce <archive>', 'Reduce every recording of an archive to features.parquet, windows.parquet, trends.parquet, spectra.parquet, quality.json/.html and run.json', (y: Argv) => y
       .positional('archive', { type: 'string', demandOption: true, describe: 'Archive folder with archive.yaml at its root' })
       .option('out', { type: 'string', describe: 'Output folder (also keeps the per-recording results a re-run reuses)', defaultDescription: '<archive>.reduced beside the archive' })
       .option('spec', { type: 'string', describe: 'Reduction spec (YAML)', defaultDescription: '<archive>/reduction.yaml, else the built-in default' })
@@ -45,12 +46,14 @@ async function main(argv: string[]): Promise<number> {
       .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
       .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
+      .option('stale-lock-after', { type: 'string', default: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       const exportTo = a.export ? parseFormats(a.export) : null;
-      let shard = null, since = null, until = null;
+      let shard = null, since = null, until = null, staleLockAfterMs = 0;
       try {
+        staleLockAfterMs = parseSpan(a.staleLockAfter);
         shard = a.shard ? parseShard(a.shard) : null;
         since = a.since ? parseWhen(a.since) : null;
         until = a.until ? parseWhen(a.until) : null;
@@ -58,7 +61,7 @@ async function main(argv: string[]): Promise<number> {
         throw new UsageError((e as Error).message);
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
-      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until });
+      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo && !shard) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
@@ -73,11 +76,12 @@ async function main(argv: string[]): Promise<number> {
     })
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
       .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' })
+      .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       const exportTo = a.export ? parseFormats(a.export) : null;
-      const { record, quality } = await runMerge(a.out as string);
+      const { record, quality } = await runMerge(a.out as string, { jobs: a.jobs });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
@@ -95,15 +99,22 @@ async function main(argv: string[]): Promise<number> {
     })
     .command('peek <recording>', 'Show one recording: header, channels, duration and statistics', (y: Argv) => y
       .positional('recording', { type: 'string', demandOption: true })
-      .option('format', { choices: ['wav', 'csv', 'raw'] as const, describe: 'Override the format inferred from the extension' })
+      .option('format', { choices: ['wav', 'flac', 'hdf5', 'csv', 'raw'] as const, describe: 'Override the format inferred from the extension' })
       .option('sample-rate', { type: 'number', describe: 'Sample rate in Hz (raw files, CSV without a time column)' })
       .option('sample-type', { choices: ['uint8', 'int16', 'int24', 'int32', 'float32', 'float64'] as const, describe: 'Raw files: sample type' })
       .option('channels', { type: 'number', describe: 'Raw files: channel count' })
       .option('byte-order', { choices: ['little', 'big'] as const, default: 'little' as const, describe: 'Raw files: byte order' })
-      .option('header-bytes', { type: 'number', default: 0, describe: 'Raw files: bytes to skip before the first frame' }),
+      .option('header-bytes', { type: 'number', default: 0, describe: 'Raw files: bytes to skip before the first frame' })
+      .option('dataset', { type: 'string', array: true, describe: 'HDF5 files: the dataset holding every channel, or one per channel (repeat the option)' })
+      .option('channel-axis', { choices: [0, 1] as const, describe: 'HDF5 files: 0 when the dataset\'s rows are channels, 1 when its columns are' })
+      .option('sample-rate-attribute', { type: 'string', describe: 'HDF5 files: attribute holding the sample rate ("name" or "/path@name")' })
+      .option('start-time-attribute', { type: 'string', describe: 'HDF5 files: attribute holding the start time' })
+      .option('start-time-tag', { type: 'string', describe: 'FLAC files: Vorbis comment tag holding the start time' }),
     async (a) => {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
-      const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout });
+      const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null } : null;
+      const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
+      const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, flac });
       if (r.status === 'failed') {
         process.stderr.write(`quern: ${a.recording}: ${r.reason}\n`);
         code = EXIT.someFailed;
@@ -139,7 +150,7 @@ async function main(argv: string[]): Promise<number> {
   try {
     await cli.parseAsync();
   } catch (e) {
-    if (e instanceof UsageError) {
+    if (e instanceof UsageError || e instanceof WriteFailed) {
       process.stderr.write(`quern: ${e.message}\n`);
       return EXIT.unusable;
     }

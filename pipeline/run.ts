@@ -1,22 +1,25 @@
-// The whole run on one screen: declare → scan → select → plan → decide (reuse) → reduce (worker pool) → store → write → report.
+// The whole run on one screen: lock → declare → scan → select → plan → decide (reuse) → reduce (worker pool, in batches)
+// → store (packs) → write (streamed, or left as they are when their digest says so) → report.
 import { randomUUID } from 'node:crypto';
-import { mkdir } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from './outputs/atomic.js';
-import { groupKeys, writeEntry, type CacheEntry } from './plan/cache.js';
+import { activeStages } from '../stages/index.js';
+import { groupKeys } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
-import { FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
-import { loadParquetWriter } from './outputs/parquet.js';
+import { lockPath, takeLock } from './outputs/lock.js';
+import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
 import { toolVersion } from './declare/package-files.js';
-import { plan } from './plan/plan.js';
-import { reduceAll } from './reduce/pool.js';
+import { planJob } from './plan/plan.js';
+import { openPool, reduceAll } from './reduce/pool.js';
 import type { Progress } from './outputs/progress.js';
-import type { QualityReport } from './outputs/quality.js';
-import { assembleRecording } from './reduce/assemble.js';
-import { runRecord, type RunRecord } from './outputs/report.js';
-import { decide, mergeEntry } from './plan/reuse.js';
+import type { QualitySummary } from './outputs/quality.js';
+import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
+import { writing } from './outputs/staged.js';
+import { decide } from './plan/reuse.js';
 import { scan } from './select/scan.js';
-import { byStartTime, shardOf, updateIndex, type Shard } from './select/select.js';
+import { byStartTime, shardOf, type Shard } from './select/select.js';
+import { Store } from './store/store.js';
+import { trendOptions } from './trends/options.js';
+import { writeTrendsAndSpectra } from './trends/trends.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -33,69 +36,82 @@ export interface ReduceOptions {
   /** Only recordings starting in [since, until), ms since the epoch. */
   since?: number | null;
   until?: number | null;
+  /** A lock held from another host and not refreshed for this long is taken over. */
+  staleLockAfterMs?: number;
 }
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
 
-export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualityReport }> {
+export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const clock = (t0: number) => (performance.now() - t0) / 1000;
   const root = resolve(o.archive);
   const outDir = resolve(o.out ?? defaultOut(o.archive));
   const runId = randomUUID();
+  const shard = o.shard ?? null;
 
   let t = performance.now();
   const declaration = await loadArchiveDeclaration(root);
   const spec = await loadSpec(root, o.spec);
-  const scanned = await scan(root, declaration, { exclude: [outDir] });
-  let chosen = o.shard ? scanned.recordings.filter((r) => shardOf(r.recording, o.shard!.n) === o.shard!.k) : scanned.recordings;
-  if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, outDir, o.since ?? -Infinity, o.until ?? Infinity);
-  const keys = groupKeys(spec.spec, toolVersion);
-  const reuse = { out: outDir, version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash };
-  const decisions = await decide(plan(chosen, declaration.groups, spec.spec), reuse);
-  const scanS = clock(t);
+  const trends = trendOptions(spec.spec); // checked now, before any work
+  const lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
+  const pool = openPool(o.jobs);
+  let store: Store | null = null;
+  try {
+    const scanned = await scan(root, declaration, { exclude: [outDir] });
+    store = await Store.open(outDir, shard);
+    const s = store;
+    let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
+    if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
+    const keys = groupKeys(spec.spec, toolVersion);
+    const decisions = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const scanS = clock(t);
 
-  t = performance.now();
-  await mkdir(outDir, { recursive: true });
-  const todo = decisions.filter((d) => d.compute.length > 0);
-  const entries = new Map<string, CacheEntry>(decisions.filter((d) => d.compute.length === 0).map((d) => [d.job.recording, mergeEntry(d, null, reuse)]));
-  o.progress?.start(todo.length, entries.size);
-  void loadParquetWriter(); // loads while the workers reduce
-  const byName = new Map(todo.map((d) => [d.job.recording, d]));
-  await reduceAll(todo.map((d) => d.job), {
-    jobs: o.jobs,
-    onResult: async (fresh) => {
-      const d = byName.get(fresh.recording)!;
-      const entry = mergeEntry(d, fresh, reuse);
-      // Stored at once, atomically: a run killed later keeps this recording's work.
-      await writeEntry(outDir, entry);
-      entries.set(fresh.recording, entry);
-      o.progress?.done(fresh, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
-    },
-  });
-  o.progress?.stop();
-  const reduceS = clock(t);
+    t = performance.now();
+    // Entries confirmed by content now are stored again as they are; the rest of the work goes to the pool in batches.
+    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.store!.previous!, identity: d.store!.identity, readAtMs: d.store!.readAtMs }))));
+    const todo = decisions.filter((d) => d.store && !d.restamp);
+    const byName = new Map(todo.map((d) => [d.recording, d]));
+    o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
+    await reduceAll(pool, todo.map((d) => ({ job: d.job!, store: d.store! })), {
+      onBatch: async (results) => {
+        // Stored at once, a batch a write: a run killed later keeps this work.
+        await writing(s.own!, () => s.append(results));
+        for (const { facts } of results) {
+          const d = byName.get(facts.recording)!;
+          if (d.compute.length) o.progress?.done(facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
+        }
+      },
+    });
+    o.progress?.stop();
+    const reduceS = clock(t);
 
-  t = performance.now();
-  const labelsOf = new Map(declaration.groups.map((g) => [g.name, g.labels]));
-  const results = decisions.map((d) => assembleRecording(entries.get(d.job.recording)!, labelsOf.get(d.job.group) ?? {}, spec.spec));
-  const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
-  const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
-  const names = o.shard ? partNames(o.shard.k, o.shard.n) : FINAL_NAMES;
-  const quality = await writeOutputs(outDir, names, { results, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched });
-  const scannedByName = new Map(chosen.map((r) => [r.recording, r]));
-  await updateIndex(outDir, o.shard ?? null, decisions.map((d) => {
-    const s = scannedByName.get(d.job.recording)!, start = entries.get(d.job.recording)?.base?.header.start_time;
-    return { recording: d.job.recording, size: s.size, mtimeMs: s.mtimeMs, start_ms: start ? Date.parse(start) : s.mtimeMs };
-  }));
-  const writeS = clock(t);
+    t = performance.now();
+    const labelsOf = new Map(declaration.groups.map((g) => [g.name, g.labels]));
+    const labelsAt = declaration.groups.map((g) => g.labels);
+    const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
+    const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
+    const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
+    // Trends and spectra need every shard's results: a shard leaves them to quern merge.
+    const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
+    const changes = shard ? null : await writeTrendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
+    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
+    const compacted = await writing(s.own!, () => s.compact());
+    const writeS = clock(t);
 
-  const record = runRecord({
-    runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched, results, decisions,
-    timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS },
-    shard: o.shard ?? null, labels, labelsByGroup: Object.fromEntries(labelsOf),
-    period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length } : null,
-  });
-  await writeFileAtomic(join(outDir, o.shard ? `parts/run-${o.shard.k}-of-${o.shard.n}.json` : 'run.json'), JSON.stringify(record, null, 2) + '\n');
-  return { record, quality };
+    const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
+    const record = runRecord({
+      runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
+      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)),
+      timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
+      period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length } : null,
+      damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,
+    });
+    await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
+    return { record, quality: written.quality };
+  } finally {
+    await pool.destroy();
+    await store?.close();
+    await lock.release();
+  }
 }

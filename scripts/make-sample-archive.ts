@@ -23,14 +23,19 @@ const VANES = 6;
 const BPFO = 3.58 * SHAFT_HZ; // outer-race defect rate of the drive-end bearing
 const RESONANCE_HZ = 3500; // structural resonance the bearing impacts ring
 
-/** Bearing-housing acceleration in m/s²: shaft and vane-pass tones, noise, and (when damaged) impacts ringing a resonance. */
+/**
+ * Bearing-housing acceleration in m/s²: shaft and vane-pass tones, noise, and, when damaged, the outer-race defect: its rate and
+ * harmonics (177, 354, … 886 Hz) growing with the damage, and impacts at that rate ringing a resonance.
+ */
 function acceleration(fs: number, seconds: number, seed: number, damage: number, burst = 0): Float64Array {
   const r = random(seed);
   const n = Math.round(fs * seconds);
   const x = new Float64Array(n);
+  const defect = Array.from({ length: 5 }, (_, k) => ({ f: (k + 1) * BPFO, a: 0.25 * damage * 0.8 ** k, phase: 0.7 * k }));
   for (let i = 0; i < n; i++) {
     const t = i / fs;
     x[i] = 2.0 * Math.sin(2 * Math.PI * SHAFT_HZ * t + 0.3) + 3.0 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * t) + 0.8 * r.gauss();
+    if (damage > 0) for (const d of defect) x[i] += d.a * Math.sin(2 * Math.PI * d.f * t + d.phase);
   }
   if (damage > 0) {
     for (let k = 0, t0 = 0.002; t0 < seconds; k++, t0 = 0.002 + k / BPFO) {
@@ -42,6 +47,15 @@ function acceleration(fs: number, seconds: number, seed: number, damage: number,
     }
   }
   return x;
+}
+
+/** A 5 V once-per-revolution pulse at τ seconds into the revolution: high for 10 % of it, raised-cosine edges of 0.4 ms. */
+function tachoPulse(tau: number, edgeS = 0.0004): number {
+  const fall = 0.1 / SHAFT_HZ;
+  if (tau < edgeS) return 2.5 * (1 - Math.cos((Math.PI * tau) / edgeS));
+  if (tau < fall) return 5;
+  if (tau < fall + edgeS) return 2.5 * (1 + Math.cos((Math.PI * (tau - fall)) / edgeS));
+  return 0;
 }
 
 const clip = (x: Float64Array, lo: number, hi: number) => x.map((v) => Math.min(hi, Math.max(lo, v)));
@@ -59,15 +73,16 @@ export function makeSampleArchive(root: string): void {
     const day = 16 + night;
     const date = `2026-11-${day}`;
     const r = random(1000 + night);
-    // The drive-end bearing degrades over the week; on the 19th a loose mount rattles hard enough to clip.
-    const damage = night < 2 ? 0 : 4 * (night - 1);
+    // The drive-end bearing is sound for the first three nights, then degrades; on the 19th a loose mount also rattles hard enough
+    // to clip. The non-drive end, across the casing, feels an eighth of it.
+    const damage = night < 3 ? 0 : 6 * (night - 2);
     const accDe = acceleration(FS, SECONDS, 10 + night, damage, night === 3 ? 900 : 0);
-    const accNde = acceleration(FS, SECONDS, 20 + night, damage / 4);
+    const accNde = acceleration(FS, SECONDS, 20 + night, damage / 8);
     const mic = new Float64Array(n).map((_, i) => 0.6 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.2 * r.gauss());
     // Discharge pressure, bar; on the 21st the transducer cable is off and the channel sits at a constant code.
     const pressure = night === 5 ? new Float64Array(n).fill(8.0) : new Float64Array(n).map((_, i) => 6.2 + 0.05 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * i / FS) + 0.01 * r.gauss());
-    // Tachometer: one 5 V pulse per revolution, 10 % duty.
-    const tacho = new Float64Array(n).map((_, i) => ((i / FS) * SHAFT_HZ) % 1 < 0.1 ? 5 : 0);
+    // Tachometer: one 5 V pulse per revolution, 10 % duty, its edges rounded by the sensor and the anti-alias filter.
+    const tacho = new Float64Array(n).map((_, i) => tachoPulse((((i / FS) * SHAFT_HZ) % 1) / SHAFT_HZ));
     const wav = encodeWav({
       sampleRate: FS,
       origination: new Date(Date.UTC(2026, 10, day, 2, 0, 0)),
@@ -123,7 +138,7 @@ ${ACC('acc_de')}
 ${ACC('acc_nde')}
       - { name: mic, quantity: sound_pressure, unit: Pa, scale: 200, range: [-200, 200], bits: 16, max_frequency_hz: 5000 }
       - { name: pressure, quantity: pressure, unit: bar, scale: 8, offset: 8, range: [0, 16], bits: 16, max_frequency_hz: 1000 }
-      - { name: tacho, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 2500 }
+      - { name: tacho, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 2500, pulses_per_rev: 1 }
   - name: quick-look
     match: "quicklook/*.wav"
     sample_rate: 2000
@@ -152,8 +167,9 @@ const README = `# Sample archive: pump endurance rig P3 (invented)
 A demo archive made by \`scripts/make-sample-archive.ts\` (run \`npm run make-sample\`); every value is synthetic.
 A centrifugal pump runs at 2970 rpm (49.5 Hz, six vanes) on an endurance rig; each night at 02:00 the rig
 captures 4 s of five channels at 12.8 kHz: drive-end and non-drive-end bearing-housing accelerometers, a microphone,
-the discharge pressure and a once-per-revolution tachometer pulse. The drive-end bearing's outer race degrades
-over the week, ringing a 3.5 kHz resonance at the outer-race defect rate (about 177 Hz).
+the discharge pressure and a once-per-revolution tachometer pulse. The drive-end bearing is sound for the first three
+nights, then its outer race degrades: tones at the outer-race defect rate (about 177 Hz) and its harmonics grow, and the
+impacts ring a 3.5 kHz resonance, so the drive-end envelope and band figures climb night after night.
 
 Planted defects, for quern to catch:
 - \`nightly/2026-11-19\`: acc_de clips at its instrument range (±500 m/s²) under a loose-mount rattle.

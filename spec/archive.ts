@@ -1,4 +1,6 @@
 // archive.yaml as quern reads it: what the recordings are. Types only, read by the run and by the stages alike.
+import type { FlacOptions } from '../stages/read/flac.js';
+import type { Hdf5Layout } from '../stages/read/hdf5.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 
@@ -11,6 +13,10 @@ export interface ChannelDeclaration {
   range: [number, number] | null;
   bits: number | null;
   max_frequency_hz: number | null;
+  /** Shaft pulses per revolution of a tacho channel; its trigger level and hysteresis (engineering units) when declared, else found from the signal. */
+  pulses_per_rev?: number;
+  trigger_level?: number | null;
+  trigger_hysteresis?: number | null;
 }
 
 export interface GroupDeclaration {
@@ -20,6 +26,10 @@ export interface GroupDeclaration {
   sample_rate: number | null;
   labels: Record<string, string>;
   layout: RawLayout | null;
+  /** Where HDF5 files hold their samples, rate and start time. */
+  hdf5: Hdf5Layout | null;
+  /** How FLAC files are read (the Vorbis comment tag holding the start time). */
+  flac: FlacOptions | null;
   channels: ChannelDeclaration[] | null;
   /** Expected length of each recording, s, when declared. */
   duration_s: number | null;

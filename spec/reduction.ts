@@ -17,6 +17,26 @@ export interface ReductionSpec {
   time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
   mtvv?: { integration_s?: number } & Only;
   envelope?: { filter: FilterSpec } & Only;
+  sound_level?: Only;
+  rainflow?: { slope?: number; gate?: number; bins?: { range_width?: number; mean_width?: number } } & Only;
+  orders?: { orders?: number[]; width?: number } & Only;
   quality?: QualitySpec;
+  trends?: TrendsSpec;
 }
-type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number } & Only;
+
+/** Section `trends`: each watched feature of each recording against its channel's baseline (defaults in schemas/reduction.schema.json). */
+export interface TrendsSpec {
+  /** Feature columns to watch, by name or glob; those the spec does not compute are passed over. */
+  features?: string[];
+  /** The first N usable recordings of each group × channel by start time, or the recordings starting in [from, until). */
+  baseline?: { first: number } | { from: string; until: string };
+  /** |level change| in dB beyond which a level-like feature has changed. */
+  change_db?: number;
+  /** |robust z-score| beyond which a feature has changed. */
+  score?: number;
+  /** Least spread the score divides by, as a fraction of |baseline median|. */
+  spread_floor?: number;
+  /** Absolute limits per feature, in the feature's unit: at or above `warn` at least changed, at or above `alarm` alarm. */
+  limits?: Record<string, { warn?: number; alarm?: number }>;
+}
+type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number; levels_db?: boolean } & Only;

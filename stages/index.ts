@@ -6,7 +6,13 @@ import type { WelchOptions } from './dsp/welch.js';
 import { envelope } from './envelope.js';
 import { mtvv } from './mtvv.js';
 import { octaveBands } from './octave.js';
+import { rainflow } from './rainflow.js';
+import { soundEnergy } from './sound-energy.js';
+import { soundMaxima } from './sound-maxima.js';
+import { orders, orderTacho } from './orders.js';
+import { keptSpectrum } from './spectra.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
+import { speed } from './speed.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
 import { timeWeighting } from './time-weighting.js';
@@ -35,10 +41,13 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   const welch: WelchOptions = { ...DEFAULT_SPECTRUM, ...(spec.spectrum ?? {}) };
   delete (welch as { only?: unknown }).only;
   const out: ActiveStage[] = [{ definition: statistics, options: {}, only: spec.statistics?.only }];
-  if (spec.spectrum) out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
+  if (spec.spectrum) {
+    out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
+    out.push({ definition: keptSpectrum, options: welch, only: spec.spectrum.only });
+  }
   if (spec.bands) out.push({ definition: bands, options: { ranges: rangesOf(spec.bands), spectrum: welch }, only: onlyOf(spec.bands) });
   if (spec.octave_bands) {
-    const sets = (Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands]).map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000 }));
+    const sets = (Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands]).map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000, ...(s.levels_db ? { levels_db: true } : {}) }));
     out.push({ definition: octaveBands, options: { sets, spectrum: welch }, only: Array.isArray(spec.octave_bands) ? spec.octave_bands[0]?.only : spec.octave_bands.only });
   }
   if (spec.velocity_bands) out.push({ definition: velocity, options: { ranges: rangesOf(spec.velocity_bands), spectrum: welch }, only: onlyOf(spec.velocity_bands) ?? { quantities: ['acceleration'] } });
@@ -51,6 +60,20 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   if (spec.envelope) {
     const filter: FilterSpec = { zero_phase: false, ...spec.envelope.filter };
     out.push({ definition: envelope, options: { filter, spectrum: welch }, only: spec.envelope.only });
+  }
+  if (spec.sound_level) {
+    const only = spec.sound_level.only ?? { quantities: ['sound_pressure'] };
+    out.push({ definition: soundEnergy, options: { spectrum: welch }, only }, { definition: soundMaxima, options: {}, only });
+  }
+  if (spec.rainflow) {
+    const r = spec.rainflow;
+    out.push({ definition: rainflow, options: { slope: r.slope ?? 5, gate: r.gate ?? 0, bins: r.bins ?? null }, only: r.only ?? { quantities: ['strain', 'stress'] } });
+  }
+  // A channel declared with pulses_per_rev gets its shaft speed whatever the spec: the declaration asks for it.
+  out.push({ definition: speed, options: {}, only: undefined });
+  if (spec.orders) {
+    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch };
+    out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: {}, only: undefined });
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };

@@ -1,10 +1,11 @@
 // Fractional-octave band RMS from the Welch spectrum, with the base-10 mid-band frequencies and edges of IEC 61260-1:2014.
 import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
+import { LEVEL_UNIT, levelDb, pascalsPer } from './sound-pressure.js';
 import { spectrumOf } from './spectrum.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 
-export interface OctaveOptions { sets: { fraction: 1 | 3; from: number; to: number }[]; spectrum: WelchOptions }
+export interface OctaveOptions { sets: { fraction: 1 | 3; from: number; to: number; levels_db?: boolean }[]; spectrum: WelchOptions }
 
 /** Octave ratio G = 10^(3/10), base-10 system (IEC 61260-1 §5.2). */
 export const G = 10 ** (3 / 10);
@@ -35,16 +36,25 @@ export function bandsOf(fraction: 1 | 3, from: number, to: number) {
   return out;
 }
 
-const col = (b: number, nominal: number) => `oct${b}_${hzName(nominal)}_rms`;
+const col = (b: number, nominal: number, what: 'rms' | 'db' = 'rms') => `oct${b}_${hzName(nominal)}_${what}`;
 
 export const octaveBands: StageDefinition<OctaveOptions> = {
   group: 'octave_bands',
-  columns: (o) => o.sets.flatMap((set): ColumnSpec[] => bandsOf(set.fraction, set.from, set.to).map((band) => ({
-    name: col(set.fraction, band.nominal), unit: '[unit]',
-    description: `RMS in the ${set.fraction === 1 ? 'octave' : 'one-third-octave'} band ${band.nominal} Hz (exact edges ${band.lower.toFixed(2)}–${band.upper.toFixed(2)} Hz, IEC 61260-1 base 10), from the Welch PSD with ideal band edges.`,
-  }))),
+  columns: (o) => o.sets.flatMap((set): ColumnSpec[] => {
+    const bands = bandsOf(set.fraction, set.from, set.to);
+    const kind = set.fraction === 1 ? 'octave' : 'one-third-octave';
+    return [
+      ...bands.map((band) => ({
+        name: col(set.fraction, band.nominal), unit: '[unit]',
+        description: `RMS in the ${kind} band ${band.nominal} Hz (exact edges ${band.lower.toFixed(2)}–${band.upper.toFixed(2)} Hz, IEC 61260-1 base 10), from the Welch PSD with ideal band edges.`,
+      })),
+      ...(set.levels_db ? bands.map((band) => ({ name: col(set.fraction, band.nominal, 'db'), unit: LEVEL_UNIT, description: `Sound pressure level in the ${kind} band ${band.nominal} Hz, from its RMS; sound-pressure channels in Pa (or mPa, µPa, hPa, kPa) only, null for others.` })) : []),
+    ];
+  }),
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
+    // Levels only for sound pressure: dB re 20 µPa means nothing for a hydraulic pressure.
+    const pa = ctx.quantity === 'sound_pressure' ? pascalsPer(ctx.unit) : undefined;
     return {
       push() {},
       finish() {
@@ -55,7 +65,9 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
           for (const band of bandsOf(set.fraction, set.from, set.to)) {
             const ok = psd && band.upper <= ctx.sampleRate / 2;
             if (psd && !ok) above.push(band.nominal);
-            out[col(set.fraction, band.nominal)] = ok ? Math.sqrt(bandMeanSquare(psd!, band.lower, band.upper)) : null;
+            const ms = ok ? bandMeanSquare(psd!, band.lower, band.upper) : null;
+            out[col(set.fraction, band.nominal)] = ms == null ? null : Math.sqrt(ms);
+            if (set.levels_db) out[col(set.fraction, band.nominal, 'db')] = ms == null || pa === undefined ? null : levelDb(ms * pa * pa);
           }
         }
         if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${above[0]} Hz and up) reach above the Nyquist frequency ${ctx.sampleRate / 2} Hz; left empty (null)`);

@@ -33,7 +33,27 @@ export interface ChannelContext {
   note(message: string): void;
   /** Adds a row to a secondary table of the run (windows.parquet…). */
   addRow(table: string, row: Record<string, number | null>): void;
+  /** The shaft-pulse declaration when this is a tacho channel (pulses_per_rev declared), else absent or null. */
+  tacho?: TachoDeclaration | null;
+  /**
+   * A product shared by all channels of the recording (a tacho channel's shaft speed…): made once, on first request, by any channel.
+   * Publish into it when a stage is created; read it in finish(), when every channel has seen every chunk. Absent outside a recording.
+   */
+  recordingShared?<T>(key: string, make: () => T): T;
+  /** Keeps a compact value with the recording's stored result (not a table row): read later from the cache, e.g. spectra for trends. */
+  keep?(name: string, value: KeptValue): void;
 }
+
+/** What archive.yaml says about a tacho channel's pulses. */
+export interface TachoDeclaration {
+  pulsesPerRev: number;
+  /** Trigger level and hysteresis width in engineering units; null: found from the signal. */
+  triggerLevel: number | null;
+  triggerHysteresis: number | null;
+}
+
+/** A compact value kept per channel with a recording's result: numbers and packed arrays (base64 text). */
+export type KeptValue = Record<string, number | string>;
 
 /** A column a stage contributes to features.parquet. */
 export interface ColumnSpec {

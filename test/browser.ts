@@ -41,3 +41,14 @@ export async function launchBrowser(): Promise<Browser> {
     env: { ...process.env, LD_LIBRARY_PATH: [join(dir, 'lib'), process.env.LD_LIBRARY_PATH].filter(Boolean).join(':'), FONTCONFIG_PATH: dir, FONTCONFIG_FILE: join(dir, 'fonts.conf') },
   });
 }
+
+/** Opens a local page, collecting console errors, page errors and any request that leaves the file system. */
+export async function openPage(browser: Browser, file: string, viewport = { width: 1300, height: 900 }) {
+  const page = await browser.newPage({ viewport });
+  const errors: string[] = [];
+  page.on('console', (m) => { if (m.type() === 'error') errors.push(m.text()); });
+  page.on('pageerror', (e) => errors.push(String(e)));
+  page.on('request', (r) => { if (!r.url().startsWith('file:')) errors.push(`network request: ${r.url()}`); });
+  await page.goto(`file://${file}`);
+  return { page, errors };
+}

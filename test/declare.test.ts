@@ -28,16 +28,28 @@ describe('archive declaration', () => {
       'groups:', //                      1
       '  - name: g', //                  2
       '    match: "*.wav"', //           3
-      '    format: flac', //             4
+      '    format: mp3', //              4
       '    channels:', //                5
       '      - name: a', //              6
       '        range: [5]', //           7
       '        sensitivity: 3', //       8
     ].join('\n');
     const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
-    expect(message).toMatch(/archive\.yaml:4: groups\[0\]\.format: must be one of "wav", "csv", "raw"/);
+    expect(message).toMatch(/archive\.yaml:4: groups\[0\]\.format: must be one of "wav", "csv", "raw", "flac", "hdf5"/);
     expect(message).toMatch(/archive\.yaml:7: groups\[0\]\.channels\[0\]\.range: must NOT have fewer than 2 items/);
     expect(message).toMatch(/archive\.yaml:8: groups\[0\]\.channels\[0\]\.sensitivity: unknown key "sensitivity"/);
+  });
+
+  it('reads HDF5 and FLAC sections, and asks HDF5 groups for a sample rate and a fitting channel list', async () => {
+    const good = 'groups:\n  - name: h\n    match: "*.h5"\n    hdf5: { datasets: acq/x, channel_axis: 0, sample_rate_attribute: fs }\n  - name: f\n    match: "*.flac"\n    flac: { start_time_tag: START_TIME }\n';
+    const d = await loadArchiveDeclaration(archiveWith(good));
+    expect(d.groups[0].hdf5).toEqual({ datasets: ['/acq/x'], channel_axis: 0, sample_rate_attribute: 'fs', start_time_attribute: null });
+    expect(d.groups[1].flac).toEqual({ start_time_tag: 'START_TIME' });
+    const bad = 'groups:\n  - name: h\n    match: "*.h5"\n    hdf5: { datasets: [/a, /b] }\n    channels: [{ name: x }]\n  - name: g\n    match: "*.hdf5"\n    format: hdf5\n';
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(bad)));
+    expect(message).toMatch(/groups\[0\]\.hdf5: HDF5 files need a sample rate/);
+    expect(message).toMatch(/hdf5\.datasets names 2 datasets \(one per channel\) but 1 channels are declared/);
+    expect(message).toMatch(/groups\[1\]: format hdf5 needs an hdf5 section/);
   });
 
   it('catches what the schema cannot: reversed ranges, duplicate names, raw files without layout', async () => {
@@ -47,6 +59,16 @@ describe('archive declaration', () => {
     expect(message).toMatch(/:7: groups\[0\]\.channels\[1\]\.name: channel name "a" appears twice/);
     expect(message).toMatch(/:2: groups\[0\]: format raw needs a layout/);
     expect(message).toMatch(/format raw needs sample_rate/);
+  });
+
+  it('reads a tacho channel, and refuses a trigger on a channel without pulses_per_rev', async () => {
+    const d = await loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: t, unit: V, pulses_per_rev: 2, trigger_level: 2.5 }\n      - { name: a }\n'));
+    expect(d.groups[0].channels![0]).toMatchObject({ name: 't', pulses_per_rev: 2, trigger_level: 2.5, trigger_hysteresis: null });
+    expect(d.groups[0].channels![1]).not.toHaveProperty('pulses_per_rev');
+    const trigger = await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: a, trigger_level: 1 }\n')));
+    expect(trigger).toMatch(/:5: groups\[0\]\.channels\[0\]\.trigger_level: trigger_level applies to a tacho channel only; declare pulses_per_rev/);
+    const zero = await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: b, pulses_per_rev: 0 }\n')));
+    expect(zero).toMatch(/:5: groups\[0\]\.channels\[0\]\.pulses_per_rev: must be >= 1/);
   });
 
   it('reports YAML syntax errors with their line, and a missing declaration with what to do', async () => {

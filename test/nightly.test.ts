@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
+import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
 import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 
@@ -19,7 +20,7 @@ describe('incremental re-runs', () => {
   it('recomputes nothing when nothing changed, and writes identical tables', async () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
-    const before = await table(join(out, 'features.parquet')), windowsBefore = await table(join(out, 'windows.parquet'));
+    const before = await table(join(out, 'features.parquet')), windowsBefore = await table(join(out, 'windows.parquet')), trendsBefore = await table(join(out, 'trends.parquet'));
     quern('reduce', archive, '--out', out, '--quiet');
     const run = readJson(join(out, 'run.json'));
     expect(run.counts.recomputed).toBe(0);
@@ -27,6 +28,7 @@ describe('incremental re-runs', () => {
     expect(run.recordings.find((r: any) => r.recording === 'nightly/2026-11-16/pump-endurance.wav').why).toBe('unchanged');
     expect(await table(join(out, 'features.parquet'))).toEqual(before);
     expect(await table(join(out, 'windows.parquet'))).toEqual(windowsBefore);
+    expect(await table(join(out, 'trends.parquet'))).toEqual(trendsBefore);
   });
 
   it('changing the envelope filter recomputes only the envelope group; every other column is reused bit for bit', async () => {
@@ -39,7 +41,7 @@ describe('incremental re-runs', () => {
     quern('reduce', archive, '--out', out, '--quiet');
     const run = readJson(join(out, 'run.json'));
     for (const r of run.recordings.filter((x: any) => x.status === 'reduced')) {
-      expect(r.recomputed).toEqual(['envelope']);
+      expect([r.why, r.recomputed]).toEqual(["spec changed for envelope", ["envelope"]]);
       expect(r.why).toBe('spec changed for envelope');
     }
     const after = await table(join(out, 'features.parquet'));
@@ -111,12 +113,12 @@ describe('crash safety', () => {
     for (let d = 0; d < 24; d++) cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', `2026-12-${String(d + 1).padStart(2, '0')}`), { recursive: true });
     const killed = join(base, 'killed'), clean = join(base, 'clean');
     const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', killed, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
-    const entries = () => (existsSync(join(killed, 'cache')) ? (readdirSync(join(killed, 'cache'), { recursive: true }) as string[]).filter((f) => f.endsWith('.json')).length : 0);
+    const entries = async () => { let n = 0; await scanPack(join(killed, 'cache', 'entries.pack'), () => n++); return n; };
     const deadline = Date.now() + 60_000;
-    while (entries() < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    while ((await entries()) < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
     child.kill('SIGKILL');
     await new Promise((r) => child.on('exit', r));
-    const stored = entries();
+    const stored = await entries();
     expect(stored).toBeGreaterThanOrEqual(5);
     expect(stored).toBeLessThan(34); // killed before the end
     expect(existsSync(join(killed, 'features.parquet'))).toBe(false); // never half-written: absent until the end
@@ -150,7 +152,8 @@ describe('sharding', () => {
     expect(await table(join(shared, 'features.parquet'))).toEqual(one);
     expect(parts).toEqual(one);
     expect(await table(join(shared, 'windows.parquet'))).toEqual(await table(join(single, 'windows.parquet')));
-    const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched }; };
+    for (const name of ['trends', 'spectra']) expect(await table(join(shared, `${name}.parquet`)), name).toEqual(await table(join(single, `${name}.parquet`)));
+    const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched, changes: j.changes }; };
     expect(q(join(shared, 'quality.json'))).toEqual(q(join(single, 'quality.json')));
     expect(existsSync(join(shared, 'quality.html'))).toBe(true);
   });

@@ -105,8 +105,34 @@ describe('quern reduce on the sample archive', () => {
     expect(w.find((r: any) => r.recording === 'nightly/2026-11-16/pump-endurance.wav' && r.channel === 'mic')).toMatchObject({ n: 4, ws: 1 });
   });
 
+  it('gives the microphone sound levels and the strain gauges rainflow figures, and DuckDB reads cycles.parquet', async () => {
+    const f = join(out, 'features.parquet');
+    const rows = await duck(`select * from '${f}' where channel in ('mic', 'strain_a', 'strain_b', 'acc_de') order by recording, channel`);
+    const sound = ['laeq', 'lceq', 'lzeq', 'lafmax', 'lasmax', 'lcpeak', 'a_filter_deviation_db', 'c_filter_deviation_db', 'oct3_315_db'];
+    const fatigue = ['cycles_total', 'range_max', 'damage_equivalent_range'];
+    for (const row of rows) {
+      for (const c of sound) expect(typeof row[c], `${row.channel} ${c}`).toBe(row.channel === 'mic' ? 'number' : 'object');
+      for (const c of fatigue) expect(typeof row[c], `${row.channel} ${c}`).toBe(String(row.channel).startsWith('strain') ? 'number' : 'object');
+    }
+    const mic = rows.find((r: any) => r.channel === 'mic')!;
+    // The demo microphone: a 0.6 Pa vane-pass tone at 297 Hz and 0.2 Pa RMS of broadband noise, about 87.4 dB unweighted.
+    expect(mic.lzeq as number).toBeCloseTo(10 * Math.log10((0.6 ** 2 / 2 + 0.2 ** 2) / 20e-6 ** 2), 0);
+    expect(mic.laeq as number).toBeLessThan(mic.lzeq as number);
+    expect(mic.a_filter_deviation_db as number).toBeLessThan(0.3); // the digital A weighting at 12.8 kHz
+    const units = JSON.parse((await duck(`select decode(value) v from parquet_kv_metadata('${f}') where decode(key) = 'quern.units'`))[0].v as string);
+    expect(units).toMatchObject({ laeq: 'dB re 20 µPa', lcpeak: 'dB re 20 µPa', oct3_315_db: 'dB re 20 µPa', cycles_total: '1', damage_equivalent_range: '[unit]' });
+    const cycles = await duck(`select channel, unit, sum(count) n, max(range) r from '${join(out, 'cycles.parquet')}' group by all order by channel`);
+    expect(cycles.map((c: any) => c.channel)).toEqual(['strain_a', 'strain_b']);
+    for (const c of cycles) {
+      const row = rows.find((r: any) => r.channel === c.channel)!;
+      expect(c.unit).toBe('µm/m');
+      expect(c.n).toBe(row.cycles_total);
+      expect(c.r).toBe(row.range_max);
+    }
+  });
+
   it('leaves no temporary files behind', () => {
-    expect(readdirSync(out).sort()).toEqual(['cache', 'features.parquet', 'quality.html', 'quality.json', 'run.json', 'windows.parquet']);
+    expect(readdirSync(out).sort()).toEqual(['cache', 'cycles.parquet', 'features.parquet', 'outputs.json', 'quality.html', 'quality.json', 'run.json', 'spectra.parquet', 'trends.parquet', 'windows.parquet']);
     const all = readdirSync(out, { recursive: true }) as string[];
     expect(all.filter((f) => f.endsWith('.tmp'))).toEqual([]);
   });

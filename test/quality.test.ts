@@ -83,13 +83,24 @@ describe('peak capture', () => {
     expect(1 - Math.max(...samples)).toBeCloseTo(peakUnderestimate(10), 12);
   });
 
-  it('warns below ten samples per cycle at the declared highest frequency, reporting the worst-case underestimate', async () => {
-    const x = Float64Array.from({ length: 1000 }, (_, i) => Math.sin(i / 3));
-    const low = await flagsOf(x, 1000, channel({ max_frequency_hz: 200 }));
-    expect(low.flag('peak_capture').severity).toBe('warn');
-    expect(low.row.samples_per_cycle).toBe(5);
-    expect(low.row.peak_underestimate).toBeCloseTo(1 - Math.cos(Math.PI / 5), 12);
-    expect((await flagsOf(x, 1000, channel({ max_frequency_hz: 100 }))).flag('peak_capture').severity).toBe('ok');
+  it('judges the signal: a tone whose samples always straddle its crests warns, with the 4× true peak (ITU-R BS.1770-4 Annex 2) beside the sampled one', async () => {
+    // 250 Hz at 1000 Hz, crests midway between samples: every sample reads cos(π/4) of the amplitude (derived).
+    const x = Float64Array.from({ length: 4000 }, (_, n) => 3 * Math.cos(2 * Math.PI * (n + 0.5) / 4));
+    const { flag, row } = await flagsOf(x, 1000, channel({ max_frequency_hz: 250 }));
+    expect(row.samples_per_cycle).toBe(4);
+    expect(row.peak_underestimate).toBeCloseTo(1 - Math.cos(Math.PI / 4), 12);
+    expect(Math.abs(row.true_peak - 3) / 3).toBeLessThan(0.01);
+    expect(row.peak_shortfall).toBeCloseTo(1 - Math.cos(Math.PI / 4), 2);
+    expect(flag('peak_capture').severity).toBe('warn');
+    expect(flag('peak_capture').message).toMatch(/peak and crest factor read that much low; use true_peak/);
+  });
+
+  it('the same tone at 2.56 samples per cycle, whose samples come near every crest over a recording, is no warning: the declared sampling alone is not a risk', async () => {
+    const x = Float64Array.from({ length: 25600 }, (_, n) => 3 * Math.sin(2 * Math.PI * 1000 * n / 2560 + 0.2));
+    const { flag, row } = await flagsOf(x, 2560, channel({ max_frequency_hz: 1000 }));
+    expect(row.peak_underestimate).toBeCloseTo(peakUnderestimate(2.56), 12);
+    expect(row.peak_shortfall).toBeLessThan(0.01);
+    expect(flag('peak_capture').severity).toBe('ok');
   });
 });
 
@@ -113,6 +124,14 @@ describe('resolution (IEEE Std 1241)', () => {
     expect(row.step_size).toBeCloseTo(10 / full, 12);
   });
 
+  it.each([[45, 'ok'], [35, 'note'], [25, 'warn']])('a sine %i dB above ideal quantisation noise is %s (half a step at its peak: √1.5·10^(−SNR/20), derived)', async (snr, severity) => {
+    const q = 10 / 32768, A = Math.SQRT2 * 10 ** (snr / 20) * q / Math.sqrt(12);
+    const x = Float64Array.from({ length: 20000 }, (_, i) => Math.round(A * Math.sin(2 * Math.PI * 37.1 * i / 1000) / q) * q);
+    const { flag, row } = await flagsOf(x, 1000, channel({ bits: 16 }), { pcm16: true });
+    expect(row.quantisation_snr_db).toBeCloseTo(snr, 0);
+    expect(flag('resolution').severity).toBe(severity);
+  });
+
   it('a signal spanning a few steps is too coarse', async () => {
     const x = Float64Array.from({ length: 8000 }, (_, i) => Math.round(3 * Math.sin(i / 5)) / 32768 * 10);
     const { flag, row } = await flagsOf(x, 1000, channel({ bits: 16 }), { pcm16: true });
@@ -134,6 +153,21 @@ describe('flatline, dropout, offset, spikes, declaration', () => {
     expect(flag('dropout').severity).toBe('warn');
     expect(row.missing_fraction).toBeCloseTo(3 / 400, 12);
     expect(flag('dropout').message).toMatch(/1 irregular time steps, the widest 0\.51 s/);
+  });
+
+  it('one missing sample in 5000 is a note; the figures cover the rest', async () => {
+    const rows = Array.from({ length: 5000 }, (_, i) => `${i / 100},${i === 2500 ? '' : Math.sin(i / 7)}`);
+    const { flag } = await flagsOf(new Float64Array(0), 100, channel({ scale: 1 }), { csv: ['time,x', ...rows].join('\n') });
+    expect(flag('dropout').severity).toBe('note');
+  });
+
+  it('an offset warns where it raises RMS by 5 %: √(1 + r²) − 1 at r = |mean| / std (derived)', async () => {
+    const sine = (mean: number) => Float64Array.from({ length: 10000 }, (_, i) => mean + Math.SQRT2 * Math.sin(2 * Math.PI * 50 * i / 1000));
+    const acc = channel({ quantity: 'acceleration', unit: 'm/s^2' });
+    const high = await flagsOf(sine(0.4), 1000, acc); // r = 0.4: RMS 7.7 % high
+    expect(high.flag('offset').severity).toBe('warn');
+    expect(high.flag('offset').message).toMatch(/RMS reads 7\.7\d* % high/);
+    expect((await flagsOf(sine(0.25), 1000, acc)).flag('offset').severity).toBe('ok'); // 3.1 %
   });
 
   it('an accelerometer whose mean sits several standard deviations from zero warns; a voltage does not', async () => {
@@ -164,12 +198,12 @@ describe('flatline, dropout, offset, spikes, declaration', () => {
     expect(flag('spikes').evidence.first_s).toBeCloseTo(0.1, 12);
   });
 
-  it('a duration off its declaration warns; an undeclared channel is said, not flagged', async () => {
+  it('a duration off its declaration is a note; an undeclared channel is said, not flagged', async () => {
     const path = join(tempDir(), 'y.wav');
     writeFileSync(path, encodeWav({ sampleRate: 100, channels: [new Float64Array(500).map((_, i) => Math.sin(i))] }));
     const r = await reduceRecording({ recording: 'y', path, group: 'g', format: null, sampleRate: null, layout: null, channels: null, labels: {}, durationS: 10, spec: {}, chunkFrames: 64 });
     const f = r.quality[0].flags.find((x) => x.name === 'declaration')!;
-    expect(f.severity).toBe('warn');
+    expect(f.severity).toBe('note');
     expect(f.message).toMatch(/not declared/);
     expect(f.message).toMatch(/lasts 5 s but 10 s is declared/);
     const r2 = await reduceRecording({ recording: 'y', path, group: 'g', format: null, sampleRate: null, layout: null, channels: null, labels: {}, durationS: 5, spec: {}, chunkFrames: 64 });

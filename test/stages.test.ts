@@ -1,26 +1,7 @@
 // The reduction stages through the real per-recording path (a float WAV on disk → reduceRecording), against textbook values and standards.
-import { writeFileSync } from 'node:fs';
-import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { ChannelDeclaration } from '../spec/archive.js';
-import type { ReductionSpec } from '../spec/reduction.js';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
-import { encodeWav } from '../scripts/wav-file.js';
 import { bandsOf, exactBand, nominalFrequency } from '../stages/octave.js';
-import { tempDir } from './helpers.js';
-
-const channel = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration => ({ name: 'x', quantity: 'acceleration', unit: 'm/s^2', scale: 100, offset: 0, range: null, bits: null, max_frequency_hz: null, ...over });
-
-/** Reduces one signal (engineering units, |x| < 100) held in a float32 WAV, as the pipeline would. */
-async function reduce(signal: Float64Array, fs: number, spec: ReductionSpec, decl = channel()) {
-  const path = join(tempDir(), 'x.wav');
-  writeFileSync(path, encodeWav({ sampleRate: fs, channels: [signal.map((v) => v / decl.scale)], encoding: 'float32' }));
-  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec, chunkFrames: 8191 });
-  expect(r.reason).toBeUndefined();
-  return { row: r.rows[0] as Record<string, number>, result: r };
-}
-
-const sine = (n: number, fs: number, f: number, a: number, phase = 0) => Float64Array.from({ length: n }, (_, i) => a * Math.sin(2 * Math.PI * f * i / fs + phase));
+import { channel, reduce, sine } from './reduce-signal.js';
 
 describe('fractional-octave bands (IEC 61260-1:2014, base-10 system)', () => {
   it('one-third-octave mid-band frequencies from 25 Hz to 10 kHz: exact 1000·10^(x/10), nominal labels of ISO 266 (label list from memory)', () => {

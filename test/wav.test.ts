@@ -35,8 +35,9 @@ describe('WAV reader against independently written files', () => {
     expect(rec.startTime?.toISOString()).toBe(expected.start_time);
   });
 
-  it('refuses µ-law rather than decode it into wrong numbers, naming the format', async () => {
-    await expect(readAll(fixture('wav', 'mulaw.wav'))).rejects.toThrow(/0x0007 \(µ-law\) is not supported/);
+  it('decodes µ-law (ITU-T G.711) on its 14-bit linear scale; its values are checked in wav-formats.test.ts', async () => {
+    const { rec, channels } = await readAll(fixture('wav', 'mulaw.wav'));
+    expect([rec.encoding, rec.bits, channels[0].length]).toEqual(['mulaw', 14, 80]);
   });
 
   it('refuses a file cut short, saying how much is missing', async () => {

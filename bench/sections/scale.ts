@@ -1,19 +1,42 @@
-// Re-runs into the same output folder, and an archive of many small recordings over years.
+// Scale: unchanged re-runs as a share of the full run on two archive shapes, the scaling from one worker to two, and an
+// archive of many small recordings (the first reduction, its peak memory, a nightly period, the whole archive again).
 import { readFileSync, writeFileSync } from 'node:fs';
 import { cpus } from 'node:os';
 import { join } from 'node:path';
-import { makeManyTinyRecordings } from '../generate.js';
-import { quern, repo, row, say, work, type QuernMeasurement } from '../harness.js';
+import { makeBenchArchive, makeManyTinyRecordings } from '../generate.js';
+import { quern, repo, say, work, type QuernMeasurement } from '../harness.js';
 
-export function reruns(full: string, kept: string, first: QuernMeasurement): void {
+const pct = (a: QuernMeasurement, b: QuernMeasurement) => `${((a.wallSeconds / b.wallSeconds) * 100).toFixed(1)} % of the full run (in-process ${((a.seconds / b.seconds) * 100).toFixed(1)} %)`;
+const line = (label: string, m: QuernMeasurement, tail = '') =>
+  `  ${label.padEnd(54)} ${String(m.recordings).padStart(6)} recordings ${m.wallSeconds.toFixed(2).padStart(7)} s whole command (${m.seconds.toFixed(2)} s in-process) ${m.peakRssMB.toFixed(0).padStart(5)} MB peak RSS${tail ? `  ${tail}` : ''}`;
+
+/** Re-runs into the same output folder: nothing changed (twice: the first also confirms recently written files by content), then one spec section changed. */
+export function reruns(full: string, kept: string, first: QuernMeasurement, label = 'bench archive (8 recordings × 4 channels × 122 s)'): void {
   const cores = cpus().length;
-  say('\nre-runs into the same output folder (--jobs ' + cores + ')');
+  say(`\nre-runs into the same output folder, ${label}, --jobs ${cores}`);
+  say(line('full run', first));
   const again = quern(full, cores, kept);
-  say(row(`nothing changed (${again.recomputed} recomputed, ${again.reused} reused)`, again) + `  ${((again.seconds / first.seconds) * 100).toFixed(1)} % of the first run`);
+  say(line(`nothing changed (${again.recomputed} recomputed, ${again.reused} reused)`, again, pct(again, first)));
+  const third = quern(full, cores, kept);
+  say(line('nothing changed, once more', third, pct(third, first)));
   const spec = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
   writeFileSync(join(full, 'reduction.yaml'), spec.replace('low_hz: 2500, high_hz: 4500', 'low_hz: 3000, high_hz: 5000'));
   const envelopeOnly = quern(full, cores, kept);
-  say(row('envelope filter changed (envelope recomputed)', envelopeOnly) + `  ${((envelopeOnly.seconds / first.seconds) * 100).toFixed(1)} % of the first run`);
+  say(line('envelope filter changed (envelope recomputed)', envelopeOnly, pct(envelopeOnly, first)));
+}
+
+/** Short recordings (8 × 4 channels × 60 s, full default features): one worker against two, then re-runs. */
+export function shortRecordings(): void {
+  const short = join(work, 'short-recordings');
+  makeBenchArchive(short, Array.from({ length: 8 }, (_, i) => ({ name: `s${i}.wav`, frames: 60 * 25_600 })));
+  say('\nshort recordings (8 × 4 channels × 60 s at 25.6 kHz, full default features): one worker against two');
+  const one = quern(short, 1);
+  say(line('--jobs 1', one));
+  const kept = join(work, 'short-kept');
+  const two = quern(short, 2, kept);
+  say(line('--jobs 2', two));
+  say(`  --jobs 2 runs ${(one.wallSeconds / two.wallSeconds).toFixed(2)}× as fast as --jobs 1 (whole command; in-process ${(one.seconds / two.seconds).toFixed(2)}×)`);
+  reruns(short, kept, two, 'short recordings');
 }
 
 export function manySmall(count = Number(process.env.QUERN_BENCH_TINY ?? 100_000)): void {
@@ -22,9 +45,9 @@ export function manySmall(count = Number(process.env.QUERN_BENCH_TINY ?? 100_000
   const tiny = join(work, 'tiny'), tinyOut = join(work, 'tiny-out');
   makeManyTinyRecordings(tiny, count);
   const first = quern(tiny, cores, tinyOut);
-  say(`  first reduction of all                         ${first.recordings} recordings ${first.seconds.toFixed(2).padStart(7)} s ${first.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
+  say(line('first reduction of all (peak memory of the one run)', first));
   const nightly = quern(tiny, cores, tinyOut, '7d');
-  say(`  nightly run, --since 7d (scan all, reduce none) ${nightly.recordings} recordings ${nightly.seconds.toFixed(2).padStart(7)} s ${nightly.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
+  say(line('nightly run, --since 7d (scan all, reduce none)', nightly));
   const rescan = quern(tiny, cores, tinyOut);
-  say(`  whole archive again, nothing changed           ${rescan.recordings} recordings ${rescan.seconds.toFixed(2).padStart(7)} s ${rescan.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`);
+  say(line('whole archive again, nothing changed', rescan));
 }

@@ -6,6 +6,7 @@ import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
 import { RecordingError } from '../../stages/read/recording.js';
 import { defaultOut } from '../run.js';
+import { trendOptions } from '../trends/options.js';
 
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
 export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string }
@@ -14,6 +15,7 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
   const root = resolve(archive);
   const declaration = await loadArchiveDeclaration(root);
   const spec = await loadSpec(root, specPath);
+  trendOptions(spec.spec); // a trends section that cannot work is named now
   const scanned = await scan(root, declaration, { exclude: [resolve(out ?? defaultOut(root))] });
   const recordings: CheckedRecording[] = [];
   for (const job of plan(scanned.recordings, declaration.groups, spec.spec)) {

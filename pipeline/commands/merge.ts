@@ -1,24 +1,30 @@
 // quern merge: combines the part files that shards wrote into one output folder, exactly as one process would have written it.
+// The recordings' entries are read from every shard's pack and the tables streamed out as reduce writes them.
 import { randomUUID } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from '../outputs/atomic.js';
-import { readEntry } from '../plan/cache.js';
+import { activeStages } from '../../stages/index.js';
 import { canonicalJson, type LoadedSpec } from '../declare/declare.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
-import { FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
+import { describeHolder, heldShardLocks, lockPath, takeLock } from '../outputs/lock.js';
+import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
 import { toolVersion } from '../declare/package-files.js';
-import type { QualityReport } from '../outputs/quality.js';
-import { assembleRecording } from '../reduce/assemble.js';
-import { runRecord, type RunRecord } from '../outputs/report.js';
+import type { QualitySummary } from '../outputs/quality.js';
+import { openPool } from '../reduce/pool.js';
+import { runLine, runRecord, writeRunRecord, type RunRecord } from '../outputs/report.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { Store } from '../store/store.js';
+import { trendOptions } from '../trends/options.js';
+import { writeTrendsAndSpectra } from '../trends/trends.js';
 
-export async function runMerge(out: string): Promise<{ record: RunRecord; quality: QualityReport }> {
+export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const outDir = resolve(out);
   const partsDir = join(outDir, 'parts');
   const names = (await readdir(partsDir).catch(() => [] as string[])).filter((f) => /^run-\d+-of-\d+\.json$/.test(f));
   if (!names.length) throw new UsageError(`${partsDir}: no part files (run-K-of-N.json); run quern reduce with --shard K/N into ${outDir} first`);
+  const running = await heldShardLocks(outDir);
+  if (running.length) throw new UsageError(`${partsDir}: cannot merge while shards are still running: ${running.map(describeHolder).join('; ')}; merge once they have finished`);
   const parts: RunRecord[] = await Promise.all(names.map(async (f) => JSON.parse(await readFile(join(partsDir, f), 'utf8'))));
   const n = parts[0].shard!.n;
   const problems: string[] = [];
@@ -32,22 +38,35 @@ export async function runMerge(out: string): Promise<{ record: RunRecord; qualit
 
   const first = parts[0];
   const spec = first.spec.value as ReductionSpec;
-  const listed = parts.flatMap((p) => p.recordings).sort((a, b) => (a.recording < b.recording ? -1 : 1));
-  const results = await Promise.all(listed.map(async (r) => {
-    const entry = await readEntry(outDir, r.recording);
-    if (!entry) throw new UsageError(`${outDir}: the stored result of ${r.recording} is missing from cache/; run its shard again`);
-    return assembleRecording(entry, first.labels_by_group[r.group] ?? {}, spec);
-  }));
   const runId = randomUUID();
-  const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
-  const quality = await writeOutputs(outDir, FINAL_NAMES, { results, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched: first.unmatched.map((u) => u.path) });
-  const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
-  const record = runRecord({
-    runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched: first.unmatched.map((u) => u.path), results,
-    decisions: listed.map((r) => ({ compute: r.recomputed, reused: r.reused, why: r.why })),
-    timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-    shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period,
-  });
-  await writeFileAtomic(join(outDir, 'run.json'), JSON.stringify(record, null, 2) + '\n');
-  return { record, quality };
+  const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` });
+  const pool = openPool(jobs);
+  try {
+    const store = await Store.open(outDir);
+    const listed = byRecording(parts.flatMap((p) => p.recordings));
+    const items = listed.map((r) => {
+      const loc = store.get(r.recording);
+      if (!loc) throw new UsageError(`${outDir}: the stored result of ${r.recording} is missing from cache/ or damaged; run its shard again`);
+      return { recording: r.recording, loc, labels: first.labels_by_group[r.group] ?? {} };
+    });
+    const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
+    const unmatched = first.unmatched.map((u) => u.path);
+    const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
+    const changes = await writeTrendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata });
+    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, pool, changes });
+    const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
+    const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
+    const record = runRecord({
+      runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched,
+      lines: listed.map((r, i) => runLine(items[i].loc.facts, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
+      timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period,
+      damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,
+    });
+    await writeRunRecord(outDir, 'run.json', record);
+    return { record, quality: written.quality };
+  } finally {
+    await pool.destroy();
+    await lock.release();
+  }
 }

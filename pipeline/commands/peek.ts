@@ -8,8 +8,9 @@ import { reduceRecording } from '../reduce/compute.js';
 import type { RecordingResult } from '../reduce/result.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { Format } from '../../stages/read/recording.js';
+import type { ReaderOptions } from '../../stages/read/open.js';
 
-export interface PeekOptions { format?: Format | null; sampleRate?: number | null; layout?: RawLayout | null }
+export interface PeekOptions extends ReaderOptions { format?: Format | null; sampleRate?: number | null; layout?: RawLayout | null }
 
 /** The nearest folder above the file that holds archive.yaml, if any. */
 function archiveOf(path: string): string | null {
@@ -19,9 +20,9 @@ function archiveOf(path: string): string | null {
   }
 }
 
-export async function runPeek(file: string, { format = null, sampleRate = null, layout = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
+export async function runPeek(file: string, { format = null, sampleRate = null, layout = null, hdf5 = null, flac = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
   const path = resolve(file);
-  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
+  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, flac }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
   let declaredBy: string | null = null;
   const root = archiveOf(path);
   if (root) {
@@ -30,7 +31,7 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     const g = declaration.groups.find((group) => picomatch(group.match)(rel));
     if (g) {
       declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
-      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s };
+      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, flac: flac ?? g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
   return { result: await reduceRecording(job), declaredBy };

@@ -3,6 +3,7 @@ import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
+import type { Hdf5Layout } from '../../stages/read/hdf5.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -15,7 +16,16 @@ export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit
 export const ARCHIVE_FILE = 'archive.yaml';
 export const SPEC_FILE = 'reduction.yaml';
 
-type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout'> & { name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout> };
+type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout' | 'hdf5' | 'flac'> & {
+  name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout>;
+  hdf5?: Omit<Partial<Hdf5Layout>, 'datasets'> & { datasets: string | string[] }; flac?: { start_time_tag?: string };
+};
+
+/** The HDF5 section with its defaults, dataset paths made absolute. */
+function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
+  const datasets = (Array.isArray(h.datasets) ? h.datasets : [h.datasets]).map((d) => (d.startsWith('/') ? d : `/${d}`));
+  return { datasets, channel_axis: h.channel_axis ?? null, sample_rate_attribute: h.sample_rate_attribute ?? null, start_time_attribute: h.start_time_attribute ?? null };
+}
 
 export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
   const file = join(archive, ARCHIVE_FILE);
@@ -38,18 +48,29 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
       channelNames.add(c.name!);
       if (c.range && !(c.range[0] < c.range[1])) problems.push(source.problem(at('channels', ci, 'range'), `range must be [lower, upper] with lower < upper, got [${c.range.join(', ')}]`));
       if (c.scale === 0) problems.push(source.problem(at('channels', ci, 'scale'), 'scale 0 would turn every sample into the offset; give the sensitivity in engineering units per stored unit'));
+      for (const key of ['trigger_level', 'trigger_hysteresis'] as const) {
+        if (c[key] != null && c.pulses_per_rev == null) problems.push(source.problem(at('channels', ci, key), `${key} applies to a tacho channel only; declare pulses_per_rev for it, or remove ${key}`));
+      }
       return {
         name: c.name!, quantity: c.quantity ?? 'unknown', unit: c.unit ?? 'FS', scale: c.scale ?? 1, offset: c.offset ?? 0,
         range: (c.range as [number, number] | undefined) ?? null, bits: c.bits ?? null, max_frequency_hz: c.max_frequency_hz ?? null,
+        // Only tacho channels carry the pulse fields, so other declarations (and their cache keys) stay as they were.
+        ...(c.pulses_per_rev != null ? { pulses_per_rev: c.pulses_per_rev, trigger_level: c.trigger_level ?? null, trigger_hysteresis: c.trigger_hysteresis ?? null } : {}),
       };
     }) ?? null;
     const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;
     if (g.format === 'raw' && !layout) problems.push(source.problem(at(), 'format raw needs a layout: { sample_type, byte_order, channels, header_bytes }'));
     if (g.format === 'raw' && g.sample_rate == null) problems.push(source.problem(at(), 'format raw needs sample_rate (Hz): raw files carry no header'));
     if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
+    const hdf5 = g.hdf5 ? hdf5Layout(g.hdf5) : null;
+    if (g.format === 'hdf5' && !hdf5) problems.push(source.problem(at(), 'format hdf5 needs an hdf5 section: { datasets, channel_axis, sample_rate_attribute, start_time_attribute }'));
+    if (hdf5 && hdf5.sample_rate_attribute == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group or hdf5.sample_rate_attribute'));
+    if (hdf5 && hdf5.datasets.length > 1 && hdf5.channel_axis != null) problems.push(source.problem(at('hdf5', 'channel_axis'), 'channel_axis applies to one two-dimensional dataset; with one dataset per channel leave it out'));
+    if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
+    const flac = g.flac ? { start_time_tag: g.flac.start_time_tag ?? null } : null;
     return {
       name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
-      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, channels, duration_s: g.duration_s ?? null,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, flac, channels, duration_s: g.duration_s ?? null,
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));

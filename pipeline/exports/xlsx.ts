@@ -5,7 +5,7 @@ import { headerText, neutralise, numberText } from './csv.js';
 import type { ExportTable } from './tables.js';
 
 // Light tints of the report's own palette, so dark text stays readable on them.
-const FILLS: Record<string, string> = { ok: 'FFD9ECE8', warn: 'FFF5E6C4', fail: 'FFF1D3CD' };
+const FILLS: Record<string, string> = { ok: 'FFD9ECE8', note: 'FFE1E7EE', warn: 'FFF5E6C4', fail: 'FFF1D3CD' };
 
 function addSheet(wb: ExcelJS.Workbook, t: ExportTable, digits: number | null): void {
   const ws = wb.addWorksheet(t.name, {

@@ -1,17 +1,17 @@
 // Files appear whole or not at all: written under a hidden temporary name, flushed, then renamed into place.
 import { randomBytes } from 'node:crypto';
-import { open, rename, rm } from 'node:fs/promises';
+import { open, rename, rm, writeFile } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 
 /**
  * Whole or nothing under a crash of the process. `durable` also flushes to the disk, so the file survives a power cut;
  * cache entries skip that (a torn entry reads as absent and is recomputed), which saves two disk flushes a recording.
  */
-export async function writeFileAtomic(path: string, data: Uint8Array | string, { durable = true } = {}): Promise<void> {
+export async function writeFileAtomic(path: string, data: Uint8Array | string | AsyncIterable<Uint8Array>, { durable = true } = {}): Promise<void> {
   const tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   const fh = await open(tmp, 'w');
   try {
-    await fh.writeFile(data);
+    await writeFile(fh, data);
     if (durable) await fh.sync();
     await fh.close();
     await rename(tmp, path);

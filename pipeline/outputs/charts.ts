@@ -5,7 +5,10 @@ import type { Evidence } from '../../stages/quality/evidence.js';
 
 import { COLOURS } from './colours.js';
 
-async function svg(spec: TopLevelSpec): Promise<string> {
+export { COLOURS };
+
+/** A Vega-Lite specification rendered to SVG by Vega's headless renderer. */
+export async function svg(spec: TopLevelSpec): Promise<string> {
   const view = new vega.View(vega.parse(compile(spec).spec), { renderer: 'none' });
   try {
     return await view.toSVG();

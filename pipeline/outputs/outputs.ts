@@ -1,21 +1,29 @@
-// Writes a run's tables and reports from assembled recordings; shared by reduce (whole or one shard) and merge.
+// Writes a run's tables and reports, shared by reduce (whole or one shard) and merge. The recordings are assembled in
+// slices by the workers and arrive here in table order: rows go out in Parquet row groups, quality.json and quality.html
+// are put together from spooled pieces, and nothing the size of the run is held in memory. Outputs whose digest says
+// they would come out the same are left as they are.
+import { createReadStream } from 'node:fs';
 import { mkdir } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
+import { createInterface } from 'node:readline';
 import { featureColumns } from '../../stages/index.js';
-import { writeFileAtomic } from './atomic.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
-import { qualityReport, type QualityReport } from './quality.js';
-import type { RecordingResult } from '../reduce/result.js';
-import { drawPictures, qualityHtml } from './report-html.js';
-import { IDENTITY_COLUMNS, QUALITY_COLUMNS, writeParquetTable, type TableColumn } from './parquet.js';
+import type { Pool } from '../reduce/pool.js';
+import { forgetDigest, keepDigest, outputsDigest, stillCurrent } from './digest.js';
+import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './columns.js';
+import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
+import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
+import type { TrendsOutcome } from '../trends/trends.js';
+import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
+import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 
 /** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
-export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null }
+export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string }
 
-export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html' };
+export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html', digest: 'outputs.json' };
 export const partNames = (k: number, n: number): OutputNames => ({
-  table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null,
+  table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`,
 });
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
@@ -29,20 +37,129 @@ export function tableColumns(spec: ReductionSpec, labels: string[]): TableColumn
   ];
 }
 
-export async function writeOutputs(outDir: string, names: OutputNames, o: {
-  results: RecordingResult[]; spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
-}): Promise<QualityReport> {
-  const results = byRecording(o.results);
+export interface OutputsInput {
+  /** Every recording of the outputs, in table order (by recording), with where its entry lies and its group's labels. */
+  items: SliceItem[];
+  spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
+  pool: Pool;
+  /** What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. */
+  changes?: TrendsOutcome | null;
+}
+
+/** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
+export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
+
+/** Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small. */
+function slices(items: SliceItem[], { maxItems = 250, maxBytes = 256 << 10 } = {}): SliceItem[][] {
+  const out: SliceItem[][] = [];
+  let current: SliceItem[] = [], bytes = 0;
+  for (const it of items) {
+    if (current.length && (current.length >= maxItems || bytes + it.loc.length > maxBytes)) { out.push(current); current = []; bytes = 0; }
+    current.push(it);
+    bytes += it.loc.length;
+  }
+  if (current.length) out.push(current);
+  return out;
+}
+
+async function* lines(file: StagedFile): AsyncGenerator<string> {
+  if (!file.size) return;
+  for await (const line of createInterface({ input: createReadStream(file.tmp), crlfDelay: Infinity })) if (line) yield line;
+}
+
+export async function writeOutputs(outDir: string, names: OutputNames, o: OutputsInput): Promise<Written> {
+  const tables: Record<string, TableColumn[]> = { features: tableColumns(o.spec, o.labels), ...SECONDARY_TABLES };
+  const digestPath = join(outDir, names.digest);
+  const digest = outputsDigest({
+    version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched,
+    items: o.items.map((it) => ({ recording: it.loc.facts.recording, group: it.loc.facts.group, bodySha: it.loc.bodySha, labels: it.labels })),
+    // The changes rest on the whole history, not only on these items.
+    changes: o.changes ?? null,
+  });
+  const current = await stillCurrent(digestPath, digest);
+  if (current) return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
+
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
-  await writeParquetTable(join(outDir, names.table('features')), tableColumns(o.spec, o.labels), results.flatMap((r) => r.rows), o.metadata);
-  for (const [name, columns] of Object.entries(SECONDARY_TABLES)) {
-    await writeParquetTable(join(outDir, names.table(name)), columns, results.flatMap((r) => r.tables[name] ?? []), o.metadata);
+  // The Parquet writer (WebAssembly) is loaded only by runs that write.
+  const { ParquetStream } = await import('./parquet-stream.js');
+  const staged = (name: string) => new StagedFile(join(outDir, name));
+  const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
+  const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
+  const spools = { quality: staged('quality-list.spool'), overview: staged('overview.spool'), fail: staged('fail.spool'), warn: staged('warn.spool'), notes: staged('notes.spool') };
+  const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
+  try {
+    const totals = emptyTotals(o.unmatched.length);
+    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: o.changes?.report ?? null };
+    const channelNames = new Set<string>();
+    const candidates = { fail: [] as Candidate[], warn: [] as Candidate[] };
+    const counted = { fail: 0, warn: 0, recordings: 0 };
+    const take = async (s: SliceOutput) => {
+      for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
+      // Each part comes after a separator; the very first one's is dropped.
+      if (s.recordings) await spools.quality.write(counted.recordings ? s.quality : s.quality.replace(/^,/, ''));
+      counted.recordings += s.recordings;
+      addTotals(totals, s.totals);
+      summary.failCount += s.failCount;
+      summary.failLines.push(...s.failLines.slice(0, MAX_FAIL_LINES - summary.failLines.length));
+      if (!qualityHtml) return;
+      for (const c of s.channels) channelNames.add(c);
+      await spools.overview.write(s.overview);
+      await spools.notes.write(s.notes);
+      for (const sev of ['fail', 'warn'] as const) {
+        await spools[sev].write(s.sections[sev]);
+        candidates[sev].push(...s.candidates[sev].slice(0, MAX_PICTURED - candidates[sev].length));
+        counted[sev] += s.counts[sev];
+      }
+    };
+    // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
+    const task = (items: SliceItem[]): SliceTask => ({ items, spec: o.spec, tables, metadata: o.metadata });
+    const pending: Promise<SliceOutput>[] = [];
+    const all = slices(o.items);
+    let next = 0;
+    const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
+    launch();
+    while (pending.length) {
+      const s = await pending.shift()!;
+      launch();
+      await take(s);
+    }
+    for (const p of Object.values(parquet)) await p.finish();
+
+    const generated = new Date().toISOString();
+    await spools.quality.close({ durable: false });
+    await qualityJson.write(jsonPieces.head({ tool: 'quern', version: o.version, run_id: o.runId, generated, archive: o.archive, totals }, 'recordings'));
+    for await (const chunk of createReadStream(spools.quality.tmp)) await qualityJson.write(chunk as Buffer);
+    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.changes ? { changes: o.changes.report } : {}) }));
+    await qualityJson.close();
+
+    if (qualityHtml) {
+      for (const f of [spools.overview, spools.fail, spools.warn, spools.notes]) await f.close({ durable: false });
+      // Pictures for the first channels, unusable ones first: fetched from the entries by a worker.
+      const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
+      const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured.map((p) => ({ loc: p.loc, channel: p.channel }))) : [];
+      const names = [...channelNames];
+      await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, o.changes?.html) + '\n');
+      await qualityHtml.write(overviewHead(names) + '\n');
+      for await (const line of lines(spools.overview)) await qualityHtml.write(overviewLine(JSON.parse(line) as OverviewRow, names) + '\n');
+      await qualityHtml.write(sectionsHead(counted.fail + counted.warn) + '\n');
+      const failsPictured = Math.min(candidates.fail.length, pictured.length);
+      let i = 0;
+      for await (const line of lines(spools.fail)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(i < failsPictured ? charts[i] : null)}\n`); i++; }
+      let j = 0;
+      for await (const line of lines(spools.warn)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(failsPictured + j < pictured.length ? charts[failsPictured + j] : null)}\n`); j++; }
+      let notes = 0;
+      for await (const line of lines(spools.notes)) await qualityHtml.write(`${notes++ ? '' : notesHead() + '\n'}${JSON.parse(line)}\n`);
+      if (notes) await qualityHtml.write(notesEnd() + '\n');
+      await qualityHtml.write(pageEnd(o.unmatched));
+      await qualityHtml.close();
+    }
+    // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
+    await forgetDigest(digestPath);
+    await commitAll(outputs);
+    const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
+    await keepDigest(digestPath, { digest, run_id: o.runId, written: generated, files, quality: summary });
+    return { quality: summary, rewritten: true, digest, writtenBy: o.runId };
+  } finally {
+    for (const f of [...outputs, ...Object.values(spools)]) await f.discard();
   }
-  const quality = qualityReport({ version: o.version, runId: o.runId, archive: o.archive, results, unmatched: o.unmatched });
-  await writeFileAtomic(join(outDir, names.qualityJson), JSON.stringify(quality, null, 2) + '\n');
-  if (names.qualityHtml) {
-    await drawPictures(quality, results);
-    await writeFileAtomic(join(outDir, names.qualityHtml), qualityHtml(quality, results));
-  }
-  return quality;
 }

@@ -1,47 +1,73 @@
 // quality.json: per run, per recording, per channel, every flag with value, threshold, severity, evidence and message.
+// Made recording by recording as the tables are written: each recording's part, and totals summed as they arrive.
 import { FLAG_NAMES } from '../../stages/index.js';
-import { worst, type Flag, type Severity } from '../../stages/quality/flag.js';
+import { SEVERITIES, worst, type Flag, type Severity } from '../../stages/quality/flag.js';
 import type { RecordingResult } from '../reduce/result.js';
+import type { ChangesReport } from '../trends/changes.js';
 
 export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: Flag[] }
 export interface QualityRecording { recording: string; group: string; status: 'reduced' | 'failed'; severity: Severity; reason?: string; channels: QualityChannel[] }
+type Counts = Record<Severity, number>;
+export interface QualityTotals { channels: Counts; recordings: Counts & { unreadable: number; unmatched: number }; flags: Record<string, Counts> }
 export interface QualityReport {
   tool: 'quern';
   version: string;
   run_id: string;
   generated: string;
   archive: string;
-  totals: { channels: Record<Severity, number>; recordings: Record<Severity, number> & { unreadable: number; unmatched: number }; flags: Record<string, Record<Severity, number>> };
+  totals: QualityTotals;
   recordings: QualityRecording[];
   unmatched: string[];
+  /** What changed against each channel's baseline (spec section trends), when trends are on. */
+  changes?: ChangesReport;
 }
 
-export function qualityReport(o: { version: string; runId: string; archive: string; results: RecordingResult[]; unmatched: string[] }): QualityReport {
-  const recordings: QualityRecording[] = o.results.map((r) => r.status === 'failed'
+/** What the terminal shows of a run's quality: the totals and the first failed channels (all of them are in quality.json). */
+export interface QualitySummary { totals: QualityTotals; failLines: string[]; failCount: number; changes?: ChangesReport | null }
+
+/** Failed channels listed on the terminal; the rest are counted. */
+export const MAX_FAIL_LINES = 50;
+
+export function qualityRecording(r: RecordingResult): QualityRecording {
+  return r.status === 'failed'
     ? { recording: r.recording, group: r.group, status: 'failed', severity: 'fail', reason: r.reason, channels: [] }
-    : { recording: r.recording, group: r.group, status: 'reduced', severity: worst(r.quality.map((q) => q.severity)), channels: r.quality.map(({ channel, unit, severity, flags }) => ({ channel, unit, severity, flags })) });
-  const count = (xs: Severity[]) => ({ ok: xs.filter((s) => s === 'ok').length, warn: xs.filter((s) => s === 'warn').length, fail: xs.filter((s) => s === 'fail').length });
-  const channels = recordings.flatMap((r) => r.channels);
-  return {
-    tool: 'quern', version: o.version, run_id: o.runId, generated: new Date().toISOString(), archive: o.archive,
-    totals: {
-      channels: count(channels.map((c) => c.severity)),
-      recordings: { ...count(recordings.map((r) => r.severity)), unreadable: recordings.filter((r) => r.status === 'failed').length, unmatched: o.unmatched.length },
-      flags: Object.fromEntries(FLAG_NAMES.map((name) => [name, count(channels.flatMap((c) => c.flags.filter((f) => f.name === name).map((f) => f.severity)))])),
-    },
-    recordings,
-    unmatched: o.unmatched,
-  };
+    : { recording: r.recording, group: r.group, status: 'reduced', severity: worst(r.quality.map((q) => q.severity)), channels: r.quality.map(({ channel, unit, severity, flags }) => ({ channel, unit, severity, flags })) };
 }
 
-/** The terminal's quality lines: counts by severity, then every failed channel with its message. */
-export function qualitySummary(q: QualityReport): string[] {
-  const t = q.totals.channels;
-  const lines = [`  quality: ${t.fail} channels fail, ${t.warn} warn, ${t.ok} ok`];
-  for (const r of q.recordings) {
-    for (const c of r.channels.filter((x) => x.severity === 'fail')) {
-      for (const f of c.flags.filter((x) => x.severity === 'fail')) lines.push(`  FAIL    ${r.recording} ${c.channel}: ${f.name}: ${f.message}`);
-    }
+const zero = (): Counts => Object.fromEntries(SEVERITIES.map((s) => [s, 0])) as Counts;
+
+export const emptyTotals = (unmatched = 0): QualityTotals => ({
+  channels: zero(), recordings: { ...zero(), unreadable: 0, unmatched }, flags: Object.fromEntries(FLAG_NAMES.map((n) => [n, zero()])),
+});
+
+/** Counts one recording into the totals. */
+export function countRecording(t: QualityTotals, r: QualityRecording): void {
+  t.recordings[r.severity]++;
+  if (r.status === 'failed') t.recordings.unreadable++;
+  for (const c of r.channels) {
+    t.channels[c.severity]++;
+    for (const f of c.flags) if (t.flags[f.name]) t.flags[f.name][f.severity]++;
   }
+}
+
+/** Adds totals made elsewhere (another slice of the run) into `t`. */
+export function addTotals(t: QualityTotals, more: QualityTotals): void {
+  for (const s of SEVERITIES) {
+    t.channels[s] += more.channels[s];
+    t.recordings[s] += more.recordings[s];
+    for (const name of Object.keys(t.flags)) t.flags[name][s] += more.flags[name]?.[s] ?? 0;
+  }
+  t.recordings.unreadable += more.recordings.unreadable;
+}
+
+/** A recording's failed channels as terminal lines. */
+export const failLines = (r: QualityRecording): string[] =>
+  r.channels.filter((x) => x.severity === 'fail').flatMap((c) => c.flags.filter((x) => x.severity === 'fail').map((f) => `  FAIL    ${r.recording} ${c.channel}: ${f.name}: ${f.message}`));
+
+/** The terminal's quality lines: counts by severity, then the failed channels with their messages. */
+export function qualitySummary(q: QualitySummary): string[] {
+  const t = q.totals.channels;
+  const lines = [`  quality: ${t.fail} channels fail, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...q.failLines];
+  if (q.failCount > q.failLines.length) lines.push(`  …       and ${q.failCount - q.failLines.length} more failed flags: see quality.json`);
   return lines;
 }

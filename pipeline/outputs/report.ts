@@ -1,10 +1,15 @@
 // What a run did, for run.json and for the terminal.
+import { join } from 'node:path';
 import type { LoadedSpec } from '../declare/declare.js';
 import { toolVersion } from '../declare/package-files.js';
-import type { RecordingResult } from '../reduce/result.js';
 import type { Decision } from '../plan/reuse.js';
 import type { Shard } from '../select/select.js';
-import { qualitySummary, type QualityReport } from './quality.js';
+import type { Damage } from '../store/pack.js';
+import type { EntryFacts } from '../store/record.js';
+import type { TakenOver } from './lock.js';
+import { qualitySummary, type QualitySummary } from './quality.js';
+import { commitAll, jsonPieces, StagedFile } from './staged.js';
+import { changesSummary } from '../trends/summary.js';
 
 export interface RunRecord {
   tool: 'quern';
@@ -29,14 +34,35 @@ export interface RunRecord {
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
   unmatched: { path: string; reason: string }[];
+  /** Stored entries found damaged (bad checksum, cut short, unreadable): each recording concerned was recomputed. */
+  store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; compacted: boolean };
+  /** Whether the tables and reports were rewritten, or already said what this run would write (same digest). */
+  outputs: { rewritten: boolean; digest: string; written_by_run: string };
+  /** A lock left by a run that is gone, and taken over by this one. */
+  lock: { took_over: TakenOver | null };
   timings: { scan_s: number; reduce_s: number; write_s: number; total_s: number };
+}
+
+export type RunLine = RunRecord['recordings'][number];
+
+/** A recording's line of run.json, from its stored facts (notes of the groups the spec asks for now) and what this run did. */
+const NO_MESSAGES: string[] = [];
+
+export function runLine(f: EntryFacts, d: Pick<Decision, 'compute' | 'reused' | 'why'>, activeGroups: string[]): RunLine {
+  let messages = [...(f.notes[''] ?? []), ...activeGroups.filter((g) => g in f.groupKeys).sort().flatMap((g) => f.notes[g] ?? [])];
+  if (!messages.length) messages = NO_MESSAGES;
+  return {
+    recording: f.recording, group: f.group, status: f.status, ...(f.reason ? { reason: f.reason } : {}), messages,
+    rows: f.status === 'reduced' ? f.channels : 0, frames: f.frames, sample_rate: f.sampleRate, seconds: round(f.seconds),
+    recomputed: d.compute, reused: d.reused, why: d.why,
+  };
 }
 
 export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
-  results: RecordingResult[]; timings: { scan_s: number; reduce_s: number; write_s: number };
-  decisions: Pick<Decision, 'compute' | 'reused' | 'why'>[]; shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
-  period: RunRecord['period'];
+  lines: RunLine[]; timings: { scan_s: number; reduce_s: number; write_s: number };
+  shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
+  period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
 }
 
 export function runRecord(f: RunFacts): RunRecord {
@@ -45,18 +71,17 @@ export function runRecord(f: RunFacts): RunRecord {
     tool: 'quern', version: toolVersion, run_id: f.runId, started: f.started.toISOString(), finished: finished.toISOString(),
     archive: f.archive, out: f.out, spec: { source: f.spec.source, hash: f.spec.hash, value: f.spec.spec },
     counts: {
-      scanned: f.scanned, selected: f.results.length,
-      recomputed: f.decisions.filter((d) => d.compute.length > 0).length, reused: f.decisions.filter((d) => d.compute.length === 0).length,
-      reduced: f.results.filter((r) => r.status === 'reduced').length, failed: f.results.filter((r) => r.status === 'failed').length,
-      unmatched: f.unmatched.length, rows: f.results.reduce((s, r) => s + r.rows.length, 0),
+      scanned: f.scanned, selected: f.lines.length,
+      recomputed: f.lines.filter((l) => l.recomputed.length > 0).length, reused: f.lines.filter((l) => l.recomputed.length === 0).length,
+      reduced: f.lines.filter((l) => l.status === 'reduced').length, failed: f.lines.filter((l) => l.status === 'failed').length,
+      unmatched: f.unmatched.length, rows: f.lines.reduce((s, l) => s + l.rows, 0),
     },
-    recordings: f.results.map((r, i) => ({
-      recording: r.recording, group: r.group, status: r.status, ...(r.reason ? { reason: r.reason } : {}), messages: r.messages,
-      rows: r.rows.length, frames: r.frames, sample_rate: r.sampleRate, seconds: round(r.seconds),
-      recomputed: f.decisions[i].compute, reused: f.decisions[i].reused, why: f.decisions[i].why,
-    })),
+    recordings: f.lines,
     shard: f.shard, period: f.period, label_columns: f.labels, labels_by_group: f.labelsByGroup,
     unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
+    store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
+    outputs: f.outputs,
+    lock: { took_over: f.tookOver },
     timings: { ...mapValues(f.timings, round), total_s: round((finished.getTime() - f.started.getTime()) / 1000) },
   };
 }
@@ -64,8 +89,23 @@ export function runRecord(f: RunFacts): RunRecord {
 const round = (s: number) => Math.round(s * 1000) / 1000;
 const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => number) => Object.fromEntries(Object.entries(o).map(([k, v]) => [k, fn(v)])) as T;
 
+/** Writes run.json (or a shard's part) item by item, staged and renamed into place. */
+export async function writeRunRecord(out: string, name: string, r: RunRecord): Promise<void> {
+  const file = new StagedFile(join(out, name));
+  try {
+    const { recordings, shard, period, label_columns, labels_by_group, unmatched, store, outputs, lock, timings, ...before } = r;
+    await file.write(jsonPieces.head(before, 'recordings'));
+    for (const [i, line] of recordings.entries()) await file.write(jsonPieces.item(JSON.stringify(line, null, 2), i));
+    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, store, outputs, lock, timings }));
+    await file.close();
+    await commitAll([file]);
+  } finally {
+    await file.discard();
+  }
+}
+
 /** The end-of-run summary a person reads on the terminal. */
-export function summaryText(r: RunRecord, q: QualityReport): string {
+export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
@@ -73,8 +113,13 @@ export function summaryText(r: RunRecord, q: QualityReport): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
+  if (r.lock.took_over) lines.push(`  lock:    took over the lock of a run that is gone (${r.lock.took_over.holder.host}, pid ${r.lock.took_over.holder.pid}, started ${r.lock.took_over.holder.started}): ${r.lock.took_over.why}`);
+  for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
+  if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
+  // What changed leads: it is the machine's story; the data-quality lines follow.
+  if (q.changes) lines.push(...changesSummary(q.changes));
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
-  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet)`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
+  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }

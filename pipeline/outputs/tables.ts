@@ -1,6 +1,6 @@
 // The secondary tables of a run: rows that stages add with ctx.addRow(name, …), each written as <name>.parquet.
 // A new table is one entry here (and its description in schemas/); writing, shards, merge and exports follow from the list.
-import type { TableColumn } from './parquet.js';
+import type { TableColumn } from './columns.js';
 
 /** windows.parquet: one row per recording × channel × window. */
 export const WINDOW_TABLE: TableColumn[] = [
@@ -12,7 +12,16 @@ export const WINDOW_TABLE: TableColumn[] = [
   { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Mean over the window.' },
   { name: 'rms', type: 'float64', nullable: false, unit: '[unit]', description: 'RMS over the window.' },
   { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
+  { name: 'speed_rpm', type: 'float64', nullable: true, unit: 'rpm', description: 'Tacho channels: shaft speed over the window, from the good pulse intervals inside it (each counted by the share of it inside); null on other channels.' },
+];
+
+/** cycles.parquet: rainflow cycles per recording × channel, binned or one row per distinct range and mean. */
+export const CYCLE_TABLE: TableColumn[] = [
+  ...WINDOW_TABLE.slice(0, 3),
+  { name: 'range', type: 'float64', nullable: false, unit: '[unit]', description: 'Cycle range (a bin\'s centre when binned).' },
+  { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Cycle mean (a bin\'s centre when binned).' },
+  { name: 'count', type: 'float64', nullable: false, unit: '1', description: 'Cycles counted: full cycles 1, residue half cycles 0.5.' },
 ];
 
 /** Every secondary table by name, in the order they are written and exported. */
-export const SECONDARY_TABLES: Record<string, TableColumn[]> = { windows: WINDOW_TABLE };
+export const SECONDARY_TABLES: Record<string, TableColumn[]> = { windows: WINDOW_TABLE, cycles: CYCLE_TABLE };

@@ -2,6 +2,7 @@
 import type { ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RawLayout } from '../../stages/read/raw.js';
+import type { ReaderOptions } from '../../stages/read/open.js';
 import type { Format } from '../../stages/read/recording.js';
 import type { ScannedRecording } from '../select/scan.js';
 
@@ -12,6 +13,8 @@ export interface RecordingJob {
   format: Format | null;
   sampleRate: number | null;
   layout: RawLayout | null;
+  /** Per-format reading options (HDF5 datasets and attributes, FLAC start-time tag), when the group declares them. */
+  reader?: ReaderOptions;
   channels: ChannelDeclaration[] | null;
   labels: Record<string, string>;
   durationS: number | null;
@@ -23,12 +26,15 @@ export interface RecordingJob {
 
 export interface PlanOptions { chunkFrames?: number }
 
-export function plan(recordings: ScannedRecording[], groups: GroupDeclaration[], spec: ReductionSpec, { chunkFrames = 65536 }: PlanOptions = {}): RecordingJob[] {
-  return recordings.map((r) => {
-    const g = groups[r.group];
-    return {
-      recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
-      layout: g.layout, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames,
-    };
-  });
+/** The job of one scanned recording. */
+export function planJob(r: ScannedRecording, groups: GroupDeclaration[], spec: ReductionSpec, { chunkFrames = 65536 }: PlanOptions = {}): RecordingJob {
+  const g = groups[r.group];
+  return {
+    recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
+    // A frame takes at least a byte, so a small file fits one chunk of its size in bytes: no large buffers for small files.
+    layout: g.layout, reader: { hdf5: g.hdf5, flac: g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
+  };
 }
+
+export const plan = (recordings: ScannedRecording[], groups: GroupDeclaration[], spec: ReductionSpec, o: PlanOptions = {}): RecordingJob[] =>
+  recordings.map((r) => planJob(r, groups, spec, o));

@@ -6,8 +6,9 @@ import { openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
-import { worst } from '../../stages/quality/flag.js';
+import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
+import type { Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
@@ -43,7 +44,7 @@ function toEngineering(stored: Float64Array, scale: number, offset: number, out:
 
 /** Opens a recording and holds its header against the declaration; closes it again if they disagree. */
 export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[] }> {
-  const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, chunkFrames: job.chunkFrames });
+  const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
   try {
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {
       throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct sample_rate in archive.yaml or move the file to the right group`);
@@ -70,6 +71,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
       columns: channels.map(() => ({})), flags: channels.map(() => []), evidence: channels.map(() => null), tables: {}, notes: [],
     });
     const offers = channels.map(() => new Map<string, () => unknown>());
+    const recordingShared = new Map<string, unknown>();
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? r.bits;
@@ -91,6 +93,9 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
           addRow: (table, row) => (g.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
+          tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
+          recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
+          keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
         };
         return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
       });
@@ -116,13 +121,16 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });
-    // The pictures' data is kept for channels whose flags ask for a second look; the report draws those it shows.
+    // Pictures are drawn only for channels whose flags ask for a second look, here in the worker, and kept with the result.
     const quality = out.groups.quality;
     if (quality) {
-      quality.evidence = quality.flags.map((flags, c) => {
-        if (worst(flags.map((f) => f.severity)) === 'ok') return null;
-        return { pictures: Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) };
-      });
+      quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
+        if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
+        // The charting modules (vega, vega-lite) load only when a channel needs pictures.
+        const { evidenceCharts } = await import('../outputs/charts.js');
+        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
+        return { charts: await evidenceCharts(data, channels[c].decl.unit) };
+      }));
     }
     out.base = {
       frames, sampleRate: r.sampleRate,

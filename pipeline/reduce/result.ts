@@ -1,5 +1,5 @@
 // What reducing a recording yields: per feature group in the worker (the unit of caching), then assembled into rows.
-import type { ColumnValues } from '../../stages/stage.js';
+import type { ColumnValues, KeptValue } from '../../stages/stage.js';
 import type { Flag, Severity } from '../../stages/quality/flag.js';
 
 export type FeatureRow = Record<string, string | number | null>;
@@ -14,6 +14,8 @@ export interface GroupOutput {
   /** Rows of secondary tables (windows.parquet…), by table name. */
   tables: Record<string, FeatureRow[]>;
   notes: string[];
+  /** Compact values kept per channel (ctx.keep), by name: stored with the entry, never assembled into rows. */
+  kept?: Record<string, (KeptValue | null)[]>;
 }
 
 /** Everything a reduction learnt about a recording, by feature group: the unit of caching and of sharding. */

@@ -1,5 +1,3 @@
-// Worker-thread entry: reduces one recording per task.
-import type { RecordingJob } from '../plan/plan.js';
-import { computeRecording } from './compute.js';
-
-export default (job: RecordingJob) => computeRecording(job);
+// Worker-thread entry: batches of recordings to reduce, slices of the tables to assemble, pictures to fetch.
+export { reduceBatch } from './batch.js';
+export { assembleSlice, picturesOf } from '../outputs/slice.js';

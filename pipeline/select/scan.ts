@@ -13,6 +13,8 @@ export interface ScannedRecording {
   group: number;
   size: number;
   mtimeMs: number;
+  /** When size and modification time were read (ms since the epoch). */
+  readAtMs: number;
 }
 
 /** Recordings found, recording-like files no group claims, and how many other files were passed over. */
@@ -44,7 +46,7 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
         continue;
       }
       const s = await stat(path);
-      recordings.push({ recording: rel, path, group, size: s.size, mtimeMs: s.mtimeMs });
+      recordings.push({ recording: rel, path, group, size: s.size, mtimeMs: s.mtimeMs, readAtMs: Date.now() });
     }
   }
   await walk(root);

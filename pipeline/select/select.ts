@@ -1,9 +1,6 @@
 // Which recordings a run takes: a stable share of them for one shard, and those whose start falls in a period.
-import { mkdir, readdir, readFile } from 'node:fs/promises';
-import { dirname, join } from 'node:path';
 import pLimit from 'p-limit';
 import { openRecording } from '../../stages/read/open.js';
-import { writeFileAtomic } from '../outputs/atomic.js';
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
 
@@ -50,29 +47,20 @@ export function parseWhen(text: string, now = Date.now()): number {
   return t;
 }
 
-// ---- selecting a period ----
-
-/** The start of a recording as the index remembers it, keyed by path; valid while size and modification time match. */
-export interface IndexEntry { size: number; mtimeMs: number; start_ms: number }
-
-export const indexPath = (out: string, shard: Shard | null) => join(out, 'cache', shard ? `index-${shard.k}-of-${shard.n}.json` : 'index.json');
-
-/** Every index in the output folder (one per shard, or one for whole runs), merged. */
-export async function readIndex(out: string): Promise<Map<string, IndexEntry>> {
-  const map = new Map<string, IndexEntry>();
-  const dir = join(out, 'cache');
-  const files = (await readdir(dir).catch(() => [] as string[])).filter((f) => /^index(-\d+-of-\d+)?\.json$/.test(f)).sort();
-  for (const f of files) {
-    try {
-      for (const [k, v] of Object.entries(JSON.parse(await readFile(join(dir, f), 'utf8')) as Record<string, IndexEntry>)) map.set(k, v);
-    } catch { /* a damaged index only costs header reads */ }
-  }
-  return map;
+/** A span such as 30m, 12h, 2d or 1w, in ms. */
+export function parseSpan(text: string): number {
+  const span = text.trim().match(SPAN);
+  if (!span) throw new Error(`"${text}" is not a span (30m, 12h, 2d, 1w)`);
+  return Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
 }
 
-/** A recording's start: from the index while the file is unchanged, else its header (bext, CSV date-time), else its modification time. */
-export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, index: Map<string, IndexEntry>): Promise<number> {
-  const known = index.get(r.recording);
+// ---- selecting a period ----
+
+/** What the output folder already knows of a recording's start (from its stored entry); valid while size and modification time match. */
+export interface KnownStart { size: number; mtimeMs: number; start_ms: number }
+
+/** A recording's start: as known while the file is unchanged, else its header (bext, CSV date-time), else its modification time. */
+export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, known: KnownStart | undefined): Promise<number> {
   if (known && known.size === r.size && known.mtimeMs === r.mtimeMs) return known.start_ms;
   try {
     const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout });
@@ -82,20 +70,9 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, inde
   return r.mtimeMs;
 }
 
-/** The recordings whose start falls in [since, until). */
-export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], out: string, since: number, until: number): Promise<ScannedRecording[]> {
-  const index = await readIndex(out);
+/** The recordings whose start falls in [since, until); `known` gives what earlier runs stored, so unchanged files' headers are not read. */
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number): Promise<ScannedRecording[]> {
   const limit = pLimit(16);
-  const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], index))));
+  const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], known(r.recording)))));
   return recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
-}
-
-/** Remembers the start of every recording this run knows, beside what earlier runs knew. */
-export async function updateIndex(out: string, shard: Shard | null, known: { recording: string; size: number; mtimeMs: number; start_ms: number }[]): Promise<void> {
-  const path = indexPath(out, shard);
-  let current: Record<string, IndexEntry> = {};
-  try { current = JSON.parse(await readFile(path, 'utf8')); } catch { /* first run */ }
-  for (const k of known) current[k.recording] = { size: k.size, mtimeMs: k.mtimeMs, start_ms: k.start_ms };
-  await mkdir(dirname(path), { recursive: true });
-  await writeFileAtomic(path, JSON.stringify(current));
 }

@@ -64,7 +64,7 @@ export function butterworthSos(spec: FilterSpec, fs: number): Section[] {
 }
 
 /** Pairs conjugate poles (and zeros) into biquads; a lone real pole makes a first-order section. Gain goes on the first section. */
-function toSections(zeros: C[], poles: C[], gain: number): Section[] {
+export function toSections(zeros: C[], poles: C[], gain: number): Section[] {
   const pairs = (xs: C[]) => {
     const eps = 1e-9;
     const upper = xs.filter((x) => x.im > eps).sort((a, b) => abs(a) - abs(b));

@@ -25,21 +25,23 @@ export const dropout: StageDefinition<QualityThresholds> = {
         let severity: Severity = 'ok';
         if (missing > 0) {
           problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}`);
-          severity = fraction >= d.fail_missing_fraction ? 'fail' : 'warn';
+          severity = fraction >= d.fail_missing_fraction ? 'fail' : fraction >= d.warn_missing_fraction ? 'warn' : 'note';
         }
         if (zeroS >= d.warn_zero_run_s) {
           problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
-          if (severity === 'ok') severity = 'warn';
+          if (severity === 'ok' || severity === 'note') severity = 'warn';
         }
         if (steps && steps.irregular > 0) {
           problems.push(`${steps.irregular} irregular time steps, the widest ${secs(steps.widest_s)} (nominal ${secs(steps.nominal_s)}) ending at t = ${secs(steps.widest_at_s)}`);
-          if (severity === 'ok') severity = 'warn';
+          if (severity === 'ok' || severity === 'note') severity = 'warn';
         }
         ctx.flag({
           name: 'dropout', severity, value: fraction,
-          threshold: `warn: any missing sample, zeros for ≥ ${secs(d.warn_zero_run_s)}, or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
+          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, zeros for ≥ ${secs(d.warn_zero_run_s)}, or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
           evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
-          message: problems.length ? `${problems.join('; ')}: the logger lost data; figures cover what is left` : 'no missing samples, zero stretches or time gaps',
+          message: problems.length
+            ? `${problems.join('; ')}: ${severity === 'note' ? 'the figures cover the rest and move by less than the missing share' : 'the logger lost data: RMS, peak and the window figures cover only what is left (zeros pull them down; uneven steps distort the spectrum)'}`
+            : 'no missing samples, zero stretches or time gaps',
         });
         return { missing_fraction: fraction, zero_run_s: zeroS };
       },

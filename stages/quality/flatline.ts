@@ -27,7 +27,7 @@ export const flatline: StageDefinition<QualityThresholds> = {
           message = `the channel hardly moves (spread ${spread.toPrecision(3)} ${ctx.unit}${step != null ? `, ${Math.round(spread / step)} converter steps` : ''}): a dead or disconnected sensor; check the sensor, cable and supply before trusting any figure`;
         } else if (runS >= q.flatline.warn_run_s) {
           severity = 'warn';
-          message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter?`;
+          message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
         }
         ctx.flag({
           name: 'flatline', severity, value: runS,

@@ -2,7 +2,7 @@
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
-import type { QualityThresholds, Severity } from './flag.js';
+import { pct, type QualityThresholds, type Severity } from './flag.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -33,10 +33,12 @@ export const offset: StageDefinition<QualityThresholds> = {
         if (ratio != null && ratio > q.offset.warn_ratio) issues.push(`mean ${mean.toPrecision(3)} ${ctx.unit} is ${ratio.toFixed(2)} standard deviations from zero`);
         if (drift != null && drift > q.offset.warn_drift_ratio) issues.push(`1 s means drift over ${(wmax - wmin).toPrecision(3)} ${ctx.unit} (${drift.toFixed(2)} standard deviations)`);
         const severity: Severity = issues.length ? 'warn' : 'ok';
+        // What the offset and a ramp-like drift add to RMS over the signal's own spread (derived: variances add).
+        const rmsExcess = Math.sqrt(1 + (ratio ?? 0) ** 2 + (drift ?? 0) ** 2 / 12) - 1;
         ctx.flag({
           name: 'offset', severity, value: ratio, threshold,
           evidence: { mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null },
-          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none; check the sensor's bias, the coupling (AC/DC) and thermal drift` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
+          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none, and RMS and peak include it (RMS reads ${pct(rmsExcess)} high); check the sensor's bias, the coupling (AC/DC) and thermal drift` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
         });
         return { offset_ratio: ratio, drift_ratio: drift };
       },

@@ -1,34 +1,52 @@
-// Peak capture: at r samples per cycle the largest sample of a sine can miss its peak by up to 1 − cos(π/r) (derived; ~10 per cycle is common practice).
+// Peak capture: how far the largest sample falls short of the true, band-limited peak, estimated by 4× oversampling
+// (ITU-R BS.1770-4 Annex 2); beside it the worst case for a sine at the declared highest frequency, 1 − cos(π·f/fs) (derived).
+import { TruePeak } from '../dsp/true-peak.js';
 import type { StageDefinition } from '../stage.js';
-import { pct, type QualityThresholds } from './flag.js';
+import { pct, type QualityThresholds, type Severity } from './flag.js';
 
 /** Worst-case shortfall of the largest sample below a sine's peak at r samples per cycle: the peak falls midway between two samples. */
 export const peakUnderestimate = (samplesPerCycle: number) => 1 - Math.cos(Math.PI / samplesPerCycle);
+
+/** Common practice leaves content up to fs/2.56; without a declared highest frequency the true peak assumes that much. */
+const ASSUMED_RATIO = 2.56;
 
 export const peakCapture: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [
     { name: 'samples_per_cycle', unit: '1', description: 'Sample rate / declared highest frequency.' },
     { name: 'peak_underestimate', unit: '1', description: 'Worst-case shortfall of a sampled peak at the declared highest frequency: 1 − cos(π·f/fs).' },
+    { name: 'true_peak', unit: '[unit]', description: 'Largest magnitude of the band-limited signal between the samples, by 4× oversampling (ITU-R BS.1770-4 Annex 2).' },
+    { name: 'peak_shortfall', unit: '1', description: 'How far the largest sample falls below the true peak: 1 − peak / true_peak.' },
   ],
   create(ctx, q) {
+    const fs = ctx.sampleRate, f = ctx.maxFrequencyHz;
+    // Candidates for interpolation come within cos(π·f/fs) of the running true peak (see TruePeak); f is at most fs/2.
+    const tracker = new TruePeak(Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO)));
     return {
-      push() {},
+      push(x) { tracker.push(x); },
       finish() {
-        const f = ctx.maxFrequencyHz, need = q.peak_capture.warn_samples_per_cycle;
-        if (!f) {
-          ctx.flag({ name: 'peak_capture', severity: 'ok', value: null, threshold: `warn below ${need} samples per cycle`, evidence: {}, message: 'not assessed: no highest frequency declared' });
-          return { samples_per_cycle: null, peak_underestimate: null };
+        const { note_shortfall: noteAt, warn_shortfall: warnAt } = q.peak_capture;
+        const r = f ? fs / f : null;
+        const bound = r == null ? null : r > 1 ? peakUnderestimate(r) : 1;
+        const { samplePeak, truePeak } = tracker.result();
+        const threshold = `note above ${pct(noteAt)}, warn above ${pct(warnAt)} shortfall of the sampled peak below the 4× true peak`;
+        if (!(truePeak > 0)) {
+          ctx.flag({ name: 'peak_capture', severity: 'ok', value: null, threshold, evidence: { declared_hz: f, worst_underestimate: bound }, message: 'not assessed: the signal never leaves zero' });
+          return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: null };
         }
-        const r = ctx.sampleRate / f;
-        const under = r > 1 ? peakUnderestimate(r) : 1;
-        const severity = r < need ? 'warn' : 'ok';
+        const shortfall = 1 - samplePeak / truePeak;
+        const severity: Severity = shortfall > warnAt ? 'warn' : shortfall > noteAt ? 'note' : 'ok';
+        const at = r == null ? '' : ` (${r.toFixed(2)} samples per cycle at the declared ${f} Hz: a sine's peak can fall up to ${pct(bound!)} between samples)`;
+        const unit = ctx.unit;
         ctx.flag({
-          name: 'peak_capture', severity, value: r, threshold: `warn below ${need} samples per cycle`,
-          evidence: { declared_hz: f, worst_underestimate: under },
-          message: `${r.toFixed(2)} samples per cycle at ${f} Hz: a peak can read up to ${pct(under)} low${severity === 'ok' ? '' : '; treat peak and crest factor as lower bounds, or sample faster'}`,
+          name: 'peak_capture', severity, value: shortfall, threshold,
+          evidence: { declared_hz: f, worst_underestimate: bound, sample_peak: samplePeak, true_peak: truePeak },
+          message: severity === 'ok'
+            ? `the largest sample is within ${pct(Math.max(shortfall, 0))} of the true peak ${truePeak.toPrecision(4)} ${unit}${at}`
+            : `the largest sample, ${samplePeak.toPrecision(4)} ${unit}, reads ${pct(shortfall)} below the true peak ${truePeak.toPrecision(4)} ${unit}${at}: `
+              + (severity === 'warn' ? 'peak and crest factor read that much low; use true_peak, or sample faster' : 'peak and crest factor read slightly low; true_peak holds the band-limited figure'),
         });
-        return { samples_per_cycle: r, peak_underestimate: under };
+        return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: shortfall };
       },
     };
   },

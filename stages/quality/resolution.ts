@@ -1,7 +1,7 @@
 // Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
 import { momentsOf } from '../fused/moments.js';
 import type { StageDefinition } from '../stage.js';
-import type { QualityThresholds, Severity } from './flag.js';
+import { pct, type QualityThresholds, type Severity } from './flag.js';
 
 /** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
 export const quantisationNoise = (step: number) => step / Math.sqrt(12);
@@ -20,7 +20,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
       finish() {
         const m = shared.moments();
         const step = ctx.stepSize;
-        const threshold = `warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
+        const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
         if (step == null || m.n === 0 || std === 0) {
           ctx.flag({ name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: step == null ? 'not assessed: converter step unknown (declare bits for the channel)' : 'not assessed: the signal does not vary (see flatline)' });
@@ -28,11 +28,16 @@ export const resolution: StageDefinition<QualityThresholds> = {
         }
         const bits = Math.log2(Math.max(1, (m.max - m.min) / step));
         const snr = 20 * Math.log10(std / quantisationNoise(step));
-        const severity: Severity = snr < q.resolution.fail_snr_db ? 'fail' : snr < q.resolution.warn_snr_db ? 'warn' : 'ok';
+        const severity: Severity = snr < q.resolution.fail_snr_db ? 'fail' : snr < q.resolution.warn_snr_db ? 'warn' : snr < q.resolution.note_snr_db ? 'note' : 'ok';
+        // Half a step at a sine's peak (√2·std), relative to that peak (derived from LSB/√12).
+        const peakError = step / 2 / (Math.SQRT2 * std);
         ctx.flag({
           name: 'resolution', severity, value: snr, threshold,
           evidence: { step_size: step, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
-          message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits), ${snr.toFixed(1)} dB above ideal quantisation noise${severity === 'ok' ? '' : ': too coarse; use a smaller range or a finer converter'}`,
+          message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits), ${snr.toFixed(1)} dB above ideal quantisation noise`
+            + ({ ok: '', note: `: a peak can be off by ${pct(peakError)} (half a step), and band figures more than ${snr.toFixed(0)} dB below the overall level sit on quantisation noise`,
+              warn: `: too coarse for the figures: a peak can be off by ${pct(peakError)}, and band figures more than ${snr.toFixed(0)} dB below the overall level are quantisation noise; use a smaller range or a finer converter`,
+              fail: `: too coarse: peak, kurtosis and band figures describe the converter's steps more than the signal; use a smaller range or a finer converter` })[severity],
         });
         return { step_size: step, resolution_bits: bits, quantisation_snr_db: snr };
       },

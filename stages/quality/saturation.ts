@@ -31,7 +31,7 @@ export const saturation: StageDefinition<QualityThresholds> = {
           name: 'saturation', severity, value: fraction, threshold,
           evidence: { samples: count, first_s: first >= 0 ? first / rate : null, longest_run: longest, longest_run_at_s: longest ? (longestEnd - longest + 1) / rate : null },
           message: count === 0 ? `no sample at the ${source}`
-            : `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}: clipped data says nothing about the input beyond the range; retake the measurement with a larger range`,
+            : `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}: clipped data says nothing about the input beyond the range, so peak, crest factor and kurtosis read low; retake the measurement with a larger range`,
         });
         return { saturation_fraction: fraction };
       },

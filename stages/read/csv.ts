@@ -2,7 +2,7 @@
 import { createReadStream } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { createInterface } from 'node:readline';
-import { DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
 const PROBE_BYTES = 1 << 20;
@@ -69,6 +69,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const timeColumn = TIME_HEADER.test(names[0]) ? 0 : -1;
   const channelNames = names.filter((_, i) => i !== timeColumn);
   if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
+  checkChannelCount(channelNames.length, `line ${headerLine}: header`);
+  chunkFrames = boundedChunkFrames(chunkFrames, channelNames.length);
   const probeRows = lines.slice(headerIndex + 1).filter(isData).slice(0, PROBE_ROWS).map((l) => splitFields(l, delimiter));
   // A semicolon or tab file whose cells hold commas writes decimals with a comma.
   const decimalComma = delimiter !== ',' && probeRows.some((r) => r.some((c) => /^\s*-?\d+,\d+/.test(c)));

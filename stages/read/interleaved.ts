@@ -8,6 +8,9 @@ export type ByteOrder = 'little' | 'big';
 
 export const BYTES: Record<SampleType, number> = { uint8: 1, int16: 2, int24: 3, int32: 4, float32: 4, float64: 8 };
 
+/** Decodes the sample at a byte offset to a number (normalised to ±1 for integer codes). */
+export type SampleDecoder = (v: DataView, at: number) => number;
+
 export interface InterleavedLayout {
   sampleType: SampleType;
   byteOrder: ByteOrder;
@@ -15,10 +18,12 @@ export interface InterleavedLayout {
   /** Byte offset of the first frame. */
   offset: number;
   frames: number;
+  /** An encoding the sample types do not cover (PCM of other widths, G.711): its width in bytes and its decoder. */
+  custom?: { width: number; decode: SampleDecoder };
 }
 
 /** Full-scale divisor that maps an integer code to ±1 (offset binary for 8-bit unsigned). */
-function decoder(type: SampleType, little: boolean): (v: DataView, at: number) => number {
+function decoder(type: SampleType, little: boolean): SampleDecoder {
   switch (type) {
     case 'uint8': return (v, at) => (v.getUint8(at) - 128) / 128;
     case 'int16': return (v, at) => v.getInt16(at, little) / 32768;
@@ -33,15 +38,15 @@ function decoder(type: SampleType, little: boolean): (v: DataView, at: number) =
 
 /** Streams the frames of an open file in chunks of at most chunkFrames, reusing its buffers. */
 export async function* readInterleaved(file: FileHandle, layout: InterleavedLayout, chunkFrames: number, where: string): AsyncGenerator<Float64Array[]> {
-  const width = BYTES[layout.sampleType];
+  const width = layout.custom?.width ?? BYTES[layout.sampleType];
   const frameBytes = width * layout.channels;
   const buffer = Buffer.alloc(chunkFrames * frameBytes);
   const view = new DataView(buffer.buffer, buffer.byteOffset, buffer.byteLength);
   const out = Array.from({ length: layout.channels }, () => new Float64Array(chunkFrames));
-  const decode = decoder(layout.sampleType, layout.byteOrder === 'little');
-  const nativeLittle = layout.byteOrder === 'little' && endianness() === 'LE';
+  const decode = layout.custom?.decode ?? decoder(layout.sampleType, layout.byteOrder === 'little');
+  const nativeLittle = !layout.custom && layout.byteOrder === 'little' && endianness() === 'LE';
   const little16 = nativeLittle && layout.sampleType === 'int16' && buffer.byteOffset % 2 === 0;
-  const little24 = layout.byteOrder === 'little' && layout.sampleType === 'int24';
+  const little24 = !layout.custom && layout.byteOrder === 'little' && layout.sampleType === 'int24';
   let done = 0;
   while (done < layout.frames) {
     const want = Math.min(chunkFrames, layout.frames - done);

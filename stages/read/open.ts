@@ -1,30 +1,37 @@
 // Picks the reader for a recording's format.
 import { extname } from 'node:path';
 import { openCsv } from './csv.js';
+import { openFlac, type FlacOptions } from './flac.js';
+import { openHdf5, type Hdf5Layout } from './hdf5.js';
 import { openRaw, type RawLayout } from './raw.js';
 import { DEFAULT_CHUNK_FRAMES, RecordingError, type Format, type Recording } from './recording.js';
 import { openWav } from './wav.js';
 
-const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw' };
+const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw', '.flac': 'flac', '.h5': 'hdf5', '.hdf5': 'hdf5' };
 
 export function formatOf(path: string): Format | null {
   return BY_EXTENSION[extname(path).toLowerCase()] ?? null;
 }
 
-export interface OpenOptions {
+/** Reading options that only some formats take. */
+export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null }
+
+export interface OpenOptions extends ReaderOptions {
   format?: Format | null;
   sampleRate?: number | null;
   layout?: RawLayout | null;
   chunkFrames?: number;
 }
 
-export async function openRecording(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES }: OpenOptions = {}): Promise<Recording> {
+export async function openRecording(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null }: OpenOptions = {}): Promise<Recording> {
   const f = format ?? formatOf(path);
   if (f === 'wav') return openWav(path, { chunkFrames });
+  if (f === 'flac') return openFlac(path, { chunkFrames, options: flac });
+  if (f === 'hdf5') return openHdf5(path, hdf5, sampleRate, { chunkFrames });
   if (f === 'csv') return openCsv(path, { chunkFrames, declaredSampleRate: sampleRate });
   if (f === 'raw') {
     if (!layout || sampleRate == null) throw new RecordingError('raw binary needs a declared layout (sample_type, byte_order, channels, header_bytes) and sample_rate in its archive.yaml group');
     return openRaw(path, layout, sampleRate, { chunkFrames });
   }
-  throw new RecordingError(`cannot tell the format from the extension "${extname(path)}"; declare format: wav, csv or raw for its group in archive.yaml`);
+  throw new RecordingError(`cannot tell the format from the extension "${extname(path)}"; declare format: wav, flac, hdf5, csv or raw for its group in archive.yaml`);
 }

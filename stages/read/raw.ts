@@ -1,7 +1,7 @@
 // Raw interleaved binary: the layout (sample type, byte order, channels, header bytes) is declared, not read.
 import { open } from 'node:fs/promises';
 import { BYTES, readInterleaved, type ByteOrder, type SampleType } from './interleaved.js';
-import { DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 
 export interface RawLayout { sample_type: SampleType; byte_order: ByteOrder; channels: number; header_bytes: number }
 
@@ -9,6 +9,7 @@ export async function openRaw(path: string, layout: RawLayout, sampleRate: numbe
   const file = await open(path, 'r');
   try {
     const size = (await file.stat()).size;
+    checkChannelCount(layout.channels, 'layout');
     const frameBytes = BYTES[layout.sample_type] * layout.channels;
     if (size < layout.header_bytes) throw new RecordingError(`byte ${size}: the file is shorter than its declared ${layout.header_bytes}-byte header; check layout.header_bytes or the file`);
     const payload = size - layout.header_bytes;
@@ -19,7 +20,7 @@ export async function openRaw(path: string, layout: RawLayout, sampleRate: numbe
       format: 'raw', channelCount: layout.channels, sampleRate, frames,
       encoding: layout.sample_type, bits: integer ? BYTES[layout.sample_type] * 8 : null, normalised: integer,
       startTime: null, channelNames: null, notes,
-      chunks: () => readInterleaved(file, { sampleType: layout.sample_type, byteOrder: layout.byte_order, channels: layout.channels, offset: layout.header_bytes, frames }, chunkFrames, 'samples'),
+      chunks: () => readInterleaved(file, { sampleType: layout.sample_type, byteOrder: layout.byte_order, channels: layout.channels, offset: layout.header_bytes, frames }, boundedChunkFrames(chunkFrames, layout.channels, frameBytes), 'samples'),
       close: () => file.close(),
     };
   } catch (e) {

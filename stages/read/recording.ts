@@ -1,6 +1,6 @@
 // What every reader hands the pipeline: a header read up front, then the samples in bounded chunks.
 
-export type Format = 'wav' | 'csv' | 'raw';
+export type Format = 'wav' | 'csv' | 'raw' | 'flac' | 'hdf5';
 
 export interface Recording {
   format: Format;
@@ -33,3 +33,20 @@ export class RecordingError extends Error {
 }
 
 export const DEFAULT_CHUNK_FRAMES = 65536;
+
+/** Most channels a recording may have; a header claiming more is taken as damaged rather than allocated for. */
+export const MAX_CHANNELS = 4096;
+
+/** Bytes one chunk of decoded samples may take (8 per sample): chunks of very wide recordings hold fewer frames. */
+export const CHUNK_BYTES = 32 * 1024 * 1024;
+
+/** Frames per chunk so that `channels` decoded channels (and `frameBytes` stored bytes a frame) stay within CHUNK_BYTES. */
+export function boundedChunkFrames(chunkFrames: number, channels: number, frameBytes = 0): number {
+  return Math.max(1, Math.min(chunkFrames, Math.floor(CHUNK_BYTES / (8 * Math.max(1, channels) + frameBytes))));
+}
+
+/** Refuses channel counts no recording has, before anything is allocated for them. */
+export function checkChannelCount(channels: number, where: string): void {
+  if (!(channels >= 1)) throw new RecordingError(`${where}: the header says ${channels} channels; the header is damaged`);
+  if (channels > MAX_CHANNELS) throw new RecordingError(`${where}: the header says ${channels} channels, more than the ${MAX_CHANNELS} quern reads; the header is damaged, or split the capture into files of fewer channels`);
+}

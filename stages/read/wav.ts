@@ -1,44 +1,9 @@
-// WAV/RIFF reader: PCM 8/16/24/32-bit, IEEE float 32/64, WAVE_FORMAT_EXTENSIBLE, Broadcast Wave `bext` start time.
-import { open } from 'node:fs/promises';
-import { BYTES, readInterleaved, type SampleType } from './interleaved.js';
-import { DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
-
-// Format codes from the RIFF/WAVE specification and its registered extensions, named so a refusal says what the file is.
-const FORMAT_NAMES: Record<number, string> = {
-  0x0001: 'PCM', 0x0002: 'Microsoft ADPCM', 0x0003: 'IEEE float', 0x0006: 'A-law', 0x0007: 'µ-law',
-  0x0011: 'IMA ADPCM', 0x0031: 'GSM 6.10', 0x0050: 'MPEG', 0x0055: 'MPEG Layer III', 0x00ff: 'AAC',
-  0x0161: 'WMA', 0xf1ac: 'FLAC', 0xfffe: 'WAVE_FORMAT_EXTENSIBLE',
-};
-const formatName = (code: number) => `0x${code.toString(16).padStart(4, '0')} (${FORMAT_NAMES[code] ?? 'unregistered'})`;
-
-interface FmtChunk { code: number; channels: number; sampleRate: number; blockAlign: number; bits: number; validBits: number }
-
-function parseFmt(b: Buffer, where: string): FmtChunk {
-  if (b.length < 16) throw new RecordingError(`${where}: fmt chunk is ${b.length} bytes, shorter than the 16 the format requires; the header is damaged`);
-  let code = b.readUInt16LE(0);
-  const bits = b.readUInt16LE(14);
-  let validBits = bits;
-  if (code === 0xfffe) {
-    if (b.length < 40) throw new RecordingError(`${where}: WAVE_FORMAT_EXTENSIBLE fmt chunk is ${b.length} bytes, expected 40; the header is damaged`);
-    validBits = b.readUInt16LE(18) || bits;
-    code = b.readUInt16LE(24); // the sub-format GUID starts with the plain format code
-  }
-  return { code, channels: b.readUInt16LE(2), sampleRate: b.readUInt32LE(4), blockAlign: b.readUInt16LE(12), bits, validBits };
-}
-
-function sampleTypeOf(f: FmtChunk, where: string): SampleType {
-  if (f.code === 1) {
-    const t = ({ 8: 'uint8', 16: 'int16', 24: 'int24', 32: 'int32' } as const)[f.bits];
-    if (t) return t;
-    throw new RecordingError(`${where}: PCM with ${f.bits}-bit containers is not supported (8, 16, 24 or 32 bits are); convert the file to one of those`);
-  }
-  if (f.code === 3) {
-    if (f.bits === 32) return 'float32';
-    if (f.bits === 64) return 'float64';
-    throw new RecordingError(`${where}: IEEE float with ${f.bits} bits is not supported (32 or 64 are)`);
-  }
-  throw new RecordingError(`${where}: WAV format code ${formatName(f.code)} is not supported; quern reads PCM and IEEE float only and will not guess at compressed data: convert the file to PCM or float WAV`);
-}
+// WAV/RIFF reader: RIFF (little-endian), RIFX (big-endian), RF64 and BW64 (64-bit sizes in a ds64 chunk: EBU Tech 3306,
+// ITU-R BS.2088); PCM of 1–64 bits, IEEE float 32/64, G.711 µ-law and A-law, WAVE_FORMAT_EXTENSIBLE; Broadcast Wave start time.
+import { open, type FileHandle } from 'node:fs/promises';
+import { readInterleaved } from './interleaved.js';
+import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-encoding.js';
 
 // Broadcast Wave (EBU Tech 3285): OriginationDate at byte 320 ("yyyy-mm-dd", any separator), OriginationTime at 330 ("hh:mm:ss").
 export function bextStartTime(b: Buffer): Date | null {
@@ -51,62 +16,114 @@ export function bextStartTime(b: Buffer): Date | null {
   return Number.isFinite(t) ? new Date(t) : null;
 }
 
+export type RiffKind = 'RIFF' | 'RIFX' | 'RF64' | 'BW64';
+
+export interface WavHeader {
+  kind: RiffKind;
+  little: boolean;
+  fmt: FmtChunk;
+  encoding: WavEncoding;
+  startTime: Date | null;
+  /** Byte offset and declared size of the data chunk's samples. */
+  data: { offset: number; size: number };
+  frames: number;
+  frameBytes: number;
+  notes: string[];
+}
+
+const printable = (s: string) => s.replace(/[^\x20-\x7e]/g, '?');
+
+// RF64/BW64 ds64 chunk (EBU Tech 3306 §3; ITU-R BS.2088 §4): 64-bit RIFF size, data size and sample count, then a table
+// of {chunk id, 64-bit size} for other chunks whose 32-bit size field holds 0xFFFFFFFF.
+function parseDs64(b: Buffer, at: number): { dataSize: number; table: Map<string, number> } {
+  if (b.length < 28) throw new RecordingError(`byte ${at}: ds64 chunk is ${b.length} bytes, shorter than the 28 it needs; the header is damaged`);
+  const u64 = (o: number) => {
+    const v = b.readUInt32LE(o) + b.readUInt32LE(o + 4) * 2 ** 32;
+    // Sizes past the file are cut files, reported where the data is checked; past 2^53 bytes no file is.
+    if (!Number.isSafeInteger(v)) throw new RecordingError(`byte ${at + o}: ds64 gives a size of ${v} bytes, more than any file holds; the header is damaged`);
+    return v;
+  };
+  const dataSize = u64(8);
+  const entries = Math.min(b.readUInt32LE(24), Math.floor((b.length - 28) / 12));
+  const table = new Map<string, number>();
+  for (let i = 0; i < entries; i++) table.set(b.toString('latin1', 28 + 12 * i, 32 + 12 * i), u64(32 + 12 * i));
+  return { dataSize, table };
+}
+
+/** Reads and checks every header field; the samples stay on disk. */
+export async function readWavHeader(file: FileHandle, size: number): Promise<WavHeader> {
+  // One read of the first 64 KiB holds the header chunks of nearly every file; later chunk headers are read where they lie.
+  const head = Buffer.alloc(Math.min(size, 65536));
+  await file.read(head, 0, head.length, 0);
+  const bytesAt = async (at: number, length: number): Promise<Buffer> => {
+    if (at + length <= head.length) return head.subarray(at, at + length);
+    const b = Buffer.alloc(Math.max(0, Math.min(length, size - at)));
+    await file.read(b, 0, b.length, at);
+    return b;
+  };
+  const kind = head.toString('latin1', 0, 4) as RiffKind;
+  if (!['RIFF', 'RIFX', 'RF64', 'BW64'].includes(kind) || head.length < 12 || head.toString('latin1', 8, 12) !== 'WAVE') {
+    throw new RecordingError(`byte 0: not a RIFF/WAVE file (starts with "${printable(head.toString('latin1', 0, 4))}"); check the group's format or the file`);
+  }
+  const little = kind !== 'RIFX';
+  const sixtyFour = kind === 'RF64' || kind === 'BW64';
+  let ds64: ReturnType<typeof parseDs64> | null = null;
+  let fmt: FmtChunk | null = null;
+  let fmtAt = 0;
+  let startTime: Date | null = null;
+  let data: { offset: number; size: number } | null = null;
+  let pos = 12;
+  while (pos + 8 <= size) {
+    const ch = await bytesAt(pos, 8);
+    const id = ch.toString('latin1', 0, 4);
+    let len = little ? ch.readUInt32LE(4) : ch.readUInt32BE(4);
+    const body = pos + 8;
+    if (sixtyFour && len === 0xffffffff && ds64) len = id === 'data' ? ds64.dataSize : (ds64.table.get(id) ?? len);
+    if (id === 'ds64') {
+      if (!sixtyFour) throw new RecordingError(`byte ${pos}: a ds64 chunk in a ${kind} file; the header is damaged`);
+      ds64 = parseDs64(await bytesAt(body, Math.min(len, 28 + 12 * 1024)), body);
+    } else if (sixtyFour && !ds64) {
+      throw new RecordingError(`byte ${pos}: ${kind} file whose first chunk is "${printable(id)}", not ds64 (EBU Tech 3306); the header is damaged`);
+    } else if (id === 'fmt ') {
+      fmt = parseFmt(await bytesAt(body, Math.min(len, 4096)), little, `byte ${body}`);
+      fmtAt = body;
+    } else if (id === 'bext') {
+      startTime = bextStartTime(await bytesAt(body, Math.min(len, 4096)));
+    } else if (id === 'data') {
+      data = { offset: body, size: len };
+      if (fmt) break; // everything needed is known; later chunks (LIST, cue…) do not matter
+    }
+    pos = body + len + (len % 2); // chunks are padded to an even length
+  }
+  if (sixtyFour && !ds64) throw new RecordingError(`byte 12: ${kind} file without its ds64 chunk (EBU Tech 3306); the header is damaged`);
+  if (!fmt) throw new RecordingError(`no fmt chunk before byte ${size}; the header is missing or damaged`);
+  if (!data) throw new RecordingError(`no data chunk before byte ${size}; the file holds no samples (an aborted capture?)`);
+  const where = `fmt chunk (byte ${fmtAt})`;
+  const encoding = wavEncoding(fmt, little, where);
+  if (fmt.sampleRate === 0) throw new RecordingError(`${where}: sample rate is 0; the header is damaged`);
+  const frameBytes = fmt.blockAlign;
+  const present = size - data.offset;
+  if (!sixtyFour && (data.size === 0xffffffff || (data.size === 0 && present > 0))) {
+    throw new RecordingError(`byte ${data.offset - 4}: data chunk size was never written (${data.size}); the capture was not closed properly: re-export it`);
+  }
+  if (data.size > present) {
+    throw new RecordingError(`byte ${size}: the file ends ${data.size - present} bytes early: the data chunk declares ${Math.floor(data.size / frameBytes)} frames but only ${Math.floor(present / frameBytes)} are present; the file was cut short (interrupted copy or capture): recapture or copy it again`);
+  }
+  const notes = data.size % frameBytes ? [`data chunk ends with ${data.size % frameBytes} bytes of a partial frame, ignored`] : [];
+  return { kind, little, fmt, encoding, startTime, data, frames: Math.floor(data.size / frameBytes), frameBytes, notes };
+}
+
 export async function openWav(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES } = {}): Promise<Recording> {
   const file = await open(path, 'r');
   try {
-    const size = (await file.stat()).size;
-    const head = Buffer.alloc(12);
-    await file.read(head, 0, Math.min(12, size), 0);
-    const riff = head.toString('latin1', 0, 4);
-    if (riff === 'RF64' || riff === 'BW64') throw new RecordingError(`byte 0: ${riff} (64-bit RIFF) files are not supported; split the capture into WAV files under 4 GiB`);
-    if (riff !== 'RIFF' || head.toString('latin1', 8, 12) !== 'WAVE') throw new RecordingError(`byte 0: not a RIFF/WAVE file (starts with "${head.toString('latin1', 0, 4).replace(/[^\x20-\x7e]/g, '?')}"); check the group's format or the file`);
-    let fmt: FmtChunk | null = null;
-    let start: Date | null = null;
-    let data: { offset: number; size: number } | null = null;
-    // One read of the first 64 KiB holds the header chunks of nearly every file; later chunk headers are read where they lie.
-    const head64 = Buffer.alloc(Math.min(size, 65536));
-    await file.read(head64, 0, head64.length, 0);
-    const bytesAt = async (at: number, length: number): Promise<Buffer> => {
-      if (at + length <= head64.length) return head64.subarray(at, at + length);
-      const b = Buffer.alloc(Math.max(0, Math.min(length, size - at)));
-      await file.read(b, 0, b.length, at);
-      return b;
-    };
-    let pos = 12;
-    while (pos + 8 <= size) {
-      const ch = await bytesAt(pos, 8);
-      const id = ch.toString('latin1', 0, 4);
-      const len = ch.readUInt32LE(4);
-      const body = pos + 8;
-      if (id === 'fmt ' || id === 'bext') {
-        const b = await bytesAt(body, Math.min(len, 4096));
-        if (id === 'fmt ') fmt = parseFmt(b, `byte ${body}`);
-        else start = bextStartTime(b);
-      } else if (id === 'data') {
-        data = { offset: body, size: len };
-        if (fmt) break; // everything needed is known; later chunks (LIST, cue…) do not matter
-      }
-      pos = body + len + (len & 1); // chunks are padded to an even length
-    }
-    if (!fmt) throw new RecordingError(`no fmt chunk before byte ${size}; the header is missing or damaged`);
-    if (!data) throw new RecordingError(`no data chunk before byte ${size}; the file holds no samples (an aborted capture?)`);
-    const type = sampleTypeOf(fmt, 'fmt chunk');
-    const frameBytes = BYTES[type] * fmt.channels;
-    if (fmt.channels === 0 || fmt.blockAlign !== frameBytes) throw new RecordingError(`fmt chunk: block align ${fmt.blockAlign} does not fit ${fmt.channels} channels of ${fmt.bits} bits; the header is damaged`);
-    if (fmt.sampleRate === 0) throw new RecordingError('fmt chunk: sample rate is 0; the header is damaged');
-    const present = size - data.offset;
-    if (data.size === 0xffffffff || (data.size === 0 && present > 0)) throw new RecordingError(`byte ${data.offset - 4}: data chunk size was never written (${data.size}); the capture was not closed properly: re-export it`);
-    if (data.size > present) {
-      throw new RecordingError(`byte ${size}: the file ends ${data.size - present} bytes early: the data chunk declares ${Math.floor(data.size / frameBytes)} frames but only ${Math.floor(present / frameBytes)} are present; the file was cut short (interrupted copy or capture): recapture or copy it again`);
-    }
-    const frames = Math.floor(data.size / frameBytes);
-    const notes = data.size % frameBytes ? [`data chunk ends with ${data.size % frameBytes} bytes of a partial frame, ignored`] : [];
-    const integer = type !== 'float32' && type !== 'float64';
+    const h = await readWavHeader(file, (await file.stat()).size);
+    const e = h.encoding;
+    const frames = boundedChunkFrames(chunkFrames, h.fmt.channels, h.frameBytes);
     return {
-      format: 'wav', channelCount: fmt.channels, sampleRate: fmt.sampleRate, frames,
-      encoding: integer ? `pcm${fmt.bits}` : type, bits: integer ? fmt.validBits : null, normalised: integer,
-      startTime: start, channelNames: null, notes,
-      chunks: () => readInterleaved(file, { sampleType: type, byteOrder: 'little', channels: fmt!.channels, offset: data!.offset, frames }, chunkFrames, 'data chunk'),
+      format: 'wav', channelCount: h.fmt.channels, sampleRate: h.fmt.sampleRate, frames: h.frames,
+      encoding: h.kind === 'RIFF' ? e.encoding : `${e.encoding} (${h.kind})`, bits: e.bits, normalised: e.normalised,
+      startTime: h.startTime, channelNames: null, notes: h.notes,
+      chunks: () => readInterleaved(file, { sampleType: e.sampleType, custom: e.custom, byteOrder: h.little ? 'little' : 'big', channels: h.fmt.channels, offset: h.data.offset, frames: h.frames }, frames, 'data chunk'),
       close: () => file.close(),
     };
   } catch (e) {

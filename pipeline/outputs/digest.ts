@@ -1,0 +1,49 @@
+// Whether the outputs in place already say what this run would write: a digest of everything the tables and reports are
+// made from (each entry's results checksum, the spec, labels, version, unmatched files), kept beside the outputs.
+import { createHash } from 'node:crypto';
+import { readFile, rm, stat } from 'node:fs/promises';
+import { canonicalJson } from '../declare/declare.js';
+import { writeFileAtomic } from './atomic.js';
+import type { QualitySummary } from './quality.js';
+
+export interface DigestInput {
+  version: string;
+  spec: unknown;
+  labels: string[];
+  tables: Record<string, unknown>;
+  /** The tables' metadata, less the run id (which names the run that wrote them). */
+  metadata: Record<string, string>;
+  unmatched: string[];
+  items: { recording: string; group: string; bodySha: string; labels: Record<string, string> }[];
+  /** What changed against the baselines, which rests on the whole stored history; null when trends are off. */
+  changes?: unknown;
+}
+
+/** SHA-256 over the inputs in table order; equal digests mean equal tables and reports, row for row. */
+export function outputsDigest(d: DigestInput): string {
+  const h = createHash('sha256');
+  const { 'quern.run_id': _runId, ...metadata } = d.metadata;
+  h.update(canonicalJson({ version: d.version, spec: d.spec, labels: d.labels, tables: d.tables, metadata, unmatched: d.unmatched, changes: d.changes ?? null }));
+  for (const it of d.items) h.update(`\n${it.recording}\u0000${it.group}\u0000${it.bodySha}\u0000${canonicalJson(it.labels)}`);
+  return h.digest('hex');
+}
+
+/** What the digest file keeps: the digest, the run that wrote the outputs, their sizes, and the terminal's quality summary. */
+export interface DigestRecord { digest: string; run_id: string; written: string; files: Record<string, number>; quality: QualitySummary }
+
+export async function readDigest(path: string): Promise<DigestRecord | null> {
+  try { return JSON.parse(await readFile(path, 'utf8')); } catch { return null; }
+}
+
+/** True when the digest matches and every output is in place at the size it was written with. */
+export async function stillCurrent(path: string, digest: string): Promise<DigestRecord | null> {
+  const d = await readDigest(path);
+  if (!d || d.digest !== digest) return null;
+  for (const [file, size] of Object.entries(d.files)) if ((await stat(file).catch(() => null))?.size !== size) return null;
+  return d;
+}
+
+/** Forgets the digest before outputs are replaced: a run stopped half-way must not leave a digest that vouches for them. */
+export const forgetDigest = (path: string) => rm(path, { force: true });
+
+export const keepDigest = (path: string, d: DigestRecord) => writeFileAtomic(path, JSON.stringify(d, null, 2) + '\n');

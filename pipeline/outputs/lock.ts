@@ -1,0 +1,106 @@
+// One run at a time per output folder (or per shard's part of it): a lock file made with exclusive create, holding who
+// runs. A second run refuses and names the holder; a lock whose holder is gone is taken over, and the run says so.
+import { readFileSync, rmSync } from 'node:fs';
+import { mkdir, open, readFile, readdir, rm, rmdir, stat, utimes } from 'node:fs/promises';
+import { hostname } from 'node:os';
+import { dirname, join } from 'node:path';
+import { UsageError } from '../declare/yaml-file.js';
+
+export interface LockHolder { host: string; pid: number; started: string; run_id: string; command: string }
+export interface TakenOver { holder: LockHolder; why: string }
+
+/** Default age after which a lock held from another host counts as abandoned (its run refreshes it every minute). */
+export const STALE_LOCK_AFTER_MS = 24 * 3_600_000;
+const HEARTBEAT_MS = 60_000;
+
+export const lockPath = (out: string, shard: { k: number; n: number } | null) => (shard ? join(out, 'parts', `run-${shard.k}-of-${shard.n}.lock`) : join(out, 'run.lock'));
+
+const describe = (h: LockHolder) => `host ${h.host}, pid ${h.pid}, started ${h.started} (${h.command}, run ${h.run_id})`;
+
+/** A pid on this host that no longer runs: signal 0 probes without sending anything (EPERM: it runs as someone else). */
+function gone(pid: number): boolean {
+  try { process.kill(pid, 0); return false; } catch (e) { return (e as NodeJS.ErrnoException).code === 'ESRCH'; }
+}
+
+/** Why the lock's holder is gone, or null while it may still be running. */
+async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<string | null> {
+  if (h && h.host === hostname()) return gone(h.pid) ? `process ${h.pid} on this host is no longer running` : null;
+  const beat = (await stat(path).catch(() => null))?.mtimeMs;
+  if (beat == null) return null;
+  // A lock left empty by a run stopped between creating and filling it.
+  if (!h && Date.now() - beat > 10_000) return 'the lock file is empty or unreadable and over 10 s old';
+  const ageH = (Date.now() - beat) / 3_600_000;
+  if (Date.now() - beat > staleAfterMs) return `${h ? `held from host ${h.host}` : 'unreadable'} and not refreshed for ${ageH.toFixed(1)} h (over ${(staleAfterMs / 3_600_000).toFixed(1)} h)`;
+  return null;
+}
+
+const readHolder = async (path: string): Promise<LockHolder | null> => { try { return JSON.parse(await readFile(path, 'utf8')); } catch { return null; } };
+
+export class OutputInUse extends UsageError {}
+
+export interface Lock { path: string; tookOver: TakenOver | null; release(): Promise<void> }
+
+/**
+ * Takes the lock at `path` for `me`. Taking over a stale lock happens under a short-lived mutex folder, so two runs
+ * that find the same stale lock do not both take it.
+ */
+export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started'>, { staleAfterMs = STALE_LOCK_AFTER_MS } = {}): Promise<Lock> {
+  await mkdir(dirname(path), { recursive: true });
+  const holder: LockHolder = { host: hostname(), pid: process.pid, started: new Date().toISOString(), ...me };
+  const text = JSON.stringify(holder, null, 2) + '\n';
+  let tookOver: TakenOver | null = null;
+  for (let attempt = 0; ; attempt++) {
+    try {
+      const fh = await open(path, 'wx');
+      try { await fh.writeFile(text); } finally { await fh.close(); }
+      break;
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
+    }
+    const held = await readHolder(path);
+    const why = await staleness(path, held, staleAfterMs);
+    if (!why || attempt > 3) {
+      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'holder unreadable'} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
+    }
+    const mutex = `${path}.takeover`;
+    try { await mkdir(mutex); } catch {
+      // Another run is taking it over right now, or one died doing so long ago.
+      if (Date.now() - ((await stat(mutex).catch(() => null))?.mtimeMs ?? Date.now()) > 60_000) await rmdir(mutex).catch(() => {});
+      await new Promise((r) => setTimeout(r, 50));
+      continue;
+    }
+    try {
+      const again = await readHolder(path);
+      if (JSON.stringify(again) === JSON.stringify(held)) {
+        await rm(path, { force: true });
+        tookOver = { holder: held ?? { host: '?', pid: 0, started: '?', run_id: '?', command: '?' }, why };
+      }
+    } finally {
+      await rmdir(mutex).catch(() => {});
+    }
+  }
+  const beat = setInterval(() => { const t = new Date(); utimes(path, t, t).catch(() => {}); }, HEARTBEAT_MS);
+  beat.unref();
+  // Interrupted (Ctrl-C, a scheduler's SIGTERM): leave no lock behind.
+  const onSignal = (signal: NodeJS.Signals) => { releaseNow(); process.exit(signal === 'SIGINT' ? 130 : 143); };
+  const releaseNow = () => {
+    clearInterval(beat);
+    process.off('SIGINT', onSignal); process.off('SIGTERM', onSignal);
+    try { if (readFileSync(path, 'utf8') === text) rmSync(path, { force: true }); } catch { /* already gone */ }
+  };
+  process.on('SIGINT', onSignal); process.on('SIGTERM', onSignal);
+  return { path, tookOver, release: async () => releaseNow() };
+}
+
+/** The shards of this folder whose runs still hold their lock (merge waits for them). */
+export async function heldShardLocks(out: string): Promise<LockHolder[]> {
+  const dir = join(out, 'parts');
+  const held: LockHolder[] = [];
+  for (const f of (await readdir(dir).catch(() => [] as string[])).filter((n) => /^run-\d+-of-\d+\.lock$/.test(n))) {
+    const h = await readHolder(join(dir, f));
+    if (!(await staleness(join(dir, f), h, STALE_LOCK_AFTER_MS)) && h) held.push(h);
+  }
+  return held;
+}
+
+export const describeHolder = describe;

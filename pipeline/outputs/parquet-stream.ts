@@ -1,0 +1,62 @@
+// A Parquet table written as it arrives: Arrow record batches in, row groups out to a staged file, never the whole table in memory.
+import * as arrow from 'apache-arrow';
+import { Compression, Table as WasmTable, transformParquetStream, WriterPropertiesBuilder, type RecordBatch } from 'parquet-wasm/node';
+import { toArrowTable, type TableColumn } from './parquet.js';
+import type { StagedFile } from './staged.js';
+
+/** Rows a row group holds at most: readers skip whole row groups by their statistics. */
+export const ROW_GROUP_ROWS = 65_536;
+
+export class ParquetStream {
+  private waiting: ((b: RecordBatch | null) => void) | null = null;
+  private queue: (RecordBatch | null)[] = [];
+  private drained: (() => void) | null = null;
+  private done: Promise<void>;
+  rows = 0;
+
+  constructor(readonly file: StagedFile, columns: TableColumn[], metadata: Record<string, string>) {
+    const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
+    const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
+    const props = new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv).setMaxRowGroupSize(ROW_GROUP_ROWS)
+      .setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
+    const source = new ReadableStream<RecordBatch>({
+      pull: async (controller) => {
+        const next = this.queue.length ? this.queue.shift()! : await new Promise<RecordBatch | null>((resolve) => { this.waiting = resolve; });
+        if (!this.queue.length) { this.drained?.(); this.drained = null; }
+        if (next) controller.enqueue(next); else controller.close();
+      },
+    }, { highWaterMark: 0 });
+    this.done = (async () => {
+      const reader = (await transformParquetStream(source, props)).getReader();
+      for (;;) {
+        const { done, value } = await reader.read();
+        if (done) break;
+        await this.file.write(value as Uint8Array);
+      }
+    })();
+    this.done.catch(() => {}); // awaited by push and finish; a failure must not also surface as unhandled
+    // The schema travels with a batch: a first batch of no rows gives a table without rows its columns.
+    this.offer(WasmTable.fromIPCStream(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')).recordBatches());
+  }
+
+  private offer(batches: (RecordBatch | null)[]): void {
+    for (const b of batches) {
+      if (this.waiting) { const w = this.waiting; this.waiting = null; w(b); } else this.queue.push(b);
+    }
+  }
+
+  /** Adds the rows of an Arrow IPC stream; resolves once the writer has taken them (so memory stays bounded). */
+  async push(ipc: Uint8Array): Promise<void> {
+    const batches = WasmTable.fromIPCStream(ipc).recordBatches().filter((b) => b.numRows > 0);
+    this.rows += batches.reduce((s, b) => s + b.numRows, 0);
+    this.offer(batches);
+    if (this.queue.length) await Promise.race([new Promise<void>((r) => { this.drained = r; }), this.done]);
+  }
+
+  /** Ends the table (footer with the row groups' statistics) and closes the staged file. */
+  async finish(): Promise<void> {
+    this.offer([null]);
+    await this.done;
+    await this.file.close();
+  }
+}

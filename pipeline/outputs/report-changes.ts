@@ -1,0 +1,139 @@
+// quality.html's opening section, "what changed": the channel features that moved against their baseline, each channel with its
+// features' histories (baseline band and limits), the latest spectrum over the baseline's, and its spectra across the recordings.
+import type { TopLevelSpec } from 'vega-lite';
+import type { ChangeItem, ChangesReport } from '../trends/changes.js';
+import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
+import { thinBins } from '../trends/pictures.js';
+import { changeLine } from '../trends/summary.js';
+import { COLOURS, svg } from './charts.js';
+
+// Verdict colours from the report's palette; a recording without a verdict (baseline forming, data unusable) in grey.
+const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
+// Level as colour, ours: paper for the quietest, through teal and ochre, to brick red for the loudest.
+const LEVEL_RANGE = ['#f3efe4', '#a9cbbf', '#2c6e63', '#b7791f', '#a23b2a'];
+/** Bins per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
+const SPECTROGRAM_BINS = 80;
+
+const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+const num = (v: number | null) => (v == null ? '—' : Number(v.toPrecision(4)).toString());
+const signed = (v: number | null, digits = 1) => (v == null ? '—' : `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(digits)}`);
+const day = (t: string | null, recording: string) => (t ? t.slice(0, 16).replace('T', ' ') : recording);
+const positive = (d: number) => (d > 0 ? d : null);
+
+const base = { config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, view: { stroke: '#ccc' }, legend: { labelFontSize: 10, titleFontSize: 10 } } } as const;
+
+/** Time axis: dates for histories of up to two months, Vega's own choice beyond. */
+function timeAxis(points: { t: number }[]) {
+  const days = points.length ? (points[points.length - 1].t - points[0].t) / 86_400_000 : 0;
+  return days > 1 && days <= 60 ? { format: '%d %b', tickCount: { interval: 'day' as const, step: Math.max(1, Math.ceil(days / 8)) } } : {};
+}
+
+function trendSpec(t: TrendPicture): TopLevelSpec {
+  // The scale follows the usable recordings, the band and the limits; a recording whose data fail the checks sits at its edge.
+  const usableValues = t.points.filter((p) => p.usable).map((p) => p.value);
+  const span = [...(usableValues.length ? usableValues : t.points.map((p) => p.value)), ...(t.band ?? []), ...Object.values(t.limits ?? {}) as number[]];
+  const lo = Math.min(...span), hi = Math.max(...span), pad = 0.08 * (hi - lo || Math.abs(hi) || 1);
+  const domain = [lo - pad, hi + pad];
+  const clamp = (v: number) => Math.min(domain[1], Math.max(domain[0], v));
+  const points = t.points.map((p) => ({
+    t: p.t, value: p.usable ? p.value : clamp(p.value), verdict: p.usable ? p.verdict ?? 'no verdict' : 'data unusable',
+    role: p.usable ? (p.baseline ? 'baseline' : 'later') : 'off the scale',
+  }));
+  const limits = Object.entries(t.limits ?? {}).map(([what, v]) => ({ v, what: `${what} limit` }));
+  const unit = t.unit === '1' ? '' : ` (${t.unit})`;
+  const y = { field: 'value', type: 'quantitative' as const, title: t.feature, scale: { domain, zero: false, nice: false } };
+  return {
+    ...base, width: 330, height: 170, title: { text: `${t.feature}${unit} over time`, fontSize: 12 },
+    layer: [
+      ...(t.band ? [{ data: { values: [{ lo: t.band[0], hi: t.band[1] }] }, mark: { type: 'rect' as const, color: COLOURS.ok, opacity: 0.12, clip: true }, encoding: { y: { field: 'lo', type: 'quantitative' as const, scale: { domain, nice: false } }, y2: { field: 'hi' } } }] : []),
+      ...(t.median != null ? [{ data: { values: [{ m: t.median }] }, mark: { type: 'rule' as const, color: COLOURS.ok, strokeDash: [4, 3] }, encoding: { y: { field: 'm', type: 'quantitative' as const } } }] : []),
+      ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: { orient: 'bottom' as const, title: null } } } }] : []),
+      { data: { values: points.filter((p) => p.role !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
+      {
+        data: { values: points }, mark: { type: 'point', filled: true, size: 50 },
+        encoding: {
+          x: { field: 't', type: 'temporal' }, y,
+          color: { field: 'verdict', type: 'nominal', scale: { domain: [...Object.keys(VERDICT_COLOURS), 'data unusable'], range: [...Object.values(VERDICT_COLOURS), COLOURS.fail] }, legend: null },
+          shape: { field: 'role', type: 'nominal', scale: { domain: ['baseline', 'later', 'off the scale'], range: ['square', 'circle', 'triangle-up'] }, legend: null },
+          tooltip: [{ field: 't', type: 'temporal', title: 'start' }, { field: 'value', type: 'quantitative' }],
+        },
+      },
+    ],
+    resolve: { scale: { color: 'independent' } },
+  };
+}
+
+function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string, latestLabel: string): TopLevelSpec {
+  const rows = (sp: Spectrum, what: string) => Array.from(sp.density, (d, k) => ({ f: k * sp.df, d: positive(d), what })).filter((p) => p.f > 0 && p.d != null);
+  const baselineLabel = `baseline (median of ${s.baselineCount})`;
+  const values = [...(s.baseline ? rows(s.baseline, baselineLabel) : []), ...rows(s.latest, latestLabel)];
+  return {
+    ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', fontSize: 12 },
+    data: { values },
+    mark: { type: 'line', strokeWidth: 1 },
+    encoding: {
+      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
+      color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
+    },
+  };
+}
+
+function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string): TopLevelSpec {
+  const cells = columns.flatMap((c) => {
+    const s = thinBins(c.spectrum, SPECTROGRAM_BINS);
+    const label = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
+    return Array.from(s.density, (d, k) => ({ night: label, f0: k * s.df, f1: (k + 1) * s.df, level: 10 * Math.log10(Math.max(d, 1e-30)) }));
+  });
+  const floor = Math.max(...cells.map((c) => c.level)) - 80; // 80 dB of colour: quieter bins share the palest shade
+  return {
+    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', fontSize: 12 },
+    data: { values: cells.map((c) => ({ ...c, level: Math.max(c.level, floor) })) },
+    mark: { type: 'rect' },
+    encoding: {
+      x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
+      y: { field: 'f0', type: 'quantitative', title: 'Hz' }, y2: { field: 'f1' },
+      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${unit}²/Hz`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
+    },
+  };
+}
+
+// The trend pictures' key, once per channel instead of a legend in every picture.
+const dot = (colour: string, shape = '●') => `<span style="color:${colour}">${shape}</span>`;
+const KEY = `<p class="key">${dot('#52606d', '■')} baseline recording · ${dot('#52606d')} later recording · ${dot(COLOURS.fail, '▲')} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${dot(c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median</p>`;
+
+const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' ? 'fail' : 'warn'}">${v}</span>`;
+
+function row(c: ChangeItem): string {
+  const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
+  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${num(c.baseline)}${c.baseline != null ? unit : ''}</td><td>${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+}
+
+/** The section, charts rendered to SVG; empty text when trends are off. */
+export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[]): Promise<string> {
+  const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
+  const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
+  out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit. Channels whose data fail the quality checks are left out.</p>`);
+  if (!r.items.length) {
+    out.push(`<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming or data unusable)` : ''}.</p></section>`);
+    return out.join('\n');
+  }
+  out.push(`<p><b>${alarms}</b> channel features at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
+  out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
+  for (const p of pictures) {
+    const worst = p.items.some((c) => c.verdict === 'alarm') ? 'alarm' : 'changed';
+    const latestLabel = `latest (${day(p.items[0].start_time, p.items[0].recording)})`;
+    const charts = await Promise.all([
+      ...p.trends.map((t) => svg(trendSpec(t))),
+      ...(p.spectrum ? [svg(spectrumSpec(p.spectrum, p.unit, latestLabel))] : []),
+      ...(p.spectrogram.length ? [svg(spectrogramSpec(p.spectrogram, p.unit))] : []),
+    ]);
+    out.push(`<section class="change-channel" data-group="${esc(p.group)}" data-channel="${esc(p.channel)}" data-verdict="${worst}" style="border-color:${worst === 'alarm' ? COLOURS.fail : COLOURS.warn}">
+<h3>${badge(worst)} ${esc(p.group)} · ${esc(p.channel)} <span class="note">(${esc(p.unit)})</span></h3>
+<ul>${p.items.map((c) => `<li>${esc(changeLine(c))}</li>`).join('')}</ul>
+${KEY}
+<div class="charts">${charts.join('')}</div></section>`);
+  }
+  if (pictures.length < new Set(r.items.map((c) => `${c.group}\u0000${c.channel}`)).size) out.push(`<p class="note">Pictures are shown for the ${pictures.length} channels with the strongest changes; every change is in the table above, quality.json and trends.parquet.</p>`);
+  out.push('</section>');
+  return out.join('\n');
+}

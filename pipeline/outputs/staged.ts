@@ -1,0 +1,87 @@
+// Outputs are staged under hidden temporary names and put in place together by renaming, so a run that fails while
+// writing (a full disk, a file-size limit) leaves the previous outputs whole, and says which file failed and why.
+import { randomBytes } from 'node:crypto';
+import { open, rename, rm, type FileHandle } from 'node:fs/promises';
+import { basename, dirname, join } from 'node:path';
+
+const CAUSES: Record<string, string> = {
+  ENOSPC: 'no space left on the device', EFBIG: 'file too large (a file-size limit was reached)', EDQUOT: 'disk quota exceeded',
+  EACCES: 'permission denied', EPERM: 'operation not permitted', EROFS: 'read-only file system', EIO: 'input/output error',
+};
+
+/** A write that failed, naming the file and the cause; the run ends with exit code 2. */
+export class WriteFailed extends Error {
+  constructor(readonly file: string, cause: unknown) {
+    const code = (cause as NodeJS.ErrnoException)?.code;
+    super(`cannot write ${file}: ${code && CAUSES[code] ? `${CAUSES[code]} (${code})` : (cause as Error)?.message ?? String(cause)}; the previous outputs are kept. Free space or raise the limit, then run again`);
+  }
+}
+
+/** Runs `write`, turning any failure into a WriteFailed that names `file`. */
+export async function writing<T>(file: string, write: () => Promise<T>): Promise<T> {
+  try { return await write(); } catch (e) { throw e instanceof WriteFailed ? e : new WriteFailed(file, e); }
+}
+
+const FLUSH_BYTES = 1 << 20;
+
+/** A file written in appended pieces under a temporary name, until `commit` renames it into place. */
+export class StagedFile {
+  readonly tmp: string;
+  private fh: FileHandle | null = null;
+  private pending: Buffer[] = [];
+  private pendingBytes = 0;
+  private pos = 0;
+  constructor(readonly path: string) {
+    this.tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
+  }
+
+  async write(data: string | Uint8Array): Promise<void> {
+    const b = typeof data === 'string' ? Buffer.from(data) : Buffer.from(data.buffer, data.byteOffset, data.byteLength);
+    this.pending.push(b);
+    this.pendingBytes += b.length;
+    if (this.pendingBytes >= FLUSH_BYTES) await this.flush();
+  }
+
+  private async flush(): Promise<void> {
+    await writing(this.path, async () => {
+      this.fh ??= await open(this.tmp, 'w');
+      const data = Buffer.concat(this.pending);
+      this.pending = [];
+      this.pendingBytes = 0;
+      for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done, this.pos + done)).bytesWritten;
+      this.pos += data.length;
+    });
+  }
+
+  /** Writes what is pending and (for an output, not a scratch file) flushes it to the disk. */
+  async close({ durable = true } = {}): Promise<void> {
+    await this.flush();
+    await writing(this.path, async () => { if (durable) await this.fh!.sync(); await this.fh!.close(); this.fh = null; });
+  }
+
+  get size(): number { return this.pos + this.pendingBytes; }
+
+  async commit(): Promise<void> { await writing(this.path, () => rename(this.tmp, this.path)); }
+
+  async discard(): Promise<void> {
+    await this.fh?.close().catch(() => {});
+    this.fh = null;
+    await rm(this.tmp, { force: true });
+  }
+}
+
+/** Puts staged files in place (renames, which need no space) and makes the renames durable. */
+export async function commitAll(files: StagedFile[]): Promise<void> {
+  for (const f of files) await f.commit();
+  for (const dir of new Set(files.map((f) => dirname(f.path)))) {
+    const fh = await open(dir, 'r');
+    try { await fh.sync(); } catch { /* some file systems refuse fsync on folders */ } finally { await fh.close(); }
+  }
+}
+
+/** A JSON object written in pieces around one long list: the fields before it, then each item, then the fields after it. */
+export const jsonPieces = {
+  head: (before: object, key: string) => { const h = JSON.stringify(before, null, 2); return `${h.slice(0, -2)}${h.length > 2 ? ',' : ''}\n  ${JSON.stringify(key)}: [`; },
+  item: (text: string, index: number) => `${index ? ',' : ''}\n    ${text.split('\n').join('\n    ')}`,
+  tail: (items: number, after: object) => `${items ? '\n  ' : ''}]${Object.entries(after).map(([k, v]) => `,\n  ${JSON.stringify(k)}: ${JSON.stringify(v, null, 2).split('\n').join('\n  ')}`).join('')}\n}\n`,
+};

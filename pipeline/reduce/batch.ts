@@ -1,0 +1,87 @@
+// Small recordings travel in batches: one worker task, one message and one pack write for many recordings.
+// The worker reduces each recording of a batch in turn and returns each one's record, ready to append to the pack.
+import { open, type FileHandle } from 'node:fs/promises';
+import { hashFile } from '../plan/cache.js';
+import type { RecordingJob } from '../plan/plan.js';
+import { readRecord, type Located } from '../store/pack.js';
+import { decodeResults, encodeRecord, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
+import { computeRecording } from './compute.js';
+import type { RecordingOutput } from './result.js';
+
+/** What a worker needs, beside the job, to store the recording's entry. */
+export interface StoreFacts {
+  identity: Identity;
+  /** Hash the file's content in the worker (its modification time is too recent to trust alone, or --hash). */
+  hashContent: boolean;
+  readAtMs: number;
+  declKey: string;
+  version: string;
+  keys: Record<string, string>;
+  specHash: string;
+  /** Groups to compute (none: only store the previous entry again, under fresh identity facts). */
+  compute: string[];
+  reused: string[];
+  /** The stored entry the reused groups come from. */
+  previous: Located | null;
+}
+
+export interface BatchItem { job: RecordingJob; store: StoreFacts }
+export interface BatchResult { facts: EntryFacts; bytes: Uint8Array }
+
+/** The entry to store: fresh groups over reused ones. */
+export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: CacheEntry | null): CacheEntry {
+  const common = { version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey };
+  if (fresh.status === 'failed') return { ...fresh, ...common, groupKeys: {}, failureKey: s.specHash } as CacheEntry;
+  const keep = previous && previous.status === 'reduced' ? Object.fromEntries(s.reused.map((g) => [g, previous.groups[g]]).filter(([, v]) => v)) : {};
+  const groups = { ...keep, ...fresh.groups };
+  // A group with no stage for any channel (e.g. envelope without accelerometers) still counts as computed.
+  for (const g of s.compute) groups[g] ??= { columns: fresh.base!.channels.map(() => ({})), flags: fresh.base!.channels.map(() => []), evidence: fresh.base!.channels.map(() => null), tables: {}, notes: [] };
+  return { ...fresh, ...common, groups, groupKeys: Object.fromEntries(Object.keys(groups).map((g) => [g, s.keys[g]]).filter(([, k]) => k)) } as CacheEntry;
+}
+
+/** Recordings of a batch reduced at once in a worker (batches hold small recordings; a large one travels alone). */
+const IN_FLIGHT = 8;
+
+/** Reduces a batch (in a worker): each recording read once, its entry encoded with its checksums. */
+export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
+  // One handle a pack for the whole batch.
+  const handles = new Map<string, Promise<FileHandle>>();
+  const previousRecord = async (loc: Located) => readRecord(await (handles.get(loc.file) ?? handles.set(loc.file, open(loc.file, 'r')).get(loc.file)!), loc);
+  const one = async ({ job, store: s }: BatchItem): Promise<BatchResult> => {
+    const identity = { ...s.identity };
+    if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
+    const storedAt = Date.now();
+    if (s.compute.length === 0 && s.previous) {
+      // Nothing to compute: the same results, stored again under the identity just confirmed.
+      const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
+      return { facts, bytes: encodeRecord(facts, recordBody(await previousRecord(s.previous))) };
+    }
+    const fresh = await computeRecording(job);
+    let previous: CacheEntry | null = null;
+    if (s.previous && s.reused.length && fresh.status === 'reduced') {
+      try { previous = { ...s.previous.facts, ...decodeResults(recordBody(await previousRecord(s.previous))) }; } catch { previous = null; }
+    }
+    if (s.reused.length && !previous && fresh.status === 'reduced') {
+      // The stored groups could not be read back: compute every group.
+      const whole = await computeRecording({ ...job, groups: null });
+      return encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt);
+    }
+    return encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt);
+  };
+  try {
+    // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
+    const out: BatchResult[] = new Array(items.length);
+    let next = 0;
+    await Promise.all(Array.from({ length: Math.min(IN_FLIGHT, items.length) }, async () => {
+      while (next < items.length) { const i = next++; out[i] = await one(items[i]); }
+    }));
+    return out;
+  } finally {
+    for (const fh of handles.values()) await (await fh.catch(() => null))?.close();
+  }
+}
+
+function encode(entry: CacheEntry, storedAt: number): BatchResult {
+  const { facts, results } = splitEntry(entry, storedAt);
+  return { facts, bytes: encodeRecord(facts, results) };
+}

@@ -1,0 +1,105 @@
+// A pack: stored entries appended one after another in one file (see record.ts), read back in one sequential pass.
+// A damaged stretch (bad checksum, lying length, cut-off end) is reported and skipped: reading resumes at the next sound record.
+import { open, type FileHandle } from 'node:fs/promises';
+import { HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
+
+/** Where a sound record lies, and its facts. */
+export interface Located { file: string; offset: number; length: number; bodySha: string; facts: EntryFacts }
+
+/** A stretch of a pack that is not a sound record. */
+export interface Damage { file: string; offset: number; length: number; recording: string | null; problem: string }
+
+const WINDOW = 8 << 20;
+const MAGIC_BYTES = Buffer.from([0x51, 0x52, 0x4e, 0x31]);
+
+/** Reads a file through one sliding window, so a pack of any size is read in bounded memory. */
+class Window {
+  private buf = Buffer.alloc(0);
+  private start = 0;
+  constructor(private fh: FileHandle, readonly size: number) {}
+  /** The bytes [pos, pos + n), or null past the end of the file. */
+  async at(pos: number, n: number): Promise<Buffer | null> {
+    if (pos + n > this.size) return null;
+    if (pos < this.start || pos + n > this.start + this.buf.length) {
+      const length = Math.min(Math.max(n, WINDOW), this.size - pos);
+      this.buf = Buffer.allocUnsafe(length);
+      const { bytesRead } = await this.fh.read(this.buf, 0, length, pos);
+      if (bytesRead < n) return null;
+      this.buf = this.buf.subarray(0, bytesRead);
+      this.start = pos;
+    }
+    return this.buf.subarray(pos - this.start, pos - this.start + n);
+  }
+}
+
+type Check = { ok: true; located: Located } | { ok: false; problem: string; recording: string | null };
+
+/** Holds the record starting at `pos` against its header and checksums. */
+async function check(file: string, w: Window, pos: number): Promise<Check> {
+  const head = await w.at(pos, HEADER_BYTES);
+  if (!head) return { ok: false, problem: 'truncated: the file ends inside a record header', recording: null };
+  if (head.readUInt32LE(0) !== MAGIC) return { ok: false, problem: 'not the start of a record (damaged bytes)', recording: null };
+  const metaLength = head.readUInt32LE(4), bodyLength = head.readUInt32LE(8);
+  if (metaLength > MAX_PART_BYTES || bodyLength > MAX_PART_BYTES) return { ok: false, problem: 'damaged header (impossible lengths)', recording: null };
+  const length = HEADER_BYTES + metaLength + bodyLength;
+  const metaSha = Buffer.from(head.subarray(12, 44)), bodySha = Buffer.from(head.subarray(44, 76));
+  const meta = await w.at(pos + HEADER_BYTES, metaLength);
+  if (!meta) return { ok: false, problem: 'truncated: the file ends inside a record', recording: null };
+  let facts: EntryFacts | null = null;
+  if (sha256(meta).equals(metaSha)) { try { facts = JSON.parse(meta.toString('utf8')) as EntryFacts; } catch { facts = null; } }
+  if (pos + length > w.size) return { ok: false, problem: 'truncated: the file ends inside a record', recording: facts?.recording ?? null };
+  if (!facts) return { ok: false, problem: 'checksum mismatch in the entry\'s facts', recording: null };
+  const body = await w.at(pos + HEADER_BYTES + metaLength, bodyLength);
+  if (!body || !sha256(body).equals(bodySha)) return { ok: false, problem: 'checksum mismatch in the entry\'s results', recording: facts.recording };
+  return { ok: true, located: { file, offset: pos, length, bodySha: bodySha.toString('hex'), facts } };
+}
+
+/** The next position after `from` where a sound record starts, or the end of the file. */
+async function resync(file: string, w: Window, from: number): Promise<number> {
+  for (let pos = from; pos < w.size;) {
+    const span = await w.at(pos, Math.min(WINDOW / 2, w.size - pos));
+    const hit = span ? span.indexOf(MAGIC_BYTES) : -1;
+    if (hit < 0) { pos += Math.max(1, (span?.length ?? 4) - 3); continue; }
+    if ((await check(file, w, pos + hit)).ok) return pos + hit;
+    pos += hit + 1;
+  }
+  return w.size;
+}
+
+/** Every sound record of a pack in file order, and every damaged stretch; a missing pack has neither. */
+export async function scanPack(file: string, onRecord: (r: Located) => void): Promise<{ damage: Damage[]; size: number }> {
+  let fh: FileHandle;
+  try { fh = await open(file, 'r'); } catch (e) {
+    if ((e as NodeJS.ErrnoException).code === 'ENOENT') return { damage: [], size: 0 };
+    return { damage: [{ file, offset: 0, length: 0, recording: null, problem: `unreadable: ${(e as Error).message}` }], size: 0 };
+  }
+  const damage: Damage[] = [];
+  try {
+    const w = new Window(fh, (await fh.stat()).size);
+    for (let pos = 0; pos < w.size;) {
+      const c = await check(file, w, pos);
+      if (c.ok) { onRecord(c.located); pos += c.located.length; continue; }
+      const next = await resync(file, w, pos + 1);
+      damage.push({ file, offset: pos, length: next - pos, recording: c.recording, problem: c.problem });
+      pos = next;
+    }
+    return { damage, size: w.size };
+  } catch (e) {
+    damage.push({ file, offset: 0, length: 0, recording: null, problem: `unreadable: ${(e as Error).message}` });
+    return { damage, size: 0 };
+  } finally {
+    await fh.close();
+  }
+}
+
+/** The bytes of one located record, checked again against its checksums (a pack may have been damaged since it was scanned). */
+export async function readRecord(fh: FileHandle, loc: Located): Promise<Buffer> {
+  const bytes = Buffer.allocUnsafe(loc.length);
+  const { bytesRead } = await fh.read(bytes, 0, loc.length, loc.offset);
+  const metaLength = bytes.readUInt32LE(4);
+  const body = bytes.subarray(HEADER_BYTES + metaLength);
+  if (bytesRead < loc.length || bytes.readUInt32LE(0) !== MAGIC || sha256(body).toString('hex') !== loc.bodySha) {
+    throw new Error(`${loc.file}: the stored entry of ${loc.facts.recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+  }
+  return bytes;
+}

@@ -1,0 +1,87 @@
+// One stored entry as bytes: a fixed header (magic, lengths, a checksum of each part), the entry's facts as JSON,
+// then its results as deflated JSON. The checksums let a reader tell a damaged or truncated entry from a sound one.
+import { createHash } from 'node:crypto';
+import { deflateRawSync, inflateRawSync } from 'node:zlib';
+import type { RecordingOutput } from '../reduce/result.js';
+
+/** "QRN1", little-endian: the first four bytes of every record. */
+export const MAGIC = 0x314e5251;
+/** magic, facts length, results length (u32 each), SHA-256 of the facts, SHA-256 of the results. */
+export const HEADER_BYTES = 12 + 32 + 32;
+/** No entry is this large; a length beyond it is damage, not data. */
+export const MAX_PART_BYTES = 1 << 30;
+
+/** What identifies a recording's content: size and modification time, and a content hash when those cannot be trusted. */
+export interface Identity { size: number; mtimeMs: number; hash: string | null }
+
+/** The facts of an entry that deciding and run.json need, kept apart from the (larger) results. */
+export interface EntryFacts {
+  recording: string;
+  group: string;
+  status: 'reduced' | 'failed';
+  reason?: string;
+  version: string;
+  identity: Identity;
+  /** When the file was read (ms since the epoch): a file modified within 2 s of it gets a content hash. */
+  readAtMs: number;
+  declKey: string;
+  /** The key each stored group was computed under. */
+  groupKeys: Record<string, string>;
+  /** For a failed recording: the spec hash it failed under. */
+  failureKey?: string;
+  seconds: number;
+  frames: number;
+  sampleRate: number | null;
+  startTime: string | null;
+  channels: number;
+  /** Notes for run.json: the reader's under "", each group's under its name. */
+  notes: Record<string, string[]>;
+  /** When this record was stored (ms since the epoch): the newest record of a recording is its entry. */
+  storedAt: number;
+}
+
+/** What the tables are made from: the same bytes whenever the results are the same. */
+export type EntryResults = Pick<RecordingOutput, 'recording' | 'group' | 'status' | 'reason' | 'base' | 'groups'>;
+
+export type CacheEntry = EntryFacts & RecordingOutput;
+
+export const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest();
+
+/** The facts and results of an entry, split for storing. */
+export function splitEntry(e: CacheEntry, storedAt = Date.now()): { facts: EntryFacts; results: EntryResults } {
+  const notes: Record<string, string[]> = { '': e.base?.notes ?? [] };
+  for (const [g, out] of Object.entries(e.groups)) if (out.notes.length) notes[g] = out.notes;
+  const facts: EntryFacts = {
+    recording: e.recording, group: e.group, status: e.status, ...(e.reason ? { reason: e.reason } : {}), version: e.version, identity: e.identity,
+    readAtMs: e.readAtMs, declKey: e.declKey, groupKeys: e.groupKeys, ...(e.failureKey ? { failureKey: e.failureKey } : {}), seconds: e.seconds,
+    frames: e.base?.frames ?? 0, sampleRate: e.base?.sampleRate ?? null, startTime: e.base?.header.start_time ?? null, channels: e.base?.channels.length ?? 0,
+    notes, storedAt,
+  };
+  return { facts, results: { recording: e.recording, group: e.group, status: e.status, ...(e.reason ? { reason: e.reason } : {}), base: e.base, groups: e.groups } };
+}
+
+/** The record of an entry: facts in the clear, results deflated; each part with its SHA-256. */
+export function encodeRecord(facts: EntryFacts, results: EntryResults | Uint8Array): Uint8Array {
+  const meta = Buffer.from(JSON.stringify(facts));
+  const body = results instanceof Uint8Array ? results : deflateRawSync(JSON.stringify(results), { level: 1 });
+  const out = Buffer.allocUnsafe(HEADER_BYTES + meta.length + body.length);
+  out.writeUInt32LE(MAGIC, 0);
+  out.writeUInt32LE(meta.length, 4);
+  out.writeUInt32LE(body.length, 8);
+  sha256(meta).copy(out, 12);
+  sha256(body).copy(out, 44);
+  meta.copy(out, HEADER_BYTES);
+  out.set(body, HEADER_BYTES + meta.length);
+  return out;
+}
+
+/** The deflated results of a record (to store them again under new facts without decoding them). */
+export const recordBody = (record: Uint8Array) => {
+  const b = Buffer.from(record.buffer, record.byteOffset, record.byteLength);
+  const metaLength = b.readUInt32LE(4);
+  return b.subarray(HEADER_BYTES + metaLength);
+};
+
+export const decodeResults = (body: Uint8Array): EntryResults => JSON.parse(inflateRawSync(body).toString('utf8'));
+
+export const joinEntry = (facts: EntryFacts, results: EntryResults): CacheEntry => ({ ...facts, ...results });

@@ -1,0 +1,169 @@
+// The stored entries of an output folder: one pack per writer (cache/entries.pack for whole runs, cache/entries-K-of-N.pack
+// for shard K), so shards never write the same file. Every pack is read; a recording's newest sound record is its entry.
+import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
+import { basename, join } from 'node:path';
+import { readRecord, scanPack, type Damage, type Located } from './pack.js';
+import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
+
+export const cacheDir = (out: string) => join(out, 'cache');
+export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
+const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
+
+/** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
+const COMPACT_AFTER_BYTES = 4 << 20;
+
+/**
+ * Shares the facts most entries have in common (group, version, keys, empty notes), so that the entries of a long
+ * history cost memory for what differs only.
+ */
+function interner(): (f: EntryFacts) => void {
+  const seen = new Map<string, unknown>();
+  const one = <T>(v: T): T => { const k = typeof v === 'string' ? v : JSON.stringify(v); return (seen.get(k) ?? seen.set(k, v).get(k)) as T; };
+  return (f) => {
+    f.group = one(f.group); f.version = one(f.version); f.declKey = one(f.declKey); f.groupKeys = one(f.groupKeys); f.notes = one(f.notes);
+    if (f.failureKey) f.failureKey = one(f.failureKey);
+  };
+}
+
+export class Store {
+  private fh: FileHandle | null = null;
+  private end = 0;
+  private constructor(
+    readonly out: string,
+    /** The pack this run appends to (null: read only). */
+    readonly own: string | null,
+    readonly entries: Map<string, Located>,
+    /** Damaged stretches found while reading. */
+    readonly damage: Damage[],
+    private sizes: Map<string, number>,
+    private intern: (f: EntryFacts) => void,
+  ) {}
+
+  /** Reads every pack of the folder; `shard` names the pack this run writes (undefined: none, read only). */
+  static async open(out: string, shard?: { k: number; n: number } | null): Promise<Store> {
+    const dir = cacheDir(out);
+    const files = (await readdir(dir).catch(() => [] as string[])).filter((f) => PACK.test(f)).sort().map((f) => join(dir, f));
+    const entries = new Map<string, Located>();
+    const damage: Damage[] = [];
+    const sizes = new Map<string, number>();
+    const intern = interner();
+    for (const file of files) {
+      const r = await scanPack(file, (loc) => {
+        intern(loc.facts);
+        const known = entries.get(loc.facts.recording);
+        if (!known || loc.facts.storedAt >= known.facts.storedAt) entries.set(loc.facts.recording, loc);
+      });
+      damage.push(...r.damage);
+      sizes.set(file, r.size);
+    }
+    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), entries, damage, sizes, intern);
+  }
+
+  get(recording: string): Located | undefined { return this.entries.get(recording); }
+
+  /** A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period. */
+  knownStart(recording: string): { size: number; mtimeMs: number; start_ms: number } | undefined {
+    const f = this.entries.get(recording)?.facts;
+    return f && { size: f.identity.size, mtimeMs: f.identity.mtimeMs, start_ms: f.startTime ? Date.parse(f.startTime) : f.identity.mtimeMs };
+  }
+
+  /** The damage found for a recording whose newest record is unusable, if any. */
+  damageOf(recording: string): Damage | undefined {
+    this.damageByRecording ??= new Map(this.damage.filter((d) => d.recording).map((d) => [d.recording!, d]));
+    return this.damageByRecording.get(recording);
+  }
+  private damageByRecording: Map<string, Damage> | null = null;
+
+  private appending: Promise<void> = Promise.resolve();
+
+  /** Appends records to this run's pack with one write, and makes them the recordings' entries; appends run one at a time. */
+  append(records: { facts: EntryFacts; bytes: Uint8Array }[]): Promise<void> {
+    const next = this.appending.then(() => this.appendNow(records));
+    this.appending = next.catch(() => {});
+    return next;
+  }
+
+  private async appendNow(records: { facts: EntryFacts; bytes: Uint8Array }[]): Promise<void> {
+    if (!this.own) throw new Error('this store was opened read-only');
+    if (!records.length) return;
+    if (!this.fh) {
+      await mkdir(cacheDir(this.out), { recursive: true });
+      this.fh = await open(this.own, 'a');
+      this.end = (await this.fh.stat()).size;
+    }
+    const data = Buffer.concat(records.map((r) => r.bytes));
+    let offset = this.end;
+    // Advance the end before writing: a failed write leaves a cut-off stretch that readers skip and report.
+    this.end += data.length;
+    for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
+    for (const r of records) {
+      this.intern(r.facts);
+      const bodySha = Buffer.from(r.bytes.buffer, r.bytes.byteOffset + 44, 32).toString('hex');
+      this.entries.set(r.facts.recording, { file: this.own, offset, length: r.bytes.length, bodySha, facts: r.facts });
+      offset += r.bytes.length;
+    }
+  }
+
+  /**
+   * Stores entries again under identity facts confirmed now (same results, copied as they are), so later runs trust the
+   * modification time instead of hashing the file. Plain file work: no worker needed.
+   */
+  async restamp(list: { previous: Located; identity: Identity; readAtMs: number }[]): Promise<void> {
+    const handles = new Map<string, FileHandle>();
+    try {
+      const records = [];
+      for (const { previous, identity, readAtMs } of list) {
+        const fh = handles.get(previous.file) ?? handles.set(previous.file, await open(previous.file, 'r')).get(previous.file)!;
+        const facts: EntryFacts = { ...previous.facts, identity, readAtMs, storedAt: Date.now() };
+        records.push({ facts, bytes: encodeRecord(facts, recordBody(await readRecord(fh, previous))) });
+      }
+      await this.append(records);
+    } finally {
+      for (const fh of handles.values()) await fh.close();
+    }
+  }
+
+  async close(): Promise<void> {
+    await this.fh?.close();
+    this.fh = null;
+  }
+
+  /**
+   * Rewrites this run's pack with only its live records when it holds damage, or more superseded bytes than live ones:
+   * under a new name, then renamed, so a run stopped meanwhile keeps the old pack.
+   */
+  async compact(): Promise<boolean> {
+    if (!this.own) return false;
+    await this.close();
+    const own = this.own;
+    const live = [...this.entries.values()].filter((l) => l.file === own).sort((a, b) => a.offset - b.offset);
+    const liveBytes = live.reduce((s, l) => s + l.length, 0);
+    const size = Math.max(this.end, this.sizes.get(own) ?? 0);
+    const damaged = this.damage.some((d) => d.file === own);
+    if (!damaged && !(size - liveBytes > COMPACT_AFTER_BYTES && size - liveBytes > liveBytes)) return false;
+    const tmp = join(cacheDir(this.out), `.${basename(own)}.${process.pid}.tmp`);
+    const src = await open(own, 'r'), dst = await open(tmp, 'w');
+    try {
+      let offset = 0;
+      const moved: Located[] = [];
+      for (const l of live) {
+        const bytes = await readRecord(src, l);
+        await dst.write(bytes, 0, bytes.length, offset);
+        moved.push({ ...l, offset });
+        offset += bytes.length;
+      }
+      await dst.sync();
+      await dst.close();
+      await rename(tmp, own);
+      for (const l of moved) this.entries.set(l.facts.recording, l);
+      this.end = offset;
+      return true;
+    } catch (e) {
+      await dst.close().catch(() => {});
+      await rm(tmp, { force: true });
+      throw e;
+    } finally {
+      await src.close();
+    }
+  }
+}

@@ -1,0 +1,144 @@
+// Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
+// each channel feature this run covers, when it is not steady.
+import { baselineOf, type BaselineStats } from './baseline.js';
+import { severityAt, usable, type History, type Series } from './history.js';
+import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
+import { changeDb, robustScore } from './score.js';
+import { limitReached, verdictOf, VERDICTS, type Verdict } from './verdict.js';
+
+export interface ScoredPoint {
+  value: number;
+  baseline: number | null;
+  changeDb: number | null;
+  score: number | null;
+  verdict: Verdict | null;
+  limit: 'warn' | 'alarm' | null;
+}
+
+/** One watched feature of one series, with its baseline; points are scored on demand, so nothing grows with the history. */
+export interface ScoredFeature {
+  series: Series;
+  k: number;
+  feature: WatchedFeature;
+  /** The feature's unit with "[unit]" resolved to the channel's. */
+  unit: string;
+  base: BaselineStats;
+  at(i: number): ScoredPoint | null;
+}
+
+export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeature {
+  const feature = o.features[k], values = s.values[k];
+  const base = baselineOf(s, k, o.baseline);
+  const limits = o.limits[feature.name];
+  return {
+    series: s, k, feature, base, unit: feature.unit === '[unit]' ? s.unit : feature.unit,
+    at(i) {
+      const value = values[i];
+      if (!Number.isFinite(value)) return null;
+      const ok = usable(s, i);
+      const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
+      const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
+      const limit = ok ? limitReached(value, limits) : null;
+      // Figures of a channel that fails the data-quality checks are not held against anything.
+      const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o) : null;
+      return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit };
+    },
+  };
+}
+
+/** Every watched feature of every series. */
+export const scoreHistory = (h: History, o: TrendOptions): ScoredFeature[] => h.series.flatMap((s) => o.features.map((_, k) => scoreFeature(s, k, o)));
+
+const iso = (s: Series, i: number) => (s.startKnown[i] ? new Date(s.time[i]).toISOString() : null);
+
+export interface ChangeItem {
+  group: string;
+  channel: string;
+  /** The channel's unit (a channel whose unit changed has a history per unit). */
+  channel_unit: string;
+  feature: string;
+  /** The feature's unit. */
+  unit: string;
+  verdict: 'changed' | 'alarm';
+  /** The declared limit reached, if any, and the limits declared for the feature. */
+  limit: 'warn' | 'alarm' | null;
+  limits: { warn?: number; alarm?: number } | null;
+  /** The latest recording of this run with a verdict on the feature. */
+  recording: string;
+  start_time: string | null;
+  value: number;
+  baseline: number | null;
+  change_db: number | null;
+  score: number | null;
+  /** The first recording of the unbroken stretch of non-steady verdicts that ends at this one. */
+  since: { recording: string; start_time: string | null };
+  baseline_recordings: number;
+  /** How far beyond its threshold the change is (largest of |change_db| / change_db threshold and |score| / score threshold); orders the list. */
+  strength: number;
+}
+
+export interface ChangesReport {
+  baseline: string;
+  thresholds: { change_db: number; score: number; spread_floor: number };
+  features: string[];
+  /** Verdicts over this run's rows of trends.parquet; unscored: baseline forming or data unusable. */
+  totals: Record<Verdict | 'unscored', number>;
+  /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
+  items: ChangeItem[];
+}
+
+const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
+
+/** The latest state of each channel feature among this run's recordings, and the counts of all verdicts. */
+export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions): ChangesReport {
+  const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
+  const items: ChangeItem[] = [];
+  for (const f of scored) {
+    const s = f.series;
+    let latest = -1;
+    for (let i = 0; i < s.size; i++) {
+      if (!s.inRun[i]) continue;
+      const p = f.at(i);
+      if (!p) continue;
+      totals[p.verdict ?? 'unscored']++;
+      if (p.verdict) latest = i;
+    }
+    if (latest < 0) continue;
+    const p = f.at(latest)!;
+    if (p.verdict === 'steady' || !p.verdict) continue;
+    let since = latest;
+    for (let i = latest - 1; i >= 0; i--) {
+      const q = f.at(i);
+      if (q?.verdict === 'steady') break;
+      if (q?.verdict) since = i;
+    }
+    items.push({
+      group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: o.limits[f.feature.name] ?? null,
+      recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
+      since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.base.members.length,
+      strength: strengthOf(p, o),
+    });
+  }
+  items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
+  return {
+    baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor },
+    features: o.features.map((f) => f.name), totals, items,
+  };
+}
+
+/** trends.parquet rows of the recordings this run covers, series by series in start-time order. */
+export function* trendRows(h: History, scored: ScoredFeature[]): Generator<Record<string, string | number | null>> {
+  for (const f of scored) {
+    const s = f.series;
+    for (let i = 0; i < s.size; i++) {
+      if (!s.inRun[i]) continue;
+      const p = f.at(i);
+      if (!p) continue;
+      yield {
+        recording: h.recordings[s.recording[i]], group: s.group, channel: s.channel, feature: f.feature.name, unit: f.unit,
+        start_time: s.startKnown[i] ? s.time[i] : null, value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
+        verdict: p.verdict, limit: p.limit, quality: severityAt(s, i),
+      };
+    }
+  }
+}

@@ -1,0 +1,96 @@
+// A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
+// read once from the output folder's stored results and kept as compact typed arrays (about 16 bytes a recording and
+// channel, plus 8 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
+import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
+import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
+import type { TrendOptions } from './options.js';
+
+/** A typed array that grows by doubling. */
+class Growing<T extends Float64Array | Int32Array | Uint8Array> {
+  size = 0;
+  constructor(public data: T, private readonly make: (n: number) => T) {}
+  push(v: number): void {
+    if (this.size === this.data.length) { const d = this.make(this.data.length * 2); d.set(this.data); this.data = d; }
+    this.data[this.size++] = v;
+  }
+  /** The filled part, reordered by `order` (indices into it). */
+  take(order: Int32Array): T {
+    const out = this.make(Math.max(1, order.length));
+    for (let i = 0; i < order.length; i++) out[i] = this.data[order[i]];
+    return out.subarray(0, order.length) as T;
+  }
+}
+const f64 = () => new Growing(new Float64Array(8), (n) => new Float64Array(n));
+const i32 = () => new Growing(new Int32Array(8), (n) => new Int32Array(n));
+const u8 = () => new Growing(new Uint8Array(8), (n) => new Uint8Array(n));
+
+/** One group × channel × unit over time: point i is one stored recording. */
+export interface Series {
+  group: string;
+  channel: string;
+  unit: string;
+  size: number;
+  /** Index into History.recordings. */
+  recording: Int32Array;
+  /** Start time, ms since the epoch, or the file's modification time when the recording carries none (startKnown 0). */
+  time: Float64Array;
+  startKnown: Uint8Array;
+  /** The channel's data-quality verdict on that recording, as an index into SEVERITIES. */
+  severity: Uint8Array;
+  /** 1 when the recording belongs to this run. */
+  inRun: Uint8Array;
+  /** Per watched feature (TrendOptions.features order): the value, NaN when absent or computed under other options. */
+  values: Float64Array[];
+}
+
+export interface History { recordings: string[]; series: Series[] }
+
+const FAIL = SEVERITIES.indexOf('fail');
+export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
+export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
+
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; values: Growing<Float64Array>[] }
+
+/**
+ * Reads every stored entry once and keeps what trends need. A value counts only when the entry's feature group was computed
+ * under the options the spec asks for now (whatever tool version computed it): figures from other filters or bands do not compare.
+ */
+export async function readHistory(out: string, spec: ReductionSpec, o: TrendOptions, inRun: ReadonlySet<string>, entries: AsyncIterable<CacheEntry> = storedEntries(out)): Promise<History> {
+  const recordings: string[] = [];
+  const building = new Map<string, Building>();
+  const keysOf = new Map<string, Record<string, string>>();
+  for await (const e of entries) {
+    if (e.status !== 'reduced' || !e.base) continue;
+    const keys = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version)).get(e.version)!;
+    const comparable = o.features.map((f) => e.groupKeys?.[f.group] === keys[f.group] && e.groups[f.group] != null);
+    const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
+    const r = recordings.push(e.recording) - 1;
+    e.base.channels.forEach((ch, c) => {
+      const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
+      let b = building.get(key);
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), values: o.features.map(f64) });
+      b.recording.push(r);
+      b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
+      b.startKnown.push(Number.isFinite(start) ? 1 : 0);
+      b.severity.push(SEVERITIES.indexOf(worst((e.groups.quality?.flags[c] ?? []).map((f) => f.severity))));
+      b.inRun.push(inRun.has(e.recording) ? 1 : 0);
+      o.features.forEach((f, k) => {
+        const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
+        b!.values[k].push(typeof v === 'number' ? v : NaN);
+      });
+    });
+  }
+  const series = [...building.values()].map((b): Series => {
+    const n = b.recording.size;
+    // Start-time order; recordings starting together by name, so the order never depends on how the store lists them.
+    const order = Int32Array.from({ length: n }, (_, i) => i).sort((i, j) => b.time.data[i] - b.time.data[j] || (recordings[b.recording.data[i]] < recordings[b.recording.data[j]] ? -1 : 1));
+    return {
+      group: b.group, channel: b.channel, unit: b.unit, size: n,
+      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), inRun: b.inRun.take(order),
+      values: b.values.map((v) => v.take(order)),
+    };
+  });
+  series.sort((a, b) => (a.group + '\u0000' + a.channel + '\u0000' + a.unit < b.group + '\u0000' + b.channel + '\u0000' + b.unit ? -1 : 1));
+  return { recordings, series };
+}

@@ -1,0 +1,79 @@
+// The spec's `trends` section resolved: which feature columns are watched, the baseline, the change thresholds and limits.
+import picomatch from 'picomatch';
+import { activeStages } from '../../stages/index.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
+import { UsageError } from '../declare/yaml-file.js';
+
+/** How a feature's change is put in decibels: as an amplitude ratio, as a difference of dB values, or not at all. */
+export type LevelKind = 'amplitude' | 'decibel' | null;
+
+export interface WatchedFeature {
+  name: string;
+  /** The column's unit; "[unit]" is the channel's own. */
+  unit: string;
+  /** The feature group (cache unit) that computes it. */
+  group: string;
+  level: LevelKind;
+}
+
+export type Baseline = { first: number } | { fromMs: number; untilMs: number; text: string };
+
+export interface TrendOptions {
+  features: WatchedFeature[];
+  baseline: Baseline;
+  changeDb: number;
+  score: number;
+  spreadFloor: number;
+  limits: Record<string, { warn?: number; alarm?: number }>;
+}
+
+export const DEFAULT_FEATURES = ['rms', 'peak', 'crest_factor', 'kurtosis', 'band_*_rms', 'velocity_*_rms', 'env_rms'];
+
+/** Dimensionless features that are ratios of amplitudes, so that 20·log10 of their ratio is a level change. */
+const AMPLITUDE_RATIOS = new Set(['crest_factor']);
+/** Units that are not amplitudes: frequencies, times, counts of bits. */
+const NOT_LEVELS = new Set(['Hz', 's', 'bit']);
+
+export function levelKind(name: string, unit: string): LevelKind {
+  if (unit === 'dB') return 'decibel';
+  if (unit === '1') return AMPLITUDE_RATIOS.has(name) ? 'amplitude' : null;
+  return NOT_LEVELS.has(unit) ? null : 'amplitude';
+}
+
+/** A date or date-time, taken as UTC when it names no zone. */
+function instant(text: string, key: string): number {
+  const zoned = /(Z|[+-]\d\d:?\d\d)$/i.test(text) || /^\d{4}-\d\d-\d\d$/.test(text) ? text : `${text}Z`;
+  const t = Date.parse(zoned);
+  if (!Number.isFinite(t)) throw new UsageError(`reduction spec: trends.baseline.${key}: "${text}" is not a date or date-time (2026-11-16, 2026-11-16T02:00Z)`);
+  return t;
+}
+
+/** The resolved section, or null when the spec has no `trends` section. Throws UsageError for a section that cannot work. */
+export function trendOptions(spec: ReductionSpec): TrendOptions | null {
+  const t = spec.trends;
+  if (!t) return null;
+  const patterns = t.features ?? DEFAULT_FEATURES;
+  const columns = activeStages(spec).flatMap((s) => s.definition.columns(s.options).map((c) => ({ ...c, group: s.definition.group })));
+  const limits = t.limits ?? {};
+  const unknown = Object.keys(limits).filter((name) => !columns.some((c) => c.name === name));
+  if (unknown.length) throw new UsageError(`reduction spec: trends.limits: ${unknown.join(', ')}: no such feature column in this spec; name a column of features.parquet`);
+  // A feature with a declared limit is watched whether or not a pattern names it.
+  const watched = columns.filter((c) => c.name in limits || patterns.some((p) => picomatch.isMatch(c.name, p)));
+  let baseline: Baseline = { first: 3 };
+  if (t.baseline && 'from' in t.baseline) {
+    const fromMs = instant(t.baseline.from, 'from'), untilMs = instant(t.baseline.until, 'until');
+    if (!(untilMs > fromMs)) throw new UsageError(`reduction spec: trends.baseline: until (${t.baseline.until}) must come after from (${t.baseline.from})`);
+    baseline = { fromMs, untilMs, text: `${t.baseline.from} to ${t.baseline.until}` };
+  } else if (t.baseline) baseline = { first: t.baseline.first };
+  return {
+    features: watched.map((c) => ({ name: c.name, unit: c.unit, group: c.group, level: levelKind(c.name, c.unit) })),
+    baseline,
+    changeDb: t.change_db ?? 6,
+    score: t.score ?? 6,
+    spreadFloor: t.spread_floor ?? 0.1,
+    limits,
+  };
+}
+
+/** The baseline in words, for the report. */
+export const baselineText = (b: Baseline) => ('first' in b ? `the first ${b.first} usable recordings of each group and channel by start time` : `the recordings starting from ${b.text}`);

@@ -1,0 +1,144 @@
+// The data behind the "what changed" pictures of a channel: each changed feature's history against its baseline band, the
+// latest spectrum over the baseline's, and the spectra across the recordings. Spectra are read from the stored results of only
+// the recordings pictured, and thinned to a few hundred bins.
+import { unpackSpectrum } from '../../stages/spectra.js';
+import type { ReductionSpec } from '../../spec/reduction.js';
+import { groupKeys, type CacheEntry } from '../plan/cache.js';
+import { baselineMembers } from './baseline.js';
+import type { ChangeItem, ChangesReport, ScoredFeature } from './changes.js';
+import { usable, type History, type Series } from './history.js';
+import type { TrendOptions } from './options.js';
+import { spreadOf } from './score.js';
+import type { Verdict } from './verdict.js';
+
+/** Channels pictured at the top of the report, spectra per spectrogram, bins per pictured spectrum. */
+export const MAX_CHANNELS = 6, MAX_RECORDINGS = 40, MAX_BINS = 256;
+
+export interface TrendPicture {
+  feature: string;
+  unit: string;
+  /** usable: the channel passed the data-quality checks on that recording. */
+  points: { t: number; value: number; verdict: Verdict | null; baseline: boolean; usable: boolean }[];
+  median: number | null;
+  /** Values between these read steady (change thresholds around the median); null while the baseline forms. */
+  band: [number, number] | null;
+  limits: { warn?: number; alarm?: number } | null;
+}
+
+export interface Spectrum { df: number; density: Float32Array }
+
+export interface ChannelPictures {
+  group: string;
+  channel: string;
+  unit: string;
+  items: ChangeItem[];
+  trends: TrendPicture[];
+  /** The latest recording's spectrum and the per-bin median of the baseline recordings' spectra. */
+  spectrum: { latest: Spectrum; baseline: Spectrum | null; recording: string; baselineCount: number } | null;
+  /** One spectrum per usable recording, oldest first (of the last MAX_RECORDINGS). */
+  spectrogram: { t: number; recording: string; spectrum: Spectrum }[];
+}
+
+/** Power-averages neighbouring bins so that at most `max` remain (the mean density over the wider bin). */
+export function thinBins(s: Spectrum, max = MAX_BINS): Spectrum {
+  const factor = Math.max(1, Math.ceil(s.density.length / max));
+  if (factor === 1) return s;
+  const out = new Float32Array(Math.ceil(s.density.length / factor));
+  for (let b = 0; b < out.length; b++) {
+    let sum = 0, n = 0;
+    for (let k = b * factor; k < Math.min(s.density.length, (b + 1) * factor); k++, n++) sum += s.density[k];
+    out[b] = sum / n;
+  }
+  return { df: s.df * factor, density: out };
+}
+
+/** Per-bin median of spectra of the same shape. */
+function medianSpectrum(list: Spectrum[]): Spectrum | null {
+  if (!list.length) return null;
+  const n = list[0].density.length;
+  const out = new Float32Array(n), column = new Float64Array(list.length);
+  for (let k = 0; k < n; k++) {
+    list.forEach((s, j) => { column[j] = s.density[k]; });
+    column.sort();
+    const m = column.length >> 1;
+    out[k] = column.length % 2 ? column[m] : (column[m - 1] + column[m]) / 2;
+  }
+  return { df: list[0].df, density: out };
+}
+
+/** The band of values that read steady around the baseline median, under both change thresholds. */
+function steadyBand(f: ScoredFeature, o: TrendOptions): [number, number] | null {
+  if (!f.base.complete) return null;
+  const m = f.base.median, spread = spreadOf(m, f.base.mad, o.spreadFloor);
+  let hi = m + o.score * spread, lo = m - o.score * spread;
+  if (f.feature.level === 'amplitude' && m > 0) { hi = Math.min(hi, m * 10 ** (o.changeDb / 20)); lo = Math.max(lo, m * 10 ** (-o.changeDb / 20)); }
+  if (f.feature.level === 'decibel') { hi = Math.min(hi, m + o.changeDb); lo = Math.max(lo, m - o.changeDb); }
+  return [lo, hi];
+}
+
+function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
+  const members = new Set(f.base.members);
+  const points: TrendPicture['points'] = [];
+  for (let i = 0; i < f.series.size; i++) {
+    const p = f.at(i);
+    if (p) points.push({ t: f.series.time[i], value: p.value, verdict: p.verdict, baseline: members.has(i), usable: usable(f.series, i) });
+  }
+  return { feature: f.feature.name, unit: f.unit, points, median: f.base.complete ? f.base.median : null, band: steadyBand(f, o), limits: o.limits[f.feature.name] ?? null };
+}
+
+const sameChannel = (s: Series, c: { group: string; channel: string; unit: string }) => s.group === c.group && s.channel === c.channel && s.unit === c.unit;
+
+/** Pictures of the channels with the strongest changes, reading the spectra they need in one pass over `entries`. */
+export async function gatherPictures(h: History, scored: ScoredFeature[], report: ChangesReport, o: TrendOptions, spec: ReductionSpec, entries: AsyncIterable<CacheEntry>): Promise<ChannelPictures[]> {
+  const channels: { series: Series; items: ChangeItem[] }[] = [];
+  for (const item of report.items) {
+    const at = { group: item.group, channel: item.channel, unit: item.channel_unit };
+    const known = channels.find((c) => sameChannel(c.series, at));
+    if (known) { known.items.push(item); continue; }
+    if (channels.length === MAX_CHANNELS) continue;
+    const series = h.series.find((s) => sameChannel(s, at));
+    if (series) channels.push({ series, items: [item] });
+  }
+  // Which recordings' spectra each pictured channel needs: its baseline, and its last MAX_RECORDINGS.
+  const wanted = new Map<string, { pic: number; point: number }[]>();
+  const baselines = channels.map(({ series: s }, pic) => {
+    const members = baselineMembers(s, o.baseline);
+    const points = new Set([...members, ...Array.from({ length: Math.min(MAX_RECORDINGS, s.size) }, (_, j) => s.size - 1 - j)]);
+    for (const point of points) {
+      const name = h.recordings[s.recording[point]];
+      (wanted.get(name) ?? wanted.set(name, []).get(name)!).push({ pic, point });
+    }
+    return members;
+  });
+  const spectra = channels.map(() => new Map<number, Spectrum>());
+  const keysOf = new Map<string, string>();
+  for await (const e of entries) {
+    const uses = wanted.get(e.recording);
+    if (!uses || e.status !== 'reduced' || !e.base) continue;
+    const key = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version).spectrum).get(e.version)!;
+    const kept = e.groupKeys?.spectrum === key ? e.groups.spectrum?.kept?.spectrum : undefined;
+    if (!kept) continue;
+    for (const { pic, point } of uses) {
+      const s = channels[pic].series;
+      if (e.group !== s.group) continue;
+      const c = e.base.channels.findIndex((ch) => ch.name === s.channel && ch.unit === s.unit);
+      const spectrum = c >= 0 ? unpackSpectrum(kept[c]) : null;
+      if (spectrum) spectra[pic].set(point, thinBins(spectrum));
+    }
+  }
+  return channels.map(({ series: s, items }, pic) => {
+    const have = spectra[pic];
+    const latestPoint = [...have.keys()].filter((i) => h.recordings[s.recording[i]] === items[0].recording)[0];
+    const latest = latestPoint != null ? have.get(latestPoint)! : null;
+    const alike = (x: Spectrum) => latest != null && x.df === latest.df && x.density.length === latest.density.length;
+    const base = baselines[pic].map((i) => have.get(i)).filter((x): x is Spectrum => x != null && alike(x));
+    const recent = [...have.entries()].filter(([i]) => i >= s.size - MAX_RECORDINGS && usable(s, i) && alike(have.get(i)!)).sort((a, b) => a[0] - b[0]);
+    const features = scored.filter((f) => f.series === s && items.some((it) => it.feature === f.feature.name));
+    return {
+      group: s.group, channel: s.channel, unit: s.unit, items,
+      trends: items.map((it) => trendPicture(features.find((f) => f.feature.name === it.feature)!, o)),
+      spectrum: latest ? { latest, baseline: medianSpectrum(base), recording: items[0].recording, baselineCount: base.length } : null,
+      spectrogram: recent.map(([i, spectrum]) => ({ t: s.time[i], recording: h.recordings[s.recording[i]], spectrum })),
+    };
+  });
+}

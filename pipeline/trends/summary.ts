@@ -1,0 +1,24 @@
+// The terminal's lines on what changed: the counts, then the strongest changes, one line each.
+import type { ChangeItem, ChangesReport } from './changes.js';
+
+const num = (v: number) => Number(v.toPrecision(4)).toString();
+const signed = (v: number, digits = 1) => `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(digits)}`;
+const day = (t: string | null, recording: string) => (t ? t.slice(0, 10) : recording);
+
+/** "acc_de env_rms 4.845 m/s^2 on 2026-11-21: +18.0 dB on its baseline 0.61 (score +69), since 2026-11-20" */
+export function changeLine(c: ChangeItem): string {
+  const unit = c.unit === '1' ? '' : ` ${c.unit}`;
+  const how = [c.change_db != null ? `${signed(c.change_db)} dB` : null, c.score != null ? `score ${signed(c.score, 0)}` : null].filter(Boolean).join(', ');
+  const against = c.baseline != null ? ` against its baseline ${num(c.baseline)}${unit}` : '';
+  const limit = c.limit ? `; at or above its ${c.limit} limit ${num(c.limits![c.limit]!)}${unit}` : '';
+  const since = c.since.recording !== c.recording ? `, since ${day(c.since.start_time, c.since.recording)}` : '';
+  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${since}`;
+}
+
+export function changesSummary(r: ChangesReport, top = 5): string[] {
+  const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
+  const lines = [`  changes: ${alarms} channel features at an alarm limit, ${changed} changed, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
+  for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
+  if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
+  return lines;
+}

@@ -1,0 +1,16 @@
+// Exponential time weighting of the squared signal (IEC 61672-1:2013: F = 0.125 s, S = 1 s), from zero, with its running maximum:
+// y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)), the exact sampled response of the first-order averager.
+export class ExponentialMeanSquare {
+  private readonly alpha: number;
+  /** The weighted mean square now, and its largest value so far. */
+  value = 0;
+  max = 0;
+  constructor(tauS: number, fs: number) { this.alpha = 1 - Math.exp(-1 / (tauS * fs)); }
+
+  push(x: Float64Array): void {
+    const a = this.alpha;
+    let v = this.value, m = this.max;
+    for (let i = 0; i < x.length; i++) { v += a * (x[i] * x[i] - v); if (v > m) m = v; }
+    this.value = v; this.max = m;
+  }
+}

@@ -1,0 +1,37 @@
+// Rising edges of a pulse train, streaming: a comparator with hysteresis (Schmitt trigger), each edge timed to a fraction of a sample.
+
+/** Where an edge is timed (level) and how far the signal must swing around it to count (hysteresis, the full band width). */
+export interface Trigger { level: number; hysteresis: number }
+
+/** Detects rising edges chunk by chunk, holding only the previous sample; reports each edge as a fractional sample index. */
+export class PulseEdges {
+  private armed = false;
+  private prev = Number.NaN;
+  private next = 0;
+  private crossing = Number.NaN;
+
+  constructor(private readonly trigger: Trigger, private readonly onEdge: (at: number) => void) {}
+
+  // Schmitt trigger (common practice): arm below level − h/2, fire above level + h/2, so noise on a slow edge counts once.
+  // The edge is the last upward crossing of the level before firing, timed by linear interpolation between the two samples around it.
+  push(x: Float64Array): void {
+    const { level, hysteresis } = this.trigger;
+    const low = level - hysteresis / 2, high = level + hysteresis / 2;
+    let { armed, prev, crossing } = this;
+    for (let i = 0; i < x.length; i++) {
+      const v = x[i];
+      if (!armed) {
+        if (v < low) { armed = true; crossing = Number.NaN; }
+      } else {
+        if (prev < level && v >= level) crossing = this.next + i - 1 + (level - prev) / (v - prev);
+        // A gap (non-finite samples) across the crossing leaves the edge untimed: it is skipped, not guessed.
+        if (v > high) { if (Number.isFinite(crossing)) this.onEdge(crossing); armed = false; }
+      }
+      prev = v;
+    }
+    this.next += x.length;
+    this.armed = armed;
+    this.prev = prev;
+    this.crossing = crossing;
+  }
+}

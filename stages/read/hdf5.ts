@@ -1,0 +1,196 @@
+// HDF5 reader (h5wasm: the HDF5 C library compiled to WebAssembly, reading the file where it lies): the group declares
+// the dataset(s), the channel axis, and the attributes holding the sample rate and start time; samples are read as
+// hyperslabs of a bounded number of frames.
+import { open } from 'node:fs/promises';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+
+/** How a group's HDF5 files hold their recordings. */
+export interface Hdf5Layout {
+  /** One dataset holding every channel, or one dataset per channel (in channel order). */
+  datasets: string[];
+  /** For one two-dimensional dataset: the axis that counts channels (0: rows are channels; 1: columns are channels). */
+  channel_axis: 0 | 1 | null;
+  /** Attribute holding the sample rate in Hz: a name looked up on the dataset and then its enclosing groups, or "/path@name". */
+  sample_rate_attribute: string | null;
+  /** Attribute holding the start time: an ISO 8601 string, or POSIX seconds. Same lookup. */
+  start_time_attribute: string | null;
+}
+
+type H5 = typeof import('h5wasm');
+type Dataset = InstanceType<H5['Dataset']>;
+type HdfFile = InstanceType<H5['File']>;
+
+let library: Promise<H5> | null = null;
+/** The library, loaded once per thread on first use; HDF5's own errors are raised as exceptions rather than printed. */
+function h5wasm(): Promise<H5> {
+  library ??= import('h5wasm/node').then(async (m) => {
+    const module = await m.ready;
+    module.activate_throwing_error_handler();
+    return m as unknown as H5;
+  });
+  return library;
+}
+
+/** Most bytes one stored chunk may have: HDF5 decompresses a chunk whole before taking a hyperslab from it. */
+const MAX_STORED_CHUNK_BYTES = 256 * 1024 * 1024;
+
+// HDF5 format signature (HDF5 File Format Specification, superblock): at byte 0, 512, 1024, 2048, … of the file.
+const SIGNATURE = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
+async function hasSignature(path: string): Promise<boolean> {
+  const f = await open(path, 'r');
+  try {
+    const size = (await f.stat()).size;
+    const b = Buffer.alloc(8);
+    for (let at = 0; at + 8 <= size && at <= 1 << 20; at = at === 0 ? 512 : at * 2) {
+      await f.read(b, 0, 8, at);
+      if (b.equals(SIGNATURE)) return true;
+    }
+    return false;
+  } finally {
+    await f.close();
+  }
+}
+
+/** The root cause from HDF5's error stack: its deepest entry's message ("truncated file: eof = …"), without source paths. */
+function firstLine(e: unknown): string {
+  const text = String((e as Error)?.message ?? e);
+  const causes = [...text.matchAll(/#\d+: .*? in (\w+)\(\): (.*)$/gm)].map((m) => m[2].trim());
+  return (causes.at(-1) ?? text.split('\n').map((l) => l.trim()).find(Boolean) ?? 'unknown error').slice(0, 300);
+}
+
+/** Finds an attribute: "/path@name" exactly, or "name" on the object and then each enclosing group up to the root. */
+function findAttribute(file: HdfFile, from: string, spec: string, what: string): unknown {
+  const at = spec.lastIndexOf('@');
+  const places = at >= 0 ? [spec.slice(0, at) || '/'] : from.split('/').filter(Boolean).map((_, i, parts) => `/${parts.slice(0, parts.length - i).join('/')}`).concat('/');
+  const name = at >= 0 ? spec.slice(at + 1) : spec;
+  for (const place of places) {
+    let obj;
+    try { obj = file.get(place); } catch { obj = null; }
+    if (!obj || !('attrs' in obj)) continue;
+    const attrs = (obj as { attrs: Record<string, { value: unknown }> }).attrs;
+    if (Object.prototype.hasOwnProperty.call(attrs, name)) {
+      try { return attrs[name].value; } catch (e) { throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
+    }
+  }
+  throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct hdf5.${what === 'sample rate' ? 'sample_rate_attribute' : 'start_time_attribute'} in archive.yaml or check the file`);
+}
+
+const scalar = (v: unknown) => (ArrayBuffer.isView(v) || Array.isArray(v)) && (v as ArrayLike<unknown>).length === 1 ? (v as ArrayLike<unknown>)[0] : v;
+
+function sampleRateOf(file: HdfFile, from: string, spec: string): number {
+  const v = scalar(findAttribute(file, from, spec, 'sample rate'));
+  const rate = typeof v === 'bigint' ? Number(v) : typeof v === 'string' ? Number(v) : (v as number);
+  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`attribute "${spec}" (the sample rate) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or the declaration`);
+  return rate;
+}
+
+function startTimeOf(file: HdfFile, from: string, spec: string): Date {
+  const v = scalar(findAttribute(file, from, spec, 'start time'));
+  const t = typeof v === 'string' ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v.trim()) ? v.trim() : `${v.trim()}Z`) : Number(v) * 1000;
+  if (!Number.isFinite(t)) throw new RecordingError(`attribute "${spec}" (the start time) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or the declaration`);
+  return new Date(t);
+}
+
+interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean }
+
+function datasetOf(file: HdfFile, path: string): Source {
+  let obj;
+  try { obj = file.get(path); } catch (e) { throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check hdf5.datasets in archive.yaml or the file`); }
+  if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check hdf5.datasets in archive.yaml`);
+  if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" is a ${obj.constructor.name}, not a dataset; name the dataset in hdf5.datasets`);
+  const ds = obj as Dataset;
+  let m;
+  try { m = ds.metadata; } catch (e) { throw new RecordingError(`dataset "${path}": its description cannot be read: ${firstLine(e)}; the file is damaged`); }
+  const shape = m.shape ?? [];
+  // HDF5 type classes: 0 integer, 1 float.
+  if (!((m.type === 0 && [1, 2, 4, 8].includes(m.size)) || (m.type === 1 && (m.size === 4 || m.size === 8))) || m.vlen) {
+    throw new RecordingError(`dataset "${path}" holds ${m.type === 0 ? `${m.size}-byte integers` : m.type === 1 ? `${m.size}-byte floats` : `values of HDF5 type class ${m.type}`}; quern reads integers of 1, 2, 4 or 8 bytes and 32- or 64-bit floats`);
+  }
+  if (m.chunks && m.chunks.reduce((a, b) => a * b, m.size) > MAX_STORED_CHUNK_BYTES) {
+    throw new RecordingError(`dataset "${path}" is stored in chunks of ${m.chunks.join(' × ')} values, over ${MAX_STORED_CHUNK_BYTES >> 20} MiB each; rewrite it with smaller chunks (h5repack -l CHUNK=…)`);
+  }
+  return { ds, path, shape, type: m.type, size: m.size, signed: m.signed };
+}
+
+/** Integers are normalised to ±1 of the type's full scale (unsigned ones as offset binary), as the raw reader does. */
+function normaliser(s: Source): (v: number | bigint) => number {
+  if (s.type === 1) return (v) => v as number;
+  const full = 2 ** (s.size * 8 - 1);
+  return s.signed ? (v) => Number(v) / full : (v) => (Number(v) - full) / full;
+}
+
+export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES } = {}): Promise<Recording> {
+  if (!layout || layout.datasets.length === 0) throw new RecordingError('HDF5 needs a declared layout: hdf5: { datasets: [...], channel_axis, sample_rate_attribute, start_time_attribute } in its archive.yaml group');
+  if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
+  const h5 = await h5wasm();
+  let file: HdfFile;
+  try {
+    file = new h5.File(path, 'r');
+    if ((file as unknown as { file_id: bigint }).file_id < 0n) throw new Error('the library could not open it');
+  } catch (e) {
+    throw new RecordingError(`the HDF5 file cannot be opened: ${firstLine(e)}; the file is damaged or cut short: copy it again`);
+  }
+  try {
+    const sources = layout.datasets.map((d) => datasetOf(file, d));
+    const first = sources[0];
+    let channels: number, frames: number, axis: 0 | 1;
+    if (sources.length === 1) {
+      if (first.shape.length === 1) { channels = 1; frames = first.shape[0]; axis = 1; }
+      else if (first.shape.length === 2) {
+        if (layout.channel_axis == null) throw new RecordingError(`dataset "${first.path}" has two axes (${first.shape.join(' × ')}); declare hdf5.channel_axis: 0 if its rows are channels, 1 if its columns are`);
+        axis = layout.channel_axis;
+        channels = first.shape[axis];
+        frames = first.shape[1 - axis];
+      } else throw new RecordingError(`dataset "${first.path}" has ${first.shape.length} axes (${first.shape.join(' × ')}); quern reads one axis of samples and at most one of channels`);
+    } else {
+      for (const s of sources) {
+        if (s.shape.length !== 1) throw new RecordingError(`dataset "${s.path}" has ${s.shape.length} axes (${s.shape.join(' × ')}); with one dataset per channel each must be one-dimensional`);
+        if (s.shape[0] !== first.shape[0]) throw new RecordingError(`dataset "${s.path}" holds ${s.shape[0]} samples but "${first.path}" holds ${first.shape[0]}; the channels of one recording must be equally long`);
+        if (s.type !== first.type || s.size !== first.size || s.signed !== first.signed) throw new RecordingError(`dataset "${s.path}" stores its values differently from "${first.path}"; the channels of one recording must share one type`);
+      }
+      channels = sources.length; frames = first.shape[0]; axis = 1;
+    }
+    checkChannelCount(channels, `dataset "${first.path}"`);
+    const fromAttribute = layout.sample_rate_attribute ? sampleRateOf(file, first.path, layout.sample_rate_attribute) : null;
+    const sampleRate = fromAttribute ?? declaredSampleRate;
+    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; declare sample_rate for the group or hdf5.sample_rate_attribute`);
+    const startTime = layout.start_time_attribute ? startTimeOf(file, first.path, layout.start_time_attribute) : null;
+    const chunk = boundedChunkFrames(chunkFrames, channels);
+    const norm = sources.map(normaliser);
+    const integer = first.type === 0;
+    async function* chunks(): AsyncGenerator<Float64Array[]> {
+      const out = Array.from({ length: channels }, () => new Float64Array(chunk));
+      for (let start = 0; start < frames; start += chunk) {
+        const n = Math.min(chunk, frames - start);
+        const rows: [number, number] = [start, start + n];
+        for (let s = 0; s < sources.length; s++) {
+          const src = sources[s];
+          let block: ArrayLike<number | bigint>;
+          const ranges = src.shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
+          try {
+            block = src.ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>;
+          } catch (e) {
+            throw new RecordingError(`dataset "${src.path}": samples ${start} to ${start + n} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+          }
+          const f = norm[s];
+          if (sources.length > 1) { for (let i = 0; i < n; i++) out[s][i] = f(block[i]); continue; }
+          // Samples × channels (axis 1) interleave the channels; channels × samples (axis 0) hold each channel's run in turn.
+          for (let c = 0; c < channels; c++) {
+            const o = out[c];
+            if (axis === 1) for (let i = 0, at = c; i < n; i++, at += channels) o[i] = f(block[at]);
+            else for (let i = 0, at = c * n; i < n; i++, at++) o[i] = f(block[at]);
+          }
+        }
+        yield n === chunk ? out : out.map((a) => a.subarray(0, n));
+      }
+    }
+    return {
+      format: 'hdf5', channelCount: channels, sampleRate, frames,
+      encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
+      startTime, channelNames: null, notes: [], chunks, close: async () => { file.close(); },
+    };
+  } catch (e) {
+    file.close();
+    throw e;
+  }
+}

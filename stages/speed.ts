@@ -1,0 +1,39 @@
+// Shaft speed on a tacho channel's row: mean, slowest and fastest revolution, the revolutions they rest on, and the pulse faults.
+import { speedOf, type PulseFaults } from './shaft-speed.js';
+import type { StageDefinition } from './stage.js';
+
+const at = (f: PulseFaults) => `${f.times_s.map((t) => `${t.toFixed(4)} s`).join(', ')}${f.count > f.times_s.length ? ` and ${f.count - f.times_s.length} more` : ''}`;
+const round = (v: number) => Number(v.toPrecision(4));
+
+export const speed: StageDefinition<Record<string, never>> = {
+  group: 'speed',
+  columns: () => [
+    { name: 'speed_mean_rpm', unit: 'rpm', description: 'Tacho channels: shaft speed over the recording, revolutions of the good pulse intervals / their duration.' },
+    { name: 'speed_min_rpm', unit: 'rpm', description: 'Tacho channels: speed of the slowest revolution (pulses_per_rev consecutive good intervals).' },
+    { name: 'speed_max_rpm', unit: 'rpm', description: 'Tacho channels: speed of the fastest revolution.' },
+    { name: 'revolutions', unit: '1', description: 'Tacho channels: revolutions the speed figures rest on (good pulse intervals / pulses_per_rev).' },
+    { name: 'pulses_missing', unit: '1', description: 'Tacho channels: pulses missing from the train (an interval of whole multiples of the expected one).' },
+    { name: 'pulses_extra', unit: '1', description: 'Tacho channels: extra pulses between two good ones a whole interval apart.' },
+  ],
+  create(ctx) {
+    if (!ctx.tacho) return { push() {}, finish: () => ({}) };
+    const product = speedOf(ctx);
+    return {
+      push() {},
+      finish() {
+        const s = product.summary();
+        const unit = ctx.unit;
+        if (s.trigger && s.found) ctx.note(`${ctx.name}: tacho edges timed at ${round(s.trigger.level)} ${unit}, hysteresis ${round(s.trigger.hysteresis)} ${unit}, found from the first second; declare trigger_level and trigger_hysteresis to fix them`);
+        if (!s.trigger) ctx.note(`${ctx.name}: tacho signal flat over the first second; no trigger level found, so no speed; declare trigger_level and trigger_hysteresis`);
+        else if (s.meanRpm == null) ctx.note(`${ctx.name}: no two consecutive good tacho pulses (${s.edges} edges at ${round(s.trigger.level)} ${unit}); check the trigger level and pulses_per_rev`);
+        if (s.missing.count) ctx.note(`${ctx.name}: ${s.missing.count} tacho pulse(s) missing near ${at(s.missing)}; those intervals are left out of the speed`);
+        if (s.extra.count) ctx.note(`${ctx.name}: ${s.extra.count} extra tacho pulse(s) at ${at(s.extra)}; ignored`);
+        if (s.irregular.count) ctx.note(`${ctx.name}: ${s.irregular.count} irregular tacho interval(s) from ${at(s.irregular)}, neither whole pulses missing nor one extra; left out of the speed`);
+        return {
+          speed_mean_rpm: s.meanRpm, speed_min_rpm: s.minRpm, speed_max_rpm: s.maxRpm, revolutions: s.revolutions,
+          pulses_missing: s.missing.count, pulses_extra: s.extra.count,
+        };
+      },
+    };
+  },
+};

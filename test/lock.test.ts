@@ -1,0 +1,84 @@
+// Runs never collide: a second run into a folder in use is refused and told who holds it; a lock whose holder is gone is taken over.
+import { spawn } from 'node:child_process';
+import { cpSync, existsSync, readFileSync, utimesSync, writeFileSync } from 'node:fs';
+import { hostname } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { makeSampleArchive } from '../scripts/make-sample-archive.js';
+import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+
+/** The sample archive with more recordings, so that a run lasts long enough to be caught holding its lock. */
+function longerArchive(): string {
+  const archive = join(tempDir(), 'archive');
+  makeSampleArchive(archive);
+  for (let d = 0; d < 24; d++) cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', `2026-12-${String(d + 1).padStart(2, '0')}`), { recursive: true });
+  return archive;
+}
+
+const startRun = (archive: string, out: string) => spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', out, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
+
+async function until(what: () => boolean, ms = 60_000): Promise<void> {
+  const deadline = Date.now() + ms;
+  while (!what() && Date.now() < deadline) await new Promise((r) => setTimeout(r, 10));
+}
+
+describe('one run at a time per output folder', () => {
+  it('refuses a second run while the first holds the lock, with exit code 2 and the holder named', async () => {
+    const archive = longerArchive(), out = join(archive, '..', 'out');
+    const first = startRun(archive, out);
+    const lock = join(out, 'run.lock');
+    await until(() => existsSync(lock) && readFileSync(lock, 'utf8').includes('"pid"'));
+    const holder = JSON.parse(readFileSync(lock, 'utf8'));
+    expect(holder).toMatchObject({ host: hostname(), pid: first.pid });
+    expect(Date.parse(holder.started)).toBeGreaterThan(Date.now() - 120_000);
+    const second = quern('reduce', archive, '--out', out, '--quiet');
+    const firstCode = await new Promise<number | null>((r) => first.on('exit', r));
+    expect(second.code).toBe(2);
+    expect(second.stderr).toContain(`is in use by another run: host ${hostname()}, pid ${first.pid}, started ${holder.started}`);
+    expect(firstCode).toBe(1); // the planted truncated recording; the first run was not disturbed
+    expect(existsSync(lock)).toBe(false); // released at the end
+    expect(readJson(join(out, 'run.json')).counts.selected).toBe(34);
+  });
+
+  it('takes over the lock of a run that was killed, and says so', async () => {
+    const archive = longerArchive(), out = join(archive, '..', 'out');
+    const killed = startRun(archive, out);
+    await until(() => existsSync(join(out, 'run.lock')) && readFileSync(join(out, 'run.lock'), 'utf8').includes('"pid"'));
+    killed.kill('SIGKILL');
+    await new Promise((r) => killed.on('exit', r));
+    expect(existsSync(join(out, 'run.lock'))).toBe(true); // SIGKILL leaves it behind
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    expect(r.stdout).toContain(`took over the lock of a run that is gone (${hostname()}, pid ${killed.pid}`);
+    expect(r.stdout).toContain(`process ${killed.pid} on this host is no longer running`);
+    expect(readJson(join(out, 'run.json')).lock.took_over.holder.pid).toBe(killed.pid);
+  });
+
+  it('takes over a lock from another host only once it is older than the declared age', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const lock = join(out, 'run.lock');
+    writeFileSync(lock, JSON.stringify({ host: 'rig-controller-7', pid: 4242, started: '2026-11-30T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive' }));
+    const twoDaysAgo = new Date(Date.now() - 48 * 3_600_000);
+    utimesSync(lock, twoDaysAgo, twoDaysAgo);
+    const refused = quern('reduce', archive, '--out', out, '--quiet', '--stale-lock-after', '72h');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain('in use by another run: host rig-controller-7, pid 4242, started 2026-11-30T01:00:00.000Z');
+    const taken = quern('reduce', archive, '--out', out, '--quiet');
+    expect(taken.code).toBe(1);
+    expect(taken.stdout).toMatch(/took over the lock .*rig-controller-7, pid 4242.*held from host rig-controller-7 and not refreshed for 4\d\.\d h \(over 24\.0 h\)/);
+  });
+
+  it('lets shards of one run work side by side, each under its own lock, and merge waits for running shards', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const shard = (k: number) => new Promise<number | null>((resolve) => {
+      spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', out, '--shard', `${k}/2`, '--jobs', '1', '--quiet'], { stdio: 'ignore' }).on('exit', resolve);
+    });
+    const codes = await Promise.all([shard(1), shard(2)]);
+    expect(codes.every((c) => c === 0 || c === 1)).toBe(true);
+    writeFileSync(join(out, 'parts', 'run-2-of-2.lock'), JSON.stringify({ host: hostname(), pid: process.pid, started: new Date().toISOString(), run_id: 'r-2', command: 'quern reduce --shard 2/2' }));
+    const waiting = quern('merge', out);
+    expect(waiting.code).toBe(2);
+    expect(waiting.stderr).toContain(`cannot merge while shards are still running: host ${hostname()}, pid ${process.pid}`);
+  });
+});

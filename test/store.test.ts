@@ -1,0 +1,133 @@
+// Damaged results are never used: every stored entry carries checksums; a corrupted or cut-off entry is reported in run.json
+// and recomputed, and the tables equal a clean run's. A write that fails keeps the previous outputs.
+import { spawnSync } from 'node:child_process';
+import { cpSync, readdirSync, readFileSync, statSync, truncateSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { describe, expect, it } from 'vitest';
+import { storedEntries } from '../pipeline/plan/cache.js';
+import { scanPack, type Located } from '../pipeline/store/pack.js';
+import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
+
+async function table(path: string): Promise<Record<string, unknown>[]> {
+  const db = await (await DuckDBInstance.create()).connect();
+  return (await db.runAndReadAll(`select * from '${path}' order by all`)).getRowObjectsJson() as Record<string, unknown>[];
+}
+
+async function records(pack: string): Promise<Located[]> {
+  const found: Located[] = [];
+  await scanPack(pack, (r) => found.push(r));
+  return found;
+}
+
+/** A reduced copy of the sample archive, and a clean reduction of it elsewhere to compare with. */
+async function reducedTwice() {
+  const archive = sampleArchiveCopy(), out = join(archive, '..', 'out'), clean = join(archive, '..', 'clean');
+  quern('reduce', archive, '--out', out, '--quiet');
+  quern('reduce', archive, '--out', clean, '--quiet');
+  return { archive, out, clean, pack: join(out, 'cache', 'entries.pack') };
+}
+
+async function expectSameTables(out: string, clean: string) {
+  expect(await table(join(out, 'features.parquet'))).toEqual(await table(join(clean, 'features.parquet')));
+  expect(await table(join(out, 'windows.parquet'))).toEqual(await table(join(clean, 'windows.parquet')));
+  const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings }; };
+  expect(q(join(out, 'quality.json'))).toEqual(q(join(clean, 'quality.json')));
+}
+
+describe('damaged stored entries', () => {
+  it('a flipped byte in an entry is found by its checksum, reported, recomputed; the tables equal a clean run\'s', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const victim = all.find((r) => r.facts.recording === 'nightly/2026-11-18/pump-endurance.wav')!;
+    expect(all.indexOf(victim)).toBeLessThan(all.length - 1); // sound entries follow it: reading must resume after the damage
+    const bytes = readFileSync(pack);
+    bytes[victim.offset + victim.length - 100] ^= 0x10; // one bit, inside the deflated results
+    writeFileSync(pack, bytes);
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged).toEqual([{ file: pack, offset: victim.offset, bytes: victim.length, recording: victim.facts.recording, problem: 'checksum mismatch in the entry\'s results' }]);
+    const line = run.recordings.find((x: any) => x.recording === victim.facts.recording);
+    expect(line.why).toBe('stored entry damaged (checksum mismatch in the entry\'s results); recomputed');
+    expect(line.recomputed.length).toBeGreaterThan(0);
+    expect(run.recordings.filter((x: any) => x.recomputed.length > 0).map((x: any) => x.recording)).toEqual([victim.facts.recording]);
+    expect(r.stdout).toContain(`DAMAGED stored entry of ${victim.facts.recording}`);
+    await expectSameTables(out, clean);
+    // The damaged stretch was dropped from the pack: the next run finds nothing wrong and recomputes nothing.
+    expect(run.store.compacted).toBe(true);
+    quern('reduce', archive, '--out', out, '--quiet');
+    const next = readJson(join(out, 'run.json'));
+    expect(next.store.damaged).toEqual([]);
+    expect(next.counts.recomputed).toBe(0);
+  });
+
+  it('an entry cut short (a truncated pack) is reported and recomputed; the tables equal a clean run\'s', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const last = all[all.length - 1];
+    truncateSync(pack, last.offset + Math.floor(last.length / 2));
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged).toHaveLength(1);
+    expect(run.store.damaged[0]).toMatchObject({ offset: last.offset, recording: last.facts.recording, problem: 'truncated: the file ends inside a record' });
+    expect(run.recordings.find((x: any) => x.recording === last.facts.recording).why).toMatch(/^stored entry damaged \(truncated/);
+    await expectSameTables(out, clean);
+  });
+
+  it('garbage in place of the pack is reported, every recording recomputed, and the history reader passes it over', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    writeFileSync(pack, Buffer.alloc(statSync(pack).size, 0x5a));
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged[0]).toMatchObject({ offset: 0, problem: 'not the start of a record (damaged bytes)', recording: null });
+    expect(run.counts.recomputed).toBe(10);
+    await expectSameTables(out, clean);
+    const history: string[] = [];
+    for await (const e of storedEntries(out)) history.push(e.recording);
+    expect(history).toEqual(run.recordings.map((x: any) => x.recording).sort());
+  });
+});
+
+describe('a write that fails', () => {
+  /** Runs quern under a file-size limit (RLIMIT_FSIZE, in KiB): writing past it fails with EFBIG, as on a full disk. */
+  const limited = (kib: number, ...args: string[]) => {
+    const r = spawnSync('bash', ['-c', `ulimit -f ${kib}; exec "$0" "$@"`, process.execPath, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8' });
+    return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+  };
+  const outputs = ['features.parquet', 'windows.parquet', 'quality.json', 'quality.html', 'outputs.json'];
+  const snapshot = (out: string) => Object.fromEntries(outputs.map((f) => [f, readFileSync(join(out, f))]));
+
+  it('keeps the previous outputs whole when a report cannot be written, names the file and the cause, and exits 2', async () => {
+    const { archive, out, clean } = await reducedTwice();
+    const before = snapshot(out);
+    cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', '2026-11-23'), { recursive: true }); // the outputs must change
+    const html = statSync(join(out, 'quality.html')).size, pack = statSync(join(out, 'cache', 'entries.pack')).size;
+    const limit = Math.ceil((2 * pack + 200_000) / 1024); // room for every entry to be stored again (first re-runs confirm fresh files by content)
+    expect(limit * 1024).toBeLessThan(html); // the pack may grow, quality.html cannot be written whole
+    const r = limited(limit, 'reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(2);
+    expect(r.stderr).toContain(`cannot write ${join(out, 'quality.html')}: file too large (a file-size limit was reached) (EFBIG); the previous outputs are kept`);
+    expect(snapshot(out)).toEqual(before);
+    expect(readdirSync(out, { recursive: true }).filter((f) => String(f).endsWith('.tmp'))).toEqual([]);
+    // With room again, the run completes as a clean one would.
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+    quern('reduce', archive, '--out', clean, '--quiet');
+    await expectSameTables(out, clean);
+  });
+
+  it('stops when a finished recording cannot be stored, names the pack, keeps the outputs, and recovers on the next run', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const before = snapshot(out);
+    cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', '2026-11-23'), { recursive: true });
+    const r = limited(Math.floor(statSync(pack).size / 1024), 'reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(2);
+    expect(r.stderr).toContain(`cannot write ${pack}: file too large (a file-size limit was reached) (EFBIG)`);
+    expect(snapshot(out)).toEqual(before);
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+    quern('reduce', archive, '--out', clean, '--quiet');
+    await expectSameTables(out, clean);
+  });
+});

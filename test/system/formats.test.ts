@@ -1,0 +1,94 @@
+// Live comparisons of the WAV, FLAC and HDF5 readers with the tools themselves: files written now by sox, ffmpeg, the
+// flac encoder and h5py, decoded by sox, `flac -d` and h5py, compared sample for sample; and an RF64 file past 4 GiB read whole.
+import { execFileSync } from 'node:child_process';
+import { closeSync, ftruncateSync, openSync, readFileSync, writeFileSync, writeSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { openRecording } from '../../stages/read/open.js';
+import { fixture, readAll, readJson, tempDir } from '../helpers.js';
+import { requirePython, requireTool } from './tools.js';
+
+/** Interleaved little-endian int32 → per-channel values / 2^31 (sox's internal sample, exact for ≤ 32-bit codes). */
+function int32Channels(raw: Buffer, channels: number, scale = 2 ** 31): Float64Array[] {
+  const v = new Int32Array(raw.buffer.slice(raw.byteOffset, raw.byteOffset + raw.byteLength));
+  const frames = v.length / channels;
+  return Array.from({ length: channels }, (_, c) => Float64Array.from({ length: frames }, (_, i) => v[i * channels + c] / scale));
+}
+
+async function expectSame(path: string, want: Float64Array[], options = {}) {
+  const { channels } = await readAll(path, options);
+  expect(channels.length).toBe(want.length);
+  for (let c = 0; c < want.length; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
+}
+
+describe('readers against the tools, live', () => {
+  it('WAV written by sox and ffmpeg (RIFX, G.711, 24-bit, RF64) equals what sox or numpy decode', async () => {
+    const sox = requireTool('sox'), ffmpeg = requireTool('ffmpeg'), python = requirePython('numpy');
+    const dir = tempDir();
+    const cases: [string, string[]][] = [['rifx.wav', ['-b', '24', '-e', 'signed-integer', '-B']], ['ulaw.wav', ['-e', 'mu-law']], ['alaw.wav', ['-e', 'a-law']], ['u8.wav', ['-b', '8', '-e', 'unsigned-integer']]];
+    for (const [name, args] of cases) {
+      const path = join(dir, name);
+      execFileSync(sox, ['-n', '-r', '16000', '-c', '2', ...args, path, 'synth', '0.2', 'sine', '300', 'whitenoise', 'vol', '0.9']);
+      await expectSame(path, int32Channels(execFileSync(sox, [path, '-t', 'raw', '-e', 'signed-integer', '-b', '32', '-L', '-'], { maxBuffer: 1 << 26 }), 2));
+    }
+    const rf64 = join(dir, 'rf64.wav');
+    execFileSync(ffmpeg, ['-v', 'error', '-f', 'lavfi', '-i', 'sine=frequency=700:sample_rate=48000:duration=0.3', '-ac', '3', '-c:a', 'pcm_s24le', '-rf64', 'always', rf64]);
+    // numpy reads the data chunk as ffmpeg's pcm_s24le lays it out, left-justified into int32.
+    const raw = execFileSync(python, ['-c', `import sys,numpy as np
+b=open(sys.argv[1],'rb').read(); at=b.index(b'data')+8
+x=np.frombuffer(b[at:],dtype=np.uint8); x=x[:len(x)//3*3].reshape(-1,3)
+v=(x[:,0].astype(np.int32)<<8)|(x[:,1].astype(np.int32)<<16)|(x[:,2].astype(np.int32)<<24)
+sys.stdout.buffer.write(v.astype('<i4').tobytes())`, rf64], { maxBuffer: 1 << 26 });
+    await expectSame(rf64, int32Channels(raw, 3));
+  });
+
+  it('FLAC written by the flac encoder at 16, 24 and 32 bits equals `flac -d` sample for sample', async () => {
+    const sox = requireTool('sox'), flac = requireTool('flac');
+    const dir = tempDir();
+    for (const [bits, level] of [[16, '-8'], [24, '-5'], [32, '-3']] as const) {
+      const wav = join(dir, `in${bits}.wav`), path = join(dir, `x${bits}.flac`), out = join(dir, `x${bits}.raw`);
+      execFileSync(sox, ['-n', '-r', '44100', '-c', '2', '-b', String(bits), '-e', 'signed-integer', wav, 'synth', '0.5', 'sine', '440', 'pinknoise', 'vol', '0.95']);
+      execFileSync(flac, ['-s', '-f', level, '-o', path, wav]);
+      execFileSync(flac, ['-s', '-d', '-f', '--force-raw-format', '--endian=little', '--sign=signed', '-o', out, path]);
+      const b = readFileSync(out), width = bits / 8;
+      // The raw output's codes, widened to int32 (left-justified) so one comparison serves every depth.
+      const wide = Buffer.alloc((b.length / width) * 4);
+      for (let i = 0; i < b.length / width; i++) wide.writeInt32LE(b.readIntLE(i * width, width) * 2 ** (32 - bits), i * 4);
+      await expectSame(path, int32Channels(wide, 2));
+    }
+  });
+
+  it('HDF5 written by h5py (chunked, gzip) equals what h5py reads', async () => {
+    const python = requirePython('h5py', 'numpy');
+    const path = join(tempDir(), 'x.h5');
+    const values = execFileSync(python, ['-c', `import sys,h5py,numpy as np
+rng=np.random.default_rng(7); x=rng.integers(-2**31,2**31,(20000,3),dtype=np.int64).astype('<i4')
+with h5py.File(sys.argv[1],'w') as f:
+    d=f.create_dataset('run/data',data=x,chunks=(4096,3),compression='gzip'); d.attrs['rate']=25600.0
+with h5py.File(sys.argv[1],'r') as f: sys.stdout.buffer.write(np.asarray(f['run/data'][...],dtype='<i4').tobytes())`, path], { maxBuffer: 1 << 26 });
+    await expectSame(path, int32Channels(values, 3), { hdf5: { datasets: ['/run/data'], channel_axis: 1, sample_rate_attribute: 'rate', start_time_attribute: null } });
+  });
+
+  it('streams an RF64 file past 4 GiB to its last sample (a sparse file)', async () => {
+    const big = readJson(fixture('formats', 'expected.json')).rf64_big;
+    const path = join(tempDir(), 'big.wav');
+    const head = readFileSync(fixture('formats', 'rf64-big.head')), tail = readFileSync(fixture('formats', 'rf64-big.tail'));
+    const fd = openSync(path, 'w');
+    writeSync(fd, head, 0, head.length, 0);
+    ftruncateSync(fd, big.data_offset + big.data_bytes);
+    writeSync(fd, tail, 0, tail.length, big.data_offset + big.data_bytes - tail.length);
+    closeSync(fd);
+    const rec = await openRecording(path);
+    let n = 0, last: Float64Array = new Float64Array(0), nonZero = 0;
+    for await (const [ch] of rec.chunks()) {
+      n += ch.length;
+      last = Float64Array.from(ch.subarray(Math.max(0, ch.length - 5)));
+      for (let i = 0; i < ch.length; i++) if (ch[i] !== 0) nonZero++;
+    }
+    await rec.close();
+    expect(n).toBe(big.data_bytes / 8);
+    expect(Array.from(last)).toEqual(big.tail);
+    expect(nonZero).toBe(big.head.filter((v: number) => v !== 0).length + big.tail.filter((v: number) => v !== 0).length);
+    writeFileSync(path, ''); // give the space back at once
+  });
+});

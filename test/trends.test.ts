@@ -1,0 +1,156 @@
+// Trends against a baseline: the robust statistics against numpy and scipy, and planted histories read through the real
+// history path (stored entries in any order → series → baseline → score → verdict).
+import { describe, expect, it } from 'vitest';
+import type { Severity } from '../stages/quality/flag.js';
+import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
+import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
+import { changesReport, scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
+import { readHistory } from '../pipeline/trends/history.js';
+import { trendOptions } from '../pipeline/trends/options.js';
+import { MAD_TO_SIGMA, medianAndMad } from '../pipeline/trends/robust.js';
+import { changeDb, robustScore } from '../pipeline/trends/score.js';
+import { fixture, readJson } from './helpers.js';
+
+const VERSION = '0.1.0';
+
+/** A stored result of one recording with one accelerometer channel: its RMS, and a data-quality verdict. */
+function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity = 'ok', channel = 'acc_de'): CacheEntry {
+  const flag = { name: 'saturation', severity: quality, value: null, threshold: '', evidence: {}, message: '' };
+  const out = (columns: Record<string, number>) => ({ columns: [columns], flags: [[]], evidence: [null], tables: {}, notes: [] });
+  const start = new Date(Date.UTC(2026, 0, 1 + night, 2)).toISOString();
+  return {
+    recording: `nightly/night-${String(night + 1).padStart(3, '0')}.wav`, group: 'nightly', status: 'reduced', seconds: 0,
+    frames: 1, sampleRate: 1, startTime: start, channels: 1, notes: {}, storedAt: 0,
+    base: {
+      frames: 1, sampleRate: 1, notes: [], channels: [{ name: channel, quantity: 'acceleration', unit: 'm/s^2' }],
+      header: { format: 'wav', encoding: 'pcm16', bits: 16, start_time: start },
+    },
+    groups: { statistics: out({ rms }), quality: { ...out({}), flags: [[flag]] } },
+    version: VERSION, identity: { size: 1, mtimeMs: 0, hash: null }, readAtMs: 0, declKey: '', groupKeys: groupKeys(spec, VERSION),
+  };
+}
+
+/** Each night's scored RMS, the history read from entries handed over in a scrambled order (as a store may list them). */
+async function scoredNights(levels: number[], trends: TrendsSpec = {}, quality: (night: number) => Severity = () => 'ok'): Promise<ScoredPoint[]> {
+  const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'], ...trends } };
+  const o = trendOptions(spec)!;
+  const entries = levels.map((v, night) => entry(spec, night, v, quality(night)));
+  const scrambled = entries.map((e, i) => ({ e, k: (i * 7919) % entries.length })).sort((a, b) => a.k - b.k).map((x) => x.e);
+  async function* stored() { yield* scrambled; }
+  const history = await readHistory('(not read)', spec, o, new Set(entries.map((e) => e.recording)), stored());
+  const [rms] = scoreHistory(history, o);
+  return levels.map((_, i) => rms.at(i)!);
+}
+
+/** Seeded Gaussian noise (mulberry32, Box–Muller). */
+function gaussian(seed: number) {
+  let a = seed >>> 0;
+  const u = () => { a = (a + 0x6d2b79f5) >>> 0; let t = Math.imul(a ^ (a >>> 15), a | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
+  return () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());
+}
+const fromDb = (db: number) => 10 ** (db / 20);
+const verdicts = (points: ScoredPoint[]) => points.map((p) => p.verdict);
+
+describe('robust statistics of the baseline', () => {
+  it('median and median absolute deviation match numpy.median and scipy.stats.median_abs_deviation on random data', () => {
+    const ref = readJson(fixture('trend-vectors.json'));
+    expect(ref.made_by).toMatch(/numpy .*scipy/);
+    for (const c of ref.robust) {
+      const { median, mad } = medianAndMad(c.values);
+      expect(median).toBeCloseTo(c.median, 12);
+      expect(mad).toBeCloseTo(c.mad, 12);
+    }
+  });
+
+  it('1.4826 × MAD estimates σ for Gaussian data: 1/Φ⁻¹(3/4) (Rousseeuw and Croux 1993)', () => {
+    expect(MAD_TO_SIGMA).toBeCloseTo(1 / 0.6744897501960817, 4);
+    const g = gaussian(5);
+    const x = Array.from({ length: 200_001 }, () => 3 + 0.7 * g());
+    expect(MAD_TO_SIGMA * medianAndMad(x).mad).toBeCloseTo(0.7, 2);
+  });
+
+  it('puts a level change in decibels as 20·log10 of the amplitude ratio (a doubled amplitude is +6.02 dB), and floors the spread', () => {
+    expect(changeDb(2, 1, 'amplitude')).toBeCloseTo(6.0206, 4);
+    expect(changeDb(3.2, 1, null)).toBeNull();
+    expect(changeDb(-1, 1, 'amplitude')).toBeNull();
+    // A baseline with no spread at all scores against 10 % of its median.
+    expect(robustScore(1.3, 1, 0, 0.1)).toBeCloseTo(3, 12);
+    expect(robustScore(1.3, 1, 0.5, 0.1)).toBeCloseTo(0.3 / (1.4826 * 0.5), 12);
+  });
+});
+
+describe('the trends section', () => {
+  it('watches the default features the spec computes, and names what cannot work', () => {
+    const o = trendOptions({ statistics: {}, velocity_bands: [[10, 1000]], trends: {} })!;
+    expect(o.features.map((f) => `${f.name}:${f.level}`)).toEqual(['rms:amplitude', 'peak:amplitude', 'crest_factor:amplitude', 'kurtosis:null', 'velocity_10_1000_rms:amplitude']);
+    expect(trendOptions({ statistics: {} })).toBeNull();
+    expect(() => trendOptions({ statistics: {}, trends: { limits: { env_rms: { alarm: 1 } } } })).toThrow(/trends\.limits: env_rms: no such feature column/);
+    expect(() => trendOptions({ statistics: {}, trends: { baseline: { from: 'last week', until: '2026-01-01' } } })).toThrow(/trends\.baseline\.from: "last week" is not a date/);
+  });
+});
+
+describe('verdicts on planted histories, at the default thresholds (±6 dB or |score| > 6 against the first 3 recordings)', () => {
+  it('a stationary history whose level varies only by Gaussian noise of 0.5 dB raises no change in 30 nights (50 histories)', async () => {
+    for (let seed = 1; seed <= 50; seed++) {
+      const g = gaussian(seed);
+      const points = await scoredNights(Array.from({ length: 30 }, () => 2.5 * fromDb(0.5 * g())));
+      expect(verdicts(points).filter((v) => v !== 'steady'), `history ${seed}`).toEqual([]);
+    }
+  });
+
+  it('a +8 dB step at night 7 is changed from night 7 on, and steady before (with 0.5 dB of noise, 20 histories)', async () => {
+    for (let seed = 1; seed <= 20; seed++) {
+      const g = gaussian(100 + seed);
+      const points = await scoredNights(Array.from({ length: 20 }, (_, i) => 2.5 * fromDb(0.5 * g() + (i >= 6 ? 8 : 0))));
+      expect(verdicts(points), `history ${seed}`).toEqual(Array.from({ length: 20 }, (_, i) => (i >= 6 ? 'changed' : 'steady')));
+    }
+  });
+
+  it('a drift that doubles the RMS over 10 nights is changed by the night it passes +6 dB, and stays changed', async () => {
+    const points = await scoredNights(Array.from({ length: 25 }, (_, i) => 1.3 * 2 ** (i / 10)));
+    const passes = points.findIndex((p) => p.changeDb! > 6);
+    const first = points.findIndex((p) => p.verdict === 'changed');
+    expect(passes).toBe(11); // the baseline median is night 2's level, 2^(1/10): +6 dB is passed at 2^(11/10)
+    expect(first).toBeGreaterThanOrEqual(3);
+    expect(first).toBeLessThanOrEqual(passes);
+    expect(verdicts(points.slice(first)).every((v) => v === 'changed')).toBe(true);
+  });
+
+  it('a declared limit crossing is alarm (a warn limit at least changed), with or without a complete baseline', async () => {
+    const levels = [2.0, 2.1, 2.0, 2.05, 2.6, 3.4, 2.0];
+    const points = await scoredNights(levels, { limits: { rms: { warn: 2.5, alarm: 3.2 } } });
+    expect(verdicts(points)).toEqual(['steady', 'steady', 'steady', 'steady', 'changed', 'alarm', 'steady']);
+    expect(points.map((p) => p.limit)).toEqual([null, null, null, null, 'warn', 'alarm', null]);
+    // Before a baseline exists only the limits speak.
+    const early = await scoredNights([3.3, 2.0], { limits: { rms: { alarm: 3.2 } } });
+    expect(verdicts(early)).toEqual(['alarm', null]);
+  });
+
+  it('a recording whose channel fails the data-quality checks has no verdict and takes no part in the baseline', async () => {
+    const points = await scoredNights([40, 2.0, 2.1, 2.0, 2.05], {}, (night) => (night === 0 ? 'fail' : 'ok'));
+    expect(verdicts(points)).toEqual([null, 'steady', 'steady', 'steady', 'steady']);
+    expect(points[4].baseline).toBe(2.0);
+  });
+
+  it('a declared period is the baseline: the recordings starting in it, whatever their number', async () => {
+    const points = await scoredNights([5, 5, 2.0, 2.1, 2.0, 2.1, 5], { baseline: { from: '2026-01-03', until: '2026-01-07' } });
+    expect(points[0].baseline).toBeCloseTo(2.05, 12);
+    expect(verdicts(points)).toEqual(['changed', 'changed', 'steady', 'steady', 'steady', 'steady', 'changed']);
+  });
+
+  it('lists what changed at the latest night, strongest first, with the night the change began', async () => {
+    const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'] } };
+    const o = trendOptions(spec)!;
+    const de = [2, 2, 2, 2, 4, 5, 6].map((v, n) => entry(spec, n, v, 'ok', 'acc_de'));
+    const nde = [2, 2, 2, 2, 2, 2, 3.5].map((v, n) => entry(spec, n, v, 'ok', 'acc_nde'));
+    const mic = [1, 1, 1, 1, 1, 1, 1].map((v, n) => entry(spec, n, v, 'ok', 'mic'));
+    const all = [...de, ...nde, ...mic];
+    async function* stored() { yield* all; }
+    const history = await readHistory('(not read)', spec, o, new Set(all.map((e) => e.recording)), stored());
+    const report = changesReport(history, scoreHistory(history, o), o);
+    expect(report.items.map((c) => `${c.channel} ${c.feature} ${c.verdict}`)).toEqual(['acc_de rms changed', 'acc_nde rms changed']);
+    expect(report.items[0]).toMatchObject({ value: 6, baseline: 2, since: { recording: 'nightly/night-005.wav' } });
+    expect(report.items[0].change_db).toBeCloseTo(20 * Math.log10(3), 9);
+    expect(report.totals).toEqual({ steady: 21 - 4, changed: 4, alarm: 0, unscored: 0 });
+  });
+});
