@@ -5,7 +5,6 @@ import { join, resolve } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import { toCsv, type CsvOptions } from './csv.js';
 import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
-import { toXlsx } from './xlsx.js';
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
 
@@ -60,6 +59,8 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
     const tooLong = tables.filter((t) => t.name === 'spectra' || t.rows.length > SHEET_ROWS);
     for (const t of tooLong) facts.push([`${t.name}`, `not in this workbook (${t.rows.length} rows): read ${t.name}.parquet or ${CSV_FILES[t.name]}`]);
     const path = join(root, XLSX_FILE);
+    // The workbook writer (exceljs) loads only when a workbook is asked for.
+    const { toXlsx } = await import('./xlsx.js');
     await writeFileAtomic(path, await toXlsx(tables.filter((t) => !tooLong.includes(t)), { rows: facts }, { digits: o.digits ?? null }));
     written.push(path);
   }
