@@ -1,18 +1,24 @@
 // npm run bench: throughput and peak memory on generated archives, beside a numpy/scipy peer (a benchmark, not a test).
+// npm run bench -- --profile: CPU profiles of one statistics-only and one full reduction instead, and where the time goes.
 import { rmSync } from 'node:fs';
 import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
+import { profile } from './profile.js';
 import { manySmall, reruns, shortRecordings } from './sections/scale.js';
-import { throughput } from './sections/throughput.js';
+import { summary, throughput } from './sections/throughput.js';
 import { trendsOverHistory } from './sections/trends.js';
 
 try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
-  const { full, kept, first } = throughput();
-  reruns(full, kept, first);
-  shortRecordings();
-  manySmall();
-  trendsOverHistory();
+  if (process.argv.includes('--profile')) profile();
+  else {
+    const { full, kept, first, shapes, statsRate, statsReduceRate } = throughput();
+    reruns(full, kept, first);
+    shortRecordings();
+    manySmall();
+    trendsOverHistory();
+    summary(shapes, statsRate, statsReduceRate);
+  }
 } finally {
   rmSync(work, { recursive: true, force: true });
 }

@@ -2,18 +2,20 @@
 import { closeSync, mkdirSync, openSync, utimesSync, writeSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 
-/** A 16-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. */
-export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600 }: { frames: number; channels?: number; sampleRate?: number }): void {
-  const dataBytes = frames * channels * 2;
+/** A 16- or 24-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. */
+export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600, bits = 16 }: { frames: number; channels?: number; sampleRate?: number; bits?: 16 | 24 }): void {
+  const width = bits / 8;
+  const dataBytes = frames * channels * width;
   const header = Buffer.alloc(44);
   header.write('RIFF', 0, 'latin1'); header.writeUInt32LE(36 + dataBytes, 4); header.write('WAVEfmt ', 8, 'latin1');
   header.writeUInt32LE(16, 16); header.writeUInt16LE(1, 20); header.writeUInt16LE(channels, 22); header.writeUInt32LE(sampleRate, 24);
-  header.writeUInt32LE(sampleRate * channels * 2, 28); header.writeUInt16LE(channels * 2, 32); header.writeUInt16LE(16, 34);
+  header.writeUInt32LE(sampleRate * channels * width, 28); header.writeUInt16LE(channels * width, 32); header.writeUInt16LE(bits, 34);
   header.write('data', 36, 'latin1'); header.writeUInt32LE(dataBytes, 40);
   const fd = openSync(path, 'w');
   writeSync(fd, header);
   const block = 1 << 16;
-  const buf = Buffer.alloc(block * channels * 2);
+  const buf = Buffer.alloc(block * channels * width);
+  const full = 2 ** (bits - 1) - 1;
   let seed = 12345;
   for (let start = 0; start < frames; start += block) {
     const n = Math.min(block, frames - start);
@@ -22,20 +24,29 @@ export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 
       for (let c = 0; c < channels; c++) {
         seed = (seed * 1103515245 + 12345) & 0x7fffffff;
         const v = 0.3 * Math.sin(2 * Math.PI * (50 + 100 * c) * t) + 0.1 * (seed / 0x7fffffff - 0.5);
-        buf.writeInt16LE(Math.round(v * 32767), (i * channels + c) * 2);
+        buf.writeIntLE(Math.round(v * full), (i * channels + c) * width, width);
       }
     }
-    writeSync(fd, buf, 0, n * channels * 2);
+    writeSync(fd, buf, 0, n * channels * width);
   }
   closeSync(fd);
 }
 
-/** An archive folder holding 4-channel recordings declared as accelerometers (so every feature group applies) and, optionally, a spec. */
-export function makeBenchArchive(dir: string, recordings: { name: string; frames: number }[], spec?: string): void {
+/** A recording of the bench archives: its name, length, and optionally its channel count (4) and bits (16). */
+export interface BenchRecording { name: string; frames: number; channels?: number; bits?: 16 | 24 }
+
+/** An archive folder holding recordings declared as accelerometers (so every feature group applies) and, optionally, a spec.
+ *  Recordings with the same channel count share a group, matched by a name prefix `c<channels>-` when counts differ. */
+export function makeBenchArchive(dir: string, recordings: BenchRecording[], spec?: string): void {
   mkdirSync(dir, { recursive: true });
-  for (const r of recordings) writeLongWav(join(dir, r.name), { frames: r.frames, channels: 4 });
-  const channels = [1, 2, 3, 4].map((i) => `      - { name: acc${i}, quantity: acceleration, unit: m/s^2, scale: ${BENCH_SCALE} }`).join('\n');
-  writeFileSync(join(dir, 'archive.yaml'), `groups:\n  - name: bench\n    match: "*.wav"\n    sample_rate: 25600\n    channels:\n${channels}\n`);
+  const counts = [...new Set(recordings.map((r) => r.channels ?? 4))];
+  const nameOf = (r: BenchRecording) => (counts.length > 1 ? `c${r.channels ?? 4}-${r.name}` : r.name);
+  for (const r of recordings) writeLongWav(join(dir, nameOf(r)), { frames: r.frames, channels: r.channels ?? 4, bits: r.bits ?? 16 });
+  const groups = counts.map((count) => {
+    const channels = Array.from({ length: count }, (_, i) => `      - { name: acc${i + 1}, quantity: acceleration, unit: m/s^2, scale: ${BENCH_SCALE} }`).join('\n');
+    return `  - name: bench${counts.length > 1 ? count : ''}\n    match: "${counts.length > 1 ? `c${count}-` : ''}*.wav"\n    sample_rate: 25600\n    channels:\n${channels}\n`;
+  });
+  writeFileSync(join(dir, 'archive.yaml'), `groups:\n${groups.join('')}`);
   if (spec) writeFileSync(join(dir, 'reduction.yaml'), spec);
 }
 

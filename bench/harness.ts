@@ -6,8 +6,9 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
-/** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included). */
-export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number; wallSeconds: number };
+/** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included);
+ *  `reduceSeconds` the reduce phase alone (workers started, recordings read and reduced; no start-up, declaration or writing). */
+export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number; wallSeconds: number; reduceSeconds: number };
 
 export const here = dirname(fileURLToPath(import.meta.url));
 export const repo = join(here, '..', '..');
@@ -15,9 +16,9 @@ export const work = mkdtempSync(join(tmpdir(), 'quern-bench-'));
 export const say = (s: string) => process.stdout.write(s + '\n');
 
 /** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
-export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string): QuernMeasurement {
+export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string, nodeOptions: string[] = []): QuernMeasurement {
   const t0 = performance.now();
-  const text = execFileSync(process.execPath, [join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 });
+  const text = execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 });
   const wallSeconds = (performance.now() - t0) / 1000;
   return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
 }
@@ -26,9 +27,11 @@ export function quern(archive: string, jobs: number, out = join(work, `out-${Mat
 export function peer(archive: string, scale: number): Measurement | null {
   const python = ['/usr/bin/python3', 'python3'].find((p) => spawnSync(p, ['-c', 'import scipy'], { stdio: 'ignore' }).status === 0);
   if (!python) return null;
+  const t0 = performance.now();
   const r = spawnSync(python, [join(repo, 'bench', 'peer.py'), archive, String(scale)], { encoding: 'utf8' });
+  const seconds = (performance.now() - t0) / 1000;
   if (r.status !== 0) { say(`peer failed: ${r.stderr.trim().split('\n').pop()}`); return null; }
-  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+  return { ...JSON.parse(r.stdout.trim().split('\n').pop()!), seconds };
 }
 
 export const row = (label: string, m: Measurement) =>

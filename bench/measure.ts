@@ -9,4 +9,4 @@ const { record } = await runReduce({ archive, out, jobs: Number(jobs ?? 1), sinc
 const seconds = (performance.now() - t0) / 1000;
 const samples = record.recordings.reduce((s, r) => s + r.frames * r.rows, 0);
 // maxRSS covers the whole process, worker threads included (they share it).
-process.stdout.write(JSON.stringify({ seconds, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, failed: record.counts.failed, recomputed: record.counts.recomputed, reused: record.counts.reused, recordings: record.counts.selected }) + '\n');
+process.stdout.write(JSON.stringify({ seconds, reduceSeconds: record.timings.reduce_s, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, failed: record.counts.failed, recomputed: record.counts.recomputed, reused: record.counts.reused, recordings: record.counts.selected }) + '\n');

@@ -1,8 +1,8 @@
 #!/usr/bin/env python3
 """The benchmark's peer: the default feature set computed with numpy and scipy, the way a script would (whole files in memory).
 
-Usage: python3 bench/peer.py ARCHIVE SCALE   (every *.wav in ARCHIVE, 16-bit PCM, all channels taken as acceleration in m/s²)
-Prints one JSON line: seconds, samples, peak RSS (MB), scipy version.
+Usage: python3 bench/peer.py ARCHIVE SCALE   (every *.wav in ARCHIVE, 16- or 24-bit PCM, all channels taken as acceleration in m/s²)
+Prints one JSON line: seconds (after imports; the bench times the whole process itself), samples, peak RSS (MB), scipy version.
 """
 import glob, json, os, resource, sys, time
 import numpy as np
@@ -62,8 +62,10 @@ def main():
     for path in sorted(glob.glob(os.path.join(archive, '*.wav'))):
         fs, data = scipy.io.wavfile.read(path)
         data = data.reshape(len(data), -1)
+        # scipy reads 24-bit PCM into the top bits of int32, so full scale is 2^(8·itemsize − 1) either way.
+        full = 2.0 ** (8 * data.dtype.itemsize - 1)
         for c in range(data.shape[1]):
-            x = data[:, c].astype(np.float64) / 32768.0 * scale
+            x = data[:, c].astype(np.float64) / full * scale
             features(x, float(fs))
             samples += len(x)
     seconds = time.perf_counter() - t0

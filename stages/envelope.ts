@@ -1,17 +1,20 @@
 // Filtered envelopes: Butterworth filter (causal or zero-phase), then the magnitude of the analytic signal, and the
 // envelope's own spectrum, whose peak is the repetition rate bearing diagnostics look for.
-import { butterworthSos, edgesOf, type FilterSpec } from './dsp/butterworth.js';
-import { ZeroPhaseFilter } from './dsp/filtfilt.js';
-import { StreamingEnvelope } from './dsp/hilbert.js';
-import { chunkMoments, combineMoments, describe, emptyMoments } from './dsp/moments.js';
-import { SosFilter } from './dsp/sosfilt.js';
+import { analyticGains, AnalyticFilter } from './dsp/analytic.js';
+import { butterworthSos, edgesOf, slowestPoleRadius, type FilterSpec } from './dsp/butterworth.js';
+import { describe } from './dsp/moments.js';
+import { MomentsAccumulator } from './fused/moments.js';
+import { FusedPass } from './fused/pass.js';
 import { EdgeTrim } from './dsp/trim.js';
 import { Welch, type WelchOptions } from './dsp/welch.js';
-import { slowestPoleRadius } from './dsp/butterworth.js';
 import { peakBin } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
 
 export interface EnvelopeOptions { filter: FilterSpec; spectrum: WelchOptions }
+
+/** Transform length and tapered ramp of the envelope's blocks (at least; longer filters get longer blocks). */
+export const ENVELOPE_BLOCK = 4096;
+export const ENVELOPE_RAMP = 256;
 
 const EMPTY = { filtered_rms: null, env_mean: null, env_rms: null, env_peak: null, env_dominant_frequency: null };
 
@@ -36,36 +39,42 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
       ctx.note(`${ctx.name}: envelope filter not applied: ${(e as Error).message}`);
       return { push() {}, finish: () => ({ ...EMPTY }) };
     }
-    let filtered = emptyMoments(), env = emptyMoments();
+    // The filtered signal's and the envelope's moments, each in a fused pass of its own.
+    const filteredPass = new FusedPass(), envPass = new FusedPass();
+    const filtered = filteredPass.joinOrMake('moments', () => new MomentsAccumulator());
+    const env = envPass.joinOrMake('moments', () => new MomentsAccumulator());
     const envSpectrum = new Welch(ctx.sampleRate, o.spectrum);
+    const r = Math.min(slowestPoleRadius(sos), 1 - 1e-9);
     // Figures leave out the ends where the filter and the transform settle: the filter's impulse response down to 1e-3, and at least 2048 samples.
-    const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(Math.min(slowestPoleRadius(sos), 1 - 1e-9))));
-    const envTrim = new EdgeTrim(edge, (e) => { env = combineMoments(env, chunkMoments(e)); envSpectrum.push(e); });
-    const filteredTrim = new EdgeTrim(edge, (y) => { filtered = combineMoments(filtered, chunkMoments(y)); });
-    const hilbert = new StreamingEnvelope((e) => envTrim.push(e));
-    const onFiltered = (y: Float64Array) => { filteredTrim.push(y); hilbert.push(y); };
-    const zero = o.filter.zero_phase ? new ZeroPhaseFilter(sos, onFiltered) : null;
-    const causal = zero ? null : new SosFilter(sos);
-    let scratch = new Float64Array(0);
+    const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(r)));
+    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e); });
+    const filteredTrim = new EdgeTrim(edge, (y) => filteredPass.push(y));
+    // One pair of transforms a block filters and makes analytic: the kernel dies below 1e-14 within `reach` samples,
+    // kept clear of the tapered ramps (sizes chosen by measurement against scipy, DEVELOPERS.md).
+    const zeroPhase = o.filter.zero_phase === true;
+    const reach = Math.min(1 << 22, Math.ceil(Math.log(1e-14) / Math.log(r)) + 1);
+    const context = ENVELOPE_RAMP + reach;
+    const size = Math.max(ENVELOPE_BLOCK, 2 ** Math.ceil(Math.log2(4 * context)));
+    const gainKey = `${JSON.stringify(o.filter)}@${ctx.sampleRate}`;
+    const analytic = new AnalyticFilter(() => analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero' },
+      (y, e) => { filteredTrim.push(y); envTrim.push(e); });
+    // As scipy.signal.sosfiltfilt, zero-phase filtering needs more samples than its odd extension at each end.
+    const firstOrder = Math.min(sos.filter((s) => s[2] === 0).length, sos.filter((s) => s[5] === 0).length);
+    const padlen = 3 * (2 * sos.length + 1 - firstOrder);
+    let seen = 0;
     return {
-      push(x) {
-        if (zero) { zero.push(x); return; }
-        if (scratch.length < x.length) scratch = new Float64Array(x.length);
-        const y = scratch.subarray(0, x.length);
-        causal!.process(x, y);
-        onFiltered(y);
-      },
+      push(x) { seen += x.length; analytic.push(x); },
       finish() {
-        if (zero && !zero.finish()) {
-          ctx.note(`${ctx.name}: too short for zero-phase filtering (needs more than ${zero.padlen} samples); envelope left empty`);
+        if (zeroPhase && seen <= padlen) {
+          ctx.note(`${ctx.name}: too short for zero-phase filtering (needs more than ${padlen} samples); envelope left empty`);
           return { ...EMPTY };
         }
-        hilbert.finish();
-        if (env.n === 0) {
+        analytic.finish();
+        if (env.moments().n === 0) {
           ctx.note(`${ctx.name}: too short for the envelope once ${edge} settling samples are left out at each end; envelope left empty`);
           return { ...EMPTY };
         }
-        const f = describe(filtered), e = describe(env);
+        const f = describe(filtered.moments()), e = describe(env.moments());
         const psd = envSpectrum.result();
         return {
           filtered_rms: f.rms, env_mean: e.mean, env_rms: e.rms, env_peak: e.max,

@@ -1,14 +1,9 @@
 // Statistics of the signal: moments, extremes, RMS and crest factor in one streaming pass.
-import type { ChannelContext, Stage, StageDefinition } from './stage.js';
-import { chunkMoments, combineMoments, describe, emptyMoments, type Moments } from './dsp/moments.js';
+import type { StageDefinition } from './stage.js';
+import { describe } from './dsp/moments.js';
+import { momentsOf } from './fused/moments.js';
 
-/** The channel's moments, accumulated once and read by every stage that needs them. */
-export function momentsOf(ctx: ChannelContext): Stage & { moments(): Moments } {
-  return ctx.shared('moments', () => {
-    let acc = emptyMoments();
-    return { push: (x) => { acc = combineMoments(acc, chunkMoments(x)); }, finish: () => ({}), moments: () => acc };
-  });
-}
+export { momentsOf };
 
 export const statistics: StageDefinition<Record<string, never>> = {
   group: 'statistics',

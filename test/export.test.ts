@@ -69,7 +69,7 @@ describe('exports of the sample archive', () => {
 
   it('writes an XLSX workbook that SheetJS reads back to the same numbers, with sheets for every table and the run', async () => {
     const wb = XLSX.read(readFileSync(join(out, 'tables.xlsx')));
-    expect(wb.SheetNames).toEqual(['features', 'features wide', 'windows', 'cycles', 'quality flags', 'run']);
+    expect(wb.SheetNames).toEqual(['features', 'features wide', 'windows', 'cycles', 'trends', 'quality flags', 'run']);
     const rows = XLSX.utils.sheet_to_json<unknown[]>(wb.Sheets.features, { header: 1, raw: true });
     const header = (rows[0] as string[]).map(base);
     const byKey = new Map(parquet.map((r) => [key(r), r]));

@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { chunkMoments, combineMoments, describe as describeMoments, emptyMoments } from '../stages/dsp/moments.js';
 import { statistics } from '../stages/stats.js';
 import type { ChannelContext, Stage } from '../stages/stage.js';
+import { uniform } from './dsp-signals.js';
 
 /** Feeds a signal through the statistics stage in uneven chunks, as the pipeline would: shared products first, then the stage. */
 function stats(x: Float64Array, chunk = 1000) {
@@ -19,17 +20,6 @@ function stats(x: Float64Array, chunk = 1000) {
     s.push(part);
   }
   return s.finish() as Record<string, number>;
-}
-
-/** Seeded uniform generator (mulberry32) so the checks are repeatable. */
-function uniform(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 // Whole periods of a waveform sampled at many points per period.

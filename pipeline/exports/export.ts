@@ -1,21 +1,28 @@
 // quern export: spreadsheet-ready copies of a reduced folder's tables, beside them: CSV per table and one XLSX workbook.
+import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import { toCsv, type CsvOptions } from './csv.js';
 import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
-import { toXlsx } from './xlsx.js';
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
 
 export type ExportFormat = 'csv' | 'xlsx';
 export interface ExportOptions extends CsvOptions { to: ExportFormat[]; wide?: boolean }
 
+/** Tables a whole run writes when its spec asks for them (trends, spectra): exported when present. */
+const RUN_TABLES = ['trends', 'spectra'];
+
 /** File names of the exports, beside the Parquet tables. */
 export const CSV_FILES: Record<string, string> = {
-  features: 'features.csv', ...Object.fromEntries(Object.keys(SECONDARY_TABLES).map((name) => [name, `${name}.csv`])), 'quality flags': 'quality-flags.csv', 'features wide': 'features-wide.csv',
+  features: 'features.csv', ...Object.fromEntries([...Object.keys(SECONDARY_TABLES), ...RUN_TABLES].map((name) => [name, `${name}.csv`])), 'quality flags': 'quality-flags.csv', 'features wide': 'features-wide.csv',
 };
 export const XLSX_FILE = 'tables.xlsx';
+
+
+/** Rows a worksheet holds at most, below its header (the XLSX format's limit of 1,048,576 rows). */
+const SHEET_ROWS = 1_048_575;
 
 export async function runExport(dir: string, o: ExportOptions): Promise<string[]> {
   const root = resolve(dir);
@@ -30,6 +37,7 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
   const tables: ExportTable[] = [features];
   if (o.wide) tables.push(widen(features, run.label_columns ?? []));
   for (const name of Object.keys(SECONDARY_TABLES)) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
+  for (const name of RUN_TABLES) if (existsSync(join(root, `${name}.parquet`))) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
   tables.push(await readQualityFlags(root));
   const written: string[] = [];
   if (o.to.includes('csv')) {
@@ -47,8 +55,13 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
       ['units', '"[channel unit]" in a header means the unit given in the row\'s unit column'],
       ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],
     ];
+    // The spectra (thousands of rows a channel) and any table longer than a worksheet stay in their CSV and Parquet files.
+    const tooLong = tables.filter((t) => t.name === 'spectra' || t.rows.length > SHEET_ROWS);
+    for (const t of tooLong) facts.push([`${t.name}`, `not in this workbook (${t.rows.length} rows): read ${t.name}.parquet or ${CSV_FILES[t.name]}`]);
     const path = join(root, XLSX_FILE);
-    await writeFileAtomic(path, await toXlsx(tables, { rows: facts }, { digits: o.digits ?? null }));
+    // The workbook writer (exceljs) loads only when a workbook is asked for.
+    const { toXlsx } = await import('./xlsx.js');
+    await writeFileAtomic(path, await toXlsx(tables.filter((t) => !tooLong.includes(t)), { rows: facts }, { digits: o.digits ?? null }));
     written.push(path);
   }
   return written;

@@ -1,8 +1,6 @@
 // The reduced tables as plain rows for export: read back from the Parquet files and reports a run wrote.
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import * as arrow from 'apache-arrow';
-import { readParquet } from 'parquet-wasm/node';
 import { UsageError } from '../declare/yaml-file.js';
 
 export type CellKind = 'text' | 'number' | 'integer' | 'time';
@@ -17,6 +15,8 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
   } catch {
     throw new UsageError(`${path}: missing; export reads a folder that quern reduce (or quern merge) wrote`);
   }
+  // The Parquet reader loads only when a table is read back (quern export), not on every command.
+  const [arrow, { readParquet }] = await Promise.all([import('apache-arrow'), import('parquet-wasm/node')]);
   const table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());
   const columns: ExportColumn[] = table.schema.fields.map((f) => ({
     name: f.name,

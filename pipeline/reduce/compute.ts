@@ -37,6 +37,11 @@ function resolveChannels(job: RecordingJob, rec: Recording): { decl: ChannelDecl
   return job.channels.map((decl, index) => ({ decl, index }));
 }
 
+/** Engineering units: stored value × scale + offset. */
+function toEngineering(stored: Float64Array, scale: number, offset: number, out: Float64Array): void {
+  for (let i = 0; i < stored.length; i++) out[i] = stored[i] * scale + offset;
+}
+
 /** Opens a recording and holds its header against the declaration; closes it again if they disagree. */
 export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[] }> {
   const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
@@ -97,19 +102,20 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
       // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
       return { shared: [...shared.values()], own };
     });
+    // One scratch chunk, reused: the hot loop allocates nothing.
     let scratch = new Float64Array(0);
     let frames = 0;
     for await (const chunk of rec.chunks()) {
       const n = chunk[0].length;
       if (scratch.length < n) scratch = new Float64Array(n);
       const eng = scratch.subarray(0, n);
-      channels.forEach(({ decl, index }, c) => {
-        const src = chunk[index];
-        // Engineering units: stored value × scale + offset.
-        for (let i = 0; i < n; i++) eng[i] = src[i] * decl.scale + decl.offset;
-        for (const stage of perChannel[c].shared) stage.push(eng);
-        for (const { stage } of perChannel[c].own) stage.push(eng);
-      });
+      for (let c = 0; c < channels.length; c++) {
+        const { decl, index } = channels[c];
+        toEngineering(chunk[index], decl.scale, decl.offset, eng);
+        const { shared, own } = perChannel[c];
+        for (let s = 0; s < shared.length; s++) shared[s].push(eng);
+        for (let s = 0; s < own.length; s++) own[s].stage.push(eng);
+      }
       frames += n;
     }
     perChannel.forEach(({ own }, c) => {
@@ -120,9 +126,9 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
     if (quality) {
       quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
         if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
-        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
-        // The chart code (Vega) is loaded by the first channel drawn: a worker that draws none never holds it.
+        // The charting modules (vega, vega-lite) load only when a channel needs pictures.
         const { evidenceCharts } = await import('../outputs/charts.js');
+        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
         return { charts: await evidenceCharts(data, channels[c].decl.unit) };
       }));
     }

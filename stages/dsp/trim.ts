@@ -1,8 +1,12 @@
-// Passes a stream on without its first and last `edge` samples, holding back no more than `edge` samples.
+// Passes a stream on without its first and last `edge` samples, holding back no more than `edge` samples (in a buffer
+// that grows only when a longer piece arrives).
 export class EdgeTrim {
   private skipped = 0;
-  private held = new Float64Array(0);
-  constructor(private readonly edge: number, private readonly emit: (x: Float64Array) => void) {}
+  private held = 0;
+  private buf: Float64Array;
+  constructor(private readonly edge: number, private readonly emit: (x: Float64Array) => void) {
+    this.buf = new Float64Array(edge + 4096);
+  }
 
   push(x: Float64Array): void {
     let from = 0;
@@ -10,13 +14,19 @@ export class EdgeTrim {
       from = Math.min(x.length, this.edge - this.skipped);
       this.skipped += from;
     }
-    const body = x.subarray(from);
-    if (body.length === 0) return;
-    const all = new Float64Array(this.held.length + body.length);
-    all.set(this.held);
-    all.set(body, this.held.length);
-    const out = all.length - this.edge;
-    if (out > 0) this.emit(all.subarray(0, out));
-    this.held = all.slice(Math.max(0, out));
+    const body = x.length - from;
+    if (body === 0) return;
+    if (this.held + body > this.buf.length) {
+      const grown = new Float64Array(this.edge + body);
+      grown.set(this.buf.subarray(0, this.held));
+      this.buf = grown;
+    }
+    this.buf.set(x.subarray(from), this.held);
+    const total = this.held + body, out = total - this.edge;
+    if (out > 0) {
+      this.emit(this.buf.subarray(0, out));
+      this.buf.copyWithin(0, out, total);
+      this.held = this.edge;
+    } else this.held = total;
   }
 }

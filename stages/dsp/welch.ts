@@ -1,5 +1,5 @@
 // Welch's method: averaged modified periodograms (Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967), streaming.
-import FFT from 'fft.js';
+import { PeriodogramSum, periodogramAdd } from './fft-simd.js';
 import { makeWindow, type WindowName } from './window.js';
 
 export interface WelchOptions { segment: number; overlap: number; window: WindowName }
@@ -13,73 +13,56 @@ export interface Psd {
   segment: number;
 }
 
-// FFT plans (twiddle tables) depend only on the size: made once per thread and shared.
-const plans = new Map<number, FFT>();
-export const fftOf = (n: number) => plans.get(n) ?? plans.set(n, new FFT(n)).get(n)!;
-
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
-/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples. */
+/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples (in the FFT kernels' memory). */
 export class Welch {
-  private readonly buf: Float64Array;
   private fill = 0;
   private readonly hop: number;
-  private readonly sum: Float64Array;
   private count = 0;
-  private readonly fft: FFT;
   private readonly win: Float64Array;
-  private readonly work: Float64Array;
-  private readonly out: Float64Array;
+  private readonly sums: PeriodogramSum;
+  private density: Psd | null | undefined;
 
   constructor(private readonly fs: number, private readonly o: WelchOptions) {
     if (!isPowerOfTwo(o.segment)) throw new Error(`spectrum.segment must be a power of two, got ${o.segment}`);
-    this.buf = new Float64Array(o.segment);
     this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
-    this.sum = new Float64Array(o.segment / 2 + 1);
-    this.fft = fftOf(o.segment);
     this.win = makeWindow(o.window, o.segment);
-    this.work = new Float64Array(o.segment);
-    this.out = new Float64Array(2 * o.segment);
+    this.sums = new PeriodogramSum(o.segment, this.win, o.window);
   }
 
   push(x: Float64Array): void {
+    const buf = this.sums.segment();
     let i = 0;
     while (i < x.length) {
-      const take = Math.min(x.length - i, this.buf.length - this.fill);
-      this.buf.set(x.subarray(i, i + take), this.fill);
+      const take = Math.min(x.length - i, buf.length - this.fill);
+      buf.set(x.subarray(i, i + take), this.fill);
       this.fill += take;
       i += take;
-      if (this.fill === this.buf.length) {
-        addPeriodogram(this.buf, this.win, this.fft, this.work, this.out, this.sum);
+      if (this.fill === buf.length) {
+        // One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added (stages/dsp/fft-simd.c).
+        this.sums.add();
         this.count++;
-        this.buf.copyWithin(0, this.hop);
+        buf.copyWithin(0, this.hop);
         this.fill -= this.hop;
       }
     }
   }
 
-  /** The density so far; a recording shorter than one segment is analysed as one segment of the largest power of two it fills. */
+  /** The density, once the signal has ended (later pushes are not counted); a recording shorter than one segment is
+   *  analysed as one segment of the largest power of two it fills. */
   result(): Psd | null {
-    if (this.count > 0) return scaleDensity(this.sum, this.count, this.win, this.fs);
-    let n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
-    if (n < 8) return null;
+    if (this.density !== undefined) return this.density;
+    if (this.count > 0) return (this.density = scaleDensity(this.sums.end(), this.count, this.win, this.fs));
+    const n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
+    const head = this.sums.segment().slice(0, n);
+    this.sums.end();
+    if (n < 8) return (this.density = null);
     const win = makeWindow(this.o.window, n);
-    const fft = fftOf(n);
     const sum = new Float64Array(n / 2 + 1);
-    addPeriodogram(this.buf.subarray(0, n), win, fft, new Float64Array(n), new Float64Array(2 * n), sum);
-    return scaleDensity(sum, 1, win, this.fs);
+    periodogramAdd(head, win, this.o.window, sum);
+    return (this.density = scaleDensity(sum, 1, win, this.fs));
   }
-}
-
-// One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added to sum.
-function addPeriodogram(seg: Float64Array, win: Float64Array, fft: FFT, work: Float64Array, out: Float64Array, sum: Float64Array): void {
-  const n = seg.length;
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += seg[i];
-  mean /= n;
-  for (let i = 0; i < n; i++) work[i] = (seg[i] - mean) * win[i];
-  fft.realTransform(out, work);
-  for (let k = 0; k <= n / 2; k++) sum[k] += out[2 * k] * out[2 * k] + out[2 * k + 1] * out[2 * k + 1];
 }
 
 // Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).

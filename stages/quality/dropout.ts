@@ -1,5 +1,7 @@
 // Dropout: missing values, stretches of exact zeros, gaps in a time column.
 import type { StageDefinition } from '../stage.js';
+import { missingOf } from '../fused/missing.js';
+import { zeroRunsOf } from '../fused/zero-runs.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const dropout: StageDefinition<QualityThresholds> = {
@@ -9,16 +11,12 @@ export const dropout: StageDefinition<QualityThresholds> = {
     { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros.' },
   ],
   create(ctx, q) {
-    let n = 0, missing = 0, firstMissing = -1, run = 0, longest = 0, longestEnd = 0;
+    const gaps = missingOf(ctx), zeros = zeroRunsOf(ctx);
+    let n = 0;
     return {
-      push(x) {
-        for (let i = 0; i < x.length; i++, n++) {
-          const v = x[i];
-          if (!Number.isFinite(v)) { if (missing++ === 0) firstMissing = n; }
-          if (v === 0) { if (++run > longest) { longest = run; longestEnd = n; } } else run = 0;
-        }
-      },
+      push(x) { n += x.length; },
       finish() {
+        const missing = gaps.count, firstMissing = gaps.first, longest = zeros.longest, longestEnd = zeros.longestEnd;
         const fs = ctx.sampleRate, d = q.dropout;
         const fraction = n ? missing / n : 0;
         const zeroS = longest / fs;

@@ -2,6 +2,8 @@
 import type { WelchOptions } from '../dsp/welch.js';
 import { spectrumOf } from '../spectrum.js';
 import type { StageDefinition } from '../stage.js';
+import { finiteWindowsOf } from '../fused/finite-windows.js';
+import { histogramOf } from '../fused/histogram.js';
 
 export interface Evidence {
   histogram: { edges: number[]; counts: number[]; range: [number, number] | null; fullScale: [number, number] | null };
@@ -30,30 +32,17 @@ export const evidence: StageDefinition<{ spectrum: WelchOptions }> = {
     // With known limits the histogram spans them plus 10 % each side, so clipping shows as spikes at the edges.
     let lo = limits ? limits[0] - 0.1 * (limits[1] - limits[0]) : Infinity;
     let hi = limits ? limits[1] + 0.1 * (limits[1] - limits[0]) : -Infinity;
-    const counts = new Float64Array(BINS);
-    const reservoir: number[] = [];
-    let seen = 0, seed = 0x9e3779b9;
+    // The histogram (or, without limits, a reservoir sample) and the RMS trend come from the channel's fused pass.
+    const histogram = histogramOf(ctx, limits ? [lo, hi] : null, BINS);
+    const counts = histogram.counts;
     const win = Math.max(1, Math.round(TREND_WINDOW_S * ctx.sampleRate));
-    let wsq = 0, wn = 0;
     const trend: number[] = [];
+    finiteWindowsOf(ctx, win).listen((_, wsq, wn) => { trend.push(Math.sqrt(wsq / wn)); });
     return {
-      push(x) {
-        for (let i = 0; i < x.length; i++) {
-          const v = x[i];
-          if (!Number.isFinite(v)) continue;
-          if (limits) counts[Math.min(BINS - 1, Math.max(0, Math.floor(((v - lo) / (hi - lo)) * BINS)))]++;
-          else {
-            // Reservoir sampling (Vitter's algorithm R) keeps an even sample of an unbounded stream.
-            seen++;
-            if (reservoir.length < 8192) reservoir.push(v);
-            else { seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0; const j = seed % seen; if (j < 8192) reservoir[j] = v; }
-          }
-          wsq += v * v;
-          if (++wn === win) { trend.push(Math.sqrt(wsq / wn)); wsq = 0; wn = 0; }
-        }
-      },
+      push() {},
       finish() {
         ctx.evidence('histogram', () => {
+          const reservoir = histogram.sample;
           if (!limits && reservoir.length) {
             lo = Math.min(...reservoir); hi = Math.max(...reservoir);
             if (hi === lo) { lo -= 0.5; hi += 0.5; }

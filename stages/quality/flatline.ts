@@ -1,6 +1,7 @@
 // Flatline: a dead or disconnected sensor: a spread of a few converter steps at most, or long constant stretches.
 import type { StageDefinition } from '../stage.js';
-import { momentsOf } from '../stats.js';
+import { momentsOf } from '../fused/moments.js';
+import { repeatRunsOf } from '../fused/repeat-runs.js';
 import { secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const flatline: StageDefinition<QualityThresholds> = {
@@ -9,16 +10,12 @@ export const flatline: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     // The spread comes from the channel's shared moments; this stage only looks for constant stretches.
     const shared = momentsOf(ctx);
-    let n = 0, prev = NaN, run = 0, longest = 0, longestEnd = 0;
+    const runs = repeatRunsOf(ctx);
+    let n = 0;
     return {
-      push(x) {
-        for (let i = 0; i < x.length; i++, n++) {
-          const v = x[i];
-          if (v === prev) { if (++run > longest) { longest = run; longestEnd = n; } } else run = 0;
-          prev = v;
-        }
-      },
+      push(x) { n += x.length; },
       finish() {
+        const longest = runs.longest, longestEnd = runs.longestEnd;
         const fs = ctx.sampleRate, step = ctx.stepSize;
         const m = shared.moments();
         const spread = m.n ? m.max - m.min : 0;

@@ -1,6 +1,7 @@
 // Offset: a mean far from zero, in units of the spread, for quantities that should have none, and drift of 1 s window means.
 import type { StageDefinition } from '../stage.js';
-import { momentsOf } from '../stats.js';
+import { momentsOf } from '../fused/moments.js';
+import { finiteWindowsOf } from '../fused/finite-windows.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
@@ -13,17 +14,11 @@ export const offset: StageDefinition<QualityThresholds> = {
     const applies = q.offset.quantities.includes(ctx.quantity);
     const win = Math.max(1, Math.round(ctx.sampleRate));
     const shared = momentsOf(ctx);
-    let wsum = 0, wn = 0, wmin = Infinity, wmax = -Infinity;
+    let wmin = Infinity, wmax = -Infinity;
+    // Means of windows of `win` finite samples, from the channel's fused pass.
+    if (applies) finiteWindowsOf(ctx, win).listen((wsum, _, wn) => { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; });
     return {
-      push(x) {
-        if (!applies) return;
-        for (let i = 0; i < x.length; i++) {
-          const v = x[i];
-          if (!Number.isFinite(v)) continue;
-          wsum += v;
-          if (++wn === win) { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; wsum = 0; wn = 0; }
-        }
-      },
+      push() {},
       finish() {
         const threshold = `warn: |mean| > ${q.offset.warn_ratio}·std or window means drifting > ${q.offset.warn_drift_ratio}·std (quantities ${q.offset.quantities.join(', ')})`;
         const m = shared.moments();

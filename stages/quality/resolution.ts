@@ -1,5 +1,5 @@
 // Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
-import { momentsOf } from '../stats.js';
+import { momentsOf } from '../fused/moments.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
 

@@ -1,5 +1,6 @@
 // Saturation: samples at or beyond the instrument range, or piled on the converter's extreme codes when no range is declared.
 import type { StageDefinition } from '../stage.js';
+import { limitRunsOf } from '../fused/limit-runs.js';
 import { pct, secs, type QualityThresholds } from './flag.js';
 
 export const saturation: StageDefinition<QualityThresholds> = {
@@ -10,19 +11,13 @@ export const saturation: StageDefinition<QualityThresholds> = {
     const tol = ctx.stepSize != null ? ctx.stepSize / 2 : 0;
     const limits = ctx.range ?? ctx.fullScale;
     const [lo, hi] = limits ? [limits[0] + tol, limits[1] - tol] : [-Infinity, Infinity];
-    let n = 0, count = 0, run = 0, longest = 0, longestEnd = 0, first = -1;
+    // Samples at the limits are counted in the channel's fused pass.
+    const runs = limits ? limitRunsOf(ctx, lo, hi) : null;
+    let n = 0;
     return {
-      push(x) {
-        for (let i = 0; i < x.length; i++, n++) {
-          const v = x[i];
-          if (v >= hi || v <= lo) {
-            count++;
-            if (first < 0) first = n;
-            if (++run > longest) { longest = run; longestEnd = n; }
-          } else run = 0;
-        }
-      },
+      push(x) { n += x.length; },
       finish() {
+        const count = runs?.count ?? 0, first = runs?.first ?? -1, longest = runs?.longest ?? 0, longestEnd = runs?.longestEnd ?? 0;
         const source = ctx.range ? `instrument range [${ctx.range.join(', ')}] ${ctx.unit}` : 'extreme converter codes';
         const threshold = `warn: any sample; fail: ≥ ${pct(q.saturation.fail_fraction)} of samples or ${q.saturation.fail_run} in a row`;
         if (!limits) {

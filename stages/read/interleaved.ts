@@ -1,4 +1,5 @@
 // Interleaved binary frames (WAV data chunks, raw acquisition files) → per-channel chunks.
+import { endianness } from 'node:os';
 import { RecordingError } from './recording.js';
 import type { ByteReader } from './source.js';
 
@@ -43,6 +44,9 @@ export async function* readInterleaved(file: ByteReader, layout: InterleavedLayo
   const view = new DataView(buffer.buffer, buffer.byteOffset, buffer.byteLength);
   const out = Array.from({ length: layout.channels }, () => new Float64Array(chunkFrames));
   const decode = layout.custom?.decode ?? decoder(layout.sampleType, layout.byteOrder === 'little');
+  const nativeLittle = !layout.custom && layout.byteOrder === 'little' && endianness() === 'LE';
+  const little16 = nativeLittle && layout.sampleType === 'int16' && buffer.byteOffset % 2 === 0;
+  const little24 = !layout.custom && layout.byteOrder === 'little' && layout.sampleType === 'int24';
   let done = 0;
   while (done < layout.frames) {
     const want = Math.min(chunkFrames, layout.frames - done);
@@ -55,9 +59,24 @@ export async function* readInterleaved(file: ByteReader, layout: InterleavedLayo
       }
       got += bytesRead;
     }
-    for (let c = 0; c < layout.channels; c++) {
-      const ch = out[c];
-      for (let i = 0, at = c * width; i < want; i++, at += frameBytes) ch[i] = decode(view, at);
+    if (little16) {
+      // 16-bit little-endian on a little-endian machine: read the codes as an Int16Array, same values as getInt16 / 32768.
+      const codes = new Int16Array(buffer.buffer, buffer.byteOffset, want * layout.channels);
+      for (let c = 0; c < layout.channels; c++) {
+        const ch = out[c];
+        for (let i = 0, at = c; i < want; i++, at += layout.channels) ch[i] = codes[at] / 32768;
+      }
+    } else if (little24) {
+      // 24-bit little-endian: the three bytes shifted to the top of an int32 and back, the sign carried.
+      for (let c = 0; c < layout.channels; c++) {
+        const ch = out[c];
+        for (let i = 0, at = c * 3; i < want; i++, at += frameBytes) ch[i] = (((buffer[at + 2] << 24) | (buffer[at + 1] << 16) | (buffer[at] << 8)) >> 8) / 8388608;
+      }
+    } else {
+      for (let c = 0; c < layout.channels; c++) {
+        const ch = out[c];
+        for (let i = 0, at = c * width; i < want; i++, at += frameBytes) ch[i] = decode(view, at);
+      }
     }
     done += want;
     yield want === chunkFrames ? out : out.map((ch) => ch.subarray(0, want));

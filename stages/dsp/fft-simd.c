@@ -1,0 +1,177 @@
+// Double-precision FFT kernels for WebAssembly with 128-bit SIMD (two doubles a lane pair), built by
+// scripts/build-fft-simd.ts with clang into stages/dsp/fft-simd.wasm.ts. The plans (bit reversal, twiddles) are
+// made in TypeScript (stages/dsp/fft-simd.ts) and passed in as pointers; nothing here allocates.
+//
+// Complex transform: iterative radix-4 decimation in time over bit-reversed input (Cooley & Tukey, Math. Comp. 19,
+// 1965), radix-2 first stage when log2 n is odd; the same butterflies as stages/dsp/fft.ts, two at a time.
+// Real transform: a complex transform of half the length and a split step (Sorensen et al., IEEE Trans. ASSP 35(6), 1987).
+#include <wasm_simd128.h>
+
+typedef struct {
+  int n;               // complex length
+  int radix2_first;    // log2 n odd
+  const unsigned *rev; // bit reversal of 0 … n−1
+  const double *tw;    // per radix-4 stage of span h: c1[h] s1[h] c2[h] s2[h] c3[h] s3[h] (cos, −sin of 2π·r·j/4h)
+} cplan;
+
+typedef struct {
+  int n;               // real length; the half plan has n/2
+  cplan half;
+  const double *split; // cos, −sin of 2πk/n for k ≤ n/4, interleaved
+  double *zr, *zi;     // scratch of n/2
+} rplan;
+
+#define LD(p) wasm_v128_load(p)
+#define ST(p, v) wasm_v128_store(p, v)
+#define ADD wasm_f64x2_add
+#define SUB wasm_f64x2_sub
+#define MUL wasm_f64x2_mul
+
+static void first_stage(int n, int radix2, double *re, double *im) {
+  if (radix2) {
+    for (int i = 0; i < n; i += 2) {
+      double ar = re[i], ai = im[i], br = re[i + 1], bi = im[i + 1];
+      re[i] = ar + br; im[i] = ai + bi; re[i + 1] = ar - br; im[i + 1] = ai - bi;
+    }
+    return;
+  }
+  // Radix-4 of span 1: blocks hold D0, D2, D1, D3 (bit-reversed input), no twiddles.
+  for (int g = 0; g < n; g += 4) {
+    double t0r = re[g], t0i = im[g], t2r = re[g + 1], t2i = im[g + 1], t1r = re[g + 2], t1i = im[g + 2], t3r = re[g + 3], t3i = im[g + 3];
+    double ar = t0r + t2r, ai = t0i + t2i, br = t0r - t2r, bi = t0i - t2i;
+    double cr = t1r + t3r, ci = t1i + t3i, dr = t1r - t3r, di = t1i - t3i;
+    re[g] = ar + cr; im[g] = ai + ci;
+    re[g + 1] = br + di; im[g + 1] = bi - dr;
+    re[g + 2] = ar - cr; im[g + 2] = ai - ci;
+    re[g + 3] = br - di; im[g + 3] = bi + dr;
+  }
+}
+
+// One radix-4 stage of span h ≥ 2: t_r = W^(r·j)·D_r[j]; U[j + q·h] = Σ_r (−i)^(r·q)·t_r. Two values of j at a time.
+static void stage4(int n, int h, const double *tw, double *re, double *im) {
+  const double *c1 = tw, *s1 = tw + h, *c2 = tw + 2 * h, *s2 = tw + 3 * h, *c3 = tw + 4 * h, *s3 = tw + 5 * h;
+  for (int g = 0; g < n; g += 4 * h) {
+    double *r0 = re + g, *r2 = r0 + h, *r1 = r2 + h, *r3 = r1 + h;
+    double *i0 = im + g, *i2 = i0 + h, *i1 = i2 + h, *i3 = i1 + h;
+    for (int j = 0; j < h; j += 2) {
+      v128_t C1 = LD(c1 + j), S1 = LD(s1 + j), C2 = LD(c2 + j), S2 = LD(s2 + j), C3 = LD(c3 + j), S3 = LD(s3 + j);
+      v128_t t0r = LD(r0 + j), t0i = LD(i0 + j);
+      v128_t x1r = LD(r1 + j), x1i = LD(i1 + j), x2r = LD(r2 + j), x2i = LD(i2 + j), x3r = LD(r3 + j), x3i = LD(i3 + j);
+      v128_t t1r = SUB(MUL(C1, x1r), MUL(S1, x1i)), t1i = ADD(MUL(C1, x1i), MUL(S1, x1r));
+      v128_t t2r = SUB(MUL(C2, x2r), MUL(S2, x2i)), t2i = ADD(MUL(C2, x2i), MUL(S2, x2r));
+      v128_t t3r = SUB(MUL(C3, x3r), MUL(S3, x3i)), t3i = ADD(MUL(C3, x3i), MUL(S3, x3r));
+      v128_t ar = ADD(t0r, t2r), ai = ADD(t0i, t2i), br = SUB(t0r, t2r), bi = SUB(t0i, t2i);
+      v128_t cr = ADD(t1r, t3r), ci = ADD(t1i, t3i), dr = SUB(t1r, t3r), di = SUB(t1i, t3i);
+      ST(r0 + j, ADD(ar, cr)); ST(i0 + j, ADD(ai, ci));
+      ST(r2 + j, ADD(br, di)); ST(i2 + j, SUB(bi, dr));
+      ST(r1 + j, SUB(ar, cr)); ST(i1 + j, SUB(ai, ci));
+      ST(r3 + j, SUB(br, di)); ST(i3 + j, ADD(bi, dr));
+    }
+  }
+}
+
+// Every stage after the first.
+static void later_stages(const cplan *p, double *re, double *im) {
+  int n = p->n;
+  const double *tw = p->tw;
+  for (int h = p->radix2_first ? 2 : 4; h < n; h *= 4) {
+    stage4(n, h, tw, re, im);
+    tw += 6 * h;
+  }
+}
+
+/** Forward complex transform in place: bit-reversed input, natural-order output. */
+void cfft(const cplan *p, double *re, double *im) {
+  first_stage(p->n, p->radix2_first, re, im);
+  later_stages(p, re, im);
+}
+
+// X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2).
+static void split_step(const rplan *p, double *re, double *im) {
+  int m = p->n / 2;
+  const double *zr = p->zr, *zi = p->zi, *tw = p->split;
+  re[0] = zr[0] + zi[0]; im[0] = 0;
+  re[m] = zr[0] - zi[0]; im[m] = 0;
+  for (int k = 1; k <= m / 2; k++) {
+    int j = m - k;
+    double ar = zr[k], ai = zi[k], br = zr[j], bi = zi[j];
+    double er = 0.5 * (ar + br), ei = 0.5 * (ai - bi);
+    double or = 0.5 * (ai + bi), oi = -0.5 * (ar - br);
+    double c = tw[2 * k], s = tw[2 * k + 1];
+    double wr = c * or - s * oi, wi = c * oi + s * or;
+    re[k] = er + wr; im[k] = ei + wi;
+    re[j] = er - wr; im[j] = -ei + wi;
+  }
+}
+
+/** X[k], k = 0 … n/2, of the real x[0 … n). */
+void rfft(const rplan *p, const double *x, double *re, double *im) {
+  int m = p->n / 2;
+  const unsigned *rev = p->half.rev;
+  for (int i = 0; i < m; i++) { unsigned r = rev[i]; p->zr[r] = x[2 * i]; p->zi[r] = x[2 * i + 1]; }
+  cfft(&p->half, p->zr, p->zi);
+  split_step(p, re, im);
+}
+
+/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
+ *  (detrend 'constant'), k = 0 … n/2. */
+void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
+  int m = p->n / 2;
+  double mean = 0;
+  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
+  mean /= p->n;
+  const unsigned *rev = p->half.rev;
+  for (int i = 0; i < m; i++) {
+    unsigned r = rev[i];
+    p->zr[r] = (x[2 * i] - mean) * w[2 * i];
+    p->zi[r] = (x[2 * i + 1] - mean) * w[2 * i + 1];
+  }
+  cfft(&p->half, p->zr, p->zi);
+  split_step(p, re, im);
+  for (int k = 0; k <= m; k++) acc[k] += re[k] * re[k] + im[k] * im[k];
+}
+
+/** Filtered analytic signal of a block: z = IDFT(g·DFT(x)) with complex gains g[k] (re, im interleaved) for k = 0 … n/2
+ *  and none above (negative frequencies); writes Re z and |z| for samples [from, to). The inverse runs as the forward
+ *  transform of the conjugate (cp: complex plan of length n; sr, si: scratch of n). g carries the 1/n of the inverse. */
+void analytic(const rplan *rp, const cplan *cp, const double *x, const double *g, double *re, double *im,
+              double *sr, double *si, int from, int to, double *out_re, double *out_abs) {
+  int n = cp->n, half = n / 2;
+  rfft(rp, x, re, im);
+  const unsigned *rev = cp->rev;
+  // The inverse's input is conj(g·X) for k ≤ n/2 and zero above. In bit-reversed order the zeros are the odd places
+  // but place 1 (k = n/2), so the first stage is written straight from the even places, with no zeros stored.
+#define S(k, r_, i_) do { double gr = g[2 * (k)], gi = g[2 * (k) + 1]; r_ = gr * re[k] - gi * im[k]; i_ = -(gr * im[k] + gi * re[k]); } while (0)
+  double nr, ni;
+  S(half, nr, ni);
+  if (cp->radix2_first) {
+    for (int i = 0; i < n; i += 2) {
+      double ar, ai;
+      S(rev[i], ar, ai);
+      double br = i == 0 ? nr : 0, bi = i == 0 ? ni : 0;
+      sr[i] = ar + br; si[i] = ai + bi; sr[i + 1] = ar - br; si[i + 1] = ai - bi;
+    }
+  } else {
+    for (int g4 = 0; g4 < n; g4 += 4) {
+      double t0r, t0i, t1r, t1i;
+      S(rev[g4], t0r, t0i);
+      S(rev[g4 + 2], t1r, t1i);
+      double t2r = g4 == 0 ? nr : 0, t2i = g4 == 0 ? ni : 0; // D2 of the first group is place 1
+      double ar = t0r + t2r, ai = t0i + t2i, br = t0r - t2r, bi = t0i - t2i;
+      sr[g4] = ar + t1r; si[g4] = ai + t1i;
+      sr[g4 + 1] = br + t1i; si[g4 + 1] = bi - t1r;
+      sr[g4 + 2] = ar - t1r; si[g4 + 2] = ai - t1i;
+      sr[g4 + 3] = br - t1i; si[g4 + 3] = bi + t1r;
+    }
+  }
+#undef S
+  later_stages(cp, sr, si);
+  // z = conj of the result: Re z = sr, |z| = |result|.
+  int i = from;
+  for (; i + 1 < to; i += 2) {
+    v128_t a = wasm_v128_load(sr + i), b = wasm_v128_load(si + i);
+    wasm_v128_store(out_re + (i - from), a);
+    wasm_v128_store(out_abs + (i - from), wasm_f64x2_sqrt(ADD(MUL(a, a), MUL(b, b))));
+  }
+  for (; i < to; i++) { double a = sr[i], b = si[i]; out_re[i - from] = a; out_abs[i - from] = __builtin_sqrt(a * a + b * b); }
+}

@@ -1,0 +1,210 @@
+// The WebAssembly SIMD FFT kernels (stages/dsp/fft-simd.c) bound for TypeScript: one instance per thread, plans and
+// scratch in its memory made once per size, inputs copied in and results copied out (memcpy, cheap beside a transform).
+import { bitReversal, stageTwiddles } from './fft.js';
+import { FFT_SIMD_WASM } from './fft-simd.wasm.js';
+
+interface Exports {
+  memory: WebAssembly.Memory;
+  __heap_base: WebAssembly.Global;
+  cfft(plan: number, re: number, im: number): void;
+  rfft(plan: number, x: number, re: number, im: number): void;
+  periodogram_add(plan: number, x: number, w: number, re: number, im: number, acc: number): void;
+  analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
+}
+
+class Kernels {
+  private readonly x: Exports;
+  private top: number;
+  private readonly cplans = new Map<number, number>();
+  private readonly rplans = new Map<number, number>();
+  private readonly regions = new Map<string, number>();
+
+  constructor() {
+    const bytes = Buffer.from(FFT_SIMD_WASM, 'base64');
+    this.x = new WebAssembly.Instance(new WebAssembly.Module(bytes)).exports as unknown as Exports;
+    this.top = this.x.__heap_base.value as number;
+  }
+
+  get exports(): Exports { return this.x; }
+
+  /** 16-byte aligned bytes of the instance's memory, grown when needed; never given back (plans and scratch live as long as the thread). */
+  private alloc(bytes: number): number {
+    const at = (this.top + 15) & ~15;
+    this.top = at + bytes;
+    const need = this.top - this.x.memory.buffer.byteLength;
+    if (need > 0) this.x.memory.grow(Math.ceil(need / 65536));
+    return at;
+  }
+
+  private views = new Map<number, Float64Array>();
+  private viewsOf: ArrayBuffer | null = null;
+
+  /** A view of doubles in the instance's memory, kept until the memory grows (which detaches every view). */
+  f64(at: number, length: number): Float64Array {
+    const buffer = this.x.memory.buffer;
+    if (buffer !== this.viewsOf) { this.views.clear(); this.viewsOf = buffer; }
+    const key = length * 2 ** 32 + at;
+    let v = this.views.get(key);
+    if (!v) this.views.set(key, (v = new Float64Array(buffer, at, length)));
+    return v;
+  }
+
+  private readonly spare = new Map<number, number[]>();
+  /** Bytes for one user (a Welch accumulator's segment and sum), from those given back when there are. */
+  take(bytes: number): number { return this.spare.get(bytes)?.pop() ?? this.alloc(bytes); }
+  give(at: number, bytes: number): void { (this.spare.get(bytes) ?? this.spare.set(bytes, []).get(bytes)!).push(at); }
+
+  /** A region kept under a name (scratch of a size, a window, a filter's gains), filled by `fill` the first time. */
+  region(key: string, length: number, fill?: (v: Float64Array) => void): number {
+    let at = this.regions.get(key);
+    if (at === undefined) {
+      at = this.alloc(8 * length);
+      this.regions.set(key, at);
+      fill?.(this.f64(at, length));
+    }
+    return at;
+  }
+
+  private readonly reversals = new Map<number, Uint32Array>();
+  /** Bit reversal of length n, kept per length. */
+  reversal(n: number): Uint32Array {
+    return this.reversals.get(n) ?? this.reversals.set(n, bitReversal(n)).get(n)!;
+  }
+
+  complexPlan(n: number): number {
+    let at = this.cplans.get(n);
+    if (at !== undefined) return at;
+    const rev = this.alloc(4 * n);
+    new Uint32Array(this.x.memory.buffer, rev, n).set(this.reversal(n));
+    const tw = stageTwiddles(n);
+    const twAt = this.alloc(8 * Math.max(1, tw.length));
+    this.f64(twAt, tw.length).set(tw);
+    at = this.alloc(16);
+    new Int32Array(this.x.memory.buffer, at, 4).set([n, Math.log2(n) % 2, rev, twAt]);
+    this.cplans.set(n, at);
+    return at;
+  }
+
+  realPlan(n: number): number {
+    let at = this.rplans.get(n);
+    if (at !== undefined) return at;
+    const half = this.complexPlan(n / 2);
+    const split = this.alloc(16 * (n / 4 + 1));
+    const s = this.f64(split, 2 * (n / 4 + 1));
+    for (let k = 0; k <= n / 4; k++) { s[2 * k] = Math.cos((2 * Math.PI * k) / n); s[2 * k + 1] = -Math.sin((2 * Math.PI * k) / n); }
+    const zr = this.alloc(4 * n), zi = this.alloc(4 * n);
+    at = this.alloc(32);
+    const halfFields = new Int32Array(this.x.memory.buffer, half, 4);
+    new Int32Array(this.x.memory.buffer, at, 8).set([n, ...halfFields, split, zr, zi]);
+    this.rplans.set(n, at);
+    return at;
+  }
+}
+
+let instance: Kernels | null = null;
+const kernels = () => (instance ??= new Kernels());
+
+// Memory of a PeriodogramSum never ended (its recording failed) goes back when it is collected.
+const unreturned = new FinalizationRegistry<[number, number]>(([at, bytes]) => kernels().give(at, bytes));
+
+/** A running sum of Welch's modified periodograms whose segment and sum live in the kernels' memory, so that adding a
+ *  segment copies nothing: fill segment(), call add(); end() returns the sum and gives the memory back. */
+export class PeriodogramSum {
+  private readonly at: number;
+  private readonly bytes: number;
+  private readonly plan: number;
+  private readonly window: number;
+  private readonly re: number;
+  private readonly im: number;
+  private ended: Float64Array | null = null;
+
+  constructor(readonly n: number, w: Float64Array, windowKey: string) {
+    const k = kernels();
+    this.plan = k.realPlan(n);
+    this.window = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
+    this.re = k.region(`re:${n}`, n / 2 + 1);
+    this.im = k.region(`im:${n}`, n / 2 + 1);
+    this.bytes = 8 * (n + n / 2 + 1);
+    this.at = k.take(this.bytes);
+    k.f64(this.at + 8 * n, n / 2 + 1).fill(0);
+    unreturned.register(this, [this.at, this.bytes], this);
+  }
+
+  /** The segment to fill, as a view of the kernels' memory (ask again after making other plans: memory may grow). */
+  segment(): Float64Array { return kernels().f64(this.at, this.n); }
+
+  /** Adds the periodogram of the segment: mean removed, windowed, |DFT|². */
+  add(): void {
+    kernels().exports.periodogram_add(this.plan, this.at, this.window, this.re, this.im, this.at + 8 * this.n);
+  }
+
+  /** The sum of the periodograms added; the memory goes back (later calls return the same sum). */
+  end(): Float64Array {
+    if (!this.ended) {
+      this.ended = kernels().f64(this.at + 8 * this.n, this.n / 2 + 1).slice();
+      unreturned.unregister(this);
+      kernels().give(this.at, this.bytes);
+    }
+    return this.ended;
+  }
+}
+
+/** acc[k] += |X[k]|², k = 0 … n/2, X the DFT of w·(x − mean(x)) (Welch's modified periodogram); n = x.length, a power of two. */
+export function periodogramAdd(x: Float64Array, w: Float64Array, windowKey: string, acc: Float64Array): void {
+  const k = kernels(), n = x.length;
+  const plan = k.realPlan(n);
+  const xa = k.region(`x:${n}`, n), wa = k.region(`w:${windowKey}:${n}`, n, (v) => v.set(w));
+  const re = k.region(`re:${n}`, n / 2 + 1), im = k.region(`im:${n}`, n / 2 + 1), aa = k.region(`acc:${n}`, n / 2 + 1);
+  k.f64(xa, n).set(x);
+  const accView = k.f64(aa, n / 2 + 1);
+  accView.set(acc);
+  k.exports.periodogram_add(plan, xa, wa, re, im, aa);
+  acc.set(k.f64(aa, n / 2 + 1));
+}
+
+/** Real-input DFT X[k], k = 0 … n/2, into re and im (length n/2 + 1). */
+export function realDft(x: Float64Array, re: Float64Array, im: Float64Array): void {
+  const k = kernels(), n = x.length;
+  const plan = k.realPlan(n);
+  const xa = k.region(`x:${n}`, n), ra = k.region(`re:${n}`, n / 2 + 1), ia = k.region(`im:${n}`, n / 2 + 1);
+  k.f64(xa, n).set(x);
+  k.exports.rfft(plan, xa, ra, ia);
+  re.set(k.f64(ra, n / 2 + 1));
+  im.set(k.f64(ia, n / 2 + 1));
+}
+
+/** Complex DFT of (re, im) in place, natural order in and out. */
+export function complexDft(re: Float64Array, im: Float64Array): void {
+  const k = kernels(), n = re.length;
+  const plan = k.complexPlan(n);
+  const ra = k.region(`cr:${n}`, n), ia = k.region(`ci:${n}`, n);
+  const rev = k.reversal(n), vr = k.f64(ra, n), vi = k.f64(ia, n);
+  for (let i = 0; i < n; i++) { vr[rev[i]] = re[i]; vi[rev[i]] = im[i]; }
+  k.exports.cfft(plan, ra, ia);
+  re.set(k.f64(ra, n));
+  im.set(k.f64(ia, n));
+}
+
+/** The plans and memory of filtered analytic blocks of length n with one set of gains, looked up once. */
+export class AnalyticBlocks {
+  private readonly at: { rp: number; cp: number; x: number; g: number; re: number; im: number; sr: number; si: number; or: number; oa: number };
+
+  /** `gains` (re, im interleaved for k = 0 … n/2, with the inverse's 1/n) is made only the first time a thread meets `gainKey`. */
+  constructor(readonly n: number, gains: () => Float64Array, gainKey: string) {
+    const k = kernels();
+    this.at = {
+      rp: k.realPlan(n), cp: k.complexPlan(n), x: k.region(`x:${n}`, n), g: k.region(`g:${gainKey}:${n}`, n + 2, (v) => v.set(gains())),
+      re: k.region(`re:${n}`, n / 2 + 1), im: k.region(`im:${n}`, n / 2 + 1), sr: k.region(`cr:${n}`, n), si: k.region(`ci:${n}`, n),
+      or: k.region(`or:${n}`, n), oa: k.region(`oa:${n}`, n),
+    };
+  }
+
+  /** z = IDFT(g·DFT(x)) for the block x (negative frequencies get none); Re z and |z| of samples [from, to) into outRe and outAbs. */
+  run(x: Float64Array, from: number, to: number, outRe: Float64Array, outAbs: Float64Array): void {
+    const k = kernels(), a = this.at, n = this.n;
+    k.f64(a.x, n).set(x);
+    k.exports.analytic(a.rp, a.cp, a.x, a.g, a.re, a.im, a.sr, a.si, from, to, a.or, a.oa);
+    outRe.set(k.f64(a.or, n).subarray(0, to - from));
+    outAbs.set(k.f64(a.oa, n).subarray(0, to - from));
+  }
+}

@@ -1,0 +1,93 @@
+// The fused pass: every element-wise accumulator of a channel walks each chunk in one loop, not one loop per stage.
+// Stages declare the accumulators they read (fusedOf); the pass, a shared product of the channel, joins their
+// per-sample statements into one kernel, compiled once per thread for each set of accumulator kinds.
+import type { ChannelContext, Stage } from '../stage.js';
+import type { Accumulator, AccumulatorArrays } from './accumulator.js';
+
+type Kernel = (x: Float64Array, from: number, to: number, n0: number, states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]) => void;
+
+const BLOCK = 4096;
+
+// Kernels depend only on the statements joined, not on a channel's values (those come in as arguments, so one kernel
+// serves every channel with the same feedback): made once per thread and shared.
+const kernels = new Map<string, Kernel>();
+
+/** The JavaScript source of one loop running every accumulator's statements over x[from … to), the sample at i being number n0 + i of the recording. */
+export function kernelSource(accs: readonly Accumulator[]): string {
+  const load: string[] = [], store: string[] = [], each: string[] = [], finite: string[] = [];
+  let arrayIndex = 0;
+  accs.forEach((a, i) => {
+    const local = (name: string) => `a${i}_${name}`;
+    const rename = (code: string) => code.replace(/\$(\w+)/g, (_, name: string) => {
+      if (!a.names.includes(name) && !(a.arrays && name in a.arrays)) throw new Error(`accumulator ${a.key}: $${name} is not declared`);
+      return local(name);
+    });
+    load.push(`const s${i} = states[${i}];`);
+    a.names.forEach((name, k) => { load.push(`let ${local(name)} = s${i}[${k}];`); store.push(`s${i}[${k}] = ${local(name)};`); });
+    for (const name of Object.keys(a.arrays ?? {})) load.push(`const ${local(name)} = arrays[${arrayIndex++}];`);
+    if (a.each) each.push(`{ ${rename(a.each)} }`);
+    if (a.finite) finite.push(`{ ${rename(a.finite)} }`);
+  });
+  return `${load.join('\n')}
+for (let i = from; i < to; i++) {
+  const v = x[i], n = n0 + i;
+  ${each.join('\n  ')}
+  ${finite.length ? `if (v - v === 0) {\n    ${finite.join('\n    ')}\n  }` : ''}
+}
+${store.join('\n')}`;
+}
+
+/** Runs a channel's accumulators over each chunk in one loop; a shared product, fed before the stages. */
+export class FusedPass implements Stage {
+  private readonly accs: Accumulator[] = [];
+  private kernel: Kernel | null = null;
+  private states: Float64Array[] = [];
+  private readonly arrays: AccumulatorArrays[keyof AccumulatorArrays][] = [];
+  private n0 = 0;
+
+  /** The accumulator under that key, made and joining the pass the first time; every request comes before the first chunk. */
+  joinOrMake<A extends Accumulator>(key: string, make: () => A): A {
+    const have = this.accs.find((x) => x.key === key);
+    if (have) return have as A;
+    if (this.kernel) throw new Error(`accumulator ${key} asked for after the pass started`);
+    const a = make();
+    if (a.key !== key) throw new Error(`accumulator made for ${key} calls itself ${a.key}`);
+    this.accs.push(a);
+    return a;
+  }
+
+  private compile(): Kernel {
+    const body = kernelSource(this.accs);
+    let kernel = kernels.get(body);
+    if (!kernel) {
+      kernel = new Function(`return function fusedKernel(x, from, to, n0, states, arrays) {\n${body}\n};`)() as Kernel;
+      kernels.set(body, kernel);
+    }
+    this.states = this.accs.map((a) => a.state);
+    return kernel;
+  }
+
+  push(x: Float64Array): void {
+    const kernel = (this.kernel ??= this.compile());
+    const accs = this.accs, n0 = this.n0, arrays = this.arrays;
+    for (let i = 0; i < accs.length; i++) accs[i].beforeChunk?.(x, n0);
+    // Buffers are passed each chunk, so an accumulator may replace one (grown) before it.
+    let k = 0;
+    for (let i = 0; i < accs.length; i++) {
+      const own = accs[i].arrays;
+      if (own) for (const name in own) arrays[k++] = own[name];
+    }
+    // In blocks: a branch first taken late (a window's end, an outlier) sends V8 back to its interpreter for the rest
+    // of one block only, while it re-optimises the loop.
+    for (let from = 0; from < x.length; from += BLOCK) kernel(x, from, Math.min(x.length, from + BLOCK), n0, this.states, arrays);
+    for (let i = 0; i < accs.length; i++) accs[i].afterChunk?.(x, n0);
+    this.n0 += x.length;
+  }
+
+  finish() { return {}; }
+}
+
+/** The channel's accumulator under `key`, shared by every stage that asks for it (made by `make` the first time). */
+export function fusedOf<A extends Accumulator>(ctx: ChannelContext, key: string, make: () => A): A {
+  return ctx.shared('fused-pass', () => new FusedPass()).joinOrMake(key, make);
+}

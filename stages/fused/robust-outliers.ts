@@ -1,0 +1,52 @@
+// Samples far from the chunk's median in units of its robust spread: median and 1.4826 × median absolute deviation
+// (Hampel 1974) of every STRIDE-th finite sample of the chunk (Rousseeuw & Croux 1993 for the constant), then each
+// sample beyond `sigmas` of them is handed to a listener.
+import type { ChannelContext } from '../stage.js';
+import { Accumulating, type Accumulator } from './accumulator.js';
+import { fusedOf } from './pass.js';
+import { median } from '../dsp/median.js';
+
+const STRIDE = 8;
+
+const KEPT = 1024;
+
+export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'room'> implements Accumulator {
+  /** Indices of the current chunk's outliers (the first KEPT of them), handed to the listener after it. */
+  readonly arrays = { hits: new Float64Array(KEPT) };
+  // NaN is never beyond the limit; a chunk with too small a sample has an infinite limit.
+  readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) { if ($found < $room) $hits[$found] = n; $found++; }';
+  private sub = new Float64Array(0);
+
+  constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void) {
+    super(`robust-outliers:${sigmas}:${floor}`, { med: 0, limit: Infinity, found: 0, room: KEPT });
+  }
+
+  afterChunk(x: Float64Array, n0: number): void {
+    const found = this.get('found'), hits = this.arrays.hits;
+    if (found <= KEPT) for (let i = 0; i < found; i++) this.out(hits[i]);
+    else {
+      // A chunk with more outliers than the buffer holds (rare): find them again, in order.
+      const med = this.get('med'), limit = this.get('limit');
+      for (let i = 0; i < x.length; i++) { const d = x[i] - med; if (d > limit || d < -limit) this.out(n0 + i); }
+    }
+    this.set('found', 0);
+  }
+
+  beforeChunk(x: Float64Array): void {
+    if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = new Float64Array(Math.ceil(x.length / STRIDE));
+    // Every STRIDE-th finite sample is plenty for the median and MAD of a chunk, at a fraction of the sorting.
+    let m = 0;
+    for (let i = 0; i < x.length; i += STRIDE) if (x[i] - x[i] === 0) this.sub[m++] = x[i];
+    if (m < 16) { this.set('limit', Infinity); return; }
+    const part = this.sub.subarray(0, m);
+    const med = median(part);
+    for (let i = 0; i < m; i++) part[i] = Math.abs(part[i] - med);
+    const mad = median(part);
+    this.set('med', med);
+    this.set('limit', this.sigmas * Math.max(1.4826 * mad, this.floor, 1e-300));
+  }
+}
+
+/** Outliers beyond `sigmas` robust standard deviations (at least `floor` each), reported to `out` by sample index. */
+export const robustOutliersOf = (ctx: ChannelContext, sigmas: number, floor: number, out: (n: number) => void) =>
+  fusedOf(ctx, `robust-outliers:${sigmas}:${floor}`, () => new RobustOutliers(sigmas, floor, out));

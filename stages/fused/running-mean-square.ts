@@ -1,0 +1,21 @@
+// Running sum of squares over the last `length` samples (linear integration), its largest value once a window is
+// full; the ring is re-added once per turn so rounding cannot accumulate.
+import type { ChannelContext } from '../stage.js';
+import { Accumulating, type Accumulator } from './accumulator.js';
+import { fusedOf } from './pass.js';
+
+export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | 'sum' | 'max'> implements Accumulator {
+  readonly arrays: { ring: Float64Array };
+  readonly each = 'const q = v * v; $sum += q - $ring[$at]; $ring[$at] = q; $seen++; if (++$at === $length) { $at = 0; let t = 0; for (let j = 0; j < $length; j++) t += $ring[j]; $sum = t; } if ($seen >= $length && $sum > $max) $max = $sum;';
+
+  constructor(length: number) {
+    super(`running-mean-square:${length}`, { length, at: 0, seen: 0, sum: 0, max: -1 });
+    this.arrays = { ring: new Float64Array(length) };
+  }
+
+  get seen() { return this.get('seen'); }
+  /** Largest sum of squares over a full window (−1 before the first). */
+  get max() { return this.get('max'); }
+}
+
+export const runningMeanSquareOf = (ctx: ChannelContext, length: number) => fusedOf(ctx, `running-mean-square:${length}`, () => new RunningMeanSquare(length));
