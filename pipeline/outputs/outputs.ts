@@ -50,13 +50,18 @@ export interface OutputsInput {
   changes?: TrendsWrite | null;
 }
 
-/** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
 const COMMA = 0x2c;
 
+/** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
 export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
 
-/** Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small. */
-function slices(items: OutputItem[], { maxItems = 250, maxBytes = 256 << 10 } = {}): OutputItem[][] {
+/**
+ * Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small; never
+ * fewer than `perThread` slices a thread while there are recordings enough, so a small run's slices use every thread too.
+ */
+function slices(items: OutputItem[], { threads = 1, perThread = 2, maxItems = 250, maxBytes = 256 << 10 } = {}): OutputItem[][] {
+  const total = items.reduce((s, it) => s + it.loc.length, 0);
+  maxBytes = Math.max(1, Math.min(maxBytes, Math.ceil(total / (threads * perThread))));
   const out: OutputItem[][] = [];
   let current: OutputItem[] = [], bytes = 0;
   for (const it of items) {
@@ -127,7 +132,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
     const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, tables, metadata: o.metadata });
     const pending: Promise<SliceOutput>[] = [];
-    const all = slices(o.items);
+    const all = slices(o.items, { threads: o.pool.threads });
     let next = 0;
     const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
     launch();
