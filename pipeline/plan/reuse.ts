@@ -1,4 +1,5 @@
 // Decides, per recording, what a run may reuse from earlier runs and what it must compute, and says why.
+import { eachAtOnce } from '../at-once.js';
 import { declarationKey, hashFile, type Identity } from './cache.js';
 import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
@@ -94,13 +95,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
   const decisions: Decision[] = new Array(recordings.length);
   const hashing: number[] = [];
   recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else decisions[i] = one(r, null); });
-  let next = 0;
-  await Promise.all(Array.from({ length: Math.min(HASHES_AT_ONCE, hashing.length) }, async () => {
-    while (next < hashing.length) {
-      const i = hashing[next++];
-      decisions[i] = one(recordings[i], await hashFile(recordings[i].path));
-    }
-  }));
+  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { decisions[i] = one(recordings[i], await hashFile(recordings[i].path)); });
 
   const identityOf = (d: Decision): Identity => ({ size: d.file.size, mtimeMs: d.file.mtimeMs, hash: d.hash });
   return {

@@ -1,5 +1,6 @@
 // Small recordings travel in batches: one worker task, one message and one pack write for many recordings.
 // The worker reduces each recording of a batch in turn and returns each one's record, ready to append to the pack.
+import { eachAtOnce } from '../at-once.js';
 import { hashFile } from '../plan/cache.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { RecordReader } from '../store/pack.js';
@@ -75,10 +76,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   try {
     // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
     const out: BatchResult[] = new Array(items.length);
-    let next = 0;
-    await Promise.all(Array.from({ length: Math.min(IN_FLIGHT, items.length) }, async () => {
-      while (next < items.length) { const i = next++; out[i] = await one(items[i]); }
-    }));
+    await eachAtOnce(items, IN_FLIGHT, async (item, i) => { out[i] = await one(item); });
     return together(out);
   } finally {
     records.close();

@@ -3,6 +3,7 @@ import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { eachAtOnce } from '../at-once.js';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { encodeRecord } from '../store/record.js';
@@ -69,7 +70,6 @@ const BATCHES_IN_FLIGHT = 2;
 export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch }: ReduceOptions<T>): Promise<void> {
   let failure: unknown = null;
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
-  let next = 0;
   const one = async (batch: T[]) => {
     const items = batch.map(itemOf);
     let results: BatchResult[];
@@ -85,9 +85,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
     if (failure) return;
     try { await onBatch(results, batch); } catch (e) { failure ??= e; }
   };
-  await Promise.all(Array.from({ length: Math.min(batches.length, pool.threads * BATCHES_IN_FLIGHT) }, async () => {
-    while (next < batches.length && !failure) await one(batches[next++]);
-  }));
+  await eachAtOnce(batches, pool.threads * BATCHES_IN_FLIGHT, one, () => !!failure);
   if (failure) throw failure;
 }
 

@@ -2,6 +2,7 @@
 import { readdir, stat } from 'node:fs/promises';
 import { join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
+import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/open.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
@@ -54,14 +55,9 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   await walk(root);
   // Sizes and modification times, several at once: a stat waits on the file system, not on this thread.
   const recordings: ScannedRecording[] = new Array(found.length);
-  let next = 0;
-  await Promise.all(Array.from({ length: Math.min(STATS_AT_ONCE, found.length) }, async () => {
-    while (next < found.length) {
-      const i = next++;
-      const { recording, path, group } = found[i];
-      const s = await stat(path);
-      recordings[i] = { recording, path, group, size: s.size, mtimeMs: s.mtimeMs, readAtMs: Date.now() };
-    }
-  }));
+  await eachAtOnce(found, STATS_AT_ONCE, async ({ recording, path, group }, i) => {
+    const s = await stat(path);
+    recordings[i] = { recording, path, group, size: s.size, mtimeMs: s.mtimeMs, readAtMs: Date.now() };
+  });
   return { recordings, unmatched, otherFiles };
 }
