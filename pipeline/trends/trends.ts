@@ -1,8 +1,8 @@
 // After a run's results are stored: every recording's spectrum (spectra.parquet), and each watched feature against its channel's
 // baseline (trends.parquet, and what changed for quality.json, quality.html and the terminal).
 import { createHash } from 'node:crypto';
-import { readFile, rm, stat } from 'node:fs/promises';
-import { join } from 'node:path';
+import { mkdir, readFile, rm, stat } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
 import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/declare.js';
@@ -103,6 +103,8 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
         if (!spec.spectrum) await rm(spectra.path, { force: true });
         if (!o.trends) await rm(trendsFile.path, { force: true });
         const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
+        // An archive with nothing to reduce has stored nothing, so the folder may not exist yet.
+        await mkdir(dirname(keptPath(out)), { recursive: true });
         await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome } satisfies KeptTrends));
       },
     };
