@@ -22,9 +22,14 @@ function vectorOf(col: TableColumn, rows: FeatureRow[]): arrow.Vector {
   return arrow.vectorFromArray(values as never[], ARROW_TYPES[col.type]());
 }
 
-export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): arrow.Table {
+/** The Arrow schema of a table: each field with its unit and description, the metadata on the schema. */
+export function arrowSchema(columns: TableColumn[], metadata: Record<string, string>): arrow.Schema {
   const fields = columns.map((c) => new arrow.Field(c.name, ARROW_TYPES[c.type](), c.nullable, new Map([['unit', c.unit], ['description', c.description]])));
-  const schema = new arrow.Schema(fields, new Map(Object.entries(metadata)));
+  return new arrow.Schema(fields, new Map(Object.entries(metadata)));
+}
+
+export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): arrow.Table {
+  const schema = arrowSchema(columns, metadata), fields = schema.fields;
   const data = Object.fromEntries(columns.map((c) => [c.name, vectorOf(c, rows).data[0] ?? arrow.makeData({ type: ARROW_TYPES[c.type](), length: 0, nullCount: 0 })]));
   const batch = new arrow.RecordBatch(schema, arrow.makeData({ type: new arrow.Struct(fields), length: rows.length, nullCount: 0, children: columns.map((c) => data[c.name]) }));
   return new arrow.Table(schema, [batch]);
