@@ -3,17 +3,15 @@
 import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
-import { runCheck } from './commands/check.js';
 import { toolVersion } from './declare/package-files.js';
-import { runPeek } from './commands/peek.js';
 import { progressFor } from './outputs/progress.js';
 import { summaryText } from './outputs/report.js';
-import { parseFormats, runExport } from './exports/export.js';
-import { runMerge } from './commands/merge.js';
-import { runReduce } from './run.js';
 import { parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
+
+// Each command's modules load when it runs, so a command (or --help) pays only for its own.
+const exporting = () => import('./exports/export.js');
 
 /** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, or a failed write. */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
@@ -50,7 +48,8 @@ async function main(argv: string[]): Promise<number> {
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
-      const exportTo = a.export ? parseFormats(a.export) : null;
+      const exports = a.export ? await exporting() : null;
+      const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
       let shard = null, since = null, until = null, staleLockAfterMs = 0;
       try {
         staleLockAfterMs = parseSpan(a.staleLockAfter);
@@ -61,10 +60,11 @@ async function main(argv: string[]): Promise<number> {
         throw new UsageError((e as Error).message);
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
+      const { runReduce } = await import('./run.js');
       const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
-      if (exportTo && !shard) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
+      if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
     })
     .command('export <reduced>', 'Write spreadsheet-ready copies of a reduced folder\'s tables beside them: CSV per table, one XLSX workbook', (y: Argv) => y
@@ -72,6 +72,7 @@ async function main(argv: string[]): Promise<number> {
       .option('to', { type: 'string', demandOption: true, describe: 'csv, xlsx or csv,xlsx' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      const { parseFormats, runExport } = await exporting();
       for (const f of await runExport(a.reduced as string, { to: parseFormats(a.to), bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`${f}\n`);
     })
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
@@ -80,6 +81,7 @@ async function main(argv: string[]): Promise<number> {
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
       const { record, quality } = await runMerge(a.out as string, { jobs: a.jobs });
       process.stdout.write(summaryText(record, quality) + '\n');
@@ -90,6 +92,7 @@ async function main(argv: string[]): Promise<number> {
       .positional('archive', { type: 'string', demandOption: true })
       .option('spec', { type: 'string', describe: 'Reduction spec (YAML) to validate' }),
     async (a) => {
+      const { runCheck } = await import('./commands/check.js');
       const r = await runCheck(a.archive as string, { spec: a.spec ?? null });
       for (const x of r.recordings) process.stdout.write(`${x.ok ? 'ok    ' : 'FAILED'}  ${x.recording}  [${x.group}]  ${x.detail}\n`);
       for (const u of r.unmatched) process.stdout.write(`UNMATCHED  ${u}: no group in archive.yaml matches it\n`);
@@ -114,6 +117,7 @@ async function main(argv: string[]): Promise<number> {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
       const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null } : null;
       const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
+      const { runPeek } = await import('./commands/peek.js');
       const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, flac });
       if (r.status === 'failed') {
         process.stderr.write(`quern: ${a.recording}: ${r.reason}\n`);

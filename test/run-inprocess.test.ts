@@ -1,5 +1,5 @@
 // The run composed in-process: real worker threads, the same rows whatever the number of workers.
-import { readdirSync, readFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runReduce } from '../pipeline/run.js';
@@ -17,6 +17,17 @@ describe('runReduce', () => {
     // The files differ only in their run ids; the Parquet payload before the footer is identical.
     const a = readFileSync(join(archive, '..', 'one', 'features.parquet')), b = readFileSync(join(archive, '..', 'two', 'features.parquet'));
     expect(a.length).toBe(b.length);
+  });
+
+  it('reduces an archive with no recordings yet: empty tables, nothing failed', async () => {
+    const archive = join(tempDir(), 'empty');
+    mkdirSync(archive);
+    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: rig\n    match: "*.wav"\n');
+    const out = join(archive, '..', 'out');
+    const { record } = await runReduce({ archive, out, jobs: 1 });
+    expect(record.counts.selected).toBe(0);
+    expect(record.counts.failed).toBe(0);
+    for (const f of ['features.parquet', 'run.json', 'quality.json', 'cache/trends.json']) expect(existsSync(join(out, f)), f).toBe(true);
   });
 });
 

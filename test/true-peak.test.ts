@@ -1,12 +1,14 @@
 // True peak by 4× oversampling (ITU-R BS.1770-4 Annex 2) and the peak-capture flag built on it.
 import { describe, expect, it } from 'vitest';
-import { interpolateAt, SUPPORT, TruePeak } from '../stages/dsp/true-peak.js';
+import { interpolateAt, SUPPORT, TAP_PAIRS, TruePeak } from '../stages/dsp/true-peak.js';
 import { peakUnderestimate } from '../stages/quality/peak-capture.js';
+import { simdPeakScan } from '../stages/dsp/fft-simd.js';
+import { uniform } from './dsp-signals.js';
 import { fixture, readJson } from './helpers.js';
 
 /** Feeds a signal in chunks of the given lengths (cycled), as the reader would. */
-function truePeakOf(x: Float64Array, guard: number, chunks = [65536]) {
-  const t = new TruePeak(guard);
+function truePeakOf(x: Float64Array, guard: number, chunks = [65536], simd = false) {
+  const t = new TruePeak(guard, simd ? simdPeakScan(TAP_PAIRS) : undefined);
   for (let i = 0, j = 0; i < x.length; j++) {
     const n = chunks[j % chunks.length];
     t.push(x.subarray(i, Math.min(x.length, i + n)));
@@ -82,5 +84,22 @@ describe('true peak (ITU-R BS.1770-4 Annex 2: 4× oversampling)', () => {
   it('ignores values that are not numbers, and a recording shorter than the interpolator', () => {
     const x = Float64Array.from([0.1, NaN, -3, Infinity, 2, 0.5]);
     expect(truePeakOf(x, 0.3, [2])).toEqual({ samplePeak: 3, truePeak: 3 });
+  });
+
+  it('the WebAssembly scan finds exactly what the TypeScript scan finds, whatever the chunking: noise to Nyquist, flat tops, gaps and spikes', () => {
+    for (let seed = 1; seed <= 6; seed++) {
+      const u = uniform(seed), n = 20_000 + seed * 1013;
+      // A tone with white noise up to Nyquist (many candidates), 24-bit codes; then a flat top, missing values, an infinity, spikes.
+      const x = Float64Array.from({ length: n }, (_, i) => Math.round((0.3 * Math.sin((2 * Math.PI * 50 * i) / 25600) + 0.1 * (u() - 0.5)) * 8388607) / 8388607);
+      if (seed % 2) { x.fill(1.2, 5000, 5030); x[7001] = NaN; x[7003] = -Infinity; x[9000] = 0.9; x[9002] = -0.95; x[12] = 0.6; }
+      const sizes = [[1, 2, 3, 29], [65536], [13, 5000, 1, 1], [4096, 7, 24, 25], [100], [333, 1]][seed - 1];
+      for (const guard of [Math.cos(Math.PI / 2.56), Math.cos(Math.PI / 10)]) {
+        const want = truePeakOf(x, guard, [65536]);
+        expect(truePeakOf(x, guard, sizes, true), `seed ${seed}, guard ${guard}`).toEqual(want);
+        // Noise up to Nyquist peaks between the samples (odd seeds: the flat top is the peak).
+        if (seed % 2 === 0) expect(want.truePeak).toBeGreaterThan(want.samplePeak);
+      }
+    }
+    for (const x of [Float64Array.from([0.1, NaN, -3, Infinity, 2, 0.5]), new Float64Array(0), Float64Array.from([-1])]) expect(truePeakOf(x, 0.3, [1], true)).toEqual(truePeakOf(x, 0.3, [2]));
   });
 });

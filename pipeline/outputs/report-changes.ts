@@ -5,7 +5,7 @@ import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
 import { thinBins } from '../trends/pictures.js';
 import { changeLine } from '../trends/summary.js';
-import { COLOURS, svg } from './charts.js';
+import { COLOURS } from './colours.js';
 
 // Verdict colours from the report's palette; a recording without a verdict (baseline forming, data unusable) in grey.
 const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
@@ -118,6 +118,8 @@ export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[])
     return out.join('\n');
   }
   out.push(`<p><b>${alarms}</b> channel features at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
+  // The charting modules load only when a channel's pictures are drawn.
+  const { svg } = pictures.length ? await import('./charts.js') : { svg: async () => '' };
   out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
   for (const p of pictures) {
     const worst = p.items.some((c) => c.verdict === 'alarm') ? 'alarm' : 'changed';

@@ -1,5 +1,6 @@
 // Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
 // each channel feature this run covers, when it is not steady.
+import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, type BaselineStats } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
@@ -126,19 +127,18 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   };
 }
 
-/** trends.parquet rows of the recordings this run covers, series by series in start-time order. */
-export function* trendRows(h: History, scored: ScoredFeature[]): Generator<Record<string, string | number | null>> {
-  for (const f of scored) {
-    const s = f.series;
-    for (let i = 0; i < s.size; i++) {
-      if (!s.inRun[i]) continue;
-      const p = f.at(i);
-      if (!p) continue;
-      yield {
-        recording: h.recordings[s.recording[i]], group: s.group, channel: s.channel, feature: f.feature.name, unit: f.unit,
-        start_time: s.startKnown[i] ? s.time[i] : null, value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
-        verdict: p.verdict, limit: p.limit, quality: severityAt(s, i),
-      };
-    }
+/** trends.parquet rows of one scored feature: the points of the recordings this run covers, in start-time order, as columns. */
+export function addTrendRows(h: History, f: ScoredFeature, into: Record<string, Column>): void {
+  const s = f.series;
+  const text = (name: string) => into[name] as TextColumn, number = (name: string) => into[name] as NumberColumn;
+  for (let i = 0; i < s.size; i++) {
+    if (!s.inRun[i]) continue;
+    const p = f.at(i);
+    if (!p) continue;
+    text('recording').add(h.recordings[s.recording[i]]); text('group').add(s.group); text('channel').add(s.channel);
+    text('feature').add(f.feature.name); text('unit').add(f.unit);
+    number('start_time').add(s.startKnown[i] ? s.time[i] : null);
+    number('value').add(p.value); number('baseline').add(p.baseline); number('change_db').add(p.changeDb); number('score').add(p.score);
+    text('verdict').add(p.verdict); text('limit').add(p.limit); text('quality').add(severityAt(s, i));
   }
 }

@@ -1,8 +1,8 @@
 // After a run's results are stored: every recording's spectrum (spectra.parquet), and each watched feature against its channel's
 // baseline (trends.parquet, and what changed for quality.json, quality.html and the terminal).
 import { createHash } from 'node:crypto';
-import { readFile, rm, stat } from 'node:fs/promises';
-import { join } from 'node:path';
+import { mkdir, readFile, rm, stat } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
 import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/declare.js';
@@ -10,8 +10,8 @@ import { entriesOf, everyEntry, type CacheEntry } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
-import type { FeatureRow } from '../reduce/result.js';
-import { changesReport, scoreHistory, trendRows, type ChangesReport } from './changes.js';
+import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
+import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
 import { readHistory } from './history.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
@@ -19,16 +19,18 @@ import { SPECTRA_TABLE, TRENDS_TABLE } from './tables.js';
 
 export interface TrendsOutcome { report: ChangesReport; html: string }
 
-/** spectra.parquet rows: every bin of every channel's kept spectrum, recording by recording. */
-async function* spectrumRows(entries: Iterable<CacheEntry> | AsyncIterable<CacheEntry>): AsyncGenerator<FeatureRow> {
-  for await (const e of entries) {
-    const kept = e.status === 'reduced' ? e.groups.spectrum?.kept?.spectrum : undefined;
-    if (!kept || !e.base) continue;
-    for (const [c, ch] of e.base.channels.entries()) {
-      const s = unpackSpectrum(kept[c]);
-      if (!s) continue;
-      for (let k = 0; k < s.density.length; k++) yield { recording: e.recording, channel: ch.name, unit: ch.unit, frequency_hz: k * s.df, density: s.density[k] };
-    }
+/** spectra.parquet rows of one recording: every bin of every channel's kept spectrum, as columns. */
+function addSpectra(e: CacheEntry, into: Record<string, Column>): void {
+  const kept = e.status === 'reduced' ? e.groups.spectrum?.kept?.spectrum : undefined;
+  if (!kept || !e.base) return;
+  const [recording, channel, unit, frequency, density] = SPECTRA_TABLE.map((c) => into[c.name]) as [TextColumn, TextColumn, TextColumn, NumberColumn, NumberColumn];
+  for (const [c, ch] of e.base.channels.entries()) {
+    const s = unpackSpectrum(kept[c]);
+    if (!s) continue;
+    const n = s.density.length;
+    recording.add(e.recording, n); channel.add(ch.name, n); unit.add(ch.unit, n);
+    frequency.addRamp(n, s.df);
+    density.addAll(s.density);
   }
 }
 
@@ -75,12 +77,12 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
   const kept = await stillCurrent(out, digest);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
-  const [{ batched, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
+  const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
   const spectra = new StagedFile(join(out, 'spectra.parquet')), trendsFile = new StagedFile(join(out, 'trends.parquet'));
   const files: StagedFile[] = [];
   try {
     if (spec.spectrum) {
-      await writeStreamedTable(spectra, SPECTRA_TABLE, batched(spectrumRows(entriesOf(o.store, o.recordings))), o.metadata);
+      await writeStreamedTable(spectra, SPECTRA_TABLE, columnBatches(SPECTRA_TABLE, o.metadata, entriesOf(o.store, o.recordings), addSpectra), o.metadata);
       files.push(spectra);
     }
     let outcome: TrendsOutcome | null = null;
@@ -88,7 +90,7 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
       const history = await readHistory(out, spec, o.trends, inRun, everyEntry(o.store));
       const scored = scoreHistory(history, o.trends);
       const report = changesReport(history, scored, o.trends);
-      await writeStreamedTable(trendsFile, TRENDS_TABLE, batched(trendRows(history, scored)), o.metadata);
+      await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
       files.push(trendsFile);
       const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntry(o.store)) : [];
       outcome = { report, html: await changesHtml(report, pictures) };
@@ -101,6 +103,8 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
         if (!spec.spectrum) await rm(spectra.path, { force: true });
         if (!o.trends) await rm(trendsFile.path, { force: true });
         const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
+        // An archive with nothing to reduce has stored nothing, so the folder may not exist yet.
+        await mkdir(dirname(keptPath(out)), { recursive: true });
         await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome } satisfies KeptTrends));
       },
     };

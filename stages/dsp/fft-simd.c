@@ -175,3 +175,64 @@ void analytic(const rplan *rp, const cplan *cp, const double *x, const double *g
   }
   for (; i < to; i++) { double a = sr[i], b = si[i]; out_re[i - from] = a; out_abs[i - from] = __builtin_sqrt(a * a + b * b); }
 }
+
+// The true peak's scan of x[from, to) (ITU-R BS.1770-4 Annex 2; TruePeak.scan in stages/dsp/true-peak.ts): the same
+// decisions and the same products added in the same order, so the same numbers. Candidates are gathered first against the
+// threshold the running sample peak sets (never above TruePeak's, so none is missed), their half-sample points are made four
+// at a time (so the processor overlaps their chains of additions), and then they are taken in order against TruePeak's
+// threshold, with the quarter-sample points only where those could lie beside the true peak. The taps come as 24 pairs
+// (lane 0's, lane 1's): lane 0 sums from x[i − 12 + j], lane 1 from x[i − 11 + j]. peaks holds the guard, the sample peak
+// and the true peak (in and out); cand, peak_at and half are scratch of to − from each.
+static double magnitude(double y) { return y < __builtin_inf() && y > -__builtin_inf() ? __builtin_fabs(y) : 0; }
+static double larger(v128_t s) {
+  double a = magnitude(wasm_f64x2_extract_lane(s, 0)), b = magnitude(wasm_f64x2_extract_lane(s, 1));
+  return b > a ? b : a;
+}
+static double point_pair(const double *x, int i, const double *taps) {
+  const double *p = x + i - 12;
+  v128_t s = wasm_f64x2_splat(0);
+  for (int j = 0; j < 24; j++) s = ADD(s, MUL(LD(taps + 2 * j), LD(p + j)));
+  return larger(s);
+}
+
+void true_peak_scan(const double *x, int from, int to, int first, double *peaks, const double *taps_half,
+                    const double *taps_quarter, int *cand, double *peak_at, double *half) {
+  const double guard = peaks[0];
+  double peak = peaks[1], top = peaks[2] > peak ? peaks[2] : peak, threshold = guard * top;
+  int m = 0;
+  for (int i = from; i < to; i++) {
+    double v = x[i], a = v < 0 ? -v : v;
+    if (a > peak) {
+      if (!(a < __builtin_inf())) continue;
+      peak = a;
+      if (guard * a > threshold) threshold = guard * a;
+    }
+    if (!(a >= threshold) || i < first) continue;
+    double l = x[i - 1], r = x[i + 1];
+    if (a < __builtin_fabs(l) || a < __builtin_fabs(r)) continue;
+    if ((v == l && (v == r || v == x[i - 2])) || (v == r && v == x[i + 2])) continue;
+    cand[m] = i; peak_at[m] = peak; m++;
+  }
+  int k = 0;
+  for (; k + 4 <= m; k += 4) {
+    const double *p0 = x + cand[k] - 12, *p1 = x + cand[k + 1] - 12, *p2 = x + cand[k + 2] - 12, *p3 = x + cand[k + 3] - 12;
+    v128_t h0 = wasm_f64x2_splat(0), h1 = h0, h2 = h0, h3 = h0;
+    for (int j = 0; j < 24; j++) {
+      v128_t t = LD(taps_half + 2 * j);
+      h0 = ADD(h0, MUL(t, LD(p0 + j))); h1 = ADD(h1, MUL(t, LD(p1 + j)));
+      h2 = ADD(h2, MUL(t, LD(p2 + j))); h3 = ADD(h3, MUL(t, LD(p3 + j)));
+    }
+    half[k] = larger(h0); half[k + 1] = larger(h1); half[k + 2] = larger(h2); half[k + 3] = larger(h3);
+  }
+  for (; k < m; k++) half[k] = point_pair(x, cand[k], taps_half);
+  for (k = 0; k < m; k++) {
+    if (peak_at[k] > top) top = peak_at[k];
+    double v = x[cand[k]], a = v < 0 ? -v : v;
+    if (!(a >= guard * top)) continue;
+    double h = half[k];
+    if (h > top) top = h;
+    if (a + h >= (1 + guard) * top * (1 - 1e-3)) { double q = point_pair(x, cand[k], taps_quarter); if (q > top) top = q; }
+  }
+  peaks[1] = peak;
+  peaks[2] = top > peak ? top : peak;
+}

@@ -2,6 +2,7 @@
 // scratch in its memory made once per size, inputs copied in and results copied out (memcpy, cheap beside a transform).
 import { bitReversal, stageTwiddles } from './fft.js';
 import { FFT_SIMD_WASM } from './fft-simd.wasm.js';
+import type { PeakScan } from './true-peak.js';
 
 interface Exports {
   memory: WebAssembly.Memory;
@@ -10,6 +11,7 @@ interface Exports {
   rfft(plan: number, x: number, re: number, im: number): void;
   periodogram_add(plan: number, x: number, w: number, re: number, im: number, acc: number): void;
   analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
+  true_peak_scan(x: number, from: number, to: number, first: number, peaks: number, tapsHalf: number, tapsQuarter: number, cand: number, peakAt: number, half: number): void;
 }
 
 class Kernels {
@@ -207,4 +209,28 @@ export class AnalyticBlocks {
     outRe.set(k.f64(a.or, n).subarray(0, to - from));
     outAbs.set(k.f64(a.oa, n).subarray(0, to - from));
   }
+}
+
+/**
+ * The true peak's scan in WebAssembly (true_peak_scan in fft-simd.c; TruePeak in true-peak.ts feeds it): the block, the
+ * peaks and the candidates' scratch live in the kernels' memory, shared by the thread's channels (a scan runs to its end
+ * before the next begins) and sized by the largest block so far.
+ */
+export function simdPeakScan(taps: { half: () => Float64Array; quarter: () => Float64Array }): PeakScan {
+  const k = kernels();
+  const at = { taps: k.region('true-peak:taps-half', 48, (v) => v.set(taps.half())), quarterTaps: k.region('true-peak:taps-quarter', 48, (v) => v.set(taps.quarter())), peaks: k.region('true-peak:peaks', 4) };
+  const room = (length: number) => {
+    const cap = 2 ** Math.ceil(Math.log2(Math.max(length, 4096)));
+    return { cap, x: k.region(`true-peak:x:${cap}`, cap), cand: k.region(`true-peak:cand:${cap}`, cap / 2), peakAt: k.region(`true-peak:peak-at:${cap}`, cap), half: k.region(`true-peak:half:${cap}`, cap) };
+  };
+  let r = room(0);
+  return {
+    block(length) { if (length > r.cap) r = room(length); return k.f64(r.x, r.cap); },
+    scan(_block, from, to, first, peaks) {
+      const p = k.f64(at.peaks, 3);
+      p.set(peaks);
+      k.exports.true_peak_scan(r.x, from, to, first, at.peaks, at.taps, at.quarterTaps, r.cand, r.peakAt, r.half);
+      peaks.set(k.f64(at.peaks, 3));
+    },
+  };
 }

@@ -61,8 +61,65 @@ function quarterPoints(x: Float64Array, i: number): number {
   return Math.max(magnitude(b), magnitude(c));
 }
 
+/**
+ * Whether a candidate x[i] (|x[i]| = a) whose half-sample points reach `half` is worth its quarter-sample points, the
+ * running true peak being `top` (at least `half`). Near the true peak the sample and the half-sample point on the peak's
+ * side are both within half a sample of it, so by the inequality below (TruePeak) they add up to at least
+ * (1 + guard) × the peak (2·cos²(π·f/(2fs)), derived).
+ */
+const needsQuarter = (a: number, half: number, top: number, guard: number) => a + half >= (1 + guard) * top * (1 - 1e-3);
+
+/** The taps of halfPoints and quarterPoints as pairs (lane 0's, lane 1's), for the WebAssembly scan (true_peak_scan). */
+export const TAP_PAIRS = {
+  half: () => Float64Array.from({ length: 4 * HALF }, (_, k) => P2[k >> 1]),
+  quarter: () => Float64Array.from({ length: 4 * HALF }, (_, k) => (k & 1 ? P1 : P3)[k >> 1]),
+};
+
 /** Samples an interpolated point needs on either side. */
 export const SUPPORT = HALF;
+
+/**
+ * Where a stream's samples are put and how a stretch of them is scanned: `block(length)` gives room for at least `length`
+ * samples (filled by the caller; its contents need not last), `scan` judges block[from, to) as TruePeak describes, samples
+ * before `firstInterpolable` by their values only, reading and updating peaks (guard, sample peak, true peak).
+ */
+export interface PeakScan {
+  block(length: number): Float64Array;
+  scan(block: Float64Array, from: number, to: number, firstInterpolable: number, peaks: Float64Array): void;
+}
+
+/** The scan in TypeScript: the readable reference (the WebAssembly one, simdPeakScan in fft-simd.ts, finds the same). */
+export function typescriptPeakScan(): PeakScan {
+  let buf = new Float64Array(0);
+  return {
+    block: (length) => (buf.length >= length ? buf : (buf = new Float64Array(length))),
+    scan(buf, from, to, firstInterpolable, peaks) {
+      const guard = peaks[0];
+      let peak = peaks[1], top = Math.max(peaks[2], peak), threshold = guard * top;
+      for (let i = from; i < to; i++) {
+        const v = buf[i];
+        const a = v < 0 ? -v : v;
+        if (a > peak) {
+          if (!(a < Infinity)) continue; // ±Infinity is not a sample of the signal (NaN fails every comparison)
+          peak = a;
+          if (a > top) { top = a; threshold = guard * top; }
+        }
+        if (!(a >= threshold) || i < firstInterpolable) continue;
+        const left = buf[i - 1], right = buf[i + 1];
+        if (a < Math.abs(left) || a < Math.abs(right)) continue;
+        // A flat top of three equal samples (clipping, a digital level such as a tacho pulse) is its own peak: interpolating
+        // across its edges would measure their ringing (Gibbs), not the signal.
+        if ((v === left && (v === right || v === buf[i - 2])) || (v === right && v === buf[i + 2])) continue;
+        const half = halfPoints(buf, i);
+        if (half > top) top = half;
+        if (needsQuarter(a, half, top, guard)) { const quarter = quarterPoints(buf, i); if (quarter > top) top = quarter; }
+        threshold = guard * top;
+      }
+      peaks[1] = peak;
+      peaks[2] = top;
+    },
+  };
+}
 
 /**
  * Largest sample magnitude and true peak of a stream, fed in chunks of any length.
@@ -75,71 +132,37 @@ export const SUPPORT = HALF;
  * do flat tops of three or more equal samples.
  */
 export class TruePeak {
-  private buf: Float64Array;
+  /** The last 2·HALF samples of the stream so far (zeros before the first sample), carried ahead of each new chunk. */
+  private readonly carried = new Float64Array(2 * HALF);
   /** Samples seen in earlier chunks. */
   private seen = 0;
-  private samplePeak = 0;
-  private truePeak = 0;
+  /** Guard, sample peak, true peak. */
+  private readonly peaks: Float64Array;
 
-  constructor(private readonly guard: number) {
-    // 2·HALF carried samples (the last chunk's tail) ahead of each new chunk.
-    this.buf = new Float64Array(2 * HALF + 4096);
+  constructor(guard: number, private readonly scanner: PeakScan = typescriptPeakScan()) {
+    this.peaks = Float64Array.of(guard, 0, 0);
   }
 
   push(x: Float64Array): void {
-    const carry = 2 * HALF;
-    if (this.buf.length < carry + x.length) {
-      const grown = new Float64Array(carry + x.length);
-      grown.set(this.buf.subarray(0, carry));
-      this.buf = grown;
-    }
-    const buf = this.buf;
+    const carry = 2 * HALF, buf = this.scanner.block(carry + x.length);
+    buf.set(this.carried);
     buf.set(x, carry);
     // Samples buf[from, to) are judged now: the carried ones whose right-hand support has arrived, and the chunk but its last HALF.
     const from = Math.max(HALF, carry - this.seen), to = carry + x.length - HALF;
     // buf index i is sample number seen − carry + i; it may be interpolated once HALF samples precede it.
     const firstInterpolable = carry - this.seen + HALF;
-    this.scan(from, to, firstInterpolable);
-    // Keep the last 2·HALF samples (zeros before the first sample) for the next chunk.
-    buf.copyWithin(0, x.length, x.length + carry);
+    this.scanner.scan(buf, from, to, Math.max(0, Math.min(firstInterpolable, 2 ** 31 - 1)), this.peaks);
+    this.carried.set(buf.subarray(x.length, x.length + carry));
     this.seen += x.length;
-  }
-
-  private scan(from: number, to: number, firstInterpolable: number): void {
-    const buf = this.buf, guard = this.guard;
-    let peak = this.samplePeak, top = Math.max(this.truePeak, peak), threshold = guard * top;
-    for (let i = from; i < to; i++) {
-      const v = buf[i];
-      const a = v < 0 ? -v : v;
-      if (a > peak) {
-        if (!(a < Infinity)) continue; // ±Infinity is not a sample of the signal (NaN fails every comparison)
-        peak = a;
-        if (a > top) { top = a; threshold = guard * top; }
-      }
-      if (!(a >= threshold) || i < firstInterpolable) continue;
-      const left = buf[i - 1], right = buf[i + 1];
-      if (a < Math.abs(left) || a < Math.abs(right)) continue;
-      // A flat top of three equal samples (clipping, a digital level such as a tacho pulse) is its own peak: interpolating
-      // across its edges would measure their ringing (Gibbs), not the signal.
-      if ((v === left && (v === right || v === buf[i - 2])) || (v === right && v === buf[i + 2])) continue;
-      // Near the true peak the sample and the half-sample point on the peak's side are both within half a sample of it, so by
-      // the same inequality they add up to at least (1 + guard) × the peak (2·cos²(π·f/(2fs)), derived); the quarter points are
-      // worth interpolating only then.
-      const half = halfPoints(buf, i);
-      if (half > top) top = half;
-      if (a + half >= (1 + guard) * top * (1 - 1e-3)) { const quarter = quarterPoints(buf, i); if (quarter > top) top = quarter; }
-      threshold = guard * top;
-    }
-    this.samplePeak = peak;
-    this.truePeak = top;
   }
 
   /** The largest sample magnitude and the true peak (never below it); the last HALF samples count as samples. */
   result(): { samplePeak: number; truePeak: number } {
-    const carry = 2 * HALF;
+    const carry = 2 * HALF, buf = this.scanner.block(carry);
+    buf.set(this.carried);
     // The stream's last HALF samples were held back awaiting support that will not come.
     const from = Math.max(HALF, carry - this.seen);
-    this.scan(from, carry, Infinity);
-    return { samplePeak: this.samplePeak, truePeak: Math.max(this.truePeak, this.samplePeak) };
+    this.scanner.scan(buf, from, carry, 2 ** 31 - 1, this.peaks);
+    return { samplePeak: this.peaks[1], truePeak: Math.max(this.peaks[2], this.peaks[1]) };
   }
 }

@@ -1,6 +1,7 @@
 // Peak capture: how far the largest sample falls short of the true, band-limited peak, estimated by 4× oversampling
 // (ITU-R BS.1770-4 Annex 2); beside it the worst case for a sine at the declared highest frequency, 1 − cos(π·f/fs) (derived).
-import { TruePeak } from '../dsp/true-peak.js';
+import { simdPeakScan } from '../dsp/fft-simd.js';
+import { TAP_PAIRS, TruePeak } from '../dsp/true-peak.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
 
@@ -21,7 +22,7 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     const fs = ctx.sampleRate, f = ctx.maxFrequencyHz;
     // Candidates for interpolation come within cos(π·f/fs) of the running true peak (see TruePeak); f is at most fs/2.
-    const tracker = new TruePeak(Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO)));
+    const tracker = new TruePeak(Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO)), simdPeakScan(TAP_PAIRS));
     return {
       push(x) { tracker.push(x); },
       finish() {
