@@ -20,7 +20,7 @@ import { scan } from './select/scan.js';
 import { byStartTime, shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
-import { trendsAndSpectra } from './trends/trends.js';
+import type { TrendsWrite } from './trends/trends.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -42,6 +42,9 @@ export interface ReduceOptions {
 }
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
+
+/** Loads the code that writes tables, trends and charts (Arrow, Parquet, Vega), which runs that write nothing never load. */
+const loadWriters = () => Promise.all([import('./trends/trends.js'), import('./outputs/parquet-stream.js'), import('./outputs/report-changes.js')]);
 
 export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -74,23 +77,27 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decisions = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const { decisions, itemOf, identityOf } = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);
 
     t = performance.now();
     // Entries confirmed by content now are stored again as they are; the rest of the work goes to the pool in batches.
-    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.store!.previous!, identity: d.store!.identity, readAtMs: d.store!.readAtMs }))));
-    const todo = decisions.filter((d) => d.store && !d.restamp);
-    const byName = new Map(todo.map((d) => [d.recording, d]));
+    await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.previous!, identity: identityOf(d), readAtMs: d.file.readAtMs }))));
+    const todo = decisions.filter((d) => d.stores && !d.restamp);
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
-    await reduceAll(pool, todo.map((d) => ({ job: d.job!, store: d.store! })), {
-      onBatch: async (results) => {
+    // New results mean new outputs: their writers' code loads while the workers reduce, not after.
+    if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
+    await reduceAll(pool, todo, {
+      sizeOf: (d) => d.file.size,
+      itemOf,
+      onBatch: async (results, batch) => {
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
-        for (const { facts } of results) {
-          const d = byName.get(facts.recording)!;
+        // Results come back in the batch's order.
+        results.forEach(({ facts }, i) => {
+          const d = batch[i];
           if (d.compute.length) o.progress?.done(facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
-        }
+        });
       },
     });
     o.progress?.stop();
@@ -104,7 +111,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
     // Trends and spectra need every shard's results: a shard leaves them to quern merge.
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
-    const changes = shard ? null : await trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
+    // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them.
+    const changes: TrendsWrite | null = shard ? null : await (await import('./trends/trends.js')).trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
     const compacted = await writing(s.own!, () => s.compact());
     const writeS = clock(t);

@@ -17,6 +17,7 @@ import type { TrendsWrite } from '../trends/trends.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
+import type { Located } from '../store/pack.js';
 
 /** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
 export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string }
@@ -37,22 +38,32 @@ export function tableColumns(spec: ReductionSpec, labels: string[]): TableColumn
   ];
 }
 
+/** A recording of the outputs: where its entry lies, and its group's labels. */
+export interface OutputItem { recording: string; loc: Located; labels: Record<string, string> }
+
 export interface OutputsInput {
   /** Every recording of the outputs, in table order (by recording), with where its entry lies and its group's labels. */
-  items: SliceItem[];
+  items: OutputItem[];
   spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
   pool: Pool;
   /** What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. */
   changes?: TrendsWrite | null;
 }
 
+const COMMA = 0x2c;
+
 /** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
 export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
 
-/** Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small. */
-function slices(items: SliceItem[], { maxItems = 250, maxBytes = 256 << 10 } = {}): SliceItem[][] {
-  const out: SliceItem[][] = [];
-  let current: SliceItem[] = [], bytes = 0;
+/**
+ * Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small; never
+ * fewer than `perThread` slices a thread while there are recordings enough, so a small run's slices use every thread too.
+ */
+function slices(items: OutputItem[], { threads = 1, perThread = 2, maxItems = 250, maxBytes = 256 << 10 } = {}): OutputItem[][] {
+  const total = items.reduce((s, it) => s + it.loc.length, 0);
+  maxBytes = Math.max(1, Math.min(maxBytes, Math.ceil(total / (threads * perThread))));
+  const out: OutputItem[][] = [];
+  let current: OutputItem[] = [], bytes = 0;
   for (const it of items) {
     if (current.length && (current.length >= maxItems || bytes + it.loc.length > maxBytes)) { out.push(current); current = []; bytes = 0; }
     current.push(it);
@@ -102,7 +113,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
       // Each part comes after a separator; the very first one's is dropped.
-      if (s.recordings) await spools.quality.write(counted.recordings ? s.quality : s.quality.replace(/^,/, ''));
+      if (s.recordings) await spools.quality.write(counted.recordings || s.quality[0] !== COMMA ? s.quality : s.quality.subarray(1));
       counted.recordings += s.recordings;
       addTotals(totals, s.totals);
       summary.failCount += s.failCount;
@@ -118,9 +129,10 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       }
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
-    const task = (items: SliceItem[]): SliceTask => ({ items, spec: o.spec, tables, metadata: o.metadata });
+    // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
+    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, tables, metadata: o.metadata });
     const pending: Promise<SliceOutput>[] = [];
-    const all = slices(o.items);
+    const all = slices(o.items, { threads: o.pool.threads });
     let next = 0;
     const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
     launch();
@@ -142,7 +154,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       for (const f of [spools.overview, spools.fail, spools.warn, spools.notes]) await f.close({ durable: false });
       // Pictures for the first channels, unusable ones first: fetched from the entries by a worker.
       const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
-      const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured.map((p) => ({ loc: p.loc, channel: p.channel }))) : [];
+      const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured) : [];
       const names = [...channelNames];
       await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, o.changes?.outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');

@@ -1,35 +1,37 @@
 // In a worker: a slice of the run's recordings (consecutive in table order) read back from the packs and assembled into
 // Arrow batches for every table, quality.json parts and quality.html pieces, so the main thread only puts them in order.
-import { open, type FileHandle } from 'node:fs/promises';
 import * as arrow from 'apache-arrow';
 import type { ReductionSpec } from '../../spec/reduction.js';
-import { assembleRecording } from '../reduce/assemble.js';
-import type { FeatureRow } from '../reduce/result.js';
-import { readRecord, type Located } from '../store/pack.js';
-import { decodeResults, joinEntry, recordBody } from '../store/record.js';
-import { toArrowTable, type TableColumn } from './parquet.js';
+import { assembleRecording, assemblyOf } from '../reduce/assemble.js';
+import { RecordReader, type Place } from '../store/pack.js';
+import { decodeResults, joinEntry, recordBody, recordFacts } from '../store/record.js';
+import type { TableColumn } from './parquet.js';
+import { TableRows } from './table-rows.js';
 import { countRecording, emptyTotals, failLines, MAX_FAIL_LINES, qualityRecording, type QualityTotals } from './quality.js';
 import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
 import { channelSection, MAX_PICTURED, noteLine, overviewRow } from './report-html.js';
 import { jsonPieces } from './staged.js';
+import { TextBytes } from './text-bytes.js';
 
-export interface SliceItem { loc: Located; labels: Record<string, string> }
+/** A recording of the slice: where its entry lies, and its group's labels. */
+export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
 export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; tables: Record<string, TableColumn[]>; metadata: Record<string, string> }
 
 /** A channel that may be pictured: the first few not ok of the whole run, unusable ones first, are. */
-export interface Candidate { loc: Located; channel: string }
+export interface Candidate { at: Place; recording: string; channel: string }
 
+/** The slice's texts and tables travel as bytes, moved to the main thread rather than copied. */
 export interface SliceOutput {
   /** Arrow IPC stream of each table's rows (features and every secondary table); null where the slice has none. */
   tables: Record<string, Uint8Array | null>;
-  /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as one text. */
-  quality: string;
+  /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as UTF-8. */
+  quality: Uint8Array;
   recordings: number;
-  /** quality.html pieces as JSON lines: overview rows, and the sections of channels that fail and that warn. */
-  overview: string;
-  sections: { fail: string; warn: string };
-  /** quality.html rows of the notes on channels otherwise ok, as JSON lines. */
-  notes: string;
+  /** quality.html pieces as JSON lines (UTF-8): overview rows, and the sections of channels that fail and that warn. */
+  overview: Uint8Array;
+  sections: { fail: Uint8Array; warn: Uint8Array };
+  /** quality.html rows of the notes on channels otherwise ok, as JSON lines (UTF-8). */
+  notes: Uint8Array;
   /** Per severity, the slice's first channels that may be pictured, and how many sections there are. */
   candidates: { fail: Candidate[]; warn: Candidate[] };
   counts: { fail: number; warn: number };
@@ -41,63 +43,72 @@ export interface SliceOutput {
   channels: string[];
 }
 
-async function withHandles<T>(fn: (read: (loc: Located) => Promise<Buffer>) => Promise<T>): Promise<T> {
-  const handles = new Map<string, FileHandle>();
+async function withRecords<T>(fn: (read: (at: Place, recording: string) => Buffer) => Promise<T>): Promise<T> {
+  const records = new RecordReader();
   try {
-    return await fn(async (loc) => readRecord(handles.get(loc.file) ?? handles.set(loc.file, await open(loc.file, 'r')).get(loc.file)!, loc));
+    return await fn((at, recording) => records.read(at, recording));
   } finally {
-    for (const fh of handles.values()) await fh.close();
+    records.close();
   }
 }
 
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
-  const rows: Record<string, FeatureRow[]> = Object.fromEntries(Object.keys(task.tables).map((t) => [t, []]));
-  const out: SliceOutput = { tables: {}, quality: '', recordings: 0, overview: '', sections: { fail: '', warn: '' }, notes: '', candidates: { fail: [], warn: [] }, counts: { fail: 0, warn: 0 }, totals: emptyTotals(), failLines: [], failCount: 0, channels: [] };
+  // Rows go to columns as they are made: no row objects stay on the heap meanwhile.
+  const rows = Object.fromEntries(Object.entries(task.tables).map(([t, columns]) => [t, new TableRows(columns)]));
+  const candidates: SliceOutput['candidates'] = { fail: [], warn: [] }, counts = { fail: 0, warn: 0 }, totals = emptyTotals(), fails: string[] = [];
+  let failCount = 0, recordings = 0;
   const names = new Set<string>();
-  const quality: string[] = [], overview: string[] = [], sections = { fail: [] as string[], warn: [] as string[] }, notes: string[] = [];
-  await withHandles(async (read) => {
-    for (const { loc, labels } of task.items) {
-      const entry = joinEntry(loc.facts, decodeResults(recordBody(await read(loc))));
-      const r = assembleRecording(entry, labels, task.spec);
-      rows.features.push(...r.rows);
-      for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].push(row);
+  // Texts go to bytes piece by piece, so nothing the size of the slice stays on the heap as strings.
+  const quality = new TextBytes(), overview = new TextBytes(), sections = { fail: new TextBytes(4 << 10), warn: new TextBytes(4 << 10) }, notes = new TextBytes(4 << 10);
+  const assembly = assemblyOf(task.spec);
+  await withRecords(async (read) => {
+    for (const { at, recording, labels } of task.items) {
+      const record = read(at, recording);
+      const entry = joinEntry(recordFacts(record), decodeResults(recordBody(record)));
+      const r = assembleRecording(entry, labels, task.spec, assembly);
+      for (const row of r.rows) rows.features.add(row);
+      for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].add(row);
       const q = qualityRecording(r);
-      quality.push(jsonPieces.item(JSON.stringify(q, null, 2), 1));
-      countRecording(out.totals, q);
-      overview.push(JSON.stringify(overviewRow(q)));
+      quality.add(jsonPieces.item(JSON.stringify(q, null, 2), 1));
+      recordings++;
+      countRecording(totals, q);
+      overview.add(JSON.stringify(overviewRow(q)) + '\n');
       const lines = failLines(q);
-      out.failCount += lines.length;
-      out.failLines.push(...lines.slice(0, MAX_FAIL_LINES - out.failLines.length));
+      failCount += lines.length;
+      fails.push(...lines.slice(0, MAX_FAIL_LINES - fails.length));
       for (const c of q.channels) names.add(c.channel);
       for (const c of q.channels) {
         if (!NEEDS_A_LOOK.has(c.severity)) {
-          for (const f of c.flags) if (f.severity === 'note') notes.push(JSON.stringify(noteLine(q.recording, c.channel, f)));
+          for (const f of c.flags) if (f.severity === 'note') notes.add(JSON.stringify(noteLine(q.recording, c.channel, f)) + '\n');
           continue;
         }
         const sev = c.severity as 'fail' | 'warn';
-        sections[sev].push(JSON.stringify(channelSection(q.recording, c)));
-        if (out.counts[sev]++ < MAX_PICTURED) out.candidates[sev].push({ loc, channel: c.channel });
+        sections[sev].add(JSON.stringify(channelSection(q.recording, c)) + '\n');
+        if (counts[sev]++ < MAX_PICTURED) candidates[sev].push({ at, recording, channel: c.channel });
       }
     }
   });
-  out.recordings = quality.length;
-  out.channels = [...names];
-  out.quality = quality.join('');
-  out.overview = overview.map((l) => l + '\n').join('');
-  out.sections = { fail: sections.fail.map((l) => l + '\n').join(''), warn: sections.warn.map((l) => l + '\n').join('') };
-  out.notes = notes.map((l) => l + '\n').join('');
-  for (const [name, columns] of Object.entries(task.tables)) {
-    out.tables[name] = rows[name].length ? arrow.tableToIPC(toArrowTable(columns, rows[name], task.metadata), 'stream') : null;
-  }
-  return out;
+  const tables: SliceOutput['tables'] = {};
+  for (const name of Object.keys(task.tables)) tables[name] = rows[name].length ? arrow.tableToIPC(rows[name].table(task.metadata), 'stream') : null;
+  return {
+    tables, quality: quality.done(), recordings, overview: overview.done(), sections: { fail: sections.fail.done(), warn: sections.warn.done() }, notes: notes.done(),
+    candidates, counts, totals, failLines: fails, failCount, channels: [...names],
+  };
+}
+
+/** The byte arrays of a slice's output that own their memory whole, to move rather than copy. */
+export function sliceBuffers(s: SliceOutput): ArrayBuffer[] {
+  const all = [...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes];
+  const own = all.filter((b): b is Uint8Array => !!b && b.byteOffset === 0 && b.byteLength === b.buffer.byteLength && b.buffer instanceof ArrayBuffer);
+  return [...new Set(own.map((b) => b.buffer as ArrayBuffer))];
 }
 
 /** The stored pictures of the channels the report shows them for. */
-export async function picturesOf(wanted: { loc: Located; channel: string }[]): Promise<(string[] | null)[]> {
-  return withHandles(async (read) => {
+export async function picturesOf(wanted: Candidate[]): Promise<(string[] | null)[]> {
+  return withRecords(async (read) => {
     const out: (string[] | null)[] = [];
-    for (const { loc, channel } of wanted) {
-      const results = decodeResults(recordBody(await read(loc)));
+    for (const { at, recording, channel } of wanted) {
+      const results = decodeResults(recordBody(read(at, recording)));
       const c = results.base?.channels.findIndex((x) => x.name === channel) ?? -1;
       const ev = c >= 0 ? results.groups.quality?.evidence[c] : null;
       out.push((ev?.charts as string[] | undefined) ?? null);

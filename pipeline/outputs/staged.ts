@@ -82,6 +82,6 @@ export async function commitAll(files: StagedFile[]): Promise<void> {
 /** A JSON object written in pieces around one long list: the fields before it, then each item, then the fields after it. */
 export const jsonPieces = {
   head: (before: object, key: string) => { const h = JSON.stringify(before, null, 2); return `${h.slice(0, -2)}${h.length > 2 ? ',' : ''}\n  ${JSON.stringify(key)}: [`; },
-  item: (text: string, index: number) => `${index ? ',' : ''}\n    ${text.split('\n').join('\n    ')}`,
+  item: (text: string, index: number) => `${index ? ',' : ''}\n    ${text.replace(/\n/g, '\n    ')}`,
   tail: (items: number, after: object) => `${items ? '\n  ' : ''}]${Object.entries(after).map(([k, v]) => `,\n  ${JSON.stringify(k)}: ${JSON.stringify(v, null, 2).split('\n').join('\n  ')}`).join('')}\n}\n`,
 };

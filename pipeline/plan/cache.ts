@@ -2,12 +2,11 @@
 // group still holds, and the whole stored history. Entries live in packs (pipeline/store/), stored as soon as a batch is done.
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
-import { open, type FileHandle } from 'node:fs/promises';
 import { canonicalJson } from '../declare/declare.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';
-import { readRecord } from '../store/pack.js';
+import { RecordReader } from '../store/pack.js';
 import { decodeResults, joinEntry, recordBody, type CacheEntry } from '../store/record.js';
 import { Store } from '../store/store.js';
 
@@ -17,22 +16,21 @@ const sha = (s: string) => createHash('sha256').update(s).digest('hex');
 
 /** The stored entries of the named recordings, in the order given, read one at a time; damaged or absent ones are passed over. */
 export async function* entriesOf(store: Store, recordings: Iterable<string>): AsyncGenerator<CacheEntry> {
-  const handles = new Map<string, FileHandle>();
+  const records = new RecordReader();
   try {
     for (const r of recordings) {
       const loc = store.get(r);
       if (!loc) continue;
       let entry: CacheEntry;
       try {
-        const fh = handles.get(loc.file) ?? handles.set(loc.file, await open(loc.file, 'r')).get(loc.file)!;
-        entry = joinEntry(loc.facts, decodeResults(recordBody(await readRecord(fh, loc))));
+        entry = joinEntry(loc.facts, decodeResults(recordBody(records.read(loc, loc.facts.recording))));
       } catch {
         continue; // damaged since it was scanned: no history
       }
       yield entry;
     }
   } finally {
-    for (const fh of handles.values()) await fh.close();
+    records.close();
   }
 }
 

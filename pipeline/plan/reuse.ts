@@ -1,23 +1,31 @@
 // Decides, per recording, what a run may reuse from earlier runs and what it must compute, and says why.
-import pLimit from 'p-limit';
+import { eachAtOnce } from '../at-once.js';
 import { declarationKey, hashFile, type Identity } from './cache.js';
 import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
-import type { StoreFacts } from '../reduce/batch.js';
+import type { BatchItem } from '../reduce/batch.js';
+import type { Located } from '../store/pack.js';
 import type { Store } from '../store/store.js';
 
+/** A small record per recording: what to do and why. The worker's job is made from it only when the batch goes out. */
 export interface Decision {
   recording: string;
   /** The recording's group, as its index in the declaration. */
   group: number;
-  /** The job, with the groups to compute (null when the entry is reused whole as it is). */
-  job: RecordingJob | null;
-  /** What the worker needs to store the entry (null when the entry is reused whole as it is). */
-  store: StoreFacts | null;
+  /** The scanned file (path, size, modification time, when they were read). */
+  file: ScannedRecording;
+  /** The content hash taken while deciding, when size and modification time could not be trusted alone. */
+  hash: string | null;
+  /** Hash the content in the worker (a new recording whose modification time is too recent to trust alone, or --hash). */
+  hashContent: boolean;
+  /** The stored entry the reused groups come from; null when everything is computed. */
+  previous: Located | null;
   /** Groups to compute (none: reuse whole). */
   compute: string[];
   reused: string[];
   why: string;
+  /** Whether an entry is stored for it in this run (groups computed, or a restamp); false: the stored entry stands as it is. */
+  stores: boolean;
   /** Nothing to compute, but the entry is stored again under identity facts confirmed now (so later runs need not hash the file). */
   restamp: boolean;
 }
@@ -26,44 +34,79 @@ export interface DecideOptions { version: string; keys: Record<string, string>; 
 
 /** Modification times within this of the read are not trusted alone (file systems keep mtimes as coarse as 2 s). */
 const AMBIGUOUS_MS = 2000;
+/** Content hashes taken at once while deciding. */
+const HASHES_AT_ONCE = 16;
 
 const NONE: string[] = [];
 
-/** Jobs are made (by `jobOf`) only for the recordings that need a worker; the others cost a small decision each. */
-export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedRecording) => RecordingJob, store: Store, o: DecideOptions): Promise<Decision[]> {
+/** What deciding made, and how to turn a decision into the worker's batch item. */
+export interface Decided {
+  decisions: Decision[];
+  /** The job and the storing facts of a recording that needs a worker (made when its batch goes out, dropped after). */
+  itemOf(d: Decision): BatchItem;
+  /** The identity facts confirmed now. */
+  identityOf(d: Decision): Identity;
+}
+
+/** Decides every recording; only those whose stored entry must be held against their content cost a wait (a hash). */
+export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedRecording) => RecordingJob, store: Store, o: DecideOptions): Promise<Decided> {
   const groups = Object.keys(o.keys);
   const declKeys = new Map<number, string>();
-  const limit = pLimit(16); // bounded concurrent hashes
-  return Promise.all(recordings.map((r) => limit(async (): Promise<Decision> => {
-    const { readAtMs } = r;
-    const identity: Identity = { size: r.size, mtimeMs: r.mtimeMs, hash: null };
-    const declKey = declKeys.get(r.group) ?? declKeys.set(r.group, declarationKey(jobOf(r))).get(r.group)!;
+  const declKeyOf = (r: ScannedRecording) => declKeys.get(r.group) ?? declKeys.set(r.group, declarationKey(jobOf(r))).get(r.group)!;
+  const whys = new Map<string, string>(); // the same reason, one string
+  const why = (text: string) => whys.get(text) ?? whys.set(text, text).get(text)!;
+
+  const one = (r: ScannedRecording, hash: string | null): Decision => {
     const previous = o.force ? null : store.get(r.recording) ?? null;
     const entry = previous?.facts;
-    const fresh = identity.mtimeMs >= readAtMs - AMBIGUOUS_MS;
+    const fresh = r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS;
     const wasAmbiguous = !!entry && entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS;
-    // Hashes needed only to compare with a stored entry are taken here; a new recording's is taken in its worker.
-    if (entry && (fresh || o.hash || wasAmbiguous)) identity.hash = await hashFile(r.path);
-    const facts = { identity, hashContent: !entry && (fresh || !!o.hash), readAtMs, declKey, version: o.version, keys: o.keys, specHash: o.specHash };
-    const all = (why: string): Decision => ({ recording: r.recording, group: r.group, job: { ...jobOf(r), groups: null }, store: { ...facts, compute: groups, reused: NONE, previous: null }, compute: groups, reused: NONE, why, restamp: false });
+    const hashContent = !entry && (fresh || !!o.hash);
+    // One shape for every decision: 100,000 of them stay small.
+    const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean): Decision =>
+      ({ recording: r.recording, group: r.group, file: r, hash, hashContent, previous: from, compute, reused, why: why(text), stores, restamp });
+    const all = (text: string) => decision(null, groups, NONE, text, true, false);
     if (o.force) return all('forced (--force)');
     if (!entry) {
       const damage = store.damageOf(r.recording);
       return all(damage ? `stored entry damaged (${damage.problem}); recomputed` : 'new recording');
     }
     if (entry.version !== o.version) return all(`tool version changed (${entry.version} → ${o.version})`);
-    const sameContent = entry.identity.size === identity.size && (identity.hash && entry.identity.hash ? entry.identity.hash === identity.hash : entry.identity.mtimeMs === identity.mtimeMs && !identity.hash);
+    const sameContent = entry.identity.size === r.size && (hash && entry.identity.hash ? entry.identity.hash === hash : entry.identity.mtimeMs === r.mtimeMs && !hash);
     if (!sameContent) return all('content changed (size, modification time or content hash)');
-    if (entry.declKey !== facts.declKey) return all('declaration changed');
+    if (entry.declKey !== declKeyOf(r)) return all('declaration changed');
     // Confirmed by content now that the modification time can be trusted: store the entry again so later runs need not hash.
     const restamp = wasAmbiguous && !fresh;
-    const keep = (compute: string[], reused: string[], why: string): Decision => (compute.length || restamp
-      ? { recording: r.recording, group: r.group, job: { ...jobOf(r), groups: compute }, store: { ...facts, compute, reused, previous }, compute, reused, why, restamp: compute.length === 0 }
-      : { recording: r.recording, group: r.group, job: null, store: null, compute: NONE, reused, why, restamp: false });
+    const keep = (compute: string[], reused: string[], text: string) => (compute.length || restamp
+      ? decision(previous, compute, reused, text, true, compute.length === 0)
+      : decision(null, NONE, reused, text, false, false));
     if (entry.status === 'failed') {
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }
     const stale = groups.filter((g) => entry.groupKeys[g] !== o.keys[g]);
     return stale.length ? keep(stale, groups.filter((g) => !stale.includes(g)), `spec changed for ${stale.join(', ')}`) : keep(NONE, groups, 'unchanged');
-  })));
+  };
+
+  // Hashes needed only to compare with a stored entry are taken here; a new recording's is taken in its worker.
+  const needsHash = (r: ScannedRecording) => {
+    const entry = o.force ? undefined : store.get(r.recording)?.facts;
+    return !!entry && (r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS || !!o.hash || entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS);
+  };
+  const decisions: Decision[] = new Array(recordings.length);
+  const hashing: number[] = [];
+  recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else decisions[i] = one(r, null); });
+  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { decisions[i] = one(recordings[i], await hashFile(recordings[i].path)); });
+
+  const identityOf = (d: Decision): Identity => ({ size: d.file.size, mtimeMs: d.file.mtimeMs, hash: d.hash });
+  return {
+    decisions,
+    identityOf,
+    itemOf: (d) => ({
+      job: { ...jobOf(d.file), groups: d.previous ? d.compute : null },
+      store: {
+        identity: identityOf(d), hashContent: d.hashContent, readAtMs: d.file.readAtMs, declKey: declKeyOf(d.file), version: o.version, keys: o.keys,
+        specHash: o.specHash, compute: d.compute, reused: d.reused, previous: d.previous,
+      },
+    }),
+  };
 }

@@ -5,8 +5,19 @@ import { worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
+/** What assembling needs from the spec, made once for many recordings: the groups it asks for and a row of its feature columns, all null. */
+export interface Assembly { active: ReadonlySet<string>; blank: ColumnValues }
+
+export function assemblyOf(spec: RecordingJob['spec']): Assembly {
+  return {
+    active: new Set(activeStages(spec).map((s) => s.definition.group)),
+    // Every feature column appears in every row: null where a stage did not apply to the channel.
+    blank: Object.fromEntries(featureColumns(spec).map((col) => [col.name, null])),
+  };
+}
+
 /** One row per channel, secondary tables and the quality verdict, from a recording's group outputs. */
-export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec']): RecordingResult {
+export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec'], { active, blank }: Assembly = assemblyOf(spec)): RecordingResult {
   const result: RecordingResult = {
     recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [], tables: {}, quality: [],
     frames: o.base?.frames ?? 0, sampleRate: o.base?.sampleRate ?? null, header: o.base?.header, seconds: o.seconds,
@@ -14,12 +25,9 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   if (o.status === 'failed' || !o.base) return result;
   const base = o.base;
   // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
-  const active = new Set(activeStages(spec).map((s) => s.definition.group));
   const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
   result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
   for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
-  // Every feature column appears in every row: null where a stage did not apply to the channel.
-  const blank: ColumnValues = Object.fromEntries(featureColumns(spec).map((col) => [col.name, null]));
   const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
   result.rows = base.channels.map((ch, c) => {
     const flags = o.groups.quality?.flags[c] ?? [];

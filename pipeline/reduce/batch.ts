@@ -1,10 +1,12 @@
 // Small recordings travel in batches: one worker task, one message and one pack write for many recordings.
 // The worker reduces each recording of a batch in turn and returns each one's record, ready to append to the pack.
-import { open, type FileHandle } from 'node:fs/promises';
+import { eachAtOnce } from '../at-once.js';
 import { hashFile } from '../plan/cache.js';
 import type { RecordingJob } from '../plan/plan.js';
-import { readRecord, type Located } from '../store/pack.js';
+import { RecordReader } from '../store/pack.js';
+import type { Located } from '../store/pack.js';
 import { decodeResults, encodeRecord, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
+import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
 import type { RecordingOutput } from './result.js';
 
@@ -44,9 +46,12 @@ const IN_FLIGHT = 8;
 
 /** Reduces a batch (in a worker): each recording read once, its entry encoded with its checksums. */
 export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
-  // One handle a pack for the whole batch.
-  const handles = new Map<string, Promise<FileHandle>>();
-  const previousRecord = async (loc: Located) => readRecord(await (handles.get(loc.file) ?? handles.set(loc.file, open(loc.file, 'r')).get(loc.file)!), loc);
+  // The stages a spec turns on, made once for the batch (its recordings share one spec).
+  const stagesOf = new Map<RecordingJob['spec'], ActiveStage[]>();
+  const active = (job: RecordingJob) => stagesOf.get(job.spec) ?? stagesOf.set(job.spec, activeStages(job.spec)).get(job.spec)!;
+  // One descriptor a pack for the whole batch.
+  const records = new RecordReader();
+  const previousRecord = (loc: Located) => records.read(loc, loc.facts.recording);
   const one = async ({ job, store: s }: BatchItem): Promise<BatchResult> => {
     const identity = { ...s.identity };
     if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
@@ -54,16 +59,16 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
     if (s.compute.length === 0 && s.previous) {
       // Nothing to compute: the same results, stored again under the identity just confirmed.
       const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
-      return { facts, bytes: encodeRecord(facts, recordBody(await previousRecord(s.previous))) };
+      return { facts, bytes: encodeRecord(facts, recordBody(previousRecord(s.previous))) };
     }
-    const fresh = await computeRecording(job);
+    const fresh = await computeRecording(job, active(job));
     let previous: CacheEntry | null = null;
     if (s.previous && s.reused.length && fresh.status === 'reduced') {
-      try { previous = { ...s.previous.facts, ...decodeResults(recordBody(await previousRecord(s.previous))) }; } catch { previous = null; }
+      try { previous = { ...s.previous.facts, ...decodeResults(recordBody(previousRecord(s.previous))) }; } catch { previous = null; }
     }
     if (s.reused.length && !previous && fresh.status === 'reduced') {
       // The stored groups could not be read back: compute every group.
-      const whole = await computeRecording({ ...job, groups: null });
+      const whole = await computeRecording({ ...job, groups: null }, active(job));
       return encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt);
     }
     return encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt);
@@ -71,15 +76,26 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   try {
     // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
     const out: BatchResult[] = new Array(items.length);
-    let next = 0;
-    await Promise.all(Array.from({ length: Math.min(IN_FLIGHT, items.length) }, async () => {
-      while (next < items.length) { const i = next++; out[i] = await one(items[i]); }
-    }));
-    return out;
+    await eachAtOnce(items, IN_FLIGHT, async (item, i) => { out[i] = await one(item); });
+    return together(out);
   } finally {
-    for (const fh of handles.values()) await (await fh.catch(() => null))?.close();
+    records.close();
   }
 }
+
+/** The batch's records laid one after another in one array of their own, as they will lie in the pack: one piece of memory to move and write. */
+function together(results: BatchResult[]): BatchResult[] {
+  const all = new Uint8Array(results.reduce((n, r) => n + r.bytes.length, 0));
+  let at = 0;
+  return results.map(({ facts, bytes }) => {
+    all.set(bytes, at);
+    at += bytes.length;
+    return { facts, bytes: all.subarray(at - bytes.length, at) };
+  });
+}
+
+/** The memory a batch's records lie in (to move it to the main thread rather than copy it). */
+export const batchBuffers = (results: BatchResult[]): ArrayBuffer[] => (results.length ? [results[0].bytes.buffer as ArrayBuffer] : []);
 
 function encode(entry: CacheEntry, storedAt: number): BatchResult {
   const { facts, results } = splitEntry(entry, storedAt);

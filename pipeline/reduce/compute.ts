@@ -1,7 +1,7 @@
 // Reduces one recording: read it once, feed every stage of every channel, keep each feature group's output apart
 // (so a re-run can reuse some groups and recompute others).
 import picomatch from 'picomatch';
-import { activeStages } from '../../stages/index.js';
+import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
@@ -56,8 +56,8 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
   }
 }
 
-/** Reduces the feature groups the job names (all when it names none), reading the recording once. */
-export async function computeRecording(job: RecordingJob): Promise<RecordingOutput> {
+/** Reduces the feature groups the job names (all when it names none), reading the recording once; `active` is the spec's stages, made once for many recordings. */
+export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec)): Promise<RecordingOutput> {
   const t0 = performance.now();
   const out: RecordingOutput = { recording: job.recording, group: job.group, status: 'failed', base: null, groups: {}, seconds: 0 };
   let rec: Recording | null = null;
@@ -66,7 +66,7 @@ export async function computeRecording(job: RecordingJob): Promise<RecordingOutp
     rec = opened.rec;
     const r = rec;
     const channels = opened.channels;
-    const stages = activeStages(job.spec).filter((s) => !job.groups || job.groups.includes(s.definition.group));
+    const stages = active.filter((s) => !job.groups || job.groups.includes(s.definition.group));
     const outputOf = (group: string) => (out.groups[group] ??= {
       columns: channels.map(() => ({})), flags: channels.map(() => []), evidence: channels.map(() => null), tables: {}, notes: [],
     });

@@ -3,6 +3,7 @@ import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { eachAtOnce } from '../at-once.js';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { encodeRecord } from '../store/record.js';
@@ -37,44 +38,54 @@ export function openPool(threads = availableParallelism()): Pool {
  * Up to `maxFiles` recordings or `maxBytes` of them a batch, largest first, so the pool ends evenly; never fewer than
  * `perThread` batches a thread while there are recordings enough, so small archives still use every thread.
  */
-export function formBatches<T extends { store: { identity: { size: number } } }>(items: T[], { threads = 1, perThread = 4, maxFiles = 64, maxBytes = 4 << 20 } = {}): T[][] {
-  const total = items.reduce((s, it) => s + it.store.identity.size, 0);
+export function formBatches<T>(items: T[], sizeOf: (item: T) => number, { threads = 1, perThread = 4, maxFiles = 64, maxBytes = 4 << 20 } = {}): T[][] {
+  const total = items.reduce((s, it) => s + sizeOf(it), 0);
   maxFiles = Math.max(1, Math.min(maxFiles, Math.ceil(items.length / (threads * perThread))));
   maxBytes = Math.max(1, Math.min(maxBytes, Math.ceil(total / (threads * perThread))));
-  const sorted = [...items].sort((a, b) => b.store.identity.size - a.store.identity.size);
+  const sorted = [...items].sort((a, b) => sizeOf(b) - sizeOf(a));
   const out: T[][] = [];
   let current: T[] = [], bytes = 0;
   for (const it of sorted) {
-    if (current.length && (current.length >= maxFiles || bytes + it.store.identity.size > maxBytes)) { out.push(current); current = []; bytes = 0; }
+    if (current.length && (current.length >= maxFiles || bytes + sizeOf(it) > maxBytes)) { out.push(current); current = []; bytes = 0; }
     current.push(it);
-    bytes += it.store.identity.size;
+    bytes += sizeOf(it);
   }
   if (current.length) out.push(current);
   return out;
 }
 
-export interface ReduceOptions {
+export interface ReduceOptions<T> {
+  /** A recording's size in bytes, to form batches. */
+  sizeOf: (work: T) => number;
+  /** The worker's job and storing facts of a recording, made when its batch goes out. */
+  itemOf: (work: T) => BatchItem;
   /** Called with each finished batch, in the order they finish (store them, report progress). */
-  onBatch: (results: BatchResult[], items: BatchItem[]) => Promise<void>;
+  onBatch: (results: BatchResult[], work: T[]) => Promise<void>;
 }
 
-/** Reduces every item in batches; a worker that dies fails only the recordings of its batch. */
-export async function reduceAll(pool: Pool, items: BatchItem[], { onBatch }: ReduceOptions): Promise<void> {
+/** Batches given to the pool at once, a thread: enough that no thread waits for the next, few enough that memory stays flat. */
+const BATCHES_IN_FLIGHT = 2;
+
+/** Reduces every recording in batches; a worker that dies fails only the recordings of its batch. */
+export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch }: ReduceOptions<T>): Promise<void> {
   let failure: unknown = null;
-  await Promise.all(formBatches(items, { threads: pool.threads }).map(async (batch) => {
+  const batches = formBatches(work, sizeOf, { threads: pool.threads });
+  const one = async (batch: T[]) => {
+    const items = batch.map(itemOf);
     let results: BatchResult[];
     try {
-      results = await pool.run<BatchResult[]>('reduceBatch', batch);
+      results = await pool.run<BatchResult[]>('reduceBatch', items);
     } catch (e) {
       // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
       results = [];
-      for (const item of batch) {
+      for (const item of items) {
         try { results.push(...await pool.run<BatchResult[]>('reduceBatch', [item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
     if (failure) return;
     try { await onBatch(results, batch); } catch (e) { failure ??= e; }
-  }));
+  };
+  await eachAtOnce(batches, pool.threads * BATCHES_IN_FLIGHT, one, () => !!failure);
   if (failure) throw failure;
 }
 

@@ -2,6 +2,7 @@
 import { readdir, stat } from 'node:fs/promises';
 import { join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
+import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/open.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
@@ -22,11 +23,14 @@ export interface ScanResult { recordings: ScannedRecording[]; unmatched: string[
 
 export interface ScanOptions { exclude?: string[] }
 
+/** Files stat'ed at once. */
+const STATS_AT_ONCE = 32;
+
 export async function scan(archive: string, declaration: ArchiveDeclaration, { exclude = [] }: ScanOptions = {}): Promise<ScanResult> {
   const root = resolve(archive);
   const skip = new Set(exclude.map((p) => resolve(p)));
   const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
-  const recordings: ScannedRecording[] = [];
+  const found: { recording: string; path: string; group: number }[] = [];
   const unmatched: string[] = [];
   let otherFiles = 0;
   async function walk(dir: string): Promise<void> {
@@ -45,10 +49,15 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
         if (formatOf(rel) && !rel.toLowerCase().endsWith('.txt')) unmatched.push(rel); else otherFiles++;
         continue;
       }
-      const s = await stat(path);
-      recordings.push({ recording: rel, path, group, size: s.size, mtimeMs: s.mtimeMs, readAtMs: Date.now() });
+      found.push({ recording: rel, path, group });
     }
   }
   await walk(root);
+  // Sizes and modification times, several at once: a stat waits on the file system, not on this thread.
+  const recordings: ScannedRecording[] = new Array(found.length);
+  await eachAtOnce(found, STATS_AT_ONCE, async ({ recording, path, group }, i) => {
+    const s = await stat(path);
+    recordings[i] = { recording, path, group, size: s.size, mtimeMs: s.mtimeMs, readAtMs: Date.now() };
+  });
   return { recordings, unmatched, otherFiles };
 }

@@ -1,10 +1,14 @@
 // A pack: stored entries appended one after another in one file (see record.ts), read back in one sequential pass.
 // A damaged stretch (bad checksum, lying length, cut-off end) is reported and skipped: reading resumes at the next sound record.
+import { closeSync, openSync, readSync } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
 import { HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
 
+/** Where a record lies, and the checksum of its results: enough to read it back and check it. */
+export interface Place { file: string; offset: number; length: number; bodySha: string }
+
 /** Where a sound record lies, and its facts. */
-export interface Located { file: string; offset: number; length: number; bodySha: string; facts: EntryFacts }
+export interface Located extends Place { facts: EntryFacts }
 
 /** A stretch of a pack that is not a sound record. */
 export interface Damage { file: string; offset: number; length: number; recording: string | null; problem: string }
@@ -96,10 +100,33 @@ export async function scanPack(file: string, onRecord: (r: Located) => void): Pr
 export async function readRecord(fh: FileHandle, loc: Located): Promise<Buffer> {
   const bytes = Buffer.allocUnsafe(loc.length);
   const { bytesRead } = await fh.read(bytes, 0, loc.length, loc.offset);
-  const metaLength = bytes.readUInt32LE(4);
+  return checked(bytes, bytesRead, loc, loc.facts.recording);
+}
+
+function checked(bytes: Buffer, bytesRead: number, loc: Place, recording: string): Buffer {
+  const metaLength = bytesRead >= HEADER_BYTES ? bytes.readUInt32LE(4) : 0;
   const body = bytes.subarray(HEADER_BYTES + metaLength);
   if (bytesRead < loc.length || bytes.readUInt32LE(0) !== MAGIC || sha256(body).toString('hex') !== loc.bodySha) {
-    throw new Error(`${loc.file}: the stored entry of ${loc.facts.recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+    throw new Error(`${loc.file}: the stored entry of ${recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
   }
   return bytes;
+}
+
+/**
+ * Records read one after another where nothing else waits on the thread (a worker, a pass over the history): one
+ * descriptor a pack, each record in one blocking positioned read, checked against its checksums.
+ */
+export class RecordReader {
+  private fds = new Map<string, number>();
+  read(loc: Place, recording: string): Buffer {
+    const fd = this.fds.get(loc.file) ?? this.fds.set(loc.file, openSync(loc.file, 'r')).get(loc.file)!;
+    const bytes = Buffer.allocUnsafe(loc.length);
+    let got = 0;
+    for (let n = 1; got < loc.length && n > 0; got += n) n = readSync(fd, bytes, got, loc.length - got, loc.offset + got);
+    return checked(bytes, got, loc, recording);
+  }
+  close(): void {
+    for (const fd of this.fds.values()) closeSync(fd);
+    this.fds.clear();
+  }
 }

@@ -82,6 +82,12 @@ export const recordBody = (record: Uint8Array) => {
   return b.subarray(HEADER_BYTES + metaLength);
 };
 
+/** The facts of a record. */
+export const recordFacts = (record: Uint8Array): EntryFacts => {
+  const b = Buffer.from(record.buffer, record.byteOffset, record.byteLength);
+  return JSON.parse(b.toString('utf8', HEADER_BYTES, HEADER_BYTES + b.readUInt32LE(4)));
+};
+
 export const decodeResults = (body: Uint8Array): EntryResults => JSON.parse(inflateRawSync(body).toString('utf8'));
 
 export const joinEntry = (facts: EntryFacts, results: EntryResults): CacheEntry => ({ ...facts, ...results });

@@ -25,6 +25,14 @@ function interner(): (f: EntryFacts) => void {
   };
 }
 
+/** The pieces as one view when they already lie one after another in one piece of memory (a batch's records do). */
+function contiguous(pieces: Uint8Array[]): Buffer | null {
+  const first = pieces[0];
+  let end = first.byteOffset;
+  for (const p of pieces) { if (p.buffer !== first.buffer || p.byteOffset !== end) return null; end += p.byteLength; }
+  return Buffer.from(first.buffer, first.byteOffset, end - first.byteOffset);
+}
+
 export class Store {
   private fh: FileHandle | null = null;
   private end = 0;
@@ -91,7 +99,7 @@ export class Store {
       this.fh = await open(this.own, 'a');
       this.end = (await this.fh.stat()).size;
     }
-    const data = Buffer.concat(records.map((r) => r.bytes));
+    const data = contiguous(records.map((r) => r.bytes)) ?? Buffer.concat(records.map((r) => r.bytes));
     let offset = this.end;
     // Advance the end before writing: a failed write leaves a cut-off stretch that readers skip and report.
     this.end += data.length;

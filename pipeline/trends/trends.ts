@@ -10,14 +10,12 @@ import { entriesOf, everyEntry, type CacheEntry } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
-import { changesHtml } from '../outputs/report-changes.js';
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
 import { readHistory } from './history.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
 import { SPECTRA_TABLE, TRENDS_TABLE } from './tables.js';
-import { columnBatches, writeStreamedTable } from './write.js';
 
 export interface TrendsOutcome { report: ChangesReport; html: string }
 
@@ -78,6 +76,8 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
   const digest = trendsDigest(spec, o.store, inRun, o.metadata);
   const kept = await stillCurrent(out, digest);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
+  // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
+  const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
   const spectra = new StagedFile(join(out, 'spectra.parquet')), trendsFile = new StagedFile(join(out, 'trends.parquet'));
   const files: StagedFile[] = [];
   try {

@@ -1,9 +1,9 @@
 // FLAC reader (RFC 9639): STREAMINFO and Vorbis comment up front, then frames decoded one at a time from a bounded window
 // of the file, each checked by its CRCs, and the whole stream by STREAMINFO's MD5 signature of the samples.
 import { createHash } from 'node:crypto';
-import { open } from 'node:fs/promises';
 import { decodeFrame, FrameError, maxFrameBytes, type StreamParams } from './flac-frame.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { openSource } from './source.js';
 
 /** How a group's FLAC files are read: the Vorbis comment tag holding the start time, when one is declared. */
 export interface FlacOptions { start_time_tag: string | null }
@@ -59,9 +59,9 @@ function tagStartTime(tags: Map<string, string>, tag: string): Date {
 }
 
 export async function openFlac(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, options = null as FlacOptions | null } = {}): Promise<Recording> {
-  const file = await open(path, 'r');
+  const file = await openSource(path);
   try {
-    const size = (await file.stat()).size;
+    const size = file.size;
     const readAt = async (at: number, length: number) => {
       const b = Buffer.alloc(Math.max(0, Math.min(length, size - at)));
       await file.read(b, 0, b.length, at);

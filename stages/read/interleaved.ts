@@ -1,7 +1,7 @@
 // Interleaved binary frames (WAV data chunks, raw acquisition files) → per-channel chunks.
-import type { FileHandle } from 'node:fs/promises';
 import { endianness } from 'node:os';
 import { RecordingError } from './recording.js';
+import type { ByteReader } from './source.js';
 
 export type SampleType = 'uint8' | 'int16' | 'int24' | 'int32' | 'float32' | 'float64';
 export type ByteOrder = 'little' | 'big';
@@ -37,7 +37,7 @@ function decoder(type: SampleType, little: boolean): SampleDecoder {
 }
 
 /** Streams the frames of an open file in chunks of at most chunkFrames, reusing its buffers. */
-export async function* readInterleaved(file: FileHandle, layout: InterleavedLayout, chunkFrames: number, where: string): AsyncGenerator<Float64Array[]> {
+export async function* readInterleaved(file: ByteReader, layout: InterleavedLayout, chunkFrames: number, where: string): AsyncGenerator<Float64Array[]> {
   const width = layout.custom?.width ?? BYTES[layout.sampleType];
   const frameBytes = width * layout.channels;
   const buffer = Buffer.alloc(chunkFrames * frameBytes);

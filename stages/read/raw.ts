@@ -1,14 +1,14 @@
 // Raw interleaved binary: the layout (sample type, byte order, channels, header bytes) is declared, not read.
-import { open } from 'node:fs/promises';
 import { BYTES, readInterleaved, type ByteOrder, type SampleType } from './interleaved.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { openSource } from './source.js';
 
 export interface RawLayout { sample_type: SampleType; byte_order: ByteOrder; channels: number; header_bytes: number }
 
 export async function openRaw(path: string, layout: RawLayout, sampleRate: number, { chunkFrames = DEFAULT_CHUNK_FRAMES } = {}): Promise<Recording> {
-  const file = await open(path, 'r');
+  const file = await openSource(path);
   try {
-    const size = (await file.stat()).size;
+    const size = file.size;
     checkChannelCount(layout.channels, 'layout');
     const frameBytes = BYTES[layout.sample_type] * layout.channels;
     if (size < layout.header_bytes) throw new RecordingError(`byte ${size}: the file is shorter than its declared ${layout.header_bytes}-byte header; check layout.header_bytes or the file`);

@@ -1,8 +1,8 @@
 // WAV/RIFF reader: RIFF (little-endian), RIFX (big-endian), RF64 and BW64 (64-bit sizes in a ds64 chunk: EBU Tech 3306,
 // ITU-R BS.2088); PCM of 1–64 bits, IEEE float 32/64, G.711 µ-law and A-law, WAVE_FORMAT_EXTENSIBLE; Broadcast Wave start time.
-import { open, type FileHandle } from 'node:fs/promises';
 import { readInterleaved } from './interleaved.js';
 import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { openSource, type ByteReader } from './source.js';
 import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-encoding.js';
 
 // Broadcast Wave (EBU Tech 3285): OriginationDate at byte 320 ("yyyy-mm-dd", any separator), OriginationTime at 330 ("hh:mm:ss").
@@ -51,7 +51,7 @@ function parseDs64(b: Buffer, at: number): { dataSize: number; table: Map<string
 }
 
 /** Reads and checks every header field; the samples stay on disk. */
-export async function readWavHeader(file: FileHandle, size: number): Promise<WavHeader> {
+export async function readWavHeader(file: ByteReader, size: number): Promise<WavHeader> {
   // One read of the first 64 KiB holds the header chunks of nearly every file; later chunk headers are read where they lie.
   const head = Buffer.alloc(Math.min(size, 65536));
   await file.read(head, 0, head.length, 0);
@@ -114,9 +114,9 @@ export async function readWavHeader(file: FileHandle, size: number): Promise<Wav
 }
 
 export async function openWav(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES } = {}): Promise<Recording> {
-  const file = await open(path, 'r');
+  const file = await openSource(path);
   try {
-    const h = await readWavHeader(file, (await file.stat()).size);
+    const h = await readWavHeader(file, file.size);
     const e = h.encoding;
     const frames = boundedChunkFrames(chunkFrames, h.fmt.channels, h.frameBytes);
     return {
