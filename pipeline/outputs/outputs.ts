@@ -15,6 +15,7 @@ import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './q
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
 import type { TrendsWrite } from '../trends/trends.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
+import { ownBuffers, release } from '../store/release.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 import type { Located } from '../store/pack.js';
@@ -139,7 +140,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     while (pending.length) {
       const s = await pending.shift()!;
       launch();
-      await take(s);
+      try { await take(s); } finally { release(ownBuffers([...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes])); }
     }
     for (const p of Object.values(parquet)) await p.finish();
 

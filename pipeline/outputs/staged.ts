@@ -36,7 +36,8 @@ export class StagedFile {
   }
 
   async write(data: string | Uint8Array): Promise<void> {
-    const b = typeof data === 'string' ? Buffer.from(data) : Buffer.from(data.buffer, data.byteOffset, data.byteLength);
+    // A copy: the caller may give the memory of its pieces back as soon as this returns.
+    const b = Buffer.from(data);
     this.pending.push(b);
     this.pendingBytes += b.length;
     if (this.pendingBytes >= FLUSH_BYTES) await this.flush();

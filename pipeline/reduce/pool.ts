@@ -7,6 +7,7 @@ import { eachAtOnce } from '../at-once.js';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { encodeRecord } from '../store/record.js';
+import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchResult } from './batch.js';
 
 /** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
@@ -73,17 +74,25 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
   const one = async (batch: T[]) => {
     const items = batch.map(itemOf);
     let results: BatchResult[];
+    // The memory the worker moved here, given back once the batch is stored.
+    const moved: ArrayBuffer[] = [];
     try {
       results = await pool.run<BatchResult[]>('reduceBatch', items);
+      moved.push(...ownBuffers(results.map((r) => r.bytes)));
     } catch (e) {
       // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
       results = [];
       for (const item of items) {
-        try { results.push(...await pool.run<BatchResult[]>('reduceBatch', [item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
+        try {
+          const one = await pool.run<BatchResult[]>('reduceBatch', [item]);
+          moved.push(...ownBuffers(one.map((r) => r.bytes)));
+          results.push(...one);
+        } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
-    if (failure) return;
-    try { await onBatch(results, batch); } catch (e) { failure ??= e; }
+    try {
+      if (!failure) await onBatch(results, batch);
+    } catch (e) { failure ??= e; } finally { release(moved); }
   };
   await eachAtOnce(batches, pool.threads * BATCHES_IN_FLIGHT, one, () => !!failure);
   if (failure) throw failure;
