@@ -53,6 +53,14 @@ export interface OutputsInput {
 
 const COMMA = 0x2c;
 
+/** What the digest reads of each item, made one at a time. */
+function* digestItems(items: OutputItem[]) {
+  for (const { loc, labels } of items) {
+    const { recording, group } = loc.facts;
+    yield { recording, group, bodySha: loc.bodySha, labels };
+  }
+}
+
 /** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
 export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
 
@@ -84,7 +92,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const digestPath = join(outDir, names.digest);
   const digest = outputsDigest({
     version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched,
-    items: o.items.map((it) => ({ recording: it.loc.facts.recording, group: it.loc.facts.group, bodySha: it.loc.bodySha, labels: it.labels })),
+    items: digestItems(o.items),
     // The changes rest on the whole history, not only on these items.
     changes: o.changes?.outcome ?? null,
   });

@@ -31,7 +31,8 @@ export function openPool(threads = availableParallelism()): Pool {
   return {
     threads: n,
     run: (name, input) => get().run(input, { name }),
-    destroy: async () => { await pool?.destroy(); },
+    // Safe to call again: the run stops its threads once the outputs are written, and again on its way out.
+    destroy: async () => { const p = pool; pool = null; await p?.destroy(); },
   };
 }
 

@@ -15,6 +15,9 @@ export class StoredEntry implements Located {
   get length(): number { return this.table.length[this.row]; }
   get bodySha(): string { return this.table.bodyShaOf(this.row); }
   get facts(): EntryFacts { return this.table.factsOf(this.row); }
+  /** The entry's status and group, read without making its facts. */
+  get status(): EntryFacts['status'] { return this.table.failed[this.row] ? 'failed' : 'reduced'; }
+  get group(): string { return this.table.groupOf(this.row); }
 }
 
 export class EntryTable {
@@ -71,6 +74,7 @@ export class EntryTable {
   at(row: number): StoredEntry { return new StoredEntry(this, row); }
 
   storedAt(row: number): number { return this.numbers[row * NUMBERS + 7]; }
+  groupOf(row: number): string { return this.values[this.shared[row * SHARED]] as string; }
   fileOf(row: number): string { return this.files[this.file[row]]; }
   bodyShaOf(row: number): string { return Buffer.from(this.sha.buffer, row * SHA_BYTES, SHA_BYTES).toString('hex'); }
 

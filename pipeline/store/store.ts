@@ -60,6 +60,9 @@ export class Store {
 
   get(recording: string): StoredEntry | undefined { return this.table.entry(recording); }
 
+  /** A recording's entry's status, without making its facts. */
+  statusOf(recording: string): 'reduced' | 'failed' | undefined { return this.table.entry(recording)?.status; }
+
   /** A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period. */
   knownStart(recording: string): { size: number; mtimeMs: number; start_ms: number } | undefined {
     const row = this.table.rows.get(recording);
