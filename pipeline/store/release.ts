@@ -23,7 +23,7 @@ export function release(buffers: Iterable<ArrayBuffer>): void {
 export function ownBuffers(views: Iterable<Uint8Array | null | undefined>): ArrayBuffer[] {
   const spans = new Map<ArrayBuffer, [number, number][]>();
   for (const v of views) {
-    if (!v || !(v.buffer instanceof ArrayBuffer)) continue;
+    if (!v || !v.byteLength || !(v.buffer instanceof ArrayBuffer)) continue;
     const list = spans.get(v.buffer) ?? spans.set(v.buffer, []).get(v.buffer)!;
     list.push([v.byteOffset, v.byteOffset + v.byteLength]);
   }
