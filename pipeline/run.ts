@@ -94,9 +94,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
         // Results come back in the batch's order.
-        results.forEach(({ facts }, i) => {
+        results.forEach((r, i) => {
           const d = batch[i];
-          if (d.compute.length) o.progress?.done(facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
+          if (d.compute.length) o.progress?.done(r.facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
         });
       },
     });
