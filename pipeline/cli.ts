@@ -27,6 +27,22 @@ const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings faile
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
+/**
+ * yargs renders the whole help text before it runs a command, to show it should the command fail; quern's failures
+ * print their own message and never the help, so that rendering (some tens of milliseconds of every run) is skipped.
+ * `--help` renders as before.
+ */
+function skipHelpRendering(cli: Argv): void {
+  const usage = (cli as unknown as { getInternalMethods?: () => { getUsageInstance?: () => { cacheHelpMessage?: () => void } } }).getInternalMethods?.().getUsageInstance?.();
+  if (usage?.cacheHelpMessage) usage.cacheHelpMessage = () => {};
+}
+
+/** --jobs as given, refused unless it is a whole number of worker threads from 1 up. */
+function jobsOf(jobs: number): number {
+  if (!Number.isInteger(jobs) || jobs < 1) throw new UsageError(`--jobs takes a whole number of worker threads, 1 or more (got ${String(jobs)})`);
+  return jobs;
+}
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
   const cli = yargs(argv)
@@ -61,7 +77,7 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: a.jobs, progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs });
+      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
@@ -83,7 +99,7 @@ async function main(argv: string[]): Promise<number> {
     async (a) => {
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
-      const { record, quality } = await runMerge(a.out as string, { jobs: a.jobs });
+      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs) });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
@@ -151,6 +167,7 @@ async function main(argv: string[]): Promise<number> {
       process.stderr.write(`quern: ${msg}\nRun "quern --help" for usage.\n`);
       process.exit(EXIT.unusable);
     });
+  skipHelpRendering(cli);
   try {
     await cli.parseAsync();
   } catch (e) {

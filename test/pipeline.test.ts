@@ -174,6 +174,16 @@ describe('bad input never sinks the run', () => {
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/no such archive folder/);
   });
+
+  it('a --jobs that is no whole number of threads is a usage error: exit 2, nothing written', () => {
+    const archive = sampleArchiveCopy();
+    for (const jobs of ['x', '0', '1.5']) {
+      const r = quern('reduce', archive, '--jobs', jobs, '--quiet');
+      expect(r.code).toBe(2);
+      expect(r.stderr).toMatch(/--jobs takes a whole number of worker threads/);
+    }
+    expect(existsSync(`${archive}.reduced`)).toBe(false);
+  });
 });
 
 describe('quern check and quern peek', () => {

@@ -1,8 +1,8 @@
 // Loads a YAML file validated against a JSON Schema; every error names the file, the line and the key path.
 import { readFile } from 'node:fs/promises';
-import { Ajv, type ErrorObject } from 'ajv';
+import type { ErrorObject } from 'ajv';
 import { isMap, isPair, isScalar, LineCounter, parseDocument, type Document } from 'yaml';
-import { readSchema } from './package-files.js';
+import { archive, reduction } from './schema-validators.js';
 
 /** Input that makes the whole run impossible (exit code 2). */
 export class UsageError extends Error {
@@ -52,6 +52,10 @@ function describeAjv(e: ErrorObject): { path: (string | number)[]; message: stri
   }
 }
 
+/** The schemas' validators, generated ahead of time (scripts/build-validators.ts), so no run compiles a schema. */
+type Validator = ((data: unknown) => boolean) & { errors?: ErrorObject[] | null };
+const VALIDATORS: Record<string, Validator> = { 'archive.schema.json': archive, 'reduction.schema.json': reduction };
+
 /** Parses and validates; throws UsageError listing every problem. */
 export async function loadYaml(file: string, schemaName: string, displayName = file): Promise<{ value: unknown; source: YamlSource }> {
   let text: string;
@@ -71,8 +75,8 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   }
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
-  const ajv = new Ajv({ allErrors: true, strict: false });
-  const validate = ajv.compile(await readSchema(schemaName));
+  const validate = VALIDATORS[schemaName];
+  if (!validate) throw new Error(`quern: no validator for ${schemaName}; add it to scripts/build-validators.ts`);
   if (!validate(value)) {
     // oneOf/anyOf repeat their branches' errors; the branch errors are the useful ones.
     const errors = (validate.errors ?? []).filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'anyOf');

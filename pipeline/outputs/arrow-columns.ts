@@ -1,7 +1,8 @@
 // Arrow columns filled straight from typed arrays and repeated values, with no object per row: for tables of many rows
 // made while writing (spectra.parquet, trends.parquet). The table comes out as toArrowTable would make it from rows.
 import * as arrow from 'apache-arrow';
-import { arrowSchema, type TableColumn } from './parquet.js';
+import { arrowSchema } from './arrow-schema.js';
+import type { TableColumn } from './columns.js';
 
 const utf8 = new TextEncoder();
 

@@ -5,27 +5,16 @@ import { writeFileAtomic } from './atomic.js';
 import type { FeatureRow } from '../reduce/result.js';
 
 import type { TableColumn } from './columns.js';
+import { ARROW_TYPES, arrowSchema } from './arrow-schema.js';
 
 export { IDENTITY_COLUMNS, QUALITY_COLUMNS, type ColumnType, type TableColumn } from './columns.js';
-
-const ARROW_TYPES = {
-  string: () => new arrow.Utf8(),
-  float64: () => new arrow.Float64(),
-  int64: () => new arrow.Int64(),
-  timestamp_ms: () => new arrow.TimestampMillisecond(),
-} as const;
+export { arrowSchema } from './arrow-schema.js';
 
 function vectorOf(col: TableColumn, rows: FeatureRow[]): arrow.Vector {
   const values = rows.map((r) => r[col.name] ?? null);
   if (col.type === 'int64') return arrow.vectorFromArray(values.map((v) => (v == null ? null : BigInt(v as number))), new arrow.Int64());
   if (col.type === 'float64' && !col.nullable) return arrow.makeVector(Float64Array.from(values as number[]));
   return arrow.vectorFromArray(values as never[], ARROW_TYPES[col.type]());
-}
-
-/** The Arrow schema of a table: each field with its unit and description, the metadata on the schema. */
-export function arrowSchema(columns: TableColumn[], metadata: Record<string, string>): arrow.Schema {
-  const fields = columns.map((c) => new arrow.Field(c.name, ARROW_TYPES[c.type](), c.nullable, new Map([['unit', c.unit], ['description', c.description]])));
-  return new arrow.Schema(fields, new Map(Object.entries(metadata)));
 }
 
 export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): arrow.Table {

@@ -1,8 +1,8 @@
 // The run's worker threads: batches of recordings to reduce, then slices of the tables to assemble, on one pool.
 import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
-import { dirname, join } from 'node:path';
-import { fileURLToPath, pathToFileURL } from 'node:url';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
 import { eachAtOnce } from '../at-once.js';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
@@ -10,10 +10,9 @@ import { encodeRecord, recordFacts } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchResult, StoredRecord } from './batch.js';
 
-/** The compiled worker; run from TypeScript source (the tests), the build in dist/ serves, as `npm test` builds first. */
+/** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
 function workerFile(): string {
-  const here = fileURLToPath(import.meta.url);
-  const built = here.endsWith('.ts') ? join(packageRoot, 'dist', 'pipeline', 'reduce', 'worker.js') : join(dirname(here), 'worker.js');
+  const built = join(packageRoot, 'dist', 'pipeline', 'reduce', 'worker.js');
   if (!existsSync(built)) throw new Error(`quern: worker code ${built} is missing; run "npm run build" first`);
   return pathToFileURL(built).href;
 }
