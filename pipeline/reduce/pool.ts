@@ -85,9 +85,9 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
       results = [];
       for (const item of items) {
         try {
-          const one = await pool.run<BatchResult[]>('reduceBatch', [item]);
-          moved.push(...ownBuffers(one.map((r) => r.bytes)));
-          results.push(...one.map(withFacts));
+          const alone = await pool.run<BatchResult[]>('reduceBatch', [item]);
+          moved.push(...ownBuffers(alone.map((r) => r.bytes)));
+          results.push(...alone.map(withFacts));
         } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
