@@ -94,9 +94,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
         // Stored at once, a batch a write: a run killed later keeps this work.
         await writing(s.own!, () => s.append(results));
         // Results come back in the batch's order.
-        results.forEach(({ facts }, i) => {
+        results.forEach((r, i) => {
           const d = batch[i];
-          if (d.compute.length) o.progress?.done(facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
+          if (d.compute.length) o.progress?.done(r.facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
         });
       },
     });
@@ -110,10 +110,12 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
     const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
     // Trends and spectra need every shard's results: a shard leaves them to quern merge.
-    const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
+    const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them.
     const changes: TrendsWrite | null = shard ? null : await (await import('./trends/trends.js')).trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
+    // The threads' memory goes back before run.json's lines are made.
+    await pool.destroy();
     const compacted = await writing(s.own!, () => s.compact());
     const writeS = clock(t);
 

@@ -14,7 +14,8 @@ export interface DigestInput {
   /** The tables' metadata, less the run id (which names the run that wrote them). */
   metadata: Record<string, string>;
   unmatched: string[];
-  items: { recording: string; group: string; bodySha: string; labels: Record<string, string> }[];
+  /** Made one at a time (a generator), so that no second list the size of the run is held. */
+  items: Iterable<{ recording: string; group: string; bodySha: string; labels: Record<string, string> }>;
   /** What changed against the baselines, which rests on the whole stored history; null when trends are off. */
   changes?: unknown;
 }

@@ -15,6 +15,7 @@ import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './q
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
 import type { TrendsWrite } from '../trends/trends.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
+import { ownBuffers, release } from '../store/release.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 import type { Located } from '../store/pack.js';
@@ -52,6 +53,14 @@ export interface OutputsInput {
 
 const COMMA = 0x2c;
 
+/** What the digest reads of each item, made one at a time. */
+function* digestItems(items: OutputItem[]) {
+  for (const { loc, labels } of items) {
+    const { recording, group } = loc.facts;
+    yield { recording, group, bodySha: loc.bodySha, labels };
+  }
+}
+
 /** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
 export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
 
@@ -83,7 +92,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const digestPath = join(outDir, names.digest);
   const digest = outputsDigest({
     version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched,
-    items: o.items.map((it) => ({ recording: it.loc.facts.recording, group: it.loc.facts.group, bodySha: it.loc.bodySha, labels: it.labels })),
+    items: digestItems(o.items),
     // The changes rest on the whole history, not only on these items.
     changes: o.changes?.outcome ?? null,
   });
@@ -139,7 +148,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     while (pending.length) {
       const s = await pending.shift()!;
       launch();
-      await take(s);
+      try { await take(s); } finally { release(ownBuffers([...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes])); }
     }
     for (const p of Object.values(parquet)) await p.finish();
 

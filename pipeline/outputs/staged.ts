@@ -22,32 +22,38 @@ export async function writing<T>(file: string, write: () => Promise<T>): Promise
   try { return await write(); } catch (e) { throw e instanceof WriteFailed ? e : new WriteFailed(file, e); }
 }
 
-const FLUSH_BYTES = 1 << 20;
+/** Bytes gathered before a write: one buffer a file, reused, so that the pieces given are copied once and can be freed at once. */
+const FLUSH_BYTES = 256 << 10;
 
 /** A file written in appended pieces under a temporary name, until `commit` renames it into place. */
 export class StagedFile {
   readonly tmp: string;
   private fh: FileHandle | null = null;
-  private pending: Buffer[] = [];
+  private pending: Buffer | null = null;
   private pendingBytes = 0;
   private pos = 0;
   constructor(readonly path: string) {
     this.tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   }
 
+  /** Copies the piece (the caller may free its memory as soon as this returns); writes when enough has gathered. */
   async write(data: string | Uint8Array): Promise<void> {
-    const b = typeof data === 'string' ? Buffer.from(data) : Buffer.from(data.buffer, data.byteOffset, data.byteLength);
-    this.pending.push(b);
+    const b = typeof data === 'string' ? Buffer.from(data) : data;
+    if (this.pendingBytes + b.length > FLUSH_BYTES) await this.flush();
+    if (b.length >= FLUSH_BYTES) { await this.out(b); return; }
+    (this.pending ??= Buffer.allocUnsafe(FLUSH_BYTES)).set(b, this.pendingBytes);
     this.pendingBytes += b.length;
-    if (this.pendingBytes >= FLUSH_BYTES) await this.flush();
   }
 
   private async flush(): Promise<void> {
+    // Opens the file even with nothing gathered: an empty output is still a file.
+    await this.out(this.pending ? this.pending.subarray(0, this.pendingBytes) : new Uint8Array(0));
+    this.pendingBytes = 0;
+  }
+
+  private async out(data: Uint8Array): Promise<void> {
     await writing(this.path, async () => {
       this.fh ??= await open(this.tmp, 'w');
-      const data = Buffer.concat(this.pending);
-      this.pending = [];
-      this.pendingBytes = 0;
       for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done, this.pos + done)).bytesWritten;
       this.pos += data.length;
     });
@@ -56,6 +62,7 @@ export class StagedFile {
   /** Writes what is pending and (for an output, not a scratch file) flushes it to the disk. */
   async close({ durable = true } = {}): Promise<void> {
     await this.flush();
+    this.pending = null;
     await writing(this.path, async () => { if (durable) await this.fh!.sync(); await this.fh!.close(); this.fh = null; });
   }
 

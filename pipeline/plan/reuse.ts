@@ -39,6 +39,9 @@ const HASHES_AT_ONCE = 16;
 
 const NONE: string[] = [];
 
+/** A stored entry as plain data, to travel to a worker (the store's entries read their columns through getters). */
+const plainPlace = (l: Located): Located => ({ file: l.file, offset: l.offset, length: l.length, bodySha: l.bodySha, facts: l.facts });
+
 /** What deciding made, and how to turn a decision into the worker's batch item. */
 export interface Decided {
   decisions: Decision[];
@@ -105,7 +108,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       job: { ...jobOf(d.file), groups: d.previous ? d.compute : null },
       store: {
         identity: identityOf(d), hashContent: d.hashContent, readAtMs: d.file.readAtMs, declKey: declKeyOf(d.file), version: o.version, keys: o.keys,
-        specHash: o.specHash, compute: d.compute, reused: d.reused, previous: d.previous,
+        specHash: o.specHash, compute: d.compute, reused: d.reused, previous: d.previous && plainPlace(d.previous),
       },
     }),
   };

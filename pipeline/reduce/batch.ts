@@ -28,7 +28,10 @@ export interface StoreFacts {
 }
 
 export interface BatchItem { job: RecordingJob; store: StoreFacts }
-export interface BatchResult { facts: EntryFacts; bytes: Uint8Array }
+/** A record as it travels to the main thread: its bytes only; the facts are in them, read where they are needed. */
+export interface BatchResult { bytes: Uint8Array }
+/** A record and its facts. */
+export interface StoredRecord { facts: EntryFacts; bytes: Uint8Array }
 
 /** The entry to store: fresh groups over reused ones. */
 export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: CacheEntry | null): CacheEntry {
@@ -52,7 +55,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   // One descriptor a pack for the whole batch.
   const records = new RecordReader();
   const previousRecord = (loc: Located) => records.read(loc, loc.facts.recording);
-  const one = async ({ job, store: s }: BatchItem): Promise<BatchResult> => {
+  const one = async ({ job, store: s }: BatchItem): Promise<StoredRecord> => {
     const identity = { ...s.identity };
     if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
     const storedAt = Date.now();
@@ -75,7 +78,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   };
   try {
     // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
-    const out: BatchResult[] = new Array(items.length);
+    const out: StoredRecord[] = new Array(items.length);
     await eachAtOnce(items, IN_FLIGHT, async (item, i) => { out[i] = await one(item); });
     return together(out);
   } finally {
@@ -84,20 +87,20 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
 }
 
 /** The batch's records laid one after another in one array of their own, as they will lie in the pack: one piece of memory to move and write. */
-function together(results: BatchResult[]): BatchResult[] {
+function together(results: StoredRecord[]): BatchResult[] {
   const all = new Uint8Array(results.reduce((n, r) => n + r.bytes.length, 0));
   let at = 0;
-  return results.map(({ facts, bytes }) => {
+  return results.map(({ bytes }) => {
     all.set(bytes, at);
     at += bytes.length;
-    return { facts, bytes: all.subarray(at - bytes.length, at) };
+    return { bytes: all.subarray(at - bytes.length, at) };
   });
 }
 
 /** The memory a batch's records lie in (to move it to the main thread rather than copy it). */
 export const batchBuffers = (results: BatchResult[]): ArrayBuffer[] => (results.length ? [results[0].bytes.buffer as ArrayBuffer] : []);
 
-function encode(entry: CacheEntry, storedAt: number): BatchResult {
+function encode(entry: CacheEntry, storedAt: number): StoredRecord {
   const { facts, results } = splitEntry(entry, storedAt);
   return { facts, bytes: encodeRecord(facts, results) };
 }

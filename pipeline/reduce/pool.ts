@@ -6,8 +6,9 @@ import { pathToFileURL } from 'node:url';
 import { eachAtOnce } from '../at-once.js';
 import { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
-import { encodeRecord } from '../store/record.js';
-import type { BatchItem, BatchResult } from './batch.js';
+import { encodeRecord, recordFacts } from '../store/record.js';
+import { ownBuffers, release } from '../store/release.js';
+import type { BatchItem, BatchResult, StoredRecord } from './batch.js';
 
 /** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
 function workerFile(): string {
@@ -29,7 +30,8 @@ export function openPool(threads = availableParallelism()): Pool {
   return {
     threads: n,
     run: (name, input) => get().run(input, { name }),
-    destroy: async () => { await pool?.destroy(); },
+    // Safe to call again: the run stops its threads once the outputs are written, and again on its way out.
+    destroy: async () => { const p = pool; pool = null; await p?.destroy(); },
   };
 }
 
@@ -59,7 +61,7 @@ export interface ReduceOptions<T> {
   /** The worker's job and storing facts of a recording, made when its batch goes out. */
   itemOf: (work: T) => BatchItem;
   /** Called with each finished batch, in the order they finish (store them, report progress). */
-  onBatch: (results: BatchResult[], work: T[]) => Promise<void>;
+  onBatch: (results: StoredRecord[], work: T[]) => Promise<void>;
 }
 
 /** Batches given to the pool at once, a thread: enough that no thread waits for the next, few enough that memory stays flat. */
@@ -71,25 +73,40 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
   const one = async (batch: T[]) => {
     const items = batch.map(itemOf);
-    let results: BatchResult[];
+    let results: StoredRecord[];
+    // The memory the worker moved here, given back once the batch is stored.
+    const moved: ArrayBuffer[] = [];
     try {
-      results = await pool.run<BatchResult[]>('reduceBatch', items);
+      const sent = await pool.run<BatchResult[]>('reduceBatch', items);
+      moved.push(...ownBuffers(sent.map((r) => r.bytes)));
+      results = sent.map(withFacts);
     } catch (e) {
       // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
       results = [];
       for (const item of items) {
-        try { results.push(...await pool.run<BatchResult[]>('reduceBatch', [item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
+        try {
+          const alone = await pool.run<BatchResult[]>('reduceBatch', [item]);
+          moved.push(...ownBuffers(alone.map((r) => r.bytes)));
+          results.push(...alone.map(withFacts));
+        } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
-    if (failure) return;
-    try { await onBatch(results, batch); } catch (e) { failure ??= e; }
+    try {
+      if (!failure) await onBatch(results, batch);
+    } catch (e) { failure ??= e; } finally { release(moved); }
   };
   await eachAtOnce(batches, pool.threads * BATCHES_IN_FLIGHT, one, () => !!failure);
   if (failure) throw failure;
 }
 
+/**
+ * A record from a worker with its facts read from its bytes each time they are asked for: made and dropped at once,
+ * they never outlive the collector's young generation, where facts copied over with every batch piled up in the old one.
+ */
+const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
+
 /** The record of a recording whose worker stopped. */
-function workerStopped(item: BatchItem, e: Error): BatchResult {
+function workerStopped(item: BatchItem, e: Error): StoredRecord {
   const s = item.store;
   const facts = {
     recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: `worker stopped: ${e.message}`, version: s.version, identity: s.identity,

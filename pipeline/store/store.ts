@@ -2,6 +2,7 @@
 // for shard K), so shards never write the same file. Every pack is read; a recording's newest sound record is its entry.
 import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, join } from 'node:path';
+import { EntryTable, type StoredEntry } from './entry-table.js';
 import { readRecord, scanPack, type Damage, type Located } from './pack.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 
@@ -12,19 +13,6 @@ const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
 
-/**
- * Shares the facts most entries have in common (group, version, keys, empty notes), so that the entries of a long
- * history cost memory for what differs only.
- */
-function interner(): (f: EntryFacts) => void {
-  const seen = new Map<string, unknown>();
-  const one = <T>(v: T): T => { const k = typeof v === 'string' ? v : JSON.stringify(v); return (seen.get(k) ?? seen.set(k, v).get(k)) as T; };
-  return (f) => {
-    f.group = one(f.group); f.version = one(f.version); f.declKey = one(f.declKey); f.groupKeys = one(f.groupKeys); f.notes = one(f.notes);
-    if (f.failureKey) f.failureKey = one(f.failureKey);
-  };
-}
-
 /** The pieces as one view when they already lie one after another in one piece of memory (a batch's records do). */
 function contiguous(pieces: Uint8Array[]): Buffer | null {
   const first = pieces[0];
@@ -33,6 +21,8 @@ function contiguous(pieces: Uint8Array[]): Buffer | null {
   return Buffer.from(first.buffer, first.byteOffset, end - first.byteOffset);
 }
 
+const shaBytes = (hex: string) => Buffer.from(hex, 'hex');
+
 export class Store {
   private fh: FileHandle | null = null;
   private end = 0;
@@ -40,39 +30,45 @@ export class Store {
     readonly out: string,
     /** The pack this run appends to (null: read only). */
     readonly own: string | null,
-    readonly entries: Map<string, Located>,
+    /** Every recording's entry, in packed columns. */
+    readonly table: EntryTable,
     /** Damaged stretches found while reading. */
     readonly damage: Damage[],
     private sizes: Map<string, number>,
-    private intern: (f: EntryFacts) => void,
   ) {}
 
   /** Reads every pack of the folder; `shard` names the pack this run writes (undefined: none, read only). */
   static async open(out: string, shard?: { k: number; n: number } | null): Promise<Store> {
     const dir = cacheDir(out);
     const files = (await readdir(dir).catch(() => [] as string[])).filter((f) => PACK.test(f)).sort().map((f) => join(dir, f));
-    const entries = new Map<string, Located>();
+    const table = new EntryTable();
     const damage: Damage[] = [];
     const sizes = new Map<string, number>();
-    const intern = interner();
     for (const file of files) {
       const r = await scanPack(file, (loc) => {
-        intern(loc.facts);
-        const known = entries.get(loc.facts.recording);
-        if (!known || loc.facts.storedAt >= known.facts.storedAt) entries.set(loc.facts.recording, loc);
+        const known = table.rows.get(loc.facts.recording);
+        if (known === undefined || loc.facts.storedAt >= table.storedAt(known)) table.set({ ...loc, bodySha: shaBytes(loc.bodySha) }, loc.facts);
       });
       damage.push(...r.damage);
       sizes.set(file, r.size);
     }
-    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), entries, damage, sizes, intern);
+    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes);
   }
 
-  get(recording: string): Located | undefined { return this.entries.get(recording); }
+  /** The recordings that have an entry (keys of recording → row). */
+  get entries(): Map<string, number> { return this.table.rows; }
+
+  get(recording: string): StoredEntry | undefined { return this.table.entry(recording); }
+
+  /** A recording's entry's status, without making its facts. */
+  statusOf(recording: string): 'reduced' | 'failed' | undefined { return this.table.entry(recording)?.status; }
 
   /** A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period. */
   knownStart(recording: string): { size: number; mtimeMs: number; start_ms: number } | undefined {
-    const f = this.entries.get(recording)?.facts;
-    return f && { size: f.identity.size, mtimeMs: f.identity.mtimeMs, start_ms: f.startTime ? Date.parse(f.startTime) : f.identity.mtimeMs };
+    const row = this.table.rows.get(recording);
+    if (row === undefined) return undefined;
+    const f = this.table.identityOf(row);
+    return { size: f.size, mtimeMs: f.mtimeMs, start_ms: f.startTime ? Date.parse(f.startTime) : f.mtimeMs };
   }
 
   /** The damage found for a recording whose newest record is unusable, if any. */
@@ -105,9 +101,7 @@ export class Store {
     this.end += data.length;
     for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
     for (const r of records) {
-      this.intern(r.facts);
-      const bodySha = Buffer.from(r.bytes.buffer, r.bytes.byteOffset + 44, 32).toString('hex');
-      this.entries.set(r.facts.recording, { file: this.own, offset, length: r.bytes.length, bodySha, facts: r.facts });
+      this.table.set({ file: this.own, offset, length: r.bytes.length, bodySha: r.bytes.subarray(44, 76) }, r.facts);
       offset += r.bytes.length;
     }
   }
@@ -144,7 +138,7 @@ export class Store {
     if (!this.own) return false;
     await this.close();
     const own = this.own;
-    const live = [...this.entries.values()].filter((l) => l.file === own).sort((a, b) => a.offset - b.offset);
+    const live = [...this.table.rows.values()].map((row) => this.table.at(row)).filter((l) => l.file === own).sort((a, b) => a.offset - b.offset);
     const liveBytes = live.reduce((s, l) => s + l.length, 0);
     const size = Math.max(this.end, this.sizes.get(own) ?? 0);
     const damaged = this.damage.some((d) => d.file === own);
@@ -153,17 +147,17 @@ export class Store {
     const src = await open(own, 'r'), dst = await open(tmp, 'w');
     try {
       let offset = 0;
-      const moved: Located[] = [];
+      const moved: number[] = [];
       for (const l of live) {
         const bytes = await readRecord(src, l);
         await dst.write(bytes, 0, bytes.length, offset);
-        moved.push({ ...l, offset });
+        moved.push(offset);
         offset += bytes.length;
       }
       await dst.sync();
       await dst.close();
       await rename(tmp, own);
-      for (const l of moved) this.entries.set(l.facts.recording, l);
+      live.forEach((l, i) => { this.table.offset[l.row] = moved[i]; });
       this.end = offset;
       return true;
     } catch (e) {
