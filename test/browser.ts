@@ -27,7 +27,12 @@ async function unpacked(): Promise<string> {
   try {
     renameSync(tmp, home);
   } catch {
-    rmSync(tmp, { recursive: true, force: true }); // another test worker unpacked it first
+    if (existsSync(join(home, 'ready'))) rmSync(tmp, { recursive: true, force: true }); // another test worker unpacked it first
+    else {
+      // a folder left without a finished browser (a font cache written into it after the browser was removed) is replaced
+      rmSync(home, { recursive: true, force: true });
+      renameSync(tmp, home);
+    }
   }
   return home;
 }
