@@ -1,15 +1,13 @@
 // WAV in full (PCM of 1–64 bits, RIFX, RF64, BW64, G.711) against files written and decoded by independent tools:
 // sox 14.4.2, ffmpeg 5.1, libsndfile 1.2 (python3-soundfile), Python's struct and audioop, numpy (test/fixtures/make-format-fixtures.py).
-import { closeSync, openSync, readFileSync, writeSync, ftruncateSync } from 'node:fs';
 import { open } from 'node:fs/promises';
-import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { readInterleaved } from '../stages/read/interleaved.js';
 import { g711Linear } from '../stages/read/g711.js';
 import { openRecording } from '../stages/read/open.js';
 import { readWavHeader } from '../stages/read/wav.js';
-import { expectedSamples, formatFixture, formatFixtures, manifest } from './format-fixtures.js';
-import { fixture, readAll, tempDir } from './helpers.js';
+import { expectedSamples, formatFixture, formatFixtures, manifest, sparseRf64 } from './format-fixtures.js';
+import { fixture, readAll } from './helpers.js';
 
 const wavs = formatFixtures.filter((f) => f.file.endsWith('.wav'));
 
@@ -48,13 +46,7 @@ describe('WAV reader against independently written and decoded files', () => {
 
   it('streams an RF64 file past 4 GiB (a sparse file: header and last samples written by Python, a hole between)', async () => {
     const big = manifest.rf64_big;
-    const path = join(tempDir(), 'big.wav');
-    const head = readFileSync(fixture('formats', 'rf64-big.head')), tail = readFileSync(fixture('formats', 'rf64-big.tail'));
-    const fd = openSync(path, 'w');
-    writeSync(fd, head, 0, head.length, 0);
-    ftruncateSync(fd, big.data_offset + big.data_bytes);
-    writeSync(fd, tail, 0, tail.length, big.data_offset + big.data_bytes - tail.length);
-    closeSync(fd);
+    const path = sparseRf64();
     const rec = await openRecording(path);
     expect(rec.frames).toBe(big.data_bytes / 8);
     expect(rec.frames! * 8).toBeGreaterThan(2 ** 32);

@@ -20,7 +20,7 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
 
 /** The verdict columns that follow the identity and label columns. */
 export const QUALITY_COLUMNS: TableColumn[] = [
-  { name: 'quality', type: 'string', nullable: false, unit: '', description: 'Worst severity of the channel\'s flags: ok, warn or fail.' },
+  { name: 'quality', type: 'string', nullable: false, unit: '', description: 'Worst severity of the channel\'s flags: ok, note, warn or fail.' },
   { name: 'flags', type: 'string', nullable: false, unit: '', description: 'Comma-separated names of the flags that are not ok.' },
 ];
 

@@ -1,9 +1,7 @@
-// Feature rows → an Arrow table → Parquet (Apache Arrow's Rust writer, compiled to WebAssembly), written atomically.
+// Feature rows → an Arrow table, and the Parquet writer's properties (Apache Arrow's Rust writer, compiled to WebAssembly); ParquetStream writes them.
 import * as arrow from 'apache-arrow';
-import { Compression, Table as WasmTable, writeParquet, WriterPropertiesBuilder, type WriterProperties } from 'parquet-wasm/node';
-import { writeFileAtomic } from './atomic.js';
+import { Compression, WriterPropertiesBuilder, type WriterProperties } from 'parquet-wasm/node';
 import type { FeatureRow } from '../reduce/result.js';
-
 import type { TableColumn } from './columns.js';
 import { ARROW_TYPES, arrowSchema } from './arrow-schema.js';
 
@@ -22,13 +20,6 @@ export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadat
   const data = Object.fromEntries(columns.map((c) => [c.name, vectorOf(c, rows).data[0] ?? arrow.makeData({ type: ARROW_TYPES[c.type](), length: 0, nullCount: 0 })]));
   const batch = new arrow.RecordBatch(schema, arrow.makeData({ type: new arrow.Struct(fields), length: rows.length, nullCount: 0, children: columns.map((c) => data[c.name]) }));
   return new arrow.Table(schema, [batch]);
-}
-
-/** Writes the rows as Parquet, zstd-compressed, with column statistics; metadata goes in the footer's key-value pairs. */
-export async function writeParquetTable(path: string, columns: TableColumn[], rows: FeatureRow[], metadata: Record<string, string>): Promise<void> {
-  const table = toArrowTable(columns, rows, metadata);
-  const bytes = writeParquet(WasmTable.fromIPCStream(arrow.tableToIPC(table, 'stream')), writerProperties(columns, metadata));
-  await writeFileAtomic(path, bytes);
 }
 
 /** Zstandard, the metadata in the footer's key-value pairs with the columns' units as `quern.units`. */

@@ -150,9 +150,3 @@ export function stageTwiddles(n: number): Float64Array {
   }
   return Float64Array.from(rows);
 }
-
-// Plans depend only on the length: made once per thread and shared read-only.
-const complexPlans = new Map<number, ComplexFft>();
-const realPlans = new Map<number, RealFft>();
-export const complexFftOf = (n: number) => complexPlans.get(n) ?? complexPlans.set(n, new ComplexFft(n)).get(n)!;
-export const realFftOf = (n: number) => realPlans.get(n) ?? realPlans.set(n, new RealFft(n)).get(n)!;

@@ -1,10 +1,11 @@
 // Live comparisons of the WAV, FLAC and HDF5 readers with the tools themselves: files written now by sox, ffmpeg, the
 // flac encoder and h5py, decoded by sox, `flac -d` and h5py, compared sample for sample; and an RF64 file past 4 GiB read whole.
 import { execFileSync } from 'node:child_process';
-import { closeSync, ftruncateSync, openSync, readFileSync, writeFileSync, writeSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { openRecording } from '../../stages/read/open.js';
+import { sparseRf64 } from '../format-fixtures.js';
 import { fixture, readAll, readJson, tempDir } from '../helpers.js';
 import { requirePython, requireTool } from './tools.js';
 
@@ -71,13 +72,7 @@ with h5py.File(sys.argv[1],'r') as f: sys.stdout.buffer.write(np.asarray(f['run/
 
   it('streams an RF64 file past 4 GiB to its last sample (a sparse file)', async () => {
     const big = readJson(fixture('formats', 'expected.json')).rf64_big;
-    const path = join(tempDir(), 'big.wav');
-    const head = readFileSync(fixture('formats', 'rf64-big.head')), tail = readFileSync(fixture('formats', 'rf64-big.tail'));
-    const fd = openSync(path, 'w');
-    writeSync(fd, head, 0, head.length, 0);
-    ftruncateSync(fd, big.data_offset + big.data_bytes);
-    writeSync(fd, tail, 0, tail.length, big.data_offset + big.data_bytes - tail.length);
-    closeSync(fd);
+    const path = sparseRf64();
     const rec = await openRecording(path);
     let n = 0, last: Float64Array = new Float64Array(0), nonZero = 0;
     for await (const [ch] of rec.chunks()) {
