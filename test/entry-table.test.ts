@@ -5,6 +5,8 @@ import { quern, sampleArchiveCopy } from './helpers.js';
 import { join } from 'node:path';
 import { scanPack, type Located } from '../pipeline/store/pack.js';
 import { Store } from '../pipeline/store/store.js';
+import { EntryTable } from '../pipeline/store/entry-table.js';
+import type { EntryFacts } from '../pipeline/store/record.js';
 import { ownBuffers } from '../pipeline/store/release.js';
 
 describe('entries in packed columns', () => {
@@ -23,6 +25,22 @@ describe('entries in packed columns', () => {
         .toEqual({ file: r.file, offset: r.offset, length: r.length, bodySha: r.bodySha, status: r.facts.status, group: r.facts.group });
     }
     expect(stored.some((r) => r.facts.status === 'failed')).toBe(true); // the sample archive plants a truncated file
+  });
+
+  it('give back start times and content hashes as stored, whether or not they pack into numbers and bytes', () => {
+    const table = new EntryTable();
+    const facts = (recording: string, startTime: string | null, hash: string | null): EntryFacts => ({
+      recording, group: 'g', status: 'reduced', version: '1', identity: { size: 10, mtimeMs: 1.5, hash }, readAtMs: 2.5, declKey: 'k', groupKeys: { statistics: 'x' },
+      seconds: 0.1, frames: 4, sampleRate: 8000, startTime, channels: 1, notes: { '': [] }, storedAt: 3,
+    });
+    const cases = [
+      facts('a.wav', '2024-02-22T04:00:52.595Z', 'ab'.repeat(32)), // as toISOString writes them: a number and bytes
+      facts('b.wav', '2024-02-22T06:00:52+02:00', 'AB'.repeat(32)), // other spellings are kept as text
+      facts('c.wav', null, null),
+      facts('d.wav', '+012345-01-01T00:00:00.000Z', 'not a hash'),
+    ];
+    cases.forEach((f, i) => table.set({ file: 'p', offset: i, length: 1, bodySha: new Uint8Array(32) }, f));
+    for (const f of cases) expect(JSON.stringify(table.entry(f.recording)!.facts)).toBe(JSON.stringify(f));
   });
 
   it('hand back only buffers their views fill from end to end', () => {

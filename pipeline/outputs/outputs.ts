@@ -3,7 +3,7 @@
 // are put together from spooled pieces, and nothing the size of the run is held in memory. Outputs whose digest says
 // they would come out the same are left as they are.
 import { createReadStream } from 'node:fs';
-import { mkdir } from 'node:fs/promises';
+import { mkdir, open } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { createInterface } from 'node:readline';
 import { featureColumns } from '../../stages/index.js';
@@ -82,6 +82,17 @@ function slices(items: OutputItem[], { threads = 1, perThread = 2, maxItems = 25
   return out;
 }
 
+/** Appends a file's bytes through one reused buffer: a spool of hundreds of megabytes leaves no trail of read chunks behind. */
+async function copyInto(to: StagedFile, from: string, buffer = Buffer.allocUnsafe(COPY_BYTES)): Promise<void> {
+  const fh = await open(from, 'r');
+  try {
+    for (let n: number; (n = (await fh.read(buffer, 0, buffer.length, null)).bytesRead) > 0;) await to.write(buffer.subarray(0, n));
+  } finally {
+    await fh.close();
+  }
+}
+const COPY_BYTES = 64 << 10;
+
 async function* lines(file: StagedFile): AsyncGenerator<string> {
   if (!file.size) return;
   for await (const line of createInterface({ input: createReadStream(file.tmp), crlfDelay: Infinity })) if (line) yield line;
@@ -155,7 +166,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const generated = new Date().toISOString();
     await spools.quality.close({ durable: false });
     await qualityJson.write(jsonPieces.head({ tool: 'quern', version: o.version, run_id: o.runId, generated, archive: o.archive, totals }, 'recordings'));
-    for await (const chunk of createReadStream(spools.quality.tmp)) await qualityJson.write(chunk as Buffer);
+    await copyInto(qualityJson, spools.quality.tmp);
     await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.changes?.outcome ? { changes: o.changes.outcome.report } : {}) }));
     await qualityJson.close();
 

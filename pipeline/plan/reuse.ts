@@ -7,7 +7,7 @@ import type { BatchItem } from '../reduce/batch.js';
 import type { Located } from '../store/pack.js';
 import type { Store } from '../store/store.js';
 
-/** A small record per recording: what to do and why. The worker's job is made from it only when the batch goes out. */
+/** What to do with a recording and why (a view of the decisions' packed columns). The worker's job is made from it only when the batch goes out. */
 export interface Decision {
   recording: string;
   /** The recording's group, as its index in the declaration. */
@@ -51,23 +51,78 @@ export interface Decided {
   identityOf(d: Decision): Identity;
 }
 
+/**
+ * The decisions in packed columns: per recording a few flags and the indices of its reason and group lists, each distinct
+ * value once. A decision is a small view of its row, and its stored entry is the store's current one for the recording.
+ */
+class DecisionTable {
+  readonly flags: Uint8Array;
+  readonly why: Uint32Array;
+  readonly compute: Uint32Array;
+  readonly reused: Uint32Array;
+  /** Content hashes taken while deciding, by row (few: only where the modification time cannot be trusted alone). */
+  readonly hashes = new Map<number, string>();
+  private readonly texts: string[] = [];
+  private readonly textIds = new Map<string, number>();
+  private readonly lists: string[][] = [];
+  private readonly listIds = new Map<string, number>();
+  constructor(readonly files: readonly ScannedRecording[], readonly store: Store) {
+    const n = files.length;
+    this.flags = new Uint8Array(n);
+    this.why = new Uint32Array(n);
+    this.compute = new Uint32Array(n);
+    this.reused = new Uint32Array(n);
+  }
+  set(row: number, hash: string | null, f: { hashContent: boolean; previous: boolean; stores: boolean; restamp: boolean }, compute: string[], reused: string[], why: string): void {
+    this.flags[row] = (f.hashContent ? HASH_CONTENT : 0) | (f.previous ? PREVIOUS : 0) | (f.stores ? STORES : 0) | (f.restamp ? RESTAMP : 0);
+    if (hash !== null) this.hashes.set(row, hash);
+    this.why[row] = this.textIds.get(why) ?? this.textIds.set(why, this.texts.push(why) - 1).get(why)!;
+    this.compute[row] = this.listId(compute);
+    this.reused[row] = this.listId(reused);
+  }
+  text(id: number): string { return this.texts[id]; }
+  list(id: number): string[] { return this.lists[id]; }
+  private listId(list: string[]): number {
+    const key = list.join('\n');
+    return this.listIds.get(key) ?? this.listIds.set(key, this.lists.push(list) - 1).get(key)!;
+  }
+}
+
+const HASH_CONTENT = 1, PREVIOUS = 2, STORES = 4, RESTAMP = 8;
+
+/** One recording's decision: reads its row of the table. */
+class DecisionView implements Decision {
+  constructor(private readonly table: DecisionTable, private readonly row: number) {}
+  get file(): ScannedRecording { return this.table.files[this.row]; }
+  get recording(): string { return this.file.recording; }
+  get group(): number { return this.file.group; }
+  get hash(): string | null { return this.table.hashes.get(this.row) ?? null; }
+  get hashContent(): boolean { return (this.table.flags[this.row] & HASH_CONTENT) !== 0; }
+  get previous(): Located | null { return this.table.flags[this.row] & PREVIOUS ? this.table.store.get(this.recording) ?? null : null; }
+  get compute(): string[] { return this.table.list(this.table.compute[this.row]); }
+  get reused(): string[] { return this.table.list(this.table.reused[this.row]); }
+  get why(): string { return this.table.text(this.table.why[this.row]); }
+  get stores(): boolean { return (this.table.flags[this.row] & STORES) !== 0; }
+  get restamp(): boolean { return (this.table.flags[this.row] & RESTAMP) !== 0; }
+}
+
 /** Decides every recording; only those whose stored entry must be held against their content cost a wait (a hash). */
 export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedRecording) => RecordingJob, store: Store, o: DecideOptions): Promise<Decided> {
   const groups = Object.keys(o.keys);
   const declKeys = new Map<number, string>();
   const declKeyOf = (r: ScannedRecording) => declKeys.get(r.group) ?? declKeys.set(r.group, declarationKey(jobOf(r))).get(r.group)!;
-  const whys = new Map<string, string>(); // the same reason, one string
-  const why = (text: string) => whys.get(text) ?? whys.set(text, text).get(text)!;
+  const table = new DecisionTable(recordings, store);
 
-  const one = (r: ScannedRecording, hash: string | null): Decision => {
+  /** Decides recording `i` into its row of the table. */
+  const one = (i: number, hash: string | null): void => {
+    const r = recordings[i];
     const previous = o.force ? null : store.get(r.recording) ?? null;
     const entry = previous?.facts;
     const fresh = r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS;
     const wasAmbiguous = !!entry && entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS;
     const hashContent = !entry && (fresh || !!o.hash);
-    // One shape for every decision: 100,000 of them stay small.
-    const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean): Decision =>
-      ({ recording: r.recording, group: r.group, file: r, hash, hashContent, previous: from, compute, reused, why: why(text), stores, restamp });
+    const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean): void =>
+      table.set(i, hash, { hashContent, previous: from !== null, stores, restamp }, compute, reused, text);
     const all = (text: string) => decision(null, groups, NONE, text, true, false);
     if (o.force) return all('forced (--force)');
     if (!entry) {
@@ -95,10 +150,10 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     const entry = o.force ? undefined : store.get(r.recording)?.facts;
     return !!entry && (r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS || !!o.hash || entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS);
   };
-  const decisions: Decision[] = new Array(recordings.length);
   const hashing: number[] = [];
-  recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else decisions[i] = one(r, null); });
-  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { decisions[i] = one(recordings[i], await hashFile(recordings[i].path)); });
+  recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else one(i, null); });
+  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { one(i, await hashFile(recordings[i].path)); });
+  const decisions: Decision[] = Array.from(recordings, (_, i) => new DecisionView(table, i));
 
   const identityOf = (d: Decision): Identity => ({ size: d.file.size, mtimeMs: d.file.mtimeMs, hash: d.hash });
   return {

@@ -17,7 +17,7 @@ function workerFile(): string {
   return pathToFileURL(built).href;
 }
 
-const YOUNG_GENERATION_MB = 16;
+const YOUNG_GENERATION_MB = 8;
 
 export interface Pool { threads: number; run<T>(task: string, input: unknown): Promise<T>; destroy(): Promise<void> }
 

@@ -1,6 +1,7 @@
 // The entries of an output folder in packed columns: a row per recording, its place in a pack and its facts as typed
-// arrays, and the values many entries share (group, version, keys, notes) stored once. 100,000 entries take about
-// 15 MB here, where objects took about 60 MB; an entry's facts are made as an object only when asked for.
+// arrays, and the values many entries share (group, version, keys, notes) stored once; the values each entry has its own
+// (start time, content hash) are numbers and bytes, not strings. 100,000 entries take about 15 MB here, where objects took
+// about 60 MB; an entry's facts are made as an object only when asked for.
 import type { Located } from './pack.js';
 import type { EntryFacts } from './record.js';
 
@@ -36,9 +37,12 @@ export class EntryTable {
   length = new Uint32Array(0);
   sha = new Uint8Array(0);
   failed = new Uint8Array(0);
+  /** Content hashes as bytes, where `hashed` is 1 (otherwise the hash, or its absence, is among the shared values); made with the first. */
+  private hash: Uint8Array | null = null;
+  private hashed = new Uint8Array(0);
   // group, version, declKey, groupKeys, notes, failureKey, reason, startTime, hash: indices into `values`.
   private shared = new Uint32Array(0);
-  // size, mtimeMs, readAtMs, seconds, frames, sampleRate (NaN: null), channels, storedAt.
+  // size, mtimeMs, readAtMs, seconds, frames, sampleRate (NaN: null), channels, storedAt, start time (ms; NaN: among the shared values).
   private numbers = new Float64Array(0);
 
   get size(): number { return this.count; }
@@ -58,10 +62,14 @@ export class EntryTable {
     this.sha.set(place.bodySha, row * SHA_BYTES);
     this.failed[row] = f.status === 'failed' ? 1 : 0;
     const s = row * SHARED;
-    const shared = [f.group, f.version, f.declKey, f.groupKeys, f.notes, f.failureKey, f.reason, f.startTime, f.identity.hash];
+    const startMs = startAsNumber(f.startTime);
+    const hash = f.identity.hash;
+    this.hashed[row] = hash !== null && HEX_SHA.test(hash) ? 1 : 0;
+    if (this.hashed[row]) (this.hash ??= new Uint8Array(this.file.length * SHA_BYTES)).set(Buffer.from(hash!, 'hex'), row * SHA_BYTES);
+    const shared = [f.group, f.version, f.declKey, f.groupKeys, f.notes, f.failureKey, f.reason, Number.isNaN(startMs) ? f.startTime : null, this.hashed[row] ? null : hash];
     for (let i = 0; i < SHARED; i++) this.shared[s + i] = this.valueId(shared[i]);
     const n = row * NUMBERS;
-    const numbers = [f.identity.size, f.identity.mtimeMs, f.readAtMs, f.seconds, f.frames, f.sampleRate ?? NaN, f.channels, f.storedAt];
+    const numbers = [f.identity.size, f.identity.mtimeMs, f.readAtMs, f.seconds, f.frames, f.sampleRate ?? NaN, f.channels, f.storedAt, startMs];
     for (let i = 0; i < NUMBERS; i++) this.numbers[n + i] = numbers[i];
     return row;
   }
@@ -86,16 +94,25 @@ export class EntryTable {
     const failureKey = v(5) as string | null, reason = v(6) as string | null, sampleRate = num(5);
     return {
       recording: this.recordings[row], group: v(0) as string, status: this.failed[row] ? 'failed' : 'reduced', ...(reason ? { reason } : {}), version: v(1) as string,
-      identity: { size: num(0), mtimeMs: num(1), hash: v(8) as string | null }, readAtMs: num(2), declKey: v(2) as string,
+      identity: { size: num(0), mtimeMs: num(1), hash: this.hashOf(row) }, readAtMs: num(2), declKey: v(2) as string,
       groupKeys: v(3) as Record<string, string>, ...(failureKey ? { failureKey } : {}), seconds: num(3), frames: num(4),
-      sampleRate: Number.isNaN(sampleRate) ? null : sampleRate, startTime: v(7) as string | null, channels: num(6), notes: v(4) as Record<string, string[]>, storedAt: num(7),
+      sampleRate: Number.isNaN(sampleRate) ? null : sampleRate, startTime: this.startOf(row), channels: num(6), notes: v(4) as Record<string, string[]>, storedAt: num(7),
     };
   }
 
   /** A recording's size, modification time and start as its entry knows them, without making its facts. */
   identityOf(row: number): { size: number; mtimeMs: number; startTime: string | null } {
     const n = row * NUMBERS;
-    return { size: this.numbers[n], mtimeMs: this.numbers[n + 1], startTime: this.values[this.shared[row * SHARED + 7]] as string | null };
+    return { size: this.numbers[n], mtimeMs: this.numbers[n + 1], startTime: this.startOf(row) };
+  }
+
+  private startOf(row: number): string | null {
+    const ms = this.numbers[row * NUMBERS + 8];
+    return Number.isNaN(ms) ? this.values[this.shared[row * SHARED + 7]] as string | null : new Date(ms).toISOString();
+  }
+
+  private hashOf(row: number): string | null {
+    return this.hash && this.hashed[row] ? Buffer.from(this.hash.buffer, row * SHA_BYTES, SHA_BYTES).toString('hex') : this.values[this.shared[row * SHARED + 8]] as string | null;
   }
 
   private valueId(value: unknown): number {
@@ -113,9 +130,17 @@ export class EntryTable {
       return b;
     };
     this.file = more(this.file, 1); this.offset = more(this.offset, 1); this.length = more(this.length, 1); this.sha = more(this.sha, SHA_BYTES);
-    this.failed = more(this.failed, 1); this.shared = more(this.shared, SHARED); this.numbers = more(this.numbers, NUMBERS);
+    this.failed = more(this.failed, 1); if (this.hash) this.hash = more(this.hash, SHA_BYTES); this.hashed = more(this.hashed, 1); this.shared = more(this.shared, SHARED); this.numbers = more(this.numbers, NUMBERS);
   }
 }
 
 const SHARED = 9;
-const NUMBERS = 8;
+const NUMBERS = 9;
+const HEX_SHA = /^[0-9a-f]{64}$/;
+
+/** A start time as ms since the epoch when that gives back the same text (as toISOString wrote it); NaN otherwise. */
+function startAsNumber(text: string | null): number {
+  if (text === null) return NaN;
+  const ms = Date.parse(text);
+  return Number.isFinite(ms) && new Date(ms).toISOString() === text ? ms : NaN;
+}
