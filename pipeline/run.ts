@@ -56,7 +56,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
 
   let t = performance.now();
   const pool = openPool(o.jobs);
-  // A first run into an output folder reduces and writes, so its threads start now, loading their modules while this
+  // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
   if (!existsSync(join(outDir, 'cache'))) pool.run('reduceBatch', []).catch(() => {});
   let declaration, spec, trends, lock;

@@ -142,6 +142,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, tables, metadata: o.metadata });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
+    o.pool.widen(all.length);
     let next = 0;
     const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
     launch();
