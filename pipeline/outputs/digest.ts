@@ -2,7 +2,7 @@
 // made from (each entry's results checksum, the spec, labels, version, unmatched files), kept beside the outputs.
 import { createHash } from 'node:crypto';
 import { readFile, rm, stat } from 'node:fs/promises';
-import { canonicalJson } from '../declare/declare.js';
+import { canonicalJson } from '../declare/canonical-json.js';
 import { writeFileAtomic } from './atomic.js';
 import type { QualitySummary } from './quality.js';
 
