@@ -53,7 +53,8 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
-    const changes = await trendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata });
+    // Worked out on this thread while the workers assemble the slices.
+    const changes = trendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata });
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];

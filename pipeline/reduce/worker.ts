@@ -12,6 +12,8 @@ const moved = <T>(value: T, buffers: ArrayBuffer[]): T =>
 
 export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   const out = await reduce(items);
+  // Every run that reduces writes tables next: their code loads once this batch has gone, while the main thread stores it.
+  if (items.length) setImmediate(() => { tables().catch(() => {}); });
   return moved(out, batchBuffers(out));
 }
 
