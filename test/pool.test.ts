@@ -8,6 +8,7 @@ afterEach(async () => { await pool?.destroy(); pool = null; });
 describe('openPool', () => {
   it('starts one thread for one task at a time, and a second only when widened for work at once', async () => {
     pool = openPool(2);
+    pool.widen(0);
     expect(pool.started()).toBe(0);
     await pool.run('reduceBatch', []);
     expect(pool.started()).toBe(1);

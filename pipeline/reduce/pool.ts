@@ -36,14 +36,14 @@ export function openPool(threads = availableParallelism()): Pool {
   // Threads start on the first task: a run with nothing to compute or write starts none. One starts first, the others
   // when there is work for them: a small run does not spend a second core loading code it will not use.
   // A modest young generation: workers make short-lived garbage per recording, and collecting it often keeps memory flat.
-  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: 1, maxThreads: 1, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
+  let width = 1;
+  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
   return {
     threads: n,
     widen: (tasks) => {
+      width = Math.max(width, Math.min(n, tasks));
       // The pool reads its bounds at each task; as many kept as allowed, so an idle moment does not stop a thread.
-      const o = get().options, k = Math.max(o.maxThreads, Math.min(n, tasks));
-      o.maxThreads = k;
-      o.minThreads = k;
+      if (pool) { pool.options.maxThreads = width; pool.options.minThreads = width; }
     },
     run: (name, input) => get().run(input, { name }),
     started: () => pool?.threads.length ?? 0,
