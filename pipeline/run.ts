@@ -58,7 +58,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   const pool = openPool(o.jobs);
   // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
-  if (!existsSync(join(outDir, 'cache'))) pool.run('reduceBatch', []).catch(() => {});
+  const firstRun = !existsSync(join(outDir, 'cache'));
+  if (firstRun) pool.prestart(1);
   let declaration, spec, trends, lock;
   try {
     declaration = await loadArchiveDeclaration(root);
@@ -76,6 +77,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const s = store;
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
+    // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
+    if (firstRun) pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
     const { decisions, itemOf, identityOf } = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);

@@ -20,6 +20,16 @@ describe('openPool', () => {
     expect(pool.started()).toBe(2);
   });
 
+  it('starts the threads a prestart asks for, up to the number it was opened with', async () => {
+    pool = openPool(2);
+    pool.prestart(1);
+    await pool.run('reduceBatch', []);
+    expect(pool.started()).toBe(1);
+    pool.prestart(5);
+    await pool.run('reduceBatch', []);
+    expect(pool.started()).toBe(2);
+  });
+
   it('never starts more threads than it was opened with', async () => {
     pool = openPool(1);
     pool.widen(4);

@@ -24,6 +24,8 @@ export interface Pool {
   threads: number;
   /** Lets the pool start threads for up to `tasks` tasks at once (never more than `threads`). */
   widen(tasks: number): void;
+  /** Widens the pool for `tasks` and starts its threads now, so that they load their code before the work comes. */
+  prestart(tasks: number): void;
   run<T>(task: string, input: unknown): Promise<T>;
   /** Threads started so far. */
   started(): number;
@@ -44,6 +46,11 @@ export function openPool(threads = availableParallelism()): Pool {
       width = Math.max(width, Math.min(n, tasks));
       // The pool reads its bounds at each task; as many kept as allowed, so an idle moment does not stop a thread.
       if (pool) { pool.options.maxThreads = width; pool.options.minThreads = width; }
+    },
+    prestart(tasks) {
+      this.widen(tasks);
+      // As many empty batches at once as threads allowed: each one the pool cannot hand to a ready thread starts another.
+      for (let i = 0; i < width; i++) get().run([], { name: 'reduceBatch' }).catch(() => {});
     },
     run: (name, input) => get().run(input, { name }),
     started: () => pool?.threads.length ?? 0,
