@@ -71,7 +71,7 @@ export interface Written { quality: QualitySummary; rewritten: boolean; digest: 
  * Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small; never
  * fewer than `perThread` slices a thread while there are recordings enough, so a small run's slices use every thread too.
  */
-function slices(items: OutputItem[], { threads = 1, perThread = 2, maxItems = 250, maxBytes = 256 << 10 } = {}): OutputItem[][] {
+function slices(items: OutputItem[], { threads = 1, perThread = 2, maxItems = 100, maxBytes = 128 << 10 } = {}): OutputItem[][] {
   const total = items.reduce((s, it) => s + it.loc.length, 0);
   maxBytes = Math.max(1, Math.min(maxBytes, Math.ceil(total / (threads * perThread))));
   const out: OutputItem[][] = [];
