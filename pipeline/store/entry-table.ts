@@ -101,9 +101,17 @@ export class EntryTable {
   }
 
   /** A recording's size, modification time and start as its entry knows them, without making its facts. */
-  identityOf(row: number): { size: number; mtimeMs: number; startTime: string | null } {
+  identityOf(row: number): { size: number; mtimeMs: number; startMs: number | null } {
     const n = row * NUMBERS;
-    return { size: this.numbers[n], mtimeMs: this.numbers[n + 1], startTime: this.startOf(row) };
+    return { size: this.numbers[n], mtimeMs: this.numbers[n + 1], startMs: this.startMsOf(row) };
+  }
+
+  /** A row's start as ms since the epoch (null: none), without making its text. */
+  startMsOf(row: number): number | null {
+    const ms = this.numbers[row * NUMBERS + 8];
+    if (!Number.isNaN(ms)) return ms;
+    const text = this.values[this.shared[row * SHARED + 7]] as string | null;
+    return text ? Date.parse(text) : null;
   }
 
   private startOf(row: number): string | null {

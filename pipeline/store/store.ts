@@ -68,7 +68,7 @@ export class Store {
     const row = this.table.rows.get(recording);
     if (row === undefined) return undefined;
     const f = this.table.identityOf(row);
-    return { size: f.size, mtimeMs: f.mtimeMs, start_ms: f.startTime ? Date.parse(f.startTime) : f.mtimeMs };
+    return { size: f.size, mtimeMs: f.mtimeMs, start_ms: f.startMs ?? f.mtimeMs };
   }
 
   /** The damage found for a recording whose newest record is unusable, if any. */
