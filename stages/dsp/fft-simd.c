@@ -177,59 +177,135 @@ void analytic(const rplan *rp, const cplan *cp, const double *x, const double *g
 }
 
 // The true peak's scan of x[from, to) (ITU-R BS.1770-4 Annex 2; TruePeak.scan in stages/dsp/true-peak.ts): the same
-// decisions and the same products added in the same order, so the same numbers. Candidates are gathered first against the
-// threshold the running sample peak sets (never above TruePeak's, so none is missed), their half-sample points are made four
-// at a time (so the processor overlaps their chains of additions), and then they are taken in order against TruePeak's
-// threshold, with the quarter-sample points only where those could lie beside the true peak. The taps come as 24 pairs
-// (lane 0's, lane 1's): lane 0 sums from x[i − 12 + j], lane 1 from x[i − 11 + j]. peaks holds the guard, the sample peak
-// and the true peak (in and out); cand, peak_at and half are scratch of to − from each.
+// decisions and the same products added in the same order, so the same numbers. Three steps:
+// 1. Candidates are gathered four samples at a time (f64x2 compares to a bitmask) against the threshold the running sample
+//    peak sets (never above TruePeak's, so none is missed); samples that raise the sample peak are taken one by one.
+// 2. Each candidate's four points (i ∓ 1/2, i ∓ 1/4) are estimated in single precision, all four in one f32x4 sum.
+// 3. The candidates are taken in order against TruePeak's threshold. A candidate whose estimate, plus a bound on the
+//    estimate's error, does not exceed the running true peak cannot raise it, so its points are not made (this changes no
+//    decision: a point at most the running true peak leaves it as it is); the others get their half-sample points, and the
+//    quarter-sample points where those could lie beside the true peak, in double precision as TruePeak makes them.
+// Error of the estimate (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., 3.1): rounding x and the taps to
+// float and summing 24 products in float is off by at most (2u + γ₂₅)·Σ|h|·max|x| ≈ 1.6·10⁻⁶·Σ|h|·max|x| (u = 2⁻²⁴); the
+// bound used is 10⁻⁵·Σ|h|·max|x|, with max|x| over the stretch the candidates' supports cover. A stretch holding a value that
+// is not finite or beyond 10³⁰ (float's range) is not estimated: each of its candidates gets its points made.
+// The taps come as 24 pairs (lane 0's, lane 1's): lane 0 sums from x[i − 12 + j], lane 1 from x[i − 11 + j]. peaks holds the
+// guard, the sample peak and the true peak (in and out); cand (ints), peak_at and estimate are scratch of to − from each, xf
+// (floats) of the block's length.
 static double magnitude(double y) { return y < __builtin_inf() && y > -__builtin_inf() ? __builtin_fabs(y) : 0; }
-static double larger(v128_t s) {
-  double a = magnitude(wasm_f64x2_extract_lane(s, 0)), b = magnitude(wasm_f64x2_extract_lane(s, 1));
-  return b > a ? b : a;
-}
 static double point_pair(const double *x, int i, const double *taps) {
   const double *p = x + i - 12;
   v128_t s = wasm_f64x2_splat(0);
   for (int j = 0; j < 24; j++) s = ADD(s, MUL(LD(taps + 2 * j), LD(p + j)));
-  return larger(s);
+  double a = magnitude(wasm_f64x2_extract_lane(s, 0)), b = magnitude(wasm_f64x2_extract_lane(s, 1));
+  return b > a ? b : a;
 }
 
-void true_peak_scan(const double *x, int from, int to, int first, double *peaks, const double *taps_half,
-                    const double *taps_quarter, int *cand, double *peak_at, double *half) {
-  const double guard = peaks[0];
-  double peak = peaks[1], top = peaks[2] > peak ? peaks[2] : peak, threshold = guard * top;
-  int m = 0;
-  for (int i = from; i < to; i++) {
+// Whether v (|v| = a) is a candidate: at least the threshold, a local maximum of |x|, and not on a flat top of three.
+static v128_t candidates(const double *x, int i, v128_t v, v128_t a, v128_t threshold) {
+  v128_t l = LD(x + i - 1), r = LD(x + i + 1);
+  v128_t ok = wasm_v128_andnot(wasm_f64x2_ge(a, threshold), wasm_v128_or(wasm_f64x2_lt(a, wasm_f64x2_abs(l)), wasm_f64x2_lt(a, wasm_f64x2_abs(r))));
+  v128_t el = wasm_f64x2_eq(v, l), er = wasm_f64x2_eq(v, r);
+  v128_t flat = wasm_v128_or(wasm_v128_and(el, wasm_v128_or(er, wasm_f64x2_eq(v, LD(x + i - 2)))), wasm_v128_and(er, wasm_f64x2_eq(v, LD(x + i + 2))));
+  return wasm_v128_andnot(ok, flat);
+}
+
+static int gather(const double *x, int from, int to, int first, double guard, double *peak_io, double top, int *cand, double *peak_at) {
+  double peak = *peak_io, threshold = guard * (top > peak ? top : peak);
+  int m = 0, i = from;
+  for (; i < to; ) {
+    if (i >= first && i + 4 <= to) {
+      v128_t v = LD(x + i), w = LD(x + i + 2), a = wasm_f64x2_abs(v), b = wasm_f64x2_abs(w), p = wasm_f64x2_splat(peak);
+      if (!wasm_v128_any_true(wasm_v128_or(wasm_f64x2_gt(a, p), wasm_f64x2_gt(b, p)))) {
+        v128_t t = wasm_f64x2_splat(threshold);
+        int bits = wasm_i64x2_bitmask(candidates(x, i, v, a, t)) | wasm_i64x2_bitmask(candidates(x, i + 2, w, b, t)) << 2;
+        cand[m] = i; peak_at[m] = peak; m += bits & 1;
+        cand[m] = i + 1; peak_at[m] = peak; m += (bits >> 1) & 1;
+        cand[m] = i + 2; peak_at[m] = peak; m += (bits >> 2) & 1;
+        cand[m] = i + 3; peak_at[m] = peak; m += bits >> 3;
+        i += 4;
+        continue;
+      }
+    }
     double v = x[i], a = v < 0 ? -v : v;
+    int at = i++;
     if (a > peak) {
       if (!(a < __builtin_inf())) continue;
       peak = a;
       if (guard * a > threshold) threshold = guard * a;
     }
-    if (!(a >= threshold) || i < first) continue;
-    double l = x[i - 1], r = x[i + 1];
+    if (!(a >= threshold) || at < first) continue;
+    double l = x[at - 1], r = x[at + 1];
     if (a < __builtin_fabs(l) || a < __builtin_fabs(r)) continue;
-    if ((v == l && (v == r || v == x[i - 2])) || (v == r && v == x[i + 2])) continue;
-    cand[m] = i; peak_at[m] = peak; m++;
+    if ((v == l && (v == r || v == x[at - 2])) || (v == r && v == x[at + 2])) continue;
+    cand[m] = at; peak_at[m] = peak; m++;
   }
-  int k = 0;
-  for (; k + 4 <= m; k += 4) {
-    const double *p0 = x + cand[k] - 12, *p1 = x + cand[k + 1] - 12, *p2 = x + cand[k + 2] - 12, *p3 = x + cand[k + 3] - 12;
-    v128_t h0 = wasm_f64x2_splat(0), h1 = h0, h2 = h0, h3 = h0;
+  *peak_io = peak;
+  return m;
+}
+
+// The largest |estimate| of the four points, from the float taps (i − 1/2, i + 1/2, i − 1/4, i + 1/4 as lanes) and x as floats.
+static double estimate(v128_t s) {
+  v128_t a = wasm_f32x4_abs(s);
+  a = wasm_f32x4_pmax(a, wasm_i32x4_shuffle(a, a, 2, 3, 0, 1));
+  a = wasm_f32x4_pmax(a, wasm_i32x4_shuffle(a, a, 1, 0, 3, 2));
+  return wasm_f32x4_extract_lane(a, 0);
+}
+
+void true_peak_scan(const double *x, int from, int to, int first, double *peaks, const double *taps_half,
+                    const double *taps_quarter, int *cand, double *peak_at, double *est, float *xf) {
+  const double guard = peaks[0];
+  double peak = peaks[1], top = peaks[2] > peak ? peaks[2] : peak;
+  int m = gather(x, from, to, first, guard, &peak, top, cand, peak_at);
+  if (m) {
+    float taps[96] __attribute__((aligned(16)));
+    double sum_half = 0, sum_before = 0, sum_after = 0;
     for (int j = 0; j < 24; j++) {
-      v128_t t = LD(taps_half + 2 * j);
-      h0 = ADD(h0, MUL(t, LD(p0 + j))); h1 = ADD(h1, MUL(t, LD(p1 + j)));
-      h2 = ADD(h2, MUL(t, LD(p2 + j))); h3 = ADD(h3, MUL(t, LD(p3 + j)));
+      taps[4 * j] = (float)taps_half[2 * j]; taps[4 * j + 1] = (float)taps_half[2 * j + 1];
+      taps[4 * j + 2] = (float)taps_quarter[2 * j]; taps[4 * j + 3] = (float)taps_quarter[2 * j + 1];
+      sum_half += __builtin_fabs(taps_half[2 * j]); sum_before += __builtin_fabs(taps_quarter[2 * j]); sum_after += __builtin_fabs(taps_quarter[2 * j + 1]);
     }
-    half[k] = larger(h0); half[k + 1] = larger(h1); half[k + 2] = larger(h2); half[k + 3] = larger(h3);
+    double gain = sum_half > sum_before ? sum_half : sum_before;
+    if (sum_after > gain) gain = sum_after;
+    // x as floats over the candidates' supports, its largest magnitude, and whether every value there is finite.
+    int lo = cand[0] - 12, hi = cand[m - 1] + 13, i = lo;
+    v128_t mx = wasm_f64x2_splat(0), nonfinite = mx;
+    for (; i + 4 <= hi; i += 4) {
+      v128_t v = LD(x + i), w = LD(x + i + 2);
+      mx = wasm_f64x2_pmax(mx, wasm_f64x2_pmax(wasm_f64x2_abs(v), wasm_f64x2_abs(w)));
+      nonfinite = ADD(nonfinite, ADD(SUB(v, v), SUB(w, w))); // NaN once a value is not finite
+      ST(xf + i, wasm_i32x4_shuffle(wasm_f32x4_demote_f64x2_zero(v), wasm_f32x4_demote_f64x2_zero(w), 0, 1, 4, 5));
+    }
+    double big = wasm_f64x2_extract_lane(mx, 0), big1 = wasm_f64x2_extract_lane(mx, 1);
+    if (big1 > big) big = big1;
+    big += wasm_f64x2_extract_lane(nonfinite, 0) + wasm_f64x2_extract_lane(nonfinite, 1);
+    for (; i < hi; i++) { double a = __builtin_fabs(x[i]); big = a > big || a != a ? a : big; xf[i] = (float)x[i]; }
+    const double slack = big < 1e30 ? 1e-5 * gain * big + 1e-30 : __builtin_inf();
+    int k = 0;
+    for (; k + 4 <= m; k += 4) {
+      const float *p0 = xf + cand[k] - 12, *p1 = xf + cand[k + 1] - 12, *p2 = xf + cand[k + 2] - 12, *p3 = xf + cand[k + 3] - 12;
+      v128_t s0 = wasm_f32x4_splat(0), s1 = s0, s2 = s0, s3 = s0;
+      for (int j = 0; j < 24; j++) {
+        v128_t t = LD(taps + 4 * j);
+        s0 = wasm_f32x4_add(s0, wasm_f32x4_mul(t, wasm_v128_load64_splat(p0 + j)));
+        s1 = wasm_f32x4_add(s1, wasm_f32x4_mul(t, wasm_v128_load64_splat(p1 + j)));
+        s2 = wasm_f32x4_add(s2, wasm_f32x4_mul(t, wasm_v128_load64_splat(p2 + j)));
+        s3 = wasm_f32x4_add(s3, wasm_f32x4_mul(t, wasm_v128_load64_splat(p3 + j)));
+      }
+      est[k] = estimate(s0) + slack; est[k + 1] = estimate(s1) + slack; est[k + 2] = estimate(s2) + slack; est[k + 3] = estimate(s3) + slack;
+    }
+    for (; k < m; k++) {
+      const float *p = xf + cand[k] - 12;
+      v128_t s = wasm_f32x4_splat(0);
+      for (int j = 0; j < 24; j++) s = wasm_f32x4_add(s, wasm_f32x4_mul(LD(taps + 4 * j), wasm_v128_load64_splat(p + j)));
+      est[k] = estimate(s) + slack;
+    }
   }
-  for (; k < m; k++) half[k] = point_pair(x, cand[k], taps_half);
-  for (k = 0; k < m; k++) {
+  for (int k = 0; k < m; k++) {
     if (peak_at[k] > top) top = peak_at[k];
     double v = x[cand[k]], a = v < 0 ? -v : v;
-    if (!(a >= guard * top)) continue;
-    double h = half[k];
+    if (!(a >= guard * top) || est[k] <= top) continue;
+    double h = point_pair(x, cand[k], taps_half);
     if (h > top) top = h;
     if (a + h >= (1 + guard) * top * (1 - 1e-3)) { double q = point_pair(x, cand[k], taps_quarter); if (q > top) top = q; }
   }

@@ -11,7 +11,7 @@ interface Exports {
   rfft(plan: number, x: number, re: number, im: number): void;
   periodogram_add(plan: number, x: number, w: number, re: number, im: number, acc: number): void;
   analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
-  true_peak_scan(x: number, from: number, to: number, first: number, peaks: number, tapsHalf: number, tapsQuarter: number, cand: number, peakAt: number, half: number): void;
+  true_peak_scan(x: number, from: number, to: number, first: number, peaks: number, tapsHalf: number, tapsQuarter: number, cand: number, peakAt: number, estimate: number, xf: number): void;
 }
 
 class Kernels {
@@ -221,7 +221,11 @@ export function simdPeakScan(taps: { half: () => Float64Array; quarter: () => Fl
   const at = { taps: k.region('true-peak:taps-half', 48, (v) => v.set(taps.half())), quarterTaps: k.region('true-peak:taps-quarter', 48, (v) => v.set(taps.quarter())), peaks: k.region('true-peak:peaks', 4) };
   const room = (length: number) => {
     const cap = 2 ** Math.ceil(Math.log2(Math.max(length, 4096)));
-    return { cap, x: k.region(`true-peak:x:${cap}`, cap), cand: k.region(`true-peak:cand:${cap}`, cap / 2), peakAt: k.region(`true-peak:peak-at:${cap}`, cap), half: k.region(`true-peak:half:${cap}`, cap) };
+    // cand holds cap ints and xf cap floats (cap / 2 doubles each).
+    return {
+      cap, x: k.region(`true-peak:x:${cap}`, cap), cand: k.region(`true-peak:cand:${cap}`, cap / 2), peakAt: k.region(`true-peak:peak-at:${cap}`, cap),
+      estimate: k.region(`true-peak:estimate:${cap}`, cap), xf: k.region(`true-peak:xf:${cap}`, cap / 2),
+    };
   };
   let r = room(0);
   return {
@@ -229,7 +233,7 @@ export function simdPeakScan(taps: { half: () => Float64Array; quarter: () => Fl
     scan(_block, from, to, first, peaks) {
       const p = k.f64(at.peaks, 3);
       p.set(peaks);
-      k.exports.true_peak_scan(r.x, from, to, first, at.peaks, at.taps, at.quarterTaps, r.cand, r.peakAt, r.half);
+      k.exports.true_peak_scan(r.x, from, to, first, at.peaks, at.taps, at.quarterTaps, r.cand, r.peakAt, r.estimate, r.xf);
       peaks.set(k.f64(at.peaks, 3));
     },
   };
