@@ -113,13 +113,9 @@ void rfft(const rplan *p, const double *x, double *re, double *im) {
   split_step(p, re, im);
 }
 
-/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
- *  (detrend 'constant'), k = 0 … n/2. */
-void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
+// acc[k] += |X[k]|², X the transform of w·(x − mean), k = 0 … n/2.
+static void periodogram_of(const rplan *p, const double *x, double mean, const double *w, double *re, double *im, double *acc) {
   int m = p->n / 2;
-  double mean = 0;
-  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
-  mean /= p->n;
   const unsigned *rev = p->half.rev;
   for (int i = 0; i < m; i++) {
     unsigned r = rev[i];
@@ -129,6 +125,32 @@ void periodogram_add(const rplan *p, const double *x, const double *w, double *r
   cfft(&p->half, p->zr, p->zi);
   split_step(p, re, im);
   for (int k = 0; k <= m; k++) acc[k] += re[k] * re[k] + im[k] * im[k];
+}
+
+/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
+ *  (detrend 'constant'), k = 0 … n/2. */
+void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
+  double mean = 0;
+  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
+  periodogram_of(p, x, mean / p->n, w, re, im, acc);
+}
+
+/** Welch's method over a stretch of the stream: periodogram_add for every whole segment of x[0 … length) that starts at a
+ *  multiple of hop, in order; returns how many. Each segment's sum is added in order, as periodogram_add adds it, but the
+ *  sums of eight segments run side by side, so the processor overlaps their chains of additions. */
+int welch_add(const rplan *p, const double *x, int length, int hop, const double *w, double *re, double *im, double *acc) {
+  int n = p->n, count = length < n ? 0 : (length - n) / hop + 1, s = 0;
+  for (; s + 8 <= count; s += 8) {
+    const double *x0 = x + s * hop, *x1 = x0 + hop, *x2 = x1 + hop, *x3 = x2 + hop, *x4 = x3 + hop, *x5 = x4 + hop, *x6 = x5 + hop, *x7 = x6 + hop;
+    double m0 = 0, m1 = 0, m2 = 0, m3 = 0, m4 = 0, m5 = 0, m6 = 0, m7 = 0;
+    for (int i = 0; i < n; i++) { m0 += x0[i]; m1 += x1[i]; m2 += x2[i]; m3 += x3[i]; m4 += x4[i]; m5 += x5[i]; m6 += x6[i]; m7 += x7[i]; }
+    periodogram_of(p, x0, m0 / n, w, re, im, acc); periodogram_of(p, x1, m1 / n, w, re, im, acc);
+    periodogram_of(p, x2, m2 / n, w, re, im, acc); periodogram_of(p, x3, m3 / n, w, re, im, acc);
+    periodogram_of(p, x4, m4 / n, w, re, im, acc); periodogram_of(p, x5, m5 / n, w, re, im, acc);
+    periodogram_of(p, x6, m6 / n, w, re, im, acc); periodogram_of(p, x7, m7 / n, w, re, im, acc);
+  }
+  for (; s < count; s++) periodogram_add(p, x + s * hop, w, re, im, acc);
+  return count;
 }
 
 /** Filtered analytic signal of a block: z = IDFT(g·DFT(x)) with complex gains g[k] (re, im interleaved) for k = 0 … n/2
