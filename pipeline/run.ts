@@ -56,9 +56,10 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
 
   let t = performance.now();
   const pool = openPool(o.jobs);
-  // A first run into an output folder reduces and writes, so its threads start now, loading their modules while this
+  // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
-  if (!existsSync(join(outDir, 'cache'))) pool.run('reduceBatch', []).catch(() => {});
+  const firstRun = !existsSync(join(outDir, 'cache'));
+  if (firstRun) pool.prestart(1);
   let declaration, spec, trends, lock;
   try {
     declaration = await loadArchiveDeclaration(root);
@@ -76,6 +77,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const s = store;
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
+    // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
+    if (firstRun) pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
     const { decisions, itemOf, identityOf } = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const scanS = clock(t);
@@ -111,8 +114,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
     // Trends and spectra need every shard's results: a shard leaves them to quern merge.
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
-    // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them.
-    const changes: TrendsWrite | null = shard ? null : await (await import('./trends/trends.js')).trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata });
+    // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
+    // while the workers assemble the other tables' slices.
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();

@@ -4,7 +4,8 @@ import { randomUUID } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import { activeStages } from '../../stages/index.js';
-import { canonicalJson, type LoadedSpec } from '../declare/declare.js';
+import { canonicalJson } from '../declare/canonical-json.js';
+import type { LoadedSpec } from '../declare/declare.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { describeHolder, heldShardLocks, lockPath, takeLock } from '../outputs/lock.js';
 import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
@@ -52,7 +53,8 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
-    const changes = await trendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata });
+    // Worked out on this thread while the workers assemble the slices.
+    const changes = trendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata });
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];

@@ -1,4 +1,5 @@
 // Loads and checks archive.yaml (what the recordings are) and reduction.yaml (what to compute).
+import { canonicalJson } from './canonical-json.js';
 import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
@@ -77,14 +78,9 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
   return { file, groups };
 }
 
-export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
+export { canonicalJson };
 
-/** Stable JSON: keys sorted, so the hash depends on content, not on layout or key order. */
-export function canonicalJson(value: unknown): string {
-  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
-  if (value && typeof value === 'object') return `{${Object.keys(value).sort().map((k) => `${JSON.stringify(k)}:${canonicalJson((value as Record<string, unknown>)[k])}`).join(',')}}`;
-  return JSON.stringify(value);
-}
+export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
 
 /** The spec from --spec, else reduction.yaml at the archive root, else the embedded default. */
 export async function loadSpec(archive: string, specPath?: string | null): Promise<LoadedSpec> {

@@ -2,7 +2,7 @@
 // made from (each entry's results checksum, the spec, labels, version, unmatched files), kept beside the outputs.
 import { createHash } from 'node:crypto';
 import { readFile, rm, stat } from 'node:fs/promises';
-import { canonicalJson } from '../declare/declare.js';
+import { canonicalJson } from '../declare/canonical-json.js';
 import { writeFileAtomic } from './atomic.js';
 import type { QualitySummary } from './quality.js';
 
@@ -16,21 +16,26 @@ export interface DigestInput {
   unmatched: string[];
   /** Made one at a time (a generator), so that no second list the size of the run is held. */
   items: Iterable<{ recording: string; group: string; bodySha: string; labels: Record<string, string> }>;
-  /** What changed against the baselines, which rests on the whole stored history; null when trends are off. */
-  changes?: unknown;
 }
 
-/** SHA-256 over the inputs in table order; equal digests mean equal tables and reports, row for row. */
+/** SHA-256 over the inputs in table order: the basis of the outputs, all they are made from but the changes. */
 export function outputsDigest(d: DigestInput): string {
   const h = createHash('sha256');
   const { 'quern.run_id': _runId, ...metadata } = d.metadata;
-  h.update(canonicalJson({ version: d.version, spec: d.spec, labels: d.labels, tables: d.tables, metadata, unmatched: d.unmatched, changes: d.changes ?? null }));
+  h.update(canonicalJson({ version: d.version, spec: d.spec, labels: d.labels, tables: d.tables, metadata, unmatched: d.unmatched }));
   for (const it of d.items) h.update(`\n${it.recording}\u0000${it.group}\u0000${it.bodySha}\u0000${canonicalJson(it.labels)}`);
   return h.digest('hex');
 }
 
-/** What the digest file keeps: the digest, the run that wrote the outputs, their sizes, and the terminal's quality summary. */
-export interface DigestRecord { digest: string; run_id: string; written: string; files: Record<string, number>; quality: QualitySummary }
+/**
+ * The digest of the outputs: their basis and what changed against the baselines (which rests on the whole stored history;
+ * null when trends are off). Equal digests mean equal tables and reports, row for row.
+ */
+export const withChanges = (basis: string, changes: { outcome: unknown } | null): string =>
+  createHash('sha256').update(`${basis}\n${canonicalJson(changes?.outcome ?? null)}`).digest('hex');
+
+/** What the digest file keeps: the digest and its basis, the run that wrote the outputs, their sizes, and the terminal's quality summary. */
+export interface DigestRecord { digest: string; basis?: string; run_id: string; written: string; files: Record<string, number>; quality: QualitySummary }
 
 export async function readDigest(path: string): Promise<DigestRecord | null> {
   try { return JSON.parse(await readFile(path, 'utf8')); } catch { return null; }

@@ -9,7 +9,7 @@ import { createInterface } from 'node:readline';
 import { featureColumns } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { Pool } from '../reduce/pool.js';
-import { forgetDigest, keepDigest, outputsDigest, stillCurrent } from './digest.js';
+import { forgetDigest, keepDigest, outputsDigest, readDigest, stillCurrent, withChanges } from './digest.js';
 import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './columns.js';
 import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
@@ -47,8 +47,11 @@ export interface OutputsInput {
   items: OutputItem[];
   spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
   pool: Pool;
-  /** What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. */
-  changes?: TrendsWrite | null;
+  /**
+   * What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. May still
+   * be in the making: the slices go to the workers meanwhile, whenever the results alone already mean new outputs.
+   */
+  changes?: Promise<TrendsWrite | null> | TrendsWrite | null;
 }
 
 const COMMA = 0x2c;
@@ -90,20 +93,29 @@ async function* lines(file: StagedFile): AsyncGenerator<string> {
 export async function writeOutputs(outDir: string, names: OutputNames, o: OutputsInput): Promise<Written> {
   const tables: Record<string, TableColumn[]> = { features: tableColumns(o.spec, o.labels), ...SECONDARY_TABLES };
   const digestPath = join(outDir, names.digest);
-  const digest = outputsDigest({
-    version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched,
-    items: digestItems(o.items),
+  const basis = outputsDigest({ version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched, items: digestItems(o.items) });
+  const made = Promise.resolve(o.changes ?? null);
+  made.catch(() => {}); // awaited below; a failure must not also surface as unhandled
+  let changes: TrendsWrite | null = null;
+  const trends: StagedFile[] = [];
+  // Results that differ from those the outputs were made from mean new outputs, whatever changed against the baselines.
+  if ((await readDigest(digestPath))?.basis === basis) {
+    changes = await made;
+    trends.push(...(changes?.files ?? []));
     // The changes rest on the whole history, not only on these items.
-    changes: o.changes?.outcome ?? null,
-  });
-  const current = await stillCurrent(digestPath, digest);
-  const trends = o.changes?.files ?? [];
-  if (current) {
-    // Trends tables staged afresh (a history that changed elsewhere) still go in place; the rest is left as it is.
-    await commitAll(trends);
-    await o.changes?.done();
-    return { quality: current.quality, rewritten: false, digest, writtenBy: current.run_id };
+    const current = await stillCurrent(digestPath, withChanges(basis, changes));
+    if (current) {
+      // Trends tables staged afresh (a history that changed elsewhere) still go in place; the rest is left as it is.
+      await commitAll(trends);
+      await changes?.done();
+      return { quality: current.quality, rewritten: false, digest: current.digest, writtenBy: current.run_id };
+    }
   }
+  /** The changes, once worked out (on this thread, while the workers assemble slices). */
+  const settled = async () => {
+    if (changes == null) { changes = await made; trends.push(...(changes?.files ?? [])); }
+    return changes;
+  };
 
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
   // The Parquet writer (WebAssembly) is loaded only by runs that write.
@@ -115,7 +127,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
   try {
     const totals = emptyTotals(o.unmatched.length);
-    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: o.changes?.outcome?.report ?? null };
+    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: null };
     const channelNames = new Set<string>();
     const candidates = { fail: [] as Candidate[], warn: [] as Candidate[] };
     const counted = { fail: 0, warn: 0, recordings: 0 };
@@ -142,6 +154,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, tables, metadata: o.metadata });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
+    o.pool.widen(all.length);
     let next = 0;
     const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
     launch();
@@ -151,12 +164,14 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       try { await take(s); } finally { release(ownBuffers([...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes])); }
     }
     for (const p of Object.values(parquet)) await p.finish();
+    const outcome = (await settled())?.outcome ?? null;
+    summary.changes = outcome?.report ?? null;
 
     const generated = new Date().toISOString();
     await spools.quality.close({ durable: false });
     await qualityJson.write(jsonPieces.head({ tool: 'quern', version: o.version, run_id: o.runId, generated, archive: o.archive, totals }, 'recordings'));
     for await (const chunk of createReadStream(spools.quality.tmp)) await qualityJson.write(chunk as Buffer);
-    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.changes?.outcome ? { changes: o.changes.outcome.report } : {}) }));
+    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(outcome ? { changes: outcome.report } : {}) }));
     await qualityJson.close();
 
     if (qualityHtml) {
@@ -165,7 +180,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
       const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured) : [];
       const names = [...channelNames];
-      await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, o.changes?.outcome?.html) + '\n');
+      await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');
       for await (const line of lines(spools.overview)) await qualityHtml.write(overviewLine(JSON.parse(line) as OverviewRow, names) + '\n');
       await qualityHtml.write(sectionsHead(counted.fail + counted.warn) + '\n');
@@ -183,11 +198,14 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
     await forgetDigest(digestPath);
     await commitAll([...outputs, ...trends]);
-    await o.changes?.done();
+    await changes?.done();
     const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
-    await keepDigest(digestPath, { digest, run_id: o.runId, written: generated, files, quality: summary });
+    const digest = withChanges(basis, changes);
+    await keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });
     return { quality: summary, rewritten: true, digest, writtenBy: o.runId };
   } finally {
+    // Changes still in the making when a write failed: their staged tables go too.
+    if (changes == null) await settled().catch(() => null);
     for (const f of [...outputs, ...trends, ...Object.values(spools)]) await f.discard();
   }
 }

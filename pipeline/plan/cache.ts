@@ -2,7 +2,7 @@
 // group still holds, and the whole stored history. Entries live in packs (pipeline/store/), stored as soon as a batch is done.
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
-import { canonicalJson } from '../declare/declare.js';
+import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';

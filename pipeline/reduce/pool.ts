@@ -19,17 +19,41 @@ function workerFile(): string {
 
 const YOUNG_GENERATION_MB = 16;
 
-export interface Pool { threads: number; run<T>(task: string, input: unknown): Promise<T>; destroy(): Promise<void> }
+export interface Pool {
+  /** Threads the pool may use at most. */
+  threads: number;
+  /** Lets the pool start threads for up to `tasks` tasks at once (never more than `threads`). */
+  widen(tasks: number): void;
+  /** Widens the pool for `tasks` and starts its threads now, so that they load their code before the work comes. */
+  prestart(tasks: number): void;
+  run<T>(task: string, input: unknown): Promise<T>;
+  /** Threads started so far. */
+  started(): number;
+  destroy(): Promise<void>;
+}
 
 export function openPool(threads = availableParallelism()): Pool {
   const n = Math.max(1, threads);
   let pool: Tinypool | null = null;
-  // Threads start on the first task: a run with nothing to compute or write starts none.
+  // Threads start on the first task: a run with nothing to compute or write starts none. One starts first, the others
+  // when there is work for them: a small run does not spend a second core loading code it will not use.
   // A modest young generation: workers make short-lived garbage per recording, and collecting it often keeps memory flat.
-  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: n, maxThreads: n, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
+  let width = 1;
+  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
   return {
     threads: n,
+    widen: (tasks) => {
+      width = Math.max(width, Math.min(n, tasks));
+      // The pool reads its bounds at each task; as many kept as allowed, so an idle moment does not stop a thread.
+      if (pool) { pool.options.maxThreads = width; pool.options.minThreads = width; }
+    },
+    prestart(tasks) {
+      this.widen(tasks);
+      // As many empty batches at once as threads allowed: each one the pool cannot hand to a ready thread starts another.
+      for (let i = 0; i < width; i++) get().run([], { name: 'reduceBatch' }).catch(() => {});
+    },
     run: (name, input) => get().run(input, { name }),
+    started: () => pool?.threads.length ?? 0,
     // Safe to call again: the run stops its threads once the outputs are written, and again on its way out.
     destroy: async () => { const p = pool; pool = null; await p?.destroy(); },
   };
@@ -71,6 +95,7 @@ const BATCHES_IN_FLIGHT = 2;
 export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch }: ReduceOptions<T>): Promise<void> {
   let failure: unknown = null;
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
+  pool.widen(batches.length);
   const one = async (batch: T[]) => {
     const items = batch.map(itemOf);
     let results: StoredRecord[];

@@ -5,7 +5,7 @@ import { mkdir, readFile, rm, stat } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
-import { canonicalJson } from '../declare/declare.js';
+import { canonicalJson } from '../declare/canonical-json.js';
 import { entriesOf, everyEntry, type CacheEntry } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';

@@ -1,0 +1,39 @@
+// The worker pool on real threads: one thread starts first, more only for work that can use them, never more than asked.
+import { afterEach, describe, expect, it } from 'vitest';
+import { openPool, type Pool } from '../pipeline/reduce/pool.js';
+
+let pool: Pool | null = null;
+afterEach(async () => { await pool?.destroy(); pool = null; });
+
+describe('openPool', () => {
+  it('starts one thread for one task at a time, and a second only when widened for work at once', async () => {
+    pool = openPool(2);
+    pool.widen(0);
+    expect(pool.started()).toBe(0);
+    await pool.run('reduceBatch', []);
+    expect(pool.started()).toBe(1);
+    pool.widen(1);
+    await Promise.all([pool.run('reduceBatch', []), pool.run('reduceBatch', [])]);
+    expect(pool.started()).toBe(1);
+    pool.widen(8);
+    await Promise.all([pool.run('reduceBatch', []), pool.run('reduceBatch', []), pool.run('reduceBatch', [])]);
+    expect(pool.started()).toBe(2);
+  });
+
+  it('starts the threads a prestart asks for, up to the number it was opened with', async () => {
+    pool = openPool(2);
+    pool.prestart(1);
+    await pool.run('reduceBatch', []);
+    expect(pool.started()).toBe(1);
+    pool.prestart(5);
+    await pool.run('reduceBatch', []);
+    expect(pool.started()).toBe(2);
+  });
+
+  it('never starts more threads than it was opened with', async () => {
+    pool = openPool(1);
+    pool.widen(4);
+    await Promise.all([pool.run('reduceBatch', []), pool.run('reduceBatch', [])]);
+    expect(pool.started()).toBe(1);
+  });
+});
