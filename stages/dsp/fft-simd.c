@@ -86,13 +86,31 @@ void cfft(const cplan *p, double *re, double *im) {
   later_stages(p, re, im);
 }
 
-// X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2).
+// X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2). Two values of k at a
+// time (k, k + 1 as lanes; their partners m − k, m − k − 1 read and written with the lanes swapped), the same operations
+// on each as one at a time.
 static void split_step(const rplan *p, double *re, double *im) {
   int m = p->n / 2;
   const double *zr = p->zr, *zi = p->zi, *tw = p->split;
   re[0] = zr[0] + zi[0]; im[0] = 0;
   re[m] = zr[0] - zi[0]; im[m] = 0;
-  for (int k = 1; k <= m / 2; k++) {
+  int k = 1;
+  const v128_t half = wasm_f64x2_splat(0.5), minus_half = wasm_f64x2_splat(-0.5);
+#define SWAP(v) wasm_i64x2_shuffle(v, v, 1, 0)
+  for (; k + 1 <= m / 2; k += 2) {
+    int j = m - k - 1; // the partners' lower place
+    v128_t ar = LD(zr + k), ai = LD(zi + k), br = SWAP(LD(zr + j)), bi = SWAP(LD(zi + j));
+    v128_t t0 = LD(tw + 2 * k), t1 = LD(tw + 2 * k + 2);
+    v128_t c = wasm_i64x2_shuffle(t0, t1, 0, 2), s = wasm_i64x2_shuffle(t0, t1, 1, 3);
+    v128_t er = MUL(half, ADD(ar, br)), ei = MUL(half, SUB(ai, bi));
+    v128_t or = MUL(half, ADD(ai, bi)), oi = MUL(minus_half, SUB(ar, br));
+    v128_t wr = SUB(MUL(c, or), MUL(s, oi)), wi = ADD(MUL(c, oi), MUL(s, or));
+    ST(re + k, ADD(er, wr)); ST(im + k, ADD(ei, wi));
+    // Lane 1 (k + 1) is written after lane 0 (k) at the middle, where m − (k + 1) = k + 1, as one at a time would.
+    ST(re + j, SWAP(SUB(er, wr))); ST(im + j, SWAP(ADD(wasm_f64x2_neg(ei), wi)));
+  }
+#undef SWAP
+  for (; k <= m / 2; k++) {
     int j = m - k;
     double ar = zr[k], ai = zi[k], br = zr[j], bi = zi[j];
     double er = 0.5 * (ar + br), ei = 0.5 * (ai - bi);
