@@ -52,8 +52,8 @@ const BUCKETS = 512;
 
 // Median by distributive partitioning (Allison & Noga, Selection by distributive partitioning, Inf. Proc. Letters 11(1),
 // 1980): values binned by a monotone map over [min, max] in straight passes without data-dependent branches, then the
-// plain selection within the one bin holding the median, so the same order statistics, the same median. null (nothing
-// reordered but the bin's values) when a value is not finite or all are equal.
+// plain selection within the one bin holding the median (its values copied out, v left as it is), so the same order
+// statistics, the same median. null when a value is not a number, is infinite, or all are equal.
 function bucketedMedian(v: Float64Array): number | null {
   const n = v.length, m = n >> 1;
   let lo = Infinity, hi = -Infinity, missing = false;
@@ -72,17 +72,18 @@ function bucketedMedian(v: Float64Array): number | null {
   for (let b = 0; b < BUCKETS; b++) counts[b] += counts[BUCKETS + b];
   let below = 0, bin = 0;
   while (below + counts[bin] <= m) below += counts[bin++];
-  // The bin's values swapped to the front (every value kept).
+  // The bin's values copied out (one spare place, so that every value may be written and only the bin's counted).
+  const part = new Float64Array(counts[bin] + 1);
   let c = 0;
   for (let i = 0; i < n; i++) {
     const x = v[i], b = ((x - lo) * scale) | 0;
-    v[i] = v[c]; v[c] = x; c += (b < top ? b : top) === bin ? 1 : 0;
+    part[c] = x; c += (b < top ? b : top) === bin ? 1 : 0;
   }
-  const part = v.subarray(0, c), k = m - below;
-  const upper = select(part, k);
+  const inBin = part.subarray(0, c), k = m - below;
+  const upper = select(inBin, k);
   if (n % 2) return upper;
   let lower = -Infinity;
-  if (k > 0) for (let i = 0; i < k; i++) { if (part[i] > lower) lower = part[i]; } // after selecting k, the bin's values before it are ≤ it
-  else for (let i = c; i < n; i++) { const x = v[i], b = ((x - lo) * scale) | 0; if ((b < top ? b : top) < bin && x > lower) lower = x; } // the bins below
+  if (k > 0) for (let i = 0; i < k; i++) { if (inBin[i] > lower) lower = inBin[i]; } // after selecting k, the bin's values before it are ≤ it
+  else for (let i = 0; i < n; i++) { const x = v[i], b = ((x - lo) * scale) | 0; if ((b < top ? b : top) < bin && x > lower) lower = x; } // the bins below
   return (lower + upper) / 2;
 }
