@@ -241,12 +241,14 @@ static double point_pair(const double *x, int i, const double *taps) {
   return b > a ? b : a;
 }
 
-// Whether v (|v| = a) is a candidate: at least the threshold, a local maximum of |x|, and not on a flat top of three.
-static v128_t candidates(const double *x, int i, v128_t v, v128_t a, v128_t threshold) {
-  v128_t l = LD(x + i - 1), r = LD(x + i + 1);
-  v128_t ok = wasm_v128_andnot(wasm_f64x2_ge(a, threshold), wasm_v128_or(wasm_f64x2_lt(a, wasm_f64x2_abs(l)), wasm_f64x2_lt(a, wasm_f64x2_abs(r))));
+// Whether the samples x[i], x[i + 1] (v, |v| = a) are candidates: at least the threshold, a local maximum of |x|, and not on a
+// flat top of three. p, q are the pairs before and after (x[i − 2 …], x[i + 2 …]), ap, aq their magnitudes.
+static v128_t candidates(v128_t p, v128_t v, v128_t q, v128_t ap, v128_t a, v128_t aq, v128_t threshold) {
+  v128_t l = wasm_i64x2_shuffle(p, v, 1, 2), r = wasm_i64x2_shuffle(v, q, 1, 2);
+  v128_t al = wasm_i64x2_shuffle(ap, a, 1, 2), ar = wasm_i64x2_shuffle(a, aq, 1, 2);
+  v128_t ok = wasm_v128_andnot(wasm_f64x2_ge(a, threshold), wasm_v128_or(wasm_f64x2_lt(a, al), wasm_f64x2_lt(a, ar)));
   v128_t el = wasm_f64x2_eq(v, l), er = wasm_f64x2_eq(v, r);
-  v128_t flat = wasm_v128_or(wasm_v128_and(el, wasm_v128_or(er, wasm_f64x2_eq(v, LD(x + i - 2)))), wasm_v128_and(er, wasm_f64x2_eq(v, LD(x + i + 2))));
+  v128_t flat = wasm_v128_or(wasm_v128_and(el, wasm_v128_or(er, wasm_f64x2_eq(v, p))), wasm_v128_and(er, wasm_f64x2_eq(v, q)));
   return wasm_v128_andnot(ok, flat);
 }
 
@@ -255,10 +257,10 @@ static int gather(const double *x, int from, int to, int first, double guard, do
   int m = 0, i = from;
   for (; i < to; ) {
     if (i >= first && i + 4 <= to) {
-      v128_t v = LD(x + i), w = LD(x + i + 2), a = wasm_f64x2_abs(v), b = wasm_f64x2_abs(w), p = wasm_f64x2_splat(peak);
-      if (!wasm_v128_any_true(wasm_v128_or(wasm_f64x2_gt(a, p), wasm_f64x2_gt(b, p)))) {
-        v128_t t = wasm_f64x2_splat(threshold);
-        int bits = wasm_i64x2_bitmask(candidates(x, i, v, a, t)) | wasm_i64x2_bitmask(candidates(x, i + 2, w, b, t)) << 2;
+      v128_t v = LD(x + i), w = LD(x + i + 2), a = wasm_f64x2_abs(v), b = wasm_f64x2_abs(w), pk = wasm_f64x2_splat(peak);
+      if (!wasm_v128_any_true(wasm_v128_or(wasm_f64x2_gt(a, pk), wasm_f64x2_gt(b, pk)))) {
+        v128_t t = wasm_f64x2_splat(threshold), p = LD(x + i - 2), q = LD(x + i + 4), ap = wasm_f64x2_abs(p), aq = wasm_f64x2_abs(q);
+        int bits = wasm_i64x2_bitmask(candidates(p, v, w, ap, a, b, t)) | wasm_i64x2_bitmask(candidates(v, w, q, a, b, aq, t)) << 2;
         cand[m] = i; peak_at[m] = peak; m += bits & 1;
         cand[m] = i + 1; peak_at[m] = peak; m += (bits >> 1) & 1;
         cand[m] = i + 2; peak_at[m] = peak; m += (bits >> 2) & 1;
