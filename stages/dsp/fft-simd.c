@@ -135,10 +135,12 @@ void rfft(const rplan *p, const double *x, double *re, double *im) {
 static void periodogram_of(const rplan *p, const double *x, double mean, const double *w, double *re, double *im, double *acc) {
   int m = p->n / 2;
   const unsigned *rev = p->half.rev;
-  for (int i = 0; i < m; i++) {
+  const v128_t mu = wasm_f64x2_splat(mean);
+  for (int i = 0; i < m; i++) { // x[2i] and x[2i + 1] as the lanes of one pair
     unsigned r = rev[i];
-    p->zr[r] = (x[2 * i] - mean) * w[2 * i];
-    p->zi[r] = (x[2 * i + 1] - mean) * w[2 * i + 1];
+    v128_t y = MUL(SUB(LD(x + 2 * i), mu), LD(w + 2 * i));
+    p->zr[r] = wasm_f64x2_extract_lane(y, 0);
+    p->zi[r] = wasm_f64x2_extract_lane(y, 1);
   }
   cfft(&p->half, p->zr, p->zi);
   split_step(p, re, im);
