@@ -31,9 +31,16 @@ function select(v: Float64Array, k: number, left = 0, right = v.length - 1): num
   return v[k];
 }
 
-/** Median of the values (reorders them). */
-export function median(v: Float64Array): number {
-  if (v.length >= BUCKETED) { const m = bucketedMedian(v); if (m !== null) return m; }
+/** Below this many values the plain selection is as quick. */
+const BUCKETED = 2048;
+const BUCKETS = 512;
+
+/** Bins of the median of many values: a caller taking many medians may pass its own (any contents) to `median`. */
+export const medianBins = () => new Int32Array(2 * BUCKETS);
+
+/** Median of the values (may reorder them); `bins` is scratch. */
+export function median(v: Float64Array, bins: Int32Array = medianBins()): number {
+  if (v.length >= BUCKETED) { const m = bucketedMedian(v, bins); if (m !== null) return m; }
   return selectedMedian(v);
 }
 
@@ -46,21 +53,19 @@ function selectedMedian(v: Float64Array): number {
   return (lower + upper) / 2;
 }
 
-/** Below this many values the plain selection is as quick. */
-const BUCKETED = 2048;
-const BUCKETS = 512;
 
 // Median by distributive partitioning (Allison & Noga, Selection by distributive partitioning, Inf. Proc. Letters 11(1),
 // 1980): values binned by a monotone map over [min, max] in straight passes without data-dependent branches, then the
 // plain selection within the one bin holding the median (its values copied out, v left as it is), so the same order
 // statistics, the same median. null when a value is not a number, is infinite, or all are equal.
-function bucketedMedian(v: Float64Array): number | null {
+function bucketedMedian(v: Float64Array, counts: Int32Array): number | null {
   const n = v.length, m = n >> 1;
   let lo = Infinity, hi = -Infinity, missing = false;
   for (let i = 0; i < n; i++) { const x = v[i]; if (x < lo) lo = x; if (x > hi) hi = x; if (x !== x) missing = true; }
   const span = hi - lo;
   if (missing || !(span > 0 && span < Infinity)) return null;
-  const scale = BUCKETS / span, top = BUCKETS - 1, counts = new Int32Array(2 * BUCKETS);
+  const scale = BUCKETS / span, top = BUCKETS - 1;
+  counts.fill(0);
   // The same expression everywhere, so a value always falls in the same bin (x − lo ≥ 0, so truncation is the floor);
   // monotone, so bins keep the values' order. Two tallies, even and odd places, so that neighbours in one bin do not wait
   // on each other's count.
