@@ -11,7 +11,7 @@ import { packageRoot } from '../pipeline/declare/package-files.js';
 
 const source = join(packageRoot, 'stages', 'dsp', 'fft-simd.c');
 const target = join(packageRoot, 'stages', 'dsp', 'fft-simd.wasm.ts');
-export const EXPORTS = ['cfft', 'rfft', 'periodogram_add', 'analytic', 'true_peak_scan', '__heap_base'];
+export const EXPORTS = ['cfft', 'rfft', 'periodogram_add', 'welch_add', 'analytic', 'true_peak_scan', '__heap_base'];
 
 /** The module's bytes as clang builds them from the source, and the compiler's version line. */
 export function buildModule(clang = 'clang'): { bytes: Buffer; compiler: string } {

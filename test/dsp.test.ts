@@ -4,7 +4,10 @@ import { butterworthSos, magnitude, type FilterSpec } from '../stages/dsp/butter
 import { ZeroPhaseFilter } from '../stages/dsp/filtfilt.js';
 import { StreamingEnvelope } from '../stages/dsp/hilbert.js';
 import { SosFilter } from '../stages/dsp/sosfilt.js';
+import { RealFft } from '../stages/dsp/fft.js';
+import { periodogramAdd, realDft } from '../stages/dsp/fft-simd.js';
 import { bandMeanSquare, Welch } from '../stages/dsp/welch.js';
+import { makeWindow } from '../stages/dsp/window.js';
 import { amSignal, inChunks, maxAbsDiff, testSignal } from './dsp-signals.js';
 import { fixture, readJson } from './helpers.js';
 
@@ -56,6 +59,43 @@ describe('Butterworth design against scipy.signal.butter(..., output="sos")', ()
 });
 
 describe("Welch's method against scipy.signal.welch", () => {
+  it('the WebAssembly real transform and periodogram equal the readable TypeScript ones (stages/dsp/fft.ts) bit for bit', () => {
+    for (let lg = 2; lg <= 14; lg++) {
+      const n = 1 << lg, x = testSignal(n, 25600).map((v, i) => v * 1e3 + (i % 7) * 0.001), win = makeWindow('hann', n);
+      const ts = new RealFft(n), re = new Float64Array(n / 2 + 1), im = re.slice(), wre = re.slice(), wim = re.slice();
+      ts.forward(x, re, im);
+      realDft(x, wre, wim);
+      expect([wre, wim], `n = ${n}`).toEqual([re, im]);
+      let mean = 0;
+      for (let i = 0; i < n; i++) mean += x[i];
+      ts.forwardWindowed(x, mean / n, win, re, im);
+      const want = re.map((r, k) => 0.5 + (r * r + im[k] * im[k])), got = new Float64Array(n / 2 + 1).fill(0.5);
+      periodogramAdd(x, win, 'hann', got);
+      expect(got, `n = ${n}`).toEqual(want);
+    }
+  });
+
+  it('adds, whatever the chunking, exactly the periodograms of its segments taken one at a time (the same numbers, bit for bit)', () => {
+    for (const [segment, overlap, n] of [[16, 0, 5000], [64, 0.95, 3000], [1024, 0.5, 70_000], [4096, 0.5, 150_000], [256, 0.25, 999]] as const) {
+      const x = testSignal(n, 25600);
+      const win = makeWindow('hann', segment), hop = Math.max(1, segment - Math.floor(segment * overlap));
+      const sum = new Float64Array(segment / 2 + 1);
+      let segments = 0;
+      for (let s = 0; s + segment <= n; s += hop, segments++) periodogramAdd(x.slice(s, s + segment), win, 'hann', sum);
+      for (const sizes of [[65536], [1, 7, 4096, 333], [segment - 1, segment + 1]]) {
+        const welch = new Welch(25600, { segment, overlap, window: 'hann' });
+        inChunks(x, (c) => welch.push(c), sizes);
+        const psd = welch.result()!;
+        expect(psd.segments, `${segment}, ${overlap}, chunks ${sizes}`).toBe(segments);
+        // Density scaling 1/(fs·Σw²·segments), interior bins doubled, as welch.ts writes it.
+        let s2 = 0;
+        for (let i = 0; i < segment; i++) s2 += win[i] * win[i];
+        const scale = 1 / (25600 * s2 * segments);
+        expect(psd.density, `${segment}, ${overlap}, chunks ${sizes}`).toEqual(sum.map((v, k) => v * scale * (k === 0 || k === segment / 2 ? 1 : 2)));
+      }
+    }
+  });
+
   it.each(welchCases)('%s', (_, w: any) => {
     const x = testSignal(ref.n, w.fs);
     const welch = new Welch(w.fs, { segment: w.nperseg, overlap: w.overlap, window: w.window });

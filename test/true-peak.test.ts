@@ -100,6 +100,18 @@ describe('true peak (ITU-R BS.1770-4 Annex 2: 4× oversampling)', () => {
         if (seed % 2 === 0) expect(want.truePeak).toBeGreaterThan(want.samplePeak);
       }
     }
+    // The single-precision estimate that lets the scan pass over candidates: a rising amplitude (the running true peak keeps
+    // growing, so many candidates are made in full), scales beyond float's range and below its normal range, any guard.
+    for (let seed = 1; seed <= 4; seed++) {
+      const u = uniform(seed + 40), n = 30_000;
+      const shape = Float64Array.from({ length: n }, (_, i) => (i / n) * (0.3 * Math.sin((2 * Math.PI * 700 * i) / 25600) + 0.2 * (u() - 0.5)));
+      for (const scale of [1, 1e35, 1e-300, 3e-310]) {
+        const x = shape.map((v) => v * scale);
+        for (const guard of [Math.cos(Math.PI / 2.56), 0, 0.9]) {
+          expect(truePeakOf(x, guard, [[65536], [777, 1], [4096, 5]][seed % 3], true), `seed ${seed}, scale ${scale}, guard ${guard}`).toEqual(truePeakOf(x, guard, [65536]));
+        }
+      }
+    }
     for (const x of [Float64Array.from([0.1, NaN, -3, Infinity, 2, 0.5]), new Float64Array(0), Float64Array.from([-1])]) expect(truePeakOf(x, 0.3, [1], true)).toEqual(truePeakOf(x, 0.3, [2]));
   });
 });

@@ -1,6 +1,8 @@
 // WAV in full (PCM of 1–64 bits, RIFX, RF64, BW64, G.711) against files written and decoded by independent tools:
 // sox 14.4.2, ffmpeg 5.1, libsndfile 1.2 (python3-soundfile), Python's struct and audioop, numpy (test/fixtures/make-format-fixtures.py).
-import { open } from 'node:fs/promises';
+import { mkdtemp, open, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { readInterleaved } from '../stages/read/interleaved.js';
 import { g711Linear } from '../stages/read/g711.js';
@@ -21,6 +23,25 @@ describe('WAV reader against independently written and decoded files', () => {
     expect(channels.length).toBe(f.channels);
     // Exact: integer codes divided by a power of two are exact doubles, and the decoders agree code for code.
     for (let c = 0; c < f.channels; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
+  });
+
+  it('deinterleaves 16-bit little-endian codes of 1 to 9 channels as Node\'s Buffer.readInt16LE reads them, divided by 32768', async () => {
+    const dir = await mkdtemp(join(tmpdir(), 'quern-pcm16-'));
+    try {
+      for (let channels = 1; channels <= 9; channels++) {
+        const frames = 1000 + channels, bytes = Buffer.alloc(2 * frames * channels);
+        for (let k = 0; k < frames * channels; k++) bytes.writeInt16LE(((k * 7919 + channels * 104729) % 65536) - 32768, 2 * k);
+        const path = join(dir, `c${channels}.raw`);
+        await writeFile(path, bytes);
+        const file = await open(path, 'r');
+        const got: number[][] = Array.from({ length: channels }, () => []);
+        for await (const chunk of readInterleaved(file, { sampleType: 'int16', byteOrder: 'little', channels, offset: 0, frames }, 333, 'data')) chunk.forEach((ch, c) => got[c].push(...ch));
+        await file.close();
+        for (let c = 0; c < channels; c++) expect(got[c], `${channels} channels, channel ${c}`).toEqual(Array.from({ length: frames }, (_, i) => bytes.readInt16LE(2 * (i * channels + c)) / 32768));
+      }
+    } finally {
+      await rm(dir, { recursive: true, force: true });
+    }
   });
 
   it('takes the resolution from the valid bits, not the container: 12 bits in 16-bit containers', async () => {

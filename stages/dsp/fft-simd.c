@@ -86,13 +86,31 @@ void cfft(const cplan *p, double *re, double *im) {
   later_stages(p, re, im);
 }
 
-// X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2).
+// X[k] = E[k] + W^k·O[k] and X[m−k] from the half-length transform in zr, zi; k = 0 … m/2 (m = n/2). Two values of k at a
+// time (k, k + 1 as lanes; their partners m − k, m − k − 1 read and written with the lanes swapped), the same operations
+// on each as one at a time.
 static void split_step(const rplan *p, double *re, double *im) {
   int m = p->n / 2;
   const double *zr = p->zr, *zi = p->zi, *tw = p->split;
   re[0] = zr[0] + zi[0]; im[0] = 0;
   re[m] = zr[0] - zi[0]; im[m] = 0;
-  for (int k = 1; k <= m / 2; k++) {
+  int k = 1;
+  const v128_t half = wasm_f64x2_splat(0.5), minus_half = wasm_f64x2_splat(-0.5);
+#define SWAP(v) wasm_i64x2_shuffle(v, v, 1, 0)
+  for (; k + 1 <= m / 2; k += 2) {
+    int j = m - k - 1; // the partners' lower place
+    v128_t ar = LD(zr + k), ai = LD(zi + k), br = SWAP(LD(zr + j)), bi = SWAP(LD(zi + j));
+    v128_t t0 = LD(tw + 2 * k), t1 = LD(tw + 2 * k + 2);
+    v128_t c = wasm_i64x2_shuffle(t0, t1, 0, 2), s = wasm_i64x2_shuffle(t0, t1, 1, 3);
+    v128_t er = MUL(half, ADD(ar, br)), ei = MUL(half, SUB(ai, bi));
+    v128_t or = MUL(half, ADD(ai, bi)), oi = MUL(minus_half, SUB(ar, br));
+    v128_t wr = SUB(MUL(c, or), MUL(s, oi)), wi = ADD(MUL(c, oi), MUL(s, or));
+    ST(re + k, ADD(er, wr)); ST(im + k, ADD(ei, wi));
+    // Lane 1 (k + 1) is written after lane 0 (k) at the middle, where m − (k + 1) = k + 1, as one at a time would.
+    ST(re + j, SWAP(SUB(er, wr))); ST(im + j, SWAP(ADD(wasm_f64x2_neg(ei), wi)));
+  }
+#undef SWAP
+  for (; k <= m / 2; k++) {
     int j = m - k;
     double ar = zr[k], ai = zi[k], br = zr[j], bi = zi[j];
     double er = 0.5 * (ar + br), ei = 0.5 * (ai - bi);
@@ -113,22 +131,46 @@ void rfft(const rplan *p, const double *x, double *re, double *im) {
   split_step(p, re, im);
 }
 
-/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
- *  (detrend 'constant'), k = 0 … n/2. */
-void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
+// acc[k] += |X[k]|², X the transform of w·(x − mean), k = 0 … n/2.
+static void periodogram_of(const rplan *p, const double *x, double mean, const double *w, double *re, double *im, double *acc) {
   int m = p->n / 2;
-  double mean = 0;
-  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
-  mean /= p->n;
   const unsigned *rev = p->half.rev;
-  for (int i = 0; i < m; i++) {
+  const v128_t mu = wasm_f64x2_splat(mean);
+  for (int i = 0; i < m; i++) { // x[2i] and x[2i + 1] as the lanes of one pair
     unsigned r = rev[i];
-    p->zr[r] = (x[2 * i] - mean) * w[2 * i];
-    p->zi[r] = (x[2 * i + 1] - mean) * w[2 * i + 1];
+    v128_t y = MUL(SUB(LD(x + 2 * i), mu), LD(w + 2 * i));
+    p->zr[r] = wasm_f64x2_extract_lane(y, 0);
+    p->zi[r] = wasm_f64x2_extract_lane(y, 1);
   }
   cfft(&p->half, p->zr, p->zi);
   split_step(p, re, im);
   for (int k = 0; k <= m; k++) acc[k] += re[k] * re[k] + im[k] * im[k];
+}
+
+/** Welch's modified periodogram: acc[k] += |X[k]|², X the transform of w·(x − mean), the segment's mean removed
+ *  (detrend 'constant'), k = 0 … n/2. */
+void periodogram_add(const rplan *p, const double *x, const double *w, double *re, double *im, double *acc) {
+  double mean = 0;
+  for (int i = 0; i < p->n; i++) mean += x[i]; // in order, as a plain loop would: no reassociation
+  periodogram_of(p, x, mean / p->n, w, re, im, acc);
+}
+
+/** Welch's method over a stretch of the stream: periodogram_add for every whole segment of x[0 … length) that starts at a
+ *  multiple of hop, in order; returns how many. Each segment's sum is added in order, as periodogram_add adds it, but the
+ *  sums of eight segments run side by side, so the processor overlaps their chains of additions. */
+int welch_add(const rplan *p, const double *x, int length, int hop, const double *w, double *re, double *im, double *acc) {
+  int n = p->n, count = length < n ? 0 : (length - n) / hop + 1, s = 0;
+  for (; s + 8 <= count; s += 8) {
+    const double *x0 = x + s * hop, *x1 = x0 + hop, *x2 = x1 + hop, *x3 = x2 + hop, *x4 = x3 + hop, *x5 = x4 + hop, *x6 = x5 + hop, *x7 = x6 + hop;
+    double m0 = 0, m1 = 0, m2 = 0, m3 = 0, m4 = 0, m5 = 0, m6 = 0, m7 = 0;
+    for (int i = 0; i < n; i++) { m0 += x0[i]; m1 += x1[i]; m2 += x2[i]; m3 += x3[i]; m4 += x4[i]; m5 += x5[i]; m6 += x6[i]; m7 += x7[i]; }
+    periodogram_of(p, x0, m0 / n, w, re, im, acc); periodogram_of(p, x1, m1 / n, w, re, im, acc);
+    periodogram_of(p, x2, m2 / n, w, re, im, acc); periodogram_of(p, x3, m3 / n, w, re, im, acc);
+    periodogram_of(p, x4, m4 / n, w, re, im, acc); periodogram_of(p, x5, m5 / n, w, re, im, acc);
+    periodogram_of(p, x6, m6 / n, w, re, im, acc); periodogram_of(p, x7, m7 / n, w, re, im, acc);
+  }
+  for (; s < count; s++) periodogram_add(p, x + s * hop, w, re, im, acc);
+  return count;
 }
 
 /** Filtered analytic signal of a block: z = IDFT(g·DFT(x)) with complex gains g[k] (re, im interleaved) for k = 0 … n/2
@@ -177,59 +219,137 @@ void analytic(const rplan *rp, const cplan *cp, const double *x, const double *g
 }
 
 // The true peak's scan of x[from, to) (ITU-R BS.1770-4 Annex 2; TruePeak.scan in stages/dsp/true-peak.ts): the same
-// decisions and the same products added in the same order, so the same numbers. Candidates are gathered first against the
-// threshold the running sample peak sets (never above TruePeak's, so none is missed), their half-sample points are made four
-// at a time (so the processor overlaps their chains of additions), and then they are taken in order against TruePeak's
-// threshold, with the quarter-sample points only where those could lie beside the true peak. The taps come as 24 pairs
-// (lane 0's, lane 1's): lane 0 sums from x[i − 12 + j], lane 1 from x[i − 11 + j]. peaks holds the guard, the sample peak
-// and the true peak (in and out); cand, peak_at and half are scratch of to − from each.
+// decisions and the same products added in the same order, so the same numbers. Three steps:
+// 1. Candidates are gathered four samples at a time (f64x2 compares to a bitmask) against the threshold the running sample
+//    peak sets (never above TruePeak's, so none is missed); samples that raise the sample peak are taken one by one.
+// 2. Each candidate's four points (i ∓ 1/2, i ∓ 1/4) are estimated in single precision, all four in one f32x4 sum.
+// 3. The candidates are taken in order against TruePeak's threshold. A candidate whose estimate, plus a bound on the
+//    estimate's error, does not exceed the running true peak cannot raise it, so its points are not made (this changes no
+//    decision: a point at most the running true peak leaves it as it is); the others get their half-sample points, and the
+//    quarter-sample points where those could lie beside the true peak, in double precision as TruePeak makes them.
+// Error of the estimate (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., 3.1): rounding x and the taps to
+// float and summing 24 products in float is off by at most (2u + γ₂₅)·Σ|h|·max|x| ≈ 1.6·10⁻⁶·Σ|h|·max|x| (u = 2⁻²⁴); the
+// bound used is 10⁻⁵·Σ|h|·max|x|, with max|x| over the stretch the candidates' supports cover. A stretch holding a value that
+// is not finite or beyond 10³⁰ (float's range) is not estimated: each of its candidates gets its points made.
+// The taps come as 24 pairs (lane 0's, lane 1's): lane 0 sums from x[i − 12 + j], lane 1 from x[i − 11 + j]. peaks holds the
+// guard, the sample peak and the true peak (in and out); cand (ints), peak_at and estimate are scratch of to − from each, xf
+// (floats) of the block's length.
 static double magnitude(double y) { return y < __builtin_inf() && y > -__builtin_inf() ? __builtin_fabs(y) : 0; }
-static double larger(v128_t s) {
-  double a = magnitude(wasm_f64x2_extract_lane(s, 0)), b = magnitude(wasm_f64x2_extract_lane(s, 1));
-  return b > a ? b : a;
-}
 static double point_pair(const double *x, int i, const double *taps) {
   const double *p = x + i - 12;
   v128_t s = wasm_f64x2_splat(0);
   for (int j = 0; j < 24; j++) s = ADD(s, MUL(LD(taps + 2 * j), LD(p + j)));
-  return larger(s);
+  double a = magnitude(wasm_f64x2_extract_lane(s, 0)), b = magnitude(wasm_f64x2_extract_lane(s, 1));
+  return b > a ? b : a;
 }
 
-void true_peak_scan(const double *x, int from, int to, int first, double *peaks, const double *taps_half,
-                    const double *taps_quarter, int *cand, double *peak_at, double *half) {
-  const double guard = peaks[0];
-  double peak = peaks[1], top = peaks[2] > peak ? peaks[2] : peak, threshold = guard * top;
-  int m = 0;
-  for (int i = from; i < to; i++) {
+// Whether the samples x[i], x[i + 1] (v, |v| = a) are candidates: at least the threshold, a local maximum of |x|, and not on a
+// flat top of three. p, q are the pairs before and after (x[i − 2 …], x[i + 2 …]), ap, aq their magnitudes.
+static v128_t candidates(v128_t p, v128_t v, v128_t q, v128_t ap, v128_t a, v128_t aq, v128_t threshold) {
+  v128_t l = wasm_i64x2_shuffle(p, v, 1, 2), r = wasm_i64x2_shuffle(v, q, 1, 2);
+  v128_t al = wasm_i64x2_shuffle(ap, a, 1, 2), ar = wasm_i64x2_shuffle(a, aq, 1, 2);
+  v128_t ok = wasm_v128_andnot(wasm_f64x2_ge(a, threshold), wasm_v128_or(wasm_f64x2_lt(a, al), wasm_f64x2_lt(a, ar)));
+  v128_t el = wasm_f64x2_eq(v, l), er = wasm_f64x2_eq(v, r);
+  v128_t flat = wasm_v128_or(wasm_v128_and(el, wasm_v128_or(er, wasm_f64x2_eq(v, p))), wasm_v128_and(er, wasm_f64x2_eq(v, q)));
+  return wasm_v128_andnot(ok, flat);
+}
+
+static int gather(const double *x, int from, int to, int first, double guard, double *peak_io, double top, int *cand, double *peak_at) {
+  double peak = *peak_io, threshold = guard * (top > peak ? top : peak);
+  int m = 0, i = from;
+  for (; i < to; ) {
+    if (i >= first && i + 4 <= to) {
+      v128_t v = LD(x + i), w = LD(x + i + 2), a = wasm_f64x2_abs(v), b = wasm_f64x2_abs(w), pk = wasm_f64x2_splat(peak);
+      if (!wasm_v128_any_true(wasm_v128_or(wasm_f64x2_gt(a, pk), wasm_f64x2_gt(b, pk)))) {
+        v128_t t = wasm_f64x2_splat(threshold), p = LD(x + i - 2), q = LD(x + i + 4), ap = wasm_f64x2_abs(p), aq = wasm_f64x2_abs(q);
+        int bits = wasm_i64x2_bitmask(candidates(p, v, w, ap, a, b, t)) | wasm_i64x2_bitmask(candidates(v, w, q, a, b, aq, t)) << 2;
+        cand[m] = i; peak_at[m] = peak; m += bits & 1;
+        cand[m] = i + 1; peak_at[m] = peak; m += (bits >> 1) & 1;
+        cand[m] = i + 2; peak_at[m] = peak; m += (bits >> 2) & 1;
+        cand[m] = i + 3; peak_at[m] = peak; m += bits >> 3;
+        i += 4;
+        continue;
+      }
+    }
     double v = x[i], a = v < 0 ? -v : v;
+    int at = i++;
     if (a > peak) {
       if (!(a < __builtin_inf())) continue;
       peak = a;
       if (guard * a > threshold) threshold = guard * a;
     }
-    if (!(a >= threshold) || i < first) continue;
-    double l = x[i - 1], r = x[i + 1];
+    if (!(a >= threshold) || at < first) continue;
+    double l = x[at - 1], r = x[at + 1];
     if (a < __builtin_fabs(l) || a < __builtin_fabs(r)) continue;
-    if ((v == l && (v == r || v == x[i - 2])) || (v == r && v == x[i + 2])) continue;
-    cand[m] = i; peak_at[m] = peak; m++;
+    if ((v == l && (v == r || v == x[at - 2])) || (v == r && v == x[at + 2])) continue;
+    cand[m] = at; peak_at[m] = peak; m++;
   }
-  int k = 0;
-  for (; k + 4 <= m; k += 4) {
-    const double *p0 = x + cand[k] - 12, *p1 = x + cand[k + 1] - 12, *p2 = x + cand[k + 2] - 12, *p3 = x + cand[k + 3] - 12;
-    v128_t h0 = wasm_f64x2_splat(0), h1 = h0, h2 = h0, h3 = h0;
+  *peak_io = peak;
+  return m;
+}
+
+// The largest |estimate| of the four points, from the float taps (i − 1/2, i + 1/2, i − 1/4, i + 1/4 as lanes) and x as floats.
+static double estimate(v128_t s) {
+  v128_t a = wasm_f32x4_abs(s);
+  a = wasm_f32x4_pmax(a, wasm_i32x4_shuffle(a, a, 2, 3, 0, 1));
+  a = wasm_f32x4_pmax(a, wasm_i32x4_shuffle(a, a, 1, 0, 3, 2));
+  return wasm_f32x4_extract_lane(a, 0);
+}
+
+void true_peak_scan(const double *x, int from, int to, int first, double *peaks, const double *taps_half,
+                    const double *taps_quarter, int *cand, double *peak_at, double *est, float *xf) {
+  const double guard = peaks[0];
+  double peak = peaks[1], top = peaks[2] > peak ? peaks[2] : peak;
+  int m = gather(x, from, to, first, guard, &peak, top, cand, peak_at);
+  if (m) {
+    float taps[96] __attribute__((aligned(16)));
+    double sum_half = 0, sum_before = 0, sum_after = 0;
     for (int j = 0; j < 24; j++) {
-      v128_t t = LD(taps_half + 2 * j);
-      h0 = ADD(h0, MUL(t, LD(p0 + j))); h1 = ADD(h1, MUL(t, LD(p1 + j)));
-      h2 = ADD(h2, MUL(t, LD(p2 + j))); h3 = ADD(h3, MUL(t, LD(p3 + j)));
+      taps[4 * j] = (float)taps_half[2 * j]; taps[4 * j + 1] = (float)taps_half[2 * j + 1];
+      taps[4 * j + 2] = (float)taps_quarter[2 * j]; taps[4 * j + 3] = (float)taps_quarter[2 * j + 1];
+      sum_half += __builtin_fabs(taps_half[2 * j]); sum_before += __builtin_fabs(taps_quarter[2 * j]); sum_after += __builtin_fabs(taps_quarter[2 * j + 1]);
     }
-    half[k] = larger(h0); half[k + 1] = larger(h1); half[k + 2] = larger(h2); half[k + 3] = larger(h3);
+    double gain = sum_half > sum_before ? sum_half : sum_before;
+    if (sum_after > gain) gain = sum_after;
+    // x as floats over the candidates' supports, its largest magnitude, and whether every value there is finite.
+    int lo = cand[0] - 12, hi = cand[m - 1] + 13, i = lo;
+    v128_t mx = wasm_f64x2_splat(0), nonfinite = mx;
+    for (; i + 4 <= hi; i += 4) {
+      v128_t v = LD(x + i), w = LD(x + i + 2);
+      mx = wasm_f64x2_pmax(mx, wasm_f64x2_pmax(wasm_f64x2_abs(v), wasm_f64x2_abs(w)));
+      nonfinite = ADD(nonfinite, ADD(SUB(v, v), SUB(w, w))); // NaN once a value is not finite
+      ST(xf + i, wasm_i32x4_shuffle(wasm_f32x4_demote_f64x2_zero(v), wasm_f32x4_demote_f64x2_zero(w), 0, 1, 4, 5));
+    }
+    double big = wasm_f64x2_extract_lane(mx, 0), big1 = wasm_f64x2_extract_lane(mx, 1);
+    if (big1 > big) big = big1;
+    big += wasm_f64x2_extract_lane(nonfinite, 0) + wasm_f64x2_extract_lane(nonfinite, 1);
+    for (; i < hi; i++) { double a = __builtin_fabs(x[i]); big = a > big || a != a ? a : big; xf[i] = (float)x[i]; }
+    const double slack = big < 1e30 ? 1e-5 * gain * big + 1e-30 : __builtin_inf();
+    int k = 0;
+    for (; k + 4 <= m; k += 4) {
+      const float *p0 = xf + cand[k] - 12, *p1 = xf + cand[k + 1] - 12, *p2 = xf + cand[k + 2] - 12, *p3 = xf + cand[k + 3] - 12;
+      v128_t s0 = wasm_f32x4_splat(0), s1 = s0, s2 = s0, s3 = s0;
+      for (int j = 0; j < 24; j++) {
+        v128_t t = LD(taps + 4 * j);
+        s0 = wasm_f32x4_add(s0, wasm_f32x4_mul(t, wasm_v128_load64_splat(p0 + j)));
+        s1 = wasm_f32x4_add(s1, wasm_f32x4_mul(t, wasm_v128_load64_splat(p1 + j)));
+        s2 = wasm_f32x4_add(s2, wasm_f32x4_mul(t, wasm_v128_load64_splat(p2 + j)));
+        s3 = wasm_f32x4_add(s3, wasm_f32x4_mul(t, wasm_v128_load64_splat(p3 + j)));
+      }
+      est[k] = estimate(s0) + slack; est[k + 1] = estimate(s1) + slack; est[k + 2] = estimate(s2) + slack; est[k + 3] = estimate(s3) + slack;
+    }
+    for (; k < m; k++) {
+      const float *p = xf + cand[k] - 12;
+      v128_t s = wasm_f32x4_splat(0);
+      for (int j = 0; j < 24; j++) s = wasm_f32x4_add(s, wasm_f32x4_mul(LD(taps + 4 * j), wasm_v128_load64_splat(p + j)));
+      est[k] = estimate(s) + slack;
+    }
   }
-  for (; k < m; k++) half[k] = point_pair(x, cand[k], taps_half);
-  for (k = 0; k < m; k++) {
+  for (int k = 0; k < m; k++) {
     if (peak_at[k] > top) top = peak_at[k];
     double v = x[cand[k]], a = v < 0 ? -v : v;
-    if (!(a >= guard * top)) continue;
-    double h = half[k];
+    if (!(a >= guard * top) || est[k] <= top) continue;
+    double h = point_pair(x, cand[k], taps_half);
     if (h > top) top = h;
     if (a + h >= (1 + guard) * top * (1 - 1e-3)) { double q = point_pair(x, cand[k], taps_quarter); if (q > top) top = q; }
   }

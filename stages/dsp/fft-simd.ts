@@ -10,8 +10,9 @@ interface Exports {
   cfft(plan: number, re: number, im: number): void;
   rfft(plan: number, x: number, re: number, im: number): void;
   periodogram_add(plan: number, x: number, w: number, re: number, im: number, acc: number): void;
+  welch_add(plan: number, x: number, length: number, hop: number, w: number, re: number, im: number, acc: number): number;
   analytic(rplan: number, cplan: number, x: number, g: number, re: number, im: number, sr: number, si: number, from: number, to: number, outRe: number, outAbs: number): void;
-  true_peak_scan(x: number, from: number, to: number, first: number, peaks: number, tapsHalf: number, tapsQuarter: number, cand: number, peakAt: number, half: number): void;
+  true_peak_scan(x: number, from: number, to: number, first: number, peaks: number, tapsHalf: number, tapsQuarter: number, cand: number, peakAt: number, estimate: number, xf: number): void;
 }
 
 class Kernels {
@@ -109,8 +110,8 @@ const kernels = () => (instance ??= new Kernels());
 // Memory of a PeriodogramSum never ended (its recording failed) goes back when it is collected.
 const unreturned = new FinalizationRegistry<[number, number]>(([at, bytes]) => kernels().give(at, bytes));
 
-/** A running sum of Welch's modified periodograms whose segment and sum live in the kernels' memory, so that adding a
- *  segment copies nothing: fill segment(), call add(); end() returns the sum and gives the memory back. */
+/** A running sum of Welch's modified periodograms whose held samples and sum live in the kernels' memory: addStretch()
+ *  adds a chunk's whole segments; end() returns the sum and gives the memory back. */
 export class PeriodogramSum {
   private readonly at: number;
   private readonly bytes: number;
@@ -135,9 +136,23 @@ export class PeriodogramSum {
   /** The segment to fill, as a view of the kernels' memory (ask again after making other plans: memory may grow). */
   segment(): Float64Array { return kernels().f64(this.at, this.n); }
 
-  /** Adds the periodogram of the segment: mean removed, windowed, |DFT|². */
-  add(): void {
-    kernels().exports.periodogram_add(this.plan, this.at, this.window, this.re, this.im, this.at + 8 * this.n);
+  /**
+   * Adds the periodogram of every whole segment of the stream made of the first `held` samples of segment() and then x,
+   * segments starting `hop` apart (hop ≤ n), in order; the samples after the last segment's start are left at the start of
+   * segment(). Returns the segments added and the samples now held. The stretch is copied once into memory shared by the
+   * thread's sums (one call runs to its end before the next).
+   */
+  addStretch(held: number, x: Float64Array, hop: number): { added: number; held: number } {
+    const k = kernels(), length = held + x.length;
+    const cap = 2 ** Math.ceil(Math.log2(Math.max(length, 2 * this.n)));
+    const at = k.region(`welch:stretch:${cap}`, cap); // before any view: making it may grow the memory
+    const stretch = k.f64(at, cap);
+    stretch.set(this.segment().subarray(0, held));
+    stretch.set(x, held);
+    const added = k.exports.welch_add(this.plan, at, length, hop, this.window, this.re, this.im, this.at + 8 * this.n);
+    const from = added * hop, left = Math.max(0, length - from);
+    this.segment().set(stretch.subarray(Math.min(from, length), length).subarray(0, this.n));
+    return { added, held: Math.min(left, this.n) };
   }
 
   /** The sum of the periodograms added; the memory goes back (later calls return the same sum). */
@@ -221,7 +236,11 @@ export function simdPeakScan(taps: { half: () => Float64Array; quarter: () => Fl
   const at = { taps: k.region('true-peak:taps-half', 48, (v) => v.set(taps.half())), quarterTaps: k.region('true-peak:taps-quarter', 48, (v) => v.set(taps.quarter())), peaks: k.region('true-peak:peaks', 4) };
   const room = (length: number) => {
     const cap = 2 ** Math.ceil(Math.log2(Math.max(length, 4096)));
-    return { cap, x: k.region(`true-peak:x:${cap}`, cap), cand: k.region(`true-peak:cand:${cap}`, cap / 2), peakAt: k.region(`true-peak:peak-at:${cap}`, cap), half: k.region(`true-peak:half:${cap}`, cap) };
+    // cand holds cap ints and xf cap floats (cap / 2 doubles each).
+    return {
+      cap, x: k.region(`true-peak:x:${cap}`, cap), cand: k.region(`true-peak:cand:${cap}`, cap / 2), peakAt: k.region(`true-peak:peak-at:${cap}`, cap),
+      estimate: k.region(`true-peak:estimate:${cap}`, cap), xf: k.region(`true-peak:xf:${cap}`, cap / 2),
+    };
   };
   let r = room(0);
   return {
@@ -229,7 +248,7 @@ export function simdPeakScan(taps: { half: () => Float64Array; quarter: () => Fl
     scan(_block, from, to, first, peaks) {
       const p = k.f64(at.peaks, 3);
       p.set(peaks);
-      k.exports.true_peak_scan(r.x, from, to, first, at.peaks, at.taps, at.quarterTaps, r.cand, r.peakAt, r.half);
+      k.exports.true_peak_scan(r.x, from, to, first, at.peaks, at.taps, at.quarterTaps, r.cand, r.peakAt, r.estimate, r.xf);
       peaks.set(k.f64(at.peaks, 3));
     },
   };

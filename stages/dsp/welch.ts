@@ -32,21 +32,11 @@ export class Welch {
   }
 
   push(x: Float64Array): void {
-    const buf = this.sums.segment();
-    let i = 0;
-    while (i < x.length) {
-      const take = Math.min(x.length - i, buf.length - this.fill);
-      buf.set(x.subarray(i, i + take), this.fill);
-      this.fill += take;
-      i += take;
-      if (this.fill === buf.length) {
-        // One modified periodogram: mean removed (detrend 'constant'), windowed, |FFT|² added (stages/dsp/fft-simd.c).
-        this.sums.add();
-        this.count++;
-        buf.copyWithin(0, this.hop);
-        this.fill -= this.hop;
-      }
-    }
+    // Every whole segment of the held samples and the chunk: mean removed (detrend 'constant'), windowed, |FFT|² added
+    // (welch_add in stages/dsp/fft-simd.c); the rest stays held for the next chunk.
+    const { added, held } = this.sums.addStretch(this.fill, x, this.hop);
+    this.count += added;
+    this.fill = held;
   }
 
   /** The density, once the signal has ended (later pushes are not counted); a recording shorter than one segment is

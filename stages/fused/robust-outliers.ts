@@ -4,7 +4,7 @@
 import type { ChannelContext } from '../stage.js';
 import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
-import { median } from '../dsp/median.js';
+import { median, medianBins } from '../dsp/median.js';
 
 const STRIDE = 8;
 
@@ -16,6 +16,7 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
   // NaN is never beyond the limit; a chunk with too small a sample has an infinite limit.
   readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) { if ($found < $room) $hits[$found] = n; $found++; }';
   private sub = new Float64Array(0);
+  private readonly bins = medianBins();
 
   constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void) {
     super(`robust-outliers:${sigmas}:${floor}`, { med: 0, limit: Infinity, found: 0, room: KEPT });
@@ -39,9 +40,9 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
     for (let i = 0; i < x.length; i += STRIDE) if (x[i] - x[i] === 0) this.sub[m++] = x[i];
     if (m < 16) { this.set('limit', Infinity); return; }
     const part = this.sub.subarray(0, m);
-    const med = median(part);
+    const med = median(part, this.bins);
     for (let i = 0; i < m; i++) part[i] = Math.abs(part[i] - med);
-    const mad = median(part);
+    const mad = median(part, this.bins);
     this.set('med', med);
     this.set('limit', this.sigmas * Math.max(1.4826 * mad, this.floor, 1e-300));
   }

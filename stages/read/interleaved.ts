@@ -61,10 +61,16 @@ export async function* readInterleaved(file: ByteReader, layout: InterleavedLayo
     }
     if (little16) {
       // 16-bit little-endian on a little-endian machine: read the codes as an Int16Array, same values as getInt16 / 32768.
-      const codes = new Int16Array(buffer.buffer, buffer.byteOffset, want * layout.channels);
-      for (let c = 0; c < layout.channels; c++) {
+      // Four channels a pass where there are four: each frame's codes are read together, not once per channel.
+      const codes = new Int16Array(buffer.buffer, buffer.byteOffset, want * layout.channels), step = layout.channels;
+      let c = 0;
+      for (; c + 4 <= step; c += 4) {
+        const a = out[c], b = out[c + 1], d = out[c + 2], e = out[c + 3];
+        for (let i = 0, at = c; i < want; i++, at += step) { a[i] = codes[at] / 32768; b[i] = codes[at + 1] / 32768; d[i] = codes[at + 2] / 32768; e[i] = codes[at + 3] / 32768; }
+      }
+      for (; c < step; c++) {
         const ch = out[c];
-        for (let i = 0, at = c; i < want; i++, at += layout.channels) ch[i] = codes[at] / 32768;
+        for (let i = 0, at = c; i < want; i++, at += step) ch[i] = codes[at] / 32768;
       }
     } else if (little24) {
       // 24-bit little-endian: the three bytes shifted to the top of an int32 and back, the sign carried.
