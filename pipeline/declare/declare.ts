@@ -78,8 +78,6 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
   return { file, groups };
 }
 
-export { canonicalJson };
-
 export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }
 
 /** The spec from --spec, else reduction.yaml at the archive root, else the embedded default. */

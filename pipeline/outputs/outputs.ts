@@ -16,6 +16,7 @@ import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd,
 import type { TrendsWrite } from '../trends/trends.js';
 import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { ownBuffers, release } from '../store/release.js';
+import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 import type { Located } from '../store/pack.js';
@@ -172,7 +173,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     while (pending.length) {
       const s = await pending.shift()!;
       launch();
-      try { await take(s); } finally { release(ownBuffers([...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes])); }
+      try { await take(s); } finally { release(ownBuffers(slicePieces(s))); }
     }
     for (const p of Object.values(parquet)) await p.finish();
     const outcome = (await settled())?.outcome ?? null;

@@ -1,7 +1,7 @@
 // A Parquet table written as it arrives: Arrow record batches in, row groups out to a staged file, never the whole table in memory.
 import * as arrow from 'apache-arrow';
-import { Compression, Table as WasmTable, transformParquetStream, WriterPropertiesBuilder, type RecordBatch } from 'parquet-wasm/node';
-import { toArrowTable, type TableColumn } from './parquet.js';
+import { Table as WasmTable, transformParquetStream, type RecordBatch } from 'parquet-wasm/node';
+import { toArrowTable, writerProperties, type TableColumn } from './parquet.js';
 import type { StagedFile } from './staged.js';
 
 /** Rows a row group holds at most: readers skip whole row groups by their statistics. */
@@ -15,10 +15,7 @@ export class ParquetStream {
   rows = 0;
 
   constructor(readonly file: StagedFile, columns: TableColumn[], metadata: Record<string, string>) {
-    const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
-    const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
-    const props = new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv).setMaxRowGroupSize(ROW_GROUP_ROWS)
-      .setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
+    const props = writerProperties(columns, metadata, ROW_GROUP_ROWS);
     const source = new ReadableStream<RecordBatch>({
       pull: async (controller) => {
         const next = this.queue.length ? this.queue.shift()! : await new Promise<RecordBatch | null>((resolve) => { this.waiting = resolve; });

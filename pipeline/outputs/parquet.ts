@@ -22,9 +22,10 @@ export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadat
   return new arrow.Table(schema, [batch]);
 }
 
-/** Zstandard, the metadata in the footer's key-value pairs with the columns' units as `quern.units`. */
-export function writerProperties(columns: TableColumn[], metadata: Record<string, string>): WriterProperties {
+/** Zstandard, the metadata in the footer's key-value pairs with the columns' units as `quern.units`; row groups of at most `rowGroupRows`, when given. */
+export function writerProperties(columns: TableColumn[], metadata: Record<string, string>, rowGroupRows?: number): WriterProperties {
   const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
   const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
-  return new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv).setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
+  const b = new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv);
+  return (rowGroupRows ? b.setMaxRowGroupSize(rowGroupRows) : b).setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
 }

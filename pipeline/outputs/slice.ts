@@ -12,6 +12,8 @@ import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
 import { channelSection, MAX_PICTURED, noteLine, overviewRow } from './report-html.js';
 import { jsonPieces } from './staged.js';
 import { TextBytes } from './text-bytes.js';
+import { slicePieces } from './slice-pieces.js';
+import { ownBuffers } from '../store/release.js';
 
 /** A recording of the slice: where its entry lies, and its group's labels. */
 export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
@@ -96,12 +98,8 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   };
 }
 
-/** The byte arrays of a slice's output that own their memory whole, to move rather than copy. */
-export function sliceBuffers(s: SliceOutput): ArrayBuffer[] {
-  const all = [...Object.values(s.tables), s.quality, s.overview, s.sections.fail, s.sections.warn, s.notes];
-  const own = all.filter((b): b is Uint8Array => !!b && b.byteOffset === 0 && b.byteLength === b.buffer.byteLength && b.buffer instanceof ArrayBuffer);
-  return [...new Set(own.map((b) => b.buffer as ArrayBuffer))];
-}
+/** The memory a slice's output owns whole, to move rather than copy. */
+export const sliceBuffers = (s: SliceOutput): ArrayBuffer[] => ownBuffers(slicePieces(s));
 
 /** The stored pictures of the channels the report shows them for. */
 export async function picturesOf(wanted: Candidate[]): Promise<(string[] | null)[]> {

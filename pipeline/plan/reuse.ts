@@ -113,13 +113,17 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
   const declKeyOf = (r: ScannedRecording) => declKeys.get(r.group) ?? declKeys.set(r.group, declarationKey(jobOf(r))).get(r.group)!;
   const table = new DecisionTable(recordings, store);
 
+  /** The stored entry (none when forced), and whether the file's and the entry's modification times can be trusted alone. */
+  const timesOf = (r: ScannedRecording) => {
+    const previous = o.force ? null : store.get(r.recording) ?? null;
+    const entry = previous?.facts;
+    return { previous, entry, fresh: r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS, wasAmbiguous: !!entry && entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS };
+  };
+
   /** Decides recording `i` into its row of the table. */
   const one = (i: number, hash: string | null): void => {
     const r = recordings[i];
-    const previous = o.force ? null : store.get(r.recording) ?? null;
-    const entry = previous?.facts;
-    const fresh = r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS;
-    const wasAmbiguous = !!entry && entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS;
+    const { previous, entry, fresh, wasAmbiguous } = timesOf(r);
     const hashContent = !entry && (fresh || !!o.hash);
     const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean): void =>
       table.set(i, hash, { hashContent, previous: from !== null, stores, restamp }, compute, reused, text);
@@ -147,8 +151,8 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
 
   // Hashes needed only to compare with a stored entry are taken here; a new recording's is taken in its worker.
   const needsHash = (r: ScannedRecording) => {
-    const entry = o.force ? undefined : store.get(r.recording)?.facts;
-    return !!entry && (r.mtimeMs >= r.readAtMs - AMBIGUOUS_MS || !!o.hash || entry.identity.mtimeMs >= entry.readAtMs - AMBIGUOUS_MS);
+    const { entry, fresh, wasAmbiguous } = timesOf(r);
+    return !!entry && (fresh || !!o.hash || wasAmbiguous);
   };
   const hashing: number[] = [];
   recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else one(i, null); });

@@ -97,12 +97,6 @@ export async function scanPack(file: string, onRecord: (r: Located) => void): Pr
 }
 
 /** The bytes of one located record, checked again against its checksums (a pack may have been damaged since it was scanned). */
-export async function readRecord(fh: FileHandle, loc: Located): Promise<Buffer> {
-  const bytes = Buffer.allocUnsafe(loc.length);
-  const { bytesRead } = await fh.read(bytes, 0, loc.length, loc.offset);
-  return checked(bytes, bytesRead, loc, loc.facts.recording);
-}
-
 function checked(bytes: Buffer, bytesRead: number, loc: Place, recording: string): Buffer {
   const metaLength = bytesRead >= HEADER_BYTES ? bytes.readUInt32LE(4) : 0;
   const body = bytes.subarray(HEADER_BYTES + metaLength);

@@ -3,7 +3,7 @@
 import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import { EntryTable, type StoredEntry } from './entry-table.js';
-import { readRecord, scanPack, type Damage, type Located } from './pack.js';
+import { RecordReader, scanPack, type Damage, type Located } from './pack.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
@@ -111,17 +111,16 @@ export class Store {
    * modification time instead of hashing the file. Plain file work: no worker needed.
    */
   async restamp(list: { previous: Located; identity: Identity; readAtMs: number }[]): Promise<void> {
-    const handles = new Map<string, FileHandle>();
+    const reader = new RecordReader();
     try {
       const records = [];
       for (const { previous, identity, readAtMs } of list) {
-        const fh = handles.get(previous.file) ?? handles.set(previous.file, await open(previous.file, 'r')).get(previous.file)!;
         const facts: EntryFacts = { ...previous.facts, identity, readAtMs, storedAt: Date.now() };
-        records.push({ facts, bytes: encodeRecord(facts, recordBody(await readRecord(fh, previous))) });
+        records.push({ facts, bytes: encodeRecord(facts, recordBody(reader.read(previous, facts.recording))) });
       }
       await this.append(records);
     } finally {
-      for (const fh of handles.values()) await fh.close();
+      reader.close();
     }
   }
 
@@ -138,18 +137,18 @@ export class Store {
     if (!this.own) return false;
     await this.close();
     const own = this.own;
-    const live = [...this.table.rows.values()].map((row) => this.table.at(row)).filter((l) => l.file === own).sort((a, b) => a.offset - b.offset);
-    const liveBytes = live.reduce((s, l) => s + l.length, 0);
+    const live = [...this.table.rows].map(([recording, row]) => ({ recording, at: this.table.at(row) })).filter((l) => l.at.file === own).sort((a, b) => a.at.offset - b.at.offset);
+    const liveBytes = live.reduce((s, l) => s + l.at.length, 0);
     const size = Math.max(this.end, this.sizes.get(own) ?? 0);
     const damaged = this.damage.some((d) => d.file === own);
     if (!damaged && !(size - liveBytes > COMPACT_AFTER_BYTES && size - liveBytes > liveBytes)) return false;
     const tmp = join(cacheDir(this.out), `.${basename(own)}.${process.pid}.tmp`);
-    const src = await open(own, 'r'), dst = await open(tmp, 'w');
+    const src = new RecordReader(), dst = await open(tmp, 'w');
     try {
       let offset = 0;
       const moved: number[] = [];
       for (const l of live) {
-        const bytes = await readRecord(src, l);
+        const bytes = src.read(l.at, l.recording);
         await dst.write(bytes, 0, bytes.length, offset);
         moved.push(offset);
         offset += bytes.length;
@@ -157,7 +156,7 @@ export class Store {
       await dst.sync();
       await dst.close();
       await rename(tmp, own);
-      live.forEach((l, i) => { this.table.offset[l.row] = moved[i]; });
+      live.forEach((l, i) => { this.table.offset[l.at.row] = moved[i]; });
       this.end = offset;
       return true;
     } catch (e) {
@@ -165,7 +164,7 @@ export class Store {
       await rm(tmp, { force: true });
       throw e;
     } finally {
-      await src.close();
+      src.close();
     }
   }
 }

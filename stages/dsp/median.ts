@@ -53,7 +53,6 @@ function selectedMedian(v: Float64Array): number {
   return (lower + upper) / 2;
 }
 
-
 // Median by distributive partitioning (Allison & Noga, Selection by distributive partitioning, Inf. Proc. Letters 11(1),
 // 1980): values binned by a monotone map over [min, max] in straight passes without data-dependent branches, then the
 // plain selection within the one bin holding the median (its values copied out, v left as it is), so the same order
