@@ -7,8 +7,9 @@ import { fileURLToPath } from 'node:url';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
 /** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included);
+ *  `cpuSeconds` the processor time of every thread of the process (workers, V8's compiler and collector threads);
  *  `reduceSeconds` the reduce phase alone (workers started, recordings read and reduced; no start-up, declaration or writing). */
-export type QuernMeasurement = Measurement & { recomputed: number; reused: number; recordings: number; wallSeconds: number; reduceSeconds: number };
+export type QuernMeasurement = Measurement & { cpuSeconds: number; recomputed: number; reused: number; recordings: number; wallSeconds: number; reduceSeconds: number };
 
 export const here = dirname(fileURLToPath(import.meta.url));
 export const repo = join(here, '..', '..');
@@ -36,3 +37,13 @@ export function peer(archive: string, scale: number): Measurement | null {
 
 export const row = (label: string, m: Measurement) =>
   `  ${label.padEnd(46)} ${(m.samples / 1e6).toFixed(0).padStart(5)} M samples ${m.seconds.toFixed(2).padStart(7)} s ${(m.samples / m.seconds / 1e6).toFixed(2).padStart(7)} M samples/s ${m.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`;
+
+/**
+ * How fast `threads` workers could run at best, from the one-worker run: its processor time (every thread) shared out
+ * evenly over the cores, against its wall time. A one-worker run that already keeps more than one core busy (the main
+ * thread, V8's compiler and collector threads beside the worker) leaves less than a core's worth for a second worker.
+ */
+export function scalingCeiling(one: QuernMeasurement, cores: number): string {
+  const busy = one.cpuSeconds / one.wallSeconds;
+  return `--jobs 1 keeps ${busy.toFixed(2)} cores busy on average (${one.cpuSeconds.toFixed(2)} s of processor time in ${one.wallSeconds.toFixed(2)} s): on ${cores} cores, any number of workers doing the same work can run at most ${(Math.min(cores, cores / busy)).toFixed(2)}× as fast`;
+}

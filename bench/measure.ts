@@ -8,5 +8,6 @@ const t0 = performance.now();
 const { record } = await runReduce({ archive, out, jobs: Number(jobs ?? 1), since: since ? parseWhen(since) : null });
 const seconds = (performance.now() - t0) / 1000;
 const samples = record.recordings.reduce((s, r) => s + r.frames * r.rows, 0);
-// maxRSS covers the whole process, worker threads included (they share it).
-process.stdout.write(JSON.stringify({ seconds, reduceSeconds: record.timings.reduce_s, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, failed: record.counts.failed, recomputed: record.counts.recomputed, reused: record.counts.reused, recordings: record.counts.selected }) + '\n');
+// maxRSS and the CPU time cover the whole process, worker threads and V8's own helper threads included.
+const cpu = process.cpuUsage();
+process.stdout.write(JSON.stringify({ seconds, reduceSeconds: record.timings.reduce_s, samples, peakRssMB: process.resourceUsage().maxRSS / 1024, cpuSeconds: (cpu.user + cpu.system) / 1e6, failed: record.counts.failed, recomputed: record.counts.recomputed, reused: record.counts.reused, recordings: record.counts.selected }) + '\n');

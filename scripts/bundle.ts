@@ -16,7 +16,7 @@ export const ENTRIES = ['pipeline/cli.js', 'pipeline/reduce/worker.js'];
  * Packages left to load from node_modules: those that find files beside their own modules (tinypool its thread entry,
  * parquet-wasm and h5wasm their WebAssembly, yargs its messages) and the large ones loaded only for some runs.
  */
-export const EXTERNAL = ['tinypool', 'parquet-wasm', 'h5wasm', 'yargs', 'vega', 'vega-lite', 'exceljs'];
+export const EXTERNAL = ['tinypool', 'parquet-wasm', 'h5wasm', 'vega', 'vega-lite', 'exceljs'];
 
 /** Where the shared and lazily loaded chunks go, under dist/. */
 export const CHUNKS = 'chunks';

@@ -12,7 +12,8 @@ import { histogramOf } from '../stages/fused/histogram.js';
 import { limitRunsOf } from '../stages/fused/limit-runs.js';
 import { missingOf } from '../stages/fused/missing.js';
 import { momentsOf } from '../stages/fused/moments.js';
-import { kernelSource } from '../stages/fused/pass.js';
+import { kernelSignature, kernelSource } from '../stages/fused/pass.js';
+import type { Accumulator } from '../stages/fused/accumulator.js';
 import { repeatRunsOf } from '../stages/fused/repeat-runs.js';
 import { robustOutliersOf } from '../stages/fused/robust-outliers.js';
 import { runningMeanSquareOf } from '../stages/fused/running-mean-square.js';
@@ -218,5 +219,22 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
     const body = kernelSource(pass.accs as never);
     expect(body.match(/for \(/g)?.length).toBe(1);
     expect(() => kernelSource([{ key: 'bad', names: [], state: new Float64Array(0), each: '$nope++;' }])).toThrow(/\$nope is not declared/);
+  });
+
+  it('finds a kernel by a signature that is equal exactly when the kernel sources are', () => {
+    const sets = [
+      (c: ChannelContext) => { momentsOf(c); limitRunsOf(c, LO, HI); zeroRunsOf(c); },
+      (c: ChannelContext) => { zeroRunsOf(c); momentsOf(c); limitRunsOf(c, LO, HI); },
+      (c: ChannelContext) => { momentsOf(c); limitRunsOf(c, -1, 1); zeroRunsOf(c); },
+      (c: ChannelContext) => { momentsOf(c); zeroRunsOf(c); },
+    ];
+    const made = sets.map((declare) => {
+      const { ctx, shared } = context();
+      declare(ctx);
+      const accs = (shared.get('fused-pass') as unknown as { accs: Accumulator[] }).accs;
+      return { signature: kernelSignature(accs), source: kernelSource(accs) };
+    });
+    for (const a of made) for (const b of made) expect(a.signature === b.signature).toBe(a.source === b.source);
+    expect(new Set(made.map((m) => m.source)).size).toBeGreaterThan(2);
   });
 });

@@ -38,8 +38,9 @@ export function openPool(threads = availableParallelism()): Pool {
   // Threads start on the first task: a run with nothing to compute or write starts none. One starts first, the others
   // when there is work for them: a small run does not spend a second core loading code it will not use.
   // A modest young generation: workers make short-lived garbage per recording, and collecting it often keeps memory flat.
+  // Idle threads wait on their event loop, not blocked in Atomics.wait, so code they load ahead (the table code) loads then.
   let width = 1;
-  const get = () => (pool ??= new Tinypool({ filename: workerFile(), minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
+  const get = () => (pool ??= new Tinypool({ filename: workerFile(), useAtomics: false, minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
   return {
     threads: n,
     widen: (tasks) => {

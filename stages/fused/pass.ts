@@ -8,7 +8,7 @@ type Kernel = (x: Float64Array, from: number, to: number, n0: number, states: Fl
 
 const BLOCK = 4096;
 
-// Kernels depend only on the statements joined, not on a channel's values (those come in as arguments, so one kernel
+// Kernels depend only on the statements joined (their signature), not on a channel's values (those come in as arguments, so one kernel
 // serves every channel with the same feedback): made once per thread and shared.
 const kernels = new Map<string, Kernel>();
 
@@ -37,6 +37,11 @@ for (let i = from; i < to; i++) {
 ${store.join('\n')}`;
 }
 
+/** What a kernel's source is made from, in order: found in the cache without writing the source out for every channel. */
+export function kernelSignature(accs: readonly Accumulator[]): string {
+  return accs.map((a) => `${a.names.join(',')}\u0001${Object.keys(a.arrays ?? {}).join(',')}\u0001${a.each ?? ''}\u0001${a.finite ?? ''}`).join('\u0002');
+}
+
 /** Runs a channel's accumulators over each chunk in one loop; a shared product, fed before the stages. */
 export class FusedPass implements Stage {
   private readonly accs: Accumulator[] = [];
@@ -57,14 +62,14 @@ export class FusedPass implements Stage {
   }
 
   private compile(x: Float64Array): Kernel {
-    const body = kernelSource(this.accs);
+    const signature = kernelSignature(this.accs);
     this.states = this.accs.map((a) => a.state);
     this.gatherArrays();
-    let kernel = kernels.get(body);
+    let kernel = kernels.get(signature);
     if (!kernel) {
-      kernel = new Function(`return function fusedKernel(x, from, to, n0, states, arrays) {\n${body}\n};`)() as Kernel;
+      kernel = new Function(`return function fusedKernel(x, from, to, n0, states, arrays) {\n${kernelSource(this.accs)}\n};`)() as Kernel;
       rehearse(kernel, x, this.states, this.arrays);
-      kernels.set(body, kernel);
+      kernels.set(signature, kernel);
     }
     return kernel;
   }

@@ -1,6 +1,7 @@
 // Interleaved binary frames (WAV data chunks, raw acquisition files) → per-channel chunks.
 import { endianness } from 'node:os';
 import { RecordingError } from './recording.js';
+import { THREAD_READING_BUFFERS, type ReadingBuffers } from './reading-buffers.js';
 import type { ByteReader } from './source.js';
 
 export type SampleType = 'uint8' | 'int16' | 'int24' | 'int32' | 'float32' | 'float64';
@@ -36,13 +37,29 @@ function decoder(type: SampleType, little: boolean): SampleDecoder {
   }
 }
 
-/** Streams the frames of an open file in chunks of at most chunkFrames, reusing its buffers. */
-export async function* readInterleaved(file: ByteReader, layout: InterleavedLayout, chunkFrames: number, where: string): AsyncGenerator<Float64Array[]> {
+/**
+ * Streams the frames of an open file in chunks of at most chunkFrames. Its buffers come from the thread's reading
+ * buffers and go back once the file is read; what it yields is valid until the next chunk is asked for.
+ */
+export async function* readInterleaved(file: ByteReader, layout: InterleavedLayout, chunkFrames: number, where: string, buffers: ReadingBuffers = THREAD_READING_BUFFERS): AsyncGenerator<Float64Array[]> {
   const width = layout.custom?.width ?? BYTES[layout.sampleType];
   const frameBytes = width * layout.channels;
-  const buffer = Buffer.alloc(chunkFrames * frameBytes);
+  // A short file needs buffers for its own frames only.
+  const frames = Math.max(1, Math.min(chunkFrames, layout.frames));
+  const buffer = buffers.takeBytes(frames * frameBytes);
+  const out = buffers.takeSamples(layout.channels, frames);
+  try {
+    yield* decodeChunks(file, layout, frames, where, buffer, out);
+  } finally {
+    buffers.give(buffer, out);
+  }
+}
+
+/** Reads chunks of at most `frames` frames into `buffer` and decodes them into `out`, one array a channel. */
+async function* decodeChunks(file: ByteReader, layout: InterleavedLayout, chunkFrames: number, where: string, buffer: Buffer, out: Float64Array[]): AsyncGenerator<Float64Array[]> {
+  const width = layout.custom?.width ?? BYTES[layout.sampleType];
+  const frameBytes = width * layout.channels;
   const view = new DataView(buffer.buffer, buffer.byteOffset, buffer.byteLength);
-  const out = Array.from({ length: layout.channels }, () => new Float64Array(chunkFrames));
   const decode = layout.custom?.decode ?? decoder(layout.sampleType, layout.byteOrder === 'little');
   const nativeLittle = !layout.custom && layout.byteOrder === 'little' && endianness() === 'LE';
   const little16 = nativeLittle && layout.sampleType === 'int16' && buffer.byteOffset % 2 === 0;
