@@ -7,6 +7,7 @@ import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { loadArchiveDeclaration } from '../pipeline/declare/declare.js';
 import { scan } from '../pipeline/select/scan.js';
+import { explainLink } from '../stages/read/explain-link.js';
 import { fixture, quern, readJson, tempDir } from './helpers.js';
 
 const DECLARATION = 'groups:\n  - name: rig\n    match: "**/*.wav"\n';
@@ -160,5 +161,15 @@ describe('reducing an archive of links', () => {
     expect(Object.keys(failures(out))).toEqual(['knot.wav']);
     expect(mended.code).toBe(1);
     expect((await features(out)).filter((x) => x.recording === 'gone.wav').length).toBe(2);
+  });
+
+  it('tells a target this process may not read from a missing one, and leaves files that are not links to their readers', async () => {
+    // The tests may run as root, which reads every file: the open's error code is given here as the system reports it.
+    const { root, shared } = layout();
+    put('pcm16-2ch.wav', join(shared, 'locked.wav'));
+    symlinkSync(join(shared, 'locked.wav'), join(root, 'locked.wav'));
+    const denied = Object.assign(new Error('EACCES: permission denied'), { code: 'EACCES' });
+    expect((await explainLink(join(root, 'locked.wav'), denied))?.message).toBe(`the symbolic link ${join(root, 'locked.wav')} points to ${join(shared, 'locked.wav')}, which this process may not read; give this process read access to the target (and search access to its folders) or remove the link`);
+    expect(await explainLink(join(shared, 'locked.wav'), denied)).toBeNull();
   });
 });
