@@ -156,7 +156,8 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
   };
   const hashing: number[] = [];
   recordings.forEach((r, i) => { if (needsHash(r)) hashing.push(i); else one(i, null); });
-  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { one(i, await hashFile(recordings[i].path)); });
+  // A file that cannot be read (a link to a missing target) is judged by size and time; its reduction says why it fails.
+  await eachAtOnce(hashing, HASHES_AT_ONCE, async (i) => { one(i, await hashFile(recordings[i].path).catch(() => null)); });
   const decisions: Decision[] = Array.from(recordings, (_, i) => new DecisionView(table, i));
 
   const identityOf = (d: Decision): Identity => ({ size: d.file.size, mtimeMs: d.file.mtimeMs, hash: d.hash });

@@ -1,6 +1,7 @@
-// Walks the archive and sorts its files into the declaration's groups; a file no group claims is reported.
-import { readdir, stat } from 'node:fs/promises';
-import { join, relative, resolve, sep } from 'node:path';
+// Walks the archive, following links to files and folders, and sorts its files into the declaration's groups; a file no
+// group claims is reported.
+import { lstat, readdir, realpath, stat } from 'node:fs/promises';
+import { isAbsolute, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
 import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/open.js';
@@ -62,19 +63,25 @@ const STATS_AT_ONCE = 32;
 
 export async function scan(archive: string, declaration: ArchiveDeclaration, { exclude = [] }: ScanOptions = {}): Promise<ScanResult> {
   const root = resolve(archive);
-  const skip = new Set(exclude.map((p) => resolve(p)));
+  // Real paths of the folders walked or excluded: a link can lead neither into a folder twice nor into the output.
+  const seen = new Set(await Promise.all(exclude.map((p) => realpath(p).catch(() => resolve(p)))));
   const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
   const found: { recording: string; group: number }[] = [];
   const unmatched: string[] = [];
   let otherFiles = 0;
-  async function walk(dir: string): Promise<void> {
+  const linked: LinkedFolder[] = [];
+  async function walk(dir: string, real: string): Promise<void> {
+    seen.add(real);
     const entries = (await readdir(dir, { withFileTypes: true })).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0));
     for (const e of entries) {
       const path = join(dir, e.name);
       // Hidden entries hold tools' state (version control, our own temporaries), never recordings.
-      if (e.name.startsWith('.') || skip.has(path)) continue;
-      if (e.isDirectory()) { await walk(path); continue; }
-      if (!e.isFile()) continue;
+      if (e.name.startsWith('.')) continue;
+      const kind = e.isSymbolicLink() ? await linkKind(path) : e.isDirectory() ? 'folder' : e.isFile() ? 'file' : 'other';
+      if (kind === 'linked folder') { linked.push({ path, within: real }); continue; }
+      // A plain folder's real path is its parent's and its name: no system call.
+      if (kind === 'folder') { await walkOnce(path, join(real, e.name)); continue; }
+      if (kind !== 'file') continue;
       const rel = relative(root, path).split(sep).join('/');
       if (rel === ARCHIVE_FILE || rel === SPEC_FILE) continue;
       const group = matchers.findIndex((m) => m(rel));
@@ -86,14 +93,39 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
       found.push({ recording: rel, group });
     }
   }
-  await walk(root);
+  /** Walks a folder unless it was walked (or excluded) before. */
+  const walkOnce = async (dir: string, real: string) => { if (!seen.has(real)) await walk(dir, real); };
+  await walk(root, await realpath(root));
+  // Linked folders after every plain one, so a folder reached both ways (a "latest" link) keeps its own name.
+  for (let i = 0; i < linked.length; i++) {
+    const target = await realpath(linked[i].path).catch(() => null);
+    if (target && !isWithin(linked[i].within, target)) await walkOnce(linked[i].path, target);
+  }
   // Sizes and modification times, several at once: a stat waits on the file system, not on this thread.
   const table = new ScanTable(root, found);
   await eachAtOnce(table.recordings, STATS_AT_ONCE, async (_, i) => {
-    const s = await stat(table.pathOf(i));
+    const s = await statOrLink(table.pathOf(i));
     table.size[i] = s.size;
     table.mtimeMs[i] = s.mtimeMs;
     table.readAtMs[i] = Date.now();
   });
   return { recordings: table.files(), unmatched, otherFiles };
 }
+
+/** A link to a folder, and the real path of the folder holding it. */
+interface LinkedFolder { path: string; within: string }
+
+/** What a link leads to; one whose target cannot be reached (missing, a loop, forbidden) counts as a file, to be reported, not lost. */
+async function linkKind(path: string): Promise<'file' | 'linked folder' | 'other'> {
+  const target = await stat(path).catch(() => null);
+  return !target || target.isFile() ? 'file' : target.isDirectory() ? 'linked folder' : 'other';
+}
+
+/** Whether folder `inner` is `outer` or lies inside it: a link to an ancestor of its own folder would hold itself. */
+function isWithin(inner: string, outer: string): boolean {
+  const r = relative(outer, inner);
+  return r === '' || (r !== '..' && !r.startsWith(`..${sep}`) && !isAbsolute(r));
+}
+
+/** A file's size and times (a link's target's); a link whose target cannot be reached gives its own, and its reduction says why it fails. */
+const statOrLink = (path: string) => stat(path).catch(() => lstat(path));

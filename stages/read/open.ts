@@ -6,6 +6,7 @@ import { openHdf5, type Hdf5Layout } from './hdf5.js';
 import { openRaw, type RawLayout } from './raw.js';
 import { DEFAULT_CHUNK_FRAMES, RecordingError, type Format, type Recording } from './recording.js';
 import { openWav } from './wav.js';
+import { explainLink } from './explain-link.js';
 
 const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw', '.flac': 'flac', '.h5': 'hdf5', '.hdf5': 'hdf5' };
 
@@ -23,7 +24,16 @@ export interface OpenOptions extends ReaderOptions {
   chunkFrames?: number;
 }
 
-export async function openRecording(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null }: OpenOptions = {}): Promise<Recording> {
+/** Opens a recording with the reader for its format; a link that leads nowhere is named with its target. */
+export async function openRecording(path: string, options: OpenOptions = {}): Promise<Recording> {
+  try {
+    return await openByFormat(path, options);
+  } catch (e) {
+    throw (await explainLink(path, e)) ?? e;
+  }
+}
+
+async function openByFormat(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null }: OpenOptions = {}): Promise<Recording> {
   const f = format ?? formatOf(path);
   if (f === 'wav') return openWav(path, { chunkFrames });
   if (f === 'flac') return openFlac(path, { chunkFrames, options: flac });
