@@ -13,7 +13,7 @@ import { UsageError } from './declare/yaml-file.js';
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
 const exporting = () => import('./exports/export.js');
 
-/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, or a failed write. */
+/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, a failed write, or an unexpected error. */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
 
 const EXPORT_FORMAT_OPTIONS = {
@@ -23,7 +23,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, or outputs that could not be written (the previous ones are kept).`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept).`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -175,7 +175,9 @@ async function main(argv: string[]): Promise<number> {
       process.stderr.write(`quern: ${e.message}\n`);
       return EXIT.unusable;
     }
-    throw e;
+    // Anything else is a fault in quern: not "some recordings failed" (1), since no table may have been written.
+    process.stderr.write(`quern: stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:\n${(e as Error)?.stack ?? String(e)}\n`);
+    return EXIT.unusable;
   }
   return code;
 }

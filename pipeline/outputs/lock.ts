@@ -5,6 +5,7 @@ import { mkdir, open, readFile, readdir, rm, rmdir, stat, utimes } from 'node:fs
 import { hostname } from 'node:os';
 import { dirname, join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
+import { makeFolder } from './make-folder.js';
 
 export interface LockHolder { host: string; pid: number; started: string; run_id: string; command: string }
 export interface TakenOver { holder: LockHolder; why: string }
@@ -45,7 +46,7 @@ export interface Lock { path: string; tookOver: TakenOver | null; release(): Pro
  * that find the same stale lock do not both take it.
  */
 export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started'>, { staleAfterMs = STALE_LOCK_AFTER_MS } = {}): Promise<Lock> {
-  await mkdir(dirname(path), { recursive: true });
+  await makeFolder(dirname(path));
   const holder: LockHolder = { host: hostname(), pid: process.pid, started: new Date().toISOString(), ...me };
   const text = JSON.stringify(holder, null, 2) + '\n';
   let tookOver: TakenOver | null = null;
