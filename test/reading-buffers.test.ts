@@ -1,12 +1,13 @@
 // The readers' reused buffers: files read one after another, or several at once, through buffers other files left
-// dirty still decode exactly as independent tools decoded them (sox, ffmpeg, libsndfile, numpy: test/fixtures/make-format-fixtures.py).
+// dirty still decode exactly as independent tools decoded them (sox, ffmpeg, libsndfile, flac, numpy: test/fixtures/make-format-fixtures.py).
 import { describe, expect, it } from 'vitest';
 import { openRecording } from '../stages/read/open.js';
 import { ReadingBuffers, THREAD_READING_BUFFERS } from '../stages/read/reading-buffers.js';
 import { expectedSamples, formatFixtures } from './format-fixtures.js';
 import { fixture } from './helpers.js';
 
-const wavs = formatFixtures.filter((f) => f.file.endsWith('.wav'));
+// WAV and FLAC: the readers that take their buffers from the thread's reading buffers.
+const wavs = formatFixtures.filter((f) => f.file.endsWith('.wav') || f.file.endsWith('.flac'));
 
 /** Steps several recordings' chunk streams in turn, one chunk each, gathering every channel's samples. */
 async function readInTurn(files: string[], chunkFrames: number): Promise<number[][][]> {
@@ -26,7 +27,7 @@ async function readInTurn(files: string[], chunkFrames: number): Promise<number[
 }
 
 describe('reading buffers reused from one recording to the next', () => {
-  it('decodes every WAV fixture exactly, read in turn with others through shared, already used buffers', async () => {
+  it('decodes every WAV and FLAC fixture exactly, read in turn with others through shared, already used buffers', async () => {
     // Dirty the thread's buffers first: whatever a buffer held before must never show through.
     const dirty = THREAD_READING_BUFFERS.takeSamples(4, 70_000);
     for (const d of dirty) d.fill(Number.NaN);

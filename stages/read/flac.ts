@@ -4,6 +4,7 @@ import { createHash } from 'node:crypto';
 import { decodeFrame, FrameError, maxFrameBytes, type StreamParams } from './flac-frame.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { openSource } from './source.js';
+import { THREAD_READING_BUFFERS } from './reading-buffers.js';
 
 /** How a group's FLAC files are read: the Vorbis comment tag holding the start time, when one is declared. */
 export interface FlacOptions { start_time_tag: string | null }
@@ -97,13 +98,29 @@ export async function openFlac(path: string, { chunkFrames = DEFAULT_CHUNK_FRAME
     const startTime = options?.start_time_tag ? tagStartTime(tags, options.start_time_tag) : null;
     const audioStart = pos;
     const frames = si.totalSamples > 0 ? si.totalSamples : null;
-    const chunk = boundedChunkFrames(chunkFrames, si.channels);
+    // A short file needs arrays for its own samples only.
+    const chunk = Math.max(1, Math.min(boundedChunkFrames(chunkFrames, si.channels), frames ?? Infinity));
     const notes: string[] = [];
 
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       // A window of the file at least two of the largest possible frames long; frames are decoded where they lie in it.
       const need = maxFrameBytes(si.channels, si.maxBlockSize);
-      const window = Buffer.alloc(Math.min(Math.max(2 * need, 1 << 20), Math.max(size - audioStart, 1)));
+      // The window and the sample arrays come from the thread's reading buffers and go back once the file is read.
+      const buffers = THREAD_READING_BUFFERS;
+      const window = buffers.takeBytes(Math.min(Math.max(2 * need, 1 << 20), Math.max(size - audioStart, 1)));
+      const block = buffers.takeSamples(si.channels, si.maxBlockSize);
+      const out = buffers.takeSamples(si.channels, chunk);
+      try {
+        yield* decodeFrames(window, block, out);
+      } finally {
+        buffers.give(window, block);
+        buffers.give(null, out);
+      }
+    }
+
+    /** Decodes the frames through the file `window`, a frame's samples into `block`, and yields them in chunks gathered in `out`. */
+    async function* decodeFrames(window: Buffer, block: Float64Array[], out: Float64Array[]): AsyncGenerator<Float64Array[]> {
+      const need = maxFrameBytes(si.channels, si.maxBlockSize);
       let start = 0, end = 0, fileAt = audioStart;
       const fill = async () => {
         window.copyWithin(0, start, end);
@@ -114,8 +131,6 @@ export async function openFlac(path: string, { chunkFrames = DEFAULT_CHUNK_FRAME
           end += bytesRead; fileAt += bytesRead;
         }
       };
-      const block = Array.from({ length: si.channels }, () => new Float64Array(si.maxBlockSize));
-      const out = Array.from({ length: si.channels }, () => new Float64Array(chunk));
       const md5 = createHash('md5');
       const bytesPerSample = Math.ceil(si.bitsPerSample / 8);
       let md5Bytes = Buffer.alloc(0);

@@ -45,9 +45,9 @@ export class ReadingBuffers {
     return Array.from({ length: channels }, () => this.samples.take(length));
   }
 
-  /** Gives buffers back once nothing reads them any more. */
-  give(bytes: Buffer, samples: Float64Array[]): void {
-    this.bytes.give(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength));
+  /** Gives buffers this pool handed out back, once nothing reads them any more. */
+  give(bytes: Buffer | null, samples: Float64Array[]): void {
+    if (bytes) this.bytes.give(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength));
     for (const s of samples) this.samples.give(s);
   }
 }
