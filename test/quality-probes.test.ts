@@ -1,0 +1,54 @@
+// Damage the flags must name, on signals the other quality tests do not cover: coarse codes in a fine container, a constant
+// stretch inside a busy signal, and strong content between the declared highest frequency and Nyquist.
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import type { ChannelDeclaration } from '../spec/archive.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
+import { encodeWav } from '../scripts/wav-file.js';
+import type { Flag } from '../stages/quality/flag.js';
+import { tempDir } from './helpers.js';
+
+const accelerometer = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration =>
+  ({ name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 500, offset: 0, range: [-500, 500], bits: 16, max_frequency_hz: null, ...over });
+
+/** Seeded Gaussian samples (mulberry32 and Box–Muller), so the signals are the same on every machine. */
+function gauss(seed: number) {
+  let a = seed >>> 0;
+  const u = () => { a = (a + 0x6d2b79f5) >>> 0; let t = Math.imul(a ^ (a >>> 15), a | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
+  return () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());
+}
+
+/** Reduces one channel written as 16-bit PCM (values in engineering units) through the real reader and stages. */
+async function reduce(x: Float64Array, fs: number, decl: ChannelDeclaration) {
+  const path = join(tempDir(), 'x.wav');
+  writeFileSync(path, encodeWav({ sampleRate: fs, channels: [x.map((v) => (v - decl.offset) / decl.scale)], encoding: 'pcm16' }));
+  const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames: 65536 });
+  expect(r.reason).toBeUndefined();
+  return { row: r.rows[0] as Record<string, any>, flag: (name: string) => r.quality[0].flags.find((f) => f.name === name) as Flag };
+}
+
+describe('resolution judged on the steps the data actually take', () => {
+  it('8-bit codes in a 16-bit file: the quantisation SNR is that of the 8-bit step, σ / (Δ/√12) (IEEE Std 1241)', async () => {
+    const g = gauss(11), fs = 10000, n = 40000;
+    // Noise at 2 % of full scale rounded to 1/128 of full scale (256 codes): σ/(Δ/√12) = 0.02·128·√12 → 19.0 dB, too coarse.
+    const delta = 500 / 128;
+    const x = Float64Array.from({ length: n }, () => Math.round(0.02 * 500 * g() / delta) * delta);
+    const { row, flag } = await reduce(x, fs, accelerometer());
+    let s = 0, s2 = 0;
+    for (const v of x) { s += v; s2 += v * v; }
+    const std = Math.sqrt(s2 / n - (s / n) ** 2);
+    expect(row.step_size).toBeCloseTo(delta, 12);
+    expect(row.quantisation_snr_db).toBeCloseTo(20 * Math.log10(std / (delta / Math.sqrt(12))), 9);
+    expect(flag('resolution').severity).toBe('fail');
+    expect(flag('resolution').message).toMatch(/coarser than the declared 16 bits/);
+  });
+
+  it('the same noise on every 16-bit code keeps the declared step and reads clean', async () => {
+    const g = gauss(11);
+    const x = Float64Array.from({ length: 40000 }, () => 0.02 * 500 * g());
+    const { row, flag } = await reduce(x, 10000, accelerometer());
+    expect(row.step_size).toBeCloseTo(500 / 32768, 12);
+    expect(flag('resolution').severity).toBe('ok');
+  });
+});
