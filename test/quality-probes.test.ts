@@ -52,3 +52,32 @@ describe('resolution judged on the steps the data actually take', () => {
     expect(flag('resolution').severity).toBe('ok');
   });
 });
+
+describe('flatline: a busy signal that stops moving', () => {
+  // Broadband noise of σ = 5 m/s² on 16-bit codes of 0.0153 m/s²: successive samples equal by chance about once in
+  // √(2π)·σ_diff/step ≈ 1200 (Gaussian density at zero, common practice), so 0.1 s on one code (1000 repeats) is a stuck converter.
+  const noise = (seed: number) => { const g = gauss(seed); return Float64Array.from({ length: 40000 }, () => 5 * g()); };
+  const holdAt = (x: Float64Array, starts: number[], len: number) => { for (const s of starts) x.fill(x[s], s, s + len); return x; };
+
+  it('four stretches of 0.1 s held at one value (10 % of the record) warn; a 1 s window that holds one reads 1 − √0.9 = 5.1 % low (derived)', async () => {
+    const x = holdAt(noise(5), [5000, 13000, 22000, 31000], 1000);
+    const { row, flag } = await reduce(x, 10000, accelerometer());
+    expect(row.flatline_run_s).toBeCloseTo(0.1, 12);
+    expect(flag('flatline').severity).toBe('warn');
+    expect(flag('flatline').message).toMatch(/stuck/);
+  });
+
+  it('the same noise without held stretches is clean', async () => {
+    const { flag } = await reduce(noise(5), 10000, accelerometer());
+    expect(flag('flatline').severity).toBe('ok');
+  });
+
+  it('a slow noise-free swing that rests on its codes near each crest is no fault', async () => {
+    // A 0.1 Hz swing of 400 steps on an ideal 16-bit converter: within ±√(step/(A·ω²)) ≈ ±0.08 s of a crest it stays on one code.
+    const step = 500 / 32768;
+    const x = Float64Array.from({ length: 40000 }, (_, i) => Math.round(400 * Math.sin(2 * Math.PI * 0.1 * i / 1000)) * step);
+    const { row, flag } = await reduce(x, 1000, accelerometer());
+    expect(row.flatline_run_s).toBeGreaterThan(0.1);
+    expect(flag('flatline').severity).toBe('ok');
+  });
+});

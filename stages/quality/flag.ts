@@ -34,7 +34,7 @@ export interface QualityThresholds {
   aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number };
   resolution: { note_snr_db: number; warn_snr_db: number; fail_snr_db: number };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
-  flatline: { fail_steps: number; warn_run_s: number };
+  flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
@@ -60,8 +60,10 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // band is being missed, and peak and crest factor mislead.
   peak_capture: { note_shortfall: 0.05, warn_shortfall: 0.25 },
   // A spread of at most 2 converter steps is a dead channel; a constant stretch of 1 s is a stuck converter or a loose contact,
-  // whose figures describe the fault, not the signal (our choices).
-  flatline: { fail_steps: 2, warn_run_s: 1 },
+  // whose figures describe the fault, not the signal (our choices). A signal that otherwise moves between samples (fewer than 20 %
+  // of them repeat the one before, our choice) and holds one value for 0.1 s is stuck: a 1 s window holding it reads its RMS up to
+  // 1 − √0.9 = 5.1 % low (derived); slow signals that rest on their codes repeat far more often and keep the 1 s rule.
+  flatline: { fail_steps: 2, warn_run_s: 1, warn_stuck_s: 0.1, stuck_repeat_fraction: 0.2 },
   // Missing samples are left out of every figure: below 0.1 % that shifts none by more than a fraction of a per cent (note); from
   // 0.1 % the peak or an event may be among them (warn); from 1 % the channel fails. Exact zeros for 0.1 s are a logger's gap
   // written as zeros, which pull RMS and the window figures down (warn). Our choices.

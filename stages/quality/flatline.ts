@@ -2,7 +2,7 @@
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { repeatRunsOf } from '../fused/repeat-runs.js';
-import { secs, type QualityThresholds, type Severity } from './flag.js';
+import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const flatline: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -20,19 +20,24 @@ export const flatline: StageDefinition<QualityThresholds> = {
         const m = shared.moments();
         const spread = m.n ? m.max - m.min : 0;
         const runS = (longest + (longest ? 1 : 0)) / fs;
+        // How often the rest of the signal repeats itself: rarely, for a signal that moves by more than a step between samples.
+        const otherRepeats = n > 0 ? (runs.repeats - longest) / n : 1;
         const deadLimit = step != null ? q.flatline.fail_steps * step : 0;
         let severity: Severity = 'ok', message = `spread ${spread.toPrecision(4)} ${ctx.unit}; longest constant stretch ${secs(runS)}`;
         if (n > 0 && spread <= deadLimit) {
           severity = 'fail';
           message = `the channel hardly moves (spread ${spread.toPrecision(3)} ${ctx.unit}${step != null ? `, ${Math.round(spread / step)} converter steps` : ''}): a dead or disconnected sensor; check the sensor, cable and supply before trusting any figure`;
+        } else if (runS >= q.flatline.warn_stuck_s && otherRepeats < q.flatline.stuck_repeat_fraction && runS < q.flatline.warn_run_s) {
+          severity = 'warn';
+          message = `a signal that otherwise changes from sample to sample (${pct(otherRepeats)} repeats) stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): a stuck converter or an intermittent connection; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
         } else if (runS >= q.flatline.warn_run_s) {
           severity = 'warn';
           message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
         }
         ctx.flag({
           name: 'flatline', severity, value: runS,
-          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn: constant for ≥ ${secs(q.flatline.warn_run_s)}`,
-          evidence: { spread, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
+          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn: constant for ≥ ${secs(q.flatline.warn_run_s)}, or for ≥ ${secs(q.flatline.warn_stuck_s)} where fewer than ${pct(q.flatline.stuck_repeat_fraction)} of the other samples repeat`,
+          evidence: { spread, repeat_fraction: otherRepeats, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
           message,
         });
         return { flatline_run_s: runS };
