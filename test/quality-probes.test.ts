@@ -81,3 +81,23 @@ describe('flatline: a busy signal that stops moving', () => {
     expect(flag('flatline').severity).toBe('ok');
   });
 });
+
+describe('aliasing: content between the declared highest frequency and Nyquist', () => {
+  it('a strong 7.4 kHz tone sampled at 12.8 kHz appears at |7400 − 12800| = 5400 Hz (sampling theorem), above the declared 5 kHz: warns', async () => {
+    const fs = 12800, n = 51200;
+    // What the converter keeps of it: a 5.4 kHz tone of amplitude 4 beside in-band content of amplitude 2 at 1 kHz, so
+    // 4²/2 / (4²/2 + 2²/2) = 80 % of the power lies above the declaration (tone power A²/2).
+    const x = Float64Array.from({ length: n }, (_, i) => 2 * Math.sin(2 * Math.PI * 1000 * i / fs) + 4 * Math.sin(2 * Math.PI * 5400 * i / fs));
+    const { flag } = await reduce(x, fs, accelerometer({ max_frequency_hz: 5000 }));
+    expect(flag('aliasing').severity).toBe('warn');
+    expect(flag('aliasing').evidence.above_declared_power_fraction as number).toBeCloseTo(0.8, 2);
+    expect(flag('aliasing').message).toMatch(/above the declared highest frequency/);
+  });
+
+  it('the in-band tone alone, at 2.56 × its declared highest frequency, reads clean', async () => {
+    const fs = 12800;
+    const x = Float64Array.from({ length: 51200 }, (_, i) => 2 * Math.sin(2 * Math.PI * 1000 * i / fs));
+    const { flag } = await reduce(x, fs, accelerometer({ max_frequency_hz: 5000 }));
+    expect(flag('aliasing').severity).toBe('ok');
+  });
+});

@@ -23,6 +23,7 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         const psd = s.psd();
         const total = psd ? bandMeanSquare(psd, 0, fs / 2) : 0;
         const top = psd && total > 0 ? bandMeanSquare(psd, (1 - a.top_band) * fs / 2, fs / 2) / total : null;
+        const above = psd && total > 0 && f && f < fs / 2 ? bandMeanSquare(psd, f, fs / 2) / total : null;
         let severity: Severity = 'ok', message: string;
         const margin = f ? fs / f : null;
         const alias = f ? aliasOf(f, fs) : null;
@@ -35,13 +36,16 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         } else if (top != null && top > a.top_band_warn_fraction) {
           severity = 'warn';
           message = `${pct(top)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz): content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
+        } else if (above != null && above > a.above_declared_warn_fraction) {
+          severity = 'warn';
+          message = `${pct(above)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz): content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (RMS reads ${pct(1 / Math.sqrt(1 - above) - 1)} above the declared band's); check the anti-alias filter and max_frequency_hz`;
         } else {
           message = f ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz` : 'no highest frequency declared; top of the band is quiet';
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: fs < ${a.recommended_ratio} × it, or > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band`,
-          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top },
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: fs < ${a.recommended_ratio} × it, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
+          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above },
           message,
         });
         return { alias_margin: margin, alias_frequency_hz: alias, top_band_power_fraction: top };

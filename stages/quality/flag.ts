@@ -31,7 +31,7 @@ export const worst = (severities: Severity[]): Severity => severities.reduce<Sev
 /** Quality thresholds (spec section `quality`), each default with where it comes from. */
 export interface QualityThresholds {
   saturation: { fail_fraction: number; fail_run: number };
-  aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number };
+  aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number; above_declared_warn_fraction: number };
   resolution: { note_snr_db: number; warn_snr_db: number; fail_snr_db: number };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number };
@@ -49,7 +49,9 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   saturation: { fail_fraction: 1e-4, fail_run: 3 },
   // fs ≥ 2.56 × the highest frequency is common practice in vibration analysers (room for the anti-alias filter's roll-off;
   // below it band figures near that frequency read low); the top-band share (top 10 % of the band holding over 5 % of the power) is our choice.
-  aliasing: { recommended_ratio: 2.56, top_band: 0.1, top_band_warn_fraction: 0.05 },
+  // Power between the declared highest frequency and Nyquist is content the declaration excludes (or folded from above Nyquist):
+  // a share p of it raises the whole-band RMS by 1/√(1 − p) − 1, 5 % at p = 9.3 % (derived).
+  aliasing: { recommended_ratio: 2.56, top_band: 0.1, top_band_warn_fraction: 0.05, above_declared_warn_fraction: 0.093 },
   // Signal-to-quantisation-noise against the ideal LSB/√12 (IEEE Std 1241). A sine's sampled peak can be off by half a step,
   // √3/√2·10^(−SNR/20) of the peak (derived): 1.2 % at 40 dB (note), 3.9 % at 30 dB (warn), 12 % at 20 dB with only ~3 bits in use (fail).
   resolution: { note_snr_db: 40, warn_snr_db: 30, fail_snr_db: 20 },
