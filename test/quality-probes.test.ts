@@ -101,3 +101,13 @@ describe('aliasing: content between the declared highest frequency and Nyquist',
     expect(flag('aliasing').severity).toBe('ok');
   });
 });
+
+describe('a stretch of exact zeros is named once', () => {
+  it('0.3 s of zeros in busy noise is a dropout (logger gap), not also a stuck converter', async () => {
+    const g = gauss(9);
+    const x = Float64Array.from({ length: 40000 }, (_, i) => (i >= 17000 && i < 20000 ? 0 : 5 * g()));
+    const { flag } = await reduce(x, 10000, accelerometer());
+    expect(flag('dropout').severity).toBe('warn');
+    expect(flag('flatline').severity).toBe('ok');
+  });
+});

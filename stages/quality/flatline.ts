@@ -2,6 +2,7 @@
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { repeatRunsOf } from '../fused/repeat-runs.js';
+import { zeroRunsOf } from '../fused/zero-runs.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const flatline: StageDefinition<QualityThresholds> = {
@@ -11,6 +12,8 @@ export const flatline: StageDefinition<QualityThresholds> = {
     // The spread comes from the channel's shared moments; this stage only looks for constant stretches.
     const shared = momentsOf(ctx);
     const runs = repeatRunsOf(ctx);
+    // Exact zeros are a logger's gap, which the dropout flag names; a stuck stretch is judged when it holds another value.
+    const zeros = zeroRunsOf(ctx);
     let n = 0;
     return {
       push(x) { n += x.length; },
@@ -27,7 +30,7 @@ export const flatline: StageDefinition<QualityThresholds> = {
         if (n > 0 && spread <= deadLimit) {
           severity = 'fail';
           message = `the channel hardly moves (spread ${spread.toPrecision(3)} ${ctx.unit}${step != null ? `, ${Math.round(spread / step)} converter steps` : ''}): a dead or disconnected sensor; check the sensor, cable and supply before trusting any figure`;
-        } else if (runS >= q.flatline.warn_stuck_s && otherRepeats < q.flatline.stuck_repeat_fraction && runS < q.flatline.warn_run_s) {
+        } else if (runS >= q.flatline.warn_stuck_s && otherRepeats < q.flatline.stuck_repeat_fraction && runS < q.flatline.warn_run_s && zeros.longest <= longest) {
           severity = 'warn';
           message = `a signal that otherwise changes from sample to sample (${pct(otherRepeats)} repeats) stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): a stuck converter or an intermittent connection; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
         } else if (runS >= q.flatline.warn_run_s) {
