@@ -111,3 +111,14 @@ describe('a stretch of exact zeros is named once', () => {
     expect(flag('flatline').severity).toBe('ok');
   });
 });
+
+describe('the grid of the data, not the size of its changes', () => {
+  it('a sawtooth stepping 3 codes a sample and wrapping over all 4096 codes of a 12-bit span keeps the 16-bit step: gcd(3, 4093) = 1', async () => {
+    const step = 500 / 32768;
+    const x = Float64Array.from({ length: 20000 }, (_, i) => ((3 * i) % 4096 - 2048) * step);
+    const { row, flag } = await reduce(x, 10000, accelerometer());
+    expect(row.step_size).toBeCloseTo(step, 12);
+    expect(row.resolution_bits).toBeCloseTo(Math.log2(4095), 9);
+    expect(flag('resolution').severity).toBe('ok');
+  });
+});

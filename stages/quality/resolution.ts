@@ -6,20 +6,30 @@ import { pct, type QualityThresholds, type Severity } from './flag.js';
 /** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
 export const quantisationNoise = (step: number) => step / Math.sqrt(12);
 
-/** Samples of each chunk searched for the smallest change: enough to meet a one-step change in any signal that uses every code. */
+/** Samples of each chunk searched for the data's grid, until it is found to be the converter's own. */
 const STEP_SEARCH = 4096;
 
-/** The smallest non-zero change between successive samples of x[0..count): a multiple of the step the data actually take. */
-export function smallestChange(x: Float64Array, count = x.length, prev = NaN): number {
-  let least = Infinity;
-  for (let i = 0; i < count; i++) { const d = Math.abs(x[i] - prev); if (d > 0 && d < least) least = d; prev = x[i]; }
-  return least;
+const gcd = (a: number, b: number) => { while (b) [a, b] = [b, a % b]; return a; };
+
+/**
+ * The grid the data take, in converter steps: the greatest common divisor of the changes between successive samples of
+ * x[0..count), folded into `grid` (0 when none is known yet). Integer codes change by whole steps, so a grid of 1 is the converter's
+ * own and a grid of 256 is 8-bit data in a 16-bit file. A change that is no whole number of steps (scaled or float data) gives 1.
+ */
+export function dataGrid(x: Float64Array, step: number, grid = 0, count = x.length, prev = NaN): number {
+  for (let i = 0; i < count && grid !== 1; i++) {
+    const r = Math.abs(x[i] - prev) / step, k = Math.round(r);
+    prev = x[i];
+    if (!(r > 0.5)) continue; // no change, or the first sample or a missing one
+    grid = Math.abs(r - k) > 1e-6 * r ? 1 : gcd(k, grid);
+  }
+  return grid;
 }
 
 export const resolution: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [
-    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step, or the smallest change between samples when the data take coarser steps.' },
+    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step, or the common multiple of it by which every sample changes when the data take coarser steps.' },
     { name: 'resolution_bits', unit: 'bit', description: 'log2 of the steps the signal spans (peak to peak / step).' },
     { name: 'quantisation_snr_db', unit: 'dB', description: '20·log10(std / (step/√12)): signal against ideal quantisation noise.' },
   ],
@@ -28,15 +38,14 @@ export const resolution: StageDefinition<QualityThresholds> = {
     // Codes coarser than the declared converter (8-bit data in a 16- or 24-bit file) quantise as coarsely as they are; a
     // pulse train takes two levels by design, so a tacho channel keeps its declared step.
     const watch = ctx.stepSize != null && !ctx.tacho;
-    let least = Infinity;
+    let grid = 0;
     return {
-      push(x) { if (watch && x.length) least = Math.min(least, smallestChange(x, Math.min(x.length, STEP_SEARCH))); },
+      push(x) { if (watch && grid !== 1) grid = dataGrid(x, ctx.stepSize!, grid, Math.min(x.length, STEP_SEARCH)); },
       finish() {
         const m = shared.moments();
         const declared = ctx.stepSize;
-        // Half a step more than declared is already a coarser grid (integer codes differ by whole steps).
-        const coarser = declared != null && Number.isFinite(least) && least > 1.5 * declared;
-        const step = coarser ? least : declared;
+        const coarser = declared != null && grid > 1;
+        const step = coarser ? grid * declared : declared;
         const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
         if (step == null || m.n === 0 || std === 0) {
@@ -52,7 +61,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
           name: 'resolution', severity, value: snr, threshold,
           evidence: { step_size: step, declared_step_size: declared, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
           message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
-            + (coarser ? ` (the data change by ${Math.round(step / declared!)} converter steps at least: coarser than the declared ${ctx.bits} bits)` : '')
+            + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than the declared ${ctx.bits} bits)` : '')
             + `, ${snr.toFixed(1)} dB above ideal quantisation noise`
             + ({ ok: '', note: `: a peak can be off by ${pct(peakError)} (half a step), and band figures more than ${snr.toFixed(0)} dB below the overall level sit on quantisation noise`,
               warn: `: too coarse for the figures: a peak can be off by ${pct(peakError)}, and band figures more than ${snr.toFixed(0)} dB below the overall level are quantisation noise; use a smaller range or a finer converter`,
