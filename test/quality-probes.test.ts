@@ -122,3 +122,22 @@ describe('the grid of the data, not the size of its changes', () => {
     expect(flag('resolution').severity).toBe('ok');
   });
 });
+
+describe('a tacho channel at rest between its pulses', () => {
+  // A once-per-revolution pulse of 1 ms at 300 rpm, 0 V between pulses, as a digital input stores it (common practice:
+  // a TTL-level shaft encoder or optical probe); 0.2 s of exact zeros between pulses is the signal, not a lost stretch.
+  const fs = 25600, x = Float64Array.from({ length: 4 * fs }, (_, i) => (i % (fs / 5) < fs / 1000 ? 5 : 0));
+  const tacho = accelerometer({ name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, range: [-10, 10], pulses_per_rev: 1, trigger_level: 2.5, trigger_hysteresis: null });
+
+  it('reads no dropout on the tacho channel, and shaft speed 300 rpm from its pulses', async () => {
+    const { row, flag } = await reduce(x, fs, tacho);
+    expect(flag('dropout').severity).toBe('ok');
+    expect(row.zero_run_s).toBeGreaterThan(0.19);
+    expect(Object.entries(row).find(([k]) => /rpm/.test(k))?.[1]).toBeCloseTo(300, 6);
+  });
+
+  it('the same zeros on a channel that is not a tacho still warn of lost data', async () => {
+    const { flag } = await reduce(x, fs, accelerometer({ scale: 10, range: [-10, 10] }));
+    expect(flag('dropout').severity).toBe('warn');
+  });
+});

@@ -27,7 +27,8 @@ export const dropout: StageDefinition<QualityThresholds> = {
           problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}`);
           severity = fraction >= d.fail_missing_fraction ? 'fail' : fraction >= d.warn_missing_fraction ? 'warn' : 'note';
         }
-        if (zeroS >= d.warn_zero_run_s) {
+        // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
+        if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
           problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
           if (severity === 'ok' || severity === 'note') severity = 'warn';
         }
@@ -37,7 +38,7 @@ export const dropout: StageDefinition<QualityThresholds> = {
         }
         ctx.flag({
           name: 'dropout', severity, value: fraction,
-          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, zeros for ≥ ${secs(d.warn_zero_run_s)}, or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
+          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
           evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
           message: problems.length
             ? `${problems.join('; ')}: ${severity === 'note' ? 'the figures cover the rest and move by less than the missing share' : 'the logger lost data: RMS, peak and the window figures cover only what is left (zeros pull them down; uneven steps distort the spectrum)'}`
