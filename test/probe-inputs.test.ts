@@ -1,0 +1,78 @@
+// Inputs an unattended run must not take at face value: declarations whose numbers are not finite, recordings that hold
+// no samples. Each is refused by name (file, place, what to do) while the good recordings around it reduce.
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { encodeWav } from '../scripts/wav-file.js';
+import { quern, readJson, tempDir } from './helpers.js';
+
+const CHANNELS = `    channels:
+      - { name: a, quantity: acceleration, unit: m/s^2, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 1000 }
+`;
+
+/** An archive of one group over rec/*.wav (or the files given), with a 1 s two-tone recording `good.wav`. */
+function archive(yaml: string, files: Record<string, Buffer | string> = {}): string {
+  const root = join(tempDir(), 'archive');
+  mkdirSync(join(root, 'rec'), { recursive: true });
+  writeFileSync(join(root, 'archive.yaml'), yaml);
+  const tone = Float64Array.from({ length: 4000 }, (_, i) => 0.5 * Math.sin((2 * Math.PI * 100 * i) / 4000));
+  writeFileSync(join(root, 'rec', 'good.wav'), encodeWav({ sampleRate: 4000, channels: [tone] }));
+  for (const [name, bytes] of Object.entries(files)) writeFileSync(join(root, name), bytes);
+  return root;
+}
+
+describe('declarations with numbers that are not finite', () => {
+  // YAML 1.2 reads .inf, .nan and 1e400 as numbers (the core schema's float), so the schema's "number" lets them pass.
+  it.each([
+    ['sample_rate: .inf', 4, 'groups[0].sample_rate'],
+    ['sample_rate: 1e400', 4, 'groups[0].sample_rate'],
+  ])('refuses %s in archive.yaml, naming the line and key', (line, at, key) => {
+    const root = archive(`groups:\n  - name: g\n    match: "rec/*.wav"\n    ${line}\n${CHANNELS}`);
+    for (const command of ['check', 'reduce']) {
+      const r = quern(command, root);
+      expect(r.code, r.stdout + r.stderr).toBe(2);
+      expect(r.stderr).toContain(`archive.yaml:${at}: ${key}: must be a finite number`);
+    }
+  });
+
+  it('refuses a scale or offset of .inf or .nan, which would turn every sample into a fault of the sensor', () => {
+    const root = archive('groups:\n  - name: g\n    match: "rec/*.wav"\n    channels:\n      - { name: a, scale: 1e400 }\n  - name: h\n    match: "other/*.wav"\n    channels:\n      - { name: b, offset: .nan }\n');
+    const r = quern('reduce', root);
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('archive.yaml:5: groups[0].channels[0].scale: must be a finite number');
+    expect(r.stderr).toContain('archive.yaml:9: groups[1].channels[0].offset: must be a finite number');
+  });
+
+  it('refuses .nan in reduction.yaml, naming the line and key', () => {
+    const root = archive(`groups:\n  - name: g\n    match: "rec/*.wav"\n${CHANNELS}`, { 'reduction.yaml': 'statistics: {}\nspectrum: { segment: 1024, overlap: .nan }\n' });
+    const r = quern('reduce', root);
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:2: spectrum.overlap: must be a finite number');
+  });
+});
+
+describe('recordings that hold no samples', () => {
+  const yaml = `groups:\n  - name: g\n    match: "rec/*.wav"\n    sample_rate: 4000\n${CHANNELS}  - name: c\n    match: "rec/*.csv"\n    sample_rate: 100\n`;
+  // A RIFF/WAVE file whose data chunk holds 0 frames (a capture stopped before its first sample), and a CSV of a header only.
+  const files = { 'rec/empty.wav': encodeWav({ sampleRate: 4000, channels: [new Float64Array(0)] }), 'rec/header-only.csv': 'a,b\n' };
+
+  it('fails each as a recording, with what to do, and reduces the others', () => {
+    const root = archive(yaml, files);
+    const r = quern('reduce', root, '--log', 'plain');
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    const run = readJson(join(`${root}.reduced`, 'run.json'));
+    const status = Object.fromEntries(run.recordings.map((x: any) => [x.recording, x]));
+    expect(status['rec/good.wav'].status).toBe('reduced');
+    for (const name of ['rec/empty.wav', 'rec/header-only.csv']) {
+      expect(status[name].status).toBe('failed');
+      expect(status[name].reason).toMatch(/holds no samples.*check the logger/);
+    }
+  });
+
+  it('check says so for the WAV, whose header gives the frame count', () => {
+    const root = archive(yaml, files);
+    const r = quern('check', root);
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    expect(r.stdout).toMatch(/FAILED\s+rec\/empty\.wav.*holds no samples/);
+  });
+});
