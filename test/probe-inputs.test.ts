@@ -1,10 +1,11 @@
 // Inputs an unattended run must not take at face value: declarations whose numbers are not finite, recordings that hold
-// no samples. Each is refused by name (file, place, what to do) while the good recordings around it reduce.
-import { mkdirSync, writeFileSync } from 'node:fs';
+// no samples, pipes and devices where recordings are expected. Each is refused by name (file, place, what to do) while the good recordings around it reduce.
+import { spawnSync } from 'node:child_process';
+import { mkdirSync, symlinkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, readJson, tempDir } from './helpers.js';
+import { quern, readJson, repo, tempDir } from './helpers.js';
 
 const CHANNELS = `    channels:
       - { name: a, quantity: acceleration, unit: m/s^2, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 1000 }
@@ -74,5 +75,45 @@ describe('recordings that hold no samples', () => {
     const r = quern('check', root);
     expect(r.code, r.stdout + r.stderr).toBe(1);
     expect(r.stdout).toMatch(/FAILED\s+rec\/empty\.wav.*holds no samples/);
+  });
+});
+
+describe('entries that are not files of samples', () => {
+  /** The built command under a time limit: a reader waiting on a pipe must show as a failed test, not a stuck suite. */
+  const bounded = (...args: string[]) => {
+    const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', timeout: 60_000 });
+    return { code: r.status, stdout: r.stdout, stderr: r.stderr, timedOut: r.signal === 'SIGTERM' };
+  };
+  /** An archive holding a good recording, a named pipe and a link to an endless device, all matched by the group. */
+  function specialArchive(): string {
+    const root = archive(`groups:\n  - name: g\n    match: "rec/*.wav"\n${CHANNELS}`);
+    // mkfifo (coreutils, part of every base system) is the only way to make a named pipe: Node has no call for it.
+    expect(spawnSync('mkfifo', [join(root, 'rec', 'pipe.wav')]).status).toBe(0);
+    symlinkSync('/dev/zero', join(root, 'rec', 'endless.wav'));
+    return root;
+  }
+
+  it('fails each by name, with what to do, in bounded time, with and without --hash', () => {
+    const root = specialArchive();
+    for (const extra of [[], ['--hash']]) {
+      const r = bounded('reduce', root, '--log', 'plain', ...extra);
+      expect(r.timedOut, 'the run hung').toBe(false);
+      expect(r.code, r.stdout + r.stderr).toBe(1);
+      const status = Object.fromEntries(readJson(join(`${root}.reduced`, 'run.json')).recordings.map((x: any) => [x.recording, x]));
+      expect(status['rec/good.wav'].status).toBe('reduced');
+      expect(status['rec/pipe.wav'].reason).toMatch(/pipe\.wav is a named pipe \(FIFO\), not a file.*copy the recording into a file or remove/);
+      expect(status['rec/endless.wav'].reason).toMatch(/endless\.wav is a device, not a file.*copy the recording into a file or remove/);
+    }
+  });
+
+  it('check and peek say so rather than wait on the pipe', () => {
+    const root = specialArchive();
+    const check = bounded('check', root);
+    expect(check.timedOut, 'check hung').toBe(false);
+    expect(check.code).toBe(1);
+    expect(check.stdout).toMatch(/FAILED\s+rec\/pipe\.wav.*named pipe/);
+    const peek = bounded('peek', join(root, 'rec', 'pipe.wav'));
+    expect(peek.timedOut, 'peek hung').toBe(false);
+    expect(peek.stderr).toMatch(/named pipe \(FIFO\), not a file/);
   });
 });

@@ -81,7 +81,8 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
       if (kind === 'linked folder') { linked.push({ path, within: real }); continue; }
       // A plain folder's real path is its parent's and its name: no system call.
       if (kind === 'folder') { await walkOnce(path, join(real, e.name)); continue; }
-      if (kind !== 'file') continue;
+      // Pipes, devices and sockets a group matches are kept, so their reduction says why they cannot be read.
+      if (kind !== 'file' && kind !== 'other') continue;
       const rel = relative(root, path).split(sep).join('/');
       if (rel === ARCHIVE_FILE || rel === SPEC_FILE) continue;
       const group = matchers.findIndex((m) => m(rel));
