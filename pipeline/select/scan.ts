@@ -6,6 +6,7 @@ import picomatch from 'picomatch';
 import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/open.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
+import { UsageError } from '../declare/yaml-file.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
 
 export interface ScannedRecording {
@@ -111,6 +112,16 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
     table.readAtMs[i] = Date.now();
   });
   return { recordings: table.files(), unmatched, otherFiles };
+}
+
+/** The scan leaves the output folder out; one inside the archive that holds recordings a group matches would hide them, so the run stops. */
+export async function refuseHidingRecordings(archive: string, out: string, declaration: ArchiveDeclaration): Promise<void> {
+  const root = await realpath(archive), dir = await realpath(out).catch(() => null);
+  if (!dir || dir === root || !isWithin(dir, root)) return;
+  const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+  const names = (await readdir(dir, { recursive: true }).catch(() => [] as string[])).sort();
+  const hidden = names.map((n) => relative(root, join(dir, n)).split(sep).join('/')).find((r) => matchers.some((m) => m(r)));
+  if (hidden) throw new UsageError(`the output folder ${out} holds recordings of the archive (${hidden}), which a run never reads from its own output folder; give an output folder (--out) outside the recordings`);
 }
 
 /** A link to a folder, and the real path of the folder holding it. */

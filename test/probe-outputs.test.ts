@@ -1,0 +1,26 @@
+// Where the outputs go must never change what is read: an output folder placed over recordings would hide them from the
+// scan (which skips the output folder), so the run refuses it instead of reducing nothing and calling that a success.
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { quern, readJson, sampleArchiveCopy } from './helpers.js';
+
+describe('an output folder inside the archive', () => {
+  it('refuses one that holds recordings a group matches, naming one, and writes nothing', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, 'nightly');
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/the output folder .*nightly holds recordings of the archive \(nightly\/2026-11-16\/pump-endurance\.wav/);
+    expect(r.stderr).toMatch(/give an output folder \(--out\) outside the recordings/);
+    expect(existsSync(join(out, 'features.parquet'))).toBe(false);
+  });
+
+  it('accepts one of its own, beside the recordings, and leaves it out of the scan', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, 'reduced');
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1); // the sample archive's truncated recording
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.counts.scanned ?? run.recordings.length).toBe(10);
+    expect(run.unmatched.map((u: any) => u.path)).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']); // planted in the sample archive
+  });
+});
