@@ -1,7 +1,7 @@
 // Inputs an unattended run must not take at face value: declarations whose numbers are not finite, recordings that hold
 // no samples, pipes and devices where recordings are expected. Each is refused by name (file, place, what to do) while the good recordings around it reduce.
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, symlinkSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, symlinkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
@@ -115,5 +115,18 @@ describe('entries that are not files of samples', () => {
     const peek = bounded('peek', join(root, 'rec', 'pipe.wav'));
     expect(peek.timedOut, 'peek hung').toBe(false);
     expect(peek.stderr).toMatch(/named pipe \(FIFO\), not a file/);
+  });
+});
+
+describe('file names the file system gives back other than they are stored', () => {
+  it('a name that is not UTF-8 (a Latin-1 "ü") fails as its recording, saying to rename it, and the others reduce', () => {
+    const root = archive(`groups:\n  - name: g\n    match: "rec/*.wav"\n${CHANNELS}`);
+    // Node hands such a name back with U+FFFD in place of the byte, a path that then leads nowhere.
+    writeFileSync(Buffer.concat([Buffer.from(join(root, 'rec', 'pr')), Buffer.from([0xfc]), Buffer.from('fstand.wav')]), readFileSync(join(root, 'rec', 'good.wav')));
+    const r = quern('reduce', root, '--log', 'plain');
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    const status = Object.fromEntries(readJson(join(`${root}.reduced`, 'run.json')).recordings.map((x: any) => [x.recording, x]));
+    expect(status['rec/good.wav'].status).toBe('reduced');
+    expect(status['rec/pr\uFFFDfstand.wav'].reason).toMatch(/file name is not valid UTF-8.*rename it/);
   });
 });

@@ -107,8 +107,8 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   const table = new ScanTable(root, found);
   await eachAtOnce(table.recordings, STATS_AT_ONCE, async (_, i) => {
     const s = await statOrLink(table.pathOf(i));
-    table.size[i] = s.size;
-    table.mtimeMs[i] = s.mtimeMs;
+    table.size[i] = s?.size ?? 0;
+    table.mtimeMs[i] = s?.mtimeMs ?? 0;
     table.readAtMs[i] = Date.now();
   });
   return { recordings: table.files(), unmatched, otherFiles };
@@ -140,4 +140,5 @@ function isWithin(inner: string, outer: string): boolean {
 }
 
 /** A file's size and times (a link's target's); a link whose target cannot be reached gives its own, and its reduction says why it fails. */
-const statOrLink = (path: string) => stat(path).catch(() => lstat(path));
+// A file gone since it was listed (moved away, or a name not in UTF-8 that leads nowhere) fails at opening, not the whole scan.
+const statOrLink = (path: string) => stat(path).catch(() => lstat(path)).catch(() => null);
