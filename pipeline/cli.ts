@@ -183,4 +183,6 @@ async function main(argv: string[]): Promise<number> {
   return code;
 }
 
+// A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
+for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
 process.exitCode = await main(hideBin(process.argv));

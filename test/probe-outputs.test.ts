@@ -1,9 +1,10 @@
 // Where the outputs go must never change what is read: an output folder placed over recordings would hide them from the
 // scan (which skips the output folder), so the run refuses it instead of reducing nothing and calling that a success.
+import { spawn } from 'node:child_process';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { quern, readJson, sampleArchiveCopy } from './helpers.js';
+import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
 
 describe('an output folder inside the archive', () => {
   it('refuses one that holds recordings a group matches, naming one, and writes nothing', () => {
@@ -22,5 +23,26 @@ describe('an output folder inside the archive', () => {
     const run = readJson(join(out, 'run.json'));
     expect(run.counts.scanned ?? run.recordings.length).toBe(10);
     expect(run.unmatched.map((u: any) => u.path)).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']); // planted in the sample archive
+  });
+});
+
+describe('a terminal that goes away', () => {
+  /** Runs the built command with its standard output (or both outputs) closed at once, as `quern … | head -1` does. */
+  function closedPipe(args: string[], both = false): Promise<{ code: number | null; stderr: string }> {
+    const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    child.stdout.destroy();
+    let stderr = '';
+    if (both) child.stderr.destroy(); else child.stderr.on('data', (d) => { stderr += d; });
+    return new Promise((done) => child.on('close', (code) => done({ code, stderr })));
+  }
+
+  it('the run still completes with its own exit code and no stack trace when its reader quits early', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const r = await closedPipe(['reduce', archive, '--out', out, '--log', 'plain']);
+    expect(r.stderr).not.toMatch(/EPIPE|Unhandled/);
+    expect(r.code).toBe(1); // the sample archive's truncated recording, as with an open terminal
+    expect(readJson(join(out, 'run.json')).counts.reduced).toBe(9);
+    const both = await closedPipe(['reduce', archive, '--out', out, '--log', 'plain', '--force'], true);
+    expect(both.code).toBe(1);
   });
 });
