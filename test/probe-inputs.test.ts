@@ -130,3 +130,33 @@ describe('file names the file system gives back other than they are stored', () 
     expect(status['rec/pr\uFFFDfstand.wav'].reason).toMatch(/file name is not valid UTF-8.*rename it/);
   });
 });
+
+describe('reduction specs the schema cannot judge', () => {
+  const specRun = (spec: string) => {
+    const root = archive(`groups:\n  - name: g\n    match: "rec/*.wav"\n${CHANNELS}`, { 'reduction.yaml': spec });
+    return quern('reduce', root, '--log', 'plain');
+  };
+
+  it('refuses a Welch segment that is not a power of two, or too long to hold, before any recording fails', () => {
+    for (const n of [3000, 2 ** 27]) {
+      const r = specRun(`statistics: {}\nspectrum: { segment: ${n} }\n`);
+      expect(r.code, r.stdout + r.stderr).toBe(2);
+      expect(r.stderr).toContain(`reduction.yaml:2: spectrum.segment: must be a power of two from 16 to 1048576, got ${n}`);
+      expect(r.stderr).not.toMatch(/unexpected error|    at /);
+    }
+  });
+
+  it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
+    const r = specRun([
+      'bands: [[20, 200], [200, 20]]', //                                          1
+      'velocity_bands: { ranges: [[1000, 10]] }', //                               2
+      'octave_bands: [{ fraction: 1, from: 8000, to: 31.5 }]', //                  3
+      'envelope: { filter: { kind: bandpass, order: 4, low_hz: 500, high_hz: 100 } }', // 4
+    ].join('\n') + '\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:1: bands[1]: must be [low, high] with low < high, got [200, 20]');
+    expect(r.stderr).toContain('reduction.yaml:2: velocity_bands.ranges[0]: must be [low, high] with low < high, got [1000, 10]');
+    expect(r.stderr).toContain('reduction.yaml:3: octave_bands[0]: from must be below to, got 8000 and 31.5');
+    expect(r.stderr).toContain('reduction.yaml:4: envelope.filter: low_hz must be below high_hz, got 500 and 100');
+  });
+});
