@@ -1,7 +1,7 @@
 // Where the outputs go must never change what is read: an output folder placed over recordings would hide them from the
 // scan (which skips the output folder), so the run refuses it instead of reducing nothing and calling that a success.
 import { spawn } from 'node:child_process';
-import { existsSync } from 'node:fs';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
@@ -44,5 +44,21 @@ describe('a terminal that goes away', () => {
     expect(readJson(join(out, 'run.json')).counts.reduced).toBe(9);
     const both = await closedPipe(['reduce', archive, '--out', out, '--log', 'plain', '--force'], true);
     expect(both.code).toBe(1);
+  });
+});
+
+describe('exporting a damaged table', () => {
+  it('names the file and what to do, exits 2, and a re-run of reduce mends it', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+    const table = join(out, 'features.parquet');
+    writeFileSync(table, readFileSync(table).subarray(0, 500)); // a copy cut short
+    const r = quern('export', out, '--to', 'csv');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain(`${table}: not a readable Parquet table (`);
+    expect(r.stderr).toMatch(/run quern reduce again to write it afresh/);
+    expect(r.stderr).not.toMatch(/unexpected error|    at /);
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+    expect(quern('export', out, '--to', 'csv').code).toBe(0);
   });
 });
