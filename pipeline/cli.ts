@@ -6,7 +6,7 @@ import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
 import { progressFor } from './outputs/progress.js';
 import { summaryText } from './outputs/report.js';
-import { parseShard, parseSpan, parseWhen } from './select/select.js';
+import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 
@@ -72,6 +72,7 @@ async function main(argv: string[]): Promise<number> {
         shard = a.shard ? parseShard(a.shard) : null;
         since = a.since ? parseWhen(a.since) : null;
         until = a.until ? parseWhen(a.until) : null;
+        checkPeriod(since, until, a.since, a.until);
       } catch (e) {
         throw new UsageError((e as Error).message);
       }
@@ -182,4 +183,6 @@ async function main(argv: string[]): Promise<number> {
   return code;
 }
 
+// A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
+for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
 process.exitCode = await main(hideBin(process.argv));

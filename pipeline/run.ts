@@ -16,7 +16,7 @@ import type { QualitySummary } from './outputs/quality.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
 import { writing } from './outputs/staged.js';
 import { decide } from './plan/reuse.js';
-import { scan } from './select/scan.js';
+import { refuseHidingRecordings, scan } from './select/scan.js';
 import { byStartTime, shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
@@ -65,6 +65,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     declaration = await loadArchiveDeclaration(root);
     spec = await loadSpec(root, o.spec);
     trends = trendOptions(spec.spec); // checked now, before any work
+    await refuseHidingRecordings(root, outDir, declaration);
     lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
   } catch (e) {
     await pool.destroy();

@@ -9,6 +9,7 @@ import type { RawLayout } from '../../stages/read/raw.js';
 import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { packageRoot } from './package-files.js';
+import { checkSpec } from './check-spec.js';
 import { formatProblems, loadYaml, parseYaml, UsageError, type Problem } from './yaml-file.js';
 
 /** Column names that labels may not take, since the table already has them. */
@@ -91,7 +92,9 @@ export async function loadSpec(archive: string, specPath?: string | null): Promi
   } catch (e) {
     throw new UsageError(`${file}: cannot be read (${(e as NodeJS.ErrnoException).code ?? e}); check the --spec path`);
   }
-  const { value } = await parseYaml(text, 'reduction.schema.json', given ? candidate : '(default spec)');
+  const { value, source } = await parseYaml(text, 'reduction.schema.json', given ? candidate : '(default spec)');
   const spec = value as ReductionSpec;
+  const problems = checkSpec(spec, source);
+  if (problems.length) throw new UsageError(formatProblems(problems));
   return { spec, source: given ? candidate : '(default)', text, hash: createHash('sha256').update(canonicalJson(spec)).digest('hex') };
 }

@@ -52,6 +52,14 @@ function describeAjv(e: ErrorObject): { path: (string | number)[]; message: stri
   }
 }
 
+/** Paths of the numbers that are not finite: YAML reads .inf, .nan and 1e400 as numbers, which JSON Schema's "number" accepts. */
+export function nonFinitePaths(value: unknown, path: (string | number)[] = []): (string | number)[][] {
+  if (typeof value === 'number') return Number.isFinite(value) ? [] : [path];
+  if (Array.isArray(value)) return value.flatMap((v, i) => nonFinitePaths(v, [...path, i]));
+  if (value && typeof value === 'object') return Object.entries(value).flatMap(([k, v]) => nonFinitePaths(v, [...path, k]));
+  return [];
+}
+
 /** The schemas' validators, generated ahead of time (scripts/build-validators.ts), so no run compiles a schema. */
 type Validator = ((data: unknown) => boolean) & { errors?: ErrorObject[] | null };
 const VALIDATORS: Record<string, Validator> = { 'archive.schema.json': archive, 'reduction.schema.json': reduction };
@@ -75,6 +83,8 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   }
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
+  const infinite = nonFinitePaths(value);
+  if (infinite.length) throw new UsageError(formatProblems(infinite.map((p) => source.problem(p, 'must be a finite number (.inf, .nan and values beyond 1.8e308 are not); write the value itself'))));
   const validate = VALIDATORS[schemaName];
   if (!validate) throw new Error(`quern: no validator for ${schemaName}; add it to scripts/build-validators.ts`);
   if (!validate(value)) {

@@ -17,7 +17,13 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
   }
   // The Parquet reader loads only when a table is read back (quern export), not on every command.
   const [arrow, { readParquet }] = await Promise.all([import('apache-arrow'), import('parquet-wasm/node')]);
-  const table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());
+  let table;
+  try {
+    table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());
+  } catch (e) {
+    // A table cut short (an interrupted copy, a full disk elsewhere) is a damaged input, not a fault in quern.
+    throw new UsageError(`${path}: not a readable Parquet table (${(e as Error).message}); run quern reduce again to write it afresh, or copy it again`);
+  }
   const columns: ExportColumn[] = table.schema.fields.map((f) => ({
     name: f.name,
     unit: f.metadata.get('unit') ?? '',

@@ -2,6 +2,7 @@
 // group still holds, and the whole stored history. Entries live in packs (pipeline/store/), stored as soon as a batch is done.
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
+import { requireRegularFile } from '../../stages/read/regular-file.js';
 import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -45,6 +46,8 @@ export async function* storedEntries(out: string): AsyncGenerator<CacheEntry> {
 /** SHA-256 of a file's bytes, streamed. */
 export function hashFile(path: string): Promise<string> {
   return new Promise((resolve, reject) => {
+    // A pipe or a device would never end; its reduction says why it fails.
+    requireRegularFile(path);
     const h = createHash('sha256');
     createReadStream(path).on('data', (d) => h.update(d)).on('error', reject).on('end', () => resolve(h.digest('hex')));
   });

@@ -42,6 +42,9 @@ function toEngineering(stored: Float64Array, scale: number, offset: number, out:
   for (let i = 0; i < stored.length; i++) out[i] = stored[i] * scale + offset;
 }
 
+/** A recording of no samples has no figures to trust, however clean its flags would read. */
+const noSamples = () => new RecordingError('the recording holds no samples (0 frames): the capture stopped before its first sample; check the logger, then recapture or remove the file');
+
 /** Opens a recording and holds its header against the declaration; closes it again if they disagree. */
 export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[] }> {
   const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
@@ -49,6 +52,7 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {
       throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct sample_rate in archive.yaml or move the file to the right group`);
     }
+    if (rec.frames === 0) throw noSamples();
     return { rec, channels: resolveChannels(job, rec) };
   } catch (e) {
     await rec.close();
@@ -118,6 +122,7 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
       }
       frames += n;
     }
+    if (frames === 0) throw noSamples();
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });

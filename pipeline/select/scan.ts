@@ -6,6 +6,7 @@ import picomatch from 'picomatch';
 import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/open.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
+import { UsageError } from '../declare/yaml-file.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
 
 export interface ScannedRecording {
@@ -81,7 +82,8 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
       if (kind === 'linked folder') { linked.push({ path, within: real }); continue; }
       // A plain folder's real path is its parent's and its name: no system call.
       if (kind === 'folder') { await walkOnce(path, join(real, e.name)); continue; }
-      if (kind !== 'file') continue;
+      // Pipes, devices and sockets a group matches are kept, so their reduction says why they cannot be read.
+      if (kind !== 'file' && kind !== 'other') continue;
       const rel = relative(root, path).split(sep).join('/');
       if (rel === ARCHIVE_FILE || rel === SPEC_FILE) continue;
       const group = matchers.findIndex((m) => m(rel));
@@ -105,11 +107,21 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   const table = new ScanTable(root, found);
   await eachAtOnce(table.recordings, STATS_AT_ONCE, async (_, i) => {
     const s = await statOrLink(table.pathOf(i));
-    table.size[i] = s.size;
-    table.mtimeMs[i] = s.mtimeMs;
+    table.size[i] = s?.size ?? 0;
+    table.mtimeMs[i] = s?.mtimeMs ?? 0;
     table.readAtMs[i] = Date.now();
   });
   return { recordings: table.files(), unmatched, otherFiles };
+}
+
+/** The scan leaves the output folder out; one inside the archive that holds recordings a group matches would hide them, so the run stops. */
+export async function refuseHidingRecordings(archive: string, out: string, declaration: ArchiveDeclaration): Promise<void> {
+  const root = await realpath(archive), dir = await realpath(out).catch(() => null);
+  if (!dir || dir === root || !isWithin(dir, root)) return;
+  const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+  const names = (await readdir(dir, { recursive: true }).catch(() => [] as string[])).sort();
+  const hidden = names.map((n) => relative(root, join(dir, n)).split(sep).join('/')).find((r) => matchers.some((m) => m(r)));
+  if (hidden) throw new UsageError(`the output folder ${out} holds recordings of the archive (${hidden}), which a run never reads from its own output folder; give an output folder (--out) outside the recordings`);
 }
 
 /** A link to a folder, and the real path of the folder holding it. */
@@ -128,4 +140,5 @@ function isWithin(inner: string, outer: string): boolean {
 }
 
 /** A file's size and times (a link's target's); a link whose target cannot be reached gives its own, and its reduction says why it fails. */
-const statOrLink = (path: string) => stat(path).catch(() => lstat(path));
+// A file gone since it was listed (moved away, or a name not in UTF-8 that leads nowhere) fails at opening, not the whole scan.
+const statOrLink = (path: string) => stat(path).catch(() => lstat(path)).catch(() => null);

@@ -37,14 +37,31 @@ function check(k: number, n: number, from: string): Shard {
 
 const SPAN = /^(\d+(?:\.\d+)?)\s*(m|h|d|w)$/;
 const UNIT_MS = { m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_000 } as const;
+/** ISO 8601 date, optionally with a time of day and a zone: 2026-11-16, 2026-11-16T02:00, 2026-11-16T02:00:30.5+01:00. */
+const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?$/;
 
 /** A date or date-time (ISO 8601; a bare date is midnight UTC), or a span back from now such as 7d, 12h, 30m, 2w. */
 export function parseWhen(text: string, now = Date.now()): number {
   const span = text.trim().match(SPAN);
   if (span) return now - Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
-  const t = Date.parse(text);
-  if (!Number.isFinite(t)) throw new Error(`"${text}" is neither a date (2026-11-16, 2026-11-16T02:00Z) nor a span (7d, 12h, 30m, 2w)`);
+  const iso = text.trim().match(ISO_DATE);
+  const t = iso ? Date.parse(text.trim()) : NaN;
+  // Date.parse alone guesses ("7" is July 2001, 30 February rolls into March), so only real ISO 8601 calendar dates pass.
+  if (!iso || !Number.isFinite(t) || !isCalendarDate(Number(iso[1]), Number(iso[2]), Number(iso[3]))) {
+    throw new Error(`"${text}" is neither a date (2026-11-16, 2026-11-16T02:00Z) nor a span (7d, 12h, 30m, 2w)`);
+  }
   return t;
+}
+
+/** Whether the day exists: Date.UTC rolls 30 February over into March. */
+const isCalendarDate = (y: number, m: number, d: number) => {
+  const day = new Date(Date.UTC(y, m - 1, d));
+  return day.getUTCFullYear() === y && day.getUTCMonth() === m - 1 && day.getUTCDate() === d;
+};
+
+/** The period [since, until) as given; one that holds no instant is a mistake, not a night with nothing to do. */
+export function checkPeriod(since: number | null, until: number | null, sinceText?: string, untilText?: string): void {
+  if (since != null && until != null && since >= until) throw new Error(`--since ${sinceText} is not before --until ${untilText}: no recording could be selected; swap them`);
 }
 
 /** A span such as 30m, 12h, 2d or 1w, in ms. */

@@ -7,6 +7,8 @@ import { openRaw, type RawLayout } from './raw.js';
 import { DEFAULT_CHUNK_FRAMES, RecordingError, type Format, type Recording } from './recording.js';
 import { openWav } from './wav.js';
 import { explainLink } from './explain-link.js';
+import { explainName } from './explain-name.js';
+import { requireRegularFile } from './regular-file.js';
 
 const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw', '.flac': 'flac', '.h5': 'hdf5', '.hdf5': 'hdf5' };
 
@@ -24,12 +26,13 @@ export interface OpenOptions extends ReaderOptions {
   chunkFrames?: number;
 }
 
-/** Opens a recording with the reader for its format; a link that leads nowhere is named with its target. */
+/** Opens a recording with the reader for its format; a link that leads nowhere is named with its target, a name not in UTF-8 as such. */
 export async function openRecording(path: string, options: OpenOptions = {}): Promise<Recording> {
   try {
+    requireRegularFile(path);
     return await openByFormat(path, options);
   } catch (e) {
-    throw (await explainLink(path, e)) ?? e;
+    throw (await explainLink(path, e)) ?? explainName(path, e) ?? e;
   }
 }
 

@@ -1,0 +1,36 @@
+// What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, and bands whose
+// edges are in order. Caught here, a mistake stops the run once with file, line and key, instead of failing every
+// recording or writing figures of 0.
+import type { ReductionSpec } from '../../spec/reduction.js';
+import type { Problem, YamlSource } from './yaml-file.js';
+
+/** Longest Welch segment: 0.05 Hz resolution at 51.2 kHz, some 8 MB a buffer per channel (our choice). */
+export const MAX_SEGMENT = 2 ** 20;
+
+type Path = (string | number)[];
+type Ranges = [number, number][];
+
+/** The list of [low, high] ranges of a section in either of its forms, with the path of the list. */
+const rangesAt = (v: Ranges | { ranges: Ranges } | undefined, key: string): [Ranges, Path] => (Array.isArray(v) ? [v, [key]] : [v?.ranges ?? [], [key, 'ranges']]);
+
+export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
+  const problems: Problem[] = [];
+  const segment = spec.spectrum?.segment;
+  if (segment != null && !(Number.isInteger(Math.log2(segment)) && segment >= 16 && segment <= MAX_SEGMENT)) {
+    problems.push(source.problem(['spectrum', 'segment'], `must be a power of two from 16 to ${MAX_SEGMENT}, got ${segment}`));
+  }
+  for (const key of ['bands', 'velocity_bands'] as const) {
+    const [ranges, at] = rangesAt(spec[key], key);
+    ranges.forEach(([lo, hi], i) => { if (!(lo < hi)) problems.push(source.problem([...at, i], `must be [low, high] with low < high, got [${lo}, ${hi}]`)); });
+  }
+  const octaves = spec.octave_bands == null ? [] : Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands];
+  octaves.forEach((o, i) => {
+    const at = Array.isArray(spec.octave_bands) ? ['octave_bands', i] : ['octave_bands'];
+    if (o.from != null && o.to != null && !(o.from < o.to)) problems.push(source.problem(at, `from must be below to, got ${o.from} and ${o.to}`));
+  });
+  const filter = spec.envelope?.filter;
+  if (filter?.low_hz != null && filter.high_hz != null && !(filter.low_hz < filter.high_hz)) {
+    problems.push(source.problem(['envelope', 'filter'], `low_hz must be below high_hz, got ${filter.low_hz} and ${filter.high_hz}`));
+  }
+  return problems;
+}

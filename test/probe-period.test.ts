@@ -1,0 +1,31 @@
+// --since and --until take only what the README documents (an ISO 8601 date or date-time, or a span): a slip of the
+// keyboard must stop the run, not quietly select another period.
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { parseWhen } from '../pipeline/select/select.js';
+import { quern, sampleArchiveCopy } from './helpers.js';
+
+describe('period edges', () => {
+  // Date.parse reads "7" as July 2001, "Nov 16" as 2001-11-16 and "2026-02-30" as 2 March (V8's lenient fallback, from memory).
+  it.each(['7', '12', 'Nov 16', '1/2/3', '2026-02-30', '2026-11-31T02:00Z', '2026'])('refuses %j instead of guessing a date', (text) => {
+    expect(() => parseWhen(text)).toThrow(/neither a date .* nor a span/);
+  });
+
+  it('reads the documented forms, a bare date as midnight UTC (ISO 8601)', () => {
+    expect(parseWhen('2026-11-16')).toBe(Date.UTC(2026, 10, 16));
+    expect(parseWhen('2026-11-16T02:00Z')).toBe(Date.UTC(2026, 10, 16, 2));
+    expect(parseWhen('2026-11-16T02:00:30.5+01:00')).toBe(Date.UTC(2026, 10, 16, 1, 0, 30, 500));
+    expect(parseWhen('2026-02-28T23:59:59Z')).toBe(Date.UTC(2026, 1, 28, 23, 59, 59));
+    expect(parseWhen('2w', Date.UTC(2026, 10, 30))).toBe(Date.UTC(2026, 10, 16));
+  });
+
+  it('a forgotten unit or a reversed period stops the run with exit code 2 before any output is written', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const forgotten = quern('reduce', archive, '--out', out, '--since', '7', '--quiet');
+    expect(forgotten.code, forgotten.stdout + forgotten.stderr).toBe(2);
+    expect(forgotten.stderr).toMatch(/"7" is neither a date/);
+    const reversed = quern('reduce', archive, '--out', out, '--since', '2026-11-21', '--until', '2026-11-19', '--quiet');
+    expect(reversed.code, reversed.stdout + reversed.stderr).toBe(2);
+    expect(reversed.stderr).toMatch(/--since 2026-11-21 is not before --until 2026-11-19: no recording could be selected; swap them/);
+  });
+});
