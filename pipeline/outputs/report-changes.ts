@@ -114,7 +114,7 @@ export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[])
   const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
   out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit. Channels whose data fail the quality checks are left out.</p>`);
   if (!r.items.length) {
-    out.push(`<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming or data unusable)` : ''}.</p></section>`);
+    out.push(`<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
     return out.join('\n');
   }
   out.push(`<p><b>${alarms}</b> channel features at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);

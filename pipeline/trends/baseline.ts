@@ -8,25 +8,34 @@ export interface BaselineStats {
   members: number[];
   median: number;
   mad: number;
-  /** Enough members to score against: N of N, or at least one in a period. */
+  /** Enough members to score against: N of N, or at least one in a period, and none held by a figure of other options. */
   complete: boolean;
+  /** Baseline places held by recordings whose figure was computed under other spec options (recomputed by a whole run). */
+  stale: number;
 }
 
-/** Baseline points of a series: usable (data quality not fail) and accepted by `has` (a value present), first N or within the period. */
-export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true): number[] {
+/**
+ * Baseline points of a series: usable (data quality not fail) and accepted by `has` (a value present), first N or within the
+ * period. A point `stale` (its figure computed under other options) keeps its place among the first N, so the baseline never
+ * slides onto later recordings, but is not a member; `held` counts such places.
+ */
+export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false): { members: number[]; held: number } {
   const members: number[] = [];
+  let held = 0;
   for (let i = 0; i < s.size; i++) {
-    if (!usable(s, i) || !has(i)) continue;
-    if ('first' in b) { if (members.length === b.first) break; members.push(i); }
-    else if (s.time[i] >= b.fromMs && s.time[i] < b.untilMs) members.push(i);
+    if (!usable(s, i)) continue;
+    if ('first' in b) { if (members.length + held === b.first) break; }
+    else if (!(s.time[i] >= b.fromMs && s.time[i] < b.untilMs)) continue;
+    if (stale(i)) held++;
+    else if (has(i)) members.push(i);
   }
-  return members;
+  return { members, held };
 }
 
 /** The baseline of feature k of a series: its members, median and median absolute deviation. */
 export function baselineOf(s: Series, k: number, b: Baseline): BaselineStats {
   const values = s.values[k];
-  const members = baselineMembers(s, b, (i) => Number.isFinite(values[i]));
+  const { members, held: stale } = baselineMembers(s, b, (i) => Number.isFinite(values[i]), (i) => s.stale[k][i] === 1);
   const { median, mad } = medianAndMad(members.map((i) => values[i]));
-  return { members, median, mad, complete: 'first' in b ? members.length === b.first : members.length > 0 };
+  return { members, median, mad, stale, complete: stale === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
 }

@@ -86,6 +86,8 @@ export interface ChangesReport {
   totals: Record<Verdict | 'unscored', number>;
   /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
   items: ChangeItem[];
+  /** Channel features of this run with no baseline because its recordings hold figures of other spec options. */
+  stale_baselines: number;
 }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
@@ -94,16 +96,19 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
 export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
+  let staleBaselines = 0;
   for (const f of scored) {
     const s = f.series;
-    let latest = -1;
+    let latest = -1, rows = 0;
     for (let i = 0; i < s.size; i++) {
       if (!s.inRun[i]) continue;
       const p = f.at(i);
       if (!p) continue;
+      rows++;
       totals[p.verdict ?? 'unscored']++;
       if (p.verdict) latest = i;
     }
+    if (rows && f.base.stale) staleBaselines++;
     if (latest < 0) continue;
     const p = f.at(latest)!;
     if (p.verdict === 'steady' || !p.verdict) continue;
@@ -123,7 +128,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor },
-    features: o.features.map((f) => f.name), totals, items,
+    features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
   };
 }
 

@@ -1,6 +1,6 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
 // read once from the output folder's stored results and kept as compact typed arrays (about 16 bytes a recording and
-// channel, plus 8 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
+// channel, plus 9 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
 import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
@@ -42,6 +42,8 @@ export interface Series {
   inRun: Uint8Array;
   /** Per watched feature (TrendOptions.features order): the value, NaN when absent or computed under other options. */
   values: Float64Array[];
+  /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now. */
+  stale: Uint8Array[];
 }
 
 export interface History { recordings: string[]; series: Series[] }
@@ -50,7 +52,7 @@ const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; values: Growing<Float64Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
 
 /**
  * Reads every stored entry once and keeps what trends need. A value counts only when the entry's feature group was computed
@@ -69,7 +71,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), values: o.features.map(f64) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
@@ -78,6 +80,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
       o.features.forEach((f, k) => {
         const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
         b!.values[k].push(typeof v === 'number' ? v : NaN);
+        b!.stale[k].push(e.groupKeys?.[f.group] !== keys[f.group] ? 1 : 0);
       });
     });
   }
@@ -88,7 +91,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
       recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), inRun: b.inRun.take(order),
-      values: b.values.map((v) => v.take(order)),
+      values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)),
     };
   });
   series.sort((a, b) => (a.group + '\u0000' + a.channel + '\u0000' + a.unit < b.group + '\u0000' + b.channel + '\u0000' + b.unit ? -1 : 1));

@@ -102,7 +102,7 @@ export async function gatherPictures(h: History, scored: ScoredFeature[], report
   // Which recordings' spectra each pictured channel needs: its baseline, and its last MAX_RECORDINGS.
   const wanted = new Map<string, { pic: number; point: number }[]>();
   const baselines = channels.map(({ series: s }, pic) => {
-    const members = baselineMembers(s, o.baseline);
+    const { members } = baselineMembers(s, o.baseline);
     const points = new Set([...members, ...Array.from({ length: Math.min(MAX_RECORDINGS, s.size) }, (_, j) => s.size - 1 - j)]);
     for (const point of points) {
       const name = h.recordings[s.recording[point]];
