@@ -56,6 +56,14 @@ describe('exports of the sample archive', () => {
     expect(header.slice(0, 5)).toEqual(['recording', 'group', 'channel', 'quantity', 'unit']);
   });
 
+  it('names every CSV column\'s unit in one pair of brackets, the trends\' values in their feature\'s unit', () => {
+    for (const table of ['features', 'windows', 'spectra', 'trends']) {
+      const [header] = parse(readFileSync(join(out, `${table}.csv`), 'utf8'), { record_delimiter: '\r\n', to_line: 1 }) as string[][];
+      for (const cell of header) expect(cell, `${table}.csv`).not.toMatch(/\[\[|\]\]/);
+      if (table === 'trends') expect(header).toEqual(expect.arrayContaining(['unit', 'value [feature unit]', 'baseline [feature unit]']));
+    }
+  });
+
   it('writes a wide layout: one row per recording, channel-prefixed columns with the channel unit resolved', () => {
     const rows: string[][] = parse(readFileSync(join(out, 'features-wide.csv'), 'utf8'), { record_delimiter: '\r\n' });
     expect(rows.length - 1).toBe(new Set(parquet.map((r) => r.recording)).size);

@@ -17,10 +17,14 @@ export const neutralise = (s: string) => (FORMULA_START.test(s) ? `'${s}` : s);
 /** A number as text that reads back as the same double (shortest round-trip form), or rounded to `digits`. */
 export const numberText = (v: number, digits: number | null | undefined) => String(digits ? Number(v.toPrecision(digits)) : v);
 
-/** The header cell: name and unit; "[unit]" stands for the channel's own unit, given in the row's `unit` column. */
+/**
+ * The header cell: name and unit; "[unit]" stands for the channel's own unit, and a unit that is itself a bracketed
+ * placeholder ("[feature unit]") names the row's `unit` column without a second pair of brackets.
+ */
 export function headerText(c: ExportColumn): string {
   if (!c.unit || c.unit === '1') return c.name;
-  return `${c.name} [${c.unit.replace('[unit]^2', 'channel unit²').replace('[unit]', 'channel unit')}]`;
+  const unit = c.unit.replace('[unit]^2', 'channel unit²').replace('[unit]', 'channel unit');
+  return `${c.name} [${/^\[[^\]]*\]$/.test(unit) ? unit.slice(1, -1) : unit}]`;
 }
 
 function cellText(v: Cell, c: ExportColumn, o: CsvOptions): string {
