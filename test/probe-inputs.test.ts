@@ -146,6 +146,15 @@ describe('reduction specs the schema cannot judge', () => {
     }
   });
 
+  it('refuses an MTVV integration time whose running window no channel could hold, before any recording fails', () => {
+    // ISO 2631-1 defines MTVV over 1 s running windows (from memory); 1e6 s at 4 kHz would be a 32 GB window per channel.
+    const r = specRun('statistics: {}\nmtvv: { integration_s: 1e6 }\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:2: mtvv.integration_s: must be at most 10 s (ISO 2631-1 integrates over 1 s), got 1000000');
+    expect(r.stderr).not.toMatch(/unexpected error|    at /);
+    expect(specRun('statistics: {}\nmtvv: { integration_s: 10 }\n').code).toBe(0);
+  });
+
   it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
     const r = specRun([
       'bands: [[20, 200], [200, 20]]', //                                          1
