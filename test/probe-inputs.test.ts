@@ -155,6 +155,18 @@ describe('reduction specs the schema cannot judge', () => {
     expect(specRun('statistics: {}\nmtvv: { integration_s: 10 }\n').code).toBe(0);
   });
 
+  it('refuses trends watching a column that does not exist, naming the nearest ones, but not a default one the spec leaves off', () => {
+    const r = specRun(['statistics: {}', 'bands: [[20, 200]]', 'trends:', '  features: [rms, krtosis, "bnd_*_rms", band_*_rms]'].join('\n') + '\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:4: trends.features[1]: "krtosis" matches no feature column of this spec (nearest: kurtosis, ');
+    expect(r.stderr).toMatch(/reduction\.yaml:4: trends\.features\[2\]: "bnd_\*_rms" matches no feature column of this spec \(nearest: [^)]*band_20_200_rms/);
+    expect(r.stderr).toContain('name a column of features.parquet or a glob over them, or turn on the section that computes it');
+    expect(r.stderr).not.toMatch(/features\[0\]|features\[3\]/);
+    // env_rms is in the default list, watched where present: a spec without envelope still runs.
+    const quiet = specRun('statistics: {}\ntrends:\n  features: [rms, env_rms]\n');
+    expect(quiet.code, quiet.stdout + quiet.stderr).toBe(0);
+  });
+
   it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
     const r = specRun([
       'bands: [[20, 200], [200, 20]]', //                                          1

@@ -1,7 +1,8 @@
 // What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, an MTVV window a
-// channel can hold, and bands whose edges are in order. Caught here, a mistake stops the run once with file, line and key, instead of failing every
+// channel can hold, bands whose edges are in order, and trends watching columns that exist. Caught here, a mistake stops the run once with file, line and key, instead of failing every
 // recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { unknownFeatures } from '../trends/options.js';
 import type { Problem, YamlSource } from './yaml-file.js';
 
 /** Longest Welch segment: 0.05 Hz resolution at 51.2 kHz, some 8 MB a buffer per channel (our choice). */
@@ -41,6 +42,10 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   const filter = spec.envelope?.filter;
   if (filter?.low_hz != null && filter.high_hz != null && !(filter.low_hz < filter.high_hz)) {
     problems.push(source.problem(['envelope', 'filter'], `low_hz must be below high_hz, got ${filter.low_hz} and ${filter.high_hz}`));
+  }
+  // A watched name that matches no column would watch nothing, every night, without a word.
+  for (const u of unknownFeatures(spec)) {
+    problems.push(source.problem(['trends', 'features', u.index], `"${u.pattern}" matches no feature column of this spec (nearest: ${u.nearest.join(', ')}); name a column of features.parquet or a glob over them, or turn on the section that computes it`));
   }
   return problems;
 }
