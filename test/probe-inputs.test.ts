@@ -4,6 +4,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, symlinkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { editDistance, nearestNames } from '../pipeline/declare/nearest-names.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { quern, readJson, repo, tempDir } from './helpers.js';
 
@@ -179,5 +180,14 @@ describe('reduction specs the schema cannot judge', () => {
     expect(r.stderr).toContain('reduction.yaml:2: velocity_bands.ranges[0]: must be [low, high] with low < high, got [1000, 10]');
     expect(r.stderr).toContain('reduction.yaml:3: octave_bands[0]: from must be below to, got 8000 and 31.5');
     expect(r.stderr).toContain('reduction.yaml:4: envelope.filter: low_hz must be below high_hz, got 500 and 100');
+  });
+});
+
+describe('nearest names', () => {
+  it('measures the Levenshtein distance of the textbook examples (kitten → sitting 3, flaw → lawn 2; from memory)', () => {
+    expect(editDistance('kitten', 'sitting')).toBe(3);
+    expect(editDistance('flaw', 'lawn')).toBe(2);
+    expect(editDistance('', 'rms')).toBe(3);
+    expect(nearestNames('krtosis', ['rms', 'kurtosis', 'skewness'], 2)).toEqual(['kurtosis', 'rms']);
   });
 });
