@@ -43,6 +43,28 @@ function jobsOf(jobs: number): number {
   return jobs;
 }
 
+/** Options whose value may begin with a minus sign, which yargs would otherwise split into short flags ("-5d" as -5 -d). */
+const SIGNED_VALUE_OPTIONS = ['--since', '--until', '--stale-lock-after'];
+
+/** `--since -5d` joined as `--since=-5d`, so quern judges the value and names the option, instead of "Unknown arguments: 5, d". */
+export function joinSignedValues(argv: string[]): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    if (SIGNED_VALUE_OPTIONS.includes(argv[i]) && /^-[\d.]/.test(argv[i + 1] ?? '')) out.push(`${argv[i]}=${argv[++i]}`);
+    else out.push(argv[i]);
+  }
+  return out;
+}
+
+/** An option's value parsed, its error naming the option and the value as given. */
+function optionValue<T>(option: string, text: string, parse: (text: string) => T): T {
+  try {
+    return parse(text);
+  } catch (e) {
+    throw new UsageError(`--${option} ${text === '' ? '(empty)' : text}: ${(e as Error).message}`);
+  }
+}
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
   const cli = yargs(argv)
@@ -67,11 +89,12 @@ async function main(argv: string[]): Promise<number> {
       const exports = a.export ? await exporting() : null;
       const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
       let shard = null, since = null, until = null, staleLockAfterMs = 0;
+      // An empty --since (an unset variable in a script) is refused, never taken as "every recording".
+      since = a.since != null ? optionValue('since', a.since, parseWhen) : null;
+      until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
+      staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
       try {
-        staleLockAfterMs = parseSpan(a.staleLockAfter);
         shard = a.shard ? parseShard(a.shard) : null;
-        since = a.since ? parseWhen(a.since) : null;
-        until = a.until ? parseWhen(a.until) : null;
         checkPeriod(since, until, a.since, a.until);
       } catch (e) {
         throw new UsageError((e as Error).message);
@@ -185,4 +208,4 @@ async function main(argv: string[]): Promise<number> {
 
 // A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
 for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
-process.exitCode = await main(hideBin(process.argv));
+process.exitCode = await main(joinSignedValues(hideBin(process.argv)));

@@ -1,10 +1,10 @@
 // Text and raw binary readers: delimiters, decimal commas, time columns, declared layouts.
-import { writeFileSync } from 'node:fs';
+import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { fixture, readAll, readJson, tempDir } from './helpers.js';
+import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
 
-const write = (name: string, text: string) => {
+const write = (name: string, text: string | Buffer) => {
   const path = join(tempDir(), name);
   writeFileSync(path, text);
   return path;
@@ -48,6 +48,38 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
 
   it('refuses a time column that disagrees with the declared rate', async () => {
     await expect(readAll(write('f.csv', 'time,x\n0,1\n0.001,2\n0.002,3\n'), { sampleRate: 500 })).rejects.toThrow(/1000\.00 Hz but the declaration says 500 Hz/);
+  });
+});
+
+describe('CSV files saved in an encoding other than UTF-8', () => {
+  // Byte-order marks as the Unicode Standard gives them (FF FE for UTF-16LE, FE FF for UTF-16BE, FF FE 00 00 for UTF-32LE; from memory);
+  // Node's own 'utf16le' encoder writes the text, swapped pairwise for big-endian.
+  const text = 'time,a\n0,1\n0.001,2\n0.002,3\n';
+  const le = Buffer.from(text, 'utf16le');
+  const files: [string, Buffer, RegExp][] = [
+    ['le.csv', Buffer.concat([Buffer.from([0xff, 0xfe]), le]), /UTF-16 \(little-endian\) byte-order mark/],
+    ['be.csv', Buffer.concat([Buffer.from([0xfe, 0xff]), Buffer.from(le).swap16()]), /UTF-16 \(big-endian\) byte-order mark/],
+    ['bare.csv', le, /NUL bytes in its first line/],
+    ['wide.csv', Buffer.concat([Buffer.from([0xff, 0xfe, 0, 0]), ...[...text].map((c) => Buffer.from([c.charCodeAt(0), 0, 0, 0]))]), /UTF-32 \(little-endian\)/],
+  ];
+
+  it('fails each such recording, saying what gave the encoding away and to save it as UTF-8, while a UTF-8 one reduces', () => {
+    const root = join(tempDir(), 'archive');
+    mkdirSync(join(root, 'h'), { recursive: true });
+    writeFileSync(join(root, 'archive.yaml'), 'groups:\n  - name: h\n    match: "h/*.csv"\n');
+    writeFileSync(join(root, 'h', 'plain.csv'), text);
+    for (const [name, bytes] of files) writeFileSync(join(root, 'h', name), bytes);
+    const r = quern('reduce', root, '--out', join(root, '..', 'out'), '--log', 'plain');
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    const run = readJson(join(root, '..', 'out', 'run.json'));
+    const reasons = Object.fromEntries(run.recordings.filter((f: { status: string }) => f.status === 'failed').map((f: { recording: string; reason: string }) => [f.recording, f.reason]));
+    for (const [name, , found] of files) {
+      expect(reasons[`h/${name}`]).toMatch(found);
+      expect(reasons[`h/${name}`]).toContain('line 1: the file is not UTF-8 text');
+      expect(reasons[`h/${name}`]).toContain('save it as UTF-8');
+    }
+    expect(r.stdout + r.stderr).not.toContain('\uFFFD');
+    expect(reasons['h/plain.csv']).toBeUndefined();
   });
 });
 

@@ -69,6 +69,34 @@ describe('one run at a time per output folder', () => {
     expect(taken.stdout).toMatch(/took over the lock .*rig-controller-7, pid 4242.*held from host rig-controller-7 and not refreshed for 4\d\.\d h \(over 24\.0 h\)/);
   });
 
+  it('takes a lock whose content names no holder for an unreadable one: refused while fresh, taken over after 10 s, never "undefined"', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const lock = join(out, 'run.lock');
+    for (const partial of ['{"host":"x"}', '{"host":"rig-controller-7","pid":"4242","started":"2026-11-30T01:00:00.000Z"}', '[]', 'null']) {
+      writeFileSync(lock, partial);
+      const refused = quern('reduce', archive, '--out', out, '--quiet');
+      expect(refused.code, refused.stdout + refused.stderr).toBe(2);
+      expect(refused.stderr).toContain('in use by another run: the lock names no holder yet (a run may be starting; taken over once 10 s old)');
+      const aMinuteAgo = new Date(Date.now() - 60_000);
+      utimesSync(lock, aMinuteAgo, aMinuteAgo);
+      const taken = quern('reduce', archive, '--out', out, '--quiet');
+      expect(taken.code, taken.stdout + taken.stderr).toBe(1);
+      expect(taken.stdout).toContain('took over the lock of a run that is gone (its holder unreadable): the lock file is empty, unreadable or names no holder, and is over 10 s old');
+      for (const r of [refused, taken]) expect(r.stdout + r.stderr).not.toMatch(/undefined|pid 0|\?, /);
+    }
+  });
+
+  it('names a holder without the command and run id it does not give, never as "undefined"', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    writeFileSync(join(out, 'run.lock'), JSON.stringify({ host: 'rig-controller-7', pid: 4242, started: '2026-11-30T01:00:00.000Z' }));
+    const refused = quern('reduce', archive, '--out', out, '--quiet');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain('in use by another run: host rig-controller-7, pid 4242, started 2026-11-30T01:00:00.000Z (lock ');
+    expect(refused.stderr).not.toContain('undefined');
+  });
+
   it('lets shards of one run work side by side, each under its own lock, and merge waits for running shards', async () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     const shard = (k: number) => new Promise<number | null>((resolve) => {

@@ -1,11 +1,11 @@
 // The whole job end to end: the built command line on the sample archive, read back by DuckDB and hyparquet.
-import { existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { parquetMetadataAsync, parquetReadObjects } from 'hyparquet';
 import { compressors } from 'hyparquet-compressors';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { fixture, quern, readJson, sampleArchiveCopy } from './helpers.js';
+import { fixture, quern, readJson, sampleArchiveCopy, tempDir } from './helpers.js';
 
 async function duck(sql: string) {
   const db = await (await DuckDBInstance.create()).connect();
@@ -212,6 +212,29 @@ describe('quern check and quern peek', () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/ch1\s+FS/);
     expect(r.stdout).toMatch(/no archive\.yaml/);
+  });
+
+  it('peek names its own options for what a file cannot say, and a folder as a slip of the command', () => {
+    const dir = tempDir();
+    writeFileSync(join(dir, 'capture.xyz'), 'not a recording');
+    const unknown = quern('peek', join(dir, 'capture.xyz'));
+    expect(unknown.code).toBe(1);
+    expect(unknown.stderr).toContain('cannot tell the format from the extension ".xyz"; give it with --format wav, flac, hdf5, csv or raw');
+    const raw = quern('peek', join(dir, 'capture.xyz'), '--format', 'raw');
+    expect(raw.stderr).toContain('raw binary needs its layout and sample rate; give it with --sample-type, --channels and --sample-rate');
+    const folder = quern('peek', dir);
+    expect(folder.code).toBe(2);
+    expect(folder.stderr).toContain(`${dir} is a folder: peek shows one recording, so name a file in it; quern check ${dir} goes through a whole archive`);
+    for (const r of [unknown, raw, folder]) expect(r.stderr).not.toContain('archive.yaml');
+  });
+
+  it('reduce still says where in archive.yaml to declare a format it cannot tell', () => {
+    const archive = sampleArchiveCopy();
+    writeFileSync(join(archive, 'archive.yaml'), readFileSync(join(archive, 'archive.yaml'), 'utf8') + '  - name: odd\n    match: "odd/*"\n');
+    mkdirSync(join(archive, 'odd'));
+    writeFileSync(join(archive, 'odd', 'capture.xyz'), 'not a recording');
+    const r = quern('check', archive);
+    expect(r.stdout).toMatch(/FAILED\s+odd\/capture\.xyz\s+\[odd\]\s+cannot tell the format from the extension "\.xyz"; declare format: wav, flac, hdf5, csv or raw for its group in archive\.yaml/);
   });
 
   it('--help documents the commands and exit codes', () => {

@@ -4,6 +4,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, symlinkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { editDistance, nearestNames } from '../pipeline/declare/nearest-names.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { quern, readJson, repo, tempDir } from './helpers.js';
 
@@ -146,6 +147,27 @@ describe('reduction specs the schema cannot judge', () => {
     }
   });
 
+  it('refuses an MTVV integration time whose running window no channel could hold, before any recording fails', () => {
+    // ISO 2631-1 defines MTVV over 1 s running windows (from memory); 1e6 s at 4 kHz would be a 32 GB window per channel.
+    const r = specRun('statistics: {}\nmtvv: { integration_s: 1e6 }\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:2: mtvv.integration_s: must be at most 10 s (ISO 2631-1 integrates over 1 s), got 1000000');
+    expect(r.stderr).not.toMatch(/unexpected error|    at /);
+    expect(specRun('statistics: {}\nmtvv: { integration_s: 10 }\n').code).toBe(0);
+  });
+
+  it('refuses trends watching a column that does not exist, naming the nearest ones, but not a default one the spec leaves off', () => {
+    const r = specRun(['statistics: {}', 'bands: [[20, 200]]', 'trends:', '  features: [rms, krtosis, "bnd_*_rms", band_*_rms]'].join('\n') + '\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:4: trends.features[1]: "krtosis" matches no feature column of this spec (nearest: kurtosis, ');
+    expect(r.stderr).toMatch(/reduction\.yaml:4: trends\.features\[2\]: "bnd_\*_rms" matches no feature column of this spec \(nearest: [^)]*band_20_200_rms/);
+    expect(r.stderr).toContain('name a column of features.parquet or a glob over them, or turn on the section that computes it');
+    expect(r.stderr).not.toMatch(/features\[0\]|features\[3\]/);
+    // env_rms is in the default list, watched where present: a spec without envelope still runs.
+    const quiet = specRun('statistics: {}\ntrends:\n  features: [rms, env_rms]\n');
+    expect(quiet.code, quiet.stdout + quiet.stderr).toBe(0);
+  });
+
   it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
     const r = specRun([
       'bands: [[20, 200], [200, 20]]', //                                          1
@@ -158,5 +180,14 @@ describe('reduction specs the schema cannot judge', () => {
     expect(r.stderr).toContain('reduction.yaml:2: velocity_bands.ranges[0]: must be [low, high] with low < high, got [1000, 10]');
     expect(r.stderr).toContain('reduction.yaml:3: octave_bands[0]: from must be below to, got 8000 and 31.5');
     expect(r.stderr).toContain('reduction.yaml:4: envelope.filter: low_hz must be below high_hz, got 500 and 100');
+  });
+});
+
+describe('nearest names', () => {
+  it('measures the Levenshtein distance of the textbook examples (kitten → sitting 3, flaw → lawn 2; from memory)', () => {
+    expect(editDistance('kitten', 'sitting')).toBe(3);
+    expect(editDistance('flaw', 'lawn')).toBe(2);
+    expect(editDistance('', 'rms')).toBe(3);
+    expect(nearestNames('krtosis', ['rms', 'kurtosis', 'skewness'], 2)).toEqual(['kurtosis', 'rms']);
   });
 });

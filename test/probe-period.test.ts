@@ -1,5 +1,6 @@
 // --since and --until take only what the README documents (an ISO 8601 date or date-time, or a span): a slip of the
 // keyboard must stop the run, not quietly select another period.
+import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseWhen } from '../pipeline/select/select.js';
@@ -27,5 +28,24 @@ describe('period edges', () => {
     const reversed = quern('reduce', archive, '--out', out, '--since', '2026-11-21', '--until', '2026-11-19', '--quiet');
     expect(reversed.code, reversed.stdout + reversed.stderr).toBe(2);
     expect(reversed.stderr).toMatch(/--since 2026-11-21 is not before --until 2026-11-19: no recording could be selected; swap them/);
+  });
+
+  it('a negative, malformed or empty period names the option and the accepted forms, not flags the parser cannot place', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const cases: [string[], RegExp][] = [
+      [['--since', '-5d'], /^quern: --since -5d: "-5d" is not a span: a span counts back from now and has no sign; write 5d\n/],
+      [['--since=-5d'], /^quern: --since -5d: .*write 5d\n/],
+      [['--until', '-12h'], /^quern: --until -12h: .*write 12h\n/],
+      [['--since', '-5'], /^quern: --since -5: "-5" is neither a date \(2026-11-16, 2026-11-16T02:00Z\) nor a span \(7d, 12h, 30m, 2w\)\n/],
+      [['--since', ''], /^quern: --since \(empty\): "" is neither a date .* nor a span/],
+      [['--stale-lock-after', '-1h'], /^quern: --stale-lock-after -1h: "-1h" is not a span \(30m, 12h, 2d, 1w\)\n/],
+    ];
+    for (const [args, message] of cases) {
+      const r = quern('reduce', archive, '--out', out, ...args, '--quiet');
+      expect(r.code, r.stdout + r.stderr).toBe(2);
+      expect(r.stderr).toMatch(message);
+      expect(r.stderr).not.toMatch(/Unknown argument/);
+    }
+    expect(existsSync(out)).toBe(false);
   });
 });

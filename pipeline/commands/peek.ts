@@ -1,14 +1,21 @@
 // A quick look at one recording: header, channels, duration and statistics, using its archive's declaration when it has one.
-import { existsSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { dirname, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
 import { ARCHIVE_FILE, loadArchiveDeclaration } from '../declare/declare.js';
+import { UsageError } from '../declare/yaml-file.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { reduceRecording } from '../reduce/compute.js';
 import type { RecordingResult } from '../reduce/result.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { Format } from '../../stages/read/recording.js';
-import type { ReaderOptions } from '../../stages/read/open.js';
+import type { DeclareHow, ReaderOptions } from '../../stages/read/open.js';
+
+/** peek takes what a file cannot say as its own options, whatever archive.yaml declares. */
+const DECLARE_AS_OPTIONS: DeclareHow = {
+  format: 'give it with --format wav, flac, hdf5, csv or raw',
+  raw: 'give it with --sample-type, --channels and --sample-rate (and --byte-order, --header-bytes)',
+};
 
 export interface PeekOptions extends ReaderOptions { format?: Format | null; sampleRate?: number | null; layout?: RawLayout | null }
 
@@ -22,7 +29,9 @@ function archiveOf(path: string): string | null {
 
 export async function runPeek(file: string, { format = null, sampleRate = null, layout = null, hdf5 = null, flac = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
   const path = resolve(file);
-  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, flac }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
+  // A folder is a slip of the command, not a recording to fail: say what peek takes and where a whole archive is looked at.
+  if (statSync(path, { throwIfNoEntry: false })?.isDirectory()) throw new UsageError(`${file} is a folder: peek shows one recording, so name a file in it; quern check ${file} goes through a whole archive`);
+  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, flac, declareHow: DECLARE_AS_OPTIONS }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
   let declaredBy: string | null = null;
   const root = archiveOf(path);
   if (root) {
@@ -31,7 +40,7 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     const g = declaration.groups.find((group) => picomatch(group.match)(rel));
     if (g) {
       declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
-      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, flac: flac ?? g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
+      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, flac: flac ?? g.flac, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
   return { result: await reduceRecording(job), declaredBy };

@@ -1,11 +1,18 @@
-// What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, and bands whose
-// edges are in order. Caught here, a mistake stops the run once with file, line and key, instead of failing every
+// What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, an MTVV window a
+// channel can hold, bands whose edges are in order, and trends watching columns that exist. Caught here, a mistake stops the run once with file, line and key, instead of failing every
 // recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { unknownFeatures } from '../trends/options.js';
 import type { Problem, YamlSource } from './yaml-file.js';
 
 /** Longest Welch segment: 0.05 Hz resolution at 51.2 kHz, some 8 MB a buffer per channel (our choice). */
 export const MAX_SEGMENT = 2 ** 20;
+
+/**
+ * Longest MTVV integration time: ten times the 1 s running window ISO 2631-1 defines (from memory; 1 s is common practice),
+ * some 4 MB of running window per channel at 51.2 kHz, as the window holds every sample of it (our choice).
+ */
+export const MAX_MTVV_S = 10;
 
 type Path = (string | number)[];
 type Ranges = [number, number][];
@@ -19,6 +26,10 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   if (segment != null && !(Number.isInteger(Math.log2(segment)) && segment >= 16 && segment <= MAX_SEGMENT)) {
     problems.push(source.problem(['spectrum', 'segment'], `must be a power of two from 16 to ${MAX_SEGMENT}, got ${segment}`));
   }
+  const integration = spec.mtvv?.integration_s;
+  if (integration != null && !(integration <= MAX_MTVV_S)) {
+    problems.push(source.problem(['mtvv', 'integration_s'], `must be at most ${MAX_MTVV_S} s (ISO 2631-1 integrates over 1 s), got ${integration}`));
+  }
   for (const key of ['bands', 'velocity_bands'] as const) {
     const [ranges, at] = rangesAt(spec[key], key);
     ranges.forEach(([lo, hi], i) => { if (!(lo < hi)) problems.push(source.problem([...at, i], `must be [low, high] with low < high, got [${lo}, ${hi}]`)); });
@@ -31,6 +42,10 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   const filter = spec.envelope?.filter;
   if (filter?.low_hz != null && filter.high_hz != null && !(filter.low_hz < filter.high_hz)) {
     problems.push(source.problem(['envelope', 'filter'], `low_hz must be below high_hz, got ${filter.low_hz} and ${filter.high_hz}`));
+  }
+  // A watched name that matches no column would watch nothing, every night, without a word.
+  for (const u of unknownFeatures(spec)) {
+    problems.push(source.problem(['trends', 'features', u.index], `"${u.pattern}" matches no feature column of this spec (nearest: ${u.nearest.join(', ')}); name a column of features.parquet or a glob over them, or turn on the section that computes it`));
   }
   return problems;
 }

@@ -16,7 +16,17 @@ const HEARTBEAT_MS = 60_000;
 
 export const lockPath = (out: string, shard: { k: number; n: number } | null) => (shard ? join(out, 'parts', `run-${shard.k}-of-${shard.n}.lock`) : join(out, 'run.lock'));
 
-const describe = (h: LockHolder) => `host ${h.host}, pid ${h.pid}, started ${h.started} (${h.command}, run ${h.run_id})`;
+/** Whether a lock's content names its holder (host, pid, start): anything less cannot be checked, so counts as unreadable. */
+export function namesHolder(h: unknown): h is LockHolder {
+  const x = h as Partial<LockHolder> | null;
+  return typeof x?.host === 'string' && x.host !== '' && Number.isInteger(x.pid) && x.pid! > 0 && typeof x.started === 'string' && x.started !== '';
+}
+
+/** The holder in words; what it does and its run id only when the lock says them. */
+const describe = (h: LockHolder) => {
+  const what = [h.command, h.run_id != null ? `run ${h.run_id}` : null].filter((w) => w != null && w !== '');
+  return `host ${h.host}, pid ${h.pid}, started ${h.started}${what.length ? ` (${what.join(', ')})` : ''}`;
+};
 
 /** A pid on this host that no longer runs: signal 0 probes without sending anything (EPERM: it runs as someone else). */
 function gone(pid: number): boolean {
@@ -29,13 +39,15 @@ async function staleness(path: string, h: LockHolder | null, staleAfterMs: numbe
   const beat = (await stat(path).catch(() => null))?.mtimeMs;
   if (beat == null) return null;
   // A lock left empty by a run stopped between creating and filling it.
-  if (!h && Date.now() - beat > 10_000) return 'the lock file is empty or unreadable and over 10 s old';
+  if (!h && Date.now() - beat > 10_000) return 'the lock file is empty, unreadable or names no holder, and is over 10 s old';
   const ageH = (Date.now() - beat) / 3_600_000;
   if (Date.now() - beat > staleAfterMs) return `${h ? `held from host ${h.host}` : 'unreadable'} and not refreshed for ${ageH.toFixed(1)} h (over ${(staleAfterMs / 3_600_000).toFixed(1)} h)`;
   return null;
 }
 
-const readHolder = async (path: string): Promise<LockHolder | null> => { try { return JSON.parse(await readFile(path, 'utf8')); } catch { return null; } };
+const readHolder = async (path: string): Promise<LockHolder | null> => {
+  try { const h: unknown = JSON.parse(await readFile(path, 'utf8')); return namesHolder(h) ? h : null; } catch { return null; }
+};
 
 export class OutputInUse extends UsageError {}
 
@@ -61,7 +73,7 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
     const held = await readHolder(path);
     const why = await staleness(path, held, staleAfterMs);
     if (!why || attempt > 3) {
-      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'holder unreadable'} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
+      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
     }
     const mutex = `${path}.takeover`;
     try { await mkdir(mutex); } catch {

@@ -6,7 +6,7 @@ import type { Decision } from '../plan/reuse.js';
 import type { Shard } from '../select/select.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
-import type { TakenOver } from './lock.js';
+import { namesHolder, type TakenOver } from './lock.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
@@ -115,7 +115,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  if (r.lock.took_over) lines.push(`  lock:    took over the lock of a run that is gone (${r.lock.took_over.holder.host}, pid ${r.lock.took_over.holder.pid}, started ${r.lock.took_over.holder.started}): ${r.lock.took_over.why}`);
+  if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));

@@ -42,6 +42,9 @@ const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)
 
 /** A date or date-time (ISO 8601; a bare date is midnight UTC), or a span back from now such as 7d, 12h, 30m, 2w. */
 export function parseWhen(text: string, now = Date.now()): number {
+  // A span already counts back from now, so a minus sign would count forward: say what to write instead.
+  const negative = text.trim().match(/^-\s*(\d+(?:\.\d+)?\s*[mhdw])$/);
+  if (negative) throw new Error(`"${text}" is not a span: a span counts back from now and has no sign; write ${negative[1]}`);
   const span = text.trim().match(SPAN);
   if (span) return now - Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
   const iso = text.trim().match(ISO_DATE);

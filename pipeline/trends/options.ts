@@ -2,6 +2,7 @@
 import picomatch from 'picomatch';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { nearestNames } from '../declare/nearest-names.js';
 import { UsageError } from '../declare/yaml-file.js';
 
 /** How a feature's change is put in decibels: as an amplitude ratio, as a difference of dB values, or not at all. */
@@ -40,6 +41,21 @@ export function levelKind(name: string, unit: string): LevelKind {
   return NOT_LEVELS.has(unit) ? null : 'amplitude';
 }
 
+/** The feature columns this spec's stages write, with the group of each. */
+const columnsOf = (spec: ReductionSpec) => activeStages(spec).flatMap((s) => s.definition.columns(s.options).map((c) => ({ ...c, group: s.definition.group })));
+
+/**
+ * The entries of trends.features that match no column of this spec, with the columns nearest each. The default list's
+ * entries are watched where present (a spec without envelope has no env_rms), so only other names count as mistakes.
+ */
+export function unknownFeatures(spec: ReductionSpec): { index: number; pattern: string; nearest: string[] }[] {
+  const names = columnsOf(spec).map((c) => c.name);
+  return (spec.trends?.features ?? [])
+    .map((pattern, index) => ({ index, pattern }))
+    .filter(({ pattern }) => !DEFAULT_FEATURES.includes(pattern) && !names.some((n) => picomatch.isMatch(n, pattern)))
+    .map((u) => ({ ...u, nearest: nearestNames(u.pattern, names) }));
+}
+
 /** A date or date-time, taken as UTC when it names no zone. */
 function instant(text: string, key: string): number {
   const zoned = /(Z|[+-]\d\d:?\d\d)$/i.test(text) || /^\d{4}-\d\d-\d\d$/.test(text) ? text : `${text}Z`;
@@ -53,7 +69,7 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
   const t = spec.trends;
   if (!t) return null;
   const patterns = t.features ?? DEFAULT_FEATURES;
-  const columns = activeStages(spec).flatMap((s) => s.definition.columns(s.options).map((c) => ({ ...c, group: s.definition.group })));
+  const columns = columnsOf(spec);
   const limits = t.limits ?? {};
   const unknown = Object.keys(limits).filter((name) => !columns.some((c) => c.name === name));
   if (unknown.length) throw new UsageError(`reduction spec: trends.limits: ${unknown.join(', ')}: no such feature column in this spec; name a column of features.parquet`);

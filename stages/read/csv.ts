@@ -2,6 +2,7 @@
 import { createReadStream } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { createInterface } from 'node:readline';
+import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
@@ -58,6 +59,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const probe = Buffer.alloc(PROBE_BYTES);
   const { bytesRead } = await fh.read(probe, 0, PROBE_BYTES, 0);
   await fh.close();
+  refuseNotUtf8(probe.subarray(0, bytesRead));
   const text = probe.toString('utf8', 0, bytesRead).replace(/^\uFEFF/, '');
   const lines = text.split(/\r?\n/);
   if (bytesRead === PROBE_BYTES) lines.pop(); // the last line may be cut by the probe

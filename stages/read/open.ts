@@ -16,8 +16,16 @@ export function formatOf(path: string): Format | null {
   return BY_EXTENSION[extname(path).toLowerCase()] ?? null;
 }
 
-/** Reading options that only some formats take. */
-export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null }
+/** How to give what a file cannot say about itself: in archive.yaml for reduce and check, as options for peek. */
+export interface DeclareHow { format: string; raw: string }
+
+export const DECLARE_IN_ARCHIVE: DeclareHow = {
+  format: 'declare format: wav, flac, hdf5, csv or raw for its group in archive.yaml',
+  raw: 'declare layout (sample_type, byte_order, channels, header_bytes) and sample_rate for its group in archive.yaml',
+};
+
+/** Reading options that only some formats take, and where the user declares what the file cannot say. */
+export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null; declareHow?: DeclareHow }
 
 export interface OpenOptions extends ReaderOptions {
   format?: Format | null;
@@ -36,15 +44,15 @@ export async function openRecording(path: string, options: OpenOptions = {}): Pr
   }
 }
 
-async function openByFormat(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null }: OpenOptions = {}): Promise<Recording> {
+async function openByFormat(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null, declareHow = DECLARE_IN_ARCHIVE }: OpenOptions = {}): Promise<Recording> {
   const f = format ?? formatOf(path);
   if (f === 'wav') return openWav(path, { chunkFrames });
   if (f === 'flac') return openFlac(path, { chunkFrames, options: flac });
   if (f === 'hdf5') return openHdf5(path, hdf5, sampleRate, { chunkFrames });
   if (f === 'csv') return openCsv(path, { chunkFrames, declaredSampleRate: sampleRate });
   if (f === 'raw') {
-    if (!layout || sampleRate == null) throw new RecordingError('raw binary needs a declared layout (sample_type, byte_order, channels, header_bytes) and sample_rate in its archive.yaml group');
+    if (!layout || sampleRate == null) throw new RecordingError(`raw binary needs its layout and sample rate; ${declareHow.raw}`);
     return openRaw(path, layout, sampleRate, { chunkFrames });
   }
-  throw new RecordingError(`cannot tell the format from the extension "${extname(path)}"; declare format: wav, flac, hdf5, csv or raw for its group in archive.yaml`);
+  throw new RecordingError(`cannot tell the format from the extension "${extname(path) || '(none)'}"; ${declareHow.format}`);
 }

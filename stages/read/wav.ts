@@ -4,6 +4,7 @@ import { readInterleaved } from './interleaved.js';
 import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { openSource, type ByteReader } from './source.js';
 import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-encoding.js';
+import { unaccountedTail } from './wav-tail.js';
 
 // Broadcast Wave (EBU Tech 3285): OriginationDate at byte 320 ("yyyy-mm-dd", any separator), OriginationTime at 330 ("hh:mm:ss").
 export function bextStartTime(b: Buffer): Date | null {
@@ -110,6 +111,9 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
     throw new RecordingError(`byte ${size}: the file ends ${data.size - present} bytes early: the data chunk declares ${Math.floor(data.size / frameBytes)} frames but only ${Math.floor(present / frameBytes)} are present; the file was cut short (interrupted copy or capture): recapture or copy it again`);
   }
   const notes = data.size % frameBytes ? [`data chunk ends with ${data.size % frameBytes} bytes of a partial frame, ignored`] : [];
+  const end = data.offset + data.size + (data.size % 2);
+  const tail = await unaccountedTail(bytesAt, end, size, little);
+  if (tail > 0) notes.push(`${tail} bytes after the data chunk's end (byte ${end}) form no chunk and were ignored; if the recorder wrote more samples than the data chunk's size says, the header is wrong: check the recorder or re-export the file`);
   return { kind, little, fmt, encoding, startTime, data, frames: Math.floor(data.size / frameBytes), frameBytes, notes };
 }
 
