@@ -72,3 +72,28 @@ describe('a nightly run after the envelope filter changed', () => {
     expect(readJson(join(out, 'quality.json')).changes.stale_baselines).toBe(0);
   }, 120_000);
 });
+
+describe('a nightly run with no stored history before its period', () => {
+  it('says its baselines were formed from the period alone, and not once earlier results are stored', async () => {
+    const root = tempDir(), archive = join(root, 'archive'), out = join(root, 'out');
+    mkdirSync(join(archive, 'rig'), { recursive: true });
+    writeFileSync(join(archive, 'archive.yaml'), ARCHIVE_YAML);
+    writeFileSync(join(root, 'spec.yaml'), spec(2500, 4500));
+    for (let n = 0; n < 6; n++) writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n));
+
+    // A new output folder (or one whose cache/ was deleted): the baseline can only be the nights of the period, which hold the change.
+    const r = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--since', day(2), '--jobs', '1');
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/1 channel feature has its baseline formed from this period only: no earlier results are stored; run once without --since/);
+    expect(readJson(join(out, 'quality.json')).changes.period_baselines).toBe(1);
+
+    // A whole run stores the earlier nights; a nightly run after it forms nothing from its period alone.
+    expect(quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--jobs', '1', '--quiet').code).toBe(0);
+    expect(readJson(join(out, 'quality.json')).changes.period_baselines).toBeUndefined();
+    const nightly = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--since', day(5), '--jobs', '1');
+    expect(nightly.code).toBe(0);
+    expect(nightly.stdout).not.toMatch(/formed from this period only/);
+    expect(readJson(join(out, 'quality.json')).changes.period_baselines).toBe(0);
+    expect((await envRms(out))[0]).toMatchObject({ recording: `rig/${day(5)}.wav`, verdict: 'changed' });
+  }, 120_000);
+});

@@ -32,6 +32,15 @@ export function baselineMembers(s: Series, b: Baseline, has: (i: number) => bool
   return { members, held };
 }
 
+/**
+ * Whether a run over the period from `sinceMs` formed this baseline from its own recordings with nothing stored before the period
+ * (a new output folder, or cache/ deleted): a declared baseline period starting within the run's period needs nothing earlier.
+ */
+export function formedFromPeriodOnly(s: Series, base: BaselineStats, b: Baseline, sinceMs: number): boolean {
+  if (!('first' in b) && b.fromMs >= sinceMs) return false;
+  return base.members.some((i) => s.inRun[i] === 1) && !(s.time[0] < sinceMs);
+}
+
 /** The baseline of feature k of a series: its members, median and median absolute deviation. */
 export function baselineOf(s: Series, k: number, b: Baseline): BaselineStats {
   const values = s.values[k];

@@ -1,7 +1,7 @@
 // Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
-import { baselineOf, type BaselineStats } from './baseline.js';
+import { baselineOf, formedFromPeriodOnly, type BaselineStats } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
@@ -88,15 +88,20 @@ export interface ChangesReport {
   items: ChangeItem[];
   /** Channel features of this run with no baseline because its recordings hold figures of other spec options. */
   stale_baselines: number;
+  /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
+  period_baselines?: number;
 }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
 
-/** The latest state of each channel feature among this run's recordings, and the counts of all verdicts. */
-export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions): ChangesReport {
+/**
+ * The latest state of each channel feature among this run's recordings, and the counts of all verdicts. `sinceMs` is the start
+ * of the run's period (--since), so that baselines formed from that period alone are counted.
+ */
+export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
-  let staleBaselines = 0;
+  let staleBaselines = 0, periodBaselines = 0;
   for (const f of scored) {
     const s = f.series;
     let latest = -1, rows = 0;
@@ -109,6 +114,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       if (p.verdict) latest = i;
     }
     if (rows && f.base.stale) staleBaselines++;
+    if (rows && sinceMs != null && formedFromPeriodOnly(s, f.base, o.baseline, sinceMs)) periodBaselines++;
     if (latest < 0) continue;
     const p = f.at(latest)!;
     if (p.verdict === 'steady' || !p.verdict) continue;
@@ -129,6 +135,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
+    ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
   };
 }
 

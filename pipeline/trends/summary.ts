@@ -21,5 +21,6 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options; run once without --since to recompute them`);
+  if (r.period_baselines) lines.push(`  ${r.period_baselines} channel ${r.period_baselines === 1 ? 'feature has its baseline' : 'features have their baselines'} formed from this period only: no earlier results are stored; run once without --since to build ${r.period_baselines === 1 ? 'it' : 'them'} from the whole archive`);
   return lines;
 }
