@@ -168,6 +168,14 @@ describe('reduction specs the schema cannot judge', () => {
     expect(quiet.code, quiet.stdout + quiet.stderr).toBe(0);
   });
 
+  it('refuses limits on a column that does not exist with file, line and key, naming the nearest ones', () => {
+    const r = specRun(['statistics: {}', 'velocity_bands: [[10, 1000]]', 'trends:', '  limits:', '    velocity_10_1000_rms: { warn: 4.5 }', '    velocity_10_100_rms: { alarm: 7.1 }'].join('\n') + '\n');
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toContain('reduction.yaml:6: trends.limits.velocity_10_100_rms: no feature column of this spec is named "velocity_10_100_rms" (nearest: velocity_10_1000_rms, ');
+    expect(r.stderr).toContain('name a column of features.parquet, or turn on the section that computes it');
+    expect(r.stderr).not.toMatch(/limits\.velocity_10_1000_rms|unexpected error|    at /);
+  });
+
   it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
     const r = specRun([
       'bands: [[20, 200], [200, 20]]', //                                          1

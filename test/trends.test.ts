@@ -6,7 +6,7 @@ import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
 import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { changesReport, scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
 import { readHistory } from '../pipeline/trends/history.js';
-import { trendOptions } from '../pipeline/trends/options.js';
+import { trendOptions, unknownLimits } from '../pipeline/trends/options.js';
 import { MAD_TO_SIGMA, medianAndMad } from '../pipeline/trends/robust.js';
 import { changeDb, robustScore } from '../pipeline/trends/score.js';
 import { fixture, readJson } from './helpers.js';
@@ -84,7 +84,9 @@ describe('the trends section', () => {
     const o = trendOptions({ statistics: {}, velocity_bands: [[10, 1000]], trends: {} })!;
     expect(o.features.map((f) => `${f.name}:${f.level}`)).toEqual(['rms:amplitude', 'peak:amplitude', 'crest_factor:amplitude', 'kurtosis:null', 'velocity_10_1000_rms:amplitude']);
     expect(trendOptions({ statistics: {} })).toBeNull();
-    expect(() => trendOptions({ statistics: {}, trends: { limits: { env_rms: { alarm: 1 } } } })).toThrow(/trends\.limits: env_rms: no such feature column/);
+    // A limit on a column the spec does not compute is named, with the nearest columns (file and line come from check-spec.ts).
+    const unknown = unknownLimits({ statistics: {}, trends: { limits: { env_rms: { alarm: 1 }, rms: { warn: 1 } } } });
+    expect(unknown.map((u) => [u.name, u.nearest[0]])).toEqual([['env_rms', 'rms']]);
     expect(() => trendOptions({ statistics: {}, trends: { baseline: { from: 'last week', until: '2026-01-01' } } })).toThrow(/trends\.baseline\.from: "last week" is not a date/);
   });
 });

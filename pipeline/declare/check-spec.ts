@@ -1,8 +1,8 @@
 // What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, an MTVV window a
-// channel can hold, bands whose edges are in order, and trends watching columns that exist. Caught here, a mistake stops the run once with file, line and key, instead of failing every
+// channel can hold, bands whose edges are in order, and trends watching (and limiting) columns that exist. Caught here, a mistake stops the run once with file, line and key, instead of failing every
 // recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
-import { unknownFeatures } from '../trends/options.js';
+import { unknownFeatures, unknownLimits } from '../trends/options.js';
 import type { Problem, YamlSource } from './yaml-file.js';
 
 /** Longest Welch segment: 0.05 Hz resolution at 51.2 kHz, some 8 MB a buffer per channel (our choice). */
@@ -46,6 +46,10 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   // A watched name that matches no column would watch nothing, every night, without a word.
   for (const u of unknownFeatures(spec)) {
     problems.push(source.problem(['trends', 'features', u.index], `"${u.pattern}" matches no feature column of this spec (nearest: ${u.nearest.join(', ')}); name a column of features.parquet or a glob over them, or turn on the section that computes it`));
+  }
+  // A limit on a column that does not exist would never be reached, so no alarm could ever sound.
+  for (const u of unknownLimits(spec)) {
+    problems.push(source.problem(['trends', 'limits', u.name], `no feature column of this spec is named "${u.name}" (nearest: ${u.nearest.join(', ')}); name a column of features.parquet, or turn on the section that computes it`, true));
   }
   return problems;
 }

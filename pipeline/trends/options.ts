@@ -56,6 +56,12 @@ export function unknownFeatures(spec: ReductionSpec): { index: number; pattern: 
     .map((u) => ({ ...u, nearest: nearestNames(u.pattern, names) }));
 }
 
+/** The names in trends.limits that are no column of this spec, with the columns nearest each. */
+export function unknownLimits(spec: ReductionSpec): { name: string; nearest: string[] }[] {
+  const names = columnsOf(spec).map((c) => c.name);
+  return Object.keys(spec.trends?.limits ?? {}).filter((name) => !names.includes(name)).map((name) => ({ name, nearest: nearestNames(name, names) }));
+}
+
 /** A date or date-time, taken as UTC when it names no zone. */
 function instant(text: string, key: string): number {
   const zoned = /(Z|[+-]\d\d:?\d\d)$/i.test(text) || /^\d{4}-\d\d-\d\d$/.test(text) ? text : `${text}Z`;
@@ -71,8 +77,6 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
   const patterns = t.features ?? DEFAULT_FEATURES;
   const columns = columnsOf(spec);
   const limits = t.limits ?? {};
-  const unknown = Object.keys(limits).filter((name) => !columns.some((c) => c.name === name));
-  if (unknown.length) throw new UsageError(`reduction spec: trends.limits: ${unknown.join(', ')}: no such feature column in this spec; name a column of features.parquet`);
   // A feature with a declared limit is watched whether or not a pattern names it.
   const watched = columns.filter((c) => c.name in limits || patterns.some((p) => picomatch.isMatch(c.name, p)));
   let baseline: Baseline = { first: 3 };
