@@ -43,7 +43,7 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
   });
 
   it('refuses a file with neither a time column nor a declared rate, saying what to add', async () => {
-    await expect(readAll(write('e.csv', 'x,y\n1,2\n'))).rejects.toThrow(/add sample_rate to the group/);
+    await expect(readAll(write('e.csv', 'x,y\n1,2\n'))).rejects.toThrow(/set sample_rate for the group in archive\.yaml/);
   });
 
   it('refuses a time column that disagrees with the declared rate', async () => {

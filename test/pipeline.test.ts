@@ -237,6 +237,35 @@ describe('quern check and quern peek', () => {
     expect(r.stdout).toMatch(/FAILED\s+odd\/capture\.xyz\s+\[odd\]\s+cannot tell the format from the extension "\.xyz"; declare format: wav, flac, hdf5, csv or raw for its group in archive\.yaml/);
   });
 
+  it('peek names its own options for what a CSV or HDF5 file lacks, where reduce and check name archive.yaml', () => {
+    const dir = tempDir(), h5 = join(dir, 'acq.h5');
+    writeFileSync(join(dir, 'bare.csv'), 'a,b\n' + '1,2\n'.repeat(50));
+    writeFileSync(join(dir, 'timed.csv'), 'time,a\n' + Array.from({ length: 50 }, (_, i) => `${i / 100},${i % 3}`).join('\n') + '\n');
+    writeFileSync(h5, readFileSync(fixture('formats', 'acq-columns.h5'))); // h5py 3.7: "data" (channels × samples), attributes fs and t0
+    const peek = (...a: string[]) => quern('peek', ...a).stderr;
+    const said = [
+      [peek(join(dir, 'bare.csv')), 'no sample rate given; set --sample-rate or export the time column'],
+      [peek(join(dir, 'timed.csv'), '--sample-rate', '50'), 'the time column steps at 100.000 Hz but the declaration says 50 Hz; correct --sample-rate or check the export'],
+      [peek(h5), 'HDF5 needs to be told where its samples are; give --dataset'],
+      [peek(h5, '--dataset', 'nowhere'), 'dataset "nowhere" is not in the file; check --dataset'],
+      [peek(h5, '--dataset', 'data'), 'set --channel-axis to 0 if its rows are channels, 1 if its columns are'],
+      [peek(h5, '--dataset', 'data', '--channel-axis', '0'), 'no sample rate; set --sample-rate or --sample-rate-attribute'],
+      [peek(h5, '--dataset', 'data', '--channel-axis', '0', '--sample-rate-attribute', 'rate'), 'attribute "rate" (the sample rate) is not on dataset "data" or its groups; correct --sample-rate-attribute or check the file'],
+      [peek(h5, '--dataset', 'data', '--channel-axis', '0', '--sample-rate-attribute', 'fs', '--start-time-attribute', 'start'), 'correct --start-time-attribute or check the file'],
+    ];
+    for (const [stderr, message] of said) {
+      expect(stderr).toContain(message);
+      expect(stderr).not.toContain('archive.yaml');
+    }
+    // The same files in an archive: reduce and check point to the group's keys in archive.yaml.
+    mkdirSync(join(dir, 'csv'));
+    writeFileSync(join(dir, 'csv', 'bare.csv'), readFileSync(join(dir, 'bare.csv')));
+    writeFileSync(join(dir, 'archive.yaml'), 'groups:\n  - { name: h5, match: "*.h5", hdf5: { datasets: data, sample_rate_attribute: fs } }\n  - { name: csv, match: "csv/*.csv" }\n');
+    const check = quern('check', dir).stdout;
+    expect(check).toContain('no sample rate given; set sample_rate for the group in archive.yaml or export the time column');
+    expect(check).toContain('set hdf5.channel_axis in archive.yaml to 0 if its rows are channels, 1 if its columns are');
+  });
+
   it('--help documents the commands and exit codes', () => {
     const r = quern('--help');
     expect(r.stdout).toMatch(/reduce <archive>/);

@@ -15,6 +15,14 @@ import type { DeclareHow, ReaderOptions } from '../../stages/read/open.js';
 const DECLARE_AS_OPTIONS: DeclareHow = {
   format: 'give it with --format wav, flac, hdf5, csv or raw',
   raw: 'give it with --sample-type, --channels and --sample-rate (and --byte-order, --header-bytes)',
+  hdf5: 'give --dataset (and --channel-axis, --sample-rate-attribute, --start-time-attribute as the file needs)',
+  where: {
+    sample_rate: '--sample-rate',
+    'hdf5.datasets': '--dataset',
+    'hdf5.channel_axis': '--channel-axis',
+    'hdf5.sample_rate_attribute': '--sample-rate-attribute',
+    'hdf5.start_time_attribute': '--start-time-attribute',
+  },
 };
 
 export interface PeekOptions extends ReaderOptions { format?: Format | null; sampleRate?: number | null; layout?: RawLayout | null }

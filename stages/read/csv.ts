@@ -4,6 +4,7 @@ import { open } from 'node:fs/promises';
 import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
 const PROBE_BYTES = 1 << 20;
@@ -51,9 +52,14 @@ function timeValue(text: string, decimalComma: boolean): number {
 
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$)/); return m ? m[1].length : 0; };
 
-export interface CsvOptions { chunkFrames?: number; declaredSampleRate?: number | null }
+export interface CsvOptions {
+  chunkFrames?: number;
+  declaredSampleRate?: number | null;
+  /** Where the user gives the sample rate, named in messages (archive.yaml, or peek's option). */
+  sampleRateWhere?: string;
+}
 
-export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, declaredSampleRate = null }: CsvOptions = {}): Promise<Recording> {
+export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, declaredSampleRate = null, sampleRateWhere = DECLARE_IN_ARCHIVE.where.sample_rate }: CsvOptions = {}): Promise<Recording> {
   // Probe the first megabyte for the header, the delimiter and the time step, without reading the whole file.
   const fh = await open(path, 'r');
   const probe = Buffer.alloc(PROBE_BYTES);
@@ -92,11 +98,11 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     timeTolerance = Math.max(0.01 * timeStep, 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? ''))));
     if (!/^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim())) startTime = new Date(times[0] * 1000);
     if (declaredSampleRate != null && Math.abs(derived - declaredSampleRate) > 0.005 * declaredSampleRate) {
-      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct sample_rate in archive.yaml or check the export`);
+      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
     }
     sampleRate = declaredSampleRate ?? Number(derived.toPrecision(6));
   } else if (declaredSampleRate == null) {
-    throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample_rate declared; add sample_rate to the group in archive.yaml or export the time column`);
+    throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample rate given; set ${sampleRateWhere} or export the time column`);
   }
 
   const notes: string[] = [];

@@ -3,6 +3,7 @@
 // hyperslabs of a bounded number of frames.
 import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
 /** How a group's HDF5 files hold their recordings. */
 export interface Hdf5Layout {
@@ -59,7 +60,7 @@ function firstLine(e: unknown): string {
 }
 
 /** Finds an attribute: "/path@name" exactly, or "name" on the object and then each enclosing group up to the root. */
-function findAttribute(file: HdfFile, from: string, spec: string, what: string): unknown {
+function findAttribute(file: HdfFile, from: string, spec: string, what: string, where: string): unknown {
   const at = spec.lastIndexOf('@');
   const places = at >= 0 ? [spec.slice(0, at) || '/'] : from.split('/').filter(Boolean).map((_, i, parts) => `/${parts.slice(0, parts.length - i).join('/')}`).concat('/');
   const name = at >= 0 ? spec.slice(at + 1) : spec;
@@ -72,32 +73,32 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string):
       try { return attrs[name].value; } catch (e) { throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
     }
   }
-  throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct hdf5.${what === 'sample rate' ? 'sample_rate_attribute' : 'start_time_attribute'} in archive.yaml or check the file`);
+  throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct ${where} or check the file`);
 }
 
 const scalar = (v: unknown) => (ArrayBuffer.isView(v) || Array.isArray(v)) && (v as ArrayLike<unknown>).length === 1 ? (v as ArrayLike<unknown>)[0] : v;
 
-function sampleRateOf(file: HdfFile, from: string, spec: string): number {
-  const v = scalar(findAttribute(file, from, spec, 'sample rate'));
+function sampleRateOf(file: HdfFile, from: string, spec: string, where: string): number {
+  const v = scalar(findAttribute(file, from, spec, 'sample rate', where));
   const rate = typeof v === 'bigint' ? Number(v) : typeof v === 'string' ? Number(v) : (v as number);
-  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`attribute "${spec}" (the sample rate) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or the declaration`);
+  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`attribute "${spec}" (the sample rate) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or ${where}`);
   return rate;
 }
 
-function startTimeOf(file: HdfFile, from: string, spec: string): Date {
-  const v = scalar(findAttribute(file, from, spec, 'start time'));
+function startTimeOf(file: HdfFile, from: string, spec: string, where: string): Date {
+  const v = scalar(findAttribute(file, from, spec, 'start time', where));
   const t = typeof v === 'string' ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v.trim()) ? v.trim() : `${v.trim()}Z`) : Number(v) * 1000;
-  if (!Number.isFinite(t)) throw new RecordingError(`attribute "${spec}" (the start time) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or the declaration`);
+  if (!Number.isFinite(t)) throw new RecordingError(`attribute "${spec}" (the start time) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
   return new Date(t);
 }
 
 interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean }
 
-function datasetOf(file: HdfFile, path: string): Source {
+function datasetOf(file: HdfFile, path: string, where: string): Source {
   let obj;
-  try { obj = file.get(path); } catch (e) { throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check hdf5.datasets in archive.yaml or the file`); }
-  if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check hdf5.datasets in archive.yaml`);
-  if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" is a ${obj.constructor.name}, not a dataset; name the dataset in hdf5.datasets`);
+  try { obj = file.get(path); } catch (e) { throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
+  if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check ${where}`);
+  if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" is a ${obj.constructor.name}, not a dataset; name the dataset in ${where}`);
   const ds = obj as Dataset;
   let m;
   try { m = ds.metadata; } catch (e) { throw new RecordingError(`dataset "${path}": its description cannot be read: ${firstLine(e)}; the file is damaged`); }
@@ -119,8 +120,9 @@ function normaliser(s: Source): (v: number | bigint) => number {
   return s.signed ? (v) => Number(v) / full : (v) => (Number(v) - full) / full;
 }
 
-export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES } = {}): Promise<Recording> {
-  if (!layout || layout.datasets.length === 0) throw new RecordingError('HDF5 needs a declared layout: hdf5: { datasets: [...], channel_axis, sample_rate_attribute, start_time_attribute } in its archive.yaml group');
+export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+  const where = declareHow.where;
+  if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
   if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
   const h5 = await h5wasm();
   let file: HdfFile;
@@ -131,13 +133,13 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     throw new RecordingError(`the HDF5 file cannot be opened: ${firstLine(e)}; the file is damaged or cut short: copy it again`);
   }
   try {
-    const sources = layout.datasets.map((d) => datasetOf(file, d));
+    const sources = layout.datasets.map((d) => datasetOf(file, d, where['hdf5.datasets']));
     const first = sources[0];
     let channels: number, frames: number, axis: 0 | 1;
     if (sources.length === 1) {
       if (first.shape.length === 1) { channels = 1; frames = first.shape[0]; axis = 1; }
       else if (first.shape.length === 2) {
-        if (layout.channel_axis == null) throw new RecordingError(`dataset "${first.path}" has two axes (${first.shape.join(' × ')}); declare hdf5.channel_axis: 0 if its rows are channels, 1 if its columns are`);
+        if (layout.channel_axis == null) throw new RecordingError(`dataset "${first.path}" has two axes (${first.shape.join(' × ')}); set ${where['hdf5.channel_axis']} to 0 if its rows are channels, 1 if its columns are`);
         axis = layout.channel_axis;
         channels = first.shape[axis];
         frames = first.shape[1 - axis];
@@ -151,10 +153,10 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
       channels = sources.length; frames = first.shape[0]; axis = 1;
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
-    const fromAttribute = layout.sample_rate_attribute ? sampleRateOf(file, first.path, layout.sample_rate_attribute) : null;
+    const fromAttribute = layout.sample_rate_attribute ? sampleRateOf(file, first.path, layout.sample_rate_attribute, where['hdf5.sample_rate_attribute']) : null;
     const sampleRate = fromAttribute ?? declaredSampleRate;
-    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; declare sample_rate for the group or hdf5.sample_rate_attribute`);
-    const startTime = layout.start_time_attribute ? startTimeOf(file, first.path, layout.start_time_attribute) : null;
+    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; set ${where.sample_rate} or ${where['hdf5.sample_rate_attribute']}`);
+    const startTime = layout.start_time_attribute ? startTimeOf(file, first.path, layout.start_time_attribute, where['hdf5.start_time_attribute']) : null;
     const chunk = boundedChunkFrames(chunkFrames, channels);
     const norm = sources.map(normaliser);
     const integer = first.type === 0;

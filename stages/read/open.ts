@@ -9,20 +9,15 @@ import { openWav } from './wav.js';
 import { explainLink } from './explain-link.js';
 import { explainName } from './explain-name.js';
 import { requireRegularFile } from './regular-file.js';
+import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
+
+export { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 
 const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw', '.flac': 'flac', '.h5': 'hdf5', '.hdf5': 'hdf5' };
 
 export function formatOf(path: string): Format | null {
   return BY_EXTENSION[extname(path).toLowerCase()] ?? null;
 }
-
-/** How to give what a file cannot say about itself: in archive.yaml for reduce and check, as options for peek. */
-export interface DeclareHow { format: string; raw: string }
-
-export const DECLARE_IN_ARCHIVE: DeclareHow = {
-  format: 'declare format: wav, flac, hdf5, csv or raw for its group in archive.yaml',
-  raw: 'declare layout (sample_type, byte_order, channels, header_bytes) and sample_rate for its group in archive.yaml',
-};
 
 /** Reading options that only some formats take, and where the user declares what the file cannot say. */
 export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null; declareHow?: DeclareHow }
@@ -48,8 +43,8 @@ async function openByFormat(path: string, { format = null, sampleRate = null, la
   const f = format ?? formatOf(path);
   if (f === 'wav') return openWav(path, { chunkFrames });
   if (f === 'flac') return openFlac(path, { chunkFrames, options: flac });
-  if (f === 'hdf5') return openHdf5(path, hdf5, sampleRate, { chunkFrames });
-  if (f === 'csv') return openCsv(path, { chunkFrames, declaredSampleRate: sampleRate });
+  if (f === 'hdf5') return openHdf5(path, hdf5, sampleRate, { chunkFrames, declareHow });
+  if (f === 'csv') return openCsv(path, { chunkFrames, declaredSampleRate: sampleRate, sampleRateWhere: declareHow.where.sample_rate });
   if (f === 'raw') {
     if (!layout || sampleRate == null) throw new RecordingError(`raw binary needs its layout and sample rate; ${declareHow.raw}`);
     return openRaw(path, layout, sampleRate, { chunkFrames });
