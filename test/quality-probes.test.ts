@@ -136,6 +136,12 @@ describe('a tacho channel at rest between its pulses', () => {
     expect(Object.entries(row).find(([k]) => /rpm/.test(k))?.[1]).toBeCloseTo(300, 6);
   });
 
+  it('a slow shaft (40 rpm: 1.5 s between pulses) reads no flatline on its tacho channel, and does on any other channel', async () => {
+    const slow = Float64Array.from({ length: 6 * fs }, (_, i) => (i % (1.5 * fs) < fs / 1000 ? 5 : 0));
+    expect((await reduce(slow, fs, tacho)).flag('flatline').severity).toBe('ok');
+    expect((await reduce(slow, fs, accelerometer({ scale: 10, range: [-10, 10] }))).flag('flatline').severity).toBe('warn');
+  });
+
   it('the same zeros on a channel that is not a tacho still warn of lost data', async () => {
     const { flag } = await reduce(x, fs, accelerometer({ scale: 10, range: [-10, 10] }));
     expect(flag('dropout').severity).toBe('warn');
