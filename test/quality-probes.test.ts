@@ -157,3 +157,17 @@ describe('a tacho channel at rest between its pulses', () => {
     expect(flag('dropout').severity).toBe('warn');
   });
 });
+
+describe('gravity on a DC-coupled accelerometer', () => {
+  it('the offset warning says the mean is 1 g and how to take it out; another offset gets no such hint', async () => {
+    const g = gauss(5), g0 = 9.80665; // standard gravity (ISO 80000-3)
+    const carrying = Float64Array.from({ length: 40000 }, () => g0 + 0.5 * g());
+    const withGravity = (await reduce(carrying, 10000, accelerometer())).flag('offset');
+    expect(withGravity.severity).toBe('warn');
+    expect(withGravity.message).toContain(`about 1 g: a DC-coupled accelerometer carrying gravity; add ${-g0} to the channel's offset`);
+    const biased = Float64Array.from({ length: 40000 }, () => 3 + 0.5 * g());
+    const other = (await reduce(biased, 10000, accelerometer())).flag('offset');
+    expect(other.severity).toBe('warn');
+    expect(other.message).not.toContain('gravity');
+  });
+});
