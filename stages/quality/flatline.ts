@@ -14,6 +14,8 @@ export const flatline: StageDefinition<QualityThresholds> = {
     const runs = repeatRunsOf(ctx);
     // Exact zeros are a logger's gap, which the dropout flag names; a stuck stretch is judged when it holds another value.
     const zeros = zeroRunsOf(ctx);
+    // A tacho channel holds one level between its pulses, for seconds on a slow shaft: only a channel that never moves is at fault.
+    const restsBetweenPulses = ctx.tacho != null;
     let n = 0;
     return {
       push(x) { n += x.length; },
@@ -30,16 +32,16 @@ export const flatline: StageDefinition<QualityThresholds> = {
         if (n > 0 && spread <= deadLimit) {
           severity = 'fail';
           message = `the channel hardly moves (spread ${spread.toPrecision(3)} ${ctx.unit}${step != null ? `, ${Math.round(spread / step)} converter steps` : ''}): a dead or disconnected sensor; check the sensor, cable and supply before trusting any figure`;
-        } else if (runS >= q.flatline.warn_stuck_s && otherRepeats < q.flatline.stuck_repeat_fraction && runS < q.flatline.warn_run_s && zeros.longest <= longest) {
+        } else if (!restsBetweenPulses && runS >= q.flatline.warn_stuck_s && otherRepeats < q.flatline.stuck_repeat_fraction && runS < q.flatline.warn_run_s && zeros.longest <= longest) {
           severity = 'warn';
           message = `a signal that otherwise changes from sample to sample (${pct(otherRepeats)} repeats) stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): a stuck converter or an intermittent connection; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
-        } else if (runS >= q.flatline.warn_run_s) {
+        } else if (!restsBetweenPulses && runS >= q.flatline.warn_run_s) {
           severity = 'warn';
           message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
         }
         ctx.flag({
           name: 'flatline', severity, value: runS,
-          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn: constant for ≥ ${secs(q.flatline.warn_run_s)}, or for ≥ ${secs(q.flatline.warn_stuck_s)} where fewer than ${pct(q.flatline.stuck_repeat_fraction)} of the other samples repeat`,
+          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn (not on a tacho channel): constant for ≥ ${secs(q.flatline.warn_run_s)}, or for ≥ ${secs(q.flatline.warn_stuck_s)} where fewer than ${pct(q.flatline.stuck_repeat_fraction)} of the other samples repeat`,
           evidence: { spread, repeat_fraction: otherRepeats, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
           message,
         });

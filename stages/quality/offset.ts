@@ -33,15 +33,26 @@ export const offset: StageDefinition<QualityThresholds> = {
         if (ratio != null && ratio > q.offset.warn_ratio) issues.push(`mean ${mean.toPrecision(3)} ${ctx.unit} is ${ratio.toFixed(2)} standard deviations from zero`);
         if (drift != null && drift > q.offset.warn_drift_ratio) issues.push(`1 s means drift over ${(wmax - wmin).toPrecision(3)} ${ctx.unit} (${drift.toFixed(2)} standard deviations)`);
         const severity: Severity = issues.length ? 'warn' : 'ok';
+        const gravity = ratio != null && ratio > q.offset.warn_ratio ? gravityHint(ctx.quantity, ctx.unit, mean) : '';
         // What the offset and a ramp-like drift add to RMS over the signal's own spread (derived: variances add).
         const rmsExcess = Math.sqrt(1 + (ratio ?? 0) ** 2 + (drift ?? 0) ** 2 / 12) - 1;
         ctx.flag({
           name: 'offset', severity, value: ratio, threshold,
           evidence: { mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null },
-          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none, and RMS and peak include it (RMS reads ${pct(rmsExcess)} high); check the sensor's bias, the coupling (AC/DC) and thermal drift` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
+          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none, and RMS and peak include it (RMS reads ${pct(rmsExcess)} high); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
         });
         return { offset_ratio: ratio, drift_ratio: drift };
       },
     };
   },
 };
+
+/** Standard gravity, 9.80665 m/s² (ISO 80000-3), in the acceleration units a declaration may use. */
+const STANDARD_GRAVITY: Record<string, number> = { 'm/s^2': 9.80665, 'm/s²': 9.80665, 'mm/s^2': 9806.65, 'mm/s²': 9806.65, g: 1 };
+
+/** A mean within 5 % of 1 g on an accelerometer is gravity on a DC-coupled sensor: the message says how to take it out. */
+export function gravityHint(quantity: string, unit: string, mean: number): string {
+  const g = STANDARD_GRAVITY[unit];
+  if (quantity !== 'acceleration' || g == null || Math.abs(Math.abs(mean) / g - 1) > 0.05) return '';
+  return `. The mean is about 1 g: a DC-coupled accelerometer carrying gravity; add ${-Math.sign(mean) * g} to the channel's offset in archive.yaml to take it out, or read std, which excludes it`;
+}

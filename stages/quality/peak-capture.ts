@@ -36,6 +36,11 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
           return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: null };
         }
         const shortfall = 1 - samplePeak / truePeak;
+        // A pulse train's edges are not band-limited: its "true peak" is the ringing of their reconstruction (Gibbs), not a peak the samples missed.
+        if (ctx.tacho) {
+          ctx.flag({ name: 'peak_capture', severity: 'ok', value: shortfall, threshold, evidence: { declared_hz: f, worst_underestimate: bound, sample_peak: samplePeak, true_peak: truePeak }, message: `not judged on a tacho channel: the 4× reconstruction of its pulse edges rings ${pct(Math.max(shortfall, 0))} above the largest sample (Gibbs), which no figure of the shaft depends on` });
+          return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: shortfall };
+        }
         const severity: Severity = shortfall > warnAt ? 'warn' : shortfall > noteAt ? 'note' : 'ok';
         const at = r == null ? '' : ` (${r.toFixed(2)} samples per cycle at the declared ${f} Hz: a sine's peak can fall up to ${pct(bound!)} between samples)`;
         const unit = ctx.unit;
