@@ -245,6 +245,7 @@ describe('quern check and quern peek', () => {
     const peek = (...a: string[]) => quern('peek', ...a).stderr;
     const said = [
       [peek(join(dir, 'bare.csv')), 'no sample rate given; set --sample-rate or export the time column'],
+      [peek(fixture('wav', 'pcm16-2ch.wav'), '--sample-rate', '1000'), 'the file says 8000 Hz but group "(none)" declares 1000 Hz; correct --sample-rate or move the file to the right group'],
       [peek(join(dir, 'timed.csv'), '--sample-rate', '50'), 'the time column steps at 100.000 Hz but the declaration says 50 Hz; correct --sample-rate or check the export'],
       [peek(h5), 'HDF5 needs to be told where its samples are; give --dataset'],
       [peek(h5, '--dataset', 'nowhere'), 'dataset "nowhere" is not in the file; check --dataset'],

@@ -2,7 +2,7 @@
 // (so a re-run can reuse some groups and recompute others).
 import picomatch from 'picomatch';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
-import { openRecording } from '../../stages/read/open.js';
+import { DECLARE_IN_ARCHIVE, openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
@@ -50,7 +50,7 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
   const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
   try {
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {
-      throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct sample_rate in archive.yaml or move the file to the right group`);
+      throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct ${(job.reader?.declareHow ?? DECLARE_IN_ARCHIVE).where.sample_rate} or move the file to the right group`);
     }
     if (rec.frames === 0) throw noSamples();
     return { rec, channels: resolveChannels(job, rec) };
