@@ -1,6 +1,6 @@
 // What reduction.yaml's schema cannot say: Welch segments a power of two of a size a thread can hold, an MTVV window a
-// channel can hold, bands whose edges are in order, and trends watching (and limiting) columns that exist. Caught here, a mistake stops the run once with file, line and key, instead of failing every
-// recording or writing figures of 0.
+// channel can hold, bands whose edges are in order, and trends watching (and limiting) columns that exist. Caught here,
+// a mistake stops the run once with file, line and key, instead of failing every recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { unknownFeatures, unknownLimits } from '../trends/options.js';
 import type { Problem, YamlSource } from './yaml-file.js';

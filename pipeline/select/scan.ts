@@ -59,6 +59,9 @@ export class ScannedFile implements ScannedRecording {
 
 export interface ScanOptions { exclude?: string[] }
 
+/** Each group's patterns as one test of a path relative to the archive root, in the declaration's order. */
+const groupMatchers = (declaration: ArchiveDeclaration) => declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+
 /** Files stat'ed at once. */
 const STATS_AT_ONCE = 32;
 
@@ -66,7 +69,7 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   const root = resolve(archive);
   // Real paths of the folders walked or excluded: a link can lead neither into a folder twice nor into the output.
   const seen = new Set(await Promise.all(exclude.map((p) => realpath(p).catch(() => resolve(p)))));
-  const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+  const matchers = groupMatchers(declaration);
   const found: { recording: string; group: number }[] = [];
   const unmatched: string[] = [];
   let otherFiles = 0;
@@ -82,8 +85,7 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
       if (kind === 'linked folder') { linked.push({ path, within: real }); continue; }
       // A plain folder's real path is its parent's and its name: no system call.
       if (kind === 'folder') { await walkOnce(path, join(real, e.name)); continue; }
-      // Pipes, devices and sockets a group matches are kept, so their reduction says why they cannot be read.
-      if (kind !== 'file' && kind !== 'other') continue;
+      // Files, and pipes, devices and sockets ('other'), go on: those a group matches are kept, so their reduction says why they cannot be read.
       const rel = relative(root, path).split(sep).join('/');
       if (rel === ARCHIVE_FILE || rel === SPEC_FILE) continue;
       const group = matchers.findIndex((m) => m(rel));
@@ -118,7 +120,7 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
 export async function refuseHidingRecordings(archive: string, out: string, declaration: ArchiveDeclaration): Promise<void> {
   const root = await realpath(archive), dir = await realpath(out).catch(() => null);
   if (!dir || dir === root || !isWithin(dir, root)) return;
-  const matchers = declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+  const matchers = groupMatchers(declaration);
   const names = (await readdir(dir, { recursive: true }).catch(() => [] as string[])).sort();
   const hidden = names.map((n) => relative(root, join(dir, n)).split(sep).join('/')).find((r) => matchers.some((m) => m(r)));
   if (hidden) throw new UsageError(`the output folder ${out} holds recordings of the archive (${hidden}), which a run never reads from its own output folder; give an output folder (--out) outside the recordings`);
@@ -139,6 +141,8 @@ function isWithin(inner: string, outer: string): boolean {
   return r === '' || (r !== '..' && !r.startsWith(`..${sep}`) && !isAbsolute(r));
 }
 
-/** A file's size and times (a link's target's); a link whose target cannot be reached gives its own, and its reduction says why it fails. */
-// A file gone since it was listed (moved away, or a name not in UTF-8 that leads nowhere) fails at opening, not the whole scan.
+/**
+ * A file's size and times (a link's target's); a link whose target cannot be reached gives its own, and a file gone since
+ * it was listed (moved away, or a name not in UTF-8 that leads nowhere) none: their reduction says why they fail, not the scan.
+ */
 const statOrLink = (path: string) => stat(path).catch(() => lstat(path)).catch(() => null);

@@ -65,7 +65,8 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
   for await (const e of entries) {
     if (e.status !== 'reduced' || !e.base) continue;
     const keys = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version)).get(e.version)!;
-    const comparable = o.features.map((f) => e.groupKeys?.[f.group] === keys[f.group] && e.groups[f.group] != null);
+    const sameOptions = o.features.map((f) => e.groupKeys?.[f.group] === keys[f.group]);
+    const comparable = o.features.map((f, k) => sameOptions[k] && e.groups[f.group] != null);
     const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
     const r = recordings.push(e.recording) - 1;
     e.base.channels.forEach((ch, c) => {
@@ -80,7 +81,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
       o.features.forEach((f, k) => {
         const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
         b!.values[k].push(typeof v === 'number' ? v : NaN);
-        b!.stale[k].push(e.groupKeys?.[f.group] !== keys[f.group] ? 1 : 0);
+        b!.stale[k].push(sameOptions[k] ? 0 : 1);
       });
     });
   }

@@ -37,17 +37,16 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
         }
         const shortfall = 1 - samplePeak / truePeak;
         // A pulse train's edges are not band-limited: its "true peak" is the ringing of their reconstruction (Gibbs), not a peak the samples missed.
-        if (ctx.tacho) {
-          ctx.flag({ name: 'peak_capture', severity: 'ok', value: shortfall, threshold, evidence: { declared_hz: f, worst_underestimate: bound, sample_peak: samplePeak, true_peak: truePeak }, message: `not judged on a tacho channel: the 4× reconstruction of its pulse edges rings ${pct(Math.max(shortfall, 0))} above the largest sample (Gibbs), which no figure of the shaft depends on` });
-          return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: shortfall };
-        }
-        const severity: Severity = shortfall > warnAt ? 'warn' : shortfall > noteAt ? 'note' : 'ok';
+        const pulses = ctx.tacho != null;
+        const severity: Severity = pulses ? 'ok' : shortfall > warnAt ? 'warn' : shortfall > noteAt ? 'note' : 'ok';
         const at = r == null ? '' : ` (${r.toFixed(2)} samples per cycle at the declared ${f} Hz: a sine's peak can fall up to ${pct(bound!)} between samples)`;
         const unit = ctx.unit;
         ctx.flag({
           name: 'peak_capture', severity, value: shortfall, threshold,
           evidence: { declared_hz: f, worst_underestimate: bound, sample_peak: samplePeak, true_peak: truePeak },
-          message: severity === 'ok'
+          message: pulses
+            ? `not judged on a tacho channel: the 4× reconstruction of its pulse edges rings ${pct(Math.max(shortfall, 0))} above the largest sample (Gibbs), which no figure of the shaft depends on`
+            : severity === 'ok'
             ? `the largest sample is within ${pct(Math.max(shortfall, 0))} of the true peak ${truePeak.toPrecision(4)} ${unit}${at}`
             : `the largest sample, ${samplePeak.toPrecision(4)} ${unit}, reads ${pct(shortfall)} below the true peak ${truePeak.toPrecision(4)} ${unit}${at}: `
               + (severity === 'warn' ? 'peak and crest factor read that much low; use true_peak, or sample faster' : 'peak and crest factor read slightly low; true_peak holds the band-limited figure'),
