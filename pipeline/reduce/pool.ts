@@ -4,7 +4,7 @@ import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { eachAtOnce } from '../at-once.js';
-import { Tinypool } from 'tinypool';
+import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { encodeRecord, recordFacts } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
@@ -39,8 +39,11 @@ export function openPool(threads = availableParallelism()): Pool {
   // when there is work for them: a small run does not spend a second core loading code it will not use.
   // A modest young generation: workers make short-lived garbage per recording, and collecting it often keeps memory flat.
   // Idle threads wait on their event loop, not blocked in Atomics.wait, so code they load ahead (the table code) loads then.
+  // The pool's code (with Node's child-process, network and worker modules under it) loads with the first task: a re-run
+  // with nothing to reduce never loads it.
   let width = 1;
-  const get = () => (pool ??= new Tinypool({ filename: workerFile(), useAtomics: false, minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }));
+  let made: Promise<Tinypool> | null = null;
+  const get = () => (made ??= import('tinypool').then(({ Tinypool }) => (pool = new Tinypool({ filename: workerFile(), useAtomics: false, minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }))));
   return {
     threads: n,
     widen: (tasks) => {
@@ -51,12 +54,12 @@ export function openPool(threads = availableParallelism()): Pool {
     prestart(tasks) {
       this.widen(tasks);
       // As many empty batches at once as threads allowed: each one the pool cannot hand to a ready thread starts another.
-      for (let i = 0; i < width; i++) get().run([], { name: 'reduceBatch' }).catch(() => {});
+      for (let i = 0; i < width; i++) get().then((p) => p.run([], { name: 'reduceBatch' })).catch(() => {});
     },
-    run: (name, input) => get().run(input, { name }),
+    run: async (name, input) => (await get()).run(input, { name }),
     started: () => pool?.threads.length ?? 0,
     // Safe to call again: the run stops its threads once the outputs are written, and again on its way out.
-    destroy: async () => { const p = pool; pool = null; await p?.destroy(); },
+    destroy: async () => { const p = made; made = null; pool = null; await (await p?.catch(() => null))?.destroy(); },
   };
 }
 

@@ -52,7 +52,7 @@ export function unknownFeatures(spec: ReductionSpec): { index: number; pattern: 
   const names = columnsOf(spec).map((c) => c.name);
   return (spec.trends?.features ?? [])
     .map((pattern, index) => ({ index, pattern }))
-    .filter(({ pattern }) => !DEFAULT_FEATURES.includes(pattern) && !names.some((n) => picomatch.isMatch(n, pattern)))
+    .filter(({ pattern }) => { const matches = picomatch(pattern); return !DEFAULT_FEATURES.includes(pattern) && !names.some((n) => matches(n)); })
     .map((u) => ({ ...u, nearest: nearestNames(u.pattern, names) }));
 }
 
@@ -78,7 +78,9 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
   const columns = columnsOf(spec);
   const limits = t.limits ?? {};
   // A feature with a declared limit is watched whether or not a pattern names it.
-  const watched = columns.filter((c) => c.name in limits || patterns.some((p) => picomatch.isMatch(c.name, p)));
+  // Each pattern made into a matcher once, not once for every column.
+  const matchers = patterns.map((p) => picomatch(p));
+  const watched = columns.filter((c) => c.name in limits || matchers.some((matches) => matches(c.name)));
   let baseline: Baseline = { first: 3 };
   if (t.baseline && 'from' in t.baseline) {
     const fromMs = instant(t.baseline.from, 'from'), untilMs = instant(t.baseline.until, 'until');

@@ -1,0 +1,47 @@
+// The command's bundle (scripts/bundle.ts, built by npm test before the tests run): what a run pays for as it starts.
+import { spawnSync } from 'node:child_process';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { repo, sampleArchiveCopy, tempDir } from './helpers.js';
+
+const bundle = () => readFileSync(join(repo, 'dist', 'pipeline', 'cli.js'), 'utf8');
+
+describe('the command bundle', () => {
+  it("starts yargs' version search at quern's own folder, not at the working directory", () => {
+    // Bundled, yargs otherwise lists every folder from the working directory up to the root at each start.
+    const cli = bundle();
+    expect(cli).not.toContain('lastIndexOf("node_modules")');
+    expect(cli).toMatch(/mainFilename = resolve\d*\(__dirname, "\.\.", "\.\."\);/);
+  });
+
+  it("makes string-width's segmenters on first use, and the help text still lays out", () => {
+    expect(bundle()).not.toMatch(/^var \w+ = new Intl\.Segmenter\(\);$/m);
+    const help = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), '--help'], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
+    expect(help.status).toBe(0);
+    // yargs measures each line to wrap the descriptions at 80 columns beside the command names
+    const lines = help.stdout.split('\n');
+    expect(Math.max(...lines.map((l) => l.length))).toBeLessThanOrEqual(80);
+    expect(lines.some((l) => /^ {26}\S/.test(l))).toBe(true);
+  });
+
+  it('keeps regular expressions with the v flag as literals, compiled on first use', () => {
+    expect(bundle()).not.toMatch(/new RegExp\("[^"]*", "v"\)/);
+    expect(bundle()).toMatch(/= \/\^\\p\{RGI_Emoji\}\$\/v;/);
+  });
+
+  it('an unchanged re-run loads no worker-pool code', () => {
+    const archive = sampleArchiveCopy(), out = join(tempDir(), 'out'), loaded = join(tempDir(), 'loaded.txt');
+    const hook = join(tempDir(), 'loaded.cjs');
+    writeFileSync(hook, `process.on('exit', () => require('fs').writeFileSync(${JSON.stringify(loaded)}, process.moduleLoadList.join('\\n')));\n`);
+    const run = () => spawnSync(process.execPath, ['-r', hook, join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', out, '--jobs', '1'], { encoding: 'utf8' });
+    // the sample archive holds recordings that fail on purpose: exit code 1
+    expect(run().status).toBe(1);
+    // the first run reduces, so it loads the pool (tinypool brings Node's child-process module)
+    expect(readFileSync(loaded, 'utf8')).toContain('NativeModule child_process');
+    const again = run();
+    expect(again.status).toBe(1);
+    expect(again.stderr + again.stdout).toMatch(/reducing 0 recordings/);
+    expect(readFileSync(loaded, 'utf8')).not.toContain('NativeModule child_process');
+  });
+});
