@@ -44,7 +44,7 @@ export interface ReduceOptions {
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
 
 /** Loads the code that writes tables, trends and charts (Arrow, Parquet, Vega), which runs that write nothing never load. */
-const loadWriters = () => Promise.all([import('./trends/trends.js'), import('./outputs/parquet-stream.js'), import('./outputs/report-changes.js')]);
+const loadWriters = () => Promise.all([import('./trends/trends.js'), import('./outputs/parquet-stream.js'), import('./outputs/report-changes.js'), import('./outputs/parquet-wasm.js').then((m) => m.parquetWasm())]);
 
 export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();

@@ -16,7 +16,7 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
     throw new UsageError(`${path}: missing; export reads a folder that quern reduce (or quern merge) wrote`);
   }
   // The Parquet reader loads only when a table is read back (quern export), not on every command.
-  const [arrow, { readParquet }] = await Promise.all([import('apache-arrow'), import('parquet-wasm/node')]);
+  const [arrow, { readParquet }] = await Promise.all([import('apache-arrow'), import('../outputs/parquet-wasm.js').then((m) => m.parquetWasm())]);
   let table;
   try {
     table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());

@@ -1,6 +1,7 @@
 // A Parquet table written as it arrives: Arrow record batches in, row groups out to a staged file, never the whole table in memory.
 import * as arrow from 'apache-arrow';
-import { Table as WasmTable, transformParquetStream, type RecordBatch } from 'parquet-wasm/node';
+import type { RecordBatch } from 'parquet-wasm/node';
+import { parquetWasm } from './parquet-wasm.js';
 import { toArrowTable, writerProperties, type TableColumn } from './parquet.js';
 import type { StagedFile } from './staged.js';
 
@@ -24,7 +25,7 @@ export class ParquetStream {
       },
     }, { highWaterMark: 0 });
     this.done = (async () => {
-      const reader = (await transformParquetStream(source, props)).getReader();
+      const reader = (await parquetWasm().transformParquetStream(source, props)).getReader();
       for (;;) {
         const { done, value } = await reader.read();
         if (done) break;
@@ -33,7 +34,7 @@ export class ParquetStream {
     })();
     this.done.catch(() => {}); // awaited by push and finish; a failure must not also surface as unhandled
     // The schema travels with a batch: a first batch of no rows gives a table without rows its columns.
-    this.offer(WasmTable.fromIPCStream(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')).recordBatches());
+    this.offer(parquetWasm().Table.fromIPCStream(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')).recordBatches());
   }
 
   private offer(batches: (RecordBatch | null)[]): void {
@@ -44,7 +45,7 @@ export class ParquetStream {
 
   /** Adds the rows of an Arrow IPC stream; resolves once the writer has taken them (so memory stays bounded). */
   async push(ipc: Uint8Array): Promise<void> {
-    const batches = WasmTable.fromIPCStream(ipc).recordBatches().filter((b) => b.numRows > 0);
+    const batches = parquetWasm().Table.fromIPCStream(ipc).recordBatches().filter((b) => b.numRows > 0);
     this.rows += batches.reduce((s, b) => s + b.numRows, 0);
     this.offer(batches);
     if (this.queue.length) await Promise.race([new Promise<void>((r) => { this.drained = r; }), this.done]);

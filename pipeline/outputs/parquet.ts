@@ -1,6 +1,7 @@
 // Feature rows → an Arrow table, and the Parquet writer's properties (Apache Arrow's Rust writer, compiled to WebAssembly); ParquetStream writes them.
 import * as arrow from 'apache-arrow';
-import { Compression, WriterPropertiesBuilder, type WriterProperties } from 'parquet-wasm/node';
+import type { WriterProperties } from 'parquet-wasm/node';
+import { parquetWasm } from './parquet-wasm.js';
 import type { FeatureRow } from '../reduce/result.js';
 import type { TableColumn } from './columns.js';
 import { ARROW_TYPES, arrowSchema } from './arrow-schema.js';
@@ -26,6 +27,7 @@ export function toArrowTable(columns: TableColumn[], rows: FeatureRow[], metadat
 export function writerProperties(columns: TableColumn[], metadata: Record<string, string>, rowGroupRows?: number): WriterProperties {
   const units = Object.fromEntries(columns.map((c) => [c.name, c.unit]));
   const kv = new Map([...Object.entries(metadata), ['quern.units', JSON.stringify(units)]]);
+  const { Compression, WriterPropertiesBuilder } = parquetWasm();
   const b = new WriterPropertiesBuilder().setCompression(Compression.ZSTD).setKeyValueMetadata(kv);
   return (rowGroupRows ? b.setMaxRowGroupSize(rowGroupRows) : b).setCreatedBy(metadata['quern.version'] ? `quern ${metadata['quern.version']}` : 'quern').build();
 }
