@@ -5,6 +5,7 @@ import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
 import { profile } from './profile.js';
 import { manySmall, reruns, shortRecordings } from './sections/scale.js';
+import { collectorShare, fixedCost } from './sections/start.js';
 import { summary, throughput } from './sections/throughput.js';
 import { trendsOverHistory } from './sections/trends.js';
 
@@ -12,7 +13,9 @@ try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
   if (process.argv.includes('--profile')) profile();
   else {
-    const { full, kept, first, shapes, statsRate, statsReduceRate } = throughput();
+    const { full, kept, first, shapes, statsRate, statsReduceRate, archives } = throughput();
+    fixedCost();
+    collectorShare([{ label: 'short 24-bit recordings, full set', archive: archives.many }, { label: 'one 16-bit recording, statistics', archive: archives.long }]);
     reruns(full, kept, first);
     shortRecordings();
     manySmall();

@@ -13,7 +13,7 @@ const rate = (m: Measurement) => m.samples / m.seconds;
 const whole = (m: QuernMeasurement): QuernMeasurement => ({ ...m, seconds: m.wallSeconds });
 
 /** Runs the section; returns the archive and the output folder of the full run (for the re-run section) and each shape's figures. */
-export function throughput(): { full: string; kept: string; first: QuernMeasurement; shapes: ShapeResult[]; statsRate: number; statsReduceRate: number } {
+export function throughput(): { full: string; kept: string; first: QuernMeasurement; shapes: ShapeResult[]; statsRate: number; statsReduceRate: number; archives: { long: string; many: string } } {
   say('generating archives (25.6 kHz, declared as accelerometers, so every feature group applies to every channel)…');
   const statsOnly = 'statistics: {}\n';
   const short = join(work, 'short'), long = join(work, 'long'), full = join(work, 'full'), many = join(work, 'many');
@@ -46,7 +46,7 @@ export function throughput(): { full: string; kept: string; first: QuernMeasurem
   if (!peerLong) say('  (peer skipped: no python3 with scipy; apt-get install python3-scipy)');
   else say(`  numpy/scipy peer: scipy ${peerLong.scipy}, whole files in memory, timed as whole processes like quern`);
   return {
-    full, kept, first: runAll, statsRate: rate(stats), statsReduceRate: stats.samples / stats.reduceSeconds,
+    full, kept, first: runAll, archives: { long, many }, statsRate: rate(stats), statsReduceRate: stats.samples / stats.reduceSeconds,
     shapes: [{ shape: 'long 16-bit, 4 channels, 8 × 122 s', quern: one, peer: peerLong }, { shape: 'short 24-bit, 4–8 channels, 24 × 10 s', quern: manyOne, peer: peerMany }],
   };
 }
