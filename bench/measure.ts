@@ -2,10 +2,10 @@
 // Usage: node dist/bench/measure.js ARCHIVE OUT JOBS [SINCE]
 import { runReduce } from '../pipeline/run.js';
 import { parseWhen } from '../pipeline/select/select.js';
-import { settleWasmTiering } from '../pipeline/wasm-tiering.js';
+import { settleEngine } from '../pipeline/engine-settings.js';
 
 // as the command line does
-settleWasmTiering();
+settleEngine();
 
 const [archive, out, jobs, since] = process.argv.slice(2);
 const t0 = performance.now();

@@ -9,7 +9,7 @@ import { summaryText } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
-import { settleWasmTiering } from './wasm-tiering.js';
+import { settleEngine } from './engine-settings.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
 const exporting = () => import('./exports/export.js');
@@ -209,5 +209,5 @@ async function main(argv: string[]): Promise<number> {
 
 // A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
 for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
-settleWasmTiering();
+settleEngine();
 process.exitCode = await main(joinSignedValues(hideBin(process.argv)));
