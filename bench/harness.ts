@@ -6,7 +6,8 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
-/** `seconds` is the run inside the process; `wallSeconds` the whole command as a user waits for it (start-up included);
+/** `seconds` is the run inside the process; `wallSeconds` the whole process (start-up included; bench/measure.ts is bundled
+ *  like the command, but leaves out parsing the command line, some 0.03 s: `command` times the command line itself);
  *  `cpuSeconds` the processor time of every thread of the process (workers, V8's compiler and collector threads);
  *  `reduceSeconds` the reduce phase alone (workers started, recordings read and reduced; no start-up, declaration or writing). */
 export type QuernMeasurement = Measurement & { cpuSeconds: number; recomputed: number; reused: number; recordings: number; wallSeconds: number; reduceSeconds: number };
@@ -23,6 +24,17 @@ export function quern(archive: string, jobs: number, out = join(work, `out-${Mat
   const wallSeconds = (performance.now() - t0) / 1000;
   return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
 }
+
+/** quern's command line itself, as a user runs it (bench/measure.ts skips parsing the command line): its whole-command seconds. */
+export function command(args: string[]): number {
+  const t0 = performance.now();
+  const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { stdio: 'ignore' });
+  const seconds = (performance.now() - t0) / 1000;
+  if (r.status !== 0) throw new Error(`bench: quern ${args.join(' ')} exited with ${r.status}`);
+  return seconds;
+}
+
+export const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2; };
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
 export function peer(archive: string, scale: number): Measurement | null {

@@ -1,31 +1,19 @@
 // A run's fixed cost (a tiny archive, the whole command as a user runs it) and the garbage collector's share of each
 // thread's time on one worker, for the short 24-bit recordings and the long statistics run.
-import { spawnSync } from 'node:child_process';
 import { readdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import type { ThreadCollections } from '../gc-share.js';
 import { makeBenchArchive } from '../generate.js';
-import { here, quern, repo, say, work } from '../harness.js';
-
-const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2; };
-
-/** The command as a user runs it, into a fresh output folder each time: whole-command seconds. */
-function commandSeconds(archive: string, runs: number, jobs = 2): number[] {
-  const out = join(work, 'fixed-out'), seconds: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    rmSync(out, { recursive: true, force: true });
-    const t0 = performance.now();
-    const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', out, '--jobs', String(jobs)], { stdio: 'ignore' });
-    seconds.push((performance.now() - t0) / 1000);
-    if (r.status !== 0) throw new Error(`bench: quern reduce ${archive} exited with ${r.status}`);
-  }
-  return seconds;
-}
+import { command, here, median, quern, say, work } from '../harness.js';
 
 export function fixedCost(runs = 11): void {
   const tiny = join(work, 'tiny-one');
   makeBenchArchive(tiny, [{ name: 't.wav', frames: 2_560 }]);
-  const s = commandSeconds(tiny, runs);
+  const out = join(work, 'fixed-out'), s: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    rmSync(out, { recursive: true, force: true });
+    s.push(command(['reduce', tiny, '--out', out, '--jobs', '2']));
+  }
   say(`\na run's fixed cost: one recording, 4 channels × 0.1 s, default spec, the whole command as a user runs it (target < 0.5 s)`);
   say(`  median ${median(s).toFixed(3)} s over ${runs} runs (${Math.min(...s).toFixed(3)}–${Math.max(...s).toFixed(3)} s)`);
 }
