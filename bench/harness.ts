@@ -4,6 +4,7 @@ import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { median } from '../stages/dsp/median.js';
 
 export interface Measurement { seconds: number; samples: number; peakRssMB: number; scipy?: string }
 /** `seconds` is the run inside the process; `wallSeconds` the whole process (start-up included; bench/measure.ts is bundled
@@ -34,7 +35,11 @@ export function command(args: string[]): number {
   return seconds;
 }
 
-export const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2; };
+/** Repeated timings in seconds: their median, and it with the least and the most as text. */
+export function spread(seconds: number[]): { median: number; text: string } {
+  const m = median(Float64Array.from(seconds));
+  return { median: m, text: `median ${m.toFixed(3)} s of ${seconds.length} (${Math.min(...seconds).toFixed(3)}–${Math.max(...seconds).toFixed(3)} s)` };
+}
 
 /** The numpy/scipy peer, where Debian's python3 with scipy is installed. */
 export function peer(archive: string, scale: number): Measurement | null {

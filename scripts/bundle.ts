@@ -3,10 +3,9 @@
 // a read and a compile). What each command or step loads lazily stays in its own chunk, loaded as before only when needed.
 // `npm run build` (and `npm test`, `npm run bench`) run it after tsc; without it the tsc output runs as it is, only slower.
 // Usage: node dist/scripts/bundle.js
-import { rmSync } from 'node:fs';
+import { readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { readFileSync } from 'node:fs';
 import { build, type Plugin } from 'esbuild';
 import { packageRoot } from '../pipeline/declare/package-files.js';
 
@@ -23,38 +22,44 @@ export const EXTERNAL = ['tinypool', 'parquet-wasm', 'h5wasm', 'vega', 'vega-lit
 export const CHUNKS = 'chunks';
 
 /**
+ * A plugin that changes one line of a dependency's module as it is bundled. With `required`, the build stops when the
+ * line is no longer there (a new version of the dependency), so that the change is reviewed rather than silently lost;
+ * without, modules the filter matches that lack the line (older copies of the package) are left as they are.
+ */
+function rewriteLine(name: string, filter: RegExp, line: string, replacement: string, required = true): Plugin {
+  return {
+    name,
+    setup(b) {
+      b.onLoad({ filter }, (args) => {
+        const source = readFileSync(args.path, 'utf8');
+        if (!source.includes(line)) {
+          if (!required) return undefined;
+          throw new Error(`${args.path}: no longer holds the line ${name} in scripts/bundle.ts rewrites; review it`);
+        }
+        return { contents: source.replace(line, replacement), loader: 'js' };
+      });
+    },
+  };
+}
+
+/**
  * yargs guesses a version by listing folders upward from its own place until one holds a package.json. Bundled, it no
  * longer finds its place and starts at the working directory: every run listed that folder and each one above it (an
- * archive folder of 100,000 recordings among them). quern states its version, so the search starts at quern's own folder.
+ * archive folder of 100,000 recordings among them). quern states its version, so the search starts at quern's own folder:
+ * __dirname is the bundle's own file (dist/pipeline/cli.js), and two levels up is dist/, beside quern's package.json.
  */
-export const yargsStartsAtQuern: Plugin = {
-  name: 'yargs-starts-at-quern',
-  setup(b) {
-    b.onLoad({ filter: /[\\/]yargs[\\/]lib[\\/]platform-shims[\\/]esm\.mjs$/ }, (args) => {
-      const source = readFileSync(args.path, 'utf8');
-      const guess = "const mainFilename = __dirname.substring(0, __dirname.lastIndexOf('node_modules'));";
-      if (!source.includes(guess)) throw new Error(`${args.path}: yargs no longer guesses its place as expected; review yargsStartsAtQuern in scripts/bundle.ts`);
-      // __dirname is the bundle's own file (dist/pipeline/cli.js): two levels up is dist/, beside quern's package.json
-      return { contents: source.replace(guess, "const mainFilename = resolve(__dirname, '..', '..');"), loader: 'js' };
-    });
-  },
-};
+export const yargsStartsAtQuern = rewriteLine('yargs-starts-at-quern', /[\\/]yargs[\\/]lib[\\/]platform-shims[\\/]esm\.mjs$/,
+  "const mainFilename = __dirname.substring(0, __dirname.lastIndexOf('node_modules'));",
+  "const mainFilename = resolve(__dirname, '..', '..');");
 
 /**
  * string-width (under yargs' help layout) makes an Intl.Segmenter as it loads, some milliseconds each for ICU's break
  * rules, three copies in all, on every run; only a help text or a usage error measures widths. Each is made on first use.
  */
-export const segmentersOnFirstUse: Plugin = {
-  name: 'segmenters-on-first-use',
-  setup(b) {
-    b.onLoad({ filter: /[\\/]string-width[\\/]index\.js$/ }, (args) => {
-      const source = readFileSync(args.path, 'utf8');
-      const eager = 'const segmenter = new Intl.Segmenter();';
-      if (!source.includes(eager)) return undefined;
-      return { contents: source.replace(eager, 'let madeSegmenter; const segmenter = { segment: (text) => (madeSegmenter ??= new Intl.Segmenter()).segment(text) };'), loader: 'js' };
-    });
-  },
-};
+export const segmentersOnFirstUse = rewriteLine('segmenters-on-first-use', /[\\/]string-width[\\/]index\.js$/,
+  'const segmenter = new Intl.Segmenter();',
+  'let madeSegmenter; const segmenter = { segment: (text) => (madeSegmenter ??= new Intl.Segmenter()).segment(text) };',
+  false); // cli-progress's older string-width has no segmenter; test/bundle.test.ts holds that none is made at load
 
 export async function bundle(root = packageRoot): Promise<void> {
   const dist = join(root, 'dist');

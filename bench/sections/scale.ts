@@ -4,7 +4,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { cpus } from 'node:os';
 import { join } from 'node:path';
 import { makeBenchArchive, makeManyTinyRecordings } from '../generate.js';
-import { command, median, quern, repo, say, scalingCeiling, work, type QuernMeasurement } from '../harness.js';
+import { command, quern, repo, say, scalingCeiling, spread, work, type QuernMeasurement } from '../harness.js';
 
 const pct = (a: QuernMeasurement, b: QuernMeasurement) => `${((a.wallSeconds / b.wallSeconds) * 100).toFixed(1)} % of the full run (in-process ${((a.seconds / b.seconds) * 100).toFixed(1)} %)`;
 const line = (label: string, m: QuernMeasurement, tail = '') =>
@@ -20,8 +20,8 @@ export function reruns(full: string, kept: string, first: QuernMeasurement, labe
   const third = quern(full, cores, kept);
   say(line('nothing changed, once more', third, pct(third, first)));
   // The command line itself (bench/measure.ts, timed above, leaves out parsing the command line: some 0.03 s).
-  const asRun = Array.from({ length: 7 }, () => command(['reduce', full, '--out', kept, '--jobs', String(cores)]));
-  say(`  ${'nothing changed, the command as a user runs it'.padEnd(54)} median of 7 ${median(asRun).toFixed(3)} s (${Math.min(...asRun).toFixed(3)}–${Math.max(...asRun).toFixed(3)} s): ${((100 * median(asRun)) / first.wallSeconds).toFixed(1)} % of the full run`);
+  const asRun = spread(Array.from({ length: 7 }, () => command(['reduce', full, '--out', kept, '--jobs', String(cores)])));
+  say(`  ${'nothing changed, the command as a user runs it'.padEnd(54)} ${asRun.text}: ${((100 * asRun.median) / first.wallSeconds).toFixed(1)} % of the full run`);
   const spec = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
   writeFileSync(join(full, 'reduction.yaml'), spec.replace('low_hz: 2500, high_hz: 4500', 'low_hz: 3000, high_hz: 5000'));
   const envelopeOnly = quern(full, cores, kept);

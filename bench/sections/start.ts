@@ -4,7 +4,7 @@ import { readdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import type { ThreadCollections } from '../gc-share.js';
 import { makeBenchArchive } from '../generate.js';
-import { command, here, median, quern, say, work } from '../harness.js';
+import { command, here, quern, say, spread, work } from '../harness.js';
 
 export function fixedCost(runs = 11): void {
   const tiny = join(work, 'tiny-one');
@@ -15,7 +15,7 @@ export function fixedCost(runs = 11): void {
     s.push(command(['reduce', tiny, '--out', out, '--jobs', '2']));
   }
   say(`\na run's fixed cost: one recording, 4 channels × 0.1 s, default spec, the whole command as a user runs it (target < 0.5 s)`);
-  say(`  median ${median(s).toFixed(3)} s over ${runs} runs (${Math.min(...s).toFixed(3)}–${Math.max(...s).toFixed(3)} s)`);
+  say(`  ${spread(s).text}`);
 }
 
 /** One worker reducing `archive` with every thread summing its collector's pauses (bench/gc-share.ts). */

@@ -52,7 +52,7 @@ export function unknownFeatures(spec: ReductionSpec): { index: number; pattern: 
   const names = columnsOf(spec).map((c) => c.name);
   return (spec.trends?.features ?? [])
     .map((pattern, index) => ({ index, pattern }))
-    .filter(({ pattern }) => { const matches = picomatch(pattern); return !DEFAULT_FEATURES.includes(pattern) && !names.some((n) => matches(n)); })
+    .filter(({ pattern }) => { if (DEFAULT_FEATURES.includes(pattern)) return false; const matches = picomatch(pattern); return !names.some((n) => matches(n)); })
     .map((u) => ({ ...u, nearest: nearestNames(u.pattern, names) }));
 }
 
