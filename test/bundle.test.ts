@@ -1,11 +1,23 @@
 // The command's bundle (scripts/bundle.ts, built by npm test before the tests run): what a run pays for as it starts.
 import { spawnSync } from 'node:child_process';
 import { readFileSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { dirname, join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { quern, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 
 const bundle = () => readFileSync(join(repo, 'dist', 'pipeline', 'cli.js'), 'utf8');
+
+/** The source files (from the source maps) of a bundled file and of every chunk it imports statically, as a thread loads them. */
+function staticSources(file: string, seen = new Set<string>()): Set<string> {
+  if (seen.has(file)) return new Set();
+  seen.add(file);
+  const sources = new Set<string>((JSON.parse(readFileSync(`${file}.map`, 'utf8')) as { sources: string[] }).sources.map((s) => resolve(dirname(file), s)));
+  // static imports only: `import ... from "./x.js"` and `import "./x.js"`, never `import("./x.js")`
+  for (const [, path] of readFileSync(file, 'utf8').matchAll(/^(?:import|export)\b[^;(]*?["'](\.{1,2}\/[^"']+\.js)["'];?$/gm)) {
+    for (const s of staticSources(resolve(dirname(file), path), seen)) sources.add(s);
+  }
+  return sources;
+}
 
 describe('the command bundle', () => {
   it("starts yargs' version search at quern's own folder, not at the working directory", () => {
@@ -43,5 +55,13 @@ describe('the command bundle', () => {
     expect(again.status).toBe(1);
     expect(again.stderr + again.stdout).toMatch(/reducing 0 recordings/);
     expect(readFileSync(loaded, 'utf8')).not.toContain('NativeModule child_process');
+  });
+
+  it('a worker thread loads the reducing code, not the store, the cache keys or the table code', () => {
+    const sources = [...staticSources(join(repo, 'dist', 'pipeline', 'reduce', 'worker.js'))].map((s) => s.slice(repo.length + 1).replace(/\\/g, '/'));
+    expect(sources).toContain('pipeline/reduce/compute.ts');
+    expect(sources).toContain('pipeline/store/record.ts'); // a worker encodes the entries it returns
+    for (const absent of ['pipeline/store/store.ts', 'pipeline/plan/cache.ts', 'pipeline/outputs/slice.ts', 'pipeline/declare/canonical-json.ts']) expect(sources).not.toContain(absent);
+    expect(sources.some((s) => s.includes('apache-arrow'))).toBe(false);
   });
 });

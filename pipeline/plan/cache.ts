@@ -1,8 +1,6 @@
 // Results kept per recording and feature group, so a re-run computes only what changed: the keys that say whether a stored
 // group still holds, and the whole stored history. Entries live in packs (pipeline/store/), stored as soon as a batch is done.
 import { createHash } from 'node:crypto';
-import { createReadStream } from 'node:fs';
-import { requireRegularFile } from '../../stages/read/regular-file.js';
 import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -41,16 +39,6 @@ export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.k
 /** Every entry the output folder holds, read from its packs. */
 export async function* storedEntries(out: string): AsyncGenerator<CacheEntry> {
   yield* everyEntry(await Store.open(out));
-}
-
-/** SHA-256 of a file's bytes, streamed. */
-export function hashFile(path: string): Promise<string> {
-  return new Promise((resolve, reject) => {
-    // A pipe or a device would never end; its reduction says why it fails.
-    requireRegularFile(path);
-    const h = createHash('sha256');
-    createReadStream(path).on('data', (d) => h.update(d)).on('error', reject).on('end', () => resolve(h.digest('hex')));
-  });
 }
 
 /** The declaration facts a recording's numbers depend on (labels are not among them: they are applied when rows are assembled). */

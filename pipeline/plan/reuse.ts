@@ -1,6 +1,7 @@
 // Decides, per recording, what a run may reuse from earlier runs and what it must compute, and says why.
 import { eachAtOnce } from '../at-once.js';
-import { declarationKey, hashFile, type Identity } from './cache.js';
+import { declarationKey, type Identity } from './cache.js';
+import { hashFile } from './hash-file.js';
 import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { BatchItem } from '../reduce/batch.js';

@@ -1,7 +1,7 @@
 // Small recordings travel in batches: one worker task, one message and one pack write for many recordings.
 // The worker reduces each recording of a batch in turn and returns each one's record, ready to append to the pack.
 import { eachAtOnce } from '../at-once.js';
-import { hashFile } from '../plan/cache.js';
+import { hashFile } from '../plan/hash-file.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { RecordReader } from '../store/pack.js';
 import type { Located } from '../store/pack.js';
