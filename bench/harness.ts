@@ -55,17 +55,17 @@ export function peer(archive: string, scale: number): Measurement | null {
 export const row = (label: string, m: Measurement) =>
   `  ${label.padEnd(46)} ${(m.samples / 1e6).toFixed(0).padStart(5)} M samples ${m.seconds.toFixed(2).padStart(7)} s ${(m.samples / m.seconds / 1e6).toFixed(2).padStart(7)} M samples/s ${m.peakRssMB.toFixed(0).padStart(6)} MB peak RSS`;
 
-/**
- * How fast `threads` workers could run at best, from the one-worker run: its processor time (every thread) shared out
- * evenly over the cores, against its wall time. A one-worker run that already keeps more than one core busy (the main
- * thread, V8's compiler and collector threads beside the worker) leaves less than a core's worth for a second worker.
- */
 /** The reduce phase alone (the workers' part, from run.json's timings) against the rest of the run, which one thread does. */
 export function reducePhaseScaling(one: QuernMeasurement, many: QuernMeasurement, jobs: number): string {
   const rest = (m: QuernMeasurement) => m.wallSeconds - m.reduceSeconds;
   return `the reduce phase alone: ${one.reduceSeconds.toFixed(2)} s on one worker, ${many.reduceSeconds.toFixed(2)} s on ${jobs}: ${(one.reduceSeconds / many.reduceSeconds).toFixed(2)}×; the rest of the command (start, declarations, scan, tables and reports) ${rest(one).toFixed(2)} s and ${rest(many).toFixed(2)} s`;
 }
 
+/**
+ * How fast `threads` workers could run at best, from the one-worker run: its processor time (every thread) shared out
+ * evenly over the cores, against its wall time. A one-worker run that already keeps more than one core busy (the main
+ * thread, V8's compiler and collector threads beside the worker) leaves less than a core's worth for a second worker.
+ */
 export function scalingCeiling(one: QuernMeasurement, cores: number): string {
   const busy = one.cpuSeconds / one.wallSeconds;
   return `--jobs 1 keeps ${busy.toFixed(2)} cores busy on average (${one.cpuSeconds.toFixed(2)} s of processor time in ${one.wallSeconds.toFixed(2)} s): on ${cores} cores, any number of workers doing the same work can run at most ${(Math.min(cores, cores / busy)).toFixed(2)}× as fast`;
