@@ -1,14 +1,12 @@
 // Velocity RMS of acceleration channels by integration in the frequency domain: velocity PSD = acceleration PSD / (2πf)².
 // Broadband velocity in a 10–1000 Hz band is the figure machine-vibration evaluation uses (ISO 20816-1, from memory).
+import { metresPerSecond2 } from './acceleration-units.js';
 import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
 
 export interface VelocityOptions { ranges: [number, number][]; spectrum: WelchOptions }
-
-/** m/s² per declared acceleration unit; g is standard gravity, 9.80665 m/s² (ISO 80000-3). */
-const TO_M_PER_S2: Record<string, number> = { 'm/s^2': 1, 'm/s²': 1, 'm/s2': 1, 'mm/s^2': 1e-3, 'mm/s²': 1e-3, g: 9.80665, gn: 9.80665, 'g_n': 9.80665 };
 
 const col = (lo: number, hi: number) => `velocity_${hzName(lo)}_${hzName(hi)}_rms`;
 
@@ -17,7 +15,7 @@ export const velocity: StageDefinition<VelocityOptions> = {
   columns: (o) => o.ranges.map(([lo, hi]) => ({ name: col(lo, hi), unit: 'mm/s', description: `Velocity RMS in [${lo}, ${hi}) Hz of an acceleration channel, integrated in the frequency domain from the Welch PSD.` })),
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
-    const factor = TO_M_PER_S2[ctx.unit.trim()];
+    const factor = metresPerSecond2(ctx.unit);
     return {
       push() {},
       finish() {

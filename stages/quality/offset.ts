@@ -3,6 +3,7 @@ import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { metresPerSecond2, STANDARD_GRAVITY } from '../acceleration-units.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -47,12 +48,10 @@ export const offset: StageDefinition<QualityThresholds> = {
   },
 };
 
-/** Standard gravity, 9.80665 m/s² (ISO 80000-3), in the acceleration units a declaration may use. */
-const STANDARD_GRAVITY: Record<string, number> = { 'm/s^2': 9.80665, 'm/s²': 9.80665, 'mm/s^2': 9806.65, 'mm/s²': 9806.65, g: 1 };
-
 /** A mean within 5 % of 1 g on an accelerometer is gravity on a DC-coupled sensor: the message says how to take it out. */
 export function gravityHint(quantity: string, unit: string, mean: number): string {
-  const g = STANDARD_GRAVITY[unit];
+  const perUnit = metresPerSecond2(unit);
+  const g = perUnit ? STANDARD_GRAVITY / perUnit : null;
   if (quantity !== 'acceleration' || g == null || Math.abs(Math.abs(mean) / g - 1) > 0.05) return '';
   return `. The mean is about 1 g: a DC-coupled accelerometer carrying gravity; add ${-Math.sign(mean) * g} to the channel's offset in archive.yaml to take it out, or read std, which excludes it`;
 }
