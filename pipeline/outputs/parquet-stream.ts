@@ -8,6 +8,19 @@ import type { StagedFile } from './staged.js';
 /** Rows a row group holds at most: readers skip whole row groups by their statistics. */
 export const ROW_GROUP_ROWS = 65_536;
 
+/**
+ * The record batches of an Arrow IPC stream, in the writer's WebAssembly memory. The table that held them is freed at
+ * once: left to the collector's finalisers, a hundred thousand small slices' tables kept the writer's memory growing.
+ */
+function batchesOf(ipc: Uint8Array): RecordBatch[] {
+  const table = parquetWasm().Table.fromIPCStream(ipc);
+  try {
+    return table.recordBatches();
+  } finally {
+    table.free();
+  }
+}
+
 export class ParquetStream {
   private waiting: ((b: RecordBatch | null) => void) | null = null;
   private queue: (RecordBatch | null)[] = [];
@@ -34,7 +47,7 @@ export class ParquetStream {
     })();
     this.done.catch(() => {}); // awaited by push and finish; a failure must not also surface as unhandled
     // The schema travels with a batch: a first batch of no rows gives a table without rows its columns.
-    this.offer(parquetWasm().Table.fromIPCStream(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')).recordBatches());
+    this.offer(batchesOf(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')));
   }
 
   private offer(batches: (RecordBatch | null)[]): void {
@@ -45,7 +58,7 @@ export class ParquetStream {
 
   /** Adds the rows of an Arrow IPC stream; resolves once the writer has taken them (so memory stays bounded). */
   async push(ipc: Uint8Array): Promise<void> {
-    const batches = parquetWasm().Table.fromIPCStream(ipc).recordBatches().filter((b) => b.numRows > 0);
+    const batches = batchesOf(ipc).filter((b) => (b.numRows > 0 ? true : (b.free(), false)));
     this.rows += batches.reduce((s, b) => s + b.numRows, 0);
     this.offer(batches);
     if (this.queue.length) await Promise.race([new Promise<void>((r) => { this.drained = r; }), this.done]);
