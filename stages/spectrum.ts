@@ -22,6 +22,16 @@ export function peakBin(density: Float64Array): number {
   return k;
 }
 
+/**
+ * Power-weighted mean frequency above DC, Σ f·P / Σ P (null for a spectrum without power). Its own function rather
+ * than a loop in each channel's stage, so that V8 optimises one loop once instead of interpreting it channel by channel.
+ */
+export function spectralCentroid(density: Float64Array, df: number): number | null {
+  let num = 0, den = 0;
+  for (let k = 1; k < density.length; k++) { num += k * df * density[k]; den += density[k]; }
+  return den > 0 ? num / den : null;
+}
+
 export const spectrum: StageDefinition<WelchOptions> = {
   group: 'spectrum',
   columns: () => [
@@ -35,9 +45,7 @@ export const spectrum: StageDefinition<WelchOptions> = {
       finish() {
         const psd = s.psd();
         if (!psd || psd.density.length < 3) return { dominant_frequency: null, spectral_centroid: null };
-        let num = 0, den = 0;
-        for (let k = 1; k < psd.density.length; k++) { num += k * psd.df * psd.density[k]; den += psd.density[k]; }
-        return { dominant_frequency: peakBin(psd.density) * psd.df, spectral_centroid: den > 0 ? num / den : null };
+        return { dominant_frequency: peakBin(psd.density) * psd.df, spectral_centroid: spectralCentroid(psd.density, psd.df) };
       },
     };
   },

@@ -6,6 +6,9 @@ import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
 
+// Integration in the frequency domain: velocity's power is acceleration's divided by (2πf)²; DC carries none.
+const velocityPerAcceleration = (f: number): number => (f > 0 ? 1 / (2 * Math.PI * f) ** 2 : 0);
+
 export interface VelocityOptions { ranges: [number, number][]; spectrum: WelchOptions }
 
 const col = (lo: number, hi: number) => `velocity_${hzName(lo)}_${hzName(hi)}_rms`;
@@ -30,7 +33,7 @@ export const velocity: StageDefinition<VelocityOptions> = {
         for (const [lo, hi] of o.ranges) {
           if (hi > ctx.sampleRate / 2) { ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz reaches above the Nyquist frequency; left empty`); continue; }
           // DC carries no velocity; every other bin is divided by (2πf)².
-          const ms = bandMeanSquare(psd, lo, hi, (f) => (f > 0 ? 1 / (2 * Math.PI * f) ** 2 : 0));
+          const ms = bandMeanSquare(psd, lo, hi, velocityPerAcceleration);
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
         }
         return out;

@@ -1,6 +1,6 @@
 // Statistics against textbook values and against scipy/numpy on the sample archive.
 import { describe, expect, it } from 'vitest';
-import { chunkMoments, combineMoments, describe as describeMoments, emptyMoments } from '../stages/dsp/moments.js';
+import { chunkMoments, combineMoments, describe as describeMoments, emptyMoments, foldMoments } from '../stages/dsp/moments.js';
 import { statistics } from '../stages/stats.js';
 import type { ChannelContext, Stage } from '../stages/stage.js';
 import { uniform } from './dsp-signals.js';
@@ -83,6 +83,22 @@ describe('statistics of textbook signals (common practice; e.g. any signal-proce
       const parts = stats(x, chunk);
       for (const k of ['mean', 'std', 'skewness', 'kurtosis'] as const) expect(parts[k]).toBeCloseTo(whole[k]!, 10);
     }
+  });
+
+  it('folds parts in place to the moments of the whole, empty and missing-only parts included (Pébay 2008)', () => {
+    const u = uniform(11);
+    const x = Float64Array.from({ length: 5_000 }, (_, i) => (i % 97 === 0 ? NaN : u() * 4 - 1));
+    let combined = emptyMoments();
+    const folded = emptyMoments();
+    for (const [from, to] of [[0, 0], [0, 1], [1, 1], [1, 700], [700, 701], [701, 3000], [3000, 5000]]) {
+      const part = chunkMoments(x.subarray(from, to));
+      combined = combineMoments(combined, part);
+      foldMoments(folded, part.n, part.mean, part.m2, part.m3, part.m4, part.min, part.max, part.nonFinite);
+    }
+    expect(folded).toEqual(combined);
+    const whole = chunkMoments(x);
+    for (const k of ['mean', 'm2', 'm3', 'm4'] as const) expect(Math.abs(folded[k] - whole[k])).toBeLessThan(1e-11 * Math.max(1, Math.abs(whole[k])));
+    expect([folded.n, folded.nonFinite, folded.min, folded.max]).toEqual([whole.n, whole.nonFinite, whole.min, whole.max]);
   });
 
   it('leaves missing samples out and counts them; a flat channel has no skewness or kurtosis', () => {

@@ -52,18 +52,35 @@ export function chunkMoments(x: Float64Array): Moments {
 
 // Pairwise combination of central moments (Chan, Golub & LeVeque 1979; higher orders after Pébay 2008, SAND2008-6212).
 export function combineMoments(a: Moments, b: Moments): Moments {
-  const nonFinite = a.nonFinite + b.nonFinite;
-  if (a.n === 0) return { ...b, nonFinite };
-  if (b.n === 0) return { ...a, nonFinite };
-  const n = a.n + b.n;
-  const d = b.mean - a.mean, dn = d / n, dn2 = dn * dn;
-  const na = a.n, nb = b.n;
-  const mean = a.mean + dn * nb;
-  const m2 = a.m2 + b.m2 + d * dn * na * nb;
-  const m3 = a.m3 + b.m3 + d * dn2 * na * nb * (na - nb) + 3 * dn * (na * b.m2 - nb * a.m2);
-  const m4 = a.m4 + b.m4 + d * dn2 * dn * na * nb * (na * na - na * nb + nb * nb)
-    + 6 * dn2 * (na * na * b.m2 + nb * nb * a.m2) + 4 * dn * (na * b.m3 - nb * a.m3);
-  return { n, mean, m2, m3, m4, min: Math.min(a.min, b.min), max: Math.max(a.max, b.max), nonFinite };
+  const out = { ...a };
+  foldMoments(out, b.n, b.mean, b.m2, b.m3, b.m4, b.min, b.max, b.nonFinite);
+  return out;
+}
+
+/**
+ * The same pairwise update (Chan, Golub & LeVeque 1979; Pébay 2008), in place: a part's count, mean, central sums,
+ * extremes and missing values folded into `into`, with no new object, since a channel's envelope folds one part for
+ * every block of a few thousand samples.
+ */
+export function foldMoments(into: Moments, nb: number, meanB: number, m2b: number, m3b: number, m4b: number, minB: number, maxB: number, nonFiniteB: number): void {
+  const nonFinite = into.nonFinite + nonFiniteB;
+  if (into.n === 0) {
+    into.n = nb; into.mean = meanB; into.m2 = m2b; into.m3 = m3b; into.m4 = m4b; into.min = minB; into.max = maxB; into.nonFinite = nonFinite;
+    return;
+  }
+  if (nb === 0) { into.nonFinite = nonFinite; return; }
+  const na = into.n, n = na + nb;
+  const d = meanB - into.mean, dn = d / n, dn2 = dn * dn;
+  const m2a = into.m2, m3a = into.m3;
+  into.mean = into.mean + dn * nb;
+  into.m2 = m2a + m2b + d * dn * na * nb;
+  into.m3 = m3a + m3b + d * dn2 * na * nb * (na - nb) + 3 * dn * (na * m2b - nb * m2a);
+  into.m4 = into.m4 + m4b + d * dn2 * dn * na * nb * (na * na - na * nb + nb * nb)
+    + 6 * dn2 * (na * na * m2b + nb * nb * m2a) + 4 * dn * (na * m3b - nb * m3a);
+  into.n = n;
+  into.min = Math.min(into.min, minB);
+  into.max = Math.max(into.max, maxB);
+  into.nonFinite = nonFinite;
 }
 
 /** Population statistics (divisor n) of accumulated moments; null where undefined. */
