@@ -79,9 +79,13 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? r.bits;
-      const own = stages.filter((s) => selected(s.only, decl)).map((s) => {
-        const g = outputOf(s.definition.group);
-        // Each stage's notes, rows and flags are filed under its own feature group.
+      // One context a feature group, shared by the group's stages: each stage's notes, rows and flags are filed under its
+      // own feature group, and a recording makes a few contexts a channel, not one a stage (they live as long as it does).
+      const contexts = new Map<string, ChannelContext>();
+      const contextOf = (group: string): ChannelContext => {
+        const known = contexts.get(group);
+        if (known) return known;
+        const g = outputOf(group);
         const ctx: ChannelContext = {
           name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
           maxFrequencyHz: decl.max_frequency_hz,
@@ -101,8 +105,10 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
           recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
           keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
         };
-        return { group: s.definition.group, stage: s.definition.create(ctx, s.options) };
-      });
+        contexts.set(group, ctx);
+        return ctx;
+      };
+      const own = stages.filter((s) => selected(s.only, decl)).map((s) => ({ group: s.definition.group, stage: s.definition.create(contextOf(s.definition.group), s.options) }));
       // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
       return { shared: [...shared.values()], own };
     });

@@ -87,7 +87,9 @@ export class AnalyticFilter {
     let i = 0;
     while (i < x.length) {
       const take = Math.min(x.length - i, this.n - this.bufLen);
-      this.buf.set(x.subarray(i, i + take), this.bufLen);
+      // Copied sample by sample: a view of x for every block would be garbage for every block.
+      const buf = this.buf, at = this.bufLen;
+      for (let j = 0; j < take; j++) buf[at + j] = x[i + j];
       this.bufLen += take;
       this.seen += take;
       i += take;
@@ -116,8 +118,8 @@ export class AnalyticFilter {
 
   private after(t: number, end: number): number {
     if (this.extension === 'zero') return 0;
-    const k = Math.min(t - (end - 1), end - 1), at = (s: number) => this.buf[s - this.bufStart];
-    return 2 * at(end - 1) - at(Math.max(end - 1 - k, this.bufStart));
+    const k = Math.min(t - (end - 1), end - 1), s0 = this.bufStart;
+    return 2 * this.buf[end - 1 - s0] - this.buf[Math.max(end - 1 - k, s0) - s0];
   }
 
   /** Transforms the full buffer, emits its kept middle (up to the signal's end), and slides on by one hop. */
@@ -131,7 +133,10 @@ export class AnalyticFilter {
     for (let i = 0; i < r; i++) { w[i] *= taper[i]; w[n - 1 - i] *= taper[i]; }
     const from = ctx, to = Math.min(n - ctx, end - this.bufStart);
     this.blocks.run(w, from, to, this.outRe, this.outAbs);
-    this.emit(this.outRe.subarray(0, to - from), this.outAbs.subarray(0, to - from));
+    // A whole hop is the whole output buffer; only a last, shorter block needs views of it.
+    const k = to - from;
+    if (k === this.hop) this.emit(this.outRe, this.outAbs);
+    else this.emit(this.outRe.subarray(0, k), this.outAbs.subarray(0, k));
     this.buf.copyWithin(0, this.hop, n);
     this.bufStart += this.hop;
     this.bufLen = n - this.hop;

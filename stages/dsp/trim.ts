@@ -4,6 +4,8 @@ export class EdgeTrim {
   private skipped = 0;
   private held = 0;
   private buf: Float64Array;
+  // The last view emitted, reused while pieces keep their length: the envelope emits one a block.
+  private view: Float64Array | null = null;
   constructor(private readonly edge: number, private readonly emit: (x: Float64Array) => void) {
     this.buf = new Float64Array(edge + 4096);
   }
@@ -20,11 +22,13 @@ export class EdgeTrim {
       const grown = new Float64Array(this.edge + body);
       grown.set(this.buf.subarray(0, this.held));
       this.buf = grown;
+      this.view = null;
     }
-    this.buf.set(x.subarray(from), this.held);
+    this.buf.set(from === 0 ? x : x.subarray(from), this.held);
     const total = this.held + body, out = total - this.edge;
     if (out > 0) {
-      this.emit(this.buf.subarray(0, out));
+      if (this.view === null || this.view.length !== out) this.view = this.buf.subarray(0, out);
+      this.emit(this.view);
       this.buf.copyWithin(0, out, total);
       this.held = this.edge;
     } else this.held = total;
