@@ -8,7 +8,7 @@ import { FusedPass } from './fused/pass.js';
 import { EdgeTrim } from './dsp/trim.js';
 import { Welch, type WelchOptions } from './dsp/welch.js';
 import { peakBin } from './spectrum.js';
-import type { StageDefinition } from './stage.js';
+import { scratchOf, type StageDefinition } from './stage.js';
 
 export interface EnvelopeOptions { filter: FilterSpec; spectrum: WelchOptions }
 
@@ -47,8 +47,10 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const r = Math.min(slowestPoleRadius(sos), 1 - 1e-9);
     // Figures leave out the ends where the filter and the transform settle: the filter's impulse response down to 1e-3, and at least 2048 samples.
     const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(r)));
-    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e); });
-    const filteredTrim = new EdgeTrim(edge, (y) => filteredPass.push(y));
+    // Working buffers lent for the recording (taken back when it is reduced).
+    const buffer = scratchOf(ctx);
+    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e); }, buffer);
+    const filteredTrim = new EdgeTrim(edge, (y) => filteredPass.push(y), buffer);
     // One pair of transforms a block filters and makes analytic: the kernel dies below 1e-14 within `reach` samples,
     // kept clear of the tapered ramps (sizes chosen by measurement against scipy, DEVELOPERS.md).
     const zeroPhase = o.filter.zero_phase === true;
@@ -56,7 +58,7 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const context = ENVELOPE_RAMP + reach;
     const size = Math.max(ENVELOPE_BLOCK, 2 ** Math.ceil(Math.log2(4 * context)));
     const gainKey = `${JSON.stringify(o.filter)}@${ctx.sampleRate}`;
-    const analytic = new AnalyticFilter(() => analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero' },
+    const analytic = new AnalyticFilter(() => analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero', buffer },
       (y, e) => { filteredTrim.push(y); envTrim.push(e); });
     // As scipy.signal.sosfiltfilt, zero-phase filtering needs more samples than its odd extension at each end.
     const firstOrder = Math.min(sos.filter((s) => s[2] === 0).length, sos.filter((s) => s[5] === 0).length);

@@ -40,6 +40,12 @@ export interface ChannelContext {
    * Publish into it when a stage is created; read it in finish(), when every channel has seen every chunk. Absent outside a recording.
    */
   recordingShared?<T>(key: string, make: () => T): T;
+  /**
+   * A zeroed working buffer of `length` doubles, lent for this recording only: taken back once the recording is reduced,
+   * and given to a later one. Only for a stage's own working state, never for what it hands on (columns, rows, kept
+   * values, evidence). Absent outside a worker's reduction: use `new Float64Array` then (`scratchOf`).
+   */
+  scratch?(length: number): Float64Array;
   /** Keeps a compact value with the recording's stored result (not a table row): read later from the cache, e.g. spectra for trends. */
   keep?(name: string, value: KeptValue): void;
 }
@@ -78,3 +84,6 @@ export interface StageDefinition<Options = unknown> {
   columns(options: Options): ColumnSpec[];
   create(channel: ChannelContext, options: Options): Stage;
 }
+
+/** The channel's lender of working buffers: the recording's scratch where there is one, new buffers otherwise. */
+export const scratchOf = (ctx: ChannelContext): ((length: number) => Float64Array) => (ctx.scratch ? (n) => ctx.scratch!(n) : (n) => new Float64Array(n));

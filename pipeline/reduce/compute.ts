@@ -4,6 +4,7 @@ import picomatch from 'picomatch';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { DECLARE_IN_ARCHIVE, openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
+import { THREAD_SCRATCH, type ScratchBuffers } from '../../stages/scratch.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
 import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
@@ -61,10 +62,13 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
 }
 
 /** Reduces the feature groups the job names (all when it names none), reading the recording once; `active` is the spec's stages, made once for many recordings. */
-export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec)): Promise<RecordingOutput> {
+export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec), buffers: ScratchBuffers = THREAD_SCRATCH): Promise<RecordingOutput> {
   const t0 = performance.now();
   const out: RecordingOutput = { recording: job.recording, group: job.group, status: 'failed', base: null, groups: {}, seconds: 0 };
   let rec: Recording | null = null;
+  // The stages' working buffers, lent for this recording and taken back at its end (its output holds none of them).
+  const lent: Float64Array[] = [];
+  const scratch = (length: number): Float64Array => { const b = buffers.take(length); lent.push(b); return b; };
   try {
     const opened = await openForJob(job);
     rec = opened.rec;
@@ -104,6 +108,7 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
           tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
           recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
           keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
+          scratch,
         };
         contexts.set(group, ctx);
         return ctx;
@@ -112,13 +117,13 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
       // Shared products (made while the stages were created) are fed first, so every stage reads them complete.
       return { shared: [...shared.values()], own };
     });
-    // One scratch chunk, reused: the hot loop allocates nothing.
-    let scratch = new Float64Array(0);
+    // One chunk in engineering units, reused: the hot loop allocates nothing.
+    let engineering: Float64Array = new Float64Array(0);
     let frames = 0;
     for await (const chunk of rec.chunks()) {
       const n = chunk[0].length;
-      if (scratch.length < n) scratch = new Float64Array(n);
-      const eng = scratch.subarray(0, n);
+      if (engineering.length < n) engineering = scratch(n);
+      const eng = n === engineering.length ? engineering : engineering.subarray(0, n);
       for (let c = 0; c < channels.length; c++) {
         const { decl, index } = channels[c];
         toEngineering(chunk[index], decl.scale, decl.offset, eng);
@@ -156,6 +161,7 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
     if (!(e instanceof RecordingError) && (e as NodeJS.ErrnoException).code) out.reason = `${(e as Error).message}; check that the file exists and is readable`;
   } finally {
     await rec?.close();
+    buffers.give(lent);
     out.seconds = (performance.now() - t0) / 1000;
   }
   return out;

@@ -9,6 +9,7 @@
 // (causal filtering from rest). Bounded memory: one block.
 import type { Section } from './butterworth.js';
 import { AnalyticBlocks } from './fft-simd.js';
+import { freshBuffer } from '../scratch.js';
 
 export type Extension = 'odd' | 'zero';
 
@@ -44,7 +45,13 @@ export interface AnalyticOptions {
   /** Tapered samples at each end of a block (≤ context). */
   ramp: number;
   extension: Extension;
+  /** Where the working buffers come from (a recording's scratch, in a worker's reduction). */
+  buffer?: (length: number) => Float64Array;
 }
+
+// Raised-cosine ramps by length, made once a thread: every channel's filter reads the same one.
+const tapers = new Map<number, Float64Array>();
+const taperOf = (ramp: number): Float64Array => tapers.get(ramp) ?? tapers.set(ramp, Float64Array.from({ length: ramp }, (_, i) => 0.5 - 0.5 * Math.cos((Math.PI * (i + 0.5)) / ramp))).get(ramp)!;
 
 export class AnalyticFilter {
   private readonly n: number;
@@ -72,14 +79,15 @@ export class AnalyticFilter {
     this.context = o.context;
     this.hop = o.size - 2 * o.context;
     if (!(this.hop > 0) || o.ramp > o.context) throw new Error(`analytic blocks of ${o.size} samples cannot keep ${o.context} samples of context on each side`);
-    this.taper = Float64Array.from({ length: o.ramp }, (_, i) => 0.5 - 0.5 * Math.cos((Math.PI * (i + 0.5)) / o.ramp));
-    this.buf = new Float64Array(o.size);
+    this.taper = taperOf(o.ramp);
+    const buffer = o.buffer ?? freshBuffer;
+    this.buf = buffer(o.size);
     // The first block starts `context` samples before the signal, in the extension.
     this.bufStart = -o.context;
     this.bufLen = o.context;
-    this.work = new Float64Array(o.size);
-    this.outRe = new Float64Array(this.hop);
-    this.outAbs = new Float64Array(this.hop);
+    this.work = buffer(o.size);
+    this.outRe = buffer(this.hop);
+    this.outAbs = buffer(this.hop);
     this.blocks = new AnalyticBlocks(o.size, gains, gainKey);
   }
 

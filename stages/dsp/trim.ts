@@ -1,13 +1,15 @@
 // Passes a stream on without its first and last `edge` samples, holding back no more than `edge` samples (in a buffer
 // that grows only when a longer piece arrives).
+import { freshBuffer } from '../scratch.js';
+
 export class EdgeTrim {
   private skipped = 0;
   private held = 0;
   private buf: Float64Array;
   // The last view emitted, reused while pieces keep their length: the envelope emits one a block.
   private view: Float64Array | null = null;
-  constructor(private readonly edge: number, private readonly emit: (x: Float64Array) => void) {
-    this.buf = new Float64Array(edge + 4096);
+  constructor(private readonly edge: number, private readonly emit: (x: Float64Array) => void, buffer: (length: number) => Float64Array = freshBuffer) {
+    this.buf = buffer(edge + 4096);
   }
 
   push(x: Float64Array): void {

@@ -1,6 +1,7 @@
 // Running sum of squares over the last `length` samples (linear integration), its largest value once a window is
 // full; the ring is re-added once per turn so rounding cannot accumulate.
-import type { ChannelContext } from '../stage.js';
+import { scratchOf, type ChannelContext } from '../stage.js';
+import { freshBuffer } from '../scratch.js';
 import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
 
@@ -8,9 +9,9 @@ export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | '
   readonly arrays: { ring: Float64Array };
   readonly each = 'const q = v * v; $sum += q - $ring[$at]; $ring[$at] = q; $seen++; if (++$at === $length) { $at = 0; let t = 0; for (let j = 0; j < $length; j++) t += $ring[j]; $sum = t; } if ($seen >= $length && $sum > $max) $max = $sum;';
 
-  constructor(length: number) {
+  constructor(length: number, buffer: (length: number) => Float64Array = freshBuffer) {
     super(`running-mean-square:${length}`, { length, at: 0, seen: 0, sum: 0, max: -1 });
-    this.arrays = { ring: new Float64Array(length) };
+    this.arrays = { ring: buffer(length) };
   }
 
   get seen() { return this.get('seen'); }
@@ -18,4 +19,4 @@ export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | '
   get max() { return this.get('max'); }
 }
 
-export const runningMeanSquareOf = (ctx: ChannelContext, length: number) => fusedOf(ctx, `running-mean-square:${length}`, () => new RunningMeanSquare(length));
+export const runningMeanSquareOf = (ctx: ChannelContext, length: number) => fusedOf(ctx, `running-mean-square:${length}`, () => new RunningMeanSquare(length, scratchOf(ctx)));
