@@ -58,7 +58,9 @@ export class ParquetStream {
 
   /** Adds the rows of an Arrow IPC stream; resolves once the writer has taken them (so memory stays bounded). */
   async push(ipc: Uint8Array): Promise<void> {
-    const batches = batchesOf(ipc).filter((b) => (b.numRows > 0 ? true : (b.free(), false)));
+    // Empty batches are freed at once; the writer takes over the rest and frees them once written.
+    const batches: RecordBatch[] = [];
+    for (const b of batchesOf(ipc)) if (b.numRows > 0) batches.push(b); else b.free();
     this.rows += batches.reduce((s, b) => s + b.numRows, 0);
     this.offer(batches);
     if (this.queue.length) await Promise.race([new Promise<void>((r) => { this.drained = r; }), this.done]);
