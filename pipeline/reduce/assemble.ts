@@ -3,7 +3,7 @@ import { activeStages, featureColumns } from '../../stages/index.js';
 import type { ColumnValues } from '../../stages/stage.js';
 import { worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
-import type { RecordingOutput, RecordingResult } from './result.js';
+import type { FeatureRow, RecordingOutput, RecordingResult } from './result.js';
 
 /** What assembling needs from the spec, made once for many recordings: the groups it asks for and a row of its feature columns, all null. */
 export interface Assembly { active: ReadonlySet<string>; blank: ColumnValues }
@@ -34,12 +34,16 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
     const severity = worst(flags.map((f) => f.severity));
     const evidence = o.groups.quality?.evidence[c];
     result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags, ...(evidence ? { evidence } : {}) });
-    const values: ColumnValues = Object.assign({ ...blank }, ...groups.map((g) => o.groups[g].columns[c]));
-    return {
+    // One object a row, filled in place (a row has some 150 keys): the fixed columns, the labels, the verdict, then every
+    // feature column null and the groups' values over them, in the same key order as spreading them would give.
+    const row: FeatureRow = {
       recording: o.recording, group: o.group, channel: ch.name, quantity: ch.quantity, unit: ch.unit,
       sample_rate: base.sampleRate, n: base.frames, duration_s: base.frames / base.sampleRate, start_time: startTime, ...labels,
-      quality: severity, flags: flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','), ...values,
+      quality: severity, flags: flags.filter((f) => f.severity !== 'ok').map((f) => f.name).join(','),
     };
+    Object.assign(row, blank);
+    for (const g of groups) Object.assign(row, o.groups[g].columns[c]);
+    return row;
   });
   return result;
 }
