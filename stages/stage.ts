@@ -1,5 +1,6 @@
 // The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
 import type { Flag } from './quality/flag.js';
+import { freshBuffer } from './scratch.js';
 
 /** What a stage knows about the channel it reduces, in engineering units. */
 export interface ChannelContext {
@@ -86,4 +87,4 @@ export interface StageDefinition<Options = unknown> {
 }
 
 /** The channel's lender of working buffers: the recording's scratch where there is one, new buffers otherwise. */
-export const scratchOf = (ctx: ChannelContext): ((length: number) => Float64Array) => (ctx.scratch ? (n) => ctx.scratch!(n) : (n) => new Float64Array(n));
+export const scratchOf = (ctx: ChannelContext): ((length: number) => Float64Array) => (ctx.scratch ? (n) => ctx.scratch!(n) : freshBuffer);
