@@ -17,6 +17,8 @@ import { fixture, tempDir } from './helpers.js';
 const RUNS = Number(process.env.QUERN_FUZZ_RUNS ?? 250); // per seed file
 const SEED = Number(process.env.QUERN_FUZZ_SEED ?? 20261203);
 const RSS_LIMIT = 2 * 1024 ** 3;
+/** Damaged copies between two reads of the good copy. */
+const GOOD_EVERY = 10;
 
 interface Seed { name: string; bytes: Buffer; format: Format; sampleRate?: number; layout?: RawLayout; hdf5?: Hdf5Layout }
 const file = (...p: string[]) => readFileSync(fixture(...p));
@@ -96,13 +98,17 @@ const job = (seed: Seed, path: string): RecordingJob => ({
   reader: { hdf5: seed.hdf5 ?? null, flac: null }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 4096,
 });
 
-/** Reads every sample through the reader: 'read', or the RecordingError's reason; anything else is thrown on. */
+/** Reads every sample through the reader: 'read' and a sum over the samples, or the RecordingError's reason; anything else is thrown on. */
 async function readThrough(j: RecordingJob): Promise<string> {
   let rec;
   try {
     rec = await openRecording(j.path, { format: j.format, sampleRate: j.sampleRate, layout: j.layout, ...j.reader, chunkFrames: j.chunkFrames });
-    for await (const chunk of rec.chunks()) if (chunk.length !== rec.channelCount) throw new Error('a chunk without every channel');
-    return 'read';
+    let sum = 0, n = 0;
+    for await (const chunk of rec.chunks()) {
+      if (chunk.length !== rec.channelCount) throw new Error('a chunk without every channel');
+      for (const c of chunk) for (let i = 0; i < c.length; i++) { sum += (i + 1) * c[i]; n++; }
+    }
+    return `read ${n} samples, sum ${sum}`;
   } catch (e) {
     if (e instanceof RecordingError) return e.message;
     throw e;
@@ -113,12 +119,16 @@ async function readThrough(j: RecordingJob): Promise<string> {
 
 describe(`every reader survives damaged files (fast-check, seed ${SEED}, ${RUNS} cases a seed file)`, () => {
   const dir = tempDir('quern-fuzz-');
-  it.each(SEEDS.map((s) => [s.name, s] as const))('%s: each damaged copy reduces or fails with a reason', async (_, seed) => {
-    const path = join(dir, `case-${seed.name}`);
+  it.each(SEEDS.map((s) => [s.name, s] as const))('%s: each damaged copy reduces or fails with a reason, and leaves the reader able to read a good copy', async (_, seed) => {
+    const path = join(dir, `case-${seed.name}`), good = join(dir, `good-${seed.name}`);
     // The undamaged file reduces: the fuzzing starts from a good recording.
     writeFileSync(path, seed.bytes);
+    writeFileSync(good, seed.bytes);
     const clean = await computeRecording(job(seed, path));
     expect(clean.reason ?? 'reduced').toBe('reduced');
+    // What a damaged file leaves behind (a library's memory it corrupted, a buffer it left dirty) must not reach the next file.
+    const goodSamples = await readThrough(job(seed, good));
+    expect(goodSamples).toMatch(/^read /);
     const outcomes = { read: 0, failed: 0 };
     await fc.assert(
       fc.asyncProperty(fc.array(mutation, { minLength: 1, maxLength: 3 }), async (mutations) => {
@@ -126,15 +136,17 @@ describe(`every reader survives damaged files (fast-check, seed ${SEED}, ${RUNS}
         const started = performance.now();
         // A failure is a reason the reader gave (RecordingError), never an exception it did not expect.
         const outcome = await readThrough(job(seed, path));
-        outcomes[outcome === 'read' ? 'read' : 'failed']++;
+        outcomes[outcome.startsWith('read ') ? 'read' : 'failed']++;
         expect(outcome.length).toBeGreaterThan(0);
         expect(performance.now() - started).toBeLessThan(10_000);
         expect(process.memoryUsage().rss).toBeLessThan(RSS_LIMIT);
+        if ((outcomes.read + outcomes.failed) % GOOD_EVERY === 0) expect(await readThrough(job(seed, good))).toBe(goodSamples);
       }),
       { seed: SEED + seed.name.length, numRuns: RUNS, endOnFailure: true },
     );
     expect(outcomes.read + outcomes.failed).toBe(RUNS);
-  });
+    expect(await readThrough(job(seed, good))).toBe(goodSamples);
+  }, Math.max(120_000, RUNS * 30));
 
   it('CSV columns full of NaN, empty cells or text reduce, counted as missing samples', async () => {
     const path = join(dir, 'nan.csv');

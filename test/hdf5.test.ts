@@ -1,6 +1,9 @@
 // The HDF5 reader against files written and read back by h5py 3.7 (HDF5 1.10.8) (test/fixtures/make-format-fixtures.py).
 import { describe, expect, it } from 'vitest';
+import { Tinypool } from 'tinypool';
+import { RETIRE_AFTER_SET_ASIDE, reduceBatch } from '../pipeline/reduce/worker.js';
 import type { Hdf5Layout } from '../stages/read/hdf5.js';
+import { hdf5Instances, hdf5SetAside } from '../stages/read/hdf5-library.js';
 import { expectedSamples, formatFixture } from './format-fixtures.js';
 import { fixture, readAll } from './helpers.js';
 
@@ -40,5 +43,61 @@ describe('HDF5 reader against h5py', () => {
     await expect(read('acq-rows.h5', { datasets: ['/acq'] })).rejects.toThrow(/"\/acq" is a Group, not a dataset/);
     await expect(read('pcm12in16.wav', { datasets: ['/x'] })).rejects.toThrow(/not an HDF5 file/);
     await expect(read('per-channel.h5', { datasets: ['/ch/a'] }, null)).rejects.toThrow(/no sample rate/);
+  });
+});
+
+// A damaged file can stop the library's instance for good (HDF5 calls abort(), or the WebAssembly traps), sometimes only after
+// earlier damaged files corrupted its memory, so that a good file is the one that meets the stop. The stops are made here
+// on purpose: the instance's own methods throw what a stopped instance throws (a WebAssembly.RuntimeError).
+describe('HDF5 reader when the library stops', () => {
+  const rows = layout({ datasets: ['/acq/signals'], channel_axis: 1, sample_rate_attribute: 'sample_rate', start_time_attribute: 'start_time' });
+  const columns = layout({ datasets: ['data'], channel_axis: 0, sample_rate_attribute: '/@fs', start_time_attribute: 't0' });
+  const stop = () => { throw new WebAssembly.RuntimeError('Aborted(native code called abort())'); };
+  // The module of instance k, as the reader loads it: the package's own first, then the same module under another URL.
+  const instance = async (k: number) => {
+    const m = (await import(k === 0 ? 'h5wasm/node' : `${import.meta.resolve('h5wasm/node')}?instance=${k}`)) as typeof import('h5wasm');
+    await m.ready;
+    return m;
+  };
+
+  it('reads the file again on a fresh instance, blames a file only when the fresh one stops too, and reads the next file', async () => {
+    await expectFixture('acq-rows.h5', rows);
+    const n = hdf5Instances(), aside = hdf5SetAside();
+    // The instance in use stops in the middle of the samples: the same samples come from a fresh instance.
+    const first = await instance(n - 1);
+    const slice = first.Dataset.prototype.slice;
+    first.Dataset.prototype.slice = stop;
+    try { await expectFixture('acq-columns.h5', columns); } finally { first.Dataset.prototype.slice = slice; }
+    expect([hdf5Instances(), hdf5SetAside()]).toEqual([n + 1, aside + 1]);
+    // The instance in use and the next fresh one both stop while the file is opened: the file is blamed, with a reason.
+    const [now, next] = [await instance(n), await instance(n + 1)];
+    const gets = [now.File.prototype.get, next.File.prototype.get];
+    now.File.prototype.get = next.File.prototype.get = stop;
+    try {
+      await expect(readAll(fixture('formats', 'acq-rows.h5'), { hdf5: rows })).rejects.toThrow(/^the HDF5 library stopped while opening the file \(Aborted\(native code called abort\(\)\)\), and again on a fresh instance: the file is damaged; copy it again$/);
+    } finally { [now.File.prototype.get, next.File.prototype.get] = gets; }
+    expect([hdf5Instances(), hdf5SetAside()]).toEqual([n + 2, aside + 3]);
+    // The next file has an instance of its own and reads as h5py wrote it.
+    await expectFixture('per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b', '/ch/c'] }), 1000);
+    expect(hdf5Instances()).toBe(n + 3);
+  });
+
+  it('asks for its thread to be replaced once it has set aside instances enough (each keeps its memory)', async () => {
+    // What the worker's task hands the pool, out of the wrapper that moves its memory.
+    const reply = async () => (await reduceBatch([]) as unknown as Record<symbol, unknown>)[Tinypool.valueSymbol];
+    while (hdf5SetAside() < RETIRE_AFTER_SET_ASIDE) {
+      expect(await reply()).toEqual({ records: [], retire: false });
+      await expectFixture('acq-rows.h5', rows);
+      const m = await instance(hdf5Instances() - 1);
+      const get = m.File.prototype.get;
+      m.File.prototype.get = stop;
+      try { await expectFixture('acq-rows.h5', rows); } finally { m.File.prototype.get = get; }
+    }
+    expect(await reply()).toEqual({ records: [], retire: true });
+  });
+
+  it('takes files one at a time: files read at once all read whole', async () => {
+    const files: [string, Hdf5Layout, number | null][] = [['acq-rows.h5', rows, null], ['acq-columns.h5', columns, null], ['per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b', '/ch/c'] }), 1000]];
+    await Promise.all([...files, ...files].map(([file, l, rate]) => expectFixture(file, l, rate)));
   });
 });

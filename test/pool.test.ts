@@ -1,5 +1,6 @@
 // The worker pool on real threads: one thread starts first, more only for work that can use them, never more than asked.
 import { afterEach, describe, expect, it } from 'vitest';
+import type { BatchReply } from '../pipeline/reduce/batch.js';
 import { openPool, type Pool } from '../pipeline/reduce/pool.js';
 
 let pool: Pool | null = null;
@@ -35,5 +36,19 @@ describe('openPool', () => {
     pool.widen(4);
     await Promise.all([pool.run('reduceBatch', []), pool.run('reduceBatch', [])]);
     expect(pool.started()).toBe(1);
+  });
+
+  it('replaces every thread when renewed, and goes on taking tasks on new ones', async () => {
+    pool = openPool(2);
+    pool.widen(2);
+    await Promise.all([pool.run('reduceBatch', []), pool.run('reduceBatch', [])]);
+    const before = pool.threadIds();
+    expect(before).toHaveLength(2);
+    await pool.renew();
+    const replies = await Promise.all([pool.run<BatchReply>('reduceBatch', []), pool.run<BatchReply>('reduceBatch', [])]);
+    expect(replies).toEqual([{ records: [], retire: false }, { records: [], retire: false }]);
+    const after = pool.threadIds();
+    expect(after).toHaveLength(2);
+    expect(after.filter((id) => before.includes(id))).toEqual([]);
   });
 });

@@ -30,6 +30,8 @@ export interface StoreFacts {
 export interface BatchItem { job: RecordingJob; store: StoreFacts }
 /** A record as it travels to the main thread: its bytes only; the facts are in them, read where they are needed. */
 export interface BatchResult { bytes: Uint8Array }
+/** A batch's records, and whether the thread asks to be replaced (it holds memory only its end gives back). */
+export interface BatchReply { records: BatchResult[]; retire: boolean }
 /** A record and its facts. */
 export interface StoredRecord { facts: EntryFacts; bytes: Uint8Array }
 

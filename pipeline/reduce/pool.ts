@@ -8,7 +8,7 @@ import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { encodeRecord, recordFacts } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
-import type { BatchItem, BatchResult, StoredRecord } from './batch.js';
+import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
 
 /** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
 function workerFile(): string {
@@ -29,6 +29,10 @@ export interface Pool {
   run<T>(task: string, input: unknown): Promise<T>;
   /** Threads started so far. */
   started(): number;
+  /** The ids of the threads running now. */
+  threadIds(): number[];
+  /** Replaces every thread, each once its task is done: for a thread that holds memory only its end gives back. */
+  renew(): Promise<void>;
   destroy(): Promise<void>;
 }
 
@@ -58,6 +62,8 @@ export function openPool(threads = availableParallelism()): Pool {
     },
     run: async (name, input) => (await get()).run(input, { name }),
     started: () => pool?.threads.length ?? 0,
+    threadIds: () => pool?.threads.map((t) => t.threadId) ?? [],
+    renew: async () => { await pool?.recycleWorkers(); },
     // Safe to call again: the run stops its threads once the outputs are written, and again on its way out.
     destroy: async () => { const p = made; made = null; pool = null; await (await p?.catch(() => null))?.destroy(); },
   };
@@ -105,21 +111,23 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
     let results: StoredRecord[];
     // The memory the worker moved here, given back once the batch is stored.
     const moved: ArrayBuffer[] = [];
+    let retire = false;
+    const take = (reply: BatchReply) => {
+      moved.push(...ownBuffers(reply.records.map((r) => r.bytes)));
+      retire ||= reply.retire;
+      return reply.records.map(withFacts);
+    };
     try {
-      const sent = await pool.run<BatchResult[]>('reduceBatch', items);
-      moved.push(...ownBuffers(sent.map((r) => r.bytes)));
-      results = sent.map(withFacts);
+      results = take(await pool.run<BatchReply>('reduceBatch', items));
     } catch (e) {
       // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
       results = [];
       for (const item of items) {
-        try {
-          const alone = await pool.run<BatchResult[]>('reduceBatch', [item]);
-          moved.push(...ownBuffers(alone.map((r) => r.bytes)));
-          results.push(...alone.map(withFacts));
-        } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
+        try { results.push(...take(await pool.run<BatchReply>('reduceBatch', [item]))); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
+    // A thread that asks to be replaced is, once its batch is back (the others with it, each after its task).
+    if (retire) await pool.renew();
     try {
       if (!failure) await onBatch(results, batch);
     } catch (e) { failure ??= e; } finally { release(moved); }

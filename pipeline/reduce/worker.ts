@@ -2,7 +2,8 @@
 // move to the main thread rather than being copied: nothing is left behind in either heap.
 import { Tinypool } from 'tinypool';
 import type { Candidate, SliceOutput, SliceTask } from '../outputs/slice.js';
-import { batchBuffers, reduceBatch as reduce, type BatchItem, type BatchResult } from './batch.js';
+import { hdf5SetAside } from '../../stages/read/hdf5-library.js';
+import { batchBuffers, reduceBatch as reduce, type BatchItem, type BatchReply } from './batch.js';
 
 /** The table code (Arrow) loads when a first slice is asked for, not while a thread starts to reduce. */
 const tables = () => import('../outputs/slice.js');
@@ -10,11 +11,14 @@ const tables = () => import('../outputs/slice.js');
 const moved = <T>(value: T, buffers: ArrayBuffer[]): T =>
   Tinypool.move({ [Tinypool.transferableSymbol]: buffers, [Tinypool.valueSymbol]: value } as unknown as Parameters<typeof Tinypool.move>[0]) as unknown as T;
 
-export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
+/** HDF5 instances a thread may set aside (some 8 MB each, after files that stopped the library) before it asks to be replaced. */
+export const RETIRE_AFTER_SET_ASIDE = 4;
+
+export async function reduceBatch(items: BatchItem[]): Promise<BatchReply> {
   const out = await reduce(items);
   // Every run that reduces writes tables next: their code loads once this batch has gone, while the main thread stores it.
   if (items.length) setImmediate(() => { tables().catch(() => {}); });
-  return moved(out, batchBuffers(out));
+  return moved({ records: out, retire: hdf5SetAside() >= RETIRE_AFTER_SET_ASIDE }, batchBuffers(out));
 }
 
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {

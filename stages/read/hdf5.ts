@@ -3,7 +3,8 @@
 // hyperslabs of a bounded number of frames.
 import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
-import { DECLARE_IN_ARCHIVE } from './declare-how.js';
+import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
+import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
 export interface Hdf5Layout {
@@ -17,20 +18,8 @@ export interface Hdf5Layout {
   start_time_attribute: string | null;
 }
 
-type H5 = typeof import('h5wasm');
 type Dataset = InstanceType<H5['Dataset']>;
 type HdfFile = InstanceType<H5['File']>;
-
-let library: Promise<H5> | null = null;
-/** The library, loaded once per thread on first use; HDF5's own errors are raised as exceptions rather than printed. */
-function h5wasm(): Promise<H5> {
-  library ??= import('h5wasm/node').then(async (m) => {
-    const module = await m.ready;
-    module.activate_throwing_error_handler();
-    return m as unknown as H5;
-  });
-  return library;
-}
 
 /** Most bytes one stored chunk may have: HDF5 decompresses a chunk whole before taking a hyperslab from it. */
 const MAX_STORED_CHUNK_BYTES = 256 * 1024 * 1024;
@@ -66,11 +55,11 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
   const name = at >= 0 ? spec.slice(at + 1) : spec;
   for (const place of places) {
     let obj;
-    try { obj = file.get(place); } catch { obj = null; }
+    try { obj = file.get(place); } catch (e) { rethrowStop(e); obj = null; }
     if (!obj || !('attrs' in obj)) continue;
     const attrs = (obj as { attrs: Record<string, { value: unknown }> }).attrs;
     if (Object.prototype.hasOwnProperty.call(attrs, name)) {
-      try { return attrs[name].value; } catch (e) { throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
+      try { return attrs[name].value; } catch (e) { rethrowStop(e); throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
     }
   }
   throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct ${where} or check the file`);
@@ -96,12 +85,12 @@ interface Source { ds: Dataset; path: string; shape: number[]; type: number; siz
 
 function datasetOf(file: HdfFile, path: string, where: string): Source {
   let obj;
-  try { obj = file.get(path); } catch (e) { throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
+  try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
   if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check ${where}`);
   if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" is a ${obj.constructor.name}, not a dataset; name the dataset in ${where}`);
   const ds = obj as Dataset;
   let m;
-  try { m = ds.metadata; } catch (e) { throw new RecordingError(`dataset "${path}": its description cannot be read: ${firstLine(e)}; the file is damaged`); }
+  try { m = ds.metadata; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}": its description cannot be read: ${firstLine(e)}; the file is damaged`); }
   const shape = m.shape ?? [];
   // HDF5 type classes: 0 integer, 1 float.
   if (!((m.type === 0 && [1, 2, 4, 8].includes(m.size)) || (m.type === 1 && (m.size === 4 || m.size === 8))) || m.vlen) {
@@ -120,16 +109,19 @@ function normaliser(s: Source): (v: number | bigint) => number {
   return s.signed ? (v) => Number(v) / full : (v) => (Number(v) - full) / full;
 }
 
-export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+/** A file opened on an instance: its datasets found and checked against the layout. */
+interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null }
+
+const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
+
+function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: number | null, declareHow: DeclareHow): Opened {
   const where = declareHow.where;
-  if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
-  if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
-  const h5 = await h5wasm();
   let file: HdfFile;
   try {
     file = new h5.File(path, 'r');
     if ((file as unknown as { file_id: bigint }).file_id < 0n) throw new Error('the library could not open it');
   } catch (e) {
+    rethrowStop(e);
     throw new RecordingError(`the HDF5 file cannot be opened: ${firstLine(e)}; the file is damaged or cut short: copy it again`);
   }
   try {
@@ -157,42 +149,82 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     const sampleRate = fromAttribute ?? declaredSampleRate;
     if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; set ${where.sample_rate} or ${where['hdf5.sample_rate_attribute']}`);
     const startTime = layout.start_time_attribute ? startTimeOf(file, first.path, layout.start_time_attribute, where['hdf5.start_time_attribute']) : null;
+    return { h5, file, sources, channels, frames, axis, sampleRate, startTime };
+  } catch (e) {
+    closeQuietly(file);
+    throw e;
+  }
+}
+
+/** The message for a file that stopped a fresh instance too. */
+const stoppedTwice = (doing: string, e: unknown) => `the HDF5 library stopped while ${doing} (${firstLine(e)}), and again on a fresh instance: the file is damaged; copy it again`;
+
+export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+  if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
+  const hdf5 = layout;
+  if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
+  const release = await takeTurn();
+  try {
+    /** Opens the file on the thread's instance, or on a fresh one after a stop. */
+    const open = async (): Promise<Opened> => {
+      const h5 = await h5wasm();
+      try { return openOn(h5, path, hdf5, declaredSampleRate, declareHow); } catch (e) { if (!libraryStopped(e)) throw e; setAside(h5); }
+      const fresh = await h5wasm();
+      try { return openOn(fresh, path, hdf5, declaredSampleRate, declareHow); } catch (e) { if (!libraryStopped(e)) throw e; setAside(fresh); throw new RecordingError(stoppedTwice('opening the file', e)); }
+    };
+    let o = await open();
+    const { channels, frames, axis, sampleRate, startTime } = o;
+    const first = o.sources[0];
     const chunk = boundedChunkFrames(chunkFrames, channels);
-    const norm = sources.map(normaliser);
+    const norm = o.sources.map(normaliser);
     const integer = first.type === 0;
+    /** Samples of one dataset; after a stop, the file is opened again on a fresh instance and the same samples read again. */
+    const slice = async (s: number, ranges: unknown, start: number, end: number): Promise<ArrayLike<number | bigint>> => {
+      const unreadable = (e: unknown) => new RecordingError(`dataset "${o.sources[s].path}": samples ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+      try { return o.sources[s].ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
+        if (!libraryStopped(e)) throw unreadable(e);
+        setAside(o.h5);
+      }
+      o = await open();
+      try { return o.sources[s].ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
+        if (!libraryStopped(e)) throw unreadable(e);
+        setAside(o.h5);
+        throw new RecordingError(stoppedTwice(`reading samples ${start} to ${end} of dataset "${o.sources[s].path}"`, e));
+      }
+    };
     async function* chunks(): AsyncGenerator<Float64Array[]> {
-      const out = Array.from({ length: channels }, () => new Float64Array(chunk));
-      for (let start = 0; start < frames; start += chunk) {
-        const n = Math.min(chunk, frames - start);
-        const rows: [number, number] = [start, start + n];
-        for (let s = 0; s < sources.length; s++) {
-          const src = sources[s];
-          let block: ArrayLike<number | bigint>;
-          const ranges = src.shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
-          try {
-            block = src.ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>;
-          } catch (e) {
-            throw new RecordingError(`dataset "${src.path}": samples ${start} to ${start + n} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+      try {
+        const out = Array.from({ length: channels }, () => new Float64Array(chunk));
+        for (let start = 0; start < frames; start += chunk) {
+          const n = Math.min(chunk, frames - start);
+          const rows: [number, number] = [start, start + n];
+          for (let s = 0; s < norm.length; s++) {
+            const shape = o.sources[s].shape;
+            const ranges = shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
+            const block = await slice(s, ranges, start, start + n);
+            const f = norm[s];
+            if (norm.length > 1) { for (let i = 0; i < n; i++) out[s][i] = f(block[i]); continue; }
+            // Samples × channels (axis 1) interleave the channels; channels × samples (axis 0) hold each channel's run in turn.
+            for (let c = 0; c < channels; c++) {
+              const into = out[c];
+              if (axis === 1) for (let i = 0, at = c; i < n; i++, at += channels) into[i] = f(block[at]);
+              else for (let i = 0, at = c * n; i < n; i++, at++) into[i] = f(block[at]);
+            }
           }
-          const f = norm[s];
-          if (sources.length > 1) { for (let i = 0; i < n; i++) out[s][i] = f(block[i]); continue; }
-          // Samples × channels (axis 1) interleave the channels; channels × samples (axis 0) hold each channel's run in turn.
-          for (let c = 0; c < channels; c++) {
-            const o = out[c];
-            if (axis === 1) for (let i = 0, at = c; i < n; i++, at += channels) o[i] = f(block[at]);
-            else for (let i = 0, at = c * n; i < n; i++, at++) o[i] = f(block[at]);
-          }
+          yield n === chunk ? out : out.map((a) => a.subarray(0, n));
         }
-        yield n === chunk ? out : out.map((a) => a.subarray(0, n));
+      } finally {
+        // Its samples read (or not, after an error), the file no longer needs the instance: the next file may take its turn.
+        release();
       }
     }
     return {
       format: 'hdf5', channelCount: channels, sampleRate, frames,
       encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
-      startTime, channelNames: null, notes: [], chunks, close: async () => { file.close(); },
+      startTime, channelNames: null, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
     };
   } catch (e) {
-    file.close();
+    release();
     throw e;
   }
 }
