@@ -76,6 +76,15 @@ describe('true peak (ITU-R BS.1770-4 Annex 2: 4× oversampling)', () => {
     }
   });
 
+  it('chunks longer than the scanner\'s block are scanned in blocks with the same result as interpolating every sample', () => {
+    for (let seed = 1; seed <= 3; seed++) {
+      const x = bandLimited(50_000 + seed * 1013, 1 / 2.56, seed * 7);
+      for (const chunks of [[65536], [16336], [16337, 40000]]) {
+        for (const simd of [false, true]) expect(truePeakOf(x, Math.cos(Math.PI / 2.56), chunks, simd).truePeak, `seed ${seed}, chunks ${chunks}`).toBeCloseTo(fullRate(x), 12);
+      }
+    }
+  });
+
   it('takes a flat top (a tacho pulse, a clipped stretch) as its own peak, not the ringing of its edges', () => {
     const x = Float64Array.from({ length: 12800 }, (_, i) => ((i / 12800) * 49.5) % 1 < 0.1 ? 5 : 0);
     expect(truePeakOf(x, Math.cos(Math.PI / 5.12))).toEqual({ samplePeak: 5, truePeak: 5 });

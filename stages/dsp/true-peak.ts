@@ -131,6 +131,9 @@ export function typescriptPeakScan(): PeakScan {
  * The first and last SUPPORT samples count with their sample values only (no interpolation across the recording's ends), and so
  * do flat tops of three or more equal samples.
  */
+/** Samples scanned at once: with the carry, a block fills the scanner's room of 16,384 exactly. */
+const BLOCK = 16384 - 2 * HALF;
+
 export class TruePeak {
   /** The last 2·HALF samples of the stream so far (zeros before the first sample), carried ahead of each new chunk. */
   private readonly carried = new Float64Array(2 * HALF);
@@ -144,6 +147,12 @@ export class TruePeak {
   }
 
   push(x: Float64Array): void {
+    // In blocks of at most BLOCK samples with their carry: the scanner's room stays small (a power of two of 16,384 samples,
+    // not twice a whole chunk), and each sample is judged exactly as in one long block.
+    if (x.length > BLOCK) {
+      for (let at = 0; at < x.length; at += BLOCK) this.push(x.subarray(at, Math.min(x.length, at + BLOCK)));
+      return;
+    }
     const carry = 2 * HALF, buf = this.scanner.block(carry + x.length);
     buf.set(this.carried);
     buf.set(x, carry);

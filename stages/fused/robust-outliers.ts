@@ -1,7 +1,8 @@
 // Samples far from the chunk's median in units of its robust spread: median and 1.4826 × median absolute deviation
 // (Hampel 1974) of every STRIDE-th finite sample of the chunk (Rousseeuw & Croux 1993 for the constant), then each
 // sample beyond `sigmas` of them is handed to a listener.
-import type { ChannelContext } from '../stage.js';
+import { scratchOf, type ChannelContext } from '../stage.js';
+import { freshBuffer } from '../scratch.js';
 import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
 import { median, medianBins } from '../dsp/median.js';
@@ -12,14 +13,15 @@ const KEPT = 1024;
 
 export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'room'> implements Accumulator {
   /** Indices of the current chunk's outliers (the first KEPT of them), handed to the listener after it. */
-  readonly arrays = { hits: new Float64Array(KEPT) };
+  readonly arrays: { hits: Float64Array };
   // NaN is never beyond the limit; a chunk with too small a sample has an infinite limit.
   readonly each = 'const d = v - $med; if (d > $limit || d < -$limit) { if ($found < $room) $hits[$found] = n; $found++; }';
-  private sub = new Float64Array(0);
+  private sub: Float64Array = new Float64Array(0);
   private readonly bins = medianBins();
 
-  constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void) {
+  constructor(private readonly sigmas: number, private readonly floor: number, private readonly out: (n: number) => void, private readonly buffer: (length: number) => Float64Array = freshBuffer) {
     super(`robust-outliers:${sigmas}:${floor}`, { med: 0, limit: Infinity, found: 0, room: KEPT });
+    this.arrays = { hits: buffer(KEPT) };
   }
 
   afterChunk(x: Float64Array, n0: number): void {
@@ -34,7 +36,7 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
   }
 
   beforeChunk(x: Float64Array): void {
-    if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = new Float64Array(Math.ceil(x.length / STRIDE));
+    if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = this.buffer(Math.ceil(x.length / STRIDE));
     // Every STRIDE-th finite sample is plenty for the median and MAD of a chunk, at a fraction of the sorting.
     let m = 0;
     for (let i = 0; i < x.length; i += STRIDE) if (x[i] - x[i] === 0) this.sub[m++] = x[i];
@@ -50,4 +52,4 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
 
 /** Outliers beyond `sigmas` robust standard deviations (at least `floor` each), reported to `out` by sample index. */
 export const robustOutliersOf = (ctx: ChannelContext, sigmas: number, floor: number, out: (n: number) => void) =>
-  fusedOf(ctx, `robust-outliers:${sigmas}:${floor}`, () => new RobustOutliers(sigmas, floor, out));
+  fusedOf(ctx, `robust-outliers:${sigmas}:${floor}`, () => new RobustOutliers(sigmas, floor, out, scratchOf(ctx)));
