@@ -121,6 +121,9 @@ export function typescriptPeakScan(): PeakScan {
   };
 }
 
+/** Samples scanned at once: with the carry, a block fills the scanner's room of 16,384 exactly. */
+const BLOCK = 16384 - 2 * HALF;
+
 /**
  * Largest sample magnitude and true peak of a stream, fed in chunks of any length.
  * Candidates: samples that are a local maximum of |x| and at least `guard` × the running true peak. With guard = cos(π·f/fs)
@@ -131,9 +134,6 @@ export function typescriptPeakScan(): PeakScan {
  * The first and last SUPPORT samples count with their sample values only (no interpolation across the recording's ends), and so
  * do flat tops of three or more equal samples.
  */
-/** Samples scanned at once: with the carry, a block fills the scanner's room of 16,384 exactly. */
-const BLOCK = 16384 - 2 * HALF;
-
 export class TruePeak {
   /** The last 2·HALF samples of the stream so far (zeros before the first sample), carried ahead of each new chunk. */
   private readonly carried = new Float64Array(2 * HALF);
