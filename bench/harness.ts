@@ -62,6 +62,22 @@ export function reducePhaseScaling(one: QuernMeasurement, many: QuernMeasurement
 }
 
 /**
+ * `jobs` workers against one, whole commands and the reduce phase alone, as the median over pairs run one after the other
+ * (the given pair, then `pairs` − 1 more: one worker, then `jobs`, and again): on a shared machine a single pair swings by a
+ * tenth either way as the machine speeds up or slows down between its two runs.
+ */
+export function pairedScaling(one: QuernMeasurement, many: QuernMeasurement, archive: string, jobs: number, pairs = 3): string {
+  const whole = [one.wallSeconds / many.wallSeconds], reduce = [one.reduceSeconds / many.reduceSeconds];
+  for (let i = 1; i < pairs; i++) {
+    const a = quern(archive, 1), b = quern(archive, jobs);
+    whole.push(a.wallSeconds / b.wallSeconds);
+    reduce.push(a.reduceSeconds / b.reduceSeconds);
+  }
+  const text = (r: number[]) => `${median(Float64Array.from(r)).toFixed(2)}× (pairs: ${r.map((x) => `${x.toFixed(2)}×`).join(', ')})`;
+  return `median of ${pairs} alternating pairs: ${text(whole)} whole command; the reduce phase alone ${text(reduce)}`;
+}
+
+/**
  * How fast `threads` workers could run at best, from the one-worker run: its processor time (every thread) shared out
  * evenly over the cores, against its wall time. A one-worker run that already keeps more than one core busy (the main
  * thread, V8's compiler and collector threads beside the worker) leaves less than a core's worth for a second worker.
