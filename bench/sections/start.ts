@@ -31,11 +31,16 @@ function collections(archive: string): ThreadCollections[] {
   return readdirSync(work).filter((f) => f.startsWith(prefix)).map((f) => JSON.parse(readFileSync(join(work, f), 'utf8')) as ThreadCollections);
 }
 
-export function collectorShare(shapes: { label: string; archive: string }[]): void {
-  say('\ngarbage collection, one worker: each thread\'s collector pauses against its own time (target < 2 %)');
+/** Each thread's share as the median of `runs` runs (a shared machine's pauses vary from run to run), with every run's share beside it. */
+export function collectorShare(shapes: { label: string; archive: string }[], runs = 3): void {
+  say(`\ngarbage collection, one worker: each thread's collector pauses against its own time, the median of ${runs} runs (target < 2 %)`);
   for (const { label, archive } of shapes) {
-    for (const c of collections(archive).sort((a, b) => a.thread.localeCompare(b.thread))) {
-      say(`  ${label.padEnd(40)} ${c.thread.padEnd(12)} ${String(c.collections).padStart(4)} collections ${c.pausesMs.toFixed(0).padStart(5)} ms in ${(c.lifeMs / 1000).toFixed(2)} s: ${((100 * c.pausesMs) / c.lifeMs).toFixed(1)} %`);
+    const byThread = new Map<string, ThreadCollections[]>();
+    for (let r = 0; r < runs; r++) for (const c of collections(archive)) (byThread.get(c.thread) ?? byThread.set(c.thread, []).get(c.thread)!).push(c);
+    for (const [thread, all] of [...byThread].sort(([a], [b]) => a.localeCompare(b))) {
+      const share = (c: ThreadCollections) => (100 * c.pausesMs) / c.lifeMs;
+      const sorted = [...all].sort((a, b) => share(a) - share(b)), mid = sorted[(sorted.length - 1) >> 1];
+      say(`  ${label.padEnd(40)} ${thread.padEnd(12)} ${String(mid.collections).padStart(4)} collections ${mid.pausesMs.toFixed(0).padStart(5)} ms in ${(mid.lifeMs / 1000).toFixed(2)} s: ${share(mid).toFixed(1)} % (runs: ${all.map((c) => `${share(c).toFixed(1)} %`).join(', ')})`);
     }
   }
 }
