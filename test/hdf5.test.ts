@@ -1,11 +1,13 @@
 // The HDF5 reader against files written and read back by h5py 3.7 (HDF5 1.10.8) (test/fixtures/make-format-fixtures.py).
 import { describe, expect, it } from 'vitest';
 import { Tinypool } from 'tinypool';
-import { RETIRE_AFTER_SET_ASIDE, reduceBatch } from '../pipeline/reduce/worker.js';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { RETIRE_ABOVE_HDF5_BYTES, RETIRE_AFTER_SET_ASIDE, reduceBatch } from '../pipeline/reduce/worker.js';
 import type { Hdf5Layout } from '../stages/read/hdf5.js';
-import { hdf5Instances, hdf5SetAside } from '../stages/read/hdf5-library.js';
+import { hdf5Instances, hdf5MemoryBytes, hdf5SetAside } from '../stages/read/hdf5-library.js';
 import { expectedSamples, formatFixture } from './format-fixtures.js';
-import { fixture, readAll } from './helpers.js';
+import { fixture, readAll, tempDir } from './helpers.js';
 
 const layout = (l: Partial<Hdf5Layout>): Hdf5Layout => ({ datasets: [], channel_axis: null, sample_rate_attribute: null, start_time_attribute: null, ...l });
 
@@ -60,6 +62,24 @@ describe('HDF5 reader when the library stops', () => {
     return m;
   };
 
+  // What the worker's task hands the pool, out of the wrapper that moves its memory.
+  const reply = async () => (await reduceBatch([]) as unknown as Record<symbol, unknown>)[Tinypool.valueSymbol];
+
+  // Runs first: the tests after it set instances aside, which asks for a new thread too.
+  it('asks for its thread to be replaced once a damaged header has made the library take over 256 MB, which it never gives back', async () => {
+    expect(await reply()).toEqual({ records: [], retire: false });
+    // One header word changed: the library reserves some 1.3 GB for an address it then finds beyond the file's end.
+    const damaged = Buffer.from(readFileSync(fixture('formats', 'acq-columns.h5')));
+    damaged.writeUInt32BE(12_345_678, 128);
+    const path = join(tempDir(), 'grown.h5');
+    writeFileSync(path, damaged);
+    await expect(readAll(path, { hdf5: columns })).rejects.toThrow(/the HDF5 file cannot be opened: addr overflow/);
+    expect(hdf5MemoryBytes()).toBeGreaterThan(RETIRE_ABOVE_HDF5_BYTES);
+    expect(await reply()).toEqual({ records: [], retire: true });
+    // The thread still reads good files meanwhile.
+    await expectFixture('acq-columns.h5', columns);
+  });
+
   it('reads the file again on a fresh instance, blames a file only when the fresh one stops too, and reads the next file', async () => {
     await expectFixture('acq-rows.h5', rows);
     const n = hdf5Instances(), aside = hdf5SetAside();
@@ -83,8 +103,6 @@ describe('HDF5 reader when the library stops', () => {
   });
 
   it('asks for its thread to be replaced once it has set aside instances enough (each keeps its memory)', async () => {
-    // What the worker's task hands the pool, out of the wrapper that moves its memory.
-    const reply = async () => (await reduceBatch([]) as unknown as Record<symbol, unknown>)[Tinypool.valueSymbol];
     while (hdf5SetAside() < RETIRE_AFTER_SET_ASIDE) {
       expect(await reply()).toEqual({ records: [], retire: false });
       await expectFixture('acq-rows.h5', rows);

@@ -41,6 +41,11 @@ export function setAside(h5: H5): void {
 export const hdf5Instances = () => instances;
 /** Instances this thread has set aside: each still holds its memory, which only the thread's end gives back. */
 export const hdf5SetAside = () => setAsideCount;
+/**
+ * Bytes of WebAssembly memory the instance in use holds. It grows with what HDF5 allocates and never shrinks: one damaged
+ * file whose header asks for a huge buffer grew it from 18 MB to 1.3 GB (a scan of damaged copies of a fixture).
+ */
+export const hdf5MemoryBytes = () => current?.Module.HEAPU8.length ?? 0;
 
 // Files go through a thread's instance one at a time (open to close, or to the end of their samples): a file that stops
 // it then takes no other file with it. h5wasm's calls are synchronous, so nothing that could overlap is lost.
