@@ -87,4 +87,4 @@ export interface StageDefinition<Options = unknown> {
 }
 
 /** The channel's lender of working buffers: the recording's scratch where there is one, new buffers otherwise. */
-export const scratchOf = (ctx: ChannelContext): ((length: number) => Float64Array) => (ctx.scratch ? (n) => ctx.scratch!(n) : freshBuffer);
+export const scratchOf = (ctx: ChannelContext): ((length: number) => Float64Array) => ctx.scratch ?? freshBuffer;

@@ -159,39 +159,41 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
 /** The message for a file that stopped a fresh instance too. */
 const stoppedTwice = (doing: string, e: unknown) => `the HDF5 library stopped while ${doing} (${firstLine(e)}), and again on a fresh instance: the file is damaged; copy it again`;
 
+/**
+ * Runs `read` on the thread's instance; after a stop, sets that instance aside and runs `read` once more on a fresh one.
+ * Only a second stop is the file's: it fails with a reason that says what the library was doing.
+ */
+async function onceMore<T>(read: (h5: H5) => T, doing: string): Promise<T> {
+  for (let attempt = 1; ; attempt++) {
+    const h5 = await h5wasm();
+    try { return read(h5); } catch (e) {
+      if (!libraryStopped(e)) throw e;
+      setAside(h5);
+      if (attempt === 2) throw new RecordingError(stoppedTwice(doing, e));
+    }
+  }
+}
+
 export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
   if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
   const hdf5 = layout;
   if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
   const release = await takeTurn();
   try {
-    /** Opens the file on the thread's instance, or on a fresh one after a stop. */
-    const open = async (): Promise<Opened> => {
-      const h5 = await h5wasm();
-      try { return openOn(h5, path, hdf5, declaredSampleRate, declareHow); } catch (e) { if (!libraryStopped(e)) throw e; setAside(h5); }
-      const fresh = await h5wasm();
-      try { return openOn(fresh, path, hdf5, declaredSampleRate, declareHow); } catch (e) { if (!libraryStopped(e)) throw e; setAside(fresh); throw new RecordingError(stoppedTwice('opening the file', e)); }
-    };
-    let o = await open();
+    let o = await onceMore((h5) => openOn(h5, path, hdf5, declaredSampleRate, declareHow), 'opening the file');
     const { channels, frames, axis, sampleRate, startTime } = o;
     const first = o.sources[0];
     const chunk = boundedChunkFrames(chunkFrames, channels);
     const norm = o.sources.map(normaliser);
     const integer = first.type === 0;
-    /** Samples of one dataset; after a stop, the file is opened again on a fresh instance and the same samples read again. */
-    const slice = async (s: number, ranges: unknown, start: number, end: number): Promise<ArrayLike<number | bigint>> => {
-      const unreadable = (e: unknown) => new RecordingError(`dataset "${o.sources[s].path}": samples ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+    /** Samples of one dataset; after a stop, the file is opened again on the fresh instance and the same samples read again. */
+    const slice = (s: number, ranges: unknown, start: number, end: number) => onceMore((h5) => {
+      if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow);
       try { return o.sources[s].ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
-        if (!libraryStopped(e)) throw unreadable(e);
-        setAside(o.h5);
+        rethrowStop(e);
+        throw new RecordingError(`dataset "${o.sources[s].path}": samples ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
       }
-      o = await open();
-      try { return o.sources[s].ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
-        if (!libraryStopped(e)) throw unreadable(e);
-        setAside(o.h5);
-        throw new RecordingError(stoppedTwice(`reading samples ${start} to ${end} of dataset "${o.sources[s].path}"`, e));
-      }
-    };
+    }, `reading samples ${start} to ${end} of dataset "${o.sources[s].path}"`);
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
         const out = Array.from({ length: channels }, () => new Float64Array(chunk));
