@@ -6,6 +6,7 @@ import formats from 'ajv-formats';
 
 const addFormats = formats as unknown as (ajv: Ajv) => Ajv;
 import { beforeAll, describe, expect, it } from 'vitest';
+import { storedEntries } from '../pipeline/plan/cache.js';
 import { launchBrowser, openPage } from './browser.js';
 import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
 
@@ -56,6 +57,16 @@ describe('quality report of the sample archive', () => {
     const flagged = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'warn' || c.severity === 'fail').map((c: any) => `${r.recording} ${c.channel}`));
     expect(flagged).toEqual(['nightly/2026-11-19/pump-endurance.wav acc_de', 'nightly/2026-11-21/pump-endurance.wav pressure', 'quicklook/2026-11-18_quicklook.wav acc_de']);
     expect(quality.totals.channels.warn).toBe(0);
+  });
+
+  it('stores the pictures\' data of a channel to check, not pictures: the report draws only those it shows', async () => {
+    const stored: { recording: string; channel: string; kept: string[] }[] = [];
+    for await (const e of storedEntries(out)) {
+      (e.groups.quality?.evidence ?? []).forEach((ev, c) => { if (ev) stored.push({ recording: e.recording, channel: e.base!.channels[c].name, kept: Object.keys(ev) }); });
+    }
+    const flagged = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'warn' || c.severity === 'fail').map((c: any) => `${r.recording} ${c.channel}`));
+    expect(stored.map((x) => `${x.recording} ${x.channel}`).sort()).toEqual(flagged.sort());
+    expect(stored.every((x) => x.kept.join() === 'data')).toBe(true);
   });
 
   it('renders in headless Chromium with no console errors and shows every channel to check or not to use, with its pictures', async () => {

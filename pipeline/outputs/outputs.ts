@@ -21,6 +21,9 @@ import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
 import type { Located } from '../store/pack.js';
 
+/** Pictures one thread draws at least before a second one is asked (a thread loads the charting code first: some 0.3 s). */
+const PICTURES_A_TASK = 24;
+
 /** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
 export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string }
 
@@ -188,9 +191,12 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
 
     if (qualityHtml) {
       for (const f of [spools.overview, spools.fail, spools.warn, spools.notes]) await f.close({ durable: false });
-      // Pictures for the first channels, unusable ones first: fetched from the entries by a worker.
+      // Pictures for the first channels, unusable ones first: drawn from the entries' data, shared among the threads.
       const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
-      const charts = pictured.length ? await o.pool.run<(string[] | null)[]>('picturesOf', pictured) : [];
+      const share = Math.max(PICTURES_A_TASK, Math.ceil(pictured.length / o.pool.threads));
+      const parts = Array.from({ length: Math.ceil(pictured.length / share) }, (_, k) => pictured.slice(k * share, (k + 1) * share));
+      o.pool.widen(parts.length);
+      const charts = (await Promise.all(parts.map((part) => o.pool.run<(string[] | null)[]>('picturesOf', part)))).flat();
       const names = [...channelNames];
       await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');

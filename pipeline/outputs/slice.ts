@@ -14,6 +14,7 @@ import { jsonPieces } from './staged.js';
 import { TextBytes } from './text-bytes.js';
 import { slicePieces } from './slice-pieces.js';
 import { ownBuffers } from '../store/release.js';
+import type { PackedEvidence } from '../../stages/quality/evidence.js';
 
 /** A recording of the slice: where its entry lies, and its group's labels. */
 export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
@@ -101,7 +102,10 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
 /** The memory a slice's output owns whole, to move rather than copy. */
 export const sliceBuffers = (s: SliceOutput): ArrayBuffer[] => ownBuffers(slicePieces(s));
 
-/** The stored pictures of the channels the report shows them for. */
+/**
+ * The pictures of the channels the report shows them for, drawn from their stored data (entries stored before the data
+ * were kept hold the pictures themselves).
+ */
 export async function picturesOf(wanted: Candidate[]): Promise<(string[] | null)[]> {
   return withRecords(async (read) => {
     const out: (string[] | null)[] = [];
@@ -109,7 +113,11 @@ export async function picturesOf(wanted: Candidate[]): Promise<(string[] | null)
       const results = decodeResults(recordBody(read(at, recording)));
       const c = results.base?.channels.findIndex((x) => x.name === channel) ?? -1;
       const ev = c >= 0 ? results.groups.quality?.evidence[c] : null;
-      out.push((ev?.charts as string[] | undefined) ?? null);
+      if (ev?.data) {
+        // The charting modules (vega, vega-lite) load only when a report shows pictures.
+        const [{ evidenceCharts }, { unpackEvidence }] = await Promise.all([import('./charts.js'), import('../../stages/quality/evidence.js')]);
+        out.push(await evidenceCharts(unpackEvidence(ev.data as PackedEvidence), results.base!.channels[c].unit));
+      } else out.push((ev?.charts as string[] | undefined) ?? null);
     }
     return out;
   });

@@ -9,7 +9,7 @@ import type { ChannelContext, Stage } from '../../stages/stage.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
 import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
-import type { Evidence } from '../../stages/quality/evidence.js';
+import { packEvidence, type Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
@@ -137,16 +137,12 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
     });
-    // Pictures are drawn only for channels whose flags ask for a second look, here in the worker, and kept with the result.
+    // The pictures' data are kept only for channels whose flags ask for a second look; the report draws the few it shows.
     const quality = out.groups.quality;
     if (quality) {
-      quality.evidence = await Promise.all(quality.flags.map(async (flags, c) => {
-        if (!NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))) return null;
-        // The charting modules (vega, vega-lite) load only when a channel needs pictures.
-        const { evidenceCharts } = await import('../outputs/charts.js');
-        const data = Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence;
-        return { charts: await evidenceCharts(data, channels[c].decl.unit) };
-      }));
+      quality.evidence = quality.flags.map((flags, c) => NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))
+        ? { data: packEvidence(Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence) }
+        : null);
     }
     out.base = {
       frames, sampleRate: r.sampleRate,

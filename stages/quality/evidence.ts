@@ -1,6 +1,7 @@
 // The pictures' data for the quality report: amplitude histogram, spectrum and RMS trend, kept small whatever the recording length.
 import type { WelchOptions } from '../dsp/welch.js';
 import { spectrumOf } from '../spectrum.js';
+import { packFloats, unpackFloats } from '../spectra.js';
 import type { StageDefinition } from '../stage.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
 import { histogramOf } from '../fused/histogram.js';
@@ -10,6 +11,26 @@ export interface Evidence {
   spectrum: { df: number; density: number[]; nyquist: number; maxFrequencyHz: number | null } | null;
   trend: { window_s: number; rms: number[] };
 }
+
+/** The pictures' data as stored with a recording's result: the long lists as float32 base64 (ample for a picture). */
+export interface PackedEvidence {
+  histogram: { edges: string; counts: string; range: [number, number] | null; fullScale: [number, number] | null };
+  spectrum: { df: number; density: string; nyquist: number; maxFrequencyHz: number | null } | null;
+  trend: { window_s: number; rms: string };
+}
+
+export const packEvidence = (e: Evidence): PackedEvidence => ({
+  histogram: { ...e.histogram, edges: packFloats(e.histogram.edges), counts: packFloats(e.histogram.counts) },
+  spectrum: e.spectrum && { ...e.spectrum, density: packFloats(e.spectrum.density) },
+  trend: { ...e.trend, rms: packFloats(e.trend.rms) },
+});
+
+const listOf = (text: string) => Array.from(unpackFloats(text));
+export const unpackEvidence = (p: PackedEvidence): Evidence => ({
+  histogram: { ...p.histogram, edges: listOf(p.histogram.edges), counts: listOf(p.histogram.counts) },
+  spectrum: p.spectrum && { ...p.spectrum, density: listOf(p.spectrum.density) },
+  trend: { ...p.trend, rms: listOf(p.trend.rms) },
+});
 
 const BINS = 120;
 const TREND_WINDOW_S = 0.1;

@@ -1,0 +1,35 @@
+// The report's pictures: a chart drawn from a shape parsed once gives the same SVG as Vega-Lite's compiler and Vega's
+// parser run on the whole specification with its data inline (the libraries' own path, the reference here).
+import * as vega from 'vega';
+import { compile, type TopLevelSpec } from 'vega-lite';
+import { describe, expect, it } from 'vitest';
+import { evidenceSpecs, svg } from '../pipeline/outputs/charts.js';
+import { packEvidence, unpackEvidence, type Evidence } from '../stages/quality/evidence.js';
+
+async function drawnWhole(spec: TopLevelSpec): Promise<string> {
+  const view = new vega.View(vega.parse(compile(spec).spec), { renderer: 'none' });
+  try { return await view.toSVG(); } finally { view.finalize(); }
+}
+
+// Invented pictures' data: a bell-shaped histogram, a falling spectrum, a wavering RMS.
+const evidenceOf = (n: number, limits: boolean): Evidence => ({
+  histogram: { edges: Array.from({ length: 121 }, (_, i) => i / 10 - 6 + n), counts: Array.from({ length: 120 }, (_, i) => Math.round(1000 * Math.exp(-(((i - 60) / (20 + n)) ** 2)))), range: null, fullScale: limits ? [-5, 5] : null },
+  spectrum: n % 2 ? null : { df: 50, density: Array.from({ length: 512 }, (_, k) => 1e-3 / (1 + k + n)), nyquist: 25600, maxFrequencyHz: n % 3 ? null : 8000 },
+  trend: { window_s: 0.1, rms: Array.from({ length: n % 2 ? 30 : 300 }, (_, i) => 1 + 0.1 * Math.sin(i + n)) },
+});
+
+describe('the report\'s pictures', () => {
+  it('draw the same SVG as the whole specification compiled and parsed afresh, chart after chart of one shape', async () => {
+    for (let n = 0; n < 5; n++) {
+      for (const spec of evidenceSpecs(evidenceOf(n, n % 2 === 0), n % 2 ? 'Pa' : 'm/s^2')) expect(await svg(spec)).toBe(await drawnWhole(spec));
+    }
+  });
+
+  it('keep their data packed with a stored result, to float32 precision', () => {
+    const ev = evidenceOf(2, true), back = unpackEvidence(JSON.parse(JSON.stringify(packEvidence(ev))));
+    expect(back.histogram.counts).toEqual(ev.histogram.counts);
+    back.spectrum!.density.forEach((d, k) => expect(Math.abs(d - ev.spectrum!.density[k])).toBeLessThanOrEqual(Math.abs(ev.spectrum!.density[k]) * 2 ** -23));
+    back.trend.rms.forEach((r, i) => expect(Math.abs(r - ev.trend.rms[i])).toBeLessThanOrEqual(r * 2 ** -23));
+    expect(back.histogram.fullScale).toEqual([-5, 5]);
+  });
+});
