@@ -1,5 +1,6 @@
 // One stored entry as bytes: a fixed header (magic, lengths, a checksum of each part), the entry's facts as JSON,
 // then its results as deflated JSON. The checksums let a reader tell a damaged or truncated entry from a sound one.
+import { isAscii } from 'node:buffer';
 import { createHash } from 'node:crypto';
 import { deflateRawSync, inflateRawSync } from 'node:zlib';
 import type { RecordingOutput } from '../reduce/result.js';
@@ -66,10 +67,19 @@ export function splitEntry(e: CacheEntry, storedAt = Date.now()): { facts: Entry
  */
 const ZLIB_CHUNK_BYTES = 4000;
 
+/**
+ * JSON in ASCII alone, other characters written as \u escapes: ASCII text is read back some 50 times faster than UTF-8
+ * with a few units like m/s² among it (0.01 against 0.7 ms for an 88 KB entry), and entries are read back whole often.
+ */
+export const asciiJson = (value: unknown): string => JSON.stringify(value).replace(/[\u0080-\uffff]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+
+/** Stored JSON as text: ASCII (every record since asciiJson) read as such, older records as UTF-8. */
+const textOf = (bytes: Buffer): string => (isAscii(bytes) ? bytes.toString('latin1') : bytes.toString('utf8'));
+
 /** The record of an entry: facts in the clear, results deflated; each part with its SHA-256. */
 export function encodeRecord(facts: EntryFacts, results: EntryResults | Uint8Array): Uint8Array {
-  const meta = Buffer.from(JSON.stringify(facts));
-  const body = results instanceof Uint8Array ? results : deflateRawSync(JSON.stringify(results), { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
+  const meta = Buffer.from(asciiJson(facts));
+  const body = results instanceof Uint8Array ? results : deflateRawSync(asciiJson(results), { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
   const out = Buffer.allocUnsafe(HEADER_BYTES + meta.length + body.length);
   out.writeUInt32LE(MAGIC, 0);
   out.writeUInt32LE(meta.length, 4);
@@ -91,9 +101,9 @@ export const recordBody = (record: Uint8Array) => {
 /** The facts of a record. */
 export const recordFacts = (record: Uint8Array): EntryFacts => {
   const b = Buffer.from(record.buffer, record.byteOffset, record.byteLength);
-  return JSON.parse(b.toString('utf8', HEADER_BYTES, HEADER_BYTES + b.readUInt32LE(4)));
+  return JSON.parse(textOf(b.subarray(HEADER_BYTES, HEADER_BYTES + b.readUInt32LE(4))));
 };
 
-export const decodeResults = (body: Uint8Array): EntryResults => JSON.parse(inflateRawSync(body, { chunkSize: ZLIB_CHUNK_BYTES }).toString('utf8'));
+export const decodeResults = (body: Uint8Array): EntryResults => JSON.parse(textOf(inflateRawSync(body, { chunkSize: ZLIB_CHUNK_BYTES })));
 
 export const joinEntry = (facts: EntryFacts, results: EntryResults): CacheEntry => ({ ...facts, ...results });
