@@ -68,17 +68,42 @@ export function splitEntry(e: CacheEntry, storedAt = Date.now()): { facts: Entry
 const ZLIB_CHUNK_BYTES = 4000;
 
 /**
- * JSON in ASCII alone, other characters written as \u escapes: ASCII text is read back some 50 times faster than UTF-8
- * with a few units like m/s² among it (0.01 against 0.7 ms for an 88 KB entry), and entries are read back whole often.
+ * JSON in ASCII alone, as bytes, other characters written as \u escapes (RFC 8259, section 7): ASCII is read back some 50
+ * times faster than UTF-8 with a few characters like ² or ≥ among it (0.01 against 0.7 ms for an 88 KB entry), and
+ * entries are read back whole several times. The escapes are made on the UTF-8 bytes, which deflating needs anyway: a
+ * tenth of a millisecond an entry, where escaping the text with a regular expression took a millisecond.
  */
-export const asciiJson = (value: unknown): string => JSON.stringify(value).replace(/[\u0080-\uffff]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+export function asciiJson(value: unknown): Buffer {
+  const utf8 = Buffer.from(JSON.stringify(value), 'utf8');
+  let wide = 0;
+  for (let i = 0; i < utf8.length; i++) if (utf8[i] >= 0x80) wide++;
+  if (!wide) return utf8;
+  // Each byte of a wide character becomes at most 12 (a surrogate pair's two escapes for four bytes).
+  const out = Buffer.allocUnsafe(utf8.length + wide * 12);
+  let o = 0;
+  const escape = (unit: number) => {
+    out[o++] = 0x5c; out[o++] = 0x75;
+    for (let shift = 12; shift >= 0; shift -= 4) out[o++] = HEX[(unit >> shift) & 15];
+  };
+  for (let i = 0; i < utf8.length;) {
+    const b = utf8[i];
+    if (b < 0x80) { out[o++] = b; i++; continue; }
+    const more = b >= 0xf0 ? 3 : b >= 0xe0 ? 2 : 1;
+    let cp = b & (0x3f >> more);
+    for (let k = 1; k <= more; k++) cp = (cp << 6) | (utf8[i + k] & 0x3f);
+    i += more + 1;
+    if (cp >= 0x10000) { escape(0xd800 + ((cp - 0x10000) >> 10)); escape(0xdc00 + ((cp - 0x10000) & 0x3ff)); } else escape(cp);
+  }
+  return out.subarray(0, o);
+}
+const HEX = Buffer.from('0123456789abcdef', 'latin1');
 
 /** Stored JSON as text: ASCII (every record since asciiJson) read as such, older records as UTF-8. */
 const textOf = (bytes: Buffer): string => (isAscii(bytes) ? bytes.toString('latin1') : bytes.toString('utf8'));
 
 /** The record of an entry: facts in the clear, results deflated; each part with its SHA-256. */
 export function encodeRecord(facts: EntryFacts, results: EntryResults | Uint8Array): Uint8Array {
-  const meta = Buffer.from(asciiJson(facts));
+  const meta = asciiJson(facts);
   const body = results instanceof Uint8Array ? results : deflateRawSync(asciiJson(results), { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
   const out = Buffer.allocUnsafe(HEADER_BYTES + meta.length + body.length);
   out.writeUInt32LE(MAGIC, 0);
