@@ -4,7 +4,7 @@ import { rmSync } from 'node:fs';
 import { cpus, totalmem } from 'node:os';
 import { say, work } from './harness.js';
 import { profile } from './profile.js';
-import { manySmall, reruns, shortRecordings } from './sections/scale.js';
+import { everyChannelFlagged, manySmall, reruns, shortRecordings } from './sections/scale.js';
 import { collectorShare, fixedCost } from './sections/start.js';
 import { summary, throughput } from './sections/throughput.js';
 import { trendsOverHistory } from './sections/trends.js';
@@ -19,6 +19,7 @@ try {
     reruns(full, kept, first);
     shortRecordings();
     manySmall();
+    everyChannelFlagged();
     trendsOverHistory();
     summary(shapes, statsRate, statsReduceRate);
   }

@@ -2,8 +2,11 @@
 import { closeSync, mkdirSync, openSync, utimesSync, writeSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 
-/** A 16- or 24-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. */
-export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600, bits = 16 }: { frames: number; channels?: number; sampleRate?: number; bits?: 16 | 24 }): void {
+/**
+ * A 16- or 24-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. The tones' peak is
+ * `level` of full scale; above about 0.95 the converter's extreme codes clip them.
+ */
+export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600, bits = 16, level = 0.3 }: { frames: number; channels?: number; sampleRate?: number; bits?: 16 | 24; level?: number }): void {
   const width = bits / 8;
   const dataBytes = frames * channels * width;
   const header = Buffer.alloc(44);
@@ -23,8 +26,8 @@ export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 
       const t = (start + i) / sampleRate;
       for (let c = 0; c < channels; c++) {
         seed = (seed * 1103515245 + 12345) & 0x7fffffff;
-        const v = 0.3 * Math.sin(2 * Math.PI * (50 + 100 * c) * t) + 0.1 * (seed / 0x7fffffff - 0.5);
-        buf.writeIntLE(Math.round(v * full), (i * channels + c) * width, width);
+        const v = level * Math.sin(2 * Math.PI * (50 + 100 * c) * t) + 0.1 * (seed / 0x7fffffff - 0.5);
+        buf.writeIntLE(Math.max(-full - 1, Math.min(full, Math.round(v * full))), (i * channels + c) * width, width);
       }
     }
     writeSync(fd, buf, 0, n * channels * width);
@@ -32,8 +35,8 @@ export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 
   closeSync(fd);
 }
 
-/** A recording of the bench archives: its name, length, and optionally its channel count (4) and bits (16). */
-export interface BenchRecording { name: string; frames: number; channels?: number; bits?: 16 | 24 }
+/** A recording of the bench archives: its name, length, and optionally its channel count (4), bits (16) and tone level (0.3 of full scale). */
+export interface BenchRecording { name: string; frames: number; channels?: number; bits?: 16 | 24; level?: number }
 
 /** An archive folder holding recordings declared as accelerometers (so every feature group applies) and, optionally, a spec.
  *  Recordings with the same channel count share a group, matched by a name prefix `c<channels>-` when counts differ. */
@@ -41,7 +44,7 @@ export function makeBenchArchive(dir: string, recordings: BenchRecording[], spec
   mkdirSync(dir, { recursive: true });
   const counts = [...new Set(recordings.map((r) => r.channels ?? 4))];
   const nameOf = (r: BenchRecording) => (counts.length > 1 ? `c${r.channels ?? 4}-${r.name}` : r.name);
-  for (const r of recordings) writeLongWav(join(dir, nameOf(r)), { frames: r.frames, channels: r.channels ?? 4, bits: r.bits ?? 16 });
+  for (const r of recordings) writeLongWav(join(dir, nameOf(r)), { frames: r.frames, channels: r.channels ?? 4, bits: r.bits ?? 16, level: r.level });
   const groups = counts.map((count) => {
     const channels = Array.from({ length: count }, (_, i) => `      - { name: acc${i + 1}, quantity: acceleration, unit: m/s^2, scale: ${BENCH_SCALE} }`).join('\n');
     return `  - name: bench${counts.length > 1 ? count : ''}\n    match: "${counts.length > 1 ? `c${count}-` : ''}*.wav"\n    sample_rate: 25600\n    channels:\n${channels}\n`;
