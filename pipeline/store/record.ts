@@ -78,8 +78,8 @@ export function asciiJson(value: unknown): Buffer {
   let wide = 0;
   for (let i = 0; i < utf8.length; i++) if (utf8[i] >= 0x80) wide++;
   if (!wide) return utf8;
-  // Each byte of a wide character becomes at most 12 (a surrogate pair's two escapes for four bytes).
-  const out = Buffer.allocUnsafe(utf8.length + wide * 12);
+  // A character of n bytes (2 to 4) becomes one escape of 6 bytes, or two for 4: at most 3 bytes out for each byte in.
+  const out = Buffer.allocUnsafe(utf8.length + wide * 2);
   let o = 0;
   const escape = (unit: number) => {
     out[o++] = 0x5c; out[o++] = 0x75;
