@@ -32,8 +32,7 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   result.rows = base.channels.map((ch, c) => {
     const flags = o.groups.quality?.flags[c] ?? [];
     const severity = worst(flags.map((f) => f.severity));
-    const evidence = o.groups.quality?.evidence[c];
-    result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags, ...(evidence ? { evidence } : {}) });
+    result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags });
     // One object a row, filled in place (a row has some 150 keys): the fixed columns, the labels, the verdict, then every
     // feature column null and the groups' values over them, in the same key order as spreading them would give.
     const row: FeatureRow = {

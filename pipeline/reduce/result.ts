@@ -4,7 +4,7 @@ import type { Flag, Severity } from '../../stages/quality/flag.js';
 
 export type FeatureRow = Record<string, string | number | null>;
 
-export interface ChannelQuality { channel: string; unit: string; severity: Severity; flags: Flag[]; evidence?: Record<string, unknown> }
+export interface ChannelQuality { channel: string; unit: string; severity: Severity; flags: Flag[] }
 
 /** What one feature group made for one recording: per channel (in channel order) its columns, flags and pictures' data. */
 export interface GroupOutput {
