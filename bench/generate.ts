@@ -1,12 +1,19 @@
 // Writes long generated WAV recordings block by block, so the benchmark archive never sits in memory.
 import { closeSync, mkdirSync, openSync, utimesSync, writeSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { basename, join } from 'node:path';
+
+/** A noise seed from a file's name, so that recordings of one archive differ as a rig's nights do (spectra, stored sizes). */
+export function seedOf(path: string): number {
+  let h = 12345;
+  for (const ch of basename(path)) h = (Math.imul(h, 31) + ch.charCodeAt(0)) & 0x7fffffff;
+  return h;
+}
 
 /**
  * A 16- or 24-bit PCM WAV of `channels` channels: tones plus a cheap pseudo-random noise, `frames` long. The tones' peak is
- * `level` of full scale; above about 0.95 the converter's extreme codes clip them.
+ * `level` of full scale; above about 0.95 the converter's extreme codes clip them. The noise's seed follows the file's name.
  */
-export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600, bits = 16, level = 0.3 }: { frames: number; channels?: number; sampleRate?: number; bits?: 16 | 24; level?: number }): void {
+export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 25600, bits = 16, level = 0.3, seed = seedOf(path) }: { frames: number; channels?: number; sampleRate?: number; bits?: 16 | 24; level?: number; seed?: number }): void {
   const width = bits / 8;
   const dataBytes = frames * channels * width;
   const header = Buffer.alloc(44);
@@ -19,7 +26,6 @@ export function writeLongWav(path: string, { frames, channels = 4, sampleRate = 
   const block = 1 << 16;
   const buf = Buffer.alloc(block * channels * width);
   const full = 2 ** (bits - 1) - 1;
-  let seed = 12345;
   for (let start = 0; start < frames; start += block) {
     const n = Math.min(block, frames - start);
     for (let i = 0; i < n; i++) {

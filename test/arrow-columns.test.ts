@@ -37,6 +37,20 @@ describe('Arrow columns from typed arrays', () => {
     expect(got).toEqual(await readBack(SPECTRA_TABLE, toArrowTable(SPECTRA_TABLE, rows, META)));
   });
 
+  it('text added many times at once (nulls, empty text, several-byte characters) reads back as one value a row', async () => {
+    const u = uniform(23), columns: TableColumn[] = [{ ...SPECTRA_TABLE[0], nullable: true }], rows: Record<string, string | null>[] = [];
+    const built = columnsFor(columns), recording = built.recording as TextColumn;
+    const values = [null, '', 'a', 'night-3/rig-b/ch ä.wav', '振動', 'x'.repeat(700)];
+    for (let i = 0; i < 400; i++) {
+      const value = values[Math.floor(u() * values.length)], times = Math.floor(u() * 40);
+      recording.add(value, times);
+      for (let k = 0; k < times; k++) rows.push({ recording: value });
+    }
+    const got = await readBack(columns, columnsTable(columns, built, META));
+    expect(got.rows.length).toBe(rows.length);
+    expect(got).toEqual(await readBack(columns, toArrowTable(columns, rows, META)));
+  });
+
   it('trends: nullable text, numbers and timestamps, values one at a time, read back as the rows do', async () => {
     const u = uniform(11), rows: Record<string, string | number | null>[] = [];
     const built = columnsFor(TRENDS_TABLE);

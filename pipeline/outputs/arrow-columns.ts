@@ -41,10 +41,14 @@ export class TextColumn {
     const b = value == null ? null : value === this.last ? this.lastBytes : (this.last = value, this.lastBytes = utf8.encode(value));
     const need = this.end + (b ? b.length * times : 0);
     if (this.bytes.length < need) { const g = new Uint8Array(Math.max(2 * this.bytes.length, need)); g.set(this.bytes.subarray(0, this.end)); this.bytes = g; }
-    for (let i = from; i < to; i++) {
-      if (b) { this.bytes.set(b, this.end); this.end += b.length; }
-      this.offsets[i + 1] = this.end;
+    const size = b ? b.length : 0, start = this.end;
+    for (let i = from; i < to; i++) this.offsets[i + 1] = start + (i + 1 - from) * size;
+    // The value once, then the copied run doubled until it covers every repeat: a few large copies, not one per row.
+    if (b && size) {
+      this.bytes.set(b, start);
+      for (let have = size, want = size * times; have < want; have *= 2) this.bytes.copyWithin(start + have, start, start + Math.min(have, want - have));
     }
+    this.end = start + size * times;
     this.length = to;
   }
 
