@@ -113,11 +113,11 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
     const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
-    // Trends and spectra need every shard's results: a shard leaves them to quern merge.
+    // Trends need every shard's results: a shard leaves them (and spectra.parquet) to quern merge.
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
-    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.trendsAndSpectra(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null }));
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();

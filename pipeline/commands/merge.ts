@@ -16,7 +16,7 @@ import { runLine, runRecord, writeRunRecord, type RunRecord } from '../outputs/r
 import { UsageError } from '../declare/yaml-file.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
-import { trendsAndSpectra } from '../trends/trends.js';
+import { stageTrends } from '../trends/trends.js';
 
 export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -54,7 +54,7 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
     // Worked out on this thread while the workers assemble the slices.
-    const changes = trendsAndSpectra(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata, since: first.period?.since ?? null });
+    const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata, since: first.period?.since ?? null });
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];

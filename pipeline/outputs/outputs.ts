@@ -3,7 +3,7 @@
 // are put together from spooled pieces, and nothing the size of the run is held in memory. Outputs whose digest says
 // they would come out the same are left as they are.
 import { createReadStream } from 'node:fs';
-import { mkdir, open } from 'node:fs/promises';
+import { mkdir, open, rm } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { createInterface } from 'node:readline';
 import { featureColumns } from '../../stages/index.js';
@@ -19,17 +19,21 @@ import { ownBuffers, release } from '../store/release.js';
 import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { SECONDARY_TABLES } from './tables.js';
+import { SPECTRA_TABLE } from '../trends/tables.js';
 import type { Located } from '../store/pack.js';
 
 /** Pictures one thread draws at least before a second one is asked (a thread loads the charting code first: some 0.3 s). */
 const PICTURES_A_TASK = 24;
 
-/** Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. */
-export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string }
+/**
+ * Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. `spectra` says whether
+ * spectra.parquet is among the outputs (when the spec has a spectrum section): a shard's parts leave it to quern merge.
+ */
+export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string; spectra: boolean }
 
-export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html', digest: 'outputs.json' };
+export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html', digest: 'outputs.json', spectra: true };
 export const partNames = (k: number, n: number): OutputNames => ({
-  table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`,
+  table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`, spectra: false,
 });
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
@@ -106,7 +110,8 @@ async function* lines(file: StagedFile): AsyncGenerator<string> {
 }
 
 export async function writeOutputs(outDir: string, names: OutputNames, o: OutputsInput): Promise<Written> {
-  const tables: Record<string, TableColumn[]> = { features: tableColumns(o.spec, o.labels), ...SECONDARY_TABLES };
+  const spectra = names.spectra && Boolean(o.spec.spectrum);
+  const tables: Record<string, TableColumn[]> = { features: tableColumns(o.spec, o.labels), ...SECONDARY_TABLES, ...(spectra ? { spectra: SPECTRA_TABLE } : {}) };
   const digestPath = join(outDir, names.digest);
   const basis = outputsDigest({ version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched, items: digestItems(o.items) });
   const made = Promise.resolve(o.changes ?? null);
@@ -216,6 +221,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
     await forgetDigest(digestPath);
     await commitAll([...outputs, ...trends]);
+    // A spectra table left from a spec that had the section would be stale.
+    if (names.spectra && !spectra) await rm(join(outDir, names.table('spectra')), { force: true });
     await changes?.done();
     const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
     const digest = withChanges(basis, changes);

@@ -7,6 +7,8 @@ import { RecordReader, type Place } from '../store/pack.js';
 import { decodeResults, joinEntry, recordBody, recordFacts } from '../store/record.js';
 import type { TableColumn } from './parquet.js';
 import { TableRows } from './table-rows.js';
+import { columnsFor, columnsTable } from './arrow-columns.js';
+import { addSpectra } from './spectra-rows.js';
 import { countRecording, emptyTotals, failLines, MAX_FAIL_LINES, qualityRecording, type QualityTotals } from './quality.js';
 import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
 import { channelSection, MAX_PICTURED, noteLine, overviewRow } from './report-html.js';
@@ -18,6 +20,7 @@ import type { PackedEvidence } from '../../stages/quality/evidence.js';
 
 /** A recording of the slice: where its entry lies, and its group's labels. */
 export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
+/** `tables` names every table the slice makes rows for; `spectra`, when among them, is filled from the entries' spectra. */
 export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; tables: Record<string, TableColumn[]>; metadata: Record<string, string> }
 
 /** A channel that may be pictured: the first few not ok of the whole run, unusable ones first, are. */
@@ -56,8 +59,11 @@ async function withRecords<T>(fn: (read: (at: Place, recording: string) => Buffe
 }
 
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
-  // Rows go to columns as they are made: no row objects stay on the heap meanwhile.
-  const rows = Object.fromEntries(Object.entries(task.tables).map(([t, columns]) => [t, new TableRows(columns)]));
+  // Rows go to columns as they are made: no row objects stay on the heap meanwhile. The spectra's bins go to their
+  // columns as whole arrays.
+  const { spectra: spectraColumns, ...rowTables } = task.tables;
+  const rows = Object.fromEntries(Object.entries(rowTables).map(([t, columns]) => [t, new TableRows(columns)]));
+  const spectra = spectraColumns ? columnsFor(spectraColumns) : null;
   const candidates: SliceOutput['candidates'] = { fail: [], warn: [] }, counts = { fail: 0, warn: 0 }, totals = emptyTotals(), fails: string[] = [];
   let failCount = 0, recordings = 0;
   const names = new Set<string>();
@@ -68,6 +74,7 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
     for (const { at, recording, labels } of task.items) {
       const record = read(at, recording);
       const entry = joinEntry(recordFacts(record), decodeResults(recordBody(record)));
+      if (spectra) addSpectra(entry, spectra);
       const r = assembleRecording(entry, labels, task.spec, assembly);
       for (const row of r.rows) rows.features.add(row);
       for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].add(row);
@@ -92,7 +99,8 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
     }
   });
   const tables: SliceOutput['tables'] = {};
-  for (const name of Object.keys(task.tables)) tables[name] = rows[name].length ? arrow.tableToIPC(rows[name].table(task.metadata), 'stream') : null;
+  for (const name of Object.keys(rows)) tables[name] = rows[name].length ? arrow.tableToIPC(rows[name].table(task.metadata), 'stream') : null;
+  if (spectraColumns) tables.spectra = spectra!.recording.length ? arrow.tableToIPC(columnsTable(spectraColumns, spectra!, task.metadata), 'stream') : null;
   return {
     tables, quality: quality.done(), recordings, overview: overview.done(), sections: { fail: sections.fail.done(), warn: sections.warn.done() }, notes: notes.done(),
     candidates, counts, totals, failLines: fails, failCount, channels: [...names],

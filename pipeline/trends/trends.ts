@@ -1,38 +1,21 @@
-// After a run's results are stored: every recording's spectrum (spectra.parquet), and each watched feature against its channel's
-// baseline (trends.parquet, and what changed for quality.json, quality.html and the terminal).
+// After a run's results are stored: each watched feature against its channel's baseline (trends.parquet, and what changed
+// for quality.json, quality.html and the terminal).
 import { createHash } from 'node:crypto';
 import { mkdir, readFile, rm, stat } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
-import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/canonical-json.js';
-import { entriesOf, everyEntry, type CacheEntry } from '../plan/cache.js';
+import { everyEntry } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
-import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
 import { readHistory } from './history.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
-import { SPECTRA_TABLE, TRENDS_TABLE } from './tables.js';
+import { TRENDS_TABLE } from './tables.js';
 
 export interface TrendsOutcome { report: ChangesReport; html: string }
-
-/** spectra.parquet rows of one recording: every bin of every channel's kept spectrum, as columns. */
-function addSpectra(e: CacheEntry, into: Record<string, Column>): void {
-  const kept = e.status === 'reduced' ? e.groups.spectrum?.kept?.spectrum : undefined;
-  if (!kept || !e.base) return;
-  const [recording, channel, unit, frequency, density] = SPECTRA_TABLE.map((c) => into[c.name]) as [TextColumn, TextColumn, TextColumn, NumberColumn, NumberColumn];
-  for (const [c, ch] of e.base.channels.entries()) {
-    const s = unpackSpectrum(kept[c]);
-    if (!s) continue;
-    const n = s.density.length;
-    recording.add(e.recording, n); channel.add(ch.name, n); unit.add(ch.unit, n);
-    frequency.addRamp(n, s.df);
-    density.addAll(s.density);
-  }
-}
 
 /** What the tables and the changes are made from: the spec, the tool, and every stored entry's results checksum. */
 function trendsDigest(spec: ReductionSpec, store: Store, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null): string {
@@ -65,11 +48,10 @@ export interface TrendsWrite {
 }
 
 /**
- * Stages spectra.parquet (when the spec has a spectrum section) from the entries of the run's recordings, in the order given,
- * and with trends on, trends.parquet from the history the store keeps. A table whose section is off is removed, so none is
- * left stale. When nothing they are made from has changed since they were written, nothing is staged.
+ * With trends on, stages trends.parquet from the history the store keeps, and works out what changed; with trends off, the
+ * table is removed, so none is left stale. When nothing it is made from has changed since it was written, nothing is staged.
  */
-export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
+export async function stageTrends(out: string, spec: ReductionSpec, o: {
   trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
   /** The start of the run's period (--since), ms since the epoch; null for a run without one. */
   since?: number | null;
@@ -80,13 +62,9 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
   const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
-  const spectra = new StagedFile(join(out, 'spectra.parquet')), trendsFile = new StagedFile(join(out, 'trends.parquet'));
+  const trendsFile = new StagedFile(join(out, 'trends.parquet'));
   const files: StagedFile[] = [];
   try {
-    if (spec.spectrum) {
-      await writeStreamedTable(spectra, SPECTRA_TABLE, columnBatches(SPECTRA_TABLE, o.metadata, entriesOf(o.store, o.recordings), addSpectra), o.metadata);
-      files.push(spectra);
-    }
     let outcome: TrendsOutcome | null = null;
     if (o.trends) {
       const history = await readHistory(out, spec, o.trends, inRun, everyEntry(o.store));
@@ -102,7 +80,6 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
     return {
       outcome, files,
       done: async () => {
-        if (!spec.spectrum) await rm(spectra.path, { force: true });
         if (!o.trends) await rm(trendsFile.path, { force: true });
         const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
         // An archive with nothing to reduce has stored nothing, so the folder may not exist yet.
@@ -111,7 +88,7 @@ export async function trendsAndSpectra(out: string, spec: ReductionSpec, o: {
       },
     };
   } catch (e) {
-    for (const f of [spectra, trendsFile]) await f.discard();
+    await trendsFile.discard();
     throw e;
   }
 }

@@ -1,4 +1,4 @@
-// Tables whose rows are made while writing (trends.parquet, spectra.parquet): columns filled from typed arrays in batches,
+// Tables whose rows are made while writing (trends.parquet): columns filled from typed arrays in batches,
 // streamed through the run's Parquet writer into a staged file, so memory holds one batch whatever the number of rows.
 import * as arrow from 'apache-arrow';
 import { columnsFor, columnsTable, type Column } from '../outputs/arrow-columns.js';
