@@ -7,20 +7,25 @@ import type { KeptValue, StageDefinition } from './stage.js';
 /** A kept spectrum: bin k is at k·df Hz, density in unit²/Hz. */
 export interface KeptSpectrum { df: number; segments: number; density: Float32Array }
 
-/** Little-endian float32 values as base64 text: 4 bytes a bin in memory, about 5.3 in JSON. */
-export function packFloats(values: ArrayLike<number>): string {
-  const f = Float32Array.from(values as ArrayLike<number>);
-  return Buffer.from(f.buffer, f.byteOffset, f.byteLength).toString('base64');
-}
+/**
+ * Values kept as float32 with a stored result: 4 bytes a value, stored as raw bytes beside the result's JSON. Entries
+ * stored before held them as base64 text of the same little-endian bytes, which still reads.
+ */
+export type PackedFloats = Float32Array | string;
 
-export function unpackFloats(text: string): Float32Array {
-  const bytes = Buffer.from(text, 'base64');
+export const packFloats = (values: ArrayLike<number>): Float32Array => Float32Array.from(values);
+
+export function unpackFloats(packed: PackedFloats): Float32Array {
+  if (typeof packed !== 'string') return packed;
+  const bytes = Buffer.from(packed, 'base64');
   // Copied into a fresh buffer: base64 decoding gives no 4-byte alignment.
   return new Float32Array(bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength));
 }
 
+const isPacked = (v: unknown): v is PackedFloats => typeof v === 'string' || v instanceof Float32Array;
+
 export function unpackSpectrum(v: KeptValue | null | undefined): KeptSpectrum | null {
-  if (!v || typeof v.density !== 'string' || typeof v.df !== 'number') return null;
+  if (!v || !isPacked(v.density) || typeof v.df !== 'number') return null;
   return { df: v.df, segments: Number(v.segments), density: unpackFloats(v.density) };
 }
 

@@ -60,7 +60,7 @@ export interface TachoDeclaration {
 }
 
 /** A compact value kept per channel with a recording's result: numbers and packed arrays (base64 text). */
-export type KeptValue = Record<string, number | string>;
+export type KeptValue = Record<string, number | string | Float32Array>;
 
 /** A column a stage contributes to features.parquet. */
 export interface ColumnSpec {

@@ -4,7 +4,8 @@ import * as vega from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
 import { describe, expect, it } from 'vitest';
 import { evidenceSpecs, svg } from '../pipeline/outputs/charts.js';
-import { packEvidence, unpackEvidence, type Evidence } from '../stages/quality/evidence.js';
+import { packEvidence, unpackEvidence, type Evidence, type PackedEvidence } from '../stages/quality/evidence.js';
+import { decodeResults, encodeRecord, recordBody, type EntryFacts, type EntryResults } from '../pipeline/store/record.js';
 
 async function drawnWhole(spec: TopLevelSpec): Promise<string> {
   const view = new vega.View(vega.parse(compile(spec).spec), { renderer: 'none' });
@@ -18,6 +19,10 @@ const evidenceOf = (n: number, limits: boolean): Evidence => ({
   trend: { window_s: 0.1, rms: Array.from({ length: n % 2 ? 30 : 300 }, (_, i) => 1 + 0.1 * Math.sin(i + n)) },
 });
 
+// Invented: the smallest stored entry that can carry the pictures' data.
+const facts = { recording: 'r.wav', group: 'g', status: 'reduced', version: '0', identity: { size: 1, mtimeMs: 2, hash: null }, readAtMs: 3, declKey: 'k', groupKeys: {}, seconds: 0, frames: 1, sampleRate: 1, startTime: null, channels: 1, notes: {}, storedAt: 4 } as EntryFacts;
+const results = { recording: 'r.wav', group: 'g', status: 'reduced', base: null, groups: {} };
+
 describe('the report\'s pictures', () => {
   it('draw the same SVG as the whole specification compiled and parsed afresh, chart after chart of one shape', async () => {
     for (let n = 0; n < 5; n++) {
@@ -25,8 +30,10 @@ describe('the report\'s pictures', () => {
     }
   });
 
-  it('keep their data packed with a stored result, to float32 precision', () => {
-    const ev = evidenceOf(2, true), back = unpackEvidence(JSON.parse(JSON.stringify(packEvidence(ev))));
+  it('keep their data packed with a stored result, read back from its bytes to float32 precision', () => {
+    const ev = evidenceOf(2, true);
+    const stored = decodeResults(recordBody(encodeRecord(facts, { ...results, groups: { quality: { evidence: [{ data: packEvidence(ev) }] } } } as unknown as EntryResults)));
+    const back = unpackEvidence((stored.groups.quality as unknown as { evidence: { data: PackedEvidence }[] }).evidence[0].data);
     expect(back.histogram.counts).toEqual(ev.histogram.counts);
     back.spectrum!.density.forEach((d, k) => expect(Math.abs(d - ev.spectrum!.density[k])).toBeLessThanOrEqual(Math.abs(ev.spectrum!.density[k]) * 2 ** -23));
     back.trend.rms.forEach((r, i) => expect(Math.abs(r - ev.trend.rms[i])).toBeLessThanOrEqual(r * 2 ** -23));

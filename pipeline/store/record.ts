@@ -1,5 +1,5 @@
 // One stored entry as bytes: a fixed header (magic, lengths, a checksum of each part), the entry's facts as JSON,
-// then its results as deflated JSON. The checksums let a reader tell a damaged or truncated entry from a sound one.
+// then its results as deflated JSON (with their float32 arrays, when they have any, as raw bytes after it). The checksums let a reader tell a damaged or truncated entry from a sound one.
 import { isAscii } from 'node:buffer';
 import { createHash } from 'node:crypto';
 import { deflateRawSync, inflateRawSync } from 'node:zlib';
@@ -73,8 +73,8 @@ const ZLIB_CHUNK_BYTES = 4000;
  * entries are read back whole several times. The escapes are made on the UTF-8 bytes, which deflating needs anyway: a
  * tenth of a millisecond an entry, where escaping the text with a regular expression took a millisecond.
  */
-export function asciiJson(value: unknown): Buffer {
-  const utf8 = Buffer.from(JSON.stringify(value), 'utf8');
+export function asciiJson(value: unknown, replacer?: (key: string, value: unknown) => unknown): Buffer {
+  const utf8 = Buffer.from(JSON.stringify(value, replacer as (key: string, value: unknown) => unknown), 'utf8');
   let wide = 0;
   for (let i = 0; i < utf8.length; i++) if (utf8[i] >= 0x80) wide++;
   if (!wide) return utf8;
@@ -101,18 +101,49 @@ const HEX = Buffer.from('0123456789abcdef', 'latin1');
 /** Stored JSON as text: ASCII (every record since asciiJson) read as such, older records as UTF-8. */
 const textOf = (bytes: Buffer): string => (isAscii(bytes) ? bytes.toString('latin1') : bytes.toString('utf8'));
 
-/** The record of an entry: facts in the clear, results deflated; each part with its SHA-256. */
+/**
+ * The first byte of a results part whose float32 arrays (kept spectra, the pictures' data) follow its deflated JSON as raw
+ * bytes: no raw deflate stream starts with it (its block type, 3, is reserved: RFC 1951, section 3.2.3). Results without
+ * such arrays are deflated JSON alone, as every record stored before them. Raw, the arrays are no base64 text to deflate
+ * when stored and to inflate and parse when read: a four-channel entry of the default spec holds some 32 KB of them.
+ */
+const WITH_ARRAYS = 0xff;
+/** In the results' JSON, where an array's values lie among the part's float32 values: { "$f32": [first, count] }. */
+const ARRAY_KEY = '$f32';
+
+/** The results part's pieces: deflated JSON alone, or the marker, the JSON's length, the JSON and the arrays' bytes. */
+function resultsPieces(results: EntryResults): Uint8Array[] {
+  const arrays: Float32Array[] = [];
+  let count = 0;
+  const json = asciiJson(results, (_key, v) => {
+    if (!(v instanceof Float32Array)) return v;
+    arrays.push(v);
+    count += v.length;
+    return { [ARRAY_KEY]: [count - v.length, v.length] };
+  });
+  const deflated = deflateRawSync(json, { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
+  if (!arrays.length) return [deflated];
+  const head = Buffer.allocUnsafe(5);
+  head[0] = WITH_ARRAYS;
+  head.writeUInt32LE(deflated.length, 1);
+  // The machine's float32 bytes: little-endian, as everywhere Node runs.
+  return [head, deflated, ...arrays.map((a) => new Uint8Array(a.buffer, a.byteOffset, a.byteLength))];
+}
+
+/** The record of an entry: facts in the clear, results deflated (their float32 arrays raw); each part with its SHA-256. */
 export function encodeRecord(facts: EntryFacts, results: EntryResults | Uint8Array): Uint8Array {
   const meta = asciiJson(facts);
-  const body = results instanceof Uint8Array ? results : deflateRawSync(asciiJson(results), { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
-  const out = Buffer.allocUnsafe(HEADER_BYTES + meta.length + body.length);
+  const pieces = results instanceof Uint8Array ? [results] : resultsPieces(results);
+  const bodyLength = pieces.reduce((n, p) => n + p.length, 0), bodyStart = HEADER_BYTES + meta.length;
+  const out = Buffer.allocUnsafe(bodyStart + bodyLength);
   out.writeUInt32LE(MAGIC, 0);
   out.writeUInt32LE(meta.length, 4);
-  out.writeUInt32LE(body.length, 8);
+  out.writeUInt32LE(bodyLength, 8);
   sha256(meta).copy(out, 12);
-  sha256(body).copy(out, 44);
   meta.copy(out, HEADER_BYTES);
-  out.set(body, HEADER_BYTES + meta.length);
+  let at = bodyStart;
+  for (const p of pieces) { out.set(p, at); at += p.length; }
+  sha256(out.subarray(bodyStart)).copy(out, 44);
   return out;
 }
 
@@ -129,6 +160,31 @@ export const recordFacts = (record: Uint8Array): EntryFacts => {
   return JSON.parse(textOf(b.subarray(HEADER_BYTES, HEADER_BYTES + b.readUInt32LE(4))));
 };
 
-export const decodeResults = (body: Uint8Array): EntryResults => JSON.parse(textOf(inflateRawSync(body, { chunkSize: ZLIB_CHUNK_BYTES })));
+const inflatedJson = (bytes: Uint8Array) => JSON.parse(textOf(inflateRawSync(bytes, { chunkSize: ZLIB_CHUNK_BYTES })));
+
+/** Puts each array in place of its { "$f32": [first, count] } among the results, as a view of `values`. */
+function placeArrays(node: Record<string, unknown> | unknown[], values: Float32Array): void {
+  for (const key in node) {
+    const v = (node as Record<string, unknown>)[key];
+    if (v === null || typeof v !== 'object') continue;
+    const at = (v as Record<string, unknown>)[ARRAY_KEY] as [number, number] | undefined;
+    if (!at) { placeArrays(v as Record<string, unknown>, values); continue; }
+    const [first, count] = at;
+    if (!(first >= 0 && count >= 0 && first + count <= values.length)) throw new Error(`stored results name float32 values ${first}…${first + count} of ${values.length}`);
+    (node as Record<string, unknown>)[key] = values.subarray(first, first + count);
+  }
+}
+
+export function decodeResults(body: Uint8Array): EntryResults {
+  if (body[0] !== WITH_ARRAYS) return inflatedJson(body);
+  const b = Buffer.from(body.buffer, body.byteOffset, body.byteLength);
+  const jsonEnd = 5 + b.readUInt32LE(1);
+  const results = inflatedJson(b.subarray(5, jsonEnd)) as EntryResults;
+  // Copied once into a buffer of their own, aligned for float32, which every array of the entry views.
+  const values = new Float32Array((b.length - jsonEnd) >> 2);
+  new Uint8Array(values.buffer).set(b.subarray(jsonEnd, jsonEnd + values.length * 4));
+  placeArrays(results as unknown as Record<string, unknown>, values);
+  return results;
+}
 
 export const joinEntry = (facts: EntryFacts, results: EntryResults): CacheEntry => ({ ...facts, ...results });

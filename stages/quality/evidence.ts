@@ -1,7 +1,7 @@
 // The pictures' data for the quality report: amplitude histogram, spectrum and RMS trend, kept small whatever the recording length.
 import type { WelchOptions } from '../dsp/welch.js';
 import { spectrumOf } from '../spectrum.js';
-import { packFloats, unpackFloats } from '../spectra.js';
+import { packFloats, unpackFloats, type PackedFloats } from '../spectra.js';
 import type { StageDefinition } from '../stage.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
 import { histogramOf } from '../fused/histogram.js';
@@ -12,11 +12,11 @@ export interface Evidence {
   trend: { window_s: number; rms: number[] };
 }
 
-/** The pictures' data as stored with a recording's result: the long lists as float32 base64 (ample for a picture). */
+/** The pictures' data as stored with a recording's result: the long lists as float32 (ample for a picture). */
 export interface PackedEvidence {
-  histogram: { edges: string; counts: string; range: [number, number] | null; fullScale: [number, number] | null };
-  spectrum: { df: number; density: string; nyquist: number; maxFrequencyHz: number | null } | null;
-  trend: { window_s: number; rms: string };
+  histogram: { edges: PackedFloats; counts: PackedFloats; range: [number, number] | null; fullScale: [number, number] | null };
+  spectrum: { df: number; density: PackedFloats; nyquist: number; maxFrequencyHz: number | null } | null;
+  trend: { window_s: number; rms: PackedFloats };
 }
 
 export const packEvidence = (e: Evidence): PackedEvidence => ({
@@ -25,7 +25,7 @@ export const packEvidence = (e: Evidence): PackedEvidence => ({
   trend: { ...e.trend, rms: packFloats(e.trend.rms) },
 });
 
-const listOf = (text: string) => Array.from(unpackFloats(text));
+const listOf = (packed: PackedFloats) => Array.from(unpackFloats(packed));
 export const unpackEvidence = (p: PackedEvidence): Evidence => ({
   histogram: { ...p.histogram, edges: listOf(p.histogram.edges), counts: listOf(p.histogram.counts) },
   spectrum: p.spectrum && { ...p.spectrum, density: listOf(p.spectrum.density) },
