@@ -1,6 +1,6 @@
 // Shared test helpers: temporary folders, the built command line, reading whole recordings.
 import { spawnSync } from 'node:child_process';
-import { cpSync, mkdtempSync, readFileSync } from 'node:fs';
+import { cpSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -8,7 +8,17 @@ import { openRecording, type OpenOptions } from '../stages/read/open.js';
 
 export const repo = join(dirname(fileURLToPath(import.meta.url)), '..');
 export const fixture = (...p: string[]) => join(repo, 'test', 'fixtures', ...p);
-export const tempDir = (prefix = 'quern-test-') => mkdtempSync(join(tmpdir(), prefix));
+/** Temporary folders this test file made: removed once its tests are done (test/remove-temp-dirs.ts), unless QUERN_KEEP_TEST_DIRS is set. */
+const made: string[] = [];
+export function tempDir(prefix = 'quern-test-'): string {
+  const dir = mkdtempSync(join(tmpdir(), prefix));
+  made.push(dir);
+  return dir;
+}
+export function removeTempDirs(): void {
+  if (process.env.QUERN_KEEP_TEST_DIRS) return;
+  for (const dir of made.splice(0)) rmSync(dir, { recursive: true, force: true });
+}
 export const readJson = <T = any>(path: string): T => JSON.parse(readFileSync(path, 'utf8'));
 
 /** A private copy of the sample archive, so tests can add and break files. */
