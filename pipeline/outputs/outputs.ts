@@ -6,11 +6,9 @@ import { createReadStream } from 'node:fs';
 import { mkdir, open, rm } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { createInterface } from 'node:readline';
-import { featureColumns } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { Pool } from '../reduce/pool.js';
 import { forgetDigest, keepDigest, outputsDigest, readDigest, stillCurrent, withChanges } from './digest.js';
-import { IDENTITY_COLUMNS, QUALITY_COLUMNS, type TableColumn } from './columns.js';
 import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
 import type { TrendsWrite } from '../trends/trends.js';
@@ -18,8 +16,7 @@ import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { ownBuffers, release } from '../store/release.js';
 import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
-import { SECONDARY_TABLES } from './tables.js';
-import { SPECTRA_TABLE } from '../trends/tables.js';
+import { outputTables } from './output-tables.js';
 import type { Located } from '../store/pack.js';
 
 /** Pictures one thread draws at least before a second one is asked (a thread loads the charting code first: some 0.3 s). */
@@ -37,15 +34,6 @@ export const partNames = (k: number, n: number): OutputNames => ({
 });
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
-
-export function tableColumns(spec: ReductionSpec, labels: string[]): TableColumn[] {
-  return [
-    ...IDENTITY_COLUMNS,
-    ...labels.map((name): TableColumn => ({ name, type: 'string', nullable: true, unit: '', description: 'Label declared for the recording\'s group.' })),
-    ...QUALITY_COLUMNS,
-    ...featureColumns(spec).map((c): TableColumn => ({ ...c, type: 'float64', nullable: true })),
-  ];
-}
 
 /** A recording of the outputs: where its entry lies, and its group's labels. */
 export interface OutputItem { recording: string; loc: Located; labels: Record<string, string> }
@@ -111,7 +99,7 @@ async function* lines(file: StagedFile): AsyncGenerator<string> {
 
 export async function writeOutputs(outDir: string, names: OutputNames, o: OutputsInput): Promise<Written> {
   const spectra = names.spectra && Boolean(o.spec.spectrum);
-  const tables: Record<string, TableColumn[]> = { features: tableColumns(o.spec, o.labels), ...SECONDARY_TABLES, ...(spectra ? { spectra: SPECTRA_TABLE } : {}) };
+  const tables = outputTables(o.spec, o.labels, spectra);
   const digestPath = join(outDir, names.digest);
   const basis = outputsDigest({ version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched, items: digestItems(o.items) });
   const made = Promise.resolve(o.changes ?? null);
@@ -171,7 +159,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
-    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, tables, metadata: o.metadata });
+    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, labels: o.labels, spectra, metadata: o.metadata });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
     o.pool.widen(all.length);

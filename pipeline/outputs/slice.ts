@@ -9,6 +9,7 @@ import type { TableColumn } from './parquet.js';
 import { TableRows } from './table-rows.js';
 import { columnsFor, columnsTable } from './arrow-columns.js';
 import { addSpectra } from './spectra-rows.js';
+import { outputTables } from './output-tables.js';
 import { countRecording, emptyTotals, failLines, MAX_FAIL_LINES, qualityRecording, type QualityTotals } from './quality.js';
 import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
 import { channelSection, MAX_PICTURED, noteLine, overviewRow } from './report-html.js';
@@ -20,8 +21,20 @@ import type { PackedEvidence } from '../../stages/quality/evidence.js';
 
 /** A recording of the slice: where its entry lies, and its group's labels. */
 export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
-/** `tables` names every table the slice makes rows for; `spectra`, when among them, is filled from the entries' spectra. */
-export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; tables: Record<string, TableColumn[]>; metadata: Record<string, string> }
+/**
+ * A slice to assemble, with what its tables are made from (the spec, the label columns, whether spectra.parquet is among
+ * them): the worker works the tables' columns out itself (`outputTables`), once for the run, rather than receiving some
+ * 30 KB of column descriptions with every slice.
+ */
+export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; labels: string[]; spectra: boolean; metadata: Record<string, string> }
+
+/** The tables' columns for the run's slices, kept by this thread: every slice of a run asks for the same. */
+let known: { key: string; tables: Record<string, TableColumn[]> } | null = null;
+function tablesOf(task: SliceTask): Record<string, TableColumn[]> {
+  const key = JSON.stringify([task.spec, task.labels, task.spectra]);
+  if (known?.key !== key) known = { key, tables: outputTables(task.spec, task.labels, task.spectra) };
+  return known.tables;
+}
 
 /** A channel that may be pictured: the first few not ok of the whole run, unusable ones first, are. */
 export interface Candidate { at: Place; recording: string; channel: string }
@@ -61,7 +74,7 @@ async function withRecords<T>(fn: (read: (at: Place, recording: string) => Buffe
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   // Rows go to columns as they are made: no row objects stay on the heap meanwhile. The spectra's bins go to their
   // columns as whole arrays.
-  const { spectra: spectraColumns, ...rowTables } = task.tables;
+  const { spectra: spectraColumns, ...rowTables } = tablesOf(task);
   const rows = Object.fromEntries(Object.entries(rowTables).map(([t, columns]) => [t, new TableRows(columns)]));
   const spectra = spectraColumns ? columnsFor(spectraColumns) : null;
   const candidates: SliceOutput['candidates'] = { fail: [], warn: [] }, counts = { fail: 0, warn: 0 }, totals = emptyTotals(), fails: string[] = [];
