@@ -8,6 +8,7 @@ import * as arrow from 'apache-arrow';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { TableColumn } from '../pipeline/outputs/columns.js';
 import { toArrowTable } from '../pipeline/outputs/parquet.js';
+import { columnsFor, columnsTable } from '../pipeline/outputs/arrow-columns.js';
 import { ParquetStream } from '../pipeline/outputs/parquet-stream.js';
 import { parquetWasm } from '../pipeline/outputs/parquet-wasm.js';
 import { StagedFile } from '../pipeline/outputs/staged.js';
@@ -43,5 +44,23 @@ describe('ParquetStream', () => {
     expect(rms[0]).toBe(0);
     expect(rms[rms.length - 1]).toBe((slices * perSlice - 1) / 8);
     expect(grown).toBeLessThan(10 * 2 ** 20);
+  });
+
+  it('keeps the described schema of its first batch when later batches carry names and types only, as the slices send them', async () => {
+    const metadata = { 'quern.version': 'test', 'quern.spec': '{"statistics":{}}' };
+    const file = new StagedFile(join(dir, 'bare.parquet'));
+    const stream = new ParquetStream(file, columns, metadata);
+    const built = columnsFor(columns);
+    for (let i = 0; i < 10; i++) for (const c of columns) (built[c.name] as { add(v: unknown): void }).add(row(i)[c.name as keyof ReturnType<typeof row>]);
+    const bare = columnsTable(columns, built, {}, false);
+    expect(bare.schema.fields[2].metadata.size).toBe(0);
+    await stream.push(arrow.tableToIPC(bare, 'stream'));
+    await stream.finish();
+    await file.commit();
+    const table = arrow.tableFromIPC(parquetWasm().readParquet(new Uint8Array(readFileSync(join(dir, 'bare.parquet')))).intoIPCStream());
+    expect(table.numRows).toBe(10);
+    expect(table.getChild('recording')!.get(9)).toBe('night/c9.wav');
+    expect(Object.fromEntries(table.schema.fields[2].metadata)).toEqual({ unit: 'g', description: 'RMS' });
+    expect(table.schema.metadata.get('quern.spec')).toBe('{"statistics":{}}');
   });
 });

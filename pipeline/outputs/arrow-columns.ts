@@ -113,8 +113,8 @@ export function columnsFor(columns: TableColumn[]): Record<string, Column> {
 }
 
 /** The filled columns as one record batch of an Arrow table with the table's schema (as toArrowTable makes it). */
-export function columnsTable(columns: TableColumn[], built: Record<string, Column>, metadata: Record<string, string>): arrow.Table {
-  const schema = arrowSchema(columns, metadata);
+export function columnsTable(columns: TableColumn[], built: Record<string, Column>, metadata: Record<string, string>, described = true): arrow.Table {
+  const schema = arrowSchema(columns, metadata, described);
   const length = built[columns[0].name].length;
   const children = columns.map((c) => {
     const d = built[c.name];

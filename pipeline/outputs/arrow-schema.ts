@@ -10,8 +10,11 @@ export const ARROW_TYPES = {
   timestamp_ms: () => new arrow.TimestampMillisecond(),
 } as const;
 
-/** The Arrow schema of a table: each field with its unit and description, the metadata on the schema. */
-export function arrowSchema(columns: TableColumn[], metadata: Record<string, string>): arrow.Schema {
-  const fields = columns.map((c) => new arrow.Field(c.name, ARROW_TYPES[c.type](), c.nullable, new Map([['unit', c.unit], ['description', c.description]])));
-  return new arrow.Schema(fields, new Map(Object.entries(metadata)));
+/**
+ * The Arrow schema of a table: each field with its unit and description, the metadata on the schema. Without `described`,
+ * names, types and nullability only: for the batches of a table whose writer already holds the described schema.
+ */
+export function arrowSchema(columns: TableColumn[], metadata: Record<string, string>, described = true): arrow.Schema {
+  const fields = columns.map((c) => new arrow.Field(c.name, ARROW_TYPES[c.type](), c.nullable, described ? new Map([['unit', c.unit], ['description', c.description]]) : undefined));
+  return new arrow.Schema(fields, described ? new Map(Object.entries(metadata)) : undefined);
 }

@@ -159,7 +159,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
-    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, labels: o.labels, spectra, metadata: o.metadata });
+    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, labels: o.labels, spectra });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
     o.pool.widen(all.length);

@@ -46,7 +46,9 @@ export class ParquetStream {
       }
     })();
     this.done.catch(() => {}); // awaited by push and finish; a failure must not also surface as unhandled
-    // The schema travels with a batch: a first batch of no rows gives a table without rows its columns.
+    // The schema travels with a batch: a first batch of no rows gives a table without rows its columns, and gives the
+    // writer the described schema (units, descriptions, metadata) it keeps for the whole table; later batches may carry
+    // names and types only (test/parquet-stream.test.ts holds this).
     this.offer(batchesOf(arrow.tableToIPC(toArrowTable(columns, [], metadata), 'stream')));
   }
 

@@ -32,7 +32,8 @@ export class TableRows {
     }
   }
 
-  table(metadata: Record<string, string>): arrow.Table {
-    return columnsTable(this.columns, this.built as Record<string, Column>, metadata);
+  /** The rows as a table; `described` as in arrowSchema. */
+  table(metadata: Record<string, string>, described = true): arrow.Table {
+    return columnsTable(this.columns, this.built as Record<string, Column>, metadata, described);
   }
 }
