@@ -5,7 +5,7 @@ import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';
-import { RecordReader } from '../store/pack.js';
+import { RecordReader, RecordsInOrder } from '../store/pack.js';
 import { decodeResults, joinEntry, recordBody, type CacheEntry } from '../store/record.js';
 import { Store } from '../store/store.js';
 
@@ -35,6 +35,30 @@ export async function* entriesOf(store: Store, recordings: Iterable<string>): As
 
 /** Every entry a store holds, whatever this run selected (the history that trends read), by recording. */
 export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.keys()].sort());
+
+/**
+ * Every entry a store holds, in the order they lie in its packs (a pass over the whole history that needs no order: the
+ * trends' series are ordered by start time and name): each pack read front to back; damaged ones are passed over.
+ */
+export async function* everyEntryAsStored(store: Store): AsyncGenerator<CacheEntry> {
+  const places = [...store.entries.keys()].map((r) => store.get(r)!).map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
+  places.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : a.offset - b.offset));
+  const records = new RecordsInOrder();
+  try {
+    for (const { loc } of places) {
+      const facts = loc.facts;
+      let entry: CacheEntry;
+      try {
+        entry = joinEntry(facts, decodeResults(recordBody(records.read(loc, facts.recording))));
+      } catch {
+        continue; // damaged since it was scanned: no history
+      }
+      yield entry;
+    }
+  } finally {
+    records.close();
+  }
+}
 
 /** Every entry the output folder holds, read from its packs. */
 export async function* storedEntries(out: string): AsyncGenerator<CacheEntry> {

@@ -5,7 +5,7 @@ import { mkdir, readFile, rm, stat } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/canonical-json.js';
-import { everyEntry } from '../plan/cache.js';
+import { everyEntry, everyEntryAsStored } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
@@ -67,7 +67,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   try {
     let outcome: TrendsOutcome | null = null;
     if (o.trends) {
-      const history = await readHistory(out, spec, o.trends, inRun, everyEntry(o.store));
+      const history = await readHistory(out, spec, o.trends, inRun, everyEntryAsStored(o.store));
       const scored = scoreHistory(history, o.trends);
       const report = changesReport(history, scored, o.trends, since);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
