@@ -5,7 +5,8 @@ import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';
-import { RecordReader, RecordsInOrder } from '../store/pack.js';
+import { RecordReader, RecordsInOrder, type Place } from '../store/pack.js';
+import type { StoredEntry } from '../store/entry-table.js';
 import { decodeResults, joinEntry, recordBody, type CacheEntry } from '../store/record.js';
 import { Store } from '../store/store.js';
 
@@ -13,39 +14,10 @@ export type { CacheEntry, Identity } from '../store/record.js';
 
 const sha = (s: string) => createHash('sha256').update(s).digest('hex');
 
-/** The stored entries of the named recordings, in the order given, read one at a time; damaged or absent ones are passed over. */
-export async function* entriesOf(store: Store, recordings: Iterable<string>): AsyncGenerator<CacheEntry> {
-  const records = new RecordReader();
+/** The entries at the places given, in order, each read by `records` (closed at the end); one damaged since it was scanned is passed over. */
+async function* decoded(places: Iterable<StoredEntry>, records: { read(loc: Place, recording: string): Buffer; close(): void }): AsyncGenerator<CacheEntry> {
   try {
-    for (const r of recordings) {
-      const loc = store.get(r);
-      if (!loc) continue;
-      let entry: CacheEntry;
-      try {
-        entry = joinEntry(loc.facts, decodeResults(recordBody(records.read(loc, loc.facts.recording))));
-      } catch {
-        continue; // damaged since it was scanned: no history
-      }
-      yield entry;
-    }
-  } finally {
-    records.close();
-  }
-}
-
-/** Every entry a store holds, whatever this run selected (the history that trends read), by recording. */
-export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.keys()].sort());
-
-/**
- * Every entry a store holds, in the order they lie in its packs (a pass over the whole history that needs no order: the
- * trends' series are ordered by start time and name): each pack read front to back; damaged ones are passed over.
- */
-export async function* everyEntryAsStored(store: Store): AsyncGenerator<CacheEntry> {
-  const places = [...store.entries.keys()].map((r) => store.get(r)!).map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
-  places.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : a.offset - b.offset));
-  const records = new RecordsInOrder();
-  try {
-    for (const { loc } of places) {
+    for (const loc of places) {
       const facts = loc.facts;
       let entry: CacheEntry;
       try {
@@ -58,6 +30,29 @@ export async function* everyEntryAsStored(store: Store): AsyncGenerator<CacheEnt
   } finally {
     records.close();
   }
+}
+
+function* placesOf(store: Store, recordings: Iterable<string>): Generator<StoredEntry> {
+  for (const r of recordings) {
+    const loc = store.get(r);
+    if (loc) yield loc;
+  }
+}
+
+/** The stored entries of the named recordings, in the order given, read one at a time; damaged or absent ones are passed over. */
+export const entriesOf = (store: Store, recordings: Iterable<string>): AsyncGenerator<CacheEntry> => decoded(placesOf(store, recordings), new RecordReader());
+
+/** Every entry a store holds, whatever this run selected (the history that trends read), by recording. */
+export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.keys()].sort());
+
+/**
+ * Every entry a store holds, in the order they lie in its packs (a pass over the whole history that needs no order: the
+ * trends' series are ordered by start time and name): each pack read front to back; damaged ones are passed over.
+ */
+export function everyEntryAsStored(store: Store): AsyncGenerator<CacheEntry> {
+  const places = [...placesOf(store, store.entries.keys())].map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
+  places.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : a.offset - b.offset));
+  return decoded(places.map((p) => p.loc), new RecordsInOrder());
 }
 
 /** Every entry the output folder holds, read from its packs. */

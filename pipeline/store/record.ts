@@ -1,5 +1,6 @@
 // One stored entry as bytes: a fixed header (magic, lengths, a checksum of each part), the entry's facts as JSON,
-// then its results as deflated JSON (with their float32 arrays, when they have any, as raw bytes after it). The checksums let a reader tell a damaged or truncated entry from a sound one.
+// then its results as deflated JSON (with their float32 arrays, when they have any, as raw bytes after it). The checksums
+// let a reader tell a damaged or truncated entry from a sound one.
 import { isAscii } from 'node:buffer';
 import { createHash } from 'node:crypto';
 import { deflateRawSync, inflateRawSync } from 'node:zlib';
@@ -74,7 +75,7 @@ const ZLIB_CHUNK_BYTES = 4000;
  * tenth of a millisecond an entry, where escaping the text with a regular expression took a millisecond.
  */
 export function asciiJson(value: unknown, replacer?: (key: string, value: unknown) => unknown): Buffer {
-  const utf8 = Buffer.from(JSON.stringify(value, replacer as (key: string, value: unknown) => unknown), 'utf8');
+  const utf8 = Buffer.from(JSON.stringify(value, replacer), 'utf8');
   let wide = 0;
   for (let i = 0; i < utf8.length; i++) if (utf8[i] >= 0x80) wide++;
   if (!wide) return utf8;
