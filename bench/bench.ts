@@ -13,11 +13,11 @@ try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
   if (process.argv.includes('--profile')) profile();
   else {
-    const { full, kept, first, shapes, statsRate, statsReduceRate, archives } = throughput();
+    const { full, kept, first, shapes, statsRate, statsReduceRate, archives } = await throughput();
     fixedCost();
     collectorShare([{ label: 'short 24-bit recordings, full set', archive: archives.many }, { label: 'one 16-bit recording, statistics', archive: archives.long }]);
     reruns(full, kept, first);
-    shortRecordings();
+    await shortRecordings();
     manySmall();
     everyChannelFlagged();
     trendsOverHistory();

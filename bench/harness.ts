@@ -1,6 +1,6 @@
 // What every bench section shares: a scratch folder, quern and the numpy/scipy peer run in fresh processes, and the table rows.
-import { execFileSync, spawnSync } from 'node:child_process';
-import { mkdtempSync } from 'node:fs';
+import { execFile, execFileSync, spawnSync } from 'node:child_process';
+import { copyFileSync, mkdirSync, mkdtempSync, readdirSync, symlinkSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -26,6 +26,41 @@ export function quern(archive: string, jobs: number, out = join(work, `out-${Mat
   return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
 }
 
+/** Like `quern`, in a child process run beside others (the caller starts several and awaits them together). */
+function quernBeside(archive: string, out: string): Promise<QuernMeasurement> {
+  const t0 = performance.now();
+  return new Promise((resolve, reject) => execFile(process.execPath, [join(here, 'measure.js'), archive, out, '1'], { encoding: 'utf8', maxBuffer: 1 << 26 }, (e, text) => {
+    if (e) reject(e);
+    else resolve({ ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds: (performance.now() - t0) / 1000 });
+  }));
+}
+
+/**
+ * The machine's own ceiling for `parts` workers: the archive's recordings dealt into `parts` archives (links to the same
+ * files, the same declaration), each reduced by a one-worker quern alone, then all at once in separate processes that share
+ * nothing but the machine. Independent processes side by side slow each other down through what the cores share (caches,
+ * memory bandwidth, and on a virtual machine whatever the host shares); no way of splitting work among threads escapes that.
+ * Returns the reduce phases' speed-up (their sum alone against the longest side by side), the median over `rounds`.
+ */
+export async function sideBySideCeiling(archive: string, parts: number, rounds = 3): Promise<string> {
+  const wavs = readdirSync(archive).filter((f) => f.endsWith('.wav')).sort();
+  const dirs = Array.from({ length: parts }, (_, k) => {
+    const dir = join(work, `part-${k}-of-${parts}-${Math.random()}`);
+    mkdirSync(dir);
+    copyFileSync(join(archive, 'archive.yaml'), join(dir, 'archive.yaml'));
+    wavs.filter((_, i) => i % parts === k).forEach((f) => symlinkSync(join(archive, f), join(dir, f)));
+    return dir;
+  });
+  const fresh = () => join(work, `out-${Math.random()}`);
+  const ratios: number[] = [];
+  for (let r = 0; r < rounds; r++) {
+    const alone = dirs.map((d) => quern(d, 1).reduceSeconds);
+    const together = (await Promise.all(dirs.map((d) => quernBeside(d, fresh())))).map((m) => m.reduceSeconds);
+    ratios.push(alone.reduce((a, b) => a + b, 0) / Math.max(...together));
+  }
+  return `the machine's own ceiling: ${parts} one-worker runs on ${parts} parts of the archive, each alone and then side by side in separate processes, reduce ${median(Float64Array.from(ratios)).toFixed(2)}× as fast side by side as one after the other (median of ${rounds}: ${ratios.map((x) => `${x.toFixed(2)}×`).join(', ')})`;
+}
+
 /** quern's command line itself, as a user runs it (bench/measure.ts skips parsing the command line): its whole-command seconds. */
 export function command(args: string[]): number {
   const t0 = performance.now();
@@ -33,6 +68,13 @@ export function command(args: string[]): number {
   const seconds = (performance.now() - t0) / 1000;
   if (r.status !== 0) throw new Error(`bench: quern ${args.join(' ')} exited with ${r.status}`);
   return seconds;
+}
+
+/** Node starting and stopping with nothing to run, in seconds: the floor under any command's time. */
+export function nodeAlone(): number {
+  const t0 = performance.now();
+  spawnSync(process.execPath, ['-e', '0'], { stdio: 'ignore' });
+  return (performance.now() - t0) / 1000;
 }
 
 /** Repeated timings in seconds: their median, and it with the least and the most as text. */

@@ -4,7 +4,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { cpus } from 'node:os';
 import { join } from 'node:path';
 import { makeBenchArchive, makeManyTinyRecordings } from '../generate.js';
-import { command, pairedScaling, quern, reducePhaseScaling, repo, say, scalingCeiling, spread, work, type QuernMeasurement } from '../harness.js';
+import { command, nodeAlone, pairedScaling, quern, reducePhaseScaling, repo, say, scalingCeiling, sideBySideCeiling, spread, work, type QuernMeasurement } from '../harness.js';
 
 const pct = (a: QuernMeasurement, b: QuernMeasurement) => `${((a.wallSeconds / b.wallSeconds) * 100).toFixed(1)} % of the full run (in-process ${((a.seconds / b.seconds) * 100).toFixed(1)} %)`;
 const line = (label: string, m: QuernMeasurement, tail = '') =>
@@ -22,6 +22,9 @@ export function reruns(full: string, kept: string, first: QuernMeasurement, labe
   // The command line itself (bench/measure.ts, timed above, leaves out parsing the command line: some 0.03 s).
   const asRun = spread(Array.from({ length: 7 }, () => command(['reduce', full, '--out', kept, '--jobs', String(cores)])));
   say(`  ${'nothing changed, the command as a user runs it'.padEnd(54)} ${asRun.text}: ${((100 * asRun.median) / first.wallSeconds).toFixed(1)} % of the full run`);
+  // The floor under any command: Node itself starting and stopping with nothing to run.
+  const bare = spread(Array.from({ length: 7 }, () => nodeAlone()));
+  say(`  ${'Node alone (node -e 0), for comparison'.padEnd(54)} ${bare.text}: ${((100 * bare.median) / first.wallSeconds).toFixed(1)} % of the full run`);
   const spec = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
   writeFileSync(join(full, 'reduction.yaml'), spec.replace('low_hz: 2500, high_hz: 4500', 'low_hz: 3000, high_hz: 5000'));
   const envelopeOnly = quern(full, cores, kept);
@@ -29,7 +32,7 @@ export function reruns(full: string, kept: string, first: QuernMeasurement, labe
 }
 
 /** Short recordings (8 × 4 channels × 60 s, full default features): one worker against two, then re-runs. */
-export function shortRecordings(): void {
+export async function shortRecordings(): Promise<void> {
   const short = join(work, 'short-recordings');
   makeBenchArchive(short, Array.from({ length: 8 }, (_, i) => ({ name: `s${i}.wav`, frames: 60 * 25_600 })));
   say('\nshort recordings (8 × 4 channels × 60 s at 25.6 kHz, full default features): one worker against two');
@@ -42,6 +45,7 @@ export function shortRecordings(): void {
   say(`  ${reducePhaseScaling(one, two, 2)}`);
   say(`  ${pairedScaling(one, two, short, 2)}`);
   say(`  ${scalingCeiling(one, 2)}`);
+  say(`  ${await sideBySideCeiling(short, 2)}`);
   reruns(short, kept, two, 'short recordings');
 }
 

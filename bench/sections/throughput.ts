@@ -3,7 +3,7 @@
 import { join } from 'node:path';
 import { cpus } from 'node:os';
 import { BENCH_SCALE, makeBenchArchive } from '../generate.js';
-import { pairedScaling, peer, quern, reducePhaseScaling, row, say, scalingCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
+import { pairedScaling, peer, quern, reducePhaseScaling, row, say, scalingCeiling, sideBySideCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
 
 /** What the summary table needs from this section. */
 export interface ShapeResult { shape: string; quern: Measurement; peer: Measurement | null }
@@ -13,7 +13,7 @@ const rate = (m: Measurement) => m.samples / m.seconds;
 const whole = (m: QuernMeasurement): QuernMeasurement => ({ ...m, seconds: m.wallSeconds });
 
 /** Runs the section; returns the archive and the output folder of the full run (for the re-run section) and each shape's figures. */
-export function throughput(): { full: string; kept: string; first: QuernMeasurement; shapes: ShapeResult[]; statsRate: number; statsReduceRate: number; archives: { long: string; many: string } } {
+export async function throughput(): Promise<{ full: string; kept: string; first: QuernMeasurement; shapes: ShapeResult[]; statsRate: number; statsReduceRate: number; archives: { long: string; many: string } }> {
   say('generating archives (25.6 kHz, declared as accelerometers, so every feature group applies to every channel)…');
   const statsOnly = 'statistics: {}\n';
   const short = join(work, 'short'), long = join(work, 'long'), full = join(work, 'full'), many = join(work, 'many');
@@ -39,6 +39,7 @@ export function throughput(): { full: string; kept: string; first: QuernMeasurem
   say(`  ${reducePhaseScaling(one, all, cores)}`);
   say(`  ${pairedScaling(runOne, runAll, full, cores)}`);
   say(`  ${scalingCeiling(one, cores)}`);
+  say(`  ${await sideBySideCeiling(full, cores)}`);
   const peerLong = peer(full, BENCH_SCALE);
   if (peerLong) say(row(`long 16-bit recordings: numpy/scipy peer`, peerLong));
   const manyOne = whole(quern(many, 1));
