@@ -54,6 +54,24 @@ describe('one run at a time per output folder', () => {
     expect(readJson(join(out, 'run.json')).lock.took_over.holder.pid).toBe(killed.pid);
   });
 
+  // Linux's /proc gives a process's start; elsewhere a live pid keeps its lock, as before.
+  it.runIf(existsSync('/proc/self/stat'))('takes over a lock whose pid now belongs to a program started after the lock was taken (a pid given again after a reboot)', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const lock = join(out, 'run.lock');
+    // This test's own process runs, but started long after 2026-01-05.
+    writeFileSync(lock, JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-01-05T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive' }));
+    const taken = quern('reduce', archive, '--out', out, '--quiet');
+    expect(taken.code, taken.stdout + taken.stderr).toBe(1);
+    expect(taken.stdout).toContain(`took over the lock of a run that is gone (${hostname()}, pid ${process.pid}`);
+    expect(taken.stdout).toMatch(new RegExp(`process ${process.pid} on this host started at 20\\d\\d-\\d\\d-\\d\\dT[0-9:.]+Z, after the lock was taken: that pid now belongs to another program`));
+    // Taken a moment ago by this same process, the lock is its own: refused.
+    writeFileSync(lock, JSON.stringify({ host: hostname(), pid: process.pid, started: new Date().toISOString(), run_id: 'r-2', command: 'quern reduce /lab/archive' }));
+    const refused = quern('reduce', archive, '--out', out, '--quiet');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
+  });
+
   it('takes over a lock from another host only once it is older than the declared age', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');

@@ -33,9 +33,38 @@ function gone(pid: number): boolean {
   try { process.kill(pid, 0); return false; } catch (e) { return (e as NodeJS.ErrnoException).code === 'ESRCH'; }
 }
 
+/**
+ * When a process on this host started, in ms since 1970, from Linux's /proc: its start in clock ticks after boot (field 22
+ * of /proc/PID/stat, in USER_HZ, which is 100 on Linux's common architectures) plus the boot time; null where there is no /proc.
+ */
+async function processStartMs(pid: number): Promise<number | null> {
+  try {
+    const stat = await readFile(`/proc/${pid}/stat`, 'utf8');
+    // The program's name, in parentheses, may hold spaces; the fields after it start at field 3.
+    const ticks = Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[22 - 3]);
+    const boot = /^btime (\d+)$/m.exec(await readFile('/proc/stat', 'utf8'))?.[1];
+    return Number.isFinite(ticks) && boot ? Number(boot) * 1000 + ticks * 10 : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * A process that started this long after the lock was taken cannot be the run that took it: its pid was given again (after
+ * a reboot, typically). Generous, so that a clock set forward while a run holds its lock never frees that lock.
+ */
+export const PID_REUSED_AFTER_MS = 10 * 60_000;
+
 /** Why the lock's holder is gone, or null while it may still be running. */
 async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<string | null> {
-  if (h && h.host === hostname()) return gone(h.pid) ? `process ${h.pid} on this host is no longer running` : null;
+  if (h && h.host === hostname()) {
+    if (gone(h.pid)) return `process ${h.pid} on this host is no longer running`;
+    const since = await processStartMs(h.pid), taken = Date.parse(h.started);
+    if (since != null && Number.isFinite(taken) && since - taken > PID_REUSED_AFTER_MS) {
+      return `process ${h.pid} on this host started at ${new Date(since).toISOString()}, after the lock was taken: that pid now belongs to another program`;
+    }
+    return null;
+  }
   const beat = (await stat(path).catch(() => null))?.mtimeMs;
   if (beat == null) return null;
   // A lock left empty by a run stopped between creating and filling it.
