@@ -1,5 +1,6 @@
 // Small recordings travel in batches: one worker task, one message and one pack write for many recordings.
 // The worker reduces each recording of a batch in turn and returns each one's record, ready to append to the pack.
+import { statSync } from 'node:fs';
 import { eachAtOnce } from '../at-once.js';
 import { hashFile } from '../plan/hash-file.js';
 import type { RecordingJob } from '../plan/plan.js';
@@ -46,6 +47,22 @@ export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: Cach
   return { ...fresh, ...common, groups, groupKeys: Object.fromEntries(Object.keys(groups).map((g) => [g, s.keys[g]]).filter(([, k]) => k)) } as CacheEntry;
 }
 
+/**
+ * The output, or a failure when the file changed while it was read (a capture still being written when the run began):
+ * figures from part of a recording are not kept. The failure is stored under the identity the scan saw, so the next run,
+ * seeing the file changed, reads it again.
+ */
+export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingOutput): RecordingOutput {
+  // One synchronous stat (some microseconds): a worker reduces its recordings in turn anyway. A file gone since was read whole.
+  const now = (() => { try { return statSync(job.path, { throwIfNoEntry: false }); } catch { return undefined; } })();
+  if (!now || (now.size === seen.size && now.mtimeMs === seen.mtimeMs)) return out;
+  const change = now.size !== seen.size ? `${seen.size} bytes when the run found it, ${now.size} after reading` : `modified again at ${new Date(now.mtimeMs).toISOString()}`;
+  return {
+    ...out, status: 'failed', base: null, groups: {},
+    reason: `the file changed while it was read (${change}): probably still being written; nothing from this read is kept, and the next run reads it again`,
+  };
+}
+
 /** Recordings of a batch reduced at once in a worker (batches hold small recordings; a large one travels alone). */
 const IN_FLIGHT = 8;
 
@@ -66,7 +83,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
       const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
       return { facts, bytes: encodeRecord(facts, recordBody(previousRecord(s.previous))) };
     }
-    const fresh = await computeRecording(job, active(job));
+    const fresh = unlessChanged(job, s.identity, await computeRecording(job, active(job)));
     let previous: CacheEntry | null = null;
     if (s.previous && s.reused.length && fresh.status === 'reduced') {
       try { previous = { ...s.previous.facts, ...decodeResults(recordBody(previousRecord(s.previous))) }; } catch { previous = null; }
