@@ -36,7 +36,7 @@ describe('a recording that changes while it is read', () => {
     const [r] = await reduceBatch([found]);
     const { facts, results } = stored(r.bytes);
     expect(results.status).toBe('failed');
-    expect(results.reason).toBe(`the file changed while it was read (${found.store.identity.size} bytes when the run found it, ${found.store.identity.size + 4096} after reading): probably still being written; nothing from this read is kept, and the next run reads it again`);
+    expect(results.reason).toBe(`the file changed since the run found it (${found.store.identity.size} bytes when the run found it, ${found.store.identity.size + 4096} after reading): probably still being written; nothing from this read is kept, and the next run reads it again`);
     expect(results.groups).toEqual({});
     expect(facts.identity.size).toBe(found.store.identity.size); // so the next run sees a change and reads it again
   });

@@ -48,8 +48,8 @@ export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: Cach
 }
 
 /**
- * The output, or a failure when the file changed while it was read (a capture still being written when the run began):
- * figures from part of a recording are not kept. The failure is stored under the identity the scan saw, so the next run,
+ * The output, or a failure when the file changed since the scan found it (a capture still being written when the run
+ * began): figures from part of a recording are not kept. The failure is stored under the identity the scan saw, so the next run,
  * seeing the file changed, reads it again.
  */
 export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingOutput): RecordingOutput {
@@ -59,7 +59,7 @@ export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingO
   const change = now.size !== seen.size ? `${seen.size} bytes when the run found it, ${now.size} after reading` : `modified again at ${new Date(now.mtimeMs).toISOString()}`;
   return {
     ...out, status: 'failed', base: null, groups: {},
-    reason: `the file changed while it was read (${change}): probably still being written; nothing from this read is kept, and the next run reads it again`,
+    reason: `the file changed since the run found it (${change}): probably still being written; nothing from this read is kept, and the next run reads it again`,
   };
 }
 
@@ -90,7 +90,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
     }
     if (s.reused.length && !previous && fresh.status === 'reduced') {
       // The stored groups could not be read back: compute every group.
-      const whole = await computeRecording({ ...job, groups: null }, active(job));
+      const whole = unlessChanged(job, s.identity, await computeRecording({ ...job, groups: null }, active(job)));
       return encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt);
     }
     return encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt);
