@@ -54,22 +54,46 @@ describe('one run at a time per output folder', () => {
     expect(readJson(join(out, 'run.json')).lock.took_over.holder.pid).toBe(killed.pid);
   });
 
-  // Linux's /proc gives a process's start; elsewhere a live pid keeps its lock, as before.
-  it.runIf(existsSync('/proc/self/stat'))('takes over a lock whose pid now belongs to a program started after the lock was taken (a pid given again after a reboot)', () => {
+  // Linux's /proc names a process for good (its boot's id, its start after that boot); elsewhere a live pid keeps its lock.
+  it.runIf(existsSync('/proc/self/stat'))('takes over a lock whose pid now names another program: after a restart of the host, or given again', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
     const lock = join(out, 'run.lock');
-    // This test's own process runs, but started long after 2026-01-05.
-    writeFileSync(lock, JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-01-05T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive' }));
-    const taken = quern('reduce', archive, '--out', out, '--quiet');
-    expect(taken.code, taken.stdout + taken.stderr).toBe(1);
-    expect(taken.stdout).toContain(`took over the lock of a run that is gone (${hostname()}, pid ${process.pid}`);
-    expect(taken.stdout).toMatch(new RegExp(`process ${process.pid} on this host started at 20\\d\\d-\\d\\d-\\d\\dT[0-9:.]+Z, after the lock was taken: that pid now belongs to another program`));
-    // Taken a moment ago by this same process, the lock is its own: refused.
-    writeFileSync(lock, JSON.stringify({ host: hostname(), pid: process.pid, started: new Date().toISOString(), run_id: 'r-2', command: 'quern reduce /lab/archive' }));
-    const refused = quern('reduce', archive, '--out', out, '--quiet');
-    expect(refused.code).toBe(2);
-    expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
+    // This test's own process, read here from /proc independently of quern's code (fields after the name; start is field 22).
+    const stat = readFileSync('/proc/self/stat', 'utf8');
+    const me = { boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) };
+    const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive', process: proc });
+    const cases: [unknown, string | null][] = [
+      [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, 'this host has restarted since the lock was taken'],
+      [{ ...me, start_ticks: me.start_ticks - 1 }, `process ${process.pid} on this host is another program than the one that took the lock`],
+      [me, null], // the lock's own process, still running: refused
+      ['not a process', null], // a field that names no process: judged by the pid alone, which runs
+    ];
+    for (const [proc, why] of cases) {
+      writeFileSync(lock, holder(proc));
+      const r = quern('reduce', archive, '--out', out, '--quiet');
+      if (why) {
+        expect(r.code, r.stdout + r.stderr).toBe(1);
+        expect(r.stdout).toContain(`took over the lock of a run that is gone (${hostname()}, pid ${process.pid}, started 2026-12-01T01:00:00.000Z): ${why}`);
+      } else {
+        expect(r.code, r.stdout + r.stderr).toBe(2);
+        expect(r.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
+      }
+    }
+  });
+
+  it('writes into its lock the process it runs as, where the system names it', async () => {
+    const archive = longerArchive(), out = join(archive, '..', 'out');
+    const run = startRun(archive, out);
+    const lock = join(out, 'run.lock');
+    await until(() => existsSync(lock) && readFileSync(lock, 'utf8').includes('"pid"'));
+    const held = JSON.parse(readFileSync(lock, 'utf8'));
+    const linux = existsSync('/proc/self/stat');
+    // Read while the run still holds its lock (the longer archive takes seconds).
+    const stat = linux ? readFileSync(`/proc/${run.pid}/stat`, 'utf8') : '';
+    await new Promise((r) => run.on('exit', r));
+    if (!linux) return expect(held.process).toBeNull();
+    expect(held.process).toEqual({ boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) });
   });
 
   it('takes over a lock from another host only once it is older than the declared age', () => {

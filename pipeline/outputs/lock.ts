@@ -7,7 +7,9 @@ import { dirname, join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
 import { makeFolder } from './make-folder.js';
 
-export interface LockHolder { host: string; pid: number; started: string; run_id: string; command: string }
+/** A process named for good on Linux: its boot's id and its start in clock ticks after that boot (`processIdentity`). */
+export interface ProcessIdentity { boot: string; start_ticks: number }
+export interface LockHolder { host: string; pid: number; started: string; run_id: string; command: string; process?: ProcessIdentity | null }
 export interface TakenOver { holder: LockHolder; why: string }
 
 /** Default age after which a lock held from another host counts as abandoned (its run refreshes it every minute). */
@@ -34,34 +36,35 @@ function gone(pid: number): boolean {
 }
 
 /**
- * When a process on this host started, in ms since 1970, from Linux's /proc: its start in clock ticks after boot (field 22
- * of /proc/PID/stat, in USER_HZ, which is 100 on Linux's common architectures) plus the boot time; null where there is no /proc.
+ * Which process a pid names on this host, where Linux's /proc tells: the boot (its random id, new at every start of the
+ * system) and the process's start in clock ticks after that boot (field 22 of /proc/PID/stat). Together they name one
+ * process for good, where a pid alone is given again once its process has ended; null where there is no /proc.
  */
-async function processStartMs(pid: number): Promise<number | null> {
+export async function processIdentity(pid: number): Promise<ProcessIdentity | null> {
   try {
     const stat = await readFile(`/proc/${pid}/stat`, 'utf8');
     // The program's name, in parentheses, may hold spaces; the fields after it start at field 3.
-    const ticks = Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[22 - 3]);
-    const boot = /^btime (\d+)$/m.exec(await readFile('/proc/stat', 'utf8'))?.[1];
-    return Number.isFinite(ticks) && boot ? Number(boot) * 1000 + ticks * 10 : null;
+    const ticks = stat.slice(stat.lastIndexOf(')') + 2).split(' ')[22 - 3];
+    const boot = (await readFile('/proc/sys/kernel/random/boot_id', 'utf8')).trim();
+    return /^\d+$/.test(ticks ?? '') && boot ? { boot, start_ticks: Number(ticks) } : null;
   } catch {
     return null;
   }
 }
 
-/**
- * A process that started this long after the lock was taken cannot be the run that took it: its pid was given again (after
- * a reboot, typically). Generous, so that a clock set forward while a run holds its lock never frees that lock.
- */
-export const PID_REUSED_AFTER_MS = 10 * 60_000;
+/** Whether a lock's process field names a process (a lock without one, or with anything else, is judged by its pid alone). */
+const namesProcess = (p: unknown): p is ProcessIdentity =>
+  typeof (p as ProcessIdentity | null)?.boot === 'string' && (p as ProcessIdentity).boot !== '' && Number.isSafeInteger((p as ProcessIdentity).start_ticks);
 
 /** Why the lock's holder is gone, or null while it may still be running. */
 async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<string | null> {
   if (h && h.host === hostname()) {
     if (gone(h.pid)) return `process ${h.pid} on this host is no longer running`;
-    const since = await processStartMs(h.pid), taken = Date.parse(h.started);
-    if (since != null && Number.isFinite(taken) && since - taken > PID_REUSED_AFTER_MS) {
-      return `process ${h.pid} on this host started at ${new Date(since).toISOString()}, after the lock was taken: that pid now belongs to another program`;
+    // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
+    const held = namesProcess(h.process) ? h.process : null, now = held ? await processIdentity(h.pid) : null;
+    if (held && now) {
+      if (now.boot !== held.boot) return `this host has restarted since the lock was taken (process ${h.pid} now is another program)`;
+      if (now.start_ticks !== held.start_ticks) return `process ${h.pid} on this host is another program than the one that took the lock (it started later)`;
     }
     return null;
   }
@@ -86,9 +89,9 @@ export interface Lock { path: string; tookOver: TakenOver | null; release(): Pro
  * Takes the lock at `path` for `me`. Taking over a stale lock happens under a short-lived mutex folder, so two runs
  * that find the same stale lock do not both take it.
  */
-export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started'>, { staleAfterMs = STALE_LOCK_AFTER_MS } = {}): Promise<Lock> {
+export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started' | 'process'>, { staleAfterMs = STALE_LOCK_AFTER_MS } = {}): Promise<Lock> {
   await makeFolder(dirname(path));
-  const holder: LockHolder = { host: hostname(), pid: process.pid, started: new Date().toISOString(), ...me };
+  const holder: LockHolder = { host: hostname(), pid: process.pid, started: new Date().toISOString(), ...me, process: await processIdentity(process.pid) };
   const text = JSON.stringify(holder, null, 2) + '\n';
   let tookOver: TakenOver | null = null;
   for (let attempt = 0; ; attempt++) {
