@@ -1,6 +1,6 @@
 // The command's bundle (scripts/bundle.ts, built by npm test before the tests run): what a run pays for as it starts.
 import { spawnSync } from 'node:child_process';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { quern, repo, sampleArchiveCopy, tempDir } from './helpers.js';
@@ -55,6 +55,17 @@ describe('the command bundle', () => {
     expect(again.status).toBe(1);
     expect(again.stderr + again.stdout).toMatch(/reducing 0 recordings/);
     expect(readFileSync(loaded, 'utf8')).not.toContain('NativeModule child_process');
+  });
+
+  it('the reduce command loads no reader as it starts: only a run that must read a header (a new file\'s start time) does', () => {
+    const chunks = join(repo, 'dist', 'chunks');
+    const mapped = (f: string) => (JSON.parse(readFileSync(join(chunks, `${f}.map`), 'utf8')) as { sources: string[] }).sources.map((s) => resolve(chunks, s).slice(repo.length + 1).replace(/\\/g, '/'));
+    const runChunk = readdirSync(chunks).filter((f) => f.endsWith('.js')).find((f) => mapped(f).includes('pipeline/run.ts'));
+    expect(runChunk).toBeDefined();
+    const sources = [...staticSources(join(chunks, runChunk!))].map((s) => s.slice(repo.length + 1).replace(/\\/g, '/'));
+    expect(sources).toContain('pipeline/select/scan.ts');
+    expect(sources).toContain('stages/read/format-of.ts');
+    for (const reader of ['stages/read/open.ts', 'stages/read/wav.ts', 'stages/read/flac.ts', 'stages/read/csv.ts', 'stages/read/hdf5.ts']) expect(sources).not.toContain(reader);
   });
 
   it('a worker thread loads the reducing code, not the store, the cache keys or the table code', () => {

@@ -4,7 +4,7 @@ import { lstat, readdir, realpath, stat } from 'node:fs/promises';
 import { isAbsolute, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
 import { eachAtOnce } from '../at-once.js';
-import { formatOf } from '../../stages/read/open.js';
+import { formatOf } from '../../stages/read/format-of.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
 import { UsageError } from '../declare/yaml-file.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';

@@ -1,6 +1,5 @@
 // Which recordings a run takes: a stable share of them for one shard, and those whose start falls in a period.
 import pLimit from 'p-limit';
-import { openRecording } from '../../stages/read/open.js';
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
 
@@ -83,6 +82,8 @@ export interface KnownStart { size: number; mtimeMs: number; start_ms: number }
 export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, known: KnownStart | undefined): Promise<number> {
   if (known && known.size === r.size && known.mtimeMs === r.mtimeMs) return known.start_ms;
   try {
+    // The readers load only when a header is to be read: a run whose files' starts are all known loads none of them.
+    const { openRecording } = await import('../../stages/read/open.js');
     const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout });
     await rec.close();
     if (rec.startTime) return rec.startTime.getTime();

@@ -8,16 +8,13 @@ import { DEFAULT_CHUNK_FRAMES, RecordingError, type Format, type Recording } fro
 import { openWav } from './wav.js';
 import { explainLink } from './explain-link.js';
 import { explainName } from './explain-name.js';
+import { formatOf } from './format-of.js';
 import { requireRegularFile } from './regular-file.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 
 export { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 
-const BY_EXTENSION: Record<string, Format> = { '.wav': 'wav', '.wave': 'wav', '.bwf': 'wav', '.csv': 'csv', '.tsv': 'csv', '.txt': 'csv', '.bin': 'raw', '.raw': 'raw', '.dat': 'raw', '.flac': 'flac', '.h5': 'hdf5', '.hdf5': 'hdf5' };
-
-export function formatOf(path: string): Format | null {
-  return BY_EXTENSION[extname(path).toLowerCase()] ?? null;
-}
+export { formatOf } from './format-of.js';
 
 /** Reading options that only some formats take, and where the user declares what the file cannot say. */
 export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null; declareHow?: DeclareHow }
