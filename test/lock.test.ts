@@ -65,7 +65,7 @@ describe('one run at a time per output folder', () => {
     const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive', process: proc });
     const cases: [unknown, string | null][] = [
       [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, 'this host has restarted since the lock was taken'],
-      [{ ...me, start_ticks: me.start_ticks - 1 }, `process ${process.pid} on this host is another program than the one that took the lock`],
+      [{ ...me, start_ticks: me.start_ticks - 1 }, `pid ${process.pid} on this host now names another program than the one that took the lock`],
       [me, null], // the lock's own process, still running: refused
       ['not a process', null], // a field that names no process: judged by the pid alone, which runs
     ];

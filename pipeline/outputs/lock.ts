@@ -63,8 +63,8 @@ async function staleness(path: string, h: LockHolder | null, staleAfterMs: numbe
     // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
     const held = namesProcess(h.process) ? h.process : null, now = held ? await processIdentity(h.pid) : null;
     if (held && now) {
-      if (now.boot !== held.boot) return `this host has restarted since the lock was taken (process ${h.pid} now is another program)`;
-      if (now.start_ticks !== held.start_ticks) return `process ${h.pid} on this host is another program than the one that took the lock (it started later)`;
+      if (now.boot !== held.boot) return `this host has restarted since the lock was taken (pid ${h.pid} now names another program)`;
+      if (now.start_ticks !== held.start_ticks) return `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`;
     }
     return null;
   }
