@@ -19,7 +19,10 @@ import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { outputTables } from './output-tables.js';
 import type { Located } from '../store/pack.js';
 
-/** Pictures one thread draws at least before a second one is asked (a thread loads the charting code first: some 0.3 s). */
+/**
+ * Pictures a task draws: at least this many before a second thread is asked (a thread loads the charting code first: some
+ * 0.3 s), and no more, so that the report is written out as its pictures come and neither thread holds many at once.
+ */
 const PICTURES_A_TASK = 24;
 
 /**
@@ -186,10 +189,17 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       for (const f of [spools.overview, spools.fail, spools.warn, spools.notes]) await f.close({ durable: false });
       // Pictures for the first channels, unusable ones first: drawn from the entries' data, shared among the threads.
       const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
-      const share = Math.max(PICTURES_A_TASK, Math.ceil(pictured.length / o.pool.threads));
-      const parts = Array.from({ length: Math.ceil(pictured.length / share) }, (_, k) => pictured.slice(k * share, (k + 1) * share));
+      const parts = Array.from({ length: Math.ceil(pictured.length / PICTURES_A_TASK) }, (_, k) => pictured.slice(k * PICTURES_A_TASK, (k + 1) * PICTURES_A_TASK));
       o.pool.widen(parts.length);
-      const charts = (await Promise.all(parts.map((part) => o.pool.run<(string[] | null)[]>('picturesOf', part)))).flat();
+      const drawn = parts.map((part) => o.pool.run<(string[] | null)[]>('picturesOf', part));
+      for (const d of drawn) d.catch(() => {}); // each is awaited in turn below
+      // The k-th pictured channel's pictures, once its part is drawn; a part is let go when the next one is taken.
+      let heldPart = -1, held: (string[] | null)[] = [];
+      const chartsOf = async (k: number) => {
+        const part = Math.floor(k / PICTURES_A_TASK);
+        if (part !== heldPart) { held = await drawn[part]; drawn[part] = Promise.resolve([]); heldPart = part; }
+        return held[k % PICTURES_A_TASK];
+      };
       const names = [...channelNames];
       await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');
@@ -197,9 +207,9 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await qualityHtml.write(sectionsHead(counted.fail + counted.warn) + '\n');
       const failsPictured = Math.min(candidates.fail.length, pictured.length);
       let i = 0;
-      for await (const line of lines(spools.fail)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(i < failsPictured ? charts[i] : null)}\n`); i++; }
+      for await (const line of lines(spools.fail)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(i < failsPictured ? await chartsOf(i) : null)}\n`); i++; }
       let j = 0;
-      for await (const line of lines(spools.warn)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(failsPictured + j < pictured.length ? charts[failsPictured + j] : null)}\n`); j++; }
+      for await (const line of lines(spools.warn)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(failsPictured + j < pictured.length ? await chartsOf(failsPictured + j) : null)}\n`); j++; }
       let notes = 0;
       for await (const line of lines(spools.notes)) await qualityHtml.write(`${notes++ ? '' : notesHead() + '\n'}${JSON.parse(line)}\n`);
       if (notes) await qualityHtml.write(notesEnd() + '\n');
