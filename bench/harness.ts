@@ -21,17 +21,18 @@ export const say = (s: string) => process.stdout.write(s + '\n');
 /** One run of quern in a fresh process (bench/measure.ts), so peak RSS is this run's alone; a fresh output folder unless one is given. */
 export function quern(archive: string, jobs: number, out = join(work, `out-${Math.random()}`), since?: string, nodeOptions: string[] = []): QuernMeasurement {
   const t0 = performance.now();
-  const text = execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 });
-  const wallSeconds = (performance.now() - t0) / 1000;
-  return { ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds };
+  return measured(execFileSync(process.execPath, [...nodeOptions, join(here, 'measure.js'), archive, out, String(jobs), ...(since ? [since] : [])], { encoding: 'utf8', maxBuffer: 1 << 26 }), t0);
 }
+
+/** bench/measure.ts's figures (its last line), with the whole process's time from `t0`. */
+const measured = (text: string, t0: number): QuernMeasurement => ({ ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds: (performance.now() - t0) / 1000 });
 
 /** Like `quern`, in a child process run beside others (the caller starts several and awaits them together). */
 function quernBeside(archive: string, out: string): Promise<QuernMeasurement> {
   const t0 = performance.now();
   return new Promise((resolve, reject) => execFile(process.execPath, [join(here, 'measure.js'), archive, out, '1'], { encoding: 'utf8', maxBuffer: 1 << 26 }, (e, text) => {
     if (e) reject(e);
-    else resolve({ ...JSON.parse(text.trim().split('\n').pop()!), wallSeconds: (performance.now() - t0) / 1000 });
+    else resolve(measured(text, t0));
   }));
 }
 

@@ -22,13 +22,23 @@ async function until(what: () => boolean, ms = 60_000): Promise<void> {
   while (!what() && Date.now() < deadline) await new Promise((r) => setTimeout(r, 10));
 }
 
+/** A run of the longer archive, once it holds its lock: the process, the lock's path and what the lock says. */
+async function runHoldingLock() {
+  const archive = longerArchive(), out = join(archive, '..', 'out'), lock = join(out, 'run.lock');
+  const run = startRun(archive, out);
+  await until(() => existsSync(lock) && readFileSync(lock, 'utf8').includes('"pid"'));
+  return { archive, out, lock, run, holder: JSON.parse(readFileSync(lock, 'utf8')) };
+}
+
+/** A process as Linux names it for good, read here from /proc independently of quern's code (start: field 22, after the name). */
+function procIdentity(pid: number | 'self') {
+  const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+  return { boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) };
+}
+
 describe('one run at a time per output folder', () => {
   it('refuses a second run while the first holds the lock, with exit code 2 and the holder named', async () => {
-    const archive = longerArchive(), out = join(archive, '..', 'out');
-    const first = startRun(archive, out);
-    const lock = join(out, 'run.lock');
-    await until(() => existsSync(lock) && readFileSync(lock, 'utf8').includes('"pid"'));
-    const holder = JSON.parse(readFileSync(lock, 'utf8'));
+    const { archive, out, lock, run: first, holder } = await runHoldingLock();
     expect(holder).toMatchObject({ host: hostname(), pid: first.pid });
     expect(Date.parse(holder.started)).toBeGreaterThan(Date.now() - 120_000);
     const second = quern('reduce', archive, '--out', out, '--quiet');
@@ -41,9 +51,7 @@ describe('one run at a time per output folder', () => {
   });
 
   it('takes over the lock of a run that was killed, and says so', async () => {
-    const archive = longerArchive(), out = join(archive, '..', 'out');
-    const killed = startRun(archive, out);
-    await until(() => existsSync(join(out, 'run.lock')) && readFileSync(join(out, 'run.lock'), 'utf8').includes('"pid"'));
+    const { archive, out, run: killed } = await runHoldingLock();
     killed.kill('SIGKILL');
     await new Promise((r) => killed.on('exit', r));
     expect(existsSync(join(out, 'run.lock'))).toBe(true); // SIGKILL leaves it behind
@@ -59,9 +67,7 @@ describe('one run at a time per output folder', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
     const lock = join(out, 'run.lock');
-    // This test's own process, read here from /proc independently of quern's code (fields after the name; start is field 22).
-    const stat = readFileSync('/proc/self/stat', 'utf8');
-    const me = { boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) };
+    const me = procIdentity('self');
     const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive', process: proc });
     const cases: [unknown, string | null][] = [
       [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, 'this host has restarted since the lock was taken'],
@@ -83,17 +89,13 @@ describe('one run at a time per output folder', () => {
   });
 
   it('writes into its lock the process it runs as, where the system names it', async () => {
-    const archive = longerArchive(), out = join(archive, '..', 'out');
-    const run = startRun(archive, out);
-    const lock = join(out, 'run.lock');
-    await until(() => existsSync(lock) && readFileSync(lock, 'utf8').includes('"pid"'));
-    const held = JSON.parse(readFileSync(lock, 'utf8'));
+    const { run, holder: held } = await runHoldingLock();
     const linux = existsSync('/proc/self/stat');
     // Read while the run still holds its lock (the longer archive takes seconds).
-    const stat = linux ? readFileSync(`/proc/${run.pid}/stat`, 'utf8') : '';
+    const running = linux ? procIdentity(run.pid!) : null;
     await new Promise((r) => run.on('exit', r));
     if (!linux) return expect(held.process).toBeNull();
-    expect(held.process).toEqual({ boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) });
+    expect(held.process).toEqual(running);
   });
 
   it('takes over a lock from another host only once it is older than the declared age', () => {

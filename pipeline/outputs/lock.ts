@@ -40,7 +40,7 @@ function gone(pid: number): boolean {
  * system) and the process's start in clock ticks after that boot (field 22 of /proc/PID/stat). Together they name one
  * process for good, where a pid alone is given again once its process has ended; null where there is no /proc.
  */
-export async function processIdentity(pid: number): Promise<ProcessIdentity | null> {
+async function processIdentity(pid: number): Promise<ProcessIdentity | null> {
   try {
     const stat = await readFile(`/proc/${pid}/stat`, 'utf8');
     // The program's name, in parentheses, may hold spaces; the fields after it start at field 3.
