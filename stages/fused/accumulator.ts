@@ -22,6 +22,11 @@ export interface Accumulator {
   readonly each?: string;
   /** Statements for finite samples only. */
   readonly finite?: string;
+  /**
+   * State values that put the accumulator one sample before its rarest branch (a window's end, a full reservoir). The
+   * pass's rehearsal starts calls there, so that V8 has seen the branch before it optimises the kernel.
+   */
+  readonly edge?: Readonly<Record<string, number>>;
   /** Runs before the pass walks a chunk (per-chunk constants, such as a chunk's robust spread). */
   beforeChunk?(x: Float64Array, n0: number): void;
   /** Runs after the pass has walked a chunk (folding the chunk's sums into the recording's). */

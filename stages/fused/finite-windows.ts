@@ -11,8 +11,12 @@ export class FiniteWindows extends Accumulating<'length' | 'k' | 'sum' | 'sq' | 
   readonly arrays = { sums: new Float64Array(0), squares: new Float64Array(0) };
   readonly finite = '$sum += v; $sq += v * v; if (++$k === $length) { $sums[$ended] = $sum; $squares[$ended] = $sq; $ended++; $sum = 0; $sq = 0; $k = 0; }';
   private readonly listeners: WindowListener[] = [];
+  readonly edge: { k: number; ended: number };
 
-  constructor(private readonly length: number) { super(`finite-windows:${length}`, { length, k: 0, sum: 0, sq: 0, ended: 0 }); }
+  constructor(private readonly length: number) {
+    super(`finite-windows:${length}`, { length, k: 0, sum: 0, sq: 0, ended: 0 });
+    this.edge = { k: length - 1, ended: 0 };
+  }
 
   /** Calls `l` at the end of every window with its sum, sum of squares and length. */
   listen(l: WindowListener): this { this.listeners.push(l); return this; }

@@ -11,8 +11,12 @@ export class FixedWindows extends Accumulating<'length' | 'k' | 'sum' | 'sq' | '
   readonly arrays = { ends: new Float64Array(0) };
   readonly each = '$sum += v; $sq += v * v; const a = v < 0 ? -v : v; if (a > $peak) $peak = a; if (++$k === $length) { const e = 4 * $ended++; $ends[e] = $sum; $ends[e + 1] = $sq; $ends[e + 2] = $peak; $ends[e + 3] = n + 1; $sum = 0; $sq = 0; $peak = 0; $k = 0; }';
   private readonly listeners: FixedWindowListener[] = [];
+  readonly edge: { k: number; ended: number };
 
-  constructor(private readonly length: number) { super(`fixed-windows:${length}`, { length, k: 0, sum: 0, sq: 0, peak: 0, ended: 0 }); }
+  constructor(private readonly length: number) {
+    super(`fixed-windows:${length}`, { length, k: 0, sum: 0, sq: 0, peak: 0, ended: 0 });
+    this.edge = { k: length - 1, ended: 0 };
+  }
 
   /** Calls `l` at the end of every window with its sum, sum of squares, largest magnitude and the index just past it. */
   listen(l: FixedWindowListener): this { this.listeners.push(l); return this; }

@@ -9,6 +9,7 @@ export const RESERVOIR = 8192;
 export class Histogram extends Accumulating<'lo' | 'scale' | 'bins' | 'seen' | 'kept' | 'seed'> implements Accumulator {
   readonly arrays: { counts: Float64Array; reservoir: Float64Array };
   readonly finite: string;
+  readonly edge = { seen: RESERVOIR, kept: RESERVOIR };
 
   constructor(readonly limits: [number, number] | null, bins: number) {
     super(`histogram:${limits?.join(':') ?? 'reservoir'}:${bins}`, { lo: limits?.[0] ?? 0, scale: limits ? bins / (limits[1] - limits[0]) : 0, bins, seen: 0, kept: 0, seed: 0x9e3779b9 });

@@ -64,11 +64,10 @@ export class FusedPass implements Stage {
   private compile(x: Float64Array): Kernel {
     const signature = kernelSignature(this.accs);
     this.states = this.accs.map((a) => a.state);
-    this.gatherArrays();
     let kernel = kernels.get(signature);
     if (!kernel) {
       kernel = new Function(`return function fusedKernel(x, from, to, n0, states, arrays) {\n${kernelSource(this.accs)}\n};`)() as Kernel;
-      rehearse(kernel, x, this.states, this.arrays);
+      rehearse(kernel, x, this.accs, this.states, this.arrays);
       kernels.set(signature, kernel);
     }
     return kernel;
@@ -84,10 +83,11 @@ export class FusedPass implements Stage {
   }
 
   push(x: Float64Array): void {
-    const kernel = (this.kernel ??= this.compile(x));
     const accs = this.accs, n0 = this.n0, arrays = this.arrays;
     for (let i = 0; i < accs.length; i++) accs[i].beforeChunk?.(x, n0);
     this.gatherArrays();
+    // Compiled after the chunk's constants are set, so that the rehearsal's copies hold a real chunk's state.
+    const kernel = (this.kernel ??= this.compile(x));
     // In blocks: a branch first taken late (a window's end, an outlier) sends V8 back to its interpreter for the rest
     // of one block only, while it re-optimises the loop.
     for (let from = 0; from < x.length; from += BLOCK) kernel(x, from, Math.min(x.length, from + BLOCK), n0, this.states, arrays);
@@ -98,16 +98,26 @@ export class FusedPass implements Stage {
   finish() { return {}; }
 }
 
-// A new kernel is rehearsed before it runs for real: on copies of the state, over the first chunk in short calls, then over a
-// few rare values (missing, infinite, zero and repeated samples). V8 then optimises it with feedback from every branch the
-// data takes. Otherwise the first window end or repeated sample deoptimises it in the middle of a long loop, after which
-// V8 11.3 (Node 20) ran every later call through on-stack replacement, about three times slower (measured: 8 against 24 ns
-// a sample for statistics), in some runs and not others.
+// A new kernel is rehearsed before it runs for real, on copies of the state: first over a few rare values (missing,
+// infinite, zero, repeated and fractional samples), each call starting at every accumulator's edge (one sample before a
+// window's end), then over the first chunk in short calls. V8 then optimises it with feedback from every branch the data
+// can take. Otherwise a branch first taken after V8 optimised the kernel (a window's end, a repeated sample, a sum that
+// outgrows a small integer) deoptimises it in the middle of a long loop: V8 11.3 (Node 20) then recompiled it, often
+// through on-stack replacement as well, up to six compilations a thread (some 150 ms of compiling), and in some runs
+// ran every later call through on-stack replacement, about three times slower (8 against 24 ns a sample for statistics).
 const REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, Infinity, -Infinity), RARE_CALLS = 64;
-function rehearse(kernel: Kernel, x: Float64Array, states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]): void {
+function rehearse(kernel: Kernel, x: Float64Array, accs: readonly Accumulator[], states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]): void {
   const s = states.map((a) => a.slice()), b = arrays.map((a) => a.slice());
-  for (let from = 0; from < x.length; from += REHEARSAL_CALL) kernel(x, from, Math.min(x.length, from + REHEARSAL_CALL), from, s, b);
-  for (let k = 0; k < RARE_CALLS; k++) kernel(RARE, 0, RARE.length, x.length + k * RARE.length, s, b);
+  const edges = accs.map((a) => Object.entries(a.edge ?? {}).map(([name, value]) => {
+    if (!a.names.includes(name)) throw new Error(`accumulator ${a.key}: its edge names ${name}, not one of its state values`);
+    return [a.names.indexOf(name), value] as const;
+  }));
+  for (let k = 0; k < RARE_CALLS; k++) {
+    edges.forEach((edge, i) => { for (const [at, value] of edge) s[i][at] = value; });
+    kernel(RARE, 0, RARE.length, k * RARE.length, s, b);
+  }
+  const n0 = RARE_CALLS * RARE.length;
+  for (let from = 0; from < x.length; from += REHEARSAL_CALL) kernel(x, from, Math.min(x.length, from + REHEARSAL_CALL), n0 + from, s, b);
 }
 
 /** The channel's accumulator under `key`, shared by every stage that asks for it (made by `make` the first time). */
