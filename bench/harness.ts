@@ -37,11 +37,13 @@ function quernBeside(archive: string, out: string): Promise<QuernMeasurement> {
 }
 
 /**
- * The machine's own ceiling for `parts` workers: the archive's recordings dealt into `parts` archives (links to the same
- * files, the same declaration), each reduced by a one-worker quern alone, then all at once in separate processes that share
- * nothing but the machine. Independent processes side by side slow each other down through what the cores share (caches,
- * memory bandwidth, and on a virtual machine whatever the host shares); no way of splitting work among threads escapes that.
- * Returns the reduce phases' speed-up (their sum alone against the longest side by side), the median over `rounds`.
+ * The ceiling of separate quern processes for `parts` workers: the archive's recordings dealt into `parts` archives (links
+ * to the same files, the same declaration), each reduced by a one-worker quern alone, then all at once in separate
+ * processes that share nothing but the machine. They slow each other down through what the cores share (caches, memory
+ * bandwidth, on a virtual machine whatever the host shares) and through each process's own helper threads (V8's compiler
+ * and collector, the main thread), which a one-worker run has a spare core for when alone. `arithmeticCeiling` measures
+ * the machine without the second cause. Returns the reduce phases' speed-up (their sum alone against the longest side by
+ * side), the median over `rounds`.
  */
 export async function sideBySideCeiling(archive: string, parts: number, rounds = 3): Promise<string> {
   const wavs = readdirSync(archive).filter((f) => f.endsWith('.wav')).sort();
@@ -59,7 +61,30 @@ export async function sideBySideCeiling(archive: string, parts: number, rounds =
     const together = (await Promise.all(dirs.map((d) => quernBeside(d, fresh())))).map((m) => m.reduceSeconds);
     ratios.push(alone.reduce((a, b) => a + b, 0) / Math.max(...together));
   }
-  return `the machine's own ceiling: ${parts} one-worker runs on ${parts} parts of the archive, each alone and then side by side in separate processes, reduce ${median(Float64Array.from(ratios)).toFixed(2)}× as fast side by side as one after the other (median of ${rounds}: ${ratios.map((x) => `${x.toFixed(2)}×`).join(', ')})`;
+  return `separate processes' ceiling: ${parts} one-worker runs on ${parts} parts of the archive, each alone and then side by side in separate processes, reduce ${median(Float64Array.from(ratios)).toFixed(2)}× as fast side by side as one after the other (median of ${rounds}: ${ratios.map((x) => `${x.toFixed(2)}×`).join(', ')})`;
+}
+
+/** One single-threaded loop of floating-point arithmetic over 256 KB, its own seconds (no start-up): it allocates nothing after its start. */
+const ARITHMETIC = `const a = new Float64Array(1 << 15); for (let i = 0; i < a.length; i++) a[i] = Math.sin(i);
+let s0 = 0, s1 = 0, s2 = 0, s3 = 0; const t0 = performance.now();
+for (let r = 0; r < 12000; r++) for (let i = 0; i < a.length; i += 4) { s0 += a[i] * a[i]; s1 += a[i + 1] * a[i + 1]; s2 += a[i + 2] * a[i + 2]; s3 += a[i + 3] * a[i + 3]; }
+process.stdout.write(String((performance.now() - t0) / 1000 + 0 * (s0 + s1 + s2 + s3)));`;
+
+const arithmetic = (): Promise<number> => new Promise((resolve, reject) => execFile(process.execPath, ['-e', ARITHMETIC], { encoding: 'utf8' }, (e, text) => (e ? reject(e) : resolve(Number(text)))));
+
+/**
+ * The machine's own ceiling for `parts` busy cores: `parts` single-threaded arithmetic loops (nothing else running in their
+ * processes) one after the other, then side by side. What separate quern processes lose beyond this is theirs.
+ */
+export async function arithmeticCeiling(parts: number, rounds = 5): Promise<string> {
+  const ratios: number[] = [];
+  for (let r = 0; r < rounds; r++) {
+    let alone = 0;
+    for (let k = 0; k < parts; k++) alone += await arithmetic();
+    const together = await Promise.all(Array.from({ length: parts }, () => arithmetic()));
+    ratios.push(alone / Math.max(...together));
+  }
+  return `the machine's own ceiling: ${parts} single-threaded arithmetic loops run ${median(Float64Array.from(ratios)).toFixed(2)}× as fast side by side as one after the other (median of ${rounds}: ${ratios.map((x) => `${x.toFixed(2)}×`).join(', ')})`;
 }
 
 /** quern's command line itself, as a user runs it (bench/measure.ts skips parsing the command line): its whole-command seconds. */

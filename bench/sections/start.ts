@@ -18,12 +18,12 @@ export function fixedCost(runs = 11): void {
   say(`  ${spread(s).text}`);
 }
 
-/** One worker reducing `archive` with every thread summing its collector's pauses (bench/gc-share.ts). */
-function collections(archive: string): ThreadCollections[] {
+/** `jobs` workers reducing `archive` with every thread summing its collector's pauses (bench/gc-share.ts). */
+function collections(archive: string, jobs: number): ThreadCollections[] {
   const stem = join(work, `gc-${Math.random().toString(36).slice(2)}`);
   process.env.QUERN_BENCH_GC = stem;
   try {
-    quern(archive, 1, undefined, undefined, ['--import', join(here, 'gc-share.js')]);
+    quern(archive, jobs, undefined, undefined, ['--import', join(here, 'gc-share.js')]);
   } finally {
     delete process.env.QUERN_BENCH_GC;
   }
@@ -32,11 +32,11 @@ function collections(archive: string): ThreadCollections[] {
 }
 
 /** Each thread's share as the median of `runs` runs (a shared machine's pauses vary from run to run), with every run's share beside it. */
-export function collectorShare(shapes: { label: string; archive: string }[], runs = 3): void {
-  say(`\ngarbage collection, one worker: each thread's collector pauses against its own time, the median of ${runs} runs (target < 2 %)`);
+export function collectorShare(shapes: { label: string; archive: string }[], { runs = 3, jobs = 1 } = {}): void {
+  say(`\ngarbage collection, ${jobs === 1 ? 'one worker' : `--jobs ${jobs}`}: each thread's collector pauses against its own time, the median of ${runs} runs (target < 2 %)`);
   for (const { label, archive } of shapes) {
     const byThread = new Map<string, ThreadCollections[]>();
-    for (let r = 0; r < runs; r++) for (const c of collections(archive)) (byThread.get(c.thread) ?? byThread.set(c.thread, []).get(c.thread)!).push(c);
+    for (let r = 0; r < runs; r++) for (const c of collections(archive, jobs)) (byThread.get(c.thread) ?? byThread.set(c.thread, []).get(c.thread)!).push(c);
     for (const [thread, all] of [...byThread].sort(([a], [b]) => a.localeCompare(b))) {
       const share = (c: ThreadCollections) => (100 * c.pausesMs) / c.lifeMs;
       const sorted = [...all].sort((a, b) => share(a) - share(b)), mid = sorted[(sorted.length - 1) >> 1];

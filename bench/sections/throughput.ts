@@ -3,7 +3,7 @@
 import { join } from 'node:path';
 import { cpus } from 'node:os';
 import { BENCH_SCALE, makeBenchArchive } from '../generate.js';
-import { pairedScaling, peer, quern, reducePhaseScaling, row, say, scalingCeiling, sideBySideCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
+import { pairedScaling, peer, quern, reducePhaseScaling, row, say, scalingCeiling, sideBySideCeiling, arithmeticCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
 
 /** What the summary table needs from this section. */
 export interface ShapeResult { shape: string; quern: Measurement; peer: Measurement | null }
@@ -40,6 +40,7 @@ export async function throughput(): Promise<{ full: string; kept: string; first:
   say(`  ${pairedScaling(runOne, runAll, full, cores)}`);
   say(`  ${scalingCeiling(one, cores)}`);
   say(`  ${await sideBySideCeiling(full, cores)}`);
+  say(`  ${await arithmeticCeiling(cores)}`);
   const peerLong = peer(full, BENCH_SCALE);
   if (peerLong) say(row(`long 16-bit recordings: numpy/scipy peer`, peerLong));
   const manyOne = whole(quern(many, 1));
