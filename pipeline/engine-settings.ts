@@ -25,8 +25,9 @@ export function settleEngine({ wasmTieringBudget = 20_000_000, heapGrowingPercen
  * replacement): about 0.4 s of a core a worker for the bench archive, the fused kernel alone 40–160 ms. With a core to
  * spare that costs nothing; when the workers take every core it only competes with them. Then each worker optimises in
  * its own thread, at once and once. Read as each thread starts (a thread's engine reads it when it is made), so set
- * before the pool starts its threads. Measured on 2 cores, alternating runs: two workers 2 % faster, their collector
- * pauses 36–39 collections against 61–62; one worker with this setting would be 2–4 % slower, so it keeps the default.
+ * before the pool starts its threads. Measured on 2 cores, alternating runs: two workers used 1–2 % less processor time
+ * (within that hour's noise); one worker with this setting collected less (36–39 collections against 61–62 on short
+ * recordings) but ran 2–4 % slower, its spare core idle, so fewer workers than cores keep V8's default.
  */
 export function settleWorkerCompiling(threads: number, cores = availableParallelism()): boolean {
   const inline = threads >= cores;
