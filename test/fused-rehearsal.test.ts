@@ -1,6 +1,5 @@
 // The fused kernel's rehearsal (stages/fused/pass.ts): every branch a channel's data can take is seen before V8 optimises
 // the kernel, so a real run never sends it back to the interpreter (a deoptimisation) part-way through a recording.
-import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { FiniteWindows } from '../stages/fused/finite-windows.js';
@@ -9,7 +8,7 @@ import { Histogram } from '../stages/fused/histogram.js';
 import { RunningMeanSquare } from '../stages/fused/running-mean-square.js';
 import { FusedPass } from '../stages/fused/pass.js';
 import type { Accumulator } from '../stages/fused/accumulator.js';
-import { removeTempDirs, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+import { quernUnder, removeTempDirs, sampleArchiveCopy, tempDir } from './helpers.js';
 
 afterAll(removeTempDirs);
 
@@ -29,8 +28,8 @@ describe('the fused kernel rehearsal', () => {
   });
 
   it('leaves no fused kernel to be deoptimised in a real run of the sample archive', () => {
-    const r = spawnSync(process.execPath, ['--trace-deopt', join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', sampleArchiveCopy(), '--out', join(tempDir(), 'out'), '--jobs', '1'], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
-    expect(r.status, r.stderr).toBeLessThanOrEqual(1); // the sample archive plants one truncated recording
+    const r = quernUnder(['--trace-deopt'], 'reduce', sampleArchiveCopy(), '--out', join(tempDir(), 'out'), '--jobs', '1');
+    expect(r.code, r.stderr).toBeLessThanOrEqual(1); // the sample archive plants one truncated recording
     const deopts = r.stdout.split('\n').filter((l) => l.startsWith('[bailout (kind:'));
     expect(deopts.length).toBeGreaterThan(0); // V8's trace is there: other code is deoptimised now and then
     expect(deopts.filter((l) => l.includes('fusedKernel'))).toEqual([]);

@@ -29,8 +29,11 @@ export function sampleArchiveCopy(): string {
 }
 
 /** Runs the built command line (npm test builds it first) as a user would. */
-export function quern(...args: string[]) {
-  const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
+export const quern = (...args: string[]) => quernUnder([], ...args);
+
+/** The same, with Node's own options before the command (a V8 trace, say). */
+export function quernUnder(nodeOptions: string[], ...args: string[]) {
+  const r = spawnSync(process.execPath, [...nodeOptions, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 

@@ -1,19 +1,18 @@
 // Where the workers' code is optimised (pipeline/engine-settings.ts, settleWorkerCompiling): in each worker's own thread
 // when the workers take every core, on V8's background threads when a core is left over. Read from V8's own trace of
 // its optimising compiler (--trace-opt), on a real run of the sample archive.
-import { spawnSync } from 'node:child_process';
 import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { settleWorkerCompiling } from '../pipeline/engine-settings.js';
-import { removeTempDirs, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+import { quernUnder, removeTempDirs, sampleArchiveCopy, tempDir } from './helpers.js';
 
 afterAll(removeTempDirs);
 
 /** How many functions V8 optimised in the run, on a background thread and in the calling thread. */
 function optimisedIn(jobs: number): { background: number; inline: number } {
-  const r = spawnSync(process.execPath, ['--trace-opt', join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', sampleArchiveCopy(), '--out', join(tempDir(), 'out'), '--jobs', String(jobs)], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
-  expect(r.status, r.stderr).toBeLessThanOrEqual(1); // the sample archive plants one truncated recording
+  const r = quernUnder(['--trace-opt'], 'reduce', sampleArchiveCopy(), '--out', join(tempDir(), 'out'), '--jobs', String(jobs));
+  expect(r.code, r.stderr).toBeLessThanOrEqual(1); // the sample archive plants one truncated recording
   const count = (mode: string) => r.stdout.split('\n').filter((l) => l.startsWith('[compiling method') && l.includes(`ConcurrencyMode::${mode}`)).length;
   return { background: count('kConcurrent'), inline: count('kSynchronous') };
 }

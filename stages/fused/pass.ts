@@ -109,8 +109,9 @@ const REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, I
 function rehearse(kernel: Kernel, x: Float64Array, accs: readonly Accumulator[], states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]): void {
   const s = states.map((a) => a.slice()), b = arrays.map((a) => a.slice());
   const edges = accs.map((a) => Object.entries(a.edge ?? {}).map(([name, value]) => {
-    if (!a.names.includes(name)) throw new Error(`accumulator ${a.key}: its edge names ${name}, not one of its state values`);
-    return [a.names.indexOf(name), value] as const;
+    const at = a.names.indexOf(name);
+    if (at < 0) throw new Error(`accumulator ${a.key}: its edge names ${name}, not one of its state values`);
+    return [at, value] as const;
   }));
   for (let k = 0; k < RARE_CALLS; k++) {
     edges.forEach((edge, i) => { for (const [at, value] of edge) s[i][at] = value; });
