@@ -6,7 +6,7 @@ import { pathToFileURL } from 'node:url';
 import { eachAtOnce } from '../at-once.js';
 import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
-import { settleWorkerCompiling } from '../engine-settings.js';
+import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
 import { encodeRecord, recordFacts } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
@@ -48,7 +48,7 @@ export function openPool(threads = availableParallelism()): Pool {
   // with nothing to reduce never loads it.
   let width = 1;
   let made: Promise<Tinypool> | null = null;
-  const get = () => (made ??= import('tinypool').then(({ Tinypool }) => (settleWorkerCompiling(n), pool = new Tinypool({ filename: workerFile(), useAtomics: false, minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }))));
+  const get = () => (made ??= import('tinypool').then(({ Tinypool }) => (settleWorkerCompiling(n), settleWorkerHeap(), pool = new Tinypool({ filename: workerFile(), useAtomics: false, minThreads: width, maxThreads: width, resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } }))));
   return {
     threads: n,
     widen: (tasks) => {
