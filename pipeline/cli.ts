@@ -84,6 +84,7 @@ async function main(argv: string[]): Promise<number> {
       .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
       .option('stale-lock-after', { type: 'string', default: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
+      .option('stall-limit', { type: 'string', default: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
@@ -94,6 +95,7 @@ async function main(argv: string[]): Promise<number> {
       since = a.since != null ? optionValue('since', a.since, parseWhen) : null;
       until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
       staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
+      const stallMs = optionValue('stall-limit', a.stallLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a stall limit of no time would stop every recording; give a span such as 5m'); return ms; });
       try {
         shard = a.shard ? parseShard(a.shard) : null;
         checkPeriod(since, until, a.since, a.until);
@@ -102,7 +104,7 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs });
+      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);

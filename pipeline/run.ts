@@ -39,6 +39,8 @@ export interface ReduceOptions {
   until?: number | null;
   /** A lock held from another host and not refreshed for this long is taken over. */
   staleLockAfterMs?: number;
+  /** A recording whose reduction makes no progress for this long fails, and the run goes on. */
+  stallMs?: number;
 }
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
@@ -92,6 +94,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // New results mean new outputs: their writers' code loads while the workers reduce, not after.
     if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
     await reduceAll(pool, todo, {
+      stallMs: o.stallMs,
       sizeOf: (d) => d.file.size,
       itemOf,
       onBatch: async (results, batch) => {

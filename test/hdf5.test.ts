@@ -63,7 +63,7 @@ describe('HDF5 reader when the library stops', () => {
   };
 
   // What the worker's task hands the pool, out of the wrapper that moves its memory.
-  const reply = async () => (await reduceBatch([]) as unknown as Record<symbol, unknown>)[Tinypool.valueSymbol];
+  const reply = async () => (await reduceBatch({ items: [], beats: null }) as unknown as Record<symbol, unknown>)[Tinypool.valueSymbol];
 
   // Runs first: the tests after it set instances aside, which asks for a new thread too.
   it('asks for its thread to be replaced once a damaged header has made the library take over 256 MB, which it never gives back', async () => {

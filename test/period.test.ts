@@ -38,7 +38,8 @@ describe('period edges', () => {
       [['--until', '-12h'], /^quern: --until -12h: .*write 12h\n/],
       [['--since', '-5'], /^quern: --since -5: "-5" is neither a date \(2026-11-16, 2026-11-16T02:00Z\) nor a span \(7d, 12h, 30m, 2w\)\n/],
       [['--since', ''], /^quern: --since \(empty\): "" is neither a date .* nor a span/],
-      [['--stale-lock-after', '-1h'], /^quern: --stale-lock-after -1h: "-1h" is not a span \(30m, 12h, 2d, 1w\)\n/],
+      [['--stale-lock-after', '-1h'], /^quern: --stale-lock-after -1h: "-1h" is not a span \(90s, 30m, 12h, 2d, 1w\)\n/],
+      [['--stall-limit', '0s'], /^quern: --stall-limit 0s: a stall limit of no time would stop every recording; give a span such as 5m\n/],
     ];
     for (const [args, message] of cases) {
       const r = quern('reduce', archive, '--out', out, ...args, '--quiet');

@@ -6,6 +6,7 @@ import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { BatchItem } from '../reduce/batch.js';
 import type { Located } from '../store/pack.js';
+import { TRY_AGAIN } from '../store/record.js';
 import type { Store } from '../store/store.js';
 
 /** What to do with a recording and why (a view of the decisions' packed columns). The worker's job is made from it only when the batch goes out. */
@@ -144,6 +145,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       ? decision(previous, compute, reused, text, true, compute.length === 0)
       : decision(null, NONE, reused, text, false, false));
     if (entry.status === 'failed') {
+      if (entry.failureKey === TRY_AGAIN) return all('stopped before for making no progress; tried again');
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }
     const stale = groups.filter((g) => entry.groupKeys[g] !== o.keys[g]);

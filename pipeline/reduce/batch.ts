@@ -9,6 +9,8 @@ import type { Located } from '../store/pack.js';
 import { decodeResults, encodeRecord, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
+import { beat, type Beats } from './stall-watch.js';
+import { THREAD_SCRATCH } from '../../stages/scratch.js';
 import type { RecordingOutput } from './result.js';
 
 /** What a worker needs, beside the job, to store the recording's entry. */
@@ -66,15 +68,18 @@ export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingO
 /** Recordings of a batch reduced at once in a worker (batches hold small recordings; a large one travels alone). */
 const IN_FLIGHT = 8;
 
-/** Reduces a batch (in a worker): each recording read once, its entry encoded with its checksums. */
-export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
+/** Reduces a batch (in a worker): each recording read once, its entry encoded with its checksums; `beats` counts its progress for the main thread's stall watch. */
+export async function reduceBatch(items: BatchItem[], beats: Beats | null = null): Promise<BatchResult[]> {
+  const progressed = () => beat(beats);
   // The stages a spec turns on, made once for the batch (its recordings share one spec).
   const stagesOf = new Map<RecordingJob['spec'], ActiveStage[]>();
   const active = (job: RecordingJob) => stagesOf.get(job.spec) ?? stagesOf.set(job.spec, activeStages(job.spec)).get(job.spec)!;
+  const compute = (job: RecordingJob) => computeRecording(job, active(job), THREAD_SCRATCH, progressed);
   // One descriptor a pack for the whole batch.
   const records = new RecordReader();
   const previousRecord = (loc: Located) => records.read(loc, loc.facts.recording);
   const one = async ({ job, store: s }: BatchItem): Promise<StoredRecord> => {
+    progressed();
     const identity = { ...s.identity };
     if (s.hashContent) identity.hash = await hashFile(job.path).catch(() => null);
     const storedAt = Date.now();
@@ -83,14 +88,14 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
       const facts: EntryFacts = { ...s.previous.facts, identity, readAtMs: s.readAtMs, storedAt };
       return { facts, bytes: encodeRecord(facts, recordBody(previousRecord(s.previous))) };
     }
-    const fresh = unlessChanged(job, s.identity, await computeRecording(job, active(job)));
+    const fresh = unlessChanged(job, s.identity, await compute(job));
     let previous: CacheEntry | null = null;
     if (s.previous && s.reused.length && fresh.status === 'reduced') {
       try { previous = { ...s.previous.facts, ...decodeResults(recordBody(previousRecord(s.previous))) }; } catch { previous = null; }
     }
     if (s.reused.length && !previous && fresh.status === 'reduced') {
       // The stored groups could not be read back: compute every group.
-      const whole = unlessChanged(job, s.identity, await computeRecording({ ...job, groups: null }, active(job)));
+      const whole = unlessChanged(job, s.identity, await compute({ ...job, groups: null }));
       return encode(mergeEntry({ ...s, identity, compute: Object.keys(s.keys), reused: [] }, whole, null), storedAt);
     }
     return encode(mergeEntry({ ...s, identity }, fresh, previous), storedAt);
@@ -98,7 +103,7 @@ export async function reduceBatch(items: BatchItem[]): Promise<BatchResult[]> {
   try {
     // A few recordings at once: small files spend their time waiting on opens and reads, which then overlap.
     const out: StoredRecord[] = new Array(items.length);
-    await eachAtOnce(items, IN_FLIGHT, async (item, i) => { out[i] = await one(item); });
+    await eachAtOnce(items, IN_FLIGHT, async (item, i) => { out[i] = await one(item); progressed(); });
     return together(out);
   } finally {
     records.close();

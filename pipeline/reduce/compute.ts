@@ -61,8 +61,11 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
   }
 }
 
-/** Reduces the feature groups the job names (all when it names none), reading the recording once; `active` is the spec's stages, made once for many recordings. */
-export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec), buffers: ScratchBuffers = THREAD_SCRATCH): Promise<RecordingOutput> {
+/**
+ * Reduces the feature groups the job names (all when it names none), reading the recording once; `active` is the spec's
+ * stages, made once for many recordings. `onProgress` is called after each chunk and each channel's finish.
+ */
+export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec), buffers: ScratchBuffers = THREAD_SCRATCH, onProgress: () => void = () => {}): Promise<RecordingOutput> {
   const t0 = performance.now();
   const out: RecordingOutput = { recording: job.recording, group: job.group, status: 'failed', base: null, groups: {}, seconds: 0 };
   let rec: Recording | null = null;
@@ -132,10 +135,12 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
         for (let s = 0; s < own.length; s++) own[s].stage.push(eng);
       }
       frames += n;
+      onProgress();
     }
     if (frames === 0) throw noSamples();
     perChannel.forEach(({ own }, c) => {
       for (const { group, stage } of own) Object.assign(outputOf(group).columns[c], stage.finish());
+      onProgress();
     });
     // The pictures' data are kept only for channels whose flags ask for a second look; the report draws the few it shows.
     const quality = out.groups.quality;

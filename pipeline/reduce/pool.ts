@@ -7,9 +7,11 @@ import { eachAtOnce } from '../at-once.js';
 import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
-import { encodeRecord, recordFacts } from '../store/record.js';
+import { encodeRecord, recordFacts, TRY_AGAIN } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
+import { newBeats, watchStall } from './stall-watch.js';
+import type { BatchTask } from './worker.js';
 
 /** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
 function workerFile(): string {
@@ -27,7 +29,8 @@ export interface Pool {
   widen(tasks: number): void;
   /** Widens the pool for `tasks` and starts its threads now, so that they load their code before the work comes. */
   prestart(tasks: number): void;
-  run<T>(task: string, input: unknown): Promise<T>;
+  /** Runs a task on a thread; aborting `signal` stops the thread (the pool starts another). */
+  run<T>(task: string, input: unknown, signal?: AbortSignal): Promise<T>;
   /** Threads started so far. */
   started(): number;
   /** The ids of the threads running now. */
@@ -59,9 +62,9 @@ export function openPool(threads = availableParallelism()): Pool {
     prestart(tasks) {
       this.widen(tasks);
       // As many empty batches at once as threads allowed: each one the pool cannot hand to a ready thread starts another.
-      for (let i = 0; i < width; i++) get().then((p) => p.run([], { name: 'reduceBatch' })).catch(() => {});
+      for (let i = 0; i < width; i++) get().then((p) => p.run({ items: [], beats: null } satisfies BatchTask, { name: 'reduceBatch' })).catch(() => {});
     },
-    run: async (name, input) => (await get()).run(input, { name }),
+    run: async (name, input, signal) => (await get()).run(input, { name, signal: signal ?? null }),
     started: () => pool?.threads.length ?? 0,
     threadIds: () => pool?.threads.map((t) => t.threadId) ?? [],
     renew: async () => { await pool?.recycleWorkers(); },
@@ -97,13 +100,18 @@ export interface ReduceOptions<T> {
   itemOf: (work: T) => BatchItem;
   /** Called with each finished batch, in the order they finish (store them, report progress). */
   onBatch: (results: StoredRecord[], work: T[]) => Promise<void>;
+  /** A batch whose worker makes no progress for this long is stopped, and a recording that stalls alone fails. */
+  stallMs?: number;
 }
+
+/** How long a recording may go without progress by default: far beyond any chunk's or channel's work. */
+export const DEFAULT_STALL_MS = 300_000;
 
 /** Batches given to the pool at once, a thread: enough that no thread waits for the next, few enough that memory stays flat. */
 const BATCHES_IN_FLIGHT = 2;
 
-/** Reduces every recording in batches; a worker that dies fails only the recordings of its batch. */
-export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch }: ReduceOptions<T>): Promise<void> {
+/** Reduces every recording in batches; a worker that dies or stalls fails only the recordings of its batch. */
+export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch, stallMs = DEFAULT_STALL_MS }: ReduceOptions<T>): Promise<void> {
   let failure: unknown = null;
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
   pool.widen(batches.length);
@@ -118,13 +126,21 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
       retire ||= reply.retire;
       return reply.records.map(withFacts);
     };
+    const watched = async (of: BatchItem[]) => {
+      const beats = newBeats(), watch = watchStall(beats, stallMs);
+      try {
+        return take(await pool.run<BatchReply>('reduceBatch', { items: of, beats } satisfies BatchTask, watch.signal));
+      } catch (e) {
+        throw watch.stalled() ? new Stalled(stallMs) : e;
+      } finally { watch.stop(); }
+    };
     try {
-      results = take(await pool.run<BatchReply>('reduceBatch', items));
-    } catch (e) {
-      // Out of memory or a native crash: each recording of the batch alone, so one bad file sinks no other.
+      results = await watched(items);
+    } catch {
+      // Out of memory, a native crash or a stall: each recording of the batch alone, so one bad file sinks no other.
       results = [];
       for (const item of items) {
-        try { results.push(...take(await pool.run<BatchReply>('reduceBatch', [item]))); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
+        try { results.push(...await watched([item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
       }
     }
     // A thread that asks to be replaced is, once its batch is back (the others with it, each after its task).
@@ -143,12 +159,20 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  */
 const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
 
-/** The record of a recording whose worker stopped. */
+/** A recording whose reduction made no progress for the stall limit. */
+class Stalled extends Error {
+  constructor(readonly stallMs: number) {
+    super(`made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `
+      + 'The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
+  }
+}
+
+/** The record of a recording whose worker stopped (a stalled one is tried again by the next run). */
 function workerStopped(item: BatchItem, e: Error): StoredRecord {
   const s = item.store;
   const facts = {
-    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: `worker stopped: ${e.message}`, version: s.version, identity: s.identity,
-    readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
+    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: e instanceof Stalled ? e.message : `worker stopped: ${e.message}`,
+    version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: e instanceof Stalled ? TRY_AGAIN : s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
   };
   return { facts, bytes: encodeRecord(facts, { recording: facts.recording, group: facts.group, status: 'failed', reason: facts.reason, base: null, groups: {} }) };
 }

@@ -4,6 +4,7 @@ import { Tinypool } from 'tinypool';
 import type { Candidate, SliceOutput, SliceTask } from '../outputs/slice.js';
 import { hdf5MemoryBytes, hdf5SetAside } from '../../stages/read/hdf5-library.js';
 import { batchBuffers, reduceBatch as reduce, type BatchItem, type BatchReply } from './batch.js';
+import type { Beats } from './stall-watch.js';
 
 /** The table code (Arrow) loads when a first slice is asked for, not while a thread starts to reduce. */
 const tables = () => import('../outputs/slice.js');
@@ -19,8 +20,11 @@ export const RETIRE_ABOVE_HDF5_BYTES = 256 << 20;
 /** Whether this thread holds memory only its end gives back, more than it should keep for the rest of the run. */
 const spent = () => hdf5SetAside() >= RETIRE_AFTER_SET_ASIDE || hdf5MemoryBytes() > RETIRE_ABOVE_HDF5_BYTES;
 
-export async function reduceBatch(items: BatchItem[]): Promise<BatchReply> {
-  const out = await reduce(items);
+/** A batch to reduce, and the beats the main thread watches for progress (none for a thread started ahead). */
+export interface BatchTask { items: BatchItem[]; beats: Beats | null }
+
+export async function reduceBatch({ items, beats }: BatchTask): Promise<BatchReply> {
+  const out = await reduce(items, beats);
   // Every run that reduces writes tables next: their code loads once this batch has gone, while the main thread stores it.
   if (items.length) setImmediate(() => { tables().catch(() => {}); });
   return moved({ records: out, retire: spent() }, batchBuffers(out));

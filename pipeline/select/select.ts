@@ -34,8 +34,8 @@ function check(k: number, n: number, from: string): Shard {
   return { k, n };
 }
 
-const SPAN = /^(\d+(?:\.\d+)?)\s*(m|h|d|w)$/;
-const UNIT_MS = { m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_000 } as const;
+const SPAN = /^(\d+(?:\.\d+)?)\s*(s|m|h|d|w)$/;
+const UNIT_MS = { s: 1_000, m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_000 } as const;
 /** ISO 8601 date, optionally with a time of day and a zone: 2026-11-16, 2026-11-16T02:00, 2026-11-16T02:00:30.5+01:00. */
 const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?$/;
 
@@ -66,10 +66,10 @@ export function checkPeriod(since: number | null, until: number | null, sinceTex
   if (since != null && until != null && since >= until) throw new Error(`--since ${sinceText} is not before --until ${untilText}: no recording could be selected; swap them`);
 }
 
-/** A span such as 30m, 12h, 2d or 1w, in ms. */
+/** A span such as 90s, 30m, 12h, 2d or 1w, in ms. */
 export function parseSpan(text: string): number {
   const span = text.trim().match(SPAN);
-  if (!span) throw new Error(`"${text}" is not a span (30m, 12h, 2d, 1w)`);
+  if (!span) throw new Error(`"${text}" is not a span (90s, 30m, 12h, 2d, 1w)`);
   return Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
 }
 

@@ -16,6 +16,9 @@ export const MAX_PART_BYTES = 1 << 30;
 /** What identifies a recording's content: size and modification time, and a content hash when those cannot be trusted. */
 export interface Identity { size: number; mtimeMs: number; hash: string | null }
 
+/** The failure key of a failure that says nothing of the file (its reduction stalled): the next run reads it again. */
+export const TRY_AGAIN = 'try-again';
+
 /** The facts of an entry that deciding and run.json need, kept apart from the (larger) results. */
 export interface EntryFacts {
   recording: string;
@@ -29,7 +32,7 @@ export interface EntryFacts {
   declKey: string;
   /** The key each stored group was computed under. */
   groupKeys: Record<string, string>;
-  /** For a failed recording: the spec hash it failed under. */
+  /** For a failed recording: the spec hash it failed under, or TRY_AGAIN for a failure the next run should not trust. */
   failureKey?: string;
   seconds: number;
   frames: number;

@@ -1,0 +1,44 @@
+// A recording that stops making progress (a reader caught in a loop by a damaged file, a file system that stopped
+// answering) must not hold a night's run: its worker beats as it goes, and a batch whose beats stop is given up.
+
+/** Beats a worker's task counts as it goes (a chunk read, a recording begun or finished), shared with the main thread. */
+export type Beats = Int32Array;
+
+export const newBeats = (): Beats => new Int32Array(new SharedArrayBuffer(4));
+
+/** One step of progress; no beats (null) when nobody watches. */
+export function beat(beats: Beats | null): void {
+  if (beats) Atomics.add(beats, 0, 1);
+}
+
+export interface StallWatch {
+  /** Aborts once the beats have not moved for the stall limit. */
+  signal: AbortSignal;
+  /** Whether it aborted for that reason. */
+  stalled(): boolean;
+  stop(): void;
+}
+
+/**
+ * Watches `beats` from the main thread and aborts when they have not moved for `stallMs`. The limit counts from the
+ * first beat: a task still waiting for a thread, or a thread still starting, has not stalled.
+ */
+export function watchStall(beats: Beats, stallMs: number, { everyMs = Math.min(5_000, Math.max(1, stallMs / 4)) } = {}): StallWatch {
+  const controller = new AbortController();
+  let seen = 0, since = 0, stalled = false;
+  const timer = setInterval(() => {
+    const now = Atomics.load(beats, 0), t = performance.now();
+    if (now !== seen || since === 0) {
+      if (now !== 0) { seen = now; since = t; }
+      return;
+    }
+    if (t - since >= stallMs) {
+      stalled = true;
+      clearInterval(timer);
+      controller.abort(new Error(`no progress for ${stallMs / 1000} s`));
+    }
+  }, everyMs);
+  // The watch alone never keeps the process alive.
+  timer.unref();
+  return { signal: controller.signal, stalled: () => stalled, stop: () => clearInterval(timer) };
+}
