@@ -86,6 +86,9 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? r.bits;
+      // The most negative code is −1 of full scale, the most positive one step short of +1 (a negative scale swaps them).
+      const ends = r.normalised && r.bits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - r.bits)) * decl.scale + decl.offset] : null;
+      const fullScale: [number, number] | null = ends && [Math.min(ends[0], ends[1]), Math.max(ends[0], ends[1])];
       // One context a feature group, shared by the group's stages: each stage's notes, rows and flags are filed under its
       // own feature group, and a recording makes a few contexts a channel, not one a stage (they live as long as it does).
       const contexts = new Map<string, ChannelContext>();
@@ -98,8 +101,7 @@ export async function computeRecording(job: RecordingJob, active: ActiveStage[] 
           maxFrequencyHz: decl.max_frequency_hz,
           // One converter step in engineering units: full scale ±1 spans 2^bits codes.
           stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
-          // The most negative code is −1 of full scale, the most positive one step short of +1.
-          fullScale: r.normalised && r.bits ? [-1, 1 - 2 ** (1 - r.bits)].map((v) => v * decl.scale + decl.offset).sort((a, b) => a - b) as [number, number] : null,
+          fullScale,
           declared: job.channels != null,
           declaredDurationS: job.durationS,
           timeSteps: () => r.timeSteps ?? null,

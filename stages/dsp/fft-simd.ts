@@ -39,17 +39,31 @@ class Kernels {
     return at;
   }
 
-  private views = new Map<number, Float64Array>();
+  // By place, then length: two small-integer keys, where one key of both would be a double the engine boxes at each call.
+  private views = new Map<number, Map<number, Float64Array>>();
   private viewsOf: ArrayBuffer | null = null;
+  private whole: Float64Array | null = null;
 
   /** A view of doubles in the instance's memory, kept until the memory grows (which detaches every view). */
   f64(at: number, length: number): Float64Array {
-    const buffer = this.x.memory.buffer;
-    if (buffer !== this.viewsOf) { this.views.clear(); this.viewsOf = buffer; }
-    const key = length * 2 ** 32 + at;
-    let v = this.views.get(key);
-    if (!v) this.views.set(key, (v = new Float64Array(buffer, at, length)));
+    const buffer = this.current();
+    let at0 = this.views.get(at);
+    if (!at0) this.views.set(at, (at0 = new Map()));
+    let v = at0.get(length);
+    if (!v) at0.set(length, (v = new Float64Array(buffer, at, length)));
     return v;
+  }
+
+  /** The whole memory as doubles (index = byte place / 8), for copies within it that make no views. */
+  heap(): Float64Array {
+    const buffer = this.current();
+    return (this.whole ??= new Float64Array(buffer, 0, buffer.byteLength >>> 3));
+  }
+
+  private current(): ArrayBuffer {
+    const buffer = this.x.memory.buffer;
+    if (buffer !== this.viewsOf) { this.views.clear(); this.whole = null; this.viewsOf = buffer; }
+    return buffer;
   }
 
   private readonly spare = new Map<number, number[]>();
@@ -146,13 +160,14 @@ export class PeriodogramSum {
     const k = kernels(), length = held + x.length;
     const cap = 2 ** Math.ceil(Math.log2(Math.max(length, 2 * this.n)));
     const at = k.region(`welch:stretch:${cap}`, cap); // before any view: making it may grow the memory
-    const stretch = k.f64(at, cap);
-    stretch.set(this.segment().subarray(0, held));
-    stretch.set(x, held);
+    // Copies within the memory, by place: no view made for a part of it.
+    const heap = k.heap(), stretch = at >>> 3, segment = this.at >>> 3;
+    heap.copyWithin(stretch, segment, segment + held);
+    heap.set(x, stretch + held);
     const added = k.exports.welch_add(this.plan, at, length, hop, this.window, this.re, this.im, this.at + 8 * this.n);
-    const from = added * hop, left = Math.max(0, length - from);
-    this.segment().set(stretch.subarray(Math.min(from, length), length).subarray(0, this.n));
-    return { added, held: Math.min(left, this.n) };
+    const from = Math.min(added * hop, length), kept = Math.min(length - from, this.n);
+    heap.copyWithin(segment, stretch + from, stretch + from + kept);
+    return { added, held: kept };
   }
 
   /** The sum of the periodograms added; the memory goes back (later calls return the same sum). */
@@ -221,8 +236,8 @@ export class AnalyticBlocks {
     const k = kernels(), a = this.at, n = this.n;
     k.f64(a.x, n).set(x);
     k.exports.analytic(a.rp, a.cp, a.x, a.g, a.re, a.im, a.sr, a.si, from, to, a.or, a.oa);
-    outRe.set(k.f64(a.or, n).subarray(0, to - from));
-    outAbs.set(k.f64(a.oa, n).subarray(0, to - from));
+    outRe.set(k.f64(a.or, to - from));
+    outAbs.set(k.f64(a.oa, to - from));
   }
 }
 
