@@ -40,28 +40,32 @@ describe('the stall watch', () => {
   });
 });
 
+/** An archive of invented test-rig captures, two accelerometers each, finished an hour ago as a nightly run finds them. */
+function rigArchive(count: number): { archive: string; out: string } {
+  const archive = tempDir(), out = join(archive, '..', `${archive.split('/').pop()}-out`);
+  const fs = 8000, hourAgo = new Date(Date.now() - 3_600_000);
+  for (let k = 0; k < count; k++) {
+    const f = 40 + 10 * k, name = join(archive, `bay-${k + 1}.wav`);
+    const x = Float64Array.from({ length: 10 * fs }, (_, i) => 0.4 * Math.sin((2 * Math.PI * f * i) / fs));
+    writeFileSync(name, encodeWav({ sampleRate: fs, channels: [x, x], encoding: 'pcm16' }));
+    utimesSync(name, hourAgo, hourAgo); // a file modified just now would also be hashed
+  }
+  writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: bay\n    match: "*.wav"\n    channels:\n      - { name: a1, quantity: acceleration, unit: g }\n      - { name: a2, quantity: acceleration, unit: g }\n');
+  return { archive, out };
+}
+
+const STALLED = 'made no progress for 0.001 s (--stall-limit): its worker was stopped and the run went on. The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again';
+const NOT_TRIED = /^not tried: the [34] recordings before it made no progress for 0.001 s each \(--stall-limit\), none reduced between them, so the run stopped reading; the file system may have stopped answering\. The next run tries it again$/;
+
 describe('a run with a stall limit', () => {
+  // A limit of a thousandth of a second: no recording gets from its start to its first chunk in that time.
   it('fails the recordings that make no progress, goes on and writes its outputs; the next run reduces them again', () => {
-    const archive = tempDir(), out = join(archive, '..', `${archive.split('/').pop()}-out`);
-    const fs = 8000;
-    // An invented test rig's two accelerometer captures, a 40 Hz and a 90 Hz tone.
-    for (const [name, f] of [['bay-1.wav', 40], ['bay-2.wav', 90]] as const) {
-      const x = Float64Array.from({ length: 2 * fs }, (_, i) => 0.4 * Math.sin((2 * Math.PI * f * i) / fs));
-      writeFileSync(join(archive, name), encodeWav({ sampleRate: fs, channels: [x, x], encoding: 'pcm16' }));
-      // Captures finished an hour ago, as a nightly run finds them (a file modified just now is also hashed).
-      const hourAgo = new Date(Date.now() - 3_600_000);
-      utimesSync(join(archive, name), hourAgo, hourAgo);
-    }
-    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: bay\n    match: "*.wav"\n    channels:\n      - { name: a1, quantity: acceleration, unit: g }\n      - { name: a2, quantity: acceleration, unit: g }\n');
-    // A limit of a thousandth of a second: no recording gets from its start to its first chunk in that time.
+    const { archive, out } = rigArchive(2);
     const stalled = quern('reduce', archive, '--out', out, '--jobs', '1', '--stall-limit', '0.001s', '--quiet');
     expect(stalled.code, stalled.stderr).toBe(1);
     const first = readJson(join(out, 'run.json'));
     expect(first.counts).toMatchObject({ reduced: 0, failed: 2 });
-    for (const r of first.recordings) {
-      expect(r.status).toBe('failed');
-      expect(r.reason).toBe('made no progress for 0.001 s (--stall-limit): its worker was stopped and the run went on. The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
-    }
+    for (const r of first.recordings) expect([r.status, r.reason]).toEqual(['failed', STALLED]);
     expect(existsSync(join(out, 'features.parquet'))).toBe(true);
     expect(existsSync(join(out, 'quality.html'))).toBe(true);
 
@@ -69,6 +73,24 @@ describe('a run with a stall limit', () => {
     expect(again.code, again.stderr).toBe(0);
     const second = readJson(join(out, 'run.json'));
     expect(second.counts).toMatchObject({ reduced: 2, failed: 0 });
-    for (const r of second.recordings) expect(r.why).toBe('stopped before for making no progress; tried again');
+    for (const r of second.recordings) expect(r.why).toBe('not reduced before (no progress within the stall limit); tried again');
+  });
+
+  it('stops reading after three recordings stall in a row, as when the storage stops answering, and fails the rest as not tried', () => {
+    const { archive, out } = rigArchive(6);
+    const r = quern('reduce', archive, '--out', out, '--jobs', '1', '--stall-limit', '0.001s', '--quiet');
+    expect(r.code, r.stderr).toBe(1);
+    const { counts, recordings } = readJson(join(out, 'run.json'));
+    expect(counts).toMatchObject({ reduced: 0, failed: 6 });
+    const stalled = recordings.filter((x: { reason: string }) => x.reason === STALLED).length;
+    const notTried = recordings.filter((x: { reason: string }) => NOT_TRIED.test(x.reason)).length;
+    // Three in a row, or four when two were handed to the thread before the third stalled.
+    expect(stalled).toBeGreaterThanOrEqual(3);
+    expect(stalled).toBeLessThanOrEqual(4);
+    expect(stalled + notTried).toBe(6);
+
+    const again = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(again.code, again.stderr).toBe(0);
+    expect(readJson(join(out, 'run.json')).counts).toMatchObject({ reduced: 6, failed: 0 });
   });
 });

@@ -145,7 +145,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       ? decision(previous, compute, reused, text, true, compute.length === 0)
       : decision(null, NONE, reused, text, false, false));
     if (entry.status === 'failed') {
-      if (entry.failureKey === TRY_AGAIN) return all('stopped before for making no progress; tried again');
+      if (entry.failureKey === TRY_AGAIN) return all('not reduced before (no progress within the stall limit); tried again');
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }
     const stale = groups.filter((g) => entry.groupKeys[g] !== o.keys[g]);

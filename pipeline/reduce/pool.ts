@@ -110,9 +110,18 @@ export const DEFAULT_STALL_MS = 300_000;
 /** Batches given to the pool at once, a thread: enough that no thread waits for the next, few enough that memory stays flat. */
 const BATCHES_IN_FLIGHT = 2;
 
+/**
+ * Recordings that stall one after another, none reduced between them, after which the run tries no more: a file system
+ * that stopped answering would otherwise cost the stall limit for every recording left. Bad files scattered through an
+ * archive have recordings reduced between them, and each only costs its own stall.
+ */
+export const STALLS_IN_A_ROW = 3;
+
 /** Reduces every recording in batches; a worker that dies or stalls fails only the recordings of its batch. */
 export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch, stallMs = DEFAULT_STALL_MS }: ReduceOptions<T>): Promise<void> {
   let failure: unknown = null;
+  let stallsInARow = 0;
+  const notTried = () => new NotTried(stallsInARow, stallMs);
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
   pool.widen(batches.length);
   const one = async (batch: T[]) => {
@@ -134,13 +143,28 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
         throw watch.stalled() ? new Stalled(stallMs) : e;
       } finally { watch.stop(); }
     };
-    try {
-      results = await watched(items);
-    } catch {
-      // Out of memory, a native crash or a stall: each recording of the batch alone, so one bad file sinks no other.
-      results = [];
-      for (const item of items) {
-        try { results.push(...await watched([item])); } catch (e1) { results.push(workerStopped(item, e1 as Error)); }
+    // One recording alone: its own reduction, counted in the stalls in a row.
+    const alone = async (item: BatchItem): Promise<StoredRecord[]> => {
+      if (stallsInARow >= STALLS_IN_A_ROW) return [workerStopped(item, notTried())];
+      try {
+        const out = await watched([item]);
+        stallsInARow = 0;
+        return out;
+      } catch (e) {
+        if (e instanceof Stalled) stallsInARow++;
+        return [workerStopped(item, e as Error)];
+      }
+    };
+    if (stallsInARow >= STALLS_IN_A_ROW) results = items.map((item) => workerStopped(item, notTried()));
+    else if (items.length === 1) results = await alone(items[0]);
+    else {
+      try {
+        results = await watched(items);
+        stallsInARow = 0;
+      } catch {
+        // Out of memory, a native crash or a stall: each recording of the batch alone, so one bad file sinks no other.
+        results = [];
+        for (const item of items) results.push(...await alone(item));
       }
     }
     // A thread that asks to be replaced is, once its batch is back (the others with it, each after its task).
@@ -159,20 +183,31 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  */
 const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
 
+/** A failure that says nothing of the file itself: the next run tries it again. */
+class NoProgress extends Error {}
+
 /** A recording whose reduction made no progress for the stall limit. */
-class Stalled extends Error {
-  constructor(readonly stallMs: number) {
+class Stalled extends NoProgress {
+  constructor(stallMs: number) {
     super(`made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `
       + 'The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
   }
 }
 
-/** The record of a recording whose worker stopped (a stalled one is tried again by the next run). */
+/** A recording the run did not try, after recordings before it stalled one after another. */
+class NotTried extends NoProgress {
+  constructor(inARow: number, stallMs: number) {
+    super(`not tried: the ${inARow} recordings before it made no progress for ${stallMs / 1000} s each (--stall-limit), none reduced between them, `
+      + 'so the run stopped reading; the file system may have stopped answering. The next run tries it again');
+  }
+}
+
+/** The record of a recording whose worker stopped (one that stalled, or was not tried, is tried again by the next run). */
 function workerStopped(item: BatchItem, e: Error): StoredRecord {
   const s = item.store;
   const facts = {
-    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: e instanceof Stalled ? e.message : `worker stopped: ${e.message}`,
-    version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: e instanceof Stalled ? TRY_AGAIN : s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
+    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: e instanceof NoProgress ? e.message : `worker stopped: ${e.message}`,
+    version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: e instanceof NoProgress ? TRY_AGAIN : s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
   };
   return { facts, bytes: encodeRecord(facts, { recording: facts.recording, group: facts.group, status: 'failed', reason: facts.reason, base: null, groups: {} }) };
 }
