@@ -28,14 +28,20 @@ export function sampleArchiveCopy(): string {
   return dir;
 }
 
-/** Runs the built command line (npm test builds it first) as a user would. */
-export const quern = (...args: string[]) => quernUnder([], ...args);
+/** The built command line (npm test builds it first) in a process of its own; `limitMs` stops it should it wait or spin. */
+function spawnQuern(nodeOptions: string[], args: string[], limitMs?: number) {
+  const r = spawnSync(process.execPath, [...nodeOptions, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', timeout: limitMs, env: { ...process.env, FORCE_COLOR: '0' } });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr, signal: r.signal };
+}
+
+/** Runs the built command line as a user would. */
+export const quern = (...args: string[]) => spawnQuern([], args);
 
 /** The same, with Node's own options before the command (a V8 trace, say). */
-export function quernUnder(nodeOptions: string[], ...args: string[]) {
-  const r = spawnSync(process.execPath, [...nodeOptions, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0' } });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+export const quernUnder = (nodeOptions: string[], ...args: string[]) => spawnQuern(nodeOptions, args);
+
+/** The same, stopped after `limitMs` (its signal then says so): a command that waits or spins fails its test, not the suite. */
+export const quernWithin = (limitMs: number, ...args: string[]) => spawnQuern([], args, limitMs);
 
 /** Every sample of a recording, per channel, gathered from the streaming reader (small files only). */
 export async function readAll(path: string, options: OpenOptions = {}) {

@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { editDistance, nearestNames } from '../pipeline/declare/nearest-names.js';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, readJson, repo, tempDir } from './helpers.js';
+import { quern, quernWithin, readJson, tempDir } from './helpers.js';
 
 const CHANNELS = `    channels:
       - { name: a, quantity: acceleration, unit: m/s^2, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 1000 }
@@ -82,8 +82,8 @@ describe('recordings that hold no samples', () => {
 describe('entries that are not files of samples', () => {
   /** The built command under a time limit: a reader waiting on a pipe must show as a failed test, not a stuck suite. */
   const bounded = (...args: string[]) => {
-    const r = spawnSync(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', timeout: 60_000 });
-    return { code: r.status, stdout: r.stdout, stderr: r.stderr, timedOut: r.signal === 'SIGTERM' };
+    const r = quernWithin(60_000, ...args);
+    return { ...r, timedOut: r.signal === 'SIGTERM' };
   };
   /** An archive holding a good recording, a named pipe and a link to an endless device, all matched by the group. */
   function specialArchive(): string {
