@@ -104,11 +104,13 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+      // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
+      if (threadsGivenUp) (await import('./reduce/end-despite-stuck-threads.js')).endDespiteStuckThreads(threadsGivenUp);
     })
     .command('export <reduced>', 'Write spreadsheet-ready copies of a reduced folder\'s tables beside them: CSV per table, one XLSX workbook', (y: Argv) => y
       .positional('reduced', { type: 'string', demandOption: true, describe: 'A folder quern reduce or quern merge wrote' })

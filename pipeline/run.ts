@@ -48,7 +48,8 @@ export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/
 /** Loads the code that writes tables, trends and charts (Arrow, Parquet, Vega), which runs that write nothing never load. */
 const loadWriters = () => Promise.all([import('./trends/trends.js'), import('./outputs/parquet-stream.js'), import('./outputs/report-changes.js'), import('./outputs/parquet-wasm.js').then((m) => m.parquetWasm())]);
 
-export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary }> {
+/** The run's record and quality summary, and the worker threads it gave up for a stall (see end-despite-stuck-threads.ts). */
+export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; quality: QualitySummary; threadsGivenUp: number }> {
   const started = new Date();
   const clock = (t0: number) => (performance.now() - t0) / 1000;
   const root = resolve(o.archive);
@@ -93,7 +94,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
     // New results mean new outputs: their writers' code loads while the workers reduce, not after.
     if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
-    await reduceAll(pool, todo, {
+    const { threadsGivenUp } = await reduceAll(pool, todo, {
       stallMs: o.stallMs,
       sizeOf: (d) => d.file.size,
       itemOf,
@@ -136,7 +137,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
-    return { record, quality: written.quality };
+    return { record, quality: written.quality, threadsGivenUp };
   } finally {
     await pool.destroy();
     await store?.close();

@@ -1,13 +1,15 @@
 // A recording whose reduction stops making progress must not hold the run: the worker beats as it reads, the main
 // thread watches the beats (pipeline/reduce/stall-watch.ts), and a batch whose beats stop for the stall limit is given
 // up, its thread stopped, and a recording that stalls alone fails with the reason; the next run tries it again.
+import { spawnSync } from 'node:child_process';
 import { existsSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { describe, expect, it } from 'vitest';
 import { newBeats, watchStall } from '../pipeline/reduce/stall-watch.js';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, readJson, tempDir } from './helpers.js';
+import { quern, readJson, repo, tempDir } from './helpers.js';
 
 const aborted = (signal: AbortSignal) => new Promise<void>((resolve) => signal.addEventListener('abort', () => resolve(), { once: true }));
 const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
@@ -92,5 +94,32 @@ describe('a run with a stall limit', () => {
     const again = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
     expect(again.code, again.stderr).toBe(0);
     expect(readJson(join(out, 'run.json')).counts).toMatchObject({ reduced: 6, failed: 0 });
+  });
+});
+
+describe('a process that gave up a thread waiting on storage', () => {
+  /** A Node process whose worker thread waits in the operating system, as on storage that stopped answering: opening a named pipe nobody writes. */
+  function runWithThread(threadCode: string) {
+    const dir = tempDir(), pipe = join(dir, 'silent-storage');
+    // mkfifo (coreutils, part of every base system) is the only way to make a named pipe: Node has no call for it.
+    expect(spawnSync('mkfifo', [pipe]).status).toBe(0);
+    const guard = pathToFileURL(join(repo, 'dist', 'pipeline', 'reduce', 'end-despite-stuck-threads.js')).href;
+    const script = `import { Worker } from 'node:worker_threads';
+import { endDespiteStuckThreads } from ${JSON.stringify(guard)};
+const thread = new Worker(${JSON.stringify(threadCode.replace('PIPE', pipe))}, { eval: true });
+setTimeout(() => { thread.terminate(); process.exitCode = 1; endDespiteStuckThreads(1, { afterMs: 500 }); }, 300);`;
+    writeFileSync(join(dir, 'night.mjs'), script);
+    return spawnSync(process.execPath, [join(dir, 'night.mjs')], { encoding: 'utf8', timeout: 30_000 });
+  }
+
+  it('ends, saying why, where Node alone would wait for the thread for ever', () => {
+    const r = runWithThread("require('node:fs').openSync('PIPE', 'r');");
+    expect(r.signal).toBe('SIGKILL');
+    expect(r.stderr).toBe('quern: 1 worker thread given up for making no progress is still waiting on storage 0.5 s after the run finished, which keeps the process from ending; ending it (the outputs and run.json are written)\n');
+  });
+
+  it('lets a process whose threads stopped end by itself, with its own exit code', () => {
+    const r = runWithThread('for (;;) {}'); // an endless loop in JavaScript, which stopping the thread does reach
+    expect([r.status, r.signal, r.stderr]).toEqual([1, null, '']);
   });
 });

@@ -117,10 +117,13 @@ const BATCHES_IN_FLIGHT = 2;
  */
 export const STALLS_IN_A_ROW = 3;
 
-/** Reduces every recording in batches; a worker that dies or stalls fails only the recordings of its batch. */
-export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch, stallMs = DEFAULT_STALL_MS }: ReduceOptions<T>): Promise<void> {
+/**
+ * Reduces every recording in batches; a worker that dies or stalls fails only the recordings of its batch. Returns the
+ * threads given up for a stall (one may still be waiting on storage when the run ends).
+ */
+export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBatch, stallMs = DEFAULT_STALL_MS }: ReduceOptions<T>): Promise<{ threadsGivenUp: number }> {
   let failure: unknown = null;
-  let stallsInARow = 0;
+  let stallsInARow = 0, threadsGivenUp = 0;
   const notTried = () => new NotTried(stallsInARow, stallMs);
   const batches = formBatches(work, sizeOf, { threads: pool.threads });
   pool.widen(batches.length);
@@ -140,7 +143,9 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
       try {
         return take(await pool.run<BatchReply>('reduceBatch', { items: of, beats } satisfies BatchTask, watch.signal));
       } catch (e) {
-        throw watch.stalled() ? new Stalled(stallMs) : e;
+        if (!watch.stalled()) throw e;
+        threadsGivenUp++;
+        throw new Stalled(stallMs);
       } finally { watch.stop(); }
     };
     // One recording alone: its own reduction, counted in the stalls in a row.
@@ -175,6 +180,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
   };
   await eachAtOnce(batches, pool.threads * BATCHES_IN_FLIGHT, one, () => !!failure);
   if (failure) throw failure;
+  return { threadsGivenUp };
 }
 
 /**
