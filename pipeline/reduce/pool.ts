@@ -10,7 +10,7 @@ import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
 import { encodeRecord, recordFacts, TRY_AGAIN } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
-import { newBeats, watchStall } from './stall-watch.js';
+import { newBeats, NoProgress, NotTried, Stalled, watchStall } from './stall-watch.js';
 import type { BatchTask } from './worker.js';
 
 /** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
@@ -188,25 +188,6 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  * they never outlive the collector's young generation, where facts copied over with every batch piled up in the old one.
  */
 const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
-
-/** A failure that says nothing of the file itself: the next run tries it again. */
-class NoProgress extends Error {}
-
-/** A recording whose reduction made no progress for the stall limit. */
-class Stalled extends NoProgress {
-  constructor(stallMs: number) {
-    super(`made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `
-      + 'The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
-  }
-}
-
-/** A recording the run did not try, after recordings before it stalled one after another. */
-class NotTried extends NoProgress {
-  constructor(inARow: number, stallMs: number) {
-    super(`not tried: the ${inARow} recordings before it made no progress for ${stallMs / 1000} s each (--stall-limit), none reduced between them, `
-      + 'so the run stopped reading; the file system may have stopped answering. The next run tries it again');
-  }
-}
 
 /** The record of a recording whose worker stopped (one that stalled, or was not tried, is tried again by the next run). */
 function workerStopped(item: BatchItem, e: Error): StoredRecord {

@@ -1,5 +1,6 @@
 // A recording that stops making progress (a reader caught in a loop by a damaged file, a file system that stopped
-// answering) must not hold a night's run: its worker beats as it goes, and a batch whose beats stop is given up.
+// answering) must not hold a night's run: its worker beats as it goes, a batch whose beats stop is given up, and its
+// recordings fail with the reasons below.
 
 /** Beats a worker's task counts as it goes (a chunk read, a recording begun or finished), shared with the main thread. */
 export type Beats = Int32Array;
@@ -41,4 +42,23 @@ export function watchStall(beats: Beats, stallMs: number, { everyMs = Math.min(5
   // The watch alone never keeps the process alive.
   timer.unref();
   return { signal: controller.signal, stalled: () => stalled, stop: () => clearInterval(timer) };
+}
+
+/** A failure that says nothing of the file itself: the next run tries it again. */
+export class NoProgress extends Error {}
+
+/** A recording whose reduction made no progress for the stall limit. */
+export class Stalled extends NoProgress {
+  constructor(stallMs: number) {
+    super(`made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `
+      + 'The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
+  }
+}
+
+/** A recording the run did not try, after recordings before it stalled one after another. */
+export class NotTried extends NoProgress {
+  constructor(inARow: number, stallMs: number) {
+    super(`not tried: the ${inARow} recordings before it made no progress for ${stallMs / 1000} s each (--stall-limit), none reduced between them, `
+      + 'so the run stopped reading; the file system may have stopped answering. The next run tries it again');
+  }
 }
