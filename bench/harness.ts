@@ -130,6 +130,17 @@ export function reducePhaseScaling(one: QuernMeasurement, many: QuernMeasurement
 }
 
 /**
+ * The reduce phase's scaling the whole command would need for `target`× (the target of the two-worker line), the rest of
+ * each command (start, declarations, scan, tables and reports) as measured: what one thread does limits the whole.
+ */
+export function neededReduceScaling(one: QuernMeasurement, many: QuernMeasurement, jobs: number, target = 1.85): string {
+  const rest = many.wallSeconds - many.reduceSeconds, allowed = one.wallSeconds / target - rest;
+  const need = allowed > 0 ? one.reduceSeconds / allowed : Infinity;
+  const head = `for ${target.toFixed(2)}× as a whole command with these rests, the reduce phase would need`;
+  return need <= jobs ? `${head} ${need.toFixed(2)}× on ${jobs} cores` : `${head} ${Number.isFinite(need) ? `${need.toFixed(2)}×, more than ${jobs} cores can give` : 'to take no time at all'}`;
+}
+
+/**
  * `jobs` workers against one, whole commands and the reduce phase alone, as the median over pairs run one after the other
  * (the given pair, then `pairs` − 1 more: one worker, then `jobs`, and again): on a shared machine a single pair swings by a
  * tenth either way as the machine speeds up or slows down between its two runs.

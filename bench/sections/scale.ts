@@ -4,7 +4,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { cpus } from 'node:os';
 import { join } from 'node:path';
 import { makeBenchArchive, makeManyTinyRecordings } from '../generate.js';
-import { command, nodeAlone, pairedScaling, quern, reducePhaseScaling, repo, say, scalingCeiling, sideBySideCeiling, spread, work, type QuernMeasurement } from '../harness.js';
+import { command, nodeAlone, pairedScaling, quern, neededReduceScaling, reducePhaseScaling, repo, say, scalingCeiling, sideBySideCeiling, spread, work, type QuernMeasurement } from '../harness.js';
 
 const pct = (a: QuernMeasurement, b: QuernMeasurement) => `${((a.wallSeconds / b.wallSeconds) * 100).toFixed(1)} % of the full run (in-process ${((a.seconds / b.seconds) * 100).toFixed(1)} %)`;
 const line = (label: string, m: QuernMeasurement, tail = '') =>
@@ -43,6 +43,7 @@ export async function shortRecordings(): Promise<void> {
   say(line('--jobs 2', two));
   say(`  --jobs 2 runs ${(one.wallSeconds / two.wallSeconds).toFixed(2)}× as fast as --jobs 1 (whole command; in-process ${(one.seconds / two.seconds).toFixed(2)}×; processor time ${two.cpuSeconds.toFixed(2)} s against ${one.cpuSeconds.toFixed(2)} s)`);
   say(`  ${reducePhaseScaling(one, two, 2)}`);
+  say(`  ${neededReduceScaling(one, two, 2)}`);
   say(`  ${pairedScaling(one, two, short, 2)}`);
   say(`  ${scalingCeiling(one, 2)}`);
   say(`  ${await sideBySideCeiling(short, 2)}`);

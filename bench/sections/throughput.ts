@@ -3,7 +3,7 @@
 import { join } from 'node:path';
 import { cpus } from 'node:os';
 import { BENCH_SCALE, makeBenchArchive } from '../generate.js';
-import { pairedScaling, peer, quern, reducePhaseScaling, row, say, scalingCeiling, sideBySideCeiling, arithmeticCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
+import { pairedScaling, peer, quern, neededReduceScaling, reducePhaseScaling, row, say, scalingCeiling, sideBySideCeiling, arithmeticCeiling, work, type Measurement, type QuernMeasurement } from '../harness.js';
 
 /** What the summary table needs from this section. */
 export interface ShapeResult { shape: string; quern: Measurement; peer: Measurement | null }
@@ -37,6 +37,7 @@ export async function throughput(): Promise<{ full: string; kept: string; first:
   say(row(`long 16-bit recordings: quern, --jobs ${cores}`, all));
   say(`  --jobs ${cores} runs ${(one.seconds / all.seconds).toFixed(2)}× as fast as --jobs 1 (processor time ${all.cpuSeconds.toFixed(2)} s against ${one.cpuSeconds.toFixed(2)} s)`);
   say(`  ${reducePhaseScaling(one, all, cores)}`);
+  say(`  ${neededReduceScaling(one, all, cores)}`);
   say(`  ${pairedScaling(runOne, runAll, full, cores)}`);
   say(`  ${scalingCeiling(one, cores)}`);
   say(`  ${await sideBySideCeiling(full, cores)}`);
