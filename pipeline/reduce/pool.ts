@@ -129,7 +129,6 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
   pool.widen(batches.length);
   const one = async (batch: T[]) => {
     const items = batch.map(itemOf);
-    let results: StoredRecord[];
     // The memory the worker moved here, given back once the batch is stored.
     const moved: ArrayBuffer[] = [];
     let retire = false;
@@ -160,17 +159,16 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
         return [workerStopped(item, e as Error)];
       }
     };
-    if (stallsInARow >= STALLS_IN_A_ROW) results = items.map((item) => workerStopped(item, notTried()));
-    else if (items.length === 1) results = await alone(items[0]);
-    else {
+    let results: StoredRecord[] | null = null;
+    if (items.length > 1 && stallsInARow < STALLS_IN_A_ROW) {
       try {
         results = await watched(items);
         stallsInARow = 0;
-      } catch {
-        // Out of memory, a native crash or a stall: each recording of the batch alone, so one bad file sinks no other.
-        results = [];
-        for (const item of items) results.push(...await alone(item));
-      }
+      } catch { /* out of memory, a native crash or a stall: each recording of the batch alone, so one bad file sinks no other */ }
+    }
+    if (!results) {
+      results = [];
+      for (const item of items) results.push(...await alone(item));
     }
     // A thread that asks to be replaced is, once its batch is back (the others with it, each after its task).
     if (retire) await pool.renew();
