@@ -1,6 +1,6 @@
 // Runs never collide: a second run into a folder in use is refused and told who holds it; a lock whose holder is gone is taken over.
 import { spawn } from 'node:child_process';
-import { cpSync, existsSync, readFileSync, utimesSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, readFileSync, readlinkSync, utimesSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -33,7 +33,14 @@ async function runHoldingLock() {
 /** A process as Linux names it for good, read here from /proc independently of quern's code (start: field 22, after the name). */
 function procIdentity(pid: number | 'self') {
   const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
-  return { boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]) };
+  return { boot: readFileSync('/proc/sys/kernel/random/boot_id', 'utf8').trim(), start_ticks: Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[19]), pid_namespace: readlinkSync(`/proc/${pid}/ns/pid`) };
+}
+
+/** A pid that no process on this host has now. */
+function unusedPid(): number {
+  for (let pid = 4_000_000; ; pid++) {
+    try { process.kill(pid, 0); } catch (e) { if ((e as NodeJS.ErrnoException).code === 'ESRCH') return pid; }
+  }
 }
 
 describe('one run at a time per output folder', () => {
@@ -69,14 +76,17 @@ describe('one run at a time per output folder', () => {
     const lock = join(out, 'run.lock');
     const me = procIdentity('self');
     const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid: process.pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-1', command: 'quern reduce /lab/archive', process: proc });
-    const cases: [unknown, string | null][] = [
-      [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, 'this host has restarted since the lock was taken'],
-      [{ ...me, start_ticks: me.start_ticks - 1 }, `pid ${process.pid} on this host now names another program than the one that took the lock`],
-      [me, null], // the lock's own process, still running: refused
-      ['not a process', null], // a field that names no process: judged by the pid alone, which runs
+    const longAgo = new Date('2000-01-01T00:00:00Z'); // before this host's start
+    const otherBoot = { ...me, boot: '00000000-0000-4000-8000-000000000000' };
+    const cases: [unknown, Date | null, string | null][] = [
+      [otherBoot, longAgo, 'this host has restarted since the lock was last refreshed'],
+      [{ ...me, start_ticks: me.start_ticks - 1 }, null, `pid ${process.pid} on this host now names another program than the one that took the lock`],
+      [me, null, null], // the lock's own process, still running: refused
+      ['not a process', null, null], // a field that names no process: judged by the pid alone, which runs
     ];
-    for (const [proc, why] of cases) {
+    for (const [proc, refreshed, why] of cases) {
       writeFileSync(lock, holder(proc));
+      if (refreshed) utimesSync(lock, refreshed, refreshed);
       const r = quern('reduce', archive, '--out', out, '--quiet');
       if (why) {
         expect(r.code, r.stdout + r.stderr).toBe(1);
@@ -86,6 +96,36 @@ describe('one run at a time per output folder', () => {
         expect(r.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
       }
     }
+  });
+
+  // Containers and cloned machines may share a host name: a lock taken under this host's name by another boot of the
+  // system or another pid namespace names a pid that means nothing here, so it is judged by its heartbeat, as another host's.
+  it.runIf(existsSync('/proc/self/ns/pid'))('keeps a lock taken under this host\'s name by another machine or container while it is refreshed', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const lock = join(out, 'run.lock');
+    const me = procIdentity('self'), pid = unusedPid();
+    const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-2', command: 'quern reduce /lab/archive', process: proc });
+    const elsewhere = [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, { ...me, pid_namespace: 'pid:[1]' }];
+    for (const proc of elsewhere) {
+      writeFileSync(lock, holder(proc)); // refreshed now, while this host has been running
+      const refused = quern('reduce', archive, '--out', out, '--quiet');
+      expect(refused.code, refused.stdout + refused.stderr).toBe(2);
+      expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${pid}, started 2026-12-01T01:00:00.000Z (quern reduce /lab/archive, run r-2), on another machine or container under this host's name: its boot or pid namespace differs`);
+      const twoDaysAgo = new Date(Date.now() - 48 * 3_600_000);
+      if (proc.pid_namespace === 'pid:[1]') {
+        // Same boot: a heartbeat two days old is judged by the declared age alone.
+        utimesSync(lock, twoDaysAgo, twoDaysAgo);
+        const taken = quern('reduce', archive, '--out', out, '--quiet');
+        expect(taken.code, taken.stdout + taken.stderr).toBe(1);
+        expect(taken.stdout).toMatch(new RegExp(`took over the lock .*pid ${pid}.*held from host .* \\(another machine or container under this host's name: its boot or pid namespace differs\\) and not refreshed for 4\\d\\.\\d h \\(over 24\\.0 h\\)`));
+      }
+    }
+    // The same pid without a boot or namespace of its own: judged as this host's, and gone.
+    writeFileSync(lock, holder(me.pid_namespace ? { ...me } : null));
+    const taken = quern('reduce', archive, '--out', out, '--quiet');
+    expect(taken.code, taken.stdout + taken.stderr).toBe(1);
+    expect(taken.stdout).toContain(`process ${pid} on this host is no longer running`);
   });
 
   it('writes into its lock the process it runs as, where the system names it', async () => {

@@ -1,14 +1,17 @@
 // One run at a time per output folder (or per shard's part of it): a lock file made with exclusive create, holding who
 // runs. A second run refuses and names the holder; a lock whose holder is gone is taken over, and the run says so.
 import { readFileSync, rmSync } from 'node:fs';
-import { mkdir, open, readFile, readdir, rm, rmdir, stat, utimes } from 'node:fs/promises';
+import { mkdir, open, readFile, readdir, readlink, rm, rmdir, stat, utimes } from 'node:fs/promises';
 import { hostname } from 'node:os';
 import { dirname, join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
 import { makeFolder } from './make-folder.js';
 
-/** A process named for good on Linux: its boot's id and its start in clock ticks after that boot (`processIdentity`). */
-export interface ProcessIdentity { boot: string; start_ticks: number }
+/**
+ * A process named for good on Linux: its boot's id and its start in clock ticks after that boot, and the pid namespace
+ * its pid is counted in (`processIdentity`; older locks lack the namespace).
+ */
+export interface ProcessIdentity { boot: string; start_ticks: number; pid_namespace?: string }
 export interface LockHolder { host: string; pid: number; started: string; run_id: string; command: string; process?: ProcessIdentity | null }
 export interface TakenOver { holder: LockHolder; why: string }
 
@@ -46,35 +49,62 @@ async function processIdentity(pid: number): Promise<ProcessIdentity | null> {
     // The program's name, in parentheses, may hold spaces; the fields after it start at field 3.
     const ticks = stat.slice(stat.lastIndexOf(')') + 2).split(' ')[22 - 3];
     const boot = (await readFile('/proc/sys/kernel/random/boot_id', 'utf8')).trim();
-    return /^\d+$/.test(ticks ?? '') && boot ? { boot, start_ticks: Number(ticks) } : null;
+    if (!/^\d+$/.test(ticks ?? '') || !boot) return null;
+    const namespace = await pidNamespace();
+    return { boot, start_ticks: Number(ticks), ...(namespace ? { pid_namespace: namespace } : {}) };
   } catch {
     return null;
   }
+}
+
+/** The pid namespace this process counts pids in (`pid:[4026531836]`), or null where the system does not say. */
+const pidNamespace = () => readlink('/proc/self/ns/pid').catch(() => null);
+
+/** When this host's system started, ms since the epoch (from /proc/uptime), or null where there is no /proc. */
+async function bootedAt(): Promise<number | null> {
+  const up = Number((await readFile('/proc/uptime', 'utf8').catch(() => '')).split(' ')[0]);
+  return up > 0 ? Date.now() - up * 1000 : null;
 }
 
 /** Whether a lock's process field names a process (a lock without one, or with anything else, is judged by its pid alone). */
 const namesProcess = (p: unknown): p is ProcessIdentity =>
   typeof (p as ProcessIdentity | null)?.boot === 'string' && (p as ProcessIdentity).boot !== '' && Number.isSafeInteger((p as ProcessIdentity).start_ticks);
 
-/** Why the lock's holder is gone, or null while it may still be running. */
-async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<string | null> {
+const ELSEWHERE = "another machine or container under this host's name: its boot or pid namespace differs";
+
+/**
+ * Why the lock's holder is gone (`why`, null while it may still be running), and whether it holds the lock from another
+ * machine or container than this one under this host's name (`elsewhere`).
+ */
+async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<{ why: string | null; elsewhere: boolean }> {
+  const beat = async () => (await stat(path).catch(() => null))?.mtimeMs;
+  let sameName = false;
   if (h && h.host === hostname()) {
-    if (gone(h.pid)) return `process ${h.pid} on this host is no longer running`;
-    // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
-    const held = namesProcess(h.process) ? h.process : null, now = held ? await processIdentity(h.pid) : null;
-    if (held && now) {
-      if (now.boot !== held.boot) return `this host has restarted since the lock was taken (pid ${h.pid} now names another program)`;
-      if (now.start_ticks !== held.start_ticks) return `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`;
+    const held = namesProcess(h.process) ? h.process : null;
+    const here = held ? await processIdentity(process.pid) : null;
+    // Another boot or pid namespace under this host's name: this host restarted, or another machine or container
+    // that has the same name took the lock, and there this host's pids mean nothing. Its heartbeat tells them apart.
+    if (held && here && (held.boot !== here.boot || (held.pid_namespace != null && here.pid_namespace != null && held.pid_namespace !== here.pid_namespace))) {
+      const refreshed = await beat(), booted = held.boot !== here.boot ? await bootedAt() : null;
+      // A minute's slack: the boot time is read from a clock, and the heartbeat comes once a minute.
+      if (refreshed != null && booted != null && refreshed < booted - HEARTBEAT_MS) return { why: 'this host has restarted since the lock was last refreshed', elsewhere: false };
+      sameName = true;
+    } else {
+      if (gone(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: false };
+      // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
+      const now = held ? await processIdentity(h.pid) : null;
+      if (held && now && now.start_ticks !== held.start_ticks) return { why: `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`, elsewhere: false };
+      return { why: null, elsewhere: false };
     }
-    return null;
   }
-  const beat = (await stat(path).catch(() => null))?.mtimeMs;
-  if (beat == null) return null;
+  const refreshed = await beat();
+  if (refreshed == null) return { why: null, elsewhere: sameName };
   // A lock left empty by a run stopped between creating and filling it.
-  if (!h && Date.now() - beat > 10_000) return 'the lock file is empty, unreadable or names no holder, and is over 10 s old';
-  const ageH = (Date.now() - beat) / 3_600_000;
-  if (Date.now() - beat > staleAfterMs) return `${h ? `held from host ${h.host}` : 'unreadable'} and not refreshed for ${ageH.toFixed(1)} h (over ${(staleAfterMs / 3_600_000).toFixed(1)} h)`;
-  return null;
+  if (!h && Date.now() - refreshed > 10_000) return { why: 'the lock file is empty, unreadable or names no holder, and is over 10 s old', elsewhere: false };
+  const ageH = (Date.now() - refreshed) / 3_600_000;
+  const from = h ? `held from host ${h.host}${sameName ? ` (${ELSEWHERE})` : ''}` : 'unreadable';
+  const why = Date.now() - refreshed > staleAfterMs ? `${from} and not refreshed for ${ageH.toFixed(1)} h (over ${(staleAfterMs / 3_600_000).toFixed(1)} h)` : null;
+  return { why, elsewhere: sameName };
 }
 
 const readHolder = async (path: string): Promise<LockHolder | null> => {
@@ -103,9 +133,9 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
       if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
     }
     const held = await readHolder(path);
-    const why = await staleness(path, held, staleAfterMs);
+    const { why, elsewhere } = await staleness(path, held, staleAfterMs);
     if (!why || attempt > 3) {
-      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
+      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, on ${ELSEWHERE}` : ''} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
     }
     const mutex = `${path}.takeover`;
     try { await mkdir(mutex); } catch {
@@ -143,7 +173,7 @@ export async function heldShardLocks(out: string): Promise<LockHolder[]> {
   const held: LockHolder[] = [];
   for (const f of (await readdir(dir).catch(() => [] as string[])).filter((n) => /^run-\d+-of-\d+\.lock$/.test(n))) {
     const h = await readHolder(join(dir, f));
-    if (!(await staleness(join(dir, f), h, STALE_LOCK_AFTER_MS)) && h) held.push(h);
+    if (!(await staleness(join(dir, f), h, STALE_LOCK_AFTER_MS)).why && h) held.push(h);
   }
   return held;
 }
