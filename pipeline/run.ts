@@ -1,4 +1,4 @@
-// The whole run on one screen: lock → declare → scan → select → plan → decide (reuse) → reduce (worker pool, in batches)
+// The whole run on one screen: lock → declare → scan → select → plan → decide (reuse; captures still settling wait) → reduce (worker pool, in batches)
 // → store (packs) → write (streamed, or left as they are when their digest says so) → report.
 import { randomUUID } from 'node:crypto';
 import { existsSync } from 'node:fs';
@@ -16,6 +16,7 @@ import type { QualitySummary } from './outputs/quality.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
 import { writing } from './outputs/staged.js';
 import { decide } from './plan/reuse.js';
+import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan } from './select/scan.js';
 import { byStartTime, shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
@@ -41,6 +42,8 @@ export interface ReduceOptions {
   staleLockAfterMs?: number;
   /** A recording whose reduction makes no progress for this long fails, and the run goes on. */
   stallMs?: number;
+  /** Recordings to compute that were modified within this span before the scan are left to the next run (0: none). */
+  settleMs?: number;
 }
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
@@ -84,7 +87,10 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     if (firstRun) pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
-    const { decisions, itemOf, identityOf } = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const decided = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const { itemOf, identityOf } = decided;
+    // Captures that may still be written wait for the next run.
+    const { taken: decisions, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
     const scanS = clock(t);
 
     t = performance.now();
@@ -131,7 +137,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
-      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)),
+      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)), settling,
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
       period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,

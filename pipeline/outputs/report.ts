@@ -7,6 +7,7 @@ import type { Shard } from '../select/select.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
+import type { Settling } from '../plan/settle.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
@@ -20,7 +21,7 @@ export interface RunRecord {
   archive: string;
   out: string;
   spec: { source: string; hash: string; value: unknown };
-  counts: { scanned: number; selected: number; reduced: number; failed: number; unmatched: number; rows: number; recomputed: number; reused: number };
+  counts: { scanned: number; selected: number; reduced: number; failed: number; unmatched: number; rows: number; recomputed: number; reused: number; settling: number };
   recordings: {
     recording: string; group: string; status: string; reason?: string; messages: string[]; rows: number; frames: number; sample_rate: number | null; seconds: number;
     /** Feature groups computed in this run and reused from earlier runs, and why. */
@@ -34,6 +35,8 @@ export interface RunRecord {
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
   unmatched: { path: string; reason: string }[];
+  /** Recordings modified within --settle before the scan (captures that may still be written): left to the next run. */
+  settling: Settling[];
   /** Stored entries found damaged (bad checksum, cut short, unreadable): each recording concerned was recomputed. */
   store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; compacted: boolean };
   /** Whether the tables and reports were rewritten, or already said what this run would write (same digest). */
@@ -60,7 +63,7 @@ export function runLine(f: EntryFacts, d: Pick<Decision, 'compute' | 'reused' | 
 
 export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
-  lines: RunLine[]; timings: { scan_s: number; reduce_s: number; write_s: number };
+  lines: RunLine[]; settling: Settling[]; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
   period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
 }
@@ -74,11 +77,12 @@ export function runRecord(f: RunFacts): RunRecord {
       scanned: f.scanned, selected: f.lines.length,
       recomputed: f.lines.filter((l) => l.recomputed.length > 0).length, reused: f.lines.filter((l) => l.recomputed.length === 0).length,
       reduced: f.lines.filter((l) => l.status === 'reduced').length, failed: f.lines.filter((l) => l.status === 'failed').length,
-      unmatched: f.unmatched.length, rows: f.lines.reduce((s, l) => s + l.rows, 0),
+      unmatched: f.unmatched.length, rows: f.lines.reduce((s, l) => s + l.rows, 0), settling: f.settling.length,
     },
     recordings: f.lines,
     shard: f.shard, period: f.period, label_columns: f.labels, labels_by_group: f.labelsByGroup,
     unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
+    settling: f.settling,
     store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
     outputs: f.outputs,
     lock: { took_over: f.tookOver },
@@ -93,10 +97,10 @@ const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => nu
 export async function writeRunRecord(out: string, name: string, r: RunRecord): Promise<void> {
   const file = new StagedFile(join(out, name));
   try {
-    const { recordings, shard, period, label_columns, labels_by_group, unmatched, store, outputs, lock, timings, ...before } = r;
+    const { recordings, shard, period, label_columns, labels_by_group, unmatched, settling, store, outputs, lock, timings, ...before } = r;
     await file.write(jsonPieces.head(before, 'recordings'));
     for (const [i, line] of recordings.entries()) await file.write(jsonPieces.item(JSON.stringify(line, null, 2), i));
-    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, store, outputs, lock, timings }));
+    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, settling, store, outputs, lock, timings }));
     await file.close();
     await commitAll([file]);
   } finally {
@@ -104,10 +108,13 @@ export async function writeRunRecord(out: string, name: string, r: RunRecord): P
   }
 }
 
+/** Recordings left to settle that the terminal names; run.json lists them all. */
+const MAX_SETTLING_LINES = 10;
+
 /** The end-of-run summary a person reads on the terminal. */
 export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
-    `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
+    `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched${r.counts.settling ? `, ${r.counts.settling} left to settle` : ''}; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
   // What changed leads: it is the machine's story; the data-quality lines follow.
   if (q.changes) lines.push(...changesSummary(q.changes));
@@ -115,6 +122,10 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
+  // Older records (merged parts written before) have no settling list.
+  const settling = r.settling ?? [];
+  for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
+  if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);
   if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
