@@ -65,7 +65,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
   const firstRun = !existsSync(join(outDir, 'cache'));
-  if (firstRun) pool.prestart(1);
+  // Waiting for the pool's code here (tens of ms) lets the thread start before the declarations are read, not after.
+  if (firstRun) await pool.prestart(1);
   let declaration, spec, trends, lock;
   try {
     declaration = await loadArchiveDeclaration(root);
@@ -85,7 +86,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
-    if (firstRun) pool.prestart(chosen.length);
+    if (firstRun) void pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
     const decided = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
     const { itemOf, identityOf } = decided;

@@ -27,8 +27,11 @@ export interface Pool {
   threads: number;
   /** Lets the pool start threads for up to `tasks` tasks at once (never more than `threads`). */
   widen(tasks: number): void;
-  /** Widens the pool for `tasks` and starts its threads now, so that they load their code before the work comes. */
-  prestart(tasks: number): void;
+  /**
+   * Widens the pool for `tasks` and starts its threads now, so that they load their code before the work comes; resolves
+   * once the pool has made them (they load on their own after that).
+   */
+  prestart(tasks: number): Promise<void>;
   /** Runs a task on a thread; aborting `signal` stops the thread (the pool starts another). */
   run<T>(task: string, input: unknown, signal?: AbortSignal): Promise<T>;
   /** Threads started so far. */
@@ -59,10 +62,11 @@ export function openPool(threads = availableParallelism()): Pool {
       // The pool reads its bounds at each task; as many kept as allowed, so an idle moment does not stop a thread.
       if (pool) { pool.options.maxThreads = width; pool.options.minThreads = width; }
     },
-    prestart(tasks) {
+    async prestart(tasks) {
       this.widen(tasks);
       // As many empty batches at once as threads allowed: each one the pool cannot hand to a ready thread starts another.
       for (let i = 0; i < width; i++) get().then((p) => p.run({ items: [], beats: null } satisfies BatchTask, { name: 'reduceBatch' })).catch(() => {});
+      await get().catch(() => {}); // a pool that cannot start says so at its first task
     },
     run: async (name, input, signal) => (await get()).run(input, { name, signal: signal ?? null }),
     started: () => pool?.threads.length ?? 0,
