@@ -13,6 +13,8 @@ export interface ChannelDeclaration {
   range: [number, number] | null;
   bits: number | null;
   max_frequency_hz: number | null;
+  /** RMS of the measurement chain's own noise (sensor and converter), engineering units, when declared. */
+  noise_floor?: number | null;
   /** Shaft pulses per revolution of a tacho channel; its trigger level and hysteresis (engineering units) when declared, else found from the signal. */
   pulses_per_rev?: number;
   trigger_level?: number | null;

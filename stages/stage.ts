@@ -14,6 +14,8 @@ export interface ChannelContext {
   bits: number | null;
   /** Highest frequency the signal is declared to contain, Hz. */
   maxFrequencyHz: number | null;
+  /** RMS of the measurement chain's own noise in engineering units, when declared (`noise_floor`). */
+  noiseFloor?: number | null;
   /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
   stepSize: number | null;
   /** Engineering values of the converter's most negative and most positive codes (integer formats), else null. */

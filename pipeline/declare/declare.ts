@@ -58,6 +58,8 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
         range: (c.range as [number, number] | undefined) ?? null, bits: c.bits ?? null, max_frequency_hz: c.max_frequency_hz ?? null,
         // Only tacho channels carry the pulse fields, so other declarations (and their cache keys) stay as they were.
         ...(c.pulses_per_rev != null ? { pulses_per_rev: c.pulses_per_rev, trigger_level: c.trigger_level ?? null, trigger_hysteresis: c.trigger_hysteresis ?? null } : {}),
+        // Likewise a declared noise floor.
+        ...(c.noise_floor != null ? { noise_floor: c.noise_floor } : {}),
       };
     }) ?? null;
     const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;

@@ -1,0 +1,54 @@
+// Noise floor: the channel's level against the measurement chain's own noise, where archive.yaml declares it. A dead or
+// disconnected sensor on a fine converter (24-bit) still reads the chain's noise, many steps wide, which the flatline
+// flag's spread of a few steps never catches; against the declared floor it reads as what it is.
+import { momentsOf } from '../fused/moments.js';
+import type { StageDefinition } from '../stage.js';
+import { pct, type QualityThresholds, type Severity } from './flag.js';
+
+/** Level above the floor in dB, 20·log10(rms / floor): power ratio of the channel's AC part to the chain's noise. */
+export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms / floor);
+
+/**
+ * How much the chain's noise raises the RMS of a channel `db` above it: uncorrelated powers add, so the signal's own RMS
+ * is rms·√(1 − 10^(−db/10)), and the RMS reads 1/√(1 − 10^(−db/10)) − 1 high (derived; Infinity at or below the floor).
+ */
+export const rmsExcess = (db: number) => (db > 0 ? 1 / Math.sqrt(1 - 10 ** (-db / 10)) - 1 : Infinity);
+
+export const noiseFloor: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [{ name: 'above_noise_floor_db', unit: 'dB', description: '20·log10(std / declared noise_floor): the channel above its measurement chain\'s own noise; null when no floor is declared.' }],
+  create(ctx, q) {
+    const shared = momentsOf(ctx);
+    return {
+      push() {},
+      finish() {
+        const floor = ctx.noiseFloor ?? null;
+        const { warn_db: warnDb, fail_db: failDb } = q.noise_floor;
+        const threshold = `fail within ${failDb} dB of the declared noise floor, warn within ${warnDb} dB (RMS more than ${pct(rmsExcess(warnDb))} high)`;
+        const m = shared.moments();
+        // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
+        if (floor == null || ctx.tacho || m.n === 0) {
+          const why = floor == null ? 'no noise floor declared (noise_floor in archive.yaml): not judged' : ctx.tacho ? 'not judged on a tacho channel' : 'no samples to judge';
+          ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: floor }, message: why });
+          return { above_noise_floor_db: null };
+        }
+        const rms = Math.sqrt(m.m2 / m.n);
+        const db = rms > 0 ? aboveFloorDb(rms, floor) : -Infinity;
+        const level = `RMS ${rms.toPrecision(3)} ${ctx.unit} (mean removed), ${Number.isFinite(db) ? `${db.toFixed(1)} dB` : 'nothing'} above the declared noise floor ${floor.toPrecision(3)} ${ctx.unit}`;
+        let severity: Severity = 'ok', message = level;
+        if (db <= 0) {
+          severity = 'fail';
+          message = `${level}: at or below the chain's own noise, a dead or disconnected sensor (the converter alone is quieter than the chain), or a noise_floor declared too high; check the sensor, cable and supply and the declaration before trusting any figure`;
+        } else if (db < failDb) {
+          severity = 'fail';
+          message = `${level}: the chain's noise holds at least half the power, so every figure describes the noise more than the machine (RMS ${pct(rmsExcess(db))} high): a dead or disconnected sensor, or a machine at rest; check the sensor, cable and supply before trusting any figure`;
+        } else if (db < warnDb) {
+          severity = 'warn';
+          message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
+        }
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null }, message });
+        return { above_noise_floor_db: Number.isFinite(db) ? db : null };
+      },
+    };
+  },
+};

@@ -1,0 +1,101 @@
+// The noise_floor flag: a channel's level against the measurement chain's own noise, where archive.yaml declares it.
+// Uncorrelated powers add (common practice: the same rule corrects sound levels for background noise in ISO 3744, from
+// memory), so a channel d dB above the floor reads its RMS 1/√(1 − 10^(−d/10)) − 1 high; the tests hold that against the
+// RMS of the signal and the noise taken apart, and show a dead sensor on a 24-bit converter, which the flatline flag's
+// spread of a few steps cannot see, failing against its declared floor.
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
+import type { ChannelDeclaration } from '../spec/archive.js';
+import type { Flag } from '../stages/quality/flag.js';
+import { rmsExcess } from '../stages/quality/noise-floor.js';
+import { uniform } from './dsp-signals.js';
+import { tempDir } from './helpers.js';
+import { channel, sine } from './reduce-signal.js';
+
+/** Gaussian noise of RMS `sigma` (Box–Muller over a seeded uniform generator). */
+function gaussian(n: number, sigma: number, seed = 7): Float64Array {
+  const u = uniform(seed);
+  return Float64Array.from({ length: n }, () => sigma * Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u()));
+}
+
+const rmsOf = (x: Float64Array) => { let m = 0; for (const v of x) m += v; m /= x.length; let s = 0; for (const v of x) s += (v - m) ** 2; return Math.sqrt(s / x.length); };
+
+/** A mono 24-bit PCM WAV (RIFF, WAVE_FORMAT_PCM) of values in full-scale units, rounded to the converter's codes. */
+function wav24(x: Float64Array, fs: number): Buffer {
+  const data = Buffer.alloc(x.length * 3);
+  x.forEach((v, i) => data.writeIntLE(Math.max(-(2 ** 23), Math.min(2 ** 23 - 1, Math.round(v * 2 ** 23))), i * 3, 3));
+  const fmt = Buffer.alloc(16);
+  fmt.writeUInt16LE(1, 0); fmt.writeUInt16LE(1, 2); fmt.writeUInt32LE(fs, 4); fmt.writeUInt32LE(fs * 3, 8); fmt.writeUInt16LE(3, 12); fmt.writeUInt16LE(24, 14);
+  const chunk = (id: string, body: Buffer) => { const h = Buffer.alloc(8); h.write(id, 0, 'ascii'); h.writeUInt32LE(body.length, 4); return Buffer.concat([h, body]); };
+  const body = Buffer.concat([Buffer.from('WAVE'), chunk('fmt ', fmt), chunk('data', data)]);
+  return Buffer.concat([Buffer.from('RIFF'), Buffer.from([body.length & 255, (body.length >> 8) & 255, (body.length >> 16) & 255, body.length >>> 24]), body]);
+}
+
+async function flagsOf(x: Float64Array, fs: number, decl: ChannelDeclaration) {
+  const path = join(tempDir(), 'x.wav');
+  writeFileSync(path, wav24(x.map((v) => v / decl.scale), fs));
+  const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames: 4096 });
+  expect(r.reason).toBeUndefined();
+  const flag = (name: string) => r.quality[0].flags.find((f) => f.name === name) as Flag;
+  return { flag, row: r.rows[0] as Record<string, number | null> };
+}
+
+describe('the noise_floor flag', () => {
+  const fs = 8000, n = 4 * fs, scale = 50; // an invented rig's accelerometer: ±50 m/s² full scale on a 24-bit converter
+  const step = scale / 2 ** 23;
+
+  it('fails a dead sensor on a 24-bit converter (the chain\'s noise, dozens of steps wide) that flatline reads as moving', async () => {
+    const floor = 40 * step;
+    const dead = gaussian(n, floor);
+    const { flag, row } = await flagsOf(dead, fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(flag('flatline').severity).toBe('ok'); // a spread of hundreds of steps: not flat
+    expect(flag('noise_floor').severity).toBe('fail');
+    expect(flag('noise_floor').message).toMatch(/dead or disconnected sensor/);
+    expect(Math.abs(row.above_noise_floor_db!)).toBeLessThan(0.5);
+  });
+
+  it('passes a running machine far above the floor, and judges nothing where no floor is declared', async () => {
+    const floor = 40 * step;
+    const hiss = gaussian(n, floor);
+    const live = sine(n, fs, 97, 1.4).map((v, i) => v + hiss[i]);
+    const declared = await flagsOf(live, fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(declared.flag('noise_floor').severity).toBe('ok');
+    expect(declared.row.above_noise_floor_db).toBeCloseTo(20 * Math.log10(rmsOf(live) / floor), 3);
+    const undeclared = await flagsOf(gaussian(n, floor), fs, channel({ scale, bits: 24 }));
+    expect(undeclared.flag('noise_floor')).toMatchObject({ severity: 'ok', value: null, message: expect.stringMatching(/no noise floor declared/) });
+    expect(undeclared.row.above_noise_floor_db).toBeNull();
+  });
+
+  it('warns where the chain\'s noise raises RMS by over 5 % (10.3 dB, derived), as the signal and noise taken apart confirm', async () => {
+    const floor = 0.01;
+    // A tone 8 dB above the floor in total: the signal's own RMS from the power sum.
+    const noise = gaussian(n, floor, 11), total = floor * 10 ** (8 / 20);
+    const tone = sine(n, fs, 123.4, Math.SQRT2 * Math.sqrt(total ** 2 - floor ** 2));
+    const x = tone.map((v, i) => v + noise[i]);
+    const { flag, row } = await flagsOf(x, fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(flag('noise_floor').severity).toBe('warn');
+    const db = row.above_noise_floor_db!;
+    // RMS of the mixture over the tone's own RMS, taken apart here: the derived excess agrees to the noise's chance correlation.
+    expect(rmsExcess(db)).toBeCloseTo(rmsOf(x) / rmsOf(tone) - 1, 2);
+    expect(rmsExcess(10.3)).toBeCloseTo(0.05, 3);
+    expect(flag('noise_floor').message).toMatch(/raises RMS and band levels by up to \d+(\.\d+)? %/);
+  });
+
+  it('fails within 3 dB of the floor, and below it says the declaration may be too high', async () => {
+    const floor = 0.01;
+    const near = await flagsOf(gaussian(n, floor * 10 ** (2 / 20), 3), fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(near.flag('noise_floor').severity).toBe('fail');
+    expect(near.flag('noise_floor').message).toMatch(/holds at least half the power/);
+    const below = await flagsOf(gaussian(n, floor / 2, 5), fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(below.flag('noise_floor').severity).toBe('fail');
+    expect(below.flag('noise_floor').message).toMatch(/noise_floor declared too high/);
+  });
+
+  it('leaves a tacho channel alone, whose pulses say nothing about a floor', async () => {
+    const pulses = Float64Array.from({ length: n }, (_, i) => (i % 80 < 8 ? 5 : 0));
+    const { flag } = await flagsOf(pulses, fs, channel({ name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, bits: 24, noise_floor: 10, pulses_per_rev: 1 }));
+    expect(flag('noise_floor')).toMatchObject({ severity: 'ok', value: null, message: 'not judged on a tacho channel' });
+  });
+});
