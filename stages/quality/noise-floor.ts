@@ -24,11 +24,11 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
       finish() {
         const floor = ctx.noiseFloor ?? null;
         const { warn_db: warnDb, fail_db: failDb } = q.noise_floor;
-        const threshold = `fail within ${failDb} dB of the declared noise floor, warn within ${warnDb} dB (RMS more than ${pct(rmsExcess(warnDb))} high)`;
+        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high)`;
         const m = shared.moments();
         // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
         if (floor == null || ctx.tacho || m.n === 0) {
-          const why = floor == null ? 'no noise floor declared (noise_floor in archive.yaml): not judged' : ctx.tacho ? 'not judged on a tacho channel' : 'no samples to judge';
+          const why = floor == null ? 'not judged: no noise_floor declared' : ctx.tacho ? 'not judged on a tacho channel' : 'no samples to judge';
           ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: floor }, message: why });
           return { above_noise_floor_db: null };
         }
