@@ -112,13 +112,23 @@ describe('one run at a time per output folder', () => {
       const refused = quern('reduce', archive, '--out', out, '--quiet');
       expect(refused.code, refused.stdout + refused.stderr).toBe(2);
       expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${pid}, started 2026-12-01T01:00:00.000Z (quern reduce /lab/archive, run r-2), on another machine or container under this host's name: its boot or pid namespace differs`);
-      const twoDaysAgo = new Date(Date.now() - 48 * 3_600_000);
       if (proc.pid_namespace === 'pid:[1]') {
-        // Same boot: a heartbeat two days old is judged by the declared age alone.
-        utimesSync(lock, twoDaysAgo, twoDaysAgo);
+        // Same boot, another pid namespace: a container on this machine, whose heartbeat this machine's clock reads.
+        // Silent for a few minutes it may only be slow; silent for over ten it is gone, whatever --stale-lock-after says.
+        const minutesAgo = (m: number) => new Date(Date.now() - m * 60_000);
+        utimesSync(lock, minutesAgo(3), minutesAgo(3));
+        expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(2);
+        utimesSync(lock, minutesAgo(12), minutesAgo(12));
         const taken = quern('reduce', archive, '--out', out, '--quiet');
         expect(taken.code, taken.stdout + taken.stderr).toBe(1);
-        expect(taken.stdout).toMatch(new RegExp(`took over the lock .*pid ${pid}.*held from host .* \\(another machine or container under this host's name: its boot or pid namespace differs\\) and not refreshed for 4\\d\\.\\d h \\(over 24\\.0 h\\)`));
+        expect(taken.stdout).toMatch(new RegExp(`took over the lock .*pid ${pid}.*: held from another pid namespace on this machine \\(a container\\) and not refreshed for 12 min \\(over 10 min; its run refreshes it every minute\\)`));
+      } else {
+        // Another boot whose heartbeat came after this host started: another machine, judged as another host's.
+        const twoMinutesAgo = new Date(Date.now() - 120_000); // after this host started (it has run for longer)
+        utimesSync(lock, twoMinutesAgo, twoMinutesAgo);
+        const r = quern('reduce', archive, '--out', out, '--quiet', '--stale-lock-after', '1m');
+        expect(r.code, r.stdout + r.stderr).toBe(1);
+        expect(r.stdout).toContain(`held from host ${hostname()} (another machine or container under this host's name: its boot or pid namespace differs) and not refreshed for`);
       }
     }
     // The same pid without a boot or namespace of its own: judged as this host's, and gone.

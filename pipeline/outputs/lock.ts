@@ -18,6 +18,8 @@ export interface TakenOver { holder: LockHolder; why: string }
 /** Default age after which a lock held from another host counts as abandoned (its run refreshes it every minute). */
 export const STALE_LOCK_AFTER_MS = 24 * 3_600_000;
 const HEARTBEAT_MS = 60_000;
+/** A lock from a container on this machine whose heartbeat has been silent this long is taken over. */
+const SILENT_CONTAINER_MS = 10 * HEARTBEAT_MS;
 
 export const lockPath = (out: string, shard: { k: number; n: number } | null) => (shard ? join(out, 'parts', `run-${shard.k}-of-${shard.n}.lock`) : join(out, 'run.lock'));
 
@@ -88,6 +90,11 @@ async function staleness(path: string, h: LockHolder | null, staleAfterMs: numbe
       const refreshed = await beat(), booted = held.boot !== here.boot ? await bootedAt() : null;
       // A minute's slack: the boot time is read from a clock, and the heartbeat comes once a minute.
       if (refreshed != null && booted != null && refreshed < booted - HEARTBEAT_MS) return { why: 'this host has restarted since the lock was last refreshed', elsewhere: false };
+      // Another pid namespace of this boot is a container on this machine, whose heartbeat is read on this machine's own
+      // clock: one silent for ten beats is gone (a container stopped or restarted), without waiting for --stale-lock-after.
+      if (held.boot === here.boot && refreshed != null && Date.now() - refreshed > SILENT_CONTAINER_MS) {
+        return { why: `held from another pid namespace on this machine (a container) and not refreshed for ${((Date.now() - refreshed) / 60_000).toFixed(0)} min (over ${SILENT_CONTAINER_MS / 60_000} min; its run refreshes it every minute)`, elsewhere: false };
+      }
       sameName = true;
     } else {
       if (gone(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: false };
