@@ -98,44 +98,48 @@ describe('one run at a time per output folder', () => {
     }
   });
 
-  // Containers and cloned machines may share a host name: a lock taken under this host's name by another boot of the
-  // system or another pid namespace names a pid that means nothing here, so it is judged by its heartbeat, as another host's.
-  it.runIf(existsSync('/proc/self/ns/pid'))('keeps a lock taken under this host\'s name by another machine or container while it is refreshed', () => {
+  // A pid counts only on its machine (its boot) and in its pid namespace. A lock from a container on this machine (another
+  // pid namespace of this boot, under this host's name or another) is judged by its heartbeat on this machine's clock; one
+  // from another machine under this host's name (another boot, refreshed since this host started) as another host's.
+  it.runIf(existsSync('/proc/self/ns/pid'))('judges a lock from a container on this machine, or from another machine of the same name, by its heartbeat', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
     const lock = join(out, 'run.lock');
     const me = procIdentity('self'), pid = unusedPid();
-    const holder = (proc: unknown) => JSON.stringify({ host: hostname(), pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-2', command: 'quern reduce /lab/archive', process: proc });
-    const elsewhere = [{ ...me, boot: '00000000-0000-4000-8000-000000000000' }, { ...me, pid_namespace: 'pid:[1]' }];
-    for (const proc of elsewhere) {
-      writeFileSync(lock, holder(proc)); // refreshed now, while this host has been running
+    const holder = (host: string, proc: unknown) => JSON.stringify({ host, pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-2', command: 'quern reduce /lab/archive', process: proc });
+    const minutesAgo = (m: number) => new Date(Date.now() - m * 60_000);
+    const inUse = (host: string, where: string) => `in use by another run: host ${host}, pid ${pid}, started 2026-12-01T01:00:00.000Z (quern reduce /lab/archive, run r-2), ${where} (lock `;
+
+    // Containers on this machine, under this host's name or their own: refused while the heartbeat is fresh or a few
+    // minutes late (it may only be slow), taken over once it has been silent for over ten, whatever --stale-lock-after says.
+    for (const host of [hostname(), 'nightly-runner-7f3a']) {
+      writeFileSync(lock, holder(host, { ...me, pid_namespace: 'pid:[1]' })); // refreshed now
       const refused = quern('reduce', archive, '--out', out, '--quiet');
       expect(refused.code, refused.stdout + refused.stderr).toBe(2);
-      expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${pid}, started 2026-12-01T01:00:00.000Z (quern reduce /lab/archive, run r-2), on another machine or container under this host's name: its boot or pid namespace differs`);
-      if (proc.pid_namespace === 'pid:[1]') {
-        // Same boot, another pid namespace: a container on this machine, whose heartbeat this machine's clock reads.
-        // Silent for a few minutes it may only be slow; silent for over ten it is gone, whatever --stale-lock-after says.
-        const minutesAgo = (m: number) => new Date(Date.now() - m * 60_000);
-        utimesSync(lock, minutesAgo(3), minutesAgo(3));
-        expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(2);
-        utimesSync(lock, minutesAgo(12), minutesAgo(12));
-        const taken = quern('reduce', archive, '--out', out, '--quiet');
-        expect(taken.code, taken.stdout + taken.stderr).toBe(1);
-        expect(taken.stdout).toMatch(new RegExp(`took over the lock .*pid ${pid}.*: held from another pid namespace on this machine \\(a container\\) and not refreshed for 12 min \\(over 10 min; its run refreshes it every minute\\)`));
-      } else {
-        // Another boot whose heartbeat came after this host started: another machine, judged as another host's.
-        const twoMinutesAgo = new Date(Date.now() - 120_000); // after this host started (it has run for longer)
-        utimesSync(lock, twoMinutesAgo, twoMinutesAgo);
-        const r = quern('reduce', archive, '--out', out, '--quiet', '--stale-lock-after', '1m');
-        expect(r.code, r.stdout + r.stderr).toBe(1);
-        expect(r.stdout).toContain(`held from host ${hostname()} (another machine or container under this host's name: its boot or pid namespace differs) and not refreshed for`);
-      }
+      expect(refused.stderr).toContain(inUse(host, 'in a container on this machine (another pid namespace)'));
+      utimesSync(lock, minutesAgo(3), minutesAgo(3));
+      expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(2);
+      utimesSync(lock, minutesAgo(12), minutesAgo(12));
+      const taken = quern('reduce', archive, '--out', out, '--quiet');
+      expect(taken.code, taken.stdout + taken.stderr).toBe(1);
+      expect(taken.stdout).toContain(`took over the lock of a run that is gone (${host}, pid ${pid}, started 2026-12-01T01:00:00.000Z): held in a container on this machine (another pid namespace) and not refreshed for 12 min (over 10 min; its run refreshes it every minute)`);
     }
-    // The same pid without a boot or namespace of its own: judged as this host's, and gone.
-    writeFileSync(lock, holder(me.pid_namespace ? { ...me } : null));
-    const taken = quern('reduce', archive, '--out', out, '--quiet');
+
+    // Another machine under this host's name: refused while fresh, then judged by the declared age.
+    writeFileSync(lock, holder(hostname(), { ...me, boot: '00000000-0000-4000-8000-000000000000' }));
+    const refused = quern('reduce', archive, '--out', out, '--quiet');
+    expect(refused.code, refused.stdout + refused.stderr).toBe(2);
+    expect(refused.stderr).toContain(inUse(hostname(), "on another machine under this host's name (another boot)"));
+    utimesSync(lock, minutesAgo(2), minutesAgo(2)); // after this host started (it has run for longer)
+    const taken = quern('reduce', archive, '--out', out, '--quiet', '--stale-lock-after', '1m');
     expect(taken.code, taken.stdout + taken.stderr).toBe(1);
-    expect(taken.stdout).toContain(`process ${pid} on this host is no longer running`);
+    expect(taken.stdout).toContain(`held from host ${hostname()} on another machine under this host's name (another boot) and not refreshed for`);
+
+    // This machine and pid namespace, under another name (the host was renamed): its pid counts, and is gone.
+    writeFileSync(lock, holder('old-name-of-this-host', me));
+    const renamed = quern('reduce', archive, '--out', out, '--quiet');
+    expect(renamed.code, renamed.stdout + renamed.stderr).toBe(1);
+    expect(renamed.stdout).toContain(`process ${pid} on this host is no longer running`);
   });
 
   it('writes into its lock the process it runs as, where the system names it', async () => {

@@ -72,46 +72,52 @@ async function bootedAt(): Promise<number | null> {
 const namesProcess = (p: unknown): p is ProcessIdentity =>
   typeof (p as ProcessIdentity | null)?.boot === 'string' && (p as ProcessIdentity).boot !== '' && Number.isSafeInteger((p as ProcessIdentity).start_ticks);
 
-const ELSEWHERE = "another machine or container under this host's name: its boot or pid namespace differs";
-
 /**
- * Why the lock's holder is gone (`why`, null while it may still be running), and whether it holds the lock from another
- * machine or container than this one under this host's name (`elsewhere`).
+ * Why the lock's holder is gone (`why`, null while it may still be running), and, when its pid means nothing here, where
+ * it runs (`elsewhere`, for the refusal's message).
  */
-async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<{ why: string | null; elsewhere: boolean }> {
-  const beat = async () => (await stat(path).catch(() => null))?.mtimeMs;
-  let sameName = false;
-  if (h && h.host === hostname()) {
-    const held = namesProcess(h.process) ? h.process : null;
-    const here = held ? await processIdentity(process.pid) : null;
-    // Another boot or pid namespace under this host's name: this host restarted, or another machine or container
-    // that has the same name took the lock, and there this host's pids mean nothing. Its heartbeat tells them apart.
-    if (held && here && (held.boot !== here.boot || (held.pid_namespace != null && here.pid_namespace != null && held.pid_namespace !== here.pid_namespace))) {
-      const refreshed = await beat(), booted = held.boot !== here.boot ? await bootedAt() : null;
-      // A minute's slack: the boot time is read from a clock, and the heartbeat comes once a minute.
-      if (refreshed != null && booted != null && refreshed < booted - HEARTBEAT_MS) return { why: 'this host has restarted since the lock was last refreshed', elsewhere: false };
-      // Another pid namespace of this boot is a container on this machine, whose heartbeat is read on this machine's own
-      // clock: one silent for ten beats is gone (a container stopped or restarted), without waiting for --stale-lock-after.
-      if (held.boot === here.boot && refreshed != null && Date.now() - refreshed > SILENT_CONTAINER_MS) {
-        return { why: `held from another pid namespace on this machine (a container) and not refreshed for ${((Date.now() - refreshed) / 60_000).toFixed(0)} min (over ${SILENT_CONTAINER_MS / 60_000} min; its run refreshes it every minute)`, elsewhere: false };
-      }
-      sameName = true;
-    } else {
-      if (gone(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: false };
-      // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
-      const now = held ? await processIdentity(h.pid) : null;
-      if (held && now && now.start_ticks !== held.start_ticks) return { why: `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`, elsewhere: false };
-      return { why: null, elsewhere: false };
-    }
+async function staleness(path: string, h: LockHolder | null, staleAfterMs: number): Promise<{ why: string | null; elsewhere: string | null }> {
+  const refreshedAt = async () => (await stat(path).catch(() => null))?.mtimeMs;
+  const held = h && namesProcess(h.process) ? h.process : null;
+  const here = held ? await processIdentity(process.pid) : null;
+  const sameBoot = held != null && here != null && held.boot === here.boot;
+  // Unknown (null) where either lock or system does not say.
+  const sameNamespace = held?.pid_namespace != null && here?.pid_namespace != null ? held.pid_namespace === here.pid_namespace : null;
+  // A pid counts only on its machine (its boot) and in its pid namespace. Under this host's name that is taken for granted
+  // where the lock does not say otherwise; under another name only where it says so.
+  const pidsCount = h != null && (h.host === hostname() ? !held || !here || (sameBoot && sameNamespace !== false) : sameBoot && sameNamespace === true);
+  if (h && pidsCount) {
+    if (gone(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: null };
+    // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
+    const now = held ? await processIdentity(h.pid) : null;
+    if (held && now && now.start_ticks !== held.start_ticks) return { why: `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`, elsewhere: null };
+    return { why: null, elsewhere: null };
   }
-  const refreshed = await beat();
-  if (refreshed == null) return { why: null, elsewhere: sameName };
+  const refreshed = await refreshedAt();
+  if (h && sameBoot) {
+    // Another pid namespace of this boot: a container on this machine, whose heartbeat is read on this machine's own clock.
+    // One silent for ten beats is gone (a container stopped or restarted), without waiting for --stale-lock-after.
+    const elsewhere = 'in a container on this machine (another pid namespace)';
+    if (refreshed != null && Date.now() - refreshed > SILENT_CONTAINER_MS) {
+      return { why: `held ${elsewhere} and not refreshed for ${((Date.now() - refreshed) / 60_000).toFixed(0)} min (over ${SILENT_CONTAINER_MS / 60_000} min; its run refreshes it every minute)`, elsewhere };
+    }
+    return { why: null, elsewhere };
+  }
+  let elsewhere: string | null = null;
+  if (h && held && here && h.host === hostname()) {
+    // Another boot under this host's name: this host restarted since, or another machine that has the same name took it.
+    const booted = await bootedAt();
+    // A minute's slack: the boot time is read from a clock, and the heartbeat comes once a minute.
+    if (refreshed != null && booted != null && refreshed < booted - HEARTBEAT_MS) return { why: 'this host has restarted since the lock was last refreshed', elsewhere: null };
+    elsewhere = "on another machine under this host's name (another boot)";
+  }
+  if (refreshed == null) return { why: null, elsewhere };
   // A lock left empty by a run stopped between creating and filling it.
-  if (!h && Date.now() - refreshed > 10_000) return { why: 'the lock file is empty, unreadable or names no holder, and is over 10 s old', elsewhere: false };
+  if (!h && Date.now() - refreshed > 10_000) return { why: 'the lock file is empty, unreadable or names no holder, and is over 10 s old', elsewhere: null };
   const ageH = (Date.now() - refreshed) / 3_600_000;
-  const from = h ? `held from host ${h.host}${sameName ? ` (${ELSEWHERE})` : ''}` : 'unreadable';
+  const from = h ? `held from host ${h.host}${elsewhere ? ` ${elsewhere}` : ''}` : 'unreadable';
   const why = Date.now() - refreshed > staleAfterMs ? `${from} and not refreshed for ${ageH.toFixed(1)} h (over ${(staleAfterMs / 3_600_000).toFixed(1)} h)` : null;
-  return { why, elsewhere: sameName };
+  return { why, elsewhere };
 }
 
 const readHolder = async (path: string): Promise<LockHolder | null> => {
@@ -142,7 +148,7 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
     const held = await readHolder(path);
     const { why, elsewhere } = await staleness(path, held, staleAfterMs);
     if (!why || attempt > 3) {
-      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, on ${ELSEWHERE}` : ''} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
+      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, ${elsewhere}` : ''} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
     }
     const mutex = `${path}.takeover`;
     try { await mkdir(mutex); } catch {
