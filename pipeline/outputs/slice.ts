@@ -92,7 +92,8 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
       for (const row of r.rows) rows.features.add(row);
       for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].add(row);
       const q = qualityRecording(r);
-      quality.add(jsonPieces.item(JSON.stringify(q, null, 2), 1));
+      // One line a recording: quality.json is for programs (quality.html is the read), and indenting made it a third larger.
+      quality.add(jsonPieces.item(JSON.stringify(q), 1));
       recordings++;
       countRecording(totals, q);
       overview.add(JSON.stringify(overviewRow(q)) + '\n');
