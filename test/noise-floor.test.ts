@@ -93,6 +93,21 @@ describe('the noise_floor flag', () => {
     expect(below.flag('noise_floor').message).toMatch(/noise_floor declared too high/);
   });
 
+  it('warns where a connection comes and goes: whole windows at the floor in a channel above it as a whole', async () => {
+    const floor = 40 * step;
+    const hiss = gaussian(n, floor, 13);
+    // A 97 Hz tone whose sensor lets go for the third second: only the chain's noise is left there.
+    const x = sine(n, fs, 97, 1.4).map((v, i) => (i >= 2 * fs && i < 3 * fs ? 0 : v) + hiss[i]);
+    const { flag, row } = await flagsOf(x, fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(row.above_noise_floor_db).toBeGreaterThan(40);
+    expect(flag('noise_floor').severity).toBe('warn');
+    expect(flag('noise_floor').evidence).toMatchObject({ windows: 4, quiet_windows: 1, first_quiet_s: 2 });
+    expect(flag('noise_floor').message).toMatch(/1 of its 4 windows of 1 s fell to within 3 dB of the floor, the first from 2 s: a connection that comes and goes/);
+    // The same tone held throughout: no window at the floor.
+    const steady = await flagsOf(sine(n, fs, 97, 1.4).map((v, i) => v + hiss[i]), fs, channel({ scale, bits: 24, noise_floor: floor }));
+    expect(steady.flag('noise_floor')).toMatchObject({ severity: 'ok', evidence: { windows: 4, quiet_windows: 0, first_quiet_s: null } });
+  });
+
   it('leaves a tacho channel alone, whose pulses say nothing about a floor', async () => {
     const pulses = Float64Array.from({ length: n }, (_, i) => (i % 80 < 8 ? 5 : 0));
     const { flag } = await flagsOf(pulses, fs, channel({ name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, bits: 24, noise_floor: 10, pulses_per_rev: 1 }));

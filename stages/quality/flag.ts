@@ -35,7 +35,7 @@ export interface QualityThresholds {
   resolution: { note_snr_db: number; warn_snr_db: number; fail_snr_db: number };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number };
-  noise_floor: { warn_db: number; fail_db: number };
+  noise_floor: { warn_db: number; fail_db: number; window_s: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
@@ -70,8 +70,9 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // The chain's noise (declared) adds its power to the signal's: a channel d dB above it reads RMS 1/√(1 − 10^(−d/10)) − 1 high,
   // 5 % at 10.3 dB (derived), so it warns below that. Within 3 dB the noise holds at least half the power: the figures describe
   // the chain, not the machine, and it fails (our choice). Sound power standards correct levels for background noise alike
-  // between 6 and 15 dB above it and take none above 15 dB (ISO 3744:2010, from memory).
-  noise_floor: { warn_db: 10.3, fail_db: 3 },
+  // between 6 and 15 dB above it and take none above 15 dB (ISO 3744:2010, from memory). A window of 1 s (windows.parquet's
+  // default) that falls within 3 dB of the floor in a channel above it warns: that window's figures describe the chain (our choice).
+  noise_floor: { warn_db: 10.3, fail_db: 3, window_s: 1 },
   // Missing samples are left out of every figure: below 0.1 % that shifts none by more than a fraction of a per cent (note); from
   // 0.1 % the peak or an event may be among them (warn); from 1 % the channel fails. Exact zeros for 0.1 s are a logger's gap
   // written as zeros, which pull RMS and the window figures down (warn). Our choices.

@@ -1,9 +1,10 @@
 // Noise floor: the channel's level against the measurement chain's own noise, where archive.yaml declares it. A dead or
 // disconnected sensor on a fine converter (24-bit) still reads the chain's noise, many steps wide, which the flatline
 // flag's spread of a few steps never catches; against the declared floor it reads as what it is.
+import { fixedWindowsOf } from '../fused/fixed-windows.js';
 import { momentsOf } from '../fused/moments.js';
 import type { StageDefinition } from '../stage.js';
-import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 /** Level above the floor in dB, 20·log10(rms / floor): power ratio of the channel's AC part to the chain's noise. */
 export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms / floor);
@@ -19,12 +20,25 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
   columns: () => [{ name: 'above_noise_floor_db', unit: 'dB', description: '20·log10(std / declared noise_floor): the channel above its measurement chain\'s own noise; null when no floor is declared.' }],
   create(ctx, q) {
     const shared = momentsOf(ctx);
+    const floor = ctx.noiseFloor ?? null;
+    // A connection that comes and goes leaves stretches at the floor in a recording that is above it as a whole: each
+    // window's level is held against the floor too (back-to-back windows, shared with windows.parquet's when they agree).
+    const windowLength = Math.max(1, Math.round(ctx.sampleRate * q.noise_floor.window_s));
+    const quietBelow = floor != null ? floor * floor * 10 ** (q.noise_floor.fail_db / 10) : 0;
+    const windows = { all: 0, quiet: 0, firstQuietStart: -1 };
+    if (floor != null && !ctx.tacho) {
+      fixedWindowsOf(ctx, windowLength).listen((sum, sumSquares, _peak, end) => {
+        const mean = sum / windowLength, meanSquare = sumSquares / windowLength - mean * mean;
+        if (!Number.isFinite(meanSquare)) return; // a window with a missing sample: the dropout flag's
+        windows.all++;
+        if (meanSquare < quietBelow && windows.quiet++ === 0) windows.firstQuietStart = end - windowLength;
+      });
+    }
     return {
       push() {},
       finish() {
-        const floor = ctx.noiseFloor ?? null;
-        const { warn_db: warnDb, fail_db: failDb } = q.noise_floor;
-        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high)`;
+        const { warn_db: warnDb, fail_db: failDb, window_s: windowS } = q.noise_floor;
+        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high) or with a ${secs(windowS)} window below ${failDb} dB`;
         const m = shared.moments();
         // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
         if (floor == null || ctx.tacho || m.n === 0) {
@@ -45,8 +59,11 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         } else if (db < warnDb) {
           severity = 'warn';
           message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
+        } else if (windows.quiet > 0 && windows.quiet < windows.all) {
+          severity = 'warn';
+          message = `${level} as a whole, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} fell to within ${failDb} dB of the floor, the first from ${secs(windows.firstQuietStart / ctx.sampleRate)}: a connection that comes and goes, or the machine at rest for a while; the windows' figures there describe the chain's noise, and RMS and band levels read low`;
         }
-        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null }, message });
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null, windows: windows.all, quiet_windows: windows.quiet, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
         return { above_noise_floor_db: Number.isFinite(db) ? db : null };
       },
     };
