@@ -31,7 +31,9 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         const mean = sum / windowLength, meanSquare = sumSquares / windowLength - mean * mean;
         if (!Number.isFinite(meanSquare)) return; // a window with a missing sample: the dropout flag's
         windows.all++;
-        if (meanSquare < quietBelow && windows.quiet++ === 0) windows.firstQuietStart = end - windowLength;
+        if (meanSquare >= quietBelow) return;
+        if (windows.quiet === 0) windows.firstQuietStart = end - windowLength;
+        windows.quiet++;
       });
     }
     return {
