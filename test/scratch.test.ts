@@ -53,10 +53,10 @@ describe('ScratchBuffers', () => {
     const decl = (name: string): ChannelDeclaration => ({ name, quantity: 'acceleration', unit: 'g', scale: 1, offset: 0, range: [-1, 1], bits: 16, max_frequency_hz: null });
     const { spec } = await loadSpec(dir);
     const job: RecordingJob = { recording: 'rig.wav', path: join(dir, 'rig.wav'), group: 'rig', format: null, sampleRate: null, layout: null, channels: [decl('a1'), decl('a2')], labels: {}, durationS: null, spec, chunkFrames: 4096 };
-    const fresh = await computeRecording(job, undefined, new ScratchBuffers(0));
+    const fresh = await computeRecording(job, { buffers: new ScratchBuffers(0) });
     const lent = new CountingBuffers();
-    const first = await computeRecording(job, undefined, lent);
-    const again = await computeRecording(job, undefined, lent);
+    const first = await computeRecording(job, { buffers: lent });
+    const again = await computeRecording(job, { buffers: lent });
     expect(fresh.status).toBe('reduced');
     expect(lent.made).toBeGreaterThan(0);
     expect(lent.reused).toBe(lent.made); // the second recording borrowed back every buffer the first made, and made none

@@ -52,15 +52,15 @@ async function processIdentity(pid: number): Promise<ProcessIdentity | null> {
     const ticks = stat.slice(stat.lastIndexOf(')') + 2).split(' ')[22 - 3];
     const boot = (await readFile('/proc/sys/kernel/random/boot_id', 'utf8')).trim();
     if (!/^\d+$/.test(ticks ?? '') || !boot) return null;
-    const namespace = await pidNamespace();
+    const namespace = await pidNamespace(pid);
     return { boot, start_ticks: Number(ticks), ...(namespace ? { pid_namespace: namespace } : {}) };
   } catch {
     return null;
   }
 }
 
-/** The pid namespace this process counts pids in (`pid:[4026531836]`), or null where the system does not say. */
-const pidNamespace = () => readlink('/proc/self/ns/pid').catch(() => null);
+/** The pid namespace a process counts pids in (`pid:[4026531836]`), or null where the system does not say (or lets not see). */
+const pidNamespace = (pid: number) => readlink(`/proc/${pid}/ns/pid`).catch(() => null);
 
 /** When this host's system started, ms since the epoch (from /proc/uptime), or null where there is no /proc. */
 async function bootedAt(): Promise<number | null> {

@@ -10,7 +10,6 @@ import { decodeResults, encodeRecord, recordBody, splitEntry, type CacheEntry, t
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
 import { beat, type Beats } from './stall-watch.js';
-import { THREAD_SCRATCH } from '../../stages/scratch.js';
 import type { RecordingOutput } from './result.js';
 
 /** What a worker needs, beside the job, to store the recording's entry. */
@@ -74,7 +73,7 @@ export async function reduceBatch(items: BatchItem[], beats: Beats | null = null
   // The stages a spec turns on, made once for the batch (its recordings share one spec).
   const stagesOf = new Map<RecordingJob['spec'], ActiveStage[]>();
   const active = (job: RecordingJob) => stagesOf.get(job.spec) ?? stagesOf.set(job.spec, activeStages(job.spec)).get(job.spec)!;
-  const compute = (job: RecordingJob) => computeRecording(job, active(job), THREAD_SCRATCH, progressed);
+  const compute = (job: RecordingJob) => computeRecording(job, { active: active(job), onProgress: progressed });
   // One descriptor a pack for the whole batch.
   const records = new RecordReader();
   const previousRecord = (loc: Located) => records.read(loc, loc.facts.recording);

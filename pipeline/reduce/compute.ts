@@ -63,9 +63,13 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
 
 /**
  * Reduces the feature groups the job names (all when it names none), reading the recording once; `active` is the spec's
- * stages, made once for many recordings. `onProgress` is called after each chunk and each channel's finish.
+ * stages, made once for many recordings; `buffers` lends the stages their working buffers; `onProgress` is called after
+ * each chunk and each channel's finish.
  */
-export async function computeRecording(job: RecordingJob, active: ActiveStage[] = activeStages(job.spec), buffers: ScratchBuffers = THREAD_SCRATCH, onProgress: () => void = () => {}): Promise<RecordingOutput> {
+export async function computeRecording(
+  job: RecordingJob,
+  { active = activeStages(job.spec), buffers = THREAD_SCRATCH, onProgress = () => {} }: { active?: ActiveStage[]; buffers?: ScratchBuffers; onProgress?: () => void } = {},
+): Promise<RecordingOutput> {
   const t0 = performance.now();
   const out: RecordingOutput = { recording: job.recording, group: job.group, status: 'failed', base: null, groups: {}, seconds: 0 };
   let rec: Recording | null = null;
