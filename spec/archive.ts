@@ -15,6 +15,8 @@ export interface ChannelDeclaration {
   max_frequency_hz: number | null;
   /** RMS of the measurement chain's own noise (sensor and converter), engineering units, when declared. */
   noise_floor?: number | null;
+  /** The converter's alias-free bandwidth as a fraction of the sample rate (data sheet), when declared. */
+  alias_free_fraction?: number | null;
   /** Shaft pulses per revolution of a tacho channel; its trigger level and hysteresis (engineering units) when declared, else found from the signal. */
   pulses_per_rev?: number;
   trigger_level?: number | null;

@@ -28,14 +28,16 @@ export interface ReductionSpec {
 export interface TrendsSpec {
   /** Feature columns to watch, by name or glob; those the spec does not compute are passed over. */
   features?: string[];
-  /** The first N usable recordings of each group × channel by start time, or the recordings starting in [from, until). */
-  baseline?: { first: number } | { from: string; until: string };
+  /** The first N usable recordings of each group × channel by start time, or the recordings starting in [from, until); `exclude` leaves recordings out by name or glob. */
+  baseline?: ({ first: number } | { from: string; until: string }) & { exclude?: string[] };
   /** |level change| in dB beyond which a level-like feature has changed. */
   change_db?: number;
   /** |robust z-score| beyond which a feature has changed. */
   score?: number;
   /** Least spread the score divides by, as a fraction of |baseline median|. */
   spread_floor?: number;
+  /** Fraction of each threshold by which a changed or alarm verdict must fall back before it clears. */
+  deadband?: number;
   /** Absolute limits per feature, in the feature's unit: at or above `warn` at least changed, at or above `alarm` alarm. */
   limits?: Record<string, { warn?: number; alarm?: number }>;
 }

@@ -16,6 +16,8 @@ export interface ChannelContext {
   maxFrequencyHz: number | null;
   /** RMS of the measurement chain's own noise in engineering units, when declared (`noise_floor`). */
   noiseFloor?: number | null;
+  /** The converter's alias-free bandwidth as a fraction of the sample rate, when declared (`alias_free_fraction`). */
+  aliasFreeFraction?: number | null;
   /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
   stepSize: number | null;
   /** Engineering values of the converter's most negative and most positive codes (integer formats), else null. */

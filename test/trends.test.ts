@@ -5,6 +5,7 @@ import type { Severity } from '../stages/quality/flag.js';
 import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
 import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { changesReport, scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
+import { changesSummary } from '../pipeline/trends/summary.js';
 import { readHistory } from '../pipeline/trends/history.js';
 import { trendOptions, unknownLimits } from '../pipeline/trends/options.js';
 import { MAD_TO_SIGMA, medianAndMad } from '../pipeline/trends/robust.js';
@@ -128,10 +129,59 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     expect(verdicts(early)).toEqual(['alarm', null]);
   });
 
+  // An alarm deadband (common practice in alarm management): a verdict clears only once the value is back inside its threshold
+  // by the deadband, 20 % of it by default (ours). With a baseline of 2.0 the +6 dB threshold is 3.99 and 4.8 dB is 3.47.
+  it('a change hovering at its threshold stays changed until it falls back by the deadband; deadband 0 lets it come and go', async () => {
+    const dbs = [0, 0.3, -0.3, 0, 6.5, 5.7, 6.2, 5.0, 4.9, 3.0, 5.5];
+    const levels = dbs.map((db) => 2.0 * fromDb(db));
+    const held = await scoredNights(levels, { score: 100 });
+    expect(verdicts(held)).toEqual(['steady', 'steady', 'steady', 'steady', 'changed', 'changed', 'changed', 'changed', 'changed', 'steady', 'steady']);
+    expect(held.map((p) => p.held === true)).toEqual([false, false, false, false, false, true, false, true, true, false, false]);
+    const bare = await scoredNights(levels, { score: 100, deadband: 0 });
+    expect(verdicts(bare)).toEqual(['steady', 'steady', 'steady', 'steady', 'changed', 'steady', 'changed', 'steady', 'steady', 'steady', 'steady']);
+    // An alarm limit holds within its deadband too (alarm 3.2: clears at or below 2.56), then steps down to the warn limit's
+    // (warn 2.5: clears at or below 2.0).
+    const limited = await scoredNights([2.0, 2.1, 2.0, 3.3, 3.0, 2.6, 2.5, 2.2, 1.95], { limits: { rms: { warn: 2.5, alarm: 3.2 } } });
+    expect(verdicts(limited)).toEqual(['steady', 'steady', 'steady', 'alarm', 'alarm', 'alarm', 'changed', 'changed', 'steady']);
+  });
+
   it('a recording whose channel fails the data-quality checks has no verdict and takes no part in the baseline', async () => {
     const points = await scoredNights([40, 2.0, 2.1, 2.0, 2.05], {}, (night) => (night === 0 ? 'fail' : 'ok'));
     expect(verdicts(points)).toEqual([null, 'steady', 'steady', 'steady', 'steady']);
     expect(points[4].baseline).toBe(2.0);
+  });
+
+  it('a capture left out of the baseline by name or glob takes no place in it, and keeps its own verdict', async () => {
+    const levels = [6.0, 2.0, 2.1, 2.0, 2.05, 2.0];
+    const kept = await scoredNights(levels);
+    expect(kept[4].baseline).toBe(2.1); // 6.0, 2.0 and 2.1: the mis-mounted first night pulls the median up
+    for (const exclude of [['nightly/night-001.wav'], ['nightly/night-00[1]*']]) {
+      const points = await scoredNights(levels, { baseline: { first: 3, exclude } });
+      expect(points[4].baseline).toBe(2.0);
+      expect(verdicts(points)).toEqual(['changed', 'steady', 'steady', 'steady', 'steady', 'steady']);
+    }
+    const period = await scoredNights(levels, { baseline: { from: '2026-01-01', until: '2026-01-04', exclude: ['**/night-001.wav'] } });
+    expect(period[4].baseline).toBe(2.05);
+  });
+
+  it('says how many stored recordings the exclusion leaves out, and when it matches none', async () => {
+    const spec = (exclude: string[]): ReductionSpec => ({ statistics: {}, trends: { features: ['rms'], baseline: { first: 3, exclude } } });
+    const linesOf = async (exclude: string[]) => {
+      const o = trendOptions(spec(exclude))!;
+      const entries = [2.0, 2.1, 2.0, 2.05].map((v, night) => entry(spec(exclude), night, v));
+      async function* stored() { yield* entries; }
+      const history = await readHistory('(not read)', spec(exclude), o, new Set(entries.map((e) => e.recording)), stored());
+      const report = changesReport(history, scoreHistory(history, o), o);
+      return { report, lines: changesSummary(report) };
+    };
+    const two = await linesOf(['nightly/night-00[12].wav']);
+    expect(two.report.excluded_recordings).toBe(2);
+    expect(two.report.baseline).toMatch(/, leaving out nightly\/night-00\[12\]\.wav$/);
+    expect(two.lines).toContain('  2 stored recordings are left out of the baselines (trends.baseline.exclude)');
+    const none = await linesOf(['nightly/night-1.wav']);
+    expect(none.report.excluded_recordings).toBe(0);
+    expect(none.lines.join('\n')).toMatch(/trends\.baseline\.exclude matches no stored recording/);
+    expect((await linesOf([])).report.excluded_recordings).toBeUndefined();
   });
 
   it('a declared period is the baseline: the recordings starting in it, whatever their number', async () => {

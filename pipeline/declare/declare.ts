@@ -60,6 +60,7 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
         ...(c.pulses_per_rev != null ? { pulses_per_rev: c.pulses_per_rev, trigger_level: c.trigger_level ?? null, trigger_hysteresis: c.trigger_hysteresis ?? null } : {}),
         // Likewise a declared noise floor.
         ...(c.noise_floor != null ? { noise_floor: c.noise_floor } : {}),
+        ...(c.alias_free_fraction != null ? { alias_free_fraction: c.alias_free_fraction } : {}),
       };
     }) ?? null;
     const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;

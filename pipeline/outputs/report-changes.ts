@@ -105,14 +105,14 @@ const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' 
 
 function row(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
-  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${num(c.baseline)}${c.baseline != null ? unit : ''}</td><td>${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}${c.held ? ' held' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${num(c.baseline)}${c.baseline != null ? unit : ''}</td><td>${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
 }
 
 /** The section, charts rendered to SVG; empty text when trends are off. */
 export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[]): Promise<string> {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
   const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
-  out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit. Channels whose data fail the quality checks are left out.</p>`);
+  out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
   if (!r.items.length) {
     out.push(`<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
     return out.join('\n');

@@ -104,6 +104,7 @@ export async function computeRecording(
           name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
           maxFrequencyHz: decl.max_frequency_hz,
           noiseFloor: decl.noise_floor ?? null,
+          aliasFreeFraction: decl.alias_free_fraction ?? null,
           // One converter step in engineering units: full scale ±1 spans 2^bits codes.
           stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
           fullScale,

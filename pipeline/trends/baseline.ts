@@ -15,7 +15,7 @@ export interface BaselineStats {
 }
 
 /**
- * Baseline points of a series: usable (data quality not fail) and accepted by `has` (a value present), first N or within the
+ * Baseline points of a series: usable (data quality not fail), not excluded by the spec, and accepted by `has` (a value present), first N or within the
  * period. A point `stale` (its figure computed under other options) keeps its place among the first N, so the baseline never
  * slides onto later recordings, but is not a member; `held` counts such places.
  */
@@ -23,7 +23,8 @@ export function baselineMembers(s: Series, b: Baseline, has: (i: number) => bool
   const members: number[] = [];
   let held = 0;
   for (let i = 0; i < s.size; i++) {
-    if (!usable(s, i)) continue;
+    // A recording the spec leaves out of the baseline (a capture known to be unrepresentative) takes no place in it.
+    if (!usable(s, i) || s.excluded[i]) continue;
     if ('first' in b) { if (members.length + held === b.first) break; }
     else if (!(s.time[i] >= b.fromMs && s.time[i] < b.untilMs)) continue;
     if (stale(i)) held++;

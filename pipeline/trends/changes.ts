@@ -5,7 +5,7 @@ import { baselineOf, formedFromPeriodOnly, type BaselineStats } from './baseline
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
-import { limitReached, verdictOf, VERDICTS, type Verdict } from './verdict.js';
+import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
 
 export interface ScoredPoint {
   value: number;
@@ -14,6 +14,8 @@ export interface ScoredPoint {
   score: number | null;
   verdict: Verdict | null;
   limit: 'warn' | 'alarm' | null;
+  /** The verdict is held by the deadband: back inside its threshold, but not yet by the deadband. */
+  held?: boolean;
 }
 
 /** One watched feature of one series, with its baseline; points are scored on demand, so nothing grows with the history. */
@@ -31,18 +33,39 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
   const feature = o.features[k], values = s.values[k];
   const base = baselineOf(s, k, o.baseline);
   const limits = o.limits[feature.name];
+  const pointAt = (i: number): ScoredPoint | null => {
+    const value = values[i];
+    if (!Number.isFinite(value)) return null;
+    const ok = usable(s, i);
+    const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
+    const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
+    const limit = ok ? limitReached(value, limits) : null;
+    // Figures of a channel that fails the data-quality checks are not held against anything.
+    const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o) : null;
+    return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit };
+  };
+  // The verdicts after the deadband, worked out once over the series when first asked (a held verdict depends on the last one).
+  let held: Uint8Array | null = null;
+  const heldAt = (i: number): Verdict => {
+    if (!held) {
+      held = new Uint8Array(s.size);
+      let previous: Verdict | null = null;
+      for (let j = 0; j < s.size; j++) {
+        const p = pointAt(j);
+        if (!p?.verdict) continue;
+        previous = heldVerdict(p.verdict, previous, nearness(p, o, limits));
+        held[j] = VERDICTS.indexOf(previous) + 1;
+      }
+    }
+    return VERDICTS[held[i] - 1];
+  };
   return {
     series: s, k, feature, base, unit: feature.unit === '[unit]' ? s.unit : feature.unit,
     at(i) {
-      const value = values[i];
-      if (!Number.isFinite(value)) return null;
-      const ok = usable(s, i);
-      const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
-      const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
-      const limit = ok ? limitReached(value, limits) : null;
-      // Figures of a channel that fails the data-quality checks are not held against anything.
-      const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o) : null;
-      return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit };
+      const p = pointAt(i);
+      if (!p?.verdict || p.verdict === 'alarm' || o.deadband === 0) return p;
+      const verdict = heldAt(i);
+      return verdict === p.verdict ? p : { ...p, verdict, held: true };
     },
   };
 }
@@ -76,11 +99,13 @@ export interface ChangeItem {
   baseline_recordings: number;
   /** How far beyond its threshold the change is (largest of |change_db| / change_db threshold and |score| / score threshold); orders the list. */
   strength: number;
+  /** Back inside its threshold but not yet by the deadband, so the verdict holds. */
+  held: boolean;
 }
 
 export interface ChangesReport {
   baseline: string;
-  thresholds: { change_db: number; score: number; spread_floor: number };
+  thresholds: { change_db: number; score: number; spread_floor: number; deadband: number };
   features: string[];
   /** Verdicts over this run's rows of trends.parquet; unscored: baseline forming or data unusable. */
   totals: Record<Verdict | 'unscored', number>;
@@ -90,6 +115,8 @@ export interface ChangesReport {
   stale_baselines: number;
   /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
   period_baselines?: number;
+  /** Present when trends.baseline.exclude is given: how many stored recordings it leaves out of the baselines. */
+  excluded_recordings?: number;
 }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
@@ -128,14 +155,15 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: o.limits[f.feature.name] ?? null,
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
       since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.base.members.length,
-      strength: strengthOf(p, o),
+      strength: strengthOf(p, o), held: p.held === true,
     });
   }
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
   return {
-    baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor },
+    baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
     ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
+    ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
   };
 }
 

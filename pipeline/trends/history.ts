@@ -40,19 +40,26 @@ export interface Series {
   severity: Uint8Array;
   /** 1 when the recording belongs to this run. */
   inRun: Uint8Array;
+  /** 1 when the recording is left out of the baseline (trends.baseline.exclude). */
+  excluded: Uint8Array;
   /** Per watched feature (TrendOptions.features order): the value, NaN when absent or computed under other options. */
   values: Float64Array[];
   /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now. */
   stale: Uint8Array[];
 }
 
-export interface History { recordings: string[]; series: Series[] }
+export interface History {
+  recordings: string[];
+  series: Series[];
+  /** How many stored recordings trends.baseline.exclude leaves out of the baselines. */
+  excluded: number;
+}
 
 const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
 
 /**
  * Reads every stored entry once and keeps what trends need. A value counts only when the entry's feature group was computed
@@ -62,6 +69,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
   const recordings: string[] = [];
   const building = new Map<string, Building>();
   const keysOf = new Map<string, Record<string, string>>();
+  let excludedCount = 0;
   for await (const e of entries) {
     if (e.status !== 'reduced' || !e.base) continue;
     const keys = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version)).get(e.version)!;
@@ -69,15 +77,18 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const comparable = o.features.map((f, k) => sameOptions[k] && e.groups[f.group] != null);
     const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
     const r = recordings.push(e.recording) - 1;
+    const excluded = o.excluded?.(e.recording) ? 1 : 0;
+    excludedCount += excluded;
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
       b.severity.push(SEVERITIES.indexOf(worst((e.groups.quality?.flags[c] ?? []).map((f) => f.severity))));
       b.inRun.push(inRun.has(e.recording) ? 1 : 0);
+      b.excluded.push(excluded);
       o.features.forEach((f, k) => {
         const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
         b!.values[k].push(typeof v === 'number' ? v : NaN);
@@ -91,10 +102,10 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const order = Int32Array.from({ length: n }, (_, i) => i).sort((i, j) => b.time.data[i] - b.time.data[j] || (recordings[b.recording.data[i]] < recordings[b.recording.data[j]] ? -1 : 1));
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
-      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), inRun: b.inRun.take(order),
+      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order),
       values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)),
     };
   });
   series.sort((a, b) => (a.group + '\u0000' + a.channel + '\u0000' + a.unit < b.group + '\u0000' + b.channel + '\u0000' + b.unit ? -1 : 1));
-  return { recordings, series };
+  return { recordings, series, excluded: excludedCount };
 }

@@ -17,14 +17,19 @@ export interface WatchedFeature {
   level: LevelKind;
 }
 
-export type Baseline = { first: number } | { fromMs: number; untilMs: number; text: string };
+/** The baseline: the first N usable recordings or a period, less the recordings `exclude` names (patterns as written). */
+export type Baseline = ({ first: number } | { fromMs: number; untilMs: number; text: string }) & { exclude: string[] };
 
 export interface TrendOptions {
   features: WatchedFeature[];
   baseline: Baseline;
+  /** Whether a recording is left out of every baseline (trends.baseline.exclude); null when nothing is. */
+  excluded: ((recording: string) => boolean) | null;
   changeDb: number;
   score: number;
   spreadFloor: number;
+  /** Fraction of each threshold by which a changed or alarm verdict must fall back before it clears. */
+  deadband: number;
   limits: Record<string, { warn?: number; alarm?: number }>;
 }
 
@@ -81,21 +86,28 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
   // Each pattern made into a matcher once, not once for every column.
   const matchers = patterns.map((p) => picomatch(p));
   const watched = columns.filter((c) => c.name in limits || matchers.some((matches) => matches(c.name)));
-  let baseline: Baseline = { first: 3 };
+  const exclude = t.baseline?.exclude ?? [];
+  let baseline: Baseline = { first: 3, exclude };
   if (t.baseline && 'from' in t.baseline) {
     const fromMs = instant(t.baseline.from, 'from'), untilMs = instant(t.baseline.until, 'until');
     if (!(untilMs > fromMs)) throw new UsageError(`reduction spec: trends.baseline: until (${t.baseline.until}) must come after from (${t.baseline.from})`);
-    baseline = { fromMs, untilMs, text: `${t.baseline.from} to ${t.baseline.until}` };
-  } else if (t.baseline) baseline = { first: t.baseline.first };
+    baseline = { fromMs, untilMs, text: `${t.baseline.from} to ${t.baseline.until}`, exclude };
+  } else if (t.baseline && 'first' in t.baseline) baseline = { first: t.baseline.first, exclude };
+  // Recording names as the tables give them (relative to the archive's root), matched by name or glob.
+  const excluded = exclude.length ? picomatch(exclude, { dot: true }) : null;
   return {
     features: watched.map((c) => ({ name: c.name, unit: c.unit, group: c.group, level: levelKind(c.name, c.unit) })),
     baseline,
+    excluded,
     changeDb: t.change_db ?? 6,
     score: t.score ?? 6,
     spreadFloor: t.spread_floor ?? 0.1,
+    deadband: t.deadband ?? 0.2,
     limits,
   };
 }
 
 /** The baseline in words, for the report. */
-export const baselineText = (b: Baseline) => ('first' in b ? `the first ${b.first} usable recordings of each group and channel by start time` : `the recordings starting from ${b.text}`);
+export const baselineText = (b: Baseline) =>
+  ('first' in b ? `the first ${b.first} usable recordings of each group and channel by start time` : `the recordings starting from ${b.text}`)
+  + (b.exclude.length ? `, leaving out ${b.exclude.join(', ')}` : '');

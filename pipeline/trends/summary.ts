@@ -12,7 +12,8 @@ export function changeLine(c: ChangeItem): string {
   const against = c.baseline != null ? ` against its baseline ${num(c.baseline)}${unit}` : '';
   const limit = c.limit ? `; at or above its ${c.limit} limit ${num(c.limits![c.limit]!)}${unit}` : '';
   const since = c.since.recording !== c.recording ? `, since ${day(c.since.start_time, c.since.recording)}` : '';
-  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${since}`;
+  const held = c.held ? ' (back inside its threshold, not yet by the deadband)' : '';
+  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}`;
 }
 
 export function changesSummary(r: ChangesReport, top = 5): string[] {
@@ -21,6 +22,8 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options; run once without --since to recompute them`);
+  if (r.excluded_recordings === 0) lines.push('  trends.baseline.exclude matches no stored recording: check its patterns against the recordings column of features.parquet');
+  else if (r.excluded_recordings) lines.push(`  ${r.excluded_recordings} stored ${r.excluded_recordings === 1 ? 'recording is' : 'recordings are'} left out of the baselines (trends.baseline.exclude)`);
   if (r.period_baselines) lines.push(`  ${r.period_baselines} channel ${r.period_baselines === 1 ? 'feature has its baseline' : 'features have their baselines'} formed from this period only: no earlier results are stored; run once without --since to build ${r.period_baselines === 1 ? 'it' : 'them'} from the whole archive`);
   return lines;
 }

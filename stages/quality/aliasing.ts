@@ -7,6 +7,9 @@ import { pct, type QualityThresholds, type Severity } from './flag.js';
 /** Where a tone at f lands when sampled at fs: |f − k·fs| for the nearest whole k (sampling theorem). */
 export const aliasOf = (f: number, fs: number) => Math.abs(f - Math.round(f / fs) * fs);
 
+/** A frequency for a message: six significant digits, no trailing zeros. */
+const hz = (f: number) => Number(f.toPrecision(6));
+
 export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOptions }> = {
   group: 'quality',
   columns: () => [
@@ -26,13 +29,18 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         const above = psd && total > 0 && f && f < fs / 2 ? bandMeanSquare(psd, f, fs / 2) / total : null;
         let severity: Severity = 'ok', message: string;
         const margin = f ? fs / f : null;
+        // A declared alias-free bandwidth (the converter's data sheet) replaces the ratio common practice leaves an analogue filter.
+        const aliasFree = ctx.aliasFreeFraction != null ? ctx.aliasFreeFraction * fs : null;
         const alias = f ? aliasOf(f, fs) : null;
         if (f && f >= fs / 2) {
           severity = 'fail';
           message = `declared content up to ${f} Hz but sampled at ${fs} Hz (Nyquist ${fs / 2} Hz): a ${f} Hz component appears at ${Number(alias!.toPrecision(6))} Hz; the capture cannot represent its content: resample at ${a.recommended_ratio} × ${f} = ${a.recommended_ratio * f} Hz or more`;
-        } else if (f && fs < a.recommended_ratio * f) {
+        } else if (f && aliasFree != null && f > aliasFree) {
           severity = 'warn';
-          message = `sampled at ${(fs / f).toFixed(2)} × the declared ${f} Hz, less than the ${a.recommended_ratio} × common practice leaves for the anti-alias filter: content near ${f} Hz may be attenuated or folded`;
+          message = `declared content up to ${f} Hz, above the converter's alias-free bandwidth ${hz(aliasFree)} Hz (alias_free_fraction ${ctx.aliasFreeFraction} × ${fs} Hz): content between the two may be attenuated or folded; sample faster or lower max_frequency_hz`;
+        } else if (f && aliasFree == null && fs < a.recommended_ratio * f) {
+          severity = 'warn';
+          message = `sampled at ${(fs / f).toFixed(2)} × the declared ${f} Hz, less than the ${a.recommended_ratio} × common practice leaves for the anti-alias filter: content near ${f} Hz may be attenuated or folded; where the converter's data sheet gives a wider alias-free bandwidth, declare alias_free_fraction`;
         } else if (top != null && top > a.top_band_warn_fraction) {
           severity = 'warn';
           message = `${pct(top)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz): content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
@@ -40,12 +48,14 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
           severity = 'warn';
           message = `${pct(above)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz): content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (RMS reads ${pct(1 / Math.sqrt(1 - above) - 1)} above the declared band's); check the anti-alias filter and max_frequency_hz`;
         } else {
-          message = f ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz` : 'no highest frequency declared; top of the band is quiet';
+          message = !f ? 'no highest frequency declared; top of the band is quiet'
+            : aliasFree != null ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz, within the converter's alias-free bandwidth ${hz(aliasFree)} Hz`
+            : `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz`;
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: fs < ${a.recommended_ratio} × it, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
-          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above },
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it above the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
+          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above, ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}) },
           message,
         });
         return { alias_margin: margin, alias_frequency_hz: alias, top_band_power_fraction: top };
