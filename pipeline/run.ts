@@ -15,6 +15,7 @@ import type { Progress } from './outputs/progress.js';
 import type { QualitySummary } from './outputs/quality.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
 import { writing } from './outputs/staged.js';
+import { sweepLeftovers } from './outputs/sweep-leftovers.js';
 import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan } from './select/scan.js';
@@ -80,6 +81,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   }
   let store: Store | null = null;
   try {
+    // What a run stopped while writing left under temporary names goes first.
+    const leftovers = await sweepLeftovers(outDir, shard);
     const scanned = await scan(root, declaration, { exclude: [outDir] });
     store = await Store.open(outDir, shard);
     const s = store;
@@ -141,7 +144,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)), settling,
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
       period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length } : null,
-      damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,
+      damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     return { record, quality: written.quality, threadsGivenUp };

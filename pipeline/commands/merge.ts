@@ -8,6 +8,7 @@ import { canonicalJson } from '../declare/canonical-json.js';
 import type { LoadedSpec } from '../declare/declare.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { describeHolder, heldShardLocks, lockPath, takeLock } from '../outputs/lock.js';
+import { sweepLeftovers } from '../outputs/sweep-leftovers.js';
 import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { QualitySummary } from '../outputs/quality.js';
@@ -43,6 +44,7 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
   const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` });
   const pool = openPool(jobs);
   try {
+    const leftovers = await sweepLeftovers(outDir, null);
     const store = await Store.open(outDir);
     const listed = byRecording(parts.flatMap((p) => p.recordings));
     const items = listed.map((r) => {
@@ -64,7 +66,7 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period,
-      damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver,
+      damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, 'run.json', record);
     return { record, quality: written.quality };

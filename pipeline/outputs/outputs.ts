@@ -29,11 +29,16 @@ const PICTURES_A_TASK = 24;
  * Where a run writes: `table(name)` gives the file of features.parquet or of a secondary table. `spectra` says whether
  * spectra.parquet is among the outputs (when the spec has a spectrum section): a shard's parts leave it to quern merge.
  */
-export interface OutputNames { table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string; spectra: boolean }
+export interface OutputNames {
+  table: (name: string) => string; qualityJson: string; qualityHtml: string | null; digest: string; spectra: boolean;
+  /** A working file of the quality report's, never put in place: beside the run's own outputs, so that each lock holder's are its own. */
+  spool: (name: string) => string;
+}
 
-export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html', digest: 'outputs.json', spectra: true };
+export const FINAL_NAMES: OutputNames = { table: (name) => `${name}.parquet`, qualityJson: 'quality.json', qualityHtml: 'quality.html', digest: 'outputs.json', spectra: true, spool: (name) => `${name}.spool` };
 export const partNames = (k: number, n: number): OutputNames => ({
   table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`, spectra: false,
+  spool: (name) => `parts/${name}-${k}-of-${n}.spool`,
 });
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
@@ -134,7 +139,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const staged = (name: string) => new StagedFile(join(outDir, name));
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
-  const spools = { quality: staged('quality-list.spool'), overview: staged('overview.spool'), fail: staged('fail.spool'), warn: staged('warn.spool'), notes: staged('notes.spool') };
+  const spool = (name: string) => staged(names.spool(name));
+  const spools = { quality: spool('quality-list'), overview: spool('overview'), fail: spool('fail'), warn: spool('warn'), notes: spool('notes') };
   const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
   try {
     const totals = emptyTotals(o.unmatched.length);

@@ -41,8 +41,8 @@ export interface RunRecord {
   store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; compacted: boolean };
   /** Whether the tables and reports were rewritten, or already said what this run would write (same digest). */
   outputs: { rewritten: boolean; digest: string; written_by_run: string };
-  /** A lock left by a run that is gone, and taken over by this one. */
-  lock: { took_over: TakenOver | null };
+  /** A lock left by a run that is gone, and taken over by this one; the files such a run left half-written, removed (relative to the output folder). */
+  lock: { took_over: TakenOver | null; leftovers_removed: string[] };
   timings: { scan_s: number; reduce_s: number; write_s: number; total_s: number };
 }
 
@@ -66,6 +66,8 @@ export interface RunFacts {
   lines: RunLine[]; settling: Settling[]; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
   period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
+  /** Temporary files a stopped run left, removed before this run began. */
+  leftovers: string[];
 }
 
 export function runRecord(f: RunFacts): RunRecord {
@@ -85,7 +87,7 @@ export function runRecord(f: RunFacts): RunRecord {
     settling: f.settling,
     store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
     outputs: f.outputs,
-    lock: { took_over: f.tookOver },
+    lock: { took_over: f.tookOver, leftovers_removed: f.leftovers },
     timings: { ...mapValues(f.timings, round), total_s: round((finished.getTime() - f.started.getTime()) / 1000) },
   };
 }
@@ -127,6 +129,9 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
   if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);
   if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
+  // Older records (merged parts written before) have no such list.
+  const leftovers = r.lock.leftovers_removed ?? [];
+  if (leftovers.length) lines.push(`  lock:    removed ${leftovers.length} file${leftovers.length === 1 ? '' : 's'} a stopped run left half-written under temporary names (${leftovers.slice(0, 3).join(', ')}${leftovers.length > 3 ? ', …: see run.json' : ''})`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));
