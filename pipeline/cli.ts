@@ -45,7 +45,7 @@ function jobsOf(jobs: number): number {
 }
 
 /** Options whose value may begin with a minus sign, which yargs would otherwise split into short flags ("-5d" as -5 -d). */
-const SIGNED_VALUE_OPTIONS = ['--since', '--until', '--stale-lock-after', '--stall-limit', '--settle'];
+const SIGNED_VALUE_OPTIONS = ['--since', '--until', '--stale-lock-after', '--stall-limit', '--storage-limit', '--settle'];
 
 /** `--since -5d` joined as `--since=-5d`, so quern judges the value and names the option, instead of "Unknown arguments: 5, d". */
 export function joinSignedValues(argv: string[]): string[] {
@@ -85,6 +85,7 @@ async function main(argv: string[]): Promise<number> {
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
       .option('stale-lock-after', { type: 'string', default: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
       .option('stall-limit', { type: 'string', default: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
+      .option('storage-limit', { type: 'string', default: '5m', describe: 'End the run when the archive\'s or output folder\'s storage has not answered for this long (a network share gone away), rather than wait for ever holding the lock (2m, 5m)' })
       .option('settle', { type: 'string', describe: 'Leave recordings modified within this span before the scan to the next run, as captures that may still be written (off unless given; 2m, 10m)' })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
@@ -97,6 +98,7 @@ async function main(argv: string[]): Promise<number> {
       until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
       staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
       const stallMs = optionValue('stall-limit', a.stallLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a stall limit of no time would stop every recording; give a span such as 5m'); return ms; });
+      const storageMs = optionValue('storage-limit', a.storageLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a storage limit of no time would end every run; give a span such as 5m'); return ms; });
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       try {
         shard = a.shard ? parseShard(a.shard) : null;
@@ -106,7 +108,7 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs, settleMs });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs });
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);

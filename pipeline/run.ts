@@ -11,6 +11,7 @@ import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/out
 import { toolVersion } from './declare/package-files.js';
 import { planJob } from './plan/plan.js';
 import { openPool, reduceAll } from './reduce/pool.js';
+import { watchStorage } from './reduce/storage-watch.js';
 import type { Progress } from './outputs/progress.js';
 import type { QualitySummary } from './outputs/quality.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
@@ -43,6 +44,8 @@ export interface ReduceOptions {
   staleLockAfterMs?: number;
   /** A recording whose reduction makes no progress for this long fails, and the run goes on. */
   stallMs?: number;
+  /** The run ends (the process killed) when the archive's or output folder's storage has not answered for this long. */
+  storageMs?: number;
   /** Recordings to compute that were modified within this span before the scan are left to the next run (0: none). */
   settleMs?: number;
 }
@@ -62,6 +65,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   const shard = o.shard ?? null;
 
   let t = performance.now();
+  // Storage that stops answering ends the run rather than hold its lock for ever.
+  const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000);
   const pool = openPool(o.jobs);
   // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
@@ -77,6 +82,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
   } catch (e) {
     await pool.destroy();
+    storage.stop();
     throw e;
   }
   let store: Store | null = null;
@@ -152,5 +158,6 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await pool.destroy();
     await store?.close();
     await lock.release();
+    storage.stop();
   }
 }
