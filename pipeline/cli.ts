@@ -45,6 +45,14 @@ function jobsOf(jobs: number): number {
 }
 
 /** Options whose value may begin with a minus sign, which yargs would otherwise split into short flags ("-5d" as -5 -d). */
+const STORAGE_LIMIT = 'End the run when the archive\'s or output folder\'s storage has not answered for this long (a network share gone away), rather than wait for ever holding the lock (2m, 5m)';
+/** A storage limit: a span of some time. */
+function storageSpan(text: string): number {
+  const ms = parseSpan(text);
+  if (ms <= 0) throw new Error('a storage limit of no time would end every run; give a span such as 5m');
+  return ms;
+}
+
 const SIGNED_VALUE_OPTIONS = ['--since', '--until', '--stale-lock-after', '--stall-limit', '--storage-limit', '--settle'];
 
 /** `--since -5d` joined as `--since=-5d`, so quern judges the value and names the option, instead of "Unknown arguments: 5, d". */
@@ -85,7 +93,7 @@ async function main(argv: string[]): Promise<number> {
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
       .option('stale-lock-after', { type: 'string', default: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
       .option('stall-limit', { type: 'string', default: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
-      .option('storage-limit', { type: 'string', default: '5m', describe: 'End the run when the archive\'s or output folder\'s storage has not answered for this long (a network share gone away), rather than wait for ever holding the lock (2m, 5m)' })
+      .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
       .option('settle', { type: 'string', describe: 'Leave recordings modified within this span before the scan to the next run, as captures that may still be written (off unless given; 2m, 10m)' })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
@@ -98,7 +106,7 @@ async function main(argv: string[]): Promise<number> {
       until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
       staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
       const stallMs = optionValue('stall-limit', a.stallLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a stall limit of no time would stop every recording; give a span such as 5m'); return ms; });
-      const storageMs = optionValue('storage-limit', a.storageLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a storage limit of no time would end every run; give a span such as 5m'); return ms; });
+      const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       try {
         shard = a.shard ? parseShard(a.shard) : null;
@@ -127,12 +135,14 @@ async function main(argv: string[]): Promise<number> {
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
       .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' })
       .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
+      .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
-      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs) });
+      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;

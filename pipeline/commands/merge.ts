@@ -9,6 +9,7 @@ import type { LoadedSpec } from '../declare/declare.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { describeHolder, heldShardLocks, lockPath, takeLock } from '../outputs/lock.js';
 import { sweepLeftovers } from '../outputs/sweep-leftovers.js';
+import { watchStorage } from '../reduce/storage-watch.js';
 import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { QualitySummary } from '../outputs/quality.js';
@@ -19,7 +20,7 @@ import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
 
-export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
+export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const outDir = resolve(out);
   const partsDir = join(outDir, 'parts');
@@ -41,7 +42,9 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
   const first = parts[0];
   const spec = first.spec.value as ReductionSpec;
   const runId = randomUUID();
-  const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` });
+  // Storage that stops answering ends the merge rather than hold its lock for ever.
+  const storage = watchStorage([outDir], storageMs);
+  const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
   const pool = openPool(jobs);
   try {
     const leftovers = await sweepLeftovers(outDir, null);
@@ -73,5 +76,6 @@ export async function runMerge(out: string, { jobs }: { jobs?: number } = {}): P
   } finally {
     await pool.destroy();
     await lock.release();
+    storage.stop();
   }
 }
