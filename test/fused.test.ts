@@ -84,7 +84,7 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
       const sizes = chunkSizes(x.length, 100 + seed);
       expect(sizes.filter((s) => s === 1).length).toBeGreaterThan(10);
       const { ctx, shared } = context();
-      const moments = momentsOf(ctx), limits = limitRunsOf(ctx, LO, HI), repeats = repeatRunsOf(ctx), zeros = zeroRunsOf(ctx), missing = missingOf(ctx);
+      const moments = momentsOf(ctx), limits = limitRunsOf(ctx, LO, HI), repeats = repeatRunsOf(ctx, 0.01), zeros = zeroRunsOf(ctx), missing = missingOf(ctx);
       const means: number[] = [], trend: number[] = [], rows: number[][] = [];
       finiteWindowsOf(ctx, 1000).listen((sum, _, n) => means.push(sum / n));
       finiteWindowsOf(ctx, 100).listen((_, sq, n) => trend.push(Math.sqrt(sq / n)));
@@ -113,6 +113,16 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
       expect([limits.count, limits.first, limits.longest, limits.longestEnd]).toEqual([sat.count, sat.first, sat.longest, sat.end]);
       const rep = plainRuns(x, (v, p) => v === p);
       expect([repeats.longest, repeats.longestEnd]).toEqual([rep.longest, rep.end]);
+      // Samples in stretches of more than 10 repeats (0.01 s at 1 kHz) of a value other than zero: the clipped and stuck ones.
+      let stuck = 0;
+      for (let i = 0; i < x.length;) {
+        let j = i + 1;
+        while (j < x.length && x[j] === x[i]) j++;
+        if (j - i - 1 >= 10 && x[i] !== 0) stuck += j - i;
+        i = j;
+      }
+      expect(stuck).toBe(50 + 1500);
+      expect(repeats.stuck).toBe(stuck);
       const zer = plainRuns(x, (v) => v === 0);
       expect([zeros.longest, zeros.longestEnd]).toEqual([zer.longest, zer.end]);
       const gaps = plainRuns(x, (v) => !Number.isFinite(v));

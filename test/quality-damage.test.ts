@@ -67,6 +67,22 @@ describe('flatline: a busy signal that stops moving', () => {
     expect(flag('flatline').message).toMatch(/stuck/);
   });
 
+  // A transfer that repeats its last value for a buffer's time, again and again (each stretch far below 0.1 s): the held
+  // stretches carry nothing but a level, so band figures over the record read 1 − √(1 − share) low (derived): 5.1 % at 10 %.
+  it('short held stretches again and again: 15 ms in every 100 ms (15 %) warns; 5 ms stretches, or 7.5 % of the record, do not', async () => {
+    const every = (period: number, len: number) => holdAt(noise(7), Array.from({ length: 40000 / period }, (_, k) => k * period + 37), len);
+    const often = await reduce(every(1000, 150), 10000, accelerometer());
+    expect(often.row.flatline_run_s).toBeCloseTo(0.015, 12);
+    expect(often.flag('flatline').severity).toBe('warn');
+    expect(often.flag('flatline').evidence.stuck_fraction as number).toBeCloseTo(0.15, 3);
+    expect(often.flag('flatline').message).toMatch(/^15 % of the recording lies in constant stretches of 0\.01 s or more \(the longest 0\.015 s\) .* read up to 7\.8 % low$/);
+    const brief = await reduce(every(1000, 50), 10000, accelerometer());
+    expect(brief.flag('flatline').severity).toBe('ok'); // 5 ms: below stuck_stretch_s, as a converter's own repeats may be
+    const sparse = await reduce(every(2000, 150), 10000, accelerometer());
+    expect(sparse.flag('flatline').evidence.stuck_fraction as number).toBeCloseTo(0.075, 3);
+    expect(sparse.flag('flatline').severity).toBe('ok');
+  });
+
   it('the same noise without held stretches is clean', async () => {
     const { flag } = await reduce(noise(5), 10000, accelerometer());
     expect(flag('flatline').severity).toBe('ok');

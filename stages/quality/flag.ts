@@ -34,7 +34,7 @@ export interface QualityThresholds {
   aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number; above_declared_warn_fraction: number };
   resolution: { note_snr_db: number; warn_snr_db: number; fail_snr_db: number };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
-  flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number };
+  flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
@@ -66,7 +66,7 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // whose figures describe the fault, not the signal (our choices). A signal that otherwise moves between samples (fewer than 20 %
   // of them repeat the one before, our choice) and holds one value for 0.1 s is stuck: a 1 s window holding it reads its RMS up to
   // 1 − √0.9 = 5.1 % low (derived); slow signals that rest on their codes repeat far more often and keep the 1 s rule.
-  flatline: { fail_steps: 2, warn_run_s: 1, warn_stuck_s: 0.1, stuck_repeat_fraction: 0.2 },
+  flatline: { fail_steps: 2, warn_run_s: 1, warn_stuck_s: 0.1, stuck_repeat_fraction: 0.2, stuck_stretch_s: 0.01, warn_stuck_fraction: 0.1 },
   // The chain's noise (declared) adds its power to the signal's: a channel d dB above it reads RMS 1/√(1 − 10^(−d/10)) − 1 high,
   // 5 % at 10.3 dB (derived), so it warns below that. Within 3 dB the noise holds at least half the power: the figures describe
   // the chain, not the machine, and it fails (our choice). Sound power standards correct levels for background noise alike

@@ -11,7 +11,7 @@ export const flatline: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     // The spread comes from the channel's shared moments; this stage only looks for constant stretches.
     const shared = momentsOf(ctx);
-    const runs = repeatRunsOf(ctx);
+    const runs = repeatRunsOf(ctx, q.flatline.stuck_stretch_s);
     // Exact zeros are a logger's gap, which the dropout flag names; a stuck stretch is judged when it holds another value.
     const zeros = zeroRunsOf(ctx);
     // A tacho channel holds one level between its pulses, for seconds on a slow shaft: only a channel that never moves is at fault.
@@ -27,6 +27,9 @@ export const flatline: StageDefinition<QualityThresholds> = {
         const runS = (longest + (longest ? 1 : 0)) / fs;
         // How often the rest of the signal repeats itself: rarely, for a signal that moves by more than a step between samples.
         const otherRepeats = n > 0 ? (runs.repeats - longest) / n : 1;
+        // Short held stretches, again and again (a transfer repeating its last value): their share, and how often the rest repeats.
+        const stuck = runs.stuck, stuckShare = n > 0 ? stuck / n : 0;
+        const restRepeats = n > stuck ? Math.max(0, runs.repeats - stuck) / (n - stuck) : 1;
         const deadLimit = step != null ? q.flatline.fail_steps * step : 0;
         let severity: Severity = 'ok', message = `spread ${spread.toPrecision(4)} ${ctx.unit}; longest constant stretch ${secs(runS)}`;
         if (n > 0 && spread <= deadLimit) {
@@ -38,11 +41,14 @@ export const flatline: StageDefinition<QualityThresholds> = {
         } else if (!restsBetweenPulses && runS >= q.flatline.warn_run_s) {
           severity = 'warn';
           message = `the value stays exactly constant for ${secs(runS)} (ending at ${secs((longestEnd + 1) / fs)}): an intermittent connection or a stuck converter; RMS, spectra and window figures over that stretch describe the fault, not the signal`;
+        } else if (!restsBetweenPulses && stuckShare >= q.flatline.warn_stuck_fraction && restRepeats < q.flatline.stuck_repeat_fraction) {
+          severity = 'warn';
+          message = `${pct(stuckShare)} of the recording lies in constant stretches of ${secs(q.flatline.stuck_stretch_s)} or more (the longest ${secs(runS)}) in a signal that otherwise changes from sample to sample (${pct(restRepeats)} repeats): a converter or a transfer holding its last value again and again; held stretches carry nothing but their level, so band and window figures read up to ${pct(1 - Math.sqrt(1 - stuckShare))} low`;
         }
         ctx.flag({
           name: 'flatline', severity, value: runS,
-          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn (not on a tacho channel): constant for ≥ ${secs(q.flatline.warn_run_s)}, or for ≥ ${secs(q.flatline.warn_stuck_s)} where fewer than ${pct(q.flatline.stuck_repeat_fraction)} of the other samples repeat`,
-          evidence: { spread, repeat_fraction: otherRepeats, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
+          threshold: `fail: spread ≤ ${q.flatline.fail_steps} converter steps${step == null ? ' (no spread at all when the step is unknown)' : ''}; warn (not on a tacho channel): constant for ≥ ${secs(q.flatline.warn_run_s)}, or for ≥ ${secs(q.flatline.warn_stuck_s)} where fewer than ${pct(q.flatline.stuck_repeat_fraction)} of the other samples repeat, or ${pct(q.flatline.warn_stuck_fraction)} of the recording in such stretches of ≥ ${secs(q.flatline.stuck_stretch_s)}`,
+          evidence: { spread, repeat_fraction: otherRepeats, stuck_fraction: stuckShare, longest_run_samples: longest ? longest + 1 : 0, longest_run_end_s: longest ? (longestEnd + 1) / fs : null },
           message,
         });
         return { flatline_run_s: runS };
