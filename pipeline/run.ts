@@ -1,4 +1,4 @@
-// The whole run on one screen: lock → declare → scan → select → plan → decide (reuse; captures still settling wait) → reduce (worker pool, in batches)
+// The whole run on one screen: lock (removing what a stopped run left) → declare → scan → select → plan → decide (reuse; captures still settling wait) → reduce (worker pool, in batches)
 // → store (packs) → write (streamed, or left as they are when their digest says so) → report.
 import { randomUUID } from 'node:crypto';
 import { existsSync } from 'node:fs';

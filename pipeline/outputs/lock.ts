@@ -35,9 +35,9 @@ const describe = (h: LockHolder) => {
   return `host ${h.host}, pid ${h.pid}, started ${h.started}${what.length ? ` (${what.join(', ')})` : ''}`;
 };
 
-/** A pid on this host that no longer runs: signal 0 probes without sending anything (EPERM: it runs as someone else). */
-function gone(pid: number): boolean {
-  try { process.kill(pid, 0); return false; } catch (e) { return (e as NodeJS.ErrnoException).code === 'ESRCH'; }
+/** Whether a process of this pid runs on this host: signal 0 probes without sending anything (EPERM: it runs as someone else). */
+export function runsHere(pid: number): boolean {
+  try { process.kill(pid, 0); return true; } catch (e) { return (e as NodeJS.ErrnoException).code !== 'ESRCH'; }
 }
 
 /**
@@ -87,7 +87,7 @@ async function staleness(path: string, h: LockHolder | null, staleAfterMs: numbe
   // where the lock does not say otherwise; under another name only where it says so.
   const pidsCount = h != null && (h.host === hostname() ? !held || !here || (sameBoot && sameNamespace !== false) : sameBoot && sameNamespace === true);
   if (h && pidsCount) {
-    if (gone(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: null };
+    if (!runsHere(h.pid)) return { why: `process ${h.pid} on this host is no longer running`, elsewhere: null };
     // A pid that runs may have been given again: after a restart of the system, or once the holder ended.
     const now = held ? await processIdentity(h.pid) : null;
     if (held && now && now.start_ticks !== held.start_ticks) return { why: `pid ${h.pid} on this host now names another program than the one that took the lock (it started later)`, elsewhere: null };

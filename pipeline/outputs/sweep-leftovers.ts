@@ -3,15 +3,11 @@
 // up night after night beside the outputs.
 import { readdir, rm } from 'node:fs/promises';
 import { join } from 'node:path';
+import { runsHere } from './lock.js';
 
 /** A staged or atomically written file's temporary name (staged.ts, atomic.ts, store.ts): `.<name>.<pid>[.<8 hex>].tmp`. */
 // The shortest name that fits, so that a random part of digits alone is not read as the pid.
 const TEMPORARY = /^\.(.+?)\.(\d+)(?:\.[0-9a-f]{8})?\.tmp$/;
-
-/** Whether a process of this pid runs on this host (signal 0 probes without sending anything; EPERM: it runs as someone else). */
-export function runsHere(pid: number): boolean {
-  try { process.kill(pid, 0); return true; } catch (e) { return (e as NodeJS.ErrnoException).code !== 'ESRCH'; }
-}
 
 /**
  * The folders of an output folder and which temporary names in them a lock holder owns: a whole run (or merge) owns the
