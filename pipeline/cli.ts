@@ -46,12 +46,13 @@ function jobsOf(jobs: number): number {
 
 /** Options whose value may begin with a minus sign, which yargs would otherwise split into short flags ("-5d" as -5 -d). */
 const STORAGE_LIMIT = 'End the run when the archive\'s or output folder\'s storage has not answered for this long (a network share gone away), rather than wait for ever holding the lock (2m, 5m)';
-/** A storage limit: a span of some time. */
-function storageSpan(text: string): number {
+/** A limit that must be a span of some time; `noTime` says what a span of none would do. */
+const positiveSpan = (noTime: string) => (text: string): number => {
   const ms = parseSpan(text);
-  if (ms <= 0) throw new Error('a storage limit of no time would end every run; give a span such as 5m');
+  if (ms <= 0) throw new Error(`${noTime}; give a span such as 5m`);
   return ms;
-}
+};
+const storageSpan = positiveSpan('a storage limit of no time would end every run');
 
 const SIGNED_VALUE_OPTIONS = ['--since', '--until', '--stale-lock-after', '--stall-limit', '--storage-limit', '--settle'];
 
@@ -105,7 +106,7 @@ async function main(argv: string[]): Promise<number> {
       since = a.since != null ? optionValue('since', a.since, parseWhen) : null;
       until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
       staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
-      const stallMs = optionValue('stall-limit', a.stallLimit, (t) => { const ms = parseSpan(t); if (ms <= 0) throw new Error('a stall limit of no time would stop every recording; give a span such as 5m'); return ms; });
+      const stallMs = optionValue('stall-limit', a.stallLimit, positiveSpan('a stall limit of no time would stop every recording'));
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       try {

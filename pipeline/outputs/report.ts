@@ -124,13 +124,11 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  // Older records (merged parts written before) have no settling list.
-  const settling = r.settling ?? [];
+  const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
   if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);
   if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
-  // Older records (merged parts written before) have no such list.
-  const leftovers = r.lock.leftovers_removed ?? [];
+  const leftovers = r.lock.leftovers_removed;
   if (leftovers.length) lines.push(`  lock:    removed ${leftovers.length} file${leftovers.length === 1 ? '' : 's'} a stopped run left half-written under temporary names (${leftovers.slice(0, 3).join(', ')}${leftovers.length > 3 ? ', …: see run.json' : ''})`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);

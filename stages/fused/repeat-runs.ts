@@ -10,11 +10,10 @@ export class RepeatRuns extends Accumulating<'prev' | 'run' | 'longest' | 'end' 
   readonly each = 'if (v === $prev) { $repeats++; if (++$run > $longest) { $longest = $run; $end = n; } } else { if ($run >= $minRun && $prev !== 0) $stuck += $run + 1; $run = 0; } $prev = v;';
   /** One sample before a long stretch ends: a stretch of minRun repeats of a value other than zero. */
   readonly edge: { run: number; prev: number };
-  /** `minRepeats`: the repeats (samples − 1) from which a stretch counts as stuck. */
-  constructor(minRepeats = Number.POSITIVE_INFINITY) {
-    const minRun = Math.max(1, minRepeats);
+  /** `minRun`: the repeats (samples − 1, at least 1) from which a stretch counts as stuck. */
+  constructor(minRun: number) {
     super('repeat-runs', { prev: NaN, run: 0, longest: 0, end: 0, repeats: 0, minRun, stuck: 0 });
-    this.edge = { run: Number.isFinite(minRun) ? minRun : 1, prev: 0.25 };
+    this.edge = { run: minRun, prev: 0.25 };
   }
   /** Repeats in the longest run (a run of k equal samples counts k − 1). */
   get longest() { return this.get('longest'); }
