@@ -24,7 +24,9 @@ export interface Accumulator {
   readonly finite?: string;
   /**
    * State values that put the accumulator one sample before its rarest branch (a window's end, a full reservoir). The
-   * pass's rehearsal starts calls there, so that V8 has seen the branch before it optimises the kernel.
+   * pass's rehearsal starts calls there, so that V8 has seen the branch before it optimises the kernel. An edge keeps
+   * the call short (a window made one sample long rather than a long window's re-sum), or V8 optimises the kernel
+   * within its first call, before it has feedback.
    */
   readonly edge?: Readonly<Record<string, number>>;
   /** Runs before the pass walks a chunk (per-chunk constants, such as a chunk's robust spread). */

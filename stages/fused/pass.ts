@@ -105,7 +105,11 @@ export class FusedPass implements Stage {
 // outgrows a small integer) deoptimises it in the middle of a long loop: V8 11.3 (Node 20) then recompiled it, often
 // through on-stack replacement as well, up to six compilations a thread (some 150 ms of compiling), and in some runs
 // ran every later call through on-stack replacement, about three times slower (8 against 24 ns a sample for statistics).
-const REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, Infinity, -Infinity), RARE_CALLS = 64;
+// The rehearsal opens with empty calls: V8 gives a function its feedback vector only after some work, and feedback
+// from a call's first lines is kept only once the vector exists. A long first call (an edge that ran a 1 s window's
+// re-sum) made V8 choose to optimise the kernel before its first lines had any feedback, and in some runs its compiler
+// read them still empty: the optimised kernel then gave up at its first line, every time it was called.
+const OPENING_CALLS = 16, REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, Infinity, -Infinity), RARE_CALLS = 64;
 function rehearse(kernel: Kernel, x: Float64Array, accs: readonly Accumulator[], states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]): void {
   const s = states.map((a) => a.slice()), b = arrays.map((a) => a.slice());
   const edges = accs.map((a) => Object.entries(a.edge ?? {}).map(([name, value]) => {
@@ -113,6 +117,7 @@ function rehearse(kernel: Kernel, x: Float64Array, accs: readonly Accumulator[],
     if (at < 0) throw new Error(`accumulator ${a.key}: its edge names ${name}, not one of its state values`);
     return [at, value] as const;
   }));
+  for (let k = 0; k < OPENING_CALLS; k++) kernel(RARE, 0, 0, 0, s, b);
   for (let k = 0; k < RARE_CALLS; k++) {
     edges.forEach((edge, i) => { for (const [at, value] of edge) s[i][at] = value; });
     kernel(RARE, 0, RARE.length, k * RARE.length, s, b);

@@ -9,12 +9,12 @@ export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | '
   readonly arrays: { ring: Float64Array };
   readonly each = 'const q = v * v; $sum += q - $ring[$at]; $ring[$at] = q; $seen++; if (++$at === $length) { $at = 0; let t = 0; for (let j = 0; j < $length; j++) t += $ring[j]; $sum = t; } if ($seen >= $length && $sum > $max) $max = $sum;';
 
-  readonly edge: { at: number; seen: number };
+  /** A ring of one sample: every sample then takes the turn's branch, whose re-sum is one addition, not a window's. */
+  readonly edge = { length: 1, at: 0, seen: 1 };
 
   constructor(length: number, buffer: (length: number) => Float64Array = freshBuffer) {
     super(`running-mean-square:${length}`, { length, at: 0, seen: 0, sum: 0, max: -1 });
     this.arrays = { ring: buffer(length) };
-    this.edge = { at: length - 1, seen: length };
   }
 
   get seen() { return this.get('seen'); }
