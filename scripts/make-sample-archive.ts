@@ -58,6 +58,25 @@ function tachoPulse(tau: number, edgeS = 0.0004): number {
   return 0;
 }
 
+/**
+ * Low-pass by a Blackman-windowed sinc of `taps` taps with its cutoff at `cutoff` × fs: a stand-in for a delta-sigma
+ * converter's digital filter, flat to about 0.45 × fs, so that the demo's 24-bit noise does not crowd the top of the band.
+ */
+function lowPass(x: Float64Array, cutoff = 0.47, taps = 127): Float64Array {
+  const h = Float64Array.from({ length: taps }, (_, k) => {
+    const m = k - (taps - 1) / 2;
+    const sinc = m === 0 ? 2 * cutoff : Math.sin(2 * Math.PI * cutoff * m) / (Math.PI * m);
+    return sinc * (0.42 - 0.5 * Math.cos((2 * Math.PI * k) / (taps - 1)) + 0.08 * Math.cos((4 * Math.PI * k) / (taps - 1)));
+  });
+  const y = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) {
+    let s = 0;
+    for (let k = 0; k < taps; k++) { const j = i - k + (taps - 1) / 2; if (j >= 0 && j < x.length) s += h[k] * x[j]; }
+    y[i] = s;
+  }
+  return y;
+}
+
 const clip = (x: Float64Array, lo: number, hi: number) => x.map((v) => Math.min(hi, Math.max(lo, v)));
 const toFullScale = (x: Float64Array, scale: number, offset = 0) => x.map((v) => (v - offset) / scale);
 
@@ -95,6 +114,23 @@ export function makeSampleArchive(root: string): void {
   put('nightly/2026-11-19/pump-endurance-retake.wav', encodeWav({ sampleRate: FS, channels: [toFullScale(acceleration(FS, 0.5, 99, 8), 500)] }));
   // A quick-look capture at 2 kHz of a signal with content up to 5 kHz: the 3.5 kHz ringing folds to 500 Hz.
   put('quicklook/2026-11-18_quicklook.wav', encodeWav({ sampleRate: 2000, origination: new Date(Date.UTC(2026, 10, 18, 14, 30, 0)), channels: [toFullScale(acceleration(2000, 4, 77, 8), 500)] }));
+  // The test cell's sound, a 48 kHz 24-bit recorder: a microphone by the pump, content to 20 kHz (the converter is flat and
+  // alias-free to 0.45 × fs, as declared), and a spare microphone whose cable is unplugged: it reads only the chain's noise
+  // (0.2 mPa RMS), a few dozen converter steps wide, which the flatline flag never sees and the declared noise floor does.
+  {
+    const fs = 48000, frames = fs * 2, rc = random(11);
+    const hiss = (rms: number) => lowPass(new Float64Array(frames).map(() => rms * rc.gauss()));
+    const tones = Array.from({ length: 40 }, (_, k) => ({ f: 100 * 190 ** (k / 39), a: 0.05 / Math.sqrt(1 + k), phase: 2 * Math.PI * rc.uniform() }));
+    const chain = hiss(0.0002), noise = hiss(0.01);
+    const pump = new Float64Array(frames).map((_, i) => {
+      const t = i / fs;
+      let v = 0.4 * Math.sin(2 * Math.PI * VANES * SHAFT_HZ * t) + noise[i] + chain[i];
+      for (const tone of tones) v += tone.a * Math.sin(2 * Math.PI * tone.f * t + tone.phase);
+      return v;
+    });
+    const spare = hiss(0.0002);
+    put('cell-sound/2026-11-20_cell-sound.wav', encodeWav({ sampleRate: fs, encoding: 'pcm24', origination: new Date(Date.UTC(2026, 10, 20, 2, 5, 0)), channels: [toFullScale(pump, 20), toFullScale(spare, 20)] }));
+  }
   // A handheld logger's export: comment lines, semicolons, decimal commas, a time column in seconds.
   {
     const fs = 2560, rows = fs * 2, rx = random(5), lines = ['# handheld vibration logger export (demo)', '# point: pump P3 drive-end housing', 'time;acc_x;acc_y'];
@@ -145,6 +181,13 @@ ${ACC('acc_nde')}
     labels: { rig: P3, test_id: endurance-07 }
     channels:
 ${ACC('acc_de')}
+  - name: cell-sound
+    match: "cell-sound/*.wav"
+    sample_rate: 48000
+    labels: { rig: P3, test_id: endurance-07 }
+    channels:
+      - { name: mic_pump, quantity: sound_pressure, unit: Pa, scale: 20, bits: 24, max_frequency_hz: 20000, alias_free_fraction: 0.45, noise_floor: 0.0002 }
+      - { name: mic_spare, quantity: sound_pressure, unit: Pa, scale: 20, bits: 24, max_frequency_hz: 20000, alias_free_fraction: 0.45, noise_floor: 0.0002 }
   - name: handheld
     match: "handheld/*.csv"
     labels: { rig: P3, test_id: spot-check }
@@ -178,6 +221,8 @@ Planted defects, for quern to catch:
 - \`nightly/2026-11-19/pump-endurance-retake.wav\`: a retake under a name no group matches.
 - \`quicklook/2026-11-18_quicklook.wav\`: sampled at 2 kHz although the signal holds content to 5 kHz, so the
   3.5 kHz ringing aliases to 500 Hz.
+- \`cell-sound/2026-11-20_cell-sound.wav\`: the test cell's sound at 48 kHz, 24-bit; the spare microphone's cable is
+  unplugged, so mic_spare reads only the measurement chain's own noise (its declared noise floor).
 - \`handheld/2026-11-20_spot-check.csv\`: a handheld logger's export (semicolons, decimal commas, time column).
 - \`strain/2026-11-17_frame-strain.bin\`: raw big-endian 16-bit frames with a 32-byte header.
 `;

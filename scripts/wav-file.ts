@@ -1,10 +1,10 @@
-// A small WAV writer for generated archives: 16-bit PCM or 32-bit float, with an optional Broadcast Wave bext chunk.
+// A small WAV writer for generated archives: 16- or 24-bit PCM or 32-bit float, with an optional Broadcast Wave bext chunk.
 
 export interface WavSpec {
   sampleRate: number;
   /** One array per channel, values in ±1 of full scale. */
   channels: Float64Array[];
-  encoding?: 'pcm16' | 'float32';
+  encoding?: 'pcm16' | 'pcm24' | 'float32';
   /** Origination date-time written into a bext chunk (EBU Tech 3285), as UTC. */
   origination?: Date;
 }
@@ -18,9 +18,9 @@ function chunk(id: string, body: Buffer): Buffer {
 
 export function encodeWav({ sampleRate, channels, encoding = 'pcm16', origination }: WavSpec): Buffer {
   const nc = channels.length, frames = channels[0].length;
-  const width = encoding === 'pcm16' ? 2 : 4;
+  const width = encoding === 'pcm16' ? 2 : encoding === 'pcm24' ? 3 : 4;
   const fmt = Buffer.alloc(16);
-  fmt.writeUInt16LE(encoding === 'pcm16' ? 1 : 3, 0);
+  fmt.writeUInt16LE(encoding === 'float32' ? 3 : 1, 0);
   fmt.writeUInt16LE(nc, 2);
   fmt.writeUInt32LE(sampleRate, 4);
   fmt.writeUInt32LE(sampleRate * nc * width, 8);
@@ -31,6 +31,7 @@ export function encodeWav({ sampleRate, channels, encoding = 'pcm16', originatio
     for (let c = 0; c < nc; c++, at += width) {
       const v = channels[c][i];
       if (encoding === 'pcm16') data.writeInt16LE(Math.max(-32768, Math.min(32767, Math.round(v * 32768))), at);
+      else if (encoding === 'pcm24') data.writeIntLE(Math.max(-8388608, Math.min(8388607, Math.round(v * 8388608))), at, 3);
       else data.writeFloatLE(v, at);
     }
   }

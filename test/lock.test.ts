@@ -54,7 +54,7 @@ describe('one run at a time per output folder', () => {
     expect(second.stderr).toContain(`is in use by another run: host ${hostname()}, pid ${first.pid}, started ${holder.started}`);
     expect(firstCode).toBe(1); // the planted truncated recording; the first run was not disturbed
     expect(existsSync(lock)).toBe(false); // released at the end
-    expect(readJson(join(out, 'run.json')).counts.selected).toBe(34);
+    expect(readJson(join(out, 'run.json')).counts.selected).toBe(35);
   });
 
   it('takes over the lock of a run that was killed, and says so', async () => {

@@ -120,7 +120,7 @@ describe('crash safety', () => {
     await new Promise((r) => child.on('exit', r));
     const stored = await entries();
     expect(stored).toBeGreaterThanOrEqual(5);
-    expect(stored).toBeLessThan(34); // killed before the end
+    expect(stored).toBeLessThan(35); // killed before the end
     expect(existsSync(join(killed, 'features.parquet'))).toBe(false); // never half-written: absent until the end
     const resumed = quern('reduce', archive, '--out', killed, '--quiet');
     expect(resumed.code).toBe(1); // the planted truncated file
@@ -185,8 +185,8 @@ describe('selecting a period and logging', () => {
     const r = quern('reduce', archive, '--out', out, '--since', '2026-11-19', '--until', '2026-11-21', '--quiet');
     expect(r.code).toBe(0);
     const run = readJson(join(out, 'run.json'));
-    expect(run.recordings.map((x: any) => x.recording)).toEqual(['nightly/2026-11-19/pump-endurance.wav', 'nightly/2026-11-20/pump-endurance.wav']);
-    expect(run.period.selected).toBe(2);
+    expect(run.recordings.map((x: any) => x.recording)).toEqual(['cell-sound/2026-11-20_cell-sound.wav', 'nightly/2026-11-19/pump-endurance.wav', 'nightly/2026-11-20/pump-endurance.wav']);
+    expect(run.period.selected).toBe(3);
     expect(parseWhen('7d', Date.UTC(2026, 10, 23))).toBe(Date.UTC(2026, 10, 16));
     expect(() => parseWhen('last week')).toThrow(/neither a date .* nor a span/);
   });
@@ -196,7 +196,7 @@ describe('selecting a period and logging', () => {
     const r = quern('reduce', archive, '--log', 'json');
     const lines = r.stderr.trim().split('\n').map((l) => JSON.parse(l));
     expect(lines[0].event).toBe('start');
-    expect(lines.filter((l) => l.event === 'recording').length).toBe(10);
-    expect(lines.at(-1)).toMatchObject({ event: 'summary', reduced: 9, failed: 1 });
+    expect(lines.filter((l) => l.event === 'recording').length).toBe(11);
+    expect(lines.at(-1)).toMatchObject({ event: 'summary', reduced: 10, failed: 1 });
   });
 });

@@ -21,7 +21,7 @@ describe('an output folder inside the archive', () => {
     expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1); // the sample archive's truncated recording
     expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
     const run = readJson(join(out, 'run.json'));
-    expect(run.counts.scanned ?? run.recordings.length).toBe(10);
+    expect(run.counts.scanned ?? run.recordings.length).toBe(11);
     expect(run.unmatched.map((u: any) => u.path)).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']); // planted in the sample archive
   });
 });
@@ -41,7 +41,7 @@ describe('a terminal that goes away', () => {
     const r = await closedPipe(['reduce', archive, '--out', out, '--log', 'plain']);
     expect(r.stderr).not.toMatch(/EPIPE|Unhandled/);
     expect(r.code).toBe(1); // the sample archive's truncated recording, as with an open terminal
-    expect(readJson(join(out, 'run.json')).counts.reduced).toBe(9);
+    expect(readJson(join(out, 'run.json')).counts.reduced).toBe(10);
     const both = await closedPipe(['reduce', archive, '--out', out, '--log', 'plain', '--force'], true);
     expect(both.code).toBe(1);
   });

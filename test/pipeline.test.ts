@@ -23,13 +23,13 @@ describe('quern reduce on the sample archive', () => {
 
   it('exits 1 because one planted recording is truncated, and says so on the terminal', () => {
     expect(result.code).toBe(1);
-    expect(result.stdout).toMatch(/9 of 10 recordings reduced \(35 channel rows\)/);
+    expect(result.stdout).toMatch(/10 of 11 recordings reduced \(37 channel rows\)/);
     expect(result.stdout).toMatch(/FAILED\s+nightly\/2026-11-22\/pump-endurance\.wav: .*cut short/);
     expect(result.stdout).toMatch(/UNMATCHED\s+nightly\/2026-11-19\/pump-endurance-retake\.wav/);
   });
 
   it('writes run.json with what was scanned, reduced, failed and unmatched', () => {
-    expect(run.counts).toMatchObject({ scanned: 10, reduced: 9, failed: 1, unmatched: 1, rows: 35 });
+    expect(run.counts).toMatchObject({ scanned: 11, reduced: 10, failed: 1, unmatched: 1, rows: 37 });
     const failed = run.recordings.filter((r: any) => r.status === 'failed');
     expect(failed.map((r: any) => r.recording)).toEqual(['nightly/2026-11-22/pump-endurance.wav']);
     expect(failed[0].rows).toBe(0);
@@ -40,7 +40,7 @@ describe('quern reduce on the sample archive', () => {
   it('DuckDB reads features.parquet with the statistics scipy/numpy compute for the same files', async () => {
     const ref = readJson(fixture('sample-archive-stats.json'));
     const rows = await duck(`select * from '${join(out, 'features.parquet')}' order by recording, channel`);
-    expect(rows.length).toBe(35);
+    expect(rows.length).toBe(37);
     const channelsOf: Record<string, string[]> = { nightly: ['acc_de', 'acc_nde', 'mic', 'pressure', 'tacho'], quicklook: ['acc_de'] };
     for (const r of ref.rows) {
       const name = channelsOf[r.recording.split('/')[0]][r.channel_index];
@@ -204,7 +204,7 @@ describe('quern check and quern peek', () => {
     expect(r.code).toBe(1);
     expect(r.stdout).toMatch(/ok\s+nightly\/2026-11-16\/pump-endurance\.wav\s+\[nightly\]\s+wav pcm16, 5 channels \(acc_de, acc_nde, mic, pressure, tacho\), 12800 Hz, 4\.000 s/);
     expect(r.stdout).toMatch(/FAILED\s+nightly\/2026-11-22/);
-    expect(r.stdout).toMatch(/9 of 10 recordings would be reduced; 1 failed, 1 unmatched/);
+    expect(r.stdout).toMatch(/10 of 11 recordings would be reduced; 1 failed, 1 unmatched/);
     expect(existsSync(`${archive}.reduced`)).toBe(false);
   });
 

@@ -24,6 +24,7 @@ describe('quality report of the sample archive', () => {
       at: `${r.recording} ${c.channel}`, flags: c.flags.filter((f: any) => f.severity === 'fail').map((f: any) => f.name),
     })));
     expect(failing).toEqual([
+      { at: 'cell-sound/2026-11-20_cell-sound.wav mic_spare', flags: ['noise_floor'] }, // unplugged: the chain's noise on a 24-bit converter
       { at: 'nightly/2026-11-19/pump-endurance.wav acc_de', flags: ['saturation'] }, // clipped at the instrument range
       { at: 'nightly/2026-11-21/pump-endurance.wav pressure', flags: ['flatline'] }, // disconnected transducer
       { at: 'quicklook/2026-11-18_quicklook.wav acc_de', flags: ['aliasing'] }, // 2 kHz sampling of 5 kHz content
@@ -32,7 +33,10 @@ describe('quality report of the sample archive', () => {
     expect(truncated).toMatchObject({ status: 'failed', severity: 'fail' });
     expect(truncated.reason).toMatch(/cut short/);
     expect(quality.unmatched).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']);
-    expect(quality.totals.channels.fail).toBe(3);
+    expect(quality.totals.channels.fail).toBe(4);
+    // The 48 kHz microphone declared to 20 kHz on a converter declared alias-free to 0.45 × fs reads clean.
+    const cell = quality.recordings.find((r: any) => r.recording === 'cell-sound/2026-11-20_cell-sound.wav');
+    expect(cell.channels.find((c: any) => c.channel === 'mic_pump').severity).toBe('ok');
     expect(quality.totals.recordings.unreadable).toBe(1);
   });
 
@@ -48,14 +52,14 @@ describe('quality report of the sample archive', () => {
   });
 
   it('ends the terminal output with counts by severity and every failed channel with its message', () => {
-    expect(stdout).toMatch(/quality: 3 channels fail, 0 warn, \d+ with notes, \d+ ok/);
+    expect(stdout).toMatch(/quality: 4 channels fail, 0 warn, \d+ with notes, \d+ ok/);
     expect(stdout).toMatch(/FAIL\s+nightly\/2026-11-21\/pump-endurance\.wav pressure: flatline: .*disconnected sensor/);
     expect(stdout).toMatch(/FAIL\s+quicklook\/2026-11-18_quicklook\.wav acc_de: aliasing: .*appears at 1000 Hz/);
   });
 
   it('warns or fails only on the planted defects: every other finding is a note (no figure at risk)', () => {
     const flagged = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'warn' || c.severity === 'fail').map((c: any) => `${r.recording} ${c.channel}`));
-    expect(flagged).toEqual(['nightly/2026-11-19/pump-endurance.wav acc_de', 'nightly/2026-11-21/pump-endurance.wav pressure', 'quicklook/2026-11-18_quicklook.wav acc_de']);
+    expect(flagged).toEqual(['cell-sound/2026-11-20_cell-sound.wav mic_spare', 'nightly/2026-11-19/pump-endurance.wav acc_de', 'nightly/2026-11-21/pump-endurance.wav pressure', 'quicklook/2026-11-18_quicklook.wav acc_de']);
     expect(quality.totals.channels.warn).toBe(0);
   });
 

@@ -54,7 +54,7 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it above the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
           evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above, ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}) },
           message,
         });
