@@ -113,4 +113,25 @@ describe('the noise_floor flag', () => {
     const { flag } = await flagsOf(pulses, fs, channel({ name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, bits: 24, noise_floor: 10, pulses_per_rev: 1 }));
     expect(flag('noise_floor')).toMatchObject({ severity: 'ok', value: null, message: 'not judged on a tacho channel' });
   });
+
+  // White noise puts 10 % of its power in the top 10 % of the band, and 1 − 2f/fs above a declared f: the aliasing flag
+  // would read a dead sensor's noise as content folded from above Nyquist. With a floor declared, that share is not counted.
+  it('leaves the declared floor\'s own share out of the aliasing flag: a dead sensor\'s noise is no alias, a tone above the declared band still is', async () => {
+    const floor = 40 * step, declaredHz = fs / 2.56;
+    const dead = gaussian(n, floor);
+    const undeclared = await flagsOf(dead, fs, channel({ scale, bits: 24, max_frequency_hz: declaredHz }));
+    expect(undeclared.flag('aliasing').severity).toBe('warn'); // without a floor the noise reads as content near Nyquist
+    const declared = (await flagsOf(dead, fs, channel({ scale, bits: 24, max_frequency_hz: declaredHz, noise_floor: floor }))).flag('aliasing');
+    expect(declared.severity).toBe('ok');
+    expect(declared.evidence.top_band_power_fraction as number).toBeGreaterThan(0.08); // the raw share stays in the evidence
+    expect(declared.evidence.top_band_beyond_noise_fraction as number).toBeLessThan(0.02);
+    // A 3.4 kHz tone (above the declared 3125 Hz, below the top tenth of the band) holding half the floor's power.
+    const toneRms = floor / Math.SQRT2;
+    const withTone = sine(n, fs, 3400, Math.SQRT2 * toneRms).map((v, i) => v + dead[i]);
+    const aliased = (await flagsOf(withTone, fs, channel({ scale, bits: 24, max_frequency_hz: declaredHz, noise_floor: floor }))).flag('aliasing');
+    expect(aliased.severity).toBe('warn');
+    expect(aliased.message).toMatch(/above the declared highest frequency 3125 Hz, up to Nyquist \(4000 Hz\) beyond what the declared noise floor puts there/);
+    // The tone's share of the total power, 0.5 / 1.5, within the estimate's scatter.
+    expect(aliased.evidence.above_declared_beyond_noise_fraction as number).toBeCloseTo(1 / 3, 1);
+  });
 });

@@ -25,8 +25,15 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         const fs = ctx.sampleRate, f = ctx.maxFrequencyHz, a = q.aliasing;
         const psd = s.psd();
         const total = psd ? bandMeanSquare(psd, 0, fs / 2) : 0;
-        const top = psd && total > 0 ? bandMeanSquare(psd, (1 - a.top_band) * fs / 2, fs / 2) / total : null;
+        const topFrom = (1 - a.top_band) * fs / 2;
+        const top = psd && total > 0 ? bandMeanSquare(psd, topFrom, fs / 2) / total : null;
         const above = psd && total > 0 && f && f < fs / 2 ? bandMeanSquare(psd, f, fs / 2) / total : null;
+        // The chain's own noise, where declared, taken as spread evenly to Nyquist (white): the share it alone puts above
+        // `from` is not content to warn of (a dead sensor's noise fills the top of the band; the noise_floor flag judges it).
+        const floor = ctx.noiseFloor ?? null;
+        const beyondNoise = (share: number | null, from: number) => share == null || floor == null ? share : Math.max(0, share - (floor * floor * (1 - from / (fs / 2))) / total);
+        const topBeyond = beyondNoise(top, topFrom), aboveBeyond = f ? beyondNoise(above, f) : above;
+        const noiseNote = floor != null ? ' beyond what the declared noise floor puts there' : '';
         let severity: Severity = 'ok', message: string;
         const margin = f ? fs / f : null;
         // A declared alias-free bandwidth (the converter's data sheet) replaces the ratio common practice leaves an analogue filter.
@@ -41,12 +48,12 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         } else if (f && aliasFree == null && fs < a.recommended_ratio * f) {
           severity = 'warn';
           message = `sampled at ${(fs / f).toFixed(2)} × the declared ${f} Hz, less than the ${a.recommended_ratio} × common practice leaves for the anti-alias filter: content near ${f} Hz may be attenuated or folded; where the converter's data sheet gives a wider alias-free bandwidth, declare alias_free_fraction`;
-        } else if (top != null && top > a.top_band_warn_fraction) {
+        } else if (topBeyond != null && topBeyond > a.top_band_warn_fraction) {
           severity = 'warn';
-          message = `${pct(top)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz): content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
-        } else if (above != null && above > a.above_declared_warn_fraction) {
+          message = `${pct(topBeyond)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)${noiseNote}: content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
+        } else if (aboveBeyond != null && aboveBeyond > a.above_declared_warn_fraction) {
           severity = 'warn';
-          message = `${pct(above)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz): content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (RMS reads ${pct(1 / Math.sqrt(1 - above) - 1)} above the declared band's); check the anti-alias filter and max_frequency_hz`;
+          message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's); check the anti-alias filter and max_frequency_hz`;
         } else {
           message = !f ? 'no highest frequency declared; top of the band is quiet'
             : aliasFree != null ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz, within the converter's alias-free bandwidth ${hz(aliasFree)} Hz`
@@ -54,8 +61,12 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency`,
-          evidence: { declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above, ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}) },
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}`,
+          evidence: {
+            declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above,
+            ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}),
+            ...(floor != null ? { top_band_beyond_noise_fraction: topBeyond, above_declared_beyond_noise_fraction: aboveBeyond } : {}),
+          },
           message,
         });
         return { alias_margin: margin, alias_frequency_hz: alias, top_band_power_fraction: top };
