@@ -24,12 +24,15 @@ export interface ReductionSpec {
   trends?: TrendsSpec;
 }
 
+/** A channel's baseline formed again from a date on (a sensor replaced): the first `first` usable recordings from `from`. */
+export interface BaselineRestartSpec { channel: string; group?: string; from: string; first?: number }
+
 /** Section `trends`: each watched feature of each recording against its channel's baseline (defaults in schemas/reduction.schema.json). */
 export interface TrendsSpec {
   /** Feature columns to watch, by name or glob; those the spec does not compute are passed over. */
   features?: string[];
   /** The first N usable recordings of each group × channel by start time, or the recordings starting in [from, until); `exclude` leaves recordings out by name or glob. */
-  baseline?: ({ first: number } | { from: string; until: string }) & { exclude?: string[] };
+  baseline?: ({ first: number } | { from: string; until: string }) & { exclude?: string[]; restart?: BaselineRestartSpec[] };
   /** |level change| in dB beyond which a level-like feature has changed. */
   change_db?: number;
   /** |robust z-score| beyond which a feature has changed. */

@@ -1,6 +1,6 @@
 // What changed, on the sample archive: the terminal and quality.html lead with the drive-end bearing, trends.parquet and
 // spectra.parquet read back with DuckDB, and a nightly run over one night still compares against the baseline reduced before.
-import { cpSync, mkdirSync } from 'node:fs';
+import { cpSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -86,6 +86,30 @@ describe('trends on the sample archive', () => {
       mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
       await page.screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report-changes.png'), fullPage: false });
       await first.screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report-changes-channel.png') });
+      expect(errors).toEqual([]);
+    } finally {
+      await browser.close();
+    }
+  });
+
+  it('a baseline formed again from a date (the drive-end sensor replaced) is said on the terminal, in quality.json and in the picture', async () => {
+    const restarted = join(archive, '..', 'restarted-out'), spec = join(archive, '..', 'restart.yaml');
+    cpSync(out, restarted, { recursive: true });
+    const defaults = readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8');
+    expect(defaults).toMatch(/^trends: \{\}/m);
+    writeFileSync(spec, defaults.replace(/^trends: \{\}.*$/m, 'trends: { baseline: { first: 3, restart: [{ channel: acc_de, group: nightly, from: 2026-11-17 }] } }'));
+    const r = quern('reduce', archive, '--out', restarted, '--spec', spec, '--quiet');
+    expect(r.stdout).toContain('  baseline formed again for nightly acc_de from 2026-11-17: 1 stored channel history (trends.baseline.restart)');
+    expect(r.stdout).toMatch(/CHANGED nightly acc_de env_rms/); // the 21st still stands out against the 17th to 19th
+    const q = readJson(join(restarted, 'quality.json'));
+    expect(q.changes.baseline_restarts).toEqual([{ restart: 'nightly acc_de from 2026-11-17', histories: 1 }]);
+    const browser = await launchBrowser();
+    try {
+      const { page, errors } = await openPage(browser, join(restarted, 'quality.html'), { width: 1300, height: 1300 });
+      const first = page.locator('section.change-channel').first();
+      expect(await first.getAttribute('data-channel')).toBe('acc_de');
+      expect(await first.locator('.charts svg').count()).toBeGreaterThan(2);
+      await first.screenshot({ path: join(repo, 'test', 'artifacts', 'quality-report-changes-restarted.png') });
       expect(errors).toEqual([]);
     } finally {
       await browser.close();

@@ -184,6 +184,55 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     expect((await linesOf([])).report.excluded_recordings).toBeUndefined();
   });
 
+  // A sensor replaced on 7 January reads 9.5 dB higher (another sensitivity): the machine did not change.
+  it('a baseline restarted from a date (a sensor replaced): earlier nights keep their verdicts, later ones are held against the new first N', async () => {
+    const levels = [2.0, 2.1, 2.0, 2.05, 2.0, 2.1, 6.0, 6.2, 6.0, 6.1, 6.0, 12.0];
+    expect(verdicts(await scoredNights(levels)).slice(6)).toEqual(Array(6).fill('changed'));
+    for (const restart of [{ channel: 'acc_de', from: '2026-01-07' }, { channel: 'acc_*', group: 'nightly', from: '2026-01-07T00:00Z' }]) {
+      const points = await scoredNights(levels, { baseline: { first: 3, restart: [restart] } });
+      expect(verdicts(points)).toEqual([...Array(11).fill('steady'), 'changed']);
+      expect(points[4].baseline).toBe(2.0);
+      expect(points[9].baseline).toBe(6.0); // the median of the new sensor's first three nights
+    }
+    // Another group's channel of the same name keeps its baseline; a restart may take its own N, and applies to a period baseline too.
+    expect(verdicts(await scoredNights(levels, { baseline: { first: 3, restart: [{ channel: 'acc_de', group: 'bench', from: '2026-01-07' }] } })).slice(6)).toEqual(Array(6).fill('changed'));
+    const two = await scoredNights(levels, { baseline: { from: '2026-01-01', until: '2026-01-04', restart: [{ channel: 'acc_de', from: '2026-01-07', first: 2 }] } });
+    expect(verdicts(two)).toEqual([...Array(11).fill('steady'), 'changed']);
+    expect(two[8].baseline).toBeCloseTo(6.1, 12);
+  });
+
+  it('a restarted baseline holds nothing over from the one before: no deadband carried across the restart', async () => {
+    // Changed on nights 5 and 6 (+8 dB); the new sensor's first night, right after them, sits inside the score threshold of
+    // its new baseline (median 4.0, spread floor 0.4) but not by the deadband (score (6.2 − 4) / 0.4 = 5.5, between 4.8 and 6).
+    const levels = [2.0, 2.0, 2.0, 2.0, 5.0, 5.0, 6.2, 4.0, 4.0, 4.0];
+    const points = await scoredNights(levels, { baseline: { first: 3, restart: [{ channel: 'acc_de', from: '2026-01-07' }] } });
+    expect(verdicts(points)).toEqual(['steady', 'steady', 'steady', 'steady', 'changed', 'changed', 'steady', 'steady', 'steady', 'steady']);
+    expect(points[6].held).toBeUndefined();
+    expect(points[6].score).toBeCloseTo(5.5, 12);
+  });
+
+  it('says which channel histories each restart forms again, and when one matches none', async () => {
+    const spec = (restart: { channel: string; group?: string; from: string }[]): ReductionSpec => ({ statistics: {}, trends: { features: ['rms'], baseline: { first: 3, restart } } });
+    const linesOf = async (restart: { channel: string; group?: string; from: string }[]) => {
+      const o = trendOptions(spec(restart))!;
+      const entries = [2.0, 2.1, 2.0, 2.05, 6.0].flatMap((v, night) => [entry(spec(restart), night, v, 'ok', 'acc_de'), { ...entry(spec(restart), night, v, 'ok', 'acc_nde'), recording: `nightly/nde-${night}.wav` }]);
+      async function* stored() { yield* entries; }
+      const history = await readHistory('(not read)', spec(restart), o, new Set(entries.map((e) => e.recording)), stored());
+      const report = changesReport(history, scoreHistory(history, o), o);
+      return { report, lines: changesSummary(report) };
+    };
+    const both = await linesOf([{ channel: 'acc_*', from: '2026-01-05' }, { channel: 'mic', group: 'nightly', from: '2026-01-05' }]);
+    expect(both.report.baseline_restarts).toEqual([{ restart: 'acc_* from 2026-01-05', histories: 2 }, { restart: 'nightly mic from 2026-01-05', histories: 0 }]);
+    expect(both.report.baseline).toMatch(/; formed again for acc_\* from 2026-01-05 \(its first 3\), for nightly mic from 2026-01-05 \(its first 3\)$/);
+    expect(both.lines).toContain('  baseline formed again for acc_* from 2026-01-05: 2 stored channel histories (trends.baseline.restart)');
+    expect(both.lines).toContain('  trends.baseline.restart nightly mic from 2026-01-05 matches no stored channel: check its group and channel against features.parquet');
+    // The 6.0 of the last night is the new sensor's first: no change listed (without the restart, both channels would be).
+    expect(both.report.items).toEqual([]);
+    expect((await linesOf([])).report.baseline_restarts).toBeUndefined();
+    // Only ISO 8601 dates: free text such as "7 January" would otherwise be read as a day of 2001.
+    expect(() => trendOptions(spec([{ channel: 'acc_de', from: '7 January' }]))).toThrow(/trends\.baseline\.restart\[0\]\.from: "7 January" is not a date/);
+  });
+
   it('a declared period is the baseline: the recordings starting in it, whatever their number', async () => {
     const points = await scoredNights([5, 5, 2.0, 2.1, 2.0, 2.1, 5], { baseline: { from: '2026-01-03', until: '2026-01-07' } });
     expect(points[0].baseline).toBeCloseTo(2.05, 12);

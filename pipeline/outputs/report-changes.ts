@@ -41,12 +41,18 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
   }));
   const limits = Object.entries(t.limits ?? {}).map(([what, v]) => ({ v, what: `${what} limit` }));
   const unit = t.unit === '1' ? '' : ` (${t.unit})`;
+  // After a restarted baseline, its median and band span the recordings from the restart on, not the whole history.
+  const lastT = t.points.length ? t.points[t.points.length - 1].t : 0;
+  const since = t.restartedAt != null ? { from: t.restartedAt, to: Math.max(lastT, t.restartedAt) } : {};
+  const sinceX = t.restartedAt != null ? { x: { field: 'from', type: 'temporal' as const }, x2: { field: 'to' } } : {};
   const y = { field: 'value', type: 'quantitative' as const, title: t.feature, scale: { domain, zero: false, nice: false } };
   return {
     ...base, width: 330, height: 170, title: { text: `${t.feature}${unit} over time`, fontSize: 12 },
     layer: [
-      ...(t.band ? [{ data: { values: [{ lo: t.band[0], hi: t.band[1] }] }, mark: { type: 'rect' as const, color: COLOURS.ok, opacity: 0.12, clip: true }, encoding: { y: { field: 'lo', type: 'quantitative' as const, scale: { domain, nice: false } }, y2: { field: 'hi' } } }] : []),
-      ...(t.median != null ? [{ data: { values: [{ m: t.median }] }, mark: { type: 'rule' as const, color: COLOURS.ok, strokeDash: [4, 3] }, encoding: { y: { field: 'm', type: 'quantitative' as const } } }] : []),
+      ...(t.band ? [{ data: { values: [{ lo: t.band[0], hi: t.band[1], ...since }] }, mark: { type: 'rect' as const, color: COLOURS.ok, opacity: 0.12, clip: true }, encoding: { y: { field: 'lo', type: 'quantitative' as const, scale: { domain, nice: false } }, y2: { field: 'hi' }, ...sinceX } }] : []),
+      ...(t.median != null ? [{ data: { values: [{ m: t.median, ...since }] }, mark: { type: 'rule' as const, color: COLOURS.ok, strokeDash: [4, 3] }, encoding: { y: { field: 'm', type: 'quantitative' as const }, ...sinceX } }] : []),
+      // Where the baseline was formed again: a vertical line.
+      ...(t.restartedAt != null ? [{ data: { values: [{ at: t.restartedAt }] }, mark: { type: 'rule' as const, color: '#52606d', strokeWidth: 1.5 }, encoding: { x: { field: 'at', type: 'temporal' as const } } }] : []),
       ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: { orient: 'bottom' as const, title: null } } } }] : []),
       { data: { values: points.filter((p) => p.role !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
       {
@@ -99,7 +105,7 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
 
 // The trend pictures' key, once per channel instead of a legend in every picture.
 const dot = (colour: string, shape = '●') => `<span style="color:${colour}">${shape}</span>`;
-const KEY = `<p class="key">${dot('#52606d', '■')} baseline recording · ${dot('#52606d')} later recording · ${dot(COLOURS.fail, '▲')} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${dot(c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median</p>`;
+const KEY = `<p class="key">${dot('#52606d', '■')} baseline recording · ${dot('#52606d')} later recording · ${dot(COLOURS.fail, '▲')} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${dot(c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
 
 const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' ? 'fail' : 'warn'}">${v}</span>`;
 

@@ -1,6 +1,7 @@
-// A channel's baseline: its first N usable recordings by start time, or those starting in a declared period.
+// A channel's baseline: its first N usable recordings by start time, or those starting in a declared period; formed again
+// from a declared date on where the spec restarts it (a sensor replaced), each stretch of the history with its own.
 import { usable, type Series } from './history.js';
-import type { Baseline } from './options.js';
+import type { Baseline, BaselineRestart } from './options.js';
 import { medianAndMad } from './robust.js';
 
 export interface BaselineStats {
@@ -14,15 +15,36 @@ export interface BaselineStats {
   stale: number;
 }
 
+/** A stretch of a series' history, start times in [fromMs, untilMs), and the baseline formed in it (null restart: the spec's own). */
+export interface Era { fromMs: number; untilMs: number; baseline: Baseline; restart: BaselineRestart | null }
+
+/** The whole history under the spec's baseline, cut at each restart that applies to the series, each later stretch with its first N. */
+export function erasOf(s: Series, b: Baseline): Era[] {
+  const cuts = b.restarts.filter((r) => r.applies(s.group, s.channel)).sort((x, y) => x.fromMs - y.fromMs);
+  const eras: Era[] = [{ fromMs: -Infinity, untilMs: cuts[0]?.fromMs ?? Infinity, baseline: b, restart: null }];
+  cuts.forEach((r, j) => eras.push({ fromMs: r.fromMs, untilMs: cuts[j + 1]?.fromMs ?? Infinity, baseline: { first: r.first, exclude: b.exclude, restarts: [] }, restart: r }));
+  return eras;
+}
+
+/** Index of the era holding start time `t`. */
+export function eraAt(eras: readonly Era[], t: number): number {
+  let j = eras.length - 1;
+  while (j > 0 && t < eras[j].fromMs) j--;
+  return j;
+}
+
+const WHOLE = { fromMs: -Infinity, untilMs: Infinity };
+
 /**
- * Baseline points of a series: usable (data quality not fail), not excluded by the spec, and accepted by `has` (a value present), first N or within the
+ * Baseline points of a series within an era: usable (data quality not fail), not excluded by the spec, and accepted by `has` (a value present), first N or within the
  * period. A point `stale` (its figure computed under other options) keeps its place among the first N, so the baseline never
  * slides onto later recordings, but is not a member; `held` counts such places.
  */
-export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false): { members: number[]; held: number } {
+export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false, era: { fromMs: number; untilMs: number } = WHOLE): { members: number[]; held: number } {
   const members: number[] = [];
   let held = 0;
   for (let i = 0; i < s.size; i++) {
+    if (!(s.time[i] >= era.fromMs && s.time[i] < era.untilMs)) continue;
     // A recording the spec leaves out of the baseline (a capture known to be unrepresentative) takes no place in it.
     if (!usable(s, i) || s.excluded[i]) continue;
     if ('first' in b) { if (members.length + held === b.first) break; }
@@ -42,10 +64,10 @@ export function formedFromPeriodOnly(s: Series, base: BaselineStats, b: Baseline
   return base.members.some((i) => s.inRun[i] === 1) && !(s.time[0] < sinceMs);
 }
 
-/** The baseline of feature k of a series: its members, median and median absolute deviation. */
-export function baselineOf(s: Series, k: number, b: Baseline): BaselineStats {
-  const values = s.values[k];
-  const { members, held: stale } = baselineMembers(s, b, (i) => Number.isFinite(values[i]), (i) => s.stale[k][i] === 1);
+/** The baseline of feature k of a series in an era: its members, median and median absolute deviation. */
+export function baselineOf(s: Series, k: number, era: Era): BaselineStats {
+  const values = s.values[k], b = era.baseline;
+  const { members, held: stale } = baselineMembers(s, b, (i) => Number.isFinite(values[i]), (i) => s.stale[k][i] === 1, era);
   const { median, mad } = medianAndMad(members.map((i) => values[i]));
   return { members, median, mad, stale, complete: stale === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
 }

@@ -1,7 +1,7 @@
 // Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
-import { baselineOf, formedFromPeriodOnly, type BaselineStats } from './baseline.js';
+import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
@@ -18,24 +18,31 @@ export interface ScoredPoint {
   held?: boolean;
 }
 
-/** One watched feature of one series, with its baseline; points are scored on demand, so nothing grows with the history. */
+/** One watched feature of one series, with its baselines; points are scored on demand, so nothing grows with the history. */
 export interface ScoredFeature {
   series: Series;
   k: number;
   feature: WatchedFeature;
   /** The feature's unit with "[unit]" resolved to the channel's. */
   unit: string;
-  base: BaselineStats;
+  /** The stretches of the history between baseline restarts (one, the whole history, where none applies), and each one's baseline. */
+  eras: Era[];
+  bases: BaselineStats[];
+  /** The baseline point i is held against: its era's. */
+  baseAt(i: number): BaselineStats;
   at(i: number): ScoredPoint | null;
 }
 
 export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeature {
   const feature = o.features[k], values = s.values[k];
-  const base = baselineOf(s, k, o.baseline);
+  const eras = erasOf(s, o.baseline);
+  const bases = eras.map((era) => baselineOf(s, k, era));
+  const eraOf = (i: number) => eraAt(eras, s.time[i]);
   const limits = o.limits[feature.name];
   const pointAt = (i: number): ScoredPoint | null => {
     const value = values[i];
     if (!Number.isFinite(value)) return null;
+    const base = bases[eraOf(i)];
     const ok = usable(s, i);
     const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
     const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
@@ -49,8 +56,10 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
   const heldAt = (i: number): Verdict => {
     if (!held) {
       held = new Uint8Array(s.size);
-      let previous: Verdict | null = null;
+      let previous: Verdict | null = null, era = 0;
       for (let j = 0; j < s.size; j++) {
+        // A restarted baseline holds nothing over from the one before (a new sensor).
+        if (eraOf(j) !== era) { era = eraOf(j); previous = null; }
         const p = pointAt(j);
         if (!p?.verdict) continue;
         previous = heldVerdict(p.verdict, previous, nearness(p, o, limits));
@@ -60,7 +69,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     return VERDICTS[held[i] - 1];
   };
   return {
-    series: s, k, feature, base, unit: feature.unit === '[unit]' ? s.unit : feature.unit,
+    series: s, k, feature, eras, bases, baseAt: (i) => bases[eraOf(i)], unit: feature.unit === '[unit]' ? s.unit : feature.unit,
     at(i) {
       const p = pointAt(i);
       if (!p?.verdict || p.verdict === 'alarm' || o.deadband === 0) return p;
@@ -117,6 +126,8 @@ export interface ChangesReport {
   period_baselines?: number;
   /** Present when trends.baseline.exclude is given: how many stored recordings it leaves out of the baselines. */
   excluded_recordings?: number;
+  /** Present when trends.baseline.restart is given: each entry as written, and how many stored channel histories it restarts. */
+  baseline_restarts?: { restart: string; histories: number }[];
 }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
@@ -131,22 +142,28 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   let staleBaselines = 0, periodBaselines = 0;
   for (const f of scored) {
     const s = f.series;
-    let latest = -1, rows = 0;
+    let latest = -1, last = -1, rows = 0;
     for (let i = 0; i < s.size; i++) {
       if (!s.inRun[i]) continue;
       const p = f.at(i);
       if (!p) continue;
       rows++;
+      last = i;
       totals[p.verdict ?? 'unscored']++;
       if (p.verdict) latest = i;
     }
-    if (rows && f.base.stale) staleBaselines++;
-    if (rows && sinceMs != null && formedFromPeriodOnly(s, f.base, o.baseline, sinceMs)) periodBaselines++;
+    // The baseline this run's latest recording is held against (after a restart, the one formed since).
+    if (rows) {
+      const j = eraAt(f.eras, s.time[last]), base = f.bases[j];
+      if (base.stale) staleBaselines++;
+      if (sinceMs != null && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
+    }
     if (latest < 0) continue;
     const p = f.at(latest)!;
     if (p.verdict === 'steady' || !p.verdict) continue;
     let since = latest;
-    for (let i = latest - 1; i >= 0; i--) {
+    const eraStart = f.eras[eraAt(f.eras, s.time[latest])].fromMs;
+    for (let i = latest - 1; i >= 0 && s.time[i] >= eraStart; i--) {
       const q = f.at(i);
       if (q?.verdict === 'steady') break;
       if (q?.verdict) since = i;
@@ -154,7 +171,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     items.push({
       group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: o.limits[f.feature.name] ?? null,
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
-      since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.base.members.length,
+      since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.baseAt(latest).members.length,
       strength: strengthOf(p, o), held: p.held === true,
     });
   }
@@ -164,6 +181,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
     ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
+    ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),
   };
 }
 

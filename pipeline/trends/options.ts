@@ -1,7 +1,7 @@
 // The spec's `trends` section resolved: which feature columns are watched, the baseline, the change thresholds and limits.
 import picomatch from 'picomatch';
 import { activeStages } from '../../stages/index.js';
-import type { ReductionSpec } from '../../spec/reduction.js';
+import type { BaselineRestartSpec, ReductionSpec } from '../../spec/reduction.js';
 import { nearestNames } from '../declare/nearest-names.js';
 import { UsageError } from '../declare/yaml-file.js';
 
@@ -17,8 +17,20 @@ export interface WatchedFeature {
   level: LevelKind;
 }
 
-/** The baseline: the first N usable recordings or a period, less the recordings `exclude` names (patterns as written). */
-export type Baseline = ({ first: number } | { fromMs: number; untilMs: number; text: string }) & { exclude: string[] };
+/** A channel's baseline formed again from `fromMs` on, from its first `first` usable recordings there; `text` as the spec wrote it. */
+export interface BaselineRestart {
+  /** Which group × channel histories it restarts. */
+  applies: (group: string, channel: string) => boolean;
+  fromMs: number;
+  first: number;
+  text: string;
+}
+
+/**
+ * The baseline: the first N usable recordings or a period, less the recordings `exclude` names (patterns as written), formed
+ * again for some channels from a date on (`restarts`, in the order written).
+ */
+export type Baseline = ({ first: number } | { fromMs: number; untilMs: number; text: string }) & { exclude: string[]; restarts: BaselineRestart[] };
 
 export interface TrendOptions {
   features: WatchedFeature[];
@@ -70,9 +82,22 @@ export function unknownLimits(spec: ReductionSpec): { name: string; nearest: str
 /** A date or date-time, taken as UTC when it names no zone. */
 function instant(text: string, key: string): number {
   const zoned = /(Z|[+-]\d\d:?\d\d)$/i.test(text) || /^\d{4}-\d\d-\d\d$/.test(text) ? text : `${text}Z`;
-  const t = Date.parse(zoned);
+  // ISO 8601 only: V8 reads free text leniently ("7 January" as 7 January 2001).
+  const iso = /^\d{4}-\d\d-\d\d([T ]\d\d:\d\d(:\d\d(\.\d+)?)?)?(Z|[+-]\d\d:?\d\d)?$/i.test(zoned);
+  const t = iso ? Date.parse(zoned) : NaN;
   if (!Number.isFinite(t)) throw new UsageError(`reduction spec: trends.baseline.${key}: "${text}" is not a date or date-time (2026-11-16, 2026-11-16T02:00Z)`);
   return t;
+}
+
+/** trends.baseline.restart resolved: names and globs made matchers, dates instants; `first` defaults to the baseline's own N, or 3. */
+function restartsOf(specs: BaselineRestartSpec[], first: number): BaselineRestart[] {
+  return specs.map((r, i) => {
+    const channel = picomatch(r.channel), group = r.group == null ? () => true : picomatch(r.group);
+    return {
+      applies: (g: string, c: string) => group(g) && channel(c), fromMs: instant(r.from, `restart[${i}].from`), first: r.first ?? first,
+      text: `${r.group == null ? '' : `${r.group} `}${r.channel} from ${r.from}`,
+    };
+  });
 }
 
 /** The resolved section, or null when the spec has no `trends` section. Throws UsageError for a section that cannot work. */
@@ -87,12 +112,14 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
   const matchers = patterns.map((p) => picomatch(p));
   const watched = columns.filter((c) => c.name in limits || matchers.some((matches) => matches(c.name)));
   const exclude = t.baseline?.exclude ?? [];
-  let baseline: Baseline = { first: 3, exclude };
+  const first = t.baseline && 'first' in t.baseline ? t.baseline.first : 3;
+  const restarts = restartsOf(t.baseline?.restart ?? [], first);
+  let baseline: Baseline = { first, exclude, restarts };
   if (t.baseline && 'from' in t.baseline) {
     const fromMs = instant(t.baseline.from, 'from'), untilMs = instant(t.baseline.until, 'until');
     if (!(untilMs > fromMs)) throw new UsageError(`reduction spec: trends.baseline: until (${t.baseline.until}) must come after from (${t.baseline.from})`);
-    baseline = { fromMs, untilMs, text: `${t.baseline.from} to ${t.baseline.until}`, exclude };
-  } else if (t.baseline && 'first' in t.baseline) baseline = { first: t.baseline.first, exclude };
+    baseline = { fromMs, untilMs, text: `${t.baseline.from} to ${t.baseline.until}`, exclude, restarts };
+  }
   // Recording names as the tables give them (relative to the archive's root), matched by name or glob.
   const excluded = exclude.length ? picomatch(exclude, { dot: true }) : null;
   return {
@@ -110,4 +137,5 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
 /** The baseline in words, for the report. */
 export const baselineText = (b: Baseline) =>
   ('first' in b ? `the first ${b.first} usable recordings of each group and channel by start time` : `the recordings starting from ${b.text}`)
-  + (b.exclude.length ? `, leaving out ${b.exclude.join(', ')}` : '');
+  + (b.exclude.length ? `, leaving out ${b.exclude.join(', ')}` : '')
+  + (b.restarts.length ? `; formed again ${b.restarts.map((r) => `for ${r.text} (its first ${r.first})`).join(', ')}` : '');

@@ -4,7 +4,7 @@
 import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { groupKeys, type CacheEntry } from '../plan/cache.js';
-import { baselineMembers } from './baseline.js';
+import { baselineMembers, eraAt, erasOf, type BaselineStats } from './baseline.js';
 import type { ChangeItem, ChangesReport, ScoredFeature } from './changes.js';
 import { usable, type History, type Series } from './history.js';
 import type { TrendOptions } from './options.js';
@@ -22,6 +22,8 @@ export interface TrendPicture {
   median: number | null;
   /** Values between these read steady (change thresholds around the median); null while the baseline forms. */
   band: [number, number] | null;
+  /** Where the baseline of the median and band was formed again (a sensor replaced): they hold from there; null, the whole history. */
+  restartedAt: number | null;
   limits: { warn?: number; alarm?: number } | null;
 }
 
@@ -66,10 +68,10 @@ function medianSpectrum(list: Spectrum[]): Spectrum | null {
   return { df: list[0].df, density: out };
 }
 
-/** The band of values that read steady around the baseline median, under both change thresholds. */
-function steadyBand(f: ScoredFeature, o: TrendOptions): [number, number] | null {
-  if (!f.base.complete) return null;
-  const m = f.base.median, spread = spreadOf(m, f.base.mad, o.spreadFloor);
+/** The band of values that read steady around a baseline's median, under both change thresholds. */
+function steadyBand(f: ScoredFeature, base: BaselineStats, o: TrendOptions): [number, number] | null {
+  if (!base.complete) return null;
+  const m = base.median, spread = spreadOf(m, base.mad, o.spreadFloor);
   let hi = m + o.score * spread, lo = m - o.score * spread;
   if (f.feature.level === 'amplitude' && m > 0) { hi = Math.min(hi, m * 10 ** (o.changeDb / 20)); lo = Math.max(lo, m * 10 ** (-o.changeDb / 20)); }
   if (f.feature.level === 'decibel') { hi = Math.min(hi, m + o.changeDb); lo = Math.max(lo, m - o.changeDb); }
@@ -77,13 +79,18 @@ function steadyBand(f: ScoredFeature, o: TrendOptions): [number, number] | null 
 }
 
 function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
-  const members = new Set(f.base.members);
+  const members = new Set(f.bases.flatMap((b) => b.members));
   const points: TrendPicture['points'] = [];
   for (let i = 0; i < f.series.size; i++) {
     const p = f.at(i);
     if (p) points.push({ t: f.series.time[i], value: p.value, verdict: p.verdict, baseline: members.has(i), usable: usable(f.series, i) });
   }
-  return { feature: f.feature.name, unit: f.unit, points, median: f.base.complete ? f.base.median : null, band: steadyBand(f, o), limits: o.limits[f.feature.name] ?? null };
+  // The median and band of the baseline the latest recording is held against.
+  const j = eraAt(f.eras, f.series.time[f.series.size - 1]), base = f.bases[j];
+  return {
+    feature: f.feature.name, unit: f.unit, points, median: base.complete ? base.median : null, band: steadyBand(f, base, o),
+    restartedAt: j > 0 ? f.eras[j].fromMs : null, limits: o.limits[f.feature.name] ?? null,
+  };
 }
 
 const sameChannel = (s: Series, c: { group: string; channel: string; unit: string }) => s.group === c.group && s.channel === c.channel && s.unit === c.unit;
@@ -102,7 +109,8 @@ export async function gatherPictures(h: History, scored: ScoredFeature[], report
   // Which recordings' spectra each pictured channel needs: its baseline, and its last MAX_RECORDINGS.
   const wanted = new Map<string, { pic: number; point: number }[]>();
   const baselines = channels.map(({ series: s }, pic) => {
-    const { members } = baselineMembers(s, o.baseline);
+    const eras = erasOf(s, o.baseline), era = eras[eraAt(eras, s.time[s.size - 1])];
+    const { members } = baselineMembers(s, era.baseline, undefined, undefined, era);
     const points = new Set([...members, ...Array.from({ length: Math.min(MAX_RECORDINGS, s.size) }, (_, j) => s.size - 1 - j)]);
     for (const point of points) {
       const name = h.recordings[s.recording[point]];

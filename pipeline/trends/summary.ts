@@ -24,6 +24,11 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options; run once without --since to recompute them`);
   if (r.excluded_recordings === 0) lines.push('  trends.baseline.exclude matches no stored recording: check its patterns against the recordings column of features.parquet');
   else if (r.excluded_recordings) lines.push(`  ${r.excluded_recordings} stored ${r.excluded_recordings === 1 ? 'recording is' : 'recordings are'} left out of the baselines (trends.baseline.exclude)`);
+  for (const { restart, histories } of r.baseline_restarts ?? []) {
+    lines.push(histories
+      ? `  baseline formed again for ${restart}: ${histories} stored channel ${histories === 1 ? 'history' : 'histories'} (trends.baseline.restart)`
+      : `  trends.baseline.restart ${restart} matches no stored channel: check its group and channel against features.parquet`);
+  }
   if (r.period_baselines) lines.push(`  ${r.period_baselines} channel ${r.period_baselines === 1 ? 'feature has its baseline' : 'features have their baselines'} formed from this period only: no earlier results are stored; run once without --since to build ${r.period_baselines === 1 ? 'it' : 'them'} from the whole archive`);
   return lines;
 }
