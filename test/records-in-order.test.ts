@@ -37,9 +37,9 @@ describe('records read in the order they lie', () => {
     expect(Math.max(...places.map((p) => p.length))).toBeGreaterThan(16 << 10);
     const single = new RecordReader(), inOrder = new RecordsInOrder(16 << 10);
     // Every other record, as a history whose superseded records lie between its entries.
-    for (const p of places.filter((_, i) => i % 2 === 0)) expect(Buffer.from(inOrder.read(p, p.facts.recording))).toEqual(single.read(p, p.facts.recording));
+    for (const p of places.filter((_, i) => i % 2 === 0)) expect(Buffer.from(await inOrder.read(p, p.facts.recording))).toEqual(single.read(p, p.facts.recording));
     single.close();
-    inOrder.close();
+    await inOrder.close();
   });
 
   it('refuse a record damaged or cut off since the scan', async () => {
@@ -50,9 +50,9 @@ describe('records read in the order they lie', () => {
     bytes[places[4].offset + places[4].length - 3] ^= 0x10;
     writeFileSync(file, bytes.subarray(0, places[9].offset + places[9].length - 1));
     const reader = new RecordsInOrder(4096);
-    expect(() => reader.read(places[3], places[3].facts.recording)).not.toThrow();
-    expect(() => reader.read(places[4], places[4].facts.recording)).toThrow(/damaged after it was read/);
-    expect(() => reader.read(places[9], places[9].facts.recording)).toThrow(/damaged after it was read/);
-    reader.close();
+    await expect(reader.read(places[3], places[3].facts.recording)).resolves.toBeInstanceOf(Buffer);
+    await expect(reader.read(places[4], places[4].facts.recording)).rejects.toThrow(/damaged after it was read/);
+    await expect(reader.read(places[9], places[9].facts.recording)).rejects.toThrow(/damaged after it was read/);
+    await reader.close();
   });
 });

@@ -15,20 +15,20 @@ export type { CacheEntry, Identity } from '../store/record.js';
 const sha = (s: string) => createHash('sha256').update(s).digest('hex');
 
 /** The entries at the places given, in order, each read by `records` (closed at the end); one damaged since it was scanned is passed over. */
-async function* decoded(places: Iterable<StoredEntry>, records: { read(loc: Place, recording: string): Buffer; close(): void }): AsyncGenerator<CacheEntry> {
+async function* decoded(places: Iterable<StoredEntry>, records: { read(loc: Place, recording: string): Buffer | Promise<Buffer>; close(): void | Promise<void> }): AsyncGenerator<CacheEntry> {
   try {
     for (const loc of places) {
       const facts = loc.facts;
       let entry: CacheEntry;
       try {
-        entry = joinEntry(facts, decodeResults(recordBody(records.read(loc, facts.recording))));
+        entry = joinEntry(facts, decodeResults(recordBody(await records.read(loc, facts.recording))));
       } catch {
         continue; // damaged since it was scanned: no history
       }
       yield entry;
     }
   } finally {
-    records.close();
+    await records.close();
   }
 }
 

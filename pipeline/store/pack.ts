@@ -110,38 +110,40 @@ function checked(bytes: Buffer, bytesRead: number, loc: Place, recording: string
  * Records read in the order they lie in their packs (places sorted by pack and offset), through one reused 8 MB window: a
  * pass over every entry reads each pack front to back in a few large reads, not one read a record (for 20,000 entries the
  * single reads took a quarter of the trends' pass over the history). A record's bytes are a view of the window, valid
- * until the next read; each is checked against its checksums.
+ * until the next read; each is checked against its checksums. The reads wait off the main thread (one wait a window, not a
+ * record), so the storage watch's timer still runs while a hung output folder holds one.
  */
 export class RecordsInOrder {
   constructor(private readonly windowBytes = WINDOW) {}
-  private fd: number | null = null;
+  private fh: FileHandle | null = null;
   private file = '';
   private window = Buffer.alloc(0);
   private start = 0;
   private filled = 0;
-  read(loc: Place, recording: string): Buffer {
+  async read(loc: Place, recording: string): Promise<Buffer> {
     if (loc.file !== this.file) {
-      this.close();
-      this.fd = openSync(loc.file, 'r');
+      await this.close();
+      this.fh = await open(loc.file, 'r');
       this.file = loc.file;
     }
     if (loc.offset < this.start || loc.offset + loc.length > this.start + this.filled) {
       const want = Math.max(loc.length, this.windowBytes);
       if (this.window.length < want) this.window = Buffer.allocUnsafe(want);
       let got = 0;
-      for (let n = 1; got < want && n > 0; got += n) n = readSync(this.fd!, this.window, got, want - got, loc.offset + got);
+      for (let n = 1; got < want && n > 0; got += n) n = (await this.fh!.read(this.window, got, want - got, loc.offset + got)).bytesRead;
       this.start = loc.offset;
       this.filled = got;
     }
     const at = loc.offset - this.start;
     return checked(this.window.subarray(at, at + loc.length), Math.min(loc.length, this.filled - at), loc, recording);
   }
-  close(): void {
-    if (this.fd != null) closeSync(this.fd);
-    this.fd = null;
+  async close(): Promise<void> {
+    const fh = this.fh;
+    this.fh = null;
     this.file = '';
     this.start = 0;
     this.filled = 0;
+    await fh?.close();
   }
 }
 

@@ -3,7 +3,7 @@
 import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import { EntryTable, type StoredEntry } from './entry-table.js';
-import { RecordReader, scanPack, type Damage, type Located } from './pack.js';
+import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } from './pack.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
@@ -143,12 +143,13 @@ export class Store {
     const damaged = this.damage.some((d) => d.file === own);
     if (!damaged && !(size - liveBytes > COMPACT_AFTER_BYTES && size - liveBytes > liveBytes)) return false;
     const tmp = join(cacheDir(this.out), `.${basename(own)}.${process.pid}.tmp`);
-    const src = new RecordReader(), dst = await open(tmp, 'w');
+    // The live records in the order they lie, through one window (reads that wait rather than block: see RecordsInOrder).
+    const src = new RecordsInOrder(), dst = await open(tmp, 'w');
     try {
       let offset = 0;
       const moved: number[] = [];
       for (const l of live) {
-        const bytes = src.read(l.at, l.recording);
+        const bytes = await src.read(l.at, l.recording);
         await dst.write(bytes, 0, bytes.length, offset);
         moved.push(offset);
         offset += bytes.length;
@@ -164,7 +165,7 @@ export class Store {
       await rm(tmp, { force: true });
       throw e;
     } finally {
-      src.close();
+      await src.close();
     }
   }
 }

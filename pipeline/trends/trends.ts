@@ -5,7 +5,7 @@ import { mkdir, readFile, rm, stat } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/canonical-json.js';
-import { everyEntry, everyEntryAsStored } from '../plan/cache.js';
+import { everyEntryAsStored } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
@@ -72,7 +72,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
       const report = changesReport(history, scored, o.trends, since);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
       files.push(trendsFile);
-      const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntry(o.store)) : [];
+      const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntryAsStored(o.store)) : [];
       outcome = { report, html: await changesHtml(report, pictures) };
     }
     // Forgotten first: a run stopped half-way must not leave a digest that vouches for tables not in place.

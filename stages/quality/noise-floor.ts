@@ -50,7 +50,7 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         }
         const rms = Math.sqrt(m.m2 / m.n);
         const db = rms > 0 ? aboveFloorDb(rms, floor) : -Infinity;
-        const level = `RMS ${rms.toPrecision(3)} ${ctx.unit} (mean removed), ${Number.isFinite(db) ? `${db.toFixed(1)} dB` : 'nothing'} above the declared noise floor ${floor.toPrecision(3)} ${ctx.unit}`;
+        const level = `RMS ${rms.toPrecision(3)} ${ctx.unit} (mean removed), ${!Number.isFinite(db) ? 'nothing above' : db < 0 ? `${(-db).toFixed(1)} dB below` : `${db.toFixed(1)} dB above`} the declared noise floor ${floor.toPrecision(3)} ${ctx.unit}`;
         let severity: Severity = 'ok', message = level;
         if (db <= 0) {
           severity = 'fail';
