@@ -10,12 +10,28 @@ import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.j
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 import { settleEngine } from './engine-settings.js';
+import type { ChangesReport } from './trends/changes.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
 const exporting = () => import('./exports/export.js');
 
-/** 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, a failed write, or an unexpected error. */
-export const EXIT = { ok: 0, someFailed: 1, unusable: 2 } as const;
+/**
+ * 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, a
+ * failed write, or an unexpected error; 3: with --exit-on, what changed in the machine reached the level asked for.
+ */
+export const EXIT = { ok: 0, someFailed: 1, unusable: 2, changed: 3 } as const;
+
+const EXIT_ON = {
+  choices: ['changed', 'alarm'] as const,
+  describe: 'Exit with code 3 when a watched feature of this run\'s recordings reads changed or at an alarm limit (changed), or at an alarm limit (alarm), so that a nightly job\'s scheduler can tell',
+} as const;
+
+/** The run's exit code: 3 when --exit-on's level is reached (before 1: the change is what was asked to be told), else 1 when recordings failed. */
+function runExitCode(failed: number, changes: ChangesReport | null | undefined, exitOn: 'changed' | 'alarm' | undefined): { code: number; line: string | null } {
+  const reached = exitOn && changes ? changes.items.filter((c) => exitOn === 'changed' || c.verdict === 'alarm').length : 0;
+  if (reached) return { code: EXIT.changed, line: `  exit code 3: ${reached} channel ${reached === 1 ? 'feature' : 'features'} ${exitOn === 'alarm' ? 'at an alarm limit' : 'changed or at an alarm limit'} (--exit-on ${exitOn})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}` };
+  return { code: failed > 0 ? EXIT.someFailed : EXIT.ok, line: null };
+}
 
 const EXPORT_FORMAT_OPTIONS = {
   bom: { type: 'boolean', default: false, describe: 'CSV: start with a UTF-8 byte-order mark' },
@@ -24,7 +40,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept).`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, a watched feature changed or reached an alarm limit.`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -96,6 +112,7 @@ async function main(argv: string[]): Promise<number> {
       .option('stall-limit', { type: 'string', default: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
       .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
       .option('settle', { type: 'string', describe: 'Leave recordings modified within this span before the scan to the next run, as captures that may still be written (off unless given; 2m, 10m)' })
+      .option('exit-on', EXIT_ON)
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
@@ -121,7 +138,9 @@ async function main(argv: string[]): Promise<number> {
       if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+      const exit = runExitCode(record.counts.failed, quality.changes, a.exitOn);
+      if (exit.line) process.stdout.write(`${exit.line}\n`);
+      code = exit.code;
       // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
       if (threadsGivenUp) (await import('./reduce/end-despite-stuck-threads.js')).endDespiteStuckThreads(threadsGivenUp);
     })
@@ -137,6 +156,7 @@ async function main(argv: string[]): Promise<number> {
       .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' })
       .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
       .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
+      .option('exit-on', EXIT_ON)
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
@@ -146,7 +166,9 @@ async function main(argv: string[]): Promise<number> {
       const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      code = record.counts.failed > 0 ? EXIT.someFailed : EXIT.ok;
+      const exit = runExitCode(record.counts.failed, quality.changes, a.exitOn);
+      if (exit.line) process.stdout.write(`${exit.line}\n`);
+      code = exit.code;
     })
     .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y
       .positional('archive', { type: 'string', demandOption: true })

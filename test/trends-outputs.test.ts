@@ -116,6 +116,27 @@ describe('trends on the sample archive', () => {
     }
   });
 
+  it('--exit-on tells a nightly job\'s scheduler: code 3 when a feature changed, as asked, and the usual code when nothing reaches the level', () => {
+    const again = join(archive, '..', 'exit-on-out');
+    cpSync(out, again, { recursive: true });
+    const changed = quern('reduce', archive, '--out', again, '--exit-on', 'changed', '--quiet');
+    expect(changed.code).toBe(3);
+    const reached = quality.changes.items.length;
+    expect(changed.stdout).toContain(`  exit code 3: ${reached} channel features changed or at an alarm limit (--exit-on changed); 1 recording failed as well`);
+    // No alarm limit is declared, so no feature can be at one: the code is the run's own (1: the planted truncated recording).
+    const alarm = quern('reduce', archive, '--out', again, '--exit-on', 'alarm', '--quiet');
+    expect(alarm.code).toBe(1);
+    expect(alarm.stdout).not.toContain('exit code 3');
+    expect(quern('reduce', archive, '--out', again, '--exit-on', 'often').stderr).toMatch(/Invalid values:[\s\S]*exit-on[\s\S]*"changed", "alarm"/);
+    // An alarm limit on the envelope RMS, which the 21st passes (5.4 m/s²), and none of the earlier nights (0.6–3.6 m/s²).
+    const spec = join(archive, '..', 'alarm.yaml');
+    writeFileSync(spec, readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8').replace(/^trends: \{\}.*$/m, 'trends: { limits: { env_rms: { alarm: 5 } } }'));
+    const limited = quern('reduce', archive, '--out', again, '--spec', spec, '--exit-on', 'alarm', '--quiet');
+    expect(limited.code).toBe(3);
+    expect(limited.stdout).toMatch(/ALARM\s+nightly acc_de env_rms 5\.44/);
+    expect(limited.stdout).toContain('  exit code 3: 1 channel feature at an alarm limit (--exit-on alarm); 1 recording failed as well');
+  });
+
   it('a nightly run over one night still holds it against the baseline reduced before, from the stored results', async () => {
     const nightly = join(archive, '..', 'nightly-out');
     cpSync(out, nightly, { recursive: true });
