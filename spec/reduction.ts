@@ -24,6 +24,9 @@ export interface ReductionSpec {
   trends?: TrendsSpec;
 }
 
+/** A feature's absolute limits, in its unit. */
+export interface FeatureLimits { warn?: number; alarm?: number }
+
 /** A channel's baseline formed again from a date on (a sensor replaced): the first `first` usable recordings from `from`. */
 export interface BaselineRestartSpec { channel: string; group?: string; from: string; first?: number }
 
@@ -41,7 +44,10 @@ export interface TrendsSpec {
   spread_floor?: number;
   /** Fraction of each threshold by which a changed or alarm verdict must fall back before it clears. */
   deadband?: number;
-  /** Absolute limits per feature, in the feature's unit: at or above `warn` at least changed, at or above `alarm` alarm. */
-  limits?: Record<string, { warn?: number; alarm?: number }>;
+  /**
+   * Absolute limits per feature, in the feature's unit: at or above `warn` at least changed, at or above `alarm` alarm. For
+   * every channel with the feature, or as a list, per channel (the first entry whose channel and group name it).
+   */
+  limits?: Record<string, FeatureLimits | (FeatureLimits & { channel?: string; group?: string })[]>;
 }
 type OctaveSet = { fraction?: 1 | 3; from?: number; to?: number; levels_db?: boolean } & Only;

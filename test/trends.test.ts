@@ -129,6 +129,27 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     expect(verdicts(early)).toEqual(['alarm', null]);
   });
 
+  // One rms limit across accelerometers, microphones and pressure would mix units: as a list, each entry names its channels.
+  it('limits given as a list apply per channel: the first entry naming the channel, none where no entry names it', async () => {
+    const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'], limits: { rms: [{ channel: 'acc_*', warn: 5.5, alarm: 5.8 }, { channel: 'mic', group: 'night*', alarm: 0.5 }, { channel: 'mic', warn: 0.1 }] } } };
+    const o = trendOptions(spec)!;
+    const de = [2, 2, 2, 2, 2, 2, 6].map((v, n) => entry(spec, n, v, 'ok', 'acc_de'));
+    const nde = [2, 2, 2, 2, 2, 2, 5.6].map((v, n) => entry(spec, n, v, 'ok', 'acc_nde'));
+    const mic = [1, 1, 1, 1, 1, 1, 1].map((v, n) => entry(spec, n, v, 'ok', 'mic'));
+    const pressure = [100, 100, 100, 100, 100, 100, 100].map((v, n) => entry(spec, n, v, 'ok', 'pressure'));
+    const all = [...de, ...nde, ...mic, ...pressure];
+    async function* stored() { yield* all; }
+    const history = await readHistory('(not read)', spec, o, new Set(all.map((e) => e.recording)), stored());
+    const report = changesReport(history, scoreHistory(history, o), o);
+    expect(report.items.map((c) => `${c.channel} ${c.verdict} ${c.limit} ${JSON.stringify(c.limits)}`)).toEqual([
+      'acc_de alarm alarm {"warn":5.5,"alarm":5.8}',
+      'mic alarm alarm {"alarm":0.5}', // the first entry naming mic in group nightly; the second never applies here
+      'acc_nde changed warn {"warn":5.5,"alarm":5.8}',
+    ]);
+    // pressure: no entry names it, so 100 (in its own unit) is no limit crossing.
+    expect(report.totals.steady).toBe(7 + 6 + 6);
+  });
+
   // An alarm deadband (common practice in alarm management): a verdict clears only once the value is back inside its threshold
   // by the deadband, 20 % of it by default (ours). With a baseline of 2.0 the +6 dB threshold is 3.99 and 4.8 dB is 3.47.
   it('a change hovering at its threshold stays changed until it falls back by the deadband; deadband 0 lets it come and go', async () => {

@@ -3,7 +3,7 @@
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
-import { baselineText, type TrendOptions, type WatchedFeature } from './options.js';
+import { baselineText, limitsFor, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
 
@@ -38,7 +38,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
   const eras = erasOf(s, o.baseline);
   const bases = eras.map((era) => baselineOf(s, k, era));
   const eraOf = (i: number) => eraAt(eras, s.time[i]);
-  const limits = o.limits[feature.name];
+  const limits = limitsFor(o, feature.name, s);
   const pointAt = (i: number): ScoredPoint | null => {
     const value = values[i];
     if (!Number.isFinite(value)) return null;
@@ -169,7 +169,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       if (q?.verdict) since = i;
     }
     items.push({
-      group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: o.limits[f.feature.name] ?? null,
+      group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: limitsFor(o, f.feature.name, s) ?? null,
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
       since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.baseAt(latest).members.length,
       strength: strengthOf(p, o), held: p.held === true,

@@ -1,7 +1,7 @@
 // The spec's `trends` section resolved: which feature columns are watched, the baseline, the change thresholds and limits.
 import picomatch from 'picomatch';
 import { activeStages } from '../../stages/index.js';
-import type { BaselineRestartSpec, ReductionSpec } from '../../spec/reduction.js';
+import type { BaselineRestartSpec, FeatureLimits, ReductionSpec, TrendsSpec } from '../../spec/reduction.js';
 import { nearestNames } from '../declare/nearest-names.js';
 import { UsageError } from '../declare/yaml-file.js';
 
@@ -42,7 +42,27 @@ export interface TrendOptions {
   spreadFloor: number;
   /** Fraction of each threshold by which a changed or alarm verdict must fall back before it clears. */
   deadband: number;
-  limits: Record<string, { warn?: number; alarm?: number }>;
+  /** Per feature, its limit rules in the order given: the first that applies to a channel is its limit. */
+  limits: Record<string, LimitRule[]>;
+}
+
+/** A feature's limits for the channels a rule applies to (every channel where the spec gave one object). */
+export interface LimitRule { applies: (group: string, channel: string) => boolean; limits: FeatureLimits }
+
+/** The limits of a feature on one channel: the first rule that applies, or none. */
+export function limitsFor(o: TrendOptions, feature: string, at: { group: string; channel: string }): FeatureLimits | undefined {
+  return o.limits[feature]?.find((r) => r.applies(at.group, at.channel))?.limits;
+}
+
+const EVERY = () => true;
+
+/** trends.limits resolved: one object applies everywhere; a list's entries each to the channels and groups they name (globs). */
+function limitRules(limits: NonNullable<TrendsSpec['limits']>): Record<string, LimitRule[]> {
+  type Entry = FeatureLimits & { channel?: string; group?: string };
+  return Object.fromEntries(Object.entries(limits).map(([feature, given]) => [feature, (Array.isArray(given) ? given : [given as Entry]).map(({ channel, group, ...l }) => {
+    const c = channel == null ? EVERY : picomatch(channel), g = group == null ? EVERY : picomatch(group);
+    return { applies: (gr: string, ch: string) => g(gr) && c(ch), limits: { ...(l.warn != null ? { warn: l.warn } : {}), ...(l.alarm != null ? { alarm: l.alarm } : {}) } };
+  })]));
 }
 
 export const DEFAULT_FEATURES = ['rms', 'peak', 'crest_factor', 'kurtosis', 'band_*_rms', 'velocity_*_rms', 'env_rms'];
@@ -130,7 +150,7 @@ export function trendOptions(spec: ReductionSpec): TrendOptions | null {
     score: t.score ?? 6,
     spreadFloor: t.spread_floor ?? 0.1,
     deadband: t.deadband ?? 0.2,
-    limits,
+    limits: limitRules(limits),
   };
 }
 

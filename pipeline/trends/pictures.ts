@@ -7,7 +7,7 @@ import { groupKeys, type CacheEntry } from '../plan/cache.js';
 import { baselineMembers, eraAt, erasOf, type BaselineStats } from './baseline.js';
 import type { ChangeItem, ChangesReport, ScoredFeature } from './changes.js';
 import { usable, type History, type Series } from './history.js';
-import type { TrendOptions } from './options.js';
+import { limitsFor, type TrendOptions } from './options.js';
 import { spreadOf } from './score.js';
 import type { Verdict } from './verdict.js';
 
@@ -89,7 +89,7 @@ function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
   const j = eraAt(f.eras, f.series.time[f.series.size - 1]), base = f.bases[j];
   return {
     feature: f.feature.name, unit: f.unit, points, median: base.complete ? base.median : null, band: steadyBand(f, base, o),
-    restartedAt: j > 0 ? f.eras[j].fromMs : null, limits: o.limits[f.feature.name] ?? null,
+    restartedAt: j > 0 ? f.eras[j].fromMs : null, limits: limitsFor(o, f.feature.name, f.series) ?? null,
   };
 }
 
