@@ -82,6 +82,7 @@ describe('one run at a time per output folder', () => {
       [otherBoot, longAgo, 'this host has restarted since the lock was last refreshed'],
       [{ ...me, start_ticks: me.start_ticks - 1 }, null, `pid ${process.pid} on this host now names another program than the one that took the lock`],
       [me, null, null], // the lock's own process, still running: refused
+      [me, longAgo, null], // the same, silent for long: refused, and said to seem stuck
       ['not a process', null, null], // a field that names no process: judged by the pid alone, which runs
     ];
     for (const [proc, refreshed, why] of cases) {
@@ -94,6 +95,7 @@ describe('one run at a time per output folder', () => {
       } else {
         expect(r.code, r.stdout + r.stderr).toBe(2);
         expect(r.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
+        expect(r.stderr).toMatch(refreshed ? new RegExp(`It has not refreshed the lock for \\d+ min .* seems stuck: end it \\(kill -KILL ${process.pid}\\)`) : /Wait for it to finish; if it is gone, delete the lock file/);
       }
     }
   });

@@ -148,7 +148,13 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
     const held = await readHolder(path);
     const { why, elsewhere } = await staleness(path, held, staleAfterMs);
     if (!why || attempt > 3) {
-      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, ${elsewhere}` : ''} (lock ${path}). Wait for it to finish; if it is gone, delete the lock file`);
+      // A holder that still runs but has stopped refreshing its lock is stuck (storage that stopped answering, a SIGSTOP):
+      // deleting the lock would let it write beside the next run should it wake, so ending it is the way on.
+      const silentMs = Date.now() - ((await stat(path).catch(() => null))?.mtimeMs ?? Date.now());
+      const stuck = held && !elsewhere && held.host === hostname() && silentMs > SILENT_CONTAINER_MS
+        ? `. It has not refreshed the lock for ${(silentMs / 60_000).toFixed(0)} min (a run refreshes it every minute), so it seems stuck: end it (kill -KILL ${held.pid}) and the next run takes the lock over`
+        : '. Wait for it to finish; if it is gone, delete the lock file';
+      throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, ${elsewhere}` : ''} (lock ${path})${stuck}`);
     }
     const mutex = `${path}.takeover`;
     try { await mkdir(mutex); } catch {
