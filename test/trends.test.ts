@@ -148,6 +148,14 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     ]);
     // pressure: no entry names it, so 100 (in its own unit) is no limit crossing.
     expect(report.totals.steady).toBe(7 + 6 + 6);
+    expect(report.unmatched_limits).toEqual([]);
+    // An entry whose channel no stored history has is a limit that can never sound: said on the terminal.
+    const typo: ReductionSpec = { statistics: {}, trends: { features: ['rms'], limits: { rms: [{ channel: 'acc_*', alarm: 5.8 }, { channel: 'presure', warn: 8 }] } } };
+    const o2 = trendOptions(typo)!;
+    const told = changesReport(history, scoreHistory(history, o2), o2);
+    expect(told.unmatched_limits).toEqual(['rms[1] (channel presure)']);
+    expect(changesSummary(told)).toContain('  trends.limits rms[1] (channel presure) names no stored channel, so it can never be reached: check its channel and group against features.parquet');
+    expect(changesReport(history, scoreHistory(history, o), { ...o, limits: {} }).unmatched_limits).toBeUndefined();
   });
 
   // An alarm deadband (common practice in alarm management): a verdict clears only once the value is back inside its threshold

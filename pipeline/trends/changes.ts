@@ -128,6 +128,8 @@ export interface ChangesReport {
   excluded_recordings?: number;
   /** Present when trends.baseline.restart is given: each entry as written, and how many stored channel histories it restarts. */
   baseline_restarts?: { restart: string; histories: number }[];
+  /** Present when a trends.limits entry names channels: those that name no stored channel (a limit that can never sound). */
+  unmatched_limits?: string[];
 }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
@@ -182,7 +184,15 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
     ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),
+    ...unmatchedLimits(h, o),
   };
+}
+
+/** The limit entries that name their channels, none of which any stored history has. */
+function unmatchedLimits(h: History, o: TrendOptions): Pick<ChangesReport, 'unmatched_limits'> {
+  const naming = Object.values(o.limits).flat().filter((r) => r.names != null);
+  if (!naming.length) return {};
+  return { unmatched_limits: naming.filter((r) => !h.series.some((s) => r.applies(s.group, s.channel))).map((r) => r.names!) };
 }
 
 /** trends.parquet rows of one scored feature: the points of the recordings this run covers, in start-time order, as columns. */

@@ -46,8 +46,11 @@ export interface TrendOptions {
   limits: Record<string, LimitRule[]>;
 }
 
-/** A feature's limits for the channels a rule applies to (every channel where the spec gave one object). */
-export interface LimitRule { applies: (group: string, channel: string) => boolean; limits: FeatureLimits }
+/**
+ * A feature's limits for the channels a rule applies to (every channel where the spec gave one object); `names`, for an
+ * entry that names its channels, says which (as written), so that one naming no stored channel can be told.
+ */
+export interface LimitRule { applies: (group: string, channel: string) => boolean; limits: FeatureLimits; names: string | null }
 
 /** The limits of a feature on one channel: the first rule that applies, or none. */
 export function limitsFor(o: TrendOptions, feature: string, at: { group: string; channel: string }): FeatureLimits | undefined {
@@ -59,9 +62,10 @@ const EVERY = () => true;
 /** trends.limits resolved: one object applies everywhere; a list's entries each to the channels and groups they name (globs). */
 function limitRules(limits: NonNullable<TrendsSpec['limits']>): Record<string, LimitRule[]> {
   type Entry = FeatureLimits & { channel?: string; group?: string };
-  return Object.fromEntries(Object.entries(limits).map(([feature, given]) => [feature, (Array.isArray(given) ? given : [given as Entry]).map(({ channel, group, ...l }) => {
+  return Object.fromEntries(Object.entries(limits).map(([feature, given]) => [feature, (Array.isArray(given) ? given : [given as Entry]).map(({ channel, group, ...l }, i) => {
     const c = channel == null ? EVERY : picomatch(channel), g = group == null ? EVERY : picomatch(group);
-    return { applies: (gr: string, ch: string) => g(gr) && c(ch), limits: { ...(l.warn != null ? { warn: l.warn } : {}), ...(l.alarm != null ? { alarm: l.alarm } : {}) } };
+    const names = channel == null && group == null ? null : `${feature}[${i}] (${[channel != null ? `channel ${channel}` : null, group != null ? `group ${group}` : null].filter(Boolean).join(', ')})`;
+    return { applies: (gr: string, ch: string) => g(gr) && c(ch), limits: { ...(l.warn != null ? { warn: l.warn } : {}), ...(l.alarm != null ? { alarm: l.alarm } : {}) }, names };
   })]));
 }
 

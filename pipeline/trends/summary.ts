@@ -29,6 +29,7 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
       ? `  baseline formed again for ${restart}: ${histories} stored channel ${histories === 1 ? 'history' : 'histories'} (trends.baseline.restart)`
       : `  trends.baseline.restart ${restart} matches no stored channel: check its group and channel against features.parquet`);
   }
+  for (const names of r.unmatched_limits ?? []) lines.push(`  trends.limits ${names} names no stored channel, so it can never be reached: check its channel and group against features.parquet`);
   if (r.period_baselines) lines.push(`  ${r.period_baselines} channel ${r.period_baselines === 1 ? 'feature has its baseline' : 'features have their baselines'} formed from this period only: no earlier results are stored; run once without --since to build ${r.period_baselines === 1 ? 'it' : 'them'} from the whole archive`);
   return lines;
 }
