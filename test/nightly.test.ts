@@ -156,6 +156,10 @@ describe('sharding', () => {
     const q = (p: string) => { const j = readJson(p); return { totals: j.totals, recordings: j.recordings, unmatched: j.unmatched, changes: j.changes }; };
     expect(q(join(shared, 'quality.json'))).toEqual(q(join(single, 'quality.json')));
     expect(existsSync(join(shared, 'quality.html'))).toBe(true);
+    // Sharded runs leave the trends to merge, so merge is where a nightly job asks to be told of changes.
+    const told = quern('merge', shared, '--exit-on', 'changed');
+    expect(told.code).toBe(3);
+    expect(told.stdout).toMatch(/exit code 3: \d+ channel features changed or at an alarm limit \(--exit-on changed\); 1 recording failed as well/);
   });
 
   it('merge refuses while a shard is missing, naming it', () => {
