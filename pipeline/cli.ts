@@ -178,6 +178,7 @@ async function main(argv: string[]): Promise<number> {
       const r = await runCheck(a.archive as string, { spec: a.spec ?? null });
       for (const x of r.recordings) process.stdout.write(`${x.ok ? 'ok    ' : 'FAILED'}  ${x.recording}  [${x.group}]  ${x.detail}\n`);
       for (const u of r.unmatched) process.stdout.write(`UNMATCHED  ${u}: no group in archive.yaml matches it\n`);
+      for (const n of r.notes) process.stdout.write(`NOTE    ${n}\n`);
       const bad = r.recordings.filter((x) => !x.ok).length;
       process.stdout.write(`${r.recordings.length - bad} of ${r.recordings.length} recordings would be reduced; ${bad} failed, ${r.unmatched.length} unmatched; spec: ${r.spec}\n`);
       code = bad > 0 ? EXIT.someFailed : EXIT.ok;

@@ -5,7 +5,7 @@ import { DuckDBInstance } from '@duckdb/node-api';
 import { parquetMetadataAsync, parquetReadObjects } from 'hyparquet';
 import { compressors } from 'hyparquet-compressors';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { fixture, quern, readJson, sampleArchiveCopy, tempDir } from './helpers.js';
+import { fixture, quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 
 async function duck(sql: string) {
   const db = await (await DuckDBInstance.create()).connect();
@@ -206,6 +206,19 @@ describe('quern check and quern peek', () => {
     expect(r.stdout).toMatch(/FAILED\s+nightly\/2026-11-22/);
     expect(r.stdout).toMatch(/10 of 11 recordings would be reduced; 1 failed, 1 unmatched/);
     expect(existsSync(`${archive}.reduced`)).toBe(false);
+    expect(r.stdout).not.toMatch(/^NOTE/m);
+  });
+
+  it('check names trend restarts and per-channel limits that name no channel of the recordings, before any night is run', () => {
+    const archive = sampleArchiveCopy(), spec = join(archive, 'reduction.yaml');
+    writeFileSync(spec, readFileSync(join(repo, 'schemas', 'reduction.default.yaml'), 'utf8').replace(/^trends: \{\}.*$/m,
+      'trends: { baseline: { first: 3, restart: [{ channel: acc_de, from: 2026-11-18 }, { channel: acc_nd, from: 2026-11-18 }] }, limits: { rms: [{ channel: "acc_*", alarm: 60 }, { channel: pressure, group: handheld, warn: 8 }] } }'));
+    const r = quern('check', archive);
+    expect(r.code).toBe(1); // the planted truncated recording; notes change no exit code
+    expect(r.stdout.split('\n').filter((l) => l.startsWith('NOTE'))).toEqual([
+      'NOTE    trends.baseline.restart acc_nd from 2026-11-18 names no channel of these recordings; check its channel and group',
+      'NOTE    trends.limits rms[1] (channel pressure, group handheld) names no channel of these recordings, so it could never be reached; check its channel and group',
+    ]);
   });
 
   it('peek shows the header and statistics, using the archive declaration', () => {

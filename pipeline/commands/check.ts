@@ -6,27 +6,40 @@ import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
 import { RecordingError } from '../../stages/read/recording.js';
 import { defaultOut } from '../run.js';
-import { trendOptions } from '../trends/options.js';
+import { trendOptions, type TrendOptions } from '../trends/options.js';
 
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
-export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string }
+/** `notes`: what may be wrong without stopping a run (trend entries naming no channel of the archive's recordings). */
+export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string; notes: string[] }
 
 export async function runCheck(archive: string, { spec: specPath = null as string | null, out = null as string | null } = {}): Promise<CheckResult> {
   const root = resolve(archive);
   const declaration = await loadArchiveDeclaration(root);
   const spec = await loadSpec(root, specPath);
-  trendOptions(spec.spec); // a trends section that cannot work is named now
+  const trends = trendOptions(spec.spec); // a trends section that cannot work is named now
   const scanned = await scan(root, declaration, { exclude: [resolve(out ?? defaultOut(root))] });
   const recordings: CheckedRecording[] = [];
+  const channelsSeen = new Map<string, { group: string; channel: string }>();
   for (const job of plan(scanned.recordings, declaration.groups, spec.spec)) {
     try {
       const { rec, channels } = await openForJob(job);
       await rec.close();
       const duration = rec.frames != null ? `${(rec.frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
       recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channels (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}` });
+      for (const c of channels) channelsSeen.set(`${job.group}\u0000${c.decl.name}`, { group: job.group, channel: c.decl.name });
     } catch (e) {
       recordings.push({ recording: job.recording, group: job.group, ok: false, detail: e instanceof RecordingError ? e.message : String((e as Error).message) });
     }
   }
-  return { recordings, unmatched: scanned.unmatched, spec: spec.source };
+  return { recordings, unmatched: scanned.unmatched, spec: spec.source, notes: trends ? trendNamesUnseen(trends, [...channelsSeen.values()]) : [] };
+}
+
+/** Baseline restarts and per-channel limits that name no channel these recordings have: a typo, found before any night's run. */
+function trendNamesUnseen(o: TrendOptions, seen: { group: string; channel: string }[]): string[] {
+  if (!seen.length) return [];
+  const none = (applies: (group: string, channel: string) => boolean) => !seen.some((c) => applies(c.group, c.channel));
+  return [
+    ...o.baseline.restarts.filter((r) => none(r.applies)).map((r) => `trends.baseline.restart ${r.text} names no channel of these recordings; check its channel and group`),
+    ...Object.values(o.limits).flat().filter((r) => r.names != null && none(r.applies)).map((r) => `trends.limits ${r.names} names no channel of these recordings, so it could never be reached; check its channel and group`),
+  ];
 }
