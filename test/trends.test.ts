@@ -260,6 +260,8 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     expect((await linesOf([])).report.baseline_restarts).toBeUndefined();
     // Only ISO 8601 dates: free text such as "7 January" would otherwise be read as a day of 2001.
     expect(() => trendOptions(spec([{ channel: 'acc_de', from: '7 January' }]))).toThrow(/trends\.baseline\.restart\[0\]\.from: "7 January" is not a date/);
+    expect(() => trendOptions(spec([{ channel: 'acc_de', from: '2026-02-30' }]))).toThrow(/"2026-02-30" is not a date/); // not 2 March
+    expect(() => trendOptions(spec([{ channel: 'acc_de', from: '2026-11-20T02:00' }]))).not.toThrow(); // a time without a zone: UTC
   });
 
   it('a declared period is the baseline: the recordings starting in it, whatever their number', async () => {
