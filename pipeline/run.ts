@@ -94,6 +94,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const s = store;
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     if (o.since != null || o.until != null) chosen = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity);
+    // Whether every recording outside the period already has a stored result (then no run could form a baseline from more).
+    const inPeriod = new Set(chosen.map((r) => r.recording));
+    const earlierStored = o.since != null && scanned.recordings.every((r) => inPeriod.has(r.recording) || s.get(r.recording) != null);
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     if (firstRun) void pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
@@ -137,7 +140,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
-    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null }));
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null, earlierStored }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();

@@ -96,4 +96,16 @@ describe('a nightly run with no stored history before its period', () => {
     expect(readJson(join(out, 'quality.json')).changes.period_baselines).toBe(0);
     expect((await envRms(out))[0]).toMatchObject({ recording: `rig/${day(5)}.wav`, verdict: 'changed' });
   }, 120_000);
+
+  it('says nothing of the kind when the archive holds nothing before the period: no run could form the baseline from more', () => {
+    const root = tempDir(), archive = join(root, 'archive'), out = join(root, 'out');
+    mkdirSync(join(archive, 'rig'), { recursive: true });
+    writeFileSync(join(archive, 'archive.yaml'), ARCHIVE_YAML);
+    writeFileSync(join(root, 'spec.yaml'), spec(2500, 4500));
+    for (let n = 2; n < 6; n++) writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n));
+    const r = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--since', day(2), '--jobs', '1');
+    expect(r.code).toBe(0);
+    expect(r.stdout).not.toMatch(/formed from this period only/);
+    expect(readJson(join(out, 'quality.json')).changes.period_baselines).toBe(0);
+  }, 60_000);
 });

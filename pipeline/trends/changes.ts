@@ -136,9 +136,10 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
 
 /**
  * The latest state of each channel feature among this run's recordings, and the counts of all verdicts. `sinceMs` is the start
- * of the run's period (--since), so that baselines formed from that period alone are counted.
+ * of the run's period (--since), so that baselines formed from that period alone are counted, unless `earlierStored` says
+ * every recording of the archive outside the period is stored already (no run could form them from more).
  */
-export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null): ChangesReport {
+export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0;
@@ -158,7 +159,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     if (rows) {
       const j = eraAt(f.eras, s.time[last]), base = f.bases[j];
       if (base.stale) staleBaselines++;
-      if (sinceMs != null && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
+      if (sinceMs != null && !earlierStored && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
     }
     if (latest < 0) continue;
     const p = f.at(latest)!;

@@ -18,8 +18,8 @@ import { TRENDS_TABLE } from './tables.js';
 export interface TrendsOutcome { report: ChangesReport; html: string }
 
 /** What the tables and the changes are made from: the spec, the tool, and every stored entry's results checksum. */
-function trendsDigest(spec: ReductionSpec, store: Store, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null): string {
-  const h = createHash('sha256').update(canonicalJson({ spec, version: metadata['quern.version'] ?? null, archive: metadata['quern.archive'] ?? null, since }));
+function trendsDigest(spec: ReductionSpec, store: Store, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean): string {
+  const h = createHash('sha256').update(canonicalJson({ spec, version: metadata['quern.version'] ?? null, archive: metadata['quern.archive'] ?? null, since, earlierStored }));
   for (const r of [...store.entries.keys()].sort()) h.update(`\n${r}\u0000${store.get(r)!.bodySha}\u0000${inRun.has(r) ? 1 : 0}`);
   return h.digest('hex');
 }
@@ -55,9 +55,12 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
   /** The start of the run's period (--since), ms since the epoch; null for a run without one. */
   since?: number | null;
+  /** Every recording of the archive outside the period has a stored result: no run could form an earlier baseline. */
+  earlierStored?: boolean;
 }): Promise<TrendsWrite> {
   const inRun = new Set(o.recordings), since = o.since ?? null;
-  const digest = trendsDigest(spec, o.store, inRun, o.metadata, since);
+  const earlierStored = o.earlierStored ?? false;
+  const digest = trendsDigest(spec, o.store, inRun, o.metadata, since, earlierStored);
   const kept = await stillCurrent(out, digest);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
@@ -69,7 +72,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
     if (o.trends) {
       const history = await readHistory(out, spec, o.trends, inRun, everyEntryAsStored(o.store));
       const scored = scoreHistory(history, o.trends);
-      const report = changesReport(history, scored, o.trends, since);
+      const report = changesReport(history, scored, o.trends, since, earlierStored);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
       files.push(trendsFile);
       const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntryAsStored(o.store)) : [];
