@@ -162,6 +162,14 @@ describe('sharding', () => {
     expect(told.stdout).toMatch(/exit code 3: \d+ channel features changed or at an alarm limit \(--exit-on changed\); 1 recording failed as well/);
   });
 
+  it('merge names the groups quiet in the whole archive over a period, which a shard alone cannot tell', () => {
+    const archive = sampleArchiveCopy(), shared = join(archive, '..', 'shared');
+    for (const k of [1, 2]) expect(quern('reduce', archive, '--out', shared, '--shard', `${k}/2`, '--since', '2026-11-19', '--jobs', '1').stdout).not.toMatch(/QUIET/);
+    const merged = quern('merge', shared, '--jobs', '1');
+    expect(merged.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z');
+    expect(readJson(join(shared, 'run.json')).period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z' }]);
+  });
+
   it('merge refuses while a shard is missing, naming it', () => {
     const archive = sampleArchiveCopy(), shared = join(archive, '..', 'shared');
     quern('reduce', archive, '--out', shared, '--shard', '2/3', '--quiet');
@@ -191,6 +199,10 @@ describe('selecting a period and logging', () => {
     const run = readJson(join(out, 'run.json'));
     expect(run.recordings.map((x: any) => x.recording)).toEqual(['cell-sound/2026-11-20_cell-sound.wav', 'nightly/2026-11-19/pump-endurance.wav', 'nightly/2026-11-20/pump-endurance.wav']);
     expect(run.period.selected).toBe(3);
+    // The quick-look rig's one capture is from the 18th, before the period: a rig that may have stopped is named. The
+    // handheld and strain files start at their modification time (now), after the period: not quiet.
+    expect(run.period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z' }]);
+    expect(r.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z (a rig that stopped capturing, or captures not yet copied in)');
     expect(parseWhen('7d', Date.UTC(2026, 10, 23))).toBe(Date.UTC(2026, 10, 16));
     expect(() => parseWhen('last week')).toThrow(/neither a date .* nor a span/);
   });

@@ -19,6 +19,7 @@ import { UsageError } from '../declare/yaml-file.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
+import type { QuietGroup } from '../select/select.js';
 
 export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -68,7 +69,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       lines: listed.map((r, i) => runLine(items[i].loc.facts, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period,
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quietOverall(parts, listed) } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, 'run.json', record);
@@ -78,4 +79,15 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     await lock.release();
     storage.stop();
   }
+}
+
+/**
+ * The groups quiet in the whole archive: quiet in some shard and chosen in none, the latest start the latest any shard saw.
+ * Exact without --until; with it a shard cannot tell a group it did not see from one seen only after the period, so none is said.
+ */
+function quietOverall(parts: RunRecord[], listed: { group: string }[]): QuietGroup[] {
+  if (parts[0].period?.until != null) return [];
+  const chosen = new Set(listed.map((r) => r.group)), latest = new Map<string, string>();
+  for (const g of parts.flatMap((p) => p.period?.quiet_groups ?? [])) if (!chosen.has(g.group) && !(g.latest_start <= (latest.get(g.group) ?? ''))) latest.set(g.group, g.latest_start);
+  return [...latest].map(([group, latest_start]) => ({ group, latest_start })).sort((a, b) => a.group.localeCompare(b.group));
 }

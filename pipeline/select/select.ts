@@ -91,9 +91,19 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
   return r.mtimeMs;
 }
 
-/** The recordings whose start falls in [since, until); `known` gives what earlier runs stored, so unchanged files' headers are not read. */
-export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number): Promise<ScannedRecording[]> {
+/** A group with recordings, none of which starts in the period, and the latest of them before it: a rig that may have stopped. */
+export interface QuietGroup { group: string; latest_start: string }
+
+/**
+ * The recordings whose start falls in [since, until); `known` gives what earlier runs stored, so unchanged files' headers are
+ * not read. `quiet`: the groups whose recordings all start before the period (none in it, none after it).
+ */
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[] }> {
   const limit = pLimit(16);
   const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], known(r.recording)))));
-  return recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
+  const chosen = recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
+  const latest = new Map<number, number>();
+  recordings.forEach((r, i) => latest.set(r.group, Math.max(latest.get(r.group) ?? -Infinity, starts[i])));
+  const quiet = [...latest].filter(([, t]) => t < since).map(([g, t]) => ({ group: groups[g].name, latest_start: new Date(t).toISOString() })).sort((a, b) => a.group.localeCompare(b.group));
+  return { chosen, quiet };
 }
