@@ -4,7 +4,8 @@ import { appendFileSync, cpSync, existsSync, readdirSync, readFileSync, rmSync, 
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
-import { parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
+import { byStartTime, parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
+import type { GroupDeclaration } from '../spec/archive.js';
 import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
 import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
@@ -205,6 +206,17 @@ describe('selecting a period and logging', () => {
     expect(r.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z (a rig that stopped capturing, or captures not yet copied in)');
     expect(parseWhen('7d', Date.UTC(2026, 10, 23))).toBe(Date.UTC(2026, 10, 16));
     expect(() => parseWhen('last week')).toThrow(/neither a date .* nor a span/);
+  });
+
+  it('a quiet group is one silent for the period after capturing within seven periods before it; silent for longer, it is retired', async () => {
+    const day = 86_400_000, now = Date.UTC(2026, 11, 4, 6), since = now - day;
+    const groups = ['tonight', 'stopped', 'retired', 'ahead'].map((name) => ({ name }) as GroupDeclaration);
+    const starts: [string, number, number][] = [['a.wav', 0, now - 2 * 3_600_000], ['b.wav', 1, now - 3 * day], ['c.wav', 2, now - 9 * day], ['d.wav', 3, now + day], ['e.wav', 1, now - 20 * day]];
+    const recordings = starts.map(([recording, group], i) => ({ recording, path: `/x/${recording}`, group, size: i, mtimeMs: 0, readAtMs: 0 }));
+    const known = (r: string) => { const i = starts.findIndex(([name]) => name === r); return { size: i, mtimeMs: 0, start_ms: starts[i][2] }; };
+    const { chosen, quiet } = await byStartTime(recordings, groups, known, since, Infinity, now);
+    expect(chosen.map((r) => r.recording)).toEqual(['a.wav', 'd.wav']);
+    expect(quiet).toEqual([{ group: 'stopped', latest_start: new Date(now - 3 * day).toISOString() }]);
   });
 
   it('--log json writes one JSON object a line, ending with a summary', () => {

@@ -94,16 +94,21 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
 /** A group with recordings, none of which starts in the period, and the latest of them before it: a rig that may have stopped. */
 export interface QuietGroup { group: string; latest_start: string }
 
+/** How many periods before this one a group's latest recording may lie and the group still count as quiet, not retired (ours). */
+export const QUIET_LOOKBACK_PERIODS = 7;
+
 /**
  * The recordings whose start falls in [since, until); `known` gives what earlier runs stored, so unchanged files' headers are
- * not read. `quiet`: the groups whose recordings all start before the period (none in it, none after it).
+ * not read. `quiet`: the groups whose recordings all start before the period (none in it, none after it), the latest within
+ * QUIET_LOOKBACK_PERIODS periods of its length before it; a group silent for longer has been retired, not stopped last night.
  */
-export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[] }> {
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number, now = Date.now()): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[] }> {
   const limit = pLimit(16);
   const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], known(r.recording)))));
   const chosen = recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
   const latest = new Map<number, number>();
   recordings.forEach((r, i) => latest.set(r.group, Math.max(latest.get(r.group) ?? -Infinity, starts[i])));
-  const quiet = [...latest].filter(([, t]) => t < since).map(([g, t]) => ({ group: groups[g].name, latest_start: new Date(t).toISOString() })).sort((a, b) => a.group.localeCompare(b.group));
+  const recent = since - QUIET_LOOKBACK_PERIODS * (Math.min(until, now) - since);
+  const quiet = [...latest].filter(([, t]) => t < since && t >= recent).map(([g, t]) => ({ group: groups[g].name, latest_start: new Date(t).toISOString() })).sort((a, b) => a.group.localeCompare(b.group));
   return { chosen, quiet };
 }
