@@ -135,7 +135,11 @@ async function main(argv: string[]): Promise<number> {
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
       const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs });
-      if (a.log === 'json') progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels });
+      if (a.log === 'json') {
+        // What a job reading the log needs besides the counts: what changed in the machine, and which rigs fell quiet.
+        const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;
+        progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: record.shard ? [] : record.period?.quiet_groups ?? [] });
+      }
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
       const exit = runExitCode(record.counts.failed, quality.changes, a.exitOn);

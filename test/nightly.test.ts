@@ -225,6 +225,6 @@ describe('selecting a period and logging', () => {
     const lines = r.stderr.trim().split('\n').map((l) => JSON.parse(l));
     expect(lines[0].event).toBe('start');
     expect(lines.filter((l) => l.event === 'recording').length).toBe(11);
-    expect(lines.at(-1)).toMatchObject({ event: 'summary', reduced: 10, failed: 1 });
+    expect(lines.at(-1)).toMatchObject({ event: 'summary', reduced: 10, failed: 1, changes: { alarm: 0, changed: 5 }, quiet_groups: [] });
   });
 });
