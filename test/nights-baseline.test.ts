@@ -74,12 +74,18 @@ describe('a nightly run after the envelope filter changed', () => {
 });
 
 describe('a nightly run with no stored history before its period', () => {
-  it('says its baselines were formed from the period alone, and not once earlier results are stored', async () => {
+  /** An archive of the rig's nights `from` to 5 (the tone comes on TONE_FROM), the spec, and an output folder not yet made. */
+  function rigNights(from: number) {
     const root = tempDir(), archive = join(root, 'archive'), out = join(root, 'out');
     mkdirSync(join(archive, 'rig'), { recursive: true });
     writeFileSync(join(archive, 'archive.yaml'), ARCHIVE_YAML);
     writeFileSync(join(root, 'spec.yaml'), spec(2500, 4500));
-    for (let n = 0; n < 6; n++) writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n));
+    for (let n = from; n < 6; n++) writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n));
+    return { root, archive, out };
+  }
+
+  it('says its baselines were formed from the period alone, and not once earlier results are stored', async () => {
+    const { root, archive, out } = rigNights(0);
 
     // A new output folder (or one whose cache/ was deleted): the baseline can only be the nights of the period, which hold the change.
     const r = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--since', day(2), '--jobs', '1');
@@ -98,11 +104,7 @@ describe('a nightly run with no stored history before its period', () => {
   }, 120_000);
 
   it('says nothing of the kind when the archive holds nothing before the period: no run could form the baseline from more', () => {
-    const root = tempDir(), archive = join(root, 'archive'), out = join(root, 'out');
-    mkdirSync(join(archive, 'rig'), { recursive: true });
-    writeFileSync(join(archive, 'archive.yaml'), ARCHIVE_YAML);
-    writeFileSync(join(root, 'spec.yaml'), spec(2500, 4500));
-    for (let n = 2; n < 6; n++) writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n));
+    const { root, archive, out } = rigNights(2);
     const r = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--since', day(2), '--jobs', '1');
     expect(r.code).toBe(0);
     expect(r.stdout).not.toMatch(/formed from this period only/);
