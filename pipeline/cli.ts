@@ -5,7 +5,7 @@ import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
 import { progressFor } from './outputs/progress.js';
-import { summaryText } from './outputs/report.js';
+import { summaryText, type RunRecord } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
@@ -22,14 +22,35 @@ const exporting = () => import('./exports/export.js');
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2, changed: 3 } as const;
 
 const EXIT_ON = {
-  choices: ['changed', 'alarm'] as const,
-  describe: 'Exit with code 3 when a watched feature of this run\'s recordings reads changed or at an alarm limit (changed), or at an alarm limit (alarm), so that a nightly job\'s scheduler can tell',
+  type: 'string',
+  describe: 'Exit with code 3 when a watched feature of this run\'s recordings reads changed or at an alarm limit (changed), at an alarm limit (alarm), or a group has fallen quiet over a --since period (quiet); one or a comma list, such as alarm,quiet, so that a nightly job\'s scheduler can tell',
 } as const;
 
-/** The run's exit code: 3 when --exit-on's level is reached (before 1: the change is what was asked to be told), else 1 when recordings failed. */
-function runExitCode(failed: number, changes: ChangesReport | null | undefined, exitOn: 'changed' | 'alarm' | undefined): { code: number; line: string | null } {
-  const reached = exitOn && changes ? changes.items.filter((c) => exitOn === 'changed' || c.verdict === 'alarm').length : 0;
-  if (reached) return { code: EXIT.changed, line: `  exit code 3: ${reached} channel ${reached === 1 ? 'feature' : 'features'} ${exitOn === 'alarm' ? 'at an alarm limit' : 'changed or at an alarm limit'} (--exit-on ${exitOn})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}` };
+const EXIT_ON_WORDS = ['changed', 'alarm', 'quiet'] as const;
+type ExitOn = Set<(typeof EXIT_ON_WORDS)[number]>;
+
+/** --exit-on's words; an unknown one is a usage error naming the ones there are. */
+function parseExitOn(text: string | undefined): ExitOn {
+  const words = (text ?? '').split(',').map((w) => w.trim()).filter(Boolean);
+  const unknown = words.filter((w) => !(EXIT_ON_WORDS as readonly string[]).includes(w));
+  if (unknown.length || (text != null && !words.length)) throw new UsageError(`--exit-on: "${text}" is not ${EXIT_ON_WORDS.join(', ')} or a comma list of them (alarm,quiet)`);
+  return new Set(words) as ExitOn;
+}
+
+/** The run's exit code: 3 when what --exit-on asks for happened (before 1: it is what the job asked to be told), else 1 when recordings failed. */
+function runExitCode(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): { code: number; line: string | null } {
+  const items = changes?.items ?? [];
+  const alarms = exitOn.has('alarm') || exitOn.has('changed') ? items.filter((c) => c.verdict === 'alarm').length : 0;
+  const changed = exitOn.has('changed') ? items.length - alarms : 0;
+  // A shard sees only its share of the archive: quiet groups are merge's to tell.
+  const quiet = exitOn.has('quiet') && !r.shard ? r.period?.quiet_groups?.length ?? 0 : 0;
+  const failed = r.counts.failed;
+  const said = [
+    alarms ? `${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit` : null,
+    changed ? `${changed} channel ${changed === 1 ? 'feature' : 'features'} changed` : null,
+    quiet ? `${quiet} ${quiet === 1 ? 'group' : 'groups'} quiet over the period` : null,
+  ].filter(Boolean);
+  if (said.length) return { code: EXIT.changed, line: `  exit code 3: ${said.join(', ')} (--exit-on ${[...exitOn].join(',')})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}` };
   return { code: failed > 0 ? EXIT.someFailed : EXIT.ok, line: null };
 }
 
@@ -40,7 +61,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, a watched feature changed or reached an alarm limit.`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, what it names happened (a feature changed or at an alarm limit, a group quiet).`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -126,6 +147,7 @@ async function main(argv: string[]): Promise<number> {
       const stallMs = optionValue('stall-limit', a.stallLimit, positiveSpan('a stall limit of no time would stop every recording'));
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
+      const exitOn = parseExitOn(a.exitOn);
       try {
         shard = a.shard ? parseShard(a.shard) : null;
         checkPeriod(since, until, a.since, a.until);
@@ -142,7 +164,7 @@ async function main(argv: string[]): Promise<number> {
       }
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      const exit = runExitCode(record.counts.failed, quality.changes, a.exitOn);
+      const exit = runExitCode(record, quality.changes, exitOn);
       if (exit.line) process.stdout.write(`${exit.line}\n`);
       code = exit.code;
       // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
@@ -165,12 +187,13 @@ async function main(argv: string[]): Promise<number> {
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
+      const exitOn = parseExitOn(a.exitOn);
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
       const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      const exit = runExitCode(record.counts.failed, quality.changes, a.exitOn);
+      const exit = runExitCode(record, quality.changes, exitOn);
       if (exit.line) process.stdout.write(`${exit.line}\n`);
       code = exit.code;
     })

@@ -160,7 +160,7 @@ describe('sharding', () => {
     // Sharded runs leave the trends to merge, so merge is where a nightly job asks to be told of changes.
     const told = quern('merge', shared, '--exit-on', 'changed');
     expect(told.code).toBe(3);
-    expect(told.stdout).toMatch(/exit code 3: \d+ channel features changed or at an alarm limit \(--exit-on changed\); 1 recording failed as well/);
+    expect(told.stdout).toMatch(/exit code 3: \d+ channel features changed \(--exit-on changed\); 1 recording failed as well/);
   });
 
   it('merge names the groups quiet in the whole archive over a period, which a shard alone cannot tell', () => {
@@ -169,6 +169,10 @@ describe('sharding', () => {
     const merged = quern('merge', shared, '--jobs', '1');
     expect(merged.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z');
     expect(readJson(join(shared, 'run.json')).period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z' }]);
+    // A stopped rig can page someone: --exit-on quiet.
+    const paged = quern('merge', shared, '--jobs', '1', '--exit-on', 'alarm,quiet');
+    expect(paged.code).toBe(3);
+    expect(paged.stdout).toContain('  exit code 3: 1 group quiet over the period (--exit-on alarm,quiet)');
   });
 
   it('merge refuses while a shard is missing, naming it', () => {
