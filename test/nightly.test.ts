@@ -208,6 +208,9 @@ describe('selecting a period and logging', () => {
     // handheld and strain files start at their modification time (now), after the period: not quiet.
     expect(run.period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z' }]);
     expect(r.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z (a rig that stopped capturing, or captures not yet copied in)');
+    const paged = quern('reduce', archive, '--out', out, '--since', '2026-11-19', '--until', '2026-11-21', '--quiet', '--exit-on', 'quiet');
+    expect(paged.code).toBe(3);
+    expect(paged.stdout).toContain('  exit code 3: 1 group quiet over the period (--exit-on quiet)');
     expect(parseWhen('7d', Date.UTC(2026, 10, 23))).toBe(Date.UTC(2026, 10, 16));
     expect(() => parseWhen('last week')).toThrow(/neither a date .* nor a span/);
   });
