@@ -142,7 +142,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
     const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null, earlierStored }));
-    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, pool, changes });
+    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
     const compacted = await writing(s.own!, () => s.compact());

@@ -3,12 +3,16 @@ import { spawn } from 'node:child_process';
 import { appendFileSync, cpSync, existsSync, readdirSync, readFileSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
+import { Ajv } from 'ajv';
+import formats from 'ajv-formats';
 import { describe, expect, it } from 'vitest';
 import { byStartTime, parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
 import type { GroupDeclaration } from '../spec/archive.js';
 import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
 import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
+
+const addFormats = formats as unknown as (ajv: Ajv) => Ajv;
 
 async function table(path: string): Promise<Record<string, unknown>[]> {
   const db = await (await DuckDBInstance.create()).connect();
@@ -208,6 +212,14 @@ describe('selecting a period and logging', () => {
     // handheld and strain files start at their modification time (now), after the period: not quiet.
     expect(run.period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z' }]);
     expect(r.stdout).toContain('  QUIET   group quick-look: none of its recordings starts in this period; its latest started 2026-11-18T14:30:00.000Z (a rig that stopped capturing, or captures not yet copied in)');
+    // quality.json and quality.html name it too, where the morning's reader looks.
+    const quality = readJson(join(out, 'quality.json'));
+    expect(quality.quiet_groups).toEqual(run.period.quiet_groups);
+    const ajv = new Ajv({ allErrors: true, strict: false });
+    addFormats(ajv);
+    const validate = ajv.compile(JSON.parse(readFileSync(join(repo, 'schemas', 'quality.schema.json'), 'utf8')));
+    expect(validate(quality), JSON.stringify(validate.errors?.slice(0, 3))).toBe(true);
+    expect(readFileSync(join(out, 'quality.html'), 'utf8')).toContain("<h2>Groups that fell quiet</h2><ul><li>quick-look: none of its recordings starts in this run's period; its latest started 2026-11-18T14:30:00.000Z");
     const paged = quern('reduce', archive, '--out', out, '--since', '2026-11-19', '--until', '2026-11-21', '--quiet', '--exit-on', 'quiet');
     expect(paged.code).toBe(3);
     expect(paged.stdout).toContain('  exit code 3: 1 group quiet over the period (--exit-on quiet)');

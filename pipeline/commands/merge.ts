@@ -61,7 +61,8 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
     // Worked out on this thread while the workers assemble the slices.
     const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata, since: first.period?.since ?? null });
-    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, pool, changes });
+    const quiet = quietOverall(parts, listed);
+    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
     const record = runRecord({
@@ -69,7 +70,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       lines: listed.map((r, i) => runLine(items[i].loc.facts, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quietOverall(parts, listed) } : null,
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, 'run.json', record);
