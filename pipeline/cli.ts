@@ -17,7 +17,7 @@ const exporting = () => import('./exports/export.js');
 
 /**
  * 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, a
- * failed write, or an unexpected error; 3: with --exit-on, what changed in the machine reached the level asked for.
+ * failed write, or an unexpected error; 3: with --exit-on, what it names happened (a change, an alarm, a group fallen quiet).
  */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2, changed: 3 } as const;
 
