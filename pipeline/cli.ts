@@ -5,7 +5,7 @@ import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
 import { progressFor } from './outputs/progress.js';
-import { summaryText, type RunRecord } from './outputs/report.js';
+import { quietGroupsOf, summaryText, type RunRecord } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
@@ -37,21 +37,21 @@ function parseExitOn(text: string | undefined): ExitOn {
   return new Set(words) as ExitOn;
 }
 
-/** The run's exit code: 3 when what --exit-on asks for happened (before 1: it is what the job asked to be told), else 1 when recordings failed. */
-function runExitCode(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): { code: number; line: string | null } {
+/** The run's exit code: 3 when what --exit-on names happened, with a line saying what (before 1: it is what the job asked to be told), else 1 when recordings failed. */
+function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): number {
   const items = changes?.items ?? [];
   const alarms = exitOn.has('alarm') || exitOn.has('changed') ? items.filter((c) => c.verdict === 'alarm').length : 0;
   const changed = exitOn.has('changed') ? items.length - alarms : 0;
-  // A shard sees only its share of the archive: quiet groups are merge's to tell.
-  const quiet = exitOn.has('quiet') && !r.shard ? r.period?.quiet_groups?.length ?? 0 : 0;
+  const quiet = exitOn.has('quiet') ? quietGroupsOf(r).length : 0;
   const failed = r.counts.failed;
   const said = [
     alarms ? `${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit` : null,
     changed ? `${changed} channel ${changed === 1 ? 'feature' : 'features'} changed` : null,
     quiet ? `${quiet} ${quiet === 1 ? 'group' : 'groups'} quiet over the period` : null,
   ].filter(Boolean);
-  if (said.length) return { code: EXIT.changed, line: `  exit code 3: ${said.join(', ')} (--exit-on ${[...exitOn].join(',')})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}` };
-  return { code: failed > 0 ? EXIT.someFailed : EXIT.ok, line: null };
+  if (!said.length) return failed > 0 ? EXIT.someFailed : EXIT.ok;
+  process.stdout.write(`  exit code 3: ${said.join(', ')} (--exit-on ${[...exitOn].join(',')})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}\n`);
+  return EXIT.changed;
 }
 
 const EXPORT_FORMAT_OPTIONS = {
@@ -160,13 +160,11 @@ async function main(argv: string[]): Promise<number> {
       if (a.log === 'json') {
         // What a job reading the log needs besides the counts: what changed in the machine, and which rigs fell quiet.
         const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;
-        progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: record.shard ? [] : record.period?.quiet_groups ?? [] });
+        progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record) });
       }
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      const exit = runExitCode(record, quality.changes, exitOn);
-      if (exit.line) process.stdout.write(`${exit.line}\n`);
-      code = exit.code;
+      code = exitCodeSaid(record, quality.changes, exitOn);
       // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
       if (threadsGivenUp) (await import('./reduce/end-despite-stuck-threads.js')).endDespiteStuckThreads(threadsGivenUp);
     })
@@ -193,9 +191,7 @@ async function main(argv: string[]): Promise<number> {
       const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
-      const exit = runExitCode(record, quality.changes, exitOn);
-      if (exit.line) process.stdout.write(`${exit.line}\n`);
-      code = exit.code;
+      code = exitCodeSaid(record, quality.changes, exitOn);
     })
     .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y
       .positional('archive', { type: 'string', demandOption: true })

@@ -116,6 +116,9 @@ export async function writeRunRecord(out: string, name: string, r: RunRecord): P
 /** Recordings left to settle that the terminal names; run.json lists them all. */
 const MAX_SETTLING_LINES = 10;
 
+/** The quiet groups a run's record tells: a shard sees only its share of the archive, so merge tells them for the whole of it. */
+export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.period?.quiet_groups ?? []);
+
 /** The end-of-run summary a person reads on the terminal. */
 export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
@@ -127,8 +130,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  // A shard sees only its share of the archive: merge says which groups are quiet in the whole of it.
-  for (const g of r.shard ? [] : r.period?.quiet_groups ?? []) lines.push(`  QUIET   group ${g.group}: none of its recordings starts in this period; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
+  for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: none of its recordings starts in this period; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
   if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);

@@ -59,7 +59,8 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
       let previous: Verdict | null = null, era = 0;
       for (let j = 0; j < s.size; j++) {
         // A restarted baseline holds nothing over from the one before (a new sensor).
-        if (eraOf(j) !== era) { era = eraOf(j); previous = null; }
+        const e = eraOf(j);
+        if (e !== era) { era = e; previous = null; }
         const p = pointAt(j);
         if (!p?.verdict) continue;
         previous = heldVerdict(p.verdict, previous, nearness(p, o, limits));
