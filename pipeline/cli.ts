@@ -208,23 +208,27 @@ async function main(argv: string[]): Promise<number> {
     })
     .command('peek <recording>', 'Show one recording: header, channels, duration and statistics', (y: Argv) => y
       .positional('recording', { type: 'string', demandOption: true })
-      .option('format', { choices: ['wav', 'flac', 'hdf5', 'csv', 'raw'] as const, describe: 'Override the format inferred from the extension' })
+      .option('format', { choices: ['wav', 'flac', 'hdf5', 'mat', 'csv', 'raw'] as const, describe: 'Override the format inferred from the extension' })
       .option('sample-rate', { type: 'number', describe: 'Sample rate in Hz (raw files, CSV without a time column)' })
       .option('sample-type', { choices: ['uint8', 'int16', 'int24', 'int32', 'float32', 'float64'] as const, describe: 'Raw files: sample type' })
       .option('channels', { type: 'number', describe: 'Raw files: channel count' })
       .option('byte-order', { choices: ['little', 'big'] as const, default: 'little' as const, describe: 'Raw files: byte order' })
       .option('header-bytes', { type: 'number', default: 0, describe: 'Raw files: bytes to skip before the first frame' })
       .option('dataset', { type: 'string', array: true, describe: 'HDF5 files: the dataset holding every channel, or one per channel (repeat the option)' })
-      .option('channel-axis', { choices: [0, 1] as const, describe: 'HDF5 files: 0 when the dataset\'s rows are channels, 1 when its columns are' })
+      .option('channel-axis', { choices: [0, 1] as const, describe: 'HDF5 and MAT-files: 0 when the dataset\'s or variable\'s rows are channels, 1 when its columns are' })
       .option('sample-rate-attribute', { type: 'string', describe: 'HDF5 files: attribute holding the sample rate ("name" or "/path@name")' })
       .option('start-time-attribute', { type: 'string', describe: 'HDF5 files: attribute holding the start time' })
+      .option('variable', { type: 'string', array: true, describe: 'MAT-files: the variable holding every channel, or one per channel (repeat the option); "struct.field" for a field' })
+      .option('sample-rate-variable', { type: 'string', describe: 'MAT-files: variable holding the sample rate' })
+      .option('start-time-variable', { type: 'string', describe: 'MAT-files: variable holding the start time' })
       .option('start-time-tag', { type: 'string', describe: 'FLAC files: Vorbis comment tag holding the start time' }),
     async (a) => {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
       const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null } : null;
+      const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null } : null;
       const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
       const { runPeek } = await import('./commands/peek.js');
-      const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, flac });
+      const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, mat, flac });
       if (r.status === 'failed') {
         process.stderr.write(`quern: ${a.recording}: ${r.reason}\n`);
         code = EXIT.someFailed;

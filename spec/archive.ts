@@ -1,6 +1,7 @@
 // archive.yaml as quern reads it: what the recordings are. Types only, read by the run and by the stages alike.
 import type { FlacOptions } from '../stages/read/flac.js';
 import type { Hdf5Layout } from '../stages/read/hdf5.js';
+import type { MatLayout } from '../stages/read/mat.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 
@@ -32,6 +33,8 @@ export interface GroupDeclaration {
   layout: RawLayout | null;
   /** Where HDF5 files hold their samples, rate and start time. */
   hdf5: Hdf5Layout | null;
+  /** Where MAT-files hold their samples, rate and start time. */
+  mat: MatLayout | null;
   /** How FLAC files are read (the Vorbis comment tag holding the start time). */
   flac: FlacOptions | null;
   channels: ChannelDeclaration[] | null;

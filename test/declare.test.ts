@@ -35,7 +35,7 @@ describe('archive declaration', () => {
       '        sensitivity: 3', //       8
     ].join('\n');
     const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
-    expect(message).toMatch(/archive\.yaml:4: groups\[0\]\.format: must be one of "wav", "csv", "raw", "flac", "hdf5"/);
+    expect(message).toMatch(/archive\.yaml:4: groups\[0\]\.format: must be one of "wav", "csv", "raw", "flac", "hdf5", "mat"/);
     expect(message).toMatch(/archive\.yaml:7: groups\[0\]\.channels\[0\]\.range: must NOT have fewer than 2 items/);
     expect(message).toMatch(/archive\.yaml:8: groups\[0\]\.channels\[0\]\.sensitivity: unknown key "sensitivity"/);
   });
@@ -50,6 +50,20 @@ describe('archive declaration', () => {
     expect(message).toMatch(/groups\[0\]\.hdf5: HDF5 files need a sample rate/);
     expect(message).toMatch(/hdf5\.datasets names 2 datasets \(one per channel\) but 1 channels are declared/);
     expect(message).toMatch(/groups\[1\]: format hdf5 needs an hdf5 section/);
+  });
+
+  it('reads MAT-file sections, and asks MAT groups for a sample rate and a fitting channel list', async () => {
+    const good = 'groups:\n  - name: m\n    match: "*.mat"\n    mat: { variables: data, channel_axis: 1, sample_rate_variable: fs, start_time_variable: rec.t0 }\n';
+    const d = await loadArchiveDeclaration(archiveWith(good));
+    expect(d.groups[0].mat).toEqual({ variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 'rec.t0' });
+    const bad = 'groups:\n  - name: m\n    match: "*.mat"\n    mat: { variables: [a, b], channel_axis: 0 }\n    channels: [{ name: x }]\n  - name: n\n    match: "*.m5"\n    format: mat\n';
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(bad)));
+    expect(message).toMatch(/groups\[0\]\.mat: MAT-files need a sample rate/);
+    expect(message).toMatch(/groups\[0\]\.mat\.channel_axis: channel_axis applies to one two-dimensional variable/);
+    expect(message).toMatch(/mat\.variables names 2 variables \(one per channel\) but 1 channels are declared/);
+    expect(message).toMatch(/groups\[1\]: format mat needs a mat section/);
+    const misnamed = 'groups:\n  - name: o\n    match: "*.mat"\n    mat: { variables: "rec..x" }\n    sample_rate: 100\n';
+    expect(await errorOf(loadArchiveDeclaration(archiveWith(misnamed)))).toMatch(/archive\.yaml:4: groups\[0\]\.mat\.variables: must match pattern/);
   });
 
   it('catches what the schema cannot: reversed ranges, duplicate names, raw files without layout', async () => {

@@ -10,6 +10,7 @@ import { computeRecording } from '../pipeline/reduce/compute.js';
 import { openRecording } from '../stages/read/open.js';
 import { RecordingError } from '../stages/read/recording.js';
 import type { Hdf5Layout } from '../stages/read/hdf5.js';
+import type { MatLayout } from '../stages/read/mat.js';
 import type { RawLayout } from '../stages/read/raw.js';
 import type { Format } from '../stages/read/recording.js';
 import { fixture, tempDir } from './helpers.js';
@@ -20,8 +21,9 @@ const RSS_LIMIT = 2 * 1024 ** 3;
 /** Damaged copies between two reads of the good copy. */
 const GOOD_EVERY = 10;
 
-interface Seed { name: string; bytes: Buffer; format: Format; sampleRate?: number; layout?: RawLayout; hdf5?: Hdf5Layout }
+interface Seed { name: string; bytes: Buffer; format: Format; sampleRate?: number; layout?: RawLayout; hdf5?: Hdf5Layout; mat?: MatLayout }
 const file = (...p: string[]) => readFileSync(fixture(...p));
+const mat = (variables: string[], l: Partial<MatLayout> = {}): MatLayout => ({ variables, channel_axis: null, sample_rate_variable: null, start_time_variable: null, ...l });
 const h5 = (datasets: string[], l: Partial<Hdf5Layout> = {}): Hdf5Layout => ({ datasets, channel_axis: null, sample_rate_attribute: null, start_time_attribute: null, ...l });
 
 // An invented two-channel CSV export with a time column.
@@ -43,6 +45,10 @@ const SEEDS: Seed[] = [
   { name: 'rows.h5', bytes: file('formats', 'acq-rows.h5'), format: 'hdf5', hdf5: h5(['/acq/signals'], { channel_axis: 1, sample_rate_attribute: 'sample_rate', start_time_attribute: 'start_time' }) },
   { name: 'columns.h5', bytes: file('formats', 'acq-columns.h5'), format: 'hdf5', hdf5: h5(['/data'], { channel_axis: 0, sample_rate_attribute: 'fs' }) },
   { name: 'per-channel.h5', bytes: file('formats', 'per-channel.h5'), format: 'hdf5', sampleRate: 1000, hdf5: h5(['/ch/a', '/ch/b', '/ch/c']) },
+  { name: 'columns.mat', bytes: file('mat', 'rig-columns.mat'), format: 'mat', mat: mat(['data'], { channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 't0' }) },
+  { name: 'rows.mat', bytes: file('mat', 'rig-rows.mat'), format: 'mat', mat: mat(['signals'], { channel_axis: 0, sample_rate_variable: 'rate', start_time_variable: 'start' }) },
+  { name: 'struct.mat', bytes: file('mat', 'per-channel.mat'), format: 'mat', mat: mat(['rec.acc_x', 'rec.acc_y'], { sample_rate_variable: 'rec.fs' }) },
+  { name: 'big-endian.mat', bytes: file('mat', 'narrow-big-endian.mat'), format: 'mat', mat: mat(['sig'], { channel_axis: 1, sample_rate_variable: 'fs' }) },
   { name: 'export.csv', bytes: CSV, format: 'csv' },
   { name: 'frames.bin', bytes: file('raw', 'be-int16-3ch.bin'), format: 'raw', sampleRate: 100, layout: { sample_type: 'int16', byte_order: 'big', channels: 3, header_bytes: 16 } },
 ];
@@ -95,7 +101,7 @@ function damage(seed: Seed, b: Buffer, m: Mutation): Buffer {
 
 const job = (seed: Seed, path: string): RecordingJob => ({
   recording: seed.name, path, group: 'fuzz', format: seed.format, sampleRate: seed.sampleRate ?? null, layout: seed.layout ?? null,
-  reader: { hdf5: seed.hdf5 ?? null, flac: null }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 4096,
+  reader: { hdf5: seed.hdf5 ?? null, mat: seed.mat ?? null, flac: null }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 4096,
 });
 
 /** Reads every sample through the reader: 'read' and a sum over the samples, or the RecordingError's reason; anything else is thrown on. */

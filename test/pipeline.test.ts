@@ -243,7 +243,7 @@ describe('quern check and quern peek', () => {
     writeFileSync(join(dir, 'capture.xyz'), 'not a recording');
     const unknown = quern('peek', join(dir, 'capture.xyz'));
     expect(unknown.code).toBe(1);
-    expect(unknown.stderr).toContain('cannot tell the format from the extension ".xyz"; give it with --format wav, flac, hdf5, csv or raw');
+    expect(unknown.stderr).toContain('cannot tell the format from the extension ".xyz"; give it with --format wav, flac, hdf5, mat, csv or raw');
     const raw = quern('peek', join(dir, 'capture.xyz'), '--format', 'raw');
     expect(raw.stderr).toContain('raw binary needs its layout and sample rate; give it with --sample-type, --channels and --sample-rate');
     const folder = quern('peek', dir);
@@ -258,7 +258,7 @@ describe('quern check and quern peek', () => {
     mkdirSync(join(archive, 'odd'));
     writeFileSync(join(archive, 'odd', 'capture.xyz'), 'not a recording');
     const r = quern('check', archive);
-    expect(r.stdout).toMatch(/FAILED\s+odd\/capture\.xyz\s+\[odd\]\s+cannot tell the format from the extension "\.xyz"; declare format: wav, flac, hdf5, csv or raw for its group in archive\.yaml/);
+    expect(r.stdout).toMatch(/FAILED\s+odd\/capture\.xyz\s+\[odd\]\s+cannot tell the format from the extension "\.xyz"; declare format: wav, flac, hdf5, mat, csv or raw for its group in archive\.yaml/);
   });
 
   it('peek names its own options for what a CSV or HDF5 file lacks, where reduce and check name archive.yaml', () => {

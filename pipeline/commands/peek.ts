@@ -13,15 +13,20 @@ import type { DeclareHow, ReaderOptions } from '../../stages/read/open.js';
 
 /** peek takes what a file cannot say as its own options, whatever archive.yaml declares. */
 const DECLARE_AS_OPTIONS: DeclareHow = {
-  format: 'give it with --format wav, flac, hdf5, csv or raw',
+  format: 'give it with --format wav, flac, hdf5, mat, csv or raw',
   raw: 'give it with --sample-type, --channels and --sample-rate (and --byte-order, --header-bytes)',
   hdf5: 'give --dataset (and --channel-axis, --sample-rate-attribute, --start-time-attribute as the file needs)',
+  mat: 'give --variable (and --channel-axis, --sample-rate-variable, --start-time-variable as the file needs)',
   where: {
     sample_rate: '--sample-rate',
     'hdf5.datasets': '--dataset',
     'hdf5.channel_axis': '--channel-axis',
     'hdf5.sample_rate_attribute': '--sample-rate-attribute',
     'hdf5.start_time_attribute': '--start-time-attribute',
+    'mat.variables': '--variable',
+    'mat.channel_axis': '--channel-axis',
+    'mat.sample_rate_variable': '--sample-rate-variable',
+    'mat.start_time_variable': '--start-time-variable',
   },
 };
 
@@ -35,11 +40,11 @@ function archiveOf(path: string): string | null {
   }
 }
 
-export async function runPeek(file: string, { format = null, sampleRate = null, layout = null, hdf5 = null, flac = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
+export async function runPeek(file: string, { format = null, sampleRate = null, layout = null, hdf5 = null, mat = null, flac = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
   const path = resolve(file);
   // A folder is a slip of the command, not a recording to fail: say what peek takes and where a whole archive is looked at.
   if (statSync(path, { throwIfNoEntry: false })?.isDirectory()) throw new UsageError(`${file} is a folder: peek shows one recording, so name a file in it; quern check ${file} goes through a whole archive`);
-  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, flac, declareHow: DECLARE_AS_OPTIONS }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
+  let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, mat, flac, declareHow: DECLARE_AS_OPTIONS }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
   let declaredBy: string | null = null;
   const root = archiveOf(path);
   if (root) {
@@ -48,7 +53,7 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     const g = declaration.groups.find((group) => picomatch(group.match)(rel));
     if (g) {
       declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
-      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, flac: flac ?? g.flac, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
+      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, mat: mat ?? g.mat, flac: flac ?? g.flac, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
   return { result: await reduceRecording(job), declaredBy };

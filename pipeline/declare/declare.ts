@@ -5,6 +5,7 @@ import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Hdf5Layout } from '../../stages/read/hdf5.js';
+import type { MatLayout } from '../../stages/read/mat.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '../../spec/archive.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -18,15 +19,21 @@ export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit
 export const ARCHIVE_FILE = 'archive.yaml';
 export const SPEC_FILE = 'reduction.yaml';
 
-type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout' | 'hdf5' | 'flac'> & {
+type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout' | 'hdf5' | 'mat' | 'flac'> & {
   name: string; match: string | string[]; channels?: Partial<ChannelDeclaration>[]; layout?: Partial<RawLayout>;
   hdf5?: Omit<Partial<Hdf5Layout>, 'datasets'> & { datasets: string | string[] }; flac?: { start_time_tag?: string };
+  mat?: Omit<Partial<MatLayout>, 'variables'> & { variables: string | string[] };
 };
 
 /** The HDF5 section with its defaults, dataset paths made absolute. */
 function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
   const datasets = (Array.isArray(h.datasets) ? h.datasets : [h.datasets]).map((d) => (d.startsWith('/') ? d : `/${d}`));
   return { datasets, channel_axis: h.channel_axis ?? null, sample_rate_attribute: h.sample_rate_attribute ?? null, start_time_attribute: h.start_time_attribute ?? null };
+}
+
+/** The MAT-file section with its defaults. */
+function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
+  return { variables: Array.isArray(m.variables) ? m.variables : [m.variables], channel_axis: m.channel_axis ?? null, sample_rate_variable: m.sample_rate_variable ?? null, start_time_variable: m.start_time_variable ?? null };
 }
 
 export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
@@ -72,10 +79,15 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (hdf5 && hdf5.sample_rate_attribute == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group or hdf5.sample_rate_attribute'));
     if (hdf5 && hdf5.datasets.length > 1 && hdf5.channel_axis != null) problems.push(source.problem(at('hdf5', 'channel_axis'), 'channel_axis applies to one two-dimensional dataset; with one dataset per channel leave it out'));
     if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
+    const mat = g.mat ? matLayout(g.mat) : null;
+    if (g.format === 'mat' && !mat) problems.push(source.problem(at(), 'format mat needs a mat section: { variables, channel_axis, sample_rate_variable, start_time_variable }'));
+    if (mat && mat.sample_rate_variable == null && g.sample_rate == null) problems.push(source.problem(at('mat'), 'MAT-files need a sample rate: declare sample_rate for the group or mat.sample_rate_variable'));
+    if (mat && mat.variables.length > 1 && mat.channel_axis != null) problems.push(source.problem(at('mat', 'channel_axis'), 'channel_axis applies to one two-dimensional variable; with one variable per channel leave it out'));
+    if (mat && channels && mat.variables.length > 1 && mat.variables.length !== channels.length) problems.push(source.problem(at('channels'), `mat.variables names ${mat.variables.length} variables (one per channel) but ${channels.length} channels are declared`));
     const flac = g.flac ? { start_time_tag: g.flac.start_time_tag ?? null } : null;
     return {
       name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
-      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, flac, channels, duration_s: g.duration_s ?? null,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, mat, flac, channels, duration_s: g.duration_s ?? null,
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));

@@ -65,7 +65,8 @@ export const declarationKey = (job: RecordingJob) =>
   sha(canonicalJson({
     format: job.format, sampleRate: job.sampleRate, layout: job.layout, channels: job.channels, durationS: job.durationS,
     // Only declared reader options enter the key, so the keys of groups without them stay as they were.
-    ...(job.reader?.hdf5 || job.reader?.flac ? { reader: job.reader } : {}),
+    ...(job.reader?.hdf5 || job.reader?.flac ? { reader: { hdf5: job.reader.hdf5, flac: job.reader.flac } } : {}),
+    ...(job.reader?.mat ? { mat: job.reader.mat } : {}),
   }));
 
 /** Per feature group, a key of the tool version and the resolved options of the group's stages. */

@@ -13,7 +13,7 @@ export interface RecordingJob {
   format: Format | null;
   sampleRate: number | null;
   layout: RawLayout | null;
-  /** Per-format reading options (HDF5 datasets and attributes, FLAC start-time tag), when the group declares them. */
+  /** Per-format reading options (HDF5 datasets and attributes, MAT-file variables, FLAC start-time tag), when the group declares them. */
   reader?: ReaderOptions;
   channels: ChannelDeclaration[] | null;
   labels: Record<string, string>;
@@ -32,7 +32,7 @@ export function planJob(r: ScannedRecording, groups: GroupDeclaration[], spec: R
   return {
     recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
     // A frame takes at least a byte, so a small file fits one chunk of its size in bytes: no large buffers for small files.
-    layout: g.layout, reader: { hdf5: g.hdf5, flac: g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
+    layout: g.layout, reader: { hdf5: g.hdf5, mat: g.mat, flac: g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
   };
 }
 

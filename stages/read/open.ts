@@ -3,6 +3,7 @@ import { extname } from 'node:path';
 import { openCsv } from './csv.js';
 import { openFlac, type FlacOptions } from './flac.js';
 import { openHdf5, type Hdf5Layout } from './hdf5.js';
+import { openMat, type MatLayout } from './mat.js';
 import { openRaw, type RawLayout } from './raw.js';
 import { DEFAULT_CHUNK_FRAMES, RecordingError, type Format, type Recording } from './recording.js';
 import { openWav } from './wav.js';
@@ -17,7 +18,7 @@ export { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 export { formatOf } from './format-of.js';
 
 /** Reading options that only some formats take, and where the user declares what the file cannot say. */
-export interface ReaderOptions { hdf5?: Hdf5Layout | null; flac?: FlacOptions | null; declareHow?: DeclareHow }
+export interface ReaderOptions { hdf5?: Hdf5Layout | null; mat?: MatLayout | null; flac?: FlacOptions | null; declareHow?: DeclareHow }
 
 export interface OpenOptions extends ReaderOptions {
   format?: Format | null;
@@ -36,11 +37,12 @@ export async function openRecording(path: string, options: OpenOptions = {}): Pr
   }
 }
 
-async function openByFormat(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, flac = null, declareHow = DECLARE_IN_ARCHIVE }: OpenOptions = {}): Promise<Recording> {
+async function openByFormat(path: string, { format = null, sampleRate = null, layout = null, chunkFrames = DEFAULT_CHUNK_FRAMES, hdf5 = null, mat = null, flac = null, declareHow = DECLARE_IN_ARCHIVE }: OpenOptions = {}): Promise<Recording> {
   const f = format ?? formatOf(path);
   if (f === 'wav') return openWav(path, { chunkFrames });
   if (f === 'flac') return openFlac(path, { chunkFrames, options: flac });
   if (f === 'hdf5') return openHdf5(path, hdf5, sampleRate, { chunkFrames, declareHow });
+  if (f === 'mat') return openMat(path, mat, sampleRate, { chunkFrames, declareHow });
   if (f === 'csv') return openCsv(path, { chunkFrames, declaredSampleRate: sampleRate, sampleRateWhere: declareHow.where.sample_rate });
   if (f === 'raw') {
     if (!layout || sampleRate == null) throw new RecordingError(`raw binary needs its layout and sample rate; ${declareHow.raw}`);

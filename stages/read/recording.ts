@@ -1,6 +1,6 @@
 // What every reader hands the pipeline: a header read up front, then the samples in bounded chunks.
 
-export type Format = 'wav' | 'csv' | 'raw' | 'flac' | 'hdf5';
+export type Format = 'wav' | 'csv' | 'raw' | 'flac' | 'hdf5' | 'mat';
 
 export interface Recording {
   format: Format;

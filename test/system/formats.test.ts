@@ -1,5 +1,5 @@
-// Live comparisons of the WAV, FLAC and HDF5 readers with the tools themselves: files written now by sox, ffmpeg, the
-// flac encoder and h5py, decoded by sox, `flac -d` and h5py, compared sample for sample; and an RF64 file past 4 GiB read whole.
+// Live comparisons of the WAV, FLAC, HDF5 and MAT-file readers with the tools themselves: files written now by sox, ffmpeg,
+// the flac encoder, h5py and scipy.io, decoded by sox, `flac -d`, h5py and scipy.io, compared sample for sample; and an RF64 file past 4 GiB read whole.
 import { execFileSync } from 'node:child_process';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -68,6 +68,33 @@ with h5py.File(sys.argv[1],'w') as f:
     d=f.create_dataset('run/data',data=x,chunks=(4096,3),compression='gzip'); d.attrs['rate']=25600.0
 with h5py.File(sys.argv[1],'r') as f: sys.stdout.buffer.write(np.asarray(f['run/data'][...],dtype='<i4').tobytes())`, path], { maxBuffer: 1 << 26 });
     await expectSame(path, int32Channels(values, 3), { hdf5: { datasets: ['/run/data'], channel_axis: 1, sample_rate_attribute: 'rate', start_time_attribute: null } });
+  });
+
+  it('MAT-files written by scipy.io.savemat (compressed and not, every integer class and both float classes) equal what scipy.io.loadmat reads', async () => {
+    const python = requirePython('scipy', 'numpy');
+    const dir = tempDir();
+    // Each class as samples × channels (compressed) and as channels × samples (uncompressed); loadmat's values normalised as quern does.
+    const classes = ['int8', 'uint8', 'int16', 'uint16', 'int32', 'uint32', 'single', 'double'];
+    const values = execFileSync(python, ['-c', `import sys,numpy as np,scipy.io as sio
+rng=np.random.default_rng(11); out=[]
+for i,cls in enumerate(sys.argv[2:]):
+    dt={'single':np.float32,'double':np.float64}.get(cls,cls); dt=np.dtype(dt)
+    x=rng.uniform(-1,1,(5000,3)).astype(dt) if dt.kind=='f' else rng.integers(np.iinfo(dt).min,np.iinfo(dt).max,(5000,3),endpoint=True).astype(dt)
+    sio.savemat(f'{sys.argv[1]}/{cls}-v7.mat',{'x':x,'fs':48000.0},do_compression=True)
+    sio.savemat(f'{sys.argv[1]}/{cls}-v6.mat',{'x':x.T.copy(),'fs':np.int16(4800)},do_compression=False)
+    y=sio.loadmat(f'{sys.argv[1]}/{cls}-v7.mat')['x']; z=sio.loadmat(f'{sys.argv[1]}/{cls}-v6.mat')['x'].T
+    assert np.array_equal(y,z)
+    if dt.kind in 'iu':
+        full=2.0**(8*dt.itemsize-1); y=(y.astype(float)-(full if dt.kind=='u' else 0))/full
+    out.append(np.asarray(y,dtype='<f8').T.tobytes())
+sys.stdout.buffer.write(b''.join(out))`, dir, ...classes], { maxBuffer: 1 << 26 });
+    const all = new Float64Array(values.buffer.slice(values.byteOffset, values.byteOffset + values.byteLength));
+    for (const [i, cls] of classes.entries()) {
+      const want = [0, 1, 2].map((c) => all.subarray((i * 3 + c) * 5000, (i * 3 + c + 1) * 5000));
+      const layout = (channel_axis: 0 | 1) => ({ mat: { variables: ['x'], channel_axis, sample_rate_variable: 'fs', start_time_variable: null } });
+      await expectSame(join(dir, `${cls}-v7.mat`), want, layout(1));
+      await expectSame(join(dir, `${cls}-v6.mat`), want, layout(0));
+    }
   });
 
   it('streams an RF64 file past 4 GiB to its last sample (a sparse file)', async () => {

@@ -1,0 +1,302 @@
+// MAT-file reader (level 5, as MATLAB saves with -v6 and -v7, compressed or not; -v7.3 files are HDF5): the group declares
+// the variable(s) holding the samples, the channel axis, and the variables holding the sample rate and start time. Samples
+// are read as they are asked for, each channel from its own place in the file, so memory does not grow with the recording.
+// A compressed variable several channels read from (columns as channels, fields of one struct) is inflated once into a
+// temporary file first (mat-spool.ts), removed when the recording closes.
+import { open, type FileHandle } from 'node:fs/promises';
+import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
+import { spoolInflated, type Spool } from './mat-spool.js';
+import { className, CLASS_BITS, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { decodeInto, isNumericType, normaliserOf } from './mat-values.js';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
+
+/** How a group's MAT-files hold their recordings. */
+export interface MatLayout {
+  /** One variable holding every channel, or one vector per channel (in channel order); "name" or "struct.field". */
+  variables: string[];
+  /** For one two-dimensional variable: 0 when its rows are channels, 1 when its columns are (MATLAB's usual samples × channels). */
+  channel_axis: 0 | 1 | null;
+  /** Variable holding the sample rate in Hz (a number). */
+  sample_rate_variable: string | null;
+  /** Variable holding the start time: text in ISO 8601, or a number of POSIX seconds. */
+  start_time_variable: string | null;
+}
+
+/** One variable at the file's top level: where its element lies and what it holds. */
+interface TopElement { header: ArrayHeader | null; start: number; bytes: number; compressed: boolean }
+
+/** An array found by its path, with a cursor at the start of its first data element (the real part). */
+interface Found { header: ArrayHeader; cursor: ByteCursor; where: string }
+
+interface MatFile {
+  path: string; file: FileHandle; little: boolean; size: number; elements: TopElement[];
+  /** Compressed elements that several channels read from: inflated once, into `spools`, when next opened. */
+  shared: Set<TopElement>; spools: Map<TopElement, Spool>;
+}
+
+const summary = (h: ArrayHeader) => `${h.name} (${h.complex ? 'complex ' : ''}${h.logical ? 'logical' : className(h.cls)} ${h.dims.join(' × ')})`;
+const holds = (m: MatFile) => {
+  const named = m.elements.filter((e) => e.header?.name).map((e) => summary(e.header!));
+  return named.length ? `the file holds ${named.slice(0, 12).join(', ')}${named.length > 12 ? `, and ${named.length - 12} more` : ''}` : 'the file holds no named variables';
+};
+
+/** The element's bytes after its tag, inflated when compressed; for those, the inner array tag is read too. */
+async function cursorOf(m: MatFile, e: TopElement, where: string): Promise<ByteCursor> {
+  if (!e.compressed) return storedCursor(m.file, e.start + 8, e.bytes, where);
+  let c: ByteCursor;
+  if (m.shared.has(e)) {
+    const spool = m.spools.get(e) ?? m.spools.set(e, await spoolInflated(m.path, e.start + 8, e.bytes, where)).get(e)!;
+    c = storedCursor(spool.file, 0, spool.bytes, `${where} (inflated)`);
+  } else c = inflatedCursor(m.path, e.start + 8, e.bytes, where);
+  try {
+    const inner = await readTag(c, m.little, `${where}: its array tag`);
+    if (inner.type !== MI.MATRIX) throw new RecordingError(`${where}: the compressed element holds data of type ${inner.type}, not an array (miMATRIX); the file is damaged`);
+    return c;
+  } catch (e) { c.close(); throw e; }
+}
+
+// MAT-file level 5 header (MathWorks, "MAT-File Format"): 116 bytes of text, 8 of subsystem offset, version 0x0100, and
+// "IM" or "MI" as the file's byte order writes the characters "MI".
+async function readMatFile(path: string): Promise<MatFile> {
+  const file = await open(path, 'r');
+  try {
+    const size = (await file.stat()).size;
+    const head = Buffer.alloc(520);
+    const { bytesRead } = await file.read(head, 0, 520, 0);
+    const hdf5 = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
+    if (bytesRead >= 8 && head.subarray(0, 8).equals(hdf5)) throw new RecordingError('byte 0: an HDF5 file, not a level 5 MAT-file: declare format: hdf5 for its group, with an hdf5 section naming its datasets');
+    if (bytesRead >= 520 && head.subarray(512, 520).equals(hdf5)) {
+      throw new RecordingError('byte 512: this MAT-file is version 7.3, which is HDF5: declare format: hdf5 for its group, with hdf5.datasets naming the variables ("/data") and channel_axis the other way round from MATLAB (MATLAB\'s columns are HDF5\'s rows)');
+    }
+    if (bytesRead < 128) throw new RecordingError(`byte ${bytesRead}: the file ends inside the 128-byte MAT-file header; the file is cut short: copy it again`);
+    const order = head.toString('latin1', 126, 128);
+    if (order !== 'IM' && order !== 'MI') throw new RecordingError(`byte 126: no byte-order mark ("IM" or "MI"), so not a level 5 MAT-file${/^MATLAB/.test(head.toString('latin1', 0, 6)) ? '; the header is damaged' : ' (MAT version 4 files are not read: save it again with -v7)'}; check the group's format or the file`);
+    const little = order === 'IM';
+    const elements: TopElement[] = [];
+    const tag = Buffer.alloc(8);
+    for (let at = 128; at + 8 <= size;) {
+      await file.read(tag, 0, 8, at);
+      const type = little ? tag.readUInt32LE(0) : tag.readUInt32BE(0);
+      const bytes = little ? tag.readUInt32LE(4) : tag.readUInt32BE(4);
+      if (type !== MI.MATRIX && type !== MI.COMPRESSED) {
+        throw new RecordingError(`byte ${at}: a top-level element of type ${type}, where variables (miMATRIX, or miCOMPRESSED) are; the file is damaged: copy it again`);
+      }
+      if (at + 8 + bytes > size) throw new RecordingError(`byte ${at}: a variable's element of ${bytes} bytes runs past the end of the file (${size} bytes); the file is cut short: copy it again`);
+      elements.push({ header: null, start: at, bytes, compressed: type === MI.COMPRESSED });
+      at += 8 + bytes;
+    }
+    const m: MatFile = { path, file, little, size, elements, shared: new Set(), spools: new Map() };
+    for (const e of elements) {
+      if (e.bytes === 0) continue;
+      const c = await cursorOf(m, e, `the variable at byte ${e.start}`);
+      try { e.header = await readArrayHeader(c, little, `the variable at byte ${e.start}`); } finally { c.close(); }
+    }
+    return m;
+  } catch (e) {
+    await file.close();
+    throw e;
+  }
+}
+
+/** Finds "name" or "struct.field…" and leaves a cursor at its data; structs must hold one element (1 × 1). */
+async function find(m: MatFile, path: string, what: string, where: string): Promise<Found> {
+  const [top, ...fields] = path.split('.');
+  const e = m.elements.find((x) => x.header?.name === top);
+  if (!e) throw new RecordingError(`variable "${top}" (the ${what}) is not in the file; ${holds(m)}; correct ${where} or check the file`);
+  const place = `variable "${top}" (byte ${e.start}${e.compressed ? ', compressed' : ''})`;
+  const cursor = await cursorOf(m, e, place);
+  try {
+    let header = await readArrayHeader(cursor, m.little, place);
+    for (let i = 0; i < fields.length; i++) {
+      const inside = [top, ...fields.slice(0, i)].join('.');
+      if (header.cls !== MX.STRUCT) throw new RecordingError(`"${inside}" is a ${className(header.cls)} array, not a struct, so it has no field "${fields[i]}"; correct ${where}`);
+      if (header.count !== 1) throw new RecordingError(`"${inside}" is a ${header.dims.join(' × ')} struct array; quern reads fields of a 1 × 1 struct; correct ${where}`);
+      const names = await readFieldNames(cursor, m.little, place);
+      const k = names.indexOf(fields[i]);
+      if (k < 0) throw new RecordingError(`struct "${inside}" has no field "${fields[i]}" (its fields: ${names.slice(0, 20).join(', ')}); correct ${where}`);
+      for (let j = 0; j < k; j++) {
+        const t = await readTag(cursor, m.little, `${place}: field "${names[j]}"`);
+        await cursor.skip(t.bytes, `${place}: field "${names[j]}"`);
+      }
+      const t = await readTag(cursor, m.little, `${place}: field "${fields[i]}"`);
+      if (t.type !== MI.MATRIX) throw new RecordingError(`${place}: field "${fields[i]}" is not an array element (type ${t.type}); the file is damaged`);
+      if (t.bytes === 0) throw new RecordingError(`"${inside}.${fields[i]}" (the ${what}) is empty; check the file or ${where}`);
+      header = { ...(await readArrayHeader(cursor, m.little, `${place}: field "${fields[i]}"`)), name: `${inside}.${fields[i]}` };
+    }
+    return { header, cursor, where: `variable "${path}" (byte ${e.start}${e.compressed ? ', compressed' : ''})` };
+  } catch (err) { cursor.close(); throw err; }
+}
+
+/** The real part's data element must hold as many numbers as the dimensions say. */
+function checkCount(f: Found, t: { type: number; bytes: number }): void {
+  const size = TYPE_BYTES[t.type];
+  if (!isNumericType(t.type)) throw new RecordingError(`${f.where}: its values are stored as data type ${t.type}, not numbers; the file is damaged`);
+  if (t.bytes !== f.header.count * size) throw new RecordingError(`${f.where}: ${f.header.dims.join(' × ')} values need ${f.header.count * size} bytes of ${size}-byte numbers, but its data element has ${t.bytes}; the file is damaged`);
+}
+
+/** The value of a variable holding one number (any numeric class) or one line of text (char). */
+async function valueOf(m: MatFile, path: string, what: string, where: string): Promise<number | string> {
+  const f = await find(m, path, what, where);
+  try {
+    const t = await readTag(f.cursor, m.little, `${f.where}: its value`);
+    if (f.header.cls === MX.CHAR) {
+      if (f.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${f.where} is a ${f.header.dims.join(' × ')} char array; the ${what} is one line of text or one number`);
+      return textOf(await readData(f.cursor, t, 1024, `${f.where}: its text`), t.type, m.little).trim();
+    }
+    numericOrRefuse(f, what);
+    if (f.header.count !== 1) throw new RecordingError(`${f.where} holds ${f.header.dims.join(' × ')} values; the ${what} is one number; correct ${where}`);
+    checkCount(f, t);
+    const out = new Float64Array(1);
+    decodeInto(new Uint8Array(await readData(f.cursor, t, 8, `${f.where}: its value`)), t.type, m.little, 1, out, 0, 1, { scale: 1, shift: 0 });
+    return out[0];
+  } finally { f.cursor.close(); }
+}
+
+function numericOrRefuse(f: Found, what: string): void {
+  const h = f.header;
+  if (!(h.cls in CLASS_BITS || h.cls === MX.DOUBLE || h.cls === MX.SINGLE)) throw new RecordingError(`${f.where} is a ${className(h.cls)} array; the ${what} must be numbers (double, single or an integer class)`);
+  if (h.complex) throw new RecordingError(`${f.where} holds complex values; save the real part (real(x)) as the ${what}`);
+  if (h.logical) throw new RecordingError(`${f.where} holds logical values, not the ${what}`);
+}
+
+const shown = (v: number | string) => (typeof v === 'string' ? JSON.stringify(v.slice(0, 60)) : String(v));
+
+async function sampleRateOf(m: MatFile, path: string, where: string): Promise<number> {
+  const v = await valueOf(m, path, 'sample rate', where);
+  const rate = typeof v === 'string' ? Number(v) : v;
+  if (!(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`variable "${path}" (the sample rate) holds ${shown(v)}, not a positive number of Hz; check the file or ${where}`);
+  return rate;
+}
+
+/** An ISO 8601 date-time as text holds it (Date.parse alone would take "night 3" for a date). */
+const ISO_8601 = /^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?([zZ]|[+-]\d{2}:?\d{2})?$/;
+
+async function startTimeOf(m: MatFile, path: string, where: string): Promise<Date> {
+  const v = await valueOf(m, path, 'start time', where);
+  const t = typeof v === 'string' ? (ISO_8601.test(v) ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v) ? v : `${v}Z`) : NaN) : v * 1000;
+  if (!Number.isFinite(t)) throw new RecordingError(`variable "${path}" (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
+  return new Date(t);
+}
+
+/** Where one channel's values are read from: a cursor at its first value, and how many values apart its frames are. */
+interface ChannelSource { cursor: ByteCursor; type: number; inline: Uint8Array | null; /** Channels interleaved in this source (1 for a column or a vector). */ width: number }
+
+/** Opens `path` again and skips to value `first` of its data, for a column of a samples × channels variable. */
+async function sourceAt(m: MatFile, path: string, what: string, where: string, first: number): Promise<ChannelSource & { header: ArrayHeader; where: string }> {
+  const f = await find(m, path, what, where);
+  try {
+    numericOrRefuse(f, what);
+    const t = await readTag(f.cursor, m.little, `${f.where}: its values`);
+    checkCount(f, t);
+    const skip = first * TYPE_BYTES[t.type];
+    if (skip > 0 && !t.inline) await f.cursor.skip(skip, `${f.where}: its column`);
+    return { cursor: f.cursor, type: t.type, inline: t.inline?.subarray(skip) ?? null, width: 1, header: f.header, where: f.where };
+  } catch (e) { f.cursor.close(); throw e; }
+}
+
+/** Dimensions without trailing singletons beyond two: a × b × 1 is a × b. */
+function matrixShape(h: ArrayHeader, where: string): [number, number] {
+  const dims = [...h.dims];
+  while (dims.length > 2 && dims[dims.length - 1] === 1) dims.pop();
+  if (dims.length !== 2) throw new RecordingError(`${where} has ${dims.length} dimensions (${h.dims.join(' × ')}); quern reads one axis of samples and at most one of channels`);
+  return [dims[0], dims[1]];
+}
+
+/** The spools' files and folders removed, the file closed; what fails in that is of no more use to report. */
+async function closeAll(m: MatFile, sources: ChannelSource[]): Promise<void> {
+  for (const s of sources.splice(0)) s.cursor.close();
+  for (const spool of m.spools.values()) await spool.remove();
+  m.spools.clear();
+  await m.file.close().catch(() => {});
+}
+
+/** Where each source starts: a variable and the index of its first value, and how many channels it interleaves. */
+interface SourcePlan { variable: string; first: number; width: number }
+
+export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+  const m = await readMatFile(path);
+  const sources: ChannelSource[] = [];
+  try {
+    const where = declareHow.where;
+    if (!layout || layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${holds(m)}`);
+    const topOf = (variable: string) => m.elements.find((e) => e.header?.name === variable.split('.')[0]);
+    // Several variables in one compressed element (fields of one struct) are inflated once, before any is looked at.
+    const uses = new Map<TopElement, number>();
+    for (const v of layout.variables) { const e = topOf(v); if (e) uses.set(e, (uses.get(e) ?? 0) + 1); }
+    for (const [e, n] of uses) if (n > 1 && e.compressed) m.shared.add(e);
+    const look = async (variable: string) => { const s = await sourceAt(m, variable, 'samples', where['mat.variables'], 0); s.cursor.close(); return s; };
+    const first = await look(layout.variables[0]);
+    const cls = first.header.cls;
+    let channels: number, frames: number;
+    let plan: SourcePlan[];
+    if (layout.variables.length === 1) {
+      const [rows, columns] = matrixShape(first.header, first.where);
+      if (rows === 1 || columns === 1) { channels = 1; frames = rows * columns; plan = [{ variable: layout.variables[0], first: 0, width: 1 }]; }
+      else if (layout.channel_axis == null) throw new RecordingError(`${first.where} has two axes (${rows} × ${columns}); set ${where['mat.channel_axis']} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
+      // Rows as channels: MATLAB stores arrays column by column, so each frame's channels lie side by side.
+      else if (layout.channel_axis === 0) { channels = rows; frames = columns; plan = [{ variable: layout.variables[0], first: 0, width: rows }]; }
+      else {
+        // Columns as channels: each channel's samples lie together, so each channel reads from its own place.
+        channels = columns; frames = rows;
+        checkChannelCount(channels, first.where);
+        plan = Array.from({ length: channels }, (_, c) => ({ variable: layout.variables[0], first: c * rows, width: 1 }));
+        const e = topOf(layout.variables[0])!;
+        if (e.compressed) m.shared.add(e);
+      }
+    } else {
+      channels = layout.variables.length;
+      checkChannelCount(channels, where['mat.variables']);
+      frames = first.header.count;
+      plan = layout.variables.map((variable) => ({ variable, first: 0, width: 1 }));
+      for (const v of layout.variables) {
+        const s = v === layout.variables[0] ? first : await look(v);
+        if (s.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
+        if (s.header.count !== frames) throw new RecordingError(`${s.where} holds ${s.header.count} samples but ${first.where} holds ${frames}; the channels of one recording must be equally long`);
+        if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
+      }
+    }
+    checkChannelCount(channels, first.where);
+    if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
+    const fromVariable = layout.sample_rate_variable ? await sampleRateOf(m, layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
+    const sampleRate = fromVariable ?? declaredSampleRate;
+    if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate} or ${where['mat.sample_rate_variable']}`);
+    const startTime = layout.start_time_variable ? await startTimeOf(m, layout.start_time_variable, where['mat.start_time_variable']) : null;
+    const norm = normaliserOf(cls);
+    const integer = cls in CLASS_BITS;
+    // The channels of one recording share one class; the stored type may differ between variables, and is at most 8 bytes.
+    const interleaved = plan[0].width > 1;
+    const chunk = boundedChunkFrames(chunkFrames, channels, 8 * channels + (interleaved ? 8 * channels : 0));
+
+    async function* chunks(): AsyncGenerator<Float64Array[]> {
+      for (const p of plan) sources.push({ ...(await sourceAt(m, p.variable, 'samples', where['mat.variables'], p.first)), width: p.width });
+      const out = Array.from({ length: channels }, () => new Float64Array(chunk));
+      // Scratch at offset 0 of its own buffer, so that stored values can be viewed as typed arrays in place.
+      const scratch = new Uint8Array(new ArrayBuffer(chunk * Math.max(...sources.map((s) => TYPE_BYTES[s.type] * s.width))));
+      const block = interleaved ? new Float64Array(chunk * channels) : null;
+      for (let start = 0; start < frames; start += chunk) {
+        const n = Math.min(chunk, frames - start);
+        for (let s = 0; s < sources.length; s++) {
+          const src = sources[s], size = TYPE_BYTES[src.type] * src.width;
+          const bytes = src.inline ? src.inline.subarray(start * size, (start + n) * size) : await src.cursor.take(n * size, `samples ${start} to ${start + n}`, scratch);
+          const aligned = bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes);
+          if (!block) { decodeInto(aligned, src.type, m.little, n, out[s], 0, 1, norm); continue; }
+          decodeInto(aligned, src.type, m.little, n * channels, block, 0, 1, norm);
+          for (let c = 0; c < channels; c++) {
+            const into = out[c];
+            for (let i = 0, at = c; i < n; i++, at += channels) into[i] = block[at];
+          }
+        }
+        yield n === chunk ? out : out.map((a) => a.subarray(0, n));
+      }
+    }
+    return {
+      format: 'mat', channelCount: channels, sampleRate, frames,
+      encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
+      startTime, channelNames: null, notes: [], chunks, close: () => closeAll(m, sources),
+    };
+  } catch (e) {
+    await closeAll(m, sources);
+    throw e;
+  }
+}

@@ -1,0 +1,106 @@
+// The MAT-file reader against files written by scipy.io.savemat 1.10.1 and one written byte by byte from MathWorks' "MAT-File
+// Format" description, each read back by scipy.io.loadmat (test/fixtures/make-mat-fixtures.py).
+import { describe, expect, it } from 'vitest';
+import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { deflateSync } from 'node:zlib';
+import { join } from 'node:path';
+import type { MatLayout } from '../stages/read/mat.js';
+import { openRecording } from '../stages/read/open.js';
+import { fixture, readAll, readJson, tempDir } from './helpers.js';
+
+interface MatFixture { file: string; case: string | null; mat: MatLayout; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string }
+const fixtures: MatFixture[] = readJson(fixture('mat', 'expected.json')).files;
+const layout = (l: Partial<MatLayout>): MatLayout => ({ variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null, ...l });
+
+/** scipy's samples, per channel. */
+function expected(f: MatFixture): Float64Array[] {
+  const b = readFileSync(fixture('mat', `${f.file}${f.case ? `.${f.case}` : ''}.f64`));
+  const all = new Float64Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+  return Array.from({ length: f.channels }, (_, c) => Float64Array.from({ length: f.frames }, (_, i) => all[i * f.channels + c]));
+}
+
+describe('MAT-file reader against scipy.io', () => {
+  for (const f of fixtures) {
+    it(`reads ${f.file}${f.case ? ` (${f.case})` : ''}: ${f.made_by}`, async () => {
+      for (const chunkFrames of [97, 65536, 1]) {
+        if (chunkFrames === 1 && f.frames * f.channels > 4000) continue;
+        const { rec, channels } = await readAll(fixture('mat', f.file), { mat: f.mat, chunkFrames });
+        expect([rec.format, rec.sampleRate, rec.frames, rec.channelCount, rec.encoding, rec.bits, rec.normalised]).toEqual(['mat', f.rate, f.frames, f.channels, f.encoding, f.bits, f.bits != null]);
+        expect(rec.startTime?.toISOString() ?? null).toBe(f.start_time);
+        const want = expected(f);
+        for (let c = 0; c < f.channels; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
+      }
+    });
+  }
+
+  it('takes a declared sample rate when no variable holds it', async () => {
+    const { rec } = await readAll(fixture('mat', 'rig-columns.mat'), { mat: layout({ variables: ['data'], channel_axis: 1 }), sampleRate: 51200 });
+    expect([rec.sampleRate, rec.startTime]).toEqual([51200, null]);
+  });
+
+  it('names the variable, what the file holds and where to declare it in its errors', async () => {
+    const read = (file: string, l: Partial<MatLayout> | null, rate: number | null = 100) => readAll(fixture('mat', file), { mat: l && layout(l), sampleRate: rate });
+    await expect(read('rig-columns.mat', null)).rejects.toThrow(/a MAT-file needs to be told which variables hold the samples; declare mat: .* in its archive.yaml group; the file holds data \(int16 3000 × 4\), fs \(double 1 × 1\), t0 \(char 1 × 20\), note \(char 1 × 19\)/);
+    await expect(read('rig-columns.mat', { variables: ['signals'] })).rejects.toThrow(/variable "signals" \(the samples\) is not in the file; the file holds data/);
+    await expect(read('rig-columns.mat', { variables: ['data'] })).rejects.toThrow(/variable "data" \(byte 128, compressed\) has two axes \(3000 × 4\); set mat.channel_axis in archive.yaml to 1 if its columns are channels/);
+    await expect(read('rig-columns.mat', { variables: ['t0'] })).rejects.toThrow(/variable "t0" \(byte \d+, compressed\) is a char array; the samples must be numbers/);
+    await expect(read('rig-columns.mat', { variables: ['data'], channel_axis: 1, sample_rate_variable: 'note' })).rejects.toThrow(/variable "note" \(the sample rate\) holds "test rig B, night 3", not a positive number of Hz/);
+    await expect(read('rig-columns.mat', { variables: ['data'], channel_axis: 1, start_time_variable: 'note' })).rejects.toThrow(/variable "note" \(the start time\) holds "test rig B, night 3", neither an ISO 8601 date-time nor POSIX seconds/);
+    await expect(read('per-channel.mat', { variables: ['rec.acc_z'] })).rejects.toThrow(/struct "rec" has no field "acc_z" \(its fields: title, fs, acc_x, acc_y\)/);
+    await expect(read('per-channel.mat', { variables: ['rec.fs.x'] })).rejects.toThrow(/"rec.fs" is a int64 array, not a struct/);
+    await expect(read('rig-rows.mat', { variables: ['signals', 'u'] })).rejects.toThrow(/variable "signals" \(byte 128\) is 3 × 2500; with one variable per channel each must be a vector/);
+    await expect(read('rig-rows.mat', { variables: ['u'] }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml or mat.sample_rate_variable in archive.yaml/);
+    await expect(readAll(fixture('formats', 'acq-rows.h5'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 0: an HDF5 file, not a level 5 MAT-file/);
+    // Version 7.3 keeps a 512-byte MAT header before HDF5's superblock (HDF5's user block), as h5jam would put it there.
+    const v73 = join(tempDir(), 'v73.mat');
+    writeFileSync(v73, Buffer.concat([Buffer.from('MATLAB 7.3 MAT-file'.padEnd(512, ' ')), readFileSync(fixture('formats', 'acq-rows.h5'))]));
+    await expect(readAll(v73, { mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 512: this MAT-file is version 7.3, which is HDF5: declare format: hdf5/);
+    await expect(readAll(fixture('formats', 'pcm12in16.wav'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 126: no byte-order mark/);
+  });
+
+  it('fails with a reason on files cut short or damaged, never a crash', async () => {
+    const dir = tempDir();
+    const whole = readFileSync(fixture('mat', 'rig-columns.mat'));
+    const mat = layout({ variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs' });
+    for (const keep of [100, 200, 1000, 20000, whole.length - 1]) {
+      const path = join(dir, `cut-${keep}.mat`);
+      writeFileSync(path, whole.subarray(0, keep));
+      await expect(readAll(path, { mat })).rejects.toThrow(/cut short|runs past the end|ends inside/);
+    }
+    // A compressed element whose stream is damaged in the middle: zlib's own check finds it.
+    const flipped = Buffer.from(whole);
+    flipped[5000] ^= 0xff;
+    writeFileSync(join(dir, 'flipped.mat'), flipped);
+    await expect(readAll(join(dir, 'flipped.mat'), { mat })).rejects.toThrow(/cannot be inflated|damaged/);
+  });
+
+  it('reads a compressed variable of many columns through one temporary inflated copy, removed when the recording closes', async () => {
+    // 300 channels × 2 samples of int8, compressed: a hand-made element as in the format's description.
+    const el = (type: number, data: Buffer) => { const t = Buffer.alloc(8); t.writeUInt32LE(type, 0); t.writeUInt32LE(data.length, 4); return Buffer.concat([t, data, Buffer.alloc((8 - (data.length % 8)) % 8)]); };
+    const i32 = (...v: number[]) => { const b = Buffer.alloc(4 * v.length); v.forEach((x, i) => b.writeInt32LE(x, 4 * i)); return b; };
+    const values = Buffer.from(Int8Array.from({ length: 600 }, (_, i) => (i % 251) - 125).buffer);
+    const body = Buffer.concat([el(6, Buffer.from([8, 0, 0, 0, 0, 0, 0, 0])), el(5, i32(2, 300)), el(1, Buffer.from('wide')), el(1, values)]);
+    const header = Buffer.concat([Buffer.from('MATLAB 5.0 MAT-file'.padEnd(116, ' ')), Buffer.alloc(8), Buffer.from([0, 1]), Buffer.from('IM')]);
+    const path = join(tempDir(), 'wide.mat');
+    writeFileSync(path, Buffer.concat([header, el(15, deflateSync(el(14, body)))]));
+    const code = (i: number) => ((i % 251) - 125) / 128;
+    const tmp = tempDir(), before = process.env.TMPDIR;
+    process.env.TMPDIR = tmp;
+    try {
+      const columns = await readAll(path, { mat: layout({ variables: ['wide'], channel_axis: 1 }), sampleRate: 100 });
+      // MATLAB's column order: column c holds values 2c and 2c + 1.
+      expect([columns.rec.channelCount, columns.rec.frames, columns.channels[7], columns.channels[299]]).toEqual([300, 2, [code(14), code(15)], [code(598), code(599)]]);
+      expect(readdirSync(tmp)).toEqual([]);
+      const rows = await readAll(path, { mat: layout({ variables: ['wide'], channel_axis: 0 }), sampleRate: 100 });
+      expect([rows.rec.channelCount, rows.rec.frames, rows.channels[1].slice(0, 3)]).toEqual([2, 300, [code(1), code(3), code(5)]]);
+      // A recording given up before its samples are read leaves nothing behind either.
+      const opened = await openRecording(path, { mat: layout({ variables: ['wide'], channel_axis: 1 }), sampleRate: 100 });
+      await opened.chunks().next();
+      expect(readdirSync(tmp)).toHaveLength(1);
+      await opened.close();
+      expect(readdirSync(tmp)).toEqual([]);
+    } finally {
+      if (before == null) delete process.env.TMPDIR; else process.env.TMPDIR = before;
+    }
+  });
+});
