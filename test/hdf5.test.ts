@@ -36,6 +36,19 @@ describe('HDF5 reader against h5py', () => {
     await expectFixture('per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b', '/ch/c'] }), 1000);
   });
 
+  it('reads N × 1 and 1 × N datasets as one channel each, alone or one per channel (written by hdf5storage, make-mat-fixtures.py)', async () => {
+    const path = fixture('mat', 'per-channel-73.mat');
+    const want = readFileSync(`${path}.f64`);
+    const all = new Float64Array(want.buffer.slice(want.byteOffset, want.byteOffset + want.byteLength));
+    const column = (c: number) => Array.from({ length: 1500 }, (_, i) => all[2 * i + c]);
+    for (const [c, dataset] of [[0, '/rec/acc_x'], [1, '/rec/acc_y']] as const) {
+      const { rec, channels } = await readAll(path, { format: 'hdf5', hdf5: layout({ datasets: [dataset] }), sampleRate: 500 });
+      expect([rec.channelCount, rec.frames, channels[0]]).toEqual([1, 1500, column(c)]);
+    }
+    const both = await readAll(path, { format: 'hdf5', hdf5: layout({ datasets: ['/rec/acc_x', '/rec/acc_y'] }), sampleRate: 500 });
+    expect([both.rec.channelCount, both.rec.frames, both.channels]).toEqual([2, 1500, [column(0), column(1)]]);
+  });
+
   it('names the dataset and the attribute in its errors', async () => {
     const read = (file: string, l: Partial<Hdf5Layout>, rate: number | null = 100) => readAll(fixture('formats', file), { format: 'hdf5', hdf5: layout(l), sampleRate: rate });
     await expect(read('acq-rows.h5', { datasets: ['/acq/missing'] })).rejects.toThrow(/dataset "\/acq\/missing" is not in the file/);

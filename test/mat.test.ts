@@ -51,10 +51,14 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(read('rig-rows.mat', { variables: ['signals', 'u'] })).rejects.toThrow(/variable "signals" \(byte 128\) is 3 × 2500; with one variable per channel each must be a vector/);
     await expect(read('rig-rows.mat', { variables: ['u'] }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml or mat.sample_rate_variable in archive.yaml/);
     await expect(readAll(fixture('formats', 'acq-rows.h5'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 0: an HDF5 file, not a level 5 MAT-file/);
-    // Version 7.3 keeps a 512-byte MAT header before HDF5's superblock (HDF5's user block), as h5jam would put it there.
-    const v73 = join(tempDir(), 'v73.mat');
-    writeFileSync(v73, Buffer.concat([Buffer.from('MATLAB 7.3 MAT-file'.padEnd(512, ' ')), readFileSync(fixture('formats', 'acq-rows.h5'))]));
-    await expect(readAll(v73, { mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 512: this MAT-file is version 7.3, which is HDF5: declare format: hdf5/);
+    // Version 7.3: the same messages, in MATLAB's terms.
+    const v73 = (l: Partial<MatLayout> | null, rate: number | null = 100) => readAll(fixture('mat', 'rig-columns-73.mat'), { mat: l && layout(l), sampleRate: rate });
+    await expect(v73(null)).rejects.toThrow(/^version 7.3 MAT-file \(HDF5\): a MAT-file needs to be told which variables hold the samples; declare mat: .*; the file holds data \(int16 2000 × 3\), fs \(double 1 × 1\), t0 \(char 1 × 25\)$/);
+    await expect(v73({ variables: ['signals'] })).rejects.toThrow(/variable "signals" \(the samples\) is not in the file; the file holds data/);
+    await expect(v73({ variables: ['data'] })).rejects.toThrow(/variable "data" has two axes \(2000 × 3\); set mat.channel_axis in archive.yaml to 1 if its columns are channels/);
+    await expect(v73({ variables: ['t0'] })).rejects.toThrow(/variable "t0" is a char array; the samples must be numbers/);
+    await expect(v73({ variables: ['data'], channel_axis: 1 }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml or mat.sample_rate_variable in archive.yaml/);
+    await expect(readAll(fixture('mat', 'per-channel-73.mat'), { mat: layout({ variables: ['rec'] }), sampleRate: 1 })).rejects.toThrow(/variable "rec" is a struct, not an array; name one of its fields \("rec.field"\)/);
     await expect(readAll(fixture('formats', 'pcm12in16.wav'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 126: no byte-order mark/);
   });
 

@@ -42,7 +42,7 @@ async function hasSignature(path: string): Promise<boolean> {
 }
 
 /** The root cause from HDF5's error stack: its deepest entry's message ("truncated file: eof = …"), without source paths. */
-function firstLine(e: unknown): string {
+export function firstLine(e: unknown): string {
   const text = String((e as Error)?.message ?? e);
   const causes = [...text.matchAll(/#\d+: .*? in (\w+)\(\): (.*)$/gm)].map((m) => m[2].trim());
   return (causes.at(-1) ?? text.split('\n').map((l) => l.trim()).find(Boolean) ?? 'unknown error').slice(0, 300);
@@ -109,6 +109,11 @@ function normaliser(s: Source): (v: number | bigint) => number {
   return s.signed ? (v) => Number(v) / full : (v) => (Number(v) - full) / full;
 }
 
+/** A dataset that is one run of samples: one-dimensional, or two-dimensional with one side 1 (N × 1, 1 × N). */
+const isVector = (shape: number[]) => shape.length === 1 || (shape.length === 2 && (shape[0] === 1 || shape[1] === 1));
+/** The hyperslab of samples [start, end) of such a dataset. */
+const vectorRanges = (shape: number[], rows: [number, number]) => (shape.length === 1 ? [rows] : shape[0] === 1 ? [[] as [], rows] : [rows, [] as []]);
+
 /** A file opened on an instance: its datasets found and checked against the layout. */
 interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null }
 
@@ -130,6 +135,8 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     let channels: number, frames: number, axis: 0 | 1;
     if (sources.length === 1) {
       if (first.shape.length === 1) { channels = 1; frames = first.shape[0]; axis = 1; }
+      // N × 1 or 1 × N with no axis declared: one channel, whichever way it lies.
+      else if (first.shape.length === 2 && layout.channel_axis == null && isVector(first.shape)) { axis = first.shape[0] === 1 ? 0 : 1; channels = 1; frames = first.shape[1 - axis]; }
       else if (first.shape.length === 2) {
         if (layout.channel_axis == null) throw new RecordingError(`dataset "${first.path}" has two axes (${first.shape.join(' × ')}); set ${where['hdf5.channel_axis']} to 0 if its rows are channels, 1 if its columns are`);
         axis = layout.channel_axis;
@@ -138,11 +145,12 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       } else throw new RecordingError(`dataset "${first.path}" has ${first.shape.length} axes (${first.shape.join(' × ')}); quern reads one axis of samples and at most one of channels`);
     } else {
       for (const s of sources) {
-        if (s.shape.length !== 1) throw new RecordingError(`dataset "${s.path}" has ${s.shape.length} axes (${s.shape.join(' × ')}); with one dataset per channel each must be one-dimensional`);
-        if (s.shape[0] !== first.shape[0]) throw new RecordingError(`dataset "${s.path}" holds ${s.shape[0]} samples but "${first.path}" holds ${first.shape[0]}; the channels of one recording must be equally long`);
+        if (!isVector(s.shape)) throw new RecordingError(`dataset "${s.path}" has ${s.shape.length} axes (${s.shape.join(' × ')}); with one dataset per channel each must be one-dimensional (or N × 1)`);
+        const length = s.shape.reduce((a, b) => a * b, 1), firstLength = first.shape.reduce((a, b) => a * b, 1);
+        if (length !== firstLength) throw new RecordingError(`dataset "${s.path}" holds ${length} samples but "${first.path}" holds ${firstLength}; the channels of one recording must be equally long`);
         if (s.type !== first.type || s.size !== first.size || s.signed !== first.signed) throw new RecordingError(`dataset "${s.path}" stores its values differently from "${first.path}"; the channels of one recording must share one type`);
       }
-      channels = sources.length; frames = first.shape[0]; axis = 1;
+      channels = sources.length; frames = first.shape.reduce((a, b) => a * b, 1); axis = 1;
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
     const fromAttribute = layout.sample_rate_attribute ? sampleRateOf(file, first.path, layout.sample_rate_attribute, where['hdf5.sample_rate_attribute']) : null;
@@ -163,7 +171,7 @@ const stoppedTwice = (doing: string, e: unknown) => `the HDF5 library stopped wh
  * Runs `read` on the thread's instance; after a stop, sets that instance aside and runs `read` once more on a fresh one.
  * Only a second stop is the file's: it fails with a reason that says what the library was doing.
  */
-async function onceMore<T>(read: (h5: H5) => T, doing: string): Promise<T> {
+export async function onceMore<T>(read: (h5: H5) => T, doing: string): Promise<T> {
   for (let attempt = 1; ; attempt++) {
     const h5 = await h5wasm();
     try { return read(h5); } catch (e) {
@@ -202,7 +210,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
           const rows: [number, number] = [start, start + n];
           for (let s = 0; s < norm.length; s++) {
             const shape = o.sources[s].shape;
-            const ranges = shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
+            const ranges = norm.length > 1 ? vectorRanges(shape, rows) : shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
             const block = await slice(s, ranges, start, start + n);
             const f = norm[s];
             if (norm.length > 1) { for (let i = 0; i < n; i++) out[s][i] = f(block[i]); continue; }

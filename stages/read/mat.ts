@@ -1,4 +1,4 @@
-// MAT-file reader (level 5, as MATLAB saves with -v6 and -v7, compressed or not; -v7.3 files are HDF5): the group declares
+// MAT-file reader (level 5, as MATLAB saves with -v6 and -v7, compressed or not; -v7.3 files are HDF5, mat73.ts): the group declares
 // the variable(s) holding the samples, the channel axis, and the variables holding the sample rate and start time. Samples
 // are read as they are asked for, each channel from its own place in the file, so memory does not grow with the recording.
 // A compressed variable several channels read from (columns as channels, fields of one struct) is inflated once into a
@@ -6,8 +6,9 @@
 import { open, type FileHandle } from 'node:fs/promises';
 import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
+import { isMat73, openMat73 } from './mat73.js';
 import { className, CLASS_BITS, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
-import { decodeInto, isNumericType, normaliserOf } from './mat-values.js';
+import { decodeInto, isNumericType, normaliserOf, sampleRateFrom, startTimeFrom } from './mat-values.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 
@@ -62,13 +63,10 @@ async function readMatFile(path: string): Promise<MatFile> {
   const file = await open(path, 'r');
   try {
     const size = (await file.stat()).size;
-    const head = Buffer.alloc(520);
-    const { bytesRead } = await file.read(head, 0, 520, 0);
+    const head = Buffer.alloc(128);
+    const { bytesRead } = await file.read(head, 0, 128, 0);
     const hdf5 = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
     if (bytesRead >= 8 && head.subarray(0, 8).equals(hdf5)) throw new RecordingError('byte 0: an HDF5 file, not a level 5 MAT-file: declare format: hdf5 for its group, with an hdf5 section naming its datasets');
-    if (bytesRead >= 520 && head.subarray(512, 520).equals(hdf5)) {
-      throw new RecordingError('byte 512: this MAT-file is version 7.3, which is HDF5: declare format: hdf5 for its group, with hdf5.datasets naming the variables ("/data") and channel_axis the other way round from MATLAB (MATLAB\'s columns are HDF5\'s rows)');
-    }
     if (bytesRead < 128) throw new RecordingError(`byte ${bytesRead}: the file ends inside the 128-byte MAT-file header; the file is cut short: copy it again`);
     const order = head.toString('latin1', 126, 128);
     if (order !== 'IM' && order !== 'MI') throw new RecordingError(`byte 126: no byte-order mark ("IM" or "MI"), so not a level 5 MAT-file${/^MATLAB/.test(head.toString('latin1', 0, 6)) ? '; the header is damaged' : ' (MAT version 4 files are not read: save it again with -v7)'}; check the group's format or the file`);
@@ -160,24 +158,8 @@ function numericOrRefuse(f: Found, what: string): void {
   if (h.logical) throw new RecordingError(`${f.where} holds logical values, not the ${what}`);
 }
 
-const shown = (v: number | string) => (typeof v === 'string' ? JSON.stringify(v.slice(0, 60)) : String(v));
-
-async function sampleRateOf(m: MatFile, path: string, where: string): Promise<number> {
-  const v = await valueOf(m, path, 'sample rate', where);
-  const rate = typeof v === 'string' ? Number(v) : v;
-  if (!(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`variable "${path}" (the sample rate) holds ${shown(v)}, not a positive number of Hz; check the file or ${where}`);
-  return rate;
-}
-
-/** An ISO 8601 date-time as text holds it (Date.parse alone would take "night 3" for a date). */
-const ISO_8601 = /^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?([zZ]|[+-]\d{2}:?\d{2})?$/;
-
-async function startTimeOf(m: MatFile, path: string, where: string): Promise<Date> {
-  const v = await valueOf(m, path, 'start time', where);
-  const t = typeof v === 'string' ? (ISO_8601.test(v) ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v) ? v : `${v}Z`) : NaN) : v * 1000;
-  if (!Number.isFinite(t)) throw new RecordingError(`variable "${path}" (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
-  return new Date(t);
-}
+const sampleRateOf = async (m: MatFile, path: string, where: string) => sampleRateFrom(await valueOf(m, path, 'sample rate', where), path, where);
+const startTimeOf = async (m: MatFile, path: string, where: string) => startTimeFrom(await valueOf(m, path, 'start time', where), path, where);
 
 /** Where one channel's values are read from: a cursor at its first value, and how many values apart its frames are. */
 interface ChannelSource { cursor: ByteCursor; type: number; inline: Uint8Array | null; /** Channels interleaved in this source (1 for a column or a vector). */ width: number }
@@ -215,6 +197,7 @@ async function closeAll(m: MatFile, sources: ChannelSource[]): Promise<void> {
 interface SourcePlan { variable: string; first: number; width: number }
 
 export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+  if (await isMat73(path)) return openMat73(path, layout ?? { variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null }, declaredSampleRate, { chunkFrames, declareHow });
   const m = await readMatFile(path);
   const sources: ChannelSource[] = [];
   try {

@@ -70,20 +70,21 @@ with h5py.File(sys.argv[1],'r') as f: sys.stdout.buffer.write(np.asarray(f['run/
     await expectSame(path, int32Channels(values, 3), { hdf5: { datasets: ['/run/data'], channel_axis: 1, sample_rate_attribute: 'rate', start_time_attribute: null } });
   });
 
-  it('MAT-files written by scipy.io.savemat (compressed and not, every integer class and both float classes) equal what scipy.io.loadmat reads', async () => {
-    const python = requirePython('scipy', 'numpy');
+  it('MAT-files written by scipy.io.savemat (compressed and not) and hdf5storage (version 7.3), every integer class and both float classes, equal what they read back', async () => {
+    const python = requirePython('scipy', 'numpy', 'hdf5storage');
     const dir = tempDir();
     // Each class as samples × channels (compressed) and as channels × samples (uncompressed); loadmat's values normalised as quern does.
     const classes = ['int8', 'uint8', 'int16', 'uint16', 'int32', 'uint32', 'single', 'double'];
-    const values = execFileSync(python, ['-c', `import sys,numpy as np,scipy.io as sio
+    const values = execFileSync(python, ['-c', `import sys,numpy as np,scipy.io as sio,hdf5storage
 rng=np.random.default_rng(11); out=[]
 for i,cls in enumerate(sys.argv[2:]):
     dt={'single':np.float32,'double':np.float64}.get(cls,cls); dt=np.dtype(dt)
     x=rng.uniform(-1,1,(5000,3)).astype(dt) if dt.kind=='f' else rng.integers(np.iinfo(dt).min,np.iinfo(dt).max,(5000,3),endpoint=True).astype(dt)
     sio.savemat(f'{sys.argv[1]}/{cls}-v7.mat',{'x':x,'fs':48000.0},do_compression=True)
     sio.savemat(f'{sys.argv[1]}/{cls}-v6.mat',{'x':x.T.copy(),'fs':np.int16(4800)},do_compression=False)
+    hdf5storage.savemat(f'{sys.argv[1]}/{cls}-v73.mat',{'x':x,'fs':48000.0},format='7.3',matlab_compatible=True)
     y=sio.loadmat(f'{sys.argv[1]}/{cls}-v7.mat')['x']; z=sio.loadmat(f'{sys.argv[1]}/{cls}-v6.mat')['x'].T
-    assert np.array_equal(y,z)
+    assert np.array_equal(y,z) and np.array_equal(y,hdf5storage.loadmat(f'{sys.argv[1]}/{cls}-v73.mat')['x'])
     if dt.kind in 'iu':
         full=2.0**(8*dt.itemsize-1); y=(y.astype(float)-(full if dt.kind=='u' else 0))/full
     out.append(np.asarray(y,dtype='<f8').T.tobytes())
@@ -94,6 +95,7 @@ sys.stdout.buffer.write(b''.join(out))`, dir, ...classes], { maxBuffer: 1 << 26 
       const layout = (channel_axis: 0 | 1) => ({ mat: { variables: ['x'], channel_axis, sample_rate_variable: 'fs', start_time_variable: null } });
       await expectSame(join(dir, `${cls}-v7.mat`), want, layout(1));
       await expectSame(join(dir, `${cls}-v6.mat`), want, layout(0));
+      await expectSame(join(dir, `${cls}-v73.mat`), want, layout(1));
     }
   });
 

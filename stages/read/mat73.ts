@@ -1,0 +1,137 @@
+// MAT-files of version 7.3 (MATLAB's save -v7.3) are HDF5 behind a 512-byte MAT header (HDF5's user block): each variable
+// a dataset at its name ("/data"; a struct's field "/rec/acc_x"), its dimensions in reverse of MATLAB's, its class in the
+// attribute MATLAB_class, text as uint16 character codes. The declaration is read in MATLAB's terms here, and the samples
+// through the HDF5 reader.
+import { open } from 'node:fs/promises';
+import { firstLine, onceMore, openHdf5 } from './hdf5.js';
+import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
+import type { MatLayout } from './mat.js';
+import { sampleRateFrom, startTimeFrom } from './mat-values.js';
+import { RecordingError, type Recording } from './recording.js';
+import type { DeclareHow } from './declare-how.js';
+
+const HDF5_SIGNATURE = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
+
+/** Whether the file is HDF5 behind a 512-byte user block, as version 7.3 MAT-files are. */
+export async function isMat73(path: string): Promise<boolean> {
+  const f = await open(path, 'r');
+  try {
+    const b = Buffer.alloc(8);
+    const { bytesRead } = await f.read(b, 0, 8, 512);
+    return bytesRead === 8 && b.equals(HDF5_SIGNATURE);
+  } finally { await f.close(); }
+}
+
+const NUMERIC = ['double', 'single', 'int8', 'uint8', 'int16', 'uint16', 'int32', 'uint32', 'int64', 'uint64'];
+const datasetOf = (variable: string) => `/${variable.split('.').join('/')}`;
+
+type HdfFile = InstanceType<H5['File']>;
+
+/** Runs one call into the library: what HDF5 refuses in a damaged file becomes a reason, a stop passes on to be retried. */
+function guard<T>(doing: string, call: () => T): T {
+  try { return call(); } catch (e) {
+    rethrowStop(e);
+    if (e instanceof RecordingError) throw e;
+    throw new RecordingError(`${doing} failed: ${firstLine(e)}; the file is damaged: copy it again`);
+  }
+}
+interface Variable { name: string; cls: string | null; dims: number[]; value: () => unknown }
+
+function classOf(obj: { attrs: Record<string, { value: unknown }> }): string | null {
+  try { const v = obj.attrs.MATLAB_class?.value; return v == null ? null : String(v); } catch (e) { rethrowStop(e); return null; }
+}
+
+/** What the file's top level holds, in MATLAB's terms, for messages. */
+function listing(file: HdfFile): string {
+  return guard('listing the variables', () => listingOf(file));
+}
+function listingOf(file: HdfFile): string {
+  const names = file.keys().filter((k) => !k.startsWith('#'));
+  const shown = names.slice(0, 12).map((k) => {
+    const obj = file.get(k) as unknown as { attrs: Record<string, { value: unknown }>; shape?: number[] } | null;
+    return obj ? `${k} (${classOf(obj) ?? 'unknown class'}${obj.shape ? ` ${[...obj.shape].reverse().join(' × ')}` : ''})` : k;
+  });
+  return names.length ? `the file holds ${shown.join(', ')}${names.length > 12 ? `, and ${names.length - 12} more` : ''}` : 'the file holds no variables';
+}
+
+function variableOf(file: HdfFile, name: string, what: string, where: string): Variable {
+  return guard(`reading variable "${name}"`, () => variableIn(file, name, what, where));
+}
+function variableIn(file: HdfFile, name: string, what: string, where: string): Variable {
+  let obj;
+  try { obj = file.get(datasetOf(name)); } catch (e) { rethrowStop(e); obj = null; }
+  if (!obj) throw new RecordingError(`variable "${name}" (the ${what}) is not in the file; ${listing(file)}; correct ${where} or check the file`);
+  const cls = classOf(obj as never);
+  if (obj.constructor.name !== 'Dataset') throw new RecordingError(`variable "${name}" is a ${cls ?? 'group'}, not an array; name one of its fields ("${name}.field") in ${where}`);
+  const ds = obj as InstanceType<H5['Dataset']>;
+  return { name, cls, dims: [...(ds.shape ?? [])].reverse(), value: () => guard(`reading variable "${name}"`, () => ds.value) };
+}
+
+/** One number, or one line of text (char arrays are uint16 codes). */
+function valueOf(v: Variable, what: string): number | string {
+  const value = v.value() as ArrayLike<number | bigint> | number | string;
+  if (v.cls === 'char') return String.fromCharCode(...Array.from(value as ArrayLike<number>, Number)).trim();
+  if (v.cls != null && !NUMERIC.includes(v.cls)) throw new RecordingError(`variable "${v.name}" is a ${v.cls} array; the ${what} is one number or one line of text`);
+  const count = v.dims.reduce((a, b) => a * b, 1);
+  if (count !== 1) throw new RecordingError(`variable "${v.name}" holds ${v.dims.join(' × ')} values; the ${what} is one number`);
+  const x = typeof value === 'object' ? (value as ArrayLike<number | bigint>)[0] : value;
+  return typeof x === 'string' ? x : Number(x);
+}
+
+interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null }
+
+/** Checks the samples' variables in MATLAB's terms and reads the sample rate and start time. */
+function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareHow): Facts {
+  const where = declareHow.where;
+  let file: HdfFile;
+  try { file = new h5.File(path, 'r'); } catch (e) { rethrowStop(e); throw new RecordingError(`the version 7.3 MAT-file (HDF5) cannot be opened: ${String((e as Error)?.message ?? e).split('\n')[0].slice(0, 200)}; the file is damaged or cut short: copy it again`); }
+  try {
+    if (layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${listing(file)}`);
+    const samples = layout.variables.map((name) => variableOf(file, name, 'samples', where['mat.variables']));
+    for (const v of samples) if (v.cls != null && !NUMERIC.includes(v.cls)) throw new RecordingError(`variable "${v.name}" is a ${v.cls} array; the samples must be numbers (double, single or an integer class)`);
+    let channelAxis: 0 | 1 | null = null;
+    if (samples.length === 1) {
+      const dims = [...samples[0].dims];
+      while (dims.length > 2 && dims[dims.length - 1] === 1) dims.pop();
+      if (dims.length !== 2) throw new RecordingError(`variable "${samples[0].name}" has ${dims.length} dimensions (${samples[0].dims.join(' × ')}); quern reads one axis of samples and at most one of channels`);
+      const [rows, columns] = dims;
+      if (rows !== 1 && columns !== 1) {
+        if (layout.channel_axis == null) throw new RecordingError(`variable "${samples[0].name}" has two axes (${rows} × ${columns}); set ${where['mat.channel_axis']} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
+        // MATLAB's columns are HDF5's rows.
+        channelAxis = layout.channel_axis === 1 ? 0 : 1;
+      }
+    } else {
+      for (const v of samples) if (v.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`variable "${v.name}" is ${v.dims.join(' × ')}; with one variable per channel each must be a vector`);
+    }
+    const rate = layout.sample_rate_variable ? valueOf(variableOf(file, layout.sample_rate_variable, 'sample rate', where['mat.sample_rate_variable']), 'sample rate') : null;
+    const start = layout.start_time_variable ? valueOf(variableOf(file, layout.start_time_variable, 'start time', where['mat.start_time_variable']), 'start time') : null;
+    return { channelAxis, rate, start };
+  } finally {
+    try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ }
+  }
+}
+
+/** The HDF5 reader's messages name the MAT declaration's keys. */
+const asHdf5 = (d: DeclareHow): DeclareHow => ({
+  ...d, hdf5: d.mat,
+  where: { ...d.where, 'hdf5.datasets': d.where['mat.variables'], 'hdf5.channel_axis': d.where['mat.channel_axis'], 'hdf5.sample_rate_attribute': d.where['mat.sample_rate_variable'], 'hdf5.start_time_attribute': d.where['mat.start_time_variable'] },
+});
+const said = (e: unknown) => (e instanceof RecordingError ? new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`) : e);
+
+export async function openMat73(path: string, layout: MatLayout, declaredSampleRate: number | null, { chunkFrames, declareHow }: { chunkFrames: number; declareHow: DeclareHow }): Promise<Recording> {
+  try {
+    const release = await takeTurn();
+    let facts: Facts;
+    try { facts = await onceMore((h5) => readFacts(h5, path, layout, declareHow), 'reading the variables'); } finally { release(); }
+    const where = declareHow.where;
+    const rate = facts.rate == null ? declaredSampleRate : sampleRateFrom(facts.rate, layout.sample_rate_variable!, where['mat.sample_rate_variable']);
+    const startTime = facts.start == null ? null : startTimeFrom(facts.start, layout.start_time_variable!, where['mat.start_time_variable']);
+    const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
+    async function* chunks(): AsyncGenerator<Float64Array[]> {
+      try { yield* rec.chunks(); } catch (e) { throw said(e); }
+    }
+    return { ...rec, format: 'mat', startTime, chunks };
+  } catch (e) {
+    throw said(e);
+  }
+}
