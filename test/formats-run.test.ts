@@ -95,6 +95,18 @@ describe('a run over every format', () => {
     expect([await differing(out, alone), await differing(alone, out)]).toEqual([0, 0]);
   });
 
+  it('--since finds a recording\'s start where its group declares it: a FLAC tag, an HDF5 attribute, a MAT-file variable', () => {
+    const root = archive();
+    // The copies were modified just now; only their declared starts put them in these periods.
+    const chosen = (since: string, until: string) => {
+      const out = join(tempDir(), 'out');
+      quern('reduce', root, '--out', out, '--quiet', '--since', since, '--until', until);
+      return (readJson(join(out, 'run.json')).recordings as { recording: string }[]).map((r) => r.recording).sort();
+    };
+    expect(chosen('2026-03-14', '2026-03-15')).toEqual(['mat/rig-02.mat']);
+    expect(chosen('2026-11-16T21:00Z', '2026-11-16T23:00Z')).toEqual(['flac/run-01.flac', 'h5/rig-01.h5']);
+  });
+
   it('check and peek read FLAC, HDF5 and MAT-files like the others', () => {
     const root = archive();
     const c = quern('check', root);

@@ -84,7 +84,7 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
   try {
     // The readers load only when a header is to be read: a run whose files' starts are all known loads none of them.
     const { openRecording } = await import('../../stages/read/open.js');
-    const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout });
+    const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout, hdf5: g.hdf5, mat: g.mat, flac: g.flac });
     await rec.close();
     if (rec.startTime) return rec.startTime.getTime();
   } catch { /* an unreadable file is reported by the reduction; its modification time stands in */ }
