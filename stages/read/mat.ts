@@ -185,6 +185,13 @@ function matrixShape(h: ArrayHeader, where: string): [number, number] {
   return [dims[0], dims[1]];
 }
 
+/** One variable of a recording's one-per-channel list: a vector as long as the first and of its class. */
+function checkVector(s: { header: ArrayHeader; where: string }, first: { where: string }, frames: number, cls: number): void {
+  if (s.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
+  if (s.header.count !== frames) throw new RecordingError(`${s.where} holds ${s.header.count} samples but ${first.where} holds ${frames}; the channels of one recording must be equally long`);
+  if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
+}
+
 /** The spools' files and folders removed, the file closed; what fails in that is of no more use to report. */
 async function closeAll(m: MatFile, sources: ChannelSource[]): Promise<void> {
   for (const s of sources.splice(0)) s.cursor.close();
@@ -204,12 +211,8 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const where = declareHow.where;
     if (!layout || layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${holds(m)}`);
     const topOf = (variable: string) => m.elements.find((e) => e.header?.name === variable.split('.')[0]);
-    // Several variables in one compressed element (fields of one struct) are inflated once, before any is looked at.
-    const uses = new Map<TopElement, number>();
-    for (const v of layout.variables) { const e = topOf(v); if (e) uses.set(e, (uses.get(e) ?? 0) + 1); }
-    for (const [e, n] of uses) if (n > 1 && e.compressed) m.shared.add(e);
-    const look = async (variable: string) => { const s = await sourceAt(m, variable, 'samples', where['mat.variables'], 0); s.cursor.close(); return s; };
-    const first = await look(layout.variables[0]);
+    const first = await sourceAt(m, layout.variables[0], 'samples', where['mat.variables'], 0);
+    first.cursor.close();
     const cls = first.header.cls;
     let channels: number, frames: number;
     let plan: SourcePlan[];
@@ -228,16 +231,16 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
         if (e.compressed) m.shared.add(e);
       }
     } else {
+      // The other variables are looked at as their samples are first asked for: fields of one compressed struct are
+      // inflated once then, so that check and --since, which read headers only, do not inflate the whole struct.
       channels = layout.variables.length;
       checkChannelCount(channels, where['mat.variables']);
       frames = first.header.count;
       plan = layout.variables.map((variable) => ({ variable, first: 0, width: 1 }));
-      for (const v of layout.variables) {
-        const s = v === layout.variables[0] ? first : await look(v);
-        if (s.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
-        if (s.header.count !== frames) throw new RecordingError(`${s.where} holds ${s.header.count} samples but ${first.where} holds ${frames}; the channels of one recording must be equally long`);
-        if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
-      }
+      checkVector(first, first, frames, cls);
+      const uses = new Map<TopElement, number>();
+      for (const v of layout.variables) { const e = topOf(v); if (e) uses.set(e, (uses.get(e) ?? 0) + 1); }
+      for (const [e, n] of uses) if (n > 1 && e.compressed) m.shared.add(e);
     }
     checkChannelCount(channels, first.where);
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
@@ -252,7 +255,11 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const chunk = boundedChunkFrames(chunkFrames, channels, 8 * channels + (interleaved ? 8 * channels : 0));
 
     async function* chunks(): AsyncGenerator<Float64Array[]> {
-      for (const p of plan) sources.push({ ...(await sourceAt(m, p.variable, 'samples', where['mat.variables'], p.first)), width: p.width });
+      for (const p of plan) {
+        const s = await sourceAt(m, p.variable, 'samples', where['mat.variables'], p.first);
+        sources.push({ ...s, width: p.width });
+        if (layout!.variables.length > 1) checkVector(s, first, frames, cls);
+      }
       const out = Array.from({ length: channels }, () => new Float64Array(chunk));
       // Scratch at offset 0 of its own buffer, so that stored values can be viewed as typed arrays in place.
       const scratch = new Uint8Array(new ArrayBuffer(chunk * Math.max(...sources.map((s) => TYPE_BYTES[s.type] * s.width))));
