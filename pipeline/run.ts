@@ -20,7 +20,7 @@ import { sweepLeftovers } from './outputs/sweep-leftovers.js';
 import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan } from './select/scan.js';
-import { byStartTime, shardOf, type QuietGroup, type Shard } from './select/select.js';
+import { byStartTime, shardOf, type CaptureDue, type QuietGroup, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
 import type { TrendsWrite } from './trends/trends.js';
@@ -93,8 +93,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     store = await Store.open(outDir, shard);
     const s = store;
     let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
-    let quiet: QuietGroup[] = [];
-    if (o.since != null || o.until != null) ({ chosen, quiet } = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity));
+    let quiet: QuietGroup[] = [], due: CaptureDue[] = [];
+    if (o.since != null || o.until != null) ({ chosen, quiet, due } = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity));
     // Whether every recording outside the period already has a stored result (then no run could form a baseline from more).
     const inPeriod = new Set(chosen.map((r) => r.recording));
     const earlierStored = o.since != null && scanned.recordings.every((r) => inPeriod.has(r.recording) || s.get(r.recording) != null);
@@ -153,7 +153,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)), settling,
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
-      period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet } : null,
+      // A shard sees part of each group: merge judges declared capture intervals from every shard's latest start.
+      period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}) } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);

@@ -40,6 +40,8 @@ export interface GroupDeclaration {
   channels: ChannelDeclaration[] | null;
   /** Expected length of each recording, s, when declared. */
   duration_s: number | null;
+  /** How often the group's rig captures (a span such as 1d), when declared: a --since run names it quiet after that long without one. */
+  capture_every: string | null;
 }
 
 export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }

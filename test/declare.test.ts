@@ -66,6 +66,13 @@ describe('archive declaration', () => {
     expect(await errorOf(loadArchiveDeclaration(archiveWith(misnamed)))).toMatch(/archive\.yaml:4: groups\[0\]\.mat\.variables: must match pattern/);
   });
 
+  it('reads capture_every as a span, and refuses one of zero or in other words', async () => {
+    const d = await loadArchiveDeclaration(archiveWith('groups:\n  - { name: w, match: "*.wav", capture_every: 1d }\n  - { name: x, match: "*.flac" }\n'));
+    expect(d.groups.map((g) => g.capture_every)).toEqual(['1d', null]);
+    expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - { name: w, match: "*.wav", capture_every: 0h }\n')))).toMatch(/groups\[0\]\.capture_every: capture_every must be a span longer than zero/);
+    expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - { name: w, match: "*.wav", capture_every: daily }\n')))).toMatch(/groups\[0\]\.capture_every: must match pattern/);
+  });
+
   it('catches what the schema cannot: reversed ranges, duplicate names, raw files without layout', async () => {
     const yaml = 'groups:\n  - name: g\n    match: "*.bin"\n    format: raw\n    channels:\n      - { name: a, range: [5, -5] }\n      - { name: a }\n';
     const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));

@@ -6,7 +6,7 @@ import { DuckDBInstance } from '@duckdb/node-api';
 import { Ajv } from 'ajv';
 import formats from 'ajv-formats';
 import { describe, expect, it } from 'vitest';
-import { byStartTime, parseShard, parseWhen, shardOf } from '../pipeline/select/select.js';
+import { byStartTime, parseShard, parseSpan, parseWhen, shardOf } from '../pipeline/select/select.js';
 import type { GroupDeclaration } from '../spec/archive.js';
 import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
@@ -236,6 +236,46 @@ describe('selecting a period and logging', () => {
     const { chosen, quiet } = await byStartTime(recordings, groups, known, since, Infinity, now);
     expect(chosen.map((r) => r.recording)).toEqual(['a.wav', 'd.wav']);
     expect(quiet).toEqual([{ group: 'stopped', latest_start: new Date(now - 3 * day).toISOString() }]);
+  });
+
+  it('a group that declares capture_every is quiet after that long without a recording, whatever the period, and never retired', async () => {
+    const day = 86_400_000, now = Date.UTC(2026, 11, 4, 6), since = now - 7 * day;
+    const groups = [['weekly', '1w'], ['daily', '1d'], ['fresh', '1d'], ['gone', '1d'], ['never', '12h'], ['undeclared', null]].map(([name, capture_every]) => ({ name, capture_every }) as GroupDeclaration);
+    const starts: [string, number, number][] = [['w.wav', 0, now - 10 * day], ['w2.wav', 0, now - 3 * day], ['d.wav', 1, now - 30 * 3_600_000], ['f.wav', 2, now - 2 * 3_600_000], ['g.wav', 3, now - 60 * day], ['u.wav', 5, now - 8 * day]];
+    const recordings = starts.map(([recording, group], i) => ({ recording, path: `/x/${recording}`, group, size: i, mtimeMs: 0, readAtMs: 0 }));
+    const known = (r: string) => { const i = starts.findIndex(([name]) => name === r); return { size: i, mtimeMs: 0, start_ms: starts[i][2] }; };
+    const { chosen, quiet, due } = await byStartTime(recordings, groups, known, since, Infinity, now);
+    expect(chosen.map((r) => r.recording)).toEqual(['w2.wav', 'd.wav', 'f.wav']);
+    // The weekly rig captured 3 days ago; the daily one 30 h ago, within this week's period but a day overdue; one silent for
+    // 60 days is still named, as its declaration says it captures daily; an undeclared one silent for the period is quiet.
+    expect(quiet).toEqual([
+      { group: 'daily', latest_start: new Date(now - 30 * 3_600_000).toISOString(), capture_every: '1d' },
+      { group: 'gone', latest_start: new Date(now - 60 * day).toISOString(), capture_every: '1d' },
+      { group: 'undeclared', latest_start: new Date(now - 8 * day).toISOString() },
+    ]);
+    expect(due.map((d) => [d.group, d.due])).toEqual([['weekly', '1w'], ['daily', '1d'], ['fresh', '1d'], ['gone', '1d'], ['never', '12h']].map(([g, e]) => [g, new Date(now - parseSpan(e)).toISOString()]));
+    expect(due.find((d) => d.group === 'never')!.latest_start).toBeNull();
+  });
+
+  it('capture_every in a whole run and across shards: merge judges it from every shard\'s latest start, with --until too', () => {
+    const withCadence = (every: string) => {
+      const archive = sampleArchiveCopy();
+      const path = join(archive, 'archive.yaml');
+      writeFileSync(path, readFileSync(path, 'utf8').replace('  - name: quick-look\n', `  - name: quick-look\n    capture_every: ${every}\n`));
+      return archive;
+    };
+    const period = ['--since', '2026-11-19', '--until', '2026-11-20', '--jobs', '1'];
+    // quick-look's latest capture, 2026-11-18T14:30Z, is within a week of the period's end and not within 6 h of it.
+    const weekly = withCadence('1w');
+    expect(quern('reduce', weekly, '--out', join(weekly, '..', 'out'), ...period).stdout).not.toMatch(/QUIET/);
+    const often = withCadence('6h'), shared = join(often, '..', 'shared');
+    const whole = quern('reduce', often, '--out', join(often, '..', 'whole'), ...period);
+    expect(whole.stdout).toContain('  QUIET   group quick-look: no recording of it started in the 6h before the end of this period (its capture_every); its latest started 2026-11-18T14:30:00.000Z');
+    for (const k of [1, 2]) expect(quern('reduce', often, '--out', shared, '--shard', `${k}/2`, ...period).stdout).not.toMatch(/QUIET/);
+    expect(readJson(join(shared, 'parts', 'run-1-of-2.json')).period.capture_due).toEqual([expect.objectContaining({ group: 'quick-look', due: '2026-11-19T18:00:00.000Z', capture_every: '6h' })]);
+    const merged = quern('merge', shared, '--jobs', '1');
+    expect(readJson(join(shared, 'run.json')).period.quiet_groups).toEqual([{ group: 'quick-look', latest_start: '2026-11-18T14:30:00.000Z', capture_every: '6h' }]);
+    expect(merged.stdout).toContain('QUIET   group quick-look: no recording of it started in the 6h');
   });
 
   it('--log json writes one JSON object a line, ending with a summary', () => {

@@ -19,7 +19,7 @@ import { UsageError } from '../declare/yaml-file.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
-import type { QuietGroup } from '../select/select.js';
+import { quietByCadence, type CaptureDue, type QuietGroup } from '../select/select.js';
 
 export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -83,12 +83,20 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
 }
 
 /**
- * The groups quiet in the whole archive: quiet in some shard and chosen in none, the latest start the latest any shard saw.
- * Exact without --until; with it a shard cannot tell a group it did not see from one seen only after the period, so none is said.
+ * The groups quiet in the whole archive. A group that declares capture_every: the latest start before the period's end any
+ * shard saw, against the earliest time one was due. Any other: quiet in some shard and chosen in none, the latest start the
+ * latest any shard saw; exact without --until, while with it a shard cannot tell a group it did not see from one seen only
+ * after the period, so none is said.
  */
 function quietOverall(parts: RunRecord[], listed: { group: string }[]): QuietGroup[] {
-  if (parts[0].period?.until != null) return [];
+  const due = new Map<string, CaptureDue>();
+  for (const d of parts.flatMap((p) => p.period?.capture_due ?? [])) {
+    const was = due.get(d.group);
+    due.set(d.group, !was ? d : { ...was, latest_start: [was.latest_start, d.latest_start].reduce((a, b) => (b != null && (a == null || b > a) ? b : a)), due: d.due < was.due ? d.due : was.due });
+  }
   const chosen = new Set(listed.map((r) => r.group)), latest = new Map<string, string>();
-  for (const g of parts.flatMap((p) => p.period?.quiet_groups ?? [])) if (!chosen.has(g.group) && !(g.latest_start <= (latest.get(g.group) ?? ''))) latest.set(g.group, g.latest_start);
-  return [...latest].map(([group, latest_start]) => ({ group, latest_start })).sort((a, b) => a.group.localeCompare(b.group));
+  if (parts[0].period?.until == null) {
+    for (const g of parts.flatMap((p) => p.period?.quiet_groups ?? [])) if (!due.has(g.group) && !chosen.has(g.group) && !(g.latest_start <= (latest.get(g.group) ?? ''))) latest.set(g.group, g.latest_start);
+  }
+  return [...[...latest].map(([group, latest_start]) => ({ group, latest_start })), ...quietByCadence([...due.values()])].sort((a, b) => a.group.localeCompare(b.group));
 }

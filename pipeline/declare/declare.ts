@@ -11,6 +11,7 @@ import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '.
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { packageRoot } from './package-files.js';
 import { checkSpec } from './check-spec.js';
+import { parseSpan } from '../select/select.js';
 import { formatProblems, loadYaml, parseYaml, UsageError, type Problem } from './yaml-file.js';
 
 /** Column names that labels may not take, since the table already has them. */
@@ -84,10 +85,11 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (mat && mat.sample_rate_variable == null && g.sample_rate == null) problems.push(source.problem(at('mat'), 'MAT-files need a sample rate: declare sample_rate for the group or mat.sample_rate_variable'));
     if (mat && mat.variables.length > 1 && mat.channel_axis != null) problems.push(source.problem(at('mat', 'channel_axis'), 'channel_axis applies to one two-dimensional variable; with one variable per channel leave it out'));
     if (mat && channels && mat.variables.length > 1 && mat.variables.length !== channels.length) problems.push(source.problem(at('channels'), `mat.variables names ${mat.variables.length} variables (one per channel) but ${channels.length} channels are declared`));
+    if (g.capture_every != null && !(parseSpan(g.capture_every) > 0)) problems.push(source.problem(at('capture_every'), 'capture_every must be a span longer than zero (12h, 1d, 1w)'));
     const flac = g.flac ? { start_time_tag: g.flac.start_time_tag ?? null } : null;
     return {
       name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
-      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, mat, flac, channels, duration_s: g.duration_s ?? null,
+      labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, mat, flac, channels, duration_s: g.duration_s ?? null, capture_every: g.capture_every?.trim() ?? null,
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));

@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import type { LoadedSpec } from '../declare/declare.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
-import type { QuietGroup, Shard } from '../select/select.js';
+import { quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
@@ -33,7 +33,7 @@ export interface RunRecord {
    * The period asked for with --since/--until (ms since the epoch), how many recordings fell in it, and the groups whose
    * recordings all start before it (absent from parts written before this was kept).
    */
-  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[] } | null;
+  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[] } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
@@ -130,7 +130,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: none of its recordings starts in this period; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
+  for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
   if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);

@@ -91,24 +91,46 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
   return r.mtimeMs;
 }
 
-/** A group with recordings, none of which starts in the period, and the latest of them before it: a rig that may have stopped. */
-export interface QuietGroup { group: string; latest_start: string }
+/** A group whose rig may have stopped capturing, and its latest start (before the period's end, for a declared capture_every). */
+export interface QuietGroup { group: string; latest_start: string; /** The group's declared capture_every, which it went without a recording. */ capture_every?: string }
+
+/** Why a group is named quiet: its declared capture interval passed without a recording, or the period went by without one. */
+export const quietWhy = (g: QuietGroup, period: string) =>
+  g.capture_every ? `no recording of it started in the ${g.capture_every} before the end of ${period} (its capture_every)` : `none of its recordings starts in ${period}`;
+
+/** For a group that declares capture_every: its latest start before the period's end and when a start was due, which a shard records for merge. */
+export interface CaptureDue { group: string; latest_start: string | null; due: string; capture_every: string }
 
 /** How many periods before this one a group's latest recording may lie and the group still count as quiet, not retired (ours). */
 export const QUIET_LOOKBACK_PERIODS = 7;
 
 /**
  * The recordings whose start falls in [since, until); `known` gives what earlier runs stored, so unchanged files' headers are
- * not read. `quiet`: the groups whose recordings all start before the period (none in it, none after it), the latest within
- * QUIET_LOOKBACK_PERIODS periods of its length before it; a group silent for longer has been retired, not stopped last night.
+ * not read. `quiet`: a group that declares capture_every when none of its recordings started within that span before the
+ * period's end (until, or now); any other group when its recordings all start before the period (none in it, none after
+ * it), the latest within QUIET_LOOKBACK_PERIODS periods of its length before it: a group silent for longer has been
+ * retired, not stopped last night. `due`: for each group that declares capture_every, what merge needs to judge it whole.
  */
-export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number, now = Date.now()): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[] }> {
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number, now = Date.now()): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[]; due: CaptureDue[] }> {
   const limit = pLimit(16);
   const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], known(r.recording)))));
   const chosen = recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
-  const latest = new Map<number, number>();
-  recordings.forEach((r, i) => latest.set(r.group, Math.max(latest.get(r.group) ?? -Infinity, starts[i])));
-  const recent = since - QUIET_LOOKBACK_PERIODS * (Math.min(until, now) - since);
-  const quiet = [...latest].filter(([, t]) => t < since && t >= recent).map(([g, t]) => ({ group: groups[g].name, latest_start: new Date(t).toISOString() })).sort((a, b) => a.group.localeCompare(b.group));
-  return { chosen, quiet };
+  const end = Math.min(until, now);
+  const latest = new Map<number, number>(), latestBeforeEnd = new Map<number, number>();
+  recordings.forEach((r, i) => {
+    latest.set(r.group, Math.max(latest.get(r.group) ?? -Infinity, starts[i]));
+    if (starts[i] < end) latestBeforeEnd.set(r.group, Math.max(latestBeforeEnd.get(r.group) ?? -Infinity, starts[i]));
+  });
+  const recent = since - QUIET_LOOKBACK_PERIODS * (end - since);
+  const iso = (t: number) => new Date(t).toISOString();
+  const due = groups.flatMap((g, i) => (g.capture_every == null ? [] : [{ group: g.name, latest_start: latestBeforeEnd.has(i) ? iso(latestBeforeEnd.get(i)!) : null, due: iso(end - parseSpan(g.capture_every)), capture_every: g.capture_every }]));
+  const quiet = [
+    ...[...latest].filter(([g, t]) => groups[g].capture_every == null && t < since && t >= recent).map(([g, t]) => ({ group: groups[g].name, latest_start: iso(t) })),
+    ...quietByCadence(due),
+  ].sort((a, b) => a.group.localeCompare(b.group));
+  return { chosen, quiet, due };
 }
+
+/** The groups that went longer than their declared capture_every without a recording: a latest start before the one due. */
+export const quietByCadence = (due: CaptureDue[]): QuietGroup[] =>
+  due.filter((d) => d.latest_start != null && d.latest_start < d.due).map((d) => ({ group: d.group, latest_start: d.latest_start!, capture_every: d.capture_every }));
