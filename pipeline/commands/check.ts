@@ -6,7 +6,7 @@ import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
 import { RecordingError } from '../../stages/read/recording.js';
 import { defaultOut } from '../run.js';
-import { trendOptions, type TrendOptions } from '../trends/options.js';
+import { namingNone, trendOptions, type ChannelAt, type TrendOptions } from '../trends/options.js';
 
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
 /** `notes`: what may be wrong without stopping a run (trend entries naming no channel of the archive's recordings). */
@@ -35,11 +35,11 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
 }
 
 /** Baseline restarts and per-channel limits that name no channel these recordings have: a typo, found before any night's run. */
-function trendNamesUnseen(o: TrendOptions, seen: { group: string; channel: string }[]): string[] {
+function trendNamesUnseen(o: TrendOptions, seen: ChannelAt[]): string[] {
   if (!seen.length) return [];
-  const none = (applies: (group: string, channel: string) => boolean) => !seen.some((c) => applies(c.group, c.channel));
+  const { restarts, limits } = namingNone(o, seen);
   return [
-    ...o.baseline.restarts.filter((r) => none(r.applies)).map((r) => `trends.baseline.restart ${r.text} names no channel of these recordings; check its channel and group`),
-    ...Object.values(o.limits).flat().filter((r) => r.names != null && none(r.applies)).map((r) => `trends.limits ${r.names} names no channel of these recordings, so it could never be reached; check its channel and group`),
+    ...restarts.map((r) => `trends.baseline.restart ${r.text} names no channel of these recordings; check its channel and group`),
+    ...limits.map((r) => `trends.limits ${r.names} names no channel of these recordings, so it could never be reached; check its channel and group`),
   ];
 }

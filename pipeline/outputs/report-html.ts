@@ -94,5 +94,5 @@ export const noteLine = (recording: string, channel: string, f: Flag) => `<tr><t
 export const notesEnd = () => '</table>';
 
 export const pageEnd = (unmatched: string[], quiet: QuietGroup[] = []) =>
-  `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${esc(quietWhy(g, 'this run\'s period'))}; its latest started ${esc(g.latest_start)} (a rig that stopped capturing, or captures not yet copied in)</li>`).join('')}</ul>\n` : ''}`
+  `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${quietWhy({ ...g, capture_every: g.capture_every && esc(g.capture_every) }, 'this run\'s period')}; its latest started ${esc(g.latest_start)} (a rig that stopped capturing, or captures not yet copied in)</li>`).join('')}</ul>\n` : ''}`
   + `${unmatched.length ? `<h2>Files no group matches</h2><ul>${unmatched.map((u) => `<li>${esc(u)}: add a group for it in archive.yaml, or move it out of the archive</li>`).join('')}</ul>\n` : ''}</main></body></html>\n`;

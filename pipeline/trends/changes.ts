@@ -3,7 +3,7 @@
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
-import { baselineText, limitsFor, type TrendOptions, type WatchedFeature } from './options.js';
+import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
 
@@ -190,11 +190,10 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   };
 }
 
-/** The limit entries that name their channels, none of which any stored history has. */
+/** The limit entries that name their channels, none of which any stored history has (present when any entry names channels). */
 function unmatchedLimits(h: History, o: TrendOptions): Pick<ChangesReport, 'unmatched_limits'> {
-  const naming = Object.values(o.limits).flat().filter((r) => r.names != null);
-  if (!naming.length) return {};
-  return { unmatched_limits: naming.filter((r) => !h.series.some((s) => r.applies(s.group, s.channel))).map((r) => r.names!) };
+  if (!Object.values(o.limits).flat().some((r) => r.names != null)) return {};
+  return { unmatched_limits: namingNone(o, h.series).limits.map((r) => r.names!) };
 }
 
 /** trends.parquet rows of one scored feature: the points of the recordings this run covers, in start-time order, as columns. */

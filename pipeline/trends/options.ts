@@ -53,8 +53,17 @@ export interface TrendOptions {
  */
 export interface LimitRule { applies: (group: string, channel: string) => boolean; limits: FeatureLimits; names: string | null }
 
+/** What a channel is in a history: its group and name. */
+export interface ChannelAt { group: string; channel: string }
+
+/** The restarts and the limit entries that name their channels, and apply to none of `seen`: a typo, or a channel gone. */
+export function namingNone(o: TrendOptions, seen: readonly ChannelAt[]): { restarts: TrendOptions['baseline']['restarts']; limits: LimitRule[] } {
+  const none = (applies: (group: string, channel: string) => boolean) => !seen.some((c) => applies(c.group, c.channel));
+  return { restarts: o.baseline.restarts.filter((r) => none(r.applies)), limits: Object.values(o.limits).flat().filter((r) => r.names != null && none(r.applies)) };
+}
+
 /** The limits of a feature on one channel: the first rule that applies, or none. */
-export function limitsFor(o: TrendOptions, feature: string, at: { group: string; channel: string }): FeatureLimits | undefined {
+export function limitsFor(o: TrendOptions, feature: string, at: ChannelAt): FeatureLimits | undefined {
   return o.limits[feature]?.find((r) => r.applies(at.group, at.channel))?.limits;
 }
 
