@@ -4,7 +4,7 @@ import { dirname, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
 import { ARCHIVE_FILE, loadArchiveDeclaration } from '../declare/declare.js';
 import { UsageError } from '../declare/yaml-file.js';
-import type { RecordingJob } from '../plan/plan.js';
+import { readerOptionsOf, type RecordingJob } from '../plan/plan.js';
 import { reduceRecording } from '../reduce/compute.js';
 import type { RecordingResult } from '../reduce/result.js';
 import type { RawLayout } from '../../stages/read/raw.js';
@@ -52,8 +52,10 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     const rel = relative(root, path).split(sep).join('/');
     const g = declaration.groups.find((group) => picomatch(group.match)(rel));
     if (g) {
+      // What peek's options give wins over what the group declares.
+      const given: ReaderOptions = Object.fromEntries(Object.entries({ hdf5, mat, flac }).filter(([, v]) => v != null));
       declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
-      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { hdf5: hdf5 ?? g.hdf5, mat: mat ?? g.mat, flac: flac ?? g.flac, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
+      job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { ...readerOptionsOf(g), ...given, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
   return { result: await reduceRecording(job), declaredBy };

@@ -26,13 +26,16 @@ export interface RecordingJob {
 
 export interface PlanOptions { chunkFrames?: number }
 
+/** The reading options a group declares for its format (HDF5 datasets, MAT-file variables, FLAC start-time tag): wherever its files are opened. */
+export const readerOptionsOf = (g: GroupDeclaration): ReaderOptions => ({ hdf5: g.hdf5, mat: g.mat, flac: g.flac });
+
 /** The job of one scanned recording. */
 export function planJob(r: ScannedRecording, groups: GroupDeclaration[], spec: ReductionSpec, { chunkFrames = 65536 }: PlanOptions = {}): RecordingJob {
   const g = groups[r.group];
   return {
     recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
     // A frame takes at least a byte, so a small file fits one chunk of its size in bytes: no large buffers for small files.
-    layout: g.layout, reader: { hdf5: g.hdf5, mat: g.mat, flac: g.flac }, channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
+    layout: g.layout, reader: readerOptionsOf(g), channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
   };
 }
 

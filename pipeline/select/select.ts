@@ -2,6 +2,7 @@
 import pLimit from 'p-limit';
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
+import { readerOptionsOf } from '../plan/plan.js';
 
 /** Stable shard of a recording, 1…n, from a hash of its path (FNV-1a, 32 bits): the same on every machine and run. */
 export function shardOf(recording: string, n: number): number {
@@ -84,7 +85,7 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
   try {
     // The readers load only when a header is to be read: a run whose files' starts are all known loads none of them.
     const { openRecording } = await import('../../stages/read/open.js');
-    const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout, hdf5: g.hdf5, mat: g.mat, flac: g.flac });
+    const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout, ...readerOptionsOf(g) });
     await rec.close();
     if (rec.startTime) return rec.startTime.getTime();
   } catch { /* an unreadable file is reported by the reduction; its modification time stands in */ }
