@@ -221,11 +221,12 @@ async function main(argv: string[]): Promise<number> {
       .option('variable', { type: 'string', array: true, describe: 'MAT-files: the variable holding every channel, or one per channel (repeat the option); "struct.field" for a field' })
       .option('sample-rate-variable', { type: 'string', describe: 'MAT-files: variable holding the sample rate' })
       .option('start-time-variable', { type: 'string', describe: 'MAT-files: variable holding the start time' })
+      .option('time-variable', { type: 'string', describe: 'MAT-files: variable holding each sample\'s time in seconds (the sample rate from its steps)' })
       .option('start-time-tag', { type: 'string', describe: 'FLAC files: Vorbis comment tag holding the start time' }),
     async (a) => {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
       const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null } : null;
-      const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null } : null;
+      const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null, ...(a.timeVariable ? { time_variable: a.timeVariable } : {}) } : null;
       const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
       const { runPeek } = await import('./commands/peek.js');
       const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, mat, flac });

@@ -62,6 +62,10 @@ describe('archive declaration', () => {
     expect(message).toMatch(/groups\[0\]\.mat\.channel_axis: channel_axis applies to one two-dimensional variable/);
     expect(message).toMatch(/mat\.variables names 2 variables \(one per channel\) but 1 channels are declared/);
     expect(message).toMatch(/groups\[1\]: format mat needs a mat section/);
+    const both = 'groups:\n  - { name: m, match: "*.mat", mat: { variables: x, sample_rate_variable: fs, time_variable: t } }\n';
+    expect(await errorOf(loadArchiveDeclaration(archiveWith(both)))).toMatch(/groups\[0\]\.mat\.time_variable: give the sample rate once/);
+    const timed = await loadArchiveDeclaration(archiveWith('groups:\n  - { name: m, match: "*.mat", mat: { variables: x, time_variable: t } }\n'));
+    expect(timed.groups[0].mat).toEqual({ variables: ['x'], channel_axis: null, sample_rate_variable: null, start_time_variable: null, time_variable: 't' });
     const misnamed = 'groups:\n  - name: o\n    match: "*.mat"\n    mat: { variables: "rec..x" }\n    sample_rate: 100\n';
     expect(await errorOf(loadArchiveDeclaration(archiveWith(misnamed)))).toMatch(/archive\.yaml:4: groups\[0\]\.mat\.variables: must match pattern/);
   });

@@ -6,9 +6,10 @@ import { deflateSync } from 'node:zlib';
 import { join } from 'node:path';
 import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording } from '../stages/read/open.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { fixture, readAll, readJson, tempDir } from './helpers.js';
 
-interface MatFixture { file: string; case: string | null; mat: MatLayout; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string }
+interface MatFixture { file: string; case: string | null; mat: MatLayout; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
 const fixtures: MatFixture[] = readJson(fixture('mat', 'expected.json')).files;
 const layout = (l: Partial<MatLayout>): MatLayout => ({ variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null, ...l });
 
@@ -29,9 +30,28 @@ describe('MAT-file reader against scipy.io', () => {
         expect(rec.startTime?.toISOString() ?? null).toBe(f.start_time);
         const want = expected(f);
         for (let c = 0; c < f.channels; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
+        // The time vector's steps against scipy's values: the irregular ones counted, the widest where it is.
+        if (f.time_steps) {
+          const s = rec.timeSteps!;
+          expect([s.irregular, Number.isNaN(s.widest_at_s) ? null : s.widest_at_s]).toEqual([f.time_steps.irregular, f.time_steps.widest_at_s]);
+          expect(s.widest_s).toBeCloseTo(f.time_steps.widest_s, 12);
+          expect(s.nominal_s).toBeCloseTo(f.time_steps.nominal_s, 12);
+          expect(rec.notes).toEqual(f.time_steps.irregular ? [expect.stringMatching(/^time steps irregular: 1 of 999 steps differ from the nominal 1\.0\d* ms; the widest is 11\.0\d* ms/)] : []);
+        }
       }
     });
   }
+
+  it('a gap in the time vector is a dropout: the flag warns on every channel, naming the step', async () => {
+    const f = fixtures.find((x) => x.file === 'dropout.mat')!;
+    const r = await reduceRecording({ recording: 'dropout.mat', path: fixture('mat', 'dropout.mat'), group: 'g', format: null, sampleRate: null, layout: null, reader: { mat: f.mat }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 256 });
+    expect(r.status).toBe('reduced');
+    for (const q of r.quality) {
+      const flag = q.flags.find((x) => x.name === 'dropout')!;
+      expect(flag.severity).toBe('warn');
+      expect(flag.message).toMatch(/^1 irregular time steps, the widest 0\.011 s \(nominal 0\.001 s\) ending at t = 0\.61 s: the logger lost data/);
+    }
+  });
 
   it('takes a declared sample rate when no variable holds it', async () => {
     const { rec } = await readAll(fixture('mat', 'rig-columns.mat'), { mat: layout({ variables: ['data'], channel_axis: 1 }), sampleRate: 51200 });
@@ -49,11 +69,11 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(read('per-channel.mat', { variables: ['rec.acc_z'] })).rejects.toThrow(/struct "rec" has no field "acc_z" \(its fields: title, fs, acc_x, acc_y\)/);
     await expect(read('per-channel.mat', { variables: ['rec.fs.x'] })).rejects.toThrow(/"rec.fs" is a int64 array, not a struct/);
     await expect(read('rig-rows.mat', { variables: ['signals', 'u'] })).rejects.toThrow(/variable "signals" \(byte 128\) is 3 × 2500; with one variable per channel each must be a vector/);
-    await expect(read('rig-rows.mat', { variables: ['u'] }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml or mat.sample_rate_variable in archive.yaml/);
+    await expect(read('rig-rows.mat', { variables: ['u'] }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml, mat.sample_rate_variable in archive.yaml or mat.time_variable in archive.yaml/);
     await expect(readAll(fixture('formats', 'acq-rows.h5'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 0: an HDF5 file, not a level 5 MAT-file/);
     // Version 7.3: the same messages, in MATLAB's terms.
     const v73 = (l: Partial<MatLayout> | null, rate: number | null = 100) => readAll(fixture('mat', 'rig-columns-73.mat'), { mat: l && layout(l), sampleRate: rate });
-    await expect(v73(null)).rejects.toThrow(/^version 7.3 MAT-file \(HDF5\): a MAT-file needs to be told which variables hold the samples; declare mat: .*; the file holds data \(int16 2000 × 3\), fs \(double 1 × 1\), t0 \(char 1 × 25\)$/);
+    await expect(v73(null)).rejects.toThrow(/^version 7.3 MAT-file \(HDF5\): a MAT-file needs to be told which variables hold the samples; declare mat: .*; the file holds data \(int16 2000 × 3\), fs \(double 1 × 1\), t \(double 2000 × 1\), t0 \(char 1 × 25\)$/);
     await expect(v73({ variables: ['signals'] })).rejects.toThrow(/variable "signals" \(the samples\) is not in the file; the file holds data/);
     await expect(v73({ variables: ['data'] })).rejects.toThrow(/variable "data" has two axes \(2000 × 3\); set mat.channel_axis in archive.yaml to 1 if its columns are channels/);
     await expect(v73({ variables: ['t0'] })).rejects.toThrow(/variable "t0" is a char array; the samples must be numbers/);

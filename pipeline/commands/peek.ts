@@ -16,7 +16,7 @@ const DECLARE_AS_OPTIONS: DeclareHow = {
   format: 'give it with --format wav, flac, hdf5, mat, csv or raw',
   raw: 'give it with --sample-type, --channels and --sample-rate (and --byte-order, --header-bytes)',
   hdf5: 'give --dataset (and --channel-axis, --sample-rate-attribute, --start-time-attribute as the file needs)',
-  mat: 'give --variable (and --channel-axis, --sample-rate-variable, --start-time-variable as the file needs)',
+  mat: 'give --variable (and --channel-axis, --sample-rate-variable or --time-variable, --start-time-variable as the file needs)',
   where: {
     sample_rate: '--sample-rate',
     'hdf5.datasets': '--dataset',
@@ -27,6 +27,7 @@ const DECLARE_AS_OPTIONS: DeclareHow = {
     'mat.channel_axis': '--channel-axis',
     'mat.sample_rate_variable': '--sample-rate-variable',
     'mat.start_time_variable': '--start-time-variable',
+    'mat.time_variable': '--time-variable',
   },
 };
 

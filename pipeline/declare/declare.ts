@@ -34,7 +34,10 @@ function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
 
 /** The MAT-file section with its defaults. */
 function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
-  return { variables: Array.isArray(m.variables) ? m.variables : [m.variables], channel_axis: m.channel_axis ?? null, sample_rate_variable: m.sample_rate_variable ?? null, start_time_variable: m.start_time_variable ?? null };
+  return {
+    variables: Array.isArray(m.variables) ? m.variables : [m.variables], channel_axis: m.channel_axis ?? null, sample_rate_variable: m.sample_rate_variable ?? null, start_time_variable: m.start_time_variable ?? null,
+    ...(m.time_variable != null ? { time_variable: m.time_variable } : {}),
+  };
 }
 
 export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
@@ -82,7 +85,8 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
     const mat = g.mat ? matLayout(g.mat) : null;
     if (g.format === 'mat' && !mat) problems.push(source.problem(at(), 'format mat needs a mat section: { variables, channel_axis, sample_rate_variable, start_time_variable }'));
-    if (mat && mat.sample_rate_variable == null && g.sample_rate == null) problems.push(source.problem(at('mat'), 'MAT-files need a sample rate: declare sample_rate for the group or mat.sample_rate_variable'));
+    if (mat && mat.sample_rate_variable == null && mat.time_variable == null && g.sample_rate == null) problems.push(source.problem(at('mat'), 'MAT-files need a sample rate: declare sample_rate for the group, mat.sample_rate_variable or mat.time_variable'));
+    if (mat && mat.sample_rate_variable != null && mat.time_variable != null) problems.push(source.problem(at('mat', 'time_variable'), 'give the sample rate once: mat.sample_rate_variable or mat.time_variable, not both'));
     if (mat && mat.variables.length > 1 && mat.channel_axis != null) problems.push(source.problem(at('mat', 'channel_axis'), 'channel_axis applies to one two-dimensional variable; with one variable per channel leave it out'));
     if (mat && channels && mat.variables.length > 1 && mat.variables.length !== channels.length) problems.push(source.problem(at('channels'), `mat.variables names ${mat.variables.length} variables (one per channel) but ${channels.length} channels are declared`));
     if (g.capture_every != null && !(parseSpan(g.capture_every) > 0)) problems.push(source.problem(at('capture_every'), 'capture_every must be a span longer than zero (12h, 1d, 1w)'));

@@ -5,6 +5,8 @@ import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
+import { irregularNote, stepCounter } from './time-steps.js';
+
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
 const PROBE_BYTES = 1 << 20;
@@ -110,25 +112,15 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   async function* chunks(): AsyncGenerator<Float64Array[]> {
     const out = channelNames.map(() => new Float64Array(chunkFrames));
     const lineReader = createInterface({ input: createReadStream(path, { encoding: 'utf8' }), crlfDelay: Infinity });
-    let lineNo = 0, row = 0, k = 0, previousTime = NaN;
-    let irregular = 0, widest = 0, widestAt = NaN, shortRows = 0, firstShort = 0;
+    let lineNo = 0, row = 0, k = 0, shortRows = 0, firstShort = 0;
+    const steps = stepCounter(timeStep, timeTolerance);
     try {
       for await (const raw of lineReader) {
         lineNo++;
         if (lineNo <= headerLine || !isData(raw)) continue;
         const cells = splitFields(raw.replace(/^\uFEFF/, ''), delimiter);
         if (cells.length !== width && shortRows++ === 0) firstShort = lineNo;
-        if (timeColumn === 0) {
-          const t = timeValue(cells[0] ?? '', decimalComma);
-          if (Number.isFinite(previousTime)) {
-            const dt = t - previousTime;
-            if (!(Math.abs(dt - timeStep) <= timeTolerance)) {
-              irregular++;
-              if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
-            }
-          }
-          previousTime = t;
-        }
+        if (timeColumn === 0) steps.add(timeValue(cells[0] ?? '', decimalComma));
         for (let c = 0, j = 0; c < width; c++) {
           if (c === timeColumn) continue;
           const cell = (cells[c] ?? '').trim();
@@ -141,9 +133,10 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     } finally {
       lineReader.close();
     }
-    if (timeColumn === 0) Object.assign(recording, { timeSteps: { irregular, widest_s: widest, widest_at_s: widestAt, nominal_s: timeStep } });
-    if (irregular > 0) {
-      notes.push(`time steps irregular: ${irregular} of ${row - 1} steps differ from the nominal ${(timeStep * 1e3).toPrecision(4)} ms; the widest is ${(widest * 1e3).toPrecision(4)} ms, ending at t = ${widestAt} s; samples were taken as evenly spaced`);
+    if (timeColumn === 0) {
+      const timeSteps = steps.result();
+      Object.assign(recording, { timeSteps });
+      if (timeSteps.irregular > 0) notes.push(irregularNote(timeSteps, row - 1));
     }
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
   }

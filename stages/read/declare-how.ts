@@ -2,7 +2,7 @@
 
 /** A setting a reader may ask for, by its key in archive.yaml. */
 export type DeclaredSetting = 'sample_rate' | 'hdf5.datasets' | 'hdf5.channel_axis' | 'hdf5.sample_rate_attribute' | 'hdf5.start_time_attribute'
-  | 'mat.variables' | 'mat.channel_axis' | 'mat.sample_rate_variable' | 'mat.start_time_variable';
+  | 'mat.variables' | 'mat.channel_axis' | 'mat.sample_rate_variable' | 'mat.start_time_variable' | 'mat.time_variable';
 
 /**
  * How to give what a file cannot say about itself: in archive.yaml for reduce and check, as options for peek. `hdf5` and
@@ -14,7 +14,7 @@ export const DECLARE_IN_ARCHIVE: DeclareHow = {
   format: 'declare format: wav, flac, hdf5, mat, csv or raw for its group in archive.yaml',
   raw: 'declare layout (sample_type, byte_order, channels, header_bytes) and sample_rate for its group in archive.yaml',
   hdf5: 'declare hdf5: { datasets: [...], channel_axis, sample_rate_attribute, start_time_attribute } in its archive.yaml group',
-  mat: 'declare mat: { variables: [...], channel_axis, sample_rate_variable, start_time_variable } in its archive.yaml group',
+  mat: 'declare mat: { variables: [...], channel_axis, sample_rate_variable or time_variable, start_time_variable } in its archive.yaml group',
   where: {
     sample_rate: 'sample_rate for the group in archive.yaml',
     'hdf5.datasets': 'hdf5.datasets in archive.yaml',
@@ -25,5 +25,6 @@ export const DECLARE_IN_ARCHIVE: DeclareHow = {
     'mat.channel_axis': 'mat.channel_axis in archive.yaml',
     'mat.sample_rate_variable': 'mat.sample_rate_variable in archive.yaml',
     'mat.start_time_variable': 'mat.start_time_variable in archive.yaml',
+    'mat.time_variable': 'mat.time_variable in archive.yaml',
   },
 };

@@ -8,7 +8,8 @@ import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { className, CLASS_BITS, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
-import { decodeInto, isNumericType, normaliserOf, sampleRateFrom, startTimeFrom } from './mat-values.js';
+import { decodeInto, isNumericType, medianStep, normaliserOf, rateFromStep, sampleRateFrom, startTimeFrom, TIME_PROBE } from './mat-values.js';
+import { irregularNote, stepCounter } from './time-steps.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 
@@ -22,6 +23,8 @@ export interface MatLayout {
   sample_rate_variable: string | null;
   /** Variable holding the start time: text in ISO 8601, or a number of POSIX seconds. */
   start_time_variable: string | null;
+  /** Variable holding each sample's time in seconds (a vector as long as the channels): the sample rate from its steps, irregular ones counted. */
+  time_variable?: string | null;
 }
 
 /** One variable at the file's top level: where its element lies and what it holds. */
@@ -192,6 +195,24 @@ function checkVector(s: { header: ArrayHeader; where: string }, first: { where: 
   if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
 }
 
+/** Times as stored: no full scale applies to seconds. */
+const AS_STORED = { scale: 1, shift: 0 };
+/** The mean step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
+async function timeStepOf(m: MatFile, path: string, frames: number, where: string): Promise<number> {
+  const t = await sourceAt(m, path, 'time', where, 0);
+  try {
+    if (t.header.dims.filter((d) => d !== 1).length > 1 || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
+    const k = Math.min(frames, TIME_PROBE), size = TYPE_BYTES[t.type];
+    if (k < 2) throw new RecordingError(`${t.where} (the time) holds one time, from which no sample rate follows; declare the rate`);
+    const bytes = t.inline ? t.inline.subarray(0, k * size) : await t.cursor.take(k * size, 'its first times', new Uint8Array(new ArrayBuffer(k * size)));
+    const probe = new Float64Array(k);
+    decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), t.type, m.little, k, probe, 0, 1, AS_STORED);
+    const step = medianStep(probe);
+    if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`${t.where} (the time) does not increase over its first ${k} values; check the file or ${where}`);
+    return step;
+  } finally { t.cursor.close(); }
+}
+
 /** The spools' files and folders removed, the file closed; what fails in that is of no more use to report. */
 async function closeAll(m: MatFile, sources: ChannelSource[]): Promise<void> {
   for (const s of sources.splice(0)) s.cursor.close();
@@ -206,7 +227,7 @@ interface SourcePlan { variable: string; first: number; width: number }
 export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
   if (await isMat73(path)) return openMat73(path, layout ?? { variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null }, declaredSampleRate, { chunkFrames, declareHow });
   const m = await readMatFile(path);
-  const sources: ChannelSource[] = [];
+  const sources: ChannelSource[] = [], extra: ChannelSource[] = [];
   try {
     const where = declareHow.where;
     if (!layout || layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${holds(m)}`);
@@ -244,9 +265,14 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     }
     checkChannelCount(channels, first.where);
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
+    const nominalStep = layout.time_variable ? await timeStepOf(m, layout.time_variable, frames, where['mat.time_variable']) : null;
+    const fromTime = nominalStep == null ? null : rateFromStep(nominalStep, declaredSampleRate, layout.time_variable!, where.sample_rate);
     const fromVariable = layout.sample_rate_variable ? await sampleRateOf(m, layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
-    const sampleRate = fromVariable ?? declaredSampleRate;
-    if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate} or ${where['mat.sample_rate_variable']}`);
+    const sampleRate = fromVariable ?? fromTime ?? declaredSampleRate;
+    if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate}, ${where['mat.sample_rate_variable']} or ${where['mat.time_variable']}`);
+    // A time vector in a compressed element the channels read from too is inflated once with them.
+    const timeTop = layout.time_variable ? topOf(layout.time_variable) : undefined;
+    if (timeTop?.compressed && layout.variables.some((v) => topOf(v) === timeTop)) m.shared.add(timeTop);
     const startTime = layout.start_time_variable ? await startTimeOf(m, layout.start_time_variable, where['mat.start_time_variable']) : null;
     const norm = normaliserOf(cls);
     const integer = cls in CLASS_BITS;
@@ -260,9 +286,14 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
         sources.push({ ...s, width: p.width });
         if (layout!.variables.length > 1) checkVector(s, first, frames, cls);
       }
+      // The time vector is read beside the samples, its steps counted; it is closed with them, but is no channel.
+      const time = nominalStep == null ? null : await sourceAt(m, layout!.time_variable!, 'time', where['mat.time_variable'], 0);
+      if (time) extra.push(time);
+      const steps = nominalStep == null ? null : stepCounter(nominalStep, 0.01 * nominalStep);
+      const times = time ? new Float64Array(chunk) : null;
       const out = Array.from({ length: channels }, () => new Float64Array(chunk));
       // Scratch at offset 0 of its own buffer, so that stored values can be viewed as typed arrays in place.
-      const scratch = new Uint8Array(new ArrayBuffer(chunk * Math.max(...sources.map((s) => TYPE_BYTES[s.type] * s.width))));
+      const scratch = new Uint8Array(new ArrayBuffer(chunk * Math.max(...[...sources, ...extra].map((s) => TYPE_BYTES[s.type] * s.width))));
       const block = interleaved ? new Float64Array(chunk * channels) : null;
       for (let start = 0; start < frames; start += chunk) {
         const n = Math.min(chunk, frames - start);
@@ -277,16 +308,27 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
             for (let i = 0, at = c; i < n; i++, at += channels) into[i] = block[at];
           }
         }
+        if (time && steps && times) {
+          const size = TYPE_BYTES[time.type];
+          const bytes = time.inline ? time.inline.subarray(start * size, (start + n) * size) : await time.cursor.take(n * size, `times ${start} to ${start + n}`, scratch);
+          decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), time.type, m.little, n, times, 0, 1, AS_STORED);
+          for (let i = 0; i < n; i++) steps.add(times[i]);
+        }
         yield n === chunk ? out : out.map((a) => a.subarray(0, n));
       }
+      if (steps) {
+        recording.timeSteps = steps.result();
+        if (recording.timeSteps.irregular > 0) recording.notes.push(irregularNote(recording.timeSteps, steps.steps));
+      }
     }
-    return {
+    const recording: Recording = {
       format: 'mat', channelCount: channels, sampleRate, frames,
       encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
-      startTime, channelNames: null, notes: [], chunks, close: () => closeAll(m, sources),
+      startTime, channelNames: null, notes: [], chunks, close: () => closeAll(m, [...sources, ...extra]),
     };
+    return recording;
   } catch (e) {
-    await closeAll(m, sources);
+    await closeAll(m, [...sources, ...extra]);
     throw e;
   }
 }

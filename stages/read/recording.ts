@@ -1,4 +1,5 @@
 // What every reader hands the pipeline: a header read up front, then the samples in bounded chunks.
+import type { TimeSteps } from './time-steps.js';
 
 export type Format = 'wav' | 'csv' | 'raw' | 'flac' | 'hdf5' | 'mat';
 
@@ -23,7 +24,7 @@ export interface Recording {
   /** Findings made while reading (irregular time steps…), complete once chunks() has ended. */
   notes: string[];
   /** For files with a time column: its irregular steps, complete once chunks() has ended. */
-  timeSteps?: { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number };
+  timeSteps?: TimeSteps;
   close(): Promise<void>;
 }
 

@@ -1,0 +1,29 @@
+// The steps of a recording's own time values (a CSV time column, a MAT-file time vector) held against their nominal step:
+// the ones off by more than the tolerance are counted, and the widest kept, for the notes and the dropout flag.
+
+export interface TimeSteps { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number }
+
+/** Counts irregular steps as times arrive one by one, in order. */
+export function stepCounter(nominal: number, tolerance: number) {
+  let previous = NaN, irregular = 0, widest = 0, widestAt = NaN, steps = 0;
+  return {
+    add(t: number): void {
+      if (Number.isFinite(previous)) {
+        const dt = t - previous;
+        steps++;
+        if (!(Math.abs(dt - nominal) <= tolerance)) {
+          irregular++;
+          if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
+        }
+      }
+      previous = t;
+    },
+    /** Steps seen so far (one fewer than the times). */
+    get steps() { return steps; },
+    result: (): TimeSteps => ({ irregular, widest_s: widest, widest_at_s: widestAt, nominal_s: nominal }),
+  };
+}
+
+/** The note a recording carries when its time values stepped irregularly. */
+export const irregularNote = (s: TimeSteps, steps: number) =>
+  `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s; samples were taken as evenly spaced`;
