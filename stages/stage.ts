@@ -1,4 +1,5 @@
 // The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
+import type { TimeSteps } from './read/time-steps.js';
 import type { Flag } from './quality/flag.js';
 import { freshBuffer } from './scratch.js';
 
@@ -27,7 +28,7 @@ export interface ChannelContext {
   /** Declared duration of the recording, s, if any. */
   declaredDurationS: number | null;
   /** Irregular steps of a time column, known once the recording has been read; null for files without one. */
-  timeSteps(): { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number } | null;
+  timeSteps(): TimeSteps | null;
   /** Raises a quality flag for this channel. */
   flag(f: Flag): void;
   /** Offers pictures' data for the quality report; asked for only when the channel is not ok. */
