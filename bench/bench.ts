@@ -8,6 +8,7 @@ import { everyChannelFlagged, manySmall, reruns, shortRecordings } from './secti
 import { collectorShare, fixedCost } from './sections/start.js';
 import { summary, throughput } from './sections/throughput.js';
 import { trendsOverHistory } from './sections/trends.js';
+import { formats } from './sections/formats.js';
 
 try {
   say(`quern bench — ${cpus()[0]?.model ?? 'unknown CPU'}, ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, Node ${process.version}`);
@@ -23,6 +24,7 @@ try {
     manySmall();
     everyChannelFlagged();
     trendsOverHistory();
+    formats();
     summary(shapes, statsRate, statsReduceRate);
   }
 } finally {
