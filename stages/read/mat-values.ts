@@ -71,7 +71,7 @@ export function medianStep(times: Float64Array): number {
 /** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
 export const TIME_PROBE = 4096;
 
-/** The sample rate a time vector's mean step gives, held against a declared one as a CSV file's time column is (0.5 %). */
+/** The sample rate a time vector's median step gives, held against a declared one as a CSV file's time column is (0.5 %). */
 export function rateFromStep(step: number, declared: number | null, variable: string, where: string): number {
   const derived = 1 / step;
   if (declared != null && Math.abs(derived - declared) > 0.005 * declared) throw new RecordingError(`variable "${variable}" (the time) steps at ${derived.toPrecision(6)} Hz but the declaration says ${declared} Hz; correct ${where} or check the file`);

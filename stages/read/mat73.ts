@@ -80,7 +80,7 @@ function valueOf(v: Variable, what: string): number | string {
   return typeof x === 'string' ? x : Number(x);
 }
 
-interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null; /** The time vector's mean step over its first values. */ step: number | null }
+interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null; /** The time vector's median step over its first values. */ step: number | null }
 
 /** Checks the samples' variables in MATLAB's terms and reads the sample rate and start time. */
 function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareHow): Facts {
@@ -115,7 +115,7 @@ function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareH
   }
 }
 
-/** The mean step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
+/** The median step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
 function stepOf(t: Variable, frames: number, where: string): number {
   const count = t.dims.reduce((a, b) => a * b, 1);
   if ((t.cls != null && !NUMERIC.includes(t.cls)) || t.dims.filter((d) => d !== 1).length > 1 || count !== frames) {
