@@ -4,21 +4,38 @@ import { createReadStream, createWriteStream } from 'node:fs';
 import { mkdtemp, open, rm, type FileHandle } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { createInflate } from 'node:zlib';
 import { RecordingError } from './recording.js';
 
 export interface Spool { file: FileHandle; bytes: number; remove(): Promise<void> }
 
-/** Inflates the zlib stream at [start, start + length) of `path` into a file under `dir` (the system's temporary folder). */
-export async function spoolInflated(path: string, start: number, length: number, where: string, dir = tmpdir()): Promise<Spool> {
+/** Passes at most `limit` bytes on; more is an error, so that a damaged stream cannot fill the disk. */
+function atMost(limit: number, where: string): Transform {
+  let seen = 0;
+  return new Transform({
+    transform(chunk: Buffer, _encoding, done) {
+      seen += chunk.length;
+      if (seen > limit) done(new RecordingError(`${where}: the compressed data inflates to more than the ${limit} bytes its array element declares; the file is damaged: copy it again`));
+      else done(null, chunk);
+    },
+  });
+}
+
+/**
+ * Inflates the zlib stream at [start, start + length) of `path` into a file under `dir` (the system's temporary folder),
+ * at most `limit` bytes: the size its own array tag declares.
+ */
+export async function spoolInflated(path: string, start: number, length: number, where: string, limit: number, dir = tmpdir()): Promise<Spool> {
   const folder = await mkdtemp(join(dir, 'quern-mat-'));
   const remove = () => rm(folder, { recursive: true, force: true });
   const target = join(folder, 'variable');
   try {
     try {
-      await pipeline(createReadStream(path, { start, end: start + Math.max(0, length) - 1 }), createInflate(), createWriteStream(target));
+      await pipeline(createReadStream(path, { start, end: start + Math.max(0, length) - 1 }), createInflate(), atMost(limit, where), createWriteStream(target));
     } catch (e) {
+      if (e instanceof RecordingError) throw e;
       const err = e as NodeJS.ErrnoException;
       if (err.syscall === 'write' || err.code === 'ENOSPC' || err.code === 'EDQUOT') {
         throw new RecordingError(`${where}: inflating it into ${folder} failed (${err.code ?? err.message}); it needs as much room as the variable's uncompressed size: free space there, or set TMPDIR to a folder with room`);

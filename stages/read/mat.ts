@@ -50,7 +50,7 @@ async function cursorOf(m: MatFile, e: TopElement, where: string): Promise<ByteC
   if (!e.compressed) return storedCursor(m.file, e.start + 8, e.bytes, where);
   let c: ByteCursor;
   if (m.shared.has(e)) {
-    const spool = m.spools.get(e) ?? m.spools.set(e, await spoolInflated(m.path, e.start + 8, e.bytes, where)).get(e)!;
+    const spool = m.spools.get(e) ?? m.spools.set(e, await spoolInflated(m.path, e.start + 8, e.bytes, where, 8 + (await innerBytes(m, e, where)))).get(e)!;
     c = storedCursor(spool.file, 0, spool.bytes, `${where} (inflated)`);
   } else c = inflatedCursor(m.path, e.start + 8, e.bytes, where);
   try {
@@ -58,6 +58,12 @@ async function cursorOf(m: MatFile, e: TopElement, where: string): Promise<ByteC
     if (inner.type !== MI.MATRIX) throw new RecordingError(`${where}: the compressed element holds data of type ${inner.type}, not an array (miMATRIX); the file is damaged`);
     return c;
   } catch (e) { c.close(); throw e; }
+}
+
+/** The byte count the array tag at the start of a compressed element declares: all it may inflate to, after the tag. */
+async function innerBytes(m: MatFile, e: TopElement, where: string): Promise<number> {
+  const c = inflatedCursor(m.path, e.start + 8, e.bytes, where);
+  try { return (await readTag(c, m.little, `${where}: its array tag`)).bytes; } finally { c.close(); }
 }
 
 // MAT-file level 5 header (MathWorks, "MAT-File Format"): 116 bytes of text, 8 of subsystem offset, version 0x0100, and
