@@ -126,7 +126,7 @@ describe('MAT-file reader against scipy.io', () => {
       // An array tag that declares less than its stream inflates to: the copy stops there, so damage cannot fill the disk.
       const lying = el(14, body);
       lying.writeUInt32LE(body.length - 100, 4);
-      const damaged = join(tempDir(), 'lying.mat');
+      const damaged = join(path, '..', 'lying.mat');
       writeFileSync(damaged, Buffer.concat([header, el(15, deflateSync(lying))]));
       await expect(readAll(damaged, { mat: layout({ variables: ['wide'], channel_axis: 1 }), sampleRate: 100 })).rejects.toThrow(new RegExp(`inflates to more than the ${8 + body.length - 100} bytes its array element declares; the file is damaged`));
       expect(readdirSync(tmp)).toEqual([]);
