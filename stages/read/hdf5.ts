@@ -4,6 +4,7 @@
 import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
+import { isoTimeMs } from './iso-time.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
@@ -76,7 +77,7 @@ function sampleRateOf(file: HdfFile, from: string, spec: string, where: string):
 
 function startTimeOf(file: HdfFile, from: string, spec: string, where: string): Date {
   const v = scalar(findAttribute(file, from, spec, 'start time', where));
-  const t = typeof v === 'string' ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v.trim()) ? v.trim() : `${v.trim()}Z`) : Number(v) * 1000;
+  const t = typeof v === 'string' ? isoTimeMs(v) : Number(v) * 1000;
   if (!Number.isFinite(t)) throw new RecordingError(`attribute "${spec}" (the start time) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
   return new Date(t);
 }

@@ -2,6 +2,7 @@
 // (MATLAB keeps whole-number doubles as miUINT8, miINT16…), so the class, not the stored type, sets the full scale.
 import { CLASS_BITS, MI, view } from './mat-element.js';
 import { RecordingError } from './recording.js';
+import { isoTimeMs } from './iso-time.js';
 
 const HOST_LITTLE = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
@@ -51,12 +52,9 @@ export function sampleRateFrom(v: number | string, variable: string, where: stri
   return rate;
 }
 
-/** An ISO 8601 date-time as text holds it (Date.parse alone would take "night 3" for a date). */
-const ISO_8601 = /^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?([zZ]|[+-]\d{2}:?\d{2})?$/;
-
 /** The start time a variable holds: ISO 8601 text (UTC unless it carries an offset), or a number of POSIX seconds. */
 export function startTimeFrom(v: number | string, variable: string, where: string): Date {
-  const t = typeof v === 'string' ? (ISO_8601.test(v) ? Date.parse(/[zZ]|[+-]\d\d:?\d\d$/.test(v) ? v : `${v}Z`) : NaN) : v * 1000;
+  const t = typeof v === 'string' ? isoTimeMs(v) : v * 1000;
   if (!Number.isFinite(t)) throw new RecordingError(`variable "${variable}" (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
   return new Date(t);
 }

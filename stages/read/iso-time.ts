@@ -1,0 +1,15 @@
+// A start time a file keeps as text: ISO 8601 (ISO 8601-1:2019) date and time of day, with an optional fraction of a second
+// and zone, taken as UTC when it names none. Date.parse alone takes "night 3" for 1 March 2001 and rolls 30 February over
+// into March, so only real calendar dates and times of day pass.
+const ISO_DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(\.\d+)?)?)?\s*(Z|[+-]\d{2}:?\d{2})?$/i;
+
+/** Milliseconds since the epoch, or NaN for text that is not such a date-time. */
+export function isoTimeMs(text: string): number {
+  const m = text.trim().match(ISO_DATE_TIME);
+  if (!m) return NaN;
+  const [, y, mo, d, h = '00', mi = '00', s = '00', fraction = '', zone = 'Z'] = m;
+  const day = new Date(Date.UTC(Number(y), Number(mo) - 1, Number(d)));
+  if (day.getUTCFullYear() !== Number(y) || day.getUTCMonth() !== Number(mo) - 1 || day.getUTCDate() !== Number(d)) return NaN;
+  if (Number(h) > 23 || Number(mi) > 59 || Number(s) > 59) return NaN;
+  return Date.parse(`${y}-${mo}-${d}T${h}:${mi}:${s}${fraction}${zone.toUpperCase()}`);
+}
