@@ -22,6 +22,12 @@ describe('FLAC reader against the reference encoder and decoder', () => {
     expect((await readAll(path)).rec.startTime).toBeNull();
     expect((await readAll(path, { flac: { start_time_tag: 'start_time' } })).rec.startTime?.toISOString()).toBe('2026-11-16T22:00:00.000Z');
     await expect(readAll(path, { flac: { start_time_tag: 'RECORDED' } })).rejects.toThrow(/no RECORDED tag/);
+    // A day not in the calendar is refused, not rolled over into March (the comment block carries no checksum to fix).
+    const bytes = Buffer.from(readFileSync(path));
+    bytes.write('2026-02-30', bytes.indexOf('2026-11-16T22:00:00Z'), 'latin1');
+    const edited = join(tempDir(), 'tagged.flac');
+    writeFileSync(edited, bytes);
+    await expect(readAll(edited, { flac: { start_time_tag: 'START_TIME' } })).rejects.toThrow(/tag START_TIME holds "2026-02-30T22:00:00Z", not an ISO 8601 date-time; correct the tag/);
   });
 
   it('reports a damaged frame by its number and byte position', async () => {
