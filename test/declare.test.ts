@@ -50,6 +50,10 @@ describe('archive declaration', () => {
     expect(message).toMatch(/groups\[0\]\.hdf5: HDF5 files need a sample rate/);
     expect(message).toMatch(/hdf5\.datasets names 2 datasets \(one per channel\) but 1 channels are declared/);
     expect(message).toMatch(/groups\[1\]: format hdf5 needs an hdf5 section/);
+    const fromDatasets = await loadArchiveDeclaration(archiveWith('groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, sample_rate_dataset: fs, start_time_dataset: /meta/t0 } }\n'));
+    expect(fromDatasets.groups[0].hdf5).toEqual({ datasets: ['/x'], channel_axis: null, sample_rate_attribute: null, start_time_attribute: null, sample_rate_dataset: '/fs', start_time_dataset: '/meta/t0' });
+    const twice = 'groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, sample_rate_attribute: fs, sample_rate_dataset: fs } }\n';
+    expect(await errorOf(loadArchiveDeclaration(archiveWith(twice)))).toMatch(/groups\[0\]\.hdf5\.sample_rate_dataset: give it once: hdf5\.sample_rate_attribute or hdf5\.sample_rate_dataset/);
   });
 
   it('reads MAT-file sections, and asks MAT groups for a sample rate and a fitting channel list', async () => {

@@ -49,6 +49,19 @@ describe('HDF5 reader against h5py', () => {
     expect([both.rec.channelCount, both.rec.frames, both.channels]).toEqual([2, 1500, [column(0), column(1)]]);
   });
 
+  it('reads the sample rate and the start time from datasets holding one value (a file written by hdf5storage, make-mat-fixtures.py)', async () => {
+    const path = fixture('mat', 'rig-columns-73.mat');
+    const b = readFileSync(fixture('mat', 'rig-columns-73.mat.f64'));
+    const all = new Float64Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+    const { rec, channels } = await readAll(path, { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, sample_rate_dataset: '/fs', start_time_dataset: '/fs' }) });
+    expect([rec.sampleRate, rec.frames, rec.channelCount, rec.startTime?.getTime()]).toEqual([12800, 2000, 3, 12800 * 1000]);
+    for (let c = 0; c < 3; c++) expect(channels[c]).toEqual(Array.from({ length: 2000 }, (_, i) => all[3 * i + c]));
+    const read = (l: Partial<Hdf5Layout>) => readAll(path, { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, ...l }) });
+    await expect(read({ sample_rate_dataset: '/t' })).rejects.toThrow(/dataset "\/t" \(the sample rate\) holds 2000 values \(1 × 2000\); it must hold one; correct hdf5.sample_rate_dataset in archive.yaml/);
+    await expect(read({ sample_rate_dataset: '/none' })).rejects.toThrow(/dataset "\/none" \(the sample rate\) is not in the file/);
+    await expect(read({ sample_rate_dataset: '/fs', start_time_dataset: '/t0' })).rejects.toThrow(/dataset "\/t0" \(the start time\) holds 25 values/);
+  });
+
   it('names the dataset and the attribute in its errors', async () => {
     const read = (file: string, l: Partial<Hdf5Layout>, rate: number | null = 100) => readAll(fixture('formats', file), { format: 'hdf5', hdf5: layout(l), sampleRate: rate });
     await expect(read('acq-rows.h5', { datasets: ['/acq/missing'] })).rejects.toThrow(/dataset "\/acq\/missing" is not in the file/);

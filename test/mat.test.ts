@@ -77,7 +77,7 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(v73({ variables: ['signals'] })).rejects.toThrow(/variable "signals" \(the samples\) is not in the file; the file holds data/);
     await expect(v73({ variables: ['data'] })).rejects.toThrow(/variable "data" has two axes \(2000 × 3\); set mat.channel_axis in archive.yaml to 1 if its columns are channels/);
     await expect(v73({ variables: ['t0'] })).rejects.toThrow(/variable "t0" is a char array; the samples must be numbers/);
-    await expect(v73({ variables: ['data'], channel_axis: 1 }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml or mat.sample_rate_variable in archive.yaml/);
+    await expect(v73({ variables: ['data'], channel_axis: 1 }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml, mat.sample_rate_variable in archive.yaml or mat.time_variable in archive.yaml/);
     await expect(readAll(fixture('mat', 'per-channel-73.mat'), { mat: layout({ variables: ['rec'] }), sampleRate: 1 })).rejects.toThrow(/variable "rec" is a struct, not an array; name one of its fields \("rec.field"\)/);
     await expect(readAll(fixture('formats', 'pcm12in16.wav'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 126: no byte-order mark/);
   });

@@ -29,7 +29,13 @@ type RawGroup = Omit<Partial<GroupDeclaration>, 'match' | 'channels' | 'layout' 
 /** The HDF5 section with its defaults, dataset paths made absolute. */
 function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
   const datasets = (Array.isArray(h.datasets) ? h.datasets : [h.datasets]).map((d) => (d.startsWith('/') ? d : `/${d}`));
-  return { datasets, channel_axis: h.channel_axis ?? null, sample_rate_attribute: h.sample_rate_attribute ?? null, start_time_attribute: h.start_time_attribute ?? null };
+  const absolute = (d: string) => (d.startsWith('/') ? d : `/${d}`);
+  return {
+    datasets, channel_axis: h.channel_axis ?? null, sample_rate_attribute: h.sample_rate_attribute ?? null, start_time_attribute: h.start_time_attribute ?? null,
+    // Only when declared, so that the declarations (and stored results' keys) of groups without them stay as they were.
+    ...(h.sample_rate_dataset != null ? { sample_rate_dataset: absolute(h.sample_rate_dataset) } : {}),
+    ...(h.start_time_dataset != null ? { start_time_dataset: absolute(h.start_time_dataset) } : {}),
+  };
 }
 
 /** The MAT-file section with its defaults. */
@@ -80,7 +86,10 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
     const hdf5 = g.hdf5 ? hdf5Layout(g.hdf5) : null;
     if (g.format === 'hdf5' && !hdf5) problems.push(source.problem(at(), 'format hdf5 needs an hdf5 section: { datasets, channel_axis, sample_rate_attribute, start_time_attribute }'));
-    if (hdf5 && hdf5.sample_rate_attribute == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group or hdf5.sample_rate_attribute'));
+    if (hdf5 && hdf5.sample_rate_attribute == null && hdf5.sample_rate_dataset == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group, hdf5.sample_rate_attribute or hdf5.sample_rate_dataset'));
+    for (const [attribute, dataset] of [['sample_rate_attribute', 'sample_rate_dataset'], ['start_time_attribute', 'start_time_dataset']] as const) {
+      if (hdf5?.[attribute] != null && hdf5[dataset] != null) problems.push(source.problem(at('hdf5', dataset), `give it once: hdf5.${attribute} or hdf5.${dataset}, not both`));
+    }
     if (hdf5 && hdf5.datasets.length > 1 && hdf5.channel_axis != null) problems.push(source.problem(at('hdf5', 'channel_axis'), 'channel_axis applies to one two-dimensional dataset; with one dataset per channel leave it out'));
     if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
     const mat = g.mat ? matLayout(g.mat) : null;

@@ -17,6 +17,10 @@ export interface Hdf5Layout {
   sample_rate_attribute: string | null;
   /** Attribute holding the start time: an ISO 8601 string, or POSIX seconds. Same lookup. */
   start_time_attribute: string | null;
+  /** Dataset holding the sample rate as its one value, instead of an attribute (present only when declared). */
+  sample_rate_dataset?: string | null;
+  /** Dataset holding the start time as its one value (ISO 8601 text or POSIX seconds), instead of an attribute. */
+  start_time_dataset?: string | null;
 }
 
 type Dataset = InstanceType<H5['Dataset']>;
@@ -68,17 +72,33 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
 
 const scalar = (v: unknown) => (ArrayBuffer.isView(v) || Array.isArray(v)) && (v as ArrayLike<unknown>).length === 1 ? (v as ArrayLike<unknown>)[0] : v;
 
-function sampleRateOf(file: HdfFile, from: string, spec: string, where: string): number {
-  const v = scalar(findAttribute(file, from, spec, 'sample rate', where));
+/** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
+function datasetValue(file: HdfFile, path: string, what: string, where: string): unknown {
+  let obj;
+  try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" (the ${what}) cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
+  if (!obj) throw new RecordingError(`dataset "${path}" (the ${what}) is not in the file; correct ${where} or check the file`);
+  if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" (the ${what}) is a ${obj.constructor.name}, not a dataset; correct ${where}`);
+  const ds = obj as Dataset;
+  try {
+    const count = (ds.shape ?? []).reduce((a: number, b: number) => a * b, 1);
+    if (count !== 1) throw new RecordingError(`dataset "${path}" (the ${what}) holds ${count} values (${(ds.shape ?? []).join(' × ')}); it must hold one; correct ${where}`);
+    return scalar(ds.value);
+  } catch (e) { rethrowStop(e); if (e instanceof RecordingError) throw e; throw new RecordingError(`dataset "${path}" (the ${what}) cannot be read: ${firstLine(e)}; the file is damaged`); }
+}
+
+/** The sample rate a value holds; `held` says where it was found. */
+function rateOf(value: unknown, held: string, where: string): number {
+  const v = scalar(value);
   const rate = typeof v === 'bigint' ? Number(v) : typeof v === 'string' ? Number(v) : (v as number);
-  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`attribute "${spec}" (the sample rate) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or ${where}`);
+  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`${held} (the sample rate) holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or ${where}`);
   return rate;
 }
 
-function startTimeOf(file: HdfFile, from: string, spec: string, where: string): Date {
-  const v = scalar(findAttribute(file, from, spec, 'start time', where));
+/** The start time a value holds: ISO 8601 text, or POSIX seconds. */
+function timeOf(value: unknown, held: string, where: string): Date {
+  const v = scalar(value);
   const t = typeof v === 'string' ? isoTimeMs(v) : Number(v) * 1000;
-  if (!Number.isFinite(t)) throw new RecordingError(`attribute "${spec}" (the start time) of dataset "${from}" holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
+  if (!Number.isFinite(t)) throw new RecordingError(`${held} (the start time) holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
   return new Date(t);
 }
 
@@ -154,10 +174,13 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       channels = sources.length; frames = first.shape.reduce((a, b) => a * b, 1); axis = 1;
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
-    const fromAttribute = layout.sample_rate_attribute ? sampleRateOf(file, first.path, layout.sample_rate_attribute, where['hdf5.sample_rate_attribute']) : null;
-    const sampleRate = fromAttribute ?? declaredSampleRate;
-    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; set ${where.sample_rate} or ${where['hdf5.sample_rate_attribute']}`);
-    const startTime = layout.start_time_attribute ? startTimeOf(file, first.path, layout.start_time_attribute, where['hdf5.start_time_attribute']) : null;
+    const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
+    const fromFile = rateSpec ? rateOf(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
+      : rateSet ? rateOf(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
+    const sampleRate = fromFile ?? declaredSampleRate;
+    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; set ${where.sample_rate}, ${where['hdf5.sample_rate_attribute']} or ${where['hdf5.sample_rate_dataset']}`);
+    const startTime = timeSpec ? timeOf(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
+      : timeSet ? timeOf(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
     return { h5, file, sources, channels, frames, axis, sampleRate, startTime };
   } catch (e) {
     closeQuietly(file);

@@ -131,7 +131,9 @@ function stepOf(t: Variable, frames: number, where: string): number {
 /** The HDF5 reader's messages name the MAT declaration's keys. */
 const asHdf5 = (d: DeclareHow): DeclareHow => ({
   ...d, hdf5: d.mat,
-  where: { ...d.where, 'hdf5.datasets': d.where['mat.variables'], 'hdf5.channel_axis': d.where['mat.channel_axis'], 'hdf5.sample_rate_attribute': d.where['mat.sample_rate_variable'], 'hdf5.start_time_attribute': d.where['mat.start_time_variable'] },
+  where: { ...d.where, 'hdf5.datasets': d.where['mat.variables'], 'hdf5.channel_axis': d.where['mat.channel_axis'], 'hdf5.sample_rate_attribute': d.where['mat.sample_rate_variable'], 'hdf5.start_time_attribute': d.where['mat.start_time_variable'],
+    // The HDF5 reader's other sources of the rate and the start time are, in a MAT-file, the time vector and the variable.
+    'hdf5.sample_rate_dataset': d.where['mat.time_variable'], 'hdf5.start_time_dataset': d.where['mat.start_time_variable'] },
 });
 const said = (e: unknown) => (e instanceof RecordingError ? new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`) : e);
 
