@@ -52,6 +52,9 @@ describe('archive declaration', () => {
     expect(message).toMatch(/groups\[1\]: format hdf5 needs an hdf5 section/);
     const fromDatasets = await loadArchiveDeclaration(archiveWith('groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, sample_rate_dataset: fs, start_time_dataset: /meta/t0 } }\n'));
     expect(fromDatasets.groups[0].hdf5).toEqual({ datasets: ['/x'], channel_axis: null, sample_rate_attribute: null, start_time_attribute: null, sample_rate_dataset: '/fs', start_time_dataset: '/meta/t0' });
+    const timed = await loadArchiveDeclaration(archiveWith('groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, time_dataset: t } }\n'));
+    expect(timed.groups[0].hdf5?.time_dataset).toBe('/t');
+    expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, time_dataset: t, sample_rate_attribute: fs } }\n')))).toMatch(/groups\[0\]\.hdf5\.time_dataset: give the sample rate once/);
     const twice = 'groups:\n  - { name: h, match: "*.h5", hdf5: { datasets: x, sample_rate_attribute: fs, sample_rate_dataset: fs } }\n';
     expect(await errorOf(loadArchiveDeclaration(archiveWith(twice)))).toMatch(/groups\[0\]\.hdf5\.sample_rate_dataset: give it once: hdf5\.sample_rate_attribute or hdf5\.sample_rate_dataset/);
   });

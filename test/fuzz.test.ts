@@ -44,6 +44,7 @@ const SEEDS: Seed[] = [
   { name: 'eight.flac', bytes: file('formats', 'flac16-8ch.flac'), format: 'flac' },
   { name: 'rows.h5', bytes: file('formats', 'acq-rows.h5'), format: 'hdf5', hdf5: h5(['/acq/signals'], { channel_axis: 1, sample_rate_attribute: 'sample_rate', start_time_attribute: 'start_time' }) },
   { name: 'columns.h5', bytes: file('formats', 'acq-columns.h5'), format: 'hdf5', hdf5: h5(['/data'], { channel_axis: 0, sample_rate_attribute: 'fs' }) },
+  { name: 'timed.h5', bytes: file('mat', 'dropout-73.mat'), format: 'hdf5', hdf5: h5(['/x'], { channel_axis: 0, time_dataset: '/t' }) },
   { name: 'per-channel.h5', bytes: file('formats', 'per-channel.h5'), format: 'hdf5', sampleRate: 1000, hdf5: h5(['/ch/a', '/ch/b', '/ch/c']) },
   { name: 'columns.mat', bytes: file('mat', 'rig-columns.mat'), format: 'mat', mat: mat(['data'], { channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 't0' }) },
   { name: 'rows.mat', bytes: file('mat', 'rig-rows.mat'), format: 'mat', mat: mat(['signals'], { channel_axis: 0, sample_rate_variable: 'rate', start_time_variable: 'start' }) },

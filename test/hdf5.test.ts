@@ -62,6 +62,19 @@ describe('HDF5 reader against h5py', () => {
     await expect(read({ sample_rate_dataset: '/fs', start_time_dataset: '/t0' })).rejects.toThrow(/dataset "\/t0" \(the start time\) holds 25 values/);
   });
 
+  it('takes the sample rate from a time dataset and counts its irregular steps (files written by hdf5storage, make-mat-fixtures.py)', async () => {
+    const steady = await readAll(fixture('mat', 'rig-columns-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, time_dataset: '/t' }) });
+    expect([steady.rec.sampleRate, steady.rec.timeSteps?.irregular, steady.rec.notes]).toEqual([12800, 0, []]);
+    // The time vector jumps 10 sample periods at frame 600: one irregular step of 11 ms, ending at t = 0.61 s.
+    const gap = await readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/x'], channel_axis: 0, time_dataset: '/t' }), chunkFrames: 256 });
+    expect([gap.rec.sampleRate, gap.rec.timeSteps?.irregular, gap.rec.timeSteps?.widest_at_s]).toEqual([1000, 1, 0.61]);
+    expect(gap.rec.timeSteps!.widest_s).toBeCloseTo(0.011, 12);
+    expect(gap.rec.notes).toEqual([expect.stringMatching(/^time steps irregular: 1 of 999 steps differ from the nominal 1\.000 ms; the widest is 11\.00 ms/)]);
+    // A declared rate the steps disagree with, and a time dataset of the wrong length, are refused.
+    await expect(readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', sampleRate: 2000, hdf5: layout({ datasets: ['/x'], channel_axis: 0, time_dataset: '/t' }) })).rejects.toThrow(/dataset "\/t" \(the time\) steps at 1000\.00 Hz but the declaration says 2000 Hz/);
+    await expect(readAll(fixture('mat', 'rig-columns-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, time_dataset: '/fs' }) })).rejects.toThrow(/dataset "\/fs" \(the time\) is 1 × 1; it must be a vector of 2000 times, one for each frame/);
+  });
+
   it('names the dataset and the attribute in its errors', async () => {
     const read = (file: string, l: Partial<Hdf5Layout>, rate: number | null = 100) => readAll(fixture('formats', file), { format: 'hdf5', hdf5: layout(l), sampleRate: rate });
     await expect(read('acq-rows.h5', { datasets: ['/acq/missing'] })).rejects.toThrow(/dataset "\/acq\/missing" is not in the file/);

@@ -274,7 +274,7 @@ describe('quern check and quern peek', () => {
       [peek(h5), 'HDF5 needs to be told where its samples are; give --dataset'],
       [peek(h5, '--dataset', 'nowhere'), 'dataset "nowhere" is not in the file; check --dataset'],
       [peek(h5, '--dataset', 'data'), 'set --channel-axis to 0 if its rows are channels, 1 if its columns are'],
-      [peek(h5, '--dataset', 'data', '--channel-axis', '0'), 'no sample rate; set --sample-rate, --sample-rate-attribute or --sample-rate-dataset'],
+      [peek(h5, '--dataset', 'data', '--channel-axis', '0'), 'no sample rate; set --sample-rate, --sample-rate-attribute, --sample-rate-dataset or --time-dataset'],
       [peek(h5, '--dataset', 'data', '--channel-axis', '0', '--sample-rate-attribute', 'rate'), 'attribute "rate" (the sample rate) is not on dataset "data" or its groups; correct --sample-rate-attribute or check the file'],
       [peek(h5, '--dataset', 'data', '--channel-axis', '0', '--sample-rate-attribute', 'fs', '--start-time-attribute', 'start'), 'correct --start-time-attribute or check the file'],
     ];

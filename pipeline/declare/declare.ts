@@ -35,6 +35,7 @@ function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
     // Only when declared, so that the declarations (and stored results' keys) of groups without them stay as they were.
     ...(h.sample_rate_dataset != null ? { sample_rate_dataset: absolute(h.sample_rate_dataset) } : {}),
     ...(h.start_time_dataset != null ? { start_time_dataset: absolute(h.start_time_dataset) } : {}),
+    ...(h.time_dataset != null ? { time_dataset: absolute(h.time_dataset) } : {}),
   };
 }
 
@@ -86,7 +87,8 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
     const hdf5 = g.hdf5 ? hdf5Layout(g.hdf5) : null;
     if (g.format === 'hdf5' && !hdf5) problems.push(source.problem(at(), 'format hdf5 needs an hdf5 section: { datasets, channel_axis, sample_rate_attribute, start_time_attribute }'));
-    if (hdf5 && hdf5.sample_rate_attribute == null && hdf5.sample_rate_dataset == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group, hdf5.sample_rate_attribute or hdf5.sample_rate_dataset'));
+    if (hdf5 && hdf5.sample_rate_attribute == null && hdf5.sample_rate_dataset == null && hdf5.time_dataset == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group, hdf5.sample_rate_attribute, hdf5.sample_rate_dataset or hdf5.time_dataset'));
+    if (hdf5?.time_dataset != null && (hdf5.sample_rate_attribute != null || hdf5.sample_rate_dataset != null)) problems.push(source.problem(at('hdf5', 'time_dataset'), 'give the sample rate once: from hdf5.time_dataset, or hdf5.sample_rate_attribute or hdf5.sample_rate_dataset, not both'));
     for (const [attribute, dataset] of [['sample_rate_attribute', 'sample_rate_dataset'], ['start_time_attribute', 'start_time_dataset']] as const) {
       if (hdf5?.[attribute] != null && hdf5[dataset] != null) problems.push(source.problem(at('hdf5', dataset), `give it once: hdf5.${attribute} or hdf5.${dataset}, not both`));
     }

@@ -5,6 +5,7 @@ import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
+import { irregularNote, medianStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
@@ -21,6 +22,8 @@ export interface Hdf5Layout {
   sample_rate_dataset?: string | null;
   /** Dataset holding the start time as its one value (ISO 8601 text or POSIX seconds), instead of an attribute. */
   start_time_dataset?: string | null;
+  /** Dataset holding each frame's time in seconds, as long as the channels: the sample rate from its steps, irregular ones counted. */
+  time_dataset?: string | null;
 }
 
 type Dataset = InstanceType<H5['Dataset']>;
@@ -136,7 +139,7 @@ const isVector = (shape: number[]) => shape.length === 1 || (shape.length === 2 
 const vectorRanges = (shape: number[], rows: [number, number]) => (shape.length === 1 ? [rows] : shape[0] === 1 ? [[] as [], rows] : [rows, [] as []]);
 
 /** A file opened on an instance: its datasets found and checked against the layout. */
-interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null }
+interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
 
 const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
 
@@ -177,15 +180,40 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
     const fromFile = rateSpec ? rateOf(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
       : rateSet ? rateOf(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
-    const sampleRate = fromFile ?? declaredSampleRate;
-    if (sampleRate == null) throw new RecordingError(`dataset "${first.path}": no sample rate; set ${where.sample_rate}, ${where['hdf5.sample_rate_attribute']} or ${where['hdf5.sample_rate_dataset']}`);
+    const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
+    const step = time ? timeStepOf(time, frames) : null;
+    const sampleRate = fromFile ?? (step != null ? rateFromStep(step, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
+    if (sampleRate == null) {
+      // Where the rate may be given, each place once (a MAT-file's reader names two of these by one key).
+      const places = [...new Set([where.sample_rate, where['hdf5.sample_rate_attribute'], where['hdf5.sample_rate_dataset'], where['hdf5.time_dataset']])];
+      throw new RecordingError(`dataset "${first.path}": no sample rate; set ${places.slice(0, -1).join(', ')} or ${places.at(-1)}`);
+    }
     const startTime = timeSpec ? timeOf(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
       : timeSet ? timeOf(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
-    return { h5, file, sources, channels, frames, axis, sampleRate, startTime };
+    return { h5, file, sources, channels, frames, axis, sampleRate, startTime, time, step };
   } catch (e) {
     closeQuietly(file);
     throw e;
   }
+}
+
+/** A time dataset: one value a frame, as a vector. */
+function timeDatasetOf(file: HdfFile, path: string, frames: number, where: string): Source {
+  const t = datasetOf(file, path, where);
+  const count = t.shape.reduce((a, b) => a * b, 1);
+  if (!isVector(t.shape) || count !== frames) throw new RecordingError(`dataset "${path}" (the time) is ${t.shape.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
+  return t;
+}
+
+/** The median step of a time dataset's first TIME_PROBE values. */
+function timeStepOf(t: Source, frames: number): number {
+  const k = Math.min(frames, TIME_PROBE);
+  if (k < 2) throw new RecordingError(`dataset "${t.path}" (the time) holds one time, from which no sample rate follows; declare the rate`);
+  let values;
+  try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
+  const step = medianStep(Float64Array.from(values, Number));
+  if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`dataset "${t.path}" (the time) does not increase over its first ${k} values; check the file`);
+  return step;
 }
 
 /** The message for a file that stopped a fresh instance too. */
@@ -226,8 +254,17 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
         throw new RecordingError(`dataset "${o.sources[s].path}": samples ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
       }
     }, `reading samples ${start} to ${end} of dataset "${o.sources[s].path}"`);
+    /** Times of frames [start, end) from the time dataset, read as the samples are. */
+    const sliceTime = (start: number, end: number) => onceMore((h5) => {
+      if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow);
+      try { return o.time!.ds.slice(vectorRanges(o.time!.shape, [start, end]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
+        rethrowStop(e);
+        throw new RecordingError(`dataset "${o.time!.path}": times ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+      }
+    }, `reading times ${start} to ${end} of dataset "${o.time?.path}"`);
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
+        const steps = o.step != null ? stepCounter(o.step, 0.01 * o.step) : null;
         const out = Array.from({ length: channels }, () => new Float64Array(chunk));
         for (let start = 0; start < frames; start += chunk) {
           const n = Math.min(chunk, frames - start);
@@ -245,18 +282,24 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
               else for (let i = 0, at = c * n; i < n; i++, at++) into[i] = f(block[at]);
             }
           }
+          if (steps) { const times = await sliceTime(start, start + n); for (let i = 0; i < n; i++) steps.add(Number(times[i])); }
           yield n === chunk ? out : out.map((a) => a.subarray(0, n));
+        }
+        if (steps) {
+          recording.timeSteps = steps.result();
+          if (recording.timeSteps.irregular > 0) recording.notes.push(irregularNote(recording.timeSteps, steps.steps));
         }
       } finally {
         // Its samples read (or not, after an error), the file no longer needs the instance: the next file may take its turn.
         release();
       }
     }
-    return {
+    const recording: Recording = {
       format: 'hdf5', channelCount: channels, sampleRate, frames,
       encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
       startTime, channelNames: null, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
     };
+    return recording;
   } catch (e) {
     release();
     throw e;

@@ -58,20 +58,3 @@ export function startTimeFrom(v: number | string, variable: string, where: strin
   if (!Number.isFinite(t)) throw new RecordingError(`variable "${variable}" (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
   return new Date(t);
 }
-
-/** The median of a time vector's steps: its nominal step, which a dropout among the first times does not pull (common practice). */
-export function medianStep(times: Float64Array): number {
-  const steps = Float64Array.from({ length: times.length - 1 }, (_, i) => times[i + 1] - times[i]).sort();
-  const mid = steps.length >> 1;
-  return steps.length % 2 ? steps[mid] : (steps[mid - 1] + steps[mid]) / 2;
-}
-
-/** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
-export const TIME_PROBE = 4096;
-
-/** The sample rate a time vector's median step gives, held against a declared one as a CSV file's time column is (0.5 %). */
-export function rateFromStep(step: number, declared: number | null, variable: string, where: string): number {
-  const derived = 1 / step;
-  if (declared != null && Math.abs(derived - declared) > 0.005 * declared) throw new RecordingError(`variable "${variable}" (the time) steps at ${derived.toPrecision(6)} Hz but the declaration says ${declared} Hz; correct ${where} or check the file`);
-  return declared ?? Number(derived.toPrecision(6));
-}

@@ -6,8 +6,8 @@
 import { closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type ChannelSource, type MatFile, type TopElement } from './mat-file.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { className, CLASS_BITS, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
-import { decodeInto, medianStep, normaliserOf, rateFromStep, TIME_PROBE } from './mat-values.js';
-import { irregularNote, stepCounter } from './time-steps.js';
+import { decodeInto, normaliserOf } from './mat-values.js';
+import { irregularNote, medianStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
@@ -103,7 +103,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     checkChannelCount(channels, first.where);
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
     const nominalStep = layout.time_variable ? await timeStepOf(m, layout.time_variable, frames, where['mat.time_variable']) : null;
-    const fromTime = nominalStep == null ? null : rateFromStep(nominalStep, declaredSampleRate, layout.time_variable!, where.sample_rate);
+    const fromTime = nominalStep == null ? null : rateFromStep(nominalStep, declaredSampleRate, `variable "${layout.time_variable}"`, where.sample_rate);
     const fromVariable = layout.sample_rate_variable ? await sampleRateOf(m, layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
     const sampleRate = fromVariable ?? fromTime ?? declaredSampleRate;
     if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate}, ${where['mat.sample_rate_variable']} or ${where['mat.time_variable']}`);

@@ -6,7 +6,7 @@ import { open } from 'node:fs/promises';
 import { firstLine, onceMore, openHdf5 } from './hdf5.js';
 import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
-import { medianStep, rateFromStep, sampleRateFrom, startTimeFrom, TIME_PROBE } from './mat-values.js';
+import { sampleRateFrom, startTimeFrom } from './mat-values.js';
 import { RecordingError, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
@@ -80,7 +80,7 @@ function valueOf(v: Variable, what: string): number | string {
   return typeof x === 'string' ? x : Number(x);
 }
 
-interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null; /** The time vector's median step over its first values. */ step: number | null }
+interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null }
 
 /** Checks the samples' variables in MATLAB's terms and reads the sample rate and start time. */
 function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareHow): Facts {
@@ -92,7 +92,6 @@ function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareH
     const samples = layout.variables.map((name) => variableOf(file, name, 'samples', where['mat.variables']));
     for (const v of samples) if (v.cls != null && !NUMERIC.includes(v.cls)) throw new RecordingError(`variable "${v.name}" is a ${v.cls} array; the samples must be numbers (double, single or an integer class)`);
     let channelAxis: 0 | 1 | null = null;
-    let frames = samples[0].dims.reduce((a, b) => a * b, 1);
     if (samples.length === 1) {
       const dims = [...samples[0].dims];
       while (dims.length > 2 && dims[dims.length - 1] === 1) dims.pop();
@@ -102,30 +101,16 @@ function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareH
         if (layout.channel_axis == null) throw new RecordingError(`variable "${samples[0].name}" has two axes (${rows} × ${columns}); set ${where['mat.channel_axis']} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
         // MATLAB's columns are HDF5's rows.
         channelAxis = layout.channel_axis === 1 ? 0 : 1;
-        frames = layout.channel_axis === 1 ? rows : columns;
       }
     } else {
       for (const v of samples) if (v.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`variable "${v.name}" is ${v.dims.join(' × ')}; with one variable per channel each must be a vector`);
     }
     const rate = layout.sample_rate_variable ? valueOf(variableOf(file, layout.sample_rate_variable, 'sample rate', where['mat.sample_rate_variable']), 'sample rate') : null;
     const start = layout.start_time_variable ? valueOf(variableOf(file, layout.start_time_variable, 'start time', where['mat.start_time_variable']), 'start time') : null;
-    return { channelAxis, rate, start, step: layout.time_variable ? stepOf(variableOf(file, layout.time_variable, 'time', where['mat.time_variable']), frames, where['mat.time_variable']) : null };
+    return { channelAxis, rate, start };
   } finally {
     try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ }
   }
-}
-
-/** The median step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
-function stepOf(t: Variable, frames: number, where: string): number {
-  const count = t.dims.reduce((a, b) => a * b, 1);
-  if ((t.cls != null && !NUMERIC.includes(t.cls)) || t.dims.filter((d) => d !== 1).length > 1 || count !== frames) {
-    throw new RecordingError(`variable "${t.name}" (the time) is ${t.cls ?? ''} ${t.dims.join(' × ')}; it must be a numeric vector of ${frames} times, one for each frame; correct ${where}`);
-  }
-  const k = Math.min(frames, TIME_PROBE);
-  if (k < 2) throw new RecordingError(`variable "${t.name}" (the time) holds one time, from which no sample rate follows; declare the rate`);
-  const step = medianStep(Float64Array.from(t.first(k), Number));
-  if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`variable "${t.name}" (the time) does not increase over its first ${k} values; check the file or ${where}`);
-  return step;
 }
 
 /** The HDF5 reader's messages name the MAT declaration's keys. */
@@ -133,7 +118,8 @@ const asHdf5 = (d: DeclareHow): DeclareHow => ({
   ...d, hdf5: d.mat,
   where: { ...d.where, 'hdf5.datasets': d.where['mat.variables'], 'hdf5.channel_axis': d.where['mat.channel_axis'], 'hdf5.sample_rate_attribute': d.where['mat.sample_rate_variable'], 'hdf5.start_time_attribute': d.where['mat.start_time_variable'],
     // The HDF5 reader's other sources of the rate and the start time are, in a MAT-file, the time vector and the variable.
-    'hdf5.sample_rate_dataset': d.where['mat.time_variable'], 'hdf5.start_time_dataset': d.where['mat.start_time_variable'] },
+    'hdf5.sample_rate_dataset': d.where['mat.sample_rate_variable'], 'hdf5.start_time_dataset': d.where['mat.start_time_variable'],
+    'hdf5.time_dataset': d.where['mat.time_variable'] },
 });
 const said = (e: unknown) => (e instanceof RecordingError ? new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`) : e);
 
@@ -143,14 +129,17 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
     let facts: Facts;
     try { facts = await onceMore((h5) => readFacts(h5, path, layout, declareHow), 'reading the variables'); } finally { release(); }
     const where = declareHow.where;
-    const rate = facts.rate != null ? sampleRateFrom(facts.rate, layout.sample_rate_variable!, where['mat.sample_rate_variable'])
-      : facts.step != null ? rateFromStep(facts.step, declaredSampleRate, layout.time_variable!, where.sample_rate) : declaredSampleRate;
+    const rate = facts.rate != null ? sampleRateFrom(facts.rate, layout.sample_rate_variable!, where['mat.sample_rate_variable']) : declaredSampleRate;
     const startTime = facts.start == null ? null : startTimeFrom(facts.start, layout.start_time_variable!, where['mat.start_time_variable']);
-    const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
-    async function* chunks(): AsyncGenerator<Float64Array[]> {
-      try { yield* rec.chunks(); } catch (e) { throw said(e); }
-    }
-    return { ...rec, format: 'mat', startTime, chunks };
+    // A time vector is read by the HDF5 reader beside the samples: the rate from its steps, irregular ones counted.
+    const time = layout.time_variable ? { time_dataset: datasetOf(layout.time_variable) } : {};
+    const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null, ...time }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
+    // The HDF5 reader's own recording, so that what it finds while reading (the time steps, notes) stays on it.
+    const samples = rec.chunks;
+    return Object.assign(rec, {
+      format: 'mat' as const, startTime,
+      async *chunks(): AsyncGenerator<Float64Array[]> { try { yield* samples(); } catch (e) { throw said(e); } },
+    });
   } catch (e) {
     throw said(e);
   }

@@ -1,5 +1,6 @@
 // The steps of a recording's own time values (a CSV time column, a MAT-file time vector) held against their nominal step:
 // the ones off by more than the tolerance are counted, and the widest kept, for the notes and the dropout flag.
+import { RecordingError } from './recording.js';
 
 export interface TimeSteps { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number }
 
@@ -27,3 +28,20 @@ export function stepCounter(nominal: number, tolerance: number) {
 /** The note a recording carries when its time values stepped irregularly. */
 export const irregularNote = (s: TimeSteps, steps: number) =>
   `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s; samples were taken as evenly spaced`;
+
+/** The median of a time vector's steps: its nominal step, which a dropout among the first times does not pull (common practice). */
+export function medianStep(times: Float64Array): number {
+  const steps = Float64Array.from({ length: times.length - 1 }, (_, i) => times[i + 1] - times[i]).sort();
+  const mid = steps.length >> 1;
+  return steps.length % 2 ? steps[mid] : (steps[mid - 1] + steps[mid]) / 2;
+}
+
+/** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
+export const TIME_PROBE = 4096;
+
+/** The sample rate a time vector's median step gives, held against a declared one as a CSV file's time column is (0.5 %). */
+export function rateFromStep(step: number, declared: number | null, held: string, where: string): number {
+  const derived = 1 / step;
+  if (declared != null && Math.abs(derived - declared) > 0.005 * declared) throw new RecordingError(`${held} (the time) steps at ${derived.toPrecision(6)} Hz but the declaration says ${declared} Hz; correct ${where} or check the file`);
+  return declared ?? Number(derived.toPrecision(6));
+}
