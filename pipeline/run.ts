@@ -17,6 +17,7 @@ import type { QualitySummary } from './outputs/quality.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/report.js';
 import { writing } from './outputs/staged.js';
 import { sweepLeftovers } from './outputs/sweep-leftovers.js';
+import { sweepSpools } from '../stages/read/mat-spool.js';
 import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan } from './select/scan.js';
@@ -89,6 +90,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   try {
     // What a run stopped while writing left under temporary names goes first.
     const leftovers = await sweepLeftovers(outDir, shard);
+    // So are the temporary copies of compressed MAT-file variables that runs or threads since stopped left in TMPDIR.
+    await sweepSpools();
     const scanned = await scan(root, declaration, { exclude: [outDir] });
     store = await Store.open(outDir, shard);
     const s = store;

@@ -29,8 +29,8 @@ export function sampleArchiveCopy(): string {
 }
 
 /** The built command line (npm test builds it first) in a process of its own; `limitMs` stops it should it wait or spin. */
-function spawnQuern(nodeOptions: string[], args: string[], limitMs?: number) {
-  const r = spawnSync(process.execPath, [...nodeOptions, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', timeout: limitMs, env: { ...process.env, FORCE_COLOR: '0' } });
+function spawnQuern(nodeOptions: string[], args: string[], limitMs?: number, env: Record<string, string> = {}) {
+  const r = spawnSync(process.execPath, [...nodeOptions, join(repo, 'dist', 'pipeline', 'cli.js'), ...args], { encoding: 'utf8', timeout: limitMs, env: { ...process.env, FORCE_COLOR: '0', ...env } });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr, signal: r.signal };
 }
 
@@ -39,6 +39,9 @@ export const quern = (...args: string[]) => spawnQuern([], args);
 
 /** The same, with Node's own options before the command (a V8 trace, say). */
 export const quernUnder = (nodeOptions: string[], ...args: string[]) => spawnQuern(nodeOptions, args);
+
+/** The same, with variables added to its environment (TMPDIR, say). */
+export const quernWith = (env: Record<string, string>, ...args: string[]) => spawnQuern([], args, undefined, env);
 
 /** The same, stopped after `limitMs` (its signal then says so): a command that waits or spins fails its test, not the suite. */
 export const quernWithin = (limitMs: number, ...args: string[]) => spawnQuern([], args, limitMs);

@@ -1,13 +1,13 @@
 // The MAT-file reader against files written by scipy.io.savemat 1.10.1 and one written byte by byte from MathWorks' "MAT-File
 // Format" description, each read back by scipy.io.loadmat (test/fixtures/make-mat-fixtures.py).
 import { describe, expect, it } from 'vitest';
-import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { copyFileSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { deflateSync } from 'node:zlib';
 import { join } from 'node:path';
 import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording } from '../stages/read/open.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
-import { fixture, readAll, readJson, tempDir } from './helpers.js';
+import { fixture, quernWith, readAll, readJson, tempDir } from './helpers.js';
 
 interface MatFixture { file: string; case: string | null; mat: MatLayout; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
 const fixtures: MatFixture[] = readJson(fixture('mat', 'expected.json')).files;
@@ -133,5 +133,21 @@ describe('MAT-file reader against scipy.io', () => {
     } finally {
       if (before == null) delete process.env.TMPDIR; else process.env.TMPDIR = before;
     }
+  });
+});
+
+describe('temporary copies that stopped runs leave', () => {
+  it('a run removes the copies of processes no longer running, and leaves those of running ones', () => {
+    const tmp = tempDir();
+    // A process id above any Linux pid_max (2^22) runs nowhere; this process runs.
+    const dead = join(tmp, 'quern-mat-4999999-abc'), alive = join(tmp, `quern-mat-${process.pid}-def`), other = join(tmp, 'quern-mat-notes');
+    for (const d of [dead, alive, other]) { mkdirSync(d); writeFileSync(join(d, 'variable'), 'x'); }
+    const archive = join(tempDir(), 'archive');
+    mkdirSync(archive);
+    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - { name: m, match: "*.mat", mat: { variables: data, channel_axis: 1, sample_rate_variable: fs } }\n');
+    copyFileSync(fixture('mat', 'rig-columns.mat'), join(archive, 'r.mat'));
+    const r = quernWith({ TMPDIR: tmp }, 'reduce', archive, '--out', join(archive, '..', 'out'), '--quiet');
+    expect(r.code, r.stderr).toBe(0);
+    expect(readdirSync(tmp).sort()).toEqual([`quern-mat-${process.pid}-def`, 'quern-mat-notes']);
   });
 });

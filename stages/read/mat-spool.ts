@@ -1,7 +1,7 @@
 // A compressed variable that several channels read from different places is inflated once into a temporary file, so that
 // each channel reads its part where it lies instead of inflating everything before it again (time linear in the channels).
 import { createReadStream, createWriteStream } from 'node:fs';
-import { mkdtemp, open, rm, type FileHandle } from 'node:fs/promises';
+import { mkdtemp, open, readdir, rm, type FileHandle } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Transform } from 'node:stream';
@@ -28,7 +28,8 @@ function atMost(limit: number, where: string): Transform {
  * at most `limit` bytes: the size its own array tag declares.
  */
 export async function spoolInflated(path: string, start: number, length: number, where: string, limit: number, dir = tmpdir()): Promise<Spool> {
-  const folder = await mkdtemp(join(dir, 'quern-mat-'));
+  // The process's id in the name: a copy whose thread was stopped before it could remove it is swept by a later run.
+  const folder = await mkdtemp(join(dir, `quern-mat-${process.pid}-`));
   const remove = () => rm(folder, { recursive: true, force: true });
   const target = join(folder, 'variable');
   try {
@@ -51,3 +52,24 @@ export async function spoolInflated(path: string, start: number, length: number,
     throw e;
   }
 }
+
+/** Whether a process with this id runs on this host (a signal 0 checks without sending anything). */
+function running(pid: number): boolean {
+  try { process.kill(pid, 0); return true; } catch (e) { return (e as NodeJS.ErrnoException).code === 'EPERM'; }
+}
+
+/**
+ * Removes the temporary copies that processes no longer running left behind (a thread stopped for a stall, a run ended
+ * with SIGKILL); returns how many. Copies of running processes, this one included, are theirs.
+ */
+export async function sweepSpools(dir = tmpdir()): Promise<number> {
+  const names = await readdir(dir).catch(() => [] as string[]);
+  let removed = 0;
+  for (const name of names) {
+    const m = name.match(/^quern-mat-(\d+)-/);
+    if (!m || running(Number(m[1]))) continue;
+    await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
+  }
+  return removed;
+}
+
