@@ -3,6 +3,7 @@ import pLimit from 'p-limit';
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
 import { readerOptionsOf } from '../plan/plan.js';
+import { isCalendarDate } from '../../stages/read/iso-time.js';
 
 /** Stable shard of a recording, 1…n, from a hash of its path (FNV-1a, 32 bits): the same on every machine and run. */
 export function shardOf(recording: string, n: number): number {
@@ -38,7 +39,7 @@ function check(k: number, n: number, from: string): Shard {
 const SPAN = /^(\d+(?:\.\d+)?)\s*(s|m|h|d|w)$/;
 const UNIT_MS = { s: 1_000, m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_000 } as const;
 /** ISO 8601 date, optionally with a time of day and a zone: 2026-11-16, 2026-11-16T02:00, 2026-11-16T02:00:30.5+01:00. */
-export const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?$/;
+const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?$/;
 
 /** A date or date-time (ISO 8601; a bare date is midnight UTC), or a span back from now such as 7d, 12h, 30m, 2w. */
 export function parseWhen(text: string, now = Date.now()): number {
@@ -55,12 +56,6 @@ export function parseWhen(text: string, now = Date.now()): number {
   }
   return t;
 }
-
-/** Whether the day exists: Date.UTC rolls 30 February over into March. */
-export const isCalendarDate = (y: number, m: number, d: number) => {
-  const day = new Date(Date.UTC(y, m - 1, d));
-  return day.getUTCFullYear() === y && day.getUTCMonth() === m - 1 && day.getUTCDate() === d;
-};
 
 /** The period [since, until) as given; one that holds no instant is a mistake, not a night with nothing to do. */
 export function checkPeriod(since: number | null, until: number | null, sinceText?: string, untilText?: string): void {

@@ -4,7 +4,7 @@ import { activeStages } from '../../stages/index.js';
 import type { BaselineRestartSpec, FeatureLimits, ReductionSpec, TrendsSpec } from '../../spec/reduction.js';
 import { nearestNames } from '../declare/nearest-names.js';
 import { UsageError } from '../declare/yaml-file.js';
-import { isCalendarDate, ISO_DATE } from '../select/select.js';
+import { isoTimeMs } from '../../stages/read/iso-time.js';
 
 /** How a feature's change is put in decibels: as an amplitude ratio, as a difference of dB values, or not at all. */
 export type LevelKind = 'amplitude' | 'decibel' | null;
@@ -113,12 +113,9 @@ export function unknownLimits(spec: ReductionSpec): { name: string; nearest: str
   return Object.keys(spec.trends?.limits ?? {}).filter((name) => !names.includes(name)).map((name) => ({ name, nearest: nearestNames(name, names) }));
 }
 
-/** A date or date-time, taken as UTC when it names no zone. */
+/** A date or date-time, taken as UTC when it names no zone (ISO 8601 on a real calendar day, as files' start times are). */
 function instant(text: string, key: string): number {
-  const zoned = /(Z|[+-]\d\d:?\d\d)$/i.test(text) || /^\d{4}-\d\d-\d\d$/.test(text) ? text : `${text}Z`;
-  // ISO 8601 calendar dates only: V8 reads free text leniently ("7 January" as 7 January 2001) and rolls 30 February into March.
-  const iso = zoned.match(ISO_DATE);
-  const t = iso && isCalendarDate(Number(iso[1]), Number(iso[2]), Number(iso[3])) ? Date.parse(zoned) : NaN;
+  const t = isoTimeMs(text);
   if (!Number.isFinite(t)) throw new UsageError(`reduction spec: trends.baseline.${key}: "${text}" is not a date or date-time (2026-11-16, 2026-11-16T02:00Z)`);
   return t;
 }

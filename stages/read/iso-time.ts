@@ -8,8 +8,13 @@ export function isoTimeMs(text: string): number {
   const m = text.trim().match(ISO_DATE_TIME);
   if (!m) return NaN;
   const [, y, mo, d, h = '00', mi = '00', s = '00', fraction = '', zone = 'Z'] = m;
-  const day = new Date(Date.UTC(Number(y), Number(mo) - 1, Number(d)));
-  if (day.getUTCFullYear() !== Number(y) || day.getUTCMonth() !== Number(mo) - 1 || day.getUTCDate() !== Number(d)) return NaN;
+  if (!isCalendarDate(Number(y), Number(mo), Number(d))) return NaN;
   if (Number(h) > 23 || Number(mi) > 59 || Number(s) > 59) return NaN;
   return Date.parse(`${y}-${mo}-${d}T${h}:${mi}:${s}${fraction}${zone.toUpperCase()}`);
 }
+
+/** Whether the day exists: Date.UTC rolls 30 February over into March. */
+export const isCalendarDate = (y: number, m: number, d: number) => {
+  const day = new Date(Date.UTC(y, m - 1, d));
+  return day.getUTCFullYear() === y && day.getUTCMonth() === m - 1 && day.getUTCDate() === d;
+};
