@@ -4,7 +4,7 @@
 import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
-import { isoTimeMs } from './iso-time.js';
+import { rateFrom, scalar, startFrom } from './setting-values.js';
 import { irregularNote, medianStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
@@ -73,8 +73,6 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
   throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct ${where} or check the file`);
 }
 
-const scalar = (v: unknown) => (ArrayBuffer.isView(v) || Array.isArray(v)) && (v as ArrayLike<unknown>).length === 1 ? (v as ArrayLike<unknown>)[0] : v;
-
 /** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
 function datasetValue(file: HdfFile, path: string, what: string, where: string): unknown {
   let obj;
@@ -87,22 +85,6 @@ function datasetValue(file: HdfFile, path: string, what: string, where: string):
     if (count !== 1) throw new RecordingError(`dataset "${path}" (the ${what}) holds ${count} values (${(ds.shape ?? []).join(' × ')}); it must hold one; correct ${where}`);
     return scalar(ds.value);
   } catch (e) { rethrowStop(e); if (e instanceof RecordingError) throw e; throw new RecordingError(`dataset "${path}" (the ${what}) cannot be read: ${firstLine(e)}; the file is damaged`); }
-}
-
-/** The sample rate a value holds; `held` says where it was found. */
-function rateOf(value: unknown, held: string, where: string): number {
-  const v = scalar(value);
-  const rate = typeof v === 'bigint' ? Number(v) : typeof v === 'string' ? Number(v) : (v as number);
-  if (typeof rate !== 'number' || !(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`${held} (the sample rate) holds ${JSON.stringify(String(v)).slice(0, 60)}, not a positive number of Hz; check the file or ${where}`);
-  return rate;
-}
-
-/** The start time a value holds: ISO 8601 text, or POSIX seconds. */
-function timeOf(value: unknown, held: string, where: string): Date {
-  const v = scalar(value);
-  const t = typeof v === 'string' ? isoTimeMs(v) : Number(v) * 1000;
-  if (!Number.isFinite(t)) throw new RecordingError(`${held} (the start time) holds ${JSON.stringify(String(v)).slice(0, 60)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
-  return new Date(t);
 }
 
 interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean }
@@ -178,8 +160,8 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
     const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
-    const fromFile = rateSpec ? rateOf(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
-      : rateSet ? rateOf(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
+    const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
+      : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
     const step = time ? timeStepOf(time, frames) : null;
     const sampleRate = fromFile ?? (step != null ? rateFromStep(step, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
@@ -188,8 +170,8 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       const places = [...new Set([where.sample_rate, where['hdf5.sample_rate_attribute'], where['hdf5.sample_rate_dataset'], where['hdf5.time_dataset']])];
       throw new RecordingError(`dataset "${first.path}": no sample rate; set ${places.slice(0, -1).join(', ')} or ${places.at(-1)}`);
     }
-    const startTime = timeSpec ? timeOf(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
-      : timeSet ? timeOf(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
+    const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
+      : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
     return { h5, file, sources, channels, frames, axis, sampleRate, startTime, time, step };
   } catch (e) {
     closeQuietly(file);

@@ -5,7 +5,8 @@ import { open, type FileHandle } from 'node:fs/promises';
 import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
 import { className, CLASS_BITS, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
-import { decodeInto, isNumericType, sampleRateFrom, startTimeFrom } from './mat-values.js';
+import { decodeInto, isNumericType } from './mat-values.js';
+import { rateFrom, startFrom } from './setting-values.js';
 import { RecordingError } from './recording.js';
 
 /** One variable at the file's top level: where its element lies and what it holds. */
@@ -148,8 +149,8 @@ export function numericOrRefuse(f: Found, what: string): void {
   if (h.logical) throw new RecordingError(`${f.where} holds logical values, not the ${what}`);
 }
 
-export const sampleRateOf = async (m: MatFile, path: string, where: string) => sampleRateFrom(await valueOf(m, path, 'sample rate', where), path, where);
-export const startTimeOf = async (m: MatFile, path: string, where: string) => startTimeFrom(await valueOf(m, path, 'start time', where), path, where);
+export const sampleRateOf = async (m: MatFile, path: string, where: string) => rateFrom(await valueOf(m, path, 'sample rate', where), `variable "${path}"`, where);
+export const startTimeOf = async (m: MatFile, path: string, where: string) => startFrom(await valueOf(m, path, 'start time', where), `variable "${path}"`, where);
 
 /** Where one channel's values are read from: a cursor at its first value, and how many values apart its frames are. */
 export interface ChannelSource { cursor: ByteCursor; type: number; inline: Uint8Array | null; /** Channels interleaved in this source (1 for a column or a vector). */ width: number }

@@ -1,8 +1,6 @@
 // Numbers stored in a MAT-file element, decoded into samples: the stored type may be narrower than the array's class
 // (MATLAB keeps whole-number doubles as miUINT8, miINT16…), so the class, not the stored type, sets the full scale.
 import { CLASS_BITS, MI, view } from './mat-element.js';
-import { RecordingError } from './recording.js';
-import { isoTimeMs } from './iso-time.js';
 
 const HOST_LITTLE = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
@@ -42,19 +40,3 @@ export function decodeInto(bytes: Uint8Array, type: number, little: boolean, cou
 
 /** Whether a stored type holds numbers the decoder reads. */
 export const isNumericType = (type: number) => ([MI.INT8, MI.UINT8, MI.INT16, MI.UINT16, MI.INT32, MI.UINT32, MI.SINGLE, MI.DOUBLE, MI.INT64, MI.UINT64] as number[]).includes(type);
-
-const shown = (v: number | string) => (typeof v === 'string' ? JSON.stringify(v.slice(0, 60)) : String(v));
-
-/** The sample rate a variable holds: one number, or text of one. */
-export function sampleRateFrom(v: number | string, variable: string, where: string): number {
-  const rate = typeof v === 'string' ? Number(v) : v;
-  if (!(rate > 0) || !Number.isFinite(rate)) throw new RecordingError(`variable "${variable}" (the sample rate) holds ${shown(v)}, not a positive number of Hz; check the file or ${where}`);
-  return rate;
-}
-
-/** The start time a variable holds: ISO 8601 text (UTC unless it carries an offset), or a number of POSIX seconds. */
-export function startTimeFrom(v: number | string, variable: string, where: string): Date {
-  const t = typeof v === 'string' ? isoTimeMs(v) : v * 1000;
-  if (!Number.isFinite(t)) throw new RecordingError(`variable "${variable}" (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds; check the file or ${where}`);
-  return new Date(t);
-}

@@ -6,7 +6,7 @@ import { open } from 'node:fs/promises';
 import { firstLine, onceMore, openHdf5 } from './hdf5.js';
 import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
-import { sampleRateFrom, startTimeFrom } from './mat-values.js';
+import { rateFrom, startFrom } from './setting-values.js';
 import { RecordingError, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
@@ -129,8 +129,8 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
     let facts: Facts;
     try { facts = await onceMore((h5) => readFacts(h5, path, layout, declareHow), 'reading the variables'); } finally { release(); }
     const where = declareHow.where;
-    const rate = facts.rate != null ? sampleRateFrom(facts.rate, layout.sample_rate_variable!, where['mat.sample_rate_variable']) : declaredSampleRate;
-    const startTime = facts.start == null ? null : startTimeFrom(facts.start, layout.start_time_variable!, where['mat.start_time_variable']);
+    const rate = facts.rate != null ? rateFrom(facts.rate, `variable "${layout.sample_rate_variable}"`, where['mat.sample_rate_variable']) : declaredSampleRate;
+    const startTime = facts.start == null ? null : startFrom(facts.start, `variable "${layout.start_time_variable}"`, where['mat.start_time_variable']);
     // A time vector is read by the HDF5 reader beside the samples: the rate from its steps, irregular ones counted.
     const time = layout.time_variable ? { time_dataset: datasetOf(layout.time_variable) } : {};
     const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null, ...time }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
