@@ -5,7 +5,7 @@ import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
-import { irregularNote, stepCounter } from './time-steps.js';
+import { keepSteps, stepCounter } from './time-steps.js';
 
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
@@ -133,11 +133,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     } finally {
       lineReader.close();
     }
-    if (timeColumn === 0) {
-      const timeSteps = steps.result();
-      Object.assign(recording, { timeSteps });
-      if (timeSteps.irregular > 0) notes.push(irregularNote(timeSteps, row - 1));
-    }
+    if (timeColumn === 0) keepSteps(recording, steps);
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
   }
   const recording: Recording = {

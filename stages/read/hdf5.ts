@@ -5,7 +5,7 @@ import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { rateFrom, scalar, startFrom } from './setting-values.js';
-import { irregularNote, medianStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
+import { keepSteps, nominalStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
@@ -163,7 +163,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
       : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
-    const step = time ? timeStepOf(time, frames) : null;
+    const step = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
     const sampleRate = fromFile ?? (step != null ? rateFromStep(step, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
     if (sampleRate == null) {
       // Where the rate may be given, each place once (a MAT-file's reader names two of these by one key).
@@ -188,14 +188,11 @@ function timeDatasetOf(file: HdfFile, path: string, frames: number, where: strin
 }
 
 /** The median step of a time dataset's first TIME_PROBE values. */
-function timeStepOf(t: Source, frames: number): number {
+function timeStepOf(t: Source, frames: number, where: string): number {
   const k = Math.min(frames, TIME_PROBE);
-  if (k < 2) throw new RecordingError(`dataset "${t.path}" (the time) holds one time, from which no sample rate follows; declare the rate`);
   let values;
   try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
-  const step = medianStep(Float64Array.from(values, Number));
-  if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`dataset "${t.path}" (the time) does not increase over its first ${k} values; check the file`);
-  return step;
+  return nominalStep(Float64Array.from(values, Number), `dataset "${t.path}"`, where);
 }
 
 /** The message for a file that stopped a fresh instance too. */
@@ -267,10 +264,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
           if (steps) { const times = await sliceTime(start, start + n); for (let i = 0; i < n; i++) steps.add(Number(times[i])); }
           yield n === chunk ? out : out.map((a) => a.subarray(0, n));
         }
-        if (steps) {
-          recording.timeSteps = steps.result();
-          if (recording.timeSteps.irregular > 0) recording.notes.push(irregularNote(recording.timeSteps, steps.steps));
-        }
+        if (steps) keepSteps(recording, steps);
       } finally {
         // Its samples read (or not, after an error), the file no longer needs the instance: the next file may take its turn.
         release();

@@ -7,7 +7,7 @@ import { closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type
 import { isMat73, openMat73 } from './mat73.js';
 import { className, CLASS_BITS, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
-import { irregularNote, medianStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
+import { keepSteps, nominalStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
@@ -48,13 +48,10 @@ async function timeStepOf(m: MatFile, path: string, frames: number, where: strin
   try {
     if (t.header.dims.filter((d) => d !== 1).length > 1 || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
     const k = Math.min(frames, TIME_PROBE), size = TYPE_BYTES[t.type];
-    if (k < 2) throw new RecordingError(`${t.where} (the time) holds one time, from which no sample rate follows; declare the rate`);
     const bytes = t.inline ? t.inline.subarray(0, k * size) : await t.cursor.take(k * size, 'its first times', new Uint8Array(new ArrayBuffer(k * size)));
     const probe = new Float64Array(k);
     decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), t.type, m.little, k, probe, 0, 1, AS_STORED);
-    const step = medianStep(probe);
-    if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`${t.where} (the time) does not increase over its first ${k} values; check the file or ${where}`);
-    return step;
+    return nominalStep(probe, t.where, where);
   } finally { t.cursor.close(); }
 }
 
@@ -153,10 +150,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
         }
         yield n === chunk ? out : out.map((a) => a.subarray(0, n));
       }
-      if (steps) {
-        recording.timeSteps = steps.result();
-        if (recording.timeSteps.irregular > 0) recording.notes.push(irregularNote(recording.timeSteps, steps.steps));
-      }
+      if (steps) keepSteps(recording, steps);
     }
     const recording: Recording = {
       format: 'mat', channelCount: channels, sampleRate, frames,

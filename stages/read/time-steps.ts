@@ -6,12 +6,12 @@ export interface TimeSteps { irregular: number; widest_s: number; widest_at_s: n
 
 /** Counts irregular steps as times arrive one by one, in order. */
 export function stepCounter(nominal: number, tolerance: number) {
-  let previous = NaN, irregular = 0, widest = 0, widestAt = NaN, steps = 0;
+  let previous = NaN, irregular = 0, widest = 0, widestAt = NaN, times = 0;
   return {
     add(t: number): void {
+      times++;
       if (Number.isFinite(previous)) {
         const dt = t - previous;
-        steps++;
         if (!(Math.abs(dt - nominal) <= tolerance)) {
           irregular++;
           if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
@@ -19,8 +19,8 @@ export function stepCounter(nominal: number, tolerance: number) {
       }
       previous = t;
     },
-    /** Steps seen so far (one fewer than the times). */
-    get steps() { return steps; },
+    /** Steps seen so far: one fewer than the times (a time that is no number still takes its place). */
+    get steps() { return Math.max(0, times - 1); },
     result: (): TimeSteps => ({ irregular, widest_s: widest, widest_at_s: widestAt, nominal_s: nominal }),
   };
 }
@@ -30,7 +30,7 @@ export const irregularNote = (s: TimeSteps, steps: number) =>
   `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s; samples were taken as evenly spaced`;
 
 /** The median of a time vector's steps: its nominal step, which a dropout among the first times does not pull (common practice). */
-export function medianStep(times: Float64Array): number {
+function medianStep(times: Float64Array): number {
   const steps = Float64Array.from({ length: times.length - 1 }, (_, i) => times[i + 1] - times[i]).sort();
   const mid = steps.length >> 1;
   return steps.length % 2 ? steps[mid] : (steps[mid - 1] + steps[mid]) / 2;
@@ -44,4 +44,18 @@ export function rateFromStep(step: number, declared: number | null, held: string
   const derived = 1 / step;
   if (declared != null && Math.abs(derived - declared) > 0.005 * declared) throw new RecordingError(`${held} (the time) steps at ${derived.toPrecision(6)} Hz but the declaration says ${declared} Hz; correct ${where} or check the file`);
   return declared ?? Number(derived.toPrecision(6));
+}
+
+/** A time vector's nominal step from its first times (at most TIME_PROBE of them), refusing one time or times that do not increase. */
+export function nominalStep(first: Float64Array, held: string, where: string): number {
+  if (first.length < 2) throw new RecordingError(`${held} (the time) holds one time, from which no sample rate follows; declare the rate`);
+  const step = medianStep(first);
+  if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`${held} (the time) does not increase over its first ${first.length} values; check the file or ${where}`);
+  return step;
+}
+
+/** Puts what a counter found on the recording once its times are read: the steps, and a note when some were irregular. */
+export function keepSteps(into: { timeSteps?: TimeSteps; notes: string[] }, counter: ReturnType<typeof stepCounter>): void {
+  into.timeSteps = counter.result();
+  if (into.timeSteps.irregular > 0) into.notes.push(irregularNote(into.timeSteps, counter.steps));
 }
