@@ -226,21 +226,14 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     const norm = o.sources.map(normaliser);
     const integer = first.type === 0;
     /** Samples of one dataset; after a stop, the file is opened again on the fresh instance and the same samples read again. */
-    const slice = (s: number, ranges: unknown, start: number, end: number) => onceMore((h5) => {
+    /** Values [start, end) of one dataset (`pick` finds it in the opened file: a channel's, or the time dataset); after a stop, the file is opened again on the fresh instance and the same values read again. */
+    const slice = (pick: (o: Opened) => Source, ranges: unknown, what: string, start: number, end: number) => onceMore((h5) => {
       if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow);
-      try { return o.sources[s].ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
+      try { return pick(o).ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
         rethrowStop(e);
-        throw new RecordingError(`dataset "${o.sources[s].path}": samples ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
+        throw new RecordingError(`dataset "${pick(o).path}": ${what} ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
       }
-    }, `reading samples ${start} to ${end} of dataset "${o.sources[s].path}"`);
-    /** Times of frames [start, end) from the time dataset, read as the samples are. */
-    const sliceTime = (start: number, end: number) => onceMore((h5) => {
-      if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow);
-      try { return o.time!.ds.slice(vectorRanges(o.time!.shape, [start, end]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
-        rethrowStop(e);
-        throw new RecordingError(`dataset "${o.time!.path}": times ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
-      }
-    }, `reading times ${start} to ${end} of dataset "${o.time?.path}"`);
+    }, `reading ${what} ${start} to ${end} of dataset "${pick(o).path}"`);
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
         const steps = o.step != null ? stepCounter(o.step, 0.01 * o.step) : null;
@@ -251,7 +244,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
           for (let s = 0; s < norm.length; s++) {
             const shape = o.sources[s].shape;
             const ranges = norm.length > 1 ? vectorRanges(shape, rows) : shape.length === 1 ? [rows] : axis === 1 ? [rows, [] as []] : [[] as [], rows];
-            const block = await slice(s, ranges, start, start + n);
+            const block = await slice((x) => x.sources[s], ranges, 'samples', start, start + n);
             const f = norm[s];
             if (norm.length > 1) { for (let i = 0; i < n; i++) out[s][i] = f(block[i]); continue; }
             // Samples × channels (axis 1) interleave the channels; channels × samples (axis 0) hold each channel's run in turn.
@@ -261,7 +254,11 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
               else for (let i = 0, at = c * n; i < n; i++, at++) into[i] = f(block[at]);
             }
           }
-          if (steps) { const times = await sliceTime(start, start + n); for (let i = 0; i < n; i++) steps.add(Number(times[i])); }
+          if (steps) {
+            // The time dataset's values for these frames, read as the samples are.
+            const times = await slice((x) => x.time!, vectorRanges(o.time!.shape, rows), 'times', start, start + n);
+            for (let i = 0; i < n; i++) steps.add(Number(times[i]));
+          }
           yield n === chunk ? out : out.map((a) => a.subarray(0, n));
         }
         if (steps) keepSteps(recording, steps);

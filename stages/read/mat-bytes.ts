@@ -36,6 +36,13 @@ export function storedCursor(file: FileHandle, start: number, length: number, wh
   };
 }
 
+/** What zlib's error on the stream at [start, start + length) means for the file: cut short, or damaged. */
+export function inflateFailure(e: unknown, where: string, start: number, length: number): RecordingError {
+  const message = (e as Error)?.message ?? String(e);
+  const cut = /unexpected end/i.test(message);
+  return new RecordingError(`${where}: the compressed data (${length} bytes from byte ${start}) ${cut ? 'ends before its stream does; the file is cut short' : `cannot be inflated (${message}); the file is damaged`}: copy it again`);
+}
+
 /** Bytes of the zlib stream stored at [start, start + length) of the file at `path`, inflated as they are asked for. */
 export function inflatedCursor(path: string, start: number, length: number, where: string): ByteCursor {
   const source = createReadStream(path, { start, end: start + Math.max(0, length) - 1, highWaterMark: 64 * 1024 });
@@ -52,11 +59,7 @@ export function inflatedCursor(path: string, start: number, length: number, wher
     while (used >= piece.length) {
       if (ended) return false;
       let next: IteratorResult<Buffer>;
-      try { next = await pieces.next(); } catch (e) {
-        const message = (e as Error)?.message ?? String(e);
-        const cut = /unexpected end/i.test(message);
-        throw new RecordingError(`${where}: ${what}: the compressed data (${length} bytes from byte ${start}) ${cut ? 'ends before its stream does; the file is cut short' : `cannot be inflated (${message}); the file is damaged`}: copy it again`);
-      }
+      try { next = await pieces.next(); } catch (e) { throw inflateFailure(e, `${where}: ${what}`, start, length); }
       if (next.done) { ended = true; return false; }
       piece = next.value; used = 0;
     }

@@ -8,6 +8,7 @@ import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { createInflate } from 'node:zlib';
 import { RecordingError } from './recording.js';
+import { inflateFailure } from './mat-bytes.js';
 
 export interface Spool { file: FileHandle; bytes: number; remove(): Promise<void> }
 
@@ -41,8 +42,7 @@ export async function spoolInflated(path: string, start: number, length: number,
       if (err.syscall === 'write' || err.code === 'ENOSPC' || err.code === 'EDQUOT') {
         throw new RecordingError(`${where}: inflating it into ${folder} failed (${err.code ?? err.message}); it needs as much room as the variable's uncompressed size: free space there, or set TMPDIR to a folder with room`);
       }
-      const cut = /unexpected end/i.test(err.message ?? '');
-      throw new RecordingError(`${where}: the compressed data (${length} bytes from byte ${start}) ${cut ? 'ends before its stream does; the file is cut short' : `cannot be inflated (${err.message}); the file is damaged`}: copy it again`);
+      throw inflateFailure(err, where, start, length);
     }
     const file = await open(target, 'r');
     const bytes = (await file.stat()).size;
