@@ -92,3 +92,20 @@ export function textOf(data: Uint8Array, type: number, little: boolean): string 
   for (let i = 0; i + size <= data.length; i += size) codes.push(size === 2 ? v.getUint16(i, little) : v.getUint32(i, little));
   return size === 2 ? String.fromCharCode(...codes) : String.fromCodePoint(...codes.map((x) => (x <= 0x10ffff ? x : 0xfffd)));
 }
+
+/** Whether an array of these dimensions is a vector (every side but one is 1). */
+export const isVectorDims = (dims: number[]) => dims.filter((d) => d !== 1).length <= 1;
+
+/**
+ * How one variable of these dimensions holds its channels: a vector is one channel; a matrix needs `axis` (1: columns are
+ * channels, MATLAB's usual samples × channels; 0: rows are). Trailing singleton dimensions beyond two are dropped.
+ */
+export function channelLayout(dims: number[], axis: 0 | 1 | null, where: string, axisWhere: string): { by: 'vector' | 'rows' | 'columns'; channels: number; frames: number } {
+  const d = [...dims];
+  while (d.length > 2 && d[d.length - 1] === 1) d.pop();
+  if (d.length !== 2) throw new RecordingError(`${where} has ${d.length} dimensions (${dims.join(' × ')}); quern reads one axis of samples and at most one of channels`);
+  const [rows, columns] = d;
+  if (rows === 1 || columns === 1) return { by: 'vector', channels: 1, frames: rows * columns };
+  if (axis == null) throw new RecordingError(`${where} has two axes (${rows} × ${columns}); set ${axisWhere} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
+  return axis === 0 ? { by: 'rows', channels: rows, frames: columns } : { by: 'columns', channels: columns, frames: rows };
+}

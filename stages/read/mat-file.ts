@@ -4,7 +4,7 @@
 import { open, type FileHandle } from 'node:fs/promises';
 import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
-import { className, CLASS_BITS, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { className, CLASS_BITS, isVectorDims, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, isNumericType } from './mat-values.js';
 import { rateFrom, startFrom } from './setting-values.js';
 import { RecordingError } from './recording.js';
@@ -130,7 +130,7 @@ async function valueOf(m: MatFile, path: string, what: string, where: string): P
   try {
     const t = await readTag(f.cursor, m.little, `${f.where}: its value`);
     if (f.header.cls === MX.CHAR) {
-      if (f.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${f.where} is a ${f.header.dims.join(' × ')} char array; the ${what} is one line of text or one number`);
+      if (!isVectorDims(f.header.dims)) throw new RecordingError(`${f.where} is a ${f.header.dims.join(' × ')} char array; the ${what} is one line of text or one number`);
       return textOf(await readData(f.cursor, t, 1024, `${f.where}: its text`), t.type, m.little).trim();
     }
     numericOrRefuse(f, what);

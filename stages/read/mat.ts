@@ -5,7 +5,7 @@
 // temporary file first (mat-spool.ts), removed when the recording closes. Finding the variables: mat-file.ts.
 import { closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type ChannelSource, type MatFile, type TopElement } from './mat-file.js';
 import { isMat73, openMat73 } from './mat73.js';
-import { className, CLASS_BITS, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
 import { keepSteps, nominalStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
@@ -25,17 +25,9 @@ export interface MatLayout {
   time_variable?: string | null;
 }
 
-/** Dimensions without trailing singletons beyond two: a × b × 1 is a × b. */
-function matrixShape(h: ArrayHeader, where: string): [number, number] {
-  const dims = [...h.dims];
-  while (dims.length > 2 && dims[dims.length - 1] === 1) dims.pop();
-  if (dims.length !== 2) throw new RecordingError(`${where} has ${dims.length} dimensions (${h.dims.join(' × ')}); quern reads one axis of samples and at most one of channels`);
-  return [dims[0], dims[1]];
-}
-
 /** One variable of a recording's one-per-channel list: a vector as long as the first and of its class. */
 function checkVector(s: { header: ArrayHeader; where: string }, first: { where: string }, frames: number, cls: number): void {
-  if (s.header.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
+  if (!isVectorDims(s.header.dims)) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
   if (s.header.count !== frames) throw new RecordingError(`${s.where} holds ${s.header.count} samples but ${first.where} holds ${frames}; the channels of one recording must be equally long`);
   if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
 }
@@ -46,7 +38,7 @@ const AS_STORED = { scale: 1, shift: 0 };
 async function timeStepOf(m: MatFile, path: string, frames: number, where: string): Promise<number> {
   const t = await sourceAt(m, path, 'time', where, 0);
   try {
-    if (t.header.dims.filter((d) => d !== 1).length > 1 || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
+    if (!isVectorDims(t.header.dims) || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
     const k = Math.min(frames, TIME_PROBE), size = TYPE_BYTES[t.type];
     const bytes = t.inline ? t.inline.subarray(0, k * size) : await t.cursor.take(k * size, 'its first times', new Uint8Array(new ArrayBuffer(k * size)));
     const probe = new Float64Array(k);
@@ -72,16 +64,15 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     let channels: number, frames: number;
     let plan: SourcePlan[];
     if (layout.variables.length === 1) {
-      const [rows, columns] = matrixShape(first.header, first.where);
-      if (rows === 1 || columns === 1) { channels = 1; frames = rows * columns; plan = [{ variable: layout.variables[0], first: 0, width: 1 }]; }
-      else if (layout.channel_axis == null) throw new RecordingError(`${first.where} has two axes (${rows} × ${columns}); set ${where['mat.channel_axis']} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
+      const held = channelLayout(first.header.dims, layout.channel_axis, first.where, where['mat.channel_axis']);
+      ({ channels, frames } = held);
+      if (held.by === 'vector') plan = [{ variable: layout.variables[0], first: 0, width: 1 }];
       // Rows as channels: MATLAB stores arrays column by column, so each frame's channels lie side by side.
-      else if (layout.channel_axis === 0) { channels = rows; frames = columns; plan = [{ variable: layout.variables[0], first: 0, width: rows }]; }
+      else if (held.by === 'rows') plan = [{ variable: layout.variables[0], first: 0, width: channels }];
       else {
         // Columns as channels: each channel's samples lie together, so each channel reads from its own place.
-        channels = columns; frames = rows;
         checkChannelCount(channels, first.where);
-        plan = Array.from({ length: channels }, (_, c) => ({ variable: layout.variables[0], first: c * rows, width: 1 }));
+        plan = Array.from({ length: channels }, (_, c) => ({ variable: layout.variables[0], first: c * frames, width: 1 }));
         const e = topOf(layout.variables[0])!;
         if (e.compressed) m.shared.add(e);
       }

@@ -7,6 +7,7 @@ import { firstLine, onceMore, openHdf5 } from './hdf5.js';
 import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
 import { rateFrom, startFrom } from './setting-values.js';
+import { channelLayout, isVectorDims } from './mat-element.js';
 import { RecordingError, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
@@ -93,17 +94,11 @@ function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareH
     for (const v of samples) if (v.cls != null && !NUMERIC.includes(v.cls)) throw new RecordingError(`variable "${v.name}" is a ${v.cls} array; the samples must be numbers (double, single or an integer class)`);
     let channelAxis: 0 | 1 | null = null;
     if (samples.length === 1) {
-      const dims = [...samples[0].dims];
-      while (dims.length > 2 && dims[dims.length - 1] === 1) dims.pop();
-      if (dims.length !== 2) throw new RecordingError(`variable "${samples[0].name}" has ${dims.length} dimensions (${samples[0].dims.join(' × ')}); quern reads one axis of samples and at most one of channels`);
-      const [rows, columns] = dims;
-      if (rows !== 1 && columns !== 1) {
-        if (layout.channel_axis == null) throw new RecordingError(`variable "${samples[0].name}" has two axes (${rows} × ${columns}); set ${where['mat.channel_axis']} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
-        // MATLAB's columns are HDF5's rows.
-        channelAxis = layout.channel_axis === 1 ? 0 : 1;
-      }
+      const { by } = channelLayout(samples[0].dims, layout.channel_axis, `variable "${samples[0].name}"`, where['mat.channel_axis']);
+      // MATLAB's columns are HDF5's rows.
+      channelAxis = by === 'columns' ? 0 : by === 'rows' ? 1 : null;
     } else {
-      for (const v of samples) if (v.dims.filter((d) => d !== 1).length > 1) throw new RecordingError(`variable "${v.name}" is ${v.dims.join(' × ')}; with one variable per channel each must be a vector`);
+      for (const v of samples) if (!isVectorDims(v.dims)) throw new RecordingError(`variable "${v.name}" is ${v.dims.join(' × ')}; with one variable per channel each must be a vector`);
     }
     const rate = layout.sample_rate_variable ? valueOf(variableOf(file, layout.sample_rate_variable, 'sample rate', where['mat.sample_rate_variable']), 'sample rate') : null;
     const start = layout.start_time_variable ? valueOf(variableOf(file, layout.start_time_variable, 'start time', where['mat.start_time_variable']), 'start time') : null;
