@@ -124,6 +124,7 @@ async function main(argv: string[]): Promise<number> {
       .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
       .option('force', { type: 'boolean', default: false, describe: 'Recompute everything; reuse nothing from earlier runs' })
       .option('hash', { type: 'boolean', default: false, describe: 'Identify unchanged recordings by a content hash, not only size and modification time' })
+      .option('retry-failed', { type: 'boolean', default: false, describe: 'Reduce again the recordings that failed before, though file, declaration and spec are unchanged (once storage or a reader is mended)' })
       .option('shard', { type: 'string', describe: 'Reduce one stable share, K/N (1 ≤ K ≤ N), or auto (Slurm array / Kubernetes indexed job); writes part files for quern merge' })
       .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time or span back from now (7d, 12h)' })
       .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
@@ -156,7 +157,7 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs });
       if (a.log === 'json') {
         // What a job reading the log needs besides the counts: what changed in the machine, and which rigs fell quiet.
         const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;

@@ -36,6 +36,8 @@ export interface ReduceOptions {
   force?: boolean;
   /** Identify recordings by a hash of their content, not only by size and modification time. */
   hash?: boolean;
+  /** Reduce again the recordings whose stored entry is a failure. */
+  retryFailed?: boolean;
   /** Reduce only this shard's share and write part files. */
   shard?: Shard | null;
   /** Only recordings starting in [since, until), ms since the epoch. */
@@ -104,7 +106,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     if (firstRun) void pool.prestart(chosen.length);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decided = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash });
+    const decided = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash, retryFailed: o.retryFailed });
     const { itemOf, identityOf } = decided;
     // Captures that may still be written wait for the next run.
     const { taken: decisions, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);

@@ -21,7 +21,7 @@ async function capture() {
   const job: RecordingJob = { recording: 'rig.wav', path, group: 'rig', format: null, sampleRate: null, layout: null, channels: [{ name: 'acc', quantity: 'acceleration', unit: 'g', scale: 1, offset: 0, range: null, bits: 16, max_frequency_hz: null }], labels: {}, durationS: null, spec, chunkFrames: 4096 };
   const item = (): BatchItem => {
     const s = statSync(path);
-    return { job, store: { identity: { size: s.size, mtimeMs: s.mtimeMs, hash: null }, hashContent: false, readAtMs: Date.now(), declKey: 'k', version: 'test', keys: { statistics: 'k' }, specHash: 'h', compute: ['statistics'], reused: [], previous: null } };
+    return { job, store: { identity: { size: s.size, mtimeMs: s.mtimeMs, hash: null }, hashContent: false, readAtMs: Date.now(), declKey: 'k', version: 'test', keys: { statistics: 'k' }, specHash: 'h', compute: ['statistics'], reused: [], previous: null, stalledBefore: false } };
   };
   return { path, item };
 }

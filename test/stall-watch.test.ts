@@ -1,6 +1,7 @@
 // A recording whose reduction stops making progress must not hold the run: the worker beats as it reads, the main
 // thread watches the beats (pipeline/reduce/stall-watch.ts), and a batch whose beats stop for the stall limit is given
-// up, its thread stopped, and a recording that stalls alone fails with the reason; the next run tries it again.
+// up, its thread stopped, and a recording that stalls alone fails with the reason; the next run tries it again, and keeps
+// a second stall of an unchanged file as a failure.
 import { spawnSync } from 'node:child_process';
 import { existsSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -56,7 +57,8 @@ function rigArchive(count: number): { archive: string; out: string } {
   return { archive, out };
 }
 
-const STALLED = 'made no progress for 0.001 s (--stall-limit): its worker was stopped and the run went on. The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again';
+const STALLED = 'made no progress for 0.001 s (--stall-limit): its worker was stopped and the run went on. The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again, and keeps it as failed if it stalls there too with the file unchanged';
+const STALLED_AGAIN = 'made no progress for 0.001 s (--stall-limit): its worker was stopped and the run went on. It stalled in the run before as well, with the file unchanged, so it is kept as failed and not tried again until the file, its declaration, the spec or quern changes; once the storage or the file is mended, run with --retry-failed';
 const NOT_TRIED = /^not tried: the [34] recordings before it made no progress for 0.001 s each \(--stall-limit\), none reduced between them, so the run stopped reading; the file system may have stopped answering\. The next run tries it again$/;
 
 describe('a run with a stall limit', () => {
@@ -75,7 +77,30 @@ describe('a run with a stall limit', () => {
     expect(again.code, again.stderr).toBe(0);
     const second = readJson(join(out, 'run.json'));
     expect(second.counts).toMatchObject({ reduced: 2, failed: 0 });
-    for (const r of second.recordings) expect(r.why).toBe('not reduced before (no progress within the stall limit); tried again');
+    for (const r of second.recordings) expect(r.why).toBe('made no progress within the stall limit before; tried once more');
+  });
+
+  it('keeps a recording that stalls in two runs in a row, the file unchanged, as failed, until --retry-failed', () => {
+    const { archive, out } = rigArchive(2);
+    const stall = () => quern('reduce', archive, '--out', out, '--jobs', '1', '--stall-limit', '0.001s', '--quiet');
+    expect(stall().code).toBe(1);
+    const twice = stall();
+    expect(twice.code, twice.stderr).toBe(1);
+    const second = readJson(join(out, 'run.json'));
+    for (const r of second.recordings) expect([r.status, r.why, r.reason]).toEqual(['failed', 'made no progress within the stall limit before; tried once more', STALLED_AGAIN]);
+
+    // A third night, with time enough: the failures are kept, not tried (and not costing a stall limit each) again.
+    const third = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(third.code, third.stderr).toBe(1);
+    const kept = readJson(join(out, 'run.json'));
+    expect(kept.counts).toMatchObject({ reduced: 0, failed: 2 });
+    for (const r of kept.recordings) expect([r.why, r.reason]).toEqual(['failed before; file, declaration and spec unchanged', STALLED_AGAIN]);
+
+    const retried = quern('reduce', archive, '--out', out, '--jobs', '1', '--retry-failed', '--quiet');
+    expect(retried.code, retried.stderr).toBe(0);
+    const fourth = readJson(join(out, 'run.json'));
+    expect(fourth.counts).toMatchObject({ reduced: 2, failed: 0 });
+    for (const r of fourth.recordings) expect(r.why).toBe('failed before; tried again (--retry-failed)');
   });
 
   it('stops reading after three recordings stall in a row, as when the storage stops answering, and fails the rest as not tried', () => {
@@ -93,7 +118,9 @@ describe('a run with a stall limit', () => {
 
     const again = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
     expect(again.code, again.stderr).toBe(0);
-    expect(readJson(join(out, 'run.json')).counts).toMatchObject({ reduced: 6, failed: 0 });
+    const second = readJson(join(out, 'run.json'));
+    expect(second.counts).toMatchObject({ reduced: 6, failed: 0 });
+    expect(second.recordings.filter((x: { why: string }) => x.why === 'not tried before (the recordings before it stalled); tried now').length).toBe(notTried);
   });
 });
 

@@ -6,7 +6,7 @@ import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { BatchItem } from '../reduce/batch.js';
 import type { Located } from '../store/pack.js';
-import { TRY_AGAIN } from '../store/record.js';
+import { NOT_TRIED, STALLED } from '../store/record.js';
 import type { Store } from '../store/store.js';
 
 /** What to do with a recording and why (a view of the decisions' packed columns). The worker's job is made from it only when the batch goes out. */
@@ -30,9 +30,15 @@ export interface Decision {
   stores: boolean;
   /** Nothing to compute, but the entry is stored again under identity facts confirmed now (so later runs need not hash the file). */
   restamp: boolean;
+  /** Its reduction stalled in the run before, with the file and its declaration as they are now. */
+  stalledBefore: boolean;
 }
 
-export interface DecideOptions { version: string; keys: Record<string, string>; specHash: string; force?: boolean; hash?: boolean }
+export interface DecideOptions {
+  version: string; keys: Record<string, string>; specHash: string; force?: boolean; hash?: boolean;
+  /** Reduce again the recordings whose stored entry is a failure (the cause was outside the file, and is mended). */
+  retryFailed?: boolean;
+}
 
 /** Modification times within this of the read are not trusted alone (file systems keep mtimes as coarse as 2 s). */
 const AMBIGUOUS_MS = 2000;
@@ -75,8 +81,8 @@ class DecisionTable {
     this.compute = new Uint32Array(n);
     this.reused = new Uint32Array(n);
   }
-  set(row: number, hash: string | null, f: { hashContent: boolean; previous: boolean; stores: boolean; restamp: boolean }, compute: string[], reused: string[], why: string): void {
-    this.flags[row] = (f.hashContent ? HASH_CONTENT : 0) | (f.previous ? PREVIOUS : 0) | (f.stores ? STORES : 0) | (f.restamp ? RESTAMP : 0);
+  set(row: number, hash: string | null, f: { hashContent: boolean; previous: boolean; stores: boolean; restamp: boolean; stalledBefore: boolean }, compute: string[], reused: string[], why: string): void {
+    this.flags[row] = (f.hashContent ? HASH_CONTENT : 0) | (f.previous ? PREVIOUS : 0) | (f.stores ? STORES : 0) | (f.restamp ? RESTAMP : 0) | (f.stalledBefore ? STALLED_BEFORE : 0);
     if (hash !== null) this.hashes.set(row, hash);
     this.why[row] = this.textIds.get(why) ?? this.textIds.set(why, this.texts.push(why) - 1).get(why)!;
     this.compute[row] = this.listId(compute);
@@ -90,7 +96,7 @@ class DecisionTable {
   }
 }
 
-const HASH_CONTENT = 1, PREVIOUS = 2, STORES = 4, RESTAMP = 8;
+const HASH_CONTENT = 1, PREVIOUS = 2, STORES = 4, RESTAMP = 8, STALLED_BEFORE = 16;
 
 /** One recording's decision: reads its row of the table. */
 class DecisionView implements Decision {
@@ -106,6 +112,7 @@ class DecisionView implements Decision {
   get why(): string { return this.table.text(this.table.why[this.row]); }
   get stores(): boolean { return (this.table.flags[this.row] & STORES) !== 0; }
   get restamp(): boolean { return (this.table.flags[this.row] & RESTAMP) !== 0; }
+  get stalledBefore(): boolean { return (this.table.flags[this.row] & STALLED_BEFORE) !== 0; }
 }
 
 /** Decides every recording; only those whose stored entry must be held against their content cost a wait (a hash). */
@@ -127,9 +134,9 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     const r = recordings[i];
     const { previous, entry, fresh, wasAmbiguous } = timesOf(r);
     const hashContent = !entry && (fresh || !!o.hash);
-    const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean): void =>
-      table.set(i, hash, { hashContent, previous: from !== null, stores, restamp }, compute, reused, text);
-    const all = (text: string) => decision(null, groups, NONE, text, true, false);
+    const decision = (from: Located | null, compute: string[], reused: string[], text: string, stores: boolean, restamp: boolean, stalledBefore = false): void =>
+      table.set(i, hash, { hashContent, previous: from !== null, stores, restamp, stalledBefore }, compute, reused, text);
+    const all = (text: string, stalledBefore = false) => decision(null, groups, NONE, text, true, false, stalledBefore);
     if (o.force) return all('forced (--force)');
     if (!entry) {
       const damage = store.damageOf(r.recording);
@@ -145,7 +152,9 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       ? decision(previous, compute, reused, text, true, compute.length === 0)
       : decision(null, NONE, reused, text, false, false));
     if (entry.status === 'failed') {
-      if (entry.failureKey === TRY_AGAIN) return all('not reduced before (no progress within the stall limit); tried again');
+      if (entry.failureKey === STALLED) return all('made no progress within the stall limit before; tried once more', true);
+      if (entry.failureKey === NOT_TRIED) return all('not tried before (the recordings before it stalled); tried now');
+      if (o.retryFailed) return all('failed before; tried again (--retry-failed)');
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }
     const stale = groups.filter((g) => entry.groupKeys[g] !== o.keys[g]);
@@ -171,7 +180,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       job: { ...jobOf(d.file), groups: d.previous ? d.compute : null },
       store: {
         identity: identityOf(d), hashContent: d.hashContent, readAtMs: d.file.readAtMs, declKey: declKeyOf(d.file), version: o.version, keys: o.keys,
-        specHash: o.specHash, compute: d.compute, reused: d.reused, previous: d.previous && plainPlace(d.previous),
+        specHash: o.specHash, compute: d.compute, reused: d.reused, previous: d.previous && plainPlace(d.previous), stalledBefore: d.stalledBefore,
       },
     }),
   };

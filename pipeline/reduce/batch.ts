@@ -27,6 +27,8 @@ export interface StoreFacts {
   reused: string[];
   /** The stored entry the reused groups come from. */
   previous: Located | null;
+  /** Its reduction stalled in the run before, the file unchanged: a second stall is kept as a failure. */
+  stalledBefore: boolean;
 }
 
 export interface BatchItem { job: RecordingJob; store: StoreFacts }

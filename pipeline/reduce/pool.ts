@@ -7,7 +7,7 @@ import { eachAtOnce } from '../at-once.js';
 import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
-import { encodeRecord, recordFacts, TRY_AGAIN } from '../store/record.js';
+import { encodeRecord, NOT_TRIED, recordFacts, STALLED } from '../store/record.js';
 import { ownBuffers, release } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
 import { newBeats, NoProgress, NotTried, Stalled, watchStall } from './stall-watch.js';
@@ -191,12 +191,20 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  */
 const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
 
-/** The record of a recording whose worker stopped (one that stalled, or was not tried, is tried again by the next run). */
+/** The failure key and reason of a worker that stopped: a first stall, or not being tried, says nothing of the file, so the next run tries it again. */
+function failureOf(e: Error, stalledBefore: boolean, specHash: string): { failureKey: string; reason: string } {
+  if (e instanceof Stalled) return stalledBefore ? { failureKey: specHash, reason: e.again } : { failureKey: STALLED, reason: e.message };
+  if (e instanceof NoProgress) return { failureKey: NOT_TRIED, reason: e.message };
+  return { failureKey: specHash, reason: `worker stopped: ${e.message}` };
+}
+
+/** The record of a recording whose worker stopped. */
 function workerStopped(item: BatchItem, e: Error): StoredRecord {
   const s = item.store;
+  const { failureKey, reason } = failureOf(e, s.stalledBefore, s.specHash);
   const facts = {
-    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason: e instanceof NoProgress ? e.message : `worker stopped: ${e.message}`,
-    version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey: e instanceof NoProgress ? TRY_AGAIN : s.specHash, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
+    recording: item.job.recording, group: item.job.group, status: 'failed' as const, reason,
+    version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey, groupKeys: {}, failureKey, seconds: 0, frames: 0, sampleRate: null, startTime: null, channels: 0, notes: { '': [] }, storedAt: Date.now(),
   };
   return { facts, bytes: encodeRecord(facts, { recording: facts.recording, group: facts.group, status: 'failed', reason: facts.reason, base: null, groups: {} }) };
 }

@@ -47,11 +47,16 @@ export function watchStall(beats: Beats, stallMs: number, { everyMs = Math.min(5
 /** A failure that says nothing of the file itself: the next run tries it again. */
 export class NoProgress extends Error {}
 
-/** A recording whose reduction made no progress for the stall limit. */
+/** A recording whose reduction made no progress for the stall limit; `again` says so of one that stalled in the run before too. */
 export class Stalled extends NoProgress {
+  readonly again: string;
   constructor(stallMs: number) {
-    super(`made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `
-      + 'The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again');
+    const what = `made no progress for ${stallMs / 1000} s (--stall-limit): its worker was stopped and the run went on. `;
+    super(`${what}The file system may have stopped answering, or the reader cannot get through the file; the next run tries it again, `
+      + 'and keeps it as failed if it stalls there too with the file unchanged');
+    // Two nights in a row on an unchanged file: the reader cannot get through it, and trying it every night costs a stall limit each.
+    this.again = `${what}It stalled in the run before as well, with the file unchanged, so it is kept as failed and not tried again `
+      + 'until the file, its declaration, the spec or quern changes; once the storage or the file is mended, run with --retry-failed';
   }
 }
 

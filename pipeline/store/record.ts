@@ -16,8 +16,10 @@ export const MAX_PART_BYTES = 1 << 30;
 /** What identifies a recording's content: size and modification time, and a content hash when those cannot be trusted. */
 export interface Identity { size: number; mtimeMs: number; hash: string | null }
 
-/** The failure key of a failure that says nothing of the file (its reduction stalled): the next run reads it again. */
-export const TRY_AGAIN = 'try-again';
+/** The failure key of a recording whose reduction stalled once: the next run reads it again (a second stall is kept). */
+export const STALLED = 'try-again';
+/** The failure key of a recording a run did not try (those before it stalled in a row): the next run reads it. */
+export const NOT_TRIED = 'not-tried';
 
 /** The facts of an entry that deciding and run.json need, kept apart from the (larger) results. */
 export interface EntryFacts {
@@ -32,7 +34,7 @@ export interface EntryFacts {
   declKey: string;
   /** The key each stored group was computed under. */
   groupKeys: Record<string, string>;
-  /** For a failed recording: the spec hash it failed under, or TRY_AGAIN for a failure the next run should not trust. */
+  /** For a failed recording: the spec hash it failed under, or STALLED / NOT_TRIED for a failure the next run should not trust. */
   failureKey?: string;
   seconds: number;
   frames: number;
