@@ -46,6 +46,33 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
     await expect(readAll(write('e.csv', 'x,y\n1,2\n'))).rejects.toThrow(/set sample_rate for the group in archive\.yaml/);
   });
 
+  // ISO 8601-1:2019 date and time representations; a zone-less time is read as UTC, as quern reads every start time.
+  it('reads ISO 8601 date-times in the time column: the start from the first row, UTC unless a zone is given', async () => {
+    const rows = (first: string, zone: string) => Array.from({ length: 200 }, (_, i) => `${first}${(i * 0.004).toFixed(3).padStart(6, '0')}${zone},${i}`);
+    // The machine's own zone set far from UTC: a zone-less time must not move with it (Node applies TZ as it is set).
+    const machineZone = process.env.TZ;
+    process.env.TZ = 'America/Anchorage';
+    try {
+      expect(new Date(2026, 10, 16).getTimezoneOffset()).toBe(540);
+      for (const [zone, start] of [['', '2026-11-16T02:00:00.000Z'], ['Z', '2026-11-16T02:00:00.000Z'], ['+01:00', '2026-11-16T01:00:00.000Z']]) {
+        const { rec, channels } = await readAll(write(`iso${zone.length}.csv`, ['timestamp,x', ...rows('2026-11-16 02:00:', zone)].join('\n')));
+        expect(rec.startTime?.toISOString()).toBe(start);
+        expect(rec.sampleRate).toBe(250);
+        expect(rec.notes).toEqual([]);
+        expect(channels[0][199]).toBe(199);
+      }
+    } finally {
+      if (machineZone === undefined) delete process.env.TZ; else process.env.TZ = machineZone;
+    }
+  });
+
+  it('refuses a time column of dates that are not ISO 8601, rather than guess at their order of day and month', async () => {
+    for (const cell of ['05/11/2026 02:00:00', 'night 3']) {
+      const text = ['time,x', ...[0, 1, 2].map((i) => `${cell.replace('00:00', `00:0${i}`)},${i}`)].join('\n');
+      await expect(readAll(write('us.csv', text))).rejects.toThrow(/column "time" looks like a time column but its first rows are neither numbers \(seconds\) nor ISO 8601 date-times/);
+    }
+  });
+
   it('refuses a time column that disagrees with the declared rate', async () => {
     await expect(readAll(write('f.csv', 'time,x\n0,1\n0.001,2\n0.002,3\n'), { sampleRate: 500 })).rejects.toThrow(/1000\.00 Hz but the declaration says 500 Hz/);
   });

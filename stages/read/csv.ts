@@ -5,6 +5,7 @@ import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
+import { isoTimeMs } from './iso-time.js';
 import { keepSteps, stepCounter } from './time-steps.js';
 
 
@@ -43,13 +44,16 @@ export function detectDelimiter(header: string): string {
 
 const isData = (line: string) => line.trim() !== '' && !line.startsWith('#');
 
-/** A time cell as seconds: plain numbers are seconds, ISO dates become seconds since the epoch. */
+/**
+ * A time cell as seconds: plain numbers are seconds, ISO 8601 date-times seconds since the epoch (UTC unless they name a
+ * zone, as every start time quern reads, so a run's periods do not depend on the machine's zone). Anything else is NaN:
+ * Date.parse would take 05/11/2026 for 11 May and "night 3" for a day in 2001.
+ */
 function timeValue(text: string, decimalComma: boolean): number {
   const t = text.trim();
   const n = Number(decimalComma ? t.replace(',', '.') : t);
   if (t !== '' && Number.isFinite(n)) return n;
-  const ms = Date.parse(t);
-  return Number.isFinite(ms) ? ms / 1000 : NaN;
+  return isoTimeMs(t) / 1000;
 }
 
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$)/); return m ? m[1].length : 0; };
@@ -91,7 +95,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma));
     if (times.length < 2 || !Number.isFinite(times[0]) || !Number.isFinite(times[times.length - 1])) {
-      throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are not numbers or dates; fix the file or rename the column`);
+      throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
     // The mean step over the probe rows; rounding of printed times averages out over many steps.
     timeStep = (times[times.length - 1] - times[0]) / (times.length - 1);
