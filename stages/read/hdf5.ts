@@ -16,11 +16,11 @@ export interface Hdf5Layout {
   channel_axis: 0 | 1 | null;
   /** Attribute holding the sample rate in Hz: a name looked up on the dataset and then its enclosing groups, or "/path@name". */
   sample_rate_attribute: string | null;
-  /** Attribute holding the start time: an ISO 8601 string, or POSIX seconds. Same lookup. */
+  /** Attribute holding the start time: an ISO 8601 string, or POSIX seconds (or MATLAB's datenum or datestr). Same lookup. */
   start_time_attribute: string | null;
   /** Dataset holding the sample rate as its one value, instead of an attribute (present only when declared). */
   sample_rate_dataset?: string | null;
-  /** Dataset holding the start time as its one value (ISO 8601 text or POSIX seconds), instead of an attribute. */
+  /** Dataset holding the start time as its one value (ISO 8601 text or POSIX seconds; or MATLAB's datenum or datestr), instead of an attribute. */
   start_time_dataset?: string | null;
   /** Dataset holding each frame's time in seconds, as long as the channels: the sample rate from its steps, irregular ones counted. */
   time_dataset?: string | null;

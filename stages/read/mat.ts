@@ -19,7 +19,7 @@ export interface MatLayout {
   channel_axis: 0 | 1 | null;
   /** Variable holding the sample rate in Hz (a number). */
   sample_rate_variable: string | null;
-  /** Variable holding the start time: text in ISO 8601, or a number of POSIX seconds. */
+  /** Variable holding the start time: ISO 8601 or datestr text, or a number of POSIX seconds or a datenum. */
   start_time_variable: string | null;
   /** Variable holding each sample's time in seconds (a vector as long as the channels): the sample rate from its steps, irregular ones counted. */
   time_variable?: string | null;
