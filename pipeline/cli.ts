@@ -226,11 +226,12 @@ async function main(argv: string[]): Promise<number> {
       .option('sample-rate-variable', { type: 'string', describe: 'MAT-files: variable holding the sample rate' })
       .option('start-time-variable', { type: 'string', describe: 'MAT-files: variable holding the start time' })
       .option('time-variable', { type: 'string', describe: 'MAT-files: variable holding each sample\'s time in seconds (the sample rate from its steps)' })
+      .option('channel-names-variable', { type: 'string', describe: 'MAT-files: variable holding the channels\' names (a cell array of text, or a char matrix of one name a row)' })
       .option('start-time-tag', { type: 'string', describe: 'FLAC files: Vorbis comment tag holding the start time' }),
     async (a) => {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
       const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null, ...(a.sampleRateDataset ? { sample_rate_dataset: a.sampleRateDataset } : {}), ...(a.startTimeDataset ? { start_time_dataset: a.startTimeDataset } : {}), ...(a.timeDataset ? { time_dataset: a.timeDataset } : {}) } : null;
-      const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null, ...(a.timeVariable ? { time_variable: a.timeVariable } : {}) } : null;
+      const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null, ...(a.timeVariable ? { time_variable: a.timeVariable } : {}), ...(a.channelNamesVariable ? { channel_names_variable: a.channelNamesVariable } : {}) } : null;
       const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
       const { runPeek } = await import('./commands/peek.js');
       const { result: r, declaredBy } = await runPeek(a.recording as string, { format: a.format ?? null, sampleRate: a.sampleRate ?? null, layout, hdf5, mat, flac });

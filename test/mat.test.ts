@@ -9,7 +9,7 @@ import { openRecording } from '../stages/read/open.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { fixture, quernWith, readAll, readJson, tempDir } from './helpers.js';
 
-interface MatFixture { file: string; case: string | null; mat: MatLayout; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
+interface MatFixture { file: string; case: string | null; mat: MatLayout; channel_names: string[] | null; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
 const fixtures: MatFixture[] = readJson(fixture('mat', 'expected.json')).files;
 const layout = (l: Partial<MatLayout>): MatLayout => ({ variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null, ...l });
 
@@ -28,6 +28,7 @@ describe('MAT-file reader against scipy.io', () => {
         const { rec, channels } = await readAll(fixture('mat', f.file), { mat: f.mat, chunkFrames });
         expect([rec.format, rec.sampleRate, rec.frames, rec.channelCount, rec.encoding, rec.bits, rec.normalised]).toEqual(['mat', f.rate, f.frames, f.channels, f.encoding, f.bits, f.bits != null]);
         expect(rec.startTime?.toISOString() ?? null).toBe(f.start_time);
+        expect(rec.channelNames).toEqual(f.channel_names);
         const want = expected(f);
         for (let c = 0; c < f.channels; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
         // The time vector's steps against scipy's values: the irregular ones counted, the widest where it is.
@@ -51,6 +52,36 @@ describe('MAT-file reader against scipy.io', () => {
       expect(flag.severity).toBe('warn');
       expect(flag.message).toMatch(/^1 irregular time steps, the widest 0\.011 s \(nominal 0\.001 s\) ending at t = 0\.61 s: the logger lost data/);
     }
+  });
+
+  it('finds declared channels by the names the file keeps, whatever their order, and refuses a name it does not hold', async () => {
+    const f = fixtures.find((x) => x.file === 'named-channels.mat' && !x.case)!;
+    const want = expected(f);
+    const channel = (name: string) => ({ name, quantity: 'unknown', unit: 'FS', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null });
+    const job = (names: string[], mat: MatLayout) => ({ recording: f.file, path: fixture('mat', f.file), group: 'cab', format: null, sampleRate: null, layout: null, reader: { mat }, channels: names.map(channel), labels: {}, durationS: null, spec: { statistics: {} }, chunkFrames: 512 });
+    // Root mean square, the plain formula over scipy's samples.
+    const rms = (x: Float64Array) => Math.sqrt(x.reduce((s, v) => s + v * v, 0) / x.length);
+    for (const mat of [f.mat, { ...f.mat, channel_names_variable: 'rows' }]) {
+      const r = await reduceRecording(job(['mic_cab', 'acc_x'], mat));
+      expect(r.status, r.reason).toBe('reduced');
+      expect(r.rows.map((row) => row.channel)).toEqual(['mic_cab', 'acc_x']);
+      expect(r.rows[0].rms as number).toBeCloseTo(rms(want[2]), 12);
+      expect(r.rows[1].rms as number).toBeCloseTo(rms(want[0]), 12);
+    }
+    const missing = await reduceRecording(job(['acc_z'], f.mat));
+    expect(missing.reason).toBe('header: declared channel "acc_z" is not among the file\'s channel names (acc_x, acc_y, mic_cab); match the names in archive.yaml group "cab" to the file\'s');
+    // Without a channel list, the file's names name the channels.
+    const undeclared = await reduceRecording({ ...job([], f.mat), channels: null });
+    expect(undeclared.rows.map((row) => row.channel)).toEqual(['acc_x', 'acc_y', 'mic_cab']);
+  });
+
+  it('refuses channel names that are not one a channel, or not text', async () => {
+    const read = (file: string, l: Partial<MatLayout>) => readAll(fixture('mat', file), { mat: layout({ variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs', ...l }) });
+    await expect(read('named-channels.mat', { channel_names_variable: 'fs' })).rejects.toThrow(/variable "fs" \(byte \d+, compressed\) is a double array; the channel names are a cell array of text \(\{'acc_x', 'acc_y'\}\) or a char matrix of one name a row; correct mat.channel_names_variable in archive.yaml/);
+    await expect(read('named-channels.mat', { channel_names_variable: 'labels' })).rejects.toThrow(/variable "labels" \(the channel names\) is not in the file; the file holds data \(int16 1200 × 3\), fs \(double 1 × 1\), names \(cell 1 × 3\), rows \(char 3 × 7\)/);
+    await expect(read('named-channels.mat', { channel_axis: 0, channel_names_variable: 'names' })).rejects.toThrow(/variable "names" \(the channel names\) holds 3 names but the samples have 1200 channels; check the file or mat.channel_names_variable in archive.yaml/);
+    await expect(read('named-channels-73.mat', { channel_axis: 0, channel_names_variable: 'names' })).rejects.toThrow(/^version 7.3 MAT-file \(HDF5\): variable "names" \(the channel names\) holds 2 names but the samples have 900 channels/);
+    await expect(read('named-channels-73.mat', { channel_names_variable: 'fs' })).rejects.toThrow(/variable "fs" is a double array; the channel names are a cell array of text/);
   });
 
   it('takes a declared sample rate when no variable holds it', async () => {

@@ -31,6 +31,7 @@ const DECLARE_AS_OPTIONS: DeclareHow = {
     'mat.sample_rate_variable': '--sample-rate-variable',
     'mat.start_time_variable': '--start-time-variable',
     'mat.time_variable': '--time-variable',
+    'mat.channel_names_variable': '--channel-names-variable',
   },
 };
 

@@ -44,6 +44,7 @@ function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
   return {
     variables: Array.isArray(m.variables) ? m.variables : [m.variables], channel_axis: m.channel_axis ?? null, sample_rate_variable: m.sample_rate_variable ?? null, start_time_variable: m.start_time_variable ?? null,
     ...(m.time_variable != null ? { time_variable: m.time_variable } : {}),
+    ...(m.channel_names_variable != null ? { channel_names_variable: m.channel_names_variable } : {}),
   };
 }
 

@@ -28,7 +28,7 @@ function resolveChannels(job: RecordingJob, rec: Recording): { decl: ChannelDecl
   if (rec.channelNames) {
     return job.channels.map((decl) => {
       const index = rec.channelNames!.indexOf(decl.name);
-      if (index < 0) throw new RecordingError(`header: declared channel "${decl.name}" is not among the file's columns (${rec.channelNames!.join(', ')}); match the names in archive.yaml group "${job.group}" to the header`);
+      if (index < 0) throw new RecordingError(`header: declared channel "${decl.name}" is not among the file's ${rec.format === 'csv' ? 'columns' : 'channel names'} (${rec.channelNames!.join(', ')}); match the names in archive.yaml group "${job.group}" to the file's`);
       return { decl, index };
     });
   }

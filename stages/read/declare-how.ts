@@ -2,7 +2,7 @@
 
 /** A setting a reader may ask for, by its key in archive.yaml. */
 export type DeclaredSetting = 'sample_rate' | 'hdf5.datasets' | 'hdf5.channel_axis' | 'hdf5.sample_rate_attribute' | 'hdf5.start_time_attribute' | 'hdf5.sample_rate_dataset' | 'hdf5.start_time_dataset' | 'hdf5.time_dataset'
-  | 'mat.variables' | 'mat.channel_axis' | 'mat.sample_rate_variable' | 'mat.start_time_variable' | 'mat.time_variable';
+  | 'mat.variables' | 'mat.channel_axis' | 'mat.sample_rate_variable' | 'mat.start_time_variable' | 'mat.time_variable' | 'mat.channel_names_variable';
 
 /**
  * How to give what a file cannot say about itself: in archive.yaml for reduce and check, as options for peek. `hdf5` and
@@ -29,5 +29,6 @@ export const DECLARE_IN_ARCHIVE: DeclareHow = {
     'mat.sample_rate_variable': 'mat.sample_rate_variable in archive.yaml',
     'mat.start_time_variable': 'mat.start_time_variable in archive.yaml',
     'mat.time_variable': 'mat.time_variable in archive.yaml',
+    'mat.channel_names_variable': 'mat.channel_names_variable in archive.yaml',
   },
 };

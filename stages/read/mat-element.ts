@@ -93,6 +93,11 @@ export function textOf(data: Uint8Array, type: number, little: boolean): string 
   return size === 2 ? String.fromCharCode(...codes) : String.fromCodePoint(...codes.map((x) => (x <= 0x10ffff ? x : 0xfffd)));
 }
 
+/** The rows of a char matrix, one name a row, trailing blanks dropped: MATLAB stores it column by column (character j of row i at j × rows + i). */
+export function charMatrixRows(text: string, rows: number, columns: number): string[] {
+  return Array.from({ length: rows }, (_, i) => Array.from({ length: columns }, (_, j) => text[j * rows + i]).join('').replace(/[\s\0]+$/, ''));
+}
+
 /** Whether an array of these dimensions is a vector (every side but one is 1). */
 export const isVectorDims = (dims: number[]) => dims.filter((d) => d !== 1).length <= 1;
 

@@ -4,10 +4,10 @@
 import { open, type FileHandle } from 'node:fs/promises';
 import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
-import { className, CLASS_BITS, isVectorDims, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { charMatrixRows, className, CLASS_BITS, isVectorDims, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, isNumericType } from './mat-values.js';
 import { rateFrom, startFrom } from './setting-values.js';
-import { RecordingError } from './recording.js';
+import { MAX_CHANNELS, RecordingError } from './recording.js';
 
 /** One variable at the file's top level: where its element lies and what it holds. */
 export interface TopElement { header: ArrayHeader | null; start: number; bytes: number; compressed: boolean }
@@ -147,6 +147,45 @@ export function numericOrRefuse(f: Found, what: string): void {
   if (!(h.cls in CLASS_BITS || h.cls === MX.DOUBLE || h.cls === MX.SINGLE)) throw new RecordingError(`${f.where} is a ${className(h.cls)} array; the ${what} must be numbers (double, single or an integer class)`);
   if (h.complex) throw new RecordingError(`${f.where} holds complex values; save the real part (real(x)) as the ${what}`);
   if (h.logical) throw new RecordingError(`${f.where} holds logical values, not the ${what}`);
+}
+
+/** Most bytes of channel names read: a names variable is small, and anything far larger is not one. */
+const NAMES_BYTES = 1 << 20;
+
+/** The names a variable holds: a cell array of char vectors (one a cell), or a char matrix of one name a row. */
+export async function channelNamesOf(m: MatFile, path: string, where: string): Promise<string[]> {
+  const f = await find(m, path, 'channel names', where);
+  try {
+    const h = f.header;
+    if (h.cls === MX.CHAR) {
+      const t = await readTag(f.cursor, m.little, `${f.where}: its text`);
+      const d = h.dims.length === 2 ? h.dims : [h.count, 1];
+      const text = textOf(await readData(f.cursor, t, NAMES_BYTES, `${f.where}: its text`), t.type, m.little);
+      if (text.length !== h.count) throw new RecordingError(`${f.where}: a ${h.dims.join(' × ')} char array holds ${text.length} characters in UTF-8; save the names as a cell array ({'acc_x', 'acc_y'})`);
+      return charMatrixRows(text, d[0], d[1]);
+    }
+    if (h.cls !== MX.CELL) throw new RecordingError(`${f.where} is a ${className(h.cls)} array; the channel names are a cell array of text ({'acc_x', 'acc_y'}) or a char matrix of one name a row; correct ${where}`);
+    if (!isVectorDims(h.dims)) throw new RecordingError(`${f.where} is a ${h.dims.join(' × ')} cell array; the channel names are one row or column of cells; correct ${where}`);
+    if (h.count > MAX_CHANNELS) throw new RecordingError(`${f.where} holds ${h.count} cells, more than the ${MAX_CHANNELS} channels a recording may have; check the file or ${where}`);
+    const names: string[] = [];
+    for (let i = 0; i < h.count; i++) {
+      const at = `${f.where}: cell ${i + 1}`;
+      const t = await readTag(f.cursor, m.little, at);
+      if (t.type !== MI.MATRIX) throw new RecordingError(`${at} is not an array element (type ${t.type}); the file is damaged`);
+      const end = f.cursor.at + t.bytes;
+      if (t.bytes === 0) { names.push(''); continue; }
+      const cell = await readArrayHeader(f.cursor, m.little, at);
+      if (cell.cls !== MX.CHAR || !isVectorDims(cell.dims)) throw new RecordingError(`${at} is a ${className(cell.cls)} ${cell.dims.join(' × ')} array, not one line of text; correct ${where}`);
+      if (cell.count === 0) names.push('');
+      else {
+        const d = await readTag(f.cursor, m.little, `${at}: its text`);
+        names.push(textOf(await readData(f.cursor, d, NAMES_BYTES, `${at}: its text`), d.type, m.little).trim());
+      }
+      if (f.cursor.at > end) throw new RecordingError(`${at}: its parts run past the ${t.bytes} bytes its element declares; the file is damaged`);
+      await f.cursor.skip(end - f.cursor.at, at);
+    }
+    return names;
+  } finally { f.cursor.close(); }
 }
 
 export const sampleRateOf = async (m: MatFile, path: string, where: string) => rateFrom(await valueOf(m, path, 'sample rate', where), `variable "${path}"`, where);

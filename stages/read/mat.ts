@@ -3,7 +3,8 @@
 // are read as they are asked for, each channel from its own place in the file, so memory does not grow with the recording.
 // A compressed variable several channels read from (columns as channels, fields of one struct) is inflated once into a
 // temporary file first (mat-spool.ts), removed when the recording closes. Finding the variables: mat-file.ts.
-import { closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type ChannelSource, type MatFile, type TopElement } from './mat-file.js';
+import { channelNamesOf, closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type ChannelSource, type MatFile, type TopElement } from './mat-file.js';
+import { namesFrom } from './setting-values.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
@@ -23,6 +24,8 @@ export interface MatLayout {
   start_time_variable: string | null;
   /** Variable holding each sample's time in seconds (a vector as long as the channels): the sample rate from its steps, irregular ones counted. */
   time_variable?: string | null;
+  /** Variable holding the channels' names (a cell array of text, or a char matrix of one name a row): declared channels are then found by name. */
+  channel_names_variable?: string | null;
 }
 
 /** One variable of a recording's one-per-channel list: a vector as long as the first and of its class. */
@@ -99,6 +102,8 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const timeTop = layout.time_variable ? topOf(layout.time_variable) : undefined;
     if (timeTop?.compressed && layout.variables.some((v) => topOf(v) === timeTop)) m.shared.add(timeTop);
     const startTime = layout.start_time_variable ? await startTimeOf(m, layout.start_time_variable, where['mat.start_time_variable']) : null;
+    const namesAt = layout.channel_names_variable;
+    const channelNames = namesAt ? namesFrom(await channelNamesOf(m, namesAt, where['mat.channel_names_variable']), channels, `variable "${namesAt}"`, where['mat.channel_names_variable']) : null;
     const norm = normaliserOf(cls);
     const integer = cls in CLASS_BITS;
     // The channels of one recording share one class; the stored type may differ between variables, and is at most 8 bytes.
@@ -146,7 +151,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const recording: Recording = {
       format: 'mat', channelCount: channels, sampleRate, frames,
       encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
-      startTime, channelNames: null, notes: [], chunks, close: () => closeAll(m, [...sources, ...extra]),
+      startTime, channelNames, notes: [], chunks, close: () => closeAll(m, [...sources, ...extra]),
     };
     return recording;
   } catch (e) {

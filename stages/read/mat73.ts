@@ -6,9 +6,9 @@ import { open } from 'node:fs/promises';
 import { firstLine, onceMore, openHdf5 } from './hdf5.js';
 import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
-import { rateFrom, startFrom } from './setting-values.js';
-import { channelLayout, isVectorDims } from './mat-element.js';
-import { RecordingError, type Recording } from './recording.js';
+import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
+import { channelLayout, charMatrixRows, isVectorDims } from './mat-element.js';
+import { MAX_CHANNELS, RecordingError, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
 const HDF5_SIGNATURE = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
@@ -81,7 +81,30 @@ function valueOf(v: Variable, what: string): number | string {
   return typeof x === 'string' ? x : Number(x);
 }
 
-interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null }
+/** Whether MATLAB marked the array empty (it then stores its dimensions as the values). */
+function isEmpty(obj: { attrs: Record<string, { value: unknown }> }): boolean {
+  try { return obj.attrs.MATLAB_empty != null && Number(scalar(obj.attrs.MATLAB_empty.value)) !== 0; } catch (e) { rethrowStop(e); return false; }
+}
+
+/** Text of a char array's uint16 codes. */
+const textOfCodes = (codes: ArrayLike<number | bigint>) => String.fromCharCode(...Array.from(codes, Number));
+
+/** Channel names: a cell array (references to char arrays under #refs#, one a cell), or a char matrix of one name a row. */
+function namesOf(file: HdfFile, v: Variable, where: string): string[] {
+  if (v.cls === 'char') return charMatrixRows(textOfCodes(v.value() as ArrayLike<number>), v.dims[0], v.dims[1] ?? 1);
+  if (v.cls !== 'cell') throw new RecordingError(`variable "${v.name}" is a ${v.cls ?? 'unknown class of'} array; the channel names are a cell array of text ({'acc_x', 'acc_y'}) or a char matrix of one name a row; correct ${where}`);
+  if (!isVectorDims(v.dims)) throw new RecordingError(`variable "${v.name}" is a ${v.dims.join(' × ')} cell array; the channel names are one row or column of cells; correct ${where}`);
+  const refs = Array.from(v.value() as ArrayLike<unknown>);
+  if (refs.length > MAX_CHANNELS) throw new RecordingError(`variable "${v.name}" holds ${refs.length} cells, more than the ${MAX_CHANNELS} channels a recording may have; check the file or ${where}`);
+  return refs.map((ref, i) => guard(`reading cell ${i + 1} of variable "${v.name}"`, () => {
+    const cell = file.dereference(ref as never) as unknown as { attrs: Record<string, { value: unknown }>; shape?: number[]; value: unknown } | null;
+    const cls = cell ? classOf(cell) : null;
+    if (!cell || cls !== 'char' || !cell.shape || !isVectorDims(cell.shape)) throw new RecordingError(`cell ${i + 1} of variable "${v.name}" is ${cls ? `a ${cls} array` : 'no array'}, not one line of text; correct ${where}`);
+    return isEmpty(cell) ? '' : textOfCodes(cell.value as ArrayLike<number>).trim();
+  }));
+}
+
+interface Facts { channelAxis: 0 | 1 | null; rate: number | string | null; start: number | string | null; names: string[] | null }
 
 /** Checks the samples' variables in MATLAB's terms and reads the sample rate and start time. */
 function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareHow): Facts {
@@ -102,7 +125,9 @@ function readFacts(h5: H5, path: string, layout: MatLayout, declareHow: DeclareH
     }
     const rate = layout.sample_rate_variable ? valueOf(variableOf(file, layout.sample_rate_variable, 'sample rate', where['mat.sample_rate_variable']), 'sample rate') : null;
     const start = layout.start_time_variable ? valueOf(variableOf(file, layout.start_time_variable, 'start time', where['mat.start_time_variable']), 'start time') : null;
-    return { channelAxis, rate, start };
+    const namesAt = layout.channel_names_variable;
+    const names = namesAt ? guard(`reading variable "${namesAt}"`, () => namesOf(file, variableOf(file, namesAt, 'channel names', where['mat.channel_names_variable']), where['mat.channel_names_variable'])) : null;
+    return { channelAxis, rate, start, names };
   } finally {
     try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ }
   }
@@ -131,8 +156,11 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
     const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null, ...time }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
     // The HDF5 reader's own recording, so that what it finds while reading (the time steps, notes) stays on it.
     const samples = rec.chunks;
+    let channelNames: string[] | null;
+    // The recording holds the HDF5 library's turn until it closes: closed here when its names do not fit it.
+    try { channelNames = facts.names && namesFrom(facts.names, rec.channelCount, `variable "${layout.channel_names_variable}"`, where['mat.channel_names_variable']); } catch (e) { await rec.close(); throw e; }
     return Object.assign(rec, {
-      format: 'mat' as const, startTime,
+      format: 'mat' as const, startTime, channelNames,
       async *chunks(): AsyncGenerator<Float64Array[]> { try { yield* samples(); } catch (e) { throw said(e); } },
     });
   } catch (e) {

@@ -17,6 +17,16 @@ export function rateFrom(value: unknown, held: string, where: string): number {
   return rate;
 }
 
+/** Channel names a file keeps beside its samples, in channel order: one a channel, none empty, none twice (channels are found by them). */
+export function namesFrom(names: string[], channels: number, held: string, where: string): string[] {
+  if (names.length !== channels) throw new RecordingError(`${held} (the channel names) holds ${names.length} names but the samples have ${channels} channels; check the file or ${where}`);
+  const empty = names.indexOf('');
+  if (empty >= 0) throw new RecordingError(`${held} (the channel names): name ${empty + 1} of ${names.length} is empty; check the file or ${where}`);
+  const twice = names.find((n, i) => names.indexOf(n) !== i);
+  if (twice !== undefined) throw new RecordingError(`${held} (the channel names) holds "${twice}" twice; channels are found by name, so each must be unique: check the file or ${where}`);
+  return names;
+}
+
 /** MATLAB's datenum of 1970-01-01 (datenum counts days from its day 1, 1 January of year 0; from memory, and Python's date(1970, 1, 1).toordinal() + 366). */
 export const DATENUM_1970 = 719_529;
 /** Numbers this large and below 10^6 are datenums (the years 273 to 2737): as POSIX seconds they would fall in 1970's first twelve days. */
