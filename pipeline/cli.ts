@@ -222,6 +222,7 @@ async function main(argv: string[]): Promise<number> {
       .option('sample-rate-dataset', { type: 'string', describe: 'HDF5 files: dataset holding the sample rate as its one value' })
       .option('start-time-dataset', { type: 'string', describe: 'HDF5 files: dataset holding the start time as its one value' })
       .option('time-dataset', { type: 'string', describe: 'HDF5 files: dataset holding each frame\'s time in seconds (the sample rate from its steps)' })
+      .option('channel-names-attribute', { type: 'string', describe: 'HDF5 files: attribute holding the channels\' names, an array of text' })
       .option('variable', { type: 'string', array: true, describe: 'MAT-files: the variable holding every channel, or one per channel (repeat the option); "struct.field" for a field' })
       .option('sample-rate-variable', { type: 'string', describe: 'MAT-files: variable holding the sample rate' })
       .option('start-time-variable', { type: 'string', describe: 'MAT-files: variable holding the start time' })
@@ -230,7 +231,7 @@ async function main(argv: string[]): Promise<number> {
       .option('start-time-tag', { type: 'string', describe: 'FLAC files: Vorbis comment tag holding the start time' }),
     async (a) => {
       const layout = a.sampleType && a.channels ? { sample_type: a.sampleType, byte_order: a.byteOrder, channels: a.channels, header_bytes: a.headerBytes } : null;
-      const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null, ...(a.sampleRateDataset ? { sample_rate_dataset: a.sampleRateDataset } : {}), ...(a.startTimeDataset ? { start_time_dataset: a.startTimeDataset } : {}), ...(a.timeDataset ? { time_dataset: a.timeDataset } : {}) } : null;
+      const hdf5 = a.dataset?.length ? { datasets: a.dataset, channel_axis: a.channelAxis ?? null, sample_rate_attribute: a.sampleRateAttribute ?? null, start_time_attribute: a.startTimeAttribute ?? null, ...(a.sampleRateDataset ? { sample_rate_dataset: a.sampleRateDataset } : {}), ...(a.startTimeDataset ? { start_time_dataset: a.startTimeDataset } : {}), ...(a.timeDataset ? { time_dataset: a.timeDataset } : {}), ...(a.channelNamesAttribute ? { channel_names_attribute: a.channelNamesAttribute } : {}) } : null;
       const mat = a.variable?.length ? { variables: a.variable, channel_axis: a.channelAxis ?? null, sample_rate_variable: a.sampleRateVariable ?? null, start_time_variable: a.startTimeVariable ?? null, ...(a.timeVariable ? { time_variable: a.timeVariable } : {}), ...(a.channelNamesVariable ? { channel_names_variable: a.channelNamesVariable } : {}) } : null;
       const flac = a.startTimeTag ? { start_time_tag: a.startTimeTag } : null;
       const { runPeek } = await import('./commands/peek.js');

@@ -3,7 +3,7 @@ import { closeSync, ftruncateSync, openSync, readFileSync, writeSync } from 'nod
 import { join } from 'node:path';
 import { fixture, readJson, tempDir } from './helpers.js';
 
-export interface FormatFixture { file: string; made_by: string; decoded_by: string; rate: number; channels: number; frames: number; bits?: number; start_time?: string; linear16?: number[] }
+export interface FormatFixture { file: string; made_by: string; decoded_by: string; rate: number; channels: number; frames: number; bits?: number; start_time?: string; channel_names?: string[]; linear16?: number[] }
 
 export const manifest = readJson(fixture('formats', 'expected.json'));
 export const formatFixtures: FormatFixture[] = manifest.files;

@@ -7,6 +7,7 @@ import { RETIRE_ABOVE_HDF5_BYTES, RETIRE_AFTER_SET_ASIDE, reduceBatch } from '..
 import type { Hdf5Layout } from '../stages/read/hdf5.js';
 import { hdf5Instances, hdf5MemoryBytes, hdf5SetAside } from '../stages/read/hdf5-library.js';
 import { expectedSamples, formatFixture } from './format-fixtures.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { fixture, readAll, tempDir } from './helpers.js';
 
 const layout = (l: Partial<Hdf5Layout>): Hdf5Layout => ({ datasets: [], channel_axis: null, sample_rate_attribute: null, start_time_attribute: null, ...l });
@@ -30,6 +31,22 @@ describe('HDF5 reader against h5py', () => {
   it('reads channels × samples (float32), attributes on the root named by path, POSIX seconds as the start time', async () => {
     const rec = await expectFixture('acq-columns.h5', layout({ datasets: ['data'], channel_axis: 0, sample_rate_attribute: '/@fs', start_time_attribute: 't0' }));
     expect(rec.startTime?.toISOString()).toBe(formatFixture('acq-columns.h5').start_time);
+  });
+
+  it('reads the channels\' names from an attribute as h5py reads them, finds declared channels by them, and refuses names that do not fit', async () => {
+    const l = layout({ datasets: ['/rig/strain'], channel_axis: 1, sample_rate_attribute: 'fs', channel_names_attribute: 'channel_names' });
+    const rec = await expectFixture('named.h5', l);
+    expect(rec.channelNames).toEqual(formatFixture('named.h5').channel_names);
+    const read = (over: Partial<Hdf5Layout>) => readAll(fixture('formats', 'named.h5'), { hdf5: { ...l, ...over } });
+    await expect(read({ channel_names_attribute: 'fs' })).rejects.toThrow(/attribute "fs" \(the channel names\) holds number, not text; the channel names are an array of text; correct hdf5.channel_names_attribute in archive.yaml/);
+    await expect(read({ channel_names_attribute: 'labels' })).rejects.toThrow(/attribute "labels" \(the channel names\) is not on dataset "\/rig\/strain" or its groups/);
+    await expect(read({ channel_axis: 0 })).rejects.toThrow(/attribute "channel_names" of dataset "\/rig\/strain" \(the channel names\) holds 3 names but the samples have 2000 channels/);
+    // Declared in another order than stored: each declared channel reads its own samples.
+    const want = expectedSamples(formatFixture('named.h5'));
+    const job = { recording: 'named.h5', path: fixture('formats', 'named.h5'), group: 'rig', format: null, sampleRate: null, layout: null, reader: { hdf5: l }, labels: {}, durationS: null, spec: { statistics: {} }, chunkFrames: 300,
+      channels: ['sg_tip', 'sg_root'].map((name) => ({ name, quantity: 'strain', unit: 'FS', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null })) };
+    const r = await reduceRecording(job);
+    expect(r.rows.map((row) => [row.channel, row.max])).toEqual([['sg_tip', Math.max(...want[2])], ['sg_root', Math.max(...want[0])]]);
   });
 
   it('reads one dataset per channel with a declared sample rate', async () => {

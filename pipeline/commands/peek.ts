@@ -26,6 +26,7 @@ const DECLARE_AS_OPTIONS: DeclareHow = {
     'hdf5.sample_rate_dataset': '--sample-rate-dataset',
     'hdf5.start_time_dataset': '--start-time-dataset',
     'hdf5.time_dataset': '--time-dataset',
+    'hdf5.channel_names_attribute': '--channel-names-attribute',
     'mat.variables': '--variable',
     'mat.channel_axis': '--channel-axis',
     'mat.sample_rate_variable': '--sample-rate-variable',

@@ -36,6 +36,7 @@ function hdf5Layout(h: NonNullable<RawGroup['hdf5']>): Hdf5Layout {
     ...(h.sample_rate_dataset != null ? { sample_rate_dataset: absolute(h.sample_rate_dataset) } : {}),
     ...(h.start_time_dataset != null ? { start_time_dataset: absolute(h.start_time_dataset) } : {}),
     ...(h.time_dataset != null ? { time_dataset: absolute(h.time_dataset) } : {}),
+    ...(h.channel_names_attribute != null ? { channel_names_attribute: h.channel_names_attribute } : {}),
   };
 }
 

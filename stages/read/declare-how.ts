@@ -1,7 +1,7 @@
 // Where the user gives what a file cannot say about itself, so that a reader's message names the right place.
 
 /** A setting a reader may ask for, by its key in archive.yaml. */
-export type DeclaredSetting = 'sample_rate' | 'hdf5.datasets' | 'hdf5.channel_axis' | 'hdf5.sample_rate_attribute' | 'hdf5.start_time_attribute' | 'hdf5.sample_rate_dataset' | 'hdf5.start_time_dataset' | 'hdf5.time_dataset'
+export type DeclaredSetting = 'sample_rate' | 'hdf5.datasets' | 'hdf5.channel_axis' | 'hdf5.sample_rate_attribute' | 'hdf5.start_time_attribute' | 'hdf5.sample_rate_dataset' | 'hdf5.start_time_dataset' | 'hdf5.time_dataset' | 'hdf5.channel_names_attribute'
   | 'mat.variables' | 'mat.channel_axis' | 'mat.sample_rate_variable' | 'mat.start_time_variable' | 'mat.time_variable' | 'mat.channel_names_variable';
 
 /**
@@ -24,6 +24,7 @@ export const DECLARE_IN_ARCHIVE: DeclareHow = {
     'hdf5.sample_rate_dataset': 'hdf5.sample_rate_dataset in archive.yaml',
     'hdf5.start_time_dataset': 'hdf5.start_time_dataset in archive.yaml',
     'hdf5.time_dataset': 'hdf5.time_dataset in archive.yaml',
+    'hdf5.channel_names_attribute': 'hdf5.channel_names_attribute in archive.yaml',
     'mat.variables': 'mat.variables in archive.yaml',
     'mat.channel_axis': 'mat.channel_axis in archive.yaml',
     'mat.sample_rate_variable': 'mat.sample_rate_variable in archive.yaml',

@@ -4,7 +4,7 @@
 import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
-import { rateFrom, scalar, startFrom } from './setting-values.js';
+import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { keepSteps, nominalStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
@@ -24,6 +24,8 @@ export interface Hdf5Layout {
   start_time_dataset?: string | null;
   /** Dataset holding each frame's time in seconds, as long as the channels: the sample rate from its steps, irregular ones counted. */
   time_dataset?: string | null;
+  /** Attribute holding the channels' names, an array of text in channel order (same lookup): declared channels are then found by name. */
+  channel_names_attribute?: string | null;
 }
 
 type Dataset = InstanceType<H5['Dataset']>;
@@ -71,6 +73,13 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
     }
   }
   throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct ${where} or check the file`);
+}
+
+/** Names an attribute holds: an array of text (one text for one channel). */
+function namesIn(value: unknown, held: string, where: string): string[] {
+  const list = typeof value === 'string' ? [value] : Array.isArray(value) ? value : null;
+  if (!list || list.some((v) => typeof v !== 'string')) throw new RecordingError(`${held} (the channel names) holds ${ArrayBuffer.isView(value) ? 'numbers' : typeof value}, not text; the channel names are an array of text; correct ${where}`);
+  return list.map((n: string) => n.trim());
 }
 
 /** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
@@ -121,7 +130,7 @@ const isVector = (shape: number[]) => shape.length === 1 || (shape.length === 2 
 const vectorRanges = (shape: number[], rows: [number, number]) => (shape.length === 1 ? [rows] : shape[0] === 1 ? [[] as [], rows] : [rows, [] as []]);
 
 /** A file opened on an instance: its datasets found and checked against the layout. */
-interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
+interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null; channelNames: string[] | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
 
 const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
 
@@ -172,7 +181,9 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     }
     const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
       : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
-    return { h5, file, sources, channels, frames, axis, sampleRate, startTime, time, step };
+    const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
+    const channelNames = namesSpec ? namesFrom(namesIn(findAttribute(file, first.path, namesSpec, 'channel names', namesWhere), `attribute "${namesSpec}"`, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
+    return { h5, file, sources, channels, frames, axis, sampleRate, startTime, channelNames, time, step };
   } catch (e) {
     closeQuietly(file);
     throw e;
@@ -270,7 +281,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     const recording: Recording = {
       format: 'hdf5', channelCount: channels, sampleRate, frames,
       encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
-      startTime, channelNames: null, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
+      startTime, channelNames: o.channelNames, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
     };
     return recording;
   } catch (e) {
