@@ -99,6 +99,26 @@ sys.stdout.buffer.write(b''.join(out))`, dir, ...classes], { maxBuffer: 1 << 26 
     }
   });
 
+  it('MAT-files\' channel names, beyond ASCII too, as scipy.io.loadmat and hdf5storage.loadmat read them: cell arrays and char matrices', async () => {
+    const python = requirePython('scipy', 'numpy', 'hdf5storage');
+    const dir = tempDir();
+    const names = ['acc_x', 'druck_ü', 'mic_µPa'];
+    const read = execFileSync(python, ['-c', `import sys,json,numpy as np,scipy.io as sio,hdf5storage
+d=sys.argv[1]; names=json.loads(sys.argv[2]); x=np.zeros((100,3))
+sio.savemat(f'{d}/cells-v7.mat',{'x':x,'fs':100.0,'names':np.array(names,dtype=object)},do_compression=True)
+sio.savemat(f'{d}/rows-v6.mat',{'x':x,'fs':100.0,'names':np.array(names)},do_compression=False)
+hdf5storage.savemat(f'{d}/cells-v73.mat',{'x':x,'fs':100.0,'names':np.array(names,dtype=object)},format='7.3',matlab_compatible=True)
+out={'cells-v7.mat':[str(c[0]) for c in sio.loadmat(f'{d}/cells-v7.mat')['names'].ravel()],
+     'rows-v6.mat':[str(r).rstrip() for r in sio.loadmat(f'{d}/rows-v6.mat')['names']],
+     'cells-v73.mat':[str(np.asarray(c).ravel()[0]) for c in np.asarray(hdf5storage.loadmat(f'{d}/cells-v73.mat')['names']).ravel()]}
+print(json.dumps(out))`, dir, JSON.stringify(names)], { encoding: 'utf8' });
+    for (const [file, want] of Object.entries(JSON.parse(read) as Record<string, string[]>)) {
+      expect(want, file).toEqual(names);
+      const { rec } = await readAll(join(dir, file), { mat: { variables: ['x'], channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: null, channel_names_variable: 'names' } });
+      expect(rec.channelNames, file).toEqual(want);
+    }
+  });
+
   it('streams an RF64 file past 4 GiB to its last sample (a sparse file)', async () => {
     const big = readJson(fixture('formats', 'expected.json')).rf64_big;
     const path = sparseRf64();
