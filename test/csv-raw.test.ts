@@ -66,6 +66,18 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
     }
   });
 
+  it('keeps ISO 8601 times finer than a millisecond: a 25.6 kHz logger stamping each row to 100 ns, with and without a zone', async () => {
+    // 1 / 25600 s = 39.0625 µs; each row's stamp rounded to 7 decimals of a second, as the logger prints it.
+    for (const zone of ['', 'Z']) {
+      const rows = Array.from({ length: 5000 }, (_, i) => `2026-11-16T02:00:${(i / 25600).toFixed(7).padStart(10, '0')}${zone},${i % 7}`);
+      const { rec, channels } = await readAll(write('fast.csv', ['time,x', ...rows].join('\n')));
+      expect(rec.sampleRate).toBe(25600);
+      expect(rec.notes).toEqual([]);
+      expect(rec.timeSteps?.irregular).toBe(0);
+      expect(channels[0][4999]).toBe(4999 % 7);
+    }
+  });
+
   it('refuses a time column of dates that are not ISO 8601, rather than guess at their order of day and month', async () => {
     for (const cell of ['05/11/2026 02:00:00', 'night 3']) {
       const text = ['time,x', ...[0, 1, 2].map((i) => `${cell.replace('00:00', `00:0${i}`)},${i}`)].join('\n');

@@ -13,6 +13,9 @@ describe('start times as ISO 8601 text', () => {
     expect(isoTimeMs('2026-03-15T02:00+0100')).toBe(Date.UTC(2026, 2, 15, 1));
     expect(isoTimeMs('2026-03-14')).toBe(Date.UTC(2026, 2, 14));
     expect(isoTimeMs('2024-02-29T12:00:00z')).toBe(Date.UTC(2024, 1, 29, 12));
+    // Finer than a millisecond, where Date.parse alone drops all past the third decimal.
+    expect(isoTimeMs('2026-03-14T02:00:00.0000390625+01:00') - Date.UTC(2026, 2, 14, 1)).toBeCloseTo(0.0390625, 3); // to within 0.5 µs: a double holds today's ms since the epoch to about 0.2 µs
+    expect(isoTimeMs('2026-03-14 02:00:00.123456') - Date.UTC(2026, 2, 14, 2)).toBeCloseTo(123.456, 3);
   });
 
   it('refuses what Date.parse would guess at: words, bare numbers, days not in the calendar, times not on the clock', () => {

@@ -56,7 +56,8 @@ function timeValue(text: string, decimalComma: boolean): number {
   return isoTimeMs(t) / 1000;
 }
 
-const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$)/); return m ? m[1].length : 0; };
+/** Decimals of a time cell's seconds: of a number, or of an ISO 8601 time's fraction of a second (before its zone). */
+const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$|[zZ+-])/); return m ? m[1].length : 0; };
 
 export interface CsvOptions {
   chunkFrames?: number;

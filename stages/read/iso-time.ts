@@ -3,14 +3,14 @@
 // into March, so only real calendar dates and times of day pass.
 const ISO_DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(\.\d+)?)?)?\s*(Z|[+-]\d{2}:?\d{2})?$/i;
 
-/** Milliseconds since the epoch, or NaN for text that is not such a date-time. */
+/** Milliseconds since the epoch, finer than one where the text is (Date.parse keeps whole ms), or NaN for text that is not such a date-time. */
 export function isoTimeMs(text: string): number {
   const m = text.trim().match(ISO_DATE_TIME);
   if (!m) return NaN;
   const [, y, mo, d, h = '00', mi = '00', s = '00', fraction = '', zone = 'Z'] = m;
   if (!isCalendarDate(Number(y), Number(mo), Number(d))) return NaN;
   if (Number(h) > 23 || Number(mi) > 59 || Number(s) > 59) return NaN;
-  return Date.parse(`${y}-${mo}-${d}T${h}:${mi}:${s}${fraction}${zone.toUpperCase()}`);
+  return Date.parse(`${y}-${mo}-${d}T${h}:${mi}:${s}${zone.toUpperCase()}`) + (fraction ? Number(`0${fraction}`) * 1000 : 0);
 }
 
 /** Whether the day exists: Date.UTC rolls 30 February over into March. */
