@@ -6,7 +6,7 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
-import { keepSteps, stepCounter } from './time-steps.js';
+import { keepSteps, nominalOf, stepCounter } from './time-steps.js';
 
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
@@ -98,11 +98,13 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (times.length < 2 || !Number.isFinite(times[0]) || !Number.isFinite(times[times.length - 1])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
-    // The mean step over the probe rows; rounding of printed times averages out over many steps.
-    timeStep = (times[times.length - 1] - times[0]) / (times.length - 1);
+    // The printed times' resolution: steps within it of each other are the same step, rounded.
+    const resolution = 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? '')));
+    // The nominal step over the probe rows: a dropout among them does not pull it, and rounding of printed times averages out.
+    timeStep = nominalOf(times, resolution);
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     const derived = 1 / timeStep;
-    timeTolerance = Math.max(0.01 * timeStep, 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? ''))));
+    timeTolerance = Math.max(0.01 * timeStep, resolution);
     if (!/^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim())) startTime = new Date(times[0] * 1000);
     if (declaredSampleRate != null && Math.abs(derived - declaredSampleRate) > 0.005 * declaredSampleRate) {
       throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);

@@ -198,7 +198,7 @@ function timeDatasetOf(file: HdfFile, path: string, frames: number, where: strin
   return t;
 }
 
-/** The median step of a time dataset's first TIME_PROBE values. */
+/** The nominal step of a time dataset's first TIME_PROBE values. */
 function timeStepOf(t: Source, frames: number, where: string): number {
   const k = Math.min(frames, TIME_PROBE);
   let values;

@@ -37,7 +37,7 @@ function checkVector(s: { header: ArrayHeader; where: string }, first: { where: 
 
 /** Times as stored: no full scale applies to seconds. */
 const AS_STORED = { scale: 1, shift: 0 };
-/** The median step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
+/** The nominal step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
 async function timeStepOf(m: MatFile, path: string, frames: number, where: string): Promise<number> {
   const t = await sourceAt(m, path, 'time', where, 0);
   try {

@@ -29,17 +29,25 @@ export function stepCounter(nominal: number, tolerance: number) {
 export const irregularNote = (s: TimeSteps, steps: number) =>
   `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s; samples were taken as evenly spaced`;
 
-/** The median of a time vector's steps: its nominal step, which a dropout among the first times does not pull (common practice). */
-function medianStep(times: Float64Array): number {
-  const steps = Float64Array.from({ length: times.length - 1 }, (_, i) => times[i + 1] - times[i]).sort();
-  const mid = steps.length >> 1;
-  return steps.length % 2 ? steps[mid] : (steps[mid - 1] + steps[mid]) / 2;
+/**
+ * A time vector's nominal step: the mean of the steps within 1 % of their median (or within the times' printed resolution,
+ * when coarser), a trimmed mean (common practice). The median keeps a dropout among the first times from pulling it; the
+ * mean over the steps near it lets the rounding of printed times (0.0003906 and 0.0003907 s for 1/2560 s) average out.
+ */
+export function nominalOf(times: ArrayLike<number>, resolution = 0): number {
+  const steps = Float64Array.from({ length: Math.max(0, times.length - 1) }, (_, i) => times[i + 1] - times[i]);
+  const sorted = Float64Array.from(steps).sort(), mid = sorted.length >> 1;
+  const median = sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+  const near = Math.max(0.01 * Math.abs(median), resolution);
+  let sum = 0, n = 0;
+  for (const dt of steps) if (Math.abs(dt - median) <= near) { sum += dt; n++; }
+  return n ? sum / n : median;
 }
 
 /** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
 export const TIME_PROBE = 4096;
 
-/** The sample rate a time vector's median step gives, held against a declared one as a CSV file's time column is (0.5 %). */
+/** The sample rate a time vector's nominal step gives, held against a declared one as a CSV file's time column is (0.5 %). */
 export function rateFromStep(step: number, declared: number | null, held: string, where: string): number {
   const derived = 1 / step;
   if (declared != null && Math.abs(derived - declared) > 0.005 * declared) throw new RecordingError(`${held} (the time) steps at ${derived.toPrecision(6)} Hz but the declaration says ${declared} Hz; correct ${where} or check the file`);
@@ -49,7 +57,7 @@ export function rateFromStep(step: number, declared: number | null, held: string
 /** A time vector's nominal step from its first times (at most TIME_PROBE of them), refusing one time or times that do not increase. */
 export function nominalStep(first: Float64Array, held: string, where: string): number {
   if (first.length < 2) throw new RecordingError(`${held} (the time) holds one time, from which no sample rate follows; declare the rate`);
-  const step = medianStep(first);
+  const step = nominalOf(first);
   if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`${held} (the time) does not increase over its first ${first.length} values; check the file or ${where}`);
   return step;
 }
