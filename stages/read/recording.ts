@@ -17,7 +17,7 @@ export interface Recording {
   /** Whether stored values were normalised to ±1 of the integer full scale. */
   normalised: boolean;
   startTime: Date | null;
-  /** Channel names carried by the file itself (CSV headers); null when it has none. */
+  /** Channel names carried by the file itself (CSV headers; HDF5 and MAT-file names where declared): declared channels are found by them. Null when it has none. */
   channelNames: string[] | null;
   /** Yields one Float64Array per channel per chunk; arrays may be reused after the next step. */
   chunks(): AsyncGenerator<Float64Array[]>;
