@@ -3,6 +3,9 @@ import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
 import type { ChannelContext, Stage } from './stage.js';
 
+/** The middle of three values; NaN when the middle one is not a number. */
+const medianOfThree = (a: number, b: number, c: number) => (Number.isNaN(b) ? NaN : Math.max(Math.min(a, b), Math.min(Math.max(a, b), c)));
+
 /** Key of the recording's list of tacho products (one per tacho channel, in channel order of creation). */
 export const SHAFT_SPEED_KEY = 'shaft-speed';
 
@@ -93,7 +96,9 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   const edge = (at: number) => { s.edges++; train.edge(at); };
   let edges: PulseEdges | null = null;
   const start = (trigger: Trigger | null) => { s.trigger = trigger; if (trigger) edges = new PulseEdges(trigger, edge); };
-  // Undeclared levels come from the first second: midway between its extremes, hysteresis a share of its span.
+  // Undeclared levels come from the first second: midway between its extremes, hysteresis a share of its span. The extremes
+  // are those of its running median of three (Tukey's smoothing, common practice): a lone spike, which would set a level no
+  // pulse reaches, does not count; a pulse two or more samples wide does.
   const learnLength = Math.max(1, Math.round(TRIGGER_LEARN_S * fs));
   let learn: Float64Array | null = null, learnFill = 0;
   if (tacho.triggerLevel != null && tacho.triggerHysteresis != null) start({ level: tacho.triggerLevel, hysteresis: tacho.triggerHysteresis });
@@ -102,7 +107,10 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     const seen = learn!.subarray(0, learnFill);
     learn = null;
     let lo = Infinity, hi = -Infinity;
-    for (const v of seen) if (Number.isFinite(v)) { if (v < lo) lo = v; if (v > hi) hi = v; }
+    for (let i = 0; i < seen.length; i++) {
+      const v = medianOfThree(seen[i > 0 ? i - 1 : i], seen[i], seen[i + 1 < seen.length ? i + 1 : i]);
+      if (Number.isFinite(v)) { if (v < lo) lo = v; if (v > hi) hi = v; }
+    }
     s.found = true;
     start(hi > lo ? { level: tacho.triggerLevel ?? (lo + hi) / 2, hysteresis: tacho.triggerHysteresis ?? TRIGGER_HYSTERESIS_SHARE * (hi - lo) } : null);
     edges?.push(seen);

@@ -121,6 +121,18 @@ describe('shaft speed from a tacho channel (pulses_per_rev)', () => {
     expect(bare.notes).toMatch(/extra tacho pulse|irregular tacho interval/);
   });
 
+  it('a lone spike in the first second does not set the trigger level: the speed is found, the spike counted as an extra pulse', async () => {
+    const fs = 12800, seconds = 5, n = fs * seconds;
+    const s = shaft(25, 0); // 1500 rpm
+    const x = tachoSignal(n, fs, s.angle, 1);
+    const at = Math.round(s.when(10 + 0.6 - START) * fs); // between pulses 10 and 11, low level
+    x[at] = 50; // one sample of interference, ten times the pulse height
+    const { row, notes } = await reduce([x], [TACHO], fs, {});
+    expect(notes).toMatch(/tacho edges timed at 2\.5 V, hysteresis 2 V, found from the first second/);
+    expect(row('tacho').pulses_extra).toBe(1);
+    expect(relative(row('tacho').speed_mean_rpm, 1500)).toBeLessThan(5e-4);
+  });
+
   it('a flat tacho gives no speed and says to declare the trigger', async () => {
     const fs = 1000;
     const { row, notes } = await reduce([new Float64Array(fs * 3).fill(1)], [TACHO], fs, {});
