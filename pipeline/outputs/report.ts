@@ -113,6 +113,27 @@ export async function writeRunRecord(out: string, name: string, r: RunRecord): P
   }
 }
 
+/** Kinds of note the terminal names, the most frequent first; run.json holds every note. */
+const NOTE_KINDS_SHOWN = 2;
+
+/** The most frequent kinds of note, each as its first wording (to its first ';') and how many notes are of it. */
+export function commonNotes(messages: string[], shown = NOTE_KINDS_SHOWN): string {
+  // A kind is a note's text to its first ';', without the channel or stage it opens with and with its numbers masked, so
+  // that one finding on many channels and recordings counts once.
+  const kinds = new Map<string, { n: number; first: string; bare: string; opening: Set<string> }>();
+  for (const m of messages) {
+    const first = m.split(';')[0].trim(), opening = first.match(/^[^\s:]+: /)?.[0] ?? '', bare = first.slice(opening.length);
+    const kind = bare.replace(/\d+(?:\.\d+)?/g, '#');
+    const k = kinds.get(kind) ?? kinds.set(kind, { n: 0, first, bare, opening: new Set() }).get(kind)!;
+    k.n++;
+    k.opening.add(opening);
+  }
+  const top = [...kinds.values()].sort((a, b) => b.n - a.n).slice(0, shown);
+  const clipped = (t: string) => (t.length > 90 ? `${t.slice(0, 89)}…` : t);
+  // One channel's wording stands for the kind; where several channels share it, without the channel's name.
+  return top.map((k) => `${k.n} such as "${clipped(k.opening.size > 1 ? k.bare : k.first)}"${k.opening.size > 1 ? ` (${k.opening.size} channels)` : ''}`).join(', ') + (kinds.size > shown ? `, and ${kinds.size - shown} other kind${kinds.size - shown === 1 ? '' : 's'}` : '');
+}
+
 /** Recordings left to settle that the terminal names; run.json lists them all. */
 const MAX_SETTLING_LINES = 10;
 
@@ -128,7 +149,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
   const noted = r.recordings.filter((x) => x.messages.length);
-  if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings (bands above Nyquist, irregular time steps, …): see run.json`);
+  if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
   const settling = r.settling;
