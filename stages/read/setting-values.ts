@@ -19,7 +19,7 @@ export function rateFrom(value: unknown, held: string, where: string): number {
 
 /** Channel names a file keeps beside its samples, in channel order: one a channel, none empty, none twice (channels are found by them). */
 export function namesFrom(names: string[], channels: number, held: string, where: string): string[] {
-  if (names.length !== channels) throw new RecordingError(`${held} (the channel names) holds ${names.length} names but the samples have ${channels} channels; check the file or ${where}`);
+  if (names.length !== channels) throw new RecordingError(`${held} (the channel names) holds ${names.length} name${names.length === 1 ? '' : 's'} but the samples have ${channels} channel${channels === 1 ? '' : 's'}; check the file or ${where}`);
   const empty = names.indexOf('');
   if (empty >= 0) throw new RecordingError(`${held} (the channel names): name ${empty + 1} of ${names.length} is empty; check the file or ${where}`);
   const twice = names.find((n, i) => names.indexOf(n) !== i);
