@@ -166,6 +166,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     return { record, quality: written.quality, threadsGivenUp };
   } finally {
     await pool.destroy();
+    // Copies a thread stopped for a stall, or one that crashed, left behind: no thread of this run reads them any more.
+    await sweepSpools(undefined, { own: true });
     await store?.close();
     await lock.release();
     storage.stop();

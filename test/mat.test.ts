@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording } from '../stages/read/open.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
+import { runReduce } from '../pipeline/run.js';
 import { fixture, quernWith, readAll, readJson, tempDir } from './helpers.js';
 
 interface MatFixture { file: string; case: string | null; mat: MatLayout; channel_names: string[] | null; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
@@ -180,5 +181,24 @@ describe('temporary copies that stopped runs leave', () => {
     const r = quernWith({ TMPDIR: tmp }, 'reduce', archive, '--out', join(archive, '..', 'out'), '--quiet');
     expect(r.code, r.stderr).toBe(0);
     expect(readdirSync(tmp).sort()).toEqual([`quern-mat-${process.pid}-def`, 'quern-mat-notes']);
+  });
+
+  it('a run removes, once its threads have ended, the copies its own process left (a thread stopped for a stall)', async () => {
+    const tmp = tempDir(), before = process.env.TMPDIR;
+    const left = join(tmp, `quern-mat-${process.pid}-stalled`);
+    mkdirSync(left);
+    writeFileSync(join(left, 'variable'), 'x');
+    const archive = join(tempDir(), 'archive');
+    mkdirSync(archive);
+    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - { name: m, match: "*.mat", mat: { variables: data, channel_axis: 1, sample_rate_variable: fs } }\n');
+    copyFileSync(fixture('mat', 'rig-columns.mat'), join(archive, 'r.mat'));
+    process.env.TMPDIR = tmp;
+    try {
+      const { record } = await runReduce({ archive, out: join(archive, '..', 'out'), jobs: 1 });
+      expect(record.counts.reduced).toBe(1);
+      expect(readdirSync(tmp)).toEqual([]);
+    } finally {
+      if (before == null) delete process.env.TMPDIR; else process.env.TMPDIR = before;
+    }
   });
 });

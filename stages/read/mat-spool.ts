@@ -60,14 +60,15 @@ function running(pid: number): boolean {
 
 /**
  * Removes the temporary copies that processes no longer running left behind (a thread stopped for a stall, a run ended
- * with SIGKILL); returns how many. Copies of running processes, this one included, are theirs.
+ * with SIGKILL); returns how many. Copies of running processes are theirs; this one's too, unless `own` (a run whose
+ * threads have ended: what is left is a stopped or crashed thread's, and a file still open reads on once removed).
  */
-export async function sweepSpools(dir = tmpdir()): Promise<number> {
+export async function sweepSpools(dir = tmpdir(), { own = false } = {}): Promise<number> {
   const names = await readdir(dir).catch(() => [] as string[]);
   let removed = 0;
   for (const name of names) {
     const m = name.match(/^quern-mat-(\d+)-/);
-    if (!m || running(Number(m[1]))) continue;
+    if (!m || (running(Number(m[1])) && !(own && Number(m[1]) === process.pid))) continue;
     await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
   }
   return removed;
