@@ -53,6 +53,8 @@ const SEEDS: Seed[] = [
   { name: 'dropout.mat', bytes: file('mat', 'dropout.mat'), format: 'mat', mat: mat(['x'], { channel_axis: 1, time_variable: 't' }) },
   { name: 'named.mat', bytes: file('mat', 'named-channels.mat'), format: 'mat', mat: mat(['data'], { channel_axis: 1, sample_rate_variable: 'fs', channel_names_variable: 'names' }) },
   { name: 'named-73.mat', bytes: file('mat', 'named-channels-73.mat'), format: 'mat', mat: mat(['data'], { channel_axis: 1, sample_rate_variable: 'fs', channel_names_variable: 'names' }) },
+  { name: 'level4.mat', bytes: file('mat', 'level4.mat'), format: 'mat', mat: mat(['data'], { channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 't0', channel_names_variable: 'names' }) },
+  { name: 'level4-be.mat', bytes: file('mat', 'level4-big-endian.mat'), format: 'mat', mat: mat(['x'], { channel_axis: 1, sample_rate_variable: 'fs' }) },
   { name: 'big-endian.mat', bytes: file('mat', 'narrow-big-endian.mat'), format: 'mat', mat: mat(['sig'], { channel_axis: 1, sample_rate_variable: 'fs' }) },
   { name: 'export.csv', bytes: CSV, format: 'csv' },
   { name: 'frames.bin', bytes: file('raw', 'be-int16-3ch.bin'), format: 'raw', sampleRate: 100, layout: { sample_type: 'int16', byte_order: 'big', channels: 3, header_bytes: 16 } },

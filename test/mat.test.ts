@@ -114,6 +114,20 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(readAll(fixture('formats', 'pcm12in16.wav'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 126: no byte-order mark/);
   });
 
+  it('level 4 files: what they hold named in errors, no structs, text and sparse refused as samples, cut short or damaged refused', async () => {
+    const read = (file: string, l: Partial<MatLayout>) => readAll(file.includes('/') ? file : fixture('mat', file), { mat: layout({ channel_axis: 1, sample_rate_variable: 'fs', ...l }) });
+    await expect(read('level4.mat', { variables: ['signals'] })).rejects.toThrow(/variable "signals" \(the samples\) is not in the file; the file holds data \(double 1500 × 3\), fs \(double 1 × 1\), t0 \(text 1 × 20\), names \(text 3 × 7\)/);
+    await expect(read('level4.mat', { variables: ['rec.acc_x'] })).rejects.toThrow(/variable "rec.acc_x" \(the samples\): a level 4 MAT-file holds no structs, only matrices/);
+    await expect(read('level4.mat', { variables: ['t0'] })).rejects.toThrow(/variable "t0" \(byte \d+, level 4\) is a text matrix; the samples must be numbers/);
+    await expect(read('level4.mat', { variables: ['data'], channel_names_variable: 'fs' })).rejects.toThrow(/variable "fs" \(byte \d+, level 4\) is a numeric matrix; the channel names are a text matrix of one name a row/);
+    await expect(read('level4.mat', { variables: ['data'], sample_rate_variable: 'names' })).rejects.toThrow(/variable "names" \(byte \d+, level 4\) is a 3 × 7 text matrix; the sample rate is one line of text or one number/);
+    const dir = tempDir(), whole = readFileSync(fixture('mat', 'level4.mat'));
+    for (const keep of [30, 200, whole.length - 1]) {
+      writeFileSync(join(dir, `cut-${keep}.mat`), whole.subarray(0, keep));
+      await expect(read(join(dir, `cut-${keep}.mat`), { variables: ['data'] })).rejects.toThrow(/cut short/);
+    }
+  });
+
   it('fails with a reason on files cut short or damaged, never a crash', async () => {
     const dir = tempDir();
     const whole = readFileSync(fixture('mat', 'rig-columns.mat'));

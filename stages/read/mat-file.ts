@@ -60,7 +60,7 @@ export async function readMatFile(path: string): Promise<MatFile> {
     if (bytesRead >= 8 && head.subarray(0, 8).equals(hdf5)) throw new RecordingError('byte 0: an HDF5 file, not a level 5 MAT-file: declare format: hdf5 for its group, with an hdf5 section naming its datasets');
     if (bytesRead < 128) throw new RecordingError(`byte ${bytesRead}: the file ends inside the 128-byte MAT-file header; the file is cut short: copy it again`);
     const order = head.toString('latin1', 126, 128);
-    if (order !== 'IM' && order !== 'MI') throw new RecordingError(`byte 126: no byte-order mark ("IM" or "MI"), so not a level 5 MAT-file${/^MATLAB/.test(head.toString('latin1', 0, 6)) ? '; the header is damaged' : ' (MAT version 4 files are not read: save it again with -v7)'}; check the group's format or the file`);
+    if (order !== 'IM' && order !== 'MI') throw new RecordingError(`byte 126: no byte-order mark ("IM" or "MI"), so not a level 5 MAT-file${/^MATLAB/.test(head.toString('latin1', 0, 6)) ? '; the header is damaged' : ' (nor does it open as a level 4 one)'}; check the group's format or the file`);
     const little = order === 'IM';
     const elements: TopElement[] = [];
     const tag = Buffer.alloc(8);
@@ -213,4 +213,38 @@ export async function closeAll(m: MatFile, sources: ChannelSource[]): Promise<vo
   for (const spool of m.spools.values()) await spool.remove();
   m.spools.clear();
   await m.file.close().catch(() => {});
+}
+
+/** What the MAT-file reader asks of a file's variables, whatever its level: 5 (here) or 4 (mat4.ts). */
+export interface MatVariables {
+  little: boolean;
+  /** What the file holds, for messages. */
+  holds(): string;
+  /** A cursor at value `first` of a numeric variable, and its header. */
+  sourceAt(path: string, what: string, where: string, first: number): Promise<ChannelSource & { header: ArrayHeader; where: string }>;
+  sampleRateOf(path: string, where: string): Promise<number>;
+  startTimeOf(path: string, where: string): Promise<Date>;
+  channelNamesOf(path: string, where: string): Promise<string[]>;
+  /** The variables the recording's sources read, once each a source: those read by several are readied for it. */
+  readBy(paths: string[]): void;
+  close(sources: ChannelSource[]): Promise<void>;
+}
+
+/** A level 5 file's variables: a compressed element several sources read from is inflated once (mat-spool.ts). */
+export function level5(m: MatFile): MatVariables {
+  const topOf = (path: string) => m.elements.find((e) => e.header?.name === path.split('.')[0]);
+  return {
+    little: m.little,
+    holds: () => holds(m),
+    sourceAt: (path, what, where, first) => sourceAt(m, path, what, where, first),
+    sampleRateOf: (path, where) => sampleRateOf(m, path, where),
+    startTimeOf: (path, where) => startTimeOf(m, path, where),
+    channelNamesOf: (path, where) => channelNamesOf(m, path, where),
+    readBy(paths) {
+      const uses = new Map<TopElement, number>();
+      for (const p of paths) { const e = topOf(p); if (e) uses.set(e, (uses.get(e) ?? 0) + 1); }
+      for (const [e, n] of uses) if (n > 1 && e.compressed) m.shared.add(e);
+    },
+    close: (sources) => closeAll(m, sources),
+  };
 }

@@ -3,7 +3,8 @@
 // are read as they are asked for, each channel from its own place in the file, so memory does not grow with the recording.
 // A compressed variable several channels read from (columns as channels, fields of one struct) is inflated once into a
 // temporary file first (mat-spool.ts), removed when the recording closes. Finding the variables: mat-file.ts.
-import { channelNamesOf, closeAll, holds, readMatFile, sampleRateOf, sourceAt, startTimeOf, type ChannelSource, type MatFile, type TopElement } from './mat-file.js';
+import { level5, readMatFile, type ChannelSource, type MatVariables } from './mat-file.js';
+import { isMat4, readMat4File } from './mat4.js';
 import { namesFrom } from './setting-values.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
@@ -38,8 +39,8 @@ function checkVector(s: { header: ArrayHeader; where: string }, first: { where: 
 /** Times as stored: no full scale applies to seconds. */
 const AS_STORED = { scale: 1, shift: 0 };
 /** The nominal step of a time vector's first TIME_PROBE values, after checking it has one time a frame. */
-async function timeStepOf(m: MatFile, path: string, frames: number, where: string): Promise<number> {
-  const t = await sourceAt(m, path, 'time', where, 0);
+async function timeStepOf(m: MatVariables, path: string, frames: number, where: string): Promise<number> {
+  const t = await m.sourceAt(path, 'time', where, 0);
   try {
     if (!isVectorDims(t.header.dims) || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
     const k = Math.min(frames, TIME_PROBE), size = TYPE_BYTES[t.type];
@@ -55,13 +56,12 @@ interface SourcePlan { variable: string; first: number; width: number }
 
 export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
   if (await isMat73(path)) return openMat73(path, layout ?? { variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null }, declaredSampleRate, { chunkFrames, declareHow });
-  const m = await readMatFile(path);
+  const m = (await isMat4(path)) ? await readMat4File(path) : level5(await readMatFile(path));
   const sources: ChannelSource[] = [], extra: ChannelSource[] = [];
   try {
     const where = declareHow.where;
-    if (!layout || layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${holds(m)}`);
-    const topOf = (variable: string) => m.elements.find((e) => e.header?.name === variable.split('.')[0]);
-    const first = await sourceAt(m, layout.variables[0], 'samples', where['mat.variables'], 0);
+    if (!layout || layout.variables.length === 0) throw new RecordingError(`a MAT-file needs to be told which variables hold the samples; ${declareHow.mat}; ${m.holds()}`);
+    const first = await m.sourceAt(layout.variables[0], 'samples', where['mat.variables'], 0);
     first.cursor.close();
     const cls = first.header.cls;
     let channels: number, frames: number;
@@ -76,8 +76,6 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
         // Columns as channels: each channel's samples lie together, so each channel reads from its own place.
         checkChannelCount(channels, first.where);
         plan = Array.from({ length: channels }, (_, c) => ({ variable: layout.variables[0], first: c * frames, width: 1 }));
-        const e = topOf(layout.variables[0])!;
-        if (e.compressed) m.shared.add(e);
       }
     } else {
       // The other variables are looked at as their samples are first asked for: fields of one compressed struct are
@@ -87,23 +85,20 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
       frames = first.header.count;
       plan = layout.variables.map((variable) => ({ variable, first: 0, width: 1 }));
       checkVector(first, first, frames, cls);
-      const uses = new Map<TopElement, number>();
-      for (const v of layout.variables) { const e = topOf(v); if (e) uses.set(e, (uses.get(e) ?? 0) + 1); }
-      for (const [e, n] of uses) if (n > 1 && e.compressed) m.shared.add(e);
     }
+    m.readBy(plan.map((p) => p.variable));
     checkChannelCount(channels, first.where);
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
     const nominalStep = layout.time_variable ? await timeStepOf(m, layout.time_variable, frames, where['mat.time_variable']) : null;
     const fromTime = nominalStep == null ? null : rateFromStep(nominalStep, declaredSampleRate, `variable "${layout.time_variable}"`, where.sample_rate);
-    const fromVariable = layout.sample_rate_variable ? await sampleRateOf(m, layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
+    const fromVariable = layout.sample_rate_variable ? await m.sampleRateOf(layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
     const sampleRate = fromVariable ?? fromTime ?? declaredSampleRate;
     if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate}, ${where['mat.sample_rate_variable']} or ${where['mat.time_variable']}`);
-    // A time vector in a compressed element the channels read from too is inflated once with them.
-    const timeTop = layout.time_variable ? topOf(layout.time_variable) : undefined;
-    if (timeTop?.compressed && layout.variables.some((v) => topOf(v) === timeTop)) m.shared.add(timeTop);
-    const startTime = layout.start_time_variable ? await startTimeOf(m, layout.start_time_variable, where['mat.start_time_variable']) : null;
+    // A time vector in a compressed element the channels read from too is inflated once with them (after its first times are probed).
+    if (layout.time_variable) m.readBy([...plan.map((p) => p.variable), layout.time_variable]);
+    const startTime = layout.start_time_variable ? await m.startTimeOf(layout.start_time_variable, where['mat.start_time_variable']) : null;
     const namesAt = layout.channel_names_variable;
-    const channelNames = namesAt ? namesFrom(await channelNamesOf(m, namesAt, where['mat.channel_names_variable']), channels, `variable "${namesAt}"`, where['mat.channel_names_variable']) : null;
+    const channelNames = namesAt ? namesFrom(await m.channelNamesOf(namesAt, where['mat.channel_names_variable']), channels, `variable "${namesAt}"`, where['mat.channel_names_variable']) : null;
     const norm = normaliserOf(cls);
     const integer = cls in CLASS_BITS;
     // The channels of one recording share one class; the stored type may differ between variables, and is at most 8 bytes.
@@ -112,12 +107,12 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
 
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       for (const p of plan) {
-        const s = await sourceAt(m, p.variable, 'samples', where['mat.variables'], p.first);
+        const s = await m.sourceAt(p.variable, 'samples', where['mat.variables'], p.first);
         sources.push({ ...s, width: p.width });
         if (layout!.variables.length > 1) checkVector(s, first, frames, cls);
       }
       // The time vector is read beside the samples, its steps counted; it is closed with them, but is no channel.
-      const time = nominalStep == null ? null : await sourceAt(m, layout!.time_variable!, 'time', where['mat.time_variable'], 0);
+      const time = nominalStep == null ? null : await m.sourceAt(layout!.time_variable!, 'time', where['mat.time_variable'], 0);
       if (time) extra.push(time);
       const steps = nominalStep == null ? null : stepCounter(nominalStep, 0.01 * nominalStep);
       const times = time ? new Float64Array(chunk) : null;
@@ -151,11 +146,11 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const recording: Recording = {
       format: 'mat', channelCount: channels, sampleRate, frames,
       encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
-      startTime, channelNames, notes: [], chunks, close: () => closeAll(m, [...sources, ...extra]),
+      startTime, channelNames, notes: [], chunks, close: () => m.close([...sources, ...extra]),
     };
     return recording;
   } catch (e) {
-    await closeAll(m, [...sources, ...extra]);
+    await m.close([...sources, ...extra]);
     throw e;
   }
 }

@@ -99,6 +99,25 @@ sys.stdout.buffer.write(b''.join(out))`, dir, ...classes], { maxBuffer: 1 << 26 
     }
   });
 
+  it('level 4 MAT-files written by scipy.io.savemat(format=\'4\') in every stored type equal what scipy.io.loadmat reads, as doubles', async () => {
+    const python = requirePython('scipy', 'numpy');
+    const dir = tempDir();
+    const types = ['float64', 'float32', 'int32', 'int16', 'uint16', 'uint8'];
+    const values = execFileSync(python, ['-c', `import sys,numpy as np,scipy.io as sio
+rng=np.random.default_rng(4); out=[]
+for t in sys.argv[2:]:
+    dt=np.dtype(t); x=rng.uniform(-1,1,(3000,2)).astype(dt) if dt.kind=='f' else rng.integers(np.iinfo(dt).min,np.iinfo(dt).max,(3000,2),endpoint=True).astype(dt)
+    sio.savemat(f'{sys.argv[1]}/{t}.mat',{'x':x,'fs':1000.0},format='4')
+    y=sio.loadmat(f'{sys.argv[1]}/{t}.mat')['x']; assert y.dtype==dt and np.array_equal(y,x)
+    out.append(np.asarray(y,dtype='<f8').T.tobytes())
+sys.stdout.buffer.write(b''.join(out))`, dir, ...types], { maxBuffer: 1 << 24 });
+    const all = new Float64Array(values.buffer.slice(values.byteOffset, values.byteOffset + values.byteLength));
+    for (const [i, t] of types.entries()) {
+      const want = [0, 1].map((c) => all.subarray((i * 2 + c) * 3000, (i * 2 + c + 1) * 3000));
+      await expectSame(join(dir, `${t}.mat`), want, { mat: { variables: ['x'], channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: null } });
+    }
+  });
+
   it('MAT-files\' channel names, beyond ASCII too, as scipy.io.loadmat and hdf5storage.loadmat read them: cell arrays and char matrices', async () => {
     const python = requirePython('scipy', 'numpy', 'hdf5storage');
     const dir = tempDir();
