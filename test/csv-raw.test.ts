@@ -87,6 +87,11 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
     }
   });
 
+  it('refuses a time column of milliseconds since 1970, which read as seconds would give a rate a thousand times too low', async () => {
+    const text = ['timestamp,x', ...[0, 1, 2, 3].map((i) => `${1794794400000 + i},${i}`)].join('\n');
+    await expect(readAll(write('ms.csv', text))).rejects.toThrow(/line 2: column "timestamp" starts at 1794794400000, too large for seconds; quern reads a time column in seconds \(or as ISO 8601 date-times\)/);
+  });
+
   it('refuses a time column of dates that are not ISO 8601, rather than guess at their order of day and month', async () => {
     for (const cell of ['05/11/2026 02:00:00', 'night 3']) {
       const text = ['time,x', ...[0, 1, 2].map((i) => `${cell.replace('00:00', `00:0${i}`)},${i}`)].join('\n');

@@ -57,6 +57,9 @@ function timeValue(text: string, decimalComma: boolean): number {
 }
 
 /** Decimals of a time cell's seconds: of a number, or of an ISO 8601 time's fraction of a second (before its zone). */
+/** Seconds no time column holds: 10^11 s since 1970 is past the year 5000, where milliseconds since 1970 begin. */
+const MAX_TIME_S = 1e11;
+
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$|[zZ+-])/); return m ? m[1].length : 0; };
 
 export interface CsvOptions {
@@ -98,6 +101,9 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (times.length < 2 || !Number.isFinite(times[0]) || !Number.isFinite(times[times.length - 1])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
+    // Numbers this large are no seconds (since 1970 they would pass the year 5000): milliseconds since 1970, read as seconds,
+    // would give a rate a thousand times too low.
+    if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, export seconds or date-times, or drop the column and declare sample_rate`);
     // The printed times' resolution: steps within it of each other are the same step, rounded.
     const resolution = 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? '')));
     // The nominal step over the probe rows: a dropout among them does not pull it, and rounding of printed times averages out.
