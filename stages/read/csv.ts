@@ -6,7 +6,7 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
-import { keepSteps, nominalOf, stepCounter } from './time-steps.js';
+import { keepSteps, MAX_TIME_S, nominalOf, stepCounter } from './time-steps.js';
 
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
@@ -57,9 +57,6 @@ function timeValue(text: string, decimalComma: boolean): number {
 }
 
 /** Decimals of a time cell's seconds: of a number, or of an ISO 8601 time's fraction of a second (before its zone). */
-/** Seconds no time column holds: 10^11 s since 1970 is past the year 5000, where milliseconds since 1970 begin. */
-const MAX_TIME_S = 1e11;
-
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$|[zZ+-])/); return m ? m[1].length : 0; };
 
 export interface CsvOptions {

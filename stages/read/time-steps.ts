@@ -44,6 +44,9 @@ export function nominalOf(times: ArrayLike<number>, resolution = 0): number {
   return n ? sum / n : median;
 }
 
+/** Seconds no time value holds: 10^11 s since 1970 is past the year 5000, where milliseconds since 1970 begin. */
+export const MAX_TIME_S = 1e11;
+
 /** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
 export const TIME_PROBE = 4096;
 
@@ -57,6 +60,8 @@ export function rateFromStep(step: number, declared: number | null, held: string
 /** A time vector's nominal step from its first times (at most TIME_PROBE of them), refusing one time or times that do not increase. */
 export function nominalStep(first: Float64Array, held: string, where: string): number {
   if (first.length < 2) throw new RecordingError(`${held} (the time) holds one time, from which no sample rate follows; declare the rate`);
+  // Milliseconds since 1970 read as seconds would give a rate a thousand times too low.
+  if (Math.abs(first[0]) >= MAX_TIME_S) throw new RecordingError(`${held} (the time) starts at ${first[0]}, too large for seconds; the time is read in seconds: if it holds milliseconds since 1970, save seconds, or name no time and declare the rate in ${where}`);
   const step = nominalOf(first);
   if (!(step > 0) || !Number.isFinite(step)) throw new RecordingError(`${held} (the time) does not increase over its first ${first.length} values; check the file or ${where}`);
   return step;
