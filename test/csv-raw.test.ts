@@ -87,6 +87,14 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
     }
   });
 
+  it('takes POSIX seconds in a time column (a logger\'s clock) as the start, and seconds from the capture\'s start as none', async () => {
+    const rows = (first: number) => Array.from({ length: 100 }, (_, i) => `${(first + i / 100).toFixed(2)},${i}`);
+    const posix = await readAll(write('posix.csv', ['time,x', ...rows(1794794400)].join('\n')));
+    expect([posix.rec.startTime?.toISOString(), posix.rec.sampleRate]).toEqual(['2026-11-16T02:00:00.000Z', 100]);
+    const relative = await readAll(write('relative.csv', ['time,x', ...rows(3600)].join('\n')));
+    expect([relative.rec.startTime, relative.rec.sampleRate]).toEqual([null, 100]);
+  });
+
   it('refuses a time column of milliseconds since 1970, which read as seconds would give a rate a thousand times too low', async () => {
     const text = ['timestamp,x', ...[0, 1, 2, 3].map((i) => `${1794794400000 + i},${i}`)].join('\n');
     await expect(readAll(write('ms.csv', text))).rejects.toThrow(/line 2: column "timestamp" starts at 1794794400000, too large for seconds; quern reads a time column in seconds \(or as ISO 8601 date-times\)/);
