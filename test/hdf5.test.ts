@@ -49,6 +49,11 @@ describe('HDF5 reader against h5py', () => {
     expect(r.rows.map((row) => [row.channel, row.max])).toEqual([['sg_tip', Math.max(...want[2])], ['sg_root', Math.max(...want[0])]]);
   });
 
+  it('reads one dataset a channel, each naming its channel in its own attribute, as h5py reads them', async () => {
+    const rec = await expectFixture('named-per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b'], channel_names_attribute: 'name' }), 400);
+    expect(rec.channelNames).toEqual(formatFixture('named-per-channel.h5').channel_names);
+  });
+
   it('reads one dataset per channel with a declared sample rate', async () => {
     await expectFixture('per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b', '/ch/c'] }), 1000);
   });

@@ -24,7 +24,7 @@ export interface Hdf5Layout {
   start_time_dataset?: string | null;
   /** Dataset holding each frame's time in seconds, as long as the channels: the sample rate from its steps, irregular ones counted. */
   time_dataset?: string | null;
-  /** Attribute holding the channels' names, an array of text in channel order (same lookup): declared channels are then found by name. */
+  /** Attribute holding the channels' names, an array of text in channel order, or each dataset's own name (same lookup): declared channels are then found by name. */
   channel_names_attribute?: string | null;
 }
 
@@ -80,6 +80,19 @@ function namesIn(value: unknown, held: string, where: string): string[] {
   const list = typeof value === 'string' ? [value] : Array.isArray(value) ? value : null;
   if (!list || list.some((v) => typeof v !== 'string')) throw new RecordingError(`${held} (the channel names) holds ${ArrayBuffer.isView(value) ? 'numbers' : typeof value}, not text; the channel names are an array of text; correct ${where}`);
   return list.map((n: string) => n.trim());
+}
+
+/**
+ * The channels' names: with one dataset a channel, each one's own attribute where each holds one name; else the array of
+ * names the (first) dataset's attribute holds.
+ */
+function namesOf(file: HdfFile, sources: Source[], spec: string, where: string): string[] {
+  const held = `attribute "${spec}"`;
+  if (sources.length > 1) {
+    const each = sources.map((s) => scalar(findAttribute(file, s.path, spec, 'channel names', where)));
+    if (each.every((v) => typeof v === 'string')) return (each as string[]).map((n) => n.trim());
+  }
+  return namesIn(findAttribute(file, sources[0].path, spec, 'channel names', where), held, where);
 }
 
 /** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
@@ -182,7 +195,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
       : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
-    const channelNames = namesSpec ? namesFrom(namesIn(findAttribute(file, first.path, namesSpec, 'channel names', namesWhere), `attribute "${namesSpec}"`, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
+    const channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
     return { h5, file, sources, channels, frames, axis, sampleRate, startTime, channelNames, time, step };
   } catch (e) {
     closeQuietly(file);
