@@ -112,6 +112,10 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(v73({ variables: ['data'], channel_axis: 1 }, null)).rejects.toThrow(/no sample rate; set sample_rate for the group in archive.yaml, mat.sample_rate_variable in archive.yaml or mat.time_variable in archive.yaml/);
     await expect(readAll(fixture('mat', 'per-channel-73.mat'), { mat: layout({ variables: ['rec'] }), sampleRate: 1 })).rejects.toThrow(/variable "rec" is a struct, not an array; name one of its fields \("rec.field"\)/);
     await expect(readAll(fixture('formats', 'pcm12in16.wav'), { format: 'mat', mat: layout({ variables: ['x'] }) })).rejects.toThrow(/byte 126: no byte-order mark/);
+    // Octave's default save writes text under any name (the first line as Octave writes it, from memory).
+    const octave = join(tempDir(), 'octave.mat');
+    writeFileSync(octave, '# Created by Octave 8.4.0, Sat Dec 05 02:00:00 2026 UTC <lab@rig>\n# name: x\n# type: matrix\n# rows: 2\n# columns: 1\n 1\n 2\n');
+    await expect(readAll(octave, { mat: layout({ variables: ['x'] }), sampleRate: 100 })).rejects.toThrow(/^byte 0: Octave's text format, not a MAT-file; save it from Octave with save -mat7-binary/);
   });
 
   it('level 4 files: what they hold named in errors, no structs, text and sparse refused as samples, cut short or damaged refused', async () => {

@@ -58,6 +58,8 @@ export async function readMatFile(path: string): Promise<MatFile> {
     const { bytesRead } = await file.read(head, 0, 128, 0);
     const hdf5 = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
     if (bytesRead >= 8 && head.subarray(0, 8).equals(hdf5)) throw new RecordingError('byte 0: an HDF5 file, not a level 5 MAT-file: declare format: hdf5 for its group, with an hdf5 section naming its datasets');
+    // Octave's own save format is text, whatever the file's name says.
+    if (head.toString('latin1', 0, 19) === '# Created by Octave') throw new RecordingError('byte 0: Octave\'s text format, not a MAT-file; save it from Octave with save -mat7-binary (or -v7)');
     if (bytesRead < 128) throw new RecordingError(`byte ${bytesRead}: the file ends inside the 128-byte MAT-file header; the file is cut short: copy it again`);
     const order = head.toString('latin1', 126, 128);
     if (order !== 'IM' && order !== 'MI') throw new RecordingError(`byte 126: no byte-order mark ("IM" or "MI"), so not a level 5 MAT-file${/^MATLAB/.test(head.toString('latin1', 0, 6)) ? '; the header is damaged' : ' (nor does it open as a level 4 one)'}; check the group's format or the file`);
