@@ -1,7 +1,10 @@
 // A recording's own times (a CSV time column, an HDF5 or MAT-file time vector) against their nominal step: the trimmed mean
 // of the steps near their median (common practice), checked here against the plain formulas on planted times.
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { nominalOf, nominalStep, stepCounter } from '../stages/read/time-steps.js';
+import { nominalOf, nominalStep, startOfTimes, stepCounter } from '../stages/read/time-steps.js';
+import { fixture, readAll, tempDir } from './helpers.js';
 
 describe('the nominal step of a time vector', () => {
   it('is the mean step where every step is near the median: rounding of printed times averages out', () => {
@@ -24,5 +27,31 @@ describe('the nominal step of a time vector', () => {
     expect(() => nominalStep(Float64Array.from([1794794400000, 1794794400001]), 'variable "t"', 'mat.time_variable in archive.yaml')).toThrow(/variable "t" \(the time\) starts at 1794794400000, too large for seconds/);
     expect(() => nominalStep(Float64Array.from([3]), 'variable "t"', 'mat.time_variable')).toThrow(/holds one time/);
     expect(() => nominalStep(Float64Array.from([3, 2, 1]), 'variable "t"', 'mat.time_variable')).toThrow(/does not increase/);
+  });
+});
+
+/** A level 4 MAT-file (little-endian doubles) of the given matrices, each rows × 1, as MathWorks' description lays it out. */
+function level4(matrices: Record<string, Float64Array>): Buffer {
+  return Buffer.concat(Object.entries(matrices).map(([name, values]) => {
+    const head = Buffer.alloc(20);
+    [0, values.length, 1, 0, name.length + 1].forEach((v, i) => head.writeInt32LE(v, 4 * i));
+    return Buffer.concat([head, Buffer.from(`${name}\0`, 'latin1'), Buffer.from(values.buffer)]);
+  }));
+}
+
+describe('a start from the recording\'s own times', () => {
+  it('is the first time where the times are POSIX seconds, and none where they count from the capture\'s start', async () => {
+    expect(startOfTimes(1794794400.5)?.toISOString()).toBe('2026-11-16T02:00:00.500Z');
+    expect(startOfTimes(86400)).toBeNull();
+    const dir = tempDir();
+    for (const [first, start] of [[1794794400, '2026-11-16T02:00:00.000Z'], [12.5, null]] as const) {
+      const path = join(dir, `t${first}.mat`);
+      writeFileSync(path, level4({ x: Float64Array.from({ length: 300 }, (_, i) => Math.sin(i)), t: Float64Array.from({ length: 300 }, (_, i) => first + i / 100) }));
+      const { rec } = await readAll(path, { mat: { variables: ['x'], channel_axis: null, sample_rate_variable: null, start_time_variable: null, time_variable: 't' } });
+      expect([rec.startTime?.toISOString() ?? null, rec.sampleRate]).toEqual([start, 100]);
+    }
+    // The same in a version 7.3 file's time vector read as HDF5: it starts at 0, so no start.
+    const { rec } = await readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', hdf5: { datasets: ['/x'], channel_axis: 0, sample_rate_attribute: null, start_time_attribute: null, time_dataset: '/t' } });
+    expect(rec.startTime).toBeNull();
   });
 });

@@ -6,10 +6,7 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
-import { keepSteps, MAX_TIME_S, nominalOf, stepCounter } from './time-steps.js';
-
-/** Numbers in a time column from here up are POSIX seconds (2001-09-09 on), not seconds from the capture's start. */
-const POSIX_FROM_S = 1e9;
+import { keepSteps, MAX_TIME_S, nominalOf, startOfTimes, stepCounter } from './time-steps.js';
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
 const PROBE_BYTES = 1 << 20;
@@ -110,9 +107,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     const derived = 1 / timeStep;
     timeTolerance = Math.max(0.01 * timeStep, resolution);
-    // Date-times give the start; so do numbers from 10^9 (2001-09-09) up, POSIX seconds as loggers print them: a clock
-    // counting from the capture's start reaches them only after 31 years.
-    if (!/^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim()) || times[0] >= POSIX_FROM_S) startTime = new Date(times[0] * 1000);
+    // Date-times give the start; so do POSIX seconds, as loggers print them.
+    startTime = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim()) ? startOfTimes(times[0]) : new Date(times[0] * 1000);
     if (declaredSampleRate != null && Math.abs(derived - declaredSampleRate) > 0.005 * declaredSampleRate) {
       throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
     }

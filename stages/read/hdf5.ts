@@ -5,7 +5,7 @@ import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
-import { keepSteps, nominalStep, rateFromStep, stepCounter, TIME_PROBE } from './time-steps.js';
+import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
@@ -185,7 +185,8 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
       : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
-    const step = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
+    const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
+    const step = times?.step ?? null;
     const sampleRate = fromFile ?? (step != null ? rateFromStep(step, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
     if (sampleRate == null) {
       // Where the rate may be given, each place once (a MAT-file's reader names two of these by one key).
@@ -193,7 +194,9 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       throw new RecordingError(`dataset "${first.path}": no sample rate; set ${places.slice(0, -1).join(', ')} or ${places.at(-1)}`);
     }
     const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
-      : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset']) : null;
+      : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset'])
+        // Else a time dataset of POSIX seconds.
+        : times && startOfTimes(times.first);
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
     const channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
     return { h5, file, sources, channels, frames, axis, sampleRate, startTime, channelNames, time, step };
@@ -211,12 +214,13 @@ function timeDatasetOf(file: HdfFile, path: string, frames: number, where: strin
   return t;
 }
 
-/** The nominal step of a time dataset's first TIME_PROBE values. */
-function timeStepOf(t: Source, frames: number, where: string): number {
+/** The nominal step of a time dataset's first TIME_PROBE values, and its first time. */
+function timeStepOf(t: Source, frames: number, where: string): { step: number; first: number } {
   const k = Math.min(frames, TIME_PROBE);
   let values;
   try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
-  return nominalStep(Float64Array.from(values, Number), `dataset "${t.path}"`, where);
+  const probe = Float64Array.from(values, Number);
+  return { step: nominalStep(probe, `dataset "${t.path}"`, where), first: probe[0] };
 }
 
 /** The message for a file that stopped a fresh instance too. */

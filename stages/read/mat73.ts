@@ -160,7 +160,8 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
     // The recording holds the HDF5 library's turn until it closes: closed here when its names do not fit it.
     try { channelNames = facts.names && namesFrom(facts.names, rec.channelCount, `variable "${layout.channel_names_variable}"`, where['mat.channel_names_variable']); } catch (e) { await rec.close(); throw e; }
     return Object.assign(rec, {
-      format: 'mat' as const, startTime, channelNames,
+      // A declared start variable, else what the HDF5 reader found (a time vector of POSIX seconds).
+      format: 'mat' as const, startTime: startTime ?? rec.startTime, channelNames,
       async *chunks(): AsyncGenerator<Float64Array[]> { try { yield* samples(); } catch (e) { throw said(e); } },
     });
   } catch (e) {

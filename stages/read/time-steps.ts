@@ -47,6 +47,12 @@ export function nominalOf(times: ArrayLike<number>, resolution = 0): number {
 /** Seconds no time value holds: 10^11 s since 1970 is past the year 5000, where milliseconds since 1970 begin. */
 export const MAX_TIME_S = 1e11;
 
+/** Times from here up are POSIX seconds (2001-09-09 on): a clock counting from the capture's start reaches them only after 31 years. */
+export const POSIX_FROM_S = 1e9;
+
+/** The start a recording's own first time gives: POSIX seconds from POSIX_FROM_S up; below, the times count from the capture's start. */
+export const startOfTimes = (first: number): Date | null => (first >= POSIX_FROM_S && first < MAX_TIME_S ? new Date(first * 1000) : null);
+
 /** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
 export const TIME_PROBE = 4096;
 
