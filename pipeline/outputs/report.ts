@@ -149,7 +149,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
   const noted = r.recordings.filter((x) => x.messages.length);
-  if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recordings: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
+  if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recording${noted.length === 1 ? '' : 's'}: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
   const settling = r.settling;
