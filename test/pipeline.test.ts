@@ -202,7 +202,9 @@ describe('quern check and quern peek', () => {
     const archive = sampleArchiveCopy();
     const r = quern('check', archive);
     expect(r.code).toBe(1);
-    expect(r.stdout).toMatch(/ok\s+nightly\/2026-11-16\/pump-endurance\.wav\s+\[nightly\]\s+wav pcm16, 5 channels \(acc_de, acc_nde, mic, pressure, tacho\), 12800 Hz, 4\.000 s/);
+    expect(r.stdout).toMatch(/ok\s+nightly\/2026-11-16\/pump-endurance\.wav\s+\[nightly\]\s+wav pcm16, 5 channels \(acc_de, acc_nde, mic, pressure, tacho\), 12800 Hz, 4\.000 s, starts 2026-11-16T02:00:00\.000Z$/m);
+    // Where a --since period places each recording: its own start (the Broadcast Wave origination here), else its modification time.
+    expect(r.stdout).toMatch(/ok\s+handheld\/2026-11-20_spot-check\.csv .*, no start in the file \(a period goes by its modification time\)$/m);
     expect(r.stdout).toMatch(/FAILED\s+nightly\/2026-11-22/);
     expect(r.stdout).toMatch(/10 of 11 recordings would be reduced; 1 failed, 1 unmatched/);
     expect(existsSync(`${archive}.reduced`)).toBe(false);
