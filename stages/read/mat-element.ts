@@ -90,13 +90,24 @@ export function textOf(data: Uint8Array, type: number, little: boolean): string 
   const v = view(data);
   const codes: number[] = [];
   for (let i = 0; i + size <= data.length; i += size) codes.push(size === 2 ? v.getUint16(i, little) : v.getUint32(i, little));
-  return size === 2 ? String.fromCharCode(...codes) : String.fromCodePoint(...codes.map((x) => (x <= 0x10ffff ? x : 0xfffd)));
+  // One call a character: spreading a names variable's codes into one call would pass more arguments than a call takes.
+  return size === 2 ? charCodesText(codes) : codes.map((x) => String.fromCodePoint(x <= 0x10ffff ? x : 0xfffd)).join('');
 }
 
 /** The rows of a char matrix, one name a row, trailing blanks dropped: MATLAB stores it column by column (character j of row i at j × rows + i). */
 export function charMatrixRows(text: string, rows: number, columns: number): string[] {
   return Array.from({ length: rows }, (_, i) => Array.from({ length: columns }, (_, j) => text[j * rows + i]).join('').replace(/[\s\0]+$/, ''));
 }
+
+/** Text of character codes held as numbers (a version 7.3 char array's uint16, a level 4 text matrix's doubles), however many. */
+export const charCodesText = (codes: ArrayLike<number | bigint>) => Array.from(codes, (c) => String.fromCharCode(Number(c))).join('');
+
+/** What a MAT-file holds, for messages: its first twelve variables, each described, and how many more. */
+export function heldText<T>(items: readonly T[], describe: (item: T) => string, none: string): string {
+  if (!items.length) return `the file holds ${none}`;
+  return `the file holds ${items.slice(0, HELD_SHOWN).map(describe).join(', ')}${items.length > HELD_SHOWN ? `, and ${items.length - HELD_SHOWN} more` : ''}`;
+}
+const HELD_SHOWN = 12;
 
 /** Whether an array of these dimensions is a vector (every side but one is 1). */
 export const isVectorDims = (dims: number[]) => dims.filter((d) => d !== 1).length <= 1;

@@ -4,7 +4,7 @@
 import { open, type FileHandle } from 'node:fs/promises';
 import { inflatedCursor, storedCursor, type ByteCursor } from './mat-bytes.js';
 import { spoolInflated, type Spool } from './mat-spool.js';
-import { charMatrixRows, className, CLASS_BITS, isVectorDims, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { charMatrixRows, className, heldText, CLASS_BITS, isVectorDims, MI, MX, readArrayHeader, readData, readFieldNames, readTag, textOf, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, isNumericType } from './mat-values.js';
 import { rateFrom, startFrom } from './setting-values.js';
 import { MAX_CHANNELS, RecordingError } from './recording.js';
@@ -22,10 +22,7 @@ export interface MatFile {
 }
 
 const summary = (h: ArrayHeader) => `${h.name} (${h.complex ? 'complex ' : ''}${h.logical ? 'logical' : className(h.cls)} ${h.dims.join(' × ')})`;
-export const holds = (m: MatFile) => {
-  const named = m.elements.filter((e) => e.header?.name).map((e) => summary(e.header!));
-  return named.length ? `the file holds ${named.slice(0, 12).join(', ')}${named.length > 12 ? `, and ${named.length - 12} more` : ''}` : 'the file holds no named variables';
-};
+export const holds = (m: MatFile) => heldText(m.elements.filter((e) => e.header?.name), (e) => summary(e.header!), 'no named variables');
 
 /** The element's bytes after its tag, inflated when compressed; for those, the inner array tag is read too. */
 async function cursorOf(m: MatFile, e: TopElement, where: string): Promise<ByteCursor> {

@@ -6,7 +6,7 @@
 // 1 text, 2 sparse). MATLAB reads every matrix as a double, whatever its stored type, so values are kept as stored.
 import { open } from 'node:fs/promises';
 import { storedCursor } from './mat-bytes.js';
-import { charMatrixRows, isVectorDims, MI, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
+import { charCodesText, charMatrixRows, heldText, isVectorDims, MI, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import type { ChannelSource, MatVariables } from './mat-file.js';
 import { decodeInto } from './mat-values.js';
 import { rateFrom, startFrom } from './setting-values.js';
@@ -18,9 +18,6 @@ const STORED: number[] = [MI.DOUBLE, MI.SINGLE, MI.INT32, MI.INT16, MI.UINT16, M
 const MAX_NAME_BYTES = 4096;
 /** Most bytes of a value or of names read whole (a setting, not samples). */
 const MAX_VALUE_BYTES = 1 << 20;
-
-/** Text of character codes stored as numbers. */
-const textOf = (codes: Float64Array) => Array.from(codes, (c) => String.fromCharCode(c)).join('');
 
 interface Matrix { name: string; at: number; type: number; kind: number; rows: number; columns: number; complex: boolean; data: number }
 
@@ -80,9 +77,7 @@ export async function readMat4File(path: string): Promise<MatVariables> {
     throw e;
   }
 
-  const holds = () => (matrices.length
-    ? `the file holds ${matrices.slice(0, 12).map((m) => `${m.name} (${['double', 'text', 'sparse'][m.kind]} ${m.rows} × ${m.columns})`).join(', ')}${matrices.length > 12 ? `, and ${matrices.length - 12} more` : ''}`
-    : 'the file holds no matrices');
+  const holds = () => heldText(matrices, (m) => `${m.name} (${['double', 'text', 'sparse'][m.kind]} ${m.rows} × ${m.columns})`, 'no matrices');
   const find = (path: string, what: string, where: string) => {
     if (path.includes('.')) throw new RecordingError(`variable "${path}" (the ${what}): a level 4 MAT-file holds no structs, only matrices; ${holds()}; correct ${where}`);
     const m = matrices.find((x) => x.name === path);
@@ -109,7 +104,7 @@ export async function readMat4File(path: string): Promise<MatVariables> {
     refuseKind(m, place, what);
     if (m.kind === 1) {
       if (!isVectorDims([m.rows, m.columns])) throw new RecordingError(`${place} is a ${m.rows} × ${m.columns} text matrix; the ${what} is one line of text or one number`);
-      return textOf(await valuesOf(m, place)).trim();
+      return charCodesText(await valuesOf(m, place)).trim();
     }
     if (m.rows * m.columns !== 1) throw new RecordingError(`${place} holds ${m.rows} × ${m.columns} values; the ${what} is one number; correct ${where}`);
     return (await valuesOf(m, place))[0];
@@ -133,7 +128,7 @@ export async function readMat4File(path: string): Promise<MatVariables> {
       const { m, place } = find(path, 'channel names', where);
       refuseKind(m, place, 'channel names');
       if (m.kind !== 1) throw new RecordingError(`${place} is a numeric matrix; the channel names are a text matrix of one name a row (a level 4 file holds no cell arrays); correct ${where}`);
-      return charMatrixRows(textOf(await valuesOf(m, place)), m.rows, m.columns);
+      return charMatrixRows(charCodesText(await valuesOf(m, place)), m.rows, m.columns);
     },
     readBy() { /* every matrix is stored as it is: each source reads from its own place */ },
     async close(sources: ChannelSource[]) {

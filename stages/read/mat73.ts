@@ -7,7 +7,7 @@ import { firstLine, onceMore, openHdf5 } from './hdf5.js';
 import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
-import { channelLayout, charMatrixRows, isVectorDims } from './mat-element.js';
+import { channelLayout, charCodesText, charMatrixRows, heldText, isVectorDims } from './mat-element.js';
 import { MAX_CHANNELS, RecordingError, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
@@ -47,12 +47,10 @@ function listing(file: HdfFile): string {
   return guard('listing the variables', () => listingOf(file));
 }
 function listingOf(file: HdfFile): string {
-  const names = file.keys().filter((k) => !k.startsWith('#'));
-  const shown = names.slice(0, 12).map((k) => {
+  return heldText(file.keys().filter((k) => !k.startsWith('#')), (k) => {
     const obj = file.get(k) as unknown as { attrs: Record<string, { value: unknown }>; shape?: number[] } | null;
     return obj ? `${k} (${classOf(obj) ?? 'unknown class'}${obj.shape ? ` ${[...obj.shape].reverse().join(' × ')}` : ''})` : k;
-  });
-  return names.length ? `the file holds ${shown.join(', ')}${names.length > 12 ? `, and ${names.length - 12} more` : ''}` : 'the file holds no variables';
+  }, 'no variables');
 }
 
 function variableOf(file: HdfFile, name: string, what: string, where: string): Variable {
@@ -73,7 +71,7 @@ function variableIn(file: HdfFile, name: string, what: string, where: string): V
 /** One number, or one line of text (char arrays are uint16 codes). */
 function valueOf(v: Variable, what: string): number | string {
   const value = v.value() as ArrayLike<number | bigint> | number | string;
-  if (v.cls === 'char') return String.fromCharCode(...Array.from(value as ArrayLike<number>, Number)).trim();
+  if (v.cls === 'char') return charCodesText(value as ArrayLike<number>).trim();
   if (v.cls != null && !NUMERIC.includes(v.cls)) throw new RecordingError(`variable "${v.name}" is a ${v.cls} array; the ${what} is one number or one line of text`);
   const count = v.dims.reduce((a, b) => a * b, 1);
   if (count !== 1) throw new RecordingError(`variable "${v.name}" holds ${v.dims.join(' × ')} values; the ${what} is one number`);
@@ -86,12 +84,9 @@ function isEmpty(obj: { attrs: Record<string, { value: unknown }> }): boolean {
   try { return obj.attrs.MATLAB_empty != null && Number(scalar(obj.attrs.MATLAB_empty.value)) !== 0; } catch (e) { rethrowStop(e); return false; }
 }
 
-/** Text of a char array's uint16 codes. */
-const textOfCodes = (codes: ArrayLike<number | bigint>) => String.fromCharCode(...Array.from(codes, Number));
-
 /** Channel names: a cell array (references to char arrays under #refs#, one a cell), or a char matrix of one name a row. */
 function namesOf(file: HdfFile, v: Variable, where: string): string[] {
-  if (v.cls === 'char') return charMatrixRows(textOfCodes(v.value() as ArrayLike<number>), v.dims[0], v.dims[1] ?? 1);
+  if (v.cls === 'char') return charMatrixRows(charCodesText(v.value() as ArrayLike<number>), v.dims[0], v.dims[1] ?? 1);
   if (v.cls !== 'cell') throw new RecordingError(`variable "${v.name}" is a ${v.cls ?? 'unknown class of'} array; the channel names are a cell array of text ({'acc_x', 'acc_y'}) or a char matrix of one name a row; correct ${where}`);
   if (!isVectorDims(v.dims)) throw new RecordingError(`variable "${v.name}" is a ${v.dims.join(' × ')} cell array; the channel names are one row or column of cells; correct ${where}`);
   const refs = Array.from(v.value() as ArrayLike<unknown>);
@@ -100,7 +95,7 @@ function namesOf(file: HdfFile, v: Variable, where: string): string[] {
     const cell = file.dereference(ref as never) as unknown as { attrs: Record<string, { value: unknown }>; shape?: number[]; value: unknown } | null;
     const cls = cell ? classOf(cell) : null;
     if (!cell || cls !== 'char' || !cell.shape || !isVectorDims(cell.shape)) throw new RecordingError(`cell ${i + 1} of variable "${v.name}" is ${cls ? `a ${cls} array` : 'no array'}, not one line of text; correct ${where}`);
-    return isEmpty(cell) ? '' : textOfCodes(cell.value as ArrayLike<number>).trim();
+    return isEmpty(cell) ? '' : charCodesText(cell.value as ArrayLike<number>).trim();
   }));
 }
 

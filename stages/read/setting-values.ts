@@ -51,7 +51,8 @@ export function numberTimeMs(n: number): number {
 /** The start time a value holds: ISO 8601 text (UTC unless it carries an offset) or MATLAB's datestr text; POSIX seconds or a MATLAB datenum. */
 export function startFrom(value: unknown, held: string, where: string): Date {
   const v = scalar(value);
-  const t = typeof v === 'string' ? (Number.isFinite(isoTimeMs(v)) ? isoTimeMs(v) : datestrMs(v)) : numberTimeMs(Number(v));
+  const iso = typeof v === 'string' ? isoTimeMs(v) : NaN;
+  const t = typeof v === 'string' ? (Number.isFinite(iso) ? iso : datestrMs(v)) : numberTimeMs(Number(v));
   if (!Number.isFinite(t)) throw new RecordingError(`${held} (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds (nor MATLAB's datenum or datestr); check the file or ${where}`);
   return new Date(t);
 }
