@@ -6,6 +6,7 @@ import { hostname } from 'node:os';
 import { dirname, join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
 import { makeFolder } from './make-folder.js';
+import { runsHere } from '../../stages/runs-here.js';
 
 /**
  * A process named for good on Linux: its boot's id and its start in clock ticks after that boot, and the pid namespace
@@ -34,11 +35,6 @@ const describe = (h: LockHolder) => {
   const what = [h.command, h.run_id != null ? `run ${h.run_id}` : null].filter((w) => w != null && w !== '');
   return `host ${h.host}, pid ${h.pid}, started ${h.started}${what.length ? ` (${what.join(', ')})` : ''}`;
 };
-
-/** Whether a process of this pid runs on this host: signal 0 probes without sending anything (EPERM: it runs as someone else). */
-export function runsHere(pid: number): boolean {
-  try { process.kill(pid, 0); return true; } catch (e) { return (e as NodeJS.ErrnoException).code !== 'ESRCH'; }
-}
 
 /**
  * Which process a pid names on this host, where Linux's /proc tells: the boot (its random id, new at every start of the

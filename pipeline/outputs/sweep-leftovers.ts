@@ -3,7 +3,7 @@
 // up night after night beside the outputs.
 import { readdir, rm } from 'node:fs/promises';
 import { join } from 'node:path';
-import { runsHere } from './lock.js';
+import { runsHere } from '../../stages/runs-here.js';
 
 /** A staged or atomically written file's temporary name (staged.ts, atomic.ts, store.ts): `.<name>.<pid>[.<8 hex>].tmp`. */
 // The shortest name that fits, so that a random part of digits alone is not read as the pid.

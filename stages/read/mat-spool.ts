@@ -9,6 +9,7 @@ import { pipeline } from 'node:stream/promises';
 import { createInflate } from 'node:zlib';
 import { RecordingError } from './recording.js';
 import { inflateFailure } from './mat-bytes.js';
+import { runsHere } from '../runs-here.js';
 
 export interface Spool { file: FileHandle; bytes: number; remove(): Promise<void> }
 
@@ -53,11 +54,6 @@ export async function spoolInflated(path: string, start: number, length: number,
   }
 }
 
-/** Whether a process with this id runs on this host (a signal 0 checks without sending anything). */
-function running(pid: number): boolean {
-  try { process.kill(pid, 0); return true; } catch (e) { return (e as NodeJS.ErrnoException).code === 'EPERM'; }
-}
-
 /**
  * Removes the temporary copies that processes no longer running left behind (a thread stopped for a stall, a run ended
  * with SIGKILL); returns how many. Copies of running processes are theirs; this one's too, unless `own` (a run whose
@@ -68,7 +64,7 @@ export async function sweepSpools(dir = tmpdir(), { own = false } = {}): Promise
   let removed = 0;
   for (const name of names) {
     const m = name.match(/^quern-mat-(\d+)-/);
-    if (!m || (running(Number(m[1])) && !(own && Number(m[1]) === process.pid))) continue;
+    if (!m || (runsHere(Number(m[1])) && !(own && Number(m[1]) === process.pid))) continue;
     await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
   }
   return removed;
