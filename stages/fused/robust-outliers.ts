@@ -37,17 +37,31 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
 
   beforeChunk(x: Float64Array): void {
     if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = this.buffer(Math.ceil(x.length / STRIDE));
-    // Every STRIDE-th finite sample is plenty for the median and MAD of a chunk, at a fraction of the sorting.
-    let m = 0;
-    for (let i = 0; i < x.length; i += STRIDE) if (x[i] - x[i] === 0) this.sub[m++] = x[i];
+    const m = finiteEvery(x, STRIDE, this.sub);
     if (m < 16) { this.set('limit', Infinity); return; }
     const part = this.sub.subarray(0, m);
     const med = median(part, this.bins);
-    for (let i = 0; i < m; i++) part[i] = Math.abs(part[i] - med);
+    absoluteDeviations(part, med);
     const mad = median(part, this.bins);
     this.set('med', med);
     this.set('limit', this.sigmas * Math.max(1.4826 * mad, this.floor, 1e-300));
   }
+}
+
+// Each loop in a function of its own: V8 (Node 20) optimised a one-function version on stack in its first loop, before
+// the code after it had run, and then left every later call on that code's exit at the unvisited comparison, interpreting
+// the rest of the call (every chunk of every channel of a run).
+
+/** Every stride-th finite sample of x, into out; how many. Plenty for a chunk's median and MAD, at a fraction of the sorting. */
+export function finiteEvery(x: Float64Array, stride: number, out: Float64Array): number {
+  let m = 0;
+  for (let i = 0; i < x.length; i += stride) if (x[i] - x[i] === 0) out[m++] = x[i];
+  return m;
+}
+
+/** Each value replaced by its absolute deviation from med. */
+export function absoluteDeviations(v: Float64Array, med: number): void {
+  for (let i = 0; i < v.length; i++) v[i] = Math.abs(v[i] - med);
 }
 
 /** Outliers beyond `sigmas` robust standard deviations (at least `floor` each), reported to `out` by sample index. */
