@@ -45,6 +45,23 @@ describe('saturation', () => {
     expect(flag('saturation').evidence.samples).toBe(1);
     expect(flag('saturation').severity).toBe('warn');
   });
+  // A 16-bit converter's codes run from −32768 to +32767 (two's complement, common practice): +full scale itself is no code,
+  // so a channel declared with its range equal to the converter's full scale clips at 32767/32768 of it.
+  it('a range declared as the converter\'s full scale: samples clipped at the most positive code count, as numpy counts code 32767', async () => {
+    const fs = 1000, x = Float64Array.from({ length: 4000 }, (_, i) => 30 + 80 * Math.sin(2 * Math.PI * 5 * i / fs));
+    const clipped = x.map((v) => Math.min(100, Math.max(-100, v)));
+    const codes = clipped.map((v) => Math.max(-32768, Math.min(32767, Math.round((v / 100) * 32768))));
+    const atTop = codes.filter((c) => c === 32767).length;
+    expect(atTop).toBeGreaterThan(400);
+    const { flag, row } = await flagsOf(clipped, fs, channel({ scale: 100, range: [-100, 100], bits: 16 }), { pcm16: true });
+    expect(flag('saturation').evidence.samples).toBe(atTop);
+    expect(flag('saturation').severity).toBe('fail');
+    expect(flag('saturation').message).toMatch(/converter's extreme codes, where they lie inside it/);
+    expect(row.saturation_fraction).toBeCloseTo(atTop / 4000, 12);
+    // The negative side reaches −full scale itself: a signal clipped there counts the same way.
+    const low = await flagsOf(clipped.map((v) => -v), fs, channel({ scale: 100, range: [-100, 100], bits: 16 }), { pcm16: true });
+    expect(low.flag('saturation').evidence.samples).toBe(codes.map((c) => -c).filter((c) => c <= -32767).length);
+  });
 });
 
 describe('aliasing (sampling theorem)', () => {
