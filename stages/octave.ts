@@ -70,7 +70,7 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
             if (set.levels_db) out[col(set.fraction, band.nominal, 'db')] = ms == null || pa === undefined ? null : levelDb(ms * pa * pa);
           }
         }
-        if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${above[0]} Hz and up) reach above the Nyquist frequency ${ctx.sampleRate / 2} Hz; left empty (null)`);
+        if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${Math.min(...above)} Hz and up) reach above the Nyquist frequency ${ctx.sampleRate / 2} Hz; left empty (null)`);
         return out;
       },
     };

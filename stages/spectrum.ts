@@ -45,7 +45,9 @@ export const spectrum: StageDefinition<WelchOptions> = {
       finish() {
         const psd = s.psd();
         if (!psd || psd.density.length < 3) return { dominant_frequency: null, spectral_centroid: null };
-        return { dominant_frequency: peakBin(psd.density) * psd.df, spectral_centroid: spectralCentroid(psd.density, psd.df) };
+        // A spectrum without power above DC (a constant channel) has no dominant frequency, as it has no centroid.
+        const centroid = spectralCentroid(psd.density, psd.df);
+        return { dominant_frequency: centroid === null ? null : peakBin(psd.density) * psd.df, spectral_centroid: centroid };
       },
     };
   },

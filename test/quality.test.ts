@@ -65,6 +65,14 @@ describe('saturation', () => {
 });
 
 describe('aliasing (sampling theorem)', () => {
+  it('all the power above the declared highest frequency: the message says the declared band holds under 1 % of it (no absurd percentage)', async () => {
+    const fs = 12800, x = Float64Array.from({ length: fs * 2 }, (_, i) => Math.sin(2 * Math.PI * 3000 * i / fs));
+    const f = (await flagsOf(x, fs, channel({ max_frequency_hz: 1000 }))).flag('aliasing');
+    expect(f.severity).toBe('warn');
+    expect(f.message).toMatch(/the declared band holds under 1 % of the power/);
+    expect(f.message).not.toMatch(/Infinity|RMS reads/);
+  });
+
   it('a 10 Hz tone sampled at 12 Hz appears at |10 − 12| = 2 Hz: declared 10 Hz content at 12 Hz sampling fails, reporting 2 Hz', async () => {
     expect(aliasOf(10, 12)).toBe(2);
     const x = Float64Array.from({ length: 120 }, (_, i) => Math.sin(2 * Math.PI * 10 * i / 12));

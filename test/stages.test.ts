@@ -47,6 +47,19 @@ describe('bands, descriptors and velocity from the Welch spectrum', () => {
     expect(Math.abs(row.spectral_centroid - 440)).toBeLessThan(2);
   });
 
+  it('a constant channel has no power above DC: no dominant frequency, as no centroid (Σ P = 0)', async () => {
+    const fs = 12800;
+    const { row } = await reduce(new Float64Array(fs * 2).fill(3.5), fs, { spectrum: {} });
+    expect(row.spectral_centroid).toBeNull();
+    expect(row.dominant_frequency).toBeNull();
+  });
+
+  it('bands of several fractions above Nyquist: the note names the lowest of them (ANSI S1.11 / IEC 61260 nominal 6300 Hz third, upper edge 7079 Hz > 6400 Hz)', async () => {
+    const fs = 12800;
+    const { result } = await reduce(sine(fs * 2, fs, 440, 1), fs, { octave_bands: [{ fraction: 1, from: 1000, to: 8000 }, { fraction: 3, from: 5000, to: 8000 }] });
+    expect(result.messages.join()).toMatch(/fractional-octave bands \(6300 Hz and up\)/);
+  });
+
   it('a band above the Nyquist frequency is null, and the run says so', async () => {
     const fs = 1000;
     const { row, result } = await reduce(sine(fs * 10, fs, 100, 1), fs, { bands: [[20, 200], [200, 1000]] });

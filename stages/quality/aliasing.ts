@@ -53,7 +53,7 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
           message = `${pct(topBeyond)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)${noiseNote}: content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
         } else if (aboveBeyond != null && aboveBeyond > a.above_declared_warn_fraction) {
           severity = 'warn';
-          message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's); check the anti-alias filter and max_frequency_hz`;
+          message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (${aboveBeyond < 0.99 ? `RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's` : `the declared band holds ${aboveBeyond < 1 ? 'under 1 %' : 'none'} of the power`}); check the anti-alias filter and max_frequency_hz`;
         } else {
           message = !f ? 'no highest frequency declared; top of the band is quiet'
             : aliasFree != null ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz, within the converter's alias-free bandwidth ${hz(aliasFree)} Hz`
