@@ -6,7 +6,7 @@ import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { BatchItem } from '../reduce/batch.js';
 import type { Located } from '../store/pack.js';
-import { NOT_TRIED, STALLED } from '../store/record.js';
+import { NOT_TRIED, READ_AGAIN, STALLED } from '../store/record.js';
 import type { Store } from '../store/store.js';
 
 /** What to do with a recording and why (a view of the decisions' packed columns). The worker's job is made from it only when the batch goes out. */
@@ -154,6 +154,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     if (entry.status === 'failed') {
       if (entry.failureKey === STALLED) return all('made no progress within the stall limit before; tried once more', true);
       if (entry.failureKey === NOT_TRIED) return all('not tried before (the recordings before it stalled); tried now');
+      if (entry.failureKey === READ_AGAIN) return all('changed while it was read before; read again');
       if (o.retryFailed) return all('failed before; tried again (--retry-failed)');
       return entry.failureKey === o.specHash ? keep(NONE, NONE, 'failed before; file, declaration and spec unchanged') : all('failed before; the spec changed since');
     }

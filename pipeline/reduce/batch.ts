@@ -6,7 +6,7 @@ import { hashFile } from '../plan/hash-file.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { RecordReader } from '../store/pack.js';
 import type { Located } from '../store/pack.js';
-import { decodeResults, encodeRecord, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
+import { decodeResults, encodeRecord, READ_AGAIN, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
 import { beat, type Beats } from './stall-watch.js';
@@ -42,7 +42,10 @@ export interface StoredRecord { facts: EntryFacts; bytes: Uint8Array }
 /** The entry to store: fresh groups over reused ones. */
 export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: CacheEntry | null): CacheEntry {
   const common = { version: s.version, identity: s.identity, readAtMs: s.readAtMs, declKey: s.declKey };
-  if (fresh.status === 'failed') return { ...fresh, ...common, groupKeys: {}, failureKey: s.specHash } as CacheEntry;
+  if (fresh.status === 'failed') {
+    const { readAgain, ...failed } = fresh;
+    return { ...failed, ...common, groupKeys: {}, failureKey: readAgain ? READ_AGAIN : s.specHash } as CacheEntry;
+  }
   const keep = previous && previous.status === 'reduced' ? Object.fromEntries(s.reused.map((g) => [g, previous.groups[g]]).filter(([, v]) => v)) : {};
   const groups = { ...keep, ...fresh.groups };
   // A group with no stage for any channel (e.g. envelope without accelerometers) still counts as computed.
@@ -52,8 +55,8 @@ export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: Cach
 
 /**
  * The output, or a failure when the file changed since the scan found it (a capture still being written when the run
- * began): figures from part of a recording are not kept. The failure is stored under the identity the scan saw, so the next run,
- * seeing the file changed, reads it again.
+ * began): figures from part of a recording are not kept. The failure is stored to be read again by the next run whatever it
+ * finds: its content hash, taken while the file was rewritten, may already be the new content's.
  */
 export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingOutput): RecordingOutput {
   // One synchronous stat (some microseconds): a worker reduces its recordings in turn anyway. A file gone since was read whole.
@@ -61,7 +64,7 @@ export function unlessChanged(job: RecordingJob, seen: Identity, out: RecordingO
   if (!now || (now.size === seen.size && now.mtimeMs === seen.mtimeMs)) return out;
   const change = now.size !== seen.size ? `${seen.size} bytes when the run found it, ${now.size} after reading` : `modified again at ${new Date(now.mtimeMs).toISOString()}`;
   return {
-    ...out, status: 'failed', base: null, groups: {},
+    ...out, status: 'failed', base: null, groups: {}, readAgain: true,
     reason: `the file changed since the run found it (${change}): probably still being written; nothing from this read is kept, and the next run reads it again`,
   };
 }

@@ -34,6 +34,8 @@ export interface RecordingOutput {
   } | null;
   groups: Record<string, GroupOutput>;
   seconds: number;
+  /** A failure because the file changed while it was read: the next run reads it again, whatever it then finds. */
+  readAgain?: true;
 }
 
 /** A recording's assembled result: the rows and tables it contributes and its quality verdict. */

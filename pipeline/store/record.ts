@@ -20,6 +20,8 @@ export interface Identity { size: number; mtimeMs: number; hash: string | null }
 export const STALLED = 'try-again';
 /** The failure key of a recording a run did not try (those before it stalled in a row): the next run reads it. */
 export const NOT_TRIED = 'not-tried';
+/** The failure key of a recording that changed while it was read (a capture still being written): the next run reads it again. */
+export const READ_AGAIN = 'read-again';
 
 /** The facts of an entry that deciding and run.json need, kept apart from the (larger) results. */
 export interface EntryFacts {
@@ -34,7 +36,7 @@ export interface EntryFacts {
   declKey: string;
   /** The key each stored group was computed under. */
   groupKeys: Record<string, string>;
-  /** For a failed recording: the spec hash it failed under, or STALLED / NOT_TRIED for a failure the next run should not trust. */
+  /** For a failed recording: the spec hash it failed under, or STALLED / NOT_TRIED / READ_AGAIN for a failure the next run should not trust. */
   failureKey?: string;
   seconds: number;
   frames: number;
