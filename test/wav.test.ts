@@ -3,6 +3,7 @@ import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { RecordingError } from '../stages/read/recording.js';
+import { bextStartTime } from '../stages/read/wav.js';
 import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
 
 const wavs = readdirSync(fixture('wav')).filter((f) => f.endsWith('.wav') && f !== 'mulaw.wav');
@@ -33,6 +34,16 @@ describe('WAV reader against independently written files', () => {
     const expected = readJson(fixture('wav', 'struct-chunks.wav.expected.json'));
     const { rec } = await readAll(fixture('wav', 'struct-chunks.wav'));
     expect(rec.startTime?.toISOString()).toBe(expected.start_time);
+  });
+
+  // EBU Tech 3285: OriginationDate is yyyy-mm-dd and OriginationTime hh:mm:ss; a value that names no instant is no start.
+  it('takes no start from a bext date that is no calendar day or time (0000-00-00, 30 February, month 13, hour 24)', () => {
+    const bext = (date: string, time: string) => { const b = Buffer.alloc(602); b.write(date, 320, 'latin1'); b.write(time, 330, 'latin1'); return b; };
+    expect(bextStartTime(bext('2026-11-09', '23:59:59'))?.toISOString()).toBe('2026-11-09T23:59:59.000Z');
+    expect(bextStartTime(bext('2024-02-29', '00:00:00'))?.toISOString()).toBe('2024-02-29T00:00:00.000Z'); // a leap day
+    for (const [date, time] of [['0000-00-00', '00:00:00'], ['2026-02-30', '12:00:00'], ['2026-13-45', '99:00:00'], ['2026-11-09', '24:00:00'], ['2025-02-29', '00:00:00'], ['2026-11-09', '12:60:00']]) {
+      expect(bextStartTime(bext(date, time)), `${date} ${time}`).toBeNull();
+    }
   });
 
   it('decodes µ-law (ITU-T G.711) on its 14-bit linear scale; its values are checked in wav-formats.test.ts', async () => {

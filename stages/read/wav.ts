@@ -7,14 +7,19 @@ import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-en
 import { unaccountedTail } from './wav-tail.js';
 
 // Broadcast Wave (EBU Tech 3285): OriginationDate at byte 320 ("yyyy-mm-dd", any separator), OriginationTime at 330 ("hh:mm:ss").
+// A date that is no day of the calendar (recorders write 0000-00-00 when their clock was never set) gives no start.
 export function bextStartTime(b: Buffer): Date | null {
   if (b.length < 338) return null;
   const date = b.toString('latin1', 320, 330).match(/^(\d{4})\D(\d{2})\D(\d{2})$/);
   const time = b.toString('latin1', 330, 338).match(/^(\d{2})\D(\d{2})\D(\d{2})$/);
   if (!date) return null;
+  const [y, mo, d] = [date[1], date[2], date[3]].map(Number);
   const [h, m, s] = time ? [time[1], time[2], time[3]].map(Number) : [0, 0, 0];
-  const t = Date.UTC(Number(date[1]), Number(date[2]) - 1, Number(date[3]), h, m, s);
-  return Number.isFinite(t) ? new Date(t) : null;
+  if (y < 1 || h > 23 || m > 59 || s > 59) return null;
+  const t = Date.UTC(y, mo - 1, d, h, m, s);
+  // Date.UTC rolls 30 February over to 2 March and month 13 into the next year: such a date is refused, not moved.
+  const back = new Date(t);
+  return Number.isFinite(t) && back.getUTCFullYear() === y && back.getUTCMonth() === mo - 1 && back.getUTCDate() === d ? back : null;
 }
 
 export type RiffKind = 'RIFF' | 'RIFX' | 'RF64' | 'BW64';
