@@ -8,6 +8,7 @@ import { groupKeys } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
+import { reservedColumnNames } from './outputs/output-tables.js';
 import { toolVersion } from './declare/package-files.js';
 import { planJob } from './plan/plan.js';
 import { openPool, reduceAll } from './reduce/pool.js';
@@ -78,8 +79,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   if (firstRun) await pool.prestart(1);
   let declaration, spec, trends, lock;
   try {
-    declaration = await loadArchiveDeclaration(root);
     spec = await loadSpec(root, o.spec);
+    declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec));
     trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
     lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare/declare.js';
 import { UsageError } from '../pipeline/declare/yaml-file.js';
-import { tempDir } from './helpers.js';
+import { quern, tempDir } from './helpers.js';
 
 function archiveWith(yaml: string): string {
   const dir = join(tempDir(), 'arc');
@@ -21,6 +21,16 @@ describe('archive declaration', () => {
     expect(d.groups[0].match).toEqual(['*.wav']);
     expect(d.groups[0].labels).toEqual({ rig: '7' });
     expect(d.groups[0].channels![0]).toMatchObject({ name: 'a', quantity: 'unknown', unit: 'FS', scale: 1, offset: 0, range: [-5, 5], bits: null });
+  });
+
+  it('refuses, before any reducing, a label named like a column the spec gives features.parquet (rms, quality), naming file and line', () => {
+    const archive = archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    labels:\n      rig: bay-3\n      rms: high\n      quality: gold\n');
+    for (const args of [['check', archive], ['reduce', archive, '--out', join(archive, '..', 'out')]]) {
+      const r = quern(...args);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(/archive\.yaml:6: groups\[0\]\.labels\.rms: label "rms" would clash with features\.parquet's column of that name under this reduction spec; rename the label/);
+      expect(r.stderr).toMatch(/archive\.yaml:7: groups\[0\]\.labels\.quality: label "quality" would clash/);
+    }
   });
 
   it('points at the line of a bad range, an unknown key and a wrong enum', async () => {

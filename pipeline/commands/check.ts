@@ -1,6 +1,7 @@
 // Validates the declaration and every recording's header against it; computes nothing.
 import { resolve } from 'node:path';
 import { loadArchiveDeclaration, loadSpec } from '../declare/declare.js';
+import { reservedColumnNames } from '../outputs/output-tables.js';
 import { plan } from '../plan/plan.js';
 import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
@@ -14,8 +15,8 @@ export interface CheckResult { recordings: CheckedRecording[]; unmatched: string
 
 export async function runCheck(archive: string, { spec: specPath = null as string | null, out = null as string | null } = {}): Promise<CheckResult> {
   const root = resolve(archive);
-  const declaration = await loadArchiveDeclaration(root);
   const spec = await loadSpec(root, specPath);
+  const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec));
   const trends = trendOptions(spec.spec); // a trends section that cannot work is named now
   const scanned = await scan(root, declaration, { exclude: [resolve(out ?? defaultOut(root))] });
   const recordings: CheckedRecording[] = [];

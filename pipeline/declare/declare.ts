@@ -49,7 +49,8 @@ function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
   };
 }
 
-export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDeclaration> {
+/** `reserved`: the other column names of features.parquet under the run's spec (quality, flags, the features), which labels may not take either. */
+export async function loadArchiveDeclaration(archive: string, reserved: readonly string[] = []): Promise<ArchiveDeclaration> {
   const file = join(archive, ARCHIVE_FILE);
   if (!existsSync(archive)) throw new UsageError(`${archive}: no such archive folder; give the folder that holds ${ARCHIVE_FILE}`);
   if (!existsSync(file)) throw new UsageError(`${file}: missing; every archive declares its recordings in ${ARCHIVE_FILE} at its root (see schemas/archive.schema.json and the README)`);
@@ -63,6 +64,7 @@ export async function loadArchiveDeclaration(archive: string): Promise<ArchiveDe
     names.add(g.name);
     for (const label of Object.keys(g.labels ?? {})) {
       if (FIXED_COLUMNS.includes(label)) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the column of that name; rename the label`, true));
+      else if (reserved.includes(label)) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's column of that name under this reduction spec; rename the label`, true));
     }
     const channelNames = new Set<string>();
     const channels = g.channels?.map((c, ci): ChannelDeclaration => {

@@ -16,6 +16,9 @@ export function tableColumns(spec: ReductionSpec, labels: string[]): TableColumn
   ];
 }
 
+/** The names of features.parquet's columns that are not labels, which a label may not take. */
+export const reservedColumnNames = (spec: ReductionSpec): string[] => tableColumns(spec, []).map((c) => c.name);
+
 /** Every table by name, in the order they are written: features, the secondary tables, and spectra when `spectra`. */
 export function outputTables(spec: ReductionSpec, labels: string[], spectra: boolean): Record<string, TableColumn[]> {
   return { features: tableColumns(spec, labels), ...SECONDARY_TABLES, ...(spectra ? { spectra: SPECTRA_TABLE } : {}) };
