@@ -1,6 +1,6 @@
 // Runs never collide: a second run into a folder in use is refused and told who holds it; a lock whose holder is gone is taken over.
 import { spawn } from 'node:child_process';
-import { cpSync, existsSync, readFileSync, readlinkSync, utimesSync, writeFileSync } from 'node:fs';
+import { chmodSync, cpSync, existsSync, mkdirSync, readFileSync, readlinkSync, utimesSync, writeFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -95,7 +95,7 @@ describe('one run at a time per output folder', () => {
       } else {
         expect(r.code, r.stdout + r.stderr).toBe(2);
         expect(r.stderr).toContain(`in use by another run: host ${hostname()}, pid ${process.pid}`);
-        expect(r.stderr).toMatch(refreshed ? new RegExp(`It has not refreshed the lock for \\d+ min .* seems stuck: end it \\(kill -KILL ${process.pid}\\)`) : /Wait for it to finish; if it is gone, delete the lock file/);
+        expect(r.stderr).toMatch(refreshed ? new RegExp(`It has not refreshed the lock for \\d+ min .* seems stuck: end it \\(kill -KILL ${process.pid}\\)`) : /Wait for it to finish \(should it end without removing its lock, the next run takes the lock over\)$/m);
       }
     }
   });
@@ -154,6 +154,17 @@ describe('one run at a time per output folder', () => {
     expect(held.process).toEqual(running);
   });
 
+  it('names an output folder the run may not write into, with what to do, rather than failing as quern\'s own error', () => {
+    const archive = sampleArchiveCopy();
+    // A folder not even root may create files in (/sys), or one without write permission for an ordinary user.
+    let out = '/sys';
+    if (process.getuid?.() !== 0) { out = join(archive, '..', 'locked'); mkdirSync(out); chmodSync(out, 0o555); }
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(new RegExp(`cannot write ${out}/run\\.lock: permission denied \\(EACCES\\); the previous outputs are kept\\. Let the run write there, or give another folder with --out`));
+    expect(r.stderr).not.toMatch(/unexpected error/);
+  });
+
   it('takes over a lock from another host only once it is older than the declared age', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     quern('reduce', archive, '--out', out, '--quiet');
@@ -164,6 +175,7 @@ describe('one run at a time per output folder', () => {
     const refused = quern('reduce', archive, '--out', out, '--quiet', '--stale-lock-after', '72h');
     expect(refused.code).toBe(2);
     expect(refused.stderr).toContain('in use by another run: host rig-controller-7, pid 4242, started 2026-11-30T01:00:00.000Z');
+    expect(refused.stderr).toContain('the lock is taken over once it has not been refreshed for 72 h (--stale-lock-after), or delete the lock file once you know it has ended');
     const taken = quern('reduce', archive, '--out', out, '--quiet');
     expect(taken.code).toBe(1);
     expect(taken.stdout).toMatch(/took over the lock .*rig-controller-7, pid 4242.*held from host rig-controller-7 and not refreshed for 4\d\.\d h \(over 24\.0 h\)/);

@@ -6,6 +6,7 @@ import { hostname } from 'node:os';
 import { dirname, join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
 import { makeFolder } from './make-folder.js';
+import { WriteFailed } from './staged.js';
 import { runsHere } from '../../stages/runs-here.js';
 
 /**
@@ -139,7 +140,8 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
       try { await fh.writeFile(text); } finally { await fh.close(); }
       break;
     } catch (e) {
-      if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
+      // A folder the run may not write into (read-only, another user's) is named as such, not reported as quern's own error.
+      if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw new WriteFailed(path, e);
     }
     const held = await readHolder(path);
     const { why, elsewhere } = await staleness(path, held, staleAfterMs);
@@ -147,9 +149,12 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
       // A holder that still runs but has stopped refreshing its lock is stuck (storage that stopped answering, a SIGSTOP):
       // deleting the lock would let it write beside the next run should it wake, so ending it is the way on.
       const silentMs = Date.now() - ((await stat(path).catch(() => null))?.mtimeMs ?? Date.now());
-      const stuck = held && !elsewhere && held.host === hostname() && silentMs > SILENT_CONTAINER_MS
-        ? `. It has not refreshed the lock for ${(silentMs / 60_000).toFixed(0)} min (a run refreshes it every minute), so it seems stuck: end it (kill -KILL ${held.pid}) and the next run takes the lock over`
-        : '. Wait for it to finish; if it is gone, delete the lock file';
+      const here = held != null && !elsewhere && held.host === hostname();
+      // On this host a holder that has gone is seen and its lock taken over; another host's can only be judged by its silence.
+      const stuck = here && silentMs > SILENT_CONTAINER_MS
+        ? `. It has not refreshed the lock for ${(silentMs / 60_000).toFixed(0)} min (a run refreshes it every minute), so it seems stuck: end it (kill -KILL ${held!.pid}) and the next run takes the lock over`
+        : here || !held ? '. Wait for it to finish (should it end without removing its lock, the next run takes the lock over)'
+          : `. Wait for it to finish; should that run have ended without removing its lock, the lock is taken over once it has not been refreshed for ${(staleAfterMs / 3_600_000).toPrecision(3).replace(/\.?0+$/, '')} h (--stale-lock-after), or delete the lock file once you know it has ended`;
       throw new OutputInUse(`${dirname(path)} is in use by another run: ${held ? describe(held) : 'the lock names no holder yet (a run may be starting; taken over once 10 s old)'}${elsewhere ? `, ${elsewhere}` : ''} (lock ${path})${stuck}`);
     }
     const mutex = `${path}.takeover`;

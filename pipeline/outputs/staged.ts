@@ -9,11 +9,15 @@ const CAUSES: Record<string, string> = {
   EACCES: 'permission denied', EPERM: 'operation not permitted', EROFS: 'read-only file system', EIO: 'input/output error',
 };
 
+/** Causes that no amount of free space mends. */
+const FORBIDDEN = new Set(['EACCES', 'EPERM', 'EROFS']);
+
 /** A write that failed, naming the file and the cause; the run ends with exit code 2. */
 export class WriteFailed extends Error {
   constructor(readonly file: string, cause: unknown) {
     const code = (cause as NodeJS.ErrnoException)?.code;
-    super(`cannot write ${file}: ${code && CAUSES[code] ? `${CAUSES[code]} (${code})` : (cause as Error)?.message ?? String(cause)}; the previous outputs are kept. Free space or raise the limit, then run again`);
+    const what = code && CAUSES[code] ? `${CAUSES[code]} (${code})` : (cause as Error)?.message ?? String(cause);
+    super(`cannot write ${file}: ${what}; the previous outputs are kept. ${code && FORBIDDEN.has(code) ? 'Let the run write there, or give another folder with --out' : 'Free space or raise the limit'}, then run again`);
   }
 }
 
