@@ -136,4 +136,30 @@ describe('reduction spec', () => {
     writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectra: {}\n');
     expect(await errorOf(loadSpec(dir))).toMatch(/reduction\.yaml:2: spectra: unknown key "spectra"/);
   });
+
+  it('names the line of a YAML syntax error (a tab where YAML wants spaces, YAML 1.2 §6.1)', async () => {
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectrum:\n\tsegment: 4096\n');
+    expect(await errorOf(loadSpec(dir))).toMatch(/reduction\.yaml:3: YAML syntax: /);
+  });
+
+  it('names the line of a baseline date that is no calendar day, a period that ends before it starts, and an alarm below its warning', async () => {
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), [
+      'statistics: {}', //                                      1
+      'trends:', //                                             2
+      '  baseline:', //                                         3
+      '    from: 2026-11-20', //                                4
+      '    until: 2026-11-10', //                               5
+      '    restart:', //                                        6
+      '      - { channel: acc, from: 2026-13-01 }', //          7
+      '  limits:', //                                           8
+      '    rms: { warn: 5, alarm: 1 }', //                      9
+      '',
+    ].join('\n'));
+    const message = await errorOf(loadSpec(dir));
+    expect(message).toMatch(/reduction\.yaml:5: trends\.baseline\.until: must come after from \(2026-11-20\), got 2026-11-10/);
+    expect(message).toMatch(/reduction\.yaml:7: trends\.baseline\.restart\[0\]\.from: "2026-13-01" is not a date or date-time on the calendar/);
+    expect(message).toMatch(/reduction\.yaml:9: trends\.limits\.rms\.alarm: must be above warn \(5\), got 1/);
+  });
 });

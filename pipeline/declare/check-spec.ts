@@ -3,6 +3,7 @@
 // a mistake stops the run once with file, line and key, instead of failing every recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { unknownFeatures, unknownLimits } from '../trends/options.js';
+import { isoTimeMs } from '../../stages/read/iso-time.js';
 import type { Problem, YamlSource } from './yaml-file.js';
 
 /** Longest Welch segment: 0.05 Hz resolution at 51.2 kHz, some 8 MB a buffer per channel (our choice). */
@@ -50,6 +51,40 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   // A limit on a column that does not exist would never be reached, so no alarm could ever sound.
   for (const u of unknownLimits(spec)) {
     problems.push(source.problem(['trends', 'limits', u.name], `no feature column of this spec is named "${u.name}" (nearest: ${u.nearest.join(', ')}); name a column of features.parquet, or turn on the section that computes it`, true));
+  }
+  problems.push(...trendDateProblems(spec, source), ...limitOrderProblems(spec, source));
+  return problems;
+}
+
+const DATE_FORMS = '(2026-11-16, 2026-11-16T02:00Z)';
+
+/** The baseline's dates: days of the calendar, a period that ends after it starts, restarts on real days. */
+function trendDateProblems(spec: ReductionSpec, source: YamlSource): Problem[] {
+  const problems: Problem[] = [], b = spec.trends?.baseline;
+  if (!b) return problems;
+  const at = (path: Path, text: string) => {
+    const t = isoTimeMs(text);
+    if (!Number.isFinite(t)) problems.push(source.problem(path, `"${text}" is not a date or date-time on the calendar ${DATE_FORMS}`));
+    return t;
+  };
+  if ('from' in b) {
+    const from = at(['trends', 'baseline', 'from'], b.from), until = at(['trends', 'baseline', 'until'], b.until);
+    if (Number.isFinite(from) && Number.isFinite(until) && !(until > from)) problems.push(source.problem(['trends', 'baseline', 'until'], `must come after from (${b.from}), got ${b.until}`));
+  }
+  (b.restart ?? []).forEach((r, i) => at(['trends', 'baseline', 'restart', i, 'from'], r.from));
+  return problems;
+}
+
+/** A limit's alarm lies beyond its warning: a feature at or above warn reads changed, at or above alarm alarm. */
+function limitOrderProblems(spec: ReductionSpec, source: YamlSource): Problem[] {
+  const problems: Problem[] = [];
+  for (const [feature, given] of Object.entries(spec.trends?.limits ?? {})) {
+    const entries = Array.isArray(given) ? given : [given];
+    entries.forEach((l, i) => {
+      if (l.warn != null && l.alarm != null && !(l.alarm > l.warn)) {
+        problems.push(source.problem(['trends', 'limits', feature, ...(Array.isArray(given) ? [i] : []), 'alarm'], `must be above warn (${l.warn}), got ${l.alarm}: a feature reaches warn first and alarm beyond it`));
+      }
+    });
   }
   return problems;
 }

@@ -79,7 +79,8 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   const lines = new LineCounter();
   const doc = parseDocument(text, { lineCounter: lines, prettyErrors: false });
   if (doc.errors.length) {
-    throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? 1}: YAML syntax: ${e.message.split('\n')[0]}`).join('\n'));
+    // Without pretty errors the parser gives each error's offset only; the line counter turns it into a line.
+    throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? lines.linePos(e.pos[0]).line}: YAML syntax: ${e.message.split('\n')[0]}`).join('\n'));
   }
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
