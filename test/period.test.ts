@@ -28,6 +28,9 @@ describe('period edges', () => {
     const reversed = quern('reduce', archive, '--out', out, '--since', '2026-11-21', '--until', '2026-11-19', '--quiet');
     expect(reversed.code, reversed.stdout + reversed.stderr).toBe(2);
     expect(reversed.stderr).toMatch(/--since 2026-11-21 is not before --until 2026-11-19: no recording could be selected; swap them/);
+    const empty = quern('reduce', archive, '--out', out, '--since', '2026-11-21', '--until', '2026-11-21', '--quiet');
+    expect(empty.code).toBe(2);
+    expect(empty.stderr).toMatch(/no recording could be selected; give a later --until \(the period ends before the instant it names\)/);
   });
 
   it('a negative, malformed or empty period names the option and the accepted forms, not flags the parser cannot place', () => {

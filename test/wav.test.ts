@@ -61,6 +61,14 @@ describe('WAV reader against independently written files', () => {
     expect(err.message).toMatch(/recapture or copy it again/);
   });
 
+  it('names an empty file as empty, whatever its format, rather than as a file of the wrong format', async () => {
+    for (const name of ['empty.wav', 'empty.csv', 'empty.flac']) {
+      const path = join(tempDir(), name);
+      writeFileSync(path, '');
+      await expect(readAll(path)).rejects.toThrow(/^the file is empty \(0 bytes\): a capture or copy that never wrote anything; capture or copy it again$/);
+    }
+  });
+
   it('refuses what is not RIFF/WAVE', async () => {
     const path = join(tempDir(), 'not.wav');
     writeFileSync(path, 'time,a\n0,1\n');

@@ -29,7 +29,7 @@ export function progressFor(stream: NodeJS.WriteStream = process.stderr, { mode 
   }
   let total = 0, count = 0;
   return {
-    start: (t, reused) => { total = t; stream.write(`reducing ${t} recordings${reused ? `, reusing ${reused}` : ''}\n`); },
+    start: (t, reused) => { total = t; stream.write(`reducing ${t} recording${t === 1 ? '' : 's'}${reused ? `, reusing ${reused}` : ''}\n`); },
     done: (r, detail) => { count++; stream.write(`[${count}/${total}] ${r.recording}: ${r.status} (${r.seconds.toFixed(2)} s)${detail ? ` ${detail}` : ''}${r.reason ? ` — ${r.reason}` : ''}\n`); },
     stop: () => {},
   };

@@ -59,7 +59,7 @@ export function parseWhen(text: string, now = Date.now()): number {
 
 /** The period [since, until) as given; one that holds no instant is a mistake, not a night with nothing to do. */
 export function checkPeriod(since: number | null, until: number | null, sinceText?: string, untilText?: string): void {
-  if (since != null && until != null && since >= until) throw new Error(`--since ${sinceText} is not before --until ${untilText}: no recording could be selected; swap them`);
+  if (since != null && until != null && since >= until) throw new Error(`--since ${sinceText} is not before --until ${untilText}: no recording could be selected; ${since === until ? 'give a later --until (the period ends before the instant it names)' : 'swap them'}`);
 }
 
 /** A span such as 90s, 30m, 12h, 2d or 1w, in ms. */
