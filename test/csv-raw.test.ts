@@ -112,6 +112,79 @@ describe('CSV reader (RFC 4180 quoting; delimiters as spreadsheets in many local
   });
 });
 
+describe('CSV time columns printed by Python and numpy (test/fixtures/make-csv-fixtures.py)', () => {
+  // Times i / fs printed to fixed decimals by Python's format and numpy.savetxt, as scripts and loggers export them; the rate,
+  // frames and start are those each file was made with (test/fixtures/csv/expected.json).
+  interface Made { file: string; rate: number; frames: number; duration_s: number; start: string | null; refused_at_line?: number }
+  const expected = readJson<{ files: Made[] }>(fixture('csv', 'expected.json'));
+  const made = expected.files.filter((f) => f.refused_at_line === undefined);
+
+  it.each(made.map((f) => [f.file, f] as [string, Made]))('%s reads its exact rate, all its frames and no irregular step', async (_name, f) => {
+    const { rec, channels } = await readAll(fixture('csv', f.file));
+    // 51200 / 3 Hz has no finite decimal: its times, every digit of a double, give it to the last few bits.
+    if (Number.isInteger(f.rate)) expect(rec.sampleRate).toBe(f.rate);
+    else expect(Math.abs(rec.sampleRate / f.rate - 1)).toBeLessThan(1e-14);
+    expect(channels[0].length).toBe(f.frames);
+    expect(Math.abs(channels[0].length / rec.sampleRate - f.duration_s)).toBeLessThan(1e-12);
+    expect(rec.channelNames).toEqual(['x']);
+    expect(channels[0].slice(0, 8)).toEqual([0, 1, 2, 3, 4, 5, 6, 0]);
+    expect(rec.timeSteps?.irregular).toBe(0);
+    expect(rec.notes).toEqual([]);
+    expect(rec.startTime?.toISOString() ?? null).toBe(f.start);
+  });
+
+  it('holds a correct declaration as agreeing with such a column (300 Hz printed to the millisecond)', async () => {
+    const { rec } = await readAll(fixture('csv', '300hz-3dp.csv'), { sampleRate: 300 });
+    expect(rec.sampleRate).toBe(300);
+    await expect(readAll(fixture('csv', '300hz-3dp.csv'), { sampleRate: 305 })).rejects.toThrow(/the time column steps at 300\.000 Hz but the declaration says 305 Hz/);
+  });
+
+  it('refuses a column printed too coarsely to tell its samples apart (2 kHz to the millisecond), naming the line and what to do', async () => {
+    const f = expected.files.find((x) => x.file === '2000hz-3dp.csv')!;
+    await expect(readAll(fixture('csv', f.file))).rejects.toThrow(new RegExp(`^line ${f.refused_at_line}: the time 0\\.001 repeats the line before: printed to 3 decimals, the time column cannot tell its samples apart \\(about 0\\.500 ms\\); export the times with more decimals, or remove the time column and set sample_rate`));
+  });
+});
+
+describe('CSV cells and headers that are not what they seem', () => {
+  it('ignores an unnamed last column of empty cells (a delimiter ending every line), and notes values that turn up there later', async () => {
+    const rows = Array.from({ length: 50 }, (_, i) => `${i / 100},${i},${-i},`);
+    const { rec, channels } = await readAll(write('trail.csv', ['time,a,b,', ...rows].join('\n')));
+    expect(rec.channelNames).toEqual(['a', 'b']);
+    expect(channels[1][49]).toBe(-49);
+    expect(rec.notes).toEqual([]);
+    // Past the 4,096 rows the reader looks at first.
+    const long = Array.from({ length: 5000 }, (_, i) => `${(i / 1000).toFixed(3)},${i},${i === 4500 ? 7 : ''}`);
+    const late = await readAll(write('late.csv', ['time,a,', ...long].join('\n')));
+    expect(late.rec.channelNames).toEqual(['a']);
+    expect(late.channels[0][4999]).toBe(4999);
+    expect(late.rec.notes).toEqual(['1 rows hold values in the unnamed last column, empty in the first rows and so not read (first at line 4502); name the column in the header to read it']);
+  });
+
+  it('refuses a header that names a column twice, naming the line, the name and the columns', async () => {
+    await expect(readAll(write('dup.csv', '# rig 3\ntime,acc,acc\n0,1,2\n0.01,1,2\n'))).rejects.toThrow('line 2: the header names "acc" twice (columns 2 and 3); give each column its own name');
+  });
+
+  it('notes cells that are not numbers (first line, column and count), which count as missing samples; NaN and empty cells are missing samples by intent', async () => {
+    const rows = Array.from({ length: 20 }, (_, i) => `${i / 100},${i === 5 ? 'ERR' : i === 6 ? 'NaN' : i},${i === 9 || i === 12 ? 'over' : i === 3 ? '' : i}`);
+    const { rec, channels } = await readAll(write('err.csv', ['time,a,b', ...rows].join('\n')));
+    expect(channels[0][5]).toBeNaN();
+    expect(channels[1][3]).toBeNaN();
+    expect(rec.notes).toEqual(['3 cells are not numbers (first at line 7, column "a": "ERR"); they count as missing samples']);
+  });
+
+  it('refuses a time that is neither seconds nor a date-time, naming its line and value, in the first rows or after them', async () => {
+    await expect(readAll(write('t1.csv', 'time,a\n0,1\n0.001,2\n1.2.3,3\n0.003,4\n'))).rejects.toThrow('line 4: the time "1.2.3" is neither a number (seconds) nor an ISO 8601 date-time; correct that line or remove it');
+    const rows = Array.from({ length: 5000 }, (_, i) => `${i === 4500 ? '1.2.3' : (i / 1000).toFixed(3)},${i}`);
+    await expect(readAll(write('t2.csv', ['time,a', ...rows].join('\n')))).rejects.toThrow('line 4502: the time "1.2.3" is neither a number (seconds) nor an ISO 8601 date-time');
+  });
+
+  it('reads lines ending in CR alone', async () => {
+    const { rec, channels } = await readAll(write('cr.csv', '# old logger\rtime,x\r0.000,1\r0.010,2\r0.020,3\r'));
+    expect(rec.sampleRate).toBe(100);
+    expect(channels[0]).toEqual([1, 2, 3]);
+  });
+});
+
 describe('CSV files saved in an encoding other than UTF-8', () => {
   // Byte-order marks as the Unicode Standard gives them (FF FE for UTF-16LE, FE FF for UTF-16BE, FF FE 00 00 for UTF-32LE; from memory);
   // Node's own 'utf16le' encoder writes the text, swapped pairwise for big-endian.

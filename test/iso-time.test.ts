@@ -16,10 +16,14 @@ describe('start times as ISO 8601 text', () => {
     // Finer than a millisecond, where Date.parse alone drops all past the third decimal.
     expect(isoTimeMs('2026-03-14T02:00:00.0000390625+01:00') - Date.UTC(2026, 2, 14, 1)).toBeCloseTo(0.0390625, 3); // to within 0.5 µs: a double holds today's ms since the epoch to about 0.2 µs
     expect(isoTimeMs('2026-03-14 02:00:00.123456') - Date.UTC(2026, 2, 14, 2)).toBeCloseTo(123.456, 3);
+    // A comma as the decimal sign, and an offset of hours alone (ISO 8601:2004, 4.2.2.4 and 4.2.5.1; from memory).
+    expect(isoTimeMs('2026-03-14T10:20:30,125')).toBe(Date.UTC(2026, 2, 14, 10, 20, 30, 125));
+    expect(isoTimeMs('2026-03-14T10:20:30+02')).toBe(Date.UTC(2026, 2, 14, 8, 20, 30));
+    expect(isoTimeMs('2026-03-14 10:20:30,5-05')).toBe(Date.UTC(2026, 2, 14, 15, 20, 30, 500));
   });
 
   it('refuses what Date.parse would guess at: words, bare numbers, days not in the calendar, times not on the clock', () => {
-    for (const text of ['night 3', 'test rig B, night 3', '7', '12/11/2026', '2026-02-30T00:00:00Z', '2025-02-29', '2026-03-14T24:00:00Z', '2026-03-14T02:60Z', '2026-3-14', '']) {
+    for (const text of ['night 3', 'test rig B, night 3', '7', '12/11/2026', '2026-02-30T00:00:00Z', '2025-02-29', '2026-03-14T24:00:00Z', '2026-03-14T02:60Z', '2026-3-14', '2026-03-14-05', '2026-03-14T10:20:30+2', '']) {
       expect(isoTimeMs(text), text).toBeNaN();
     }
   });

@@ -3,7 +3,7 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { nominalOf, nominalStep, startOfTimes, stepCounter } from '../stages/read/time-steps.js';
+import { nominalOf, nominalStep, shortestWithin, startOfTimes, stepCounter, timeRate } from '../stages/read/time-steps.js';
 import { fixture, readAll, tempDir } from './helpers.js';
 
 describe('the nominal step of a time vector', () => {
@@ -21,6 +21,31 @@ describe('the nominal step of a time vector', () => {
     for (const t of times) steps.add(t);
     expect(steps.result()).toMatchObject({ irregular: 1, widest_at_s: 0.65 });
     expect(steps.result().widest_s).toBeCloseTo(0.251, 12);
+  });
+
+  it('averages times printed one or two digits coarser than their step to the exact rate, a dropout among them left out', () => {
+    // 300 Hz to the millisecond steps by 0.003 and 0.004 s (Python's f'{t:.3f}', as JavaScript's toFixed rounds these);
+    // half a second lost after row 1000 must not move it.
+    const times = Array.from({ length: 4096 }, (_, i) => Number(((i < 1000 ? i : i + 150) / 300).toFixed(3)));
+    const r = timeRate(times, 1e-3);
+    expect(r.rate).toBe(300);
+    expect(r.lowest).toBeLessThan(300);
+    expect(r.highest).toBeGreaterThan(300);
+    // Four run ends each off by at most half a millisecond, over 13.6 s of regular steps: 4 × 0.5 ms / 13.6 s each way.
+    expect(r.highest / r.lowest - 1).toBeCloseTo((2 * 4 * 0.0005) / (4094 / 300), 5);
+  });
+
+  it('keeps every digit a rate from times held as doubles has (51200 / 3 Hz), and a round rate from times held as singles', () => {
+    const times = Float64Array.from({ length: 4096 }, (_, i) => i / (51200 / 3));
+    expect(Math.abs(timeRate(times).rate / (51200 / 3) - 1)).toBeLessThan(1e-14);
+    // Times a float holds to 2^-24 of their size (IEEE 754 binary32): the rate is quoted to what they support.
+    expect(timeRate(Float64Array.from({ length: 4096 }, (_, i) => Math.fround(i / 1000))).rate).toBe(1000);
+  });
+
+  it('quotes the decimal of fewest digits within the bounds, starting from the estimate', () => {
+    expect(shortestWithin(300.0004, 299.99, 300.01)).toBe(300);
+    expect(shortestWithin(1021.42, 1021.4, 1021.44)).toBe(1021.4);
+    expect(shortestWithin(51200 / 3, 51200 / 3, 51200 / 3)).toBe(51200 / 3);
   });
 
   it('refuses times too large for seconds (milliseconds since 1970), one time alone, and times that do not increase', () => {
@@ -50,6 +75,12 @@ describe('a start from the recording\'s own times', () => {
       const { rec } = await readAll(path, { mat: { variables: ['x'], channel_axis: null, sample_rate_variable: null, start_time_variable: null, time_variable: 't' } });
       expect([rec.startTime?.toISOString() ?? null, rec.sampleRate]).toEqual([start, 100]);
     }
+    // A rate no six digits hold, from a MAT-file's time vector of doubles: kept whole, and the duration with it.
+    const path = join(dir, 'third.mat');
+    writeFileSync(path, level4({ x: new Float64Array(5000), t: Float64Array.from({ length: 5000 }, (_, i) => i / (51200 / 3)) }));
+    const third = await readAll(path, { mat: { variables: ['x'], channel_axis: null, sample_rate_variable: null, start_time_variable: null, time_variable: 't' } });
+    expect(Math.abs(third.rec.sampleRate / (51200 / 3) - 1)).toBeLessThan(1e-14);
+    expect(third.rec.timeSteps?.irregular).toBe(0);
     // The same in a version 7.3 file's time vector read as HDF5: it starts at 0, so no start.
     const { rec } = await readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', hdf5: { datasets: ['/x'], channel_axis: 0, sample_rate_attribute: null, start_time_attribute: null, time_dataset: '/t' } });
     expect(rec.startTime).toBeNull();

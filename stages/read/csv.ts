@@ -6,7 +6,7 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
-import { keepSteps, MAX_TIME_S, nominalOf, startOfTimes, stepCounter } from './time-steps.js';
+import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './time-steps.js';
 
 const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
 const PROBE_BYTES = 1 << 20;
@@ -43,6 +43,10 @@ export function detectDelimiter(header: string): string {
 
 const isData = (line: string) => line.trim() !== '' && !line.startsWith('#');
 
+/** A sample cell as a number: empty, or NaN as numpy and pandas write it, is a missing sample; other text is NaN too, but counted. */
+const sampleValue = (cell: string, decimalComma: boolean) => (cell === '' ? NaN : Number(decimalComma ? cell.replace(',', '.') : cell));
+const isMissingMark = (cell: string) => cell === '' || /^nan$/i.test(cell);
+
 /**
  * A time cell as seconds: plain numbers are seconds, ISO 8601 date-times seconds since the epoch (UTC unless they name a
  * zone, as every start time quern reads, so a run's periods do not depend on the machine's zone). Anything else is NaN:
@@ -57,6 +61,20 @@ function timeValue(text: string, decimalComma: boolean): number {
 
 /** Decimals of a time cell's seconds: of a number, or of an ISO 8601 time's fraction of a second (before its zone). */
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$|[zZ+-])/); return m ? m[1].length : 0; };
+
+/** Refuses a header naming one column twice: its channels could not be told apart. */
+function refuseRepeatedNames(names: string[], headerLine: number): void {
+  const seen = new Map<string, number>();
+  names.forEach((name, i) => {
+    const before = seen.get(name);
+    if (before !== undefined) throw new RecordingError(`line ${headerLine}: the header names "${name}" twice (columns ${before + 1} and ${i + 1}); give each column its own name`);
+    seen.set(name, i);
+  });
+}
+
+/** A time cell that is neither seconds nor an ISO 8601 date-time: its samples cannot be placed, so the file is refused. */
+const unreadableTime = (line: number, cell: string) =>
+  new RecordingError(`line ${line}: the time "${cell.trim()}" is neither a number (seconds) nor an ISO 8601 date-time; correct that line or remove it`);
 
 export interface CsvOptions {
   chunkFrames?: number;
@@ -73,19 +91,25 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   await fh.close();
   refuseNotUtf8(probe.subarray(0, bytesRead));
   const text = probe.toString('utf8', 0, bytesRead).replace(/^\uFEFF/, '');
-  const lines = text.split(/\r?\n/);
+  // Lines end in LF, CRLF or CR alone (as readline splits them below).
+  const lines = text.split(/\r\n|\r|\n/);
   if (bytesRead === PROBE_BYTES) lines.pop(); // the last line may be cut by the probe
   const headerIndex = lines.findIndex(isData);
   if (headerIndex < 0) throw new RecordingError('line 1: no header row found; the first non-comment line must name the columns');
   const headerLine = headerIndex + 1;
   const delimiter = detectDelimiter(lines[headerIndex]);
   const names = splitFields(lines[headerIndex], delimiter).map((s) => s.trim());
+  const probeLines = lines.map((l, i) => ({ l, no: i + 1 })).slice(headerIndex + 1).filter(({ l }) => isData(l)).slice(0, PROBE_ROWS);
+  const probeRows = probeLines.map(({ l }) => splitFields(l, delimiter));
+  // A delimiter ending every line (time,a,b,) leaves an unnamed last column of empty cells: no channel.
+  const fields = names.length;
+  while (names.length > 1 && names[names.length - 1] === '' && probeRows.every((r) => (r[names.length - 1] ?? '').trim() === '')) names.pop();
+  refuseRepeatedNames(names, headerLine);
   const timeColumn = TIME_HEADER.test(names[0]) ? 0 : -1;
   const channelNames = names.filter((_, i) => i !== timeColumn);
   if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
   checkChannelCount(channelNames.length, `line ${headerLine}: header`);
   chunkFrames = boundedChunkFrames(chunkFrames, channelNames.length);
-  const probeRows = lines.slice(headerIndex + 1).filter(isData).slice(0, PROBE_ROWS).map((l) => splitFields(l, delimiter));
   // A semicolon or tab file whose cells hold commas writes decimals with a comma.
   const decimalComma = delimiter !== ',' && probeRows.some((r) => r.some((c) => /^\s*-?\d+,\d+/.test(c)));
 
@@ -94,25 +118,34 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   let timeStep = NaN, timeTolerance = NaN;
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma));
-    if (times.length < 2 || !Number.isFinite(times[0]) || !Number.isFinite(times[times.length - 1])) {
+    if (times.length < 2 || !Number.isFinite(times[0])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
     // Numbers this large are no seconds (since 1970 they would pass the year 5000): milliseconds since 1970, read as seconds,
     // would give a rate a thousand times too low.
     if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, export seconds or date-times, or drop the column and declare sample_rate`);
+    const bad = times.findIndex((t) => !Number.isFinite(t));
+    if (bad >= 0) throw unreadableTime(probeLines[bad].no, probeRows[bad][0] ?? '');
     // The printed times' resolution: steps within it of each other are the same step, rounded.
-    const resolution = 10 ** -Math.max(...probeRows.slice(0, 32).map((r) => decimals(r[0] ?? '')));
+    const printed = Math.max(...probeRows.map((r) => decimals(r[0] ?? '')));
+    const resolution = 10 ** -printed;
     // The nominal step over the probe rows: a dropout among them does not pull it, and rounding of printed times averages out.
-    timeStep = nominalOf(times, resolution);
+    const rate = timeRate(times, resolution);
+    timeStep = rate.step;
+    // Times printed more coarsely than they step repeat, and a lost sample among them cannot be seen: refused, not guessed.
+    const repeat = times.findIndex((t, i) => i > 0 && t === times[i - 1]);
+    if (timeStep > 0 && timeStep < resolution * (1 - 1e-9) && repeat > 0) {
+      throw new RecordingError(`line ${probeLines[repeat].no}: the time ${(probeRows[repeat][0] ?? '').trim()} repeats the line before: printed to ${printed} decimals, the time column cannot tell its samples apart (about ${(timeStep * 1e3).toPrecision(3)} ms); export the times with more decimals, or remove the time column and set ${sampleRateWhere}`);
+    }
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
-    const derived = 1 / timeStep;
     timeTolerance = Math.max(0.01 * timeStep, resolution);
     // Date-times give the start; so do POSIX seconds, as loggers print them.
     startTime = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim()) ? startOfTimes(times[0]) : new Date(times[0] * 1000);
-    if (declaredSampleRate != null && Math.abs(derived - declaredSampleRate) > 0.005 * declaredSampleRate) {
-      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${derived.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
+    // Held against the declaration at 0.5 % beyond the rates the printed times allow.
+    if (declaredSampleRate != null && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
+      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
     }
-    sampleRate = declaredSampleRate ?? Number(derived.toPrecision(6));
+    sampleRate = declaredSampleRate ?? rate.rate;
   } else if (declaredSampleRate == null) {
     throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample rate given; set ${sampleRateWhere} or export the time column`);
   }
@@ -122,21 +155,29 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   async function* chunks(): AsyncGenerator<Float64Array[]> {
     const out = channelNames.map(() => new Float64Array(chunkFrames));
     const lineReader = createInterface({ input: createReadStream(path, { encoding: 'utf8' }), crlfDelay: Infinity });
-    let lineNo = 0, row = 0, k = 0, shortRows = 0, firstShort = 0;
+    let lineNo = 0, k = 0, shortRows = 0, firstShort = 0;
+    const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
     try {
       for await (const raw of lineReader) {
         lineNo++;
         if (lineNo <= headerLine || !isData(raw)) continue;
         const cells = splitFields(raw.replace(/^\uFEFF/, ''), delimiter);
-        if (cells.length !== width && shortRows++ === 0) firstShort = lineNo;
-        if (timeColumn === 0) steps.add(timeValue(cells[0] ?? '', decimalComma));
+        // A row may end with or without the delimiter of an unnamed empty last column.
+        if ((cells.length < width || cells.length > fields) && shortRows++ === 0) firstShort = lineNo;
+        for (let c = width; c < cells.length && c < fields; c++) if (cells[c].trim() !== '' && beyond.count++ === 0) beyond.line = lineNo;
+        if (timeColumn === 0) {
+          const t = timeValue(cells[0] ?? '', decimalComma);
+          if (!Number.isFinite(t)) throw unreadableTime(lineNo, cells[0] ?? '');
+          steps.add(t);
+        }
         for (let c = 0, j = 0; c < width; c++) {
           if (c === timeColumn) continue;
           const cell = (cells[c] ?? '').trim();
-          out[j++][k] = cell === '' ? NaN : Number(decimalComma ? cell.replace(',', '.') : cell);
+          const v = sampleValue(cell, decimalComma);
+          if (Number.isNaN(v) && !isMissingMark(cell) && notNumbers.count++ === 0) Object.assign(notNumbers, { line: lineNo, column: names[c], cell });
+          out[j++][k] = v;
         }
-        row++;
         if (++k === chunkFrames) { yield out; k = 0; }
       }
       if (k > 0) yield out.map((a) => a.subarray(0, k));
@@ -145,6 +186,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     }
     if (timeColumn === 0) keepSteps(recording, steps);
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
+    if (notNumbers.count > 0) notes.push(`${notNumbers.count} cells are not numbers (first at line ${notNumbers.line}, column "${notNumbers.column}": "${notNumbers.cell}"); they count as missing samples`);
+    if (beyond.count > 0) notes.push(`${beyond.count} rows hold values in the unnamed last column, empty in the first rows and so not read (first at line ${beyond.line}); name the column in the header to read it`);
   }
   const recording: Recording = {
     format: 'csv', channelCount: channelNames.length, sampleRate, frames: null, encoding: decimalComma ? 'text (decimal comma)' : 'text',

@@ -5,7 +5,7 @@ import { open } from 'node:fs/promises';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
-import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE } from './time-steps.js';
+import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 
 /** How a group's HDF5 files hold their recordings. */
@@ -187,7 +187,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
     const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
     const step = times?.step ?? null;
-    const sampleRate = fromFile ?? (step != null ? rateFromStep(step, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
+    const sampleRate = fromFile ?? (times != null ? rateFromStep(times, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
     if (sampleRate == null) {
       // Where the rate may be given, each place once (a MAT-file's reader names two of these by one key).
       const places = [...new Set([where.sample_rate, where['hdf5.sample_rate_attribute'], where['hdf5.sample_rate_dataset'], where['hdf5.time_dataset']])];
@@ -215,12 +215,12 @@ function timeDatasetOf(file: HdfFile, path: string, frames: number, where: strin
 }
 
 /** The nominal step of a time dataset's first TIME_PROBE values, and its first time. */
-function timeStepOf(t: Source, frames: number, where: string): { step: number; first: number } {
+function timeStepOf(t: Source, frames: number, where: string): TimeRate & { first: number } {
   const k = Math.min(frames, TIME_PROBE);
   let values;
   try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
   const probe = Float64Array.from(values, Number);
-  return { step: nominalStep(probe, `dataset "${t.path}"`, where), first: probe[0] };
+  return { ...nominalStep(probe, `dataset "${t.path}"`, where), first: probe[0] };
 }
 
 /** The message for a file that stopped a fresh instance too. */

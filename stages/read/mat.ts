@@ -9,7 +9,7 @@ import { namesFrom } from './setting-values.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
-import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE } from './time-steps.js';
+import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
@@ -39,7 +39,7 @@ function checkVector(s: { header: ArrayHeader; where: string }, first: { where: 
 /** Times as stored: no full scale applies to seconds. */
 const AS_STORED = { scale: 1, shift: 0 };
 /** The nominal step of a time vector's first TIME_PROBE values, and its first time, after checking it has one time a frame. */
-async function timeStepOf(m: MatVariables, path: string, frames: number, where: string): Promise<{ step: number; first: number }> {
+async function timeStepOf(m: MatVariables, path: string, frames: number, where: string): Promise<TimeRate & { first: number }> {
   const t = await m.sourceAt(path, 'time', where, 0);
   try {
     if (!isVectorDims(t.header.dims) || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
@@ -47,7 +47,7 @@ async function timeStepOf(m: MatVariables, path: string, frames: number, where: 
     const bytes = t.inline ? t.inline.subarray(0, k * size) : await t.cursor.take(k * size, 'its first times', new Uint8Array(new ArrayBuffer(k * size)));
     const probe = new Float64Array(k);
     decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), t.type, m.little, k, probe, 0, 1, AS_STORED);
-    return { step: nominalStep(probe, t.where, where), first: probe[0] };
+    return { ...nominalStep(probe, t.where, where), first: probe[0] };
   } finally { t.cursor.close(); }
 }
 
@@ -91,7 +91,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
     const times = layout.time_variable ? await timeStepOf(m, layout.time_variable, frames, where['mat.time_variable']) : null;
     const nominalStep = times?.step ?? null;
-    const fromTime = nominalStep == null ? null : rateFromStep(nominalStep, declaredSampleRate, `variable "${layout.time_variable}"`, where.sample_rate);
+    const fromTime = times == null ? null : rateFromStep(times, declaredSampleRate, `variable "${layout.time_variable}"`, where.sample_rate);
     const fromVariable = layout.sample_rate_variable ? await m.sampleRateOf(layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
     const sampleRate = fromVariable ?? fromTime ?? declaredSampleRate;
     if (sampleRate == null) throw new RecordingError(`${first.where}: no sample rate; set ${where.sample_rate}, ${where['mat.sample_rate_variable']} or ${where['mat.time_variable']}`);
