@@ -60,8 +60,14 @@ export function timeRate(times: ArrayLike<number>, resolution = 0): TimeRate {
   // Each run's span is off by at most one time's error at either end.
   const step = span / count, reach = (2 * error * runs) / count;
   const lowest = 1 / (step + reach), highest = step > reach ? 1 / (step - reach) : Infinity;
-  return { step, rate: shortestWithin(1 / step, lowest, highest), lowest, highest };
+  // Quoted to no finer than a part in 10^9, beyond any sampling clock's accuracy (crystals hold some 10^-5, common practice):
+  // times summed step by step in doubles (t += 0.01) carry more than their last digit's rounding, and read 100 Hz, not 99.999999999999.
+  const rate = 1 / step;
+  return { step, rate: shortestWithin(rate, Math.min(lowest, rate * (1 - CLOCK_DIGITS)), Math.max(highest, rate * (1 + CLOCK_DIGITS))), lowest, highest };
 }
+
+/** The finest relative difference a rate from times is quoted to. */
+export const CLOCK_DIGITS = 1e-9;
 
 /** A time vector's nominal step (`timeRate`'s). */
 export const nominalOf = (times: ArrayLike<number>, resolution = 0): number => timeRate(times, resolution).step;
