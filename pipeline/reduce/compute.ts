@@ -33,7 +33,9 @@ function resolveChannels(job: RecordingJob, rec: Recording): { decl: ChannelDecl
     });
   }
   if (job.channels.length !== rec.channelCount) {
-    throw new RecordingError(`header: the file has ${rec.channelCount} channels but group "${job.group}" declares ${job.channels.length}; fix the channel list in archive.yaml or check the file`);
+    // A matrix whose other axis holds as many as declared lies the other way round from its declared channel axis.
+    const turned = rec.otherAxis?.channels === job.channels.length ? `; its other axis holds ${job.channels.length}: if those are the channels, change ${rec.otherAxis.where}` : '';
+    throw new RecordingError(`header: the file has ${rec.channelCount} channels but group "${job.group}" declares ${job.channels.length}${turned || '; fix the channel list in archive.yaml or check the file'}`);
   }
   return job.channels.map((decl, index) => ({ decl, index }));
 }

@@ -2,11 +2,13 @@
 // the dataset(s), the channel axis, and the attributes holding the sample rate and start time; samples are read as
 // hyperslabs of a bounded number of frames.
 import { open } from 'node:fs/promises';
-import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { basename } from 'node:path';
+import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
+import { missingFilter, missingFilterMessage, type PipelineFilter } from './hdf5-filters.js';
 
 /** How a group's HDF5 files hold their recordings. */
 export interface Hdf5Layout {
@@ -111,7 +113,8 @@ function datasetValue(file: HdfFile, path: string, what: string, where: string):
 
 interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean }
 
-function datasetOf(file: HdfFile, path: string, where: string): Source {
+/** `fileName` names the file in the advice for a dataset the library cannot decompress. */
+function datasetOf(file: HdfFile, path: string, where: string, fileName: string): Source {
   let obj;
   try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
   if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check ${where}`);
@@ -127,6 +130,11 @@ function datasetOf(file: HdfFile, path: string, where: string): Source {
   if (m.chunks && m.chunks.reduce((a, b) => a * b, m.size) > MAX_STORED_CHUNK_BYTES) {
     throw new RecordingError(`dataset "${path}" is stored in chunks of ${m.chunks.join(' × ')} values, over ${MAX_STORED_CHUNK_BYTES >> 20} MiB each; rewrite it with smaller chunks (h5repack -l CHUNK=…)`);
   }
+  // A filter the library lacks fails only when a chunk is read, and then as a missing plugin folder: refused here, in check too.
+  let filters: PipelineFilter[];
+  try { filters = m.chunks ? ds.filters : []; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}": its filters cannot be read: ${firstLine(e)}; the file is damaged`); }
+  const missing = missingFilter(filters);
+  if (missing) throw new RecordingError(missingFilterMessage(path, fileName, missing));
   return { ds, path, shape, type: m.type, size: m.size, signed: m.signed };
 }
 
@@ -143,7 +151,7 @@ const isVector = (shape: number[]) => shape.length === 1 || (shape.length === 2 
 const vectorRanges = (shape: number[], rows: [number, number]) => (shape.length === 1 ? [rows] : shape[0] === 1 ? [[] as [], rows] : [rows, [] as []]);
 
 /** A file opened on an instance: its datasets found and checked against the layout. */
-interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; sampleRate: number; startTime: Date | null; channelNames: string[] | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
+interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; /** Set for one two-dimensional dataset read by its declared channel axis. */ byAxis: boolean; sampleRate: number; startTime: Date | null; channelNames: string[] | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
 
 const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
 
@@ -158,18 +166,20 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     throw new RecordingError(`the HDF5 file cannot be opened: ${firstLine(e)}; the file is damaged or cut short: copy it again`);
   }
   try {
-    const sources = layout.datasets.map((d) => datasetOf(file, d, where['hdf5.datasets']));
+    const sources = layout.datasets.map((d) => datasetOf(file, d, where['hdf5.datasets'], basename(path)));
     const first = sources[0];
-    let channels: number, frames: number, axis: 0 | 1;
+    let channels: number, frames: number, axis: 0 | 1, byAxis = false;
     if (sources.length === 1) {
       if (first.shape.length === 1) { channels = 1; frames = first.shape[0]; axis = 1; }
-      // N × 1 or 1 × N with no axis declared: one channel, whichever way it lies.
-      else if (first.shape.length === 2 && layout.channel_axis == null && isVector(first.shape)) { axis = first.shape[0] === 1 ? 0 : 1; channels = 1; frames = first.shape[1 - axis]; }
+      // N × 1 or 1 × N: one channel, whichever way it lies and whatever axis is declared (as a MAT-file's vector).
+      else if (isVector(first.shape)) { axis = first.shape[0] === 1 ? 0 : 1; channels = 1; frames = first.shape[1 - axis]; }
       else if (first.shape.length === 2) {
         if (layout.channel_axis == null) throw new RecordingError(`dataset "${first.path}" has two axes (${first.shape.join(' × ')}); set ${where['hdf5.channel_axis']} to 0 if its rows are channels, 1 if its columns are`);
         axis = layout.channel_axis;
+        checkChannelAxis(first.shape[0], first.shape[1], axis, `dataset "${first.path}"`, where['hdf5.channel_axis']);
         channels = first.shape[axis];
         frames = first.shape[1 - axis];
+        byAxis = true;
       } else throw new RecordingError(`dataset "${first.path}" has ${first.shape.length} axes (${first.shape.join(' × ')}); quern reads one axis of samples and at most one of channels`);
     } else {
       for (const s of sources) {
@@ -184,7 +194,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
     const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
       : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
-    const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset']) : null;
+    const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset'], basename(path)) : null;
     const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
     const step = times?.step ?? null;
     const sampleRate = fromFile ?? (times != null ? rateFromStep(times, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
@@ -199,7 +209,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
         : times && startOfTimes(times.first);
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
     const channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
-    return { h5, file, sources, channels, frames, axis, sampleRate, startTime, channelNames, time, step };
+    return { h5, file, sources, channels, frames, axis, byAxis, sampleRate, startTime, channelNames, time, step };
   } catch (e) {
     closeQuietly(file);
     throw e;
@@ -207,8 +217,8 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
 }
 
 /** A time dataset: one value a frame, as a vector. */
-function timeDatasetOf(file: HdfFile, path: string, frames: number, where: string): Source {
-  const t = datasetOf(file, path, where);
+function timeDatasetOf(file: HdfFile, path: string, frames: number, where: string, fileName: string): Source {
+  const t = datasetOf(file, path, where, fileName);
   const count = t.shape.reduce((a, b) => a * b, 1);
   if (!isVector(t.shape) || count !== frames) throw new RecordingError(`dataset "${path}" (the time) is ${t.shape.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
   return t;
@@ -299,6 +309,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
       format: 'hdf5', channelCount: channels, sampleRate, frames,
       encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
       startTime, channelNames: o.channelNames, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
+      ...(o.byAxis ? { otherAxis: { channels: frames, where: declareHow.where['hdf5.channel_axis'] } } : {}),
     };
     return recording;
   } catch (e) {

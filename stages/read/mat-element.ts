@@ -1,7 +1,7 @@
 // MAT-file level 5 data elements (MathWorks, "MAT-File Format", version 5 and later): an 8-byte tag (data type, byte
 // count) and its data padded to 8 bytes, or the small form (count in the tag's upper half, up to 4 bytes in its lower word).
 import type { ByteCursor } from './mat-bytes.js';
-import { RecordingError } from './recording.js';
+import { checkChannelAxis, RecordingError } from './recording.js';
 
 /** Data types of elements (the format's "miINT8" … "miUTF32"). */
 export const MI = { INT8: 1, UINT8: 2, INT16: 3, UINT16: 4, INT32: 5, UINT32: 6, SINGLE: 7, DOUBLE: 9, INT64: 12, UINT64: 13, MATRIX: 14, COMPRESSED: 15, UTF8: 16, UTF16: 17, UTF32: 18 } as const;
@@ -123,5 +123,6 @@ export function channelLayout(dims: number[], axis: 0 | 1 | null, where: string,
   const [rows, columns] = d;
   if (rows === 1 || columns === 1) return { by: 'vector', channels: 1, frames: rows * columns };
   if (axis == null) throw new RecordingError(`${where} has two axes (${rows} × ${columns}); set ${axisWhere} to 1 if its columns are channels (samples × channels), 0 if its rows are`);
+  checkChannelAxis(rows, columns, axis, where, axisWhere);
   return axis === 0 ? { by: 'rows', channels: rows, frames: columns } : { by: 'columns', channels: columns, frames: rows };
 }

@@ -66,9 +66,12 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const cls = first.header.cls;
     let channels: number, frames: number;
     let plan: SourcePlan[];
+    // For a matrix read by its declared channel axis: the channels its other axis would hold.
+    let otherAxis: number | null = null;
     if (layout.variables.length === 1) {
       const held = channelLayout(first.header.dims, layout.channel_axis, first.where, where['mat.channel_axis']);
       ({ channels, frames } = held);
+      if (held.by !== 'vector') otherAxis = frames;
       if (held.by === 'vector') plan = [{ variable: layout.variables[0], first: 0, width: 1 }];
       // Rows as channels: MATLAB stores arrays column by column, so each frame's channels lie side by side.
       else if (held.by === 'rows') plan = [{ variable: layout.variables[0], first: 0, width: channels }];
@@ -149,6 +152,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
       format: 'mat', channelCount: channels, sampleRate, frames,
       encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
       startTime, channelNames, notes: [], chunks, close: () => m.close([...sources, ...extra]),
+      ...(otherAxis != null ? { otherAxis: { channels: otherAxis, where: where['mat.channel_axis'] } } : {}),
     };
     return recording;
   } catch (e) {

@@ -23,6 +23,8 @@ export interface Recording {
   chunks(): AsyncGenerator<Float64Array[]>;
   /** Findings made while reading (irregular time steps…), complete once chunks() has ended. */
   notes: string[];
+  /** For one two-dimensional dataset or variable read by its declared channel axis: the channels its other axis would hold, and where that axis is declared. */
+  otherAxis?: { channels: number; where: string };
   /** For files with a time column: its irregular steps, complete once chunks() has ended. */
   timeSteps?: TimeSteps;
   close(): Promise<void>;
@@ -50,4 +52,16 @@ export function boundedChunkFrames(chunkFrames: number, channels: number, frameB
 export function checkChannelCount(channels: number, where: string): void {
   if (!(channels >= 1)) throw new RecordingError(`${where}: the header says ${channels} channels; the header is damaged`);
   if (channels > MAX_CHANNELS) throw new RecordingError(`${where}: the header says ${channels} channels, more than the ${MAX_CHANNELS} quern reads; the header is damaged, or split the capture into files of fewer channels`);
+}
+
+/**
+ * Refuses a two-dimensional array whose declared channel axis gives more channels than quern reads while its other axis
+ * would not: the axis is most likely the wrong way round, which a "damaged header" would hide.
+ */
+export function checkChannelAxis(rows: number, columns: number, axis: 0 | 1, where: string, axisWhere: string): void {
+  const [channels, other] = axis === 0 ? [rows, columns] : [columns, rows];
+  const [along, across] = axis === 0 ? ['rows', 'columns'] : ['columns', 'rows'];
+  if (channels > MAX_CHANNELS && other <= MAX_CHANNELS) {
+    throw new RecordingError(`${where} is ${rows} × ${columns}: by channel axis ${axis} its ${channels} ${along} would be channels, more than the ${MAX_CHANNELS} quern reads, of ${other} sample${other === 1 ? '' : 's'} each; if its ${other} ${across} are the channels, set ${axisWhere} to ${1 - axis}`);
+  }
 }

@@ -4,7 +4,7 @@ import { readInterleaved } from './interleaved.js';
 import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { openSource, type ByteReader } from './source.js';
 import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-encoding.js';
-import { unaccountedTail } from './wav-tail.js';
+import { walkTail } from './wav-tail.js';
 
 // Broadcast Wave (EBU Tech 3285): OriginationDate at byte 320 ("yyyy-mm-dd", any separator), OriginationTime at 330 ("hh:mm:ss").
 // A date that is no day of the calendar (recorders write 0000-00-00 when their clock was never set) gives no start.
@@ -54,6 +54,15 @@ function parseDs64(b: Buffer, at: number): { dataSize: number; table: Map<string
   const table = new Map<string, number>();
   for (let i = 0; i < entries; i++) table.set(b.toString('latin1', 28 + 12 * i, 32 + 12 * i), u64(32 + 12 * i));
   return { dataSize, table };
+}
+
+/**
+ * Whether a data size that reaches past the file is a writer's stand-in rather than the size of samples cut short: near
+ * 2^31 or beyond (sox writing to a pipe leaves the most whole frames up to 0x7ffff000 bytes), with under half of it in the
+ * file (our threshold; a capture of over 2 GiB cut before its middle looks the same, so the message names that case too).
+ */
+export function streamedSize(declared: number, present: number, { near = 2 ** 31 - 2 ** 20, share = 0.5 } = {}): boolean {
+  return declared >= near && present < share * declared;
 }
 
 /** Reads and checks every header field; the samples stay on disk. */
@@ -112,13 +121,18 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
   if (!sixtyFour && (data.size === 0xffffffff || (data.size === 0 && present > 0))) {
     throw new RecordingError(`byte ${data.offset - 4}: data chunk size was never written (${data.size}); the capture was not closed properly: re-export it`);
   }
+  if (streamedSize(data.size, present)) {
+    throw new RecordingError(`byte ${data.offset - 4}: the data chunk's size (${data.size} bytes) is a stand-in, not the samples' size: the file holds ${present} bytes of samples and nothing after them. It was written as a stream (to a pipe) and its sizes were never filled in; write it again with its sizes (sox in.wav out.wav) and reduce the copy. Only if the capture really was over 2 GiB was the file cut short: then copy it again`);
+  }
   if (data.size > present) {
     throw new RecordingError(`byte ${size}: the file ends ${data.size - present} bytes early: the data chunk declares ${Math.floor(data.size / frameBytes)} frames but only ${Math.floor(present / frameBytes)} are present; the file was cut short (interrupted copy or capture): recapture or copy it again`);
   }
   const notes = data.size % frameBytes ? [`data chunk ends with ${data.size % frameBytes} bytes of a partial frame, ignored`] : [];
   const end = data.offset + data.size + (data.size % 2);
-  const tail = await unaccountedTail(bytesAt, end, size, little);
-  if (tail > 0) notes.push(`${tail} bytes after the data chunk's end (byte ${end}) form no chunk and were ignored; if the recorder wrote more samples than the data chunk's size says, the header is wrong: check the recorder or re-export the file`);
+  const tail = await walkTail(bytesAt, end, size, little);
+  if (!startTime && tail.bext) startTime = bextStartTime(await bytesAt(tail.bext.at, Math.min(tail.bext.size, 4096)));
+  if (tail.cut) notes.push(`the "${tail.cut.id}" chunk after the data (byte ${tail.cut.at}) declares ${tail.cut.size} bytes, more than the ${size - tail.cut.at - 8} left in the file: it is cut short or damaged and was ignored${tail.cut.id === 'bext' && !startTime ? ', so the start time is unknown' : ''}; the samples before it are whole`);
+  else if (tail.unaccounted > 0) notes.push(`${tail.unaccounted} bytes after the data chunk's end (byte ${end}) form no chunk and were ignored; if the recorder wrote more samples than the data chunk's size says, the header is wrong: check the recorder or re-export the file`);
   return { kind, little, fmt, encoding, startTime, data, frames: Math.floor(data.size / frameBytes), frameBytes, notes };
 }
 
