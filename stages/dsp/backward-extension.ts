@@ -1,4 +1,4 @@
-// A plausible past for a recording that starts in the middle of a signal: its mean plus the backward linear prediction of
+// A plausible past for a recording that starts in the middle of a signal: its (windowed) mean plus the backward linear prediction of
 // its first stretch (Burg's model fitted to the time-reversed stretch, run on past its end; Press et al., Numerical Recipes,
 // 3rd ed., §13.6 on extrapolation by linear prediction), so that a filter started on it meets the recording in steady state.
 import { burgPredictor } from './burg.js';
@@ -7,11 +7,12 @@ import { burgPredictor } from './burg.js';
  * `length` samples to go before `start` (oldest first). A prediction that grows beyond twice the stretch's largest
  * deviation from its mean is not trusted: the past is then taken as the mean held constant.
  */
-export function backwardExtension(start: Float64Array, length: number, maxOrder = 128, stopRatio = 1e-6): Float64Array {
+export function backwardExtension(start: Float64Array, length: number, maxOrder = 128, stopRatio = 1e-12): Float64Array {
   const n = start.length, out = new Float64Array(length);
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += start[i];
-  mean = n > 0 ? mean / n : 0;
+  // Hann-weighted: a tone's share of a plain mean over a stretch that is no whole number of its periods would pass for offset.
+  let mean = 0, weights = 0;
+  for (let i = 0; i < n; i++) { const w = 1 - Math.cos((2 * Math.PI * (i + 0.5)) / n); mean += w * start[i]; weights += w; }
+  mean = weights > 0 ? mean / weights : 0;
   out.fill(mean);
   const order = Math.min(maxOrder, Math.floor(n / 4));
   if (order < 1) return out;

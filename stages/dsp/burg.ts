@@ -5,7 +5,7 @@
  * The prediction-error filter a[0] = 1, a[1…q] of x, q ≤ maxOrder: x[n] ≈ −Σ a[j]·x[n − j]. The order stops rising once the
  * prediction error's power falls below `stopRatio` of the signal's, where further stages would fit rounding alone.
  */
-export function burgPredictor(x: Float64Array, maxOrder = 128, stopRatio = 1e-6): Float64Array {
+export function burgPredictor(x: Float64Array, maxOrder = 128, stopRatio = 1e-12): Float64Array {
   const n = x.length, f = Float64Array.from(x), b = Float64Array.from(x);
   let a = new Float64Array([1]);
   let power = 0;
