@@ -1,0 +1,140 @@
+// The channel's sound pressure through the digital A and C weighting filters (dsp/weighting-filter.ts), filtered once and
+// shared by the equivalent levels and the maxima: mean squares, Fast and Slow maxima of the A-weighted signal, C peak.
+// The filters start on a plausible past (dsp/backward-extension.ts) rather than at rest or on the first sample held
+// constant, either of which makes a start-up transient that a signal already running when the recording starts never had.
+import { backwardExtension } from './dsp/backward-extension.js';
+import type { Section } from './dsp/butterworth.js';
+import { ExponentialMeanSquare } from './dsp/exponential-average.js';
+import type { Weighting } from './dsp/frequency-weighting.js';
+import { sosStepState, SosFilter } from './dsp/sosfilt.js';
+import { weightingFilter } from './dsp/weighting-filter.js';
+import { noLevels, pascalsPer } from './sound-pressure.js';
+import type { ChannelContext, Stage } from './stage.js';
+import { checkWeighting } from './weighting-check.js';
+
+/** Time constants F and S of IEC 61672-1, s. */
+const FAST_S = 0.125, SLOW_S = 1;
+
+/**
+ * The recording's first stretch the past is predicted from, and the length of that past, s: the slowest mode of either
+ * filter is the double pole at f1 = 20.6 Hz (τ = 7.7 ms), whose response to the past's first sample is (1 + 13)·e^−13 ≈ 3e−5 of it after 0.1 s.
+ */
+export const START_S = 0.1;
+
+export interface WeightingDesign { sos: Section[]; deviationDb: number }
+
+export interface WeightedFigures {
+  /** Mean squares of the A- and C-weighted sound pressure over the recording, Pa². */
+  meanSquareA: number; meanSquareC: number;
+  /** Largest Fast and Slow time-weighted mean squares of the A-weighted pressure, Pa²; largest |C-weighted pressure|, Pa. */
+  fastMax: number; slowMax: number; peakC: number;
+  /** Samples that were not finite and entered the filters as 0 Pa. */
+  missing: number;
+}
+
+export interface WeightedSound extends Stage {
+  /** The A and C filters, or why there are none (a unit that is no pressure, a sample rate too low). */
+  readonly design: { a: WeightingDesign; c: WeightingDesign } | { error: string };
+  /** The figures once every chunk has been pushed; null for a recording without samples or without filters. */
+  figures(): WeightedFigures | null;
+}
+
+/** The filter for this channel, its deviation, and a note when it strays beyond class 1. */
+function designFor(ctx: ChannelContext, kind: Weighting): WeightingDesign {
+  const sos = weightingFilter(kind, ctx.sampleRate);
+  const check = checkWeighting(sos, kind, ctx.sampleRate);
+  if (check.outside.length) {
+    const list = check.outside.map((b) => `${b.nominal} Hz ${b.deviationDb > 0 ? '+' : ''}${b.deviationDb.toFixed(2)} dB`).join(', ');
+    ctx.note(`${ctx.name}: the digital ${kind} weighting at ${ctx.sampleRate} Hz strays beyond the IEC 61672-1 class 1 acceptance limits at ${list}; L${kind} figures from it are estimates`);
+  }
+  return { sos, deviationDb: check.maxAbsDb };
+}
+
+function designsOf(ctx: ChannelContext): WeightedSound['design'] {
+  if (pascalsPer(ctx.unit) === undefined) return { error: noLevels(ctx.name, ctx.unit) };
+  try {
+    return { a: designFor(ctx, 'A'), c: designFor(ctx, 'C') };
+  } catch (e) {
+    return { error: (e as Error).message };
+  }
+}
+
+/** A filter run over `past` from the steady state of its first sample (as scipy's filtfilt starts on its padding), outputs dropped. */
+export function filterAfter(sos: Section[], past: Float64Array): SosFilter {
+  const filter = new SosFilter(sos, sosStepState(sos).map((v) => v * (past.length ? past[0] : 0)));
+  if (past.length) filter.process(past, new Float64Array(past.length));
+  return filter;
+}
+
+/** Missing samples as 0 into `out`; returns how many there were. */
+function finiteInto(x: Float64Array, out: Float64Array): number {
+  let missing = 0;
+  for (let i = 0; i < x.length; i++) { const v = x[i]; if (Number.isFinite(v)) out[i] = v; else { out[i] = 0; missing++; } }
+  return missing;
+}
+
+const sumOfSquares = (y: Float64Array) => { let s = 0; for (let i = 0; i < y.length; i++) s += y[i] * y[i]; return s; };
+const peakOf = (y: Float64Array, peak: number) => { for (let i = 0; i < y.length; i++) { const v = Math.abs(y[i]); if (v > peak) peak = v; } return peak; };
+const scaled = (y: Float64Array, k: number) => { for (let i = 0; i < y.length; i++) y[i] *= k; };
+
+/** The channel's weighted sound pressure, made on first request and fed each chunk once. */
+export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
+  return ctx.shared('weighted-sound', () => {
+    const design = designsOf(ctx);
+    const pa = pascalsPer(ctx.unit) ?? 1;
+    const startLength = Math.max(1, Math.ceil(START_S * ctx.sampleRate));
+    const start = new Float64Array(startLength);
+    const fast = new ExponentialMeanSquare(FAST_S, ctx.sampleRate), slow = new ExponentialMeanSquare(SLOW_S, ctx.sampleRate);
+    let aFilter: SosFilter | null = null, cFilter: SosFilter | null = null;
+    let filled = 0, count = 0, missing = 0, sumA = 0, sumC = 0, peakC = 0;
+    let x = new Float64Array(0), y = new Float64Array(0);
+
+    const feed = (chunk: Float64Array) => {
+      if (chunk.length === 0) return;
+      if (y.length < chunk.length) y = new Float64Array(chunk.length);
+      const out = y.subarray(0, chunk.length);
+      aFilter!.process(chunk, out);
+      scaled(out, pa);
+      fast.push(out); slow.push(out);
+      sumA += sumOfSquares(out);
+      cFilter!.process(chunk, out);
+      scaled(out, pa);
+      sumC += sumOfSquares(out);
+      peakC = peakOf(out, peakC);
+      count += chunk.length;
+    };
+    // Once the first stretch is in (or the recording ends before it is), the filters run over its predicted past, then over it.
+    const begin = () => {
+      if (aFilter || 'error' in design || filled === 0) return;
+      const past = backwardExtension(start.subarray(0, filled), startLength);
+      aFilter = filterAfter(design.a.sos, past);
+      cFilter = filterAfter(design.c.sos, past);
+      feed(start.subarray(0, filled));
+    };
+
+    return {
+      design,
+      push(chunk) {
+        if ('error' in design || chunk.length === 0) return;
+        if (x.length < chunk.length) x = new Float64Array(chunk.length);
+        const v = x.subarray(0, chunk.length);
+        // A missing sample would poison the filters' state for the rest of the recording: it enters them as 0.
+        missing += finiteInto(chunk, v);
+        let from = 0;
+        if (!aFilter) {
+          from = Math.min(v.length, startLength - filled);
+          start.set(v.subarray(0, from), filled);
+          filled += from;
+          if (filled === startLength) begin();
+        }
+        if (aFilter && from < v.length) feed(v.subarray(from));
+      },
+      finish: () => ({}),
+      figures() {
+        begin();
+        if (!aFilter || count === 0) return null;
+        return { meanSquareA: sumA / count, meanSquareC: sumC / count, fastMax: fast.max, slowMax: slow.max, peakC, missing };
+      },
+    };
+  });
+}
