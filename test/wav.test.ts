@@ -3,7 +3,7 @@ import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { RecordingError } from '../stages/read/recording.js';
-import { bextStartTime } from '../stages/read/wav.js';
+import { bextDateNote, bextStartTime } from '../stages/read/wav.js';
 import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
 
 const wavs = readdirSync(fixture('wav')).filter((f) => f.endsWith('.wav') && f !== 'mulaw.wav');
@@ -43,7 +43,11 @@ describe('WAV reader against independently written files', () => {
     expect(bextStartTime(bext('2024-02-29', '00:00:00'))?.toISOString()).toBe('2024-02-29T00:00:00.000Z'); // a leap day
     for (const [date, time] of [['0000-00-00', '00:00:00'], ['2026-02-30', '12:00:00'], ['2026-13-45', '99:00:00'], ['2026-11-09', '24:00:00'], ['2025-02-29', '00:00:00'], ['2026-11-09', '12:60:00']]) {
       expect(bextStartTime(bext(date, time)), `${date} ${time}`).toBeNull();
+      expect(bextDateNote(bext(date, time))).toContain(`"${date}${time}" name no instant`);
     }
+    // A valid date, and a field left blank (no date at all), need no note.
+    expect(bextDateNote(bext('2026-11-09', '23:59:59'))).toBeNull();
+    expect(bextDateNote(Buffer.alloc(602))).toBeNull();
   });
 
   it('decodes µ-law (ITU-T G.711) on its 14-bit linear scale; its values are checked in wav-formats.test.ts', async () => {

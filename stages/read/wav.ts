@@ -22,6 +22,14 @@ export function bextStartTime(b: Buffer): Date | null {
   return Number.isFinite(t) && back.getUTCFullYear() === y && back.getUTCMonth() === mo - 1 && back.getUTCDate() === d ? back : null;
 }
 
+/** A note for a bext chunk whose origination date is written but names no instant; null when it gives a start or is left blank. */
+export function bextDateNote(b: Buffer): string | null {
+  if (b.length < 338 || bextStartTime(b)) return null;
+  const written = b.toString('latin1', 320, 338).replace(/[\0 ]+$/, '');
+  if (!written) return null;
+  return `the bext chunk's origination date and time "${printable(written)}" name no instant (EBU Tech 3285 writes yyyy-mm-dd hh:mm:ss; 0000-00-00 is a recorder whose clock was never set), so the start is unknown and --since goes by the file's modification time: set the recorder's clock`;
+}
+
 export type RiffKind = 'RIFF' | 'RIFX' | 'RF64' | 'BW64';
 
 export interface WavHeader {
@@ -86,6 +94,7 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
   let fmt: FmtChunk | null = null;
   let fmtAt = 0;
   let startTime: Date | null = null;
+  let bext: Buffer | null = null;
   let data: { offset: number; size: number } | null = null;
   let pos = 12;
   while (pos + 8 <= size) {
@@ -103,7 +112,8 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
       fmt = parseFmt(await bytesAt(body, Math.min(len, 4096)), little, `byte ${body}`);
       fmtAt = body;
     } else if (id === 'bext') {
-      startTime = bextStartTime(await bytesAt(body, Math.min(len, 4096)));
+      bext = await bytesAt(body, Math.min(len, 4096));
+      startTime = bextStartTime(bext);
     } else if (id === 'data') {
       data = { offset: body, size: len };
       if (fmt) break; // everything needed is known; later chunks (LIST, cue…) do not matter
@@ -130,7 +140,9 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
   const notes = data.size % frameBytes ? [`data chunk ends with ${data.size % frameBytes} bytes of a partial frame, ignored`] : [];
   const end = data.offset + data.size + (data.size % 2);
   const tail = await walkTail(bytesAt, end, size, little);
-  if (!startTime && tail.bext) startTime = bextStartTime(await bytesAt(tail.bext.at, Math.min(tail.bext.size, 4096)));
+  if (!startTime && !bext && tail.bext) { bext = await bytesAt(tail.bext.at, Math.min(tail.bext.size, 4096)); startTime = bextStartTime(bext); }
+  const dateNote = bext && bextDateNote(bext);
+  if (dateNote) notes.push(dateNote);
   if (tail.cut) notes.push(`the "${tail.cut.id}" chunk after the data (byte ${tail.cut.at}) declares ${tail.cut.size} bytes, more than the ${size - tail.cut.at - 8} left in the file: it is cut short or damaged and was ignored${tail.cut.id === 'bext' && !startTime ? ', so the start time is unknown' : ''}; the samples before it are whole`);
   else if (tail.unaccounted > 0) notes.push(`${tail.unaccounted} bytes after the data chunk's end (byte ${end}) form no chunk and were ignored; if the recorder wrote more samples than the data chunk's size says, the header is wrong: check the recorder or re-export the file`);
   return { kind, little, fmt, encoding, startTime, data, frames: Math.floor(data.size / frameBytes), frameBytes, notes };
