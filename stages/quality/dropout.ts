@@ -47,7 +47,7 @@ export const dropout: StageDefinition<QualityThresholds> = {
           name: 'dropout', severity, value: fraction,
           threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
           evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
-          message: problems.length ? `${problems.join('; ')}: ${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
+          message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
         });
         return { missing_fraction: fraction, zero_run_s: zeroS };
       },
