@@ -4,6 +4,8 @@ import { analyticGains, AnalyticFilter } from './dsp/analytic.js';
 import { butterworthSos, edgesOf, slowestPoleRadius, type FilterSpec } from './dsp/butterworth.js';
 import { describe } from './dsp/moments.js';
 import { MomentsAccumulator } from './fused/moments.js';
+import { Missing, missingOf } from './fused/missing.js';
+import { GapShadow, holdLastFinite } from './dsp/gap-shadow.js';
 import { FusedPass } from './fused/pass.js';
 import { EdgeTrim } from './dsp/trim.js';
 import { Welch, type WelchOptions } from './dsp/welch.js';
@@ -49,7 +51,10 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(r)));
     // Working buffers lent for the recording (taken back when it is reduced).
     const buffer = scratchOf(ctx);
-    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e); }, buffer);
+    // Missing samples in the trimmed envelope (the blanked shadows of gaps, below) are counted in its own pass, so its
+    // spectrum takes only gap-free segments, as the channel's does.
+    const envMissing = envPass.joinOrMake('missing', () => new Missing());
+    const envTrim = new EdgeTrim(edge, (e) => { envPass.push(e); envSpectrum.push(e, envMissing.inChunk); }, buffer);
     const filteredTrim = new EdgeTrim(edge, (y) => filteredPass.push(y), buffer);
     // One pair of transforms a block filters and makes analytic: the kernel dies below 1e-14 within `reach` samples,
     // kept clear of the tapered ramps (sizes chosen by measurement against scipy, DEVELOPERS.md).
@@ -58,22 +63,45 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const context = ENVELOPE_RAMP + reach;
     const size = Math.max(ENVELOPE_BLOCK, 2 ** Math.ceil(Math.log2(4 * context)));
     const gainKey = `${JSON.stringify(o.filter)}@${ctx.sampleRate}`;
+    // A gap is fed to the filter held at the last finite value (the transforms need finite samples), and the output within
+    // `edge` of it either side, where the filter still answers the gap, is blanked to NaN and so left out like a missing sample.
+    const gaps = missingOf(ctx), shadow = new GapShadow(edge);
+    let hold = 0, outAt = 0;
     const analytic = new AnalyticFilter(() => analyticGains(size, ctx.sampleRate, sos, zeroPhase), gainKey, { size, context, ramp: ENVELOPE_RAMP, extension: zeroPhase ? 'odd' : 'zero', buffer },
-      (y, e) => { filteredTrim.push(y); envTrim.push(e); });
+      (y, e) => {
+        if (shadow.pending) shadow.blank([y, e], outAt);
+        outAt += y.length;
+        filteredTrim.push(y); envTrim.push(e);
+      });
     // As scipy.signal.sosfiltfilt, zero-phase filtering needs more samples than its odd extension at each end.
     const firstOrder = Math.min(sos.filter((s) => s[2] === 0).length, sos.filter((s) => s[5] === 0).length);
     const padlen = 3 * (2 * sos.length + 1 - firstOrder);
-    let seen = 0;
+    let seen = 0, filled: Float64Array | null = null;
     return {
-      push(x) { seen += x.length; analytic.push(x); },
+      push(x) {
+        if (gaps.inChunk === 0) {
+          if (x.length > 0) hold = x[x.length - 1];
+          analytic.push(x);
+        } else {
+          if (filled === null || filled.length < x.length) filled = buffer(x.length);
+          const f = filled.length === x.length ? filled : filled.subarray(0, x.length);
+          hold = holdLastFinite(x, f, hold);
+          shadow.add(x, seen);
+          analytic.push(f);
+        }
+        seen += x.length;
+      },
       finish() {
         if (zeroPhase && seen <= padlen) {
           ctx.note(`${ctx.name}: too short for zero-phase filtering (needs more than ${padlen} samples); envelope left empty`);
           return { ...EMPTY };
         }
         analytic.finish();
-        if (env.moments().n === 0) {
-          ctx.note(`${ctx.name}: too short for the envelope once ${edge} settling samples are left out at each end; envelope left empty`);
+        // The envelope's figures describe its modulation; fewer samples than one segment of its spectrum hold less than one
+        // period of the slowest modulation that spectrum resolves (fs / segment), so they are left empty.
+        const least = o.spectrum.segment, kept = env.moments().n;
+        if (kept < least) {
+          ctx.note(`${ctx.name}: ${kept} envelope samples once ${edge} settling samples are left out at each end${gaps.count > 0 ? ` and around each gap of missing samples` : ''}, fewer than one ${least}-sample segment of its spectrum; envelope left empty`);
           return { ...EMPTY };
         }
         const f = describe(filtered.moments()), e = describe(env.moments());

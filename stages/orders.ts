@@ -48,11 +48,15 @@ export const orders: StageDefinition<OrderOptions> = {
         if (tachos.length > 1) ctx.note(`orders: several tacho channels (${tachos.map((t) => t.channel).join(', ')}); order figures follow ${tacho.channel}`);
         const speed = tacho.summary();
         const psd = s.psd();
-        if (speed.meanRpm == null || speed.minRpm == null || speed.maxRpm == null || !psd) {
+        if (!psd) {
+          ctx.note(`orders: no spectrum of ${ctx.name} (see its spectrum note); order figures left empty (null)`);
+          return blank();
+        }
+        if (speed.meanRpm == null || speed.minRpm == null || speed.maxRpm == null) {
           ctx.note(`orders: no shaft speed from ${tacho.channel}; order figures left empty (null)`);
           return blank();
         }
-        const f = speed.meanRpm / 60, lobe = MAIN_LOBE_BINS[o.spectrum.window] * psd.df;
+        const f = speed.meanRpm / 60, lobe = MAIN_LOBE_BINS[o.spectrum.window] * ctx.sampleRate / psd.length;
         const out: Record<string, number | null> = {};
         const above: number[] = [], swept: number[] = [];
         for (const n of o.orders) {

@@ -1,18 +1,42 @@
 // The Welch spectrum of a channel, shared by the spectral stages, and the descriptors read from it: dominant frequency, centroid.
-import { Welch, type Psd, type WelchOptions } from './dsp/welch.js';
+import { FEWEST_SAMPLES, Welch, type Psd, type WelchOptions } from './dsp/welch.js';
+import { missingOf } from './fused/missing.js';
 import type { ChannelContext, Stage, StageDefinition } from './stage.js';
 
 export const DEFAULT_SPECTRUM: WelchOptions = { segment: 4096, overlap: 0.5, window: 'hann' };
 
 export interface SpectrumProduct extends Stage { psd(): Psd | null }
 
-/** The channel's one Welch accumulator for these options, made on first request. */
+/**
+ * The channel's one Welch accumulator for these options, made on first request. It reads the chunk's missing samples
+ * from the channel's fused pass (asked for first, so the pass walks each chunk before it): a clean chunk goes straight in.
+ */
 export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduct {
+  const missing = missingOf(ctx);
   return ctx.shared(`welch:${o.segment}:${o.overlap}:${o.window}`, () => {
     const welch = new Welch(ctx.sampleRate, o);
     let cached: Psd | null | undefined;
-    return { push: (x) => welch.push(x), finish: () => ({}), psd: () => (cached === undefined ? (cached = welch.result()) : cached) };
+    const psd = () => {
+      if (cached !== undefined) return cached;
+      cached = welch.result();
+      const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps);
+      if (note) ctx.note(note);
+      return cached;
+    };
+    return { push: (x) => welch.push(x, missing.inChunk), finish: () => ({}), psd };
   });
+}
+
+/** What the spectrum was taken from, when it is other than whole segments of a gap-free recording. */
+function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean): string {
+  if (gaps) {
+    return psd
+      ? `${name}: spectrum from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`
+      : `${name}: no stretch of ${o.segment} samples free of missing samples; spectral figures left empty (null)`;
+  }
+  if (!psd) return `${name}: fewer than ${FEWEST_SAMPLES} samples; spectral figures left empty (null)`;
+  if (psd.length < o.segment) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, zero-padded to ${o.segment} points (bins every ${(psd.df).toPrecision(4)} Hz, resolution ${(fs / psd.length).toPrecision(4)} Hz)`;
+  return '';
 }
 
 /** Index of the largest density above DC. */

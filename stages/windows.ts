@@ -1,9 +1,23 @@
-// Fixed time windows: mean, RMS and peak per window (and a tacho channel's shaft speed), into windows.parquet.
+// Fixed time windows: mean, RMS and peak per window (and a tacho channel's shaft speed), into windows.parquet. Each
+// window's figures are of its finite samples; a window with none has none (null).
 import { fixedWindowsOf } from './fused/fixed-windows.js';
+import { missingOf } from './fused/missing.js';
 import { speedOf } from './shaft-speed.js';
 import type { StageDefinition } from './stage.js';
 
 export interface WindowOptions { length_s: number; hop_s: number }
+
+/** Mean square, sum and peak of a ring's samples, the finite ones only (`finite` counts them): for windows that hold a missing sample. */
+function finiteFigures(ring: Float64Array, out: Float64Array): void {
+  let sum = 0, sq = 0, peak = 0, m = 0;
+  for (let j = 0; j < ring.length; j++) {
+    const v = ring[j];
+    if (v - v !== 0) continue;
+    sum += v; sq += v * v; m++;
+    const a = v < 0 ? -v : v; if (a > peak) peak = a;
+  }
+  out[0] = sum; out[1] = sq; out[2] = peak; out[3] = m;
+}
 
 export const windows: StageDefinition<WindowOptions> = {
   group: 'windows',
@@ -13,25 +27,33 @@ export const windows: StageDefinition<WindowOptions> = {
     const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
     // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish().
     const speedIn = ctx.tacho ? speedOf(ctx).windows(length, hop) : null;
-    const held: Record<string, number>[] = [];
-    const emit = (row: Record<string, number>) => (speedIn ? held.push(row) : ctx.addRow('windows', row));
-    const row = (sum: number, sq: number, peak: number, end: number) =>
-      emit({ window_start_s: (end - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: sum / length, rms: Math.sqrt(sq / length), peak });
+    const held: Record<string, number | null>[] = [];
+    const emit = (row: Record<string, number | null>) => (speedIn ? held.push(row) : ctx.addRow('windows', row));
+    const row = (sum: number, sq: number, peak: number, end: number, finite: number) =>
+      emit({ window_start_s: (end - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: finite > 0 ? sum / finite : null, rms: finite > 0 ? Math.sqrt(sq / finite) : null, peak: finite > 0 ? peak : null });
     let seen = 0;
     // Back-to-back windows are summed in the channel's fused pass; overlapping or spaced ones from a ring of the last window.
     if (hop === length) fixedWindowsOf(ctx, length).listen(row);
     const ring = hop === length ? null : new Float64Array(length);
+    // The ring's windows take the finite-only sum only while a missing sample lies within the last window: found once a chunk.
+    const missing = ring ? missingOf(ctx) : null;
+    const figures = new Float64Array(4);
+    let lastMissing = -Infinity;
     let at = 0, nextEnd = length;
     return {
       push(x) {
         if (!ring) { seen += x.length; return; }
+        if (missing!.inChunk > 0) for (let i = x.length - 1; i >= 0; i--) if (x[i] - x[i] !== 0) { lastMissing = seen + i; break; }
         for (let i = 0; i < x.length; i++) {
           ring[at] = x[i];
           if (++at === length) at = 0;
           if (++seen === nextEnd) {
-            let sum = 0, sq = 0, peak = 0;
-            for (let j = 0; j < length; j++) { const v = ring[j]; sum += v; sq += v * v; const a = v < 0 ? -v : v; if (a > peak) peak = a; }
-            row(sum, sq, peak, seen);
+            if (lastMissing >= seen - length) { finiteFigures(ring, figures); row(figures[0], figures[1], figures[2], seen, figures[3]); }
+            else {
+              let sum = 0, sq = 0, peak = 0;
+              for (let j = 0; j < length; j++) { const v = ring[j]; sum += v; sq += v * v; const a = v < 0 ? -v : v; if (a > peak) peak = a; }
+              row(sum, sq, peak, seen, length);
+            }
             nextEnd += hop;
           }
         }

@@ -1,6 +1,6 @@
 // Welch's method: averaged modified periodograms (Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967), streaming.
-import { PeriodogramSum, periodogramAdd } from './fft-simd.js';
-import { makeWindow, type WindowName } from './window.js';
+import { PeriodogramSum, realDft } from './fft-simd.js';
+import { makeWindow, windowOf, type WindowName } from './window.js';
 
 export interface WelchOptions { segment: number; overlap: number; window: WindowName }
 
@@ -9,17 +9,27 @@ export interface Psd {
   density: Float64Array;
   df: number;
   segments: number;
-  /** Segment length actually used (shorter than asked for when the recording is). */
+  /** Transform length: the segment asked for, so every recording's spectrum has the same bins. */
   segment: number;
+  /** Samples each periodogram's window spans: the segment, or the whole recording when it is shorter (zero-padded to the segment). */
+  length: number;
 }
 
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
-/** Accumulates Welch's estimate chunk by chunk, holding one segment of samples (in the FFT kernels' memory). */
+/** Fewest samples a recording shorter than one segment needs for a spectrum of its own. */
+export const FEWEST_SAMPLES = 8;
+
+/**
+ * Accumulates Welch's estimate chunk by chunk, holding one segment of samples (in the FFT kernels' memory). Missing
+ * samples (NaN, ±Inf) break the stream: the segments go on from the first finite sample after a gap, and no segment
+ * holds a missing sample, so the estimate is that of the finite data.
+ */
 export class Welch {
   private fill = 0;
   private readonly hop: number;
   private count = 0;
+  private gaps = false;
   private readonly win: Float64Array;
   private readonly sums: PeriodogramSum;
   private density: Psd | null | undefined;
@@ -31,40 +41,72 @@ export class Welch {
     this.sums = new PeriodogramSum(o.segment, this.win, o.window);
   }
 
-  push(x: Float64Array): void {
-    // Every whole segment of the held samples and the chunk: mean removed (detrend 'constant'), windowed, |FFT|² added
-    // (welch_add in stages/dsp/fft-simd.c); the rest stays held for the next chunk.
+  /** `missing`: how many of x are missing (NaN or infinite), as the channel's fused pass counted them; 0 takes the plain path. */
+  push(x: Float64Array, missing = 0): void {
+    if (missing === 0) { this.add(x); return; }
+    // A chunk with gaps (rare): its finite runs one by one, the held samples dropped at each gap.
+    this.gaps = true;
+    let start = 0;
+    for (let i = 0; i < x.length; i++) {
+      if (x[i] - x[i] === 0) continue;
+      if (i > start) this.add(x.subarray(start, i));
+      this.fill = 0;
+      start = i + 1;
+    }
+    if (start < x.length) this.add(start === 0 ? x : x.subarray(start));
+  }
+
+  // Every whole segment of the held samples and the stretch: mean removed (detrend 'constant'), windowed, |FFT|² added
+  // (welch_add in stages/dsp/fft-simd.c); the rest stays held for the next stretch.
+  private add(x: Float64Array): void {
     const { added, held } = this.sums.addStretch(this.fill, x, this.hop);
     this.count += added;
     this.fill = held;
   }
 
-  /** The density, once the signal has ended (later pushes are not counted); a recording shorter than one segment is
-   *  analysed as one segment of the largest power of two it fills. */
+  /** Whether a missing sample broke the stream. */
+  get brokenByGaps(): boolean { return this.gaps; }
+
+  /**
+   * The density, once the signal has ended (later pushes are not counted). A recording without gaps that is shorter than
+   * one segment is one periodogram of its whole length, zero-padded to the segment; null when no gap-free segment exists
+   * (or a gap-free recording has fewer than FEWEST_SAMPLES).
+   */
   result(): Psd | null {
     if (this.density !== undefined) return this.density;
-    if (this.count > 0) return (this.density = scaleDensity(this.sums.end(), this.count, this.win, this.fs));
-    const n = 1 << Math.floor(Math.log2(Math.max(1, this.fill)));
-    const head = this.sums.segment().slice(0, n);
+    if (this.count > 0) return (this.density = scaleDensity(this.sums.end(), this.count, this.win, this.fs, this.o.segment));
+    const n = this.fill, whole = this.sums.segment().slice(0, n);
     this.sums.end();
-    if (n < 8) return (this.density = null);
-    const win = makeWindow(this.o.window, n);
-    const sum = new Float64Array(n / 2 + 1);
-    periodogramAdd(head, win, this.o.window, sum);
-    return (this.density = scaleDensity(sum, 1, win, this.fs));
+    if (this.gaps || n < FEWEST_SAMPLES) return (this.density = null);
+    const win = windowOf(this.o.window, n);
+    return (this.density = scaleDensity(paddedPeriodogram(whole, win, this.o.segment), 1, win, this.fs, this.o.segment));
   }
 }
 
+// Modified periodogram of x (n samples, mean removed, windowed by w) zero-padded to `nfft` points, |X[k]|² for k = 0 … nfft/2:
+// scipy.signal.welch(x, nperseg=n, nfft=nfft) takes one segment so (Welch 1967; zero padding interpolates the spectrum, Harris 1978).
+export function paddedPeriodogram(x: Float64Array, w: Float64Array, nfft: number): Float64Array {
+  const n = x.length, y = new Float64Array(nfft);
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += x[i];
+  mean /= n;
+  for (let i = 0; i < n; i++) y[i] = w[i] * (x[i] - mean);
+  const re = new Float64Array(nfft / 2 + 1), im = new Float64Array(nfft / 2 + 1);
+  realDft(y, re, im);
+  for (let k = 0; k <= nfft / 2; k++) re[k] = re[k] * re[k] + im[k] * im[k];
+  return re;
+}
+
 // Density scaling 1/(fs·Σw²), one-sided: interior bins doubled (DC and Nyquist appear once in the two-sided sum).
-function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: number): Psd {
+function scaleDensity(sum: Float64Array, count: number, win: Float64Array, fs: number, nfft: number): Psd {
   const n = win.length;
   let s2 = 0;
   for (let i = 0; i < n; i++) s2 += win[i] * win[i];
   const scale = 1 / (fs * s2 * count);
   // A loop, not map: map's callback hands each double back boxed, 2,049 small allocations a spectrum.
   const density = new Float64Array(sum.length);
-  for (let k = 0; k < sum.length; k++) density[k] = sum[k] * scale * (k === 0 || k === n / 2 ? 1 : 2);
-  return { density, df: fs / n, segments: count, segment: n };
+  for (let k = 0; k < sum.length; k++) density[k] = sum[k] * scale * (k === 0 || k === nfft / 2 ? 1 : 2);
+  return { density, df: fs / nfft, segments: count, segment: nfft, length: n };
 }
 
 /**

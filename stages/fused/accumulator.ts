@@ -18,7 +18,7 @@ export interface Accumulator {
   readonly names: readonly string[];
   readonly state: Float64Array;
   readonly arrays?: AccumulatorArrays;
-  /** Statements for every sample, finite or not. */
+  /** Statements for every sample, finite or not (after the finite ones). */
   readonly each?: string;
   /** Statements for finite samples only. */
   readonly finite?: string;

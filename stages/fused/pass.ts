@@ -12,7 +12,10 @@ const BLOCK = 4096;
 // serves every channel with the same feedback): made once per thread and shared.
 const kernels = new Map<string, Kernel>();
 
-/** The JavaScript source of one loop running every accumulator's statements over x[from … to), the sample at i being number n0 + i of the recording. */
+/**
+ * The JavaScript source of one loop running every accumulator's statements over x[from … to), the sample at i being number
+ * n0 + i of the recording: a finite sample's statements first, then every sample's, so a window may count a finite sample and end on it.
+ */
 export function kernelSource(accs: readonly Accumulator[]): string {
   const load: string[] = [], store: string[] = [], each: string[] = [], finite: string[] = [];
   let arrayIndex = 0;
@@ -31,8 +34,8 @@ export function kernelSource(accs: readonly Accumulator[]): string {
   return `${load.join('\n')}
 for (let i = from; i < to; i++) {
   const v = x[i], n = n0 + i;
-  ${each.join('\n  ')}
   ${finite.length ? `if (v - v === 0) {\n    ${finite.join('\n    ')}\n  }` : ''}
+  ${each.join('\n  ')}
 }
 ${store.join('\n')}`;
 }
@@ -99,7 +102,7 @@ export class FusedPass implements Stage {
 }
 
 // A new kernel is rehearsed before it runs for real, on copies of the state: first over a few rare values (missing,
-// infinite, zero, repeated and fractional samples), each call starting at every accumulator's edge (one sample before a
+// infinite, zero, repeated, fractional and negative samples: a finite statement's magnitude sees a negative one), each call starting at every accumulator's edge (one sample before a
 // window's end), then over the first chunk in short calls. V8 then optimises it with feedback from every branch the data
 // can take. Otherwise a branch first taken after V8 optimised the kernel (a window's end, a repeated sample, a sum that
 // outgrows a small integer) deoptimises it in the middle of a long loop: V8 11.3 (Node 20) then recompiled it, often
@@ -109,7 +112,7 @@ export class FusedPass implements Stage {
 // from a call's first lines is kept only once the vector exists. A long first call (an edge that ran a 1 s window's
 // re-sum) made V8 choose to optimise the kernel before its first lines had any feedback, and in some runs its compiler
 // read them still empty: the optimised kernel then gave up at its first line, every time it was called.
-const OPENING_CALLS = 16, REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, Infinity, -Infinity), RARE_CALLS = 64;
+const OPENING_CALLS = 16, REHEARSAL_CALL = 64, RARE = Float64Array.of(NaN, 0, 0, 0, 0.5, 0.5, 0.5, Infinity, -Infinity, -0.5), RARE_CALLS = 64;
 function rehearse(kernel: Kernel, x: Float64Array, accs: readonly Accumulator[], states: Float64Array[], arrays: AccumulatorArrays[keyof AccumulatorArrays][]): void {
   const s = states.map((a) => a.slice()), b = arrays.map((a) => a.slice());
   const edges = accs.map((a) => Object.entries(a.edge ?? {}).map(([name, value]) => {

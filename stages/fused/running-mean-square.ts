@@ -1,5 +1,5 @@
-// Running sum of squares over the last `length` samples (linear integration), its largest value once a window is
-// full; the ring is re-added once per turn so rounding cannot accumulate.
+// Running sum of squares over the last `length` finite samples (linear integration; a missing sample is skipped, the
+// window held), its largest value once a window is full; the ring is re-added once per turn so rounding cannot accumulate.
 import { scratchOf, type ChannelContext } from '../stage.js';
 import { freshBuffer } from '../scratch.js';
 import { Accumulating, type Accumulator } from './accumulator.js';
@@ -7,7 +7,7 @@ import { fusedOf } from './pass.js';
 
 export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | 'sum' | 'max'> implements Accumulator {
   readonly arrays: { ring: Float64Array };
-  readonly each = 'const q = v * v; $sum += q - $ring[$at]; $ring[$at] = q; $seen++; if (++$at === $length) { $at = 0; let t = 0; for (let j = 0; j < $length; j++) t += $ring[j]; $sum = t; } if ($seen >= $length && $sum > $max) $max = $sum;';
+  readonly finite = 'const q = v * v; $sum += q - $ring[$at]; $ring[$at] = q; $seen++; if (++$at === $length) { $at = 0; let t = 0; for (let j = 0; j < $length; j++) t += $ring[j]; $sum = t; } if ($seen >= $length && $sum > $max) $max = $sum;';
 
   /** A ring of one sample: every sample then takes the turn's branch, whose re-sum is one addition, not a window's. */
   readonly edge = { length: 1, at: 0, seen: 1 };
@@ -17,6 +17,7 @@ export class RunningMeanSquare extends Accumulating<'length' | 'at' | 'seen' | '
     this.arrays = { ring: buffer(length) };
   }
 
+  /** Finite samples seen. */
   get seen() { return this.get('seen'); }
   /** Largest sum of squares over a full window (−1 before the first). */
   get max() { return this.get('max'); }

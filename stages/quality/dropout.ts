@@ -2,7 +2,10 @@
 import type { StageDefinition } from '../stage.js';
 import { missingOf } from '../fused/missing.js';
 import { zeroRunsOf } from '../fused/zero-runs.js';
-import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { pct, secs, worst, type QualityThresholds, type Severity } from './flag.js';
+
+/** How every figure treats missing samples (README, Missing samples), said with the flag so that it can be trusted. */
+const TREATMENT = 'the figures are of the finite samples: statistics, window rows, time weighting and MTVV skip the missing ones, the spectra take only segments free of them, the envelope leaves out the filter\'s settling around each gap';
 
 export const dropout: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -19,30 +22,32 @@ export const dropout: StageDefinition<QualityThresholds> = {
         const missing = gaps.count, firstMissing = gaps.first, longest = zeros.longest, longestEnd = zeros.longestEnd;
         const fs = ctx.sampleRate, d = q.dropout;
         const fraction = n ? missing / n : 0;
-        const zeroS = longest / fs;
+        const zeroS = longest / fs, gapS = gaps.longest / fs;
         const steps = ctx.timeSteps();
-        const problems: string[] = [];
-        let severity: Severity = 'ok';
+        const problems: string[] = [], why: string[] = [];
+        let severity = 'ok' as Severity;
+        const raise = (s: Severity) => { severity = worst([severity, s]); };
         if (missing > 0) {
-          problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}`);
-          severity = fraction >= d.fail_missing_fraction ? 'fail' : fraction >= d.warn_missing_fraction ? 'warn' : 'note';
+          problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}, the longest gap ${secs(gapS)} ending at ${secs((gaps.longestEnd + 1) / fs)}`);
+          raise(fraction >= d.fail_missing_fraction || gapS >= d.fail_gap_s ? 'fail' : fraction >= d.warn_missing_fraction || gapS >= d.warn_gap_s ? 'warn' : 'note');
+          why.push(severity === 'note' ? `${TREATMENT}; so few and so short, they move none by more than a fraction of a per cent` : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
         }
         // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
         if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
           problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
-          if (severity === 'ok' || severity === 'note') severity = 'warn';
+          raise('warn');
+          why.push('zeros count as samples: they pull RMS, peak and the window figures down');
         }
         if (steps && steps.irregular > 0) {
           problems.push(`${steps.irregular} irregular time steps, the widest ${secs(steps.widest_s)} (nominal ${secs(steps.nominal_s)}) ending at t = ${secs(steps.widest_at_s)}`);
-          if (severity === 'ok' || severity === 'note') severity = 'warn';
+          raise('warn');
+          why.push('uneven steps distort the spectrum');
         }
         ctx.flag({
           name: 'dropout', severity, value: fraction,
-          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing`,
-          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
-          message: problems.length
-            ? `${problems.join('; ')}: ${severity === 'note' ? 'the figures cover the rest and move by less than the missing share' : 'the logger lost data: RMS, peak and the window figures cover only what is left (zeros pull them down; uneven steps distort the spectrum)'}`
-            : 'no missing samples, zero stretches or time gaps',
+          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
+          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
+          message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
         });
         return { missing_fraction: fraction, zero_run_s: zeroS };
       },

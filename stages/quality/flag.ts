@@ -36,7 +36,7 @@ export interface QualityThresholds {
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
-  dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number };
+  dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
@@ -75,8 +75,10 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   noise_floor: { warn_db: 10.3, fail_db: 3, window_s: 1 },
   // Missing samples are left out of every figure: below 0.1 % that shifts none by more than a fraction of a per cent (note); from
   // 0.1 % the peak or an event may be among them (warn); from 1 % the channel fails. Exact zeros for 0.1 s are a logger's gap
-  // written as zeros, which pull RMS and the window figures down (warn). Our choices.
-  dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1 },
+  // written as zeros, which pull RMS and the window figures down (warn). Our choices. A gap of missing samples as long as the F
+  // time constant (0.125 s, IEC 61672-1) can hide a whole event from the time-weighted maxima (warn); one as long as MTVV's 1 s
+  // integration (ISO 2631-1, from memory) a whole transient, and it leaves no 1 s window of windows.parquet whole (fail).
+  dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
   // √(1 + r²) − 1, 5 % at r = 0.32; a drift of d standard deviations across the recording (as a ramp) by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
   offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1 },

@@ -27,9 +27,9 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
     const quietBelow = floor != null ? floor * floor * 10 ** (q.noise_floor.fail_db / 10) : 0;
     const windows = { all: 0, quiet: 0, firstQuietStart: -1 };
     if (floor != null && !ctx.tacho) {
-      fixedWindowsOf(ctx, windowLength).listen((sum, sumSquares, _peak, end) => {
-        const mean = sum / windowLength, meanSquare = sumSquares / windowLength - mean * mean;
-        if (!Number.isFinite(meanSquare)) return; // a window with a missing sample: the dropout flag's
+      fixedWindowsOf(ctx, windowLength).listen((sum, sumSquares, _peak, end, finite) => {
+        if (finite === 0) return; // a window of missing samples only: the dropout flag's
+        const mean = sum / finite, meanSquare = sumSquares / finite - mean * mean;
         windows.all++;
         if (meanSquare >= quietBelow) return;
         if (windows.quiet === 0) windows.firstQuietStart = end - windowLength;
