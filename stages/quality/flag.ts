@@ -78,7 +78,8 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // written as zeros, which pull RMS and the window figures down (warn). Our choices.
   dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
-  // √(1 + r²) − 1, 5 % at r = 0.32; a drift of d standard deviations across the recording (as a ramp) by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
+  // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
+  // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
   offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1 },
   // Isolated samples beyond 10 robust standard deviations (1.4826 × MAD) set the peak and crest factor and raise kurtosis: any warns;
   // 0.1 % of the samples fails (our choices).
