@@ -53,6 +53,39 @@ describe('resolution judged on the steps the data actually take', () => {
   });
 });
 
+describe('two levels say nothing about the converter', () => {
+  // Ideal quantisation noise is LSB/√12 of the converter's step (IEEE Std 1241). A signal that takes two levels changes by
+  // one amount only, so the greatest common divisor of its changes is that amount, whatever the converter's step.
+  const volts = accelerometer({ name: 'v', quantity: 'voltage', unit: 'V', scale: 10, range: [-10, 10] });
+  const q = 10 / 32768;
+
+  it('a ±5 V square wave on a declared 16-bit converter keeps the declared step: 5 V against q/√12', async () => {
+    const x = Float64Array.from({ length: 20000 }, (_, i) => (Math.floor(i / 50) % 2 ? 5 : -5));
+    const { row, flag } = await reduce(x, 10000, volts);
+    expect(row.step_size).toBe(q);
+    expect(row.quantisation_snr_db).toBeCloseTo(20 * Math.log10(5 / (q / Math.sqrt(12))), 9);
+    expect(flag('resolution').severity).toBe('ok');
+    expect(flag('resolution').evidence.data_grid_steps).toBe(32768);
+  });
+
+  it('a sine at fs/4 with 45° phase (two values, ±0.707 of its amplitude) keeps the declared step', async () => {
+    const x = Float64Array.from({ length: 20000 }, (_, i) => 5 * Math.sin(Math.PI / 2 * i + Math.PI / 4));
+    const { row, flag } = await reduce(x, 10000, volts);
+    const code = Math.round(5 * Math.SQRT1_2 / q);
+    expect(row.step_size).toBe(q);
+    expect(row.quantisation_snr_db).toBeCloseTo(20 * Math.log10(code * q / (q / Math.sqrt(12))), 9);
+    expect(flag('resolution').severity).toBe('ok');
+  });
+
+  it('three levels on a coarser grid are that grid: 8-bit codes of a slow triangle in a 16-bit file still fail', async () => {
+    // One 8-bit code is 256 16-bit codes; a triangle over codes −1, 0, +1 spans two of them.
+    const x = Float64Array.from({ length: 20000 }, (_, i) => [-1, 0, 1, 0][Math.floor(i / 100) % 4] * 256 * q);
+    const { row, flag } = await reduce(x, 10000, volts);
+    expect(row.step_size).toBeCloseTo(256 * q, 12);
+    expect(flag('resolution').severity).toBe('fail');
+  });
+});
+
 describe('flatline: a busy signal that stops moving', () => {
   // Broadband noise of σ = 5 m/s² on 16-bit codes of 0.0153 m/s²: successive samples equal by chance about once in
   // √(2π)·σ_diff/step ≈ 1200 (Gaussian density at zero, common practice), so 0.1 s on one code (1000 repeats) is a stuck converter.
