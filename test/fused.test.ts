@@ -205,6 +205,41 @@ describe('the fused pass equals the straightforward formulas, whatever the chunk
     });
   }
 
+  // Held stretches of at least 10 repeats (0.01 s at 1 kHz) ended by a jump of more than two steps of the data, against a
+  // plain loop: a slow ramp on a 0.01 grid leaves each of its 20-sample stretches by one step; stretches planted in noise on
+  // the same grid end with jumps of many steps; one ends at a missing sample, one at a zero, one is still open at the end.
+  for (const seed of [4, 5]) {
+    it(`held stretches and the jumps that end them, chunking ${seed}`, () => {
+      const u = uniform(seed), grid = 0.01;
+      const x = Float64Array.from({ length: 12_000 }, (_, i) => Math.round((i < 4000 ? 1 + Math.floor(i / 20) * grid : 3 * (u() - 0.5)) / grid) * grid);
+      const plant = (at: number, len: number) => x.fill(x[at - 1], at, at + len);
+      for (const at of [4500, 5100, 6003, 7777]) plant(at, 15 + (at % 7));
+      plant(8200, 60);                        // the longest, ended by a jump
+      plant(9000, 30); x[9030] = NaN;         // ended by a missing sample
+      plant(9500, 12); x[9512] = 0;           // ended by a zero
+      plant(11_980, 20);                      // open at the end
+      const { ctx, shared } = context();
+      const runs = repeatRunsOf(ctx, 0.01);
+      const sizes = chunkSizes(x.length, 200 + seed);
+      for (let at = 0, k = 0; k < sizes.length; at += sizes[k++]) for (const p of shared.values()) p.push(x.subarray(at, at + sizes[k]));
+      // The smallest change, one step of the grid, lies in the first samples: every chunking knows it before a stretch ends.
+      expect(runs.dataStep).toBeCloseTo(grid, 12);
+      let held = 0, holds = 0, jumps = 0;
+      for (let i = 0; i < x.length;) {
+        let j = i + 1;
+        while (j < x.length && x[j] === x[i]) j++;
+        const jump = j < x.length ? Math.abs(x[j] - x[i]) : NaN;
+        if (j - i - 1 >= 10 && x[i] !== 0 && jump > 2 * runs.dataStep!) { held += j - i; holds++; jumps += jump; }
+        i = j;
+      }
+      expect(holds).toBe(7);
+      expect(runs.held).toBe(held);
+      expect(runs.holds).toBe(holds);
+      expect(runs.jumps).toBeCloseTo(jumps, 12);
+      expect(runs.longestJump).toBeCloseTo(Math.abs(x[8260] - x[8259]), 12);
+    });
+  }
+
   it('finds every outlier of a chunk that holds more of them than the pass keeps', () => {
     const u = uniform(9);
     const x = Float64Array.from({ length: 70_000 }, (_, i) => u() - 0.5 + (i % 20 === 7 ? 100 : 0));

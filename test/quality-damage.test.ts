@@ -20,9 +20,9 @@ function gauss(seed: number) {
 }
 
 /** Reduces one channel written as 16-bit PCM (values in engineering units) through the real reader and stages. */
-async function reduce(x: Float64Array, fs: number, decl: ChannelDeclaration) {
+async function reduce(x: Float64Array, fs: number, decl: ChannelDeclaration, encoding: 'pcm16' | 'float32' = 'pcm16') {
   const path = join(tempDir(), 'x.wav');
-  writeFileSync(path, encodeWav({ sampleRate: fs, channels: [x.map((v) => (v - decl.offset) / decl.scale)], encoding: 'pcm16' }));
+  writeFileSync(path, encodeWav({ sampleRate: fs, channels: [x.map((v) => (v - decl.offset) / decl.scale)], encoding }));
   const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames: 65536 });
   expect(r.reason).toBeUndefined();
   return { row: r.rows[0] as Record<string, any>, flag: (name: string) => r.quality[0].flags.find((f) => f.name === name) as Flag };
@@ -50,6 +50,39 @@ describe('resolution judged on the steps the data actually take', () => {
     const { row, flag } = await reduce(x, 10000, accelerometer());
     expect(row.step_size).toBeCloseTo(500 / 32768, 12);
     expect(flag('resolution').severity).toBe('ok');
+  });
+});
+
+describe('two levels say nothing about the converter', () => {
+  // Ideal quantisation noise is LSB/√12 of the converter's step (IEEE Std 1241). A signal that takes two levels changes by
+  // one amount only, so the greatest common divisor of its changes is that amount, whatever the converter's step.
+  const volts = accelerometer({ name: 'v', quantity: 'voltage', unit: 'V', scale: 10, range: [-10, 10] });
+  const q = 10 / 32768;
+
+  it('a ±5 V square wave on a declared 16-bit converter keeps the declared step: 5 V against q/√12', async () => {
+    const x = Float64Array.from({ length: 20000 }, (_, i) => (Math.floor(i / 50) % 2 ? 5 : -5));
+    const { row, flag } = await reduce(x, 10000, volts);
+    expect(row.step_size).toBe(q);
+    expect(row.quantisation_snr_db).toBeCloseTo(20 * Math.log10(5 / (q / Math.sqrt(12))), 9);
+    expect(flag('resolution').severity).toBe('ok');
+    expect(flag('resolution').evidence.data_grid_steps).toBe(32768);
+  });
+
+  it('a sine at fs/4 with 45° phase (two values, ±0.707 of its amplitude) keeps the declared step', async () => {
+    const x = Float64Array.from({ length: 20000 }, (_, i) => 5 * Math.sin(Math.PI / 2 * i + Math.PI / 4));
+    const { row, flag } = await reduce(x, 10000, volts);
+    const code = Math.round(5 * Math.SQRT1_2 / q);
+    expect(row.step_size).toBe(q);
+    expect(row.quantisation_snr_db).toBeCloseTo(20 * Math.log10(code * q / (q / Math.sqrt(12))), 9);
+    expect(flag('resolution').severity).toBe('ok');
+  });
+
+  it('three levels on a coarser grid are that grid: 8-bit codes of a slow triangle in a 16-bit file still fail', async () => {
+    // One 8-bit code is 256 16-bit codes; a triangle over codes −1, 0, +1 spans two of them.
+    const x = Float64Array.from({ length: 20000 }, (_, i) => [-1, 0, 1, 0][Math.floor(i / 100) % 4] * 256 * q);
+    const { row, flag } = await reduce(x, 10000, volts);
+    expect(row.step_size).toBeCloseTo(256 * q, 12);
+    expect(flag('resolution').severity).toBe('fail');
   });
 });
 
@@ -95,6 +128,59 @@ describe('flatline: a busy signal that stops moving', () => {
     const { row, flag } = await reduce(x, 1000, accelerometer());
     expect(row.flatline_run_s).toBeGreaterThan(0.1);
     expect(flag('flatline').severity).toBe('ok');
+  });
+});
+
+describe('flatline: holds a quantiser makes, and holds a fault makes', () => {
+  // IEEE Std 1241's ideal quantiser (code bins of width Q, from memory): an input moving less than one bin between samples
+  // stays on its code and leaves it for the next, one step away. A held value ends with a jump of what the signal moved meanwhile.
+  const strain = accelerometer({ name: 'strain', quantity: 'strain', unit: 'µε', scale: 2000, range: [-2000, 2000] });
+  const q = 2000 / 32768;
+  const sine = (f: number, share: number, fs: number) => Float64Array.from({ length: 60 * fs }, (_, i) => share * 2000 * Math.sin(2 * Math.PI * f * i / fs));
+
+  it.each([[0.1, 0.003, 500], [0.1, 0.01, 200], [0.5, 0.003, 100]])('a clean %f Hz strain sine at %f of full scale sampled at %i Hz, 16-bit, rests on its codes: ok', async (f, share, fs) => {
+    const { flag } = await reduce(sine(f, share, fs), fs, strain);
+    const e = flag('flatline').evidence;
+    expect(flag('flatline').severity).toBe('ok');
+    expect(e.stuck_fraction).toBe(0);
+    expect(e.data_step).toBe(q);
+    expect(e.longest_run_end_jump).toBe(q); // the longest stretch, near a crest, is left for the next code
+    expect(flag('resolution').severity).toBe('ok');
+  });
+
+  it('a float 10 Hz sine sampled at 100 Hz repeats a value once where two samples straddle a crest alike: ok', async () => {
+    const x = Float64Array.from({ length: 6000 }, (_, i) => Math.sin(2 * Math.PI * 10 * i / 100));
+    const { flag } = await reduce(x, 100, accelerometer({ scale: 1, range: null, bits: null }), 'float32');
+    expect(flag('flatline').evidence.longest_run_samples).toBe(2);
+    expect(flag('flatline').severity).toBe('ok');
+  });
+
+  // A tone with broadband noise, 16-bit at 1 kHz: a transfer that repeats its last value for 25 samples every 200 (12.5 % of the record).
+  const busy = (seed: number) => { const g = gauss(seed); return Float64Array.from({ length: 60000 }, (_, i) => 80 * Math.sin(2 * Math.PI * 37 * i / 1000) + 10 * g()); };
+  it('a transfer repeating its last value every 200 samples warns, its message quoting the evidence', async () => {
+    const x = busy(3);
+    for (let at = 150; at < x.length; at += 200) x.fill(x[at - 1], at, at + 24);
+    const { flag } = await reduce(x, 1000, accelerometer());
+    const f = flag('flatline'), e = f.evidence;
+    expect(f.severity).toBe('warn');
+    expect(e.stuck_fraction as number).toBeCloseTo(0.125, 3);
+    expect(e.hold_end_jump_steps as number).toBeGreaterThan(100);
+    expect(f.message).toContain(`(${Number(((e.repeat_fraction_between_holds as number) * 100).toPrecision(3))} % repeats)`);
+    expect(f.message).toMatch(/^12\.5 % of the recording lies in constant stretches .* read up to 6\.46 % low$/); // 1 − √0.875 (derived)
+  });
+
+  it('a stuck converter still warns: 0.2 s on one code in the busy signal, 1.5 s in the slow strain sine', async () => {
+    const x = busy(4);
+    x.fill(x[30000], 30000, 30200);
+    const fast = await reduce(x, 1000, accelerometer());
+    expect(fast.flag('flatline').severity).toBe('warn');
+    expect(fast.flag('flatline').message).toContain(`(${Number(((fast.flag('flatline').evidence.repeat_fraction as number) * 100).toPrecision(3))} % repeats)`);
+    const slow = sine(0.1, 0.01, 200);
+    slow.fill(slow[6100], 6100, 6400); // near a zero crossing (not at it: zeros are the dropout flag's), where the sine moves about a step a sample
+    const held = await reduce(slow, 200, strain);
+    expect(held.flag('flatline').severity).toBe('warn');
+    expect(held.flag('flatline').message).toMatch(/stays exactly constant for 1\.5 s/);
+    expect(held.flag('flatline').evidence.longest_run_end_jump as number).toBeGreaterThan(100 * q);
   });
 });
 

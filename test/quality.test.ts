@@ -11,7 +11,7 @@ import type { Flag } from '../stages/quality/flag.js';
 import { peakUnderestimate } from '../stages/quality/peak-capture.js';
 import { quantisationNoise } from '../stages/quality/resolution.js';
 import { median } from '../stages/quality/spikes.js';
-import { tempDir } from './helpers.js';
+import { fixture, readJson, tempDir } from './helpers.js';
 
 const channel = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration => ({ name: 'x', quantity: 'voltage', unit: 'V', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null, ...over });
 
@@ -221,6 +221,45 @@ describe('flatline, dropout, offset, spikes, declaration', () => {
     const x = Float64Array.from({ length: 10000 }, (_, i) => 3 + Math.sin(i / 3));
     expect((await flagsOf(x, 1000, channel({ quantity: 'acceleration', unit: 'm/s^2' }))).flag('offset').severity).toBe('warn');
     expect((await flagsOf(x, 1000, channel())).flag('offset').severity).toBe('ok');
+  });
+
+  // Drift is a trend across the recording: the least-squares line through the 1 s means, against numpy.polyfit
+  // (test/fixtures/make-offset-vectors.py). A ramp of d standard deviations adds d²/12 of the signal's variance (derived).
+  describe('drift: a trend of the 1 s means, not their swing', () => {
+    const ref = readJson(fixture('offset-vectors.json'));
+    const { fs, seconds } = ref;
+    const tone = (t: number) => 2 * Math.sin(2 * Math.PI * 7.3 * t);
+    const signals: Record<string, (t: number) => number> = {
+      'sine_0.2_hz': (t) => Math.sin(2 * Math.PI * 0.2 * t),
+      'sine_0.5_hz': (t) => Math.sin(2 * Math.PI * 0.5 * t),
+      linear: (t) => tone(t) + 3 * (t / seconds - 0.5),
+      thermal: (t) => tone(t) + 3 * (1 - Math.exp(-t / 15)) - 3 * (1 - (15 / seconds) * (1 - Math.exp(-seconds / 15))),
+      step: (t) => tone(t) + (t < seconds / 2 ? -1.25 : 1.25),
+    };
+    const acc = channel({ quantity: 'acceleration', unit: 'm/s^2', scale: 1 });
+    const reduce = (name: string) => flagsOf(Float64Array.from({ length: fs * seconds }, (_, i) => signals[name](i / fs)), fs, acc);
+
+    it.each(['sine_0.2_hz', 'sine_0.5_hz'])('a clean %s acceleration over 60 s swings its 1 s means both ways around no trend: ok', async (name) => {
+      const { flag, row } = await reduce(name);
+      expect(flag('offset').severity).toBe('ok');
+      expect(row.drift_ratio).toBeCloseTo(ref.cases[name].drift_ratio, 6);
+      expect(row.drift_ratio).toBeLessThan(0.3);
+      expect(flag('offset').evidence.trend_rise as number).toBeCloseTo(ref.cases[name].rise, 6);
+    });
+
+    it.each(['linear', 'thermal', 'step'])('a %s drift of the mean warns, with the RMS excess over the signal with its line removed (numpy)', async (name) => {
+      const { flag, row } = await reduce(name);
+      const want = ref.cases[name];
+      expect(flag('offset').severity).toBe('warn');
+      expect(row.offset_ratio).toBeLessThan(0.32); // the drift warns, not the mean
+      expect(row.drift_ratio).toBeCloseTo(want.drift_ratio, 6);
+      expect(flag('offset').message).toMatch(/the 1 s means rise by .* along a straight line across the recording/);
+      const said = Number(/RMS reads ([\d.]+) % high/.exec(flag('offset').message)![1]) / 100;
+      expect(Math.abs(said - want.rms_excess_line_removed)).toBeLessThan(0.002);
+      // A step or a curve adds more than its fitted line: the message says so, and the figure is a floor.
+      expect(said).toBeLessThanOrEqual(want.rms_excess_planted + 0.001);
+      expect(flag('offset').message).toMatch(/more where the drift is a step or a curve/);
+    });
   });
 
   it('takes medians by quickselect that agree with sorting', () => {

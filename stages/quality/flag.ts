@@ -65,7 +65,9 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // A spread of at most 2 converter steps is a dead channel; a constant stretch of 1 s is a stuck converter or a loose contact,
   // whose figures describe the fault, not the signal (our choices). A signal that otherwise moves between samples (fewer than 20 %
   // of them repeat the one before, our choice) and holds one value for 0.1 s is stuck: a 1 s window holding it reads its RMS up to
-  // 1 − √0.9 = 5.1 % low (derived); slow signals that rest on their codes repeat far more often and keep the 1 s rule.
+  // 1 − √0.9 = 5.1 % low (derived); slow signals that rest on their codes repeat far more often and keep the 1 s rule. A stretch
+  // left for a value at most two steps of the data away is a slow signal leaving its code (an ideal quantiser's codes differ by
+  // whole bins, IEEE Std 1241), not a held value, which jumps to where the signal went: neither rule takes it, nor the share of short ones.
   flatline: { fail_steps: 2, warn_run_s: 1, warn_stuck_s: 0.1, stuck_repeat_fraction: 0.2, stuck_stretch_s: 0.01, warn_stuck_fraction: 0.1 },
   // The chain's noise (declared) adds its power to the signal's: a channel d dB above it reads RMS 1/√(1 − 10^(−d/10)) − 1 high,
   // 5 % at 10.3 dB (derived), so it warns below that. Within 3 dB the noise holds at least half the power: the figures describe
@@ -80,7 +82,8 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // integration (ISO 2631-1, from memory) a whole transient, and it leaves no 1 s window of windows.parquet whole (fail).
   dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
-  // √(1 + r²) − 1, 5 % at r = 0.32; a drift of d standard deviations across the recording (as a ramp) by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
+  // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
+  // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
   offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1 },
   // Isolated samples beyond 10 robust standard deviations (1.4826 × MAD) set the peak and crest factor and raise kurtosis: any warns;
   // 0.1 % of the samples fails (our choices).

@@ -26,10 +26,17 @@ export function dataGrid(x: Float64Array, step: number, grid = 0, count = x.leng
   return grid;
 }
 
+/**
+ * Whether a grid coarser than the converter's is the data's quantisation: only when the data span at least `least` of its
+ * steps (three levels). Two levels (a square wave, a sine sampled at fs/4) change by one amount, whatever the converter: the
+ * greatest common divisor of one change is that change, and says nothing about the steps between.
+ */
+export const spansGrid = (spread: number, gridStep: number, least = 2) => Math.round(spread / gridStep) >= least;
+
 export const resolution: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [
-    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step, or the common multiple of it by which every sample changes when the data take coarser steps.' },
+    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step, or the common multiple of it by which every sample changes when the data take coarser steps and span at least two of them.' },
     { name: 'resolution_bits', unit: 'bit', description: 'log2 of the steps the signal spans (peak to peak / step).' },
     { name: 'quantisation_snr_db', unit: 'dB', description: '20·log10(std / (step/√12)): signal against ideal quantisation noise.' },
   ],
@@ -44,8 +51,8 @@ export const resolution: StageDefinition<QualityThresholds> = {
       finish() {
         const m = shared.moments();
         const declared = ctx.stepSize;
-        const coarser = declared != null && grid > 1;
-        const step = coarser ? grid * declared : declared;
+        const coarser = declared != null && grid > 1 && spansGrid(m.max - m.min, grid * declared);
+        const step = coarser ? grid * declared! : declared;
         const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
         if (step == null || m.n === 0 || std === 0) {
@@ -59,7 +66,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
         const peakError = step / 2 / (Math.SQRT2 * std);
         ctx.flag({
           name: 'resolution', severity, value: snr, threshold,
-          evidence: { step_size: step, declared_step_size: declared, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
+          evidence: { step_size: step, declared_step_size: declared, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
           message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
             + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than the declared ${ctx.bits} bits)` : '')
             + `, ${snr.toFixed(1)} dB above ideal quantisation noise`
