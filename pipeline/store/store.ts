@@ -78,6 +78,11 @@ export class Store {
   }
   private damageByRecording: Map<string, Damage> | null = null;
 
+  /** The problems of damaged stretches whose recording could not be told (each problem once). */
+  damageOfNone(): string[] {
+    return [...new Set(this.damage.filter((d) => !d.recording).map((d) => d.problem))];
+  }
+
   private appending: Promise<void> = Promise.resolve();
 
   /** Appends records to this run's pack with one write, and makes them the recordings' entries; appends run one at a time. */
