@@ -162,7 +162,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
-    const compacted = await writing(s.own!, () => s.compact());
+    // Entries of recordings gone from the archive are dropped when the pack is rewritten (a shard's pack holds its share alone).
+    const compacted = await writing(s.own!, () => s.compact(inArchive));
     const writeS = clock(t);
 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
