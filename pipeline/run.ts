@@ -21,7 +21,7 @@ import { sweepLeftovers } from './outputs/sweep-leftovers.js';
 import { sweepSpools } from '../stages/read/mat-spool.js';
 import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
-import { refuseHidingRecordings, scan } from './select/scan.js';
+import { refuseHidingRecordings, scan, type ScannedRecording } from './select/scan.js';
 import { byStartTime, shardOf, type CaptureDue, type QuietGroup, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
@@ -52,6 +52,12 @@ export interface ReduceOptions {
   storageMs?: number;
   /** Recordings to compute that were modified within this span before the scan are left to the next run (0: none). */
   settleMs?: number;
+}
+
+/** The recordings of a shard's share in the archive that the run leaves out of its lines and of its settling (outside its period). */
+function unselectedOf(recordings: ScannedRecording[], lines: { recording: string }[], shard: Shard, groupNames: string[]): { recording: string; group: string }[] {
+  const inLines = new Set(lines.map((l) => l.recording));
+  return recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k && !inLines.has(r.recording)).map((r) => ({ recording: r.recording, group: groupNames[r.group] }));
 }
 
 export const defaultOut = (archive: string) => `${resolve(archive).replace(/[\\/]+$/, '')}.reduced`;
@@ -142,22 +148,31 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const labelsAt = declaration.groups.map((g) => g.labels);
     const labels = [...new Set(declaration.groups.flatMap((g) => Object.keys(g.labels)))];
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': spec.hash, 'quern.spec': JSON.stringify(spec.spec), 'quern.archive': root };
-    const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, labels: labelsAt[d.group] })));
+    const groupNames = declaration.groups.map((g) => g.name);
+    const items = byRecording(decisions.map((d) => ({ recording: d.recording, loc: s.get(d.recording)!, group: groupNames[d.group], labels: labelsAt[d.group] })));
+    // The history of trends: the recordings in the archive now, whatever the period chose, under their groups' present names;
+    // captures left to settle are absent from this run's outputs, and from the history too.
+    const inArchive = new Map(scanned.recordings.map((r) => [r.recording, groupNames[r.group]]));
+    const left = new Set(settling.map((x) => x.recording));
+    const present = left.size ? new Map([...inArchive].filter(([r]) => !left.has(r))) : inArchive;
     // Trends need every shard's results: a shard leaves them (and spectra.parquet) to quern merge.
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
-    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, metadata, since: o.since ?? null, earlierStored }));
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
-    const compacted = await writing(s.own!, () => s.compact());
+    // Entries of recordings gone from the archive are dropped when the pack is rewritten (a shard's pack holds its share alone).
+    const compacted = await writing(s.own!, () => s.compact(inArchive));
     const writeS = clock(t);
 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
-      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, d, active)), settling,
+      lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, groupNames[d.group], d, active)), settling,
+      // A shard's present recordings outside its period: merge's trends read their stored history too.
+      ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
       // A shard sees part of each group: merge judges declared capture intervals from every shard's latest start.
       period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}) } : null,

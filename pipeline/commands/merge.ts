@@ -19,7 +19,7 @@ import { UsageError } from '../declare/yaml-file.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
-import { quietByCadence, type CaptureDue, type QuietGroup } from '../select/select.js';
+import { quietByCadence, shardOf, type CaptureDue, type QuietGroup } from '../select/select.js';
 
 export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -54,20 +54,20 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const items = listed.map((r) => {
       const loc = store.get(r.recording);
       if (!loc) throw new UsageError(`${outDir}: the stored result of ${r.recording} is missing from cache/ or damaged; run its shard again`);
-      return { recording: r.recording, loc, labels: first.labels_by_group[r.group] ?? {} };
+      return { recording: r.recording, loc, group: r.group, labels: first.labels_by_group[r.group] ?? {} };
     });
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
     // Worked out on this thread while the workers assemble the slices.
-    const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, metadata, since: first.period?.since ?? null });
+    const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, present: presentOverall(parts, store), metadata, since: first.period?.since ?? null });
     const quiet = quietOverall(parts, listed);
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
     const record = runRecord({
       runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched,
-      lines: listed.map((r, i) => runLine(items[i].loc.facts, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
+      lines: listed.map((r, i) => runLine(items[i].loc.facts, r.group, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet } : null,
@@ -80,6 +80,20 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     await lock.release();
     storage.stop();
   }
+}
+
+/**
+ * The recordings in the archive as the shards found them, under their groups' names then: each part's lines and the
+ * recordings of its share it left out. A part written before it kept those gives every stored entry of its share.
+ */
+function presentOverall(parts: RunRecord[], store: Store): Map<string, string> {
+  const present = new Map<string, string>();
+  for (const p of parts) {
+    for (const r of p.recordings) present.set(r.recording, r.group);
+    if (p.unselected) for (const r of p.unselected) present.set(r.recording, r.group);
+    else for (const r of store.entries.keys()) if (!present.has(r) && shardOf(r, p.shard!.n) === p.shard!.k) present.set(r, store.get(r)!.group);
+  }
+  return present;
 }
 
 /**

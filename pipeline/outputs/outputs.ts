@@ -44,11 +44,11 @@ export const partNames = (k: number, n: number): OutputNames => ({
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
 
-/** A recording of the outputs: where its entry lies, and its group's labels. */
-export interface OutputItem { recording: string; loc: Located; labels: Record<string, string> }
+/** A recording of the outputs: where its entry lies, its group's present name (the entry may be stored under a former one) and labels. */
+export interface OutputItem { recording: string; loc: Located; group: string; labels: Record<string, string> }
 
 export interface OutputsInput {
-  /** Every recording of the outputs, in table order (by recording), with where its entry lies and its group's labels. */
+  /** Every recording of the outputs, in table order (by recording), with where its entry lies, its group and the group's labels. */
   items: OutputItem[];
   spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
   /** The groups quiet over a --since period, which quality.json and quality.html name (none for a shard's part). */
@@ -65,10 +65,7 @@ const COMMA = 0x2c;
 
 /** What the digest reads of each item, made one at a time. */
 function* digestItems(items: OutputItem[]) {
-  for (const { loc, labels } of items) {
-    const { recording, group } = loc.facts;
-    yield { recording, group, bodySha: loc.bodySha, labels };
-  }
+  for (const { recording, group, loc, labels } of items) yield { recording, group, bodySha: loc.bodySha, labels };
 }
 
 /** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
@@ -171,7 +168,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
-    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, labels })), spec: o.spec, labels: o.labels, spectra });
+    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, group, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, group, labels })), spec: o.spec, labels: o.labels, spectra });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
     o.pool.widen(all.length);

@@ -40,6 +40,11 @@ export interface RunRecord {
   unmatched: { path: string; reason: string }[];
   /** Recordings modified within --settle before the scan (captures that may still be written): left to the next run. */
   settling: Settling[];
+  /**
+   * A shard's: the recordings of its share in the archive outside its period (neither in its lines nor settling), so that
+   * `quern merge` holds the trends' history to the recordings present (absent from parts written before this was kept).
+   */
+  unselected?: { recording: string; group: string }[];
   /** Stored entries found damaged (bad checksum, cut short, unreadable): each recording concerned was recomputed. */
   store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; compacted: boolean };
   /** Whether the tables and reports were rewritten, or already said what this run would write (same digest). */
@@ -51,14 +56,14 @@ export interface RunRecord {
 
 export type RunLine = RunRecord['recordings'][number];
 
-/** A recording's line of run.json, from its stored facts (notes of the groups the spec asks for now) and what this run did. */
+/** A recording's line of run.json, from its stored facts (notes of the groups the spec asks for now), its group's present name and what this run did. */
 const NO_MESSAGES: string[] = [];
 
-export function runLine(f: EntryFacts, d: Pick<Decision, 'compute' | 'reused' | 'why'>, activeGroups: string[]): RunLine {
+export function runLine(f: EntryFacts, group: string, d: Pick<Decision, 'compute' | 'reused' | 'why'>, activeGroups: string[]): RunLine {
   let messages = [...(f.notes[''] ?? []), ...activeGroups.filter((g) => g in f.groupKeys).sort().flatMap((g) => f.notes[g] ?? [])];
   if (!messages.length) messages = NO_MESSAGES;
   return {
-    recording: f.recording, group: f.group, status: f.status, ...(f.reason ? { reason: f.reason } : {}), messages,
+    recording: f.recording, group, status: f.status, ...(f.reason ? { reason: f.reason } : {}), messages,
     rows: f.status === 'reduced' ? f.channels : 0, frames: f.frames, sample_rate: f.sampleRate, seconds: round(f.seconds),
     recomputed: d.compute, reused: d.reused, why: d.why,
   };
@@ -66,7 +71,7 @@ export function runLine(f: EntryFacts, d: Pick<Decision, 'compute' | 'reused' | 
 
 export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
-  lines: RunLine[]; settling: Settling[]; timings: { scan_s: number; reduce_s: number; write_s: number };
+  lines: RunLine[]; settling: Settling[]; unselected?: RunRecord['unselected']; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
   period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
   /** Temporary files a stopped run left, removed before this run began. */
@@ -88,6 +93,7 @@ export function runRecord(f: RunFacts): RunRecord {
     shard: f.shard, period: f.period, label_columns: f.labels, labels_by_group: f.labelsByGroup,
     unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
     settling: f.settling,
+    ...(f.unselected ? { unselected: f.unselected } : {}),
     store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
     outputs: f.outputs,
     lock: { took_over: f.tookOver, leftovers_removed: f.leftovers },
@@ -102,10 +108,10 @@ const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => nu
 export async function writeRunRecord(out: string, name: string, r: RunRecord): Promise<void> {
   const file = new StagedFile(join(out, name));
   try {
-    const { recordings, shard, period, label_columns, labels_by_group, unmatched, settling, store, outputs, lock, timings, ...before } = r;
+    const { recordings, shard, period, label_columns, labels_by_group, unmatched, settling, unselected, store, outputs, lock, timings, ...before } = r;
     await file.write(jsonPieces.head(before, 'recordings'));
     for (const [i, line] of recordings.entries()) await file.write(jsonPieces.item(JSON.stringify(line, null, 2), i));
-    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, settling, store, outputs, lock, timings }));
+    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, settling, ...(unselected ? { unselected } : {}), store, outputs, lock, timings }));
     await file.close();
     await commitAll([file]);
   } finally {

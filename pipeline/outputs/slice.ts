@@ -19,8 +19,8 @@ import { slicePieces } from './slice-pieces.js';
 import { ownBuffers } from '../store/release.js';
 import type { PackedEvidence } from '../../stages/quality/evidence.js';
 
-/** A recording of the slice: where its entry lies, and its group's labels. */
-export interface SliceItem { at: Place; recording: string; labels: Record<string, string> }
+/** A recording of the slice: where its entry lies, its group's present name and the group's labels. */
+export interface SliceItem { at: Place; recording: string; group: string; labels: Record<string, string> }
 /**
  * A slice to assemble, with what its tables are made from (the spec, the label columns, whether spectra.parquet is among
  * them): the worker works the tables' columns out itself (`outputTables`), once for the run, rather than receiving some
@@ -84,9 +84,10 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const quality = new TextBytes(), overview = new TextBytes(), sections = { fail: new TextBytes(4 << 10), warn: new TextBytes(4 << 10) }, notes = new TextBytes(4 << 10);
   const assembly = assemblyOf(task.spec);
   await withRecords(async (read) => {
-    for (const { at, recording, labels } of task.items) {
+    for (const { at, recording, group, labels } of task.items) {
       const record = read(at, recording);
-      const entry = joinEntry(recordFacts(record), decodeResults(recordBody(record)));
+      // Under the group's present name: a group renamed in archive.yaml keeps its recordings' stored results.
+      const entry = { ...joinEntry(recordFacts(record), decodeResults(recordBody(record))), group };
       if (spectra) addSpectra(entry, spectra);
       const r = assembleRecording(entry, labels, task.spec, assembly);
       for (const row of r.rows) rows.features.add(row);

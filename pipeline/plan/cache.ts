@@ -45,14 +45,19 @@ export const entriesOf = (store: Store, recordings: Iterable<string>): AsyncGene
 /** Every entry a store holds, whatever this run selected (the history that trends read), by recording. */
 export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.keys()].sort());
 
+/** The recordings in the archive now, as the scan found them, each with the name of the group it belongs to now. */
+export type Present = ReadonlyMap<string, string>;
+
 /**
- * Every entry a store holds, in the order they lie in its packs (a pass over the whole history that needs no order: the
- * trends' series are ordered by start time and name): each pack read front to back; damaged ones are passed over.
+ * The entries of the recordings present now, in the order they lie in the store's packs (a pass over the whole history that
+ * needs no order: the trends' series are ordered by start time and name), each under its group's present name: an entry
+ * of a recording deleted or renamed since is no history, and one stored under a group's former name belongs to it still.
+ * Each pack is read front to back; damaged entries are passed over.
  */
-export function everyEntryAsStored(store: Store): AsyncGenerator<CacheEntry> {
-  const places = [...placesOf(store, store.entries.keys())].map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
+export async function* presentEntriesAsStored(store: Store, present: Present): AsyncGenerator<CacheEntry> {
+  const places = [...placesOf(store, present.keys())].map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
   places.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : a.offset - b.offset));
-  return decoded(places.map((p) => p.loc), new RecordsInOrder());
+  for await (const e of decoded(places.map((p) => p.loc), new RecordsInOrder())) yield { ...e, group: present.get(e.recording)! };
 }
 
 /** Every entry the output folder holds, read from its packs. */

@@ -140,7 +140,10 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     if (o.force) return all('forced (--force)');
     if (!entry) {
       const damage = store.damageOf(r.recording);
-      return all(damage ? `stored entry damaged (${damage.problem}); recomputed` : 'new recording');
+      if (damage) return all(`stored entry damaged (${damage.problem}); recomputed`);
+      // Damage whose recording cannot be told may have held this one's entry: said so, not guessed either way.
+      const untold = store.damageOfNone();
+      return all(untold.length ? `new recording, or its stored entry was damaged past telling whose (${untold.join('; ')}); computed` : 'new recording');
     }
     if (entry.version !== o.version) return all(`tool version changed (${entry.version} → ${o.version})`);
     const sameContent = entry.identity.size === r.size && (hash && entry.identity.hash ? entry.identity.hash === hash : entry.identity.mtimeMs === r.mtimeMs && !hash);

@@ -2,7 +2,7 @@
 // A damaged stretch (bad checksum, lying length, cut-off end) is reported and skipped: reading resumes at the next sound record.
 import { closeSync, openSync, readSync } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
-import { HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
+import { decodeResults, HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
 
 /** Where a record lies, and the checksum of its results: enough to read it back and check it. */
 export interface Place { file: string; offset: number; length: number; bodySha: string }
@@ -58,6 +58,35 @@ async function check(file: string, w: Window, pos: number): Promise<Check> {
   return { ok: true, located: { file, offset: pos, length, bodySha: bodySha.toString('hex'), facts } };
 }
 
+/**
+ * The recording a damaged record at the start of [pos, end) held, when one of its parts still matches its checksum: the
+ * facts or the results, found where the header's lengths put them or, a length being damaged, where the stretch's end
+ * puts them with the other. Null when neither part can be trusted: a name read from damaged bytes could be another's.
+ */
+async function recordingIn(w: Window, pos: number, end: number): Promise<string | null> {
+  const head = await w.at(pos, HEADER_BYTES);
+  if (!head) return null;
+  const metaLength = head.readUInt32LE(4), bodyLength = head.readUInt32LE(8), parts = end - pos - HEADER_BYTES;
+  const metaSha = head.subarray(12, 44), bodySha = head.subarray(44, 76);
+  const sound = (n: number) => n >= 0 && n <= MAX_PART_BYTES && n <= parts;
+  for (const m of new Set([metaLength, parts - bodyLength])) {
+    if (!sound(m) || m === 0) continue;
+    const meta = await w.at(pos + HEADER_BYTES, m);
+    if (meta && sha256(meta).equals(metaSha)) {
+      try { return (JSON.parse(meta.toString('utf8')) as EntryFacts).recording ?? null; } catch { /* not the facts after all */ }
+    }
+  }
+  for (const m of new Set([metaLength, parts - bodyLength])) {
+    for (const b of new Set([bodyLength, parts - m])) {
+      if (!sound(m) || !sound(b) || m + b > parts || b === 0) continue;
+      const body = await w.at(pos + HEADER_BYTES + m, b);
+      if (!body || !sha256(body).equals(bodySha)) continue;
+      try { return decodeResults(body).recording ?? null; } catch { /* matched, yet not results */ }
+    }
+  }
+  return null;
+}
+
 /** The next position after `from` where a sound record starts, or the end of the file. */
 async function resync(file: string, w: Window, from: number): Promise<number> {
   for (let pos = from; pos < w.size;) {
@@ -84,7 +113,7 @@ export async function scanPack(file: string, onRecord: (r: Located) => void): Pr
       const c = await check(file, w, pos);
       if (c.ok) { onRecord(c.located); pos += c.located.length; continue; }
       const next = await resync(file, w, pos + 1);
-      damage.push({ file, offset: pos, length: next - pos, recording: c.recording, problem: c.problem });
+      damage.push({ file, offset: pos, length: next - pos, recording: c.recording ?? await recordingIn(w, pos, next), problem: c.problem });
       pos = next;
     }
     return { damage, size: w.size };

@@ -78,6 +78,11 @@ export class Store {
   }
   private damageByRecording: Map<string, Damage> | null = null;
 
+  /** The problems of damaged stretches whose recording could not be told (each problem once). */
+  damageOfNone(): string[] {
+    return [...new Set(this.damage.filter((d) => !d.recording).map((d) => d.problem))];
+  }
+
   private appending: Promise<void> = Promise.resolve();
 
   /** Appends records to this run's pack with one write, and makes them the recordings' entries; appends run one at a time. */
@@ -131,13 +136,14 @@ export class Store {
 
   /**
    * Rewrites this run's pack with only its live records when it holds damage, or more superseded bytes than live ones:
-   * under a new name, then renamed, so a run stopped meanwhile keeps the old pack.
+   * under a new name, then renamed, so a run stopped meanwhile keeps the old pack. Given the recordings in the archive now,
+   * the entries of those gone from it count as superseded and are dropped with them (null: every entry is kept).
    */
-  async compact(): Promise<boolean> {
+  async compact(present: { has(recording: string): boolean } | null = null): Promise<boolean> {
     if (!this.own) return false;
     await this.close();
     const own = this.own;
-    const live = [...this.table.rows].map(([recording, row]) => ({ recording, at: this.table.at(row) })).filter((l) => l.at.file === own).sort((a, b) => a.at.offset - b.at.offset);
+    const live = [...this.table.rows].map(([recording, row]) => ({ recording, at: this.table.at(row) })).filter((l) => l.at.file === own && (!present || present.has(l.recording))).sort((a, b) => a.at.offset - b.at.offset);
     const liveBytes = live.reduce((s, l) => s + l.at.length, 0);
     const size = Math.max(this.end, this.sizes.get(own) ?? 0);
     const damaged = this.damage.some((d) => d.file === own);
@@ -158,6 +164,9 @@ export class Store {
       await dst.close();
       await rename(tmp, own);
       live.forEach((l, i) => { this.table.offset[l.at.row] = moved[i]; });
+      // The entries left behind lie nowhere now.
+      const kept = new Set(live.map((l) => l.recording));
+      for (const [recording, row] of this.table.rows) if (this.table.at(row).file === own && !kept.has(recording)) this.table.rows.delete(recording);
       this.end = offset;
       return true;
     } catch (e) {

@@ -5,7 +5,7 @@ import { mkdir, readFile, rm, stat } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/canonical-json.js';
-import { everyEntryAsStored } from '../plan/cache.js';
+import { presentEntriesAsStored, type Present } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
@@ -17,10 +17,13 @@ import { TRENDS_TABLE } from './tables.js';
 
 export interface TrendsOutcome { report: ChangesReport; html: string }
 
-/** What the tables and the changes are made from: the spec, the tool, and every stored entry's results checksum. */
-function trendsDigest(spec: ReductionSpec, store: Store, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean): string {
+/** What the tables and the changes are made from: the spec, the tool, and each present recording's group and stored results checksum. */
+function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean): string {
   const h = createHash('sha256').update(canonicalJson({ spec, version: metadata['quern.version'] ?? null, archive: metadata['quern.archive'] ?? null, since, earlierStored }));
-  for (const r of [...store.entries.keys()].sort()) h.update(`\n${r}\u0000${store.get(r)!.bodySha}\u0000${inRun.has(r) ? 1 : 0}`);
+  for (const r of [...present.keys()].sort()) {
+    const loc = store.get(r);
+    if (loc) h.update(`\n${r}\u0000${present.get(r)}\u0000${loc.bodySha}\u0000${inRun.has(r) ? 1 : 0}`);
+  }
   return h.digest('hex');
 }
 
@@ -48,11 +51,13 @@ export interface TrendsWrite {
 }
 
 /**
- * With trends on, stages trends.parquet from the history the store keeps, and works out what changed; with trends off, the
- * table is removed, so none is left stale. When nothing it is made from has changed since it was written, nothing is staged.
+ * With trends on, stages trends.parquet from the history the store keeps of the recordings present now, and works out
+ * what changed; with trends off, the table is removed, so none is left stale. When nothing it is made from has changed since it was written, nothing is staged.
  */
 export async function stageTrends(out: string, spec: ReductionSpec, o: {
   trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
+  /** The recordings in the archive now (every shard's, for merge) and their groups' present names: the history holds no other. */
+  present: Present;
   /** The start of the run's period (--since), ms since the epoch; null for a run without one. */
   since?: number | null;
   /** Every recording of the archive outside the period has a stored result: no run could form an earlier baseline. */
@@ -60,7 +65,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
 }): Promise<TrendsWrite> {
   const inRun = new Set(o.recordings), since = o.since ?? null;
   const earlierStored = o.earlierStored ?? false;
-  const digest = trendsDigest(spec, o.store, inRun, o.metadata, since, earlierStored);
+  const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, since, earlierStored);
   const kept = await stillCurrent(out, digest);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
@@ -70,12 +75,12 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   try {
     let outcome: TrendsOutcome | null = null;
     if (o.trends) {
-      const history = await readHistory(out, spec, o.trends, inRun, everyEntryAsStored(o.store));
+      const history = await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present));
       const scored = scoreHistory(history, o.trends);
       const report = changesReport(history, scored, o.trends, since, earlierStored);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
       files.push(trendsFile);
-      const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, everyEntryAsStored(o.store)) : [];
+      const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, presentEntriesAsStored(o.store, o.present)) : [];
       outcome = { report, html: await changesHtml(report, pictures) };
     }
     // Forgotten first: a run stopped half-way must not leave a digest that vouches for tables not in place.
