@@ -49,6 +49,13 @@ describe('HDF5 reader against h5py', () => {
     expect(r.rows.map((row) => [row.channel, row.max])).toEqual([['sg_tip', Math.max(...want[2])], ['sg_root', Math.max(...want[0])]]);
   });
 
+  it('gives undeclared float channels the unit "stored" (the numbers as written), not "FS", which integer codes and audio files keep', async () => {
+    const unitsOf = async (file: string, l: Hdf5Layout, sampleRate: number | null = null) => (await reduceRecording({ recording: file, path: fixture('formats', file), group: 'rig', format: null, sampleRate, layout: null, reader: { hdf5: l }, labels: {}, durationS: null, spec: { statistics: {} }, chunkFrames: 300, channels: null })).rows.map((row) => row.unit);
+    // float64 datasets (h5py), and int16 codes, normalised to full scale.
+    expect(await unitsOf('per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b', '/ch/c'] }), 1000)).toEqual(['stored', 'stored', 'stored']);
+    expect(await unitsOf('named.h5', layout({ datasets: ['/rig/strain'], channel_axis: 1, sample_rate_attribute: 'fs' }))).toEqual(['FS', 'FS', 'FS']);
+  });
+
   it('reads one dataset a channel, each naming its channel in its own attribute, as h5py reads them', async () => {
     const rec = await expectFixture('named-per-channel.h5', layout({ datasets: ['/ch/a', '/ch/b'], channel_names_attribute: 'name' }), 400);
     expect(rec.channelNames).toEqual(formatFixture('named-per-channel.h5').channel_names);

@@ -19,7 +19,9 @@ const selected = (only: { names?: string[]; quantities?: string[] } | undefined,
 /** The declared channels in file order, or names and stored units from the file itself. */
 function resolveChannels(job: RecordingJob, rec: Recording): { decl: ChannelDeclaration; index: number }[] {
   if (!job.channels) {
-    const storedUnit = rec.normalised || rec.format !== 'csv' ? 'FS' : 'stored';
+    // Integer codes are normalised to full scale, and audio files keep floats on that scale by convention; other floats (CSV,
+    // HDF5, MAT, raw) are the numbers as stored, in whatever unit the writer meant.
+    const storedUnit = rec.normalised || rec.format === 'wav' || rec.format === 'flac' ? 'FS' : 'stored';
     return Array.from({ length: rec.channelCount }, (_, i) => ({
       index: i,
       decl: { name: rec.channelNames?.[i] ?? `ch${i + 1}`, quantity: 'unknown', unit: storedUnit, scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null },
