@@ -3,7 +3,7 @@
 // value. Each filter's deviation from the analytic weighting at this sample rate is reported, and noted where it leaves the class 1 limits.
 import { LEVEL_UNIT, levelDb, P0_PA } from './sound-pressure.js';
 import type { StageDefinition } from './stage.js';
-import { weightedSoundOf } from './weighted-sound.js';
+import { START_S, weightedSoundOf } from './weighted-sound.js';
 
 const EMPTY = { lafmax: null, lasmax: null, lcpeak: null, a_filter_deviation_db: null, c_filter_deviation_db: null };
 
@@ -28,7 +28,7 @@ export const soundMaxima: StageDefinition<Record<string, never>> = {
       finish() {
         const w = weighted.figures();
         if (!w) return { ...EMPTY };
-        if (w.missing) ctx.note(`${ctx.name}: ${w.missing} missing samples entered the weighting filters as 0 Pa`);
+        if (w.missing) ctx.note(`${ctx.name}: ${w.missing} missing samples: the weighting filters held the last value through each gap, and the levels leave out the gaps and the filters' settling after each (${START_S} s)`);
         return {
           lafmax: levelDb(w.fastMax), lasmax: levelDb(w.slowMax), lcpeak: w.peakC > 0 ? 20 * Math.log10(w.peakC / P0_PA) : null,
           a_filter_deviation_db: design.a.deviationDb, c_filter_deviation_db: design.c.deviationDb,

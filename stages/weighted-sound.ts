@@ -66,15 +66,31 @@ export function filterAfter(sos: Section[], past: Float64Array): SosFilter {
   return filter;
 }
 
-/** Missing samples as 0 into `out`; returns how many there were. */
-function finiteInto(x: Float64Array, out: Float64Array): number {
+/**
+ * Missing samples held at the last finite value into `out` (the first finite one for a leading gap, 0 for a chunk with none),
+ * and marked in `gone`, the samples `settle` after each gap's end as well: the filters' response to the step a gap's end
+ * brings is no sound. Returns how many were missing and how many samples of settling are still to mark.
+ */
+export function heldInto(x: Float64Array, out: Float64Array, gone: Uint8Array, last: number, settleLeft: number, settle: number): { missing: number; last: number; settleLeft: number } {
   let missing = 0;
-  for (let i = 0; i < x.length; i++) { const v = x[i]; if (Number.isFinite(v)) out[i] = v; else { out[i] = 0; missing++; } }
-  return missing;
+  if (Number.isNaN(last)) { for (let i = 0; i < x.length; i++) if (Number.isFinite(x[i])) { last = x[i]; break; } if (Number.isNaN(last)) last = 0; }
+  for (let i = 0; i < x.length; i++) {
+    const v = x[i];
+    if (Number.isFinite(v)) {
+      out[i] = last = v;
+      gone[i] = settleLeft > 0 ? 1 : 0;
+      if (settleLeft > 0) settleLeft--;
+    } else { out[i] = last; gone[i] = 1; missing++; settleLeft = settle; }
+  }
+  return { missing, last, settleLeft };
 }
 
 const sumOfSquares = (y: Float64Array) => { let s = 0; for (let i = 0; i < y.length; i++) s += y[i] * y[i]; return s; };
 const peakOf = (y: Float64Array, peak: number) => { for (let i = 0; i < y.length; i++) { const v = Math.abs(y[i]); if (v > peak) peak = v; } return peak; };
+// The same over the samples `gone` does not mark.
+const keptSumOfSquares = (y: Float64Array, gone: Uint8Array) => { let s = 0; for (let i = 0; i < y.length; i++) if (!gone[i]) s += y[i] * y[i]; return s; };
+const keptPeakOf = (y: Float64Array, gone: Uint8Array, peak: number) => { for (let i = 0; i < y.length; i++) { const v = Math.abs(y[i]); if (!gone[i] && v > peak) peak = v; } return peak; };
+const keptCount = (gone: Uint8Array) => { let k = 0; for (let i = 0; i < gone.length; i++) k += gone[i] ? 0 : 1; return k; };
 const scaled = (y: Float64Array, k: number) => { for (let i = 0; i < y.length; i++) y[i] *= k; };
 
 /** The channel's weighted sound pressure, made on first request and fed each chunk once. */
@@ -87,21 +103,25 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
     const fast = new ExponentialMeanSquare(FAST_S, ctx.sampleRate), slow = new ExponentialMeanSquare(SLOW_S, ctx.sampleRate);
     let aFilter: SosFilter | null = null, cFilter: SosFilter | null = null;
     let filled = 0, count = 0, missing = 0, sumA = 0, sumC = 0, peakC = 0;
-    let x = new Float64Array(0), y = new Float64Array(0);
+    let x = new Float64Array(0), y = new Float64Array(0), marks = new Uint8Array(0), startMarks = new Uint8Array(startLength);
+    // Gaps: the value held into the filters, and the samples after the last gap whose output is still the filters' settling.
+    let last = NaN, settleLeft = 0, anyGone = false;
+    const settle = startLength;
 
-    const feed = (chunk: Float64Array) => {
+    // `gone` marks samples whose output counts in no figure: missing ones, and the filters' settling after a gap.
+    const feed = (chunk: Float64Array, gone: Uint8Array | null) => {
       if (chunk.length === 0) return;
       if (y.length < chunk.length) y = new Float64Array(chunk.length);
       const out = y.subarray(0, chunk.length);
       aFilter!.process(chunk, out);
       scaled(out, pa);
-      fast.push(out); slow.push(out);
-      sumA += sumOfSquares(out);
+      if (gone) { fast.pushKept(out, gone); slow.pushKept(out, gone); } else { fast.push(out); slow.push(out); }
+      sumA += gone ? keptSumOfSquares(out, gone) : sumOfSquares(out);
       cFilter!.process(chunk, out);
       scaled(out, pa);
-      sumC += sumOfSquares(out);
-      peakC = peakOf(out, peakC);
-      count += chunk.length;
+      sumC += gone ? keptSumOfSquares(out, gone) : sumOfSquares(out);
+      peakC = gone ? keptPeakOf(out, gone, peakC) : peakOf(out, peakC);
+      count += gone ? keptCount(gone) : chunk.length;
     };
     // Once the first stretch is in (or the recording ends before it is), the filters run over its predicted past, then over it.
     const begin = () => {
@@ -109,25 +129,30 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
       const past = backwardExtension(start.subarray(0, filled), startLength);
       aFilter = filterAfter(design.a.sos, past);
       cFilter = filterAfter(design.c.sos, past);
-      feed(start.subarray(0, filled));
+      feed(start.subarray(0, filled), anyGone ? startMarks.subarray(0, filled) : null);
     };
 
     return {
       design,
       push(chunk) {
         if ('error' in design || chunk.length === 0) return;
-        if (x.length < chunk.length) x = new Float64Array(chunk.length);
-        const v = x.subarray(0, chunk.length);
-        // A missing sample would poison the filters' state for the rest of the recording: it enters them as 0.
-        missing += finiteInto(chunk, v);
+        if (x.length < chunk.length) { x = new Float64Array(chunk.length); marks = new Uint8Array(chunk.length); }
+        const v = x.subarray(0, chunk.length), gone = marks.subarray(0, chunk.length);
+        // A missing sample would poison the filters' state for the rest of the recording: the last finite value is held
+        // through a gap, and what the filters give there and while they settle after it counts in no figure.
+        const held = heldInto(chunk, v, gone, last, settleLeft, settle);
+        const marked = held.missing > 0 || settleLeft > 0;
+        missing += held.missing; last = held.last; settleLeft = held.settleLeft;
         let from = 0;
         if (!aFilter) {
           from = Math.min(v.length, startLength - filled);
           start.set(v.subarray(0, from), filled);
+          startMarks.set(gone.subarray(0, from), filled);
+          anyGone ||= marked;
           filled += from;
           if (filled === startLength) begin();
         }
-        if (aFilter && from < v.length) feed(v.subarray(from));
+        if (aFilter && from < v.length) feed(v.subarray(from), marked ? gone.subarray(from) : null);
       },
       finish: () => ({}),
       figures() {

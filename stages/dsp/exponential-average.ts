@@ -13,4 +13,12 @@ export class ExponentialMeanSquare {
     for (let i = 0; i < x.length; i++) { v += a * (x[i] * x[i] - v); if (v > m) m = v; }
     this.value = v; this.max = m;
   }
+
+  /** The same, skipping the samples `gone` marks: the average holds through them, as if they were not there. */
+  pushKept(x: Float64Array, gone: Uint8Array): void {
+    const a = this.alpha;
+    let v = this.value, m = this.max;
+    for (let i = 0; i < x.length; i++) { if (gone[i]) continue; v += a * (x[i] * x[i] - v); if (v > m) m = v; }
+    this.value = v; this.max = m;
+  }
 }
