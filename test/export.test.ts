@@ -1,6 +1,6 @@
 // Spreadsheet exports: RFC 4180 CSV read back by a strict parser, XLSX read back by a second, independent reader (SheetJS),
 // numbers equal to the Parquet values (read by DuckDB), and formula injection neutralised. LibreOffice's reading is in test/system/.
-import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { parse } from 'csv-parse/sync';
@@ -54,6 +54,18 @@ describe('exports of the sample archive', () => {
     expect(compared).toBeGreaterThan(1000);
     // Column order is the table's own, and stable.
     expect(header.slice(0, 5)).toEqual(['recording', 'group', 'channel', 'quantity', 'unit']);
+  });
+
+  it('leaves no CSV of a table the latest export did not write: trends turned off and no --wide remove trends.csv and features-wide.csv', () => {
+    const archive = sampleArchiveCopy(), here = join(archive, '..', 'out-stale');
+    expect(quern('reduce', archive, '--out', here, '--quiet', '--export', 'csv', '--wide').code).toBe(1);
+    for (const f of ['trends.csv', 'features-wide.csv', 'features.csv']) expect(existsSync(join(here, f)), f).toBe(true);
+    const spec = join(archive, '..', 'no-trends.yaml');
+    writeFileSync(spec, 'statistics: {}\n');
+    expect(quern('reduce', archive, '--out', here, '--quiet', '--spec', spec, '--export', 'csv').code).toBe(1);
+    expect(existsSync(join(here, 'trends.parquet'))).toBe(false);
+    for (const f of ['trends.csv', 'features-wide.csv', 'spectra.csv']) expect(existsSync(join(here, f)), f).toBe(false);
+    expect(existsSync(join(here, 'features.csv'))).toBe(true);
   });
 
   it('names every CSV column\'s unit in one pair of brackets, the trends\' values in their feature\'s unit', () => {

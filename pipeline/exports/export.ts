@@ -1,6 +1,6 @@
 // quern export: spreadsheet-ready copies of a reduced folder's tables, beside them: CSV per table and one XLSX workbook.
 import { existsSync } from 'node:fs';
-import { readFile } from 'node:fs/promises';
+import { readFile, rm } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import { toCsv, type CsvOptions } from './csv.js';
@@ -46,6 +46,9 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
       await writeFileAtomic(path, toCsv(t, o));
       written.push(path);
     }
+    // A CSV of a table this export does not write (trends turned off in the spec since, no --wide this time) would be read as current.
+    const now = new Set(tables.map((t) => t.name));
+    for (const [name, file] of Object.entries(CSV_FILES)) if (!now.has(name)) await rm(join(root, file), { force: true });
   }
   if (o.to.includes('xlsx')) {
     const facts: [string, string][] = [
