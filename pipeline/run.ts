@@ -89,7 +89,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec));
     trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
-    lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
+    lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${o.force ? ' --force' : ''}${o.since != null ? ` --since ${new Date(o.since).toISOString()}` : ''}${o.until != null ? ` --until ${new Date(o.until).toISOString()}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
   } catch (e) {
     await pool.destroy();
     storage.stop();
