@@ -231,6 +231,9 @@ describe('quern check and quern peek', () => {
     expect(r.stdout).toMatch(/duration\s+20\.000 s \(10000 frames\)/);
     expect(r.stdout).toMatch(/declared by .*group "frame-strain"/);
     expect(r.stdout).toMatch(/strain_a\s+µm\/m/);
+    // An option given replaces the group's own setting, and the header says which.
+    const given = quern('peek', join(archive, 'strain', '2026-11-17_frame-strain.bin'), '--sample-rate', '1000');
+    expect(given.stdout).toMatch(/declared by .*group "frame-strain"\), with the sample rate from the command line instead of the group's/);
   });
 
   it('peek works on a bare file in stored units', () => {

@@ -60,7 +60,9 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
     if (g) {
       // What peek's options give wins over what the group declares.
       const given: ReaderOptions = Object.fromEntries(Object.entries({ hdf5, mat, flac }).filter(([, v]) => v != null));
-      declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")`;
+      // Said, since an option replaces the group's whole section (its start time or names among it), not only the keys given.
+      const fromOptions = [...Object.keys(given).map((k) => `the ${k} section`), ...(format != null ? ['the format'] : []), ...(sampleRate != null ? ['the sample rate'] : []), ...(layout != null ? ['the layout'] : [])];
+      declaredBy = `${join(root, ARCHIVE_FILE)} (group "${g.name}")${fromOptions.length ? `, with ${fromOptions.join(', ')} from the command line instead of the group's` : ''}`;
       job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { ...readerOptionsOf(g), ...given, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
