@@ -60,7 +60,10 @@ function histogramSpec(h: Evidence['histogram'], unit: string): TopLevelSpec {
 }
 
 function spectrumSpec(s: NonNullable<Evidence['spectrum']>, unit: string): TopLevelSpec {
-  const floor = Math.max(1e-30, Math.min(...s.density.filter((d) => d > 0)));
+  // A loop, not Math.min(...): a spectrum of a long segment has more bins than one call takes arguments.
+  let floor = Infinity;
+  for (const d of s.density) if (d > 0 && d < floor) floor = d;
+  floor = Math.max(1e-30, floor);
   const points = s.density.map((d, k) => ({ f: k * s.df, d: Math.max(d, floor) })).filter((p) => p.f > 0);
   const rules = [{ f: s.nyquist, what: 'Nyquist' }, ...(s.maxFrequencyHz ? [{ f: s.maxFrequencyHz, what: 'declared highest' }] : [])];
   return {

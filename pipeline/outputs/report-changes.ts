@@ -32,7 +32,9 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
   // The scale follows the usable recordings, the band and the limits; a recording whose data fail the checks sits at its edge.
   const usableValues = t.points.filter((p) => p.usable).map((p) => p.value);
   const span = [...(usableValues.length ? usableValues : t.points.map((p) => p.value)), ...(t.band ?? []), ...Object.values(t.limits ?? {}) as number[]];
-  const lo = Math.min(...span), hi = Math.max(...span), pad = 0.08 * (hi - lo || Math.abs(hi) || 1);
+  let lo = Infinity, hi = -Infinity;
+  for (const v of span) { if (v < lo) lo = v; if (v > hi) hi = v; }
+  const pad = 0.08 * (hi - lo || Math.abs(hi) || 1);
   const domain = [lo - pad, hi + pad];
   const clamp = (v: number) => Math.min(domain[1], Math.max(domain[0], v));
   const points = t.points.map((p) => ({
@@ -90,7 +92,9 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
     const label = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
     return Array.from(s.density, (d, k) => ({ night: label, f0: k * s.df, f1: (k + 1) * s.df, level: 10 * Math.log10(Math.max(d, 1e-30)) }));
   });
-  const floor = Math.max(...cells.map((c) => c.level)) - 80; // 80 dB of colour: quieter bins share the palest shade
+  let loudest = -Infinity;
+  for (const c of cells) if (c.level > loudest) loudest = c.level;
+  const floor = loudest - 80; // 80 dB of colour: quieter bins share the palest shade
   return {
     ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', fontSize: 12 },
     data: { values: cells.map((c) => ({ ...c, level: Math.max(c.level, floor) })) },

@@ -27,7 +27,8 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
   const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
   result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
-  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (result.tables[table] ??= []).push(...rows);
+  // Row by row: a table may hold hundreds of thousands of rows (an unbinned rainflow), more than one call's arguments may.
+  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) { const to = (result.tables[table] ??= []); for (const row of rows) to.push(row); }
   const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
   result.rows = base.channels.map((ch, c) => {
     const flags = o.groups.quality?.flags[c] ?? [];
