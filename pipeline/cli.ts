@@ -30,8 +30,9 @@ const EXIT_ON_WORDS = ['changed', 'alarm', 'quiet'] as const;
 type ExitOn = Set<(typeof EXIT_ON_WORDS)[number]>;
 
 /** --exit-on's words; an unknown one is a usage error naming the ones there are. */
-function parseExitOn(text: string | undefined): ExitOn {
-  const words = (text ?? '').split(',').map((w) => w.trim()).filter(Boolean);
+function parseExitOn(text: string | string[] | undefined): ExitOn {
+  // Given more than once (--exit-on changed --exit-on quiet), the words of each count.
+  const words = [text ?? ''].flat().join(',').split(',').map((w) => w.trim()).filter(Boolean);
   const unknown = words.filter((w) => !(EXIT_ON_WORDS as readonly string[]).includes(w));
   if (unknown.length || (text != null && !words.length)) throw new UsageError(`--exit-on: "${text}" is not ${EXIT_ON_WORDS.join(', ')} or a comma list of them (alarm,quiet)`);
   return new Set(words) as ExitOn;
@@ -104,7 +105,17 @@ export function joinSignedValues(argv: string[]): string[] {
 }
 
 /** An option's value parsed, its error naming the option and the value as given. */
+/** Refuses an option of one value given more than once (the parser makes a list of it), naming it. */
+function givenOnce(a: Record<string, unknown>, options: string[]): void {
+  for (const option of options) {
+    const value = a[option.replace(/-(\w)/g, (_, c: string) => c.toUpperCase())];
+    if (Array.isArray(value)) throw new UsageError(`--${option} is given ${value.length} times (${value.join(', ')}); give it once`);
+  }
+}
+
 function optionValue<T>(option: string, text: string, parse: (text: string) => T): T {
+  // The command line's parser makes a list of an option given twice: which one was meant is not for quern to guess.
+  if (Array.isArray(text)) throw new UsageError(`--${option} is given ${text.length} times (${text.join(', ')}); give it once`);
   try {
     return parse(text);
   } catch (e) {
@@ -138,6 +149,7 @@ async function main(argv: string[]): Promise<number> {
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      givenOnce(a, ['out', 'spec', 'jobs', 'shard', 'log', 'export']);
       const exports = a.export ? await exporting() : null;
       const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
       let shard = null, since = null, until = null, staleLockAfterMs = 0;
@@ -185,6 +197,7 @@ async function main(argv: string[]): Promise<number> {
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      givenOnce(a, ['jobs', 'export']);
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const exitOn = parseExitOn(a.exitOn);
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);

@@ -33,6 +33,19 @@ describe('period edges', () => {
     expect(empty.stderr).toMatch(/no recording could be selected; give a later --until \(the period ends before the instant it names\)/);
   });
 
+  it('an option of one value given twice is refused naming it; --exit-on given twice takes the words of both', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const twice = quern('reduce', archive, '--out', out, '--since', '1d', '--since', '2d', '--quiet');
+    expect(twice.code).toBe(2);
+    expect(twice.stderr).toMatch(/--since is given 2 times \(1d, 2d\); give it once/);
+    const outs = quern('reduce', archive, '--out', out, '--out', `${out}-2`, '--quiet');
+    expect(outs.code).toBe(2);
+    expect(outs.stderr).toMatch(/--out is given 2 times/);
+    const both = quern('reduce', archive, '--out', out, '--exit-on', 'alarm', '--exit-on', 'changed', '--quiet');
+    expect(both.stderr).not.toMatch(/unexpected error/);
+    expect(both.code).toBe(3); // the sample archive's planted changes
+  });
+
   it('a negative, malformed or empty period names the option and the accepted forms, not flags the parser cannot place', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
     const cases: [string[], RegExp][] = [
