@@ -105,6 +105,12 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
           return { ...EMPTY };
         }
         const f = describe(filtered.moments()), e = describe(env.moments());
+        // A low-pass or band-stop filter keeps content down to DC, and a block's analytic signal is the envelope only of a
+        // band-limited signal (demodulation follows a band-pass or high-pass filter, common practice): its envelope is not given.
+        if (o.filter.kind === 'lowpass' || o.filter.kind === 'bandstop') {
+          ctx.note(`${ctx.name}: an envelope is taken of a band-limited signal, after a band-pass or high-pass filter; a ${o.filter.kind} filter keeps content down to DC, so the envelope figures are left empty and filtered_rms stands alone`);
+          return { ...EMPTY, filtered_rms: f.rms };
+        }
         const psd = envSpectrum.result();
         return {
           filtered_rms: f.rms, env_mean: e.mean, env_rms: e.rms, env_peak: e.max,
