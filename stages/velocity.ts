@@ -35,9 +35,23 @@ export const velocity: StageDefinition<VelocityOptions> = {
           // DC carries no velocity; every other bin is divided by (2πf)².
           const ms = bandMeanSquare(psd, lo, hi, velocityPerAcceleration);
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
+          const near = nearLowEdge(psd.df, lo, hi, ms, (a, b) => bandMeanSquare(psd, a, b, velocityPerAcceleration));
+          if (near != null) ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz: ${Math.round(near * 100)} % of its velocity lies within two spectrum bins (${psd.df.toPrecision(3)} Hz each) of its lower edge, where the window's leakage, weighted by 1/(2πf)², makes it uncertain by tens of per cent; choose a spectrum segment long enough for bins of ${(lo / 10).toPrecision(2)} Hz or less`);
         }
         return out;
       },
     };
   },
 };
+
+/**
+ * The share of a band's velocity within two bins of its lower edge, when it is large (over 10 %) and the edge lies within
+ * ten bins of DC; else null. There a Hann window's main lobe (four bins wide) spreads a tone across the edge and the
+ * 1/(2πf)² weight magnifies the lower bins, so a tone near the edge reads tens of per cent off (measured against the
+ * tone's A/(2πf·√2); the thresholds are our choice).
+ */
+export function nearLowEdge(df: number, lo: number, hi: number, total: number, meanSquare: (a: number, b: number) => number): number | null {
+  if (!(total > 0) || lo >= 10 * df) return null;
+  const share = meanSquare(lo, Math.min(hi, lo + 2 * df)) / total;
+  return share > 0.1 ? share : null;
+}
