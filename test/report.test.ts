@@ -82,8 +82,10 @@ describe('quality report of the sample archive', () => {
       expect(shown.sort()).toEqual(notOk.sort());
       // Notes are listed apart, without pictures.
       expect(await page.locator('table.notes tr').count()).toBe(1 + quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'note')).length);
-      // Three pictures (histogram, spectrum, trend) drawn as SVG for each.
-      expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length);
+      // Three pictures (histogram, spectrum, trend) for each, drawn as SVG; the disconnected transducer's constant signal
+      // has no spectrum, which is said in the spectrum's place.
+      expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length - 1);
+      expect(await page.locator('section.channel[data-channel="pressure"] .charts .no-chart').textContent()).toMatch(/constant signal has no spectrum/);
       expect(await page.locator('text=not readable').count()).toBe(1);
       mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
       // The data-quality part follows what changed: pictured from its first heading.
