@@ -4,6 +4,8 @@ import { compile, type TopLevelSpec } from 'vega-lite';
 import type { Evidence } from '../../stages/quality/evidence.js';
 
 import { COLOURS } from './colours.js';
+import { AXIS_LABELS } from './plain-number.js';
+import { densityUnit } from './density-unit.js';
 
 export { COLOURS };
 
@@ -45,7 +47,7 @@ function parsedOnce(shape: string): vega.Runtime {
   return runtime;
 }
 
-const base = { width: 300, height: 150, config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, view: { stroke: '#ccc' } } } as const;
+const base = { width: 300, height: 150, config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, axisQuantitative: { labelExpr: AXIS_LABELS }, view: { stroke: '#ccc' } } } as const;
 
 function histogramSpec(h: Evidence['histogram'], unit: string): TopLevelSpec {
   const bars = h.counts.map((count, i) => ({ from: h.edges[i], to: h.edges[i + 1], count }));
@@ -69,7 +71,7 @@ function spectrumSpec(s: NonNullable<Evidence['spectrum']>, unit: string): TopLe
   return {
     ...base, title: { text: 'Power spectral density', fontSize: 12 },
     layer: [
-      { data: { values: points }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' } } } },
+      { data: { values: points }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' } } } },
       { data: { values: rules }, mark: { type: 'rule', strokeDash: [4, 3], strokeWidth: 1.5 }, encoding: { x: { field: 'f', type: 'quantitative' }, color: { field: 'what', type: 'nominal', scale: { domain: ['Nyquist', 'declared highest'], range: [COLOURS.fail, COLOURS.warn] }, legend: { orient: 'bottom', title: null } } } },
     ],
   };
