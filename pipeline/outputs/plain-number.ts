@@ -9,5 +9,5 @@ export function plainNumber(v: number, digits = 4): string {
   return a >= 1e-3 && a < 1e6 ? String(Number(v.toPrecision(digits))) : v.toExponential(digits - 1).replace(/\.?0+e/, 'e');
 }
 
-/** The same rule for Vega's axis labels: its own label inside the plain range, a power of ten outside it. */
-export const AXIS_LABELS = 'datum.value != 0 && (abs(datum.value) < 1e-3 || abs(datum.value) >= 1e6) ? format(datum.value, \'.3~e\') : datum.label';
+/** The same rule for Vega's axis labels: its own label inside the plain range, a power of ten outside it (a label a log axis leaves blank stays blank). */
+export const AXIS_LABELS = 'datum.label && datum.value != 0 && (abs(datum.value) < 1e-3 || abs(datum.value) >= 1e6) ? format(datum.value, \'.3~e\') : datum.label';
