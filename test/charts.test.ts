@@ -4,6 +4,9 @@ import * as vega from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
 import { describe, expect, it } from 'vitest';
 import { evidenceSpecs, svg } from '../pipeline/outputs/charts.js';
+import { densityUnit } from '../pipeline/outputs/density-unit.js';
+import { flagValue } from '../pipeline/outputs/flag-value.js';
+import { plainNumber } from '../pipeline/outputs/plain-number.js';
 import { packEvidence, unpackEvidence, type Evidence, type PackedEvidence } from '../stages/quality/evidence.js';
 import { decodeResults, encodeRecord, recordBody, type EntryFacts, type EntryResults } from '../pipeline/store/record.js';
 
@@ -38,5 +41,31 @@ describe('the report\'s pictures', () => {
     back.spectrum!.density.forEach((d, k) => expect(Math.abs(d - ev.spectrum!.density[k])).toBeLessThanOrEqual(Math.abs(ev.spectrum!.density[k]) * 2 ** -23));
     back.trend.rms.forEach((r, i) => expect(Math.abs(r - ev.trend.rms[i])).toBeLessThanOrEqual(r * 2 ** -23));
     expect(back.histogram.fullScale).toEqual([-5, 5]);
+  });
+});
+
+describe('the report\'s units and numbers', () => {
+  it('squares a compound unit whole: (m/s^2)²/Hz, as a unit raised to a power is bracketed when compound (SI Brochure, 9th ed., 5.4.6; from memory)', () => {
+    expect(densityUnit('m/s^2')).toBe('(m/s^2)²/Hz');
+    expect(densityUnit('µm/m')).toBe('(µm/m)²/Hz');
+    expect(densityUnit('Pa')).toBe('Pa²/Hz');
+    expect(densityUnit('N')).toBe('N²/Hz');
+  });
+
+  it('writes numbers in one notation: plain from 0.001 to 10⁶, a power of ten outside, as d3-format\'s "e" (the charts\' labels), no signed zero', () => {
+    expect(plainNumber(0.25)).toBe('0.25');
+    expect(plainNumber(1234.5678)).toBe('1235');
+    expect(plainNumber(4e-9)).toBe('4e-9');
+    expect(plainNumber(1.5e-7)).toBe('1.5e-7');
+    expect(plainNumber(2.5e7)).toBe('2.5e+7');
+    expect(plainNumber(-0)).toBe('0');
+  });
+
+  it('gives a flag\'s value in its threshold\'s terms: a fraction in per cent (×100, common practice), a run in seconds, a count of samples', () => {
+    expect(flagValue({ name: 'saturation', value: 9.766e-5 })).toBe('0.009766 % of samples at the limits');
+    expect(flagValue({ name: 'dropout', value: 0.25 })).toBe('25 % of samples missing');
+    expect(flagValue({ name: 'flatline', value: 4 })).toBe('longest constant stretch 4 s');
+    expect(flagValue({ name: 'spikes', value: 1 })).toBe('1 sample');
+    expect(flagValue({ name: 'resolution', value: null })).toBe('—');
   });
 });

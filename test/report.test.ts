@@ -82,9 +82,19 @@ describe('quality report of the sample archive', () => {
       expect(shown.sort()).toEqual(notOk.sort());
       // Notes are listed apart, without pictures.
       expect(await page.locator('table.notes tr').count()).toBe(1 + quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'note')).length);
-      // Three pictures (histogram, spectrum, trend) drawn as SVG for each.
-      expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length);
+      // Three pictures (histogram, spectrum, trend) for each, drawn as SVG; the disconnected transducer's constant signal
+      // has no spectrum, which is said in the spectrum's place.
+      expect(await page.locator('section.channel .charts svg').count()).toBe(3 * notOk.length - 1);
+      expect(await page.locator('section.channel[data-channel="pressure"] .charts .no-chart').textContent()).toMatch(/constant signal has no spectrum/);
       expect(await page.locator('text=not readable').count()).toBe(1);
+      // The clipped channel's value is its share of samples in per cent, beside a threshold in per cent (fraction × 100).
+      const sat = quality.recordings.find((r: any) => r.recording === 'nightly/2026-11-19/pump-endurance.wav').channels.find((c: any) => c.channel === 'acc_de').flags.find((f: any) => f.name === 'saturation');
+      const satRow = page.locator('section.channel[data-channel="acc_de"][data-severity="fail"] tr', { hasText: 'saturation' }).first();
+      expect(await satRow.locator('td').nth(2).textContent()).toBe(`${Number((sat.value * 100).toPrecision(4))} % of samples at the limits`);
+      expect(await satRow.locator('td').nth(3).textContent()).toMatch(/ %/);
+      // One unreadable recording and one unmatched file, each in the singular.
+      expect(await page.locator('.tile', { hasText: 'unreadable' }).textContent()).toBe('1recording unreadable');
+      expect(await page.locator('.tile', { hasText: 'unmatched' }).textContent()).toBe('1file unmatched');
       mkdirSync(join(repo, 'test', 'artifacts'), { recursive: true });
       // The data-quality part follows what changed: pictured from its first heading.
       await page.locator('h2', { hasText: 'Data quality' }).evaluate((h) => h.scrollIntoView({ block: 'start' }));

@@ -67,7 +67,7 @@ export const failLines = (r: QualityRecording): string[] =>
 /** The terminal's quality lines: counts by severity, then the failed channels with their messages. */
 export function qualitySummary(q: QualitySummary): string[] {
   const t = q.totals.channels;
-  const lines = [`  quality: ${t.fail} channels fail, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...q.failLines];
+  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...q.failLines];
   if (q.failCount > q.failLines.length) lines.push(`  …       and ${q.failCount - q.failLines.length} more failed flags: see quality.json`);
   return lines;
 }

@@ -6,6 +6,8 @@ import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures
 import { thinBins } from '../trends/pictures.js';
 import { changeLine } from '../trends/summary.js';
 import { COLOURS } from './colours.js';
+import { AXIS_LABELS, plainNumber } from './plain-number.js';
+import { densityUnit } from './density-unit.js';
 
 // Verdict colours from the report's palette; a recording without a verdict (baseline forming, data unusable) in grey.
 const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
@@ -15,12 +17,17 @@ const LEVEL_RANGE = ['#f3efe4', '#a9cbbf', '#2c6e63', '#b7791f', '#a23b2a'];
 const SPECTROGRAM_BINS = 80;
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
-const num = (v: number | null) => (v == null ? '—' : Number(v.toPrecision(4)).toString());
-const signed = (v: number | null, digits = 1) => (v == null ? '—' : `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(digits)}`);
+const num = (v: number | null) => (v == null ? '—' : plainNumber(v));
+// A value that rounds to zero carries no sign.
+const signed = (v: number | null, digits = 1) => {
+  if (v == null) return '—';
+  const text = Math.abs(v).toFixed(digits);
+  return Number(text) === 0 ? text : `${v > 0 ? '+' : '−'}${text}`;
+};
 const day = (t: string | null, recording: string) => (t ? t.slice(0, 16).replace('T', ' ') : recording);
 const positive = (d: number) => (d > 0 ? d : null);
 
-const base = { config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, view: { stroke: '#ccc' }, legend: { labelFontSize: 10, titleFontSize: 10 } } } as const;
+const base = { config: { font: 'Helvetica, Arial, sans-serif', axis: { labelFontSize: 10, titleFontSize: 11 }, axisQuantitative: { labelExpr: AXIS_LABELS }, view: { stroke: '#ccc' }, legend: { labelFontSize: 10, titleFontSize: 10 } } } as const;
 
 /** Time axis: dates for histories of up to two months, Vega's own choice beyond. */
 function timeAxis(points: { t: number }[]) {
@@ -80,7 +87,7 @@ function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string,
     data: { values },
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
-      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: `${unit}²/Hz`, scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
+      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
       color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
     },
   };
@@ -102,7 +109,7 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
     encoding: {
       x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
       y: { field: 'f0', type: 'quantitative', title: 'Hz' }, y2: { field: 'f1' },
-      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${unit}²/Hz`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
+      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
     },
   };
 }

@@ -3,13 +3,13 @@
 // drawn where the channel was reduced (pipeline/outputs/charts.ts).
 import { quietWhy, type QuietGroup } from '../select/select.js';
 import { COLOURS } from './colours.js';
+import { flagValue } from './flag-value.js';
 import { NEEDS_A_LOOK, SEVERITIES, type Flag, type Severity } from '../../stages/quality/flag.js';
 import type { QualityChannel, QualityRecording, QualityTotals } from './quality.js';
 
 const LABEL: Record<Severity, string> = { ok: 'ok', note: 'note', warn: 'check', fail: 'unusable' };
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
-const num = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(4)) : v == null ? '—' : String(v));
 export const channelId = (recording: string, channel: string) => `ch-${Buffer.from(`${recording}\u0000${channel}`).toString('base64url')}`;
 
 /** Channels pictured at most, unusable ones first; every flag of every channel is in quality.json. */
@@ -58,8 +58,8 @@ p.steady { background: #fff; border-left: 6px solid ${COLOURS.ok}; padding: 8px 
 <div class="tile" style="border-color:${COLOURS.warn}"><b>${t.channels.warn}</b>channels to check</div>
 <div class="tile" style="border-color:${COLOURS.note}"><b>${t.channels.note}</b>channels with notes</div>
 <div class="tile" style="border-color:${COLOURS.ok}"><b>${t.channels.ok}</b>channels ok</div>
-<div class="tile" style="border-color:#1f2933"><b>${t.recordings.unreadable}</b>recordings unreadable</div>
-<div class="tile" style="border-color:#7b8794"><b>${t.recordings.unmatched}</b>files unmatched</div></div>
+<div class="tile" style="border-color:#1f2933"><b>${t.recordings.unreadable}</b>${t.recordings.unreadable === 1 ? 'recording' : 'recordings'} unreadable</div>
+<div class="tile" style="border-color:#7b8794"><b>${t.recordings.unmatched}</b>${t.recordings.unmatched === 1 ? 'file' : 'files'} unmatched</div></div>
 <p class="note">“unusable”: do not use this channel's figures; “check”: a figure may be off by more than about 5 %, named in its message; “note”: worth knowing, no figure at risk beyond that. The numbers support, and do not replace, engineering judgement.</p>`);
   return out.join('\n');
 }
@@ -76,14 +76,14 @@ export function overviewLine(r: OverviewRow, channelNames: string[]): string {
   }).join('')}</tr>`;
 }
 
-export const sectionsHead = (notOk: number) => ['</table>', '<h2>Channels that need a second look</h2>',
+export const sectionsHead = (notOk: number) => ['</table>', '<h2>Channels that need a second look</h2>', ...(notOk === 0 ? ['<p class="steady">None: every channel read is ok or has notes only.</p>'] : []),
   ...(notOk > MAX_PICTURED ? [`<p class="note">${notOk} channels need a second look; pictures are shown for the first ${MAX_PICTURED} (unusable ones first). Every flag of every channel is in quality.json.</p>`] : [])].join('\n');
 
 /** A channel's section up to its pictures: the flags that are not ok, each with value, threshold and message. */
 export const channelSection = (recording: string, c: QualityChannel) => `<section class="channel" id="${channelId(recording, c.channel)}" data-recording="${esc(recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}" style="border-color:${COLOURS[c.severity]}">
 <h3>${badge(c.severity)} ${esc(recording)} · ${esc(c.channel)} <span class="note">(${esc(c.unit)})</span></h3>
 <table><tr><th>flag</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>
-${c.flags.filter((f) => f.severity !== 'ok').sort((a, b) => SEVERITIES.indexOf(b.severity) - SEVERITIES.indexOf(a.severity)).map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(num(f.value))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
+${c.flags.filter((f) => f.severity !== 'ok').sort((a, b) => SEVERITIES.indexOf(b.severity) - SEVERITIES.indexOf(a.severity)).map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(flagValue(f))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
 </table>`;
 
 export const sectionEnd = (charts: string[] | null) => `${charts ? `<div class="charts">${charts.join('')}</div>\n` : ''}</section>`;

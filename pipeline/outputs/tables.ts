@@ -9,9 +9,9 @@ export const WINDOW_TABLE: TableColumn[] = [
   { name: 'unit', type: 'string', nullable: false, unit: '', description: 'Engineering unit of the channel.' },
   { name: 'window_start_s', type: 'float64', nullable: false, unit: 's', description: 'Start of the window from the start of the recording.' },
   { name: 'window_s', type: 'float64', nullable: false, unit: 's', description: 'Window length.' },
-  { name: 'mean', type: 'float64', nullable: false, unit: '[unit]', description: 'Mean over the window.' },
-  { name: 'rms', type: 'float64', nullable: false, unit: '[unit]', description: 'RMS over the window.' },
-  { name: 'peak', type: 'float64', nullable: false, unit: '[unit]', description: 'Largest absolute value in the window.' },
+  { name: 'mean', type: 'float64', nullable: true, unit: '[unit]', description: 'Mean of the window\'s finite samples; null when it has none.' },
+  { name: 'rms', type: 'float64', nullable: true, unit: '[unit]', description: 'RMS of the window\'s finite samples; null when it has none.' },
+  { name: 'peak', type: 'float64', nullable: true, unit: '[unit]', description: 'Largest absolute finite value in the window; null when it has none.' },
   { name: 'speed_rpm', type: 'float64', nullable: true, unit: 'rpm', description: 'Tacho channels: shaft speed over the window, from the good pulse intervals inside it (each counted by the share of it inside); null on other channels.' },
 ];
 

@@ -1,8 +1,9 @@
 // The terminal's lines on what changed: the counts, then the strongest changes, one line each.
+import { plainNumber as num } from '../outputs/plain-number.js';
 import type { ChangeItem, ChangesReport } from './changes.js';
 
-const num = (v: number) => Number(v.toPrecision(4)).toString();
-const signed = (v: number, digits = 1) => `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(digits)}`;
+// A value that rounds to zero carries no sign.
+const signed = (v: number, digits = 1) => { const text = Math.abs(v).toFixed(digits); return Number(text) === 0 ? text : `${v > 0 ? '+' : '−'}${text}`; };
 const day = (t: string | null, recording: string) => (t ? t.slice(0, 10) : recording);
 
 /** "acc_de env_rms 4.845 m/s^2 on 2026-11-21: +18.0 dB on its baseline 0.61 (score +69), since 2026-11-20" */

@@ -1,14 +1,18 @@
 // The pictures' data for the quality report: amplitude histogram, spectrum and RMS trend, kept small whatever the recording length.
-import type { WelchOptions } from '../dsp/welch.js';
+import { FEWEST_SAMPLES, type WelchOptions } from '../dsp/welch.js';
 import { spectrumOf } from '../spectrum.js';
 import { packFloats, unpackFloats, type PackedFloats } from '../spectra.js';
 import type { StageDefinition } from '../stage.js';
-import { finiteWindowsOf } from '../fused/finite-windows.js';
+import { fixedWindowsOf } from '../fused/fixed-windows.js';
 import { histogramOf } from '../fused/histogram.js';
+import { momentsOf } from '../fused/moments.js';
 
 export interface Evidence {
   histogram: { edges: number[]; counts: number[]; range: [number, number] | null; fullScale: [number, number] | null };
   spectrum: { df: number; density: number[]; nyquist: number; maxFrequencyHz: number | null } | null;
+  /** Why there is no spectrum, said in the picture's place (absent from entries stored before it was kept). */
+  noSpectrum?: string;
+  /** RMS of each window at its place in time; NaN for a window without a finite sample. */
   trend: { window_s: number; rms: number[] };
 }
 
@@ -16,10 +20,12 @@ export interface Evidence {
 export interface PackedEvidence {
   histogram: { edges: PackedFloats; counts: PackedFloats; range: [number, number] | null; fullScale: [number, number] | null };
   spectrum: { df: number; density: PackedFloats; nyquist: number; maxFrequencyHz: number | null } | null;
+  noSpectrum?: string;
   trend: { window_s: number; rms: PackedFloats };
 }
 
 export const packEvidence = (e: Evidence): PackedEvidence => ({
+  ...(e.noSpectrum ? { noSpectrum: e.noSpectrum } : {}),
   histogram: { ...e.histogram, edges: packFloats(e.histogram.edges), counts: packFloats(e.histogram.counts) },
   spectrum: e.spectrum && { ...e.spectrum, density: packFloats(e.spectrum.density) },
   trend: { ...e.trend, rms: packFloats(e.trend.rms) },
@@ -27,6 +33,7 @@ export const packEvidence = (e: Evidence): PackedEvidence => ({
 
 const listOf = (packed: PackedFloats) => Array.from(unpackFloats(packed));
 export const unpackEvidence = (p: PackedEvidence): Evidence => ({
+  ...(p.noSpectrum ? { noSpectrum: p.noSpectrum } : {}),
   histogram: { ...p.histogram, edges: listOf(p.histogram.edges), counts: listOf(p.histogram.counts) },
   spectrum: p.spectrum && { ...p.spectrum, density: listOf(p.spectrum.density) },
   trend: { ...p.trend, rms: listOf(p.trend.rms) },
@@ -35,6 +42,23 @@ export const unpackEvidence = (p: PackedEvidence): Evidence => ({
 const BINS = 120;
 const TREND_WINDOW_S = 0.1;
 const MAX_POINTS = 600;
+
+/** The largest finite value, NaN when there is none: a group of windows that all lack samples stays a gap. */
+function finiteMax(xs: number[]): number {
+  let m = NaN;
+  for (const x of xs) if (x - x === 0 && !(x <= m)) m = x;
+  return m;
+}
+
+/** Why a channel has no spectrum to picture: a constant signal, or no segment's worth of samples free of missing ones. */
+export function noSpectrumWhy(hasPsd: boolean, missing: boolean, min: number, max: number, segment: number): string | null {
+  if (hasPsd && min === max) return `No spectrum: the signal is constant (every sample ${Number(min.toPrecision(6))}), and a constant signal has no spectrum.`;
+  if (hasPsd) return null;
+  if (!(min <= max)) return 'No spectrum: the channel holds no finite sample.';
+  return missing
+    ? `No spectrum: no stretch of ${segment} samples free of missing samples, the length of one spectrum segment.`
+    : `No spectrum: fewer than ${FEWEST_SAMPLES} samples.`;
+}
 
 /** Groups consecutive values into at most `max` points with `pick` (mean for densities, max for RMS). */
 function reduceTo(values: ArrayLike<number>, max: number, pick: (xs: number[]) => number): { values: number[]; factor: number } {
@@ -58,7 +82,9 @@ export const evidence: StageDefinition<{ spectrum: WelchOptions }> = {
     const counts = histogram.counts;
     const win = Math.max(1, Math.round(TREND_WINDOW_S * ctx.sampleRate));
     const trend: number[] = [];
-    finiteWindowsOf(ctx, win).listen((_, wsq, wn) => { trend.push(Math.sqrt(wsq / wn)); });
+    // Windows keep their place in time (as in windows.parquet): one without a finite sample is a gap, not skipped.
+    fixedWindowsOf(ctx, win).listen((_, wsq, _peak, _end, finite) => { trend.push(finite > 0 ? Math.sqrt(wsq / finite) : NaN); });
+    const moments = momentsOf(ctx);
     return {
       push() {},
       finish() {
@@ -71,14 +97,18 @@ export const evidence: StageDefinition<{ spectrum: WelchOptions }> = {
           }
           return { edges: Array.from({ length: BINS + 1 }, (_, i) => lo + ((hi - lo) * i) / BINS), counts: Array.from(counts), range: ctx.range, fullScale: ctx.fullScale };
         });
+        ctx.evidence('noSpectrum', () => {
+          const psd = s.psd(), m = moments.moments();
+          return noSpectrumWhy(psd != null, m.nonFinite > 0, m.min, m.max, o.spectrum.segment) ?? undefined;
+        });
         ctx.evidence('spectrum', () => {
-          const psd = s.psd();
-          if (!psd) return null;
+          const psd = s.psd(), m = moments.moments();
+          if (!psd || m.min === m.max) return null;
           const r = reduceTo(psd.density, 512, (xs) => xs.reduce((a, b) => a + b, 0) / xs.length);
           return { df: psd.df * r.factor, density: r.values, nyquist: ctx.sampleRate / 2, maxFrequencyHz: ctx.maxFrequencyHz };
         });
         ctx.evidence('trend', () => {
-          const r = reduceTo(trend, MAX_POINTS, (xs) => Math.max(...xs));
+          const r = reduceTo(trend, MAX_POINTS, finiteMax);
           return { window_s: (win / ctx.sampleRate) * r.factor, rms: r.values };
         });
         return {};
