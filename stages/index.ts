@@ -27,6 +27,7 @@ import { noiseFloor } from './quality/noise-floor.js';
 import { thresholdsOf } from './quality/flag.js';
 import { offset } from './quality/offset.js';
 import { peakCapture } from './quality/peak-capture.js';
+import { pulseTrain } from './quality/pulse-train.js';
 import { resolution } from './quality/resolution.js';
 import { saturation } from './quality/saturation.js';
 import { spikes } from './quality/spikes.js';
@@ -78,14 +79,14 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };
-  for (const definition of [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, offset, spikes, declaration, evidence]) {
+  for (const definition of [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, offset, spikes, declaration, pulseTrain, evidence]) {
     out.push({ definition, options: q, only: undefined });
   }
   return out;
 }
 
 /** Flag names in report order. */
-export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'offset', 'spikes', 'declaration'] as const;
+export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'offset', 'spikes', 'declaration', 'pulse_train'] as const;
 
 export function featureColumns(spec: ReductionSpec): ColumnSpec[] {
   return activeStages(spec).flatMap((s) => s.definition.columns(s.options));

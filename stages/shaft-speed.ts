@@ -1,27 +1,31 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
+import { levelsOf, spanComparable, triggerFits, triggerFrom, type LevelsKind } from './dsp/trigger-level.js';
 import type { ChannelContext, Stage } from './stage.js';
 
-/** The middle of three values; NaN when the middle one is not a number. */
-const medianOfThree = (a: number, b: number, c: number) => (Number.isNaN(b) ? NaN : Math.max(Math.min(a, b), Math.min(Math.max(a, b), c)));
+export { TRIGGER_HYSTERESIS_SHARE } from './dsp/trigger-level.js';
 
 /** Key of the recording's list of tacho products (one per tacho channel, in channel order of creation). */
 export const SHAFT_SPEED_KEY = 'shaft-speed';
 
-/** Seconds of signal from which an undeclared trigger level and hysteresis are found. */
+/** Seconds of signal in each stretch an undeclared trigger is found from, and then held against. */
 export const TRIGGER_LEARN_S = 1;
-/** Undeclared hysteresis, as a share of the span of the learning stretch: the edge must cross 30 % and 70 % of it. */
-export const TRIGGER_HYSTERESIS_SHARE = 0.4;
 /** Times kept per kind of pulse fault, for the notes (the counts are complete). */
 const TIMES_KEPT = 10;
 
 export interface PulseFaults { count: number; times_s: number[] }
 
 export interface SpeedSummary {
-  /** Trigger used, and whether it was found from the signal (else declared); null when the learning stretch was flat. */
+  /** Trigger used (the first, when it followed the signal), and whether it was found from the signal (else declared); null when none was found. */
   trigger: Trigger | null;
   found: boolean;
+  /** Where the found trigger came from: the start of its stretch, s (0: the first second). */
+  foundAtS: number;
+  /** Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise. */
+  none: { firstFlat: boolean; allFlat: boolean; seconds: number } | null;
+  /** Moves of a found trigger that followed the signal's level: how many, the first one's time, and the range of levels used. */
+  followed: { count: number; firstS: number; lowest: number; highest: number };
   /** Revolutions over all good intervals / their duration, and the extremes of the per-revolution speed; null without them. */
   meanRpm: number | null;
   minRpm: number | null;
@@ -49,7 +53,7 @@ export const shaftSpeedsOf = (ctx: ChannelContext): ShaftSpeed[] => ctx.recordin
 export function speedOf(ctx: ChannelContext): ShaftSpeed {
   if (!ctx.tacho) throw new Error(`${ctx.name} is not a tacho channel (no pulses_per_rev)`);
   return ctx.shared(SHAFT_SPEED_KEY, () => {
-    const product = makeShaftSpeed(ctx.name, ctx.sampleRate, ctx.tacho!);
+    const product = makeShaftSpeed(ctx.name, ctx.sampleRate, ctx.tacho!, ctx.stepSize);
     shaftSpeedsOf(ctx).push(product);
     return product;
   });
@@ -58,9 +62,12 @@ export function speedOf(ctx: ChannelContext): ShaftSpeed {
 const fault = (): PulseFaults => ({ count: 0, times_s: [] });
 const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length < TIMES_KEPT) f.times_s.push(t); };
 
-function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>): ShaftSpeed {
+function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null): ShaftSpeed {
   const p = tacho.pulsesPerRev;
-  const s: SpeedSummary = { trigger: null, found: false, meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault() };
+  const s: SpeedSummary = {
+    trigger: null, found: false, foundAtS: 0, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
+    meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
+  };
   let good = 0, span = 0, fastest = 0, slowest = Infinity, lastEnd = Number.NaN;
   const revolution: number[] = [];
   const grids: { length: number; hop: number; pulses: number[]; time: number[] }[] = [];
@@ -95,31 +102,61 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   });
   const edge = (at: number) => { s.edges++; train.edge(at); };
   let edges: PulseEdges | null = null;
-  const start = (trigger: Trigger | null) => { s.trigger = trigger; if (trigger) edges = new PulseEdges(trigger, edge); };
-  // Undeclared levels come from the first second: midway between its extremes, hysteresis a share of its span. The extremes
-  // are those of its running median of three (Tukey's smoothing, common practice): a lone spike, which would set a level no
-  // pulse reaches, does not count; a pulse two or more samples wide does.
-  const learnLength = Math.max(1, Math.round(TRIGGER_LEARN_S * fs));
-  let learn: Float64Array | null = null, learnFill = 0;
-  if (tacho.triggerLevel != null && tacho.triggerHysteresis != null) start({ level: tacho.triggerLevel, hysteresis: tacho.triggerHysteresis });
-  else learn = new Float64Array(learnLength);
-  const learnt = () => {
-    const seen = learn!.subarray(0, learnFill);
-    learn = null;
-    let lo = Infinity, hi = -Infinity;
-    for (let i = 0; i < seen.length; i++) {
-      const v = medianOfThree(seen[i > 0 ? i - 1 : i], seen[i], seen[i + 1 < seen.length ? i + 1 : i]);
-      if (Number.isFinite(v)) { if (v < lo) lo = v; if (v > hi) hi = v; }
+  // An undeclared trigger is found stretch by stretch (a second each): the first stretch whose levels stand clear of its noise
+  // sets it (trigger-level.ts). A stretch that holds no clear pulse holds no edge worth timing, so it is let go and the search goes
+  // on, to the end if need be; the one just before is timed too, for a pulse rising across the boundary. Memory stays two stretches.
+  // Once found, each stretch is held against the trigger and moves it when its levels have drifted towards the hysteresis band.
+  const declared = tacho.triggerLevel != null && tacho.triggerHysteresis != null;
+  const follows = tacho.triggerLevel == null && tacho.triggerHysteresis == null;
+  const stretch = Math.max(1, Math.round(TRIGGER_LEARN_S * fs));
+  let block: Float64Array | null = declared ? null : new Float64Array(stretch), before: Float64Array | null = declared ? null : new Float64Array(stretch);
+  let fill = 0, beforeFill = 0, blockStart = 0, kind: LevelsKind = 'smoothed', firstFlat: boolean | null = null, allFlat = true;
+  if (declared) { s.trigger = { level: tacho.triggerLevel!, hysteresis: tacho.triggerHysteresis! }; edges = new PulseEdges(s.trigger, edge); }
+  let current: Trigger | null = null;
+  const used = (t: Trigger) => { s.followed.lowest = Math.min(s.followed.lowest, t.level); s.followed.highest = Math.max(s.followed.highest, t.level); };
+  const stretchDone = () => {
+    const x = block!.subarray(0, fill);
+    if (!edges) {
+      const found = triggerFrom(x, step);
+      if (typeof found === 'string') {
+        firstFlat ??= found === 'flat';
+        allFlat &&= found === 'flat';
+        [before, block] = [block, before];
+        beforeFill = fill;
+      } else {
+        s.found = true;
+        s.foundAtS = blockStart / fs;
+        kind = found.kind;
+        s.trigger = { level: tacho.triggerLevel ?? found.trigger.level, hysteresis: tacho.triggerHysteresis ?? found.trigger.hysteresis };
+        current = s.trigger;
+        used(current);
+        edges = new PulseEdges(current, edge, blockStart - beforeFill);
+        edges.push(before!.subarray(0, beforeFill));
+        before = null;
+        edges.push(x);
+      }
+    } else {
+      if (follows && !triggerFits(current!, levelsOf(x, kind))) {
+        const found = triggerFrom(x, step);
+        if (typeof found !== 'string' && found.kind === kind && spanComparable(current!, found)) {
+          if (s.followed.count++ === 0) s.followed.firstS = blockStart / fs;
+          current = found.trigger;
+          used(current);
+          edges.retrigger(current);
+        }
+      }
+      edges.push(x);
     }
-    s.found = true;
-    start(hi > lo ? { level: tacho.triggerLevel ?? (lo + hi) / 2, hysteresis: tacho.triggerHysteresis ?? TRIGGER_HYSTERESIS_SHARE * (hi - lo) } : null);
-    edges?.push(seen);
+    blockStart += fill;
+    fill = 0;
   };
   let done = false;
   const finalize = () => {
     if (done) return;
     done = true;
-    if (learn) learnt();
+    if (block && fill > 0) stretchDone();
+    block = before = null;
+    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs };
     train.end();
     s.revolutions = good / p;
     if (good > 0) s.meanRpm = (60 * fs * good) / (p * span);
@@ -128,14 +165,14 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   return {
     channel,
     push(x) {
-      let i = 0;
-      if (learn) {
-        i = Math.min(x.length, learnLength - learnFill);
-        learn.set(x.subarray(0, i), learnFill);
-        learnFill += i;
-        if (learnFill === learnLength) learnt();
+      if (!block) return edges?.push(x);
+      for (let i = 0; i < x.length;) {
+        const take = Math.min(x.length - i, stretch - fill);
+        block.set(x.subarray(i, i + take), fill);
+        fill += take;
+        i += take;
+        if (fill === stretch) stretchDone();
       }
-      if (i < x.length) edges?.push(x.subarray(i));
     },
     finish: () => ({}),
     summary() { finalize(); return s; },

@@ -23,9 +23,13 @@ export const speed: StageDefinition<Record<string, never>> = {
       finish() {
         const s = product.summary();
         const unit = ctx.unit;
-        if (s.trigger && s.found) ctx.note(`${ctx.name}: tacho edges timed at ${round(s.trigger.level)} ${unit}, hysteresis ${round(s.trigger.hysteresis)} ${unit}, found from the first second; declare trigger_level and trigger_hysteresis to fix them`);
-        if (!s.trigger) ctx.note(`${ctx.name}: tacho signal flat over the first second; no trigger level found, so no speed; declare trigger_level and trigger_hysteresis`);
-        else if (s.meanRpm == null) ctx.note(`${ctx.name}: no two consecutive good tacho pulses (${s.edges} edges at ${round(s.trigger.level)} ${unit}); check the trigger level and pulses_per_rev`);
+        const tr = s.trigger;
+        const where = s.foundAtS === 0 ? 'the first second' : `the second from ${round(s.foundAtS)} s (no earlier second holds a pulse standing clear of its noise)`;
+        if (tr && s.found) ctx.note(`${ctx.name}: tacho edges timed at ${round(tr.level)} ${unit}, hysteresis ${round(tr.hysteresis)} ${unit}, found from ${where}; declare trigger_level and trigger_hysteresis to fix them`);
+        if (s.followed.count) ctx.note(`${ctx.name}: the tacho signal's levels drifted, so the trigger level followed them ${s.followed.count} time(s) from ${round(s.followed.firstS)} s on, between ${round(s.followed.lowest)} and ${round(s.followed.highest)} ${unit}; declare trigger_level and trigger_hysteresis to fix it`);
+        const none = s.none ?? { firstFlat: true, allFlat: true, seconds: 0 };
+        if (!tr) ctx.note(`${ctx.name}: tacho signal ${none.firstFlat ? 'flat' : 'only noise'} over the first second; ${none.allFlat ? 'flat in every second' : 'no second holds a pulse standing clear of its noise'} of the ${round(none.seconds)} s read; no trigger level found, so no speed; declare trigger_level and trigger_hysteresis`);
+        else if (s.meanRpm == null) ctx.note(`${ctx.name}: no two consecutive good tacho pulses (${s.edges} edges at ${round(tr.level)} ${unit}); check the trigger level and pulses_per_rev`);
         if (s.missing.count) ctx.note(`${ctx.name}: ${s.missing.count} tacho pulse(s) missing near ${at(s.missing)}; those intervals are left out of the speed`);
         if (s.extra.count) ctx.note(`${ctx.name}: ${s.extra.count} extra tacho pulse(s) at ${at(s.extra)}; ignored`);
         if (s.irregular.count) ctx.note(`${ctx.name}: ${s.irregular.count} irregular tacho interval(s) from ${at(s.irregular)}, neither whole pulses missing nor one extra; left out of the speed`);

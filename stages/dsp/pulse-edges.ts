@@ -7,10 +7,13 @@ export interface Trigger { level: number; hysteresis: number }
 export class PulseEdges {
   private armed = false;
   private prev = Number.NaN;
-  private next = 0;
   private crossing = Number.NaN;
 
-  constructor(private readonly trigger: Trigger, private readonly onEdge: (at: number) => void) {}
+  /** `next`: index of the first sample pushed, when the samples before it are not timed. */
+  constructor(private trigger: Trigger, private readonly onEdge: (at: number) => void, private next = 0) {}
+
+  /** Times the samples pushed from now on against another trigger (a level that follows a drifting signal). */
+  retrigger(trigger: Trigger): void { this.trigger = trigger; }
 
   // Schmitt trigger (common practice): arm below level − h/2, fire above level + h/2, so noise on a slow edge counts once.
   // The edge is the last upward crossing of the level before firing, timed by linear interpolation between the two samples around it.

@@ -40,6 +40,7 @@ export interface QualityThresholds {
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
+  pulse_train: { warn_coverage: number; fail_coverage: number; warn_fault_ratio: number; fail_fault_ratio: number };
 }
 
 // Calibration: a threshold warns where a figure the spec computes could be off by more than about 5 % (0.4 dB), the
@@ -90,6 +91,12 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   spikes: { robust_sigmas: 10, fail_fraction: 1e-3 },
   // A recording more than 1 % away from its declared duration is noted: the figures describe what was captured (our choice).
   declaration: { duration_tolerance: 0.01 },
+  // A tacho's good pulse intervals (the two ends excused) covering less than 80 % of the recording leave a fifth of it without a
+  // speed, which the speed figures and the order figures then stand for (warn); below half they describe the lesser part, and a
+  // train that holds together so little is a trigger on noise or a level the pulses leave (fail). Faults (missing, extra and
+  // irregular pulses) beyond one in ten good intervals mean a trigger or pulses_per_rev to check (warn); more faults than good
+  // intervals, a train that is mostly faults (fail). Our choices.
+  pulse_train: { warn_coverage: 0.8, fail_coverage: 0.5, warn_fault_ratio: 0.1, fail_fault_ratio: 1 },
 };
 
 export type QualitySpec = { [K in keyof QualityThresholds]?: Partial<QualityThresholds[K]> };

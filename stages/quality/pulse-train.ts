@@ -1,0 +1,67 @@
+// Pulse train: whether a tacho channel's pulses hold together well enough for its speed figures to describe the recording.
+import { speedOf } from '../shaft-speed.js';
+import type { StageDefinition } from '../stage.js';
+import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+
+const round = (v: number) => Number(v.toPrecision(4));
+
+/**
+ * Share of the recording the good pulse intervals cover: their total time over the duration less two mean intervals (the first
+ * pulse may come up to one interval after the start, the last one before the end), at most 1; 0 without a good interval.
+ */
+export function pulseCoverage(coveredS: number, goodIntervals: number, durationS: number): number {
+  if (goodIntervals <= 0 || !(coveredS > 0)) return 0;
+  const expected = durationS - (2 * coveredS) / goodIntervals;
+  return expected <= coveredS ? 1 : coveredS / expected;
+}
+
+export const pulseTrain: StageDefinition<QualityThresholds> = {
+  group: 'quality',
+  columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
+  create(ctx, q) {
+    const speed = ctx.tacho ? speedOf(ctx) : null;
+    let n = 0;
+    return {
+      push(x) { n += x.length; },
+      finish() {
+        const t = q.pulse_train;
+        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or faults exceed ${pct(t.fail_fault_ratio)} of them, or no pulse found; note: any pulse fault`;
+        if (!speed) {
+          ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
+          return { pulse_coverage: null };
+        }
+        const s = speed.summary(), fs = ctx.sampleRate, p = ctx.tacho!.pulsesPerRev;
+        const durationS = n / fs, good = Math.round(s.revolutions * p);
+        const coveredS = s.meanRpm ? (s.revolutions * 60) / s.meanRpm : 0;
+        const coverage = pulseCoverage(coveredS, good, durationS);
+        const faults = s.missing.count + s.extra.count + s.irregular.count;
+        const tr = s.trigger;
+        const trigger = tr ? `edges timed at ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
+        const todo = tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev';
+        const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
+        let severity: Severity = 'ok', message: string;
+        if (!tr || good === 0) {
+          severity = 'fail';
+          message = `no speed: ${tr ? 'no two consecutive good pulses' : s.none?.allFlat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
+        } else if (coverage < t.fail_coverage || faults > t.fail_fault_ratio * good) {
+          severity = 'fail';
+          message = `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
+        } else if (coverage < t.warn_coverage || faults > t.warn_fault_ratio * good) {
+          severity = 'warn';
+          message = `${found}: speed_mean_rpm, speed_min_rpm, speed_max_rpm and the windows' speed_rpm describe only the covered part, and the order figures take that speed for the whole recording; ${todo}`;
+        } else {
+          if (faults > 0) severity = 'note';
+          message = faults > 0 ? `${found}: those intervals are left out of the speed, which rests on the rest` : `the good pulse intervals cover ${pct(coverage)} of the recording, with no pulse fault`;
+        }
+        ctx.flag({
+          name: 'pulse_train', severity, value: coverage, threshold, message,
+          evidence: {
+            coverage, covered_s: coveredS, duration_s: durationS, revolutions: s.revolutions, good_intervals: good, missing: s.missing.count, extra: s.extra.count, irregular: s.irregular.count,
+            trigger_level: tr?.level ?? null, trigger_hysteresis: tr?.hysteresis ?? null, trigger_found: tr ? (s.found ? 'found' : 'declared') : null,
+          },
+        });
+        return { pulse_coverage: coverage };
+      },
+    };
+  },
+};
