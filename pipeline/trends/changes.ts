@@ -121,7 +121,7 @@ export interface ChangesReport {
   totals: Record<Verdict | 'unscored', number>;
   /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
   items: ChangeItem[];
-  /** Channel features of this run with no baseline because its recordings hold figures of other spec options. */
+  /** Channel features of this run with no baseline because its recordings hold figures of other spec options or another declaration. */
   stale_baselines: number;
   /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
   period_baselines?: number;
