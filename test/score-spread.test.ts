@@ -1,4 +1,4 @@
-// A baseline with no spread: the README's score rule, score = (value − median) / max(1.4826 × MAD, spread_floor × |median|),
+// The score's spread: the README's score rule, score = (value − median) / max(1.4826 × MAD, spread_floor × |median|),
 // with the spread never below rounding (1e-9 × |median|, or 1e-12 where the median is 0), so that equal values read steady
 // and real differences are scored, whatever the feature.
 import { describe, expect, it } from 'vitest';
@@ -64,5 +64,19 @@ describe('a baseline of equal values', () => {
     expect(spreadOf(2, 1, 0.1)).toBeCloseTo(1.4826, 15);
     expect(spreadOf(0, 0.5, 0)).toBeCloseTo(0.7413, 15);
     expect(robustScore(2, 2, 0, 0)).toBe(0);
+  });
+});
+
+describe('the default thresholds on a steady baseline (README, Why these defaults)', () => {
+  it('a level reads changed from about +4 dB up (the score against the 10 % floor) and from −6 dB down (change_db, before the score)', async () => {
+    const base = [1, 1.001, 0.999];
+    // Each change is followed by the baseline's level, so no verdict is held by the deadband.
+    const p = await scored('rms', [...base, db(3.9), db(-5.9), db(4.2), 1, db(-6.1)]);
+    expect(p.slice(3).map((x) => x.verdict)).toEqual(['steady', 'steady', 'changed', 'steady', 'changed']);
+    // Down at −6.1 dB the score is still inside ±6: the change is change_db's.
+    expect(p[7].changeDb).toBeCloseTo(-6.1, 9);
+    expect(Math.abs(p[7].score!)).toBeLessThan(6);
+    // Up at +4.2 dB change_db is inside ±6: the change is the score's, (1.622 − 1) / 0.1.
+    expect(p[5].score).toBeCloseTo((db(4.2) - 1) / 0.1, 9);
   });
 });
