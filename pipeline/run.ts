@@ -4,7 +4,7 @@ import { randomUUID } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { activeStages } from '../stages/index.js';
-import { groupKeys } from './plan/cache.js';
+import { declarationKey, groupKeys } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
@@ -159,7 +159,10 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
-    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored }));
+    // Each group's declaration now (as deciding keys it): an entry stored under a former one is no figure of the same measurement.
+    const declarations = new Map<string, ReadonlySet<string>>();
+    for (const r of scanned.recordings) if (!declarations.has(groupNames[r.group])) declarations.set(groupNames[r.group], new Set([declarationKey(planJob(r, declaration.groups, spec.spec))]));
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();

@@ -60,7 +60,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
     // Worked out on this thread while the workers assemble the slices.
-    const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, present: presentOverall(parts, store), metadata, since: first.period?.since ?? null });
+    const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, present: presentOverall(parts, store), metadata, since: first.period?.since ?? null, declarations: declarationsOfRun(items) });
     const quiet = quietOverall(parts, listed);
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
@@ -80,6 +80,17 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     await lock.release();
     storage.stop();
   }
+}
+
+/**
+ * Each group's declaration as the shards held it: merge reads no archive.yaml, but every recording a shard selected was
+ * reused or reduced again under the declaration it read, so the keys of this run's entries are the present ones. A group
+ * none of whose recordings the shards selected has no rows in this run's trends and is not checked.
+ */
+function declarationsOfRun(items: { group: string; loc: { facts: { declKey: string } } }[]): Map<string, Set<string>> {
+  const declarations = new Map<string, Set<string>>();
+  for (const it of items) (declarations.get(it.group) ?? declarations.set(it.group, new Set()).get(it.group)!).add(it.loc.facts.declKey);
+  return declarations;
 }
 
 /**

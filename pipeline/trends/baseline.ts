@@ -71,3 +71,31 @@ export function baselineOf(s: Series, k: number, era: Era): BaselineStats {
   const { median, mad } = medianAndMad(members.map((i) => values[i]));
   return { members, median, mad, stale, complete: stale === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
 }
+
+/**
+ * Why feature k's baseline in an era has not formed (it is not complete and holds no stale place): what the recordings in its
+ * place hold, in words, with what to do. A baseline of the first N that is still forming says how far it has come.
+ */
+export function whyNotFormed(s: Series, k: number, era: Era): string {
+  const b = era.baseline, values = s.values[k];
+  let inPlace = 0, failing = 0, excluded = 0, missing = 0, members = 0;
+  for (let i = 0; i < s.size; i++) {
+    if (!(s.time[i] >= era.fromMs && s.time[i] < era.untilMs)) continue;
+    if (!('first' in b) && !(s.time[i] >= b.fromMs && s.time[i] < b.untilMs)) continue;
+    inPlace++;
+    if (s.excluded[i]) excluded++;
+    else if (!usable(s, i)) failing++;
+    else if (!Number.isFinite(values[i])) missing++;
+    else members++;
+  }
+  const left = [
+    failing ? `${failing} ${failing === 1 ? 'fails' : 'fail'} the data-quality checks` : '',
+    excluded ? `${excluded} left out by trends.baseline.exclude` : '',
+    missing ? `${missing} without the feature` : '',
+  ].filter(Boolean).join(', ');
+  const restarted = era.restart ? ` since its restart ${era.restart.text}` : '';
+  if ('first' in b) return `${members} of the ${b.first} usable recordings it needs so far${restarted}${left ? ` (${left})` : ''}; it forms as more are stored`;
+  const period = b.text;
+  if (!inPlace) return `no recording of the channel starts in its baseline period ${period}; give a period the channel was recorded in (trends.baseline)`;
+  return `none of its ${inPlace} ${inPlace === 1 ? 'recording' : 'recordings'} in its baseline period ${period} can serve (${left}); give a period with usable recordings (trends.baseline)`;
+}

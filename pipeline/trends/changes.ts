@@ -1,7 +1,7 @@
 // Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
-import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, type BaselineStats, type Era } from './baseline.js';
+import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
@@ -121,8 +121,10 @@ export interface ChangesReport {
   totals: Record<Verdict | 'unscored', number>;
   /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
   items: ChangeItem[];
-  /** Channel features of this run with no baseline because its recordings hold figures of other spec options. */
+  /** Channel features of this run with no baseline because its recordings hold figures of other spec options or another declaration. */
   stale_baselines: number;
+  /** Present when any: channels of this run whose baseline has not formed (no stale place held), their features and why. */
+  unformed_baselines?: UnformedBaseline[];
   /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
   period_baselines?: number;
   /** Present when trends.baseline.exclude is given: how many stored recordings it leaves out of the baselines. */
@@ -132,6 +134,9 @@ export interface ChangesReport {
   /** Present when a trends.limits entry names channels: those that name no stored channel (a limit that can never sound). */
   unmatched_limits?: string[];
 }
+
+/** A channel whose baseline has not formed, so its features have no change verdict: which features, and why. */
+export interface UnformedBaseline { group: string; channel: string; channel_unit: string; features: string[]; why: string }
 
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
 
@@ -144,6 +149,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0;
+  const unformed = new Map<string, UnformedBaseline>();
   for (const f of scored) {
     const s = f.series;
     let latest = -1, last = -1, rows = 0;
@@ -160,6 +166,12 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     if (rows) {
       const j = eraAt(f.eras, s.time[last]), base = f.bases[j];
       if (base.stale) staleBaselines++;
+      else if (!base.complete) {
+        // Named per channel and reason: the features of a channel usually share their baseline's recordings.
+        const why = whyNotFormed(s, f.k, f.eras[j]), key = `${s.group}\u0000${s.channel}\u0000${s.unit}\u0000${why}`;
+        const u = unformed.get(key) ?? unformed.set(key, { group: s.group, channel: s.channel, channel_unit: s.unit, features: [], why }).get(key)!;
+        u.features.push(f.feature.name);
+      }
       if (sinceMs != null && !earlierStored && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
     }
     if (latest < 0) continue;
@@ -183,6 +195,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
+    ...(unformed.size ? { unformed_baselines: [...unformed.values()] } : {}),
     ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
     ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),

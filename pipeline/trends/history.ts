@@ -44,7 +44,7 @@ export interface Series {
   excluded: Uint8Array;
   /** Per watched feature (TrendOptions.features order): the value, NaN when absent or computed under other options. */
   values: Float64Array[];
-  /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now. */
+  /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now, or under another declaration of its group. */
   stale: Uint8Array[];
 }
 
@@ -61,11 +61,15 @@ export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.sever
 
 interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
 
+/** Per group (present name), the declaration keys its recordings are reduced under now (`declarationKey`); a group absent is not checked. */
+export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
+
 /**
  * Reads every stored entry once and keeps what trends need. A value counts only when the entry's feature group was computed
- * under the options the spec asks for now (whatever tool version computed it): figures from other filters or bands do not compare.
+ * under the options the spec asks for now (whatever tool version computed it) and under its group's present declaration:
+ * figures from other filters or bands, or of another scale or sample rate, do not compare.
  */
-export async function readHistory(out: string, spec: ReductionSpec, o: TrendOptions, inRun: ReadonlySet<string>, entries: AsyncIterable<CacheEntry> = storedEntries(out)): Promise<History> {
+export async function readHistory(out: string, spec: ReductionSpec, o: TrendOptions, inRun: ReadonlySet<string>, entries: AsyncIterable<CacheEntry> = storedEntries(out), declarations: Declarations = new Map()): Promise<History> {
   const recordings: string[] = [];
   const building = new Map<string, Building>();
   const keysOf = new Map<string, Record<string, string>>();
@@ -73,7 +77,9 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
   for await (const e of entries) {
     if (e.status !== 'reduced' || !e.base) continue;
     const keys = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version)).get(e.version)!;
-    const sameOptions = o.features.map((f) => e.groupKeys?.[f.group] === keys[f.group]);
+    const declared = declarations.get(e.group);
+    const sameDeclaration = !declared || declared.has(e.declKey);
+    const sameOptions = o.features.map((f) => sameDeclaration && e.groupKeys?.[f.group] === keys[f.group]);
     const comparable = o.features.map((f, k) => sameOptions[k] && e.groups[f.group] != null);
     const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
     const r = recordings.push(e.recording) - 1;

@@ -9,12 +9,18 @@ export function changeDb(value: number, median: number, level: LevelKind): numbe
   return null;
 }
 
-/** The spread a score divides by: 1.4826 × MAD, but never less than `floor` × |median|. */
-export const spreadOf = (median: number, mad: number, floor: number) => Math.max(MAD_TO_SIGMA * mad, floor * Math.abs(median));
+/** Relative size of rounding in a stored figure: values closer to the median than this are equal (float64 carries about 1e-16; sums and transforms lose some digits). */
+export const ROUNDING = 1e-9;
+/** The spread where the median is 0 and half the baseline or more is exactly 0 (a count): any value that is not 0 scores far beyond any threshold. */
+export const ZERO_MEDIAN_SPREAD = 1e-12;
 
-/** Robust z-score (value − median) / spread (Rousseeuw and Croux 1993 for the spread); null when the spread is zero and the value differs. */
-export function robustScore(value: number, median: number, mad: number, floor: number): number | null {
-  const spread = spreadOf(median, mad, floor);
-  if (spread > 0) return (value - median) / spread;
-  return value === median ? 0 : null;
+/**
+ * The spread a score divides by: 1.4826 × MAD (Rousseeuw and Croux 1993), but never less than `floor` × |median|, nor than
+ * rounding (1e-9 × |median|, or 1e-12 in the feature's unit where the median is 0), so it is never zero.
+ */
+export const spreadOf = (median: number, mad: number, floor: number) => Math.max(MAD_TO_SIGMA * mad, floor * Math.abs(median), ROUNDING * Math.abs(median)) || ZERO_MEDIAN_SPREAD;
+
+/** Robust z-score (value − median) / spread (Rousseeuw and Croux 1993 for the spread): equal values score 0, a real difference is scored whatever the spread. */
+export function robustScore(value: number, median: number, mad: number, floor: number): number {
+  return (value - median) / spreadOf(median, mad, floor);
 }

@@ -22,7 +22,10 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   const lines = [`  changes: ${alarms} channel features at an alarm limit, ${changed} changed, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
-  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options; run once without --since to recompute them`);
+  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options or another declaration of their group; run once without --since to recompute them`);
+  const unformed = r.unformed_baselines ?? [];
+  for (const u of unformed.slice(0, top)) lines.push(`  no baseline yet for ${u.group} ${u.channel} (${u.features.join(', ')}), so no change verdict: ${u.why}`);
+  if (unformed.length > top) lines.push(`  …and ${unformed.length - top} more channels without a baseline in quality.json (changes.unformed_baselines)`);
   if (r.excluded_recordings === 0) lines.push('  trends.baseline.exclude matches no stored recording: check its patterns against the recordings column of features.parquet');
   else if (r.excluded_recordings) lines.push(`  ${r.excluded_recordings} stored ${r.excluded_recordings === 1 ? 'recording is' : 'recordings are'} left out of the baselines (trends.baseline.exclude)`);
   for (const { restart, histories } of r.baseline_restarts ?? []) {

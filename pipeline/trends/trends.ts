@@ -10,7 +10,7 @@ import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
-import { readHistory } from './history.js';
+import { readHistory, type Declarations } from './history.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
 import { TRENDS_TABLE } from './tables.js';
@@ -18,8 +18,9 @@ import { TRENDS_TABLE } from './tables.js';
 export interface TrendsOutcome { report: ChangesReport; html: string }
 
 /** What the tables and the changes are made from: the spec, the tool, and each present recording's group and stored results checksum. */
-function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean): string {
-  const h = createHash('sha256').update(canonicalJson({ spec, version: metadata['quern.version'] ?? null, archive: metadata['quern.archive'] ?? null, since, earlierStored }));
+function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean, declarations: Declarations): string {
+  const declared = Object.fromEntries([...declarations].map(([g, keys]) => [g, [...keys].sort()]));
+  const h = createHash('sha256').update(canonicalJson({ spec, version: metadata['quern.version'] ?? null, archive: metadata['quern.archive'] ?? null, since, earlierStored, declared }));
   for (const r of [...present.keys()].sort()) {
     const loc = store.get(r);
     if (loc) h.update(`\n${r}\u0000${present.get(r)}\u0000${loc.bodySha}\u0000${inRun.has(r) ? 1 : 0}`);
@@ -62,10 +63,12 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   since?: number | null;
   /** Every recording of the archive outside the period has a stored result: no run could form an earlier baseline. */
   earlierStored?: boolean;
+  /** Per group, the declaration its recordings are reduced under now: an entry stored under another holds its baseline place as stale. */
+  declarations?: Declarations;
 }): Promise<TrendsWrite> {
   const inRun = new Set(o.recordings), since = o.since ?? null;
-  const earlierStored = o.earlierStored ?? false;
-  const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, since, earlierStored);
+  const earlierStored = o.earlierStored ?? false, declarations = o.declarations ?? new Map();
+  const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, since, earlierStored, declarations);
   const kept = await stillCurrent(out, digest);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
@@ -75,7 +78,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   try {
     let outcome: TrendsOutcome | null = null;
     if (o.trends) {
-      const history = await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present));
+      const history = await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present), declarations);
       const scored = scoreHistory(history, o.trends);
       const report = changesReport(history, scored, o.trends, since, earlierStored);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);

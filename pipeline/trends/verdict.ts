@@ -24,8 +24,6 @@ export function verdictOf(
   if (v.limit === 'warn') return 'changed';
   if (!v.scored) return null;
   if ((v.changeDb != null && Math.abs(v.changeDb) > o.changeDb) || (v.score != null && Math.abs(v.score) > o.score)) return 'changed';
-  // A zero spread with a differing value (score null) is a change.
-  if (v.score == null && v.changeDb == null) return 'changed';
   return 'steady';
 }
 

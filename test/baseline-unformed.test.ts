@@ -1,0 +1,63 @@
+// A baseline that never forms is named with why: the README's Baseline rule (the first N usable recordings, or those starting
+// in a declared period; a channel that fails the data-quality checks takes no part) applied to planted histories.
+import { describe, expect, it } from 'vitest';
+import type { Severity } from '../stages/quality/flag.js';
+import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
+import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
+import { changesReport, scoreHistory } from '../pipeline/trends/changes.js';
+import { changesSummary } from '../pipeline/trends/summary.js';
+import { readHistory } from '../pipeline/trends/history.js';
+import { trendOptions } from '../pipeline/trends/options.js';
+
+const VERSION = '0.1.0';
+
+/** One night's stored result of one channel on 2026-03-(1+night): its RMS and a data-quality verdict. */
+function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity, channel: string): CacheEntry {
+  const flag = { name: 'saturation', severity: quality, value: null, threshold: '', evidence: {}, message: '' };
+  const out = (columns: Record<string, number>) => ({ columns: [columns], flags: [[]], evidence: [null], tables: {}, notes: [] });
+  const start = new Date(Date.UTC(2026, 2, 1 + night, 2)).toISOString();
+  return {
+    recording: `nightly/${channel}-${String(night + 1).padStart(2, '0')}.wav`, group: 'nightly', status: 'reduced', seconds: 0,
+    frames: 1, sampleRate: 1, startTime: start, channels: 1, notes: {}, storedAt: 0,
+    base: { frames: 1, sampleRate: 1, notes: [], channels: [{ name: channel, quantity: 'acceleration', unit: 'm/s^2' }], header: { format: 'wav', encoding: 'pcm16', bits: 16, start_time: start } },
+    groups: { statistics: out({ rms }), quality: { ...out({}), flags: [[flag]] } },
+    version: VERSION, identity: { size: 1, mtimeMs: 0, hash: null }, readAtMs: 0, declKey: '', groupKeys: groupKeys(spec, VERSION),
+  };
+}
+
+/** Ten nights of two channels: acc_ok always passes the checks, acc_bad fails them on the first three nights. */
+async function report(trends: TrendsSpec) {
+  const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'], ...trends } };
+  const o = trendOptions(spec)!;
+  const entries = Array.from({ length: 10 }, (_, n) => [entry(spec, n, 1, 'ok', 'acc_ok'), entry(spec, n, 1, n < 3 ? 'fail' : 'ok', 'acc_bad')]).flat();
+  async function* stored() { yield* entries; }
+  const history = await readHistory('(not read)', spec, o, new Set(entries.map((e) => e.recording)), stored());
+  const r = changesReport(history, scoreHistory(history, o), o);
+  return { r, lines: changesSummary(r) };
+}
+
+describe('a baseline that has not formed', () => {
+  it('a period before any recording: every channel is named, and none of its nights has a verdict', async () => {
+    const { r, lines } = await report({ baseline: { from: '2026-01-01', until: '2026-01-10' } });
+    expect(r.totals).toMatchObject({ steady: 0, changed: 0, unscored: 20 });
+    expect(r.unformed_baselines).toEqual(['acc_bad', 'acc_ok'].map((channel) => ({
+      group: 'nightly', channel, channel_unit: 'm/s^2', features: ['rms'],
+      why: 'no recording of the channel starts in its baseline period 2026-01-01 to 2026-01-10; give a period the channel was recorded in (trends.baseline)',
+    })));
+    expect(lines).toContain('  no baseline yet for nightly acc_ok (rms), so no change verdict: no recording of the channel starts in its baseline period 2026-01-01 to 2026-01-10; give a period the channel was recorded in (trends.baseline)');
+  });
+
+  it('a period holding only recordings that fail the checks: that channel alone is named, with how many fail', async () => {
+    const { r, lines } = await report({ baseline: { from: '2026-03-01', until: '2026-03-04' } });
+    expect(r.unformed_baselines).toEqual([{ group: 'nightly', channel: 'acc_bad', channel_unit: 'm/s^2', features: ['rms'], why: 'none of its 3 recordings in its baseline period 2026-03-01 to 2026-03-04 can serve (3 fail the data-quality checks); give a period with usable recordings (trends.baseline)' }]);
+    // acc_ok's 10 nights are steady; acc_bad's 7 usable nights and 3 failing ones have no verdict.
+    expect(r.totals).toMatchObject({ steady: 10, unscored: 10 });
+    expect(lines.some((l) => l.includes('no baseline yet for nightly acc_bad (rms)'))).toBe(true);
+  });
+
+  it('first N: forms past failing recordings, so nothing is named once N usable ones exist; while forming, says how far', async () => {
+    expect((await report({ baseline: { first: 3 } })).r.unformed_baselines).toBeUndefined();
+    const { r } = await report({ baseline: { first: 9 } });
+    expect(r.unformed_baselines).toEqual([{ group: 'nightly', channel: 'acc_bad', channel_unit: 'm/s^2', features: ['rms'], why: '7 of the 9 usable recordings it needs so far (3 fail the data-quality checks); it forms as more are stored' }]);
+  });
+});
