@@ -25,7 +25,7 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
       push(x) { n += x.length; },
       finish() {
         const t = q.pulse_train;
-        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or faults exceed ${pct(t.fail_fault_ratio)} of them, or no pulse found; note: any pulse fault`;
+        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or faults exceed ${pct(t.fail_fault_ratio)} of them; warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
         if (!speed) {
           ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
           return { pulse_coverage: null };
@@ -41,8 +41,11 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
         let severity: Severity = 'ok', message: string;
         if (!tr || good === 0) {
-          severity = 'fail';
-          message = `no speed: ${tr ? 'no two consecutive good pulses' : s.none?.allFlat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
+          // No speed is no wrong speed: a shaft at rest gives no pulses (a flat signal is a note; a dead sensor fails flatline), while
+          // pulses that never make two good intervals in a row, or a signal that is all noise, leave the speed unknown (warn).
+          const flat = !tr && s.none?.allFlat === true;
+          severity = flat ? 'note' : 'warn';
+          message = `no speed: ${tr ? 'no two consecutive good pulses' : flat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
         } else if (coverage < t.fail_coverage || faults > t.fail_fault_ratio * good) {
           severity = 'fail';
           message = `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
