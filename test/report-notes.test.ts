@@ -32,3 +32,24 @@ describe('the report\'s counts and empty sections', () => {
     expect(sectionsHead(2)).not.toMatch(/None/);
   });
 });
+
+describe('the changes line when most watched features have no verdict', () => {
+  const report = (steady: number, unscored: number) => ({
+    baseline: 'the first 3 usable recordings of each group and channel by start time', thresholds: { change_db: 6, score: 6, spread_floor: 0.1, deadband: 0.2 },
+    features: ['rms'], totals: { steady, changed: 0, alarm: 0, unscored }, items: [], stale_baselines: 0,
+  });
+
+  it('counts the features with no verdict beside the steady ones on the terminal', async () => {
+    const { changesSummary } = await import('../pipeline/trends/summary.js');
+    expect(changesSummary(report(900, 2400) as never)[0]).toBe('  changes: 0 channel features at an alarm limit, 0 changed; 900 steady, 2400 with no verdict (baseline forming, held by figures of other options, or data unusable), against the first 3 usable recordings of each group and channel by start time');
+    expect(changesSummary(report(12, 0) as never)[0]).toBe('  changes: 0 channel features at an alarm limit, 0 changed, against the first 3 usable recordings of each group and channel by start time');
+  });
+
+  it('does not open the report with an all-clear in the calm colour when most features have none', async () => {
+    const { changesHtml } = await import('../pipeline/outputs/report-changes.js');
+    const most = await changesHtml(report(900, 2400) as never, []);
+    expect(most).toMatch(/<p class="unjudged">No change found, but only 900 channel features of this run have a verdict \(steady\); 2400 have none/);
+    expect(most).not.toMatch(/class="steady"/);
+    expect(await changesHtml(report(900, 10) as never, [])).toMatch(/<p class="steady">Nothing changed: 900 channel features of this run read steady; 10 have no verdict yet/);
+  });
+});

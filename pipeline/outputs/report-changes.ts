@@ -131,7 +131,11 @@ export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[])
   const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
   out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
   if (!r.items.length) {
-    out.push(`<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
+    // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
+    const mostlyUnjudged = r.totals.unscored > r.totals.steady;
+    out.push(mostlyUnjudged
+      ? `<p class="unjudged">No change found, but only ${r.totals.steady} channel features of this run have a verdict (steady); ${r.totals.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
+      : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
     return out.join('\n');
   }
   out.push(`<p><b>${alarms}</b> channel features at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
