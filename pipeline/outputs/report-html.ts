@@ -37,7 +37,9 @@ h2 { font-size: 16px; margin: 28px 0 8px; border-bottom: 2px solid #d8d4c8; padd
 .totals { display: flex; gap: 12px; flex-wrap: wrap; }
 .tile { background: #fff; border-left: 6px solid; padding: 8px 14px; min-width: 120px; }
 .tile b { display: block; font-size: 22px; }
-table { border-collapse: collapse; background: #fff; }
+/* A wide table scrolls inside the page on a narrow screen rather than pushing the page sideways. */
+table { border-collapse: collapse; background: #fff; display: block; max-width: 100%; overflow-x: auto; }
+.charts svg { max-width: 100%; height: auto; }
 th, td { border: 1px solid #e2ded3; padding: 4px 8px; text-align: left; vertical-align: top; font-size: 13px; }
 th { background: #efece4; font-weight: 600; }
 .sev { display: inline-block; padding: 1px 8px; border-radius: 3px; color: #fff; font-size: 12px; font-weight: 600; }
