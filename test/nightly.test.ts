@@ -6,7 +6,7 @@ import { DuckDBInstance } from '@duckdb/node-api';
 import { Ajv } from 'ajv';
 import formats from 'ajv-formats';
 import { describe, expect, it } from 'vitest';
-import { byStartTime, parseShard, parseSpan, parseWhen, shardOf } from '../pipeline/select/select.js';
+import { byStartTime, lastCapture, parseShard, parseSpan, parseWhen, shardOf } from '../pipeline/select/select.js';
 import type { GroupDeclaration } from '../spec/archive.js';
 import { scanPack } from '../pipeline/store/pack.js';
 import { makeSampleArchive } from '../scripts/make-sample-archive.js';
@@ -247,12 +247,15 @@ describe('selecting a period and logging', () => {
     const { chosen, quiet, due } = await byStartTime(recordings, groups, known, since, Infinity, now);
     expect(chosen.map((r) => r.recording)).toEqual(['w2.wav', 'd.wav', 'f.wav']);
     // The weekly rig captured 3 days ago; the daily one 30 h ago, within this week's period but a day overdue; one silent for
-    // 60 days is still named, as its declaration says it captures daily; an undeclared one silent for the period is quiet.
+    // 60 days is still named, as its declaration says it captures daily; one that declares a cadence and has no recording at
+    // all is named too (a rig that never delivered, or a match that no longer matches); an undeclared one silent for the period is quiet.
     expect(quiet).toEqual([
       { group: 'daily', latest_start: new Date(now - 30 * 3_600_000).toISOString(), capture_every: '1d' },
       { group: 'gone', latest_start: new Date(now - 60 * day).toISOString(), capture_every: '1d' },
+      { group: 'never', latest_start: null, capture_every: '12h' },
       { group: 'undeclared', latest_start: new Date(now - 8 * day).toISOString() },
     ]);
+    expect(lastCapture(quiet[2])).toBe('none of its recordings was found in the archive (a rig that never delivered, or a match pattern that no longer matches its files)');
     expect(due.map((d) => [d.group, d.due])).toEqual([['weekly', '1w'], ['daily', '1d'], ['fresh', '1d'], ['gone', '1d'], ['never', '12h']].map(([g, e]) => [g, new Date(now - parseSpan(e)).toISOString()]));
     expect(due.find((d) => d.group === 'never')!.latest_start).toBeNull();
   });

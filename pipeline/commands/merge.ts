@@ -121,7 +121,7 @@ function quietOverall(parts: RunRecord[], listed: { group: string }[]): QuietGro
   }
   const chosen = new Set(listed.map((r) => r.group)), latest = new Map<string, string>();
   if (parts[0].period?.until == null) {
-    for (const g of parts.flatMap((p) => p.period?.quiet_groups ?? [])) if (!due.has(g.group) && !chosen.has(g.group) && !(g.latest_start <= (latest.get(g.group) ?? ''))) latest.set(g.group, g.latest_start);
+    for (const g of parts.flatMap((p) => p.period?.quiet_groups ?? [])) if (g.latest_start != null && !due.has(g.group) && !chosen.has(g.group) && !(g.latest_start <= (latest.get(g.group) ?? ''))) latest.set(g.group, g.latest_start);
   }
   return [...[...latest].map(([group, latest_start]) => ({ group, latest_start })), ...quietByCadence([...due.values()])].sort((a, b) => a.group.localeCompare(b.group));
 }

@@ -1,7 +1,7 @@
 // quality.html: one self-contained page (inline CSS and SVG, no scripts, opens offline) for the morning read.
 // Made in pieces as the run's recordings arrive (pipeline/outputs/outputs.ts puts them together); the charts arrive as SVG,
 // drawn where the channel was reduced (pipeline/outputs/charts.ts).
-import { quietWhy, type QuietGroup } from '../select/select.js';
+import { lastCapture, quietWhy, type QuietGroup } from '../select/select.js';
 import { COLOURS } from './colours.js';
 import { flagValue } from './flag-value.js';
 import { NEEDS_A_LOOK, SEVERITIES, type Flag, type Severity } from '../../stages/quality/flag.js';
@@ -97,5 +97,5 @@ export const noteLine = (recording: string, channel: string, f: Flag) => `<tr><t
 export const notesEnd = () => '</table>';
 
 export const pageEnd = (unmatched: string[], quiet: QuietGroup[] = []) =>
-  `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${quietWhy({ ...g, capture_every: g.capture_every && esc(g.capture_every) }, 'this run\'s period')}; its latest started ${esc(g.latest_start)} (a rig that stopped capturing, or captures not yet copied in)</li>`).join('')}</ul>\n` : ''}`
+  `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${quietWhy({ ...g, capture_every: g.capture_every && esc(g.capture_every) }, 'this run\'s period')}; ${esc(lastCapture(g))}</li>`).join('')}</ul>\n` : ''}`
   + `${unmatched.length ? `<h2>Files no group matches</h2><ul>${unmatched.map((u) => `<li>${esc(u)}: add a group for it in archive.yaml, or move it out of the archive</li>`).join('')}</ul>\n` : ''}</main></body></html>\n`;

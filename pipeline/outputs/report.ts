@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import type { LoadedSpec } from '../declare/declare.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
-import { quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
+import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
@@ -157,7 +157,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recording${noted.length === 1 ? '' : 's'}: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
-  for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)`);
+  for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; ${lastCapture(g)}`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);
   if (settling.length > MAX_SETTLING_LINES) lines.push(`  …        and ${settling.length - MAX_SETTLING_LINES} more recordings left to settle: see run.json`);

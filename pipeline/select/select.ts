@@ -88,7 +88,12 @@ export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, know
 }
 
 /** A group whose rig may have stopped capturing, and its latest start (before the period's end, for a declared capture_every). */
-export interface QuietGroup { group: string; latest_start: string; /** The group's declared capture_every, which it went without a recording. */ capture_every?: string }
+/** latest_start is null only for a group that declares capture_every and has no recording at all. */
+export interface QuietGroup { group: string; latest_start: string | null; /** The group's declared capture_every, which it went without a recording. */ capture_every?: string }
+
+/** What a quiet group last did: its latest start, or that none of its recordings was found (a match that no longer matches). */
+export const lastCapture = (g: QuietGroup) =>
+  g.latest_start != null ? `its latest started ${g.latest_start} (a rig that stopped capturing, or captures not yet copied in)` : 'none of its recordings was found in the archive (a rig that never delivered, or a match pattern that no longer matches its files)';
 
 /** Why a group is named quiet: its declared capture interval passed without a recording, or the period went by without one. */
 export const quietWhy = (g: QuietGroup, period: string) =>
@@ -127,6 +132,6 @@ export async function byStartTime(recordings: ScannedRecording[], groups: GroupD
   return { chosen, quiet, due };
 }
 
-/** The groups that went longer than their declared capture_every without a recording: a latest start before the one due. */
+/** The groups that went longer than their declared capture_every without a recording: a latest start before the one due, or none at all. */
 export const quietByCadence = (due: CaptureDue[]): QuietGroup[] =>
-  due.filter((d) => d.latest_start != null && d.latest_start < d.due).map((d) => ({ group: d.group, latest_start: d.latest_start!, capture_every: d.capture_every }));
+  due.filter((d) => d.latest_start == null || d.latest_start < d.due).map((d) => ({ group: d.group, latest_start: d.latest_start, capture_every: d.capture_every }));
