@@ -15,8 +15,8 @@ import { fixture, readJson } from './helpers.js';
 const VERSION = '0.1.0';
 
 /** A stored result of one recording with one accelerometer channel: its RMS, and a data-quality verdict. */
-function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity = 'ok', channel = 'acc_de'): CacheEntry {
-  const flag = { name: 'saturation', severity: quality, value: null, threshold: '', evidence: {}, message: '' };
+function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity = 'ok', channel = 'acc_de', flagName = 'saturation'): CacheEntry {
+  const flag = { name: flagName, severity: quality, value: null, threshold: '', evidence: {}, message: '' };
   const out = (columns: Record<string, number>) => ({ columns: [columns], flags: [[]], evidence: [null], tables: {}, notes: [] });
   const start = new Date(Date.UTC(2026, 0, 1 + night, 2)).toISOString();
   return {
@@ -32,10 +32,10 @@ function entry(spec: ReductionSpec, night: number, rms: number, quality: Severit
 }
 
 /** Each night's scored RMS, the history read from entries handed over in a scrambled order (as a store may list them). */
-async function scoredNights(levels: number[], trends: TrendsSpec = {}, quality: (night: number) => Severity = () => 'ok'): Promise<ScoredPoint[]> {
+async function scoredNights(levels: number[], trends: TrendsSpec = {}, quality: (night: number) => Severity = () => 'ok', flagName = 'saturation'): Promise<ScoredPoint[]> {
   const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'], ...trends } };
   const o = trendOptions(spec)!;
-  const entries = levels.map((v, night) => entry(spec, night, v, quality(night)));
+  const entries = levels.map((v, night) => entry(spec, night, v, quality(night), 'acc_de', flagName));
   const scrambled = entries.map((e, i) => ({ e, k: (i * 7919) % entries.length })).sort((a, b) => a.k - b.k).map((x) => x.e);
   async function* stored() { yield* scrambled; }
   const history = await readHistory('(not read)', spec, o, new Set(entries.map((e) => e.recording)), stored());
@@ -127,6 +127,19 @@ describe('verdicts on planted histories, at the default thresholds (±6 dB or |s
     // Before a baseline exists only the limits speak.
     const early = await scoredNights([3.3, 2.0], { limits: { rms: { alarm: 3.2 } } });
     expect(verdicts(early)).toEqual(['alarm', null]);
+  });
+
+  // Clipping cuts each sample's magnitude to the range, so a clipped recording's RMS is at most the true one (common practice:
+  // clipped data read low): at or above a limit it is above it in truth. Any other failing check leaves the figure unjudged.
+  it('a night that fails on saturation alone still sounds a limit its RMS reaches; one failing on another check does not', async () => {
+    const levels = [2.0, 2.1, 2.0, 4.1, 2.0];
+    const clipped = await scoredNights(levels, { limits: { rms: { warn: 2.5, alarm: 3.2 } } }, (night) => (night === 3 ? 'fail' : 'ok'));
+    expect(verdicts(clipped)).toEqual(['steady', 'steady', 'steady', 'alarm', 'steady']);
+    expect(clipped[3].limit).toBe('alarm');
+    // Below every limit a clipped night has no verdict: its figure says nothing of the input beyond the range.
+    expect(verdicts(await scoredNights([2.0, 2.1, 2.0, 2.2, 2.0], { limits: { rms: { alarm: 3.2 } } }, (night) => (night === 3 ? 'fail' : 'ok')))[3]).toBeNull();
+    const dead = await scoredNights(levels, { limits: { rms: { alarm: 3.2 } } }, (night) => (night === 3 ? 'fail' : 'ok'), 'spikes');
+    expect(verdicts(dead)[3]).toBeNull();
   });
 
   // One rms limit across accelerometers, microphones and pressure would mix units: as a list, each entry names its channels.

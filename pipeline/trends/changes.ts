@@ -33,6 +33,9 @@ export interface ScoredFeature {
   at(i: number): ScoredPoint | null;
 }
 
+/** Features that clipping can only lower: |x| cut to the range lowers the mean square and the largest magnitude alike. */
+const CLIPPING_LOWERS = new Set(['rms', 'peak']);
+
 export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeature {
   const feature = o.features[k], values = s.values[k];
   const eras = erasOf(s, o.baseline);
@@ -46,9 +49,13 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     const ok = usable(s, i);
     const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
     const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
-    const limit = ok ? limitReached(value, limits) : null;
-    // Figures of a channel that fails the data-quality checks are not held against anything.
-    const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o) : null;
+    // Figures of a channel that fails the data-quality checks are not held against anything, with one exception: clipping
+    // can only lower a broadband RMS or peak (each sample's magnitude is cut to the range), so one at or above a limit is
+    // above it in truth as well, and a machine loud enough to saturate its sensor still sounds its alarm.
+    const clipped = !ok && s.clippedOnly[i] === 1 && CLIPPING_LOWERS.has(feature.name);
+    const limit = ok || clipped ? limitReached(value, limits) : null;
+    const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o)
+      : clipped && limit ? verdictOf({ value, changeDb: null, score: null, scored: false, limit }, o) : null;
     return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit };
   };
   // The verdicts after the deadband, worked out once over the series when first asked (a held verdict depends on the last one).

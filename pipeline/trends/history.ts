@@ -38,6 +38,8 @@ export interface Series {
   startKnown: Uint8Array;
   /** The channel's data-quality verdict on that recording, as an index into SEVERITIES. */
   severity: Uint8Array;
+  /** 1 where the channel fails the checks on saturation alone: clipped, its RMS and peak can only read low. */
+  clippedOnly: Uint8Array;
   /** 1 when the recording belongs to this run. */
   inRun: Uint8Array;
   /** 1 when the recording is left out of the baseline (trends.baseline.exclude). */
@@ -59,7 +61,7 @@ const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
 
 /** Per group (present name), the declaration keys its recordings are reduced under now (`declarationKey`); a group absent is not checked. */
 export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
@@ -88,11 +90,14 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
-      b.severity.push(SEVERITIES.indexOf(worst((e.groups.quality?.flags[c] ?? []).map((f) => f.severity))));
+      const flags = e.groups.quality?.flags[c] ?? [];
+      b.severity.push(SEVERITIES.indexOf(worst(flags.map((f) => f.severity))));
+      const failing = flags.filter((f) => f.severity === 'fail');
+      b.clippedOnly.push(failing.length > 0 && failing.every((f) => f.name === 'saturation') ? 1 : 0);
       b.inRun.push(inRun.has(e.recording) ? 1 : 0);
       b.excluded.push(excluded);
       o.features.forEach((f, k) => {
@@ -108,7 +113,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const order = Int32Array.from({ length: n }, (_, i) => i).sort((i, j) => b.time.data[i] - b.time.data[j] || (recordings[b.recording.data[i]] < recordings[b.recording.data[j]] ? -1 : 1));
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
-      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order),
+      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order),
       values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)),
     };
   });
