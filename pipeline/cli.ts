@@ -108,14 +108,17 @@ export function joinSignedValues(argv: string[]): string[] {
 /** Refuses an option of one value given more than once (the parser makes a list of it), naming it. */
 function givenOnce(a: Record<string, unknown>, options: string[]): void {
   for (const option of options) {
-    const value = a[option.replace(/-(\w)/g, (_, c: string) => c.toUpperCase())];
-    if (Array.isArray(value)) throw new UsageError(`--${option} is given ${value.length} times (${value.join(', ')}); give it once`);
+    once(option, a[option.replace(/-(\w)/g, (_, c: string) => c.toUpperCase())]);
   }
 }
 
+/** The command line's parser makes a list of an option given twice: which one was meant is not for quern to guess. */
+function once(option: string, value: unknown): void {
+  if (Array.isArray(value)) throw new UsageError(`--${option} is given ${value.length} times (${value.join(', ')}); give it once`);
+}
+
 function optionValue<T>(option: string, text: string, parse: (text: string) => T): T {
-  // The command line's parser makes a list of an option given twice: which one was meant is not for quern to guess.
-  if (Array.isArray(text)) throw new UsageError(`--${option} is given ${text.length} times (${text.join(', ')}); give it once`);
+  once(option, text);
   try {
     return parse(text);
   } catch (e) {

@@ -26,13 +26,3 @@ export class Missing extends Accumulating<'count' | 'first' | 'last' | 'run' | '
  * (ctx.shared keeps the order products are made in), so the pass has walked the chunk first.
  */
 export const missingOf = (ctx: ChannelContext) => fusedOf(ctx, 'missing', () => new Missing());
-
-/** Calls `run(start, end)` for every run of finite samples x[start … end), in order. */
-export function finiteRuns(x: Float64Array, run: (start: number, end: number) => void): void {
-  let start = -1;
-  for (let i = 0; i < x.length; i++) {
-    if (x[i] - x[i] === 0) { if (start < 0) start = i; }
-    else if (start >= 0) { run(start, i); start = -1; }
-  }
-  if (start >= 0) run(start, x.length);
-}
