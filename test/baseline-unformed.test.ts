@@ -3,13 +3,14 @@
 import { describe, expect, it } from 'vitest';
 import type { Severity } from '../stages/quality/flag.js';
 import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
+import { toolVersion } from '../pipeline/declare/package-files.js';
 import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { changesReport, scoreHistory } from '../pipeline/trends/changes.js';
 import { changesSummary } from '../pipeline/trends/summary.js';
 import { readHistory } from '../pipeline/trends/history.js';
 import { trendOptions } from '../pipeline/trends/options.js';
 
-const VERSION = '0.1.0';
+const VERSION = toolVersion;
 
 /** One night's stored result of one channel on 2026-03-(1+night): its RMS and a data-quality verdict. */
 function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity, channel: string): CacheEntry {

@@ -3,13 +3,14 @@
 // and real differences are scored, whatever the feature.
 import { describe, expect, it } from 'vitest';
 import type { ReductionSpec } from '../spec/reduction.js';
+import { toolVersion } from '../pipeline/declare/package-files.js';
 import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
 import { readHistory } from '../pipeline/trends/history.js';
 import { trendOptions } from '../pipeline/trends/options.js';
 import { robustScore, spreadOf } from '../pipeline/trends/score.js';
 
-const VERSION = '0.1.0';
+const VERSION = toolVersion;
 
 /** One night's stored statistics of one accelerometer channel. */
 function entry(spec: ReductionSpec, night: number, columns: Record<string, number>): CacheEntry {

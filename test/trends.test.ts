@@ -3,6 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Severity } from '../stages/quality/flag.js';
 import type { ReductionSpec, TrendsSpec } from '../spec/reduction.js';
+import { toolVersion } from '../pipeline/declare/package-files.js';
 import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { changesReport, scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
 import { changesSummary } from '../pipeline/trends/summary.js';
@@ -12,7 +13,7 @@ import { MAD_TO_SIGMA, medianAndMad } from '../pipeline/trends/robust.js';
 import { changeDb, robustScore } from '../pipeline/trends/score.js';
 import { fixture, readJson } from './helpers.js';
 
-const VERSION = '0.1.0';
+const VERSION = toolVersion;
 
 /** A stored result of one recording with one accelerometer channel: its RMS, and a data-quality verdict. */
 function entry(spec: ReductionSpec, night: number, rms: number, quality: Severity = 'ok', channel = 'acc_de', flagName = 'saturation'): CacheEntry {
@@ -42,6 +43,26 @@ async function scoredNights(levels: number[], trends: TrendsSpec = {}, quality: 
   const [rms] = scoreHistory(history, o);
   return levels.map((_, i) => rms.at(i)!);
 }
+
+describe('figures of another version of quern', () => {
+  it('do not compare: a baseline stored by another version holds its places as stale, and its values are left out', async () => {
+    const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'] } };
+    const o = trendOptions(spec)!;
+    const older = '0.0.1';
+    const entries = [1, 1, 1, 2, 2].map((v, night) => {
+      const e = entry(spec, night, v);
+      return night < 3 ? { ...e, version: older, groupKeys: groupKeys(spec, older) } : e;
+    });
+    async function* stored() { yield* entries; }
+    const history = await readHistory('(not read)', spec, o, new Set(entries.map((e) => e.recording)), stored());
+    const [s] = history.series;
+    expect([...s.stale[0]]).toEqual([1, 1, 1, 0, 0]);
+    expect([...s.values[0]].map((v) => Number.isNaN(v))).toEqual([true, true, true, false, false]);
+    const report = changesReport(history, scoreHistory(history, o), o);
+    expect(report.stale_baselines).toBe(1);
+    expect(changesSummary(report).join('\n')).toMatch(/another version of quern; run once without --since/);
+  });
+});
 
 /** Seeded Gaussian noise (mulberry32, Box–Muller). */
 function gaussian(seed: number) {

@@ -3,6 +3,7 @@
 // channel, plus 9 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
 import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
 import type { TrendOptions } from './options.js';
 
@@ -68,17 +69,17 @@ export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
 
 /**
  * Reads every stored entry once and keeps what trends need. A value counts only when the entry's feature group was computed
- * under the options the spec asks for now (whatever tool version computed it) and under its group's present declaration:
- * figures from other filters or bands, or of another scale or sample rate, do not compare.
+ * under the options the spec asks for now, by this version of quern (whose figures may differ from an earlier one's), and under
+ * its group's present declaration: figures from other filters or bands, of another scale or sample rate, or of another
+ * version's methods do not compare.
  */
-export async function readHistory(out: string, spec: ReductionSpec, o: TrendOptions, inRun: ReadonlySet<string>, entries: AsyncIterable<CacheEntry> = storedEntries(out), declarations: Declarations = new Map()): Promise<History> {
+export async function readHistory(out: string, spec: ReductionSpec, o: TrendOptions, inRun: ReadonlySet<string>, entries: AsyncIterable<CacheEntry> = storedEntries(out), declarations: Declarations = new Map(), version: string = toolVersion): Promise<History> {
   const recordings: string[] = [];
   const building = new Map<string, Building>();
-  const keysOf = new Map<string, Record<string, string>>();
+  const keys = groupKeys(spec, version);
   let excludedCount = 0;
   for await (const e of entries) {
     if (e.status !== 'reduced' || !e.base) continue;
-    const keys = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version)).get(e.version)!;
     const declared = declarations.get(e.group);
     const sameDeclaration = !declared || declared.has(e.declKey);
     const sameOptions = o.features.map((f) => sameDeclaration && e.groupKeys?.[f.group] === keys[f.group]);

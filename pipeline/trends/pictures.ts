@@ -3,6 +3,7 @@
 // the recordings pictured, and thinned to a few hundred bins.
 import { unpackSpectrum } from '../../stages/spectra.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, type CacheEntry } from '../plan/cache.js';
 import { baselineMembers, eraAt, erasOf, type BaselineStats } from './baseline.js';
 import type { ChangeItem, ChangesReport, ScoredFeature } from './changes.js';
@@ -96,7 +97,7 @@ function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
 const sameChannel = (s: Series, c: { group: string; channel: string; unit: string }) => s.group === c.group && s.channel === c.channel && s.unit === c.unit;
 
 /** Pictures of the channels with the strongest changes, reading the spectra they need in one pass over `entries`. */
-export async function gatherPictures(h: History, scored: ScoredFeature[], report: ChangesReport, o: TrendOptions, spec: ReductionSpec, entries: AsyncIterable<CacheEntry>): Promise<ChannelPictures[]> {
+export async function gatherPictures(h: History, scored: ScoredFeature[], report: ChangesReport, o: TrendOptions, spec: ReductionSpec, entries: AsyncIterable<CacheEntry>, version: string = toolVersion): Promise<ChannelPictures[]> {
   const channels: { series: Series; items: ChangeItem[] }[] = [];
   for (const item of report.items) {
     const at = { group: item.group, channel: item.channel, unit: item.channel_unit };
@@ -119,11 +120,10 @@ export async function gatherPictures(h: History, scored: ScoredFeature[], report
     return members;
   });
   const spectra = channels.map(() => new Map<number, Spectrum>());
-  const keysOf = new Map<string, string>();
+  const key = groupKeys(spec, version).spectrum;
   for await (const e of entries) {
     const uses = wanted.get(e.recording);
     if (!uses || e.status !== 'reduced' || !e.base) continue;
-    const key = keysOf.get(e.version) ?? keysOf.set(e.version, groupKeys(spec, e.version).spectrum).get(e.version)!;
     const kept = e.groupKeys?.spectrum === key ? e.groups.spectrum?.kept?.spectrum : undefined;
     if (!kept) continue;
     for (const { pic, point } of uses) {

@@ -24,7 +24,7 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   const lines = [`  changes: ${alarms} channel features at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
-  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options or another declaration of their group; run once without --since to recompute them`);
+  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options, another declaration of their group or another version of quern; run once without --since to recompute them`);
   const unformed = r.unformed_baselines ?? [];
   for (const u of unformed.slice(0, top)) lines.push(`  no baseline yet for ${u.group} ${u.channel} (${u.features.join(', ')}), so no change verdict: ${u.why}`);
   if (unformed.length > top) lines.push(`  …and ${unformed.length - top} more channels without a baseline in quality.json (changes.unformed_baselines)`);
