@@ -28,7 +28,7 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
       const duration = rec.frames != null ? `${(rec.frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
       // Where a --since period will place the recording: its own start, else its modification time.
       const start = rec.startTime ? `starts ${rec.startTime.toISOString()}` : 'no start in the file (a period goes by its modification time)';
-      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channels (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}` });
+      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}` });
       for (const c of channels) channelsSeen.set(`${job.group}\u0000${c.decl.name}`, { group: job.group, channel: c.decl.name });
     } catch (e) {
       recordings.push({ recording: job.recording, group: job.group, ok: false, detail: e instanceof RecordingError ? e.message : String((e as Error).message) });
