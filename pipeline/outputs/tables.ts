@@ -15,7 +15,7 @@ export const WINDOW_TABLE: TableColumn[] = [
   { name: 'speed_rpm', type: 'float64', nullable: true, unit: 'rpm', description: 'Tacho channels: shaft speed over the window, from the good pulse intervals inside it (each counted by the share of it inside); null on other channels.' },
 ];
 
-/** cycles.parquet: rainflow cycles per recording × channel, binned or one row per distinct range and mean. */
+/** cycles.parquet: rainflow cycles per recording × channel, binned or one row per distinct range and mean (at most 65,536 a channel). */
 export const CYCLE_TABLE: TableColumn[] = [
   ...WINDOW_TABLE.slice(0, 3),
   { name: 'range', type: 'float64', nullable: false, unit: '[unit]', description: 'Cycle range (a bin\'s centre when binned).' },
