@@ -1,5 +1,5 @@
-// A recording's secondary tables can be long: an unbinned rainflow of a long strain history keeps a row for every distinct
-// cycle (some 526,000 for 8 M samples of filtered noise). Assembling them must not depend on how many arguments one call takes.
+// A recording's secondary tables can be long: cycles.parquet holds up to 65,536 rows a channel, and a recording has many
+// channels. Assembling them must not depend on how many arguments one call takes.
 import { describe, expect, it } from 'vitest';
 import { assembleRecording } from '../pipeline/reduce/assemble.js';
 import type { RecordingOutput } from '../pipeline/reduce/result.js';
