@@ -3,9 +3,10 @@
 import type { TopLevelSpec } from 'vega-lite';
 import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
-import { thinBins } from '../trends/pictures.js';
+import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
 import { COLOURS } from './colours.js';
+import { frequencyScale } from './frequency-axis.js';
 import { AXIS_LABELS, plainNumber } from './plain-number.js';
 import { densityUnit } from './density-unit.js';
 
@@ -13,8 +14,8 @@ import { densityUnit } from './density-unit.js';
 const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
 // Level as colour, ours: paper for the quietest, through teal and ochre, to brick red for the loudest.
 const LEVEL_RANGE = ['#f3efe4', '#a9cbbf', '#2c6e63', '#b7791f', '#a23b2a'];
-/** Bins per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
-const SPECTROGRAM_BINS = 80;
+/** Bands per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
+const SPECTROGRAM_BANDS = 80;
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const num = (v: number | null) => (v == null ? '—' : plainNumber(v));
@@ -79,25 +80,28 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
 }
 
 function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string, latestLabel: string): TopLevelSpec {
-  const rows = (sp: Spectrum, what: string) => Array.from(sp.density, (d, k) => ({ f: k * sp.df, d: positive(d), what })).filter((p) => p.f > 0 && p.d != null);
+  const rows = (sp: Spectrum, what: string) => Array.from(sp.density, (d, k) => ({ f: bandCentre(sp, k), d: positive(d), what })).filter((p) => p.d != null);
   const baselineLabel = `baseline (median of ${s.baselineCount})`;
   const values = [...(s.baseline ? rows(s.baseline, baselineLabel) : []), ...rows(s.latest, latestLabel)];
+  const n = s.latest.density.length, lo = bandCentre(s.latest, 0), hi = bandCentre(s.latest, n - 1);
   return {
     ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', fontSize: 12 },
     data: { values },
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
-      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
+      x: { field: 'f', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
       color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
     },
   };
 }
 
 function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string): TopLevelSpec {
+  let lo = Infinity, hi = -Infinity;
   const cells = columns.flatMap((c) => {
-    const s = thinBins(c.spectrum, SPECTROGRAM_BINS);
     const label = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
-    return Array.from(s.density, (d, k) => ({ night: label, f0: k * s.df, f1: (k + 1) * s.df, level: 10 * Math.log10(Math.max(d, 1e-30)) }));
+    const s = logBands(c.spectrum.edges, c.spectrum.density, SPECTROGRAM_BANDS);
+    if (s.density.length) { lo = Math.min(lo, s.edges[0]); hi = Math.max(hi, s.edges[s.density.length]); }
+    return Array.from(s.density, (d, k) => ({ night: label, f0: s.edges[k], f1: s.edges[k + 1], level: 10 * Math.log10(Math.max(d, 1e-30)) }));
   });
   let loudest = -Infinity;
   for (const c of cells) if (c.level > loudest) loudest = c.level;
@@ -108,7 +112,7 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
     mark: { type: 'rect' },
     encoding: {
       x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
-      y: { field: 'f0', type: 'quantitative', title: 'Hz' }, y2: { field: 'f1' },
+      y: { field: 'f0', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y2: { field: 'f1' },
       color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
     },
   };
