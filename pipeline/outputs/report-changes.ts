@@ -5,15 +5,13 @@ import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
 import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
-import { COLOURS } from './colours.js';
+import { COLOURS, LEVEL_RAMP } from './colours.js';
 import { frequencyScale } from './frequency-axis.js';
 import { AXIS_LABELS, plainNumber } from './plain-number.js';
 import { densityUnit } from './density-unit.js';
 
 // Verdict colours from the report's palette; a recording without a verdict (baseline forming, data unusable) in grey.
 const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
-// Level as colour, ours: paper for the quietest, through teal and ochre, to brick red for the loudest.
-const LEVEL_RANGE = ['#f3efe4', '#a9cbbf', '#2c6e63', '#b7791f', '#a23b2a'];
 /** Bands per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
 const SPECTROGRAM_BANDS = 80;
 
@@ -113,7 +111,8 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
     encoding: {
       x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
       y: { field: 'f0', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y2: { field: 'f1' },
-      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
+      // Interpolated in CIELAB, so lightness falls straight from the quietest level to the loudest.
+      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: [...LEVEL_RAMP], interpolate: 'lab' }, legend: { orient: 'right', gradientLength: 120 } },
     },
   };
 }
