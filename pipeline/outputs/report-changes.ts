@@ -7,6 +7,7 @@ import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
 import { COLOURS, LEVEL_RAMP } from './colours.js';
 import { frequencyScale } from './frequency-axis.js';
+import { MARKER_SHAPES, MARKER_SIZES, markerGlyph, markerOf, type Marker } from './trend-markers.js';
 import { AXIS_LABELS, plainNumber } from './plain-number.js';
 import { densityUnit } from './density-unit.js';
 
@@ -45,7 +46,7 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
   const clamp = (v: number) => Math.min(domain[1], Math.max(domain[0], v));
   const points = t.points.map((p) => ({
     t: p.t, value: p.usable ? p.value : clamp(p.value), verdict: p.usable ? p.verdict ?? 'no verdict' : 'data unusable',
-    role: p.usable ? (p.baseline ? 'baseline' : 'later') : 'off the scale',
+    marker: markerOf(p), size: MARKER_SIZES[markerOf(p)],
   }));
   const limits = Object.entries(t.limits ?? {}).map(([what, v]) => ({ v, what: `${what} limit` }));
   const unit = t.unit === '1' ? '' : ` (${t.unit})`;
@@ -62,13 +63,14 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
       // Where the baseline was formed again: a vertical line.
       ...(t.restartedAt != null ? [{ data: { values: [{ at: t.restartedAt }] }, mark: { type: 'rule' as const, color: '#52606d', strokeWidth: 1.5 }, encoding: { x: { field: 'at', type: 'temporal' as const } } }] : []),
       ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: { orient: 'bottom' as const, title: null } } } }] : []),
-      { data: { values: points.filter((p) => p.role !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
+      { data: { values: points.filter((p) => p.marker !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
       {
-        data: { values: points }, mark: { type: 'point', filled: true, size: 50 },
+        data: { values: points }, mark: { type: 'point', filled: true },
         encoding: {
           x: { field: 't', type: 'temporal' }, y,
           color: { field: 'verdict', type: 'nominal', scale: { domain: [...Object.keys(VERDICT_COLOURS), 'data unusable'], range: [...Object.values(VERDICT_COLOURS), COLOURS.fail] }, legend: null },
-          shape: { field: 'role', type: 'nominal', scale: { domain: ['baseline', 'later', 'off the scale'], range: ['square', 'circle', 'triangle-up'] }, legend: null },
+          size: { field: 'size', type: 'quantitative', scale: null, legend: null },
+          shape: { field: 'marker', type: 'nominal', scale: { domain: Object.keys(MARKER_SHAPES), range: Object.values(MARKER_SHAPES) }, legend: null },
           tooltip: [{ field: 't', type: 'temporal', title: 'start' }, { field: 'value', type: 'quantitative' }],
         },
       },
@@ -117,9 +119,10 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
   };
 }
 
-// The trend pictures' key, once per channel instead of a legend in every picture.
-const dot = (colour: string, shape = '●') => `<span style="color:${colour}">${shape}</span>`;
-const KEY = `<p class="key">${dot('#52606d', '■')} baseline recording · ${dot('#52606d')} later recording · ${dot(COLOURS.fail, '▲')} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${dot(c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
+// The trend pictures' key, once per channel instead of a legend in every picture; shape and colour both name the verdict.
+const GREY = '#52606d';
+const VERDICT_MARKERS: Record<keyof typeof VERDICT_COLOURS, Marker> = { steady: 'later', changed: 'changed', alarm: 'alarm', 'no verdict': 'later' };
+const KEY = `<p class="key">shape: ${markerGlyph('baseline', GREY)} baseline recording · ${markerGlyph('later', GREY)} later recording · ${markerGlyph('changed', COLOURS.warn)} changed · ${markerGlyph('alarm', COLOURS.fail)} alarm · ${markerGlyph('off the scale', COLOURS.fail)} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${markerGlyph(VERDICT_MARKERS[v as keyof typeof VERDICT_COLOURS], c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
 
 const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' ? 'fail' : 'warn'}">${v}</span>`;
 
