@@ -1,7 +1,10 @@
 // A logarithmic frequency axis for the report's spectra: machines' spectra span decades, which a linear axis crowds into its
-// first tick. A log axis cannot show 0 Hz, so the pictures leave the DC bin out and say so in the axis title.
+// first tick. A log axis cannot show 0 Hz, so the pictures leave the DC bin out and say so under their title.
 
-export const FREQUENCY_TITLE = 'frequency, log scale (0 Hz left out)';
+export const FREQUENCY_TITLE = 'frequency (log scale)';
+
+/** The pictures' subtitle: short, so a narrow spectrogram's title stays within it. */
+export const NO_DC = '0 Hz bin not shown';
 
 /** Tick labels with their unit: Hz below 1 kHz, kHz from there. */
 export const FREQUENCY_LABELS = 'datum.value >= 1000 ? format(datum.value / 1000, \'~g\') + \' kHz\' : format(datum.value, \'~g\') + \' Hz\'';

@@ -6,7 +6,7 @@ import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures
 import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
 import { COLOURS, LEVEL_RAMP } from './colours.js';
-import { frequencyScale } from './frequency-axis.js';
+import { frequencyScale, NO_DC } from './frequency-axis.js';
 import { MARKER_SHAPES, MARKER_SIZES, markerGlyph, markerOf, type Marker } from './trend-markers.js';
 import { AXIS_LABELS, plainNumber } from './plain-number.js';
 import { densityUnit } from './density-unit.js';
@@ -85,7 +85,7 @@ function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string,
   const values = [...(s.baseline ? rows(s.baseline, baselineLabel) : []), ...rows(s.latest, latestLabel)];
   const n = s.latest.density.length, lo = bandCentre(s.latest, 0), hi = bandCentre(s.latest, n - 1);
   return {
-    ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', fontSize: 12 },
+    ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', subtitle: NO_DC, fontSize: 12 },
     data: { values },
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
@@ -107,7 +107,7 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
   for (const c of cells) if (c.level > loudest) loudest = c.level;
   const floor = loudest - 80; // 80 dB of colour: quieter bins share the palest shade
   return {
-    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', fontSize: 12 },
+    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', subtitle: NO_DC, fontSize: 12 },
     data: { values: cells.map((c) => ({ ...c, level: Math.max(c.level, floor) })) },
     mark: { type: 'rect' },
     encoding: {
