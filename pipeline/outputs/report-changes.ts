@@ -3,18 +3,18 @@
 import type { TopLevelSpec } from 'vega-lite';
 import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
-import { thinBins } from '../trends/pictures.js';
+import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
-import { COLOURS } from './colours.js';
+import { COLOURS, LEVEL_RAMP } from './colours.js';
+import { frequencyScale, NO_DC } from './frequency-axis.js';
+import { MARKER_SHAPES, MARKER_SIZES, markerGlyph, markerOf, type Marker } from './trend-markers.js';
 import { AXIS_LABELS, plainNumber } from './plain-number.js';
 import { densityUnit } from './density-unit.js';
 
 // Verdict colours from the report's palette; a recording without a verdict (baseline forming, data unusable) in grey.
 const VERDICT_COLOURS = { steady: COLOURS.ok, changed: COLOURS.warn, alarm: COLOURS.fail, 'no verdict': '#9aa5b1' } as const;
-// Level as colour, ours: paper for the quietest, through teal and ochre, to brick red for the loudest.
-const LEVEL_RANGE = ['#f3efe4', '#a9cbbf', '#2c6e63', '#b7791f', '#a23b2a'];
-/** Bins per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
-const SPECTROGRAM_BINS = 80;
+/** Bands per spectrogram column, so a picture of 40 recordings stays a few thousand rectangles. */
+const SPECTROGRAM_BANDS = 80;
 
 const esc = (s: unknown) => String(s ?? '').replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
 const num = (v: number | null) => (v == null ? '—' : plainNumber(v));
@@ -46,7 +46,7 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
   const clamp = (v: number) => Math.min(domain[1], Math.max(domain[0], v));
   const points = t.points.map((p) => ({
     t: p.t, value: p.usable ? p.value : clamp(p.value), verdict: p.usable ? p.verdict ?? 'no verdict' : 'data unusable',
-    role: p.usable ? (p.baseline ? 'baseline' : 'later') : 'off the scale',
+    marker: markerOf(p), size: MARKER_SIZES[markerOf(p)],
   }));
   const limits = Object.entries(t.limits ?? {}).map(([what, v]) => ({ v, what: `${what} limit` }));
   const unit = t.unit === '1' ? '' : ` (${t.unit})`;
@@ -63,13 +63,14 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
       // Where the baseline was formed again: a vertical line.
       ...(t.restartedAt != null ? [{ data: { values: [{ at: t.restartedAt }] }, mark: { type: 'rule' as const, color: '#52606d', strokeWidth: 1.5 }, encoding: { x: { field: 'at', type: 'temporal' as const } } }] : []),
       ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: { orient: 'bottom' as const, title: null } } } }] : []),
-      { data: { values: points.filter((p) => p.role !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
+      { data: { values: points.filter((p) => p.marker !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
       {
-        data: { values: points }, mark: { type: 'point', filled: true, size: 50 },
+        data: { values: points }, mark: { type: 'point', filled: true },
         encoding: {
           x: { field: 't', type: 'temporal' }, y,
           color: { field: 'verdict', type: 'nominal', scale: { domain: [...Object.keys(VERDICT_COLOURS), 'data unusable'], range: [...Object.values(VERDICT_COLOURS), COLOURS.fail] }, legend: null },
-          shape: { field: 'role', type: 'nominal', scale: { domain: ['baseline', 'later', 'off the scale'], range: ['square', 'circle', 'triangle-up'] }, legend: null },
+          size: { field: 'size', type: 'quantitative', scale: null, legend: null },
+          shape: { field: 'marker', type: 'nominal', scale: { domain: Object.keys(MARKER_SHAPES), range: Object.values(MARKER_SHAPES) }, legend: null },
           tooltip: [{ field: 't', type: 'temporal', title: 'start' }, { field: 'value', type: 'quantitative' }],
         },
       },
@@ -79,44 +80,49 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
 }
 
 function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string, latestLabel: string): TopLevelSpec {
-  const rows = (sp: Spectrum, what: string) => Array.from(sp.density, (d, k) => ({ f: k * sp.df, d: positive(d), what })).filter((p) => p.f > 0 && p.d != null);
+  const rows = (sp: Spectrum, what: string) => Array.from(sp.density, (d, k) => ({ f: bandCentre(sp, k), d: positive(d), what })).filter((p) => p.d != null);
   const baselineLabel = `baseline (median of ${s.baselineCount})`;
   const values = [...(s.baseline ? rows(s.baseline, baselineLabel) : []), ...rows(s.latest, latestLabel)];
+  const n = s.latest.density.length, lo = bandCentre(s.latest, 0), hi = bandCentre(s.latest, n - 1);
   return {
-    ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', fontSize: 12 },
+    ...base, width: 330, height: 170, title: { text: 'Latest spectrum over the baseline\'s', subtitle: NO_DC, fontSize: 12 },
     data: { values },
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
-      x: { field: 'f', type: 'quantitative', title: 'Hz' }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
+      x: { field: 'f', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
       color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
     },
   };
 }
 
 function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string): TopLevelSpec {
+  let lo = Infinity, hi = -Infinity;
   const cells = columns.flatMap((c) => {
-    const s = thinBins(c.spectrum, SPECTROGRAM_BINS);
     const label = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
-    return Array.from(s.density, (d, k) => ({ night: label, f0: k * s.df, f1: (k + 1) * s.df, level: 10 * Math.log10(Math.max(d, 1e-30)) }));
+    const s = logBands(c.spectrum.edges, c.spectrum.density, SPECTROGRAM_BANDS);
+    if (s.density.length) { lo = Math.min(lo, s.edges[0]); hi = Math.max(hi, s.edges[s.density.length]); }
+    return Array.from(s.density, (d, k) => ({ night: label, f0: s.edges[k], f1: s.edges[k + 1], level: 10 * Math.log10(Math.max(d, 1e-30)) }));
   });
   let loudest = -Infinity;
   for (const c of cells) if (c.level > loudest) loudest = c.level;
   const floor = loudest - 80; // 80 dB of colour: quieter bins share the palest shade
   return {
-    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', fontSize: 12 },
+    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', subtitle: NO_DC, fontSize: 12 },
     data: { values: cells.map((c) => ({ ...c, level: Math.max(c.level, floor) })) },
     mark: { type: 'rect' },
     encoding: {
       x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
-      y: { field: 'f0', type: 'quantitative', title: 'Hz' }, y2: { field: 'f1' },
-      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: LEVEL_RANGE }, legend: { orient: 'right', gradientLength: 120 } },
+      y: { field: 'f0', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y2: { field: 'f1' },
+      // Interpolated in CIELAB, so lightness falls straight from the quietest level to the loudest.
+      color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: [...LEVEL_RAMP], interpolate: 'lab' }, legend: { orient: 'right', gradientLength: 120 } },
     },
   };
 }
 
-// The trend pictures' key, once per channel instead of a legend in every picture.
-const dot = (colour: string, shape = '●') => `<span style="color:${colour}">${shape}</span>`;
-const KEY = `<p class="key">${dot('#52606d', '■')} baseline recording · ${dot('#52606d')} later recording · ${dot(COLOURS.fail, '▲')} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${dot(c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
+// The trend pictures' key, once per channel instead of a legend in every picture; shape and colour both name the verdict.
+const GREY = '#52606d';
+const VERDICT_MARKERS: Record<keyof typeof VERDICT_COLOURS, Marker> = { steady: 'later', changed: 'changed', alarm: 'alarm', 'no verdict': 'later' };
+const KEY = `<p class="key">shape: ${markerGlyph('baseline', GREY)} baseline recording · ${markerGlyph('later', GREY)} later recording · ${markerGlyph('changed', COLOURS.warn)} changed · ${markerGlyph('alarm', COLOURS.fail)} alarm · ${markerGlyph('off the scale', COLOURS.fail)} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${markerGlyph(VERDICT_MARKERS[v as keyof typeof VERDICT_COLOURS], c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
 
 const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' ? 'fail' : 'warn'}">${v}</span>`;
 

@@ -49,6 +49,7 @@ section.channel, section.change-channel { background: #fff; margin: 16px 0; padd
 section.channel h3, section.change-channel h3 { margin: 0 0 8px; font-size: 15px; }
 section.change-channel ul { margin: 4px 0; padding-left: 20px; font-size: 13px; }
 p.key { font-size: 12px; color: #52606d; margin: 6px 0 0; }
+p.key svg.marker { vertical-align: -1px; }
 p.steady { background: #fff; border-left: 6px solid ${COLOURS.ok}; padding: 8px 14px; }
 p.unjudged { background: #fff; border-left: 6px solid ${COLOURS.note}; padding: 8px 14px; }
 .charts { display: flex; gap: 12px; flex-wrap: wrap; margin-top: 10px; }

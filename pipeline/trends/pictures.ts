@@ -1,7 +1,8 @@
 // The data behind the "what changed" pictures of a channel: each changed feature's history against its baseline band, the
 // latest spectrum over the baseline's, and the spectra across the recordings. Spectra are read from the stored results of only
-// the recordings pictured, and thinned to a few hundred bins.
+// the recordings pictured, and kept in a few hundred bands even on a log frequency axis (`log-bands.ts`).
 import { unpackSpectrum } from '../../stages/spectra.js';
+import { welchBands, type Spectrum } from './log-bands.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, type CacheEntry } from '../plan/cache.js';
@@ -12,7 +13,7 @@ import { limitsFor, type TrendOptions } from './options.js';
 import { spreadOf } from './score.js';
 import type { Verdict } from './verdict.js';
 
-/** Channels pictured at the top of the report, spectra per spectrogram, bins per pictured spectrum. */
+/** Channels pictured at the top of the report, spectra per spectrogram, bands (about) per pictured spectrum. */
 export const MAX_CHANNELS = 6, MAX_RECORDINGS = 40, MAX_BINS = 256;
 
 export interface TrendPicture {
@@ -28,7 +29,7 @@ export interface TrendPicture {
   limits: { warn?: number; alarm?: number } | null;
 }
 
-export interface Spectrum { df: number; density: Float32Array }
+export type { Spectrum };
 
 export interface ChannelPictures {
   group: string;
@@ -42,19 +43,6 @@ export interface ChannelPictures {
   spectrogram: { t: number; recording: string; spectrum: Spectrum }[];
 }
 
-/** Power-averages neighbouring bins so that at most `max` remain (the mean density over the wider bin). */
-export function thinBins(s: Spectrum, max = MAX_BINS): Spectrum {
-  const factor = Math.max(1, Math.ceil(s.density.length / max));
-  if (factor === 1) return s;
-  const out = new Float32Array(Math.ceil(s.density.length / factor));
-  for (let b = 0; b < out.length; b++) {
-    let sum = 0, n = 0;
-    for (let k = b * factor; k < Math.min(s.density.length, (b + 1) * factor); k++, n++) sum += s.density[k];
-    out[b] = sum / n;
-  }
-  return { df: s.df * factor, density: out };
-}
-
 /** Per-bin median of spectra of the same shape. */
 function medianSpectrum(list: Spectrum[]): Spectrum | null {
   if (!list.length) return null;
@@ -66,7 +54,7 @@ function medianSpectrum(list: Spectrum[]): Spectrum | null {
     const m = column.length >> 1;
     out[k] = column.length % 2 ? column[m] : (column[m - 1] + column[m]) / 2;
   }
-  return { df: list[0].df, density: out };
+  return { edges: list[0].edges, density: out };
 }
 
 /** The band of values that read steady around a baseline's median, under both change thresholds. */
@@ -131,14 +119,14 @@ export async function gatherPictures(h: History, scored: ScoredFeature[], report
       if (e.group !== s.group) continue;
       const c = e.base.channels.findIndex((ch) => ch.name === s.channel && ch.unit === s.unit);
       const spectrum = c >= 0 ? unpackSpectrum(kept[c]) : null;
-      if (spectrum) spectra[pic].set(point, thinBins(spectrum));
+      if (spectrum) spectra[pic].set(point, welchBands(spectrum, MAX_BINS));
     }
   }
   return channels.map(({ series: s, items }, pic) => {
     const have = spectra[pic];
     const latestPoint = [...have.keys()].filter((i) => h.recordings[s.recording[i]] === items[0].recording)[0];
     const latest = latestPoint != null ? have.get(latestPoint)! : null;
-    const alike = (x: Spectrum) => latest != null && x.df === latest.df && x.density.length === latest.density.length;
+    const alike = (x: Spectrum) => latest != null && x.edges.length === latest.edges.length && x.edges.every((e, k) => e === latest.edges[k]);
     const base = baselines[pic].map((i) => have.get(i)).filter((x): x is Spectrum => x != null && alike(x));
     const recent = [...have.entries()].filter(([i]) => i >= s.size - MAX_RECORDINGS && usable(s, i) && alike(have.get(i)!)).sort((a, b) => a[0] - b[0]);
     const features = scored.filter((f) => f.series === s && items.some((it) => it.feature === f.feature.name));
