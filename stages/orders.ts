@@ -53,7 +53,7 @@ export const orders: StageDefinition<OrderOptions> = {
           return blank();
         }
         if (speed.meanRpm == null || speed.minRpm == null || speed.maxRpm == null) {
-          ctx.note(`orders: no shaft speed from ${tacho.channel}; order figures left empty (null)`);
+          ctx.note(`orders: no shaft speed from ${tacho.channel}${speed.withheld ? ' (its pulse train does not hold together)' : ''}; order figures left empty (null)`);
           return blank();
         }
         const f = speed.meanRpm / 60, lobe = MAIN_LOBE_BINS[o.spectrum.window] * ctx.sampleRate / psd.length;

@@ -1,7 +1,7 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
-import { levelsOf, spanComparable, triggerFits, triggerFrom, type LevelsKind } from './dsp/trigger-level.js';
+import { levelsOf, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type SampleExtremes } from './dsp/trigger-level.js';
 import type { ChannelContext, Stage } from './stage.js';
 
 export { TRIGGER_HYSTERESIS_SHARE } from './dsp/trigger-level.js';
@@ -11,6 +11,12 @@ export const SHAFT_SPEED_KEY = 'shaft-speed';
 
 /** Seconds of signal in each stretch an undeclared trigger is found from, and then held against. */
 export const TRIGGER_LEARN_S = 1;
+/**
+ * Missing and irregular pulses per good interval above which the train does not hold together and no speed is given: intervals
+ * that fit no pattern outnumber those that do, as on a trigger in noise (our choice; extra pulses, dropped between two good ones a
+ * whole interval apart, leave each good interval whole and do not count).
+ */
+export const LOST_PER_GOOD_MAX = 1;
 /** Times kept per kind of pulse fault, for the notes (the counts are complete). */
 const TIMES_KEPT = 10;
 
@@ -22,11 +28,17 @@ export interface SpeedSummary {
   found: boolean;
   /** Where the found trigger came from: the start of its stretch, s (0: the first second). */
   foundAtS: number;
+  /** Whether its levels were set with the extremes of earlier stretches too (pulses one sample wide, at most one a stretch). */
+  foundAcross: boolean;
   /** Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise. */
   none: { firstFlat: boolean; allFlat: boolean; seconds: number } | null;
   /** Moves of a found trigger that followed the signal's level: how many, the first one's time, and the range of levels used. */
   followed: { count: number; firstS: number; lowest: number; highest: number };
-  /** Revolutions over all good intervals / their duration, and the extremes of the per-revolution speed; null without them. */
+  /** Time the good intervals cover, s (kept when the speed is withheld, for the pulse_train flag). */
+  coveredS: number;
+  /** Whether the speed is withheld: more missing and irregular pulses than good intervals (LOST_PER_GOOD_MAX). */
+  withheld: boolean;
+  /** Revolutions over all good intervals / their duration, and the extremes of the per-revolution speed; null without them or withheld. */
   meanRpm: number | null;
   minRpm: number | null;
   maxRpm: number | null;
@@ -65,8 +77,8 @@ const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length 
 function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null): ShaftSpeed {
   const p = tacho.pulsesPerRev;
   const s: SpeedSummary = {
-    trigger: null, found: false, foundAtS: 0, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
-    meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
+    trigger: null, found: false, foundAtS: 0, foundAcross: false, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
+    coveredS: 0, withheld: false, meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
   };
   let good = 0, span = 0, fastest = 0, slowest = Infinity, lastEnd = Number.NaN;
   const revolution: number[] = [];
@@ -104,12 +116,16 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   let edges: PulseEdges | null = null;
   // An undeclared trigger is found stretch by stretch (a second each): the first stretch whose levels stand clear of its noise
   // sets it (trigger-level.ts). A stretch that holds no clear pulse holds no edge worth timing, so it is let go and the search goes
-  // on, to the end if need be; the one just before is timed too, for a pulse rising across the boundary. Memory stays two stretches.
+  // on, to the end if need be; the one just before is timed too, for a pulse rising across the boundary. The extremes of the stretches
+  // let go are carried on, so pulses one sample wide, at most one a stretch, are found at the second one; the stretch that last set a
+  // new extreme is kept, and timed too when those extremes set the levels (no stretch between it and the one before holds a pulse
+  // as high, or it would have set them sooner). Memory stays three stretches.
   // Once found, each stretch is held against the trigger and moves it when its levels have drifted towards the hysteresis band.
   const declared = tacho.triggerLevel != null && tacho.triggerHysteresis != null;
   const follows = tacho.triggerLevel == null && tacho.triggerHysteresis == null;
   const stretch = Math.max(1, Math.round(TRIGGER_LEARN_S * fs));
   let block: Float64Array | null = declared ? null : new Float64Array(stretch), before: Float64Array | null = declared ? null : new Float64Array(stretch);
+  let held: Float64Array | null = null, heldFill = 0, heldStart = 0, earlier: SampleExtremes | null = null;
   let fill = 0, beforeFill = 0, blockStart = 0, kind: LevelsKind = 'smoothed', firstFlat: boolean | null = null, allFlat = true;
   if (declared) { s.trigger = { level: tacho.triggerLevel!, hysteresis: tacho.triggerHysteresis! }; edges = new PulseEdges(s.trigger, edge); }
   let current: Trigger | null = null;
@@ -117,22 +133,36 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   const stretchDone = () => {
     const x = block!.subarray(0, fill);
     if (!edges) {
-      const found = triggerFrom(x, step);
+      const found = triggerFrom(x, step, earlier);
       if (typeof found === 'string') {
         firstFlat ??= found === 'flat';
         allFlat &&= found === 'flat';
+        const extremes = sampleExtremes(x, earlier ?? undefined);
+        if (!earlier || extremes.hi1 > earlier.hi1 || extremes.lo1 < earlier.lo1) {
+          held ??= new Float64Array(stretch);
+          held.set(x);
+          heldFill = fill;
+          heldStart = blockStart;
+        }
+        earlier = extremes;
         [before, block] = [block, before];
         beforeFill = fill;
       } else {
         s.found = true;
         s.foundAtS = blockStart / fs;
+        s.foundAcross = found.across === true;
         kind = found.kind;
         s.trigger = { level: tacho.triggerLevel ?? found.trigger.level, hysteresis: tacho.triggerHysteresis ?? found.trigger.hysteresis };
         current = s.trigger;
         used(current);
-        edges = new PulseEdges(current, edge, blockStart - beforeFill);
+        const beforeStart = blockStart - beforeFill;
+        if (found.across && held && heldStart < beforeStart) {
+          edges = new PulseEdges(current, edge, heldStart);
+          edges.push(held.subarray(0, heldFill));
+          edges.skipTo(beforeStart);
+        } else edges = new PulseEdges(current, edge, beforeStart);
         edges.push(before!.subarray(0, beforeFill));
-        before = null;
+        before = held = null;
         edges.push(x);
       }
     } else {
@@ -150,21 +180,25 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     blockStart += fill;
     fill = 0;
   };
-  let done = false;
+  let done = false, read = 0;
   const finalize = () => {
     if (done) return;
     done = true;
     if (block && fill > 0) stretchDone();
-    block = before = null;
+    block = before = held = null;
     if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs };
-    train.end();
+    train.end(read);
     s.revolutions = good / p;
+    s.coveredS = span / fs;
+    s.withheld = good > 0 && s.missing.count + s.irregular.count > LOST_PER_GOOD_MAX * good;
+    if (s.withheld) return;
     if (good > 0) s.meanRpm = (60 * fs * good) / (p * span);
     if (fastest > 0) { s.maxRpm = 60 * fs * fastest; s.minRpm = 60 * fs * slowest; }
   };
   return {
     channel,
     push(x) {
+      read += x.length;
       if (!block) return edges?.push(x);
       for (let i = 0; i < x.length;) {
         const take = Math.min(x.length - i, stretch - fill);
@@ -179,7 +213,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     windows(length, hop) {
       const g = { length, hop, pulses: [] as number[], time: [] as number[] };
       grids.push(g);
-      return (j) => { finalize(); return g.time[j] > 0 ? (60 * fs * g.pulses[j]) / (p * g.time[j]) : null; };
+      return (j) => { finalize(); return !s.withheld && g.time[j] > 0 ? (60 * fs * g.pulses[j]) / (p * g.time[j]) : null; };
     },
   };
 }

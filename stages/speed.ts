@@ -24,11 +24,14 @@ export const speed: StageDefinition<Record<string, never>> = {
         const s = product.summary();
         const unit = ctx.unit;
         const tr = s.trigger;
-        const where = s.foundAtS === 0 ? 'the first second' : `the second from ${round(s.foundAtS)} s (no earlier second holds a pulse standing clear of its noise)`;
+        const where = s.foundAtS === 0 ? 'the first second'
+          : s.foundAcross ? `the second from ${round(s.foundAtS)} s with the extremes of the seconds before it (pulses one sample wide, at most one a second)`
+          : `the second from ${round(s.foundAtS)} s (no earlier second holds a pulse standing clear of its noise)`;
         if (tr && s.found) ctx.note(`${ctx.name}: tacho edges timed at ${round(tr.level)} ${unit}, hysteresis ${round(tr.hysteresis)} ${unit}, found from ${where}; declare trigger_level and trigger_hysteresis to fix them`);
         if (s.followed.count) ctx.note(`${ctx.name}: the tacho signal's levels drifted, so the trigger level followed them ${s.followed.count} time(s) from ${round(s.followed.firstS)} s on, between ${round(s.followed.lowest)} and ${round(s.followed.highest)} ${unit}; declare trigger_level and trigger_hysteresis to fix it`);
         const none = s.none ?? { firstFlat: true, allFlat: true, seconds: 0 };
         if (!tr) ctx.note(`${ctx.name}: tacho signal ${none.firstFlat ? 'flat' : 'only noise'} over the first second; ${none.allFlat ? 'flat in every second' : 'no second holds a pulse standing clear of its noise'} of the ${round(none.seconds)} s read; no trigger level found, so no speed; declare trigger_level and trigger_hysteresis`);
+        else if (s.withheld) ctx.note(`${ctx.name}: no speed: ${s.missing.count} missing and ${s.irregular.count} irregular tacho pulse(s) against ${Math.round(s.revolutions * ctx.tacho!.pulsesPerRev)} good intervals, so the pulse train does not hold together (a trigger in noise, or a level the pulses leave) and the speed columns are left empty (null); declare trigger_level and trigger_hysteresis, and check pulses_per_rev`);
         else if (s.meanRpm == null) ctx.note(`${ctx.name}: no two consecutive good tacho pulses (${s.edges} edges at ${round(tr.level)} ${unit}); check the trigger level and pulses_per_rev`);
         if (s.missing.count) ctx.note(`${ctx.name}: ${s.missing.count} tacho pulse(s) missing near ${at(s.missing)}; those intervals are left out of the speed`);
         if (s.extra.count) ctx.note(`${ctx.name}: ${s.extra.count} extra tacho pulse(s) at ${at(s.extra)}; ignored`);

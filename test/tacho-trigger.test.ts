@@ -138,7 +138,7 @@ describe('the pulse_train flag', () => {
     expect(pulseCoverage(0, 0, 10)).toBe(0);
   });
 
-  it('a clean run-up (600 → 2400 rpm, 60 pulses a revolution) reads ok; a missing and an extra pulse note; a second pulse every revolution fails', async () => {
+  it('a clean run-up (600 → 2400 rpm, 60 pulses a revolution) reads ok; a missing and an extra pulse note; a second pulse every revolution is dropped and warns', async () => {
     const fs = 25600, seconds = 10, n = fs * seconds;
     const runUp = train(n, fs, (t) => 60 * (0.3 + 10 * t + 1.5 * t * t), (_k, u) => trapezoid(u, 0.5, 0.1));
     expect((await tacho(runUp, fs, { pulses_per_rev: 60 })).flag.severity).toBe('ok');
@@ -151,9 +151,10 @@ describe('the pulse_train flag', () => {
     // A stray pulse in every period (a second mark on the shaft, or pulses_per_rev 1 where it is 2): as many faults as good intervals.
     const chatter = train(n, fs, phase, (_k, u) => trapezoid(u, 0.3, 0.01) + trapezoid(u - 0.6, 0.05, 0.01));
     const every = await tacho(chatter, fs);
-    // Truth: 1200 rpm. The uneven pairs of intervals (0.6 and 0.4 of a revolution) make a train of faults, whatever speed it reads.
+    // Truth: 1200 rpm. Each stray, 0.6 of a revolution after a true pulse, is extra; the true pulses keep their speed.
     expect((every.row.pulses_missing as number) + (every.row.pulses_extra as number)).toBeGreaterThan(150);
-    expect(every.flag.severity).toBe('fail');
+    for (const v of [every.row.speed_mean_rpm, every.row.speed_min_rpm, every.row.speed_max_rpm]) expect(relative(v, 1200)).toBeLessThan(5e-4);
+    expect(every.flag.severity).toBe('warn');
     expect(every.flag.message).toMatch(/pulses_per_rev/);
   });
 

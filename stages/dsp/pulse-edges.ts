@@ -12,6 +12,14 @@ export class PulseEdges {
   /** `next`: index of the first sample pushed, when the samples before it are not timed. */
   constructor(private trigger: Trigger, private readonly onEdge: (at: number) => void, private next = 0) {}
 
+  /** The next sample pushed is sample `index`: those before it are not timed, so the comparator starts again, disarmed. */
+  skipTo(index: number): void {
+    this.next = index;
+    this.armed = false;
+    this.prev = Number.NaN;
+    this.crossing = Number.NaN;
+  }
+
   /** Times the samples pushed from now on against another trigger (a level that follows a drifting signal). */
   retrigger(trigger: Trigger): void { this.trigger = trigger; }
 

@@ -25,16 +25,16 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
       push(x) { n += x.length; },
       finish() {
         const t = q.pulse_train;
-        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or faults exceed ${pct(t.fail_fault_ratio)} of them; warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
+        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then, from 100 %, no speed); warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
         if (!speed) {
           ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
           return { pulse_coverage: null };
         }
         const s = speed.summary(), fs = ctx.sampleRate, p = ctx.tacho!.pulsesPerRev;
         const durationS = n / fs, good = Math.round(s.revolutions * p);
-        const coveredS = s.meanRpm ? (s.revolutions * 60) / s.meanRpm : 0;
+        const coveredS = s.coveredS;
         const coverage = pulseCoverage(coveredS, good, durationS);
-        const faults = s.missing.count + s.extra.count + s.irregular.count;
+        const lost = s.missing.count + s.irregular.count, faults = lost + s.extra.count;
         const tr = s.trigger;
         const trigger = tr ? `edges timed at ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
         const todo = tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev';
@@ -46,12 +46,18 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
           const flat = !tr && s.none?.allFlat === true;
           severity = flat ? 'note' : 'warn';
           message = `no speed: ${tr ? 'no two consecutive good pulses' : flat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
-        } else if (coverage < t.fail_coverage || faults > t.fail_fault_ratio * good) {
+        } else if (s.withheld || coverage < t.fail_coverage || lost > t.fail_fault_ratio * good) {
+          // Extra pulses are dropped between two good ones a whole interval apart, so they leave each good interval whole: only
+          // missing and irregular pulses, which leave intervals unexplained, count towards a train that does not hold together.
           severity = 'fail';
-          message = `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
+          message = s.withheld
+            ? `${found}: the pulse train does not hold together (more missing and irregular pulses than good intervals), so no speed is given rather than one resting on what is likely noise or a level the pulses leave; ${todo}`
+            : `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
         } else if (coverage < t.warn_coverage || faults > t.warn_fault_ratio * good) {
           severity = 'warn';
-          message = `${found}: speed_mean_rpm, speed_min_rpm, speed_max_rpm and the windows' speed_rpm describe only the covered part, and the order figures take that speed for the whole recording; ${todo}`;
+          message = coverage < t.warn_coverage
+            ? `${found}: speed_mean_rpm, speed_min_rpm, speed_max_rpm and the windows' speed_rpm describe only the covered part, and the order figures take that speed for the whole recording; ${todo}`
+            : `${found}: the speed rests on the good intervals, the faulty pulses left out${s.extra.count > lost ? ' (an extra pulse in many revolutions: a second mark, or interference on the pickup)' : ''}; ${todo}`;
         } else {
           if (faults > 0) severity = 'note';
           message = faults > 0 ? `${found}: those intervals are left out of the speed, which rests on the rest` : `the good pulse intervals cover ${pct(coverage)} of the recording, with no pulse fault`;
