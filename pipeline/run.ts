@@ -23,7 +23,7 @@ import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan, type ScannedRecording } from './select/scan.js';
 import { byStartTime, shardOf, type CaptureDue, type QuietGroup, type Shard } from './select/select.js';
-import { lateArrivalsOf, lateArrivalsRecord } from './select/late-arrivals.js';
+import { arrivalsBefore, lateArrivalsRecord } from './select/late-arrivals.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
 import type { TrendsWrite } from './trends/trends.js';
@@ -102,6 +102,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const leftovers = await sweepLeftovers(outDir, shard);
     // So are the temporary copies of compressed MAT-file variables that runs or threads since stopped left in TMPDIR.
     await sweepSpools();
+    const scanStartedMs = Date.now();
     const scanned = await scan(root, declaration, { exclude: [outDir] });
     store = await Store.open(outDir, shard);
     const s = store;
@@ -110,11 +111,11 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     let quiet: QuietGroup[] = [], due: CaptureDue[] = [];
     if (o.since != null || o.until != null) ({ chosen, quiet, due, starts } = await byStartTime(share, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity));
     const inPeriod = new Set(chosen.map((r) => r.recording));
-    // Recordings before the period with no stored result (copied in after the runs that covered their dates) are found from
-    // the starts just taken; without --until they are reduced too, for the trends' history alone.
-    const late = o.since != null ? lateArrivalsOf(share, starts, o.since, (r) => s.get(r) != null) : [];
+    // Recordings before the period that came in since the previous run looked (an older night copied in late) are found from
+    // the starts just taken; without --until they are decided too, and reduced where that has work, for the trends' history alone.
+    const arrived = o.since != null ? arrivalsBefore(share, starts, o.since, await s.previousScanMs()) : [];
     const reduceLate = o.until == null;
-    const toDecide = reduceLate && late.length ? [...chosen, ...late.map((l) => l.file)] : chosen;
+    const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     if (firstRun) void pool.prestart(toDecide.length);
     const keys = groupKeys(spec.spec, toolVersion);
@@ -124,7 +125,12 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const { taken, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
     // The period's decisions make its tables and lines; the late arrivals taken are reduced and stored beside them.
     const decisions = toDecide === chosen ? taken : taken.filter((d) => inPeriod.has(d.recording));
-    const lateTaken = toDecide === chosen ? [] : taken.filter((d) => !inPeriod.has(d.recording));
+    const lateTaken = toDecide === chosen ? [] : taken.filter((d) => !inPeriod.has(d.recording) && d.stores);
+    // Late arrivals: those with work to do (new, changed, or to be tried again); with --until, those with no stored result.
+    const startOf = new Map(arrived.map((l) => [l.file.recording, l.start]));
+    const late = reduceLate
+      ? lateTaken.map((d) => ({ file: d.file, start: startOf.get(d.recording)! }))
+      : arrived.filter((l) => s.get(l.file.recording) == null);
     const scanS = clock(t);
 
     t = performance.now();
@@ -191,11 +197,16 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       period: o.since != null || o.until != null ? {
         since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}),
         // Those left to settle are named there, and are late arrivals again for the next run.
-        ...(o.since != null ? { late_arrivals: lateArrivalsRecord(late.filter((l) => !left.has(l.file.recording)), groupNames, reduceLate, (r) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; }) } : {}),
+        ...(o.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, reduceLate, (r) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; }) } : {}),
       } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
+    // The next run's late arrivals are the files that appear after this scan began, and those this run left to a later one
+    // (named but not reduced under --until, or left to settle), which must stay late.
+    const leftLate = [...(reduceLate ? [] : late.map((l) => l.file)), ...arrived.filter((l) => left.has(l.file.recording)).map((l) => l.file)];
+    const mark = leftLate.reduce((m, f) => ((f.ctimeMs ?? 0) > 0 ? Math.min(m, f.ctimeMs!) : m), scanStartedMs);
+    await writing(s.own!, () => s.markScanned(mark));
     return { record, quality: written.quality, threadsGivenUp };
   } finally {
     await pool.destroy();

@@ -59,7 +59,7 @@ describe('a night copied into the archive after the nightly runs that covered it
     add(1);
     const r = reduce(archive, out, '--since', day(5));
     expect(r.code).toBe(0);
-    expect(r.stdout).toContain("  LATE    1 late arrival (a recording starting before this period with no stored result, started 2026-11-01T02:00:00.000Z): reduced for the trends' history, and kept out of this period's tables; see run.json (period.late_arrivals)");
+    expect(r.stdout).toContain("  LATE    1 late arrival (a recording starting before this period that came in after the previous run, started 2026-11-01T02:00:00.000Z): reduced for the trends' history, and kept out of this period's tables; see run.json (period.late_arrivals)");
     const run = readJson(join(out, 'run.json'));
     expect(run.period.late_arrivals).toEqual({
       count: 1, earliest_start: '2026-11-01T02:00:00.000Z', latest_start: '2026-11-01T02:00:00.000Z', reduced: true, failed: 0,
@@ -91,13 +91,31 @@ describe('a night copied into the archive after the nightly runs that covered it
     expect(await trendRows(out)).toEqual(nightly);
   }, 120_000);
 
+  it('is only what came in after the previous run looked: a first --since run into a new folder reduces its period alone, and so does the next', async () => {
+    const { root, archive, add } = archiveOf([1, 2, 3, 4]), out = join(root, 'out');
+    // A new output folder: the earlier nights are there, and left out as the period asks (the baselines say so).
+    const first = reduce(archive, out, '--since', day(4));
+    expect(first.code).toBe(0);
+    expect(first.stdout).not.toMatch(/LATE/);
+    expect(first.stdout).toMatch(/baselines formed from this period only/);
+    expect(readJson(join(out, 'run.json')).period.late_arrivals.count).toBe(0);
+    // The next night: nights 1–3 were there when the first run looked, so they are no late arrivals; night 5 is the period's.
+    add(5);
+    const next = reduce(archive, out, '--since', day(5));
+    expect(next.code).toBe(0);
+    expect(next.stdout).not.toMatch(/LATE/);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.period.late_arrivals.count).toBe(0);
+    expect(run.counts.recomputed).toBe(1);
+  }, 120_000);
+
   it('with --until, is named with what to run, not reduced; a run with --since alone then reduces it', async () => {
     const { root, archive, add } = archiveOf([2, 3, 4, 5]), out = join(root, 'out'), fresh = join(root, 'fresh');
     expect(reduce(archive, out, '--quiet').code).toBe(0);
     add(1);
     const bounded = reduce(archive, out, '--since', day(5), '--until', day(6));
     expect(bounded.code).toBe(0);
-    expect(bounded.stdout).toContain("  LATE    1 late arrival (a recording starting before this period with no stored result, started 2026-11-01T02:00:00.000Z): not reduced, as --until bounds this run, so the trends' history lacks them; run once with --since alone (or without --since) to reduce them; see run.json (period.late_arrivals)");
+    expect(bounded.stdout).toContain("  LATE    1 late arrival (a recording starting before this period that came in after the previous run, started 2026-11-01T02:00:00.000Z): not reduced, as --until bounds this run, so the trends' history lacks them; run once with --since alone (or without --since) to reduce them; see run.json (period.late_arrivals)");
     expect(readJson(join(out, 'run.json')).period.late_arrivals).toMatchObject({ count: 1, reduced: false, recordings: [{ recording: name(1), group: 'rig', start_time: '2026-11-01T02:00:00.000Z' }] });
     const open = reduce(archive, out, '--since', day(5), '--quiet');
     expect(open.code).toBe(0);

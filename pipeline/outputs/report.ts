@@ -33,7 +33,7 @@ export interface RunRecord {
   /**
    * The period asked for with --since/--until (ms since the epoch), how many recordings fell in it, and the groups whose
    * recordings all start before it (absent from parts written before this was kept). With --since: the late arrivals, recordings
-   * starting before the period with no stored result, reduced for the trends' history unless --until bounds the run.
+   * starting before the period that came in after the previous run, reduced for the trends' history unless --until bounds the run.
    */
   period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */

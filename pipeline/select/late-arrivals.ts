@@ -1,6 +1,8 @@
-// Late arrivals: recordings that start before a --since period and have no stored result, such as an older night copied
-// into the archive after the nightly runs that covered its dates. No period would ever select them, so a run without
-// --until reduces them for the trends' history (never into the period's tables), and every run with a period names them.
+// Late arrivals: recordings that start before a --since period and came into the archive after the previous run of the
+// output folder scanned it, such as an older night copied in after the nightly runs that covered its dates. No period would
+// ever select them, so a run without --until reduces them for the trends' history (never into the period's tables), and
+// every run with a period names them. Recordings that were there when the previous run looked, and that it left out, are
+// not: a first --since run into a new output folder reduces its period alone, as asked.
 import type { ScannedRecording } from './scan.js';
 
 /** One late arrival as run.json lists it: its start, and what its reduction gave where it was reduced. */
@@ -18,10 +20,16 @@ export interface LateArrivals {
   recordings: LateArrival[];
 }
 
-/** The recordings starting before `since` with no stored result, each with its start; `starts` is aligned with `recordings`. */
-export function lateArrivalsOf(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, stored: (recording: string) => boolean): { file: ScannedRecording; start: number }[] {
+/**
+ * The recordings starting before `since` that appeared (or changed as files) at or after `previousScanMs`, the time the
+ * previous run of this output folder began its scan, each with its start; `starts` is aligned with `recordings`. A file's
+ * inode change time tells when it appeared: a copy that keeps the modification time (cp -p, rsync -t) still sets it.
+ * No previous scan (a new output folder): none.
+ */
+export function arrivalsBefore(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, previousScanMs: number | null): { file: ScannedRecording; start: number }[] {
+  if (previousScanMs == null) return [];
   const late: { file: ScannedRecording; start: number }[] = [];
-  recordings.forEach((r, i) => { if (starts[i] < since && !stored(r.recording)) late.push({ file: r, start: starts[i] }); });
+  recordings.forEach((r, i) => { if (starts[i] < since && (r.ctimeMs ?? 0) >= previousScanMs) late.push({ file: r, start: starts[i] }); });
   return late;
 }
 
@@ -52,7 +60,7 @@ export function combinedLateArrivals(parts: readonly (LateArrivals | undefined)[
 /** The terminal's lines on late arrivals: how many and when they start, what became of them, and each one that failed. */
 export function lateArrivalLines(l: LateArrivals): string[] {
   if (!l.count) return [];
-  const which = `${l.count} late ${l.count === 1 ? 'arrival' : 'arrivals'} (${l.count === 1 ? 'a recording' : 'recordings'} starting before this period with no stored result, ${l.earliest_start === l.latest_start ? `started ${l.earliest_start}` : `started ${l.earliest_start} to ${l.latest_start}`})`;
+  const which = `${l.count} late ${l.count === 1 ? 'arrival' : 'arrivals'} (${l.count === 1 ? 'a recording' : 'recordings'} starting before this period that came in after the previous run, ${l.earliest_start === l.latest_start ? `started ${l.earliest_start}` : `started ${l.earliest_start} to ${l.latest_start}`})`;
   const what = l.reduced
     ? `reduced for the trends' history, and kept out of this period's tables${l.failed ? `; ${l.failed} failed` : ''}`
     : 'not reduced, as --until bounds this run, so the trends\' history lacks them; run once with --since alone (or without --since) to reduce them';
