@@ -5,7 +5,7 @@ import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
 import { progressFor } from './outputs/progress.js';
-import { quietGroupsOf, summaryText, type RunRecord } from './outputs/report.js';
+import { failedOf, quietGroupsOf, summaryText, type RunRecord } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
@@ -44,7 +44,7 @@ function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, e
   const alarms = exitOn.has('alarm') || exitOn.has('changed') ? items.filter((c) => c.verdict === 'alarm').length : 0;
   const changed = exitOn.has('changed') ? items.length - alarms : 0;
   const quiet = exitOn.has('quiet') ? quietGroupsOf(r).length : 0;
-  const failed = r.counts.failed;
+  const failed = failedOf(r);
   const said = [
     alarms ? `${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit` : null,
     changed ? `${changed} channel ${changed === 1 ? 'feature' : 'features'} changed` : null,

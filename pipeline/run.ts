@@ -23,6 +23,7 @@ import { decide } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan, type ScannedRecording } from './select/scan.js';
 import { byStartTime, shardOf, type CaptureDue, type QuietGroup, type Shard } from './select/select.js';
+import { arrivalsBefore, lateArrivalsRecord } from './select/late-arrivals.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
 import type { TrendsWrite } from './trends/trends.js';
@@ -101,29 +102,42 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const leftovers = await sweepLeftovers(outDir, shard);
     // So are the temporary copies of compressed MAT-file variables that runs or threads since stopped left in TMPDIR.
     await sweepSpools();
+    const scanStartedMs = Date.now();
     const scanned = await scan(root, declaration, { exclude: [outDir] });
     store = await Store.open(outDir, shard);
     const s = store;
-    let chosen = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
+    const share = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
+    let chosen = share, starts: number[] = [];
     let quiet: QuietGroup[] = [], due: CaptureDue[] = [];
-    if (o.since != null || o.until != null) ({ chosen, quiet, due } = await byStartTime(chosen, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity));
-    // Whether every recording outside the period already has a stored result (then no run could form a baseline from more).
+    if (o.since != null || o.until != null) ({ chosen, quiet, due, starts } = await byStartTime(share, declaration.groups, (r) => s.knownStart(r), o.since ?? -Infinity, o.until ?? Infinity));
     const inPeriod = new Set(chosen.map((r) => r.recording));
-    const earlierStored = o.since != null && scanned.recordings.every((r) => inPeriod.has(r.recording) || s.get(r.recording) != null);
+    // Recordings before the period that came in since the previous run looked (an older night copied in late) are found from
+    // the starts just taken; without --until they are decided too, and reduced where that has work, for the trends' history alone.
+    const arrived = o.since != null ? arrivalsBefore(share, starts, o.since, await s.previousScanMs()) : [];
+    const reduceLate = o.until == null;
+    const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
-    if (firstRun) void pool.prestart(chosen.length);
+    if (firstRun) void pool.prestart(toDecide.length);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decided = await decide(chosen, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash, retryFailed: o.retryFailed });
+    const decided = await decide(toDecide, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash, retryFailed: o.retryFailed });
     const { itemOf, identityOf } = decided;
     // Captures that may still be written wait for the next run.
-    const { taken: decisions, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
+    const { taken, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
+    // The period's decisions make its tables and lines; the late arrivals taken are reduced and stored beside them.
+    const decisions = toDecide === chosen ? taken : taken.filter((d) => inPeriod.has(d.recording));
+    const lateTaken = toDecide === chosen ? [] : taken.filter((d) => !inPeriod.has(d.recording) && d.stores);
+    // Late arrivals: those with work to do (new, changed, or to be tried again); with --until, those with no stored result.
+    const startOf = new Map(arrived.map((l) => [l.file.recording, l.start]));
+    const late = reduceLate
+      ? lateTaken.map((d) => ({ file: d.file, start: startOf.get(d.recording)! }))
+      : arrived.filter((l) => s.get(l.file.recording) == null);
     const scanS = clock(t);
 
     t = performance.now();
     // Entries confirmed by content now are stored again as they are; the rest of the work goes to the pool in batches.
     await writing(s.own!, () => s.restamp(decisions.filter((d) => d.restamp).map((d) => ({ previous: d.previous!, identity: identityOf(d), readAtMs: d.file.readAtMs }))));
-    const todo = decisions.filter((d) => d.stores && !d.restamp);
-    o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length - todo.length);
+    const todo = [...decisions, ...lateTaken].filter((d) => d.stores && !d.restamp);
+    o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length + lateTaken.length - todo.length);
     // New results mean new outputs: their writers' code loads while the workers reduce, not after.
     if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
     const { threadsGivenUp } = await reduceAll(pool, todo, {
@@ -142,6 +156,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     });
     o.progress?.stop();
     const reduceS = clock(t);
+    // Whether every recording outside the period has a stored result now, late arrivals reduced included (then no run could form a baseline from more).
+    const earlierStored = o.since != null && scanned.recordings.every((r) => inPeriod.has(r.recording) || s.get(r.recording) != null);
 
     t = performance.now();
     const labelsOf = new Map(declaration.groups.map((g) => [g.name, g.labels]));
@@ -178,10 +194,19 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),
       // A shard sees part of each group: merge judges declared capture intervals from every shard's latest start.
-      period: o.since != null || o.until != null ? { since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}) } : null,
+      period: o.since != null || o.until != null ? {
+        since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}),
+        // Those left to settle are named there, and are late arrivals again for the next run.
+        ...(o.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, reduceLate, (r) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; }) } : {}),
+      } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
+    // The next run's late arrivals are the files that appear after this scan began, and those this run left to a later one
+    // (named but not reduced under --until, or left to settle), which must stay late.
+    const leftLate = [...(reduceLate ? [] : late.map((l) => l.file)), ...arrived.filter((l) => left.has(l.file.recording)).map((l) => l.file)];
+    const mark = leftLate.reduce((m, f) => ((f.ctimeMs ?? 0) > 0 ? Math.min(m, f.ctimeMs!) : m), scanStartedMs);
+    await writing(s.own!, () => s.markScanned(mark));
     return { record, quality: written.quality, threadsGivenUp };
   } finally {
     await pool.destroy();

@@ -20,6 +20,7 @@ import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
 import { quietByCadence, shardOf, type CaptureDue, type QuietGroup } from '../select/select.js';
+import { combinedLateArrivals, type LateArrivals } from '../select/late-arrivals.js';
 
 export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
@@ -70,7 +71,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       lines: listed.map((r, i) => runLine(items[i].loc.facts, r.group, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet } : null,
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, 'run.json', record);
@@ -105,6 +106,12 @@ function presentOverall(parts: RunRecord[], store: Store): Map<string, string> {
     else for (const r of store.entries.keys()) if (!present.has(r) && shardOf(r, p.shard!.n) === p.shard!.k) present.set(r, store.get(r)!.group);
   }
   return present;
+}
+
+/** Every shard's late arrivals as one (none when the shards kept none). */
+function lateArrivalsOverall(parts: RunRecord[]): { late_arrivals?: LateArrivals } {
+  const late = combinedLateArrivals(parts.map((p) => p.period?.late_arrivals));
+  return late ? { late_arrivals: late } : {};
 }
 
 /**

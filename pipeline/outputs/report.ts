@@ -4,6 +4,7 @@ import type { LoadedSpec } from '../declare/declare.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
 import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
+import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
@@ -31,9 +32,10 @@ export interface RunRecord {
   shard: Shard | null;
   /**
    * The period asked for with --since/--until (ms since the epoch), how many recordings fell in it, and the groups whose
-   * recordings all start before it (absent from parts written before this was kept).
+   * recordings all start before it (absent from parts written before this was kept). With --since: the late arrivals, recordings
+   * starting before the period that came in after the previous run, reduced for the trends' history unless --until bounds the run.
    */
-  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[] } | null;
+  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
@@ -143,6 +145,9 @@ export function commonNotes(messages: string[], shown = NOTE_KINDS_SHOWN): strin
 /** Recordings left to settle that the terminal names; run.json lists them all. */
 const MAX_SETTLING_LINES = 10;
 
+/** Recordings this run reduced that failed: the period's, and late arrivals reduced for the trends' history. */
+export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0);
+
 /** The quiet groups a run's record tells: a shard sees only its share of the archive, so merge tells them for the whole of it. */
 export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.period?.quiet_groups ?? []);
 
@@ -157,6 +162,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recording${noted.length === 1 ? '' : 's'}: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
+  if (r.period?.late_arrivals) lines.push(...lateArrivalLines(r.period.late_arrivals));
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; ${lastCapture(g)}`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);

@@ -14,9 +14,10 @@ const TEMPORARY = /^\.(.+?)\.(\d+)(?:\.[0-9a-f]{8})?\.tmp$/;
  * folder's own files and the whole run's pack, shard K of N its parts and its pack. Other holders' files are left alone.
  */
 export function ownedBy(shard: { k: number; n: number } | null): { folder: string; owns: (name: string) => boolean }[] {
-  if (!shard) return [{ folder: '.', owns: () => true }, { folder: 'cache', owns: (name) => name === 'entries.pack' || name === 'trends.json' }];
-  const mine = `-${shard.k}-of-${shard.n}.`;
-  return [{ folder: 'parts', owns: (name) => name.includes(mine) }, { folder: 'cache', owns: (name) => name === `entries-${shard.k}-of-${shard.n}.pack` }];
+  // A pack's scan mark (store.ts) goes with its pack.
+  if (!shard) return [{ folder: '.', owns: () => true }, { folder: 'cache', owns: (name) => name === 'entries.pack' || name === 'entries.pack.scanned' || name === 'trends.json' }];
+  const mine = `-${shard.k}-of-${shard.n}.`, pack = `entries-${shard.k}-of-${shard.n}.pack`;
+  return [{ folder: 'parts', owns: (name) => name.includes(mine) }, { folder: 'cache', owns: (name) => name === pack || name === `${pack}.scanned` }];
 }
 
 /**

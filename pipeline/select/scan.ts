@@ -16,6 +16,8 @@ export interface ScannedRecording {
   group: number;
   size: number;
   mtimeMs: number;
+  /** When the file last appeared or changed as a file (its inode's change time; a copy keeping its modification time sets it); absent: unknown. */
+  ctimeMs?: number;
   /** When size and modification time were read (ms since the epoch). */
   readAtMs: number;
 }
@@ -32,12 +34,14 @@ export class ScanTable {
   readonly group: Uint32Array;
   readonly size: Float64Array;
   readonly mtimeMs: Float64Array;
+  readonly ctimeMs: Float64Array;
   readonly readAtMs: Float64Array;
   constructor(readonly root: string, found: readonly { recording: string; group: number }[]) {
     this.recordings = found.map((f) => f.recording);
     this.group = Uint32Array.from(found, (f) => f.group);
     this.size = new Float64Array(found.length);
     this.mtimeMs = new Float64Array(found.length);
+    this.ctimeMs = new Float64Array(found.length);
     this.readAtMs = new Float64Array(found.length);
   }
   /** A file's full path, made when asked for. */
@@ -54,6 +58,7 @@ export class ScannedFile implements ScannedRecording {
   get group(): number { return this.table.group[this.row]; }
   get size(): number { return this.table.size[this.row]; }
   get mtimeMs(): number { return this.table.mtimeMs[this.row]; }
+  get ctimeMs(): number { return this.table.ctimeMs[this.row]; }
   get readAtMs(): number { return this.table.readAtMs[this.row]; }
 }
 
@@ -111,6 +116,7 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
     const s = await statOrLink(table.pathOf(i));
     table.size[i] = s?.size ?? 0;
     table.mtimeMs[i] = s?.mtimeMs ?? 0;
+    table.ctimeMs[i] = s?.ctimeMs ?? 0;
     table.readAtMs[i] = Date.now();
   });
   return { recordings: table.files(), unmatched, otherFiles };

@@ -111,8 +111,9 @@ export const QUIET_LOOKBACK_PERIODS = 7;
  * period's end (until, or now); any other group when its recordings all start before the period (none in it, none after
  * it), the latest within QUIET_LOOKBACK_PERIODS periods of its length before it: a group silent for longer has been
  * retired, not stopped last night. `due`: for each group that declares capture_every, what merge needs to judge it whole.
+ * `starts`: each recording's start, in the order given (ms since the epoch).
  */
-export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number, now = Date.now()): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[]; due: CaptureDue[] }> {
+export async function byStartTime(recordings: ScannedRecording[], groups: GroupDeclaration[], known: (recording: string) => KnownStart | undefined, since: number, until: number, now = Date.now()): Promise<{ chosen: ScannedRecording[]; quiet: QuietGroup[]; due: CaptureDue[]; starts: number[] }> {
   const limit = pLimit(16);
   const starts = await Promise.all(recordings.map((r) => limit(() => startTimeOf(r, groups[r.group], known(r.recording)))));
   const chosen = recordings.filter((_, i) => starts[i] >= since && starts[i] < until);
@@ -129,7 +130,7 @@ export async function byStartTime(recordings: ScannedRecording[], groups: GroupD
     ...[...latest].filter(([g, t]) => groups[g].capture_every == null && t < since && t >= recent).map(([g, t]) => ({ group: groups[g].name, latest_start: iso(t) })),
     ...quietByCadence(due),
   ].sort((a, b) => a.group.localeCompare(b.group));
-  return { chosen, quiet, due };
+  return { chosen, quiet, due, starts };
 }
 
 /** The groups that went longer than their declared capture_every without a recording: a latest start before the one due, or none at all. */

@@ -1,7 +1,8 @@
 // The stored entries of an output folder: one pack per writer (cache/entries.pack for whole runs, cache/entries-K-of-N.pack
 // for shard K), so shards never write the same file. Every pack is read; a recording's newest sound record is its entry.
-import { mkdir, open, readdir, rename, rm, type FileHandle } from 'node:fs/promises';
-import { basename, join } from 'node:path';
+import { mkdir, open, readdir, readFile, rename, rm, type FileHandle } from 'node:fs/promises';
+import { basename, dirname, join } from 'node:path';
+import { writeFileAtomic } from '../outputs/atomic.js';
 import { EntryTable, type StoredEntry } from './entry-table.js';
 import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } from './pack.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
@@ -9,6 +10,8 @@ import { encodeRecord, recordBody, type EntryFacts, type Identity } from './reco
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
 const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
+/** Beside a pack: when the last run that wrote it began its scan (ISO 8601). */
+const SCAN_MARK = '.scanned';
 
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
@@ -53,6 +56,21 @@ export class Store {
       sizes.set(file, r.size);
     }
     return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes);
+  }
+
+  /** When the previous run that writes this pack began its scan (ms since the epoch), or null if none said so. */
+  async previousScanMs(): Promise<number | null> {
+    if (!this.own) return null;
+    const text = await readFile(`${this.own}${SCAN_MARK}`, 'utf8').catch(() => null);
+    const ms = text == null ? NaN : Date.parse(text.trim());
+    return Number.isFinite(ms) ? ms : null;
+  }
+
+  /** Keeps when this run began its scan, for the next run's late arrivals: a small file beside the pack, replaced whole. */
+  async markScanned(ms: number): Promise<void> {
+    if (!this.own) return;
+    await mkdir(dirname(this.own), { recursive: true });
+    await writeFileAtomic(`${this.own}${SCAN_MARK}`, `${new Date(ms).toISOString()}\n`);
   }
 
   /** The recordings that have an entry (keys of recording → row). */

@@ -72,11 +72,8 @@ export function baselineOf(s: Series, k: number, era: Era): BaselineStats {
   return { members, median, mad, stale, complete: stale === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
 }
 
-/**
- * Why feature k's baseline in an era has not formed (it is not complete and holds no stale place): what the recordings in its
- * place hold, in words, with what to do. A baseline of the first N that is still forming says how far it has come.
- */
-export function whyNotFormed(s: Series, k: number, era: Era): string {
+/** What the recordings that could take a place in feature k's baseline in an era hold: how many, and how many fail the checks, are left out, lack the feature or can serve. */
+export function baselinePlaces(s: Series, k: number, era: Era): { inPlace: number; failing: number; excluded: number; missing: number; members: number } {
   const b = era.baseline, values = s.values[k];
   let inPlace = 0, failing = 0, excluded = 0, missing = 0, members = 0;
   for (let i = 0; i < s.size; i++) {
@@ -88,6 +85,27 @@ export function whyNotFormed(s: Series, k: number, era: Era): string {
     else if (!Number.isFinite(values[i])) missing++;
     else members++;
   }
+  return { inPlace, failing, excluded, missing, members };
+}
+
+/**
+ * How many more recordings a baseline of the spec's first N still needs, where too few recordings exist yet is all it lacks
+ * (none fails the checks, is left out or lacks the feature, and no restart formed it again); null otherwise.
+ */
+export function recordingsToCome(s: Series, k: number, era: Era): number | null {
+  const b = era.baseline;
+  if (!('first' in b) || era.restart) return null;
+  const p = baselinePlaces(s, k, era);
+  return p.failing || p.excluded || p.missing ? null : b.first - p.members;
+}
+
+/**
+ * Why feature k's baseline in an era has not formed (it is not complete and holds no stale place): what the recordings in its
+ * place hold, in words, with what to do. A baseline of the first N that is still forming says how far it has come.
+ */
+export function whyNotFormed(s: Series, k: number, era: Era): string {
+  const b = era.baseline;
+  const { inPlace, failing, excluded, missing, members } = baselinePlaces(s, k, era);
   const left = [
     failing ? `${failing} ${failing === 1 ? 'fails' : 'fail'} the data-quality checks` : '',
     excluded ? `${excluded} left out by trends.baseline.exclude` : '',

@@ -1,7 +1,7 @@
 // Every watched feature of every recording scored against its channel's baseline, and what changed: the latest verdict of
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
-import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
+import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, recordingsToCome, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
@@ -132,6 +132,8 @@ export interface ChangesReport {
   stale_baselines: number;
   /** Present when any: channels of this run whose baseline has not formed (no stale place held), their features and why. */
   unformed_baselines?: UnformedBaseline[];
+  /** Present when any: per group, the unformed baselines that lack only recordings yet to come (of the spec's first N), counted. */
+  forming_baselines?: FormingBaselines[];
   /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
   period_baselines?: number;
   /** Present when trends.baseline.exclude is given: how many stored recordings it leaves out of the baselines. */
@@ -145,6 +147,12 @@ export interface ChangesReport {
 /** A channel whose baseline has not formed, so its features have no change verdict: which features, and why. */
 export interface UnformedBaseline { group: string; channel: string; channel_unit: string; features: string[]; why: string }
 
+/**
+ * A group's channel features whose baselines of the first N lack only recordings not yet stored (a new archive's first
+ * nights): how many, how many more recordings they wait for (fewest and most), and their entries' places in unformed_baselines.
+ */
+export interface FormingBaselines { group: string; channel_features: number; first: number; more_recordings: { fewest: number; most: number }; unformed_entries: number[] }
+
 const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == null ? 0 : Math.abs(p.changeDb) / o.changeDb, p.score == null ? 0 : Math.abs(p.score) / o.score);
 
 /**
@@ -157,6 +165,8 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0;
   const unformed = new Map<string, UnformedBaseline>();
+  // Of those, the ones waiting only for recordings to come, by their key, with how many more each needs.
+  const toCome = new Map<string, number>();
   for (const f of scored) {
     const s = f.series;
     let latest = -1, last = -1, rows = 0;
@@ -178,6 +188,8 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
         const why = whyNotFormed(s, f.k, f.eras[j]), key = `${s.group}\u0000${s.channel}\u0000${s.unit}\u0000${why}`;
         const u = unformed.get(key) ?? unformed.set(key, { group: s.group, channel: s.channel, channel_unit: s.unit, features: [], why }).get(key)!;
         u.features.push(f.feature.name);
+        const more = recordingsToCome(s, f.k, f.eras[j]);
+        if (more != null) toCome.set(key, more);
       }
       if (sinceMs != null && !earlierStored && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
     }
@@ -203,11 +215,27 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
     ...(unformed.size ? { unformed_baselines: [...unformed.values()] } : {}),
+    ...formingOf([...unformed], toCome, 'first' in o.baseline ? o.baseline.first : 0),
     ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
     ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),
     ...unmatchedLimits(h, o),
   };
+}
+
+/** The unformed baselines waiting only for recordings to come, counted by group (present when any). */
+function formingOf(unformed: [string, UnformedBaseline][], toCome: ReadonlyMap<string, number>, first: number): Pick<ChangesReport, 'forming_baselines'> {
+  const groups = new Map<string, FormingBaselines>();
+  unformed.forEach(([key, u], i) => {
+    const more = toCome.get(key);
+    if (more == null) return;
+    const g = groups.get(u.group) ?? groups.set(u.group, { group: u.group, channel_features: 0, first, more_recordings: { fewest: more, most: more }, unformed_entries: [] }).get(u.group)!;
+    g.channel_features += u.features.length;
+    g.more_recordings.fewest = Math.min(g.more_recordings.fewest, more);
+    g.more_recordings.most = Math.max(g.more_recordings.most, more);
+    g.unformed_entries.push(i);
+  });
+  return groups.size ? { forming_baselines: [...groups.values()] } : {};
 }
 
 /** The limit entries that name their channels, none of which any stored history has (present when any entry names channels). */

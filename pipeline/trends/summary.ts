@@ -17,6 +17,9 @@ export function changeLine(c: ChangeItem): string {
   return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}`;
 }
 
+/** "2 more usable recordings", or "1 to 2 more usable recordings" where channels differ. */
+const toCome = ({ fewest, most }: { fewest: number; most: number }) => `${fewest === most ? most : `${fewest} to ${most}`} more usable ${most === 1 ? 'recording' : 'recordings'}`;
+
 export function changesSummary(r: ChangesReport, top = 5): string[] {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
   // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear.
@@ -25,7 +28,11 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options, another declaration of their group or another version of quern; run once without --since to recompute them`);
-  const unformed = r.unformed_baselines ?? [];
+  // Baselines that wait only for recordings to come (a new archive's first nights) are counted by group; the others named one by one.
+  const forming = r.forming_baselines ?? [];
+  for (const g of forming) lines.push(`  no baseline yet for ${g.channel_features} channel ${g.channel_features === 1 ? 'feature' : 'features'} of group ${g.group}, so no change verdict: ${g.channel_features === 1 ? 'it waits' : 'they wait'} for ${toCome(g.more_recordings)} (baselines form from the first ${g.first}); each is in quality.json (changes.unformed_baselines)`);
+  const condensed = new Set(forming.flatMap((g) => g.unformed_entries));
+  const unformed = (r.unformed_baselines ?? []).filter((_, i) => !condensed.has(i));
   for (const u of unformed.slice(0, top)) lines.push(`  no baseline yet for ${u.group} ${u.channel} (${u.features.join(', ')}), so no change verdict: ${u.why}`);
   if (unformed.length > top) lines.push(`  …and ${unformed.length - top} more channels without a baseline in quality.json (changes.unformed_baselines)`);
   if (r.excluded_recordings === 0) lines.push('  trends.baseline.exclude matches no stored recording: check its patterns against the recordings column of features.parquet');
