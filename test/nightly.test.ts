@@ -107,6 +107,19 @@ describe('incremental re-runs', () => {
     quern('reduce', archive, '--out', out, '--quiet', '--hash');
     expect(whyNow()).toMatch(/content changed/);
   });
+
+  it('computes again, once, what was stored without a content hash when --hash is first given, and says why', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const recording = 'nightly/2026-11-17/pump-endurance.wav', file = join(archive, recording);
+    const old = new Date(Date.now() - 3_600_000);
+    utimesSync(file, old, old);
+    const whyNow = () => readJson(join(out, 'run.json')).recordings.find((r: any) => r.recording === recording).why;
+    quern('reduce', archive, '--out', out, '--quiet');
+    quern('reduce', archive, '--out', out, '--quiet', '--hash');
+    expect(whyNow()).toBe('no content hash stored to compare with (--hash): computed again, and stored with its hash');
+    quern('reduce', archive, '--out', out, '--quiet', '--hash');
+    expect(whyNow()).toBe('unchanged');
+  });
 });
 
 describe('crash safety', () => {

@@ -147,6 +147,8 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     }
     if (entry.version !== o.version) return all(`tool version changed (${entry.version} → ${o.version})`);
     const sameContent = entry.identity.size === r.size && (hash && entry.identity.hash ? entry.identity.hash === hash : entry.identity.mtimeMs === r.mtimeMs && !hash);
+    // Stored without a content hash, an entry cannot vouch for content that --hash asks to compare: computed again, once.
+    if (!sameContent && hash && !entry.identity.hash && entry.identity.size === r.size) return all('no content hash stored to compare with (--hash): computed again, and stored with its hash');
     if (!sameContent) return all('content changed (size, modification time or content hash)');
     if (entry.declKey !== declKeyOf(r)) return all('declaration changed');
     // Confirmed by content now that the modification time can be trusted: store the entry again so later runs need not hash.
