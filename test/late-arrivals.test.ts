@@ -57,8 +57,9 @@ describe('a night copied into the archive after the nightly runs that covered it
     // Night 5 comes as usual; night 1 is copied in only now, after the runs that covered its date.
     add(5);
     add(1);
-    const r = reduce(archive, out, '--since', day(5));
+    const r = reduce(archive, out, '--since', day(5), '--log', 'json');
     expect(r.code).toBe(0);
+    expect(JSON.parse(r.stderr.trim().split('\n').at(-1)!)).toMatchObject({ event: 'summary', late_arrivals: { count: 1, reduced: true, failed: 0 } });
     expect(r.stdout).toContain("  LATE    1 late arrival (a recording starting before this period that came in after the previous run, started 2026-11-01T02:00:00.000Z): reduced for the trends' history, and kept out of this period's tables; see run.json (period.late_arrivals)");
     const run = readJson(join(out, 'run.json'));
     expect(run.period.late_arrivals).toEqual({
