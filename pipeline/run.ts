@@ -113,7 +113,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const inPeriod = new Set(chosen.map((r) => r.recording));
     // Recordings before the period that came in since the previous run looked (an older night copied in late) are found from
     // the starts just taken; without --until they are decided too, and reduced where that has work, for the trends' history alone.
-    const arrived = o.since != null ? arrivalsBefore(share, starts, o.since, await s.previousScanMs()) : [];
+    const arrived = o.since != null ? arrivalsBefore(share, starts, o.since, await s.scanMarks(), (r) => s.get(r) != null) : [];
     const reduceLate = o.until == null;
     const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
@@ -202,11 +202,11 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
-    // The next run's late arrivals are the files that appear after this scan began, and those this run left to a later one
-    // (named but not reduced under --until, or left to settle), which must stay late.
-    const leftLate = [...(reduceLate ? [] : late.map((l) => l.file)), ...arrived.filter((l) => left.has(l.file.recording)).map((l) => l.file)];
-    const mark = leftLate.reduce((m, f) => ((f.ctimeMs ?? 0) > 0 ? Math.min(m, f.ctimeMs!) : m), scanStartedMs);
-    await writing(s.own!, () => s.markScanned(mark));
+    // What this run saw and left without a stored result, for the next run's late arrivals; not those it left to a later
+    // run (late arrivals named but not reduced under --until, captures left to settle), which must stay late.
+    const notYet = new Set([...(reduceLate ? [] : late.map((l) => l.file.recording)), ...left]);
+    const leftOut = share.filter((r) => s.get(r.recording) == null && !notYet.has(r.recording)).map((r) => r.recording);
+    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOut));
     return { record, quality: written.quality, threadsGivenUp };
   } finally {
     await pool.destroy();

@@ -1,7 +1,7 @@
 // Late arrivals: an older night copied into the archive after the nightly runs that covered its dates. Reference: the
 // README's promise that two output folders over the same archive give the same trends as a fresh run's, checked row for row
 // against a fresh run without --since; the baseline rule (the first 3 usable recordings by start time) is the README's own.
-import { mkdirSync, utimesSync, writeFileSync } from 'node:fs';
+import { mkdirSync, renameSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
@@ -109,6 +109,35 @@ describe('a night copied into the archive after the nightly runs that covered it
     expect(run.period.late_arrivals.count).toBe(0);
     expect(run.counts.recomputed).toBe(1);
   }, 120_000);
+
+  it('is found when its folder is moved in whole (its files keep their change times), and by shards after a whole run', async () => {
+    const { root, archive } = archiveOf([2, 3, 4]), out = join(root, 'out'), fresh = join(root, 'fresh');
+    writeFileSync(join(archive, 'archive.yaml'), DECLARATION.replace('"rig/*.wav"', '"rig/**/*.wav"'));
+    // Night 1 waits in a folder outside the archive, written before the first run looks; a rename moves it in whole later.
+    mkdirSync(join(root, 'incoming', 'n01'), { recursive: true });
+    writeFileSync(join(root, 'incoming', 'n01', 'night.wav'), night(1));
+    expect(reduce(archive, out, '--quiet').code).toBe(0);
+    renameSync(join(root, 'incoming', 'n01'), join(archive, 'rig', 'n01'));
+    writeFileSync(join(archive, name(5)), night(5));
+    const r = reduce(archive, out, '--since', day(5));
+    expect(r.code).toBe(0);
+    expect(readJson(join(out, 'run.json')).period.late_arrivals).toMatchObject({ count: 1, reduced: true, recordings: [{ recording: 'rig/n01/night.wav', status: 'reduced' }] });
+    expect(reduce(archive, fresh, '--quiet').code).toBe(0);
+    expect(await trendRows(out)).toEqual(await trendRows(fresh, `recording = '${name(5)}'`));
+
+    // The nightly job moves to shards: night 0, written keeping an old modification time, is found by the shard whose share it is, from the
+    // whole run's mark, and merge holds the history a fresh run holds.
+    writeFileSync(join(archive, name(6)), night(6));
+    writeFileSync(join(archive, name(0)), night(0));
+    utimesSync(join(archive, name(0)), new Date(Date.UTC(2026, 9, 31, 3)), new Date(Date.UTC(2026, 9, 31, 3)));
+    for (const k of [1, 2]) expect(quern('reduce', archive, '--out', out, '--shard', `${k}/2`, '--jobs', '1', '--quiet', '--since', day(6)).code).toBe(0);
+    const m = quern('merge', out, '--jobs', '1');
+    expect(m.code).toBe(0);
+    expect(readJson(join(out, 'run.json')).period.late_arrivals).toMatchObject({ count: 1, reduced: true, recordings: [{ recording: name(0), status: 'reduced' }] });
+    rmSync(fresh, { recursive: true, force: true });
+    expect(reduce(archive, fresh, '--quiet').code).toBe(0);
+    expect(await trendRows(out)).toEqual(await trendRows(fresh, `recording = '${name(6)}'`));
+  }, 180_000);
 
   it('with --until, is named with what to run, not reduced; a run with --since alone then reduces it', async () => {
     const { root, archive, add } = archiveOf([2, 3, 4, 5]), out = join(root, 'out'), fresh = join(root, 'fresh');

@@ -1,8 +1,9 @@
-// Late arrivals: recordings that start before a --since period and came into the archive after the previous run of the
-// output folder scanned it, such as an older night copied in after the nightly runs that covered its dates. No period would
+// Late arrivals: recordings that start before a --since period and came into the archive after the earlier runs of the
+// output folder looked, such as an older night copied in after the nightly runs that covered its dates. No period would
 // ever select them, so a run without --until reduces them for the trends' history (never into the period's tables), and
-// every run with a period names them. Recordings that were there when the previous run looked, and that it left out, are
-// not: a first --since run into a new output folder reduces its period alone, as asked.
+// every run with a period names them. Recordings an earlier run saw and left out are not: a first --since run into a new
+// output folder reduces its period alone, as asked, and so do the nights after it.
+import type { ScanMarks } from '../store/store.js';
 import type { ScannedRecording } from './scan.js';
 
 /** One late arrival as run.json lists it: its start, and what its reduction gave where it was reduced. */
@@ -21,15 +22,22 @@ export interface LateArrivals {
 }
 
 /**
- * The recordings starting before `since` that appeared (or changed as files) at or after `previousScanMs`, the time the
- * previous run of this output folder began its scan, each with its start; `starts` is aligned with `recordings`. A file's
- * inode change time tells when it appeared: a copy that keeps the modification time (cp -p, rsync -t) still sets it.
- * No previous scan (a new output folder): none.
+ * The recordings starting before `since` that came in after the earlier runs looked, each with its start (`starts` is
+ * aligned with `recordings`): one with no stored result that no earlier run saw and left out (a new path: copied, moved in
+ * with its folder, renamed), or that changed as a file since it was seen; one with a stored result whose file changed as a
+ * file since the latest run (a copy over it), to be decided again. The inode change time tells: a copy that keeps the
+ * modification time (cp -p, rsync -t) still sets it. No earlier run said what it saw (a new output folder): none.
  */
-export function arrivalsBefore(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, previousScanMs: number | null): { file: ScannedRecording; start: number }[] {
-  if (previousScanMs == null) return [];
+export function arrivalsBefore(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, marks: ScanMarks, stored: (recording: string) => boolean): { file: ScannedRecording; start: number }[] {
+  const { latestMs, leftOut } = marks;
+  if (latestMs == null) return [];
   const late: { file: ScannedRecording; start: number }[] = [];
-  recordings.forEach((r, i) => { if (starts[i] < since && (r.ctimeMs ?? 0) >= previousScanMs) late.push({ file: r, start: starts[i] }); });
+  recordings.forEach((r, i) => {
+    if (!(starts[i] < since)) return;
+    const changed = (seenAt: number) => (r.ctimeMs ?? 0) >= seenAt;
+    const seenAt = leftOut.get(r.recording);
+    if (stored(r.recording) ? changed(latestMs) : seenAt === undefined || changed(seenAt)) late.push({ file: r, start: starts[i] });
+  });
   return late;
 }
 

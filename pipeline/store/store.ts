@@ -10,8 +10,12 @@ import { encodeRecord, recordBody, type EntryFacts, type Identity } from './reco
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
 const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
-/** Beside a pack: when the last run that wrote it began its scan (ISO 8601). */
+/** Beside a pack: when the last run that wrote it began its scan (ISO 8601), and what it saw and left out. */
 const SCAN_MARK = '.scanned';
+const MARK = /^entries(-\d+-of-\d+)?\.pack\.scanned$/;
+
+/** What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). */
+export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number> }
 
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
@@ -58,19 +62,31 @@ export class Store {
     return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes);
   }
 
-  /** When the previous run that writes this pack began its scan (ms since the epoch), or null if none said so. */
-  async previousScanMs(): Promise<number | null> {
-    if (!this.own) return null;
-    const text = await readFile(`${this.own}${SCAN_MARK}`, 'utf8').catch(() => null);
-    const ms = text == null ? NaN : Date.parse(text.trim());
-    return Number.isFinite(ms) ? ms : null;
+  /**
+   * What the earlier runs of this output folder saw, from every pack's scan mark (a shard's, or a whole run's, whichever
+   * ran before): when the latest began its scan, and the recordings each saw and left without a stored result, with when.
+   */
+  async scanMarks(): Promise<ScanMarks> {
+    const dir = cacheDir(this.out);
+    const names = (await readdir(dir).catch(() => [] as string[])).filter((f) => MARK.test(f)).sort();
+    let latestMs: number | null = null;
+    const leftOut = new Map<string, number>();
+    for (const name of names) {
+      const mark = await readFile(join(dir, name), 'utf8').then((t) => JSON.parse(t), () => null);
+      const ms = Date.parse(mark?.scan_started);
+      // A mark that cannot be read vouches for nothing: its recordings count as new, which costs a look, never a loss.
+      if (!Number.isFinite(ms) || !Array.isArray(mark.left_out)) continue;
+      latestMs = Math.max(latestMs ?? ms, ms);
+      for (const r of mark.left_out) if (typeof r === 'string' && !(leftOut.get(r)! > ms)) leftOut.set(r, ms);
+    }
+    return { latestMs, leftOut };
   }
 
-  /** Keeps when this run began its scan, for the next run's late arrivals: a small file beside the pack, replaced whole. */
-  async markScanned(ms: number): Promise<void> {
+  /** Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack, replaced whole. */
+  async markScanned(ms: number, leftOut: readonly string[]): Promise<void> {
     if (!this.own) return;
     await mkdir(dirname(this.own), { recursive: true });
-    await writeFileAtomic(`${this.own}${SCAN_MARK}`, `${new Date(ms).toISOString()}\n`);
+    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), left_out: leftOut }));
   }
 
   /** The recordings that have an entry (keys of recording → row). */
