@@ -47,6 +47,22 @@ function stray(fs: number, seconds: number, ppr: number): Float64Array {
 }
 
 describe('a slow shaft with pulses one sample wide', () => {
+  it('its pulses are no spikes and its edges no aliasing on a tacho channel; the same samples on another channel are', async () => {
+    const { fs } = ref.cases.slow_narrow as { fs: number };
+    const x = slowNarrow(2000, 60);
+    const flagsOf = async (decl: Partial<ChannelDeclaration>) => (await reduce(x, fs, {}, { ...TACHO, max_frequency_hz: 200, ...decl })).result.quality[0].flags as Flag[];
+    const byName = (flags: Flag[], name: string) => flags.find((f) => f.name === name)!;
+    const onTacho = await flagsOf({});
+    expect(byName(onTacho, 'spikes')).toMatchObject({ severity: 'ok', value: 20 });
+    expect(byName(onTacho, 'spikes').message).toMatch(/not judged on a tacho channel: its 20 isolated samples are pulses/);
+    expect(byName(onTacho, 'aliasing').severity).toBe('ok');
+    expect(byName(onTacho, 'aliasing').message).toMatch(/not judged on a tacho channel/);
+    // One sample of 5 V in noise of 0.05 V puts its power everywhere up to Nyquist (a delta's flat spectrum, common practice).
+    const elsewhere = await flagsOf({ pulses_per_rev: undefined });
+    expect(byName(elsewhere, 'spikes').severity).toBe('warn');
+    expect(byName(elsewhere, 'aliasing').severity).toBe('warn');
+  });
+
   it('20 rpm, one pulse every 3 s on noise, active high and active low: the speed of scipy\'s peaks, and 20 rpm', async () => {
     for (const [name, x] of [['slow_narrow', slowNarrow(2000, 60)], ['slow_narrow_low', slowNarrow(2000, 60).map((v) => 5 - v)]] as const) {
       const { fs, peaks } = ref.cases[name] as { fs: number; peaks: number[] };

@@ -32,7 +32,9 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         // `from` is not content to warn of (a dead sensor's noise fills the top of the band; the noise_floor flag judges it).
         const floor = ctx.noiseFloor ?? null;
         const beyondNoise = (share: number | null, from: number) => share == null || floor == null ? share : Math.max(0, share - (floor * floor * (1 - from / (fs / 2))) / total);
-        const topBeyond = beyondNoise(top, topFrom), aboveBeyond = f ? beyondNoise(above, f) : above;
+        // A pulse train's edges spread power to Nyquist by design, and its speed rests on edge times: not judged on a tacho channel.
+        const pulses = ctx.tacho != null;
+        const topBeyond = pulses ? null : beyondNoise(top, topFrom), aboveBeyond = pulses ? null : f ? beyondNoise(above, f) : above;
         const noiseNote = floor != null ? ' beyond what the declared noise floor puts there' : '';
         let severity: Severity = 'ok', message: string;
         const margin = f ? fs / f : null;
@@ -55,13 +57,14 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
           severity = 'warn';
           message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (${aboveBeyond < 0.99 ? `RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's` : `the declared band holds ${aboveBeyond < 1 ? 'under 1 %' : 'none'} of the power`}); check the anti-alias filter and max_frequency_hz`;
         } else {
-          message = !f ? 'no highest frequency declared; top of the band is quiet'
+          const pulseNote = pulses ? '; the power of a pulse train\'s edges, which reaches Nyquist by design, is not judged on a tacho channel' : '';
+          message = (!f ? `no highest frequency declared${pulses ? '' : '; top of the band is quiet'}`
             : aliasFree != null ? `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz, within the converter's alias-free bandwidth ${hz(aliasFree)} Hz`
-            : `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz`;
+            : `sampled at ${(fs / f).toFixed(2)} × the declared highest frequency ${f} Hz`) + pulseNote;
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}`,
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${pulses ? ' (these two not on a tacho channel)' : ''}${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}`,
           evidence: {
             declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above,
             ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}),

@@ -29,12 +29,15 @@ export const spikes: StageDefinition<QualityThresholds> = {
       finish() {
         settle(Infinity);
         const fraction = n ? count / n : 0;
-        const severity: Severity = count === 0 ? 'ok' : fraction >= q.spikes.fail_fraction ? 'fail' : 'warn';
+        // A tacho's pulses one sample wide are isolated samples far outside the spread by design; pulse_train judges them.
+        const pulses = ctx.tacho != null;
+        const severity: Severity = count === 0 || pulses ? 'ok' : fraction >= q.spikes.fail_fraction ? 'fail' : 'warn';
         ctx.flag({
           name: 'spikes', severity, value: count,
-          threshold: `warn: any isolated sample beyond ${k} robust standard deviations; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples`,
+          threshold: `warn: any isolated sample beyond ${k} robust standard deviations; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples${pulses ? ' (not on a tacho channel)' : ''}`,
           evidence: { samples: count, first_s: first >= 0 ? first / ctx.sampleRate : null },
-          message: count ? `${count} isolated spikes, first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no isolated spikes',
+          message: pulses && count ? `not judged on a tacho channel: its ${count} isolated samples are pulses one sample wide by design, which pulse_train judges`
+            : count ? `${count} isolated spikes, first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no isolated spikes',
         });
         return { spike_count: count };
       },
