@@ -134,6 +134,8 @@ describe('the pictures on the sample archive, in Chromium', () => {
       }
       const titles = await section.locator('.charts').textContent();
       expect(titles).toMatch(/0 Hz bin not shown[\s\S]*0 Hz bin not shown/);
+      // The spectrogram says how many recordings it covers (the latest, at most a fixed number).
+      expect(titles).toMatch(/Spectra across recordings\s*the latest \d+ usable recordings/);
 
       // The spectrogram's cells: lighter for quieter levels, from the fills Chromium paints (L* per IEC 61966-2-1 and CIE 15).
       const cells = await charts.nth(count - 1).locator('path[aria-roledescription="rect mark"]').evaluateAll((els) => els.map((e) => ({ label: e.getAttribute('aria-label') ?? '', fill: getComputedStyle(e).fill })));

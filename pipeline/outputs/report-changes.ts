@@ -2,7 +2,7 @@
 // features' histories (baseline band and limits), the latest spectrum over the baseline's, and its spectra across the recordings.
 import type { TopLevelSpec } from 'vega-lite';
 import type { ChangeItem, ChangesReport } from '../trends/changes.js';
-import type { ChannelPictures, Spectrum, TrendPicture } from '../trends/pictures.js';
+import { MAX_RECORDINGS, type ChannelPictures, type Spectrum, type TrendPicture } from '../trends/pictures.js';
 import { bandCentre, logBands } from '../trends/log-bands.js';
 import { changeLine } from '../trends/summary.js';
 import { COLOURS, LEVEL_RAMP } from './colours.js';
@@ -62,7 +62,11 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
       ...(t.median != null ? [{ data: { values: [{ m: t.median, ...since }] }, mark: { type: 'rule' as const, color: COLOURS.ok, strokeDash: [4, 3] }, encoding: { y: { field: 'm', type: 'quantitative' as const }, ...sinceX } }] : []),
       // Where the baseline was formed again: a vertical line.
       ...(t.restartedAt != null ? [{ data: { values: [{ at: t.restartedAt }] }, mark: { type: 'rule' as const, color: '#52606d', strokeWidth: 1.5 }, encoding: { x: { field: 'at', type: 'temporal' as const } } }] : []),
-      ...(limits.length ? [{ data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: { orient: 'bottom' as const, title: null } } } }] : []),
+      // The limits, dashed for warn and solid for alarm, each named on its line: told apart without colour.
+      ...(limits.length ? [
+        { data: { values: limits }, mark: { type: 'rule' as const, strokeWidth: 1.5 }, encoding: { y: { field: 'v', type: 'quantitative' as const }, color: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [COLOURS.warn, COLOURS.fail] }, legend: null }, strokeDash: { field: 'what', type: 'nominal' as const, scale: { domain: ['warn limit', 'alarm limit'], range: [[5, 3], [1, 0]] }, legend: null } } },
+        { data: { values: limits }, mark: { type: 'text' as const, align: 'left' as const, baseline: 'bottom' as const, dx: 3, dy: -2, fontSize: 9 }, encoding: { x: { value: 0 }, y: { field: 'v', type: 'quantitative' as const }, text: { field: 'what', type: 'nominal' as const }, color: { field: 'what', type: 'nominal' as const, legend: null } } },
+      ] : []),
       { data: { values: points.filter((p) => p.marker !== 'off the scale') }, mark: { type: 'line', color: '#4a5d7a', strokeWidth: 1 }, encoding: { x: { field: 't', type: 'temporal', title: 'start time', axis: timeAxis(points) }, y } },
       {
         data: { values: points }, mark: { type: 'point', filled: true },
@@ -90,15 +94,22 @@ function spectrumSpec(s: NonNullable<ChannelPictures['spectrum']>, unit: string,
     mark: { type: 'line', strokeWidth: 1 },
     encoding: {
       x: { field: 'f', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y: { field: 'd', type: 'quantitative', title: densityUnit(unit), scale: { type: 'log' }, axis: { format: '.0e', tickCount: 6, labelOverlap: 'greedy' } },
+      // Told apart by dash as well as colour, so the picture reads in greyscale.
       color: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [COLOURS.ok, COLOURS.fail] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
+      strokeDash: { field: 'what', type: 'nominal', scale: { domain: [baselineLabel, latestLabel], range: [[4, 2], [1, 0]] }, legend: { orient: 'bottom', title: null, labelLimit: 260 } },
     },
   };
 }
 
 function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string): TopLevelSpec {
   let lo = Infinity, hi = -Infinity;
+  // One column a recording: two starting in the same minute keep columns of their own.
+  const seen = new Map<string, number>();
   const cells = columns.flatMap((c) => {
-    const label = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
+    const minute = new Date(c.t).toISOString().slice(0, 16).replace('T', ' ');
+    const k = (seen.get(minute) ?? 0) + 1;
+    seen.set(minute, k);
+    const label = k === 1 ? minute : `${minute} (${k})`;
     const s = logBands(c.spectrum.edges, c.spectrum.density, SPECTROGRAM_BANDS);
     if (s.density.length) { lo = Math.min(lo, s.edges[0]); hi = Math.max(hi, s.edges[s.density.length]); }
     return Array.from(s.density, (d, k) => ({ night: label, f0: s.edges[k], f1: s.edges[k + 1], level: 10 * Math.log10(Math.max(d, 1e-30)) }));
@@ -107,11 +118,12 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
   for (const c of cells) if (c.level > loudest) loudest = c.level;
   const floor = loudest - 80; // 80 dB of colour: quieter bins share the palest shade
   return {
-    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', subtitle: NO_DC, fontSize: 12 },
+    ...base, width: Math.max(160, Math.min(330, 40 * columns.length)), height: 170, title: { text: 'Spectra across recordings', subtitle: [`the latest ${columns.length} usable ${columns.length === 1 ? 'recording' : 'recordings'}${columns.length >= MAX_RECORDINGS ? ` (at most ${MAX_RECORDINGS})` : ''}`, NO_DC], fontSize: 12 },
     data: { values: cells.map((c) => ({ ...c, level: Math.max(c.level, floor) })) },
     mark: { type: 'rect' },
     encoding: {
-      x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45 } },
+      // Labels that would overlap are thinned, so a long history stays readable.
+      x: { field: 'night', type: 'ordinal', title: null, axis: { labelAngle: -45, labelOverlap: 'greedy', labelSeparation: 2 } },
       y: { field: 'f0', type: 'quantitative', ...frequencyScale(lo, Math.max(hi, lo * 2)) }, y2: { field: 'f1' },
       // Interpolated in CIELAB, so lightness falls straight from the quietest level to the loudest.
       color: { field: 'level', type: 'quantitative', title: `dB re 1 ${densityUnit(unit)}`, scale: { range: [...LEVEL_RAMP], interpolate: 'lab' }, legend: { orient: 'right', gradientLength: 120 } },
