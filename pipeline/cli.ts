@@ -293,12 +293,20 @@ async function main(argv: string[]): Promise<number> {
       process.stderr.write(`quern: ${e.message}\n`);
       return EXIT.unusable;
     }
-    // Anything else is a fault in quern: not "some recordings failed" (1), since no table may have been written.
-    process.stderr.write(`quern: stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:\n${(e as Error)?.stack ?? String(e)}\n`);
-    return EXIT.unusable;
+    return unexpected(e);
   }
   return code;
 }
+
+/** A fault in quern: not "some recordings failed" (1), since no table may have been written; staged outputs leave the previous ones whole. */
+function unexpected(e: unknown): number {
+  process.stderr.write(`quern: stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:\n${(e as Error)?.stack ?? String(e)}\n`);
+  return EXIT.unusable;
+}
+
+// One thrown where no caller waits (a callback, a stream's event) would otherwise end the process with Node's exit code 1.
+process.on('uncaughtException', (e) => process.exit(unexpected(e)));
+process.on('unhandledRejection', (e) => process.exit(unexpected(e)));
 
 // A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
 for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });

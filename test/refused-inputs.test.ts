@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { editDistance, nearestNames } from '../pipeline/declare/nearest-names.js';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, quernWithin, readJson, tempDir } from './helpers.js';
+import { quern, quernUnder, quernWithin, readJson, sampleArchiveCopy, tempDir } from './helpers.js';
 
 const CHANNELS = `    channels:
       - { name: a, quantity: acceleration, unit: m/s^2, scale: 10, range: [-10, 10], bits: 16, max_frequency_hz: 1000 }
@@ -176,6 +176,21 @@ describe('reduction specs the schema cannot judge', () => {
     expect(r.stderr).not.toMatch(/limits\.velocity_10_1000_rms|unexpected error|    at /);
   });
 
+  it('refuses a figure asked for twice with file, line and key before any work, not by a crash at the end: a band, an order, a time constant, octave sets', () => {
+    const cases: [string, RegExp][] = [
+      ['bands: [[20, 200], [20.0, 200]]', /reduction\.yaml:2: bands: would make the columns band_20_200_ms, band_20_200_rms more than once/],
+      ['orders: { orders: [1, 1, 2] }', /reduction\.yaml:2: orders: would make the column order_1_rms more than once/],
+      ['time_weighting_s: [1, 1.0]', /reduction\.yaml:2: time_weighting_s: would make the column max_twrms_1000ms more than once/],
+      ['octave_bands: [{ fraction: 1, from: 31.5, to: 8000 }, { fraction: 1, from: 63, to: 250 }]', /reduction\.yaml:2: octave_bands: would make the columns oct1_63_rms, oct1_125_rms, oct1_250_rms more than once/],
+    ];
+    for (const [line, said] of cases) {
+      const r = specRun(`statistics: {}\n${line}\n`);
+      expect(r.code, r.stdout + r.stderr).toBe(2);
+      expect(r.stderr).toMatch(said);
+      expect(r.stderr).not.toMatch(/unexpected error|    at |Terminating worker/);
+    }
+  });
+
   it('refuses reversed bands, octave sets and envelope band edges, which would read 0 or nothing without a word', () => {
     const r = specRun([
       'bands: [[20, 200], [200, 20]]', //                                          1
@@ -188,6 +203,19 @@ describe('reduction specs the schema cannot judge', () => {
     expect(r.stderr).toContain('reduction.yaml:2: velocity_bands.ranges[0]: must be [low, high] with low < high, got [1000, 10]');
     expect(r.stderr).toContain('reduction.yaml:3: octave_bands[0]: from must be below to, got 8000 and 31.5');
     expect(r.stderr).toContain('reduction.yaml:4: envelope.filter: low_hz must be below high_hz, got 500 and 100');
+  });
+});
+
+describe('a fault in quern where no caller waits', () => {
+  it('ends the run with exit code 2 and the report message, not Node\'s exit code 1, and the next run goes on', () => {
+    const archive = sampleArchiveCopy(), out = join(tempDir(), 'out');
+    // A fault planted in a timer while the run works: thrown where no caller of quern's awaits it.
+    const planted = '--import=data:text/javascript,setTimeout(()=>{throw new Error("planted fault")},300)';
+    const r = quernUnder([planted], 'reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/^quern: stopped by an unexpected error; the previous outputs are kept\. Please report it with what follows:\nError: planted fault/);
+    const next = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(next.code, next.stderr).toBe(1); // the sample archive plants a truncated recording
   });
 });
 

@@ -2,6 +2,7 @@
 // channel can hold, bands whose edges are in order, and trends watching (and limiting) columns that exist. Caught here,
 // a mistake stops the run once with file, line and key, instead of failing every recording or writing figures of 0.
 import type { ReductionSpec } from '../../spec/reduction.js';
+import { activeStages } from '../../stages/index.js';
 import { unknownFeatures, unknownLimits } from '../trends/options.js';
 import { isoTimeMs } from '../../stages/read/iso-time.js';
 import type { Problem, YamlSource } from './yaml-file.js';
@@ -52,8 +53,31 @@ export function checkSpec(spec: ReductionSpec, source: YamlSource): Problem[] {
   for (const u of unknownLimits(spec)) {
     problems.push(source.problem(['trends', 'limits', u.name], `no feature column of this spec is named "${u.name}" (nearest: ${u.nearest.join(', ')}); name a column of features.parquet, or turn on the section that computes it`, true));
   }
-  problems.push(...trendDateProblems(spec, source), ...limitOrderProblems(spec, source));
+  problems.push(...trendDateProblems(spec, source), ...limitOrderProblems(spec, source), ...twiceMadeProblems(spec, source));
   return problems;
+}
+
+/** Where each feature group's options lie in reduction.yaml (the group's own name where it is the key). */
+const SECTION_OF: Record<string, string> = { time_weighting: 'time_weighting_s', velocity: 'velocity_bands' };
+
+/**
+ * A column two figures would both make (the same band twice, `[20, 200]` and `[20.0, 200]`, an order listed twice,
+ * overlapping octave sets, the same time constant twice): features.parquet can hold it once, so the spec names it once.
+ */
+function twiceMadeProblems(spec: ReductionSpec, source: YamlSource): Problem[] {
+  const makers = new Map<string, string[]>();
+  for (const s of activeStages(spec)) for (const c of s.definition.columns(s.options)) {
+    const section = SECTION_OF[s.definition.group] ?? s.definition.group;
+    (makers.get(c.name) ?? makers.set(c.name, []).get(c.name)!).push(section);
+  }
+  // One problem a section, naming the columns it would make twice.
+  const bySection = new Map<string, string[]>();
+  for (const [name, sections] of makers) {
+    if (sections.length < 2) continue;
+    const key = sections.find((k) => k in spec) ?? sections[0];
+    (bySection.get(key) ?? bySection.set(key, []).get(key)!).push(name);
+  }
+  return [...bySection].map(([key, names]) => source.problem([key], `would make ${names.length === 1 ? 'the column' : 'the columns'} ${names.slice(0, 4).join(', ')}${names.length > 4 ? `, … (${names.length} in all)` : ''} more than once, which features.parquet holds once; list each band, order, time constant or octave set once`));
 }
 
 const DATE_FORMS = '(2026-11-16, 2026-11-16T02:00Z)';
