@@ -33,6 +33,15 @@ describe('archive declaration', () => {
     }
   });
 
+  it('refuses a label named like a column but for case, and labels of two groups that differ only in case: SQL readers take them as one', () => {
+    const archive = archiveWith('groups:\n  - name: g\n    match: "a/*.wav"\n    labels:\n      RMS: high\n      Quality: gold\n      Rig: bay-3\n  - name: h\n    match: "b/*.wav"\n    labels: { rig: bay-4 }\n');
+    const r = quern('check', archive);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/archive\.yaml:5: groups\[0\]\.labels\.RMS: label "RMS" would clash with features\.parquet's column rms \(SQL readers take names without regard to case, so "RMS" is "rms" there\)/);
+    expect(r.stderr).toMatch(/archive\.yaml:6: groups\[0\]\.labels\.Quality: label "Quality" would clash with features\.parquet's column quality/);
+    expect(r.stderr).toMatch(/archive\.yaml:10: groups\[1\]\.labels\.rig: label "rig" differs from the label "Rig" of another group only in case/);
+  });
+
   it('points at the line of a bad range, an unknown key and a wrong enum', async () => {
     const yaml = [
       'groups:', //                      1

@@ -58,13 +58,20 @@ export async function loadArchiveDeclaration(archive: string, reserved: readonly
   const raw = value as { groups: RawGroup[] };
   const problems: Problem[] = [];
   const names = new Set<string>();
+  const labelNames = new Map<string, string>();
   const groups = raw.groups.map((g, gi): GroupDeclaration => {
     const at = (...p: (string | number)[]) => ['groups', gi, ...p];
     if (names.has(g.name)) problems.push(source.problem(at('name'), `group name "${g.name}" is used twice; give each group its own name`));
     names.add(g.name);
     for (const label of Object.keys(g.labels ?? {})) {
-      if (FIXED_COLUMNS.includes(label)) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the column of that name; rename the label`, true));
-      else if (reserved.includes(label)) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's column of that name under this reduction spec; rename the label`, true));
+      // SQL readers (DuckDB, SQLite, most databases) take column names without regard to case: "Quality" is "quality" there.
+      const same = (name: string) => name.toLowerCase() === label.toLowerCase();
+      const fixed = FIXED_COLUMNS.find(same), other = reserved.find(same), earlier = labelNames.get(label.toLowerCase());
+      const column = (name: string) => (name === label ? 'column of that name' : `column ${name} (SQL readers take names without regard to case, so "${label}" is "${name}" there)`);
+      if (fixed) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the ${column(fixed)}; rename the label`, true));
+      else if (other) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's ${column(other)} under this reduction spec; rename the label`, true));
+      else if (earlier && earlier !== label) problems.push(source.problem(at('labels', label), `label "${label}" differs from the label "${earlier}" of another group only in case, and SQL readers take them as one column; spell them alike`, true));
+      else labelNames.set(label.toLowerCase(), label);
     }
     const channelNames = new Set<string>();
     const channels = g.channels?.map((c, ci): ChannelDeclaration => {
