@@ -1,6 +1,6 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
 // read once from the output folder's stored results and kept as compact typed arrays (about 16 bytes a recording and
-// channel, plus 9 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
+// channel, plus 10 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
 import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { toolVersion } from '../declare/package-files.js';
