@@ -19,14 +19,15 @@ import { runLine, runRecord, writeRunRecord, type RunRecord } from './outputs/re
 import { writing } from './outputs/staged.js';
 import { sweepLeftovers } from './outputs/sweep-leftovers.js';
 import { sweepSpools } from '../stages/read/mat-spool.js';
-import { decide } from './plan/reuse.js';
+import { decide, type Decided, type Decision } from './plan/reuse.js';
 import { leaveSettling } from './plan/settle.js';
 import { refuseHidingRecordings, scan, type ScannedRecording } from './select/scan.js';
 import { byStartTime, shardOf, type CaptureDue, type QuietGroup, type Shard } from './select/select.js';
 import { arrivalsBefore, lateArrivalsRecord } from './select/late-arrivals.js';
 import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
-import type { TrendsWrite } from './trends/trends.js';
+import type { TrendsBasis, TrendsWrite } from './trends/trends.js';
+import type { RecomputedForBaselines } from './trends/renew-baselines.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -140,20 +141,24 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     o.progress?.start(todo.filter((d) => d.compute.length > 0).length, decisions.length + lateTaken.length - todo.length);
     // New results mean new outputs: their writers' code loads while the workers reduce, not after.
     if (todo.length) loadWriters().catch(() => {}); // a failure shows where the code is used
-    const { threadsGivenUp } = await reduceAll(pool, todo, {
-      stallMs: o.stallMs,
-      sizeOf: (d) => d.file.size,
-      itemOf,
-      onBatch: async (results, batch) => {
-        // Stored at once, a batch a write: a run killed later keeps this work.
-        await writing(s.own!, () => s.append(results));
-        // Results come back in the batch's order.
-        results.forEach((r, i) => {
-          const d = batch[i];
-          if (d.compute.length) o.progress?.done(r.facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
-        });
-      },
-    });
+    let threadsGivenUp = 0;
+    const reduceDecided = async (work: Decision[], itemOfWork: Decided['itemOf'], told: Progress | undefined) => {
+      threadsGivenUp += (await reduceAll(pool, work, {
+        stallMs: o.stallMs,
+        sizeOf: (d) => d.file.size,
+        itemOf: itemOfWork,
+        onBatch: async (results, batch) => {
+          // Stored at once, a batch a write: a run killed later keeps this work.
+          await writing(s.own!, () => s.append(results));
+          // Results come back in the batch's order.
+          results.forEach((r, i) => {
+            const d = batch[i];
+            if (d.compute.length) told?.done(r.facts, d.reused.length ? `(recomputed ${d.compute.join(', ')}; reused the rest)` : undefined);
+          });
+        },
+      })).threadsGivenUp;
+    };
+    await reduceDecided(todo, itemOf, o.progress);
     o.progress?.stop();
     const reduceS = clock(t);
     // Whether every recording outside the period has a stored result now, late arrivals reduced included (then no run could form a baseline from more).
@@ -178,7 +183,23 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // Each group's declaration now (as deciding keys it): an entry stored under a former one is no figure of the same measurement.
     const declarations = new Map<string, ReadonlySet<string>>();
     for (const r of scanned.recordings) if (!declarations.has(groupNames[r.group])) declarations.set(groupNames[r.group], new Set([declarationKey(planJob(r, declaration.groups, spec.spec))]));
-    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations }));
+    const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
+    // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another
+    // version, other options, another declaration), so the baselines form again today; a run with nothing stale reads the history once.
+    let basis: TrendsBasis | undefined, renewed: RecomputedForBaselines | undefined;
+    if (!shard && trends && o.since != null && o.until == null) {
+      const [{ trendsBasis }, { renewStaleBaselines, recomputedRecord }] = await Promise.all([import('./trends/trends.js'), import('./trends/renew-baselines.js')]);
+      const scannedAs = new Map(scanned.recordings.map((r) => [r.recording, r]));
+      const whyOf = new Map<string, string>();
+      const found = await renewStaleBaselines(() => trendsBasis(outDir, spec.spec, trendsInput, true), async (names) => {
+        const again = await decide(names.flatMap((r) => scannedAs.get(r) ?? []), (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, hash: o.hash, retryFailed: o.retryFailed });
+        for (const d of again.decisions) whyOf.set(d.recording, d.why);
+        await reduceDecided(again.decisions.filter((d) => d.stores && !d.restamp), again.itemOf, undefined);
+      }, trends);
+      basis = found.basis;
+      renewed = recomputedRecord(found.recomputed, (r) => { const f = s.get(r)?.facts; return { group: inArchive.get(r)!, why: whyOf.get(r) ?? '', ...(f ? { status: f.status, ...(f.reason ? { reason: f.reason } : {}) } : {}) }; });
+    }
+    const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { ...trendsInput, basis }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
@@ -198,6 +219,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
         since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}),
         // Those left to settle are named there, and are late arrivals again for the next run.
         ...(o.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, reduceLate, (r) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; }) } : {}),
+        ...(renewed ? { recomputed_for_baselines: renewed } : {}),
       } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });

@@ -98,7 +98,7 @@ describe('a night copied into the archive after the nightly runs that covered it
     const first = reduce(archive, out, '--since', day(4));
     expect(first.code).toBe(0);
     expect(first.stdout).not.toMatch(/LATE/);
-    expect(first.stdout).toMatch(/baselines formed from this period only/);
+    expect(first.stdout).toMatch(/baselines forming from this period only/);
     expect(readJson(join(out, 'run.json')).period.late_arrivals.count).toBe(0);
     // The next night: nights 1–3 were there when the first run looked, so they are no late arrivals; night 5 is the period's.
     add(5);

@@ -45,7 +45,7 @@ function rig() {
 }
 
 describe('a nightly run after a channel\'s scale was corrected in archive.yaml', () => {
-  it('holds the stored baseline places as stale, with no verdict and the note to run without --since; a whole run then equals a fresh one', async () => {
+  it('recomputes the stored baseline recordings at the new scale in the --since run itself; a whole run then equals a fresh one', async () => {
     const { root, archive, reduce } = rig(), out = join(root, 'out'), fresh = join(root, 'fresh');
     expect(reduce(out, '--quiet').code).toBe(0);
     expect((await rmsRows(out)).every((r) => r.verdict === 'steady')).toBe(true);
@@ -55,10 +55,11 @@ describe('a nightly run after a channel\'s scale was corrected in archive.yaml',
     const r = reduce(out, '--since', day(NIGHTS - 1), '--exit-on', 'changed');
     expect(r.code).toBe(0);
     expect(r.stdout).not.toMatch(/CHANGED/);
-    expect(r.stdout).toMatch(/1 channel feature has no baseline under this spec: its baseline recordings were reduced under other options, another declaration of their group or another version of quern; run once without --since/);
-    expect(readJson(join(out, 'quality.json')).changes.stale_baselines).toBe(1);
+    expect(r.stdout).toMatch(/BASELINE recomputed 3 recordings holding baseline places, stored under another declaration of their group/);
+    expect(readJson(join(out, 'quality.json')).changes.stale_baselines).toBe(0);
     const [row] = await rmsRows(out);
-    expect(row).toMatchObject({ recording: `rig/${day(NIGHTS - 1)}.wav`, baseline: null, verdict: null });
+    expect(row).toMatchObject({ recording: `rig/${day(NIGHTS - 1)}.wav`, verdict: 'steady' });
+    expect(row.baseline).not.toBeNull();
 
     // A whole run recomputes the earlier nights at the new scale; a fresh run over the same archive is the reference.
     expect(reduce(out, '--quiet').code).toBe(0);

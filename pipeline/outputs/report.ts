@@ -12,6 +12,7 @@ import type { Settling } from '../plan/settle.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
+import { recomputedLines, type RecomputedForBaselines } from '../trends/renew-baselines.js';
 
 export interface RunRecord {
   tool: 'quern';
@@ -34,8 +35,10 @@ export interface RunRecord {
    * The period asked for with --since/--until (ms since the epoch), how many recordings fell in it, and the groups whose
    * recordings all start before it (absent from parts written before this was kept). With --since: the late arrivals, recordings
    * starting before the period that came in after the previous run, reduced for the trends' history unless --until bounds the run.
+   * With --since alone (no --until, no shard): the stored recordings recomputed because they held baseline places stored under
+   * another version, other options or another declaration (none: nothing was stale).
    */
-  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals } | null;
+  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals; recomputed_for_baselines?: RecomputedForBaselines } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
@@ -145,8 +148,8 @@ export function commonNotes(messages: string[], shown = NOTE_KINDS_SHOWN): strin
 /** Recordings left to settle that the terminal names; run.json lists them all. */
 const MAX_SETTLING_LINES = 10;
 
-/** Recordings this run reduced that failed: the period's, and late arrivals reduced for the trends' history. */
-export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0);
+/** Recordings this run reduced that failed: the period's, late arrivals reduced for the trends' history, and recordings recomputed for the baselines. */
+export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0) + (r.period?.recomputed_for_baselines?.failed ?? 0);
 
 /** The quiet groups a run's record tells: a shard sees only its share of the archive, so merge tells them for the whole of it. */
 export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.period?.quiet_groups ?? []);
@@ -163,6 +166,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recording${noted.length === 1 ? '' : 's'}: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
   if (r.period?.late_arrivals) lines.push(...lateArrivalLines(r.period.late_arrivals));
+  if (r.period?.recomputed_for_baselines) lines.push(...recomputedLines(r.period.recomputed_for_baselines));
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; ${lastCapture(g)}`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);

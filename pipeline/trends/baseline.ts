@@ -11,8 +11,10 @@ export interface BaselineStats {
   mad: number;
   /** Enough members to score against: N of N, or at least one in a period, and none held by a figure of other options. */
   complete: boolean;
-  /** Baseline places held by recordings whose figure was computed under other spec options (recomputed by a whole run). */
+  /** Baseline places held by recordings whose figure was computed under other spec options, another declaration or another version. */
   stale: number;
+  /** The points holding those places. */
+  staleAt: number[];
 }
 
 /** A stretch of a series' history, start times in [fromMs, untilMs), and the baseline formed in it (null restart: the spec's own). */
@@ -38,18 +40,18 @@ const WHOLE = { fromMs: -Infinity, untilMs: Infinity };
 /**
  * Baseline points of a series within an era: usable (data quality not fail), not excluded by the spec, and accepted by `has` (a value present), first N or within the
  * period. A point `stale` (its figure computed under other options) keeps its place among the first N, so the baseline never
- * slides onto later recordings, but is not a member; `held` counts such places.
+ * slides onto later recordings, but is not a member; `held` lists the points holding such places.
  */
-export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false, era: { fromMs: number; untilMs: number } = WHOLE): { members: number[]; held: number } {
+export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false, era: { fromMs: number; untilMs: number } = WHOLE): { members: number[]; held: number[] } {
   const members: number[] = [];
-  let held = 0;
+  const held: number[] = [];
   for (let i = 0; i < s.size; i++) {
     if (!(s.time[i] >= era.fromMs && s.time[i] < era.untilMs)) continue;
     // A recording the spec leaves out of the baseline (a capture known to be unrepresentative) takes no place in it.
     if (!usable(s, i) || s.excluded[i]) continue;
-    if ('first' in b) { if (members.length + held === b.first) break; }
+    if ('first' in b) { if (members.length + held.length === b.first) break; }
     else if (!(s.time[i] >= b.fromMs && s.time[i] < b.untilMs)) continue;
-    if (stale(i)) held++;
+    if (stale(i)) held.push(i);
     else if (has(i)) members.push(i);
   }
   return { members, held };
@@ -67,9 +69,9 @@ export function formedFromPeriodOnly(s: Series, base: BaselineStats, b: Baseline
 /** The baseline of feature k of a series in an era: its members, median and median absolute deviation. */
 export function baselineOf(s: Series, k: number, era: Era): BaselineStats {
   const values = s.values[k], b = era.baseline;
-  const { members, held: stale } = baselineMembers(s, b, (i) => Number.isFinite(values[i]), (i) => s.stale[k][i] === 1, era);
+  const { members, held } = baselineMembers(s, b, (i) => Number.isFinite(values[i]), (i) => s.stale[k][i] === 1, era);
   const { median, mad } = medianAndMad(members.map((i) => values[i]));
-  return { members, median, mad, stale, complete: stale === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
+  return { members, median, mad, stale: held.length, staleAt: held, complete: held.length === 0 && ('first' in b ? members.length === b.first : members.length > 0) };
 }
 
 /** What the recordings that could take a place in feature k's baseline in an era hold: how many, and how many fail the checks, are left out, lack the feature or can serve. */

@@ -3,6 +3,7 @@
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, recordingsToCome, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
+import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
@@ -128,14 +129,18 @@ export interface ChangesReport {
   totals: Record<Verdict | 'unscored', number>;
   /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
   items: ChangeItem[];
-  /** Channel features of this run with no baseline because its recordings hold figures of other spec options or another declaration. */
+  /** Channel features of this run with no baseline because its recordings hold figures of other spec options, another declaration or another version. */
   stale_baselines: number;
+  /** Present when stale_baselines is not 0: of those, how many hold places stored by another version, under other options, under another declaration (a feature may count under several). */
+  stale_causes?: Record<StaleCauseName, number>;
   /** Present when any: channels of this run whose baseline has not formed (no stale place held), their features and why. */
   unformed_baselines?: UnformedBaseline[];
   /** Present when any: per group, the unformed baselines that lack only recordings yet to come (of the spec's first N), counted. */
   forming_baselines?: FormingBaselines[];
   /** Channel features of a --since run whose baseline was formed from the run's period alone, no earlier result being stored. */
   period_baselines?: number;
+  /** Of those, the ones still forming: the period holds fewer usable recordings than the baseline needs. */
+  period_baselines_forming?: number;
   /** Present when trends.baseline.exclude is given: how many stored recordings it leaves out of the baselines. */
   excluded_recordings?: number;
   /** Present when trends.baseline.restart is given: each entry as written, and how many stored channel histories it restarts. */
@@ -163,7 +168,8 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
 export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
-  let staleBaselines = 0, periodBaselines = 0;
+  let staleBaselines = 0, periodBaselines = 0, periodForming = 0;
+  const staleCauses = Object.fromEntries(STALE_CAUSES.map((c) => [c, 0])) as Record<StaleCauseName, number>;
   const unformed = new Map<string, UnformedBaseline>();
   // Of those, the ones waiting only for recordings to come, by their key, with how many more each needs.
   const toCome = new Map<string, number>();
@@ -182,8 +188,11 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     // The baseline this run's latest recording is held against (after a restart, the one formed since).
     if (rows) {
       const j = eraAt(f.eras, s.time[last]), base = f.bases[j];
-      if (base.stale) staleBaselines++;
-      else if (!base.complete) {
+      if (base.stale) {
+        staleBaselines++;
+        const cause = base.staleAt.reduce((c, i) => c | s.staleCause[f.k][i], 0);
+        for (const c of causesOf(cause)) staleCauses[c]++;
+      } else if (!base.complete) {
         // Named per channel and reason: the features of a channel usually share their baseline's recordings.
         const why = whyNotFormed(s, f.k, f.eras[j]), key = `${s.group}\u0000${s.channel}\u0000${s.unit}\u0000${why}`;
         const u = unformed.get(key) ?? unformed.set(key, { group: s.group, channel: s.channel, channel_unit: s.unit, features: [], why }).get(key)!;
@@ -191,7 +200,10 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
         const more = recordingsToCome(s, f.k, f.eras[j]);
         if (more != null) toCome.set(key, more);
       }
-      if (sinceMs != null && !earlierStored && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) periodBaselines++;
+      if (sinceMs != null && !earlierStored && formedFromPeriodOnly(s, base, f.eras[j].baseline, sinceMs)) {
+        periodBaselines++;
+        if (!base.complete) periodForming++;
+      }
     }
     if (latest < 0) continue;
     const p = f.at(latest)!;
@@ -214,9 +226,10 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
+    ...(staleBaselines ? { stale_causes: staleCauses } : {}),
     ...(unformed.size ? { unformed_baselines: [...unformed.values()] } : {}),
     ...formingOf([...unformed], toCome, 'first' in o.baseline ? o.baseline.first : 0),
-    ...(sinceMs != null ? { period_baselines: periodBaselines } : {}),
+    ...(sinceMs != null ? { period_baselines: periodBaselines, period_baselines_forming: periodForming } : {}),
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
     ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),
     ...unmatchedLimits(h, o),

@@ -1,11 +1,12 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
 // read once from the output folder's stored results and kept as compact typed arrays (about 16 bytes a recording and
-// channel, plus 9 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
+// channel, plus 10 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
 import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
 import type { TrendOptions } from './options.js';
+import { StaleCause } from './stale-cause.js';
 
 /** A typed array that grows by doubling. */
 class Growing<T extends Float64Array | Int32Array | Uint8Array> {
@@ -49,6 +50,8 @@ export interface Series {
   values: Float64Array[];
   /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now, or under another declaration of its group. */
   stale: Uint8Array[];
+  /** Per watched feature: why a stale point is stale, as bits of StaleCause (0 where it is not). */
+  staleCause: Uint8Array[];
 }
 
 export interface History {
@@ -62,7 +65,7 @@ const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[]; staleCause: Growing<Uint8Array>[] }
 
 /** Per group (present name), the declaration keys its recordings are reduced under now (`declarationKey`); a group absent is not checked. */
 export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
@@ -77,6 +80,9 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
   const recordings: string[] = [];
   const building = new Map<string, Building>();
   const keys = groupKeys(spec, version);
+  // The spec's keys under each stored version, so that a key differing only by version is told from one of other options.
+  const keysUnder = new Map<string, Record<string, string>>([[version, keys]]);
+  const keysOf = (v: string) => keysUnder.get(v) ?? keysUnder.set(v, groupKeys(spec, v)).get(v)!;
   let excludedCount = 0;
   for await (const e of entries) {
     if (e.status !== 'reduced' || !e.base) continue;
@@ -84,6 +90,9 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const sameDeclaration = !declared || declared.has(e.declKey);
     const sameOptions = o.features.map((f) => sameDeclaration && e.groupKeys?.[f.group] === keys[f.group]);
     const comparable = o.features.map((f, k) => sameOptions[k] && e.groups[f.group] != null);
+    const storedKeys = keysOf(e.version);
+    const causes = o.features.map((f, k) => (sameOptions[k] ? 0
+      : (e.groupKeys?.[f.group] !== storedKeys[f.group] ? StaleCause.options : 0) | (sameDeclaration ? 0 : StaleCause.declaration) | (e.version !== version ? StaleCause.version : 0)));
     const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
     const r = recordings.push(e.recording) - 1;
     const excluded = o.excluded?.(e.recording) ? 1 : 0;
@@ -91,7 +100,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8), staleCause: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
@@ -105,6 +114,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
         const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
         b!.values[k].push(typeof v === 'number' ? v : NaN);
         b!.stale[k].push(sameOptions[k] ? 0 : 1);
+        b!.staleCause[k].push(causes[k]);
       });
     });
   }
@@ -115,7 +125,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
       recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order),
-      values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)),
+      values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)), staleCause: b.staleCause.map((v) => v.take(order)),
     };
   });
   series.sort((a, b) => (a.group + '\u0000' + a.channel + '\u0000' + a.unit < b.group + '\u0000' + b.channel + '\u0000' + b.unit ? -1 : 1));

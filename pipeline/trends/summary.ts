@@ -1,6 +1,7 @@
 // The terminal's lines on what changed: the counts, then the strongest changes, one line each.
 import { plainNumber as num } from '../outputs/plain-number.js';
 import type { ChangeItem, ChangesReport } from './changes.js';
+import { storedText } from './stale-cause.js';
 
 // A value that rounds to zero carries no sign.
 const signed = (v: number, digits = 1) => { const text = Math.abs(v).toFixed(digits); return Number(text) === 0 ? text : `${v > 0 ? '+' : '−'}${text}`; };
@@ -27,7 +28,7 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   const lines = [`  changes: ${alarms} channel features at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
-  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline under this spec: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced under other options, another declaration of their group or another version of quern; run once without --since to recompute them`);
+  if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced ${storedText(r.stale_causes ?? {}) ?? 'under other options, another declaration of their group or another version of quern'}; run once without --since, or with --since alone and unsharded, to recompute them`);
   // Baselines that wait only for recordings to come (a new archive's first nights) are counted by group; the others named one by one.
   const forming = r.forming_baselines ?? [];
   for (const g of forming) lines.push(`  no baseline yet for ${g.channel_features} channel ${g.channel_features === 1 ? 'feature' : 'features'} of group ${g.group}, so no change verdict: ${g.channel_features === 1 ? 'it waits' : 'they wait'} for ${toCome(g.more_recordings)} (baselines form from the first ${g.first}); each is in quality.json (changes.unformed_baselines)`);
@@ -43,6 +44,10 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
       : `  trends.baseline.restart ${restart} matches no stored channel: check its group and channel against features.parquet`);
   }
   for (const names of r.unmatched_limits ?? []) lines.push(`  trends.limits ${names} names no stored channel, so it can never be reached: check its channel and group against features.parquet`);
-  if (r.period_baselines) lines.push(`  ${r.period_baselines} channel ${r.period_baselines === 1 ? 'feature has its baseline' : 'features have their baselines'} formed from this period only: no earlier results are stored; run once without --since to build ${r.period_baselines === 1 ? 'it' : 'them'} from the whole archive`);
+  // Baselines the period cannot complete are forming from it, not formed.
+  const fromPeriod = r.period_baselines_forming ?? 0;
+  for (const [n, how] of [[(r.period_baselines ?? 0) - fromPeriod, 'formed'], [fromPeriod, 'forming']] as const) {
+    if (n > 0) lines.push(`  ${n} channel ${n === 1 ? 'feature has its baseline' : 'features have their baselines'} ${how} from this period only: no earlier results are stored; run once without --since to build ${n === 1 ? 'it' : 'them'} from the whole archive`);
+  }
   return lines;
 }

@@ -10,7 +10,7 @@ import { writeFileAtomic } from '../outputs/atomic.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
-import { readHistory, type Declarations } from './history.js';
+import { readHistory, type Declarations, type History } from './history.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
 import { TRENDS_TABLE } from './tables.js';
@@ -42,6 +42,34 @@ async function stillCurrent(out: string, digest: string): Promise<KeptTrends | n
   }
 }
 
+/** What the trends step reads: the digest of what its outputs are made from, and the kept trends that still hold it or else the history. */
+export interface TrendsBasis { digest: string; kept: KeptTrends | null; history: History | null }
+
+export interface TrendsInput {
+  trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
+  /** The recordings in the archive now (every shard's, for merge) and their groups' present names: the history holds no other. */
+  present: Present;
+  /** The start of the run's period (--since), ms since the epoch; null for a run without one. */
+  since?: number | null;
+  /** Every recording of the archive outside the period has a stored result: no run could form an earlier baseline. */
+  earlierStored?: boolean;
+  /** Per group, the declaration its recordings are reduced under now: an entry stored under another holds its baseline place as stale. */
+  declarations?: Declarations;
+}
+
+/**
+ * The digest, and the history unless the trends kept for the same digest still hold (or trends are off). `renewable`: the
+ * caller can recompute stale baseline places, so kept trends that name some are read again rather than taken.
+ */
+export async function trendsBasis(out: string, spec: ReductionSpec, o: TrendsInput, renewable = false): Promise<TrendsBasis> {
+  const inRun = new Set(o.recordings);
+  const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, o.since ?? null, o.earlierStored ?? false, o.declarations ?? new Map());
+  const kept = await stillCurrent(out, digest);
+  if (kept && !(renewable && kept.outcome?.report.stale_baselines)) return { digest, kept, history: null };
+  const history = o.trends ? await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present), o.declarations ?? new Map()) : null;
+  return { digest, kept: null, history };
+}
+
 /** What the trends step leaves to be put in place with the run's other outputs: staged tables, and what to do after. */
 export interface TrendsWrite {
   outcome: TrendsOutcome | null;
@@ -55,21 +83,12 @@ export interface TrendsWrite {
  * With trends on, stages trends.parquet from the history the store keeps of the recordings present now, and works out
  * what changed; with trends off, the table is removed, so none is left stale. When nothing it is made from has changed since it was written, nothing is staged.
  */
-export async function stageTrends(out: string, spec: ReductionSpec, o: {
-  trends: TrendOptions | null; store: Store; recordings: string[]; metadata: Record<string, string>;
-  /** The recordings in the archive now (every shard's, for merge) and their groups' present names: the history holds no other. */
-  present: Present;
-  /** The start of the run's period (--since), ms since the epoch; null for a run without one. */
-  since?: number | null;
-  /** Every recording of the archive outside the period has a stored result: no run could form an earlier baseline. */
-  earlierStored?: boolean;
-  /** Per group, the declaration its recordings are reduced under now: an entry stored under another holds its baseline place as stale. */
-  declarations?: Declarations;
+export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInput & {
+  /** The basis already read (by a run that recomputed stale baseline places first); read here otherwise. */
+  basis?: TrendsBasis;
 }): Promise<TrendsWrite> {
-  const inRun = new Set(o.recordings), since = o.since ?? null;
-  const earlierStored = o.earlierStored ?? false, declarations = o.declarations ?? new Map();
-  const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, since, earlierStored, declarations);
-  const kept = await stillCurrent(out, digest);
+  const since = o.since ?? null, earlierStored = o.earlierStored ?? false;
+  const { digest, kept, history } = o.basis ?? await trendsBasis(out, spec, o);
   if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
   const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
@@ -77,8 +96,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: {
   const files: StagedFile[] = [];
   try {
     let outcome: TrendsOutcome | null = null;
-    if (o.trends) {
-      const history = await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present), declarations);
+    if (o.trends && history) {
       const scored = scoreHistory(history, o.trends);
       const report = changesReport(history, scored, o.trends, since, earlierStored);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
