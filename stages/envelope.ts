@@ -45,7 +45,8 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     const filteredPass = new FusedPass(), envPass = new FusedPass();
     const filtered = filteredPass.joinOrMake('moments', () => new MomentsAccumulator());
     const env = envPass.joinOrMake('moments', () => new MomentsAccumulator());
-    const envSpectrum = new Welch(ctx.sampleRate, o.spectrum);
+    // Whole gap-free segments only: fewer samples hold less than one period of the slowest modulation it resolves (below).
+    const envSpectrum = new Welch(ctx.sampleRate, o.spectrum, false);
     const r = Math.min(slowestPoleRadius(sos), 1 - 1e-9);
     // Figures leave out the ends where the filter and the transform settle: the filter's impulse response down to 1e-3, and at least 2048 samples.
     const edge = Math.max(2048, Math.ceil(Math.log(1e-3) / Math.log(r)));

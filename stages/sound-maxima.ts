@@ -1,9 +1,10 @@
 // Time-weighted maxima LAFmax, LASmax and the C-weighted peak LCpeak from the channel's weighted sound pressure
 // (weighted-sound.ts): the exponential time weighting F or S of the A-weighted pressure, or the largest absolute C-weighted
 // value. Each filter's deviation from the analytic weighting at this sample rate is reported, and noted where it leaves the class 1 limits.
+import { settlingS, startShortfallDb } from './dsp/exponential-average.js';
 import { LEVEL_UNIT, levelDb, P0_PA } from './sound-pressure.js';
 import type { StageDefinition } from './stage.js';
-import { START_S, weightedSoundOf } from './weighted-sound.js';
+import { FAST_S, SLOW_S, START_S, weightedSoundOf } from './weighted-sound.js';
 
 const EMPTY = { lafmax: null, lasmax: null, lcpeak: null, a_filter_deviation_db: null, c_filter_deviation_db: null };
 
@@ -29,6 +30,8 @@ export const soundMaxima: StageDefinition<Record<string, never>> = {
         const w = weighted.figures();
         if (!w) return { ...EMPTY };
         if (w.missing) ctx.note(`${ctx.name}: ${w.missing} missing samples: the weighting filters held the last value through each gap, and the levels leave out the gaps and the filters' settling after each (${START_S} s)`);
+        const short = unsettledMaxima(w.kept / ctx.sampleRate);
+        if (short) ctx.note(`${ctx.name}: ${short}`);
         return {
           lafmax: levelDb(w.fastMax), lasmax: levelDb(w.slowMax), lcpeak: w.peakC > 0 ? 20 * Math.log10(w.peakC / P0_PA) : null,
           a_filter_deviation_db: design.a.deviationDb, c_filter_deviation_db: design.c.deviationDb,
@@ -37,3 +40,16 @@ export const soundMaxima: StageDefinition<Record<string, never>> = {
     };
   },
 };
+
+const digits = (v: number) => Number(v.toPrecision(3));
+
+/**
+ * Why LAFmax or LASmax of a recording this long reads low: the time weighting starts from zero, so a steady sound's level
+ * reaches 10·lg(1 − e^(−T/τ)) dB of itself by the end; said where that is more than `toleranceDb`. Empty otherwise.
+ */
+export function unsettledMaxima(durationS: number, toleranceDb = 0.1): string {
+  const short = ([['LAFmax', FAST_S], ['LASmax', SLOW_S]] as const).filter(([, tau]) => durationS > 0 && durationS < settlingS(tau, toleranceDb));
+  if (!short.length) return '';
+  const each = short.map(([name, tau]) => `${name} ${digits(-startShortfallDb(durationS, tau))} dB low (${tau === FAST_S ? 'Fast' : 'Slow'}, τ = ${tau} s, settles within ${toleranceDb} dB after ${digits(settlingS(tau, toleranceDb))} s)`);
+  return `${digits(durationS)} s of sound is too short for the time weighting to settle (it starts from zero): a sound steady over the recording reads ${each.join(', ')}, 10·lg(1 − e^(−T/τ))`;
+}

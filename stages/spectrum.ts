@@ -29,15 +29,19 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduc
 
 /** What the spectrum was taken from, when it is other than whole segments of a gap-free recording. */
 function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean): string {
+  const padded = (p: Psd) => `zero-padded to ${o.segment} points (bins every ${(p.df).toPrecision(4)} Hz, resolution ${(fs / p.length).toPrecision(4)} Hz)`;
   if (gaps) {
-    return psd
-      ? `${name}: spectrum from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`
-      : `${name}: no stretch of ${o.segment} samples free of missing samples; spectral figures left empty (null)`;
+    if (!psd) return `${name}: no stretch of ${FEWEST_SAMPLES} samples free of missing samples; spectral figures left empty (null)`;
+    if (psd.from !== undefined) return `${name}: no stretch of ${o.segment} samples free of missing samples; spectrum from the longest gap-free stretch, ${psd.length} samples from ${seconds(psd.from / fs)} to ${seconds((psd.from + psd.length) / fs)}, as one periodogram ${padded(psd)}`;
+    return `${name}: spectrum from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`;
   }
   if (!psd) return `${name}: fewer than ${FEWEST_SAMPLES} samples; spectral figures left empty (null)`;
-  if (psd.length < o.segment) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, zero-padded to ${o.segment} points (bins every ${(psd.df).toPrecision(4)} Hz, resolution ${(fs / psd.length).toPrecision(4)} Hz)`;
+  if (psd.length < o.segment) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, ${padded(psd)}`;
   return '';
 }
+
+/** Seconds for a note: six significant digits at most. */
+const seconds = (s: number) => `${Number(s.toPrecision(6))} s`;
 
 /** Index of the largest density above DC. */
 export function peakBin(density: Float64Array): number {

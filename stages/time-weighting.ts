@@ -1,5 +1,7 @@
 // Exponential time weighting of the squared signal (IEC 61672-1: F = 0.125 s, S = 1 s), maximum over the recording.
+import { settlingS, startShortfallDb } from './dsp/exponential-average.js';
 import { expAverageOf } from './fused/exp-average.js';
+import { missingOf } from './fused/missing.js';
 import type { StageDefinition } from './stage.js';
 
 export interface TimeWeightingOptions { constants_s: number[] }
@@ -12,9 +14,32 @@ export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
   create(ctx, o) {
     // y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)): the exact sampled response of the first-order averager, in the fused pass.
     const averages = o.constants_s.map((tau) => expAverageOf(ctx, 1 - Math.exp(-1 / (tau * ctx.sampleRate))));
+    const missing = missingOf(ctx);
+    let n = 0;
     return {
-      push() {},
-      finish: () => Object.fromEntries(o.constants_s.map((tau, c) => [col(tau), Math.sqrt(averages[c].max)])),
+      push(x) { n += x.length; },
+      finish() {
+        // The averages run over the finite samples only, so those set how far each has settled.
+        const note = unsettledNote(ctx.name, (n - missing.count) / ctx.sampleRate, o.constants_s);
+        if (note) ctx.note(note);
+        return Object.fromEntries(o.constants_s.map((tau, c) => [col(tau), Math.sqrt(averages[c].max)]));
+      },
     };
   },
 };
+
+const digits = (v: number) => Number(v.toPrecision(3));
+
+/**
+ * A note for a recording too short for an average to settle: a steady signal's maximum then reads more than 0.1 dB low,
+ * 10·lg(1 − e^(−T/τ)) dB (the average starts from zero); empty when every time constant has settled.
+ */
+export function unsettledNote(name: string, durationS: number, constantsS: number[], toleranceDb = 0.1): string {
+  const short = constantsS.filter((tau) => durationS < settlingS(tau, toleranceDb));
+  if (!short.length || durationS <= 0) return '';
+  const each = short.map((tau) => {
+    const db = startShortfallDb(durationS, tau);
+    return `${col(tau)} ${digits(-db)} dB (${digits(100 * (1 - 10 ** (db / 20)))} %) low`;
+  });
+  return `${name}: ${digits(durationS)} s of samples is too short for the time weighting to settle (the exponential average starts from zero, and comes within ${toleranceDb} dB of a steady signal after ${digits(settlingS(1, toleranceDb))} × its time constant): a signal steady over the recording reads ${each.join(', ')}, 10·lg(1 − e^(−T/τ))`;
+}

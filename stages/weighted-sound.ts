@@ -13,7 +13,7 @@ import type { ChannelContext, Stage } from './stage.js';
 import { checkWeighting } from './weighting-check.js';
 
 /** Time constants F and S of IEC 61672-1, s. */
-const FAST_S = 0.125, SLOW_S = 1;
+export const FAST_S = 0.125, SLOW_S = 1;
 
 /**
  * The recording's first stretch the past is predicted from, and the length of that past, s: the slowest mode of either
@@ -30,6 +30,8 @@ export interface WeightedFigures {
   fastMax: number; slowMax: number; peakC: number;
   /** Samples that were not finite and entered the filters as 0 Pa. */
   missing: number;
+  /** Samples the figures count (the time weighting's average runs over these alone). */
+  kept: number;
 }
 
 export interface WeightedSound extends Stage {
@@ -158,7 +160,7 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
       figures() {
         begin();
         if (!aFilter || count === 0) return null;
-        return { meanSquareA: sumA / count, meanSquareC: sumC / count, fastMax: fast.max, slowMax: slow.max, peakC, missing };
+        return { meanSquareA: sumA / count, meanSquareC: sumC / count, fastMax: fast.max, slowMax: slow.max, peakC, missing, kept: count };
       },
     };
   });

@@ -116,13 +116,18 @@ describe('missing samples: every figure is of the finite samples', () => {
     expect((await gap(1000)).severity).toBe('fail');
   });
 
-  it('a spectrum with no gap-free segment is null, and says why', async () => {
+  it('no gap-free segment: the spectrum of the longest gap-free stretch; no stretch of 8 samples: null, and says why', async () => {
     const x = Float64Array.from({ length: 40000 }, (_, i) => Math.sin(i / 7));
     for (let i = 0; i < x.length; i += 3000) x[i] = NaN;
+    const stretch = await reduce(x, 25600, { spectrum: {}, bands: [[20, 200]] } as never);
+    // sin(i/7) is a tone at fs/(14π) = 582 Hz: the bin nearest it, 6.25 Hz apart (resolution fs/2999 = 8.5 Hz).
+    expect(Math.abs(stretch.row.dominant_frequency - 25600 / (14 * Math.PI))).toBeLessThan(6.25);
+    expect(stretch.result.messages.join('\n')).toMatch(/spectrum from the longest gap-free stretch, 2999 samples from /);
+    for (let i = 0; i < x.length; i += 5) x[i] = NaN;
     const { row, result } = await reduce(x, 25600, { spectrum: {}, bands: [[20, 200]] } as never);
     expect(row.dominant_frequency).toBeNull();
     expect(row.band_20_200_rms).toBeNull();
-    expect(result.messages.join('\n')).toMatch(/no stretch of 4096 samples free of missing samples; spectral figures left empty/);
+    expect(result.messages.join('\n')).toMatch(/no stretch of 8 samples free of missing samples; spectral figures left empty/);
   });
 });
 

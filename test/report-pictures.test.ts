@@ -48,14 +48,14 @@ describe('the report\'s pictures for many channels to check', () => {
 });
 
 // Invented: a 4 s float recording at 8 kHz; a 50 Hz tone of amplitude 2 with no samples from 1 to 2 s, a channel stuck at
-// 0.25, and one missing a sample in every 500 (no stretch as long as a spectrum segment).
+// 0.25, and one missing a sample in every 5 (no stretch of 8 samples, the fewest a spectrum is taken from).
 const GAP_FS = 8000, GAP_FRAMES = 4 * GAP_FS;
 function gapArchive(): string {
   const archive = join(tempDir(), 'archive');
   mkdirSync(archive);
   const tone = Float64Array.from({ length: GAP_FRAMES }, (_, i) => (i >= GAP_FS && i < 2 * GAP_FS ? NaN : 2 * Math.sin((2 * Math.PI * 50 * i) / GAP_FS)));
   const stuck = new Float64Array(GAP_FRAMES).fill(0.25);
-  const holed = Float64Array.from({ length: GAP_FRAMES }, (_, i) => (i % 500 === 250 ? NaN : Math.sin((2 * Math.PI * 120 * i) / GAP_FS)));
+  const holed = Float64Array.from({ length: GAP_FRAMES }, (_, i) => (i % 5 === 2 ? NaN : Math.sin((2 * Math.PI * 120 * i) / GAP_FS)));
   writeFileSync(join(archive, 'night.wav'), encodeWav({ sampleRate: GAP_FS, channels: [tone, stuck, holed], encoding: 'float32' }));
   writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: rig\n    match: "*.wav"\n    channels:\n'
     + ['tone', 'stuck', 'holed'].map((c) => `      - { name: ${c}, quantity: acceleration, unit: m/s^2, scale: 1 }`).join('\n') + '\n');

@@ -22,3 +22,11 @@ export class ExponentialMeanSquare {
     this.value = v; this.max = m;
   }
 }
+
+// Step response of the exponential average started from zero (IEC 61672-1 time weighting): T seconds in, a steady mean
+// square reads 1 − e^(−T/τ) of itself, 10·lg(1 − e^(−T/τ)) dB; sampled, N samples give 1 − (1 − α)^N = 1 − e^(−N/(τ·fs)) exactly.
+export const startShortfallDb = (durationS: number, tauS: number): number => 10 * Math.log10(-Math.expm1(-durationS / tauS));
+
+// The shortest recording whose steady mean square the average reaches within `toleranceDb`: τ·ln(1/(1 − 10^(−tol/10))),
+// from the step response above; 3.78 τ for 0.1 dB.
+export const settlingS = (tauS: number, toleranceDb = 0.1): number => tauS * Math.log(1 / -Math.expm1(-toleranceDb / 10 * Math.LN10));

@@ -11,8 +11,12 @@ export interface Psd {
   segments: number;
   /** Transform length: the segment asked for, so every recording's spectrum has the same bins. */
   segment: number;
-  /** Samples each periodogram's window spans: the segment, or the whole recording when it is shorter (zero-padded to the segment). */
+  /** Samples each periodogram's window spans: the segment, or the whole recording (or its longest gap-free stretch) when shorter (zero-padded to the segment). */
   length: number;
+  /** First sample of the gap-free stretch the one periodogram was taken from, where missing samples left no whole segment. */
+  from?: number;
+  /** Samples of the recording the periodograms' windows span together (overlaps counted once). */
+  covered?: number;
 }
 
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
@@ -23,7 +27,8 @@ export const FEWEST_SAMPLES = 8;
 /**
  * Accumulates Welch's estimate chunk by chunk, holding one segment of samples (in the FFT kernels' memory). Missing
  * samples (NaN, ±Inf) break the stream: the segments go on from the first finite sample after a gap, and no segment
- * holds a missing sample, so the estimate is that of the finite data.
+ * holds a missing sample, so the estimate is that of the finite data. Until a whole segment is found, the longest
+ * gap-free stretch so far is kept (under one segment), for a spectrum where no segment is ever whole.
  */
 export class Welch {
   private fill = 0;
@@ -33,8 +38,18 @@ export class Welch {
   private readonly win: Float64Array;
   private readonly sums: PeriodogramSum;
   private density: Psd | null | undefined;
+  // Samples pushed so far, where the current gap-free stretch starts, and its segments.
+  private seen = 0;
+  private stretchFrom = 0;
+  private stretchSegments = 0;
+  private covered = 0;
+  // The longest gap-free stretch ended by a gap while no segment was whole, and where it starts.
+  private longest: Float64Array | null = null;
+  private longestLength = 0;
+  private longestFrom = 0;
 
-  constructor(private readonly fs: number, private readonly o: WelchOptions) {
+  /** `longestStretch`: without a whole gap-free segment, give the longest gap-free stretch's periodogram rather than none. */
+  constructor(private readonly fs: number, private readonly o: WelchOptions, private readonly longestStretch = true) {
     if (!isPowerOfTwo(o.segment)) throw new Error(`spectrum.segment must be a power of two, got ${o.segment}`);
     this.hop = Math.max(1, o.segment - Math.floor(o.segment * o.overlap));
     this.win = makeWindow(o.window, o.segment);
@@ -43,25 +58,42 @@ export class Welch {
 
   /** `missing`: how many of x are missing (NaN or infinite), as the channel's fused pass counted them; 0 takes the plain path. */
   push(x: Float64Array, missing = 0): void {
-    if (missing === 0) { this.add(x); return; }
+    if (missing === 0) { this.add(x); this.seen += x.length; return; }
     // A chunk with gaps (rare): its finite runs one by one, the held samples dropped at each gap.
     this.gaps = true;
     let start = 0;
     for (let i = 0; i < x.length; i++) {
       if (x[i] - x[i] === 0) continue;
       if (i > start) this.add(x.subarray(start, i));
-      this.fill = 0;
+      this.endStretch(this.seen + i + 1);
       start = i + 1;
     }
     if (start < x.length) this.add(start === 0 ? x : x.subarray(start));
+    this.seen += x.length;
   }
 
   // Every whole segment of the held samples and the stretch: mean removed (detrend 'constant'), windowed, |FFT|² added
   // (welch_add in stages/dsp/fft-simd.c); the rest stays held for the next stretch.
   private add(x: Float64Array): void {
     const { added, held } = this.sums.addStretch(this.fill, x, this.hop);
+    // A stretch's first segment spans a whole segment of the recording, each later one a hop more.
+    if (added > 0) this.covered += (this.stretchSegments === 0 ? this.o.segment - this.hop : 0) + added * this.hop;
+    this.stretchSegments += added;
     this.count += added;
     this.fill = held;
+  }
+
+  // A gap ends the stretch: while no segment is whole, the stretch is all held, and kept if the longest so far.
+  private endStretch(next: number): void {
+    if (this.longestStretch && this.count === 0 && this.fill > this.longestLength) {
+      this.longest ??= new Float64Array(this.o.segment);
+      this.longest.set(this.sums.segment().subarray(0, this.fill));
+      this.longestLength = this.fill;
+      this.longestFrom = this.stretchFrom;
+    }
+    this.fill = 0;
+    this.stretchSegments = 0;
+    this.stretchFrom = next;
   }
 
   /** Whether a missing sample broke the stream. */
@@ -69,17 +101,22 @@ export class Welch {
 
   /**
    * The density, once the signal has ended (later pushes are not counted). A recording without gaps that is shorter than
-   * one segment is one periodogram of its whole length, zero-padded to the segment; null when no gap-free segment exists
-   * (or a gap-free recording has fewer than FEWEST_SAMPLES).
+   * one segment is one periodogram of its whole length, zero-padded to the segment; where gaps leave no whole segment, so
+   * is the longest gap-free stretch (the earliest of equals); null when that (or a gap-free recording) has fewer than
+   * FEWEST_SAMPLES.
    */
   result(): Psd | null {
     if (this.density !== undefined) return this.density;
-    if (this.count > 0) return (this.density = scaleDensity(this.sums.end(), this.count, this.win, this.fs, this.o.segment));
-    const n = this.fill, whole = this.sums.segment().slice(0, n);
+    if (this.count > 0) return (this.density = { ...scaleDensity(this.sums.end(), this.count, this.win, this.fs, this.o.segment), covered: this.covered });
+    const last = this.sums.segment().slice(0, this.fill);
     this.sums.end();
-    if (this.gaps || n < FEWEST_SAMPLES) return (this.density = null);
-    const win = windowOf(this.o.window, n);
-    return (this.density = scaleDensity(paddedPeriodogram(whole, win, this.o.segment), 1, win, this.fs, this.o.segment));
+    if (this.gaps && !this.longestStretch) return (this.density = null);
+    const earlier = this.gaps && this.longest !== null && this.longestLength >= last.length;
+    const x = earlier ? this.longest!.subarray(0, this.longestLength) : last, from = earlier ? this.longestFrom : this.stretchFrom;
+    if (x.length < FEWEST_SAMPLES) return (this.density = null);
+    const win = windowOf(this.o.window, x.length);
+    const psd = scaleDensity(paddedPeriodogram(x, win, this.o.segment), 1, win, this.fs, this.o.segment);
+    return (this.density = { ...psd, covered: x.length, ...(this.gaps ? { from } : {}) });
   }
 }
 

@@ -1,20 +1,25 @@
 // Dropout: missing values, stretches of exact zeros, gaps in a time column.
+import type { Psd, WelchOptions } from '../dsp/welch.js';
 import type { StageDefinition } from '../stage.js';
 import { missingOf } from '../fused/missing.js';
+import { spectrumOf } from '../spectrum.js';
 import { zeroRunsOf } from '../fused/zero-runs.js';
 import { pct, secs, worst, type QualityThresholds, type Severity } from './flag.js';
 
 /** How every figure treats missing samples (README, Missing samples), said with the flag so that it can be trusted. */
-const TREATMENT = 'the figures are of the finite samples: statistics, window rows, time weighting and MTVV skip the missing ones, the spectra take only segments free of them, the envelope leaves out the filter\'s settling around each gap';
+const TREATMENT = 'the figures are of the finite samples: statistics, window rows, time weighting and MTVV skip the missing ones, the spectra take only segments free of them (or, where none is whole, the longest stretch free of them), the envelope leaves out the filter\'s settling around each gap';
 
-export const dropout: StageDefinition<QualityThresholds> = {
+/** Share of the recording's samples the spectrum's periodograms span; null without a spectrum. */
+const spectrumCoverage = (psd: Psd | null, n: number) => (psd?.covered != null && n > 0 ? psd.covered / n : null);
+
+export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptions }> = {
   group: 'quality',
   columns: () => [
     { name: 'missing_fraction', unit: '1', description: 'Fraction of samples missing or not finite.' },
     { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros.' },
   ],
   create(ctx, q) {
-    const gaps = missingOf(ctx), zeros = zeroRunsOf(ctx);
+    const gaps = missingOf(ctx), zeros = zeroRunsOf(ctx), spectrum = spectrumOf(ctx, q.spectrum);
     let n = 0;
     return {
       push(x) { n += x.length; },
@@ -29,8 +34,18 @@ export const dropout: StageDefinition<QualityThresholds> = {
         const raise = (s: Severity) => { severity = worst([severity, s]); };
         if (missing > 0) {
           problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}, the longest gap ${secs(gapS)} ending at ${secs((gaps.longestEnd + 1) / fs)}`);
-          raise(fraction >= d.fail_missing_fraction || gapS >= d.fail_gap_s ? 'fail' : fraction >= d.warn_missing_fraction || gapS >= d.warn_gap_s ? 'warn' : 'note');
-          why.push(severity === 'note' ? `${TREATMENT}; so few and so short, they move none by more than a fraction of a per cent` : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
+          const share = fraction >= d.fail_missing_fraction || gapS >= d.fail_gap_s ? 'fail' : fraction >= d.warn_missing_fraction || gapS >= d.warn_gap_s ? 'warn' : 'note';
+          raise(share);
+          // The gaps may leave the spectrum (its gap-free segments, or its longest gap-free stretch) the lesser part of the recording.
+          const psd = spectrum.psd(), coverage = spectrumCoverage(psd, n), partial = psd != null && coverage != null && coverage < d.warn_spectrum_coverage;
+          if (partial) {
+            problems.push(`the spectrum rests on ${pct(coverage)} of the recording (${psd.from !== undefined ? `its longest gap-free stretch, ${psd.length} samples from ${secs(psd.from / fs)}` : `${psd.segments} gap-free segments of ${psd.segment} samples`})`);
+            raise('warn');
+          }
+          why.push(share === 'note'
+            ? `${TREATMENT}; so few and so short, they move ${partial ? 'no other figure' : 'none'} by more than a fraction of a per cent`
+            : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
+          if (partial) why.push('spectral figures describe only part of the recording (bands, octaves, velocity, dominant frequency, centroid, orders, the kept spectrum)');
         }
         // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
         if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
@@ -45,8 +60,8 @@ export const dropout: StageDefinition<QualityThresholds> = {
         }
         ctx.flag({
           name: 'dropout', severity, value: fraction,
-          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
-          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null },
+          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, the spectrum resting on < ${pct(d.warn_spectrum_coverage)} of the recording, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
+          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null, ...(missing > 0 ? { spectrum_coverage: spectrumCoverage(spectrum.psd(), n) } : {}) },
           message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
         });
         return { missing_fraction: fraction, zero_run_s: zeroS };

@@ -50,13 +50,13 @@ function finiteMax(xs: number[]): number {
   return m;
 }
 
-/** Why a channel has no spectrum to picture: a constant signal, or no segment's worth of samples free of missing ones. */
-export function noSpectrumWhy(hasPsd: boolean, missing: boolean, min: number, max: number, segment: number): string | null {
+/** Why a channel has no spectrum to picture: a constant signal, or no stretch free of missing samples long enough for one. */
+export function noSpectrumWhy(hasPsd: boolean, missing: boolean, min: number, max: number): string | null {
   if (hasPsd && min === max) return `No spectrum: the signal is constant (every sample ${Number(min.toPrecision(6))}), and a constant signal has no spectrum.`;
   if (hasPsd) return null;
   if (!(min <= max)) return 'No spectrum: the channel holds no finite sample.';
   return missing
-    ? `No spectrum: no stretch of ${segment} samples free of missing samples, the length of one spectrum segment.`
+    ? `No spectrum: no stretch of ${FEWEST_SAMPLES} samples free of missing samples, the fewest a spectrum is taken from.`
     : `No spectrum: fewer than ${FEWEST_SAMPLES} samples.`;
 }
 
@@ -99,7 +99,7 @@ export const evidence: StageDefinition<{ spectrum: WelchOptions }> = {
         });
         ctx.evidence('noSpectrum', () => {
           const psd = s.psd(), m = moments.moments();
-          return noSpectrumWhy(psd != null, m.nonFinite > 0, m.min, m.max, o.spectrum.segment) ?? undefined;
+          return noSpectrumWhy(psd != null, m.nonFinite > 0, m.min, m.max) ?? undefined;
         });
         ctx.evidence('spectrum', () => {
           const psd = s.psd(), m = moments.moments();

@@ -36,7 +36,7 @@ export interface QualityThresholds {
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
-  dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number };
+  dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number; warn_spectrum_coverage: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
@@ -81,7 +81,9 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // written as zeros, which pull RMS and the window figures down (warn). Our choices. A gap of missing samples as long as the F
   // time constant (0.125 s, IEC 61672-1) can hide a whole event from the time-weighted maxima (warn); one as long as MTVV's 1 s
   // integration (ISO 2631-1, from memory) a whole transient, and it leaves no 1 s window of windows.parquet whole (fail).
-  dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1 },
+  // Gaps that leave the spectrum's segments (or its one longest gap-free stretch) spanning under half of the recording make
+  // the spectral figures those of the lesser part of it (warn). Our choice.
+  dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1, warn_spectrum_coverage: 0.5 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
   // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
   // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).

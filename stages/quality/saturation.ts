@@ -1,6 +1,7 @@
 // Saturation: samples at or beyond the instrument range, or piled on the converter's extreme codes when no range is declared.
 import type { StageDefinition } from '../stage.js';
 import { limitRunsOf } from '../fused/limit-runs.js';
+import { momentsOf } from '../fused/moments.js';
 import { pct, secs, type QualityThresholds } from './flag.js';
 
 export const saturation: StageDefinition<QualityThresholds> = {
@@ -13,6 +14,11 @@ export const saturation: StageDefinition<QualityThresholds> = {
     const [lo, hi] = limits ? [limits[0] + tol, limits[1] - tol] : [-Infinity, Infinity];
     // Samples at the limits are counted in the channel's fused pass.
     const runs = limits ? limitRunsOf(ctx, lo, hi) : null;
+    // Samples past the limits by more than a clipped flat top lies from them, and the extremes, to tell clipping from data
+    // the declaration puts outside its range.
+    const margin = limits ? BEYOND_MARGIN * (limits[1] - limits[0]) : 0;
+    const beyondRuns = limits ? limitRunsOf(ctx, limits[0] - margin, limits[1] + margin) : null;
+    const moments = momentsOf(ctx);
     let n = 0;
     return {
       push(x) { n += x.length; },
@@ -28,11 +34,19 @@ export const saturation: StageDefinition<QualityThresholds> = {
         const fraction = n ? count / n : 0;
         const severity = count === 0 ? 'ok' : fraction >= q.saturation.fail_fraction || longest >= q.saturation.fail_run ? 'fail' : 'warn';
         const rate = ctx.sampleRate;
+        const beyond = beyondRuns?.count ?? 0, { min, max } = moments.moments();
+        const furthest = furthestPast(limits, min, max);
+        const found = `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}`;
+        const past = count > 0 && pastTheRange(count, beyond, furthest.by, limits[1] - limits[0]);
         ctx.flag({
           name: 'saturation', severity, value: fraction, threshold,
-          evidence: { samples: count, first_s: first >= 0 ? first / rate : null, longest_run: longest, longest_run_at_s: longest ? (longestEnd - longest + 1) / rate : null },
+          evidence: {
+            samples: count, first_s: first >= 0 ? first / rate : null, longest_run: longest, longest_run_at_s: longest ? (longestEnd - longest + 1) / rate : null,
+            ...(count > 0 ? { beyond_samples: beyond, furthest_value: furthest.by > 0 ? furthest.value : null } : {}),
+          },
           message: count === 0 ? `no sample at the ${source}`
-            : `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}: clipped data says nothing about the input beyond the range, so peak, crest factor and kurtosis read low; retake the measurement with a larger range`,
+            : past ? `${found}; ${beyond} of them (${pct(beyond / count)}) lie beyond it by more than ${pct(BEYOND_MARGIN)} of its span${furthest.by > 0 ? `, the furthest at ${Number(furthest.value.toPrecision(6))} ${ctx.unit}` : ''}: a signal clipped by the instrument rests at its limit, so these were not clipped there; check this channel's range and scale (and offset) in archive.yaml first, since a wrong declaration puts the data outside the range; if they are right, the input went past the range the instrument is rated for, and peak, crest factor and kurtosis cannot be trusted: retake the measurement with a larger range`
+            : `${found}: clipped data says nothing about the input beyond the range, so peak, crest factor and kurtosis read low; retake the measurement with a larger range`,
         });
         return { saturation_fraction: fraction };
       },
@@ -49,4 +63,23 @@ export function saturationLimits(range: [number, number] | null, fullScale: [num
   if (!range) return fullScale;
   if (!fullScale) return range;
   return [Math.max(range[0], fullScale[0]), Math.min(range[1], fullScale[1])];
+}
+
+/** How far past its limits a clipped flat top may lie, as a share of their span (scale rounding, an amplifier's rail): our choice. */
+export const BEYOND_MARGIN = 0.01;
+
+/** The extreme sample furthest outside the limits, and by how much (0 when both lie within them, or none is finite). */
+export function furthestPast(limits: [number, number], min: number, max: number): { value: number; by: number } {
+  if (!(min <= max)) return { value: NaN, by: 0 };
+  const above = max - limits[1], below = limits[0] - min;
+  return above >= below ? { value: max, by: Math.max(0, above) } : { value: min, by: Math.max(0, below) };
+}
+
+/**
+ * Whether samples counted at or beyond the limits were not clipped there: a clipped signal rests at the limit, so most of
+ * them lying past it (`share` of those counted, beyond the margin), or any lying far past it (`far` of the limits' span),
+ * points at the declared range or scale rather than at the instrument. Both shares our choice.
+ */
+export function pastTheRange(count: number, beyond: number, furthestBy: number, span: number, share = 0.5, far = 0.1): boolean {
+  return count > 0 && (beyond >= share * count || furthestBy >= far * span);
 }
