@@ -3,6 +3,7 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare/declare.js';
+import { editDistance, likelyMeant } from '../pipeline/declare/nearest-names.js';
 import { UsageError } from '../pipeline/declare/yaml-file.js';
 import { quern, tempDir } from './helpers.js';
 
@@ -116,6 +117,55 @@ describe('archive declaration', () => {
   it('reports YAML syntax errors with their line, and a missing declaration with what to do', async () => {
     expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: [unclosed\n')))).toMatch(/archive\.yaml:\d+: YAML syntax/);
     expect(await errorOf(loadArchiveDeclaration(tempDir()))).toMatch(/missing; every archive declares its recordings in archive\.yaml/);
+  });
+});
+
+describe('unknown keys and syntax errors: what was meant, and what to do', () => {
+  it('counts edits as Levenshtein distance, and takes a slip for the name it lies near but not another word of the trade', () => {
+    // Levenshtein's distance of "kitten" and "sitting" is 3, the worked example the method is usually shown with (from memory).
+    expect(editDistance('kitten', 'sitting')).toBe(3);
+    expect(editDistance('accelaration', 'acceleration')).toBe(1);
+    expect(likelyMeant('accelaration', ['acceleration', 'sound_pressure', 'strain', 'stress'])).toEqual(['acceleration']);
+    expect(likelyMeant('onyl', ['ranges', 'only'])).toEqual(['only']);
+    // "strain" and "stress" are three edits apart: two quantities, never one taken for the other.
+    expect(likelyMeant('stress', ['strain'])).toEqual([]);
+    expect(likelyMeant('sensitivity', ['name', 'quantity', 'unit', 'scale'])).toEqual([]);
+  });
+
+  it('answers an unknown key with the allowed key it is nearest to, or the keys allowed in its place', async () => {
+    const yaml = [
+      'descripton: rig B', //                                        1
+      'groups:', //                                                  2
+      '  - name: g', //                                              3
+      '    match: "*.wav"', //                                       4
+      '    smaple_rate: 48000', //                                   5
+      '    channels:', //                                            6
+      '      - { name: a, max_frequncy_hz: 100 }', //                7
+      '      - { name: b, sensitivity: 3 }', //                      8
+    ].join('\n');
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+    expect(message).toMatch(/archive\.yaml:1: descripton: unknown key "descripton"; did you mean description\?/);
+    expect(message).toMatch(/archive\.yaml:5: groups\[0\]\.smaple_rate: unknown key "smaple_rate"; did you mean sample_rate\?/);
+    expect(message).toMatch(/archive\.yaml:7: groups\[0\]\.channels\[0\]\.max_frequncy_hz: unknown key "max_frequncy_hz"; did you mean max_frequency_hz\?/);
+    expect(message).toMatch(/archive\.yaml:8: groups\[0\]\.channels\[1\]\.sensitivity: unknown key "sensitivity"; the keys allowed here are name, quantity, unit, scale, offset, range, bits, max_frequency_hz/);
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'spectrum: { segmnt: 4096 }\nvelocity_bands: { ranges: [[10, 1000]], onyl: { quantities: [acceleration] } }\ntrends: { limits: { rms: { wran: 3 } } }\n');
+    const spec = await errorOf(loadSpec(dir));
+    expect(spec).toMatch(/reduction\.yaml:1: spectrum\.segmnt: unknown key "segmnt"; did you mean segment\?/);
+    // Inside a section of either form (a list, or a map with its ranges), and under a map of any feature's name.
+    expect(spec).toMatch(/reduction\.yaml:2: velocity_bands\.onyl: unknown key "onyl"; did you mean only\?/);
+    expect(spec).toMatch(/reduction\.yaml:3: trends\.limits\.rms\.wran: unknown key "wran"; did you mean warn\?/);
+  });
+
+  it('says what to do about a YAML syntax error: indentation with spaces, a list item without its dash, an unclosed quote, a missing space after a colon', async () => {
+    const cases: [string, RegExp][] = [
+      ['groups:\n  - name: g\n    match: "*.wav"\n    channels:\n    - { name: a }\n        - { name: b }\n', /archive\.yaml:6: YAML syntax: .*; indent this line with as many spaces as the other keys or list items at its level/],
+      ['groups:\n  - name: g\n   match: "*.wav"\n', /archive\.yaml:3: YAML syntax: .*; (indent this line with as many spaces|start each list item with "- ")/],
+      ['groups:\n\t- name: g\n', /archive\.yaml:2: YAML syntax: .*; indent with spaces: YAML does not allow tabs there/],
+      ['groups:\n  - name: "g\n    match: x\n', /YAML syntax: .*; close the quote opened here/],
+      ['groups:\n  - name: g match: "*.wav"\n', /archive\.yaml:2: YAML syntax: .*; write one key a line as "key: value", with a space after the colon/],
+    ];
+    for (const [yaml, expected] of cases) expect(await errorOf(loadArchiveDeclaration(archiveWith(yaml)))).toMatch(expected);
   });
 });
 
