@@ -6,6 +6,8 @@ import { join, resolve } from 'node:path';
 import { activeStages } from '../stages/index.js';
 import { declarationKey, groupKeys } from './plan/cache.js';
 import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
+import { quantityUses } from './declare/quantity-uses.js';
+import { unfedGroupNote, unfedGroups } from './select/group-coverage.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
@@ -88,7 +90,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   let declaration, spec, trends, lock;
   try {
     spec = await loadSpec(root, o.spec);
-    declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec));
+    declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
     trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
     lock = await takeLock(lockPath(outDir, shard), { run_id: runId, command: `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${o.force ? ' --force' : ''}${o.since != null ? ` --since ${new Date(o.since).toISOString()}` : ''}${o.until != null ? ` --until ${new Date(o.until).toISOString()}` : ''}` }, { staleAfterMs: o.staleLockAfterMs });
@@ -105,6 +107,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await sweepSpools();
     const scanStartedMs = Date.now();
     const scanned = await scan(root, declaration, { exclude: [outDir] });
+    const unfed = unfedGroups(declaration.groups, scanned.recordings, declaration.lines);
     store = await Store.open(outDir, shard);
     const s = store;
     const share = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
@@ -211,6 +214,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, groupNames[d.group], d, active)), settling,
+      declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u))], groupsWithoutRecordings: unfed.map((u) => u.group),
       // A shard's present recordings outside its period: merge's trends read their stored history too.
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(labelsOf),

@@ -44,4 +44,11 @@ export interface GroupDeclaration {
   capture_every: string | null;
 }
 
-export interface ArchiveDeclaration { file: string; groups: GroupDeclaration[] }
+export interface ArchiveDeclaration {
+  file: string;
+  groups: GroupDeclaration[];
+  /** What may be wrong without stopping a run (a quantity near one quern selects by, a unit its figures cannot convert). */
+  notes?: string[];
+  /** The line of archive.yaml each group starts on. */
+  lines?: number[];
+}

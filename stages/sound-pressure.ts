@@ -8,6 +8,9 @@ export const LEVEL_UNIT = 'dB re 20 µPa';
 
 const TO_PA: Record<string, number> = { Pa: 1, mPa: 1e-3, 'µPa': 1e-6, uPa: 1e-6, hPa: 100, kPa: 1000 };
 
+/** The pressure units quern converts to pascals, as a declaration writes them. */
+export const PRESSURE_UNITS: readonly string[] = Object.keys(TO_PA);
+
 /** Pascals per unit of a channel, or undefined for a unit that is not a pressure quern converts. */
 export const pascalsPer = (unit: string): number | undefined => TO_PA[unit.trim()];
 

@@ -1,5 +1,5 @@
 // Text and raw binary readers: delimiters, decimal commas, time columns, declared layouts.
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
@@ -165,6 +165,23 @@ describe('CSV cells and headers that are not what they seem', () => {
     await expect(readAll(write('dup.csv', '# rig 3\ntime,acc,acc\n0,1,2\n0.01,1,2\n'))).rejects.toThrow('line 2: the header names "acc" twice (columns 2 and 3); give each column its own name');
   });
 
+  it('refuses a header with an unnamed column, such as the row index a dataframe writes first, naming the column and the cause', async () => {
+    // pandas' DataFrame.to_csv() writes its row index as a first column under an empty name unless index=False (common practice; layout from memory).
+    const indexed = ',time,acc\n0,0.0,1.5\n1,0.01,-2.0\n2,0.02,0.5\n';
+    await expect(readAll(write('indexed.csv', indexed))).rejects.toThrow('line 1: column 1 has no name in the header; an unnamed first column is usually the row index a spreadsheet or dataframe wrote (pandas: to_csv(..., index=False) leaves it out); write the file without that column, or name it in the header');
+    await expect(readAll(write('gap.csv', 'time,a,,b\n0,1,2,3\n0.01,1,2,3\n'))).rejects.toThrow('line 1: column 3 has no name in the header; write the file without that column, or name it in the header');
+    // A reduction fails the recording, naming it, and goes on.
+    const dir = join(tempDir(), 'arc');
+    mkdirSync(dir);
+    writeFileSync(join(dir, 'archive.yaml'), 'groups:\n  - { name: g, match: "*.csv" }\n');
+    writeFileSync(join(dir, 'indexed.csv'), indexed);
+    writeFileSync(join(dir, 'plain.csv'), 'time,acc\n0.0,1.5\n0.01,-2.0\n0.02,0.5\n');
+    const r = quern('reduce', dir, '--out', join(dir, '..', 'out'), '--jobs', '1');
+    expect(r.code, r.stderr).toBe(1);
+    expect(r.stdout).toMatch(/FAILED  indexed\.csv: line 1: column 1 has no name in the header/);
+    expect(r.stdout).toMatch(/1 of 2 recordings reduced/);
+  });
+
   it('notes cells that are not numbers (first line, column and count), which count as missing samples; NaN and empty cells are missing samples by intent', async () => {
     const rows = Array.from({ length: 20 }, (_, i) => `${i / 100},${i === 5 ? 'ERR' : i === 6 ? 'NaN' : i},${i === 9 || i === 12 ? 'over' : i === 3 ? '' : i}`);
     const { rec, channels } = await readAll(write('err.csv', ['time,a,b', ...rows].join('\n')));
@@ -235,5 +252,25 @@ describe('raw binary reader against files written by numpy', () => {
   it('notes trailing bytes that do not make a whole frame', async () => {
     const { rec } = await readAll(fixture('raw', 'be-int16-3ch.bin'), { sampleRate: 100, layout: { sample_type: 'int16', byte_order: 'big', channels: 3, header_bytes: 14 } });
     expect(rec.notes.join()).toMatch(/do not make a whole frame/);
+  });
+
+  it('a declared duration_s catches a wrong channel count or sample type, which read as plausible channels', () => {
+    // numpy wrote 5 frames of 3 int16 channels after 16 bytes: 30 bytes of samples, 0.05 s at 100 Hz.
+    const verdicts = (layout: string) => {
+      const dir = join(tempDir(), 'arc');
+      mkdirSync(dir);
+      writeFileSync(join(dir, 'rig.bin'), readFileSync(fixture('raw', 'be-int16-3ch.bin')));
+      writeFileSync(join(dir, 'archive.yaml'), `groups:\n  - { name: r, match: "*.bin", sample_rate: 100, duration_s: 0.05, layout: { ${layout}, byte_order: big, header_bytes: 16 } }\n`);
+      const out = join(dir, '..', 'out');
+      const r = quern('reduce', dir, '--out', out, '--jobs', '1');
+      expect(r.code, r.stderr).toBe(0);
+      return readJson(join(out, 'quality.json')).recordings[0].channels.map((c: any) => c.flags.find((f: any) => f.name === 'declaration'));
+    };
+    expect(verdicts('sample_type: int16, channels: 3').map((f: any) => f.severity)).toEqual(['ok', 'ok', 'ok']);
+    // Two channels make 7 frames of the 30 bytes (0.07 s); int32 in three channels, 2 frames (0.02 s).
+    for (const wrong of ['sample_type: int16, channels: 2', 'sample_type: int32, channels: 3']) {
+      const flags = verdicts(wrong);
+      expect(flags.every((f: any) => f.severity === 'note' && /is declared/.test(f.message)), JSON.stringify(flags)).toBe(true);
+    }
   });
 });

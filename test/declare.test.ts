@@ -3,8 +3,11 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare/declare.js';
+import { editDistance, likelyMeant } from '../pipeline/declare/nearest-names.js';
 import { UsageError } from '../pipeline/declare/yaml-file.js';
-import { quern, tempDir } from './helpers.js';
+import { quern, readJson, tempDir } from './helpers.js';
+import { unfedGroupNote, unfedGroups } from '../pipeline/select/group-coverage.js';
+import type { GroupDeclaration } from '../spec/archive.js';
 
 function archiveWith(yaml: string): string {
   const dir = join(tempDir(), 'arc');
@@ -125,6 +128,141 @@ describe('archive declaration', () => {
   it('reports YAML syntax errors with their line, and a missing declaration with what to do', async () => {
     expect(await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: [unclosed\n')))).toMatch(/archive\.yaml:\d+: YAML syntax/);
     expect(await errorOf(loadArchiveDeclaration(tempDir()))).toMatch(/missing; every archive declares its recordings in archive\.yaml/);
+  });
+});
+
+describe('unknown keys and syntax errors: what was meant, and what to do', () => {
+  it('counts edits as Levenshtein distance, and takes a slip for the name it lies near but not another word of the trade', () => {
+    // Levenshtein's distance of "kitten" and "sitting" is 3, the worked example the method is usually shown with (from memory).
+    expect(editDistance('kitten', 'sitting')).toBe(3);
+    expect(editDistance('accelaration', 'acceleration')).toBe(1);
+    expect(likelyMeant('accelaration', ['acceleration', 'sound_pressure', 'strain', 'stress'])).toEqual(['acceleration']);
+    expect(likelyMeant('onyl', ['ranges', 'only'])).toEqual(['only']);
+    // "strain" and "stress" are three edits apart: two quantities, never one taken for the other.
+    expect(likelyMeant('stress', ['strain'])).toEqual([]);
+    expect(likelyMeant('sensitivity', ['name', 'quantity', 'unit', 'scale'])).toEqual([]);
+  });
+
+  it('answers an unknown key with the allowed key it is nearest to, or the keys allowed in its place', async () => {
+    const yaml = [
+      'descripton: rig B', //                                        1
+      'groups:', //                                                  2
+      '  - name: g', //                                              3
+      '    match: "*.wav"', //                                       4
+      '    smaple_rate: 48000', //                                   5
+      '    channels:', //                                            6
+      '      - { name: a, max_frequncy_hz: 100 }', //                7
+      '      - { name: b, sensitivity: 3 }', //                      8
+    ].join('\n');
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+    expect(message).toMatch(/archive\.yaml:1: descripton: unknown key "descripton"; did you mean description\?/);
+    expect(message).toMatch(/archive\.yaml:5: groups\[0\]\.smaple_rate: unknown key "smaple_rate"; did you mean sample_rate\?/);
+    expect(message).toMatch(/archive\.yaml:7: groups\[0\]\.channels\[0\]\.max_frequncy_hz: unknown key "max_frequncy_hz"; did you mean max_frequency_hz\?/);
+    expect(message).toMatch(/archive\.yaml:8: groups\[0\]\.channels\[1\]\.sensitivity: unknown key "sensitivity"; the keys allowed here are name, quantity, unit, scale, offset, range, bits, max_frequency_hz/);
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'spectrum: { segmnt: 4096 }\nvelocity_bands: { ranges: [[10, 1000]], onyl: { quantities: [acceleration] } }\ntrends: { limits: { rms: { wran: 3 } } }\n');
+    const spec = await errorOf(loadSpec(dir));
+    expect(spec).toMatch(/reduction\.yaml:1: spectrum\.segmnt: unknown key "segmnt"; did you mean segment\?/);
+    // Inside a section of either form (a list, or a map with its ranges), and under a map of any feature's name.
+    expect(spec).toMatch(/reduction\.yaml:2: velocity_bands\.onyl: unknown key "onyl"; did you mean only\?/);
+    expect(spec).toMatch(/reduction\.yaml:3: trends\.limits\.rms\.wran: unknown key "wran"; did you mean warn\?/);
+  });
+
+  it('says what to do about a YAML syntax error: indentation with spaces, a list item without its dash, an unclosed quote, a missing space after a colon', async () => {
+    const cases: [string, RegExp][] = [
+      ['groups:\n  - name: g\n    match: "*.wav"\n    channels:\n    - { name: a }\n        - { name: b }\n', /archive\.yaml:6: YAML syntax: .*; indent this line with as many spaces as the other keys or list items at its level/],
+      ['groups:\n  - name: g\n   match: "*.wav"\n', /archive\.yaml:3: YAML syntax: .*; (indent this line with as many spaces|start each list item with "- ")/],
+      ['groups:\n\t- name: g\n', /archive\.yaml:2: YAML syntax: .*; indent with spaces: YAML does not allow tabs there/],
+      ['groups:\n  - name: "g\n    match: x\n', /YAML syntax: .*; close the quote opened here/],
+      ['groups:\n  - name: g match: "*.wav"\n', /archive\.yaml:2: YAML syntax: .*; write one key a line as "key: value", with a space after the colon/],
+    ];
+    for (const [yaml, expected] of cases) expect(await errorOf(loadArchiveDeclaration(archiveWith(yaml)))).toMatch(expected);
+  });
+});
+
+describe('declarations quern takes but may not be what was meant', () => {
+  /** An archive of two CSV recordings of a 50 Hz tone at 1 kHz, in folders a and b, declared by `groups`. */
+  function toneArchive(groups: string): string {
+    const dir = archiveWith(`groups:\n${groups}`);
+    const rows = Array.from({ length: 1000 }, (_, i) => `${(i / 1000).toFixed(3)},${Math.sin(2 * Math.PI * 50 * i / 1000).toFixed(6)},${(0.1 * Math.sin(2 * Math.PI * 80 * i / 1000)).toFixed(6)}`);
+    for (const folder of ['a', 'b']) {
+      mkdirSync(join(dir, folder));
+      writeFileSync(join(dir, folder, 'run1.csv'), ['time,acc,mic', ...rows].join('\n'));
+    }
+    writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectrum: { segment: 256 }\nvelocity_bands: [[10, 100]]\nsound_level: {}\n');
+    return dir;
+  }
+
+  it('names a quantity a slip away from one the spec selects by, and a unit the figures of its quantity cannot convert, in check and reduce', () => {
+    const archive = toneArchive([
+      '  - name: rig-b', //                                                                   2
+      '    match: "a/*.csv"', //                                                              3
+      '    channels:', //                                                                     4
+      '      - { name: acc, quantity: accelaration, unit: m/s^2 }', //                        5
+      '      - { name: mic, quantity: sound pressure, unit: Pa }', //                         6
+      '  - name: rig-c', //                                                                   7
+      '    match: "b/*.csv"', //                                                              8
+      '    channels:', //                                                                     9
+      '      - { name: acc, quantity: acceleration, unit: m/s }', //                          10
+      '      - { name: mic, quantity: sound_pressure, unit: pa }', //                         11
+      '', //
+    ].join('\n'));
+    const quantity = /quantity "accelaration" of channel acc \(group rig-b, archive\.yaml line 5\) is not one quern knows; did you mean acceleration\? Figures and flags that select acceleration \(velocity_bands, the offset flag\) leave it out/;
+    const spaced = /quantity "sound pressure" of channel mic \(group rig-b, archive\.yaml line 6\) is not one quern knows; did you mean sound_pressure\? Figures and flags that select sound_pressure \(sound_level, the offset flag\) leave it out/;
+    const velocityUnit = /acceleration channel acc \(group rig-c, archive\.yaml line 10\) has unit "m\/s", not an acceleration unit quern converts \(m\/s\^2, .*\); did you mean m\/s²\? Velocity is left empty for it/;
+    const pascals = /sound_pressure channel mic \(group rig-c, archive\.yaml line 11\) has unit "pa", not a pressure unit quern converts to pascals \(Pa, .*\); did you mean Pa\? Sound levels are left empty for it/;
+    const check = quern('check', archive);
+    expect(check.code, check.stderr).toBe(0);
+    for (const note of [quantity, spaced, velocityUnit, pascals]) expect(check.stdout).toMatch(new RegExp(`NOTE +${note.source}`));
+    const out = join(archive, '..', 'out');
+    const run = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(run.code, run.stderr).toBe(0);
+    for (const note of [quantity, spaced, velocityUnit, pascals]) expect(run.stdout).toMatch(new RegExp(`DECLARED ${note.source}`));
+    expect(readJson(join(out, 'run.json')).declaration_notes).toHaveLength(4);
+  });
+
+  it('leaves alone quantities quern has no figures for, and those the spec itself selects by', () => {
+    const archive = toneArchive([
+      '  - name: rig', '    match: "*/*.csv"', '    channels:',
+      '      - { name: acc, quantity: torque, unit: N·m }',
+      '      - { name: mic, quantity: accel, unit: g }', '',
+    ].join('\n'));
+    expect(quern('check', archive).stdout).not.toMatch(/NOTE/);
+    writeFileSync(join(archive, 'reduction.yaml'), 'statistics: {}\nspectrum: { segment: 256 }\nvelocity_bands: { ranges: [[10, 100]], only: { quantities: [accel] } }\n');
+    // "accel" is what this spec selects by; velocity needs "acceleration" whatever it selects, which "accel" is not a slip of.
+    expect(quern('check', archive).stdout).not.toMatch(/NOTE/);
+  });
+
+  it('names a group that matches no recording, and one whose files a group listed before it takes', () => {
+    const archive = toneArchive([
+      '  - name: everything', //        2
+      '    match: "*/*.csv"', //         3
+      '  - name: rig-b', //             4
+      '    match: "a/*.csv"', //         5
+      '  - name: retired', //           6
+      '    match: "old/*.csv"', //       7
+      '', //
+    ].join('\n'));
+    const check = quern('check', archive);
+    expect(check.stdout).toMatch(/NOTE +group rig-b \(archive\.yaml line 4\) matches no recording of its own: its file is taken by group everything, listed before it, and reduced under that declaration/);
+    expect(check.stdout).toMatch(/NOTE +group retired \(archive\.yaml line 6\) matches no recording; check its match pattern/);
+    const out = join(archive, '..', 'out');
+    const run = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(run.code, run.stderr).toBe(0);
+    // A night's run names the group its files are taken from; a retired group is left to run.json, or it would be named every night.
+    expect(run.stdout).toMatch(/DECLARED group rig-b \(archive\.yaml line 4\) matches no recording of its own/);
+    expect(run.stdout).not.toMatch(/retired/);
+    const record = readJson(join(out, 'run.json'));
+    expect(record.groups_without_recordings).toEqual(['rig-b', 'retired']);
+  });
+
+  it('counts the files each earlier group takes from a group that gets none', () => {
+    const groups = [{ match: ['a/*.wav'] }, { match: ['*/x*.wav'] }, { match: ['*/*.wav'] }, { match: ['c/*.wav'] }].map((g, i) => ({ name: `g${i}`, ...g })) as unknown as GroupDeclaration[];
+    const recordings = [{ recording: 'a/x1.wav', group: 0 }, { recording: 'a/y.wav', group: 0 }, { recording: 'b/x2.wav', group: 1 }, { recording: 'b/z.wav', group: 2 }];
+    expect(unfedGroups(groups, recordings, [2, 4, 6, 8])).toEqual([{ group: 'g3', line: 8, takenBy: [] }]);
+    const late = [...groups, { name: 'all', match: ['**/*.wav'] } as unknown as GroupDeclaration];
+    expect(unfedGroups(late, recordings)).toEqual([{ group: 'g3', line: null, takenBy: [] }, { group: 'all', line: null, takenBy: [{ group: 'g0', files: 2 }, { group: 'g1', files: 1 }, { group: 'g2', files: 1 }] }]);
+    expect(unfedGroupNote(unfedGroups(late, recordings)[1])).toMatch(/^group all matches no recording of its own: its 4 files are taken by groups listed before it \(2 by g0, 1 by g1, 1 by g2\)/);
   });
 });
 

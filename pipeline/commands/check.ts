@@ -5,18 +5,23 @@ import { reservedColumnNames } from '../outputs/output-tables.js';
 import { plan } from '../plan/plan.js';
 import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
+import { quantityUses } from '../declare/quantity-uses.js';
+import { unfedGroupNote, unfedGroups } from '../select/group-coverage.js';
 import { RecordingError } from '../../stages/read/recording.js';
 import { defaultOut } from '../run.js';
 import { namingNone, trendOptions, type ChannelAt, type TrendOptions } from '../trends/options.js';
 
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
-/** `notes`: what may be wrong without stopping a run (trend entries naming no channel of the archive's recordings). */
+/**
+ * `notes`: what may be wrong without stopping a run (a quantity near one the spec selects by, a unit its figures cannot
+ * convert, a group that gets no recording, trend entries naming no channel of the archive's recordings).
+ */
 export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string; notes: string[] }
 
 export async function runCheck(archive: string, { spec: specPath = null as string | null, out = null as string | null } = {}): Promise<CheckResult> {
   const root = resolve(archive);
   const spec = await loadSpec(root, specPath);
-  const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec));
+  const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
   const trends = trendOptions(spec.spec); // a trends section that cannot work is named now
   const scanned = await scan(root, declaration, { exclude: [resolve(out ?? defaultOut(root))] });
   const recordings: CheckedRecording[] = [];
@@ -34,7 +39,8 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
       recordings.push({ recording: job.recording, group: job.group, ok: false, detail: e instanceof RecordingError ? e.message : String((e as Error).message) });
     }
   }
-  return { recordings, unmatched: scanned.unmatched, spec: spec.source, notes: trends ? trendNamesUnseen(trends, [...channelsSeen.values()]) : [] };
+  const groups = unfedGroups(declaration.groups, scanned.recordings, declaration.lines).map((u) => unfedGroupNote(u));
+  return { recordings, unmatched: scanned.unmatched, spec: spec.source, notes: [...declaration.notes ?? [], ...groups, ...(trends ? trendNamesUnseen(trends, [...channelsSeen.values()]) : [])] };
 }
 
 /** Baseline restarts and per-channel limits that name no channel these recordings have: a typo, found before any night's run. */

@@ -70,6 +70,8 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched,
       lines: listed.map((r, i) => runLine(items[i].loc.facts, r.group, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
+      // Every shard scans the whole archive: the first part's say for all.
+      declarationNotes: first.declaration_notes ?? [], groupsWithoutRecordings: first.groups_without_recordings ?? [],
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,

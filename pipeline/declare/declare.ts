@@ -12,6 +12,7 @@ import type { ReductionSpec } from '../../spec/reduction.js';
 import { packageRoot } from './package-files.js';
 import { checkSpec } from './check-spec.js';
 import { parseSpan } from '../select/select.js';
+import { NO_QUANTITY_USES, quantityNote, unitNote, type QuantityUses } from './quantity-uses.js';
 import { formatProblems, loadYaml, parseYaml, UsageError, type Problem } from './yaml-file.js';
 
 /** Column names that labels may not take, since the table already has them. */
@@ -49,14 +50,18 @@ function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
   };
 }
 
-/** `reserved`: the other column names of features.parquet under the run's spec (quality, flags, the features), which labels may not take either. */
-export async function loadArchiveDeclaration(archive: string, reserved: readonly string[] = []): Promise<ArchiveDeclaration> {
+/**
+ * `reserved`: the other column names of features.parquet under the run's spec (quality, flags, the features), which labels
+ * may not take either; `uses`: the quantities the spec selects by, against which declared quantities and units are noted.
+ */
+export async function loadArchiveDeclaration(archive: string, reserved: readonly string[] = [], uses: QuantityUses = NO_QUANTITY_USES): Promise<ArchiveDeclaration> {
   const file = join(archive, ARCHIVE_FILE);
   if (!existsSync(archive)) throw new UsageError(`${archive}: no such archive folder; give the folder that holds ${ARCHIVE_FILE}`);
   if (!existsSync(file)) throw new UsageError(`${file}: missing; every archive declares its recordings in ${ARCHIVE_FILE} at its root (see schemas/archive.schema.json and the README)`);
   const { value, source } = await loadYaml(file, 'archive.schema.json');
   const raw = value as { groups: RawGroup[] };
   const problems: Problem[] = [];
+  const notes: string[] = [];
   const names = new Set<string>();
   const labelNames = new Map<string, string>();
   const groups = raw.groups.map((g, gi): GroupDeclaration => {
@@ -77,6 +82,8 @@ export async function loadArchiveDeclaration(archive: string, reserved: readonly
     const channels = g.channels?.map((c, ci): ChannelDeclaration => {
       if (channelNames.has(c.name!)) problems.push(source.problem(at('channels', ci, 'name'), `channel name "${c.name}" appears twice in this group`));
       channelNames.add(c.name!);
+      const declared = { group: g.name, channel: c.name!, quantity: c.quantity, unit: c.unit, file: ARCHIVE_FILE, line: source.lineOf(at('channels', ci)) };
+      for (const note of [quantityNote(declared, uses), unitNote(declared, uses)]) if (note) notes.push(note);
       if (c.range && !(c.range[0] < c.range[1])) problems.push(source.problem(at('channels', ci, 'range'), `range must be [lower, upper] with lower < upper, got [${c.range.join(', ')}]`));
       if (c.scale === 0) problems.push(source.problem(at('channels', ci, 'scale'), 'scale 0 would turn every sample into the offset; give the sensitivity in engineering units per stored unit'));
       for (const key of ['trigger_level', 'trigger_hysteresis'] as const) {
@@ -119,7 +126,7 @@ export async function loadArchiveDeclaration(archive: string, reserved: readonly
     };
   });
   if (problems.length) throw new UsageError(formatProblems(problems));
-  return { file, groups };
+  return { file, groups, notes, lines: raw.groups.map((_, gi) => source.lineOf(['groups', gi])) };
 }
 
 export interface LoadedSpec { spec: ReductionSpec; source: string; text: string; hash: string }

@@ -2,7 +2,11 @@
 import { readFile } from 'node:fs/promises';
 import type { ErrorObject } from 'ajv';
 import { isMap, isPair, isScalar, LineCounter, parseDocument, type Document } from 'yaml';
+import { didYouMean, likelyMeant } from './nearest-names.js';
+import { readSchema } from './package-files.js';
+import { keysAllowedAt } from './schema-keys.js';
 import { archive, reduction } from './schema-validators.js';
+import { syntaxHint } from './yaml-syntax-hint.js';
 
 /** Input that makes the whole run impossible (exit code 2). */
 export class UsageError extends Error {
@@ -38,11 +42,22 @@ export class YamlSource {
   }
 }
 
-function describeAjv(e: ErrorObject): { path: (string | number)[]; message: string; key: boolean } {
+/** Keys listed in full when none is near the unknown one; more would bury the line. */
+const KEYS_LISTED = 16;
+
+/** What to write instead of an unknown key: the allowed key it is nearest to, else the keys allowed there. */
+function unknownKey(key: string, allowed: readonly string[]): string {
+  const meant = likelyMeant(key, allowed);
+  if (meant.length) return `unknown key "${key}"; ${didYouMean(meant)}`;
+  if (allowed.length && allowed.length <= KEYS_LISTED) return `unknown key "${key}"; the keys allowed here are ${allowed.join(', ')}`;
+  return `unknown key "${key}"; check its spelling against the schema`;
+}
+
+function describeAjv(e: ErrorObject, schema: object | null): { path: (string | number)[]; message: string; key: boolean } {
   const path = e.instancePath.split('/').slice(1).map((s) => (/^\d+$/.test(s) ? Number(s) : s.replace(/~1/g, '/').replace(/~0/g, '~')));
   switch (e.keyword) {
     case 'additionalProperties':
-      return { path: [...path, e.params.additionalProperty], key: true, message: `unknown key "${e.params.additionalProperty}"; check its spelling against the schema` };
+      return { path: [...path, e.params.additionalProperty], key: true, message: unknownKey(e.params.additionalProperty, schema ? keysAllowedAt(schema, path) : []) };
     case 'required':
       return { path, key: false, message: `missing required key "${e.params.missingProperty}"` };
     case 'enum':
@@ -80,7 +95,7 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   const doc = parseDocument(text, { lineCounter: lines, prettyErrors: false });
   if (doc.errors.length) {
     // Without pretty errors the parser gives each error's offset only; the line counter turns it into a line.
-    throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? lines.linePos(e.pos[0]).line}: YAML syntax: ${e.message.split('\n')[0]}`).join('\n'));
+    throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? lines.linePos(e.pos[0]).line}: YAML syntax: ${e.message.split('\n')[0]}; ${syntaxHint(e.code, e.message)}`).join('\n'));
   }
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
@@ -91,8 +106,10 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   if (!validate(value)) {
     // oneOf/anyOf repeat their branches' errors; the branch errors are the useful ones.
     const errors = (validate.errors ?? []).filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'anyOf');
+    // The schema itself is read only to answer an unknown key with the keys allowed in its place.
+    const schema = errors.some((e) => e.keyword === 'additionalProperties') ? await readSchema(schemaName).catch(() => null) : null;
     const seen = new Set<string>();
-    const problems = errors.map(describeAjv).map((d) => source.problem(d.path, d.message, d.key)).filter((p) => {
+    const problems = errors.map((e) => describeAjv(e, schema)).map((d) => source.problem(d.path, d.message, d.key)).filter((p) => {
       const k = `${p.line}|${p.path}|${p.message}`;
       return seen.has(k) ? false : (seen.add(k), true);
     });

@@ -62,10 +62,12 @@ function timeValue(text: string, decimalComma: boolean): number {
 /** Decimals of a time cell's seconds: of a number, or of an ISO 8601 time's fraction of a second (before its zone). */
 const decimals = (t: string) => { const m = t.trim().match(/[.,](\d+)(?:[eE]|$|[zZ+-])/); return m ? m[1].length : 0; };
 
-/** Refuses a header naming one column twice: its channels could not be told apart. */
+/** Refuses a header naming one column twice, or none: its channels could not be told apart, nor named in the tables. */
 function refuseRepeatedNames(names: string[], headerLine: number): void {
   const seen = new Map<string, number>();
   names.forEach((name, i) => {
+    // pandas' to_csv writes the row index first under an empty name unless given index=False (common practice).
+    if (name === '') throw new RecordingError(`line ${headerLine}: column ${i + 1} has no name in the header${i === 0 ? '; an unnamed first column is usually the row index a spreadsheet or dataframe wrote (pandas: to_csv(..., index=False) leaves it out)' : ''}; write the file without that column, or name it in the header`);
     const before = seen.get(name);
     if (before !== undefined) throw new RecordingError(`line ${headerLine}: the header names "${name}" twice (columns ${before + 1} and ${i + 1}); give each column its own name`);
     seen.set(name, i);
