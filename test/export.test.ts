@@ -7,6 +7,7 @@ import { parse } from 'csv-parse/sync';
 import ExcelJS from 'exceljs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import * as XLSX from 'xlsx';
+import { neutralise } from '../pipeline/exports/csv.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { quern, sampleArchiveCopy, tempDir } from './helpers.js';
 
@@ -149,6 +150,11 @@ describe('formula injection (OWASP, "CSV Injection")', () => {
     // Numbers are not text: a negative mean stays a number.
     expect(Number.isFinite(Number(row[h.indexOf('min')]))).toBe(true);
     expect(row[h.indexOf('min')].startsWith('-')).toBe(true);
+  });
+
+  it('a label that is a plain signed number keeps its sign without the apostrophe; anything a spreadsheet could compute does not', () => {
+    for (const plain of ['-12.5', '+3', '-0.5e-3', '-.25', '1e6']) expect(neutralise(plain)).toBe(plain);
+    for (const formula of ['-2+3', '+A1', '-SUM(1)', '-12.5%', '- 1', '=-1']) expect(neutralise(formula)).toBe(`'${formula}`);
   });
 
   it('XLSX: the same cells are strings, not formulas, for SheetJS', () => {

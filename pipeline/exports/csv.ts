@@ -12,7 +12,9 @@ export interface CsvOptions {
 
 // Cells a spreadsheet would run as a formula start with one of these (OWASP, "CSV Injection"): a leading apostrophe makes them text.
 const FORMULA_START = /^[=+\-@\t\r]/;
-export const neutralise = (s: string) => (FORMULA_START.test(s) ? `'${s}` : s);
+// A plain signed number (a label of -12.5) runs as nothing but itself, so it keeps its sign without the apostrophe.
+const PLAIN_NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/;
+export const neutralise = (s: string) => (FORMULA_START.test(s) && !PLAIN_NUMBER.test(s) ? `'${s}` : s);
 
 /** A number as text that reads back as the same double (shortest round-trip form), or rounded to `digits`. */
 export const numberText = (v: number, digits: number | null | undefined) => String(digits ? Number(v.toPrecision(digits)) : v);
