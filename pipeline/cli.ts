@@ -176,8 +176,12 @@ async function main(argv: string[]): Promise<number> {
       if (a.log === 'json') {
         // What a job reading the log needs besides the counts: what changed in the machine, and which rigs fell quiet.
         const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;
-        const late = record.period?.late_arrivals;
-        progress.event?.('summary', { ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record), ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}) });
+        const late = record.period?.late_arrivals, renewed = record.period?.recomputed_for_baselines;
+        progress.event?.('summary', {
+          ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
+          ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
+          ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
+        });
       }
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);

@@ -86,9 +86,10 @@ describe('a nightly --since run whose baselines were stored under another versio
 
     // The first night after the upgrade: the period holds night 6 alone.
     writeFileSync(join(archive, name(NIGHTS)), night(NIGHTS));
-    const r = reduce(out, '--since', day(NIGHTS), '--exit-on', 'changed');
+    const r = reduce(out, '--since', day(NIGHTS), '--exit-on', 'changed', '--log', 'json');
     // The tone is in the envelope's band since night 3: changed against the baseline of nights 0–2, so --exit-on fires (3).
     expect(r.code).toBe(3);
+    expect(JSON.parse(r.stderr.trim().split('\n').at(-1)!)).toMatchObject({ event: 'summary', recomputed_for_baselines: { count: 3, failed: 0 } });
     expect(r.stdout).toContain('  BASELINE recomputed 3 recordings holding baseline places, stored by another version of quern, so the baselines form under this version, spec and declaration; see run.json (period.recomputed_for_baselines)');
     expect(r.stdout).toMatch(/CHANGED rig acc env_rms/);
     expect(r.stdout).not.toMatch(/no baseline/);

@@ -209,8 +209,8 @@ describe('reduction specs the schema cannot judge', () => {
 describe('a fault in quern where no caller waits', () => {
   it('ends the run with exit code 2 and the report message, not Node\'s exit code 1, and the next run goes on', () => {
     const archive = sampleArchiveCopy(), out = join(tempDir(), 'out');
-    // A fault planted in a timer while the run works: thrown where no caller of quern's awaits it.
-    const planted = '--import=data:text/javascript,setTimeout(()=>{throw new Error("planted fault")},300)';
+    // A fault planted in a timer once the run has stored its first results (so its lock names it): thrown where no caller of quern's awaits it.
+    const planted = `--import=data:text/javascript,import fs from "node:fs";setInterval(()=>{if(fs.existsSync("${join(out, 'cache', 'entries.pack')}"))throw new Error("planted fault")},10).unref()`;
     const r = quernUnder([planted], 'reduce', archive, '--out', out, '--jobs', '1', '--quiet');
     expect(r.code, r.stderr).toBe(2);
     expect(r.stderr).toMatch(/^quern: stopped by an unexpected error; the previous outputs are kept\. Please report it with what follows:\nError: planted fault/);
