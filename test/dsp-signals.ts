@@ -41,3 +41,17 @@ export function uniform(seed: number) {
     return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   };
 }
+
+/** |a − b| / |b|. */
+export const relative = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
+
+/** The largest difference of two series, relative to the largest magnitude of the second. */
+export const maxRelative = (got: ArrayLike<number>, want: ArrayLike<number>) => {
+  let peak = 0, worst = 0;
+  for (let k = 0; k < want.length; k++) peak = Math.max(peak, Math.abs(want[k]));
+  for (let k = 0; k < want.length; k++) worst = Math.max(worst, Math.abs(got[k] - want[k]) / peak);
+  return worst;
+};
+
+/** How many samples are not finite (NaN, ±Inf). */
+export const countMissing = (c: Float64Array) => c.reduce((m, v) => m + (Number.isFinite(v) ? 0 : 1), 0);

@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { bandMeanSquare, Welch, type Psd } from '../stages/dsp/welch.js';
 import type { Flag } from '../stages/quality/flag.js';
-import { inChunks } from './dsp-signals.js';
+import { countMissing, inChunks, maxRelative, relative } from './dsp-signals.js';
 import { fixture, readJson, tempDir } from './helpers.js';
 import { channel, reduce } from './reduce-signal.js';
 
@@ -26,14 +26,6 @@ function stretchSignal(c: Case): Float64Array {
   return x;
 }
 
-const relative = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
-const maxRelative = (got: ArrayLike<number>, want: ArrayLike<number>) => {
-  let peak = 0, worst = 0;
-  for (let k = 0; k < want.length; k++) peak = Math.max(peak, Math.abs(want[k]));
-  for (let k = 0; k < want.length; k++) worst = Math.max(worst, Math.abs(got[k] - want[k]) / peak);
-  return worst;
-};
-const countMissing = (c: Float64Array) => c.reduce((m, v) => m + (Number.isFinite(v) ? 0 : 1), 0);
 const asPsd = (c: Case): Psd => ({ density: Float64Array.from(c.density), df: c.fs / c.segment, segments: c.segments, segment: c.segment, length: c.length });
 const dropoutOf = (flags: Flag[]) => flags.find((f) => f.name === 'dropout') as Flag;
 

@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { bandMeanSquare, Welch, type Psd } from '../stages/dsp/welch.js';
 import type { Flag } from '../stages/quality/flag.js';
-import { inChunks } from './dsp-signals.js';
+import { countMissing, inChunks, maxRelative, relative } from './dsp-signals.js';
 import { fixture, readJson } from './helpers.js';
 import { channel, reduce } from './reduce-signal.js';
 
@@ -24,14 +24,6 @@ function gapSignal(n: number, fs: number, fill: (k: number) => number = () => Na
 /** As late_tone in make-gap-vectors.py: a unit 100 Hz tone from 0.17 s. */
 const lateTone = (n: number, fs: number) => Float64Array.from({ length: n }, (_, i) => (i / fs >= 0.17 ? f32(Math.sin(2 * Math.PI * 100 * (i / fs - 0.17))) : 0));
 
-const relative = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
-const maxRelative = (got: ArrayLike<number>, want: ArrayLike<number>) => {
-  let peak = 0, worst = 0;
-  for (let k = 0; k < want.length; k++) peak = Math.max(peak, Math.abs(want[k]));
-  for (let k = 0; k < want.length; k++) worst = Math.max(worst, Math.abs(got[k] - want[k]) / peak);
-  return worst;
-};
-const countMissing = (c: Float64Array) => c.reduce((m, v) => m + (Number.isFinite(v) ? 0 : 1), 0);
 const asPsd = (density: number[], fs: number, segment: number): Psd => ({ density: Float64Array.from(density), df: fs / segment, segments: 1, segment, length: segment });
 
 const FULL = { statistics: {}, spectrum: {}, bands: [[20, 200]], time_weighting_s: [0.125, 1], mtvv: { integration_s: 1 }, windows: { length_s: 0.5 } } as never;
