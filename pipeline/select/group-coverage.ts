@@ -1,7 +1,7 @@
 // Groups that get no recording: a pattern that matches no file, or one whose files all go to a group listed before it
 // (a file belongs to the first group that matches), so they are reduced under that group's declaration instead.
-import picomatch from 'picomatch';
 import type { GroupDeclaration } from '../../spec/archive.js';
+import { groupMatcher } from './scan.js';
 
 /** A group with no recording, and the groups before it that take the files its pattern matches (none: it matches no file). */
 export interface UnfedGroup { group: string; line: number | null; takenBy: { group: string; files: number }[] }
@@ -13,7 +13,7 @@ export function unfedGroups(groups: readonly GroupDeclaration[], recordings: rea
   const out: UnfedGroup[] = [];
   groups.forEach((g, gi) => {
     if (fed[gi]) return;
-    const matches = picomatch(g.match, { dot: false });
+    const matches = groupMatcher(g);
     const taken = new Map<number, number>();
     for (const r of recordings) if (matches(r.recording)) taken.set(r.group, (taken.get(r.group) ?? 0) + 1);
     out.push({ group: g.name, line: lines[gi] ?? null, takenBy: [...taken].sort((a, b) => a[0] - b[0]).map(([t, files]) => ({ group: groups[t].name, files })) });

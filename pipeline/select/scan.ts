@@ -65,7 +65,9 @@ export class ScannedFile implements ScannedRecording {
 export interface ScanOptions { exclude?: string[] }
 
 /** Each group's patterns as one test of a path relative to the archive root, in the declaration's order. */
-const groupMatchers = (declaration: ArchiveDeclaration) => declaration.groups.map((g) => picomatch(g.match, { dot: false }));
+/** Whether a recording's name (relative, with / separators) matches a group's pattern, as the scan matches it. */
+export const groupMatcher = (g: { match: string | string[] }) => picomatch(g.match, { dot: false });
+const groupMatchers = (declaration: ArchiveDeclaration) => declaration.groups.map(groupMatcher);
 
 /** Files stat'ed at once. */
 const STATS_AT_ONCE = 32;
