@@ -39,16 +39,18 @@ const WHOLE = { fromMs: -Infinity, untilMs: Infinity };
 
 /**
  * Baseline points of a series within an era: usable (data quality not fail), not excluded by the spec, and accepted by `has` (a value present), first N or within the
- * period. A point `stale` (its figure computed under other options) keeps its place among the first N, so the baseline never
- * slides onto later recordings, but is not a member; `held` lists the points holding such places.
+ * period. A point `stale` (its figure computed under other options, or its verdict under other thresholds) keeps its place among
+ * the first N, usable or not as stored, so the baseline never slides onto later recordings, but is not a member; `held` lists
+ * the points holding such places.
  */
 export function baselineMembers(s: Series, b: Baseline, has: (i: number) => boolean = () => true, stale: (i: number) => boolean = () => false, era: { fromMs: number; untilMs: number } = WHOLE): { members: number[]; held: number[] } {
   const members: number[] = [];
   const held: number[] = [];
   for (let i = 0; i < s.size; i++) {
     if (!(s.time[i] >= era.fromMs && s.time[i] < era.untilMs)) continue;
-    // A recording the spec leaves out of the baseline (a capture known to be unrepresentative) takes no place in it.
-    if (!usable(s, i) || s.excluded[i]) continue;
+    // A recording the spec leaves out of the baseline (a capture known to be unrepresentative) takes no place in it; one whose
+    // verdict is stale holds its place whatever it said (recomputed, it may be usable today).
+    if (s.excluded[i] || (!usable(s, i) && !stale(i))) continue;
     if ('first' in b) { if (members.length + held.length === b.first) break; }
     else if (!(s.time[i] >= b.fromMs && s.time[i] < b.untilMs)) continue;
     if (stale(i)) held.push(i);

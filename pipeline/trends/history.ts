@@ -88,11 +88,14 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     if (e.status !== 'reduced' || !e.base) continue;
     const declared = declarations.get(e.group);
     const sameDeclaration = !declared || declared.has(e.declKey);
-    const sameOptions = o.features.map((f) => sameDeclaration && e.groupKeys?.[f.group] === keys[f.group]);
+    // The data-quality verdicts say which recordings may join a baseline: stored under other thresholds (or another
+    // declaration or version), a point's usability is not known today either, so its figures do not compare.
+    const sameQuality = e.groupKeys?.quality === keys.quality;
+    const sameOptions = o.features.map((f) => sameDeclaration && sameQuality && e.groupKeys?.[f.group] === keys[f.group]);
     const comparable = o.features.map((f, k) => sameOptions[k] && e.groups[f.group] != null);
     const storedKeys = keysOf(e.version);
     const causes = o.features.map((f, k) => (sameOptions[k] ? 0
-      : (e.groupKeys?.[f.group] !== storedKeys[f.group] ? StaleCause.options : 0) | (sameDeclaration ? 0 : StaleCause.declaration) | (e.version !== version ? StaleCause.version : 0)));
+      : (e.groupKeys?.[f.group] !== storedKeys[f.group] || e.groupKeys?.quality !== storedKeys.quality ? StaleCause.options : 0) | (sameDeclaration ? 0 : StaleCause.declaration) | (e.version !== version ? StaleCause.version : 0)));
     const start = e.base.header.start_time ? Date.parse(e.base.header.start_time) : NaN;
     const r = recordings.push(e.recording) - 1;
     const excluded = o.excluded?.(e.recording) ? 1 : 0;
