@@ -2,6 +2,7 @@
 // window's figures are of its finite samples; a window with none has none (null).
 import { fixedWindowsOf } from './fused/fixed-windows.js';
 import { missingOf } from './fused/missing.js';
+import { PackedRows } from './packed-rows.js';
 import { speedOf } from './shaft-speed.js';
 import type { StageDefinition } from './stage.js';
 
@@ -25,10 +26,10 @@ export const windows: StageDefinition<WindowOptions> = {
   create(ctx, o) {
     const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));
     const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
-    // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish().
+    // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish(), packed.
     const speedIn = ctx.tacho ? speedOf(ctx).windows(length, hop) : null;
-    const held: Record<string, number | null>[] = [];
-    const emit = (row: Record<string, number | null>) => (speedIn ? held.push(row) : ctx.addRow('windows', row));
+    const held = new PackedRows();
+    const emit = (row: Record<string, number | null>) => (speedIn ? held.add(0, row) : ctx.addRow('windows', row));
     const row = (sum: number, sq: number, peak: number, end: number, finite: number) =>
       emit({ window_start_s: (end - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: finite > 0 ? sum / finite : null, rms: finite > 0 ? Math.sqrt(sq / finite) : null, peak: finite > 0 ? peak : null });
     let seen = 0;
@@ -60,7 +61,7 @@ export const windows: StageDefinition<WindowOptions> = {
       },
       finish() {
         if (seen < length) ctx.note(`${ctx.name}: shorter (${(seen / ctx.sampleRate).toFixed(3)} s) than one ${o.length_s} s window; no window rows`);
-        held.forEach((r, j) => ctx.addRow('windows', { ...r, speed_rpm: speedIn!(j) }));
+        for (let j = 0; j < held.length; j++) ctx.addRow('windows', { ...held.row(j), speed_rpm: speedIn!(j) });
         return {};
       },
     };

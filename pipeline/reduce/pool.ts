@@ -137,7 +137,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
     const moved: ArrayBuffer[] = [];
     let retire = false;
     const take = (reply: BatchReply) => {
-      moved.push(...ownBuffers(reply.records.map((r) => r.bytes)));
+      moved.push(...ownBuffers(reply.records.flatMap((r) => [r.bytes, ...(r.tail ?? [])])));
       retire ||= reply.retire;
       return reply.records.map(withFacts);
     };
@@ -189,7 +189,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  * A record from a worker with its facts read from its bytes each time they are asked for: made and dropped at once,
  * they never outlive the collector's young generation, where facts copied over with every batch piled up in the old one.
  */
-const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
+const withFacts = ({ bytes, tail }: BatchResult): StoredRecord => ({ bytes, tail, get facts() { return recordFacts(bytes); } });
 
 /** The failure key and reason of a worker that stopped: a first stall, or not being tried, says nothing of the file, so the next run tries it again. */
 function failureOf(e: Error, stalledBefore: boolean, specHash: string): { failureKey: string; reason: string } {
