@@ -77,6 +77,26 @@ export class PackedRows {
     this.length++;
   }
 
+  /** The columns of `names`, in that order (made where new, null in the rows before): for `addValues`. */
+  columnsOf(names: readonly string[]): number[] {
+    return names.map((n) => this.index.get(n) ?? this.newColumn(n));
+  }
+
+  /** Adds a row of `channel` from values in the order of `columns` (from `columnsOf`); the table's other columns are null in it. */
+  addValues(channel: number, columns: readonly number[], values: ArrayLike<number | null>): void {
+    if (this.k < 0 || this.at === this.starts[this.k + 1] - this.starts[this.k]) this.nextChunk();
+    const k = this.k, at = this.at;
+    for (let j = 0; j < columns.length; j++) {
+      const v = values[j];
+      if (v == null) this.markNull(columns[j], k, at); else this.chunks[columns[j]][k][at] = v;
+    }
+    if (columns.length < this.names.length) for (let c = 0; c < this.names.length; c++) if (!columns.includes(c)) this.markNull(c, k, at);
+    const r = this.runs.length;
+    if (r && this.runs[r - 2] === channel) this.runs[r - 1]++; else this.runs.push(channel, 1);
+    this.at++;
+    this.length++;
+  }
+
   /** A value, or null. */
   value(column: number, i: number): number | null {
     let k = 0;

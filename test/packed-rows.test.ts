@@ -57,6 +57,19 @@ describe('packed rows', () => {
     expect(packed.column(3)).toEqual(rms);
   });
 
+  it('hold the same rows when added as values in a fixed order, a row costing no object', () => {
+    const typed = new PackedRows(4, 16);
+    const names = ['window_start_s', 'window_s', 'mean', 'rms', 'peak'];
+    const plain = typed.columnsOf(names), withSpeed = typed.columnsOf([...names, 'speed_rpm']);
+    for (const { channel, row } of given) {
+      if ('speed_rpm' in row) typed.addValues(channel, withSpeed, [...names, 'speed_rpm'].map((n) => row[n] ?? null));
+      else typed.addValues(channel, plain, names.map((n) => row[n] ?? null));
+    }
+    expect(typed.names).toEqual(packed.names);
+    expect(typed.runs).toEqual(packed.runs);
+    for (let i = 0; i < n; i++) expect(typed.row(i)).toEqual(packed.row(i));
+  });
+
   it('keep each row\'s channel as runs of consecutive rows', () => {
     const channelOf: number[] = [];
     for (const [c, from, to] of packed.channelRuns()) for (let i = from; i < to; i++) channelOf.push(c);

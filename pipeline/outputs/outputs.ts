@@ -151,7 +151,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
       // Secondary tables come as columns, cut into record batches one at a time: a long table is never one stream.
-      for (const [name, parts] of Object.entries(s.rows)) for (const part of parts) for await (const ipc of partStreams(part, tables[name])) await parquet[name].push(ipc);
+      // Each stream is in the writer's memory once pushed, and its own memory freed at once.
+      for (const [name, parts] of Object.entries(s.rows)) for (const part of parts) for await (const ipc of partStreams(part, tables[name])) { await parquet[name].push(ipc); release(ownBuffers([ipc])); }
       // Each part comes after a separator; the very first one's is dropped.
       if (s.recordings) await spools.quality.write(counted.recordings || s.quality[0] !== COMMA ? s.quality : s.quality.subarray(1));
       counted.recordings += s.recordings;

@@ -140,11 +140,14 @@ function numberData(values: Float64Array, nullable: boolean): arrow.Data {
  */
 export async function* partStreams(part: RowsPart, columns: TableColumn[], rows = PART_ROWS): AsyncGenerator<Uint8Array> {
   const fh = part.file ? await open(part.file, 'r') : null;
+  // One buffer a column for every batch of the part: a batch's values are in its IPC stream once it is made.
+  const buffers = new Map<number, Float64Array>();
   try {
     yield* batches(part, columns, rows, async (j, from, to) => {
       const at = part.offsets![j];
       if (at === null) return null;
-      const v = new Float64Array(to - from), bytes = new Uint8Array(v.buffer);
+      const v = (buffers.get(j) ?? buffers.set(j, new Float64Array(Math.min(rows, part.length))).get(j)!).subarray(0, to - from);
+      const bytes = new Uint8Array(v.buffer, 0, v.byteLength);
       for (let got = 0, k = 1; got < bytes.length; got += k) {
         k = (await fh!.read(bytes, got, bytes.length - got, at + from * 8 + got)).bytesRead;
         if (k === 0) throw new Error(`${part.file}: ends inside a stored table's columns; run again with --force to recompute it`);

@@ -120,6 +120,10 @@ export async function computeRecording(
           note: (m) => { if (!g.notes.includes(m)) g.notes.push(m); },
           // Packed into the group's columns as it comes: no object kept a row (the recording, channel and unit are added as the tables are written).
           addRow: (table, row) => ((g.tables[table] ??= new PackedRows()) as PackedRows).add(c, row),
+          rowAppender: (table, names) => {
+            const rows = (g.tables[table] ??= new PackedRows()) as PackedRows, columns = rows.columnsOf(names);
+            return (values) => rows.addValues(c, columns, values);
+          },
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
           tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
