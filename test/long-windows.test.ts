@@ -71,4 +71,19 @@ describe('a long recording\'s windows rows', () => {
     }
     expect(rows.filter((r) => r[1] === 'b' && r[6] === null).length).toBe(3);
   }, 120_000);
+
+  it('are the same rows when a later run reuses them beside a group it computes afresh', async () => {
+    const db = await (await DuckDBInstance.create()).connect();
+    const table = async () => (await db.runAndReadAll(`select * exclude (recording) from '${join(out, 'windows.parquet')}'`)).getRows();
+    const before = await table();
+    writeFileSync(join(archive, 'reduction.yaml'), `windows: { length_s: ${length / fs} }\nspectrum: { segment: 1024 }\n`);
+    const r = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(r.code, r.stderr).toBe(0);
+    const line = readJson(join(out, 'run.json')).recordings[0];
+    expect(line.reused).toContain('windows');
+    expect(line.recomputed).toContain('spectrum');
+    const after = await table();
+    expect(after.length).toBe(before.length);
+    expect(after.findIndex((row, i) => row.some((v, j) => !Object.is(v, before[i][j])))).toBe(-1);
+  }, 120_000);
 });

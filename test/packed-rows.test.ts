@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { PackedRows } from '../stages/packed-rows.js';
 import { columnsAt, decodeResults, encodeRecord, encodeRecordPieces, HEADER_BYTES, recordBody, type EntryFacts, type EntryResults } from '../pipeline/store/record.js';
-import { RecordReader } from '../pipeline/store/pack.js';
+import { RecordReader, RecordsInOrder } from '../pipeline/store/pack.js';
 import { sha256 } from '../pipeline/store/record.js';
 import { assembleRecording } from '../pipeline/reduce/assemble.js';
 import { RowsGather, partStreams } from '../pipeline/outputs/rows-part.js';
@@ -113,6 +113,23 @@ describe('packed rows', () => {
     const first = new Float64Array(whole.buffer.slice(whole.byteOffset + left.at, whole.byteOffset + left.at + 8 * n));
     expect([...first]).toEqual(given.map(({ row }) => row.window_start_s));
     expect((decodeResults(recordBody(bytes), false).groups.windows.tables.windows as PackedRows).length).toBe(0);
+  });
+
+  it('are copied a window at a time, the record checked once through, and a damaged one refused', async () => {
+    const record = Buffer.from(encodeRecord(facts, resultsWith({ windows: packed })));
+    const pack = join(tempDir(), 'entries.pack');
+    writeFileSync(pack, Buffer.concat([Buffer.alloc(100, 7), record]));
+    const loc = { file: pack, offset: 100, length: record.length, bodySha: record.subarray(44, 76).toString('hex') };
+    const copied: Buffer[] = [];
+    const src = new RecordsInOrder(4096);
+    await src.copy(loc, 'long.wav', async (b) => { copied.push(Buffer.from(b)); });
+    expect(copied.length).toBeGreaterThan(5);
+    expect(Buffer.concat(copied)).toEqual(record);
+    const damaged = Buffer.from(record);
+    damaged[damaged.length - 3] ^= 1;
+    writeFileSync(pack, Buffer.concat([Buffer.alloc(100, 7), damaged]));
+    await expect(src.copy(loc, 'long.wav', async () => {})).rejects.toThrow(/damaged/);
+    await src.close();
   });
 
   it('become the same Parquet record batches as the row objects stored before them', async () => {

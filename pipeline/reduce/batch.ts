@@ -9,7 +9,7 @@ import type { Located } from '../store/pack.js';
 import { decodeResults, encodeRecord, encodeRecordPieces, READ_AGAIN, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
-import { ownBuffers } from '../store/release.js';
+import { tailBuffers } from '../store/release.js';
 import { beat, type Beats } from './stall-watch.js';
 import type { RecordingOutput } from './result.js';
 
@@ -129,9 +129,9 @@ function together(results: StoredRecord[]): BatchResult[] {
   });
 }
 
-/** The memory a batch's records lie in, and their tables' column chunks (to move them to the main thread rather than copy them). */
+/** The memory a batch's records lie in, and their tails' (to move them to the main thread rather than copy them). */
 export const batchBuffers = (results: BatchResult[]): ArrayBuffer[] =>
-  (results.length ? [results[0].bytes.buffer as ArrayBuffer, ...ownBuffers(results.flatMap((r) => r.tail ?? []))] : []);
+  (results.length ? [results[0].bytes.buffer as ArrayBuffer, ...tailBuffers(results)] : []);
 
 function encode(entry: CacheEntry, storedAt: number): StoredRecord {
   const { facts, results } = splitEntry(entry, storedAt);

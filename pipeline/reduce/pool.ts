@@ -8,7 +8,7 @@ import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
 import { encodeRecord, NOT_TRIED, recordFacts, STALLED } from '../store/record.js';
-import { ownBuffers, release } from '../store/release.js';
+import { ownBuffers, release, tailBuffers } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
 import { newBeats, NoProgress, NotTried, Stalled, watchStall } from './stall-watch.js';
 import type { BatchTask } from './worker.js';
@@ -137,7 +137,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
     const moved: ArrayBuffer[] = [];
     let retire = false;
     const take = (reply: BatchReply) => {
-      moved.push(...ownBuffers(reply.records.flatMap((r) => [r.bytes, ...(r.tail ?? [])])));
+      moved.push(...ownBuffers(reply.records.map((r) => r.bytes)), ...tailBuffers(reply.records));
       retire ||= reply.retire;
       return reply.records.map(withFacts);
     };

@@ -182,6 +182,34 @@ export class RecordsInOrder {
     return checked(this.window.subarray(at, at + loc.length), Math.min(loc.length, this.filled - at), loc, recording);
   }
   /**
+   * Hands a record's bytes to `write` in order, a window at a time when it is larger than the window (a long recording's
+   * table columns), and checks them against its checksums once all are through: a record is copied without being held whole.
+   */
+  async copy(loc: Place, recording: string, write: (bytes: Buffer) => Promise<void>): Promise<void> {
+    if (loc.length <= this.windowBytes) { await write(await this.read(loc, recording)); return; }
+    if (loc.file !== this.file) { await this.close(); this.fh = await open(loc.file, 'r'); this.file = loc.file; }
+    if (this.window.length < this.windowBytes) this.window = Buffer.allocUnsafe(this.windowBytes);
+    this.start = 0; this.filled = 0;
+    const damaged = () => new Error(`${loc.file}: the stored entry of ${recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+    let hash: ReturnType<typeof createHash> | null = null, bodyStart = 0;
+    for (let done = 0; done < loc.length;) {
+      let n = 0;
+      for (let k = 1; n < Math.min(this.windowBytes, loc.length - done) && k > 0; n += k) k = (await this.fh!.read(this.window, n, Math.min(this.windowBytes, loc.length - done) - n, loc.offset + done + n)).bytesRead;
+      if (n === 0) throw damaged();
+      const piece = this.window.subarray(0, n);
+      if (!hash) {
+        if (n < HEADER_BYTES || piece.readUInt32LE(0) !== MAGIC) throw damaged();
+        bodyStart = HEADER_BYTES + piece.readUInt32LE(4);
+        hash = createHash('sha256');
+      }
+      if (done + n > bodyStart) hash.update(piece.subarray(Math.max(0, bodyStart - done)));
+      await write(piece);
+      done += n;
+    }
+    if (hash!.digest('hex') !== loc.bodySha) throw damaged();
+  }
+
+  /**
    * A record larger than the window, cut where its table columns start; the columns are read a window at a time into the
    * checksum and dropped, so a long recording's windows rows never sit in memory for the trends.
    */
