@@ -2,10 +2,14 @@
 // window's figures are of its finite samples; a window with none has none (null).
 import { fixedWindowsOf } from './fused/fixed-windows.js';
 import { missingOf } from './fused/missing.js';
+import { PackedRows } from './packed-rows.js';
 import { speedOf } from './shaft-speed.js';
-import type { StageDefinition } from './stage.js';
+import { appenderOf, type StageDefinition } from './stage.js';
 
 export interface WindowOptions { length_s: number; hop_s: number }
+
+/** A row's values in windows.parquet, in order; a tacho channel's rows add `speed_rpm`. */
+const VALUES = ['window_start_s', 'window_s', 'mean', 'rms', 'peak'] as const;
 
 /** Mean square, sum and peak of a ring's samples, the finite ones only (`finite` counts them): for windows that hold a missing sample. */
 function finiteFigures(ring: Float64Array, out: Float64Array): void {
@@ -25,12 +29,17 @@ export const windows: StageDefinition<WindowOptions> = {
   create(ctx, o) {
     const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));
     const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
-    // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish().
+    // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish(), packed.
     const speedIn = ctx.tacho ? speedOf(ctx).windows(length, hop) : null;
-    const held: Record<string, number | null>[] = [];
-    const emit = (row: Record<string, number | null>) => (speedIn ? held.push(row) : ctx.addRow('windows', row));
-    const row = (sum: number, sq: number, peak: number, end: number, finite: number) =>
-      emit({ window_start_s: (end - length) / ctx.sampleRate, window_s: length / ctx.sampleRate, mean: finite > 0 ? sum / finite : null, rms: finite > 0 ? Math.sqrt(sq / finite) : null, peak: finite > 0 ? peak : null });
+    const held = new PackedRows(), heldColumns = held.columnsOf(VALUES);
+    const append = speedIn ? null : appenderOf(ctx, 'windows', VALUES);
+    // One array of a row's values, filled again for each window: a row costs no object.
+    const values: (number | null)[] = [0, 0, 0, 0, 0, null];
+    const row = (sum: number, sq: number, peak: number, end: number, finite: number) => {
+      values[0] = (end - length) / ctx.sampleRate; values[1] = length / ctx.sampleRate;
+      values[2] = finite > 0 ? sum / finite : null; values[3] = finite > 0 ? Math.sqrt(sq / finite) : null; values[4] = finite > 0 ? peak : null;
+      if (append) append(values); else held.addValues(0, heldColumns, values);
+    };
     let seen = 0;
     // Back-to-back windows are summed in the channel's fused pass; overlapping or spaced ones from a ring of the last window.
     if (hop === length) fixedWindowsOf(ctx, length).listen(row);
@@ -60,7 +69,14 @@ export const windows: StageDefinition<WindowOptions> = {
       },
       finish() {
         if (seen < length) ctx.note(`${ctx.name}: shorter (${(seen / ctx.sampleRate).toFixed(3)} s) than one ${o.length_s} s window; no window rows`);
-        held.forEach((r, j) => ctx.addRow('windows', { ...r, speed_rpm: speedIn!(j) }));
+        if (speedIn) {
+          const withSpeed = appenderOf(ctx, 'windows', [...VALUES, 'speed_rpm']);
+          for (let j = 0; j < held.length; j++) {
+            for (let v = 0; v < VALUES.length; v++) values[v] = held.value(heldColumns[v], j);
+            values[5] = speedIn(j);
+            withSpeed(values);
+          }
+        }
         return {};
       },
     };

@@ -135,7 +135,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
 
   await mkdir(dirname(join(outDir, names.table('features'))), { recursive: true });
   // The Parquet writer (WebAssembly) is loaded only by runs that write.
-  const { ParquetStream } = await import('./parquet-stream.js');
+  const [{ ParquetStream }, { partStreams }] = await Promise.all([import('./parquet-stream.js'), import('./rows-part.js')]);
   const staged = (name: string) => new StagedFile(join(outDir, name));
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
@@ -150,6 +150,9 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const counted = { fail: 0, warn: 0, recordings: 0 };
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
+      // Secondary tables come as columns, cut into record batches one at a time: a long table is never one stream.
+      // Each stream is in the writer's memory once pushed, and its own memory freed at once.
+      for (const [name, parts] of Object.entries(s.rows)) for (const part of parts) for await (const ipc of partStreams(part, tables[name])) { await parquet[name].push(ipc); release(ownBuffers([ipc])); }
       // Each part comes after a separator; the very first one's is dropped.
       if (s.recordings) await spools.quality.write(counted.recordings || s.quality[0] !== COMMA ? s.quality : s.quality.subarray(1));
       counted.recordings += s.recordings;

@@ -4,9 +4,10 @@ import * as arrow from 'apache-arrow';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { assembleRecording, assemblyOf } from '../reduce/assemble.js';
 import { RecordReader, type Place } from '../store/pack.js';
-import { decodeResults, joinEntry, recordBody, recordFacts } from '../store/record.js';
+import { decodeResults, joinEntry, recordBody, recordFacts, type CacheEntry } from '../store/record.js';
 import type { TableColumn } from './parquet.js';
 import { TableRows } from './table-rows.js';
+import { RowsGather, type RowsPart } from './rows-part.js';
 import { columnsFor, columnsTable } from './arrow-columns.js';
 import { addSpectra } from './spectra-rows.js';
 import { outputTables } from './output-tables.js';
@@ -41,8 +42,12 @@ export interface Candidate { at: Place; recording: string; channel: string }
 
 /** The slice's texts and tables travel as bytes, moved to the main thread rather than copied. */
 export interface SliceOutput {
-  /** Arrow IPC stream of each table's rows (features and every secondary table); null where the slice has none. */
+  /** Arrow IPC stream of features' rows (and spectra's); null where the slice has none. */
   tables: Record<string, Uint8Array | null>;
+  /** Each secondary table's rows as columns, in parts (the main thread cuts them into record batches). */
+  rows: Record<string, RowsPart[]>;
+  /** The memory those columns lie in, each buffer the slice's own whole (a long table's stored entry among them): moved, not copied. */
+  held: Uint8Array[];
   /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as UTF-8. */
   quality: Uint8Array;
   recordings: number;
@@ -62,10 +67,20 @@ export interface SliceOutput {
   channels: string[];
 }
 
-async function withRecords<T>(fn: (read: (at: Place, recording: string) => Buffer) => Promise<T>): Promise<T> {
+/** An entry larger than this leaves its tables' columns in its pack: the main thread reads them a record batch at a time. */
+const COLUMNS_LEFT_BYTES = 8 << 20;
+
+/** An entry read back; a large entry's table columns left in its pack (`tables` false: not read at all). */
+type ReadEntry = (at: Place, recording: string, tables?: boolean) => CacheEntry;
+
+async function withRecords<T>(fn: (read: ReadEntry) => Promise<T>): Promise<T> {
   const records = new RecordReader();
   try {
-    return await fn((at, recording) => records.read(at, recording));
+    return await fn((at, recording, tables = true) => {
+      if (at.length <= COLUMNS_LEFT_BYTES) { const record = records.read(at, recording); return joinEntry(recordFacts(record), decodeResults(recordBody(record))); }
+      const { bytes, bodyAt } = records.readWithoutColumns(at, recording);
+      return joinEntry(recordFacts(bytes), decodeResults(recordBody(bytes), tables ? { file: at.file, offset: bodyAt } : false));
+    });
   } finally {
     records.close();
   }
@@ -74,8 +89,9 @@ async function withRecords<T>(fn: (read: (at: Place, recording: string) => Buffe
 export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   // Rows go to columns as they are made: no row objects stay on the heap meanwhile. The spectra's bins go to their
   // columns as whole arrays.
-  const { spectra: spectraColumns, ...rowTables } = tablesOf(task);
-  const rows = Object.fromEntries(Object.entries(rowTables).map(([t, columns]) => [t, new TableRows(columns)]));
+  const { spectra: spectraColumns, features: featureColumns, ...secondaryTables } = tablesOf(task);
+  const features = new TableRows(featureColumns);
+  const gathered = Object.fromEntries(Object.entries(secondaryTables).map(([t, columns]) => [t, new RowsGather(columns)]));
   const spectra = spectraColumns ? columnsFor(spectraColumns) : null;
   const candidates: SliceOutput['candidates'] = { fail: [], warn: [] }, counts = { fail: 0, warn: 0 }, totals = emptyTotals(), fails: string[] = [];
   let failCount = 0, recordings = 0;
@@ -85,13 +101,12 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const assembly = assemblyOf(task.spec);
   await withRecords(async (read) => {
     for (const { at, recording, group, labels } of task.items) {
-      const record = read(at, recording);
       // Under the group's present name: a group renamed in archive.yaml keeps its recordings' stored results.
-      const entry = { ...joinEntry(recordFacts(record), decodeResults(recordBody(record))), group };
+      const entry = { ...read(at, recording), group };
       if (spectra) addSpectra(entry, spectra);
       const r = assembleRecording(entry, labels, task.spec, assembly);
-      for (const row of r.rows) rows.features.add(row);
-      for (const [name, list] of Object.entries(r.tables)) if (rows[name]) for (const row of list) rows[name].add(row);
+      for (const row of r.rows) features.add(row);
+      for (const [name, list] of Object.entries(r.secondary)) if (gathered[name]) for (const source of list) gathered[name].add(source);
       const q = qualityRecording(r);
       // One line a recording: quality.json is for programs (quality.html is the read), and indenting made it a third larger.
       quality.add(jsonPieces.item(JSON.stringify(q), 1));
@@ -116,10 +131,12 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const tables: SliceOutput['tables'] = {};
   // Names and types only: each table's writer keeps the described schema (units, descriptions, the run's metadata) of the
   // empty first batch the main thread gave it, and a described schema cost a slice of features some 0.8 ms to encode.
-  for (const name of Object.keys(rows)) tables[name] = rows[name].length ? arrow.tableToIPC(rows[name].table({}, false), 'stream') : null;
+  tables.features = features.length ? arrow.tableToIPC(features.table({}, false), 'stream') : null;
+  const rows = Object.fromEntries(Object.entries(gathered).map(([name, g]) => [name, g.done()]));
+  const held = Object.values(gathered).flatMap((g) => [...g.held].map((b) => new Uint8Array(b)));
   if (spectraColumns) tables.spectra = spectra!.recording.length ? arrow.tableToIPC(columnsTable(spectraColumns, spectra!, {}, false), 'stream') : null;
   return {
-    tables, quality: quality.done(), recordings, overview: overview.done(), sections: { fail: sections.fail.done(), warn: sections.warn.done() }, notes: notes.done(),
+    tables, rows, held, quality: quality.done(), recordings, overview: overview.done(), sections: { fail: sections.fail.done(), warn: sections.warn.done() }, notes: notes.done(),
     candidates, counts, totals, failLines: fails, failCount, channels: [...names],
   };
 }
@@ -135,7 +152,7 @@ export async function picturesOf(wanted: Candidate[]): Promise<(string[] | null)
   return withRecords(async (read) => {
     const out: (string[] | null)[] = [];
     for (const { at, recording, channel } of wanted) {
-      const results = decodeResults(recordBody(read(at, recording)));
+      const results = read(at, recording, false);
       const c = results.base?.channels.findIndex((x) => x.name === channel) ?? -1;
       const ev = c >= 0 ? results.groups.quality?.evidence[c] : null;
       if (ev?.data) {

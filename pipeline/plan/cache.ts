@@ -15,13 +15,13 @@ export type { CacheEntry, Identity } from '../store/record.js';
 const sha = (s: string) => createHash('sha256').update(s).digest('hex');
 
 /** The entries at the places given, in order, each read by `records` (closed at the end); one damaged since it was scanned is passed over. */
-async function* decoded(places: Iterable<StoredEntry>, records: { read(loc: Place, recording: string): Buffer | Promise<Buffer>; close(): void | Promise<void> }): AsyncGenerator<CacheEntry> {
+async function* decoded(places: Iterable<StoredEntry>, records: { read(loc: Place, recording: string): Buffer | Promise<Buffer>; close(): void | Promise<void>; tables?: boolean }): AsyncGenerator<CacheEntry> {
   try {
     for (const loc of places) {
       const facts = loc.facts;
       let entry: CacheEntry;
       try {
-        entry = joinEntry(facts, decodeResults(recordBody(await records.read(loc, facts.recording))));
+        entry = joinEntry(facts, decodeResults(recordBody(await records.read(loc, facts.recording)), records.tables ?? true));
       } catch {
         continue; // damaged since it was scanned: no history
       }
@@ -49,7 +49,7 @@ export const everyEntry = (store: Store) => entriesOf(store, [...store.entries.k
 export type Present = ReadonlyMap<string, string>;
 
 /**
- * The entries of the recordings present now, in the order they lie in the store's packs (a pass over the whole history that
+ * The entries of the recordings present now (their secondary tables without rows), in the order they lie in the store's packs (a pass over the whole history that
  * needs no order: the trends' series are ordered by start time and name), each under its group's present name: an entry
  * of a recording deleted or renamed since is no history, and one stored under a group's former name belongs to it still.
  * Each pack is read front to back; damaged entries are passed over.
@@ -57,7 +57,8 @@ export type Present = ReadonlyMap<string, string>;
 export async function* presentEntriesAsStored(store: Store, present: Present): AsyncGenerator<CacheEntry> {
   const places = [...placesOf(store, present.keys())].map((loc) => ({ loc, file: loc.file, offset: loc.offset }));
   places.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : a.offset - b.offset));
-  for await (const e of decoded(places.map((p) => p.loc), new RecordsInOrder())) yield { ...e, group: present.get(e.recording)! };
+  // The history needs no table rows: a long recording's are checked and passed over, never held.
+  for await (const e of decoded(places.map((p) => p.loc), new RecordsInOrder(undefined, false))) yield { ...e, group: present.get(e.recording)! };
 }
 
 /** Every entry the output folder holds, read from its packs. */

@@ -3,7 +3,7 @@ import { activeStages, featureColumns } from '../../stages/index.js';
 import type { ColumnValues } from '../../stages/stage.js';
 import { worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
-import type { FeatureRow, RecordingOutput, RecordingResult } from './result.js';
+import { rowObjects, type FeatureRow, type RecordingOutput, type RecordingResult, type SecondarySource } from './result.js';
 
 /** What assembling needs from the spec, made once for many recordings: the groups it asks for and a row of its feature columns, all null. */
 export interface Assembly { active: ReadonlySet<string>; blank: ColumnValues }
@@ -18,8 +18,13 @@ export function assemblyOf(spec: RecordingJob['spec']): Assembly {
 
 /** One row per channel, secondary tables and the quality verdict, from a recording's group outputs. */
 export function assembleRecording(o: RecordingOutput, labels: Record<string, string>, spec: RecordingJob['spec'], { active, blank }: Assembly = assemblyOf(spec)): RecordingResult {
+  const secondary: Record<string, SecondarySource[]> = {};
+  let tables: Record<string, FeatureRow[]> | null = null;
   const result: RecordingResult = {
-    recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [], tables: {}, quality: [],
+    recording: o.recording, group: o.group, status: o.status, reason: o.reason, messages: [], rows: [],
+    // Row objects only when asked for: the outputs read the packed columns.
+    get tables() { return (tables ??= Object.fromEntries(Object.entries(secondary).map(([t, list]) => [t, list.reduce((to, s) => rowObjects(s, to), [] as FeatureRow[])]))); },
+    secondary, quality: [],
     frames: o.base?.frames ?? 0, sampleRate: o.base?.sampleRate ?? null, header: o.base?.header, seconds: o.seconds,
   };
   if (o.status === 'failed' || !o.base) return result;
@@ -27,8 +32,8 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   // Only the groups the spec asks for now: a stored group whose section was since removed contributes nothing.
   const groups = Object.keys(o.groups).filter((g) => active.has(g)).sort();
   result.messages = [...base.notes, ...groups.flatMap((g) => o.groups[g].notes)];
-  // Row by row: a table may hold hundreds of thousands of rows (an unbinned rainflow), more than one call's arguments may.
-  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) { const to = (result.tables[table] ??= []); for (const row of rows) to.push(row); }
+  // Each group's rows as they are held: a table may hold millions of rows (short windows of a long recording).
+  for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (secondary[table] ??= []).push({ rows, recording: o.recording, channels: base.channels });
   const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
   result.rows = base.channels.map((ch, c) => {
     const flags = o.groups.quality?.flags[c] ?? [];

@@ -6,9 +6,10 @@ import { hashFile } from '../plan/hash-file.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { RecordReader } from '../store/pack.js';
 import type { Located } from '../store/pack.js';
-import { decodeResults, encodeRecord, READ_AGAIN, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
+import { decodeResults, encodeRecord, encodeRecordPieces, READ_AGAIN, recordBody, splitEntry, type CacheEntry, type EntryFacts, type Identity } from '../store/record.js';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { computeRecording } from './compute.js';
+import { tailBuffers } from '../store/release.js';
 import { beat, type Beats } from './stall-watch.js';
 import type { RecordingOutput } from './result.js';
 
@@ -32,12 +33,15 @@ export interface StoreFacts {
 }
 
 export interface BatchItem { job: RecordingJob; store: StoreFacts }
-/** A record as it travels to the main thread: its bytes only; the facts are in them, read where they are needed. */
-export interface BatchResult { bytes: Uint8Array }
+/**
+ * A record as it travels to the main thread: its bytes only (the facts are in them, read where they are needed), and
+ * after them, for a recording with long tables, the rest of its bytes as the tables' own column chunks.
+ */
+export interface BatchResult { bytes: Uint8Array; tail?: Uint8Array[] }
 /** A batch's records, and whether the thread asks to be replaced (it holds memory only its end gives back). */
 export interface BatchReply { records: BatchResult[]; retire: boolean }
-/** A record and its facts. */
-export interface StoredRecord { facts: EntryFacts; bytes: Uint8Array }
+/** A record and its facts; `tail`, when there is one, holds the rest of its bytes. */
+export interface StoredRecord { facts: EntryFacts; bytes: Uint8Array; tail?: Uint8Array[] }
 
 /** The entry to store: fresh groups over reused ones. */
 export function mergeEntry(s: StoreFacts, fresh: RecordingOutput, previous: CacheEntry | null): CacheEntry {
@@ -118,17 +122,19 @@ export async function reduceBatch(items: BatchItem[], beats: Beats | null = null
 function together(results: StoredRecord[]): BatchResult[] {
   const all = new Uint8Array(results.reduce((n, r) => n + r.bytes.length, 0));
   let at = 0;
-  return results.map(({ bytes }) => {
+  return results.map(({ bytes, tail }) => {
     all.set(bytes, at);
     at += bytes.length;
-    return { bytes: all.subarray(at - bytes.length, at) };
+    return { bytes: all.subarray(at - bytes.length, at), ...(tail?.length ? { tail } : {}) };
   });
 }
 
-/** The memory a batch's records lie in (to move it to the main thread rather than copy it). */
-export const batchBuffers = (results: BatchResult[]): ArrayBuffer[] => (results.length ? [results[0].bytes.buffer as ArrayBuffer] : []);
+/** The memory a batch's records lie in, and their tails' (to move them to the main thread rather than copy them). */
+export const batchBuffers = (results: BatchResult[]): ArrayBuffer[] =>
+  (results.length ? [results[0].bytes.buffer as ArrayBuffer, ...tailBuffers(results)] : []);
 
 function encode(entry: CacheEntry, storedAt: number): StoredRecord {
   const { facts, results } = splitEntry(entry, storedAt);
-  return { facts, bytes: encodeRecord(facts, results) };
+  const { head, tail } = encodeRecordPieces(facts, results);
+  return { facts, bytes: head, ...(tail.length ? { tail } : {}) };
 }

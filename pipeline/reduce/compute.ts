@@ -6,6 +6,7 @@ import { DECLARE_IN_ARCHIVE, openRecording } from '../../stages/read/open.js';
 import { RecordingError, type Recording } from '../../stages/read/recording.js';
 import { THREAD_SCRATCH, type ScratchBuffers } from '../../stages/scratch.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
+import { PackedRows } from '../../stages/packed-rows.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
 import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
@@ -117,7 +118,12 @@ export async function computeRecording(
           timeSteps: () => r.timeSteps ?? null,
           shared: <T extends Stage>(key: string, make: () => T) => (shared.get(key) ?? shared.set(key, make()).get(key)) as T,
           note: (m) => { if (!g.notes.includes(m)) g.notes.push(m); },
-          addRow: (table, row) => (g.tables[table] ??= []).push({ recording: job.recording, channel: decl.name, unit: decl.unit, ...row }),
+          // Packed into the group's columns as it comes: no object kept a row (the recording, channel and unit are added as the tables are written).
+          addRow: (table, row) => ((g.tables[table] ??= new PackedRows()) as PackedRows).add(c, row),
+          rowAppender: (table, names) => {
+            const rows = (g.tables[table] ??= new PackedRows()) as PackedRows, columns = rows.columnsOf(names);
+            return (values) => rows.addValues(c, columns, values);
+          },
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
           tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,

@@ -8,7 +8,7 @@ import type { Tinypool } from 'tinypool';
 import { packageRoot } from '../declare/package-files.js';
 import { settleWorkerCompiling, settleWorkerHeap } from '../engine-settings.js';
 import { encodeRecord, NOT_TRIED, recordFacts, STALLED } from '../store/record.js';
-import { ownBuffers, release } from '../store/release.js';
+import { ownBuffers, release, tailBuffers } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
 import { newBeats, NoProgress, NotTried, Stalled, watchStall } from './stall-watch.js';
 import type { BatchTask } from './worker.js';
@@ -137,7 +137,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
     const moved: ArrayBuffer[] = [];
     let retire = false;
     const take = (reply: BatchReply) => {
-      moved.push(...ownBuffers(reply.records.map((r) => r.bytes)));
+      moved.push(...ownBuffers(reply.records.map((r) => r.bytes)), ...tailBuffers(reply.records));
       retire ||= reply.retire;
       return reply.records.map(withFacts);
     };
@@ -189,7 +189,7 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
  * A record from a worker with its facts read from its bytes each time they are asked for: made and dropped at once,
  * they never outlive the collector's young generation, where facts copied over with every batch piled up in the old one.
  */
-const withFacts = ({ bytes }: BatchResult): StoredRecord => ({ bytes, get facts() { return recordFacts(bytes); } });
+const withFacts = ({ bytes, tail }: BatchResult): StoredRecord => ({ bytes, tail, get facts() { return recordFacts(bytes); } });
 
 /** The failure key and reason of a worker that stopped: a first stall, or not being tried, says nothing of the file, so the next run tries it again. */
 function failureOf(e: Error, stalledBefore: boolean, specHash: string): { failureKey: string; reason: string } {

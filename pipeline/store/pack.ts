@@ -2,7 +2,8 @@
 // A damaged stretch (bad checksum, lying length, cut-off end) is reported and skipped: reading resumes at the next sound record.
 import { closeSync, openSync, readSync } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
-import { decodeResults, HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
+import { createHash } from 'node:crypto';
+import { columnsAt, decodeResults, HEADER_BYTES, MAGIC, MAX_PART_BYTES, sha256, type EntryFacts } from './record.js';
 
 /** Where a record lies, and the checksum of its results: enough to read it back and check it. */
 export interface Place { file: string; offset: number; length: number; bodySha: string }
@@ -36,6 +37,18 @@ class Window {
   }
 }
 
+/** The SHA-256 of [pos, pos + n), read a window at a time: a long recording's entry is never held whole to be checked. */
+async function shaOf(w: Window, pos: number, n: number): Promise<Buffer | null> {
+  const hash = createHash('sha256');
+  for (let done = 0; done < n;) {
+    const piece = await w.at(pos + done, Math.min(WINDOW, n - done));
+    if (!piece) return null;
+    hash.update(piece);
+    done += piece.length;
+  }
+  return hash.digest();
+}
+
 type Check = { ok: true; located: Located } | { ok: false; problem: string; recording: string | null };
 
 /** Holds the record starting at `pos` against its header and checksums. */
@@ -53,8 +66,8 @@ async function check(file: string, w: Window, pos: number): Promise<Check> {
   if (sha256(meta).equals(metaSha)) { try { facts = JSON.parse(meta.toString('utf8')) as EntryFacts; } catch { facts = null; } }
   if (pos + length > w.size) return { ok: false, problem: 'truncated: the file ends inside a record', recording: facts?.recording ?? null };
   if (!facts) return { ok: false, problem: 'checksum mismatch in the entry\'s facts', recording: null };
-  const body = await w.at(pos + HEADER_BYTES + metaLength, bodyLength);
-  if (!body || !sha256(body).equals(bodySha)) return { ok: false, problem: 'checksum mismatch in the entry\'s results', recording: facts.recording };
+  const sum = await shaOf(w, pos + HEADER_BYTES + metaLength, bodyLength);
+  if (!sum || !sum.equals(bodySha)) return { ok: false, problem: 'checksum mismatch in the entry\'s results', recording: facts.recording };
   return { ok: true, located: { file, offset: pos, length, bodySha: bodySha.toString('hex'), facts } };
 }
 
@@ -143,7 +156,8 @@ function checked(bytes: Buffer, bytesRead: number, loc: Place, recording: string
  * record), so the storage watch's timer still runs while a hung output folder holds one.
  */
 export class RecordsInOrder {
-  constructor(private readonly windowBytes = WINDOW) {}
+  /** `tables` false: a record's packed table columns are checked but not kept (its results then decode with `tables` false). */
+  constructor(private readonly windowBytes = WINDOW, readonly tables = true) {}
   private fh: FileHandle | null = null;
   private file = '';
   private window = Buffer.alloc(0);
@@ -155,6 +169,7 @@ export class RecordsInOrder {
       this.fh = await open(loc.file, 'r');
       this.file = loc.file;
     }
+    if (!this.tables && loc.length > this.windowBytes) return this.withoutColumns(loc, recording);
     if (loc.offset < this.start || loc.offset + loc.length > this.start + this.filled) {
       const want = Math.max(loc.length, this.windowBytes);
       if (this.window.length < want) this.window = Buffer.allocUnsafe(want);
@@ -166,6 +181,68 @@ export class RecordsInOrder {
     const at = loc.offset - this.start;
     return checked(this.window.subarray(at, at + loc.length), Math.min(loc.length, this.filled - at), loc, recording);
   }
+  /**
+   * Hands a record's bytes to `write` in order, a window at a time when it is larger than the window (a long recording's
+   * table columns), and checks them against its checksums once all are through: a record is copied without being held whole.
+   */
+  async copy(loc: Place, recording: string, write: (bytes: Buffer) => Promise<void>): Promise<void> {
+    if (loc.length <= this.windowBytes) { await write(await this.read(loc, recording)); return; }
+    if (loc.file !== this.file) { await this.close(); this.fh = await open(loc.file, 'r'); this.file = loc.file; }
+    if (this.window.length < this.windowBytes) this.window = Buffer.allocUnsafe(this.windowBytes);
+    this.start = 0; this.filled = 0;
+    const damaged = () => new Error(`${loc.file}: the stored entry of ${recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+    let hash: ReturnType<typeof createHash> | null = null, bodyStart = 0;
+    for (let done = 0; done < loc.length;) {
+      let n = 0;
+      for (let k = 1; n < Math.min(this.windowBytes, loc.length - done) && k > 0; n += k) k = (await this.fh!.read(this.window, n, Math.min(this.windowBytes, loc.length - done) - n, loc.offset + done + n)).bytesRead;
+      if (n === 0) throw damaged();
+      const piece = this.window.subarray(0, n);
+      if (!hash) {
+        if (n < HEADER_BYTES || piece.readUInt32LE(0) !== MAGIC) throw damaged();
+        bodyStart = HEADER_BYTES + piece.readUInt32LE(4);
+        hash = createHash('sha256');
+      }
+      if (done + n > bodyStart) hash.update(piece.subarray(Math.max(0, bodyStart - done)));
+      await write(piece);
+      done += n;
+    }
+    if (hash!.digest('hex') !== loc.bodySha) throw damaged();
+  }
+
+  /**
+   * A record larger than the window, cut where its table columns start; the columns are read a window at a time into the
+   * checksum and dropped, so a long recording's windows rows never sit in memory for the trends.
+   */
+  private async withoutColumns(loc: Place, recording: string): Promise<Buffer> {
+    const readAt = async (to: Buffer, from: number, n: number) => {
+      let got = 0;
+      for (let k = 1; got < n && k > 0; got += k) k = (await this.fh!.read(to, got, n - got, from + got)).bytesRead;
+      return got;
+    };
+    const head = Buffer.allocUnsafe(HEADER_BYTES + 10);
+    const damaged = () => new Error(`${loc.file}: the stored entry of ${recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+    if (await readAt(head, loc.offset, HEADER_BYTES) < HEADER_BYTES || head.readUInt32LE(0) !== MAGIC) throw damaged();
+    const bodyStart = HEADER_BYTES + head.readUInt32LE(4);
+    if (bodyStart + 10 > loc.length) throw damaged();
+    await readAt(head.subarray(HEADER_BYTES), loc.offset + bodyStart, 10);
+    const at = columnsAt(head.subarray(HEADER_BYTES));
+    const cut = at === null ? loc.length : Math.min(loc.length, bodyStart + at);
+    const bytes = Buffer.allocUnsafe(cut);
+    if (await readAt(bytes, loc.offset, cut) < cut) throw damaged();
+    const hash = createHash('sha256').update(bytes.subarray(bodyStart));
+    if (this.window.length < this.windowBytes) this.window = Buffer.allocUnsafe(this.windowBytes);
+    for (let done = cut; done < loc.length;) {
+      const n = await readAt(this.window, loc.offset + done, Math.min(this.windowBytes, loc.length - done));
+      if (n === 0) throw damaged();
+      hash.update(this.window.subarray(0, n));
+      done += n;
+    }
+    // The window now holds column bytes, not the records after this one.
+    this.start = 0; this.filled = 0;
+    if (hash.digest('hex') !== loc.bodySha) throw damaged();
+    return bytes;
+  }
+
   async close(): Promise<void> {
     const fh = this.fh;
     this.fh = null;
@@ -189,6 +266,39 @@ export class RecordReader {
     for (let n = 1; got < loc.length && n > 0; got += n) n = readSync(fd, bytes, got, loc.length - got, loc.offset + got);
     return checked(bytes, got, loc, recording);
   }
+  /**
+   * A record cut where its packed table columns start (`columnsAt`), with the offset of its results in the pack; the
+   * columns are read into the checksum a window at a time and dropped, so the outputs read them a record batch at a time.
+   */
+  readWithoutColumns(loc: Place, recording: string): { bytes: Buffer; bodyAt: number } {
+    const fd = this.fds.get(loc.file) ?? this.fds.set(loc.file, openSync(loc.file, 'r')).get(loc.file)!;
+    const readAt = (to: Buffer, from: number) => {
+      let got = 0;
+      for (let k = 1; got < to.length && k > 0; got += k) k = readSync(fd, to, got, to.length - got, from + got);
+      return got;
+    };
+    const damaged = () => new Error(`${loc.file}: the stored entry of ${recording} at byte ${loc.offset} was damaged after it was read; run again to recompute it`);
+    const head = Buffer.allocUnsafe(HEADER_BYTES + 10);
+    if (readAt(head.subarray(0, HEADER_BYTES), loc.offset) < HEADER_BYTES || head.readUInt32LE(0) !== MAGIC) throw damaged();
+    const bodyStart = HEADER_BYTES + head.readUInt32LE(4);
+    if (bodyStart + 10 > loc.length) throw damaged();
+    readAt(head.subarray(HEADER_BYTES), loc.offset + bodyStart);
+    const at = columnsAt(head.subarray(HEADER_BYTES));
+    const cut = at === null ? loc.length : Math.min(loc.length, bodyStart + at);
+    const bytes = Buffer.allocUnsafe(cut);
+    if (readAt(bytes, loc.offset) < cut) throw damaged();
+    const hash = createHash('sha256').update(bytes.subarray(bodyStart));
+    const piece = Buffer.allocUnsafe(Math.min(WINDOW, loc.length - cut));
+    for (let done = cut; done < loc.length;) {
+      const n = readAt(piece.subarray(0, Math.min(piece.length, loc.length - done)), loc.offset + done);
+      if (n === 0) throw damaged();
+      hash.update(piece.subarray(0, n));
+      done += n;
+    }
+    if (hash.digest('hex') !== loc.bodySha) throw damaged();
+    return { bytes, bodyAt: loc.offset + bodyStart };
+  }
+
   close(): void {
     for (const fd of this.fds.values()) closeSync(fd);
     this.fds.clear();

@@ -36,3 +36,10 @@ export function ownBuffers(views: Iterable<Uint8Array | null | undefined>): Arra
   }
   return own;
 }
+
+/**
+ * The memory the tails of records lie in (the tables' column chunks, or a reused entry read back whole), each larger than
+ * Node's pool of small Buffers and needed no more once its record is made: moved to the main thread, freed once written.
+ */
+export const tailBuffers = (records: { tail?: Uint8Array[] }[]): ArrayBuffer[] =>
+  [...new Set(records.flatMap((r) => (r.tail ?? []).map((t) => t.buffer as ArrayBuffer)))].filter((b) => b.byteLength > Buffer.poolSize);

@@ -120,13 +120,13 @@ export class Store {
   private appending: Promise<void> = Promise.resolve();
 
   /** Appends records to this run's pack with one write, and makes them the recordings' entries; appends run one at a time. */
-  append(records: { facts: EntryFacts; bytes: Uint8Array }[]): Promise<void> {
+  append(records: { facts: EntryFacts; bytes: Uint8Array; tail?: Uint8Array[] }[]): Promise<void> {
     const next = this.appending.then(() => this.appendNow(records));
     this.appending = next.catch(() => {});
     return next;
   }
 
-  private async appendNow(records: { facts: EntryFacts; bytes: Uint8Array }[]): Promise<void> {
+  private async appendNow(records: { facts: EntryFacts; bytes: Uint8Array; tail?: Uint8Array[] }[]): Promise<void> {
     if (!this.own) throw new Error('this store was opened read-only');
     if (!records.length) return;
     if (!this.fh) {
@@ -134,14 +134,17 @@ export class Store {
       this.fh = await open(this.own, 'a');
       this.end = (await this.fh.stat()).size;
     }
-    const data = contiguous(records.map((r) => r.bytes)) ?? Buffer.concat(records.map((r) => r.bytes));
+    // A record's tail (a long table's column chunks) is written where it lies, after the record's first bytes.
+    const pieces = records.some((r) => r.tail?.length) ? records.flatMap((r) => [r.bytes, ...(r.tail ?? [])]) : [contiguous(records.map((r) => r.bytes)) ?? Buffer.concat(records.map((r) => r.bytes))];
+    const total = pieces.reduce((n, p) => n + p.length, 0);
     let offset = this.end;
     // Advance the end before writing: a failed write leaves a cut-off stretch that readers skip and report.
-    this.end += data.length;
-    for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
+    this.end += total;
+    for (const data of pieces) for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
     for (const r of records) {
-      this.table.set({ file: this.own, offset, length: r.bytes.length, bodySha: r.bytes.subarray(44, 76) }, r.facts);
-      offset += r.bytes.length;
+      const length = r.bytes.length + (r.tail ?? []).reduce((n, p) => n + p.length, 0);
+      this.table.set({ file: this.own, offset, length, bodySha: r.bytes.subarray(44, 76) }, r.facts);
+      offset += length;
     }
   }
 
@@ -189,10 +192,9 @@ export class Store {
       let offset = 0;
       const moved: number[] = [];
       for (const l of live) {
-        const bytes = await src.read(l.at, l.recording);
-        await dst.write(bytes, 0, bytes.length, offset);
         moved.push(offset);
-        offset += bytes.length;
+        // A long recording's record goes through a window at a time, checked once it is through.
+        await src.copy(l.at, l.recording, async (bytes) => { await dst.write(bytes, 0, bytes.length, offset); offset += bytes.length; });
       }
       await dst.sync();
       await dst.close();
