@@ -64,6 +64,35 @@ describe('saturation', () => {
   });
 });
 
+describe('saturation of a 24-bit converter in a 32-bit container', () => {
+  // 24-bit codes stored in 32-bit PCM words (the code shifted up by 8 bits, common practice for 24-bit loggers): the most
+  // positive code is 2^23 − 1, one 24-bit step short of full scale, far below the 32-bit container's own most positive code.
+  const pcm32 = (codes24: Int32Array, fs: number) => {
+    const data = Buffer.alloc(codes24.length * 4);
+    codes24.forEach((c, i) => data.writeInt32LE(c * 256, i * 4));
+    const fmt = Buffer.alloc(16);
+    fmt.writeUInt16LE(1, 0); fmt.writeUInt16LE(1, 2); fmt.writeUInt32LE(fs, 4); fmt.writeUInt32LE(fs * 4, 8); fmt.writeUInt16LE(4, 12); fmt.writeUInt16LE(32, 14);
+    const head = (id: string, n: number) => { const b = Buffer.alloc(8); b.write(id, 0, 'latin1'); b.writeUInt32LE(n, 4); return b; };
+    const body = Buffer.concat([Buffer.from('WAVE'), head('fmt ', 16), fmt, head('data', data.length), data]);
+    return Buffer.concat([head('RIFF', body.length), body]);
+  };
+  it('samples clipped at the 24-bit code 2^23 − 1 count with bits: 24 declared, with or without a range, as numpy counts them', async () => {
+    const fs = 1000, top = 2 ** 23 - 1;
+    const codes = Int32Array.from({ length: 4000 }, (_, i) => Math.max(-(2 ** 23), Math.min(top, Math.round(2 ** 23 * (0.3 + 0.9 * Math.sin(2 * Math.PI * 5 * i / fs))))));
+    const atTop = codes.filter((c) => c === top).length;
+    expect(atTop).toBeGreaterThan(400);
+    for (const range of [null, [-500, 500]] as const) {
+      const path = join(tempDir(), 'x.wav');
+      writeFileSync(path, pcm32(codes, fs));
+      const decl = channel({ scale: 500, bits: 24, range: range ? [...range] as [number, number] : null });
+      const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames: 4096 });
+      const sat = r.quality[0].flags.find((f) => f.name === 'saturation') as Flag;
+      expect(sat.evidence.samples, `range ${range}`).toBe(atTop);
+      expect(sat.severity).toBe('fail');
+    }
+  });
+});
+
 describe('aliasing (sampling theorem)', () => {
   it('all the power above the declared highest frequency: the message says the declared band holds under 1 % of it (no absurd percentage)', async () => {
     const fs = 12800, x = Float64Array.from({ length: fs * 2 }, (_, i) => Math.sin(2 * Math.PI * 3000 * i / fs));

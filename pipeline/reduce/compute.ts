@@ -95,8 +95,10 @@ export async function computeRecording(
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       const bits = decl.bits ?? r.bits;
-      // The most negative code is −1 of full scale, the most positive one step short of +1 (a negative scale swaps them).
-      const ends = r.normalised && r.bits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - r.bits)) * decl.scale + decl.offset] : null;
+      // The most negative code is −1 of full scale, the most positive one step short of +1 (a negative scale swaps them), a
+      // step of the converter: 24-bit codes in a 32-bit container end a 24-bit step short, and a file narrower than the declared converter at its own.
+      const codeBits = r.bits && decl.bits ? Math.min(r.bits, decl.bits) : r.bits;
+      const ends = r.normalised && codeBits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - codeBits)) * decl.scale + decl.offset] : null;
       const fullScale: [number, number] | null = ends && [Math.min(ends[0], ends[1]), Math.max(ends[0], ends[1])];
       // One context a feature group, shared by the group's stages: each stage's notes, rows and flags are filed under its
       // own feature group, and a recording makes a few contexts a channel, not one a stage (they live as long as it does).
