@@ -1,7 +1,7 @@
 // Loads a YAML file validated against a JSON Schema; every error names the file, the line and the key path.
 import { readFile } from 'node:fs/promises';
 import type { ErrorObject } from 'ajv';
-import { isMap, isPair, isScalar, LineCounter, parseDocument, type Document } from 'yaml';
+import { isMap, isPair, isScalar, LineCounter, parseDocument, visit, type Document } from 'yaml';
 import { didYouMean, likelyMeant } from './nearest-names.js';
 import { readSchema } from './package-files.js';
 import { keysAllowedAt } from './schema-keys.js';
@@ -97,6 +97,10 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
     // Without pretty errors the parser gives each error's offset only; the line counter turns it into a line.
     throw new UsageError(doc.errors.map((e) => `${displayName}:${e.linePos?.[0].line ?? lines.linePos(e.pos[0]).line}: YAML syntax: ${e.message.split('\n')[0]}; ${syntaxHint(e.code, e.message)}`).join('\n'));
   }
+  // An unquoted value starting with * (a glob: *.wav) is a YAML alias to an anchor the file never names.
+  const unresolved: string[] = [];
+  visit(doc, { Alias(_, node) { if (!node.resolve(doc)) unresolved.push(`${displayName}:${lines.linePos(node.range?.[0] ?? 0).line}: YAML syntax: *${node.source} reads as a reference to an anchor named ${node.source}, which the file does not define; put a value that starts with * in quotes ("*${node.source}")`); } });
+  if (unresolved.length) throw new UsageError(unresolved.join('\n'));
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
   const infinite = nonFinitePaths(value);
