@@ -175,7 +175,7 @@ describe('unknown keys and syntax errors: what was meant, and what to do', () =>
       ['groups:\n\t- name: g\n', /archive\.yaml:2: YAML syntax: .*; indent with spaces: YAML does not allow tabs there/],
       ['groups:\n  - name: "g\n    match: x\n', /YAML syntax: .*; close the quote opened here/],
       ['groups:\n  - name: g match: "*.wav"\n', /archive\.yaml:2: YAML syntax: .*; write one key a line as "key: value", with a space after the colon/],
-      // An unquoted glob starting with * is a YAML alias (YAML 1.2 §6.9.2, an alias node names an anchor): quote it.
+      // An unquoted glob starting with * is a YAML alias node, which names an anchor (YAML 1.2; from memory): quote it.
       ['groups:\n  - name: g\n    match: *.wav\n', /archive\.yaml:3: YAML syntax: \*\.wav reads as a reference to an anchor named \.wav, which the file does not define; put a value that starts with \* in quotes \("\*\.wav"\)/],
     ];
     for (const [yaml, expected] of cases) expect(await errorOf(loadArchiveDeclaration(archiveWith(yaml)))).toMatch(expected);
