@@ -146,6 +146,26 @@ describe('a nightly --since run whose baselines were stored under another versio
     expect(nightly).toEqual(await trendRows(fresh, `recording = '${name(NIGHTS)}'`));
   }, 180_000);
 
+  it('after the quality thresholds changed, a baseline night stored as failing is recomputed and joins the baseline as a fresh run forms it', async () => {
+    const { root, archive, out, fresh } = rig();
+    // Night 1 holds five isolated spikes: 0.04 % of its samples, a fail under a spike limit of 0.01 %, a warn under the default 0.1 %.
+    const spiky = night(1), data = spiky.indexOf('data') + 8;
+    for (let k = 0; k < 5; k++) spiky.writeInt16LE(30000, data + 2 * (1000 + 2000 * k));
+    writeFileSync(join(archive, name(1)), spiky);
+    writeFileSync(join(root, 'strict.yaml'), `${spec(2500, 4500)}quality: { spikes: { fail_fraction: 0.0001 } }\n`);
+    const reduce = (dir: string, specFile: string, ...more: string[]) => quern('reduce', archive, '--out', dir, '--spec', join(root, specFile), '--jobs', '1', ...more);
+    expect(reduce(out, 'strict.yaml', '--quiet').code).toBe(0);
+    expect(readJson(join(out, 'quality.json')).recordings.find((r: any) => r.recording === name(1)).severity).toBe('fail');
+    writeFileSync(join(archive, name(NIGHTS)), night(NIGHTS));
+    const r = reduce(out, 'spec.yaml', '--since', day(NIGHTS));
+    expect(r.code).toBe(0);
+    const renewed = readJson(join(out, 'run.json')).period.recomputed_for_baselines;
+    expect(renewed).toMatchObject({ count: 3, causes: { version: 0, options: 3, declaration: 0 }, failed: 0 });
+    expect(renewed.recordings.map((x: any) => x.recording)).toEqual([0, 1, 2].map(name));
+    expect(reduce(fresh, 'spec.yaml', '--quiet').code).toBe(0);
+    expect(await trendRows(out)).toEqual(await trendRows(fresh, `recording = '${name(NIGHTS)}'`));
+  }, 180_000);
+
   it('after a corrected declaration, a baseline recording that fails when recomputed leaves its place to the next usable one, as a fresh run forms it', async () => {
     // Night 1 was captured at 16 kHz; archive.yaml declared no rate, so every night was reduced at its file's own.
     const { root, archive, out, fresh } = rig(declaration(''));
