@@ -2,11 +2,13 @@
 import { settlingS, startShortfallDb } from './dsp/exponential-average.js';
 import { expAverageOf } from './fused/exp-average.js';
 import { missingOf } from './fused/missing.js';
+import { hzName } from './names.js';
 import type { StageDefinition } from './stage.js';
 
 export interface TimeWeightingOptions { constants_s: number[] }
 
-const col = (tau: number) => `max_twrms_${Math.round(tau * 1000)}ms`;
+// The time constant in milliseconds as the spec gives it, a decimal point written p (62.5 ms: max_twrms_62p5ms), as band names are.
+const col = (tau: number) => `max_twrms_${hzName(Number((tau * 1000).toPrecision(12)))}ms`;
 
 export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
   group: 'time_weighting',

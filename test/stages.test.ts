@@ -101,6 +101,13 @@ describe('time averages', () => {
     expect(row.max_twrms_1000ms).toBeCloseTo(3 * Math.sqrt(1 - Math.exp(-T / 1)), 6);
   });
 
+  it('names a time constant of a fraction of a millisecond as the spec gives it, not rounded: 62.5 ms is max_twrms_62p5ms', async () => {
+    const fs = 1000, T = 0.5;
+    const { row } = await reduce(new Float64Array(fs * T).fill(3), fs, { time_weighting_s: [0.0625, 0.1251] });
+    expect(row.max_twrms_62p5ms).toBeCloseTo(3 * Math.sqrt(1 - Math.exp(-T / 0.0625)), 6);
+    expect(row.max_twrms_125p1ms).toBeCloseTo(3 * Math.sqrt(1 - Math.exp(-T / 0.1251)), 6);
+  });
+
   it('Slow-weighted RMS of a steady sine settles on A/√2', async () => {
     const fs = 8000;
     const { row } = await reduce(sine(fs * 20, fs, 250, 4), fs, { time_weighting_s: [1.0] });
