@@ -63,7 +63,7 @@ export async function loadArchiveDeclaration(archive: string, reserved: readonly
   const problems: Problem[] = [];
   const notes: string[] = [];
   const names = new Set<string>();
-  const labelNames = new Map<string, string>();
+  const labelNames = new Map<string, { label: string; group: string }>();
   const groups = raw.groups.map((g, gi): GroupDeclaration => {
     const at = (...p: (string | number)[]) => ['groups', gi, ...p];
     if (names.has(g.name)) problems.push(source.problem(at('name'), `group name "${g.name}" is used twice; give each group its own name`));
@@ -75,8 +75,8 @@ export async function loadArchiveDeclaration(archive: string, reserved: readonly
       const column = (name: string) => (name === label ? 'column of that name' : `column ${name} (SQL readers take names without regard to case, so "${label}" is "${name}" there)`);
       if (fixed) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the ${column(fixed)}; rename the label`, true));
       else if (other) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's ${column(other)} under this reduction spec; rename the label`, true));
-      else if (earlier && earlier !== label) problems.push(source.problem(at('labels', label), `label "${label}" differs from the label "${earlier}" of another group only in case, and SQL readers take them as one column; spell them alike`, true));
-      else labelNames.set(label.toLowerCase(), label);
+      else if (earlier && earlier.label !== label) problems.push(source.problem(at('labels', label), `label "${label}" differs from the label "${earlier.label}" ${earlier.group === g.name ? 'of the same group' : 'of another group'} only in case, and SQL readers take them as one column; spell them alike`, true));
+      else labelNames.set(label.toLowerCase(), { label, group: g.name });
     }
     const channelNames = new Set<string>();
     const channels = g.channels?.map((c, ci): ChannelDeclaration => {
