@@ -95,6 +95,17 @@ describe('packed rows', () => {
     });
   });
 
+  it('of no rows (a recording shorter than one window) are stored and read back as a table of no rows', () => {
+    const empty = new PackedRows(4, 16);
+    const body = recordBody(Buffer.from(encodeRecord(facts, resultsWith({ windows: empty }))));
+    const back = decodeResults(body).groups.windows.tables.windows as PackedRows;
+    expect(back).toBeInstanceOf(PackedRows);
+    expect(back.length).toBe(0);
+    const gather = new RowsGather(WINDOW_TABLE);
+    gather.add({ rows: back, recording: 'short.wav', channels });
+    expect(gather.parts.reduce((s, p) => s + p.length, 0)).toBe(0);
+  });
+
   it('are written in pieces whose checksum is the whole record\'s, and a reader may leave the columns unread', () => {
     const { head, tail } = encodeRecordPieces(facts, resultsWith({ windows: packed }));
     const whole = Buffer.concat([head, ...tail]);

@@ -151,9 +151,10 @@ function resultsPieces(results: EntryResults, at: number): Uint8Array[] {
   const arrays: Float32Array[] = [];
   let count = 0;
   const columns: Float64Array[] = [];
-  let values = 0;
+  let values = 0, packed = false;
   const json = asciiJson(results, (_key, v) => {
     if (v instanceof PackedRows) {
+      packed = true;
       const stored: StoredRows = { names: v.names, length: v.length, runs: v.runs, first: values };
       for (let c = 0; c < v.names.length; c++) columns.push(...v.chunksOf(c));
       values += v.length * v.names.length;
@@ -166,7 +167,8 @@ function resultsPieces(results: EntryResults, at: number): Uint8Array[] {
   });
   const deflated = deflateRawSync(json, { level: 1, chunkSize: ZLIB_CHUNK_BYTES });
   const bytesOf = (a: Float32Array | Float64Array) => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
-  if (!columns.length) {
+  // A packed table, even one of no rows, is decoded only by the form that places tables (a window shorter than the recording).
+  if (!packed) {
     if (!arrays.length) return [deflated];
     const head = Buffer.allocUnsafe(5);
     head[0] = WITH_ARRAYS;
