@@ -1,7 +1,7 @@
 // Time-weighted maxima LAFmax, LASmax and the C-weighted peak LCpeak from the channel's weighted sound pressure
 // (weighted-sound.ts): the exponential time weighting F or S of the A-weighted pressure, or the largest absolute C-weighted
 // value. Each filter's deviation from the analytic weighting at this sample rate is reported, and noted where it leaves the class 1 limits.
-import { settlingS, startShortfallDb } from './dsp/exponential-average.js';
+import { settlingS, unsettled } from './dsp/exponential-average.js';
 import { LEVEL_UNIT, levelDb, P0_PA } from './sound-pressure.js';
 import type { StageDefinition } from './stage.js';
 import { FAST_S, SLOW_S, START_S, weightedSoundOf } from './weighted-sound.js';
@@ -48,8 +48,8 @@ const digits = (v: number) => Number(v.toPrecision(3));
  * reaches 10·lg(1 − e^(−T/τ)) dB of itself by the end; said where that is more than `toleranceDb`. Empty otherwise.
  */
 export function unsettledMaxima(durationS: number, toleranceDb = 0.1): string {
-  const short = ([['LAFmax', FAST_S], ['LASmax', SLOW_S]] as const).filter(([, tau]) => durationS > 0 && durationS < settlingS(tau, toleranceDb));
+  const short = unsettled(durationS, [FAST_S, SLOW_S], toleranceDb);
   if (!short.length) return '';
-  const each = short.map(([name, tau]) => `${name} ${digits(-startShortfallDb(durationS, tau))} dB low (${tau === FAST_S ? 'Fast' : 'Slow'}, τ = ${tau} s, settles within ${toleranceDb} dB after ${digits(settlingS(tau, toleranceDb))} s)`);
+  const each = short.map(({ tau, shortfallDb }) => `${tau === FAST_S ? 'LAFmax' : 'LASmax'} ${digits(-shortfallDb)} dB low (${tau === FAST_S ? 'Fast' : 'Slow'}, τ = ${tau} s, settles within ${toleranceDb} dB after ${digits(settlingS(tau, toleranceDb))} s)`);
   return `${digits(durationS)} s of sound is too short for the time weighting to settle (it starts from zero): a sound steady over the recording reads ${each.join(', ')}, 10·lg(1 − e^(−T/τ))`;
 }

@@ -1,5 +1,5 @@
 // Exponential time weighting of the squared signal (IEC 61672-1: F = 0.125 s, S = 1 s), maximum over the recording.
-import { settlingS, startShortfallDb } from './dsp/exponential-average.js';
+import { settlingS, unsettled } from './dsp/exponential-average.js';
 import { expAverageOf } from './fused/exp-average.js';
 import { missingOf } from './fused/missing.js';
 import { hzName } from './names.js';
@@ -37,11 +37,8 @@ const digits = (v: number) => Number(v.toPrecision(3));
  * 10·lg(1 − e^(−T/τ)) dB (the average starts from zero); empty when every time constant has settled.
  */
 export function unsettledNote(name: string, durationS: number, constantsS: number[], toleranceDb = 0.1): string {
-  const short = constantsS.filter((tau) => durationS < settlingS(tau, toleranceDb));
-  if (!short.length || durationS <= 0) return '';
-  const each = short.map((tau) => {
-    const db = startShortfallDb(durationS, tau);
-    return `${col(tau)} ${digits(-db)} dB (${digits(100 * (1 - 10 ** (db / 20)))} %) low`;
-  });
+  const short = unsettled(durationS, constantsS, toleranceDb);
+  if (!short.length) return '';
+  const each = short.map(({ tau, shortfallDb: db }) => `${col(tau)} ${digits(-db)} dB (${digits(100 * (1 - 10 ** (db / 20)))} %) low`);
   return `${name}: ${digits(durationS)} s of samples is too short for the time weighting to settle (the exponential average starts from zero, and comes within ${toleranceDb} dB of a steady signal after ${digits(settlingS(1, toleranceDb))} × its time constant): a signal steady over the recording reads ${each.join(', ')}, 10·lg(1 − e^(−T/τ))`;
 }

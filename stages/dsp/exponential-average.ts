@@ -30,3 +30,9 @@ export const startShortfallDb = (durationS: number, tauS: number): number => 10 
 // The shortest recording whose steady mean square the average reaches within `toleranceDb`: τ·ln(1/(1 − 10^(−tol/10))),
 // from the step response above; 3.78 τ for 0.1 dB.
 export const settlingS = (tauS: number, toleranceDb = 0.1): number => tauS * Math.log(1 / -Math.expm1(-toleranceDb / 10 * Math.LN10));
+
+/** The time constants a recording of `durationS` is too short to settle within `toleranceDb`, each with its shortfall in dB. */
+export function unsettled<T extends number>(durationS: number, constantsS: readonly T[], toleranceDb = 0.1): { tau: T; shortfallDb: number }[] {
+  if (!(durationS > 0)) return [];
+  return constantsS.filter((tau) => durationS < settlingS(tau, toleranceDb)).map((tau) => ({ tau, shortfallDb: startShortfallDb(durationS, tau) }));
+}
