@@ -13,11 +13,10 @@ export const saturation: StageDefinition<QualityThresholds> = {
     const limits = saturationLimits(ctx.range, ctx.fullScale);
     const [lo, hi] = limits ? [limits[0] + tol, limits[1] - tol] : [-Infinity, Infinity];
     // Samples at the limits are counted in the channel's fused pass.
-    const runs = limits ? limitRunsOf(ctx, lo, hi) : null;
-    // Samples past the limits by more than a clipped flat top lies from them, and the extremes, to tell clipping from data
-    // the declaration puts outside its range.
+    // Of those, the samples past the limits by more than a clipped flat top lies from them, and the extremes, tell clipping
+    // from data the declaration puts outside its range.
     const margin = limits ? BEYOND_MARGIN * (limits[1] - limits[0]) : 0;
-    const beyondRuns = limits ? limitRunsOf(ctx, limits[0] - margin, limits[1] + margin) : null;
+    const runs = limits ? limitRunsOf(ctx, lo, hi, limits[0] - margin, limits[1] + margin) : null;
     const moments = momentsOf(ctx);
     let n = 0;
     return {
@@ -34,7 +33,7 @@ export const saturation: StageDefinition<QualityThresholds> = {
         const fraction = n ? count / n : 0;
         const severity = count === 0 ? 'ok' : fraction >= q.saturation.fail_fraction || longest >= q.saturation.fail_run ? 'fail' : 'warn';
         const rate = ctx.sampleRate;
-        const beyond = beyondRuns?.count ?? 0, { min, max } = moments.moments();
+        const beyond = runs?.far ?? 0, { min, max } = moments.moments();
         const furthest = furthestPast(limits, min, max);
         const found = `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}`;
         const past = count > 0 && pastTheRange(count, beyond, furthest.by, limits[1] - limits[0]);
