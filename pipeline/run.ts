@@ -123,7 +123,10 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     if (firstRun) void pool.prestart(toDecide.length);
     const keys = groupKeys(spec.spec, toolVersion);
-    const decided = await decide(toDecide, (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, force: o.force, hash: o.hash, retryFailed: o.retryFailed });
+    // How recordings are decided: the period's and late arrivals (--force applies to them), and later any baseline recording recomputed.
+    const deciding = { version: toolVersion, keys, specHash: spec.hash, hash: o.hash, retryFailed: o.retryFailed };
+    const planOf = (r: ScannedRecording) => planJob(r, declaration.groups, spec.spec);
+    const decided = await decide(toDecide, planOf, s, { ...deciding, force: o.force });
     const { itemOf, identityOf } = decided;
     // Captures that may still be written wait for the next run.
     const { taken, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
@@ -185,7 +188,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // while the workers assemble the other tables' slices.
     // Each group's declaration now (as deciding keys it): an entry stored under a former one is no figure of the same measurement.
     const declarations = new Map<string, ReadonlySet<string>>();
-    for (const r of scanned.recordings) if (!declarations.has(groupNames[r.group])) declarations.set(groupNames[r.group], new Set([declarationKey(planJob(r, declaration.groups, spec.spec))]));
+    for (const r of scanned.recordings) if (!declarations.has(groupNames[r.group])) declarations.set(groupNames[r.group], new Set([declarationKey(planOf(r))]));
     const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
     // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another
     // version, other options, another declaration), so the baselines form again today; a run with nothing stale reads the history once.
@@ -195,7 +198,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       const scannedAs = new Map(scanned.recordings.map((r) => [r.recording, r]));
       const whyOf = new Map<string, string>();
       const found = await renewStaleBaselines(() => trendsBasis(outDir, spec.spec, trendsInput, true), async (names) => {
-        const again = await decide(names.flatMap((r) => scannedAs.get(r) ?? []), (r) => planJob(r, declaration.groups, spec.spec), s, { version: toolVersion, keys, specHash: spec.hash, hash: o.hash, retryFailed: o.retryFailed });
+        const again = await decide(names.flatMap((r) => scannedAs.get(r) ?? []), planOf, s, deciding);
         for (const d of again.decisions) whyOf.set(d.recording, d.why);
         await reduceDecided(again.decisions.filter((d) => d.stores && !d.restamp), again.itemOf, undefined);
       }, trends);
