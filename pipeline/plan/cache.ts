@@ -5,6 +5,7 @@ import { canonicalJson } from '../declare/canonical-json.js';
 import { activeStages } from '../../stages/index.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { RecordingJob } from './plan.js';
+import type { ScannedRecording } from '../select/scan.js';
 import { RecordReader, RecordsInOrder, type Place } from '../store/pack.js';
 import type { StoredEntry } from '../store/entry-table.js';
 import { decodeResults, joinEntry, recordBody, type CacheEntry } from '../store/record.js';
@@ -74,6 +75,13 @@ export const declarationKey = (job: RecordingJob) =>
     ...(job.reader?.hdf5 || job.reader?.flac ? { reader: { hdf5: job.reader.hdf5, flac: job.reader.flac } } : {}),
     ...(job.reader?.mat ? { mat: job.reader.mat } : {}),
   }));
+
+/** Per group (present name), the declaration its recordings are reduced under now, as deciding keys it: an entry stored under a former one is no figure of the same measurement. */
+export function declarationsNow(recordings: readonly ScannedRecording[], groupNames: readonly string[], jobOf: (r: ScannedRecording) => RecordingJob): Map<string, ReadonlySet<string>> {
+  const declarations = new Map<string, ReadonlySet<string>>();
+  for (const r of recordings) if (!declarations.has(groupNames[r.group])) declarations.set(groupNames[r.group], new Set([declarationKey(jobOf(r))]));
+  return declarations;
+}
 
 /** Per feature group, a key of the tool version and the resolved options of the group's stages. */
 export function groupKeys(spec: ReductionSpec, version: string): Record<string, string> {

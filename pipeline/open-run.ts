@@ -1,0 +1,54 @@
+// Opening a run: the storage watched, the worker pool opened (its first thread started early on a first run), the
+// declarations read and checked, and the output folder's lock taken; a failure on the way closes what was opened.
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
+import { quantityUses } from './declare/quantity-uses.js';
+import { lockPath, takeLock } from './outputs/lock.js';
+import { reservedColumnNames } from './outputs/output-tables.js';
+import { openPool } from './reduce/pool.js';
+import { watchStorage } from './reduce/storage-watch.js';
+import { refuseHidingRecordings } from './select/scan.js';
+import type { Shard } from './select/select.js';
+import { trendOptions } from './trends/options.js';
+
+export interface OpenOptions {
+  jobs?: number;
+  force?: boolean;
+  spec?: string | null;
+  shard: Shard | null;
+  since?: number | null;
+  until?: number | null;
+  staleLockAfterMs?: number;
+  storageMs?: number;
+}
+
+/** What the lock says is running: the command as it was given, with the period in UTC. */
+function lockCommand(root: string, outDir: string, o: OpenOptions): string {
+  const { shard, force, since, until } = o;
+  return `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${force ? ' --force' : ''}${since != null ? ` --since ${new Date(since).toISOString()}` : ''}${until != null ? ` --until ${new Date(until).toISOString()}` : ''}`;
+}
+
+/** Opens the run on `root` into `outDir`; the caller ends it with `lock.release()`, `pool.destroy()` and `storage.stop()`. */
+export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {
+  // Storage that stops answering ends the run rather than hold its lock for ever.
+  const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000);
+  const pool = openPool(o.jobs);
+  // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
+  // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
+  const firstRun = !existsSync(join(outDir, 'cache'));
+  // Waiting for the pool's code here (tens of ms) lets the thread start before the declarations are read, not after.
+  if (firstRun) await pool.prestart(1);
+  try {
+    const spec = await loadSpec(root, o.spec);
+    const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
+    const trends = trendOptions(spec.spec); // checked now, before any work
+    await refuseHidingRecordings(root, outDir, declaration);
+    const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command: lockCommand(root, outDir, o) }, { staleAfterMs: o.staleLockAfterMs });
+    return { storage, pool, firstRun, spec, declaration, trends, lock };
+  } catch (e) {
+    await pool.destroy();
+    storage.stop();
+    throw e;
+  }
+}

@@ -1,0 +1,74 @@
+// A run's period: the share's recordings starting in [since, until), the groups quiet over it, and the late arrivals
+// before it (an older night copied in after the runs that covered its dates), decided with the period's; after deciding,
+// the period's decisions apart from the late arrivals', which are reduced for the trends' history alone.
+import type { GroupDeclaration } from '../../spec/archive.js';
+import type { Decision } from '../plan/reuse.js';
+import type { Store } from '../store/store.js';
+import { arrivalsBefore, lateArrivalsRecord } from './late-arrivals.js';
+import type { ScannedRecording } from './scan.js';
+import { byStartTime, type CaptureDue, type QuietGroup, type Shard } from './select.js';
+
+/** One recording starting before the period, with its start (ms since the epoch). */
+export interface Arrival { file: ScannedRecording; start: number }
+
+export interface Period {
+  since: number | null;
+  until: number | null;
+  /** The recordings in the period (the whole share without one). */
+  chosen: ScannedRecording[];
+  inPeriod: ReadonlySet<string>;
+  quiet: QuietGroup[];
+  due: CaptureDue[];
+  /** Late arrivals found (only with --since). */
+  arrived: Arrival[];
+  /** Late arrivals are reduced (no --until bounds the run); otherwise they are only named. */
+  reduceLate: boolean;
+  /** What the run decides: the period's recordings, and the late arrivals it reduces. */
+  toDecide: ScannedRecording[];
+}
+
+/** The period of the share, by the starts the store knows (headers of unchanged files are not read again). */
+export async function choosePeriod(share: ScannedRecording[], groups: GroupDeclaration[], store: Store, since: number | null = null, until: number | null = null): Promise<Period> {
+  let chosen = share, starts: number[] = [];
+  let quiet: QuietGroup[] = [], due: CaptureDue[] = [];
+  if (since != null || until != null) ({ chosen, quiet, due, starts } = await byStartTime(share, groups, (r) => store.knownStart(r), since ?? -Infinity, until ?? Infinity));
+  // Found from the starts just taken; without --until they are decided too, and reduced where that has work.
+  const arrived = since != null ? arrivalsBefore(share, starts, since, await store.scanMarks(), (r) => store.get(r) != null) : [];
+  const reduceLate = until == null;
+  const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
+  return { since, until, chosen, inPeriod: new Set(chosen.map((r) => r.recording)), quiet, due, arrived, reduceLate, toDecide };
+}
+
+/**
+ * The decisions taken, split: the period's (its tables and lines), the late arrivals' with work to do (reduced and stored
+ * beside them), and the late arrivals the run names: those reduced, or with --until those with no stored result.
+ */
+export function splitTaken(p: Period, taken: Decision[], stored: (recording: string) => boolean): { decisions: Decision[]; lateTaken: Decision[]; late: Arrival[] } {
+  if (p.toDecide === p.chosen) return { decisions: taken, lateTaken: [], late: p.reduceLate ? [] : p.arrived.filter((l) => !stored(l.file.recording)) };
+  const startOf = new Map(p.arrived.map((l) => [l.file.recording, l.start]));
+  const lateTaken = taken.filter((d) => !p.inPeriod.has(d.recording) && d.stores);
+  return { decisions: taken.filter((d) => p.inPeriod.has(d.recording)), lateTaken, late: lateTaken.map((d) => ({ file: d.file, start: startOf.get(d.recording)! })) };
+}
+
+/**
+ * run.json's period (null without one): its bounds, how many it selected, the quiet groups, what a shard keeps for merge
+ * to judge declared capture intervals whole, the late arrivals and the recordings recomputed for the baselines.
+ */
+export function periodRecord<R>(p: Period, late: Arrival[], groupNames: readonly string[], shard: Shard | null, outcome: (recording: string) => { status: 'reduced' | 'failed'; reason?: string } | undefined, renewed?: R) {
+  if (p.since == null && p.until == null) return null;
+  return {
+    since: p.since, until: p.until, selected: p.chosen.length, quiet_groups: p.quiet, ...(shard && p.due.length ? { capture_due: p.due } : {}),
+    // Those left to settle are named there, and are late arrivals again for the next run.
+    ...(p.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, p.reduceLate, outcome) } : {}),
+    ...(renewed ? { recomputed_for_baselines: renewed } : {}),
+  };
+}
+
+/**
+ * What the run saw and left without a stored result, kept for the next run's late arrivals; not those it leaves to a later
+ * run (late arrivals named but not reduced under --until, captures left to settle), which must stay late.
+ */
+export function leftOutOfScan(share: readonly ScannedRecording[], stored: (recording: string) => boolean, p: Period, late: readonly Arrival[], settling: Iterable<string>): string[] {
+  const notYet = new Set([...(p.reduceLate ? [] : late.map((l) => l.file.recording)), ...settling]);
+  return share.filter((r) => !stored(r.recording) && !notYet.has(r.recording)).map((r) => r.recording);
+}
