@@ -28,12 +28,12 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
   const channelsSeen = new Map<string, { group: string; channel: string }>();
   for (const job of plan(scanned.recordings, declaration.groups, spec.spec)) {
     try {
-      const { rec, channels } = await openForJob(job);
+      const { rec, channels, notes } = await openForJob(job);
       await rec.close();
       const duration = rec.frames != null ? `${(rec.frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
       // Where a --since period will place the recording: its own start, else its modification time.
       const start = rec.startTime ? `starts ${rec.startTime.toISOString()}` : 'no start in the file (a period goes by its modification time)';
-      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}` });
+      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}${notes.map((n) => `; note: ${n}`).join('')}` });
       for (const c of channels) channelsSeen.set(`${job.group}\u0000${c.decl.name}`, { group: job.group, channel: c.decl.name });
     } catch (e) {
       recordings.push({ recording: job.recording, group: job.group, ok: false, detail: e instanceof RecordingError ? e.message : String((e as Error).message) });

@@ -4,11 +4,13 @@ import { FLAG_NAMES } from '../../stages/index.js';
 import { SEVERITIES, worst, type Flag, type Severity } from '../../stages/quality/flag.js';
 import type { RecordingResult } from '../reduce/result.js';
 import type { ChangesReport } from '../trends/changes.js';
+import { addNotAssessed, notAssessedLines, type NotAssessed } from './not-assessed.js';
 
 export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: Flag[] }
 export interface QualityRecording { recording: string; group: string; status: 'reduced' | 'failed'; severity: Severity; reason?: string; channels: QualityChannel[] }
 type Counts = Record<Severity, number>;
-export interface QualityTotals { channels: Counts; recordings: Counts & { unreadable: number; unmatched: number }; flags: Record<string, Counts> }
+/** `not_assessed` by flag name: checks that could not be made (read as ok by severity), absent from totals made before it was kept. */
+export interface QualityTotals { channels: Counts; recordings: Counts & { unreadable: number; unmatched: number }; flags: Record<string, Counts>; not_assessed?: Record<string, NotAssessed> }
 export interface QualityReport {
   tool: 'quern';
   version: string;
@@ -37,7 +39,7 @@ export function qualityRecording(r: RecordingResult): QualityRecording {
 const zero = (): Counts => Object.fromEntries(SEVERITIES.map((s) => [s, 0])) as Counts;
 
 export const emptyTotals = (unmatched = 0): QualityTotals => ({
-  channels: zero(), recordings: { ...zero(), unreadable: 0, unmatched }, flags: Object.fromEntries(FLAG_NAMES.map((n) => [n, zero()])),
+  channels: zero(), recordings: { ...zero(), unreadable: 0, unmatched }, flags: Object.fromEntries(FLAG_NAMES.map((n) => [n, zero()])), not_assessed: {},
 });
 
 /** Counts one recording into the totals. */
@@ -46,7 +48,10 @@ export function countRecording(t: QualityTotals, r: QualityRecording): void {
   if (r.status === 'failed') t.recordings.unreadable++;
   for (const c of r.channels) {
     t.channels[c.severity]++;
-    for (const f of c.flags) if (t.flags[f.name]) t.flags[f.name][f.severity]++;
+    for (const f of c.flags) {
+      if (t.flags[f.name]) t.flags[f.name][f.severity]++;
+      if (f.not_assessed) addNotAssessed(t.not_assessed ??= {}, f.name, { channels: 1, groups: [r.group], why: [f.not_assessed] });
+    }
   }
 }
 
@@ -58,7 +63,9 @@ export function addTotals(t: QualityTotals, more: QualityTotals): void {
     for (const name of Object.keys(t.flags)) t.flags[name][s] += more.flags[name]?.[s] ?? 0;
   }
   t.recordings.unreadable += more.recordings.unreadable;
+  for (const [name, n] of Object.entries(more.not_assessed ?? {})) addNotAssessed(t.not_assessed ??= {}, name, n);
 }
+
 
 /** A recording's failed channels as terminal lines. */
 export const failLines = (r: QualityRecording): string[] =>
@@ -67,7 +74,7 @@ export const failLines = (r: QualityRecording): string[] =>
 /** The terminal's quality lines: counts by severity, then the failed channels with their messages. */
 export function qualitySummary(q: QualitySummary): string[] {
   const t = q.totals.channels;
-  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...q.failLines];
+  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...notAssessedLines(q.totals.not_assessed).map((l) => `  NOT CHECKED ${l}`), ...q.failLines];
   if (q.failCount > q.failLines.length) lines.push(`  …       and ${q.failCount - q.failLines.length} more failed flags: see quality.json`);
   return lines;
 }

@@ -6,6 +6,7 @@ import { COLOURS } from './colours.js';
 import { flagValue } from './flag-value.js';
 import { NEEDS_A_LOOK, SEVERITIES, type Flag, type Severity } from '../../stages/quality/flag.js';
 import type { QualityChannel, QualityRecording, QualityTotals } from './quality.js';
+import { notAssessedLines } from './not-assessed.js';
 
 const LABEL: Record<Severity, string> = { ok: 'ok', note: 'note', warn: 'check', fail: 'unusable' };
 
@@ -64,6 +65,7 @@ p.unjudged { background: #fff; border-left: 6px solid ${COLOURS.note}; padding: 
 <div class="tile" style="border-color:${COLOURS.ok}"><b>${t.channels.ok}</b>channels ok</div>
 <div class="tile" style="border-color:#1f2933"><b>${t.recordings.unreadable}</b>${t.recordings.unreadable === 1 ? 'recording' : 'recordings'} unreadable</div>
 <div class="tile" style="border-color:#7b8794"><b>${t.recordings.unmatched}</b>${t.recordings.unmatched === 1 ? 'file' : 'files'} unmatched</div></div>
+${notAssessedLines(t.not_assessed).map((l) => `<p class="unjudged">Not checked: ${esc(l)}. These channels read ok on that flag only because it could not be judged.</p>`).join('\n')}
 <p class="note">“unusable”: do not use this channel's figures; “check”: a figure may be off by more than about 5 %, named in its message; “note”: worth knowing, no figure at risk beyond that. The numbers support, and do not replace, engineering judgement.</p>`);
   return out.join('\n');
 }

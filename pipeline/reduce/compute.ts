@@ -12,6 +12,7 @@ import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { packEvidence, type Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
+import { effectiveBits, headerNotes } from './header-notes.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
 const selected = (only: { names?: string[]; quantities?: string[] } | undefined, c: ChannelDeclaration) =>
@@ -51,15 +52,19 @@ function toEngineering(stored: Float64Array, scale: number, offset: number, out:
 /** A recording of no samples has no figures to trust, however clean its flags would read. */
 const noSamples = () => new RecordingError('the recording holds no samples (0 frames): the capture stopped before its first sample; check the logger, then recapture or remove the file');
 
-/** Opens a recording and holds its header against the declaration; closes it again if they disagree. */
-export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[] }> {
+/**
+ * Opens a recording and holds its header against the declaration; closes it again if they disagree. `notes`: what the
+ * header says against the declaration without stopping the recording (declared bits wider than the file's, a slow time column).
+ */
+export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[]; notes: string[] }> {
   const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
   try {
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {
       throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct ${(job.reader?.declareHow ?? DECLARE_IN_ARCHIVE).where.sample_rate} or move the file to the right group`);
     }
     if (rec.frames === 0) throw noSamples();
-    return { rec, channels: resolveChannels(job, rec) };
+    const channels = resolveChannels(job, rec);
+    return { rec, channels, notes: headerNotes(channels.map((c) => c.decl), rec, job.group) };
   } catch (e) {
     await rec.close();
     throw e;
@@ -94,11 +99,11 @@ export async function computeRecording(
     const recordingShared = new Map<string, unknown>();
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
-      const bits = decl.bits ?? r.bits;
+      // A file narrower than the declared converter steps at its own codes (a note says so).
+      const bits = effectiveBits(decl.bits, r);
       // The most negative code is −1 of full scale, the most positive one step short of +1 (a negative scale swaps them), a
-      // step of the converter: 24-bit codes in a 32-bit container end a 24-bit step short, and a file narrower than the declared converter at its own.
-      const codeBits = r.bits && decl.bits ? Math.min(r.bits, decl.bits) : r.bits;
-      const ends = r.normalised && codeBits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - codeBits)) * decl.scale + decl.offset] : null;
+      // step of the converter: 24-bit codes in a 32-bit container end a 24-bit step short.
+      const ends = r.normalised && bits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - bits)) * decl.scale + decl.offset] : null;
       const fullScale: [number, number] | null = ends && [Math.min(ends[0], ends[1]), Math.max(ends[0], ends[1])];
       // One context a feature group, shared by the group's stages: each stage's notes, rows and flags are filed under its
       // own feature group, and a recording makes a few contexts a channel, not one a stage (they live as long as it does).
@@ -173,7 +178,7 @@ export async function computeRecording(
       frames, sampleRate: r.sampleRate,
       header: { format: r.format, encoding: r.encoding, bits: r.bits, start_time: r.startTime?.toISOString() ?? null },
       channels: channels.map(({ decl }) => ({ name: decl.name, quantity: decl.quantity, unit: decl.unit })),
-      notes: [...r.notes],
+      notes: [...opened.notes, ...r.notes],
     };
     out.status = 'reduced';
   } catch (e) {

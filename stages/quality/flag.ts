@@ -23,6 +23,11 @@ export interface Flag {
   evidence: Record<string, number | string | null>;
   /** One line: what was found and what to do. */
   message: string;
+  /**
+   * Set on a check that could not be made for want of a declaration or of what the file keeps (severity ok, value null):
+   * why, and what to declare. The run names such checks apart, so that ok is not read as checked.
+   */
+  not_assessed?: string;
 }
 
 const RANK: Record<Severity, number> = { ok: 0, note: 1, warn: 2, fail: 3 };

@@ -27,7 +27,9 @@ export const offset: StageDefinition<QualityThresholds> = {
         const threshold = `warn: |mean| > ${q.offset.warn_ratio}·std, or the line through the 1 s means rising or falling > ${q.offset.warn_drift_ratio}·std around it across the recording (quantities ${q.offset.quantities.join(', ')})`;
         const m = shared.moments();
         if (!applies || m.n === 0) {
-          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"` });
+          // A channel left undeclared has no quantity: the check is then missed rather than not meant.
+          const undeclared = !ctx.declared && m.n > 0;
+          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"`, ...(undeclared ? { not_assessed: 'declare the channels with their quantity in archive.yaml' } : {}) });
           return { offset_ratio: null, drift_ratio: null };
         }
         const mean = m.mean, std = Math.sqrt(m.m2 / m.n);

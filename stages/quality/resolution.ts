@@ -56,7 +56,11 @@ export const resolution: StageDefinition<QualityThresholds> = {
         const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
         if (step == null || m.n === 0 || std === 0) {
-          ctx.flag({ name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: step == null ? 'not assessed: converter step unknown (declare bits for the channel)' : 'not assessed: the signal does not vary (see flatline)' });
+          // Without a step (floating-point samples keep none; integer codes always give one) the check cannot be made;
+          // a signal that never varies is the flatline flag's.
+          ctx.flag(step == null
+            ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none)', not_assessed: 'floating-point samples keep no converter step' }
+            : { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: the signal does not vary (see flatline)' });
           return { step_size: step, resolution_bits: null, quantisation_snr_db: null };
         }
         const bits = Math.log2(Math.max(1, (m.max - m.min) / step));

@@ -27,7 +27,7 @@ export const saturation: StageDefinition<QualityThresholds> = {
         const source = ctx.range ? `instrument range [${ctx.range.join(', ')}] ${ctx.unit}${codesInside ? ' (or the converter\'s extreme codes, where they lie inside it)' : ''}` : 'extreme converter codes';
         const threshold = `warn: any sample; fail: ≥ ${pct(q.saturation.fail_fraction)} of samples or ${q.saturation.fail_run} in a row`;
         if (!limits) {
-          ctx.flag({ name: 'saturation', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: no instrument range declared and no converter full scale known; declare range in archive.yaml' });
+          ctx.flag({ name: 'saturation', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: no instrument range declared and no converter full scale known; declare range in archive.yaml', not_assessed: 'declare range in archive.yaml' });
           return { saturation_fraction: null };
         }
         const fraction = n ? count / n : 0;

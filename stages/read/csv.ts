@@ -8,7 +8,24 @@ import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
 import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './time-steps.js';
 
-const TIME_HEADER = /^(time|t|timestamp|date ?time|seconds|time[ _]?\(?\[?s\]?\)?|time_s)$/i;
+/** A time column's header without a unit: its numbers are read as seconds. */
+const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
+/** Divisors from a unit a time column's header names to seconds. */
+const PER_SECOND: Record<string, number> = { s: 1, ms: 1e3, us: 1e6, 'µs': 1e6, 'μs': 1e6, ns: 1e9 };
+// A unit after time or t (time_ms, time [ms], time (ms), t_ms, t[ms], tms) or alone (ms, but not a bare s, a likely channel name).
+const TIME_UNIT_HEADER = /^(?:(?:time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|us|µs|μs|ns|seconds))$/i;
+
+/**
+ * Whether a header names a time column, and in what unit: `perSecond` divides its numbers into seconds, and `stated` says
+ * whether the header named the unit (a bare `time` is read as seconds on trust). Null for a channel's name.
+ */
+export function timeColumnOf(header: string): { perSecond: number; stated: boolean } | null {
+  if (TIME_HEADER.test(header)) return { perSecond: 1, stated: false };
+  const m = header.match(TIME_UNIT_HEADER);
+  if (!m) return null;
+  const unit = (m[1] ?? m[2] ?? m[3] ?? m[4]).toLowerCase();
+  return { perSecond: unit === 'seconds' ? 1 : PER_SECOND[unit], stated: true };
+}
 const PROBE_BYTES = 1 << 20;
 const PROBE_ROWS = 4096;
 
@@ -52,10 +69,10 @@ const isMissingMark = (cell: string) => cell === '' || /^nan$/i.test(cell);
  * zone, as every start time quern reads, so a run's periods do not depend on the machine's zone). Anything else is NaN:
  * Date.parse would take 05/11/2026 for 11 May and "night 3" for a day in 2001.
  */
-function timeValue(text: string, decimalComma: boolean): number {
+function timeValue(text: string, decimalComma: boolean, perSecond = 1): number {
   const t = text.trim();
   const n = Number(decimalComma ? t.replace(',', '.') : t);
-  if (t !== '' && Number.isFinite(n)) return n;
+  if (t !== '' && Number.isFinite(n)) return perSecond === 1 ? n : n / perSecond;
   return isoTimeMs(t) / 1000;
 }
 
@@ -72,6 +89,15 @@ function refuseRepeatedNames(names: string[], headerLine: number): void {
     if (before !== undefined) throw new RecordingError(`line ${headerLine}: the header names "${name}" twice (columns ${before + 1} and ${i + 1}); give each column its own name`);
     seen.set(name, i);
   });
+}
+
+/**
+ * A declared rate a thousand, a million or a billion times the time column's (within 0.5 %): the column holds milliseconds,
+ * microseconds or nanoseconds read as seconds; the hint names the header that says so.
+ */
+export function unitHint(ratio: number, column: string): string {
+  const unit = ([[1e3, 'ms'], [1e6, 'us'], [1e9, 'ns']] as const).find(([k]) => Math.abs(ratio / k - 1) <= 0.005)?.[1];
+  return unit ? `: the declared rate is ${unit === 'ms' ? 'a thousand' : unit === 'us' ? 'a million' : 'a billion'} times the column's, so "${column}" may hold ${unit === 'ms' ? 'milliseconds' : unit === 'us' ? 'microseconds' : 'nanoseconds'}: name it time_${unit} in the header to read it so` : '';
 }
 
 /** A time cell that is neither seconds nor an ISO 8601 date-time: its samples cannot be placed, so the file is refused. */
@@ -107,7 +133,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const fields = names.length;
   while (names.length > 1 && names[names.length - 1] === '' && probeRows.every((r) => (r[names.length - 1] ?? '').trim() === '')) names.pop();
   refuseRepeatedNames(names, headerLine);
-  const timeColumn = TIME_HEADER.test(names[0]) ? 0 : -1;
+  const timeOf = timeColumnOf(names[0]);
+  const timeColumn = timeOf ? 0 : -1, perSecond = timeOf?.perSecond ?? 1;
   const channelNames = names.filter((_, i) => i !== timeColumn);
   if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
   checkChannelCount(channelNames.length, `line ${headerLine}: header`);
@@ -117,20 +144,20 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
 
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
-  let timeStep = NaN, timeTolerance = NaN;
+  let timeStep = NaN, timeTolerance = NaN, secondsAssumed: string | undefined;
   if (timeColumn === 0) {
-    const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma));
+    const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
     if (times.length < 2 || !Number.isFinite(times[0])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
     // Numbers this large are no seconds (since 1970 they would pass the year 5000): milliseconds since 1970, read as seconds,
     // would give a rate a thousand times too low.
-    if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, export seconds or date-times, or drop the column and declare sample_rate`);
+    if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, name the column time_ms or time_us${perSecond === 1 ? '' : ` (it is read in ${names[0]}'s unit now)`}, export seconds or date-times, or drop the column and declare sample_rate`);
     const bad = times.findIndex((t) => !Number.isFinite(t));
     if (bad >= 0) throw unreadableTime(probeLines[bad].no, probeRows[bad][0] ?? '');
     // The printed times' resolution: steps within it of each other are the same step, rounded.
     const printed = Math.max(...probeRows.map((r) => decimals(r[0] ?? '')));
-    const resolution = 10 ** -printed;
+    const resolution = 10 ** -printed / perSecond;
     // The nominal step over the probe rows: a dropout among them does not pull it, and rounding of printed times averages out.
     const rate = timeRate(times, resolution);
     timeStep = rate.step;
@@ -142,12 +169,14 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     timeTolerance = Math.max(0.01 * timeStep, resolution);
     // Date-times give the start; so do POSIX seconds, as loggers print them.
-    startTime = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim()) ? startOfTimes(times[0]) : new Date(times[0] * 1000);
+    const numeric = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim());
+    startTime = numeric ? startOfTimes(times[0]) : new Date(times[0] * 1000);
     // Held against the declaration at 0.5 % beyond the rates the printed times allow.
     if (declaredSampleRate != null && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
-      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
+      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export${perSecond === 1 ? unitHint(declaredSampleRate / rate.rate, names[0]) : ''}`);
     }
     sampleRate = declaredSampleRate ?? rate.rate;
+    if (!timeOf!.stated && numeric) secondsAssumed = names[0];
   } else if (declaredSampleRate == null) {
     throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample rate given; set ${sampleRateWhere} or export the time column`);
   }
@@ -169,7 +198,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
         if ((cells.length < width || cells.length > fields) && shortRows++ === 0) firstShort = lineNo;
         for (let c = width; c < cells.length && c < fields; c++) if (cells[c].trim() !== '' && beyond.count++ === 0) beyond.line = lineNo;
         if (timeColumn === 0) {
-          const t = timeValue(cells[0] ?? '', decimalComma);
+          const t = timeValue(cells[0] ?? '', decimalComma, perSecond);
           if (!Number.isFinite(t)) throw unreadableTime(lineNo, cells[0] ?? '');
           steps.add(t);
         }
@@ -194,6 +223,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const recording: Recording = {
     format: 'csv', channelCount: channelNames.length, sampleRate, frames: null, encoding: decimalComma ? 'text (decimal comma)' : 'text',
     bits: null, normalised: false, startTime, channelNames, notes, chunks, close: async () => {},
+    ...(secondsAssumed != null ? { secondsAssumed } : {}),
   };
   return recording;
 }

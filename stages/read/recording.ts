@@ -25,6 +25,8 @@ export interface Recording {
   notes: string[];
   /** For one two-dimensional dataset or variable read by its declared channel axis: the channels its other axis would hold, and where that axis is declared. */
   otherAxis?: { channels: number; where: string };
+  /** A time column whose header names no unit (`time`, `t`): its name, its numbers read as seconds on trust. */
+  secondsAssumed?: string;
   /** For files with a time column: its irregular steps, complete once chunks() has ended. */
   timeSteps?: TimeSteps;
   close(): Promise<void>;
