@@ -1,5 +1,5 @@
 // Pulse train: whether a tacho channel's pulses hold together well enough for its speed figures to describe the recording.
-import { speedOf } from '../shaft-speed.js';
+import { speedOf, speedOptionsOf } from '../shaft-speed.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
@@ -19,13 +19,13 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
   create(ctx, q) {
-    const speed = ctx.tacho ? speedOf(ctx) : null;
+    const speed = ctx.tacho ? speedOf(ctx, speedOptionsOf(q.pulse_train)) : null;
     let n = 0;
     return {
       push(x) { n += x.length; },
       finish() {
         const t = q.pulse_train;
-        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then, from 100 %, no speed); warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
+        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then no speed, revolutions or pulse counts either); warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
         if (!speed) {
           ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
           return { pulse_coverage: null };
@@ -46,12 +46,12 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
           const flat = !tr && s.none?.allFlat === true;
           severity = flat ? 'note' : 'warn';
           message = `no speed: ${tr ? 'no two consecutive good pulses' : flat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
-        } else if (s.withheld || coverage < t.fail_coverage || lost > t.fail_fault_ratio * good) {
-          // Extra pulses are dropped between two good ones a whole interval apart, so they leave each good interval whole: only
-          // missing and irregular pulses, which leave intervals unexplained, count towards a train that does not hold together.
+        } else if (s.withheld || coverage < t.fail_coverage) {
+          // The speed product withholds by the same threshold (trainBroken), so the table gives no speed on a train failed for its
+          // faults, and withholds none from a train that passes. Extra pulses leave each good interval whole and do not count.
           severity = 'fail';
           message = s.withheld
-            ? `${found}: the pulse train does not hold together (more missing and irregular pulses than good intervals), so no speed is given rather than one resting on what is likely noise or a level the pulses leave; ${todo}`
+            ? `${found}: the pulse train does not hold together (missing and irregular pulses beyond ${pct(t.fail_fault_ratio)} of the good intervals), so no speed is given (nor revolutions or pulse counts) rather than figures resting on what is likely noise or a level the pulses leave; ${todo}`
             : `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
         } else if (coverage < t.warn_coverage || faults > t.warn_fault_ratio * good) {
           severity = 'warn';
