@@ -40,8 +40,11 @@ export interface SpeedSummary {
   foundAtS: number;
   /** Whether its levels were set with the extremes of earlier stretches too (pulses one sample wide, at most one a stretch). */
   foundAcross: boolean;
-  /** Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise. */
-  none: { firstFlat: boolean; allFlat: boolean; seconds: number } | null;
+  /**
+   * Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise; `still`:
+   * every sample but the highest and the lowest within two converter steps of each other (a lone pulse one sample wide, else noise).
+   */
+  none: { firstFlat: boolean; allFlat: boolean; seconds: number; still: boolean } | null;
   /** Moves of a found trigger that followed the signal's level: how many, the first one's time, and the range of levels used. */
   followed: { count: number; firstS: number; lowest: number; highest: number };
   /** Time the good intervals cover, s (kept when the speed is withheld, for the pulse_train flag). */
@@ -86,6 +89,10 @@ export function speedOf(ctx: ChannelContext, options: SpeedOptions = SPEED_DEFAU
 }
 
 const fault = (): PulseFaults => ({ count: 0, times_s: [] });
+
+// Order statistics of what was read: leaving its one highest and one lowest sample aside, it spans at most two converter steps
+// (below that a converter flickers, IEEE Std 1241), or nothing where the step is unknown. A lone pulse one sample wide is still so.
+const stillButExtremes = (e: SampleExtremes | null, step: number | null) => e == null || !(e.hi2 - e.lo2 > 2 * (step ?? 0));
 const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length < TIMES_KEPT) f.times_s.push(t); };
 
 function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null, options: SpeedOptions = SPEED_DEFAULTS): ShaftSpeed {
@@ -200,7 +207,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     done = true;
     if (block && fill > 0) stretchDone();
     block = before = held = null;
-    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs };
+    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs, still: stillButExtremes(earlier, step) };
     train.end(read);
     s.revolutions = good / p;
     s.coveredS = span / fs;
