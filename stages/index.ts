@@ -12,6 +12,7 @@ import { soundMaxima } from './sound-maxima.js';
 import { orders, orderTacho } from './orders.js';
 import { keptSpectrum } from './spectra.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
+import { speedOptionsOf } from './shaft-speed.js';
 import { speed } from './speed.js';
 import type { ColumnSpec, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
@@ -42,6 +43,8 @@ const onlyOf = (v: unknown): ChannelSelector | undefined => (v && !Array.isArray
 export function activeStages(spec: ReductionSpec): ActiveStage[] {
   const welch: WelchOptions = { ...DEFAULT_SPECTRUM, ...(spec.spectrum ?? {}) };
   delete (welch as { only?: unknown }).only;
+  // A tacho's speed is withheld exactly where its pulse_train flag fails for faults: every reader of the speed takes that threshold.
+  const speedOptions = speedOptionsOf(thresholdsOf(spec.quality).pulse_train);
   const out: ActiveStage[] = [{ definition: statistics, options: {}, only: spec.statistics?.only }];
   if (spec.spectrum) {
     out.push({ definition: spectrum, options: welch, only: spec.spectrum.only });
@@ -53,7 +56,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
     out.push({ definition: octaveBands, options: { sets, spectrum: welch }, only: Array.isArray(spec.octave_bands) ? spec.octave_bands[0]?.only : spec.octave_bands.only });
   }
   if (spec.velocity_bands) out.push({ definition: velocity, options: { ranges: rangesOf(spec.velocity_bands), spectrum: welch }, only: onlyOf(spec.velocity_bands) ?? { quantities: ['acceleration'] } });
-  if (spec.windows) out.push({ definition: windows, options: { length_s: spec.windows.length_s ?? 1, hop_s: spec.windows.hop_s ?? spec.windows.length_s ?? 1 }, only: spec.windows.only });
+  if (spec.windows) out.push({ definition: windows, options: { length_s: spec.windows.length_s ?? 1, hop_s: spec.windows.hop_s ?? spec.windows.length_s ?? 1, speed: speedOptions }, only: spec.windows.only });
   if (spec.time_weighting_s) {
     const v = spec.time_weighting_s;
     out.push({ definition: timeWeighting, options: { constants_s: Array.isArray(v) ? v : v.constants_s }, only: onlyOf(v) });
@@ -72,10 +75,10 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
     out.push({ definition: rainflow, options: { slope: r.slope ?? 5, gate: r.gate ?? 0, bins: r.bins ?? null }, only: r.only ?? { quantities: ['strain', 'stress'] } });
   }
   // A channel declared with pulses_per_rev gets its shaft speed whatever the spec: the declaration asks for it.
-  out.push({ definition: speed, options: {}, only: undefined });
+  out.push({ definition: speed, options: speedOptions, only: undefined });
   if (spec.orders) {
-    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch };
-    out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: {}, only: undefined });
+    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch, speed: speedOptions };
+    out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: speedOptions, only: undefined });
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };

@@ -2,11 +2,12 @@
 import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
 import type { WindowName } from './dsp/window.js';
 import { hzName } from './names.js';
-import { shaftSpeedsOf, speedOf } from './shaft-speed.js';
+import { shaftSpeedsOf, speedOf, SPEED_DEFAULTS, type SpeedOptions } from './shaft-speed.js';
 import { spectrumOf } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
 
-export interface OrderOptions { orders: number[]; width: number; spectrum: WelchOptions }
+/** `speed`: when the tacho's speed is withheld (the order figures then null), as for the tacho's row. */
+export interface OrderOptions { orders: number[]; width: number; spectrum: WelchOptions; speed?: SpeedOptions }
 
 /** Half-width of the window's main lobe in bins (Harris, Proc. IEEE 66(1), 1978): a steady tone's power lies within it. */
 const MAIN_LOBE_BINS: Record<WindowName, number> = { hann: 2, hamming: 2, boxcar: 1 };
@@ -34,7 +35,7 @@ export const orders: StageDefinition<OrderOptions> = {
   create(ctx, o) {
     const blank = () => Object.fromEntries(o.orders.map((n) => [col(n), null]));
     // The tacho channel has no orders of its own; it makes its speed for the others.
-    if (ctx.tacho) { speedOf(ctx); return { push() {}, finish: blank }; }
+    if (ctx.tacho) { speedOf(ctx, o.speed ?? SPEED_DEFAULTS); return { push() {}, finish: blank }; }
     const s = spectrumOf(ctx, o.spectrum);
     return {
       push() {},
@@ -80,11 +81,11 @@ export const orders: StageDefinition<OrderOptions> = {
 };
 
 /** The tacho's part in the orders group, whichever channels the group's `only` selects, so the group is complete when computed alone. */
-export const orderTacho: StageDefinition<Record<string, never>> = {
+export const orderTacho: StageDefinition<SpeedOptions> = {
   group: 'orders',
   columns: () => [],
-  create(ctx) {
-    if (ctx.tacho) speedOf(ctx);
+  create(ctx, o = SPEED_DEFAULTS) {
+    if (ctx.tacho) speedOf(ctx, o);
     return { push() {}, finish: () => ({}) };
   },
 };

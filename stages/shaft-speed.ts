@@ -2,6 +2,7 @@
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
 import { levelsOf, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type SampleExtremes } from './dsp/trigger-level.js';
+import { QUALITY_DEFAULTS } from './quality/flag.js';
 import type { ChannelContext, Stage } from './stage.js';
 
 export { TRIGGER_HYSTERESIS_SHARE } from './dsp/trigger-level.js';
@@ -12,11 +13,20 @@ export const SHAFT_SPEED_KEY = 'shaft-speed';
 /** Seconds of signal in each stretch an undeclared trigger is found from, and then held against. */
 export const TRIGGER_LEARN_S = 1;
 /**
- * Missing and irregular pulses per good interval above which the train does not hold together and no speed is given: intervals
- * that fit no pattern outnumber those that do, as on a trigger in noise (our choice; extra pulses, dropped between two good ones a
- * whole interval apart, leave each good interval whole and do not count).
+ * When the train does not hold together: `fail_fault_ratio`, the pulse_train flag's threshold (spec section quality), is the
+ * missing and irregular pulses per good interval above which the flag fails and the speed and every count from the train are
+ * withheld, one rule for the table and the report.
  */
-export const LOST_PER_GOOD_MAX = 1;
+export interface SpeedOptions { fail_fault_ratio: number }
+
+export const SPEED_DEFAULTS: SpeedOptions = { fail_fault_ratio: QUALITY_DEFAULTS.pulse_train.fail_fault_ratio };
+
+/** The speed options of a spec's quality thresholds: the pulse_train flag's fault ratio. */
+export const speedOptionsOf = (pulseTrain: { fail_fault_ratio: number }): SpeedOptions => ({ fail_fault_ratio: pulseTrain.fail_fault_ratio });
+
+// Extra pulses, dropped between two good ones a whole interval apart, leave each good interval whole and do not count; missing and
+// irregular ones leave intervals unexplained. Without a good interval there is no speed to withhold.
+export const trainBroken = (lost: number, good: number, failFaultRatio: number) => good > 0 && lost > failFaultRatio * good;
 /** Times kept per kind of pulse fault, for the notes (the counts are complete). */
 const TIMES_KEPT = 10;
 
@@ -30,19 +40,22 @@ export interface SpeedSummary {
   foundAtS: number;
   /** Whether its levels were set with the extremes of earlier stretches too (pulses one sample wide, at most one a stretch). */
   foundAcross: boolean;
-  /** Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise. */
-  none: { firstFlat: boolean; allFlat: boolean; seconds: number } | null;
+  /**
+   * Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise; `still`:
+   * every sample but the highest and the lowest within two converter steps of each other (a lone pulse one sample wide, else noise).
+   */
+  none: { firstFlat: boolean; allFlat: boolean; seconds: number; still: boolean } | null;
   /** Moves of a found trigger that followed the signal's level: how many, the first one's time, and the range of levels used. */
   followed: { count: number; firstS: number; lowest: number; highest: number };
   /** Time the good intervals cover, s (kept when the speed is withheld, for the pulse_train flag). */
   coveredS: number;
-  /** Whether the speed is withheld: more missing and irregular pulses than good intervals (LOST_PER_GOOD_MAX). */
+  /** Whether the speed and the counts from the train are withheld: missing and irregular pulses beyond fail_fault_ratio of the good intervals (trainBroken). */
   withheld: boolean;
   /** Revolutions over all good intervals / their duration, and the extremes of the per-revolution speed; null without them or withheld. */
   meanRpm: number | null;
   minRpm: number | null;
   maxRpm: number | null;
-  /** Revolutions the speed figures rest on: good intervals / pulses per revolution. */
+  /** Revolutions the speed figures rest on: good intervals / pulses per revolution (kept when withheld, for the pulse_train flag). */
   revolutions: number;
   edges: number;
   missing: PulseFaults;
@@ -52,6 +65,7 @@ export interface SpeedSummary {
 
 export interface ShaftSpeed extends Stage {
   readonly channel: string;
+  readonly options: SpeedOptions;
   /** Complete once every chunk has been pushed (read it in finish()). */
   summary(): SpeedSummary;
   /** Speed per window of `length` samples every `hop` samples; register at create(), read in finish(). Null where no good interval covers it. */
@@ -61,20 +75,27 @@ export interface ShaftSpeed extends Stage {
 /** The tacho products of the channel's recording (none when no channel declares pulses_per_rev, or outside a recording). */
 export const shaftSpeedsOf = (ctx: ChannelContext): ShaftSpeed[] => ctx.recordingShared?.(SHAFT_SPEED_KEY, () => [] as ShaftSpeed[]) ?? [];
 
-/** The speed of this tacho channel, made once per channel and published to the recording. */
-export function speedOf(ctx: ChannelContext): ShaftSpeed {
+/** The speed of this tacho channel, made once per channel and published to the recording; every stage reading it passes the same options. */
+export function speedOf(ctx: ChannelContext, options: SpeedOptions = SPEED_DEFAULTS): ShaftSpeed {
   if (!ctx.tacho) throw new Error(`${ctx.name} is not a tacho channel (no pulses_per_rev)`);
-  return ctx.shared(SHAFT_SPEED_KEY, () => {
-    const product = makeShaftSpeed(ctx.name, ctx.sampleRate, ctx.tacho!, ctx.stepSize);
+  const speed = ctx.shared(SHAFT_SPEED_KEY, () => {
+    const product = makeShaftSpeed(ctx.name, ctx.sampleRate, ctx.tacho!, ctx.stepSize, options);
     shaftSpeedsOf(ctx).push(product);
     return product;
   });
+  // One product answers every stage: options that differ would let the table and the report disagree.
+  if (speed.options.fail_fault_ratio !== options.fail_fault_ratio) throw new Error(`${ctx.name}: the shaft speed was asked for with fail_fault_ratio ${options.fail_fault_ratio} and ${speed.options.fail_fault_ratio}`);
+  return speed;
 }
 
 const fault = (): PulseFaults => ({ count: 0, times_s: [] });
+
+// Order statistics of what was read: leaving its one highest and one lowest sample aside, it spans at most two converter steps
+// (below that a converter flickers, IEEE Std 1241), or nothing where the step is unknown. A lone pulse one sample wide is still so.
+const stillButExtremes = (e: SampleExtremes | null, step: number | null) => e == null || !(e.hi2 - e.lo2 > 2 * (step ?? 0));
 const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length < TIMES_KEPT) f.times_s.push(t); };
 
-function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null): ShaftSpeed {
+function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null, options: SpeedOptions = SPEED_DEFAULTS): ShaftSpeed {
   const p = tacho.pulsesPerRev;
   const s: SpeedSummary = {
     trigger: null, found: false, foundAtS: 0, foundAcross: false, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
@@ -186,17 +207,18 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     done = true;
     if (block && fill > 0) stretchDone();
     block = before = held = null;
-    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs };
+    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs, still: stillButExtremes(earlier, step) };
     train.end(read);
     s.revolutions = good / p;
     s.coveredS = span / fs;
-    s.withheld = good > 0 && s.missing.count + s.irregular.count > LOST_PER_GOOD_MAX * good;
+    s.withheld = trainBroken(s.missing.count + s.irregular.count, good, options.fail_fault_ratio);
     if (s.withheld) return;
     if (good > 0) s.meanRpm = (60 * fs * good) / (p * span);
     if (fastest > 0) { s.maxRpm = 60 * fs * fastest; s.minRpm = 60 * fs * slowest; }
   };
   return {
     channel,
+    options,
     push(x) {
       read += x.length;
       if (!block) return edges?.push(x);

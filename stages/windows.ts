@@ -3,10 +3,11 @@
 import { fixedWindowsOf } from './fused/fixed-windows.js';
 import { missingOf } from './fused/missing.js';
 import { PackedRows } from './packed-rows.js';
-import { speedOf } from './shaft-speed.js';
+import { speedOf, SPEED_DEFAULTS, type SpeedOptions } from './shaft-speed.js';
 import { appenderOf, type StageDefinition } from './stage.js';
 
-export interface WindowOptions { length_s: number; hop_s: number }
+/** `speed`: when a tacho channel's speed is withheld (its rows' speed_rpm then null), as for its row. */
+export interface WindowOptions { length_s: number; hop_s: number; speed?: SpeedOptions }
 
 /** A row's values in windows.parquet, in order; a tacho channel's rows add `speed_rpm`. */
 const VALUES = ['window_start_s', 'window_s', 'mean', 'rms', 'peak'] as const;
@@ -30,7 +31,7 @@ export const windows: StageDefinition<WindowOptions> = {
     const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));
     const hop = Math.max(1, Math.round(o.hop_s * ctx.sampleRate));
     // A window's speed is known only once the pulses after it are in, so a tacho channel's rows wait for finish(), packed.
-    const speedIn = ctx.tacho ? speedOf(ctx).windows(length, hop) : null;
+    const speedIn = ctx.tacho ? speedOf(ctx, o.speed ?? SPEED_DEFAULTS).windows(length, hop) : null;
     const held = new PackedRows(), heldColumns = held.columnsOf(VALUES);
     const append = speedIn ? null : appenderOf(ctx, 'windows', VALUES);
     // One array of a row's values, filled again for each window: a row costs no object.

@@ -101,7 +101,7 @@ describe('an undeclared tacho trigger', () => {
     expect(fixed.flag.value as number).toBeLessThan(0.5);
   });
 
-  it('a flat signal and one of noise alone give no level and say which: no speed rather than a wrong one, a note when flat (a shaft at rest), a warning for noise', async () => {
+  it('a flat signal and one of noise alone give no level and say which: no speed rather than a wrong one, a note when flat (a shaft at rest), a failure for noise (no pulse train found)', async () => {
     const fs = 1000, n = 5 * fs;
     const flat = await tacho(new Float64Array(n).fill(1), fs);
     expect(flat.notes).toMatch(/tacho signal flat over the first second; flat in every second of the 5 s read/);
@@ -110,7 +110,8 @@ describe('an undeclared tacho trigger', () => {
     const noise = await tacho(gaussian(n, 0.05), fs);
     expect(noise.row.speed_mean_rpm).toBeNull();
     expect(noise.notes).toMatch(/only noise over the first second; no second holds a pulse standing clear of its noise/);
-    expect(noise.flag.severity).toBe('warn');
+    expect(noise.flag.severity).toBe('fail');
+    expect(noise.flag.message).toMatch(/no pulse train found/);
   });
 });
 

@@ -1,5 +1,6 @@
 // Pulse train: whether a tacho channel's pulses hold together well enough for its speed figures to describe the recording.
-import { speedOf } from '../shaft-speed.js';
+import { momentsOf } from '../fused/moments.js';
+import { speedOf, speedOptionsOf, type SpeedSummary } from '../shaft-speed.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
@@ -15,17 +16,28 @@ export function pulseCoverage(coveredS: number, goodIntervals: number, durationS
   return expected <= coveredS ? 1 : coveredS / expected;
 }
 
+/**
+ * Whether the tacho shows no pulse at all in a signal that moves: no level stood clear of its noise in any second (and more than
+ * one sample stands out of it), or no edge crossed the trigger while the signal spans more than two converter steps (IEEE Std 1241:
+ * less is a converter's flicker). A flat signal is a shaft at rest; one edge or more, a shaft too slow for two good pulses in a row.
+ */
+export function noPulseFound(s: SpeedSummary, spread: number, step: number | null): boolean {
+  if (!s.trigger) return s.none != null && !s.none.allFlat && !s.none.still;
+  return s.edges === 0 && spread > 2 * (step ?? 0);
+}
+
 export const pulseTrain: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
   create(ctx, q) {
-    const speed = ctx.tacho ? speedOf(ctx) : null;
+    const speed = ctx.tacho ? speedOf(ctx, speedOptionsOf(q.pulse_train)) : null;
+    const moments = ctx.tacho ? momentsOf(ctx) : null;
     let n = 0;
     return {
       push(x) { n += x.length; },
       finish() {
         const t = q.pulse_train;
-        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then, from 100 %, no speed); warn: no speed (no pulse clear of the noise, or no two good pulses in a row); note: a flat signal (a shaft at rest), any pulse fault`;
+        const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then no speed, revolutions or pulse counts either); fail: no pulse found in a signal that moves (no level clear of its noise, or no edge across the trigger); warn: no two good pulses in a row; note: a flat signal (a shaft at rest), any pulse fault`;
         if (!speed) {
           ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
           return { pulse_coverage: null };
@@ -40,18 +52,25 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const todo = tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev';
         const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
         let severity: Severity = 'ok', message: string;
-        if (!tr || good === 0) {
+        const m = moments!.moments();
+        if (noPulseFound(s, m.n ? m.max - m.min : 0, ctx.stepSize)) {
+          // A tacho is there for its pulses: a signal that moves without one (noise, a sensor unplugged or unpowered, a trigger the
+          // pulses never cross) leaves every speed and order figure unknown, as a dead sensor leaves its channel's figures.
+          severity = 'fail';
+          const what = tr ? `no edge crossed the trigger (${trigger}) while the signal ranged ${round(m.min)} to ${round(m.max)} ${ctx.unit}` : 'no second holds a pulse standing clear of the noise, and more than one sample stands out of it';
+          message = `no pulse train found: ${what}; check the tacho's wiring and supply, ${tr && !s.found ? 'the declared trigger_level and trigger_hysteresis against that range' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels'}, and pulses_per_rev`;
+        } else if (!tr || good === 0) {
           // No speed is no wrong speed: a shaft at rest gives no pulses (a flat signal is a note; a dead sensor fails flatline), while
-          // pulses that never make two good intervals in a row, or a signal that is all noise, leave the speed unknown (warn).
+          // pulses that never make two good intervals in a row, or one lone pulse, leave the speed unknown (warn).
           const flat = !tr && s.none?.allFlat === true;
           severity = flat ? 'note' : 'warn';
           message = `no speed: ${tr ? 'no two consecutive good pulses' : flat ? 'the signal is flat' : 'no pulse standing clear of the noise'} (${trigger}); a shaft at rest or a disconnected sensor reads so too; else ${todo}`;
-        } else if (s.withheld || coverage < t.fail_coverage || lost > t.fail_fault_ratio * good) {
-          // Extra pulses are dropped between two good ones a whole interval apart, so they leave each good interval whole: only
-          // missing and irregular pulses, which leave intervals unexplained, count towards a train that does not hold together.
+        } else if (s.withheld || coverage < t.fail_coverage) {
+          // The speed product withholds by the same threshold (trainBroken), so the table gives no speed on a train failed for its
+          // faults, and withholds none from a train that passes. Extra pulses leave each good interval whole and do not count.
           severity = 'fail';
           message = s.withheld
-            ? `${found}: the pulse train does not hold together (more missing and irregular pulses than good intervals), so no speed is given rather than one resting on what is likely noise or a level the pulses leave; ${todo}`
+            ? `${found}: the pulse train does not hold together (missing and irregular pulses beyond ${pct(t.fail_fault_ratio)} of the good intervals), so no speed is given (nor revolutions or pulse counts) rather than figures resting on what is likely noise or a level the pulses leave; ${todo}`
             : `${found}: the pulse train does not hold together, so the speed figures rest on what is likely noise or a level the pulses leave; ${todo}`;
         } else if (coverage < t.warn_coverage || faults > t.warn_fault_ratio * good) {
           severity = 'warn';
