@@ -17,7 +17,7 @@ const write = (name: string, text: string) => {
 describe('a time column\'s unit named in its header (SI prefixes: common practice)', () => {
   it.each([
     ['time_ms', 1e3], ['time [ms]', 1e3], ['time (ms)', 1e3], ['t_ms', 1e3], ['t[ms]', 1e3], ['ms', 1e3], ['Time_MS', 1e3],
-    ['time_us', 1e6], ['t (µs)', 1e6], ['time [μs]', 1e6], ['us', 1e6], ['time_ns', 1e9], ['ns', 1e9],
+    ['time_us', 1e6], ['t (µs)', 1e6], ['time [μs]', 1e6], ['µs', 1e6], ['time_ns', 1e9],
     ['time_s', 1], ['time [s]', 1], ['time (s)', 1], ['seconds', 1],
   ])('"%s" divides its numbers by %d into seconds, and says so', (header, perSecond) => {
     expect(timeColumnOf(header)).toEqual({ perSecond, stated: true });
@@ -25,7 +25,8 @@ describe('a time column\'s unit named in its header (SI prefixes: common practic
 
   it('a bare time, t or timestamp is read as seconds on trust, and other names are channels', () => {
     for (const h of ['time', 't', 'timestamp', 'datetime']) expect(timeColumnOf(h)).toEqual({ perSecond: 1, stated: false });
-    for (const h of ['s', 'acc_x', 'mass', 'time_min', 'tms_x']) expect(timeColumnOf(h)).toBeNull();
+    // A bare s, us or ns is more likely a channel (NS and EW: a geophone's north–south and east–west axes).
+    for (const h of ['s', 'us', 'ns', 'NS', 'acc_x', 'mass', 'time_min', 'tms_x']) expect(timeColumnOf(h)).toBeNull();
   });
 
   it('suggests time_ms where a declared rate is a thousand times the column\'s', async () => {

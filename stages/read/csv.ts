@@ -12,8 +12,8 @@ import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './ti
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
 /** Divisors from a unit a time column's header names to seconds. */
 const PER_SECOND: Record<string, number> = { s: 1, ms: 1e3, us: 1e6, 'µs': 1e6, 'μs': 1e6, ns: 1e9 };
-// A unit after time or t (time_ms, time [ms], time (ms), t_ms, t[ms], tms) or alone (ms, but not a bare s, a likely channel name).
-const TIME_UNIT_HEADER = /^(?:(?:time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|us|µs|μs|ns|seconds))$/i;
+// A unit after time or t (time_ms, time [ms], time (ms), t_ms, t[ms], tms) or alone (ms, µs; not a bare s, us or ns, likely channels' names: NS is a north–south axis).
+const TIME_UNIT_HEADER = /^(?:(?:time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|µs|μs|seconds))$/i;
 
 /**
  * Whether a header names a time column, and in what unit: `perSecond` divides its numbers into seconds, and `stated` says
