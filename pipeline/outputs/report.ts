@@ -5,6 +5,7 @@ import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
 import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
 import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
+import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
@@ -167,6 +168,8 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched${r.counts.settling ? `, ${r.counts.settling} left to settle` : ''}; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
+  // The period's bounds in UTC, as the selection used them, before anything said of its recordings.
+  if (r.period) lines.push(periodLine(r.period));
   // What changed leads: it is the machine's story; the data-quality lines follow.
   if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
