@@ -267,7 +267,8 @@ export function addTrendRows(h: History, f: ScoredFeature, into: Record<string, 
     if (!p) continue;
     text('recording').add(h.recordings[s.recording[i]]); text('group').add(s.group); text('channel').add(s.channel);
     text('feature').add(f.feature.name); text('unit').add(f.unit);
-    number('start_time').add(s.startKnown[i] ? s.time[i] : null);
+    // Every row is placed in time, as the history orders it (a row without a time sorts apart in a spreadsheet); in whole ms, as the column holds.
+    number('start_time').add(Math.floor(s.time[i])); text('start_time_source').add(s.startKnown[i] ? 'recording' : 'modified');
     number('value').add(p.value); number('baseline').add(p.baseline); number('change_db').add(p.changeDb); number('score').add(p.score);
     text('verdict').add(p.verdict); text('limit').add(p.limit); text('quality').add(severityAt(s, i));
   }
