@@ -30,6 +30,7 @@ import { Store } from './store/store.js';
 import { trendOptions } from './trends/options.js';
 import type { TrendsBasis, TrendsWrite } from './trends/trends.js';
 import type { RecomputedForBaselines } from './trends/renew-baselines.js';
+import type { RecomputedForHolds } from './trends/carry-holds.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -192,18 +193,23 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
     // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another
     // version, other options, another declaration), so the baselines form again today; a run with nothing stale reads the history once.
-    let basis: TrendsBasis | undefined, renewed: RecomputedForBaselines | undefined;
+    let basis: TrendsBasis | undefined, renewed: RecomputedForBaselines | undefined, heldCarried: RecomputedForHolds | undefined;
     if (!shard && trends && o.since != null && o.until == null) {
       const [{ trendsBasis }, { renewStaleBaselines, recomputedRecord }] = await Promise.all([import('./trends/trends.js'), import('./trends/renew-baselines.js')]);
       const scannedAs = new Map(scanned.recordings.map((r) => [r.recording, r]));
       const whyOf = new Map<string, string>();
-      const found = await renewStaleBaselines(() => trendsBasis(outDir, spec.spec, trendsInput, true), async (names) => {
+      const read = () => trendsBasis(outDir, spec.spec, trendsInput, true), recompute = async (names: string[]) => {
         const again = await decide(names.flatMap((r) => scannedAs.get(r) ?? []), planOf, s, deciding);
         for (const d of again.decisions) whyOf.set(d.recording, d.why);
         await reduceDecided(again.decisions.filter((d) => d.stores && !d.restamp), again.itemOf, undefined);
-      }, trends);
-      basis = found.basis;
-      renewed = recomputedRecord(found.recomputed, (r) => { const f = s.get(r)?.facts; return { group: inArchive.get(r)!, why: whyOf.get(r) ?? '', ...(f ? { status: f.status, ...(f.reason ? { reason: f.reason } : {}) } : {}) }; });
+      };
+      const found = await renewStaleBaselines(read, recompute, trends);
+      // Then the stale recordings the period's deadband holds rest on (pipeline/trends/carry-holds.ts).
+      const { carryHolds, carriedRecord } = await import('./trends/carry-holds.js'), carried = await carryHolds(found.basis, read, recompute, trends);
+      basis = carried.basis;
+      const outcomeOf = (r: string) => { const f = s.get(r)?.facts; return { group: inArchive.get(r)!, why: whyOf.get(r) ?? '', ...(f ? { status: f.status, ...(f.reason ? { reason: f.reason } : {}) } : {}) }; };
+      renewed = recomputedRecord(found.recomputed, outcomeOf);
+      heldCarried = carriedRecord(carried.recomputed, outcomeOf);
     }
     const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { ...trendsInput, basis }));
     const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : quiet, pool, changes });
@@ -226,7 +232,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
         since: o.since ?? null, until: o.until ?? null, selected: chosen.length, quiet_groups: quiet, ...(shard && due.length ? { capture_due: due } : {}),
         // Those left to settle are named there, and are late arrivals again for the next run.
         ...(o.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, reduceLate, (r) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; }) } : {}),
-        ...(renewed ? { recomputed_for_baselines: renewed } : {}),
+        ...(renewed ? { recomputed_for_baselines: renewed } : {}), ...(heldCarried ? { recomputed_for_held_changes: heldCarried } : {}),
       } : null,
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
