@@ -140,7 +140,7 @@ async function main(argv: string[]): Promise<number> {
       .option('hash', { type: 'boolean', default: false, describe: 'Identify unchanged recordings by a content hash, not only size and modification time' })
       .option('retry-failed', { type: 'boolean', default: false, describe: 'Reduce again the recordings that failed before, though file, declaration and spec are unchanged (once storage or a reader is mended)' })
       .option('shard', { type: 'string', describe: 'Reduce one stable share, K/N (1 ≤ K ≤ N), or auto (Slurm array / Kubernetes indexed job); writes part files for quern merge' })
-      .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time or span back from now (7d, 12h)' })
+      .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time (UTC unless it names a zone) or span back from now (7d, 12h)' })
       .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
       .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })

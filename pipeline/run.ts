@@ -24,7 +24,7 @@ import { scan, type ScannedRecording } from './select/scan.js';
 import { shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import type { TrendsBasis, TrendsWrite } from './trends/trends.js';
-import type { RecomputedForBaselines } from './trends/renew-baselines.js';
+import type { Renewed } from './trends/renew-for-period.js';
 
 export interface ReduceOptions {
   archive: string;
@@ -130,8 +130,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const declarations = declarationsNow(scanned.recordings, groupNames, planOf);
     const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
     // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another
-    // version, other options, another declaration), so the baselines form again today; a run with nothing stale reads the history once.
-    let basis: TrendsBasis | undefined, renewed: RecomputedForBaselines | undefined;
+    // version, other options, another declaration), so the baselines form again today, and then the stale nights a held verdict of
+    // its period rests on through the deadband; a run with nothing stale reads the history once.
+    let basis: TrendsBasis | undefined, renewed: Renewed | undefined;
     if (!shard && trends && o.since != null && o.until == null) {
       const { renewForPeriod } = await import('./trends/renew-for-period.js');
       ({ basis, renewed } = await renewForPeriod(outDir, spec.spec, trendsInput, trends, scanned.recordings, (files) => decide(files, planOf, s, deciding), reducer.reduce));

@@ -5,6 +5,7 @@ import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
 import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
 import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
+import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
@@ -13,6 +14,7 @@ import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
 import { recomputedLines, type RecomputedForBaselines } from '../trends/renew-baselines.js';
+import { carriedLines, type RecomputedForHolds } from '../trends/carry-holds.js';
 
 export interface RunRecord {
   tool: 'quern';
@@ -38,7 +40,7 @@ export interface RunRecord {
    * With --since alone (no --until, no shard): the stored recordings recomputed because they held baseline places stored under
    * another version, other options or another declaration (none: nothing was stale).
    */
-  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals; recomputed_for_baselines?: RecomputedForBaselines } | null;
+  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals; recomputed_for_baselines?: RecomputedForBaselines; recomputed_for_held_changes?: RecomputedForHolds } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
@@ -157,7 +159,7 @@ export function commonNotes(messages: string[], shown = NOTE_KINDS_SHOWN): strin
 const MAX_SETTLING_LINES = 10;
 
 /** Recordings this run reduced that failed: the period's, late arrivals reduced for the trends' history, and recordings recomputed for the baselines. */
-export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0) + (r.period?.recomputed_for_baselines?.failed ?? 0);
+export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0) + (r.period?.recomputed_for_baselines?.failed ?? 0) + (r.period?.recomputed_for_held_changes?.failed ?? 0);
 
 /** The quiet groups a run's record tells: a shard sees only its share of the archive, so merge tells them for the whole of it. */
 export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.period?.quiet_groups ?? []);
@@ -167,6 +169,8 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
     `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched${r.counts.settling ? `, ${r.counts.settling} left to settle` : ''}; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
+  // The period's bounds in UTC, as the selection used them, before anything said of its recordings.
+  if (r.period) lines.push(periodLine(r.period));
   // What changed leads: it is the machine's story; the data-quality lines follow.
   if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
@@ -176,6 +180,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   for (const n of r.declaration_notes ?? []) lines.push(`  DECLARED ${n}`);
   if (r.period?.late_arrivals) lines.push(...lateArrivalLines(r.period.late_arrivals));
   if (r.period?.recomputed_for_baselines) lines.push(...recomputedLines(r.period.recomputed_for_baselines));
+  if (r.period?.recomputed_for_held_changes) lines.push(...carriedLines(r.period.recomputed_for_held_changes));
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; ${lastCapture(g)}`);
   const settling = r.settling;
   for (const w of settling.slice(0, MAX_SETTLING_LINES)) lines.push(`  SETTLING ${w.recording}: modified ${w.age_s.toFixed(0)} s before the scan (--settle), so it may still be written; left to the next run`);

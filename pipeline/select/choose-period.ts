@@ -52,15 +52,15 @@ export function splitTaken(p: Period, taken: Decision[], stored: (recording: str
 
 /**
  * run.json's period (null without one): its bounds, how many it selected, the quiet groups, what a shard keeps for merge
- * to judge declared capture intervals whole, the late arrivals and the recordings recomputed for the baselines.
+ * to judge declared capture intervals whole, the late arrivals and what the baselines' renewal recomputed.
  */
-export function periodRecord<R>(p: Period, late: Arrival[], groupNames: readonly string[], shard: Shard | null, outcome: (recording: string) => { status: 'reduced' | 'failed'; reason?: string } | undefined, renewed?: R) {
+export function periodRecord<R extends object>(p: Period, late: Arrival[], groupNames: readonly string[], shard: Shard | null, outcome: (recording: string) => { status: 'reduced' | 'failed'; reason?: string } | undefined, renewed?: R) {
   if (p.since == null && p.until == null) return null;
   return {
     since: p.since, until: p.until, selected: p.chosen.length, quiet_groups: p.quiet, ...(shard && p.due.length ? { capture_due: p.due } : {}),
     // Those left to settle are named there, and are late arrivals again for the next run.
     ...(p.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, p.reduceLate, outcome) } : {}),
-    ...(renewed ? { recomputed_for_baselines: renewed } : {}),
+    ...renewed,
   };
 }
 

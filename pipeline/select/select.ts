@@ -3,7 +3,7 @@ import pLimit from 'p-limit';
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { ScannedRecording } from './scan.js';
 import { readerOptionsOf } from '../plan/plan.js';
-import { isCalendarDate } from '../../stages/read/iso-time.js';
+import { isoTimeMs } from '../../stages/read/iso-time.js';
 
 /** Stable shard of a recording, 1…n, from a hash of its path (FNV-1a, 32 bits): the same on every machine and run. */
 export function shardOf(recording: string, n: number): number {
@@ -41,17 +41,16 @@ const UNIT_MS = { s: 1_000, m: 60_000, h: 3_600_000, d: 86_400_000, w: 604_800_0
 /** ISO 8601 date, optionally with a time of day and a zone: 2026-11-16, 2026-11-16T02:00, 2026-11-16T02:00:30.5+01:00. */
 const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?$/;
 
-/** A date or date-time (ISO 8601; a bare date is midnight UTC), or a span back from now such as 7d, 12h, 30m, 2w. */
+/** A date or date-time (ISO 8601; UTC unless it names a zone, as every time quern reads), or a span back from now such as 7d, 12h, 30m, 2w. */
 export function parseWhen(text: string, now = Date.now()): number {
   // A span already counts back from now, so a minus sign would count forward: say what to write instead.
   const negative = text.trim().match(/^-\s*(\d+(?:\.\d+)?\s*[mhdw])$/);
   if (negative) throw new Error(`"${text}" is not a span: a span counts back from now and has no sign; write ${negative[1]}`);
   const span = text.trim().match(SPAN);
   if (span) return now - Number(span[1]) * UNIT_MS[span[2] as keyof typeof UNIT_MS];
-  const iso = text.trim().match(ISO_DATE);
-  const t = iso ? Date.parse(text.trim()) : NaN;
-  // Date.parse alone guesses ("7" is July 2001, 30 February rolls into March), so only real ISO 8601 calendar dates pass.
-  if (!iso || !Number.isFinite(t) || !isCalendarDate(Number(iso[1]), Number(iso[2]), Number(iso[3]))) {
+  // Only the documented forms pass; read as the files' times are, so a date-time without a zone is UTC, never the machine's zone.
+  const t = ISO_DATE.test(text.trim()) ? isoTimeMs(text) : NaN;
+  if (!Number.isFinite(t)) {
     throw new Error(`"${text}" is neither a date (2026-11-16, 2026-11-16T02:00Z) nor a span (7d, 12h, 30m, 2w)`);
   }
   return t;

@@ -4,6 +4,7 @@ import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, recordingsToCome, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
 import { severityAt, usable, type History, type Series } from './history.js';
 import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
+import { heldAcrossStale, type HeldAcrossStale } from './held-across-stale.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
@@ -32,6 +33,8 @@ export interface ScoredFeature {
   /** The baseline point i is held against: its era's. */
   baseAt(i: number): BaselineStats;
   at(i: number): ScoredPoint | null;
+  /** Point i before the deadband: its own verdict, not yet held by the points before it. */
+  raw(i: number): ScoredPoint | null;
 }
 
 /** Features that clipping can only lower: |x| cut to the range lowers the mean square and the largest magnitude alike. */
@@ -78,7 +81,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     return VERDICTS[held[i] - 1];
   };
   return {
-    series: s, k, feature, eras, bases, baseAt: (i) => bases[eraOf(i)], unit: feature.unit === '[unit]' ? s.unit : feature.unit,
+    series: s, k, feature, eras, bases, baseAt: (i) => bases[eraOf(i)], unit: feature.unit === '[unit]' ? s.unit : feature.unit, raw: pointAt,
     at(i) {
       const p = pointAt(i);
       if (!p?.verdict || p.verdict === 'alarm' || o.deadband === 0) return p;
@@ -147,6 +150,8 @@ export interface ChangesReport {
   baseline_restarts?: { restart: string; histories: number }[];
   /** Present when a trends.limits entry names channels: those that name no stored channel (a limit that can never sound). */
   unmatched_limits?: string[];
+  /** Present when any: channels of this run whose features may hold a change across stored recordings not computed again (deadband). */
+  held_across_stale?: HeldAcrossStale[];
 }
 
 /** A channel whose baseline has not formed, so its features have no change verdict: which features, and why. */
@@ -223,6 +228,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     });
   }
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
+  const held = heldAcrossStale(scored, o);
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
     features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
@@ -233,6 +239,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     ...(o.baseline.exclude.length ? { excluded_recordings: h.excluded } : {}),
     ...(o.baseline.restarts.length ? { baseline_restarts: o.baseline.restarts.map((r) => ({ restart: r.text, histories: h.series.filter((s) => r.applies(s.group, s.channel)).length })) } : {}),
     ...unmatchedLimits(h, o),
+    ...(held.length ? { held_across_stale: held } : {}),
   };
 }
 
@@ -267,7 +274,8 @@ export function addTrendRows(h: History, f: ScoredFeature, into: Record<string, 
     if (!p) continue;
     text('recording').add(h.recordings[s.recording[i]]); text('group').add(s.group); text('channel').add(s.channel);
     text('feature').add(f.feature.name); text('unit').add(f.unit);
-    number('start_time').add(s.startKnown[i] ? s.time[i] : null);
+    // Every row is placed in time, as the history orders it (a row without a time sorts apart in a spreadsheet); in whole ms, as the column holds.
+    number('start_time').add(Math.floor(s.time[i])); text('start_time_source').add(s.startKnown[i] ? 'recording' : 'modified');
     number('value').add(p.value); number('baseline').add(p.baseline); number('change_db').add(p.changeDb); number('score').add(p.score);
     text('verdict').add(p.verdict); text('limit').add(p.limit); text('quality').add(severityAt(s, i));
   }

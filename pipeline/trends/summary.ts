@@ -1,7 +1,7 @@
 // The terminal's lines on what changed: the counts, then the strongest changes, one line each.
 import { plainNumber as num } from '../outputs/plain-number.js';
 import type { ChangeItem, ChangesReport } from './changes.js';
-import { storedText } from './stale-cause.js';
+import { storedText, type StaleCauseName } from './stale-cause.js';
 
 // A value that rounds to zero carries no sign.
 const signed = (v: number, digits = 1) => { const text = Math.abs(v).toFixed(digits); return Number(text) === 0 ? text : `${v > 0 ? '+' : '−'}${text}`; };
@@ -29,6 +29,14 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced ${storedText(r.stale_causes ?? {}) ?? 'under other options, another declaration of their group or another version of quern'}; run once without --since, or with --since alone and unsharded, to recompute them`);
+  const held = r.held_across_stale ?? [];
+  if (held.length) {
+    const features = held.reduce((n, c) => n + c.features.length, 0), stale = held.reduce((n, c) => n + c.stale_recordings, 0);
+    const causes: Partial<Record<StaleCauseName, number>> = {};
+    for (const x of held.flatMap((c) => c.stored)) causes[x] = (causes[x] ?? 0) + 1;
+    const named = held.slice(0, top).map((c) => `${c.group} ${c.channel} (${c.features.join(', ')})`).join(', ') + (held.length > top ? `, and ${held.length - top} more channels` : '');
+    lines.push(`  HELD    ${features} channel ${features === 1 ? 'feature' : 'features'} may hold a change the deadband carries across ${stale} stored ${stale === 1 ? 'recording' : 'recordings'} reduced ${storedText(causes)}, which this run did not compute again, so ${features === 1 ? 'its verdict' : 'their verdicts'} may differ from a whole run's: ${named}; run once without --since to compute them (quality.json: changes.held_across_stale)`);
+  }
   // Baselines that wait only for recordings to come (a new archive's first nights) are counted by group; the others named one by one.
   const forming = r.forming_baselines ?? [];
   for (const g of forming) lines.push(`  no baseline yet for ${g.channel_features} channel ${g.channel_features === 1 ? 'feature' : 'features'} of group ${g.group}, so no change verdict: ${g.channel_features === 1 ? 'it waits' : 'they wait'} for ${toCome(g.more_recordings)} (baselines form from the first ${g.first}); each is in quality.json (changes.unformed_baselines)`);

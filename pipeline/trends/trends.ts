@@ -59,13 +59,13 @@ export interface TrendsInput {
 
 /**
  * The digest, and the history unless the trends kept for the same digest still hold (or trends are off). `renewable`: the
- * caller can recompute stale baseline places, so kept trends that name some are read again rather than taken.
+ * caller can recompute stale baseline places and the stale recordings holds rest on, so kept trends that name some are read again rather than taken.
  */
 export async function trendsBasis(out: string, spec: ReductionSpec, o: TrendsInput, renewable = false): Promise<TrendsBasis> {
   const inRun = new Set(o.recordings);
   const digest = trendsDigest(spec, o.store, o.present, inRun, o.metadata, o.since ?? null, o.earlierStored ?? false, o.declarations ?? new Map());
   const kept = await stillCurrent(out, digest);
-  if (kept && !(renewable && kept.outcome?.report.stale_baselines)) return { digest, kept, history: null };
+  if (kept && !(renewable && (kept.outcome?.report.stale_baselines || kept.outcome?.report.held_across_stale))) return { digest, kept, history: null };
   const history = o.trends ? await readHistory(out, spec, o.trends, inRun, presentEntriesAsStored(o.store, o.present), o.declarations ?? new Map()) : null;
   return { digest, kept: null, history };
 }
