@@ -1,6 +1,7 @@
 // The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
 import type { TimeSteps } from './read/time-steps.js';
 import type { Flag } from './quality/flag.js';
+import type { DeclaredGrid } from './quality/float-grid.js';
 import { freshBuffer } from './scratch.js';
 
 /** What a stage knows about the channel it reduces, in engineering units. */
@@ -21,8 +22,16 @@ export interface ChannelContext {
   aliasFreeFraction?: number | null;
   /** Engineering value of one converter step (scale / 2^(bits-1) for PCM), when known. */
   stepSize: number | null;
-  /** Engineering values of the converter's most negative and most positive codes (integer formats), else null. */
+  /**
+   * Engineering values of the converter's most negative and most positive codes: integer formats, and floating-point samples
+   * declaring bits and range (the range's ends, the top one a step short); else null.
+   */
   fullScale: [number, number] | null;
+  /**
+   * Floating-point samples declaring bits and range: the declared converter's step, which the data must be seen to take
+   * before the resolution flag judges by it (integer codes give `stepSize` instead); else absent or null.
+   */
+  declaredGrid?: DeclaredGrid | null;
   /** Whether the channel was declared in archive.yaml (else it is in stored units). */
   declared: boolean;
   /** Declared duration of the recording, s, if any. */

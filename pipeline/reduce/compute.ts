@@ -13,6 +13,7 @@ import type { RecordingJob } from '../plan/plan.js';
 import { packEvidence, type Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
 import { effectiveBits, headerNotes } from './header-notes.js';
+import { declaredGrid } from '../../stages/quality/float-grid.js';
 import type { RecordingOutput, RecordingResult } from './result.js';
 
 const selected = (only: { names?: string[]; quantities?: string[] } | undefined, c: ChannelDeclaration) =>
@@ -103,7 +104,10 @@ export async function computeRecording(
       const bits = effectiveBits(decl.bits, r);
       // The most negative code is −1 of full scale, the most positive one step short of +1 (a negative scale swaps them), a
       // step of the converter: 24-bit codes in a 32-bit container end a 24-bit step short.
-      const ends = r.normalised && bits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - bits)) * decl.scale + decl.offset] : null;
+      // Floating-point samples declaring bits and range: the converter's codes span the range, the top one a step short.
+      const grid = declaredGrid(r.normalised, bits, decl.range, decl.offset, r.encoding);
+      const ends = r.normalised && bits ? [-decl.scale + decl.offset, (1 - 2 ** (1 - bits)) * decl.scale + decl.offset]
+        : grid && decl.range ? [decl.range[0], decl.range[1] - grid.step] : null;
       const fullScale: [number, number] | null = ends && [Math.min(ends[0], ends[1]), Math.max(ends[0], ends[1])];
       // One context a feature group, shared by the group's stages: each stage's notes, rows and flags are filed under its
       // own feature group, and a recording makes a few contexts a channel, not one a stage (they live as long as it does).
@@ -120,6 +124,7 @@ export async function computeRecording(
           // One converter step in engineering units: full scale ±1 spans 2^bits codes.
           stepSize: r.normalised && bits ? Math.abs(decl.scale) / 2 ** (bits - 1) : null,
           fullScale,
+          declaredGrid: grid,
           declared: job.channels != null,
           declaredDurationS: job.durationS,
           timeSteps: () => r.timeSteps ?? null,

@@ -1,7 +1,8 @@
 // Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
 import { momentsOf } from '../fused/moments.js';
-import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { foldGrid, noTally, type DeclaredGrid, type GridTally } from './float-grid.js';
+import type { ChannelContext, StageDefinition } from '../stage.js';
 
 /** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
 export const quantisationNoise = (step: number) => step / Math.sqrt(12);
@@ -36,30 +37,47 @@ export const spansGrid = (spread: number, gridStep: number, least = 2) => Math.r
 export const resolution: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [
-    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step, or the common multiple of it by which every sample changes when the data take coarser steps and span at least two of them.' },
+    { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step (on floating-point samples, range span / 2^bits where both are declared and the samples lie on its steps), or the common multiple of it by which every sample changes when the data take coarser steps and span at least two of them.' },
     { name: 'resolution_bits', unit: 'bit', description: 'log2 of the steps the signal spans (peak to peak / step).' },
     { name: 'quantisation_snr_db', unit: 'dB', description: '20·log10(std / (step/√12)): signal against ideal quantisation noise.' },
   ],
   create(ctx, q) {
     const shared = momentsOf(ctx);
+    const declared = ctx.stepSize;
+    // Floating-point samples keep no step of their own: a declared converter's is used once the data are seen to lie on it.
+    const floatGrid = declared == null ? ctx.declaredGrid ?? null : null;
     // Codes coarser than the declared converter (8-bit data in a 16- or 24-bit file) quantise as coarsely as they are; a
     // pulse train takes two levels by design, so a tacho channel keeps its declared step.
-    const watch = ctx.stepSize != null && !ctx.tacho;
-    let grid = 0;
+    const watch = declared != null && !ctx.tacho;
+    let grid = 0, tally = noTally(), seen = 0;
     return {
-      push(x) { if (watch && grid !== 1) grid = dataGrid(x, ctx.stepSize!, grid, Math.min(x.length, STEP_SEARCH)); },
+      push(x) {
+        if (watch && grid !== 1) grid = dataGrid(x, declared!, grid, Math.min(x.length, STEP_SEARCH));
+        else if (floatGrid && tally.off === 0) tally = foldGrid(tally, x, floatGrid, seen, Math.min(x.length, STEP_SEARCH));
+        seen += x.length;
+      },
       finish() {
         const m = shared.moments();
-        const declared = ctx.stepSize;
-        const coarser = declared != null && grid > 1 && spansGrid(m.max - m.min, grid * declared);
-        const step = coarser ? grid * declared! : declared;
         const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
-        if (step == null || m.n === 0 || std === 0) {
-          // Without a step (floating-point samples keep none; integer codes always give one) the check cannot be made;
-          // a signal that never varies is the flatline flag's.
-          ctx.flag(step == null
-            ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none)', not_assessed: 'floating-point samples keep no converter step' }
+        const varies = m.n > 0 && std > 0;
+        // The declared step on floating-point samples only where the data show it (a filtered or resampled export does not).
+        const onGrid = floatGrid != null && tally.off === 0 && tally.told > 0;
+        if (floatGrid && varies && !onGrid) {
+          const why = offGridWhy(ctx, floatGrid, tally);
+          ctx.note(`${ctx.name}: ${why.note}`);
+          ctx.flag({ name: 'resolution', severity: 'ok', value: null, threshold, evidence: { declared_step_size: floatGrid.step, changes_checked: tally.told, changes_off_grid: tally.off }, message: `not assessed: ${why.message}`, not_assessed: why.short });
+          return { step_size: null, resolution_bits: null, quantisation_snr_db: null };
+        }
+        const base = declared ?? (onGrid ? floatGrid.step : null);
+        if (onGrid && !ctx.tacho) grid = tally.grid;
+        const coarser = base != null && grid > 1 && spansGrid(m.max - m.min, grid * base);
+        const step = coarser ? grid * base! : base;
+        if (step == null || !varies) {
+          // Without a step (floating-point samples keep none unless bits and range are declared; integer codes always give
+          // one) the check cannot be made; a signal that never varies is the flatline flag's.
+          ctx.flag(step == null && floatGrid == null
+            ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none; declare the converter\'s bits and range in archive.yaml to check the steps it gave them)', not_assessed: ctx.bits != null && ctx.range == null ? 'floating-point samples keep no converter step: declare range with bits in archive.yaml' : 'floating-point samples keep no converter step' }
             : { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: the signal does not vary (see flatline)' });
           return { step_size: step, resolution_bits: null, quantisation_snr_db: null };
         }
@@ -70,7 +88,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
         const peakError = step / 2 / (Math.SQRT2 * std);
         ctx.flag({
           name: 'resolution', severity, value: snr, threshold,
-          evidence: { step_size: step, declared_step_size: declared, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
+          evidence: { step_size: step, declared_step_size: base, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
           message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
             + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than the declared ${ctx.bits} bits)` : '')
             + `, ${snr.toFixed(1)} dB above ideal quantisation noise`
@@ -83,3 +101,23 @@ export const resolution: StageDefinition<QualityThresholds> = {
     };
   },
 };
+
+/**
+ * Why a declared step is not used on floating-point samples: the note for run.json, the flag's message, and the short reason
+ * counted on the terminal. `tally.off` changes off the grid, or none that the storage's rounding let tell.
+ */
+export function offGridWhy(ctx: Pick<ChannelContext, 'bits' | 'range' | 'unit' | 'sampleRate'>, g: DeclaredGrid, tally: GridTally): { note: string; message: string; short: string } {
+  const declared = `bits: ${ctx.bits} and range [${ctx.range?.join(', ')}] ${ctx.unit} declare converter steps of ${Number(g.step.toPrecision(4))} ${ctx.unit}`;
+  if (tally.off === 0) {
+    return {
+      note: `${declared}, but the stored values are rounded by a quarter of a step or more (float32 holds 24 significant bits), so the samples cannot show those steps; resolution is not judged. Store the samples as float64, or in the converter's units (±1 of full scale), to have it judged`,
+      message: 'the stored values are rounded too coarsely to show the declared converter steps (see the recording\'s notes)',
+      short: 'floating-point samples rounded too coarsely to show the declared converter steps',
+    };
+  }
+  return {
+    note: `${declared}, but the samples do not lie on them: ${tally.off} of the ${tally.told} changes checked are no whole number of steps (the first, at ${(tally.firstOffAt / ctx.sampleRate).toFixed(3)} s, ${tally.firstOffBy.toFixed(2)} of a step off), as in filtered, resampled or rescaled data or values printed to too few digits; resolution is not judged with a step the data do not show. If the file holds the converter's own samples, check bits, range and scale in archive.yaml`,
+    message: 'the samples do not lie on the declared converter steps (see the recording\'s notes)',
+    short: 'floating-point samples off the declared converter steps (filtered, resampled or rescaled)',
+  };
+}

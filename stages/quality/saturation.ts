@@ -8,8 +8,9 @@ export const saturation: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'saturation_fraction', unit: '1', description: 'Fraction of samples at or beyond the instrument range (or on the extreme converter codes when no range is declared).' }],
   create(ctx, q) {
-    // Half a converter step of tolerance, for rounding in the scale.
-    const tol = ctx.stepSize != null ? ctx.stepSize / 2 : 0;
+    // Half a converter step of tolerance, for rounding in the scale (the declared step on floating-point samples).
+    const step = ctx.stepSize ?? ctx.declaredGrid?.step ?? null;
+    const tol = step != null ? step / 2 : 0;
     const limits = saturationLimits(ctx.range, ctx.fullScale);
     const [lo, hi] = limits ? [limits[0] + tol, limits[1] - tol] : [-Infinity, Infinity];
     // Samples at the limits are counted in the channel's fused pass.
