@@ -27,12 +27,12 @@ describe('checks not made for want of a declaration', () => {
     // rig-b's acc_x declares its range, so saturation is checked there.
     expect(lines).toEqual([
       '  NOT CHECKED saturation on 5 channels (groups rig-a, rig-b): declare range in archive.yaml',
-      '  NOT CHECKED resolution on 6 channels (groups rig-a, rig-b): floating-point samples keep no converter step',
+      '  NOT CHECKED resolution on 6 channels (groups rig-a, rig-b): floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them',
     ]);
     const q = readJson(join(out, 'quality.json'));
     expect(q.totals.not_assessed).toEqual({
       saturation: { channels: 5, groups: ['rig-a', 'rig-b'], why: ['declare range in archive.yaml'] },
-      resolution: { channels: 6, groups: ['rig-a', 'rig-b'], why: ['floating-point samples keep no converter step'] },
+      resolution: { channels: 6, groups: ['rig-a', 'rig-b'], why: ['floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them'] },
     });
     // The severities stay as they were: a check not made is ok by severity.
     expect(q.totals.flags.saturation.ok).toBe(6);
@@ -47,6 +47,6 @@ describe('checks not made for want of a declaration', () => {
     const out = join(tempDir(), 'out');
     const r = await quern('reduce', archive, '--out', out, '--jobs', '1');
     // Resolution stays not made on floating-point samples; saturation and offset (not meant for strain) are not named.
-    expect(r.stdout.split('\n').filter((l) => l.includes('NOT CHECKED'))).toEqual(['  NOT CHECKED resolution on 1 channel (group g): floating-point samples keep no converter step']);
+    expect(r.stdout.split('\n').filter((l) => l.includes('NOT CHECKED'))).toEqual(['  NOT CHECKED resolution on 1 channel (group g): floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them']);
   });
 });

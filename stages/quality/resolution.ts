@@ -77,7 +77,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
           // Without a step (floating-point samples keep none unless bits and range are declared; integer codes always give
           // one) the check cannot be made; a signal that never varies is the flatline flag's.
           ctx.flag(step == null && floatGrid == null
-            ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none; declare the converter\'s bits and range in archive.yaml to check the steps it gave them)', not_assessed: ctx.bits != null && ctx.range == null ? 'floating-point samples keep no converter step: declare range with bits in archive.yaml' : 'floating-point samples keep no converter step' }
+            ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none; declare the converter\'s bits and range in archive.yaml to check the steps it gave them)', not_assessed: ctx.bits != null && ctx.range == null ? 'floating-point samples keep no converter step: declare range with bits in archive.yaml' : 'floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them' }
             : { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: the signal does not vary (see flatline)' });
           return { step_size: step, resolution_bits: null, quantisation_snr_db: null };
         }
