@@ -13,7 +13,8 @@ export class UsageError extends Error {
   override name = 'UsageError';
 }
 
-export interface Problem { file: string; line: number; path: string; message: string }
+/** `at`: the key path as keys and list indices, so that a problem can be told to lie inside one group. */
+export interface Problem { file: string; line: number; path: string; message: string; at: (string | number)[] }
 
 export const formatProblems = (problems: Problem[]) => problems.map((p) => `${p.file}:${p.line}: ${p.path || '(top)'}: ${p.message}`).join('\n');
 
@@ -38,7 +39,7 @@ export class YamlSource {
   }
 
   problem(path: (string | number)[], message: string, key = false): Problem {
-    return { file: this.file, line: this.lineOf(path, key), path: keyPath(path), message };
+    return { file: this.file, line: this.lineOf(path, key), path: keyPath(path), message, at: path };
   }
 }
 
@@ -81,16 +82,31 @@ const VALIDATORS: Record<string, Validator> = { 'archive.schema.json': archive, 
 
 /** Parses and validates; throws UsageError listing every problem. */
 export async function loadYaml(file: string, schemaName: string, displayName = file): Promise<{ value: unknown; source: YamlSource }> {
-  let text: string;
+  return parseYaml(await yamlText(file, displayName), schemaName, displayName);
+}
+
+/** A declaration file's text; one that cannot be read is unusable input. */
+export async function yamlText(file: string, displayName = file): Promise<string> {
   try {
-    text = await readFile(file, 'utf8');
+    return await readFile(file, 'utf8');
   } catch (e) {
     throw new UsageError(`${displayName}: cannot be read (${(e as NodeJS.ErrnoException).code ?? e}); check the path`);
   }
-  return parseYaml(text, schemaName, displayName);
 }
 
 export async function parseYaml(text: string, schemaName: string, displayName: string): Promise<{ value: unknown; source: YamlSource }> {
+  const { value, source, infinite, invalid } = await parseYamlProblems(text, schemaName, displayName);
+  // Numbers that are not finite first: the schema takes them for numbers, so they are all that is wrong there.
+  if (infinite.length) throw new UsageError(formatProblems(infinite));
+  if (invalid.length) throw new UsageError(formatProblems(invalid));
+  return { value, source };
+}
+
+/**
+ * Parses and validates, throwing UsageError on a YAML syntax error only: the numbers that are not finite and the schema's
+ * problems are returned, each with its key path, for a caller that can set aside the part of the document they lie in.
+ */
+export async function parseYamlProblems(text: string, schemaName: string, displayName: string): Promise<{ value: unknown; source: YamlSource; infinite: Problem[]; invalid: Problem[] }> {
   const lines = new LineCounter();
   const doc = parseDocument(text, { lineCounter: lines, prettyErrors: false });
   if (doc.errors.length) {
@@ -103,21 +119,18 @@ export async function parseYaml(text: string, schemaName: string, displayName: s
   if (unresolved.length) throw new UsageError(unresolved.join('\n'));
   const value = doc.toJS() ?? {};
   const source = new YamlSource(displayName, doc, lines);
-  const infinite = nonFinitePaths(value);
-  if (infinite.length) throw new UsageError(formatProblems(infinite.map((p) => source.problem(p, 'must be a finite number (.inf, .nan and values beyond 1.8e308 are not); write the value itself'))));
+  const infinite = nonFinitePaths(value).map((p) => source.problem(p, 'must be a finite number (.inf, .nan and values beyond 1.8e308 are not); write the value itself'));
   const validate = VALIDATORS[schemaName];
   if (!validate) throw new Error(`quern: no validator for ${schemaName}; add it to scripts/build-validators.ts`);
-  if (!validate(value)) {
-    // oneOf/anyOf repeat their branches' errors; the branch errors are the useful ones.
-    const errors = (validate.errors ?? []).filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'anyOf');
-    // The schema itself is read only to answer an unknown key with the keys allowed in its place.
-    const schema = errors.some((e) => e.keyword === 'additionalProperties') ? await readSchema(schemaName).catch(() => null) : null;
-    const seen = new Set<string>();
-    const problems = errors.map((e) => describeAjv(e, schema)).map((d) => source.problem(d.path, d.message, d.key)).filter((p) => {
-      const k = `${p.line}|${p.path}|${p.message}`;
-      return seen.has(k) ? false : (seen.add(k), true);
-    });
-    throw new UsageError(formatProblems(problems));
-  }
-  return { value, source };
+  if (validate(value)) return { value, source, infinite, invalid: [] };
+  // oneOf/anyOf repeat their branches' errors; the branch errors are the useful ones.
+  const errors = (validate.errors ?? []).filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'anyOf');
+  // The schema itself is read only to answer an unknown key with the keys allowed in its place.
+  const schema = errors.some((e) => e.keyword === 'additionalProperties') ? await readSchema(schemaName).catch(() => null) : null;
+  const seen = new Set<string>();
+  const invalid = errors.map((e) => describeAjv(e, schema)).map((d) => source.problem(d.path, d.message, d.key)).filter((p) => {
+    const k = `${p.line}|${p.path}|${p.message}`;
+    return seen.has(k) ? false : (seen.add(k), true);
+  });
+  return { value, source, infinite, invalid };
 }
