@@ -42,6 +42,11 @@ export interface GroupDeclaration {
   duration_s: number | null;
   /** How often the group's rig captures (a span such as 1d), when declared: a --since run names it quiet after that long without one. */
   capture_every: string | null;
+  /**
+   * The problems that make the group unusable (each as file:line: key: what to do), when it holds any: it still claims the
+   * files its pattern matches, and each of them fails with these problems until archive.yaml is mended.
+   */
+  broken?: string[];
 }
 
 export interface ArchiveDeclaration {
