@@ -2,7 +2,7 @@
 // declarations read and checked, and the output folder's lock taken; a failure on the way closes what was opened.
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
-import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
+import { loadSpec, readArchiveDeclaration } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
@@ -41,7 +41,8 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
   if (firstRun) await pool.prestart(1);
   try {
     const spec = await loadSpec(root, o.spec);
-    const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
+    // A group holding a problem is kept as broken (its recordings fail with it); a problem outside the groups stops the run here.
+    const declaration = await readArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
     const trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command: lockCommand(root, outDir, o) }, { staleAfterMs: o.staleLockAfterMs });

@@ -9,6 +9,7 @@ import { openRun } from './open-run.js';
 import { declarationsNow, groupKeys } from './plan/cache.js';
 import { toolVersion } from './declare/package-files.js';
 import { unfedGroupNote, unfedGroups } from './select/group-coverage.js';
+import { brokenGroupsOf } from './outputs/broken-groups.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
 import type { Progress } from './outputs/progress.js';
 import type { QualitySummary } from './outputs/quality.js';
@@ -127,7 +128,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const present = left.size ? new Map([...inArchive].filter(([r]) => !left.has(r))) : inArchive;
     // Trends need every shard's results: a shard leaves them (and spectra.parquet) to quern merge.
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
-    const declarations = declarationsNow(scanned.recordings, groupNames, planOf);
+    // A broken group's stored history is left as it was: it has no declaration now to hold it against, nor one to recompute it under.
+    const usable = scanned.recordings.filter((r) => !declaration.groups[r.group].broken);
+    const declarations = declarationsNow(usable, groupNames, planOf);
     const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
     // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another
     // version, other options, another declaration), so the baselines form again today, and then the stale nights a held verdict of
@@ -135,7 +138,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     let basis: TrendsBasis | undefined, renewed: Renewed | undefined;
     if (!shard && trends && o.since != null && o.until == null) {
       const { renewForPeriod } = await import('./trends/renew-for-period.js');
-      ({ basis, renewed } = await renewForPeriod(outDir, spec.spec, trendsInput, trends, scanned.recordings, (files) => decide(files, planOf, s, deciding), reducer.reduce));
+      ({ basis, renewed } = await renewForPeriod(outDir, spec.spec, trendsInput, trends, usable, (files) => decide(files, planOf, s, deciding), reducer.reduce));
     }
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
@@ -148,11 +151,13 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const writeS = clock(t);
 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
+    const brokenNames = new Set(declaration.groups.filter((g) => g.broken).map((g) => g.name));
     const outcome = (r: string) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; };
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, groupNames[d.group], d, active)), settling,
-      declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u))], groupsWithoutRecordings: unfed.map((u) => u.group),
+      declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u, undefined, brokenNames))], groupsWithoutRecordings: unfed.map((u) => u.group),
+      brokenGroups: brokenGroupsOf(declaration, decisions),
       // A shard's present recordings outside its period: merge's trends read their stored history too.
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(declaration.groups.map((g) => [g.name, g.labels])),

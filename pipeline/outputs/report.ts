@@ -9,6 +9,7 @@ import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
+import { brokenGroupLine, type BrokenGroup } from './broken-groups.js';
 import type { Settling } from '../plan/settle.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
@@ -52,6 +53,11 @@ export interface RunRecord {
    */
   declaration_notes?: string[];
   groups_without_recordings?: string[];
+  /**
+   * Groups of archive.yaml holding a problem (absent from parts written before this was kept): each claims its files, which
+   * fail with its problems until it is mended, while the other groups are reduced.
+   */
+  broken_groups?: BrokenGroup[];
   /** Recordings modified within --settle before the scan (captures that may still be written): left to the next run. */
   settling: Settling[];
   /**
@@ -85,7 +91,7 @@ export function runLine(f: EntryFacts, group: string, d: Pick<Decision, 'compute
 
 export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
-  lines: RunLine[]; settling: Settling[]; declarationNotes: string[]; groupsWithoutRecordings: string[]; unselected?: RunRecord['unselected']; timings: { scan_s: number; reduce_s: number; write_s: number };
+  lines: RunLine[]; settling: Settling[]; declarationNotes: string[]; groupsWithoutRecordings: string[]; brokenGroups: BrokenGroup[]; unselected?: RunRecord['unselected']; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
   period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
   /** Temporary files a stopped run left, removed before this run began. */
@@ -106,7 +112,7 @@ export function runRecord(f: RunFacts): RunRecord {
     recordings: f.lines,
     shard: f.shard, period: f.period, label_columns: f.labels, labels_by_group: f.labelsByGroup,
     unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
-    declaration_notes: f.declarationNotes, groups_without_recordings: f.groupsWithoutRecordings,
+    declaration_notes: f.declarationNotes, groups_without_recordings: f.groupsWithoutRecordings, broken_groups: f.brokenGroups,
     settling: f.settling,
     ...(f.unselected ? { unselected: f.unselected } : {}),
     store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
@@ -123,10 +129,10 @@ const mapValues = <T extends Record<string, number>>(o: T, fn: (v: number) => nu
 export async function writeRunRecord(out: string, name: string, r: RunRecord): Promise<void> {
   const file = new StagedFile(join(out, name));
   try {
-    const { recordings, shard, period, label_columns, labels_by_group, unmatched, declaration_notes, groups_without_recordings, settling, unselected, store, outputs, lock, timings, ...before } = r;
+    const { recordings, shard, period, label_columns, labels_by_group, unmatched, declaration_notes, groups_without_recordings, broken_groups, settling, unselected, store, outputs, lock, timings, ...before } = r;
     await file.write(jsonPieces.head(before, 'recordings'));
     for (const [i, line] of recordings.entries()) await file.write(jsonPieces.item(JSON.stringify(line, null, 2), i));
-    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, declaration_notes, groups_without_recordings, settling, ...(unselected ? { unselected } : {}), store, outputs, lock, timings }));
+    await file.write(jsonPieces.tail(recordings.length, { shard, period, label_columns, labels_by_group, unmatched, declaration_notes, groups_without_recordings, ...(broken_groups ? { broken_groups } : {}), settling, ...(unselected ? { unselected } : {}), store, outputs, lock, timings }));
     await file.close();
     await commitAll([file]);
   } finally {
@@ -177,6 +183,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   const noted = r.recordings.filter((x) => x.messages.length);
   if (noted.length) lines.push(`  notes   ${noted.reduce((s, x) => s + x.messages.length, 0)} notes on ${noted.length} recording${noted.length === 1 ? '' : 's'}: ${commonNotes(noted.flatMap((x) => x.messages))}; see run.json`);
   for (const u of r.unmatched) lines.push(`  UNMATCHED  ${u.path}: ${u.reason}`);
+  for (const b of r.broken_groups ?? []) lines.push(`  DECLARED ${brokenGroupLine(b)}`);
   for (const n of r.declaration_notes ?? []) lines.push(`  DECLARED ${n}`);
   if (r.period?.late_arrivals) lines.push(...lateArrivalLines(r.period.late_arrivals));
   if (r.period?.recomputed_for_baselines) lines.push(...recomputedLines(r.period.recomputed_for_baselines));
