@@ -1,0 +1,132 @@
+// A group of archive.yaml holding a problem costs only its own recordings: the run reduces the other groups, fails the
+// group's recordings with the problem's file, line and key, and reduces them once the group is mended. What the run is
+// held against here is the README's "Declaring an archive" and a run of the same archive with the broken group left out.
+import { cpSync, existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { parquetReadObjects } from 'hyparquet';
+import { compressors } from 'hyparquet-compressors';
+import { describe, expect, it } from 'vitest';
+import { quern, readJson, repo, tempDir } from './helpers.js';
+
+// Two recordings of the sample archive, each in a group of its own: a raw strain file and a short WAV.
+const STRAIN = (rateKey: string) => [
+  '  - name: frame-strain', //                                        line 2
+  '    match: "strain/*.bin"', //                                     3
+  '    format: raw', //                                               4
+  `    ${rateKey}: 500`, //                                           5
+  '    layout: { sample_type: int16, byte_order: big, channels: 2, header_bytes: 32 }',
+  '    labels: { bay: 3 }',
+  '    channels:',
+  '      - { name: strain_a, quantity: strain, unit: µm/m, scale: 2000, range: [-2000, 2000], bits: 16 }',
+  '      - { name: strain_b, quantity: strain, unit: µm/m, scale: 2000, range: [-2000, 2000], bits: 16 }',
+];
+const QUICK_LOOK = [
+  '  - name: quick-look',
+  '    match: "quicklook/*.wav"',
+  '    sample_rate: 2000',
+  '    channels:',
+  '      - { name: acc_de, quantity: acceleration, unit: m/s^2, scale: 500, range: [-500, 500], bits: 16, max_frequency_hz: 1000 }',
+];
+const yamlOf = (...groups: string[][]) => ['groups:', ...groups.flat(), ''].join('\n');
+
+function archiveWith(yaml: string): string {
+  const dir = join(tempDir(), 'arc');
+  mkdirSync(dir);
+  for (const folder of ['strain', 'quicklook']) cpSync(join(repo, 'sample-archive', folder), join(dir, folder), { recursive: true });
+  writeFileSync(join(dir, 'archive.yaml'), yaml);
+  return dir;
+}
+
+async function rowsOf(path: string): Promise<Record<string, unknown>[]> {
+  const bytes = readFileSync(path);
+  return parquetReadObjects({ file: bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength) as ArrayBuffer, compressors });
+}
+
+describe('a group of archive.yaml holding a problem', () => {
+  it('fails its own recordings with file, line and key, reduces the others as a run without it would, and reduces them once mended', async () => {
+    // The key misspelt on line 5 of the frame-strain group.
+    const archive = archiveWith(yamlOf(STRAIN('sampel_rate'), QUICK_LOOK)), out = join(archive, '..', 'out');
+    const r = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    const line = (name: string) => run.recordings.find((x: any) => x.recording === name);
+    expect(line('quicklook/2026-11-18_quicklook.wav').status).toBe('reduced');
+    const strain = line('strain/2026-11-17_frame-strain.bin');
+    expect(strain.status).toBe('failed');
+    expect(strain.reason).toMatch(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate"; did you mean sample_rate\?/);
+    expect(strain.reason).toMatch(/mend it in archive\.yaml, and the next run reduces this recording/);
+    expect(run.broken_groups).toEqual([{ group: 'frame-strain', line: 2, problems: [expect.stringMatching(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key/)], recordings: 1 }]);
+    // The group named once, the recording failed on its line, and the report holds the failure too.
+    expect(r.stdout.match(/DECLARED group frame-strain \(archive\.yaml line 2\) is broken: .*archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate".*; its 1 recording in this run fails until it is mended/g)).toHaveLength(1);
+    expect(r.stdout).toMatch(/FAILED  strain\/2026-11-17_frame-strain\.bin: the declaration of group frame-strain is broken: .*archive\.yaml:5: groups\[0\]\.sampel_rate/);
+    const quality = readJson(join(out, 'quality.json'));
+    expect(quality.recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'failed', reason: strain.reason });
+
+    // The same archive with the broken group left out: the other group's tables come out the same, row for row.
+    const without = archiveWith(yamlOf(QUICK_LOOK)), outWithout = join(without, '..', 'out');
+    expect(quern('reduce', without, '--out', outWithout, '--jobs', '1').code).toBe(0);
+    for (const table of ['features.parquet', 'windows.parquet']) {
+      const [a, b] = [await rowsOf(join(out, table)), await rowsOf(join(outWithout, table))];
+      expect(a.length).toBeGreaterThan(0);
+      expect(a).toEqual(b);
+    }
+
+    // Unmended, the next run keeps the failure without reading the file again.
+    const again = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(again.code).toBe(1);
+    expect(readJson(join(out, 'run.json')).recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'failed', reason: strain.reason, recomputed: [] });
+
+    // Mended, the next run reduces the group's recording and reuses the other group's result whole.
+    writeFileSync(join(archive, 'archive.yaml'), yamlOf(STRAIN('sample_rate'), QUICK_LOOK));
+    const mended = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(mended.code, mended.stdout + mended.stderr).toBe(0);
+    const after = readJson(join(out, 'run.json'));
+    expect(after.broken_groups).toEqual([]);
+    expect(after.recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'reduced', why: 'declaration changed' });
+    expect(after.recordings.find((x: any) => x.recording === 'quicklook/2026-11-18_quicklook.wav')).toMatchObject({ status: 'reduced', why: 'unchanged', recomputed: [] });
+    expect(mended.stdout).not.toMatch(/is broken/);
+  });
+
+  it('claims the files its pattern matches, so a later group never reduces them under its own declaration', () => {
+    // A reversed range in the first group; a later group would take any raw file.
+    const reversed = STRAIN('sample_rate').map((l) => l.replace('{ name: strain_a, quantity: strain, unit: µm/m, scale: 2000, range: [-2000, 2000]', '{ name: strain_a, quantity: strain, unit: µm/m, scale: 2000, range: [2000, -2000]'));
+    const anyRaw = ['  - name: any-raw', '    match: "**/*.bin"', '    format: raw', '    sample_rate: 500', '    layout: { sample_type: int16, byte_order: big, channels: 2, header_bytes: 32 }'];
+    const archive = archiveWith(yamlOf(reversed, QUICK_LOOK, anyRaw)), out = join(archive, '..', 'out');
+    const r = quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(r.code, r.stdout + r.stderr).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.recordings.map((x: any) => [x.recording, x.group, x.status])).toEqual([
+      ['quicklook/2026-11-18_quicklook.wav', 'quick-look', 'reduced'],
+      ['strain/2026-11-17_frame-strain.bin', 'frame-strain', 'failed'],
+    ]);
+    expect(run.recordings[1].reason).toMatch(/archive\.yaml:9: groups\[0\]\.channels\[0\]\.range: range must be \[lower, upper\] with lower < upper, got \[2000, -2000\]/);
+    expect(run.unmatched).toEqual([]);
+    expect(run.groups_without_recordings).toEqual(['any-raw']);
+    expect(r.stdout).toMatch(/group any-raw \(archive\.yaml line 16\) matches no recording of its own: its file is taken by group frame-strain, listed before it, and fails with that declaration's problems until it is mended/);
+  });
+
+  it('still stops the run, writing nothing, on a YAML syntax error, a problem outside the groups, two groups of one name, a pattern that cannot be read, or every group broken', () => {
+    const cases: [string, RegExp][] = [
+      [yamlOf(STRAIN('sample_rate'), QUICK_LOOK).replace('    match: "quicklook/*.wav"', '   match: "quicklook/*.wav"'), /archive\.yaml:\d+: YAML syntax/],
+      [`descripton: rig P3\n${yamlOf(STRAIN('sample_rate'), QUICK_LOOK)}`, /archive\.yaml:1: descripton: unknown key "descripton"; did you mean description\?/],
+      [yamlOf(STRAIN('sample_rate'), QUICK_LOOK.map((l) => l.replace('quick-look', 'frame-strain'))), /archive\.yaml:11: groups\[1\]\.name: group name "frame-strain" is used twice/],
+      [yamlOf(STRAIN('sampel_rate').map((l) => l.replace('match: "strain/*.bin"', 'match: 5')), QUICK_LOOK), /group frame-strain's match pattern cannot be read, so the files it is meant for could fall to another group; a run stops until archive\.yaml line 2 is mended/],
+      [yamlOf(STRAIN('sampel_rate')), /no group of archive\.yaml can be used, so a run would reduce nothing/],
+    ];
+    for (const [yaml, said] of cases) {
+      const archive = archiveWith(yaml), out = join(archive, '..', 'out');
+      const r = quern('reduce', archive, '--out', out, '--jobs', '1');
+      expect(r.code, r.stdout + r.stderr).toBe(2);
+      expect(r.stderr).toMatch(said);
+      expect(existsSync(join(out, 'run.json'))).toBe(false);
+    }
+  });
+
+  it('quern check still lists every problem, in every group, and exits 2', () => {
+    const twoBroken = yamlOf(STRAIN('sampel_rate'), QUICK_LOOK.map((l) => l.replace('range: [-500, 500]', 'range: [500, -500]')));
+    const r = quern('check', archiveWith(twoBroken));
+    expect(r.code, r.stdout + r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate"/);
+    expect(r.stderr).toMatch(/archive\.yaml:15: groups\[1\]\.channels\[0\]\.range: range must be \[lower, upper\] with lower < upper, got \[500, -500\]/);
+  });
+});
