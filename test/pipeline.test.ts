@@ -171,13 +171,17 @@ describe('bad input never sinks the run', () => {
     expect(r.stdout).toMatch(/quicklook\/2026-11-18_quicklook\.wav: header: the file says 2000 Hz but group "quick-look" declares 2048 Hz/);
   });
 
-  it('an invalid declaration is unusable input: exit 2, file and line named, nothing written', () => {
+  it('an invalid key in one group fails that group\'s recordings, file and line named, and the other groups are reduced: exit 1', () => {
     const archive = sampleArchiveCopy();
     writeFileSync(join(archive, 'archive.yaml'), readFileSync(join(archive, 'archive.yaml'), 'utf8').replace('sample_rate: 12800', 'sample_rate: fast'));
     const r = quern('reduce', archive);
-    expect(r.code).toBe(2);
-    expect(r.stderr).toMatch(/archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
-    expect(existsSync(`${archive}.reduced`)).toBe(false);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/DECLARED group nightly \(archive\.yaml line 4\) is broken: .*archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
+    const run = readJson(join(`${archive}.reduced`, 'run.json'));
+    const nightly = run.recordings.filter((x: any) => x.group === 'nightly');
+    expect(nightly.length).toBeGreaterThan(0);
+    for (const x of nightly) expect(x.reason).toMatch(/archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
+    expect(run.recordings.filter((x: any) => x.group !== 'nightly' && x.status === 'reduced').length).toBeGreaterThan(0);
   });
 
   it('a missing archive is unusable input: exit 2', () => {
