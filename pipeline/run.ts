@@ -91,11 +91,15 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const share = shard ? scanned.recordings.filter((r) => shardOf(r.recording, shard.n) === shard.k) : scanned.recordings;
     const period = await choosePeriod(share, declaration.groups, s, o.since, o.until);
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
-    if (firstRun) void pool.prestart(period.toDecide.length);
+    // A broken group's recordings are set aside whole: neither reduced nor stored, so their stored results wait for it to be mended.
+    const setAside = period.toDecide.filter((r) => declaration.groups[r.group].broken);
+    const toDecide = setAside.length ? period.toDecide.filter((r) => !declaration.groups[r.group].broken) : period.toDecide;
+    const broken = brokenGroupsOf(declaration, setAside);
+    if (firstRun) void pool.prestart(toDecide.length);
     // How recordings are decided: the period's and late arrivals (--force applies to them), and later any baseline recording recomputed.
     const deciding = { version: toolVersion, keys: groupKeys(spec.spec, toolVersion), specHash: spec.hash, hash: o.hash, retryFailed: o.retryFailed };
     const planOf = (r: ScannedRecording) => planJob(r, declaration.groups, spec.spec);
-    const decided = await decide(period.toDecide, planOf, s, { ...deciding, force: o.force });
+    const decided = await decide(toDecide, planOf, s, { ...deciding, force: o.force });
     // Captures that may still be written wait for the next run.
     const { taken, settling } = leaveSettling(decided.decisions, declaration.groups.map((g) => g.name), o.settleMs);
     const { decisions, lateTaken, late } = splitTaken(period, taken, stored);
@@ -143,7 +147,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
     const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { ...trendsInput, basis }));
-    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : period.quiet, pool, changes });
+    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : period.quiet, broken, pool, changes });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
     // Entries of recordings gone from the archive are dropped when the pack is rewritten (a shard's pack holds its share alone).
@@ -157,7 +161,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, groupNames[d.group], d, active)), settling,
       declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u, undefined, brokenNames))], groupsWithoutRecordings: unfed.map((u) => u.group),
-      brokenGroups: brokenGroupsOf(declaration, decisions),
+      brokenGroups: broken,
       // A shard's present recordings outside its period: merge's trends read their stored history too.
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(declaration.groups.map((g) => [g.name, g.labels])),
@@ -165,7 +169,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
-    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, left)));
+    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)])));
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };
   } finally {
     await pool.destroy();

@@ -1,5 +1,5 @@
-// A group of archive.yaml holding a problem costs only its own recordings: the run reduces the other groups, fails the
-// group's recordings with the problem's file, line and key, and reduces them once the group is mended. What the run is
+// A group of archive.yaml holding a problem costs only its own recordings: the run reduces the other groups, sets the
+// group's recordings aside (their stored results kept), names the problem's file, line and key, and uses them once mended. What the run is
 // held against here is the README's "Declaring an archive" and a run of the same archive with the broken group left out.
 import { cpSync, existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -43,24 +43,22 @@ async function rowsOf(path: string): Promise<Record<string, unknown>[]> {
 }
 
 describe('a group of archive.yaml holding a problem', () => {
-  it('fails its own recordings with file, line and key, reduces the others as a run without it would, and reduces them once mended', async () => {
+  it('sets its own recordings aside, keeping their stored results, names its problem with file, line and key, reduces the others as a run without it would, and reuses the results once mended', async () => {
+    const archive = archiveWith(yamlOf(STRAIN('sample_rate'), QUICK_LOOK)), out = join(archive, '..', 'out');
+    const strain = 'strain/2026-11-17_frame-strain.bin', quick = 'quicklook/2026-11-18_quicklook.wav';
+    expect(quern('reduce', archive, '--out', out, '--jobs', '1').code).toBe(0);
+
     // The key misspelt on line 5 of the frame-strain group.
-    const archive = archiveWith(yamlOf(STRAIN('sampel_rate'), QUICK_LOOK)), out = join(archive, '..', 'out');
+    writeFileSync(join(archive, 'archive.yaml'), yamlOf(STRAIN('sampel_rate'), QUICK_LOOK));
     const r = quern('reduce', archive, '--out', out, '--jobs', '1');
     expect(r.code, r.stdout + r.stderr).toBe(1);
     const run = readJson(join(out, 'run.json'));
-    const line = (name: string) => run.recordings.find((x: any) => x.recording === name);
-    expect(line('quicklook/2026-11-18_quicklook.wav').status).toBe('reduced');
-    const strain = line('strain/2026-11-17_frame-strain.bin');
-    expect(strain.status).toBe('failed');
-    expect(strain.reason).toMatch(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate"; did you mean sample_rate\?/);
-    expect(strain.reason).toMatch(/mend it in archive\.yaml, and the next run reduces this recording/);
-    expect(run.broken_groups).toEqual([{ group: 'frame-strain', line: 2, problems: [expect.stringMatching(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key/)], recordings: 1 }]);
-    // The group named once, the recording failed on its line, and the report holds the failure too.
-    expect(r.stdout.match(/DECLARED group frame-strain \(archive\.yaml line 2\) is broken: .*archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate".*; its 1 recording in this run fails until it is mended/g)).toHaveLength(1);
-    expect(r.stdout).toMatch(/FAILED  strain\/2026-11-17_frame-strain\.bin: the declaration of group frame-strain is broken: .*archive\.yaml:5: groups\[0\]\.sampel_rate/);
-    const quality = readJson(join(out, 'quality.json'));
-    expect(quality.recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'failed', reason: strain.reason });
+    expect(run.recordings.map((x: any) => [x.recording, x.status])).toEqual([[quick, 'reduced']]);
+    expect(run.broken_groups).toEqual([{ group: 'frame-strain', line: 2, problems: [expect.stringMatching(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate"; did you mean sample_rate\?/)], recordings: 1 }]);
+    // The group named once, on the terminal and in the report.
+    expect(r.stdout.match(/DECLARED group frame-strain \(archive\.yaml line 2\) is broken: .*archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate".*; its 1 recording in this run is set aside \(not reduced, stored results kept\) until it is mended, and then reduced/g)).toHaveLength(1);
+    expect(readJson(join(out, 'quality.json')).broken_groups).toEqual(run.broken_groups);
+    expect(readFileSync(join(out, 'quality.html'), 'utf8')).toMatch(/<h2>Groups whose declaration is broken<\/h2><ul><li>group frame-strain \(archive\.yaml line 2\) is broken: /);
 
     // The same archive with the broken group left out: the other group's tables come out the same, row for row.
     const without = archiveWith(yamlOf(QUICK_LOOK)), outWithout = join(without, '..', 'out');
@@ -71,19 +69,19 @@ describe('a group of archive.yaml holding a problem', () => {
       expect(a).toEqual(b);
     }
 
-    // Unmended, the next run keeps the failure without reading the file again.
+    // Unmended, the next run sets it aside again, reading nothing.
     const again = quern('reduce', archive, '--out', out, '--jobs', '1');
     expect(again.code).toBe(1);
-    expect(readJson(join(out, 'run.json')).recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'failed', reason: strain.reason, recomputed: [] });
+    expect(readJson(join(out, 'run.json')).broken_groups[0].recordings).toBe(1);
 
-    // Mended, the next run reduces the group's recording and reuses the other group's result whole.
+    // Mended, the next run uses the stored result the broken runs kept: nothing is computed again.
     writeFileSync(join(archive, 'archive.yaml'), yamlOf(STRAIN('sample_rate'), QUICK_LOOK));
     const mended = quern('reduce', archive, '--out', out, '--jobs', '1');
     expect(mended.code, mended.stdout + mended.stderr).toBe(0);
     const after = readJson(join(out, 'run.json'));
     expect(after.broken_groups).toEqual([]);
-    expect(after.recordings.find((x: any) => x.recording === strain.recording)).toMatchObject({ status: 'reduced', why: 'declaration changed' });
-    expect(after.recordings.find((x: any) => x.recording === 'quicklook/2026-11-18_quicklook.wav')).toMatchObject({ status: 'reduced', why: 'unchanged', recomputed: [] });
+    expect(after.recordings.find((x: any) => x.recording === strain)).toMatchObject({ status: 'reduced', why: 'unchanged', recomputed: [] });
+    expect(after.recordings.find((x: any) => x.recording === quick)).toMatchObject({ status: 'reduced', why: 'unchanged', recomputed: [] });
     expect(mended.stdout).not.toMatch(/is broken/);
   });
 
@@ -95,14 +93,11 @@ describe('a group of archive.yaml holding a problem', () => {
     const r = quern('reduce', archive, '--out', out, '--jobs', '1');
     expect(r.code, r.stdout + r.stderr).toBe(1);
     const run = readJson(join(out, 'run.json'));
-    expect(run.recordings.map((x: any) => [x.recording, x.group, x.status])).toEqual([
-      ['quicklook/2026-11-18_quicklook.wav', 'quick-look', 'reduced'],
-      ['strain/2026-11-17_frame-strain.bin', 'frame-strain', 'failed'],
-    ]);
-    expect(run.recordings[1].reason).toMatch(/archive\.yaml:9: groups\[0\]\.channels\[0\]\.range: range must be \[lower, upper\] with lower < upper, got \[2000, -2000\]/);
+    expect(run.recordings.map((x: any) => [x.recording, x.group, x.status])).toEqual([['quicklook/2026-11-18_quicklook.wav', 'quick-look', 'reduced']]);
+    expect(run.broken_groups).toEqual([{ group: 'frame-strain', line: 2, problems: [expect.stringMatching(/archive\.yaml:9: groups\[0\]\.channels\[0\]\.range: range must be \[lower, upper\] with lower < upper, got \[2000, -2000\]/)], recordings: 1 }]);
     expect(run.unmatched).toEqual([]);
     expect(run.groups_without_recordings).toEqual(['any-raw']);
-    expect(r.stdout).toMatch(/group any-raw \(archive\.yaml line 16\) matches no recording of its own: its file is taken by group frame-strain, listed before it, and fails with that declaration's problems until it is mended/);
+    expect(r.stdout).toMatch(/group any-raw \(archive\.yaml line 16\) matches no recording of its own: its file is taken by group frame-strain, listed before it, and set aside with that broken declaration until it is mended/);
   });
 
   it('still stops the run, writing nothing, on a YAML syntax error, a problem outside the groups, two groups of one name, a pattern that cannot be read, or every group broken', () => {

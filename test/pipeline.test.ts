@@ -171,16 +171,16 @@ describe('bad input never sinks the run', () => {
     expect(r.stdout).toMatch(/quicklook\/2026-11-18_quicklook\.wav: header: the file says 2000 Hz but group "quick-look" declares 2048 Hz/);
   });
 
-  it('an invalid key in one group fails that group\'s recordings, file and line named, and the other groups are reduced: exit 1', () => {
+  it('an invalid key in one group sets that group\'s recordings aside, file and line named, and the other groups are reduced: exit 1', () => {
     const archive = sampleArchiveCopy();
     writeFileSync(join(archive, 'archive.yaml'), readFileSync(join(archive, 'archive.yaml'), 'utf8').replace('sample_rate: 12800', 'sample_rate: fast'));
     const r = quern('reduce', archive);
     expect(r.code).toBe(1);
     expect(r.stdout).toMatch(/DECLARED group nightly \(archive\.yaml line 4\) is broken: .*archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
     const run = readJson(join(`${archive}.reduced`, 'run.json'));
-    const nightly = run.recordings.filter((x: any) => x.group === 'nightly');
-    expect(nightly.length).toBeGreaterThan(0);
-    for (const x of nightly) expect(x.reason).toMatch(/archive\.yaml:6: groups\[0\]\.sample_rate: must be number/);
+    expect(run.recordings.filter((x: any) => x.group === 'nightly')).toEqual([]);
+    expect(run.broken_groups).toEqual([{ group: 'nightly', line: 4, problems: [expect.stringMatching(/archive\.yaml:6: groups\[0\]\.sample_rate: must be number/)], recordings: expect.any(Number) }]);
+    expect(run.broken_groups[0].recordings).toBeGreaterThan(0);
     expect(run.recordings.filter((x: any) => x.group !== 'nightly' && x.status === 'reduced').length).toBeGreaterThan(0);
   });
 

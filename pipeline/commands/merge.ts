@@ -60,12 +60,13 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const metadata = { 'quern.version': toolVersion, 'quern.run_id': runId, 'quern.spec_hash': first.spec.hash, 'quern.spec': JSON.stringify(spec), 'quern.archive': first.archive };
     const unmatched = first.unmatched.map((u) => u.path);
     const reduced = items.filter((it) => it.loc.facts.status === 'reduced').map((it) => it.recording);
-    // A broken group's failures hold no declaration its stored history could be held against.
-    const broken = new Set((first.broken_groups ?? []).map((b) => b.group));
+    // A broken group's recordings were set aside by every shard (each counting its share); its stored history is left as it was.
+    const brokenGroups = (first.broken_groups ?? []).map((b) => ({ ...b, recordings: parts.reduce((n, p) => n + (p.broken_groups?.find((x) => x.group === b.group)?.recordings ?? 0), 0) }));
+    const broken = new Set(brokenGroups.map((b) => b.group));
     // Worked out on this thread while the workers assemble the slices.
     const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, present: presentOverall(parts, store), metadata, since: first.period?.since ?? null, declarations: declarationsOfRun(items.filter((it) => !broken.has(it.group))) });
     const quiet = quietOverall(parts, listed);
-    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, pool, changes });
+    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, broken: brokenGroups, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
     const record = runRecord({
@@ -74,7 +75,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       // Every shard scans the whole archive: the first part's say for all.
       declarationNotes: first.declaration_notes ?? [], groupsWithoutRecordings: first.groups_without_recordings ?? [],
-      brokenGroups: (first.broken_groups ?? []).map((b) => ({ ...b, recordings: listed.filter((r) => r.group === b.group).length })),
+      brokenGroups,
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,

@@ -1,5 +1,6 @@
 // Whether the outputs in place already say what this run would write: a digest of everything the tables and reports are
 // made from (each entry's results checksum, the spec, labels, version, unmatched files), kept beside the outputs.
+import type { BrokenGroup } from './broken-groups.js';
 import type { QuietGroup } from '../select/select.js';
 import { createHash } from 'node:crypto';
 import { readFile, rm, stat } from 'node:fs/promises';
@@ -17,6 +18,8 @@ export interface DigestInput {
   unmatched: string[];
   /** The groups quiet over a --since period (the report names them). */
   quiet?: QuietGroup[];
+  /** The broken groups of archive.yaml (the report names them). */
+  broken?: BrokenGroup[];
   /** Made one at a time (a generator), so that no second list the size of the run is held. */
   items: Iterable<{ recording: string; group: string; bodySha: string; labels: Record<string, string> }>;
 }
@@ -25,8 +28,8 @@ export interface DigestInput {
 export function outputsDigest(d: DigestInput): string {
   const h = createHash('sha256');
   const { 'quern.run_id': _runId, ...metadata } = d.metadata;
-  // Quiet groups enter only when there are some, so that other runs' digests stay as they were.
-  h.update(canonicalJson({ version: d.version, spec: d.spec, labels: d.labels, tables: d.tables, metadata, unmatched: d.unmatched, ...(d.quiet?.length ? { quiet: d.quiet } : {}) }));
+  // Quiet and broken groups enter only when there are some, so that other runs' digests stay as they were.
+  h.update(canonicalJson({ version: d.version, spec: d.spec, labels: d.labels, tables: d.tables, metadata, unmatched: d.unmatched, ...(d.quiet?.length ? { quiet: d.quiet } : {}), ...(d.broken?.length ? { broken: d.broken } : {}) }));
   for (const it of d.items) h.update(`\n${it.recording}\u0000${it.group}\u0000${it.bodySha}\u0000${canonicalJson(it.labels)}`);
   return h.digest('hex');
 }

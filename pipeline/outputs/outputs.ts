@@ -3,6 +3,7 @@
 // are put together from spooled pieces, and nothing the size of the run is held in memory. Outputs whose digest says
 // they would come out the same are left as they are.
 import type { QuietGroup } from '../select/select.js';
+import type { BrokenGroup } from './broken-groups.js';
 import { createReadStream } from 'node:fs';
 import { mkdir, open, rm } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
@@ -53,6 +54,8 @@ export interface OutputsInput {
   spec: ReductionSpec; labels: string[]; metadata: Record<string, string>; version: string; runId: string; archive: string; unmatched: string[];
   /** The groups quiet over a --since period, which quality.json and quality.html name (none for a shard's part). */
   quiet?: QuietGroup[];
+  /** The broken groups of archive.yaml, whose recordings the run set aside, which quality.json and quality.html name. */
+  broken?: BrokenGroup[];
   pool: Pool;
   /**
    * What changed against the baselines (trends on, whole runs and merges): leads quality.json and quality.html. May still
@@ -109,7 +112,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const spectra = names.spectra && Boolean(o.spec.spectrum);
   const tables = outputTables(o.spec, o.labels, spectra);
   const digestPath = join(outDir, names.digest);
-  const basis = outputsDigest({ version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched, quiet: o.quiet, items: digestItems(o.items) });
+  const basis = outputsDigest({ version: o.version, spec: o.spec, labels: o.labels, tables, metadata: o.metadata, unmatched: o.unmatched, quiet: o.quiet, ...(o.broken?.length ? { broken: o.broken } : {}), items: digestItems(o.items) });
   const made = Promise.resolve(o.changes ?? null);
   made.catch(() => {}); // awaited below; a failure must not also surface as unhandled
   let changes: TrendsWrite | null = null;
@@ -191,7 +194,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     await spools.quality.close({ durable: false });
     await qualityJson.write(jsonPieces.head({ tool: 'quern', version: o.version, run_id: o.runId, generated, archive: o.archive, totals }, 'recordings'));
     await copyInto(qualityJson, spools.quality.tmp);
-    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.quiet?.length ? { quiet_groups: o.quiet } : {}), ...(outcome ? { changes: outcome.report } : {}) }));
+    await qualityJson.write(jsonPieces.tail(counted.recordings, { unmatched: o.unmatched, ...(o.broken?.length ? { broken_groups: o.broken } : {}), ...(o.quiet?.length ? { quiet_groups: o.quiet } : {}), ...(outcome ? { changes: outcome.report } : {}) }));
     await qualityJson.close();
 
     if (qualityHtml) {
@@ -222,7 +225,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       let notes = 0;
       for await (const line of lines(spools.notes)) await qualityHtml.write(`${notes++ ? '' : notesHead() + '\n'}${JSON.parse(line)}\n`);
       if (notes) await qualityHtml.write(notesEnd() + '\n');
-      await qualityHtml.write(pageEnd(o.unmatched, o.quiet));
+      await qualityHtml.write(pageEnd(o.unmatched, o.quiet, o.broken));
       await qualityHtml.close();
     }
     // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.

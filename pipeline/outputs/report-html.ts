@@ -2,6 +2,7 @@
 // Made in pieces as the run's recordings arrive (pipeline/outputs/outputs.ts puts them together); the charts arrive as SVG,
 // drawn where the channel was reduced (pipeline/outputs/charts.ts).
 import { lastCapture, quietWhy, type QuietGroup } from '../select/select.js';
+import { brokenGroupLine, type BrokenGroup } from './broken-groups.js';
 import { COLOURS } from './colours.js';
 import { flagValue } from './flag-value.js';
 import { NEEDS_A_LOOK, SEVERITIES, type Flag, type Severity } from '../../stages/quality/flag.js';
@@ -99,6 +100,7 @@ export const notesHead = () => `<h2>Notes</h2><p class="note">Findings worth kno
 export const noteLine = (recording: string, channel: string, f: Flag) => `<tr><td>${esc(recording)}</td><td>${esc(channel)}</td><td>${esc(f.name)}</td><td>${esc(f.message)}</td></tr>`;
 export const notesEnd = () => '</table>';
 
-export const pageEnd = (unmatched: string[], quiet: QuietGroup[] = []) =>
-  `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${quietWhy({ ...g, capture_every: g.capture_every && esc(g.capture_every) }, 'this run\'s period')}; ${esc(lastCapture(g))}</li>`).join('')}</ul>\n` : ''}`
+export const pageEnd = (unmatched: string[], quiet: QuietGroup[] = [], broken: BrokenGroup[] = []) =>
+  `${broken.length ? `<h2>Groups whose declaration is broken</h2><ul>${broken.map((b) => `<li>${esc(brokenGroupLine(b))}</li>`).join('')}</ul>\n` : ''}`
+  + `${quiet.length ? `<h2>Groups that fell quiet</h2><ul>${quiet.map((g) => `<li>${esc(g.group)}: ${quietWhy({ ...g, capture_every: g.capture_every && esc(g.capture_every) }, 'this run\'s period')}; ${esc(lastCapture(g))}</li>`).join('')}</ul>\n` : ''}`
   + `${unmatched.length ? `<h2>Files no group matches</h2><ul>${unmatched.map((u) => `<li>${esc(u)}: add a group for it in archive.yaml, or move it out of the archive</li>`).join('')}</ul>\n` : ''}</main></body></html>\n`;

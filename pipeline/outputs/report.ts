@@ -165,7 +165,7 @@ export function commonNotes(messages: string[], shown = NOTE_KINDS_SHOWN): strin
 const MAX_SETTLING_LINES = 10;
 
 /** Recordings this run reduced that failed: the period's, late arrivals reduced for the trends' history, and recordings recomputed for the baselines. */
-export const failedOf = (r: RunRecord): number => r.counts.failed + (r.period?.late_arrivals?.failed ?? 0) + (r.period?.recomputed_for_baselines?.failed ?? 0) + (r.period?.recomputed_for_held_changes?.failed ?? 0);
+export const failedOf = (r: RunRecord): number => r.counts.failed + (r.broken_groups ?? []).reduce((n, b) => n + b.recordings, 0) + (r.period?.late_arrivals?.failed ?? 0) + (r.period?.recomputed_for_baselines?.failed ?? 0) + (r.period?.recomputed_for_held_changes?.failed ?? 0);
 
 /** The quiet groups a run's record tells: a shard sees only its share of the archive, so merge tells them for the whole of it. */
 export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.period?.quiet_groups ?? []);

@@ -21,13 +21,13 @@ export function unfedGroups(groups: readonly GroupDeclaration[], recordings: rea
   return out;
 }
 
-/** The group's line as a check or a run says it; `broken`: the names of broken groups, whose files fail rather than being reduced. */
+/** The group's line as a check or a run says it; `broken`: the names of broken groups, whose files are set aside rather than reduced. */
 export function unfedGroupNote(u: UnfedGroup, file = 'archive.yaml', broken: ReadonlySet<string> = new Set()): string {
   const where = u.line != null ? ` (${file} line ${u.line})` : '';
   if (!u.takenBy.length) return `group ${u.group}${where} matches no recording; check its match pattern against the archive's folders and names (letter case counts), or remove the group if its rig is retired`;
   const count = u.takenBy.reduce((s, t) => s + t.files, 0);
   const files = `its ${count === 1 ? 'file is' : `${count} files are`}`;
   const taken = u.takenBy.length === 1 ? `${files} taken by group ${u.takenBy[0].group}, listed before it` : `${files} taken by groups listed before it (${u.takenBy.map((t) => `${t.files} by ${t.group}`).join(', ')})`;
-  const fate = u.takenBy.every((t) => broken.has(t.group)) ? `and ${count === 1 ? 'fails' : 'fail'} with that declaration's problems until it is mended` : 'and reduced under that declaration';
+  const fate = u.takenBy.every((t) => broken.has(t.group)) ? `and set aside with that broken declaration until it is mended` : 'and reduced under that declaration';
   return `group ${u.group}${where} matches no recording of its own: ${taken}, ${fate} (a file belongs to the first group that matches); list group ${u.group} first, or narrow the earlier group's match`;
 }
