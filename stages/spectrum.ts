@@ -10,16 +10,17 @@ export interface SpectrumProduct extends Stage { psd(): Psd | null }
 /**
  * The channel's one Welch accumulator for these options, made on first request. It reads the chunk's missing samples
  * from the channel's fused pass (asked for first, so the pass walks each chunk before it): a clean chunk goes straight in.
+ * `noteShort` false: a stage that says itself what a short recording leaves out of its figures gets no note of its own.
  */
-export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduct {
+export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = true): SpectrumProduct {
   const missing = missingOf(ctx);
-  return ctx.shared(`welch:${o.segment}:${o.overlap}:${o.window}`, () => {
+  return ctx.shared(`welch:${o.segment}:${o.overlap}:${o.window}${noteShort ? '' : ':own-note'}`, () => {
     const welch = new Welch(ctx.sampleRate, o);
     let cached: Psd | null | undefined;
     const psd = () => {
       if (cached !== undefined) return cached;
       cached = welch.result();
-      const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps);
+      const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps, noteShort);
       if (note) ctx.note(note);
       return cached;
     };
@@ -28,7 +29,7 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduc
 }
 
 /** What the spectrum was taken from, when it is other than whole segments of a gap-free recording. */
-function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean): string {
+function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean, noteShort: boolean): string {
   const padded = (p: Psd) => `zero-padded to ${o.segment} points (bins every ${(p.df).toPrecision(4)} Hz, resolution ${(fs / p.length).toPrecision(4)} Hz)`;
   if (gaps) {
     if (!psd) return `${name}: no stretch of ${FEWEST_SAMPLES} samples free of missing samples; spectral figures left empty (null)`;
@@ -36,7 +37,7 @@ function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null
     return `${name}: spectrum from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`;
   }
   if (!psd) return `${name}: fewer than ${FEWEST_SAMPLES} samples; spectral figures left empty (null)`;
-  if (psd.length < o.segment) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, ${padded(psd)}`;
+  if (psd.length < o.segment && noteShort) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, ${padded(psd)}`;
   return '';
 }
 
