@@ -1,6 +1,7 @@
 // Fractional-octave band RMS from the Welch spectrum, with the base-10 mid-band frequencies and edges of IEC 61260-1:2014.
 import { keepsTone, LONGEST_SEGMENT, segmentKeeping } from './dsp/leakage.js';
-import { bandMeanSquare, type Psd, type WelchOptions } from './dsp/welch.js';
+import { READ_FRACTION } from './dsp/decimate.js';
+import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { LEVEL_UNIT, levelDb, pascalsPer } from './sound-pressure.js';
 import { spectrumOf } from './spectrum.js';
@@ -55,9 +56,28 @@ function bandsBelow(sets: OctaveOptions['sets'], fs: number) {
  * narrowest sets it), or null when the segment resolves every band below Nyquist.
  */
 export function ownSegment(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): number | null {
-  let room = Infinity;
-  for (const band of bandsBelow(sets, fs)) if (!keepsTone(band.room, fs / spectrum.segment, spectrum.window)) room = Math.min(room, band.room);
-  return room === Infinity ? null : Math.min(segmentKeeping(room, fs, spectrum.window), LONGEST_SEGMENT);
+  const low = lowBands(sets, spectrum, fs);
+  return low.length ? Math.min(segmentKeeping(Math.min(...low.map((b) => b.room)), fs, spectrum.window), LONGEST_SEGMENT) : null;
+}
+
+/** The bands below Nyquist the spectrum's segment cannot resolve. */
+const lowBands = (sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number) =>
+  bandsBelow(sets, fs).filter((band) => !keepsTone(band.room, fs / spectrum.segment, spectrum.window));
+
+/**
+ * The finer spectrum the octave stage asks for: periodograms spanning `ownSegment` samples of the recording, taken at
+ * fs/D from every D-th sample of the low-passed channel (`decimatedSpectrum` in spectrum.ts) with a segment of
+ * ownSegment/D. D is the largest power of two up to ownSegment/segment that keeps the highest band it serves below
+ * fs/(6D), where the decimator is flat and free of aliases (stages/dsp/decimate.ts); D = 1 is a Welch spectrum at fs.
+ * Null when the segment resolves every band.
+ */
+export function lowBandSpectrum(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): { segment: number; decimation: number } | null {
+  const n = ownSegment(sets, spectrum, fs);
+  if (n === null || n <= spectrum.segment) return null;
+  const top = Math.max(...lowBands(sets, spectrum, fs).map((b) => b.upper));
+  let d = n / spectrum.segment;
+  while (d > 1 && top > (READ_FRACTION * fs) / d) d /= 2;
+  return { segment: n / d, decimation: d };
 }
 
 /** The band names of a note: "one-third-octave 25, 31.5 Hz; octave 31.5 Hz". */
@@ -82,8 +102,8 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
     // Bands the shared segment cannot resolve take a finer spectrum of their own (shared with any stage asking the same).
-    const segment = ownSegment(o.sets, o.spectrum, ctx.sampleRate);
-    const fine = segment !== null && segment > o.spectrum.segment ? spectrumOf(ctx, { ...o.spectrum, segment }, false) : null;
+    const low = lowBandSpectrum(o.sets, o.spectrum, ctx.sampleRate);
+    const fine = low ? spectrumOf(ctx, { ...o.spectrum, segment: low.segment }, false, low.decimation) : null;
     // Levels only for sound pressure: dB re 20 µPa means nothing for a hydraulic pressure.
     const pa = ctx.quantity === 'sound_pressure' ? pascalsPer(ctx.unit) : undefined;
     return {
@@ -91,8 +111,10 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
       finish() {
         const fs = ctx.sampleRate, win = o.spectrum.window;
         const psd = s.psd(), finer = fine?.psd() ?? null;
-        // The first spectrum that resolves the band: a tone in its middle half keeps its power (stages/dsp/leakage.ts).
-        const resolving = (room: number): Psd | null => [psd, finer].find((p) => p && keepsTone(room, fs / p.length, win)) ?? null;
+        // The first spectrum that resolves the band, a tone in its middle half keeping its power (stages/dsp/leakage.ts),
+        // and that may be read up to its upper edge.
+        const resolving = (room: number, upper: number): Psd | null =>
+          [psd, finer].find((p) => p && keepsTone(room, resolutionOf(p), win) && upper <= (p.upTo ?? Infinity)) ?? null;
         const out: Record<string, number | null> = {};
         const above: number[] = [];
         const unresolved: { fraction: 1 | 3; nominal: number; room: number }[] = [];
@@ -101,7 +123,7 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
             const inside = band.upper <= fs / 2;
             if (psd && !inside) above.push(band.nominal);
             const room = bandRoom(band.mid, set.fraction);
-            const from = psd && inside ? resolving(room) : null;
+            const from = psd && inside ? resolving(room, band.upper) : null;
             if (psd && inside && !from) unresolved.push({ fraction: set.fraction, nominal: band.nominal, room });
             const ms = from ? bandMeanSquare(from, band.lower, band.upper) : null;
             out[col(set.fraction, band.nominal)] = ms == null ? null : Math.sqrt(ms);
@@ -109,7 +131,8 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
           }
         }
         if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${Math.min(...above)} Hz and up) reach above the Nyquist frequency ${fs / 2} Hz; left empty (null)`);
-        if (unresolved.length) ctx.note(unresolvedNote(ctx.name, unresolved, Math.max(psd!.length, finer?.length ?? 0), fs, win));
+        // The finest resolution reached, as the recording's samples one periodogram spans.
+        if (unresolved.length) ctx.note(unresolvedNote(ctx.name, unresolved, Math.round(fs / Math.min(...[psd!, finer].filter((p) => p).map((p) => resolutionOf(p!)))), fs, win));
         return out;
       },
     };

@@ -141,10 +141,11 @@ describe('bands no spectrum of the recording resolves', () => {
     expect(result.messages.join('\n')).not.toMatch(/65536-sample spectrum segment/);
   });
 
-  it('a declared segment that resolves every band is taken alone: the same low bands as the spectrum the stage would take itself', async () => {
+  it('a declared segment that resolves every band is taken alone: the same low bands, within 0.001 dB, as the decimated spectrum the stage would take itself', async () => {
     const x = sine(4 * FS, FS, 31.5, Math.SQRT2);
     const own = await reduce(x, FS, defaultSpec, mic);
     const declared = await reduce(x, FS, { ...defaultSpec, spectrum: { ...defaultSpec.spectrum, segment: 65536 } }, mic);
-    for (const c of ['oct3_25_rms', 'oct3_31p5_rms', 'oct3_40_rms', 'oct1_31p5_rms']) expect(declared.row[c], c).toBe(own.row[c]);
+    // The same periodogram spans (65,536 samples at 48 kHz, 4096 at 3 kHz); the leakage bands sit 40 to 80 dB down.
+    for (const c of ['oct3_25_rms', 'oct3_31p5_rms', 'oct3_40_rms', 'oct1_31p5_rms']) expect(Math.abs(db(declared.row[c] ** 2 / own.row[c] ** 2)), c).toBeLessThan(0.001);
   });
 });
