@@ -1,5 +1,7 @@
 // Fractional-octave band RMS from the Welch spectrum, with the base-10 mid-band frequencies and edges of IEC 61260-1:2014.
-import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
+import { keepsTone, LONGEST_SEGMENT, segmentKeeping } from './dsp/leakage.js';
+import { READ_FRACTION } from './dsp/decimate.js';
+import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { LEVEL_UNIT, levelDb, pascalsPer } from './sound-pressure.js';
 import { spectrumOf } from './spectrum.js';
@@ -38,6 +40,52 @@ export function bandsOf(fraction: 1 | 3, from: number, to: number) {
 
 const col = (b: number, nominal: number, what: 'rms' | 'db' = 'rms') => `oct${b}_${hzName(nominal)}_${what}`;
 
+/**
+ * Room between a band's lower edge and the lower end of its middle half, fm·G^(−1/(4b)): a tone anywhere in the middle half
+ * (on a log scale) lies at least this far from either edge (the upper side has more). The criterion of the bands' resolution.
+ */
+export const bandRoom = (mid: number, b: number): number => mid * (G ** (-1 / (4 * b)) - G ** (-1 / (2 * b)));
+
+/** The sets' bands below the Nyquist frequency, each with its fraction and room. */
+function bandsBelow(sets: OctaveOptions['sets'], fs: number) {
+  return sets.flatMap((set) => bandsOf(set.fraction, set.from, set.to).filter((band) => band.upper <= fs / 2).map((band) => ({ ...band, fraction: set.fraction, room: bandRoom(band.mid, set.fraction) })));
+}
+
+/**
+ * The periodogram length the octave stage takes of its own for the bands the spectrum's segment cannot resolve (the
+ * narrowest sets it), or null when the segment resolves every band below Nyquist.
+ */
+export function ownSegment(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): number | null {
+  const low = lowBands(sets, spectrum, fs);
+  return low.length ? Math.min(segmentKeeping(Math.min(...low.map((b) => b.room)), fs, spectrum.window), LONGEST_SEGMENT) : null;
+}
+
+/** The bands below Nyquist the spectrum's segment cannot resolve. */
+const lowBands = (sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number) =>
+  bandsBelow(sets, fs).filter((band) => !keepsTone(band.room, fs / spectrum.segment, spectrum.window));
+
+/**
+ * The finer spectrum the octave stage asks for: periodograms spanning `ownSegment` samples of the recording, taken at
+ * fs/D from every D-th sample of the low-passed channel (`decimatedSpectrum` in spectrum.ts) with a segment of
+ * ownSegment/D. D is the largest power of two up to ownSegment/segment that keeps the highest band it serves below
+ * fs/(6D), where the decimator is flat and free of aliases (stages/dsp/decimate.ts); D = 1 is a Welch spectrum at fs.
+ * Null when the segment resolves every band.
+ */
+export function lowBandSpectrum(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): { segment: number; decimation: number } | null {
+  const n = ownSegment(sets, spectrum, fs);
+  if (n === null || n <= spectrum.segment) return null;
+  const top = Math.max(...lowBands(sets, spectrum, fs).map((b) => b.upper));
+  let d = n / spectrum.segment;
+  while (d > 1 && top > (READ_FRACTION * fs) / d) d /= 2;
+  return { segment: n / d, decimation: d };
+}
+
+/** The band names of a note: "one-third-octave 25, 31.5 Hz; octave 31.5 Hz". */
+function bandList(bands: { fraction: 1 | 3; nominal: number }[]): string {
+  return ([3, 1] as const).map((b) => [b, bands.filter((band) => band.fraction === b).map((band) => band.nominal)] as const)
+    .filter(([, nominal]) => nominal.length).map(([b, nominal]) => `${b === 1 ? 'octave' : 'one-third-octave'} ${nominal.join(', ')} Hz`).join('; ');
+}
+
 export const octaveBands: StageDefinition<OctaveOptions> = {
   group: 'octave_bands',
   columns: (o) => o.sets.flatMap((set): ColumnSpec[] => {
@@ -46,33 +94,54 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
     return [
       ...bands.map((band) => ({
         name: col(set.fraction, band.nominal), unit: '[unit]',
-        description: `RMS in the ${kind} band ${band.nominal} Hz (exact edges ${band.lower.toFixed(2)}–${band.upper.toFixed(2)} Hz, IEC 61260-1 base 10), from the Welch PSD with ideal band edges.`,
+        description: `RMS in the ${kind} band ${band.nominal} Hz (exact edges ${band.lower.toFixed(2)}–${band.upper.toFixed(2)} Hz, IEC 61260-1 base 10), from the Welch PSD with ideal band edges (a finer one of its own where the spectrum's segment cannot resolve the band; null where the recording is too short for any).`,
       })),
       ...(set.levels_db ? bands.map((band) => ({ name: col(set.fraction, band.nominal, 'db'), unit: LEVEL_UNIT, description: `Sound pressure level in the ${kind} band ${band.nominal} Hz, from its RMS; sound-pressure channels in Pa (or mPa, µPa, hPa, kPa) only, null for others.` })) : []),
     ];
   }),
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
+    // Bands the shared segment cannot resolve take a finer spectrum of their own (shared with any stage asking the same).
+    const low = lowBandSpectrum(o.sets, o.spectrum, ctx.sampleRate);
+    const fine = low ? spectrumOf(ctx, { ...o.spectrum, segment: low.segment }, false, low.decimation) : null;
     // Levels only for sound pressure: dB re 20 µPa means nothing for a hydraulic pressure.
     const pa = ctx.quantity === 'sound_pressure' ? pascalsPer(ctx.unit) : undefined;
     return {
       push() {},
       finish() {
-        const psd = s.psd();
+        const fs = ctx.sampleRate, win = o.spectrum.window;
+        const psd = s.psd(), finer = fine?.psd() ?? null;
+        // The first spectrum that resolves the band, a tone in its middle half keeping its power (stages/dsp/leakage.ts),
+        // and that may be read up to its upper edge.
+        const resolving = (room: number, upper: number): Psd | null =>
+          [psd, finer].find((p) => p && keepsTone(room, resolutionOf(p), win) && upper <= (p.upTo ?? Infinity)) ?? null;
         const out: Record<string, number | null> = {};
         const above: number[] = [];
+        const unresolved: { fraction: 1 | 3; nominal: number; room: number }[] = [];
         for (const set of o.sets) {
           for (const band of bandsOf(set.fraction, set.from, set.to)) {
-            const ok = psd && band.upper <= ctx.sampleRate / 2;
-            if (psd && !ok) above.push(band.nominal);
-            const ms = ok ? bandMeanSquare(psd!, band.lower, band.upper) : null;
+            const inside = band.upper <= fs / 2;
+            if (psd && !inside) above.push(band.nominal);
+            const room = bandRoom(band.mid, set.fraction);
+            const from = psd && inside ? resolving(room, band.upper) : null;
+            if (psd && inside && !from) unresolved.push({ fraction: set.fraction, nominal: band.nominal, room });
+            const ms = from ? bandMeanSquare(from, band.lower, band.upper) : null;
             out[col(set.fraction, band.nominal)] = ms == null ? null : Math.sqrt(ms);
             if (set.levels_db) out[col(set.fraction, band.nominal, 'db')] = ms == null || pa === undefined ? null : levelDb(ms * pa * pa);
           }
         }
-        if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${Math.min(...above)} Hz and up) reach above the Nyquist frequency ${ctx.sampleRate / 2} Hz; left empty (null)`);
+        if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${Math.min(...above)} Hz and up) reach above the Nyquist frequency ${fs / 2} Hz; left empty (null)`);
+        // The finest resolution reached, as the recording's samples one periodogram spans.
+        if (unresolved.length) ctx.note(unresolvedNote(ctx.name, unresolved, Math.round(fs / Math.min(...[psd!, finer].filter((p) => p).map((p) => resolutionOf(p!)))), fs, win));
         return out;
       },
     };
   },
 };
+
+/** Which bands the spectrum could not resolve, what it spanned, and the periodogram that would resolve them. */
+function unresolvedNote(name: string, bands: { fraction: 1 | 3; nominal: number; room: number }[], spanned: number, fs: number, win: WelchOptions['window']): string {
+  const needed = segmentKeeping(Math.min(...bands.map((b) => b.room)), fs, win);
+  const what = needed > LONGEST_SEGMENT ? `a periodogram longer than the longest segment quern takes (${LONGEST_SEGMENT} samples)` : `gap-free periodograms of ${needed} samples (${Number((needed / fs).toPrecision(3))} s of recording)`;
+  return `${name}: ${bands.length} fractional-octave bands (${bandList(bands)}) are too narrow for the spectrum's resolution (periodograms of ${spanned} samples, ${(fs / spanned).toPrecision(3)} Hz): a tone in them would leak past their edges; left empty (null); they need ${what}`;
+}

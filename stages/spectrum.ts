@@ -1,7 +1,9 @@
 // The Welch spectrum of a channel, shared by the spectral stages, and the descriptors read from it: dominant frequency, centroid.
+import type { Section } from './dsp/butterworth.js';
+import { Decimator, decimatorPower, READ_FRACTION } from './dsp/decimate.js';
 import { FEWEST_SAMPLES, Welch, type Psd, type WelchOptions } from './dsp/welch.js';
-import { missingOf } from './fused/missing.js';
-import type { ChannelContext, Stage, StageDefinition } from './stage.js';
+import { missingOf, type Missing } from './fused/missing.js';
+import { scratchOf, type ChannelContext, type Stage, type StageDefinition } from './stage.js';
 
 export const DEFAULT_SPECTRUM: WelchOptions = { segment: 4096, overlap: 0.5, window: 'hann' };
 
@@ -10,16 +12,21 @@ export interface SpectrumProduct extends Stage { psd(): Psd | null }
 /**
  * The channel's one Welch accumulator for these options, made on first request. It reads the chunk's missing samples
  * from the channel's fused pass (asked for first, so the pass walks each chunk before it): a clean chunk goes straight in.
+ * `noteShort` false: a stage that says itself what a short recording leaves out of its figures gets no note of its own.
+ * `decimation` D above 1: the spectrum of the low-passed channel's every D-th sample (`decimatedSpectrum`), for bands
+ * that need a fine resolution at low frequencies.
  */
-export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduct {
+export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = true, decimation = 1): SpectrumProduct {
   const missing = missingOf(ctx);
-  return ctx.shared(`welch:${o.segment}:${o.overlap}:${o.window}`, () => {
+  const key = `welch:${o.segment}:${o.overlap}:${o.window}${decimation > 1 ? `:every${decimation}` : ''}${noteShort ? '' : ':own-note'}`;
+  if (decimation > 1) return ctx.shared(key, () => decimatedSpectrum(ctx, o, decimation, missing, noteShort));
+  return ctx.shared(key, () => {
     const welch = new Welch(ctx.sampleRate, o);
     let cached: Psd | null | undefined;
     const psd = () => {
       if (cached !== undefined) return cached;
       cached = welch.result();
-      const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps);
+      const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps, noteShort);
       if (note) ctx.note(note);
       return cached;
     };
@@ -27,16 +34,54 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions): SpectrumProduc
   });
 }
 
+/**
+ * Welch's spectrum at fs/D of the channel low-passed and cut to every D-th sample (`Decimator`): a segment of 4096 there
+ * resolves as finely as one of 4096·D at fs, for a fraction of the transforms. Read up to fs/(6D) (`upTo`); its density is
+ * divided by the decimator's |H(f)|² up to fs/(4D), so the filters' droop is taken out where it is read. Missing samples
+ * break its stream as they break the shared spectrum's (the settling after a gap as well).
+ */
+function decimatedSpectrum(ctx: ChannelContext, o: WelchOptions, factor: number, missing: Missing, noteShort: boolean): SpectrumProduct {
+  const decimator = new Decimator(ctx.sampleRate, factor, scratchOf(ctx)), rate = decimator.rate;
+  const welch = new Welch(rate, o);
+  let out: Float64Array | null = null;
+  let cached: Psd | null | undefined;
+  const psd = () => {
+    if (cached !== undefined) return cached;
+    const p = welch.result();
+    cached = p && { ...p, density: withoutDroop(p, ctx.sampleRate, factor, decimator.last), upTo: READ_FRACTION * rate, ...(p.covered !== undefined ? { covered: p.covered * factor } : {}) };
+    const note = spectrumNote(ctx.name, o, rate, cached, welch.brokenByGaps, noteShort, `spectrum of every ${factor}th sample (low-passed, ${Number(rate.toPrecision(6))} Hz)`);
+    if (note) ctx.note(note);
+    return cached;
+  };
+  return {
+    push(x) {
+      const need = decimator.outputsAtMost(x.length);
+      if (!out || out.length < need) out = scratchOf(ctx)(Math.max(need, 2 * (out?.length ?? 0)));
+      const { length, missing: nan } = decimator.push(x, out, missing.inChunk);
+      if (length > 0) welch.push(out.subarray(0, length), nan);
+    },
+    finish: () => ({}),
+    psd,
+  };
+}
+
+// The density divided by the decimator's |H(f)|² (stages/dsp/decimate.ts) up to a quarter of its rate, where it is read.
+function withoutDroop(p: Psd, fs: number, factor: number, last: Section[]): Float64Array {
+  const density = p.density.slice(), top = Math.min(density.length - 1, Math.floor(fs / factor / 4 / p.df));
+  for (let k = 0; k <= top; k++) density[k] /= decimatorPower(k * p.df, fs, factor, last);
+  return density;
+}
+
 /** What the spectrum was taken from, when it is other than whole segments of a gap-free recording. */
-function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean): string {
+function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean, noteShort: boolean, what = 'spectrum'): string {
   const padded = (p: Psd) => `zero-padded to ${o.segment} points (bins every ${(p.df).toPrecision(4)} Hz, resolution ${(fs / p.length).toPrecision(4)} Hz)`;
   if (gaps) {
     if (!psd) return `${name}: no stretch of ${FEWEST_SAMPLES} samples free of missing samples; spectral figures left empty (null)`;
-    if (psd.from !== undefined) return `${name}: no stretch of ${o.segment} samples free of missing samples; spectrum from the longest gap-free stretch, ${psd.length} samples from ${seconds(psd.from / fs)} to ${seconds((psd.from + psd.length) / fs)}, as one periodogram ${padded(psd)}`;
-    return `${name}: spectrum from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`;
+    if (psd.from !== undefined) return `${name}: no stretch of ${o.segment} samples free of missing samples; ${what} from the longest gap-free stretch, ${psd.length} samples from ${seconds(psd.from / fs)} to ${seconds((psd.from + psd.length) / fs)}, as one periodogram ${padded(psd)}`;
+    return `${name}: ${what} from the ${psd.segments} segments of ${o.segment} samples free of missing samples (missing samples break the stream; no segment holds one)`;
   }
   if (!psd) return `${name}: fewer than ${FEWEST_SAMPLES} samples; spectral figures left empty (null)`;
-  if (psd.length < o.segment) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, ${padded(psd)}`;
+  if (psd.length < o.segment && noteShort) return `${name}: shorter (${psd.length} samples) than one ${o.segment}-sample spectrum segment: one periodogram of the whole recording, ${padded(psd)}`;
   return '';
 }
 

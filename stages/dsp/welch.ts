@@ -17,7 +17,12 @@ export interface Psd {
   from?: number;
   /** Samples of the recording the periodograms' windows span together (overlaps counted once). */
   covered?: number;
+  /** Highest frequency the density may be read to, when below the Nyquist frequency (a decimated stream's spectrum). */
+  upTo?: number;
 }
+
+/** Frequency resolution: the rate of the samples over those one periodogram spans (df·segment is that rate). */
+export const resolutionOf = (p: Psd): number => (p.df * p.segment) / p.length;
 
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
