@@ -13,6 +13,7 @@ import type { Settling } from '../plan/settle.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
+import { SECONDARY_TABLES } from './tables.js';
 import { recomputedLines, type RecomputedForBaselines } from '../trends/renew-baselines.js';
 import { carriedLines, type RecomputedForHolds } from '../trends/carry-holds.js';
 
@@ -192,6 +193,6 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
-  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
+  else lines.push(`  table:   ${r.out}/features.parquet (and ${[...Object.keys(SECONDARY_TABLES), ...(q.changes ? ['trends'] : []), ...((r.spec.value as { spectrum?: unknown }).spectrum ? ['spectra'] : [])].map((t) => `${t}.parquet`).join(', ')})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }
