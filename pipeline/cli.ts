@@ -55,6 +55,12 @@ function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, e
   return EXIT.changed;
 }
 
+/** An export that failed after a run wrote its outputs says that those are in place; exit code 2 all the same, since the export asked for is missing. */
+async function exportAfterRun(e: unknown): Promise<never> {
+  const { ExportFailed } = await exporting();
+  throw e instanceof ExportFailed ? e.afterRun() : e;
+}
+
 const EXPORT_FORMAT_OPTIONS = {
   bom: { type: 'boolean', default: false, describe: 'CSV: start with a UTF-8 byte-order mark' },
   'decimal-comma': { type: 'boolean', default: false, describe: 'CSV: semicolon-separated with decimal commas' },
@@ -62,7 +68,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, what it names happened (a feature changed or at an alarm limit, a group quiet).`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs or exports that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, what it names happened (a feature changed or at an alarm limit, a group quiet).`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -184,7 +190,7 @@ async function main(argv: string[]): Promise<number> {
         });
       }
       process.stdout.write(summaryText(record, quality) + '\n');
-      if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
+      if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
       code = exitCodeSaid(record, quality.changes, exitOn);
       // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
       if (threadsGivenUp) (await import('./reduce/end-despite-stuck-threads.js')).endDespiteStuckThreads(threadsGivenUp);
@@ -212,7 +218,7 @@ async function main(argv: string[]): Promise<number> {
       const exportTo = a.export ? parseFormats(a.export) : null;
       const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
       process.stdout.write(summaryText(record, quality) + '\n');
-      if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`  export:  ${f}\n`);
+      if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
       code = exitCodeSaid(record, quality.changes, exitOn);
     })
     .command('check <archive>', 'Validate archive.yaml, the spec and every recording header; list what would be reduced (computes nothing)', (y: Argv) => y

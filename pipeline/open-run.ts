@@ -5,6 +5,8 @@ import { join } from 'node:path';
 import { loadSpec, readArchiveDeclaration } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
 import { lockPath, takeLock } from './outputs/lock.js';
+import { markShardStart, shardStartPath } from './outputs/shard-start.js';
+import { writing } from './outputs/staged.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
 import { openPool } from './reduce/pool.js';
 import { watchStorage } from './reduce/storage-watch.js';
@@ -45,7 +47,10 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const declaration = await readArchiveDeclaration(root, reservedColumnNames(spec.spec), quantityUses(spec.spec));
     const trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
-    const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command: lockCommand(root, outDir, o) }, { staleAfterMs: o.staleLockAfterMs });
+    const command = lockCommand(root, outDir, o);
+    const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
+    // Merge tells a shard that stopped part-way by this start, newer than the part it left.
+    if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { await lock.release(); throw e; });
     return { storage, pool, firstRun, spec, declaration, trends, lock };
   } catch (e) {
     await pool.destroy();

@@ -148,6 +148,16 @@ describe('MAT-file reader against scipy.io', () => {
     await expect(readAll(join(dir, 'flipped.mat'), { mat })).rejects.toThrow(/cannot be inflated|damaged/);
   });
 
+  it('names the place of a damaged compressed variable once', async () => {
+    const dir = tempDir();
+    const flipped = Buffer.from(readFileSync(fixture('mat', 'rig-columns.mat')));
+    flipped[5000] ^= 0xff;
+    writeFileSync(join(dir, 'flipped.mat'), flipped);
+    const message = await readAll(join(dir, 'flipped.mat'), { mat: layout({ variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs' }) }).then(() => '', (e: Error) => e.message);
+    expect(message).toMatch(/^the variable at byte 128: its array tag: the compressed data \(\d+ bytes from byte 136\) cannot be inflated/);
+    expect(message.split('the variable at byte 128').length).toBe(2);
+  });
+
   it('reads a compressed variable of many columns through one temporary inflated copy, removed when the recording closes', async () => {
     // 300 channels × 2 samples of int8, compressed: a hand-made element as in the format's description.
     const el = (type: number, data: Buffer) => { const t = Buffer.alloc(8); t.writeUInt32LE(type, 0); t.writeUInt32LE(data.length, 4); return Buffer.concat([t, data, Buffer.alloc((8 - (data.length % 8)) % 8)]); };

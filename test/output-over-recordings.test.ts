@@ -1,9 +1,11 @@
 // Where the outputs go must never change what is read: an output folder placed over recordings would hide them from the
 // scan (which skips the output folder), so the run refuses it instead of reducing nothing and calling that a success.
 import { spawn } from 'node:child_process';
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { CSV_FILES, XLSX_FILE } from '../pipeline/exports/export.js';
+import { OWN_OUTPUT_NAMES } from '../pipeline/outputs/own-outputs.js';
 import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
 
 describe('an output folder inside the archive', () => {
@@ -23,6 +25,35 @@ describe('an output folder inside the archive', () => {
     const run = readJson(join(out, 'run.json'));
     expect(run.counts.scanned ?? run.recordings.length).toBe(11);
     expect(run.unmatched.map((u: any) => u.path)).toEqual(['nightly/2026-11-19/pump-endurance-retake.wav']); // planted in the sample archive
+  });
+
+  it('never takes its own exports for recordings, in the next run or in quern check, where a group matches every CSV', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, 'reduced');
+    const yaml = join(archive, 'archive.yaml');
+    writeFileSync(yaml, readFileSync(yaml, 'utf8').replace('match: "handheld/*.csv"', 'match: "**/*.csv"'));
+    const csvs = readdirSync(join(archive, 'handheld')).filter((f) => f.endsWith('.csv')).map((f) => `handheld/${f}`);
+    expect(quern('reduce', archive, '--out', out, '--quiet', '--export', 'csv').code).toBe(1);
+    expect(readdirSync(out).filter((f) => f.endsWith('.csv')).length).toBeGreaterThan(3);
+    const night2 = quern('reduce', archive, '--out', out, '--quiet', '--export', 'csv');
+    expect(night2.code, night2.stderr).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.recordings.map((r: any) => r.recording).filter((r: string) => r.endsWith('.csv'))).toEqual(csvs);
+    // quern check is not told the output folder: it knows one of quern's by its stored results beside its run record.
+    const checked = quern('check', archive);
+    expect(checked.stdout).not.toMatch(/reduced\//);
+    expect(checked.stdout).toMatch(new RegExp(`^ok +${csvs[0]}`, 'm'));
+    // A recording put into the output folder is still one, and still refused.
+    copyFileSync(join(archive, csvs[0]), join(out, 'spot-check.csv'));
+    const refused = quern('reduce', archive, '--out', out, '--quiet');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toMatch(/holds recordings of the archive \(reduced\/spot-check\.csv\)/);
+    expect(quern('check', archive).stdout).toMatch(/^ok +reduced\/spot-check\.csv/m);
+  });
+
+  it('knows every file a run, a merge or an export writes at the top of an output folder as its own', () => {
+    for (const f of [...Object.values(CSV_FILES), XLSX_FILE, 'features.parquet', 'windows.parquet', 'cycles.parquet', 'trends.parquet', 'spectra.parquet', 'quality.json', 'quality.html', 'run.json', 'outputs.json', 'run.lock', 'cache', 'parts']) {
+      expect(OWN_OUTPUT_NAMES.has(f), f).toBe(true);
+    }
   });
 });
 

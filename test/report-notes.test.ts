@@ -45,6 +45,13 @@ describe('the changes line when most watched features have no verdict', () => {
     expect(changesSummary(report(12, 0) as never)[0]).toBe('  changes: 0 channel features at an alarm limit, 0 changed, against the first 3 usable recordings of each group and channel by start time');
   });
 
+  it('says one feature at an alarm limit in the singular', async () => {
+    const { changesSummary } = await import('../pipeline/trends/summary.js');
+    const one = { ...report(12, 0), items: [{ verdict: 'alarm' }] };
+    expect(changesSummary(one as never, 0)[0]).toMatch(/^  changes: 1 channel feature at an alarm limit, 0 changed/);
+    expect(changesSummary({ ...one, items: [{ verdict: 'alarm' }, { verdict: 'alarm' }] } as never, 0)[0]).toMatch(/^  changes: 2 channel features at an alarm limit/);
+  });
+
   it('does not open the report with an all-clear in the calm colour when most features have none', async () => {
     const { changesHtml } = await import('../pipeline/outputs/report-changes.js');
     const most = await changesHtml(report(900, 2400) as never, []);

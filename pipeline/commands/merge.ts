@@ -16,6 +16,8 @@ import type { QualitySummary } from '../outputs/quality.js';
 import { openPool } from '../reduce/pool.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from '../outputs/report.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { arrivalsDuringShards } from './arrivals.js';
+import { currentCount, staleCountProblem, unfinishedShards } from './shard-parts.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
@@ -30,12 +32,16 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
   if (!names.length) throw new UsageError(`${partsDir}: no part files (run-K-of-N.json); run quern reduce with --shard K/N into ${outDir} first`);
   const running = await heldShardLocks(outDir);
   if (running.length) throw new UsageError(`${partsDir}: cannot merge while shards are still running: ${running.map(describeHolder).join('; ')}; merge once they have finished`);
-  const parts: RunRecord[] = await Promise.all(names.map(async (f) => JSON.parse(await readFile(join(partsDir, f), 'utf8'))));
-  const n = parts[0].shard!.n;
+  const all: RunRecord[] = await Promise.all(names.map(async (f) => JSON.parse(await readFile(join(partsDir, f), 'utf8'))));
+  // Parts of an older shard count are named as stale; the newest part's count is the one merged.
+  const n = currentCount(all);
+  const parts = all.filter((p) => p.shard?.n === n);
   const problems: string[] = [];
-  if (parts.some((p) => p.shard?.n !== n)) problems.push(`the parts come from different shard counts (${[...new Set(parts.map((p) => p.shard?.n))].join(', ')}); delete the stale ones`);
+  const staleCount = staleCountProblem(all);
+  if (staleCount) problems.push(staleCount);
   const missing = Array.from({ length: n }, (_, i) => i + 1).filter((k) => !parts.some((p) => p.shard?.k === k));
   if (missing.length) problems.push(missing.length > 1 ? `shards ${missing.join(', ')} of ${n} have not written their part yet; run them, then merge again` : `shard ${missing[0]} of ${n} has not written its part yet; run it, then merge again`);
+  problems.push(...await unfinishedShards(outDir, parts));
   if (new Set(parts.map((p) => p.spec.hash)).size > 1) problems.push('the parts were reduced with different specs; run every shard with the same spec');
   if (new Set(parts.map((p) => p.archive)).size > 1) problems.push('the parts come from different archives');
   if (problems.length) throw new UsageError(`${partsDir}: cannot merge: ${problems.join('; ')}`);
@@ -66,6 +72,8 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     // Worked out on this thread while the workers assemble the slices.
     const changes = stageTrends(outDir, spec, { trends: trendOptions(spec), store, recordings: reduced, present: presentOverall(parts, store), metadata, since: first.period?.since ?? null, declarations: declarationsOfRun(items.filter((it) => !broken.has(it.group))) });
     const quiet = quietOverall(parts, listed);
+    // Recordings that came in between the shards' scans: no shard reduced them, so they are named.
+    const arrived = await arrivalsDuringShards(parts, spec, outDir);
     const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, broken: brokenGroups, pool, changes });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
@@ -79,6 +87,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
       damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
+      merged: { shards: n, arrived_during_shards: arrived },
     });
     await writeRunRecord(outDir, 'run.json', record);
     return { record, quality: written.quality };

@@ -2,11 +2,14 @@
 import { existsSync } from 'node:fs';
 import { readFile, rm } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
-import { writeFileAtomic } from '../outputs/atomic.js';
+import { commitAll, StagedFile, WriteFailed, writing } from '../outputs/staged.js';
+import { ExportFailed } from './export-failed.js';
 import { toCsv, type CsvOptions } from './csv.js';
 import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
+
+export { ExportFailed };
 
 export type ExportFormat = 'csv' | 'xlsx';
 export interface ExportOptions extends CsvOptions { to: ExportFormat[]; wide?: boolean }
@@ -39,35 +42,38 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
   for (const name of Object.keys(SECONDARY_TABLES)) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
   for (const name of RUN_TABLES) if (existsSync(join(root, `${name}.parquet`))) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
   tables.push(await readQualityFlags(root));
-  const written: string[] = [];
-  if (o.to.includes('csv')) {
-    for (const t of tables) {
-      const path = join(root, CSV_FILES[t.name]);
-      await writeFileAtomic(path, toCsv(t, o));
-      written.push(path);
+  // Every file of the export is staged, then all are renamed into place together: a failed write leaves the previous export whole.
+  const staged: StagedFile[] = [];
+  const stage = async (file: string, data: string | Uint8Array) => { const f = new StagedFile(join(root, file)); staged.push(f); await f.write(data); await f.close(); };
+  try {
+    if (o.to.includes('csv')) for (const t of tables) await stage(CSV_FILES[t.name], toCsv(t, o));
+    if (o.to.includes('xlsx')) {
+      const facts: [string, string][] = [
+        ['tool', `quern ${run.version}`], ['run id', run.run_id], ['archive', run.archive], ['started', run.started], ['finished', run.finished],
+        ['recordings', `${run.counts.reduced} reduced, ${run.counts.failed} failed, ${run.counts.unmatched} unmatched`],
+        ['spec source', run.spec.source], ['spec hash (SHA-256)', run.spec.hash], ['spec', JSON.stringify(run.spec.value, null, 1)],
+        ['units', '"[channel unit]" in a header means the unit given in the row\'s unit column'],
+        ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],
+      ];
+      // The spectra (thousands of rows a channel) and any table longer than a worksheet stay in their CSV and Parquet files.
+      const tooLong = tables.filter((t) => t.name === 'spectra' || t.rows.length > SHEET_ROWS);
+      for (const t of tooLong) facts.push([`${t.name}`, `not in this workbook (${t.rows.length} rows): read ${t.name}.parquet or ${CSV_FILES[t.name]}`]);
+      // The workbook writer (exceljs) loads only when a workbook is asked for.
+      const { toXlsx } = await import('./xlsx.js');
+      await stage(XLSX_FILE, await toXlsx(tables.filter((t) => !tooLong.includes(t)), { rows: facts }, { digits: o.digits ?? null }));
     }
+    await commitAll(staged);
     // A CSV of a table this export does not write (trends turned off in the spec since, no --wide this time) would be read as current.
-    const now = new Set(tables.map((t) => t.name));
-    for (const [name, file] of Object.entries(CSV_FILES)) if (!now.has(name)) await rm(join(root, file), { force: true });
+    if (o.to.includes('csv')) {
+      const now = new Set(tables.map((t) => t.name));
+      for (const [name, file] of Object.entries(CSV_FILES)) if (!now.has(name)) await writing(join(root, file), () => rm(join(root, file), { force: true }));
+    }
+  } catch (e) {
+    throw e instanceof WriteFailed ? new ExportFailed(e.file, e.reason, root, o.to) : e;
+  } finally {
+    for (const f of staged) await f.discard();
   }
-  if (o.to.includes('xlsx')) {
-    const facts: [string, string][] = [
-      ['tool', `quern ${run.version}`], ['run id', run.run_id], ['archive', run.archive], ['started', run.started], ['finished', run.finished],
-      ['recordings', `${run.counts.reduced} reduced, ${run.counts.failed} failed, ${run.counts.unmatched} unmatched`],
-      ['spec source', run.spec.source], ['spec hash (SHA-256)', run.spec.hash], ['spec', JSON.stringify(run.spec.value, null, 1)],
-      ['units', '"[channel unit]" in a header means the unit given in the row\'s unit column'],
-      ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],
-    ];
-    // The spectra (thousands of rows a channel) and any table longer than a worksheet stay in their CSV and Parquet files.
-    const tooLong = tables.filter((t) => t.name === 'spectra' || t.rows.length > SHEET_ROWS);
-    for (const t of tooLong) facts.push([`${t.name}`, `not in this workbook (${t.rows.length} rows): read ${t.name}.parquet or ${CSV_FILES[t.name]}`]);
-    const path = join(root, XLSX_FILE);
-    // The workbook writer (exceljs) loads only when a workbook is asked for.
-    const { toXlsx } = await import('./xlsx.js');
-    await writeFileAtomic(path, await toXlsx(tables.filter((t) => !tooLong.includes(t)), { rows: facts }, { digits: o.digits ?? null }));
-    written.push(path);
-  }
-  return written;
+  return staged.map((f) => f.path);
 }
 
 /** "csv,xlsx" → ['csv', 'xlsx']. */

@@ -199,3 +199,14 @@ export async function heldShardLocks(out: string): Promise<LockHolder[]> {
 }
 
 export const describeHolder = describe;
+
+/**
+ * A lock at `path` that no running holder keeps (a run killed, or its machine gone down): its holder (null when the file
+ * names none) and why it is gone; null when there is no such lock, or its holder may still run.
+ */
+export async function leftLock(path: string, staleAfterMs = STALE_LOCK_AFTER_MS): Promise<{ holder: LockHolder | null; why: string } | null> {
+  if (!(await stat(path).catch(() => null))) return null;
+  const holder = await readHolder(path);
+  const { why } = await staleness(path, holder, staleAfterMs);
+  return why ? { holder, why } : null;
+}

@@ -156,7 +156,7 @@ export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[])
       : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
     return out.join('\n');
   }
-  out.push(`<p><b>${alarms}</b> channel features at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
+  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
   // The charting modules load only when a channel's pictures are drawn.
   const { svg } = pictures.length ? await import('./charts.js') : { svg: async () => '' };
   out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);

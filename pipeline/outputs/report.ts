@@ -14,6 +14,8 @@ import type { Settling } from '../plan/settle.js';
 import { qualitySummary, type QualitySummary } from './quality.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
 import { changesSummary } from '../trends/summary.js';
+import { SECONDARY_TABLES } from './tables.js';
+import { arrivalsLine, type Arrivals } from '../commands/arrivals.js';
 import { recomputedLines, type RecomputedForBaselines } from '../trends/renew-baselines.js';
 import { carriedLines, type RecomputedForHolds } from '../trends/carry-holds.js';
 
@@ -72,6 +74,11 @@ export interface RunRecord {
   /** A lock left by a run that is gone, and taken over by this one; the files such a run left half-written, removed (relative to the output folder). */
   lock: { took_over: TakenOver | null; leftovers_removed: string[] };
   timings: { scan_s: number; reduce_s: number; write_s: number; total_s: number };
+  /**
+   * quern merge's: the shards merged, and the recordings that came into the archive while they ran (found by a shard that
+   * scanned later, not by the shard whose share they are), absent from the tables until the next run; null when none.
+   */
+  merged?: { shards: number; arrived_during_shards: Arrivals | null };
 }
 
 export type RunLine = RunRecord['recordings'][number];
@@ -96,6 +103,7 @@ export interface RunFacts {
   period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
   /** Temporary files a stopped run left, removed before this run began. */
   leftovers: string[];
+  merged?: RunRecord['merged'];
 }
 
 export function runRecord(f: RunFacts): RunRecord {
@@ -109,6 +117,7 @@ export function runRecord(f: RunFacts): RunRecord {
       reduced: f.lines.filter((l) => l.status === 'reduced').length, failed: f.lines.filter((l) => l.status === 'failed').length,
       unmatched: f.unmatched.length, rows: f.lines.reduce((s, l) => s + l.rows, 0), settling: f.settling.length,
     },
+    ...(f.merged ? { merged: f.merged } : {}),
     recordings: f.lines,
     shard: f.shard, period: f.period, label_columns: f.labels, labels_by_group: f.labelsByGroup,
     unmatched: f.unmatched.map((path) => ({ path, reason: 'no group in archive.yaml matches this file; add a group for it, or move it out of the archive' })),
@@ -173,10 +182,11 @@ export const quietGroupsOf = (r: RunRecord): QuietGroup[] => (r.shard ? [] : r.p
 /** The end-of-run summary a person reads on the terminal. */
 export function summaryText(r: RunRecord, q: QualitySummary): string {
   const lines = [
-    `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched${r.counts.settling ? `, ${r.counts.settling} left to settle` : ''}; ${r.counts.recomputed} computed, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
+    `quern ${r.version}: ${r.counts.reduced} of ${r.counts.selected} recordings reduced (${r.counts.rows} channel rows) in ${r.timings.total_s.toFixed(1)} s; ${r.counts.failed} failed, ${r.counts.unmatched} unmatched${r.counts.settling ? `, ${r.counts.settling} left to settle` : ''}; ${r.counts.recomputed} computed${r.merged ? ' by the shards' : ''}, ${r.counts.reused} reused whole${r.shard ? `; shard ${r.shard.k} of ${r.shard.n}` : ''}${r.merged ? `; merged from ${r.merged.shards} ${r.merged.shards === 1 ? 'shard' : 'shards'}` : ''}${r.counts.selected < r.counts.scanned && !r.shard ? `; ${r.counts.scanned} in the archive` : ''}.`,
   ];
   // The period's bounds in UTC, as the selection used them, before anything said of its recordings.
   if (r.period) lines.push(periodLine(r.period));
+  if (r.merged?.arrived_during_shards) lines.push(arrivalsLine(r.merged.arrived_during_shards));
   // What changed leads: it is the machine's story; the data-quality lines follow.
   if (q.changes) lines.push(...changesSummary(q.changes));
   for (const f of r.recordings.filter((x) => x.status === 'failed')) lines.push(`  FAILED  ${f.recording}: ${f.reason}`);
@@ -199,6 +209,6 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
-  else lines.push(`  table:   ${r.out}/features.parquet (and windows.parquet${q.changes ? ', trends.parquet' : ''}${(r.spec.value as { spectrum?: unknown }).spectrum ? ', spectra.parquet' : ''})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
+  else lines.push(`  table:   ${r.out}/features.parquet (and ${[...Object.keys(SECONDARY_TABLES), ...(q.changes ? ['trends'] : []), ...((r.spec.value as { spectrum?: unknown }).spectrum ? ['spectra'] : [])].map((t) => `${t}.parquet`).join(', ')})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);
   return lines.join('\n');
 }

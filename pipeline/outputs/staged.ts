@@ -1,12 +1,13 @@
 // Outputs are staged under hidden temporary names and put in place together by renaming, so a run that fails while
 // writing (a full disk, a file-size limit) leaves the previous outputs whole, and says which file failed and why.
 import { randomBytes } from 'node:crypto';
-import { open, rename, rm, type FileHandle } from 'node:fs/promises';
+import { lstat, open, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 
 const CAUSES: Record<string, string> = {
   ENOSPC: 'no space left on the device', EFBIG: 'file too large (a file-size limit was reached)', EDQUOT: 'disk quota exceeded',
   EACCES: 'permission denied', EPERM: 'operation not permitted', EROFS: 'read-only file system', EIO: 'input/output error',
+  EISDIR: 'a folder stands where the file must go',
 };
 
 /** Causes that no amount of free space mends. */
@@ -14,10 +15,21 @@ const FORBIDDEN = new Set(['EACCES', 'EPERM', 'EROFS']);
 
 /** A write that failed, naming the file and the cause; the run ends with exit code 2. */
 export class WriteFailed extends Error {
-  constructor(readonly file: string, cause: unknown) {
+  /** The cause in words, with the system's code. */
+  readonly what: string;
+  /** Whether the place refuses writing (no amount of free space mends it). */
+  readonly forbidden: boolean;
+  /** The system's code of the cause (ENOSPC, EROFS…), when it gave one. */
+  readonly code: string | undefined;
+  constructor(readonly file: string, readonly reason: unknown) {
+    const cause = reason;
     const code = (cause as NodeJS.ErrnoException)?.code;
     const what = code && CAUSES[code] ? `${CAUSES[code]} (${code})` : (cause as Error)?.message ?? String(cause);
-    super(`cannot write ${file}: ${what}; the previous outputs are kept. ${code && FORBIDDEN.has(code) ? 'Let the run write there, or give another folder with --out' : 'Free space or raise the limit'}, then run again`);
+    const forbidden = code != null && FORBIDDEN.has(code);
+    super(`cannot write ${file}: ${what}; the previous outputs are kept. ${forbidden ? 'Let the run write there, or give another folder with --out' : code === 'EISDIR' ? 'Move that folder away' : 'Free space or raise the limit'}, then run again`);
+    this.what = what;
+    this.forbidden = forbidden;
+    this.code = code;
   }
 }
 
@@ -83,6 +95,8 @@ export class StagedFile {
 
 /** Puts staged files in place (renames, which need no space) and makes the renames durable. */
 export async function commitAll(files: StagedFile[]): Promise<void> {
+  // A folder where a file must go would fail its rename after the files before it were in place: found before any rename.
+  for (const f of files) if ((await lstat(f.path).catch(() => null))?.isDirectory()) throw new WriteFailed(f.path, Object.assign(new Error('a folder'), { code: 'EISDIR' }));
   for (const f of files) await f.commit();
   for (const dir of new Set(files.map((f) => dirname(f.path)))) {
     const fh = await open(dir, 'r');

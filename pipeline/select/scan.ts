@@ -7,6 +7,7 @@ import { eachAtOnce } from '../at-once.js';
 import { formatOf } from '../../stages/read/format-of.js';
 import { ARCHIVE_FILE, SPEC_FILE } from '../declare/declare.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { isOutputFolder, isOwnOutput, OWN_OUTPUT_NAMES } from '../outputs/own-outputs.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
 
 export interface ScannedRecording {
@@ -84,10 +85,12 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   async function walk(dir: string, real: string): Promise<void> {
     seen.add(real);
     const entries = (await readdir(dir, { withFileTypes: true })).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0));
+    // An output folder of quern's in the archive (another --out, or this one under check): its own tables and exports are no recordings.
+    const outputs = dir !== root && isOutputFolder(entries.map((e) => e.name));
     for (const e of entries) {
       const path = join(dir, e.name);
       // Hidden entries hold tools' state (version control, our own temporaries), never recordings.
-      if (e.name.startsWith('.')) continue;
+      if (e.name.startsWith('.') || (outputs && OWN_OUTPUT_NAMES.has(e.name))) continue;
       const kind = e.isSymbolicLink() ? await linkKind(path) : e.isDirectory() ? 'folder' : e.isFile() ? 'file' : 'other';
       if (kind === 'linked folder') { linked.push({ path, within: real }); continue; }
       // A plain folder's real path is its parent's and its name: no system call.
@@ -124,12 +127,13 @@ export async function scan(archive: string, declaration: ArchiveDeclaration, { e
   return { recordings: table.files(), unmatched, otherFiles };
 }
 
-/** The scan leaves the output folder out; one inside the archive that holds recordings a group matches would hide them, so the run stops. */
+/** The scan leaves the output folder out; one inside the archive that holds recordings a group matches (beside quern's own files) would hide them, so the run stops. */
 export async function refuseHidingRecordings(archive: string, out: string, declaration: ArchiveDeclaration): Promise<void> {
   const root = await realpath(archive), dir = await realpath(out).catch(() => null);
   if (!dir || dir === root || !isWithin(dir, root)) return;
   const matchers = groupMatchers(declaration);
-  const names = (await readdir(dir, { recursive: true }).catch(() => [] as string[])).sort();
+  // quern's own files there (tables, exports, stored results) are no recordings, whatever a group matches.
+  const names = (await readdir(dir, { recursive: true }).catch(() => [] as string[])).map((n) => n.split(sep).join('/')).filter((n) => !isOwnOutput(n)).sort();
   const hidden = names.map((n) => relative(root, join(dir, n)).split(sep).join('/')).find((r) => matchers.some((m) => m(r)));
   if (hidden) throw new UsageError(`the output folder ${out} holds recordings of the archive (${hidden}), which a run never reads from its own output folder; give an output folder (--out) outside the recordings`);
 }

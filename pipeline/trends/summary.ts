@@ -25,7 +25,7 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
   // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear.
   const unscored = r.totals.unscored ? `; ${r.totals.steady} steady, ${r.totals.unscored} with no verdict (baseline forming, held by figures of other options, or data unusable)` : '';
-  const lines = [`  changes: ${alarms} channel features at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
+  const lines = [`  changes: ${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
   for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
   if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced ${storedText(r.stale_causes ?? {}) ?? 'under other options, another declaration of their group or another version of quern'}; run once without --since, or with --since alone and unsharded, to recompute them`);

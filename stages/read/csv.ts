@@ -6,6 +6,7 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
+import { unendedLineNote, type LastLine } from './unended-line.js';
 import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './time-steps.js';
 
 /** A time column's header without a unit: its numbers are read as seconds. */
@@ -116,7 +117,11 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const fh = await open(path, 'r');
   const probe = Buffer.alloc(PROBE_BYTES);
   const { bytesRead } = await fh.read(probe, 0, PROBE_BYTES, 0);
+  // Whether the file ends without a line end: its last line may have been cut short.
+  const size = (await fh.stat()).size;
+  const lastByte = size === 0 ? null : size <= bytesRead ? probe[size - 1] : (await fh.read(Buffer.alloc(1), 0, 1, size - 1)).buffer[0];
   await fh.close();
+  const unended = lastByte != null && lastByte !== 0x0a && lastByte !== 0x0d;
   refuseNotUtf8(probe.subarray(0, bytesRead));
   const text = probe.toString('utf8', 0, bytesRead).replace(/^\uFEFF/, '');
   // Lines end in LF, CRLF or CR alone (as readline splits them below).
@@ -189,11 +194,14 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     let lineNo = 0, k = 0, shortRows = 0, firstShort = 0;
     const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
+    let last = null as LastLine | null;
     try {
       for await (const raw of lineReader) {
         lineNo++;
         if (lineNo <= headerLine || !isData(raw)) continue;
         const cells = splitFields(raw.replace(/^\uFEFF/, ''), delimiter);
+        // Only a file without a final line end needs its last line kept against the one before.
+        if (unended) last = { line: lineNo, cells, before: last?.cells ?? null, time: NaN, timeBefore: last?.time ?? NaN };
         // A row may end with or without the delimiter of an unnamed empty last column.
         if ((cells.length < width || cells.length > fields) && shortRows++ === 0) firstShort = lineNo;
         for (let c = width; c < cells.length && c < fields; c++) if (cells[c].trim() !== '' && beyond.count++ === 0) beyond.line = lineNo;
@@ -201,6 +209,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
           const t = timeValue(cells[0] ?? '', decimalComma, perSecond);
           if (!Number.isFinite(t)) throw unreadableTime(lineNo, cells[0] ?? '');
           steps.add(t);
+          if (last) last.time = t;
         }
         for (let c = 0, j = 0; c < width; c++) {
           if (c === timeColumn) continue;
@@ -216,6 +225,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
       lineReader.close();
     }
     if (timeColumn === 0) keepSteps(recording, steps);
+    const cut = last && last.line === lineNo ? unendedLineNote(last, names, timeColumn) : null;
+    if (cut) notes.push(cut);
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
     if (notNumbers.count > 0) notes.push(`${notNumbers.count} cells are not numbers (first at line ${notNumbers.line}, column "${notNumbers.column}": "${notNumbers.cell}"); they count as missing samples`);
     if (beyond.count > 0) notes.push(`${beyond.count} rows hold values in the unnamed last column, empty in the first rows and so not read (first at line ${beyond.line}); name the column in the header to read it`);

@@ -14,17 +14,20 @@ export interface ByteCursor {
   close(): void;
 }
 
+/** A part of the element, with where it lies: a part named from its element already says so ("X: X: …" otherwise). */
+const placedIn = (where: string, what: string) => (what.startsWith(where) ? what : `${where}: ${what}`);
+
 /** Bytes [start, start + length) of an open file, as stored. */
 export function storedCursor(file: FileHandle, start: number, length: number, where: string): ByteCursor {
   let at = 0;
-  const cutShort = (what: string) => new RecordingError(`${where}: ${what} runs past the end of its element (${length} bytes from byte ${start}); the file is damaged or cut short: copy it again`);
+  const cutShort = (what: string) => new RecordingError(`${placedIn(where, what)} runs past the end of its element (${length} bytes from byte ${start}); the file is damaged or cut short: copy it again`);
   return {
     get at() { return at; },
     async take(n, what, into) {
       if (at + n > length) throw cutShort(what);
       const out = into ?? new Uint8Array(n);
       const { bytesRead } = await file.read(out, 0, n, start + at);
-      if (bytesRead < n) throw new RecordingError(`${where}: ${what} is cut short at byte ${start + at + bytesRead}, the end of the file; copy the file again`);
+      if (bytesRead < n) throw new RecordingError(`${placedIn(where, what)} is cut short at byte ${start + at + bytesRead}, the end of the file; copy the file again`);
       at += n;
       return out.subarray(0, n);
     },
@@ -54,18 +57,19 @@ export function inflatedCursor(path: string, start: number, length: number, wher
   let used = 0;
   let at = 0;
   let ended = false;
+  const placed = (what: string) => placedIn(where, what);
   /** Makes the current piece hold unread bytes; false at the stream's end. */
   async function fill(what: string): Promise<boolean> {
     while (used >= piece.length) {
       if (ended) return false;
       let next: IteratorResult<Buffer>;
-      try { next = await pieces.next(); } catch (e) { throw inflateFailure(e, `${where}: ${what}`, start, length); }
+      try { next = await pieces.next(); } catch (e) { throw inflateFailure(e, placed(what), start, length); }
       if (next.done) { ended = true; return false; }
       piece = next.value; used = 0;
     }
     return true;
   }
-  const endsEarly = (what: string) => new RecordingError(`${where}: ${what} runs past the end of the inflated variable (${at} bytes); the file is damaged: copy it again`);
+  const endsEarly = (what: string) => new RecordingError(`${placed(what)} runs past the end of the inflated variable (${at} bytes); the file is damaged: copy it again`);
   return {
     get at() { return at; },
     async take(n, what, into) {

@@ -1,0 +1,100 @@
+// quern merge in a night's life: shards stopped part-way (a time limit's SIGKILL or SIGTERM) after a new night came in,
+// recordings that came in between the shards' scans, and parts of two shard counts.
+import { spawn } from 'node:child_process';
+import { cpSync, existsSync, readFileSync, readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { describe, expect, it } from 'vitest';
+import { shardOf } from '../pipeline/select/select.js';
+import { quern, readJson, repo, sampleArchiveCopy } from './helpers.js';
+
+const N = 3;
+const shardRun = (archive: string, out: string, k: number, n = N) => quern('reduce', archive, '--out', out, '--shard', `${k}/${n}`, '--jobs', '1', '--quiet');
+
+/** The recordings features.parquet holds, read by DuckDB. */
+async function tabled(out: string): Promise<string[]> {
+  const db = await (await DuckDBInstance.create()).connect();
+  return ((await db.runAndReadAll(`select distinct recording from '${join(out, 'features.parquet')}' order by 1`)).getRowObjectsJson() as { recording: string }[]).map((r) => r.recording);
+}
+
+/** New nights copied in: the first night's capture under later dates, some in every shard's share. */
+function newNights(archive: string, days: string[]): string[] {
+  for (const d of days) cpSync(join(archive, 'nightly', '2026-11-16'), join(archive, 'nightly', d), { recursive: true });
+  return days.map((d) => `nightly/${d}/pump-endurance.wav`);
+}
+
+/** Starts shard k, waits until its run has begun (its start kept under a new run id), then stops it with `signal`. */
+async function stoppedPartWay(archive: string, out: string, k: number, signal: NodeJS.Signals): Promise<number> {
+  const startFile = join(out, 'parts', `started-${k}-of-${N}.json`);
+  const before = existsSync(startFile) ? readJson(startFile).run_id : null;
+  const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'reduce', archive, '--out', out, '--shard', `${k}/${N}`, '--jobs', '1', '--quiet'], { stdio: 'ignore' });
+  const ended = new Promise<void>((resolve) => child.on('exit', () => resolve()));
+  for (let i = 0; i < 2000; i++) {
+    const now = existsSync(startFile) ? (() => { try { return JSON.parse(readFileSync(startFile, 'utf8')).run_id; } catch { return null; } })() : null;
+    if (now && now !== before) break;
+    await new Promise((r) => setTimeout(r, 5));
+  }
+  child.kill(signal);
+  await ended;
+  return child.pid!;
+}
+
+describe('merge after shards stopped part-way', () => {
+  it('refuses, naming each shard whose latest run did not finish and what it left, until that shard is run again', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    for (let k = 1; k <= N; k++) shardRun(archive, out, k);
+    expect(quern('merge', out, '--jobs', '1').code).toBe(1); // the sample archive holds one recording that fails
+    // A new night arrives (eight captures, in every shard's share); shard 2 is killed outright, shard 3 stopped by SIGTERM.
+    const arrived = newNights(archive, Array.from({ length: 8 }, (_, i) => `2026-12-0${i + 1}`));
+    expect(new Set(arrived.map((r) => shardOf(r, N))).size).toBe(N);
+    shardRun(archive, out, 1);
+    const killed = await stoppedPartWay(archive, out, 2, 'SIGKILL');
+    await stoppedPartWay(archive, out, 3, 'SIGTERM');
+    expect(existsSync(join(out, 'parts', 'run-2-of-3.lock'))).toBe(true);
+    expect(existsSync(join(out, 'parts', 'run-3-of-3.lock'))).toBe(false); // released on SIGTERM: the kept start tells
+    const refused = quern('merge', out, '--jobs', '1');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toMatch(new RegExp(`shard 2 of 3 did not finish its latest run \\(host [^,]+, pid ${killed}, started [^;]+; its lock parts/run-2-of-3.lock is left behind: process ${killed} on this host is no longer running\\)`));
+    expect(refused.stderr).toMatch(/shard 3 of 3 did not finish its latest run \(host [^,]+, pid \d+, started [^;]+; it ended before writing its part\)/);
+    expect(refused.stderr).toMatch(/run shard 2\/3 again \(quern reduce .* --shard 2\/3\), then merge/);
+    // Run again, the shards finish and the merge holds the new night.
+    shardRun(archive, out, 2);
+    shardRun(archive, out, 3);
+    const merged = quern('merge', out, '--jobs', '1');
+    expect(merged.code).toBe(1);
+    expect(await tabled(out)).toEqual(expect.arrayContaining(arrived));
+  });
+});
+
+describe('merge when the shards saw different archives', () => {
+  it('names the recordings that came in after their own shard scanned, and tells a stale shard count', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    // A capture of shard 1's share arrives after shard 1 scanned, before shards 2 and 3 did.
+    const day = Array.from({ length: 30 }, (_, i) => `2026-12-${String(i + 1).padStart(2, '0')}`).find((d) => shardOf(`nightly/${d}/pump-endurance.wav`, N) === 1)!;
+    shardRun(archive, out, 1);
+    const [late] = newNights(archive, [day]);
+    shardRun(archive, out, 2);
+    shardRun(archive, out, 3);
+    const merged = quern('merge', out, '--jobs', '1');
+    expect(merged.code).toBe(1);
+    expect(merged.stdout).toContain(`  ARRIVED 1 recording came into the archive while the shards ran, after the scan of the shard whose share it is: ${late}; absent from these tables and trends until the next run`);
+    // Merge computes nothing itself: the shards did.
+    expect(merged.stdout).toMatch(/; \d+ computed by the shards, \d+ reused whole; merged from 3 shards/);
+    expect(merged.stdout).toContain('(and windows.parquet, cycles.parquet, trends.parquet, spectra.parquet)');
+    const run = readJson(join(out, 'run.json'));
+    expect(run.merged).toEqual({ shards: 3, arrived_during_shards: { count: 1, recordings: [late] } });
+    expect(await tabled(out)).not.toContain(late);
+    // The next round's shards see it, and the merge holds it.
+    for (let k = 1; k <= N; k++) shardRun(archive, out, k);
+    const next = quern('merge', out, '--jobs', '1');
+    expect(next.stdout).not.toMatch(/ARRIVED/);
+    expect(readJson(join(out, 'run.json')).merged.arrived_during_shards).toBeNull();
+    expect(await tabled(out)).toContain(late);
+    // The lab moves to two shards: the parts of three are the stale ones, and merge says so.
+    shardRun(archive, out, 1, 2);
+    const mixed = quern('merge', out, '--jobs', '1');
+    expect(mixed.code).toBe(2);
+    expect(mixed.stderr).toMatch(/the parts come from different shard counts: 2 shards \(latest part started [^)]+\) and, older, 3 shards \(latest part started [^)]+\); the parts of 3 shards are stale: delete parts\/\*-of-3\.\* \(cache\/ keeps their stored results\), then merge again; shard 2 of 2 has not written its part yet/);
+    expect(readdirSync(join(out, 'parts')).filter((f) => f.startsWith('started-')).sort()).toEqual(['started-1-of-2.json', 'started-1-of-3.json', 'started-2-of-3.json', 'started-3-of-3.json']);
+  });
+});
