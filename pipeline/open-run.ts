@@ -6,11 +6,14 @@ import { loadArchiveDeclaration, loadSpec } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
 import { lockPath, takeLock } from './outputs/lock.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
+import { removeOwnTemporaries } from './outputs/sweep-leftovers.js';
 import { openPool } from './reduce/pool.js';
 import { watchStorage } from './reduce/storage-watch.js';
 import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
+import { removeOwnSpools } from '../stages/read/mat-spool.js';
+import { stopOnSignal } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -21,7 +24,12 @@ export interface OpenOptions {
   until?: number | null;
   staleLockAfterMs?: number;
   storageMs?: number;
+  /** Says why the run stopped, with its exit code (a plain line, or a JSON event with --log json). */
+  tell?: (message: string, exitCode: number) => void;
 }
+
+/** The stopped run's line on standard error, as every other `quern:` line. */
+const plainLine = (message: string) => { process.stderr.write(`quern: ${message}\n`); };
 
 /** What the lock says is running: the command as it was given, with the period in UTC. */
 function lockCommand(root: string, outDir: string, o: OpenOptions): string {
@@ -29,7 +37,7 @@ function lockCommand(root: string, outDir: string, o: OpenOptions): string {
   return `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${force ? ' --force' : ''}${since != null ? ` --since ${new Date(since).toISOString()}` : ''}${until != null ? ` --until ${new Date(until).toISOString()}` : ''}`;
 }
 
-/** Opens the run on `root` into `outDir`; the caller ends it with `lock.release()`, `pool.destroy()` and `storage.stop()`. */
+/** Opens the run on `root` into `outDir`; the caller ends it with `stop.off()`, `lock.release()`, `pool.destroy()` and `storage.stop()`. */
 export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {
   // Storage that stops answering ends the run rather than hold its lock for ever.
   const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000);
@@ -45,7 +53,9 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command: lockCommand(root, outDir, o) }, { staleAfterMs: o.staleLockAfterMs });
-    return { storage, pool, firstRun, spec, declaration, trends, lock };
+    // A signal from here on: this run's temporary files and its lock go with it.
+    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.tell ?? plainLine);
+    return { storage, pool, firstRun, spec, declaration, trends, lock, stop };
   } catch (e) {
     await pool.destroy();
     storage.stop();
