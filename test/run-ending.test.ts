@@ -152,7 +152,8 @@ describe('outputs.json and run.json', () => {
   it('quern export refuses a folder whose tables come from another run than its run.json, naming the files and both runs', () => {
     const { archive, out } = reducedThenRelabelled();
     const oldRecord = readFileSync(join(out, 'run.json'));
-    const oldId = JSON.parse(oldRecord.toString()).run_id;
+    // A run that found the outputs unchanged names the run that wrote them.
+    const oldId = JSON.parse(oldRecord.toString()).outputs.written_by_run;
     expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(0);
     const newId = readJson(join(out, 'run.json')).run_id;
     // What a run stopped between its tables and its record leaves: the new tables beside the previous run.json.
