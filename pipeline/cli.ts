@@ -4,7 +4,7 @@ import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
-import { progressFor } from './outputs/progress.js';
+import { jsonLine, progressFor } from './outputs/progress.js';
 import { failedOf, quietGroupsOf, summaryText, type RunRecord } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
@@ -39,7 +39,7 @@ function parseExitOn(text: string | string[] | undefined): ExitOn {
 }
 
 /** The run's exit code: 3 when what --exit-on names happened, with a line saying what (before 1: it is what the job asked to be told), else 1 when recordings failed. */
-function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): number {
+function exitCodeOf(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): { code: number; said: string | null } {
   const items = changes?.items ?? [];
   const alarms = exitOn.has('alarm') || exitOn.has('changed') ? items.filter((c) => c.verdict === 'alarm').length : 0;
   const changed = exitOn.has('changed') ? items.length - alarms : 0;
@@ -50,9 +50,15 @@ function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, e
     changed ? `${changed} channel ${changed === 1 ? 'feature' : 'features'} changed` : null,
     quiet ? `${quiet} ${quiet === 1 ? 'group' : 'groups'} quiet over the period` : null,
   ].filter(Boolean);
-  if (!said.length) return failed > 0 ? EXIT.someFailed : EXIT.ok;
-  process.stdout.write(`  exit code 3: ${said.join(', ')} (--exit-on ${[...exitOn].join(',')})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}\n`);
-  return EXIT.changed;
+  if (!said.length) return { code: failed > 0 ? EXIT.someFailed : EXIT.ok, said: null };
+  return { code: EXIT.changed, said: `  exit code 3: ${said.join(', ')} (--exit-on ${[...exitOn].join(',')})${failed ? `; ${failed} ${failed === 1 ? 'recording' : 'recordings'} failed as well` : ''}\n` };
+}
+
+/** The code, its line (if any) written after the closing lines. */
+function exitCodeSaid(r: RunRecord, changes: ChangesReport | null | undefined, exitOn: ExitOn): number {
+  const { code, said } = exitCodeOf(r, changes, exitOn);
+  if (said) process.stdout.write(said);
+  return code;
 }
 
 /** An export that failed after a run wrote its outputs says that those are in place; exit code 2 all the same, since the export asked for is missing. */
@@ -132,6 +138,14 @@ function optionValue<T>(option: string, text: string, parse: (text: string) => T
   }
 }
 
+/** Why a command stopped, with its exit code: a `quern:` line, or with --log json an `error` event in the JSON stream. */
+type Tell = (message: string, exitCode: number, details?: { stack?: string }) => void;
+const plainTell: Tell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
+const jsonTell: Tell = (message, exitCode, details) => { jsonLine(process.stderr, { event: 'error', message, exit_code: exitCode, ...details }); };
+
+/** How the command says why it stopped, here and in the handlers of errors nothing waits for: plain until --log json is read. */
+let tell: Tell = plainTell;
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
   const cli = yargs(argv)
@@ -158,6 +172,7 @@ async function main(argv: string[]): Promise<number> {
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      if (a.log === 'json') tell = jsonTell;
       givenOnce(a, ['out', 'spec', 'jobs', 'shard', 'log', 'export']);
       const exports = a.export ? await exporting() : null;
       const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
@@ -178,20 +193,24 @@ async function main(argv: string[]): Promise<number> {
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode) => tell(message, exitCode) });
+      process.stdout.write(summaryText(record, quality) + '\n');
+      if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
+      const ending = exitCodeOf(record, quality.changes, exitOn);
       if (a.log === 'json') {
-        // What a job reading the log needs besides the counts: what changed in the machine, and which rigs fell quiet.
+        // What a job reading the log needs besides the counts: what changed in the machine, which rigs fell quiet, what the
+        // run found of earlier ones (a lock taken over, stored entries damaged; under run.json's names), and how it ends.
         const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;
         const late = record.period?.late_arrivals, renewed = record.period?.recomputed_for_baselines;
         progress.event?.('summary', {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
           ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
           ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
+          lock: record.lock, store: { damaged: record.store.damaged }, exit_code: ending.code,
         });
       }
-      process.stdout.write(summaryText(record, quality) + '\n');
-      if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
-      code = exitCodeSaid(record, quality.changes, exitOn);
+      if (ending.said) process.stdout.write(ending.said);
+      code = ending.code;
       // Threads given up for a stall may be waiting in the operating system, where nothing stops them.
       if (threadsGivenUp) (await import('./reduce/end-despite-stuck-threads.js')).endDespiteStuckThreads(threadsGivenUp);
     })
@@ -300,7 +319,7 @@ async function main(argv: string[]): Promise<number> {
     await cli.parseAsync();
   } catch (e) {
     if (e instanceof UsageError || e instanceof WriteFailed) {
-      process.stderr.write(`quern: ${e.message}\n`);
+      tell(e.message, EXIT.unusable);
       return EXIT.unusable;
     }
     return unexpected(e);
@@ -310,7 +329,7 @@ async function main(argv: string[]): Promise<number> {
 
 /** A fault in quern: not "some recordings failed" (1), since no table may have been written; staged outputs leave the previous ones whole. */
 function unexpected(e: unknown): number {
-  process.stderr.write(`quern: stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:\n${(e as Error)?.stack ?? String(e)}\n`);
+  tell('stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:', EXIT.unusable, { stack: (e as Error)?.stack ?? String(e) });
   return EXIT.unusable;
 }
 

@@ -8,11 +8,14 @@ import { lockPath, takeLock } from './outputs/lock.js';
 import { markShardStart, shardStartPath } from './outputs/shard-start.js';
 import { writing } from './outputs/staged.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
+import { removeOwnTemporaries } from './outputs/sweep-leftovers.js';
 import { openPool } from './reduce/pool.js';
 import { watchStorage } from './reduce/storage-watch.js';
 import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
+import { removeOwnSpools } from '../stages/read/mat-spool.js';
+import { stopOnSignal } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -23,7 +26,12 @@ export interface OpenOptions {
   until?: number | null;
   staleLockAfterMs?: number;
   storageMs?: number;
+  /** Says why the run stopped, with its exit code (a plain line, or a JSON event with --log json). */
+  tell?: (message: string, exitCode: number) => void;
 }
+
+/** The stopped run's line on standard error, as every other `quern:` line. */
+const plainLine = (message: string) => { process.stderr.write(`quern: ${message}\n`); };
 
 /** What the lock says is running: the command as it was given, with the period in UTC. */
 function lockCommand(root: string, outDir: string, o: OpenOptions): string {
@@ -31,7 +39,7 @@ function lockCommand(root: string, outDir: string, o: OpenOptions): string {
   return `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${force ? ' --force' : ''}${since != null ? ` --since ${new Date(since).toISOString()}` : ''}${until != null ? ` --until ${new Date(until).toISOString()}` : ''}`;
 }
 
-/** Opens the run on `root` into `outDir`; the caller ends it with `lock.release()`, `pool.destroy()` and `storage.stop()`. */
+/** Opens the run on `root` into `outDir`; the caller ends it with `stop.off()`, `lock.release()`, `pool.destroy()` and `storage.stop()`. */
 export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {
   // Storage that stops answering ends the run rather than hold its lock for ever.
   const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000);
@@ -49,9 +57,11 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     await refuseHidingRecordings(root, outDir, declaration);
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
+    // A signal from here on: this run's temporary files and its lock go with it.
+    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.tell ?? plainLine);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
-    if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { await lock.release(); throw e; });
-    return { storage, pool, firstRun, spec, declaration, trends, lock };
+    if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
+    return { storage, pool, firstRun, spec, declaration, trends, lock, stop };
   } catch (e) {
     await pool.destroy();
     storage.stop();

@@ -5,6 +5,7 @@ import { randomUUID } from 'node:crypto';
 import { resolve } from 'node:path';
 import { activeStages } from '../stages/index.js';
 import { sweepSpools } from '../stages/read/mat-spool.js';
+import { endRun } from './end-run.js';
 import { openRun } from './open-run.js';
 import { declarationsNow, groupKeys } from './plan/cache.js';
 import { toolVersion } from './declare/package-files.js';
@@ -52,6 +53,8 @@ export interface ReduceOptions {
   storageMs?: number;
   /** Recordings to compute that were modified within this span before the scan are left to the next run (0: none). */
   settleMs?: number;
+  /** Says why the run stopped (a signal), with its exit code. */
+  tell?: (message: string, exitCode: number) => void;
 }
 
 /** The recordings of a shard's share in the archive that the run leaves out of its lines and of its settling (outside its period). */
@@ -75,8 +78,8 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
   const shard = o.shard ?? null;
 
   let t = performance.now();
-  const { storage, pool, firstRun, spec, declaration, trends, lock } = await openRun(root, outDir, runId, { ...o, shard });
-  let store: Store | null = null;
+  const { storage, pool, firstRun, spec, declaration, trends, lock, stop } = await openRun(root, outDir, runId, { ...o, shard });
+  let store: Store | null = null, failed = true;
   try {
     // What a run stopped while writing left under temporary names goes first.
     const leftovers = await sweepLeftovers(outDir, shard);
@@ -147,7 +150,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // Their code (Arrow, Parquet, Vega) is loaded only here, by runs that write them. They are worked out on this thread
     // while the workers assemble the other tables' slices.
     const changes: Promise<TrendsWrite | null> | null = shard ? null : import('./trends/trends.js').then((m) => m.stageTrends(outDir, spec.spec, { ...trendsInput, basis }));
-    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : period.quiet, broken, pool, changes });
+    const written = await writeOutputs(outDir, shard ? partNames(shard.k, shard.n) : FINAL_NAMES, { items, spec: spec.spec, labels, metadata, version: toolVersion, runId, archive: root, unmatched: scanned.unmatched, quiet: shard ? [] : period.quiet, broken, pool, changes, replacing: () => stop.now('replacing') });
     // The threads' memory goes back before run.json's lines are made.
     await pool.destroy();
     // Entries of recordings gone from the archive are dropped when the pack is rewritten (a shard's pack holds its share alone).
@@ -169,14 +172,13 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
+    await written.keep();
+    stop.now('written');
     await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)])));
+    failed = false;
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };
   } finally {
-    await pool.destroy();
     // Copies a thread stopped for a stall, or one that crashed, left behind: no thread of this run reads them any more.
-    await sweepSpools(undefined, { own: true });
-    await store?.close();
-    await lock.release();
-    storage.stop();
+    await endRun([() => pool.destroy(), () => sweepSpools(undefined, { own: true }), () => store?.close(), stop.off, lock.release, storage.stop], failed);
   }
 }

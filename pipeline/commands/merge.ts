@@ -8,9 +8,11 @@ import { canonicalJson } from '../declare/canonical-json.js';
 import type { LoadedSpec } from '../declare/declare.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { describeHolder, heldShardLocks, lockPath, takeLock } from '../outputs/lock.js';
-import { sweepLeftovers } from '../outputs/sweep-leftovers.js';
 import { watchStorage } from '../reduce/storage-watch.js';
 import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
+import { removeOwnTemporaries, sweepLeftovers } from '../outputs/sweep-leftovers.js';
+import { endRun } from '../end-run.js';
+import { stopOnSignal } from '../stop-on-signal.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { QualitySummary } from '../outputs/quality.js';
 import { openPool } from '../reduce/pool.js';
@@ -54,6 +56,8 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
   const storage = watchStorage([outDir], storageMs);
   const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
   const pool = openPool(jobs);
+  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message) => { process.stderr.write(`quern: ${message}\n`); });
+  let failed = true;
   try {
     const leftovers = await sweepLeftovers(outDir, null);
     const store = await Store.open(outDir);
@@ -74,7 +78,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const quiet = quietOverall(parts, listed);
     // Recordings that came in between the shards' scans: no shard reduced them, so they are named.
     const arrived = await arrivalsDuringShards(parts, spec, outDir);
-    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, broken: brokenGroups, pool, changes });
+    const written = await writeOutputs(outDir, FINAL_NAMES, { items, spec, labels: first.label_columns, metadata, version: toolVersion, runId, archive: first.archive, unmatched, quiet, broken: brokenGroups, pool, changes, replacing: () => stop.now('replacing') });
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
     const record = runRecord({
@@ -90,11 +94,11 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       merged: { shards: n, arrived_during_shards: arrived },
     });
     await writeRunRecord(outDir, 'run.json', record);
+    await written.keep();
+    failed = false;
     return { record, quality: written.quality };
   } finally {
-    await pool.destroy();
-    await lock.release();
-    storage.stop();
+    await endRun([() => pool.destroy(), stop.off, lock.release, storage.stop], failed);
   }
 }
 

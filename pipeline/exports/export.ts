@@ -8,6 +8,7 @@ import { toCsv, type CsvOptions } from './csv.js';
 import { readParquetTable, readQualityFlags, widen, type ExportTable } from './tables.js';
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { checkOneRun } from './one-run.js';
 
 export { ExportFailed };
 
@@ -42,6 +43,13 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
   for (const name of Object.keys(SECONDARY_TABLES)) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
   for (const name of RUN_TABLES) if (existsSync(join(root, `${name}.parquet`))) tables.push(await readParquetTable(join(root, `${name}.parquet`), name));
   tables.push(await readQualityFlags(root));
+  // Every output but trends.parquet, which is kept across runs while what it rests on is unchanged (cache/trends.json).
+  const fileOf = (t: ExportTable) => (t.name === 'quality flags' ? 'quality.json' : `${t.name}.parquet`);
+  const digest = await readFile(join(root, 'outputs.json'), 'utf8').then((text) => JSON.parse(text) as { run_id?: unknown }, () => null);
+  checkOneRun(root, run, [
+    ...tables.filter((t) => t.runId !== undefined && t.name !== 'trends').map((t) => ({ file: fileOf(t), runId: t.runId ?? null })),
+    ...(digest ? [{ file: 'outputs.json', runId: typeof digest.run_id === 'string' ? digest.run_id : null }] : []),
+  ]);
   // Every file of the export is staged, then all are renamed into place together: a failed write leaves the previous export whole.
   const staged: StagedFile[] = [];
   const stage = async (file: string, data: string | Uint8Array) => { const f = new StagedFile(join(root, file)); staged.push(f); await f.write(data); await f.close(); };

@@ -6,7 +6,8 @@ import { UsageError } from '../declare/yaml-file.js';
 export type CellKind = 'text' | 'number' | 'integer' | 'time';
 export interface ExportColumn { name: string; unit: string; kind: CellKind }
 export type Cell = string | number | bigint | null;
-export interface ExportTable { name: string; columns: ExportColumn[]; rows: Cell[][] }
+/** A table's columns and rows; one read from a Parquet file also names the run that wrote it (its `quern.run_id`, null when absent). */
+export interface ExportTable { name: string; columns: ExportColumn[]; rows: Cell[][]; runId?: string | null }
 
 export async function readParquetTable(path: string, name: string): Promise<ExportTable> {
   let bytes: Buffer;
@@ -40,7 +41,7 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
       return x as Cell;
     }));
   }
-  return { name, columns, rows };
+  return { name, columns, rows, runId: table.schema.metadata.get('quern.run_id') ?? null };
 }
 
 /** One row per channel × flag (and per unreadable recording), from quality.json. */
@@ -56,7 +57,7 @@ export async function readQualityFlags(dir: string): Promise<ExportTable> {
     if (r.status === 'failed') rows.push([r.recording, null, 'readable', 'fail', null, 'the recording must be readable and agree with its declaration', r.reason ?? '', '{}']);
     for (const c of r.channels) for (const f of c.flags) rows.push([r.recording, c.channel, f.name, f.severity, f.value, f.threshold, f.message, JSON.stringify(f.evidence)]);
   }
-  return { name: 'quality flags', columns, rows };
+  return { name: 'quality flags', columns, rows, runId: typeof q.run_id === 'string' ? q.run_id : null };
 }
 
 /** The identity columns that stay unprefixed in the wide layout (one value per recording). */

@@ -123,7 +123,8 @@ const readHolder = async (path: string): Promise<LockHolder | null> => {
 
 export class OutputInUse extends UsageError {}
 
-export interface Lock { path: string; tookOver: TakenOver | null; release(): Promise<void> }
+/** A lock taken; `release` removes it at once (only while it is still this run's). */
+export interface Lock { path: string; tookOver: TakenOver | null; release(): void }
 
 /**
  * Takes the lock at `path` for `me`. Taking over a stale lock happens under a short-lived mutex folder, so two runs
@@ -176,15 +177,12 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
   }
   const beat = setInterval(() => { const t = new Date(); utimes(path, t, t).catch(() => {}); }, HEARTBEAT_MS);
   beat.unref();
-  // Interrupted (Ctrl-C, a scheduler's SIGTERM): leave no lock behind.
-  const onSignal = (signal: NodeJS.Signals) => { releaseNow(); process.exit(signal === 'SIGINT' ? 130 : 143); };
-  const releaseNow = () => {
+  // At once, so that a run stopped by a signal releases it before it exits (stop-on-signal.ts).
+  const release = () => {
     clearInterval(beat);
-    process.off('SIGINT', onSignal); process.off('SIGTERM', onSignal);
     try { if (readFileSync(path, 'utf8') === text) rmSync(path, { force: true }); } catch { /* already gone */ }
   };
-  process.on('SIGINT', onSignal); process.on('SIGTERM', onSignal);
-  return { path, tookOver, release: async () => releaseNow() };
+  return { path, tookOver, release };
 }
 
 /** The shards of this folder whose runs still hold their lock (merge waits for them). */

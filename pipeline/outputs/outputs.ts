@@ -62,6 +62,8 @@ export interface OutputsInput {
    * be in the making: the slices go to the workers meanwhile, whenever the results alone already mean new outputs.
    */
   changes?: Promise<TrendsWrite | null> | TrendsWrite | null;
+  /** Told as the previous outputs begin to be replaced (a stop from then on leaves them to the next run to write again). */
+  replacing?: () => void;
 }
 
 const COMMA = 0x2c;
@@ -71,8 +73,11 @@ function* digestItems(items: OutputItem[]) {
   for (const { recording, group, loc, labels } of items) yield { recording, group, bodySha: loc.bodySha, labels };
 }
 
-/** What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same. */
-export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string }
+/**
+ * What was written: the terminal's quality summary, and whether the outputs were rewritten or already said the same.
+ * `keep` writes the new outputs' digest file, which the caller does once the run's record is in place beside them.
+ */
+export interface Written { quality: QualitySummary; rewritten: boolean; digest: string; writtenBy: string; keep(): Promise<void> }
 
 /**
  * Consecutive recordings a worker assembles at once: bounded by their stored size, so a slice's rows stay small; never
@@ -125,9 +130,10 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const current = await stillCurrent(digestPath, withChanges(basis, changes));
     if (current) {
       // Trends tables staged afresh (a history that changed elsewhere) still go in place; the rest is left as it is.
+      await changes?.forget();
       await commitAll(trends);
       await changes?.done();
-      return { quality: current.quality, rewritten: false, digest: current.digest, writtenBy: current.run_id };
+      return { quality: current.quality, rewritten: false, digest: current.digest, writtenBy: current.run_id, keep: async () => {} };
     }
   }
   /** The changes, once worked out (on this thread, while the workers assemble slices). */
@@ -181,10 +187,15 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     let next = 0;
     const launch = () => { while (next < all.length && pending.length < o.pool.threads * 2) pending.push(o.pool.run<SliceOutput>('assembleSlice', task(all[next++]))); };
     launch();
-    while (pending.length) {
-      const s = await pending.shift()!;
-      launch();
-      try { await take(s); } finally { release(ownBuffers(slicePieces(s))); }
+    try {
+      while (pending.length) {
+        const s = await pending.shift()!;
+        launch();
+        try { await take(s); } finally { release(ownBuffers(slicePieces(s))); }
+      }
+    } finally {
+      // Slices still in the workers when a write failed: the threads' ending rejects them, and nothing waits for them any more.
+      for (const p of pending.splice(0)) p.then((s) => release(ownBuffers(slicePieces(s))), () => {});
     }
     for (const p of Object.values(parquet)) await p.finish();
     const outcome = (await settled())?.outcome ?? null;
@@ -229,15 +240,18 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await qualityHtml.close();
     }
     // The digest goes first, so that outputs half put in place are never vouched for; renames need no space.
+    o.replacing?.();
     await forgetDigest(digestPath);
+    await changes?.forget();
     await commitAll([...outputs, ...trends]);
     // A spectra table left from a spec that had the section would be stale.
     if (names.spectra && !spectra) await rm(join(outDir, names.table('spectra')), { force: true });
     await changes?.done();
     const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
     const digest = withChanges(basis, changes);
-    await keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });
-    return { quality: summary, rewritten: true, digest, writtenBy: o.runId };
+    // Kept only after the run's record: the outputs beside a digest file are one run's whole set, run.json with them.
+    const keep = () => keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });
+    return { quality: summary, rewritten: true, digest, writtenBy: o.runId, keep };
   } finally {
     // Changes still in the making when a write failed: their staged tables go too.
     if (changes == null) await settled().catch(() => null);

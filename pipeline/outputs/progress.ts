@@ -7,10 +7,13 @@ export interface Progress { start(total: number, reused: number): void; done(r: 
 
 export type LogMode = 'auto' | 'plain' | 'json' | 'quiet';
 
+/** One JSON line of the log: its time, then the event and its fields. */
+export const jsonLine = (stream: NodeJS.WritableStream, o: object) => stream.write(JSON.stringify({ time: new Date().toISOString(), ...o }) + '\n');
+
 export function progressFor(stream: NodeJS.WriteStream = process.stderr, { mode = 'auto' as LogMode } = {}): Progress {
   if (mode === 'quiet') return { start() {}, done() {}, stop() {} };
   if (mode === 'json') {
-    const line = (o: object) => stream.write(JSON.stringify({ time: new Date().toISOString(), ...o }) + '\n');
+    const line = (o: object) => jsonLine(stream, o);
     return {
       start: (total, reused) => line({ event: 'start', to_reduce: total, reused }),
       done: (r, detail) => line({ event: 'recording', recording: r.recording, status: r.status, seconds: Number(r.seconds.toFixed(3)), ...(r.reason ? { reason: r.reason } : {}), ...(detail ? { detail } : {}) }),

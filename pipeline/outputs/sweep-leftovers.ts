@@ -1,6 +1,7 @@
 // A run stopped while writing (a time limit's SIGKILL, the machine going down) leaves its staged files under hidden
 // temporary names. The next run that holds the same lock removes those of the names it writes, so that they never pile
 // up night after night beside the outputs.
+import { readdirSync, rmSync } from 'node:fs';
 import { readdir, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import { runsHere } from '../../stages/runs-here.js';
@@ -35,6 +36,24 @@ export async function sweepLeftovers(out: string, shard: { k: number; n: number 
       if (pid === process.pid || runs(pid)) continue;
       // One that cannot be removed (permissions) stays for a later run; it never stops this one.
       if (await rm(join(out, folder, name), { force: true }).then(() => true, () => false)) removed.push(folder === '.' ? name : `${folder}/${name}`);
+    }
+  }
+  return removed;
+}
+
+/**
+ * Removes this process's own temporary files in `out` under the names this lock holder owns, at once (a run stopped by a
+ * signal, before it ends: nothing else of the run may run in between), and returns them (relative to `out`).
+ */
+export function removeOwnTemporaries(out: string, shard: { k: number; n: number } | null): string[] {
+  const removed: string[] = [];
+  for (const { folder, owns } of ownedBy(shard)) {
+    let names: string[] = [];
+    try { names = readdirSync(join(out, folder)); } catch { continue; }
+    for (const name of names.sort()) {
+      const m = TEMPORARY.exec(name);
+      if (!m || !owns(m[1]) || Number(m[2]) !== process.pid) continue;
+      try { rmSync(join(out, folder, name), { force: true }); removed.push(folder === '.' ? name : `${folder}/${name}`); } catch { /* left for the next run */ }
     }
   }
   return removed;

@@ -75,6 +75,8 @@ export interface TrendsWrite {
   outcome: TrendsOutcome | null;
   /** Staged tables (closed), to be renamed into place together with the other outputs; empty when nothing changed. */
   files: StagedFile[];
+  /** Just before the staged tables go in place: the kept digest forgotten, so that it never vouches for tables half replaced. */
+  forget(): Promise<void>;
   /** After the outputs are in place: remove the tables whose section is off, and keep the digest. */
   done(): Promise<void>;
 }
@@ -89,7 +91,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
 }): Promise<TrendsWrite> {
   const since = o.since ?? null, earlierStored = o.earlierStored ?? false;
   const { digest, kept, history } = o.basis ?? await trendsBasis(out, spec, o);
-  if (kept) return { outcome: kept.outcome, files: [], done: async () => {} };
+  if (kept) return { outcome: kept.outcome, files: [], forget: async () => {}, done: async () => {} };
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
   const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
   const trendsFile = new StagedFile(join(out, 'trends.parquet'));
@@ -104,10 +106,10 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
       const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, presentEntriesAsStored(o.store, o.present)) : [];
       outcome = { report, html: await changesHtml(report, pictures) };
     }
-    // Forgotten first: a run stopped half-way must not leave a digest that vouches for tables not in place.
-    await rm(keptPath(out), { force: true });
     return {
       outcome, files,
+      // Forgotten only as the tables go in place: a run that fails or stops before leaves the kept digest with the tables it vouches for.
+      forget: () => rm(keptPath(out), { force: true }),
       done: async () => {
         if (!o.trends) await rm(trendsFile.path, { force: true });
         const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));

@@ -1,6 +1,6 @@
 // A compressed variable that several channels read from different places is inflated once into a temporary file, so that
 // each channel reads its part where it lies instead of inflating everything before it again (time linear in the channels).
-import { createReadStream, createWriteStream } from 'node:fs';
+import { createReadStream, createWriteStream, readdirSync, rmSync } from 'node:fs';
 import { mkdtemp, open, readdir, rm, type FileHandle } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -52,6 +52,18 @@ export async function spoolInflated(path: string, start: number, length: number,
     await remove();
     throw e;
   }
+}
+
+/** Removes this process's own copies at once (a run stopped by a signal, whose threads end with it), and returns how many. */
+export function removeOwnSpools(dir = tmpdir()): number {
+  let names: string[] = [];
+  try { names = readdirSync(dir); } catch { return 0; }
+  let removed = 0;
+  for (const name of names) {
+    if (name.match(/^quern-mat-(\d+)-/)?.[1] !== String(process.pid)) continue;
+    try { rmSync(join(dir, name), { recursive: true, force: true }); removed++; } catch { /* left for the next run's sweep */ }
+  }
+  return removed;
 }
 
 /**
