@@ -51,13 +51,14 @@ describe('Arrow columns from typed arrays', () => {
     expect(got).toEqual(await readBack(columns, toArrowTable(columns, rows, META)));
   });
 
-  it('trends: nullable text, numbers and timestamps, values one at a time, read back as the rows do', async () => {
+  it('trends: text, nullable numbers and timestamps, values one at a time, read back as the rows do', async () => {
     const u = uniform(11), rows: Record<string, string | number | null>[] = [];
     const built = columnsFor(TRENDS_TABLE);
     const maybe = <T>(v: T) => (u() < 0.3 ? null : v);
     for (let i = 0; i < 3000; i++) {
       const row: Record<string, string | number | null> = {
-        recording: `r${i % 17}.wav`, group: 'g', channel: ['acc', 'mic'][i % 2], feature: 'rms', unit: 'g', start_time: maybe(1_700_000_000_000 + i * 1000),
+        // Every trends row is placed in time, and says where its time came from.
+        recording: `r${i % 17}.wav`, group: 'g', channel: ['acc', 'mic'][i % 2], feature: 'rms', unit: 'g', start_time: 1_700_000_000_000 + i * 1000, start_time_source: i % 3 ? 'recording' : 'modified',
         value: u(), baseline: maybe(u()), change_db: maybe(u() - 0.5), score: maybe(u() * 3), verdict: maybe('steady'), limit: maybe('warn'), quality: 'ok',
       };
       rows.push(row);
