@@ -318,6 +318,15 @@ describe('declarations quern takes but may not be what was meant', () => {
     expect(unfedGroups(late, recordings)).toEqual([{ group: 'g3', line: null, takenBy: [] }, { group: 'all', line: null, takenBy: [{ group: 'g0', files: 2 }, { group: 'g1', files: 1 }, { group: 'g2', files: 1 }] }]);
     expect(unfedGroupNote(unfedGroups(late, recordings)[1])).toMatch(/^group all matches no recording of its own: its 4 files are taken by groups listed before it \(2 by g0, 1 by g1, 1 by g2\)/);
   });
+
+  it('words the fate of each earlier group\'s files where one of them is broken and another reduces', () => {
+    const groups = [{ match: ['a/*.wav'] }, { match: ['b/*.wav'] }, { match: ['*/*.wav'] }].map((g, i) => ({ name: `g${i}`, ...g })) as unknown as GroupDeclaration[];
+    const recordings = [{ recording: 'a/x.wav', group: 0 }, { recording: 'a/y.wav', group: 0 }, { recording: 'b/z.wav', group: 1 }];
+    const [all] = unfedGroups(groups, recordings, [2, 4, 6]);
+    expect(unfedGroupNote(all, 'archive.yaml', new Set(['g1']))).toBe('group g2 (archive.yaml line 6) matches no recording of its own: its 3 files are taken by groups listed before it (2 by g0, reduced under its declaration; 1 by g1, set aside with its broken declaration until it is mended) (a file belongs to the first group that matches); list group g2 first, or narrow the earlier group\'s match');
+    expect(unfedGroupNote(all, 'archive.yaml', new Set(['g0', 'g1']))).toMatch(/\(2 by g0, 1 by g1\), and set aside with those broken declarations until they are mended \(/);
+    expect(unfedGroupNote(all)).toMatch(/\(2 by g0, 1 by g1\), and reduced under their declarations \(/);
+  });
 });
 
 describe('reduction spec', () => {
