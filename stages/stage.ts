@@ -14,6 +14,8 @@ export interface ChannelContext {
   range: [number, number] | null;
   /** Converter resolution in bits, when declared or known from the file. */
   bits: number | null;
+  /** Whether `bits` is the file's (none declared, or a declared width its codes cannot hold) rather than the declaration's. */
+  bitsFromFile?: boolean;
   /** Highest frequency the signal is declared to contain, Hz. */
   maxFrequencyHz: number | null;
   /** RMS of the measurement chain's own noise in engineering units, when declared (`noise_floor`). */

@@ -2,7 +2,7 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { loadArchiveDeclaration, loadSpec } from '../pipeline/declare/declare.js';
+import { loadArchiveDeclaration, loadSpec, readArchiveDeclaration } from '../pipeline/declare/declare.js';
 import { editDistance, likelyMeant } from '../pipeline/declare/nearest-names.js';
 import { UsageError } from '../pipeline/declare/yaml-file.js';
 import { quern, readJson, tempDir } from './helpers.js';
@@ -113,6 +113,58 @@ describe('archive declaration', () => {
     expect(message).toMatch(/:7: groups\[0\]\.channels\[1\]\.name: channel name "a" appears twice/);
     expect(message).toMatch(/:2: groups\[0\]: format raw needs a layout/);
     expect(message).toMatch(/format raw needs sample_rate/);
+  });
+
+  it('lists every problem of a group at once: the schema\'s (a number beyond 1.8e308, an unknown key) and the ones it cannot see', async () => {
+    for (const slip of ['scale: 1e400', 'scael: 5']) {
+      const yaml = `groups:\n  - name: riga\n    match: "riga/*.wav"\n    channels:\n      - { name: a1, scale: 50, range: [50, -50] }\n      - { name: a1, ${slip} }\n  - name: rigb\n    match: "rigb/*.wav"\n`;
+      const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+      expect(message.split('\n').map((l) => l.replace(/^.*archive\.yaml:/, ''))).toEqual([
+        '5: groups[0].channels[0].range: range must be [lower, upper] with lower < upper, got [50, -50]',
+        `6: groups[0].channels[1].${slip.split(':')[0]}: ${slip.startsWith('scale') ? 'must be a finite number' : 'unknown key "scael"; did you mean scale?'}${slip.startsWith('scale') ? ' (.inf, .nan and values beyond 1.8e308 are not); write the value itself' : ''}`,
+        '6: groups[0].channels[1].name: channel name "a1" appears twice in this group',
+      ]);
+      // The run sets the group aside with all three, and reduces the other.
+      const d = await readArchiveDeclaration(archiveWith(yaml));
+      expect(d.groups.map((g) => [g.name, (g.broken ?? []).length])).toEqual([['riga', 3], ['rigb', 0]]);
+    }
+  });
+
+  it('passes over values of the wrong type, which the schema names, and still finds the problems beside them', async () => {
+    const yaml = [
+      'groups:', //                                                     1
+      '  - name: g', //                                                 2
+      '    match: "*.h5"', //                                           3
+      '    labels: [rig, bay]', //                                      4
+      '    capture_every: 12', //                                       5
+      '    hdf5: { datasets: 7, channel_axis: 1 }', //                  6
+      '    mat: mine', //                                               7
+      '    layout: 4', //                                               8
+      '    channels:', //                                               9
+      '      - just-a-name', //                                         10
+      '      - { name: 3, range: oops }', //                            11
+      '      - { name: b, range: [1, .inf], trigger_level: 1 }', //     12
+      '      - { name: b, range: [2, 1] }', //                          13
+      '  - name: h', //                                                 14
+      '    match: "*.wav"', //                                          15
+      '    labels: { Rig: a, RIG: b }', //                              16
+      '    channels: { name: c }', //                                   17
+      '',
+    ].join('\n');
+    const message = await errorOf(loadArchiveDeclaration(archiveWith(yaml)));
+    // Found beside the refused values: a trigger without pulses, a name twice, a reversed range, a case clash of labels.
+    expect(message).toMatch(/:12: groups\[0\]\.channels\[2\]\.trigger_level: trigger_level applies to a tacho channel only/);
+    expect(message).toMatch(/:13: groups\[0\]\.channels\[3\]\.name: channel name "b" appears twice in this group/);
+    expect(message).toMatch(/:13: groups\[0\]\.channels\[3\]\.range: range must be \[lower, upper\] with lower < upper, got \[2, 1\]/);
+    expect(message).toMatch(/:16: groups\[1\]\.labels\.RIG: label "RIG" differs from the label "Rig" of the same group only in case/);
+    // The schema's own, each once; nothing said twice about a value the schema refused (1e400's range, 12 as a span).
+    expect(message).toMatch(/:12: groups\[0\]\.channels\[2\]\.range\[1\]: must be a finite number/);
+    expect(message).toMatch(/:5: groups\[0\]\.capture_every: must be string/);
+    expect(message).not.toMatch(/capture_every must be a span|got \[1, Infinity\]|layout says/);
+
+    // A key said to be missing where the schema refused one beside it, maybe that key misspelt, is left to the schema's line.
+    const misspelt = await errorOf(loadArchiveDeclaration(archiveWith('groups:\n  - name: g\n    match: "*.wav"\n    channels:\n      - { name: t, pulses_per_rve: 2, trigger_level: 1 }\n')));
+    expect(misspelt.replace(/^.*archive\.yaml:/, '')).toBe('5: groups[0].channels[0].pulses_per_rve: unknown key "pulses_per_rve"; did you mean pulses_per_rev?\nno group of archive.yaml can be used, so a run would reduce nothing; it stops until the groups are mended');
   });
 
   it('reads a tacho channel, and refuses a trigger on a channel without pulses_per_rev', async () => {
@@ -266,6 +318,15 @@ describe('declarations quern takes but may not be what was meant', () => {
     expect(unfedGroups(late, recordings)).toEqual([{ group: 'g3', line: null, takenBy: [] }, { group: 'all', line: null, takenBy: [{ group: 'g0', files: 2 }, { group: 'g1', files: 1 }, { group: 'g2', files: 1 }] }]);
     expect(unfedGroupNote(unfedGroups(late, recordings)[1])).toMatch(/^group all matches no recording of its own: its 4 files are taken by groups listed before it \(2 by g0, 1 by g1, 1 by g2\)/);
   });
+
+  it('words the fate of each earlier group\'s files where one of them is broken and another reduces', () => {
+    const groups = [{ match: ['a/*.wav'] }, { match: ['b/*.wav'] }, { match: ['*/*.wav'] }].map((g, i) => ({ name: `g${i}`, ...g })) as unknown as GroupDeclaration[];
+    const recordings = [{ recording: 'a/x.wav', group: 0 }, { recording: 'a/y.wav', group: 0 }, { recording: 'b/z.wav', group: 1 }];
+    const [all] = unfedGroups(groups, recordings, [2, 4, 6]);
+    expect(unfedGroupNote(all, 'archive.yaml', new Set(['g1']))).toBe('group g2 (archive.yaml line 6) matches no recording of its own: its 3 files are taken by groups listed before it (2 by g0, reduced under its declaration; 1 by g1, set aside with its broken declaration until it is mended) (a file belongs to the first group that matches); list group g2 first, or narrow the earlier group\'s match');
+    expect(unfedGroupNote(all, 'archive.yaml', new Set(['g0', 'g1']))).toMatch(/\(2 by g0, 1 by g1\), and set aside with those broken declarations until they are mended \(/);
+    expect(unfedGroupNote(all)).toMatch(/\(2 by g0, 1 by g1\), and reduced under their declarations \(/);
+  });
 });
 
 describe('reduction spec', () => {
@@ -284,6 +345,13 @@ describe('reduction spec', () => {
     const dir = archiveWith('groups: []');
     writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectra: {}\n');
     expect(await errorOf(loadSpec(dir))).toMatch(/reduction\.yaml:2: spectra: unknown key "spectra"/);
+  });
+
+  it('names a number that is not finite and the schema\'s other problems together', async () => {
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nspectrum: { segment: 1024, overlap: .nan }\nspectra: {}\n');
+    const message = await errorOf(loadSpec(dir));
+    expect(message).toMatch(/reduction\.yaml:2: spectrum\.overlap: must be a finite number[^\n]*\n.*reduction\.yaml:3: spectra: unknown key "spectra"/);
   });
 
   it('names the line of a YAML syntax error (a tab where YAML wants spaces, YAML 1.2 §6.1)', async () => {

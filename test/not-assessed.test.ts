@@ -31,12 +31,38 @@ describe('checks not made for want of a declaration', () => {
     ]);
     const q = readJson(join(out, 'quality.json'));
     expect(q.totals.not_assessed).toEqual({
-      saturation: { channels: 5, groups: ['rig-a', 'rig-b'], why: ['declare range in archive.yaml'] },
-      resolution: { channels: 6, groups: ['rig-a', 'rig-b'], why: ['floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them'] },
+      saturation: { channels: 5, groups: ['rig-a', 'rig-b'], why: ['declare range in archive.yaml'], reasons: [{ why: 'declare range in archive.yaml', channels: 5, groups: ['rig-a', 'rig-b'] }] },
+      resolution: { channels: 6, groups: ['rig-a', 'rig-b'], why: ['floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them'], reasons: [{ why: 'floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them', channels: 6, groups: ['rig-a', 'rig-b'] }] },
     });
     // The severities stay as they were: a check not made is ok by severity.
     expect(q.totals.flags.saturation.ok).toBe(6);
     expect(readFileSync(join(out, 'quality.html'), 'utf8')).toContain('Not checked: saturation on 5 channels (groups rig-a, rig-b): declare range in archive.yaml.');
+  });
+
+  it('gives each reason with the groups it applies to, so a group is never told to declare what it already declares', async () => {
+    const archive = tempDir();
+    for (const g of ['bare', 'bits-only', 'bare-too']) { mkdirSync(join(archive, g)); writeFileSync(join(archive, g, 'one.csv'), sineCsv(['acc'])); }
+    // A converter step is range / 2^bits (common practice): bits without range give none, so that group is told range only.
+    writeFileSync(join(archive, 'archive.yaml'), [
+      'groups:',
+      '  - { name: bare, match: "bare/*.csv", channels: [{ name: acc, quantity: acceleration, unit: m/s^2 }] }',
+      '  - { name: bits-only, match: "bits-only/*.csv", channels: [{ name: acc, quantity: acceleration, unit: m/s^2, bits: 12 }] }',
+      '  - { name: bare-too, match: "bare-too/*.csv", channels: [{ name: acc, quantity: acceleration, unit: m/s^2 }] }',
+    ].join('\n') + '\n');
+    writeFileSync(join(archive, 'reduction.yaml'), 'statistics: {}\n');
+    const out = join(tempDir(), 'out');
+    const r = await quern('reduce', archive, '--out', out, '--jobs', '1');
+    expect(r.code, r.stdout + r.stderr).toBe(0);
+    const both = 'floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them';
+    const range = 'floating-point samples keep no converter step: declare range with bits in archive.yaml';
+    const line = `resolution on 3 channels: groups bare, bare-too: ${both}; group bits-only: ${range}`;
+    expect(r.stdout.split('\n').filter((l) => l.includes('NOT CHECKED resolution'))).toEqual([`  NOT CHECKED ${line}`]);
+    const q = readJson(join(out, 'quality.json'));
+    expect(q.totals.not_assessed.resolution).toEqual({
+      channels: 3, groups: ['bare', 'bare-too', 'bits-only'], why: [both, range],
+      reasons: [{ why: both, channels: 2, groups: ['bare', 'bare-too'] }, { why: range, channels: 1, groups: ['bits-only'] }],
+    });
+    expect(readFileSync(join(out, 'quality.html'), 'utf8')).toContain(`Not checked: ${line}.`);
   });
 
   it('names only what a range declared on a strain channel leaves unchecked', async () => {

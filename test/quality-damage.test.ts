@@ -44,6 +44,16 @@ describe('resolution judged on the steps the data actually take', () => {
     expect(flag('resolution').message).toMatch(/coarser than the declared 16 bits/);
   });
 
+  it('names the file\'s 16 bits, not declared ones, when the group declares no bits', async () => {
+    // The same 8-bit codes in a 16-bit PCM file (WAV's bits per sample, common practice), bits left to the file.
+    const g = gauss(11), delta = 500 / 128;
+    const x = Float64Array.from({ length: 40000 }, () => Math.round(0.02 * 500 * g() / delta) * delta);
+    const { row, flag } = await reduce(x, 10000, accelerometer({ bits: null }));
+    expect(row.step_size).toBeCloseTo(delta, 12);
+    expect(flag('resolution').message).toMatch(/coarser than the file's 16 bits\)/);
+    expect(flag('resolution').message).not.toMatch(/declared/);
+  });
+
   it('the same noise on every 16-bit code keeps the declared step and reads clean', async () => {
     const g = gauss(11);
     const x = Float64Array.from({ length: 40000 }, () => 0.02 * 500 * g());

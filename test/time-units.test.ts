@@ -29,6 +29,26 @@ describe('a time column\'s unit named in its header (SI prefixes: common practic
     for (const h of ['s', 'us', 'ns', 'NS', 'acc_x', 'mass', 'time_min', 'tms_x']) expect(timeColumnOf(h)).toBeNull();
   });
 
+  it.each([['timestamp_ms', 1e3], ['timestamp [ms]', 1e3], ['timestamp_us', 1e6], ['Timestamp (s)', 1]])('"%s" is read as a time column too, divided by %d', (header, perSecond) => {
+    expect(timeColumnOf(header)).toEqual({ perSecond, stated: true });
+  });
+
+  it('refuses a time column in minutes, hours or days, naming the units read, rather than reducing it as a channel', async () => {
+    // 0.5 ms steps written in each unit (1 min = 60 s, 1 h = 3600 s: SI, common practice); a declared rate does not save them.
+    const cases: [string, string, number][] = [['time [min]', 'min', 60], ['time (h)', 'h', 3600], ['t_min', 'min', 60], ['time_h', 'h', 3600], ['timestamp [days]', 'days', 86400]];
+    for (const [header, unit, seconds] of cases) {
+      const text = `${header},acc\n${[0, 1, 2, 3].map((i) => `${(i * 0.0005 / seconds).toPrecision(9)},${i}`).join('\n')}\n`;
+      for (const options of [{}, { sampleRate: 2000 }]) {
+        await expect(readAll(write('a.csv', text), options)).rejects.toThrow(new RegExp(`^line 1: column "${header.replace(/[[\]()]/g, '\\$&')}" is a time column in ${unit}, a unit quern does not read; quern reads time in s, ms, us \\(µs\\) or ns named in the header .*export the times in one of those \\(seconds: time \\[s\\]\\), or remove the column and set sample_rate`));
+      }
+    }
+    // Names that only start like one stay channels: a temperature, a tacho, a bare NS axis.
+    for (const h of ['T [°C]', 't_amb', 'tacho', 'temp', 'NS', 'ns', 'us', 'time_of_day']) {
+      const { rec } = await readAll(write('b.csv', `${h},acc\n1,2\n3,4\n`), { sampleRate: 100 });
+      expect(rec.channelNames).toEqual([h, 'acc']);
+    }
+  });
+
   it('suggests time_ms where a declared rate is a thousand times the column\'s', async () => {
     await expect(readAll(write('a.csv', 'time,x\n0,1\n0.5,2\n1.0,3\n1.5,4\n'), { sampleRate: 2000 }))
       .rejects.toThrow(/the time column steps at 2\.00000 Hz but the declaration says 2000 Hz; .*"time" may hold milliseconds: name it time_ms in the header/);

@@ -11,13 +11,12 @@ import type { ArchiveDeclaration, ChannelDeclaration, GroupDeclaration } from '.
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { packageRoot } from './package-files.js';
 import { checkSpec } from './check-spec.js';
-import { parseSpan } from '../select/select.js';
 import { NO_QUANTITY_USES, quantityNote, unitNote, type QuantityUses } from './quantity-uses.js';
 import { brokenGroup, groupName, groupOfProblem, readablePattern } from './broken-group.js';
-import { formatProblems, parseYaml, parseYamlProblems, UsageError, yamlText, type Problem, type YamlSource } from './yaml-file.js';
+import { groupProblems, type LabelsSeen } from './group-problems.js';
+import { formatProblems, parseYaml, parseYamlProblems, schemaProblems, UsageError, yamlText, type Problem, type YamlSource } from './yaml-file.js';
 
-/** Column names that labels may not take, since the table already has them. */
-export const FIXED_COLUMNS = ['recording', 'group', 'channel', 'quantity', 'unit', 'sample_rate', 'n', 'duration_s', 'start_time'];
+export { FIXED_COLUMNS } from './group-problems.js';
 
 export const ARCHIVE_FILE = 'archive.yaml';
 export const SPEC_FILE = 'reduction.yaml';
@@ -51,38 +50,12 @@ function matLayout(m: NonNullable<RawGroup['mat']>): MatLayout {
   };
 }
 
-/** Labels seen so far, by their lower-case spelling: SQL readers take two that differ only in case as one column. */
-type LabelsSeen = Map<string, { label: string; group: string }>;
-
-/**
- * One group whose keys the schema accepts, with its defaults, and the problems the schema cannot see in it (a reversed range,
- * a channel named twice, a label that clashes, a section its format needs); `labelsSeen` gathers the labels of every group.
- */
-function declareGroup(g: RawGroup, gi: number, source: YamlSource, reserved: readonly string[], uses: QuantityUses, labelsSeen: LabelsSeen): { group: GroupDeclaration; problems: Problem[]; notes: string[] } {
-  const problems: Problem[] = [];
+/** One group whose keys the schema accepts and in which no problem was found, with its defaults, and the notes on its channels. */
+function declareGroup(g: RawGroup, gi: number, source: YamlSource, uses: QuantityUses): { group: GroupDeclaration; notes: string[] } {
   const notes: string[] = [];
-  const at = (...p: (string | number)[]) => ['groups', gi, ...p];
-  for (const label of Object.keys(g.labels ?? {})) {
-    // SQL readers (DuckDB, SQLite, most databases) take column names without regard to case: "Quality" is "quality" there.
-    const same = (name: string) => name.toLowerCase() === label.toLowerCase();
-    const fixed = FIXED_COLUMNS.find(same), other = reserved.find(same), earlier = labelsSeen.get(label.toLowerCase());
-    const column = (name: string) => (name === label ? 'column of that name' : `column ${name} (SQL readers take names without regard to case, so "${label}" is "${name}" there)`);
-    if (fixed) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the ${column(fixed)}; rename the label`, true));
-    else if (other) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's ${column(other)} under this reduction spec; rename the label`, true));
-    else if (earlier && earlier.label !== label) problems.push(source.problem(at('labels', label), `label "${label}" differs from the label "${earlier.label}" ${earlier.group === g.name ? 'of the same group' : 'of another group'} only in case, and SQL readers take them as one column; spell them alike`, true));
-    else labelsSeen.set(label.toLowerCase(), { label, group: g.name });
-  }
-  const channelNames = new Set<string>();
   const channels = g.channels?.map((c, ci): ChannelDeclaration => {
-    if (channelNames.has(c.name!)) problems.push(source.problem(at('channels', ci, 'name'), `channel name "${c.name}" appears twice in this group`));
-    channelNames.add(c.name!);
-    const declared = { group: g.name, channel: c.name!, quantity: c.quantity, unit: c.unit, file: ARCHIVE_FILE, line: source.lineOf(at('channels', ci)) };
+    const declared = { group: g.name, channel: c.name!, quantity: c.quantity, unit: c.unit, file: ARCHIVE_FILE, line: source.lineOf(['groups', gi, 'channels', ci]) };
     for (const note of [quantityNote(declared, uses), unitNote(declared, uses)]) if (note) notes.push(note);
-    if (c.range && !(c.range[0] < c.range[1])) problems.push(source.problem(at('channels', ci, 'range'), `range must be [lower, upper] with lower < upper, got [${c.range.join(', ')}]`));
-    if (c.scale === 0) problems.push(source.problem(at('channels', ci, 'scale'), 'scale 0 would turn every sample into the offset; give the sensitivity in engineering units per stored unit'));
-    for (const key of ['trigger_level', 'trigger_hysteresis'] as const) {
-      if (c[key] != null && c.pulses_per_rev == null) problems.push(source.problem(at('channels', ci, key), `${key} applies to a tacho channel only; declare pulses_per_rev for it, or remove ${key}`));
-    }
     return {
       name: c.name!, quantity: c.quantity ?? 'unknown', unit: c.unit ?? 'FS', scale: c.scale ?? 1, offset: c.offset ?? 0,
       range: (c.range as [number, number] | undefined) ?? null, bits: c.bits ?? null, max_frequency_hz: c.max_frequency_hz ?? null,
@@ -94,31 +67,14 @@ function declareGroup(g: RawGroup, gi: number, source: YamlSource, reserved: rea
     };
   }) ?? null;
   const layout = g.layout ? { sample_type: g.layout.sample_type!, byte_order: g.layout.byte_order ?? 'little', channels: g.layout.channels!, header_bytes: g.layout.header_bytes ?? 0 } : null;
-  if (g.format === 'raw' && !layout) problems.push(source.problem(at(), 'format raw needs a layout: { sample_type, byte_order, channels, header_bytes }'));
-  if (g.format === 'raw' && g.sample_rate == null) problems.push(source.problem(at(), 'format raw needs sample_rate (Hz): raw files carry no header'));
-  if (layout && channels && layout.channels !== channels.length) problems.push(source.problem(at('channels'), `layout says ${layout.channels} channels but ${channels.length} are declared`));
   const hdf5 = g.hdf5 ? hdf5Layout(g.hdf5) : null;
-  if (g.format === 'hdf5' && !hdf5) problems.push(source.problem(at(), 'format hdf5 needs an hdf5 section: { datasets, channel_axis, sample_rate_attribute, start_time_attribute }'));
-  if (hdf5 && hdf5.sample_rate_attribute == null && hdf5.sample_rate_dataset == null && hdf5.time_dataset == null && g.sample_rate == null) problems.push(source.problem(at('hdf5'), 'HDF5 files need a sample rate: declare sample_rate for the group, hdf5.sample_rate_attribute, hdf5.sample_rate_dataset or hdf5.time_dataset'));
-  if (hdf5?.time_dataset != null && (hdf5.sample_rate_attribute != null || hdf5.sample_rate_dataset != null)) problems.push(source.problem(at('hdf5', 'time_dataset'), 'give the sample rate once: from hdf5.time_dataset, or hdf5.sample_rate_attribute or hdf5.sample_rate_dataset, not both'));
-  for (const [attribute, dataset] of [['sample_rate_attribute', 'sample_rate_dataset'], ['start_time_attribute', 'start_time_dataset']] as const) {
-    if (hdf5?.[attribute] != null && hdf5[dataset] != null) problems.push(source.problem(at('hdf5', dataset), `give it once: hdf5.${attribute} or hdf5.${dataset}, not both`));
-  }
-  if (hdf5 && hdf5.datasets.length > 1 && hdf5.channel_axis != null) problems.push(source.problem(at('hdf5', 'channel_axis'), 'channel_axis applies to one two-dimensional dataset; with one dataset per channel leave it out'));
-  if (hdf5 && channels && hdf5.datasets.length > 1 && hdf5.datasets.length !== channels.length) problems.push(source.problem(at('channels'), `hdf5.datasets names ${hdf5.datasets.length} datasets (one per channel) but ${channels.length} channels are declared`));
   const mat = g.mat ? matLayout(g.mat) : null;
-  if (g.format === 'mat' && !mat) problems.push(source.problem(at(), 'format mat needs a mat section: { variables, channel_axis, sample_rate_variable, start_time_variable }'));
-  if (mat && mat.sample_rate_variable == null && mat.time_variable == null && g.sample_rate == null) problems.push(source.problem(at('mat'), 'MAT-files need a sample rate: declare sample_rate for the group, mat.sample_rate_variable or mat.time_variable'));
-  if (mat && mat.sample_rate_variable != null && mat.time_variable != null) problems.push(source.problem(at('mat', 'time_variable'), 'give the sample rate once: mat.sample_rate_variable or mat.time_variable, not both'));
-  if (mat && mat.variables.length > 1 && mat.channel_axis != null) problems.push(source.problem(at('mat', 'channel_axis'), 'channel_axis applies to one two-dimensional variable; with one variable per channel leave it out'));
-  if (mat && channels && mat.variables.length > 1 && mat.variables.length !== channels.length) problems.push(source.problem(at('channels'), `mat.variables names ${mat.variables.length} variables (one per channel) but ${channels.length} channels are declared`));
-  if (g.capture_every != null && !(parseSpan(g.capture_every) > 0)) problems.push(source.problem(at('capture_every'), 'capture_every must be a span longer than zero (12h, 1d, 1w)'));
   const flac = g.flac ? { start_time_tag: g.flac.start_time_tag ?? null } : null;
   const group = {
     name: g.name, match: Array.isArray(g.match) ? g.match : [g.match], format: g.format ?? null, sample_rate: g.sample_rate ?? null,
     labels: Object.fromEntries(Object.entries(g.labels ?? {}).map(([k, v]) => [k, String(v)])), layout, hdf5, mat, flac, channels, duration_s: g.duration_s ?? null, capture_every: g.capture_every?.trim() ?? null,
   };
-  return { group, problems, notes };
+  return { group, notes };
 }
 
 /**
@@ -135,11 +91,10 @@ export async function readArchiveDeclaration(archive: string, reserved: readonly
   if (!existsSync(archive)) throw new UsageError(`${archive}: no such archive folder; give the folder that holds ${ARCHIVE_FILE}`);
   if (!existsSync(file)) throw new UsageError(`${file}: missing; every archive declares its recordings in ${ARCHIVE_FILE} at its root (see schemas/archive.schema.json and the README)`);
   const { value, source, infinite, invalid } = await parseYamlProblems(await yamlText(file), 'archive.schema.json', file);
-  // A number that is not finite passes the schema's "number", so the schema says nothing more where it lies.
-  const schemaProblems = [...infinite, ...invalid.filter((p) => !infinite.some((q) => q.path === p.path))];
+  const refusedBySchema = schemaProblems(infinite, invalid);
   const rawGroups = (value as { groups?: unknown }).groups;
-  if (schemaProblems.some((p) => groupOfProblem(p) < 0) || !Array.isArray(rawGroups)) throw new UsageError(formatProblems(schemaProblems));
-  const everything: Problem[] = [...schemaProblems];
+  if (refusedBySchema.some((p) => groupOfProblem(p) < 0) || !Array.isArray(rawGroups)) throw new UsageError(formatProblems(refusedBySchema));
+  const everything: Problem[] = [...refusedBySchema];
   // Why the run stops though the problems lie inside groups (none: it does not, or only the problems need saying).
   const stops: string[] = [];
   let stop = false;
@@ -153,17 +108,23 @@ export async function readArchiveDeclaration(archive: string, reserved: readonly
       stop = true;
     }
     names.add(name);
-    const refused = schemaProblems.filter((p) => groupOfProblem(p) === gi);
-    const declared = refused.length ? null : declareGroup(g as RawGroup, gi, source, reserved, uses, labelsSeen);
-    const problems = declared ? declared.problems : refused;
-    if (declared) everything.push(...declared.problems);
-    if (!problems.length) { notes.push(...declared!.notes); return declared!.group; }
+    const refused = refusedBySchema.filter((p) => groupOfProblem(p) === gi);
+    // Looked for in a group the schema refused too, so that every problem of the group is told at once.
+    const found = groupProblems(g, gi, name, source, reserved, labelsSeen, refused);
+    everything.push(...found);
+    if (!refused.length && !found.length) {
+      const declared = declareGroup(g as RawGroup, gi, source, uses);
+      notes.push(...declared.notes);
+      return declared.group;
+    }
+    // In the order they are written, as the file is read when mending it.
+    const problems = [...refused, ...found].sort((a, b) => a.line - b.line);
     const match = readablePattern(g);
     if (!match) stops.push(`group ${name}'s match pattern cannot be read, so the files it is meant for could fall to another group; a run stops until ${ARCHIVE_FILE} line ${source.lineOf(['groups', gi])} is mended`);
     return brokenGroup(name, match ?? [], problems.map((p) => formatProblems([p])));
   });
   if (groups.length && groups.every((g) => g.broken)) stops.push(`no group of ${ARCHIVE_FILE} can be used, so a run would reduce nothing; it stops until the groups are mended`);
-  if (stop || stops.length) throw new UsageError([formatProblems(everything), ...stops].join('\n'));
+  if (stop || stops.length) throw new UsageError([formatProblems(everything.sort((a, b) => a.line - b.line)), ...stops].join('\n'));
   return { file, groups, notes, lines: rawGroups.map((_, gi) => source.lineOf(['groups', gi])) };
 }
 

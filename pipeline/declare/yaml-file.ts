@@ -96,10 +96,14 @@ export async function yamlText(file: string, displayName = file): Promise<string
 
 export async function parseYaml(text: string, schemaName: string, displayName: string): Promise<{ value: unknown; source: YamlSource }> {
   const { value, source, infinite, invalid } = await parseYamlProblems(text, schemaName, displayName);
-  // Numbers that are not finite first: the schema takes them for numbers, so they are all that is wrong there.
-  if (infinite.length) throw new UsageError(formatProblems(infinite));
-  if (invalid.length) throw new UsageError(formatProblems(invalid));
+  const problems = schemaProblems(infinite, invalid);
+  if (problems.length) throw new UsageError(formatProblems(problems));
   return { value, source };
+}
+
+/** Every problem at once, in the file's order; where a number is not finite the schema, which takes it for a number, says nothing more. */
+export function schemaProblems(infinite: Problem[], invalid: Problem[]): Problem[] {
+  return [...infinite, ...invalid.filter((p) => !infinite.some((q) => q.path === p.path))].sort((a, b) => a.line - b.line);
 }
 
 /**

@@ -119,7 +119,7 @@ export async function computeRecording(
         if (known) return known;
         const g = outputOf(group);
         const ctx: ChannelContext = {
-          name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits,
+          name: decl.name, quantity: decl.quantity, unit: decl.unit, sampleRate: r.sampleRate, range: decl.range, bits, bitsFromFile: bits != null && bits !== decl.bits,
           maxFrequencyHz: decl.max_frequency_hz,
           noiseFloor: decl.noise_floor ?? null,
           aliasFreeFraction: decl.alias_free_fraction ?? null,

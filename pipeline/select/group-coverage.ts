@@ -27,7 +27,13 @@ export function unfedGroupNote(u: UnfedGroup, file = 'archive.yaml', broken: Rea
   if (!u.takenBy.length) return `group ${u.group}${where} matches no recording; check its match pattern against the archive's folders and names (letter case counts), or remove the group if its rig is retired`;
   const count = u.takenBy.reduce((s, t) => s + t.files, 0);
   const files = `its ${count === 1 ? 'file is' : `${count} files are`}`;
-  const taken = u.takenBy.length === 1 ? `${files} taken by group ${u.takenBy[0].group}, listed before it` : `${files} taken by groups listed before it (${u.takenBy.map((t) => `${t.files} by ${t.group}`).join(', ')})`;
-  const fate = u.takenBy.every((t) => broken.has(t.group)) ? `and set aside with that broken declaration until it is mended` : 'and reduced under that declaration';
-  return `group ${u.group}${where} matches no recording of its own: ${taken}, ${fate} (a file belongs to the first group that matches); list group ${u.group} first, or narrow the earlier group's match`;
+  const takers = u.takenBy.filter((t) => broken.has(t.group)).length;
+  const one = u.takenBy.length === 1;
+  // Each taker's fate where they differ: a broken one sets its files aside, the others reduce them.
+  const taken = one ? `${files} taken by group ${u.takenBy[0].group}, listed before it`
+    : takers === 0 || takers === u.takenBy.length ? `${files} taken by groups listed before it (${u.takenBy.map((t) => `${t.files} by ${t.group}`).join(', ')})`
+    : `${files} taken by groups listed before it (${u.takenBy.map((t) => `${t.files} by ${t.group}, ${broken.has(t.group) ? 'set aside with its broken declaration until it is mended' : 'reduced under its declaration'}`).join('; ')})`;
+  const fate = takers === 0 ? `, and reduced under ${one ? 'that declaration' : 'their declarations'}`
+    : takers === u.takenBy.length ? `, and set aside with ${one ? 'that broken declaration until it is mended' : 'those broken declarations until they are mended'}` : '';
+  return `group ${u.group}${where} matches no recording of its own: ${taken}${fate} (a file belongs to the first group that matches); list group ${u.group} first, or narrow the earlier group's match`;
 }

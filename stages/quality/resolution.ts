@@ -90,7 +90,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
           name: 'resolution', severity, value: snr, threshold,
           evidence: { step_size: step, declared_step_size: base, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
           message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
-            + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than the declared ${ctx.bits} bits)` : '')
+            + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than ${ctx.bitsFromFile ? 'the file\'s' : 'the declared'} ${ctx.bits} bits)` : '')
             + `, ${snr.toFixed(1)} dB above ideal quantisation noise`
             + ({ ok: '', note: `: a peak can be off by ${pct(peakError)} (half a step), and band figures more than ${snr.toFixed(0)} dB below the overall level sit on quantisation noise`,
               warn: `: too coarse for the figures: a peak can be off by ${pct(peakError)}, and band figures more than ${snr.toFixed(0)} dB below the overall level are quantisation noise; use a smaller range or a finer converter`,

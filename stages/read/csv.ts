@@ -13,8 +13,19 @@ import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './ti
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
 /** Divisors from a unit a time column's header names to seconds. */
 const PER_SECOND: Record<string, number> = { s: 1, ms: 1e3, us: 1e6, 'µs': 1e6, 'μs': 1e6, ns: 1e9 };
-// A unit after time or t (time_ms, time [ms], time (ms), t_ms, t[ms], tms) or alone (ms, µs; not a bare s, us or ns, likely channels' names: NS is a north–south axis).
-const TIME_UNIT_HEADER = /^(?:(?:time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|µs|μs|seconds))$/i;
+// A unit after time, timestamp or t (time_ms, time [ms], time (ms), timestamp_us, t_ms, t[ms], tms) or alone (ms, µs; not a bare s, us or ns, likely channels' names: NS is a north–south axis).
+const TIME_UNIT_HEADER = /^(?:(?:timestamp|time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|µs|μs|seconds))$/i;
+/** The units a time column is read in, as a header names them. */
+export const TIME_UNITS_READ = 's, ms, us (µs) or ns';
+// Time, timestamp or t with a unit of time quern does not read (time [min], time_h, t (h), timestamp_days); time or timestamp with any bracketed unit.
+const UNREAD_TIME_UNIT = /^(?:(?:timestamp|time|t)[ _]?(?:\(\s*(min|mins|minutes?|h|hrs?|hours?|d|days?)\s*\)|\[\s*(min|mins|minutes?|h|hrs?|hours?|d|days?)\s*\]|_(min|mins|minutes?|h|hrs?|hours?|d|days?))|(?:timestamp|time) ?(?:\(\s*([^)]*[^)\s][^)]*?)\s*\)|\[\s*([^\]]*[^\]\s][^\]]*?)\s*\]))$/i;
+
+/** The unit a first column's header gives time in that quern does not read (min in "time [min]"); null for any other header. */
+export function unreadTimeUnitOf(header: string): string | null {
+  if (timeColumnOf(header)) return null;
+  const m = header.match(UNREAD_TIME_UNIT);
+  return m ? m[1] ?? m[2] ?? m[3] ?? m[4] ?? m[5] : null;
+}
 
 /**
  * Whether a header names a time column, and in what unit: `perSecond` divides its numbers into seconds, and `stated` says
@@ -139,6 +150,11 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   while (names.length > 1 && names[names.length - 1] === '' && probeRows.every((r) => (r[names.length - 1] ?? '').trim() === '')) names.pop();
   refuseRepeatedNames(names, headerLine);
   const timeOf = timeColumnOf(names[0]);
+  // A time column in another unit would be reduced as a channel (a ramp with figures): refused, with what quern reads.
+  const unread = timeOf ? null : unreadTimeUnitOf(names[0]);
+  if (unread != null) {
+    throw new RecordingError(`line ${headerLine}: column "${names[0]}" is a time column in ${unread}, a unit quern does not read; quern reads time in ${TIME_UNITS_READ} named in the header (time [s], time_ms, timestamp_us) or as ISO 8601 date-times: export the times in one of those (seconds: time [s]), or remove the column and set ${sampleRateWhere}`);
+  }
   const timeColumn = timeOf ? 0 : -1, perSecond = timeOf?.perSecond ?? 1;
   const channelNames = names.filter((_, i) => i !== timeColumn);
   if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
