@@ -152,6 +152,7 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
  */
 function unresolvedNote(name: string, bands: { fraction: 1 | 3; nominal: number; room: BandRoom }[], spanned: number, fs: number, win: WelchOptions['window'], decimation: number): string {
   const needed = decimation * Math.ceil(fs / (decimation * Math.min(...bands.map((b) => resolutionNeeded(b.room, win)))));
-  const what = needed > LONGEST_SEGMENT ? `a periodogram longer than the longest segment quern takes (${LONGEST_SEGMENT} samples)` : `gap-free stretches of at least ${needed} samples (${Number((needed / fs).toPrecision(3))} s of recording${decimation > 1 ? `; after a gap, ${decimation * settlingOutputs(lastHalving(fs, decimation))} more while the low-pass filter settles` : ''})`;
+  // After a gap the decimated stream waits for the filter's settling, counted from the output at or after the gap's last sample.
+  const what = needed > LONGEST_SEGMENT ? `a periodogram longer than the longest segment quern takes (${LONGEST_SEGMENT} samples)` : `gap-free stretches of at least ${needed} samples (${Number((needed / fs).toPrecision(3))} s of recording${decimation > 1 ? `; after a gap, up to ${decimation * (settlingOutputs(lastHalving(fs, decimation)) + 2)} more while the low-pass filter settles` : ''})`;
   return `${name}: ${bands.length} fractional-octave bands (${bandList(bands)}) are too narrow for the spectrum's resolution (periodograms of ${spanned} samples, ${(fs / spanned).toPrecision(3)} Hz): a tone in them would leak past their edges, or one beside them into them; left empty (null); they need ${what}`;
 }
