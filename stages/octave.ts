@@ -1,6 +1,6 @@
 // Fractional-octave band RMS from the Welch spectrum, with the base-10 mid-band frequencies and edges of IEC 61260-1:2014.
-import { keepsTone, LONGEST_SEGMENT, segmentKeeping } from './dsp/leakage.js';
-import { READ_FRACTION } from './dsp/decimate.js';
+import { LONGEST_SEGMENT, resolutionNeeded, resolvesBand, segmentKeeping, type BandRoom } from './dsp/leakage.js';
+import { lastHalving, READ_FRACTION, settlingOutputs } from './dsp/decimate.js';
 import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { LEVEL_UNIT, levelDb, pascalsPer } from './sound-pressure.js';
@@ -41,10 +41,16 @@ export function bandsOf(fraction: 1 | 3, from: number, to: number) {
 const col = (b: number, nominal: number, what: 'rms' | 'db' = 'rms') => `oct${b}_${hzName(nominal)}_${what}`;
 
 /**
- * Room between a band's lower edge and the lower end of its middle half, fm·G^(−1/(4b)): a tone anywhere in the middle half
- * (on a log scale) lies at least this far from either edge (the upper side has more). The criterion of the bands' resolution.
+ * A band's room (stages/dsp/leakage.ts), on its lower side (the upper side has more, the bands being geometric). `keep`: from
+ * the lower edge to the nearer of the middle half's lower end, fm·G^(−1/(4b)), and the lowest one-third-octave mid-band
+ * inside it (fm·G^(−1/3) for an octave band; our choice: a tone anywhere in the middle half, or where a lab puts one, keeps
+ * its power). `shut`: from the highest one-third-octave mid-band below the band (fm·G^(−2/3), fm·G^(−1/3)) to the lower edge,
+ * so that a tone in the neighbouring band stays out of this one.
  */
-export const bandRoom = (mid: number, b: number): number => mid * (G ** (-1 / (4 * b)) - G ** (-1 / (2 * b)));
+export function bandRoom(mid: number, b: 1 | 3): BandRoom {
+  const lower = mid * G ** (-1 / (2 * b)), inside = b === 1 ? -1 : 0;
+  return { keep: Math.min(mid * G ** (-1 / (4 * b)), mid * G ** (inside / 3)) - lower, shut: lower - mid * G ** ((inside - 1) / 3) };
+}
 
 /** The sets' bands below the Nyquist frequency, each with its fraction and room. */
 function bandsBelow(sets: OctaveOptions['sets'], fs: number) {
@@ -57,12 +63,12 @@ function bandsBelow(sets: OctaveOptions['sets'], fs: number) {
  */
 export function ownSegment(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): number | null {
   const low = lowBands(sets, spectrum, fs);
-  return low.length ? Math.min(segmentKeeping(Math.min(...low.map((b) => b.room)), fs, spectrum.window), LONGEST_SEGMENT) : null;
+  return low.length ? Math.min(Math.max(...low.map((b) => segmentKeeping(b.room, fs, spectrum.window))), LONGEST_SEGMENT) : null;
 }
 
 /** The bands below Nyquist the spectrum's segment cannot resolve. */
 const lowBands = (sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number) =>
-  bandsBelow(sets, fs).filter((band) => !keepsTone(band.room, fs / spectrum.segment, spectrum.window));
+  bandsBelow(sets, fs).filter((band) => !resolvesBand(band.room, fs / spectrum.segment, spectrum.window));
 
 /**
  * The finer spectrum the octave stage asks for: periodograms spanning `ownSegment` samples of the recording, taken at
@@ -111,13 +117,13 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
       finish() {
         const fs = ctx.sampleRate, win = o.spectrum.window;
         const psd = s.psd(), finer = fine?.psd() ?? null;
-        // The first spectrum that resolves the band, a tone in its middle half keeping its power (stages/dsp/leakage.ts),
-        // and that may be read up to its upper edge.
-        const resolving = (room: number, upper: number): Psd | null =>
-          [psd, finer].find((p) => p && keepsTone(room, resolutionOf(p), win) && upper <= (p.upTo ?? Infinity)) ?? null;
+        // The first spectrum that resolves the band, its tones keeping their power and its neighbours' staying out
+        // (stages/dsp/leakage.ts), and that may be read up to its upper edge.
+        const resolving = (room: BandRoom, upper: number): Psd | null =>
+          [psd, finer].find((p) => p && resolvesBand(room, resolutionOf(p), win) && upper <= (p.upTo ?? Infinity)) ?? null;
         const out: Record<string, number | null> = {};
         const above: number[] = [];
-        const unresolved: { fraction: 1 | 3; nominal: number; room: number }[] = [];
+        const unresolved: { fraction: 1 | 3; nominal: number; room: BandRoom }[] = [];
         for (const set of o.sets) {
           for (const band of bandsOf(set.fraction, set.from, set.to)) {
             const inside = band.upper <= fs / 2;
@@ -132,16 +138,21 @@ export const octaveBands: StageDefinition<OctaveOptions> = {
         }
         if (above.length) ctx.note(`${ctx.name}: ${above.length} fractional-octave bands (${Math.min(...above)} Hz and up) reach above the Nyquist frequency ${fs / 2} Hz; left empty (null)`);
         // The finest resolution reached, as the recording's samples one periodogram spans.
-        if (unresolved.length) ctx.note(unresolvedNote(ctx.name, unresolved, Math.round(fs / Math.min(...[psd!, finer].filter((p) => p).map((p) => resolutionOf(p!)))), fs, win));
+        if (unresolved.length) ctx.note(unresolvedNote(ctx.name, unresolved, Math.round(fs / Math.min(...[psd!, finer].filter((p) => p).map((p) => resolutionOf(p!)))), fs, win, low?.decimation ?? 1));
         return out;
       },
     };
   },
 };
 
-/** Which bands the spectrum could not resolve, what it spanned, and the periodogram that would resolve them. */
-function unresolvedNote(name: string, bands: { fraction: 1 | 3; nominal: number; room: number }[], spanned: number, fs: number, win: WelchOptions['window']): string {
-  const needed = segmentKeeping(Math.min(...bands.map((b) => b.room)), fs, win);
-  const what = needed > LONGEST_SEGMENT ? `a periodogram longer than the longest segment quern takes (${LONGEST_SEGMENT} samples)` : `gap-free periodograms of ${needed} samples (${Number((needed / fs).toPrecision(3))} s of recording)`;
-  return `${name}: ${bands.length} fractional-octave bands (${bandList(bands)}) are too narrow for the spectrum's resolution (periodograms of ${spanned} samples, ${(fs / spanned).toPrecision(3)} Hz): a tone in them would leak past their edges; left empty (null); they need ${what}`;
+/**
+ * Which bands the spectrum could not resolve, what it spanned, and the least gap-free recording that would resolve them: a
+ * stretch shorter than a segment is one periodogram of its own length (taken from every D-th sample), so it needs only the
+ * resolution the bands ask for, not the power-of-two segment.
+ */
+function unresolvedNote(name: string, bands: { fraction: 1 | 3; nominal: number; room: BandRoom }[], spanned: number, fs: number, win: WelchOptions['window'], decimation: number): string {
+  const needed = decimation * Math.ceil(fs / (decimation * Math.min(...bands.map((b) => resolutionNeeded(b.room, win)))));
+  // After a gap the decimated stream waits for the filter's settling, counted from the output at or after the gap's last sample.
+  const what = needed > LONGEST_SEGMENT ? `a periodogram longer than the longest segment quern takes (${LONGEST_SEGMENT} samples)` : `gap-free stretches of at least ${needed} samples (${Number((needed / fs).toPrecision(3))} s of recording${decimation > 1 ? `; after a gap, up to ${decimation * (settlingOutputs(lastHalving(fs, decimation)) + 2)} more while the low-pass filter settles` : ''})`;
+  return `${name}: ${bands.length} fractional-octave bands (${bandList(bands)}) are too narrow for the spectrum's resolution (periodograms of ${spanned} samples, ${(fs / spanned).toPrecision(3)} Hz): a tone in them would leak past their edges, or one beside them into them; left empty (null); they need ${what}`;
 }

@@ -125,20 +125,44 @@ describe('low fractional-octave bands of a sound-pressure channel at 48 kHz, def
 });
 
 describe('bands no spectrum of the recording resolves', () => {
-  it('a 0.5 s recording at 48 kHz: the one-third-octave bands up to 63 Hz are null, with one note naming them and the periodogram they need; the others read the tone', async () => {
+  it('a 0.5 s recording at 48 kHz: the one-third-octave bands up to 63 Hz and the octave bands up to 63 Hz are null, with one note naming them and the gap-free length they need; the others read the tone', async () => {
     const { row, result } = await reduce(sine(FS / 2, FS, 1000, Math.SQRT2), FS, defaultSpec, mic);
     for (const nominal of ['25', '31p5', '40', '50', '63']) {
       expect(row[`oct3_${nominal}_rms`], nominal).toBeNull();
       expect(row[`oct3_${nominal}_db`], nominal).toBeNull();
     }
     expect(row.oct3_80_rms).toEqual(expect.any(Number));
-    expect(row.oct1_31p5_rms).toEqual(expect.any(Number));
+    // A 25 Hz tone inside octave 31.5 would lose power at 2 Hz, a 20 Hz or 40 Hz tone leak into octaves 31.5 and 63.
+    expect(row.oct1_31p5_rms).toBeNull();
+    expect(row.oct1_63_rms).toBeNull();
+    expect(row.oct1_125_rms).toEqual(expect.any(Number));
     // 0.5 s of a whole number of cycles: the 1 kHz band holds A²/2 (Parseval, common practice).
     expect(row.oct3_1000_db).toBeCloseTo(93.98, 1);
     const notes = result.messages.filter((m) => /too narrow/.test(m));
-    expect(notes).toEqual(['mic: 5 fractional-octave bands (one-third-octave 25, 31.5, 40, 50, 63 Hz) are too narrow for the spectrum\'s resolution (periodograms of 24000 samples, 2.00 Hz): a tone in them would leak past their edges; left empty (null); they need gap-free periodograms of 65536 samples (1.37 s of recording)']);
+    expect(notes).toEqual(['mic: 7 fractional-octave bands (one-third-octave 25, 31.5, 40, 50, 63 Hz; octave 31.5, 63 Hz) are too narrow for the spectrum\'s resolution (periodograms of 24000 samples, 2.00 Hz): a tone in them would leak past their edges, or one beside them into them; left empty (null); they need gap-free stretches of at least 63328 samples (1.32 s of recording; after a gap, up to 608 more while the low-pass filter settles)']);
     // The finer spectrum's own note on the short recording is left to this one; the shared spectrum's stays.
     expect(result.messages.join('\n')).not.toMatch(/65536-sample spectrum segment/);
+  });
+
+  it.each([48000, 12800])('at %i Hz, the length the note names is enough: a recording that long reads the named bands, a tone at 25 Hz within 0.05 dB of A²/2; one shorter leaves them null', async (fs) => {
+    // 25.12 Hz, the exact one-third-octave mid-band (IEC 61260-1 base 10); its power A²/2 by Parseval (common practice).
+    const f = 1000 * 10 ** (-1.6);
+    const short = await reduce(sine(fs / 2, fs, f, Math.SQRT2), fs, defaultSpec, mic);
+    const note = short.result.messages.find((m) => /too narrow/.test(m))!;
+    const needed = Number(/at least (\d+) samples/.exec(note)![1]);
+    // Shorter than the power-of-two periodogram the bands' spectrum takes, which a stretch shorter than it need not fill.
+    expect(needed).toBeLessThan(fs === 48000 ? 65536 : 32768);
+    const enough = await reduce(sine(needed, fs, f, Math.SQRT2), fs, defaultSpec, mic);
+    expect(enough.result.messages.join('\n')).not.toMatch(/too narrow/);
+    expect(Math.abs(db(enough.row.oct3_25_rms ** 2))).toBeLessThan(0.05);
+    expect(Math.abs(db(enough.row.oct1_31p5_rms ** 2))).toBeLessThan(0.05);
+    const less = await reduce(sine(needed - 64, fs, f, Math.SQRT2), fs, defaultSpec, mic);
+    expect(less.row.oct3_25_rms).toBeNull();
+    expect(less.result.messages.find((m) => /too narrow/.test(m))).toMatch(`at least ${needed} samples`);
+    // After a gap of 50 samples, the stretch that follows needs the settling the note names on top.
+    const settle = Number(/after a gap, up to (\d+) more/.exec(note)![1]);
+    const gapped = sine(3050 + needed + settle, fs, f, Math.SQRT2).fill(Number.NaN, 3000, 3050);
+    expect(Math.abs(db((await reduce(gapped, fs, defaultSpec, mic)).row.oct3_25_rms ** 2))).toBeLessThan(0.05);
   });
 
   it('a declared segment that resolves every band is taken alone: the same low bands, within 0.001 dB, as the decimated spectrum the stage would take itself', async () => {

@@ -52,6 +52,19 @@ describe('a tacho channel whose pulses cannot be found', () => {
     expect(flag.message).toMatch(/the declared trigger_level and trigger_hysteresis against that range, and pulses_per_rev/);
   });
 
+  it('noise alone, trigger found or declared: revolutions and the pulse counts are null, as the speed, and the note says so; a shaft at rest and a lone pulse keep their counts of 0', async () => {
+    for (const decl of [{}, { trigger_level: 2.5, trigger_hysteresis: 2 }]) {
+      const { row, result } = await reduce(gaussian(n, 0.05), fs, {}, { ...TACHO, ...decl });
+      for (const c of ['revolutions', 'pulses_missing', 'pulses_extra']) expect(row[c], `${c}, ${JSON.stringify(decl)}`).toBeNull();
+      expect(result.messages.join('\n')).toMatch(/tacho: .*revolutions and the pulse counts are left empty \(null\)/);
+    }
+    // No pulse in a still signal, or one pulse: nothing was missed, the counts are known.
+    const rest = await tacho(new Float64Array(n).fill(0.2), fs, { trigger_level: 2.5, trigger_hysteresis: 2 });
+    expect([rest.row.revolutions, rest.row.pulses_missing, rest.row.pulses_extra]).toEqual([0, 0, 0]);
+    const lone = await tacho(pulsesAt([2.2], 5 * fs, fs), fs);
+    expect([lone.row.revolutions, lone.row.pulses_missing, lone.row.pulses_extra]).toEqual([0, 0, 0]);
+  });
+
   it('a shaft at rest under a declared trigger (a constant level) is not failed: no pulse is no wrong speed', async () => {
     const { flag } = await tacho(new Float64Array(n).fill(0.2), fs, { trigger_level: 2.5, trigger_hysteresis: 2 });
     expect(flag.severity).not.toBe('fail');
