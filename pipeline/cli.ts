@@ -4,7 +4,7 @@ import { availableParallelism } from 'node:os';
 import yargs, { type Argv } from 'yargs';
 import { hideBin } from 'yargs/helpers';
 import { toolVersion } from './declare/package-files.js';
-import { jsonLine, progressFor } from './outputs/progress.js';
+import { afterProgress, jsonLine, progressFor } from './outputs/progress.js';
 import { failedOf, quietGroupsOf, summaryText, type RunRecord } from './outputs/report.js';
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
@@ -192,6 +192,8 @@ async function main(argv: string[]): Promise<number> {
         throw new UsageError((e as Error).message);
       }
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
+      // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
+      tell = afterProgress(progress, tell);
       const { runReduce } = await import('./run.js');
       const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode) => tell(message, exitCode) });
       process.stdout.write(summaryText(record, quality) + '\n');

@@ -1,10 +1,11 @@
 // Opening a run: the storage watched, the worker pool opened (its first thread started early on a first run), the
 // declarations read and checked, and the output folder's lock taken; a failure on the way closes what was opened.
-import { existsSync } from 'node:fs';
+import { existsSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadSpec, readArchiveDeclaration } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
 import { lockPath, takeLock } from './outputs/lock.js';
+import { afterProgress, type Progress } from './outputs/progress.js';
 import { markShardStart, shardStartPath } from './outputs/shard-start.js';
 import { writing } from './outputs/staged.js';
 import { reservedColumnNames } from './outputs/output-tables.js';
@@ -28,6 +29,8 @@ export interface OpenOptions {
   storageMs?: number;
   /** Says why the run stopped, with its exit code (a plain line, or a JSON event with --log json). */
   tell?: (message: string, exitCode: number) => void;
+  /** The run's progress on standard error, stopped before the signal's or the storage limit's line. */
+  progress?: Pick<Progress, 'stop'>;
 }
 
 /** The stopped run's line on standard error, as every other `quern:` line. */
@@ -42,7 +45,7 @@ function lockCommand(root: string, outDir: string, o: OpenOptions): string {
 /** Opens the run on `root` into `outDir`; the caller ends it with `stop.off()`, `lock.release()`, `pool.destroy()` and `storage.stop()`. */
 export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {
   // Storage that stops answering ends the run rather than hold its lock for ever.
-  const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000);
+  const storage = watchStorage([root, outDir], o.storageMs ?? 5 * 60_000, o.progress ? { say: afterProgress(o.progress, (m: string) => { writeSync(2, m); }) } : {});
   const pool = openPool(o.jobs);
   // A first run into an output folder reduces and writes, so its first thread starts now, loading its modules while this
   // thread reads the declarations and scans (a quarter of a second of a small run's start); later runs start them on demand.
@@ -58,7 +61,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
     // A signal from here on: this run's temporary files and its lock go with it.
-    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.tell ?? plainLine);
+    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
     if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
     return { storage, pool, firstRun, spec, declaration, trends, lock, stop };

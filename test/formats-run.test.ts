@@ -77,7 +77,7 @@ describe('a run over every format', () => {
     expect(failed['wav/wide.wav']).toMatch(/60000 channels/);
     for (const reason of Object.values(failed)) expect(reason).not.toMatch(/unexpected error/);
     const db = await (await DuckDBInstance.create()).connect();
-    const rows = (await db.runAndReadAll(`select recording, channel, n, sample_rate, start_time::varchar as start, resolution_bits, n_nonfinite from '${join(out, 'features.parquet')}' order by recording, channel`)).getRowObjectsJson() as Record<string, any>[];
+    const rows = (await db.runAndReadAll(`select recording, channel, n, sample_rate, (start_time at time zone 'UTC')::varchar as start, resolution_bits, n_nonfinite from '${join(out, 'features.parquet')}' order by recording, channel`)).getRowObjectsJson() as Record<string, any>[];
     expect([...new Set(rows.map((x) => x.recording))]).toEqual(['csv/export.csv', 'flac/run-01.flac', 'flac2/run-02.flac', 'h5/rig-01.h5', 'mat/rig-02.mat', 'wav/adc12.wav', 'wav/mulaw.wav', 'wav/rf64.wav', 'wav/rifx.wav']);
     const of = (rec: string) => rows.filter((x) => x.recording === rec);
     expect(of('flac/run-01.flac').map((x) => [Number(x.n), x.start])).toEqual(Array(3).fill([5000, '2026-11-16 22:00:00']));

@@ -98,3 +98,32 @@ describe('merge when the shards saw different archives', () => {
     expect(readdirSync(join(out, 'parts')).filter((f) => f.startsWith('started-')).sort()).toEqual(['started-1-of-2.json', 'started-1-of-3.json', 'started-2-of-3.json', 'started-3-of-3.json']);
   });
 });
+
+describe('merge counts the archive as the latest shard scanned it', () => {
+  it('counts a recording that came in after an earlier shard scanned, in its own shard\'s share, as scanned and selected', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const dayOf = (k: number, from: number) => Array.from({ length: 28 }, (_, i) => `2027-01-${String(i + 1).padStart(2, '0')}`).slice(from).find((d) => shardOf(`nightly/${d}/pump-endurance.wav`, N) === k)!;
+    // Shard 1 scans the archive as it was; a capture of shard 2's share arrives; shards 2 and 3 scan it.
+    shardRun(archive, out, 1);
+    const before: number = readJson(join(out, 'parts', `run-1-of-${N}.json`)).counts.scanned;
+    const [first] = newNights(archive, [dayOf(2, 0)]);
+    shardRun(archive, out, 2);
+    shardRun(archive, out, 3);
+    const merged = quern('merge', out, '--jobs', '1');
+    expect(merged.code).toBe(1); // the sample archive holds one recording that fails
+    const run = readJson(join(out, 'run.json'));
+    expect(run.recordings.map((r: { recording: string }) => r.recording)).toContain(first);
+    expect(run.counts.selected).toBe(before + 1);
+    expect(run.counts.scanned).toBe(before + 1);
+    expect(run.merged.arrived_during_shards).toBeNull();
+    expect(merged.stdout).not.toMatch(/in the archive/);
+    // The same within a period that holds none of them: the line tells how many the archive holds, the late capture among them.
+    const since = ['--since', '2030-01-01'];
+    quern('reduce', archive, '--out', out, '--shard', `1/${N}`, '--jobs', '1', '--quiet', ...since);
+    newNights(archive, [dayOf(2, Number(first.slice('nightly/2027-01-'.length, 'nightly/2027-01-'.length + 2)))]);
+    for (const k of [2, 3]) quern('reduce', archive, '--out', out, '--shard', `${k}/${N}`, '--jobs', '1', '--quiet', ...since);
+    const period = quern('merge', out, '--jobs', '1');
+    expect(period.stdout).toMatch(new RegExp(`^quern \\S+: 0 of 0 recordings reduced .*; ${before + 2} in the archive\\.$`, 'm'));
+    expect(readJson(join(out, 'run.json')).counts).toMatchObject({ scanned: before + 2, selected: 0 });
+  });
+});

@@ -11,6 +11,15 @@ function ownShare(p: RunRecord): Set<string> {
   return new Set([...p.recordings.map((r) => r.recording), ...(p.unselected ?? []).map((r) => r.recording), ...(p.settling ?? []).map((r) => r.recording)]);
 }
 
+/**
+ * The recordings in the archive as the merged run counts them: the latest scan's count (each shard scans the whole archive),
+ * and never fewer than the parts' shares hold together, since a share found after an earlier shard's scan is in it too.
+ */
+export function scannedOverall(parts: RunRecord[]): number {
+  const owned = new Set(parts.flatMap((p) => [...ownShare(p)]));
+  return Math.max(owned.size, ...parts.map((p) => p.counts.scanned));
+}
+
 /** Names the terminal shows; run.json holds them all. */
 export const ARRIVALS_SHOWN = 10;
 

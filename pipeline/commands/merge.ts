@@ -18,7 +18,7 @@ import type { QualitySummary } from '../outputs/quality.js';
 import { openPool } from '../reduce/pool.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from '../outputs/report.js';
 import { UsageError } from '../declare/yaml-file.js';
-import { arrivalsDuringShards } from './arrivals.js';
+import { arrivalsDuringShards, scannedOverall } from './arrivals.js';
 import { currentCount, staleCountProblem, unfinishedShards } from './shard-parts.js';
 import { Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
@@ -82,7 +82,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     const loaded: LoadedSpec = { spec, source: first.spec.source, text: canonicalJson(spec), hash: first.spec.hash };
     const active = [...new Set(activeStages(spec).map((x) => x.definition.group))];
     const record = runRecord({
-      runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: first.counts.scanned, unmatched,
+      runId, started, archive: first.archive, out: outDir, spec: loaded, scanned: scannedOverall(parts), unmatched,
       lines: listed.map((r, i) => runLine(items[i].loc.facts, r.group, { compute: r.recomputed, reused: r.reused, why: r.why }, active)),
       settling: parts.flatMap((p) => p.settling ?? []), // parts written before the settle span have none
       // Every shard scans the whole archive: the first part's say for all.

@@ -1,7 +1,7 @@
 // Arrow columns filled straight from typed arrays and repeated values, with no object per row: for tables of many rows
 // made while writing (spectra.parquet, trends.parquet). The table comes out as toArrowTable would make it from rows.
 import * as arrow from 'apache-arrow';
-import { arrowSchema } from './arrow-schema.js';
+import { ARROW_TYPES, arrowSchema } from './arrow-schema.js';
 import type { TableColumn } from './columns.js';
 
 const utf8 = new TextEncoder();
@@ -57,12 +57,12 @@ export class TextColumn {
   }
 }
 
-/** A column of float64 (or, with `timestamp`, milliseconds since the epoch), nullable; whole arrays added at once. */
+/** A column of float64 (or, with `timestamp_ms_utc`, milliseconds since the epoch, UTC), nullable; whole arrays added at once. */
 export class NumberColumn {
   length = 0;
   private values = new Float64Array(1024);
   private readonly validity = new Validity();
-  constructor(private readonly kind: 'float64' | 'timestamp_ms' = 'float64') {}
+  constructor(private readonly kind: 'float64' | 'timestamp_ms_utc' = 'float64') {}
 
   private room(n: number): void {
     if (this.values.length < this.length + n) { const g = new Float64Array(Math.max(2 * this.values.length, this.length + n)); g.set(this.values.subarray(0, this.length)); this.values = g; }
@@ -97,7 +97,7 @@ export class NumberColumn {
     if (this.kind === 'float64') return arrow.makeData({ type: new arrow.Float64(), length: this.length, nullCount, nullBitmap, data: this.values.slice(0, this.length) });
     const ms = new BigInt64Array(this.length);
     for (let i = 0; i < this.length; i++) ms[i] = BigInt(this.values[i]);
-    return arrow.makeData({ type: new arrow.TimestampMillisecond(), length: this.length, nullCount, nullBitmap, data: ms });
+    return arrow.makeData({ type: ARROW_TYPES.timestamp_ms_utc(), length: this.length, nullCount, nullBitmap, data: ms });
   }
 }
 
@@ -107,7 +107,7 @@ export type Column = TextColumn | NumberColumn;
 export function columnsFor(columns: TableColumn[]): Record<string, Column> {
   return Object.fromEntries(columns.map((c) => {
     if (c.type === 'string') return [c.name, new TextColumn()];
-    if (c.type === 'float64' || c.type === 'timestamp_ms') return [c.name, new NumberColumn(c.type)];
+    if (c.type === 'float64' || c.type === 'timestamp_ms_utc') return [c.name, new NumberColumn(c.type)];
     throw new Error(`column ${c.name}: ${c.type} columns are not built from arrays`);
   }));
 }

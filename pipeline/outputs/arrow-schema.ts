@@ -7,7 +7,8 @@ export const ARROW_TYPES = {
   string: () => new arrow.Utf8(),
   float64: () => new arrow.Float64(),
   int64: () => new arrow.Int64(),
-  timestamp_ms: () => new arrow.TimestampMillisecond(),
+  // Instants, not wall-clock readings: with a zone, Parquet marks them adjusted to UTC (isAdjustedToUTC), as the columns' unit says.
+  timestamp_ms_utc: () => new arrow.TimestampMillisecond('UTC'),
 } as const;
 
 /**

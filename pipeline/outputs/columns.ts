@@ -1,7 +1,7 @@
 // The columns every features.parquet row starts with, and the shape of a table's column: plain data, so describing a table loads no writer.
 import type { ColumnSpec } from '../../stages/stage.js';
 
-export type ColumnType = 'string' | 'float64' | 'int64' | 'timestamp_ms';
+export type ColumnType = 'string' | 'float64' | 'int64' | 'timestamp_ms_utc';
 
 export interface TableColumn extends ColumnSpec { type: ColumnType; nullable: boolean }
 
@@ -15,7 +15,7 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
   { name: 'sample_rate', type: 'float64', nullable: false, unit: 'Hz', description: 'Samples per second per channel.' },
   { name: 'n', type: 'int64', nullable: false, unit: '1', description: 'Samples (frames) in the recording.' },
   { name: 'duration_s', type: 'float64', nullable: false, unit: 's', description: 'n / sample_rate.' },
-  { name: 'start_time', type: 'timestamp_ms', nullable: true, unit: 'UTC', description: 'Start of the capture (Broadcast Wave bext origination, or CSV date-time); null when unknown.' },
+  { name: 'start_time', type: 'timestamp_ms_utc', nullable: true, unit: 'UTC', description: 'Start of the capture (Broadcast Wave bext origination, or CSV date-time); null when unknown.' },
 ];
 
 /** The verdict columns that follow the identity and label columns. */

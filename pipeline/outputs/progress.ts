@@ -3,7 +3,16 @@ import { SingleBar } from 'cli-progress';
 import type { RecordingOutput } from '../reduce/result.js';
 
 type Done = Pick<RecordingOutput, 'recording' | 'status' | 'seconds' | 'reason'>;
+/** `stop` ends the progress: a bar on a terminal is cleared, its line ended and the cursor shown again; it may be called more than once. */
 export interface Progress { start(total: number, reused: number): void; done(r: Done, detail?: string): void; stop(): void; event?(name: string, data: object): void }
+
+/**
+ * A way of telling a message on the progress's stream that stops the progress first: a bar on a terminal holds its line
+ * open (no line end), and a message written then would run on after it.
+ */
+export function afterProgress<A extends unknown[]>(progress: Pick<Progress, 'stop'>, say: (...a: A) => void): (...a: A) => void {
+  return (...a) => { progress.stop(); say(...a); };
+}
 
 export type LogMode = 'auto' | 'plain' | 'json' | 'quiet';
 

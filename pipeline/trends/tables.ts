@@ -10,7 +10,7 @@ export const TRENDS_TABLE: TableColumn[] = [
   text('channel', 'Channel name.'),
   text('feature', 'The watched column of features.parquet.'),
   text('unit', 'Unit of value and baseline (the channel\'s unit for amplitudes, mm/s for velocity, 1 for ratios).'),
-  { name: 'start_time', type: 'timestamp_ms', nullable: true, unit: 'UTC', description: 'Where the history places the recording: the start of the capture, or the file\'s modification time when the recording keeps no start (start_time_source says which).' },
+  { name: 'start_time', type: 'timestamp_ms_utc', nullable: true, unit: 'UTC', description: 'Where the history places the recording: the start of the capture, or the file\'s modification time when the recording keeps no start (start_time_source says which).' },
   text('start_time_source', 'Where start_time comes from: recording (the start the file keeps, or its group declares) or modified (the file\'s modification time, the recording keeping none).'),
   { name: 'value', type: 'float64', nullable: false, unit: '[feature unit]', description: 'The feature\'s value on this recording (as in features.parquet).' },
   { name: 'baseline', type: 'float64', nullable: true, unit: '[feature unit]', description: 'Median of the feature over the channel\'s baseline recordings; null while the baseline is forming.' },
