@@ -18,7 +18,7 @@ describe('a time column\'s unit named in its header (SI prefixes: common practic
   it.each([
     ['time_ms', 1e3], ['time [ms]', 1e3], ['time (ms)', 1e3], ['t_ms', 1e3], ['t[ms]', 1e3], ['ms', 1e3], ['Time_MS', 1e3],
     ['time_us', 1e6], ['t (µs)', 1e6], ['time [μs]', 1e6], ['µs', 1e6], ['time_ns', 1e9],
-    ['time_s', 1], ['time [s]', 1], ['time (s)', 1], ['seconds', 1],
+    ['time_s', 1], ['time [s]', 1], ['time (s)', 1], ['seconds', 1], ['time (sec)', 1], ['Time [sec]', 1], ['time_secs', 1],
   ])('"%s" divides its numbers by %d into seconds, and says so', (header, perSecond) => {
     expect(timeColumnOf(header)).toEqual({ perSecond, stated: true });
   });
@@ -39,7 +39,7 @@ describe('a time column\'s unit named in its header (SI prefixes: common practic
     for (const [header, unit, seconds] of cases) {
       const text = `${header},acc\n${[0, 1, 2, 3].map((i) => `${(i * 0.0005 / seconds).toPrecision(9)},${i}`).join('\n')}\n`;
       for (const options of [{}, { sampleRate: 2000 }]) {
-        await expect(readAll(write('a.csv', text), options)).rejects.toThrow(new RegExp(`^line 1: column "${header.replace(/[[\]()]/g, '\\$&')}" is a time column in ${unit}, a unit quern does not read; quern reads time in s, ms, us \\(µs\\) or ns named in the header .*export the times in one of those \\(seconds: time \\[s\\]\\), or remove the column and set sample_rate`));
+        await expect(readAll(write('a.csv', text), options)).rejects.toThrow(new RegExp(`^line 1: column "${header.replace(/[[\]()]/g, '\\$&')}" is a time column in ${unit}, a unit quern does not read; quern reads time in s \\(sec\\), ms, us \\(µs\\) or ns named in the header .*export the times in one of those \\(seconds: time \\[s\\]\\), or remove the column and set sample_rate`));
       }
     }
     // Names that only start like one stay channels: a temperature, a tacho, a bare NS axis.

@@ -12,11 +12,11 @@ import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './ti
 /** A time column's header without a unit: its numbers are read as seconds. */
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
 /** Divisors from a unit a time column's header names to seconds. */
-const PER_SECOND: Record<string, number> = { s: 1, ms: 1e3, us: 1e6, 'µs': 1e6, 'μs': 1e6, ns: 1e9 };
+const PER_SECOND: Record<string, number> = { s: 1, sec: 1, secs: 1, ms: 1e3, us: 1e6, 'µs': 1e6, 'μs': 1e6, ns: 1e9 };
 // A unit after time, timestamp or t (time_ms, time [ms], time (ms), timestamp_us, t_ms, t[ms], tms) or alone (ms, µs; not a bare s, us or ns, likely channels' names: NS is a north–south axis).
-const TIME_UNIT_HEADER = /^(?:(?:timestamp|time|t)[ _]?(?:\(\s*(s|ms|us|µs|μs|ns)\s*\)|\[\s*(s|ms|us|µs|μs|ns)\s*\]|(s|ms|us|µs|μs|ns))|(ms|µs|μs|seconds))$/i;
+const TIME_UNIT_HEADER = /^(?:(?:timestamp|time|t)[ _]?(?:\(\s*(s|secs?|ms|us|µs|μs|ns)\s*\)|\[\s*(s|secs?|ms|us|µs|μs|ns)\s*\]|(s|secs?|ms|us|µs|μs|ns))|(ms|µs|μs|seconds))$/i;
 /** The units a time column is read in, as a header names them. */
-export const TIME_UNITS_READ = 's, ms, us (µs) or ns';
+export const TIME_UNITS_READ = 's (sec), ms, us (µs) or ns';
 // Time, timestamp or t with a unit of time quern does not read (time [min], time_h, t (h), timestamp_days); time or timestamp with any bracketed unit.
 const UNREAD_TIME_UNIT = /^(?:(?:timestamp|time|t)[ _]?(?:\(\s*(min|mins|minutes?|h|hrs?|hours?|d|days?)\s*\)|\[\s*(min|mins|minutes?|h|hrs?|hours?|d|days?)\s*\]|_(min|mins|minutes?|h|hrs?|hours?|d|days?))|(?:timestamp|time) ?(?:\(\s*([^)]*[^)\s][^)]*?)\s*\)|\[\s*([^\]]*[^\]\s][^\]]*?)\s*\]))$/i;
 

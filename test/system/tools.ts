@@ -3,7 +3,7 @@ import { spawnSync } from 'node:child_process';
 import { expect } from 'vitest';
 
 const PACKAGES: Record<string, string> = {
-  soffice: 'libreoffice-calc-nogui', pdftoppm: 'poppler-utils', sox: 'sox', flac: 'flac', ffmpeg: 'ffmpeg', clang: 'clang lld', 'wasm-ld': 'lld', python3: 'python3-scipy python3-soundfile python3-h5py',
+  soffice: 'libreoffice-calc-nogui', pdftoppm: 'poppler-utils', sox: 'sox', flac: 'flac', ffmpeg: 'ffmpeg', clang: 'clang lld', 'wasm-ld': 'lld', script: 'bsdutils', python3: 'python3-scipy python3-soundfile python3-h5py',
 };
 
 /** The tool's path; fails the calling test when it is not installed. */

@@ -1,15 +1,17 @@
 // The progress bar on a terminal holds its line open; a message told while it shows (a signal's line, an error) must
-// start a line of its own. The run is given a terminal by script(1) (util-linux), which records what the terminal got.
+// start a line of its own. The run is given a terminal by script(1) (util-linux, Debian's bsdutils), which records what the
+// terminal got: a system check, since a machine with only Node and npm need not have it.
 import { spawn } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { repo, sampleArchiveCopy } from './helpers.js';
+import { repo, sampleArchiveCopy } from '../helpers.js';
+import { requireTool } from './tools.js';
 
 /** The command under a pseudo-terminal, stopped by SIGTERM once its bar shows; what the terminal received. */
 async function stoppedUnderBar(archive: string, out: string): Promise<string> {
   const command = `${process.execPath} ${join(repo, 'dist', 'pipeline', 'cli.js')} reduce ${archive} --out ${out} --jobs 1`;
-  const child = spawn('script', ['-qfec', command, '/dev/null'], { stdio: ['ignore', 'pipe', 'pipe'], env: { ...process.env, TERM: 'xterm', COLUMNS: '160' } });
+  const child = spawn(requireTool('script'), ['-qfec', command, '/dev/null'], { stdio: ['ignore', 'pipe', 'pipe'], env: { ...process.env, TERM: 'xterm', COLUMNS: '160' } });
   let text = '';
   child.stdout.on('data', (b: Buffer) => { text += b.toString('utf8'); });
   const ended = new Promise<void>((resolve) => child.on('exit', () => resolve()));
