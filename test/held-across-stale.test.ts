@@ -7,16 +7,10 @@ import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, readJson, tempDir } from './helpers.js';
+import { oneRigArchive, quern, readJson, tempDir } from './helpers.js';
 
 const FS = 1000;
-const ARCHIVE_YAML = `groups:
-  - name: rig
-    match: "rig/*.wav"
-    sample_rate: ${FS}
-    channels:
-      - { name: acc, quantity: acceleration, unit: m/s^2, scale: 100, range: [-100, 100], bits: 16, max_frequency_hz: 400 }
-`;
+const ARCHIVE_YAML = oneRigArchive(FS);
 const SPEC = 'statistics: {}\ntrends: { features: [rms] }\n';
 // Other quality thresholds: every stored figure then no longer compares (no spike in these signals, so no verdict differs).
 const FORMER_SPEC = `${SPEC}quality: { spikes: { fail_fraction: 0.0001 } }\n`;

@@ -34,6 +34,15 @@ function spawnQuern(nodeOptions: string[], args: string[], limitMs?: number, env
   return { code: r.status, stdout: r.stdout, stderr: r.stderr, signal: r.signal };
 }
 
+/** archive.yaml of one rig group, "rig/*.wav", at `fs` Hz: one accelerometer channel, acc (±100 m/s², 16 bits). */
+export const oneRigArchive = (fs: number) => `groups:
+  - name: rig
+    match: "rig/*.wav"
+    sample_rate: ${fs}
+    channels:
+      - { name: acc, quantity: acceleration, unit: m/s^2, scale: 100, range: [-100, 100], bits: 16, max_frequency_hz: 400 }
+`;
+
 /** Runs the built command line as a user would. */
 export const quern = (...args: string[]) => spawnQuern([], args);
 

@@ -6,16 +6,10 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quernWith, readJson, tempDir } from './helpers.js';
+import { oneRigArchive, quernWith, readJson, tempDir } from './helpers.js';
 
 const FS = 1000;
-const ARCHIVE_YAML = `groups:
-  - name: rig
-    match: "rig/*.wav"
-    sample_rate: ${FS}
-    channels:
-      - { name: acc, quantity: acceleration, unit: m/s^2, scale: 100, range: [-100, 100], bits: 16, max_frequency_hz: 400 }
-`;
+const ARCHIVE_YAML = oneRigArchive(FS);
 
 /** A second of a 50 Hz tone whose Broadcast Wave origination is `start` (UTC). */
 const capture = (start: Date) => encodeWav({ sampleRate: FS, channels: [Float64Array.from({ length: FS }, (_, i) => 0.01 * Math.sin(2 * Math.PI * 50 * i / FS))], origination: start });

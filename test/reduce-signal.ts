@@ -19,4 +19,13 @@ export async function reduce(signal: Float64Array, fs: number, spec: ReductionSp
   return { row: r.rows[0] as Record<string, number>, result: r };
 }
 
+/** Reduces several channels (engineering units) held in one float32 WAV; `row` finds a channel's features. */
+export async function reduceChannels(signals: Float64Array[], decls: ChannelDeclaration[], fs: number, spec: ReductionSpec) {
+  const path = join(tempDir(), 'x.wav');
+  writeFileSync(path, encodeWav({ sampleRate: fs, channels: signals.map((x, c) => x.map((v) => v / decls[c].scale)), encoding: 'float32' }));
+  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: decls, labels: {}, durationS: null, spec, chunkFrames: 8191 });
+  expect(r.reason).toBeUndefined();
+  return { result: r, row: (name: string) => r.rows.find((x) => x.channel === name) as Record<string, number | null> };
+}
+
 export const sine = (n: number, fs: number, f: number, a: number, phase = 0) => Float64Array.from({ length: n }, (_, i) => a * Math.sin(2 * Math.PI * f * i / fs + phase));

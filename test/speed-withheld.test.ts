@@ -2,26 +2,17 @@
 // with every figure resting on the train (revolutions, pulse counts, the windows' speed, the order figures). The speed of a train
 // of known period is 60 / (period × pulses_per_rev) rpm (common practice); a tone locked to order n of the shaft has its RMS A/√2
 // in that order's band.
-import { writeFileSync } from 'node:fs';
-import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
 import type { ReductionSpec } from '../spec/reduction.js';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
 import type { Flag } from '../stages/quality/flag.js';
-import { encodeWav } from '../scripts/wav-file.js';
-import { tempDir } from './helpers.js';
-import { channel } from './reduce-signal.js';
+import { channel, reduceChannels } from './reduce-signal.js';
 
 const TACHO = channel({ name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, pulses_per_rev: 1, trigger_level: null, trigger_hysteresis: null });
 const ACC = channel({ name: 'acc', scale: 100 });
 
 async function reduce(signals: Float64Array[], decls: ChannelDeclaration[], fs: number, spec: ReductionSpec) {
-  const path = join(tempDir(), 'x.wav');
-  writeFileSync(path, encodeWav({ sampleRate: fs, channels: signals.map((x, c) => x.map((v) => v / decls[c].scale)), encoding: 'float32' }));
-  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: decls, labels: {}, durationS: null, spec, chunkFrames: 8191 });
-  expect(r.reason).toBeUndefined();
-  const row = (name: string) => r.rows.find((x) => x.channel === name) as Record<string, number | null>;
+  const { result: r, row } = await reduceChannels(signals, decls, fs, spec);
   const flag = r.quality.find((q) => q.channel === 'tacho')!.flags.find((f) => f.name === 'pulse_train') as Flag;
   return { row, flag, windows: r.tables.windows.filter((w) => w.channel === 'tacho'), notes: r.messages.join('\n') };
 }

@@ -6,20 +6,15 @@ import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
 import type { ReductionSpec } from '../spec/reduction.js';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
-import { encodeWav } from '../scripts/wav-file.js';
 import { quern, readJson, sampleArchiveCopy, tempDir } from './helpers.js';
+import { reduceChannels } from './reduce-signal.js';
 
 const TACHO: ChannelDeclaration = { name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null, pulses_per_rev: 1, trigger_level: null, trigger_hysteresis: null };
 const ACC: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 100, offset: 0, range: null, bits: null, max_frequency_hz: null };
 
 /** Reduces channels (engineering units) held in a float32 WAV, as the pipeline would. */
 async function reduce(signals: Float64Array[], decls: ChannelDeclaration[], fs: number, spec: ReductionSpec) {
-  const path = join(tempDir(), 'x.wav');
-  writeFileSync(path, encodeWav({ sampleRate: fs, channels: signals.map((x, c) => x.map((v) => v / decls[c].scale)), encoding: 'float32' }));
-  const r = await reduceRecording({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: decls, labels: {}, durationS: null, spec, chunkFrames: 8191 });
-  expect(r.reason).toBeUndefined();
-  const row = (name: string) => r.rows.find((x) => x.channel === name) as Record<string, number | null>;
+  const { result: r, row } = await reduceChannels(signals, decls, fs, spec);
   return { row, result: r, notes: r.messages.join('\n') };
 }
 

@@ -7,16 +7,10 @@ import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, tempDir } from './helpers.js';
+import { oneRigArchive, quern, tempDir } from './helpers.js';
 
 const FS = 1000;
-const ARCHIVE_YAML = `groups:
-  - name: rig
-    match: "rig/*.wav"
-    sample_rate: ${FS}
-    channels:
-      - { name: acc, quantity: acceleration, unit: m/s^2, scale: 100, range: [-100, 100], bits: 16, max_frequency_hz: 400 }
-`;
+const ARCHIVE_YAML = oneRigArchive(FS);
 const tone = (n: number) => Float64Array.from({ length: FS }, (_, i) => (0.01 + 0.0001 * n) * Math.sin(2 * Math.PI * 50 * i / FS));
 
 describe('trends.parquet start_time', () => {
