@@ -17,7 +17,7 @@ import { changesSummary } from '../trends/summary.js';
 import { SECONDARY_TABLES } from './tables.js';
 import { arrivalsLine, type Arrivals } from '../commands/arrivals.js';
 import { recomputedLines, type RecomputedForBaselines } from '../trends/renew-baselines.js';
-import { carriedLines, type RecomputedForHolds } from '../trends/carry-holds.js';
+import { carriedLines, type RecomputedForHolds } from '../trends/carried-record.js';
 
 export interface RunRecord {
   tool: 'quern';

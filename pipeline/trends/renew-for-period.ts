@@ -5,7 +5,8 @@ import type { ReductionSpec } from '../../spec/reduction.js';
 import type { Decided, Decision } from '../plan/reuse.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { TrendOptions } from './options.js';
-import { carriedRecord, carryHolds, type RecomputedForHolds } from './carry-holds.js';
+import { carryHolds } from './carry-holds.js';
+import { carriedRecord, type RecomputedForHolds } from './carried-record.js';
 import { recomputedRecord, renewStaleBaselines, type RecomputedForBaselines } from './renew-baselines.js';
 import { trendsBasis, type TrendsBasis, type TrendsInput } from './trends.js';
 
