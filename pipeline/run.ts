@@ -95,8 +95,9 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const period = await choosePeriod(share, declaration.groups, s, o.since, o.until);
     // A first run reduces every recording chosen: threads for them start now, while the decisions are made.
     // A broken group's recordings are set aside whole: neither reduced nor stored, so their stored results wait for it to be mended.
-    const setAside = period.toDecide.filter((r) => declaration.groups[r.group].broken);
-    const toDecide = setAside.length ? period.toDecide.filter((r) => !declaration.groups[r.group].broken) : period.toDecide;
+    const inBroken = (r: ScannedRecording) => declaration.groups[r.group].broken != null;
+    const setAside = period.toDecide.filter(inBroken);
+    const toDecide = setAside.length ? period.toDecide.filter((r) => !inBroken(r)) : period.toDecide;
     const broken = brokenGroupsOf(declaration, setAside);
     if (firstRun) void pool.prestart(toDecide.length);
     // How recordings are decided: the period's and late arrivals (--force applies to them), and later any baseline recording recomputed.
@@ -136,7 +137,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     // Trends need every shard's results: a shard leaves them (and spectra.parquet) to quern merge.
     const reduced = items.filter((it) => s.statusOf(it.recording) === 'reduced').map((it) => it.recording);
     // A broken group's stored history is left as it was: it has no declaration now to hold it against, nor one to recompute it under.
-    const usable = scanned.recordings.filter((r) => !declaration.groups[r.group].broken);
+    const usable = scanned.recordings.filter((r) => !inBroken(r));
     const declarations = declarationsNow(usable, groupNames, planOf);
     const trendsInput = { trends, store: s, recordings: reduced, present, metadata, since: o.since ?? null, earlierStored, declarations };
     // A --since run (neither bounded by --until nor sharded) recomputes the stored recordings holding stale baseline places (another

@@ -30,7 +30,3 @@ export function readablePattern(g: unknown): string[] | null {
 export const brokenGroup = (name: string, match: string[], problems: string[]): GroupDeclaration => ({
   name, match, format: null, sample_rate: null, labels: {}, layout: null, hdf5: null, mat: null, flac: null, channels: null, duration_s: null, capture_every: null, broken: problems,
 });
-
-/** Why each recording of a broken group fails: the group's problems (file, line, key, what to do), then how it is mended. */
-export const brokenReason = (g: Pick<GroupDeclaration, 'name' | 'broken'>): string =>
-  `the declaration of group ${g.name} is broken: ${(g.broken ?? []).join(' | ')}; mend it in archive.yaml, and the next run reduces this recording`;

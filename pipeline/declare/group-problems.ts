@@ -11,11 +11,11 @@ export type LabelsSeen = Map<string, { label: string; group: string }>;
 
 type Fields = Record<string, unknown>;
 
-/** A mapping's keys and values; anything else (a list, a number, nothing) holds none. */
-const fieldsOf = (v: unknown): Fields => (v !== null && typeof v === 'object' && !Array.isArray(v) ? (v as Fields) : {});
-
 /** A section of the group, when it is a mapping; null when absent or of another type. */
 const sectionOf = (v: unknown): Fields | null => (v !== null && typeof v === 'object' && !Array.isArray(v) ? (v as Fields) : null);
+
+/** A mapping's keys and values; anything else (a list, a number, nothing) holds none. */
+const fieldsOf = (v: unknown): Fields => sectionOf(v) ?? {};
 
 /** How many names a "one or a list" key gives (datasets, variables). */
 const countOf = (v: unknown): number => (Array.isArray(v) ? v.length : 1);

@@ -74,8 +74,6 @@ export const declarationKey = (job: RecordingJob) =>
     // Only declared reader options enter the key, so the keys of groups without them stay as they were.
     ...(job.reader?.hdf5 || job.reader?.flac ? { reader: { hdf5: job.reader.hdf5, flac: job.reader.flac } } : {}),
     ...(job.reader?.mat ? { mat: job.reader.mat } : {}),
-    // A broken group's problems as they read now: a failure stored under them is tried again once the group is mended.
-    ...(job.broken ? { broken: job.broken } : {}),
   }));
 
 /** Per group (present name), the declaration its recordings are reduced under now, as deciding keys it: an entry stored under a former one is no figure of the same measurement. */

@@ -5,7 +5,6 @@ import type { RawLayout } from '../../stages/read/raw.js';
 import type { ReaderOptions } from '../../stages/read/open.js';
 import type { Format } from '../../stages/read/recording.js';
 import type { ScannedRecording } from '../select/scan.js';
-import { brokenReason } from '../declare/broken-group.js';
 
 export interface RecordingJob {
   recording: string;
@@ -23,8 +22,6 @@ export interface RecordingJob {
   /** Feature groups to compute; null for all of them. */
   groups?: string[] | null;
   chunkFrames: number;
-  /** Why the recording fails without being opened: its group's declaration is broken (file, line, key, what to do). */
-  broken?: string;
 }
 
 export interface PlanOptions { chunkFrames?: number }
@@ -39,7 +36,6 @@ export function planJob(r: ScannedRecording, groups: GroupDeclaration[], spec: R
     recording: r.recording, path: r.path, group: g.name, format: g.format, sampleRate: g.sample_rate,
     // A frame takes at least a byte, so a small file fits one chunk of its size in bytes: no large buffers for small files.
     layout: g.layout, reader: readerOptionsOf(g), channels: g.channels, labels: g.labels, durationS: g.duration_s, spec, chunkFrames: Math.max(1, Math.min(chunkFrames, r.size)),
-    ...(g.broken ? { broken: brokenReason(g) } : {}),
   };
 }
 

@@ -58,8 +58,6 @@ const noSamples = () => new RecordingError('the recording holds no samples (0 fr
  * header says against the declaration without stopping the recording (declared bits wider than the file's, a slow time column).
  */
 export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; channels: { decl: ChannelDeclaration; index: number }[]; notes: string[] }> {
-  // Nothing is read under a declaration that holds a problem.
-  if (job.broken) throw new RecordingError(job.broken);
   const rec = await openRecording(job.path, { format: job.format, sampleRate: job.sampleRate, layout: job.layout, ...job.reader, chunkFrames: job.chunkFrames });
   try {
     if (job.sampleRate != null && Math.abs(rec.sampleRate - job.sampleRate) > 1e-9 * job.sampleRate) {

@@ -3,7 +3,9 @@
 // period first, until the chain reaches a verdict that stands on its own, so the period's verdicts are a whole run's.
 import { scoreHistory } from './changes.js';
 import { staleUnderHolds } from './held-across-stale.js';
+import type { History } from './history.js';
 import type { TrendOptions } from './options.js';
+import { recomputeInRounds } from './recompute-rounds.js';
 import type { TrendsBasis } from './trends.js';
 
 /**
@@ -14,17 +16,9 @@ export const CARRY_ROUNDS = 4, FIRST_TAKEN = 4;
 
 /** Recomputes the stale recordings the period's holds rest on, round by round, reading the basis again after each; returns what it recomputed. */
 export async function carryHolds(basis: TrendsBasis, read: () => Promise<TrendsBasis>, recompute: (recordings: string[]) => Promise<void>, o: TrendOptions, rounds = CARRY_ROUNDS, first = FIRST_TAKEN): Promise<{ basis: TrendsBasis; recomputed: string[] }> {
-  const done = new Set<string>();
-  for (let round = 0; round < rounds && basis.history; round++) {
-    const h = basis.history, todo = new Set<string>();
-    for (const f of scoreHistory(h, o)) {
-      const names = staleUnderHolds(f, o).map((j) => h.recordings[f.series.recording[j]]).filter((r) => !done.has(r));
-      for (const r of names.slice(0, first << round)) todo.add(r);
-    }
-    if (!todo.size) break;
-    for (const r of todo) done.add(r);
-    await recompute([...todo]);
-    basis = await read();
-  }
-  return { basis, recomputed: [...done].sort() };
+  // Each chain's next recordings not yet recomputed, nearest the period first.
+  const found = (h: History, round: number, done: ReadonlyMap<string, string>) => scoreHistory(h, o).flatMap((f) =>
+    staleUnderHolds(f, o).map((j) => h.recordings[f.series.recording[j]]).filter((r) => !done.has(r)).slice(0, first << round));
+  const carried = await recomputeInRounds(basis, read, recompute, found, (r) => r, rounds);
+  return { basis: carried.basis, recomputed: [...carried.done.keys()].sort() };
 }

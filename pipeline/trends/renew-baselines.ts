@@ -3,6 +3,7 @@
 // under the present ones the same morning, rather than wait for a whole run.
 import type { TrendOptions } from './options.js';
 import { causesOf, STALE_CAUSES, storedText, type StaleCauseName } from './stale-cause.js';
+import { recomputeInRounds } from './recompute-rounds.js';
 import { stalePlaces, type StalePlace } from './stale-places.js';
 import type { TrendsBasis } from './trends.js';
 
@@ -15,16 +16,8 @@ export const RENEW_ROUNDS = 4;
  * stale: the history is read once, and nothing is recomputed.
  */
 export async function renewStaleBaselines(read: () => Promise<TrendsBasis>, recompute: (recordings: string[]) => Promise<void>, o: TrendOptions, rounds = RENEW_ROUNDS): Promise<{ basis: TrendsBasis; recomputed: StalePlace[] }> {
-  const done = new Map<string, StalePlace>();
-  let basis = await read();
-  for (let round = 0; round < rounds && basis.history; round++) {
-    const todo = stalePlaces(basis.history, o).filter((p) => !done.has(p.recording));
-    if (!todo.length) break;
-    for (const p of todo) done.set(p.recording, p);
-    await recompute(todo.map((p) => p.recording));
-    basis = await read();
-  }
-  return { basis, recomputed: [...done.values()] };
+  const renewed = await recomputeInRounds(await read(), read, recompute, (h) => stalePlaces(h, o), (p) => p.recording, rounds);
+  return { basis: renewed.basis, recomputed: [...renewed.done.values()] };
 }
 
 /** One recording recomputed for the baselines, as run.json lists it: why its stored figures did not compare, and what its reduction gave. */

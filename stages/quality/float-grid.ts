@@ -41,7 +41,8 @@ export interface GridTally {
 
 export const noTally = (): GridTally => ({ grid: 0, told: 0, off: 0, firstOffAt: -1, firstOffBy: 0 });
 
-const gcd = (a: number, b: number) => { while (b) [a, b] = [b, a % b]; return a; };
+/** Greatest common divisor of two whole numbers (Euclid's algorithm). */
+export const gcd = (a: number, b: number) => { while (b) [a, b] = [b, a % b]; return a; };
 
 /**
  * Folds the changes between successive samples of x[0..count) into `tally` (x[0] being sample `n0` of the recording, `prev`

@@ -1,7 +1,7 @@
 // Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
 import { momentsOf } from '../fused/moments.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
-import { foldGrid, noTally, type DeclaredGrid, type GridTally } from './float-grid.js';
+import { foldGrid, gcd, noTally, type DeclaredGrid, type GridTally } from './float-grid.js';
 import type { ChannelContext, StageDefinition } from '../stage.js';
 
 /** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
@@ -9,8 +9,6 @@ export const quantisationNoise = (step: number) => step / Math.sqrt(12);
 
 /** Samples of each chunk searched for the data's grid, until it is found to be the converter's own. */
 const STEP_SEARCH = 4096;
-
-const gcd = (a: number, b: number) => { while (b) [a, b] = [b, a % b]; return a; };
 
 /**
  * The grid the data take, in converter steps: the greatest common divisor of the changes between successive samples of
