@@ -36,11 +36,12 @@ export async function arrivalsDuringShards(parts: RunRecord[], spec: ReductionSp
   if (found <= owned.size) return null;
   const count = found - owned.size;
   try {
-    const [{ loadArchiveDeclaration }, { reservedColumnNames }, { quantityUses }, { scan }] = await Promise.all([
+    const [{ readArchiveDeclaration }, { reservedColumnNames }, { quantityUses }, { scan }] = await Promise.all([
       import('../declare/declare.js'), import('../outputs/output-tables.js'), import('../declare/quantity-uses.js'), import('../select/scan.js'),
     ]);
     const root = resolve(parts[0].archive);
-    const declaration = await loadArchiveDeclaration(root, reservedColumnNames(spec), quantityUses(spec));
+    // Read as a run reads it: a broken group still claims its files, so they are found as a shard found them.
+    const declaration = await readArchiveDeclaration(root, reservedColumnNames(spec), quantityUses(spec));
     const scanned = await scan(root, declaration, { exclude: [outDir] });
     return { count, recordings: scanned.recordings.map((r) => r.recording).filter((r) => !owned.has(r)) };
   } catch (e) {
