@@ -1,6 +1,7 @@
 // HDF5 reader (h5wasm: the HDF5 C library compiled to WebAssembly, reading the file where it lies): the group declares
 // the dataset(s), the channel axis, and the attributes holding the sample rate and start time; samples are read as
 // hyperslabs of a bounded number of frames.
+import { closeSync, openSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
@@ -9,6 +10,8 @@ import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 import { missingFilter, missingFilterMessage, type PipelineFilter } from './hdf5-filters.js';
+import { readerOf, storedTypeOf, type ReadAt, type StoredType } from './hdf5-stored-type.js';
+import { fullScaleOf, integerOf } from './hdf5-integers.js';
 
 /** How a group's HDF5 files hold their recordings. */
 export interface Hdf5Layout {
@@ -37,17 +40,18 @@ type HdfFile = InstanceType<H5['File']>;
 const MAX_STORED_CHUNK_BYTES = 256 * 1024 * 1024;
 
 // HDF5 format signature (HDF5 File Format Specification, superblock): at byte 0, 512, 1024, 2048, … of the file.
+// Returns where the superblock starts, or null.
 const SIGNATURE = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
-async function hasSignature(path: string): Promise<boolean> {
+async function signatureAt(path: string): Promise<number | null> {
   const f = await open(path, 'r');
   try {
     const size = (await f.stat()).size;
     const b = Buffer.alloc(8);
     for (let at = 0; at + 8 <= size && at <= 1 << 20; at = at === 0 ? 512 : at * 2) {
       await f.read(b, 0, 8, at);
-      if (b.equals(SIGNATURE)) return true;
+      if (b.equals(SIGNATURE)) return at;
     }
-    return false;
+    return null;
   } finally {
     await f.close();
   }
@@ -98,7 +102,7 @@ function namesOf(file: HdfFile, sources: Source[], spec: string, where: string):
 }
 
 /** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
-function datasetValue(file: HdfFile, path: string, what: string, where: string): unknown {
+function datasetValue(file: HdfFile, path: string, what: string, where: string, bytes: FileBytes): unknown {
   let obj;
   try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" (the ${what}) cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
   if (!obj) throw new RecordingError(`dataset "${path}" (the ${what}) is not in the file; correct ${where} or check the file`);
@@ -107,14 +111,60 @@ function datasetValue(file: HdfFile, path: string, what: string, where: string):
   try {
     const count = (ds.shape ?? []).reduce((a: number, b: number) => a * b, 1);
     if (count !== 1) throw new RecordingError(`dataset "${path}" (the ${what}) holds ${count} values (${(ds.shape ?? []).join(' × ')}); it must hold one; correct ${where}`);
-    return scalar(ds.value);
+    const m = ds.metadata, v = scalar(ds.value);
+    // An integer narrower than its storage is taken from its bits, as samples are.
+    if (m.type === 0 && (typeof v === 'number' || typeof v === 'bigint')) return integerOf(storedTypeOfDataset(ds, m, path, bytes))(v);
+    if (m.type === 1) storedTypeOfDataset(ds, m, path, bytes);
+    return v;
   } catch (e) { rethrowStop(e); if (e instanceof RecordingError) throw e; throw new RecordingError(`dataset "${path}" (the ${what}) cannot be read: ${firstLine(e)}; the file is damaged`); }
 }
 
-interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean }
+/** A dataset's values: its integers' precision and bit offset (the whole storage for floats), each stored word as a number. */
+interface Source { ds: Dataset; path: string; shape: number[]; type: number; size: number; signed: boolean; precision: number; offset: number; value: (word: number | bigint) => number }
+
+/** The file's bytes, for the stored types: the superblock's place and positioned reads. */
+interface FileBytes { superblock: number; read: ReadAt }
+
+// IEEE 754 binary32 and binary64 as HDF5 describes them (H5T_IEEE_F32LE, H5T_IEEE_F64LE): sign bit, exponent place and
+// size, mantissa place and size, bias, implied leading mantissa bit (normalisation 2).
+const IEEE: Record<number, NonNullable<StoredType['float']> & { precision: number }> = {
+  4: { precision: 32, sign: 31, expAt: 23, expBits: 8, mantAt: 0, mantBits: 23, bias: 127, order: 0, norm: 2 },
+  8: { precision: 64, sign: 63, expAt: 52, expBits: 11, mantAt: 0, mantBits: 52, bias: 1023, order: 0, norm: 2 },
+};
+const isIeee = (t: StoredType) => {
+  const want = IEEE[t.size], f = t.float;
+  return !!want && !!f && t.offset === 0 && t.precision === want.precision && f.sign === want.sign && f.expAt === want.expAt && f.expBits === want.expBits
+    && f.mantAt === want.mantAt && f.mantBits === want.mantBits && f.bias === want.bias && (f.order === 0 || f.order === 1) && f.norm === want.norm;
+};
+/** A stored type in words: "int24 in 32-bit storage", "uint12 in 16-bit storage from bit 4", "int16", "float32". */
+const typeName = (t: Pick<Source, 'type' | 'size' | 'signed' | 'precision' | 'offset'>) => (t.type === 1 ? `float${8 * t.size}`
+  : `${t.signed ? 'int' : 'uint'}${t.precision}${t.precision === 8 * t.size ? '' : ` in ${8 * t.size}-bit storage`}${t.offset ? ` from bit ${t.offset}` : ''}`);
+
+/**
+ * The dataset's stored type, read from its object header (h5wasm's description has no precision or bit offset), held
+ * against h5wasm's: integers of any precision are read, floats only as IEEE binary32 and binary64.
+ */
+function storedTypeOfDataset(ds: Dataset, m: { type: number; size: number; signed: boolean; littleEndian: boolean }, path: string, bytes: FileBytes): StoredType {
+  let t: StoredType;
+  try { t = storedTypeOf(bytes.read, bytes.superblock, ds.create_reference().ref_data); } catch (e) {
+    rethrowStop(e);
+    throw new RecordingError(`dataset "${path}": its stored type cannot be read: ${e instanceof RecordingError ? e.message : firstLine(e)}`);
+  }
+  if (t.cls !== m.type || t.size !== m.size || (t.cls === 0 && (t.signed !== m.signed || t.bigEndian === m.littleEndian))) {
+    throw new RecordingError(`dataset "${path}": its type reads as class ${t.cls} of ${t.size} bytes from its header but as class ${m.type} of ${m.size} bytes through the HDF5 library; the file is damaged: copy it again`);
+  }
+  if (t.cls === 0 && (t.precision < 1 || t.offset + t.precision > 8 * t.size)) {
+    throw new RecordingError(`dataset "${path}": its integers claim ${t.precision} bits from bit ${t.offset} of ${8 * t.size}-bit storage; the file is damaged: copy it again`);
+  }
+  if (t.cls === 1 && !isIeee(t)) {
+    const f = t.float!;
+    throw new RecordingError(`dataset "${path}" holds ${8 * t.size}-bit floats that are not IEEE 754 (${t.precision} bits from bit ${t.offset}, sign bit ${f.sign}, ${f.expBits}-bit exponent at bit ${f.expAt}, bias ${f.bias}, ${f.mantBits}-bit mantissa, ${f.order === 3 ? 'VAX' : f.order === 1 ? 'big-endian' : 'little-endian'}); quern reads IEEE float32 and float64: convert the dataset (in h5py, f["${path}"][...].astype("float64")) and save it again`);
+  }
+  return t;
+}
 
 /** `fileName` names the file in the advice for a dataset the library cannot decompress. */
-function datasetOf(file: HdfFile, path: string, where: string, fileName: string): Source {
+function datasetOf(file: HdfFile, path: string, where: string, fileName: string, bytes: FileBytes): Source {
   let obj;
   try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
   if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check ${where}`);
@@ -135,14 +185,14 @@ function datasetOf(file: HdfFile, path: string, where: string, fileName: string)
   try { filters = m.chunks ? ds.filters : []; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}": its filters cannot be read: ${firstLine(e)}; the file is damaged`); }
   const missing = missingFilter(filters);
   if (missing) throw new RecordingError(missingFilterMessage(path, fileName, missing));
-  return { ds, path, shape, type: m.type, size: m.size, signed: m.signed };
+  const t = storedTypeOfDataset(ds, m, path, bytes);
+  return { ds, path, shape, type: m.type, size: m.size, signed: m.signed, precision: t.precision, offset: t.offset, value: m.type === 0 ? integerOf(t) : Number };
 }
 
-/** Integers are normalised to ±1 of the type's full scale (unsigned ones as offset binary), as the raw reader does. */
+/** Integers are normalised to ±1 of their precision's full scale (unsigned ones as offset binary), as the raw reader does. */
 function normaliser(s: Source): (v: number | bigint) => number {
   if (s.type === 1) return (v) => v as number;
-  const full = 2 ** (s.size * 8 - 1);
-  return s.signed ? (v) => Number(v) / full : (v) => (Number(v) - full) / full;
+  return fullScaleOf(s);
 }
 
 /** A dataset that is one run of samples: one-dimensional, or two-dimensional with one side 1 (N × 1, 1 × N). */
@@ -155,7 +205,8 @@ interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; f
 
 const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
 
-function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: number | null, declareHow: DeclareHow): Opened {
+/** `superblock`: where the file's superblock starts (behind a user block in a MAT-file of version 7.3). */
+function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: number | null, declareHow: DeclareHow, superblock: number): Opened {
   const where = declareHow.where;
   let file: HdfFile;
   try {
@@ -165,8 +216,11 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     rethrowStop(e);
     throw new RecordingError(`the HDF5 file cannot be opened: ${firstLine(e)}; the file is damaged or cut short: copy it again`);
   }
+  // The stored types are read from the file's bytes beside the library, while the datasets are found.
+  const fd = openSync(path, 'r');
+  const bytes: FileBytes = { superblock, read: readerOf(fd) };
   try {
-    const sources = layout.datasets.map((d) => datasetOf(file, d, where['hdf5.datasets'], basename(path)));
+    const sources = layout.datasets.map((d) => datasetOf(file, d, where['hdf5.datasets'], basename(path), bytes));
     const first = sources[0];
     let channels: number, frames: number, axis: 0 | 1, byAxis = false;
     if (sources.length === 1) {
@@ -186,15 +240,15 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
         if (!isVector(s.shape)) throw new RecordingError(`dataset "${s.path}" has ${s.shape.length} axes (${s.shape.join(' × ')}); with one dataset per channel each must be one-dimensional (or N × 1)`);
         const length = s.shape.reduce((a, b) => a * b, 1), firstLength = first.shape.reduce((a, b) => a * b, 1);
         if (length !== firstLength) throw new RecordingError(`dataset "${s.path}" holds ${length} samples but "${first.path}" holds ${firstLength}; the channels of one recording must be equally long`);
-        if (s.type !== first.type || s.size !== first.size || s.signed !== first.signed) throw new RecordingError(`dataset "${s.path}" stores its values differently from "${first.path}"; the channels of one recording must share one type`);
+        if (s.type !== first.type || s.size !== first.size || s.signed !== first.signed || s.precision !== first.precision || s.offset !== first.offset) throw new RecordingError(`dataset "${s.path}" holds ${typeName(s)} but "${first.path}" holds ${typeName(first)}; the channels of one recording must share one type`);
       }
       channels = sources.length; frames = first.shape.reduce((a, b) => a * b, 1); axis = 1;
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
     const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
     const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
-      : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset']), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
-    const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset'], basename(path)) : null;
+      : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset'], bytes), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
+    const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset'], basename(path), bytes) : null;
     const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
     const step = times?.step ?? null;
     const sampleRate = fromFile ?? (times != null ? rateFromStep(times, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
@@ -204,7 +258,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       throw new RecordingError(`dataset "${first.path}": no sample rate; set ${places.slice(0, -1).join(', ')} or ${places.at(-1)}`);
     }
     const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
-      : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset']), `dataset "${timeSet}"`, where['hdf5.start_time_dataset'])
+      : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset'], bytes), `dataset "${timeSet}"`, where['hdf5.start_time_dataset'])
         // Else a time dataset of POSIX seconds.
         : times && startOfTimes(times.first);
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
@@ -213,12 +267,14 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
   } catch (e) {
     closeQuietly(file);
     throw e;
+  } finally {
+    closeSync(fd);
   }
 }
 
 /** A time dataset: one value a frame, as a vector. */
-function timeDatasetOf(file: HdfFile, path: string, frames: number, where: string, fileName: string): Source {
-  const t = datasetOf(file, path, where, fileName);
+function timeDatasetOf(file: HdfFile, path: string, frames: number, where: string, fileName: string, bytes: FileBytes): Source {
+  const t = datasetOf(file, path, where, fileName, bytes);
   const count = t.shape.reduce((a, b) => a * b, 1);
   if (!isVector(t.shape) || count !== frames) throw new RecordingError(`dataset "${path}" (the time) is ${t.shape.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
   return t;
@@ -229,7 +285,7 @@ function timeStepOf(t: Source, frames: number, where: string): TimeRate & { firs
   const k = Math.min(frames, TIME_PROBE);
   let values;
   try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
-  const probe = Float64Array.from(values, Number);
+  const probe = Float64Array.from(values, t.value);
   return { ...nominalStep(probe, `dataset "${t.path}"`, where), first: probe[0] };
 }
 
@@ -254,10 +310,11 @@ export async function onceMore<T>(read: (h5: H5) => T, doing: string): Promise<T
 export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
   if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
   const hdf5 = layout;
-  if (!(await hasSignature(path))) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
+  const superblock = await signatureAt(path);
+  if (superblock == null) throw new RecordingError('byte 0: not an HDF5 file (no HDF5 signature at byte 0, 512, 1024, …); check the group\'s format or the file');
   const release = await takeTurn();
   try {
-    let o = await onceMore((h5) => openOn(h5, path, hdf5, declaredSampleRate, declareHow), 'opening the file');
+    let o = await onceMore((h5) => openOn(h5, path, hdf5, declaredSampleRate, declareHow, superblock), 'opening the file');
     const { channels, frames, axis, sampleRate, startTime } = o;
     const first = o.sources[0];
     const chunk = boundedChunkFrames(chunkFrames, channels);
@@ -266,7 +323,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     /** Samples of one dataset; after a stop, the file is opened again on the fresh instance and the same samples read again. */
     /** Values [start, end) of one dataset (`pick` finds it in the opened file: a channel's, or the time dataset); after a stop, the file is opened again on the fresh instance and the same values read again. */
     const slice = (pick: (o: Opened) => Source, ranges: unknown, what: string, start: number, end: number) => onceMore((h5) => {
-      if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow);
+      if (o.h5 !== h5) o = openOn(h5, path, hdf5, declaredSampleRate, declareHow, superblock);
       try { return pick(o).ds.slice(ranges as never) as unknown as ArrayLike<number | bigint>; } catch (e) {
         rethrowStop(e);
         throw new RecordingError(`dataset "${pick(o).path}": ${what} ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
@@ -295,7 +352,8 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
           if (steps) {
             // The time dataset's values for these frames, read as the samples are.
             const times = await slice((x) => x.time!, vectorRanges(o.time!.shape, rows), 'times', start, start + n);
-            for (let i = 0; i < n; i++) steps.add(Number(times[i]));
+            const time = o.time!.value;
+            for (let i = 0; i < n; i++) steps.add(time(times[i]));
           }
           yield n === chunk ? out : out.map((a) => a.subarray(0, n));
         }
@@ -307,7 +365,9 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     }
     const recording: Recording = {
       format: 'hdf5', channelCount: channels, sampleRate, frames,
-      encoding: `${integer ? (first.signed ? 'int' : 'uint') : 'float'}${first.size * 8}`, bits: integer ? first.size * 8 : null, normalised: integer,
+      encoding: integer ? `${first.signed ? 'int' : 'uint'}${first.precision === 8 * first.size ? first.precision : `${first.precision}in${8 * first.size}`}${first.offset ? ` from bit ${first.offset}` : ''}` : `float${first.size * 8}`,
+      // An integer's precision is its converter's codes: a 24-bit precision in 32-bit storage steps as 24 bits.
+      bits: integer ? first.precision : null, normalised: integer,
       startTime, channelNames: o.channelNames, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
       ...(o.byAxis ? { otherAxis: { channels: frames, where: declareHow.where['hdf5.channel_axis'] } } : {}),
     };

@@ -1,0 +1,150 @@
+// A dataset's stored type as the file itself describes it: h5wasm's description of a type lacks an integer's precision and
+// bit offset (an int24 in 32-bit storage reads as an int32), so the datatype message is read from the dataset's object
+// header. Layouts from the HDF5 File Format Specification 3.0: superblock (II.A), object headers version 1 and 2 (IV.A.1),
+// header continuation (IV.A.2.q), shared messages (IV.A.2), datatype message (IV.A.2.d).
+import { fstatSync, readSync } from 'node:fs';
+import { RecordingError } from './recording.js';
+
+/** Bytes [position, position + length) of the file; fewer than asked is the file's end. */
+export type ReadAt = (position: number, length: number) => Uint8Array;
+
+/** Positioned reads of an open file, each bounded by its size. */
+export function readerOf(fd: number): ReadAt {
+  const size = fstatSync(fd).size;
+  return (position, length) => {
+    const n = Math.max(0, Math.min(length, size - position));
+    const b = new Uint8Array(n);
+    for (let got = 0, k = 1; got < n && k > 0; got += k) k = readSync(fd, b, got, n - got, position + got);
+    return b;
+  };
+}
+
+/** A fixed-point (class 0) or floating-point (class 1) type as stored; other classes keep their class and size only. */
+export interface StoredType {
+  cls: number; size: number; bigEndian: boolean; signed: boolean;
+  /** Bits of the value and the bit where they start in the storage word; the rest is padding. */
+  precision: number; offset: number;
+  /** Floating-point layout: sign bit, exponent and mantissa places and sizes, bias, byte order (0 little, 1 big, 3 VAX), mantissa normalisation. */
+  float: { sign: number; expAt: number; expBits: number; mantAt: number; mantBits: number; bias: number; order: number; norm: number } | null;
+}
+
+interface Superblock { offsetBytes: number; lengthBytes: number; base: number }
+
+/** Most object header blocks and messages walked for one type: far beyond what a dataset's header holds. */
+const MAX_BLOCKS = 64, MAX_MESSAGES = 4096, MAX_BLOCK_BYTES = 1 << 24;
+
+const damaged = (what: string) => new RecordingError(`${what}; the file is damaged: copy it again`);
+
+function exactly(read: ReadAt, at: number, length: number, what: string): Uint8Array {
+  const b = read(at, length);
+  if (b.length !== length) throw damaged(`${what} at byte ${at} runs past the file's end`);
+  return b;
+}
+
+/** An unsigned little-endian number of 1 to 8 bytes; an address past 2^53 is no place in a file. */
+function unsigned(b: Uint8Array, at: number, bytes: number, what: string): number {
+  let v = 0;
+  for (let i = bytes - 1; i >= 0; i--) v = v * 256 + b[at + i];
+  if (!Number.isSafeInteger(v)) throw damaged(`${what} is beyond any file's size`);
+  return v;
+}
+
+/** Sizes of addresses and lengths, and the base addresses count from (the superblock's place, behind a user block). */
+function superblockAt(read: ReadAt, at: number): Superblock {
+  const b = exactly(read, at, 48, 'the superblock');
+  const version = b[8];
+  if (version > 3) throw damaged(`the superblock is of version ${version}, which no HDF5 library writes`);
+  const [offsetBytes, lengthBytes] = version <= 1 ? [b[13], b[14]] : [b[9], b[10]];
+  if (![2, 4, 8].includes(offsetBytes) || ![2, 4, 8].includes(lengthBytes)) throw damaged(`the superblock gives ${offsetBytes}-byte addresses and ${lengthBytes}-byte lengths`);
+  const baseAt = version === 0 ? 24 : version === 1 ? 28 : 12;
+  return { offsetBytes, lengthBytes, base: unsigned(b, baseAt, offsetBytes, 'the base address') };
+}
+
+interface Block { at: number; length: number; v2: boolean; creationOrder: boolean; signature: boolean }
+
+/** The datatype message's data in the object header at `address` (file position), following continuation blocks. */
+function datatypeMessageAt(read: ReadAt, sb: Superblock, address: number): { data: Uint8Array; shared: boolean } {
+  const head = exactly(read, address, 6, 'an object header');
+  const blocks: Block[] = [];
+  let v2: boolean, creationOrder = false;
+  if (head[0] === 0x4f && head[1] === 0x48 && head[2] === 0x44 && head[3] === 0x52) {
+    // Version 2: "OHDR", version, flags, optional times and attribute limits, then the first block's size.
+    if (head[4] !== 2) throw damaged(`the object header at byte ${address} is of version ${head[4]}`);
+    const flags = head[5], sizeBytes = 1 << (flags & 3);
+    const at = address + 6 + (flags & 0x20 ? 16 : 0) + (flags & 0x10 ? 4 : 0);
+    const length = unsigned(exactly(read, at, sizeBytes, 'an object header'), 0, sizeBytes, 'an object header\'s size');
+    v2 = true; creationOrder = (flags & 0x04) !== 0;
+    blocks.push({ at: at + sizeBytes, length, v2, creationOrder, signature: false });
+  } else if (head[0] === 1) {
+    // Version 1: version, reserved, message count, reference count, then the first block's size; messages from byte 16.
+    const length = unsigned(exactly(read, address, 16, 'an object header'), 8, 4, 'an object header\'s size');
+    v2 = false;
+    blocks.push({ at: address + 16, length, v2, creationOrder, signature: false });
+  } else throw damaged(`no object header at byte ${address} (it starts with byte ${head[0]})`);
+  let messages = 0;
+  for (let k = 0; k < blocks.length; k++) {
+    if (k >= MAX_BLOCKS) throw damaged(`the object header at byte ${address} continues over more than ${MAX_BLOCKS} blocks`);
+    const blk = blocks[k];
+    if (blk.length > MAX_BLOCK_BYTES) throw damaged(`an object header block of ${blk.length} bytes at byte ${blk.at}`);
+    const b = exactly(read, blk.at, blk.length, 'an object header block');
+    let pos = 0, end = b.length;
+    if (blk.signature) {
+      if (!(b[0] === 0x4f && b[1] === 0x43 && b[2] === 0x48 && b[3] === 0x4b)) throw damaged(`no object header continuation at byte ${blk.at}`);
+      pos = 4;
+    }
+    if (blk.signature) end -= 4; // a continuation block's checksum (the first block's size leaves its checksum out)
+    const prefix = blk.v2 ? 4 + (blk.creationOrder ? 2 : 0) : 8;
+    while (pos + prefix <= end) {
+      if (++messages > MAX_MESSAGES) throw damaged(`the object header at byte ${address} holds more than ${MAX_MESSAGES} messages`);
+      const type = blk.v2 ? b[pos] : b[pos] | (b[pos + 1] << 8);
+      const size = blk.v2 ? b[pos + 1] | (b[pos + 2] << 8) : b[pos + 2] | (b[pos + 3] << 8);
+      const flags = blk.v2 ? b[pos + 3] : b[pos + 4];
+      const data = pos + prefix;
+      if (data + size > end) throw damaged(`a message of the object header at byte ${address} runs past its block`);
+      if (type === 0x03) return { data: b.subarray(data, data + size), shared: (flags & 0x02) !== 0 };
+      if (type === 0x10) {
+        const d = b.subarray(data, data + size);
+        const at = sb.base + unsigned(d, 0, sb.offsetBytes, 'a continuation\'s address');
+        blocks.push({ at, length: unsigned(d, sb.offsetBytes, sb.lengthBytes, 'a continuation\'s length'), v2, creationOrder, signature: v2 });
+      }
+      pos = data + size;
+    }
+  }
+  throw damaged(`the object header at byte ${address} holds no datatype message`);
+}
+
+/** The type a datatype message describes. */
+export function decodeDatatype(d: Uint8Array): StoredType {
+  if (d.length < 8) throw damaged(`a datatype message of ${d.length} bytes`);
+  const cls = d[0] & 0x0f, bits = d[1] | (d[2] << 8) | (d[3] << 16);
+  const size = unsigned(d, 4, 4, 'a type\'s size');
+  const base = { cls, size, bigEndian: (bits & 1) !== 0, signed: false, precision: 8 * size, offset: 0, float: null };
+  if (cls !== 0 && cls !== 1) return base;
+  if (d.length < (cls === 0 ? 12 : 20)) throw damaged(`a datatype message of ${d.length} bytes`);
+  const offset = d[8] | (d[9] << 8), precision = d[10] | (d[11] << 8);
+  if (cls === 0) return { ...base, signed: (bits & 0x08) !== 0, offset, precision };
+  return {
+    ...base, offset, precision, signed: true,
+    float: { sign: (bits >> 8) & 0xff, expAt: d[12], expBits: d[13], mantAt: d[14], mantBits: d[15], bias: unsigned(d, 16, 4, 'an exponent bias'), order: (bits & 1) | (((bits >> 6) & 1) << 1), norm: (bits >> 4) & 3 },
+  };
+}
+
+/**
+ * The stored type of the dataset whose object header a reference names (h5wasm's object reference: its address, from the
+ * base), in a file whose superblock is at `superblock`. A type shared through a committed datatype is followed there.
+ */
+export function storedTypeOf(read: ReadAt, superblock: number, reference: ArrayLike<number>): StoredType {
+  const sb = superblockAt(read, superblock);
+  let address = sb.base + unsigned(Uint8Array.from(reference), 0, 8, 'the dataset\'s address');
+  for (let hop = 0; hop < 2; hop++) {
+    const { data, shared } = datatypeMessageAt(read, sb, address);
+    if (!shared) return decodeDatatype(data);
+    // Shared message: version 1 (address after 8 bytes), 2 (after 2), 3 (type 2, committed: after 2; type 1: the file's shared message heap).
+    const version = data[0], type = data[1];
+    if (version === 3 && type === 1) throw new RecordingError('its type is kept in the file\'s shared message heap, which quern does not read; copy the dataset into a file made without shared messages (h5py\'s default), or check the file');
+    const at = version === 1 ? 8 : 2;
+    if (version < 1 || version > 3 || data.length < at + sb.offsetBytes) throw damaged(`a shared datatype message of version ${version}`);
+    address = sb.base + unsigned(data, at, sb.offsetBytes, 'a committed type\'s address');
+  }
+  throw damaged('a committed datatype that is itself shared');
+}
