@@ -24,18 +24,27 @@ export function decodeInto(bytes: Uint8Array, type: number, little: boolean, cou
         : type === MI.INT16 ? new Int16Array(b, o, count) : type === MI.UINT16 ? new Uint16Array(b, o, count)
           : type === MI.INT32 ? new Int32Array(b, o, count) : type === MI.UINT32 ? new Uint32Array(b, o, count) : null;
     if (values) {
-      for (let i = 0, j = at; i < count; i++, j += stride) out[j] = (values[i] + shift) * scale;
+      // Without a shift the value is only scaled, so a stored −0 keeps its sign (−0 + 0 is +0).
+      if (shift === 0) for (let i = 0, j = at; i < count; i++, j += stride) out[j] = values[i] * scale;
+      else for (let i = 0, j = at; i < count; i++, j += stride) out[j] = (values[i] + shift) * scale;
       return;
     }
+  }
+  if (type === MI.INT64 || type === MI.UINT64) {
+    // The shift taken in integers before the one rounding to a double: a uint64 code's offset binary rounded twice could land a step off.
+    const v = view(bytes), big = BigInt(shift);
+    const read = type === MI.INT64 ? (i: number) => v.getBigInt64(8 * i, little) : (i: number) => v.getBigUint64(8 * i, little);
+    for (let i = 0, j = at; i < count; i++, j += stride) out[j] = Number(read(i) + big) * scale;
+    return;
   }
   const v = view(bytes);
   const read: (i: number) => number =
     type === MI.DOUBLE ? (i) => v.getFloat64(8 * i, little) : type === MI.SINGLE ? (i) => v.getFloat32(4 * i, little)
       : type === MI.INT8 ? (i) => v.getInt8(i) : type === MI.UINT8 ? (i) => v.getUint8(i)
         : type === MI.INT16 ? (i) => v.getInt16(2 * i, little) : type === MI.UINT16 ? (i) => v.getUint16(2 * i, little)
-          : type === MI.INT32 ? (i) => v.getInt32(4 * i, little) : type === MI.UINT32 ? (i) => v.getUint32(4 * i, little)
-            : type === MI.INT64 ? (i) => Number(v.getBigInt64(8 * i, little)) : (i) => Number(v.getBigUint64(8 * i, little));
-  for (let i = 0, j = at; i < count; i++, j += stride) out[j] = (read(i) + shift) * scale;
+          : type === MI.INT32 ? (i) => v.getInt32(4 * i, little) : (i) => v.getUint32(4 * i, little);
+  if (shift === 0) for (let i = 0, j = at; i < count; i++, j += stride) out[j] = read(i) * scale;
+  else for (let i = 0, j = at; i < count; i++, j += stride) out[j] = (read(i) + shift) * scale;
 }
 
 /** Whether a stored type holds numbers the decoder reads. */
