@@ -38,6 +38,7 @@ export function orderHeld(n: number, width: number, meanHz: number, minHz: numbe
   return n * (maxHz - meanHz) <= room && n * (meanHz - minHz) <= room;
 }
 
+// Main lobe inside the band (Harris, Proc. IEEE 66(1), 1978), read from multistage decimation (Crochiere & Rabiner 1983, ch. 5).
 /**
  * The finer spectrum the orders stage asks for (on channels of recordings with a tacho channel), for shafts from `min_rpm` up
  * to the speed at which the shared segment's main lobe fills the order band (width × rate = lobe; above it the shared
