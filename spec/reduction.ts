@@ -19,7 +19,7 @@ export interface ReductionSpec {
   envelope?: { filter: FilterSpec } & Only;
   sound_level?: Only;
   rainflow?: { slope?: number; gate?: number; bins?: { range_width?: number; mean_width?: number } } & Only;
-  orders?: { orders?: number[]; width?: number } & Only;
+  orders?: { orders?: number[]; width?: number; min_rpm?: number } & Only;
   quality?: QualitySpec;
   trends?: TrendsSpec;
 }

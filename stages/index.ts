@@ -9,7 +9,7 @@ import { octaveBands } from './octave.js';
 import { rainflow } from './rainflow.js';
 import { soundEnergy } from './sound-energy.js';
 import { soundMaxima } from './sound-maxima.js';
-import { orders, orderTacho } from './orders.js';
+import { MIN_RPM, orders, orderTacho } from './orders.js';
 import { keptSpectrum } from './spectra.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
 import { speedOptionsOf } from './shaft-speed.js';
@@ -77,7 +77,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   // A channel declared with pulses_per_rev gets its shaft speed whatever the spec: the declaration asks for it.
   out.push({ definition: speed, options: speedOptions, only: undefined });
   if (spec.orders) {
-    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, spectrum: welch, speed: speedOptions };
+    const options = { orders: spec.orders.orders ?? [1, 2], width: spec.orders.width ?? 0.5, min_rpm: spec.orders.min_rpm ?? MIN_RPM, spectrum: welch, speed: speedOptions };
     out.push({ definition: orders, options, only: spec.orders.only }, { definition: orderTacho, options: speedOptions, only: undefined });
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.

@@ -57,6 +57,8 @@ export interface ChannelContext {
   rowAppender?(table: string, names: readonly string[]): (values: ArrayLike<number | null>) => void;
   /** The shaft-pulse declaration when this is a tacho channel (pulses_per_rev declared), else absent or null. */
   tacho?: TachoDeclaration | null;
+  /** Names of the recording's channels declaring pulses_per_rev, known when stages are created; absent outside a recording. */
+  tachoChannels?: readonly string[];
   /**
    * A product shared by all channels of the recording (a tacho channel's shaft speed…): made once, on first request, by any channel.
    * Publish into it when a stage is created; read it in finish(), when every channel has seen every chunk. Absent outside a recording.

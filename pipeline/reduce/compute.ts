@@ -98,6 +98,7 @@ export async function computeRecording(
     });
     const offers = channels.map(() => new Map<string, () => unknown>());
     const recordingShared = new Map<string, unknown>();
+    const tachoChannels = channels.filter(({ decl }) => decl.pulses_per_rev).map(({ decl }) => decl.name);
     const perChannel = channels.map(({ decl }, c) => {
       const shared = new Map<string, Stage>();
       // A file narrower than the declared converter steps at its own codes (a note says so).
@@ -139,6 +140,7 @@ export async function computeRecording(
           flag: (f) => g.flags[c].push(f),
           evidence: (name, make) => offers[c].set(name, make),
           tacho: decl.pulses_per_rev ? { pulsesPerRev: decl.pulses_per_rev, triggerLevel: decl.trigger_level ?? null, triggerHysteresis: decl.trigger_hysteresis ?? null } : null,
+          tachoChannels,
           recordingShared: <T>(key: string, make: () => T) => (recordingShared.has(key) ? recordingShared.get(key) : recordingShared.set(key, make()).get(key)) as T,
           keep: (name, value) => { ((g.kept ??= {})[name] ??= channels.map(() => null))[c] = value; },
           scratch,
