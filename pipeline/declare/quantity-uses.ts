@@ -13,7 +13,7 @@ export type QuantityUses = ReadonlyMap<string, readonly string[]>;
 /** Nothing selects by quantity: no declared quantity is judged. */
 export const NO_QUANTITY_USES: QuantityUses = new Map();
 
-/** The quantities the spec's sections (`only: { quantities }`, with their defaults), the stages' own tests and the offset flag select. */
+/** The quantities the spec's sections (`only: { quantities }`, with their defaults), the stages' own tests, the offset flag and the resolution flag's static readings select. */
 export function quantityUses(spec: ReductionSpec): QuantityUses {
   const uses = new Map<string, string[]>();
   const add = (quantity: string, what: string) => { const u = uses.get(quantity) ?? uses.set(quantity, []).get(quantity)!; if (!u.includes(what)) u.push(what); };
@@ -23,6 +23,7 @@ export function quantityUses(spec: ReductionSpec): QuantityUses {
   const octaves = spec.octave_bands == null ? [] : Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands];
   if (octaves.some((o) => o.levels_db)) add('sound_pressure', 'octave_bands levels_db');
   for (const q of thresholdsOf(spec.quality).offset.quantities) add(q, 'the offset flag');
+  for (const q of thresholdsOf(spec.quality).resolution.static_quantities) add(q, 'the resolution flag');
   return uses;
 }
 

@@ -3,6 +3,7 @@ import { spectrumOf } from '../spectrum.js';
 import { bandMeanSquare, type WelchOptions } from '../dsp/welch.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { quantisationDensity } from './quantisation.js';
 
 /** Where a tone at f lands when sampled at fs: |f − k·fs| for the nearest whole k (sampling theorem). */
 export const aliasOf = (f: number, fs: number) => Math.abs(f - Math.round(f / fs) * fs);
@@ -36,6 +37,15 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         const pulses = ctx.tacho != null;
         const topBeyond = pulses ? null : beyondNoise(top, topFrom), aboveBeyond = pulses ? null : f ? beyondNoise(above, f) : above;
         const noiseNote = floor != null ? ' beyond what the declared noise floor puts there' : '';
+        // The converter's own floor, where its step is known: a share whose density is within a small factor of the ideal step's
+        // q²/(6·fs) (IEEE Std 1241) is its noise, white to Nyquist, not content folded from above it.
+        const step = ctx.stepSize ?? ctx.declaredGrid?.step ?? null;
+        const floorDensity = psd && step != null && !pulses ? quantisationDensity(step, fs) : null;
+        const overFloor = (from: number) => (floorDensity == null || from >= fs / 2 ? null : bandMeanSquare(psd!, from, fs / 2) / (fs / 2 - from) / floorDensity);
+        const topOverFloor = overFloor(topFrom), aboveOverFloor = f ? overFloor(f) : null;
+        const atFloor = (ratio: number | null) => ratio != null && ratio <= a.converter_floor_factor;
+        const topWarns = topBeyond != null && topBeyond > a.top_band_warn_fraction;
+        const aboveWarns = aboveBeyond != null && aboveBeyond > a.above_declared_warn_fraction;
         let severity: Severity = 'ok', message: string;
         const margin = f ? fs / f : null;
         // A declared alias-free bandwidth (the converter's data sheet) replaces the ratio common practice leaves an analogue filter.
@@ -50,12 +60,17 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         } else if (f && aliasFree == null && fs < a.recommended_ratio * f) {
           severity = 'warn';
           message = `sampled at ${(fs / f).toFixed(2)} × the declared ${f} Hz, less than the ${a.recommended_ratio} × common practice leaves for the anti-alias filter: content near ${f} Hz may be attenuated or folded; where the converter's data sheet gives a wider alias-free bandwidth, declare alias_free_fraction`;
-        } else if (topBeyond != null && topBeyond > a.top_band_warn_fraction) {
+        } else if (topWarns && !atFloor(topOverFloor)) {
           severity = 'warn';
           message = `${pct(topBeyond)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)${noiseNote}: content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
-        } else if (aboveBeyond != null && aboveBeyond > a.above_declared_warn_fraction) {
+        } else if (aboveWarns && !atFloor(aboveOverFloor)) {
           severity = 'warn';
           message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (${aboveBeyond < 0.99 ? `RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's` : `the declared band holds ${aboveBeyond < 1 ? 'under 1 %' : 'none'} of the power`}); check the anti-alias filter and max_frequency_hz`;
+        } else if (topWarns || aboveWarns) {
+          severity = 'note';
+          const share = topWarns ? `${pct(topBeyond!)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)` : `${pct(aboveBeyond!)} of the power lies above the declared highest frequency ${f} Hz`;
+          const ratio = topWarns ? topOverFloor! : aboveOverFloor!;
+          message = `${share}, at ${ratio.toFixed(1)} × the density of the converter's own quantisation noise (step²/(6·fs), within ${a.converter_floor_factor} ×): the converter's noise, white to Nyquist, not content folded from above it; the channel varies by little more than its steps (see resolution)`;
         } else {
           const pulseNote = pulses ? '; the power of a pulse train\'s edges, which reaches Nyquist by design, is not judged on a tacho channel' : '';
           message = (!f ? `no highest frequency declared${pulses ? '' : '; top of the band is quiet'}`
@@ -64,11 +79,12 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         }
         ctx.flag({
           name: 'aliasing', severity, value: margin,
-          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${pulses ? ' (these two not on a tacho channel)' : ''}${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}`,
+          threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${pulses ? ' (these two not on a tacho channel)' : ''}${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}${floorDensity != null ? `, unless its density is within ${a.converter_floor_factor} × the converter's quantisation noise, step²/(6·fs)` : ''}`,
           evidence: {
             declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above,
             ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}),
             ...(floor != null ? { top_band_beyond_noise_fraction: topBeyond, above_declared_beyond_noise_fraction: aboveBeyond } : {}),
+            ...(floorDensity != null ? { converter_floor_density: floorDensity, top_band_over_converter_floor: topOverFloor, above_declared_over_converter_floor: aboveOverFloor } : {}),
           },
           message,
         });

@@ -36,8 +36,8 @@ export const worst = (severities: Severity[]): Severity => severities.reduce<Sev
 /** Quality thresholds (spec section `quality`), each default with where it comes from. */
 export interface QualityThresholds {
   saturation: { fail_fraction: number; fail_run: number };
-  aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number; above_declared_warn_fraction: number };
-  resolution: { note_snr_db: number; warn_snr_db: number; fail_snr_db: number };
+  aliasing: { recommended_ratio: number; top_band: number; top_band_warn_fraction: number; above_declared_warn_fraction: number; converter_floor_factor: number };
+  resolution: { note_error: number; warn_error: number; fail_error: number; static_quantities: string[] };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
@@ -58,10 +58,17 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // below it band figures near that frequency read low); the top-band share (top 10 % of the band holding over 5 % of the power) is our choice.
   // Power between the declared highest frequency and Nyquist is content the declaration excludes (or folded from above Nyquist):
   // a share p of it raises the whole-band RMS by 1/√(1 − p) − 1, 5 % at p = 9.3 % (derived).
-  aliasing: { recommended_ratio: 2.56, top_band: 0.1, top_band_warn_fraction: 0.05, above_declared_warn_fraction: 0.093 },
-  // Signal-to-quantisation-noise against the ideal LSB/√12 (IEEE Std 1241). A sine's sampled peak can be off by half a step,
-  // √3/√2·10^(−SNR/20) of the peak (derived): 1.2 % at 40 dB (note), 3.9 % at 30 dB (warn), 12 % at 20 dB with only ~3 bits in use (fail).
-  resolution: { note_snr_db: 40, warn_snr_db: 30, fail_snr_db: 20 },
+  // White quantisation noise puts a tenth of its power in the top tenth of the band by definition: a share whose density is
+  // within 4× (6 dB) of the ideal step's, q²/(6·fs) (IEEE Std 1241), is the converter's own noise, as a converter one effective
+  // bit short of its nominal bits, or a front end's noise of half a step beside it, makes it; folded content hidden under that adds
+  // less power than the step's own noise, which the resolution flag judges (our choice).
+  aliasing: { recommended_ratio: 2.56, top_band: 0.1, top_band_warn_fraction: 0.05, above_declared_warn_fraction: 0.093, converter_floor_factor: 4 },
+  // The error the step puts on the channel's own figures: its peak, half a step of it (an ideal quantiser, IEEE Std 1241), and its
+  // RMS (mean removed), √(1 + q²/(12·σs²)) − 1 (uncorrelated powers add, common practice). Note above 1 %; warn above 5 %, the
+  // flags' tolerance; fail above 15 %, a peak resting on about three steps or a variation of half a step RMS (our choices).
+  // Strain, stress, pressure and temperature are read for their level: a static reading of them, its mean far from zero and
+  // resolved to within half a step, keeps its figure whatever its variation's few steps say (common practice).
+  resolution: { note_error: 0.01, warn_error: 0.05, fail_error: 0.15, static_quantities: ['strain', 'stress', 'pressure', 'temperature'] },
   // Shortfall of the sampled peak (the largest sample, as the peak column defines it) below the 4× true peak of the band-limited
   // signal (ITU-R BS.1770-4 Annex 2). Note above 5 %, the tolerance above (ours). Warn above 25 % (≈ 2.5 dB): beyond what sampling
   // at 2.56 × the highest frequency, common practice, costs a signal that keeps to it (at most 22 % in 600 records of noise

@@ -1,11 +1,11 @@
-// Resolution: how many converter steps the signal spans, and its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241).
+// Resolution: how many converter steps the signal spans, its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241), and what the step does to its figures.
 import { momentsOf } from '../fused/moments.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
 import { foldGrid, gcd, noTally, type DeclaredGrid, type GridTally } from './float-grid.js';
+import { meanError, peakError, quantisationNoise, rmsError } from './quantisation.js';
 import type { ChannelContext, StageDefinition } from '../stage.js';
 
-/** Ideal quantisation noise RMS of a step q: q/√12 (IEEE Std 1241, uniform error over one step). */
-export const quantisationNoise = (step: number) => step / Math.sqrt(12);
+export { quantisationNoise };
 
 /** Samples of each chunk searched for the data's grid, until it is found to be the converter's own. */
 const STEP_SEARCH = 4096;
@@ -56,7 +56,8 @@ export const resolution: StageDefinition<QualityThresholds> = {
       },
       finish() {
         const m = shared.moments();
-        const threshold = `note below ${q.resolution.note_snr_db} dB, warn below ${q.resolution.warn_snr_db} dB, fail below ${q.resolution.fail_snr_db} dB`;
+        const r = q.resolution;
+        const threshold = `note where the step can put a figure off by more than ${pct(r.note_error)}, warn ${pct(r.warn_error)}, fail ${pct(r.fail_error)} (peak: half a step of it; RMS: the step's noise q²/12 added); a static reading of ${r.static_quantities.join(', ')} is judged by its mean`;
         const std = m.n ? Math.sqrt(m.m2 / m.n) : 0;
         const varies = m.n > 0 && std > 0;
         // The declared step on floating-point samples only where the data show it (a filtered or resampled export does not).
@@ -81,24 +82,48 @@ export const resolution: StageDefinition<QualityThresholds> = {
         }
         const bits = Math.log2(Math.max(1, (m.max - m.min) / step));
         const snr = 20 * Math.log10(std / quantisationNoise(step));
-        const severity: Severity = snr < q.resolution.fail_snr_db ? 'fail' : snr < q.resolution.warn_snr_db ? 'warn' : snr < q.resolution.note_snr_db ? 'note' : 'ok';
-        // Half a step at a sine's peak (√2·std), relative to that peak (derived from LSB/√12).
-        const peakError = step / 2 / (Math.SQRT2 * std);
+        const steps = Math.round((m.max - m.min) / step);
+        const peak = Math.max(Math.abs(m.min), Math.abs(m.max));
+        const errors = { peak: peakError(step, peak), rms: rmsError(step, std) };
+        const worstError = Math.max(errors.peak, errors.rms);
+        const dynamic: Severity = worstError > r.fail_error ? 'fail' : worstError > r.warn_error ? 'warn' : worstError > r.note_error ? 'note' : 'ok';
+        // A static reading of a quantity read for its level: the figure is the mean, which the step does not put at risk.
+        const mean = meanError(step, m.mean);
+        const reading = (dynamic === 'warn' || dynamic === 'fail') && r.static_quantities.includes(ctx.quantity)
+          && Math.abs(m.mean) >= m.max - m.min && mean <= r.note_error;
+        const severity: Severity = reading ? 'note' : dynamic;
+        const used = `${steps} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
+          + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than ${ctx.bitsFromFile ? 'the file\'s' : 'the declared'} ${ctx.bits} bits)` : '')
+          + `, ${snr.toFixed(1)} dB above ideal quantisation noise`;
         ctx.flag({
           name: 'resolution', severity, value: snr, threshold,
-          evidence: { step_size: step, declared_step_size: base, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: Math.round((m.max - m.min) / step), bits_used: bits },
-          message: `${Math.round((m.max - m.min) / step)} steps of ${step.toPrecision(4)} ${ctx.unit} used (${bits.toFixed(1)} bits)`
-            + (coarser ? ` (the data change by whole multiples of ${grid} converter steps: coarser than ${ctx.bitsFromFile ? 'the file\'s' : 'the declared'} ${ctx.bits} bits)` : '')
-            + `, ${snr.toFixed(1)} dB above ideal quantisation noise`
-            + ({ ok: '', note: `: a peak can be off by ${pct(peakError)} (half a step), and band figures more than ${snr.toFixed(0)} dB below the overall level sit on quantisation noise`,
-              warn: `: too coarse for the figures: a peak can be off by ${pct(peakError)}, and band figures more than ${snr.toFixed(0)} dB below the overall level are quantisation noise; use a smaller range or a finer converter`,
-              fail: `: too coarse: peak, kurtosis and band figures describe the converter's steps more than the signal; use a smaller range or a finer converter` })[severity],
+          evidence: {
+            step_size: step, declared_step_size: base, data_grid_steps: grid > 1 ? grid : 1, steps_spanned: steps, bits_used: bits,
+            peak_error: errors.peak, rms_error: Number.isFinite(errors.rms) ? errors.rms : null, ...(reading ? { mean_error: mean } : {}),
+          },
+          message: used + (reading ? staticSaid(ctx, m.mean, std, step, mean, dynamic) : dynamicSaid(severity, errors, snr, peak, ctx.unit)),
         });
         return { step_size: step, resolution_bits: bits, quantisation_snr_db: snr };
       },
     };
   },
 };
+
+/** What the step does to a varying signal's figures, by severity: the peak's bound and the RMS's excess, from the measured figures. */
+function dynamicSaid(severity: Severity, e: { peak: number; rms: number }, snr: number, peak: number, unit: string): string {
+  const peakSaid = `a peak can be off by up to ${pct(e.peak)} (half a step of the ${Number(peak.toPrecision(4))} ${unit} peak)`;
+  const rmsSaid = Number.isFinite(e.rms) ? `RMS (mean removed) reads about ${pct(e.rms)} high (the step's noise added)` : 'the variation is no more than the step\'s own noise';
+  const bands = `band figures more than ${snr.toFixed(0)} dB below the overall level`;
+  if (severity === 'ok') return '';
+  if (severity === 'note') return `: ${peakSaid}, ${rmsSaid}; ${bands} sit on quantisation noise`;
+  if (severity === 'warn') return `: too coarse for the figures: ${peakSaid}, ${rmsSaid}, and ${bands} are quantisation noise; use a smaller range or a finer converter`;
+  return `: too coarse: ${peakSaid}, ${rmsSaid}; peak, kurtosis and band figures describe the converter's steps more than the signal; use a smaller range or a finer converter`;
+}
+
+/** A static reading of a quantity read for its level: its mean is the figure, and its few steps of variation are noise. */
+function staticSaid(ctx: Pick<ChannelContext, 'unit' | 'quantity'>, mean: number, std: number, step: number, error: number, dynamic: Severity): string {
+  return `: a static reading: its mean, ${Number(mean.toPrecision(6))} ${ctx.unit}, lies ${Math.round(Math.abs(mean) / step)} steps from zero and is resolved to within half a step (${pct(error)}), closer where noise of half a step or more dithers the converter (common practice); its variation, ${(std / step).toFixed(2)} steps RMS, is the chain's noise at the converter's steps, so std, kurtosis, band and cycle figures describe that noise rather than the ${ctx.quantity}${dynamic === 'fail' ? ' (as dynamic figures they would fail)' : ''}`;
+}
 
 /**
  * Why a declared step is not used on floating-point samples: the note for run.json, the flag's message, and the short reason
