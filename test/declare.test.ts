@@ -220,6 +220,15 @@ describe('unknown keys and syntax errors: what was meant, and what to do', () =>
     expect(spec).toMatch(/reduction\.yaml:3: trends\.limits\.rms\.wran: unknown key "wran"; did you mean warn\?/);
   });
 
+  it('answers a retired key with what replaced it, beside an unknown one', async () => {
+    const dir = archiveWith('groups: []');
+    writeFileSync(join(dir, 'reduction.yaml'), 'statistics: {}\nquality:\n  resolution: { warn_snr_db: 25, fail_snr_db: 15 }\n  offset: { nope: 1 }\n');
+    const spec = await errorOf(loadSpec(dir));
+    expect(spec).toMatch(/reduction\.yaml:3: quality\.resolution\.warn_snr_db: "warn_snr_db" is retired: since version 0\.4\.0 the resolution flag judges the errors .*; write warn_error \(a fraction of the figure, default 0\.05\) instead/);
+    expect(spec).toMatch(/quality\.resolution\.fail_snr_db: "fail_snr_db" is retired: .*write fail_error/);
+    expect(spec).toMatch(/reduction\.yaml:4: quality\.offset\.nope: unknown key "nope"/);
+  });
+
   it('says what to do about a YAML syntax error: indentation with spaces, a list item without its dash, an unclosed quote, a missing space after a colon', async () => {
     const cases: [string, RegExp][] = [
       ['groups:\n  - name: g\n    match: "*.wav"\n    channels:\n    - { name: a }\n        - { name: b }\n', /archive\.yaml:6: YAML syntax: .*; indent this line with as many spaces as the other keys or list items at its level/],

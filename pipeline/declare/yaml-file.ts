@@ -5,6 +5,7 @@ import { isMap, isPair, isScalar, LineCounter, parseDocument, visit, type Docume
 import { didYouMean, likelyMeant } from './nearest-names.js';
 import { readSchema } from './package-files.js';
 import { keysAllowedAt } from './schema-keys.js';
+import { retiredKey } from './retired-keys.js';
 import { archive, reduction } from './schema-validators.js';
 import { syntaxHint } from './yaml-syntax-hint.js';
 
@@ -57,8 +58,10 @@ function unknownKey(key: string, allowed: readonly string[]): string {
 function describeAjv(e: ErrorObject, schema: object | null): { path: (string | number)[]; message: string; key: boolean } {
   const path = e.instancePath.split('/').slice(1).map((s) => (/^\d+$/.test(s) ? Number(s) : s.replace(/~1/g, '/').replace(/~0/g, '~')));
   switch (e.keyword) {
-    case 'additionalProperties':
-      return { path: [...path, e.params.additionalProperty], key: true, message: unknownKey(e.params.additionalProperty, schema ? keysAllowedAt(schema, path) : []) };
+    case 'additionalProperties': {
+      const at = [...path, e.params.additionalProperty];
+      return { path: at, key: true, message: retiredKey(at) ?? unknownKey(e.params.additionalProperty, schema ? keysAllowedAt(schema, path) : []) };
+    }
     case 'required':
       return { path, key: false, message: `missing required key "${e.params.missingProperty}"` };
     case 'enum':
