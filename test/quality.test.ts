@@ -226,9 +226,10 @@ describe('flatline, dropout, offset, spikes, declaration', () => {
   it('missing CSV cells and a time gap are dropouts', async () => {
     const rows = Array.from({ length: 400 }, (_, i) => `${(i < 200 ? i : i + 50) / 100},${i % 150 === 5 ? '' : Math.sin(i)}`);
     const { flag, row } = await flagsOf(new Float64Array(0), 100, channel({ scale: 1 }), { csv: ['time,x', ...rows].join('\n') });
-    expect(flag('dropout').severity).toBe('warn');
-    expect(row.missing_fraction).toBeCloseTo(3 / 400, 12);
-    expect(flag('dropout').message).toMatch(/1 irregular time steps, the widest 0\.51 s/);
+    // The time column skips 50 rows (0.51 s, 51 steps of 10 ms): 50 missing samples beside the 3 empty cells, of 450.
+    expect(flag('dropout').severity).toBe('fail');
+    expect(row.missing_fraction).toBeCloseTo(53 / 450, 12);
+    expect(flag('dropout').message).toMatch(/53 samples missing \(11\.8 %\), first at 0\.05 s, the longest gap 0\.5 s ending at 2\.5 s/);
   });
 
   it('one missing sample in 5000 is a note; the figures cover the rest', async () => {

@@ -8,6 +8,7 @@ import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
 import { unendedLineNote, type LastLine } from './unended-line.js';
 import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './time-steps.js';
+import { lostRowCounter, lostRowsNote, MOST_LOST_ROWS } from './lost-rows.js';
 
 /** A time column's header without a unit: its numbers are read as seconds. */
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
@@ -121,9 +122,11 @@ export interface CsvOptions {
   declaredSampleRate?: number | null;
   /** Where the user gives the sample rate, named in messages (archive.yaml, or peek's option). */
   sampleRateWhere?: string;
+  /** The most rows lost in one gap of the time column that are read as missing samples; a longer gap fails the recording. */
+  mostLostRows?: number;
 }
 
-export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, declaredSampleRate = null, sampleRateWhere = DECLARE_IN_ARCHIVE.where.sample_rate }: CsvOptions = {}): Promise<Recording> {
+export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, declaredSampleRate = null, sampleRateWhere = DECLARE_IN_ARCHIVE.where.sample_rate, mostLostRows = MOST_LOST_ROWS }: CsvOptions = {}): Promise<Recording> {
   // Probe the first megabyte for the header, the delimiter and the time step, without reading the whole file.
   const fh = await open(path, 'r');
   const probe = Buffer.alloc(PROBE_BYTES);
@@ -165,7 +168,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
 
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
-  let timeStep = NaN, timeTolerance = NaN, secondsAssumed: string | undefined;
+  let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, secondsAssumed: string | undefined;
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
     if (times.length < 2 || !Number.isFinite(times[0])) {
@@ -189,6 +192,10 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     }
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     timeTolerance = Math.max(0.01 * timeStep, resolution);
+    // Rows lost are counted in steps of the rate as quoted (25600 Hz, not its estimate's last digits, which a gap of millions
+    // of steps multiplies), give or take the span of steps the printed times allow.
+    lostStep = 1 / rate.rate;
+    stepUncertainty = 1 / rate.lowest - 1 / rate.highest;
     // Date-times give the start; so do POSIX seconds, as loggers print them.
     const numeric = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim());
     startTime = numeric ? startOfTimes(times[0]) : new Date(times[0] * 1000);
@@ -210,6 +217,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     let lineNo = 0, k = 0, shortRows = 0, firstShort = 0;
     const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
+    const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows);
     let last = null as LastLine | null;
     try {
       for await (const raw of lineReader) {
@@ -224,8 +232,16 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
         if (timeColumn === 0) {
           const t = timeValue(cells[0] ?? '', decimalComma, perSecond);
           if (!Number.isFinite(t)) throw unreadableTime(lineNo, cells[0] ?? '');
-          steps.add(t);
+          const lost = lostRows.before(t, (cells[0] ?? '').trim(), lineNo);
+          steps.add(t, lost > 0);
           if (last) last.time = t;
+          // The rows a logger dropped, as missing samples in their places, a chunk at a time however long the gap.
+          for (let left = lost; left > 0;) {
+            const m = Math.min(left, chunkFrames - k);
+            for (const a of out) a.fill(NaN, k, k + m);
+            k += m; left -= m;
+            if (k === chunkFrames) { yield out; k = 0; }
+          }
         }
         for (let c = 0, j = 0; c < width; c++) {
           if (c === timeColumn) continue;
@@ -241,6 +257,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
       lineReader.close();
     }
     if (timeColumn === 0) keepSteps(recording, steps);
+    if (timeColumn === 0 && lostRows.result().rows > 0) notes.push(lostRowsNote(lostRows.result()));
     const cut = last && last.line === lineNo ? unendedLineNote(last, names, timeColumn) : null;
     if (cut) notes.push(cut);
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);

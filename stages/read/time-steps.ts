@@ -8,9 +8,10 @@ export interface TimeSteps { irregular: number; widest_s: number; widest_at_s: n
 export function stepCounter(nominal: number, tolerance: number) {
   let previous = NaN, irregular = 0, widest = 0, widestAt = NaN, times = 0;
   return {
-    add(t: number): void {
+    /** `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step. */
+    add(t: number, lost = false): void {
       times++;
-      if (Number.isFinite(previous)) {
+      if (Number.isFinite(previous) && !lost) {
         const dt = t - previous;
         if (!(Math.abs(dt - nominal) <= tolerance)) {
           irregular++;
@@ -50,11 +51,12 @@ export function timeRate(times: ArrayLike<number>, resolution = 0): TimeRate {
   const stored = Array.prototype.every.call(times, (t: number) => Math.fround(t) === t) ? 2 ** -24 : 2 ** -53;
   const rounding = 4 * stored * largest, error = resolution / 2 + rounding;
   const near = Math.max(0.01 * Math.abs(median), resolution) + 2 * rounding;
-  let span = 0, count = 0, runs = 0, from = -1;
-  for (let i = 0; i <= steps.length; i++) {
-    const regular = i < steps.length && Math.abs(steps[i] - median) <= near;
-    if (regular && from < 0) from = i;
-    if (!regular && from >= 0) { span += times[i] - times[from]; count += i - from; runs++; from = -1; }
+  let { span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near);
+  // Times printed to their step (1 kHz to the millisecond) keep a skipped row's step within the resolution of the median:
+  // one nearer two steps than one is rows lost, and leaves the runs (times printed coarser, 0.1 and 0.2 ms at 7 kHz, keep theirs).
+  const first = span / count;
+  if (count > 0 && first >= resolution * (1 - 1e-9) && steps.some((d) => Math.abs(d - median) <= near && d >= 1.5 * first)) {
+    ({ span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near && d < 1.5 * first));
   }
   if (count === 0) return { step: median, rate: 1 / median, lowest: 1 / median, highest: 1 / median };
   // Each run's span is off by at most one time's error at either end.
@@ -64,6 +66,17 @@ export function timeRate(times: ArrayLike<number>, resolution = 0): TimeRate {
   // times summed step by step in doubles (t += 0.01) carry more than their last digit's rounding, and read 100 Hz, not 99.999999999999.
   const rate = 1 / step;
   return { step, rate: shortestWithin(rate, Math.min(lowest, rate * (1 - CLOCK_DIGITS)), Math.max(highest, rate * (1 + CLOCK_DIGITS))), lowest, highest };
+}
+
+/** The runs of steps `regular` keeps: their spans summed, their steps counted, and how many runs. */
+function regularRuns(times: ArrayLike<number>, steps: Float64Array, regular: (step: number) => boolean) {
+  let span = 0, count = 0, runs = 0, from = -1;
+  for (let i = 0; i <= steps.length; i++) {
+    const kept = i < steps.length && regular(steps[i]);
+    if (kept && from < 0) from = i;
+    if (!kept && from >= 0) { span += times[i] - times[from]; count += i - from; runs++; from = -1; }
+  }
+  return { span, count, runs };
 }
 
 /** The finest relative difference a rate from times is quoted to. */

@@ -1,0 +1,54 @@
+// Rows a logger dropped from a file with a time column: a step k ≥ 2 nominal steps long holds k − 1 samples that were never
+// written, read as missing samples so that every figure, the missing-sample accounting and the window times follow the
+// file's own times. Steps that are no whole number of nominal steps (irregular sampling) are left to the step counter.
+import { RecordingError } from './recording.js';
+
+/**
+ * The most samples one gap is filled with: 2^24 (16,777,216), 11 minutes at 25.6 kHz, 4.7 hours at 1 kHz. A logger that
+ * drops rows loses a buffer (milliseconds to seconds); a jump this long is a logger stopped and started again, or its clock
+ * set, within one file, and filling it would cost each channel's stages as much work as that many samples read.
+ */
+export const MOST_LOST_ROWS = 2 ** 24;
+
+/**
+ * The rows lost in a step of dt seconds: k − 1 where dt lies within `tolerance` of k ≥ 2 nominal steps, else 0. The
+ * tolerance is the one a regular step is held to (a time's jitter and printing do not grow with k); `uncertainty`, how far
+ * the nominal step itself may be off, is counted k times, since its error adds up over the k steps.
+ */
+export function rowsLostIn(dt: number, nominal: number, tolerance: number, uncertainty = 0): number {
+  const k = Math.round(dt / nominal);
+  return k >= 2 && Math.abs(dt - k * nominal) <= tolerance + k * uncertainty ? k - 1 : 0;
+}
+
+/** What a file's lost rows came to: how many in all, in how many gaps, and the largest gap's rows, times and lines. */
+export interface LostRows { rows: number; gaps: number; largest: number; from: string; to: string; fromLine: number; toLine: number; nominal_s: number }
+
+/**
+ * Counts the rows lost before each time as times arrive one by one, in file order; refuses a gap of more than `most` rows,
+ * naming the lines and times on both sides.
+ */
+export function lostRowCounter(nominal: number, tolerance: number, uncertainty = 0, most = MOST_LOST_ROWS) {
+  let previous = NaN, previousText = '', previousLine = 0;
+  const found: LostRows = { rows: 0, gaps: 0, largest: 0, from: '', to: '', fromLine: 0, toLine: 0, nominal_s: nominal };
+  return {
+    /** The rows lost between the time before and `t`, printed `text` on line `line`. */
+    before(t: number, text: string, line: number): number {
+      const lost = Number.isFinite(previous) ? rowsLostIn(t - previous, nominal, tolerance, uncertainty) : 0;
+      if (lost > most) {
+        throw new RecordingError(`line ${line}: the time column jumps from ${previousText} (line ${previousLine}) to ${text}, ${lost} rows lost at the nominal step of ${(nominal * 1e3).toPrecision(4)} ms, more than the ${most} quern reads as missing samples in one gap: a logger stopped and started again, or its clock set, within one file; split the file before line ${line} and reduce each part as its own recording`);
+      }
+      if (lost > 0) {
+        found.rows += lost;
+        found.gaps++;
+        if (lost > found.largest) Object.assign(found, { largest: lost, from: previousText, to: text, fromLine: previousLine, toLine: line });
+      }
+      previous = t; previousText = text; previousLine = line;
+      return lost;
+    },
+    result: (): LostRows => ({ ...found }),
+  };
+}
+
+/** The note a recording carries when rows were lost from its time column. */
+export const lostRowsNote = (s: LostRows) =>
+  `rows lost: the time column skips ${s.rows} rows at its nominal step of ${(s.nominal_s * 1e3).toPrecision(4)} ms in ${s.gaps} gap${s.gaps === 1 ? '' : 's'}, read as missing samples; the largest, ${s.largest} rows (${(s.largest * s.nominal_s).toPrecision(4)} s), lies between ${s.from} (line ${s.fromLine}) and ${s.to} (line ${s.toLine})`;
