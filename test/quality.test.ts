@@ -223,6 +223,20 @@ describe('flatline, dropout, offset, spikes, declaration', () => {
     expect(flag('flatline').message).toMatch(/dead or disconnected sensor/);
   });
 
+  it('a channel of zeros from end to end fails flatline, and dropout defers to it in a note rather than claim lost data', async () => {
+    const dead = await flagsOf(new Float64Array(5000), 1000, channel({ bits: 16 }), { pcm16: true });
+    expect(dead.flag('flatline').severity).toBe('fail');
+    expect(dead.flag('dropout').severity).toBe('note');
+    expect(dead.flag('dropout').message).toMatch(/^exact zeros for the whole recording \(5 s\): no data were lost between samples: the channel never moved, which the flatline flag judges/);
+    expect(dead.flag('dropout').message).not.toMatch(/lost data/);
+    expect(dead.row.zero_run_s).toBe(5);
+    // Zeros for 0.3 s inside a moving signal are still a logger's gap written as zeros.
+    const gap = Float64Array.from({ length: 5000 }, (_, i) => (i >= 2000 && i < 2300 ? 0 : 1 + Math.sin(i / 7)));
+    const lost = await flagsOf(gap, 1000, channel({ bits: 16 }), { pcm16: true });
+    expect(lost.flag('dropout').severity).toBe('warn');
+    expect(lost.flag('dropout').message).toMatch(/exact zeros for 0\.3 s ending at 2\.3 s: the logger lost data/);
+  });
+
   it('missing CSV cells and a time gap are dropouts', async () => {
     const rows = Array.from({ length: 400 }, (_, i) => `${(i < 200 ? i : i + 50) / 100},${i % 150 === 5 ? '' : Math.sin(i)}`);
     const { flag, row } = await flagsOf(new Float64Array(0), 100, channel({ scale: 1 }), { csv: ['time,x', ...rows].join('\n') });
