@@ -49,6 +49,8 @@ const signals: Record<string, () => Float64Array> = {
   sway_5_hz: () => add(noise(15, 1), sine(80, 5)),
   'sway_1.3_hz': () => add(noise(16, 1), sine(80, 1.3)),
   noise_with_1_over_f: () => { const w = noise(17, 20), p = oneOverF(18, 10); return w.map((v, i) => v + p[i]); },
+  flat_zero: () => new Float64Array(N),
+  'flat_3.7': () => new Float64Array(N).fill(3.7),
 };
 
 const acc: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 1000, offset: 0, range: null, bits: null, max_frequency_hz: null };
@@ -95,6 +97,12 @@ describe('the offset flag: the offset and its changes together, by what they add
     expect(flag.severity).toBe('ok');
     expect(flag.evidence.rms_excess as number).toBeCloseTo(want.rms_excess_slow_fit, 6);
     expect(flag.evidence.rms_excess as number).toBeLessThan(0.02);
+  });
+
+  it.each(['flat_zero', 'flat_3.7'])('%s: a channel that never moves is the flatline flag\'s, and the offset flag stays ok', async (name) => {
+    const { flag } = await offsetOf(name);
+    expect(flag.severity).toBe('ok');
+    expect(flag.evidence.rms_excess).toBeNull();
   });
 
   it('the fit: a level and a line take a ramp whole and name no step; a step is named at its place with its height (derived)', () => {

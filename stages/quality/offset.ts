@@ -49,7 +49,8 @@ export const offset: StageDefinition<QualityThresholds> = {
         const trendWarns = trend != null && drift != null && drift > q.offset.warn_drift_ratio;
         if (trend && trendWarns) issues.push(`the 1 s means ${trend.rise > 0 ? 'rise' : 'fall'} by ${Math.abs(trend.rise).toPrecision(3)} ${ctx.unit} along a straight line across the recording (${Number.isFinite(drift) ? `${drift.toFixed(2)} standard deviations of the signal around it` : 'the signal has no spread around it'})`);
         // The offset and its changes together: each alone may stay under its threshold while together they raise RMS by more.
-        if (excess > q.offset.warn_rms_excess) {
+        // A channel that never moves (std 0) is the flatline flag's, as its ratio is none.
+        if (std > 0 && excess > q.offset.warn_rms_excess) {
           if (slow.stepAt >= 0) issues.push(`the 1 s means step by ${slow.step > 0 ? '+' : '−'}${Math.abs(slow.step).toPrecision(3)} ${ctx.unit} at ${secs((slow.stepAt * win) / ctx.sampleRate)}`);
           else if (!meanWarns && !trendWarns) issues.push(`the mean ${mean.toPrecision(3)} ${ctx.unit} and the trend of the 1 s means together`);
         }
@@ -60,9 +61,9 @@ export const offset: StageDefinition<QualityThresholds> = {
           evidence: {
             mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null,
             trend_rise: trend?.rise ?? null, trend_share_of_window_means: trend?.explained ?? null, std_around_trend: trend?.spread ?? null,
-            rms_excess: Number.isFinite(excess) ? excess : null, rms_without_slow_part: slow.spread, step: slow.stepAt >= 0 ? slow.step : null, step_at_s: slow.stepAt >= 0 ? (slow.stepAt * win) / ctx.sampleRate : null,
+            rms_excess: std > 0 && Number.isFinite(excess) ? excess : null, rms_without_slow_part: slow.spread, step: slow.stepAt >= 0 ? slow.step : null, step_at_s: slow.stepAt >= 0 ? (slow.stepAt * win) / ctx.sampleRate : null,
           },
-          message: issues.length ? `${issues.join('; ')}: ${withArticle(ctx.quantity)} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high` : 'RMS describes the offset and its changes, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}, RMS ${pct(Math.max(0, excess))} above the signal with its slow part taken out`,
+          message: issues.length ? `${issues.join('; ')}: ${withArticle(ctx.quantity)} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high` : 'RMS describes the offset and its changes, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}${std > 0 ? `, RMS ${pct(Math.max(0, excess))} above the signal with its slow part taken out` : ', no spread'}`,
         });
         return { offset_ratio: ratio, drift_ratio: drift != null && Number.isFinite(drift) ? drift : null };
       },
