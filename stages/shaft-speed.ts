@@ -61,6 +61,11 @@ export interface SpeedSummary {
   missing: PulseFaults;
   extra: PulseFaults;
   irregular: PulseFaults;
+  /**
+   * Whether two or more pulses went missing, every one at the same place in the revolution (the same mark of pulses_per_rev,
+   * counted from the first pulse; any mark when there is one a revolution) with no irregular interval to break the count.
+   */
+  missingAtOnePlace: boolean;
 }
 
 export interface ShaftSpeed extends Stage {
@@ -100,13 +105,18 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   const s: SpeedSummary = {
     trigger: null, found: false, foundAtS: 0, foundAcross: false, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
     coveredS: 0, withheld: false, meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
+    missingAtOnePlace: false,
   };
+  // Each pulse's place among the revolution's marks: good pulses and missing ones count, extra ones do not.
+  let pulse = 0;
+  const missingPlaces = new Set<number>();
   let good = 0, span = 0, fastest = 0, slowest = Infinity, lastEnd = Number.NaN;
   const revolution: number[] = [];
   const grids: { length: number; hop: number; pulses: number[]; time: number[] }[] = [];
   const train = new PulseTrain(p, {
     interval(a, b) {
       good++;
+      pulse++;
       span += b - a;
       // Any pulses_per_rev consecutive good intervals make one revolution.
       if (a !== lastEnd) revolution.length = 0;
@@ -129,7 +139,10 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
         }
       }
     },
-    missing(a, b, count) { for (let k = 1; k <= count; k++) record(s.missing, (a + (k * (b - a)) / (count + 1)) / fs); },
+    missing(a, b, count) {
+      for (let k = 1; k <= count; k++) { record(s.missing, (a + (k * (b - a)) / (count + 1)) / fs); missingPlaces.add((pulse + k) % p); }
+      pulse += count + 1;
+    },
     extra(at) { record(s.extra, at / fs); },
     irregular(a) { record(s.irregular, a / fs); },
   });
@@ -212,6 +225,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     s.revolutions = good / p;
     s.coveredS = span / fs;
     s.withheld = trainBroken(s.missing.count + s.irregular.count, good, options.fail_fault_ratio);
+    s.missingAtOnePlace = s.missing.count >= 2 && s.irregular.count === 0 && missingPlaces.size === 1;
     if (s.withheld) return;
     if (good > 0) s.meanRpm = (60 * fs * good) / (p * span);
     if (fastest > 0) { s.maxRpm = 60 * fs * fastest; s.minRpm = 60 * fs * slowest; }

@@ -86,7 +86,7 @@ async function reportOf(entries: CacheEntry[], spec: ReductionSpec) {
 describe('baselines that wait only for recordings to come (a new archive\'s first nights)', () => {
   const spec: ReductionSpec = { statistics: {}, trends: { features: ['rms'], baseline: { first: 3 } } };
 
-  it('are told in one line a group, how many channel features and for how many more recordings; quality.json keeps each', async () => {
+  it('are told in one line, how many channel features, of which groups and for how many more recordings; quality.json keeps each', async () => {
     // Group rig: 7 channels with 2 nights each (1 more to come) and one with 1 night (2 more); group bench: 1 channel, 1 night.
     const rig = [...Array.from({ length: 7 }, (_, c) => ({ channel: `acc_${c + 1}`, nights: 2 })), { channel: 'mic', nights: 1 }];
     const { r, lines } = await reportOf([...nightsOf(spec, 'rig', rig), ...nightsOf(spec, 'bench', [{ channel: 'strain', nights: 1 }])], spec);
@@ -98,9 +98,22 @@ describe('baselines that wait only for recordings to come (a new archive\'s firs
       { group: 'rig', channel_features: 8, first: 3, more_recordings: { fewest: 1, most: 2 }, unformed_entries: r.unformed_baselines!.flatMap((u, i) => (u.group === 'rig' ? [i] : [])) },
     ].sort((a, b) => r.forming_baselines!.findIndex((f) => f.group === a.group) - r.forming_baselines!.findIndex((f) => f.group === b.group)));
     const told = lines.filter((l) => l.includes('no baseline yet') || l.includes('without a baseline'));
-    expect(told.sort()).toEqual([
-      '  no baseline yet for 1 channel feature of group bench, so no change verdict: it waits for 2 more usable recordings (baselines form from the first 3); each is in quality.json (changes.unformed_baselines)',
-      '  no baseline yet for 8 channel features of group rig, so no change verdict: they wait for 1 to 2 more usable recordings (baselines form from the first 3); each is in quality.json (changes.unformed_baselines)',
+    const groups = r.forming_baselines!.map((f) => f.group).join(', ');
+    expect(told).toEqual([
+      `  no baseline yet for 9 channel features of 2 groups (${groups}), so no change verdict: they wait for 1 to 2 more usable recordings (baselines form from the first 3); each is in quality.json (changes.unformed_baselines)`,
+    ]);
+  });
+
+  it('many groups: one line naming the first three and how many more, while quality.json keeps every group', async () => {
+    const names = Array.from({ length: 19 }, (_, g) => `rig_${String(g + 1).padStart(2, '0')}`);
+    const entries = names.flatMap((group, g) => nightsOf(spec, group, [{ channel: 'acc', nights: g % 2 ? 1 : 2 }]));
+    const { r, lines } = await reportOf(entries, spec);
+    expect(r.forming_baselines).toHaveLength(19);
+    expect(r.unformed_baselines).toHaveLength(19);
+    const told = lines.filter((l) => l.includes('no baseline yet'));
+    const first = r.forming_baselines!.slice(0, 3).map((f) => f.group).join(', ');
+    expect(told).toEqual([
+      `  no baseline yet for 19 channel features of 19 groups (${first}, and 16 more), so no change verdict: they wait for 1 to 2 more usable recordings (baselines form from the first 3); each is in quality.json (changes.unformed_baselines)`,
     ]);
   });
 

@@ -21,6 +21,18 @@ export function changeLine(c: ChangeItem): string {
 /** "2 more usable recordings", or "1 to 2 more usable recordings" where channels differ. */
 const toCome = ({ fewest, most }: { fewest: number; most: number }) => `${fewest === most ? most : `${fewest} to ${most}`} more usable ${most === 1 ? 'recording' : 'recordings'}`;
 
+/** The groups named, the first `named` of them, and how many more. */
+const someGroups = (groups: string[], named: number) => groups.slice(0, named).join(', ') + (groups.length > named ? `, and ${groups.length - named} more` : '');
+
+/** One line for the baselines waiting only for recordings to come: their channel features, their group or groups, how many more. */
+export function formingLine(forming: NonNullable<ChangesReport['forming_baselines']>, named = 3): string {
+  const features = forming.reduce((n, g) => n + g.channel_features, 0);
+  const more = { fewest: Math.min(...forming.map((g) => g.more_recordings.fewest)), most: Math.max(...forming.map((g) => g.more_recordings.most)) };
+  const firsts = [...new Set(forming.map((g) => g.first))].sort((a, b) => a - b);
+  const where = forming.length === 1 ? `group ${forming[0].group}` : `${forming.length} groups (${someGroups(forming.map((g) => g.group), named)})`;
+  return `  no baseline yet for ${features} channel ${features === 1 ? 'feature' : 'features'} of ${where}, so no change verdict: ${features === 1 ? 'it waits' : 'they wait'} for ${toCome(more)} (baselines form from the first ${firsts.join(' or ')}); each is in quality.json (changes.unformed_baselines)`;
+}
+
 export function changesSummary(r: ChangesReport, top = 5): string[] {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
   // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear.
@@ -37,9 +49,10 @@ export function changesSummary(r: ChangesReport, top = 5): string[] {
     const named = held.slice(0, top).map((c) => `${c.group} ${c.channel} (${c.features.join(', ')})`).join(', ') + (held.length > top ? `, and ${held.length - top} more channels` : '');
     lines.push(`  HELD    ${features} channel ${features === 1 ? 'feature' : 'features'} may hold a change the deadband carries across ${stale} stored ${stale === 1 ? 'recording' : 'recordings'} reduced ${storedText(causes)}, which this run did not compute again, so ${features === 1 ? 'its verdict' : 'their verdicts'} may differ from a whole run's: ${named}; run once without --since to compute them (quality.json: changes.held_across_stale)`);
   }
-  // Baselines that wait only for recordings to come (a new archive's first nights) are counted by group; the others named one by one.
+  // Baselines that wait only for recordings to come (a new archive's first nights) are counted in one line, whatever the groups;
+  // the others named one by one.
   const forming = r.forming_baselines ?? [];
-  for (const g of forming) lines.push(`  no baseline yet for ${g.channel_features} channel ${g.channel_features === 1 ? 'feature' : 'features'} of group ${g.group}, so no change verdict: ${g.channel_features === 1 ? 'it waits' : 'they wait'} for ${toCome(g.more_recordings)} (baselines form from the first ${g.first}); each is in quality.json (changes.unformed_baselines)`);
+  if (forming.length) lines.push(formingLine(forming));
   const condensed = new Set(forming.flatMap((g) => g.unformed_entries));
   const unformed = (r.unformed_baselines ?? []).filter((_, i) => !condensed.has(i));
   for (const u of unformed.slice(0, top)) lines.push(`  no baseline yet for ${u.group} ${u.channel} (${u.features.join(', ')}), so no change verdict: ${u.why}`);

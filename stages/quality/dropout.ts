@@ -47,8 +47,14 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
             : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
           if (partial) why.push('spectral figures describe only part of the recording (bands, octaves, velocity, dominant frequency, centroid, orders, the kept spectrum)');
         }
+        // A channel that is zeros from end to end is no logger's gap but a dead channel, which the flatline flag fails.
+        const allZeros = n > 0 && longest === n;
         // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
-        if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
+        if (allZeros && !ctx.tacho) {
+          problems.push(`exact zeros for the whole recording (${secs(zeroS)})`);
+          raise('note');
+          why.push('no data were lost between samples: the channel never moved, which the flatline flag judges (a dead or disconnected sensor)');
+        } else if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
           problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
           raise('warn');
           why.push('zeros count as samples: they pull RMS, peak and the window figures down');
@@ -60,7 +66,7 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
         }
         ctx.flag({
           name: 'dropout', severity, value: fraction,
-          threshold: `note: any missing sample; warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, the spectrum resting on < ${pct(d.warn_spectrum_coverage)} of the recording, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
+          threshold: `note: any missing sample, or zeros for the whole recording (the flatline flag's); warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, the spectrum resting on < ${pct(d.warn_spectrum_coverage)} of the recording, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
           evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null, ...(missing > 0 ? { spectrum_coverage: spectrumCoverage(spectrum.psd(), n) } : {}) },
           message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
         });

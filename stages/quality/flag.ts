@@ -42,7 +42,7 @@ export interface QualityThresholds {
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number; warn_spectrum_coverage: number };
-  offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number };
+  offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number; warn_rms_excess: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
   pulse_train: { warn_coverage: number; fail_coverage: number; warn_fault_ratio: number; fail_fault_ratio: number };
@@ -98,8 +98,9 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1, warn_spectrum_coverage: 0.5 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
   // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
-  // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived).
-  offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1 },
+  // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived). Together, with a step of the 1 s means, they warn where RMS reads
+  // 5 % above the RMS with that slow part taken out (the tolerance above).
+  offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1, warn_rms_excess: 0.05 },
   // Isolated samples beyond 10 robust standard deviations (1.4826 × MAD) set the peak and crest factor and raise kurtosis: any warns;
   // 0.1 % of the samples fails (our choices).
   spikes: { robust_sigmas: 10, fail_fraction: 1e-3 },

@@ -1,10 +1,12 @@
-// Offset: a mean far from zero, in units of the spread, for quantities that should have none, and a trend of the 1 s window means.
+// Offset: what a mean far from zero and its changes (a trend, a step of the 1 s window means) add to RMS, for quantities that should have none.
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
-import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 import { metresPerSecond2, STANDARD_GRAVITY } from '../acceleration-units.js';
 import { addPoint, emptyLineSums, fittedLine } from '../dsp/line-fit.js';
+import { levelStepFit } from '../dsp/level-step-fit.js';
+import { withArticle } from './article.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -19,12 +21,15 @@ export const offset: StageDefinition<QualityThresholds> = {
     let wmin = Infinity, wmax = -Infinity;
     // A trend through the window means, not their range: an oscillation below 1 Hz swings its 1 s means both ways around none.
     const line = emptyLineSums();
+    // Every window's mean too (8 bytes a second), for the slow part an offset and its changes carry (levelStepFit).
+    let means = new Float64Array(64), windows = 0;
+    const keep = (m: number) => { if (windows === means.length) { const more = new Float64Array(means.length * 2); more.set(means); means = more; } means[windows++] = m; };
     // Means of windows of `win` finite samples, from the channel's fused pass.
-    if (applies) finiteWindowsOf(ctx, win).listen((wsum, _, wn) => { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; addPoint(line, m); });
+    if (applies) finiteWindowsOf(ctx, win).listen((wsum, _, wn) => { const m = wsum / wn; if (m < wmin) wmin = m; if (m > wmax) wmax = m; addPoint(line, m); keep(m); });
     return {
       push() {},
       finish() {
-        const threshold = `warn: |mean| > ${q.offset.warn_ratio}·std, or the line through the 1 s means rising or falling > ${q.offset.warn_drift_ratio}·std around it across the recording (quantities ${q.offset.quantities.join(', ')})`;
+        const threshold = `warn: RMS > ${pct(q.offset.warn_rms_excess)} above the RMS with the slow part of the 1 s means (a level, a line and one step) taken out, |mean| > ${q.offset.warn_ratio}·std, or the line through the 1 s means rising or falling > ${q.offset.warn_drift_ratio}·std around it across the recording (quantities ${q.offset.quantities.join(', ')})`;
         const m = shared.moments();
         if (!applies || m.n === 0) {
           // A channel left undeclared has no quantity: the check is then missed rather than not meant.
@@ -36,20 +41,29 @@ export const offset: StageDefinition<QualityThresholds> = {
         const ratio = std > 0 ? Math.abs(mean) / std : null;
         const trend = trendOf(fittedLine(line), line.count, std);
         const drift = std > 0 && trend ? trend.ratio : null;
+        const slow = slowPart(means.subarray(0, windows), mean, win, m.m2, m.n);
+        const excess = rmsExcess(mean, std, slow.spread);
         const issues: string[] = [];
-        if (ratio != null && ratio > q.offset.warn_ratio) issues.push(`mean ${mean.toPrecision(3)} ${ctx.unit} is ${ratio.toFixed(2)} standard deviations from zero`);
+        const meanWarns = ratio != null && ratio > q.offset.warn_ratio;
+        if (meanWarns) issues.push(`mean ${mean.toPrecision(3)} ${ctx.unit} is ${ratio.toFixed(2)} standard deviations from zero`);
         const trendWarns = trend != null && drift != null && drift > q.offset.warn_drift_ratio;
         if (trend && trendWarns) issues.push(`the 1 s means ${trend.rise > 0 ? 'rise' : 'fall'} by ${Math.abs(trend.rise).toPrecision(3)} ${ctx.unit} along a straight line across the recording (${Number.isFinite(drift) ? `${drift.toFixed(2)} standard deviations of the signal around it` : 'the signal has no spread around it'})`);
+        // The offset and its changes together: each alone may stay under its threshold while together they raise RMS by more.
+        // A channel that never moves (std 0) is the flatline flag's, as its ratio is none.
+        if (std > 0 && excess > q.offset.warn_rms_excess) {
+          if (slow.stepAt >= 0) issues.push(`the 1 s means step by ${slow.step > 0 ? '+' : '−'}${Math.abs(slow.step).toPrecision(3)} ${ctx.unit} at ${secs((slow.stepAt * win) / ctx.sampleRate)}`);
+          else if (!meanWarns && !trendWarns) issues.push(`the mean ${mean.toPrecision(3)} ${ctx.unit} and the trend of the 1 s means together`);
+        }
         const severity: Severity = issues.length ? 'warn' : 'ok';
-        const gravity = ratio != null && ratio > q.offset.warn_ratio ? gravityHint(ctx.quantity, ctx.unit, mean) : '';
-        const excess = rmsExcess(mean, std, trend?.spread ?? std);
+        const gravity = meanWarns ? gravityHint(ctx.quantity, ctx.unit, mean) : '';
         ctx.flag({
           name: 'offset', severity, value: ratio, threshold,
           evidence: {
             mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null,
             trend_rise: trend?.rise ?? null, trend_share_of_window_means: trend?.explained ?? null, std_around_trend: trend?.spread ?? null,
+            rms_excess: std > 0 && Number.isFinite(excess) ? excess : null, rms_without_slow_part: slow.spread, step: slow.stepAt >= 0 ? slow.step : null, step_at_s: slow.stepAt >= 0 ? (slow.stepAt * win) / ctx.sampleRate : null,
           },
-          message: issues.length ? `${issues.join('; ')}: a ${ctx.quantity} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high${trendWarns ? ', more where the drift is a step or a curve rather than a line' : ''}` : 'RMS describes the offset and trend, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}, no drift beyond the threshold`,
+          message: issues.length ? `${issues.join('; ')}: ${withArticle(ctx.quantity)} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high` : 'RMS describes the offset and its changes, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}${std > 0 ? `, RMS ${pct(Math.max(0, excess))} above the signal with its slow part taken out` : ', no spread'}`,
         });
         return { offset_ratio: ratio, drift_ratio: drift != null && Number.isFinite(drift) ? drift : null };
       },
@@ -69,7 +83,22 @@ export function trendOf(line: { slope: number; explained: number } | null, windo
   return { rise, explained: line.explained, spread, ratio: spread > 0 ? Math.abs(rise) / spread : rise !== 0 ? Infinity : 0 };
 }
 
-// What an offset and a trend add to RMS over the signal's own spread (derived: variances add): √((mean² + std²) / spread²) − 1,
+/**
+ * The signal's RMS with its slow part taken out (`spread`): the mean, and the level, line and step the 1 s means (`means` of
+ * `win` samples each, as read) take beyond it (levelStepFit on the means less the mean). Within a window the fit is one value,
+ * so it takes win·Σf² from the spread's sum of squares `m2` over `n` samples (least squares projects; samples past the last
+ * whole window keep theirs).
+ */
+export function slowPart(means: Float64Array, mean: number, win: number, m2: number, n: number) {
+  const centred = means.map((v) => v - mean);
+  const fit = levelStepFit(centred);
+  const spread = n > 0 ? Math.sqrt(Math.max(0, m2 - win * fit.explained) / n) : 0;
+  // A step is named where it alone takes more than a line alone: a ramp is a trend, a level that jumps a step.
+  const stepped = fit.stepAt >= 0 && fit.stepAlone > fit.line;
+  return { spread, stepAt: stepped ? fit.stepAt : -1, step: stepped ? fit.step : 0 };
+}
+
+// What an offset and its changes add to RMS over the signal's own spread (derived: variances add): √((mean² + std²) / spread²) − 1,
 // √(1 + r²) − 1 for an offset of r standard deviations alone and √(1 + d²/12) − 1 for a ramp of d alone.
 export const rmsExcess = (mean: number, std: number, spread: number) => (spread > 0 ? Math.sqrt((mean * mean + std * std) / (spread * spread)) - 1 : Infinity);
 

@@ -49,7 +49,9 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const lost = s.missing.count + s.irregular.count, faults = lost + s.extra.count;
         const tr = s.trigger;
         const trigger = tr ? `edges timed at ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
-        const todo = tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev';
+        // Pulses lost again and again at one mark point at the mark or the pickup before the trigger: the likely cause first.
+        const cause = s.missingAtOnePlace ? `the pulses go missing at one place in the revolution: check the reflective tape or target there (missing or dirty) and the pickup's gap first, then ` : '';
+        const todo = cause + (tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev');
         const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
         let severity: Severity = 'ok', message: string;
         const m = moments!.moments();

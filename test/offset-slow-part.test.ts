@@ -1,0 +1,125 @@
+// The offset flag judges the offset and its changes together: RMS against the RMS with the slow part of the 1 s means (a level,
+// a line and one step) taken out, against numpy (test/fixtures/make-offset-step-vectors.py): the RMS with and without a planted
+// step, and the same slow part coded with numpy.linalg.lstsq. Sways above 1 Hz and broadband noise with a 1/f component stay clean.
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import type { ChannelDeclaration } from '../spec/archive.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
+import { encodeWav } from '../scripts/wav-file.js';
+import { levelStepFit } from '../stages/dsp/level-step-fit.js';
+import type { Flag } from '../stages/quality/flag.js';
+import { withArticle } from '../stages/quality/article.js';
+import { fixture, readJson, tempDir } from './helpers.js';
+
+const ref = readJson(fixture('offset-step-vectors.json'));
+const { fs, seconds } = ref as { fs: number; seconds: number };
+const N = fs * seconds;
+
+/** Uniform counter-hash noise of standard deviation s, sample for sample as counter_noise.py makes it. */
+function noise(seed: number, s: number): Float64Array {
+  const x = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    let h = (i + seed) >>> 0;
+    h ^= h >>> 16; h = Math.imul(h, 0x85ebca6b) >>> 0; h ^= h >>> 13; h = Math.imul(h, 0xc2b2ae35) >>> 0; h ^= h >>> 16;
+    x[i] = ((h >>> 0) / 4294967296 - 0.5) * Math.sqrt(12) * s;
+  }
+  return x;
+}
+
+/** The 1/f component of the reference script: one-pole low-passes at 0.1 … 1000 Hz of equal variance, summed. */
+function oneOverF(seed: number, s: number): Float64Array {
+  const y = new Float64Array(N);
+  [0.1, 1, 10, 100, 1000].forEach((fc, k) => {
+    const a = Math.exp((-2 * Math.PI * fc) / fs), gain = Math.sqrt((1 + a) / (1 - a));
+    const x = noise(seed + 1000003 * (k + 1), s / Math.sqrt(5));
+    let state = 0;
+    for (let i = 0; i < N; i++) { state = (1 - a) * x[i] + a * state; y[i] += state * gain; }
+  });
+  return y;
+}
+
+const add = (x: Float64Array, f: (t: number) => number) => x.map((v, i) => v + f(i / fs));
+const sine = (amplitude: number, hz: number) => (t: number) => amplitude * Math.sin(2 * Math.PI * hz * t + 0.3);
+const signals: Record<string, () => Float64Array> = {
+  step_at_6_s: () => add(noise(11, 20), (t) => (t >= 6 ? 15 : 0)),
+  'step_at_6.37_s': () => add(noise(12, 20), (t) => (t >= 6.37 ? 15 : 0)),
+  'step_down_at_2.5_s': () => add(noise(13, 20), (t) => (t >= 2.5 ? -10 : 0)),
+  sway_2_hz: () => add(noise(14, 1), sine(80, 2)),
+  sway_5_hz: () => add(noise(15, 1), sine(80, 5)),
+  'sway_1.3_hz': () => add(noise(16, 1), sine(80, 1.3)),
+  noise_with_1_over_f: () => { const w = noise(17, 20), p = oneOverF(18, 10); return w.map((v, i) => v + p[i]); },
+  flat_zero: () => new Float64Array(N),
+  'flat_3.7': () => new Float64Array(N).fill(3.7),
+};
+
+const acc: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 1000, offset: 0, range: null, bits: null, max_frequency_hz: null };
+
+async function offsetOf(name: string) {
+  const path = join(tempDir(), 'x.wav');
+  writeFileSync(path, encodeWav({ sampleRate: fs, channels: [signals[name]().map((v) => v / acc.scale)], encoding: 'float32' }));
+  const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [acc], labels: {}, durationS: null, spec: {}, chunkFrames: 4096 });
+  expect(r.reason).toBeUndefined();
+  return { flag: r.quality[0].flags.find((f) => f.name === 'offset') as Flag, row: r.rows[0] as Record<string, any> };
+}
+
+describe('the offset flag: the offset and its changes together, by what they add to RMS', () => {
+  it('a step of +15 at 6 s over 20 RMS: each part under its own threshold, RMS 11.3 % high as numpy has it, warns naming the step', async () => {
+    const want = ref.cases.step_at_6_s;
+    const { flag, row } = await offsetOf('step_at_6_s');
+    // The mean and the line alone stay under their thresholds (0.32, 1.1), as numpy finds them.
+    expect(row.offset_ratio).toBeCloseTo(want.offset_ratio, 6);
+    expect(row.drift_ratio).toBeCloseTo(want.drift_ratio, 6);
+    expect(row.offset_ratio).toBeLessThan(0.32);
+    expect(row.drift_ratio).toBeLessThan(1.1);
+    expect(flag.severity).toBe('warn');
+    expect(flag.evidence.rms_excess as number).toBeCloseTo(want.rms_excess_slow_fit, 6);
+    expect(Math.abs((flag.evidence.rms_excess as number) - want.rms_excess_planted)).toBeLessThan(0.001);
+    expect(flag.evidence.step_at_s).toBe(6);
+    expect(flag.evidence.step as number).toBeCloseTo(15, 0);
+    expect(flag.message).toMatch(/^the 1 s means step by \+15\.\d m\/s\^2 at 6 s: an acceleration signal should carry none, and RMS and peak include it \(RMS reads 11\.3 % high\)/);
+  });
+
+  it.each(['step_at_6.37_s', 'step_down_at_2.5_s'])('%s: warns, the slow part as numpy fits it, within 1.2 % of the planted step\'s excess', async (name) => {
+    const want = ref.cases[name];
+    const { flag } = await offsetOf(name);
+    expect(flag.severity).toBe('warn');
+    expect(flag.evidence.rms_excess as number).toBeCloseTo(want.rms_excess_slow_fit, 6);
+    // A step inside a window leaves that window's share of it: the fit reads a little low, never high.
+    expect(want.rms_excess_planted - (flag.evidence.rms_excess as number)).toBeGreaterThanOrEqual(-0.001);
+    expect(want.rms_excess_planted - (flag.evidence.rms_excess as number)).toBeLessThan(0.012);
+    expect(flag.message).toMatch(/the 1 s means step by/);
+  });
+
+  it.each(['sway_2_hz', 'sway_5_hz', 'sway_1.3_hz', 'noise_with_1_over_f'])('%s: content, not an offset: ok, the slow part as numpy fits it', async (name) => {
+    const want = ref.cases[name];
+    const { flag } = await offsetOf(name);
+    expect(flag.severity).toBe('ok');
+    expect(flag.evidence.rms_excess as number).toBeCloseTo(want.rms_excess_slow_fit, 6);
+    expect(flag.evidence.rms_excess as number).toBeLessThan(0.02);
+  });
+
+  it.each(['flat_zero', 'flat_3.7'])('%s: a channel that never moves is the flatline flag\'s, and the offset flag stays ok', async (name) => {
+    const { flag } = await offsetOf(name);
+    expect(flag.severity).toBe('ok');
+    expect(flag.evidence.rms_excess).toBeNull();
+  });
+
+  it('the fit: a level and a line take a ramp whole and name no step; a step is named at its place with its height (derived)', () => {
+    const ramp = Float64Array.from({ length: 12 }, (_, k) => 2 + 0.5 * k);
+    const r = levelStepFit(ramp);
+    expect(r.explained).toBeCloseTo(ramp.reduce((s, v) => s + v * v, 0), 9);
+    expect(r.stepAlone).toBeLessThan(r.line);
+    const step = Float64Array.from({ length: 10 }, (_, k) => (k >= 6 ? 15 : 0));
+    const s = levelStepFit(step);
+    expect(s.explained).toBeCloseTo(6 * 0 + 4 * 225, 9);
+    expect([s.stepAt, s.step]).toEqual([6, expect.closeTo(15, 9)]);
+  });
+});
+
+describe('messages built from a quantity name', () => {
+  it('take "an" before a vowel sound and "a" otherwise (common practice)', () => {
+    expect(['acceleration', 'sound_pressure', 'strain', 'angle', 'unit_load', 'euro'].map(withArticle))
+      .toEqual(['an acceleration', 'a sound_pressure', 'a strain', 'an angle', 'a unit_load', 'a euro']);
+  });
+});
