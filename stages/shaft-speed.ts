@@ -1,7 +1,7 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
-import { restLook, sampleExtremes, shapeLevels, spanComparable, triggerFits, triggerFrom, type LevelsKind, type PulseShape, type RestLook, type SampleExtremes } from './dsp/trigger-level.js';
+import { levelsOf, restLook, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type PulseShape, type RestLook, type SampleExtremes } from './dsp/trigger-level.js';
 import { QUALITY_DEFAULTS } from './quality/flag.js';
 import type { ChannelContext, Stage } from './stage.js';
 
@@ -184,8 +184,9 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
         shape = found.shape;
         s.foundShape = found.shape;
         s.foundLook = found.look ?? null;
-        // A declared level or hysteresis with the other found times rising edges, as a declared trigger does.
-        s.trigger = follows ? found.trigger : { level: tacho.triggerLevel ?? found.trigger.level, hysteresis: tacho.triggerHysteresis ?? found.trigger.hysteresis };
+        // A found level keeps the direction it was found for (a bipolar pulse's crossing between its lobes); a declared one times rising edges.
+        const level = tacho.triggerLevel ?? found.trigger.level, hysteresis = tacho.triggerHysteresis ?? found.trigger.hysteresis;
+        s.trigger = tacho.triggerLevel == null && found.trigger.falling ? { level, hysteresis, falling: true } : { level, hysteresis };
         current = s.trigger;
         used(current);
         const beforeStart = blockStart - beforeFill;
@@ -199,7 +200,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
         edges.push(x);
       }
     } else {
-      if (follows && !triggerFits(current!, shapeLevels(x, kind, shape, step))) {
+      if (follows && !triggerFits(current!, levelsOf(x, kind))) {
         const found = triggerFrom(x, step);
         if (typeof found !== 'string' && found.kind === kind && found.shape === shape && (found.trigger.falling ?? false) === (current!.falling ?? false) && spanComparable(current!, found)) {
           if (s.followed.count++ === 0) s.followed.firstS = blockStart / fs;

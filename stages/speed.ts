@@ -35,9 +35,7 @@ export const speed: StageDefinition<SpeedOptions> = {
           : s.foundAcross ? `the second from ${round(s.foundAtS)} s with the extremes of the seconds before it (pulses one sample wide, at most one a second)`
           : `the second from ${round(s.foundAtS)} s (no earlier second holds a pulse standing clear of its noise)`;
         const look = s.foundLook;
-        const shape = !look ? ''
-          : s.foundShape === 'bipolar' ? ` (the pulses leave a rest level of ${round(look.rest)} ${unit} both ways, to ${round(look.rest + look.up)} and ${round(look.rest - look.down)} ${unit}: each edge is timed where a pulse ${tr?.falling ? 'falls' : 'rises'} through the rest level between its lobes)`
-          : ` (the pulses leave a rest level of ${round(look.rest)} ${unit} ${s.foundShape === 'up' ? 'up' : 'down'} to ${round(s.foundShape === 'up' ? look.rest + look.up : look.rest - look.down)} ${unit})`;
+        const shape = look && s.foundShape === 'bipolar' ? ` (the pulses leave a rest level of ${round(look.rest)} ${unit} both ways, to ${round(look.rest + look.up)} and ${round(look.rest - look.down)} ${unit}: each edge is timed where a pulse ${tr?.falling ? 'falls' : 'rises'} through the rest level between its lobes)` : '';
         if (tr && s.found) ctx.note(`${ctx.name}: tacho edges timed ${tr.falling ? 'falling through' : 'at'} ${round(tr.level)} ${unit}, hysteresis ${round(tr.hysteresis)} ${unit}, found from ${where}${shape}; declare trigger_level and trigger_hysteresis to fix them`);
         if (s.followed.count) ctx.note(`${ctx.name}: the tacho signal's levels drifted, so the trigger level followed them ${s.followed.count} time(s) from ${round(s.followed.firstS)} s on, between ${round(s.followed.lowest)} and ${round(s.followed.highest)} ${unit}; declare trigger_level and trigger_hysteresis to fix it`);
         const none = s.none ?? { firstFlat: true, allFlat: true, seconds: 0, clearest: null };

@@ -75,14 +75,14 @@ export function middleShare(x: Float64Array, { lo, hi }: Levels): number {
 }
 
 /**
- * How the pulses were told from the noise: `two-level`, a signal switching between two levels (an optical or TTL pickup); else one
- * resting at a level and leaving it briefly each pulse, `up` or `down` (a unipolar pulse) or both ways (`bipolar`: a variable-reluctance pickup).
+ * How the pulses were told from the noise: `two-level`, their low and high level (an optical or TTL pickup, unipolar pulses up or
+ * down from a rest level); `bipolar`, a rest level the pulses leave both ways (a variable-reluctance pickup).
  */
-export type PulseShape = 'two-level' | 'up' | 'down' | 'bipolar';
+export type PulseShape = 'two-level' | 'bipolar';
 
 /**
  * `across`: the levels were set with the extremes of earlier stretches (pulses one sample wide, at most one a stretch). `levels`:
- * the low and high level of a two-level signal; the rest level and the pulses' peak (up, down); the two lobes' peaks (bipolar).
+ * the low and high level (two-level); the two lobes' peaks (bipolar), the rest level and the noise about it in `look`.
  */
 export interface FoundTrigger { trigger: Trigger; kind: LevelsKind; levels: Levels; shape: PulseShape; across?: boolean; look?: RestLook }
 
@@ -94,7 +94,7 @@ export const triggerBetween = ({ lo, hi }: Levels): Trigger => ({ level: (lo + h
 // second extremes, which keep pulses one sample wide that the median of three removes; then, where `earlier` holds the extremes
 // of the stretches read before, the second extremes of those and this one together: pulses one sample wide at most one a stretch
 // (a slow shaft) are confirmed by a pulse of an earlier stretch, as a lone spike is not. Flat only when every sample is equal.
-// Where two levels stand clear of none, a level the signal rests at with pulses leaving it (restTrigger), by the same two extremes.
+// Where two levels stand clear of none, a level the signal rests at with bipolar pulses leaving it (restTrigger), by the same two extremes.
 export function triggerFrom(x: Float64Array, step: number | null = null, earlier: SampleExtremes | null = null): FoundTrigger | 'flat' | 'noise' {
   const clear = (levels: Levels) => levels.hi > levels.lo && (step == null || levels.hi - levels.lo > 2 * step) && middleShare(x, levels) <= MIDDLE_SHARE_MAX;
   for (const kind of ['smoothed', 'second'] as const) {
@@ -154,44 +154,48 @@ export function restLook(x: Float64Array, kind: LevelsKind = 'smoothed', step: n
 /** Whether an excursion from the rest stands clear of the noise, and of a converter's flicker (over two steps, IEEE Std 1241). */
 export const excursionClear = (reach: number, noise: number, step: number | null = null) => reach > REST_CLEAR_SIGMAS * noise && reach > 2 * (step ?? 0);
 
-// Which lobe of a bipolar pulse comes first: of the two changes of side (beyond ±half about the rest), the one that follows its
-// last sample on the other side sooner is the one inside a pulse; the other spans the wait for the next pulse.
-export function lobesRiseFirst(x: Float64Array, rest: number, half: number): boolean {
-  let side = 0, last = 0, upToDown = 0, upToDownCount = 0, downToUp = 0, downToUpCount = 0;
+/** Of a bipolar pulse's two lobes, the gap from one to the next is under this share of the gap between pulses: noise's excursions do not pair so (our choice). */
+export const LOBES_PAIRED = 0.25;
+
+/** Mean samples from the last sample beyond the rest ± half on one side to the first beyond it on the other, rising and falling; NaN where none. */
+export interface LobeGaps { rising: number; falling: number }
+
+// The changes of side of a signal beyond ±half about its rest, timed: within a bipolar pulse one lobe follows the other at once,
+// while the change back spans the wait for the next pulse; noise's excursions change side after waits alike either way.
+export function lobeGaps(x: Float64Array, rest: number, half: number): LobeGaps {
+  let side = 0, last = 0, up = 0, ups = 0, down = 0, downs = 0;
   for (let i = 0; i < x.length; i++) {
     const v = x[i], s = v > rest + half ? 1 : v < rest - half ? -1 : 0;
     if (s === 0) continue;
-    if (side > 0 && s < 0) { upToDown += i - last; upToDownCount++; }
-    if (side < 0 && s > 0) { downToUp += i - last; downToUpCount++; }
+    if (side < 0 && s > 0) { up += i - last; ups++; }
+    if (side > 0 && s < 0) { down += i - last; downs++; }
     side = s;
     last = i;
   }
-  if (!downToUpCount) return !upToDownCount;
-  return !upToDownCount || downToUp / downToUpCount <= upToDown / upToDownCount;
+  return { rising: ups ? up / ups : NaN, falling: downs ? down / downs : NaN };
 }
 
-// A signal resting at a level, its pulses leaving it clear of the noise (restLook, excursionClear). Both ways (a variable-reluctance
-// pickup): edges timed where the pulse crosses the rest level between its lobes, armed and fired at half the smaller lobe, the
-// crossing a comparator with hysteresis times (common practice for such pickups) and a phase that does not move as the pulses grow
-// with speed. One way: the level half-way from the rest to the pulses' peak, hysteresis 40 % of that height, as for two levels.
+/** The crossing inside the pulses, `falling` when their upper lobe comes first; null when the lobes do not pair (LOBES_PAIRED). */
+export function pairedLobes({ rising, falling }: LobeGaps): { falling: boolean } | null {
+  if (Number.isNaN(rising) && Number.isNaN(falling)) return null;
+  // One change of side only: one pulse in the stretch.
+  if (Number.isNaN(rising) || Number.isNaN(falling)) return { falling: Number.isNaN(rising) };
+  if (rising <= LOBES_PAIRED * falling) return { falling: false };
+  if (falling <= LOBES_PAIRED * rising) return { falling: true };
+  return null;
+}
+
+// A signal resting at a level with bipolar pulses (a variable-reluctance pickup): both lobes clear of the noise (restLook,
+// excursionClear) and following each other closely (pairedLobes). Edges are timed where a pulse crosses the rest level between
+// its lobes, armed and fired at half the smaller lobe: the crossing a comparator with hysteresis times on such a pickup (common
+// practice), at a phase that does not move as the lobes grow with speed. Pulses leaving the rest one way only are two levels.
 export function restTrigger(x: Float64Array, kind: LevelsKind, step: number | null = null): FoundTrigger | null {
   const look = restLook(x, kind, step);
   if (!look) return null;
   const { rest, noise, up, down } = look;
-  const upClear = excursionClear(up, noise, step), downClear = excursionClear(down, noise, step);
-  if (upClear && downClear) {
-    const hysteresis = Math.min(up, down);
-    const falling = !lobesRiseFirst(x, rest, hysteresis / 2);
-    return { trigger: { level: rest, hysteresis, ...(falling ? { falling } : {}) }, kind, levels: { lo: rest - down, hi: rest + up }, shape: 'bipolar', look };
-  }
-  const levels = upClear ? { lo: rest, hi: rest + up } : downClear ? { lo: rest - down, hi: rest } : null;
-  return levels ? { trigger: triggerBetween(levels), kind, levels, shape: upClear ? 'up' : 'down', look } : null;
-}
-
-/** A stretch's levels as a trigger of this shape reads them (for triggerFits): the rest level and the pulses' peak where one way. */
-export function shapeLevels(x: Float64Array, kind: LevelsKind, shape: PulseShape, step: number | null = null): Levels {
-  if (shape === 'two-level' || shape === 'bipolar') return levelsOf(x, kind);
-  const look = restLook(x, kind, step);
-  if (!look) return { lo: NaN, hi: NaN };
-  return shape === 'up' ? { lo: look.rest, hi: look.rest + look.up } : { lo: look.rest - look.down, hi: look.rest };
+  if (!excursionClear(up, noise, step) || !excursionClear(down, noise, step)) return null;
+  const hysteresis = Math.min(up, down);
+  const paired = pairedLobes(lobeGaps(x, rest, hysteresis / 2));
+  if (!paired) return null;
+  return { trigger: { level: rest, hysteresis, ...(paired.falling ? { falling: true } : {}) }, kind, levels: { lo: rest - down, hi: rest + up }, shape: 'bipolar', look };
 }

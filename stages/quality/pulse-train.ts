@@ -30,7 +30,7 @@ export function noPulseFound(s: SpeedSummary, spread: number, step: number | nul
 /** What a second without a clear pulse looked like: its rest level, its noise and how far it reached from the rest, against what a pulse needs. */
 export function clearestWords(c: RestLook & { atS: number }, unit: string): string {
   const by = Math.max(c.up, c.down) / c.noise;
-  return `the clearest second, from ${round(c.atS)} s, rests at ${round(c.rest)} ${unit} with noise of ${round(c.noise)} ${unit} (a robust standard deviation) and reaches ${round(c.up)} ${unit} above and ${round(c.down)} ${unit} below that level, ${Number.isFinite(by) ? round(by) : 'no'} times the noise, where a pulse must reach over ${REST_CLEAR_SIGMAS} times`;
+  return `the clearest second, from ${round(c.atS)} s, rests at ${round(c.rest)} ${unit} with noise of ${round(c.noise)} ${unit} (a robust standard deviation) and reaches ${round(c.up)} ${unit} above and ${round(c.down)} ${unit} below that level, ${Number.isFinite(by) ? round(by) : 'no'} times the noise, ${by > REST_CLEAR_SIGMAS ? 'but not as a pulse\'s two lobes, one close after the other, above and below it' : `where a pulse must reach over ${REST_CLEAR_SIGMAS} times`}`;
 }
 
 /** What to declare where the pulses are there but too small to be found: a level between the rest and their peak. */
