@@ -98,8 +98,17 @@ describe('a signal resting at a level with pulses leaving it', () => {
       // Lobes of 1 at θ_k ∓ w, sampled 5 times a w and through the median of three: a few per cent below.
       expect(found.trigger.hysteresis).toBeGreaterThan(0.95);
       expect(found.trigger.hysteresis).toBeLessThanOrEqual(1);
-      expect(pairedLobes(lobeGaps(x, 0, 0.5))).toEqual({ falling: sign < 0 });
+      expect(pairedLobes(lobeGaps(x, 0, 0.5), fs)).toEqual({ falling: sign < 0 });
       expect(found.trigger.falling ?? false).toBe(sign < 0);
     }
+  });
+
+  it('lobes pair when one follows the other within a quarter of the wait for the next pulse, or of the rest of a stretch holding one', () => {
+    expect(pairedLobes({ rising: 10, falling: 500 }, 1000)).toEqual({ falling: false });
+    expect(pairedLobes({ rising: 500, falling: 10 }, 1000)).toEqual({ falling: true });
+    expect(pairedLobes({ rising: 300, falling: 500 }, 1000)).toBeNull();
+    expect(pairedLobes({ rising: 10, falling: NaN }, 1000)).toEqual({ falling: false });
+    expect(pairedLobes({ rising: NaN, falling: 400 }, 1000)).toBeNull();
+    expect(pairedLobes({ rising: NaN, falling: NaN }, 1000)).toBeNull();
   });
 });

@@ -175,11 +175,16 @@ export function lobeGaps(x: Float64Array, rest: number, half: number): LobeGaps 
   return { rising: ups ? up / ups : NaN, falling: downs ? down / downs : NaN };
 }
 
-/** The crossing inside the pulses, `falling` when their upper lobe comes first; null when the lobes do not pair (LOBES_PAIRED). */
-export function pairedLobes({ rising, falling }: LobeGaps): { falling: boolean } | null {
+/**
+ * The crossing inside the pulses, `falling` when their upper lobe comes first; null when the lobes do not pair (LOBES_PAIRED).
+ * One change of side only (one pulse in a stretch of `length` samples): its gap is held against the rest of the stretch.
+ */
+export function pairedLobes({ rising, falling }: LobeGaps, length: number): { falling: boolean } | null {
   if (Number.isNaN(rising) && Number.isNaN(falling)) return null;
-  // One change of side only: one pulse in the stretch.
-  if (Number.isNaN(rising) || Number.isNaN(falling)) return { falling: Number.isNaN(rising) };
+  if (Number.isNaN(rising) || Number.isNaN(falling)) {
+    const gap = Number.isNaN(rising) ? falling : rising;
+    return gap <= LOBES_PAIRED * (length - gap) ? { falling: Number.isNaN(rising) } : null;
+  }
   if (rising <= LOBES_PAIRED * falling) return { falling: false };
   if (falling <= LOBES_PAIRED * rising) return { falling: true };
   return null;
@@ -195,7 +200,7 @@ export function restTrigger(x: Float64Array, kind: LevelsKind, step: number | nu
   const { rest, noise, up, down } = look;
   if (!excursionClear(up, noise, step) || !excursionClear(down, noise, step)) return null;
   const hysteresis = Math.min(up, down);
-  const paired = pairedLobes(lobeGaps(x, rest, hysteresis / 2));
+  const paired = pairedLobes(lobeGaps(x, rest, hysteresis / 2), x.length);
   if (!paired) return null;
   return { trigger: { level: rest, hysteresis, ...(paired.falling ? { falling: true } : {}) }, kind, levels: { lo: rest - down, hi: rest + up }, shape: 'bipolar', look };
 }
