@@ -1,7 +1,7 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain } from './dsp/pulse-train.js';
-import { levelsOf, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type SampleExtremes } from './dsp/trigger-level.js';
+import { levelsOf, restLook, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type PulseShape, type RestLook, type SampleExtremes } from './dsp/trigger-level.js';
 import { QUALITY_DEFAULTS } from './quality/flag.js';
 import type { ChannelContext, Stage } from './stage.js';
 
@@ -40,11 +40,15 @@ export interface SpeedSummary {
   foundAtS: number;
   /** Whether its levels were set with the extremes of earlier stretches too (pulses one sample wide, at most one a stretch). */
   foundAcross: boolean;
+  /** The pulses' shape the found trigger was set for, and, where they leave a rest level, how that stretch rested and how far they reached. */
+  foundShape: PulseShape | null;
+  foundLook: RestLook | null;
   /**
    * Why none was found: every stretch flat, or the first stretch flat (else noisy) and none later clear of its noise; `still`:
-   * every sample but the highest and the lowest within two converter steps of each other (a lone pulse one sample wide, else noise).
+   * every sample but the highest and the lowest within two converter steps of each other (a lone pulse one sample wide, else noise);
+   * `clearest`: the stretch whose farthest excursion from its rest level was the most noise deviations out, and where it starts, s.
    */
-  none: { firstFlat: boolean; allFlat: boolean; seconds: number; still: boolean } | null;
+  none: { firstFlat: boolean; allFlat: boolean; seconds: number; still: boolean; clearest: (RestLook & { atS: number }) | null } | null;
   /** Moves of a found trigger that followed the signal's level: how many, the first one's time, and the range of levels used. */
   followed: { count: number; firstS: number; lowest: number; highest: number };
   /** Time the good intervals cover, s (kept when the speed is withheld, for the pulse_train flag). */
@@ -103,7 +107,7 @@ const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length 
 function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null, options: SpeedOptions = SPEED_DEFAULTS): ShaftSpeed {
   const p = tacho.pulsesPerRev;
   const s: SpeedSummary = {
-    trigger: null, found: false, foundAtS: 0, foundAcross: false, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
+    trigger: null, found: false, foundAtS: 0, foundAcross: false, foundShape: null, foundLook: null, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
     coveredS: 0, withheld: false, meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
     missingAtOnePlace: false,
   };
@@ -160,7 +164,9 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   const stretch = Math.max(1, Math.round(TRIGGER_LEARN_S * fs));
   let block: Float64Array | null = declared ? null : new Float64Array(stretch), before: Float64Array | null = declared ? null : new Float64Array(stretch);
   let held: Float64Array | null = null, heldFill = 0, heldStart = 0, earlier: SampleExtremes | null = null;
-  let fill = 0, beforeFill = 0, blockStart = 0, kind: LevelsKind = 'smoothed', firstFlat: boolean | null = null, allFlat = true;
+  let fill = 0, beforeFill = 0, blockStart = 0, kind: LevelsKind = 'smoothed', shape: PulseShape = 'two-level', firstFlat: boolean | null = null, allFlat = true;
+  let clearest: (RestLook & { atS: number }) | null = null;
+  const outBy = (l: RestLook) => Math.max(l.up, l.down) / l.noise;
   if (declared) { s.trigger = { level: tacho.triggerLevel!, hysteresis: tacho.triggerHysteresis! }; edges = new PulseEdges(s.trigger, edge); }
   let current: Trigger | null = null;
   const used = (t: Trigger) => { s.followed.lowest = Math.min(s.followed.lowest, t.level); s.followed.highest = Math.max(s.followed.highest, t.level); };
@@ -171,6 +177,8 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
       if (typeof found === 'string') {
         firstFlat ??= found === 'flat';
         allFlat &&= found === 'flat';
+        const look = found === 'noise' ? restLook(x, 'smoothed', step) : null;
+        if (look && (!clearest || outBy(look) > outBy(clearest))) clearest = { ...look, atS: blockStart / fs };
         const extremes = sampleExtremes(x, earlier ?? undefined);
         if (!earlier || extremes.hi1 > earlier.hi1 || extremes.lo1 < earlier.lo1) {
           held ??= new Float64Array(stretch);
@@ -186,7 +194,12 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
         s.foundAtS = blockStart / fs;
         s.foundAcross = found.across === true;
         kind = found.kind;
-        s.trigger = { level: tacho.triggerLevel ?? found.trigger.level, hysteresis: tacho.triggerHysteresis ?? found.trigger.hysteresis };
+        shape = found.shape;
+        s.foundShape = found.shape;
+        s.foundLook = found.look ?? null;
+        // A found level keeps the direction it was found for (a bipolar pulse's crossing between its lobes); a declared one times rising edges.
+        const level = tacho.triggerLevel ?? found.trigger.level, hysteresis = tacho.triggerHysteresis ?? found.trigger.hysteresis;
+        s.trigger = tacho.triggerLevel == null && found.trigger.falling ? { level, hysteresis, falling: true } : { level, hysteresis };
         current = s.trigger;
         used(current);
         const beforeStart = blockStart - beforeFill;
@@ -202,7 +215,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     } else {
       if (follows && !triggerFits(current!, levelsOf(x, kind))) {
         const found = triggerFrom(x, step);
-        if (typeof found !== 'string' && found.kind === kind && spanComparable(current!, found)) {
+        if (typeof found !== 'string' && found.kind === kind && found.shape === shape && (found.trigger.falling ?? false) === (current!.falling ?? false) && spanComparable(current!, found)) {
           if (s.followed.count++ === 0) s.followed.firstS = blockStart / fs;
           current = found.trigger;
           used(current);
@@ -220,7 +233,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     done = true;
     if (block && fill > 0) stretchDone();
     block = before = held = null;
-    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs, still: stillButExtremes(earlier, step) };
+    if (!s.trigger) s.none = { firstFlat: firstFlat ?? true, allFlat, seconds: blockStart / fs, still: stillButExtremes(earlier, step), clearest };
     train.end(read);
     s.revolutions = good / p;
     s.coveredS = span / fs;

@@ -1,6 +1,6 @@
 // Shaft speed on a tacho channel's row: mean, slowest and fastest revolution, the revolutions they rest on, and the pulse faults.
 import { momentsOf } from './fused/moments.js';
-import { noPulseFound } from './quality/pulse-train.js';
+import { clearestWords, noPulseFound, smallPulsesTodo } from './quality/pulse-train.js';
 import { speedOf, SPEED_DEFAULTS, type PulseFaults, type SpeedOptions } from './shaft-speed.js';
 import type { StageDefinition } from './stage.js';
 
@@ -34,10 +34,13 @@ export const speed: StageDefinition<SpeedOptions> = {
         const where = s.foundAtS === 0 ? 'the first second'
           : s.foundAcross ? `the second from ${round(s.foundAtS)} s with the extremes of the seconds before it (pulses one sample wide, at most one a second)`
           : `the second from ${round(s.foundAtS)} s (no earlier second holds a pulse standing clear of its noise)`;
-        if (tr && s.found) ctx.note(`${ctx.name}: tacho edges timed at ${round(tr.level)} ${unit}, hysteresis ${round(tr.hysteresis)} ${unit}, found from ${where}; declare trigger_level and trigger_hysteresis to fix them`);
+        const look = s.foundLook;
+        const shape = look && s.foundShape === 'bipolar' ? ` (the pulses leave a rest level of ${round(look.rest)} ${unit} both ways, to ${round(look.rest + look.up)} and ${round(look.rest - look.down)} ${unit}: each edge is timed where a pulse ${tr?.falling ? 'falls' : 'rises'} through the rest level between its lobes)` : '';
+        if (tr && s.found) ctx.note(`${ctx.name}: tacho edges timed ${tr.falling ? 'falling through' : 'at'} ${round(tr.level)} ${unit}, hysteresis ${round(tr.hysteresis)} ${unit}, found from ${where}${shape}; declare trigger_level and trigger_hysteresis to fix them`);
         if (s.followed.count) ctx.note(`${ctx.name}: the tacho signal's levels drifted, so the trigger level followed them ${s.followed.count} time(s) from ${round(s.followed.firstS)} s on, between ${round(s.followed.lowest)} and ${round(s.followed.highest)} ${unit}; declare trigger_level and trigger_hysteresis to fix it`);
-        const none = s.none ?? { firstFlat: true, allFlat: true, seconds: 0 };
-        if (!tr) ctx.note(`${ctx.name}: tacho signal ${none.firstFlat ? 'flat' : 'only noise'} over the first second; ${none.allFlat ? 'flat in every second' : 'no second holds a pulse standing clear of its noise'} of the ${round(none.seconds)} s read; no trigger level found, so no speed${emptied}; declare trigger_level and trigger_hysteresis`);
+        const none = s.none ?? { firstFlat: true, allFlat: true, seconds: 0, clearest: null };
+        const clearest = none.clearest ? ` (${clearestWords(none.clearest, unit)})` : '';
+        if (!tr) ctx.note(`${ctx.name}: tacho signal ${none.firstFlat ? 'flat' : 'only noise'} over the first second; ${none.allFlat ? 'flat in every second' : 'no second holds a pulse standing clear of its noise'} of the ${round(none.seconds)} s read${clearest}; no trigger level found, so no speed${emptied}; declare trigger_level and trigger_hysteresis${none.allFlat ? '' : ` between the pulses' low and high levels, ${smallPulsesTodo}`}`);
         else if (s.withheld) ctx.note(`${ctx.name}: no speed: ${s.missing.count} missing and ${s.irregular.count} irregular tacho pulse(s) against ${Math.round(s.revolutions * ctx.tacho!.pulsesPerRev)} good intervals, beyond fail_fault_ratio ${o.fail_fault_ratio} of them, so the pulse train does not hold together (a trigger in noise, or a level the pulses leave): the speed columns, revolutions, the pulse counts, the windows' speed and the order figures are left empty (null); declare trigger_level and trigger_hysteresis, and check pulses_per_rev`);
         else if (s.meanRpm == null) ctx.note(`${ctx.name}: no two consecutive good tacho pulses (${s.edges} edges at ${round(tr.level)} ${unit})${emptied}; check the trigger level and pulses_per_rev`);
         if (s.missing.count && !s.withheld) ctx.note(`${ctx.name}: ${s.missing.count} tacho pulse(s) missing near ${at(s.missing)}; those intervals are left out of the speed`);

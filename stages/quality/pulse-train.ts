@@ -1,5 +1,6 @@
 // Pulse train: whether a tacho channel's pulses hold together well enough for its speed figures to describe the recording.
 import { momentsOf } from '../fused/moments.js';
+import { REST_CLEAR_SIGMAS, type RestLook } from '../dsp/trigger-level.js';
 import { speedOf, speedOptionsOf, type SpeedSummary } from '../shaft-speed.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
@@ -26,6 +27,15 @@ export function noPulseFound(s: SpeedSummary, spread: number, step: number | nul
   return s.edges === 0 && spread > 2 * (step ?? 0);
 }
 
+/** What a second without a clear pulse looked like: its rest level, its noise and how far it reached from the rest, against what a pulse needs. */
+export function clearestWords(c: RestLook & { atS: number }, unit: string): string {
+  const by = Math.max(c.up, c.down) / c.noise;
+  return `the clearest second, from ${round(c.atS)} s, rests at ${round(c.rest)} ${unit} with noise of ${round(c.noise)} ${unit} (a robust standard deviation) and reaches ${round(c.up)} ${unit} above and ${round(c.down)} ${unit} below that level, ${Number.isFinite(by) ? round(by) : 'no'} times the noise, ${by > REST_CLEAR_SIGMAS ? 'but not as a pulse\'s two lobes, one close after the other, above and below it' : `where a pulse must reach over ${REST_CLEAR_SIGMAS} times`}`;
+}
+
+/** What to declare where the pulses are there but too small to be found: a level between the rest and their peak. */
+export const smallPulsesTodo = 'or, where pulses are there but small, trigger_level between the rest level and their peak and trigger_hysteresis below their height';
+
 export const pulseTrain: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
@@ -48,7 +58,7 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const coverage = pulseCoverage(coveredS, good, durationS);
         const lost = s.missing.count + s.irregular.count, faults = lost + s.extra.count;
         const tr = s.trigger;
-        const trigger = tr ? `edges timed at ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
+        const trigger = tr ? `edges timed ${tr.falling ? 'falling through' : 'at'} ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
         // Pulses lost again and again at one mark point at the mark or the pickup before the trigger: the likely cause first.
         const cause = s.missingAtOnePlace ? `the pulses go missing at one place in the revolution: check the reflective tape or target there (missing or dirty) and the pickup's gap first, then ` : '';
         const todo = cause + (tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev');
@@ -59,8 +69,10 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
           // A tacho is there for its pulses: a signal that moves without one (noise, a sensor unplugged or unpowered, a trigger the
           // pulses never cross) leaves every speed and order figure unknown, as a dead sensor leaves its channel's figures.
           severity = 'fail';
-          const what = tr ? `no edge crossed the trigger (${trigger}) while the signal ranged ${round(m.min)} to ${round(m.max)} ${ctx.unit}` : 'no second holds a pulse standing clear of the noise, and more than one sample stands out of it';
-          message = `no pulse train found: ${what}; check the tacho's wiring and supply, ${tr && !s.found ? 'the declared trigger_level and trigger_hysteresis against that range' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels'}, and pulses_per_rev`;
+          const clearest = s.none?.clearest;
+          const what = tr ? `no edge crossed the trigger (${trigger}) while the signal ranged ${round(m.min)} to ${round(m.max)} ${ctx.unit}`
+            : `no second holds a pulse standing clear of the noise, and more than one sample stands out of it (the signal ranged ${round(m.min)} to ${round(m.max)} ${ctx.unit}${clearest ? `; ${clearestWords(clearest, ctx.unit)}` : ''})`;
+          message = `no pulse train found: ${what}; check the tacho's wiring and supply, ${tr && !s.found ? 'the declared trigger_level and trigger_hysteresis against that range' : `declare trigger_level and trigger_hysteresis between the pulses' low and high levels, ${smallPulsesTodo}`}, and pulses_per_rev`;
         } else if (!tr || good === 0) {
           // No speed is no wrong speed: a shaft at rest gives no pulses (a flat signal is a note; a dead sensor fails flatline), while
           // pulses that never make two good intervals in a row, or one lone pulse, leave the speed unknown (warn).
