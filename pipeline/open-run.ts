@@ -16,7 +16,7 @@ import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
-import { stopOnSignal } from './stop-on-signal.js';
+import { stopOnSignal, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -27,14 +27,14 @@ export interface OpenOptions {
   until?: number | null;
   staleLockAfterMs?: number;
   storageMs?: number;
-  /** Says why the run stopped, with its exit code (a plain line, or a JSON event with --log json). */
-  tell?: (message: string, exitCode: number) => void;
+  /** Says why the run stopped, with its exit code and an error's stack (a plain line, or a JSON event with --log json). */
+  tell?: StopTell;
   /** The run's progress on standard error, stopped before the signal's or the storage limit's line. */
   progress?: Pick<Progress, 'stop'>;
 }
 
-/** The stopped run's line on standard error, as every other `quern:` line. */
-const plainLine = (message: string) => { process.stderr.write(`quern: ${message}\n`); };
+/** The stopped run's line on standard error, as every other `quern:` line, with an error's stack after it. */
+const plainLine: StopTell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
 
 /** What the lock says is running: the command as it was given, with the period in UTC. */
 function lockCommand(root: string, outDir: string, o: OpenOptions): string {
@@ -60,7 +60,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     await refuseHidingRecordings(root, outDir, declaration);
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
-    // A signal from here on: this run's temporary files and its lock go with it.
+    // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it.
     const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
     if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });

@@ -56,7 +56,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
   const storage = watchStorage([outDir], storageMs);
   const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
   const pool = openPool(jobs);
-  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message) => { process.stderr.write(`quern: ${message}\n`); });
+  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); });
   let failed = true;
   try {
     const leftovers = await sweepLeftovers(outDir, null);
