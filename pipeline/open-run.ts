@@ -4,7 +4,7 @@ import { existsSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadSpec, readArchiveDeclaration } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
-import { lockPath, takeLock } from './outputs/lock.js';
+import { leftLock, lockPath, OutputInUse, takeLock } from './outputs/lock.js';
 import { afterProgress, type Progress } from './outputs/progress.js';
 import { markShardStart, shardStartPath } from './outputs/shard-start.js';
 import { writing } from './outputs/staged.js';
@@ -68,6 +68,20 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
   } catch (e) {
     await pool.destroy();
     storage.stop();
+    if (o.shard) await markFailedShard(outDir, o.shard, runId, lockCommand(root, outDir, o), e);
     throw e;
   }
+}
+
+/**
+ * A shard that stopped before it took its lock keeps its start with why, so that merge names it rather than take its
+ * earlier part. Not while another run of the shard holds the lock (that run keeps its own start), nor where the output
+ * folder cannot be written (the merge cannot be either); the run's own error is the one told.
+ */
+async function markFailedShard(outDir: string, shard: Shard, runId: string, command: string, e: unknown): Promise<void> {
+  if (e instanceof OutputInUse) return;
+  const lock = lockPath(outDir, shard);
+  if (existsSync(lock) && !(await leftLock(lock).catch(() => null))) return;
+  const why = String((e as Error)?.message ?? e).split('\n')[0];
+  await markShardStart(outDir, shard, { run_id: runId, command }, why).catch(() => {});
 }
