@@ -208,7 +208,7 @@ async function main(argv: string[]): Promise<number> {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
           ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
           ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
-          lock: record.lock, store: { damaged: record.store.damaged }, exit_code: ending.code,
+          lock: record.lock, store: { damaged: record.store.damaged, ...(record.store.cut_short.length ? { cut_short: record.store.cut_short } : {}) }, exit_code: ending.code,
         });
       }
       if (ending.said) process.stdout.write(ending.said);

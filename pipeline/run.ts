@@ -171,7 +171,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(declaration.groups.map((g) => [g.name, g.labels])),
       period: periodRecord(period, late, groupNames, shard, outcome, renewed),
-      damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
+      damage: s.damage, cutShort: s.cutShort, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();
