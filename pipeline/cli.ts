@@ -195,7 +195,7 @@ async function main(argv: string[]): Promise<number> {
       // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
       tell = afterProgress(progress, tell);
       const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode) => tell(message, exitCode) });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details) });
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
       const ending = exitCodeOf(record, quality.changes, exitOn);
@@ -208,7 +208,7 @@ async function main(argv: string[]): Promise<number> {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
           ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
           ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
-          lock: record.lock, store: { damaged: record.store.damaged }, exit_code: ending.code,
+          lock: record.lock, store: { damaged: record.store.damaged, ...(record.store.cut_short.length ? { cut_short: record.store.cut_short } : {}) }, exit_code: ending.code,
         });
       }
       if (ending.said) process.stdout.write(ending.said);

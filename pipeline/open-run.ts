@@ -4,7 +4,7 @@ import { existsSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadSpec, readArchiveDeclaration } from './declare/declare.js';
 import { quantityUses } from './declare/quantity-uses.js';
-import { lockPath, takeLock } from './outputs/lock.js';
+import { leftLock, lockPath, OutputInUse, takeLock } from './outputs/lock.js';
 import { afterProgress, type Progress } from './outputs/progress.js';
 import { markShardStart, shardStartPath } from './outputs/shard-start.js';
 import { writing } from './outputs/staged.js';
@@ -16,7 +16,7 @@ import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
-import { stopOnSignal } from './stop-on-signal.js';
+import { stopOnSignal, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -27,14 +27,14 @@ export interface OpenOptions {
   until?: number | null;
   staleLockAfterMs?: number;
   storageMs?: number;
-  /** Says why the run stopped, with its exit code (a plain line, or a JSON event with --log json). */
-  tell?: (message: string, exitCode: number) => void;
+  /** Says why the run stopped, with its exit code and an error's stack (a plain line, or a JSON event with --log json). */
+  tell?: StopTell;
   /** The run's progress on standard error, stopped before the signal's or the storage limit's line. */
   progress?: Pick<Progress, 'stop'>;
 }
 
-/** The stopped run's line on standard error, as every other `quern:` line. */
-const plainLine = (message: string) => { process.stderr.write(`quern: ${message}\n`); };
+/** The stopped run's line on standard error, as every other `quern:` line, with an error's stack after it. */
+const plainLine: StopTell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
 
 /** What the lock says is running: the command as it was given, with the period in UTC. */
 function lockCommand(root: string, outDir: string, o: OpenOptions): string {
@@ -60,7 +60,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     await refuseHidingRecordings(root, outDir, declaration);
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
-    // A signal from here on: this run's temporary files and its lock go with it.
+    // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it.
     const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
     if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
@@ -68,6 +68,20 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
   } catch (e) {
     await pool.destroy();
     storage.stop();
+    if (o.shard) await markFailedShard(outDir, o.shard, runId, lockCommand(root, outDir, o), e);
     throw e;
   }
+}
+
+/**
+ * A shard that stopped before it took its lock keeps its start with why, so that merge names it rather than take its
+ * earlier part. Not while another run of the shard holds the lock (that run keeps its own start), nor where the output
+ * folder cannot be written (the merge cannot be either); the run's own error is the one told.
+ */
+async function markFailedShard(outDir: string, shard: Shard, runId: string, command: string, e: unknown): Promise<void> {
+  if (e instanceof OutputInUse) return;
+  const lock = lockPath(outDir, shard);
+  if (existsSync(lock) && !(await leftLock(lock).catch(() => null))) return;
+  const why = String((e as Error)?.message ?? e).split('\n')[0];
+  await markShardStart(outDir, shard, { run_id: runId, command }, why).catch(() => {});
 }

@@ -6,6 +6,7 @@ import { resolve } from 'node:path';
 import { activeStages } from '../stages/index.js';
 import { sweepSpools } from '../stages/read/mat-spool.js';
 import { endRun } from './end-run.js';
+import type { StopTell } from './stop-on-signal.js';
 import { openRun } from './open-run.js';
 import { declarationsNow, groupKeys } from './plan/cache.js';
 import { toolVersion } from './declare/package-files.js';
@@ -53,8 +54,8 @@ export interface ReduceOptions {
   storageMs?: number;
   /** Recordings to compute that were modified within this span before the scan are left to the next run (0: none). */
   settleMs?: number;
-  /** Says why the run stopped (a signal), with its exit code. */
-  tell?: (message: string, exitCode: number) => void;
+  /** Says why the run stopped (a signal, an error nothing waited for), with its exit code and the error's stack. */
+  tell?: StopTell;
 }
 
 /** The recordings of a shard's share in the archive that the run leaves out of its lines and of its settling (outside its period). */
@@ -170,7 +171,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(declaration.groups.map((g) => [g.name, g.labels])),
       period: periodRecord(period, late, groupNames, shard, outcome, renewed),
-      damage: s.damage, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
+      damage: s.damage, cutShort: s.cutShort, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();

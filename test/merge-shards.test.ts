@@ -1,7 +1,7 @@
 // quern merge in a night's life: shards stopped part-way (a time limit's SIGKILL or SIGTERM) after a new night came in,
 // recordings that came in between the shards' scans, and parts of two shard counts.
 import { spawn } from 'node:child_process';
-import { cpSync, existsSync, readFileSync, readdirSync } from 'node:fs';
+import { cpSync, existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
@@ -62,6 +62,33 @@ describe('merge after shards stopped part-way', () => {
     shardRun(archive, out, 3);
     const merged = quern('merge', out, '--jobs', '1');
     expect(merged.code).toBe(1);
+    expect(await tabled(out)).toEqual(expect.arrayContaining(arrived));
+  });
+});
+
+describe('merge after a shard failed before it took its lock', () => {
+  it('refuses, naming the shard, why it failed and the command to run again, rather than take its earlier part', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    for (let k = 1; k <= N; k++) shardRun(archive, out, k);
+    expect(quern('merge', out, '--jobs', '1').code).toBe(1); // the sample archive holds one recording that fails
+    const arrived = newNights(archive, Array.from({ length: 8 }, (_, i) => `2026-12-0${i + 1}`));
+    expect(new Set(arrived.map((r) => shardOf(r, N))).size).toBe(N);
+    // Shard 2 is given a spec that cannot be read (YAML 1.2: a flow sequence left open is a syntax error).
+    const spec = join(archive, '..', 'broken.yaml');
+    writeFileSync(spec, 'spectrum: { segment: [4096\n');
+    const failed = quern('reduce', archive, '--out', out, '--shard', `2/${N}`, '--spec', spec, '--jobs', '1', '--quiet');
+    expect(failed.code).toBe(2);
+    expect(existsSync(join(out, 'parts', 'run-2-of-3.lock'))).toBe(false);
+    shardRun(archive, out, 1);
+    shardRun(archive, out, 3);
+    const refused = quern('merge', out, '--jobs', '1');
+    expect(refused.code, refused.stderr).toBe(2);
+    expect(refused.stderr).toMatch(new RegExp(`shard 2 of 3 failed at the start of its latest run, before taking its lock \\(host [^,]+, pid \\d+, started [^)]+\\): .*broken\\.yaml.*; so parts/run-2-of-3\\.json is from its run started [^ ]+ and lacks what came since: mend that, run shard 2/3 again \\(quern reduce .* --shard 2/3\\), then merge`));
+    expect(refused.stderr).not.toMatch(/shard [13] of 3/);
+    // Mended and run again, the shard finishes and the merge holds the new night.
+    expect(shardRun(archive, out, 2).code).toBe(1);
+    const merged = quern('merge', out, '--jobs', '1');
+    expect(merged.code, merged.stderr).toBe(1);
     expect(await tabled(out)).toEqual(expect.arrayContaining(arrived));
   });
 });

@@ -77,6 +77,29 @@ describe('damaged stored entries', () => {
     await expectSameTables(out, clean);
   });
 
+  it('a pack cut between entries (a truncated copy) says where it ends and how many results were lost; their recordings are recomputed, not taken for new ones', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const size = statSync(pack).size;
+    // Cut where the third entry from the end starts: nothing damaged is left to find, three entries are wholly gone.
+    const lost = all.slice(-3), at = lost[0].offset;
+    truncateSync(pack, at);
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1); // the sample archive holds one recording that fails
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged).toEqual([]);
+    expect(run.store.cut_short).toEqual([{ file: pack, at_byte: at, bytes_lost: size - at, entries_lost: 3 }]);
+    for (const e of lost) expect(run.recordings.find((x: any) => x.recording === e.facts.recording).why).toBe(`stored entry lost (${pack} was cut short at byte ${at}); recomputed`);
+    expect(run.recordings.filter((x: any) => /^new recording/.test(x.why))).toEqual([]);
+    expect(r.stdout).toContain(`CUT SHORT stored results in ${pack}: the pack ends at byte ${at}, ${size - at} bytes short of what the run that wrote it left (a truncated copy?); 3 stored results past it lost, their recordings recomputed`);
+    await expectSameTables(out, clean);
+    // The run's own mark now holds the pack as it left it: the next run finds nothing cut.
+    const next = quern('reduce', archive, '--out', out, '--quiet');
+    expect(next.code).toBe(1);
+    expect(readJson(join(out, 'run.json')).store.cut_short).toEqual([]);
+    expect(readJson(join(out, 'run.json')).counts.recomputed).toBe(0);
+  });
+
   it('garbage in place of the pack is reported, every recording recomputed, and the history reader passes it over', async () => {
     const { archive, out, clean, pack } = await reducedTwice();
     writeFileSync(pack, Buffer.alloc(statSync(pack).size, 0x5a));

@@ -56,7 +56,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
   const storage = watchStorage([outDir], storageMs);
   const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
   const pool = openPool(jobs);
-  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message) => { process.stderr.write(`quern: ${message}\n`); });
+  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); });
   let failed = true;
   try {
     const leftovers = await sweepLeftovers(outDir, null);
@@ -90,7 +90,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       brokenGroups,
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
       shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
-      damage: store.damage, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
+      damage: store.damage, cutShort: store.cutShort, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
       merged: { shards: n, arrived_during_shards: arrived },
     });
     await writeRunRecord(outDir, 'run.json', record);

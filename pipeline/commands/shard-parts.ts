@@ -20,7 +20,8 @@ export function staleCountProblem(parts: RunRecord[]): string | null {
 }
 
 /**
- * Shards whose latest run did not finish: a start kept after the part it left (the part is an earlier run's), or, for
+ * Shards whose latest run did not finish: a start kept after the part it left (the part is an earlier run's; one marked
+ * failed stopped before taking its lock, a spec that could not be read, say), or, for
  * parts written before starts were kept, a lock that a run now gone left behind and that names another run than the part.
  */
 export async function unfinishedShards(out: string, parts: RunRecord[]): Promise<string[]> {
@@ -33,6 +34,10 @@ export async function unfinishedShards(out: string, parts: RunRecord[]): Promise
     const unfinished = start ? start.run_id !== p.run_id : lock != null && lock.holder?.run_id !== p.run_id;
     if (!unfinished) continue;
     const who = latest ? `host ${latest.host}, pid ${latest.pid}, started ${latest.started}` : 'its holder unreadable';
+    if (start?.failed != null) {
+      problems.push(`shard ${shard.k} of ${shard.n} failed at the start of its latest run, before taking its lock (${who}): ${start.failed}; so parts/run-${shard.k}-of-${shard.n}.json is from its run started ${p.started} and lacks what came since: mend that, run shard ${shard.k}/${shard.n} again${start.command ? ` (${start.command})` : ''}, then merge`);
+      continue;
+    }
     const sign = lock ? `its lock parts/run-${shard.k}-of-${shard.n}.lock is left behind: ${lock.why}` : 'it ended before writing its part';
     problems.push(`shard ${shard.k} of ${shard.n} did not finish its latest run (${who}; ${sign}), so parts/run-${shard.k}-of-${shard.n}.json is from its run started ${p.started} and lacks what came since: run shard ${shard.k}/${shard.n} again${latest && 'command' in latest && latest.command ? ` (${latest.command})` : ''}, then merge`);
   }

@@ -7,6 +7,7 @@ import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } f
 import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
 import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
+import type { PackCut } from '../store/pack-cut.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
 import { brokenGroupLine, type BrokenGroup } from './broken-groups.js';
@@ -68,7 +69,8 @@ export interface RunRecord {
    */
   unselected?: { recording: string; group: string }[];
   /** Stored entries found damaged (bad checksum, cut short, unreadable): each recording concerned was recomputed. */
-  store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; compacted: boolean };
+  /** Packs shorter than the run that last wrote them left them (a truncated copy): where each ends now, and what was lost past it. */
+  store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; cut_short: PackCut[]; compacted: boolean };
   /** Whether the tables and reports were rewritten, or already said what this run would write (same digest). */
   outputs: { rewritten: boolean; digest: string; written_by_run: string };
   /** A lock left by a run that is gone, and taken over by this one; the files such a run left half-written, removed (relative to the output folder). */
@@ -100,7 +102,7 @@ export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
   lines: RunLine[]; settling: Settling[]; declarationNotes: string[]; groupsWithoutRecordings: string[]; brokenGroups: BrokenGroup[]; unselected?: RunRecord['unselected']; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
-  period: RunRecord['period']; damage: Damage[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
+  period: RunRecord['period']; damage: Damage[]; cutShort: PackCut[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
   /** Temporary files a stopped run left, removed before this run began. */
   leftovers: string[];
   merged?: RunRecord['merged'];
@@ -124,7 +126,7 @@ export function runRecord(f: RunFacts): RunRecord {
     declaration_notes: f.declarationNotes, groups_without_recordings: f.groupsWithoutRecordings, broken_groups: f.brokenGroups,
     settling: f.settling,
     ...(f.unselected ? { unselected: f.unselected } : {}),
-    store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), compacted: f.compacted },
+    store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), cut_short: f.cutShort, compacted: f.compacted },
     outputs: f.outputs,
     lock: { took_over: f.tookOver, leftovers_removed: f.leftovers },
     timings: { ...mapValues(f.timings, round), total_s: round((finished.getTime() - f.started.getTime()) / 1000) },
@@ -205,6 +207,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
   const leftovers = r.lock.leftovers_removed;
   if (leftovers.length) lines.push(`  lock:    removed ${leftovers.length} file${leftovers.length === 1 ? '' : 's'} a stopped run left half-written under temporary names (${leftovers.slice(0, 3).join(', ')}${leftovers.length > 3 ? ', …: see run.json' : ''})`);
+  for (const c of r.store.cut_short ?? []) lines.push(`  CUT SHORT stored results in ${c.file}: the pack ends at byte ${c.at_byte}, ${c.bytes_lost} bytes short of what the run that wrote it left (a truncated copy?); ${c.entries_lost} stored ${c.entries_lost === 1 ? 'result' : 'results'} past it lost, their recordings recomputed`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));

@@ -141,6 +141,8 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
     if (!entry) {
       const damage = store.damageOf(r.recording);
       if (damage) return all(`stored entry damaged (${damage.problem}); recomputed`);
+      const lost = store.lostEntry(r.recording, r.ctimeMs ?? 0);
+      if (lost) return all(`stored entry lost (${lost.file} was cut short at byte ${lost.at_byte}); recomputed`);
       // Damage whose recording cannot be told may have held this one's entry: said so, not guessed either way.
       const untold = store.damageOfNone();
       return all(untold.length ? `new recording, or its stored entry was damaged past telling whose (${untold.join('; ')}); computed` : 'new recording');

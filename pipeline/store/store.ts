@@ -1,10 +1,11 @@
 // The stored entries of an output folder: one pack per writer (cache/entries.pack for whole runs, cache/entries-K-of-N.pack
 // for shard K), so shards never write the same file. Every pack is read; a recording's newest sound record is its entry.
-import { mkdir, open, readdir, readFile, rename, rm, type FileHandle } from 'node:fs/promises';
+import { mkdir, open, readdir, readFile, rename, rm, stat, type FileHandle } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import { EntryTable, type StoredEntry } from './entry-table.js';
 import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } from './pack.js';
+import { lostPast, packCut, type CutPack, type PackCut } from './pack-cut.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
@@ -42,6 +43,10 @@ export class Store {
     /** Damaged stretches found while reading. */
     readonly damage: Damage[],
     private sizes: Map<string, number>,
+    /** Sound entries each pack holds (superseded ones included), kept in the scan mark with the pack's length. */
+    private counts: Map<string, number>,
+    /** Packs found shorter than the run that last wrote them left them. */
+    private cutPacks: CutPack[],
   ) {}
 
   /** Reads every pack of the folder; `shard` names the pack this run writes (undefined: none, read only). */
@@ -50,16 +55,21 @@ export class Store {
     const files = (await readdir(dir).catch(() => [] as string[])).filter((f) => PACK.test(f)).sort().map((f) => join(dir, f));
     const table = new EntryTable();
     const damage: Damage[] = [];
-    const sizes = new Map<string, number>();
+    const sizes = new Map<string, number>(), counts = new Map<string, number>(), cuts: CutPack[] = [];
     for (const file of files) {
+      let count = 0;
       const r = await scanPack(file, (loc) => {
+        count++;
         const known = table.rows.get(loc.facts.recording);
         if (known === undefined || loc.facts.storedAt >= table.storedAt(known)) table.set({ ...loc, bodySha: shaBytes(loc.bodySha) }, loc.facts);
       });
       damage.push(...r.damage);
       sizes.set(file, r.size);
+      counts.set(file, count);
+      const cut = packCut(file, r.size, count, await readFile(`${file}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null));
+      if (cut) cuts.push(cut);
     }
-    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes);
+    return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes, counts, cuts);
   }
 
   /**
@@ -82,11 +92,27 @@ export class Store {
     return { latestMs, leftOut };
   }
 
-  /** Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack, replaced whole. */
+  /**
+   * Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack,
+   * replaced whole; with the pack's length and entry count, by which the next run tells a pack cut short.
+   */
   async markScanned(ms: number, leftOut: readonly string[]): Promise<void> {
     if (!this.own) return;
     await mkdir(dirname(this.own), { recursive: true });
-    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), left_out: leftOut }));
+    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), left_out: leftOut, ...await this.packEnd() }));
+  }
+
+  /** This run's pack's length and sound entries now. */
+  private async packEnd(): Promise<{ pack_bytes: number; pack_entries: number }> {
+    return { pack_bytes: (await stat(this.own!).catch(() => null))?.size ?? 0, pack_entries: this.counts.get(this.own!) ?? 0 };
+  }
+
+  /** The packs found shorter than the run that last wrote them left them. */
+  get cutShort(): PackCut[] { return this.cutPacks.map((c) => c.cut); }
+
+  /** The cut pack that held `recording`'s entry, now lost (its file's inode change time `ctimeMs`), if any. */
+  lostEntry(recording: string, ctimeMs: number): PackCut | undefined {
+    return this.cutPacks.find((c) => lostPast(c, recording, ctimeMs))?.cut;
   }
 
   /** The recordings that have an entry (keys of recording → row). */
@@ -141,6 +167,7 @@ export class Store {
     // Advance the end before writing: a failed write leaves a cut-off stretch that readers skip and report.
     this.end += total;
     for (const data of pieces) for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done)).bytesWritten;
+    this.counts.set(this.own, (this.counts.get(this.own) ?? 0) + records.length);
     for (const r of records) {
       const length = r.bytes.length + (r.tail ?? []).reduce((n, p) => n + p.length, 0);
       this.table.set({ file: this.own, offset, length, bodySha: r.bytes.subarray(44, 76) }, r.facts);
@@ -204,6 +231,10 @@ export class Store {
       const kept = new Set(live.map((l) => l.recording));
       for (const [recording, row] of this.table.rows) if (this.table.at(row).file === own && !kept.has(recording)) this.table.rows.delete(recording);
       this.end = offset;
+      this.counts.set(own, live.length);
+      // The mark keeps the shorter length at once: a run stopped before it writes its own mark leaves no false cut behind.
+      const mark = await readFile(`${own}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null);
+      if (mark) await writeFileAtomic(`${own}${SCAN_MARK}`, JSON.stringify({ ...mark, ...await this.packEnd() }));
       return true;
     } catch (e) {
       await dst.close().catch(() => {});

@@ -1,0 +1,110 @@
+// A run that meets an error nothing waits for (thrown in a callback, a rejection no one handles) ends as a signal ends
+// it: its temporaries and lock removed, a line saying where the outputs stand, exit code 2 with the stack. Every run is a
+// process of its own on real files.
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, openSync, closeSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { describe, expect, it } from 'vitest';
+import { encodeWav } from '../scripts/wav-file.js';
+import { quern, readJson, repo, tempDir } from './helpers.js';
+
+const cli = join(repo, 'dist', 'pipeline', 'cli.js');
+const built = (path: string) => pathToFileURL(join(repo, 'dist', 'pipeline', path)).href;
+
+// Invented: a rig of short two-channel captures.
+const RECORDINGS = 24, FS = 8000, FRAMES = 4000;
+const declaration = (rig: string) => `groups:\n  - name: rig\n    match: "*.wav"\n    labels: { rig: ${rig} }\n    channels:\n      - { name: acc_x, quantity: acceleration, unit: m/s^2, scale: 50 }\n      - { name: acc_y, quantity: acceleration, unit: m/s^2, scale: 50 }\n`;
+function captures(): string {
+  const archive = join(tempDir(), 'archive');
+  mkdirSync(archive);
+  for (let r = 0; r < RECORDINGS; r++) {
+    const channels = [0, 1].map((c) => Float64Array.from({ length: FRAMES }, (_, i) => 0.3 * Math.sin((2 * Math.PI * (50 + 7 * r + 13 * c) * i) / FS)));
+    writeFileSync(join(archive, `night-${String(r).padStart(3, '0')}.wav`), encodeWav({ sampleRate: FS, channels, encoding: 'pcm16' }));
+  }
+  writeFileSync(join(archive, 'archive.yaml'), declaration('A'));
+  return archive;
+}
+
+/** Every output file with its bytes (the pack aside, which a run may append to). */
+function snapshot(out: string): Record<string, Buffer> {
+  const files: Record<string, Buffer> = {};
+  for (const dir of ['.', 'cache']) for (const name of readdirSync(join(out, dir))) {
+    const path = join(out, dir, name);
+    if (statSync(path).isFile() && !name.startsWith('entries.pack')) files[join(dir, name)] = readFileSync(path);
+  }
+  return files;
+}
+const temporaries = (out: string) => readdirSync(out, { recursive: true }).map(String).filter((f) => f.endsWith('.tmp'));
+
+describe('a run whose log cannot be written', () => {
+  // /dev/full answers every write with ENOSPC (Linux null(4)): a log on a full disk. Standard error's stream reports it
+  // in an event no caller waits for, so the run meets an error nothing handles, after it took its lock.
+  for (const log of ['plain', 'json']) {
+    it(`--log ${log}: exits 2, removes its lock and temporaries, leaves the outputs as they were, and the next run takes no lock over`, () => {
+      const archive = captures(), out = join(archive, '..', 'out');
+      expect(quern('reduce', archive, '--out', out, '--quiet', '--jobs', '1').code).toBe(0);
+      writeFileSync(join(archive, 'archive.yaml'), declaration('B')); // every output to be written again
+      const before = snapshot(out);
+      const full = openSync('/dev/full', 'w');
+      const r = spawnSync(process.execPath, [cli, 'reduce', archive, '--out', out, '--jobs', '1', '--log', log], { stdio: ['ignore', 'pipe', full], encoding: 'utf8' });
+      closeSync(full);
+      expect(r.status).toBe(2);
+      expect(existsSync(join(out, 'run.lock'))).toBe(false);
+      expect(temporaries(out)).toEqual([]);
+      expect(snapshot(out)).toEqual(before);
+      const again = quern('reduce', archive, '--out', out, '--quiet', '--jobs', '1');
+      expect(again.code, again.stderr).toBe(0);
+      expect(again.stdout).not.toMatch(/took over|TOOK OVER/i);
+      expect(readJson(join(out, 'run.json')).lock.took_over).toBeNull();
+    });
+  }
+});
+
+/**
+ * A process that holds a run's lock and a staged output, with the run's stop set as `openRun` sets it, and then throws
+ * from a timer (`throw`) or leaves a promise rejected (`reject`): the ways an error escapes every caller.
+ */
+function crashWhileHolding(out: string, how: 'throw' | 'reject', stand: 'previous' | 'replacing') {
+  const script = `
+    import { takeLock, lockPath } from ${JSON.stringify(built('outputs/lock.js'))};
+    import { StagedFile } from ${JSON.stringify(built('outputs/staged.js'))};
+    import { removeOwnTemporaries } from ${JSON.stringify(built('outputs/sweep-leftovers.js'))};
+    import { stopOnSignal } from ${JSON.stringify(built('stop-on-signal.js'))};
+    const out = ${JSON.stringify(out)};
+    const lock = await takeLock(lockPath(out, null), { run_id: 'r1', command: 'quern reduce' });
+    const stop = stopOnSignal(() => { removeOwnTemporaries(out, null); lock.release(); }, (m, code, d) => process.stderr.write('quern: ' + m + '\\n' + (d?.stack ? d.stack + '\\n' : '')));
+    const staged = new StagedFile(out + '/features.parquet');
+    await staged.write('half a table');
+    await staged.close();
+    stop.now(${JSON.stringify(stand)});
+    ${how === 'throw' ? "setTimeout(() => { throw new Error('thrown where no caller waits'); }, 10);" : "Promise.reject(new Error('rejected where no caller waits'));"}
+    setTimeout(() => {}, 5000);
+  `;
+  return spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
+}
+
+describe('an error no caller waits for, while a run holds its lock', () => {
+  for (const how of ['throw', 'reject'] as const) {
+    it(`${how}: one line on where the outputs stand, the stack, exit code 2, temporaries and lock removed`, () => {
+      const out = tempDir();
+      writeFileSync(join(out, 'features.parquet'), 'the previous table');
+      const r = crashWhileHolding(out, how, 'previous');
+      expect(r.status, r.stderr).toBe(2);
+      const lines = r.stderr.split('\n');
+      expect(lines[0]).toBe('quern: stopped by an unexpected error; the outputs are as they were before the run, and the results stored so far are kept for the next run; its temporary files and lock are removed. Please report it with what follows:');
+      expect(lines[1]).toBe(`Error: ${how === 'throw' ? 'thrown' : 'rejected'} where no caller waits`);
+      expect(lines[2]).toMatch(/^ {4}at /); // the stack follows
+      expect(existsSync(join(out, 'run.lock'))).toBe(false);
+      expect(temporaries(out)).toEqual([]);
+      expect(readFileSync(join(out, 'features.parquet'), 'utf8')).toBe('the previous table');
+    });
+  }
+  it('while the outputs are put in place: says outputs.json is absent until the next run', () => {
+    const out = tempDir();
+    const r = crashWhileHolding(out, 'throw', 'replacing');
+    expect(r.status, r.stderr).toBe(2);
+    expect(r.stderr.split('\n')[0]).toBe('quern: stopped by an unexpected error while the new outputs were put in place; outputs.json is absent until the next run writes them again, and the results stored so far are kept for the next run; its temporary files and lock are removed. Please report it with what follows:');
+    expect(existsSync(join(out, 'run.lock'))).toBe(false);
+  });
+});
