@@ -4,14 +4,17 @@ import type { SampleDecoder } from './interleaved.js';
 /**
  * Decoder for one sample of `containerBytes` holding `validBits` significant bits, left-justified as WAVE_FORMAT_EXTENSIBLE
  * specifies (the unused low bits are dropped). One-byte containers are offset binary (unsigned), wider ones two's complement,
- * as the RIFF/WAVE specification defines PCM.
+ * as the RIFF/WAVE specification defines PCM. `rightJustified` reads the valid bits from the container's low end instead
+ * (the top bits a sign extension), as some writers put them behind a plain PCM fmt chunk.
  */
-export function pcmDecoder(containerBytes: number, validBits: number, little: boolean): SampleDecoder {
+export function pcmDecoder(containerBytes: number, validBits: number, little: boolean, rightJustified = false): SampleDecoder {
   const containerBits = containerBytes * 8;
   if (!(containerBytes >= 1 && containerBytes <= 8 && validBits >= 1 && validBits <= containerBits)) {
     throw new RangeError(`PCM of ${validBits} valid bits in ${containerBytes}-byte containers is not possible`);
   }
-  const drop = containerBits - validBits;
+  if (rightJustified && containerBytes === 1) throw new RangeError('right-justified PCM needs containers of 2 bytes or more');
+  // Right-justified, the container's signed value is the sample itself: nothing to drop.
+  const drop = rightJustified ? 0 : containerBits - validBits;
   const fullScale = 2 ** (validBits - 1);
   if (containerBytes === 1) return (v, at) => ((v.getUint8(at) >> drop) - fullScale) / fullScale;
   if (containerBytes <= 6) {
@@ -29,7 +32,7 @@ export function pcmDecoder(containerBytes: number, validBits: number, little: bo
 }
 
 /** A signed integer of 3, 5 or 6 bytes, exact. */
-function signedBytes(n: number, little: boolean): (v: DataView, at: number) => number {
+export function signedBytes(n: number, little: boolean): (v: DataView, at: number) => number {
   return little
     ? (v, at) => { let x = v.getInt8(at + n - 1); for (let i = n - 2; i >= 0; i--) x = x * 256 + v.getUint8(at + i); return x; }
     : (v, at) => { let x = v.getInt8(at); for (let i = 1; i < n; i++) x = x * 256 + v.getUint8(at + i); return x; };

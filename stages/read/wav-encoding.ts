@@ -13,7 +13,7 @@ const FORMAT_NAMES: Record<number, string> = {
 };
 export const formatName = (code: number) => `0x${code.toString(16).padStart(4, '0')} (${FORMAT_NAMES[code] ?? 'unregistered'})`;
 
-export interface FmtChunk { code: number; channels: number; sampleRate: number; blockAlign: number; bits: number; validBits: number }
+export interface FmtChunk { code: number; channels: number; sampleRate: number; blockAlign: number; bits: number; validBits: number; extensible: boolean }
 
 export function parseFmt(b: Buffer, little: boolean, where: string): FmtChunk {
   if (b.length < 16) throw new RecordingError(`${where}: fmt chunk is ${b.length} bytes, shorter than the 16 the format requires; the header is damaged`);
@@ -21,12 +21,13 @@ export function parseFmt(b: Buffer, little: boolean, where: string): FmtChunk {
   let code = u16(0);
   const bits = u16(14);
   let validBits = bits;
-  if (code === 0xfffe) {
+  const extensible = code === 0xfffe;
+  if (extensible) {
     if (b.length < 40) throw new RecordingError(`${where}: WAVE_FORMAT_EXTENSIBLE fmt chunk is ${b.length} bytes, expected 40; the header is damaged`);
     validBits = u16(18) || bits;
     code = u16(24); // the sub-format GUID starts with the plain format code
   }
-  return { code, channels: u16(2), sampleRate: little ? b.readUInt32LE(4) : b.readUInt32BE(4), blockAlign: u16(12), bits, validBits };
+  return { code, channels: u16(2), sampleRate: little ? b.readUInt32LE(4) : b.readUInt32BE(4), blockAlign: u16(12), bits, validBits, extensible };
 }
 
 /** How the data chunk decodes: the layout fields for readInterleaved, the encoding's name and the resolution it carries. */
@@ -34,7 +35,8 @@ export interface WavEncoding { sampleType: SampleType; custom?: InterleavedLayou
 
 const FAST_PCM: Record<number, SampleType> = { 1: 'uint8', 2: 'int16', 3: 'int24', 4: 'int32' };
 
-export function wavEncoding(f: FmtChunk, little: boolean, where: string): WavEncoding {
+/** `rightJustified`: PCM whose valid bits fill the containers' low end (see wav-justify.ts). */
+export function wavEncoding(f: FmtChunk, little: boolean, where: string, rightJustified = false): WavEncoding {
   checkChannelCount(f.channels, where);
   const container = f.blockAlign / f.channels;
   if (!Number.isInteger(container) || container < 1) throw new RecordingError(`${where}: block align ${f.blockAlign} does not fit ${f.channels} channels of ${f.bits} bits; the header is damaged`);
@@ -45,7 +47,7 @@ export function wavEncoding(f: FmtChunk, little: boolean, where: string): WavEnc
     const encoding = valid === container * 8 ? `pcm${valid}` : `pcm${valid}in${container * 8}`;
     // Full containers of 1–4 bytes take the plain sample types (either byte order); the rest the general PCM decoder.
     if (valid === container * 8 && FAST_PCM[container]) return { sampleType: FAST_PCM[container], encoding, bits: valid, normalised: true };
-    return { sampleType: 'int16', custom: { width: container, decode: pcmDecoder(container, valid, little) }, encoding, bits: valid, normalised: true };
+    return { sampleType: 'int16', custom: { width: container, decode: pcmDecoder(container, valid, little, rightJustified) }, encoding, bits: valid, normalised: true };
   }
   if (f.code === 3) {
     if (container === 4) return { sampleType: 'float32', encoding: 'float32', bits: null, normalised: false };
