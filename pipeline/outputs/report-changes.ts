@@ -140,7 +140,7 @@ const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' 
 
 function row(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
-  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}${c.held ? ' held' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${num(c.baseline)}${c.baseline != null ? unit : ''}</td><td>${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}${c.held ? ' held' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
 }
 
 /** The section, charts rendered to SVG; empty text when trends are off. */

@@ -6,6 +6,8 @@ import { severityAt, usable, type History, type Series } from './history.js';
 import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
 import { heldAcrossStale, type HeldAcrossStale } from './held-across-stale.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
+import { againstFloor, floorOf, type BelowFloor } from './floor.js';
+import { medianAndMad } from './robust.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
 
@@ -18,6 +20,8 @@ export interface ScoredPoint {
   limit: 'warn' | 'alarm' | null;
   /** The verdict is held by the deadband: back inside its threshold, but not yet by the deadband. */
   held?: boolean;
+  /** Present where the baseline's median or the value lies below its measurable floor: which, and the floor that bounds changeDb. */
+  floor?: { below: BelowFloor; level: number };
 }
 
 /** One watched feature of one series, with its baselines; points are scored on demand, so nothing grows with the history. */
@@ -46,13 +50,18 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
   const bases = eras.map((era) => baselineOf(s, k, era));
   const eraOf = (i: number) => eraAt(eras, s.time[i]);
   const limits = limitsFor(o, feature.name, s);
+  // Each baseline's floor from its members' channel RMS (their median), each point's from its own.
+  const baseFloors = bases.map((b) => floorOf(feature, s.unit, medianAndMad(b.members.map((i) => s.channelRms[i])).median));
   const pointAt = (i: number): ScoredPoint | null => {
     const value = values[i];
     if (!Number.isFinite(value)) return null;
-    const base = bases[eraOf(i)];
+    const e = eraOf(i), base = bases[e];
     const ok = usable(s, i);
-    const cdb = base.complete ? changeDb(value, base.median, feature.level) : null;
-    const score = base.complete ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
+    // A baseline or value below its floor is rounding: the change is bounded by the floor, and the score (which would divide by
+    // a rounding-sized spread) is left out, but where only the value fell below it.
+    const floor = base.complete ? againstFloor(value, floorOf(feature, s.unit, s.channelRms[i]), base.median, baseFloors[e]) : null;
+    const cdb = !base.complete ? null : floor ? floor.changeDb : changeDb(value, base.median, feature.level);
+    const score = base.complete && (!floor || floor.below === 'value') ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
     // Figures of a channel that fails the data-quality checks are not held against anything, with one exception: clipping
     // can only lower a broadband RMS or peak (each sample's magnitude is cut to the range), so one at or above a limit is
     // above it in truth as well, and a machine loud enough to saturate its sensor still sounds its alarm.
@@ -60,7 +69,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     const limit = ok || clipped ? limitReached(value, limits) : null;
     const verdict = ok ? verdictOf({ value, changeDb: cdb, score, scored: base.complete, limit }, o)
       : clipped && limit ? verdictOf({ value, changeDb: null, score: null, scored: false, limit }, o) : null;
-    return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit };
+    return { value, baseline: base.complete ? base.median : null, changeDb: cdb, score, verdict, limit, ...(floor ? { floor: { below: floor.below, level: floor.floor } } : {}) };
   };
   // The verdicts after the deadband, worked out once over the series when first asked (a held verdict depends on the last one).
   let held: Uint8Array | null = null;
@@ -122,6 +131,8 @@ export interface ChangeItem {
   strength: number;
   /** Back inside its threshold but not yet by the deadband, so the verdict holds. */
   held: boolean;
+  /** Present where the baseline or the value lies below its measurable floor: which, and the floor (then change_db is a bound: a rise of at least, a fall of at least its size). */
+  floor?: { below: BelowFloor; level: number };
 }
 
 export interface ChangesReport {
@@ -224,7 +235,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name, unit: f.unit, verdict: p.verdict, limit: p.limit, limits: limitsFor(o, f.feature.name, s) ?? null,
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
       since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.baseAt(latest).members.length,
-      strength: strengthOf(p, o), held: p.held === true,
+      strength: strengthOf(p, o), held: p.held === true, ...(p.floor ? { floor: p.floor } : {}),
     });
   }
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
@@ -277,6 +288,6 @@ export function addTrendRows(h: History, f: ScoredFeature, into: Record<string, 
     // Every row is placed in time, as the history orders it (a row without a time sorts apart in a spreadsheet); in whole ms, as the column holds.
     number('start_time').add(Math.floor(s.time[i])); text('start_time_source').add(s.startKnown[i] ? 'recording' : 'modified');
     number('value').add(p.value); number('baseline').add(p.baseline); number('change_db').add(p.changeDb); number('score').add(p.score);
-    text('verdict').add(p.verdict); text('limit').add(p.limit); text('quality').add(severityAt(s, i));
+    text('verdict').add(p.verdict); text('limit').add(p.limit); text('quality').add(severityAt(s, i)); number('floor').add(p.floor?.level ?? null);
   }
 }

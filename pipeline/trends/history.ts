@@ -1,5 +1,5 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
-// read once from the output folder's stored results and kept as compact typed arrays (about 16 bytes a recording and
+// read once from the output folder's stored results and kept as compact typed arrays (about 20 bytes a recording and
 // channel, plus 10 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
 import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
@@ -9,7 +9,7 @@ import type { TrendOptions } from './options.js';
 import { StaleCause } from './stale-cause.js';
 
 /** A typed array that grows by doubling. */
-class Growing<T extends Float64Array | Int32Array | Uint8Array> {
+class Growing<T extends Float64Array | Float32Array | Int32Array | Uint8Array> {
   size = 0;
   constructor(public data: T, private readonly make: (n: number) => T) {}
   push(v: number): void {
@@ -24,6 +24,7 @@ class Growing<T extends Float64Array | Int32Array | Uint8Array> {
   }
 }
 const f64 = () => new Growing(new Float64Array(8), (n) => new Float64Array(n));
+const f32 = () => new Growing(new Float32Array(8), (n) => new Float32Array(n));
 const i32 = () => new Growing(new Int32Array(8), (n) => new Int32Array(n));
 const u8 = () => new Growing(new Uint8Array(8), (n) => new Uint8Array(n));
 
@@ -46,6 +47,8 @@ export interface Series {
   inRun: Uint8Array;
   /** 1 when the recording is left out of the baseline (trends.baseline.exclude). */
   excluded: Uint8Array;
+  /** The channel's RMS on that recording (statistics, computed on every run), which sets its figures' measurable floor; NaN when absent. */
+  channelRms: Float32Array;
   /** Per watched feature (TrendOptions.features order): the value, NaN when absent or computed under other options. */
   values: Float64Array[];
   /** Per watched feature: 1 where the recording's feature group was computed under other options than the spec's now, or under another declaration of its group. */
@@ -65,7 +68,7 @@ const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[]; staleCause: Growing<Uint8Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; channelRms: Growing<Float32Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[]; staleCause: Growing<Uint8Array>[] }
 
 /** Per group (present name), the declaration keys its recordings are reduced under now (`declarationKey`); a group absent is not checked. */
 export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
@@ -103,7 +106,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), values: o.features.map(f64), stale: o.features.map(u8), staleCause: o.features.map(u8) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), channelRms: f32(), values: o.features.map(f64), stale: o.features.map(u8), staleCause: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
@@ -113,6 +116,9 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
       b.clippedOnly.push(failing.length > 0 && failing.every((f) => f.name === 'saturation') ? 1 : 0);
       b.inRun.push(inRun.has(e.recording) ? 1 : 0);
       b.excluded.push(excluded);
+      // Only for the floor: a rough level is enough, whatever options the statistics were computed under.
+      const rms = e.groups.statistics?.columns[c]?.rms;
+      b.channelRms.push(typeof rms === 'number' ? rms : NaN);
       o.features.forEach((f, k) => {
         const v = comparable[k] ? e.groups[f.group].columns[c]?.[f.name] : null;
         b!.values[k].push(typeof v === 'number' ? v : NaN);
@@ -127,7 +133,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const order = Int32Array.from({ length: n }, (_, i) => i).sort((i, j) => b.time.data[i] - b.time.data[j] || (recordings[b.recording.data[i]] < recordings[b.recording.data[j]] ? -1 : 1));
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
-      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order),
+      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order), channelRms: b.channelRms.take(order),
       values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)), staleCause: b.staleCause.map((v) => v.take(order)),
     };
   });

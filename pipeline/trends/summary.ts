@@ -10,8 +10,11 @@ const day = (t: string | null, recording: string) => (t ? t.slice(0, 10) : recor
 /** "acc_de env_rms 4.845 m/s^2 on 2026-11-21: +18.0 dB on its baseline 0.61 (score +69), since 2026-11-20" */
 export function changeLine(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${c.unit}`;
-  const how = [c.change_db != null ? `${signed(c.change_db)} dB` : null, c.score != null ? `score ${signed(c.score, 0)}` : null].filter(Boolean).join(', ');
-  const against = c.baseline != null ? ` against its baseline ${num(c.baseline)}${unit}` : '';
+  // Below the measurable floor a figure is rounding: a change from or to it is told as a bound on the floor, never in dB on the rounding.
+  const floor = c.floor ? `the measurable floor ${num(c.floor.level)}${unit} (${c.unit === c.channel_unit ? '' : 'from '}10⁻⁶ of the channel's RMS)` : '';
+  const db = c.change_db == null ? null : c.floor?.below === 'baseline' ? `at least ${signed(c.change_db)} dB` : c.floor?.below === 'value' ? `below ${floor}, a fall of at least ${Math.abs(c.change_db).toFixed(1)} dB` : `${signed(c.change_db)} dB`;
+  const how = [db, c.score != null ? `score ${signed(c.score, 0)}` : null].filter(Boolean).join(', ');
+  const against = c.floor?.below === 'baseline' ? ` from a baseline below ${floor}` : c.baseline != null ? ` against its baseline ${num(c.baseline)}${unit}` : '';
   const limit = c.limit ? `; at or above its ${c.limit} limit ${num(c.limits![c.limit]!)}${unit}` : '';
   const since = c.since.recording !== c.recording ? `, since ${day(c.since.start_time, c.since.recording)}` : '';
   const held = c.held ? ' (back inside its threshold, not yet by the deadband)' : '';

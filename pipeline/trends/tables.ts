@@ -19,6 +19,7 @@ export const TRENDS_TABLE: TableColumn[] = [
   text('verdict', 'steady, changed (beyond the change thresholds or at a warn limit) or alarm (at an alarm limit), each held until the value is back inside its threshold by the deadband; null while the baseline is forming or when the channel fails the data-quality checks.', true),
   text('limit', 'The declared limit the value is at or beyond: warn or alarm; null for none.', true),
   text('quality', 'The channel\'s data-quality verdict on this recording: ok, note, warn or fail.'),
+  { name: 'floor', type: 'float64', nullable: true, unit: '[feature unit]', description: 'The measurable floor (10⁻⁶ of the channel\'s RMS for a level) where the baseline or the value lies below it: change_db is then a bound (from a baseline below it: a rise of at least; to a value below it: a fall of at least), null when both lie below it (steady); null otherwise.' },
 ];
 
 /** spectra.parquet: one row per recording × channel × frequency bin of the averaged Welch spectrum. */
