@@ -24,6 +24,9 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
     this.arrays = { hits: buffer(KEPT) };
   }
 
+  /** The current chunk's median, from which its outliers' excursions are taken. */
+  get median() { return this.get('med'); }
+
   afterChunk(x: Float64Array, n0: number): void {
     const found = this.get('found'), hits = this.arrays.hits;
     if (found <= KEPT) for (let i = 0; i < found; i++) this.out(hits[i]);

@@ -2,8 +2,11 @@
 // (ITU-R BS.1770-4 Annex 2); beside it the worst case for a sine at the declared highest frequency, 1 − cos(π·f/fs) (derived).
 import { simdPeakScan } from '../dsp/fft-simd.js';
 import { TAP_PAIRS, TruePeak } from '../dsp/true-peak.js';
+import { peakRepeatsOf } from '../fused/peak-repeats.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { FLATTENED_MARGIN, flattening, type Flattening } from './flattening.js';
+import { saturationLimits } from './saturation.js';
 
 /** Worst-case shortfall of the largest sample below a sine's peak at r samples per cycle: the peak falls midway between two samples. */
 export const peakUnderestimate = (samplesPerCycle: number) => 1 - Math.cos(Math.PI / samplesPerCycle);
@@ -16,21 +19,25 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
   columns: () => [
     { name: 'samples_per_cycle', unit: '1', description: 'Sample rate / declared highest frequency.' },
     { name: 'peak_underestimate', unit: '1', description: 'Worst-case shortfall of a sampled peak at the declared highest frequency: 1 − cos(π·f/fs).' },
-    { name: 'true_peak', unit: '[unit]', description: 'Largest magnitude of the band-limited signal between the samples, by 4× oversampling (ITU-R BS.1770-4 Annex 2).' },
+    { name: 'true_peak', unit: '[unit]', description: 'Largest magnitude of the band-limited signal between the samples, by 4× oversampling (ITU-R BS.1770-4 Annex 2); null where the waveform was flattened near its limit (peak_capture says so).' },
     { name: 'peak_shortfall', unit: '1', description: 'How far the largest sample falls below the true peak: 1 − peak / true_peak.' },
   ],
   create(ctx, q) {
     const fs = ctx.sampleRate, f = ctx.maxFrequencyHz;
     // Candidates for interpolation come within cos(π·f/fs) of the running true peak (see TruePeak); f is at most fs/2.
     const tracker = new TruePeak(Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO)), simdPeakScan(TAP_PAIRS));
+    const limits = saturationLimits(ctx.range, ctx.fullScale);
+    // Without limits, a flat top shows in the largest sample's repeats, counted in the fused pass (only then: it costs a compare a sample).
+    const repeats = limits ? null : peakRepeatsOf(ctx);
+    let n = 0;
     return {
-      push(x) { tracker.push(x); },
+      push(x) { tracker.push(x); n += x.length; },
       finish() {
         const { note_shortfall: noteAt, warn_shortfall: warnAt } = q.peak_capture;
         const r = f ? fs / f : null;
         const bound = r == null ? null : r > 1 ? peakUnderestimate(r) : 1;
         const { samplePeak, truePeak } = tracker.result();
-        const threshold = `note above ${pct(noteAt)}, warn above ${pct(warnAt)} shortfall of the sampled peak below the 4× true peak`;
+        const threshold = `note above ${pct(noteAt)}, warn above ${pct(warnAt)} shortfall of the sampled peak below the 4× true peak; warn: the 4× peak beyond the limit by more than ${pct(FLATTENED_MARGIN)} (flattened)`;
         if (!(truePeak > 0)) {
           ctx.flag({ name: 'peak_capture', severity: 'ok', value: null, threshold, evidence: { declared_hz: f, worst_underestimate: bound }, message: 'not assessed: the signal never leaves zero' });
           return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: null };
@@ -38,6 +45,11 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
         const shortfall = 1 - samplePeak / truePeak;
         // A pulse train's edges are not band-limited: its "true peak" is the ringing of their reconstruction (Gibbs), not a peak the samples missed.
         const pulses = ctx.tacho != null;
+        const flat = pulses ? null : flattening(samplePeak, truePeak, limits, repeats && { count: repeats.count, samples: n });
+        if (flat) {
+          ctx.flag({ name: 'peak_capture', severity: 'warn', value: null, threshold, evidence: flattenedEvidence(flat, f, bound), message: flattenedMessage(flat, ctx.unit, ctx.range != null) });
+          return { samples_per_cycle: r, peak_underestimate: bound, true_peak: null, peak_shortfall: null };
+        }
         const severity: Severity = pulses ? 'ok' : shortfall > warnAt ? 'warn' : shortfall > noteAt ? 'note' : 'ok';
         const at = r == null ? '' : ` (${r.toFixed(2)} samples per cycle at the declared ${f} Hz: a sine's peak can fall up to ${pct(bound!)} between samples)`;
         const unit = ctx.unit;
@@ -56,3 +68,22 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
     };
   },
 };
+
+const figure = (v: number) => Number(v.toPrecision(4));
+
+function flattenedEvidence(flat: Flattening, declaredHz: number | null, bound: number | null) {
+  return { declared_hz: declaredHz, worst_underestimate: bound, sample_peak: flat.samplePeak, interpolated_peak: flat.interpolatedPeak, limit: flat.limit, largest_sample_repeats: flat.repeats };
+}
+
+/** What a flattened waveform's flag says: the evidence, and that neither peak figure measures the input. */
+function flattenedMessage(flat: Flattening, unit: string, declared: boolean): string {
+  const tail = 'so neither the largest sample nor the interpolated peak is the input\'s peak, and true_peak is left empty (an interpolation assumes an undistorted signal): '
+    + 'check the channel for clipping or compression (the sensor\'s range, the amplifier\'s gain and supply) rather than sampling faster';
+  if (flat.limit != null) {
+    const where = declared ? 'instrument range' : 'converter\'s full scale';
+    return `the waveform was flattened near its limit (clipped, or compressed before the converter): its 4× interpolated peak, ${figure(flat.interpolatedPeak)} ${unit}, lies ${pct(flat.interpolatedPeak / flat.limit - 1)} beyond the ${where}, ±${figure(flat.limit)} ${unit}, `
+      + `which a waveform that kept within it does not reach; the largest sample is ${figure(flat.samplePeak)} ${unit}; ${tail}`;
+  }
+  return `the waveform looks flattened at its largest value: ${flat.repeats} samples sit at ±${figure(flat.samplePeak)} ${unit}, and its 4× interpolated peak, ${figure(flat.interpolatedPeak)} ${unit}, lies ${pct(flat.interpolatedPeak / flat.samplePeak - 1)} above them, `
+    + `as a flat top's edges ring when interpolated; no range or bits are declared, so whether that value is the instrument's limit is not known (declare range in archive.yaml); ${tail}`;
+}

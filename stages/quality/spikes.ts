@@ -1,45 +1,39 @@
-// Spikes: isolated samples far outside a robust spread: median and 1.4826 × median absolute deviation (Hampel 1974), estimated chunk by chunk.
+// Spikes: short bursts far outside a robust spread (median and 1.4826 × median absolute deviation, Hampel 1974, estimated
+// chunk by chunk) that stand out from their neighbours on both sides, as an impulse does and a ringing waveform does not.
 import type { StageDefinition } from '../stage.js';
 import { robustOutliersOf } from '../fused/robust-outliers.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { SpikeBursts } from './spike-bursts.js';
 
 export { median } from '../dsp/median.js';
 
 export const spikes: StageDefinition<QualityThresholds> = {
   group: 'quality',
-  columns: () => [{ name: 'spike_count', unit: '1', description: 'Isolated samples beyond the robust-sigma threshold of their chunk.' }],
+  columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk whose neighbours within 8 samples on both sides stay under half their excursion.' }],
   create(ctx, q) {
     const k = q.spikes.robust_sigmas;
-    // Isolated: no other outlying sample within this many samples either side (a ringing impact is not a spike).
-    const W = 8;
-    let n = 0, count = 0, first = -1, lastOut = -Infinity, pending = -1;
-    const settle = (i: number) => {
-      // The pending outlier is a spike when nothing else stood out within W samples before or after it.
-      if (pending >= 0 && i - pending > W) { if (count++ === 0) first = pending; pending = -1; }
-    };
-    // The fused pass hands over each outlying sample in order; a pending one is settled when the next arrives or at the end.
-    robustOutliersOf(ctx, k, ctx.stepSize ?? 0, (at) => {
-      settle(at);
-      if (pending >= 0 && at - pending <= W) pending = -1; // two outliers close together: neither is isolated
-      else if (at - lastOut > W) pending = at;
-      lastOut = at;
-    });
+    const bursts = new SpikeBursts();
+    // The fused pass hands over each outlying sample in order before the chunk reaches the stages; the bursts are judged
+    // from the samples around them as each chunk arrives (no pass of their own).
+    const outliers = robustOutliersOf(ctx, k, ctx.stepSize ?? 0, (at) => bursts.outlier(at));
+    let n = 0;
     return {
-      push(x) { n += x.length; },
+      push(x) { bursts.chunk(x, n, outliers.median); n += x.length; },
       finish() {
-        settle(Infinity);
-        const fraction = n ? count / n : 0;
+        bursts.end();
+        const count = bursts.count, samples = bursts.samples, first = bursts.first;
+        const fraction = n ? samples / n : 0;
         // A tacho's pulses one sample wide are isolated samples far outside the spread by design; pulse_train judges them.
         const pulses = ctx.tacho != null;
-        const severity: Severity = count === 0 || pulses ? 'ok' : fraction >= q.spikes.fail_fraction ? 'fail' : 'warn';
+        const severity: Severity = samples === 0 || pulses ? 'ok' : fraction >= q.spikes.fail_fraction ? 'fail' : 'warn';
         ctx.flag({
-          name: 'spikes', severity, value: count,
-          threshold: `warn: any isolated sample beyond ${k} robust standard deviations; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples${pulses ? ' (not on a tacho channel)' : ''}`,
-          evidence: { samples: count, first_s: first >= 0 ? first / ctx.sampleRate : null },
-          message: pulses && count ? `not judged on a tacho channel: its ${count} isolated samples are pulses one sample wide by design, which pulse_train judges`
-            : count ? `${count} isolated spikes, first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no isolated spikes',
+          name: 'spikes', severity, value: samples,
+          threshold: `warn: any burst of 1 to ${bursts.widest} samples beyond ${k} robust standard deviations whose neighbours within ${bursts.guard} samples either side stay under ${pct(bursts.fraction)} of its excursion; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples in such bursts${pulses ? ' (not on a tacho channel)' : ''}`,
+          evidence: { samples, spikes: count, first_s: first >= 0 ? first / ctx.sampleRate : null },
+          message: pulses && samples ? `not judged on a tacho channel: its ${samples} isolated samples are pulses one sample wide by design, which pulse_train judges`
+            : samples ? `${count} spikes (${samples} samples in bursts of 1 to ${bursts.widest} standing out from their neighbours on both sides), first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no spikes',
         });
-        return { spike_count: count };
+        return { spike_count: samples };
       },
     };
   },

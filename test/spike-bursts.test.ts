@@ -1,0 +1,71 @@
+// Spikes: bursts of 1 to 3 samples standing out from their neighbours on both sides, against the places and counts numpy
+// planted; an impact hammer's ring-down is none. Recordings and references: test/fixtures/make-peak-spike-vectors.py.
+import { describe, expect, it } from 'vitest';
+import type { ChannelDeclaration } from '../spec/archive.js';
+import { reduceRecording } from '../pipeline/reduce/compute.js';
+import { FusedPass } from '../stages/fused/pass.js';
+import { RobustOutliers } from '../stages/fused/robust-outliers.js';
+import type { Flag } from '../stages/quality/flag.js';
+import { SpikeBursts, WIDEST_SPIKE } from '../stages/quality/spike-bursts.js';
+import { fixture, readAll, readJson } from './helpers.js';
+
+const ref = readJson(fixture('peak-spike-vectors.json'));
+type SpikeCase = { channel: Partial<ChannelDeclaration>; places: number[]; spikes: number; samples: number };
+const cases = ref.spikes as Record<string, SpikeCase>;
+const fs = ref.fs as number;
+
+async function spikesFlag(name: string, chunkFrames: number) {
+  const decl: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null, ...cases[name].channel };
+  const r = await reduceRecording({ recording: name, path: fixture('peaks', `${name}.wav`), group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames });
+  expect(r.reason).toBeUndefined();
+  return { flag: r.quality[0].flags.find((f) => f.name === 'spikes') as Flag, row: r.rows[0] as Record<string, any> };
+}
+
+/** The spikes' first samples as the stage finds them: the fused pass's outliers (10 robust σ) judged chunk by chunk. */
+async function places(name: string, chunk: number) {
+  const { channels } = await readAll(fixture('peaks', `${name}.wav`));
+  const x = Float64Array.from(channels[0], (v) => v * cases[name].channel.scale!);
+  const found: number[] = [];
+  const bursts = new SpikeBursts(undefined, undefined, undefined, (at) => found.push(at));
+  const pass = new FusedPass();
+  const { scale, bits } = cases[name].channel, step = scale! / 2 ** (bits! - 1); // the converter's step, the spread's floor as in the stage
+  const outliers = pass.joinOrMake(`robust-outliers:10:${step}`, () => new RobustOutliers(10, step, (at) => bursts.outlier(at)));
+  for (let n0 = 0; n0 < x.length; n0 += chunk) {
+    const part = x.slice(n0, n0 + chunk);
+    pass.push(part);
+    bursts.chunk(part, n0, outliers.median);
+  }
+  bursts.end();
+  return found;
+}
+
+describe('spike bursts against numpy\'s planted places', () => {
+  for (const name of ['glitches_1_sample_16', 'glitches_2_samples_16', 'glitches_3_samples_16']) {
+    it(`${name}: every planted burst found at its place, and nothing else, whatever the chunks`, async () => {
+      const c = cases[name];
+      for (const chunk of [65536, 4096, 1000]) expect(await places(name, chunk)).toEqual(c.places);
+      for (const chunk of [65536, 1000]) {
+        const { flag, row } = await spikesFlag(name, chunk);
+        expect(flag.severity).toBe(c.samples / ref.samples >= 1e-3 ? 'fail' : 'warn'); // the default fail_fraction, 0.1 % of samples
+        expect(flag.evidence.spikes).toBe(c.spikes);
+        expect(flag.evidence.samples).toBe(c.samples);
+        expect(row.spike_count).toBe(c.samples);
+        expect(flag.evidence.first_s).toBeCloseTo(c.places[0] / fs, 12);
+      }
+    });
+  }
+
+  it(`bursts of 4 samples, wider than the default ${WIDEST_SPIKE}, are no spikes`, async () => {
+    expect(cases.bursts_4_samples_16.places.length).toBe(20);
+    expect(await places('bursts_4_samples_16', 4096)).toEqual([]);
+    expect((await spikesFlag('bursts_4_samples_16', 4096)).flag.severity).toBe('ok');
+  });
+
+  it('an impact hammer\'s decaying response (three modes, scipy.signal.bilinear and lfilter) is no spike: its neighbours ring near its level', async () => {
+    for (const chunk of [65536, 4096, 1000]) {
+      const { flag } = await spikesFlag('hammer_response_24', chunk);
+      expect(flag.value).toBe(0);
+      expect(flag.severity).toBe('ok');
+    }
+  });
+});
