@@ -8,7 +8,7 @@ import { groupKeys, type CacheEntry } from '../pipeline/plan/cache.js';
 import { changesReport, scoreHistory, type ScoredPoint } from '../pipeline/trends/changes.js';
 import { changesSummary } from '../pipeline/trends/summary.js';
 import { readHistory } from '../pipeline/trends/history.js';
-import { trendOptions, unknownLimits } from '../pipeline/trends/options.js';
+import { levelKind, trendOptions, unknownLimits } from '../pipeline/trends/options.js';
 import { MAD_TO_SIGMA, medianAndMad } from '../pipeline/trends/robust.js';
 import { changeDb, robustScore } from '../pipeline/trends/score.js';
 import { fixture, readJson } from './helpers.js';
@@ -89,6 +89,17 @@ describe('robust statistics of the baseline', () => {
     const g = gaussian(5);
     const x = Array.from({ length: 200_001 }, () => 3 + 0.7 * g());
     expect(MAD_TO_SIGMA * medianAndMad(x).mad).toBeCloseTo(0.7, 2);
+  });
+
+  it("puts a mean square's change as 10·log10 of the power ratio, a level in dB re 20 µPa as the difference, and a shaft speed in no decibels (common practice)", () => {
+    // A doubled mean square is +3.01 dB; the same change as an amplitude would read +6.02 dB.
+    expect(levelKind('band_10_100_ms', '[unit]^2')).toBe('power');
+    expect(changeDb(2, 1, 'power')).toBeCloseTo(3.0103, 4);
+    // LAeq from 80 to 86 dB is +6 dB, not 20·log10(86/80) = +0.63 dB.
+    expect(levelKind('laeq', 'dB re 20 µPa')).toBe('decibel');
+    expect(changeDb(86, 80, levelKind('laeq', 'dB re 20 µPa'))).toBeCloseTo(6, 12);
+    expect(levelKind('speed_mean_rpm', 'rpm')).toBeNull();
+    expect(levelKind('rms', '[unit]')).toBe('amplitude');
   });
 
   it('puts a level change in decibels as 20·log10 of the amplitude ratio (a doubled amplitude is +6.02 dB), and floors the spread', () => {

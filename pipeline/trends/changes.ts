@@ -59,7 +59,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     const ok = usable(s, i);
     // A baseline or value below its floor is rounding: the change is bounded by the floor, and the score (which would divide by
     // a rounding-sized spread) is left out, but where only the value fell below it.
-    const floor = base.complete ? againstFloor(value, floorOf(feature, s.unit, s.channelRms[i]), base.median, baseFloors[e]) : null;
+    const floor = base.complete ? againstFloor(value, floorOf(feature, s.unit, s.channelRms[i]), base.median, baseFloors[e], feature.level === 'power' ? 'power' : 'amplitude') : null;
     const cdb = !base.complete ? null : floor ? floor.changeDb : changeDb(value, base.median, feature.level);
     const score = base.complete && (!floor || floor.below === 'value') ? robustScore(value, base.median, base.mad, o.spreadFloor) : null;
     // Figures of a channel that fails the data-quality checks are not held against anything, with one exception: clipping

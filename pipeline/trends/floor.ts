@@ -2,6 +2,7 @@
 // is rounding, not content, and is not put in decibels against anything.
 import { metresPerSecond2 } from '../../stages/acceleration-units.js';
 import type { WatchedFeature } from './options.js';
+import { decibelsOf } from './score.js';
 
 /**
  * −120 dB of the channel's RMS: finer than any converter resolves (a 24-bit converter spans about 144 dB of full scale at best,
@@ -22,7 +23,7 @@ const velocityLowEdge = (name: string): number | null => {
  * its lower edge, velocity PSD = acceleration PSD / (2πf)²). Null where a figure has none (ratios, frequencies, counts, dB) or the RMS is unknown.
  */
 export function floorOf(feature: Pick<WatchedFeature, 'name' | 'unit' | 'level'>, channelUnit: string, rms: number, ratio = FLOOR_RATIO): number | null {
-  if (feature.level !== 'amplitude' || !(rms >= 0)) return null;
+  if ((feature.level !== 'amplitude' && feature.level !== 'power') || !(rms >= 0)) return null;
   if (feature.unit === '[unit]') return ratio * rms;
   if (feature.unit === '[unit]^2') return (ratio * rms) ** 2;
   if (feature.unit === 'mm/s') {
@@ -39,7 +40,7 @@ export interface FloorReading {
   below: BelowFloor;
   /** The floor the change is bounded by, in the feature's unit: the baseline's where it lies below, else the value's. */
   floor: number;
-  /** A bound in place of 20·log10(value / median): at least this rise from a baseline below its floor, at least this fall to a value below its own; null for both. */
+  /** A bound in place of the level change (20·log10, or 10·log10 for a power): at least this rise from a baseline below its floor, at least this fall to a value below its own; null for both. */
   changeDb: number | null;
 }
 
@@ -48,11 +49,11 @@ export interface FloorReading {
  * floor a figure is only known to be smaller than the floor, so a change from or to it is bounded by the floor, and two
  * figures below it are equal for all anyone can measure.
  */
-export function againstFloor(value: number, valueFloor: number | null, median: number, baselineFloor: number | null): FloorReading | null {
+export function againstFloor(value: number, valueFloor: number | null, median: number, baselineFloor: number | null, level: 'amplitude' | 'power' = 'amplitude'): FloorReading | null {
   const valueBelow = valueFloor != null && Math.abs(value) < valueFloor;
   const baselineBelow = baselineFloor != null && Math.abs(median) < baselineFloor;
   if (valueBelow && baselineBelow) return { below: 'both', floor: valueFloor, changeDb: null };
-  if (baselineBelow) return { below: 'baseline', floor: baselineFloor, changeDb: value > 0 && baselineFloor > 0 ? 20 * Math.log10(value / baselineFloor) : null };
-  if (valueBelow) return { below: 'value', floor: valueFloor, changeDb: median > 0 && valueFloor > 0 ? 20 * Math.log10(valueFloor / median) : null };
+  if (baselineBelow) return { below: 'baseline', floor: baselineFloor, changeDb: value > 0 && baselineFloor > 0 ? decibelsOf(value / baselineFloor, level) : null };
+  if (valueBelow) return { below: 'value', floor: valueFloor, changeDb: median > 0 && valueFloor > 0 ? decibelsOf(valueFloor / median, level) : null };
   return null;
 }

@@ -6,8 +6,8 @@ import { nearestNames } from '../declare/nearest-names.js';
 import { UsageError } from '../declare/yaml-file.js';
 import { isoTimeMs } from '../../stages/read/iso-time.js';
 
-/** How a feature's change is put in decibels: as an amplitude ratio, as a difference of dB values, or not at all. */
-export type LevelKind = 'amplitude' | 'decibel' | null;
+/** How a feature's change is put in decibels: as an amplitude ratio (20·log10), a power ratio (10·log10), a difference of dB values, or not at all. */
+export type LevelKind = 'amplitude' | 'power' | 'decibel' | null;
 
 export interface WatchedFeature {
   name: string;
@@ -83,11 +83,13 @@ export const DEFAULT_FEATURES = ['rms', 'peak', 'crest_factor', 'kurtosis', 'ban
 
 /** Dimensionless features that are ratios of amplitudes, so that 20·log10 of their ratio is a level change. */
 const AMPLITUDE_RATIOS = new Set(['crest_factor']);
-/** Units that are not amplitudes: frequencies, times, counts of bits. */
-const NOT_LEVELS = new Set(['Hz', 's', 'bit']);
+/** Units that are not amplitudes: frequencies, times, counts of bits, shaft speeds. */
+const NOT_LEVELS = new Set(['Hz', 's', 'bit', 'rpm']);
 
+// A level in decibels ("dB", "dB re 20 µPa") changes by the difference; a mean square (a squared unit) is a power (common practice).
 export function levelKind(name: string, unit: string): LevelKind {
-  if (unit === 'dB') return 'decibel';
+  if (unit === 'dB' || unit.startsWith('dB ')) return 'decibel';
+  if (unit.endsWith('^2') || unit.endsWith('²')) return 'power';
   if (unit === '1') return AMPLITUDE_RATIOS.has(name) ? 'amplitude' : null;
   return NOT_LEVELS.has(unit) ? null : 'amplitude';
 }

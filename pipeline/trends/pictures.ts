@@ -62,7 +62,10 @@ function steadyBand(f: ScoredFeature, base: BaselineStats, o: TrendOptions): [nu
   if (!base.complete) return null;
   const m = base.median, spread = spreadOf(m, base.mad, o.spreadFloor);
   let hi = m + o.score * spread, lo = m - o.score * spread;
-  if (f.feature.level === 'amplitude' && m > 0) { hi = Math.min(hi, m * 10 ** (o.changeDb / 20)); lo = Math.max(lo, m * 10 ** (-o.changeDb / 20)); }
+  if ((f.feature.level === 'amplitude' || f.feature.level === 'power') && m > 0) {
+    const per = f.feature.level === 'power' ? 10 : 20;
+    hi = Math.min(hi, m * 10 ** (o.changeDb / per)); lo = Math.max(lo, m * 10 ** (-o.changeDb / per));
+  }
   if (f.feature.level === 'decibel') { hi = Math.min(hi, m + o.changeDb); lo = Math.max(lo, m - o.changeDb); }
   return [lo, hi];
 }

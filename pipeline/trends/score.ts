@@ -2,12 +2,15 @@
 import type { LevelKind } from './options.js';
 import { MAD_TO_SIGMA } from './robust.js';
 
-/** Level change against the baseline median: 20·log10 of the amplitude ratio (or the difference of two dB values); null when not a level or not positive. */
+/** Level change against the baseline median: 20·log10 of an amplitude ratio, 10·log10 of a power ratio, or the difference of two dB values; null when not a level or not positive. */
 export function changeDb(value: number, median: number, level: LevelKind): number | null {
   if (level === 'decibel') return value - median;
-  if (level === 'amplitude' && value > 0 && median > 0) return 20 * Math.log10(value / median);
+  if ((level === 'amplitude' || level === 'power') && value > 0 && median > 0) return decibelsOf(value / median, level);
   return null;
 }
+
+/** A ratio of two figures of one kind in decibels: 20·log10 for amplitudes, 10·log10 for powers (mean squares). */
+export const decibelsOf = (ratio: number, level: 'amplitude' | 'power'): number => (level === 'power' ? 10 : 20) * Math.log10(ratio);
 
 /** Relative size of rounding in a stored figure: values closer to the median than this are equal (float64 carries about 1e-16; sums and transforms lose some digits). */
 export const ROUNDING = 1e-9;

@@ -14,7 +14,7 @@ export const TRENDS_TABLE: TableColumn[] = [
   text('start_time_source', 'Where start_time comes from: recording (the start the file keeps, or its group declares) or modified (the file\'s modification time, the recording keeping none).'),
   { name: 'value', type: 'float64', nullable: false, unit: '[feature unit]', description: 'The feature\'s value on this recording (as in features.parquet).' },
   { name: 'baseline', type: 'float64', nullable: true, unit: '[feature unit]', description: 'Median of the feature over the channel\'s baseline recordings; null while the baseline is forming.' },
-  { name: 'change_db', type: 'float64', nullable: true, unit: 'dB', description: '20·log10(value / baseline) for level-like features (amplitudes, crest factor); null otherwise.' },
+  { name: 'change_db', type: 'float64', nullable: true, unit: 'dB', description: '20·log10(value / baseline) for level-like features (amplitudes, crest factor), 10·log10 for mean squares, the difference for figures in dB; null otherwise.' },
   { name: 'score', type: 'float64', nullable: true, unit: '1', description: 'Robust z-score (value − baseline) / max(1.4826 × MAD, spread_floor × |baseline|, 1e-9 × |baseline|) over the baseline recordings (1e-12 where that is 0).' },
   text('verdict', 'steady, changed (beyond the change thresholds or at a warn limit) or alarm (at an alarm limit), each held until the value is back inside its threshold by the deadband; null while the baseline is forming or when the channel fails the data-quality checks.', true),
   text('limit', 'The declared limit the value is at or beyond: warn or alarm; null for none.', true),
