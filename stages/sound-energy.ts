@@ -2,7 +2,8 @@
 // C-weighted sound pressure (weighted-sound.ts, the filters shared with the maxima), plus the Welch spectrum weighted by
 // what the digital filter misses of the analytic IEC 61672-1:2013 weighting, |W|² − |H|², a small and smooth correction;
 // where no filter can be made (a sample rate of 2 kHz or less), the spectrum weighted by |W|² alone. LZeq is the variance:
-// a sound pressure carries no DC (a microphone's offset is no sound), common practice.
+// a sound pressure carries no DC (a microphone's offset is no sound), common practice. LAE, the A-weighted sound exposure
+// level, is LAeq + 10·log10(T / 1 s) over the T seconds of finite samples (IEC 61672-1, ISO 1996-1): an event's whole energy.
 import { magnitude, type Section } from './dsp/butterworth.js';
 import { weightingGain, type Weighting } from './dsp/frequency-weighting.js';
 import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
@@ -26,7 +27,10 @@ const missedPower = (kind: Weighting, sos: Section[] | null, fs: number) =>
 
 export const soundEnergy: StageDefinition<SoundEnergyOptions> = {
   group: 'sound_level',
-  columns: () => FIGURES.map(([name, , description]) => ({ name, unit: LEVEL_UNIT, description })),
+  columns: () => [
+    ...FIGURES.map(([name, , description]) => ({ name, unit: LEVEL_UNIT, description })),
+    { name: 'lae', unit: LEVEL_UNIT, description: 'A-weighted sound exposure level: laeq + 10·log10(T / 1 s), T the seconds of finite samples (IEC 61672-1), the level of one second holding all of the recording\'s A-weighted sound energy.' },
+  ],
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
     const pa = pascalsPer(ctx.unit);
@@ -35,7 +39,7 @@ export const soundEnergy: StageDefinition<SoundEnergyOptions> = {
     return {
       push() {},
       finish() {
-        const out: Record<string, number | null> = Object.fromEntries(FIGURES.map(([name]) => [name, null]));
+        const out: Record<string, number | null> = { ...Object.fromEntries(FIGURES.map(([name]) => [name, null])), lae: null };
         if (pa === undefined) { if (ctx.quantity === 'sound_pressure') ctx.note(noLevels(ctx.name, ctx.unit)); return out; }
         const m = moments.moments();
         if (m.n > 0) out.lzeq = levelDb((m.m2 / m.n) * pa * pa);
@@ -47,6 +51,7 @@ export const soundEnergy: StageDefinition<SoundEnergyOptions> = {
           const missed = psd ? bandMeanSquare(psd, 0, ctx.sampleRate / 2, missedPower(kind, w ? sos : null, ctx.sampleRate)) * pa * pa : 0;
           out[name] = levelDb(filtered + missed);
         }
+        if (out.laeq != null && m.n > 0) out.lae = out.laeq + 10 * Math.log10(m.n / ctx.sampleRate);
         return out;
       },
     };

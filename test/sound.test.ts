@@ -111,6 +111,17 @@ describe('sound levels of tones (IEC 61672-1: L = 10·lg(p²/p0²), p0 = 20 µPa
     expect(Math.abs(row.lafmax - L1Pa + 19.1)).toBeLessThan(0.1);
   });
 
+  // IEC 61672-1:2013 3.16 and ISO 1996-1 (from memory): the sound exposure level is the level of the time integral of the
+  // squared A-weighted pressure over 1 s, so LAE = LAeq,T + 10·lg(T / 1 s), and a 1 Pa tone lasting 0.5 s gives 93.98 − 3.01 dB.
+  it('LAE of a 0.5 s 1 kHz burst of 1 Pa RMS in 4 s is 90.97 dB, and LAeq over the 4 s is 6.02 dB below it', async () => {
+    const fs = 48000;
+    const x = new Float64Array(fs * 4);
+    x.set(sine(fs / 2, fs, 1000, Math.SQRT2), fs);
+    const { row } = await reduce(x, fs, { sound_level: {} }, mic);
+    expect(Math.abs(row.lae - (L1Pa + 10 * Math.log10(0.5)))).toBeLessThan(0.02);
+    expect(row.lae - row.laeq).toBeCloseTo(10 * Math.log10(4), 9);
+  });
+
   // IEC 61672-1:2013 table 4, reference 4 kHz toneburst responses δref = 10·lg(1 − e^(−Tb/τ)) (values from memory):
   // Fast 200 ms −1.0 dB, 2 ms −18.0 dB, 0.25 ms −27.0 dB; Slow 200 ms −7.4 dB, 2 ms −27.0 dB.
   it.each([[0.2, -1.0, -7.4], [0.002, -18.0, -27.0], [0.00025, -27.0, null]])('a 4 kHz toneburst of %s s: LAFmax and LASmax follow the exponential step response (table 4)', async (tb, fastRef, slowRef) => {
