@@ -11,11 +11,14 @@ import { RecordingError } from './recording.js';
 export const MOST_LOST_ROWS = 2 ** 24;
 
 /**
- * The rows lost in a step of dt seconds: k − 1 where dt lies within `tolerance` of k ≥ 2 nominal steps, else 0. The
+ * The rows lost in a step of dt seconds: k − 1 where dt lies within `tolerance` of k ≥ 2 nominal steps and not within it
+ * of one, else 0. The
  * tolerance is the one a regular step is held to (a time's jitter and printing do not grow with k); `uncertainty`, how far
  * the nominal step itself may be off, is counted k times, since its error adds up over the k steps.
  */
 export function rowsLostIn(dt: number, nominal: number, tolerance: number, uncertainty = 0): number {
+  // A regular step comes first: times printed under two units a step (800 Hz to the millisecond) step by one and two units.
+  if (Math.abs(dt - nominal) <= tolerance) return 0;
   const k = Math.round(dt / nominal);
   return k >= 2 && Math.abs(dt - k * nominal) <= tolerance + k * uncertainty ? k - 1 : 0;
 }
