@@ -216,7 +216,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
 
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
-  let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, coarse = false, secondsAssumed: string | undefined;
+  let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, timeHalf = 0, coarse = false, secondsAssumed: string | undefined;
   const notes: string[] = [];
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
@@ -255,6 +255,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     // subtracting two parsed times (IEEE 754 unit roundoff). So a step of two units is a row lost at one unit a step.
     const largest = Math.max(...times.map(Math.abs));
     timeTolerance = Math.max(0.01 * timeStep, resolution * (1 - 1e-6)) + 8 * 2 ** -53 * largest;
+    timeHalf = resolution / 2 + 8 * 2 ** -53 * largest;
     lostStep = coarse ? NaN : 1 / rate.rate;
     stepUncertainty = 1 / rate.lowest - 1 / rate.highest;
     // Date-times give the start; so do POSIX seconds, as loggers print them.
@@ -279,7 +280,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     let lineNo = 0, k = 0, shortRows = 0, firstShort = 0;
     const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
-    const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows);
+    const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows, timeHalf);
     // In a file without a final line end each data line is held until the next arrives, so the last can be judged (and left out) before it is read.
     let held: { raw: string; line: number } | null = null, before: string[] | null = null;
     const source = unended ? withEnd(lineReader) : lineReader;
