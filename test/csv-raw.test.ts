@@ -291,22 +291,22 @@ describe('a CSV file cut short (a copy or capture stopped part-way)', () => {
     expect(rec.notes).toEqual([]);
   });
 
-  it('says which value was cut mid-number: printed shorter than the same column on the line before', async () => {
+  it('leaves out a last line whose value was cut mid-number: printed shorter than the same column on the line before', async () => {
     // The last line whose value has six decimals, cut three digits short.
     const at = lines.map((l, i) => (i > 1 && /,-?0\.\d{6}$/.test(l) && !/0{6}$/.test(l) ? i : -1)).reduce((a, b) => Math.max(a, b));
     const cut = [...lines.slice(0, at), lines[at].slice(0, -3)].join('\n');
     const { rec, channels } = await readAll(write('cut-value.csv', cut));
-    const [time, value] = lines[at].split(',');
-    expect(channels[0].length).toBe(at);
-    expect(channels[0][at - 1]).toBe(Number(value.slice(0, -3)));
-    expect(rec.notes).toEqual([`line ${at + 1}, the last, has no line end and may be cut short (a copy or capture stopped part-way): its "v" value "${value.slice(0, -3)}" is printed shorter than the line before's "${lines[at - 1].split(',')[1]}"; its values are read as they stand: check the file against its source, or remove that line`]);
-    expect(time).toBe(lines[at].split(',')[0]);
+    const [, value] = lines[at].split(',');
+    expect(channels[0].length).toBe(at - 1);
+    expect(channels[0][at - 2]).toBe(Number(lines[at - 1].split(',')[1]));
+    expect(rec.notes).toEqual([`line ${at + 1}, the last ("${lines[at].slice(0, -3)}"), has no line end and shows a cut (a copy or capture stopped part-way): its "v" value "${value.slice(0, -3)}" is printed shorter than the line before's "${lines[at - 1].split(',')[1]}"; it is left out of the figures: if it is whole, end the file with a line end`]);
   });
 
-  it('says when the last time, cut mid-digit, steps back', async () => {
+  it('leaves out a last line whose time, cut mid-digit, steps back', async () => {
     const last = lines[lines.length - 1], before = lines[lines.length - 2].split(',')[0];
     const cut = [...lines.slice(0, -1), last.slice(0, 4)].join('\n'); // "3.99" of "3.999,…"
-    const { rec } = await readAll(write('cut-time.csv', cut));
-    expect(rec.notes).toContain(`line ${lines.length}, the last, has no line end and may be cut short (a copy or capture stopped part-way): its time ${last.slice(0, 4)} steps back from ${before} on the line before, and it holds 1 of the header's 2 fields; its values are read as they stand: check the file against its source, or remove that line`);
+    const { rec, channels } = await readAll(write('cut-time.csv', cut));
+    expect(channels[0].length).toBe(lines.length - 2);
+    expect(rec.notes).toContain(`line ${lines.length}, the last ("${last.slice(0, 4)}"), has no line end and shows a cut (a copy or capture stopped part-way): its time ${last.slice(0, 4)} steps back from ${before} on the line before, and it holds 1 of the header's 2 fields; it is left out of the figures: if it is whole, end the file with a line end`);
   });
 });

@@ -5,6 +5,7 @@ import { missingOf } from '../fused/missing.js';
 import { spectrumOf } from '../spectrum.js';
 import { zeroRunsOf } from '../fused/zero-runs.js';
 import { pct, secs, worst, type QualityThresholds, type Severity } from './flag.js';
+import { widestStep } from '../read/time-steps.js';
 
 /** How every figure treats missing samples (README, Missing samples), said with the flag so that it can be trusted. */
 const TREATMENT = 'the figures are of the finite samples: statistics, window rows, time weighting and MTVV skip the missing ones, the spectra take only segments free of them (or, where none is whole, the longest stretch free of them), the envelope leaves out the filter\'s settling around each gap';
@@ -60,7 +61,7 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
           why.push('zeros count as samples: they pull RMS, peak and the window figures down');
         }
         if (steps && steps.irregular > 0) {
-          problems.push(`${steps.irregular} irregular time steps, the widest ${secs(steps.widest_s)} (nominal ${secs(steps.nominal_s)}) ending at t = ${secs(steps.widest_at_s)}`);
+          problems.push(`${steps.irregular} irregular time steps, ${widestStep(steps, secs)}`);
           raise('warn');
           why.push('uneven steps distort the spectrum');
         }

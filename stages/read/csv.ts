@@ -6,8 +6,10 @@ import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs } from './iso-time.js';
-import { unendedLineNote, type LastLine } from './unended-line.js';
-import { keepSteps, MAX_TIME_S, startOfTimes, stepCounter, timeRate } from './time-steps.js';
+import { unendedLineNote } from './unended-line.js';
+import { firstNul, paddingNote, trailingNuls } from './nul-padding.js';
+import { keepSteps, MAX_TIME_S, offGrid, printedRate, startOfTimes, stepCounter } from './time-steps.js';
+import { printedUnits } from './printed-time.js';
 import { lostRowCounter, lostRowsNote, MOST_LOST_ROWS } from './lost-rows.js';
 
 /** A time column's header without a unit: its numbers are read as seconds. */
@@ -113,6 +115,32 @@ export function unitHint(ratio: number, column: string): string {
   return unit ? `: the declared rate is ${unit === 'ms' ? 'a thousand' : unit === 'us' ? 'a million' : 'a billion'} times the column's, so "${column}" may hold ${unit === 'ms' ? 'milliseconds' : unit === 'us' ? 'microseconds' : 'nanoseconds'}: name it time_${unit} in the header to read it so` : '';
 }
 
+/** A NUL byte within a file's text, at byte `at` on line `line`: damage, not padding, which only ends a file. */
+const nulInText = (at: number, line: number) =>
+  new RecordingError(`byte ${at} (line ${line}): a NUL byte within the text, which a text file never holds: the file is damaged (NUL bytes only at its end are padding, and left out); copy it again from the logger`);
+
+/** The line a byte lies on, counting LF, CRLF or CR line ends before it. */
+const lineAt = (bytes: Uint8Array, at: number) => {
+  let line = 1;
+  for (let i = 0; i < at; i++) if (bytes[i] === 0x0a || (bytes[i] === 0x0d && bytes[i + 1] !== 0x0a)) line++;
+  return line;
+};
+
+/** Marks the end of a file's lines. */
+const END = Symbol('end');
+
+/** The lines, then END: the last line is known as such only once the lines have ended. */
+async function* withEnd(lines: AsyncIterable<string>): AsyncGenerator<string | typeof END> {
+  for await (const line of lines) yield line;
+  yield END;
+}
+
+/** The offset of the first NUL byte in a file's text (its first `end` bytes). */
+async function nulOffset(path: string, end: number): Promise<number> {
+  const fh = await open(path, 'r');
+  try { return await firstNul(fh, end); } finally { await fh.close(); }
+}
+
 /** A time cell that is neither seconds nor an ISO 8601 date-time: its samples cannot be placed, so the file is refused. */
 const unreadableTime = (line: number, cell: string) =>
   new RecordingError(`line ${line}: the time "${cell.trim()}" is neither a number (seconds) nor an ISO 8601 date-time; correct that line or remove it`);
@@ -131,16 +159,23 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const fh = await open(path, 'r');
   const probe = Buffer.alloc(PROBE_BYTES);
   const { bytesRead } = await fh.read(probe, 0, PROBE_BYTES, 0);
-  // Whether the file ends without a line end: its last line may have been cut short.
+  // Trailing NUL bytes are a pre-allocated file's padding: the text ends before them.
   const size = (await fh.stat()).size;
-  const lastByte = size === 0 ? null : size <= bytesRead ? probe[size - 1] : (await fh.read(Buffer.alloc(1), 0, 1, size - 1)).buffer[0];
+  const padding = await trailingNuls(fh, size), end = size - padding, inProbe = Math.min(bytesRead, end);
+  if (size > 0 && end === 0) { await fh.close(); throw new RecordingError(`byte 0: the file holds ${size} NUL bytes and no text: a logger sized it and wrote nothing; check the logger, then recapture or remove the file`); }
+  // A NUL within the text is damage (UTF-8 text holds none); one in the first line is UTF-16 or UTF-32 text, named as such.
+  const firstEnd = probe.subarray(0, inProbe).indexOf(0x0a), nul = probe.subarray(0, inProbe).indexOf(0);
+  if (nul >= 0 && firstEnd >= 0 && nul > firstEnd) { await fh.close(); throw nulInText(nul, lineAt(probe, nul)); }
+  // Whether the text ends without a line end: its last line may have been cut short.
+  const lastByte = end === 0 ? null : end <= bytesRead ? probe[end - 1] : (await fh.read(Buffer.alloc(1), 0, 1, end - 1)).buffer[0];
   await fh.close();
   const unended = lastByte != null && lastByte !== 0x0a && lastByte !== 0x0d;
-  refuseNotUtf8(probe.subarray(0, bytesRead));
-  const text = probe.toString('utf8', 0, bytesRead).replace(/^\uFEFF/, '');
+  refuseNotUtf8(probe.subarray(0, inProbe));
+  const text = probe.toString('utf8', 0, inProbe).replace(/^\uFEFF/, '');
   // Lines end in LF, CRLF or CR alone (as readline splits them below).
   const lines = text.split(/\r\n|\r|\n/);
-  if (bytesRead === PROBE_BYTES) lines.pop(); // the last line may be cut by the probe
+  const whole = inProbe === end; // the probe holds the whole text
+  if (!whole) lines.pop(); // the last line may be cut by the probe
   const headerIndex = lines.findIndex(isData);
   if (headerIndex < 0) throw new RecordingError('line 1: no header row found; the first non-comment line must name the columns');
   const headerLine = headerIndex + 1;
@@ -148,6 +183,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const names = splitFields(lines[headerIndex], delimiter).map((s) => s.trim());
   const probeLines = lines.map((l, i) => ({ l, no: i + 1 })).slice(headerIndex + 1).filter(({ l }) => isData(l)).slice(0, PROBE_ROWS);
   const probeRows = probeLines.map(({ l }) => splitFields(l, delimiter));
+  if (whole && probeRows.length === 0) throw new RecordingError(`line ${headerLine}: the file holds no samples: its header and no rows after it (the capture stopped before its first row); check the logger, then recapture or remove the file`);
   // A delimiter ending every line (time,a,b,) leaves an unnamed last column of empty cells: no channel.
   const fields = names.length;
   while (names.length > 1 && names[names.length - 1] === '' && probeRows.every((r) => (r[names.length - 1] ?? '').trim() === '')) names.pop();
@@ -159,18 +195,32 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     throw new RecordingError(`line ${headerLine}: column "${names[0]}" is a time column in ${unread}, a unit quern does not read; quern reads time in ${TIME_UNITS_READ} named in the header (time [s], time_ms, timestamp_us) or as ISO 8601 date-times: export the times in one of those (seconds: time [s]), or remove the column and set ${sampleRateWhere}`);
   }
   const timeColumn = timeOf ? 0 : -1, perSecond = timeOf?.perSecond ?? 1;
+  /** The note on an unended last line that shows a cut, which is then left out; null for one read as whole (RFC 4180, 2.2). */
+  const cutNote = (text: string, line: number, cells: string[], before: string[] | null, comma: boolean) => unendedLineNote({
+    line, text, cells, before,
+    time: timeColumn === 0 ? timeValue(cells[0] ?? '', comma, perSecond) : NaN,
+    timeBefore: timeColumn === 0 && before ? timeValue(before[0] ?? '', comma, perSecond) : NaN,
+  }, names, timeColumn);
   const channelNames = names.filter((_, i) => i !== timeColumn);
   if (channelNames.length === 0) throw new RecordingError(`line ${headerLine}: the header names no data columns`);
   checkChannelCount(channelNames.length, `line ${headerLine}: header`);
   chunkFrames = boundedChunkFrames(chunkFrames, channelNames.length);
   // A semicolon or tab file whose cells hold commas writes decimals with a comma.
   const decimalComma = delimiter !== ',' && probeRows.some((r) => r.some((c) => /^\s*-?\d+,\d+/.test(c)));
+  // The probe's rows leave out a last line the reading leaves out (the note is the reading's).
+  if (whole && unended && probeLines.length > 0 && probeLines.length < PROBE_ROWS && probeLines[probeLines.length - 1].no === lines.length) {
+    const n = probeRows.length;
+    if (cutNote(probeLines[n - 1].l, probeLines[n - 1].no, probeRows[n - 1], n > 1 ? probeRows[n - 2] : null, decimalComma) != null) { probeRows.pop(); probeLines.pop(); }
+    if (probeRows.length === 0) throw new RecordingError(`line ${probeLines.length + headerLine + 1}: the file holds no samples: its one row after the header has no line end and shows a cut (a copy or capture stopped part-way); copy the file again once the logger has written it, or end its line if it is whole`);
+  }
 
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
-  let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, secondsAssumed: string | undefined;
+  let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, timeHalf = 0, coarse = false, secondsAssumed: string | undefined;
+  const notes: string[] = [];
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
+    if (times.length === 1 && Number.isFinite(times[0])) throw new RecordingError(`line ${probeLines[0].no}: the file holds one row, and no sample rate follows from one time; declare ${sampleRateWhere} and remove the time column, or export more rows`);
     if (times.length < 2 || !Number.isFinite(times[0])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
     }
@@ -179,62 +229,91 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, name the column time_ms or time_us${perSecond === 1 ? '' : ` (it is read in ${names[0]}'s unit now)`}, export seconds or date-times, or drop the column and declare sample_rate`);
     const bad = times.findIndex((t) => !Number.isFinite(t));
     if (bad >= 0) throw unreadableTime(probeLines[bad].no, probeRows[bad][0] ?? '');
-    // The printed times' resolution: steps within it of each other are the same step, rounded.
+    // The printed times' resolution, and the times in whole units of it: steps are compared exactly, in those units.
     const printed = Math.max(...probeRows.map((r) => decimals(r[0] ?? '')));
     const resolution = 10 ** -printed / perSecond;
-    // The nominal step over the probe rows: a dropout among them does not pull it, and rounding of printed times averages out.
-    const rate = timeRate(times, resolution);
+    const units = printedUnits(probeRows.map((r) => r[0] ?? ''), printed) ?? Float64Array.from(times, (t) => Math.round((t - times[0]) / resolution));
+    const rate = printedRate(units, resolution);
     timeStep = rate.step;
-    // Times printed more coarsely than they step repeat, and a lost sample among them cannot be seen: refused, not guessed.
-    const repeat = times.findIndex((t, i) => i > 0 && t === times[i - 1]);
-    if (timeStep > 0 && timeStep < resolution * (1 - 1e-9) && repeat > 0) {
-      throw new RecordingError(`line ${probeLines[repeat].no}: the time ${(probeRows[repeat][0] ?? '').trim()} repeats the line before: printed to ${printed} decimals, the time column cannot tell its samples apart (about ${(timeStep * 1e3).toPrecision(3)} ms); export the times with more decimals, or remove the time column and set ${sampleRateWhere}`);
-    }
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
-    timeTolerance = Math.max(0.01 * timeStep, resolution);
+    // Times printed more coarsely than they step repeat, and a lost sample among them cannot be seen: refused unless a rate
+    // is declared, which the printed times are then held to (each within half a unit of its place on the declared grid).
+    const repeat = times.findIndex((t, i) => i > 0 && t === times[i - 1]);
+    coarse = rate.coarse && repeat > 0;
+    if (coarse && declaredSampleRate == null) {
+      throw new RecordingError(`line ${probeLines[repeat].no}: the time ${(probeRows[repeat][0] ?? '').trim()} repeats the line before: printed to ${printed} decimals, the time column cannot tell its samples apart (about ${(timeStep * 1e3).toPrecision(3)} ms); export the times with more decimals, or remove the time column and set ${sampleRateWhere} (or set it and keep the column: its times are then held to that rate)`);
+    }
+    if (coarse) {
+      const off = offGrid(units, 1 / (declaredSampleRate! * resolution));
+      if (off >= 0) throw new RecordingError(`line ${probeLines[off].no}: the time ${(probeRows[off][0] ?? '').trim()} lies more than half a printed unit (${printed} decimals) from where a row at the declared ${declaredSampleRate} Hz would be: rows were lost or the rate is not ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
+      notes.push(`the time column is printed to ${printed} decimals, coarser than its step at the declared ${declaredSampleRate} Hz (rows share a printed time): its first ${times.length} times agree with that rate, but rows lost later cannot be seen; export the times with more decimals to have them checked`);
+    }
     // Rows lost are counted in steps of the rate as quoted (25600 Hz, not its estimate's last digits, which a gap of millions
-    // of steps multiplies), give or take the span of steps the printed times allow.
-    lostStep = 1 / rate.rate;
+    // of steps multiplies), give or take the span of steps the printed times allow; times printed coarser than their step show none.
+    // A regular step rounded to the printed unit lies less than one unit from the nominal (a full unit only where both its
+    // times are ties of rounding, times offset half a unit from a whole step), or within 1 % of it; plus the error of
+    // subtracting two parsed times (IEEE 754 unit roundoff). So a step of two units is a row lost at one unit a step.
+    const largest = Math.max(...times.map(Math.abs));
+    timeTolerance = Math.max(0.01 * timeStep, resolution * (1 - 1e-6)) + 8 * 2 ** -53 * largest;
+    timeHalf = resolution / 2 + 8 * 2 ** -53 * largest;
+    lostStep = coarse ? NaN : 1 / rate.rate;
     stepUncertainty = 1 / rate.lowest - 1 / rate.highest;
     // Date-times give the start; so do POSIX seconds, as loggers print them.
     const numeric = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim());
     startTime = numeric ? startOfTimes(times[0]) : new Date(times[0] * 1000);
     // Held against the declaration at 0.5 % beyond the rates the printed times allow.
-    if (declaredSampleRate != null && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
+    if (declaredSampleRate != null && !coarse && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
       throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export${perSecond === 1 ? unitHint(declaredSampleRate / rate.rate, names[0]) : ''}`);
     }
     sampleRate = declaredSampleRate ?? rate.rate;
+    if (coarse) { timeStep = 1 / declaredSampleRate!; timeTolerance = resolution * (1 + 1e-6) + 8 * 2 ** -53 * largest; }
     if (!timeOf!.stated && numeric) secondsAssumed = names[0];
   } else if (declaredSampleRate == null) {
     throw new RecordingError(`line ${headerLine}: no time column (first column "${names[0]}") and no sample rate given; set ${sampleRateWhere} or export the time column`);
   }
 
-  const notes: string[] = [];
   const width = names.length;
   async function* chunks(): AsyncGenerator<Float64Array[]> {
     const out = channelNames.map(() => new Float64Array(chunkFrames));
-    const lineReader = createInterface({ input: createReadStream(path, { encoding: 'utf8' }), crlfDelay: Infinity });
+    // The text alone: trailing NUL padding is left out.
+    const lineReader = createInterface({ input: createReadStream(path, { encoding: 'utf8', end: end - 1 }), crlfDelay: Infinity });
     let lineNo = 0, k = 0, shortRows = 0, firstShort = 0;
     const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
-    const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows);
-    let last = null as LastLine | null;
+    const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows, timeHalf);
+    // In a file without a final line end each data line is held until the next arrives, so the last can be judged (and left out) before it is read.
+    let held: { raw: string; line: number } | null = null, before: string[] | null = null;
+    const source = unended ? withEnd(lineReader) : lineReader;
     try {
-      for await (const raw of lineReader) {
-        lineNo++;
-        if (lineNo <= headerLine || !isData(raw)) continue;
+      for await (const next of source) {
+        let raw: string, at: number;
+        if (next === END) {
+          if (!held) break;
+          ({ raw, line: at } = held);
+          const cut = cutNote(raw, at, splitFields(raw.replace(/^\uFEFF/, ''), delimiter), before, decimalComma);
+          if (cut) { notes.push(cut); break; }
+        } else {
+          lineNo++;
+          if (lineNo <= headerLine || !isData(next)) continue;
+          if (next.includes('\0')) throw nulInText(await nulOffset(path, end), lineNo);
+          if (!unended) { raw = next; at = lineNo; }
+          else {
+            const was = held;
+            held = { raw: next, line: lineNo };
+            if (!was) continue;
+            ({ raw, line: at } = was);
+          }
+        }
         const cells = splitFields(raw.replace(/^\uFEFF/, ''), delimiter);
-        // Only a file without a final line end needs its last line kept against the one before.
-        if (unended) last = { line: lineNo, cells, before: last?.cells ?? null, time: NaN, timeBefore: last?.time ?? NaN };
+        if (unended) before = cells;
         // A row may end with or without the delimiter of an unnamed empty last column.
-        if ((cells.length < width || cells.length > fields) && shortRows++ === 0) firstShort = lineNo;
-        for (let c = width; c < cells.length && c < fields; c++) if (cells[c].trim() !== '' && beyond.count++ === 0) beyond.line = lineNo;
+        if ((cells.length < width || cells.length > fields) && shortRows++ === 0) firstShort = at;
+        for (let c = width; c < cells.length && c < fields; c++) if (cells[c].trim() !== '' && beyond.count++ === 0) beyond.line = at;
         if (timeColumn === 0) {
           const t = timeValue(cells[0] ?? '', decimalComma, perSecond);
-          if (!Number.isFinite(t)) throw unreadableTime(lineNo, cells[0] ?? '');
-          const lost = lostRows.before(t, (cells[0] ?? '').trim(), lineNo);
+          if (!Number.isFinite(t)) throw unreadableTime(at, cells[0] ?? '');
+          const lost = lostRows.before(t, (cells[0] ?? '').trim(), at);
           steps.add(t, lost > 0);
-          if (last) last.time = t;
           // The rows a logger dropped, as missing samples in their places, a chunk at a time however long the gap.
           for (let left = lost; left > 0;) {
             const m = Math.min(left, chunkFrames - k);
@@ -247,7 +326,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
           if (c === timeColumn) continue;
           const cell = (cells[c] ?? '').trim();
           const v = sampleValue(cell, decimalComma);
-          if (Number.isNaN(v) && !isMissingMark(cell) && notNumbers.count++ === 0) Object.assign(notNumbers, { line: lineNo, column: names[c], cell });
+          if (Number.isNaN(v) && !isMissingMark(cell) && notNumbers.count++ === 0) Object.assign(notNumbers, { line: at, column: names[c], cell });
           out[j++][k] = v;
         }
         if (++k === chunkFrames) { yield out; k = 0; }
@@ -258,8 +337,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     }
     if (timeColumn === 0) keepSteps(recording, steps);
     if (timeColumn === 0 && lostRows.result().rows > 0) notes.push(lostRowsNote(lostRows.result()));
-    const cut = last && last.line === lineNo ? unendedLineNote(last, names, timeColumn) : null;
-    if (cut) notes.push(cut);
+    if (padding > 0) notes.push(paddingNote(padding));
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
     if (notNumbers.count > 0) notes.push(`${notNumbers.count} cells are not numbers (first at line ${notNumbers.line}, column "${notNumbers.column}": "${notNumbers.cell}"); they count as missing samples`);
     if (beyond.count > 0) notes.push(`${beyond.count} rows hold values in the unnamed last column, empty in the first rows and so not read (first at line ${beyond.line}); name the column in the header to read it`);

@@ -11,11 +11,14 @@ import { RecordingError } from './recording.js';
 export const MOST_LOST_ROWS = 2 ** 24;
 
 /**
- * The rows lost in a step of dt seconds: k − 1 where dt lies within `tolerance` of k ≥ 2 nominal steps, else 0. The
+ * The rows lost in a step of dt seconds: k − 1 where dt lies within `tolerance` of k ≥ 2 nominal steps and not within it
+ * of one, else 0. The
  * tolerance is the one a regular step is held to (a time's jitter and printing do not grow with k); `uncertainty`, how far
  * the nominal step itself may be off, is counted k times, since its error adds up over the k steps.
  */
 export function rowsLostIn(dt: number, nominal: number, tolerance: number, uncertainty = 0): number {
+  // A regular step comes first: times printed under two units a step (800 Hz to the millisecond) step by one and two units.
+  if (Math.abs(dt - nominal) <= tolerance) return 0;
   const k = Math.round(dt / nominal);
   return k >= 2 && Math.abs(dt - k * nominal) <= tolerance + k * uncertainty ? k - 1 : 0;
 }
@@ -27,13 +30,29 @@ export interface LostRows { rows: number; gaps: number; largest: number; from: s
  * Counts the rows lost before each time as times arrive one by one, in file order; refuses a gap of more than `most` rows,
  * naming the lines and times on both sides.
  */
-export function lostRowCounter(nominal: number, tolerance: number, uncertainty = 0, most = MOST_LOST_ROWS) {
+export function lostRowCounter(nominal: number, tolerance: number, uncertainty = 0, most = MOST_LOST_ROWS, half = 0) {
   let previous = NaN, previousText = '', previousLine = 0;
+  // Where the unrounded time of the row before may lie: within `half` (half the printed unit) of its printed time, narrowed
+  // by the rows before it on their grid (a set-membership estimate, Schweppe 1968).
+  let low = NaN, high = NaN;
   const found: LostRows = { rows: 0, gaps: 0, largest: 0, from: '', to: '', fromLine: 0, toLine: 0, nominal_s: nominal };
+  /** Whether k steps on from the row before reach t's printed interval; the overlap, or null. */
+  const reach = (t: number, k: number) => {
+    const from = Math.max(low + k * (nominal - uncertainty), t - half), to = Math.min(high + k * (nominal + uncertainty), t + half);
+    return from <= to ? [from, to] as const : null;
+  };
   return {
     /** The rows lost between the time before and `t`, printed `text` on line `line`. */
     before(t: number, text: string, line: number): number {
-      const lost = Number.isFinite(previous) ? rowsLostIn(t - previous, nominal, tolerance, uncertainty) : 0;
+      let lost = Number.isFinite(previous) ? rowsLostIn(t - previous, nominal, tolerance, uncertainty) : 0;
+      // Under two printed units a step, a step's printed length fits more than one count of steps (800 Hz to the
+      // millisecond: 2 ms is one step or two): the grid the rows before lie on tells them apart.
+      if (half > 0 && Number.isFinite(previous) && nominal < 4 * half) {
+        const fits = [lost, lost + 1, lost + 2].filter((k) => k >= 1 && Math.abs(t - previous - k * nominal) <= tolerance + k * uncertainty && reach(t, k));
+        if (fits.length === 1) lost = fits[0] - 1;
+      }
+      const on = Number.isFinite(previous) && half > 0 ? reach(t, lost + 1) : null;
+      [low, high] = on ?? [t - half, t + half];
       if (lost > most) {
         throw new RecordingError(`line ${line}: the time column jumps from ${previousText} (line ${previousLine}) to ${text}, ${lost} rows lost at the nominal step of ${(nominal * 1e3).toPrecision(4)} ms, more than the ${most} quern reads as missing samples in one gap: a logger stopped and started again, or its clock set, within one file; split the file before line ${line} and reduce each part as its own recording`);
       }

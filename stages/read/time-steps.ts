@@ -2,15 +2,26 @@
 // the ones off by more than the tolerance are counted, and the widest kept, for the notes and the dropout flag.
 import { RecordingError } from './recording.js';
 
-export interface TimeSteps { irregular: number; widest_s: number; widest_at_s: number; nominal_s: number }
+/** `unmeasured`: the irregular steps to a time that is no number, which have no width. */
+export interface TimeSteps { irregular: number; unmeasured?: number; widest_s: number; widest_at_s: number; nominal_s: number }
+
+/** The widest irregular step and the nominal in words, or the times that are no number where no step was measured. */
+export const widestStep = (s: TimeSteps, seconds: (x: number) => string) => {
+  const none = s.unmeasured ? `${s.unmeasured} time${s.unmeasured === 1 ? ' is' : 's are'} no number` : '';
+  return Number.isFinite(s.widest_at_s)
+    ? `the widest ${seconds(s.widest_s)} (nominal ${seconds(s.nominal_s)}) ending at t = ${seconds(s.widest_at_s)}${none ? `; ${none}` : ''}`
+    : `${none} (nominal ${seconds(s.nominal_s)})`;
+};
 
 /** Counts irregular steps as times arrive one by one, in order. */
 export function stepCounter(nominal: number, tolerance: number) {
-  let previous = NaN, irregular = 0, widest = 0, widestAt = NaN, times = 0;
+  let previous = NaN, irregular = 0, unmeasured = 0, widest = 0, widestAt = NaN, times = 0;
   return {
     /** `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step. */
     add(t: number, lost = false): void {
       times++;
+      // A time that is no number (NaN in a time vector) is a step that cannot be measured: counted, never the widest.
+      if (!Number.isFinite(t)) { if (times > 1) { irregular++; unmeasured++; } previous = NaN; return; }
       if (Number.isFinite(previous) && !lost) {
         const dt = t - previous;
         if (!(Math.abs(dt - nominal) <= tolerance)) {
@@ -22,13 +33,13 @@ export function stepCounter(nominal: number, tolerance: number) {
     },
     /** Steps seen so far: one fewer than the times (a time that is no number still takes its place). */
     get steps() { return Math.max(0, times - 1); },
-    result: (): TimeSteps => ({ irregular, widest_s: widest, widest_at_s: widestAt, nominal_s: nominal }),
+    result: (): TimeSteps => ({ irregular, unmeasured, widest_s: widest, widest_at_s: widestAt, nominal_s: nominal }),
   };
 }
 
 /** The note a recording carries when its time values stepped irregularly. */
 export const irregularNote = (s: TimeSteps, steps: number) =>
-  `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s; samples were taken as evenly spaced`;
+  `time steps irregular: ${s.irregular} of ${steps} steps differ from the nominal ${(s.nominal_s * 1e3).toPrecision(4)} ms; ${Number.isFinite(s.widest_at_s) ? `the widest is ${(s.widest_s * 1e3).toPrecision(4)} ms, ending at t = ${s.widest_at_s} s${s.unmeasured ? `, and ${s.unmeasured} times are no number` : ''}` : `${s.unmeasured} times are no number`}; samples were taken as evenly spaced`;
 
 /** A nominal step and the rate it gives, with the lowest and highest rates the times allow, given how precisely they are held. */
 export interface TimeRate { step: number; rate: number; lowest: number; highest: number }
@@ -38,34 +49,85 @@ export interface TimeRate { step: number; rate: number; lowest: number; highest:
  * are regular; the rest are dropouts and do not pull it (a median-centred trimmed estimate, common practice). The step is
  * the span of each run of regular steps, summed, over their count: times printed to a fixed resolution step by two values
  * one last digit apart (0.003 and 0.004 s at 300 Hz), and only the ends of a run carry its rounding, not each step.
- * `resolution` is the times' printed resolution (0 where they are held as binary numbers).
+ * `resolution` is the times' printed resolution (0 where they are held as binary numbers): printed times are counted in
+ * whole units of it (`printedRate`).
  */
 export function timeRate(times: ArrayLike<number>, resolution = 0): TimeRate {
   const n = times.length;
+  if (resolution > 0 && n > 0) return printedRate(Float64Array.from({ length: n }, (_, i) => Math.round((times[i] - times[0]) / resolution)), resolution);
   const steps = Float64Array.from({ length: Math.max(0, n - 1) }, (_, i) => times[i + 1] - times[i]);
   const median = medianOf(steps);
   let largest = 0;
   for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(times[i]));
-  // How far one time may lie from the true one: half the printed resolution, and the rounding of a double (or of a float,
-  // where every time fits one) in parsing and subtracting (IEEE 754 unit roundoff, 2^-53 and 2^-24).
+  // How far one time may lie from the true one: the rounding of a double (or of a float, where every time fits one) in
+  // parsing and subtracting (IEEE 754 unit roundoff, 2^-53 and 2^-24).
   const stored = Array.prototype.every.call(times, (t: number) => Math.fround(t) === t) ? 2 ** -24 : 2 ** -53;
-  const rounding = 4 * stored * largest, error = resolution / 2 + rounding;
-  const near = Math.max(0.01 * Math.abs(median), resolution) + 2 * rounding;
-  let { span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near);
-  // Times printed to their step (1 kHz to the millisecond) keep a skipped row's step within the resolution of the median:
-  // one nearer two steps than one is rows lost, and leaves the runs (times printed coarser, 0.1 and 0.2 ms at 7 kHz, keep theirs).
-  const first = span / count;
-  if (count > 0 && first >= resolution * (1 - 1e-9) && steps.some((d) => Math.abs(d - median) <= near && d >= 1.5 * first)) {
-    ({ span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near && d < 1.5 * first));
-  }
+  const rounding = 4 * stored * largest;
+  const near = 0.01 * Math.abs(median) + 2 * rounding;
+  const { span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near);
   if (count === 0) return { step: median, rate: 1 / median, lowest: 1 / median, highest: 1 / median };
   // Each run's span is off by at most one time's error at either end.
-  const step = span / count, reach = (2 * error * runs) / count;
+  return quoted(span / count, (2 * rounding * runs) / count);
+}
+
+/** A rate from times printed to a fixed resolution, and whether they are printed more coarsely than they step (times repeat). */
+export interface PrintedRate extends TimeRate { coarse: boolean }
+
+/**
+ * The nominal step of times printed to a fixed resolution, given as whole units of it from the first time (exact integers,
+ * `printed-time.ts`), and `unit` seconds a unit. A regular step rounded to the resolution prints as the whole units just
+ * below or above it, and a time on a tie of rounding one unit either way, so steps within one unit of the nominal (or 1 %
+ * of it, where that is more) are regular; the step is the span of their runs over their count (a trimmed mean, common
+ * practice), exact to one unit at each run's ends. A step under one unit (several rows share a printed time) is `coarse`.
+ */
+export function printedRate(units: ArrayLike<number>, unit: number): PrintedRate {
+  const n = units.length;
+  const steps = Float64Array.from({ length: Math.max(0, n - 1) }, (_, i) => units[i + 1] - units[i]);
+  const median = medianOf(steps);
+  const within = (q: number) => (d: number) => Math.abs(d - q) <= Math.max(1, 0.01 * q);
+  let { span, count } = regularRuns(units, steps, within(median));
+  if (count === 0) return { ...quoted(median * unit, 0), coarse: median < 1 };
+  let q = span / count;
+  // Rows lost among steps of one unit (1 kHz to the millisecond) make steps of two, which the first pass kept; a step
+  // between one and two units (800 Hz to the millisecond) prints as one and two units in turn, the longer ones the step's
+  // fraction above one unit of all steps. Fewer than 1 % longer steps are rows lost (our choice: rates within 1 % below
+  // one unit a step are read as that unit, with rows lost).
+  const longer = steps.filter((d) => within(median)(d) && d >= 1.5 * q).length;
+  const lost = q >= 1 && longer > 0 && longer < 0.01 * count;
+  if (lost) ({ span, count } = regularRuns(units, steps, (d) => within(median)(d) && d < 1.5 * q));
+  q = span / count;
+  // Held again about the step itself: within one unit of it, the rows lost left out.
+  const again = regularRuns(units, steps, (d) => within(q)(d) && !(lost && d >= 1.5 * q));
+  if (again.count > 0) q = again.span / again.count;
+  const runs = again.count > 0 ? again.runs : 1, kept = again.count > 0 ? again.count : count;
+  // Each run's ends are off by at most half a unit each.
+  return { ...quoted(q * unit, (runs * unit) / kept), coarse: q < 1 };
+}
+
+/** A step and how far it may be off, as a rate quoted to the digits they support. */
+function quoted(step: number, reach: number): TimeRate {
   const lowest = 1 / (step + reach), highest = step > reach ? 1 / (step - reach) : Infinity;
   // Quoted to no finer than a part in 10^9, beyond any sampling clock's accuracy (crystals hold some 10^-5, common practice):
   // times summed step by step in doubles (t += 0.01) carry more than their last digit's rounding, and read 100 Hz, not 99.999999999999.
   const rate = 1 / step;
   return { step, rate: shortestWithin(rate, Math.min(lowest, rate * (1 - CLOCK_DIGITS)), Math.max(highest, rate * (1 + CLOCK_DIGITS))), lowest, highest };
+}
+
+/**
+ * Whether times printed to a fixed resolution (units from the first, as `printedRate` takes them) lie on the grid of a
+ * declared step: each within half a unit of start + k steps for the k-th row, whatever the start, so the spread of
+ * u_k − k·step spans at most one unit (and the 0.5 % a declared rate is allowed, over the span). Returns the row that
+ * leaves the grid first, or −1.
+ */
+export function offGrid(units: ArrayLike<number>, stepUnits: number, slack = 0.005): number {
+  let low = Infinity, high = -Infinity;
+  const span = units.length ? units[units.length - 1] - units[0] : 0;
+  for (let k = 0; k < units.length; k++) {
+    const e = units[k] - k * stepUnits;
+    low = Math.min(low, e); high = Math.max(high, e);
+    if (high - low > 1 + slack * Math.abs(span) + 1e-9) return k;
+  }
+  return -1;
 }
 
 /** The runs of steps `regular` keeps: their spans summed, their steps counted, and how many runs. */
