@@ -89,7 +89,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
 }
 
 /** Flag names in report order. */
-export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'offset', 'spikes', 'declaration', 'pulse_train'] as const;
+export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'offset', 'spikes', 'declaration', 'pulse_train', 'velocity_low_edge'] as const;
 
 export function featureColumns(spec: ReductionSpec): ColumnSpec[] {
   return activeStages(spec).flatMap((s) => s.definition.columns(s.options));

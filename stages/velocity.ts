@@ -1,7 +1,9 @@
 // Velocity RMS of acceleration channels by integration in the frequency domain: velocity PSD = acceleration PSD / (2πf)².
 // Broadband velocity in a 10–1000 Hz band is the figure machine-vibration evaluation uses (ISO 20816-1, from memory).
 import { metresPerSecond2 } from './acceleration-units.js';
-import { bandMeanSquare, type WelchOptions } from './dsp/welch.js';
+import { READ_FRACTION } from './dsp/decimate.js';
+import { LONGEST_SEGMENT } from './dsp/leakage.js';
+import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
 import type { StageDefinition } from './stage.js';
@@ -13,12 +15,70 @@ export interface VelocityOptions { ranges: [number, number][]; spectrum: WelchOp
 
 const col = (lo: number, hi: number) => `velocity_${hzName(lo)}_${hzName(hi)}_rms`;
 
+/**
+ * Largest error (a fraction of the velocity RMS) a steady tone at the band's lowest one-third-octave above its lower edge
+ * (lo·10^(0.1), 12.59 Hz for 10 Hz) may carry from the spectrum's resolution (our choice).
+ */
+export const LOW_TONE_ERROR = 0.0025;
+
+// A Hann periodogram's main lobe weighted by 1/(2πf)² reads a tone at f high by about (r/f)²/2 at resolution r (measured with
+// scipy.signal.get_window and bandMeanSquare's fractional-bin sum: +0.08 % at r/f = 0.04, +0.30 % at 0.08, test/fixtures/make-velocity-vectors.py).
+/** The coarsest resolution (Hz) at which a tone at lo·10^(0.1) reads within LOW_TONE_ERROR: r = f·√(2·error). */
+export const velocityResolution = (lo: number): number => lo * 10 ** 0.1 * Math.sqrt(2 * LOW_TONE_ERROR);
+
+/**
+ * Shared-spectrum bins above DC from which the shared spectrum takes over: there the weight's bias, (r/f)²/2, is at most
+ * 0.125 % (our choice, from the same measure).
+ */
+export const HANDOVER_BINS = 20;
+
+// Multistage decimation (Crochiere & Rabiner 1983, ch. 5), read below fs/(6D) as the octave stage reads it.
+/**
+ * The finer spectrum velocity asks for when the shared segment cannot resolve the band's lower edge (`velocityResolution`):
+ * every D-th sample of the low-passed channel (`spectrumOf` with D, the octave stage's mechanism), D the largest power of two
+ * that keeps the hand-over, from HANDOVER_BINS shared bins up to twice that, below fs/(6D); its segment the shared one, or
+ * longer where the resolution needs it. With the default spectrum that is D = 16, a segment of 4096: the octave stage's
+ * spectrum at 25.6, 48 and 51.2 kHz, shared by key. Null when the shared segment resolves the lower edge.
+ */
+export function velocitySpectrum(lo: number, spectrum: WelchOptions, fs: number): { segment: number; decimation: number } | null {
+  const need = velocityResolution(lo);
+  if (fs / spectrum.segment <= need) return null;
+  let span = spectrum.segment;
+  while (span < LONGEST_SEGMENT && fs / span > need) span *= 2;
+  const handoverTop = (2 * HANDOVER_BINS * fs) / spectrum.segment;
+  let d = 1;
+  while (handoverTop <= (READ_FRACTION * fs) / (2 * d) && spectrum.segment * 2 * d <= LONGEST_SEGMENT) d *= 2;
+  return { segment: Math.max(spectrum.segment, span / d), decimation: d };
+}
+
+// Raised-cosine cross-fade between two estimates over [a, b] (a Tukey taper, Harris, Proc. IEEE 66(1), 1978).
+/** The finer spectrum's share at f: 1 below a, 0 above b, cos² between, so a tone in the hand-over counts once. */
+export const fineShare = (f: number, a: number, b: number): number => (f <= a ? 1 : f >= b ? 0 : Math.cos(((f - a) / (b - a)) * (Math.PI / 2)) ** 2);
+
+/**
+ * Velocity mean square in [lo, hi): from the finer spectrum up to half its `upTo`, from the shared one above its `upTo`,
+ * and cross-faded between (`fineShare`), both summed with fractional bins (`bandMeanSquare`). Without a finer spectrum, or
+ * one that reaches the whole band, the one spectrum alone.
+ */
+export function velocityMeanSquare(shared: Psd, fine: Psd | null, lo: number, hi: number): number {
+  if (!fine) return bandMeanSquare(shared, lo, hi, velocityPerAcceleration);
+  const b = fine.upTo ?? Infinity, a = b / 2;
+  if (hi <= a) return bandMeanSquare(fine, lo, hi, velocityPerAcceleration);
+  const toFine = (f: number) => velocityPerAcceleration(f) * fineShare(f, a, b);
+  const toShared = (f: number) => velocityPerAcceleration(f) * (1 - fineShare(f, a, b));
+  return bandMeanSquare(fine, lo, Math.min(hi, b), toFine) + bandMeanSquare(shared, Math.max(lo, a), hi, toShared);
+}
+
 export const velocity: StageDefinition<VelocityOptions> = {
   group: 'velocity_bands',
-  columns: (o) => o.ranges.map(([lo, hi]) => ({ name: col(lo, hi), unit: 'mm/s', description: `Velocity RMS in [${lo}, ${hi}) Hz of an acceleration channel, integrated in the frequency domain from the Welch PSD.` })),
+  columns: (o) => o.ranges.map(([lo, hi]) => ({ name: col(lo, hi), unit: 'mm/s', description: `Velocity RMS in [${lo}, ${hi}) Hz of an acceleration channel, integrated in the frequency domain from the Welch PSD (below some hundreds of Hz from a finer one of every D-th sample where the spectrum's segment cannot resolve ${lo} Hz).` })),
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);
     const factor = metresPerSecond2(ctx.unit);
+    // The lowest band edge sets the finer spectrum; bands with higher edges read it too (one spectrum a channel).
+    const acceleration = ctx.quantity === 'acceleration' && factor !== undefined && o.ranges.length > 0;
+    const low = acceleration ? velocitySpectrum(Math.min(...o.ranges.map(([lo]) => lo)), o.spectrum, ctx.sampleRate) : null;
+    const fine = low ? spectrumOf(ctx, { ...o.spectrum, segment: low.segment }, false, low.decimation) : null;
     return {
       push() {},
       finish() {
@@ -30,13 +90,17 @@ export const velocity: StageDefinition<VelocityOptions> = {
         }
         const psd = s.psd();
         if (!psd) return out;
+        // The finer spectrum where it resolves more finely than the shared one (a recording or gap-free stretch may cut it short).
+        const finer = fine?.psd() ?? null;
+        const low = finer && resolutionOf(finer) < resolutionOf(psd) ? finer : null;
+        const r = resolutionOf(low ?? psd);
         for (const [lo, hi] of o.ranges) {
           if (hi > ctx.sampleRate / 2) { ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz reaches above the Nyquist frequency; left empty`); continue; }
-          // DC carries no velocity; every other bin is divided by (2πf)².
-          const ms = bandMeanSquare(psd, lo, hi, velocityPerAcceleration);
+          const ms = velocityMeanSquare(psd, low, lo, hi);
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
-          const near = nearLowEdge(psd.df, lo, hi, ms, (a, b) => bandMeanSquare(psd, a, b, velocityPerAcceleration));
-          if (near != null) ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz: ${Math.round(near * 100)} % of its velocity lies within two spectrum bins (${psd.df.toPrecision(3)} Hz each) of its lower edge, where the window's leakage, weighted by 1/(2πf)², makes it uncertain by tens of per cent; choose a spectrum segment long enough for bins of ${(lo / 10).toPrecision(2)} Hz or less`);
+          if (r <= velocityResolution(lo)) continue;
+          const near = nearLowEdge(r, lo, hi, ms, (a, b) => velocityMeanSquare(psd, low, a, b));
+          if (near != null) ctx.flag(lowEdgeFlag(ctx.name, col(lo, hi), lo, hi, near, r, ctx.sampleRate));
         }
         return out;
       },
@@ -45,9 +109,24 @@ export const velocity: StageDefinition<VelocityOptions> = {
 };
 
 /**
- * The share of a band's velocity within two bins of its lower edge, when it is large (over 10 %) and the edge lies within
- * ten bins of DC; else null. There a Hann window's main lobe (four bins wide) spreads a tone across the edge and the
- * 1/(2πf)² weight magnifies the lower bins, so a tone near the edge reads tens of per cent off (measured against the
+ * The warning for a band whose velocity lies much within two resolution bins of its lower edge: the figure may be off by
+ * tens of per cent (a steady tone 2.5 Hz above a 10 Hz edge read −18 % at 6.25 Hz, −29 % at 12.5 Hz resolution), beyond
+ * the 5 % a warning stands for. What to do: a longer recording or gap-free stretch, or a longer segment.
+ */
+function lowEdgeFlag(name: string, column: string, lo: number, hi: number, share: number, r: number, fs: number) {
+  const need = velocityResolution(lo);
+  return {
+    name: 'velocity_low_edge', severity: 'warn' as const, value: share,
+    threshold: 'warn where over 10 % of a velocity band\'s velocity lies within two resolution bins of its lower edge and the edge lies within ten bins of DC (our choice)',
+    evidence: { band_low_hz: lo, band_high_hz: hi, resolution_hz: r, resolution_needed_hz: need },
+    message: `${name}: ${column} may be off by tens of per cent: ${Math.round(share * 100)} % of the velocity in ${lo}–${hi} Hz lies within two resolution bins (${r.toPrecision(3)} Hz each) of its lower edge, where the window's leakage, weighted by 1/(2πf)², makes it uncertain; a gap-free stretch of ${Number((1 / need).toPrecision(3))} s or more (${Math.ceil(fs / need)} samples) resolves it`,
+  };
+}
+
+/**
+ * The share of a band's velocity within two resolution bins of its lower edge, when it is large (over 10 %) and the edge
+ * lies within ten bins of DC; else null. There a Hann window's main lobe (four bins wide) spreads a tone across the edge and
+ * the 1/(2πf)² weight magnifies the lower bins, so a tone near the edge reads tens of per cent off (measured against the
  * tone's A/(2πf·√2); the thresholds are our choice).
  */
 export function nearLowEdge(df: number, lo: number, hi: number, total: number, meanSquare: (a: number, b: number) => number): number | null {

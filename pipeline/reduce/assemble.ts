@@ -36,7 +36,8 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   for (const g of groups) for (const [table, rows] of Object.entries(o.groups[g].tables)) (secondary[table] ??= []).push({ rows, recording: o.recording, channels: base.channels });
   const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
   result.rows = base.channels.map((ch, c) => {
-    const flags = o.groups.quality?.flags[c] ?? [];
+    // The quality flags, then any a feature group raises on its own figure (velocity's low edge), so quality.json tells both.
+    const flags = [...(o.groups.quality?.flags[c] ?? []), ...groups.filter((g) => g !== 'quality').flatMap((g) => o.groups[g].flags?.[c] ?? [])];
     const severity = worst(flags.map((f) => f.severity));
     result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags });
     // One object a row, filled in place (a row has some 150 keys): the fixed columns, the labels, the verdict, then every
