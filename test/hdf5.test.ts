@@ -91,14 +91,14 @@ describe('HDF5 reader against h5py', () => {
     await expect(read({ sample_rate_dataset: '/fs', start_time_dataset: '/t0' })).rejects.toThrow(/dataset "\/t0" \(the start time\) holds 25 values/);
   });
 
-  it('takes the sample rate from a time dataset and counts its irregular steps (files written by hdf5storage, make-mat-fixtures.py)', async () => {
+  it('takes the sample rate from a time dataset and reads the samples its steps skip as missing (files written by hdf5storage, make-mat-fixtures.py)', async () => {
     const steady = await readAll(fixture('mat', 'rig-columns-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, time_dataset: '/t' }) });
     expect([steady.rec.sampleRate, steady.rec.timeSteps?.irregular, steady.rec.notes]).toEqual([12800, 0, []]);
-    // The time vector jumps 10 sample periods at frame 600: one irregular step of 11 ms, ending at t = 0.61 s.
+    // The time vector jumps 10 sample periods at frame 600 (11 ms, ending at t = 0.61 s): 10 samples lost, no irregular step.
     const gap = await readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/x'], channel_axis: 0, time_dataset: '/t' }), chunkFrames: 256 });
-    expect([gap.rec.sampleRate, gap.rec.timeSteps?.irregular, gap.rec.timeSteps?.widest_at_s]).toEqual([1000, 1, 0.61]);
-    expect(gap.rec.timeSteps!.widest_s).toBeCloseTo(0.011, 12);
-    expect(gap.rec.notes).toEqual([expect.stringMatching(/^time steps irregular: 1 of 999 steps differ from the nominal 1\.000 ms; the widest is 11\.00 ms/)]);
+    expect([gap.rec.sampleRate, gap.rec.timeSteps?.irregular, gap.channels[0].length]).toEqual([1000, 0, 1010]);
+    expect(gap.channels.map((c) => c.flatMap((v, i) => (Number.isNaN(v) ? [i] : [])))).toEqual([0, 1].map(() => Array.from({ length: 10 }, (_, i) => 600 + i)));
+    expect(gap.rec.notes).toEqual(['samples lost: dataset "/t" (the time) skips 10 samples at its nominal step of 1.000 ms in 1 gap, read as missing samples; the largest, 10 samples (0.01000 s), lies between 0.599 s (index 599) and 0.61 s (index 600)']);
     // A declared rate the steps disagree with, and a time dataset of the wrong length, are refused.
     await expect(readAll(fixture('mat', 'dropout-73.mat'), { format: 'hdf5', sampleRate: 2000, hdf5: layout({ datasets: ['/x'], channel_axis: 0, time_dataset: '/t' }) })).rejects.toThrow(/dataset "\/t" \(the time\) steps at 1000\.00 Hz but the declaration says 2000 Hz/);
     await expect(readAll(fixture('mat', 'rig-columns-73.mat'), { format: 'hdf5', hdf5: layout({ datasets: ['/data'], channel_axis: 0, time_dataset: '/fs' }) })).rejects.toThrow(/dataset "\/fs" \(the time\) is 1 × 1; it must be a vector of 2000 times, one for each frame/);

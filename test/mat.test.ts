@@ -14,11 +14,16 @@ interface MatFixture { file: string; case: string | null; mat: MatLayout; channe
 const fixtures: MatFixture[] = readJson(fixture('mat', 'expected.json')).files;
 const layout = (l: Partial<MatLayout>): MatLayout => ({ variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null, ...l });
 
-/** scipy's samples, per channel. */
+/** The samples a fixture's time vector skips, by numpy's count (test/fixtures/make-time-vector-fixtures.py). */
+const skipped: Record<string, { samples_lost: number; largest: { samples: number; to_index: number } }> = readJson(fixture('time-vectors', 'expected.json')).mat_dropouts;
+
+/** scipy's samples, per channel, with a NaN for each sample the time vector skips, in its place. */
 function expected(f: MatFixture): Float64Array[] {
   const b = readFileSync(fixture('mat', `${f.file}${f.case ? `.${f.case}` : ''}.f64`));
   const all = new Float64Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
-  return Array.from({ length: f.channels }, (_, c) => Float64Array.from({ length: f.frames }, (_, i) => all[i * f.channels + c]));
+  const gap = skipped[f.file]?.largest ?? { samples: 0, to_index: f.frames };
+  const index = (i: number) => (i < gap.to_index ? i : i >= gap.to_index + gap.samples ? i - gap.samples : -1);
+  return Array.from({ length: f.channels }, (_, c) => Float64Array.from({ length: f.frames + gap.samples }, (_, i) => (index(i) < 0 ? NaN : all[index(i) * f.channels + c])));
 }
 
 describe('MAT-file reader against scipy.io', () => {
@@ -32,26 +37,28 @@ describe('MAT-file reader against scipy.io', () => {
         expect(rec.channelNames).toEqual(f.channel_names);
         const want = expected(f);
         for (let c = 0; c < f.channels; c++) expect(Float64Array.from(channels[c])).toEqual(want[c]);
-        // The time vector's steps against scipy's values: the irregular ones counted, the widest where it is.
+        // The time vector's steps against scipy's values: the irregular ones counted, the widest where it is; a step of 11
+        // nominal steps is 10 samples lost, read as missing samples, no irregular step.
         if (f.time_steps) {
-          const s = rec.timeSteps!;
-          expect([s.irregular, Number.isNaN(s.widest_at_s) ? null : s.widest_at_s]).toEqual([f.time_steps.irregular, f.time_steps.widest_at_s]);
-          expect(s.widest_s).toBeCloseTo(f.time_steps.widest_s, 12);
+          const s = rec.timeSteps!, lost = skipped[f.file];
+          expect([s.irregular, Number.isNaN(s.widest_at_s) ? null : s.widest_at_s]).toEqual(lost ? [0, null] : [f.time_steps.irregular, f.time_steps.widest_at_s]);
+          if (!lost) expect(s.widest_s).toBeCloseTo(f.time_steps.widest_s, 12);
           expect(s.nominal_s).toBeCloseTo(f.time_steps.nominal_s, 12);
-          expect(rec.notes).toEqual(f.time_steps.irregular ? [expect.stringMatching(/^time steps irregular: 1 of 999 steps differ from the nominal 1\.0\d* ms; the widest is 11\.0\d* ms/)] : []);
+          expect(rec.notes).toEqual(lost ? [expect.stringMatching(new RegExp(`^samples lost: variable "t" \\(the time\\) skips ${lost.samples_lost} samples at its nominal step of 1\\.000 ms in 1 gap`))] : []);
         }
       }
     });
   }
 
-  it('a gap in the time vector is a dropout: the flag warns on every channel, naming the step', async () => {
+  it('a gap in the time vector is a dropout: the flag warns on every channel, naming the samples lost and where', async () => {
     const f = fixtures.find((x) => x.file === 'dropout.mat')!;
     const r = await reduceRecording({ recording: 'dropout.mat', path: fixture('mat', 'dropout.mat'), group: 'g', format: null, sampleRate: null, layout: null, reader: { mat: f.mat }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 256 });
     expect(r.status).toBe('reduced');
     for (const q of r.quality) {
       const flag = q.flags.find((x) => x.name === 'dropout')!;
       expect(flag.severity).toBe('warn');
-      expect(flag.message).toMatch(/^1 irregular time steps, the widest 0\.011 s \(nominal 0\.001 s\) ending at t = 0\.61 s: the logger lost data/);
+      // The 10 samples skipped after the one at 0.599 s are missing, the file's own times kept.
+      expect(flag.message).toMatch(/^10 samples missing \(0\.99 %\), first at 0\.6 s, the longest gap 0\.01 s ending at 0\.61 s: the logger lost data/);
     }
   });
 

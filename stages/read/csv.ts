@@ -10,7 +10,7 @@ import { unendedLineNote } from './unended-line.js';
 import { firstNul, paddingNote, trailingNuls } from './nul-padding.js';
 import { keepSteps, MAX_TIME_S, offGrid, printedRate, startOfTimes, stepCounter } from './time-steps.js';
 import { printedUnits } from './printed-time.js';
-import { lostRowCounter, lostRowsNote, MOST_LOST_ROWS } from './lost-rows.js';
+import { lostRowCounter, lostRowsNote, missingSamples, MOST_LOST_ROWS } from './lost-rows.js';
 
 /** A time column's header without a unit: its numbers are read as seconds. */
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
@@ -315,12 +315,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
           const lost = lostRows.before(t, (cells[0] ?? '').trim(), at);
           steps.add(t, lost > 0);
           // The rows a logger dropped, as missing samples in their places, a chunk at a time however long the gap.
-          for (let left = lost; left > 0;) {
-            const m = Math.min(left, chunkFrames - k);
-            for (const a of out) a.fill(NaN, k, k + m);
-            k += m; left -= m;
-            if (k === chunkFrames) { yield out; k = 0; }
-          }
+          if (lost > 0) k = yield* missingSamples(out, k, lost);
         }
         for (let c = 0, j = 0; c < width; c++) {
           if (c === timeColumn) continue;

@@ -7,7 +7,9 @@ import { basename } from 'node:path';
 import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
-import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
+import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
+import { timeVectorReader } from './time-vector.js';
+import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 import { missingFilter, missingFilterMessage, type PipelineFilter } from './hdf5-filters.js';
 import { readerOf, storedTypeOf, type ReadAt, type StoredType } from './hdf5-stored-type.js';
@@ -201,7 +203,7 @@ const isVector = (shape: number[]) => shape.length === 1 || (shape.length === 2 
 const vectorRanges = (shape: number[], rows: [number, number]) => (shape.length === 1 ? [rows] : shape[0] === 1 ? [[] as [], rows] : [rows, [] as []]);
 
 /** A file opened on an instance: its datasets found and checked against the layout. */
-interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; /** Set for one two-dimensional dataset read by its declared channel axis. */ byAxis: boolean; sampleRate: number; startTime: Date | null; channelNames: string[] | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; step: number | null }
+interface Opened { h5: H5; file: HdfFile; sources: Source[]; channels: number; frames: number; axis: 0 | 1; /** Set for one two-dimensional dataset read by its declared channel axis. */ byAxis: boolean; sampleRate: number; startTime: Date | null; channelNames: string[] | null; /** The time dataset and its nominal step, when declared. */ time: Source | null; times: VectorRate | null }
 
 const closeQuietly = (file: HdfFile) => { try { file.close(); } catch { /* an instance that stopped cannot close; it is set aside */ } };
 
@@ -250,7 +252,6 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset'], bytes), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset'], basename(path), bytes) : null;
     const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
-    const step = times?.step ?? null;
     const sampleRate = fromFile ?? (times != null ? rateFromStep(times, declaredSampleRate, `dataset "${time!.path}"`, where.sample_rate) : declaredSampleRate);
     if (sampleRate == null) {
       // Where the rate may be given, each place once (a MAT-file's reader names two of these by one key).
@@ -263,7 +264,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
         : times && startOfTimes(times.first);
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
     const channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
-    return { h5, file, sources, channels, frames, axis, byAxis, sampleRate, startTime, channelNames, time, step };
+    return { h5, file, sources, channels, frames, axis, byAxis, sampleRate, startTime, channelNames, time, times };
   } catch (e) {
     closeQuietly(file);
     throw e;
@@ -281,7 +282,7 @@ function timeDatasetOf(file: HdfFile, path: string, frames: number, where: strin
 }
 
 /** The nominal step of a time dataset's first TIME_PROBE values, and its first time. */
-function timeStepOf(t: Source, frames: number, where: string): TimeRate & { first: number } {
+function timeStepOf(t: Source, frames: number, where: string): VectorRate & { first: number } {
   const k = Math.min(frames, TIME_PROBE);
   let values;
   try { values = t.ds.slice(vectorRanges(t.shape, [0, k]) as never) as unknown as ArrayLike<number | bigint>; } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${t.path}" (the time): its first values cannot be read: ${firstLine(e)}; the file is damaged: copy it again`); }
@@ -307,7 +308,7 @@ export async function onceMore<T>(read: (h5: H5) => T, doing: string): Promise<T
   }
 }
 
-export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
+export async function openHdf5(path: string, layout: Hdf5Layout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE, mostLostRows = MOST_LOST_ROWS, timeHeld = '' } = {}): Promise<Recording> {
   if (!layout || layout.datasets.length === 0) throw new RecordingError(`HDF5 needs to be told where its samples are; ${declareHow.hdf5}`);
   const hdf5 = layout;
   const superblock = await signatureAt(path);
@@ -331,7 +332,9 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
     }, `reading ${what} ${start} to ${end} of dataset "${pick(o).path}"`);
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
-        const steps = o.step != null ? stepCounter(o.step, 0.01 * o.step) : null;
+        // A time dataset's steps are held as its values are read beside the samples; the samples it says were lost are missing samples.
+        const timed = o.times && timeVectorReader(o.times, channels, chunk, vectorIndices(timeHeld || `dataset "${o.time!.path}" (the time)`, basename(path)), mostLostRows);
+        const times = timed ? new Float64Array(chunk) : null;
         const out = Array.from({ length: channels }, () => new Float64Array(chunk));
         for (let start = 0; start < frames; start += chunk) {
           const n = Math.min(chunk, frames - start);
@@ -349,15 +352,17 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
               else for (let i = 0, at = c * n; i < n; i++, at++) into[i] = f(block[at]);
             }
           }
-          if (steps) {
+          if (timed && times) {
             // The time dataset's values for these frames, read as the samples are.
-            const times = await slice((x) => x.time!, vectorRanges(o.time!.shape, rows), 'times', start, start + n);
+            const held = await slice((x) => x.time!, vectorRanges(o.time!.shape, rows), 'times', start, start + n);
             const time = o.time!.value;
-            for (let i = 0; i < n; i++) steps.add(time(times[i]));
+            for (let i = 0; i < n; i++) times[i] = time(held[i]);
+            yield* timed.place(out, times, n, start);
+            continue;
           }
           yield n === chunk ? out : out.map((a) => a.subarray(0, n));
         }
-        if (steps) keepSteps(recording, steps);
+        if (timed) { yield* timed.end(); timed.keep(recording); }
       } finally {
         // Its samples read (or not, after an error), the file no longer needs the instance: the next file may take its turn.
         release();

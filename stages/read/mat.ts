@@ -3,13 +3,16 @@
 // are read as they are asked for, each channel from its own place in the file, so memory does not grow with the recording.
 // A compressed variable several channels read from (columns as channels, fields of one struct) is inflated once into a
 // temporary file first (mat-spool.ts), removed when the recording closes. Finding the variables: mat-file.ts.
+import { basename } from 'node:path';
 import { level5, readMatFile, type ChannelSource, type MatVariables } from './mat-file.js';
 import { isMat4, readMat4File } from './mat4.js';
 import { namesFrom } from './setting-values.js';
 import { isMat73, openMat73 } from './mat73.js';
 import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
-import { keepSteps, nominalStep, rateFromStep, startOfTimes, stepCounter, TIME_PROBE, type TimeRate } from './time-steps.js';
+import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
+import { timeVectorReader } from './time-vector.js';
+import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
@@ -39,7 +42,7 @@ function checkVector(s: { header: ArrayHeader; where: string }, first: { where: 
 /** Times as stored: no full scale applies to seconds. */
 const AS_STORED = { scale: 1, shift: 0 };
 /** The nominal step of a time vector's first TIME_PROBE values, and its first time, after checking it has one time a frame. */
-async function timeStepOf(m: MatVariables, path: string, frames: number, where: string): Promise<TimeRate & { first: number }> {
+async function timeStepOf(m: MatVariables, path: string, frames: number, where: string): Promise<VectorRate & { first: number }> {
   const t = await m.sourceAt(path, 'time', where, 0);
   try {
     if (!isVectorDims(t.header.dims) || t.header.count !== frames) throw new RecordingError(`${t.where} (the time) is ${t.header.dims.join(' × ')}; it must be a vector of ${frames} times, one for each frame; correct ${where}`);
@@ -54,8 +57,8 @@ async function timeStepOf(m: MatVariables, path: string, frames: number, where: 
 /** Where each source starts: a variable and the index of its first value, and how many channels it interleaves. */
 interface SourcePlan { variable: string; first: number; width: number }
 
-export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE } = {}): Promise<Recording> {
-  if (await isMat73(path)) return openMat73(path, layout ?? { variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null }, declaredSampleRate, { chunkFrames, declareHow });
+export async function openMat(path: string, layout: MatLayout | null, declaredSampleRate: number | null, { chunkFrames = DEFAULT_CHUNK_FRAMES, declareHow = DECLARE_IN_ARCHIVE, mostLostRows = MOST_LOST_ROWS } = {}): Promise<Recording> {
+  if (await isMat73(path)) return openMat73(path, layout ?? { variables: [], channel_axis: null, sample_rate_variable: null, start_time_variable: null }, declaredSampleRate, { chunkFrames, declareHow, mostLostRows });
   const m = (await isMat4(path)) ? await readMat4File(path) : level5(await readMatFile(path));
   const sources: ChannelSource[] = [], extra: ChannelSource[] = [];
   try {
@@ -93,7 +96,6 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     checkChannelCount(channels, first.where);
     if (frames === 0) throw new RecordingError(`${first.where} holds no samples (${first.header.dims.join(' × ')})`);
     const times = layout.time_variable ? await timeStepOf(m, layout.time_variable, frames, where['mat.time_variable']) : null;
-    const nominalStep = times?.step ?? null;
     const fromTime = times == null ? null : rateFromStep(times, declaredSampleRate, `variable "${layout.time_variable}"`, where.sample_rate);
     const fromVariable = layout.sample_rate_variable ? await m.sampleRateOf(layout.sample_rate_variable, where['mat.sample_rate_variable']) : null;
     const sampleRate = fromVariable ?? fromTime ?? declaredSampleRate;
@@ -117,10 +119,11 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
         if (layout!.variables.length > 1) checkVector(s, first, frames, cls);
       }
       // The time vector is read beside the samples, its steps counted; it is closed with them, but is no channel.
-      const time = nominalStep == null ? null : await m.sourceAt(layout!.time_variable!, 'time', where['mat.time_variable'], 0);
+      const time = times == null ? null : await m.sourceAt(layout!.time_variable!, 'time', where['mat.time_variable'], 0);
       if (time) extra.push(time);
-      const steps = nominalStep == null ? null : stepCounter(nominalStep, 0.01 * nominalStep);
-      const times = time ? new Float64Array(chunk) : null;
+      // Its steps are held as it is read; the samples it says were lost are missing samples in their places.
+      const timed = times && timeVectorReader(times, channels, chunk, vectorIndices(`variable "${layout!.time_variable}" (the time)`, basename(path)), mostLostRows);
+      const held = time ? new Float64Array(chunk) : null;
       const out = Array.from({ length: channels }, () => new Float64Array(chunk));
       // Scratch at offset 0 of its own buffer, so that stored values can be viewed as typed arrays in place.
       const scratch = new Uint8Array(new ArrayBuffer(chunk * Math.max(...[...sources, ...extra].map((s) => TYPE_BYTES[s.type] * s.width))));
@@ -138,15 +141,16 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
             for (let i = 0, at = c; i < n; i++, at += channels) into[i] = block[at];
           }
         }
-        if (time && steps && times) {
+        if (time && timed && held) {
           const size = TYPE_BYTES[time.type];
           const bytes = time.inline ? time.inline.subarray(start * size, (start + n) * size) : await time.cursor.take(n * size, `times ${start} to ${start + n}`, scratch);
-          decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), time.type, m.little, n, times, 0, 1, AS_STORED);
-          for (let i = 0; i < n; i++) steps.add(times[i]);
+          decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), time.type, m.little, n, held, 0, 1, AS_STORED);
+          yield* timed.place(out, held, n, start);
+          continue;
         }
         yield n === chunk ? out : out.map((a) => a.subarray(0, n));
       }
-      if (steps) keepSteps(recording, steps);
+      if (timed) { yield* timed.end(); timed.keep(recording); }
     }
     const recording: Recording = {
       format: 'mat', channelCount: channels, sampleRate, frames,

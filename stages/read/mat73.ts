@@ -138,7 +138,7 @@ const asHdf5 = (d: DeclareHow): DeclareHow => ({
 });
 const said = (e: unknown) => (e instanceof RecordingError ? new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`) : e);
 
-export async function openMat73(path: string, layout: MatLayout, declaredSampleRate: number | null, { chunkFrames, declareHow }: { chunkFrames: number; declareHow: DeclareHow }): Promise<Recording> {
+export async function openMat73(path: string, layout: MatLayout, declaredSampleRate: number | null, { chunkFrames, declareHow, mostLostRows }: { chunkFrames: number; declareHow: DeclareHow; mostLostRows: number }): Promise<Recording> {
   try {
     const release = await takeTurn();
     let facts: Facts;
@@ -146,9 +146,10 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
     const where = declareHow.where;
     const rate = facts.rate != null ? rateFrom(facts.rate, `variable "${layout.sample_rate_variable}"`, where['mat.sample_rate_variable']) : declaredSampleRate;
     const startTime = facts.start == null ? null : startFrom(facts.start, `variable "${layout.start_time_variable}"`, where['mat.start_time_variable']);
-    // A time vector is read by the HDF5 reader beside the samples: the rate from its steps, irregular ones counted.
+    // A time vector is read by the HDF5 reader beside the samples: the rate from its steps, irregular ones counted, samples lost placed.
     const time = layout.time_variable ? { time_dataset: datasetOf(layout.time_variable) } : {};
-    const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null, ...time }, rate, { chunkFrames, declareHow: asHdf5(declareHow) });
+    const timeHeld = layout.time_variable ? `variable "${layout.time_variable}" (the time)` : '';
+    const rec = await openHdf5(path, { datasets: layout.variables.map(datasetOf), channel_axis: facts.channelAxis, sample_rate_attribute: null, start_time_attribute: null, ...time }, rate, { chunkFrames, declareHow: asHdf5(declareHow), mostLostRows, timeHeld });
     // The HDF5 reader's own recording, so that what it finds while reading (the time steps, notes) stays on it.
     const samples = rec.chunks;
     let channelNames: string[] | null;

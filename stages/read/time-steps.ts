@@ -57,18 +57,27 @@ export function timeRate(times: ArrayLike<number>, resolution = 0): TimeRate {
   if (resolution > 0 && n > 0) return printedRate(Float64Array.from({ length: n }, (_, i) => Math.round((times[i] - times[0]) / resolution)), resolution);
   const steps = Float64Array.from({ length: Math.max(0, n - 1) }, (_, i) => times[i + 1] - times[i]);
   const median = medianOf(steps);
-  let largest = 0;
-  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(times[i]));
-  // How far one time may lie from the true one: the rounding of a double (or of a float, where every time fits one) in
-  // parsing and subtracting (IEEE 754 unit roundoff, 2^-53 and 2^-24).
-  const stored = Array.prototype.every.call(times, (t: number) => Math.fround(t) === t) ? 2 ** -24 : 2 ** -53;
-  const rounding = 4 * stored * largest;
-  const near = 0.01 * Math.abs(median) + 2 * rounding;
+  const rounding = roundingOf(times);
+  const near = regularTolerance(median, rounding);
   const { span, count, runs } = regularRuns(times, steps, (d) => Math.abs(d - median) <= near);
   if (count === 0) return { step: median, rate: 1 / median, lowest: 1 / median, highest: 1 / median };
   // Each run's span is off by at most one time's error at either end.
   return quoted(span / count, (2 * rounding * runs) / count);
 }
+
+/**
+ * How far one time held as a binary number may lie from the true one: the rounding of a double (or of a float, where every
+ * time fits one) in parsing and subtracting, at the largest time (IEEE 754 unit roundoff, 2^-53 and 2^-24).
+ */
+export function roundingOf(times: ArrayLike<number>): number {
+  let largest = 0;
+  for (let i = 0; i < times.length; i++) largest = Math.max(largest, Math.abs(times[i]));
+  const stored = Array.prototype.every.call(times, (t: number) => Math.fround(t) === t) ? 2 ** -24 : 2 ** -53;
+  return 4 * stored * largest;
+}
+
+/** How far a step between two binary times may lie from the nominal and still be regular: 1 % of it (a clock's jitter), plus both times' rounding. */
+export const regularTolerance = (step: number, rounding: number) => 0.01 * Math.abs(step) + 2 * rounding;
 
 /** A rate from times printed to a fixed resolution, and whether they are printed more coarsely than they step (times repeat). */
 export interface PrintedRate extends TimeRate { coarse: boolean }
@@ -185,14 +194,17 @@ export function rateFromStep(times: TimeRate, declared: number | null, held: str
   return declared ?? times.rate;
 }
 
+/** A time vector's nominal step and rate, and the tolerance its regular steps are held to (`regularTolerance`). */
+export interface VectorRate extends TimeRate { tolerance: number }
+
 /** A time vector's nominal step from its first times (at most TIME_PROBE of them), refusing one time or times that do not increase. */
-export function nominalStep(first: Float64Array, held: string, where: string): TimeRate {
+export function nominalStep(first: Float64Array, held: string, where: string): VectorRate {
   if (first.length < 2) throw new RecordingError(`${held} (the time) holds one time, from which no sample rate follows; declare the rate`);
   // Milliseconds since 1970 read as seconds would give a rate a thousand times too low.
   if (Math.abs(first[0]) >= MAX_TIME_S) throw new RecordingError(`${held} (the time) starts at ${first[0]}, too large for seconds; the time is read in seconds: if it holds milliseconds since 1970, save seconds, or name no time and declare the rate in ${where}`);
   const times = timeRate(first);
   if (!(times.step > 0) || !Number.isFinite(times.step)) throw new RecordingError(`${held} (the time) does not increase over its first ${first.length} values; check the file or ${where}`);
-  return times;
+  return { ...times, tolerance: regularTolerance(times.step, roundingOf(first)) };
 }
 
 /** Puts what a counter found on the recording once its times are read: the steps, and a note when some were irregular. */

@@ -1,0 +1,54 @@
+// A time vector held as binary numbers beside the samples (an HDF5 time dataset, a MAT-file time vector), read a block at
+// a time with them: its steps held against the nominal one, and a step of k ≥ 2 nominal steps read as k − 1 samples the
+// logger lost, placed as missing samples in chunks of the reader's size, as a CSV time column's lost rows are.
+import { lostRowCounter, lostRowsNote, missingSamples, MOST_LOST_ROWS, type TimePlaces } from './lost-rows.js';
+import { keepSteps, stepCounter, type TimeSteps, type VectorRate } from './time-steps.js';
+
+/**
+ * Reads a time vector's blocks beside their samples. `rate`: its nominal step and the tolerance of its regular steps (no
+ * print resolution: the times are stored as they were taken); `places` names the vector, its indices and the file.
+ */
+export function timeVectorReader(rate: VectorRate, channels: number, chunkFrames: number, places: TimePlaces, most = MOST_LOST_ROWS) {
+  // The step counted from the times as held (not the rate as quoted, whose last digits a gap of millions of steps multiplies).
+  const step = rate.step, uncertainty = 1 / rate.lowest - 1 / rate.highest;
+  const steps = stepCounter(step, rate.tolerance);
+  const lost = lostRowCounter(step, rate.tolerance, uncertainty, most, 0, places);
+  // Chunks being filled around gaps, made at the first gap; until then each block goes out as it was read.
+  let out: Float64Array[] | null = null, k = 0;
+  function* copy(block: Float64Array[], from: number, to: number): Generator<Float64Array[]> {
+    while (from < to) {
+      const m = Math.min(to - from, chunkFrames - k);
+      for (let c = 0; c < channels; c++) out![c].set(block[c].subarray(from, from + m), k);
+      k += m; from += m;
+      if (k === chunkFrames) { yield out!; k = 0; }
+    }
+  }
+  return {
+    /** The chunks that frames `start` to `start + n` (`block`, one array a channel) and their times fill, lost samples in their places. */
+    *place(block: Float64Array[], times: ArrayLike<number>, n: number, start: number): Generator<Float64Array[]> {
+      let from = 0;
+      for (let i = 0; i < n; i++) {
+        const m = lost.before(times[i], '', start + i);
+        steps.add(times[i], m > 0);
+        if (m === 0) continue;
+        out ??= Array.from({ length: channels }, () => new Float64Array(chunkFrames));
+        yield* copy(block, from, i);
+        k = yield* missingSamples(out, k, m);
+        from = i;
+      }
+      // No chunk part-filled: the block goes out as it was read (a short block is the last).
+      if (k === 0 && from === 0) { yield n === chunkFrames ? block : block.map((a) => a.subarray(0, n)); return; }
+      yield* copy(block, from, n);
+    },
+    /** The last chunk, part-filled, once every block is placed. */
+    *end(): Generator<Float64Array[]> {
+      if (out && k > 0) yield out.map((a) => a.subarray(0, k));
+    },
+    /** Puts the irregular steps and the samples lost on the recording. */
+    keep(into: { timeSteps?: TimeSteps; notes: string[] }): void {
+      keepSteps(into, steps);
+      const found = lost.result();
+      if (found.rows > 0) into.notes.push(lostRowsNote(found, places));
+    },
+  };
+}
