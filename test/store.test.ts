@@ -1,7 +1,7 @@
 // Damaged results are never used: every stored entry carries checksums; a corrupted or cut-off entry is reported in run.json
 // and recomputed, and the tables equal a clean run's. A write that fails keeps the previous outputs.
 import { spawnSync } from 'node:child_process';
-import { cpSync, existsSync, readdirSync, readFileSync, statSync, truncateSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, readdirSync, readFileSync, rmSync, statSync, truncateSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
@@ -96,6 +96,60 @@ describe('damaged stored entries', () => {
     // The run's own mark now holds the pack as it left it: the next run finds nothing cut.
     const next = quern('reduce', archive, '--out', out, '--quiet');
     expect(next.code).toBe(1);
+    expect(readJson(join(out, 'run.json')).store.cut_short).toEqual([]);
+    expect(readJson(join(out, 'run.json')).counts.recomputed).toBe(0);
+  });
+
+  it('a pack cut between entries after an earlier entry was damaged counts as lost only the entries past the cut', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const size = statSync(pack).size;
+    const lost = all.slice(-3), at = lost[0].offset, broken = all[1];
+    // The second entry's first byte overwritten (its header no longer starts a record), then the pack cut before the third from the end.
+    const bytes = readFileSync(pack);
+    bytes[broken.offset] ^= 0xff;
+    writeFileSync(pack, bytes.subarray(0, at));
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1); // the sample archive holds one recording that fails
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged).toEqual([expect.objectContaining({ offset: broken.offset, recording: broken.facts.recording, problem: 'not the start of a record (damaged bytes)' })]);
+    expect(run.store.cut_short).toEqual([{ file: pack, at_byte: at, bytes_lost: size - at, entries_lost: 3 }]);
+    expect(run.recordings.filter((x: any) => /^stored entry lost/.test(x.why)).map((x: any) => x.recording).sort()).toEqual(lost.map((e) => e.facts.recording).sort());
+    expect(r.stdout).toContain('3 stored results past it lost, their recordings recomputed');
+    await expectSameTables(out, clean);
+  });
+
+  it('a pack cut inside an entry lists that entry as damaged and counts as lost only the entries wholly past it', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const size = statSync(pack).size;
+    const inside = all[all.length - 3], at = inside.offset + Math.floor(inside.length / 2);
+    truncateSync(pack, at);
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.damaged).toEqual([expect.objectContaining({ offset: inside.offset, recording: inside.facts.recording, problem: 'truncated: the file ends inside a record' })]);
+    expect(run.store.cut_short).toEqual([{ file: pack, at_byte: at, bytes_lost: size - at, entries_lost: 2 }]);
+    for (const e of all.slice(-2)) expect(run.recordings.find((x: any) => x.recording === e.facts.recording).why).toBe(`stored entry lost (${pack} was cut short at byte ${at}); recomputed`);
+    expect(r.stdout).toContain('2 stored results past it lost, their recordings recomputed');
+    await expectSameTables(out, clean);
+  });
+
+  it('a pack deleted beside its scan mark is told as cut at byte 0, its recordings recomputed as lost results, not new ones', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    const size = statSync(pack).size;
+    rmSync(pack);
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1); // the sample archive holds one recording that fails
+    const run = readJson(join(out, 'run.json'));
+    expect(run.store.cut_short).toEqual([{ file: pack, at_byte: 0, bytes_lost: size, entries_lost: all.length, gone: true }]);
+    expect(run.recordings.map((x: any) => x.why)).toEqual(run.recordings.map(() => `stored entry lost (${pack} is gone); recomputed`));
+    expect(run.recordings.map((x: any) => x.recording).sort()).toEqual(all.map((e) => e.facts.recording).sort());
+    expect(r.stdout).toContain(`CUT SHORT stored results in ${pack}: the pack is gone (deleted?), where the run that wrote it left ${size} bytes; ${all.length} stored results in it lost, their recordings recomputed`);
+    await expectSameTables(out, clean);
+    // Started afresh: the next run finds its own pack and mark, nothing lost.
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
     expect(readJson(join(out, 'run.json')).store.cut_short).toEqual([]);
     expect(readJson(join(out, 'run.json')).counts.recomputed).toBe(0);
   });

@@ -7,7 +7,7 @@ import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } f
 import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
 import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
-import type { PackCut } from '../store/pack-cut.js';
+import { cutShortLine, type PackCut } from '../store/pack-cut.js';
 import type { EntryFacts } from '../store/record.js';
 import { namesHolder, type TakenOver } from './lock.js';
 import { brokenGroupLine, type BrokenGroup } from './broken-groups.js';
@@ -207,7 +207,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (r.lock.took_over) { const h = r.lock.took_over.holder; lines.push(`  lock:    took over the lock of a run that is gone (${namesHolder(h) ? `${h.host}, pid ${h.pid}, started ${h.started}` : 'its holder unreadable'}): ${r.lock.took_over.why}`); }
   const leftovers = r.lock.leftovers_removed;
   if (leftovers.length) lines.push(`  lock:    removed ${leftovers.length} file${leftovers.length === 1 ? '' : 's'} a stopped run left half-written under temporary names (${leftovers.slice(0, 3).join(', ')}${leftovers.length > 3 ? ', …: see run.json' : ''})`);
-  for (const c of r.store.cut_short ?? []) lines.push(`  CUT SHORT stored results in ${c.file}: the pack ends at byte ${c.at_byte}, ${c.bytes_lost} bytes short of what the run that wrote it left (a truncated copy?); ${c.entries_lost} stored ${c.entries_lost === 1 ? 'result' : 'results'} past it lost, their recordings recomputed`);
+  for (const c of r.store.cut_short ?? []) lines.push(`  CUT SHORT ${cutShortLine(c)}`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
   if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
   lines.push(...qualitySummary(q));

@@ -6,6 +6,7 @@ import type { RecordingJob } from './plan.js';
 import type { ScannedRecording } from '../select/scan.js';
 import type { BatchItem } from '../reduce/batch.js';
 import type { Located } from '../store/pack.js';
+import { lostWhy } from '../store/pack-cut.js';
 import { NOT_TRIED, READ_AGAIN, STALLED } from '../store/record.js';
 import type { Store } from '../store/store.js';
 
@@ -142,7 +143,7 @@ export async function decide(recordings: ScannedRecording[], jobOf: (r: ScannedR
       const damage = store.damageOf(r.recording);
       if (damage) return all(`stored entry damaged (${damage.problem}); recomputed`);
       const lost = store.lostEntry(r.recording, r.ctimeMs ?? 0);
-      if (lost) return all(`stored entry lost (${lost.file} was cut short at byte ${lost.at_byte}); recomputed`);
+      if (lost) return all(lostWhy(lost));
       // Damage whose recording cannot be told may have held this one's entry: said so, not guessed either way.
       const untold = store.damageOfNone();
       return all(untold.length ? `new recording, or its stored entry was damaged past telling whose (${untold.join('; ')}); computed` : 'new recording');

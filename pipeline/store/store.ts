@@ -31,6 +31,9 @@ function contiguous(pieces: Uint8Array[]): Buffer | null {
 
 const shaBytes = (hex: string) => Buffer.from(hex, 'hex');
 
+/** The scan mark beside pack `file`, parsed, or null (none, or unreadable). */
+const readMark = (file: string): Promise<unknown> => readFile(`${file}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null);
+
 export class Store {
   private fh: FileHandle | null = null;
   private end = 0;
@@ -66,7 +69,14 @@ export class Store {
       damage.push(...r.damage);
       sizes.set(file, r.size);
       counts.set(file, count);
-      const cut = packCut(file, r.size, count, await readFile(`${file}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null));
+      const cut = packCut(file, r.size, count, await readMark(file), r.damage.length);
+      if (cut) cuts.push(cut);
+    }
+    // A pack deleted beside its mark is one cut at byte 0: its recordings' results were lost, not never made.
+    for (const name of (await readdir(dir).catch(() => [] as string[])).filter((f) => MARK.test(f)).sort()) {
+      const file = join(dir, name.slice(0, -SCAN_MARK.length));
+      if (files.includes(file)) continue;
+      const cut = packCut(file, 0, 0, await readMark(file), 0, true);
       if (cut) cuts.push(cut);
     }
     return new Store(out, shard === undefined ? null : join(dir, packName(shard)), table, damage, sizes, counts, cuts);
