@@ -154,3 +154,47 @@ describe('merge counts the archive as the latest shard scanned it', () => {
     expect(readJson(join(out, 'run.json')).counts).toMatchObject({ scanned: before + 2, selected: 0 });
   });
 });
+
+describe('merge on a first night whose shards did not all write a part', () => {
+  it('gives, for a shard with no part, the error its start kept or the lock it left, and what to run', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    shardRun(archive, out, 1);
+    // Shard 2 is given a spec that cannot be read; shard 3 is killed outright once its run has begun.
+    const spec = join(archive, '..', 'broken.yaml');
+    writeFileSync(spec, 'spectrum: { segment: [4096\n');
+    expect(quern('reduce', archive, '--out', out, '--shard', `2/${N}`, '--spec', spec, '--jobs', '1', '--quiet').code).toBe(2);
+    const killed = await stoppedPartWay(archive, out, 3, 'SIGKILL');
+    expect(existsSync(join(out, 'parts', 'run-3-of-3.json'))).toBe(false);
+    const refused = quern('merge', out, '--jobs', '1');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toMatch(/shard 2 of 3 failed at the start of its run, before taking its lock \(host [^,]+, pid \d+, started [^)]+\): .*broken\.yaml.*; it has written no part: mend that, run shard 2\/3 again \(quern reduce .* --shard 2\/3\), then merge/);
+    expect(refused.stderr).toMatch(new RegExp(`shard 3 of 3 did not finish its run \\(host [^,]+, pid ${killed}, started [^;]+; killed or ended by its machine: its lock parts/run-3-of-3\\.lock is left behind: process ${killed} on this host is no longer running\\), so it has written no part: run shard 3/3 again \\(quern reduce .* --shard 3/3\\), then merge`));
+    expect(refused.stderr).not.toMatch(/has not written its part yet/);
+    // Shard 2 with its spec mended and shard 3 run again: the merge goes through.
+    shardRun(archive, out, 2);
+    shardRun(archive, out, 3);
+    expect(quern('merge', out, '--jobs', '1').code).toBe(1); // the sample archive holds one recording that fails
+  });
+});
+
+describe('merge of parts that do not belong together', () => {
+  it('refuses parts of another quern version or another spec, naming each shard\'s version and each spec\'s shards', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    // Shard 2 reduces under a spec of its own (a longer spectrum segment); shard 3's part is one an older quern wrote.
+    const spec = join(archive, '..', 'other.yaml');
+    writeFileSync(spec, 'spectrum: { segment: 8192 }\n');
+    shardRun(archive, out, 1);
+    expect(quern('reduce', archive, '--out', out, '--shard', `2/${N}`, '--spec', spec, '--jobs', '1', '--quiet').code).toBe(1);
+    shardRun(archive, out, 3);
+    const part3 = join(out, 'parts', `run-3-of-${N}.json`);
+    const version: string = readJson(part3).version;
+    writeFileSync(part3, JSON.stringify({ ...readJson(part3), version: '0.0.1' }));
+    const hashes = [1, 2].map((k) => (readJson(join(out, 'parts', `run-${k}-of-${N}.json`)).spec.hash as string).slice(0, 12));
+    expect(hashes[0]).not.toBe(hashes[1]);
+    const refused = quern('merge', out, '--jobs', '1');
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain(`the parts were reduced by different versions of quern (shards 1, 2 of 3 by quern ${version}, shard 3 of 3 by quern 0.0.1; this merge is quern ${version}), whose figures differ: run shard 3 of 3 again with quern ${version}, then merge`);
+    expect(refused.stderr).toMatch(new RegExp(`the parts were reduced with different specs: shards 1, 3 of 3 with spec ${hashes[0]} from \\(default\\); shard 2 of 3 with spec ${hashes[1]} from \\S*other\\.yaml;`));
+    expect(existsSync(join(out, 'features.parquet'))).toBe(false);
+  });
+});

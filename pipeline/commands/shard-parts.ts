@@ -44,3 +44,54 @@ export async function unfinishedShards(out: string, parts: RunRecord[]): Promise
   return problems;
 }
 
+
+/** Shard numbers in words: "shard 2" or "shards 1, 3". */
+const shardsWord = (ks: number[]) => `${ks.length === 1 ? 'shard' : 'shards'} ${ks.join(', ')}`;
+
+/**
+ * Shards of count `n` that have written no part, with what their kept start and left lock tell: failed at the start (its
+ * error), killed or stopped part-way (host, pid, start; the lock a holder now gone left), or never started; and what to run.
+ * Shards still running are refused before, by their held locks.
+ */
+export async function missingShards(out: string, n: number, parts: RunRecord[]): Promise<string[]> {
+  const problems: string[] = [], never: number[] = [];
+  for (let k = 1; k <= n; k++) {
+    if (parts.some((p) => p.shard?.k === k)) continue;
+    const shard = { k, n };
+    const start = await readShardStart(out, shard);
+    const lock = await leftLock(lockPath(out, shard));
+    const latest = start ?? lock?.holder ?? null;
+    if (!latest && !lock) { never.push(k); continue; }
+    const who = latest ? `host ${latest.host}, pid ${latest.pid}, started ${latest.started}` : 'its holder unreadable';
+    const again = `run shard ${k}/${n} again${latest?.command ? ` (${latest.command})` : ''}, then merge`;
+    if (start?.failed != null) problems.push(`shard ${k} of ${n} failed at the start of its run, before taking its lock (${who}): ${start.failed}; it has written no part: mend that, ${again}`);
+    else problems.push(`shard ${k} of ${n} did not finish its run (${who}; ${lock ? `killed or ended by its machine: its lock parts/run-${k}-of-${n}.lock is left behind: ${lock.why}` : 'it ended before writing its part'}), so it has written no part: ${again}`);
+  }
+  if (never.length) problems.unshift(`${shardsWord(never)} of ${n} ${never.length > 1 ? 'have not written their part yet; run them' : 'has not written its part yet; run it'}, then merge again`);
+  return problems;
+}
+
+/** Parts reduced by another version of quern than this merge's, named by shard and version, with what to run again. */
+export function versionProblem(parts: RunRecord[], version: string): string | null {
+  if (parts.every((p) => p.version === version)) return null;
+  const byVersion = new Map<string, number[]>();
+  for (const p of [...parts].sort((a, b) => a.shard!.k - b.shard!.k)) byVersion.set(p.version, [...(byVersion.get(p.version) ?? []), p.shard!.k]);
+  const n = parts[0].shard!.n;
+  const said = [...byVersion].map(([v, ks]) => `${shardsWord(ks)} of ${n} by quern ${v}`).join(', ');
+  const others = parts.filter((p) => p.version !== version).map((p) => p.shard!.k).sort((a, b) => a - b);
+  return `the parts were reduced by different versions of quern (${said}; this merge is quern ${version}), whose figures differ: run ${shardsWord(others)} of ${n} again with quern ${version}, then merge`;
+}
+
+/** Parts reduced with different specs, grouped by spec (its hash's first 12 digits and its file, or `(default)`), naming each group's shards. */
+export function specProblem(parts: RunRecord[]): string | null {
+  const bySpec = new Map<string, { source: string; ks: number[] }>();
+  for (const p of [...parts].sort((a, b) => a.shard!.k - b.shard!.k)) {
+    const was = bySpec.get(p.spec.hash);
+    if (was) was.ks.push(p.shard!.k);
+    else bySpec.set(p.spec.hash, { source: p.spec.source, ks: [p.shard!.k] });
+  }
+  if (bySpec.size < 2) return null;
+  const n = parts[0].shard!.n;
+  const said = [...bySpec].map(([hash, s]) => `${shardsWord(s.ks)} of ${n} with spec ${hash.slice(0, 12)} from ${s.source}`).join('; ');
+  return `the parts were reduced with different specs: ${said}; run the shards whose spec is not the one meant again with it, so that every shard runs with the same spec, then merge`;
+}

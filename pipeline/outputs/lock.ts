@@ -185,7 +185,7 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
   return { path, tookOver, release };
 }
 
-/** The shards of this folder whose runs still hold their lock (merge waits for them). */
+/** The shards of this folder whose runs still hold their lock (merge refuses while they run). */
 export async function heldShardLocks(out: string): Promise<LockHolder[]> {
   const dir = join(out, 'parts');
   const held: LockHolder[] = [];
