@@ -198,3 +198,22 @@ describe('merge of parts that do not belong together', () => {
     expect(existsSync(join(out, 'features.parquet'))).toBe(false);
   });
 });
+
+describe('merge of shards run over a period', () => {
+  it('states the recordings of the period as the shards\' sums, in run.json and on the terminal alike', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    const since = ['--since', '2026-11-19'];
+    for (let k = 1; k <= N; k++) quern('reduce', archive, '--out', out, '--shard', `${k}/${N}`, '--jobs', '1', '--quiet', ...since);
+    const parts = Array.from({ length: N }, (_, i) => readJson(join(out, 'parts', `run-${i + 1}-of-${N}.json`)));
+    const selected = parts.reduce((n, p) => n + p.counts.selected, 0), reduced = parts.reduce((n, p) => n + p.counts.reduced, 0);
+    expect(parts.filter((p) => p.counts.selected > 0).length).toBeGreaterThan(1); // the period's recordings lie in more than one share
+    expect(parts.map((p) => p.period.selected)).toEqual(parts.map((p) => p.counts.selected));
+    const merged = quern('merge', out, '--jobs', '1');
+    const run = readJson(join(out, 'run.json'));
+    expect(run.recordings).toHaveLength(selected);
+    expect(run.counts).toMatchObject({ selected, reduced });
+    expect(run.period.selected).toBe(selected);
+    expect(merged.stdout).toMatch(new RegExp(`^quern \\S+: ${reduced} of ${selected} recordings reduced`, 'm'));
+    expect(merged.stdout).toMatch(new RegExp(`^  period: .*: ${selected} recordings start in it$`, 'm'));
+  });
+});

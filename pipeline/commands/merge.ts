@@ -91,7 +91,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
       declarationNotes: first.declaration_notes ?? [], groupsWithoutRecordings: first.groups_without_recordings ?? [],
       brokenGroups,
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, selected: parts.reduce((n, p) => n + (p.period?.selected ?? 0), 0), quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
       damage: store.damage, cutShort: store.cutShort, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
       merged: { shards: n, arrived_during_shards: arrived },
     });
