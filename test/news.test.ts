@@ -86,7 +86,7 @@ describe('what is new tonight', () => {
   it('a change that rises to an alarm limit on night 6 is news again; a first run over the whole archive finds everything new', () => {
     // Baseline rms about 1.07 m/s² (the tone's 1.5/√2 and the noise, at scale 100); the alarm at 3.4 m/s², +10 dB, lies
     // between the step's +8 dB and night 6's +11 dB.
-    const { out, arrive, reduce, changes } = rig([1, 1, 1, STEP, STEP, STEP * 10 ** (3 / 20), STEP * 10 ** (3 / 20)], 'rms: { alarm: 3.4 }');
+    const { arrive, reduce, changes } = rig([1, 1, 1, STEP, STEP, STEP * 10 ** (3 / 20), STEP * 10 ** (3 / 20)], 'rms: { alarm: 3.4 }');
     for (let n = 1; n <= 5; n++) arrive(n);
     const first = reduce('--exit-on', 'new', '--log', 'json');
     expect(first.code).toBe(3);
