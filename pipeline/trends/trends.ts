@@ -81,6 +81,11 @@ export async function trendsBasis(out: string, spec: ReductionSpec, o: TrendsInp
 /** What the trends step leaves to be put in place with the run's other outputs: staged tables, and what to do after. */
 export interface TrendsWrite {
   outcome: TrendsOutcome | null;
+  /**
+   * What the outputs' digest reads of the changes: the report before its news are marked. What is new is told against the
+   * previous run, so a re-run that changes nothing else leaves the outputs, and their marks, as the run that wrote them left them.
+   */
+  basis: unknown;
   /** Staged tables (closed), to be renamed into place together with the other outputs; empty when nothing changed. */
   files: StagedFile[];
   /** Just before the staged tables go in place: the kept digest forgotten, so that it never vouches for tables half replaced. */
@@ -102,13 +107,13 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
   // Kept or worked out, the report's new items are marked against the previous run's, kept once the outputs are in place.
   const [earlier, { changesSection }] = await Promise.all([readReported(out), import('../outputs/report-changes.js')]);
   const withNews = (k: KeptOutcome | null) => {
-    if (!k) return { outcome: null, keepNews: async () => {} };
+    if (!k) return { outcome: null, basis: null, keepNews: async () => {} };
     const report = markNews(k.report, earlier);
-    return { outcome: { report, html: changesSection(report, k.pictures) }, keepNews: () => keepReported(out, reportedNow(report, earlier, new Set(k.steady))) };
+    return { outcome: { report, html: changesSection(report, k.pictures) }, basis: { report: k.report, pictures: k.pictures }, keepNews: () => keepReported(out, reportedNow(report, earlier, new Set(k.steady))) };
   };
   if (kept) {
-    const { outcome, keepNews } = withNews(kept.outcome);
-    return { outcome, files: [], forget: async () => {}, done: keepNews };
+    const { outcome, basis, keepNews } = withNews(kept.outcome);
+    return { outcome, basis, files: [], forget: async () => {}, done: keepNews };
   }
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
   const [{ columnBatches, writeStreamedTable }, { picturesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
@@ -125,9 +130,9 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
       const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, presentEntriesAsStored(o.store, o.present)) : [];
       pure = { report, pictures: await picturesHtml(report, pictures), steady: [...steady] };
     }
-    const { outcome, keepNews } = withNews(pure);
+    const { outcome, basis, keepNews } = withNews(pure);
     return {
-      outcome, files,
+      outcome, basis, files,
       // Forgotten only as the tables go in place: a run that fails or stops before leaves the kept digest with the tables it vouches for.
       forget: () => rm(keptPath(out), { force: true }),
       done: async () => {
