@@ -17,16 +17,17 @@ const exporting = () => import('./exports/export.js');
 
 /**
  * 0: every recording reduced (or checked) cleanly; 1: some recordings failed; 2: unusable input, output folder in use, a
- * failed write, or an unexpected error; 3: with --exit-on, what it names happened (a change, an alarm, a group fallen quiet).
+ * failed write, or an unexpected error; 3: with --exit-on, what it names happened (a change, an alarm, a change or alarm new
+ * in this run, a group fallen quiet).
  */
 export const EXIT = { ok: 0, someFailed: 1, unusable: 2, changed: 3 } as const;
 
 const EXIT_ON = {
   type: 'string',
-  describe: 'Exit with code 3 when a watched feature of this run\'s recordings reads changed or at an alarm limit (changed), at an alarm limit (alarm), or a group has fallen quiet over a --since period (quiet); one or a comma list, such as alarm,quiet, so that a nightly job\'s scheduler can tell',
+  describe: 'Exit with code 3 when a watched feature of this run\'s recordings reads changed or at an alarm limit (changed), at an alarm limit (alarm), changed or at an alarm limit where the previous run into the output folder did not report it so (new), or a group has fallen quiet over a --since period (quiet); one or a comma list, such as new,quiet, so that a nightly job\'s scheduler can tell',
 } as const;
 
-const EXIT_ON_WORDS = ['changed', 'alarm', 'quiet'] as const;
+const EXIT_ON_WORDS = ['changed', 'alarm', 'quiet', 'new'] as const;
 type ExitOn = Set<(typeof EXIT_ON_WORDS)[number]>;
 
 /** --exit-on's words; an unknown one is a usage error naming the ones there are. */
@@ -34,7 +35,7 @@ function parseExitOn(text: string | string[] | undefined): ExitOn {
   // Given more than once (--exit-on changed --exit-on quiet), the words of each count.
   const words = [text ?? ''].flat().join(',').split(',').map((w) => w.trim()).filter(Boolean);
   const unknown = words.filter((w) => !(EXIT_ON_WORDS as readonly string[]).includes(w));
-  if (unknown.length || (text != null && !words.length)) throw new UsageError(`--exit-on: "${text}" is not ${EXIT_ON_WORDS.join(', ')} or a comma list of them (alarm,quiet)`);
+  if (unknown.length || (text != null && !words.length)) throw new UsageError(`--exit-on: "${text}" is not changed, alarm, quiet or a comma list of them (alarm,quiet), nor new, which may stand alone or in the list (new,quiet): a change or alarm the previous run did not report`);
   return new Set(words) as ExitOn;
 }
 
@@ -44,10 +45,12 @@ function exitCodeOf(r: RunRecord, changes: ChangesReport | null | undefined, exi
   const alarms = exitOn.has('alarm') || exitOn.has('changed') ? items.filter((c) => c.verdict === 'alarm').length : 0;
   const changed = exitOn.has('changed') ? items.length - alarms : 0;
   const quiet = exitOn.has('quiet') ? quietGroupsOf(r).length : 0;
+  const fresh = exitOn.has('new') ? items.filter((c) => c.new).length : 0;
   const failed = failedOf(r);
   const said = [
     alarms ? `${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit` : null,
     changed ? `${changed} channel ${changed === 1 ? 'feature' : 'features'} changed` : null,
+    fresh ? `${fresh} channel ${fresh === 1 ? 'feature' : 'features'} new in this run (changed or at an alarm limit, not so reported by the previous run)` : null,
     quiet ? `${quiet} ${quiet === 1 ? 'group' : 'groups'} quiet over the period` : null,
   ].filter(Boolean);
   if (!said.length) return { code: failed > 0 ? EXIT.someFailed : EXIT.ok, said: null };
@@ -74,7 +77,7 @@ const EXPORT_FORMAT_OPTIONS = {
   wide: { type: 'boolean', default: false, describe: 'Also a wide layout: one row per recording, channel-prefixed columns' },
 } as const;
 
-const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs or exports that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, what it names happened (a feature changed or at an alarm limit, a group quiet).`;
+const EPILOGUE = `Exit codes: 0 every recording reduced; 1 some recordings failed (the rest are in the table); 2 unusable input (no archive, invalid declaration or spec), the output folder in use by another run, outputs or exports that could not be written, or an unexpected error in quern (the previous outputs are kept); 3 with --exit-on, what it names happened (a feature changed or at an alarm limit, one new in this run, a group quiet).`;
 
 const fmt = (v: unknown) => (typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(6)) : v == null ? '—' : String(v));
 
@@ -202,7 +205,7 @@ async function main(argv: string[]): Promise<number> {
       if (a.log === 'json') {
         // What a job reading the log needs besides the counts: what changed in the machine, which rigs fell quiet, what the
         // run found of earlier ones (a lock taken over, stored entries damaged; under run.json's names), and how it ends.
-        const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length } : null;
+        const changes = quality.changes ? { alarm: quality.changes.items.filter((c) => c.verdict === 'alarm').length, changed: quality.changes.items.filter((c) => c.verdict === 'changed').length, new: quality.changes.items.filter((c) => c.new).length } : null;
         const late = record.period?.late_arrivals, renewed = record.period?.recomputed_for_baselines;
         progress.event?.('summary', {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),

@@ -38,8 +38,8 @@ export function outputsDigest(d: DigestInput): string {
  * The digest of the outputs: their basis and what changed against the baselines (which rests on the whole stored history;
  * null when trends are off). Equal digests mean equal tables and reports, row for row.
  */
-export const withChanges = (basis: string, changes: { outcome: unknown } | null): string =>
-  createHash('sha256').update(`${basis}\n${canonicalJson(changes?.outcome ?? null)}`).digest('hex');
+export const withChanges = (basis: string, changes: { basis: unknown } | null): string =>
+  createHash('sha256').update(`${basis}\n${canonicalJson(changes?.basis ?? null)}`).digest('hex');
 
 /** What the digest file keeps: the digest and its basis, the run that wrote the outputs, their sizes, and the terminal's quality summary. */
 export interface DigestRecord { digest: string; basis?: string; run_id: string; written: string; files: Record<string, number>; quality: QualitySummary }

@@ -133,7 +133,9 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await changes?.forget();
       await commitAll(trends);
       await changes?.done();
-      return { quality: current.quality, rewritten: false, digest: current.digest, writtenBy: current.run_id, keep: async () => {} };
+      // The same changes, marked new against this run's previous report: the terminal and the exit code tell this run's news.
+      const quality = changes?.outcome ? { ...current.quality, changes: changes.outcome.report } : current.quality;
+      return { quality, rewritten: false, digest: current.digest, writtenBy: current.run_id, keep: async () => {} };
     }
   }
   /** The changes, once worked out (on this thread, while the workers assemble slices). */

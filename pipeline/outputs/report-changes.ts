@@ -140,26 +140,18 @@ const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' 
 
 function row(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
-  return `<tr data-feature="${esc(c.feature)}"><td>${badge(c.verdict)}${c.held ? ' held' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+  return `<tr data-feature="${esc(c.feature)}"${c.new ? ' data-new="true"' : ''}><td>${badge(c.verdict)}${c.held ? ' held' : ''}${c.new ? ' <b>new</b>' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
 }
 
-/** The section, charts rendered to SVG; empty text when trends are off. */
-export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[]): Promise<string> {
-  const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
-  const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
-  out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
-  if (!r.items.length) {
-    // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
-    const mostlyUnjudged = r.totals.unscored > r.totals.steady;
-    out.push(mostlyUnjudged
-      ? `<p class="unjudged">No change found, but only ${r.totals.steady} channel features of this run have a verdict (steady); ${r.totals.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
-      : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
-    return out.join('\n');
-  }
-  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed; ${r.totals.steady} read steady.</p>`);
+/**
+ * Each pictured channel's part of the section, charts rendered to SVG: drawn once for a history, and kept with the trends,
+ * since the table above them (changesSection) marks what is new in each run.
+ */
+export async function picturesHtml(r: ChangesReport, pictures: ChannelPictures[]): Promise<string> {
+  if (!r.items.length) return '';
   // The charting modules load only when a channel's pictures are drawn.
   const { svg } = pictures.length ? await import('./charts.js') : { svg: async () => '' };
-  out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
+  const out: string[] = [];
   for (const p of pictures) {
     const worst = p.items.some((c) => c.verdict === 'alarm') ? 'alarm' : 'changed';
     const latestLabel = `latest (${day(p.items[0].start_time, p.items[0].recording)})`;
@@ -175,6 +167,37 @@ ${KEY}
 <div class="charts">${charts.join('')}</div></section>`);
   }
   if (pictures.length < new Set(r.items.map((c) => `${c.group}\u0000${c.channel}`)).size) out.push(`<p class="note">Pictures are shown for the ${pictures.length} channels with the strongest changes; every change is in the table above, quality.json and trends.parquet.</p>`);
+  return out.join('\n');
+}
+
+/** How many items are new, as the section's count says it; empty before the news are marked. */
+function newsText(r: ChangesReport): string {
+  if (!r.news) return '';
+  if (!r.news.compared) return '; all new: no earlier report of this output folder is kept to compare with';
+  return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed first` : '; none new: the previous run reported each of them';
+}
+
+/** The section around the pictures drawn by picturesHtml: the count, the table (new items marked in words), the pictures. */
+export function changesSection(r: ChangesReport, pictured: string): string {
+  const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
+  const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
+  out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
+  if (!r.items.length) {
+    // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
+    const mostlyUnjudged = r.totals.unscored > r.totals.steady;
+    out.push(mostlyUnjudged
+      ? `<p class="unjudged">No change found, but only ${r.totals.steady} channel features of this run have a verdict (steady); ${r.totals.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
+      : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
+    return out.join('\n');
+  }
+  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${r.totals.steady} read steady.</p>`);
+  out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
+  if (pictured) out.push(pictured);
   out.push('</section>');
   return out.join('\n');
+}
+
+/** The section, charts rendered to SVG; empty text when trends are off. */
+export async function changesHtml(r: ChangesReport, pictures: ChannelPictures[]): Promise<string> {
+  return changesSection(r, await picturesHtml(r, pictures));
 }

@@ -7,6 +7,7 @@ import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
 import { heldAcrossStale, type HeldAcrossStale } from './held-across-stale.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
 import { againstFloor, floorOf, type BelowFloor } from './floor.js';
+import { changeKey } from './news.js';
 import { medianAndMad } from './robust.js';
 import { changeDb, robustScore } from './score.js';
 import { heldVerdict, limitReached, nearness, verdictOf, VERDICTS, type Verdict } from './verdict.js';
@@ -133,6 +134,8 @@ export interface ChangeItem {
   held: boolean;
   /** Present where the baseline or the value lies below its measurable floor: which, and the floor (then change_db is a bound: a rise of at least, a fall of at least its size). */
   floor?: { below: BelowFloor; level: number };
+  /** Not reported at this verdict or above by the output folder's previous run (news.ts); absent before the news are marked. */
+  new?: boolean;
 }
 
 export interface ChangesReport {
@@ -141,8 +144,10 @@ export interface ChangesReport {
   features: string[];
   /** Verdicts over this run's rows of trends.parquet; unscored: baseline forming or data unusable. */
   totals: Record<Verdict | 'unscored', number>;
-  /** Channel features whose latest verdict is not steady: alarms first, then by strength. */
+  /** Channel features whose latest verdict is not steady: the new ones first (once marked), each part alarms first, then by strength. */
   items: ChangeItem[];
+  /** Once the news are marked: how many items are new, and whether an earlier run's report was kept to compare with (false: every item is new). */
+  news?: { new: number; compared: boolean };
   /** Channel features of this run with no baseline because its recordings hold figures of other spec options, another declaration or another version. */
   stale_baselines: number;
   /** Present when stale_baselines is not 0: of those, how many hold places stored by another version, under other options, under another declaration (a feature may count under several). */
@@ -179,9 +184,10 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
 /**
  * The latest state of each channel feature among this run's recordings, and the counts of all verdicts. `sinceMs` is the start
  * of the run's period (--since), so that baselines formed from that period alone are counted, unless `earlierStored` says
- * every recording of the archive outside the period is stored already (no run could form them from more).
+ * every recording of the archive outside the period is stored already (no run could form them from more). `steady` gathers
+ * the keys (news.ts) of the channel features whose latest verdict is steady.
  */
-export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false): ChangesReport {
+export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false, steady: Set<string> = new Set()): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0, periodForming = 0;
@@ -223,6 +229,8 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
     }
     if (latest < 0) continue;
     const p = f.at(latest)!;
+    // Collected for the news: a change the previous run reported clears only where this run sees the feature steady.
+    if (p.verdict === 'steady') steady.add(changeKey({ group: s.group, channel: s.channel, channel_unit: s.unit, feature: f.feature.name }));
     if (p.verdict === 'steady' || !p.verdict) continue;
     let since = latest;
     const eraStart = f.eras[eraAt(f.eras, s.time[latest])].fromMs;

@@ -36,13 +36,26 @@ export function formingLine(forming: NonNullable<ChangesReport['forming_baseline
   return `  no baseline yet for ${features} channel ${features === 1 ? 'feature' : 'features'} of ${where}, so no change verdict: ${features === 1 ? 'it waits' : 'they wait'} for ${toCome(more)} (baselines form from the first ${firsts.join(' or ')}); each is in quality.json (changes.unformed_baselines)`;
 }
 
+/** How many of the changes are new since the output folder's previous run, and how many it reported already; null without changes or news. */
+export function newsLine(r: ChangesReport): string | null {
+  if (!r.news || !r.items.length) return null;
+  const n = r.news.new, all = r.items.length, before = all - n;
+  if (!r.news.compared) return `  new:     all ${all}: no earlier report of this output folder is kept (cache/reported-changes.json) to compare with`;
+  if (!n) return `  new:     none: the previous run into this output folder reported ${all === 1 ? 'it' : `all ${all}`} already`;
+  return `  new:     ${n} new in this run (marked NEW, listed first), ${before} reported already by the previous run into this output folder`;
+}
+
 export function changesSummary(r: ChangesReport, top = 5): string[] {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
   // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear.
   const unscored = r.totals.unscored ? `; ${r.totals.steady} steady, ${r.totals.unscored} with no verdict (baseline forming, held by figures of other options, or data unusable)` : '';
   const lines = [`  changes: ${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
-  for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}`);
-  if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet`);
+  const news = newsLine(r);
+  if (news) lines.push(news);
+  // The items come new first (news.ts), so a mail's first lines are tonight's.
+  for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}${c.new ? '; NEW' : ''}`);
+  const untold = r.items.slice(top).filter((c) => c.new).length;
+  if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet${untold ? ` (${untold} of them new)` : ''}`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced ${storedText(r.stale_causes ?? {}) ?? 'under other options, another declaration of their group or another version of quern'}; run once without --since, or with --since alone and unsharded, to recompute them`);
   const held = r.held_across_stale ?? [];
   if (held.length) {

@@ -11,11 +11,18 @@ import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
 import { readHistory, type Declarations, type History } from './history.js';
+import { keepReported, markNews, readReported, reportedNow } from './news.js';
 import type { TrendOptions } from './options.js';
 import { gatherPictures } from './pictures.js';
 import { TRENDS_TABLE } from './tables.js';
 
 export interface TrendsOutcome { report: ChangesReport; html: string }
+
+/**
+ * What is kept of the trends while their history is unchanged: the report before its news are marked, the pictured channels'
+ * part of the section (news.ts marks a run's new items in the table above it), and the channel features whose latest verdict is steady.
+ */
+interface KeptOutcome { report: ChangesReport; pictures: string; steady: string[] }
 
 /** What the tables and the changes are made from: the spec, the tool, and each present recording's group and stored results checksum. */
 function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun: ReadonlySet<string>, metadata: Record<string, string>, since: number | null, earlierStored: boolean, declarations: Declarations): string {
@@ -28,13 +35,14 @@ function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun
   return h.digest('hex');
 }
 
-interface KeptTrends { digest: string; files: Record<string, number>; outcome: TrendsOutcome | null }
+interface KeptTrends { digest: string; files: Record<string, number>; outcome: KeptOutcome | null }
 const keptPath = (out: string) => join(out, 'cache', 'trends.json');
 
 async function stillCurrent(out: string, digest: string): Promise<KeptTrends | null> {
   try {
     const kept = JSON.parse(await readFile(keptPath(out), 'utf8')) as KeptTrends;
-    if (kept.digest !== digest) return null;
+    // Trends kept before the news were marked hold no pictures of their own: worked out again.
+    if (kept.digest !== digest || (kept.outcome && typeof kept.outcome.pictures !== 'string')) return null;
     for (const [file, size] of Object.entries(kept.files)) if ((await stat(file).catch(() => null))?.size !== size) return null;
     return kept;
   } catch {
@@ -73,6 +81,11 @@ export async function trendsBasis(out: string, spec: ReductionSpec, o: TrendsInp
 /** What the trends step leaves to be put in place with the run's other outputs: staged tables, and what to do after. */
 export interface TrendsWrite {
   outcome: TrendsOutcome | null;
+  /**
+   * What the outputs' digest reads of the changes: the report before its news are marked. What is new is told against the
+   * previous run, so a re-run that changes nothing else leaves the outputs, and their marks, as the run that wrote them left them.
+   */
+  basis: unknown;
   /** Staged tables (closed), to be renamed into place together with the other outputs; empty when nothing changed. */
   files: StagedFile[];
   /** Just before the staged tables go in place: the kept digest forgotten, so that it never vouches for tables half replaced. */
@@ -91,23 +104,35 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
 }): Promise<TrendsWrite> {
   const since = o.since ?? null, earlierStored = o.earlierStored ?? false;
   const { digest, kept, history } = o.basis ?? await trendsBasis(out, spec, o);
-  if (kept) return { outcome: kept.outcome, files: [], forget: async () => {}, done: async () => {} };
+  // Kept or worked out, the report's new items are marked against the previous run's, kept once the outputs are in place.
+  const [earlier, { changesSection }] = await Promise.all([readReported(out), import('../outputs/report-changes.js')]);
+  const withNews = (k: KeptOutcome | null) => {
+    if (!k) return { outcome: null, basis: null, keepNews: async () => {} };
+    const report = markNews(k.report, earlier);
+    return { outcome: { report, html: changesSection(report, k.pictures) }, basis: { report: k.report, pictures: k.pictures }, keepNews: () => keepReported(out, reportedNow(report, earlier, new Set(k.steady))) };
+  };
+  if (kept) {
+    const { outcome, basis, keepNews } = withNews(kept.outcome);
+    return { outcome, basis, files: [], forget: async () => {}, done: keepNews };
+  }
   // The table and chart code (Arrow, Parquet, Vega) is loaded only when there is something to write.
-  const [{ columnBatches, writeStreamedTable }, { changesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
+  const [{ columnBatches, writeStreamedTable }, { picturesHtml }] = await Promise.all([import('./write.js'), import('../outputs/report-changes.js')]);
   const trendsFile = new StagedFile(join(out, 'trends.parquet'));
   const files: StagedFile[] = [];
   try {
-    let outcome: TrendsOutcome | null = null;
+    let pure: KeptOutcome | null = null;
     if (o.trends && history) {
       const scored = scoreHistory(history, o.trends);
-      const report = changesReport(history, scored, o.trends, since, earlierStored);
+      const steady = new Set<string>();
+      const report = changesReport(history, scored, o.trends, since, earlierStored, steady);
       await writeStreamedTable(trendsFile, TRENDS_TABLE, columnBatches(TRENDS_TABLE, o.metadata, scored, (f, into) => addTrendRows(history, f, into)), o.metadata);
       files.push(trendsFile);
       const pictures = report.items.length ? await gatherPictures(history, scored, report, o.trends, spec, presentEntriesAsStored(o.store, o.present)) : [];
-      outcome = { report, html: await changesHtml(report, pictures) };
+      pure = { report, pictures: await picturesHtml(report, pictures), steady: [...steady] };
     }
+    const { outcome, basis, keepNews } = withNews(pure);
     return {
-      outcome, files,
+      outcome, basis, files,
       // Forgotten only as the tables go in place: a run that fails or stops before leaves the kept digest with the tables it vouches for.
       forget: () => rm(keptPath(out), { force: true }),
       done: async () => {
@@ -115,7 +140,8 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
         const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
         // An archive with nothing to reduce has stored nothing, so the folder may not exist yet.
         await mkdir(dirname(keptPath(out)), { recursive: true });
-        await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome } satisfies KeptTrends));
+        await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome: pure } satisfies KeptTrends));
+        await keepNews();
       },
     };
   } catch (e) {

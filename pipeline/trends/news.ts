@@ -1,0 +1,57 @@
+// What is new in a run's changes: a channel feature changed or at an alarm limit that the output folder's previous report did
+// not hold at that level (absent, steady since, or changed where it is now at an alarm limit). The reported verdicts are kept
+// in cache/, each carried over while a run gives its channel feature no verdict (a rig that skipped a night, data unusable).
+import { mkdir, readFile } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import { writeFileAtomic } from '../outputs/atomic.js';
+import type { ChangeItem, ChangesReport } from './changes.js';
+
+/** One channel feature as the run reported it. */
+export interface Reported { group: string; channel: string; channel_unit: string; feature: string; verdict: 'changed' | 'alarm' }
+
+/** What a run keeps for the next: the channel features it reported changed or at an alarm limit (names only, no paths). */
+export interface ReportedChanges { reported: Reported[] }
+
+export const reportedPath = (out: string) => join(out, 'cache', 'reported-changes.json');
+
+/** A channel feature's key: its group, channel, channel unit (a unit changed makes another history) and feature. */
+export const changeKey = (c: Pick<Reported, 'group' | 'channel' | 'channel_unit' | 'feature'>) => `${c.group}\u0000${c.channel}\u0000${c.channel_unit}\u0000${c.feature}`;
+
+const RANK = { changed: 1, alarm: 2 } as const;
+
+/** The earlier report, or null where none is kept (a first run, cache/ deleted) or it cannot be read: then everything is new. */
+export async function readReported(out: string): Promise<ReportedChanges | null> {
+  try {
+    const r = JSON.parse(await readFile(reportedPath(out), 'utf8')) as ReportedChanges;
+    return Array.isArray(r?.reported) ? r : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * The report with each item marked `new` (and counted in `news`), new items first, each part in the report's own order
+ * (alarms first, then by strength). An item is new unless the earlier report held it at its verdict or above.
+ */
+export function markNews(r: ChangesReport, earlier: ReportedChanges | null): ChangesReport {
+  const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), RANK[x.verdict] ?? 0]));
+  const items: ChangeItem[] = r.items.map((c) => ({ ...c, new: (before.get(changeKey(c)) ?? 0) < RANK[c.verdict] }));
+  const fresh = items.filter((c) => c.new);
+  return { ...r, items: [...fresh, ...items.filter((c) => !c.new)], news: { new: fresh.length, compared: earlier != null } };
+}
+
+/**
+ * What this run reports, for the next: its items at their verdicts, and the earlier report's other channel features, but
+ * for those whose latest verdict in this run is steady (`steady`, by changeKey): a change clears only when a run sees it clear.
+ */
+export function reportedNow(r: ChangesReport, earlier: ReportedChanges | null, steady: ReadonlySet<string>): ReportedChanges {
+  const now = r.items.map(({ group, channel, channel_unit, feature, verdict }): Reported => ({ group, channel, channel_unit, feature, verdict }));
+  const keys = new Set(now.map(changeKey));
+  const carried = (earlier?.reported ?? []).filter((x) => !keys.has(changeKey(x)) && !steady.has(changeKey(x)));
+  return { reported: [...now, ...carried] };
+}
+
+export async function keepReported(out: string, r: ReportedChanges): Promise<void> {
+  await mkdir(dirname(reportedPath(out)), { recursive: true });
+  await writeFileAtomic(reportedPath(out), JSON.stringify(r) + '\n');
+}
