@@ -16,7 +16,7 @@ import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
-import { stopOnSignal, type StopTell } from './stop-on-signal.js';
+import { followed, stopOnSignal, type OutputsStand, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -31,6 +31,8 @@ export interface OpenOptions {
   tell?: StopTell;
   /** The run's progress on standard error, stopped before the signal's or the storage limit's line. */
   progress?: Pick<Progress, 'stop'>;
+  /** Told where the outputs stand at every step, so that the command's own lines after the run (or its failure's) say it truly. */
+  stand?: (stand: OutputsStand) => void;
 }
 
 /** The stopped run's line on standard error, as every other `quern:` line, with an error's stack after it. */
@@ -61,7 +63,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
     // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it.
-    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine);
+    const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine), o.stand);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
     if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
     return { storage, pool, firstRun, spec, declaration, trends, lock, stop };
