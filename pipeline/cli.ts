@@ -11,6 +11,7 @@ import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
+import { reduceCommand } from './rerun-command.js';
 import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
@@ -201,8 +202,15 @@ async function main(argv: string[]): Promise<number> {
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
       tell = afterProgress(progress, tell);
-      const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details), stand: follow });
+      const { runReduce, defaultOut } = await import('./run.js');
+      // Options left at their defaults are left out; the period's bounds are written in UTC, so a re-run covers the same one.
+      const command = reduceCommand(a.archive as string, {
+        out: a.out ?? defaultOut(a.archive as string), spec: a.spec ?? null, jobs: a.jobs, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until,
+        settle: a.settle ?? null, staleLockAfter: a.staleLockAfter !== '24h' ? a.staleLockAfter : null, stallLimit: a.stallLimit !== '5m' ? a.stallLimit : null, storageLimit: a.storageLimit !== '5m' ? a.storageLimit : null,
+        exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null, log: a.log !== 'auto' ? a.log : null, quiet: a.quiet,
+        export: a.export ?? null, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide,
+      });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details), stand: follow, command });
       const ending = exitCodeOf(record, quality.changes, exitOn);
       completedCode = ending.code;
       process.stdout.write(summaryText(record, quality) + '\n');

@@ -16,6 +16,7 @@ import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
+import { reduceCommand } from './rerun-command.js';
 import { followed, stopOnSignal, type OutputsStand, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
@@ -33,16 +34,16 @@ export interface OpenOptions {
   progress?: Pick<Progress, 'stop'>;
   /** Told where the outputs stand at every step, so that the command's own lines after the run (or its failure's) say it truly. */
   stand?: (stand: OutputsStand) => void;
+  /** The command that runs this again, as given on the command line, quoted for a shell (`reduceCommand`). */
+  command?: string;
 }
 
 /** The stopped run's line on standard error, as every other `quern:` line, with an error's stack after it. */
 const plainLine: StopTell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
 
-/** What the lock says is running: the command as it was given, with the period in UTC. */
-function lockCommand(root: string, outDir: string, o: OpenOptions): string {
-  const { shard, force, since, until } = o;
-  return `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${force ? ' --force' : ''}${since != null ? ` --since ${new Date(since).toISOString()}` : ''}${until != null ? ` --until ${new Date(until).toISOString()}` : ''}`;
-}
+/** What the lock says is running: the command as given (`command`), or else as the options opening the run say it, the period in UTC. */
+const lockCommand = (root: string, outDir: string, o: OpenOptions): string =>
+  o.command ?? reduceCommand(root, { out: outDir, spec: o.spec, jobs: o.jobs, force: o.force, shard: o.shard, since: o.since, until: o.until });
 
 /** Opens the run on `root` into `outDir`; the caller ends it with `stop.off()`, `lock.release()`, `pool.destroy()` and `storage.stop()`. */
 export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {

@@ -58,6 +58,8 @@ export interface ReduceOptions {
   tell?: StopTell;
   /** Told where the outputs stand at every step (before, while put in place, after). */
   stand?: (stand: OutputsStand) => void;
+  /** The command that runs this again, as given, for the lock and a shard's start (built from these options when absent). */
+  command?: string;
 }
 
 /** The recordings of a shard's share in the archive that the run leaves out of its lines and of its settling (outside its period). */
