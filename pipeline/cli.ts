@@ -11,6 +11,8 @@ import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
+import { reduceCommand } from './rerun-command.js';
+import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
 const exporting = () => import('./exports/export.js');
@@ -149,6 +151,12 @@ const jsonTell: Tell = (message, exitCode, details) => { jsonLine(process.stderr
 /** How the command says why it stopped, here and in the handlers of errors nothing waits for: plain until --log json is read. */
 let tell: Tell = plainTell;
 
+/** Where the run's or merge's outputs stand, as it tells at every step, so that a failure's line says it truly. */
+let stand: OutputsStand = 'previous';
+const follow = (s: OutputsStand) => { stand = s; };
+/** The exit code of a run or merge that completed, once its outputs and run.json are in place; null until then. */
+let completedCode: number | null = null;
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
   const cli = yargs(argv)
@@ -197,11 +205,19 @@ async function main(argv: string[]): Promise<number> {
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
       // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
       tell = afterProgress(progress, tell);
-      const { runReduce } = await import('./run.js');
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details) });
+      const { runReduce, defaultOut } = await import('./run.js');
+      // Options left at their defaults are left out; the period's bounds are written in UTC, so a re-run covers the same one.
+      const command = reduceCommand(a.archive as string, {
+        out: a.out ?? defaultOut(a.archive as string), spec: a.spec ?? null, jobs: a.jobs, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until,
+        settle: a.settle ?? null, staleLockAfter: a.staleLockAfter !== '24h' ? a.staleLockAfter : null, stallLimit: a.stallLimit !== '5m' ? a.stallLimit : null, storageLimit: a.storageLimit !== '5m' ? a.storageLimit : null,
+        exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null, log: a.log !== 'auto' ? a.log : null, quiet: a.quiet,
+        export: a.export ?? null, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide,
+      });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details), stand: follow, command });
+      const ending = exitCodeOf(record, quality.changes, exitOn);
+      completedCode = ending.code;
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exports && exportTo && !shard) for (const f of await exports.runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
-      const ending = exitCodeOf(record, quality.changes, exitOn);
       if (a.log === 'json') {
         // What a job reading the log needs besides the counts: what changed in the machine, which rigs fell quiet, what the
         // run found of earlier ones (a lock taken over, stored entries damaged; under run.json's names), and how it ends.
@@ -240,7 +256,8 @@ async function main(argv: string[]): Promise<number> {
       const exitOn = parseExitOn(a.exitOn);
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
-      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs });
+      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs, stand: follow });
+      completedCode = exitCodeOf(record, quality.changes, exitOn).code;
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);
       code = exitCodeSaid(record, quality.changes, exitOn);
@@ -324,7 +341,7 @@ async function main(argv: string[]): Promise<number> {
     await cli.parseAsync();
   } catch (e) {
     if (e instanceof UsageError || e instanceof WriteFailed) {
-      tell(e.message, EXIT.unusable);
+      tell(e instanceof WriteFailed && stand !== 'previous' ? e.standing(outputsWords(stand)) : e.message, EXIT.unusable);
       return EXIT.unusable;
     }
     return unexpected(e);
@@ -332,9 +349,18 @@ async function main(argv: string[]): Promise<number> {
   return code;
 }
 
-/** A fault in quern: not "some recordings failed" (1), since no table may have been written; staged outputs leave the previous ones whole. */
+/**
+ * A fault in quern: not "some recordings failed" (1), since no table may have been written; its line says where the
+ * outputs stand. A run that completed but could not write its closing lines (standard output on a full disk) ends with
+ * 2 as well, not its own code: its outputs are right, but a job's log without its summary and --exit-on line must not
+ * pass for a good night (as common practice, a program that cannot write its output fails); the line says no second run is needed.
+ */
 function unexpected(e: unknown): number {
-  tell('stopped by an unexpected error; the previous outputs are kept. Please report it with what follows:', EXIT.unusable, { stack: (e as Error)?.stack ?? String(e) });
+  if (completedCode != null && (e as NodeJS.ErrnoException)?.syscall === 'write') {
+    tell(unfinishedLogLine(stand, (e as Error).message, completedCode), EXIT.unusable);
+    return EXIT.unusable;
+  }
+  tell(`stopped by an unexpected error; ${outputsWords(stand)}. Please report it with what follows:`, EXIT.unusable, { stack: (e as Error)?.stack ?? String(e) });
   return EXIT.unusable;
 }
 

@@ -16,7 +16,8 @@ import { refuseHidingRecordings } from './select/scan.js';
 import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
-import { stopOnSignal, type StopTell } from './stop-on-signal.js';
+import { reduceCommand } from './rerun-command.js';
+import { followed, stopOnSignal, type OutputsStand, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -31,16 +32,18 @@ export interface OpenOptions {
   tell?: StopTell;
   /** The run's progress on standard error, stopped before the signal's or the storage limit's line. */
   progress?: Pick<Progress, 'stop'>;
+  /** Told where the outputs stand at every step, so that the command's own lines after the run (or its failure's) say it truly. */
+  stand?: (stand: OutputsStand) => void;
+  /** The command that runs this again, as given on the command line, quoted for a shell (`reduceCommand`). */
+  command?: string;
 }
 
 /** The stopped run's line on standard error, as every other `quern:` line, with an error's stack after it. */
 const plainLine: StopTell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
 
-/** What the lock says is running: the command as it was given, with the period in UTC. */
-function lockCommand(root: string, outDir: string, o: OpenOptions): string {
-  const { shard, force, since, until } = o;
-  return `quern reduce ${root} --out ${outDir}${shard ? ` --shard ${shard.k}/${shard.n}` : ''}${force ? ' --force' : ''}${since != null ? ` --since ${new Date(since).toISOString()}` : ''}${until != null ? ` --until ${new Date(until).toISOString()}` : ''}`;
-}
+/** What the lock says is running: the command as given (`command`), or else as the options opening the run say it, the period in UTC. */
+const lockCommand = (root: string, outDir: string, o: OpenOptions): string =>
+  o.command ?? reduceCommand(root, { out: outDir, spec: o.spec, jobs: o.jobs, force: o.force, shard: o.shard, since: o.since, until: o.until });
 
 /** Opens the run on `root` into `outDir`; the caller ends it with `stop.off()`, `lock.release()`, `pool.destroy()` and `storage.stop()`. */
 export async function openRun(root: string, outDir: string, runId: string, o: OpenOptions) {
@@ -61,7 +64,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const command = lockCommand(root, outDir, o);
     const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
     // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it.
-    const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine);
+    const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine), o.stand);
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
     if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
     return { storage, pool, firstRun, spec, declaration, trends, lock, stop };

@@ -6,7 +6,7 @@ import { resolve } from 'node:path';
 import { activeStages } from '../stages/index.js';
 import { sweepSpools } from '../stages/read/mat-spool.js';
 import { endRun } from './end-run.js';
-import type { StopTell } from './stop-on-signal.js';
+import type { OutputsStand, StopTell } from './stop-on-signal.js';
 import { openRun } from './open-run.js';
 import { declarationsNow, groupKeys } from './plan/cache.js';
 import { toolVersion } from './declare/package-files.js';
@@ -56,6 +56,10 @@ export interface ReduceOptions {
   settleMs?: number;
   /** Says why the run stopped (a signal, an error nothing waited for), with its exit code and the error's stack. */
   tell?: StopTell;
+  /** Told where the outputs stand at every step (before, while put in place, after). */
+  stand?: (stand: OutputsStand) => void;
+  /** The command that runs this again, as given, for the lock and a shard's start (built from these options when absent). */
+  command?: string;
 }
 
 /** The recordings of a shard's share in the archive that the run leaves out of its lines and of its settling (outside its period). */
@@ -175,7 +179,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     });
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();
-    stop.now('written');
+    stop.now(written.rewritten ? 'written' : 'unchanged');
     await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)])));
     failed = false;
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };

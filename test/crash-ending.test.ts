@@ -61,11 +61,41 @@ describe('a run whose log cannot be written', () => {
   }
 });
 
+describe('a run whose closing lines cannot be written', () => {
+  // Standard output on /dev/full (ENOSPC to every write, Linux null(4)): the run completes, then its summary fails.
+  it('says the run completed and where its outputs stand, exits 2 with the run\'s own code named, lock released', () => {
+    const archive = captures(), out = join(archive, '..', 'out');
+    expect(quern('reduce', archive, '--out', out, '--quiet', '--jobs', '1').code).toBe(0);
+    writeFileSync(join(archive, 'archive.yaml'), declaration('B')); // every output to be written again
+    const before = readJson(join(out, 'outputs.json')).run_id;
+    const toFull = () => {
+      const full = openSync('/dev/full', 'w');
+      try { return spawnSync(process.execPath, [cli, 'reduce', archive, '--out', out, '--jobs', '1', '--quiet'], { stdio: ['ignore', full, 'pipe'], encoding: 'utf8' }); } finally { closeSync(full); }
+    };
+    const r = toFull();
+    expect(r.status, r.stderr).toBe(2);
+    expect(r.stderr).toBe(`quern: the run completed and the new outputs, run.json and outputs.json were written by this run and are in place, but its closing lines could not be written (ENOSPC: no space left on device, write); run.json holds the run's record. Exit code 2 rather than the run's own 0, since its log is incomplete; the outputs need no second run\n`);
+    // What the line says is what happened: this run's record, its digest file and its tables.
+    const run = readJson(join(out, 'run.json'));
+    expect(run.outputs.rewritten).toBe(true);
+    expect(readJson(join(out, 'outputs.json')).run_id).toBe(run.run_id);
+    expect(run.run_id).not.toBe(before);
+    expect(readJson(join(out, 'quality.json')).run_id).toBe(run.run_id);
+    expect(existsSync(join(out, 'run.lock'))).toBe(false);
+    expect(temporaries(out)).toEqual([]);
+    // Again, nothing changed: the outputs are left as they were, and the line says so.
+    const again = toFull();
+    expect(again.status).toBe(2);
+    expect(again.stderr).toMatch(/^quern: the run completed and the outputs, unchanged, are in place, with this run's run.json, but its closing lines could not be written \(ENOSPC/);
+    expect(readJson(join(out, 'run.json')).outputs.rewritten).toBe(false);
+  });
+});
+
 /**
  * A process that holds a run's lock and a staged output, with the run's stop set as `openRun` sets it, and then throws
  * from a timer (`throw`) or leaves a promise rejected (`reject`): the ways an error escapes every caller.
  */
-function crashWhileHolding(out: string, how: 'throw' | 'reject', stand: 'previous' | 'replacing') {
+function crashWhileHolding(out: string, how: 'throw' | 'reject', stand: 'previous' | 'replacing' | 'written' | 'unchanged') {
   const script = `
     import { takeLock, lockPath } from ${JSON.stringify(built('outputs/lock.js'))};
     import { StagedFile } from ${JSON.stringify(built('outputs/staged.js'))};
@@ -106,5 +136,12 @@ describe('an error no caller waits for, while a run holds its lock', () => {
     expect(r.status, r.stderr).toBe(2);
     expect(r.stderr.split('\n')[0]).toBe('quern: stopped by an unexpected error while the new outputs were put in place; outputs.json is absent until the next run writes them again, and the results stored so far are kept for the next run; its temporary files and lock are removed. Please report it with what follows:');
     expect(existsSync(join(out, 'run.lock'))).toBe(false);
+  });
+  it('after the outputs were written, or found unchanged beside this run\'s record: says so', () => {
+    const written = crashWhileHolding(tempDir(), 'throw', 'written');
+    expect(written.status, written.stderr).toBe(2);
+    expect(written.stderr.split('\n')[0]).toBe('quern: stopped by an unexpected error after the new outputs were written; the results stored so far are kept for the next run; its temporary files and lock are removed. Please report it with what follows:');
+    const unchanged = crashWhileHolding(tempDir(), 'throw', 'unchanged');
+    expect(unchanged.stderr.split('\n')[0]).toBe('quern: stopped by an unexpected error after the run\'s record was written; the outputs, unchanged, are in place, and the results stored so far are kept for the next run; its temporary files and lock are removed. Please report it with what follows:');
   });
 });

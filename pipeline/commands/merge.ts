@@ -12,7 +12,7 @@ import { watchStorage } from '../reduce/storage-watch.js';
 import { byRecording, FINAL_NAMES, writeOutputs } from '../outputs/outputs.js';
 import { removeOwnTemporaries, sweepLeftovers } from '../outputs/sweep-leftovers.js';
 import { endRun } from '../end-run.js';
-import { stopOnSignal } from '../stop-on-signal.js';
+import { followed, stopOnSignal, type OutputsStand } from '../stop-on-signal.js';
 import { toolVersion } from '../declare/package-files.js';
 import type { QualitySummary } from '../outputs/quality.js';
 import { openPool } from '../reduce/pool.js';
@@ -26,7 +26,7 @@ import { stageTrends } from '../trends/trends.js';
 import { quietByCadence, shardOf, type CaptureDue, type QuietGroup } from '../select/select.js';
 import { combinedLateArrivals, type LateArrivals } from '../select/late-arrivals.js';
 
-export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { jobs?: number; storageMs?: number } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
+export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stand }: { jobs?: number; storageMs?: number; stand?: (stand: OutputsStand) => void } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const outDir = resolve(out);
   const partsDir = join(outDir, 'parts');
@@ -58,7 +58,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
   const storage = watchStorage([outDir], storageMs);
   const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
   const pool = openPool(jobs);
-  const stop = stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); });
+  const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); }), stand);
   let failed = true;
   try {
     const leftovers = await sweepLeftovers(outDir, null);
@@ -97,6 +97,7 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000 }: { 
     });
     await writeRunRecord(outDir, 'run.json', record);
     await written.keep();
+    stop.now(written.rewritten ? 'written' : 'unchanged');
     failed = false;
     return { record, quality: written.quality };
   } finally {

@@ -3,9 +3,10 @@
 import type { BrokenGroup } from './broken-groups.js';
 import type { QuietGroup } from '../select/select.js';
 import { createHash } from 'node:crypto';
-import { readFile, rm, stat } from 'node:fs/promises';
+import { readFile, rm } from 'node:fs/promises';
 import { canonicalJson } from '../declare/canonical-json.js';
 import { writeFileAtomic } from './atomic.js';
+import { filesInPlace } from './in-place.js';
 import type { QualitySummary } from './quality.js';
 
 export interface DigestInput {
@@ -41,19 +42,18 @@ export function outputsDigest(d: DigestInput): string {
 export const withChanges = (basis: string, changes: { basis: unknown } | null): string =>
   createHash('sha256').update(`${basis}\n${canonicalJson(changes?.basis ?? null)}`).digest('hex');
 
-/** What the digest file keeps: the digest and its basis, the run that wrote the outputs, their sizes, and the terminal's quality summary. */
+/** What the digest file keeps: the digest and its basis, the run that wrote the outputs, their sizes (by name relative to the output folder), and the terminal's quality summary. */
 export interface DigestRecord { digest: string; basis?: string; run_id: string; written: string; files: Record<string, number>; quality: QualitySummary }
 
 export async function readDigest(path: string): Promise<DigestRecord | null> {
   try { return JSON.parse(await readFile(path, 'utf8')); } catch { return null; }
 }
 
-/** True when the digest matches and every output is in place at the size it was written with. */
-export async function stillCurrent(path: string, digest: string): Promise<DigestRecord | null> {
+/** True when the digest matches and every output is in place in `out`, the folder the run writes, at the size it was written with. */
+export async function stillCurrent(out: string, path: string, digest: string): Promise<DigestRecord | null> {
   const d = await readDigest(path);
   if (!d || d.digest !== digest) return null;
-  for (const [file, size] of Object.entries(d.files)) if ((await stat(file).catch(() => null))?.size !== size) return null;
-  return d;
+  return (await filesInPlace(out, d.files)) ? d : null;
 }
 
 /** Forgets the digest before outputs are replaced: a run stopped half-way must not leave a digest that vouches for them. */

@@ -18,6 +18,7 @@ import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { ownBuffers, release } from '../store/release.js';
 import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
+import { keptFiles } from './in-place.js';
 import { outputTables } from './output-tables.js';
 import type { Located } from '../store/pack.js';
 
@@ -127,7 +128,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     changes = await made;
     trends.push(...(changes?.files ?? []));
     // The changes rest on the whole history, not only on these items.
-    const current = await stillCurrent(digestPath, withChanges(basis, changes));
+    const current = await stillCurrent(outDir, digestPath, withChanges(basis, changes));
     if (current) {
       // Trends tables staged afresh (a history that changed elsewhere) still go in place; the rest is left as it is.
       await changes?.forget();
@@ -249,7 +250,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     // A spectra table left from a spec that had the section would be stale.
     if (names.spectra && !spectra) await rm(join(outDir, names.table('spectra')), { force: true });
     await changes?.done();
-    const files = Object.fromEntries(outputs.map((f) => [f.path, f.size]));
+    const files = keptFiles(outDir, outputs);
     const digest = withChanges(basis, changes);
     // Kept only after the run's record: the outputs beside a digest file are one run's whole set, run.json with them.
     const keep = () => keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });

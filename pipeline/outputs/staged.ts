@@ -21,12 +21,17 @@ export class WriteFailed extends Error {
   readonly forbidden: boolean;
   /** The system's code of the cause (ENOSPC, EROFS…), when it gave one. */
   readonly code: string | undefined;
+  private readonly todo: string;
+  /** The message with where the outputs stand in `outputs`' words, for a write that failed once the run had begun to put them in place. */
+  standing(outputs: string): string { return `cannot write ${this.file}: ${this.what}; ${outputs}. ${this.todo}`; }
   constructor(readonly file: string, readonly reason: unknown) {
     const cause = reason;
     const code = (cause as NodeJS.ErrnoException)?.code;
     const what = code && CAUSES[code] ? `${CAUSES[code]} (${code})` : (cause as Error)?.message ?? String(cause);
     const forbidden = code != null && FORBIDDEN.has(code);
-    super(`cannot write ${file}: ${what}; the previous outputs are kept. ${forbidden ? 'Let the run write there, or give another folder with --out' : code === 'EISDIR' ? 'Move that folder away' : 'Free space or raise the limit'}, then run again`);
+    const todo = `${forbidden ? 'Let the run write there, or give another folder with --out' : code === 'EISDIR' ? 'Move that folder away' : 'Free space or raise the limit'}, then run again`;
+    super(`cannot write ${file}: ${what}; the previous outputs are kept. ${todo}`);
+    this.todo = todo;
     this.what = what;
     this.forbidden = forbidden;
     this.code = code;

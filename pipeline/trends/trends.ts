@@ -1,12 +1,13 @@
 // After a run's results are stored: each watched feature against its channel's baseline (trends.parquet, and what changed
 // for quality.json, quality.html and the terminal).
 import { createHash } from 'node:crypto';
-import { mkdir, readFile, rm, stat } from 'node:fs/promises';
+import { mkdir, readFile, rm } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { canonicalJson } from '../declare/canonical-json.js';
 import { presentEntriesAsStored, type Present } from '../plan/cache.js';
 import { writeFileAtomic } from '../outputs/atomic.js';
+import { filesInPlace, keptFiles } from '../outputs/in-place.js';
 import type { Store } from '../store/store.js';
 import { StagedFile } from '../outputs/staged.js';
 import { addTrendRows, changesReport, scoreHistory, type ChangesReport } from './changes.js';
@@ -35,6 +36,7 @@ function trendsDigest(spec: ReductionSpec, store: Store, present: Present, inRun
   return h.digest('hex');
 }
 
+/** The trends' kept state: the digest, the tables' sizes by name relative to the output folder, and what changed. */
 interface KeptTrends { digest: string; files: Record<string, number>; outcome: KeptOutcome | null }
 const keptPath = (out: string) => join(out, 'cache', 'trends.json');
 
@@ -43,8 +45,7 @@ async function stillCurrent(out: string, digest: string): Promise<KeptTrends | n
     const kept = JSON.parse(await readFile(keptPath(out), 'utf8')) as KeptTrends;
     // Trends kept before the news were marked hold no pictures of their own: worked out again.
     if (kept.digest !== digest || (kept.outcome && typeof kept.outcome.pictures !== 'string')) return null;
-    for (const [file, size] of Object.entries(kept.files)) if ((await stat(file).catch(() => null))?.size !== size) return null;
-    return kept;
+    return (await filesInPlace(out, kept.files)) ? kept : null;
   } catch {
     return null;
   }
@@ -137,7 +138,7 @@ export async function stageTrends(out: string, spec: ReductionSpec, o: TrendsInp
       forget: () => rm(keptPath(out), { force: true }),
       done: async () => {
         if (!o.trends) await rm(trendsFile.path, { force: true });
-        const sizes = Object.fromEntries(files.map((f) => [f.path, f.size]));
+        const sizes = keptFiles(out, files);
         // An archive with nothing to reduce has stored nothing, so the folder may not exist yet.
         await mkdir(dirname(keptPath(out)), { recursive: true });
         await writeFileAtomic(keptPath(out), JSON.stringify({ digest, files: sizes, outcome: pure } satisfies KeptTrends));
