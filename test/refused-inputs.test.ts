@@ -213,9 +213,12 @@ describe('a fault in quern where no caller waits', () => {
     const planted = `--import=data:text/javascript,import fs from "node:fs";setInterval(()=>{if(fs.existsSync("${join(out, 'cache', 'entries.pack')}"))throw new Error("planted fault")},10).unref()`;
     const r = quernUnder([planted], 'reduce', archive, '--out', out, '--jobs', '1', '--quiet');
     expect(r.code, r.stderr).toBe(2);
-    expect(r.stderr).toMatch(/^quern: stopped by an unexpected error; the previous outputs are kept\. Please report it with what follows:\nError: planted fault/);
+    // Where the outputs stand is said as it is: this first run had none, and its stored results and lock are dealt with.
+    expect(r.stderr).toMatch(/^quern: stopped by an unexpected error; the outputs are as they were before the run, and the results stored so far are kept for the next run; its temporary files and lock are removed\. Please report it with what follows:\nError: planted fault/);
     const next = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
     expect(next.code, next.stderr).toBe(1); // the sample archive plants a truncated recording
+    // The lock was released, so the next run took none over.
+    expect(readJson(join(out, 'run.json')).lock.took_over).toBeNull();
   });
 });
 
