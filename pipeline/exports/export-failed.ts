@@ -10,6 +10,9 @@ export class ExportFailed extends WriteFailed {
     this.message = `${before}cannot write ${file}: ${this.what}; no file of this export was put in place (the previous export, if any, is kept as it was). ${mend}, then run quern export ${dir} --to ${formats.join(',')}`;
   }
 
+  /** An export's failure says itself where the run's outputs and the previous export stand. */
+  override standing(): string { return this.message; }
+
   /** The same failure, said after a run (reduce or merge --export) whose outputs are in place. */
   afterRun(): ExportFailed {
     return new ExportFailed(this.file, this.reason, this.dir, this.formats, { afterRun: true });
