@@ -6,6 +6,7 @@ import { LONGEST_SEGMENT } from './dsp/leakage.js';
 import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
+import { EDGE_ERROR, LINE_OVER_CONTINUUM, edgeLine, type EdgeLine } from './velocity-edge.js';
 import type { StageDefinition } from './stage.js';
 
 // Integration in the frequency domain: velocity's power is acceleration's divided by (2πf)²; DC carries none.
@@ -93,14 +94,13 @@ export const velocity: StageDefinition<VelocityOptions> = {
         // The finer spectrum where it resolves more finely than the shared one (a recording or gap-free stretch may cut it short).
         const finer = fine?.psd() ?? null;
         const low = finer && resolutionOf(finer) < resolutionOf(psd) ? finer : null;
-        const r = resolutionOf(low ?? psd);
         for (const [lo, hi] of o.ranges) {
           if (hi > ctx.sampleRate / 2) { ctx.note(`${ctx.name}: velocity band ${lo}–${hi} Hz reaches above the Nyquist frequency; left empty`); continue; }
           const ms = velocityMeanSquare(psd, low, lo, hi);
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
-          if (r <= velocityResolution(lo)) continue;
-          const near = nearLowEdge(r, lo, hi, ms, (a, b) => velocityMeanSquare(psd, low, a, b));
-          if (near != null) ctx.flag(lowEdgeFlag(ctx.name, col(lo, hi), lo, hi, near, r, ctx.sampleRate));
+          // The edge is read from the finer spectrum wherever that holds it whole (below half its reach).
+          const line = edgeLine(low && lo < (low.upTo ?? Infinity) / 2 ? low : psd, lo, hi, ms, velocityPerAcceleration);
+          if (line) ctx.flag(lowEdgeFlag(ctx.name, col(lo, hi), lo, hi, line));
         }
         return out;
       },
@@ -109,28 +109,16 @@ export const velocity: StageDefinition<VelocityOptions> = {
 };
 
 /**
- * The warning for a band whose velocity lies much within two resolution bins of its lower edge: the figure may be off by
- * tens of per cent (a steady tone 2.5 Hz above a 10 Hz edge read −18 % at 6.25 Hz, −29 % at 12.5 Hz resolution), beyond
- * the 5 % a warning stands for. What to do: a longer recording or gap-free stretch, or a longer segment.
+ * The warning for a band whose lower edge a spectral line's main lobe straddles, so that the window moves more than 5 % of
+ * the figure across the edge (`edgeLine`). What to do: a longer segment or recording, or a lower band edge beside the band.
  */
-function lowEdgeFlag(name: string, column: string, lo: number, hi: number, share: number, r: number, fs: number) {
-  const need = velocityResolution(lo);
+function lowEdgeFlag(name: string, column: string, lo: number, hi: number, line: EdgeLine) {
+  const { frequency: f, share, error, resolution: r } = line;
+  const pct = (x: number) => `${Math.abs(x * 100) < 10 ? (x * 100).toFixed(1) : Math.round(x * 100)} %`;
   return {
-    name: 'velocity_low_edge', severity: 'warn' as const, value: share,
-    threshold: 'warn where over 10 % of a velocity band\'s velocity lies within two resolution bins of its lower edge and the edge lies within ten bins of DC (our choice)',
-    evidence: { band_low_hz: lo, band_high_hz: hi, resolution_hz: r, resolution_needed_hz: need },
-    message: `${name}: ${column} may be off by tens of per cent: ${Math.round(share * 100)} % of the velocity in ${lo}–${hi} Hz lies within two resolution bins (${r.toPrecision(3)} Hz each) of its lower edge, where the window's leakage, weighted by 1/(2πf)², makes it uncertain; a gap-free stretch of ${Number((1 / need).toPrecision(3))} s or more (${Math.ceil(fs / need)} samples) resolves it`,
+    name: 'velocity_low_edge', severity: 'warn' as const, value: error,
+    threshold: `warn where a spectral line (a bin ${10 * Math.log10(LINE_OVER_CONTINUUM)} dB over the median of its neighbourhood) lies within the window's main lobe of a velocity band's lower edge and moves more than ${EDGE_ERROR * 100} % of the figure across it (our choice)`,
+    evidence: { band_low_hz: lo, band_high_hz: hi, line_hz: f, line_share: share, resolution_hz: r },
+    message: `${name}: ${column} may read ${pct(Math.abs(error))} ${error < 0 ? 'low' : 'high'}: a line at ${f.toPrecision(3)} Hz (${f >= lo ? `${pct(share)} of the band's velocity` : 'below the band'}) lies within the window's main lobe (±${(2 * r).toPrecision(2)} Hz at ${r.toPrecision(2)} Hz resolution) of the ${lo} Hz edge, which moves part of it ${error < 0 ? 'out of' : 'into'} the band; take a longer spectrum.segment or recording, or add a band with a lower edge below ${lo} Hz beside ${lo}–${hi} Hz`,
   };
-}
-
-/**
- * The share of a band's velocity within two resolution bins of its lower edge, when it is large (over 10 %) and the edge
- * lies within ten bins of DC; else null. There a Hann window's main lobe (four bins wide) spreads a tone across the edge and
- * the 1/(2πf)² weight magnifies the lower bins, so a tone near the edge reads tens of per cent off (measured against the
- * tone's A/(2πf·√2); the thresholds are our choice).
- */
-export function nearLowEdge(df: number, lo: number, hi: number, total: number, meanSquare: (a: number, b: number) => number): number | null {
-  if (!(total > 0) || lo >= 10 * df) return null;
-  const share = meanSquare(lo, Math.min(hi, lo + 2 * df)) / total;
-  return share > 0.1 ? share : null;
 }
