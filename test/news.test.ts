@@ -113,6 +113,24 @@ describe('what is new tonight', () => {
     expect(reduce('--since', day(7), '--exit-on', 'alarm').code).toBe(3);
   });
 
+  it('a change that grows by the change threshold since it was told is news again; one that holds or creeps less is not', () => {
+    // +8 dB on night 4, +16 dB on night 6 (8 dB more than told, over the 6 dB threshold), +18 dB on night 7 (2 dB more than told).
+    const { arrive, reduce, changes } = rig([1, 1, 1, STEP, STEP, STEP * STEP, STEP * STEP * 10 ** (2 / 20)]);
+    for (let n = 1; n <= 3; n++) { arrive(n); reduce('--since', day(n)); }
+    arrive(4);
+    expect(reduce('--since', day(4), '--exit-on', 'new').code).toBe(3);
+    arrive(5);
+    expect(reduce('--since', day(5), '--exit-on', 'new').code).toBe(0);
+    arrive(6);
+    const six = reduce('--since', day(6), '--exit-on', 'new');
+    expect(six.code).toBe(3);
+    expect(changedLines(six.stdout)).toEqual([expect.stringMatching(/^ {2}CHANGED rig acc rms .* on 2026-11-06: \+1[56]\.\d dB.*; NEW$/)]);
+    expect(changes().items).toMatchObject([{ verdict: 'changed', new: true }]);
+    arrive(7);
+    expect(reduce('--since', day(7), '--exit-on', 'new').code).toBe(0);
+    expect(changes().items).toMatchObject([{ verdict: 'changed', new: false }]);
+  });
+
   it('a night without a recording of the channel keeps what was reported: the change is not new when the rig captures again', () => {
     const { arrive, reduce, changes } = rig([1, 1, 1, STEP, STEP, STEP, STEP]);
     for (let n = 1; n <= 4; n++) arrive(n);

@@ -1,13 +1,18 @@
 // What is new in a run's changes: a channel feature changed or at an alarm limit that the output folder's previous report did
-// not hold at that level (absent, steady since, or changed where it is now at an alarm limit). The reported verdicts are kept
-// in cache/, each carried over while a run gives its channel feature no verdict (a rig that skipped a night, data unusable).
+// not hold at that level (absent, steady since, or changed where it is now at an alarm limit), or whose change has grown by
+// the change threshold since it was last told. The reported verdicts are kept in cache/, each carried over while a run gives
+// its channel feature no verdict (a rig that skipped a night, data unusable).
 import { mkdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
 import type { ChangeItem, ChangesReport } from './changes.js';
 
 /** One channel feature as the run reported it. */
-export interface Reported { group: string; channel: string; channel_unit: string; feature: string; verdict: 'changed' | 'alarm' }
+export interface Reported {
+  group: string; channel: string; channel_unit: string; feature: string; verdict: 'changed' | 'alarm';
+  /** The level change in dB when it was last told new (level-like features), so that a change that keeps growing is told again. */
+  change_db?: number | null;
+}
 
 /** What a run keeps for the next: the channel features it reported changed or at an alarm limit (names only, no paths). */
 export interface ReportedChanges { reported: Reported[] }
@@ -29,13 +34,22 @@ export async function readReported(out: string): Promise<ReportedChanges | null>
   }
 }
 
+/** Whether a change has grown, in the same direction, by at least `by` dB since it was last told (`told`): news again. */
+export const grownSince = (now: number | null | undefined, told: number | null | undefined, by: number): boolean =>
+  now != null && told != null && Math.sign(now) === Math.sign(told) && Math.abs(now) - Math.abs(told) >= by;
+
 /**
  * The report with each item marked `new` (and counted in `news`), new items first, each part in the report's own order
- * (alarms first, then by strength). An item is new unless the earlier report held it at its verdict or above.
+ * (alarms first, then by strength). An item is new unless the earlier report held it at its verdict or above and its change
+ * has not grown by the change threshold (`thresholds.change_db`) since it was last told.
  */
 export function markNews(r: ChangesReport, earlier: ReportedChanges | null): ChangesReport {
-  const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), RANK[x.verdict] ?? 0]));
-  const items: ChangeItem[] = r.items.map((c) => ({ ...c, new: (before.get(changeKey(c)) ?? 0) < RANK[c.verdict] }));
+  const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), x]));
+  const isNew = (c: ChangeItem) => {
+    const told = before.get(changeKey(c));
+    return !told || (RANK[told.verdict] ?? 0) < RANK[c.verdict] || grownSince(c.change_db, told.change_db, r.thresholds.change_db);
+  };
+  const items: ChangeItem[] = r.items.map((c) => ({ ...c, new: isNew(c) }));
   const fresh = items.filter((c) => c.new);
   return { ...r, items: [...fresh, ...items.filter((c) => !c.new)], news: { new: fresh.length, compared: earlier != null } };
 }
@@ -45,7 +59,11 @@ export function markNews(r: ChangesReport, earlier: ReportedChanges | null): Cha
  * for those whose latest verdict in this run is steady (`steady`, by changeKey): a change clears only when a run sees it clear.
  */
 export function reportedNow(r: ChangesReport, earlier: ReportedChanges | null, steady: ReadonlySet<string>): ReportedChanges {
-  const now = r.items.map(({ group, channel, channel_unit, feature, verdict }): Reported => ({ group, channel, channel_unit, feature, verdict }));
+  const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), x]));
+  // A change not told new keeps the size it was told at, so that growth is measured against what the lab last heard.
+  const now = r.items.map(({ group, channel, channel_unit, feature, verdict, change_db, new: fresh }): Reported => ({
+    group, channel, channel_unit, feature, verdict, change_db: fresh ? change_db ?? null : before.get(changeKey({ group, channel, channel_unit, feature }))?.change_db ?? change_db ?? null,
+  }));
   const keys = new Set(now.map(changeKey));
   const carried = (earlier?.reported ?? []).filter((x) => !keys.has(changeKey(x)) && !steady.has(changeKey(x)));
   return { reported: [...now, ...carried] };
