@@ -2,6 +2,7 @@
 import { randomBytes } from 'node:crypto';
 import { open, rename, rm, writeFile } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
+import { openTemporary } from './temporary-file.js';
 
 /**
  * Whole or nothing under a crash of the process. `durable` also flushes to the disk, so the file survives a power cut;
@@ -9,7 +10,7 @@ import { basename, dirname, join } from 'node:path';
  */
 export async function writeFileAtomic(path: string, data: Uint8Array | string | AsyncIterable<Uint8Array>, { durable = true } = {}): Promise<void> {
   const tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
-  const fh = await open(tmp, 'w');
+  const fh = await openTemporary(tmp);
   try {
     await writeFile(fh, data);
     if (durable) await fh.sync();

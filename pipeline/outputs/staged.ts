@@ -3,6 +3,7 @@
 import { randomBytes } from 'node:crypto';
 import { lstat, open, rename, rm, type FileHandle } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
+import { openTemporary } from './temporary-file.js';
 
 const CAUSES: Record<string, string> = {
   ENOSPC: 'no space left on the device', EFBIG: 'file too large (a file-size limit was reached)', EDQUOT: 'disk quota exceeded',
@@ -74,7 +75,7 @@ export class StagedFile {
 
   private async out(data: Uint8Array): Promise<void> {
     await writing(this.path, async () => {
-      this.fh ??= await open(this.tmp, 'w');
+      this.fh ??= await openTemporary(this.tmp);
       for (let done = 0; done < data.length;) done += (await this.fh.write(data, done, data.length - done, this.pos + done)).bytesWritten;
       this.pos += data.length;
     });

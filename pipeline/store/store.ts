@@ -3,6 +3,7 @@
 import { mkdir, open, readdir, readFile, rename, rm, stat, type FileHandle } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { writeFileAtomic } from '../outputs/atomic.js';
+import { openTemporary } from '../outputs/temporary-file.js';
 import { EntryTable, type StoredEntry } from './entry-table.js';
 import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } from './pack.js';
 import { lostPast, packCut, type CutPack, type PackCut } from './pack-cut.js';
@@ -224,7 +225,7 @@ export class Store {
     if (!damaged && !(size - liveBytes > COMPACT_AFTER_BYTES && size - liveBytes > liveBytes)) return false;
     const tmp = join(cacheDir(this.out), `.${basename(own)}.${process.pid}.tmp`);
     // The live records in the order they lie, through one window (reads that wait rather than block: see RecordsInOrder).
-    const src = new RecordsInOrder(), dst = await open(tmp, 'w');
+    const src = new RecordsInOrder(), dst = await openTemporary(tmp);
     try {
       let offset = 0;
       const moved: number[] = [];
