@@ -1,6 +1,6 @@
 // Fractional-octave band RMS from the Welch spectrum, with the base-10 mid-band frequencies and edges of IEC 61260-1:2014.
 import { LONGEST_SEGMENT, resolutionNeeded, resolvesBand, segmentKeeping, type BandRoom } from './dsp/leakage.js';
-import { lastHalving, READ_FRACTION, settlingOutputs } from './dsp/decimate.js';
+import { decimatedSpan, lastHalving, settlingOutputs } from './dsp/decimate.js';
 import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { LEVEL_UNIT, levelDb, pascalsPer } from './sound-pressure.js';
@@ -80,10 +80,7 @@ const lowBands = (sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: numbe
 export function lowBandSpectrum(sets: OctaveOptions['sets'], spectrum: WelchOptions, fs: number): { segment: number; decimation: number } | null {
   const n = ownSegment(sets, spectrum, fs);
   if (n === null || n <= spectrum.segment) return null;
-  const top = Math.max(...lowBands(sets, spectrum, fs).map((b) => b.upper));
-  let d = n / spectrum.segment;
-  while (d > 1 && top > (READ_FRACTION * fs) / d) d /= 2;
-  return { segment: n / d, decimation: d };
+  return decimatedSpan(n, spectrum.segment, Math.max(...lowBands(sets, spectrum, fs).map((b) => b.upper)), fs);
 }
 
 /** The band names of a note: "one-third-octave 25, 31.5 Hz; octave 31.5 Hz". */

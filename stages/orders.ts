@@ -1,6 +1,6 @@
 // Order figures: RMS in bands of ±width orders around multiples of the measured shaft speed, from the channel's Welch spectrum,
 // or for a slow shaft from a finer one of the channel's every D-th sample.
-import { lastHalving, READ_FRACTION, settlingOutputs } from './dsp/decimate.js';
+import { decimatedSpan, lastHalving, settlingOutputs } from './dsp/decimate.js';
 import { LONGEST_SEGMENT } from './dsp/leakage.js';
 import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import type { WindowName } from './dsp/window.js';
@@ -54,10 +54,7 @@ export function lowSpeedSpectrum(o: Pick<OrderOptions, 'orders' | 'width' | 'min
   if (lowest >= handover) return null;
   let span = o.spectrum.segment;
   while (span < LONGEST_SEGMENT && (bins * fs) / span > o.width * lowest) span *= 2;
-  const top = (Math.max(...o.orders) + o.width) * handover;
-  let d = span / o.spectrum.segment;
-  while (d > 1 && top > (READ_FRACTION * fs) / d) d /= 2;
-  return { segment: span / d, decimation: d };
+  return decimatedSpan(span, o.spectrum.segment, (Math.max(...o.orders) + o.width) * handover, fs);
 }
 
 export const orders: StageDefinition<OrderOptions> = {

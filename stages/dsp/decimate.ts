@@ -18,6 +18,16 @@ export const BINOMIAL_ORDER = 4;
 
 const isPowerOfTwo = (n: number) => n >= 2 && (n & (n - 1)) === 0;
 
+/**
+ * A finer spectrum whose periodograms span `span` samples at fs, read up to `top` Hz: taken from every D-th sample with a
+ * segment of span/D, D the largest power of two up to span/segment that keeps `top` below READ_FRACTION of fs/D.
+ */
+export function decimatedSpan(span: number, segment: number, top: number, fs: number): { segment: number; decimation: number } {
+  let d = span / segment;
+  while (d > 1 && top > (READ_FRACTION * fs) / d) d /= 2;
+  return { segment: span / d, decimation: d };
+}
+
 /** The last halving's low-pass, at its input rate 2·fs/D. */
 export const lastHalving = (fs: number, factor: number): Section[] =>
   butterworthSos({ kind: 'lowpass', order: LAST_ORDER, cutoff_hz: LAST_CUTOFF * (fs / factor) }, 2 * (fs / factor));
