@@ -6,7 +6,8 @@ import { LONGEST_SEGMENT } from './dsp/leakage.js';
 import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from './dsp/welch.js';
 import { hzName } from './names.js';
 import { spectrumOf } from './spectrum.js';
-import { EDGE_ERROR, LINE_OVER_CONTINUUM, edgeLine, type EdgeLine } from './velocity-edge.js';
+import { pct } from './quality/flag.js';
+import { BINS_ABOVE, BINS_BELOW, EDGE_ERROR, LINE_OVER_CONTINUUM, MOST_TIMES, edgeLine, type EdgeLine } from './velocity-edge.js';
 import type { StageDefinition } from './stage.js';
 
 // Integration in the frequency domain: velocity's power is acceleration's divided by (2πf)²; DC carries none.
@@ -99,8 +100,8 @@ export const velocity: StageDefinition<VelocityOptions> = {
           const ms = velocityMeanSquare(psd, low, lo, hi);
           out[col(lo, hi)] = Math.sqrt(ms) * factor * 1000; // m/s → mm/s
           // The edge is read from the finer spectrum wherever that holds it whole (below half its reach).
-          const line = edgeLine(low && lo < (low.upTo ?? Infinity) / 2 ? low : psd, lo, hi, ms, velocityPerAcceleration);
-          if (line) ctx.flag(lowEdgeFlag(ctx.name, col(lo, hi), lo, hi, line));
+          const line = edgeLine(low && lo < (low.upTo ?? Infinity) / 2 ? low : psd, lo, hi, ms, velocityPerAcceleration, o.spectrum.window);
+          if (line) ctx.flag(lowEdgeFlag(col(lo, hi), lo, hi, line));
         }
         return out;
       },
@@ -109,16 +110,22 @@ export const velocity: StageDefinition<VelocityOptions> = {
 };
 
 /**
- * The warning for a band whose lower edge a spectral line's main lobe straddles, so that the window moves more than 5 % of
- * the figure across the edge (`edgeLine`). What to do: a longer segment or recording, or a lower band edge beside the band.
+ * The warning for a band whose lower edge a spectral line's lobe reaches, so that the window moves more than 5 % of the
+ * figure across the edge (`edgeLine`). Per cent as the other flags write it (`pct`, three digits), the sign as "low" or
+ * "high"; beyond twice its value, a factor. What to do: a longer segment or recording, or a lower band edge beside the band.
  */
-function lowEdgeFlag(name: string, column: string, lo: number, hi: number, line: EdgeLine) {
+function lowEdgeFlag(column: string, lo: number, hi: number, line: EdgeLine) {
   const { frequency: f, share, error, resolution: r } = line;
-  const pct = (x: number) => `${Math.abs(x * 100) < 10 ? (x * 100).toFixed(1) : Math.round(x * 100)} %`;
+  const off = error <= 1 ? `${pct(Math.abs(error))} ${error < 0 ? 'low' : 'high'}`
+    : error >= MOST_TIMES - 1 - 1e-6 ? `${MOST_TIMES} times the band's own velocity or more` : `${Number((1 + error).toPrecision(2))} times the band's own velocity`;
+  const bins = (lo - f) / r;
+  const where = bins > 2
+    ? `a line at ${f.toPrecision(3)} Hz (below the band) lies ${bins.toFixed(1)} resolution bins (${r.toPrecision(2)} Hz) below the ${lo} Hz edge, and the window's side lobes carry part of it into the band`
+    : `a line at ${f.toPrecision(3)} Hz (${f >= lo ? `${pct(share)} of the band's velocity` : 'below the band'}) lies within the window's main lobe (±${(2 * r).toPrecision(2)} Hz at ${r.toPrecision(2)} Hz resolution) of the ${lo} Hz edge, which moves part of it ${error < 0 ? 'out of' : 'into'} the band`;
   return {
     name: 'velocity_low_edge', severity: 'warn' as const, value: error,
-    threshold: `warn where a spectral line (a bin ${10 * Math.log10(LINE_OVER_CONTINUUM)} dB over the median of its neighbourhood) lies within the window's main lobe of a velocity band's lower edge and moves more than ${EDGE_ERROR * 100} % of the figure across it (our choice)`,
+    threshold: `warn where a spectral line (a bin ${10 * Math.log10(LINE_OVER_CONTINUUM)} dB over the median of its neighbourhood) from ${BINS_BELOW} resolution bins below a velocity band's lower edge to ${BINS_ABOVE} above it moves more than ${pct(EDGE_ERROR)} of the figure across the edge (our choice)`,
     evidence: { band_low_hz: lo, band_high_hz: hi, line_hz: f, line_share: share, resolution_hz: r },
-    message: `${name}: ${column} may read ${Math.abs(error) > 1 ? 'several times too' : pct(Math.abs(error))} ${error < 0 ? 'low' : 'high'}: a line at ${f.toPrecision(3)} Hz (${f >= lo ? `${pct(share)} of the band's velocity` : 'below the band'}) lies within the window's main lobe (±${(2 * r).toPrecision(2)} Hz at ${r.toPrecision(2)} Hz resolution) of the ${lo} Hz edge, which moves part of it ${error < 0 ? 'out of' : 'into'} the band; take a longer spectrum.segment or recording, or add a band with a lower edge below ${lo} Hz beside ${lo}–${hi} Hz`,
+    message: `${column} may read ${off}: ${where}; take a longer spectrum.segment or recording, or add a band with a lower edge below ${lo} Hz beside ${lo}–${hi} Hz`,
   };
 }

@@ -80,7 +80,7 @@ describe('a recording too short for the resolution 10 Hz needs', () => {
     const flag = velocityFlag(short.result.quality[0].flags)!;
     expect(flag.severity).toBe('warn');
     expect(flag.evidence.resolution_hz).toBeCloseTo(2.5, 9);
-    expect(flag.message).toMatch(/velocity_10_1000_rms may read 2\d % low: a line at 10\.5 Hz \(100 % of the band's velocity\) lies within the window's main lobe \(±5\.0 Hz at 2\.5 Hz resolution\) of the 10 Hz edge/);
+    expect(flag.message).toMatch(/velocity_10_1000_rms may read 2\d\.\d % low: a line at 10\.5 Hz \(100 % of the band's velocity\) lies within the window's main lobe \(±5\.0 Hz at 2\.5 Hz resolution\) of the 10 Hz edge/);
     expect(short.row.velocity_10_1000_rms).toEqual(expect.any(Number));
     // A 100 Hz tone in the same 0.4 s lies far from the edge: no warning.
     const mid = await reduce(sine(fs * 0.4, fs, 100, 10, 0.4), fs, { spectrum: {}, velocity_bands: [[10, 1000]] });
