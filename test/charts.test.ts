@@ -67,5 +67,9 @@ describe('the report\'s units and numbers', () => {
     expect(flagValue({ name: 'flatline', value: 4 })).toBe('longest constant stretch 4 s');
     expect(flagValue({ name: 'spikes', value: 1 })).toBe('1 sample');
     expect(flagValue({ name: 'resolution', value: null })).toBe('—');
+    // The velocity edge's estimated error, signed as a fraction: its size in per cent and its direction, as its message says.
+    expect(flagValue({ name: 'velocity_low_edge', value: -0.104 })).toBe('figure 10.4 % low');
+    expect(flagValue({ name: 'velocity_low_edge', value: 0.0625 })).toBe('figure 6.25 % high');
+    expect(flagValue({ name: 'velocity_low_edge', value: 3.5 })).toBe('figure 4.5 × the band\'s own');
   });
 });

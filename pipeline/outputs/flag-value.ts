@@ -17,6 +17,7 @@ const SHOWN: Record<string, (v: number) => string> = {
   peak_capture: (v) => `${percent(v)} shortfall`,
   resolution: (v) => `${plainNumber(v)} dB`,
   spikes: (v) => `${plainNumber(v)} ${v === 1 ? 'sample' : 'samples'}`,
+  velocity_low_edge: (v) => (v > 1 ? `figure ${plainNumber(1 + v)} × the band's own` : `figure ${percent(Math.abs(v))} ${v < 0 ? 'low' : 'high'}`),
 };
 
 /** The value column's text: "—" when the flag has no value. */
