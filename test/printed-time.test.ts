@@ -45,6 +45,12 @@ describe('a time column printed to a resolution near its step', () => {
     // One row lost among steps of one unit (1 kHz to the millisecond) stays a row lost, not a step of the rate.
     const ms = Array.from({ length: 4096 }, (_, i) => (i < 1000 ? i : i + 1));
     expect(printedRate(ms, 1e-3).rate).toBe(1000);
+    // 995 Hz to the millisecond steps two units every 199 rows or so, evenly (Python's round of i / 995 s): a steady clock.
+    const slow = Array.from({ length: 4096 }, (_, i) => Math.round((i * 1000) / 995));
+    expect(printedRate(slow, 1e-3).rate).toBe(995);
+    // Rows lost at uneven places among 1 kHz rows (after rows 700, 1500 and 3100) stay rows lost.
+    const uneven = Array.from({ length: 4096 }, (_, i) => i + (i > 700 ? 1 : 0) + (i > 1500 ? 1 : 0) + (i > 3100 ? 1 : 0));
+    expect(printedRate(uneven, 1e-3).rate).toBe(1000);
   });
 });
 
