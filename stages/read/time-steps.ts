@@ -17,14 +17,17 @@ export const widestStep = (s: TimeSteps, seconds: (x: number) => string) => {
 export function stepCounter(nominal: number, tolerance: number) {
   let previous = NaN, irregular = 0, unmeasured = 0, widest = 0, widestAt = NaN, times = 0;
   return {
-    /** `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step. */
-    add(t: number, lost = false): void {
+    /**
+     * `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step;
+     * `off`: the time leaves a declared grid (`grid-watch.ts`), an irregular step whatever its length.
+     */
+    add(t: number, lost = false, off = false): void {
       times++;
       // A time that is no number (NaN in a time vector) is a step that cannot be measured: counted, never the widest.
       if (!Number.isFinite(t)) { if (times > 1) { irregular++; unmeasured++; } previous = NaN; return; }
       if (Number.isFinite(previous) && !lost) {
         const dt = t - previous;
-        if (!(Math.abs(dt - nominal) <= tolerance)) {
+        if (!(Math.abs(dt - nominal) <= tolerance) || off) {
           irregular++;
           if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
         }
