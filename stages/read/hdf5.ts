@@ -8,7 +8,7 @@ import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
-import { timeVectorReader } from './time-vector.js';
+import { framesOfTimes, timeVectorReader } from './time-vector.js';
 import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 import { missingFilter, missingFilterMessage, type PipelineFilter } from './hdf5-filters.js';
@@ -330,10 +330,22 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
         throw new RecordingError(`dataset "${pick(o).path}": ${what} ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
       }
     }, `reading ${what} ${start} to ${end} of dataset "${pick(o).path}"`);
+    const timePlaces = () => vectorIndices(timeHeld || `dataset "${o.time!.path}" (the time)`, basename(path));
+    /** The time dataset's values, a chunk at a time. */
+    async function* timeBlocks(): AsyncGenerator<Float64Array> {
+      const times = new Float64Array(chunk);
+      for (let start = 0; start < frames; start += chunk) {
+        const n = Math.min(chunk, frames - start);
+        const held = await slice((x) => x.time!, vectorRanges(o.time!.shape, [start, start + n]), 'times', start, start + n);
+        const time = o.time!.value;
+        for (let i = 0; i < n; i++) times[i] = time(held[i]);
+        yield times.subarray(0, n);
+      }
+    }
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
         // A time dataset's steps are held as its values are read beside the samples; the samples it says were lost are missing samples.
-        const timed = o.times && timeVectorReader(o.times, channels, chunk, vectorIndices(timeHeld || `dataset "${o.time!.path}" (the time)`, basename(path)), mostLostRows);
+        const timed = o.times && timeVectorReader(o.times, channels, chunk, timePlaces(), mostLostRows);
         const times = timed ? new Float64Array(chunk) : null;
         const out = Array.from({ length: channels }, () => new Float64Array(chunk));
         for (let start = 0; start < frames; start += chunk) {
@@ -374,6 +386,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
       // An integer's precision is its converter's codes: a 24-bit precision in 32-bit storage steps as 24 bits.
       bits: integer ? first.precision : null, normalised: integer,
       startTime, channelNames: o.channelNames, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
+      ...(o.times ? { framesOfTimes: () => framesOfTimes(o.times!, timeBlocks(), timePlaces(), mostLostRows) } : {}),
       ...(o.byAxis ? { otherAxis: { channels: frames, where: declareHow.where['hdf5.channel_axis'] } } : {}),
     };
     return recording;
