@@ -187,3 +187,21 @@ describe('HDF5 reader when the library stops', () => {
     await Promise.all([...files, ...files].map(([file, l, rate]) => expectFixture(file, l, rate)));
   });
 });
+
+describe('integer attributes narrower than their storage (h5py low-level API: test/fixtures/make-hdf5-attribute-fixtures.py)', () => {
+  const made = JSON.parse(readFileSync(fixture('hdf5-attributes', 'expected.json'), 'utf8'));
+  const layout = (rate: string): Hdf5Layout => ({ datasets: ['/acq/x'], channel_axis: null, sample_rate_attribute: rate, start_time_attribute: '/@start' });
+
+  it('read by their precision and bit offset, as h5py reads them: a 24-bit rate from bit 8 of 32, a 40-bit start from bit 4 of 64', async () => {
+    const { rec, channels } = await readAll(fixture('hdf5-attributes', made.file), { hdf5: layout('fs') });
+    // Read as its storage word, the rate would be 25600 × 2^8 Hz.
+    expect(rec.sampleRate).toBe(made.attributes.fs);
+    expect(rec.startTime?.getTime()).toBe(made.attributes.start * 1000);
+    expect(channels[0].length).toBe(made.frames);
+  });
+
+  it('on an enclosing group too: a 12-bit rate in 16-bit storage', async () => {
+    const { rec } = await readAll(fixture('hdf5-attributes', made.file), { hdf5: layout('fs12') });
+    expect(rec.sampleRate).toBe(made.attributes.fs12);
+  });
+});

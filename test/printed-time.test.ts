@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { printedRate, stepCounter } from '../stages/read/time-steps.js';
 import { fixture, readAll, readJson } from './helpers.js';
 
-interface Made { file: string; rate?: number; frames?: number; rows_lost?: number; mean?: number; rms?: number; min?: number; max?: number; start?: string; coarse?: boolean; off_line?: number; cut_line?: number; cut_text?: string; padding?: number; nul_at?: number; nul_line?: number }
+interface Made { file: string; rate?: number; frames?: number; rows_lost?: number; mean?: number; rms?: number; min?: number; max?: number; start?: string; coarse?: boolean; off_line?: number; late_line?: number; cut_line?: number; cut_text?: string; padding?: number; nul_at?: number; nul_line?: number }
 const made = readJson<{ files: Made[] }>(fixture('printed-time', 'expected.json')).files;
 const file = (name: string) => made.find((f) => f.file === name)!;
 const read = (name: string, sampleRate: number | null = null) => readAll(fixture('printed-time', name), sampleRate == null ? {} : { sampleRate });
@@ -45,11 +45,17 @@ describe('a time column printed to a resolution near its step', () => {
     // One row lost among steps of one unit (1 kHz to the millisecond) stays a row lost, not a step of the rate.
     const ms = Array.from({ length: 4096 }, (_, i) => (i < 1000 ? i : i + 1));
     expect(printedRate(ms, 1e-3).rate).toBe(1000);
+    // 995 Hz to the millisecond steps two units every 199 rows or so, evenly (Python's round of i / 995 s): a steady clock.
+    const slow = Array.from({ length: 4096 }, (_, i) => Math.round((i * 1000) / 995));
+    expect(printedRate(slow, 1e-3).rate).toBe(995);
+    // Rows lost at uneven places among 1 kHz rows (after rows 700, 1500 and 3100) stay rows lost.
+    const uneven = Array.from({ length: 4096 }, (_, i) => i + (i > 700 ? 1 : 0) + (i > 1500 ? 1 : 0) + (i > 3100 ? 1 : 0));
+    expect(printedRate(uneven, 1e-3).rate).toBe(1000);
   });
 });
 
 describe('a time column printed coarser than its step (rows share a printed time)', () => {
-  const coarse = made.filter((f) => f.coarse && f.off_line == null);
+  const coarse = made.filter((f) => f.coarse && f.off_line == null && f.late_line == null);
 
   it.each(coarse.map((f) => [f.file, f] as [string, Made]))('%s is refused without a declared rate, naming the line of the first repeat', async (_n, f) => {
     await expect(read(f.file)).rejects.toThrow(/^line 3: the time .* repeats the line before: printed to 3 decimals, the time column cannot tell its samples apart/);
@@ -63,6 +69,19 @@ describe('a time column printed coarser than its step (rows share a printed time
     expect(rec.notes).toEqual([expect.stringMatching(new RegExp(`^the time column is printed to 3 decimals, coarser than its step at the declared ${f.rate} Hz`))]);
     expectFigures(channels[0], f);
     await expect(read(f.file, f.rate! * 1.01)).rejects.toThrow(/lies more than half a printed unit \(3 decimals\) from where a row at the declared/);
+  });
+
+  it('rows lost past the first 4,096 leave the grid as the rows stream: a note naming the line after the gap, an irregular step', async () => {
+    const f = file('2000hz-posix-ms-lost-late.csv');
+    const { rec, channels } = await read(f.file, f.rate!);
+    expect(channels[0].length).toBe(f.frames! - f.rows_lost!);
+    expect(rec.timeSteps?.irregular).toBe(1);
+    expect(rec.notes).toHaveLength(3);
+    expect(rec.notes[1]).toMatch(/^time steps irregular: 1 of /);
+    const m = rec.notes[2].match(/^rows lost: the time column leaves the grid of the declared 2000 Hz once, first at line (\d+) \(/);
+    // Three rows at 0.5 ms a row move the rows after the gap by 1.5 printed units: seen within two units' rows (4) of the gap.
+    expect(Number(m?.[1])).toBeGreaterThanOrEqual(f.late_line!);
+    expect(Number(m?.[1])).toBeLessThanOrEqual(f.late_line! + 4);
   });
 
   it('rows lost among the first rows leave the declared grid, at the line after the gap', async () => {

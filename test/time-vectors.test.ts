@@ -11,7 +11,9 @@ import type { MatLayout } from '../stages/read/mat.js';
 import { openMat } from '../stages/read/mat.js';
 import type { ReaderOptions } from '../stages/read/open.js';
 import type { Flag } from '../stages/quality/flag.js';
-import { fixture, readAll, readJson } from './helpers.js';
+import { copyFileSync, mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
 
 interface Gaps { frames_written: number; samples_lost: number; gaps: number; largest: { samples: number; from_index: number; to_index: number; from: number; to: number } }
 const expected = readJson(fixture('time-vectors', 'expected.json'));
@@ -90,5 +92,38 @@ describe('samples left out of a time vector against NaN in a float WAV (libsndfi
       : await openMat(path, mat, null, { chunkFrames: 1500, mostLostRows: l.samples - 1 });
     const read = async () => { try { for await (const _ of rec.chunks()); } finally { await rec.close(); } };
     await expect(read()).rejects.toThrow(`index ${l.to_index}: ${holderOf(file)} jumps from ${l.from} s (index ${l.from_index}) to ${l.to} s, ${l.samples} samples lost at the nominal step of 1.000 ms, more than the ${l.samples - 1} quern reads as missing samples in one gap: a logger stopped and started again, or its clock set, within one file; split ${file} before index ${l.to_index} (counted from 0) and reduce each part as its own recording`);
+  });
+});
+
+describe('quern check and quern peek give the duration reduce gives, the lost samples counted', () => {
+  it('for HDF5 time datasets and MAT-file time vectors (h5py, scipy.io.savemat, hdf5storage): numpy\'s frames over the rate, as duration_s', async () => {
+    const root = tempDir();
+    mkdirSync(join(root, 'h5')); mkdirSync(join(root, 'mat'));
+    const names = Object.keys(files);
+    for (const f of names) copyFileSync(fixture('time-vectors', f), join(root, f.endsWith('.h5') ? 'h5' : 'mat', f));
+    writeFileSync(join(root, 'archive.yaml'), `groups:
+  - name: logger
+    match: "h5/*.h5"
+    format: hdf5
+    sample_rate: ${expected.sample_rate}
+    hdf5: { datasets: [/x], channel_axis: 1, time_dataset: /t }
+  - name: matlab
+    match: "mat/*.mat"
+    format: mat
+    sample_rate: ${expected.sample_rate}
+    mat: { variables: [x], channel_axis: 1, time_variable: t }
+`);
+    const seconds = (expected.frames / expected.sample_rate).toFixed(3);
+    const check = quern('check', root);
+    expect(check.code).toBe(0);
+    for (const f of names) {
+      const at = join(f.endsWith('.h5') ? 'h5' : 'mat', f);
+      // The file holds fewer frames (frames_written); its times say how many were lost, and reduce reads them as missing samples.
+      expect(check.stdout).toMatch(new RegExp(`^ok +${at.replace('.', '\\.')} .*, ${seconds.replace('.', '\\.')} s,`, 'm'));
+      const { rows } = await reduce(f, declared(f));
+      expect((rows[0].duration_s as number).toFixed(3)).toBe(seconds);
+      const peek = quern('peek', join(root, at));
+      expect(peek.stdout).toContain(`duration    ${seconds} s (${expected.frames} frames)`);
+    }
   });
 });

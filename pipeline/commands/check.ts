@@ -29,8 +29,10 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
   for (const job of plan(scanned.recordings, declaration.groups, spec.spec)) {
     try {
       const { rec, channels, notes } = await openForJob(job);
-      await rec.close();
-      const duration = rec.frames != null ? `${(rec.frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
+      // A time vector's lost samples are read as missing samples, so they count in the duration as reduce's duration_s counts them.
+      let frames: number | null;
+      try { frames = rec.framesOfTimes ? await rec.framesOfTimes() : rec.frames; } finally { await rec.close(); }
+      const duration = frames != null ? `${(frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
       // Where a --since period will place the recording: its own start, else its modification time.
       const start = rec.startTime ? `starts ${rec.startTime.toISOString()}` : 'no start in the file (a period goes by its modification time)';
       recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}${notes.map((n) => `; note: ${n}`).join('')}` });

@@ -11,6 +11,7 @@ import { firstNul, paddingNote, trailingNuls } from './nul-padding.js';
 import { keepSteps, MAX_TIME_S, offGrid, printedRate, startOfTimes, stepCounter } from './time-steps.js';
 import { printedUnits } from './printed-time.js';
 import { lostRowCounter, lostRowsNote, missingSamples, MOST_LOST_ROWS } from './lost-rows.js';
+import { gridDrift, gridWatch } from './grid-watch.js';
 
 /** A time column's header without a unit: its numbers are read as seconds. */
 const TIME_HEADER = /^(time|t|timestamp|date ?time)$/i;
@@ -145,6 +146,10 @@ async function nulOffset(path: string, end: number): Promise<number> {
 const unreadableTime = (line: number, cell: string) =>
   new RecordingError(`line ${line}: the time "${cell.trim()}" is neither a number (seconds) nor an ISO 8601 date-time; correct that line or remove it`);
 
+/** The note on a coarse time column whose rows left the declared rate's grid as they were read. */
+export const offGridNote = (departures: number, widest: number, line: number, text: string, rate: number, printed: number) =>
+  `rows lost: the time column leaves the grid of the declared ${rate} Hz ${departures === 1 ? 'once' : `${departures} times`}, first at line ${line} (${text}), by up to ${widest.toFixed(2)} printed units (${printed} decimals) beyond half a unit either way: rows were lost there, or the clock is not at ${rate} Hz; their count cannot be read from times that rows share, so the rows are read as evenly spaced and each departure counts as an irregular time step; export the times with more decimals to have lost rows placed`;
+
 export interface CsvOptions {
   chunkFrames?: number;
   declaredSampleRate?: number | null;
@@ -217,6 +222,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
   let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, timeHalf = 0, coarse = false, secondsAssumed: string | undefined;
+  // A coarse time column's grid, followed row by row: its first time, printed unit (s), step in units and drift from the first rows.
+  let gridFrom = NaN, gridUnit = NaN, gridStep = NaN, gridSlope = 0, printedDecimals = 0;
   const notes: string[] = [];
   if (timeColumn === 0) {
     const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
@@ -246,7 +253,9 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (coarse) {
       const off = offGrid(units, 1 / (declaredSampleRate! * resolution));
       if (off >= 0) throw new RecordingError(`line ${probeLines[off].no}: the time ${(probeRows[off][0] ?? '').trim()} lies more than half a printed unit (${printed} decimals) from where a row at the declared ${declaredSampleRate} Hz would be: rows were lost or the rate is not ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
-      notes.push(`the time column is printed to ${printed} decimals, coarser than its step at the declared ${declaredSampleRate} Hz (rows share a printed time): its first ${times.length} times agree with that rate, but rows lost later cannot be seen; export the times with more decimals to have them checked`);
+      notes.push(`the time column is printed to ${printed} decimals, coarser than its step at the declared ${declaredSampleRate} Hz (rows share a printed time): its times are held to that rate's grid as they are read, but a row lost shows only as the rows after it leaving the grid (not at all where fewer rows than a quarter of a printed unit are lost); export the times with more decimals to have every row checked`);
+      gridFrom = times[0]; gridUnit = resolution; gridStep = 1 / (declaredSampleRate! * resolution); printedDecimals = printed;
+      gridSlope = gridDrift(units, gridStep);
     }
     // Rows lost are counted in steps of the rate as quoted (25600 Hz, not its estimate's last digits, which a gap of millions
     // of steps multiplies), give or take the span of steps the printed times allow; times printed coarser than their step show none.
@@ -281,6 +290,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     const notNumbers = { count: 0, line: 0, column: '', cell: '' }, beyond = { count: 0, line: 0 };
     const steps = stepCounter(timeStep, timeTolerance);
     const lostRows = lostRowCounter(lostStep, timeTolerance, stepUncertainty, mostLostRows, timeHalf);
+    const grid = coarse ? gridWatch(gridStep, gridSlope) : null, leftGrid = { line: 0, text: '' };
     // In a file without a final line end each data line is held until the next arrives, so the last can be judged (and left out) before it is read.
     let held: { raw: string; line: number } | null = null, before: string[] | null = null;
     const source = unended ? withEnd(lineReader) : lineReader;
@@ -313,7 +323,10 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
           const t = timeValue(cells[0] ?? '', decimalComma, perSecond);
           if (!Number.isFinite(t)) throw unreadableTime(at, cells[0] ?? '');
           const lost = lostRows.before(t, (cells[0] ?? '').trim(), at);
-          steps.add(t, lost > 0);
+          // Coarse times: the row's printed units from the first, against the declared grid.
+          const off = grid != null && grid.off(Math.round((t - gridFrom) / gridUnit));
+          if (off && leftGrid.line === 0) Object.assign(leftGrid, { line: at, text: (cells[0] ?? '').trim() });
+          steps.add(t, lost > 0, off);
           // The rows a logger dropped, as missing samples in their places, a chunk at a time however long the gap.
           if (lost > 0) k = yield* missingSamples(out, k, lost);
         }
@@ -332,6 +345,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     }
     if (timeColumn === 0) keepSteps(recording, steps);
     if (timeColumn === 0 && lostRows.result().rows > 0) notes.push(lostRowsNote(lostRows.result()));
+    if (grid != null && grid.departures > 0) notes.push(offGridNote(grid.departures, grid.widest, leftGrid.line, leftGrid.text, sampleRate, printedDecimals));
     if (padding > 0) notes.push(paddingNote(padding));
     if (shortRows > 0) notes.push(`${shortRows} rows have a different number of fields than the header (first at line ${firstShort}); missing cells count as missing samples`);
     if (notNumbers.count > 0) notes.push(`${notNumbers.count} cells are not numbers (first at line ${notNumbers.line}, column "${notNumbers.column}": "${notNumbers.cell}"); they count as missing samples`);

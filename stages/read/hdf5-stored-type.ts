@@ -64,6 +64,13 @@ interface Block { at: number; length: number; v2: boolean; creationOrder: boolea
 
 /** The datatype message's data in the object header at `address` (file position), following continuation blocks. */
 function datatypeMessageAt(read: ReadAt, sb: Superblock, address: number): { data: Uint8Array; shared: boolean } {
+  const found = messageAt(read, sb, address, (type, data, flags) => (type === 0x03 ? { data, shared: (flags & 0x02) !== 0 } : null));
+  if (!found) throw damaged(`the object header at byte ${address} holds no datatype message`);
+  return found;
+}
+
+/** The first message of the object header at `address` that `pick` takes (by type, data and flags), following continuation blocks; null for none. */
+function messageAt<T>(read: ReadAt, sb: Superblock, address: number, pick: (type: number, data: Uint8Array, flags: number) => T | null): T | null {
   const head = exactly(read, address, 6, 'an object header');
   const blocks: Block[] = [];
   let v2: boolean, creationOrder = false;
@@ -101,7 +108,8 @@ function datatypeMessageAt(read: ReadAt, sb: Superblock, address: number): { dat
       const flags = blk.v2 ? b[pos + 3] : b[pos + 4];
       const data = pos + prefix;
       if (data + size > end) throw damaged(`a message of the object header at byte ${address} runs past its block`);
-      if (type === 0x03) return { data: b.subarray(data, data + size), shared: (flags & 0x02) !== 0 };
+      const picked = pick(type, b.subarray(data, data + size), flags);
+      if (picked != null) return picked;
       if (type === 0x10) {
         const d = b.subarray(data, data + size);
         const at = sb.base + unsigned(d, 0, sb.offsetBytes, 'a continuation\'s address');
@@ -110,7 +118,7 @@ function datatypeMessageAt(read: ReadAt, sb: Superblock, address: number): { dat
       pos = data + size;
     }
   }
-  throw damaged(`the object header at byte ${address} holds no datatype message`);
+  return null;
 }
 
 /** The type a datatype message describes. */
@@ -127,6 +135,31 @@ export function decodeDatatype(d: Uint8Array): StoredType {
     ...base, offset, precision, signed: true,
     float: { sign: (bits >> 8) & 0xff, expAt: d[12], expBits: d[13], mantAt: d[14], mantBits: d[15], bias: unsigned(d, 16, 4, 'an exponent bias'), order: (bits & 1) | (((bits >> 6) & 1) << 1), norm: (bits >> 4) & 3 },
   };
+}
+
+/**
+ * The stored type of the attribute `name` of the object (dataset or group) whose header a reference names, from its
+ * attribute message (IV.A.2.m, versions 1 to 3); null where the header holds no such message (attributes kept in dense
+ * storage, a fractal heap, which is not read) or its type is shared.
+ */
+export function attributeTypeOf(read: ReadAt, superblock: number, reference: ArrayLike<number>, name: string): StoredType | null {
+  const sb = superblockAt(read, superblock);
+  const address = sb.base + unsigned(Uint8Array.from(reference), 0, 8, 'the object\'s address');
+  const want = new TextEncoder().encode(name);
+  return messageAt(read, sb, address, (type, d) => {
+    if (type !== 0x0c || d.length < 8) return null;
+    const version = d[0], flags = d[1];
+    const nameSize = d[2] | (d[3] << 8), typeSize = d[4] | (d[5] << 8);
+    // Version 1 pads the name, datatype and dataspace to 8 bytes; version 3 adds the name's character set.
+    const pad = (n: number) => (version === 1 ? Math.ceil(n / 8) * 8 : n);
+    const nameAt = version === 3 ? 9 : 8, typeAt = nameAt + pad(nameSize);
+    if (version < 1 || version > 3 || typeAt + typeSize > d.length) return null;
+    // The name is stored with its terminating NUL.
+    const stored = d.subarray(nameAt, nameAt + nameSize);
+    if (stored.length !== want.length + 1 || stored[want.length] !== 0 || want.some((c, i) => stored[i] !== c)) return null;
+    if (version > 1 && (flags & 0x01)) return null;
+    return decodeDatatype(d.subarray(typeAt, typeAt + typeSize));
+  });
 }
 
 /**

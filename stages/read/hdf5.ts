@@ -8,12 +8,12 @@ import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
-import { timeVectorReader } from './time-vector.js';
+import { framesOfTimes, timeVectorReader } from './time-vector.js';
 import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
 import { h5wasm, libraryStopped, rethrowStop, setAside, takeTurn, type H5 } from './hdf5-library.js';
 import { missingFilter, missingFilterMessage, type PipelineFilter } from './hdf5-filters.js';
-import { readerOf, storedTypeOf, type ReadAt, type StoredType } from './hdf5-stored-type.js';
-import { fullScaleOf, integerOf } from './hdf5-integers.js';
+import { attributeTypeOf, readerOf, storedTypeOf, type ReadAt, type StoredType } from './hdf5-stored-type.js';
+import { fillsStorage, fullScaleOf, integerOf } from './hdf5-integers.js';
 
 /** How a group's HDF5 files hold their recordings. */
 export interface Hdf5Layout {
@@ -67,7 +67,7 @@ export function firstLine(e: unknown): string {
 }
 
 /** Finds an attribute: "/path@name" exactly, or "name" on the object and then each enclosing group up to the root. */
-function findAttribute(file: HdfFile, from: string, spec: string, what: string, where: string): unknown {
+function findAttribute(file: HdfFile, from: string, spec: string, what: string, where: string, bytes: FileBytes | null = null): unknown {
   const at = spec.lastIndexOf('@');
   const places = at >= 0 ? [spec.slice(0, at) || '/'] : from.split('/').filter(Boolean).map((_, i, parts) => `/${parts.slice(0, parts.length - i).join('/')}`).concat('/');
   const name = at >= 0 ? spec.slice(at + 1) : spec;
@@ -75,12 +75,32 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
     let obj;
     try { obj = file.get(place); } catch (e) { rethrowStop(e); obj = null; }
     if (!obj || !('attrs' in obj)) continue;
-    const attrs = (obj as { attrs: Record<string, { value: unknown }> }).attrs;
+    const attrs = (obj as { attrs: Record<string, { value: unknown; metadata: { type: number; size: number } }> }).attrs;
     if (Object.prototype.hasOwnProperty.call(attrs, name)) {
-      try { return attrs[name].value; } catch (e) { rethrowStop(e); throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
+      let value: unknown, type: number;
+      try { ({ value } = attrs[name]); type = attrs[name].metadata.type; } catch (e) { rethrowStop(e); throw new RecordingError(`attribute "${name}" of "${place}" (the ${what}) cannot be read: ${firstLine(e)}`); }
+      // An integer narrower than its storage is taken from its bits, as a dataset's are.
+      return bytes && type === 0 ? integerAttribute(obj as unknown as Dataset, place, name, value, bytes) : value;
     }
   }
   throw new RecordingError(`attribute "${name}" (the ${what}) is not on ${at >= 0 ? `"${places[0]}"` : `dataset "${from}" or its groups`}; correct ${where} or check the file`);
+}
+
+/**
+ * An integer attribute's values by its stored type (h5wasm hands over the storage word, as for datasets: `hdf5-integers.ts`);
+ * as h5wasm gives them where the object's header holds no such attribute message (dense attribute storage is not read).
+ */
+function integerAttribute(obj: Dataset, place: string, name: string, value: unknown, bytes: FileBytes): unknown {
+  let t: StoredType | null;
+  try { t = attributeTypeOf(bytes.read, bytes.superblock, obj.create_reference().ref_data, name); } catch (e) {
+    rethrowStop(e);
+    throw new RecordingError(`attribute "${name}" of "${place}": its stored type cannot be read: ${e instanceof RecordingError ? e.message : firstLine(e)}`);
+  }
+  if (t == null || t.cls !== 0 || fillsStorage(t)) return value;
+  if (t.precision < 1 || t.offset + t.precision > 8 * t.size) throw new RecordingError(`attribute "${name}" of "${place}": its integers claim ${t.precision} bits from bit ${t.offset} of ${8 * t.size}-bit storage; the file is damaged: copy it again`);
+  const of = integerOf(t);
+  if (typeof value === 'number' || typeof value === 'bigint') return of(value);
+  return ArrayBuffer.isView(value) ? Array.from(value as unknown as ArrayLike<number | bigint>, (w) => of(w)) : value;
 }
 
 /** Names an attribute holds: an array of text (one text for one channel). */
@@ -248,7 +268,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
     }
     checkChannelCount(channels, `dataset "${first.path}"`);
     const rateSpec = layout.sample_rate_attribute, rateSet = layout.sample_rate_dataset, timeSpec = layout.start_time_attribute, timeSet = layout.start_time_dataset;
-    const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute']), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
+    const fromFile = rateSpec ? rateFrom(findAttribute(file, first.path, rateSpec, 'sample rate', where['hdf5.sample_rate_attribute'], bytes), `attribute "${rateSpec}" of dataset "${first.path}"`, where['hdf5.sample_rate_attribute'])
       : rateSet ? rateFrom(datasetValue(file, rateSet, 'sample rate', where['hdf5.sample_rate_dataset'], bytes), `dataset "${rateSet}"`, where['hdf5.sample_rate_dataset']) : null;
     const time = layout.time_dataset ? timeDatasetOf(file, layout.time_dataset, frames, where['hdf5.time_dataset'], basename(path), bytes) : null;
     const times = time ? timeStepOf(time, frames, where['hdf5.time_dataset']) : null;
@@ -258,7 +278,7 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
       const places = [...new Set([where.sample_rate, where['hdf5.sample_rate_attribute'], where['hdf5.sample_rate_dataset'], where['hdf5.time_dataset']])];
       throw new RecordingError(`dataset "${first.path}": no sample rate; set ${places.slice(0, -1).join(', ')} or ${places.at(-1)}`);
     }
-    const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute']), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
+    const startTime = timeSpec ? startFrom(findAttribute(file, first.path, timeSpec, 'start time', where['hdf5.start_time_attribute'], bytes), `attribute "${timeSpec}" of dataset "${first.path}"`, where['hdf5.start_time_attribute'])
       : timeSet ? startFrom(datasetValue(file, timeSet, 'start time', where['hdf5.start_time_dataset'], bytes), `dataset "${timeSet}"`, where['hdf5.start_time_dataset'])
         // Else a time dataset of POSIX seconds.
         : times && startOfTimes(times.first);
@@ -330,10 +350,22 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
         throw new RecordingError(`dataset "${pick(o).path}": ${what} ${start} to ${end} cannot be read: ${firstLine(e)}; the file is damaged: copy it again`);
       }
     }, `reading ${what} ${start} to ${end} of dataset "${pick(o).path}"`);
+    const timePlaces = () => vectorIndices(timeHeld || `dataset "${o.time!.path}" (the time)`, basename(path));
+    /** The time dataset's values, a chunk at a time. */
+    async function* timeBlocks(): AsyncGenerator<Float64Array> {
+      const times = new Float64Array(chunk);
+      for (let start = 0; start < frames; start += chunk) {
+        const n = Math.min(chunk, frames - start);
+        const held = await slice((x) => x.time!, vectorRanges(o.time!.shape, [start, start + n]), 'times', start, start + n);
+        const time = o.time!.value;
+        for (let i = 0; i < n; i++) times[i] = time(held[i]);
+        yield times.subarray(0, n);
+      }
+    }
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       try {
         // A time dataset's steps are held as its values are read beside the samples; the samples it says were lost are missing samples.
-        const timed = o.times && timeVectorReader(o.times, channels, chunk, vectorIndices(timeHeld || `dataset "${o.time!.path}" (the time)`, basename(path)), mostLostRows);
+        const timed = o.times && timeVectorReader(o.times, channels, chunk, timePlaces(), mostLostRows);
         const times = timed ? new Float64Array(chunk) : null;
         const out = Array.from({ length: channels }, () => new Float64Array(chunk));
         for (let start = 0; start < frames; start += chunk) {
@@ -374,6 +406,7 @@ export async function openHdf5(path: string, layout: Hdf5Layout | null, declared
       // An integer's precision is its converter's codes: a 24-bit precision in 32-bit storage steps as 24 bits.
       bits: integer ? first.precision : null, normalised: integer,
       startTime, channelNames: o.channelNames, notes: [], chunks, close: async () => { closeQuietly(o.file); release(); },
+      ...(o.times ? { framesOfTimes: () => framesOfTimes(o.times!, timeBlocks(), timePlaces(), mostLostRows) } : {}),
       ...(o.byAxis ? { otherAxis: { channels: frames, where: declareHow.where['hdf5.channel_axis'] } } : {}),
     };
     return recording;

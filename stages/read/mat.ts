@@ -11,7 +11,7 @@ import { isMat73, openMat73 } from './mat73.js';
 import { channelLayout, className, CLASS_BITS, isVectorDims, MX, TYPE_BYTES, type ArrayHeader } from './mat-element.js';
 import { decodeInto, normaliserOf } from './mat-values.js';
 import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
-import { timeVectorReader } from './time-vector.js';
+import { framesOfTimes, timeVectorReader } from './time-vector.js';
 import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
@@ -112,6 +112,19 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     const interleaved = plan[0].width > 1;
     const chunk = boundedChunkFrames(chunkFrames, channels, 8 * channels + (interleaved ? 8 * channels : 0));
 
+    const timePlaces = () => vectorIndices(`variable "${layout!.time_variable}" (the time)`, basename(path));
+    /** The time vector's values alone, a chunk at a time (closed with the recording). */
+    async function* timeBlocks(): AsyncGenerator<Float64Array> {
+      const time = await m.sourceAt(layout!.time_variable!, 'time', where['mat.time_variable'], 0);
+      extra.push(time);
+      const size = TYPE_BYTES[time.type], scratch = new Uint8Array(new ArrayBuffer(chunk * size)), held = new Float64Array(chunk);
+      for (let start = 0; start < frames; start += chunk) {
+        const n = Math.min(chunk, frames - start);
+        const bytes = time.inline ? time.inline.subarray(start * size, (start + n) * size) : await time.cursor.take(n * size, `times ${start} to ${start + n}`, scratch);
+        decodeInto(bytes.byteOffset % 8 === 0 ? bytes : new Uint8Array(bytes), time.type, m.little, n, held, 0, 1, AS_STORED);
+        yield held.subarray(0, n);
+      }
+    }
     async function* chunks(): AsyncGenerator<Float64Array[]> {
       for (const p of plan) {
         const s = await m.sourceAt(p.variable, 'samples', where['mat.variables'], p.first);
@@ -122,7 +135,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
       const time = times == null ? null : await m.sourceAt(layout!.time_variable!, 'time', where['mat.time_variable'], 0);
       if (time) extra.push(time);
       // Its steps are held as it is read; the samples it says were lost are missing samples in their places.
-      const timed = times && timeVectorReader(times, channels, chunk, vectorIndices(`variable "${layout!.time_variable}" (the time)`, basename(path)), mostLostRows);
+      const timed = times && timeVectorReader(times, channels, chunk, timePlaces(), mostLostRows);
       const held = time ? new Float64Array(chunk) : null;
       const out = Array.from({ length: channels }, () => new Float64Array(chunk));
       // Scratch at offset 0 of its own buffer, so that stored values can be viewed as typed arrays in place.
@@ -156,6 +169,7 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
       format: 'mat', channelCount: channels, sampleRate, frames,
       encoding: cls === MX.DOUBLE ? 'float64' : cls === MX.SINGLE ? 'float32' : className(cls), bits: integer ? CLASS_BITS[cls].bits : null, normalised: integer,
       startTime, channelNames, notes: [], chunks, close: () => m.close([...sources, ...extra]),
+      ...(times ? { framesOfTimes: () => framesOfTimes(times, timeBlocks(), timePlaces(), mostLostRows) } : {}),
       ...(otherAxis != null ? { otherAxis: { channels: otherAxis, where: where['mat.channel_axis'] } } : {}),
     };
     return recording;

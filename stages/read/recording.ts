@@ -27,6 +27,11 @@ export interface Recording {
   otherAxis?: { channels: number; where: string };
   /** A time column whose header names no unit (`time`, `t`): its name, its numbers read as seconds on trust. */
   secondsAssumed?: string;
+  /**
+   * For files with a time vector (HDF5, MAT-files): the frames the chunks will come to, the samples its times say were lost
+   * counted, read from the times alone; `frames` is what the file holds.
+   */
+  framesOfTimes?: () => Promise<number>;
   /** For files with a time column: its irregular steps, complete once chunks() has ended. */
   timeSteps?: TimeSteps;
   close(): Promise<void>;

@@ -17,14 +17,17 @@ export const widestStep = (s: TimeSteps, seconds: (x: number) => string) => {
 export function stepCounter(nominal: number, tolerance: number) {
   let previous = NaN, irregular = 0, unmeasured = 0, widest = 0, widestAt = NaN, times = 0;
   return {
-    /** `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step. */
-    add(t: number, lost = false): void {
+    /**
+     * `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step;
+     * `off`: the time leaves a declared grid (`grid-watch.ts`), an irregular step whatever its length.
+     */
+    add(t: number, lost = false, off = false): void {
       times++;
       // A time that is no number (NaN in a time vector) is a step that cannot be measured: counted, never the widest.
       if (!Number.isFinite(t)) { if (times > 1) { irregular++; unmeasured++; } previous = NaN; return; }
       if (Number.isFinite(previous) && !lost) {
         const dt = t - previous;
-        if (!(Math.abs(dt - nominal) <= tolerance)) {
+        if (!(Math.abs(dt - nominal) <= tolerance) || off) {
           irregular++;
           if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
         }
@@ -99,10 +102,12 @@ export function printedRate(units: ArrayLike<number>, unit: number): PrintedRate
   let q = span / count;
   // Rows lost among steps of one unit (1 kHz to the millisecond) make steps of two, which the first pass kept; a step
   // between one and two units (800 Hz to the millisecond) prints as one and two units in turn, the longer ones the step's
-  // fraction above one unit of all steps. Fewer than 1 % longer steps are rows lost (our choice: rates within 1 % below
-  // one unit a step are read as that unit, with rows lost).
+  // fraction above one unit of all steps. Fewer than 1 % longer steps, out of step with a steady clock, are rows lost.
   const longer = steps.filter((d) => within(median)(d) && d >= 1.5 * q).length;
-  const lost = q >= 1 && longer > 0 && longer < 0.01 * count;
+  // A steady clock within 1 % below one unit a step (995 Hz to the millisecond) steps two units too, but evenly: its rows
+  // lie on one grid. Rows lost at random places leave it; one longer step fits any grid, and stays a row lost.
+  const steady = longer >= 2 && onOneGrid(units, steps, within(median));
+  const lost = q >= 1 && longer > 0 && longer < 0.01 * count && !steady;
   if (lost) ({ span, count } = regularRuns(units, steps, (d) => within(median)(d) && d < 1.5 * q));
   q = span / count;
   // Held again about the step itself: within one unit of it, the rows lost left out.
@@ -111,6 +116,36 @@ export function printedRate(units: ArrayLike<number>, unit: number): PrintedRate
   const runs = again.count > 0 ? again.runs : 1, kept = again.count > 0 ? again.count : count;
   // Each run's ends are off by at most half a unit each.
   return { ...quoted(q * unit, (runs * unit) / kept), coarse: q < 1 };
+}
+
+/**
+ * Whether the rows of every run of regular steps lie on one grid: each within half a unit of a common straight line of its
+ * run (a steady clock's times rounded to the print, a Sturmian sequence), the slope pooled over the runs by least squares.
+ * Spread over 1 unit (plus 1/20 for the slope's own error, our choice) is a row out of place.
+ */
+export function onOneGrid(units: ArrayLike<number>, steps: Float64Array, regular: (step: number) => boolean, spread = 1.05): boolean {
+  const runs: [number, number][] = [];
+  for (let i = 0, from = -1; i <= steps.length; i++) {
+    const kept = i < steps.length && regular(steps[i]);
+    if (kept && from < 0) from = i;
+    if (!kept && from >= 0) { runs.push([from, i]); from = -1; }
+  }
+  // Least-squares slope of units against row, each run about its own means (common practice: a pooled within-group slope).
+  let sxy = 0, sxx = 0;
+  for (const [a, b] of runs) {
+    const kMean = (a + b) / 2;
+    let uMean = 0;
+    for (let k = a; k <= b; k++) uMean += units[k];
+    uMean /= b - a + 1;
+    for (let k = a; k <= b; k++) { sxy += (k - kMean) * (units[k] - uMean); sxx += (k - kMean) ** 2; }
+  }
+  if (!(sxx > 0)) return false;
+  const slope = sxy / sxx;
+  return runs.every(([a, b]) => {
+    let low = Infinity, high = -Infinity;
+    for (let k = a; k <= b; k++) { const e = units[k] - k * slope; low = Math.min(low, e); high = Math.max(high, e); }
+    return high - low <= spread;
+  });
 }
 
 /** A step and how far it may be off, as a rate quoted to the digits they support. */

@@ -5,6 +5,20 @@ import { lostRowCounter, lostRowsNote, missingSamples, MOST_LOST_ROWS, type Time
 import { keepSteps, stepCounter, type TimeSteps, type VectorRate } from './time-steps.js';
 
 /**
+ * The frames a time vector gives, the samples it says were lost counted with those it holds: the count the chunks come to,
+ * read from the times alone (for quern check, which reads no samples), by the same counter as `timeVectorReader`'s.
+ */
+export async function framesOfTimes(rate: VectorRate, blocks: AsyncIterable<ArrayLike<number>>, places: TimePlaces, most = MOST_LOST_ROWS): Promise<number> {
+  const lost = lostRowCounter(rate.step, rate.tolerance, 1 / rate.lowest - 1 / rate.highest, most, 0, places);
+  let at = 0, frames = 0;
+  for await (const times of blocks) {
+    for (let i = 0; i < times.length; i++) frames += 1 + lost.before(times[i], '', at + i);
+    at += times.length;
+  }
+  return frames;
+}
+
+/**
  * Reads a time vector's blocks beside their samples. `rate`: its nominal step and the tolerance of its regular steps (no
  * print resolution: the times are stored as they were taken); `places` names the vector, its indices and the file.
  */
