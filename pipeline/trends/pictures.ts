@@ -87,8 +87,10 @@ export function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
   // The median and band of the baseline the latest recording is held against.
   const j = eraAt(f.eras, f.series.time[f.series.size - 1]), base = f.bases[j];
   const floor = base.complete && f.baseFloors[j] != null && Math.abs(base.median) < f.baseFloors[j]! ? f.baseFloors[j] : null;
+  // The lowest usable value the band spans: of the era it holds for (from a restart on).
+  const from = j > 0 ? f.eras[j].fromMs : -Infinity;
   let lowest = 0;
-  for (const p of points) if (p.usable && p.value < lowest) lowest = p.value;
+  for (const p of points) if (p.usable && p.t >= from && p.value < lowest) lowest = p.value;
   return {
     feature: f.feature.name, unit: f.unit, points, median: base.complete ? base.median : null, band: steadyBand(f.feature.level, base, o, floor, lowest), floor,
     restartedAt: j > 0 ? f.eras[j].fromMs : null, limits: limitsFor(o, f.feature.name, f.series) ?? null,
