@@ -29,7 +29,7 @@ export function rowsNote(name: string, unit: string, bins: CycleBins, declared: 
 
 /** The residue held its cap: how many cycles were closed before a larger reversal came. */
 export function residueNote(name: string, counter: Rainflow): string {
-  return `${name}: the rainflow residue reached ${counter.residueCap} turning points (a long run of ever smaller reversals, as in a ring-down) ${counter.closings} time(s); ${counter.closedEarly} cycles of its smaller half were counted as whole cycles then, as a later larger reversal would count them; had the recording ended first, ASTM E1049 would count those ranges as half cycles; cycles_total and range_max are unchanged, damage_equivalent_range and those rows of cycles.parquet are approximate`;
+  return `${name}: the rainflow residue reached ${counter.residueCap} turning points (a long run of ever smaller reversals, as in a ring-down) ${counter.closings} time(s); ${counter.closedEarly} cycles of its smaller half were counted as whole cycles then, as a later larger reversal counts such pairs (ASTM E1049 pairs them from the newest point, so half the time with their other neighbours); had the recording ended first, ASTM E1049 would count those ranges as half cycles; cycles_total and range_max are unchanged, damage_equivalent_range and those rows of cycles.parquet are approximate`;
 }
 
 export const rainflow: StageDefinition<RainflowOptions> = {

@@ -1,6 +1,6 @@
 // Time-weighted maxima LAFmax, LASmax and the C-weighted peak LCpeak from the channel's weighted sound pressure
 // (weighted-sound.ts): the exponential time weighting F or S of the A-weighted pressure, or the largest absolute C-weighted
-// value. Each filter's deviation from the analytic weighting at this sample rate is reported, and noted where it leaves the class 1 limits.
+// value between the samples (IEC 61672-1 defines the peak from the instantaneous pressure). Each filter's deviation from the analytic weighting at this sample rate is reported, and noted where it leaves the class 1 limits.
 import { settlingS, unsettled } from './dsp/exponential-average.js';
 import { LEVEL_UNIT, levelDb, P0_PA } from './sound-pressure.js';
 import type { StageDefinition } from './stage.js';
@@ -13,7 +13,7 @@ export const soundMaxima: StageDefinition<Record<string, never>> = {
   columns: () => [
     { name: 'lafmax', unit: LEVEL_UNIT, description: 'Maximum A-weighted, Fast (0.125 s) time-weighted sound level (IEC 61672-1), from the digital A weighting filter.' },
     { name: 'lasmax', unit: LEVEL_UNIT, description: 'Maximum A-weighted, Slow (1 s) time-weighted sound level.' },
-    { name: 'lcpeak', unit: LEVEL_UNIT, description: 'C-weighted peak sound level: the largest absolute sample of the digital C weighting filter\'s output, the filter started on the backward prediction of the recording\'s first 0.1 s.' },
+    { name: 'lcpeak', unit: LEVEL_UNIT, description: 'C-weighted peak sound level: the largest absolute value of the digital C weighting filter\'s output between the samples (true peak by 4× oversampling, ITU-R BS.1770-4 Annex 2), the filter started on the backward prediction of the recording\'s first 0.1 s.' },
     { name: 'a_filter_deviation_db', unit: 'dB', description: 'Largest |digital − analytic| of the A weighting filter at the one-third-octave mid-bands 10 Hz–10 kHz below Nyquist, at this sample rate.' },
     { name: 'c_filter_deviation_db', unit: 'dB', description: 'The same for the C weighting filter.' },
   ],

@@ -1,12 +1,15 @@
 // The channel's sound pressure through the digital A and C weighting filters (dsp/weighting-filter.ts), filtered once and
-// shared by the equivalent levels and the maxima: mean squares, Fast and Slow maxima of the A-weighted signal, C peak.
+// shared by the equivalent levels and the maxima: mean squares, Fast and Slow maxima of the A-weighted signal, C peak
+// (its true peak between the samples, as IEC 61672-1 defines the peak from the instantaneous pressure, not the samples).
 // The filters start on a plausible past (dsp/backward-extension.ts) rather than at rest or on the first sample held
 // constant, either of which makes a start-up transient that a signal already running when the recording starts never had.
 import { backwardExtension } from './dsp/backward-extension.js';
 import type { Section } from './dsp/butterworth.js';
 import { ExponentialMeanSquare } from './dsp/exponential-average.js';
+import { simdPeakScan } from './dsp/fft-simd.js';
 import type { Weighting } from './dsp/frequency-weighting.js';
 import { sosStepState, SosFilter } from './dsp/sosfilt.js';
+import { guardFor, TAP_PAIRS, TruePeak } from './dsp/true-peak.js';
 import { weightingFilter } from './dsp/weighting-filter.js';
 import { noLevels, pascalsPer } from './sound-pressure.js';
 import type { ChannelContext, Stage } from './stage.js';
@@ -26,8 +29,10 @@ export interface WeightingDesign { sos: Section[]; deviationDb: number }
 export interface WeightedFigures {
   /** Mean squares of the A- and C-weighted sound pressure over the recording, Pa². */
   meanSquareA: number; meanSquareC: number;
-  /** Largest Fast and Slow time-weighted mean squares of the A-weighted pressure, Pa²; largest |C-weighted pressure|, Pa. */
+  /** Largest Fast and Slow time-weighted mean squares of the A-weighted pressure, Pa²; largest |C-weighted pressure| between the samples (4× true peak), Pa. */
   fastMax: number; slowMax: number; peakC: number;
+  /** Largest |C-weighted pressure| of the samples alone, Pa: up to 1 − cos(π·f/fs) below peakC for a crest at f. */
+  samplePeakC: number;
   /** Samples that were not finite and entered the filters as 0 Pa. */
   missing: number;
   /** Samples the figures count (the time weighting's average runs over these alone). */
@@ -88,10 +93,10 @@ export function heldInto(x: Float64Array, out: Float64Array, gone: Uint8Array, l
 }
 
 const sumOfSquares = (y: Float64Array) => { let s = 0; for (let i = 0; i < y.length; i++) s += y[i] * y[i]; return s; };
-const peakOf = (y: Float64Array, peak: number) => { for (let i = 0; i < y.length; i++) { const v = Math.abs(y[i]); if (v > peak) peak = v; } return peak; };
 // The same over the samples `gone` does not mark.
 const keptSumOfSquares = (y: Float64Array, gone: Uint8Array) => { let s = 0; for (let i = 0; i < y.length; i++) if (!gone[i]) s += y[i] * y[i]; return s; };
-const keptPeakOf = (y: Float64Array, gone: Uint8Array, peak: number) => { for (let i = 0; i < y.length; i++) { const v = Math.abs(y[i]); if (!gone[i] && v > peak) peak = v; } return peak; };
+// Samples `gone` marks made NaN: the true peak takes no candidate there, nor an interpolated point whose taps reach one.
+const blanked = (y: Float64Array, gone: Uint8Array) => { for (let i = 0; i < y.length; i++) if (gone[i]) y[i] = NaN; };
 const keptCount = (gone: Uint8Array) => { let k = 0; for (let i = 0; i < gone.length; i++) k += gone[i] ? 0 : 1; return k; };
 const scaled = (y: Float64Array, k: number) => { for (let i = 0; i < y.length; i++) y[i] *= k; };
 
@@ -104,7 +109,9 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
     const start = new Float64Array(startLength);
     const fast = new ExponentialMeanSquare(FAST_S, ctx.sampleRate), slow = new ExponentialMeanSquare(SLOW_S, ctx.sampleRate);
     let aFilter: SosFilter | null = null, cFilter: SosFilter | null = null;
-    let filled = 0, count = 0, missing = 0, sumA = 0, sumC = 0, peakC = 0;
+    let filled = 0, count = 0, missing = 0, sumA = 0, sumC = 0;
+    // The C-weighted signal holds what the channel holds, up to its declared highest frequency (or fs/2.56).
+    const peakC = new TruePeak(guardFor(ctx.sampleRate, ctx.maxFrequencyHz), simdPeakScan(TAP_PAIRS));
     let x = new Float64Array(0), y = new Float64Array(0), marks = new Uint8Array(0), startMarks = new Uint8Array(startLength);
     // Gaps: the value held into the filters, and the samples after the last gap whose output is still the filters' settling.
     let last = NaN, settleLeft = 0, anyGone = false;
@@ -122,7 +129,8 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
       cFilter!.process(chunk, out);
       scaled(out, pa);
       sumC += gone ? keptSumOfSquares(out, gone) : sumOfSquares(out);
-      peakC = gone ? keptPeakOf(out, gone, peakC) : peakOf(out, peakC);
+      if (gone) blanked(out, gone);
+      peakC.push(out);
       count += gone ? keptCount(gone) : chunk.length;
     };
     // Once the first stretch is in (or the recording ends before it is), the filters run over its predicted past, then over it.
@@ -160,7 +168,8 @@ export function weightedSoundOf(ctx: ChannelContext): WeightedSound {
       figures() {
         begin();
         if (!aFilter || count === 0) return null;
-        return { meanSquareA: sumA / count, meanSquareC: sumC / count, fastMax: fast.max, slowMax: slow.max, peakC, missing, kept: count };
+        const { samplePeak, truePeak } = peakC.result();
+        return { meanSquareA: sumA / count, meanSquareC: sumC / count, fastMax: fast.max, slowMax: slow.max, peakC: truePeak, samplePeakC: samplePeak, missing, kept: count };
       },
     };
   });

@@ -4,18 +4,19 @@ import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
+import { grownInItsTerms } from '../pipeline/trends/news.js';
 import { quern, readJson, tempDir } from './helpers.js';
 
 const FS = 8000;
 // +8 dB of amplitude is a factor 10^(8/20) = 2.512 (decibels of an amplitude, 20·log10; common practice).
 const STEP = 10 ** (8 / 20);
 
-/** Night n's recording (n from 1): a 300 Hz tone and seeded noise at `gain` times the baseline amplitude. */
-function night(n: number, gain: number): Buffer {
+/** Night n's recording (n from 1): a tone (300 Hz unless told) and seeded noise at `gain` times the baseline amplitude. */
+function night(n: number, gain: number, hz = 300): Buffer {
   let a = 4000 + n;
   const u = () => { a = (a + 0x6d2b79f5) >>> 0; let t = Math.imul(a ^ (a >>> 15), a | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
   const x = new Float64Array(FS);
-  for (let i = 0; i < FS; i++) x[i] = gain * (1.5 * Math.sin(2 * Math.PI * 300 * i / FS) + 0.2 * Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u())) / 100;
+  for (let i = 0; i < FS; i++) x[i] = gain * (1.5 * Math.sin(2 * Math.PI * hz * i / FS) + 0.2 * Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u())) / 100;
   return encodeWav({ sampleRate: FS, channels: [x], origination: new Date(Date.UTC(2026, 10, n, 2)) });
 }
 const day = (n: number) => `2026-11-${String(n).padStart(2, '0')}`;
@@ -28,13 +29,17 @@ const ARCHIVE = `groups:
       - { name: acc, quantity: acceleration, unit: m/s^2, scale: 100, range: [-100, 100], bits: 16 }
 `;
 
-/** An archive whose nights arrive one by one, and the nightly command over it. `limits`: the spec's trends.limits, if any. */
-function rig(gains: number[], limits = '') {
+/**
+ * An archive whose nights arrive one by one, and the nightly command over it. `limits`: the spec's trends.limits, if any;
+ * `tones`: each night's tone frequency, watched as dominant_frequency in place of rms.
+ */
+function rig(gains: number[], limits = '', tones?: number[]) {
   const root = tempDir(), archive = join(root, 'archive'), out = join(root, 'out');
   mkdirSync(join(archive, 'rig'), { recursive: true });
   writeFileSync(join(archive, 'archive.yaml'), ARCHIVE);
-  writeFileSync(join(root, 'spec.yaml'), `statistics: {}\ntrends: { features: [rms]${limits ? `, limits: { ${limits} }` : ''} }\n`);
-  const arrive = (n: number) => writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n, gains[n - 1]));
+  const watched = tones ? 'spectrum: { segment: 4096, overlap: 0.5, window: hann }\ntrends: { features: [dominant_frequency]' : 'statistics: {}\ntrends: { features: [rms]';
+  writeFileSync(join(root, 'spec.yaml'), `${watched}${limits ? `, limits: { ${limits} }` : ''} }\n`);
+  const arrive = (n: number) => writeFileSync(join(archive, 'rig', `${day(n)}.wav`), night(n, gains[n - 1], tones?.[n - 1]));
   const reduce = (...more: string[]) => quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--jobs', '1', ...(more.includes('--log') ? [] : ['--quiet']), ...more);
   const changes = () => readJson(join(out, 'quality.json')).changes;
   return { out, arrive, reduce, changes };
@@ -131,6 +136,27 @@ describe('what is new tonight', () => {
     expect(changes().items).toMatchObject([{ verdict: 'changed', new: false }]);
   });
 
+  it('a figure that is no level (a dominant frequency, no change in dB) is news again when its robust score grows by the score threshold, not on every move', () => {
+    // The tone moves from 300 Hz: the baseline of three equal nights has a spread of 10 % of its median (spread_floor), about
+    // 30 Hz, so 500 Hz scores about +6.6 (changed, over 6), 520 Hz +7.3, 700 Hz +13.2 (grown 6.6 since told: news), 740 Hz
+    // +14.6 (grown 1.4 since told: not news). The dominant frequency is the Welch bin nearest the tone, k·fs/segment with
+    // fs/segment = 1.953125 Hz (a Hann-windowed tone peaks in its nearest bin, common practice).
+    const { arrive, reduce, changes } = rig([1, 1, 1, 1, 1, 1, 1], '', [300, 300, 300, 500, 520, 700, 740]);
+    for (let n = 1; n <= 3; n++) { arrive(n); reduce('--since', day(n)); }
+    const told: { night: number; new: boolean; score: number }[] = [];
+    for (let n = 4; n <= 7; n++) {
+      arrive(n);
+      const r = reduce('--since', day(n), '--exit-on', 'new');
+      const [item] = changes().items;
+      expect(item).toMatchObject({ feature: 'dominant_frequency', verdict: 'changed', change_db: null });
+      expect(r.code).toBe(item.new ? 3 : 0);
+      told.push({ night: n, new: item.new, score: item.score });
+    }
+    expect(told.map((x) => x.new)).toEqual([true, false, true, false]);
+    const bin = (hz: number) => Math.round(hz / (FS / 4096)) * (FS / 4096), m = bin(300);
+    expect(told.map((x) => x.score)).toEqual([500, 520, 700, 740].map((hz) => expect.closeTo((bin(hz) - m) / (0.1 * m), 9)));
+  });
+
   it('a night without a recording of the channel keeps what was reported: the change is not new when the rig captures again', () => {
     const { arrive, reduce, changes } = rig([1, 1, 1, STEP, STEP, STEP, STEP]);
     for (let n = 1; n <= 4; n++) arrive(n);
@@ -140,5 +166,20 @@ describe('what is new tonight', () => {
     arrive(6);
     expect(reduce('--since', day(6), '--exit-on', 'new').code).toBe(0);
     expect(changes().items).toMatchObject([{ verdict: 'changed', new: false }]);
+  });
+});
+
+describe('growth since last told, each change in its own terms', () => {
+  const thresholds = { change_db: 6, score: 6 };
+  it('a level grows by the change threshold in dB, whatever its score does; a figure with no dB by the score threshold', () => {
+    // A level: +8 dB told, +13 dB now (5 dB more) with its score grown by 40: not news; +14 dB: news.
+    expect(grownInItsTerms({ change_db: 13, score: 60 }, { change_db: 8, score: 20 }, thresholds)).toBe(false);
+    expect(grownInItsTerms({ change_db: 14, score: 21 }, { change_db: 8, score: 20 }, thresholds)).toBe(true);
+    // Kurtosis or a frequency (no change in dB): a score of +7 told, +12.9 now is not news, +13 is; a turn to −13 is no growth.
+    expect(grownInItsTerms({ change_db: null, score: 12.9 }, { change_db: null, score: 7 }, thresholds)).toBe(false);
+    expect(grownInItsTerms({ change_db: null, score: 13 }, { change_db: null, score: 7 }, thresholds)).toBe(true);
+    expect(grownInItsTerms({ change_db: null, score: -13 }, { change_db: null, score: 7 }, thresholds)).toBe(false);
+    // A report kept before scores were kept (no score told): never grown, told again only when its verdict rises.
+    expect(grownInItsTerms({ change_db: null, score: 50 }, {}, thresholds)).toBe(false);
   });
 });

@@ -216,6 +216,45 @@ describe('the rainflow residue under its cap', () => {
     expect(notes.some((n) => /^gauge: the rainflow residue reached 16 turning points/.test(n))).toBe(true);
   });
 
+  // Hand-worked from ASTM E1049-85 (2017) §5.4.4's steps (from memory): read a point; X the latest range, Y the one before; while
+  // X ≥ Y, Y is a whole cycle (a half cycle where it holds the start S); at the end every range left is a half cycle.
+  /** Cycles as "range@mean×count" in a sorted list, counted with the residue capped at `cap` points. */
+  const counted = (points: number[], cap: number) => {
+    const out: string[] = [];
+    const counter = new Rainflow((r, m, n) => out.push(`${r}@${m}×${n}`), cap);
+    for (const p of points) counter.add(p);
+    counter.finish();
+    return { cycles: out.sort(), closedEarly: counter.closedEarly };
+  };
+  const tenPoints = [10, -9, 8, -7, 6, -5, 4, -3, 2, -1];
+
+  it('a ring-down of 10 points that ends so: ASTM counts nine half cycles (19, 17 … 3); the cap of 8 counts 13 and 9 as whole cycles and 11 as a half in their place, the same cycles_total and range_max', () => {
+    // ASTM: every range is smaller than the one before, so nothing closes; the residue is the whole history.
+    expect(counted(tenPoints, 1024).cycles).toEqual(['11@0.5×0.5', '13@-0.5×0.5', '15@0.5×0.5', '17@-0.5×0.5', '19@0.5×0.5', '3@0.5×0.5', '5@-0.5×0.5', '7@0.5×0.5', '9@-0.5×0.5']);
+    // Capped: at 8 points (10 … −3) the pairs (−7, 6) and (−5, 4) of the upper half close as whole cycles, leaving 10, −9, 8, −3,
+    // then 2, −1 come; the residue's half cycles are 19, 17, 11 (8 to −3), 5, 3.
+    const capped = counted(tenPoints, 8);
+    expect(capped.closedEarly).toBe(2);
+    expect(capped.cycles).toEqual(['11@2.5×0.5', '13@-0.5×1', '17@-0.5×0.5', '19@0.5×0.5', '3@0.5×0.5', '5@-0.5×0.5', '9@-0.5×1']);
+    // Each point still ends half a cycle (ASTM: 9 ranges × ½ = 4.5), and the largest range is the same.
+    const total = (c: string[]) => c.reduce((t, x) => t + Number(x.split('×')[1]), 0);
+    expect(total(capped.cycles)).toBe(4.5);
+  });
+
+  it('a larger reversal after the ring-down: ASTM closes the residue\'s pairs from the newest point down; the cap\'s pairs are the same only when an odd number of points came between the cap and that reversal', () => {
+    // Three points after the cap (2, −1, 0.5), then −20. ASTM: X = 20.5 closes (−1, 0.5), then (−3, 2), (−5, 4), (−7, 6), (−9, 8)
+    // as whole cycles; 10 to −20 is left, a half cycle of 30.
+    const odd = [...tenPoints, 0.5, -20];
+    const astm = ['1.5@-0.25×1', '13@-0.5×1', '17@-0.5×1', '30@-5×0.5', '5@-0.5×1', '9@-0.5×1'];
+    expect(counted(odd, 1024).cycles).toEqual(astm);
+    expect(counted(odd, 8).cycles).toEqual(astm);
+    // Two points after the cap (2, −1), then 20. ASTM closes (2, −1), (4, −3), (6, −5), (8, −7) whole, 10 to −9 as the start's
+    // half cycle and 20 from −9 as a half; the cap has closed (−7, 6) and (−5, 4) instead, pairing each point with its other neighbour.
+    const even = [...tenPoints, 20];
+    expect(counted(even, 1024).cycles).toEqual(['11@0.5×1', '15@0.5×1', '19@0.5×0.5', '29@5.5×0.5', '3@0.5×1', '7@0.5×1']);
+    expect(counted(even, 8).cycles).toEqual(['11@2.5×1', '13@-0.5×1', '19@0.5×0.5', '29@5.5×0.5', '3@0.5×1', '9@-0.5×1']);
+  });
+
   it('300,000 reversals of a slow ring-down stay under the default cap of 65,536 points', () => {
     const counter = new Rainflow(() => {});
     const n = 300_000;

@@ -15,6 +15,9 @@ import { againstFloor, floorOf, FLOOR_RATIO } from '../pipeline/trends/floor.js'
 import { readHistory } from '../pipeline/trends/history.js';
 import { trendOptions } from '../pipeline/trends/options.js';
 import { changesSummary } from '../pipeline/trends/summary.js';
+import { trendPicture, type TrendPicture } from '../pipeline/trends/pictures.js';
+import { svg } from '../pipeline/outputs/charts.js';
+import { trendSpec } from '../pipeline/outputs/report-changes.js';
 import { fixture, quern, readJson, tempDir } from './helpers.js';
 
 interface Night { rms: number; band_20_200_rms: number; naive_change_db?: number }
@@ -33,14 +36,14 @@ function entry(night: number, n: Night): CacheEntry {
   };
 }
 
-/** The history's points through the real path (stored entries → series → baseline of the first 3 → score), and the terminal's lines. */
-async function scored(nights: Night[]): Promise<{ points: ScoredPoint[]; lines: string }> {
+/** The history's points through the real path (stored entries → series → baseline of the first 3 → score), the terminal's lines, and the report's picture of it. */
+async function scored(nights: Night[]): Promise<{ points: ScoredPoint[]; lines: string; picture: TrendPicture }> {
   const o = trendOptions(SPEC)!;
   const entries = nights.map((n, i) => entry(i, n));
   async function* stored() { yield* entries; }
   const h = await readHistory('(not read)', SPEC, o, new Set(entries.map((e) => e.recording)), stored());
   const features = scoreHistory(h, o);
-  return { points: nights.map((_, i) => features[0].at(i)!), lines: changesSummary(changesReport(h, features, o)).join('\n') };
+  return { points: nights.map((_, i) => features[0].at(i)!), lines: changesSummary(changesReport(h, features, o)).join('\n'), picture: trendPicture(features[0], o) };
 }
 
 const last = <T>(a: T[]) => a[a.length - 1];
@@ -138,4 +141,49 @@ describe('the same recording stored as float64 and as float32', () => {
     expect(whole.value).toBeCloseTo(rms, 9);
     expect(Math.abs(whole.change_db!)).toBeLessThan(1e-6);
   }, 120_000);
+});
+
+describe('the report\'s shaded band of values that read steady, for a baseline below its floor', () => {
+  // The verdicts come from the real path on numpy/scipy-made nights (floor-vectors.json); the picture must agree with them:
+  // a point inside the band reads steady, one outside changed.
+  const nearFloor = (): Night[] => {
+    const quiet = ref.histories.rounding.slice(0, 3), floor = FLOOR_RATIO * median3(quiet.map((n) => n.rms));
+    // 1.5 × the floor is +3.5 dB over it (steady under the 6 dB threshold), 2.5 × is +8 dB (changed), 20·log10 (common practice).
+    return [...quiet, { rms: quiet[0].rms, band_20_200_rms: 1.5 * floor }, { rms: quiet[0].rms, band_20_200_rms: 2.5 * floor }];
+  };
+
+  for (const [name, nights] of [['content appearing', () => ref.histories.appears], ['values just above the floor', nearFloor]] as const) {
+    it(`${name}: every steady point lies in the band, every changed one above it; the band is drawn from the floor, not the rounding-level median`, async () => {
+      const { points, picture } = await scored(nights());
+      const floor = FLOOR_RATIO * median3(nights().slice(0, 3).map((n) => n.rms));
+      expect(picture.floor).toBeCloseTo(floor, 12);
+      expect(picture.band![1]).toBeCloseTo(floor * 10 ** (6 / 20), 12);
+      expect(picture.median!).toBeLessThan(floor); // the rounding's median, which the band no longer rests on
+      const verdicts = points.map((p) => p.verdict);
+      expect(verdicts).toContain('changed');
+      expect(verdicts.filter((v) => v === 'steady').length).toBeGreaterThanOrEqual(4);
+      for (const p of points) {
+        const inside = p.value >= picture.band![0] && p.value <= picture.band![1];
+        expect(inside, `${p.value} reads ${p.verdict}`).toBe(p.verdict === 'steady');
+      }
+
+      // The same on the picture the report renders (Vega's SVG): the shaded rectangle spans the steady points and not the changed.
+      const drawn = await svg(trendSpec(picture));
+      const rect = /aria-roledescription="rect mark" d="M[-\d.]+,([-\d.]+)h[-\d.]+v([-\d.]+)h/.exec(drawn)!;
+      const top = Number(rect[1]), bottom = top + Number(rect[2]);
+      const ys = [...drawn.matchAll(/aria-label="[^"]*verdict: (\w+)[^"]*" role="graphics-symbol" aria-roledescription="point" transform="translate\([-\d.]+,([-\d.]+)\)/g)].map((m) => ({ verdict: m[1], y: Number(m[2]) }));
+      expect(ys.length).toBe(points.length);
+      for (const p of ys) expect(p.y >= top - 0.5 && p.y <= bottom + 0.5, `${p.verdict} at y ${p.y}, band ${top}–${bottom}`).toBe(p.verdict === 'steady');
+      expect(drawn).toMatch(/baseline below its floor 3\.53\d*e-7: steady up to 7\.0\d*e-7/);
+    });
+  }
+
+  it('a baseline above its floor keeps its band around the median (±6 dB and ±6 scores), no floor named', async () => {
+    const { points, picture } = await scored(ref.histories.real);
+    const m = median3(ref.histories.real.slice(0, 3).map((n) => n.band_20_200_rms));
+    expect(picture.floor).toBeNull();
+    expect(picture.median).toBeCloseTo(m, 15);
+    expect(picture.band![1]).toBeLessThanOrEqual(m * 10 ** (6 / 20) * (1 + 1e-12));
+    for (const p of points) expect(p.value >= picture.band![0] && p.value <= picture.band![1]).toBe(p.verdict === 'steady');
+  });
 });

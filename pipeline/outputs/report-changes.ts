@@ -35,7 +35,8 @@ function timeAxis(points: { t: number }[]) {
   return days > 1 && days <= 60 ? { format: '%d %b', tickCount: { interval: 'day' as const, step: Math.max(1, Math.ceil(days / 8)) } } : {};
 }
 
-function trendSpec(t: TrendPicture): TopLevelSpec {
+/** A feature's history against its baseline's band, median and limits. */
+export function trendSpec(t: TrendPicture): TopLevelSpec {
   // The scale follows the usable recordings, the band and the limits; a recording whose data fail the checks sits at its edge.
   const usableValues = t.points.filter((p) => p.usable).map((p) => p.value);
   const span = [...(usableValues.length ? usableValues : t.points.map((p) => p.value)), ...(t.band ?? []), ...Object.values(t.limits ?? {}) as number[]];
@@ -56,7 +57,8 @@ function trendSpec(t: TrendPicture): TopLevelSpec {
   const sinceX = t.restartedAt != null ? { x: { field: 'from', type: 'temporal' as const }, x2: { field: 'to' } } : {};
   const y = { field: 'value', type: 'quantitative' as const, title: t.feature, scale: { domain, zero: false, nice: false } };
   return {
-    ...base, width: 330, height: 170, title: { text: `${t.feature}${unit} over time`, fontSize: 12 },
+    // A baseline below its measurable floor has no level to change from: the shading starts below and says so.
+    ...base, width: 330, height: 170, title: { text: `${t.feature}${unit} over time`, ...(t.floor != null && t.band ? { subtitle: `baseline below its floor ${plainNumber(t.floor)}: steady up to ${plainNumber(t.band[1])}` } : {}), fontSize: 12 },
     layer: [
       ...(t.band ? [{ data: { values: [{ lo: t.band[0], hi: t.band[1], ...since }] }, mark: { type: 'rect' as const, color: COLOURS.ok, opacity: 0.12, clip: true }, encoding: { y: { field: 'lo', type: 'quantitative' as const, scale: { domain, nice: false } }, y2: { field: 'hi' }, ...sinceX } }] : []),
       ...(t.median != null ? [{ data: { values: [{ m: t.median, ...since }] }, mark: { type: 'rule' as const, color: COLOURS.ok, strokeDash: [4, 3] }, encoding: { y: { field: 'm', type: 'quantitative' as const }, ...sinceX } }] : []),
@@ -134,7 +136,7 @@ function spectrogramSpec(columns: ChannelPictures['spectrogram'], unit: string):
 // The trend pictures' key, once per channel instead of a legend in every picture; shape and colour both name the verdict.
 const GREY = '#52606d';
 const VERDICT_MARKERS: Record<keyof typeof VERDICT_COLOURS, Marker> = { steady: 'later', changed: 'changed', alarm: 'alarm', 'no verdict': 'later' };
-const KEY = `<p class="key">shape: ${markerGlyph('baseline', GREY)} baseline recording · ${markerGlyph('later', GREY)} later recording · ${markerGlyph('changed', COLOURS.warn)} changed · ${markerGlyph('alarm', COLOURS.fail)} alarm · ${markerGlyph('off the scale', COLOURS.fail)} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${markerGlyph(VERDICT_MARKERS[v as keyof typeof VERDICT_COLOURS], c)} ${v}`).join(' ')} · shaded: values that read steady · dashed: baseline median · vertical line: baseline formed again</p>`;
+const KEY = `<p class="key">shape: ${markerGlyph('baseline', GREY)} baseline recording · ${markerGlyph('later', GREY)} later recording · ${markerGlyph('changed', COLOURS.warn)} changed · ${markerGlyph('alarm', COLOURS.fail)} alarm · ${markerGlyph('off the scale', COLOURS.fail)} data unusable (placed at the edge) · colour: ${Object.entries(VERDICT_COLOURS).map(([v, c]) => `${markerGlyph(VERDICT_MARKERS[v as keyof typeof VERDICT_COLOURS], c)} ${v}`).join(' ')} · shaded: values that read steady (from below, where the baseline lies below its measurable floor) · dashed: baseline median · vertical line: baseline formed again</p>`;
 
 const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' ? 'fail' : 'warn'}">${v}</span>`;
 

@@ -35,6 +35,8 @@ export interface ScoredFeature {
   /** The stretches of the history between baseline restarts (one, the whole history, where none applies), and each one's baseline. */
   eras: Era[];
   bases: BaselineStats[];
+  /** Each baseline's measurable floor (floor.ts), from its members' channel RMS; null where the feature has none. */
+  baseFloors: (number | null)[];
   /** The baseline point i is held against: its era's. */
   baseAt(i: number): BaselineStats;
   at(i: number): ScoredPoint | null;
@@ -91,7 +93,7 @@ export function scoreFeature(s: Series, k: number, o: TrendOptions): ScoredFeatu
     return VERDICTS[held[i] - 1];
   };
   return {
-    series: s, k, feature, eras, bases, baseAt: (i) => bases[eraOf(i)], unit: feature.unit === '[unit]' ? s.unit : feature.unit, raw: pointAt,
+    series: s, k, feature, eras, bases, baseFloors, baseAt: (i) => bases[eraOf(i)], unit: feature.unit === '[unit]' ? s.unit : feature.unit, raw: pointAt,
     at(i) {
       const p = pointAt(i);
       if (!p?.verdict || p.verdict === 'alarm' || o.deadband === 0) return p;

@@ -1,6 +1,7 @@
 // What is new in a run's changes: a channel feature changed or at an alarm limit that the output folder's previous report did
 // not hold at that level (absent, steady since, or changed where it is now at an alarm limit), or whose change has grown by
-// the change threshold since it was last told. The reported verdicts are kept in cache/, each carried over while a run gives
+// its threshold since it was last told (a level by the change threshold in dB, a figure that is no level by the score
+// threshold). The reported verdicts are kept in cache/, each carried over while a run gives
 // its channel feature no verdict (a rig that skipped a night, data unusable).
 import { mkdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
@@ -12,6 +13,8 @@ export interface Reported {
   group: string; channel: string; channel_unit: string; feature: string; verdict: 'changed' | 'alarm';
   /** The level change in dB when it was last told new (level-like features), so that a change that keeps growing is told again. */
   change_db?: number | null;
+  /** The robust score when it was last told new: the growth of a figure that is no level (kurtosis, a frequency), which has no change in dB. */
+  score?: number | null;
 }
 
 /** What a run keeps for the next: the channel features it reported changed or at an alarm limit (names only, no paths). */
@@ -34,20 +37,30 @@ export async function readReported(out: string): Promise<ReportedChanges | null>
   }
 }
 
-/** Whether a change has grown, in the same direction, by at least `by` dB since it was last told (`told`): news again. */
+/** Whether a change has grown, in the same direction, by at least `by` (dB, or score) since it was last told (`told`): news again. */
 export const grownSince = (now: number | null | undefined, told: number | null | undefined, by: number): boolean =>
   now != null && told != null && Math.sign(now) === Math.sign(told) && Math.abs(now) - Math.abs(told) >= by;
 
 /**
+ * Whether a change has grown since it was last told, each in its own terms: a change with a size in dB (a level) by the change
+ * threshold in dB; one without (kurtosis, a frequency, a level whose value is not positive) by the score threshold in its
+ * robust score, the measure its verdict reads. A change told with a size in dB and now without one, or the other way, has not.
+ */
+export function grownInItsTerms(now: Pick<Reported, 'change_db' | 'score'>, told: Pick<Reported, 'change_db' | 'score'>, thresholds: { change_db: number; score: number }): boolean {
+  if (now.change_db != null || told.change_db != null) return grownSince(now.change_db, told.change_db, thresholds.change_db);
+  return grownSince(now.score, told.score, thresholds.score);
+}
+
+/**
  * The report with each item marked `new` (and counted in `news`), new items first, each part in the report's own order
  * (alarms first, then by strength). An item is new unless the earlier report held it at its verdict or above and its change
- * has not grown by the change threshold (`thresholds.change_db`) since it was last told.
+ * has not grown by its threshold since it was last told (`grownInItsTerms`).
  */
 export function markNews(r: ChangesReport, earlier: ReportedChanges | null): ChangesReport {
   const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), x]));
   const isNew = (c: ChangeItem) => {
     const told = before.get(changeKey(c));
-    return !told || (RANK[told.verdict] ?? 0) < RANK[c.verdict] || grownSince(c.change_db, told.change_db, r.thresholds.change_db);
+    return !told || (RANK[told.verdict] ?? 0) < RANK[c.verdict] || grownInItsTerms(c, told, r.thresholds);
   };
   const items: ChangeItem[] = r.items.map((c) => ({ ...c, new: isNew(c) }));
   const fresh = items.filter((c) => c.new);
@@ -61,9 +74,10 @@ export function markNews(r: ChangesReport, earlier: ReportedChanges | null): Cha
 export function reportedNow(r: ChangesReport, earlier: ReportedChanges | null, steady: ReadonlySet<string>): ReportedChanges {
   const before = new Map((earlier?.reported ?? []).map((x) => [changeKey(x), x]));
   // A change not told new keeps the size it was told at, so that growth is measured against what the lab last heard.
-  const now = r.items.map(({ group, channel, channel_unit, feature, verdict, change_db, new: fresh }): Reported => ({
-    group, channel, channel_unit, feature, verdict, change_db: fresh ? change_db ?? null : before.get(changeKey({ group, channel, channel_unit, feature }))?.change_db ?? change_db ?? null,
-  }));
+  const now = r.items.map(({ group, channel, channel_unit, feature, verdict, change_db, score, new: fresh }): Reported => {
+    const told = fresh ? undefined : before.get(changeKey({ group, channel, channel_unit, feature }));
+    return { group, channel, channel_unit, feature, verdict, change_db: told?.change_db ?? change_db ?? null, score: told?.score ?? score ?? null };
+  });
   const keys = new Set(now.map(changeKey));
   const carried = (earlier?.reported ?? []).filter((x) => !keys.has(changeKey(x)) && !steady.has(changeKey(x)));
   return { reported: [...now, ...carried] };

@@ -9,7 +9,7 @@ import { groupKeys, type CacheEntry } from '../plan/cache.js';
 import { baselineMembers, eraAt, erasOf, type BaselineStats } from './baseline.js';
 import type { ChangeItem, ChangesReport, ScoredFeature } from './changes.js';
 import { usable, type History, type Series } from './history.js';
-import { limitsFor, type TrendOptions } from './options.js';
+import { limitsFor, type TrendOptions, type WatchedFeature } from './options.js';
 import { spreadOf } from './score.js';
 import type { Verdict } from './verdict.js';
 
@@ -22,8 +22,10 @@ export interface TrendPicture {
   /** usable: the channel passed the data-quality checks on that recording. */
   points: { t: number; value: number; verdict: Verdict | null; baseline: boolean; usable: boolean }[];
   median: number | null;
-  /** Values between these read steady (change thresholds around the median); null while the baseline forms. */
+  /** Values between these read steady (change thresholds around the median, or up from below the floor); null while the baseline forms. */
   band: [number, number] | null;
+  /** The baseline's measurable floor where its median lies below it: then the band reaches from the lowest value pictured up to the change threshold above the floor. */
+  floor: number | null;
   /** Where the baseline of the median and band was formed again (a sensor replaced): they hold from there; null, the whole history. */
   restartedAt: number | null;
   limits: { warn?: number; alarm?: number } | null;
@@ -57,20 +59,25 @@ function medianSpectrum(list: Spectrum[]): Spectrum | null {
   return { edges: list[0].edges, density: out };
 }
 
-/** The band of values that read steady around a baseline's median, under both change thresholds. */
-function steadyBand(f: ScoredFeature, base: BaselineStats, o: TrendOptions): [number, number] | null {
+/**
+ * The band of values that read steady around a baseline's median, under both change thresholds. Where the median lies below
+ * its measurable floor (`floor`), a change is bounded by the floor and not scored (changes.ts): every value up to the change
+ * threshold above the floor reads steady, however far below it, so the band reaches down to `lowest` (0, or the lowest value pictured).
+ */
+export function steadyBand(level: WatchedFeature['level'], base: Pick<BaselineStats, 'complete' | 'median' | 'mad'>, o: Pick<TrendOptions, 'score' | 'changeDb' | 'spreadFloor'>, floor: number | null = null, lowest = 0): [number, number] | null {
   if (!base.complete) return null;
-  const m = base.median, spread = spreadOf(m, base.mad, o.spreadFloor);
+  const m = base.median, per = level === 'power' ? 10 : 20;
+  if (floor != null && Math.abs(m) < floor) return [Math.min(0, lowest), floor * 10 ** (o.changeDb / per)];
+  const spread = spreadOf(m, base.mad, o.spreadFloor);
   let hi = m + o.score * spread, lo = m - o.score * spread;
-  if ((f.feature.level === 'amplitude' || f.feature.level === 'power') && m > 0) {
-    const per = f.feature.level === 'power' ? 10 : 20;
+  if ((level === 'amplitude' || level === 'power') && m > 0) {
     hi = Math.min(hi, m * 10 ** (o.changeDb / per)); lo = Math.max(lo, m * 10 ** (-o.changeDb / per));
   }
-  if (f.feature.level === 'decibel') { hi = Math.min(hi, m + o.changeDb); lo = Math.max(lo, m - o.changeDb); }
+  if (level === 'decibel') { hi = Math.min(hi, m + o.changeDb); lo = Math.max(lo, m - o.changeDb); }
   return [lo, hi];
 }
 
-function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
+export function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
   const members = new Set(f.bases.flatMap((b) => b.members));
   const points: TrendPicture['points'] = [];
   for (let i = 0; i < f.series.size; i++) {
@@ -79,8 +86,13 @@ function trendPicture(f: ScoredFeature, o: TrendOptions): TrendPicture {
   }
   // The median and band of the baseline the latest recording is held against.
   const j = eraAt(f.eras, f.series.time[f.series.size - 1]), base = f.bases[j];
+  const floor = base.complete && f.baseFloors[j] != null && Math.abs(base.median) < f.baseFloors[j]! ? f.baseFloors[j] : null;
+  // The lowest usable value the band spans: of the era it holds for (from a restart on).
+  const from = j > 0 ? f.eras[j].fromMs : -Infinity;
+  let lowest = 0;
+  for (const p of points) if (p.usable && p.t >= from && p.value < lowest) lowest = p.value;
   return {
-    feature: f.feature.name, unit: f.unit, points, median: base.complete ? base.median : null, band: steadyBand(f, base, o),
+    feature: f.feature.name, unit: f.unit, points, median: base.complete ? base.median : null, band: steadyBand(f.feature.level, base, o, floor, lowest), floor,
     restartedAt: j > 0 ? f.eras[j].fromMs : null, limits: limitsFor(o, f.feature.name, f.series) ?? null,
   };
 }

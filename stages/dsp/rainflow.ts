@@ -51,10 +51,12 @@ export class Rainflow {
   /** The points on the stack now (the residue so far). */
   get depth(): number { return this.stack.length; }
 
-  // Closes the pairs (s_j, s_j+1), j = h, h+2, …, of the upper half as full cycles, as a later reversal larger than them would
-  // (ASTM's step for Y within the stack). Each pair lies inside the span of its neighbours, so the ranges left still shrink,
-  // s0 and s1 stay (range_max is kept), and every point still counts half a cycle in the end (cycles_total is kept); where the
-  // record ends before such a reversal, §5.4.4 would count those ranges as half cycles instead.
+  // Closes the pairs (s_j, s_j+1), j = h, h+2, …, of the upper half as full cycles, as a later reversal larger than them closes
+  // such pairs (ASTM's step for Y within the stack). That reversal pairs the points from the newest one down, so it closes these
+  // same pairs only when an odd number of points came between; otherwise each point with its other neighbour (ranges as near as
+  // a ring-down's successive ones). Each pair lies inside the span of its neighbours, so the ranges left still shrink, s0 and
+  // s1 stay (range_max is kept), and every point still counts half a cycle in the end (cycles_total is kept); where the record
+  // ends before such a reversal, §5.4.4 would count those ranges as half cycles instead.
   private closeSmallerHalf(): void {
     const s = this.stack, top = s.length - 1;
     const from = Math.max(2, top >> 1);

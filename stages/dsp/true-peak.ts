@@ -75,6 +75,12 @@ export const TAP_PAIRS = {
   quarter: () => Float64Array.from({ length: 4 * HALF }, (_, k) => (k & 1 ? P1 : P3)[k >> 1]),
 };
 
+/** Common practice leaves content up to fs/2.56; without a declared highest frequency the true peak assumes that much. */
+export const ASSUMED_RATIO = 2.56;
+
+/** TruePeak's guard for a signal whose highest frequency is f (declared; else fs/2.56): cos(π·f/fs), f at most fs/2. */
+export const guardFor = (fs: number, f: number | null | undefined): number => Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO));
+
 /** Samples an interpolated point needs on either side. */
 export const SUPPORT = HALF;
 

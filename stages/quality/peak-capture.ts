@@ -1,7 +1,7 @@
 // Peak capture: how far the largest sample falls short of the true, band-limited peak, estimated by 4× oversampling
 // (ITU-R BS.1770-4 Annex 2); beside it the worst case for a sine at the declared highest frequency, 1 − cos(π·f/fs) (derived).
 import { simdPeakScan } from '../dsp/fft-simd.js';
-import { TAP_PAIRS, TruePeak } from '../dsp/true-peak.js';
+import { guardFor, TAP_PAIRS, TruePeak } from '../dsp/true-peak.js';
 import { peakRepeatsOf } from '../fused/peak-repeats.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
@@ -10,9 +10,6 @@ import { saturationLimits } from './saturation.js';
 
 /** Worst-case shortfall of the largest sample below a sine's peak at r samples per cycle: the peak falls midway between two samples. */
 export const peakUnderestimate = (samplesPerCycle: number) => 1 - Math.cos(Math.PI / samplesPerCycle);
-
-/** Common practice leaves content up to fs/2.56; without a declared highest frequency the true peak assumes that much. */
-const ASSUMED_RATIO = 2.56;
 
 export const peakCapture: StageDefinition<QualityThresholds> = {
   group: 'quality',
@@ -25,7 +22,7 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     const fs = ctx.sampleRate, f = ctx.maxFrequencyHz;
     // Candidates for interpolation come within cos(π·f/fs) of the running true peak (see TruePeak); f is at most fs/2.
-    const tracker = new TruePeak(Math.cos(Math.PI * Math.min(0.5, f ? f / fs : 1 / ASSUMED_RATIO)), simdPeakScan(TAP_PAIRS));
+    const tracker = new TruePeak(guardFor(fs, f), simdPeakScan(TAP_PAIRS));
     const limits = saturationLimits(ctx.range, ctx.fullScale);
     // Without limits, a flat top shows in the largest sample's repeats, counted in the fused pass (only then: it costs a compare a sample).
     const repeats = limits ? null : peakRepeatsOf(ctx);
