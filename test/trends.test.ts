@@ -102,6 +102,13 @@ describe('robust statistics of the baseline', () => {
     expect(levelKind('rms', '[unit]')).toBe('amplitude');
   });
 
+  it('scores a signed figure (mean, min, max) by its robust score alone, the same either side of zero', () => {
+    // A zero-mean channel's mean may cross zero: a level in dB or a floor would read a fall to −x steady and a rise to +x changed.
+    for (const name of ['mean', 'min', 'max']) expect(levelKind(name, '[unit]')).toBeNull();
+    expect(changeDb(-0.5, 0.001, levelKind('mean', '[unit]'))).toBeNull();
+    expect(robustScore(0.5, 0, 0.01, 0.1)).toBeCloseTo(-robustScore(-0.5, 0, 0.01, 0.1), 12);
+  });
+
   it('puts a level change in decibels as 20·log10 of the amplitude ratio (a doubled amplitude is +6.02 dB), and floors the spread', () => {
     expect(changeDb(2, 1, 'amplitude')).toBeCloseTo(6.0206, 4);
     expect(changeDb(3.2, 1, null)).toBeNull();

@@ -83,6 +83,8 @@ export const DEFAULT_FEATURES = ['rms', 'peak', 'crest_factor', 'kurtosis', 'ban
 
 /** Dimensionless features that are ratios of amplitudes, so that 20·log10 of their ratio is a level change. */
 const AMPLITUDE_RATIOS = new Set(['crest_factor']);
+/** Signed figures in the channel's unit: a level ratio or a floor means nothing for a value that may cross zero. */
+const SIGNED = new Set(['mean', 'min', 'max']);
 /** Units that are not amplitudes: frequencies, times, counts of bits, shaft speeds. */
 const NOT_LEVELS = new Set(['Hz', 's', 'bit', 'rpm']);
 
@@ -91,6 +93,7 @@ export function levelKind(name: string, unit: string): LevelKind {
   if (unit === 'dB' || unit.startsWith('dB ')) return 'decibel';
   if (unit.endsWith('^2') || unit.endsWith('²')) return 'power';
   if (unit === '1') return AMPLITUDE_RATIOS.has(name) ? 'amplitude' : null;
+  if (SIGNED.has(name)) return null;
   return NOT_LEVELS.has(unit) ? null : 'amplitude';
 }
 
