@@ -7,7 +7,8 @@ import type { Hdf5Layout } from '../stages/read/hdf5.js';
 import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording, type ReaderOptions } from '../stages/read/open.js';
 import { float32Ulp, type VectorRate } from '../stages/read/time-steps.js';
-import { toleranceAt } from '../stages/read/time-vector.js';
+import { timeVectorReader, toleranceAt } from '../stages/read/time-vector.js';
+import { vectorIndices } from '../stages/read/lost-rows.js';
 import { fixture, readAll, readJson } from './helpers.js';
 
 interface Gaps { frames_written: number; samples_lost: number; gaps: number; largest_early_step_error: number; largest_late_regular_step_error: number; largest: { samples: number; from_index: number; to_index: number; from: number; to: number } | null }
@@ -75,6 +76,16 @@ describe('toleranceAt', () => {
     expect(told).toEqual([]);
     at(300); at(400); at(300);
     expect(told).toEqual([300]);
+  });
+
+  it('a reader whose float32 times round by half a step or more says so in a note, from the first such time', () => {
+    const r = timeVectorReader(rate(true), 1, 8, vectorIndices('dataset "/t" (the time)', 'long.h5'));
+    // Float32 times of a 25.6 kHz clock past 256 s, where they round to 30.5 us (0.78 of a step).
+    const times = Float64Array.from({ length: 8 }, (_, i) => Math.fround(299.99 + i / 25600));
+    for (const _ of r.place([new Float64Array(8)], times, 8, 0));
+    const into = { notes: [] as string[] };
+    r.keep(into);
+    expect(into.notes.filter((n) => n.startsWith('time vector coarse'))).toEqual([`time vector coarse: dataset "/t" (the time) holds float32 times, which from ${times[0]} s on round by up to 0.03052 ms, half its step of 0.03906 ms or more, so samples lost after there cannot be told from its rounding; save the time as double`]);
   });
 
   it('double times keep the first times\' tolerance', () => {
