@@ -59,7 +59,9 @@ export const quernWithin = (limitMs: number, ...args: string[]) => spawnQuern([]
 export async function readAll(path: string, options: OpenOptions = {}) {
   const rec = await openRecording(path, { chunkFrames: 97, ...options }); // an odd chunk size exercises chunk edges
   const channels: number[][] = Array.from({ length: rec.channelCount }, () => []);
-  for await (const chunk of rec.chunks()) chunk.forEach((c, i) => channels[i].push(...c));
-  await rec.close();
+  // Closed whether its samples read or failed, as the reduce step closes a recording (an open file left to the collector otherwise).
+  try {
+    for await (const chunk of rec.chunks()) chunk.forEach((c, i) => channels[i].push(...c));
+  } finally { await rec.close(); }
   return { rec, channels };
 }

@@ -8,6 +8,7 @@ import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording } from '../stages/read/open.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { runReduce } from '../pipeline/run.js';
+import { reduceAll, type Pool } from '../pipeline/reduce/pool.js';
 import { fixture, quernWith, readAll, readJson, tempDir } from './helpers.js';
 
 interface MatFixture { file: string; case: string | null; mat: MatLayout; channel_names: string[] | null; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
@@ -187,7 +188,8 @@ describe('MAT-file reader against scipy.io', () => {
       // A recording given up before its samples are read leaves nothing behind either.
       const opened = await openRecording(path, { mat: layout({ variables: ['wide'], channel_axis: 1 }), sampleRate: 100 });
       await opened.chunks().next();
-      expect(readdirSync(tmp)).toHaveLength(1);
+      // Named by its process and thread (the main thread here, id 0), so that a stopped thread's copies can be told apart.
+      expect(readdirSync(tmp)).toEqual([expect.stringMatching(new RegExp(`^quern-mat-${process.pid}-t0-`))]);
       await opened.close();
       expect(readdirSync(tmp)).toEqual([]);
       // An array tag that declares less than its stream inflates to: the copy stops there, so damage cannot fill the disk.
@@ -216,6 +218,28 @@ describe('temporary copies that stopped runs leave', () => {
     const r = quernWith({ TMPDIR: tmp }, 'reduce', archive, '--out', join(archive, '..', 'out'), '--quiet');
     expect(r.code, r.stderr).toBe(0);
     expect(readdirSync(tmp).sort()).toEqual([`quern-mat-${process.pid}-def`, 'quern-mat-notes']);
+  });
+
+  it('a thread that crashed or was stopped has its copies removed as soon as the run sees it gone; a running thread\'s and the main thread\'s are kept', async () => {
+    const tmp = tempDir(), before = process.env.TMPDIR;
+    const copy = (thread: number) => `quern-mat-${process.pid}-t${thread}-x`;
+    // A pool whose one task's thread (id 7) makes a copy and crashes; thread 8, its replacement, and the main thread (0) have copies of their own.
+    const pool: Pool = {
+      threads: 1, widen() {}, async prestart() {}, started: () => 1, threadIds: () => [8], async renew() {}, async destroy() {},
+      async run() {
+        for (const t of [7, 8, 0]) { mkdirSync(join(tmp, copy(t)), { recursive: true }); writeFileSync(join(tmp, copy(t), 'variable'), 'x'); }
+        throw new Error('the worker crashed');
+      },
+    };
+    const item = { job: { recording: 'r.mat', group: 'm' }, store: { stalledBefore: false, specHash: 'h', version: 'v', identity: {}, readAtMs: 0, declKey: 'k' } } as never;
+    const seen: string[][] = [];
+    process.env.TMPDIR = tmp;
+    try {
+      await reduceAll(pool, ['r.mat'], { sizeOf: () => 1, itemOf: () => item, onBatch: async (results) => { seen.push(readdirSync(tmp).sort()); expect(results[0].facts.reason).toBe('worker stopped: the worker crashed'); } });
+      expect(seen).toEqual([[copy(0), copy(8)]]);
+    } finally {
+      if (before == null) delete process.env.TMPDIR; else process.env.TMPDIR = before;
+    }
   });
 
   it('a run removes, once its threads have ended, the copies its own process left (a thread stopped for a stall)', async () => {

@@ -11,6 +11,7 @@ import { encodeRecord, NOT_TRIED, recordFacts, STALLED } from '../store/record.j
 import { ownBuffers, release, tailBuffers } from '../store/release.js';
 import type { BatchItem, BatchReply, BatchResult, StoredRecord } from './batch.js';
 import { newBeats, NoProgress, NotTried, Stalled, watchStall } from './stall-watch.js';
+import { sweepStoppedThreads } from '../../stages/read/mat-spool.js';
 import type { BatchTask } from './worker.js';
 
 /** The compiled (and bundled) worker in dist/, whether this runs from TypeScript source (the tests, after `npm test` builds), from tsc's output or from the bundle's chunks. */
@@ -146,6 +147,8 @@ export async function reduceAll<T>(pool: Pool, work: T[], { sizeOf, itemOf, onBa
       try {
         return take(await pool.run<BatchReply>('reduceBatch', { items: of, beats } satisfies BatchTask, watch.signal));
       } catch (e) {
+        // A thread stopped for a stall or crashed cannot remove its MAT-file copies: gone now, not at the run's end.
+        await sweepStoppedThreads(pool.threadIds());
         if (!watch.stalled()) throw e;
         threadsGivenUp++;
         throw new Stalled(stallMs);

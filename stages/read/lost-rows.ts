@@ -64,13 +64,13 @@ export function lostRowCounter(nominal: number, tolerance: number, uncertainty =
     return from <= to ? [from, to] as const : null;
   };
   return {
-    /** The rows lost between the time before and `t`, printed `text` on line `line`. */
-    before(t: number, text: string, line: number): number {
-      let lost = Number.isFinite(previous) ? rowsLostIn(t - previous, nominal, tolerance, uncertainty) : 0;
+    /** The rows lost between the time before and `t`, printed `text` on line `line`; `within`: this step's tolerance, where it grows with the time. */
+    before(t: number, text: string, line: number, within = tolerance): number {
+      let lost = Number.isFinite(previous) ? rowsLostIn(t - previous, nominal, within, uncertainty) : 0;
       // Under two printed units a step, a step's printed length fits more than one count of steps (800 Hz to the
       // millisecond: 2 ms is one step or two): the grid the rows before lie on tells them apart.
       if (half > 0 && Number.isFinite(previous) && nominal < 4 * half) {
-        const fits = [lost, lost + 1, lost + 2].filter((k) => k >= 1 && Math.abs(t - previous - k * nominal) <= tolerance + k * uncertainty && reach(t, k));
+        const fits = [lost, lost + 1, lost + 2].filter((k) => k >= 1 && Math.abs(t - previous - k * nominal) <= within + k * uncertainty && reach(t, k));
         if (fits.length === 1) lost = fits[0] - 1;
       }
       const on = Number.isFinite(previous) && half > 0 ? reach(t, lost + 1) : null;

@@ -5,6 +5,7 @@ import { mkdtemp, open, readdir, rm, type FileHandle } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Transform } from 'node:stream';
+import { threadId } from 'node:worker_threads';
 import { pipeline } from 'node:stream/promises';
 import { createInflate } from 'node:zlib';
 import { RecordingError } from './recording.js';
@@ -30,8 +31,9 @@ function atMost(limit: number, where: string): Transform {
  * at most `limit` bytes: the size its own array tag declares.
  */
 export async function spoolInflated(path: string, start: number, length: number, where: string, limit: number, dir = tmpdir()): Promise<Spool> {
-  // The process's id in the name: a copy whose thread was stopped before it could remove it is swept by a later run.
-  const folder = await mkdtemp(join(dir, `quern-mat-${process.pid}-`));
+  // The process's and thread's ids in the name: a copy whose thread was stopped before it could remove it is swept once the
+  // run has stopped that thread, or by a later run.
+  const folder = await mkdtemp(join(dir, `quern-mat-${process.pid}-t${threadId}-`));
   const remove = () => rm(folder, { recursive: true, force: true });
   const target = join(folder, 'variable');
   try {
@@ -62,6 +64,22 @@ export function removeOwnSpools(dir = tmpdir()): number {
   for (const name of names) {
     if (name.match(/^quern-mat-(\d+)-/)?.[1] !== String(process.pid)) continue;
     try { rmSync(join(dir, name), { recursive: true, force: true }); removed++; } catch { /* left for the next run's sweep */ }
+  }
+  return removed;
+}
+
+/**
+ * Removes this process's copies made by worker threads that no longer run (`running`: the ids of those that do), as soon
+ * as the run has stopped one for a stall or seen it crash, rather than leaving a copy as large as its variable in TMPDIR
+ * for the rest of the run; returns how many. The main thread's (id 0) are its own recordings', removed as they close.
+ */
+export async function sweepStoppedThreads(running: number[], dir = tmpdir()): Promise<number> {
+  const names = await readdir(dir).catch(() => [] as string[]);
+  let removed = 0;
+  for (const name of names) {
+    const m = name.match(/^quern-mat-(\d+)-t(\d+)-/);
+    if (!m || Number(m[1]) !== process.pid || m[2] === '0' || running.includes(Number(m[2]))) continue;
+    await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
   }
   return removed;
 }

@@ -19,15 +19,16 @@ export function stepCounter(nominal: number, tolerance: number) {
   return {
     /**
      * `lost`: the step skips rows a logger dropped (`lost-rows.ts`), read as missing samples rather than an irregular step;
-     * `off`: the time leaves a declared grid (`grid-watch.ts`), an irregular step whatever its length.
+     * `off`: the time leaves a declared grid (`grid-watch.ts`), an irregular step whatever its length; `within`: the
+     * tolerance of this step, where it grows with the time (`toleranceAt` in `time-vector.ts`).
      */
-    add(t: number, lost = false, off = false): void {
+    add(t: number, lost = false, off = false, within = tolerance): void {
       times++;
       // A time that is no number (NaN in a time vector) is a step that cannot be measured: counted, never the widest.
       if (!Number.isFinite(t)) { if (times > 1) { irregular++; unmeasured++; } previous = NaN; return; }
       if (Number.isFinite(previous) && !lost) {
         const dt = t - previous;
-        if (!(Math.abs(dt - nominal) <= tolerance) || off) {
+        if (!(Math.abs(dt - nominal) <= within) || off) {
           irregular++;
           if (!(Math.abs(dt) <= Math.abs(widest))) { widest = dt; widestAt = t; }
         }
@@ -77,6 +78,19 @@ export function roundingOf(times: ArrayLike<number>): number {
   for (let i = 0; i < times.length; i++) largest = Math.max(largest, Math.abs(times[i]));
   const stored = Array.prototype.every.call(times, (t: number) => Math.fround(t) === t) ? 2 ** -24 : 2 ** -53;
   return 4 * stored * largest;
+}
+
+/**
+ * Float32's unit in the last place at |t|: 2^(e − 23) in the binade [2^e, 2^(e+1)) (IEEE 754 binary32, a 24-bit
+ * significand), the least subnormal's below 2^−126.
+ */
+export function float32Ulp(t: number): number {
+  const a = Math.abs(t);
+  if (!(a >= 2 ** -126)) return 2 ** -149;
+  let e = Math.floor(Math.log2(a));
+  // Math.log2 may round across a power of two: the binade is held against the powers themselves.
+  if (2 ** e > a) e--; else if (2 ** (e + 1) <= a) e++;
+  return 2 ** (e - 23);
 }
 
 /** How far a step between two binary times may lie from the nominal and still be regular: 1 % of it (a clock's jitter), plus both times' rounding. */
@@ -229,8 +243,11 @@ export function rateFromStep(times: TimeRate, declared: number | null, held: str
   return declared ?? times.rate;
 }
 
-/** A time vector's nominal step and rate, and the tolerance its regular steps are held to (`regularTolerance`). */
-export interface VectorRate extends TimeRate { tolerance: number }
+/**
+ * A time vector's nominal step and rate, and the tolerance its regular steps are held to (`regularTolerance`, from its first
+ * times); `single`: every time probed fits a float32, whose rounding grows with the time (`toleranceAt` in `time-vector.ts`).
+ */
+export interface VectorRate extends TimeRate { tolerance: number; single: boolean }
 
 /** A time vector's nominal step from its first times (at most TIME_PROBE of them), refusing one time or times that do not increase. */
 export function nominalStep(first: Float64Array, held: string, where: string): VectorRate {
@@ -239,7 +256,7 @@ export function nominalStep(first: Float64Array, held: string, where: string): V
   if (Math.abs(first[0]) >= MAX_TIME_S) throw new RecordingError(`${held} (the time) starts at ${first[0]}, too large for seconds; the time is read in seconds: if it holds milliseconds since 1970, save seconds, or name no time and declare the rate in ${where}`);
   const times = timeRate(first);
   if (!(times.step > 0) || !Number.isFinite(times.step)) throw new RecordingError(`${held} (the time) does not increase over its first ${first.length} values; check the file or ${where}`);
-  return { ...times, tolerance: regularTolerance(times.step, roundingOf(first)) };
+  return { ...times, tolerance: regularTolerance(times.step, roundingOf(first)), single: first.every((t) => Math.fround(t) === t) };
 }
 
 /** Puts what a counter found on the recording once its times are read: the steps, and a note when some were irregular. */

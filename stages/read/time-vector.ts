@@ -2,7 +2,33 @@
 // a time with them: its steps held against the nominal one, and a step of k ≥ 2 nominal steps read as k − 1 samples the
 // logger lost, placed as missing samples in chunks of the reader's size, as a CSV time column's lost rows are.
 import { lostRowCounter, lostRowsNote, missingSamples, MOST_LOST_ROWS, type TimePlaces } from './lost-rows.js';
-import { keepSteps, stepCounter, type TimeSteps, type VectorRate } from './time-steps.js';
+import { float32Ulp, keepSteps, stepCounter, type TimeSteps, type VectorRate } from './time-steps.js';
+
+/**
+ * The tolerance a step ending at time t is held to: the vector's own, from its first times, plus, for times held as
+ * float32, the unit in the last place there (each of the step's two times rounded by at most half of it, IEEE 754 round to
+ * nearest), which grows with t: 100 s at 25.6 kHz rounds by 0.2 of a step where the first times round by a thousandth.
+ * Taken at |t| + one step, so that it covers the time before too; worked out once a binade, two comparisons a time.
+ * `coarse` is told the first time whose tolerance reaches half a step, from where a regular step and one with a sample
+ * lost can no longer be told apart.
+ */
+export function toleranceAt(rate: VectorRate, coarse: (t: number, ulp: number) => void = () => {}): (t: number) => number {
+  const own = rate.tolerance, step = Math.abs(rate.step);
+  if (!rate.single) return () => own;
+  let low = Infinity, high = -Infinity, within = own, told = false;
+  return (t) => {
+    const a = Math.abs(t) + step;
+    if (a >= low && a < high) return within;
+    const ulp = float32Ulp(a);
+    low = ulp * 2 ** 23; high = 2 * low; within = own + ulp;
+    if (!told && within >= step / 2 && Number.isFinite(t)) { told = true; coarse(t, ulp); }
+    return within;
+  };
+}
+
+/** The note a recording carries when its float32 times round by half a step or more (`toleranceAt`). */
+export const coarseTimesNote = (t: number, ulp: number, step: number, places: TimePlaces) =>
+  `time vector coarse: ${places.holder} holds float32 times, which from ${t} s on round by up to ${(ulp * 1e3).toPrecision(4)} ms, half its step of ${(step * 1e3).toPrecision(4)} ms or more, so samples lost after there cannot be told from its rounding; save the time as double`;
 
 /**
  * The frames a time vector gives, the samples it says were lost counted with those it holds: the count the chunks come to,
@@ -10,9 +36,10 @@ import { keepSteps, stepCounter, type TimeSteps, type VectorRate } from './time-
  */
 export async function framesOfTimes(rate: VectorRate, blocks: AsyncIterable<ArrayLike<number>>, places: TimePlaces, most = MOST_LOST_ROWS): Promise<number> {
   const lost = lostRowCounter(rate.step, rate.tolerance, 1 / rate.lowest - 1 / rate.highest, most, 0, places);
+  const within = toleranceAt(rate);
   let at = 0, frames = 0;
   for await (const times of blocks) {
-    for (let i = 0; i < times.length; i++) frames += 1 + lost.before(times[i], '', at + i);
+    for (let i = 0; i < times.length; i++) frames += 1 + lost.before(times[i], '', at + i, within(times[i]));
     at += times.length;
   }
   return frames;
@@ -27,6 +54,8 @@ export function timeVectorReader(rate: VectorRate, channels: number, chunkFrames
   const step = rate.step, uncertainty = 1 / rate.lowest - 1 / rate.highest;
   const steps = stepCounter(step, rate.tolerance);
   const lost = lostRowCounter(step, rate.tolerance, uncertainty, most, 0, places);
+  let coarse: string | null = null;
+  const within = toleranceAt(rate, (t, ulp) => { coarse = coarseTimesNote(t, ulp, step, places); });
   // Chunks being filled around gaps, made at the first gap; until then each block goes out as it was read.
   let out: Float64Array[] | null = null, k = 0;
   function* copy(block: Float64Array[], from: number, to: number): Generator<Float64Array[]> {
@@ -42,8 +71,9 @@ export function timeVectorReader(rate: VectorRate, channels: number, chunkFrames
     *place(block: Float64Array[], times: ArrayLike<number>, n: number, start: number): Generator<Float64Array[]> {
       let from = 0;
       for (let i = 0; i < n; i++) {
-        const m = lost.before(times[i], '', start + i);
-        steps.add(times[i], m > 0);
+        const tolerance = within(times[i]);
+        const m = lost.before(times[i], '', start + i, tolerance);
+        steps.add(times[i], m > 0, false, tolerance);
         if (m === 0) continue;
         out ??= Array.from({ length: channels }, () => new Float64Array(chunkFrames));
         yield* copy(block, from, i);
@@ -63,6 +93,7 @@ export function timeVectorReader(rate: VectorRate, channels: number, chunkFrames
       keepSteps(into, steps);
       const found = lost.result();
       if (found.rows > 0) into.notes.push(lostRowsNote(found, places));
+      if (coarse) into.notes.push(coarse);
     },
   };
 }
