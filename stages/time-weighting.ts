@@ -12,7 +12,7 @@ const col = (tau: number) => `max_twrms_${hzName(Number((tau * 1000).toPrecision
 
 export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
   group: 'time_weighting',
-  columns: (o) => o.constants_s.map((tau) => ({ name: col(tau), unit: '[unit]', description: `Maximum exponentially time-weighted RMS, time constant ${tau} s, of the signal as declared (starting from zero).` })),
+  columns: (o) => o.constants_s.map((tau) => ({ name: col(tau), unit: '[unit]', description: `Maximum exponentially time-weighted RMS, time constant ${tau} s, of the signal as declared (starting from zero); null when the channel has no finite samples.` })),
   create(ctx, o) {
     // y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)): the exact sampled response of the first-order averager, in the fused pass.
     const averages = o.constants_s.map((tau) => expAverageOf(ctx, 1 - Math.exp(-1 / (tau * ctx.sampleRate))));
@@ -22,6 +22,8 @@ export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
       push(x) { n += x.length; },
       finish() {
         // The averages run over the finite samples only, so those set how far each has settled.
+        // A channel with no finite sample has no average at all: null, not the 0 it started from.
+        if (n > 0 && missing.count === n) return Object.fromEntries(o.constants_s.map((tau) => [col(tau), null]));
         const note = unsettledNote(ctx.name, (n - missing.count) / ctx.sampleRate, o.constants_s);
         if (note) ctx.note(note);
         return Object.fromEntries(o.constants_s.map((tau, c) => [col(tau), Math.sqrt(averages[c].max)]));

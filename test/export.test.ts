@@ -1,15 +1,17 @@
 // Spreadsheet exports: RFC 4180 CSV read back by a strict parser, XLSX read back by a second, independent reader (SheetJS),
 // numbers equal to the Parquet values (read by DuckDB), and formula injection neutralised. LibreOffice's reading is in test/system/.
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { parse } from 'csv-parse/sync';
 import ExcelJS from 'exceljs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import * as XLSX from 'xlsx';
+import { parquetMetadataAsync } from 'hyparquet';
 import { neutralise } from '../pipeline/exports/csv.js';
+import { withChannelUnit } from '../pipeline/exports/tables.js';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, sampleArchiveCopy, tempDir } from './helpers.js';
+import { quern, readJson, repo, sampleArchiveCopy, tempDir } from './helpers.js';
 
 const INJECTION = '=HYPERLINK("http://example.invalid","x")';
 
@@ -88,6 +90,29 @@ describe('exports of the sample archive', () => {
     expect(Number(night[h.indexOf('mic.rms [Pa]')])).toBe(p.rms);
   });
 
+  it('writes a squared unit of more than one symbol in parentheses, (m/s^2)^2, not m/s^2^2 (which reads as m/s⁴), in the wide headers', () => {
+    const [h, ...rows] = parse(readFileSync(join(out, 'features-wide.csv'), 'utf8'), { record_delimiter: '\r\n' }) as string[][];
+    expect(h).toContain('acc_de.band_20_200_ms [(m/s^2)^2]');
+    expect(h).toContain('mic.band_20_200_ms [Pa^2]');
+    expect(h).toContain('strain_a.band_20_200_ms [(µm/m)^2]');
+    for (const cell of h) expect(cell).not.toMatch(/\^\d+\^/);
+    // The unit states what the figure is: a band's mean square is its RMS squared (common practice).
+    const row = rows.find((r) => r[0] === 'nightly/2026-11-16/pump-endurance.wav')!;
+    const ms = Number(row[h.indexOf('acc_de.band_20_200_ms [(m/s^2)^2]')]), rms = Number(row[h.indexOf('acc_de.band_20_200_rms [m/s^2]')]);
+    expect(ms).toBeCloseTo(rms ** 2, 10);
+    // Every form of the placeholder, as the tables name it (the spectra's density in [unit]²/Hz).
+    expect(withChannelUnit('[unit]^2', 'm/s^2')).toBe('(m/s^2)^2');
+    expect(withChannelUnit('[unit]²/Hz', 'm/s^2')).toBe('(m/s^2)²/Hz');
+    expect(withChannelUnit('[unit]^2', 'V')).toBe('V^2');
+    expect(withChannelUnit('[unit]', 'm/s^2')).toBe('m/s^2');
+  });
+
+  it('says in the workbook\'s run sheet that the tables cover the whole archive when the run had no period', () => {
+    const run = XLSX.utils.sheet_to_json<string[]>(XLSX.read(readFileSync(join(out, 'tables.xlsx'))).Sheets.run, { header: 1 });
+    const scanned = readJson(join(out, 'run.json')).counts.scanned;
+    expect(run.find((r) => r[0] === 'period')?.[1]).toBe(`none: the tables cover every recording of the archive (${scanned} recordings in the archive)`);
+  });
+
   it('writes an XLSX workbook that SheetJS reads back to the same numbers, with sheets for every table and the run', async () => {
     const wb = XLSX.read(readFileSync(join(out, 'tables.xlsx')));
     expect(wb.SheetNames).toEqual(['features', 'features wide', 'windows', 'cycles', 'trends', 'quality flags', 'run']);
@@ -124,6 +149,133 @@ describe('exports of the sample archive', () => {
     for (const row of rows.slice(1)) {
       const p = parquet.find((r) => r.recording === row[0] && r.channel === row[2])!;
       expect(Number(row[i].replace(',', '.'))).toBe(Number((p.rms as number).toPrecision(6)));
+    }
+  });
+});
+
+describe('the workbook of a --since run says it holds a slice of the archive', () => {
+  it('names the period, how many recordings start in it of how many the archive holds, and what run.json says of late arrivals and quiet groups', () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    expect(quern('reduce', archive, '--out', out, '--quiet', '--since', '2026-11-20', '--until', '2026-11-21T12:00Z', '--export', 'xlsx').code).toBe(0);
+    const record = readJson(join(out, 'run.json'));
+    const rows = XLSX.utils.sheet_to_json<string[]>(XLSX.read(readFileSync(join(out, 'tables.xlsx'))).Sheets.run, { header: 1 });
+    const fact = (name: string) => rows.find((r) => r[0] === name)?.[1];
+    // The period's bounds as run.json keeps them (ms since the epoch), written back in ISO 8601 UTC.
+    expect(record.period.since).toBe(Date.parse('2026-11-20T00:00:00Z'));
+    expect(record.period.selected).toBeGreaterThan(0);
+    expect(record.period.selected).toBeLessThan(record.counts.scanned);
+    expect(fact('period')).toBe(`from 2026-11-20T00:00:00Z until 2026-11-21T12:00:00Z, a start at the end left out (UTC; --since, --until): the tables hold only the ${record.period.selected} recordings starting in it, a slice of ${record.counts.scanned} recordings in the archive, not the whole archive`);
+    // As many rows of features as the period's recordings have channels: the sheet and the fact agree.
+    const features = XLSX.utils.sheet_to_json<Record<string, unknown>>(XLSX.read(readFileSync(join(out, 'tables.xlsx'))).Sheets.features);
+    expect(new Set(features.map((r) => r.recording)).size).toBe(record.period.selected);
+    expect(fact('late arrivals')).toEqual(record.period.late_arrivals.count === 0 ? 'none' : expect.any(String));
+    const quiet = record.period.quiet_groups.map((q: { group: string }) => q.group);
+    expect(fact('quiet groups')).toEqual(quiet.length ? expect.stringContaining(quiet.join(', ')) : 'none');
+  });
+});
+
+/** A CSV's rows as objects keyed by header name (units cut off). */
+function csvObjects(path: string): Record<string, string>[] {
+  const [head, ...rows] = parse(readFileSync(path, 'utf8'), { record_delimiter: '\r\n' }) as string[][];
+  return rows.map((r) => Object.fromEntries(head.map((h, i) => [base(h), r[i]])));
+}
+
+describe('--digits rounds figures, never keys, axes, settings or counts', () => {
+  let out = '';
+  const parquet: Record<string, Record<string, unknown>[]> = {};
+  beforeAll(async () => {
+    const archive = sampleArchiveCopy();
+    const first = join(archive, '..', 'out');
+    expect(quern('reduce', archive, '--out', first, '--quiet').code).toBe(1); // one sample recording fails
+    // The reduced folder copied, so this export at 3 digits leaves no other test's files changed.
+    out = join(archive, '..', 'out-3');
+    cpSync(first, out, { recursive: true });
+    expect(quern('export', out, '--to', 'csv,xlsx', '--digits', '3').code).toBe(0);
+    for (const t of ['features', 'windows', 'spectra', 'cycles']) parquet[t] = await parquetRows(join(out, `${t}.parquet`));
+  });
+
+  it('CSV: sample_rate, duration_s, counts, window starts and lengths, spectrum frequencies exact (DuckDB\'s reading of the Parquet); figures to 3 significant digits', () => {
+    const features = csvObjects(join(out, 'features.csv'));
+    const byKey = new Map(parquet.features.map((r) => [key(r), r]));
+    for (const row of features) {
+      const p = byKey.get(key(row))!;
+      for (const c of ['sample_rate', 'duration_s', 'n_nonfinite', 'spike_count']) expect(Number(row[c]), c).toBe(p[c]);
+      // Number.prototype.toPrecision (ECMA-262) is the rounding --digits promises.
+      expect(Number(row.rms), 'rms').toBe(Number((p.rms as number).toPrecision(3)));
+    }
+    // The spectra's bins stay distinct: rounded to 3 digits, 1001.95 and 1003.9 Hz would both read 1000.
+    const spectra = csvObjects(join(out, 'spectra.csv'));
+    expect(spectra.length).toBe(parquet.spectra.length);
+    spectra.forEach((row, i) => expect(Number(row.frequency_hz)).toBe(parquet.spectra[i].frequency_hz));
+    expect(new Set(spectra.map((r) => `${r.recording}|${r.channel}|${r.frequency_hz}`)).size).toBe(spectra.length);
+    // The check can fail: some of these frequencies change at 3 digits, and some densities do (figures are rounded).
+    expect(parquet.spectra.some((r) => Number((r.frequency_hz as number).toPrecision(3)) !== r.frequency_hz)).toBe(true);
+    spectra.forEach((row, i) => expect(Number(row.density)).toBe(Number((parquet.spectra[i].density as number).toPrecision(3))));
+    const windows = csvObjects(join(out, 'windows.csv'));
+    windows.forEach((row, i) => {
+      expect(Number(row.window_start_s)).toBe(parquet.windows[i].window_start_s);
+      expect(Number(row.window_s)).toBe(parquet.windows[i].window_s);
+    });
+    // A cycle's range and mean name its row (a bin's centre, or one distinct range and mean).
+    csvObjects(join(out, 'cycles.csv')).forEach((row, i) => { for (const c of ['range', 'mean', 'count']) expect(Number(row[c]), c).toBe(parquet.cycles[i][c]); });
+  });
+
+  it('XLSX (read by SheetJS): the same columns exact, the figures rounded', () => {
+    const wb = XLSX.read(readFileSync(join(out, 'tables.xlsx')));
+    const objects = (sheet: string) => {
+      const [head, ...rows] = XLSX.utils.sheet_to_json<unknown[]>(wb.Sheets[sheet], { header: 1, raw: true });
+      return rows.map((r) => Object.fromEntries((head as string[]).map((h, i) => [base(h), r[i]])));
+    };
+    const byKey = new Map(parquet.features.map((r) => [key(r), r]));
+    for (const row of objects('features')) {
+      const p = byKey.get(key(row))!;
+      expect(row.sample_rate).toBe(p.sample_rate);
+      expect(row.duration_s).toBe(p.duration_s);
+      expect(row.rms).toBe(Number((p.rms as number).toPrecision(3)));
+    }
+    objects('windows').forEach((row, i) => expect(row.window_start_s).toBe(parquet.windows[i].window_start_s));
+  });
+});
+
+describe('schemas/features.table.json describes the tables as written', () => {
+  const schema = readJson(join(repo, 'schemas', 'features.table.json'));
+  let out = '';
+  beforeAll(() => {
+    const archive = sampleArchiveCopy();
+    out = join(archive, '..', 'out');
+    expect(quern('reduce', archive, '--out', out, '--quiet').code).toBe(1);
+  });
+
+  /** A Parquet file's columns as its footer gives them (hyparquet): name, whether it may hold nulls, and its unit (quern.units). */
+  async function written(file: string) {
+    const bytes = readFileSync(join(out, file));
+    const meta = await parquetMetadataAsync(bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength));
+    const units = JSON.parse(meta.key_value_metadata!.find((k) => k.key === 'quern.units')!.value!);
+    return meta.schema.slice(1).map((e) => ({ name: e.name, nullable: e.repetition_type === 'OPTIONAL', unit: units[e.name] as string }));
+  }
+  /** A schema entry's names as a pattern: "band_<low>_<high>_ms" and lists such as "env_mean, env_rms" match the written names. */
+  const pattern = (name: string) => new RegExp(`^(${name.split(', ').map((n) => n.replace(/[.^$()]/g, '\\$&').replace(/<[^>]+>/g, '.+')).join('|')})$`);
+
+  it('names every column of windows, cycles, spectra and trends in order, with its unit and whether it may be null', async () => {
+    for (const table of ['windows', 'cycles', 'spectra', 'trends']) {
+      const described = schema.tables[`${table}.parquet`].columns;
+      const columns = await written(`${table}.parquet`);
+      expect(columns.map((c) => c.name), table).toEqual(described.map((c: any) => c.name));
+      columns.forEach((c, i) => {
+        expect(c.unit, `${table}.${c.name}`).toBe(described[i].unit);
+        expect(c.nullable, `${table}.${c.name}`).toBe(/nullable/.test(described[i].type));
+      });
+    }
+  });
+
+  it('names every column of features.parquet (patterns for the spec\'s bands, labels and constants) with its unit', async () => {
+    const columns = await written('features.parquet');
+    for (const c of columns) {
+      const d = schema.columns.find((s: any) => !s.name.startsWith('<label>') && pattern(s.name).test(c.name));
+      if (!d) { expect(['rig', 'test_id'], `${c.name} is described`).toContain(c.name); continue; }
+      expect(c.unit, c.name).toBe(d.unit);
+      // Every figure column is written nullable; which may really be null is held by a channel with no finite samples (test/no-finite-samples.test.ts).
+      if (!c.nullable) expect(d.type, c.name).not.toMatch(/nullable/);
     }
   });
 });

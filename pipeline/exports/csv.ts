@@ -6,7 +6,7 @@ export interface CsvOptions {
   bom?: boolean;
   /** Semicolon-separated with decimal commas, as spreadsheets in many locales expect. */
   decimalComma?: boolean;
-  /** Round numbers to this many significant digits; full double precision when omitted. */
+  /** Round figures to this many significant digits (keys, axes, settings and counts stay whole); full double precision when omitted. */
   digits?: number | null;
 }
 
@@ -31,7 +31,7 @@ export function headerText(c: ExportColumn): string {
 
 function cellText(v: Cell, c: ExportColumn, o: CsvOptions): string {
   if (v == null) return '';
-  if (c.kind === 'number') { const t = numberText(v as number, o.digits); return o.decimalComma ? t.replace('.', ',') : t; }
+  if (c.kind === 'number') { const t = numberText(v as number, c.exact ? null : o.digits); return o.decimalComma ? t.replace('.', ',') : t; }
   if (c.kind === 'integer') return String(v);
   const text = c.kind === 'time' ? new Date(v as number).toISOString() : neutralise(String(v));
   return `"${text.replace(/"/g, '""')}"`;

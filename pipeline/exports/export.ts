@@ -9,6 +9,7 @@ import { readParquetTable, readQualityFlags, widen, type ExportTable } from './t
 import { SECONDARY_TABLES } from '../outputs/tables.js';
 import { UsageError } from '../declare/yaml-file.js';
 import { checkOneRun } from './one-run.js';
+import { periodFacts } from './period-facts.js';
 
 export { ExportFailed };
 
@@ -59,6 +60,7 @@ export async function runExport(dir: string, o: ExportOptions): Promise<string[]
       const facts: [string, string][] = [
         ['tool', `quern ${run.version}`], ['run id', run.run_id], ['archive', run.archive], ['started', run.started], ['finished', run.finished],
         ['recordings', `${run.counts.reduced} reduced, ${run.counts.failed} failed, ${run.counts.unmatched} unmatched`],
+        ...periodFacts(run),
         ['spec source', run.spec.source], ['spec hash (SHA-256)', run.spec.hash], ['spec', JSON.stringify(run.spec.value, null, 1)],
         ['units', '"[channel unit]" in a header means the unit given in the row\'s unit column'],
         ['caution', 'These numbers support, and do not replace, qualified engineering judgement; the standards and local practice that apply to a test come first.'],

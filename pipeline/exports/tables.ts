@@ -4,10 +4,23 @@ import { join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
 
 export type CellKind = 'text' | 'number' | 'integer' | 'time';
-export interface ExportColumn { name: string; unit: string; kind: CellKind }
+/** `exact`: a key, axis, setting or count, which --digits leaves whole (EXACT_COLUMNS). */
+export interface ExportColumn { name: string; unit: string; kind: CellKind; exact?: boolean }
 export type Cell = string | number | bigint | null;
 /** A table's columns and rows; one read from a Parquet file also names the run that wrote it (its `quern.run_id`, null when absent). */
 export interface ExportTable { name: string; columns: ExportColumn[]; rows: Cell[][]; runId?: string | null }
+
+/**
+ * Number columns --digits never rounds, by table: those that name a row (a spectrum's bin, a window's start and length, a
+ * cycle's range and mean, which rounded merge rows: 1001.95 and 1003.9 Hz both read 1000 at 3 digits), those the sample
+ * rate and declaration alone give (settings, not measurements), and counts.
+ */
+export const EXACT_COLUMNS: Record<string, ReadonlySet<string>> = {
+  features: new Set(['sample_rate', 'duration_s', 'n_nonfinite', 'spike_count', 'cycles_total', 'revolutions', 'pulses_missing', 'pulses_extra', 'resolution_bits', 'alias_margin', 'alias_frequency_hz', 'samples_per_cycle', 'peak_underestimate']),
+  windows: new Set(['window_start_s', 'window_s']),
+  cycles: new Set(['range', 'mean', 'count']),
+  spectra: new Set(['frequency_hz']),
+};
 
 export async function readParquetTable(path: string, name: string): Promise<ExportTable> {
   let bytes: Buffer;
@@ -29,6 +42,7 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
     name: f.name,
     unit: f.metadata.get('unit') ?? '',
     kind: arrow.DataType.isTimestamp(f.type) ? 'time' : arrow.DataType.isInt(f.type) ? 'integer' : arrow.DataType.isFloat(f.type) ? 'number' : 'text',
+    exact: EXACT_COLUMNS[name]?.has(f.name) ?? false,
   }));
   const vectors = columns.map((c) => table.getChild(c.name)!);
   const rows: Cell[][] = [];
@@ -63,6 +77,15 @@ export async function readQualityFlags(dir: string): Promise<ExportTable> {
 /** The identity columns that stay unprefixed in the wide layout (one value per recording). */
 const PER_RECORDING = new Set(['recording', 'group', 'sample_rate', 'n', 'duration_s', 'start_time']);
 
+/**
+ * A column's unit with the channel's own put in for "[unit]"; raised to a power, a unit of more than one symbol goes in
+ * parentheses, (m/s^2)^2, since m/s^2^2 reads as m/s⁴.
+ */
+export function withChannelUnit(template: string, unit: string): string {
+  const oneSymbol = /^[\p{L}°%]+$/u.test(unit);
+  return template.replace(/\[unit\](?=\^|²|³)/g, oneSymbol ? unit : `(${unit})`).replace(/\[unit\]/g, unit);
+}
+
 /** One row per recording, channel-prefixed columns ("acc_de.rms"), for comparing recordings side by side. */
 export function widen(features: ExportTable, labels: string[]): ExportTable {
   const col = new Map(features.columns.map((c, i) => [c.name, i]));
@@ -79,7 +102,7 @@ export function widen(features: ExportTable, labels: string[]): ExportTable {
     (byRecording.get(rec) ?? byRecording.set(rec, []).get(rec)!).push(row);
   }
   // The channel's unit replaces "[unit]" where every recording agrees on it.
-  const resolve = (unit: string, ch: string) => (unitOf.get(ch)!.size === 1 ? unit.replace('[unit]', [...unitOf.get(ch)!][0]) : unit);
+  const resolve = (unit: string, ch: string) => (unitOf.get(ch)!.size === 1 ? withChannelUnit(unit, [...unitOf.get(ch)!][0]) : unit);
   const columns: ExportColumn[] = [...keep, ...channels.flatMap((ch) => perChannel.map((c) => ({ ...c, name: `${ch}.${c.name}`, unit: resolve(c.unit, ch) })))];
   const rows = [...byRecording.values()].map((rows) => {
     const first = rows[0];

@@ -7,6 +7,9 @@ import type { ExportTable } from './tables.js';
 // Light tints of the report's own palette, so dark text stays readable on them.
 const FILLS: Record<string, string> = { ok: 'FFD9ECE8', note: 'FFE1E7EE', warn: 'FFF5E6C4', fail: 'FFF1D3CD' };
 
+// A start shows its milliseconds where it has them (the tables' timestamp unit); a whole second shows none.
+const WHOLE_SECONDS = 'yyyy-mm-dd hh:mm:ss', MILLISECONDS = 'yyyy-mm-dd hh:mm:ss.000';
+
 function addSheet(wb: ExcelJS.Workbook, t: ExportTable, digits: number | null): void {
   const ws = wb.addWorksheet(t.name, {
     views: [{ state: 'frozen', ySplit: 1 }],
@@ -14,22 +17,24 @@ function addSheet(wb: ExcelJS.Workbook, t: ExportTable, digits: number | null): 
     pageSetup: { orientation: 'landscape', paperSize: 9, printTitlesRow: '1:1', margins: { left: 0.4, right: 0.4, top: 0.5, bottom: 0.5, header: 0.2, footer: 0.2 } },
   });
   // Wide enough for the header and for text values (sampled), within reason.
-  const widest = (i: number) => t.rows.slice(0, 200).reduce((w, r) => Math.max(w, t.columns[i].kind === 'text' && r[i] != null ? String(r[i]).length : t.columns[i].kind === 'time' ? 19 : 10), 0);
+  const widest = (i: number) => t.rows.slice(0, 200).reduce((w, r) => Math.max(w, t.columns[i].kind === 'text' && r[i] != null ? String(r[i]).length : t.columns[i].kind === 'time' ? 23 : 10), 0);
   ws.columns = t.columns.map((c, i) => ({
     header: neutralise(headerText(c)),
     width: Math.min(44, Math.max(9, headerText(c).length + 2, widest(i) + 1)),
-    style: { numFmt: c.kind === 'time' ? 'yyyy-mm-dd hh:mm:ss' : c.kind === 'integer' ? '0' : c.kind === 'number' ? 'General' : '@' },
+    style: { numFmt: c.kind === 'time' ? WHOLE_SECONDS : c.kind === 'integer' ? '0' : c.kind === 'number' ? 'General' : '@' },
   }));
+  const timeColumns = t.columns.map((c, i) => (c.kind === 'time' ? i : -1)).filter((i) => i >= 0);
   const severityColumns = t.columns.map((c, i) => (c.name === 'quality' || c.name === 'severity' || c.name.endsWith('.quality') ? i : -1)).filter((i) => i >= 0);
   for (const row of t.rows) {
     const r = ws.addRow(row.map((v, i) => {
       if (v == null) return null;
       const kind = t.columns[i].kind;
-      if (kind === 'number') return Number(numberText(v as number, digits));
+      if (kind === 'number') return Number(numberText(v as number, t.columns[i].exact ? null : digits));
       if (kind === 'integer') return Number(v);
       if (kind === 'time') return new Date(v as number);
       return neutralise(String(v));
     }));
+    for (const i of timeColumns) if (row[i] != null && Number(row[i]) % 1000 !== 0) r.getCell(i + 1).numFmt = MILLISECONDS;
     for (const i of severityColumns) {
       const fill = FILLS[String(row[i])];
       if (fill) r.getCell(i + 1).fill = { type: 'pattern', pattern: 'solid', fgColor: { argb: fill } };

@@ -15,7 +15,7 @@ export const IDENTITY_COLUMNS: TableColumn[] = [
   { name: 'sample_rate', type: 'float64', nullable: false, unit: 'Hz', description: 'Samples per second per channel.' },
   { name: 'n', type: 'int64', nullable: false, unit: '1', description: 'Samples (frames) in the recording.' },
   { name: 'duration_s', type: 'float64', nullable: false, unit: 's', description: 'n / sample_rate.' },
-  { name: 'start_time', type: 'timestamp_ms_utc', nullable: true, unit: 'UTC', description: 'Start of the capture (Broadcast Wave bext origination, or CSV date-time); null when unknown.' },
+  { name: 'start_time', type: 'timestamp_ms_utc', nullable: true, unit: 'UTC', description: 'Start of the capture, to the nearest millisecond (Broadcast Wave bext origination, a CSV date-time or POSIX seconds, or a declared FLAC tag, HDF5 attribute or MAT-file variable); null when unknown.' },
 ];
 
 /** The verdict columns that follow the identity and label columns. */

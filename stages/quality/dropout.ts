@@ -43,7 +43,9 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
             problems.push(`the spectrum rests on ${pct(coverage)} of the recording (${psd.from !== undefined ? `its longest gap-free stretch, ${psd.length} samples from ${secs(psd.from / fs)}` : `${psd.segments} gap-free segments of ${psd.segment} samples`})`);
             raise('warn');
           }
-          why.push(share === 'note'
+          why.push(missing === n
+            ? 'the channel has no finite samples: no figure of its signal can be computed, so those are empty (null), and flatline and peak_capture say not assessed'
+            : share === 'note'
             ? `${TREATMENT}; so few and so short, they move ${partial ? 'no other figure' : 'none'} by more than a fraction of a per cent`
             : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
           if (partial) why.push('spectral figures describe only part of the recording (bands, octaves, velocity, dominant frequency, centroid, orders, the kept spectrum)');

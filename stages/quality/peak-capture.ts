@@ -2,6 +2,7 @@
 // (ITU-R BS.1770-4 Annex 2); beside it the worst case for a sine at the declared highest frequency, 1 − cos(π·f/fs) (derived).
 import { simdPeakScan } from '../dsp/fft-simd.js';
 import { guardFor, TAP_PAIRS, TruePeak } from '../dsp/true-peak.js';
+import { missingOf } from '../fused/missing.js';
 import { peakRepeatsOf } from '../fused/peak-repeats.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
@@ -26,6 +27,8 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
     const limits = saturationLimits(ctx.range, ctx.fullScale);
     // Without limits, a flat top shows in the largest sample's repeats, counted in the fused pass (only then: it costs a compare a sample).
     const repeats = limits ? null : peakRepeatsOf(ctx);
+    // The dropout flag's count (made there anyway): a channel with no finite sample has no peak to judge.
+    const missing = missingOf(ctx);
     let n = 0;
     return {
       push(x) { tracker.push(x); n += x.length; },
@@ -35,6 +38,10 @@ export const peakCapture: StageDefinition<QualityThresholds> = {
         const bound = r == null ? null : r > 1 ? peakUnderestimate(r) : 1;
         const { samplePeak, truePeak } = tracker.result();
         const threshold = `note above ${pct(noteAt)}, warn above ${pct(warnAt)} shortfall of the sampled peak below the 4× true peak; warn: the 4× peak beyond the limit by more than ${pct(FLATTENED_MARGIN)} (flattened)`;
+        if (n > 0 && missing.count === n) {
+          ctx.flag({ name: 'peak_capture', severity: 'ok', value: null, threshold, evidence: { declared_hz: f, worst_underestimate: bound }, message: 'not assessed: the channel has no finite samples (the dropout flag fails it)' });
+          return { samples_per_cycle: r, peak_underestimate: bound, true_peak: null, peak_shortfall: null };
+        }
         if (!(truePeak > 0)) {
           ctx.flag({ name: 'peak_capture', severity: 'ok', value: null, threshold, evidence: { declared_hz: f, worst_underestimate: bound }, message: 'not assessed: the signal never leaves zero' });
           return { samples_per_cycle: r, peak_underestimate: bound, true_peak: truePeak, peak_shortfall: null };

@@ -5,7 +5,7 @@ import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
-import { isoTimeMs } from './iso-time.js';
+import { isoTimeMs, startAt } from './iso-time.js';
 import { unendedLineNote } from './unended-line.js';
 import { firstNul, paddingNote, trailingNuls } from './nul-padding.js';
 import { keepSteps, MAX_TIME_S, offGrid, printedRate, startOfTimes, stepCounter } from './time-steps.js';
@@ -269,7 +269,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     stepUncertainty = 1 / rate.lowest - 1 / rate.highest;
     // Date-times give the start; so do POSIX seconds, as loggers print them.
     const numeric = /^-?[\d.,eE+]+$/.test((probeRows[0][0] ?? '').trim());
-    startTime = numeric ? startOfTimes(times[0]) : new Date(times[0] * 1000);
+    startTime = numeric ? startOfTimes(times[0]) : startAt(times[0] * 1000);
     // Held against the declaration at 0.5 % beyond the rates the printed times allow.
     if (declaredSampleRate != null && !coarse && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
       throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export${perSecond === 1 ? unitHint(declaredSampleRate / rate.rate, names[0]) : ''}`);

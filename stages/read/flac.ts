@@ -5,7 +5,7 @@ import { decodeFrame, FrameError, maxFrameBytes, type StreamParams } from './fla
 import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { openSource } from './source.js';
 import { THREAD_READING_BUFFERS } from './reading-buffers.js';
-import { isoTimeMs } from './iso-time.js';
+import { isoTimeMs, startAt } from './iso-time.js';
 
 
 /** How a group's FLAC files are read: the Vorbis comment tag holding the start time, when one is declared. */
@@ -57,7 +57,7 @@ function tagStartTime(tags: Map<string, string>, tag: string): Date {
   if (text == null) throw new RecordingError(`Vorbis comment: no ${tag} tag, which the group declares holds the start time; tag the file (metaflac --set-tag=${tag}=…) or drop flac.start_time_tag`);
   const t = isoTimeMs(text);
   if (!Number.isFinite(t)) throw new RecordingError(`Vorbis comment: tag ${tag} holds "${text.slice(0, 60)}", not an ISO 8601 date-time; correct the tag`);
-  return new Date(t);
+  return startAt(t);
 }
 
 export async function openFlac(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES, options = null as FlacOptions | null } = {}): Promise<Recording> {

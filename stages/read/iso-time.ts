@@ -18,6 +18,12 @@ export function isoTimeMs(text: string): number {
   return Date.parse(`${y}-${mo}-${d}T${h}:${mi}:${s}${offset}`) + (fraction ? Number(`0.${fraction.slice(1)}`) * 1000 : 0);
 }
 
+/**
+ * A start as the tables keep it, to the millisecond (their timestamp unit), rounded to the nearest (half up): a Date
+ * alone drops a finer fraction, so 00.0007 would read 00.000 and 00.9996 00.999.
+ */
+export const startAt = (ms: number): Date => new Date(Math.round(ms));
+
 /** Whether the day exists: Date.UTC rolls 30 February over into March. */
 export const isCalendarDate = (y: number, m: number, d: number) => {
   const day = new Date(Date.UTC(y, m - 1, d));

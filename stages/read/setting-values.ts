@@ -1,7 +1,7 @@
 // The sample rate and the start time as a file keeps them beside its samples (an HDF5 attribute or dataset, a MAT-file
 // variable): a number, or text of one, or a one-element array of either; `held` names where it was found. Start times
 // written by MATLAB come as its datenum or datestr as often as in ISO 8601, so both are read too.
-import { isoTimeMs } from './iso-time.js';
+import { isoTimeMs, startAt } from './iso-time.js';
 import { RecordingError } from './recording.js';
 
 /** A one-element array's element; anything else as it is. */
@@ -54,5 +54,5 @@ export function startFrom(value: unknown, held: string, where: string): Date {
   const iso = typeof v === 'string' ? isoTimeMs(v) : NaN;
   const t = typeof v === 'string' ? (Number.isFinite(iso) ? iso : datestrMs(v)) : numberTimeMs(Number(v));
   if (!Number.isFinite(t)) throw new RecordingError(`${held} (the start time) holds ${shown(v)}, neither an ISO 8601 date-time nor POSIX seconds (nor MATLAB's datenum or datestr); check the file or ${where}`);
-  return new Date(t);
+  return startAt(t);
 }

@@ -1,6 +1,7 @@
 // The steps of a recording's own time values (a CSV time column, a MAT-file time vector) held against their nominal step:
 // the ones off by more than the tolerance are counted, and the widest kept, for the notes and the dropout flag.
 import { RecordingError } from './recording.js';
+import { startAt } from './iso-time.js';
 
 /** `unmeasured`: the irregular steps to a time that is no number, which have no width. */
 export interface TimeSteps { irregular: number; unmeasured?: number; widest_s: number; widest_at_s: number; nominal_s: number }
@@ -232,7 +233,7 @@ export const MAX_TIME_S = 1e11;
 export const POSIX_FROM_S = 1e9;
 
 /** The start a recording's own first time gives: POSIX seconds from POSIX_FROM_S up; below, the times count from the capture's start. */
-export const startOfTimes = (first: number): Date | null => (first >= POSIX_FROM_S && first < MAX_TIME_S ? new Date(first * 1000) : null);
+export const startOfTimes = (first: number): Date | null => (first >= POSIX_FROM_S && first < MAX_TIME_S ? startAt(first * 1000) : null);
 
 /** Times read at open for a time vector's nominal step (as a CSV file's first rows are). */
 export const TIME_PROBE = 4096;
