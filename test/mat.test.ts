@@ -8,7 +8,8 @@ import type { MatLayout } from '../stages/read/mat.js';
 import { openRecording } from '../stages/read/open.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { runReduce } from '../pipeline/run.js';
-import { reduceAll, type Pool } from '../pipeline/reduce/pool.js';
+import { sweepStoppedThreads } from '../stages/read/mat-spool.js';
+import { Worker } from 'node:worker_threads';
 import { fixture, quernWith, readAll, readJson, tempDir } from './helpers.js';
 
 interface MatFixture { file: string; case: string | null; mat: MatLayout; channel_names: string[] | null; rate: number; channels: number; frames: number; encoding: string; bits: number | null; start_time: string | null; made_by: string; time_steps: { irregular: number; widest_s: number; widest_at_s: number | null; nominal_s: number } | null }
@@ -220,25 +221,18 @@ describe('temporary copies that stopped runs leave', () => {
     expect(readdirSync(tmp).sort()).toEqual([`quern-mat-${process.pid}-def`, 'quern-mat-notes']);
   });
 
-  it('a thread that crashed or was stopped has its copies removed as soon as the run sees it gone; a running thread\'s and the main thread\'s are kept', async () => {
-    const tmp = tempDir(), before = process.env.TMPDIR;
+  it("a thread that was stopped has its copies removed at once; a running thread's and the main thread's are kept", async () => {
+    const tmp = tempDir();
     const copy = (thread: number) => `quern-mat-${process.pid}-t${thread}-x`;
-    // A pool whose one task's thread (id 7) makes a copy and crashes; thread 8, its replacement, and the main thread (0) have copies of their own.
-    const pool: Pool = {
-      threads: 1, widen() {}, async prestart() {}, started: () => 1, threadIds: () => [8], async renew() {}, async destroy() {},
-      async run() {
-        for (const t of [7, 8, 0]) { mkdirSync(join(tmp, copy(t)), { recursive: true }); writeFileSync(join(tmp, copy(t), 'variable'), 'x'); }
-        throw new Error('the worker crashed');
-      },
-    };
-    const item = { job: { recording: 'r.mat', group: 'm' }, store: { stalledBefore: false, specHash: 'h', version: 'v', identity: {}, readAtMs: 0, declKey: 'k' } } as never;
-    const seen: string[][] = [];
-    process.env.TMPDIR = tmp;
+    // Two real worker threads: one stopped (as the pool stops a stalled or crashed one), one still running.
+    const stopped = new Worker('setInterval(() => {}, 1000)', { eval: true }), running = new Worker('setInterval(() => {}, 1000)', { eval: true });
     try {
-      await reduceAll(pool, ['r.mat'], { sizeOf: () => 1, itemOf: () => item, onBatch: async (results) => { seen.push(readdirSync(tmp).sort()); expect(results[0].facts.reason).toBe('worker stopped: the worker crashed'); } });
-      expect(seen).toEqual([[copy(0), copy(8)]]);
+      for (const t of [stopped.threadId, running.threadId, 0]) { mkdirSync(join(tmp, copy(t))); writeFileSync(join(tmp, copy(t), 'variable'), 'x'); }
+      await stopped.terminate();
+      expect(await sweepStoppedThreads([running.threadId], tmp)).toBe(1);
+      expect(readdirSync(tmp).sort()).toEqual([copy(0), copy(running.threadId)].sort());
     } finally {
-      if (before == null) delete process.env.TMPDIR; else process.env.TMPDIR = before;
+      await running.terminate();
     }
   });
 
