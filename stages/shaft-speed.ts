@@ -1,6 +1,6 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
-import { PulseTrain } from './dsp/pulse-train.js';
+import { PulseTrain, rateSlope, type Intervals } from './dsp/pulse-train.js';
 import { levelsOf, restLook, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type PulseShape, type RestLook, type SampleExtremes } from './dsp/trigger-level.js';
 import { QUALITY_DEFAULTS } from './quality/flag.js';
 import type { ChannelContext, Stage } from './stage.js';
@@ -104,6 +104,16 @@ const fault = (): PulseFaults => ({ count: 0, times_s: [] });
 const stillButExtremes = (e: SampleExtremes | null, step: number | null) => e == null || !(e.hi2 - e.lo2 > 2 * (step ?? 0));
 const record = (f: PulseFaults, t: number) => { f.count++; if (f.times_s.length < TIMES_KEPT) f.times_s.push(t); };
 
+// A rate 1/d + slope·(x − m) about the interval's midpoint m integrates to one pulse over [a, b] whatever the slope; the share of
+// [lo, hi] is its integral there (a linear rate, closed form). A slope that would take the rate to zero within the interval is
+// not that of a turning shaft, and the share falls back to the interval's own rate.
+/** Pulses turned over [lo, hi] within the good interval [a, b] whose rate changes by `slope`. */
+export function pulseShare(a: number, b: number, lo: number, hi: number, slope = 0): number {
+  const d = b - a, m = (a + b) / 2;
+  if (!(Math.abs(slope) * d / 2 < 1 / d)) slope = 0;
+  return (hi - lo) / d + (slope / 2) * ((hi - m) ** 2 - (lo - m) ** 2);
+}
+
 function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelContext['tacho']>, step: number | null = null, options: SpeedOptions = SPEED_DEFAULTS): ShaftSpeed {
   const p = tacho.pulsesPerRev;
   const s: SpeedSummary = {
@@ -115,6 +125,7 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   let pulse = 0;
   const missingPlaces = new Set<number>();
   let good = 0, span = 0, fastest = 0, slowest = Infinity, lastEnd = Number.NaN;
+  const behind: Intervals = [];
   const revolution: number[] = [];
   const grids: { length: number; hop: number; pulses: number[]; time: number[] }[] = [];
   const train = new PulseTrain(p, {
@@ -131,15 +142,22 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
         fastest = Math.max(fastest, 1 / samples);
         slowest = Math.min(slowest, 1 / samples);
       }
+      // The rate's slope over the two revolutions of good intervals just before, where this one follows them (whole revolutions,
+      // so marks spaced unevenly around the shaft do not read as a change of speed): a run-up turns a window's share of an
+      // interval faster at its end than at its start.
+      if (a !== lastEnd) behind.length = 0;
+      const slope = behind.length === 2 * p ? rateSlope(behind.slice(0, p), behind.slice(p)) ?? 0 : 0;
+      behind.push([a, b]);
+      if (behind.length > 2 * p) behind.shift();
       lastEnd = b;
-      // Each window takes the share of the interval inside it, at the interval's own rate.
+      // Each window takes the share of the interval inside it, at the interval's rate and its slope.
       for (const g of grids) {
         for (let j = Math.max(0, Math.floor((a - g.length) / g.hop) + 1); j * g.hop < b; j++) {
-          const inside = Math.min(b, j * g.hop + g.length) - Math.max(a, j * g.hop);
-          if (inside <= 0) continue;
+          const lo = Math.max(a, j * g.hop), hi = Math.min(b, j * g.hop + g.length);
+          if (hi <= lo) continue;
           while (g.time.length <= j) { g.time.push(0); g.pulses.push(0); }
-          g.time[j] += inside;
-          g.pulses[j] += inside / (b - a);
+          g.time[j] += hi - lo;
+          g.pulses[j] += pulseShare(a, b, lo, hi, slope);
         }
       }
     },
