@@ -11,7 +11,7 @@ import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
-import { reduceCommand } from './rerun-command.js';
+import { mergeCommand, reduceCommand } from './rerun-command.js';
 import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
@@ -166,18 +166,18 @@ async function main(argv: string[]): Promise<number> {
       .positional('archive', { type: 'string', demandOption: true, describe: 'Archive folder with archive.yaml at its root' })
       .option('out', { type: 'string', describe: 'Output folder (also keeps the per-recording results a re-run reuses)', defaultDescription: '<archive>.reduced beside the archive' })
       .option('spec', { type: 'string', describe: 'Reduction spec (YAML)', defaultDescription: '<archive>/reduction.yaml, else the built-in default' })
-      .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
+      .option('jobs', { type: 'number', defaultDescription: `the number of cores (${availableParallelism()})`, describe: 'Worker threads' })
       .option('force', { type: 'boolean', default: false, describe: 'Recompute everything; reuse nothing from earlier runs' })
       .option('hash', { type: 'boolean', default: false, describe: 'Identify unchanged recordings by a content hash, not only size and modification time' })
       .option('retry-failed', { type: 'boolean', default: false, describe: 'Reduce again the recordings that failed before, though file, declaration and spec are unchanged (once storage or a reader is mended)' })
       .option('shard', { type: 'string', describe: 'Reduce one stable share, K/N (1 ≤ K ≤ N), or auto (Slurm array / Kubernetes indexed job); writes part files for quern merge' })
       .option('since', { type: 'string', describe: 'Only recordings starting at or after this date, date-time (UTC unless it names a zone) or span back from now (7d, 12h)' })
       .option('until', { type: 'string', describe: 'Only recordings starting before this date, date-time or span' })
-      .option('log', { choices: ['auto', 'plain', 'json'] as const, default: 'auto' as const, describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
+      .option('log', { choices: ['auto', 'plain', 'json'] as const, defaultDescription: 'auto', describe: 'Progress: a bar on a terminal (auto), plain lines, or JSON lines' })
       .option('quiet', { type: 'boolean', default: false, describe: 'No progress output' })
-      .option('stale-lock-after', { type: 'string', default: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
-      .option('stall-limit', { type: 'string', default: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
-      .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
+      .option('stale-lock-after', { type: 'string', defaultDescription: '24h', describe: 'Take over the output folder\'s lock when held from another host and not refreshed for this long (30m, 12h, 2d)' })
+      .option('stall-limit', { type: 'string', defaultDescription: '5m', describe: 'Fail a recording whose reduction makes no progress for this long, and go on (90s, 5m, 1h)' })
+      .option('storage-limit', { type: 'string', defaultDescription: '5m', describe: STORAGE_LIMIT })
       .option('settle', { type: 'string', describe: 'Leave recordings modified within this span before the scan to the next run, as captures that may still be written (off unless given; 2m, 10m)' })
       .option('exit-on', EXIT_ON)
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
@@ -191,9 +191,9 @@ async function main(argv: string[]): Promise<number> {
       // An empty --since (an unset variable in a script) is refused, never taken as "every recording".
       since = a.since != null ? optionValue('since', a.since, parseWhen) : null;
       until = a.until != null ? optionValue('until', a.until, parseWhen) : null;
-      staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter, parseSpan);
-      const stallMs = optionValue('stall-limit', a.stallLimit, positiveSpan('a stall limit of no time would stop every recording'));
-      const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
+      staleLockAfterMs = optionValue('stale-lock-after', a.staleLockAfter ?? '24h', parseSpan);
+      const stallMs = optionValue('stall-limit', a.stallLimit ?? '5m', positiveSpan('a stall limit of no time would stop every recording'));
+      const storageMs = optionValue('storage-limit', a.storageLimit ?? '5m', storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       const exitOn = parseExitOn(a.exitOn);
       try {
@@ -202,18 +202,19 @@ async function main(argv: string[]): Promise<number> {
       } catch (e) {
         throw new UsageError((e as Error).message);
       }
-      const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log });
+      const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log ?? 'auto' });
       // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
       tell = afterProgress(progress, tell);
       const { runReduce, defaultOut } = await import('./run.js');
-      // Options left at their defaults are left out; the period's bounds are written in UTC, so a re-run covers the same one.
+      // Only the options given (the parser keeps no defaults for those with a value, so it tells them apart); the period's
+      // bounds are written in UTC, so a re-run covers the same one.
       const command = reduceCommand(a.archive as string, {
         out: a.out ?? defaultOut(a.archive as string), spec: a.spec ?? null, jobs: a.jobs, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until,
-        settle: a.settle ?? null, staleLockAfter: a.staleLockAfter !== '24h' ? a.staleLockAfter : null, stallLimit: a.stallLimit !== '5m' ? a.stallLimit : null, storageLimit: a.storageLimit !== '5m' ? a.storageLimit : null,
-        exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null, log: a.log !== 'auto' ? a.log : null, quiet: a.quiet,
+        settle: a.settle ?? null, staleLockAfter: a.staleLockAfter ?? null, stallLimit: a.stallLimit ?? null, storageLimit: a.storageLimit ?? null,
+        exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null, log: a.log ?? null, quiet: a.quiet,
         export: a.export ?? null, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide,
       });
-      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details), stand: follow, command });
+      const { record, quality, threadsGivenUp } = await runReduce({ archive: a.archive as string, out: a.out ?? null, spec: a.spec ?? null, jobs: jobsOf(a.jobs ?? availableParallelism()), progress, force: a.force, hash: a.hash, retryFailed: a.retryFailed, shard, since, until, staleLockAfterMs, stallMs, storageMs, settleMs, tell: (message, exitCode, details) => tell(message, exitCode, details), stand: follow, command });
       const ending = exitCodeOf(record, quality.changes, exitOn);
       completedCode = ending.code;
       process.stdout.write(summaryText(record, quality) + '\n');
@@ -226,6 +227,7 @@ async function main(argv: string[]): Promise<number> {
         progress.event?.('summary', {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
           ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
+          ...(record.period?.gap ? { gap: { count: record.period.gap.count, earliest_start: record.period.gap.earliest_start, latest_start: record.period.gap.latest_start } } : {}),
           ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
           lock: record.lock, store: { damaged: record.store.damaged, ...(record.store.cut_short.length ? { cut_short: record.store.cut_short } : {}) }, exit_code: ending.code,
         });
@@ -245,18 +247,22 @@ async function main(argv: string[]): Promise<number> {
     })
     .command('merge <out>', 'Combine the part files of sharded runs (quern reduce --shard) into the final tables and reports', (y: Argv) => y
       .positional('out', { type: 'string', demandOption: true, describe: 'The output folder every shard wrote into' })
-      .option('jobs', { type: 'number', default: availableParallelism(), describe: 'Worker threads' })
-      .option('storage-limit', { type: 'string', default: '5m', describe: STORAGE_LIMIT })
+      .option('jobs', { type: 'number', defaultDescription: `the number of cores (${availableParallelism()})`, describe: 'Worker threads' })
+      .option('storage-limit', { type: 'string', defaultDescription: '5m', describe: STORAGE_LIMIT })
       .option('exit-on', EXIT_ON)
       .option('export', { type: 'string', describe: 'Also write spreadsheet copies: csv, xlsx or csv,xlsx (see quern export)' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       givenOnce(a, ['jobs', 'export']);
-      const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
+      const storageMs = optionValue('storage-limit', a.storageLimit ?? '5m', storageSpan);
       const exitOn = parseExitOn(a.exitOn);
+      const command = mergeCommand(a.out as string, {
+        jobs: a.jobs, storageLimit: a.storageLimit ?? null, exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null,
+        export: a.export ?? null, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide,
+      });
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
-      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs), storageMs, stand: follow });
+      const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs ?? availableParallelism()), storageMs, stand: follow, command });
       completedCode = exitCodeOf(record, quality.changes, exitOn).code;
       process.stdout.write(summaryText(record, quality) + '\n');
       if (exportTo) for (const f of await runExport(record.out, { to: exportTo, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide }).catch(exportAfterRun)) process.stdout.write(`  export:  ${f}\n`);

@@ -17,7 +17,7 @@ import type { Shard } from './select/select.js';
 import { trendOptions } from './trends/options.js';
 import { removeOwnSpools } from '../stages/read/mat-spool.js';
 import { reduceCommand } from './rerun-command.js';
-import { followed, stopOnSignal, type OutputsStand, type StopTell } from './stop-on-signal.js';
+import { followed, stopOnSignal, type OutputsStand, type SignalStop, type StopTell } from './stop-on-signal.js';
 
 export interface OpenOptions {
   jobs?: number;
@@ -55,6 +55,7 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
   const firstRun = !existsSync(join(outDir, 'cache'));
   // Waiting for the pool's code here (tens of ms) lets the thread start before the declarations are read, not after.
   if (firstRun) await pool.prestart(1);
+  let stop: SignalStop | null = null;
   try {
     const spec = await loadSpec(root, o.spec);
     // A group holding a problem is kept as broken (its recordings fail with it); a problem outside the groups stops the run here.
@@ -62,13 +63,18 @@ export async function openRun(root: string, outDir: string, runId: string, o: Op
     const trends = trendOptions(spec.spec); // checked now, before any work
     await refuseHidingRecordings(root, outDir, declaration);
     const command = lockCommand(root, outDir, o);
-    const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs });
-    // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it.
-    const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); lock.release(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine), o.stand);
+    // A signal, or an error nothing waits for, from here on: this run's temporary files and its lock go with it. The stop
+    // is set before the lock is taken, and the lock's release handed to it as the lock file is created, so no moment
+    // between the two leaves the lock behind.
+    let releaseLock = () => {};
+    stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, o.shard); removeOwnSpools(); releaseLock(); }, o.progress ? afterProgress(o.progress, o.tell ?? plainLine) : o.tell ?? plainLine), o.stand);
+    const lock = await takeLock(lockPath(outDir, o.shard), { run_id: runId, command }, { staleAfterMs: o.staleLockAfterMs, claimed: (release) => { releaseLock = release; } });
+    const taken = stop;
     // Merge tells a shard that stopped part-way by this start, newer than the part it left.
-    if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { stop.off(); await lock.release(); throw e; });
-    return { storage, pool, firstRun, spec, declaration, trends, lock, stop };
+    if (o.shard) await writing(shardStartPath(outDir, o.shard), () => markShardStart(outDir, o.shard!, { run_id: runId, command })).catch(async (e) => { await lock.release(); throw e; });
+    return { storage, pool, firstRun, spec, declaration, trends, lock, stop: taken };
   } catch (e) {
+    stop?.off();
     await pool.destroy();
     storage.stop();
     if (o.shard) await markFailedShard(outDir, o.shard, runId, lockCommand(root, outDir, o), e);

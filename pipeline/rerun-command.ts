@@ -1,5 +1,5 @@
-// The command a run records for running it again (its lock's holder, a shard's start, merge's and a refusal's advice):
-// every option that changes what the run does or how it reports, as given, each word quoted for a POSIX shell where needed.
+// The command a run records for running it again (its lock's holder, a shard's start, merge's and a refusal's advice; a
+// merge's lock): the options given on the command line, none left at its default, each word quoted for a POSIX shell where needed.
 import { resolve } from 'node:path';
 import type { Shard } from './select/select.js';
 
@@ -36,3 +36,20 @@ export function reduceWords(archive: string, o: GivenOptions): string[] {
 }
 
 export const reduceCommand = (archive: string, o: GivenOptions): string => shellCommand(reduceWords(archive, o));
+
+/** What a merge was given. */
+export interface GivenMergeOptions {
+  jobs?: number; storageLimit?: string | null; exitOn?: string | null; export?: string | null; bom?: boolean; decimalComma?: boolean; digits?: number | null; wide?: boolean;
+}
+
+/** The words of `quern merge` with what it was given, for its lock. */
+export function mergeWords(out: string, o: GivenMergeOptions = {}): string[] {
+  const words = ['quern', 'merge', resolve(out)];
+  const value = (option: string, v: string | number | null | undefined) => { if (v != null && v !== '') words.push(`--${option}`, String(v)); };
+  const when = (option: string, on: boolean | undefined) => { if (on) words.push(`--${option}`); };
+  value('jobs', o.jobs); value('storage-limit', o.storageLimit); value('exit-on', o.exitOn);
+  value('export', o.export); when('bom', o.bom); when('decimal-comma', o.decimalComma); value('digits', o.digits); when('wide', o.wide);
+  return words;
+}
+
+export const mergeCommand = (out: string, o: GivenMergeOptions = {}): string => shellCommand(mergeWords(out, o));

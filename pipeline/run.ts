@@ -24,6 +24,7 @@ import { leaveSettling } from './plan/settle.js';
 import { decidedReducer } from './reduce/reduce-decided.js';
 import { choosePeriod, leftOutOfScan, periodRecord, splitTaken } from './select/choose-period.js';
 import { scan, type ScannedRecording } from './select/scan.js';
+import { coverEnd } from './select/period-gap.js';
 import { shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import type { TrendsBasis, TrendsWrite } from './trends/trends.js';
@@ -172,7 +173,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
       declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u, undefined, brokenNames))], groupsWithoutRecordings: unfed.map((u) => u.group),
       brokenGroups: broken,
       // A shard's present recordings outside its period: merge's trends read their stored history too.
-      ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames) } : {}),
+      ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames), coveredUntil: new Date(coverEnd(scanStartedMs, o.until ?? null)).toISOString() } : {}),
       timings: { scan_s: scanS, reduce_s: reduceS, write_s: writeS }, shard, labels, labelsByGroup: Object.fromEntries(declaration.groups.map((g) => [g.name, g.labels])),
       period: periodRecord(period, late, groupNames, shard, outcome, renewed),
       damage: s.damage, cutShort: s.cutShort, compacted, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
@@ -180,7 +181,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
-    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)])));
+    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)]), o.until ?? null));
     failed = false;
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };
   } finally {

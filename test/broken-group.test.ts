@@ -117,6 +117,25 @@ describe('a group of archive.yaml holding a problem', () => {
     }
   });
 
+  it('leaves its labels out of the other groups\' case checks: they are reduced, while quern check lists its clash with its problems', async () => {
+    // frame-strain is broken (a misspelt key) and labelled "Bay"; quick-look's "bay" would clash with it only if it were usable.
+    const yaml = yamlOf(STRAIN('sampel_rate').map((l) => l.replace('labels: { bay: 3 }', 'labels: { Bay: 3 }')), [...QUICK_LOOK.slice(0, 3), '    labels: { bay: 7 }', ...QUICK_LOOK.slice(3)]);
+    const archive = archiveWith(yaml), out = join(archive, '..', 'out');
+    const run = quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet');
+    expect(run.code, run.stdout + run.stderr).toBe(1);
+    const record = readJson(join(out, 'run.json'));
+    expect(record.broken_groups.map((b: any) => b.group)).toEqual(['frame-strain']);
+    expect(record.broken_groups[0].problems.join('\n')).toMatch(/groups\[0\]\.labels\.Bay: label "Bay" differs from the label "bay" of another group only in case/);
+    expect(record.recordings.filter((x: any) => x.status === 'reduced').map((x: any) => x.group)).toEqual(expect.arrayContaining(['quick-look']));
+    // Its table carries quick-look's label column, as a run of the archive without the broken group writes it.
+    expect((await rowsOf(join(out, 'features.parquet'))).every((row) => row.group === 'quick-look' && String(row.bay) === '7')).toBe(true);
+    const check = quern('check', archive);
+    expect(check.code).toBe(2);
+    expect(check.stderr).toMatch(/archive\.yaml:5: groups\[0\]\.sampel_rate: unknown key "sampel_rate"/);
+    expect(check.stderr).toMatch(/groups\[0\]\.labels\.Bay: label "Bay" differs from the label "bay" of another group only in case/);
+    expect(check.stderr).not.toMatch(/groups\[1\]/);
+  });
+
   it('quern check still lists every problem, in every group, and exits 2', () => {
     const twoBroken = yamlOf(STRAIN('sampel_rate'), QUICK_LOOK.map((l) => l.replace('range: [-500, 500]', 'range: [500, -500]')));
     const r = quern('check', archiveWith(twoBroken));

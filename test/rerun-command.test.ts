@@ -1,11 +1,11 @@
 // The command a run records for running it again: every option as given, each word quoted for a POSIX shell where
 // needed. Checked against the shell itself: sh (dash, or whatever /bin/sh is) splits the string back into the same words.
-import { spawnSync } from 'node:child_process';
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { spawn, spawnSync } from 'node:child_process';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { reduceWords, shellCommand, shellWord } from '../pipeline/rerun-command.js';
-import { oneRigArchive, quern, readJson, tempDir } from './helpers.js';
+import { oneRigArchive, quern, readJson, repo, tempDir } from './helpers.js';
 import { encodeWav } from '../scripts/wav-file.js';
 
 /** The words a POSIX shell makes of `command` (IEEE Std 1003.1, Shell Command Language 2.2 and 2.6: quoting, field splitting). */
@@ -55,5 +55,42 @@ describe('the command a reduce records', () => {
     expect(start.failed).toMatch(/no_such_section/);
     const command = start.command as string;
     expect(shellSplits(command)).toEqual(['quern', 'reduce', archive, '--out', out, '--spec', spec, '--settle', '2m', '--jobs', '1', '--stall-limit', '90s', '--exit-on', 'alarm', '--log', 'plain', '--shard', '2/2']);
+  });
+});
+
+describe('the command a run records carries only the options given', () => {
+  /** An archive of one recording, and an output folder beside it. */
+  function oneRecording() {
+    const root = tempDir(), archive = join(root, 'arch'), out = join(root, 'out');
+    mkdirSync(join(archive, 'rig'), { recursive: true });
+    writeFileSync(join(archive, 'archive.yaml'), oneRigArchive(2000));
+    writeFileSync(join(archive, 'rig', 'a.wav'), encodeWav({ sampleRate: 2000, channels: [new Float64Array(2000)], encoding: 'pcm16' }));
+    return { archive, out };
+  }
+
+  it('a shard given no --jobs keeps none; one given --jobs, or an option at its default value, keeps it', () => {
+    const { archive, out } = oneRecording();
+    expect(quern('reduce', archive, '--out', out, '--shard', '1/2', '--quiet').code).toBe(0);
+    expect(shellSplits(readJson(join(out, 'parts', 'started-1-of-2.json')).command)).toEqual(['quern', 'reduce', archive, '--out', out, '--quiet', '--shard', '1/2']);
+    expect(quern('reduce', archive, '--out', out, '--shard', '2/2', '--jobs', '1', '--stall-limit', '5m', '--log', 'auto', '--quiet').code).toBe(0);
+    expect(shellSplits(readJson(join(out, 'parts', 'started-2-of-2.json')).command)).toEqual(['quern', 'reduce', archive, '--out', out, '--jobs', '1', '--stall-limit', '5m', '--log', 'auto', '--quiet', '--shard', '2/2']);
+  });
+
+  it('merge\'s lock names the merge as given, quoted for a shell', async () => {
+    const { archive } = oneRecording();
+    const out = join(archive, '..', "lab's out");
+    for (const k of [1, 2]) expect(quern('reduce', archive, '--out', out, '--shard', `${k}/2`, '--jobs', '1', '--quiet').code).toBe(0);
+    // The merge is killed once its lock is there, so the lock stays behind to be read.
+    const child = spawn(process.execPath, [join(repo, 'dist', 'pipeline', 'cli.js'), 'merge', out, '--storage-limit', '2m'], { stdio: 'ignore' });
+    const ended = new Promise<void>((done) => child.on('exit', () => done()));
+    const lock = join(out, 'run.lock');
+    let holder: any = null;
+    for (let i = 0; i < 4000 && !holder; i++) {
+      try { holder = JSON.parse(readFileSync(lock, 'utf8')); } catch { await new Promise((r) => setTimeout(r, 2)); }
+    }
+    child.kill('SIGKILL');
+    await ended;
+    expect(holder?.pid).toBe(child.pid);
+    expect(shellSplits(holder.command)).toEqual(['quern', 'merge', out, '--storage-limit', '2m']);
   });
 });

@@ -63,6 +63,32 @@ describe('damaged stored entries', () => {
     expect(next.counts.recomputed).toBe(0);
   });
 
+  it('two adjacent damaged entries count as two, each named with its recording and recomputed; the tables equal a clean run\'s', async () => {
+    const { archive, out, clean, pack } = await reducedTwice();
+    const all = await records(pack);
+    // Two entries one after the other, with sound entries after them. Their places come from scanPack above; the layout
+    // (a 76-byte header, then the facts and the results) is DEVELOPERS.md's, and the test flips one bit in each one's results.
+    const i = all.findIndex((x, j) => j + 2 < all.length && [x, all[j + 1]].every((e) => e.facts.status === 'reduced' && e.length > 1000));
+    expect(i).toBeGreaterThanOrEqual(0);
+    const [a, b] = [all[i], all[i + 1]];
+    expect(a.offset + a.length).toBe(b.offset);
+    const bytes = readFileSync(pack);
+    bytes[a.offset + a.length - 100] ^= 0x10;
+    bytes[b.offset + b.length - 100] ^= 0x10;
+    writeFileSync(pack, bytes);
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code).toBe(1);
+    const run = readJson(join(out, 'run.json'));
+    const problem = 'checksum mismatch in the entry\'s results';
+    expect(run.store.damaged).toEqual([
+      { file: pack, offset: a.offset, bytes: a.length, recording: a.facts.recording, problem },
+      { file: pack, offset: b.offset, bytes: b.length, recording: b.facts.recording, problem },
+    ]);
+    for (const v of [a, b]) expect(run.recordings.find((x: any) => x.recording === v.facts.recording).why).toBe(`stored entry damaged (${problem}); recomputed`);
+    expect(r.stdout.match(/DAMAGED stored entry of /g)).toHaveLength(2);
+    await expectSameTables(out, clean);
+  });
+
   it('an entry cut short (a truncated pack) is reported and recomputed; the tables equal a clean run\'s', async () => {
     const { archive, out, clean, pack } = await reducedTwice();
     const all = await records(pack);

@@ -18,15 +18,17 @@ import type { QualitySummary } from '../outputs/quality.js';
 import { openPool } from '../reduce/pool.js';
 import { runLine, runRecord, writeRunRecord, type RunRecord } from '../outputs/report.js';
 import { UsageError } from '../declare/yaml-file.js';
+import { mergeCommand } from '../rerun-command.js';
 import { arrivalsDuringShards, scannedOverall } from './arrivals.js';
 import { currentCount, missingShards, specProblem, staleCountProblem, unfinishedShards, versionProblem } from './shard-parts.js';
-import { Store } from '../store/store.js';
+import { keepMergeCover, Store } from '../store/store.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
 import { quietByCadence, shardOf, type CaptureDue, type QuietGroup } from '../select/select.js';
 import { combinedLateArrivals, type LateArrivals } from '../select/late-arrivals.js';
+import { combinedGap } from '../select/period-gap.js';
 
-export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stand }: { jobs?: number; storageMs?: number; stand?: (stand: OutputsStand) => void } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
+export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stand, command }: { jobs?: number; storageMs?: number; stand?: (stand: OutputsStand) => void; /** The command that runs this merge again, for its lock (`mergeCommand`). */ command?: string } = {}): Promise<{ record: RunRecord; quality: QualitySummary }> {
   const started = new Date();
   const outDir = resolve(out);
   const partsDir = join(outDir, 'parts');
@@ -56,9 +58,11 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stan
   const runId = randomUUID();
   // Storage that stops answering ends the merge rather than hold its lock for ever.
   const storage = watchStorage([outDir], storageMs);
-  const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: `quern merge ${outDir}` }).catch((e) => { storage.stop(); throw e; });
+  // The stop goes first and is handed the lock's release as the lock file is created: no moment between them leaves it behind.
+  let releaseLock = () => {};
+  const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, null); releaseLock(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); }), stand);
+  const lock = await takeLock(lockPath(outDir, null), { run_id: runId, command: command ?? mergeCommand(outDir) }, { claimed: (release) => { releaseLock = release; } }).catch((e) => { stop.off(); storage.stop(); throw e; });
   const pool = openPool(jobs);
-  const stop = followed(stopOnSignal(() => { removeOwnTemporaries(outDir, null); lock.release(); }, (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); }), stand);
   let failed = true;
   try {
     const leftovers = await sweepLeftovers(outDir, null);
@@ -91,13 +95,15 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stan
       declarationNotes: first.declaration_notes ?? [], groupsWithoutRecordings: first.groups_without_recordings ?? [],
       brokenGroups,
       timings: { scan_s: Math.max(...parts.map((p) => p.timings.scan_s)), reduce_s: Math.max(...parts.map((p) => p.timings.reduce_s)), write_s: (Date.now() - started.getTime()) / 1000 },
-      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, selected: parts.reduce((n, p) => n + (p.period?.selected ?? 0), 0), quiet_groups: quiet, ...lateArrivalsOverall(parts) } : null,
+      shard: null, labels: first.label_columns, labelsByGroup: first.labels_by_group, period: first.period ? { ...first.period, selected: parts.reduce((n, p) => n + (p.period?.selected ?? 0), 0), quiet_groups: quiet, ...lateArrivalsOverall(parts), ...gapOverall(parts) } : null,
       damage: store.damage, cutShort: store.cutShort, compacted: false, outputs: { rewritten: written.rewritten, digest: written.digest, written_by_run: written.writtenBy }, tookOver: lock.tookOver, leftovers,
       merged: { shards: n, arrived_during_shards: arrived },
     });
     await writeRunRecord(outDir, 'run.json', record);
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
+    // What the merged tables hold reaches to the earliest end among the parts (parts written before they kept it: nothing said).
+    if (parts.every((p) => p.covered_until)) await keepMergeCover(outDir, Math.min(...parts.map((p) => Date.parse(p.covered_until!))));
     failed = false;
     return { record, quality: written.quality };
   } finally {
@@ -128,6 +134,12 @@ function presentOverall(parts: RunRecord[], store: Store): Map<string, string> {
     else for (const r of store.entries.keys()) if (!present.has(r) && shardOf(r, p.shard!.n) === p.shard!.k) present.set(r, store.get(r)!.group);
   }
   return present;
+}
+
+/** Every shard's gap before the period as one: the recordings no finished shard's run covered (none when no shard found one). */
+function gapOverall(parts: RunRecord[]): { gap?: NonNullable<ReturnType<typeof combinedGap>> } {
+  const gap = combinedGap(parts.map((p) => p.period?.gap));
+  return gap ? { gap } : {};
 }
 
 /** Every shard's late arrivals as one (none when the shards kept none). */

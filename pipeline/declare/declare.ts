@@ -13,7 +13,7 @@ import { packageRoot } from './package-files.js';
 import { checkSpec } from './check-spec.js';
 import { NO_QUANTITY_USES, quantityNote, unitNote, type QuantityUses } from './quantity-uses.js';
 import { brokenGroup, groupName, groupOfProblem, readablePattern } from './broken-group.js';
-import { groupProblems, type LabelsSeen } from './group-problems.js';
+import { groupProblems, labelClashes, labelsOf, type LabelsSeen } from './group-problems.js';
 import { formatProblems, parseYaml, parseYamlProblems, schemaProblems, UsageError, yamlText, type Problem, type YamlSource } from './yaml-file.js';
 
 export { FIXED_COLUMNS } from './group-problems.js';
@@ -77,6 +77,9 @@ function declareGroup(g: RawGroup, gi: number, source: YamlSource, uses: Quantit
   return { group, notes };
 }
 
+/** A group's labels, one per spelling without regard to case (the group's own clashes are told by groupProblems). */
+const firstSpellings = (labels: string[]): string[] => labels.filter((l, i) => labels.findIndex((m) => m.toLowerCase() === l.toLowerCase()) === i);
+
 /**
  * archive.yaml as a run reads it. A group holding a problem (a key the schema refuses, a reversed range, a channel named
  * twice, a label that clashes) is kept as broken: it still claims the files its pattern matches, which fail with its
@@ -100,17 +103,25 @@ export async function readArchiveDeclaration(archive: string, reserved: readonly
   let stop = false;
   const notes: string[] = [];
   const names = new Set<string>();
+  const groupNames = rawGroups.map((g: unknown, gi) => groupName(g, gi));
+  const refusedIn = rawGroups.map((_, gi) => refusedBySchema.filter((p) => groupOfProblem(p) === gi));
+  // Looked for in a group the schema refused too, so that every problem of the group is told at once.
+  const foundIn = rawGroups.map((g: unknown, gi) => groupProblems(g, gi, groupNames[gi], source, reserved, refusedIn[gi]));
+  // Labels differing only in case across groups: a group broken already is left out of the others' checks (it is set aside,
+  // so its labels make no column), and its own clashes with the usable groups are listed with its problems.
   const labelsSeen: LabelsSeen = new Map();
+  const brokenAlready = rawGroups.map((_, gi) => refusedIn[gi].length > 0 || foundIn[gi].length > 0);
+  for (const pass of [false, true]) {
+    rawGroups.forEach((g: unknown, gi) => { if (brokenAlready[gi] === pass) foundIn[gi].push(...labelClashes(firstSpellings(labelsOf(g)), gi, groupNames[gi], source, labelsSeen)); });
+  }
   const groups = rawGroups.map((g: unknown, gi): GroupDeclaration => {
-    const name = groupName(g, gi);
+    const name = groupNames[gi];
     if (names.has(name)) {
       everything.push(source.problem(['groups', gi, 'name'], `group name "${name}" is used twice; give each group its own name`));
       stop = true;
     }
     names.add(name);
-    const refused = refusedBySchema.filter((p) => groupOfProblem(p) === gi);
-    // Looked for in a group the schema refused too, so that every problem of the group is told at once.
-    const found = groupProblems(g, gi, name, source, reserved, labelsSeen, refused);
+    const refused = refusedIn[gi], found = foundIn[gi];
     everything.push(...found);
     if (!refused.length && !found.length) {
       const declared = declareGroup(g as RawGroup, gi, source, uses);

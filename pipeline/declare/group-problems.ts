@@ -17,6 +17,23 @@ const sectionOf = (v: unknown): Fields | null => (v !== null && typeof v === 'ob
 /** A mapping's keys and values; anything else (a list, a number, nothing) holds none. */
 const fieldsOf = (v: unknown): Fields => sectionOf(v) ?? {};
 
+/** A group's labels as written (none when it has no mapping of them). */
+export const labelsOf = (g: unknown): string[] => Object.keys(fieldsOf(fieldsOf(g).labels));
+
+/**
+ * The labels of group `gi` that differ only in case from one in `seen` (its own earlier ones, or another group's), each a
+ * problem; the others are added to `seen`.
+ */
+export function labelClashes(labels: readonly string[], gi: number, name: string, source: YamlSource, seen: LabelsSeen): Problem[] {
+  const problems: Problem[] = [];
+  for (const label of labels) {
+    const earlier = seen.get(label.toLowerCase());
+    if (earlier && earlier.label !== label) problems.push(source.problem(['groups', gi, 'labels', label], `label "${label}" differs from the label "${earlier.label}" ${earlier.group === name ? 'of the same group' : 'of another group'} only in case, and SQL readers take them as one column; spell them alike`, true));
+    else if (!earlier) seen.set(label.toLowerCase(), { label, group: name });
+  }
+  return problems;
+}
+
 /** How many names a "one or a list" key gives (datasets, variables). */
 const countOf = (v: unknown): number => (Array.isArray(v) ? v.length : 1);
 
@@ -36,23 +53,24 @@ const refusedIn = (refused: readonly Problem[], path: (string | number)[]): bool
 /**
  * The problems of group `gi` that its schema does not catch. `g` is the group as written, of any shape: a value of the wrong
  * type is the schema's to name (`refused`: its problems in this group), so the checks that read it pass over it, and a key
- * is not said to be missing from a mapping where the schema refused one. `labelsSeen` gathers the labels of every group.
+ * is not said to be missing from a mapping where the schema refused one. Its labels are held against the table's columns and
+ * against each other; against other groups' labels by `labelClashes`, once it is known which groups are broken.
  */
-export function groupProblems(g: unknown, gi: number, name: string, source: YamlSource, reserved: readonly string[], labelsSeen: LabelsSeen, refused: readonly Problem[] = []): Problem[] {
+export function groupProblems(g: unknown, gi: number, name: string, source: YamlSource, reserved: readonly string[], refused: readonly Problem[] = []): Problem[] {
   const problems: Problem[] = [];
   const at = (...p: (string | number)[]) => ['groups', gi, ...p];
   // Where a key may be missing only because it is misspelt, the schema's unknown key says all there is.
   const sure = (...paths: (string | number)[][]) => !paths.some((p) => refusedIn(refused, at(...p)));
   const group = fieldsOf(g);
+  const own: LabelsSeen = new Map();
   for (const label of Object.keys(fieldsOf(group.labels))) {
     // SQL readers (DuckDB, SQLite, most databases) take column names without regard to case: "Quality" is "quality" there.
     const same = (n: string) => n.toLowerCase() === label.toLowerCase();
-    const fixed = FIXED_COLUMNS.find(same), other = reserved.find(same), earlier = labelsSeen.get(label.toLowerCase());
+    const fixed = FIXED_COLUMNS.find(same), other = reserved.find(same);
     const column = (n: string) => (n === label ? 'column of that name' : `column ${n} (SQL readers take names without regard to case, so "${label}" is "${n}" there)`);
     if (fixed) problems.push(source.problem(at('labels', label), `label "${label}" would clash with the ${column(fixed)}; rename the label`, true));
     else if (other) problems.push(source.problem(at('labels', label), `label "${label}" would clash with features.parquet's ${column(other)} under this reduction spec; rename the label`, true));
-    else if (earlier && earlier.label !== label) problems.push(source.problem(at('labels', label), `label "${label}" differs from the label "${earlier.label}" ${earlier.group === name ? 'of the same group' : 'of another group'} only in case, and SQL readers take them as one column; spell them alike`, true));
-    else labelsSeen.set(label.toLowerCase(), { label, group: name });
+    else problems.push(...labelClashes([label], gi, name, source, own));
   }
   const channels = Array.isArray(group.channels) ? group.channels.map(fieldsOf) : null;
   const channelNames = new Set<string>();

@@ -5,7 +5,7 @@ import { isMap, isPair, isScalar, LineCounter, parseDocument, visit, type Docume
 import { didYouMean, likelyMeant } from './nearest-names.js';
 import { readSchema } from './package-files.js';
 import { keysAllowedAt } from './schema-keys.js';
-import { retiredKey } from './retired-keys.js';
+import { retiredBelow, retiredKey } from './retired-keys.js';
 import { archive, reduction } from './schema-validators.js';
 import { syntaxHint } from './yaml-syntax-hint.js';
 
@@ -60,7 +60,9 @@ function describeAjv(e: ErrorObject, schema: object | null): { path: (string | n
   switch (e.keyword) {
     case 'additionalProperties': {
       const at = [...path, e.params.additionalProperty];
-      return { path: at, key: true, message: retiredKey(at) ?? unknownKey(e.params.additionalProperty, schema ? keysAllowedAt(schema, path) : []) };
+      // A retired key written one level up is still answered with what replaced it, beside the keys allowed where it stands.
+      const below = retiredBelow(at);
+      return { path: at, key: true, message: retiredKey(at) ?? `${unknownKey(e.params.additionalProperty, schema ? keysAllowedAt(schema, path) : [])}${below ? `; ${below}` : ''}` };
     }
     case 'required':
       return { path, key: false, message: `missing required key "${e.params.missingProperty}"` };

@@ -128,16 +128,25 @@ export interface Lock { path: string; tookOver: TakenOver | null; release(): voi
 
 /**
  * Takes the lock at `path` for `me`. Taking over a stale lock happens under a short-lived mutex folder, so two runs
- * that find the same stale lock do not both take it.
+ * that find the same stale lock do not both take it. `claimed` is handed the lock's release the moment the file is
+ * created, before it is filled, so that a stop on a signal set up before the lock is taken removes it however soon it comes.
  */
-export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started' | 'process'>, { staleAfterMs = STALE_LOCK_AFTER_MS } = {}): Promise<Lock> {
+export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid' | 'started' | 'process'>, { staleAfterMs = STALE_LOCK_AFTER_MS, claimed }: { staleAfterMs?: number; claimed?: (release: () => void) => void } = {}): Promise<Lock> {
   await makeFolder(dirname(path));
   const holder: LockHolder = { host: hostname(), pid: process.pid, started: new Date().toISOString(), ...me, process: await processIdentity(process.pid) };
   const text = JSON.stringify(holder, null, 2) + '\n';
+  let beat: ReturnType<typeof setInterval> | undefined;
+  // At once, so that a run stopped by a signal releases it before it exits (stop-on-signal.ts); while it is being filled
+  // its text is a beginning of this run's.
+  const release = () => {
+    clearInterval(beat);
+    try { const now = readFileSync(path, 'utf8'); if (now === text || (now.length < text.length && text.startsWith(now))) rmSync(path, { force: true }); } catch { /* already gone */ }
+  };
   let tookOver: TakenOver | null = null;
   for (let attempt = 0; ; attempt++) {
     try {
       const fh = await open(path, 'wx');
+      claimed?.(release);
       try { await fh.writeFile(text); } finally { await fh.close(); }
       break;
     } catch (e) {
@@ -175,13 +184,8 @@ export async function takeLock(path: string, me: Omit<LockHolder, 'host' | 'pid'
       await rmdir(mutex).catch(() => {});
     }
   }
-  const beat = setInterval(() => { const t = new Date(); utimes(path, t, t).catch(() => {}); }, HEARTBEAT_MS);
+  beat = setInterval(() => { const t = new Date(); utimes(path, t, t).catch(() => {}); }, HEARTBEAT_MS);
   beat.unref();
-  // At once, so that a run stopped by a signal releases it before it exits (stop-on-signal.ts).
-  const release = () => {
-    clearInterval(beat);
-    try { if (readFileSync(path, 'utf8') === text) rmSync(path, { force: true }); } catch { /* already gone */ }
-  };
   return { path, tookOver, release };
 }
 

@@ -5,6 +5,7 @@ import { toolVersion } from '../declare/package-files.js';
 import type { Decision } from '../plan/reuse.js';
 import { lastCapture, quietWhy, type CaptureDue, type QuietGroup, type Shard } from '../select/select.js';
 import { lateArrivalLines, type LateArrivals } from '../select/late-arrivals.js';
+import { gapLines, type PeriodGap } from '../select/period-gap.js';
 import { periodLine } from '../select/period-text.js';
 import type { Damage } from '../store/pack.js';
 import { cutShortLine, type PackCut } from '../store/pack-cut.js';
@@ -44,7 +45,7 @@ export interface RunRecord {
    * With --since alone (no --until, no shard): the stored recordings recomputed because they held baseline places stored under
    * another version, other options or another declaration (none: nothing was stale).
    */
-  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals; recomputed_for_baselines?: RecomputedForBaselines; recomputed_for_held_changes?: RecomputedForHolds } | null;
+  period: { since: number | null; until: number | null; selected: number; quiet_groups?: QuietGroup[]; capture_due?: CaptureDue[]; late_arrivals?: LateArrivals; gap?: PeriodGap; recomputed_for_baselines?: RecomputedForBaselines; recomputed_for_held_changes?: RecomputedForHolds } | null;
   /** Label columns and each group's labels, so that `quern merge` can assemble parts as one run would. */
   label_columns: string[];
   labels_by_group: Record<string, Record<string, string>>;
@@ -68,6 +69,11 @@ export interface RunRecord {
    * `quern merge` holds the trends' history to the recordings present (absent from parts written before this was kept).
    */
   unselected?: { recording: string; group: string }[];
+  /**
+   * A shard's: the end of the starts its part holds (its scan's start, or --until before it), which `quern merge` keeps as
+   * what its tables covered, for the next run's gap before its period (absent from parts written before this was kept).
+   */
+  covered_until?: string;
   /** Stored entries found damaged (bad checksum, cut short, unreadable): each recording concerned was recomputed. */
   /** Packs shorter than the run that last wrote them left them (a truncated copy): where each ends now, and what was lost past it. */
   store: { damaged: { file: string; offset: number; bytes: number; recording: string | null; problem: string }[]; cut_short: PackCut[]; compacted: boolean };
@@ -100,7 +106,7 @@ export function runLine(f: EntryFacts, group: string, d: Pick<Decision, 'compute
 
 export interface RunFacts {
   runId: string; started: Date; archive: string; out: string; spec: LoadedSpec; scanned: number; unmatched: string[];
-  lines: RunLine[]; settling: Settling[]; declarationNotes: string[]; groupsWithoutRecordings: string[]; brokenGroups: BrokenGroup[]; unselected?: RunRecord['unselected']; timings: { scan_s: number; reduce_s: number; write_s: number };
+  lines: RunLine[]; settling: Settling[]; declarationNotes: string[]; groupsWithoutRecordings: string[]; brokenGroups: BrokenGroup[]; unselected?: RunRecord['unselected']; coveredUntil?: string; timings: { scan_s: number; reduce_s: number; write_s: number };
   shard: Shard | null; labels: string[]; labelsByGroup: Record<string, Record<string, string>>;
   period: RunRecord['period']; damage: Damage[]; cutShort: PackCut[]; compacted: boolean; outputs: RunRecord['outputs']; tookOver: TakenOver | null;
   /** Temporary files a stopped run left, removed before this run began. */
@@ -126,6 +132,7 @@ export function runRecord(f: RunFacts): RunRecord {
     declaration_notes: f.declarationNotes, groups_without_recordings: f.groupsWithoutRecordings, broken_groups: f.brokenGroups,
     settling: f.settling,
     ...(f.unselected ? { unselected: f.unselected } : {}),
+    ...(f.coveredUntil ? { covered_until: f.coveredUntil } : {}),
     store: { damaged: f.damage.map((d) => ({ file: d.file, offset: d.offset, bytes: d.length, recording: d.recording, problem: d.problem })), cut_short: f.cutShort, compacted: f.compacted },
     outputs: f.outputs,
     lock: { took_over: f.tookOver, leftovers_removed: f.leftovers },
@@ -198,6 +205,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   for (const b of r.broken_groups ?? []) lines.push(`  DECLARED ${brokenGroupLine(b)}`);
   for (const n of r.declaration_notes ?? []) lines.push(`  DECLARED ${n}`);
   if (r.period?.late_arrivals) lines.push(...lateArrivalLines(r.period.late_arrivals));
+  lines.push(...gapLines(r.period?.gap));
   if (r.period?.recomputed_for_baselines) lines.push(...recomputedLines(r.period.recomputed_for_baselines));
   if (r.period?.recomputed_for_held_changes) lines.push(...carriedLines(r.period.recomputed_for_held_changes));
   for (const g of quietGroupsOf(r)) lines.push(`  QUIET   group ${g.group}: ${quietWhy(g, 'this period')}; ${lastCapture(g)}`);

@@ -112,7 +112,30 @@ async function resync(file: string, w: Window, from: number): Promise<number> {
   return w.size;
 }
 
-/** Every sound record of a pack in file order, and every damaged stretch; a missing pack has neither. */
+/**
+ * Where the damaged records of the stretch [pos, next) start: `pos`, and every later record header whose own length chains
+ * to `next` through headers that do too (a header's length read as it stands: damaged ones rarely chain exactly). So
+ * adjacent damaged entries count one each, while bytes that start no record stay in the stretch before them.
+ */
+async function damagedStarts(w: Window, pos: number, next: number): Promise<number[]> {
+  const heads: number[] = [];
+  for (let at = pos + 1; at < next;) {
+    const span = await w.at(at, Math.min(WINDOW / 2, next - at));
+    if (!span) break;
+    let hit = span.indexOf(MAGIC_BYTES);
+    while (hit >= 0 && at + hit + 4 <= next) { heads.push(at + hit); hit = span.indexOf(MAGIC_BYTES, hit + 1); }
+    at += Math.max(1, span.length - 3);
+  }
+  const starts = new Set([next]);
+  for (const h of [...new Set(heads)].sort((a, b) => b - a)) {
+    const head = await w.at(h, HEADER_BYTES);
+    if (head && starts.has(h + HEADER_BYTES + head.readUInt32LE(4) + head.readUInt32LE(8))) starts.add(h);
+  }
+  starts.delete(next);
+  return [pos, ...[...starts].sort((a, b) => a - b)];
+}
+
+/** Every sound record of a pack in file order, and every damaged stretch (one an entry); a missing pack has neither. */
 export async function scanPack(file: string, onRecord: (r: Located) => void): Promise<{ damage: Damage[]; size: number }> {
   let fh: FileHandle;
   try { fh = await open(file, 'r'); } catch (e) {
@@ -126,7 +149,13 @@ export async function scanPack(file: string, onRecord: (r: Located) => void): Pr
       const c = await check(file, w, pos);
       if (c.ok) { onRecord(c.located); pos += c.located.length; continue; }
       const next = await resync(file, w, pos + 1);
-      damage.push({ file, offset: pos, length: next - pos, recording: c.recording ?? await recordingIn(w, pos, next), problem: c.problem });
+      const starts = await damagedStarts(w, pos, next);
+      for (const [i, at] of starts.entries()) {
+        const end = starts[i + 1] ?? next;
+        const d = i === 0 ? c : await check(file, w, at);
+        const problem = d.ok ? 'damaged' : d.problem, recording = d.ok ? null : d.recording;
+        damage.push({ file, offset: at, length: end - at, recording: recording ?? await recordingIn(w, at, end), problem });
+      }
       pos = next;
     }
     return { damage, size: w.size };

@@ -8,6 +8,7 @@ import { EntryTable, type StoredEntry } from './entry-table.js';
 import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } from './pack.js';
 import { lostPast, packCut, type CutPack, type PackCut } from './pack-cut.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
+import { coverEnd } from '../select/period-gap.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
@@ -15,9 +16,14 @@ const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
 /** Beside a pack: when the last run that wrote it began its scan (ISO 8601), and what it saw and left out. */
 const SCAN_MARK = '.scanned';
 const MARK = /^entries(-\d+-of-\d+)?\.pack\.scanned$/;
+/** What quern merge's finished merges covered: the end of the starts its tables held (shards' parts count only once merged). */
+const MERGE_COVER = 'merged.covered';
 
-/** What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). */
-export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number> }
+/**
+ * What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). `coveredUntil`:
+ * the end of the starts the finished whole runs and merges put in the tables (null: none said), for the gap before a period.
+ */
+export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number>; coveredUntil: number | null }
 
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
@@ -34,6 +40,23 @@ const shaBytes = (hex: string) => Buffer.from(hex, 'hex');
 
 /** The scan mark beside pack `file`, parsed, or null (none, or unreadable). */
 const readMark = (file: string): Promise<unknown> => readFile(`${file}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null);
+
+/** The end of the starts a mark's finished runs covered: its `covered_until`, or (a mark written before it was kept) its scan's start; -Infinity: none. */
+function coveredOf(mark: unknown): number {
+  const m = (mark ?? {}) as { scan_started?: string; covered_until?: string };
+  const t = [Date.parse(m.covered_until ?? ''), Date.parse(m.scan_started ?? '')].find(Number.isFinite);
+  return t ?? -Infinity;
+}
+
+/**
+ * Keeps what a finished merge put in the tables: starts before `untilMs` (the earliest end among its parts), or what earlier
+ * merges covered when that is later.
+ */
+export async function keepMergeCover(out: string, untilMs: number): Promise<void> {
+  const file = join(cacheDir(out), MERGE_COVER);
+  const before = await readFile(file, 'utf8').then((t) => Date.parse(JSON.parse(t).covered_until), () => NaN);
+  await writeFileAtomic(file, JSON.stringify({ covered_until: new Date(Number.isFinite(before) ? Math.max(before, untilMs) : untilMs).toISOString() }) + '\n');
+}
 
 export class Store {
   private fh: FileHandle | null = null;
@@ -92,6 +115,9 @@ export class Store {
     const names = (await readdir(dir).catch(() => [] as string[])).filter((f) => MARK.test(f)).sort();
     let latestMs: number | null = null;
     const leftOut = new Map<string, number>();
+    // A shard's part counts once merged: the merge keeps its cover, a whole run its own in its mark.
+    const merged = await readFile(join(dir, MERGE_COVER), 'utf8').then((t) => Date.parse(JSON.parse(t).covered_until), () => NaN);
+    let coveredUntil: number | null = Number.isFinite(merged) ? merged : null;
     for (const name of names) {
       const mark = await readFile(join(dir, name), 'utf8').then((t) => JSON.parse(t), () => null);
       const ms = Date.parse(mark?.scan_started);
@@ -99,18 +125,22 @@ export class Store {
       if (!Number.isFinite(ms) || !Array.isArray(mark.left_out)) continue;
       latestMs = Math.max(latestMs ?? ms, ms);
       for (const r of mark.left_out) if (typeof r === 'string' && !(leftOut.get(r)! > ms)) leftOut.set(r, ms);
+      if (name === `${packName(null)}${SCAN_MARK}`) coveredUntil = Math.max(coveredUntil ?? -Infinity, coveredOf(mark));
     }
-    return { latestMs, leftOut };
+    return { latestMs, leftOut, coveredUntil };
   }
 
   /**
    * Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack,
    * replaced whole; with the pack's length and entry count, by which the next run tells a pack cut short.
    */
-  async markScanned(ms: number, leftOut: readonly string[]): Promise<void> {
+  async markScanned(ms: number, leftOut: readonly string[], until: number | null = null): Promise<void> {
     if (!this.own) return;
     await mkdir(dirname(this.own), { recursive: true });
-    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), left_out: leftOut, ...await this.packEnd() }));
+    // A whole run's tables cover up to its scan; what they covered only grows (a bounded run over an old week takes nothing
+    // from the nights before it). A shard's part counts once merged (keepMergeCover).
+    const cover = basename(this.own) === packName(null) ? { covered_until: new Date(Math.max(await readMark(this.own).then(coveredOf, () => -Infinity), coverEnd(ms, until))).toISOString() } : {};
+    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), ...cover, left_out: leftOut, ...await this.packEnd() }));
   }
 
   /** This run's pack's length and sound entries now. */
