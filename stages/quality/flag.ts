@@ -28,6 +28,12 @@ export interface Flag {
    * why, and what to declare. The run names such checks apart, so that ok is not read as checked.
    */
   not_assessed?: string;
+  /**
+   * Where the channel has figures read from the shared spectrum, the severity and message then, when they differ (the dropout
+   * flag's spectrum share). The results' assembly chooses (`forFigures`), so a stored quality result holds whichever spectral
+   * sections the spec turns on, and toggling one recomputes no quality flag.
+   */
+  spectral?: { severity: Severity; message: string };
 }
 
 const RANK: Record<Severity, number> = { ok: 0, note: 1, warn: 2, fail: 3 };
@@ -118,6 +124,20 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // intervals, a train that is mostly faults (fail). Our choices.
   pulse_train: { warn_coverage: 0.8, fail_coverage: 0.5, warn_fault_ratio: 0.1, fail_fault_ratio: 1 },
 };
+
+/** The feature groups whose figures read the channel's shared spectrum (sound_level: LAeq's weighting shortfall). */
+export const SPECTRAL_GROUPS: readonly string[] = ['spectrum', 'bands', 'octave_bands', 'velocity_bands', 'orders', 'sound_level'];
+
+/** Whether the channel has figures from the shared spectrum: one of those groups, among `groups`, gave it a column. */
+export const hasSpectralFigures = (outputs: Record<string, { columns: Record<string, unknown>[] }>, groups: readonly string[], c: number) =>
+  groups.some((g) => SPECTRAL_GROUPS.includes(g) && Object.keys(outputs[g]?.columns[c] ?? {}).length > 0);
+
+/** The flag as the channel's figures have it: its spectral wording where the channel has spectral figures, never the choice itself. */
+export function forFigures(f: Flag, spectral: boolean): Flag {
+  if (!f.spectral) return f;
+  const { spectral: when, ...plain } = f;
+  return spectral ? { ...plain, ...when } : plain;
+}
 
 export type QualitySpec = { [K in keyof QualityThresholds]?: Partial<QualityThresholds[K]> };
 
