@@ -16,7 +16,7 @@ export interface ReductionSpec {
   windows?: { length_s?: number; hop_s?: number } & Only;
   time_weighting_s?: number[] | ({ constants_s: number[] } & Only);
   mtvv?: { integration_s?: number } & Only;
-  envelope?: { filter: FilterSpec } & Only;
+  envelope?: { filter: FilterSpec; min_prominence_db?: number } & Only;
   sound_level?: Only;
   rainflow?: { slope?: number; gate?: number; bins?: { range_width?: number; mean_width?: number } } & Only;
   orders?: { orders?: number[]; width?: number; min_rpm?: number } & Only;

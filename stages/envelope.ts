@@ -10,15 +10,25 @@ import { FusedPass } from './fused/pass.js';
 import { EdgeTrim } from './dsp/trim.js';
 import { Welch, type WelchOptions } from './dsp/welch.js';
 import { peakBin } from './spectrum.js';
+import { lineProminenceDb } from './dsp/line-prominence.js';
+import { chanceLineDb } from './dsp/chance-line.js';
 import { scratchOf, type StageDefinition } from './stage.js';
 
-export interface EnvelopeOptions { filter: FilterSpec; spectrum: WelchOptions }
+export interface EnvelopeOptions { filter: FilterSpec; spectrum: WelchOptions; min_prominence_db: number }
+
+/**
+ * How far the envelope spectrum's largest line must stand above the median of the bins around it (dB) for its frequency to
+ * be given, at the least: a line of four times the floor's power (our choice). A spectrum averaging few segments needs more,
+ * its chance level (chanceLineDb): the largest of noise's bins reaches 12.5 dB over their median from one segment, 1.7 dB from
+ * some hundred (measured, band-limited white noise).
+ */
+export const MIN_PROMINENCE_DB = 6;
 
 /** Transform length and tapered ramp of the envelope's blocks (at least; longer filters get longer blocks). */
 export const ENVELOPE_BLOCK = 4096;
 export const ENVELOPE_RAMP = 256;
 
-const EMPTY = { filtered_rms: null, env_mean: null, env_rms: null, env_peak: null, env_dominant_frequency: null };
+const EMPTY = { filtered_rms: null, env_mean: null, env_rms: null, env_peak: null, env_dominant_frequency: null, env_dominant_prominence_db: null };
 
 export const envelope: StageDefinition<EnvelopeOptions> = {
   group: 'envelope',
@@ -30,7 +40,8 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
       { name: 'env_mean', unit: '[unit]', description: 'Mean of the envelope (magnitude of the analytic signal of the filtered signal).' },
       { name: 'env_rms', unit: '[unit]', description: 'RMS of the envelope.' },
       { name: 'env_peak', unit: '[unit]', description: 'Largest envelope value.' },
-      { name: 'env_dominant_frequency', unit: 'Hz', description: 'Frequency of the largest bin above DC of the envelope\'s Welch PSD.' },
+      { name: 'env_dominant_frequency', unit: 'Hz', description: `Frequency of the largest bin above DC of the envelope's Welch PSD, where it stands at least ${o.min_prominence_db} dB above the median of the bins around it (env_dominant_prominence_db), and above the level the largest of noise's bins reaches by chance once in a thousand spectra averaging as many segments; null where no line stands out (noise).` },
+      { name: 'env_dominant_prominence_db', unit: 'dB', description: 'How far the largest bin above DC of the envelope\'s Welch PSD stands above the median of the 50 bins either side of it (its own main lobe, ±2 bins, and DC left out).' },
     ];
   },
   create(ctx, o) {
@@ -113,9 +124,13 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
           return { ...EMPTY, filtered_rms: f.rms };
         }
         const psd = envSpectrum.result();
+        // The largest line is a repetition rate only where it stands out of the envelope's own noise: plain noise has a largest bin too.
+        const k = psd && psd.density.length > 2 ? peakBin(psd.density) : -1;
+        const prominence = k > 0 ? lineProminenceDb(psd!.density, k) : null;
         return {
           filtered_rms: f.rms, env_mean: e.mean, env_rms: e.rms, env_peak: e.max,
-          env_dominant_frequency: psd && psd.density.length > 2 ? peakBin(psd.density) * psd.df : null,
+          env_dominant_frequency: prominence != null && prominence >= Math.max(o.min_prominence_db, chanceLineDb(psd!.segments, psd!.density.length - 1, o.spectrum)) ? k * psd!.df : null,
+          env_dominant_prominence_db: prominence,
         };
       },
     };

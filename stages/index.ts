@@ -3,7 +3,7 @@ import type { ChannelSelector, ReductionSpec } from '../spec/reduction.js';
 import { bands } from './bands.js';
 import type { FilterSpec } from './dsp/butterworth.js';
 import type { WelchOptions } from './dsp/welch.js';
-import { envelope } from './envelope.js';
+import { envelope, MIN_PROMINENCE_DB } from './envelope.js';
 import { mtvv } from './mtvv.js';
 import { octaveBands } from './octave.js';
 import { rainflow } from './rainflow.js';
@@ -64,7 +64,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   if (spec.mtvv) out.push({ definition: mtvv, options: { integration_s: spec.mtvv.integration_s ?? 1 }, only: spec.mtvv.only });
   if (spec.envelope) {
     const filter: FilterSpec = { zero_phase: false, ...spec.envelope.filter };
-    out.push({ definition: envelope, options: { filter, spectrum: welch }, only: spec.envelope.only });
+    out.push({ definition: envelope, options: { filter, spectrum: welch, min_prominence_db: spec.envelope.min_prominence_db ?? MIN_PROMINENCE_DB }, only: spec.envelope.only });
   }
   if (spec.sound_level) {
     const only = spec.sound_level.only ?? { quantities: ['sound_pressure'] };

@@ -82,3 +82,74 @@ describe('clean signals stay clean', () => {
     expect(flattening(Math.SQRT1_2, 1, null, { count: 1, samples: 4000 })).toBeNull();
   });
 });
+
+// Recordings and references: test/fixtures/make-flat-top-vectors.py (numpy's counts, scipy.signal.resample_poly's 4× peaks).
+const flatRef = readJson(fixture('flat-top-vectors.json'));
+type FlatCase = PeakCase & { middle: number; top: number; near_below: number; interpolated_excursion: number; interpolated_min: number; interpolated_max: number };
+const flatCases = flatRef.cases as Record<string, FlatCase>;
+
+async function reduceFlat(name: string) {
+  const c = flatCases[name];
+  const decl: ChannelDeclaration = { name: 'ch', quantity: 'acceleration', unit: 'm/s^2', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null, ...c.channel };
+  const r = await reduceRecording({ recording: name, path: fixture('flat-top', `${name}.wav`), group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames: 1000 });
+  expect(r.reason).toBeUndefined();
+  return { row: r.rows[0] as Record<string, any>, flag: r.quality[0].flags.find((f) => f.name === 'peak_capture') as Flag, flags: r.quality[0].flags };
+}
+
+describe('a range not centred on zero: each end held to its own (scipy.signal.resample_poly for the excursion)', () => {
+  it('a 0–16 bar channel compressed toward 0.15 bar at its low end: flattened, though by magnitude the interpolated peak stays far below 16', async () => {
+    const c = flatCases.pressure_low_end;
+    // scipy's 4× interpolation reaches below 0 − 10 % of the half-span (−0.8 bar), while no magnitude nears 16 · 1.1.
+    expect(c.interpolated_min).toBeLessThan(-0.8);
+    expect(c.top * (1 + FLATTENED_MARGIN)).toBeLessThan(16);
+    const { flag, row } = await reduceFlat('pressure_low_end');
+    expect(flag.severity).toBe('warn');
+    expect(flag.message).toMatch(/flattened near an end of its limits/);
+    expect(flag.evidence.range_middle).toBe(8);
+    expect(flag.evidence.limit).toBe(8);
+    expect(Math.abs((flag.evidence.interpolated_excursion as number) / c.interpolated_excursion - 1)).toBeLessThan(0.02);
+    expect(row.true_peak).toBeNull();
+  });
+
+  it('the same channel uncompressed reads clean, its true peak within 0.5 % of scipy\'s', async () => {
+    const c = flatCases.pressure_clean;
+    const { flag, row } = await reduceFlat('pressure_clean');
+    expect(flag.message).not.toMatch(/flattened/);
+    expect(Math.abs(row.true_peak / Math.max(Math.abs(c.interpolated_min), c.interpolated_max) - 1)).toBeLessThan(0.005);
+  });
+});
+
+describe('a flat top on a channel without range or bits, holding a tenth of the samples or more', () => {
+  it.each(['sine_clipped_norange', 'noise_clipped_norange'])('%s: flattened by its repeats and the values just below them (numpy\'s counts), with no overshoot past the margin', async (name) => {
+    const c = flatCases[name];
+    // The interpolated peak (scipy) stays within the 10 % margin of the largest sample, which alone misses it.
+    expect(c.interpolated_excursion).toBeLessThan(c.top * (1 + FLATTENED_MARGIN));
+    expect(c.top_repeats / 6400).toBeGreaterThanOrEqual(0.1);
+    expect(c.near_below).toBeGreaterThan(0);
+    const { flag, row } = await reduceFlat(name);
+    expect(flag.severity).toBe('warn');
+    expect(flag.evidence.largest_sample_repeats).toBe(c.top_repeats);
+    expect(flag.message).toMatch(/flattened at its largest value: \d+ samples \([\d.]+ %\) sit at .* reached smoothly/);
+    expect(row.true_peak).toBeNull();
+  });
+
+  it.each(['locked_tone_norange', 'coarse_sine_norange', 'square_norange'])('%s: its largest magnitude holds a tenth of the samples, but only exact values come near it: clean', async (name) => {
+    const c = flatCases[name];
+    expect(c.top_repeats / 6400).toBeGreaterThanOrEqual(0.1);
+    expect(c.near_below).toBe(0);
+    const { flag } = await reduceFlat(name);
+    expect(flag.message).not.toMatch(/flattened/);
+  });
+
+  it('the rule itself: a top held by a tenth or more is a flat top only where values come smoothly up to it (ours)', () => {
+    expect(flattening(1, 1, null, { count: 2000, samples: 6400, near: 3 })?.flatTop).toBe(true);
+    expect(flattening(1, 1, null, { count: 2000, samples: 6400, near: 0 })).toBeNull();
+    // Under a tenth, the overshoot rule as before.
+    expect(flattening(1, 1.2, null, { count: 100, samples: 6400, near: 0 })).not.toBeNull();
+    expect(flattening(1, 1.05, null, { count: 100, samples: 6400, near: 50 })).toBeNull();
+    // A range centred on zero keeps the magnitude rule; [0, 16] holds each end: −1 below 0 is 9 from the middle, past 8.8.
+    expect(flattening(15, 17, [-16, 16], null, undefined, undefined, undefined, 9)).toBeNull();
+    expect(flattening(15, 15, [0, 16], null, undefined, undefined, undefined, 9)?.excursion).toBe(9);
+    expect(flattening(15, 15, [0, 16], null, undefined, undefined, undefined, 8.7)).toBeNull();
+  });
+});

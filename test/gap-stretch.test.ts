@@ -3,7 +3,9 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
+import { computeRecording, reduceRecording } from '../pipeline/reduce/compute.js';
+import { assembleRecording } from '../pipeline/reduce/assemble.js';
+import { encodeWav } from '../scripts/wav-file.js';
 import { bandMeanSquare, Welch, type Psd } from '../stages/dsp/welch.js';
 import type { Flag } from '../stages/quality/flag.js';
 import { countMissing, inChunks, maxRelative, relative } from './dsp-signals.js';
@@ -86,6 +88,31 @@ describe('no gap-free segment: the longest gap-free stretch as one zero-padded p
     expect(dropout.evidence.spectrum_coverage).toBeCloseTo(0.3499, 12);
     expect(dropout.message).toMatch(/the spectrum rests on 35 % of the recording \(its longest gap-free stretch, 3499 samples from 2\.251 s\)/);
     expect(dropout.message).toMatch(/spectral figures describe only part of the recording/);
+  });
+
+  it('the same gaps where the spec computes no spectral figure: a note that says nothing of a spectrum, from the same stored quality result', async () => {
+    const c = byName('longest in the middle');
+    const path = join(tempDir(), 'x.wav');
+    writeFileSync(path, encodeWav({ sampleRate: c.fs, channels: [stretchSignal(c).map((v) => v / SCALE)], encoding: 'float32' }));
+    const job = (spec: object) => ({ recording: 'x.wav', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [channel()], labels: {}, durationS: null, spec: spec as never, chunkFrames: 8191 });
+    const withSpectrum = await computeRecording(job({ spectrum: {} })), without = await computeRecording(job({ windows: {} }));
+    // The quality group's result does not depend on the spectral sections: a reused one serves either spec.
+    expect(JSON.stringify(without.groups.quality.flags)).toBe(JSON.stringify(withSpectrum.groups.quality.flags));
+    for (const [o, spec] of [[without, { windows: {} }], [withSpectrum, { windows: {} }]] as const) {
+      const dropout = dropoutOf(assembleRecording(o, {}, spec as never).quality[0].flags);
+      // Three missing samples in 10,000 (0.03 %, under the 0.1 % that warns): a note, as the README's flag table has it.
+      expect(dropout.severity).toBe('note');
+      expect(dropout.message).not.toMatch(/spectrum rests on|spectral figures/);
+      expect(dropout.message).toMatch(/they move none by more than a fraction of a per cent/);
+      expect('spectral' in dropout).toBe(false);
+    }
+    const told = dropoutOf(assembleRecording(without, {}, { spectrum: {} } as never).quality[0].flags);
+    // The stored result of a spec without spectral figures, assembled under a spec that adds the spectrum section, has no
+    // spectrum group output to vouch for: the wording follows the figures the row actually holds.
+    expect(told.severity).toBe('note');
+    const warned = dropoutOf(assembleRecording(withSpectrum, {}, { spectrum: {} } as never).quality[0].flags);
+    expect(warned.severity).toBe('warn');
+    expect(warned.message).toMatch(/the spectrum rests on 35 % of the recording/);
   });
 
   it('whole gap-free segments spanning a tenth of the recording warn the same way', async () => {

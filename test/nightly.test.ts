@@ -18,7 +18,7 @@ async function table(path: string): Promise<Record<string, unknown>[]> {
   const db = await (await DuckDBInstance.create()).connect();
   return (await db.runAndReadAll(`select * from '${path}' order by all`)).getRowObjectsJson() as Record<string, unknown>[];
 }
-const ENVELOPE_COLUMNS = ['filtered_rms', 'env_mean', 'env_rms', 'env_peak', 'env_dominant_frequency'];
+const ENVELOPE_COLUMNS = ['filtered_rms', 'env_mean', 'env_rms', 'env_peak', 'env_dominant_frequency', 'env_dominant_prominence_db'];
 const without = (rows: Record<string, unknown>[], cols: string[]) => rows.map((r) => Object.fromEntries(Object.entries(r).filter(([k]) => !cols.includes(k))));
 
 describe('incremental re-runs', () => {

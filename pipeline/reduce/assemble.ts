@@ -1,7 +1,7 @@
 // A recording's group outputs → one row per channel, its secondary tables and its quality verdict.
 import { activeStages, featureColumns } from '../../stages/index.js';
 import type { ColumnValues } from '../../stages/stage.js';
-import { worst } from '../../stages/quality/flag.js';
+import { forFigures, hasSpectralFigures, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { rowObjects, type FeatureRow, type RecordingOutput, type RecordingResult, type SecondarySource } from './result.js';
 
@@ -37,7 +37,9 @@ export function assembleRecording(o: RecordingOutput, labels: Record<string, str
   const startTime = base.header.start_time ? Date.parse(base.header.start_time) : null;
   result.rows = base.channels.map((ch, c) => {
     // The quality flags, then any a feature group raises on its own figure (velocity's low edge), so quality.json tells both.
-    const flags = [...(o.groups.quality?.flags[c] ?? []), ...groups.filter((g) => g !== 'quality').flatMap((g) => o.groups[g].flags?.[c] ?? [])];
+    // A flag's spectral wording only where the channel has spectral figures now (the quality result is stored without that choice).
+    const spectral = hasSpectralFigures(o.groups, groups, c);
+    const flags = [...(o.groups.quality?.flags[c] ?? []).map((f) => forFigures(f, spectral)), ...groups.filter((g) => g !== 'quality').flatMap((g) => o.groups[g].flags?.[c] ?? [])];
     const severity = worst(flags.map((f) => f.severity));
     result.quality.push({ channel: ch.name, unit: ch.unit, severity, flags });
     // One object a row, filled in place (a row has some 150 keys): the fixed columns, the labels, the verdict, then every

@@ -177,7 +177,8 @@ export async function computeRecording(
     // The pictures' data are kept only for channels whose flags ask for a second look; the report draws the few it shows.
     const quality = out.groups.quality;
     if (quality) {
-      quality.evidence = quality.flags.map((flags, c) => NEEDS_A_LOOK.has(worst(flags.map((f) => f.severity)))
+      // With a flag's spectral severity too: the spec's spectral sections may change while the stored result stays.
+      quality.evidence = quality.flags.map((flags, c) => NEEDS_A_LOOK.has(worst(flags.flatMap((f) => [f.severity, f.spectral?.severity ?? 'ok'])))
         ? { data: packEvidence(Object.fromEntries([...offers[c]].map(([k, make]) => [k, make()])) as unknown as Evidence) }
         : null);
     }

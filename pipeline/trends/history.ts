@@ -1,7 +1,7 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
 // read once from the output folder's stored results and kept as compact typed arrays (about 20 bytes a recording and
 // channel, plus 10 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
-import { SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
+import { forFigures, hasSpectralFigures, SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
@@ -110,7 +110,9 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
-      const flags = e.groups.quality?.flags[c] ?? [];
+      // As the results' assembly words them: spectral wording where the stored entry gave the channel spectral figures.
+      const spectral = hasSpectralFigures(e.groups, Object.keys(e.groups), c);
+      const flags = (e.groups.quality?.flags[c] ?? []).map((f) => forFigures(f, spectral));
       b.severity.push(SEVERITIES.indexOf(worst(flags.map((f) => f.severity))));
       const failing = flags.filter((f) => f.severity === 'fail');
       b.clippedOnly.push(failing.length > 0 && failing.every((f) => f.name === 'saturation') ? 1 : 0);

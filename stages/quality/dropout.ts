@@ -30,48 +30,59 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
         const fraction = n ? missing / n : 0;
         const zeroS = longest / fs, gapS = gaps.longest / fs;
         const steps = ctx.timeSteps();
-        const problems: string[] = [], why: string[] = [];
-        let severity = 'ok' as Severity;
-        const raise = (s: Severity) => { severity = worst([severity, s]); };
-        if (missing > 0) {
-          problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}, the longest gap ${secs(gapS)} ending at ${secs((gaps.longestEnd + 1) / fs)}`);
-          const share = fraction >= d.fail_missing_fraction || gapS >= d.fail_gap_s ? 'fail' : fraction >= d.warn_missing_fraction || gapS >= d.warn_gap_s ? 'warn' : 'note';
-          raise(share);
-          // The gaps may leave the spectrum (its gap-free segments, or its longest gap-free stretch) the lesser part of the recording.
-          const psd = spectrum.psd(), coverage = spectrumCoverage(psd, n), partial = psd != null && coverage != null && coverage < d.warn_spectrum_coverage;
-          if (partial) {
-            problems.push(`the spectrum rests on ${pct(coverage)} of the recording (${psd.from !== undefined ? `its longest gap-free stretch, ${psd.length} samples from ${secs(psd.from / fs)}` : `${psd.segments} gap-free segments of ${psd.segment} samples`})`);
-            raise('warn');
+        // The gaps may leave the spectrum (its gap-free segments, or its longest gap-free stretch) the lesser part of the recording.
+        const psd = missing > 0 ? spectrum.psd() : null, coverage = spectrumCoverage(psd, n);
+        const partial = psd != null && coverage != null && coverage < d.warn_spectrum_coverage;
+        // Told only where the channel has figures from the spectrum, which the results' assembly knows (Flag.spectral): the
+        // stored verdict then holds whatever spectral sections the spec turns on.
+        const verdict = (spectral: boolean) => {
+          const problems: string[] = [], why: string[] = [];
+          let severity = 'ok' as Severity;
+          const raise = (s: Severity) => { severity = worst([severity, s]); };
+          if (missing > 0) {
+            problems.push(`${missing} samples missing (${pct(fraction)}), first at ${secs(firstMissing / fs)}, the longest gap ${secs(gapS)} ending at ${secs((gaps.longestEnd + 1) / fs)}`);
+            const share = fraction >= d.fail_missing_fraction || gapS >= d.fail_gap_s ? 'fail' : fraction >= d.warn_missing_fraction || gapS >= d.warn_gap_s ? 'warn' : 'note';
+            raise(share);
+            const told = spectral && partial;
+            if (told) {
+              problems.push(`the spectrum rests on ${pct(coverage!)} of the recording (${psd!.from !== undefined ? `its longest gap-free stretch, ${psd!.length} samples from ${secs(psd!.from / fs)}` : `${psd!.segments} gap-free segments of ${psd!.segment} samples`})`);
+              raise('warn');
+            }
+            why.push(missing === n
+              ? 'the channel has no finite samples: no figure of its signal can be computed, so those are empty (null), and flatline and peak_capture say not assessed'
+              : share === 'note'
+              ? `${TREATMENT}; so few and so short, they move ${told ? 'no other figure' : 'none'} by more than a fraction of a per cent`
+              : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
+            if (told) why.push('spectral figures describe only part of the recording (bands, octaves, velocity, dominant frequency, centroid, orders, LAeq\'s weighting shortfall, the kept spectrum)');
           }
-          why.push(missing === n
-            ? 'the channel has no finite samples: no figure of its signal can be computed, so those are empty (null), and flatline and peak_capture say not assessed'
-            : share === 'note'
-            ? `${TREATMENT}; so few and so short, they move ${partial ? 'no other figure' : 'none'} by more than a fraction of a per cent`
-            : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
-          if (partial) why.push('spectral figures describe only part of the recording (bands, octaves, velocity, dominant frequency, centroid, orders, the kept spectrum)');
-        }
-        // A channel that is zeros from end to end is no logger's gap but a dead channel, which the flatline flag fails.
-        const allZeros = n > 0 && longest === n;
-        // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
-        if (allZeros && !ctx.tacho) {
-          problems.push(`exact zeros for the whole recording (${secs(zeroS)})`);
-          raise('note');
-          why.push('no data were lost between samples: the channel never moved, which the flatline flag judges (a dead or disconnected sensor)');
-        } else if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
-          problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
-          raise('warn');
-          why.push('zeros count as samples: they pull RMS, peak and the window figures down');
-        }
-        if (steps && steps.irregular > 0) {
-          problems.push(`${steps.irregular} irregular time steps, ${widestStep(steps, secs)}`);
-          raise('warn');
-          why.push('uneven steps distort the spectrum');
-        }
+          // A channel that is zeros from end to end is no logger's gap but a dead channel, which the flatline flag fails.
+          const allZeros = n > 0 && longest === n;
+          // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
+          if (allZeros && !ctx.tacho) {
+            problems.push(`exact zeros for the whole recording (${secs(zeroS)})`);
+            raise('note');
+            why.push('no data were lost between samples: the channel never moved, which the flatline flag judges (a dead or disconnected sensor)');
+          } else if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
+            problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
+            raise('warn');
+            why.push('zeros count as samples: they pull RMS, peak and the window figures down');
+          }
+          if (steps && steps.irregular > 0) {
+            problems.push(`${steps.irregular} irregular time steps, ${widestStep(steps, secs)}`);
+            raise('warn');
+            why.push('uneven steps distort the spectrum');
+          }
+          return {
+            severity,
+            message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
+          };
+        };
+        const plain = verdict(false), withSpectrum = verdict(true);
         ctx.flag({
-          name: 'dropout', severity, value: fraction,
-          threshold: `note: any missing sample, or zeros for the whole recording (the flatline flag's); warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, the spectrum resting on < ${pct(d.warn_spectrum_coverage)} of the recording, zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
-          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null, ...(missing > 0 ? { spectrum_coverage: spectrumCoverage(spectrum.psd(), n) } : {}) },
-          message: problems.length ? `${problems.join('; ')}: ${severity === 'note' ? '' : 'the logger lost data: '}${why.join('; ')}` : 'no missing samples, zero stretches or time gaps',
+          name: 'dropout', ...plain, value: fraction,
+          threshold: `note: any missing sample, or zeros for the whole recording (the flatline flag's); warn: ≥ ${pct(d.warn_missing_fraction)} missing, a gap of ≥ ${secs(d.warn_gap_s)}, the spectrum resting on < ${pct(d.warn_spectrum_coverage)} of the recording (on a channel with spectral figures), zeros for ≥ ${secs(d.warn_zero_run_s)} (not on a tacho channel), or an irregular time step; fail: ≥ ${pct(d.fail_missing_fraction)} missing or a gap of ≥ ${secs(d.fail_gap_s)}`,
+          evidence: { missing, first_missing_s: firstMissing >= 0 ? firstMissing / fs : null, longest_gap_s: gapS, zero_run_s: zeroS, irregular_steps: steps?.irregular ?? null, ...(missing > 0 ? { spectrum_coverage: coverage } : {}) },
+          ...(partial ? { spectral: withSpectrum } : {}),
         });
         return { missing_fraction: fraction, zero_run_s: zeroS };
       },

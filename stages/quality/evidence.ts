@@ -39,7 +39,7 @@ export const unpackEvidence = (p: PackedEvidence): Evidence => ({
   trend: { ...p.trend, rms: listOf(p.trend.rms) },
 });
 
-const BINS = 120;
+export const BINS = 120;
 const TREND_WINDOW_S = 0.1;
 const MAX_POINTS = 600;
 

@@ -28,6 +28,12 @@ export interface Flag {
    * why, and what to declare. The run names such checks apart, so that ok is not read as checked.
    */
   not_assessed?: string;
+  /**
+   * Where the channel has figures read from the shared spectrum, the severity and message then, when they differ (the dropout
+   * flag's spectrum share). The results' assembly chooses (`forFigures`), so a stored quality result holds whichever spectral
+   * sections the spec turns on, and toggling one recomputes no quality flag.
+   */
+  spectral?: { severity: Severity; message: string };
 }
 
 const RANK: Record<Severity, number> = { ok: 0, note: 1, warn: 2, fail: 3 };
@@ -42,7 +48,7 @@ export interface QualityThresholds {
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number; warn_spectrum_coverage: number };
-  offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number; warn_rms_excess: number };
+  offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number; warn_rms_excess: number; warn_above_wander: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
   pulse_train: { warn_coverage: number; fail_coverage: number; warn_fault_ratio: number; fail_fault_ratio: number };
@@ -99,8 +105,13 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
   // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
   // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived). Together, with a step of the 1 s means, they warn where RMS reads
-  // 5 % above the RMS with that slow part taken out (the tolerance above).
-  offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1, warn_rms_excess: 0.05 },
+  // 5 % above the RMS with that slow part taken out (the tolerance above). A live signal's own content below 1 Hz (1/f noise
+  // down to 0.1 Hz) moves the mean, the line and the step of a short recording by chance as much as it makes the 1 s means
+  // wander from one second to the next; an offset, a drift or a step stands far above that wander. So any of these warns only
+  // where the slow part's RMS over the 1 s means is at least 5.5 times their wander (meanWander): measured, 200 seeded trials of
+  // 10 s of white noise plus as strong 1/f noise reach at most 4.7, a 10 s thermal drift (τ = 1 s) on a tone 6.0, a step of
+  // 15 over 20 RMS of white noise 11 (our choice).
+  offset: { quantities: ['acceleration', 'sound_pressure'], warn_ratio: 0.32, warn_drift_ratio: 1.1, warn_rms_excess: 0.05, warn_above_wander: 5.5 },
   // Isolated samples beyond 10 robust standard deviations (1.4826 × MAD) set the peak and crest factor and raise kurtosis: any warns;
   // 0.1 % of the samples fails (our choices).
   spikes: { robust_sigmas: 10, fail_fraction: 1e-3 },
@@ -113,6 +124,20 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // intervals, a train that is mostly faults (fail). Our choices.
   pulse_train: { warn_coverage: 0.8, fail_coverage: 0.5, warn_fault_ratio: 0.1, fail_fault_ratio: 1 },
 };
+
+/** The feature groups whose figures read the channel's shared spectrum (sound_level: LAeq's weighting shortfall). */
+export const SPECTRAL_GROUPS: readonly string[] = ['spectrum', 'bands', 'octave_bands', 'velocity_bands', 'orders', 'sound_level'];
+
+/** Whether the channel has figures from the shared spectrum: one of those groups, among `groups`, gave it a column. */
+export const hasSpectralFigures = (outputs: Record<string, { columns: Record<string, unknown>[] }>, groups: readonly string[], c: number) =>
+  groups.some((g) => SPECTRAL_GROUPS.includes(g) && Object.keys(outputs[g]?.columns[c] ?? {}).length > 0);
+
+/** The flag as the channel's figures have it: its spectral wording where the channel has spectral figures, never the choice itself. */
+export function forFigures(f: Flag, spectral: boolean): Flag {
+  if (!f.spectral) return f;
+  const { spectral: when, ...plain } = f;
+  return spectral ? { ...plain, ...when } : plain;
+}
 
 export type QualitySpec = { [K in keyof QualityThresholds]?: Partial<QualityThresholds[K]> };
 

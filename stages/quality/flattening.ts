@@ -7,10 +7,17 @@
 export interface Flattening {
   samplePeak: number;
   interpolatedPeak: number;
-  /** The limit the interpolated peak went past (the larger magnitude of the channel's limits), or null when none is known. */
+  /** The limit the interpolated peak went past, or null when none is known. */
   limit: number | null;
   /** With no limit known: how many samples hold the largest magnitude. */
   repeats: number | null;
+  /** With no limit known: whether the largest magnitude holds so many samples, approached smoothly, that it is a flat top whatever the overshoot. */
+  flatTop?: boolean;
+  /** The samples counted, with a flat top. */
+  samples?: number;
+  /** With limits not centred on zero: their middle, and the interpolated peak of the samples measured from it (held to half their span). */
+  centredOn?: number;
+  excursion?: number;
 }
 
 /**
@@ -34,19 +41,46 @@ export const FEWEST_REPEATS = 8;
 export const MOST_REPEATS_SHARE = 0.1;
 
 /**
- * Whether the waveform was flattened: its interpolated peak beyond the larger magnitude of its limits by more than `margin`
- * of it; or, with no limits known, beyond its largest sample by that much while at least `fewest` samples, but under `share`
- * of them, hold that largest magnitude. Null when neither holds.
+ * With no limit known, how near below the largest magnitude other values must come for a top held by MOST_REPEATS_SHARE of the
+ * samples or more to be a flat top, as a share of it: a waveform flattened at a value reaches it smoothly, through values just
+ * below it, where a tone locked to the sampling, a sine on a coarse grid of stored values and an ideal two-level square wave
+ * hold a few exact values, the nearest a whole step below (a sine spanning ±100 steps keeps its top on 6.4 % of its samples,
+ * (2/π)·√(1/100), derived, under the share). A clipped waveform rarely overshoots when interpolated (a sine clipped at 0.9 of
+ * its amplitude, 0.00 %, measured), so the repeats alone tell it. Our choice.
+ */
+export const SMOOTH_APPROACH = 0.01;
+
+/**
+ * Whether the waveform was flattened: its interpolated peak, measured from the middle of its limits, beyond half their span by
+ * more than `margin` of it (each end held to its own: a one-sided range [0, 16] is flattened at 0 as at 16); or, with no
+ * limits known, beyond its largest sample by that much while at least `fewest` samples, but under `share` of them, hold that
+ * largest magnitude; or `share` of the samples or more hold it while other values (`near`: how many of a sample of the
+ * channel's values lie within `approach` below it) come smoothly up to it. Null when none holds.
+ * `centred`: the interpolated peak of the samples less the middle of the limits (a limit pair not centred on zero).
  */
 export function flattening(
-  samplePeak: number, interpolatedPeak: number, limits: [number, number] | null, repeats: { count: number; samples: number } | null,
-  margin = FLATTENED_MARGIN, fewest = FEWEST_REPEATS, share = MOST_REPEATS_SHARE,
+  samplePeak: number, interpolatedPeak: number, limits: [number, number] | null, repeats: { count: number; samples: number; near?: number } | null,
+  margin = FLATTENED_MARGIN, fewest = FEWEST_REPEATS, share = MOST_REPEATS_SHARE, centred: number | null = null,
 ): Flattening | null {
   if (limits) {
-    const limit = Math.max(Math.abs(limits[0]), Math.abs(limits[1]));
-    return interpolatedPeak > limit * (1 + margin) ? { samplePeak, interpolatedPeak, limit, repeats: null } : null;
+    const middle = (limits[0] + limits[1]) / 2, half = (limits[1] - limits[0]) / 2;
+    // Centred on zero (within a step's worth), the larger magnitude is the limit, as it always was; otherwise each end's distance from the middle.
+    if (centred == null || Math.abs(middle) <= 0.01 * half) {
+      const limit = Math.max(Math.abs(limits[0]), Math.abs(limits[1]));
+      return interpolatedPeak > limit * (1 + margin) ? { samplePeak, interpolatedPeak, limit, repeats: null } : null;
+    }
+    return centred > half * (1 + margin) ? { samplePeak, interpolatedPeak, limit: half, repeats: null, centredOn: middle, excursion: centred } : null;
   }
-  if (!repeats) return null;
-  const flat = repeats.count >= fewest && repeats.count < share * repeats.samples && interpolatedPeak > samplePeak * (1 + margin);
-  return flat ? { samplePeak, interpolatedPeak, limit: null, repeats: repeats.count } : null;
+  if (!repeats || repeats.count < fewest) return null;
+  const overshoots = interpolatedPeak > samplePeak * (1 + margin);
+  if (repeats.count < share * repeats.samples) return overshoots ? { samplePeak, interpolatedPeak, limit: null, repeats: repeats.count } : null;
+  return (repeats.near ?? 0) > 0 ? { samplePeak, interpolatedPeak, limit: null, repeats: repeats.count, flatTop: true, samples: repeats.samples } : null;
+}
+
+/** How many of `values` lie within `approach` of `top` below it in magnitude (the smooth approach of a flat top). */
+export function nearBelow(values: Float64Array, top: number, approach = SMOOTH_APPROACH): number {
+  let near = 0;
+  const from = top * (1 - approach);
+  for (let i = 0; i < values.length; i++) { const a = Math.abs(values[i]); if (a >= from && a < top) near++; }
+  return near;
 }

@@ -6,6 +6,7 @@ import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 import { metresPerSecond2, STANDARD_GRAVITY } from '../acceleration-units.js';
 import { addPoint, emptyLineSums, fittedLine } from '../dsp/line-fit.js';
 import { levelStepFit } from '../dsp/level-step-fit.js';
+import { meanWander } from '../dsp/mean-wander.js';
 import { withArticle } from './article.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
@@ -29,7 +30,7 @@ export const offset: StageDefinition<QualityThresholds> = {
     return {
       push() {},
       finish() {
-        const threshold = `warn: RMS > ${pct(q.offset.warn_rms_excess)} above the RMS with the slow part of the 1 s means (a level, a line and one step) taken out, |mean| > ${q.offset.warn_ratio}·std, or the line through the 1 s means rising or falling > ${q.offset.warn_drift_ratio}·std around it across the recording (quantities ${q.offset.quantities.join(', ')})`;
+        const threshold = `warn: RMS > ${pct(q.offset.warn_rms_excess)} above the RMS with the slow part of the 1 s means (a level, a line and one step) taken out, |mean| > ${q.offset.warn_ratio}·std, or the line through the 1 s means rising or falling > ${q.offset.warn_drift_ratio}·std around it across the recording, each only where that slow part's RMS is ≥ ${q.offset.warn_above_wander} × the 1 s means' wander from one second to the next (quantities ${q.offset.quantities.join(', ')})`;
         const m = shared.moments();
         if (!applies || m.n === 0) {
           // A channel left undeclared has no quantity: the check is then missed rather than not meant.
@@ -54,16 +55,21 @@ export const offset: StageDefinition<QualityThresholds> = {
           if (slow.stepAt >= 0) issues.push(`the 1 s means step by ${slow.step > 0 ? '+' : '−'}${Math.abs(slow.step).toPrecision(3)} ${ctx.unit} at ${secs((slow.stepAt * win) / ctx.sampleRate)}`);
           else if (!meanWarns && !trendWarns) issues.push(`the mean ${mean.toPrecision(3)} ${ctx.unit} and the trend of the 1 s means together`);
         }
-        const severity: Severity = issues.length ? 'warn' : 'ok';
+        // What a live signal's own slow content could have made by chance does not warn: the slow part must stand above the wander.
+        const standing = standOut(means.subarray(0, windows));
+        const chance = issues.length > 0 && standing < q.offset.warn_above_wander;
+        const severity: Severity = issues.length && !chance ? 'warn' : 'ok';
         const gravity = meanWarns ? gravityHint(ctx.quantity, ctx.unit, mean) : '';
         ctx.flag({
           name: 'offset', severity, value: ratio, threshold,
           evidence: {
             mean, std, window_mean_min: Number.isFinite(wmin) ? wmin : null, window_mean_max: Number.isFinite(wmax) ? wmax : null,
             trend_rise: trend?.rise ?? null, trend_share_of_window_means: trend?.explained ?? null, std_around_trend: trend?.spread ?? null,
+            slow_part_over_wander: Number.isFinite(standing) ? standing : null,
             rms_excess: std > 0 && Number.isFinite(excess) ? excess : null, rms_without_slow_part: slow.spread, step: slow.stepAt >= 0 ? slow.step : null, step_at_s: slow.stepAt >= 0 ? (slow.stepAt * win) / ctx.sampleRate : null,
           },
-          message: issues.length ? `${issues.join('; ')}: ${withArticle(ctx.quantity)} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high` : 'RMS describes the offset and its changes, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}${std > 0 ? `, RMS ${pct(Math.max(0, excess))} above the signal with its slow part taken out` : ', no spread'}`,
+          message: chance ? `${issues.join('; ')}, but that slow part stands only ${standing.toFixed(1)} times above the 1 s means' wander from one second to the next (a warning needs ${q.offset.warn_above_wander}): the signal's own content below 1 Hz makes as much by chance in a recording this long, so it is read as content, not an offset`
+            : issues.length ? `${issues.join('; ')}: ${withArticle(ctx.quantity)} signal should carry none, and RMS and peak include it (${excess <= 9 ? `RMS reads ${pct(excess)} high` : 'RMS describes the offset and its changes, not the signal'}); check the sensor's bias, the coupling (AC/DC) and thermal drift${gravity}` : `mean ${mean.toPrecision(3)} ${ctx.unit}${std > 0 ? `, RMS ${pct(Math.max(0, excess))} above the signal with its slow part taken out` : ', no spread'}`,
         });
         return { offset_ratio: ratio, drift_ratio: drift != null && Number.isFinite(drift) ? drift : null };
       },
@@ -96,6 +102,17 @@ export function slowPart(means: Float64Array, mean: number, win: number, m2: num
   // A step is named where it alone takes more than a line alone: a ramp is a trend, a level that jumps a step.
   const stepped = fit.stepAt >= 0 && fit.stepAlone > fit.line;
   return { spread, stepAt: stepped ? fit.stepAt : -1, step: stepped ? fit.step : 0 };
+}
+
+/**
+ * How far the slow part of the 1 s means (their least-squares level, line and one step, the mean included) stands above their
+ * wander from one second to the next (meanWander): its RMS over the windows over that wander. Infinity where the means do not
+ * wander (a clean offset, or fewer than three windows, where nothing tells the two apart).
+ */
+export function standOut(means: Float64Array): number {
+  const slow = means.length ? Math.sqrt(levelStepFit(means).explained / means.length) : 0;
+  const wander = meanWander(means);
+  return wander > 0 ? slow / wander : slow > 0 ? Infinity : 0;
 }
 
 // What an offset and its changes add to RMS over the signal's own spread (derived: variances add): √((mean² + std²) / spread²) − 1,
