@@ -1,5 +1,5 @@
 // CSV per table (RFC 4180: quoted text, CRLF line ends, UTF-8), safe to open in a spreadsheet.
-import type { Cell, ExportColumn, ExportTable } from './tables.js';
+import type { Cell, ExportColumn } from './tables.js';
 
 export interface CsvOptions {
   /** Start with a UTF-8 byte-order mark, which some spreadsheets need to take the file as UTF-8. */
@@ -37,9 +37,16 @@ function cellText(v: Cell, c: ExportColumn, o: CsvOptions): string {
   return `"${text.replace(/"/g, '""')}"`;
 }
 
-export function toCsv(t: ExportTable, o: CsvOptions = {}): string {
+/** The file's start: the byte-order mark when asked for, and the header row, each line ended by CRLF. */
+export function csvHead(columns: ExportColumn[], o: CsvOptions = {}): string {
   const d = o.decimalComma ? ';' : ',';
-  const lines = [t.columns.map((c) => `"${neutralise(headerText(c)).replace(/"/g, '""')}"`).join(d)];
-  for (const row of t.rows) lines.push(row.map((v, i) => cellText(v, t.columns[i], o)).join(d));
-  return (o.bom ? '\uFEFF' : '') + lines.join('\r\n') + '\r\n';
+  return (o.bom ? '\uFEFF' : '') + columns.map((c) => `"${neutralise(headerText(c)).replace(/"/g, '""')}"`).join(d) + '\r\n';
+}
+
+/** A batch of rows as CSV lines, each ended by CRLF: written as they are read, so a table is never held whole. */
+export function csvLines(rows: Cell[][], columns: ExportColumn[], o: CsvOptions = {}): string {
+  const d = o.decimalComma ? ';' : ',';
+  let text = '';
+  for (const row of rows) text += row.map((v, i) => cellText(v, columns[i], o)).join(d) + '\r\n';
+  return text;
 }

@@ -1,4 +1,6 @@
-// The reduced tables as plain rows for export: read back from the Parquet files and reports a run wrote.
+// The reduced tables for export, read back from the Parquet files and reports a run wrote: each table's columns and row
+// count at once, its rows in batches as they are written out, so no table is ever held whole in memory.
+import { openAsBlob } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { UsageError } from '../declare/yaml-file.js';
@@ -7,8 +9,11 @@ export type CellKind = 'text' | 'number' | 'integer' | 'time';
 /** `exact`: a key, axis, setting or count, which --digits leaves whole (EXACT_COLUMNS). */
 export interface ExportColumn { name: string; unit: string; kind: CellKind; exact?: boolean }
 export type Cell = string | number | bigint | null;
-/** A table's columns and rows; one read from a Parquet file also names the run that wrote it (its `quern.run_id`, null when absent). */
-export interface ExportTable { name: string; columns: ExportColumn[]; rows: Cell[][]; runId?: string | null }
+/**
+ * A table's columns, its number of rows and its rows in batches (read afresh each time they are asked for); one read
+ * from a Parquet file also names the run that wrote it (its `quern.run_id`, null when absent).
+ */
+export interface ExportTable { name: string; columns: ExportColumn[]; rowCount: number; batches: () => AsyncIterable<Cell[][]>; runId?: string | null }
 
 /**
  * Number columns --digits never rounds, by table: those that name a row (a spectrum's bin, a window's start and length, a
@@ -22,28 +27,68 @@ export const EXACT_COLUMNS: Record<string, ReadonlySet<string>> = {
   spectra: new Set(['frequency_hz']),
 };
 
-export async function readParquetTable(path: string, name: string): Promise<ExportTable> {
-  let bytes: Buffer;
+/** Rows read from a Parquet table at a time: a row group's, as the tables are written (outputs/parquet-stream.ts). */
+export const BATCH_ROWS = 65_536;
+
+/** A table already in memory (the quality flags, the wide layout: a row per channel or per recording), as one batch. */
+export const inMemory = (name: string, columns: ExportColumn[], rows: Cell[][], runId?: string | null): ExportTable =>
+  ({ name, columns, rowCount: rows.length, batches: async function* () { if (rows.length) yield rows; }, runId });
+
+const unreadable = (path: string, e: unknown) =>
+  // A table cut short (an interrupted copy, a full disk elsewhere) is a damaged input, not a fault in quern.
+  new UsageError(`${path}: not a readable Parquet table (${(e as Error).message}); run quern reduce again to write it afresh, or copy it again`);
+
+/** A Parquet table opened for export: its schema and row count from the footer; its rows read `batchRows` at a time. */
+export async function openParquetTable(path: string, name: string, batchRows = BATCH_ROWS): Promise<ExportTable> {
+  let blob: Blob;
   try {
-    bytes = await readFile(path);
+    // A Blob backed by the file: the reader fetches the footer and then one row group's column chunks at a time.
+    blob = await openAsBlob(path);
   } catch {
     throw new UsageError(`${path}: missing; export reads a folder that quern reduce (or quern merge) wrote`);
   }
   // The Parquet reader loads only when a table is read back (quern export), not on every command.
-  const [arrow, { readParquet }] = await Promise.all([import('apache-arrow'), import('../outputs/parquet-wasm.js').then((m) => m.parquetWasm())]);
-  let table;
+  const [arrow, { ParquetFile }] = await Promise.all([import('apache-arrow'), import('../outputs/parquet-wasm.js').then((m) => m.parquetWasm())]);
+  let schema: import('apache-arrow').Schema, rowCount: number;
   try {
-    table = arrow.tableFromIPC(readParquet(new Uint8Array(bytes)).intoIPCStream());
+    const file = await ParquetFile.fromFile(blob);
+    try {
+      schema = arrow.tableFromIPC(file.schema().intoIPCStream()).schema;
+      rowCount = Number(file.metadata().fileMetadata().numRows());
+    } finally { file.free(); }
   } catch (e) {
-    // A table cut short (an interrupted copy, a full disk elsewhere) is a damaged input, not a fault in quern.
-    throw new UsageError(`${path}: not a readable Parquet table (${(e as Error).message}); run quern reduce again to write it afresh, or copy it again`);
+    throw unreadable(path, e);
   }
-  const columns: ExportColumn[] = table.schema.fields.map((f) => ({
+  const columns: ExportColumn[] = schema.fields.map((f) => ({
     name: f.name,
     unit: f.metadata.get('unit') ?? '',
     kind: arrow.DataType.isTimestamp(f.type) ? 'time' : arrow.DataType.isInt(f.type) ? 'integer' : arrow.DataType.isFloat(f.type) ? 'number' : 'text',
     exact: EXACT_COLUMNS[name]?.has(f.name) ?? false,
   }));
+  async function* batches(): AsyncIterable<Cell[][]> {
+    let file: { free(): void } | null = null, reader: ReadableStreamDefaultReader | null = null;
+    try {
+      const opened = await ParquetFile.fromFile(blob);
+      file = opened;
+      const stream = (reader = (await opened.stream({ batchSize: batchRows })).getReader());
+      for (;;) {
+        const { done, value } = await stream.read();
+        if (done) break;
+        const table = arrow.tableFromIPC(value.intoIPCStream());
+        yield rowsOf(table, columns);
+      }
+    } catch (e) {
+      throw e instanceof UsageError ? e : unreadable(path, e);
+    } finally {
+      await reader?.cancel().catch(() => {});
+      file?.free();
+    }
+  }
+  return { name, columns, rowCount, batches, runId: schema.metadata.get('quern.run_id') ?? null };
+}
+
+/** An Arrow table's rows as cells: instants in milliseconds, integers as bigint, nulls as null. */
+function rowsOf(table: import('apache-arrow').Table, columns: ExportColumn[]): Cell[][] {
   const vectors = columns.map((c) => table.getChild(c.name)!);
   const rows: Cell[][] = [];
   for (let i = 0; i < table.numRows; i++) {
@@ -55,7 +100,7 @@ export async function readParquetTable(path: string, name: string): Promise<Expo
       return x as Cell;
     }));
   }
-  return { name, columns, rows, runId: table.schema.metadata.get('quern.run_id') ?? null };
+  return rows;
 }
 
 /** One row per channel × flag (and per unreadable recording), from quality.json. */
@@ -71,7 +116,7 @@ export async function readQualityFlags(dir: string): Promise<ExportTable> {
     if (r.status === 'failed') rows.push([r.recording, null, 'readable', 'fail', null, 'the recording must be readable and agree with its declaration', r.reason ?? '', '{}']);
     for (const c of r.channels) for (const f of c.flags) rows.push([r.recording, c.channel, f.name, f.severity, f.value, f.threshold, f.message, JSON.stringify(f.evidence)]);
   }
-  return { name: 'quality flags', columns, rows, runId: typeof q.run_id === 'string' ? q.run_id : null };
+  return inMemory('quality flags', columns, rows, typeof q.run_id === 'string' ? q.run_id : null);
 }
 
 /** The identity columns that stay unprefixed in the wide layout (one value per recording). */
@@ -87,14 +132,15 @@ export function withChannelUnit(template: string, unit: string): string {
 }
 
 /** One row per recording, channel-prefixed columns ("acc_de.rms"), for comparing recordings side by side. */
-export function widen(features: ExportTable, labels: string[]): ExportTable {
+export async function widen(features: ExportTable, labels: string[]): Promise<ExportTable> {
   const col = new Map(features.columns.map((c, i) => [c.name, i]));
   const keep = features.columns.filter((c) => PER_RECORDING.has(c.name) || labels.includes(c.name));
   const perChannel = features.columns.filter((c) => !PER_RECORDING.has(c.name) && !labels.includes(c.name) && c.name !== 'channel');
   const channels: string[] = [];
   const unitOf = new Map<string, Set<string>>();
   const byRecording = new Map<string, Cell[][]>();
-  for (const row of features.rows) {
+  // The features hold a row per channel, not per window: read whole, as the layout needs every channel of a recording.
+  for await (const batch of features.batches()) for (const row of batch) {
     const ch = String(row[col.get('channel')!]);
     if (!channels.includes(ch)) channels.push(ch);
     (unitOf.get(ch) ?? unitOf.set(ch, new Set()).get(ch)!).add(String(row[col.get('unit')!]));
@@ -109,5 +155,5 @@ export function widen(features: ExportTable, labels: string[]): ExportTable {
     const byChannel = new Map(rows.map((r) => [String(r[col.get('channel')!]), r]));
     return [...keep.map((c) => first[col.get(c.name)!]), ...channels.flatMap((ch) => perChannel.map((c) => byChannel.get(ch)?.[col.get(c.name)!] ?? null))];
   });
-  return { name: 'features wide', columns, rows };
+  return inMemory('features wide', columns, rows);
 }
