@@ -12,6 +12,7 @@ import { UsageError } from './declare/yaml-file.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
 import { reduceCommand } from './rerun-command.js';
+import { checkDigits, checkExportOptions } from './export-options.js';
 import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
@@ -185,6 +186,7 @@ async function main(argv: string[]): Promise<number> {
     async (a) => {
       if (a.log === 'json') tell = jsonTell;
       givenOnce(a, ['out', 'spec', 'jobs', 'shard', 'log', 'export']);
+      checkExportOptions(a);
       const exports = a.export ? await exporting() : null;
       const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
       let shard = null, since = null, until = null, staleLockAfterMs = 0;
@@ -240,6 +242,8 @@ async function main(argv: string[]): Promise<number> {
       .option('to', { type: 'string', demandOption: true, describe: 'csv, xlsx or csv,xlsx' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      once('digits', a.digits);
+      checkDigits(a.digits);
       const { parseFormats, runExport } = await exporting();
       for (const f of await runExport(a.reduced as string, { to: parseFormats(a.to), bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`${f}\n`);
     })
@@ -252,6 +256,7 @@ async function main(argv: string[]): Promise<number> {
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       givenOnce(a, ['jobs', 'export']);
+      checkExportOptions(a);
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const exitOn = parseExitOn(a.exitOn);
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
