@@ -30,6 +30,12 @@ function writtenOnly(value: unknown): ChannelSelector | undefined {
   return v && typeof v === 'object' && !Array.isArray(v) ? (v as { only?: ChannelSelector }).only : undefined;
 }
 
+/**
+ * A selector of quern's standard quantities alone (the default spec's own), which an archive without such sensors leaves
+ * empty by design: not a typo, so not noted (a declared quantity a slip away from one is noted on archive.yaml's side).
+ */
+const standardOnly = (only: ChannelSelector | undefined) => only != null && !only.names?.length && (only.quantities ?? []).every((q) => QUANTITIES_QUERN_USES.includes(q));
+
 /** Whether `only` may select a channel of the archive: certainly none only when every entry is known to select none. */
 export function selectsSome(only: ChannelSelector | undefined, a: ArchiveChannels): boolean {
   if (!only) return a.quantities.length > 0;
@@ -62,7 +68,7 @@ export function selectorNotes(spec: ReductionSpec, a: ArchiveChannels, specFile 
   const notes: string[] = [];
   for (const section of SECTIONS) {
     const only = writtenOnly(spec[section]);
-    if (!only) continue;
+    if (!only || standardOnly(only)) continue;
     const dead = deadEntries(only, a);
     const said = (d: (typeof dead)[number]) => `${d.key} "${d.entry}"${d.meant ? ` (${d.meant})` : ''}`;
     if (!selectsSome(only, a)) {
@@ -84,7 +90,7 @@ export function unwatchedFeatureNotes(spec: ReductionSpec, trends: TrendOptions 
   const empty = new Map<string, string[]>();
   for (const f of trends.features) {
     const of = stages.filter((s) => s.definition.group === f.group);
-    if (!of.length || of.some((s) => selectsSome(s.only, a))) continue;
+    if (!of.length || of.some((s) => standardOnly(s.only) || selectsSome(s.only, a))) continue;
     (empty.get(f.group) ?? empty.set(f.group, []).get(f.group)!).push(f.name);
   }
   return [...empty].map(([group, features]) => {
