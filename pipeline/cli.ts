@@ -9,6 +9,7 @@ import { failedOf, quietGroupsOf, summaryText, type RunRecord } from './outputs/
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
+import { didYouMean, likelyMeant } from './declare/nearest-names.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
 import { reduceCommand } from './rerun-command.js';
@@ -158,8 +159,24 @@ const follow = (s: OutputsStand) => { stand = s; };
 /** The exit code of a run or merge that completed, once its outputs and run.json are in place; null until then. */
 let completedCode: number | null = null;
 
+const COMMANDS = ['reduce', 'merge', 'export', 'check', 'peek'];
+
+/** A first word a slip away from a command ("reduc"), refused with the one meant, rather than as an unknown argument. */
+function refuseNearCommand(argv: string[]): void {
+  const first = argv[0];
+  if (first == null || first.startsWith('-') || COMMANDS.includes(first)) return;
+  const meant = likelyMeant(first, COMMANDS, 1);
+  if (meant.length) throw new UsageError(`"${first}" is not a command of quern; ${didYouMean(meant)} (the commands: ${COMMANDS.join(', ')}; quern --help lists them)`);
+}
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
+  try {
+    refuseNearCommand(argv);
+  } catch (e) {
+    tell((e as Error).message, EXIT.unusable);
+    return EXIT.unusable;
+  }
   const cli = yargs(argv)
     .scriptName('quern')
     .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
@@ -198,6 +215,7 @@ async function main(argv: string[]): Promise<number> {
       const storageMs = optionValue('storage-limit', a.storageLimit, storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       const exitOn = parseExitOn(a.exitOn);
+      if (exitOn.has('quiet') && since == null && until == null) throw new UsageError('--exit-on quiet: a group is named quiet only over a period (--since, --until), so without one it could never fire; add --since (7d, say) or drop quiet');
       try {
         shard = a.shard ? parseShard(a.shard) : null;
         checkPeriod(since, until, a.since, a.until);
