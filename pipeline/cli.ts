@@ -9,9 +9,11 @@ import { failedOf, quietGroupsOf, summaryText, type RunRecord } from './outputs/
 import { checkPeriod, parseShard, parseSpan, parseWhen } from './select/select.js';
 import { WriteFailed } from './outputs/staged.js';
 import { UsageError } from './declare/yaml-file.js';
+import { didYouMean, likelyMeant } from './declare/nearest-names.js';
 import { settleEngine } from './engine-settings.js';
 import type { ChangesReport } from './trends/changes.js';
 import { mergeCommand, reduceCommand } from './rerun-command.js';
+import { checkDigits, checkExportOptions } from './export-options.js';
 import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
@@ -157,8 +159,24 @@ const follow = (s: OutputsStand) => { stand = s; };
 /** The exit code of a run or merge that completed, once its outputs and run.json are in place; null until then. */
 let completedCode: number | null = null;
 
+const COMMANDS = ['reduce', 'merge', 'export', 'check', 'peek'];
+
+/** A first word a slip away from a command ("reduc"), refused with the one meant, rather than as an unknown argument. */
+function refuseNearCommand(argv: string[]): void {
+  const first = argv[0];
+  if (first == null || first.startsWith('-') || COMMANDS.includes(first)) return;
+  const meant = likelyMeant(first, COMMANDS, 1);
+  if (meant.length) throw new UsageError(`"${first}" is not a command of quern; ${didYouMean(meant)} (the commands: ${COMMANDS.join(', ')}; quern --help lists them)`);
+}
+
 async function main(argv: string[]): Promise<number> {
   let code: number = EXIT.ok;
+  try {
+    refuseNearCommand(argv);
+  } catch (e) {
+    tell((e as Error).message, EXIT.unusable);
+    return EXIT.unusable;
+  }
   const cli = yargs(argv)
     .scriptName('quern')
     .usage('$0 <command> [options]\n\nReduces archives of multichannel test recordings to tables of trustworthy numbers.')
@@ -185,6 +203,7 @@ async function main(argv: string[]): Promise<number> {
     async (a) => {
       if (a.log === 'json') tell = jsonTell;
       givenOnce(a, ['out', 'spec', 'jobs', 'shard', 'log', 'export']);
+      checkExportOptions(a);
       const exports = a.export ? await exporting() : null;
       const exportTo = exports && a.export ? exports.parseFormats(a.export) : null;
       let shard = null, since = null, until = null, staleLockAfterMs = 0;
@@ -196,6 +215,7 @@ async function main(argv: string[]): Promise<number> {
       const storageMs = optionValue('storage-limit', a.storageLimit ?? '5m', storageSpan);
       const settleMs = a.settle != null ? optionValue('settle', a.settle, parseSpan) : 0;
       const exitOn = parseExitOn(a.exitOn);
+      if (exitOn.has('quiet') && since == null && until == null) throw new UsageError('--exit-on quiet: a group is named quiet only over a period (--since, --until), so without one it could never fire; add --since (7d, say) or drop quiet');
       try {
         shard = a.shard ? parseShard(a.shard) : null;
         checkPeriod(since, until, a.since, a.until);
@@ -242,6 +262,8 @@ async function main(argv: string[]): Promise<number> {
       .option('to', { type: 'string', demandOption: true, describe: 'csv, xlsx or csv,xlsx' })
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
+      once('digits', a.digits);
+      checkDigits(a.digits);
       const { parseFormats, runExport } = await exporting();
       for (const f of await runExport(a.reduced as string, { to: parseFormats(a.to), bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide })) process.stdout.write(`${f}\n`);
     })
@@ -254,6 +276,7 @@ async function main(argv: string[]): Promise<number> {
       .options(EXPORT_FORMAT_OPTIONS),
     async (a) => {
       givenOnce(a, ['jobs', 'export']);
+      checkExportOptions(a);
       const storageMs = optionValue('storage-limit', a.storageLimit ?? '5m', storageSpan);
       const exitOn = parseExitOn(a.exitOn);
       const command = mergeCommand(a.out as string, {

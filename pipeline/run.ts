@@ -10,6 +10,7 @@ import type { OutputsStand, StopTell } from './stop-on-signal.js';
 import { openRun } from './open-run.js';
 import { declarationsNow, groupKeys } from './plan/cache.js';
 import { toolVersion } from './declare/package-files.js';
+import { archiveChannels, selectorNotes, unwatchedFeatureNotes } from './declare/empty-selectors.js';
 import { unfedGroupNote, unfedGroups } from './select/group-coverage.js';
 import { brokenGroupsOf } from './outputs/broken-groups.js';
 import { byRecording, FINAL_NAMES, partNames, writeOutputs } from './outputs/outputs.js';
@@ -165,12 +166,13 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     const writeS = clock(t);
 
     const active = [...new Set(activeStages(spec.spec).map((x) => x.definition.group))];
+    const declared = archiveChannels(declaration);
     const brokenNames = new Set(declaration.groups.filter((g) => g.broken).map((g) => g.name));
     const outcome = (r: string) => { const f = s.get(r)?.facts; return f && { status: f.status, reason: f.reason }; };
     const record = runRecord({
       runId, started, archive: root, out: outDir, spec, scanned: scanned.recordings.length, unmatched: scanned.unmatched,
       lines: decisions.map((d) => runLine(s.get(d.recording)!.facts, groupNames[d.group], d, active)), settling,
-      declarationNotes: [...declaration.notes ?? [], ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u, undefined, brokenNames))], groupsWithoutRecordings: unfed.map((u) => u.group),
+      declarationNotes: [...declaration.notes ?? [], ...selectorNotes(spec.spec, declared, spec.source), ...unwatchedFeatureNotes(spec.spec, trends, declared, spec.source), ...unfed.filter((u) => u.takenBy.length).map((u) => unfedGroupNote(u, undefined, brokenNames))], groupsWithoutRecordings: unfed.map((u) => u.group),
       brokenGroups: broken,
       // A shard's present recordings outside its period: merge's trends read their stored history too.
       ...(shard ? { unselected: unselectedOf(scanned.recordings, [...decisions, ...settling], shard, groupNames), coveredUntil: new Date(coverEnd(scanStartedMs, o.until ?? null)).toISOString() } : {}),

@@ -258,23 +258,24 @@ describe('raw binary reader against files written by numpy', () => {
     expect(rec.notes.join()).toMatch(/do not make a whole frame/);
   });
 
-  it('a declared duration_s catches a wrong channel count or sample type, which read as plausible channels', () => {
+  it('a declared duration_s catches a wrong channel count or sample type, which read as plausible channels: the recording fails', () => {
     // numpy wrote 5 frames of 3 int16 channels after 16 bytes: 30 bytes of samples, 0.05 s at 100 Hz.
-    const verdicts = (layout: string) => {
+    const reduce = (layout: string) => {
       const dir = join(tempDir(), 'arc');
       mkdirSync(dir);
       writeFileSync(join(dir, 'rig.bin'), readFileSync(fixture('raw', 'be-int16-3ch.bin')));
       writeFileSync(join(dir, 'archive.yaml'), `groups:\n  - { name: r, match: "*.bin", sample_rate: 100, duration_s: 0.05, layout: { ${layout}, byte_order: big, header_bytes: 16 } }\n`);
       const out = join(dir, '..', 'out');
-      const r = quern('reduce', dir, '--out', out, '--jobs', '1');
-      expect(r.code, r.stderr).toBe(0);
-      return readJson(join(out, 'quality.json')).recordings[0].channels.map((c: any) => c.flags.find((f: any) => f.name === 'declaration'));
+      return { r: quern('reduce', dir, '--out', out, '--jobs', '1'), out };
     };
-    expect(verdicts('sample_type: int16, channels: 3').map((f: any) => f.severity)).toEqual(['ok', 'ok', 'ok']);
+    const right = reduce('sample_type: int16, channels: 3');
+    expect(right.r.code, right.r.stderr).toBe(0);
+    expect(readJson(join(right.out, 'quality.json')).recordings[0].channels.map((c: any) => c.flags.find((f: any) => f.name === 'declaration').severity)).toEqual(['ok', 'ok', 'ok']);
     // Two channels make 7 frames of the 30 bytes (0.07 s); int32 in three channels, 2 frames (0.02 s).
-    for (const wrong of ['sample_type: int16, channels: 2', 'sample_type: int32, channels: 3']) {
-      const flags = verdicts(wrong);
-      expect(flags.every((f: any) => f.severity === 'note' && /is declared/.test(f.message)), JSON.stringify(flags)).toBe(true);
+    for (const [wrong, read] of [['sample_type: int16, channels: 2', '0.070'], ['sample_type: int32, channels: 3', '0.020']]) {
+      const { r, out } = reduce(wrong);
+      expect(r.code).toBe(1);
+      expect(readJson(join(out, 'run.json')).recordings[0].reason).toMatch(new RegExp(`^raw layout: the file reads as ${read} s .* declares duration_s: 0\\.05; .*check the group's layout\\.channels, layout\\.sample_type and layout\\.header_bytes`));
     }
   });
 });

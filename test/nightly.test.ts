@@ -194,10 +194,16 @@ describe('sharding', () => {
 
   it('merge refuses while a shard is missing, naming it', () => {
     const archive = sampleArchiveCopy(), shared = join(archive, '..', 'shared');
-    quern('reduce', archive, '--out', shared, '--shard', '2/3', '--quiet');
+    quern('reduce', archive, '--out', shared, '--shard', '2/3', '--quiet', '--jobs', '1');
     const r = quern('merge', shared);
     expect(r.code).toBe(2);
-    expect(r.stderr).toMatch(/shards 1, 3 of 3 have not written their part yet/);
+    // With the command to run each, from shard 2's recorded command, its shard number changed.
+    const advice = /shards 1, 3 of 3 have not written their part yet; run them \((quern reduce .*--shard 1\/3); (quern reduce .*--shard 3\/3)\), then merge again/.exec(r.stderr);
+    expect(advice, r.stderr).not.toBeNull();
+    expect(advice![1]).toBe(`quern reduce ${archive} --out ${shared} --jobs 1 --quiet --shard 1/3`);
+    // The advice works as given: run it, and the merge goes through.
+    for (const command of [advice![1], advice![2]]) expect([0, 1]).toContain(quern(...command.split(' ').slice(1)).code); // 1 for the share holding the truncated recording
+    expect(quern('merge', shared, '--jobs', '1').code).toBe(1); // merged, with the sample archive's truncated recording failed
   });
 
   it('shares are stable and cover every recording once; auto reads Slurm and Kubernetes variables', () => {

@@ -251,9 +251,11 @@ describe('quern check and quern peek', () => {
     const dir = tempDir();
     writeFileSync(join(dir, 'capture.xyz'), 'not a recording');
     const unknown = quern('peek', join(dir, 'capture.xyz'));
-    expect(unknown.code).toBe(1);
+    // A missing option is a usage error (exit code 2, README's table), not a recording that failed.
+    expect(unknown.code).toBe(2);
     expect(unknown.stderr).toContain('cannot tell the format from the extension ".xyz"; give it with --format wav, flac, hdf5, mat, csv or raw');
     const raw = quern('peek', join(dir, 'capture.xyz'), '--format', 'raw');
+    expect(raw.code).toBe(2);
     expect(raw.stderr).toContain('raw binary needs its layout and sample rate; give it with --sample-type, --channels and --sample-rate');
     const folder = quern('peek', dir);
     expect(folder.code).toBe(2);
@@ -281,7 +283,7 @@ describe('quern check and quern peek', () => {
       [peek(fixture('wav', 'pcm16-2ch.wav'), '--sample-rate', '1000'), 'the file says 8000 Hz but group "(none)" declares 1000 Hz; correct --sample-rate or move the file to the right group'],
       [peek(join(dir, 'timed.csv'), '--sample-rate', '50'), 'the time column steps at 100.000 Hz but the declaration says 50 Hz; correct --sample-rate or check the export'],
       [peek(h5), 'HDF5 needs to be told where its samples are; give --dataset'],
-      [peek(h5, '--dataset', 'nowhere'), 'dataset "nowhere" is not in the file; check --dataset'],
+      [peek(h5, '--dataset', 'nowhere'), 'dataset "nowhere" is not in the file; the file holds /data (3 × 2500); check --dataset'],
       [peek(h5, '--dataset', 'data'), 'set --channel-axis to 0 if its rows are channels, 1 if its columns are'],
       [peek(h5, '--dataset', 'data', '--channel-axis', '0'), 'no sample rate; set --sample-rate, --sample-rate-attribute, --sample-rate-dataset or --time-dataset'],
       [peek(h5, '--dataset', 'data', '--channel-axis', '0', '--sample-rate-attribute', 'rate'), 'attribute "rate" (the sample rate) is not on dataset "data" or its groups; correct --sample-rate-attribute or check the file'],

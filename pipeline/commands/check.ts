@@ -6,6 +6,7 @@ import { plan } from '../plan/plan.js';
 import { openForJob } from '../reduce/compute.js';
 import { scan } from '../select/scan.js';
 import { quantityUses } from '../declare/quantity-uses.js';
+import { archiveChannels, selectorNotes, unwatchedFeatureNotes } from '../declare/empty-selectors.js';
 import { unfedGroupNote, unfedGroups } from '../select/group-coverage.js';
 import { RecordingError } from '../../stages/read/recording.js';
 import { defaultOut } from '../run.js';
@@ -14,7 +15,7 @@ import { namingNone, trendOptions, type ChannelAt, type TrendOptions } from '../
 export interface CheckedRecording { recording: string; group: string; ok: boolean; detail: string }
 /**
  * `notes`: what may be wrong without stopping a run (a quantity near one the spec selects by, a unit its figures cannot
- * convert, a group that gets no recording, trend entries naming no channel of the archive's recordings).
+ * convert, a spec `only:` selector or watched trend feature that selects no channel, a group that gets no recording, trend entries naming no channel of the archive's recordings).
  */
 export interface CheckResult { recordings: CheckedRecording[]; unmatched: string[]; spec: string; notes: string[] }
 
@@ -42,7 +43,9 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
     }
   }
   const groups = unfedGroups(declaration.groups, scanned.recordings, declaration.lines).map((u) => unfedGroupNote(u));
-  return { recordings, unmatched: scanned.unmatched, spec: spec.source, notes: [...declaration.notes ?? [], ...groups, ...(trends ? trendNamesUnseen(trends, [...channelsSeen.values()]) : [])] };
+  const declared = archiveChannels(declaration);
+  const selectors = [...selectorNotes(spec.spec, declared, spec.source), ...unwatchedFeatureNotes(spec.spec, trends, declared, spec.source)];
+  return { recordings, unmatched: scanned.unmatched, spec: spec.source, notes: [...declaration.notes ?? [], ...selectors, ...groups, ...(trends ? trendNamesUnseen(trends, [...channelsSeen.values()]) : [])] };
 }
 
 /** Baseline restarts and per-channel limits that name no channel these recordings have: a typo, found before any night's run. */

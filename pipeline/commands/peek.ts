@@ -1,6 +1,6 @@
 // A quick look at one recording: header, channels, duration and statistics, using its archive's declaration when it has one.
 import { existsSync, statSync } from 'node:fs';
-import { dirname, join, relative, resolve, sep } from 'node:path';
+import { dirname, extname, join, relative, resolve, sep } from 'node:path';
 import picomatch from 'picomatch';
 import { ARCHIVE_FILE, loadArchiveDeclaration } from '../declare/declare.js';
 import { UsageError } from '../declare/yaml-file.js';
@@ -9,6 +9,7 @@ import { reduceRecording } from '../reduce/compute.js';
 import type { RecordingResult } from '../reduce/result.js';
 import type { RawLayout } from '../../stages/read/raw.js';
 import type { Format } from '../../stages/read/recording.js';
+import { formatOf } from '../../stages/read/format-of.js';
 import type { DeclareHow, ReaderOptions } from '../../stages/read/open.js';
 
 /** peek takes what a file cannot say as its own options, whatever archive.yaml declares. */
@@ -49,7 +50,9 @@ function archiveOf(path: string): string | null {
 export async function runPeek(file: string, { format = null, sampleRate = null, layout = null, hdf5 = null, mat = null, flac = null }: PeekOptions = {}): Promise<{ result: RecordingResult; declaredBy: string | null }> {
   const path = resolve(file);
   // A folder is a slip of the command, not a recording to fail: say what peek takes and where a whole archive is looked at.
-  if (statSync(path, { throwIfNoEntry: false })?.isDirectory()) throw new UsageError(`${file} is a folder: peek shows one recording, so name a file in it; quern check ${file} goes through a whole archive`);
+  const stat = statSync(path, { throwIfNoEntry: false });
+  if (!stat) throw new UsageError(`${file}: no such file; name a recording (quern check <archive> lists an archive's)`);
+  if (stat.isDirectory()) throw new UsageError(`${file} is a folder: peek shows one recording, so name a file in it; quern check ${file} goes through a whole archive`);
   let job: RecordingJob = { recording: file, path, group: '(none)', format, sampleRate, layout, reader: { hdf5, mat, flac, declareHow: DECLARE_AS_OPTIONS }, channels: null, labels: {}, durationS: null, spec: {}, chunkFrames: 65536 };
   let declaredBy: string | null = null;
   const root = archiveOf(path);
@@ -66,5 +69,9 @@ export async function runPeek(file: string, { format = null, sampleRate = null, 
       job = { ...job, recording: rel, group: g.name, format: format ?? g.format, sampleRate: sampleRate ?? g.sample_rate, layout: layout ?? g.layout, reader: { ...readerOptionsOf(g), ...given, declareHow: DECLARE_AS_OPTIONS }, channels: g.channels, labels: g.labels, durationS: g.duration_s };
     }
   }
+  // What the file cannot say and no option gives is a command short of an option (exit code 2), not a bad recording.
+  const told = job.format ?? formatOf(path);
+  if (told == null) throw new UsageError(`${file}: cannot tell the format from the extension "${extname(path) || '(none)'}"; ${DECLARE_AS_OPTIONS.format}`);
+  if (told === 'raw' && (!job.layout || job.sampleRate == null)) throw new UsageError(`${file}: raw binary needs its layout and sample rate; ${DECLARE_AS_OPTIONS.raw}`);
   return { result: await reduceRecording(job), declaredBy };
 }

@@ -3,6 +3,8 @@
 import { leftLock, lockPath } from '../outputs/lock.js';
 import type { RunRecord } from '../outputs/report.js';
 import { readShardStart } from '../outputs/shard-start.js';
+import { shellWord } from '../rerun-command.js';
+import { resolve } from 'node:path';
 
 /** The shard count of the newest part (by its run's start): parts of any other count are an older layout's. */
 export function currentCount(parts: RunRecord[]): number {
@@ -67,8 +69,27 @@ export async function missingShards(out: string, n: number, parts: RunRecord[]):
     if (start?.failed != null) problems.push(`shard ${k} of ${n} failed at the start of its run, before taking its lock (${who}): ${start.failed}; it has written no part: mend that, ${again}`);
     else problems.push(`shard ${k} of ${n} did not finish its run (${who}; ${lock ? `killed or ended by its machine: its lock parts/run-${k}-of-${n}.lock is left behind: ${lock.why}` : 'it ended before writing its part'}), so it has written no part: ${again}`);
   }
-  if (never.length) problems.unshift(`${shardsWord(never)} of ${n} ${never.length > 1 ? 'have not written their part yet; run them' : 'has not written its part yet; run it'}, then merge again`);
+  if (never.length) {
+    const recorded = await recordedCommand(out, n);
+    const commands = never.map((k) => (recorded ? asShard(recorded, k, n) : `quern reduce <archive> --out ${shellWord(resolve(out))} --shard ${k}/${n}`)).join('; ');
+    const options = recorded ? '' : ', with the options the other shards were given';
+    problems.unshift(`${shardsWord(never)} of ${n} ${never.length > 1 ? 'have not written their part yet; run them' : 'has not written its part yet; run it'} (${commands}${options}), then merge again`);
+  }
   return problems;
+}
+
+/** A shard's command made another's: the recorded command ends with its `--shard K/N` (rerun-command.ts), changed to k. */
+export function asShard(command: string, k: number, n: number): string {
+  return /--shard \d+\/\d+$/.test(command) ? command.replace(/--shard \d+\/\d+$/, `--shard ${k}/${n}`) : `${command} --shard ${k}/${n}`;
+}
+
+/** The command a shard of count `n` recorded at its start (the first in shard order that did), for the shards never run. */
+async function recordedCommand(out: string, n: number): Promise<string | null> {
+  for (let k = 1; k <= n; k++) {
+    const start = await readShardStart(out, { k, n });
+    if (start?.command) return start.command;
+  }
+  return null;
 }
 
 /** Parts reduced by another version of quern than this merge's, named by shard and version, with what to run again. */

@@ -1,9 +1,9 @@
 // Loads and checks archive.yaml (what the recordings are) and reduction.yaml (what to compute).
 import { canonicalJson } from './canonical-json.js';
 import { createHash } from 'node:crypto';
-import { existsSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
-import { join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import type { Hdf5Layout } from '../../stages/read/hdf5.js';
 import type { MatLayout } from '../../stages/read/mat.js';
 import type { RawLayout } from '../../stages/read/raw.js';
@@ -92,6 +92,10 @@ const firstSpellings = (labels: string[]): string[] => labels.filter((l, i) => l
 export async function readArchiveDeclaration(archive: string, reserved: readonly string[] = [], uses: QuantityUses = NO_QUANTITY_USES): Promise<ArchiveDeclaration> {
   const file = join(archive, ARCHIVE_FILE);
   if (!existsSync(archive)) throw new UsageError(`${archive}: no such archive folder; give the folder that holds ${ARCHIVE_FILE}`);
+  if (statSync(archive).isFile()) {
+    const instead = basename(archive) === ARCHIVE_FILE ? `give its folder, ${dirname(archive)}` : `give the folder that holds ${ARCHIVE_FILE} (quern peek ${archive} shows one recording)`;
+    throw new UsageError(`${archive} is a file, not an archive folder: ${instead}`);
+  }
   if (!existsSync(file)) throw new UsageError(`${file}: missing; every archive declares its recordings in ${ARCHIVE_FILE} at its root (see schemas/archive.schema.json and the README)`);
   const { value, source, infinite, invalid } = await parseYamlProblems(await yamlText(file), 'archive.schema.json', file);
   const refusedBySchema = schemaProblems(infinite, invalid);

@@ -8,7 +8,8 @@ import { THREAD_SCRATCH, type ScratchBuffers } from '../../stages/scratch.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import { PackedRows } from '../../stages/packed-rows.js';
 import type { ChannelDeclaration } from '../../spec/archive.js';
-import { NEEDS_A_LOOK, worst } from '../../stages/quality/flag.js';
+import { NEEDS_A_LOOK, thresholdsOf, worst } from '../../stages/quality/flag.js';
+import { rawDurationProblem } from './raw-duration.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { packEvidence, type Evidence } from '../../stages/quality/evidence.js';
 import { assembleRecording } from './assemble.js';
@@ -64,6 +65,9 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
       throw new RecordingError(`header: the file says ${rec.sampleRate} Hz but group "${job.group}" declares ${job.sampleRate} Hz; correct ${(job.reader?.declareHow ?? DECLARE_IN_ARCHIVE).where.sample_rate} or move the file to the right group`);
     }
     if (rec.frames === 0) throw noSamples();
+    // A raw file's layout is only declared: a duration off the declared one is the sign of a wrong one, whose figures would mislead.
+    const offLayout = rec.format === 'raw' && job.layout && rec.frames != null ? rawDurationProblem(rec.frames, rec.sampleRate, job.layout, job.durationS, thresholdsOf(job.spec.quality).declaration.duration_tolerance, job.group) : null;
+    if (offLayout) throw new RecordingError(offLayout);
     const channels = resolveChannels(job, rec);
     return { rec, channels, notes: headerNotes(channels.map((c) => c.decl), rec, job.group) };
   } catch (e) {

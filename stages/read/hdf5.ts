@@ -4,6 +4,7 @@
 import { closeSync, openSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
+import { heldText } from './mat-element.js';
 import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
@@ -123,11 +124,33 @@ function namesOf(file: HdfFile, sources: Source[], spec: string, where: string):
   return namesIn(findAttribute(file, sources[0].path, spec, 'channel names', where), held, where);
 }
 
+/** Objects a listing of the file's datasets looks at, at most: a file of thousands is named in part. */
+const LISTING_LOOKS = 2000;
+
+/** The datasets the file holds, by path with their shape, for a message naming one that is not there (as MAT-files list their variables). */
+function datasetsHeld(file: HdfFile): string {
+  const found: { path: string; shape: number[] }[] = [];
+  const queue: { path: string; group: any }[] = [{ path: '', group: file }];
+  let looked = 0;
+  try {
+    while (queue.length && looked < LISTING_LOOKS) {
+      const { path, group } = queue.shift()!;
+      for (const name of group.keys() as string[]) {
+        if (++looked > LISTING_LOOKS) break;
+        const obj = group.get(name), at = `${path}/${name}`;
+        if (obj?.constructor.name === 'Group') queue.push({ path: at, group: obj });
+        else if (obj?.constructor.name === 'Dataset') found.push({ path: at, shape: (obj as Dataset).shape ?? [] });
+      }
+    }
+  } catch (e) { rethrowStop(e); }
+  return heldText(found, (d) => `${d.path} (${d.shape.join(' × ') || 'one value'})`, 'no dataset');
+}
+
 /** The one value of a dataset that holds a setting (the sample rate, the start time) rather than samples. */
 function datasetValue(file: HdfFile, path: string, what: string, where: string, bytes: FileBytes): unknown {
   let obj;
   try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" (the ${what}) cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
-  if (!obj) throw new RecordingError(`dataset "${path}" (the ${what}) is not in the file; correct ${where} or check the file`);
+  if (!obj) throw new RecordingError(`dataset "${path}" (the ${what}) is not in the file; ${datasetsHeld(file)}; correct ${where} or check the file`);
   if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" (the ${what}) is a ${obj.constructor.name}, not a dataset; correct ${where}`);
   const ds = obj as Dataset;
   try {
@@ -189,7 +212,7 @@ function storedTypeOfDataset(ds: Dataset, m: { type: number; size: number; signe
 function datasetOf(file: HdfFile, path: string, where: string, fileName: string, bytes: FileBytes): Source {
   let obj;
   try { obj = file.get(path); } catch (e) { rethrowStop(e); throw new RecordingError(`dataset "${path}" cannot be opened: ${firstLine(e)}; check ${where} or the file`); }
-  if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; check ${where}`);
+  if (!obj) throw new RecordingError(`dataset "${path}" is not in the file; ${datasetsHeld(file)}; check ${where}`);
   if (obj.constructor.name !== 'Dataset') throw new RecordingError(`"${path}" is a ${obj.constructor.name}, not a dataset; name the dataset in ${where}`);
   const ds = obj as Dataset;
   let m;
