@@ -23,8 +23,8 @@ describe('the notes line of the terminal summary', () => {
 describe('the report\'s counts and empty sections', () => {
   it('counts one failed channel in the singular on the terminal, more in the plural', () => {
     const totals = (fail: number) => ({ channels: { ok: 3, note: 0, warn: 0, fail }, recordings: { unreadable: 0, unmatched: 0 }, flags: {} }) as never;
-    expect(qualitySummary({ totals: totals(1), failLines: [], failCount: 0 })[0]).toBe('  quality: 1 channel fails, 0 warn, 0 with notes, 3 ok');
-    expect(qualitySummary({ totals: totals(2), failLines: [], failCount: 0 })[0]).toBe('  quality: 2 channels fail, 0 warn, 0 with notes, 3 ok');
+    expect(qualitySummary({ totals: totals(1), fails: [], failCount: 0 })[0]).toBe('  quality: 1 channel fails, 0 warn, 0 with notes, 3 ok');
+    expect(qualitySummary({ totals: totals(2), fails: [], failCount: 0 })[0]).toBe('  quality: 2 channels fail, 0 warn, 0 with notes, 3 ok');
   });
 
   it('says there is no channel to look at again rather than leave its heading empty', () => {
