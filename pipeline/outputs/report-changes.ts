@@ -4,7 +4,7 @@ import type { TopLevelSpec } from 'vega-lite';
 import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import { MAX_RECORDINGS, type ChannelPictures, type Spectrum, type TrendPicture } from '../trends/pictures.js';
 import { bandCentre, logBands } from '../trends/log-bands.js';
-import { changeLine } from '../trends/summary.js';
+import { changeLine, latestCounts } from '../trends/summary.js';
 import { COLOURS, LEVEL_RAMP } from './colours.js';
 import { frequencyScale, NO_DC } from './frequency-axis.js';
 import { MARKER_SHAPES, MARKER_SIZES, markerGlyph, markerOf, type Marker } from './trend-markers.js';
@@ -176,7 +176,7 @@ ${KEY}
 function newsText(r: ChangesReport): string {
   if (!r.news) return '';
   if (!r.news.compared) return '; all new: no earlier report of this output folder is kept to compare with';
-  return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed first` : '; none new: the previous run reported each of them';
+  return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed after any alarms` : '; none new: the previous run reported each of them';
 }
 
 /** The section around the pictures drawn by picturesHtml: the count, the table (new items marked in words), the pictures. */
@@ -184,15 +184,17 @@ export function changesSection(r: ChangesReport, pictured: string): string {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
   const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
   out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
+  // Each channel feature counted once, by what it reads at the end of the run, as the table's items are.
+  const l = latestCounts(r);
   if (!r.items.length) {
     // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
-    const mostlyUnjudged = r.totals.unscored > r.totals.steady;
+    const mostlyUnjudged = l.unscored > l.steady;
     out.push(mostlyUnjudged
-      ? `<p class="unjudged">No change found, but only ${r.totals.steady} channel features of this run have a verdict (steady); ${r.totals.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
-      : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
+      ? `<p class="unjudged">No change found, but only ${l.steady} channel features of this run have a verdict (steady); ${l.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
+      : `<p class="steady">Nothing changed: ${l.steady} channel features of this run read steady${l.unscored ? `; ${l.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
     return out.join('\n');
   }
-  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${r.totals.steady} read steady.</p>`);
+  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${l.steady} read steady${l.unscored ? `, ${l.unscored} have no verdict` : ''}.</p>`);
   out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
   if (pictured) out.push(pictured);
   out.push('</section>');

@@ -146,7 +146,12 @@ export interface ChangesReport {
   features: string[];
   /** Verdicts over this run's rows of trends.parquet; unscored: baseline forming or data unusable. */
   totals: Record<Verdict | 'unscored', number>;
-  /** Channel features whose latest verdict is not steady: the new ones first (once marked), each part alarms first, then by strength. */
+  /**
+   * Channel features of this run by their latest verdict, what each reads tonight (unscored: none of its rows in this run has a
+   * verdict); changed and alarm count the items. Absent from reports kept before it was counted.
+   */
+  latest?: Record<Verdict | 'unscored', number>;
+  /** Channel features whose latest verdict is not steady: alarms first, then (once marked) the new changes, then the others; each part by strength. */
   items: ChangeItem[];
   /** Once the news are marked: how many items are new, and whether an earlier run's report was kept to compare with (false: every item is new). */
   news?: { new: number; compared: boolean };
@@ -191,6 +196,7 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
  */
 export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false, steady: Set<string> = new Set()): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
+  const latestTotals = { ...totals };
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0, periodForming = 0;
   const staleCauses = Object.fromEntries(STALE_CAUSES.map((c) => [c, 0])) as Record<StaleCauseName, number>;
@@ -229,6 +235,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
         if (!base.complete) periodForming++;
       }
     }
+    if (rows) latestTotals[latest < 0 ? 'unscored' : f.at(latest)!.verdict!]++;
     if (latest < 0) continue;
     const p = f.at(latest)!;
     // Collected for the news: a change the previous run reported clears only where this run sees the feature steady.
@@ -252,7 +259,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
   const held = heldAcrossStale(scored, o);
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
-    features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
+    features: o.features.map((f) => f.name), totals, latest: latestTotals, items, stale_baselines: staleBaselines,
     ...(staleBaselines ? { stale_causes: staleCauses } : {}),
     ...(unformed.size ? { unformed_baselines: [...unformed.values()] } : {}),
     ...formingOf([...unformed], toCome, 'first' in o.baseline ? o.baseline.first : 0),
