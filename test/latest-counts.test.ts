@@ -5,6 +5,7 @@ import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
+import { launchBrowser, openPage } from './browser.js';
 import { quern, readJson, tempDir } from './helpers.js';
 
 const FS = 8000;
@@ -32,6 +33,9 @@ describe('channel features counted by their latest verdict', () => {
   writeFileSync(join(root, 'spec.yaml'), 'statistics: {}\ntrends: { features: [rms] }\n');
   for (let n = 1; n <= 5; n++) writeFileSync(join(archive, 'rig', `2026-07-0${n}.wav`), night(n, n >= 4 ? STEP : 1));
   const run = quern('reduce', archive, '--out', out, '--spec', join(root, 'spec.yaml'), '--jobs', '1');
+  // The first three nights alone, into a folder of their own: nothing changed, but acc_clip can get no verdict.
+  const early = join(root, 'early');
+  const calm = quern('reduce', archive, '--out', early, '--spec', join(root, 'spec.yaml'), '--jobs', '1', '--until', '2026-07-04');
 
   it('counts one changed, one steady and one without a verdict on the terminal, though the run holds five rows of each', () => {
     expect(run.code).toBe(0);
@@ -46,5 +50,26 @@ describe('channel features counted by their latest verdict', () => {
   it('says the same in quality.html', () => {
     const html = readFileSync(join(out, 'quality.html'), 'utf8');
     expect(html).toContain('<b>0</b> channel features at an alarm limit, <b>1</b> changed; all new: no earlier report of this output folder is kept to compare with; 1 read steady, 1 have no verdict.');
+  });
+
+  it('names a channel whose baseline cannot form from its failing recordings, with why, and gives no green all-clear', async () => {
+    expect(calm.code).toBe(0);
+    const changes = readJson(join(early, 'quality.json')).changes;
+    expect(changes.latest).toEqual({ steady: 2, changed: 0, alarm: 0, unscored: 1 });
+    expect(changes.unformed_baselines).toEqual([expect.objectContaining({ channel: 'acc_clip', why: expect.stringMatching(/3 fail the data-quality checks/) })]);
+    const browser = await launchBrowser();
+    try {
+      for (const [folder, steadyShown] of [[early, 0], [out, 0]] as const) {
+        const { page, errors } = await openPage(browser, join(folder, 'quality.html'));
+        expect(await page.locator('#what-changed p.steady').count()).toBe(steadyShown);
+        const named = await page.locator('#what-changed .unformed li').allTextContents();
+        expect(named).toEqual([expect.stringMatching(/^rig · acc_clip \(rms\): 0 of the 3 usable recordings it needs so far \((3|5) fail the data-quality checks\)/)]);
+        expect(errors).toEqual([]);
+      }
+      const { page } = await openPage(browser, join(early, 'quality.html'));
+      expect(await page.locator('#what-changed p.unjudged').first().textContent()).toBe('No change found, but only 2 channel features of this run have a verdict (steady); 1 have none (1 channel has no baseline, and not only for want of nights: named below): see the channels that need a second look further down.');
+    } finally {
+      await browser.close();
+    }
   });
 });

@@ -179,6 +179,27 @@ function newsText(r: ChangesReport): string {
   return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed after any alarms` : '; none new: the previous run reported each of them';
 }
 
+/** Channels named at most in the list of baselines that cannot form by waiting; quality.json names every one. */
+export const MAX_BLOCKED_LISTED = 50;
+
+/**
+ * The unformed baselines that recordings to come will not form by themselves (their places hold recordings that fail the
+ * data-quality checks, are left out or lack the feature; a baseline period without usable recordings): not those that
+ * only wait for more nights (`forming_baselines`).
+ */
+export function blockedBaselines(r: ChangesReport): NonNullable<ChangesReport['unformed_baselines']> {
+  const waiting = new Set((r.forming_baselines ?? []).flatMap((g) => g.unformed_entries));
+  return (r.unformed_baselines ?? []).filter((_, i) => !waiting.has(i));
+}
+
+/** The channels without a baseline that waiting alone will not form, each with its features and why; empty when none. */
+function blockedList(blocked: NonNullable<ChangesReport['unformed_baselines']>): string {
+  if (!blocked.length) return '';
+  const more = blocked.length - MAX_BLOCKED_LISTED;
+  return `<div class="unformed"><p class="unjudged">${blocked.length} ${blocked.length === 1 ? 'channel has' : 'channels have'} no baseline, and not only for want of nights, so ${blocked.length === 1 ? 'its features get' : 'their features get'} no change verdict:</p>
+<ul>${blocked.slice(0, MAX_BLOCKED_LISTED).map((u) => `<li data-group="${esc(u.group)}" data-channel="${esc(u.channel)}">${esc(u.group)} · ${esc(u.channel)} (${esc(u.features.join(', '))}): ${esc(u.why)}</li>`).join('')}</ul>${more > 0 ? `\n<p class="note">…and ${more} more in quality.json (changes.unformed_baselines).</p>` : ''}</div>`;
+}
+
 /** The section around the pictures drawn by picturesHtml: the count, the table (new items marked in words), the pictures. */
 export function changesSection(r: ChangesReport, pictured: string): string {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
@@ -186,16 +207,20 @@ export function changesSection(r: ChangesReport, pictured: string): string {
   out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
   // Each channel feature counted once, by what it reads at the end of the run, as the table's items are.
   const l = latestCounts(r);
+  const blocked = blockedBaselines(r);
   if (!r.items.length) {
-    // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
-    const mostlyUnjudged = l.unscored > l.steady;
-    out.push(mostlyUnjudged
-      ? `<p class="unjudged">No change found, but only ${l.steady} channel features of this run have a verdict (steady); ${l.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
-      : `<p class="steady">Nothing changed: ${l.steady} channel features of this run read steady${l.unscored ? `; ${l.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
+    // All clear only where most features have a verdict and every baseline forms by waiting: otherwise the page says so
+    // without the calm colour, naming the channels that cannot be judged.
+    const unjudged = l.unscored > l.steady || blocked.length > 0;
+    out.push(unjudged
+      ? `<p class="unjudged">No change found, but only ${l.steady} channel features of this run have a verdict (steady); ${l.unscored} have none (${blocked.length ? `${blocked.length} ${blocked.length === 1 ? 'channel has' : 'channels have'} no baseline, and not only for want of nights: named below` : 'baseline forming, held by figures of other spec options, or data unusable'}): see the channels that need a second look further down.</p>`
+      : `<p class="steady">Nothing changed: ${l.steady} channel features of this run read steady${l.unscored ? `; ${l.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p>`);
+    out.push(blockedList(blocked), '</section>');
     return out.join('\n');
   }
   out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${l.steady} read steady${l.unscored ? `, ${l.unscored} have no verdict` : ''}.</p>`);
   out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
+  out.push(blockedList(blocked));
   if (pictured) out.push(pictured);
   out.push('</section>');
   return out.join('\n');
