@@ -142,7 +142,7 @@ const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' 
 
 function row(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
-  return `<tr data-feature="${esc(c.feature)}"${c.new ? ' data-new="true"' : ''}><td>${badge(c.verdict)}${c.held ? ' held' : ''}${c.new ? ' <b>new</b>' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+  return `<tr data-feature="${esc(c.feature)}"${c.new ? ' data-new="true"' : ''}><td>${badge(c.verdict)}${c.held ? ' held' : ''}${c.new ? ' <b>new</b>' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}${c.failed_after ? `<br><span class="note" data-failed-after="true">latest usable; ${esc(day(c.failed_after.start_time, c.failed_after.recording))}'s recording failed: ${esc(c.failed_after.flags.join(', '))}</span>` : ''}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
 }
 
 /**

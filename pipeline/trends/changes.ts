@@ -2,7 +2,7 @@
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, recordingsToCome, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
-import { severityAt, usable, type History, type Series } from './history.js';
+import { failingFlags, severityAt, usable, type History, type Series } from './history.js';
 import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
 import { heldAcrossStale, type HeldAcrossStale } from './held-across-stale.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
@@ -138,6 +138,11 @@ export interface ChangeItem {
   floor?: { below: BelowFloor; level: number };
   /** Not reported at this verdict or above by the output folder's previous run (news.ts); absent before the news are marked. */
   new?: boolean;
+  /**
+   * Present where the run's last recording of the channel is later than `recording` and fails the data-quality checks, so
+   * that `value` is the latest usable one: that recording, its start and the flags it fails.
+   */
+  failed_after?: { recording: string; start_time: string | null; flags: string[] };
 }
 
 export interface ChangesReport {
@@ -253,6 +258,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
       since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.baseAt(latest).members.length,
       strength: strengthOf(p, o), held: p.held === true, ...(p.floor ? { floor: p.floor } : {}),
+      ...(last > latest && !usable(s, last) ? { failed_after: { recording: h.recordings[s.recording[last]], start_time: iso(s, last), flags: failingFlags(s, last) } } : {}),
     });
   }
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));

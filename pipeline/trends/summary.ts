@@ -18,8 +18,12 @@ export function changeLine(c: ChangeItem): string {
   const limit = c.limit ? `; at or above its ${c.limit} limit ${num(c.limits![c.limit]!)}${unit}` : '';
   const since = c.since.recording !== c.recording ? `, since ${day(c.since.start_time, c.since.recording)}` : '';
   const held = c.held ? ' (back inside its threshold, not yet by the deadband)' : '';
-  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}`;
+  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}${failedAfterText(c)}`;
 }
+
+/** "; the latest usable value: 2026-03-09's recording failed the data-quality checks (saturation)", where the run's last recording of the channel failed them. */
+export const failedAfterText = (c: Pick<ChangeItem, 'failed_after'>): string =>
+  c.failed_after ? `; the latest usable value: ${day(c.failed_after.start_time, c.failed_after.recording)}'s recording failed the data-quality checks (${c.failed_after.flags.join(', ') || 'its channel fails'})` : '';
 
 /** "2 more usable recordings", or "1 to 2 more usable recordings" where channels differ. */
 const toCome = ({ fewest, most }: { fewest: number; most: number }) => `${fewest === most ? most : `${fewest} to ${most}`} more usable ${most === 1 ? 'recording' : 'recordings'}`;
