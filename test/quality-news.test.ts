@@ -95,5 +95,7 @@ describe('tonight\'s data-quality findings first', () => {
     const totals = { channels: { ok: 0, note: 0, warn: 0, fail: 3 }, recordings: { unreadable: 0, unmatched: 0 }, flags: {} } as never;
     const lines = qualitySummary({ totals, fails: [g('a', false, 5, 3), g('c', true, 1, 1), g('b', true, 1, 2)], failCount: 7 }, 1);
     expect(lines.slice(1)).toEqual(['  FAIL    r-b b: saturation: clipped; NEW', '  …       and 6 more failed flags (on 1 channel flag new in this run): see quality.json']);
+    // An unchanged re-run's summary, kept by a run before the flags were gathered, still tells its lines.
+    expect(qualitySummary({ totals, failLines: ['  FAIL    r a: saturation: clipped'], failCount: 2 } as never).slice(1)).toEqual(['  FAIL    r a: saturation: clipped', '  …       and 1 more failed flags: see quality.json']);
   });
 });

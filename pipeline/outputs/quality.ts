@@ -85,8 +85,10 @@ export const failGroupsOf = (r: QualityRecording, startMs: number | null): FailG
 export function qualitySummary(q: QualitySummary, max = MAX_FAIL_LINES): string[] {
   const t = q.totals.channels;
   const fails = [...(q.fails ?? [])].sort(byNews), shown = fails.slice(0, max);
-  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...notAssessedLines(q.totals.not_assessed).map((l) => `  NOT CHECKED ${l}`), ...shown.map(failGroupLine)];
-  const untold = q.failCount - shown.reduce((n, g) => n + g.failed, 0), fresh = fails.slice(max).filter((g) => g.new).length;
+  // A digest file kept before the flags were gathered holds the lines themselves.
+  const legacy = q.fails ? [] : ((q as { failLines?: string[] }).failLines ?? []);
+  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...notAssessedLines(q.totals.not_assessed).map((l) => `  NOT CHECKED ${l}`), ...shown.map(failGroupLine), ...legacy];
+  const untold = q.failCount - shown.reduce((n, g) => n + g.failed, 0) - legacy.length, fresh = fails.slice(max).filter((g) => g.new).length;
   if (untold > 0) lines.push(`  …       and ${untold} more failed flags${fresh ? ` (on ${fresh} channel ${fresh === 1 ? 'flag' : 'flags'} new in this run)` : ''}: see quality.json`);
   return lines;
 }
