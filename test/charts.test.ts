@@ -64,6 +64,10 @@ describe('the report\'s units and numbers', () => {
   it('gives a flag\'s value in its threshold\'s terms: a fraction in per cent (×100, common practice), a run in seconds, a count of samples', () => {
     expect(flagValue({ name: 'saturation', value: 9.766e-5 })).toBe('0.009766 % of samples at the limits');
     expect(flagValue({ name: 'dropout', value: 0.25 })).toBe('25 % of samples missing');
+    // A dropout raised by a stretch of exact zeros (nothing missing) or an irregular time step says so, from its evidence.
+    expect(flagValue({ name: 'dropout', value: 0, evidence: { missing: 0, zero_run_s: 0.3, irregular_steps: null } })).toBe('exact zeros for 0.3 s (no sample missing)');
+    expect(flagValue({ name: 'dropout', value: 0, evidence: { missing: 0, zero_run_s: 0, irregular_steps: 2 } })).toBe('2 irregular time steps');
+    expect(flagValue({ name: 'dropout', value: 0.25, evidence: { missing: 2000, zero_run_s: 0.3, irregular_steps: null } })).toBe('25 % of samples missing');
     expect(flagValue({ name: 'flatline', value: 4 })).toBe('longest constant stretch 4 s');
     expect(flagValue({ name: 'spikes', value: 1 })).toBe('1 sample');
     expect(flagValue({ name: 'resolution', value: null })).toBe('—');

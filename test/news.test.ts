@@ -60,7 +60,7 @@ describe('what is new tonight', () => {
     expect(four.code).toBe(3);
     expect(four.stdout).toContain('  exit code 3: 1 channel feature new in this run');
     expect(changedLines(four.stdout)).toEqual([expect.stringMatching(/^ {2}CHANGED rig acc rms .* on 2026-11-04: \+8\.\d dB.*; NEW$/)]);
-    expect(four.stdout).toMatch(/^ {2}new: {5}1 new in this run \(marked NEW, listed first\), 0 reported already/m);
+    expect(four.stdout).toMatch(/^ {2}new: {5}1 new in this run \(marked NEW, listed first after any alarms\), 0 reported already/m);
     expect(changes().items).toMatchObject([{ channel: 'acc', feature: 'rms', verdict: 'changed', new: true }]);
     expect(changes().news).toEqual({ new: 1, compared: true });
     const html = readFileSync(join(out, 'quality.html'), 'utf8');

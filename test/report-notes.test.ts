@@ -23,8 +23,8 @@ describe('the notes line of the terminal summary', () => {
 describe('the report\'s counts and empty sections', () => {
   it('counts one failed channel in the singular on the terminal, more in the plural', () => {
     const totals = (fail: number) => ({ channels: { ok: 3, note: 0, warn: 0, fail }, recordings: { unreadable: 0, unmatched: 0 }, flags: {} }) as never;
-    expect(qualitySummary({ totals: totals(1), failLines: [], failCount: 0 })[0]).toBe('  quality: 1 channel fails, 0 warn, 0 with notes, 3 ok');
-    expect(qualitySummary({ totals: totals(2), failLines: [], failCount: 0 })[0]).toBe('  quality: 2 channels fail, 0 warn, 0 with notes, 3 ok');
+    expect(qualitySummary({ totals: totals(1), fails: [], failCount: 0 })[0]).toBe('  quality: 1 channel fails, 0 warn, 0 with notes, 3 ok');
+    expect(qualitySummary({ totals: totals(2), fails: [], failCount: 0 })[0]).toBe('  quality: 2 channels fail, 0 warn, 0 with notes, 3 ok');
   });
 
   it('says there is no channel to look at again rather than leave its heading empty', () => {
@@ -47,9 +47,12 @@ describe('the changes line when most watched features have no verdict', () => {
 
   it('says one feature at an alarm limit in the singular', async () => {
     const { changesSummary } = await import('../pipeline/trends/summary.js');
-    const one = { ...report(12, 0), items: [{ verdict: 'alarm' }] };
+    // Every alarm is listed, whatever the number of lines asked for.
+    const alarm = { group: 'rig', channel: 'acc', channel_unit: 'm/s^2', feature: 'rms', unit: 'm/s^2', verdict: 'alarm', limit: 'alarm', limits: { alarm: 5 }, recording: 'r', start_time: null, value: 6, baseline: null, change_db: null, score: null, since: { recording: 'r', start_time: null }, held: false };
+    const one = { ...report(12, 0), items: [alarm] };
     expect(changesSummary(one as never, 0)[0]).toMatch(/^  changes: 1 channel feature at an alarm limit, 0 changed/);
-    expect(changesSummary({ ...one, items: [{ verdict: 'alarm' }, { verdict: 'alarm' }] } as never, 0)[0]).toMatch(/^  changes: 2 channel features at an alarm limit/);
+    expect(changesSummary(one as never, 0)[1]).toBe('  ALARM   rig acc rms 6 m/s^2 on r; at or above its alarm limit 5 m/s^2');
+    expect(changesSummary({ ...one, items: [alarm, alarm] } as never, 0)[0]).toMatch(/^  changes: 2 channel features at an alarm limit/);
   });
 
   it('does not open the report with an all-clear in the calm colour when most features have none', async () => {

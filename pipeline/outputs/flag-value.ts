@@ -5,10 +5,27 @@ import { plainNumber } from './plain-number.js';
 
 const percent = (f: number) => `${plainNumber(f * 100)} %`;
 
-/** What each flag's value measures, in its threshold's terms. */
-const SHOWN: Record<string, (v: number) => string> = {
+type Evidence = Flag['evidence'];
+const evidenced = (e: Evidence | undefined, key: string) => { const x = e?.[key]; return typeof x === 'number' && Number.isFinite(x) ? x : 0; };
+
+/**
+ * The dropout flag's value, with what raised it: its value is the share missing, which reads 0 where a stretch of exact
+ * zeros or an irregular time step raised it, so the evidence names those (the zeros only where nothing is missing).
+ */
+function dropoutShown(v: number, e?: Evidence): string {
+  const zeros = evidenced(e, 'zero_run_s'), irregular = evidenced(e, 'irregular_steps');
+  const parts = [
+    v > 0 ? `${percent(v)} of samples missing` : '',
+    v === 0 && zeros > 0 ? `exact zeros for ${plainNumber(zeros)} s (no sample missing)` : '',
+    irregular > 0 ? `${plainNumber(irregular)} irregular time ${irregular === 1 ? 'step' : 'steps'}` : '',
+  ].filter(Boolean);
+  return parts.length ? parts.join('; ') : `${percent(v)} of samples missing`;
+}
+
+/** What each flag's value measures, in its threshold's terms (some with their evidence). */
+const SHOWN: Record<string, (v: number, e?: Evidence) => string> = {
   saturation: (v) => `${percent(v)} of samples at the limits`,
-  dropout: (v) => `${percent(v)} of samples missing`,
+  dropout: dropoutShown,
   flatline: (v) => `longest constant stretch ${plainNumber(v)} s`,
   aliasing: (v) => `fs = ${plainNumber(v)} × declared highest frequency`,
   declaration: (v) => `duration ${plainNumber(v)} s`,
@@ -21,5 +38,5 @@ const SHOWN: Record<string, (v: number) => string> = {
 };
 
 /** The value column's text: "—" when the flag has no value. */
-export const flagValue = (f: Pick<Flag, 'name' | 'value'>): string =>
-  f.value == null || !Number.isFinite(f.value) ? '—' : (SHOWN[f.name] ?? plainNumber)(f.value);
+export const flagValue = (f: Pick<Flag, 'name' | 'value'> & { evidence?: Evidence }): string =>
+  f.value == null || !Number.isFinite(f.value) ? '—' : SHOWN[f.name] ? SHOWN[f.name](f.value, f.evidence) : plainNumber(f.value);

@@ -11,10 +11,11 @@ import { createInterface } from 'node:readline';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import type { Pool } from '../reduce/pool.js';
 import { forgetDigest, keepDigest, outputsDigest, readDigest, stillCurrent, withChanges } from './digest.js';
-import { addTotals, emptyTotals, MAX_FAIL_LINES, type QualitySummary } from './quality.js';
+import { addTotals, emptyTotals, type QualitySummary } from './quality.js';
+import { addFailGroups, byNews, flagKey, keepReportedFlags, readReportedFlags, type FailGroup, type ReportedFlag } from './quality-news.js';
 import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
 import type { TrendsWrite } from '../trends/trends.js';
-import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
+import type { SectionKey, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { ownBuffers, release } from '../store/release.js';
 import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
@@ -43,6 +44,11 @@ export const partNames = (k: number, n: number): OutputNames => ({
   table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`, spectra: false,
   spool: (name) => `parts/${name}-${k}-of-${n}.spool`,
 });
+
+/** The report's order of the sections: new first, then unusable before to check, then the newest recording first (then by name, the later first). */
+const sectionOrder = (a: SectionKey, b: SectionKey): number =>
+  Number(b.new) - Number(a.new) || Number(b.severity === 'fail') - Number(a.severity === 'fail') || (b.start_ms ?? -Infinity) - (a.start_ms ?? -Infinity)
+  || (a.candidate.recording < b.candidate.recording ? 1 : a.candidate.recording > b.candidate.recording ? -1 : 0);
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
 
@@ -135,7 +141,8 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await commitAll(trends);
       await changes?.done();
       // The same changes, marked new against this run's previous report: the terminal and the exit code tell this run's news.
-      const quality = changes?.outcome ? { ...current.quality, changes: changes.outcome.report } : current.quality;
+      // Nor is any flag new: the previous run reported the same.
+      const quality = { ...current.quality, fails: (current.quality.fails ?? []).map((g) => ({ ...g, new: false })), ...(changes?.outcome ? { changes: changes.outcome.report } : {}) };
       return { quality, rewritten: false, digest: current.digest, writtenBy: current.run_id, keep: async () => {} };
     }
   }
@@ -152,14 +159,18 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
   const spool = (name: string) => staged(names.spool(name));
-  const spools = { quality: spool('quality-list'), overview: spool('overview'), fail: spool('fail'), warn: spool('warn'), notes: spool('notes') };
+  const spools = { quality: spool('quality-list'), overview: spool('overview'), sections: spool('sections'), notes: spool('notes') };
+  // The flags the previous run into this folder reported, to mark tonight's new ones (a shard's part marks none: merge does).
+  const earlierFlags = qualityHtml ? await readReportedFlags(outDir) : undefined;
   const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
   try {
     const totals = emptyTotals(o.unmatched.length);
-    const summary: QualitySummary = { totals, failLines: [], failCount: 0, changes: null };
+    const summary: QualitySummary = { totals, fails: [], failCount: 0, changes: null };
     const channelNames = new Set<string>();
-    const candidates = { fail: [] as Candidate[], warn: [] as Candidate[] };
-    const counted = { fail: 0, warn: 0, recordings: 0 };
+    const fails = new Map<string, FailGroup>(), channelRecordings = new Map<string, number>(), flagged = new Map<string, 'warn' | 'fail'>();
+    // Each section's place in the spool and what orders it: the report lists them new first, unusable first, the newest first.
+    const sectionIndex: (SectionKey & { offset: number })[] = [];
+    const counted = { recordings: 0, sectionBytes: 0 };
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
       // Secondary tables come as columns, cut into record batches one at a time: a long table is never one stream.
@@ -170,20 +181,19 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       counted.recordings += s.recordings;
       addTotals(totals, s.totals);
       summary.failCount += s.failCount;
-      summary.failLines.push(...s.failLines.slice(0, MAX_FAIL_LINES - summary.failLines.length));
+      addFailGroups(fails, s.fails);
+      for (const [k, n] of Object.entries(s.channelRecordings)) channelRecordings.set(k, (channelRecordings.get(k) ?? 0) + n);
+      for (const [k, sev] of Object.entries(s.flagged)) if (flagged.get(k) !== 'fail') flagged.set(k, sev);
       if (!qualityHtml) return;
       for (const c of s.channels) channelNames.add(c);
       await spools.overview.write(s.overview);
       await spools.notes.write(s.notes);
-      for (const sev of ['fail', 'warn'] as const) {
-        await spools[sev].write(s.sections[sev]);
-        candidates[sev].push(...s.candidates[sev].slice(0, MAX_PICTURED - candidates[sev].length));
-        counted[sev] += s.counts[sev];
-      }
+      await spools.sections.write(s.sections);
+      for (const key of s.sectionKeys) { sectionIndex.push({ ...key, offset: counted.sectionBytes }); counted.sectionBytes += key.bytes; }
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
-    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, group, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, group, labels })), spec: o.spec, labels: o.labels, spectra });
+    const task = (items: OutputItem[]): SliceTask => ({ items: items.map(({ recording, loc, group, labels }): SliceItem => ({ at: { file: loc.file, offset: loc.offset, length: loc.length, bodySha: loc.bodySha }, recording, group, labels })), spec: o.spec, labels: o.labels, spectra, ...(earlierFlags !== undefined ? { earlierFlags } : {}) });
     const pending: Promise<SliceOutput>[] = [];
     const all = slices(o.items, { threads: o.pool.threads });
     o.pool.widen(all.length);
@@ -203,6 +213,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     for (const p of Object.values(parquet)) await p.finish();
     const outcome = (await settled())?.outcome ?? null;
     summary.changes = outcome?.report ?? null;
+    summary.fails = [...fails.values()].map((g) => ({ ...g, of: channelRecordings.get(flagKey(g.group, g.channel, '')) ?? g.failed })).sort(byNews);
 
     const generated = new Date().toISOString();
     await spools.quality.close({ durable: false });
@@ -212,9 +223,10 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     await qualityJson.close();
 
     if (qualityHtml) {
-      for (const f of [spools.overview, spools.fail, spools.warn, spools.notes]) await f.close({ durable: false });
-      // Pictures for the first channels, unusable ones first: drawn from the entries' data, shared among the threads.
-      const pictured = [...candidates.fail, ...candidates.warn].slice(0, MAX_PICTURED);
+      for (const f of [spools.overview, spools.sections, spools.notes]) await f.close({ durable: false });
+      sectionIndex.sort(sectionOrder);
+      // Pictures for the first channels in the report's order: drawn from the entries' data, shared among the threads.
+      const pictured = sectionIndex.slice(0, MAX_PICTURED).map((x) => x.candidate);
       const parts = Array.from({ length: Math.ceil(pictured.length / PICTURES_A_TASK) }, (_, k) => pictured.slice(k * PICTURES_A_TASK, (k + 1) * PICTURES_A_TASK));
       o.pool.widen(parts.length);
       const drawn = parts.map((part) => o.pool.run<(string[] | null)[]>('picturesOf', part));
@@ -230,12 +242,18 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');
       for await (const line of lines(spools.overview)) await qualityHtml.write(overviewLine(JSON.parse(line) as OverviewRow, names) + '\n');
-      await qualityHtml.write(sectionsHead(counted.fail + counted.warn) + '\n');
-      const failsPictured = Math.min(candidates.fail.length, pictured.length);
-      let i = 0;
-      for await (const line of lines(spools.fail)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(i < failsPictured ? await chartsOf(i) : null)}\n`); i++; }
-      let j = 0;
-      for await (const line of lines(spools.warn)) { await qualityHtml.write(`${JSON.parse(line)}\n${sectionEnd(failsPictured + j < pictured.length ? await chartsOf(failsPictured + j) : null)}\n`); j++; }
+      await qualityHtml.write(sectionsHead(sectionIndex.length, sectionIndex.filter((x) => x.new).length) + '\n');
+      // Each section read back from its place in the spool, in the report's order.
+      const fh = await open(spools.sections.tmp, 'r');
+      try {
+        for (const [i, x] of sectionIndex.entries()) {
+          const bytes = Buffer.allocUnsafe(x.bytes);
+          await fh.read(bytes, 0, x.bytes, x.offset);
+          await qualityHtml.write(`${JSON.parse(bytes.toString('utf8'))}\n${sectionEnd(i < pictured.length ? await chartsOf(i) : null)}\n`);
+        }
+      } finally {
+        await fh.close();
+      }
       let notes = 0;
       for await (const line of lines(spools.notes)) await qualityHtml.write(`${notes++ ? '' : notesHead() + '\n'}${JSON.parse(line)}\n`);
       if (notes) await qualityHtml.write(notesEnd() + '\n');
@@ -253,7 +271,11 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const files = keptFiles(outDir, outputs);
     const digest = withChanges(basis, changes);
     // Kept only after the run's record: the outputs beside a digest file are one run's whole set, run.json with them.
-    const keep = () => keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });
+    const reported = [...flagged].map(([k, severity]): ReportedFlag => { const [group, channel, flag] = k.split('\u0000'); return { group, channel, flag, severity }; });
+    const keep = async () => {
+      await keepDigest(digestPath, { digest, basis, run_id: o.runId, written: generated, files, quality: summary });
+      if (qualityHtml) await keepReportedFlags(outDir, { reported });
+    };
     return { quality: summary, rewritten: true, digest, writtenBy: o.runId, keep };
   } finally {
     // Changes still in the making when a write failed: their staged tables go too.

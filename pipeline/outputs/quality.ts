@@ -5,8 +5,11 @@ import { SEVERITIES, worst, type Flag, type Severity } from '../../stages/qualit
 import type { RecordingResult } from '../reduce/result.js';
 import type { ChangesReport } from '../trends/changes.js';
 import { addNotAssessed, notAssessedLines, type NotAssessed } from './not-assessed.js';
+import { byNews, failGroupLine, type FailGroup } from './quality-news.js';
 
-export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: Flag[] }
+/** A flag as quality.json holds it: at warn or fail, `new` where the output folder's previous run did not report it at that severity (quality-news.ts). */
+export type QualityFlag = Flag & { new?: boolean };
+export interface QualityChannel { channel: string; unit: string; severity: Severity; flags: QualityFlag[] }
 export interface QualityRecording { recording: string; group: string; status: 'reduced' | 'failed'; severity: Severity; reason?: string; channels: QualityChannel[] }
 type Counts = Record<Severity, number>;
 /** `not_assessed` by flag name: checks that could not be made (read as ok by severity), absent from totals made before it was kept. */
@@ -24,10 +27,13 @@ export interface QualityReport {
   changes?: ChangesReport;
 }
 
-/** What the terminal shows of a run's quality: the totals and the first failed channels (all of them are in quality.json). */
-export interface QualitySummary { totals: QualityTotals; failLines: string[]; failCount: number; changes?: ChangesReport | null }
+/**
+ * What the terminal shows of a run's quality: the totals, and the failed flags per channel and flag (`fails`, ordered by
+ * quality-news.ts's `byNews`; all of them are in quality.json), with the count of failed flags over the recordings.
+ */
+export interface QualitySummary { totals: QualityTotals; fails: FailGroup[]; failCount: number; changes?: ChangesReport | null }
 
-/** Failed channels listed on the terminal; the rest are counted. */
+/** Failed channel flags listed on the terminal; the rest are counted. */
 export const MAX_FAIL_LINES = 50;
 
 export function qualityRecording(r: RecordingResult): QualityRecording {
@@ -66,15 +72,23 @@ export function addTotals(t: QualityTotals, more: QualityTotals): void {
   for (const [name, n] of Object.entries(more.not_assessed ?? {})) addNotAssessed(t.not_assessed ??= {}, name, n);
 }
 
+/** A recording's failed flags, one group each, to be gathered per channel and flag with the other recordings'. */
+export const failGroupsOf = (r: QualityRecording, startMs: number | null): FailGroup[] =>
+  r.channels.filter((x) => x.severity === 'fail').flatMap((c) => c.flags.filter((x) => x.severity === 'fail').map((f) => ({
+    group: r.group, channel: c.channel, flag: f.name, new: f.new === true, failed: 1, of: 0, latest: { recording: r.recording, start_ms: startMs, message: f.message },
+  })));
 
-/** A recording's failed channels as terminal lines. */
-export const failLines = (r: QualityRecording): string[] =>
-  r.channels.filter((x) => x.severity === 'fail').flatMap((c) => c.flags.filter((x) => x.severity === 'fail').map((f) => `  FAIL    ${r.recording} ${c.channel}: ${f.name}: ${f.message}`));
-
-/** The terminal's quality lines: counts by severity, then the failed channels with their messages. */
-export function qualitySummary(q: QualitySummary): string[] {
+/**
+ * The terminal's quality lines: counts by severity, then the failed flags with their messages, new ones first, then the
+ * newest recording first; a flag failing on several recordings of a channel in one line.
+ */
+export function qualitySummary(q: QualitySummary, max = MAX_FAIL_LINES): string[] {
   const t = q.totals.channels;
-  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...notAssessedLines(q.totals.not_assessed).map((l) => `  NOT CHECKED ${l}`), ...q.failLines];
-  if (q.failCount > q.failLines.length) lines.push(`  …       and ${q.failCount - q.failLines.length} more failed flags: see quality.json`);
+  const fails = [...(q.fails ?? [])].sort(byNews), shown = fails.slice(0, max);
+  // A digest file kept before the flags were gathered holds the lines themselves.
+  const legacy = q.fails ? [] : ((q as { failLines?: string[] }).failLines ?? []);
+  const lines = [`  quality: ${t.fail} ${t.fail === 1 ? 'channel fails' : 'channels fail'}, ${t.warn} warn, ${t.note} with notes, ${t.ok} ok`, ...notAssessedLines(q.totals.not_assessed).map((l) => `  NOT CHECKED ${l}`), ...shown.map(failGroupLine), ...legacy];
+  const untold = q.failCount - shown.reduce((n, g) => n + g.failed, 0) - legacy.length, fresh = fails.slice(max).filter((g) => g.new).length;
+  if (untold > 0) lines.push(`  …       and ${untold} more failed flags${fresh ? ` (on ${fresh} channel ${fresh === 1 ? 'flag' : 'flags'} new in this run)` : ''}: see quality.json`);
   return lines;
 }

@@ -4,7 +4,7 @@ import type { TopLevelSpec } from 'vega-lite';
 import type { ChangeItem, ChangesReport } from '../trends/changes.js';
 import { MAX_RECORDINGS, type ChannelPictures, type Spectrum, type TrendPicture } from '../trends/pictures.js';
 import { bandCentre, logBands } from '../trends/log-bands.js';
-import { changeLine } from '../trends/summary.js';
+import { changeLine, latestCounts } from '../trends/summary.js';
 import { COLOURS, LEVEL_RAMP } from './colours.js';
 import { frequencyScale, NO_DC } from './frequency-axis.js';
 import { MARKER_SHAPES, MARKER_SIZES, markerGlyph, markerOf, type Marker } from './trend-markers.js';
@@ -142,7 +142,7 @@ const badge = (v: 'changed' | 'alarm') => `<span class="sev sev-${v === 'alarm' 
 
 function row(c: ChangeItem): string {
   const unit = c.unit === '1' ? '' : ` ${esc(c.unit)}`;
-  return `<tr data-feature="${esc(c.feature)}"${c.new ? ' data-new="true"' : ''}><td>${badge(c.verdict)}${c.held ? ' held' : ''}${c.new ? ' <b>new</b>' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
+  return `<tr data-feature="${esc(c.feature)}"${c.new ? ' data-new="true"' : ''}><td>${badge(c.verdict)}${c.held ? ' held' : ''}${c.new ? ' <b>new</b>' : ''}</td><td>${esc(c.group)}</td><td>${esc(c.channel)}</td><td>${esc(c.feature)}</td><td>${num(c.value)}${unit}${c.failed_after ? `<br><span class="note" data-failed-after="true">latest usable; ${esc(day(c.failed_after.start_time, c.failed_after.recording))}'s recording failed: ${esc(c.failed_after.flags.join(', '))}</span>` : ''}</td><td>${c.floor?.below === 'baseline' ? `below ${num(c.floor.level)}${unit} (floor)` : `${num(c.baseline)}${c.baseline != null ? unit : ''}`}</td><td>${c.floor && c.change_db != null ? (c.change_db > 0 ? '≥ ' : '≤ ') : ''}${signed(c.change_db)}</td><td>${signed(c.score, 1)}</td><td>${esc(day(c.start_time, c.recording))}</td><td>${esc(day(c.since.start_time, c.since.recording))}</td></tr>`;
 }
 
 /**
@@ -176,7 +176,28 @@ ${KEY}
 function newsText(r: ChangesReport): string {
   if (!r.news) return '';
   if (!r.news.compared) return '; all new: no earlier report of this output folder is kept to compare with';
-  return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed first` : '; none new: the previous run reported each of them';
+  return r.news.new ? `; <b>${r.news.new}</b> new (not reported at that verdict by the previous run), marked “new” and listed after any alarms` : '; none new: the previous run reported each of them';
+}
+
+/** Channels named at most in the list of baselines that cannot form by waiting; quality.json names every one. */
+export const MAX_BLOCKED_LISTED = 50;
+
+/**
+ * The unformed baselines that recordings to come will not form by themselves (their places hold recordings that fail the
+ * data-quality checks, are left out or lack the feature; a baseline period without usable recordings): not those that
+ * only wait for more nights (`forming_baselines`).
+ */
+export function blockedBaselines(r: ChangesReport): NonNullable<ChangesReport['unformed_baselines']> {
+  const waiting = new Set((r.forming_baselines ?? []).flatMap((g) => g.unformed_entries));
+  return (r.unformed_baselines ?? []).filter((_, i) => !waiting.has(i));
+}
+
+/** The channels without a baseline that waiting alone will not form, each with its features and why; empty when none. */
+function blockedList(blocked: NonNullable<ChangesReport['unformed_baselines']>): string {
+  if (!blocked.length) return '';
+  const more = blocked.length - MAX_BLOCKED_LISTED;
+  return `<div class="unformed"><p class="unjudged">${blocked.length} ${blocked.length === 1 ? 'channel has' : 'channels have'} no baseline, and not only for want of nights, so ${blocked.length === 1 ? 'its features get' : 'their features get'} no change verdict:</p>
+<ul>${blocked.slice(0, MAX_BLOCKED_LISTED).map((u) => `<li data-group="${esc(u.group)}" data-channel="${esc(u.channel)}">${esc(u.group)} · ${esc(u.channel)} (${esc(u.features.join(', '))}): ${esc(u.why)}</li>`).join('')}</ul>${more > 0 ? `\n<p class="note">…and ${more} more in quality.json (changes.unformed_baselines).</p>` : ''}</div>`;
 }
 
 /** The section around the pictures drawn by picturesHtml: the count, the table (new items marked in words), the pictures. */
@@ -184,16 +205,22 @@ export function changesSection(r: ChangesReport, pictured: string): string {
   const alarms = r.items.filter((c) => c.verdict === 'alarm').length;
   const out: string[] = [`<section class="changes" id="what-changed"><h2>What changed</h2>`];
   out.push(`<p class="note">Each watched feature (${esc(r.features.join(', '))}) against ${esc(r.baseline)}. Changed: beyond ±${r.thresholds.change_db} dB or a robust score beyond ±${r.thresholds.score} (1.4826 × MAD, at least ${r.thresholds.spread_floor * 100} % of the median), or at a warn limit; alarm: at an alarm limit${r.thresholds.deadband ? `; either clears once the value is back inside its threshold by ${r.thresholds.deadband * 100} % of it (deadband; marked “held” until then)` : ''}. Channels whose data fail the quality checks are left out.</p>`);
+  // Each channel feature counted once, by what it reads at the end of the run, as the table's items are.
+  const l = latestCounts(r);
+  const blocked = blockedBaselines(r);
   if (!r.items.length) {
-    // All clear only where most features have a verdict: when most have none, the page says so without the calm colour.
-    const mostlyUnjudged = r.totals.unscored > r.totals.steady;
-    out.push(mostlyUnjudged
-      ? `<p class="unjudged">No change found, but only ${r.totals.steady} channel features of this run have a verdict (steady); ${r.totals.unscored} have none (baseline forming, held by figures of other spec options, or data unusable): see the channels that need a second look below.</p></section>`
-      : `<p class="steady">Nothing changed: ${r.totals.steady} channel features of this run read steady${r.totals.unscored ? `; ${r.totals.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p></section>`);
+    // All clear only where most features have a verdict and every baseline forms by waiting: otherwise the page says so
+    // without the calm colour, naming the channels that cannot be judged.
+    const unjudged = l.unscored > l.steady || blocked.length > 0;
+    out.push(unjudged
+      ? `<p class="unjudged">No change found, but only ${l.steady} channel features of this run have a verdict (steady); ${l.unscored} have none (${blocked.length ? `${blocked.length} ${blocked.length === 1 ? 'channel has' : 'channels have'} no baseline, and not only for want of nights: named below` : 'baseline forming, held by figures of other spec options, or data unusable'}): see the channels that need a second look further down.</p>`
+      : `<p class="steady">Nothing changed: ${l.steady} channel features of this run read steady${l.unscored ? `; ${l.unscored} have no verdict yet (baseline forming, held by figures of other spec options, or data unusable)` : ''}.</p>`);
+    out.push(blockedList(blocked), '</section>');
     return out.join('\n');
   }
-  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${r.totals.steady} read steady.</p>`);
+  out.push(`<p><b>${alarms}</b> channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, <b>${r.items.length - alarms}</b> changed${newsText(r)}; ${l.steady} read steady${l.unscored ? `, ${l.unscored} have no verdict` : ''}.</p>`);
   out.push(`<table class="changes-list"><tr><th>verdict</th><th>group</th><th>channel</th><th>feature</th><th>latest</th><th>baseline</th><th>change dB</th><th>score</th><th>on</th><th>since</th></tr>\n${r.items.map(row).join('\n')}\n</table>`);
+  out.push(blockedList(blocked));
   if (pictured) out.push(pictured);
   out.push('</section>');
   return out.join('\n');

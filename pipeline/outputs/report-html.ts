@@ -83,14 +83,14 @@ export function overviewLine(r: OverviewRow, channelNames: string[]): string {
   }).join('')}</tr>`;
 }
 
-export const sectionsHead = (notOk: number) => ['</table>', '<h2>Channels that need a second look</h2>', ...(notOk === 0 ? ['<p class="steady">None: every channel read is ok or has notes only.</p>'] : []),
-  ...(notOk > MAX_PICTURED ? [`<p class="note">${notOk} channels need a second look; pictures are shown for the first ${MAX_PICTURED} (unusable ones first). Every flag of every channel is in quality.json.</p>`] : [])].join('\n');
+export const sectionsHead = (notOk: number, fresh = 0) => ['</table>', '<h2>Channels that need a second look</h2>', ...(notOk === 0 ? ['<p class="steady">None: every channel read is ok or has notes only.</p>'] : [`<p class="note">${fresh ? `<b>${fresh}</b> ${fresh === 1 ? 'channel has' : 'channels have'} a flag new in this run (not reported at that verdict by the previous run into this output folder), marked “new” and listed first; then` : 'In order:'} unusable before to check, the newest recording first.</p>`]),
+  ...(notOk > MAX_PICTURED ? [`<p class="note">${notOk} channels need a second look; pictures are shown for the first ${MAX_PICTURED} in this order. Every flag of every channel is in quality.json.</p>`] : [])].join('\n');
 
-/** A channel's section up to its pictures: the flags that are not ok, each with value, threshold and message. */
-export const channelSection = (recording: string, c: QualityChannel) => `<section class="channel" id="${channelId(recording, c.channel)}" data-recording="${esc(recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}" style="border-color:${COLOURS[c.severity]}">
-<h3>${badge(c.severity)} ${esc(recording)} · ${esc(c.channel)} <span class="note">(${esc(c.unit)})</span></h3>
+/** A channel's section up to its pictures: the flags that are not ok, each with value, threshold and message; `fresh`: a flag is new in this run. */
+export const channelSection = (recording: string, c: QualityChannel, fresh = false) => `<section class="channel" id="${channelId(recording, c.channel)}" data-recording="${esc(recording)}" data-channel="${esc(c.channel)}" data-severity="${c.severity}"${fresh ? ' data-new="true"' : ''} style="border-color:${COLOURS[c.severity]}">
+<h3>${badge(c.severity)}${fresh ? ' <b>new</b>' : ''} ${esc(recording)} · ${esc(c.channel)} <span class="note">(${esc(c.unit)})</span></h3>
 <table><tr><th>flag</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>
-${c.flags.filter((f) => f.severity !== 'ok').sort((a, b) => SEVERITIES.indexOf(b.severity) - SEVERITIES.indexOf(a.severity)).map((f) => `<tr><td>${esc(f.name)}</td><td>${badge(f.severity)}</td><td>${esc(flagValue(f))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
+${c.flags.filter((f) => f.severity !== 'ok').sort((a, b) => SEVERITIES.indexOf(b.severity) - SEVERITIES.indexOf(a.severity)).map((f) => `<tr${f.new ? ' data-new="true"' : ''}><td>${esc(f.name)}${f.new ? ' <b>new</b>' : ''}</td><td>${badge(f.severity)}</td><td>${esc(flagValue(f))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td></tr>`).join('\n')}
 </table>`;
 
 export const sectionEnd = (charts: string[] | null) => `${charts ? `<div class="charts">${charts.join('')}</div>\n` : ''}</section>`;

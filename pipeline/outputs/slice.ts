@@ -11,9 +11,10 @@ import { RowsGather, type RowsPart } from './rows-part.js';
 import { columnsFor, columnsTable } from './arrow-columns.js';
 import { addSpectra } from './spectra-rows.js';
 import { outputTables } from './output-tables.js';
-import { countRecording, emptyTotals, failLines, MAX_FAIL_LINES, qualityRecording, type QualityTotals } from './quality.js';
+import { countRecording, emptyTotals, failGroupsOf, qualityRecording, type QualityRecording, type QualityTotals } from './quality.js';
+import { addFailGroups, flagKey, isNewFlag, type EarlierFlags, type FailGroup } from './quality-news.js';
 import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
-import { channelSection, MAX_PICTURED, noteLine, overviewRow } from './report-html.js';
+import { channelSection, noteLine, overviewRow } from './report-html.js';
 import { jsonPieces } from './staged.js';
 import { TextBytes } from './text-bytes.js';
 import { slicePieces } from './slice-pieces.js';
@@ -27,7 +28,11 @@ export interface SliceItem { at: Place; recording: string; group: string; labels
  * them): the worker works the tables' columns out itself (`outputTables`), once for the run, rather than receiving some
  * 30 KB of column descriptions with every slice.
  */
-export interface SliceTask { items: SliceItem[]; spec: ReductionSpec; labels: string[]; spectra: boolean }
+export interface SliceTask {
+  items: SliceItem[]; spec: ReductionSpec; labels: string[]; spectra: boolean;
+  /** The flags the output folder's previous run reported (quality-news.ts), to mark the new ones; absent: none marked (a shard's part). */
+  earlierFlags?: EarlierFlags;
+}
 
 /** The tables' columns for the run's slices, kept by this thread: every slice of a run asks for the same. */
 let known: { key: string; tables: Record<string, TableColumn[]> } | null = null;
@@ -37,8 +42,11 @@ function tablesOf(task: SliceTask): Record<string, TableColumn[]> {
   return known.tables;
 }
 
-/** A channel that may be pictured: the first few not ok of the whole run, unusable ones first, are. */
+/** A channel that may be pictured: the first few not ok of the whole run, in the report's order, are. */
 export interface Candidate { at: Place; recording: string; channel: string }
+
+/** A channel's section of quality.html: its length in the slice's sections (UTF-8 bytes), and what orders it in the report. */
+export interface SectionKey { bytes: number; new: boolean; severity: 'fail' | 'warn'; start_ms: number | null; candidate: Candidate }
 
 /** The slice's texts and tables travel as bytes, moved to the main thread rather than copied. */
 export interface SliceOutput {
@@ -51,18 +59,20 @@ export interface SliceOutput {
   /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as UTF-8. */
   quality: Uint8Array;
   recordings: number;
-  /** quality.html pieces as JSON lines (UTF-8): overview rows, and the sections of channels that fail and that warn. */
+  /** quality.html pieces as JSON lines (UTF-8): overview rows, and the sections of channels that fail or warn, one key each in `sectionKeys`. */
   overview: Uint8Array;
-  sections: { fail: Uint8Array; warn: Uint8Array };
+  sections: Uint8Array;
+  sectionKeys: SectionKey[];
   /** quality.html rows of the notes on channels otherwise ok, as JSON lines (UTF-8). */
   notes: Uint8Array;
-  /** Per severity, the slice's first channels that may be pictured, and how many sections there are. */
-  candidates: { fail: Candidate[]; warn: Candidate[] };
-  counts: { fail: number; warn: number };
   totals: QualityTotals;
-  /** The first failed flags as terminal lines, and how many there are. */
-  failLines: string[];
+  /** The failed flags gathered per channel and flag, and how many there are over the recordings. */
+  fails: FailGroup[];
   failCount: number;
+  /** Each channel's recordings in the slice, by group and channel (flagKey with no flag): the summary's "in n of m". */
+  channelRecordings: Record<string, number>;
+  /** The flags at warn or fail, by flagKey, at the worst severity the slice holds them: what the run reports, for the next. */
+  flagged: Record<string, 'warn' | 'fail'>;
   /** Channel names in order of first appearance (the overview's columns). */
   channels: string[];
 }
@@ -93,11 +103,11 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const features = new TableRows(featureColumns);
   const gathered = Object.fromEntries(Object.entries(secondaryTables).map(([t, columns]) => [t, new RowsGather(columns)]));
   const spectra = spectraColumns ? columnsFor(spectraColumns) : null;
-  const candidates: SliceOutput['candidates'] = { fail: [], warn: [] }, counts = { fail: 0, warn: 0 }, totals = emptyTotals(), fails: string[] = [];
+  const totals = emptyTotals(), fails = new Map<string, FailGroup>(), sectionKeys: SectionKey[] = [], channelRecordings: Record<string, number> = {}, flagged: SliceOutput['flagged'] = {};
   let failCount = 0, recordings = 0;
   const names = new Set<string>();
   // Texts go to bytes piece by piece, so nothing the size of the slice stays on the heap as strings.
-  const quality = new TextBytes(), overview = new TextBytes(), sections = { fail: new TextBytes(4 << 10), warn: new TextBytes(4 << 10) }, notes = new TextBytes(4 << 10);
+  const quality = new TextBytes(), overview = new TextBytes(), sections = new TextBytes(4 << 10), notes = new TextBytes(4 << 10);
   const assembly = assemblyOf(task.spec);
   await withRecords(async (read) => {
     for (const { at, recording, group, labels } of task.items) {
@@ -107,24 +117,28 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
       const r = assembleRecording(entry, labels, task.spec, assembly);
       for (const row of r.rows) features.add(row);
       for (const [name, list] of Object.entries(r.secondary)) if (gathered[name]) for (const source of list) gathered[name].add(source);
-      const q = qualityRecording(r);
+      const q = markNewFlags(qualityRecording(r), task.earlierFlags);
+      const startMs = r.header?.start_time ? Date.parse(r.header.start_time) : null;
       // One line a recording: quality.json is for programs (quality.html is the read), and indenting made it a third larger.
       quality.add(jsonPieces.item(JSON.stringify(q), 1));
       recordings++;
       countRecording(totals, q);
       overview.add(JSON.stringify(overviewRow(q)) + '\n');
-      const lines = failLines(q);
-      failCount += lines.length;
-      fails.push(...lines.slice(0, MAX_FAIL_LINES - fails.length));
+      const failed = failGroupsOf(q, Number.isFinite(startMs) ? startMs : null);
+      failCount += failed.length;
+      addFailGroups(fails, failed);
       for (const c of q.channels) names.add(c.channel);
       for (const c of q.channels) {
+        const k = flagKey(q.group, c.channel, '');
+        channelRecordings[k] = (channelRecordings[k] ?? 0) + 1;
+        for (const f of c.flags) if (f.severity === 'fail' || (f.severity === 'warn' && flagged[flagKey(q.group, c.channel, f.name)] !== 'fail')) flagged[flagKey(q.group, c.channel, f.name)] = f.severity;
         if (!NEEDS_A_LOOK.has(c.severity)) {
           for (const f of c.flags) if (f.severity === 'note') notes.add(JSON.stringify(noteLine(q.recording, c.channel, f)) + '\n');
           continue;
         }
-        const sev = c.severity as 'fail' | 'warn';
-        sections[sev].add(JSON.stringify(channelSection(q.recording, c)) + '\n');
-        if (counts[sev]++ < MAX_PICTURED) candidates[sev].push({ at, recording, channel: c.channel });
+        const fresh = c.flags.some((f) => f.new);
+        const bytes = sections.add(JSON.stringify(channelSection(q.recording, c, fresh)) + '\n');
+        sectionKeys.push({ bytes, new: fresh, severity: c.severity as 'fail' | 'warn', start_ms: Number.isFinite(startMs) ? startMs : null, candidate: { at, recording, channel: c.channel } });
       }
     }
   });
@@ -136,9 +150,15 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const held = Object.values(gathered).flatMap((g) => [...g.held].map((b) => new Uint8Array(b)));
   if (spectraColumns) tables.spectra = spectra!.recording.length ? arrow.tableToIPC(columnsTable(spectraColumns, spectra!, {}, false), 'stream') : null;
   return {
-    tables, rows, held, quality: quality.done(), recordings, overview: overview.done(), sections: { fail: sections.fail.done(), warn: sections.warn.done() }, notes: notes.done(),
-    candidates, counts, totals, failLines: fails, failCount, channels: [...names],
+    tables, rows, held, quality: quality.done(), recordings, overview: overview.done(), sections: sections.done(), sectionKeys, notes: notes.done(),
+    totals, fails: [...fails.values()], failCount, channelRecordings, flagged, channels: [...names],
   };
+}
+
+/** The recording's flags at warn or fail marked `new` where the previous report did not hold them at that severity (none marked without `earlier`). */
+function markNewFlags(q: QualityRecording, earlier: EarlierFlags | undefined): QualityRecording {
+  if (earlier === undefined) return q;
+  return { ...q, channels: q.channels.map((c) => ({ ...c, flags: c.flags.map((f) => (f.severity === 'warn' || f.severity === 'fail' ? { ...f, new: isNewFlag(earlier, flagKey(q.group, c.channel, f.name), f.severity) } : f)) })) };
 }
 
 /** The memory a slice's output owns whole, to move rather than copy. */

@@ -16,7 +16,7 @@ const TEMPORARY = /^\.(.+?)\.(\d+)(?:\.[0-9a-f]{8})?\.tmp$/;
  */
 export function ownedBy(shard: { k: number; n: number } | null): { folder: string; owns: (name: string) => boolean }[] {
   // A pack's scan mark (store.ts) goes with its pack.
-  if (!shard) return [{ folder: '.', owns: () => true }, { folder: 'cache', owns: (name) => name === 'entries.pack' || name === 'entries.pack.scanned' || name === 'trends.json' || name === 'reported-changes.json' }];
+  if (!shard) return [{ folder: '.', owns: () => true }, { folder: 'cache', owns: (name) => name === 'entries.pack' || name === 'entries.pack.scanned' || name === 'trends.json' || name === 'reported-changes.json' || name === 'reported-quality.json' }];
   const mine = `-${shard.k}-of-${shard.n}.`, pack = `entries-${shard.k}-of-${shard.n}.pack`;
   return [{ folder: 'parts', owns: (name) => name.includes(mine) }, { folder: 'cache', owns: (name) => name === pack || name === `${pack}.scanned` }];
 }

@@ -2,7 +2,7 @@
 // each channel feature this run covers, when it is not steady.
 import type { Column, NumberColumn, TextColumn } from '../outputs/arrow-columns.js';
 import { baselineOf, eraAt, erasOf, formedFromPeriodOnly, recordingsToCome, whyNotFormed, type BaselineStats, type Era } from './baseline.js';
-import { severityAt, usable, type History, type Series } from './history.js';
+import { failingFlags, severityAt, usable, type History, type Series } from './history.js';
 import { causesOf, STALE_CAUSES, type StaleCauseName } from './stale-cause.js';
 import { heldAcrossStale, type HeldAcrossStale } from './held-across-stale.js';
 import { baselineText, limitsFor, namingNone, type TrendOptions, type WatchedFeature } from './options.js';
@@ -138,6 +138,11 @@ export interface ChangeItem {
   floor?: { below: BelowFloor; level: number };
   /** Not reported at this verdict or above by the output folder's previous run (news.ts); absent before the news are marked. */
   new?: boolean;
+  /**
+   * Present where the run's last recording of the channel is later than `recording` and fails the data-quality checks, so
+   * that `value` is the latest usable one: that recording, its start and the flags it fails.
+   */
+  failed_after?: { recording: string; start_time: string | null; flags: string[] };
 }
 
 export interface ChangesReport {
@@ -146,7 +151,12 @@ export interface ChangesReport {
   features: string[];
   /** Verdicts over this run's rows of trends.parquet; unscored: baseline forming or data unusable. */
   totals: Record<Verdict | 'unscored', number>;
-  /** Channel features whose latest verdict is not steady: the new ones first (once marked), each part alarms first, then by strength. */
+  /**
+   * Channel features of this run by their latest verdict, what each reads tonight (unscored: none of its rows in this run has a
+   * verdict); changed and alarm count the items. Absent from reports kept before it was counted.
+   */
+  latest?: Record<Verdict | 'unscored', number>;
+  /** Channel features whose latest verdict is not steady: alarms first, then (once marked) the new changes, then the others; each part by strength. */
   items: ChangeItem[];
   /** Once the news are marked: how many items are new, and whether an earlier run's report was kept to compare with (false: every item is new). */
   news?: { new: number; compared: boolean };
@@ -191,6 +201,7 @@ const strengthOf = (p: ScoredPoint, o: TrendOptions) => Math.max(p.changeDb == n
  */
 export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptions, sinceMs: number | null = null, earlierStored = false, steady: Set<string> = new Set()): ChangesReport {
   const totals = Object.fromEntries([...VERDICTS, 'unscored'].map((v) => [v, 0])) as ChangesReport['totals'];
+  const latestTotals = { ...totals };
   const items: ChangeItem[] = [];
   let staleBaselines = 0, periodBaselines = 0, periodForming = 0;
   const staleCauses = Object.fromEntries(STALE_CAUSES.map((c) => [c, 0])) as Record<StaleCauseName, number>;
@@ -229,6 +240,7 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
         if (!base.complete) periodForming++;
       }
     }
+    if (rows) latestTotals[latest < 0 ? 'unscored' : f.at(latest)!.verdict!]++;
     if (latest < 0) continue;
     const p = f.at(latest)!;
     // Collected for the news: a change the previous run reported clears only where this run sees the feature steady.
@@ -246,13 +258,14 @@ export function changesReport(h: History, scored: ScoredFeature[], o: TrendOptio
       recording: h.recordings[s.recording[latest]], start_time: iso(s, latest), value: p.value, baseline: p.baseline, change_db: p.changeDb, score: p.score,
       since: { recording: h.recordings[s.recording[since]], start_time: iso(s, since) }, baseline_recordings: f.baseAt(latest).members.length,
       strength: strengthOf(p, o), held: p.held === true, ...(p.floor ? { floor: p.floor } : {}),
+      ...(last > latest && !usable(s, last) ? { failed_after: { recording: h.recordings[s.recording[last]], start_time: iso(s, last), flags: failingFlags(s, last) } } : {}),
     });
   }
   items.sort((a, b) => (a.verdict === b.verdict ? b.strength - a.strength : a.verdict === 'alarm' ? -1 : 1));
   const held = heldAcrossStale(scored, o);
   return {
     baseline: baselineText(o.baseline), thresholds: { change_db: o.changeDb, score: o.score, spread_floor: o.spreadFloor, deadband: o.deadband },
-    features: o.features.map((f) => f.name), totals, items, stale_baselines: staleBaselines,
+    features: o.features.map((f) => f.name), totals, latest: latestTotals, items, stale_baselines: staleBaselines,
     ...(staleBaselines ? { stale_causes: staleCauses } : {}),
     ...(unformed.size ? { unformed_baselines: [...unformed.values()] } : {}),
     ...formingOf([...unformed], toCome, 'first' in o.baseline ? o.baseline.first : 0),

@@ -7,9 +7,10 @@ import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
 import type { TrendOptions } from './options.js';
 import { StaleCause } from './stale-cause.js';
+import { FLAG_NAMES } from '../../stages/index.js';
 
 /** A typed array that grows by doubling. */
-class Growing<T extends Float64Array | Float32Array | Int32Array | Uint8Array> {
+class Growing<T extends Float64Array | Float32Array | Int32Array | Uint16Array | Uint8Array> {
   size = 0;
   constructor(public data: T, private readonly make: (n: number) => T) {}
   push(v: number): void {
@@ -27,6 +28,7 @@ const f64 = () => new Growing(new Float64Array(8), (n) => new Float64Array(n));
 const f32 = () => new Growing(new Float32Array(8), (n) => new Float32Array(n));
 const i32 = () => new Growing(new Int32Array(8), (n) => new Int32Array(n));
 const u8 = () => new Growing(new Uint8Array(8), (n) => new Uint8Array(n));
+const u16 = () => new Growing(new Uint16Array(8), (n) => new Uint16Array(n));
 
 /** One group × channel × unit over time: point i is one stored recording. */
 export interface Series {
@@ -43,6 +45,8 @@ export interface Series {
   severity: Uint8Array;
   /** 1 where the channel fails the checks on saturation alone: clipped, its RMS and peak can only read low. */
   clippedOnly: Uint8Array;
+  /** The flags the channel fails on that recording, as bits by their place in FLAG_NAMES (failingFlags names them). */
+  failing: Uint16Array;
   /** 1 when the recording belongs to this run. */
   inRun: Uint8Array;
   /** 1 when the recording is left out of the baseline (trends.baseline.exclude). */
@@ -67,8 +71,10 @@ export interface History {
 const FAIL = SEVERITIES.indexOf('fail');
 export const usable = (s: Series, i: number) => s.severity[i] !== FAIL;
 export const severityAt = (s: Series, i: number): Severity => SEVERITIES[s.severity[i]];
+/** The flags the channel fails on point i, by name. */
+export const failingFlags = (s: Series, i: number): string[] => FLAG_NAMES.filter((_, b) => s.failing[i] & (1 << b));
 
-interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; channelRms: Growing<Float32Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[]; staleCause: Growing<Uint8Array>[] }
+interface Building { group: string; channel: string; unit: string; recording: Growing<Int32Array>; time: Growing<Float64Array>; startKnown: Growing<Uint8Array>; severity: Growing<Uint8Array>; clippedOnly: Growing<Uint8Array>; failing: Growing<Uint16Array>; inRun: Growing<Uint8Array>; excluded: Growing<Uint8Array>; channelRms: Growing<Float32Array>; values: Growing<Float64Array>[]; stale: Growing<Uint8Array>[]; staleCause: Growing<Uint8Array>[] }
 
 /** Per group (present name), the declaration keys its recordings are reduced under now (`declarationKey`); a group absent is not checked. */
 export type Declarations = ReadonlyMap<string, ReadonlySet<string>>;
@@ -106,7 +112,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     e.base.channels.forEach((ch, c) => {
       const key = `${e.group}\u0000${ch.name}\u0000${ch.unit}`;
       let b = building.get(key);
-      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), inRun: u8(), excluded: u8(), channelRms: f32(), values: o.features.map(f64), stale: o.features.map(u8), staleCause: o.features.map(u8) });
+      if (!b) building.set(key, b = { group: e.group, channel: ch.name, unit: ch.unit, recording: i32(), time: f64(), startKnown: u8(), severity: u8(), clippedOnly: u8(), failing: u16(), inRun: u8(), excluded: u8(), channelRms: f32(), values: o.features.map(f64), stale: o.features.map(u8), staleCause: o.features.map(u8) });
       b.recording.push(r);
       b.time.push(Number.isFinite(start) ? start : e.identity.mtimeMs);
       b.startKnown.push(Number.isFinite(start) ? 1 : 0);
@@ -116,6 +122,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
       b.severity.push(SEVERITIES.indexOf(worst(flags.map((f) => f.severity))));
       const failing = flags.filter((f) => f.severity === 'fail');
       b.clippedOnly.push(failing.length > 0 && failing.every((f) => f.name === 'saturation') ? 1 : 0);
+      b.failing.push(failing.reduce((bits, f) => bits | (FLAG_NAMES.indexOf(f.name as never) >= 0 ? 1 << FLAG_NAMES.indexOf(f.name as never) : 0), 0));
       b.inRun.push(inRun.has(e.recording) ? 1 : 0);
       b.excluded.push(excluded);
       // Only for the floor: a rough level is enough, whatever options the statistics were computed under.
@@ -135,7 +142,7 @@ export async function readHistory(out: string, spec: ReductionSpec, o: TrendOpti
     const order = Int32Array.from({ length: n }, (_, i) => i).sort((i, j) => b.time.data[i] - b.time.data[j] || (recordings[b.recording.data[i]] < recordings[b.recording.data[j]] ? -1 : 1));
     return {
       group: b.group, channel: b.channel, unit: b.unit, size: n,
-      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order), channelRms: b.channelRms.take(order),
+      recording: b.recording.take(order), time: b.time.take(order), startKnown: b.startKnown.take(order), severity: b.severity.take(order), clippedOnly: b.clippedOnly.take(order), failing: b.failing.take(order), inRun: b.inRun.take(order), excluded: b.excluded.take(order), channelRms: b.channelRms.take(order),
       values: b.values.map((v) => v.take(order)), stale: b.stale.map((v) => v.take(order)), staleCause: b.staleCause.map((v) => v.take(order)),
     };
   });

@@ -52,8 +52,9 @@ export function grownInItsTerms(now: Pick<Reported, 'change_db' | 'score'>, told
 }
 
 /**
- * The report with each item marked `new` (and counted in `news`), new items first, each part in the report's own order
- * (alarms first, then by strength). An item is new unless the earlier report held it at its verdict or above and its change
+ * The report with each item marked `new` (and counted in `news`): alarms first, new or not (a declared limit still exceeded
+ * is never pushed down by fresher changes), then the new changes, then the rest, each part in the report's own order (by
+ * strength). An item is new unless the earlier report held it at its verdict or above and its change
  * has not grown by its threshold since it was last told (`grownInItsTerms`).
  */
 export function markNews(r: ChangesReport, earlier: ReportedChanges | null): ChangesReport {
@@ -63,8 +64,8 @@ export function markNews(r: ChangesReport, earlier: ReportedChanges | null): Cha
     return !told || (RANK[told.verdict] ?? 0) < RANK[c.verdict] || grownInItsTerms(c, told, r.thresholds);
   };
   const items: ChangeItem[] = r.items.map((c) => ({ ...c, new: isNew(c) }));
-  const fresh = items.filter((c) => c.new);
-  return { ...r, items: [...fresh, ...items.filter((c) => !c.new)], news: { new: fresh.length, compared: earlier != null } };
+  const alarms = items.filter((c) => c.verdict === 'alarm'), changed = items.filter((c) => c.verdict !== 'alarm');
+  return { ...r, items: [...alarms, ...changed.filter((c) => c.new), ...changed.filter((c) => !c.new)], news: { new: items.filter((c) => c.new).length, compared: earlier != null } };
 }
 
 /**

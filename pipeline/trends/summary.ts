@@ -18,8 +18,12 @@ export function changeLine(c: ChangeItem): string {
   const limit = c.limit ? `; at or above its ${c.limit} limit ${num(c.limits![c.limit]!)}${unit}` : '';
   const since = c.since.recording !== c.recording ? `, since ${day(c.since.start_time, c.since.recording)}` : '';
   const held = c.held ? ' (back inside its threshold, not yet by the deadband)' : '';
-  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}`;
+  return `${c.group} ${c.channel} ${c.feature} ${num(c.value)}${unit} on ${day(c.start_time, c.recording)}${how ? `: ${how}` : ''}${against}${limit}${held}${since}${failedAfterText(c)}`;
 }
+
+/** "; the latest usable value: 2026-03-09's recording failed the data-quality checks (saturation)", where the run's last recording of the channel failed them. */
+export const failedAfterText = (c: Pick<ChangeItem, 'failed_after'>): string =>
+  c.failed_after ? `; the latest usable value: ${day(c.failed_after.start_time, c.failed_after.recording)}'s recording failed the data-quality checks (${c.failed_after.flags.join(', ') || 'its channel fails'})` : '';
 
 /** "2 more usable recordings", or "1 to 2 more usable recordings" where channels differ. */
 const toCome = ({ fewest, most }: { fewest: number; most: number }) => `${fewest === most ? most : `${fewest} to ${most}`} more usable ${most === 1 ? 'recording' : 'recordings'}`;
@@ -42,20 +46,33 @@ export function newsLine(r: ChangesReport): string | null {
   const n = r.news.new, all = r.items.length, before = all - n;
   if (!r.news.compared) return `  new:     all ${all}: no earlier report of this output folder is kept (cache/reported-changes.json) to compare with`;
   if (!n) return `  new:     none: the previous run into this output folder reported ${all === 1 ? 'it' : `all ${all}`} already`;
-  return `  new:     ${n} new in this run (marked NEW, listed first), ${before} reported already by the previous run into this output folder`;
+  return `  new:     ${n} new in this run (marked NEW, listed first after any alarms), ${before} reported already by the previous run into this output folder`;
 }
 
+/**
+ * The channel features of a run by their latest verdict (`latest`), what each reads tonight; a report kept before those were
+ * counted gives its items and its rows' totals instead.
+ */
+export const latestCounts = (r: ChangesReport): Record<'steady' | 'changed' | 'alarm' | 'unscored', number> => {
+  if (r.latest) return r.latest;
+  const alarm = r.items.filter((c) => c.verdict === 'alarm').length;
+  return { alarm, changed: r.items.length - alarm, steady: r.totals.steady, unscored: r.totals.unscored };
+};
+
 export function changesSummary(r: ChangesReport, top = 5): string[] {
-  const alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
-  // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear.
-  const unscored = r.totals.unscored ? `; ${r.totals.steady} steady, ${r.totals.unscored} with no verdict (baseline forming, held by figures of other options, or data unusable)` : '';
+  const l = latestCounts(r), alarms = r.items.filter((c) => c.verdict === 'alarm').length, changed = r.items.length - alarms;
+  // Features without a verdict are counted too: a run whose channels mostly fail the checks is no all-clear. Each channel
+  // feature counts once, by what it reads at the end of the run, as the items do.
+  const unscored = l.unscored ? `; ${l.steady} steady, ${l.unscored} with no verdict (baseline forming, held by figures of other options, or data unusable)` : '';
   const lines = [`  changes: ${alarms} channel ${alarms === 1 ? 'feature' : 'features'} at an alarm limit, ${changed} changed${unscored}, against ${r.baseline}${r.items.length ? ' (quality.html opens with them)' : ''}`];
   const news = newsLine(r);
   if (news) lines.push(news);
-  // The items come new first (news.ts), so a mail's first lines are tonight's.
-  for (const c of r.items.slice(0, top)) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}${c.new ? '; NEW' : ''}`);
-  const untold = r.items.slice(top).filter((c) => c.new).length;
-  if (r.items.length > top) lines.push(`  …and ${r.items.length - top} more in quality.json and trends.parquet${untold ? ` (${untold} of them new)` : ''}`);
+  // The items come alarms first, then new (news.ts), so a mail's first lines are what is at a limit and what is tonight's;
+  // every alarm is listed, ahead of the `top` changes.
+  const listed = r.items.slice(0, alarms + top);
+  for (const c of listed) lines.push(`  ${c.verdict === 'alarm' ? 'ALARM  ' : 'CHANGED'} ${changeLine(c)}${c.new ? '; NEW' : ''}`);
+  const untold = r.items.slice(listed.length).filter((c) => c.new).length;
+  if (r.items.length > listed.length) lines.push(`  …and ${r.items.length - listed.length} more in quality.json and trends.parquet${untold ? ` (${untold} of them new)` : ''}`);
   if (r.stale_baselines) lines.push(`  ${r.stale_baselines} channel ${r.stale_baselines === 1 ? 'feature has' : 'features have'} no baseline: ${r.stale_baselines === 1 ? 'its' : 'their'} baseline recordings were reduced ${storedText(r.stale_causes ?? {}) ?? 'under other options, another declaration of their group or another version of quern'}; run once without --since, or with --since alone and unsharded, to recompute them`);
   const held = r.held_across_stale ?? [];
   if (held.length) {
