@@ -7,6 +7,7 @@ import { makeWindow } from '../stages/dsp/window.js';
 import { MIN_PROMINENCE_DB } from '../stages/envelope.js';
 import { fixture, readJson } from './helpers.js';
 import { channel, reduce } from './reduce-signal.js';
+import { counterWhite } from './counter-noise.js';
 
 const ref = readJson(fixture('envelope-line-vectors.json'));
 const { fs, seconds } = ref as { fs: number; seconds: number };
@@ -14,15 +15,7 @@ const filter = { kind: 'bandpass', order: 4, low_hz: 2500, high_hz: 4500, zero_p
 const acc = channel({ scale: 20 });
 
 /** Uniform counter-hash noise of unit variance, sample for sample as counter_noise.py makes it. */
-function counterNoise(n: number, seed: number): Float64Array {
-  const x = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let h = (i + seed) >>> 0;
-    h ^= h >>> 16; h = Math.imul(h, 0x85ebca6b) >>> 0; h ^= h >>> 13; h = Math.imul(h, 0xc2b2ae35) >>> 0; h ^= h >>> 16;
-    x[i] = ((h >>> 0) / 4294967296 - 0.5) * Math.sqrt(12);
-  }
-  return x;
-}
+const counterNoise = (n: number, seed: number): Float64Array => counterWhite(n, seed).map((v) => v * Math.sqrt(12));
 
 const modulated = (n: number, seed: number, m: number, fm: number) => counterNoise(n, seed).map((v, i) => Math.fround(v * (1 + m * Math.cos(2 * Math.PI * fm * i / fs))));
 const envelopeOf = async (x: Float64Array) => (await reduce(x, fs, { envelope: { filter } } as never, acc)).row;

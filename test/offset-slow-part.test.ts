@@ -11,21 +11,14 @@ import { levelStepFit } from '../stages/dsp/level-step-fit.js';
 import type { Flag } from '../stages/quality/flag.js';
 import { withArticle } from '../stages/quality/article.js';
 import { fixture, readJson, tempDir } from './helpers.js';
+import { counterWhite } from './counter-noise.js';
 
 const ref = readJson(fixture('offset-step-vectors.json'));
 const { fs, seconds } = ref as { fs: number; seconds: number };
 const N = fs * seconds;
 
 /** Uniform counter-hash noise of standard deviation s, sample for sample as counter_noise.py makes it. */
-function noise(seed: number, s: number): Float64Array {
-  const x = new Float64Array(N);
-  for (let i = 0; i < N; i++) {
-    let h = (i + seed) >>> 0;
-    h ^= h >>> 16; h = Math.imul(h, 0x85ebca6b) >>> 0; h ^= h >>> 13; h = Math.imul(h, 0xc2b2ae35) >>> 0; h ^= h >>> 16;
-    x[i] = ((h >>> 0) / 4294967296 - 0.5) * Math.sqrt(12) * s;
-  }
-  return x;
-}
+const noise = (seed: number, s: number): Float64Array => counterWhite(N, seed).map((v) => v * Math.sqrt(12) * s);
 
 /** The 1/f component of the reference script: one-pole low-passes at 0.1 … 1000 Hz of equal variance, summed. */
 function oneOverF(seed: number, s: number): Float64Array {

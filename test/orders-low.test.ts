@@ -9,6 +9,7 @@ import { hzName } from '../stages/names.js';
 import { lowSpeedSpectrum } from '../stages/orders.js';
 import { fixture, readJson } from './helpers.js';
 import { reduceChannels } from './reduce-signal.js';
+import { counterWhite } from './counter-noise.js';
 
 interface Band { order: number; amplitude: number; rms: number }
 interface Case { name: string; rpm_from: number; rpm_to: number; seconds: number; samples: number; first: number[]; last: number[]; bands: Band[] }
@@ -21,16 +22,6 @@ const ACC: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: '
 const SPEC: ReductionSpec = { spectrum: {}, orders: { orders: ref.orders, width: ref.width } };
 const col = (n: number) => `order_${hzName(n)}_rms`;
 
-// MurmurHash3's 32-bit finaliser of i + seed, to [-0.5, 0.5): the reference script's counter noise.
-function counterWhite(n: number, seed: number): Float64Array {
-  const y = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let h = (i + seed) >>> 0;
-    h ^= h >>> 16; h = Math.imul(h, 0x85ebca6b) >>> 0; h ^= h >>> 13; h = Math.imul(h, 0xc2b2ae35) >>> 0; h ^= h >>> 16;
-    y[i] = (h >>> 0) / 4294967296 - 0.5;
-  }
-  return y;
-}
 
 /** The case's vibration channel and a tacho of one 5 V pulse a revolution (a tenth of it high), from the shaft angle in revolutions. */
 function signals(c: Case): Float64Array[] {

@@ -6,6 +6,7 @@ import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
 import { fixture, readJson } from './helpers.js';
 import { reduceChannels } from './reduce-signal.js';
+import { counterWhite } from './counter-noise.js';
 
 interface Order { order: number; amplitude: number; tracked_rms: number; closed_form_rms: number }
 const ref = readJson(fixture('order-tracking-vectors.json'));
@@ -15,16 +16,6 @@ const orderOf = (n: number): Order => ref.orders.find((o: Order) => o.order === 
 const TACHO: ChannelDeclaration = { name: 'tacho', quantity: 'voltage', unit: 'V', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null, pulses_per_rev: 1, trigger_level: 2.5, trigger_hysteresis: 1 };
 const ACC: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null };
 
-// MurmurHash3's 32-bit finaliser of i + seed, to [-0.5, 0.5): the reference script's counter noise (counter_noise.py).
-function counterWhite(n: number, seed: number): Float64Array {
-  const y = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let h = (i + seed) >>> 0;
-    h ^= h >>> 16; h = Math.imul(h, 0x85ebca6b) >>> 0; h ^= h >>> 13; h = Math.imul(h, 0xc2b2ae35) >>> 0; h ^= h >>> 16;
-    y[i] = (h >>> 0) / 4294967296 - 0.5;
-  }
-  return y;
-}
 
 /** A 5 V trapezoid at pulse phase u: linear edges `ramp` long, high for `duty`. */
 const trapezoid = (u: number, duty = 0.1, ramp = 0.02) => 5 * (u < ramp ? u / ramp : u < duty ? 1 : u < duty + ramp ? 1 - (u - duty) / ramp : 0);
