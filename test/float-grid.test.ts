@@ -8,7 +8,7 @@ import { reduceRecording } from '../pipeline/reduce/compute.js';
 import type { ChannelDeclaration } from '../spec/archive.js';
 import type { Flag } from '../stages/quality/flag.js';
 import { declaredGrid, foldGrid, GRID_SLACK, noTally, storageRoundoff } from '../stages/quality/float-grid.js';
-import { fixture, quern, tempDir } from './helpers.js';
+import { fixture, quern, readJson, tempDir } from './helpers.js';
 
 const expected = JSON.parse(readFileSync(fixture('float-grid', 'expected.json'), 'utf8'));
 const volts = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration =>
@@ -137,12 +137,18 @@ describe('the run\'s terminal', () => {
     for (const f of ['a12-pcm16.wav', 'a12-float32.wav', 'a12-resampled-float32.wav']) copyFileSync(fixture('float-grid', f), join(archive, f));
     writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - { name: rig, match: "*.wav", channels: [{ name: v, quantity: voltage, unit: V, scale: 10, range: [-10, 10], bits: 12 }] }\n');
     writeFileSync(join(archive, 'reduction.yaml'), 'statistics: {}\n');
-    const r = await quern('reduce', archive, '--out', join(tempDir(), 'out'), '--jobs', '1');
+    const out = join(tempDir(), 'out');
+    const r = await quern('reduce', archive, '--out', out, '--jobs', '1');
     expect(r.code).toBe(0);
     const lines = r.stdout.split('\n');
     expect(lines.filter((l) => l.includes('NOT CHECKED'))).toEqual(['  NOT CHECKED resolution on 1 channel (group rig): floating-point samples off the declared converter steps (filtered, resampled or rescaled)']);
-    const fails = lines.filter((l) => /FAIL +a12-(pcm16|float32)\.wav v: resolution: 6 steps of 0\.004883 V used/.test(l));
-    expect(fails).toHaveLength(2);
-    expect(fails[0].replace(/^.*wav v: /, '')).toBe(fails[1].replace(/^.*wav v: /, ''));
+    // The terminal gathers a channel's failure over its recordings into one line; quality.json holds each recording's.
+    expect(lines.filter((l) => /FAIL +rig v: resolution in 2 of 3 recordings, the latest a12-(pcm16|float32)\.wav: 6 steps of 0\.004883 V used/.test(l))).toHaveLength(1);
+    const quality = readJson(join(out, 'quality.json'));
+    const resolutionOf = (name: string) => quality.recordings.find((x: { recording: string }) => x.recording === name).channels[0].flags.find((f: { name: string }) => f.name === 'resolution');
+    const [pcm, float] = ['a12-pcm16.wav', 'a12-float32.wav'].map(resolutionOf);
+    expect([pcm.severity, float.severity]).toEqual(['fail', 'fail']);
+    expect(float.message).toBe(pcm.message);
+    expect(pcm.message).toMatch(/^6 steps of 0\.004883 V used/);
   });
 });
