@@ -2,14 +2,17 @@
 
 export type WindowName = 'hann' | 'hamming' | 'boxcar';
 
+/** Each window's constant term a of the generalised cosine form below (the boxcar is a = 1). */
+export const COSINE_CONSTANT: Record<WindowName, number> = { hann: 0.5, hamming: 0.54, boxcar: 1 };
+
 // Generalised cosine window w[n] = a − (1 − a)·cos(2πn/N), periodic form (Harris, Proc. IEEE 66(1), 1978).
 const cosineWindow = (n: number, a: number) => Float64Array.from({ length: n }, (_, i) => a - (1 - a) * Math.cos((2 * Math.PI * i) / n));
 
 /** A new window of that name and length, not kept (a whole short recording's, whose length is seldom met again). */
 export function windowOf(name: WindowName, n: number): Float64Array {
   switch (name) {
-    case 'hann': return cosineWindow(n, 0.5);
-    case 'hamming': return cosineWindow(n, 0.54);
+    case 'hann':
+    case 'hamming': return cosineWindow(n, COSINE_CONSTANT[name]);
     case 'boxcar': return new Float64Array(n).fill(1);
   }
 }

@@ -74,14 +74,7 @@ export function removeOwnSpools(dir = tmpdir()): number {
  * for the rest of the run; returns how many. The main thread's (id 0) are its own recordings', removed as they close.
  */
 export async function sweepStoppedThreads(running: number[], dir = tmpdir()): Promise<number> {
-  const names = await readdir(dir).catch(() => [] as string[]);
-  let removed = 0;
-  for (const name of names) {
-    const m = name.match(/^quern-mat-(\d+)-t(\d+)-/);
-    if (!m || Number(m[1]) !== process.pid || m[2] === '0' || running.includes(Number(m[2]))) continue;
-    await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
-  }
-  return removed;
+  return removeCopies(dir, /^quern-mat-(\d+)-t(\d+)-/, (m) => Number(m[1]) === process.pid && m[2] !== '0' && !running.includes(Number(m[2])));
 }
 
 /**
@@ -90,11 +83,16 @@ export async function sweepStoppedThreads(running: number[], dir = tmpdir()): Pr
  * threads have ended: what is left is a stopped or crashed thread's, and a file still open reads on once removed).
  */
 export async function sweepSpools(dir = tmpdir(), { own = false } = {}): Promise<number> {
+  return removeCopies(dir, /^quern-mat-(\d+)-/, (m) => !runsHere(Number(m[1])) || (own && Number(m[1]) === process.pid));
+}
+
+/** Removes the copies in `dir` whose names match `pattern` and that `gone` picks; returns how many. */
+async function removeCopies(dir: string, pattern: RegExp, gone: (m: RegExpMatchArray) => boolean): Promise<number> {
   const names = await readdir(dir).catch(() => [] as string[]);
   let removed = 0;
   for (const name of names) {
-    const m = name.match(/^quern-mat-(\d+)-/);
-    if (!m || (runsHere(Number(m[1])) && !(own && Number(m[1]) === process.pid))) continue;
+    const m = name.match(pattern);
+    if (!m || !gone(m)) continue;
     await rm(join(dir, name), { recursive: true, force: true }).then(() => removed++, () => {});
   }
   return removed;
