@@ -1,7 +1,7 @@
 // The spec's `only:` selectors and watched trend features held against the channels archive.yaml declares, so that a
 // typo which leaves a section (or a trend) without a channel is named by check and by the run, not found weeks later empty.
 import picomatch from 'picomatch';
-import { activeStages } from '../../stages/index.js';
+import { activeStages, SELECTED_SECTIONS } from '../../stages/index.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
 import type { ChannelSelector, ReductionSpec } from '../../spec/reduction.js';
 import type { TrendOptions } from '../trends/options.js';
@@ -12,9 +12,6 @@ export interface ArchiveChannels { names: string[]; quantities: string[]; namesK
 
 /** Quantities quern's own figures select by (defaults of velocity, sound levels, rainflow), known whatever the archive holds. */
 const QUANTITIES_QUERN_USES = ['acceleration', 'sound_pressure', 'strain', 'stress'];
-
-/** The spec sections that take `only`, in the spec's order. */
-const SECTIONS = ['statistics', 'spectrum', 'bands', 'octave_bands', 'velocity_bands', 'windows', 'time_weighting_s', 'mtvv', 'envelope', 'sound_level', 'rainflow', 'orders'] as const;
 
 /** What the archive's usable groups declare: channel names and quantities (an undeclared channel's quantity is "unknown"). */
 export function archiveChannels(declaration: ArchiveDeclaration): ArchiveChannels {
@@ -66,7 +63,7 @@ const offered = (a: ArchiveChannels) =>
  */
 export function selectorNotes(spec: ReductionSpec, a: ArchiveChannels, specFile = 'reduction.yaml'): string[] {
   const notes: string[] = [];
-  for (const section of SECTIONS) {
+  for (const section of SELECTED_SECTIONS) {
     const only = writtenOnly(spec[section]);
     if (!only || standardOnly(only)) continue;
     const dead = deadEntries(only, a);
