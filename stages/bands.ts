@@ -10,6 +10,8 @@ const col = (lo: number, hi: number) => `band_${hzName(lo)}_${hzName(hi)}`;
 
 export const bands: StageDefinition<BandOptions> = {
   group: 'bands',
+  section: 'bands',
+  spectral: true,
   columns: (o) => o.ranges.flatMap(([lo, hi]) => [
     { name: `${col(lo, hi)}_ms`, unit: '[unit]^2', description: `Mean square in [${lo}, ${hi}) Hz from the Welch PSD (edge bins count by the fraction inside the band).` },
     { name: `${col(lo, hi)}_rms`, unit: '[unit]', description: `RMS in [${lo}, ${hi}) Hz from the Welch PSD.` },

@@ -32,6 +32,8 @@ const EMPTY = { filtered_rms: null, env_mean: null, env_rms: null, env_peak: nul
 
 export const envelope: StageDefinition<EnvelopeOptions> = {
   group: 'envelope',
+  section: 'envelope',
+  spectral: false,
   columns: (o) => {
     const f = o.filter;
     const what = `${f.kind} Butterworth order ${f.order}, ${edgesOf(f).join('–')} Hz, ${f.zero_phase ? 'zero-phase' : 'causal'}`;

@@ -14,7 +14,7 @@ import { keptSpectrum } from './spectra.js';
 import { DEFAULT_SPECTRUM, spectrum } from './spectrum.js';
 import { speedOptionsOf } from './shaft-speed.js';
 import { speed } from './speed.js';
-import type { ColumnSpec, StageDefinition } from './stage.js';
+import type { ColumnSpec, SpecSection, StageDefinition } from './stage.js';
 import { statistics } from './stats.js';
 import { timeWeighting } from './time-weighting.js';
 import { velocity } from './velocity.js';
@@ -35,9 +35,46 @@ import { spikes } from './quality/spikes.js';
 
 export interface ActiveStage { definition: StageDefinition<any>; options: any; only: ChannelSelector | undefined }
 
+/** The quality flags, in report order: they run on every channel whatever the spec. */
+const QUALITY_STAGES = [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, offset, spikes, declaration, pulseTrain, evidence];
+
+/** Every stage `activeStages` may turn on, in column order: what each declares (its section, whether it is spectral) is read from here. */
+export const STAGES: readonly StageDefinition<any>[] = [
+  statistics, spectrum, keptSpectrum, bands, octaveBands, velocity, windows, timeWeighting, mtvv, envelope, soundEnergy, soundMaxima,
+  rainflow, speed, orders, orderTacho, ...QUALITY_STAGES,
+];
+
+/** The spec sections that take `only:`, in the spec's order: those the stages come from. */
+export const SELECTED_SECTIONS: readonly SpecSection[] = [...new Set(STAGES.flatMap((s) => (s.section ? [s.section] : [])))];
+
+/** The feature groups whose figures read the channel's shared spectrum: those with a stage declaring itself spectral. */
+export const SPECTRAL_GROUPS: readonly string[] = [...new Set(STAGES.filter((s) => s.spectral).map((s) => s.group))];
+
+/** Whether the channel has figures from the shared spectrum: one of those groups, among `groups`, gave it a column. */
+export const hasSpectralFigures = (outputs: Record<string, { columns: Record<string, unknown>[] }>, groups: readonly string[], c: number) =>
+  groups.some((g) => SPECTRAL_GROUPS.includes(g) && Object.keys(outputs[g]?.columns[c] ?? {}).length > 0);
+
 type Ranges = [number, number][];
 const rangesOf = (v: Ranges | { ranges: Ranges } | undefined): Ranges => (Array.isArray(v) ? v : v?.ranges ?? []);
 const onlyOf = (v: unknown): ChannelSelector | undefined => (v && !Array.isArray(v) && typeof v === 'object' ? (v as { only?: ChannelSelector }).only : undefined);
+
+/** A selector as a comparable text: none (every channel) apart from an empty one (no channel). */
+const selectorText = (only: ChannelSelector | undefined) => (only ? JSON.stringify([only.names ?? [], only.quantities ?? []]) : 'every channel');
+
+/**
+ * The octave sets as runs of consecutive sets with one `only:` selector: each run one stage on the channels its selector
+ * chooses (a set without `only:` on every channel), so every set is computed where its own selector says, its columns in
+ * the spec's order; sets sharing a selector share a stage, and its finer spectrum, as one set list did.
+ */
+export function octaveRuns<S extends { only?: ChannelSelector }>(value: S | S[]): { sets: S[]; only: ChannelSelector | undefined }[] {
+  const runs: { sets: S[]; only: ChannelSelector | undefined }[] = [];
+  for (const set of Array.isArray(value) ? value : [value]) {
+    const last = runs.at(-1);
+    if (last && selectorText(last.only) === selectorText(set.only)) last.sets.push(set);
+    else runs.push({ sets: [set], only: set.only });
+  }
+  return runs;
+}
 
 /** The stages a spec asks for: a section present turns its group on; statistics and quality flags always run. */
 export function activeStages(spec: ReductionSpec): ActiveStage[] {
@@ -52,8 +89,10 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   }
   if (spec.bands) out.push({ definition: bands, options: { ranges: rangesOf(spec.bands), spectrum: welch }, only: onlyOf(spec.bands) });
   if (spec.octave_bands) {
-    const sets = (Array.isArray(spec.octave_bands) ? spec.octave_bands : [spec.octave_bands]).map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000, ...(s.levels_db ? { levels_db: true } : {}) }));
-    out.push({ definition: octaveBands, options: { sets, spectrum: welch }, only: Array.isArray(spec.octave_bands) ? spec.octave_bands[0]?.only : spec.octave_bands.only });
+    for (const run of octaveRuns(spec.octave_bands)) {
+      const sets = run.sets.map((s) => ({ fraction: s.fraction ?? 3, from: s.from ?? 25, to: s.to ?? 10000, ...(s.levels_db ? { levels_db: true } : {}) }));
+      out.push({ definition: octaveBands, options: { sets, spectrum: welch }, only: run.only });
+    }
   }
   if (spec.velocity_bands) out.push({ definition: velocity, options: { ranges: rangesOf(spec.velocity_bands), spectrum: welch }, only: onlyOf(spec.velocity_bands) ?? { quantities: ['acceleration'] } });
   if (spec.windows) out.push({ definition: windows, options: { length_s: spec.windows.length_s ?? 1, hop_s: spec.windows.hop_s ?? spec.windows.length_s ?? 1, speed: speedOptions }, only: spec.windows.only });
@@ -82,7 +121,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
   }
   // The data-quality verdict always runs: a figure is only worth as much as the recording under it.
   const q = { ...thresholdsOf(spec.quality), spectrum: welch };
-  for (const definition of [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, offset, spikes, declaration, pulseTrain, evidence]) {
+  for (const definition of QUALITY_STAGES) {
     out.push({ definition, options: q, only: undefined });
   }
   return out;

@@ -6,6 +6,8 @@ export interface MtvvOptions { integration_s: number }
 
 export const mtvv: StageDefinition<MtvvOptions> = {
   group: 'mtvv',
+  section: 'mtvv',
+  spectral: false,
   columns: (o) => [{ name: 'mtvv', unit: '[unit]', description: `Maximum running RMS over ${o.integration_s} s windows (ISO 2631-1 linear integration), of the signal as declared; apply any frequency weighting the standard asks for upstream.` }],
   create(ctx, o) {
     const length = Math.max(1, Math.round(o.integration_s * ctx.sampleRate));

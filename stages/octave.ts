@@ -91,6 +91,8 @@ function bandList(bands: { fraction: 1 | 3; nominal: number }[]): string {
 
 export const octaveBands: StageDefinition<OctaveOptions> = {
   group: 'octave_bands',
+  section: 'octave_bands',
+  spectral: true,
   columns: (o) => o.sets.flatMap((set): ColumnSpec[] => {
     const bands = bandsOf(set.fraction, set.from, set.to);
     const kind = set.fraction === 1 ? 'octave' : 'one-third-octave';

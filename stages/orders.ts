@@ -59,6 +59,8 @@ export function lowSpeedSpectrum(o: Pick<OrderOptions, 'orders' | 'width' | 'min
 
 export const orders: StageDefinition<OrderOptions> = {
   group: 'orders',
+  section: 'orders',
+  spectral: true,
   columns: (o) => o.orders.map((n) => ({
     name: col(n), unit: '[unit]',
     description: `RMS within ±${o.width} orders of order ${n} (${n} × the mean shaft speed of the recording's tacho channel), from the Welch PSD; null when the speed varied too much for the band, or on the tacho channel.`,
@@ -149,6 +151,8 @@ function narrowNote(name: string, orders: number[], o: OrderOptions, f: number, 
 /** The tacho's part in the orders group, whichever channels the group's `only` selects, so the group is complete when computed alone. */
 export const orderTacho: StageDefinition<SpeedOptions> = {
   group: 'orders',
+  section: 'orders',
+  spectral: false,
   columns: () => [],
   create(ctx, o = SPEED_DEFAULTS) {
     if (ctx.tacho) speedOf(ctx, o);

@@ -34,6 +34,8 @@ export function residueNote(name: string, counter: Rainflow): string {
 
 export const rainflow: StageDefinition<RainflowOptions> = {
   group: 'rainflow',
+  section: 'rainflow',
+  spectral: false,
   columns: (o) => [
     { name: 'cycles_total', unit: '1', description: `Rainflow cycles counted (ASTM E1049-85 §5.4.4; the residue as half cycles), reversals not exceeding the gate of ${o.gate} [unit] left out.` },
     { name: 'range_max', unit: '[unit]', description: 'Largest counted range.' },

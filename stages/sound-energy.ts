@@ -27,6 +27,8 @@ const missedPower = (kind: Weighting, sos: Section[] | null, fs: number) =>
 
 export const soundEnergy: StageDefinition<SoundEnergyOptions> = {
   group: 'sound_level',
+  section: 'sound_level',
+  spectral: true,
   columns: () => [
     ...FIGURES.map(([name, , description]) => ({ name, unit: LEVEL_UNIT, description })),
     { name: 'lae', unit: LEVEL_UNIT, description: 'A-weighted sound exposure level: laeq + 10·log10(T / 1 s), T the seconds of finite samples (IEC 61672-1), the level of one second holding all of the recording\'s A-weighted sound energy.' },

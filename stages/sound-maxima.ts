@@ -10,6 +10,8 @@ const EMPTY = { lafmax: null, lasmax: null, lcpeak: null, a_filter_deviation_db:
 
 export const soundMaxima: StageDefinition<Record<string, never>> = {
   group: 'sound_level',
+  section: 'sound_level',
+  spectral: false,
   columns: () => [
     { name: 'lafmax', unit: LEVEL_UNIT, description: 'Maximum A-weighted, Fast (0.125 s) time-weighted sound level (IEC 61672-1), from the digital A weighting filter.' },
     { name: 'lasmax', unit: LEVEL_UNIT, description: 'Maximum A-weighted, Slow (1 s) time-weighted sound level.' },

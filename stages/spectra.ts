@@ -31,6 +31,8 @@ export function unpackSpectrum(v: KeptValue | null | undefined): KeptSpectrum | 
 
 export const keptSpectrum: StageDefinition<WelchOptions> = {
   group: 'spectrum',
+  section: 'spectrum',
+  spectral: true,
   columns: () => [],
   create(ctx, o) {
     const s = spectrumOf(ctx, o);

@@ -107,6 +107,8 @@ export function spectralCentroid(density: Float64Array, df: number): number | nu
 
 export const spectrum: StageDefinition<WelchOptions> = {
   group: 'spectrum',
+  section: 'spectrum',
+  spectral: true,
   columns: () => [
     { name: 'dominant_frequency', unit: 'Hz', description: 'Frequency of the largest Welch PSD bin above DC (resolution fs/segment).' },
     { name: 'spectral_centroid', unit: 'Hz', description: 'Power-weighted mean frequency of the Welch PSD above DC: Σ f·P / Σ P.' },

@@ -9,6 +9,8 @@ const round = (v: number) => Number(v.toPrecision(4));
 
 export const speed: StageDefinition<SpeedOptions> = {
   group: 'speed',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'speed_mean_rpm', unit: 'rpm', description: 'Tacho channels: shaft speed over the recording, revolutions of the good pulse intervals / their duration.' },
     { name: 'speed_min_rpm', unit: 'rpm', description: 'Tacho channels: speed of the slowest revolution (pulses_per_rev consecutive good intervals).' },

@@ -1,4 +1,5 @@
 // The one shape every reduction stage has: created for a channel, fed chunks, finished into columns.
+import type { ReductionSpec } from '../spec/reduction.js';
 import type { TimeSteps } from './read/time-steps.js';
 import type { Flag } from './quality/flag.js';
 import type { DeclaredGrid } from './quality/float-grid.js';
@@ -101,10 +102,21 @@ export interface Stage {
   finish(): ColumnValues;
 }
 
+/** The spec sections a stage may come from (quality and trends turn no stage on). */
+export type SpecSection = Exclude<keyof ReductionSpec, 'quality' | 'trends'>;
+
 /** A feature group: the columns it adds and how to start one for a channel. */
 export interface StageDefinition<Options = unknown> {
   /** Feature group name, as used in the spec and in caching. */
   group: string;
+  /**
+   * The spec section it comes from, whose `only:` chooses its channels (statistics runs whatever the spec, under its own
+   * `only:`; the orders' tacho part on the tacho channel whatever `orders.only` says); null for a stage no section turns on
+   * or selects for (the shaft speed, the quality flags). The empty-selector notes walk these sections.
+   */
+  section: SpecSection | null;
+  /** Whether its figures rest on the channel's shared Welch spectrum: a dropout that leaves that spectrum part of the recording is said of them. */
+  spectral: boolean;
   columns(options: Options): ColumnSpec[];
   create(channel: ChannelContext, options: Options): Stage;
 }

@@ -7,6 +7,8 @@ export { momentsOf };
 
 export const statistics: StageDefinition<Record<string, never>> = {
   group: 'statistics',
+  section: 'statistics',
+  spectral: false,
   columns: () => [
     { name: 'mean', unit: '[unit]', description: 'Arithmetic mean.' },
     { name: 'std', unit: '[unit]', description: 'Population standard deviation (divisor n).' },

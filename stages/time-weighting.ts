@@ -12,6 +12,8 @@ const col = (tau: number) => `max_twrms_${hzName(Number((tau * 1000).toPrecision
 
 export const timeWeighting: StageDefinition<TimeWeightingOptions> = {
   group: 'time_weighting',
+  section: 'time_weighting_s',
+  spectral: false,
   columns: (o) => o.constants_s.map((tau) => ({ name: col(tau), unit: '[unit]', description: `Maximum exponentially time-weighted RMS, time constant ${tau} s, of the signal as declared (starting from zero); null when the channel has no finite samples.` })),
   create(ctx, o) {
     // y[n] = y[n−1] + α·(x[n]² − y[n−1]), α = 1 − e^(−1/(τ·fs)): the exact sampled response of the first-order averager, in the fused pass.

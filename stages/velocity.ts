@@ -73,6 +73,8 @@ export function velocityMeanSquare(shared: Psd, fine: Psd | null, lo: number, hi
 
 export const velocity: StageDefinition<VelocityOptions> = {
   group: 'velocity_bands',
+  section: 'velocity_bands',
+  spectral: true,
   columns: (o) => o.ranges.map(([lo, hi]) => ({ name: col(lo, hi), unit: 'mm/s', description: `Velocity RMS in [${lo}, ${hi}) Hz of an acceleration channel, integrated in the frequency domain from the Welch PSD (below some hundreds of Hz from a finer one of every D-th sample where the spectrum's segment cannot resolve ${lo} Hz).` })),
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);

@@ -26,6 +26,8 @@ function finiteFigures(ring: Float64Array, out: Float64Array): void {
 
 export const windows: StageDefinition<WindowOptions> = {
   group: 'windows',
+  section: 'windows',
+  spectral: false,
   columns: () => [],
   create(ctx, o) {
     const length = Math.max(1, Math.round(o.length_s * ctx.sampleRate));

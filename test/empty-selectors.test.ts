@@ -4,6 +4,9 @@ import { join } from 'node:path';
 import { parquetReadObjects } from 'hyparquet';
 import { compressors } from 'hyparquet-compressors';
 import { describe, expect, it } from 'vitest';
+import { selectorNotes, unwatchedFeatureNotes } from '../pipeline/declare/empty-selectors.js';
+import { trendOptions } from '../pipeline/trends/options.js';
+import type { ReductionSpec } from '../spec/reduction.js';
 import { quern, readJson, tempDir } from './helpers.js';
 
 /** Two CSV recordings of a 50 Hz tone (acc_de, acceleration) and an 80 Hz one (mic, sound_pressure) at 1 kHz. */
@@ -73,5 +76,22 @@ describe('spec selectors that select no channel', () => {
     // archive without such sensors leaves empty by design: no note.
     rmSync(join(archive, 'reduction.yaml'));
     expect(quern('check', archive).stdout).not.toMatch(/NOTE/);
+  });
+
+  it('judges each octave set\'s own selector, named by its place in the list, and a watched band by its own set\'s', () => {
+    const a = { names: ['acc_de', 'mic'], quantities: ['acceleration', 'sound_pressure'], namesKnown: true };
+    // "mik" is "mic" with one letter changed (Levenshtein distance 1, by hand); the first set selects acc_de.
+    const spec: ReductionSpec = {
+      octave_bands: [{ fraction: 1, from: 500, to: 1000, only: { names: ['acc_*'] } }, { fraction: 3, from: 800, to: 1000, only: { names: ['mik'] } }],
+      trends: { features: ['oct1_1000_rms', 'oct3_1000_rms'] },
+    };
+    expect(selectorNotes(spec, a)).toEqual([
+      'reduction.yaml octave_bands[1].only selects no channel of the archive (names "mik" (did you mean mic?)), so its figures stay empty on every recording; archive.yaml\'s channels have quantities acceleration, sound_pressure and names acc_de, mic',
+    ]);
+    expect(unwatchedFeatureNotes(spec, trendOptions(spec), a)).toEqual([
+      'reduction.yaml trends.features watches oct3_1000_rms, which the octave_bands figures compute on no channel of the archive (they select names mik), so no trend of it can change; archive.yaml\'s channels have quantities acceleration, sound_pressure and names acc_de, mic',
+    ]);
+    // One set in the object form keeps the section's own name.
+    expect(selectorNotes({ octave_bands: { fraction: 1, only: { names: ['mik'] } } }, a)[0]).toMatch(/^reduction\.yaml octave_bands\.only selects no channel/);
   });
 });

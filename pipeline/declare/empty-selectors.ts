@@ -1,7 +1,7 @@
 // The spec's `only:` selectors and watched trend features held against the channels archive.yaml declares, so that a
 // typo which leaves a section (or a trend) without a channel is named by check and by the run, not found weeks later empty.
 import picomatch from 'picomatch';
-import { activeStages } from '../../stages/index.js';
+import { activeStages, SELECTED_SECTIONS } from '../../stages/index.js';
 import type { ArchiveDeclaration } from '../../spec/archive.js';
 import type { ChannelSelector, ReductionSpec } from '../../spec/reduction.js';
 import type { TrendOptions } from '../trends/options.js';
@@ -13,9 +13,6 @@ export interface ArchiveChannels { names: string[]; quantities: string[]; namesK
 /** Quantities quern's own figures select by (defaults of velocity, sound levels, rainflow), known whatever the archive holds. */
 const QUANTITIES_QUERN_USES = ['acceleration', 'sound_pressure', 'strain', 'stress'];
 
-/** The spec sections that take `only`, in the spec's order. */
-const SECTIONS = ['statistics', 'spectrum', 'bands', 'octave_bands', 'velocity_bands', 'windows', 'time_weighting_s', 'mtvv', 'envelope', 'sound_level', 'rainflow', 'orders'] as const;
-
 /** What the archive's usable groups declare: channel names and quantities (an undeclared channel's quantity is "unknown"). */
 export function archiveChannels(declaration: ArchiveDeclaration): ArchiveChannels {
   const usable = declaration.groups.filter((g) => !g.broken);
@@ -24,10 +21,11 @@ export function archiveChannels(declaration: ArchiveDeclaration): ArchiveChannel
   return { names: [...new Set(declared.map((c) => c.name))], quantities, namesKnown: usable.every((g) => g.channels != null) };
 }
 
-/** The selector a section's value carries as written (octave_bands: its first set's, as the stages take it), or none. */
-function writtenOnly(value: unknown): ChannelSelector | undefined {
-  const v = Array.isArray(value) ? value[0] : value;
-  return v && typeof v === 'object' && !Array.isArray(v) ? (v as { only?: ChannelSelector }).only : undefined;
+/** The selectors a section's value carries as written, each with its place: a list of sets (octave_bands) one a set. */
+function writtenSelectors(section: string, value: unknown): { place: string; only: ChannelSelector }[] {
+  const onlyOf = (v: unknown) => (v && typeof v === 'object' && !Array.isArray(v) ? (v as { only?: ChannelSelector }).only : undefined);
+  const places = Array.isArray(value) ? value.map((v, i) => ({ place: `${section}[${i}]`, only: onlyOf(v) })) : [{ place: section, only: onlyOf(value) }];
+  return places.filter((p): p is { place: string; only: ChannelSelector } => p.only != null);
 }
 
 /**
@@ -55,6 +53,9 @@ function deadEntries(only: ChannelSelector, a: ArchiveChannels): { key: 'names' 
   ];
 }
 
+/** A selector as a key of the notes' grouping. */
+const selectorKey = (only: ChannelSelector | undefined) => JSON.stringify(only ?? null);
+
 /** What the archive offers a selector, for a note. */
 const offered = (a: ArchiveChannels) =>
   `archive.yaml's channels have quantities ${a.quantities.join(', ') || '(none)'}${a.namesKnown ? ` and names ${a.names.join(', ') || '(none)'}` : ''}`;
@@ -66,15 +67,14 @@ const offered = (a: ArchiveChannels) =>
  */
 export function selectorNotes(spec: ReductionSpec, a: ArchiveChannels, specFile = 'reduction.yaml'): string[] {
   const notes: string[] = [];
-  for (const section of SECTIONS) {
-    const only = writtenOnly(spec[section]);
-    if (!only || standardOnly(only)) continue;
+  for (const { place, only } of SELECTED_SECTIONS.flatMap((section) => writtenSelectors(section, spec[section]))) {
+    if (standardOnly(only)) continue;
     const dead = deadEntries(only, a);
     const said = (d: (typeof dead)[number]) => `${d.key} "${d.entry}"${d.meant ? ` (${d.meant})` : ''}`;
     if (!selectsSome(only, a)) {
-      notes.push(`${specFile} ${section}.only selects no channel of the archive (${dead.map(said).join(', ') || 'no entry'}), so its figures stay empty on every recording; ${offered(a)}`);
+      notes.push(`${specFile} ${place}.only selects no channel of the archive (${dead.map(said).join(', ') || 'no entry'}), so its figures stay empty on every recording; ${offered(a)}`);
     } else {
-      for (const d of dead.filter((x) => x.meant)) notes.push(`${specFile} ${section}.only ${d.key} "${d.entry}" selects no channel of the archive; ${d.meant} ${offered(a)}`);
+      for (const d of dead.filter((x) => x.meant)) notes.push(`${specFile} ${place}.only ${d.key} "${d.entry}" selects no channel of the archive; ${d.meant} ${offered(a)}`);
     }
   }
   return notes;
@@ -87,14 +87,17 @@ export function selectorNotes(spec: ReductionSpec, a: ArchiveChannels, specFile 
 export function unwatchedFeatureNotes(spec: ReductionSpec, trends: TrendOptions | null, a: ArchiveChannels, specFile = 'reduction.yaml'): string[] {
   if (!trends || !spec.trends?.features) return [];
   const stages = activeStages(spec);
-  const empty = new Map<string, string[]>();
+  const empty = new Map<string, { group: string; only: ChannelSelector | undefined; features: string[] }>();
   for (const f of trends.features) {
-    const of = stages.filter((s) => s.definition.group === f.group);
+    // The stage that writes the column (each octave set's own), else the group's.
+    const inGroup = stages.filter((s) => s.definition.group === f.group);
+    const writing = inGroup.filter((s) => s.definition.columns(s.options).some((c) => c.name === f.name));
+    const of = writing.length ? writing : inGroup;
     if (!of.length || of.some((s) => standardOnly(s.only) || selectsSome(s.only, a))) continue;
-    (empty.get(f.group) ?? empty.set(f.group, []).get(f.group)!).push(f.name);
+    const key = `${f.group}\u0000${selectorKey(of[0].only)}`;
+    (empty.get(key) ?? empty.set(key, { group: f.group, only: of[0].only, features: [] }).get(key)!).features.push(f.name);
   }
-  return [...empty].map(([group, features]) => {
-    const only = stages.find((s) => s.definition.group === group)!.only;
+  return [...empty.values()].map(({ group, only, features }) => {
     const by = only ? [only.quantities?.length ? `quantities ${only.quantities.join(', ')}` : '', only.names?.length ? `names ${only.names.join(', ')}` : ''].filter(Boolean).join(' or ') : 'every channel';
     return `${specFile} trends.features watches ${features.join(', ')}, which the ${group} figures compute on no channel of the archive (they select ${by}), so no trend of ${features.length === 1 ? 'it' : 'them'} can change; ${offered(a)}`;
   });

@@ -1,7 +1,7 @@
 // A recording's group outputs → one row per channel, its secondary tables and its quality verdict.
-import { activeStages, featureColumns } from '../../stages/index.js';
+import { activeStages, featureColumns, hasSpectralFigures } from '../../stages/index.js';
 import type { ColumnValues } from '../../stages/stage.js';
-import { forFigures, hasSpectralFigures, worst } from '../../stages/quality/flag.js';
+import { forFigures, worst } from '../../stages/quality/flag.js';
 import type { RecordingJob } from '../plan/plan.js';
 import { rowObjects, type FeatureRow, type RecordingOutput, type RecordingResult, type SecondarySource } from './result.js';
 

@@ -1,13 +1,13 @@
 // A channel's history: every stored recording of the same group with the same channel (and unit), in start-time order,
 // read once from the output folder's stored results and kept as compact typed arrays (about 20 bytes a recording and
 // channel, plus 10 a watched feature), so that 100,000 recordings fit in a few tens of megabytes.
-import { forFigures, hasSpectralFigures, SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
+import { forFigures, SEVERITIES, worst, type Severity } from '../../stages/quality/flag.js';
 import type { ReductionSpec } from '../../spec/reduction.js';
 import { toolVersion } from '../declare/package-files.js';
 import { groupKeys, storedEntries, type CacheEntry } from '../plan/cache.js';
 import type { TrendOptions } from './options.js';
 import { StaleCause } from './stale-cause.js';
-import { FLAG_NAMES } from '../../stages/index.js';
+import { FLAG_NAMES, hasSpectralFigures } from '../../stages/index.js';
 
 /** A typed array that grows by doubling. */
 class Growing<T extends Float64Array | Float32Array | Int32Array | Uint16Array | Uint8Array> {

@@ -13,6 +13,8 @@ const hz = (f: number) => Number(f.toPrecision(6));
 
 export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOptions }> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'alias_margin', unit: '1', description: 'Sample rate / declared highest frequency (2 is the sampling-theorem limit, 2.56 common practice).' },
     { name: 'alias_frequency_hz', unit: 'Hz', description: 'Where the declared highest frequency lands when sampled: |f − k·fs|.' },

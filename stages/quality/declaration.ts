@@ -5,6 +5,8 @@ import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const declaration: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [],
   create(ctx, q) {
     let n = 0;

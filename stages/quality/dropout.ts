@@ -15,6 +15,8 @@ const spectrumCoverage = (psd: Psd | null, n: number) => (psd?.covered != null &
 
 export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptions }> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'missing_fraction', unit: '1', description: 'Fraction of samples missing or not finite.' },
     { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros.' },

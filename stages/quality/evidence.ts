@@ -70,6 +70,8 @@ function reduceTo(values: ArrayLike<number>, max: number, pick: (xs: number[]) =
 
 export const evidence: StageDefinition<{ spectrum: WelchOptions }> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [],
   create(ctx, o) {
     const s = spectrumOf(ctx, o.spectrum);

@@ -125,13 +125,6 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   pulse_train: { warn_coverage: 0.8, fail_coverage: 0.5, warn_fault_ratio: 0.1, fail_fault_ratio: 1 },
 };
 
-/** The feature groups whose figures read the channel's shared spectrum (sound_level: LAeq's weighting shortfall). */
-export const SPECTRAL_GROUPS: readonly string[] = ['spectrum', 'bands', 'octave_bands', 'velocity_bands', 'orders', 'sound_level'];
-
-/** Whether the channel has figures from the shared spectrum: one of those groups, among `groups`, gave it a column. */
-export const hasSpectralFigures = (outputs: Record<string, { columns: Record<string, unknown>[] }>, groups: readonly string[], c: number) =>
-  groups.some((g) => SPECTRAL_GROUPS.includes(g) && Object.keys(outputs[g]?.columns[c] ?? {}).length > 0);
-
 /** The flag as the channel's figures have it: its spectral wording where the channel has spectral figures, never the choice itself. */
 export function forFigures(f: Flag, spectral: boolean): Flag {
   if (!f.spectral) return f;

@@ -7,6 +7,8 @@ import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 export const flatline: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [{ name: 'flatline_run_s', unit: 's', description: 'Longest stretch of exactly repeated values.' }],
   create(ctx, q) {
     // The spread comes from the channel's shared moments; this stage only looks for constant stretches.

@@ -17,6 +17,8 @@ export const rmsExcess = (db: number) => (db > 0 ? 1 / Math.sqrt(1 - 10 ** (-db 
 
 export const noiseFloor: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [{ name: 'above_noise_floor_db', unit: 'dB', description: '20·log10(std / declared noise_floor): the channel above its measurement chain\'s own noise; null when no floor is declared.' }],
   create(ctx, q) {
     const shared = momentsOf(ctx);

@@ -11,6 +11,8 @@ import { withArticle } from './article.js';
 
 export const offset: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'offset_ratio', unit: '1', description: '|mean| / std, for quantities that carry no DC.' },
     { name: 'drift_ratio', unit: '1', description: 'Rise across the recording of the least-squares line through the 1 s window means, over the spread of the signal around that line (std with the line\'s share taken out).' },

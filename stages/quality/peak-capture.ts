@@ -17,6 +17,8 @@ export const peakUnderestimate = (samplesPerCycle: number) => 1 - Math.cos(Math.
 
 export const peakCapture: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'samples_per_cycle', unit: '1', description: 'Sample rate / declared highest frequency.' },
     { name: 'peak_underestimate', unit: '1', description: 'Worst-case shortfall of a sampled peak at the declared highest frequency: 1 − cos(π·f/fs).' },

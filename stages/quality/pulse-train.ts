@@ -38,6 +38,8 @@ export const smallPulsesTodo = 'or, where pulses are there but small, trigger_le
 
 export const pulseTrain: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
   create(ctx, q) {
     const speed = ctx.tacho ? speedOf(ctx, speedOptionsOf(q.pulse_train)) : null;

@@ -34,6 +34,8 @@ export const spansGrid = (spread: number, gridStep: number, least = 2) => Math.r
 
 export const resolution: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [
     { name: 'step_size', unit: '[unit]', description: 'Engineering value of one step of the data: the converter step (on floating-point samples, range span / 2^bits where both are declared and the samples lie on its steps), or the common multiple of it by which every sample changes when the data take coarser steps and span at least two of them.' },
     { name: 'resolution_bits', unit: 'bit', description: 'log2 of the steps the signal spans (peak to peak / step).' },

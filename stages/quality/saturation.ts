@@ -6,6 +6,8 @@ import { pct, secs, type QualityThresholds } from './flag.js';
 
 export const saturation: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [{ name: 'saturation_fraction', unit: '1', description: 'Fraction of samples at or beyond the instrument range (or on the extreme converter codes when no range is declared).' }],
   create(ctx, q) {
     // Half a converter step of tolerance, for rounding in the scale (the declared step on floating-point samples).

@@ -9,6 +9,8 @@ export { median } from '../dsp/median.js';
 
 export const spikes: StageDefinition<QualityThresholds> = {
   group: 'quality',
+  section: null,
+  spectral: false,
   columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk whose neighbours within 8 samples on both sides stay under half their excursion.' }],
   create(ctx, q) {
     const k = q.spikes.robust_sigmas;
