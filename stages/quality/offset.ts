@@ -2,7 +2,7 @@
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
-import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { NO_FINITE_SAMPLES, noFiniteSamples, pct, secs, type QualityThresholds, type Severity } from './flag.js';
 import { metresPerSecond2, STANDARD_GRAVITY } from '../acceleration-units.js';
 import { addPoint, emptyLineSums, fittedLine } from '../dsp/line-fit.js';
 import { levelStepFit } from '../dsp/level-step-fit.js';
@@ -35,7 +35,7 @@ export const offset: StageDefinition<QualityThresholds> = {
         if (!applies || m.n === 0) {
           // A channel left undeclared has no quantity: the check is then missed rather than not meant.
           const undeclared = !ctx.declared && m.n > 0;
-          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"`, ...(undeclared ? { not_assessed: 'declare the channels with their quantity in archive.yaml' } : {}) });
+          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: applies && noFiniteSamples(m.n + m.nonFinite, m.n) ? NO_FINITE_SAMPLES : `not assessed for quantity "${ctx.quantity}"`, ...(undeclared ? { not_assessed: 'declare the channels with their quantity in archive.yaml' } : {}) });
           return { offset_ratio: null, drift_ratio: null };
         }
         const mean = m.mean, std = Math.sqrt(m.m2 / m.n);
