@@ -4,6 +4,8 @@ import { CycleBins, type CycleBinning } from './cycle-bins.js';
 import { DamageEquivalent } from './dsp/damage-equivalent.js';
 import { Rainflow } from './dsp/rainflow.js';
 import { TurningPoints } from './dsp/turning-points.js';
+import { missingOf } from './fused/missing.js';
+import { noFiniteSamples } from './quality/flag.js';
 import type { StageDefinition } from './stage.js';
 
 export interface RainflowOptions {
@@ -37,7 +39,7 @@ export const rainflow: StageDefinition<RainflowOptions> = {
   section: 'rainflow',
   spectral: false,
   columns: (o) => [
-    { name: 'cycles_total', unit: '1', description: `Rainflow cycles counted (ASTM E1049-85 §5.4.4; the residue as half cycles), reversals not exceeding the gate of ${o.gate} [unit] left out.` },
+    { name: 'cycles_total', unit: '1', description: `Rainflow cycles counted (ASTM E1049-85 §5.4.4; the residue as half cycles), reversals not exceeding the gate of ${o.gate} [unit] left out; null when the channel has no finite samples.` },
     { name: 'range_max', unit: '[unit]', description: 'Largest counted range.' },
     { name: 'damage_equivalent_range', unit: '[unit]', description: `Constant range doing the same Palmgren–Miner damage in cycles_total cycles, for an S–N slope m = ${o.slope}: (Σ n·S^m / Σ n)^(1/m).` },
   ],
@@ -47,8 +49,11 @@ export const rainflow: StageDefinition<RainflowOptions> = {
     const damage = new DamageEquivalent(o.slope);
     const counter = new Rainflow((range, mean, count) => { damage.add(range, count); bins.add(range, mean, count); }, o.residueCap);
     const points = new TurningPoints(o.gate, (p) => counter.add(p));
+    // The dropout flag's count, read at the end: a channel with no finite sample has no cycles to count, not 0 of them.
+    const missing = missingOf(ctx);
+    let n = 0;
     return {
-      push(x) { points.push(x); },
+      push(x) { points.push(x); n += x.length; },
       finish() {
         points.finish();
         counter.finish();
@@ -56,7 +61,7 @@ export const rainflow: StageDefinition<RainflowOptions> = {
         const rows = rowsNote(ctx.name, ctx.unit, bins, o.bins);
         if (rows) ctx.note(rows);
         if (counter.closedEarly) ctx.note(residueNote(ctx.name, counter));
-        return { cycles_total: damage.cycles, range_max: damage.cycles > 0 ? damage.maxRange : null, damage_equivalent_range: damage.range() };
+        return { cycles_total: noFiniteSamples(n, n - missing.count) ? null : damage.cycles, range_max: damage.cycles > 0 ? damage.maxRange : null, damage_equivalent_range: damage.range() };
       },
     };
   },

@@ -1,5 +1,6 @@
 // Shaft speed on a tacho channel's row: mean, slowest and fastest revolution, the revolutions they rest on, and the pulse faults.
 import { momentsOf } from './fused/moments.js';
+import { noFiniteSamples } from './quality/flag.js';
 import { clearestWords, noPulseFound, smallPulsesTodo } from './quality/pulse-train.js';
 import { speedOf, SPEED_DEFAULTS, type PulseFaults, type SpeedOptions } from './shaft-speed.js';
 import type { StageDefinition } from './stage.js';
@@ -15,9 +16,9 @@ export const speed: StageDefinition<SpeedOptions> = {
     { name: 'speed_mean_rpm', unit: 'rpm', description: 'Tacho channels: shaft speed over the recording, revolutions of the good pulse intervals / their duration.' },
     { name: 'speed_min_rpm', unit: 'rpm', description: 'Tacho channels: speed of the slowest revolution (pulses_per_rev consecutive good intervals).' },
     { name: 'speed_max_rpm', unit: 'rpm', description: 'Tacho channels: speed of the fastest revolution.' },
-    { name: 'revolutions', unit: '1', description: 'Tacho channels: revolutions the speed figures rest on (good pulse intervals / pulses_per_rev); null, as the speed, when the train does not hold together or no pulse train is found.' },
-    { name: 'pulses_missing', unit: '1', description: 'Tacho channels: pulses missing from the train (an interval of whole multiples of the expected one); null when the train does not hold together or no pulse train is found.' },
-    { name: 'pulses_extra', unit: '1', description: 'Tacho channels: extra pulses between two good ones a whole interval apart; null when the train does not hold together or no pulse train is found.' },
+    { name: 'revolutions', unit: '1', description: 'Tacho channels: revolutions the speed figures rest on (good pulse intervals / pulses_per_rev); null, as the speed, when the train does not hold together, no pulse train is found or the channel has no finite samples.' },
+    { name: 'pulses_missing', unit: '1', description: 'Tacho channels: pulses missing from the train (an interval of whole multiples of the expected one); null when the train does not hold together, no pulse train is found or the channel has no finite samples.' },
+    { name: 'pulses_extra', unit: '1', description: 'Tacho channels: extra pulses between two good ones a whole interval apart; null when the train does not hold together, no pulse train is found or the channel has no finite samples.' },
   ],
   create(ctx, o = SPEED_DEFAULTS) {
     if (!ctx.tacho) return { push() {}, finish: () => ({}) };
@@ -28,8 +29,10 @@ export const speed: StageDefinition<SpeedOptions> = {
       finish() {
         const s = product.summary();
         const unit = ctx.unit;
-        // A signal that moves without a pulse (the pulse_train flag's failure): nothing was counted, so no count is given.
+        // No finite sample, so no pulse was looked for: no count, and no note on a trigger level (the dropout flag fails it).
         const m = moments.moments();
+        if (noFiniteSamples(m.n + m.nonFinite, m.n)) return { speed_mean_rpm: null, speed_min_rpm: null, speed_max_rpm: null, revolutions: null, pulses_missing: null, pulses_extra: null };
+        // A signal that moves without a pulse (the pulse_train flag's failure): nothing was counted, so no count is given.
         const noTrain = noPulseFound(s, m.n ? m.max - m.min : 0, ctx.stepSize);
         const emptied = noTrain ? '; revolutions and the pulse counts are left empty (null)' : '';
         const tr = s.trigger;

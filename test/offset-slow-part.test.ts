@@ -8,6 +8,7 @@ import type { ChannelDeclaration } from '../spec/archive.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { levelStepFit } from '../stages/dsp/level-step-fit.js';
+import { slowPart, standOut } from '../stages/quality/offset.js';
 import type { Flag } from '../stages/quality/flag.js';
 import { withArticle } from '../stages/quality/article.js';
 import { fixture, readJson, tempDir } from './helpers.js';
@@ -131,6 +132,22 @@ describe('the offset flag: the offset and its changes together, by what they add
     const s = levelStepFit(step);
     expect(s.explained).toBeCloseTo(6 * 0 + 4 * 225, 9);
     expect([s.stepAt, s.step]).toEqual([6, expect.closeTo(15, 9)]);
+  });
+
+  it('the fit of the means less their mean, passed on, stands out as far as a fit of the means themselves (derived: a level among the regressors leaves line and step unchanged by a constant)', () => {
+    // An offset of 40, a step of 3 at window 7, a ramp and some wander: every part of the fit at work.
+    const means = Float64Array.from({ length: 20 }, (_, k) => 40 + (k >= 7 ? 3 : 0) + 0.1 * k + 0.4 * Math.sin(2.3 * k));
+    const mean = means.reduce((a, v) => a + v, 0) / means.length;
+    const { fit } = slowPart(means, mean, 1000, 1e6, 20000);
+    const whole = levelStepFit(means);
+    expect(fit.line).toBeCloseTo(whole.line, 9);
+    expect([fit.stepAt, fit.step]).toEqual([whole.stepAt, expect.closeTo(whole.step, 9)]);
+    // The level alone takes (Σm)²/W, nothing of a series centred on zero.
+    expect(whole.level).toBeCloseTo(20 * mean * mean, 6);
+    expect(fit.level).toBeCloseTo(0, 9);
+    const fresh = standOut(means), passed = standOut(means, fit);
+    expect(fresh).toBeGreaterThan(5.5);
+    expect(Math.abs(passed - fresh) / fresh).toBeLessThan(1e-12);
   });
 });
 

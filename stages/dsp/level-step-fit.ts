@@ -4,6 +4,8 @@
 export interface LevelStepFit {
   /** Σ f² over the windows, f the fitted values: the part of Σ m² the level, the line and the step carry. */
   explained: number;
+  /** What the level alone takes, (Σm)²/W: the only part that changes when a constant is added to every mean. */
+  level: number;
   /** Beyond the level: what the line alone takes, and what the best step alone takes. */
   line: number;
   stepAlone: number;
@@ -18,7 +20,7 @@ export interface LevelStepFit {
 // co-moment with m once the level and the line are taken out; suffix sums give every s in one pass.
 export function levelStepFit(means: ArrayLike<number>, count = means.length): LevelStepFit {
   const W = count;
-  if (W === 0) return { explained: 0, line: 0, stepAlone: 0, stepAt: -1, step: 0 };
+  if (W === 0) return { explained: 0, level: 0, line: 0, stepAlone: 0, stepAt: -1, step: 0 };
   const centre = (W - 1) / 2;
   let sm = 0, scm = 0, scc = 0;
   for (let k = 0; k < W; k++) { const c = k - centre; sm += means[k]; scm += c * means[k]; scc += c * c; }
@@ -37,5 +39,6 @@ export function levelStepFit(means: ArrayLike<number>, count = means.length): Le
     const r = um - (u * sm) / W - (scc > 0 ? (uc * scm) / scc : 0);
     best = Math.max(best, (r * r) / d);
   }
-  return { explained: (sm * sm) / W + line + best, line, stepAlone: alone, stepAt, step };
+  const level = (sm * sm) / W;
+  return { explained: level + line + best, level, line, stepAlone: alone, stepAt, step };
 }

@@ -4,7 +4,7 @@ import type { StageDefinition } from '../stage.js';
 import { missingOf } from '../fused/missing.js';
 import { spectrumOf } from '../spectrum.js';
 import { zeroRunsOf } from '../fused/zero-runs.js';
-import { pct, secs, worst, type QualityThresholds, type Severity } from './flag.js';
+import { noFiniteSamples, pct, secs, worst, type QualityThresholds, type Severity } from './flag.js';
 import { widestStep } from '../read/time-steps.js';
 
 /** How every figure treats missing samples (README, Missing samples), said with the flag so that it can be trusted. */
@@ -19,7 +19,7 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
   spectral: false,
   columns: () => [
     { name: 'missing_fraction', unit: '1', description: 'Fraction of samples missing or not finite.' },
-    { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros.' },
+    { name: 'zero_run_s', unit: 's', description: 'Longest stretch of exact zeros; null when the channel has no finite samples.' },
   ],
   create(ctx, q) {
     const gaps = missingOf(ctx), zeros = zeroRunsOf(ctx), spectrum = spectrumOf(ctx, q.spectrum);
@@ -30,7 +30,8 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
         const missing = gaps.count, firstMissing = gaps.first, longest = zeros.longest, longestEnd = zeros.longestEnd;
         const fs = ctx.sampleRate, d = q.dropout;
         const fraction = n ? missing / n : 0;
-        const zeroS = longest / fs, gapS = gaps.longest / fs;
+        // No finite sample, so none was looked at for zeros: no stretch is null, not the 0 of a channel searched in vain.
+        const zeroS = noFiniteSamples(n, n - missing) ? null : longest / fs, gapS = gaps.longest / fs;
         const steps = ctx.timeSteps();
         // The gaps may leave the spectrum (its gap-free segments, or its longest gap-free stretch) the lesser part of the recording.
         const psd = missing > 0 ? spectrum.psd() : null, coverage = spectrumCoverage(psd, n);
@@ -51,7 +52,7 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
               raise('warn');
             }
             why.push(missing === n
-              ? 'the channel has no finite samples: no figure of its signal can be computed, so those are empty (null), and flatline and peak_capture say not assessed'
+              ? 'the channel has no finite samples: no figure of its signal can be computed, so those are empty (null), and the flags that judge the signal say not assessed'
               : share === 'note'
               ? `${TREATMENT}; so few and so short, they move ${told ? 'no other figure' : 'none'} by more than a fraction of a per cent`
               : `${TREATMENT}; with this many or this long, peaks, events and whole windows may be among them`);
@@ -61,10 +62,10 @@ export const dropout: StageDefinition<QualityThresholds & { spectrum: WelchOptio
           const allZeros = n > 0 && longest === n;
           // A tacho channel from a digital input rests at exactly zero between pulses: there, zeros are the signal.
           if (allZeros && !ctx.tacho) {
-            problems.push(`exact zeros for the whole recording (${secs(zeroS)})`);
+            problems.push(`exact zeros for the whole recording (${secs(longest / fs)})`);
             raise('note');
             why.push('no data were lost between samples: the channel never moved, which the flatline flag judges (a dead or disconnected sensor)');
-          } else if (zeroS >= d.warn_zero_run_s && !ctx.tacho) {
+          } else if (zeroS != null && zeroS >= d.warn_zero_run_s && !ctx.tacho) {
             problems.push(`exact zeros for ${secs(zeroS)} ending at ${secs((longestEnd + 1) / fs)}`);
             raise('warn');
             why.push('zeros count as samples: they pull RMS, peak and the window figures down');

@@ -36,6 +36,12 @@ export interface Flag {
   spectral?: { severity: Severity; message: string };
 }
 
+/** What a flag that judges the signal says on a channel whose every sample is missing, its value and column null. */
+export const NO_FINITE_SAMPLES = 'not assessed: the channel has no finite samples (the dropout flag fails it)';
+
+/** Whether a channel of `n` samples, `finite` of them finite, has none to measure (a recording of no samples fails before). */
+export const noFiniteSamples = (n: number, finite: number) => n > 0 && finite === 0;
+
 const RANK: Record<Severity, number> = { ok: 0, note: 1, warn: 2, fail: 3 };
 export const worst = (severities: Severity[]): Severity => severities.reduce<Severity>((a, b) => (RANK[b] > RANK[a] ? b : a), 'ok');
 

@@ -4,7 +4,7 @@
 import { fixedWindowsOf } from '../fused/fixed-windows.js';
 import { momentsOf } from '../fused/moments.js';
 import type { StageDefinition } from '../stage.js';
-import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { NO_FINITE_SAMPLES, pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 /** Level above the floor in dB, 20·log10(rms / floor): power ratio of the channel's AC part to the chain's noise. */
 export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms / floor);
@@ -46,7 +46,7 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         const m = shared.moments();
         // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
         if (floor == null || ctx.tacho || m.n === 0) {
-          const why = floor == null ? 'not judged: no noise_floor declared' : ctx.tacho ? 'not judged on a tacho channel' : 'no samples to judge';
+          const why = floor == null ? 'not judged: no noise_floor declared' : ctx.tacho ? 'not judged on a tacho channel' : NO_FINITE_SAMPLES;
           ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: floor }, message: why });
           return { above_noise_floor_db: null };
         }

@@ -2,10 +2,10 @@
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { finiteWindowsOf } from '../fused/finite-windows.js';
-import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { NO_FINITE_SAMPLES, noFiniteSamples, pct, secs, type QualityThresholds, type Severity } from './flag.js';
 import { metresPerSecond2, STANDARD_GRAVITY } from '../acceleration-units.js';
 import { addPoint, emptyLineSums, fittedLine } from '../dsp/line-fit.js';
-import { levelStepFit } from '../dsp/level-step-fit.js';
+import { levelStepFit, type LevelStepFit } from '../dsp/level-step-fit.js';
 import { meanWander } from '../dsp/mean-wander.js';
 import { withArticle } from './article.js';
 
@@ -37,7 +37,7 @@ export const offset: StageDefinition<QualityThresholds> = {
         if (!applies || m.n === 0) {
           // A channel left undeclared has no quantity: the check is then missed rather than not meant.
           const undeclared = !ctx.declared && m.n > 0;
-          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: `not assessed for quantity "${ctx.quantity}"`, ...(undeclared ? { not_assessed: 'declare the channels with their quantity in archive.yaml' } : {}) });
+          ctx.flag({ name: 'offset', severity: 'ok', value: null, threshold, evidence: {}, message: applies && noFiniteSamples(m.n + m.nonFinite, m.n) ? NO_FINITE_SAMPLES : `not assessed for quantity "${ctx.quantity}"`, ...(undeclared ? { not_assessed: 'declare the channels with their quantity in archive.yaml' } : {}) });
           return { offset_ratio: null, drift_ratio: null };
         }
         const mean = m.mean, std = Math.sqrt(m.m2 / m.n);
@@ -58,7 +58,7 @@ export const offset: StageDefinition<QualityThresholds> = {
           else if (!meanWarns && !trendWarns) issues.push(`the mean ${mean.toPrecision(3)} ${ctx.unit} and the trend of the 1 s means together`);
         }
         // What a live signal's own slow content could have made by chance does not warn: the slow part must stand above the wander.
-        const standing = standOut(means.subarray(0, windows));
+        const standing = standOut(means.subarray(0, windows), slow.fit);
         const chance = issues.length > 0 && standing < q.offset.warn_above_wander;
         const severity: Severity = issues.length && !chance ? 'warn' : 'ok';
         const gravity = meanWarns ? gravityHint(ctx.quantity, ctx.unit, mean) : '';
@@ -95,7 +95,7 @@ export function trendOf(line: { slope: number; explained: number } | null, windo
  * The signal's RMS with its slow part taken out (`spread`): the mean, and the level, line and step the 1 s means (`means` of
  * `win` samples each, as read) take beyond it (levelStepFit on the means less the mean). Within a window the fit is one value,
  * so it takes win·Σf² from the spread's sum of squares `m2` over `n` samples (least squares projects; samples past the last
- * whole window keep theirs).
+ * whole window keep theirs). The fit goes on with it, for standOut.
  */
 export function slowPart(means: Float64Array, mean: number, win: number, m2: number, n: number) {
   const centred = means.map((v) => v - mean);
@@ -103,16 +103,21 @@ export function slowPart(means: Float64Array, mean: number, win: number, m2: num
   const spread = n > 0 ? Math.sqrt(Math.max(0, m2 - win * fit.explained) / n) : 0;
   // A step is named where it alone takes more than a line alone: a ramp is a trend, a level that jumps a step.
   const stepped = fit.stepAt >= 0 && fit.stepAlone > fit.line;
-  return { spread, stepAt: stepped ? fit.stepAt : -1, step: stepped ? fit.step : 0 };
+  return { spread, stepAt: stepped ? fit.stepAt : -1, step: stepped ? fit.step : 0, fit };
 }
 
 /**
  * How far the slow part of the 1 s means (their least-squares level, line and one step, the mean included) stands above their
  * wander from one second to the next (meanWander): its RMS over the windows over that wander. Infinity where the means do not
- * wander (a clean offset, or fewer than three windows, where nothing tells the two apart).
+ * wander (a clean offset, or fewer than three windows, where nothing tells the two apart). `fit` may be that of the means less
+ * a constant (slowPart's): least squares with a level among its regressors fits the line and the step alike whatever level the
+ * means sit at (derived), so only the level's share, (Σm)²/W, is taken again from the means themselves.
  */
-export function standOut(means: Float64Array): number {
-  const slow = means.length ? Math.sqrt(levelStepFit(means).explained / means.length) : 0;
+export function standOut(means: Float64Array, fit: LevelStepFit = levelStepFit(means)): number {
+  const W = means.length;
+  let sum = 0;
+  for (let k = 0; k < W; k++) sum += means[k];
+  const slow = W ? Math.sqrt(Math.max(0, fit.explained - fit.level + (sum * sum) / W) / W) : 0;
   const wander = meanWander(means);
   return wander > 0 ? slow / wander : slow > 0 ? Infinity : 0;
 }

@@ -3,7 +3,7 @@ import { momentsOf } from '../fused/moments.js';
 import { REST_CLEAR_SIGMAS, type RestLook } from '../dsp/trigger-level.js';
 import { speedOf, speedOptionsOf, type SpeedSummary } from '../shaft-speed.js';
 import type { StageDefinition } from '../stage.js';
-import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { NO_FINITE_SAMPLES, noFiniteSamples, pct, secs, type QualityThresholds, type Severity } from './flag.js';
 
 const round = (v: number) => Number(v.toPrecision(4));
 
@@ -40,7 +40,7 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
   group: 'quality',
   section: null,
   spectral: false,
-  columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value).' }],
+  columns: () => [{ name: 'pulse_coverage', unit: '1', description: 'Tacho channels: share of the recording the good pulse intervals cover (the pulse_train flag\'s value); null when the channel has no finite samples.' }],
   create(ctx, q) {
     const speed = ctx.tacho ? speedOf(ctx, speedOptionsOf(q.pulse_train)) : null;
     const moments = ctx.tacho ? momentsOf(ctx) : null;
@@ -52,6 +52,12 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const threshold = `warn: good pulse intervals cover < ${pct(t.warn_coverage)} of the recording, or pulse faults exceed ${pct(t.warn_fault_ratio)} of the good intervals; fail: < ${pct(t.fail_coverage)}, or missing and irregular pulses exceed ${pct(t.fail_fault_ratio)} of them (then no speed, revolutions or pulse counts either); fail: no pulse found in a signal that moves (no level clear of its noise, or no edge across the trigger); warn: no two good pulses in a row; note: a flat signal (a shaft at rest), any pulse fault`;
         if (!speed) {
           ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: 'not a tacho channel (no pulses_per_rev)' });
+          return { pulse_coverage: null };
+        }
+        const m = moments!.moments();
+        if (noFiniteSamples(n, m.n)) {
+          // No sample to find a pulse in: no coverage rather than none, and no "flat signal" either; the dropout flag fails it.
+          ctx.flag({ name: 'pulse_train', severity: 'ok', value: null, threshold, evidence: {}, message: NO_FINITE_SAMPLES });
           return { pulse_coverage: null };
         }
         const s = speed.summary(), fs = ctx.sampleRate, p = ctx.tacho!.pulsesPerRev;
@@ -66,7 +72,6 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const todo = cause + (tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev');
         const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
         let severity: Severity = 'ok', message: string;
-        const m = moments!.moments();
         if (noPulseFound(s, m.n ? m.max - m.min : 0, ctx.stepSize)) {
           // A tacho is there for its pulses: a signal that moves without one (noise, a sensor unplugged or unpowered, a trigger the
           // pulses never cross) leaves every speed and order figure unknown, as a dead sensor leaves its channel's figures.

@@ -1,6 +1,6 @@
 // Resolution: how many converter steps the signal spans, its signal-to-quantisation-noise ratio against the ideal LSB/√12 (IEEE Std 1241), and what the step does to its figures.
 import { momentsOf } from '../fused/moments.js';
-import { pct, type QualityThresholds, type Severity } from './flag.js';
+import { NO_FINITE_SAMPLES, noFiniteSamples, pct, type QualityThresholds, type Severity } from './flag.js';
 import { foldGrid, gcd, noTally, type DeclaredGrid, type GridTally } from './float-grid.js';
 import { meanError, peakError, quantisationNoise, rmsError } from './quantisation.js';
 import type { ChannelContext, StageDefinition } from '../stage.js';
@@ -79,7 +79,7 @@ export const resolution: StageDefinition<QualityThresholds> = {
           // one) the check cannot be made; a signal that never varies is the flatline flag's.
           ctx.flag(step == null && floatGrid == null
             ? { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: converter step unknown (floating-point samples keep none; declare the converter\'s bits and range in archive.yaml to check the steps it gave them)', not_assessed: ctx.bits != null && ctx.range == null ? 'floating-point samples keep no converter step: declare range with bits in archive.yaml' : 'floating-point samples keep no converter step: declare bits and range in archive.yaml to check the one the converter gave them' }
-            : { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: the signal does not vary (see flatline)' });
+            : { name: 'resolution', severity: 'ok', value: null, threshold, evidence: {}, message: noFiniteSamples(seen, m.n) ? NO_FINITE_SAMPLES : 'not assessed: the signal does not vary (see flatline)' });
           return { step_size: step, resolution_bits: null, quantisation_snr_db: null };
         }
         const bits = Math.log2(Math.max(1, (m.max - m.min) / step));

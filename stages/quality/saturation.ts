@@ -2,13 +2,13 @@
 import type { StageDefinition } from '../stage.js';
 import { limitRunsOf } from '../fused/limit-runs.js';
 import { momentsOf } from '../fused/moments.js';
-import { pct, secs, type QualityThresholds } from './flag.js';
+import { NO_FINITE_SAMPLES, noFiniteSamples, pct, secs, type QualityThresholds } from './flag.js';
 
 export const saturation: StageDefinition<QualityThresholds> = {
   group: 'quality',
   section: null,
   spectral: false,
-  columns: () => [{ name: 'saturation_fraction', unit: '1', description: 'Fraction of samples at or beyond the instrument range (or on the extreme converter codes when no range is declared).' }],
+  columns: () => [{ name: 'saturation_fraction', unit: '1', description: 'Fraction of samples at or beyond the instrument range (or on the extreme converter codes when no range is declared); null when the channel has no finite samples.' }],
   create(ctx, q) {
     // Half a converter step of tolerance, for rounding in the scale (the declared step on floating-point samples).
     const step = ctx.stepSize ?? ctx.declaredGrid?.step ?? null;
@@ -33,10 +33,16 @@ export const saturation: StageDefinition<QualityThresholds> = {
           ctx.flag({ name: 'saturation', severity: 'ok', value: null, threshold, evidence: {}, message: 'not assessed: no instrument range declared and no converter full scale known; declare range in archive.yaml', not_assessed: 'declare range in archive.yaml' });
           return { saturation_fraction: null };
         }
+        const { min, max, n: finite } = moments.moments();
+        if (noFiniteSamples(n, finite)) {
+          // No sample to hold against the limits: null, not the 0 of a channel that kept within them; the dropout flag fails it.
+          ctx.flag({ name: 'saturation', severity: 'ok', value: null, threshold, evidence: {}, message: NO_FINITE_SAMPLES });
+          return { saturation_fraction: null };
+        }
         const fraction = n ? count / n : 0;
         const severity = count === 0 ? 'ok' : fraction >= q.saturation.fail_fraction || longest >= q.saturation.fail_run ? 'fail' : 'warn';
         const rate = ctx.sampleRate;
-        const beyond = runs?.far ?? 0, { min, max } = moments.moments();
+        const beyond = runs?.far ?? 0;
         const furthest = furthestPast(limits, min, max);
         const found = `${count} samples (${pct(fraction)}) at or beyond the ${source}, first at ${secs(first / rate)}, longest run ${longest}`;
         const past = count > 0 && pastTheRange(count, beyond, furthest.by, limits[1] - limits[0]);
