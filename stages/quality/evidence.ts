@@ -40,7 +40,8 @@ export const unpackEvidence = (p: PackedEvidence): Evidence => ({
 });
 
 export const BINS = 120;
-const TREND_WINDOW_S = 0.1;
+/** The report's RMS trend: windows of 0.1 s from the fused pass, on every channel (the noise_floor flag joins them into its windows). */
+export const TREND_WINDOW_S = 0.1;
 const MAX_POINTS = 600;
 
 /** The largest finite value, NaN when there is none: a group of windows that all lack samples stays a gap. */

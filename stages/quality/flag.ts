@@ -52,7 +52,7 @@ export interface QualityThresholds {
   resolution: { note_error: number; warn_error: number; fail_error: number; static_quantities: string[] };
   peak_capture: { note_shortfall: number; warn_shortfall: number };
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
-  noise_floor: { warn_db: number; fail_db: number; window_s: number };
+  noise_floor: { warn_db: number; fail_db: number; window_s: number; converter_floor_steps: number; live_above_db: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number; warn_spectrum_coverage: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number; warn_rms_excess: number; warn_above_wander: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
@@ -99,7 +99,14 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // the chain, not the machine, and it fails (our choice). Sound power standards correct levels for background noise alike
   // between 6 and 15 dB above it and take none above 15 dB (ISO 3744:2010, from memory). A window of 1 s (windows.parquet's
   // default) that falls within 3 dB of the floor in a channel above it warns: that window's figures describe the chain (our choice).
-  noise_floor: { warn_db: 10.3, fail_db: 3, window_s: 1 },
+  // Without a declared floor, the converter's step gives one: an ideal converter whose input is quieter than a step reads one
+  // code or q/√12 = 0.29 steps RMS (IEEE Std 1241), and an open or unpowered input with its amplifier's noise reads ±1–2 codes,
+  // 0.5–1 step RMS (common practice, from memory); a window at most 2 steps RMS is at the converter's floor (our choice, twice
+  // that). It warns only where the other windows stand 20 dB or more above it (20 steps RMS): a channel that otherwise works
+  // far above its steps, as a range sized to the largest level expected makes a running machine's (common practice), fell to
+  // the converter's floor; a channel quiet throughout is the resolution flag's (our choice). A machine at rest may read there
+  // too: an IEPE accelerometer's broadband noise, some 0.1–1 mg (from memory), lies below a 16-bit step of ±500 m/s² (1.6 mg).
+  noise_floor: { warn_db: 10.3, fail_db: 3, window_s: 1, converter_floor_steps: 2, live_above_db: 20 },
   // Missing samples are left out of every figure: below 0.1 % that shifts none by more than a fraction of a per cent (note); from
   // 0.1 % the peak or an event may be among them (warn); from 1 % the channel fails. Exact zeros for 0.1 s are a logger's gap
   // written as zeros, which pull RMS and the window figures down (warn). Our choices. A gap of missing samples as long as the F

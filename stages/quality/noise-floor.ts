@@ -1,10 +1,15 @@
 // Noise floor: the channel's level against the measurement chain's own noise, where archive.yaml declares it. A dead or
 // disconnected sensor on a fine converter (24-bit) still reads the chain's noise, many steps wide, which the flatline
-// flag's spread of a few steps never catches; against the declared floor it reads as what it is.
-import { fixedWindowsOf } from '../fused/fixed-windows.js';
-import { momentsOf } from '../fused/moments.js';
+// flag's spread of a few steps never catches; against the declared floor it reads as what it is. Without a declared floor,
+// where the converter's step is known, each window is held against the converter's own floor (a few steps RMS): a sensor
+// that comes loose or loses power partway leaves a stretch there in a channel otherwise far above it.
 import type { StageDefinition } from '../stage.js';
+import { momentsOf } from '../fused/moments.js';
+import { TREND_WINDOW_S } from './evidence.js';
 import { NO_FINITE_SAMPLES, pct, secs, type QualityThresholds, type Severity } from './flag.js';
+import { joinedLength, joinedWindowsOf } from './joined-windows.js';
+import { deadShareShortfall, liveRms, noQuiet, tallyWindow, type QuietTally } from './quiet-windows.js';
+import { saturationLimits } from './saturation.js';
 
 /** Level above the floor in dB, 20·log10(rms / floor): power ratio of the channel's AC part to the chain's noise. */
 export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms / floor);
@@ -15,6 +20,18 @@ export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms 
  */
 export const rmsExcess = (db: number) => (db > 0 ? 1 / Math.sqrt(1 - 10 ** (-db / 10)) - 1 : Infinity);
 
+/**
+ * What the figures lose where a share of the windows carries nothing but the floor, if that is a fault: they rest on the
+ * rest of the recording, and RMS and band levels read 1 − √(1 − share) below the live part's (derived).
+ */
+const restSaid = (t: QuietTally) => {
+  const share = t.quiet / t.all;
+  return `the figures rest on the other ${pct(1 - share)} of the recording: where the stretch is a fault, RMS and band levels read ${pct(deadShareShortfall(share))} below the live part's, and the windows' figures there describe the floor, not the machine`;
+};
+
+/** Windows below the floor that hold one value or sit at a rail: named as what they are, by the flags that judge them. */
+const heldSaid = (held: number) => `${held} ${held === 1 ? 'window' : 'windows'} below it held at one value or at a rail, which the flatline, saturation or dropout flag names`;
+
 export const noiseFloor: StageDefinition<QualityThresholds> = {
   group: 'quality',
   section: null,
@@ -23,30 +40,32 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
   create(ctx, q) {
     const shared = momentsOf(ctx);
     const floor = ctx.noiseFloor ?? null;
+    const step = ctx.stepSize;
+    const o = q.noise_floor;
     // A connection that comes and goes leaves stretches at the floor in a recording that is above it as a whole: each
-    // window's level is held against the floor too (back-to-back windows, shared with windows.parquet's when they agree).
-    const windowLength = Math.max(1, Math.round(ctx.sampleRate * q.noise_floor.window_s));
-    const quietBelow = floor != null ? floor * floor * 10 ** (q.noise_floor.fail_db / 10) : 0;
-    const windows = { all: 0, quiet: 0, firstQuietStart: -1 };
-    if (floor != null && !ctx.tacho) {
-      fixedWindowsOf(ctx, windowLength).listen((sum, sumSquares, _peak, end, finite) => {
-        if (finite === 0) return; // a window of missing samples only: the dropout flag's
-        const mean = sum / finite, meanSquare = sumSquares / finite - mean * mean;
-        windows.all++;
-        if (meanSquare >= quietBelow) return;
-        if (windows.quiet === 0) windows.firstQuietStart = end - windowLength;
-        windows.quiet++;
-      });
+    // window's level is held against the declared floor, or, without one, against the converter's own floor of a few steps.
+    const fs = ctx.sampleRate;
+    const floorRms = floor != null ? floor * 10 ** (o.fail_db / 20) : step != null ? o.converter_floor_steps * step : null;
+    // The windows are joined from the 0.1 s ones the report's RMS trend keeps: no more work a sample.
+    const windows = noQuiet(), asked = Math.max(1, Math.round(fs * o.window_s)), part = Math.max(1, Math.round(TREND_WINDOW_S * fs));
+    const windowLength = joinedLength(asked, part);
+    if (floorRms != null && !ctx.tacho) {
+      // Windows held at a rail or at one value are the saturation and flatline flags' (and zeros the dropout flag's).
+      const limits = saturationLimits(ctx.range, ctx.fullScale);
+      joinedWindowsOf(ctx, asked, part, (sum, sumSquares, peak, end, finite) =>
+        tallyWindow(windows, sum, sumSquares, peak, end, finite, windowLength, floorRms, step, limits));
     }
     return {
       push() {},
       finish() {
-        const { warn_db: warnDb, fail_db: failDb, window_s: windowS } = q.noise_floor;
-        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high) or with a ${secs(windowS)} window below ${failDb} dB`;
+        const { warn_db: warnDb, fail_db: failDb, converter_floor_steps: floorSteps, live_above_db: liveDb } = o;
+        const windowS = windowLength / fs;
         const m = shared.moments();
+        if (floor == null) return atConverterFloor(m.n, windowS, floorSteps, liveDb);
+        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high) or with a ${secs(windowS)} window below ${failDb} dB`;
         // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
-        if (floor == null || ctx.tacho || m.n === 0) {
-          const why = floor == null ? 'not judged: no noise_floor declared' : ctx.tacho ? 'not judged on a tacho channel' : NO_FINITE_SAMPLES;
+        if (ctx.tacho || m.n === 0) {
+          const why = ctx.tacho ? 'not judged on a tacho channel' : NO_FINITE_SAMPLES;
           ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: floor }, message: why });
           return { above_noise_floor_db: null };
         }
@@ -65,11 +84,41 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
           message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
         } else if (windows.quiet > 0 && windows.quiet < windows.all) {
           severity = 'warn';
-          message = `${level} as a whole, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} fell to within ${failDb} dB of the floor, the first from ${secs(windows.firstQuietStart / ctx.sampleRate)}: a connection that comes and goes, or the machine at rest for a while; the windows' figures there describe the chain's noise, and RMS and band levels read low`;
+          message = `${level} as a whole, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} fell to within ${failDb} dB of the floor, the first from ${secs(windows.firstQuietStart / ctx.sampleRate)}: a connection that comes and goes, or the machine at rest for a while; ${restSaid(windows)}`;
+        } else if (windows.held > 0) {
+          message = `${level}; ${heldSaid(windows.held)}`;
         }
-        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null, windows: windows.all, quiet_windows: windows.quiet, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null, windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
         return { above_noise_floor_db: Number.isFinite(db) ? db : null };
       },
     };
+
+    /**
+     * Without a declared floor: windows at the converter's own floor (at most `floorSteps` steps RMS) in a channel whose
+     * other windows stand `liveDb` or more above it, a stretch where the sensor came loose or lost power, or the machine rested.
+     */
+    function atConverterFloor(n: number, windowS: number, floorSteps: number, liveDb: number) {
+      const threshold = `no noise_floor declared: warn where a ${secs(windowS)} window reads at most ${floorSteps} converter steps RMS (mean removed; the converter's own floor) while the other windows stand ${liveDb} dB or more above that`;
+      if (step == null || ctx.tacho || n === 0) {
+        const why = ctx.tacho ? 'not judged on a tacho channel' : n === 0 ? 'no samples to judge' : 'not judged: no noise_floor declared, and no converter step to judge windows by (floating-point samples keep none)';
+        ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: null }, message: why });
+        return { above_noise_floor_db: null };
+      }
+      const at = `the converter's floor (at most ${floorSteps} steps RMS, ${floorRms!.toPrecision(3)} ${ctx.unit})`;
+      const live = liveRms(windows), liveAbove = live > 0 ? aboveFloorDb(live, floorRms!) : null;
+      const held = windows.held ? `; ${heldSaid(windows.held)}` : '';
+      let severity: Severity = 'ok', message = `no noise_floor declared; none of its ${windows.all} windows of ${secs(windowS)} at ${at}${held}`;
+      if (windows.quiet > 0 && liveAbove != null && liveAbove >= liveDb) {
+        severity = 'warn';
+        message = `no noise_floor declared, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} sit at ${at}, the first from ${secs(windows.firstQuietStart / fs)}, while the others stand ${liveAbove.toFixed(1)} dB above it: the sensor came loose or lost power, or the machine came to rest below what the converter resolves; check the sensor, cable and supply; ${restSaid(windows)}`;
+      } else if (windows.quiet > 0) {
+        message = `no noise_floor declared; ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} at ${at}, ${liveAbove == null ? 'and none above it' : `the others only ${liveAbove.toFixed(1)} dB above it`} (under ${liveDb} dB): a channel quiet throughout, whose steps the resolution and flatline flags judge${held}`;
+      }
+      ctx.flag({
+        name: 'noise_floor', severity, value: null, threshold, message,
+        evidence: { noise_floor: null, converter_floor: floorRms, live_rms: live, live_above_floor_db: liveAbove, windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / fs : null },
+      });
+      return { above_noise_floor_db: null };
+    }
   },
 };
