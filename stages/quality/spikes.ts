@@ -1,5 +1,6 @@
 // Spikes: short bursts far outside a robust spread (median and 1.4826 × median absolute deviation, Hampel 1974, estimated
-// chunk by chunk) that stand out from their neighbours on both sides, as an impulse does and a ringing waveform does not.
+// chunk by chunk) that stand out from their neighbours on both sides, as an impulse does and a ringing waveform does not,
+// and beyond as many robust standard deviations of the samples on each side of them, so a level that rises is no spike.
 import type { StageDefinition } from '../stage.js';
 import { robustOutliersOf } from '../fused/robust-outliers.js';
 import { pct, secs, type QualityThresholds, type Severity } from './flag.js';
@@ -9,13 +10,14 @@ export { median } from '../dsp/median.js';
 
 export const spikes: StageDefinition<QualityThresholds> = {
   group: 'quality',
-  columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk whose neighbours within 8 samples on both sides stay under half their excursion.' }],
+  columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk and of the 256 samples on each side, whose neighbours within 8 samples on both sides stay under half their excursion.' }],
   create(ctx, q) {
     const k = q.spikes.robust_sigmas;
-    const bursts = new SpikeBursts();
+    const floor = ctx.stepSize ?? 0;
+    const bursts = new SpikeBursts(undefined, undefined, undefined, undefined, k, floor);
     // The fused pass hands over each outlying sample in order before the chunk reaches the stages; the bursts are judged
     // from the samples around them as each chunk arrives (no pass of their own).
-    const outliers = robustOutliersOf(ctx, k, ctx.stepSize ?? 0, (at) => bursts.outlier(at));
+    const outliers = robustOutliersOf(ctx, k, floor, (at) => bursts.outlier(at));
     let n = 0;
     return {
       push(x) { bursts.chunk(x, n, outliers.median); n += x.length; },
@@ -28,7 +30,7 @@ export const spikes: StageDefinition<QualityThresholds> = {
         const severity: Severity = samples === 0 || pulses ? 'ok' : fraction >= q.spikes.fail_fraction ? 'fail' : 'warn';
         ctx.flag({
           name: 'spikes', severity, value: samples,
-          threshold: `warn: any burst of 1 to ${bursts.widest} samples beyond ${k} robust standard deviations whose neighbours within ${bursts.guard} samples either side stay under ${pct(bursts.fraction)} of its excursion; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples in such bursts${pulses ? ' (not on a tacho channel)' : ''}`,
+          threshold: `warn: any burst of 1 to ${bursts.widest} samples beyond ${k} robust standard deviations of its chunk and of the ${bursts.reach} samples on each side, whose neighbours within ${bursts.guard} samples either side stay under ${pct(bursts.fraction)} of its excursion; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples in such bursts${pulses ? ' (not on a tacho channel)' : ''}`,
           evidence: { samples, spikes: count, first_s: first >= 0 ? first / ctx.sampleRate : null },
           message: pulses && samples ? `not judged on a tacho channel: its ${samples} isolated samples are pulses one sample wide by design, which pulse_train judges`
             : samples ? `${count} spikes (${samples} samples in bursts of 1 to ${bursts.widest} standing out from their neighbours on both sides), first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no spikes',
