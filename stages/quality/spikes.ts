@@ -1,5 +1,6 @@
 // Spikes: short bursts far outside a robust spread (median and 1.4826 × median absolute deviation, Hampel 1974, estimated
-// chunk by chunk) that stand out from their neighbours on both sides, as an impulse does and a ringing waveform does not.
+// chunk by chunk) that stand out from their neighbours on both sides, as an impulse does and a ringing waveform does not,
+// and beyond as many robust standard deviations of the samples on each side of them, so a level that rises is no spike.
 import type { StageDefinition } from '../stage.js';
 import { missingOf } from '../fused/missing.js';
 import { robustOutliersOf } from '../fused/robust-outliers.js';
@@ -12,13 +13,14 @@ export const spikes: StageDefinition<QualityThresholds> = {
   group: 'quality',
   section: null,
   spectral: false,
-  columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk whose neighbours within 8 samples on both sides stay under half their excursion; null when the channel has no finite samples.' }],
+  columns: () => [{ name: 'spike_count', unit: '1', description: 'Samples in spikes: bursts of 1 to 3 samples beyond the robust-sigma threshold of their chunk and of the 256 samples on each side, whose neighbours within 8 samples on both sides stay under half their excursion; null when the channel has no finite samples.' }],
   create(ctx, q) {
     const k = q.spikes.robust_sigmas;
-    const bursts = new SpikeBursts();
+    const floor = ctx.stepSize ?? 0;
+    const bursts = new SpikeBursts(undefined, undefined, undefined, undefined, k, floor);
     // The fused pass hands over each outlying sample in order before the chunk reaches the stages; the bursts are judged
     // from the samples around them as each chunk arrives (no pass of their own).
-    const outliers = robustOutliersOf(ctx, k, ctx.stepSize ?? 0, (at) => bursts.outlier(at));
+    const outliers = robustOutliersOf(ctx, k, floor, (at) => bursts.outlier(at));
     // The dropout flag's count (made there anyway), read at the end: a channel with no finite sample has none to search.
     const missing = missingOf(ctx);
     let n = 0;
@@ -28,7 +30,7 @@ export const spikes: StageDefinition<QualityThresholds> = {
         bursts.end();
         const count = bursts.count, samples = bursts.samples, first = bursts.first;
         const fraction = n ? samples / n : 0;
-        const threshold = `warn: any burst of 1 to ${bursts.widest} samples beyond ${k} robust standard deviations whose neighbours within ${bursts.guard} samples either side stay under ${pct(bursts.fraction)} of its excursion; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples in such bursts${ctx.tacho != null ? ' (not on a tacho channel)' : ''}`;
+        const threshold = `warn: any burst of 1 to ${bursts.widest} samples beyond ${k} robust standard deviations of its chunk and of the ${bursts.reach} samples on each side, whose neighbours within ${bursts.guard} samples either side stay under ${pct(bursts.fraction)} of its excursion; fail: ≥ ${pct(q.spikes.fail_fraction)} of samples in such bursts${ctx.tacho != null ? ' (not on a tacho channel)' : ''}`;
         if (noFiniteSamples(n, n - missing.count)) {
           // Nothing was searched, so no spike was found: null, not the 0 of a clean channel; the dropout flag fails it.
           ctx.flag({ name: 'spikes', severity: 'ok', value: null, threshold, evidence: {}, message: NO_FINITE_SAMPLES });
