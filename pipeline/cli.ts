@@ -15,6 +15,7 @@ import type { ChangesReport } from './trends/changes.js';
 import { mergeCommand, reduceCommand } from './rerun-command.js';
 import { checkDigits, checkExportOptions } from './export-options.js';
 import { outputsWords, unfinishedLogLine, type OutputsStand } from './stop-on-signal.js';
+import { codeAfterLogFailure, logFailedLine, watchLog } from './watch-log.js';
 
 // Each command's modules load when it runs, so a command (or --help) pays only for its own.
 const exporting = () => import('./exports/export.js');
@@ -147,8 +148,20 @@ function optionValue<T>(option: string, text: string, parse: (text: string) => T
 
 /** Why a command stopped, with its exit code: a `quern:` line, or with --log json an `error` event in the JSON stream. */
 type Tell = (message: string, exitCode: number, details?: { stack?: string }) => void;
-const plainTell: Tell = (message, _code, details) => { process.stderr.write(`quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`); };
-const jsonTell: Tell = (message, exitCode, details) => { jsonLine(process.stderr, { event: 'error', message, exit_code: exitCode, ...details }); };
+// A log (standard error) whose writes failed keeps the run going; from then on its ending is told on standard output.
+const log = watchLog(process.stderr);
+const logStream = () => (log.failure() ? process.stdout : process.stderr);
+/** The last line told on standard error, said again on standard output should the log have failed to take it. */
+let toldToLog: string | null = null;
+const plainTell: Tell = (message, _code, details) => {
+  const line = `quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`;
+  toldToLog = log.failure() ? null : line;
+  logStream().write(line);
+};
+const jsonTell: Tell = (message, exitCode, details) => {
+  toldToLog = log.failure() ? null : `quern: ${message}\n${details?.stack ? `${details.stack}\n` : ''}`;
+  jsonLine(logStream(), { event: 'error', message, exit_code: exitCode, ...details });
+};
 
 /** How the command says why it stopped, here and in the handlers of errors nothing waits for: plain until --log json is read. */
 let tell: Tell = plainTell;
@@ -158,6 +171,8 @@ let stand: OutputsStand = 'previous';
 const follow = (s: OutputsStand) => { stand = s; };
 /** The exit code of a run or merge that completed, once its outputs and run.json are in place; null until then. */
 let completedCode: number | null = null;
+/** A run or merge began (its outputs' standing is then worth telling). */
+let writesOutputs = false;
 
 const COMMANDS = ['reduce', 'merge', 'export', 'check', 'peek'];
 
@@ -222,6 +237,7 @@ async function main(argv: string[]): Promise<number> {
       } catch (e) {
         throw new UsageError((e as Error).message);
       }
+      writesOutputs = true;
       const progress = progressFor(process.stderr, { mode: a.quiet ? 'quiet' : a.log ?? 'auto' });
       // Whatever stops the run from here on (an error, a signal) is told on a line of its own, not after the bar.
       tell = afterProgress(progress, tell);
@@ -283,6 +299,7 @@ async function main(argv: string[]): Promise<number> {
         jobs: a.jobs, storageLimit: a.storageLimit ?? null, exitOn: a.exitOn != null ? [a.exitOn].flat().join(',') : null,
         export: a.export ?? null, bom: a.bom, decimalComma: a.decimalComma, digits: a.digits ?? null, wide: a.wide,
       });
+      writesOutputs = true;
       const [{ parseFormats, runExport }, { runMerge }] = await Promise.all([exporting(), import('./commands/merge.js')]);
       const exportTo = a.export ? parseFormats(a.export) : null;
       const { record, quality } = await runMerge(a.out as string, { jobs: jobsOf(a.jobs ?? availableParallelism()), storageMs, stand: follow, command });
@@ -398,6 +415,18 @@ process.on('uncaughtException', (e) => process.exit(unexpected(e)));
 process.on('unhandledRejection', (e) => process.exit(unexpected(e)));
 
 // A reader that quits early (`quern check … | head`) must not turn the run into a stack trace: it goes on, with its own exit code.
-for (const stream of [process.stdout, process.stderr]) stream.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
+// Standard error's failures are the log's (watchLog, above), told once the command ends.
+process.stdout.on('error', (e: NodeJS.ErrnoException) => { if (e.code !== 'EPIPE') throw e; });
+
+/** The command's exit code, after the log's failure (if any) is named once: its last writes' errors arrive a turn later. */
+async function afterLog(code: number): Promise<number> {
+  await new Promise((r) => setImmediate(r));
+  const failure = log.failure();
+  if (!failure) return code;
+  if (toldToLog) process.stdout.write(toldToLog);
+  process.stdout.write(`${logFailedLine(failure, writesOutputs ? outputsWords(stand) : 'nothing else it does is missing', code)}\n`);
+  return codeAfterLogFailure(code);
+}
+
 settleEngine();
-process.exitCode = await main(joinSignedValues(hideBin(process.argv)));
+process.exitCode = await afterLog(await main(joinSignedValues(hideBin(process.argv))));

@@ -183,7 +183,7 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
-    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)]), o.until ?? null));
+    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)]), o.since ?? null, o.until ?? null));
     failed = false;
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };
   } finally {

@@ -2,9 +2,10 @@
 // it: its temporaries and lock removed, a line saying where the outputs stand, exit code 2 with the stack. Every run is a
 // process of its own on real files.
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, openSync, closeSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, openSync, closeSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
+import { DuckDBInstance } from '@duckdb/node-api';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
 import { quern, readJson, repo, tempDir } from './helpers.js';
@@ -26,39 +27,58 @@ function captures(): string {
   return archive;
 }
 
-/** Every output file with its bytes (the pack aside, which a run may append to). */
-function snapshot(out: string): Record<string, Buffer> {
-  const files: Record<string, Buffer> = {};
-  for (const dir of ['.', 'cache']) for (const name of readdirSync(join(out, dir))) {
-    const path = join(out, dir, name);
-    if (statSync(path).isFile() && !name.startsWith('entries.pack')) files[join(dir, name)] = readFileSync(path);
-  }
-  return files;
-}
 const temporaries = (out: string) => readdirSync(out, { recursive: true }).map(String).filter((f) => f.endsWith('.tmp'));
 
 describe('a run whose log cannot be written', () => {
-  // /dev/full answers every write with ENOSPC (Linux null(4)): a log on a full disk. Standard error's stream reports it
-  // in an event no caller waits for, so the run meets an error nothing handles, after it took its lock.
+  // /dev/full answers every write with ENOSPC (Linux null(4)): a log on a full disk (`2>>night.log`). The log is not the
+  // product: the run writes its tables and report as a run with a working log does, names the failure once on standard
+  // output, and ends with exit code 2 (README: a run whose log is incomplete, as one whose closing lines could not be written).
+  const tableRows = async (out: string) => {
+    const db = await (await DuckDBInstance.create()).connect();
+    return (await db.runAndReadAll(`select * exclude (quern_run_id) from '${join(out, 'features.parquet')}' order by recording, channel`).catch(() => db.runAndReadAll(`select * from '${join(out, 'features.parquet')}' order by recording, channel`))).getRowObjectsJson();
+  };
+  const toFull = (archive: string, out: string, ...more: string[]) => {
+    const full = openSync('/dev/full', 'w');
+    try { return spawnSync(process.execPath, [cli, 'reduce', archive, '--out', out, '--jobs', '1', ...more], { stdio: ['ignore', 'pipe', full], encoding: 'utf8' }); } finally { closeSync(full); }
+  };
   for (const log of ['plain', 'json']) {
-    it(`--log ${log}: exits 2, removes its lock and temporaries, leaves the outputs as they were, and the next run takes no lock over`, () => {
-      const archive = captures(), out = join(archive, '..', 'out');
-      expect(quern('reduce', archive, '--out', out, '--quiet', '--jobs', '1').code).toBe(0);
-      writeFileSync(join(archive, 'archive.yaml'), declaration('B')); // every output to be written again
-      const before = snapshot(out);
-      const full = openSync('/dev/full', 'w');
-      const r = spawnSync(process.execPath, [cli, 'reduce', archive, '--out', out, '--jobs', '1', '--log', log], { stdio: ['ignore', 'pipe', full], encoding: 'utf8' });
-      closeSync(full);
-      expect(r.status).toBe(2);
+    it(`--log ${log}: writes the tables a run with a working log writes, names the failure once on standard output, exits 2, lock released`, async () => {
+      const archive = captures(), out = join(archive, '..', 'out'), reference = join(archive, '..', 'reference');
+      const clean = quern('reduce', archive, '--out', reference, '--jobs', '1', '--log', log);
+      expect(clean.code, clean.stderr).toBe(0);
+      const r = toFull(archive, out, '--log', log);
+      expect(r.status, r.stdout).toBe(2);
+      const named = r.stdout.split('\n').filter((l) => l.includes('log (standard error'));
+      expect(named).toEqual(["quern: the run's log (standard error, /dev/full) could not be written: ENOSPC: no space left on device, write; its lines from then on are missing, and the run went on without them: the new outputs, run.json and outputs.json were written by this run and are in place; exit code 2 rather than the run's own 0, since its log is incomplete"]);
+      expect(r.stdout).toMatch(/^quern \S+: 24 of 24 recordings reduced/);
+      expect(await tableRows(out)).toEqual(await tableRows(reference));
+      const run = readJson(join(out, 'run.json'));
+      expect(run.counts).toEqual(readJson(join(reference, 'run.json')).counts);
+      expect(readJson(join(out, 'outputs.json')).run_id).toBe(run.run_id);
+      expect(readJson(join(out, 'quality.json')).run_id).toBe(run.run_id);
+      expect(existsSync(join(out, 'quality.html'))).toBe(true);
       expect(existsSync(join(out, 'run.lock'))).toBe(false);
       expect(temporaries(out)).toEqual([]);
-      expect(snapshot(out)).toEqual(before);
       const again = quern('reduce', archive, '--out', out, '--quiet', '--jobs', '1');
       expect(again.code, again.stderr).toBe(0);
       expect(again.stdout).not.toMatch(/took over|TOOK OVER/i);
       expect(readJson(join(out, 'run.json')).lock.took_over).toBeNull();
     });
   }
+
+  it('--quiet writes nothing to the log, so nothing is lost: exit code 0 and no line about it', () => {
+    const archive = captures(), out = join(archive, '..', 'out');
+    const r = toFull(archive, out, '--quiet');
+    expect(r.status, r.stdout).toBe(0);
+    expect(r.stdout).not.toContain('log (standard error');
+  });
+
+  it('a run that fails for its own reason says why on standard output, since its log cannot take it', () => {
+    const archive = captures(), out = join(archive, '..', 'out');
+    const r = toFull(archive, out, '--log', 'plain', '--spec', join(archive, 'missing.yaml'));
+    expect(r.status).toBe(2);
+    expect(r.stdout).toMatch(/missing\.yaml/);
+  });
 });
 
 describe('a run whose closing lines cannot be written', () => {

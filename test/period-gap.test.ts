@@ -97,20 +97,79 @@ describe('the recordings of a night whose run did not finish', () => {
     expect(Date.parse(run.period.gap.covered_until)).toBeLessThanOrEqual(t1);
     expect(merged.stdout).toMatch(/ {2}GAP {5}6 recordings \(started .* to .*; rig\/n1-\d\.wav, .*\) start after the period the finished runs before this one covered \(to [^)]+\) and before this period: no period's tables hold them .*; run once without --since, or with --since \S+ or earlier, to put them in the tables; see run\.json \(period\.gap\)/);
 
+    // Night 3: both shards and the merge finish again; night 1's recordings are still in no tables, so they are named again.
+    const t3 = await nextSecond();
+    night('n3', t3);
+    for (const k of [1, 2]) expect(shard(k, '--since', iso(t3)).code).toBe(0);
+    const third = quern('merge', out, '--jobs', '1');
+    expect(third.code).toBe(0);
+    for (const r of await tabled(out)) everTabled.add(r);
+    expect(n1.filter((r) => everTabled.has(r))).toEqual([]);
+    expect(third.stdout).toMatch(/ {2}GAP {5}6 recordings .* no period's tables hold them/);
+    expect(readJson(join(out, 'run.json')).period.gap.recordings.map((r: any) => r.recording).sort()).toEqual(neverTabled);
+
     // Taking the advice: the shards without --since, then the merge, put night 1 in the tables.
     for (const k of [1, 2]) expect(shard(k).code).toBe(0);
     expect(quern('merge', out, '--jobs', '1').code).toBe(0);
     expect(await tabled(out)).toEqual(expect.arrayContaining(n1));
 
     // A night after a finished one has no gap to name.
-    for (const k of [1, 2]) expect(shard(k, '--since', iso(t2)).code).toBe(0);
+    for (const k of [1, 2]) expect(shard(k, '--since', iso(t3)).code).toBe(0);
     const clean = quern('merge', out, '--jobs', '1');
     expect(clean.code).toBe(0);
     expect(clean.stdout).not.toContain('GAP');
     expect(readJson(join(out, 'run.json')).period.gap).toBeUndefined();
   });
 
-  it('are named by the next whole run when the night\'s run never ran, and not again once a run covered them', async () => {
+  it('are named by every --since run until a run\'s period takes them in, and then no more', async () => {
+    const { root, archive, out, night } = archiveWith();
+    const reduce = (...more: string[]) => quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet', ...more);
+    const everTabled = new Set<string>();
+    const table = async () => { for (const r of await tabled(out)) everTabled.add(r); };
+
+    // Night 0 finishes.
+    const t0 = Math.floor(Date.now() / 1000) * 1000 - 3_600_000;
+    night('n0', t0, 2);
+    expect(reduce('--since', iso(t0 - 60_000)).code).toBe(0);
+    await table();
+    // Night 1 fails: its spec cannot be read.
+    const t1 = await nextSecond();
+    const n1 = night('n1', t1, 2);
+    expect(reduce('--since', iso(t1), '--spec', join(root, 'missing.yaml')).code).toBe(2);
+
+    // Nights 2 and 3 finish, each with its own period; both name night 1's recordings (terminal, run.json, --log json).
+    for (const name of ['n2', 'n3']) {
+      const t = await nextSecond();
+      night(name, t, 2);
+      const r = quern('reduce', archive, '--out', out, '--jobs', '1', '--log', 'json', '--since', iso(t));
+      expect(r.code, r.stderr).toBe(0);
+      await table();
+      // Outside check: no features.parquet of the folder has held them so far.
+      expect(n1.filter((x) => everTabled.has(x))).toEqual([]);
+      expect(r.stdout).toMatch(/ {2}GAP {5}2 recordings .* no period's tables hold them .*run once without --since, or with --since \S+ or earlier/);
+      const gap = readJson(join(out, 'run.json')).period.gap;
+      expect(gap.recordings.map((x: any) => x.recording).sort()).toEqual([...n1].sort());
+      expect(Date.parse(gap.covered_until)).toBeLessThanOrEqual(t1);
+      const summary = r.stderr.trim().split('\n').map((l) => JSON.parse(l)).find((e) => e.event === 'summary');
+      expect(summary.gap).toEqual({ count: 2, earliest_start: iso(t1), latest_start: iso(t1) });
+    }
+
+    // Taking the advice: a run with --since at night 1's start puts its recordings in the tables.
+    const taking = reduce('--since', iso(t1));
+    expect(taking.code).toBe(0);
+    expect(taking.stdout).not.toContain('GAP');
+    expect(await tabled(out)).toEqual(expect.arrayContaining(n1));
+
+    // From then on no --since run names them.
+    const t4 = await nextSecond();
+    night('n4', t4, 2);
+    const after = reduce('--since', iso(t4));
+    expect(after.code).toBe(0);
+    expect(after.stdout).not.toContain('GAP');
+    expect(readJson(join(out, 'run.json')).period.gap).toBeUndefined();
+  });
+
+  it('are named by the next whole run when the night\'s run never ran, again on the next night, and not once a run without --since took them in', async () => {
     const { archive, out, night } = archiveWith();
     const reduce = (...more: string[]) => quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet', ...more);
     const t0 = Math.floor(Date.now() / 1000) * 1000 - 3_600_000;
@@ -128,6 +187,31 @@ describe('the recordings of a night whose run did not finish', () => {
     expect(await tabled(out)).not.toEqual(expect.arrayContaining(n1));
     const again = reduce('--since', iso(t2));
     expect(again.code).toBe(0);
-    expect(again.stdout).not.toContain('GAP');
+    expect(again.stdout).toContain('no period\'s tables hold them');
+    // A run without --since takes every recording in (README), and after it no gap is named.
+    expect(reduce().code).toBe(0);
+    expect(await tabled(out)).toEqual(expect.arrayContaining(n1));
+    const later = reduce('--since', iso(t2));
+    expect(later.code).toBe(0);
+    expect(later.stdout).not.toContain('GAP');
+  });
+
+  it('leaves unnamed what lies before the first run\'s period, though a bounded run over an older week covered some of it', async () => {
+    const { archive, out, night } = archiveWith();
+    const reduce = (...more: string[]) => quern('reduce', archive, '--out', out, '--jobs', '1', '--quiet', ...more);
+    const day = 86_400_000, t0 = Math.floor(Date.now() / 1000) * 1000 - 3_600_000;
+    night('old', t0 - 30 * day, 2);
+    night('mid', t0 - 10 * day, 2);
+    night('n0', t0, 2);
+    // The first night asks for its own period alone, then a lab reduces an older week bounded by --until.
+    expect(reduce('--since', iso(t0 - 60_000)).code).toBe(0);
+    expect(reduce('--since', iso(t0 - 31 * day), '--until', iso(t0 - 29 * day)).code).toBe(0);
+    const t1 = await nextSecond();
+    night('n1', t1, 2);
+    const r = reduce('--since', iso(t1));
+    expect(r.code).toBe(0);
+    // The week between was never asked for: no night was missed.
+    expect(r.stdout).not.toContain('GAP');
+    expect(await tabled(out)).not.toEqual(expect.arrayContaining(['rig/mid-0.wav']));
   });
 });

@@ -102,8 +102,8 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stan
     await writeRunRecord(outDir, 'run.json', record);
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
-    // What the merged tables hold reaches to the earliest end among the parts (parts written before they kept it: nothing said).
-    if (parts.every((p) => p.covered_until)) await keepMergeCover(outDir, Math.min(...parts.map((p) => Date.parse(p.covered_until!))));
+    // What the merged tables hold: from the parts' latest --since to the earliest end among them (parts written before they kept it: nothing said).
+    if (parts.every((p) => p.covered_until)) await keepMergeCover(outDir, Math.max(...parts.map((p) => p.period?.since ?? -Infinity)), Math.min(...parts.map((p) => Date.parse(p.covered_until!))));
     failed = false;
     return { record, quality: written.quality };
   } finally {

@@ -4,6 +4,7 @@
 import type { GroupDeclaration } from '../../spec/archive.js';
 import type { Decision } from '../plan/reuse.js';
 import type { Store } from '../store/store.js';
+import type { Cover } from './covered-stretches.js';
 import { arrivalsBefore, lateArrivalsRecord } from './late-arrivals.js';
 import { gapBefore, gapRecord } from './period-gap.js';
 import type { ScannedRecording } from './scan.js';
@@ -22,10 +23,10 @@ export interface Period {
   due: CaptureDue[];
   /** Late arrivals found (only with --since). */
   arrived: Arrival[];
-  /** Recordings starting after what the finished runs before covered and before `since`: in no period's tables (only with --since). */
+  /** Recordings starting before `since` in a stretch no finished run before covered: in no period's tables (only with --since). */
   gap: { file: ScannedRecording; start: number }[];
-  /** The end of the starts the finished runs before put in the tables (null: none said). */
-  coveredUntil: number | null;
+  /** The stretches of starts the finished runs before put in the tables (null: none said). */
+  cover: Cover | null;
   /** Late arrivals are reduced (no --until bounds the run); otherwise they are only named. */
   reduceLate: boolean;
   /** What the run decides: the period's recordings, and the late arrivals it reduces. */
@@ -40,11 +41,11 @@ export async function choosePeriod(share: ScannedRecording[], groups: GroupDecla
   // Found from the starts just taken; without --until they are decided too, and reduced where that has work.
   const marks = since != null ? await store.scanMarks() : null;
   const arrived = since != null ? arrivalsBefore(share, starts, since, marks!, (r) => store.get(r) != null) : [];
-  const coveredUntil = marks?.coveredUntil ?? null;
-  const gap = since != null ? gapBefore(share, starts, since, coveredUntil) : [];
+  const cover = marks?.cover ?? null;
+  const gap = since != null ? gapBefore(share, starts, since, cover) : [];
   const reduceLate = until == null;
   const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
-  return { since, until, chosen, inPeriod: new Set(chosen.map((r) => r.recording)), quiet, due, arrived, gap, coveredUntil, reduceLate, toDecide };
+  return { since, until, chosen, inPeriod: new Set(chosen.map((r) => r.recording)), quiet, due, arrived, gap, cover, reduceLate, toDecide };
 }
 
 /**
@@ -68,8 +69,8 @@ export function periodRecord<R extends object>(p: Period, late: Arrival[], group
     since: p.since, until: p.until, selected: p.chosen.length, quiet_groups: p.quiet, ...(shard && p.due.length ? { capture_due: p.due } : {}),
     // Those left to settle are named there, and are late arrivals again for the next run.
     ...(p.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, p.reduceLate, outcome) } : {}),
-    // Named once, by the first finished run after the gap: its mark then covers it.
-    ...(p.gap.length ? { gap: gapRecord(p.gap, p.coveredUntil, groupNames) } : {}),
+    // Named by every --since run until a finished run's period takes it in: the marks keep the stretches the tables covered.
+    ...(p.gap.length ? { gap: gapRecord(p.gap, p.cover, groupNames) } : {}),
     ...renewed,
   };
 }

@@ -1,15 +1,16 @@
-// A gap before a --since period: recordings starting after the end of what the finished runs of the output folder put in
-// its tables (a whole run, or a merge of shards) and before this period. A night whose run failed, whose shard failed (so
-// that merge refused), or that never ran leaves its recordings there: no tables held them, and this period's do not either,
-// so the run names them and says how to take them.
+// A gap before a --since period: recordings starting before this period in a stretch no finished run of the output folder
+// (a whole run, or a merge of shards) put in its tables, after the first such run's period began. A night whose run failed,
+// whose shard failed (so that merge refused), or that never ran leaves its recordings there: no tables held them, and this
+// period's do not either, so every --since run names them and says how to take them, until a run's period takes them in.
+import { coverEndBefore, uncovered, type Cover } from './covered-stretches.js';
 import type { ScannedRecording } from './scan.js';
 
 /** One recording in the gap, as run.json lists it. */
 export interface GapRecording { recording: string; group: string; start_time: string }
 
-/** The gap run.json keeps (`period.gap`): where the finished runs' cover ended, how many recordings lie in it, and each. */
+/** The gap run.json keeps (`period.gap`): where the finished runs' cover ended before it, how many recordings lie in it, and each. */
 export interface PeriodGap {
-  /** The end of what the finished runs' tables covered: they held starts before it. */
+  /** The end of what the finished runs' tables covered before the gap's earliest recording. */
   covered_until: string;
   count: number;
   earliest_start: string;
@@ -21,13 +22,13 @@ export interface PeriodGap {
 export const coverEnd = (scanStartedMs: number, until: number | null): number => (until == null ? scanStartedMs : Math.min(until, scanStartedMs));
 
 /**
- * The recordings (of `recordings`, with their starts aligned in `starts`) starting in [coveredUntil, since): in no finished
- * run's tables, nor in this period's. No cover kept (a new output folder, cache/ deleted): no gap.
+ * The recordings (of `recordings`, with their starts aligned in `starts`) starting before `since` where `cover` has a gap:
+ * in no finished run's tables, nor in this period's. No cover kept (a new output folder, cache/ deleted): no gap.
  */
-export function gapBefore(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, coveredUntil: number | null): { file: ScannedRecording; start: number }[] {
-  if (coveredUntil == null) return [];
+export function gapBefore(recordings: readonly ScannedRecording[], starts: readonly number[], since: number, cover: Cover | null): { file: ScannedRecording; start: number }[] {
+  if (cover == null) return [];
   const gap: { file: ScannedRecording; start: number }[] = [];
-  recordings.forEach((r, i) => { if (starts[i] >= coveredUntil && starts[i] < since) gap.push({ file: r, start: starts[i] }); });
+  recordings.forEach((r, i) => { if (starts[i] < since && uncovered(cover, starts[i])) gap.push({ file: r, start: starts[i] }); });
   return gap;
 }
 
@@ -35,10 +36,11 @@ const iso = (ms: number) => new Date(ms).toISOString();
 const byStart = (a: GapRecording, b: GapRecording) => (a.start_time < b.start_time ? -1 : a.start_time > b.start_time ? 1 : a.recording < b.recording ? -1 : 1);
 
 /** run.json's record of the gap, or undefined when it holds no recording. */
-export function gapRecord(gap: readonly { file: ScannedRecording; start: number }[], coveredUntil: number | null, groupNames: readonly string[]): PeriodGap | undefined {
-  if (!gap.length || coveredUntil == null) return undefined;
+export function gapRecord(gap: readonly { file: ScannedRecording; start: number }[], cover: Cover | null, groupNames: readonly string[]): PeriodGap | undefined {
+  if (!gap.length || cover == null) return undefined;
   const recordings = gap.map((g) => ({ recording: g.file.recording, group: groupNames[g.file.group], start_time: iso(g.start) })).sort(byStart);
-  return withCounts(recordings, iso(coveredUntil));
+  const earliest = Math.min(...gap.map((g) => g.start));
+  return withCounts(recordings, iso(coverEndBefore(cover.stretches, earliest) ?? cover.floor));
 }
 
 function withCounts(recordings: GapRecording[], covered_until: string): PeriodGap {

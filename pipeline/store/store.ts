@@ -9,6 +9,7 @@ import { RecordReader, RecordsInOrder, scanPack, type Damage, type Located } fro
 import { lostPast, packCut, type CutPack, type PackCut } from './pack-cut.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 import { coverEnd } from '../select/period-gap.js';
+import { coverWith, joinCovers, keptCover, readCover, type Cover } from '../select/covered-stretches.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
@@ -16,14 +17,14 @@ const PACK = /^entries(-\d+-of-\d+)?\.pack$/;
 /** Beside a pack: when the last run that wrote it began its scan (ISO 8601), and what it saw and left out. */
 const SCAN_MARK = '.scanned';
 const MARK = /^entries(-\d+-of-\d+)?\.pack\.scanned$/;
-/** What quern merge's finished merges covered: the end of the starts its tables held (shards' parts count only once merged). */
+/** What quern merge's finished merges covered: the stretches of starts their tables held (shards' parts count only once merged). */
 const MERGE_COVER = 'merged.covered';
 
 /**
- * What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). `coveredUntil`:
- * the end of the starts the finished whole runs and merges put in the tables (null: none said), for the gap before a period.
+ * What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). `cover`:
+ * the stretches of starts the finished whole runs and merges put in the tables (null: none said), for the gaps before a period.
  */
-export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number>; coveredUntil: number | null }
+export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number>; cover: Cover | null }
 
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
@@ -41,21 +42,17 @@ const shaBytes = (hex: string) => Buffer.from(hex, 'hex');
 /** The scan mark beside pack `file`, parsed, or null (none, or unreadable). */
 const readMark = (file: string): Promise<unknown> => readFile(`${file}${SCAN_MARK}`, 'utf8').then((t) => JSON.parse(t), () => null);
 
-/** The end of the starts a mark's finished runs covered: its `covered_until`, or (a mark written before it was kept) its scan's start; -Infinity: none. */
-function coveredOf(mark: unknown): number {
-  const m = (mark ?? {}) as { scan_started?: string; covered_until?: string };
-  const t = [Date.parse(m.covered_until ?? ''), Date.parse(m.scan_started ?? '')].find(Number.isFinite);
-  return t ?? -Infinity;
-}
+/** The starts a whole run's mark says its finished runs covered (a mark written before that was kept: those before its scan's start). */
+const coverOf = (mark: unknown): Cover | null => readCover(mark, (mark as { scan_started?: unknown } | null)?.scan_started);
 
 /**
- * Keeps what a finished merge put in the tables: starts before `untilMs` (the earliest end among its parts), or what earlier
- * merges covered when that is later.
+ * Keeps what a finished merge put in the tables, starts in [fromMs, untilMs) (the parts' latest --since, -Infinity
+ * without one, and their earliest end), joined to what earlier merges covered.
  */
-export async function keepMergeCover(out: string, untilMs: number): Promise<void> {
+export async function keepMergeCover(out: string, fromMs: number, untilMs: number): Promise<void> {
   const file = join(cacheDir(out), MERGE_COVER);
-  const before = await readFile(file, 'utf8').then((t) => Date.parse(JSON.parse(t).covered_until), () => NaN);
-  await writeFileAtomic(file, JSON.stringify({ covered_until: new Date(Number.isFinite(before) ? Math.max(before, untilMs) : untilMs).toISOString() }) + '\n');
+  const before = await readFile(file, 'utf8').then((t) => readCover(JSON.parse(t)), () => null);
+  await writeFileAtomic(file, JSON.stringify(keptCover(coverWith(before, fromMs, untilMs))) + '\n');
 }
 
 export class Store {
@@ -116,8 +113,7 @@ export class Store {
     let latestMs: number | null = null;
     const leftOut = new Map<string, number>();
     // A shard's part counts once merged: the merge keeps its cover, a whole run its own in its mark.
-    const merged = await readFile(join(dir, MERGE_COVER), 'utf8').then((t) => Date.parse(JSON.parse(t).covered_until), () => NaN);
-    let coveredUntil: number | null = Number.isFinite(merged) ? merged : null;
+    let cover = await readFile(join(dir, MERGE_COVER), 'utf8').then((t) => readCover(JSON.parse(t)), () => null);
     for (const name of names) {
       const mark = await readFile(join(dir, name), 'utf8').then((t) => JSON.parse(t), () => null);
       const ms = Date.parse(mark?.scan_started);
@@ -125,21 +121,21 @@ export class Store {
       if (!Number.isFinite(ms) || !Array.isArray(mark.left_out)) continue;
       latestMs = Math.max(latestMs ?? ms, ms);
       for (const r of mark.left_out) if (typeof r === 'string' && !(leftOut.get(r)! > ms)) leftOut.set(r, ms);
-      if (name === `${packName(null)}${SCAN_MARK}`) coveredUntil = Math.max(coveredUntil ?? -Infinity, coveredOf(mark));
+      if (name === `${packName(null)}${SCAN_MARK}`) cover = joinCovers(cover, coverOf(mark));
     }
-    return { latestMs, leftOut, coveredUntil };
+    return { latestMs, leftOut, cover };
   }
 
   /**
    * Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack,
    * replaced whole; with the pack's length and entry count, by which the next run tells a pack cut short.
    */
-  async markScanned(ms: number, leftOut: readonly string[], until: number | null = null): Promise<void> {
+  async markScanned(ms: number, leftOut: readonly string[], since: number | null = null, until: number | null = null): Promise<void> {
     if (!this.own) return;
     await mkdir(dirname(this.own), { recursive: true });
-    // A whole run's tables cover up to its scan; what they covered only grows (a bounded run over an old week takes nothing
-    // from the nights before it). A shard's part counts once merged (keepMergeCover).
-    const cover = basename(this.own) === packName(null) ? { covered_until: new Date(Math.max(await readMark(this.own).then(coveredOf, () => -Infinity), coverEnd(ms, until))).toISOString() } : {};
+    // A whole run's tables cover its period up to its scan; what they covered only grows (a bounded run over an old week takes
+    // nothing from the nights before it), and a stretch no run covered stays open. A shard's part counts once merged (keepMergeCover).
+    const cover = basename(this.own) === packName(null) ? keptCover(coverWith(await readMark(this.own).then(coverOf), since ?? -Infinity, coverEnd(ms, until))) : {};
     await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), ...cover, left_out: leftOut, ...await this.packEnd() }));
   }
 
