@@ -3,6 +3,8 @@ import type { Section } from './dsp/butterworth.js';
 import { Decimator, decimatorPower, READ_FRACTION } from './dsp/decimate.js';
 import { FEWEST_SAMPLES, Welch, type Psd, type WelchOptions } from './dsp/welch.js';
 import { missingOf, type Missing } from './fused/missing.js';
+import { momentsOf } from './fused/moments.js';
+import { coverageNote, spectrumPower, StreamVariance } from './spectral-coverage.js';
 import { scratchOf, type ChannelContext, type Stage, type StageDefinition } from './stage.js';
 
 export const DEFAULT_SPECTRUM: WelchOptions = { segment: 4096, overlap: 0.5, window: 'hann' };
@@ -20,6 +22,7 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = tru
   const missing = missingOf(ctx);
   const key = `welch:${o.segment}:${o.overlap}:${o.window}${decimation > 1 ? `:every${decimation}` : ''}${noteShort ? '' : ':own-note'}`;
   if (decimation > 1) return ctx.shared(key, () => decimatedSpectrum(ctx, o, decimation, missing, noteShort));
+  const moments = momentsOf(ctx);
   return ctx.shared(key, () => {
     const welch = new Welch(ctx.sampleRate, o);
     let cached: Psd | null | undefined;
@@ -28,6 +31,13 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = tru
       cached = welch.result();
       const note = spectrumNote(ctx.name, o, ctx.sampleRate, cached, welch.brokenByGaps, noteShort);
       if (note) ctx.note(note);
+      // Its power against the channel's exact variance (the fused pass's moments): a level that changed shows here.
+      if (cached && !welch.brokenByGaps) {
+        const m = moments.moments();
+        const what = { name: ctx.name, what: `spectrum (${o.segment}-sample segments)`, figures: SHARED_FIGURES, halfSegment: Math.min(cached.length, o.segment) / 2 / ctx.sampleRate, df: cached.df };
+        const level = coverageNote(what, spectrumPower(cached), m.n > 0 ? m.m2 / m.n : null);
+        if (level) ctx.note(level);
+      }
       return cached;
     };
     return { push: (x) => welch.push(x, missing.inChunk), finish: () => ({}), psd };
@@ -42,12 +52,18 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = tru
  */
 function decimatedSpectrum(ctx: ChannelContext, o: WelchOptions, factor: number, missing: Missing, noteShort: boolean): SpectrumProduct {
   const decimator = new Decimator(ctx.sampleRate, factor, scratchOf(ctx)), rate = decimator.rate;
-  const welch = new Welch(rate, o);
+  const welch = new Welch(rate, o), stream = new StreamVariance();
   let out: Float64Array | null = null;
   let cached: Psd | null | undefined;
   const psd = () => {
     if (cached !== undefined) return cached;
     const p = welch.result();
+    // Its power (before the droop is taken out) against the exact variance of the samples it was taken from.
+    if (p && !welch.brokenByGaps) {
+      const what = { name: ctx.name, what: `finer spectrum of every ${factor}th sample (${o.segment}-sample segments spanning ${Number((o.segment / rate).toPrecision(3))} s)`, figures: FINER_FIGURES, halfSegment: Math.min(p.length, o.segment) / 2 / rate, df: p.df };
+      const level = coverageNote(what, spectrumPower(p), stream.variance());
+      if (level) ctx.note(level);
+    }
     cached = p && { ...p, density: withoutDroop(p, ctx.sampleRate, factor, decimator.last), upTo: READ_FRACTION * rate, ...(p.covered !== undefined ? { covered: p.covered * factor } : {}) };
     const note = spectrumNote(ctx.name, o, rate, cached, welch.brokenByGaps, noteShort, `spectrum of every ${factor}th sample (low-passed, ${Number(rate.toPrecision(6))} Hz)`);
     if (note) ctx.note(note);
@@ -59,6 +75,7 @@ function decimatedSpectrum(ctx: ChannelContext, o: WelchOptions, factor: number,
       if (!out || out.length < need) out = scratchOf(ctx)(Math.max(need, 2 * (out?.length ?? 0)));
       const { length, missing: nan } = decimator.push(x, out, missing.inChunk);
       if (length > 0) welch.push(out.subarray(0, length), nan);
+      if (nan === 0) stream.add(out, length);
     },
     finish: () => ({}),
     psd,
@@ -71,6 +88,10 @@ function withoutDroop(p: Psd, fs: number, factor: number, last: Section[]): Floa
   for (let k = 0; k <= top; k++) density[k] /= decimatorPower(k * p.df, fs, factor, last);
   return density;
 }
+
+// The figures each spectrum's note names (the stages that may read it; spectra.parquet keeps the shared one as well).
+const SHARED_FIGURES = 'the band, octave-band, velocity and order figures, dominant_frequency, spectral_centroid and the kept spectrum read from it';
+const FINER_FIGURES = 'the low octave bands, the low part of the velocity bands and slow shafts\' orders read from it';
 
 /** What the spectrum was taken from, when it is other than whole segments of a gap-free recording. */
 function spectrumNote(name: string, o: WelchOptions, fs: number, psd: Psd | null, gaps: boolean, noteShort: boolean, what = 'spectrum'): string {
