@@ -15,6 +15,15 @@ export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms 
  */
 export const rmsExcess = (db: number) => (db > 0 ? 1 / Math.sqrt(1 - 10 ** (-db / 10)) - 1 : Infinity);
 
+/**
+ * Within this many dB of the floor the excess is no figure: 0.1 dB, two sampling spreads of the RMS of a 1 s window of 12,800
+ * noise samples (8.686/√(2N) dB, from memory), moves 1/√(1 − 10^(−dB/10)) by 5 % at 0.9 dB, more below, without bound at 0 dB.
+ */
+export const EXCESS_UNTOLD_WITHIN_DB = 1;
+
+/** The excess as a figure for a message and evidence, or null where the level lies within `within` dB of the floor. */
+export const toldExcess = (db: number, within = EXCESS_UNTOLD_WITHIN_DB) => (db >= within && Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null);
+
 export const noiseFloor: StageDefinition<QualityThresholds> = {
   group: 'quality',
   columns: () => [{ name: 'above_noise_floor_db', unit: 'dB', description: '20·log10(std / declared noise_floor): the channel above its measurement chain\'s own noise; null when no floor is declared.' }],
@@ -57,7 +66,8 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
           message = `${level}: at or below the chain's own noise, a dead or disconnected sensor (the converter alone is quieter than the chain), or a noise_floor declared too high; check the sensor, cable and supply and the declaration before trusting any figure`;
         } else if (db < failDb) {
           severity = 'fail';
-          message = `${level}: the chain's noise holds at least half the power, so every figure describes the noise more than the machine (RMS ${pct(rmsExcess(db))} high): a dead or disconnected sensor, or a machine at rest; check the sensor, cable and supply before trusting any figure`;
+          const excess = toldExcess(db);
+          message = `${level}: ${excess == null ? `within ${EXCESS_UNTOLD_WITHIN_DB} dB of the chain's own noise, so every figure describes that noise, not the signal` : `the chain's noise holds at least half the power, so every figure describes the noise more than the machine (RMS ${pct(excess)} high)`}: a dead or disconnected sensor, or a machine at rest; check the sensor, cable and supply before trusting any figure`;
         } else if (db < warnDb) {
           severity = 'warn';
           message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
@@ -65,7 +75,7 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
           severity = 'warn';
           message = `${level} as a whole, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} fell to within ${failDb} dB of the floor, the first from ${secs(windows.firstQuietStart / ctx.sampleRate)}: a connection that comes and goes, or the machine at rest for a while; the windows' figures there describe the chain's noise, and RMS and band levels read low`;
         }
-        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null, windows: windows.all, quiet_windows: windows.quiet, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: toldExcess(db), windows: windows.all, quiet_windows: windows.quiet, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
         return { above_noise_floor_db: Number.isFinite(db) ? db : null };
       },
     };
