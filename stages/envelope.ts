@@ -3,7 +3,8 @@
 import { analyticGains, AnalyticFilter } from './dsp/analytic.js';
 import { butterworthSos, edgesOf, slowestPoleRadius, type FilterSpec } from './dsp/butterworth.js';
 import { describe } from './dsp/moments.js';
-import { MomentsAccumulator } from './fused/moments.js';
+import { MomentsAccumulator, momentsOf } from './fused/moments.js';
+import { belowMeasurableFloor } from './measurable-floor.js';
 import { Missing, missingOf } from './fused/missing.js';
 import { GapShadow, holdLastFinite } from './dsp/gap-shadow.js';
 import { FusedPass } from './fused/pass.js';
@@ -42,8 +43,8 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
       { name: 'env_mean', unit: '[unit]', description: 'Mean of the envelope (magnitude of the analytic signal of the filtered signal).' },
       { name: 'env_rms', unit: '[unit]', description: 'RMS of the envelope.' },
       { name: 'env_peak', unit: '[unit]', description: 'Largest envelope value.' },
-      { name: 'env_dominant_frequency', unit: 'Hz', description: `Frequency of the largest bin above DC of the envelope's Welch PSD, where it stands at least ${o.min_prominence_db} dB above the median of the bins around it (env_dominant_prominence_db), and above the level the largest of noise's bins reaches by chance once in a thousand spectra averaging as many segments; null where no line stands out (noise).` },
-      { name: 'env_dominant_prominence_db', unit: 'dB', description: 'How far the largest bin above DC of the envelope\'s Welch PSD stands above the median of the 50 bins either side of it (its own main lobe, ±2 bins, and DC left out).' },
+      { name: 'env_dominant_frequency', unit: 'Hz', description: `Frequency of the largest bin above DC of the envelope's Welch PSD, where it stands at least ${o.min_prominence_db} dB above the median of the bins around it (env_dominant_prominence_db), and above the level the largest of noise's bins reaches by chance once in a thousand spectra averaging as many segments; null where no line stands out (noise), or where filtered_rms lies below the measurable floor, 10⁻⁶ of the channel's RMS (rounding, not content).` },
+      { name: 'env_dominant_prominence_db', unit: 'dB', description: 'How far the largest bin above DC of the envelope\'s Welch PSD stands above the median of the 50 bins either side of it (its own main lobe, ±2 bins, and DC left out); null where filtered_rms lies below the measurable floor.' },
     ];
   },
   create(ctx, o) {
@@ -56,6 +57,8 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
     }
     // The filtered signal's and the envelope's moments, each in a fused pass of its own.
     const filteredPass = new FusedPass(), envPass = new FusedPass();
+    // The channel's own moments, for the measurable floor the filtered band must reach before a line in its envelope is content.
+    const channelMoments = momentsOf(ctx);
     const filtered = filteredPass.joinOrMake('moments', () => new MomentsAccumulator());
     const env = envPass.joinOrMake('moments', () => new MomentsAccumulator());
     // Whole gap-free segments only: fewer samples hold less than one period of the slowest modulation it resolves (below).
@@ -126,8 +129,10 @@ export const envelope: StageDefinition<EnvelopeOptions> = {
           return { ...EMPTY, filtered_rms: f.rms };
         }
         const psd = envSpectrum.result();
+        // A band below the measurable floor holds rounding, not content: its envelope's lines are rounding's (README, The measurable floor).
+        const measurable = !belowMeasurableFloor(f.rms ?? 0, describe(channelMoments.moments()).rms ?? 0);
         // The largest line is a repetition rate only where it stands out of the envelope's own noise: plain noise has a largest bin too.
-        const k = psd && psd.density.length > 2 ? peakBin(psd.density) : -1;
+        const k = measurable && psd && psd.density.length > 2 ? peakBin(psd.density) : -1;
         const prominence = k > 0 ? lineProminenceDb(psd!.density, k) : null;
         return {
           filtered_rms: f.rms, env_mean: e.mean, env_rms: e.rms, env_peak: e.max,

@@ -29,6 +29,25 @@ describe('the envelope\'s dominant line and its prominence, against scipy\'s env
     expect(Math.abs(row.env_dominant_frequency - c.fm)).toBeLessThanOrEqual(c.df);
   });
 
+  // An invented gearbox rig at a steady 1500 rpm: tones at 25, 50 and 150 Hz, stored as float32, nothing in the 2.5–4.5 kHz
+  // band. The filtered band holds only the rounding of the stored samples (some 1e-8 of the channel's RMS), below the measurable
+  // floor, 10⁻⁶ of it (README, The measurable floor): its envelope's largest line is rounding's, so none is given.
+  it('a band that holds nothing but rounding (below 10⁻⁶ of the channel\'s RMS) gives no dominant frequency and no prominence', async () => {
+    const rate = 12800, n = 8 * rate;
+    const x = Float64Array.from({ length: n }, (_, i) => { const t = i / rate; return Math.fround(Math.sin(2 * Math.PI * 25 * t) + 0.5 * Math.sin(2 * Math.PI * 50 * t + 0.3) + 2 * Math.sin(2 * Math.PI * 150 * t + 1)); });
+    const { row } = await reduce(x, rate, { envelope: { filter } } as never, channel({ scale: 10 }));
+    const channelRms = Math.sqrt(x.reduce((a, v) => a + v * v, 0) / n);
+    expect(channelRms).toBeCloseTo(Math.sqrt((1 + 0.25 + 4) / 2), 3); // three tones' powers add (common practice)
+    expect(row.filtered_rms).toBeLessThan(1e-6 * channelRms);
+    expect(row.env_dominant_frequency).toBeNull();
+    expect(row.env_dominant_prominence_db).toBeNull();
+    // The same tones with a band component at 10⁻⁵ of their RMS, modulated at 87 Hz: above the floor, its line is given.
+    const y = x.map((v, i) => v + 1e-5 * channelRms * Math.SQRT2 * (1 + 0.5 * Math.sin(2 * Math.PI * 87 * i / rate)) * Math.sin(2 * Math.PI * 3500 * i / rate));
+    const live = (await reduce(y, rate, { envelope: { filter } } as never, channel({ scale: 10 }))).row;
+    expect(live.filtered_rms).toBeGreaterThan(1e-6 * channelRms);
+    expect(Math.abs(live.env_dominant_frequency - 87)).toBeLessThanOrEqual(rate / 4096);
+  });
+
   it('plain noise: scipy\'s largest envelope bin stands 1.4 dB above the bins around it; no frequency is given, the prominence is', async () => {
     const c = ref.cases.noise;
     const row = await envelopeOf(modulated(fs * seconds, c.seed, 0, 0));

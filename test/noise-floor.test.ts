@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import type { ChannelDeclaration } from '../spec/archive.js';
 import type { Flag } from '../stages/quality/flag.js';
-import { rmsExcess } from '../stages/quality/noise-floor.js';
+import { EXCESS_UNTOLD_WITHIN_DB, rmsExcess } from '../stages/quality/noise-floor.js';
 import { uniform } from './dsp-signals.js';
 import { tempDir } from './helpers.js';
 import { channel, sine } from './reduce-signal.js';
@@ -94,6 +94,51 @@ describe('the noise_floor flag', () => {
     const below = await flagsOf(gaussian(n, floor / 2, 5), fs, channel({ scale, bits: 24, noise_floor: floor }));
     expect(below.flag('noise_floor').severity).toBe('fail');
     expect(below.flag('noise_floor').message).toMatch(/noise_floor declared too high/);
+  });
+
+  // Near 0 dB the excess 1/√(1 − 10^(−d/10)) − 1 is set by sampling noise: a dead sensor's noise at the floor read 113000 % on one
+  // channel and 32400 % on another. Within 1 dB the message says the figures describe the chain's noise, with no percentage.
+  it('within 1 dB of the floor names no percentage; beyond it the percentage is the power-addition formula\'s (an invented rig\'s levels)', async () => {
+    const fs = 12800, n = 4 * fs, floor = 0.002;
+    // The formula (power addition of uncorrelated noise, common practice), evaluated here.
+    const formula = (d: number) => 1 / Math.sqrt(1 - 10 ** (-d / 10)) - 1;
+    // The bound: a 0.1 dB error moves the figure by 5 % (our tolerance) at 0.9 dB, by more nearer the floor; at 2.9 dB by 1.2 %.
+    const moves = (d: number) => (1 + formula(d - 0.05)) / (1 + formula(d + 0.05)) - 1;
+    expect(moves(0.9)).toBeCloseTo(0.05, 2);
+    expect(moves(0.83)).toBeGreaterThan(0.05);
+    expect(moves(2.9)).toBeLessThan(0.013);
+    // 0.1 dB is two sampling spreads of the RMS of a 1 s window of 12,800 noise samples, 8.686/√(2N) dB (from memory), as
+    // 200 windows of Gaussian noise have it.
+    const windowDb = Array.from({ length: 200 }, (_, k) => 20 * Math.log10(rmsOf(gaussian(fs, 1, 100 + k))));
+    const meanDb = windowDb.reduce((a, b) => a + b, 0) / windowDb.length;
+    const spreadDb = Math.sqrt(windowDb.reduce((a, v) => a + (v - meanDb) ** 2, 0) / (windowDb.length - 1));
+    expect(spreadDb).toBeGreaterThan(0.8 * (20 / Math.LN10) / Math.sqrt(2 * fs));
+    expect(spreadDb).toBeLessThan(1.2 * (20 / Math.LN10) / Math.sqrt(2 * fs));
+    expect(2 * (20 / Math.LN10) / Math.sqrt(2 * fs)).toBeCloseTo(0.1, 1);
+    expect(EXCESS_UNTOLD_WITHIN_DB).toBe(1);
+    // Dead sensors reading their chain's noise a little below, at and above the declared floor, scaled to their RMS exactly.
+    const at = async (level: number, seed: number) => {
+      const g = gaussian(n, 1, seed), r = rmsOf(g);
+      return flagsOf(g.map((v) => (v / r) * level), fs, channel({ scale, bits: 24, noise_floor: floor }));
+    };
+    for (const [level, seed] of [[0.0020, 21], [0.0022, 22]]) {
+      const { flag, row } = await at(level, seed);
+      expect(row.above_noise_floor_db!).toBeLessThan(1);
+      expect(flag('noise_floor').severity).toBe('fail');
+      expect(flag('noise_floor').message).toMatch(/within 1 dB of the chain's own noise, so every figure describes that noise, not the signal/);
+      expect(flag('noise_floor').message).not.toMatch(/%/);
+      expect(flag('noise_floor').evidence.rms_excess).toBeNull();
+    }
+    const below = await at(0.0018, 23);
+    expect(below.flag('noise_floor').message).toMatch(/0\.9 dB below the declared noise floor/);
+    expect(below.flag('noise_floor').message).not.toMatch(/%/);
+    const above = await at(0.0028, 24);
+    const d = above.row.above_noise_floor_db!;
+    expect(d).toBeCloseTo(20 * Math.log10(0.0028 / 0.002), 3);
+    expect(formula(d)).toBeCloseTo(0.429, 3);
+    expect(above.flag('noise_floor').severity).toBe('fail');
+    expect(above.flag('noise_floor').message).toMatch(/holds at least half the power, so every figure describes the noise more than the machine \(RMS 42\.9 % high\)/);
+    expect(above.flag('noise_floor').evidence.rms_excess as number).toBeCloseTo(formula(d), 9);
   });
 
   it('warns where a connection comes and goes: whole windows at the floor in a channel above it as a whole', async () => {

@@ -8,6 +8,7 @@ import type { ChannelDeclaration } from '../spec/archive.js';
 import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { encodeWav } from '../scripts/wav-file.js';
 import { levelStepFit } from '../stages/dsp/level-step-fit.js';
+import { meanWander } from '../stages/dsp/mean-wander.js';
 import { slowPart, standOut } from '../stages/quality/offset.js';
 import type { Flag } from '../stages/quality/flag.js';
 import { withArticle } from '../stages/quality/article.js';
@@ -115,6 +116,25 @@ describe('the offset flag: the offset and its changes together, by what they add
     const { flag } = await offsetOfSignal(Float64Array.from({ length: N }, (_, i) => { const t = i / fs; return 2 * Math.sin(2 * Math.PI * 7.3 * t) + 3 * (1 - Math.exp(-t / 3)) - 2.1; }));
     expect(flag.severity).toBe('warn');
     expect(flag.evidence.slow_part_over_wander as number).toBeGreaterThan(5.5);
+  });
+
+  // An invented bench's accelerometer biased by 5 m/s² with 2 m/s² of noise, 4 s at 12.8 kHz: the mean warns, and the step the
+  // fit finds among the 1 s means (a few thousandths) is their own wander, not named; the planted step of 15 above still is.
+  it('a biased channel (mean 5, std 2) warns for its mean and names no step of the means\' own wander (robust scale, dsp/mean-wander.ts)', async () => {
+    const rate = 12800, n = 4 * rate;
+    for (const seed of [5, 6, 7]) {
+      const x = counterWhite(n, seed).map((v) => 5 + v * Math.sqrt(12) * 2);
+      const path = join(tempDir(), 'bias.wav');
+      writeFileSync(path, encodeWav({ sampleRate: rate, channels: [x.map((v) => v / acc.scale)], encoding: 'float32' }));
+      const r = await reduceRecording({ recording: 'x', path, group: 'g', format: null, sampleRate: null, layout: null, channels: [acc], labels: {}, durationS: null, spec: {}, chunkFrames: 4096 });
+      const flag = r.quality[0].flags.find((f) => f.name === 'offset') as Flag;
+      expect(flag.severity).toBe('warn');
+      expect(flag.message).toMatch(/^mean 5\.\d\d m\/s\^2 is 2\.\d\d standard deviations from zero: an acceleration signal should carry none/);
+      expect(flag.message).not.toMatch(/step/);
+      // The fit's step stays in the evidence, below 5.5 times the wander of the four 1 s means.
+      const means = Float64Array.from({ length: 4 }, (_, k) => x.subarray(k * rate, (k + 1) * rate).reduce((a, v) => a + v, 0) / rate);
+      expect(Math.abs(flag.evidence.step as number)).toBeLessThan(5.5 * meanWander(means));
+    }
   });
 
   it.each(['flat_zero', 'flat_3.7'])('%s: a channel that never moves is the flatline flag\'s, and the offset flag stays ok', async (name) => {

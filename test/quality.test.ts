@@ -12,6 +12,7 @@ import { peakUnderestimate } from '../stages/quality/peak-capture.js';
 import { quantisationNoise } from '../stages/quality/resolution.js';
 import { median } from '../stages/quality/spikes.js';
 import { fixture, readJson, tempDir } from './helpers.js';
+import { uniform } from './dsp-signals.js';
 
 const channel = (over: Partial<ChannelDeclaration> = {}): ChannelDeclaration => ({ name: 'x', quantity: 'voltage', unit: 'V', scale: 10, offset: 0, range: null, bits: null, max_frequency_hz: null, ...over });
 
@@ -139,6 +140,26 @@ describe('aliasing (sampling theorem)', () => {
     expect(narrow.message).toMatch(/above the converter's alias-free bandwidth 19200 Hz \(alias_free_fraction 0.4 × 48000 Hz\)/);
     // The sampling theorem still rules: content declared at or above fs/2 fails whatever the filter.
     expect((await flagsOf(x, fs, mic({ max_frequency_hz: 24000, alias_free_fraction: 0.5 }))).flag('aliasing').severity).toBe('fail');
+  });
+
+  // An invented bench's accelerometer declared to 1 kHz at fs 12.8 kHz: a 100 Hz tone, band noise to 1 kHz, and a 9 kHz tone the
+  // anti-alias filter let through, which folds to |9000 − 12800| = 3800 Hz (common practice). The warning says where it sits.
+  it('names the strongest line above the declared band: a 9 kHz tone folded to 3.8 kHz at fs 12.8 kHz, within one bin', async () => {
+    const fs = 12800, n = 4 * fs, u = uniform(29);
+    const x = Float64Array.from({ length: n }, (_, i) => 10 * Math.sin(2 * Math.PI * 100 * i / fs) + 8 * Math.sin(2 * Math.PI * 9000 * i / fs) + 0.5 * (u() - 0.5));
+    const f = (await flagsOf(x, fs, channel({ quantity: 'acceleration', unit: 'm/s^2', scale: 500, max_frequency_hz: 1000 }), { pcm16: true })).flag('aliasing');
+    const folded = aliasOf(9000, fs);
+    expect(folded).toBe(3800);
+    expect(f.severity).toBe('warn');
+    expect(f.evidence.alias_hz).toBe(1000); // where the declared frequency itself lands, unchanged
+    const resolution = f.evidence.spectrum_resolution_hz as number;
+    expect(resolution).toBeCloseTo(fs / 4096, 9); // the shared spectrum's default 4096-point segment
+    expect(Math.abs((f.evidence.strongest_above_band_hz as number) - folded)).toBeLessThanOrEqual(resolution);
+    expect(f.message).toMatch(/its strongest line lies at 3800 Hz \(resolution 3\.125 Hz\), a component there or one folded from 9000 or 16600 Hz/);
+    // A clean channel in its band: no line above it to name, though the evidence keeps the search's result.
+    const clean = (await flagsOf(x.map((v, i) => v - 8 * Math.sin(2 * Math.PI * 9000 * i / fs)), fs, channel({ quantity: 'acceleration', unit: 'm/s^2', scale: 500, max_frequency_hz: 1000 }), { pcm16: true })).flag('aliasing');
+    expect(clean.severity).toBe('ok');
+    expect(clean.message).not.toMatch(/strongest line/);
   });
 
   it('warns when power crowds the top of the band below Nyquist', async () => {

@@ -4,11 +4,9 @@ import { metresPerSecond2 } from '../../stages/acceleration-units.js';
 import type { WatchedFeature } from './options.js';
 import { decibelsOf } from './score.js';
 
-/**
- * −120 dB of the channel's RMS: finer than any converter resolves (a 24-bit converter spans about 144 dB of full scale at best,
- * from memory; float32 keeps 1.2e-7 of a value, common practice), and far above float64's rounding of sums and transforms (1e-16).
- */
-export const FLOOR_RATIO = 1e-6;
+// The ratio, 10⁻⁶, is the stages' too (the envelope's dominant line is given only above it).
+import { FLOOR_RATIO } from '../../stages/measurable-floor.js';
+export { FLOOR_RATIO };
 
 /** Lower band edge of a velocity column (velocity_10_1000_rms → 10; "p" for a decimal point). */
 const velocityLowEdge = (name: string): number | null => {

@@ -1,12 +1,25 @@
 // Aliasing: the declared highest frequency against the sample rate (sampling theorem), and power crowding the top of the band.
 import { spectrumOf } from '../spectrum.js';
-import { bandMeanSquare, type WelchOptions } from '../dsp/welch.js';
+import { bandMeanSquare, resolutionOf, type Psd, type WelchOptions } from '../dsp/welch.js';
 import type { StageDefinition } from '../stage.js';
 import { pct, type QualityThresholds, type Severity } from './flag.js';
 import { quantisationDensity } from './quantisation.js';
 
 /** Where a tone at f lands when sampled at fs: |f − k·fs| for the nearest whole k (sampling theorem). */
 export const aliasOf = (f: number, fs: number) => Math.abs(f - Math.round(f / fs) * fs);
+
+/**
+ * The strongest line at or above `from` Hz: the largest bin of the PSD there that stands above both neighbours (a peak, not the
+ * skirt of content below `from`), its frequency k·df, known to the spectrum's resolution. Null where no bin there is a peak.
+ */
+export function strongestLineAbove(psd: Psd, from: number): number | null {
+  const d = psd.density;
+  let best = -1;
+  for (let k = Math.max(1, Math.ceil(from / psd.df)); k < d.length; k++) {
+    if (d[k] > d[k - 1] && (k + 1 === d.length || d[k] >= d[k + 1]) && (best < 0 || d[k] > d[best])) best = k;
+  }
+  return best < 0 ? null : best * psd.df;
+}
 
 /** A frequency for a message: six significant digits, no trailing zeros. */
 const hz = (f: number) => Number(f.toPrecision(6));
@@ -31,6 +44,8 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
         const topFrom = (1 - a.top_band) * fs / 2;
         const top = psd && total > 0 ? bandMeanSquare(psd, topFrom, fs / 2) / total : null;
         const above = psd && total > 0 && f && f < fs / 2 ? bandMeanSquare(psd, f, fs / 2) / total : null;
+        // Where the power above the band sits: its strongest line, and what it may have folded from (|f − k·fs|).
+        const line = above != null ? strongestLineAbove(psd!, f!) : null, resolution = psd ? resolutionOf(psd) : null;
         // The chain's own noise, where declared, taken as spread evenly to Nyquist (white): the share it alone puts above
         // `from` is not content to warn of (a dead sensor's noise fills the top of the band; the noise_floor flag judges it).
         const floor = ctx.noiseFloor ?? null;
@@ -67,7 +82,7 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
           message = `${pct(topBeyond)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)${noiseNote}: content above Nyquist may have folded into it; check the anti-alias filter or sample faster`;
         } else if (aboveWarns && !atFloor(aboveOverFloor)) {
           severity = 'warn';
-          message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist; RMS and peak include it (${aboveBeyond < 0.99 ? `RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's` : `the declared band holds ${aboveBeyond < 1 ? 'under 1 %' : 'none'} of the power`}); check the anti-alias filter and max_frequency_hz`;
+          message = `${pct(aboveBeyond)} of the power lies above the declared highest frequency ${f} Hz, up to Nyquist (${fs / 2} Hz)${noiseNote}: content the declaration excludes, possibly folded from above Nyquist${line != null ? `; its strongest line lies at ${hz(line)} Hz (resolution ${hz(resolution!)} Hz), a component there or one folded from ${hz(fs - line)} or ${hz(fs + line)} Hz (fs ∓ it)` : ''}; RMS and peak include it (${aboveBeyond < 0.99 ? `RMS reads ${pct(1 / Math.sqrt(1 - aboveBeyond) - 1)} above the declared band's` : `the declared band holds ${aboveBeyond < 1 ? 'under 1 %' : 'none'} of the power`}); check the anti-alias filter and max_frequency_hz`;
         } else if (topWarns || aboveWarns) {
           severity = 'note';
           const share = topWarns ? `${pct(topBeyond!)} of the power lies in the top ${pct(a.top_band)} of the band below Nyquist (${fs / 2} Hz)` : `${pct(aboveBeyond!)} of the power lies above the declared highest frequency ${f} Hz`;
@@ -84,6 +99,7 @@ export const aliasing: StageDefinition<QualityThresholds & { spectrum: WelchOpti
           threshold: `fail: declared highest frequency ≥ fs/2; warn: ${aliasFree != null ? `it exceeds the declared alias-free bandwidth (${ctx.aliasFreeFraction} × fs)` : `fs < ${a.recommended_ratio} × it`}, > ${pct(a.top_band_warn_fraction)} of the power in the top ${pct(a.top_band)} of the band, or > ${pct(a.above_declared_warn_fraction)} above the declared highest frequency${pulses ? ' (these two not on a tacho channel)' : ''}${floor != null ? ' (each beyond the declared noise floor\'s share, spread evenly to Nyquist)' : ''}${floorDensity != null ? `, unless its density is within ${a.converter_floor_factor} × the converter's quantisation noise, step²/(6·fs)` : ''}`,
           evidence: {
             declared_hz: f, sample_rate: fs, alias_hz: alias, top_band_power_fraction: top, above_declared_power_fraction: above,
+            ...(above != null ? { strongest_above_band_hz: line, spectrum_resolution_hz: resolution } : {}),
             ...(aliasFree != null ? { alias_free_hz: aliasFree } : {}),
             ...(floor != null ? { top_band_beyond_noise_fraction: topBeyond, above_declared_beyond_noise_fraction: aboveBeyond } : {}),
             ...(floorDensity != null ? { converter_floor_density: floorDensity, top_band_over_converter_floor: topOverFloor, above_declared_over_converter_floor: aboveOverFloor } : {}),

@@ -32,6 +32,15 @@ const restSaid = (t: QuietTally) => {
 /** Windows below the floor that hold one value or sit at a rail: named as what they are, by the flags that judge them. */
 const heldSaid = (held: number) => `${held} ${held === 1 ? 'window' : 'windows'} below it held at one value or at a rail, which the flatline, saturation or dropout flag names`;
 
+/**
+ * Within this many dB of the floor the excess is no figure: 0.1 dB, two sampling spreads of the RMS of a 1 s window of 12,800
+ * noise samples (8.686/√(2N) dB, from memory), moves 1/√(1 − 10^(−dB/10)) by 5 % at 0.9 dB, more below, without bound at 0 dB.
+ */
+export const EXCESS_UNTOLD_WITHIN_DB = 1;
+
+/** The excess as a figure for a message and evidence, or null where the level lies within `within` dB of the floor. */
+export const toldExcess = (db: number, within = EXCESS_UNTOLD_WITHIN_DB) => (db >= within && Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null);
+
 export const noiseFloor: StageDefinition<QualityThresholds> = {
   group: 'quality',
   section: null,
@@ -78,7 +87,8 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
           message = `${level}: at or below the chain's own noise, a dead or disconnected sensor (the converter alone is quieter than the chain), or a noise_floor declared too high; check the sensor, cable and supply and the declaration before trusting any figure`;
         } else if (db < failDb) {
           severity = 'fail';
-          message = `${level}: the chain's noise holds at least half the power, so every figure describes the noise more than the machine (RMS ${pct(rmsExcess(db))} high): a dead or disconnected sensor, or a machine at rest; check the sensor, cable and supply before trusting any figure`;
+          const excess = toldExcess(db);
+          message = `${level}: ${excess == null ? `within ${EXCESS_UNTOLD_WITHIN_DB} dB of the chain's own noise, so every figure describes that noise, not the signal` : `the chain's noise holds at least half the power, so every figure describes the noise more than the machine (RMS ${pct(excess)} high)`}: a dead or disconnected sensor, or a machine at rest; check the sensor, cable and supply before trusting any figure`;
         } else if (db < warnDb) {
           severity = 'warn';
           message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
@@ -88,7 +98,7 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         } else if (windows.held > 0) {
           message = `${level}; ${heldSaid(windows.held)}`;
         }
-        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: Number.isFinite(rmsExcess(db)) ? rmsExcess(db) : null, windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: toldExcess(db), windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
         return { above_noise_floor_db: Number.isFinite(db) ? db : null };
       },
     };

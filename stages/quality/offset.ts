@@ -54,7 +54,9 @@ export const offset: StageDefinition<QualityThresholds> = {
         // The offset and its changes together: each alone may stay under its threshold while together they raise RMS by more.
         // A channel that never moves (std 0) is the flatline flag's, as its ratio is none.
         if (std > 0 && excess > q.offset.warn_rms_excess) {
-          if (slow.stepAt >= 0) issues.push(`the 1 s means step by ${slow.step > 0 ? '+' : '−'}${Math.abs(slow.step).toPrecision(3)} ${ctx.unit} at ${secs((slow.stepAt * win) / ctx.sampleRate)}`);
+          // A step no larger than the means' own wander could make by chance is not named (the same ratio the slow part needs).
+          const wander = meanWander(means.subarray(0, windows));
+          if (slow.stepAt >= 0 && Math.abs(slow.step) >= q.offset.warn_above_wander * wander) issues.push(`the 1 s means step by ${slow.step > 0 ? '+' : '−'}${Math.abs(slow.step).toPrecision(3)} ${ctx.unit} at ${secs((slow.stepAt * win) / ctx.sampleRate)}`);
           else if (!meanWarns && !trendWarns) issues.push(`the mean ${mean.toPrecision(3)} ${ctx.unit} and the trend of the 1 s means together`);
         }
         // What a live signal's own slow content could have made by chance does not warn: the slow part must stand above the wander.
