@@ -128,6 +128,26 @@ export function unitHint(ratio: number, column: string): string {
   return unit ? `: the declared rate is ${unit === 'ms' ? 'a thousand' : unit === 'us' ? 'a million' : 'a billion'} times the column's, so "${column}" may hold ${unit === 'ms' ? 'milliseconds' : unit === 'us' ? 'microseconds' : 'nanoseconds'}: name it time_${unit} in the header to read it so` : '';
 }
 
+/**
+ * The first rows' printed units `units`, followed by those of the lines after line `after` up to line `last` (`lineAt`
+ * gives a line by its number), to TIME_HEAD_ROWS rows: each time's (t − first) / unit, rounded, exact while a time lies
+ * under 2^50 units (its parse's rounding a quarter of a unit at most, IEEE 754). The head ends at a time that is no number
+ * or is larger (the reading names it, or its step, as it comes); lines that are no data are passed over.
+ */
+function longerHead(units: Float64Array, lineAt: (no: number) => string, after: number, last: number, timeOf: (line: string) => number, first: number, unit: number): Float64Array {
+  const out = new Float64Array(TIME_HEAD_ROWS);
+  out.set(units);
+  let n = units.length;
+  for (let no = after + 1; no <= last && n < TIME_HEAD_ROWS; no++) {
+    const line = lineAt(no);
+    if (!isData(line)) continue;
+    const t = timeOf(line);
+    if (!(Math.abs(t) / unit < 2 ** 50)) break;
+    out[n++] = Math.round((t - first) / unit);
+  }
+  return out.subarray(0, n);
+}
+
 /** A NUL byte within a file's text, at byte `at` on line `line`: damage, not padding, which only ends a file. */
 const nulInText = (at: number, line: number) =>
   new RecordingError(`byte ${at} (line ${line}): a NUL byte within the text, which a text file never holds: the file is damaged (NUL bytes only at its end are padding, and left out); copy it again from the logger`);
@@ -198,8 +218,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   const headerLine = headerIndex + 1;
   const delimiter = detectDelimiter(lines[headerIndex]);
   const names = splitFields(lines[headerIndex], delimiter).map((s) => s.trim());
-  const dataLines = lines.map((l, i) => ({ l, no: i + 1 })).slice(headerIndex + 1).filter(({ l }) => isData(l)).slice(0, TIME_HEAD_ROWS);
-  const probeLines = dataLines.slice(0, PROBE_ROWS);
+  const probeLines = lines.map((l, i) => ({ l, no: i + 1 })).slice(headerIndex + 1).filter(({ l }) => isData(l)).slice(0, PROBE_ROWS);
   const probeRows = probeLines.map(({ l }) => splitFields(l, delimiter));
   if (whole && probeRows.length === 0) throw new RecordingError(`line ${headerLine}: the file holds no samples: its header and no rows after it (the capture stopped before its first row); check the logger, then recapture or remove the file`);
   // A delimiter ending every line (time,a,b,) leaves an unnamed last column of empty cells: no channel.
@@ -232,11 +251,6 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     if (probeRows.length === 0) throw new RecordingError(`line ${probeLines.length + headerLine + 1}: the file holds no samples: its one row after the header has no line end and shows a cut (a copy or capture stopped part-way); copy the file again once the logger has written it, or end its line if it is whole`);
   }
 
-  // The time head: the probe's rows, then its further lines' first fields (a whole file's unended last line left out, as it may be cut).
-  const further = probeLines.length < PROBE_ROWS ? [] : dataLines.slice(PROBE_ROWS).filter(({ no }) => !(whole && unended && no === lines.length));
-  const timeCells = [...probeRows.map((r) => r[0] ?? ''), ...further.map(({ l }) => firstField(l, delimiter))];
-  const timeLines = [...probeLines.map(({ no }) => no), ...further.map(({ no }) => no)];
-
   let sampleRate = declaredSampleRate ?? NaN;
   let startTime: Date | null = null;
   let timeStep = NaN, timeTolerance = NaN, lostStep = NaN, stepUncertainty = 0, timeHalf = 0, coarse = false, secondsAssumed: string | undefined;
@@ -244,7 +258,7 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
   let gridFrom = NaN, gridUnit = NaN, gridStep = NaN, gridSlope = 0, printedDecimals = 0;
   const notes: string[] = [];
   if (timeColumn === 0) {
-    const times = timeCells.map((c) => timeValue(c, decimalComma, perSecond));
+    const times = probeRows.map((r) => timeValue(r[0] ?? '', decimalComma, perSecond));
     if (times.length === 1 && Number.isFinite(times[0])) throw new RecordingError(`line ${probeLines[0].no}: the file holds one row, and no sample rate follows from one time; declare ${sampleRateWhere} and remove the time column, or export more rows`);
     if (times.length < 2 || !Number.isFinite(times[0])) {
       throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" looks like a time column but its first rows are neither numbers (seconds) nor ISO 8601 date-times (2026-11-16T02:00:00.25, UTC unless a zone is given); fix the file or rename the column`);
@@ -253,12 +267,18 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     // would give a rate a thousand times too low.
     if (Math.abs(times[0]) >= MAX_TIME_S) throw new RecordingError(`line ${headerLine + 1}: column "${names[0]}" starts at ${(probeRows[0][0] ?? '').trim()}, too large for seconds; quern reads a time column in seconds (or as ISO 8601 date-times): if these are milliseconds or microseconds since 1970, name the column time_ms or time_us${perSecond === 1 ? '' : ` (it is read in ${names[0]}'s unit now)`}, export seconds or date-times, or drop the column and declare sample_rate`);
     const bad = times.findIndex((t) => !Number.isFinite(t));
-    if (bad >= 0) throw unreadableTime(timeLines[bad], timeCells[bad]);
+    if (bad >= 0) throw unreadableTime(probeLines[bad].no, probeRows[bad][0] ?? '');
     // The printed times' resolution, and the times in whole units of it: steps are compared exactly, in those units.
-    const printed = timeCells.reduce((most, c) => Math.max(most, decimals(c)), 0);
+    const printed = Math.max(...probeRows.map((r) => decimals(r[0] ?? '')));
     const resolution = 10 ** -printed / perSecond;
-    const units = printedUnits(timeCells, printed) ?? Float64Array.from(times, (t) => Math.round((t - times[0]) / resolution));
-    const rate = printedRate(units, resolution);
+    const units = printedUnits(probeRows.map((r) => r[0] ?? ''), printed) ?? Float64Array.from(times, (t) => Math.round((t - times[0]) / resolution));
+    // A step within two units over the first rows of a whole number of units (1 kHz to the millisecond) may be a clock a
+    // fraction of a unit off it, whose extra units those rows do not reach: the rate from a longer head, the probe's further
+    // lines' times in whole units of the first rows' print from the first time.
+    const short = printedRate(units, resolution), q = short.step / resolution;
+    const rate = probeLines.length < PROBE_ROWS || !(Math.abs(q - Math.round(q)) * PROBE_ROWS < 2) ? short
+      : printedRate(longerHead(units, (no) => lines[no - 1], probeLines[probeLines.length - 1].no, whole && unended ? lines.length - 1 : lines.length,
+        (line) => timeValue(firstField(line, delimiter), decimalComma, perSecond), times[0], resolution), resolution);
     timeStep = rate.step;
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     // Times printed more coarsely than they step repeat, and a lost sample among them cannot be seen: refused unless a rate
@@ -266,23 +286,21 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     const repeat = times.findIndex((t, i) => i > 0 && t === times[i - 1]);
     coarse = rate.coarse && repeat > 0;
     if (coarse && declaredSampleRate == null) {
-      throw new RecordingError(`line ${timeLines[repeat]}: the time ${timeCells[repeat].trim()} repeats the line before: printed to ${printed} decimals, the time column cannot tell its samples apart (about ${(timeStep * 1e3).toPrecision(3)} ms); export the times with more decimals, or remove the time column and set ${sampleRateWhere} (or set it and keep the column: its times are then held to that rate)`);
+      throw new RecordingError(`line ${probeLines[repeat].no}: the time ${(probeRows[repeat][0] ?? '').trim()} repeats the line before: printed to ${printed} decimals, the time column cannot tell its samples apart (about ${(timeStep * 1e3).toPrecision(3)} ms); export the times with more decimals, or remove the time column and set ${sampleRateWhere} (or set it and keep the column: its times are then held to that rate)`);
     }
     if (coarse) {
-      // Held over the probe's rows: rows lost later leave the grid as the file streams, with a note rather than a refusal.
-      const first = units.subarray(0, PROBE_ROWS);
-      const off = offGrid(first, 1 / (declaredSampleRate! * resolution));
-      if (off >= 0) throw new RecordingError(`line ${timeLines[off]}: the time ${timeCells[off].trim()} lies more than half a printed unit (${printed} decimals) from where a row at the declared ${declaredSampleRate} Hz would be: rows were lost or the rate is not ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
+      const off = offGrid(units, 1 / (declaredSampleRate! * resolution));
+      if (off >= 0) throw new RecordingError(`line ${probeLines[off].no}: the time ${(probeRows[off][0] ?? '').trim()} lies more than half a printed unit (${printed} decimals) from where a row at the declared ${declaredSampleRate} Hz would be: rows were lost or the rate is not ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export`);
       notes.push(`the time column is printed to ${printed} decimals, coarser than its step at the declared ${declaredSampleRate} Hz (rows share a printed time): its times are held to that rate's grid as they are read, but a row lost shows only as the rows after it leaving the grid (not at all where fewer rows than a quarter of a printed unit are lost); export the times with more decimals to have every row checked`);
       gridFrom = times[0]; gridUnit = resolution; gridStep = 1 / (declaredSampleRate! * resolution); printedDecimals = printed;
-      gridSlope = gridDrift(first, gridStep);
+      gridSlope = gridDrift(units, gridStep);
     }
     // Rows lost are counted in steps of the rate as quoted (25600 Hz, not its estimate's last digits, which a gap of millions
     // of steps multiplies), give or take the span of steps the printed times allow; times printed coarser than their step show none.
     // A regular step rounded to the printed unit lies less than one unit from the nominal (a full unit only where both its
     // times are ties of rounding, times offset half a unit from a whole step), or within 1 % of it; plus the error of
     // subtracting two parsed times (IEEE 754 unit roundoff). So a step of two units is a row lost at one unit a step.
-    const largest = times.reduce((most, t) => Math.max(most, Math.abs(t)), 0);
+    const largest = Math.max(...times.map(Math.abs));
     timeTolerance = Math.max(0.01 * timeStep, resolution * (1 - 1e-6)) + 8 * 2 ** -53 * largest;
     timeHalf = resolution / 2 + 8 * 2 ** -53 * largest;
     lostStep = coarse ? NaN : 1 / rate.rate;
