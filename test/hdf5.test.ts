@@ -204,4 +204,27 @@ describe('integer attributes narrower than their storage (h5py low-level API: te
     const { rec } = await readAll(fixture('hdf5-attributes', made.file), { hdf5: layout('fs12') });
     expect(rec.sampleRate).toBe(made.attributes.fs12);
   });
+
+  // Dense storage (h5py, track_order=True and more than 8 attributes) and committed types: h5py's values in expected.json.
+  const dense = made.layouts['dense-attributes.h5'], committed = made.layouts['committed-type-attributes.h5'];
+  const rateOf = async (file: string, dataset: string, attribute: string) =>
+    (await readAll(fixture('hdf5-attributes', file), { hdf5: { datasets: [dataset], channel_axis: null, sample_rate_attribute: attribute, start_time_attribute: null } })).rec.sampleRate;
+
+  it('kept in dense attribute storage: a 24-bit rate from bit 8 of 32 on the dataset, a 12-bit one and a plain int32 on its group', async () => {
+    expect(dense.precision_offset.fs).toEqual([24, 8]);
+    // As h5wasm gives it, the storage word: 25600 × 2^8.
+    expect(await rateOf('dense-attributes.h5', '/acq/x', 'fs')).toBe(dense.attributes.fs);
+    expect(await rateOf('dense-attributes.h5', '/acq/x', 'fs12')).toBe(dense.attributes.fs12);
+    expect(await rateOf('dense-attributes.h5', '/acq/x', 'fs32')).toBe(dense.attributes.fs32);
+  });
+
+  it('kept in dense storage after 120 other attributes, in a heap of several blocks under an indirect one', async () => {
+    expect(await rateOf('dense-attributes.h5', '/acq/many', 'rate')).toBe(dense.attributes.rate);
+  });
+
+  it('of a committed datatype: a 24-bit type from bit 8 of 32 stored once and named by the attribute, and a committed int32', async () => {
+    expect([committed.committed.fs, committed.precision_offset.fs]).toEqual([true, [24, 8]]);
+    expect(await rateOf('committed-type-attributes.h5', '/acq/x', 'fs')).toBe(committed.attributes.fs);
+    expect(await rateOf('committed-type-attributes.h5', '/acq/x', 'fs32')).toBe(committed.attributes.fs32);
+  });
 });

@@ -44,6 +44,18 @@ export function timeColumnOf(header: string): { perSecond: number; stated: boole
 }
 const PROBE_BYTES = 1 << 20;
 const PROBE_ROWS = 4096;
+/**
+ * Rows of the probe whose times give the rate, at most: a clock a small fraction of a printed unit off it (999.9 Hz to the
+ * millisecond) shows as one more unit every so many rows (10,000), which only a head longer than that tells from rows lost.
+ */
+const TIME_HEAD_ROWS = 1 << 16;
+
+/** A line's first field: the time cell, without splitting the rest. */
+const firstField = (line: string, delimiter: string) => {
+  if (line.includes('"')) return splitFields(line, delimiter)[0];
+  const at = line.indexOf(delimiter);
+  return at < 0 ? line : line.slice(0, at);
+};
 
 /** Splits one line on a delimiter, honouring RFC 4180 double quotes. */
 export function splitFields(line: string, delimiter: string): string[] {
@@ -114,6 +126,26 @@ function refuseRepeatedNames(names: string[], headerLine: number): void {
 export function unitHint(ratio: number, column: string): string {
   const unit = ([[1e3, 'ms'], [1e6, 'us'], [1e9, 'ns']] as const).find(([k]) => Math.abs(ratio / k - 1) <= 0.005)?.[1];
   return unit ? `: the declared rate is ${unit === 'ms' ? 'a thousand' : unit === 'us' ? 'a million' : 'a billion'} times the column's, so "${column}" may hold ${unit === 'ms' ? 'milliseconds' : unit === 'us' ? 'microseconds' : 'nanoseconds'}: name it time_${unit} in the header to read it so` : '';
+}
+
+/**
+ * The first rows' printed units `units`, followed by those of the lines after line `after` up to line `last` (`lineAt`
+ * gives a line by its number), to TIME_HEAD_ROWS rows: each time's (t − first) / unit, rounded, exact while a time lies
+ * under 2^50 units (its parse's rounding a quarter of a unit at most, IEEE 754). The head ends at a time that is no number
+ * or is larger (the reading names it, or its step, as it comes); lines that are no data are passed over.
+ */
+function longerHead(units: Float64Array, lineAt: (no: number) => string, after: number, last: number, timeOf: (line: string) => number, first: number, unit: number): Float64Array {
+  const out = new Float64Array(TIME_HEAD_ROWS);
+  out.set(units);
+  let n = units.length;
+  for (let no = after + 1; no <= last && n < TIME_HEAD_ROWS; no++) {
+    const line = lineAt(no);
+    if (!isData(line)) continue;
+    const t = timeOf(line);
+    if (!(Math.abs(t) / unit < 2 ** 50)) break;
+    out[n++] = Math.round((t - first) / unit);
+  }
+  return out.subarray(0, n);
 }
 
 /** A NUL byte within a file's text, at byte `at` on line `line`: damage, not padding, which only ends a file. */
@@ -240,7 +272,13 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     const printed = Math.max(...probeRows.map((r) => decimals(r[0] ?? '')));
     const resolution = 10 ** -printed / perSecond;
     const units = printedUnits(probeRows.map((r) => r[0] ?? ''), printed) ?? Float64Array.from(times, (t) => Math.round((t - times[0]) / resolution));
-    const rate = printedRate(units, resolution);
+    // A step within two units over the first rows of a whole number of units (1 kHz to the millisecond) may be a clock a
+    // fraction of a unit off it, whose extra units those rows do not reach: the rate from a longer head, the probe's further
+    // lines' times in whole units of the first rows' print from the first time.
+    const short = printedRate(units, resolution), q = short.step / resolution;
+    const rate = probeLines.length < PROBE_ROWS || !(Math.abs(q - Math.round(q)) * PROBE_ROWS < 2) ? short
+      : printedRate(longerHead(units, (no) => lines[no - 1], probeLines[probeLines.length - 1].no, whole && unended ? lines.length - 1 : lines.length,
+        (line) => timeValue(firstField(line, delimiter), decimalComma, perSecond), times[0], resolution), resolution);
     timeStep = rate.step;
     if (!(timeStep > 0)) throw new RecordingError(`line ${headerLine + 1}: the time column does not increase; sort the rows by time`);
     // Times printed more coarsely than they step repeat, and a lost sample among them cannot be seen: refused unless a rate

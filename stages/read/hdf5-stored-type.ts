@@ -1,7 +1,8 @@
 // A dataset's stored type as the file itself describes it: h5wasm's description of a type lacks an integer's precision and
 // bit offset (an int24 in 32-bit storage reads as an int32), so the datatype message is read from the dataset's object
 // header. Layouts from the HDF5 File Format Specification 3.0: superblock (II.A), object headers version 1 and 2 (IV.A.1),
-// header continuation (IV.A.2.q), shared messages (IV.A.2), datatype message (IV.A.2.d).
+// header continuation (IV.A.2.q), shared messages (IV.A.2), datatype message (IV.A.2.d), attribute message (IV.A.2.m),
+// attribute info message (IV.A.2.c), fractal heap (III.G).
 import { fstatSync, readSync } from 'node:fs';
 import { RecordingError } from './recording.js';
 
@@ -32,6 +33,8 @@ interface Superblock { offsetBytes: number; lengthBytes: number; base: number }
 
 /** Most object header blocks and messages walked for one type: far beyond what a dataset's header holds. */
 const MAX_BLOCKS = 64, MAX_MESSAGES = 4096, MAX_BLOCK_BYTES = 1 << 24;
+/** Most direct blocks of an attribute heap searched: a thousand attributes of a kilobyte fill some 64 (64 KB blocks at most, HDF5's default). */
+const MAX_HEAP_BLOCKS = 4096;
 
 const damaged = (what: string) => new RecordingError(`${what}; the file is damaged: copy it again`);
 
@@ -137,29 +140,113 @@ export function decodeDatatype(d: Uint8Array): StoredType {
   };
 }
 
+/** An attribute message (IV.A.2.m, versions 1 to 3) when it names `want`: its datatype's bytes, and whether they are a shared message. */
+function attributeNamed(d: Uint8Array, want: Uint8Array): { type: Uint8Array; shared: boolean } | null {
+  if (d.length < 8) return null;
+  const version = d[0], flags = d[1];
+  const nameSize = d[2] | (d[3] << 8), typeSize = d[4] | (d[5] << 8);
+  // Version 1 pads the name, datatype and dataspace to 8 bytes; version 3 adds the name's character set.
+  const pad = (n: number) => (version === 1 ? Math.ceil(n / 8) * 8 : n);
+  const nameAt = version === 3 ? 9 : 8, typeAt = nameAt + pad(nameSize);
+  if (version < 1 || version > 3 || typeSize === 0 || typeAt + typeSize > d.length) return null;
+  // The name is stored with its terminating NUL.
+  const stored = d.subarray(nameAt, nameAt + nameSize);
+  if (stored.length !== want.length + 1 || stored[want.length] !== 0 || want.some((c, i) => stored[i] !== c)) return null;
+  return { type: d.subarray(typeAt, typeAt + typeSize), shared: version > 1 && (flags & 0x01) !== 0 };
+}
+
+/** Whether `bytes` bytes at `at` are all ones: HDF5's undefined address. */
+const undefinedAt = (b: Uint8Array, at: number, bytes: number) => b.subarray(at, at + bytes).every((x) => x === 0xff);
+
+/**
+ * The message of the attribute `want` kept in dense storage (an object holding more attributes than its header keeps,
+ * 8 by default, where it tracks their creation order): the attribute info message (IV.A.2.c) names a fractal heap (III.G)
+ * whose direct blocks hold the attribute messages as they would stand in the header. Its blocks are searched for the
+ * message naming the attribute (a version, the name's size, the name and its NUL), rather than the name index's B-tree
+ * walked: the same message, found without hashing the name. Null where the object keeps no attributes densely.
+ */
+function denseAttribute(read: ReadAt, sb: Superblock, address: number, want: Uint8Array, name: string): { type: Uint8Array; shared: boolean } | null {
+  const info = messageAt(read, sb, address, (type, d) => (type === 0x15 ? d : null));
+  if (!info) return null;
+  const heapField = 2 + (info[1] & 0x01 ? 2 : 0);
+  if (info[0] !== 0 || info.length < heapField + sb.offsetBytes) throw damaged(`an attribute info message of version ${info[0]} (${info.length} bytes)`);
+  if (undefinedAt(info, heapField, sb.offsetBytes)) return null;
+  const heapAt = sb.base + unsigned(info, heapField, sb.offsetBytes, 'a fractal heap\'s address');
+  const O = sb.offsetBytes, L = sb.lengthBytes;
+  // Its fields to the root block's row count: 14 bytes, ten lengths and two addresses, the table's width, its block sizes, two counts, the root's address and rows.
+  const h = exactly(read, heapAt, 14 + 12 * L + 3 * O + 8, 'a fractal heap\'s header');
+  if (!(h[0] === 0x46 && h[1] === 0x52 && h[2] === 0x48 && h[3] === 0x50)) throw damaged(`no fractal heap header at byte ${heapAt}`);
+  const filtered = (h[7] | (h[8] << 8)) > 0;
+  if (filtered) throw new RecordingError(`attribute "${name}" is kept in a compressed attribute heap, which quern does not read; save the file with fewer attributes on that object, or without compressing its attribute heap`);
+  const checksummed = (h[9] & 0x02) !== 0;
+  let at = 14 + 10 * L + 2 * O;
+  const width = h[at] | (h[at + 1] << 8); at += 2;
+  const startBlock = unsigned(h, at, L, 'a heap\'s starting block size'); at += L;
+  const maxDirect = unsigned(h, at, L, 'a heap\'s largest direct block'); at += L;
+  const heapBits = h[at] | (h[at + 1] << 8); at += 4;
+  const rootAt = h.subarray(at, at + O); at += O;
+  const rows = h[at] | (h[at + 1] << 8);
+  // Block sizes are powers of two (III.G); a heap searched over more than MAX_HEAP_BLOCKS blocks is no attribute heap.
+  const power = (n: number) => n > 0 && Number.isInteger(Math.log2(n));
+  if (width < 1 || !power(startBlock) || !power(maxDirect) || maxDirect < startBlock || maxDirect > MAX_BLOCK_BYTES || heapBits > 64) throw damaged(`a fractal heap at byte ${heapAt} of ${width} blocks a row from ${startBlock} to ${maxDirect} bytes`);
+  if (undefinedAt(rootAt, 0, O)) return null;
+  const root = sb.base + unsigned(rootAt, 0, O, 'a heap\'s root block');
+  const offsetBytes = Math.ceil(heapBits / 8);
+  // A direct block: its signature, version, heap address and offset in the heap (and a checksum) before the objects.
+  const search = (blockAt: number, size: number) => {
+    const b = exactly(read, blockAt, size, 'a fractal heap\'s direct block');
+    if (!(b[0] === 0x46 && b[1] === 0x48 && b[2] === 0x44 && b[3] === 0x42)) throw damaged(`no fractal heap direct block at byte ${blockAt}`);
+    for (let p = 5 + O + offsetBytes + (checksummed ? 4 : 0); p + 8 <= b.length; p++) {
+      if (b[p] < 1 || b[p] > 3 || (b[p + 2] | (b[p + 3] << 8)) !== want.length + 1) continue;
+      const found = attributeNamed(b.subarray(p), want);
+      if (found) return found;
+    }
+    return null;
+  };
+  if (rows === 0) return search(root, startBlock);
+  // A root indirect block: rows of `width` direct blocks, doubling from the second row (III.G, the doubling table).
+  const directRows = Math.log2(maxDirect) - Math.log2(startBlock) + 2;
+  const kept = Math.min(rows, directRows);
+  if (kept * width > MAX_HEAP_BLOCKS) throw damaged(`a fractal heap at byte ${heapAt} of ${kept} rows of ${width} blocks`);
+  const ib = exactly(read, root, 5 + O + offsetBytes + kept * width * O, 'a fractal heap\'s indirect block');
+  if (!(ib[0] === 0x46 && ib[1] === 0x48 && ib[2] === 0x49 && ib[3] === 0x42)) throw damaged(`no fractal heap indirect block at byte ${root}`);
+  for (let r = 0; r < kept; r++) {
+    for (let c = 0; c < width; c++) {
+      const entry = 5 + O + offsetBytes + (r * width + c) * O;
+      if (undefinedAt(ib, entry, O)) continue;
+      const found = search(sb.base + unsigned(ib, entry, O, 'a heap block\'s address'), startBlock * 2 ** Math.max(0, r - 1));
+      if (found) return found;
+    }
+  }
+  if (rows > directRows) throw new RecordingError(`attribute "${name}" may lie in a part of the object's attribute heap that quern does not read (an attribute heap of over ${directRows} rows of blocks); save the file with fewer or smaller attributes on that object`);
+  return null;
+}
+
 /**
  * The stored type of the attribute `name` of the object (dataset or group) whose header a reference names, from its
- * attribute message (IV.A.2.m, versions 1 to 3); null where the header holds no such message (attributes kept in dense
- * storage, a fractal heap, which is not read) or its type is shared.
+ * attribute message (IV.A.2.m, versions 1 to 3) in the header or in dense storage, a committed type followed where it is
+ * kept; null where the object holds no such attribute message.
  */
 export function attributeTypeOf(read: ReadAt, superblock: number, reference: ArrayLike<number>, name: string): StoredType | null {
   const sb = superblockAt(read, superblock);
   const address = sb.base + unsigned(Uint8Array.from(reference), 0, 8, 'the object\'s address');
   const want = new TextEncoder().encode(name);
-  return messageAt(read, sb, address, (type, d) => {
-    if (type !== 0x0c || d.length < 8) return null;
-    const version = d[0], flags = d[1];
-    const nameSize = d[2] | (d[3] << 8), typeSize = d[4] | (d[5] << 8);
-    // Version 1 pads the name, datatype and dataspace to 8 bytes; version 3 adds the name's character set.
-    const pad = (n: number) => (version === 1 ? Math.ceil(n / 8) * 8 : n);
-    const nameAt = version === 3 ? 9 : 8, typeAt = nameAt + pad(nameSize);
-    if (version < 1 || version > 3 || typeAt + typeSize > d.length) return null;
-    // The name is stored with its terminating NUL.
-    const stored = d.subarray(nameAt, nameAt + nameSize);
-    if (stored.length !== want.length + 1 || stored[want.length] !== 0 || want.some((c, i) => stored[i] !== c)) return null;
-    if (version > 1 && (flags & 0x01)) return null;
-    return decodeDatatype(d.subarray(typeAt, typeAt + typeSize));
-  });
+  const found = messageAt(read, sb, address, (type, d) => (type === 0x0c ? attributeNamed(d, want) : null)) ?? denseAttribute(read, sb, address, want, name);
+  if (!found) return null;
+  if (!found.shared) return decodeDatatype(found.type);
+  const { data, shared } = datatypeMessageAt(read, sb, committedTypeAddress(sb, found.type));
+  if (shared) throw damaged('a committed datatype that is itself shared');
+  return decodeDatatype(data);
+}
+
+/** Where a shared datatype message (IV.A.2) says its committed type's object header lies: version 1 (address after 8 bytes), 2 (after 2), 3 (type 2, committed: after 2). */
+function committedTypeAddress(sb: Superblock, data: Uint8Array): number {
+  const version = data[0], type = data[1];
+  // Version 3, type 1: the file's shared message heap.
+  if (version === 3 && type === 1) throw new RecordingError('its type is kept in the file\'s shared message heap, which quern does not read; copy the dataset into a file made without shared messages (h5py\'s default), or check the file');
+  const at = version === 1 ? 8 : 2;
+  if (version < 1 || version > 3 || data.length < at + sb.offsetBytes) throw damaged(`a shared datatype message of version ${version}`);
+  return sb.base + unsigned(data, at, sb.offsetBytes, 'a committed type\'s address');
 }
 
 /**
@@ -172,12 +259,7 @@ export function storedTypeOf(read: ReadAt, superblock: number, reference: ArrayL
   for (let hop = 0; hop < 2; hop++) {
     const { data, shared } = datatypeMessageAt(read, sb, address);
     if (!shared) return decodeDatatype(data);
-    // Shared message: version 1 (address after 8 bytes), 2 (after 2), 3 (type 2, committed: after 2; type 1: the file's shared message heap).
-    const version = data[0], type = data[1];
-    if (version === 3 && type === 1) throw new RecordingError('its type is kept in the file\'s shared message heap, which quern does not read; copy the dataset into a file made without shared messages (h5py\'s default), or check the file');
-    const at = version === 1 ? 8 : 2;
-    if (version < 1 || version > 3 || data.length < at + sb.offsetBytes) throw damaged(`a shared datatype message of version ${version}`);
-    address = sb.base + unsigned(data, at, sb.offsetBytes, 'a committed type\'s address');
+    address = committedTypeAddress(sb, data);
   }
   throw damaged('a committed datatype that is itself shared');
 }

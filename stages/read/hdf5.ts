@@ -89,7 +89,7 @@ function findAttribute(file: HdfFile, from: string, spec: string, what: string, 
 
 /**
  * An integer attribute's values by its stored type (h5wasm hands over the storage word, as for datasets: `hdf5-integers.ts`);
- * as h5wasm gives them where the object's header holds no such attribute message (dense attribute storage is not read).
+ * as h5wasm gives them where the file holds no such attribute message (the header's, or dense storage's).
  */
 function integerAttribute(obj: Dataset, place: string, name: string, value: unknown, bytes: FileBytes): unknown {
   let t: StoredType | null;

@@ -122,6 +122,9 @@ export function printedRate(units: ArrayLike<number>, unit: number): PrintedRate
   // A steady clock within 1 % below one unit a step (995 Hz to the millisecond) steps two units too, but evenly: its rows
   // lie on one grid. Rows lost at random places leave it; one longer step fits any grid, and stays a row lost.
   const steady = longer >= 2 && onOneGrid(units, steps, within(median));
+  // Such a clock with a row lost among its rows (995 Hz to the millisecond, one row lost) lies on one grid once it is put back.
+  const spanned = !steady && q >= 1 && longer >= 2 && longer < 0.01 * count ? stepsWithLostRows(units, steps, within(median), q) : 0;
+  if (spanned > 0) return { ...quoted(((units[n - 1] - units[0]) * unit) / spanned, unit / spanned), coarse: false };
   const lost = q >= 1 && longer > 0 && longer < 0.01 * count && !steady;
   if (lost) ({ span, count } = regularRuns(units, steps, (d) => within(median)(d) && d < 1.5 * q));
   q = span / count;
@@ -155,12 +158,79 @@ export function onOneGrid(units: ArrayLike<number>, steps: Float64Array, regular
     for (let k = a; k <= b; k++) { sxy += (k - kMean) * (units[k] - uMean); sxx += (k - kMean) ** 2; }
   }
   if (!(sxx > 0)) return false;
-  const slope = sxy / sxx;
-  return runs.every(([a, b]) => {
+  // The slope least squares gives, then the one that narrows the widest run's spread the most (a few carries of a unit
+  // over many rows pull the least-squares slope off a grid that holds them).
+  const widest = (slope: number) => runs.reduce((most, [a, b]) => {
     let low = Infinity, high = -Infinity;
-    for (let k = a; k <= b; k++) { const e = units[k] - k * slope; low = Math.min(low, e); high = Math.max(high, e); }
-    return high - low <= spread;
-  });
+    for (let k = a; k <= b; k++) { const e = units[k] - k * slope; if (e < low) low = e; if (e > high) high = e; }
+    return Math.max(most, high - low);
+  }, 0);
+  const longest = runs.reduce((most, [a, b]) => Math.max(most, b - a), 1);
+  return leastSpread(widest, sxy / sxx, 2 / longest) <= spread;
+}
+
+/**
+ * The least spread of `spreadAt` over slopes within `reach` of `near`: a row's offset from a line is linear in its slope, so
+ * the spread (the largest offset less the smallest) is convex in it, and a ternary search finds its least (a minimax,
+ * Chebyshev, fit of one slope; common practice).
+ */
+export function leastSpread(spreadAt: (slope: number) => number, near: number, reach: number, rounds = 48): number {
+  let low = near - reach, high = near + reach;
+  for (let i = 0; i < rounds; i++) {
+    const a = low + (high - low) / 3, b = high - (high - low) / 3;
+    if (spreadAt(a) <= spreadAt(b)) high = b; else low = a;
+  }
+  return spreadAt((low + high) / 2);
+}
+
+/** The spread of printed units about a line against their rows' sample indices, at `slope`. */
+function spreadAt(units: ArrayLike<number>, index: Float64Array, slope: number): number {
+  let low = Infinity, high = -Infinity;
+  for (let k = 0; k < units.length; k++) { const e = units[k] - index[k] * slope; if (e < low) low = e; if (e > high) high = e; }
+  return high - low;
+}
+
+/**
+ * The steps a steady clock's rows span once a few rows lost among them are put back, or 0 where none fit: `q` units a step
+ * about. A step `regular` does not keep is a gap of its length over `q` steps; its longer regular steps (1.5 `q` and more)
+ * are the clock's carries of a printed unit, or rows lost: a row lost moves the rows after it one step along.
+ * Greedy least squares (common practice): the longer step whose row, put back, leaves the least squared error about one
+ * line, until the rows lie within `spread` of one line (as `onOneGrid`). At most a quarter as many rows lost as carries,
+ * and at least four carries (our choice): a few longer steps fit some grid wherever they fall, so fewer are rows lost
+ * from a clock at the printed unit.
+ */
+export function stepsWithLostRows(units: ArrayLike<number>, steps: Float64Array, regular: (step: number) => boolean, q: number, spread = 1.05): number {
+  const n = units.length;
+  const candidates: number[] = [];
+  steps.forEach((d, i) => { if (regular(d) && d >= 1.5 * q) candidates.push(i); });
+  const most = Math.floor(candidates.length / 5);
+  if (most < 1) return 0;
+  const index = new Float64Array(n);
+  for (let k = 1; k < n; k++) index[k] = index[k - 1] + (regular(steps[k - 1]) ? 1 : Math.max(1, Math.round(steps[k - 1] / q)));
+  const fits = () => leastSpread((b) => spreadAt(units, index, b), (units[n - 1] - units[0]) / (index[n - 1] - index[0]), 2 / n) <= spread;
+  // Sums after each row (of indices and units), so that each candidate's squared error about its least-squares line is a few operations.
+  const mAfter = new Float64Array(n + 1), uAfter = new Float64Array(n + 1);
+  let su = 0, suu = 0;
+  for (let k = 0; k < n; k++) { su += units[k]; suu += units[k] * units[k]; }
+  for (let lost = 0; lost < most; lost++) {
+    if (fits()) return index[n - 1] - index[0];
+    let sm = 0, smm = 0, smu = 0;
+    for (let k = n - 1; k >= 0; k--) {
+      mAfter[k] = mAfter[k + 1] + index[k]; uAfter[k] = uAfter[k + 1] + units[k];
+      sm += index[k]; smm += index[k] * index[k]; smu += index[k] * units[k];
+    }
+    let best = -1, leastError = Infinity;
+    for (const at of candidates) {
+      if (index[at + 1] - index[at] > 1) continue;
+      // Every row after `at` one index on: the sums moved, then the squared error of the least-squares line.
+      const c = n - at - 1, m = sm + c, mm = smm + 2 * mAfter[at + 1] + c, mu = smu + uAfter[at + 1];
+      const sxx = mm - (m * m) / n, sxy = mu - (m * su) / n, error = suu - (su * su) / n - (sxy * sxy) / sxx;
+      if (error < leastError) { best = at; leastError = error; }
+    }
+    if (best < 0) return 0;
+    for (let k = best + 1; k < n; k++) index[k] += 1;
+  }
+  return fits() ? index[n - 1] - index[0] : 0;
 }
 
 /** A step and how far it may be off, as a rate quoted to the digits they support. */
