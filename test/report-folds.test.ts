@@ -100,6 +100,7 @@ describe('quality.html: one entry per channel and flag', () => {
   it('an unchanged re-run leaves the page, which names the run its "new" marks belong to; the re-run tells nothing new', async () => {
     expect(first.stdout).toMatch(/; NEW$/m);
     expect(again.stdout).not.toMatch(/NEW/);
+    expect(again.stdout).toContain(`outputs: unchanged (same digest as run ${firstRun}); not rewritten, so quality.html's and quality.json's “new” marks are that run's`);
     expect(againRun.outputs).toMatchObject({ rewritten: false, written_by_run: firstRun });
     expect(againRun.run_id).not.toBe(firstRun);
     expect(readFileSync(join(out, 'quality.html'), 'utf8')).toBe(firstPage);
