@@ -3,7 +3,7 @@
 // finding is not lost among its repeats. What an entry holds is bounded: counts, and the newest recordings' rows.
 import type { Place } from '../store/pack.js';
 import { SEVERITIES, type Severity } from '../../stages/quality/flag.js';
-import type { QualityRecording } from './quality.js';
+import type { QualityFlag, QualityRecording } from './quality.js';
 import { flagKey } from './quality-news.js';
 
 /** The recordings an entry lists, the newest first; the earlier ones are counted (every one is in the overview and quality.json). */
@@ -29,7 +29,7 @@ export const foldSeverity = (f: FlagFold): 'warn' | 'fail' => (f.failed > 0 ? 'f
 export const foldNew = (f: FlagFold): boolean => f.rows.some((r) => r.new);
 
 /** A recording's flags at warn or fail, one fold each; `cells` renders a flag's row (report-html.ts's `foldCells`). */
-export function foldsOf(q: QualityRecording, at: Place, startMs: number | null, cells: (recording: string, f: QualityRecording['channels'][number]['flags'][number]) => string): FlagFold[] {
+export function foldsOf(q: QualityRecording, at: Place, startMs: number | null, cells: (recording: string, f: QualityFlag) => string): FlagFold[] {
   return q.channels.flatMap((c) => c.flags.filter((f) => f.severity === 'warn' || f.severity === 'fail').map((f): FlagFold => ({
     group: q.group, channel: c.channel, unit: c.unit, flag: f.name, failed: Number(f.severity === 'fail'), warned: Number(f.severity === 'warn'),
     rows: [{ recording: q.recording, start_ms: startMs, severity: f.severity as 'warn' | 'fail', new: f.new === true, cells: cells(q.recording, f), at }],

@@ -6,7 +6,7 @@ import { brokenGroupLine, type BrokenGroup } from './broken-groups.js';
 import { COLOURS } from './colours.js';
 import { flagValue } from './flag-value.js';
 import { NEEDS_A_LOOK, SEVERITIES, type Flag, type Severity } from '../../stages/quality/flag.js';
-import type { QualityChannel, QualityRecording, QualityTotals } from './quality.js';
+import type { QualityChannel, QualityFlag, QualityRecording, QualityTotals } from './quality.js';
 import { foldCount, foldNew, foldSeverity, type FlagFold, type FoldRow } from './flag-folds.js';
 import { notAssessedLines } from './not-assessed.js';
 
@@ -105,7 +105,7 @@ export const sectionsHead = (entries: number, fresh = 0, pictured = 0) => ['</ta
   ...(pictured >= MAX_PICTURED ? [`<p class="note">Pictures are shown for the first ${MAX_PICTURED} channels in this order, each with its latest recording. Every flag of every channel is in quality.json.</p>`] : [])].join('\n');
 
 /** A recording's row of an entry: the recording, its verdict, value, threshold and message (made in the worker). */
-export const foldCells = (recording: string, f: Flag) => `<td>${esc(recording)}</td><td>${badge(f.severity)}${(f as { new?: boolean }).new ? ' <b>new</b>' : ''}</td><td>${esc(flagValue(f))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td>`;
+export const foldCells = (recording: string, f: QualityFlag) => `<td>${esc(recording)}</td><td>${badge(f.severity)}${f.new ? ' <b>new</b>' : ''}</td><td>${esc(flagValue(f))}</td><td>${esc(f.threshold)}</td><td>${esc(f.message)}</td>`;
 
 const ROWS_HEAD = '<tr><th>recording</th><th>verdict</th><th>value</th><th>threshold</th><th>finding and action</th></tr>';
 
