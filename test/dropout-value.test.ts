@@ -24,7 +24,7 @@ describe('a dropout of exact zeros in the report', () => {
     const browser = await launchBrowser();
     try {
       const { page, errors } = await openPage(browser, join(out, 'quality.html'));
-      const row = page.locator('section.channel tr', { hasText: 'dropout' }).first();
+      const row = page.locator('section.channel[data-flag="dropout"] table.latest tr[data-recording]');
       expect(await row.locator('td').nth(2).textContent()).toBe('exact zeros for 0.3 s (no sample missing)');
       expect(errors).toEqual([]);
     } finally {

@@ -77,13 +77,19 @@ describe('tonight\'s data-quality findings first', () => {
     expect(flags.every((f: any) => typeof f.new === 'boolean')).toBe(true);
   });
 
-  it('orders quality.html\'s channels new first, then the newest recording first, the new one marked', async () => {
+  it('folds quality.html\'s channel flags into one entry each, new first, the repeated clipping counted with its nights listed', async () => {
     const browser = await launchBrowser();
     try {
       const { page, errors } = await openPage(browser, join(out, 'quality.html'));
-      const shown = await page.locator('section.channel').evaluateAll((els) => els.map((e) => `${e.getAttribute('data-recording')} ${e.getAttribute('data-channel')}${e.getAttribute('data-new') ? ' new' : ''}`));
-      expect(shown).toEqual(['stand/2026-05-04.wav acc_b new', ...[4, 3, 2, 1].map((n) => `stand/${day(n)}.wav acc_a`)]);
-      expect(await page.locator('section.channel[data-new] h3').textContent()).toMatch(/unusable new stand\/2026-05-04\.wav/);
+      const shown = await page.locator('section.channel').evaluateAll((els) => els.map((e) => `${e.getAttribute('data-recording')} ${e.getAttribute('data-channel')} ${e.getAttribute('data-flag')} ${e.getAttribute('data-count')}/${e.getAttribute('data-of')}${e.getAttribute('data-new') ? ' new' : ''}`));
+      expect(shown).toEqual(['stand/2026-05-04.wav acc_b flatline 1/4 new', 'stand/2026-05-04.wav acc_a saturation 4/4']);
+      expect(await page.locator('section.channel[data-new] h3').textContent()).toMatch(/unusable new stand · acc_b \(m\/s\^2\): flatline in 1 of 4 recordings/);
+      // The clipping's earlier nights, newest first, in a collapsed list under its latest.
+      const clip = page.locator('section.channel[data-channel="acc_a"]');
+      expect(await clip.locator('h3').textContent()).toMatch(/saturation in 4 of 4 recordings/);
+      expect(await clip.locator('table.latest tr[data-recording]').getAttribute('data-recording')).toBe('stand/2026-05-04.wav');
+      expect(await clip.locator('details table.earlier tr[data-recording]').evaluateAll((els) => els.map((e) => e.getAttribute('data-recording')))).toEqual([3, 2, 1].map((n) => `stand/${day(n)}.wav`));
+      expect(await clip.locator('details').getAttribute('open')).toBeNull();
       expect(errors).toEqual([]);
     } finally {
       await browser.close();

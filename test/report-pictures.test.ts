@@ -12,7 +12,8 @@ import { encodeWav } from '../scripts/wav-file.js';
 import { unpackEvidence, type PackedEvidence } from '../stages/quality/evidence.js';
 import { quern, tempDir } from './helpers.js';
 
-// Invented: a misranged rig whose four accelerometers clip every night, each at its own tone.
+// Invented: a misranged rig whose four accelerometers clip every night, each at its own tone; each night is declared as a
+// group of its own (the rig moved between benches), so that every night's channels have entries and pictures of their own.
 const RECORDINGS = 13, FS = 8000, FRAMES = 2000;
 function clippedArchive(): string {
   const archive = join(tempDir(), 'archive');
@@ -22,7 +23,8 @@ function clippedArchive(): string {
     writeFileSync(join(archive, `night-${String(r).padStart(2, '0')}.wav`), encodeWav({ sampleRate: FS, channels, encoding: 'pcm16' }));
   }
   const channels = [1, 2, 3, 4].map((c) => `      - { name: acc${c}, quantity: acceleration, unit: m/s^2, scale: ${10 * c} }`).join('\n');
-  writeFileSync(join(archive, 'archive.yaml'), `groups:\n  - name: rig\n    match: "*.wav"\n    channels:\n${channels}\n`);
+  const groups = Array.from({ length: RECORDINGS }, (_, r) => `  - name: bench-${r}\n    match: "night-${String(r).padStart(2, '0')}.wav"\n    channels:\n${channels}\n`).join('');
+  writeFileSync(join(archive, 'archive.yaml'), `groups:\n${groups}`);
   return archive;
 }
 
@@ -31,8 +33,13 @@ describe('the report\'s pictures for many channels to check', () => {
     const archive = clippedArchive(), out = join(archive, '..', 'out');
     expect(quern('reduce', archive, '--out', out, '--jobs', '2', '--quiet').code).toBe(0);
     const html = readFileSync(join(out, 'quality.html'), 'utf8');
-    const sections = [...html.matchAll(/<section class="channel" [^>]*data-recording="([^"]+)" data-channel="([^"]+)"[^>]*>([\s\S]*?)<\/section>/g)]
-      .map(([, recording, channel, body]) => ({ at: `${recording} ${channel}`, charts: /<div class="charts">([\s\S]*)<\/div>\n$/.exec(body)?.[1] ?? null }));
+    const attr = (tag: string, name: string) => new RegExp(` data-${name}="([^"]+)"`).exec(tag)![1];
+    const all = [...html.matchAll(/(<section class="channel" [^>]*>)([\s\S]*?)<\/section>/g)]
+      .map(([, tag, body]) => ({ at: `${attr(tag, 'recording')} ${attr(tag, 'channel')}`, charts: /<div class="charts">([\s\S]*)<\/div>\n$/.exec(body)?.[1] ?? null, above: body.includes('Pictures of this recording\'s channel: under') }));
+    // A channel with two flags has two entries: its pictures under the first, the second pointing to them.
+    const sections = all.filter((s) => s.charts !== null);
+    expect(all.filter((s) => s.charts === null).every((s) => s.above && sections.some((p) => p.at === s.at))).toBe(true);
+    expect(new Set(sections.map((s) => s.at)).size).toBe(sections.length);
     expect(sections.length).toBe(RECORDINGS * 4); // every channel clips: more than one part of pictures
     const expected = new Map<string, string>();
     for await (const e of storedEntries(out)) {

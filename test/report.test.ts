@@ -77,9 +77,11 @@ describe('quality report of the sample archive', () => {
     const browser = await launchBrowser();
     try {
       const { page, errors } = await openPage(browser, join(out, 'quality.html'));
-      const shown = await page.locator('section.channel').evaluateAll((els) => els.map((e) => `${e.getAttribute('data-recording')} ${e.getAttribute('data-channel')} ${e.getAttribute('data-severity')}`));
-      const notOk = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'warn' || c.severity === 'fail').map((c: any) => `${r.recording} ${c.channel} ${c.severity}`));
-      expect(shown.sort()).toEqual(notOk.sort());
+      // One entry per channel and flag; on the sample archive each such channel is flagged on one recording, the entry's latest.
+      const shown = await page.locator('section.channel').evaluateAll((els) => els.map((e) => `${e.getAttribute('data-recording')} ${e.getAttribute('data-channel')} ${e.getAttribute('data-flag')} ${e.getAttribute('data-severity')} ${e.getAttribute('data-count')}`));
+      const flags = quality.recordings.flatMap((r: any) => r.channels.flatMap((c: any) => c.flags.filter((f: any) => f.severity === 'warn' || f.severity === 'fail').map((f: any) => `${r.recording} ${c.channel} ${f.name} ${f.severity} 1`)));
+      expect(shown.sort()).toEqual(flags.sort());
+      const notOk = quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'warn' || c.severity === 'fail').map((c: any) => `${r.recording} ${c.channel}`));
       // Notes are listed apart, without pictures.
       expect(await page.locator('table.notes tr').count()).toBe(1 + quality.recordings.flatMap((r: any) => r.channels.filter((c: any) => c.severity === 'note')).length);
       // Three pictures (histogram, spectrum, trend) for each, drawn as SVG; the disconnected transducer's constant signal
@@ -89,7 +91,7 @@ describe('quality report of the sample archive', () => {
       expect(await page.locator('text=not readable').count()).toBe(1);
       // The clipped channel's value is its share of samples in per cent, beside a threshold in per cent (fraction × 100).
       const sat = quality.recordings.find((r: any) => r.recording === 'nightly/2026-11-19/pump-endurance.wav').channels.find((c: any) => c.channel === 'acc_de').flags.find((f: any) => f.name === 'saturation');
-      const satRow = page.locator('section.channel[data-channel="acc_de"][data-severity="fail"] tr', { hasText: 'saturation' }).first();
+      const satRow = page.locator('section.channel[data-recording="nightly/2026-11-19/pump-endurance.wav"][data-channel="acc_de"][data-flag="saturation"] table.latest tr[data-recording]');
       expect(await satRow.locator('td').nth(2).textContent()).toBe(`${Number((sat.value * 100).toPrecision(4))} % of samples at the limits`);
       expect(await satRow.locator('td').nth(3).textContent()).toMatch(/ %/);
       // One unreadable recording and one unmatched file, each in the singular.

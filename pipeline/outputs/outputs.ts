@@ -13,9 +13,10 @@ import type { Pool } from '../reduce/pool.js';
 import { forgetDigest, keepDigest, outputsDigest, readDigest, stillCurrent, withChanges } from './digest.js';
 import { addTotals, emptyTotals, type QualitySummary } from './quality.js';
 import { addFailGroups, byNews, flagKey, keepReportedFlags, readReportedFlags, type FailGroup, type ReportedFlag } from './quality-news.js';
-import { MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
+import { foldEntry, MAX_PICTURED, notesEnd, notesHead, overviewHead, overviewLine, pageEnd, pageHead, picturedAbove, sectionEnd, sectionsHead, type OverviewRow } from './report-html.js';
+import { addFolds, byMorning, cutRows, foldNew, type FlagFold } from './flag-folds.js';
 import type { TrendsWrite } from '../trends/trends.js';
-import type { SectionKey, SliceItem, SliceOutput, SliceTask } from './slice.js';
+import type { Candidate, SliceItem, SliceOutput, SliceTask } from './slice.js';
 import { ownBuffers, release } from '../store/release.js';
 import { slicePieces } from './slice-pieces.js';
 import { commitAll, jsonPieces, StagedFile } from './staged.js';
@@ -44,11 +45,6 @@ export const partNames = (k: number, n: number): OutputNames => ({
   table: (name) => `parts/${name}-${k}-of-${n}.parquet`, qualityJson: `parts/quality-${k}-of-${n}.json`, qualityHtml: null, digest: `parts/outputs-${k}-of-${n}.json`, spectra: false,
   spool: (name) => `parts/${name}-${k}-of-${n}.spool`,
 });
-
-/** The report's order of the sections: new first, then unusable before to check, then the newest recording first (then by name, the later first). */
-const sectionOrder = (a: SectionKey, b: SectionKey): number =>
-  Number(b.new) - Number(a.new) || Number(b.severity === 'fail') - Number(a.severity === 'fail') || (b.start_ms ?? -Infinity) - (a.start_ms ?? -Infinity)
-  || (a.candidate.recording < b.candidate.recording ? 1 : a.candidate.recording > b.candidate.recording ? -1 : 0);
 
 export const byRecording = <T extends { recording: string }>(xs: T[]) => [...xs].sort((a, b) => (a.recording < b.recording ? -1 : a.recording > b.recording ? 1 : 0));
 
@@ -159,7 +155,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
   const parquet = Object.fromEntries(Object.entries(tables).map(([name, columns]) => [name, new ParquetStream(staged(names.table(name)), columns, o.metadata)]));
   const qualityJson = staged(names.qualityJson), qualityHtml = names.qualityHtml ? staged(names.qualityHtml) : null;
   const spool = (name: string) => staged(names.spool(name));
-  const spools = { quality: spool('quality-list'), overview: spool('overview'), sections: spool('sections'), notes: spool('notes') };
+  const spools = { quality: spool('quality-list'), overview: spool('overview'), notes: spool('notes') };
   // The flags the previous run into this folder reported, to mark tonight's new ones (a shard's part marks none: merge does).
   const earlierFlags = qualityHtml ? await readReportedFlags(outDir) : undefined;
   const outputs = [...Object.values(parquet).map((p) => p.file), qualityJson, ...(qualityHtml ? [qualityHtml] : [])];
@@ -168,9 +164,9 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     const summary: QualitySummary = { totals, fails: [], failCount: 0, changes: null };
     const channelNames = new Set<string>();
     const fails = new Map<string, FailGroup>(), channelRecordings = new Map<string, number>(), flagged = new Map<string, 'warn' | 'fail'>();
-    // Each section's place in the spool and what orders it: the report lists them new first, unusable first, the newest first.
-    const sectionIndex: (SectionKey & { offset: number })[] = [];
-    const counted = { recordings: 0, sectionBytes: 0 };
+    // quality.html's entries, one per channel and flag, each bounded (flag-folds.ts): the main thread holds no list of recordings' flags.
+    const folds = new Map<string, FlagFold>();
+    const counted = { recordings: 0 };
     const take = async (s: SliceOutput) => {
       for (const [name, ipc] of Object.entries(s.tables)) if (ipc) await parquet[name].push(ipc);
       // Secondary tables come as columns, cut into record batches one at a time: a long table is never one stream.
@@ -188,8 +184,7 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       for (const c of s.channels) channelNames.add(c);
       await spools.overview.write(s.overview);
       await spools.notes.write(s.notes);
-      await spools.sections.write(s.sections);
-      for (const key of s.sectionKeys) { sectionIndex.push({ ...key, offset: counted.sectionBytes }); counted.sectionBytes += key.bytes; }
+      addFolds(folds, s.folds);
     };
     // Slices are assembled in parallel and taken in order; a bounded number in flight keeps memory flat.
     // Only where each entry lies travels to the worker, which reads the rest from the entry itself.
@@ -223,10 +218,17 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
     await qualityJson.close();
 
     if (qualityHtml) {
-      for (const f of [spools.overview, spools.sections, spools.notes]) await f.close({ durable: false });
-      sectionIndex.sort(sectionOrder);
-      // Pictures for the first channels in the report's order: drawn from the entries' data, shared among the threads.
-      const pictured = sectionIndex.slice(0, MAX_PICTURED).map((x) => x.candidate);
+      for (const f of [spools.overview, spools.notes]) await f.close({ durable: false });
+      const entries = [...folds.values()].map((f) => cutRows(f)).sort(byMorning);
+      // Pictures of each entry's latest recording's channel, for the first channels in the report's order, each channel of a
+      // recording once (an entry of its other flag points to them): drawn from the entries' data, shared among the threads.
+      const firstOf = new Map<string, number>(), pictured: Candidate[] = [];
+      const shownAt = entries.map((f, i) => {
+        const k = `${f.rows[0].recording}\u0000${f.channel}`;
+        if (!firstOf.has(k)) { firstOf.set(k, i); if (pictured.length < MAX_PICTURED) pictured.push({ at: f.rows[0].at, recording: f.rows[0].recording, channel: f.channel }); }
+        return firstOf.get(k)!;
+      });
+      const pictureOf = new Map(pictured.map((c, k) => [`${c.recording}\u0000${c.channel}`, k]));
       const parts = Array.from({ length: Math.ceil(pictured.length / PICTURES_A_TASK) }, (_, k) => pictured.slice(k * PICTURES_A_TASK, (k + 1) * PICTURES_A_TASK));
       o.pool.widen(parts.length);
       const drawn = parts.map((part) => o.pool.run<(string[] | null)[]>('picturesOf', part));
@@ -242,17 +244,11 @@ export async function writeOutputs(outDir: string, names: OutputNames, o: Output
       await qualityHtml.write(pageHead({ archive: o.archive, version: o.version, run_id: o.runId, generated }, totals, outcome?.html) + '\n');
       await qualityHtml.write(overviewHead(names) + '\n');
       for await (const line of lines(spools.overview)) await qualityHtml.write(overviewLine(JSON.parse(line) as OverviewRow, names) + '\n');
-      await qualityHtml.write(sectionsHead(sectionIndex.length, sectionIndex.filter((x) => x.new).length) + '\n');
-      // Each section read back from its place in the spool, in the report's order.
-      const fh = await open(spools.sections.tmp, 'r');
-      try {
-        for (const [i, x] of sectionIndex.entries()) {
-          const bytes = Buffer.allocUnsafe(x.bytes);
-          await fh.read(bytes, 0, x.bytes, x.offset);
-          await qualityHtml.write(`${JSON.parse(bytes.toString('utf8'))}\n${sectionEnd(i < pictured.length ? await chartsOf(i) : null)}\n`);
-        }
-      } finally {
-        await fh.close();
+      await qualityHtml.write(sectionsHead(entries.length, entries.filter(foldNew).length, firstOf.size) + '\n');
+      for (const [i, f] of entries.entries()) {
+        const k = pictureOf.get(`${f.rows[0].recording}\u0000${f.channel}`);
+        const charts = shownAt[i] === i && k !== undefined ? await chartsOf(k) : null;
+        await qualityHtml.write(`${foldEntry(f, channelRecordings.get(flagKey(f.group, f.channel, '')) ?? f.failed + f.warned)}\n${sectionEnd(charts, shownAt[i] !== i && k !== undefined ? picturedAbove(entries[shownAt[i]]) : '')}\n`);
       }
       let notes = 0;
       for await (const line of lines(spools.notes)) await qualityHtml.write(`${notes++ ? '' : notesHead() + '\n'}${JSON.parse(line)}\n`);

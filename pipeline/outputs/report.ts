@@ -217,7 +217,7 @@ export function summaryText(r: RunRecord, q: QualitySummary): string {
   if (leftovers.length) lines.push(`  lock:    removed ${leftovers.length} file${leftovers.length === 1 ? '' : 's'} a stopped run left half-written under temporary names (${leftovers.slice(0, 3).join(', ')}${leftovers.length > 3 ? ', …: see run.json' : ''})`);
   for (const c of r.store.cut_short ?? []) lines.push(`  CUT SHORT ${cutShortLine(c)}`);
   for (const d of r.store.damaged) lines.push(`  DAMAGED stored entry${d.recording ? ` of ${d.recording}` : ''} in ${d.file} at byte ${d.offset}: ${d.problem}; ${d.recording ? 'recomputed' : 'passed over'}`);
-  if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten`);
+  if (!r.outputs.rewritten) lines.push(`  outputs: unchanged (same digest as run ${r.outputs.written_by_run}); not rewritten, so quality.html's and quality.json's “new” marks are that run's; what is new tonight is told here`);
   lines.push(...qualitySummary(q));
   if (r.shard) lines.push(`  parts:   ${r.out}/parts/ (shard ${r.shard.k} of ${r.shard.n}); combine them with: quern merge ${r.out}`);
   else lines.push(`  table:   ${r.out}/features.parquet (and ${[...Object.keys(SECONDARY_TABLES), ...(q.changes ? ['trends'] : []), ...((r.spec.value as { spectrum?: unknown }).spectrum ? ['spectra'] : [])].map((t) => `${t}.parquet`).join(', ')})`, `  quality: ${r.out}/quality.html (and quality.json)`, `  run:     ${r.out}/run.json`);

@@ -14,7 +14,8 @@ import { outputTables } from './output-tables.js';
 import { countRecording, emptyTotals, failGroupsOf, qualityRecording, type QualityRecording, type QualityTotals } from './quality.js';
 import { addFailGroups, flagKey, isNewFlag, type EarlierFlags, type FailGroup } from './quality-news.js';
 import { NEEDS_A_LOOK } from '../../stages/quality/flag.js';
-import { channelSection, noteLine, overviewRow } from './report-html.js';
+import { foldCells, noteLine, overviewRow } from './report-html.js';
+import { addFolds, cutRows, foldsOf, type FlagFold } from './flag-folds.js';
 import { jsonPieces } from './staged.js';
 import { TextBytes } from './text-bytes.js';
 import { slicePieces } from './slice-pieces.js';
@@ -45,9 +46,6 @@ function tablesOf(task: SliceTask): Record<string, TableColumn[]> {
 /** A channel that may be pictured: the first few not ok of the whole run, in the report's order, are. */
 export interface Candidate { at: Place; recording: string; channel: string }
 
-/** A channel's section of quality.html: its length in the slice's sections (UTF-8 bytes), and what orders it in the report. */
-export interface SectionKey { bytes: number; new: boolean; severity: 'fail' | 'warn'; start_ms: number | null; candidate: Candidate }
-
 /** The slice's texts and tables travel as bytes, moved to the main thread rather than copied. */
 export interface SliceOutput {
   /** Arrow IPC stream of features' rows (and spectra's); null where the slice has none. */
@@ -59,10 +57,10 @@ export interface SliceOutput {
   /** The recordings' parts of quality.json, each after a separator (the first one's is dropped), as UTF-8. */
   quality: Uint8Array;
   recordings: number;
-  /** quality.html pieces as JSON lines (UTF-8): overview rows, and the sections of channels that fail or warn, one key each in `sectionKeys`. */
+  /** quality.html's overview rows as JSON lines (UTF-8). */
   overview: Uint8Array;
-  sections: Uint8Array;
-  sectionKeys: SectionKey[];
+  /** The flags at warn or fail gathered per channel and flag (flag-folds.ts): quality.html's entries, each holding at most its newest rows. */
+  folds: FlagFold[];
   /** quality.html rows of the notes on channels otherwise ok, as JSON lines (UTF-8). */
   notes: Uint8Array;
   totals: QualityTotals;
@@ -103,11 +101,11 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const features = new TableRows(featureColumns);
   const gathered = Object.fromEntries(Object.entries(secondaryTables).map(([t, columns]) => [t, new RowsGather(columns)]));
   const spectra = spectraColumns ? columnsFor(spectraColumns) : null;
-  const totals = emptyTotals(), fails = new Map<string, FailGroup>(), sectionKeys: SectionKey[] = [], channelRecordings: Record<string, number> = {}, flagged: SliceOutput['flagged'] = {};
+  const totals = emptyTotals(), fails = new Map<string, FailGroup>(), folds = new Map<string, FlagFold>(), channelRecordings: Record<string, number> = {}, flagged: SliceOutput['flagged'] = {};
   let failCount = 0, recordings = 0;
   const names = new Set<string>();
   // Texts go to bytes piece by piece, so nothing the size of the slice stays on the heap as strings.
-  const quality = new TextBytes(), overview = new TextBytes(), sections = new TextBytes(4 << 10), notes = new TextBytes(4 << 10);
+  const quality = new TextBytes(), overview = new TextBytes(), notes = new TextBytes(4 << 10);
   const assembly = assemblyOf(task.spec);
   await withRecords(async (read) => {
     for (const { at, recording, group, labels } of task.items) {
@@ -127,18 +125,13 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
       const failed = failGroupsOf(q, Number.isFinite(startMs) ? startMs : null);
       failCount += failed.length;
       addFailGroups(fails, failed);
+      addFolds(folds, foldsOf(q, at, Number.isFinite(startMs) ? startMs : null, foldCells));
       for (const c of q.channels) names.add(c.channel);
       for (const c of q.channels) {
         const k = flagKey(q.group, c.channel, '');
         channelRecordings[k] = (channelRecordings[k] ?? 0) + 1;
         for (const f of c.flags) if (f.severity === 'fail' || (f.severity === 'warn' && flagged[flagKey(q.group, c.channel, f.name)] !== 'fail')) flagged[flagKey(q.group, c.channel, f.name)] = f.severity;
-        if (!NEEDS_A_LOOK.has(c.severity)) {
-          for (const f of c.flags) if (f.severity === 'note') notes.add(JSON.stringify(noteLine(q.recording, c.channel, f)) + '\n');
-          continue;
-        }
-        const fresh = c.flags.some((f) => f.new);
-        const bytes = sections.add(JSON.stringify(channelSection(q.recording, c, fresh)) + '\n');
-        sectionKeys.push({ bytes, new: fresh, severity: c.severity as 'fail' | 'warn', start_ms: Number.isFinite(startMs) ? startMs : null, candidate: { at, recording, channel: c.channel } });
+        if (!NEEDS_A_LOOK.has(c.severity)) for (const f of c.flags) if (f.severity === 'note') notes.add(JSON.stringify(noteLine(q.recording, c.channel, f)) + '\n');
       }
     }
   });
@@ -150,7 +143,7 @@ export async function assembleSlice(task: SliceTask): Promise<SliceOutput> {
   const held = Object.values(gathered).flatMap((g) => [...g.held].map((b) => new Uint8Array(b)));
   if (spectraColumns) tables.spectra = spectra!.recording.length ? arrow.tableToIPC(columnsTable(spectraColumns, spectra!, {}, false), 'stream') : null;
   return {
-    tables, rows, held, quality: quality.done(), recordings, overview: overview.done(), sections: sections.done(), sectionKeys, notes: notes.done(),
+    tables, rows, held, quality: quality.done(), recordings, overview: overview.done(), folds: [...folds.values()].map((f) => cutRows(f)), notes: notes.done(),
     totals, fails: [...fails.values()], failCount, channelRecordings, flagged, channels: [...names],
   };
 }
