@@ -29,6 +29,7 @@ import { thresholdsOf } from './quality/flag.js';
 import { offset } from './quality/offset.js';
 import { peakCapture } from './quality/peak-capture.js';
 import { pulseTrain } from './quality/pulse-train.js';
+import { repeatedBlocks } from './quality/repeated-blocks.js';
 import { resolution } from './quality/resolution.js';
 import { saturation } from './quality/saturation.js';
 import { spikes } from './quality/spikes.js';
@@ -36,7 +37,7 @@ import { spikes } from './quality/spikes.js';
 export interface ActiveStage { definition: StageDefinition<any>; options: any; only: ChannelSelector | undefined }
 
 /** The quality flags, in report order: they run on every channel whatever the spec. */
-const QUALITY_STAGES = [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, offset, spikes, declaration, pulseTrain, evidence];
+const QUALITY_STAGES = [saturation, aliasing, resolution, peakCapture, flatline, noiseFloor, dropout, repeatedBlocks, offset, spikes, declaration, pulseTrain, evidence];
 
 /** Every stage `activeStages` may turn on, in column order: what each declares (its section, whether it is spectral) is read from here. */
 export const STAGES: readonly StageDefinition<any>[] = [
@@ -128,7 +129,7 @@ export function activeStages(spec: ReductionSpec): ActiveStage[] {
 }
 
 /** Flag names in report order. */
-export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'offset', 'spikes', 'declaration', 'pulse_train', 'velocity_low_edge'] as const;
+export const FLAG_NAMES = ['saturation', 'aliasing', 'resolution', 'peak_capture', 'flatline', 'noise_floor', 'dropout', 'repeated_blocks', 'offset', 'spikes', 'declaration', 'pulse_train', 'velocity_low_edge'] as const;
 
 export function featureColumns(spec: ReductionSpec): ColumnSpec[] {
   return activeStages(spec).flatMap((s) => s.definition.columns(s.options));

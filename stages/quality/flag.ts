@@ -54,6 +54,7 @@ export interface QualityThresholds {
   flatline: { fail_steps: number; warn_run_s: number; warn_stuck_s: number; stuck_repeat_fraction: number; stuck_stretch_s: number; warn_stuck_fraction: number };
   noise_floor: { warn_db: number; fail_db: number; window_s: number; converter_floor_steps: number; live_above_db: number };
   dropout: { fail_missing_fraction: number; warn_missing_fraction: number; warn_zero_run_s: number; warn_gap_s: number; fail_gap_s: number; warn_spectrum_coverage: number };
+  repeated_blocks: { periodic_fraction: number };
   offset: { quantities: string[]; warn_ratio: number; warn_drift_ratio: number; warn_rms_excess: number; warn_above_wander: number };
   spikes: { robust_sigmas: number; fail_fraction: number };
   declaration: { duration_tolerance: number };
@@ -115,6 +116,10 @@ export const QUALITY_DEFAULTS: QualityThresholds = {
   // Gaps that leave the spectrum's segments (or its one longest gap-free stretch) spanning under half of the recording make
   // the spectral figures those of the lesser part of it (warn). Our choice.
   dropout: { fail_missing_fraction: 0.01, warn_missing_fraction: 0.001, warn_zero_run_s: 0.1, warn_gap_s: 0.125, fail_gap_s: 1, warn_spectrum_coverage: 0.5 },
+  // Measured data never repeats a block of 64 samples or more exactly (converter noise; common practice): a stretch that does is a
+  // block sent again, lost data counted as measured (warn). A signal repeating at one lag over 90 % of the recording is made, not
+  // measured (a tone locked to the sampling, a looped file): said, not warned (our choice).
+  repeated_blocks: { periodic_fraction: 0.9 },
   // Piezoelectric accelerometers and microphones pass no DC (common practice). An offset of r standard deviations raises RMS by
   // √(1 + r²) − 1, 5 % at r = 0.32; a drift whose fitted line rises d standard deviations (of the signal around it) across the
   // recording by √(1 + d²/12) − 1, 5 % at d = 1.1 (derived). Together, with a step of the 1 s means, they warn where RMS reads
