@@ -262,7 +262,7 @@ async function main(argv: string[]): Promise<number> {
         const late = record.period?.late_arrivals, renewed = record.period?.recomputed_for_baselines;
         progress.event?.('summary', {
           ...record.counts, seconds: record.timings.total_s, quality: quality.totals.channels, changes, quiet_groups: quietGroupsOf(record),
-          ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed } } : {}),
+          ...(late ? { late_arrivals: { count: late.count, reduced: late.reduced, failed: late.failed, earlier: (late.earlier?.count ?? 0) + (late.earlier?.unlisted ?? 0) } } : {}),
           ...(record.period?.gap ? { gap: { count: record.period.gap.count, earliest_start: record.period.gap.earliest_start, latest_start: record.period.gap.latest_start } } : {}),
           ...(renewed ? { recomputed_for_baselines: { count: renewed.count, failed: renewed.failed } } : {}),
           lock: record.lock, store: { damaged: record.store.damaged, ...(record.store.cut_short.length ? { cut_short: record.store.cut_short } : {}) }, exit_code: ending.code,

@@ -26,6 +26,7 @@ import { decidedReducer } from './reduce/reduce-decided.js';
 import { choosePeriod, leftOutOfScan, periodRecord, splitTaken } from './select/choose-period.js';
 import { scan, type ScannedRecording } from './select/scan.js';
 import { coverEnd } from './select/period-gap.js';
+import { bookAfter } from './select/pending-late.js';
 import { shardOf, type Shard } from './select/select.js';
 import { Store } from './store/store.js';
 import type { TrendsBasis, TrendsWrite } from './trends/trends.js';
@@ -183,7 +184,10 @@ export async function runReduce(o: ReduceOptions): Promise<{ record: RunRecord; 
     await writeRunRecord(outDir, shard ? `parts/run-${shard.k}-of-${shard.n}.json` : 'run.json', record);
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
-    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)]), o.since ?? null, o.until ?? null));
+    // The late arrivals no finished run's tables hold: this run's added, those its own tables hold taken off (a shard's count once merged).
+    const tables = shard ? null : { from: o.since ?? -Infinity, to: coverEnd(scanStartedMs, o.until ?? null) };
+    const lateBook = bookAfter(period.book, late.map((l) => ({ recording: l.file.recording, start: l.start })), (r) => (inArchive.has(r) ? period.startsNow.get(r) ?? null : undefined), scanStartedMs, tables);
+    await writing(s.own!, () => s.markScanned(scanStartedMs, leftOutOfScan(share, stored, period, late, [...left, ...setAside.map((r) => r.recording)]), o.since ?? null, o.until ?? null, lateBook));
     failed = false;
     return { record, quality: written.quality, threadsGivenUp: reducer.threadsGivenUp() };
   } finally {

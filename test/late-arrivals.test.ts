@@ -60,7 +60,7 @@ describe('a night copied into the archive after the nightly runs that covered it
     const r = reduce(archive, out, '--since', day(5), '--log', 'json');
     expect(r.code).toBe(0);
     expect(JSON.parse(r.stderr.trim().split('\n').at(-1)!)).toMatchObject({ event: 'summary', late_arrivals: { count: 1, reduced: true, failed: 0 } });
-    expect(r.stdout).toContain("  LATE    1 late arrival (a recording starting before this period that came in after the previous run, started 2026-11-01T02:00:00.000Z): reduced for the trends' history, and kept out of this period's tables; see run.json (period.late_arrivals)");
+    expect(r.stdout).toContain("  LATE    1 late arrival (a recording starting before this period that came in after the previous run, started 2026-11-01T02:00:00.000Z): reduced for the trends' history, and kept out of this period's tables; named on every --since run until a run's tables hold it: run once without --since, or with --since 2026-11-01T02:00:00.000Z or earlier, to put it in the tables; see run.json (period.late_arrivals)");
     const run = readJson(join(out, 'run.json'));
     expect(run.period.late_arrivals).toEqual({
       count: 1, earliest_start: '2026-11-01T02:00:00.000Z', latest_start: '2026-11-01T02:00:00.000Z', reduced: true, failed: 0,
@@ -82,10 +82,10 @@ describe('a night copied into the archive after the nightly runs that covered it
     expect(Number(nightly.find((x) => x.feature === 'rms')!.baseline)).toBe(median3([1, 2, 3].map((n) => rms[name(n)])));
     expect(median3([1, 2, 3].map((n) => rms[name(n)]))).not.toBe(median3([2, 3, 4].map((n) => rms[name(n)])));
 
-    // The night after, nothing new: no late arrival, nothing computed, no line.
+    // The night after, nothing new: no late arrival, nothing computed; night 1 is named again, as in no period's tables yet.
     const again = reduce(archive, out, '--since', day(5));
     expect(again.code).toBe(0);
-    expect(again.stdout).not.toMatch(/LATE/);
+    expect(again.stdout).toMatch(/  LATE    1 late arrival found by earlier runs \(started 2026-11-01T02:00:00\.000Z; rig\/2026-11-01\.wav\) is in no period's tables yet/);
     const quiet = readJson(join(out, 'run.json'));
     expect(quiet.period.late_arrivals).toMatchObject({ count: 0, earliest_start: null, latest_start: null, recordings: [] });
     expect(quiet.counts.recomputed).toBe(0);
@@ -164,15 +164,17 @@ describe('a night copied into the archive after the nightly runs that covered it
     utimesSync(cut, then, then);
     const r = reduce(archive, out, '--since', day(5));
     expect(r.code).toBe(1);
-    expect(r.stdout).toMatch(/  LATE    1 late arrival .*; 1 failed; see run.json/);
+    expect(r.stdout).toMatch(/  LATE    1 late arrival .*; 1 failed; named on every --since run until .*; see run.json/);
     expect(r.stdout).toMatch(new RegExp(`  FAILED  ${name(1)} \\(a late arrival\\): .+`));
     const late = readJson(join(out, 'run.json')).period.late_arrivals;
     expect(late).toMatchObject({ count: 1, failed: 1, recordings: [{ recording: name(1), status: 'failed' }] });
     expect(late.recordings[0].reason).toEqual(expect.any(String));
-    // A failure is stored: the retry rules hold it, as for any recording that failed.
+    // A failure is stored: the retry rules hold it, as for any recording that failed; it is named as in no period's tables, not as failed again.
     const next = reduce(archive, out, '--since', day(5));
     expect(next.code).toBe(0);
-    expect(readJson(join(out, 'run.json')).period.late_arrivals.count).toBe(0);
+    const again = readJson(join(out, 'run.json')).period.late_arrivals;
+    expect(again.count).toBe(0);
+    expect(again.earlier).toMatchObject({ count: 1, unlisted: 0, recordings: [{ recording: name(1), status: 'failed' }] });
   }, 120_000);
 
   it('shards reduce the late arrivals of their share, and quern merge names them all and holds the history a fresh run holds', async () => {
@@ -194,4 +196,67 @@ describe('a night copied into the archive after the nightly runs that covered it
     expect(reduce(archive, fresh, '--quiet').code).toBe(0);
     expect(await trendRows(out)).toEqual(await trendRows(fresh, `recording in ('${name(5)}', '${name(6)}')`));
   }, 180_000);
+
+  it('is named on every --since run after it came until a run its tables hold it in, as the line advises, and then no more', async () => {
+    const { root, archive, add } = archiveOf([2, 3, 4]), out = join(root, 'out');
+    const tabled = async () => (await rows(`select distinct recording from '${out}/features.parquet' order by 1`)).map((x) => x.recording);
+    expect(reduce(archive, out, '--since', day(2), '--quiet').code).toBe(0);
+    // Night N+1: night 5 comes, and night 1 is copied in late: named as found, kept out of the tables.
+    add(5);
+    add(1);
+    const found = reduce(archive, out, '--since', day(5));
+    expect(found.code).toBe(0);
+    expect(found.stdout).toMatch(/  LATE    1 late arrival \(.*\): reduced for the trends' history/);
+    expect(await tabled()).toEqual([name(5)]);
+    // Nights N+2 and N+3: named again each night (terminal, run.json, the JSON log's summary), in no period's tables.
+    for (const n of [6, 7]) {
+      add(n);
+      const r = reduce(archive, out, '--since', day(n), '--log', 'json');
+      expect(r.code).toBe(0);
+      expect(r.stdout).toContain("  LATE    1 late arrival found by earlier runs (started 2026-11-01T02:00:00.000Z; rig/2026-11-01.wav) is in no period's tables yet; run once without --since, or with --since 2026-11-01T02:00:00.000Z or earlier, to put it in the tables; see run.json (period.late_arrivals.earlier)");
+      expect(JSON.parse(r.stderr.trim().split('\n').at(-1)!)).toMatchObject({ event: 'summary', late_arrivals: { count: 0, earlier: 1 } });
+      const late = readJson(join(out, 'run.json')).period.late_arrivals;
+      expect(late).toMatchObject({ count: 0, earlier: { count: 1, unlisted: 0, earliest_start: '2026-11-01T02:00:00.000Z', recordings: [{ recording: name(1), group: 'rig', start_time: '2026-11-01T02:00:00.000Z', status: 'reduced' }] } });
+      expect(await tabled()).toEqual([name(n)]);
+    }
+    // The advised run: its tables hold night 1 (and every night since), and it names none.
+    const taken = reduce(archive, out, '--since', '2026-11-01T02:00:00.000Z');
+    expect(taken.code).toBe(0);
+    expect(taken.stdout).not.toMatch(/LATE/);
+    expect(await tabled()).toEqual([1, 2, 3, 4, 5, 6, 7].map(name));
+    // The nights after: no more.
+    add(8);
+    const after = reduce(archive, out, '--since', day(8));
+    expect(after.code).toBe(0);
+    expect(after.stdout).not.toMatch(/LATE/);
+    expect(readJson(join(out, 'run.json')).period.late_arrivals).not.toHaveProperty('earlier');
+    expect(await tabled()).toEqual([name(8)]);
+  }, 180_000);
+
+  it('found by shards, is named by every merge until a run without --since takes it in, and then by none', async () => {
+    const { root, archive, add } = archiveOf([2, 3, 4]), out = join(root, 'out');
+    const tabled = async () => (await rows(`select distinct recording from '${out}/features.parquet' order by 1`)).map((x) => x.recording);
+    const shards = (...more: string[]) => {
+      for (const k of [1, 2]) expect(quern('reduce', archive, '--out', out, '--shard', `${k}/2`, '--jobs', '1', '--quiet', ...more).code).toBe(0);
+      const m = quern('merge', out, '--jobs', '1');
+      expect(m.code).toBe(0);
+      return m;
+    };
+    shards('--since', day(2));
+    add(5);
+    add(1);
+    expect(shards('--since', day(5)).stdout).toMatch(/  LATE    1 late arrival \(/);
+    add(6);
+    const m = shards('--since', day(6));
+    expect(m.stdout).toContain("  LATE    1 late arrival found by earlier runs (started 2026-11-01T02:00:00.000Z; rig/2026-11-01.wav) is in no period's tables yet");
+    expect(readJson(join(out, 'run.json')).period.late_arrivals.earlier).toMatchObject({ count: 1, recordings: [{ recording: name(1) }] });
+    expect(await tabled()).toEqual([name(6)]);
+    // A whole run without --since takes every recording in; the shards' next night names nothing late.
+    expect(reduce(archive, out, '--quiet').code).toBe(0);
+    expect(await tabled()).toEqual([1, 2, 3, 4, 5, 6].map(name));
+    add(7);
+    const next = shards('--since', day(7));
+    expect(next.stdout).not.toMatch(/LATE/);
+    expect(readJson(join(out, 'run.json')).period.late_arrivals).not.toHaveProperty('earlier');
+  }, 240_000);
 });

@@ -21,7 +21,8 @@ import { UsageError } from '../declare/yaml-file.js';
 import { mergeCommand } from '../rerun-command.js';
 import { arrivalsDuringShards, scannedOverall } from './arrivals.js';
 import { currentCount, missingShards, specProblem, staleCountProblem, unfinishedShards, versionProblem } from './shard-parts.js';
-import { keepMergeCover, Store } from '../store/store.js';
+import { keepMergeCover, keepMergeLate, Store } from '../store/store.js';
+import { bookAfter } from '../select/pending-late.js';
 import { trendOptions } from '../trends/options.js';
 import { stageTrends } from '../trends/trends.js';
 import { quietByCadence, shardOf, type CaptureDue, type QuietGroup } from '../select/select.js';
@@ -103,7 +104,13 @@ export async function runMerge(out: string, { jobs, storageMs = 5 * 60_000, stan
     await written.keep();
     stop.now(written.rewritten ? 'written' : 'unchanged');
     // What the merged tables hold: from the parts' latest --since to the earliest end among them (parts written before they kept it: nothing said).
-    if (parts.every((p) => p.covered_until)) await keepMergeCover(outDir, Math.max(...parts.map((p) => p.period?.since ?? -Infinity)), Math.min(...parts.map((p) => Date.parse(p.covered_until!))));
+    if (parts.every((p) => p.covered_until)) {
+      const from = Math.max(...parts.map((p) => p.period?.since ?? -Infinity)), to = Math.min(...parts.map((p) => Date.parse(p.covered_until!)));
+      await keepMergeCover(outDir, from, to);
+      // The late arrivals the merged tables do not hold, as of this merge: the shards' lists, those the tables hold taken off.
+      const present = presentOverall(parts, store);
+      await keepMergeLate(outDir, bookAfter((await store.scanMarks()).late, [], (r) => (present.has(r) ? null : undefined), started.getTime(), { from, to }));
+    }
     failed = false;
     return { record, quality: written.quality };
   } finally {

@@ -7,6 +7,7 @@ import type { Store } from '../store/store.js';
 import type { Cover } from './covered-stretches.js';
 import { arrivalsBefore, lateArrivalsRecord } from './late-arrivals.js';
 import { gapBefore, gapRecord } from './period-gap.js';
+import type { LateBook } from './pending-late.js';
 import type { ScannedRecording } from './scan.js';
 import { byStartTime, type CaptureDue, type QuietGroup, type Shard } from './select.js';
 
@@ -23,6 +24,12 @@ export interface Period {
   due: CaptureDue[];
   /** Late arrivals found (only with --since). */
   arrived: Arrival[];
+  /** Late arrivals earlier runs found that no finished run's tables hold yet, outside this period (only with --since). */
+  earlier: Arrival[];
+  /** The late arrivals in no finished run's tables as the marks say now (null: none said). */
+  book: LateBook | null;
+  /** Each recording's start where the run read them (with --since or --until). */
+  startsNow: ReadonlyMap<string, number>;
   /** Recordings starting before `since` in a stretch no finished run before covered: in no period's tables (only with --since). */
   gap: { file: ScannedRecording; start: number }[];
   /** The stretches of starts the finished runs before put in the tables (null: none said). */
@@ -39,13 +46,17 @@ export async function choosePeriod(share: ScannedRecording[], groups: GroupDecla
   let quiet: QuietGroup[] = [], due: CaptureDue[] = [];
   if (since != null || until != null) ({ chosen, quiet, due, starts } = await byStartTime(share, groups, (r) => store.knownStart(r), since ?? -Infinity, until ?? Infinity));
   // Found from the starts just taken; without --until they are decided too, and reduced where that has work.
-  const marks = since != null ? await store.scanMarks() : null;
-  const arrived = since != null ? arrivalsBefore(share, starts, since, marks!, (r) => store.get(r) != null) : [];
-  const cover = marks?.cover ?? null;
+  const marks = await store.scanMarks();
+  const arrived = since != null ? arrivalsBefore(share, starts, since, marks, (r) => store.get(r) != null) : [];
+  const cover = since != null ? marks.cover : null;
+  const inPeriod = new Set(chosen.map((r) => r.recording));
+  // Named on every --since run until a finished run's tables take them in.
+  const earlier: Arrival[] = [];
+  if (since != null && marks.late) share.forEach((r, i) => { if (marks.late!.listed.has(r.recording) && !inPeriod.has(r.recording)) earlier.push({ file: r, start: starts[i] }); });
   const gap = since != null ? gapBefore(share, starts, since, cover) : [];
   const reduceLate = until == null;
   const toDecide = reduceLate && arrived.length ? [...chosen, ...arrived.map((l) => l.file)] : chosen;
-  return { since, until, chosen, inPeriod: new Set(chosen.map((r) => r.recording)), quiet, due, arrived, gap, cover, reduceLate, toDecide };
+  return { since, until, chosen, inPeriod, quiet, due, arrived, earlier, book: marks.late, startsNow: new Map(starts.map((t, i) => [share[i].recording, t])), gap, cover, reduceLate, toDecide };
 }
 
 /**
@@ -68,11 +79,17 @@ export function periodRecord<R extends object>(p: Period, late: Arrival[], group
   return {
     since: p.since, until: p.until, selected: p.chosen.length, quiet_groups: p.quiet, ...(shard && p.due.length ? { capture_due: p.due } : {}),
     // Those left to settle are named there, and are late arrivals again for the next run.
-    ...(p.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, p.reduceLate, outcome) } : {}),
+    ...(p.since != null ? { late_arrivals: lateArrivalsRecord(late, groupNames, p.reduceLate, outcome, earlierOnly(p.earlier, late), p.book?.unlisted?.count ?? 0) } : {}),
     // Named by every --since run until a finished run's period takes it in: the marks keep the stretches the tables covered.
     ...(p.gap.length ? { gap: gapRecord(p.gap, p.cover, groupNames) } : {}),
     ...renewed,
   };
+}
+
+/** The late arrivals earlier runs found, but those this run names among its own. */
+function earlierOnly(earlier: readonly Arrival[], late: readonly Arrival[]): Arrival[] {
+  const named = new Set(late.map((l) => l.file.recording));
+  return earlier.filter((l) => !named.has(l.file.recording));
 }
 
 /**

@@ -19,6 +19,20 @@ export interface LateArrivals {
   /** Of those reduced, how many failed (each with its reason below). */
   failed: number;
   recordings: LateArrival[];
+  /** Late arrivals earlier runs found that no finished run's tables hold yet (absent: none). */
+  earlier?: EarlierLate;
+}
+
+/**
+ * Late arrivals earlier runs found and no finished run's tables hold yet, named on every --since run until one takes them in:
+ * how many, their starts, each one listed (with what its stored reduction gave), and how many the marks count without listing.
+ */
+export interface EarlierLate {
+  count: number;
+  earliest_start: string | null;
+  latest_start: string | null;
+  recordings: LateArrival[];
+  unlisted: number;
 }
 
 /**
@@ -41,13 +55,27 @@ export function arrivalsBefore(recordings: readonly ScannedRecording[], starts: 
   return late;
 }
 
-/** The record of the late arrivals found; `outcome` gives a reduced one's status and reason (undefined: not reduced in this run). */
-export function lateArrivalsRecord(late: readonly { file: ScannedRecording; start: number }[], groupNames: readonly string[], reduced: boolean, outcome: (recording: string) => { status: 'reduced' | 'failed'; reason?: string } | undefined): LateArrivals {
-  const recordings = [...late].sort((a, b) => a.start - b.start || (a.file.recording < b.file.recording ? -1 : 1)).map(({ file, start }): LateArrival => {
-    const o = reduced ? outcome(file.recording) : undefined;
+type Outcome = (recording: string) => { status: 'reduced' | 'failed'; reason?: string } | undefined;
+
+/** Late arrivals as run.json lists them, by start; with `outcome`, what each one's stored reduction gave. */
+function listed(late: readonly { file: ScannedRecording; start: number }[], groupNames: readonly string[], outcome: Outcome | null): LateArrival[] {
+  return [...late].sort((a, b) => a.start - b.start || (a.file.recording < b.file.recording ? -1 : 1)).map(({ file, start }): LateArrival => {
+    const o = outcome?.(file.recording);
     return { recording: file.recording, group: groupNames[file.group], start_time: new Date(start).toISOString(), ...(o ? { status: o.status, ...(o.reason ? { reason: o.reason } : {}) } : {}) };
   });
-  return withCounts(recordings, reduced);
+}
+
+/**
+ * The record of the late arrivals found; `outcome` gives a reduced one's status and reason (undefined: not reduced in this
+ * run); `earlier` and `unlisted`, those earlier runs found that no finished run's tables hold yet.
+ */
+export function lateArrivalsRecord(late: readonly { file: ScannedRecording; start: number }[], groupNames: readonly string[], reduced: boolean, outcome: Outcome, earlier: readonly { file: ScannedRecording; start: number }[] = [], unlisted = 0): LateArrivals {
+  const before = listed(earlier, groupNames, outcome);
+  return { ...withCounts(listed(late, groupNames, reduced ? outcome : null), reduced), ...(before.length || unlisted ? { earlier: earlierCounts(before, unlisted) } : {}) };
+}
+
+function earlierCounts(recordings: LateArrival[], unlisted: number): EarlierLate {
+  return { count: recordings.length, earliest_start: recordings[0]?.start_time ?? null, latest_start: recordings.at(-1)?.start_time ?? null, recordings, unlisted };
 }
 
 function withCounts(recordings: LateArrival[], reduced: boolean): LateArrivals {
@@ -61,19 +89,41 @@ function withCounts(recordings: LateArrival[], reduced: boolean): LateArrivals {
 export function combinedLateArrivals(parts: readonly (LateArrivals | undefined)[]): LateArrivals | undefined {
   const found = parts.filter((p): p is LateArrivals => p != null);
   if (!found.length) return undefined;
-  const recordings = found.flatMap((p) => p.recordings).sort((a, b) => (a.start_time < b.start_time ? -1 : a.start_time > b.start_time ? 1 : a.recording < b.recording ? -1 : 1));
-  return withCounts(recordings, found.every((p) => p.reduced));
+  const byStart = (a: LateArrival, b: LateArrival) => (a.start_time < b.start_time ? -1 : a.start_time > b.start_time ? 1 : a.recording < b.recording ? -1 : 1);
+  const recordings = found.flatMap((p) => p.recordings).sort(byStart);
+  // Each shard names those of its share; the count without a list is the marks' one, which every shard read.
+  const earlier = found.flatMap((p) => p.earlier?.recordings ?? []).sort(byStart), unlisted = Math.max(0, ...found.map((p) => p.earlier?.unlisted ?? 0));
+  return { ...withCounts(recordings, found.every((p) => p.reduced)), ...(earlier.length || unlisted ? { earlier: earlierCounts(earlier, unlisted) } : {}) };
 }
 
-/** The terminal's lines on late arrivals: how many and when they start, what became of them, and each one that failed. */
+/** The way to put late arrivals starting from `earliest` into the tables. */
+const takeIn = (earliest: string | null, one: boolean) => `run once without --since, or with --since ${earliest} or earlier, to put ${one ? 'it' : 'them'} in the tables`;
+
+/** The terminal's lines on late arrivals: this run's, then those earlier runs found that no finished run's tables hold yet. */
 export function lateArrivalLines(l: LateArrivals): string[] {
+  return [...foundLines(l), ...earlierLines(l.earlier)];
+}
+
+/** This run's late arrivals: how many and when they start, what became of them, and each one that failed. */
+function foundLines(l: LateArrivals): string[] {
   if (!l.count) return [];
   const which = `${l.count} late ${l.count === 1 ? 'arrival' : 'arrivals'} (${l.count === 1 ? 'a recording' : 'recordings'} starting before this period that came in after the previous run, ${l.earliest_start === l.latest_start ? `started ${l.earliest_start}` : `started ${l.earliest_start} to ${l.latest_start}`})`;
   const what = l.reduced
-    ? `reduced for the trends' history, and kept out of this period's tables${l.failed ? `; ${l.failed} failed` : ''}`
+    ? `reduced for the trends' history, and kept out of this period's tables${l.failed ? `; ${l.failed} failed` : ''}; named on every --since run until a run's tables hold ${l.count === 1 ? 'it' : 'them'}: ${takeIn(l.earliest_start, l.count === 1)}`
     : 'not reduced, as --until bounds this run, so the trends\' history lacks them; run once with --since alone (or without --since) to reduce them';
   return [
     `  LATE    ${which}: ${what}; see run.json (period.late_arrivals)`,
     ...l.recordings.filter((r) => r.status === 'failed').map((r) => `  FAILED  ${r.recording} (a late arrival): ${r.reason}`),
   ];
+}
+
+/** Late arrivals earlier runs found that no finished run's tables hold yet: how many, when they start, how to take them in. */
+function earlierLines(e: EarlierLate | undefined): string[] {
+  if (!e || !(e.count + e.unlisted)) return [];
+  const n = e.count + e.unlisted, one = n === 1;
+  const named = e.recordings.slice(0, 3).map((r) => r.recording).join(', ') + (e.count > 3 ? ', …' : '');
+  const starts = e.count ? (e.earliest_start === e.latest_start ? `started ${e.earliest_start}` : `started ${e.earliest_start} to ${e.latest_start}`) + `; ${named}` : '';
+  const more = e.unlisted ? `${e.count ? '; ' : ''}${e.unlisted} more the marks count without listing` : '';
+  const how = !e.unlisted ? takeIn(e.earliest_start, one) : 'run once without --since to put them in the tables';
+  return [`  LATE    ${n} late ${one ? 'arrival' : 'arrivals'} found by earlier runs (${starts}${more}) ${one ? 'is' : 'are'} in no period's tables yet; ${how}; see run.json (period.late_arrivals.earlier)`];
 }

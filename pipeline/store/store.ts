@@ -10,6 +10,7 @@ import { lostPast, packCut, type CutPack, type PackCut } from './pack-cut.js';
 import { encodeRecord, recordBody, type EntryFacts, type Identity } from './record.js';
 import { coverEnd } from '../select/period-gap.js';
 import { coverWith, joinCovers, keptCover, readCover, type Cover } from '../select/covered-stretches.js';
+import { keptBook, readBook, standingBook, type LateBook } from '../select/pending-late.js';
 
 export const cacheDir = (out: string) => join(out, 'cache');
 export const packName = (shard: { k: number; n: number } | null) => (shard ? `entries-${shard.k}-of-${shard.n}.pack` : 'entries.pack');
@@ -19,12 +20,15 @@ const SCAN_MARK = '.scanned';
 const MARK = /^entries(-\d+-of-\d+)?\.pack\.scanned$/;
 /** What quern merge's finished merges covered: the stretches of starts their tables held (shards' parts count only once merged). */
 const MERGE_COVER = 'merged.covered';
+/** The late arrivals no finished run's tables held after the latest merge (pending-late.ts). */
+const MERGE_LATE = 'merged.late';
 
 /**
  * What earlier runs saw (`Store.scanMarks`); `latestMs` null: no run said (a new output folder, or cache/ deleted). `cover`:
  * the stretches of starts the finished whole runs and merges put in the tables (null: none said), for the gaps before a period.
+ * `late`: the late arrivals no finished run's tables held yet (null: none said).
  */
-export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number>; cover: Cover | null }
+export interface ScanMarks { latestMs: number | null; leftOut: ReadonlyMap<string, number>; cover: Cover | null; late: LateBook | null }
 
 /** A pack holding more superseded bytes than this, and more than it holds live, is rewritten. */
 const COMPACT_AFTER_BYTES = 4 << 20;
@@ -53,6 +57,11 @@ export async function keepMergeCover(out: string, fromMs: number, untilMs: numbe
   const file = join(cacheDir(out), MERGE_COVER);
   const before = await readFile(file, 'utf8').then((t) => readCover(JSON.parse(t)), () => null);
   await writeFileAtomic(file, JSON.stringify(keptCover(coverWith(before, fromMs, untilMs))) + '\n');
+}
+
+/** Keeps the late arrivals no finished run's tables held once a merge has finished (the merge's own view, `bookAfter`). */
+export async function keepMergeLate(out: string, book: LateBook): Promise<void> {
+  await writeFileAtomic(join(cacheDir(out), MERGE_LATE), JSON.stringify(keptBook(book)) + '\n');
 }
 
 export class Store {
@@ -114,6 +123,9 @@ export class Store {
     const leftOut = new Map<string, number>();
     // A shard's part counts once merged: the merge keeps its cover, a whole run its own in its mark.
     let cover = await readFile(join(dir, MERGE_COVER), 'utf8').then((t) => readCover(JSON.parse(t)), () => null);
+    const wholeLate: LateBook[] = [], shardLate: LateBook[] = [];
+    const merged = await readFile(join(dir, MERGE_LATE), 'utf8').then((t) => readBook(JSON.parse(t)), () => null);
+    if (merged) wholeLate.push(merged);
     for (const name of names) {
       const mark = await readFile(join(dir, name), 'utf8').then((t) => JSON.parse(t), () => null);
       const ms = Date.parse(mark?.scan_started);
@@ -121,22 +133,26 @@ export class Store {
       if (!Number.isFinite(ms) || !Array.isArray(mark.left_out)) continue;
       latestMs = Math.max(latestMs ?? ms, ms);
       for (const r of mark.left_out) if (typeof r === 'string' && !(leftOut.get(r)! > ms)) leftOut.set(r, ms);
-      if (name === `${packName(null)}${SCAN_MARK}`) cover = joinCovers(cover, coverOf(mark));
+      const whole = name === `${packName(null)}${SCAN_MARK}`;
+      if (whole) cover = joinCovers(cover, coverOf(mark));
+      const book = readBook(mark);
+      if (book) (whole ? wholeLate : shardLate).push(book);
     }
-    return { latestMs, leftOut, cover };
+    return { latestMs, leftOut, cover, late: standingBook(wholeLate, shardLate) };
   }
 
   /**
    * Keeps when this run began its scan and the recordings it saw and left without a stored result, beside its pack,
-   * replaced whole; with the pack's length and entry count, by which the next run tells a pack cut short.
+   * replaced whole; with the pack's length and entry count, by which the next run tells a pack cut short; and the late
+   * arrivals no finished run's tables held after it (`late`).
    */
-  async markScanned(ms: number, leftOut: readonly string[], since: number | null = null, until: number | null = null): Promise<void> {
+  async markScanned(ms: number, leftOut: readonly string[], since: number | null = null, until: number | null = null, late: LateBook | null = null): Promise<void> {
     if (!this.own) return;
     await mkdir(dirname(this.own), { recursive: true });
     // A whole run's tables cover its period up to its scan; what they covered only grows (a bounded run over an old week takes
     // nothing from the nights before it), and a stretch no run covered stays open. A shard's part counts once merged (keepMergeCover).
     const cover = basename(this.own) === packName(null) ? keptCover(coverWith(await readMark(this.own).then(coverOf), since ?? -Infinity, coverEnd(ms, until))) : {};
-    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), ...cover, left_out: leftOut, ...await this.packEnd() }));
+    await writeFileAtomic(`${this.own}${SCAN_MARK}`, JSON.stringify({ scan_started: new Date(ms).toISOString(), ...cover, ...(late ? keptBook(late) : {}), left_out: leftOut, ...await this.packEnd() }));
   }
 
   /** This run's pack's length and sound entries now. */
