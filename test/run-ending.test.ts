@@ -53,7 +53,8 @@ function reducedThenRelabelled() {
   return { archive, out };
 }
 
-describe('a write that fails while the workers still assemble the tables', () => {
+// Each test reduces 120 recordings twice before the run under test: generous time for a machine shared with other work.
+describe('a write that fails while the workers still assemble the tables', { timeout: 360_000 }, () => {
   it('names the file and the cause, exits 2, releases the lock and leaves the outputs and the trends\' kept state as they were', () => {
     const { archive, out } = reducedThenRelabelled();
     const before = snapshot(out);
@@ -97,7 +98,7 @@ async function signalledWhileWriting(archive: string, out: string, signal: NodeJ
   return { code: await ended, sent, stderr, stdout };
 }
 
-describe('a run stopped by a signal', () => {
+describe('a run stopped by a signal', { timeout: 360_000 }, () => {
   for (const signal of ['SIGTERM', 'SIGINT'] as const) {
     it(`${signal}: says so in one line, removes its temporaries, releases the lock, exits as a shell expects, and the next run reuses what was stored`, async () => {
       const { archive, out } = reducedThenRelabelled();
