@@ -1,8 +1,9 @@
 // Noise floor: the channel's level against the measurement chain's own noise, where archive.yaml declares it. A dead or
 // disconnected sensor on a fine converter (24-bit) still reads the chain's noise, many steps wide, which the flatline
 // flag's spread of a few steps never catches; against the declared floor it reads as what it is. Without a declared floor,
-// where the converter's step is known, each window is held against the converter's own floor (a few steps RMS): a sensor
-// that comes loose or loses power partway leaves a stretch there in a channel otherwise far above it.
+// where the converter's step is known, each window is held against the converter's own floor (a few steps RMS). Windows at
+// either floor amid live data are a note naming their stretches: a rest, a hold or a quiet gap between events reads so as
+// much as a sensor that came loose, so such a stretch alone is no evidence of a fault; the longest is named beside the first.
 import type { StageDefinition } from '../stage.js';
 import { momentsOf } from '../fused/moments.js';
 import { TREND_WINDOW_S } from './evidence.js';
@@ -21,13 +22,34 @@ export const aboveFloorDb = (rms: number, floor: number) => 20 * Math.log10(rms 
 export const rmsExcess = (db: number) => (db > 0 ? 1 / Math.sqrt(1 - 10 ** (-db / 10)) - 1 : Infinity);
 
 /**
- * What the figures lose where a share of the windows carries nothing but the floor, if that is a fault: they rest on the
- * rest of the recording, and RMS and band levels read 1 − √(1 − share) below the live part's (derived).
+ * What the figures rest on where a share of the windows carries nothing but the floor: the whole recording, so RMS and band
+ * levels read 1 − √(1 − share) below the live part's alone (derived), the test's own level at a rest, that much low at a fault.
  */
 const restSaid = (t: QuietTally) => {
   const share = t.quiet / t.all;
-  return `the figures rest on the other ${pct(1 - share)} of the recording: where the stretch is a fault, RMS and band levels read ${pct(deadShareShortfall(share))} below the live part's, and the windows' figures there describe the floor, not the machine`;
+  return `the figures take in the whole recording: RMS and band levels read ${pct(deadShareShortfall(share))} below those of its live ${pct(1 - share)} alone, the test's own level where the stretches are rests or holds, that much low where one is a fault; the windows' figures there describe the floor`;
 };
+
+/** The stretches of quiet windows, for a message: how many, the first and the longest with their starts and ends. */
+export function stretchesSaid(t: QuietTally, fs: number): string {
+  const span = (from: number, to: number) => `from ${secs(from / fs)} to ${secs(to / fs)}`;
+  const first = span(t.firstQuietStart, t.firstStretchEnd);
+  if (t.stretches === 1) return `in one stretch ${first}`;
+  if (t.longestStart === t.firstQuietStart) return `in ${t.stretches} stretches, the first and longest ${first}`;
+  return `in ${t.stretches} stretches, the first ${first}, the longest ${span(t.longestStart, t.longestEnd)}`;
+}
+
+/** Where the stretches lie, in seconds, for the evidence. */
+const stretchEvidence = (t: QuietTally, fs: number) => ({
+  quiet_stretches: t.stretches,
+  first_quiet_s: t.quiet ? t.firstQuietStart / fs : null,
+  first_quiet_end_s: t.quiet ? t.firstStretchEnd / fs : null,
+  longest_quiet_s: t.quiet ? t.longestStart / fs : null,
+  longest_quiet_end_s: t.quiet ? t.longestEnd / fs : null,
+});
+
+/** What a stretch at a floor amid live data is: by itself no fault, and what would tell one. */
+const causesSaid = 'a machine at rest, a load held or a quiet gap between events reads so, and so does a sensor that came loose or lost power: by itself no fault; where the test kept the machine running through a stretch, check the sensor, cable and supply';
 
 /** Windows below the floor that hold one value or sit at a rail: named as what they are, by the flags that judge them. */
 const heldSaid = (held: number) => `${held} ${held === 1 ? 'window' : 'windows'} below it held at one value or at a rail, which the flatline, saturation or dropout flag names`;
@@ -71,7 +93,7 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
         const windowS = windowLength / fs;
         const m = shared.moments();
         if (floor == null) return atConverterFloor(m.n, windowS, floorSteps, liveDb);
-        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high) or with a ${secs(windowS)} window below ${failDb} dB`;
+        const threshold = `above the declared noise floor: fail below ${failDb} dB, warn below ${warnDb} dB (RMS ${pct(rmsExcess(warnDb))} high); a note for ${secs(windowS)} windows below ${failDb} dB in a channel above it as a whole`;
         // A pulse train's level says nothing about a floor; a channel without samples is the dropout flag's.
         if (ctx.tacho || m.n === 0) {
           const why = ctx.tacho ? 'not judged on a tacho channel' : NO_FINITE_SAMPLES;
@@ -93,22 +115,22 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
           severity = 'warn';
           message = `${level}: the chain's noise raises RMS and band levels by up to ${pct(rmsExcess(db))} and hides quiet content; use a more sensitive sensor or a finer range, or read the levels as upper bounds`;
         } else if (windows.quiet > 0 && windows.quiet < windows.all) {
-          severity = 'warn';
-          message = `${level} as a whole, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} fell to within ${failDb} dB of the floor, the first from ${secs(windows.firstQuietStart / ctx.sampleRate)}: a connection that comes and goes, or the machine at rest for a while; ${restSaid(windows)}`;
+          severity = 'note';
+          message = `${level} as a whole; ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} within ${failDb} dB of the floor, ${stretchesSaid(windows, ctx.sampleRate)}: ${causesSaid}; ${restSaid(windows)}`;
         } else if (windows.held > 0) {
           message = `${level}; ${heldSaid(windows.held)}`;
         }
-        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: toldExcess(db), windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / ctx.sampleRate : null }, message });
+        ctx.flag({ name: 'noise_floor', severity, value: Number.isFinite(db) ? db : null, threshold, evidence: { noise_floor: floor, rms, above_floor_db: Number.isFinite(db) ? db : null, rms_excess: toldExcess(db), windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, ...stretchEvidence(windows, ctx.sampleRate) }, message });
         return { above_noise_floor_db: Number.isFinite(db) ? db : null };
       },
     };
 
     /**
      * Without a declared floor: windows at the converter's own floor (at most `floorSteps` steps RMS) in a channel whose
-     * other windows stand `liveDb` or more above it, a stretch where the sensor came loose or lost power, or the machine rested.
+     * other windows stand `liveDb` or more above it: a note naming the stretches, a rest or hold as much as a loose sensor.
      */
     function atConverterFloor(n: number, windowS: number, floorSteps: number, liveDb: number) {
-      const threshold = `no noise_floor declared: warn where a ${secs(windowS)} window reads at most ${floorSteps} converter steps RMS (mean removed; the converter's own floor) while the other windows stand ${liveDb} dB or more above that`;
+      const threshold = `no noise_floor declared: a note where a ${secs(windowS)} window reads at most ${floorSteps} converter steps RMS (mean removed; the converter's own floor) while the other windows stand ${liveDb} dB or more above that`;
       if (step == null || ctx.tacho || n === 0) {
         const why = ctx.tacho ? 'not judged on a tacho channel' : n === 0 ? 'no samples to judge' : 'not judged: no noise_floor declared, and no converter step to judge windows by (floating-point samples keep none)';
         ctx.flag({ name: 'noise_floor', severity: 'ok', value: null, threshold, evidence: { noise_floor: null }, message: why });
@@ -119,14 +141,14 @@ export const noiseFloor: StageDefinition<QualityThresholds> = {
       const held = windows.held ? `; ${heldSaid(windows.held)}` : '';
       let severity: Severity = 'ok', message = `no noise_floor declared; none of its ${windows.all} windows of ${secs(windowS)} at ${at}${held}`;
       if (windows.quiet > 0 && liveAbove != null && liveAbove >= liveDb) {
-        severity = 'warn';
-        message = `no noise_floor declared, but ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} sit at ${at}, the first from ${secs(windows.firstQuietStart / fs)}, while the others stand ${liveAbove.toFixed(1)} dB above it: the sensor came loose or lost power, or the machine came to rest below what the converter resolves; check the sensor, cable and supply; ${restSaid(windows)}`;
+        severity = 'note';
+        message = `no noise_floor declared; ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} sit at ${at}, ${stretchesSaid(windows, fs)}, while the others stand ${liveAbove.toFixed(1)} dB above it: ${causesSaid}; ${restSaid(windows)}${held}`;
       } else if (windows.quiet > 0) {
         message = `no noise_floor declared; ${windows.quiet} of its ${windows.all} windows of ${secs(windowS)} at ${at}, ${liveAbove == null ? 'and none above it' : `the others only ${liveAbove.toFixed(1)} dB above it`} (under ${liveDb} dB): a channel quiet throughout, whose steps the resolution and flatline flags judge${held}`;
       }
       ctx.flag({
         name: 'noise_floor', severity, value: null, threshold, message,
-        evidence: { noise_floor: null, converter_floor: floorRms, live_rms: live, live_above_floor_db: liveAbove, windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, first_quiet_s: windows.quiet ? windows.firstQuietStart / fs : null },
+        evidence: { noise_floor: null, converter_floor: floorRms, live_rms: live, live_above_floor_db: liveAbove, windows: windows.all, quiet_windows: windows.quiet, held_windows: windows.held, ...stretchEvidence(windows, fs) },
       });
       return { above_noise_floor_db: null };
     }

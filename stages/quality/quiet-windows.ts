@@ -1,5 +1,5 @@
 // Windows at a floor: a channel's back-to-back windows whose level (RMS about the window's mean) falls below a floor,
-// counted with the first one's start; those held at one value or at a rail are counted apart, since the flatline,
+// counted, with the stretches they make (the first and the longest, so a fault's stretch is named beside a rest's); those held at one value or at a rail are counted apart, since the flatline,
 // saturation and dropout flags name them (a stuck converter, a clipped input, zeros) and a floor would misname them.
 
 export interface QuietTally {
@@ -11,12 +11,32 @@ export interface QuietTally {
   held: number;
   /** Index of the first quiet window's first sample, -1 when none. */
   firstQuietStart: number;
+  /** Stretches of back-to-back quiet windows (a window above the floor, held, or of missing samples only ends one). */
+  stretches: number;
+  /** Sample index past the first stretch's end, -1 when none. */
+  firstStretchEnd: number;
+  /** The longest stretch's first sample and the index past its end (the earliest of equals), -1 when none. */
+  longestStart: number;
+  longestEnd: number;
+  /** The current stretch's first sample and the index past its last quiet window, -1 when none. */
+  stretchStart: number;
+  stretchEnd: number;
   /** Sum of squares about each window's mean, and finite samples, of the windows above the floor. */
   livePower: number;
   liveSamples: number;
 }
 
-export const noQuiet = (): QuietTally => ({ all: 0, quiet: 0, held: 0, firstQuietStart: -1, livePower: 0, liveSamples: 0 });
+export const noQuiet = (): QuietTally => ({
+  all: 0, quiet: 0, held: 0, firstQuietStart: -1, stretches: 0, firstStretchEnd: -1, longestStart: -1, longestEnd: -1, stretchStart: -1, stretchEnd: -1, livePower: 0, liveSamples: 0,
+});
+
+/** Adds the quiet window [start, end) to the stretch it continues, or starts a new one; keeps the first and the longest. */
+export function extendStretch(t: QuietTally, start: number, end: number): void {
+  if (t.stretchEnd !== start) { t.stretches++; t.stretchStart = start; }
+  t.stretchEnd = end;
+  if (t.stretches === 1) t.firstStretchEnd = end;
+  if (t.longestStart < 0 || end - t.stretchStart > t.longestEnd - t.longestStart) { t.longestStart = t.stretchStart; t.longestEnd = end; }
+}
 
 /**
  * Whether a window below the floor holds one value: its largest magnitude equals its mean's, to within a quarter of a
@@ -46,6 +66,7 @@ export function tallyWindow(
   if (holdsOneValue(sum, peak, finite, step) || atRail(mean, floorRms, limits)) { t.held++; return; }
   if (t.quiet === 0) t.firstQuietStart = end - length;
   t.quiet++;
+  extendStretch(t, end - length, end);
 }
 
 /** RMS about their own means of the windows above the floor (0 when none). */
