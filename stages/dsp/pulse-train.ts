@@ -62,6 +62,33 @@ export function nextInterval(older: Intervals, newer: Intervals, last: number, m
   return Math.abs(d / mean - 1) <= most ? d : null;
 }
 
+// Uniform deceleration α from the rate q at the last good pulse turns q·d − α·d²/2 pulses in d (kinematics of uniform
+// acceleration), so an interval d of one pulse implies α₁ = 2(q·d − 1)/d²; one of two pulses (one missing) implies α + 2/d², and
+// since the shaft must still turn both, q·d ≤ 4 and α₁ ≥ 1.5 α: a missing pulse reads at least half as fast again as the trend.
+/** The deceleration (pulses per unit time²) an interval d of one pulse after `last` implies, and the trend's, from the rate's line through `older` and `newer`; null without a trend. */
+export function impliedDeceleration(older: Intervals, newer: Intervals, last: number, d: number): { implied: number; trend: number } | null {
+  const n = rateOf(newer), s = rateSlope(older, newer);
+  if (s == null) return null;
+  const q = n.rate + s * (last - n.centre);
+  return q > 0 ? { implied: (2 * (q * d - 1)) / (d * d), trend: -s } : null;
+}
+
+/**
+ * The band of the trend's deceleration a last interval's implied one may take to be a shaft coming to rest (our choice): above,
+ * by the tolerance a pulse is held to, below the 1.5 a missing pulse gives at the least; below, to half of it, as friction and
+ * windage fade with the speed.
+ */
+const TO_REST = { least: 0.5, most: 1.25 };
+
+/**
+ * Whether an interval d after the pulse at `last`, longer than the pulse tolerance allows and the last of the train, is the
+ * shaft's last pulse as it slows to rest: the last two revolutions slowing, and d implying a deceleration within TO_REST of theirs.
+ */
+export function slowsToRest(older: Intervals, newer: Intervals, last: number, d: number, band = TO_REST): boolean {
+  const a = impliedDeceleration(older, newer, last, d);
+  return a != null && a.trend > 0 && a.implied >= band.least * a.trend && a.implied <= band.most * a.trend;
+}
+
 /** The longest run of good intervals each starting where the one before ended (the earliest of equals). */
 function longestRun(found: Intervals): Intervals {
   let best: Intervals = [], run: Intervals = [];
@@ -119,6 +146,8 @@ export class PulseTrain {
   private readonly recent: number[] = [];
   /** The last two revolutions' good intervals, for the speed's trend. */
   private readonly history: Intervals = [];
+  /** A pulse after a long interval that a shaft slowing to rest gives as its last: good if the train ends there, judged as before if another pulse comes. */
+  private stopping = Number.NaN;
 
   constructor(private readonly pulsesPerRev: number, private readonly sink: PulseSink, private readonly tolerance = 0.25) {}
 
@@ -131,10 +160,16 @@ export class PulseTrain {
   /**
    * The train has ended at `at` (the time of the last sample): a short train is judged on what it has; an early pulse with no
    * successor stays unexplained, and so does a last pulse off its expected time by d when the train ends within d after that
-   * time, since a pulse nearer to it could still have come.
+   * time, since a pulse nearer to it could still have come. A last interval that a shaft slowing to rest gives (slowsToRest) is
+   * good where the train has truly ended (`atRest`; not where a trial on the learning edges stops).
    */
-  end(at = Infinity): void {
+  end(at = Infinity, atRest = true): void {
     if (this.learning) this.startFrom(this.learning);
+    if (!Number.isNaN(this.stopping)) {
+      const t = this.stopping;
+      this.stopping = Number.NaN;
+      if (atRest) { this.tentative = t; this.confirm(); } else this.long(t);
+    }
     const t = this.tentative;
     if (!Number.isNaN(t)) {
       const expected = this.last + this.expected();
@@ -186,7 +221,7 @@ export class PulseTrain {
   /** Ends a trial on the learning edges at the last of them; a good pulse that is that edge is left out, as a later one might displace it. */
   private endTrial(at: number): void {
     if (this.tentative === at) this.tentative = Number.NaN;
-    this.end(at);
+    this.end(at, false);
   }
 
   // Sorting backwards is sorting the edges in reversed time (−t), where a run-up is a run-down: the same rules hold. What the
@@ -239,6 +274,12 @@ export class PulseTrain {
   }
 
   private classify(t: number): void {
+    if (!Number.isNaN(this.stopping)) {
+      // A pulse after it: the long interval was not the train's last, so it is judged as any other.
+      const held = this.stopping;
+      this.stopping = Number.NaN;
+      this.long(held);
+    }
     let reference = this.expected();
     const near = (r: number) => Math.abs(r - 1) <= this.tolerance;
     if (!Number.isNaN(this.tentative)) {
@@ -268,13 +309,20 @@ export class PulseTrain {
     const r = (t - this.last) / reference;
     if (r < 1 - this.tolerance) { this.pending = t; return; }
     if (r > 1 + this.tolerance) {
-      const count = Math.round(r) - 1;
-      if (count >= 1 && near(r / (count + 1))) this.sink.missing(this.last, t, count);
-      else this.sink.irregular(this.last, t);
-      this.last = t;
+      const p = this.pulsesPerRev, h = this.history;
+      if (h.length === 2 * p && h.at(-1)![1] === this.last && slowsToRest(h.slice(0, p), h.slice(p), this.last, t - this.last)) this.stopping = t;
+      else this.long(t);
       return;
     }
     this.tentative = t;
+  }
+
+  /** A pulse at t too late for the expected interval: whole pulses missing before it, else an irregular interval. */
+  private long(t: number): void {
+    const r = (t - this.last) / this.expected(), count = Math.round(r) - 1;
+    if (count >= 1 && Math.abs(r / (count + 1) - 1) <= this.tolerance) this.sink.missing(this.last, t, count);
+    else this.sink.irregular(this.last, t);
+    this.last = t;
   }
 
   private confirm(): void {
