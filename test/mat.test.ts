@@ -206,6 +206,20 @@ describe('MAT-file reader against scipy.io', () => {
   });
 });
 
+describe('channels of different classes', () => {
+  // scipy.io.loadmat reads rec.acc_x as float64 and rec.acc_y as float32 (expected.json's read_back); quern holds one class a
+  // recording, so it refuses the file naming both variables, their classes and what to do, rather than misjudge a channel.
+  it('refuses struct fields of double and single in one recording, saying to save them in one class', async () => {
+    const refused = readJson(fixture('mat', 'expected.json')).refused['mixed-classes.mat'];
+    expect(refused.read_back).toEqual({ acc_x: 'float64', acc_y: 'float32' });
+    await expect(readAll(fixture('mat', 'mixed-classes.mat'), { mat: layout({ variables: ['rec.acc_x', 'rec.acc_y'], sample_rate_variable: 'rec.fs' }) }))
+      .rejects.toThrow(/^variable "rec\.acc_y" \(byte \d+, compressed\) is single but variable "rec\.acc_x" \(byte \d+, compressed\) is double; quern reads the channels of one recording in one class \(their encoding, bits and full scale are the recording's\), so they must share one: save them in one class \(in MATLAB, double\(\) or single\(\) on each before saving\)$/);
+    // Each field alone reads, as its own class.
+    const x = await readAll(fixture('mat', 'mixed-classes.mat'), { mat: layout({ variables: ['rec.acc_y'], sample_rate_variable: 'rec.fs' }) });
+    expect([x.rec.encoding, x.rec.frames, x.rec.sampleRate]).toEqual(['float32', 600, 1000]);
+  });
+});
+
 describe('temporary copies that stopped runs leave', () => {
   it('a run removes the copies of processes no longer running, and leaves those of running ones', () => {
     const tmp = tempDir();

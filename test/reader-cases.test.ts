@@ -8,6 +8,7 @@ import type { Hdf5Layout } from '../stages/read/hdf5.js';
 import type { MatLayout } from '../stages/read/mat.js';
 import { streamedSize } from '../stages/read/wav.js';
 import { openForJob } from '../pipeline/reduce/compute.js';
+import { openRecording } from '../stages/read/open.js';
 import { fixture, quern, readAll, readJson, tempDir } from './helpers.js';
 
 const cases = readJson(fixture('reader-cases', 'expected.json')).files;
@@ -130,6 +131,77 @@ describe('WAV written as a stream', () => {
     expect(c.data_size_field).toBe(0x7ffff000); // the stand-in sox 14.4.2 leaves for 4-byte frames
     const err = await readAll(at('sox-pipe.wav')).catch((e) => e);
     expect(err.message).toBe(`byte 40: the data chunk's size (2147479552 bytes) is a stand-in, not the samples' size: the file holds ${c.data_bytes} bytes of samples and nothing after them. It was written as a stream (to a pipe) and its sizes were never filled in; write it again with its sizes (sox in.wav out.wav) and reduce the copy. Only if the capture really was over 2 GiB was the file cut short: then copy it again`);
+  });
+
+  it('reads a file ffmpeg 5.1 wrote to a pipe (RIFF and data sizes 0xFFFFFFFF) to the samples soundfile (libsndfile 1.2) reads, with a note', async () => {
+    const c = cases['ffmpeg-pipe.wav'];
+    expect([c.riff_size_field, c.data_size_field]).toEqual([0xffffffff, 0xffffffff]);
+    const { rec, channels } = await readAll(at('ffmpeg-pipe.wav'));
+    expect([rec.channelCount, rec.frames, rec.sampleRate, rec.encoding]).toEqual([3, 4000, 8000, 'pcm16']);
+    expect(channels).toEqual(expected('ffmpeg-pipe.wav'));
+    expect(rec.notes).toEqual([`the data chunk's size (byte ${c.data_at + 4}) was never written (4294967295), as a writer streaming to a pipe leaves it: its samples were read to the end of the file, 4000 frames; if anything but samples follows them, the header cannot say so: to be sure, write the file again with its sizes (sox in.wav out.wav)`]);
+  });
+
+  // A 16-bit stereo file laid out by hand (RIFF, Microsoft 1991: RIFF header, 16-byte PCM fmt chunk, data chunk); the
+  // reference is the samples written. libsndfile 1.2 reads the 0xFFFFFFFF file to its end (soundfile, checked by hand) and
+  // reads the size-0 one as empty; quern reads the samples of both, since a size of 0 before bytes that form no chunk is a
+  // size never written.
+  const codes = Int16Array.from({ length: 2 * 1000 }, (_, i) => Math.round(12000 * Math.sin(i * 0.37) + (i % 2 ? -3000 : 5000)));
+  const fmt = () => { const b = Buffer.alloc(24); b.write('fmt ', 0, 'latin1'); b.writeUInt32LE(16, 4); b.writeUInt16LE(1, 8); b.writeUInt16LE(2, 10); b.writeUInt32LE(8000, 12); b.writeUInt32LE(32000, 16); b.writeUInt16LE(4, 20); b.writeUInt16LE(16, 22); return b; };
+  const chunkHead = (id: string, size: number) => { const b = Buffer.alloc(8); b.write(id, 0, 'latin1'); b.writeUInt32LE(size, 4); return b; };
+  const samples = Buffer.from(codes.buffer);
+  const handMade = (riffSize: number, dataSize: number, after: Buffer = Buffer.alloc(0), dataFirst = false) => {
+    const riff = Buffer.concat([Buffer.from('RIFF', 'latin1'), Buffer.alloc(4), Buffer.from('WAVE', 'latin1')]);
+    riff.writeUInt32LE(riffSize, 4);
+    const data = Buffer.concat([chunkHead('data', dataSize), samples]);
+    const path = join(tempDir(), 'stream.wav');
+    writeFileSync(path, Buffer.concat(dataFirst ? [riff, data, fmt(), after] : [riff, fmt(), data, after]));
+    return path;
+  };
+  const written = [0, 1].map((c) => Array.from({ length: 1000 }, (_, i) => codes[2 * i + c] / 32768));
+
+  it.each([[0xffffffff, 0xffffffff], [0, 0]])('reads a hand-made file whose RIFF size is %d and data size %d to the samples written, with a note', async (riffSize, dataSize) => {
+    const { rec, channels } = await readAll(handMade(riffSize, dataSize));
+    expect([rec.frames, rec.sampleRate]).toEqual([1000, 8000]);
+    expect(channels).toEqual(written);
+    expect(rec.notes).toEqual([`the data chunk's size (byte 40) was never written (${dataSize}), as a writer streaming to a pipe leaves it: its samples were read to the end of the file, 1000 frames; if anything but samples follows them, the header cannot say so: to be sure, write the file again with its sizes (sox in.wav out.wav)`]);
+  });
+
+  it('notes a partial last frame of a stream as of any file, reading the whole frames (as soundfile does)', async () => {
+    const { rec, channels } = await readAll(handMade(0xffffffff, 0xffffffff, Buffer.from([1, 2, 3])));
+    expect(rec.frames).toBe(1000);
+    expect(channels).toEqual(written);
+    expect(rec.notes[1]).toBe('data chunk ends with 3 bytes of a partial frame, ignored');
+  });
+
+  it('takes an empty data chunk followed by whole chunks as empty, as libsndfile does', async () => {
+    const path = join(tempDir(), 'empty.wav');
+    const list = Buffer.concat([chunkHead('LIST', 4), Buffer.from('INFO', 'latin1')]);
+    writeFileSync(path, Buffer.concat([Buffer.from('RIFF\0\0\0\0WAVE', 'latin1'), fmt(), chunkHead('data', 0), list]));
+    const rec = await openRecording(path);
+    expect([rec.frames, rec.notes]).toEqual([0, []]);
+    await rec.close();
+  });
+
+  it('refuses a stream whose data chunk comes before its fmt chunk, where the samples\' end cannot be known', async () => {
+    await expect(readAll(handMade(0xffffffff, 0xffffffff, Buffer.alloc(0), true)))
+      .rejects.toThrow('byte 16: the data chunk\'s size was never written (4294967295), as a writer streaming to a pipe leaves it, and no fmt chunk comes before it, so where its samples end is unknown; write the file again with its sizes (sox in.wav out.wav) and reduce the copy');
+  });
+
+  it('check reads the ffmpeg stream, and reduce writes its note to run.json under the recording', () => {
+    const root = join(tempDir(), 'archive');
+    mkdirSync(join(root, 'wav'), { recursive: true });
+    cpSync(at('ffmpeg-pipe.wav'), join(root, 'wav', 'ff.wav'));
+    writeFileSync(join(root, 'archive.yaml'), 'groups:\n  - name: snd\n    match: "wav/*.wav"\n');
+    const check = quern('check', root);
+    expect(check.code, check.stdout + check.stderr).toBe(0);
+    expect(check.stdout).toContain('ok      wav/ff.wav  [snd]  wav pcm16, 3 channels (ch1, ch2, ch3), 8000 Hz, 0.500 s');
+    const out = join(root, '..', 'out');
+    const reduce = quern('reduce', root, '--out', out, '--quiet', '--jobs', '1');
+    expect(reduce.code, reduce.stdout + reduce.stderr).toBe(0);
+    const line = readJson(join(out, 'run.json')).recordings.find((r: { recording: string }) => r.recording === 'wav/ff.wav');
+    expect(line.status).toBe('reduced');
+    expect(JSON.stringify(line)).toContain('was never written (4294967295), as a writer streaming to a pipe leaves it');
   });
 
   it('tells a stand-in from a size cut short by magnitude and share', () => {

@@ -36,7 +36,8 @@ export interface MatLayout {
 function checkVector(s: { header: ArrayHeader; where: string }, first: { where: string }, frames: number, cls: number): void {
   if (!isVectorDims(s.header.dims)) throw new RecordingError(`${s.where} is ${s.header.dims.join(' × ')}; with one variable per channel each must be a vector`);
   if (s.header.count !== frames) throw new RecordingError(`${s.where} holds ${s.header.count} samples but ${first.where} holds ${frames}; the channels of one recording must be equally long`);
-  if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; the channels of one recording must share one class`);
+  // A recording has one encoding, converter width and full scale, fixed before the other variables are read (check reads headers only).
+  if (s.header.cls !== cls) throw new RecordingError(`${s.where} is ${className(s.header.cls)} but ${first.where} is ${className(cls)}; quern reads the channels of one recording in one class (their encoding, bits and full scale are the recording's), so they must share one: save them in one class (in MATLAB, double() or single() on each before saving)`);
 }
 
 /** Times as stored: no full scale applies to seconds. */

@@ -8,6 +8,7 @@ import { JUSTIFY_LOOK_SAMPLES, justification } from './wav-justify.js';
 import { isCalendarDate } from './iso-time.js';
 import { walkTail } from './wav-tail.js';
 import { unpaddedChunk, type OddChunk } from './wav-unpadded.js';
+import { sizeNeverWritten, STREAMED_SIZE, streamedData, streamedNotLast } from './wav-stream.js';
 
 // Broadcast Wave (EBU Tech 3285 v2, 2011, the bext chunk): OriginationDate at byte 320, 10 characters yyyy-mm-dd, and
 // OriginationTime at 330, 8 characters hh:mm:ss; the separators may be any character (the standard recommends - _ : space
@@ -186,21 +187,28 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
       notes.push(`the "${printable(unpadded.id)}" chunk (byte ${unpadded.at}) has an odd size (${unpadded.size} bytes) but no pad byte after it, against the RIFF rule that pads every chunk to an even length: its writer left the pad out, so the chunks after it were read from one byte earlier, where they all lie whole; check the writer`);
     }
   }
-  const { ds64, fmt, fmtAt, data } = walked;
-  let { bext } = walked;
+  const { ds64, fmt, fmtAt } = walked;
+  let { bext, data } = walked;
   if (sixtyFour && !ds64) throw new RecordingError(`byte 12: ${kind} file without its ds64 chunk (EBU Tech 3306); the header is damaged`);
+  // A stream's data chunk before its fmt chunk: the walk ran past the end of the file looking for the fmt chunk.
+  if (!fmt && data && !sixtyFour && data.size === STREAMED_SIZE) throw new RecordingError(streamedNotLast(data.size, data.offset - 4, 'no fmt chunk comes before it'));
   if (!fmt) throw new RecordingError(`no fmt chunk before byte ${size}; the header is missing or damaged`);
   if (!data) throw new RecordingError(`no data chunk before byte ${size}; the file holds no samples (an aborted capture?)`);
+  const present = size - data.offset;
+  // A size never written (a stream): the samples run to the end of the file when the data chunk is its last.
+  const emptyBeforeChunks = async () => { const after = await walkTail(bytesAt, data!.offset, size, little); return after.unaccounted === 0 && !after.cut; };
+  if (!sixtyFour && sizeNeverWritten(data.size, present, data.size === 0 && present > 0 && await emptyBeforeChunks())) {
+    if (fmtAt > data.offset) throw new RecordingError(streamedNotLast(data.size, data.offset - 4, `the fmt chunk (byte ${fmtAt - 8}) follows it`));
+    const streamed = streamedData(data.size, present, data.offset - 4, fmt.blockAlign);
+    data = { offset: data.offset, size: streamed.size };
+    notes.push(streamed.note);
+  }
   const where = `fmt chunk (byte ${fmtAt})`;
   const justified = await lookAtJustification(bytesAt, fmt, data, size, little, where);
   if (justified.note) notes.push(justified.note);
   const encoding = wavEncoding(fmt, little, where, justified.right);
   if (fmt.sampleRate === 0) throw new RecordingError(`${where}: sample rate is 0; the header is damaged`);
   const frameBytes = fmt.blockAlign;
-  const present = size - data.offset;
-  if (!sixtyFour && (data.size === 0xffffffff || (data.size === 0 && present > 0))) {
-    throw new RecordingError(`byte ${data.offset - 4}: data chunk size was never written (${data.size}); the capture was not closed properly: re-export it`);
-  }
   if (streamedSize(data.size, present)) {
     throw new RecordingError(`byte ${data.offset - 4}: the data chunk's size (${data.size} bytes) is a stand-in, not the samples' size: the file holds ${present} bytes of samples and nothing after them. It was written as a stream (to a pipe) and its sizes were never filled in; write it again with its sizes (sox in.wav out.wav) and reduce the copy. Only if the capture really was over 2 GiB was the file cut short: then copy it again`);
   }
