@@ -1,6 +1,7 @@
 // A tacho channel's shaft speed: the channel's shared product, published to the recording so its other channels can read it.
 import { PulseEdges, type Trigger } from './dsp/pulse-edges.js';
 import { PulseTrain, rateSlope, type Intervals } from './dsp/pulse-train.js';
+import { timeFromRest, timeToRest } from './dsp/time-to-rest.js';
 import { levelsOf, restLook, sampleExtremes, spanComparable, triggerFits, triggerFrom, type LevelsKind, type PulseShape, type RestLook, type SampleExtremes } from './dsp/trigger-level.js';
 import { QUALITY_DEFAULTS } from './quality/flag.js';
 import type { ChannelContext, Stage } from './stage.js';
@@ -70,6 +71,13 @@ export interface SpeedSummary {
    * counted from the first pulse; any mark when there is one a revolution) with no irregular interval to break the count.
    */
   missingAtOnePlace: boolean;
+  /**
+   * Where the train starts from rest: its first pulse at `pulseS`, the shaft at rest until `restS` (the rate's line through its
+   * first two revolutions back to zero; at most the first pulse, below 0 where it started before the recording); null otherwise.
+   */
+  fromRest: { pulseS: number; restS: number } | null;
+  /** Where the train ends by slowing to rest: its last pulse at `pulseS`, the shaft at rest from `restS` (the same line forward); null otherwise. */
+  toRest: { pulseS: number; restS: number } | null;
 }
 
 export interface ShaftSpeed extends Stage {
@@ -119,17 +127,24 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
   const s: SpeedSummary = {
     trigger: null, found: false, foundAtS: 0, foundAcross: false, foundShape: null, foundLook: null, none: null, followed: { count: 0, firstS: Number.NaN, lowest: Infinity, highest: -Infinity },
     coveredS: 0, withheld: false, meanRpm: null, minRpm: null, maxRpm: null, revolutions: 0, edges: 0, missing: fault(), extra: fault(), irregular: fault(),
-    missingAtOnePlace: false,
+    missingAtOnePlace: false, fromRest: null, toRest: null,
   };
   // Each pulse's place among the revolution's marks: good pulses and missing ones count, extra ones do not.
   let pulse = 0;
   const missingPlaces = new Set<number>();
   let good = 0, span = 0, fastest = 0, slowest = Infinity, lastEnd = Number.NaN;
   const behind: Intervals = [];
+  // The train's first two revolutions of good intervals, while unbroken from its first event, and its events' first and last times.
+  const front: Intervals = [];
+  let frontOpen = true, firstEvent = Infinity, lastEvent = -Infinity;
+  const event = (a: number, b: number) => { firstEvent = Math.min(firstEvent, a); lastEvent = Math.max(lastEvent, b); };
   const revolution: number[] = [];
   const grids: { length: number; hop: number; pulses: number[]; time: number[] }[] = [];
   const train = new PulseTrain(p, {
     interval(a, b) {
+      if (frontOpen && front.length < 2 * p && (front.length ? a === front.at(-1)![1] : a <= firstEvent)) front.push([a, b]);
+      else if (front.length < 2 * p) frontOpen = false;
+      event(a, b);
       good++;
       pulse++;
       span += b - a;
@@ -162,11 +177,12 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
       }
     },
     missing(a, b, count) {
+      event(a, b);
       for (let k = 1; k <= count; k++) { record(s.missing, (a + (k * (b - a)) / (count + 1)) / fs); missingPlaces.add((pulse + k) % p); }
       pulse += count + 1;
     },
-    extra(at) { record(s.extra, at / fs); },
-    irregular(a) { record(s.irregular, a / fs); },
+    extra(at) { event(at, at); record(s.extra, at / fs); },
+    irregular(a, b) { event(a, b); record(s.irregular, a / fs); },
   });
   const edge = (at: number) => { s.edges++; train.edge(at); };
   let edges: PulseEdges | null = null;
@@ -257,6 +273,15 @@ function makeShaftSpeed(channel: string, fs: number, tacho: NonNullable<ChannelC
     s.coveredS = span / fs;
     s.withheld = trainBroken(s.missing.count + s.irregular.count, good, options.fail_fault_ratio);
     s.missingAtOnePlace = s.missing.count >= 2 && s.irregular.count === 0 && missingPlaces.size === 1;
+    // Rest only at the train's ends, where its first or last event is a good pulse two unbroken revolutions hold.
+    if (frontOpen && front.length === 2 * p && front[0][0] === firstEvent) {
+      const t = timeFromRest(front, p, front[0][0]);
+      if (t != null) s.fromRest = { pulseS: front[0][0] / fs, restS: (front[0][0] - t) / fs };
+    }
+    if (behind.length === 2 * p && behind.at(-1)![1] === lastEvent) {
+      const t = timeToRest(behind.slice(0, p), behind.slice(p), lastEvent);
+      if (t != null) s.toRest = { pulseS: lastEvent / fs, restS: (lastEvent + t) / fs };
+    }
     if (s.withheld) return;
     if (good > 0) s.meanRpm = (60 * fs * good) / (p * span);
     if (fastest > 0) { s.maxRpm = 60 * fs * fastest; s.minRpm = 60 * fs * slowest; }

@@ -69,6 +69,38 @@ describe('one run at a time per output folder', () => {
     expect(readJson(join(out, 'run.json')).lock.took_over.holder.pid).toBe(killed.pid);
   });
 
+  // A process killed but not yet collected by its parent (a zombie) still answers signal 0; Linux's /proc gives its state as Z
+  // (proc(5), field 3 of /proc/PID/stat). Here a real one: the inner sleep's parent becomes `sleep 30`, which never waits.
+  it.runIf(existsSync('/proc/self/stat'))('takes over the lock of a process that ended but was not collected (a zombie)', async () => {
+    const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');
+    quern('reduce', archive, '--out', out, '--quiet');
+    const parent = spawn('sh', ['-c', 'sleep 0.1 & echo $!; exec sleep 30'], { stdio: ['ignore', 'pipe', 'ignore'] });
+    try {
+      let said = '';
+      parent.stdout!.on('data', (d) => { said += d; });
+      await until(() => said.includes('\n'), 5000);
+      const pid = Number(said.trim());
+      const state = () => { try { const st = readFileSync(`/proc/${pid}/stat`, 'utf8'); return st[st.lastIndexOf(')') + 2]; } catch { return null; } };
+      await until(() => state() === 'Z', 5000);
+      expect(state()).toBe('Z');
+      expect(() => process.kill(pid, 0)).not.toThrow(); // the probe alone takes it for running
+      const lock = join(out, 'run.lock');
+      // The lock as its run wrote it: this host, the pid, and the process named for good (so only its state tells it gone).
+      writeFileSync(lock, JSON.stringify({ host: hostname(), pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-3', command: 'quern reduce /lab/archive', process: procIdentity(pid) }));
+      const r = quern('reduce', archive, '--out', out, '--quiet');
+      expect(r.code, r.stdout + r.stderr).toBe(1); // the planted truncated recording
+      expect(r.stdout).toContain(`took over the lock of a run that is gone (${hostname()}, pid ${pid}, started 2026-12-01T01:00:00.000Z): process ${pid} on this host is no longer running`);
+      expect(readJson(join(out, 'run.json')).lock.took_over.holder.pid).toBe(pid);
+      // A live process's lock is still refused: the parent runs (state S).
+      writeFileSync(lock, JSON.stringify({ host: hostname(), pid: parent.pid, started: '2026-12-01T01:00:00.000Z', run_id: 'r-4', command: 'quern reduce /lab/archive', process: procIdentity(parent.pid!) }));
+      const refused = quern('reduce', archive, '--out', out, '--quiet');
+      expect(refused.code, refused.stdout + refused.stderr).toBe(2);
+      expect(refused.stderr).toContain(`in use by another run: host ${hostname()}, pid ${parent.pid}`);
+    } finally {
+      parent.kill('SIGKILL'); // the zombie goes to the subreaper or init with it
+    }
+  });
+
   // Linux's /proc names a process for good (its boot's id, its start after that boot); elsewhere a live pid keeps its lock.
   it.runIf(existsSync('/proc/self/stat'))('takes over a lock whose pid now names another program: after a restart of the host, or given again', () => {
     const archive = sampleArchiveCopy(), out = join(archive, '..', 'out');

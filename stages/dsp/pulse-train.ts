@@ -31,7 +31,7 @@ const MOST_CHANGE = 0.5;
 export type Intervals = [number, number][];
 
 /** Pulse rate (pulses per unit time) over a set of intervals and its centre: the centre of their time, weighted by duration. */
-function rateOf(g: Intervals): { rate: number; centre: number } {
+export function rateOf(g: Intervals): { rate: number; centre: number } {
   let span = 0, moment = 0;
   for (const [a, b] of g) { span += b - a; moment += ((b - a) * (a + b)) / 2; }
   return { rate: g.length / span, centre: moment / span };

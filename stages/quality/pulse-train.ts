@@ -18,6 +18,21 @@ export function pulseCoverage(coveredS: number, goodIntervals: number, durationS
 }
 
 /**
+ * What a shaft at rest at the train's ends takes out of the coverage's duration (`outS`: from the start to a first pulse that
+ * starts from rest, and from a last pulse that slows to rest to the end, since no pulse could come there), how long it sat at
+ * rest (`atRestS`), and that in words (null without rest). A train that merely stops has neither (`fromRest`, `toRest` null).
+ */
+export function restAtEnds(s: Pick<SpeedSummary, 'fromRest' | 'toRest'>, durationS: number): { outS: number; atRestS: number; words: string | null } {
+  const before = s.fromRest ? Math.max(0, s.fromRest.restS) : 0, after = s.toRest ? Math.max(0, durationS - s.toRest.restS) : 0;
+  const outS = (s.fromRest ? s.fromRest.pulseS : 0) + (s.toRest ? Math.max(0, durationS - s.toRest.pulseS) : 0);
+  const parts = [
+    before > 0 ? `at rest for ${secs(before)} before it started turning at ${secs(s.fromRest!.restS)}` : null,
+    after > 0 ? `at rest for ${secs(after)} after it came to rest at ${secs(s.toRest!.restS)}` : null,
+  ].filter((w) => w != null);
+  return { outS, atRestS: before + after, words: parts.length ? `the shaft was ${parts.join(' and ')}, time left out of the coverage` : null };
+}
+
+/**
  * Whether the tacho shows no pulse at all in a signal that moves: no level stood clear of its noise in any second (and more than
  * one sample stands out of it), or no edge crossed the trigger while the signal spans more than two converter steps (IEEE Std 1241:
  * less is a converter's flicker). A flat signal is a shaft at rest; one edge or more, a shaft too slow for two good pulses in a row.
@@ -63,14 +78,17 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
         const s = speed.summary(), fs = ctx.sampleRate, p = ctx.tacho!.pulsesPerRev;
         const durationS = n / fs, good = Math.round(s.revolutions * p);
         const coveredS = s.coveredS;
-        const coverage = pulseCoverage(coveredS, good, durationS);
+        // Time at rest is no time uncovered: a shaft that coasted to rest (or started from rest) gives no pulse there.
+        const rest = restAtEnds(s, durationS);
+        const coverage = pulseCoverage(coveredS, good, durationS - rest.outS);
+        const restWords = rest.words ? `; ${rest.words}` : '';
         const lost = s.missing.count + s.irregular.count, faults = lost + s.extra.count;
         const tr = s.trigger;
         const trigger = tr ? `edges timed ${tr.falling ? 'falling through' : 'at'} ${round(tr.level)} ${ctx.unit}, hysteresis ${round(tr.hysteresis)} ${ctx.unit}${s.found ? ' (found from the signal)' : ' (declared)'}` : 'no trigger level found';
         // Pulses lost again and again at one mark point at the mark or the pickup before the trigger: the likely cause first.
         const cause = s.missingAtOnePlace ? `the pulses go missing at one place in the revolution: check the reflective tape or target there (missing or dirty) and the pickup's gap first, then ` : '';
         const todo = cause + (tr && !s.found ? 'check the declared trigger_level and trigger_hysteresis against the pulses, and pulses_per_rev' : 'declare trigger_level and trigger_hysteresis between the pulses\' low and high levels, and check pulses_per_rev');
-        const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}`;
+        const found = `the good pulse intervals cover ${pct(coverage)} of the ${secs(durationS)} recording (${Number(s.revolutions.toFixed(2))} revolutions); ${faults} pulse faults (${s.missing.count} missing, ${s.extra.count} extra, ${s.irregular.count} irregular) against ${good} good intervals; ${trigger}${restWords}`;
         let severity: Severity = 'ok', message: string;
         if (noPulseFound(s, m.n ? m.max - m.min : 0, ctx.stepSize)) {
           // A tacho is there for its pulses: a signal that moves without one (noise, a sensor unplugged or unpowered, a trigger the
@@ -100,12 +118,12 @@ export const pulseTrain: StageDefinition<QualityThresholds> = {
             : `${found}: the speed rests on the good intervals, the faulty pulses left out${s.extra.count > lost ? ' (an extra pulse in many revolutions: a second mark, or interference on the pickup)' : ''}; ${todo}`;
         } else {
           if (faults > 0) severity = 'note';
-          message = faults > 0 ? `${found}: those intervals are left out of the speed, which rests on the rest` : `the good pulse intervals cover ${pct(coverage)} of the recording, with no pulse fault`;
+          message = faults > 0 ? `${found}: those intervals are left out of the speed, which rests on the rest` : `the good pulse intervals cover ${pct(coverage)} of the recording, with no pulse fault${restWords}`;
         }
         ctx.flag({
           name: 'pulse_train', severity, value: coverage, threshold, message,
           evidence: {
-            coverage, covered_s: coveredS, duration_s: durationS, revolutions: s.revolutions, good_intervals: good, missing: s.missing.count, extra: s.extra.count, irregular: s.irregular.count,
+            coverage, covered_s: coveredS, duration_s: durationS, at_rest_s: rest.atRestS, revolutions: s.revolutions, good_intervals: good, missing: s.missing.count, extra: s.extra.count, irregular: s.irregular.count,
             trigger_level: tr?.level ?? null, trigger_hysteresis: tr?.hysteresis ?? null, trigger_found: tr ? (s.found ? 'found' : 'declared') : null,
           },
         });
