@@ -2,24 +2,18 @@
 // planted; an impact hammer's ring-down is none. Recordings and references: test/fixtures/make-peak-spike-vectors.py.
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { FusedPass } from '../stages/fused/pass.js';
 import { RobustOutliers } from '../stages/fused/robust-outliers.js';
-import type { Flag } from '../stages/quality/flag.js';
 import { SpikeBursts, WIDEST_SPIKE } from '../stages/quality/spike-bursts.js';
 import { fixture, readAll, readJson } from './helpers.js';
+import { spikesFlagOf } from './spikes-flag.js';
 
 const ref = readJson(fixture('peak-spike-vectors.json'));
 type SpikeCase = { channel: Partial<ChannelDeclaration>; places: number[]; spikes: number; samples: number };
 const cases = ref.spikes as Record<string, SpikeCase>;
 const fs = ref.fs as number;
 
-async function spikesFlag(name: string, chunkFrames: number) {
-  const decl: ChannelDeclaration = { name: 'acc', quantity: 'acceleration', unit: 'm/s^2', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null, ...cases[name].channel };
-  const r = await reduceRecording({ recording: name, path: fixture('peaks', `${name}.wav`), group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames });
-  expect(r.reason).toBeUndefined();
-  return { flag: r.quality[0].flags.find((f) => f.name === 'spikes') as Flag, row: r.rows[0] as Record<string, any> };
-}
+const spikesFlag = (name: string, chunkFrames: number) => spikesFlagOf('peaks', name, cases[name].channel, chunkFrames);
 
 /** The spikes' first samples as the stage finds them: the fused pass's outliers (10 robust σ) judged chunk by chunk. */
 async function places(name: string, chunk: number) {

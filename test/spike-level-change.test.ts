@@ -4,24 +4,18 @@
 // 0.1 s around it, and the planted sample's place): test/fixtures/make-level-change-vectors.py.
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
-import { reduceRecording } from '../pipeline/reduce/compute.js';
 import { FusedPass } from '../stages/fused/pass.js';
 import { RobustOutliers } from '../stages/fused/robust-outliers.js';
-import type { Flag } from '../stages/quality/flag.js';
 import { SpikeBursts } from '../stages/quality/spike-bursts.js';
 import { fixture, readAll, readJson } from './helpers.js';
+import { spikesFlagOf } from './spikes-flag.js';
 
 const ref = readJson(fixture('level-change-vectors.json'));
 type LevelCase = { channel: Partial<ChannelDeclaration>; recording_wide_spikes: number; local_ratios: number[]; spikes: number[]; planted_s?: number };
 const cases = ref.cases as Record<string, LevelCase>;
 const fs = ref.fs as number;
 
-async function spikesFlag(name: string, chunkFrames: number) {
-  const decl: ChannelDeclaration = { name: 'ch', quantity: 'acceleration', unit: 'm/s^2', scale: 1, offset: 0, range: null, bits: null, max_frequency_hz: null, ...cases[name].channel };
-  const r = await reduceRecording({ recording: name, path: fixture('level-change', `${name}.wav`), group: 'g', format: null, sampleRate: null, layout: null, channels: [decl], labels: {}, durationS: null, spec: {}, chunkFrames });
-  expect(r.reason).toBeUndefined();
-  return { flag: r.quality[0].flags.find((f) => f.name === 'spikes') as Flag, row: r.rows[0] as Record<string, any> };
-}
+const spikesFlag = (name: string, chunkFrames: number) => spikesFlagOf('level-change', name, cases[name].channel, chunkFrames);
 
 /** The spikes' first samples as the stage finds them (10 robust σ, the converter's step as the spread's floor), chunk by chunk. */
 async function places(name: string, chunk: number) {
