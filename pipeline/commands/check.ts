@@ -39,7 +39,9 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
       recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}${notes.map((n) => `; note: ${n}`).join('')}` });
       for (const c of channels) channelsSeen.set(`${job.group}\u0000${c.decl.name}`, { group: job.group, channel: c.decl.name });
     } catch (e) {
-      recordings.push({ recording: job.recording, group: job.group, ok: false, detail: e instanceof RecordingError ? e.message : String((e as Error).message) });
+      // Where a period places it: a start its header gave before it failed, else its modification time.
+      const start = e instanceof RecordingError && e.startTime ? `starts ${e.startTime.toISOString()} (read before it failed)` : 'no start could be read (a period goes by its modification time)';
+      recordings.push({ recording: job.recording, group: job.group, ok: false, detail: `${e instanceof RecordingError ? e.message : String((e as Error).message)}; ${start}` });
     }
   }
   const groups = unfedGroups(declaration.groups, scanned.recordings, declaration.lines).map((u) => unfedGroupNote(u));

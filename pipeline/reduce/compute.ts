@@ -3,7 +3,7 @@
 import picomatch from 'picomatch';
 import { activeStages, type ActiveStage } from '../../stages/index.js';
 import { DECLARE_IN_ARCHIVE, openRecording } from '../../stages/read/open.js';
-import { RecordingError, type Recording } from '../../stages/read/recording.js';
+import { RecordingError, withStart, type Recording } from '../../stages/read/recording.js';
 import { THREAD_SCRATCH, type ScratchBuffers } from '../../stages/scratch.js';
 import type { ChannelContext, Stage } from '../../stages/stage.js';
 import { PackedRows } from '../../stages/packed-rows.js';
@@ -72,7 +72,8 @@ export async function openForJob(job: RecordingJob): Promise<{ rec: Recording; c
     return { rec, channels, notes: headerNotes(channels.map((c) => c.decl), rec, job.group) };
   } catch (e) {
     await rec.close();
-    throw e;
+    // The header was read: its start still places the recording in a period, and check shows it.
+    throw withStart(e, rec.startTime);
   }
 }
 

@@ -73,16 +73,23 @@ export function parseSpan(text: string): number {
 /** What the output folder already knows of a recording's start (from its stored entry); valid while size and modification time match. */
 export interface KnownStart { size: number; mtimeMs: number; start_ms: number }
 
-/** A recording's start: as known while the file is unchanged, else its header (bext, CSV date-time), else its modification time. */
+/**
+ * A recording's start: as known while the file is unchanged, else its header (bext, CSV date-time), also where the file then
+ * fails (data cut short after a whole header), else its modification time.
+ */
 export async function startTimeOf(r: ScannedRecording, g: GroupDeclaration, known: KnownStart | undefined): Promise<number> {
   if (known && known.size === r.size && known.mtimeMs === r.mtimeMs) return known.start_ms;
+  // The readers load only when a header is to be read: a run whose files' starts are all known loads none of them.
+  const { openRecording } = await import('../../stages/read/open.js');
+  const { RecordingError } = await import('../../stages/read/recording.js');
   try {
-    // The readers load only when a header is to be read: a run whose files' starts are all known loads none of them.
-    const { openRecording } = await import('../../stages/read/open.js');
     const rec = await openRecording(r.path, { format: g.format, sampleRate: g.sample_rate, layout: g.layout, ...readerOptionsOf(g) });
     await rec.close();
     if (rec.startTime) return rec.startTime.getTime();
-  } catch { /* an unreadable file is reported by the reduction; its modification time stands in */ }
+  } catch (e) {
+    // The reduction reports the failure; a start its header gave before it still places it in its own period.
+    if (e instanceof RecordingError && e.startTime) return e.startTime.getTime();
+  }
   return r.mtimeMs;
 }
 

@@ -176,10 +176,13 @@ export class Store {
   /** A recording's entry's status, without making its facts. */
   statusOf(recording: string): 'reduced' | 'failed' | undefined { return this.table.entry(recording)?.status; }
 
-  /** A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period. */
+  /**
+   * A recording's start as its stored entry knows it (the header's, else the file's modification time), for selecting a period.
+   * A failed entry keeps no start, so its header is read again: a file cut short after a whole header still gives one.
+   */
   knownStart(recording: string): { size: number; mtimeMs: number; start_ms: number } | undefined {
     const row = this.table.rows.get(recording);
-    if (row === undefined) return undefined;
+    if (row === undefined || this.table.failed[row]) return undefined;
     const f = this.table.identityOf(row);
     return { size: f.size, mtimeMs: f.mtimeMs, start_ms: f.startMs ?? f.mtimeMs };
   }

@@ -40,6 +40,14 @@ export interface Recording {
 /** A recording that cannot be read as it stands; the message says where and what to do. */
 export class RecordingError extends Error {
   override name = 'RecordingError';
+  /** The start the header gave before the file failed, where it gave one: a period places the recording by it all the same. */
+  startTime: Date | null = null;
+}
+
+/** `e` with the start read before it was thrown (a RecordingError only: another error says nothing about the file's header). */
+export function withStart(e: unknown, start: Date | null): unknown {
+  if (e instanceof RecordingError && start && !e.startTime) e.startTime = start;
+  return e;
 }
 
 export const DEFAULT_CHUNK_FRAMES = 65536;

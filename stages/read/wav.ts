@@ -1,7 +1,7 @@
 // WAV/RIFF reader: RIFF (little-endian), RIFX (big-endian), RF64 and BW64 (64-bit sizes in a ds64 chunk: EBU Tech 3306,
 // ITU-R BS.2088); PCM of 1–64 bits, IEEE float 32/64, G.711 µ-law and A-law, WAVE_FORMAT_EXTENSIBLE; Broadcast Wave start time.
 import { readInterleaved } from './interleaved.js';
-import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, DEFAULT_CHUNK_FRAMES, RecordingError, withStart, type Recording } from './recording.js';
 import { openSource, type ByteReader } from './source.js';
 import { parseFmt, wavEncoding, type FmtChunk, type WavEncoding } from './wav-encoding.js';
 import { JUSTIFY_LOOK_SAMPLES, justification } from './wav-justify.js';
@@ -160,8 +160,18 @@ async function lookAtJustification(bytesAt: BytesAt, fmt: FmtChunk, data: { offs
   return none;
 }
 
-/** Reads and checks every header field; the samples stay on disk. */
+/** Reads and checks every header field; the samples stay on disk. A failure after a whole bext chunk carries its start. */
 export async function readWavHeader(file: ByteReader, size: number): Promise<WavHeader> {
+  const read: { start: Date | null } = { start: null };
+  try {
+    return await parseWavHeader(file, size, read);
+  } catch (e) {
+    throw withStart(e, read.start);
+  }
+}
+
+/** The header's fields; `read.start` is set once a bext chunk before the data gives the origination, before the checks that may fail. */
+async function parseWavHeader(file: ByteReader, size: number, read: { start: Date | null }): Promise<WavHeader> {
   // One read of the first 64 KiB holds the header chunks of nearly every file; later chunk headers are read where they lie.
   const head = Buffer.alloc(Math.min(size, 65536));
   await file.read(head, 0, head.length, 0);
@@ -189,6 +199,8 @@ export async function readWavHeader(file: ByteReader, size: number): Promise<Wav
   }
   const { ds64, fmt, fmtAt } = walked;
   let { bext, data } = walked;
+  // A file cut short in its data still has a whole bext chunk before it: its start places the failure in its period.
+  read.start = bext ? bextOrigin(bext).start : null;
   if (sixtyFour && !ds64) throw new RecordingError(`byte 12: ${kind} file without its ds64 chunk (EBU Tech 3306); the header is damaged`);
   // A stream's data chunk before its fmt chunk: the walk ran past the end of the file looking for the fmt chunk.
   if (!fmt && data && !sixtyFour && data.size === STREAMED_SIZE) throw new RecordingError(streamedNotLast(data.size, data.offset - 4, 'no fmt chunk comes before it'));
