@@ -30,6 +30,8 @@ export class StreamVariance {
     for (let i = 0; i < length; i++) { const d = x[i] - this.shift; s1 += d; s2 += d * d; }
     this.n += length; this.s1 += s1; this.s2 += s2;
   }
+  /** Samples taken in. */
+  get count(): number { return this.n; }
   /** Population variance, or null before any sample. */
   variance(): number | null { return this.n > 0 ? Math.max(0, this.s2 - (this.s1 * this.s1) / this.n) / this.n : null; }
 }
@@ -48,13 +50,22 @@ export interface CoverageNote {
 }
 
 /**
- * The note for a spectrum whose total power departs from the exact variance of its samples by more than `limitDb`,
- * naming its figures and the size; '' when they agree (a steady signal) or either is zero.
+ * Four chance spreads (dB) of a Hann-weighted mean square against the plain one over `samples` of noise: for Gaussian
+ * white noise the weighted mean of x² has a relative variance 2·Σw⁴/(Σw²)² ≈ 3.9 over n samples (derived); counted on
+ * half the samples, as a band-limited stream (a decimated one, passing two thirds of its band) holds fewer independent
+ * ones, that is 10·lg e × √(8/n) a spread. A short recording's one periodogram can miss its variance so far with a steady signal.
  */
-export function coverageNote(c: CoverageNote, spectral: number, variance: number | null, limitDb = LEVEL_CHANGE_DB): string {
+export const chanceLimitDb = (samples: number): number => 4 * 4.343 * Math.sqrt(8 / samples);
+
+/**
+ * The note for a spectrum whose total power departs from the exact variance of its `samples` by more than `limitDb`, or
+ * by more than chance allows so few samples, naming its figures and the size; '' when they agree (a steady signal) or
+ * either is zero.
+ */
+export function coverageNote(c: CoverageNote, spectral: number, variance: number | null, samples = Infinity, limitDb = LEVEL_CHANGE_DB): string {
   if (variance === null || !(variance > 0) || !(spectral > 0)) return '';
   const db = 10 * Math.log10(spectral / variance);
-  if (Math.abs(db) <= limitDb) return '';
+  if (Math.abs(db) <= Math.max(limitDb, chanceLimitDb(samples))) return '';
   const ratio = Number((spectral / variance).toPrecision(3));
   return `${c.name}: the ${c.what} holds ${ratio} of the variance of the samples it was taken from (${db > 0 ? '+' : ''}${db.toFixed(1)} dB; a steady signal gives 1): `
     + `the level changed through the recording, and Welch's segments weight its first and last ${Number(c.halfSegment.toPrecision(3))} s less than its middle`

@@ -35,7 +35,7 @@ export function spectrumOf(ctx: ChannelContext, o: WelchOptions, noteShort = tru
       if (cached && !welch.brokenByGaps) {
         const m = moments.moments();
         const what = { name: ctx.name, what: `spectrum (${o.segment}-sample segments)`, figures: SHARED_FIGURES, halfSegment: Math.min(cached.length, o.segment) / 2 / ctx.sampleRate, df: cached.df };
-        const level = coverageNote(what, spectrumPower(cached), m.n > 0 ? m.m2 / m.n : null);
+        const level = coverageNote(what, spectrumPower(cached), m.n > 0 ? m.m2 / m.n : null, m.n);
         if (level) ctx.note(level);
       }
       return cached;
@@ -61,7 +61,7 @@ function decimatedSpectrum(ctx: ChannelContext, o: WelchOptions, factor: number,
     // Its power (before the droop is taken out) against the exact variance of the samples it was taken from.
     if (p && !welch.brokenByGaps) {
       const what = { name: ctx.name, what: `finer spectrum of every ${factor}th sample (${o.segment}-sample segments spanning ${Number((o.segment / rate).toPrecision(3))} s)`, figures: FINER_FIGURES, halfSegment: Math.min(p.length, o.segment) / 2 / rate, df: p.df };
-      const level = coverageNote(what, spectrumPower(p), stream.variance());
+      const level = coverageNote(what, spectrumPower(p), stream.variance(), stream.count);
       if (level) ctx.note(level);
     }
     cached = p && { ...p, density: withoutDroop(p, ctx.sampleRate, factor, decimator.last), upTo: READ_FRACTION * rate, ...(p.covered !== undefined ? { covered: p.covered * factor } : {}) };

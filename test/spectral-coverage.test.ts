@@ -4,7 +4,7 @@
 // whenever they stray from it, and stay quiet on steady signals (a clean recording reads clean).
 import { describe, expect, it } from 'vitest';
 import { Welch } from '../stages/dsp/welch.js';
-import { coverageNote, LEVEL_CHANGE_DB, spectrumPower, StreamVariance } from '../stages/spectral-coverage.js';
+import { chanceLimitDb, coverageNote, LEVEL_CHANGE_DB, spectrumPower, StreamVariance } from '../stages/spectral-coverage.js';
 import { uniform } from './dsp-signals.js';
 import { channel, reduce } from './reduce-signal.js';
 
@@ -43,6 +43,27 @@ describe('a Welch spectrum\'s total power (Parseval)', () => {
     const mean = x.reduce((s, e) => s + e, 0) / x.length;
     expect(v.variance()).toBeCloseTo(x.reduce((s, e) => s + (e - mean) ** 2, 0) / x.length, 10);
     expect(Math.abs(10 * Math.log10(spectrumPower(welch.result()!) / v.variance()!))).toBeLessThan(LEVEL_CHANGE_DB);
+  });
+
+  it('stays quiet on steady noise shorter than one segment, whose one periodogram strays by chance', () => {
+    // 1600 samples of band-limited noise (Gaussian noise through a two-tap average) in one zero-padded Hann periodogram, as
+    // a 2 s recording's finer spectrum: the weighted mean square strays from the variance by chance (relative variance
+    // 2·Σw⁴/(Σw²)² over the independent samples, derived; here ≈ 0.26 dB a spread).
+    const n = 1600, trials = 400;
+    let pastFixed = 0, pastChance = 0;
+    for (let seed = 1; seed <= trials; seed++) {
+      const white = noise(n + 1, 0.1, seed), x = Float64Array.from({ length: n }, (_, i) => white[i] + white[i + 1]);
+      const welch = new Welch(800, { segment: 4096, overlap: 0.5, window: 'hann' }), v = new StreamVariance();
+      welch.push(x); v.add(x);
+      const db = Math.abs(10 * Math.log10(spectrumPower(welch.result()!) / v.variance()!));
+      if (db > LEVEL_CHANGE_DB) pastFixed++;
+      if (coverageNote({ name: 'acc', what: 'spectrum', figures: 'f', halfSegment: 1, df: 0.2 }, spectrumPower(welch.result()!), v.variance(), v.count) !== '') pastChance++;
+    }
+    // The fixed 0.5 dB alone notes a steady signal now and then; with the chance limit (1.23 dB at 1600 samples) none.
+    expect(pastFixed).toBeGreaterThan(0);
+    expect(pastChance).toBe(0);
+    expect(chanceLimitDb(1600)).toBeCloseTo(1.228, 2);
+    expect(chanceLimitDb(12800)).toBeLessThan(LEVEL_CHANGE_DB);
   });
 
   it('makes no note within the limit either way, and names the figures and the size past it', () => {

@@ -99,6 +99,16 @@ describe('a slow shaft with pulses one sample wide', () => {
   });
 });
 
+describe('a tacho whose pulses span many samples', () => {
+  it('says its spikes are not judged there, rather than "no spikes" (README: spikes are not judged on a tacho channel)', async () => {
+    const fs = 10000, x = Float64Array.from({ length: 2 * fs }, (_, i) => trapezoid((i / fs * 25) % 1, 0.3, 0.01));
+    const flags = (await reduce(x, fs, {}, TACHO)).result.quality[0].flags as Flag[];
+    const spikes = flags.find((f) => f.name === 'spikes')!;
+    expect(spikes.severity).toBe('ok');
+    expect(spikes.message).toMatch(/^not judged on a tacho channel, whose pulses one sample wide would stand out/);
+  });
+});
+
 describe('a stray pulse in every revolution (a second mark, a pickup of interference)', () => {
   it('is dropped as extra: the speed is that of the true pulses scipy finds by their width, 1200 rpm; the flag warns', async () => {
     for (const name of ['stray_1', 'stray_2']) {

@@ -42,7 +42,7 @@ export const spikes: StageDefinition<QualityThresholds> = {
         ctx.flag({
           name: 'spikes', severity, value: samples, threshold,
           evidence: { samples, spikes: count, first_s: first >= 0 ? first / ctx.sampleRate : null },
-          message: pulses && samples ? `not judged on a tacho channel: its ${samples} isolated samples are pulses one sample wide by design, which pulse_train judges`
+          message: pulses ? (samples ? `not judged on a tacho channel: its ${samples} isolated samples are pulses one sample wide by design, which pulse_train judges` : 'not judged on a tacho channel, whose pulses one sample wide would stand out by design; pulse_train judges them')
             : samples ? `${count} spikes (${samples} samples in bursts of 1 to ${bursts.widest} standing out from their neighbours on both sides), first at ${secs(first / ctx.sampleRate)}: electrical interference or converter glitches; peak and crest factor are suspect` : 'no spikes',
         });
         return { spike_count: samples };
