@@ -6,7 +6,9 @@ import { mkdirSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeWav } from '../scripts/wav-file.js';
-import { quern, readJson, tempDir } from './helpers.js';
+import { openRecording, type OpenOptions } from '../stages/read/open.js';
+import { RecordingError } from '../stages/read/recording.js';
+import { fixture, quern, readJson, tempDir } from './helpers.js';
 
 const FS = 8000;
 
@@ -109,5 +111,57 @@ describe('a recording cut short in its data after a whole bext chunk', () => {
     expect(r.code).toBe(1);
     expect(r.stdout).toMatch(new RegExp(`^FAILED  ${CUT}  \\[rig\\]  .*the file ends .* early.*; starts 2026-11-28T05:00:00\\.000Z \\(read before it failed\\)$`, 'm'));
     expect(r.stdout).toMatch(/^FAILED {2}rig\/unstamped\.wav {2}\[rig\] {2}.*; no start could be read \(a period goes by its modification time\)$/m);
+  });
+});
+
+// Files whose start is read at open but whose open fails after it. The starts are those the independent writers stored:
+// h5py's attribute (test/fixtures/make-format-fixtures.py), scipy.io.savemat's and hdf5storage's char variable
+// (test/fixtures/make-mat-fixtures.py), and a CSV time column's ISO 8601 date-time as written here.
+describe('a recording whose open fails after its start was read', () => {
+  /** The error the open throws, which must be a RecordingError. */
+  const failure = async (path: string, options: OpenOptions): Promise<RecordingError> => {
+    const e = await openRecording(path, options).then(async (rec) => { await rec.close(); return null; }, (err: unknown) => err);
+    expect(e).toBeInstanceOf(RecordingError);
+    return e as RecordingError;
+  };
+
+  it('HDF5: channel names that are no text, after the start attribute', async () => {
+    const e = await failure(fixture('formats', 'acq-rows.h5'), { hdf5: { datasets: ['/acq/signals'], channel_axis: 1, sample_rate_attribute: 'sample_rate', start_time_attribute: 'start_time', channel_names_attribute: 'sample_rate' } });
+    expect(e.message).toMatch(/\(the channel names\) holds number, not text/);
+    expect(e.startTime?.toISOString()).toBe('2026-11-16T22:00:00.000Z');
+  });
+
+  it('MAT-file (level 5): channel names that are no text, after the start variable', async () => {
+    const e = await failure(fixture('mat', 'rig-columns.mat'), { mat: { variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 't0', channel_names_variable: 'fs' } });
+    expect(e.message).toMatch(/variable "fs" .* is a double array; the channel names are/);
+    expect(e.startTime?.toISOString()).toBe('2026-03-14T02:00:00.000Z');
+  });
+
+  it('MAT-file (version 7.3): a time variable of one value, after the start variable', async () => {
+    const e = await failure(fixture('mat', 'rig-columns-73.mat'), { mat: { variables: ['data'], channel_axis: 1, sample_rate_variable: 'fs', start_time_variable: 't0', time_variable: 'fs' } });
+    expect(e.message).toMatch(/^version 7.3 MAT-file \(HDF5\): dataset "\/fs" \(the time\) is 1 × 1; it must be a vector of 2000 times/);
+    // hdf5storage stored '2026-03-15T02:00:00+01:00'.
+    expect(e.startTime?.toISOString()).toBe('2026-03-15T01:00:00.000Z');
+  });
+
+  // 100 rows at 100 Hz from 2026-11-28 05:00 UTC, declared as 200 Hz: the time column disagrees with the declaration.
+  const csvRows = `time,acc\n${Array.from({ length: 100 }, (_, i) => `2026-11-28T05:00:${String(Math.floor(i / 100)).padStart(2, '0')}.${String(i % 100).padStart(2, '0')}Z,${(0.1 * Math.sin(i)).toFixed(4)}`).join('\n')}\n`;
+
+  it('CSV: a time column stepping at another rate than declared, after its first date-time', async () => {
+    const path = join(tempDir(), 'rate.csv');
+    writeFileSync(path, csvRows);
+    const e = await failure(path, { sampleRate: 200 });
+    expect(e.message).toMatch(/the time column steps at 100\.000 Hz but the declaration says 200 Hz/);
+    expect(e.startTime?.toISOString()).toBe('2026-11-28T05:00:00.000Z');
+  });
+
+  it('shows in quern check the CSV file\'s start, read before it failed', () => {
+    const archive = join(tempDir(), 'archive');
+    mkdirSync(join(archive, 'rig'), { recursive: true });
+    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: rig\n    match: "rig/*.csv"\n    sample_rate: 200\n');
+    writeFileSync(join(archive, 'rig', 'rate.csv'), csvRows);
+    const r = quern('check', archive);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/^FAILED {2}rig\/rate\.csv {2}\[rig\] {2}.*the time column steps at 100\.000 Hz but the declaration says 200 Hz.*; starts 2026-11-28T05:00:00\.000Z \(read before it failed\)$/m);
   });
 });

@@ -165,3 +165,26 @@ describe('a channel with no finite samples', () => {
     expect(wav('half', 'spikes').value).toBe(0);
   });
 });
+
+describe('the MTVV note of a channel with no finite samples', () => {
+  // MTVV's running RMS integrates over τ = 1 s (ISO 2631-1:1997 §6.3.1, from memory): these 4 s recordings are four times that.
+  it('says the channel has no finite samples, not that a 4 s recording is shorter than the 1 s integration time', () => {
+    const archive = join(tempDir(), 'archive');
+    mkdirSync(archive);
+    writeFileSync(join(archive, 'archive.yaml'), 'groups:\n  - name: bench\n    match: "*.wav"\n    channels:\n'
+      + '      - { name: acc, quantity: acceleration, unit: m/s^2, max_frequency_hz: 500 }\n'
+      + '      - { name: lost, quantity: acceleration, unit: m/s^2, max_frequency_hz: 500 }\n'
+      + '      - { name: half, quantity: acceleration, unit: m/s^2, max_frequency_hz: 500 }\n');
+    writeFileSync(join(archive, 'reduction.yaml'), 'mtvv: { integration_s: 1.0 }\n');
+    const tone = Float64Array.from({ length: N }, (_, i) => 0.5 * Math.sin(2 * Math.PI * 50 * t(i)));
+    writeFileSync(join(archive, 'run-1.wav'), encodeWav({ sampleRate: FS, encoding: 'float32', channels: [tone, new Float64Array(N).fill(NaN), firstHalfLost(tone)] }));
+    const out = join(archive, '..', 'out');
+    const r = quern('reduce', archive, '--out', out, '--quiet');
+    expect(r.code, r.stdout + r.stderr).toBe(0);
+    const said = JSON.stringify(readJson(join(out, 'run.json')).recordings.find((x: { recording: string }) => x.recording === 'run-1.wav'));
+    expect(said).toContain('lost: the channel has no finite samples (the dropout flag fails it); mtvv left empty');
+    expect(said).not.toContain('MTVV integration time');
+    // The half-missing tone keeps 2 s of finite samples, more than one window: no note on it.
+    expect(said).not.toMatch(/half: [^"]*mtvv/);
+  });
+});

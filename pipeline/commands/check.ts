@@ -35,8 +35,9 @@ export async function runCheck(archive: string, { spec: specPath = null as strin
       try { frames = rec.framesOfTimes ? await rec.framesOfTimes() : rec.frames; } finally { await rec.close(); }
       const duration = frames != null ? `${(frames / rec.sampleRate).toFixed(3)} s` : 'duration known after reading';
       // Where a --since period will place the recording: its own start, else its modification time.
+      // The reader's own notes from its header (a size never written, padding left out) beside the declaration's.
       const start = rec.startTime ? `starts ${rec.startTime.toISOString()}` : 'no start in the file (a period goes by its modification time)';
-      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}${notes.map((n) => `; note: ${n}`).join('')}` });
+      recordings.push({ recording: job.recording, group: job.group, ok: true, detail: `${rec.format} ${rec.encoding}, ${channels.length} channel${channels.length === 1 ? '' : 's'} (${channels.map((c) => c.decl.name).join(', ')}), ${rec.sampleRate} Hz, ${duration}, ${start}${[...notes, ...rec.notes].map((n) => `; note: ${n}`).join('')}` });
       for (const c of channels) channelsSeen.set(`${job.group}\u0000${c.decl.name}`, { group: job.group, channel: c.decl.name });
     } catch (e) {
       // Where a period places it: a start its header gave before it failed, else its modification time.

@@ -3,7 +3,7 @@ import { createReadStream } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { createInterface } from 'node:readline';
 import { refuseNotUtf8 } from './text-encoding.js';
-import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, withStart, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 import { isoTimeMs, startAt } from './iso-time.js';
 import { unendedLineNote } from './unended-line.js';
@@ -310,7 +310,8 @@ export async function openCsv(path: string, { chunkFrames = DEFAULT_CHUNK_FRAMES
     startTime = numeric ? startOfTimes(times[0]) : startAt(times[0] * 1000);
     // Held against the declaration at 0.5 % beyond the rates the printed times allow.
     if (declaredSampleRate != null && !coarse && !(declaredSampleRate >= 0.995 * rate.lowest && declaredSampleRate <= 1.005 * rate.highest)) {
-      throw new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export${perSecond === 1 ? unitHint(declaredSampleRate / rate.rate, names[0]) : ''}`);
+      // The start is read: the recording is still placed in a period by it.
+      throw withStart(new RecordingError(`line ${headerLine + 1}: the time column steps at ${rate.rate.toPrecision(6)} Hz but the declaration says ${declaredSampleRate} Hz; correct ${sampleRateWhere} or check the export${perSecond === 1 ? unitHint(declaredSampleRate / rate.rate, names[0]) : ''}`), startTime);
     }
     sampleRate = declaredSampleRate ?? rate.rate;
     if (coarse) { timeStep = 1 / declaredSampleRate!; timeTolerance = resolution * (1 + 1e-6) + 8 * 2 ** -53 * largest; }

@@ -5,7 +5,7 @@ import { closeSync, openSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { heldText } from './mat-element.js';
-import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, checkChannelAxis, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, withStart, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE, type DeclareHow } from './declare-how.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
@@ -306,7 +306,9 @@ function openOn(h5: H5, path: string, layout: Hdf5Layout, declaredSampleRate: nu
         // Else a time dataset of POSIX seconds.
         : times && startOfTimes(times.first);
     const namesSpec = layout.channel_names_attribute, namesWhere = where['hdf5.channel_names_attribute'];
-    const channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null;
+    let channelNames: string[] | null;
+    // Names that do not fit fail the recording, which its start still places in a period.
+    try { channelNames = namesSpec ? namesFrom(namesOf(file, sources, namesSpec, namesWhere), channels, `attribute "${namesSpec}" of dataset "${first.path}"`, namesWhere) : null; } catch (e) { throw withStart(e, startTime); }
     return { h5, file, sources, channels, frames, axis, byAxis, sampleRate, startTime, channelNames, time, times };
   } catch (e) {
     closeQuietly(file);

@@ -13,7 +13,7 @@ import { decodeInto, normaliserOf } from './mat-values.js';
 import { nominalStep, rateFromStep, startOfTimes, TIME_PROBE, type VectorRate } from './time-steps.js';
 import { framesOfTimes, timeVectorReader } from './time-vector.js';
 import { MOST_LOST_ROWS, vectorIndices } from './lost-rows.js';
-import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, type Recording } from './recording.js';
+import { boundedChunkFrames, checkChannelCount, DEFAULT_CHUNK_FRAMES, RecordingError, withStart, type Recording } from './recording.js';
 import { DECLARE_IN_ARCHIVE } from './declare-how.js';
 
 /** How a group's MAT-files hold their recordings. */
@@ -106,7 +106,9 @@ export async function openMat(path: string, layout: MatLayout | null, declaredSa
     // A declared start variable, else a time vector of POSIX seconds.
     const startTime = layout.start_time_variable ? await m.startTimeOf(layout.start_time_variable, where['mat.start_time_variable']) : times && startOfTimes(times.first);
     const namesAt = layout.channel_names_variable;
-    const channelNames = namesAt ? namesFrom(await m.channelNamesOf(namesAt, where['mat.channel_names_variable']), channels, `variable "${namesAt}"`, where['mat.channel_names_variable']) : null;
+    let channelNames: string[] | null;
+    // Names that do not fit fail the recording, which its start still places in a period.
+    try { channelNames = namesAt ? namesFrom(await m.channelNamesOf(namesAt, where['mat.channel_names_variable']), channels, `variable "${namesAt}"`, where['mat.channel_names_variable']) : null; } catch (e) { throw withStart(e, startTime); }
     const norm = normaliserOf(cls);
     const integer = cls in CLASS_BITS;
     // The channels of one recording share one class; the stored type may differ between variables, and is at most 8 bytes.

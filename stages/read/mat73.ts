@@ -8,7 +8,7 @@ import { rethrowStop, takeTurn, type H5 } from './hdf5-library.js';
 import type { MatLayout } from './mat.js';
 import { namesFrom, rateFrom, scalar, startFrom } from './setting-values.js';
 import { channelLayout, charCodesText, charMatrixRows, heldText, isVectorDims } from './mat-element.js';
-import { MAX_CHANNELS, RecordingError, type Recording } from './recording.js';
+import { MAX_CHANNELS, RecordingError, withStart, type Recording } from './recording.js';
 import type { DeclareHow } from './declare-how.js';
 
 const HDF5_SIGNATURE = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
@@ -136,16 +136,19 @@ const asHdf5 = (d: DeclareHow): DeclareHow => ({
     'hdf5.sample_rate_dataset': d.where['mat.sample_rate_variable'], 'hdf5.start_time_dataset': d.where['mat.start_time_variable'],
     'hdf5.time_dataset': d.where['mat.time_variable'] },
 });
-const said = (e: unknown) => (e instanceof RecordingError ? new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`) : e);
+/** The error in MATLAB's terms, keeping the start read before it. */
+const said = (e: unknown) => (e instanceof RecordingError ? withStart(new RecordingError(`version 7.3 MAT-file (HDF5): ${e.message}`), e.startTime) : e);
 
 export async function openMat73(path: string, layout: MatLayout, declaredSampleRate: number | null, { chunkFrames, declareHow, mostLostRows }: { chunkFrames: number; declareHow: DeclareHow; mostLostRows: number }): Promise<Recording> {
+  // A declared start variable, once read: a failure after it still places the recording in a period by it.
+  let startTime: Date | null = null;
   try {
     const release = await takeTurn();
     let facts: Facts;
     try { facts = await onceMore((h5) => readFacts(h5, path, layout, declareHow), 'reading the variables'); } finally { release(); }
     const where = declareHow.where;
     const rate = facts.rate != null ? rateFrom(facts.rate, `variable "${layout.sample_rate_variable}"`, where['mat.sample_rate_variable']) : declaredSampleRate;
-    const startTime = facts.start == null ? null : startFrom(facts.start, `variable "${layout.start_time_variable}"`, where['mat.start_time_variable']);
+    startTime = facts.start == null ? null : startFrom(facts.start, `variable "${layout.start_time_variable}"`, where['mat.start_time_variable']);
     // A time vector is read by the HDF5 reader beside the samples: the rate from its steps, irregular ones counted, samples lost placed.
     const time = layout.time_variable ? { time_dataset: datasetOf(layout.time_variable) } : {};
     const timeHeld = layout.time_variable ? `variable "${layout.time_variable}" (the time)` : '';
@@ -161,6 +164,6 @@ export async function openMat73(path: string, layout: MatLayout, declaredSampleR
       async *chunks(): AsyncGenerator<Float64Array[]> { try { yield* samples(); } catch (e) { throw said(e); } },
     });
   } catch (e) {
-    throw said(e);
+    throw withStart(said(e), startTime);
   }
 }
