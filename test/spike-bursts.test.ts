@@ -2,11 +2,9 @@
 // planted; an impact hammer's ring-down is none. Recordings and references: test/fixtures/make-peak-spike-vectors.py.
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
-import { FusedPass } from '../stages/fused/pass.js';
-import { RobustOutliers } from '../stages/fused/robust-outliers.js';
-import { SpikeBursts, WIDEST_SPIKE } from '../stages/quality/spike-bursts.js';
-import { fixture, readAll, readJson } from './helpers.js';
-import { spikesFlagOf } from './spikes-flag.js';
+import { WIDEST_SPIKE } from '../stages/quality/spike-bursts.js';
+import { fixture, readJson } from './helpers.js';
+import { spikePlaces, spikesFlagOf } from './spikes-flag.js';
 
 const ref = readJson(fixture('peak-spike-vectors.json'));
 type SpikeCase = { channel: Partial<ChannelDeclaration>; places: number[]; spikes: number; samples: number };
@@ -15,23 +13,7 @@ const fs = ref.fs as number;
 
 const spikesFlag = (name: string, chunkFrames: number) => spikesFlagOf('peaks', name, cases[name].channel, chunkFrames);
 
-/** The spikes' first samples as the stage finds them: the fused pass's outliers (10 robust σ) judged chunk by chunk. */
-async function places(name: string, chunk: number) {
-  const { channels } = await readAll(fixture('peaks', `${name}.wav`));
-  const x = Float64Array.from(channels[0], (v) => v * cases[name].channel.scale!);
-  const found: number[] = [];
-  const bursts = new SpikeBursts(undefined, undefined, undefined, (at) => found.push(at));
-  const pass = new FusedPass();
-  const { scale, bits } = cases[name].channel, step = scale! / 2 ** (bits! - 1); // the converter's step, the spread's floor as in the stage
-  const outliers = pass.joinOrMake(`robust-outliers:10:${step}`, () => new RobustOutliers(10, step, (at) => bursts.outlier(at)));
-  for (let n0 = 0; n0 < x.length; n0 += chunk) {
-    const part = x.slice(n0, n0 + chunk);
-    pass.push(part);
-    bursts.chunk(part, n0, outliers.median);
-  }
-  bursts.end();
-  return found;
-}
+const places = (name: string, chunk: number) => spikePlaces('peaks', name, cases[name].channel, chunk);
 
 describe('spike bursts against numpy\'s planted places', () => {
   for (const name of ['glitches_1_sample_16', 'glitches_2_samples_16', 'glitches_3_samples_16']) {

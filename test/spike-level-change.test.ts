@@ -4,11 +4,8 @@
 // 0.1 s around it, and the planted sample's place): test/fixtures/make-level-change-vectors.py.
 import { describe, expect, it } from 'vitest';
 import type { ChannelDeclaration } from '../spec/archive.js';
-import { FusedPass } from '../stages/fused/pass.js';
-import { RobustOutliers } from '../stages/fused/robust-outliers.js';
-import { SpikeBursts } from '../stages/quality/spike-bursts.js';
-import { fixture, readAll, readJson } from './helpers.js';
-import { spikesFlagOf } from './spikes-flag.js';
+import { fixture, readJson } from './helpers.js';
+import { spikePlaces, spikesFlagOf } from './spikes-flag.js';
 
 const ref = readJson(fixture('level-change-vectors.json'));
 type LevelCase = { channel: Partial<ChannelDeclaration>; recording_wide_spikes: number; local_ratios: number[]; spikes: number[]; planted_s?: number };
@@ -17,23 +14,7 @@ const fs = ref.fs as number;
 
 const spikesFlag = (name: string, chunkFrames: number) => spikesFlagOf('level-change', name, cases[name].channel, chunkFrames);
 
-/** The spikes' first samples as the stage finds them (10 robust σ, the converter's step as the spread's floor), chunk by chunk. */
-async function places(name: string, chunk: number) {
-  const { channels } = await readAll(fixture('level-change', `${name}.wav`));
-  const { scale, bits } = cases[name].channel, step = scale! / 2 ** (bits! - 1);
-  const x = Float64Array.from(channels[0], (v) => v * scale!);
-  const found: number[] = [];
-  const bursts = new SpikeBursts(undefined, undefined, undefined, (at) => found.push(at), 10, step);
-  const pass = new FusedPass();
-  const outliers = pass.joinOrMake(`robust-outliers:10:${step}`, () => new RobustOutliers(10, step, (at) => bursts.outlier(at)));
-  for (let n0 = 0; n0 < x.length; n0 += chunk) {
-    const part = x.slice(n0, n0 + chunk);
-    pass.push(part);
-    bursts.chunk(part, n0, outliers.median);
-  }
-  bursts.end();
-  return found;
-}
+const places = (name: string, chunk: number) => spikePlaces('level-change', name, cases[name].channel, chunk);
 
 describe('spikes on a level that rises or steps (numpy, scipy.signal.butter noise)', () => {
   it('the Gaussian tail makes a sample beyond 10 σ of its surroundings a spike, not chance (erfc(10/√2), common practice)', () => {
