@@ -1,6 +1,6 @@
 // An undeclared tacho trigger found from a stretch of the signal: the pulses' two levels, or the level the signal rests at and the
 // pulses' excursions from it, taken only where they stand clear of the noise.
-import { median } from './median.js';
+import { robustSpread } from './robust-spread.js';
 import type { Trigger } from './pulse-edges.js';
 
 /** Undeclared hysteresis, as a share of the span of the levels: an edge must cross 30 % and 70 % of it. */
@@ -143,10 +143,8 @@ export function restLook(x: Float64Array, kind: LevelsKind = 'smoothed', step: n
   let n = 0;
   for (let i = 0; i < x.length; i++) if (Number.isFinite(x[i])) v[n++] = x[i];
   if (!n) return null;
-  const finite = v.subarray(0, n);
-  const rest = median(finite);
-  for (let i = 0; i < n; i++) finite[i] = Math.abs(finite[i] - rest);
-  const noise = Math.max(1.4826 * median(finite), step == null ? 0 : step / Math.sqrt(12));
+  const { centre: rest, sigma } = robustSpread(v.subarray(0, n));
+  const noise = Math.max(sigma, step == null ? 0 : step / Math.sqrt(12));
   const { lo, hi } = levelsOf(x, kind);
   return { rest, noise, up: Math.max(0, hi - rest), down: Math.max(0, rest - lo) };
 }

@@ -5,7 +5,8 @@ import { scratchOf, type ChannelContext } from '../stage.js';
 import { freshBuffer } from '../scratch.js';
 import { Accumulating, type Accumulator } from './accumulator.js';
 import { fusedOf } from './pass.js';
-import { median, medianBins } from '../dsp/median.js';
+import { medianBins } from '../dsp/median.js';
+import { robustSpread } from '../dsp/robust-spread.js';
 
 const STRIDE = 8;
 
@@ -42,12 +43,9 @@ export class RobustOutliers extends Accumulating<'med' | 'limit' | 'found' | 'ro
     if (this.sub.length < Math.ceil(x.length / STRIDE)) this.sub = this.buffer(Math.ceil(x.length / STRIDE));
     const m = finiteEvery(x, STRIDE, this.sub);
     if (m < 16) { this.set('limit', Infinity); return; }
-    const part = this.sub.subarray(0, m);
-    const med = median(part, this.bins);
-    absoluteDeviations(part, med);
-    const mad = median(part, this.bins);
-    this.set('med', med);
-    this.set('limit', this.sigmas * Math.max(1.4826 * mad, this.floor, 1e-300));
+    const { centre, sigma } = robustSpread(this.sub.subarray(0, m), this.bins);
+    this.set('med', centre);
+    this.set('limit', this.sigmas * Math.max(sigma, this.floor, 1e-300));
   }
 }
 
@@ -60,11 +58,6 @@ export function finiteEvery(x: Float64Array, stride: number, out: Float64Array):
   let m = 0;
   for (let i = 0; i < x.length; i += stride) if (x[i] - x[i] === 0) out[m++] = x[i];
   return m;
-}
-
-/** Each value replaced by its absolute deviation from med. */
-export function absoluteDeviations(v: Float64Array, med: number): void {
-  for (let i = 0; i < v.length; i++) v[i] = Math.abs(v[i] - med);
 }
 
 /** Outliers beyond `sigmas` robust standard deviations (at least `floor` each), reported to `out` by sample index. */
